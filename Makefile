@@ -1,0 +1,96 @@
+# sluice - build, test, demo, benchmark.
+#   make            build libsluice and the Octave gateways
+#   make check      every test (C unit tests, then Octave tests)
+#   make demo       the demo scenario
+#   make bench      benchmarks (ratios against vectorised Octave)
+#   make check-asan C unit tests under AddressSanitizer + UBSan
+
+SHELL    := /bin/bash
+CC       ?= cc
+OCTAVE   ?= octave-cli
+BUILD    ?= build
+MKOCT    := $(shell command -v mkoctfile 2>/dev/null)
+
+WARN     := -Wall -Wextra -Wshadow -Wpointer-arith -Wstrict-prototypes \
+            -Wmissing-prototypes -Wformat=2 -Wundef -Wcast-qual \
+            -Wwrite-strings -Wvla -Wdouble-promotion
+OPT      ?= -O2
+CSTD     := -std=c11 -D_POSIX_C_SOURCE=200809L
+CFLAGS_ALL = $(CSTD) $(OPT) -g -fPIC -fopenmp $(WARN) -Iinclude $(EXTRA_CFLAGS)
+ifneq ($(MKOCT),)
+BLAS_LIBS   := $(shell mkoctfile -p BLAS_LIBS)
+LAPACK_LIBS := $(shell mkoctfile -p LAPACK_LIBS)
+OCT_INC     := $(shell mkoctfile -p INCFLAGS)
+endif
+LIBS     := -lgsl $(LAPACK_LIBS) $(BLAS_LIBS) -lm
+
+SRC      := $(sort $(wildcard src/*.c src/models/*.c))
+OBJ      := $(patsubst src/%.c,$(BUILD)/obj/%.o,$(SRC))
+LIB      := $(BUILD)/libsluice.a
+MEXSRC   := $(filter-out mex/mexutil.c,$(sort $(wildcard mex/*.c)))
+MEXOUT   := $(patsubst mex/%.c,m/+sluice/+kernel/%.mex,$(MEXSRC))
+CTESTSRC := $(sort $(wildcard tests/c/test_*.c))
+CTESTS   := $(patsubst tests/c/%.c,$(BUILD)/tests/%,$(CTESTSRC))
+DEPS     := $(BUILD)/.deps-ok
+
+.PHONY: all deps lib mex ctests check check-c check-octave check-asan demo bench clean
+
+all: mex
+
+# Debian packages the build needs; installed with apt-get when run as root.
+PKGS := octave liboctave-dev libgsl-dev libopenblas-dev librandom123-dev octave-statistics
+deps: $(DEPS)
+$(DEPS):
+	@bash tools/deps.sh $(PKGS)
+	@mkdir -p $(BUILD) && touch $@
+
+$(BUILD)/obj/%.o: src/%.c $(wildcard include/sluice/*.h) $(wildcard src/*.h) | $(DEPS)
+	@mkdir -p $(dir $@)
+	$(CC) $(CFLAGS_ALL) -c $< -o $@
+
+$(LIB): $(OBJ)
+	@rm -f $@
+	ar rcs $@ $^
+
+lib: $(LIB)
+
+$(BUILD)/mex/%.o: mex/%.c mex/mexutil.h $(wildcard include/sluice/*.h) | $(DEPS)
+	@mkdir -p $(dir $@)
+	$(CC) $(CFLAGS_ALL) -DMX_HAS_INTERLEAVED_COMPLEX=1 $(OCT_INC) -c $< -o $@
+
+m/+sluice/+kernel/%.mex: $(BUILD)/mex/%.o $(BUILD)/mex/mexutil.o $(LIB)
+	mkoctfile --mex -o $@ $^ -fopenmp $(LIBS)
+
+mex: $(MEXOUT)
+
+$(BUILD)/tests/%: tests/c/%.c tests/c/check.h $(LIB)
+	@mkdir -p $(dir $@)
+	$(CC) $(CFLAGS_ALL) -Itests/c $< $(LIB) -o $@ -fopenmp $(LIBS) $(EXTRA_LDFLAGS)
+
+ctests: $(CTESTS)
+
+check: all ctests
+	@bash tests/run_all.sh $(BUILD) "$(OCTAVE)"
+
+check-c: ctests
+	@bash tests/run_all.sh $(BUILD) none
+
+check-octave: all
+	@bash tests/run_all.sh none "$(OCTAVE)"
+
+# The C unit tests again, built with AddressSanitizer and UBSan.
+check-asan: | $(DEPS)
+	$(MAKE) BUILD=build-asan OPT=-O1 \
+	  EXTRA_CFLAGS="-fsanitize=address,undefined -fno-omit-frame-pointer -fno-sanitize-recover=undefined" \
+	  EXTRA_LDFLAGS="-fsanitize=address,undefined" ctests
+	@mkdir -p build-asan && touch build-asan/.deps-ok
+	@ASAN_OPTIONS=detect_leaks=1 bash tests/run_all.sh build-asan none
+
+demo: all
+	$(OCTAVE) --no-gui --quiet --eval "addpath('$(CURDIR)/m'); addpath('$(CURDIR)/demos'); demo_river_town"
+
+bench: all
+	$(OCTAVE) --no-gui --quiet --eval "addpath('$(CURDIR)/m'); addpath('$(CURDIR)/tests/bench'); run_benchmarks"
+
+clean:
+	rm -rf build build-asan m/+sluice/+kernel/*.mex out

@@ -1,0 +1,80 @@
+/* prior.h - parameter priors, their draws, and the transforms of bounded parameters. */
+#ifndef SLUICE_PRIOR_H
+#define SLUICE_PRIOR_H
+
+#include <stddef.h>
+#include <stdint.h>
+#include "sluice/status.h"
+
+#ifdef __cplusplus
+extern "C" {
+#endif
+
+/* Transform of a parameter into the unbounded space where it is perturbed
+ * and estimated:
+ *   none   z = x                      (lo = -Inf, hi = +Inf)
+ *   log    z = log(x - lo)            (lo finite, hi = +Inf)
+ *   neglog z = log(hi - x)            (lo = -Inf, hi finite)
+ *   logit  z = log((x - lo)/(hi - x)) (both finite, lo < hi) */
+typedef enum {
+    SL_TRANSFORM_NONE = 0,
+    SL_TRANSFORM_LOG,
+    SL_TRANSFORM_NEGLOG,
+    SL_TRANSFORM_LOGIT
+} sl_transform_kind;
+
+typedef struct {
+    int kind;
+    double lo, hi;
+} sl_transform;
+
+/* The transform that bounds (lo, hi) call for (infinite = no bound). */
+sl_transform sl_transform_for_bounds(double lo, double hi);
+
+double sl_transform_forward(const sl_transform *t, double x);
+double sl_transform_inverse(const sl_transform *t, double z);
+
+/* Prior distributions of one parameter:
+ *   uniform     a = lower, b = upper (a < b)
+ *   normal      a = mean,  b = standard deviation > 0
+ *   lognormal   a = mean of log x, b = standard deviation of log x > 0
+ *   truncnormal a = mean, b = sd > 0, truncated to [lo, hi], lo < hi
+ *   fixed       a = the value (every member gets it)                    */
+typedef enum {
+    SL_DIST_UNIFORM = 0,
+    SL_DIST_NORMAL,
+    SL_DIST_LOGNORMAL,
+    SL_DIST_TRUNCNORMAL,
+    SL_DIST_FIXED,
+    SL_DIST_COUNT
+} sl_dist_id;
+
+typedef struct {
+    int dist;
+    double a, b;
+    double lo, hi; /* truncation for truncnormal; ignored otherwise */
+} sl_prior_entry;
+
+/* The id of a distribution name ("uniform", "normal", "lognormal",
+ * "truncnormal", "fixed"), or -1. */
+int sl_dist_find(const char *name);
+const char *sl_dist_name(int id);
+
+/* Check one entry; reasons "baddist", "badprior" (message says which
+ * number is wrong). `index` (1-based) is named in the message. */
+sl_status sl_prior_check(const sl_prior_entry *e, size_t index, sl_error *err);
+
+/* The support of the entry's distribution: bounds for the transform. */
+void sl_prior_support(const sl_prior_entry *e, double *lo, double *hi);
+
+/* Draw member j = first .. first+N-1 of p parameters into P (p x N,
+ * column-major): member j uses stream (seed, j, 0, SL_PURPOSE_PRIOR) alone,
+ * so its values do not depend on N or on the other members. */
+sl_status sl_prior_draw(size_t p, const sl_prior_entry *prior, size_t N,
+                        uint64_t seed, uint32_t first, double *P,
+                        sl_error *err);
+
+#ifdef __cplusplus
+}
+#endif
+#endif

@@ -1,0 +1,77 @@
+/* mexutil.h - argument checks and error raising shared by every gateway. */
+#ifndef SLUICE_MEXUTIL_H
+#define SLUICE_MEXUTIL_H
+
+#include <stddef.h>
+#include <stdint.h>
+#include "mex.h"
+#include "sluice/status.h"
+
+/* Flags for slm_matrix. */
+enum {
+    SLM_ALLOW_EMPTY = 1,  /* 0-element input accepted                  */
+    SLM_ALLOW_NAN = 2,    /* NaN entries accepted                      */
+    SLM_ALLOW_INF = 4,    /* +-Inf entries accepted                    */
+    SLM_VECTOR = 8        /* any 1 x n or n x 1 shape                  */
+};
+
+/* Turn GSL's aborting error handler off. Every gateway calls it first. */
+void slm_init(void);
+
+/* Raise sluice:<fn>:<reason> with a printf-style message. Never returns. */
+void slm_fail(const char *fn, const char *reason, const char *fmt, ...)
+#if defined(__GNUC__)
+    __attribute__((format(printf, 3, 4), noreturn))
+#endif
+    ;
+
+/* Raise the core's error record as sluice:<fn>:<err->reason>. */
+void slm_raise(const char *fn, const sl_error *err)
+#if defined(__GNUC__)
+    __attribute__((noreturn))
+#endif
+    ;
+
+/* Check nrhs/nlhs; raises sluice:<fn>:nargin / nargout. */
+void slm_nargs(const char *fn, int nrhs, int min_in, int max_in, int nlhs,
+               int max_out);
+
+/* Describe an array's size and class, e.g. "3x2 single", "1x1 complex double". */
+void slm_describe(const mxArray *a, char *buf, size_t len);
+
+/* Check that `a` is a real, full double matrix with `rows` rows and `cols`
+ * columns (0 = any) and finite entries (unless flags allow NaN / Inf). With
+ * SLM_VECTOR, `rows` is the required length (0 = any) and any vector
+ * orientation is accepted. `pos` is the 1-based argument position, `name`
+ * its name; messages read "argument 2 (weights): expected ..., got ...".
+ * Reasons: "badclass", "badsize", "empty", "nonfinite". */
+const double *slm_matrix(const char *fn, const mxArray *a, int pos,
+                         const char *name, size_t rows, size_t cols,
+                         int flags);
+
+/* A real finite double scalar. */
+double slm_scalar(const char *fn, const mxArray *a, int pos, const char *name);
+
+/* A whole number in [lo, hi] given as a real double scalar. */
+double slm_integer(const char *fn, const mxArray *a, int pos,
+                   const char *name, double lo, double hi);
+
+/* A character row vector, returned as an mxMalloc'd C string. */
+char *slm_string(const char *fn, const mxArray *a, int pos, const char *name);
+
+/* A field of a scalar struct, or NULL when absent (required = 0) / raise
+ * sluice:<fn>:missingfield (required = 1). */
+const mxArray *slm_field(const char *fn, const mxArray *s, const char *field,
+                         int required);
+
+/* mxMalloc count*size bytes, raising sluice:<fn>:nomemory (not an Octave
+ * crash or a bare Octave error) if the size overflows or cannot be had. */
+void *slm_alloc(const char *fn, size_t count, size_t size);
+
+/* An uninitialised rows x cols double matrix, with the same size checks. */
+mxArray *slm_create(const char *fn, size_t rows, size_t cols);
+
+/* Numbers of threads to use: `requested` if > 0, else omp_get_max_threads(). */
+int slm_threads(double requested);
+
+#endif
