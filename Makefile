@@ -27,7 +27,10 @@ LIBS     := -lgsl $(LAPACK_LIBS) $(BLAS_LIBS) -lm
 SRC      := $(sort $(wildcard src/*.c src/models/*.c))
 OBJ      := $(patsubst src/%.c,$(BUILD)/obj/%.o,$(SRC))
 LIB      := $(BUILD)/libsluice.a
-MEXSRC   := $(filter-out mex/mexutil.c,$(sort $(wildcard mex/*.c)))
+# mex/mex*.c are helpers linked into every gateway; the rest are gateways
+MEXHELP  := $(sort $(wildcard mex/mex*.c))
+MEXHOBJ  := $(patsubst mex/%.c,$(BUILD)/mex/%.o,$(MEXHELP))
+MEXSRC   := $(filter-out $(MEXHELP),$(sort $(wildcard mex/*.c)))
 MEXOUT   := $(patsubst mex/%.c,m/+sluice/+kernel/%.mex,$(MEXSRC))
 CTESTSRC := $(sort $(wildcard tests/c/test_*.c))
 CTESTS   := $(patsubst tests/c/%.c,$(BUILD)/tests/%,$(CTESTSRC))
@@ -54,11 +57,11 @@ $(LIB): $(OBJ)
 
 lib: $(LIB)
 
-$(BUILD)/mex/%.o: mex/%.c mex/mexutil.h $(wildcard include/sluice/*.h) | $(DEPS)
+$(BUILD)/mex/%.o: mex/%.c $(wildcard mex/*.h) $(wildcard include/sluice/*.h) | $(DEPS)
 	@mkdir -p $(dir $@)
 	$(CC) $(CFLAGS_ALL) -DMX_HAS_INTERLEAVED_COMPLEX=1 $(OCT_INC) -c $< -o $@
 
-m/+sluice/+kernel/%.mex: $(BUILD)/mex/%.o $(BUILD)/mex/mexutil.o $(LIB)
+m/+sluice/+kernel/%.mex: $(BUILD)/mex/%.o $(MEXHOBJ) $(LIB)
 	mkoctfile --mex -o $@ $^ -fopenmp $(LIBS)
 
 mex: $(MEXOUT)
@@ -87,10 +90,10 @@ check-asan: | $(DEPS)
 	@ASAN_OPTIONS=detect_leaks=1 bash tests/run_all.sh build-asan none
 
 demo: all
-	$(OCTAVE) --no-gui --quiet --eval "addpath('$(CURDIR)/m'); addpath('$(CURDIR)/demos'); demo_river_town"
+	$(OCTAVE) --no-gui --quiet --eval "warning('off', 'Octave:shadowed-function'); addpath('$(CURDIR)/m'); addpath('$(CURDIR)/demos'); demo_river_town"
 
 bench: all
-	$(OCTAVE) --no-gui --quiet --eval "addpath('$(CURDIR)/m'); addpath('$(CURDIR)/tests/bench'); run_benchmarks"
+	$(OCTAVE) --no-gui --quiet --eval "warning('off', 'Octave:shadowed-function'); addpath('$(CURDIR)/m'); addpath('$(CURDIR)/tests/bench'); run_benchmarks"
 
 clean:
 	rm -rf build build-asan m/+sluice/+kernel/*.mex out

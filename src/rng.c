@@ -42,10 +42,15 @@ uint64_t sl_stream_u64(sl_stream *s)
     return lo | (hi << 32);
 }
 
+double sl_u01(uint64_t bits)
+{
+    /* 52 bits: k + 1/2 is exact below 2^52, so the value never rounds to 1 */
+    return ((double)(bits >> 12) + 0.5) * 0x1.0p-52;
+}
+
 double sl_stream_uniform(sl_stream *s)
 {
-    uint64_t k = sl_stream_u64(s) >> 11;
-    return ((double)k + 0.5) * 0x1.0p-53;
+    return sl_u01(sl_stream_u64(s));
 }
 
 double sl_stream_normal(sl_stream *s)

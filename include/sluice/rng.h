@@ -40,8 +40,12 @@ void sl_stream_init(sl_stream *s, uint64_t seed, uint32_t member,
 /* 64 random bits. */
 uint64_t sl_stream_u64(sl_stream *s);
 
-/* Uniform on the open interval (0, 1), 53-bit resolution. */
+/* Uniform on the open interval (0, 1), 52-bit resolution. */
 double sl_stream_uniform(sl_stream *s);
+
+/* The uniform that 64 random bits map to: (floor(bits / 2^12) + 1/2) / 2^52,
+ * so 0 < value < 1 for every input (the top 52 bits are used). */
+double sl_u01(uint64_t bits);
 
 /* Standard normal by the 256-layer ziggurat (Marsaglia & Tsang 2000), with
  * the layer, sign and magnitude taken from independent bits. */

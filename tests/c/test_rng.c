@@ -52,6 +52,10 @@ int main(void)
               r.v[1], r.v[2], r.v[3]);
     }
 
+    /* The bit-to-uniform map stays strictly inside (0, 1) at both ends. */
+    CHECK(sl_u01(0) > 0 && sl_u01(0) < 1e-15, "u01(0) = %g", sl_u01(0));
+    CHECK(sl_u01(UINT64_MAX) < 1.0, "u01(all ones) = %.17g", sl_u01(UINT64_MAX));
+
     /* Same key -> same draws; a copy of a stream forks it. */
     sl_stream_init(&s, 12345u, 7, 3, SL_PURPOSE_FORCING);
     t = s;

@@ -1,0 +1,116 @@
+/* pf.h - the particle-filter cycle: forecast, weight, resample, record. */
+#ifndef SLUICE_PF_H
+#define SLUICE_PF_H
+
+#include <stddef.h>
+#include <stdint.h>
+#include "sluice/model.h"
+#include "sluice/prior.h"
+#include "sluice/resample.h"
+#include "sluice/status.h"
+
+#ifdef __cplusplus
+extern "C" {
+#endif
+
+/* How a member's copy of a forcing series is perturbed. */
+typedef enum {
+    SL_FORCING_EXACT = 0,      /* every member sees the series as given */
+    SL_FORCING_ADDITIVE,       /* u + e */
+    SL_FORCING_MULTIPLICATIVE  /* u * exp(e - sd^2/2): log-normal, mean-preserving */
+} sl_forcing_noise;
+
+/* q forcing series on their own time axis, and their perturbation. The
+ * perturbation e of member j follows an AR(1) in model steps s:
+ *   e_0 = sd * z_0,  e_s = phi e_{s-1} + sqrt(1 - phi^2) sd z_s,
+ * z from stream (seed, j, s, SL_PURPOSE_FORCING); phi = 0 is white noise.
+ * e travels with its member when the ensemble is resampled. */
+typedef struct {
+    size_t q;            /* number of series (= the model's n_forcing) */
+    size_t nt;           /* points on the forcing time axis */
+    const double *time;  /* nt increasing times */
+    const double *value; /* nt x q, column-major */
+    int hold;            /* 0: linear interpolation, 1: hold the last value */
+    const int *noise;    /* q sl_forcing_noise kinds, or NULL for exact */
+    const double *sd;    /* q standard deviations (with noise) */
+    const double *phi;   /* q AR(1) coefficients in [0, 1) (with noise) */
+} sl_forcing;
+
+/* Parameter evolution between cycles, in the transformed space. */
+typedef enum {
+    SL_PARAM_FIXED = 0,   /* parameters keep the values they were drawn with */
+    SL_PARAM_RANDOM_WALK, /* z += step * N(0, 1) */
+    SL_PARAM_LIU_WEST     /* kernel shrinkage (Liu & West 2001), delta given */
+} sl_param_move;
+
+typedef int (*sl_poll_fn)(void *ctx, double fraction);
+
+typedef struct {
+    const sl_model *model;
+    size_t N;               /* members */
+    double t0;              /* start time of the run */
+    size_t T;               /* cycles */
+    const double *times;    /* T cycle times, increasing, >= t0 */
+    /* observations, grouped by cycle: rows obs_first[k] .. obs_first[k+1]-1
+     * belong to cycle k (obs_first has T + 1 entries). var[i] indexes the
+     * observed quantity: 0 .. n-1 a state, n .. n+p-1 a parameter. */
+    const size_t *obs_first;
+    const double *y, *sigma, *aux;
+    const int *family;
+    const size_t *var;
+    sl_forcing forcing;
+    const double *state_noise;   /* n standard deviations, or NULL */
+    const sl_transform *ptrans;  /* p transforms of the parameters */
+    int param_move;              /* sl_param_move */
+    const double *param_step;    /* p random-walk steps (transformed space) */
+    double lw_delta;             /* Liu-West discount factor in (0, 1] */
+    const sl_resampler *resampler;
+    double threshold;            /* resample when ESS < threshold * N */
+    uint64_t seed;
+    int threads;                 /* >= 1 */
+    size_t nq;                   /* quantile levels to record */
+    const double *probs;
+    int keep_history;
+    sl_poll_fn poll;             /* called between steps; non-zero stops */
+    void *poll_ctx;
+} sl_pf_config;
+
+/* What a run records; the caller allocates every array (sizes with
+ * v = n + p). Arrays of the history may be NULL unless keep_history. */
+typedef struct {
+    double *mean;        /* v x T weighted means (states, then parameters) */
+    double *quant;       /* v x nq x T weighted quantiles */
+    double *ess;         /* T: ESS after weighting, before resampling */
+    double *logz;        /* T: log-evidence increments */
+    double *resampled;   /* T: 1 if the cycle resampled */
+    double *degenerate;  /* T: 1 if every member had zero likelihood */
+    double *skipped;     /* T: observations skipped as missing */
+    double *nonfinite;   /* T: members whose state was not finite */
+    double *hist_X;      /* n x N x T states after the forecast */
+    double *hist_P;      /* p x N x T parameters */
+    double *hist_w;      /* N x T weights after the update */
+    double *hist_a;      /* N x T ancestors (0-based) chosen at the cycle */
+    double log_evidence; /* sum of logz */
+    size_t steps;        /* model steps taken */
+} sl_pf_output;
+
+/* Check a configuration; reasons "badconfig", "badtimes", "offgrid",
+ * "badforcing", "forcingrange", "badobs" and those of sl_loglik_check. */
+sl_status sl_pf_check(const sl_pf_config *cfg, sl_error *err);
+
+/* Bytes of workspace sl_pf_run needs, or 0 if a size overflows. */
+size_t sl_pf_workspace(const sl_pf_config *cfg);
+
+/* Run the filter. X (n x N) holds the initial states and receives the final
+ * ones; P (p x N, natural units) the initial and final parameters; w (N)
+ * receives the final weights. `work` holds sl_pf_workspace(cfg) bytes,
+ * aligned for doubles. A failing model step (SL_EMODEL), a poll that asks to
+ * stop (SL_EINTERRUPT) or bad input end the run with the outputs of the
+ * cycles done so far. */
+sl_status sl_pf_run(const sl_pf_config *cfg, double *X, double *P, double *w,
+                    void *work, sl_pf_output *out, sl_error *err);
+
+#ifdef __cplusplus
+}
+#endif
+#endif

@@ -1,0 +1,569 @@
+% -*- texinfo -*-
+% @deftypefn  {} {@var{res} =} sluice.filter (@var{model}, @var{prior}, @var{obs})
+% @deftypefnx {} {@var{res} =} sluice.filter (@var{model}, @var{prior}, @var{obs}, @var{opts})
+% @deftypefnx {} {@var{res} =} sluice.filter (@dots{}, @var{name}, @var{value}, @dots{})
+% Assimilate a record of observations into an ensemble run of @var{model}.
+%
+% @var{model} is a spec from @code{sluice.model}. @var{prior} is a struct
+% array from @code{sluice.prior}: an entry named after a parameter is that
+% parameter's prior, an entry named after a state is the distribution of
+% its initial value (other states start at the model's @code{x0},
+% parameters not named keep the model's @code{defaults}). @var{obs} is the
+% long observation table: a struct of column vectors @code{time},
+% @code{variable} (cellstr of state or parameter names), @code{value}
+% (NaN = missing: skipped and counted) and @code{sigma}, optionally
+% @code{family} (cellstr: @code{gaussian} (default), @code{lognormal},
+% @code{student_t}, @code{poisson}, @code{binomial}, @code{censored}) and
+% the family's extra column: @code{n} (binomial trials), @code{dof}
+% (Student-t degrees of freedom) or @code{limit} (detection limit of a
+% censored observation). Rows must be in time order.
+%
+% The whole run is one call into compiled code: each member is advanced to
+% the next observation time, weighted by the likelihood of the
+% observations there, and the ensemble is resampled when its effective
+% sample size falls below a threshold.
+%
+% Options (a struct or name/value pairs):
+% @table @code
+% @item method
+% @code{'pf'} (default; the only method so far): the particle filter.
+% @item members
+% ensemble size N (default 1000).
+% @item seed
+% whole number; the same seed gives identical results whatever the number
+% of threads. Default: drawn from Octave's @code{rand}; the seed used is
+% returned in @code{res.seed}.
+% @item t0
+% start time (default the model's @code{t0}).
+% @item times
+% extra times at which to record the ensemble without observations.
+% @item forcing
+% struct with @code{time} (nt x 1), @code{values} (nt x q, a column per
+% forcing of the model) and @code{interp} (@code{'linear'} (default) or
+% @code{'previous'}: hold each value until the next). A model step from
+% t uses the forcing at t.
+% @item forcing_noise
+% struct with @code{kind} (@code{'none'}, @code{'additive'} or
+% @code{'multiplicative'}; a string, or a cellstr with one per forcing),
+% @code{sd} and @code{ar1} (scalars or one per forcing): each member gets
+% its own perturbed copy of every forcing, e = AR(1) in model steps with
+% standard deviation sd; additive u + e, multiplicative u exp(e - sd^2/2).
+% @item state_noise
+% standard deviations of additive Gaussian noise put on the states at each
+% cycle (scalar or n-vector; default 0: off).
+% @item param_move
+% how parameters evolve between cycles, in their transformed space (log
+% for positive, logit for bounded): @code{'fixed'} (default),
+% @code{'random_walk'} (step @code{param_step}) or @code{'liu_west'}
+% (kernel shrinkage with discount @code{liu_west_delta}, default 0.98).
+% @item param_step
+% random-walk standard deviations in the transformed space (default 0.05).
+% @item resample
+% @code{'systematic'} (default), @code{'stratified'}, @code{'residual'},
+% @code{'multinomial'}.
+% @item resample_threshold
+% resample when ESS < threshold * N (default 0.5).
+% @item quantiles
+% quantile levels to record (default [0.05 0.5 0.95]).
+% @item history
+% true to keep the whole ensemble at every cycle (default false).
+% @item threads
+% OpenMP threads (default: @env{OMP_NUM_THREADS} or all cores).
+% @item progress
+% @code{'auto'} (default: a progress line on a terminal for runs over
+% 2 s), true or false.
+% @end table
+%
+% The result @var{res} has @code{times} (1 x T cycle times),
+% @code{state_names}, @code{param_names}, @code{states.mean} (n x T),
+% @code{states.quantiles} (n x nq x T), @code{params.mean},
+% @code{params.quantiles}, @code{quantile_levels}, @code{ess},
+% @code{resampled}, @code{degenerate} (cycles where no member explained
+% the data: the weights were kept and the evidence is -Inf),
+% @code{log_evidence} and its increments @code{log_evidence_steps},
+% @code{skipped} (missing observations per cycle), @code{nonfinite}
+% (members whose state was not finite, given zero weight), @code{final}
+% (the last ensemble: @code{X}, @code{P}, @code{w}) and, when asked,
+% @code{history} (@code{X} n x N x T, @code{P}, @code{w} N x T,
+% @code{ancestors} N x T, 1-based).
+%
+% @seealso{sluice.model, sluice.prior, sluice.loglik, sluice.resample}
+% @end deftypefn
+function res = filter (model, prior, obs, varargin)
+  if (nargin < 3)
+    print_usage ();
+  end
+  opts = parse_options (varargin);
+  check_model (model);
+  n = numel (model.states);
+  p = numel (model.params);
+  q = numel (model.forcings);
+  N = opts.members;
+  if (isempty (opts.seed))
+    opts.seed = floor (rand () * 2^32);
+  end
+  t0 = opts.t0;
+  if (isempty (t0))
+    t0 = model.t0;
+  end
+
+  check_memory (n, p, q, N, numel (obs_field (obs, 'time')), opts);
+
+  % initial ensemble: prior draws by name
+  [X0, P0, lower, upper] = initial_ensemble (model, prior, N, opts.seed);
+
+  % observations and the cycle times
+  tab = check_obs (obs, model, t0);
+  times = unique ([tab.time(:); opts.times(:)])';
+  if (isempty (times))
+    error ('sluice:filter:noobs', 'no observation and no output time to run to');
+  end
+  if (times(1) < t0)
+    error ('sluice:filter:badtimes', 'output time %g lies before the start time %g', ...
+           times(1), t0);
+  end
+  T = numel (times);
+  [~, cyc] = ismember (tab.time, times);
+  obs_first = [0, cumsum(accumarray (cyc(:), 1, [T 1]))'];
+
+  c = struct ();
+  c.n_state = n;
+  c.n_param = p;
+  c.n_forcing = q;
+  c.members = N;
+  c.dt = model.dt;
+  c.model_kind = model.kind;
+  c.A = model.A; c.B = model.B; c.c = model.c; c.L = model.L; c.fun = model.fun;
+  c.t0 = t0;
+  c.times = times;
+  c.obs_first = obs_first;
+  c.obs_var = tab.var - 1;
+  c.obs_value = tab.value;
+  c.obs_sigma = tab.sigma;
+  c.obs_aux = tab.aux;
+  c.obs_family = tab.family;
+  c = add_forcing (c, opts, q, model);
+  c.state_noise = expand (opts.state_noise, n, 'state_noise');
+  if (all (c.state_noise == 0))
+    c.state_noise = [];
+  end
+  c.lower = lower;
+  c.upper = upper;
+  c.param_move = opts.param_move;
+  c.param_step = expand (opts.param_step, p, 'param_step');
+  c.param_step(lower == upper) = 0;
+  c.lw_delta = opts.liu_west_delta;
+  c.resample = opts.resample;
+  c.threshold = opts.resample_threshold;
+  c.seed = opts.seed;
+  c.threads = opts.threads;
+  c.probs = opts.quantiles;
+  c.history = double (opts.history);
+  c.progress = opts.progress;
+  c.X0 = X0;
+  c.P0 = P0;
+
+  r = sluice.kernel.pf_run (c);
+
+  res = struct ();
+  res.method = 'pf';
+  res.model = model.name;
+  res.members = N;
+  res.seed = opts.seed;
+  res.t0 = t0;
+  res.times = times;
+  res.state_names = model.states;
+  res.param_names = model.params;
+  res.quantile_levels = opts.quantiles;
+  res.states = struct ('mean', r.mean(1:n, :), 'quantiles', r.quantiles(1:n, :, :));
+  res.params = struct ('mean', r.mean(n+1:end, :), ...
+                       'quantiles', r.quantiles(n+1:end, :, :));
+  res.ess = r.ess;
+  res.resampled = logical (r.resampled);
+  res.degenerate = logical (r.degenerate);
+  res.log_evidence = r.log_evidence;
+  res.log_evidence_steps = r.logz;
+  res.skipped = r.skipped;
+  res.skipped_total = sum (r.skipped);
+  res.nonfinite = r.nonfinite;
+  res.model_steps = r.steps;
+  res.final = struct ('X', r.X, 'P', r.P, 'w', r.w);
+  if (opts.history)
+    res.history = struct ('X', r.history_X, 'P', r.history_P, ...
+                          'w', r.history_w, 'ancestors', r.history_ancestors);
+  end
+  res.options = opts;
+  if (any (res.degenerate))
+    k = find (res.degenerate, 1);
+    warning ('sluice:filter:degenerate', ...
+             ['no member could explain the observations at %d cycle(s), ', ...
+              'first at t = %g: the weights were kept there and the log-evidence is -Inf'], ...
+             sum (res.degenerate), times(k));
+  end
+  if (any (res.nonfinite > 0))
+    k = find (res.nonfinite > 0, 1);
+    warning ('sluice:filter:nonfinite', ...
+             ['%d member(s) reached a non-finite state (first at t = %g); ', ...
+              'they were given zero weight'], max (res.nonfinite), times(k));
+  end
+end
+
+function opts = parse_options (args)
+  opts = struct ('method', 'pf', 'members', 1000, 'seed', [], 't0', [], ...
+                 'times', zeros (1, 0), 'forcing', [], 'forcing_noise', [], ...
+                 'state_noise', 0, 'param_move', 'fixed', 'param_step', 0.05, ...
+                 'liu_west_delta', 0.98, 'resample', 'systematic', ...
+                 'resample_threshold', 0.5, 'quantiles', [0.05 0.5 0.95], ...
+                 'history', false, 'threads', 0, 'progress', 'auto');
+  if (numel (args) == 1 && isstruct (args{1}))
+    given = args{1};
+    names = fieldnames (given);
+    vals = struct2cell (given);
+    args = [names(:)'; vals(:)'];
+    args = args(:)';
+  end
+  if (mod (numel (args), 2) ~= 0)
+    error ('sluice:filter:badoption', 'options must be a struct or name, value pairs');
+  end
+  for k = 1:2:numel (args)
+    name = args{k};
+    if (~ischar (name) || ~isfield (opts, name))
+      if (ischar (name))
+        error ('sluice:filter:badoption', 'unknown option ''%s''', name);
+      end
+      error ('sluice:filter:badoption', 'option names must be strings');
+    end
+    opts.(name) = args{k + 1};
+  end
+  if (~ischar (opts.method) || ~strcmp (opts.method, 'pf'))
+    error ('sluice:filter:badmethod', 'unknown method; the available method is ''pf''');
+  end
+  opts.members = whole (opts.members, 'members', 1, 2^31);
+  if (~isempty (opts.seed))
+    opts.seed = whole (opts.seed, 'seed', 0, 2^53);
+  end
+  if (~isempty (opts.t0))
+    opts.t0 = real_scalar (opts.t0, 't0');
+  end
+  opts.times = real_vector (opts.times, 'times', true);
+  opts.state_noise = real_vector (opts.state_noise, 'state_noise', false);
+  if (any (opts.state_noise < 0))
+    error ('sluice:filter:badoption', 'state_noise must be >= 0');
+  end
+  if (~ischar (opts.param_move) || ...
+      ~any (strcmp (opts.param_move, {'fixed', 'random_walk', 'liu_west'})))
+    error ('sluice:filter:badoption', ...
+           'param_move must be ''fixed'', ''random_walk'' or ''liu_west''');
+  end
+  opts.param_step = real_vector (opts.param_step, 'param_step', false);
+  if (any (opts.param_step < 0))
+    error ('sluice:filter:badoption', 'param_step must be >= 0');
+  end
+  d = real_scalar (opts.liu_west_delta, 'liu_west_delta');
+  if (~(d > 0 && d <= 1))
+    error ('sluice:filter:badoption', 'liu_west_delta must lie in (0, 1]');
+  end
+  if (~ischar (opts.resample) || ...
+      ~any (strcmp (opts.resample, {'systematic', 'stratified', 'residual', 'multinomial'})))
+    error ('sluice:filter:badscheme', ...
+           'resample must be ''systematic'', ''stratified'', ''residual'' or ''multinomial''');
+  end
+  th = real_scalar (opts.resample_threshold, 'resample_threshold');
+  if (~(th >= 0 && th <= 1))
+    error ('sluice:filter:badoption', 'resample_threshold must lie in [0, 1]');
+  end
+  opts.quantiles = real_vector (opts.quantiles, 'quantiles', true);
+  if (any (opts.quantiles < 0 | opts.quantiles > 1))
+    error ('sluice:filter:badoption', 'quantile levels must lie in [0, 1]');
+  end
+  opts.quantiles = opts.quantiles(:)';
+  if (~(islogical (opts.history) || isnumeric (opts.history)) || ~isscalar (opts.history))
+    error ('sluice:filter:badoption', 'history must be true or false');
+  end
+  opts.history = logical (opts.history);
+  opts.threads = whole (opts.threads, 'threads', 0, 256);
+  pr = opts.progress;
+  if (ischar (pr) && strcmp (pr, 'auto'))
+    opts.progress = 2;
+  elseif ((islogical (pr) || isnumeric (pr)) && isscalar (pr))
+    opts.progress = double (logical (pr));
+  else
+    error ('sluice:filter:badoption', 'progress must be ''auto'', true or false');
+  end
+end
+
+function v = whole (v, what, lo, hi)
+  if (~isa (v, 'double') || ~isreal (v) || ~isscalar (v) || ~isfinite (v) || ...
+      v ~= fix (v) || v < lo || v > hi)
+    error ('sluice:filter:badoption', '%s must be a whole number from %g to %g', ...
+           what, lo, hi);
+  end
+  v = double (v);
+end
+
+function v = real_scalar (v, what)
+  if (~isa (v, 'double') || ~isreal (v) || ~isscalar (v) || ~isfinite (v))
+    error ('sluice:filter:badoption', '%s must be a finite real scalar', what);
+  end
+  v = double (v);
+end
+
+function v = real_vector (v, what, allow_empty)
+  if (~isa (v, 'double') || ~isreal (v) || issparse (v) || ...
+      (~allow_empty && isempty (v)) || (~isempty (v) && ~isvector (v)) || ...
+      any (~isfinite (v(:))))
+    error ('sluice:filter:badoption', '%s must be a finite real vector', what);
+  end
+  v = double (v(:));
+end
+
+function v = expand (v, n, what)
+  if (n == 0)
+    v = zeros (0, 1);
+  elseif (isscalar (v))
+    v = repmat (v, n, 1);
+  elseif (numel (v) ~= n)
+    error ('sluice:filter:badoption', '%s needs 1 or %d values, got %d', what, n, numel (v));
+  end
+end
+
+function v = obs_field (obs, name)
+  v = [];
+  if (isstruct (obs) && isscalar (obs) && isfield (obs, name))
+    v = obs.(name);
+  end
+end
+
+function check_memory (n, p, q, N, m, opts)
+  % refuse a run that cannot fit before anything large is allocated
+  T = m + numel (opts.times);
+  need = 8 * N * (3 * n + 5 * p + 3 * q + min (m, 1e4) + 8);
+  if (opts.history)
+    need = need + 8 * N * T * (n + p + 2);
+  end
+  avail = Inf;
+  try
+    [~, sys] = memory ();
+    avail = sys.PhysicalMemory.Available;
+  catch
+    % memory () is not available on every platform: rely on allocation errors
+  end
+  if (need > avail)
+    error ('sluice:filter:nomemory', ...
+           'a run of %d members needs about %.3g GB; %.3g GB are available', ...
+           N, need / 1e9, avail / 1e9);
+  end
+end
+
+function check_model (model)
+  if (~isstruct (model) || ~isscalar (model) || ~isfield (model, 'kind') || ...
+      ~isfield (model, 'states'))
+    error ('sluice:filter:badmodel', 'argument 1 (model): expected a spec from sluice.model');
+  end
+end
+
+function [X0, P0, lower, upper] = initial_ensemble (model, prior, N, seed)
+  n = numel (model.states);
+  p = numel (model.params);
+  try
+    X0 = repmat (model.x0(:), 1, N);
+    P0 = repmat (model.defaults(:), 1, N);
+  catch err
+    error ('sluice:filter:nomemory', 'cannot hold %d members of %d states: %s', ...
+           N, n, err.message);
+  end
+  lower = model.defaults(:);
+  upper = model.defaults(:);
+  if (isempty (prior))
+    prior_names = {};
+  else
+    if (~isstruct (prior) || ~isfield (prior, 'name'))
+      error ('sluice:filter:badprior', 'argument 2 (prior): expected a struct array from sluice.prior');
+    end
+    prior_names = {prior.name};
+  end
+  for k = 1:numel (prior_names)
+    if (~any (strcmp (prior_names{k}, [model.states(:); model.params(:)])))
+      error ('sluice:filter:badprior', ...
+             'the prior names ''%s'', which is neither a state nor a parameter of the model', ...
+             prior_names{k});
+    end
+  end
+  if (~isempty (prior_names))
+    D = sluice.draw (prior, N, seed);
+    for k = 1:numel (prior_names)
+      is = find (strcmp (prior_names{k}, model.states));
+      ip = find (strcmp (prior_names{k}, model.params));
+      if (~isempty (is))
+        X0(is, :) = D(k, :);
+      else
+        P0(ip, :) = D(k, :);
+        lower(ip) = prior(k).lower;
+        upper(ip) = prior(k).upper;
+      end
+    end
+  end
+  missing = find (isnan (P0(:, 1)));
+  if (~isempty (missing))
+    error ('sluice:filter:badprior', ...
+           'parameter ''%s'' has neither a prior nor a default value', ...
+           model.params{missing(1)});
+  end
+end
+
+function tab = check_obs (obs, model, t0)
+  if (~isstruct (obs) || ~isscalar (obs))
+    error ('sluice:filter:badobs', ...
+           'argument 3 (obs): expected a struct of columns time, variable, value, sigma');
+  end
+  need = {'time', 'variable', 'value', 'sigma'};
+  for k = 1:numel (need)
+    if (~isfield (obs, need{k}))
+      error ('sluice:filter:badobs', 'the observation table has no column ''%s''', need{k});
+    end
+  end
+  m = numel (obs.time);
+  num = {'time', 'value', 'sigma'};
+  for k = 1:numel (num)
+    v = obs.(num{k});
+    if (~isa (v, 'double') || ~isreal (v) || issparse (v) || ...
+        (~isempty (v) && ~isvector (v)) || numel (v) ~= m)
+      error ('sluice:filter:badobs', ...
+             'observation column ''%s'' must be a real double vector with one entry per row (%d), got %s', ...
+             num{k}, m, class (v));
+    end
+  end
+  var = obs.variable;
+  if (ischar (var) && m == 1)
+    var = {var};
+  end
+  if (~iscellstr (var) || numel (var) ~= m)
+    error ('sluice:filter:badobs', ...
+           'observation column ''variable'' must be a cellstr with one name per row (%d)', m);
+  end
+  tab.time = double (obs.time(:));
+  tab.value = double (obs.value(:));
+  tab.sigma = double (obs.sigma(:));
+  if (isfield (obs, 'family'))
+    fam = obs.family;
+    if (ischar (fam))
+      fam = repmat ({fam}, m, 1);
+    end
+    if (~iscellstr (fam) || numel (fam) ~= m)
+      error ('sluice:filter:badobs', ...
+             'observation column ''family'' must be a cellstr with one name per row');
+    end
+    tab.family = fam(:);
+  else
+    tab.family = repmat ({'gaussian'}, m, 1);
+  end
+  tab.aux = nan (m, 1);
+  extra = {'n', 'binomial'; 'dof', 'student_t'; 'limit', 'censored'};
+  for k = 1:rows (extra)
+    if (isfield (obs, extra{k, 1}))
+      v = obs.(extra{k, 1});
+      if (~isnumeric (v) || ~isreal (v) || numel (v) ~= m)
+        error ('sluice:filter:badobs', ...
+               'observation column ''%s'' must be numeric with one entry per row', extra{k, 1});
+      end
+      sel = strcmp (tab.family, extra{k, 2});
+      tab.aux(sel) = double (v(sel));
+    end
+  end
+  names = [model.states(:); model.params(:)];
+  [ok, tab.var] = ismember (var(:), names);
+  for i = 1:m
+    if (~ok(i))
+      error ('sluice:filter:badobs', ...
+             'observation row %d: unknown variable ''%s'' (the model has %s)', ...
+             i, var{i}, strjoin (names', ', '));
+    end
+    if (~isfinite (tab.time(i)))
+      error ('sluice:filter:badobs', 'observation row %d: time is not finite', i);
+    end
+    if (i > 1 && tab.time(i) < tab.time(i - 1))
+      error ('sluice:filter:badobs', ...
+             'observation row %d: time %g comes before the previous row''s %g (rows must be in time order)', ...
+             i, tab.time(i), tab.time(i - 1));
+    end
+    if (tab.time(i) < t0)
+      error ('sluice:filter:badobs', ...
+             'observation row %d: time %g lies before the start of the run (%g)', ...
+             i, tab.time(i), t0);
+    end
+    if (isinf (tab.value(i)))
+      error ('sluice:filter:badobs', 'observation row %d: value is infinite', i);
+    end
+    if (~any (strcmp (tab.family{i}, {'poisson', 'binomial'})) && ...
+        ~(isfinite (tab.sigma(i)) && tab.sigma(i) > 0))
+      error ('sluice:filter:badobs', ...
+             'observation row %d: sigma must be finite and > 0, got %g', i, tab.sigma(i));
+    end
+  end
+end
+
+function c = add_forcing (c, opts, q, model)
+  c.forcing_time = [];
+  c.forcing_value = zeros (0, q);
+  c.forcing_hold = 0;
+  c.forcing_noise = [];
+  c.forcing_sd = [];
+  c.forcing_phi = [];
+  if (q == 0)
+    if (~isempty (opts.forcing))
+      error ('sluice:filter:badforcing', 'the model takes no forcing');
+    end
+    return;
+  end
+  f = opts.forcing;
+  if (~isstruct (f) || ~isfield (f, 'time') || ~isfield (f, 'values'))
+    error ('sluice:filter:badforcing', ...
+           'the model needs forcing: give opts.forcing with fields time and values');
+  end
+  tf = f.time(:);
+  vals = f.values;
+  if (~isnumeric (vals) || ~isreal (vals) || rows (vals) ~= numel (tf) || columns (vals) ~= q)
+    error ('sluice:filter:badforcing', ...
+           'forcing.values must be %d x %d (one row per forcing time, one column per forcing: %s)', ...
+           numel (tf), q, strjoin (model.forcings, ', '));
+  end
+  c.forcing_time = double (tf);
+  c.forcing_value = double (vals);
+  if (isfield (f, 'interp'))
+    if (strcmp (f.interp, 'previous'))
+      c.forcing_hold = 1;
+    elseif (~strcmp (f.interp, 'linear'))
+      error ('sluice:filter:badforcing', 'forcing.interp must be ''linear'' or ''previous''');
+    end
+  end
+  fn = opts.forcing_noise;
+  if (isempty (fn))
+    return;
+  end
+  if (~isstruct (fn) || ~isfield (fn, 'kind'))
+    error ('sluice:filter:badforcing', 'forcing_noise must be a struct with fields kind, sd, ar1');
+  end
+  kinds = fn.kind;
+  if (ischar (kinds))
+    kinds = repmat ({kinds}, q, 1);
+  end
+  if (~iscellstr (kinds) || numel (kinds) ~= q)
+    error ('sluice:filter:badforcing', 'forcing_noise.kind: one kind or one per forcing');
+  end
+  [ok, id] = ismember (kinds, {'none', 'additive', 'multiplicative'});
+  if (~all (ok))
+    error ('sluice:filter:badforcing', ...
+           'forcing_noise.kind must be ''none'', ''additive'' or ''multiplicative''');
+  end
+  sd = 0; phi = 0;
+  if (isfield (fn, 'sd')), sd = fn.sd; end
+  if (isfield (fn, 'ar1')), phi = fn.ar1; end
+  sd = expand (real_vector (sd, 'forcing_noise.sd', false), q, 'forcing_noise.sd');
+  phi = expand (real_vector (phi, 'forcing_noise.ar1', false), q, 'forcing_noise.ar1');
+  if (any (sd < 0) || any (phi < 0 | phi >= 1))
+    error ('sluice:filter:badforcing', 'forcing_noise: sd must be >= 0 and ar1 in [0, 1)');
+  end
+  c.forcing_noise = id(:) - 1;
+  c.forcing_sd = sd;
+  c.forcing_phi = phi;
+end

@@ -1,0 +1,286 @@
+% -*- texinfo -*-
+% @deftypefn  {} {@var{spec} =} sluice.model ('linear', @var{name}, @var{value}, @dots{})
+% @deftypefnx {} {@var{spec} =} sluice.model (@var{fun}, @var{name}, @var{value}, @dots{})
+% Describe a model for @code{sluice.filter}: its states, parameters,
+% forcings, time step and dynamics.
+%
+% @strong{Built-in linear-Gaussian model} (@code{'linear'}):
+% @math{x_k = A x_{k-1} + B u_k + c + q_k}, @math{q_k ~ N(0, Q)}, one step
+% per @code{dt}. Options: @code{'A'} (n x n, required), @code{'Q'} (n x n
+% symmetric positive semi-definite, default zeros), @code{'B'} (n x q,
+% needed with forcings), @code{'c'} (n x 1, default zeros).
+%
+% @strong{An Octave function} @var{fun}: a step map
+% @code{X = fun (t, X, P, U, dt)} advancing every member at once, where
+% @var{X} is n x N (one column per member), @var{P} p x N parameters in
+% natural units, @var{U} q x N each member's forcing values at @var{t}.
+% It must return the n x N states at @code{t + dt}; a non-finite column
+% marks a member that blew up (it is given zero weight and reported).
+%
+% Common options: @code{'states'} (cellstr of state names, default
+% x1, x2, @dots{}), @code{'params'} (cellstr of parameter names),
+% @code{'forcings'} (cellstr of forcing names), @code{'defaults'} (values
+% of the parameters used when the prior does not name them), @code{'dt'}
+% (time step, default 1), @code{'t0'} (start time, default 0), @code{'x0'}
+% (initial state, n x 1, default zeros), @code{'n'} (number of states of a
+% function model when no names are given).
+%
+% Example:
+% @example
+% spec = sluice.model ('linear', 'A', 0.9, 'Q', 0.5, 'states', @{'level'@});
+% @end example
+% @seealso{sluice.filter, sluice.prior}
+% @end deftypefn
+function spec = model (kind, varargin)
+  if (nargin < 1)
+    print_usage ();
+  end
+  spec = struct ('kind', '', 'name', '', 'states', {{}}, 'params', {{}}, ...
+                 'forcings', {{}}, 'defaults', zeros (0, 1), 'dt', 1, ...
+                 't0', 0, 'x0', [], 'A', [], 'B', [], 'c', [], 'Q', [], ...
+                 'L', [], 'fun', []);
+  if (ischar (kind) && strcmp (kind, 'linear'))
+    spec.kind = 'linear';
+    spec.name = 'linear';
+  elseif (isa (kind, 'function_handle'))
+    spec.kind = 'handle';
+    spec.name = func2str (kind);
+    spec.fun = kind;
+  elseif (ischar (kind))
+    error ('sluice:model:badmodel', ...
+           'unknown model ''%s''; expected ''linear'' or a function handle', kind);
+  else
+    error ('sluice:model:badmodel', ...
+           'argument 1 (model): expected ''linear'' or a function handle, got %s', ...
+           class (kind));
+  end
+  if (mod (numel (varargin), 2) ~= 0)
+    error ('sluice:model:badoption', 'options must come in name, value pairs');
+  end
+  nstate = [];
+  for k = 1:2:numel (varargin)
+    name = varargin{k};
+    val = varargin{k + 1};
+    if (~ischar (name))
+      error ('sluice:model:badoption', 'option %d: expected a name', (k + 1) / 2);
+    end
+    switch (lower (name))
+      case {'states', 'params', 'forcings'}
+        spec.(lower (name)) = names_arg (val, name);
+      case 'defaults'
+        spec.defaults = real_arg (val, name, false);
+        spec.defaults = spec.defaults(:);
+      case 'dt'
+        spec.dt = real_arg (val, name, true);
+        if (~isscalar (spec.dt) || spec.dt <= 0)
+          error ('sluice:model:badstep', 'dt must be a positive scalar');
+        end
+      case 't0'
+        spec.t0 = real_arg (val, name, true);
+        if (~isscalar (spec.t0))
+          error ('sluice:model:badoption', 't0 must be a scalar');
+        end
+      case 'x0'
+        spec.x0 = real_arg (val, name, false);
+        spec.x0 = spec.x0(:);
+      case {'a', 'b', 'c', 'q'}
+        if (~strcmp (spec.kind, 'linear'))
+          error ('sluice:model:badoption', ...
+                 'option ''%s'' belongs to the linear model', name);
+        end
+        spec.(upper_if_matrix (name)) = real_arg (val, name, false);
+      case 'n'
+        nstate = real_arg (val, name, true);
+        if (~isscalar (nstate) || nstate < 1 || nstate ~= fix (nstate))
+          error ('sluice:model:badoption', 'n must be a positive whole number');
+        end
+      otherwise
+        error ('sluice:model:badoption', 'unknown option ''%s''', name);
+    end
+  end
+  if (strcmp (spec.kind, 'linear'))
+    spec = check_linear (spec);
+  elseif (isempty (spec.states))
+    if (isempty (nstate))
+      if (isempty (spec.x0))
+        error ('sluice:model:nostates', ...
+               'name the states (''states'') or give their number (''n'')');
+      end
+      nstate = numel (spec.x0);
+    end
+    spec.states = default_names (nstate);
+  end
+  n = numel (spec.states);
+  if (~isempty (nstate) && nstate ~= n)
+    error ('sluice:model:badsize', 'n = %d but %d state names given', nstate, n);
+  end
+  if (isempty (spec.x0))
+    spec.x0 = zeros (n, 1);
+  elseif (numel (spec.x0) ~= n)
+    error ('sluice:model:badsize', 'x0 has %d values for %d states', ...
+           numel (spec.x0), n);
+  end
+  if (isempty (spec.defaults))
+    spec.defaults = nan (numel (spec.params), 1);
+  elseif (numel (spec.defaults) ~= numel (spec.params))
+    error ('sluice:model:badsize', '%d defaults for %d parameters', ...
+           numel (spec.defaults), numel (spec.params));
+  end
+  all_names = [spec.states(:); spec.params(:); spec.forcings(:)];
+  if (numel (unique (all_names)) ~= numel (all_names))
+    error ('sluice:model:badname', ...
+           'state, parameter and forcing names must all differ');
+  end
+end
+
+function s = upper_if_matrix (name)
+  if (strcmpi (name, 'c'))
+    s = 'c';
+  else
+    s = upper (name);
+  end
+end
+
+function c = names_arg (val, what)
+  if (ischar (val))
+    val = {val};
+  end
+  if (~iscellstr (val))
+    error ('sluice:model:badname', '''%s'' must be a cell array of names', what);
+  end
+  c = val(:)';
+  for k = 1:numel (c)
+    if (~isvarname (c{k}))
+      error ('sluice:model:badname', '''%s'': ''%s'' is not a valid name', ...
+             what, c{k});
+    end
+  end
+  if (numel (unique (c)) ~= numel (c))
+    error ('sluice:model:badname', '''%s'': names must be unique', what);
+  end
+end
+
+function v = real_arg (val, what, scalar)
+  if (~isnumeric (val) || ~isreal (val) || issparse (val) || ~isa (val, 'double'))
+    error ('sluice:model:badclass', '''%s'' must be a real double array, got %s', ...
+           what, class (val));
+  end
+  if (any (~isfinite (val(:))))
+    error ('sluice:model:nonfinite', '''%s'' must be finite', what);
+  end
+  if (scalar && ~isscalar (val))
+    error ('sluice:model:badsize', '''%s'' must be a scalar', what);
+  end
+  v = val;
+end
+
+function names = default_names (n)
+  names = arrayfun (@(k) sprintf ('x%d', k), 1:n, 'UniformOutput', false);
+end
+
+function spec = check_linear (spec)
+  A = spec.A;
+  if (isempty (A))
+    error ('sluice:model:badmodel', 'the linear model needs a matrix ''A''');
+  end
+  n = rows (A);
+  if (columns (A) ~= n || ndims (A) ~= 2)
+    error ('sluice:model:badsize', 'A must be square, got %dx%d', rows (A), columns (A));
+  end
+  if (isempty (spec.states))
+    spec.states = default_names (n);
+  elseif (numel (spec.states) ~= n)
+    error ('sluice:model:badsize', '%d state names for a %dx%d matrix A', ...
+           numel (spec.states), n, n);
+  end
+  if (~isempty (spec.params))
+    error ('sluice:model:badoption', 'the linear model has no parameters');
+  end
+  Q = spec.Q;
+  if (isempty (Q))
+    spec.L = [];
+  else
+    if (isscalar (Q) && n > 1)
+      Q = Q * eye (n);
+    end
+    if (~isequal (size (Q), [n n]))
+      error ('sluice:model:badsize', 'Q must be %dx%d', n, n);
+    end
+    if (norm (Q - Q', 1) > 1e-12 * max (1, norm (Q, 1)))
+      error ('sluice:model:notsymmetric', 'Q must be symmetric');
+    end
+    [V, D] = eig ((Q + Q') / 2);
+    d = diag (D);
+    if (any (d < -1e-12 * max (1, max (abs (d)))))
+      error ('sluice:model:notpsd', 'Q must be positive semi-definite');
+    end
+    [R, fail] = chol ((Q + Q') / 2);
+    if (fail == 0)
+      spec.L = R';
+    else
+      % semi-definite: a square-root factor from the eigen-decomposition,
+      % made lower-triangular by a QR step
+      S = V * diag (sqrt (max (d, 0)));
+      [~, Rq] = qr (S');
+      spec.L = Rq';
+    end
+    spec.Q = Q;
+  end
+  q = numel (spec.forcings);
+  if (q > 0)
+    if (~isequal (size (spec.B), [n q]))
+      error ('sluice:model:badsize', 'B must be %dx%d for %d forcings', n, q, q);
+    end
+  elseif (~isempty (spec.B))
+    error ('sluice:model:badsize', 'B given but the model names no forcings');
+  end
+  if (~isempty (spec.c) && numel (spec.c) ~= n)
+    error ('sluice:model:badsize', 'c must have %d entries', n);
+  end
+  spec.c = spec.c(:);
+end
+
+%!test
+%! s = sluice.model ('linear', 'A', [1 0.1; 0 1], 'Q', 0.2, 'states', {'h', 'v'});
+%! assert (s.kind, 'linear');
+%! assert (s.states, {'h', 'v'});
+%! assert (s.L * s.L', 0.2 * eye (2), 1e-14);
+%! assert (s.x0, [0; 0]);
+%!test
+%! % a semi-definite noise covariance still gets a factor with L*L' = Q
+%! Q = [1 1; 1 1];
+%! s = sluice.model ('linear', 'A', eye (2), 'Q', Q);
+%! assert (s.L * s.L', Q, 1e-12);
+%! assert (triu (s.L, 1), zeros (2), 1e-14);
+%!test
+%! f = @(t, X, P, U, dt) X + dt * P(1, :);
+%! s = sluice.model (f, 'states', {'s'}, 'params', {'k'}, 'defaults', 0.3);
+%! assert (s.kind, 'handle');
+%! assert (s.params, {'k'});
+%! assert (s.defaults, 0.3);
+%!test
+%! s = sluice.model (@(t, X, P, U, dt) X, 'n', 3);
+%! assert (s.states, {'x1', 'x2', 'x3'});
+%!error id=sluice:model:badmodel sluice.model ('nosuch')
+%!error id=sluice:model:badmodel sluice.model (3)
+%!error id=sluice:model:badmodel sluice.model ('linear')
+%!error id=sluice:model:badsize sluice.model ('linear', 'A', ones (2, 3))
+%!error id=sluice:model:badclass sluice.model ('linear', 'A', single (1))
+%!error id=sluice:model:badclass sluice.model ('linear', 'A', int32 (1))
+%!error id=sluice:model:badclass sluice.model ('linear', 'A', true)
+%!error id=sluice:model:badclass sluice.model ('linear', 'A', 1i)
+%!error id=sluice:model:badclass sluice.model ('linear', 'A', sparse (1))
+%!error id=sluice:model:badclass sluice.model ('linear', 'A', {1})
+%!error id=sluice:model:badclass sluice.model ('linear', 'A', struct ())
+%!error id=sluice:model:nonfinite sluice.model ('linear', 'A', NaN)
+%!error id=sluice:model:notsymmetric sluice.model ('linear', 'A', eye (2), 'Q', [1 2; 0 1])
+%!error id=sluice:model:notpsd sluice.model ('linear', 'A', 1, 'Q', -1)
+%!error id=sluice:model:badsize sluice.model ('linear', 'A', 1, 'forcings', {'u'})
+%!error id=sluice:model:badoption sluice.model ('linear', 'A', 1, 'bogus', 2)
+%!error id=sluice:model:badoption sluice.model ('linear', 'A', 1, 'dt')
+%!error id=sluice:model:badstep sluice.model ('linear', 'A', 1, 'dt', 0)
+%!error id=sluice:model:badname sluice.model ('linear', 'A', 1, 'states', {'1x'})
+%!error id=sluice:model:badname sluice.model (@(t, X, P, U, dt) X, 'states', {'a', 'a'})
+%!error id=sluice:model:badname sluice.model (@(t, X, P, U, dt) X, 'states', {'a'}, 'params', {'a'})
+%!error id=sluice:model:nostates sluice.model (@(t, X, P, U, dt) X)
+%!error id=sluice:model:badsize sluice.model (@(t, X, P, U, dt) X, 'params', {'k'}, 'defaults', [1 2], 'n', 1)

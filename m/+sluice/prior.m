@@ -1,0 +1,342 @@
+% -*- texinfo -*-
+% @deftypefn  {} {@var{pr} =} sluice.prior (@var{name}, @var{dist}, @var{args})
+% @deftypefnx {} {@var{pr} =} sluice.prior (@var{name}, @var{dist}, @var{args}, 'bounds', [@var{lo} @var{hi}])
+% @deftypefnx {} {@var{pr} =} sluice.prior (@var{name}, @var{dist}, @var{args}, @var{name2}, @var{dist2}, @var{args2}, @dots{})
+% Prior distributions of model parameters (or of initial states).
+%
+% Each parameter is given as a triple: its @var{name} (a valid variable
+% name, unique within the prior), the name of its distribution @var{dist}
+% and the distribution's arguments @var{args} (a real double vector):
+%
+% @table @code
+% @item uniform
+% @code{[lo hi]}, lo < hi, both finite.
+% @item normal
+% @code{[mean sd]}, sd > 0.
+% @item lognormal
+% @code{[meanlog sdlog]}: the mean and standard deviation of the
+% logarithm of the parameter, sdlog > 0.
+% @item truncnormal
+% @code{[mean sd lo hi]}: a normal distribution truncated to
+% [@var{lo}, @var{hi}], lo < hi; @var{lo} may be @code{-Inf} and @var{hi}
+% @code{Inf}.
+% @item fixed
+% @code{[value]}: every member gets @var{value}.
+% @end table
+%
+% The result @var{pr} is a 1-by-p struct array with fields @code{name},
+% @code{dist}, @code{args} (a row vector), @code{lower} and @code{upper}.
+% @code{lower} and @code{upper} are the bounds of the parameter, which
+% decide the space it is estimated in (log for a parameter bounded on one
+% side, logit for one bounded on both). By default they are the support
+% of its distribution: [lo hi] for uniform and truncnormal, [0 Inf] for
+% lognormal, [-Inf Inf] for normal, [value value] for fixed. A triple may
+% be followed by the option name @code{bounds} and a value [lo hi], which
+% set the bounds of the parameter just named; they must contain the
+% support of its distribution (a parameter cannot itself be named
+% @code{bounds}).
+%
+% Priors built separately can be joined with @code{[pr1, pr2]};
+% @code{sluice.draw} then checks that the names are unique.
+%
+% Example:
+% @example
+% @group
+% pr = sluice.prior ('K', 'lognormal', [log(2.5) 0.4], ...
+%                    'alpha', 'uniform', [0.1 0.9], 'bounds', [0 1], ...
+%                    'mu', 'truncnormal', [0.2 0.1 0 Inf], ...
+%                    'dt', 'fixed', 1);
+% [P, names] = sluice.draw (pr, 500, 42);   % 4 x 500
+% @end group
+% @end example
+%
+% Errors: @code{sluice:prior:badname} (not a valid variable name, or
+% repeated), @code{sluice:prior:baddist} (unknown distribution),
+% @code{sluice:prior:badargs} (arguments of the wrong class or number,
+% non-finite, sd <= 0, lo >= hi), @code{sluice:prior:badbounds}.
+% @seealso{sluice.draw}
+% @end deftypefn
+
+function pr = prior (varargin)
+  if (nargin < 3)
+    print_usage ();
+  end
+  dists = {'uniform', 'normal', 'lognormal', 'truncnormal', 'fixed'};
+  forms = {'[lo hi]', '[mean sd]', '[meanlog sdlog]', '[mean sd lo hi]', '[value]'};
+  counts = [2 2 2 4 1];
+  pr = struct ('name', {}, 'dist', {}, 'args', {}, 'lower', {}, 'upper', {});
+  k = 1;
+  while (k <= nargin)
+    name = varargin{k};
+    if (~(ischar (name) && isrow (name) && isvarname (name)))
+      if (ischar (name) && isrow (name))
+        got = ['''' name ''''];
+      else
+        got = describe (name);
+      end
+      error ('sluice:prior:badname', ...
+             'argument %d (name): expected a valid variable name, got %s', ...
+             k, got);
+    end
+    if (strcmpi (name, 'bounds'))
+      error ('sluice:prior:badname', ...
+             'argument %d (name): ''%s'' is the name of an option, not of a parameter; the bounds option follows the arguments of its parameter', ...
+             k, name);
+    end
+    if (any (strcmp (name, {pr.name})))
+      error ('sluice:prior:badname', ...
+             'argument %d (name): parameter ''%s'' is named twice', k, name);
+    end
+    if (k + 2 > nargin)
+      error ('sluice:prior:badargs', ...
+             'parameter ''%s'': expected a distribution name and its arguments after the name', ...
+             name);
+    end
+
+    dist = varargin{k + 1};
+    id = [];
+    if (ischar (dist) && isrow (dist))
+      id = find (strcmpi (dist, dists));
+    end
+    if (isempty (id))
+      if (ischar (dist))
+        got = ['''' dist(:)' ''''];
+      else
+        got = describe (dist);
+      end
+      error ('sluice:prior:baddist', ...
+             'argument %d (distribution of ''%s''): expected one of %s, got %s', ...
+             k + 1, name, strjoin (dists, ', '), got);
+    end
+
+    args = varargin{k + 2};
+    if (~(isa (args, 'double') && isreal (args) && ~issparse (args) ...
+          && isvector (args) && numel (args) == counts(id)))
+      error ('sluice:prior:badargs', ...
+             'argument %d (arguments of ''%s''): a %s prior takes a real double vector %s, got %s', ...
+             k + 2, name, dists{id}, forms{id}, describe (args));
+    end
+    args = args(:)';
+    [lower, upper] = check_args (dists{id}, args, name, k + 2);
+
+    k = k + 3;
+    if (k <= nargin && is_bounds_key (varargin{k}))
+      if (k + 1 > nargin)
+        error ('sluice:prior:badbounds', ...
+               'argument %d (bounds of ''%s''): the bounds option needs a value [lo hi]', ...
+               k, name);
+      end
+      [lower, upper] = check_bounds (varargin{k + 1}, lower, upper, name, k + 1);
+      k = k + 2;
+      if (k <= nargin && is_bounds_key (varargin{k}))
+        error ('sluice:prior:badbounds', ...
+               'argument %d: the bounds of ''%s'' are given twice', k, name);
+      end
+    end
+
+    n = numel (pr) + 1;
+    pr(n).name = name;
+    pr(n).dist = dists{id};
+    pr(n).args = args;
+    pr(n).lower = lower;
+    pr(n).upper = upper;
+  end
+end
+
+function tf = is_bounds_key (x)
+  tf = ischar (x) && isrow (x) && strcmpi (x, 'bounds');
+end
+
+function [lower, upper] = check_args (dist, args, name, pos)
+  where = sprintf ('argument %d (arguments of ''%s'')', pos, name);
+  switch (dist)
+    case 'truncnormal'
+      finite_part = args(1:2);
+      if (any (isnan (args(3:4))))
+        error ('sluice:prior:badargs', '%s: the truncation bounds must not be NaN', where);
+      end
+    otherwise
+      finite_part = args;
+  end
+  if (~all (isfinite (finite_part)))
+    error ('sluice:prior:badargs', '%s: expected finite values, got %s', ...
+           where, mat2str (args));
+  end
+  switch (dist)
+    case 'uniform'
+      if (~(args(1) < args(2)))
+        error ('sluice:prior:badargs', '%s: expected lo < hi, got %s', ...
+               where, mat2str (args));
+      end
+      lower = args(1);
+      upper = args(2);
+    case {'normal', 'lognormal'}
+      if (~(args(2) > 0))
+        error ('sluice:prior:badargs', ...
+               '%s: the standard deviation must be > 0, got %g', where, args(2));
+      end
+      if (strcmp (dist, 'normal'))
+        lower = -Inf;
+      else
+        lower = 0;
+      end
+      upper = Inf;
+    case 'truncnormal'
+      if (~(args(2) > 0))
+        error ('sluice:prior:badargs', ...
+               '%s: the standard deviation must be > 0, got %g', where, args(2));
+      end
+      if (~(args(3) < args(4)))
+        error ('sluice:prior:badargs', ...
+               '%s: expected truncation bounds lo < hi, got [%g %g]', ...
+               where, args(3), args(4));
+      end
+      lower = args(3);
+      upper = args(4);
+    otherwise
+      lower = args(1);
+      upper = args(1);
+  end
+end
+
+function [lower, upper] = check_bounds (b, lo, hi, name, pos)
+  where = sprintf ('argument %d (bounds of ''%s'')', pos, name);
+  if (~(isa (b, 'double') && isreal (b) && ~issparse (b) && isvector (b) ...
+        && numel (b) == 2))
+    error ('sluice:prior:badbounds', '%s: expected a real double vector [lo hi], got %s', ...
+           where, describe (b));
+  end
+  if (any (isnan (b)) || ~(b(1) <= b(2)))
+    error ('sluice:prior:badbounds', '%s: expected lo <= hi without NaN, got %s', ...
+           where, mat2str (b(:)'));
+  end
+  if (~(b(1) <= lo && b(2) >= hi))
+    error ('sluice:prior:badbounds', ...
+           '%s: [%g %g] must contain the support [%g %g] of the distribution', ...
+           where, b(1), b(2), lo, hi);
+  end
+  lower = b(1);
+  upper = b(2);
+end
+
+function s = describe (x)
+  % size and class, e.g. "1x3 single", "2x2 sparse double", "1x1 complex double"
+  d = size (x);
+  s = sprintf ('%dx', d);
+  s = s(1:end-1);
+  extra = '';
+  if (issparse (x))
+    extra = [extra 'sparse '];
+  end
+  if (isnumeric (x) && ~isreal (x))
+    extra = [extra 'complex '];
+  end
+  s = [s ' ' extra class(x)];
+end
+
+%!test
+%! pr = sluice.prior ('K', 'lognormal', [log(2.5) 0.4], ...
+%!                    'alpha', 'uniform', [0.1 0.9], 'bounds', [0 1], ...
+%!                    'mu', 'truncnormal', [0.2; 0.1; 0; Inf], ...
+%!                    'theta', 'normal', [-1.37 2.385], ...
+%!                    'dt', 'fixed', 1.25);
+%! assert (size (pr), [1 5]);
+%! assert (fieldnames (pr), {'name'; 'dist'; 'args'; 'lower'; 'upper'});
+%! assert ({pr.name}, {'K', 'alpha', 'mu', 'theta', 'dt'});
+%! assert ({pr.dist}, {'lognormal', 'uniform', 'truncnormal', 'normal', 'fixed'});
+%! assert (pr(3).args, [0.2 0.1 0 Inf]);
+%! assert ([pr.lower], [0 0 0 -Inf 1.25]);
+%! assert ([pr.upper], [Inf 1 Inf Inf 1.25]);
+
+%!test
+%! % default bounds are the support; distribution names are case-blind
+%! pr = sluice.prior ('a', 'Uniform', [-1.37 2.385]);
+%! assert (pr.dist, 'uniform');
+%! assert ([pr.lower pr.upper], [-1.37 2.385]);
+%! pr = sluice.prior ('b', 'truncnormal', [1 2 -Inf 3.5]);
+%! assert ([pr.lower pr.upper], [-Inf 3.5]);
+
+%!test
+%! % bounds may widen the support, including to the whole line
+%! pr = sluice.prior ('a', 'uniform', [0.2 0.4], 'Bounds', [-Inf Inf], ...
+%!                    'b', 'fixed', 3, 'bounds', [0 10], ...
+%!                    'c', 'lognormal', [0 1], 'bounds', [0 Inf]);
+%! assert ([pr.lower], [-Inf 0 0]);
+%! assert ([pr.upper], [Inf 10 Inf]);
+
+%!test
+%! % priors built separately join by concatenation
+%! p1 = sluice.prior ('a', 'normal', [0 1]);
+%! p2 = sluice.prior ('b', 'uniform', [0 1], 'c', 'fixed', 2);
+%! pr = [p1, p2];
+%! assert (size (pr), [1 3]);
+%! assert ({pr.name}, {'a', 'b', 'c'});
+
+%!error <Invalid call> sluice.prior ()
+%!error <Invalid call> sluice.prior ('a', 'normal')
+%!error id=sluice:prior:badname sluice.prior (1, 'normal', [0 1])
+%!error id=sluice:prior:badname sluice.prior ({'a'}, 'normal', [0 1])
+%!error id=sluice:prior:badname sluice.prior ('1a', 'normal', [0 1])
+%!error id=sluice:prior:badname sluice.prior ('a b', 'normal', [0 1])
+%!error id=sluice:prior:badname sluice.prior ('', 'normal', [0 1])
+%!error id=sluice:prior:badname sluice.prior (['ab'; 'cd'], 'normal', [0 1])
+%!error id=sluice:prior:badname sluice.prior ('end', 'normal', [0 1])
+%!error id=sluice:prior:badname sluice.prior ('bounds', 'normal', [0 1])
+%!error id=sluice:prior:badname sluice.prior ('a', 'normal', [0 1], 'a', 'uniform', [0 1])
+%!error id=sluice:prior:badname sluice.prior ('a', 'normal', [0 1], 5, 'uniform', [0 1])
+%!error id=sluice:prior:badargs sluice.prior ('a', 'normal', [0 1], 'b')
+%!error id=sluice:prior:badargs sluice.prior ('a', 'normal', [0 1], 'b', 'normal')
+%!error id=sluice:prior:baddist sluice.prior ('a', 'gamma', [1 1])
+%!error id=sluice:prior:baddist sluice.prior ('a', '', [1 1])
+%!error id=sluice:prior:baddist sluice.prior ('a', {'normal'}, [0 1])
+%!error id=sluice:prior:baddist sluice.prior ('a', 1, [0 1])
+%!error id=sluice:prior:baddist sluice.prior ('a', ['normal'; 'normal'], [0 1])
+%!error id=sluice:prior:badargs sluice.prior ('a', 'normal', [0 1 2])
+%!error id=sluice:prior:badargs sluice.prior ('a', 'normal', 1)
+%!error id=sluice:prior:badargs sluice.prior ('a', 'normal', [])
+%!error id=sluice:prior:badargs sluice.prior ('a', 'normal', [0 1; 2 3])
+%!error id=sluice:prior:badargs sluice.prior ('a', 'truncnormal', [0 1 2])
+%!error id=sluice:prior:badargs sluice.prior ('a', 'fixed', [1 2])
+%!error id=sluice:prior:badargs sluice.prior ('a', 'normal', single ([0 1]))
+%!error id=sluice:prior:badargs sluice.prior ('a', 'normal', int32 ([0 1]))
+%!error id=sluice:prior:badargs sluice.prior ('a', 'uniform', logical ([0 1]))
+%!error id=sluice:prior:badargs sluice.prior ('a', 'normal', [0 1] + 1i)
+%!error id=sluice:prior:badargs sluice.prior ('a', 'normal', sparse ([0 1]))
+%!error id=sluice:prior:badargs sluice.prior ('a', 'normal', {0, 1})
+%!error id=sluice:prior:badargs sluice.prior ('a', 'normal', struct ('m', 0, 's', 1))
+%!error id=sluice:prior:badargs sluice.prior ('a', 'normal', '01')
+%!error id=sluice:prior:badargs sluice.prior ('a', 'normal', [NaN 1])
+%!error id=sluice:prior:badargs sluice.prior ('a', 'normal', [0 Inf])
+%!error id=sluice:prior:badargs sluice.prior ('a', 'normal', [0 0])
+%!error id=sluice:prior:badargs sluice.prior ('a', 'normal', [0 -1])
+%!error id=sluice:prior:badargs sluice.prior ('a', 'lognormal', [0 0])
+%!error id=sluice:prior:badargs sluice.prior ('a', 'lognormal', [-Inf 1])
+%!error id=sluice:prior:badargs sluice.prior ('a', 'uniform', [1 1])
+%!error id=sluice:prior:badargs sluice.prior ('a', 'uniform', [2 1])
+%!error id=sluice:prior:badargs sluice.prior ('a', 'uniform', [0 Inf])
+%!error id=sluice:prior:badargs sluice.prior ('a', 'truncnormal', [0 1 2 2])
+%!error id=sluice:prior:badargs sluice.prior ('a', 'truncnormal', [0 1 3 2])
+%!error id=sluice:prior:badargs sluice.prior ('a', 'truncnormal', [0 1 NaN 2])
+%!error id=sluice:prior:badargs sluice.prior ('a', 'truncnormal', [0 1 Inf Inf])
+%!error id=sluice:prior:badargs sluice.prior ('a', 'truncnormal', [0 0 0 1])
+%!error id=sluice:prior:badargs sluice.prior ('a', 'truncnormal', [Inf 1 0 1])
+%!error id=sluice:prior:badargs sluice.prior ('a', 'fixed', NaN)
+%!error id=sluice:prior:badargs sluice.prior ('a', 'fixed', Inf)
+%!error id=sluice:prior:badbounds sluice.prior ('a', 'normal', [0 1], 'bounds')
+%!error id=sluice:prior:badbounds sluice.prior ('a', 'normal', [0 1], 'bounds', [0 Inf])
+%!error id=sluice:prior:badbounds sluice.prior ('a', 'uniform', [0 1], 'bounds', [0.5 2])
+%!error id=sluice:prior:badbounds sluice.prior ('a', 'uniform', [0 1], 'bounds', [-1 0.5])
+%!error id=sluice:prior:badbounds sluice.prior ('a', 'lognormal', [0 1], 'bounds', [0.1 Inf])
+%!error id=sluice:prior:badbounds sluice.prior ('a', 'fixed', 2, 'bounds', [3 4])
+%!error id=sluice:prior:badbounds sluice.prior ('a', 'uniform', [0 1], 'bounds', [2 -1])
+%!error id=sluice:prior:badbounds sluice.prior ('a', 'uniform', [0 1], 'bounds', [NaN 1])
+%!error id=sluice:prior:badbounds sluice.prior ('a', 'uniform', [0 1], 'bounds', [0 1 2])
+%!error id=sluice:prior:badbounds sluice.prior ('a', 'uniform', [0 1], 'bounds', 1)
+%!error id=sluice:prior:badbounds sluice.prior ('a', 'uniform', [0 1], 'bounds', single ([0 1]))
+%!error id=sluice:prior:badbounds sluice.prior ('a', 'uniform', [0 1], 'bounds', int32 ([0 1]))
+%!error id=sluice:prior:badbounds sluice.prior ('a', 'uniform', [0 1], 'bounds', logical ([0 1]))
+%!error id=sluice:prior:badbounds sluice.prior ('a', 'uniform', [0 1], 'bounds', [0 1] + 1i)
+%!error id=sluice:prior:badbounds sluice.prior ('a', 'uniform', [0 1], 'bounds', sparse ([0 1]))
+%!error id=sluice:prior:badbounds sluice.prior ('a', 'uniform', [0 1], 'bounds', {0, 1})
+%!error id=sluice:prior:badbounds sluice.prior ('a', 'uniform', [0 1], 'bounds', struct ('lo', 0))
+%!error id=sluice:prior:badbounds sluice.prior ('a', 'uniform', [0 1], 'bounds', [0 1], 'bounds', [0 1])

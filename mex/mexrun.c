@@ -1,0 +1,153 @@
+/* mexrun.c - Octave-function models and the progress / interrupt poll. */
+#include "mexrun.h"
+
+#include <stdio.h>
+#include <stdint.h>
+#include <string.h>
+#include <time.h>
+#include <unistd.h>
+
+#include "mexutil.h"
+
+static sl_status handle_step(const sl_model *model, double t, double dt,
+                             size_t first, size_t count, double *X,
+                             const double *P, const double *U, uint64_t seed,
+                             uint32_t step, double *work, sl_error *err)
+{
+    slm_handle_model *hm = (slm_handle_model *)model->ctx;
+    mxArray *in[6], *out[3] = {NULL, NULL, NULL}, *trap;
+    const size_t n = hm->n, p = hm->p, q = hm->q;
+    sl_status st = SL_OK;
+    int k;
+    (void)first;
+    (void)seed;
+    (void)step;
+    (void)work;
+    /* the handle is passed as it is, never modified or destroyed */
+    in[0] = (mxArray *)(uintptr_t)hm->fun;
+    in[1] = mxCreateDoubleScalar(t);
+    in[2] = mxCreateUninitNumericMatrix(n, count, mxDOUBLE_CLASS, mxREAL);
+    in[3] = mxCreateUninitNumericMatrix(p, count, mxDOUBLE_CLASS, mxREAL);
+    in[4] = mxCreateUninitNumericMatrix(q, count, mxDOUBLE_CLASS, mxREAL);
+    in[5] = mxCreateDoubleScalar(dt);
+    memcpy(mxGetDoubles(in[2]), X, n * count * sizeof(double));
+    if (p)
+        memcpy(mxGetDoubles(in[3]), P, p * count * sizeof(double));
+    if (q)
+        memcpy(mxGetDoubles(in[4]), U, q * count * sizeof(double));
+    trap = mexCallMATLABWithTrap(3, out, 6, in, "sluice.kernel.guarded_call");
+    for (k = 1; k < 6; k++)
+        mxDestroyArray(in[k]);
+    if (trap != NULL) {
+        hm->interrupted = 1;
+        snprintf(hm->message, sizeof hm->message,
+                 "the model function was interrupted at t = %g", t);
+        hm->identifier[0] = '\0';
+        return sl_fail(err, SL_EINTERRUPT, "interrupted", "%s", hm->message);
+    }
+    if (mxGetNumberOfElements(out[1]) > 0) {
+        char *msg = mxArrayToString(out[1]), *id = mxArrayToString(out[2]);
+        snprintf(hm->message, sizeof hm->message,
+                 "the model function failed at t = %g: %s", t, msg ? msg : "");
+        snprintf(hm->identifier, sizeof hm->identifier, "%s", id ? id : "");
+        mxFree(msg);
+        mxFree(id);
+        st = sl_fail(err, SL_EMODEL, "modelfailed", "%s", hm->message);
+    } else if (!mxIsDouble(out[0]) || mxIsComplex(out[0]) || mxIsSparse(out[0]) ||
+               mxGetNumberOfDimensions(out[0]) != 2 || mxGetM(out[0]) != n ||
+               mxGetN(out[0]) != count) {
+        char got[96];
+        slm_describe(out[0], got, sizeof got);
+        snprintf(hm->message, sizeof hm->message,
+                 "the model function must return a real double %lux%lu matrix "
+                 "(states x members), got %s at t = %g",
+                 (unsigned long)n, (unsigned long)count, got, t);
+        snprintf(hm->identifier, sizeof hm->identifier, "sluice:filter:badmodeloutput");
+        st = sl_fail(err, SL_EMODEL, "badmodeloutput", "%s", hm->message);
+    } else {
+        memcpy(X, mxGetDoubles(out[0]), n * count * sizeof(double));
+    }
+    for (k = 0; k < 3; k++)
+        if (out[k] != NULL)
+            mxDestroyArray(out[k]);
+    return st;
+}
+
+void slm_handle_model_init(sl_model *model, slm_handle_model *hm,
+                           const mxArray *fun, size_t n, size_t p, size_t q,
+                           double dt)
+{
+    memset(hm, 0, sizeof *hm);
+    hm->fun = fun;
+    hm->n = n;
+    hm->p = p;
+    hm->q = q;
+    model->name = "octave function";
+    model->n_state = n;
+    model->n_param = p;
+    model->n_forcing = q;
+    model->dt = dt;
+    model->discrete = 1;
+    model->thread_safe = 0;
+    model->work = 0;
+    model->step = handle_step;
+    model->ctx = hm;
+}
+
+void slm_handle_model_raise(const char *fn, const slm_handle_model *hm)
+{
+    if (hm->interrupted)
+        slm_fail(fn, "interrupted", "%s", hm->message);
+    if (hm->identifier[0] != '\0')
+        mexErrMsgIdAndTxt(hm->identifier, "%s", hm->message);
+    slm_fail(fn, "modelfailed", "%s", hm->message);
+}
+
+static double now_seconds(void)
+{
+    struct timespec ts;
+    clock_gettime(CLOCK_MONOTONIC, &ts);
+    return (double)ts.tv_sec + 1e-9 * (double)ts.tv_nsec;
+}
+
+void slm_poll_init(slm_poll *pl, int mode)
+{
+    pl->start = pl->last = now_seconds();
+    pl->show = mode == 1 || (mode == 2 && isatty(STDOUT_FILENO));
+    pl->shown = 0;
+}
+
+static int call_progress(slm_poll *pl, double fraction, double elapsed,
+                         double show)
+{
+    mxArray *in[3], *trap;
+    int k;
+    in[0] = mxCreateDoubleScalar(fraction);
+    in[1] = mxCreateDoubleScalar(elapsed);
+    in[2] = mxCreateDoubleScalar(show);
+    trap = mexCallMATLABWithTrap(0, NULL, 3, in, "sluice.kernel.progress");
+    for (k = 0; k < 3; k++)
+        mxDestroyArray(in[k]);
+    (void)pl;
+    return trap != NULL;
+}
+
+int slm_poll_fn(void *ctx, double fraction)
+{
+    slm_poll *pl = (slm_poll *)ctx;
+    double t = now_seconds(), elapsed = t - pl->start;
+    int show;
+    if (t - pl->last < 0.1)
+        return 0;
+    pl->last = t;
+    show = pl->show && elapsed > 2.0;
+    if (show)
+        pl->shown = 1;
+    return call_progress(pl, fraction, elapsed, show ? 1.0 : 0.0);
+}
+
+void slm_poll_finish(slm_poll *pl)
+{
+    if (pl->shown)
+        call_progress(pl, 1.0, now_seconds() - pl->start, 2.0);
+}

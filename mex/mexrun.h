@@ -1,0 +1,47 @@
+/* mexrun.h - services for gateways that run the cycle: the adapter for
+ * models written as Octave functions, and the progress / interrupt poll. */
+#ifndef SLUICE_MEXRUN_H
+#define SLUICE_MEXRUN_H
+
+#include "mex.h"
+#include "sluice/model.h"
+
+/* A model whose step map is an Octave function X = f(t, X, P, U, dt),
+ * called once per step with the whole ensemble through the trampoline
+ * sluice.kernel.guarded_call, so that the user's error comes back as a
+ * status and not as a jump through the core's frames. */
+typedef struct {
+    const mxArray *fun;
+    size_t n, p, q;
+    char message[900];
+    char identifier[128];
+    int interrupted;
+} slm_handle_model;
+
+/* Fill `model` to call `fun` (which must outlive the run). */
+void slm_handle_model_init(sl_model *model, slm_handle_model *hm,
+                           const mxArray *fun, size_t n, size_t p, size_t q,
+                           double dt);
+
+/* Raise the failure the handle model recorded (the user's own identifier
+ * and message, or sluice:<fn>:interrupted). Never returns. */
+void slm_handle_model_raise(const char *fn, const slm_handle_model *hm)
+#if defined(__GNUC__)
+    __attribute__((noreturn))
+#endif
+    ;
+
+/* Progress report and Ctrl-C check: at most every 0.1 s calls
+ * sluice.kernel.progress(fraction, elapsed, show) with a trap; a trapped
+ * error (an interrupt) makes the poll return non-zero. `mode`: 0 never
+ * show, 1 always (after 2 s), 2 only when stdout is a terminal. */
+typedef struct {
+    double start, last;
+    int show, shown;
+} slm_poll;
+
+void slm_poll_init(slm_poll *pl, int mode);
+int slm_poll_fn(void *ctx, double fraction);
+void slm_poll_finish(slm_poll *pl);
+
+#endif

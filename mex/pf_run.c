@@ -1,0 +1,299 @@
+/* pf_run.c - gateway: sluice.kernel.pf_run(cfg) runs the particle filter.
+ * cfg is the struct sluice.filter prepares (see its source); the result is
+ * a struct of the recorded arrays. Error identifiers are sluice:filter:*. */
+#include <math.h>
+#include <string.h>
+
+#include "mexrun.h"
+#include "mexutil.h"
+#include "sluice/loglik.h"
+#include "sluice/model.h"
+#include "sluice/pf.h"
+#include "sluice/resample.h"
+
+static const char *FN = "filter";
+
+/* A field as a double matrix (rows x cols, 0 = any), flags as slm_matrix. */
+static const double *fmat(const mxArray *c, const char *name, size_t rows,
+                          size_t cols, int flags)
+{
+    const mxArray *f = slm_field(FN, c, name, 1);
+    return slm_matrix(FN, f, 1, name, rows, cols, flags);
+}
+
+static double fscalar(const mxArray *c, const char *name)
+{
+    return slm_scalar(FN, slm_field(FN, c, name, 1), 1, name);
+}
+
+static size_t fcount(const mxArray *c, const char *name, double lo, double hi)
+{
+    return (size_t)slm_integer(FN, slm_field(FN, c, name, 1), 1, name, lo, hi);
+}
+
+static size_t numel_field(const mxArray *c, const char *name)
+{
+    return mxGetNumberOfElements(slm_field(FN, c, name, 1));
+}
+
+static int choose(const char *fn, const char *what, const char *s,
+                  const char *const *names, int count)
+{
+    int k;
+    for (k = 0; k < count; k++)
+        if (strcmp(s, names[k]) == 0)
+            return k;
+    slm_fail(fn, "badoption", "unknown %s '%s'", what, s);
+}
+
+void mexFunction(int nlhs, mxArray *plhs[], int nrhs, const mxArray *prhs[])
+{
+    static const char *const move_names[] = {"fixed", "random_walk", "liu_west"};
+    static const char *out_names[] = {
+        "mean", "quantiles", "ess", "logz", "resampled", "degenerate",
+        "skipped", "nonfinite", "log_evidence", "steps", "X", "P", "w",
+        "history_X", "history_P", "history_w", "history_ancestors"};
+    const mxArray *c;
+    sl_model model;
+    sl_linear lin;
+    slm_handle_model hm;
+    slm_poll poll;
+    sl_pf_config cfg;
+    sl_pf_output out;
+    sl_error err;
+    sl_transform *tr;
+    size_t n, p, q, N, T, m, k, v, nq, *first, *var;
+    int *fam, *fnoise = NULL;
+    double *X, *P, *w, dt;
+    const double *lower, *upper, *ofirst, *ovar;
+    char *kind, *scheme, *move;
+    mxArray *res, *a;
+    void *work;
+    size_t wbytes;
+
+    slm_init();
+    slm_nargs(FN, nrhs, 1, 1, nlhs, 1);
+    c = prhs[0];
+    if (!mxIsStruct(c) || mxGetNumberOfElements(c) != 1)
+        slm_fail(FN, "badclass", "argument 1 (config): expected a scalar struct");
+    memset(&cfg, 0, sizeof cfg);
+    memset(&out, 0, sizeof out);
+    sl_error_clear(&err);
+
+    n = fcount(c, "n_state", 1, 1e9);
+    p = fcount(c, "n_param", 0, 1e9);
+    q = fcount(c, "n_forcing", 0, 1e9);
+    N = fcount(c, "members", 1, (double)SL_RESAMPLE_MAX);
+    dt = fscalar(c, "dt");
+    if (!(dt > 0))
+        slm_fail(FN, "badstep", "the model's time step must be > 0, got %g", dt);
+
+    /* the model */
+    kind = slm_string(FN, slm_field(FN, c, "model_kind", 1), 1, "model_kind");
+    if (strcmp(kind, "linear") == 0) {
+        memset(&lin, 0, sizeof lin);
+        lin.n = n;
+        lin.q = q;
+        lin.A = fmat(c, "A", n, n, 0);
+        lin.B = q ? fmat(c, "B", n, q, 0) : NULL;
+        lin.c = numel_field(c, "c") ? fmat(c, "c", n, 1, SLM_VECTOR) : NULL;
+        lin.L = numel_field(c, "L") ? fmat(c, "L", n, n, 0) : NULL;
+        if (p != 0)
+            slm_fail(FN, "badmodel", "the linear model has no parameters, got %lu",
+                     (unsigned long)p);
+        if (sl_linear_model(&model, &lin, dt, &err) != SL_OK)
+            slm_raise(FN, &err);
+    } else if (strcmp(kind, "handle") == 0) {
+        const mxArray *fun = slm_field(FN, c, "fun", 1);
+        if (!mxIsClass(fun, "function_handle"))
+            slm_fail(FN, "badmodel", "the model function must be a function handle");
+        slm_handle_model_init(&model, &hm, fun, n, p, q, dt);
+    } else {
+        slm_fail(FN, "badmodel", "unknown model kind '%s'", kind);
+    }
+    cfg.model = &model;
+    cfg.N = N;
+
+    /* times and observations */
+    cfg.t0 = fscalar(c, "t0");
+    cfg.times = fmat(c, "times", 0, 0, SLM_VECTOR);
+    T = numel_field(c, "times");
+    cfg.T = T;
+    ofirst = fmat(c, "obs_first", T + 1, 0, SLM_VECTOR);
+    m = (size_t)ofirst[T];
+    first = (size_t *)slm_alloc(FN, T + 1, sizeof(size_t));
+    for (k = 0; k <= T; k++) {
+        if (ofirst[k] < 0 || ofirst[k] != floor(ofirst[k]) || (k > 0 && ofirst[k] < ofirst[k - 1]))
+            slm_fail(FN, "badobs", "obs_first must be non-decreasing whole numbers");
+        first[k] = (size_t)ofirst[k];
+    }
+    cfg.obs_first = first;
+    var = (size_t *)slm_alloc(FN, m ? m : 1, sizeof(size_t));
+    fam = (int *)slm_alloc(FN, m ? m : 1, sizeof(int));
+    v = n + p;
+    if (m > 0) {
+        const mxArray *fc = slm_field(FN, c, "obs_family", 1);
+        ovar = fmat(c, "obs_var", m, 0, SLM_VECTOR);
+        cfg.y = fmat(c, "obs_value", m, 0, SLM_VECTOR | SLM_ALLOW_NAN);
+        cfg.sigma = fmat(c, "obs_sigma", m, 0, SLM_VECTOR | SLM_ALLOW_NAN);
+        cfg.aux = fmat(c, "obs_aux", m, 0, SLM_VECTOR | SLM_ALLOW_NAN);
+        if (!mxIsCell(fc) || mxGetNumberOfElements(fc) != m)
+            slm_fail(FN, "badobs", "obs_family must be a cellstr with one name per observation");
+        for (k = 0; k < m; k++) {
+            char *name = slm_string(FN, mxGetCell(fc, k), 1, "obs_family");
+            fam[k] = sl_family_find(name);
+            if (fam[k] < 0)
+                slm_fail(FN, "badfamily", "observation %lu: unknown likelihood family '%s'",
+                         (unsigned long)(k + 1), name);
+            mxFree(name);
+            if (ovar[k] < 0 || ovar[k] >= (double)v || ovar[k] != floor(ovar[k]))
+                slm_fail(FN, "badobs", "observation %lu: bad variable index", (unsigned long)(k + 1));
+            var[k] = (size_t)ovar[k];
+        }
+    }
+    cfg.var = var;
+    cfg.family = fam;
+
+    /* forcing */
+    cfg.forcing.q = q;
+    if (q > 0) {
+        cfg.forcing.time = fmat(c, "forcing_time", 0, 0, SLM_VECTOR);
+        cfg.forcing.nt = numel_field(c, "forcing_time");
+        cfg.forcing.value = fmat(c, "forcing_value", cfg.forcing.nt, q, 0);
+        cfg.forcing.hold = fscalar(c, "forcing_hold") != 0;
+        if (numel_field(c, "forcing_noise") > 0) {
+            const double *fn_ = fmat(c, "forcing_noise", q, 0, SLM_VECTOR);
+            fnoise = (int *)slm_alloc(FN, q, sizeof(int));
+            for (k = 0; k < q; k++)
+                fnoise[k] = (int)fn_[k];
+            cfg.forcing.noise = fnoise;
+            cfg.forcing.sd = fmat(c, "forcing_sd", q, 0, SLM_VECTOR);
+            cfg.forcing.phi = fmat(c, "forcing_phi", q, 0, SLM_VECTOR);
+        }
+    }
+    cfg.state_noise = numel_field(c, "state_noise") ? fmat(c, "state_noise", n, 0, SLM_VECTOR) : NULL;
+
+    /* parameters */
+    tr = (sl_transform *)slm_alloc(FN, p ? p : 1, sizeof *tr);
+    if (p > 0) {
+        lower = fmat(c, "lower", p, 0, SLM_VECTOR | SLM_ALLOW_INF);
+        upper = fmat(c, "upper", p, 0, SLM_VECTOR | SLM_ALLOW_INF);
+        for (k = 0; k < p; k++) {
+            if (!(lower[k] < upper[k]) && lower[k] != upper[k])
+                slm_fail(FN, "badbounds", "parameter %lu: lower bound above upper", (unsigned long)(k + 1));
+            tr[k] = lower[k] == upper[k] ? sl_transform_for_bounds(-HUGE_VAL, HUGE_VAL)
+                                         : sl_transform_for_bounds(lower[k], upper[k]);
+        }
+    }
+    cfg.ptrans = tr;
+    move = slm_string(FN, slm_field(FN, c, "param_move", 1), 1, "param_move");
+    cfg.param_move = choose(FN, "parameter evolution", move, move_names, 3);
+    cfg.param_step = p ? fmat(c, "param_step", p, 0, SLM_VECTOR) : NULL;
+    cfg.lw_delta = fscalar(c, "lw_delta");
+
+    scheme = slm_string(FN, slm_field(FN, c, "resample", 1), 1, "resample");
+    cfg.resampler = sl_resampler_find(scheme);
+    if (cfg.resampler == NULL)
+        slm_fail(FN, "badscheme", "unknown resampling scheme '%s'", scheme);
+    cfg.threshold = fscalar(c, "threshold");
+    cfg.seed = (uint64_t)slm_integer(FN, slm_field(FN, c, "seed", 1), 1, "seed", 0, 9007199254740992.0);
+    cfg.threads = slm_threads(slm_integer(FN, slm_field(FN, c, "threads", 1), 1, "threads", 0, 256));
+    cfg.probs = numel_field(c, "probs") ? fmat(c, "probs", 0, 0, SLM_VECTOR) : NULL;
+    cfg.nq = numel_field(c, "probs");
+    nq = cfg.nq;
+    cfg.keep_history = fscalar(c, "history") != 0;
+    slm_poll_init(&poll, (int)slm_integer(FN, slm_field(FN, c, "progress", 1), 1, "progress", 0, 2));
+    cfg.poll = slm_poll_fn;
+    cfg.poll_ctx = &poll;
+
+    /* initial ensemble (copied: the run writes the final one in place) */
+    {
+        const double *x0 = fmat(c, "X0", n, N, 0);
+        a = slm_create(FN, n, N);
+        memcpy(mxGetDoubles(a), x0, n * N * sizeof(double));
+    }
+    X = mxGetDoubles(a);
+    {
+        mxArray *pa = slm_create(FN, p, N);
+        if (p) {
+            const double *p0 = fmat(c, "P0", p, N, 0);
+            memcpy(mxGetDoubles(pa), p0, p * N * sizeof(double));
+        }
+        P = mxGetDoubles(pa);
+        if (sl_pf_check(&cfg, &err) != SL_OK)
+            slm_raise(FN, &err);
+        wbytes = sl_pf_workspace(&cfg);
+        work = slm_alloc(FN, wbytes, 1);
+
+        res = mxCreateStructMatrix(1, 1, (int)(sizeof out_names / sizeof *out_names), out_names);
+        {
+            mxArray *wa = slm_create(FN, 1, N);
+            mxArray *mean = slm_create(FN, v, T);
+            mwSize dims[3];
+            mxArray *quant;
+            dims[0] = v;
+            dims[1] = nq;
+            dims[2] = T;
+            quant = mxCreateNumericArray(3, dims, mxDOUBLE_CLASS, mxREAL);
+            w = mxGetDoubles(wa);
+            out.mean = mxGetDoubles(mean);
+            out.quant = mxGetDoubles(quant);
+            mxSetField(res, 0, "mean", mean);
+            mxSetField(res, 0, "quantiles", quant);
+            mxSetField(res, 0, "w", wa);
+        }
+#define ROWFIELD(name, ptr)                                                   \
+    do {                                                                      \
+        mxArray *f_ = slm_create(FN, 1, T);                                   \
+        ptr = mxGetDoubles(f_);                                               \
+        memset(ptr, 0, T * sizeof(double));                                   \
+        mxSetField(res, 0, name, f_);                                         \
+    } while (0)
+        ROWFIELD("ess", out.ess);
+        ROWFIELD("logz", out.logz);
+        ROWFIELD("resampled", out.resampled);
+        ROWFIELD("degenerate", out.degenerate);
+        ROWFIELD("skipped", out.skipped);
+        ROWFIELD("nonfinite", out.nonfinite);
+#undef ROWFIELD
+        if (cfg.keep_history) {
+            mwSize d3[3];
+            mxArray *h;
+            size_t bytes;
+            if (sl_size_mul(v * N, T, &bytes) || sl_size_mul(bytes, 8, &bytes))
+                slm_fail(FN, "nomemory", "the ensemble history is too large");
+            d3[0] = n; d3[1] = N; d3[2] = T;
+            slm_alloc(FN, bytes + 2 * N * T * 8, 1); /* probe, freed at exit */
+            h = mxCreateNumericArray(3, d3, mxDOUBLE_CLASS, mxREAL);
+            out.hist_X = mxGetDoubles(h);
+            mxSetField(res, 0, "history_X", h);
+            d3[0] = p;
+            h = mxCreateNumericArray(3, d3, mxDOUBLE_CLASS, mxREAL);
+            out.hist_P = mxGetDoubles(h);
+            mxSetField(res, 0, "history_P", h);
+            h = mxCreateDoubleMatrix(N, T, mxREAL);
+            out.hist_w = mxGetDoubles(h);
+            mxSetField(res, 0, "history_w", h);
+            h = mxCreateDoubleMatrix(N, T, mxREAL);
+            out.hist_a = mxGetDoubles(h);
+            mxSetField(res, 0, "history_ancestors", h);
+        }
+
+        if (sl_pf_run(&cfg, X, P, w, work, &out, &err) != SL_OK) {
+            slm_poll_finish(&poll);
+            if (model.step != NULL && strcmp(kind, "handle") == 0 &&
+                (err.status == SL_EMODEL || (err.status == SL_EINTERRUPT && hm.interrupted)))
+                slm_handle_model_raise(FN, &hm);
+            slm_raise(FN, &err);
+        }
+        slm_poll_finish(&poll);
+        if (cfg.keep_history)
+            for (k = 0; k < N * T; k++)
+                out.hist_a[k] += 1.0; /* 1-based, as Octave indexes */
+        mxSetField(res, 0, "X", a);
+        mxSetField(res, 0, "P", pa);
+    }
+    mxSetField(res, 0, "log_evidence", mxCreateDoubleScalar(out.log_evidence));
+    mxSetField(res, 0, "steps", mxCreateDoubleScalar((double)out.steps));
+    plhs[0] = res;
+}

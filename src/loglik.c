@@ -1,0 +1,458 @@
+/* loglik.c - observation log-likelihoods of six families, per ensemble member. */
+#include "sluice/loglik.h"
+
+#include <math.h>
+#include <stdio.h>
+#include <stdlib.h>
+#include <string.h>
+#include <gsl/gsl_cdf.h>
+#include <gsl/gsl_math.h>
+#include <gsl/gsl_sf_erf.h>
+#include <gsl/gsl_sf_gamma.h>
+
+#define LN_SQRT_2PI 0.918938533204672741780329736406 /* log sqrt(2 pi) */
+#define MAX_COUNT 9007199254740992.0                   /* 2^53 */
+#define NEG_INF (-HUGE_VAL)
+#define NOT_A_NUMBER ((double)NAN)
+
+/* Members handled per pass over the rows: the block's column entries of
+ * Yhat stay in cache from one row to the next (256 lines of 64 bytes). */
+enum { MEMBER_BLOCK = 256 };
+
+/* A row kernel adds log p(y | h[j*ldh]) to ll[j] for j = 0..n-1. It does the
+ * per-row work (logs, reciprocals, normalising constants) once, then loops
+ * over members. A non-finite h gives -Inf; a y outside the family's support
+ * gives -Inf; an invalid sigma or aux gives NaN. */
+typedef void (*row_fn)(double y, double sigma, double aux, const double *h,
+                       size_t ldh, size_t n, double *ll);
+
+static void add_constant(double v, size_t n, double *ll)
+{
+    size_t j;
+    for (j = 0; j < n; j++)
+        ll[j] += v;
+}
+
+static int positive_finite(double v) { return isfinite(v) && v > 0; }
+
+static int whole_count(double v)
+{
+    return v >= 0 && v <= MAX_COUNT && v == floor(v);
+}
+
+/* log Phi(z), finite for every finite z whose square does not overflow.
+ * Left tail through log erfc (Phi(z) = erfc(-z/sqrt 2)/2), which stays
+ * accurate where Phi itself underflows; far left tail (|z| > 1e5) by the
+ * asymptotic series of the normal tail, whose next term there is below
+ * 1e-20 relative; right half through log1p of the upper tail. */
+static double log_ncdf(double z)
+{
+    if (isnan(z))
+        return z;
+    if (z < -1e5) {
+        double iz2 = 1.0 / (z * z);
+        return -0.5 * z * z - log(-z) - LN_SQRT_2PI + log1p(-iz2 + 3 * iz2 * iz2);
+    }
+    if (z <= 0)
+        return gsl_sf_log_erfc(-z * M_SQRT1_2) - M_LN2;
+    return log1p(-gsl_cdf_ugaussian_Q(z));
+}
+
+/* The log normalising constant of Student's t with nu > 0 degrees of
+ * freedom, log Gamma((nu + 1)/2) - log Gamma(nu/2) - log(nu pi)/2, without
+ * cancellation at large nu (it must tend to the normal's -log sqrt(2 pi)).
+ * With a = nu/2: below a = 1 through Gamma(a) = Gamma(a + 1)/a (log a taken
+ * from nu, which cannot underflow); from a = 50 up the two log Gammas are
+ * Stirling series (terms to 1/z^5; the first neglected term is below 1e-16
+ * there), their leading logs cancelled by hand, so nothing of the size of
+ * log Gamma or log nu is subtracted. */
+static double t_log_norm(double nu)
+{
+    const double a = 0.5 * nu;
+    if (a < 1)
+        return gsl_sf_lngamma(a + 0.5) - gsl_sf_lngamma(a + 1) +
+               0.5 * (log(nu) - M_LNPI) - M_LN2;
+    if (a < 50)
+        return gsl_sf_lngamma(a + 0.5) - gsl_sf_lngamma(a) -
+               0.5 * (log(nu) + M_LNPI);
+    {
+        const double b = a + 0.5, ia = 1 / a, ib = 1 / b;
+        const double ia3 = ia * ia * ia, ib3 = ib * ib * ib;
+        return -LN_SQRT_2PI + (a * log1p(0.5 * ia) - 0.5) + (ib - ia) / 12 -
+               (ib3 - ia3) / 360 + (ib3 * ib * ib - ia3 * ia * ia) / 1260;
+    }
+}
+
+/* ---- gaussian: y ~ N(h, sigma^2) ---------------------------------------- */
+
+static void gaussian_rows(double y, double sigma, double aux, const double *h,
+                          size_t ldh, size_t n, double *ll)
+{
+    double is, c;
+    size_t j;
+    (void)aux;
+    if (!positive_finite(sigma)) {
+        add_constant(NOT_A_NUMBER, n, ll);
+        return;
+    }
+    is = 1 / sigma;
+    c = -log(sigma) - LN_SQRT_2PI;
+    /* h = +-Inf gives -Inf by itself; NaN h is mapped to -Inf. */
+    for (j = 0; j < n; j++) {
+        const double d = (y - h[j * ldh]) * is;
+        const double v = c - 0.5 * d * d;
+        ll[j] += isnan(v) ? NEG_INF : v;
+    }
+}
+
+/* ---- lognormal: log y ~ N(log h, sigma^2), density of y ----------------- */
+
+static void lognormal_rows(double y, double sigma, double aux, const double *h,
+                           size_t ldh, size_t n, double *ll)
+{
+    double ly, is, c;
+    size_t j;
+    (void)aux;
+    if (!positive_finite(sigma)) {
+        add_constant(NOT_A_NUMBER, n, ll);
+        return;
+    }
+    if (!(y > 0) || !isfinite(y)) {
+        add_constant(NEG_INF, n, ll);
+        return;
+    }
+    ly = log(y);
+    is = 1 / sigma;
+    c = -ly - log(sigma) - LN_SQRT_2PI;
+    for (j = 0; j < n; j++) {
+        const double hj = h[j * ldh];
+        if (hj > 0 && hj < HUGE_VAL) {
+            const double d = (ly - log(hj)) * is;
+            ll[j] += c - 0.5 * d * d;
+        } else {
+            ll[j] += NEG_INF;
+        }
+    }
+}
+
+/* ---- student_t: (y - h)/sigma ~ t(nu), nu = aux -------------------------- */
+
+static void student_t_rows(double y, double sigma, double aux, const double *h,
+                           size_t ldh, size_t n, double *ll)
+{
+    const double nu = aux;
+    double is, inu, e, c;
+    size_t j;
+    if (!positive_finite(sigma) || !positive_finite(nu)) {
+        add_constant(NOT_A_NUMBER, n, ll);
+        return;
+    }
+    is = 1 / sigma;
+    inu = 1 / nu;
+    e = -0.5 * (nu + 1);
+    c = t_log_norm(nu) - log(sigma);
+    if (inu < HUGE_VAL) {
+        for (j = 0; j < n; j++) {
+            const double d = (y - h[j * ldh]) * is;
+            const double v = c + e * log1p(d * d * inu);
+            ll[j] += isnan(v) ? NEG_INF : v;
+        }
+    } else {
+        /* nu so small that 1/nu overflows: log(1 + d^2/nu) from logs */
+        const double lnu = log(nu);
+        for (j = 0; j < n; j++) {
+            const double d = (y - h[j * ldh]) * is;
+            const double v = c + e * (log(nu + d * d) - lnu);
+            ll[j] += isnan(v) ? NEG_INF : v;
+        }
+    }
+}
+
+/* ---- poisson: y ~ Poisson(h) --------------------------------------------- */
+
+static void poisson_rows(double y, double sigma, double aux, const double *h,
+                         size_t ldh, size_t n, double *ll)
+{
+    double c;
+    size_t j;
+    (void)sigma;
+    (void)aux;
+    if (!whole_count(y)) {
+        add_constant(NEG_INF, n, ll);
+        return;
+    }
+    c = -gsl_sf_lngamma(y + 1);
+    for (j = 0; j < n; j++) {
+        const double hj = h[j * ldh];
+        if (hj >= 0 && hj < HUGE_VAL)
+            ll[j] += (y > 0 ? y * log(hj) : 0) - hj + c; /* 0 log 0 = 0 */
+        else
+            ll[j] += NEG_INF;
+    }
+}
+
+/* ---- binomial: y ~ Bin(n, 1/(1 + exp(-h))), n = aux ---------------------- */
+
+static void binomial_rows(double y, double sigma, double aux, const double *h,
+                          size_t ldh, size_t n, double *ll)
+{
+    const double trials = aux;
+    double f, c;
+    size_t j;
+    (void)sigma;
+    if (!(trials >= 1 && whole_count(trials))) {
+        add_constant(NOT_A_NUMBER, n, ll);
+        return;
+    }
+    if (!whole_count(y) || y > trials) {
+        add_constant(NEG_INF, n, ll);
+        return;
+    }
+    f = trials - y;
+    /* log C(n, y) = -log(n + 1) - log B(y + 1, n - y + 1): the beta function
+     * keeps it accurate when n is large and y or n - y small. */
+    c = (y == 0 || f == 0) ? 0
+                           : -log1p(trials) - gsl_sf_lnbeta(y + 1, f + 1);
+    for (j = 0; j < n; j++) {
+        const double hj = h[j * ldh];
+        if (isfinite(hj)) {
+            /* log sigmoid(+-h) in a form that neither overflows nor loses
+             * the small term: with l = log(1 + exp(-|h|)),
+             * log p = min(h, 0) - l and log(1 - p) = min(-h, 0) - l. */
+            const double l = log1p(exp(-fabs(hj)));
+            const double lp = (hj < 0 ? hj : 0) - l;
+            const double lq = (hj > 0 ? -hj : 0) - l;
+            ll[j] += c + y * lp + f * lq;
+        } else {
+            ll[j] += NEG_INF;
+        }
+    }
+}
+
+/* ---- censored: Gaussian left-censored at L = aux ------------------------- */
+
+static void censored_rows(double y, double sigma, double aux, const double *h,
+                          size_t ldh, size_t n, double *ll)
+{
+    const double limit = aux;
+    double is;
+    size_t j;
+    if (!positive_finite(sigma) || !isfinite(limit) || isnan(y)) {
+        add_constant(NOT_A_NUMBER, n, ll);
+        return;
+    }
+    if (y > limit) {
+        gaussian_rows(y, sigma, aux, h, ldh, n, ll);
+        return;
+    }
+    is = 1 / sigma;
+    for (j = 0; j < n; j++) {
+        const double hj = h[j * ldh];
+        ll[j] += isfinite(hj) ? log_ncdf((limit - hj) * is) : NEG_INF;
+    }
+}
+
+/* ---- the type table ------------------------------------------------------ */
+
+/* The scalar density of each family is its row kernel for one member. */
+#define SCALAR_LOGPDF(fam)                                                    \
+    static double fam##_logpdf(double y, double h, double sigma, double aux)  \
+    {                                                                         \
+        double v = 0;                                                         \
+        fam##_rows(y, sigma, aux, &h, 1, 1, &v);                              \
+        return v;                                                             \
+    }
+SCALAR_LOGPDF(gaussian)
+SCALAR_LOGPDF(lognormal)
+SCALAR_LOGPDF(student_t)
+SCALAR_LOGPDF(poisson)
+SCALAR_LOGPDF(binomial)
+SCALAR_LOGPDF(censored)
+#undef SCALAR_LOGPDF
+
+static int dof_ok(double aux) { return positive_finite(aux); }
+static int trials_ok(double aux) { return aux >= 1 && whole_count(aux); }
+static int limit_ok(double aux) { return isfinite(aux); }
+
+static int positive_ok(double y, double aux)
+{
+    (void)aux;
+    return y > 0;
+}
+static int count_ok(double y, double aux)
+{
+    (void)aux;
+    return whole_count(y);
+}
+static int successes_ok(double y, double aux) { return whole_count(y) && y <= aux; }
+
+typedef struct {
+    sl_family type;                      /* the public part */
+    row_fn add_rows;                     /* the ensemble kernel */
+    int (*aux_ok)(double aux);           /* NULL when aux is unused */
+    const char *aux_rule;                /* what a valid aux is */
+    int (*value_ok)(double y, double aux); /* NULL: any finite value */
+    const char *value_rule;              /* what a valid finite value is */
+} family_impl;
+
+static const family_impl families[SL_FAMILY_COUNT] = {
+    [SL_FAMILY_GAUSSIAN] = {{"gaussian", 1, NULL, gaussian_logpdf},
+                            gaussian_rows, NULL, NULL, NULL, NULL},
+    [SL_FAMILY_LOGNORMAL] = {{"lognormal", 1, NULL, lognormal_logpdf},
+                             lognormal_rows, NULL, NULL, positive_ok, "> 0"},
+    [SL_FAMILY_STUDENT_T] = {{"student_t", 1, "dof", student_t_logpdf},
+                             student_t_rows, dof_ok, "finite and > 0", NULL,
+                             NULL},
+    [SL_FAMILY_POISSON] = {{"poisson", 0, NULL, poisson_logpdf}, poisson_rows,
+                           NULL, NULL, count_ok,
+                           "a whole number from 0 to 2^53"},
+    [SL_FAMILY_BINOMIAL] = {{"binomial", 0, "n", binomial_logpdf},
+                            binomial_rows, trials_ok,
+                            "a whole number from 1 to 2^53", successes_ok,
+                            "a whole number from 0 to n"},
+    [SL_FAMILY_CENSORED] = {{"censored", 1, "limit", censored_logpdf},
+                            censored_rows, limit_ok, "finite", NULL, NULL},
+};
+
+const sl_family *sl_family_get(int id)
+{
+    if (id < 0 || id >= SL_FAMILY_COUNT)
+        return NULL;
+    return &families[id].type;
+}
+
+int sl_family_find(const char *name)
+{
+    int k;
+    if (name == NULL)
+        return -1;
+    for (k = 0; k < SL_FAMILY_COUNT; k++)
+        if (strcmp(families[k].type.name, name) == 0)
+            return k;
+    return -1;
+}
+
+/* ---- checks -------------------------------------------------------------- */
+
+/* A number as Octave users read it: shortest of %.15g / %.17g that gives v
+ * back, and NaN / Inf / -Inf spelled as in Octave. */
+static const char *show(double v, char *buf, size_t len)
+{
+    if (isnan(v))
+        snprintf(buf, len, "NaN");
+    else if (isinf(v))
+        snprintf(buf, len, v > 0 ? "Inf" : "-Inf");
+    else {
+        snprintf(buf, len, "%.15g", v);
+        if (strtod(buf, NULL) != v)
+            snprintf(buf, len, "%.17g", v);
+    }
+    return buf;
+}
+
+sl_status sl_loglik_check(size_t m, const double *y, const double *sigma,
+                          const double *aux, const int *family, sl_error *err)
+{
+    size_t i;
+    char b1[40], b2[40];
+    if (m == 0)
+        return SL_OK;
+    if (family == NULL)
+        return sl_fail(err, SL_EINVAL, "badfamily",
+                       "no family ids given for %lu observations",
+                       (unsigned long)m);
+    if (y == NULL)
+        return sl_fail(err, SL_EINVAL, "badvalue",
+                       "no values given for %lu observations", (unsigned long)m);
+    for (i = 0; i < m; i++) {
+        const unsigned long row = (unsigned long)(i + 1);
+        const family_impl *f;
+        const double v = y[i];
+        double a = NOT_A_NUMBER;
+        if (family[i] < 0 || family[i] >= SL_FAMILY_COUNT)
+            return sl_fail(err, SL_EINVAL, "badfamily",
+                           "observation %lu: family id must be from 0 to %d, got %d",
+                           row, SL_FAMILY_COUNT - 1, family[i]);
+        f = &families[family[i]];
+        if (f->type.uses_sigma) {
+            const double s = sigma != NULL ? sigma[i] : NOT_A_NUMBER;
+            if (!positive_finite(s))
+                return sl_fail(err, SL_EINVAL, "badsigma",
+                               "observation %lu: sigma must be finite and > 0, got %s",
+                               row, show(s, b1, sizeof b1));
+        }
+        if (f->aux_ok != NULL) {
+            a = aux != NULL ? aux[i] : NOT_A_NUMBER;
+            if (!f->aux_ok(a))
+                return sl_fail(err, SL_EINVAL, "badaux",
+                               "observation %lu: %s %s must be %s, got %s",
+                               row, f->type.name, f->type.aux_name,
+                               f->aux_rule, show(a, b1, sizeof b1));
+        }
+        if (isinf(v))
+            return sl_fail(err, SL_EINVAL, "badvalue",
+                           "observation %lu: value must be finite or NaN (missing), got %s",
+                           row, show(v, b1, sizeof b1));
+        if (!isnan(v) && f->value_ok != NULL && !f->value_ok(v, a)) {
+            if (f->type.aux_name != NULL)
+                return sl_fail(err, SL_EINVAL, "badvalue",
+                               "observation %lu: a %s value must be %s (%s = %s) or NaN, got %s",
+                               row, f->type.name, f->value_rule,
+                               f->type.aux_name, show(a, b2, sizeof b2),
+                               show(v, b1, sizeof b1));
+            return sl_fail(err, SL_EINVAL, "badvalue",
+                           "observation %lu: a %s value must be %s or NaN, got %s",
+                           row, f->type.name, f->value_rule,
+                           show(v, b1, sizeof b1));
+        }
+    }
+    return SL_OK;
+}
+
+/* ---- the ensemble kernel ------------------------------------------------- */
+
+sl_status sl_loglik_ensemble(size_t m, size_t N, const double *y,
+                             const double *Yhat, size_t ldy,
+                             const double *sigma, const double *aux,
+                             const int *family, int accumulate, double *ll,
+                             size_t *nskipped, sl_error *err)
+{
+    size_t i, j, j0, skipped = 0;
+    if (N > 0 && ll == NULL)
+        return sl_fail(err, SL_EINVAL, "badarg",
+                       "no output buffer given for %lu members",
+                       (unsigned long)N);
+    if (m > 0 && (y == NULL || family == NULL || (N > 0 && Yhat == NULL)))
+        return sl_fail(err, SL_EINVAL, "badarg",
+                       "values, family ids and predictions are required for %lu observations",
+                       (unsigned long)m);
+    if (N > 1 && ldy < m)
+        return sl_fail(err, SL_EINVAL, "badsize",
+                       "leading dimension of the predictions (%lu) is less than the number of observations (%lu)",
+                       (unsigned long)ldy, (unsigned long)m);
+    for (i = 0; i < m; i++) {
+        if (family[i] < 0 || family[i] >= SL_FAMILY_COUNT)
+            return sl_fail(err, SL_EINVAL, "badfamily",
+                           "observation %lu: family id must be from 0 to %d, got %d",
+                           (unsigned long)(i + 1), SL_FAMILY_COUNT - 1,
+                           family[i]);
+        skipped += isnan(y[i]) ? 1 : 0;
+    }
+    if (!accumulate)
+        for (j = 0; j < N; j++)
+            ll[j] = 0;
+    for (j0 = 0; j0 < N; j0 += MEMBER_BLOCK) {
+        const size_t nb = N - j0 < MEMBER_BLOCK ? N - j0 : MEMBER_BLOCK;
+        for (i = 0; i < m; i++) {
+            if (isnan(y[i]))
+                continue;
+            families[family[i]].add_rows(y[i], sigma != NULL ? sigma[i] : NOT_A_NUMBER,
+                                         aux != NULL ? aux[i] : NOT_A_NUMBER,
+                                         Yhat + i + j0 * ldy, ldy, nb,
+                                         ll + j0);
+        }
+    }
+    if (nskipped != NULL)
+        *nskipped = skipped;
+    return SL_OK;
+}

@@ -1,0 +1,79 @@
+/* model_linear.c - the built-in linear-Gaussian model. */
+#include "sluice/model.h"
+
+#include <math.h>
+#include "sluice/rng.h"
+
+static sl_status linear_step(const sl_model *model, double t, double dt,
+                             size_t first, size_t count, double *X,
+                             const double *P, const double *U, uint64_t seed,
+                             uint32_t step, double *work, sl_error *err)
+{
+    const sl_linear *lin = (const sl_linear *)model->ctx;
+    const size_t n = lin->n, q = lin->q;
+    double *xo = work, *e = work + n;
+    size_t j, i, k;
+    (void)t;
+    (void)dt;
+    (void)P;
+    (void)err;
+    for (j = 0; j < count; j++) {
+        double *x = X + j * n;
+        const double *u = U + j * q;
+        for (i = 0; i < n; i++)
+            xo[i] = x[i];
+        if (lin->L != NULL) {
+            sl_stream s;
+            sl_stream_init(&s, seed, (uint32_t)(first + j), step,
+                           SL_PURPOSE_MODEL_NOISE);
+            for (i = 0; i < n; i++)
+                e[i] = sl_stream_normal(&s);
+        }
+        for (i = 0; i < n; i++)
+            x[i] = lin->c != NULL ? lin->c[i] : 0.0;
+        /* column-oriented products: unit stride through A, B and L */
+        for (k = 0; k < n; k++) {
+            const double *a = lin->A + k * n, xk = xo[k];
+            for (i = 0; i < n; i++)
+                x[i] += a[i] * xk;
+        }
+        for (k = 0; k < q; k++) {
+            const double *b = lin->B + k * n, uk = u[k];
+            for (i = 0; i < n; i++)
+                x[i] += b[i] * uk;
+        }
+        if (lin->L != NULL)
+            for (k = 0; k < n; k++) {
+                const double *l = lin->L + k * n, ek = e[k];
+                for (i = k; i < n; i++)
+                    x[i] += l[i] * ek;
+            }
+    }
+    return SL_OK;
+}
+
+sl_status sl_linear_model(sl_model *model, const sl_linear *lin, double dt,
+                          sl_error *err)
+{
+    if (lin == NULL || lin->n == 0 || lin->A == NULL)
+        return sl_fail(err, SL_EINVAL, "badmodel",
+                       "the linear model needs n >= 1 and a matrix A");
+    if (lin->q > 0 && lin->B == NULL)
+        return sl_fail(err, SL_EINVAL, "badmodel",
+                       "the linear model has %lu forcings but no matrix B",
+                       (unsigned long)lin->q);
+    if (!(dt > 0) || !isfinite(dt))
+        return sl_fail(err, SL_EINVAL, "badstep",
+                       "the time step must be finite and > 0, got %g", dt);
+    model->name = "linear";
+    model->n_state = lin->n;
+    model->n_param = 0;
+    model->n_forcing = lin->q;
+    model->dt = dt;
+    model->discrete = 1;
+    model->thread_safe = 1;
+    model->work = 2 * lin->n;
+    model->step = linear_step;
+    model->ctx = (void *)(uintptr_t)lin;
+    return SL_OK;
+}

@@ -1,0 +1,694 @@
+/* pf.c - the particle-filter cycle: forecast, weight, resample, record. */
+#include "sluice/pf.h"
+
+#include <math.h>
+#include <string.h>
+#ifdef _OPENMP
+#include <omp.h>
+#endif
+
+#include "sluice/loglik.h"
+#include "sluice/rng.h"
+#include "sluice/stats.h"
+#include "sluice/weights.h"
+
+#define MAX_THREADS 256
+#define ALIGN 64
+
+/* Every buffer of a run, carved from the caller's workspace. */
+typedef struct {
+    double *X[2], *Z[2], *P[2], *E[2]; /* ping-pong pairs for resampling */
+    unsigned char *dead[2];
+    double *U, *u0, *Yhat, *ll, *logw, *rwork, *mwork, *qwork;
+    double *lw_mean, *lw_cov, *lw_chol;
+    uint32_t *anc;
+    sl_error *terr;
+    size_t mwork_per, qwork_per, m_max;
+} pf_buffers;
+
+static size_t carve(unsigned char *base, size_t *off, size_t bytes,
+                    void **out)
+{
+    size_t at = (*off + ALIGN - 1) / ALIGN * ALIGN;
+    if (out != NULL)
+        *out = base != NULL ? base + at : NULL;
+    *off = at + bytes;
+    return *off;
+}
+
+/* Lay the buffers out in `base` (NULL: only measure). Returns the bytes
+ * needed, or 0 if a size overflows. */
+static size_t layout(const sl_pf_config *cfg, unsigned char *base,
+                     pf_buffers *b)
+{
+    const sl_model *md = cfg->model;
+    const size_t N = cfg->N, n = md->n_state, p = md->n_param,
+                 q = md->n_forcing;
+    size_t off = 0, k, m_max = 0, nthr = (size_t)cfg->threads, tmp;
+    size_t rws = sl_resample_workspace(cfg->resampler, N, N);
+    /* every product below is checked once against this bound */
+    const size_t big = (size_t)1 << 58;
+    for (k = 0; k < cfg->T; k++) {
+        size_t m = cfg->obs_first[k + 1] - cfg->obs_first[k];
+        if (m > m_max)
+            m_max = m;
+    }
+    if (N > big / 8 || n > big / N / 8 || p > big / N / 8 ||
+        q > big / N / 8 || m_max > big / N / 8 || nthr > MAX_THREADS ||
+        md->work > big / 8 / MAX_THREADS || rws > big / 8)
+        return 0;
+    b->m_max = m_max;
+    b->mwork_per = md->work;
+    b->qwork_per = sl_quantile_workspace(N);
+    if (b->qwork_per > big / 8 / MAX_THREADS)
+        return 0;
+    for (k = 0; k < 2; k++) {
+        carve(base, &off, n * N * 8, (void **)&b->X[k]);
+        carve(base, &off, p * N * 8, (void **)&b->Z[k]);
+        carve(base, &off, p * N * 8, (void **)&b->P[k]);
+        carve(base, &off, q * N * 8, (void **)&b->E[k]);
+        carve(base, &off, N, (void **)&b->dead[k]);
+    }
+    carve(base, &off, q * N * 8, (void **)&b->U);
+    carve(base, &off, q * 8, (void **)&b->u0);
+    carve(base, &off, m_max * N * 8, (void **)&b->Yhat);
+    carve(base, &off, N * 8, (void **)&b->ll);
+    carve(base, &off, N * 8, (void **)&b->logw);
+    carve(base, &off, rws * 8, (void **)&b->rwork);
+    carve(base, &off, nthr * b->mwork_per * 8, (void **)&b->mwork);
+    carve(base, &off, nthr * b->qwork_per * 8, (void **)&b->qwork);
+    carve(base, &off, p * 8, (void **)&b->lw_mean);
+    carve(base, &off, p * p * 8, (void **)&b->lw_cov);
+    carve(base, &off, p * p * 8, (void **)&b->lw_chol);
+    carve(base, &off, N * 4, (void **)&b->anc);
+    tmp = carve(base, &off, nthr * sizeof(sl_error), (void **)&b->terr);
+    return tmp;
+}
+
+size_t sl_pf_workspace(const sl_pf_config *cfg)
+{
+    pf_buffers b;
+    return layout(cfg, NULL, &b);
+}
+
+/* ---------------------------------------------------------------- checks */
+
+sl_status sl_pf_check(const sl_pf_config *cfg, sl_error *err)
+{
+    const sl_model *md = cfg->model;
+    size_t k, n, p, v, m;
+    if (md == NULL || md->step == NULL)
+        return sl_fail(err, SL_EINVAL, "badconfig", "no model to run");
+    n = md->n_state;
+    p = md->n_param;
+    v = n + p;
+    if (cfg->N < 1 || cfg->N > SL_RESAMPLE_MAX)
+        return sl_fail(err, SL_EINVAL, "badconfig",
+                       "the number of members must be 1 to %lu, got %lu",
+                       (unsigned long)SL_RESAMPLE_MAX, (unsigned long)cfg->N);
+    if (n < 1)
+        return sl_fail(err, SL_EINVAL, "badconfig", "the model has no states");
+    if (cfg->threads < 1 || cfg->threads > MAX_THREADS)
+        return sl_fail(err, SL_EINVAL, "badconfig",
+                       "threads must be 1 to %d, got %d", MAX_THREADS,
+                       cfg->threads);
+    if (!isfinite(cfg->t0))
+        return sl_fail(err, SL_EINVAL, "badtimes", "the start time is not finite");
+    if (cfg->T < 1 || cfg->times == NULL || cfg->obs_first == NULL)
+        return sl_fail(err, SL_EINVAL, "badtimes", "the run has no cycle times");
+    for (k = 0; k < cfg->T; k++) {
+        double t = cfg->times[k], prev = k ? cfg->times[k - 1] : cfg->t0;
+        if (!isfinite(t))
+            return sl_fail(err, SL_EINVAL, "badtimes",
+                           "cycle time %lu is not finite", (unsigned long)(k + 1));
+        if (t < cfg->t0)
+            return sl_fail(err, SL_EINVAL, "badtimes",
+                           "cycle time %lu (%g) lies before the start time %g",
+                           (unsigned long)(k + 1), t, cfg->t0);
+        if (k > 0 && !(t > prev))
+            return sl_fail(err, SL_EINVAL, "badtimes",
+                           "cycle times must increase: time %lu (%g) follows %g",
+                           (unsigned long)(k + 1), t, prev);
+        if (md->discrete) {
+            double steps = (t - prev) / md->dt;
+            if (fabs(steps - floor(steps + 0.5)) > 1e-9 * (1.0 + steps))
+                return sl_fail(err, SL_EINVAL, "offgrid",
+                               "time %g is not a whole number of model steps "
+                               "(dt = %g) after %g", t, md->dt, prev);
+        }
+        if (cfg->obs_first[k + 1] < cfg->obs_first[k])
+            return sl_fail(err, SL_EINVAL, "badobs",
+                           "observation groups out of order at cycle %lu",
+                           (unsigned long)(k + 1));
+    }
+    if (cfg->obs_first[0] != 0)
+        return sl_fail(err, SL_EINVAL, "badobs", "observation groups must start at 0");
+    m = cfg->obs_first[cfg->T];
+    for (k = 0; k < m; k++)
+        if (cfg->var[k] >= v)
+            return sl_fail(err, SL_EINVAL, "badobs",
+                           "observation %lu refers to quantity %lu; the model has %lu",
+                           (unsigned long)(k + 1), (unsigned long)(cfg->var[k] + 1),
+                           (unsigned long)v);
+    if (m > 0) {
+        sl_status st = sl_loglik_check(m, cfg->y, cfg->sigma, cfg->aux,
+                                       cfg->family, err);
+        if (st != SL_OK)
+            return st;
+    }
+    if (cfg->forcing.q != md->n_forcing)
+        return sl_fail(err, SL_EINVAL, "badforcing",
+                       "the model takes %lu forcing series, got %lu",
+                       (unsigned long)md->n_forcing, (unsigned long)cfg->forcing.q);
+    if (md->n_forcing > 0) {
+        const sl_forcing *f = &cfg->forcing;
+        double last_start = cfg->times[cfg->T - 1] - md->dt;
+        if (f->nt < 1 || f->time == NULL || f->value == NULL)
+            return sl_fail(err, SL_EINVAL, "badforcing", "the forcing series are empty");
+        for (k = 0; k < f->nt; k++) {
+            if (!isfinite(f->time[k]) || (k > 0 && !(f->time[k] > f->time[k - 1])))
+                return sl_fail(err, SL_EINVAL, "badforcing",
+                               "forcing times must be finite and increasing (point %lu)",
+                               (unsigned long)(k + 1));
+        }
+        for (k = 0; k < f->nt * f->q; k++)
+            if (!isfinite(f->value[k]))
+                return sl_fail(err, SL_EINVAL, "badforcing",
+                               "forcing value %lu of series %lu is not finite",
+                               (unsigned long)(k % f->nt + 1),
+                               (unsigned long)(k / f->nt + 1));
+        if (f->time[0] > cfg->t0)
+            return sl_fail(err, SL_EINVAL, "forcingrange",
+                           "the forcing starts at %g, after the start of the run (%g)",
+                           f->time[0], cfg->t0);
+        if (!f->hold && f->time[f->nt - 1] < last_start)
+            return sl_fail(err, SL_EINVAL, "forcingrange",
+                           "the forcing ends at %g, before the run's last step (%g)",
+                           f->time[f->nt - 1], last_start);
+        if (f->noise != NULL)
+            for (k = 0; k < f->q; k++) {
+                if (f->noise[k] < SL_FORCING_EXACT || f->noise[k] > SL_FORCING_MULTIPLICATIVE)
+                    return sl_fail(err, SL_EINVAL, "badforcing",
+                                   "unknown perturbation kind for forcing %lu",
+                                   (unsigned long)(k + 1));
+                if (f->noise[k] != SL_FORCING_EXACT &&
+                    (!(f->sd[k] >= 0) || !isfinite(f->sd[k]) ||
+                     !(f->phi[k] >= 0) || !(f->phi[k] < 1)))
+                    return sl_fail(err, SL_EINVAL, "badforcing",
+                                   "forcing %lu: perturbation sd must be >= 0 and "
+                                   "AR(1) coefficient in [0, 1)", (unsigned long)(k + 1));
+            }
+    }
+    if (cfg->state_noise != NULL)
+        for (k = 0; k < n; k++)
+            if (!(cfg->state_noise[k] >= 0) || !isfinite(cfg->state_noise[k]))
+                return sl_fail(err, SL_EINVAL, "badconfig",
+                               "state noise %lu must be finite and >= 0",
+                               (unsigned long)(k + 1));
+    if (p > 0 && cfg->ptrans == NULL)
+        return sl_fail(err, SL_EINVAL, "badconfig", "parameter transforms missing");
+    switch (cfg->param_move) {
+    case SL_PARAM_FIXED:
+        break;
+    case SL_PARAM_RANDOM_WALK:
+        for (k = 0; k < p; k++)
+            if (!(cfg->param_step[k] >= 0) || !isfinite(cfg->param_step[k]))
+                return sl_fail(err, SL_EINVAL, "badconfig",
+                               "random-walk step %lu must be finite and >= 0",
+                               (unsigned long)(k + 1));
+        break;
+    case SL_PARAM_LIU_WEST:
+        if (!(cfg->lw_delta > 0 && cfg->lw_delta <= 1))
+            return sl_fail(err, SL_EINVAL, "badconfig",
+                           "the Liu-West discount must lie in (0, 1], got %g",
+                           cfg->lw_delta);
+        break;
+    default:
+        return sl_fail(err, SL_EINVAL, "badconfig", "unknown parameter evolution");
+    }
+    if (cfg->resampler == NULL)
+        return sl_fail(err, SL_EINVAL, "badconfig", "no resampling scheme");
+    if (!(cfg->threshold >= 0 && cfg->threshold <= 1))
+        return sl_fail(err, SL_EINVAL, "badconfig",
+                       "the resampling threshold must lie in [0, 1], got %g",
+                       cfg->threshold);
+    for (k = 0; k < cfg->nq; k++)
+        if (!(cfg->probs[k] >= 0 && cfg->probs[k] <= 1))
+            return sl_fail(err, SL_EINVAL, "badconfig",
+                           "quantile level %lu must lie in [0, 1], got %g",
+                           (unsigned long)(k + 1), cfg->probs[k]);
+    if (sl_pf_workspace(cfg) == 0)
+        return sl_fail(err, SL_ENOMEM, "nomemory",
+                       "the run's workspace size overflows");
+    return SL_OK;
+}
+
+/* ------------------------------------------------------------ the cycle */
+
+/* Forcing values of every member at time t into U (q x N); advances the
+ * AR(1) perturbations E by one step s. *idx tracks the forcing interval. */
+static void eval_forcing(const sl_pf_config *cfg, pf_buffers *b, double *E,
+                         double t, uint32_t s, size_t *idx)
+{
+    const sl_forcing *f = &cfg->forcing;
+    const size_t q = f->q, N = cfg->N, nt = f->nt;
+    size_t i, j, k = *idx;
+    while (k + 1 < nt && f->time[k + 1] <= t)
+        k++;
+    *idx = k;
+    for (i = 0; i < q; i++) {
+        const double *col = f->value + i * nt;
+        if (f->hold || k + 1 >= nt || t <= f->time[k]) {
+            b->u0[i] = col[k];
+        } else {
+            double a = (t - f->time[k]) / (f->time[k + 1] - f->time[k]);
+            b->u0[i] = col[k] + a * (col[k + 1] - col[k]);
+        }
+    }
+    if (f->noise == NULL) {
+        for (j = 0; j < N; j++)
+            memcpy(b->U + j * q, b->u0, q * sizeof(double));
+        return;
+    }
+#pragma omp parallel for num_threads(cfg->threads) schedule(static) private(i)
+    for (j = 0; j < N; j++) {
+        sl_stream st;
+        double *e = E + j * q, *u = b->U + j * q;
+        sl_stream_init(&st, cfg->seed, (uint32_t)j, s, SL_PURPOSE_FORCING);
+        for (i = 0; i < q; i++) {
+            double sd = f->sd[i], phi = f->phi[i], z;
+            if (f->noise[i] == SL_FORCING_EXACT) {
+                u[i] = b->u0[i];
+                continue;
+            }
+            z = sl_stream_normal(&st);
+            e[i] = (s == 0) ? sd * z : phi * e[i] + sqrt(1.0 - phi * phi) * sd * z;
+            u[i] = f->noise[i] == SL_FORCING_ADDITIVE
+                       ? b->u0[i] + e[i]
+                       : b->u0[i] * exp(e[i] - 0.5 * sd * sd);
+        }
+    }
+}
+
+/* One model step of every member, in parallel blocks when the model allows. */
+static sl_status step_all(const sl_pf_config *cfg, pf_buffers *b, double *X,
+                          const double *P, double t, double h, uint32_t s,
+                          sl_error *err)
+{
+    const sl_model *md = cfg->model;
+    const size_t N = cfg->N, n = md->n_state, p = md->n_param,
+                 q = md->n_forcing;
+    int nthr = md->thread_safe ? cfg->threads : 1, k;
+    sl_status st = SL_OK;
+    if (nthr > 1 && (size_t)nthr > N)
+        nthr = (int)N;
+    if (nthr <= 1)
+        return md->step(md, t, h, 0, N, X, P, b->U, cfg->seed, s, b->mwork, err);
+    for (k = 0; k < nthr; k++)
+        b->terr[k].status = SL_OK;
+#pragma omp parallel num_threads(nthr)
+    {
+        int tid = 0;
+        size_t j0, j1;
+#ifdef _OPENMP
+        tid = omp_get_thread_num();
+#endif
+        j0 = N * (size_t)tid / (size_t)nthr;
+        j1 = N * (size_t)(tid + 1) / (size_t)nthr;
+        if (j1 > j0)
+            md->step(md, t, h, j0, j1 - j0, X + j0 * n, P + j0 * p,
+                     b->U + j0 * q, cfg->seed, s, b->mwork + (size_t)tid * b->mwork_per,
+                     &b->terr[tid]);
+    }
+    for (k = 0; k < nthr && st == SL_OK; k++)
+        if (b->terr[k].status != SL_OK) {
+            st = b->terr[k].status;
+            if (err != NULL)
+                *err = b->terr[k];
+        }
+    return st;
+}
+
+/* Cholesky factor L (lower, p x p) of a positive semi-definite A; pivots
+ * below a relative floor give a zero column (a parameter without spread). */
+static void chol_psd(size_t p, const double *A, double *L)
+{
+    size_t i, j, k;
+    double tr = 0;
+    for (i = 0; i < p; i++)
+        tr += A[i + i * p];
+    for (i = 0; i < p * p; i++)
+        L[i] = 0.0;
+    for (j = 0; j < p; j++) {
+        double d = A[j + j * p];
+        for (k = 0; k < j; k++)
+            d -= L[j + k * p] * L[j + k * p];
+        if (!(d > 1e-13 * tr))
+            continue;
+        d = sqrt(d);
+        L[j + j * p] = d;
+        for (i = j + 1; i < p; i++) {
+            double s = A[i + j * p];
+            for (k = 0; k < j; k++)
+                s -= L[i + k * p] * L[j + k * p];
+            L[i + j * p] = s / d;
+        }
+    }
+}
+
+/* Parameter evolution before cycle k, in the transformed space Z. */
+static void move_params(const sl_pf_config *cfg, pf_buffers *b, double *Z,
+                        double *P, const double *w, uint32_t k)
+{
+    const size_t N = cfg->N, p = cfg->model->n_param;
+    size_t i, j, l;
+    double a = 1.0, h = 0.0;
+    if (p == 0 || cfg->param_move == SL_PARAM_FIXED)
+        return;
+    if (cfg->param_move == SL_PARAM_LIU_WEST) {
+        double *m = b->lw_mean, *V = b->lw_cov;
+        double dl = cfg->lw_delta;
+        a = (3.0 * dl - 1.0) / (2.0 * dl);
+        h = sqrt(1.0 - a * a);
+        for (i = 0; i < p; i++)
+            m[i] = 0.0;
+        for (i = 0; i < p * p; i++)
+            V[i] = 0.0;
+        for (j = 0; j < N; j++)
+            if (w[j] > 0)
+                for (i = 0; i < p; i++)
+                    m[i] += w[j] * Z[i + j * p];
+        for (j = 0; j < N; j++)
+            if (w[j] > 0)
+                for (i = 0; i < p; i++) {
+                    double di = Z[i + j * p] - m[i];
+                    for (l = 0; l <= i; l++)
+                        V[i + l * p] += w[j] * di * (Z[l + j * p] - m[l]);
+                }
+        for (i = 0; i < p; i++)
+            for (l = 0; l < i; l++)
+                V[l + i * p] = V[i + l * p];
+        chol_psd(p, V, b->lw_chol);
+    }
+#pragma omp parallel for num_threads(cfg->threads) schedule(static) private(i, l)
+    for (j = 0; j < N; j++) {
+        sl_stream st;
+        double *z = Z + j * p, xi[64];
+        sl_stream_init(&st, cfg->seed, (uint32_t)j, k, SL_PURPOSE_PARAM_MOVE);
+        if (cfg->param_move == SL_PARAM_RANDOM_WALK) {
+            for (i = 0; i < p; i++)
+                z[i] += cfg->param_step[i] * sl_stream_normal(&st);
+        } else {
+            /* blocks of 64 keep the draws on the stack for any p */
+            size_t i0;
+            double *m = b->lw_mean;
+            for (i = 0; i < p; i++)
+                z[i] = a * z[i] + (1.0 - a) * m[i];
+            for (i0 = 0; i0 < p; i0 += 64) {
+                size_t nb = p - i0 < 64 ? p - i0 : 64;
+                for (l = 0; l < nb; l++)
+                    xi[l] = sl_stream_normal(&st);
+                for (l = 0; l < nb; l++)
+                    for (i = i0 + l; i < p; i++)
+                        z[i] += h * b->lw_chol[i + (i0 + l) * p] * xi[l];
+            }
+        }
+        for (i = 0; i < p; i++)
+            P[i + j * p] = sl_transform_inverse(&cfg->ptrans[i], z[i]);
+    }
+}
+
+/* Predicted observations of cycle k rows r0..r1-1 into Yhat (m x N). */
+static void predict_obs(const sl_pf_config *cfg, pf_buffers *b, size_t r0,
+                        size_t m, const double *X, const double *P)
+{
+    const size_t N = cfg->N, n = cfg->model->n_state, p = cfg->model->n_param;
+    size_t i, j;
+#pragma omp parallel for num_threads(cfg->threads) schedule(static) private(i)
+    for (j = 0; j < N; j++)
+        for (i = 0; i < m; i++) {
+            size_t v = cfg->var[r0 + i];
+            b->Yhat[i + j * m] = v < n ? X[v + j * n] : P[(v - n) + j * p];
+        }
+}
+
+static void loglik_all(const sl_pf_config *cfg, pf_buffers *b, size_t r0,
+                       size_t m, size_t *nskipped)
+{
+    const size_t N = cfg->N;
+    int nthr = cfg->threads, t;
+    size_t skipped = 0;
+    if ((size_t)nthr > N)
+        nthr = (int)N;
+#pragma omp parallel for num_threads(nthr) schedule(static)
+    for (t = 0; t < nthr; t++) {
+        size_t j0 = N * (size_t)t / (size_t)nthr, j1 = N * (size_t)(t + 1) / (size_t)nthr;
+        size_t sk = 0;
+        if (j1 > j0)
+            sl_loglik_ensemble(m, j1 - j0, cfg->y + r0, b->Yhat + j0 * m, m,
+                               cfg->sigma + r0, cfg->aux + r0,
+                               cfg->family + r0, 0, b->ll + j0, &sk, NULL);
+        if (t == 0)
+            skipped = sk;
+    }
+    *nskipped = skipped;
+}
+
+static void summarise(const sl_pf_config *cfg, pf_buffers *b, const double *X,
+                      const double *P, const double *w, sl_pf_output *out,
+                      size_t k)
+{
+    const size_t N = cfg->N, n = cfg->model->n_state, p = cfg->model->n_param;
+    const size_t v = n + p, nq = cfg->nq;
+    long r;
+#pragma omp parallel for num_threads(cfg->threads) schedule(dynamic, 1)
+    for (r = 0; r < (long)v; r++) {
+        int tid = 0;
+        size_t row = (size_t)r;
+        const double *x = row < n ? X + row : P + (row - n);
+#ifdef _OPENMP
+        tid = omp_get_thread_num();
+#endif
+        sl_weighted_summary(N, x, row < n ? n : p, w, nq, cfg->probs,
+                            out->mean + row + k * v,
+                            out->quant + row + k * v * nq, v,
+                            b->qwork + (size_t)tid * b->qwork_per);
+    }
+}
+
+/* Copy member columns by ancestor: dst(:, j) = src(:, anc[j]). */
+static void gather_cols(size_t rows, size_t N, const double *src, double *dst,
+                        const uint32_t *anc, int threads)
+{
+    size_t j;
+    if (rows == 0)
+        return;
+#pragma omp parallel for num_threads(threads) schedule(static)
+    for (j = 0; j < N; j++)
+        memcpy(dst + j * rows, src + (size_t)anc[j] * rows, rows * sizeof(double));
+}
+
+static int has_nonfinite(const double *x, size_t n)
+{
+    size_t i;
+    for (i = 0; i < n; i++)
+        if (!isfinite(x[i]))
+            return 1;
+    return 0;
+}
+
+sl_status sl_pf_run(const sl_pf_config *cfg, double *X, double *P, double *w,
+                    void *work, sl_pf_output *out, sl_error *err)
+{
+    const sl_model *md;
+    size_t N, n, p, q, i, j, k, fidx = 0, ndead;
+    pf_buffers b;
+    int cur = 0;
+    uint32_t s = 0;
+    double t;
+    sl_status st = sl_pf_check(cfg, err);
+    if (st != SL_OK)
+        return st;
+    md = cfg->model;
+    N = cfg->N;
+    n = md->n_state;
+    p = md->n_param;
+    q = md->n_forcing;
+    layout(cfg, (unsigned char *)work, &b);
+
+    memcpy(b.X[0], X, n * N * sizeof(double));
+    memcpy(b.P[0], P, p * N * sizeof(double));
+    for (j = 0; j < N; j++)
+        for (i = 0; i < p; i++) {
+            double x = P[i + j * p];
+            b.Z[0][i + j * p] = sl_transform_forward(&cfg->ptrans[i], x);
+            if (!isfinite(b.Z[0][i + j * p]))
+                return sl_fail(err, SL_EINVAL, "badparams",
+                               "parameter %lu of member %lu (%g) lies outside its bounds",
+                               (unsigned long)(i + 1), (unsigned long)(j + 1), x);
+        }
+    for (j = 0; j < N; j++) {
+        b.dead[0][j] = (unsigned char)has_nonfinite(X + j * n, n);
+        w[j] = 1.0 / (double)N;
+    }
+    if (q > 0)
+        memset(b.E[0], 0, q * N * sizeof(double));
+    out->log_evidence = 0.0;
+    out->steps = 0;
+    t = cfg->t0;
+
+    for (k = 0; k < cfg->T; k++) {
+        const double tk = cfg->times[k];
+        const size_t r0 = cfg->obs_first[k], m = cfg->obs_first[k + 1] - r0;
+        double *Xc = b.X[cur], *Pc = b.P[cur], *Zc = b.Z[cur];
+        size_t nsteps, l, nskipped = 0, nobs;
+        double h, ess, wsum;
+        int reweight = 0, resampled = 0, degenerate = 0;
+
+        if (k > 0)
+            move_params(cfg, &b, Zc, Pc, w, (uint32_t)k);
+
+        /* forecast: equal steps that land exactly on tk */
+        if (md->discrete) {
+            nsteps = (size_t)floor((tk - t) / md->dt + 0.5);
+            h = md->dt;
+        } else {
+            nsteps = (size_t)ceil((tk - t) / md->dt - 1e-9);
+            h = nsteps ? (tk - t) / (double)nsteps : 0.0;
+        }
+        for (l = 0; l < nsteps; l++) {
+            double ts = t + (double)l * h;
+            if (q > 0)
+                eval_forcing(cfg, &b, b.E[cur], ts, s, &fidx);
+            st = step_all(cfg, &b, Xc, Pc, ts, h, s, err);
+            s++;
+            out->steps++;
+            if (st != SL_OK)
+                return st;
+            if (cfg->poll != NULL &&
+                cfg->poll(cfg->poll_ctx, ((double)k + (double)(l + 1) / (double)nsteps) /
+                                             (double)cfg->T))
+                return sl_fail(err, SL_EINTERRUPT, "interrupted",
+                               "the run was interrupted at cycle %lu of %lu",
+                               (unsigned long)(k + 1), (unsigned long)cfg->T);
+        }
+        t = tk;
+
+        /* optional additive state noise, then the health of every member */
+        if (cfg->state_noise != NULL) {
+#pragma omp parallel for num_threads(cfg->threads) schedule(static) private(i)
+            for (j = 0; j < N; j++) {
+                sl_stream sn;
+                sl_stream_init(&sn, cfg->seed, (uint32_t)j, (uint32_t)k,
+                               SL_PURPOSE_STATE_NOISE);
+                for (i = 0; i < n; i++)
+                    if (cfg->state_noise[i] > 0)
+                        Xc[i + j * n] += cfg->state_noise[i] * sl_stream_normal(&sn);
+            }
+        }
+        ndead = 0;
+        for (j = 0; j < N; j++) {
+            if (!b.dead[cur][j] && has_nonfinite(Xc + j * n, n))
+                b.dead[cur][j] = 1;
+            if (b.dead[cur][j]) {
+                ndead++;
+                if (w[j] > 0)
+                    reweight = 1;
+            }
+        }
+
+        /* weight */
+        for (j = 0; j < N; j++)
+            b.logw[j] = w[j] > 0 ? log(w[j]) : -HUGE_VAL;
+        nobs = 0;
+        if (m > 0) {
+            predict_obs(cfg, &b, r0, m, Xc, Pc);
+            loglik_all(cfg, &b, r0, m, &nskipped);
+            nobs = m - nskipped;
+            if (nobs > 0) {
+                reweight = 1;
+                for (j = 0; j < N; j++)
+                    b.logw[j] += b.ll[j];
+            }
+        }
+        for (j = 0; j < N; j++)
+            if (b.dead[cur][j])
+                b.logw[j] = -HUGE_VAL;
+        out->logz[k] = 0.0;
+        if (reweight) {
+            sl_weight_summary ws;
+            sl_error werr;
+            st = sl_weights_normalize(N, b.logw, b.ll, &ws, &werr);
+            if (st == SL_OK) {
+                memcpy(w, b.ll, N * sizeof(double));
+                out->logz[k] = ws.log_sum;
+            } else if (st == SL_EDEGENERATE) {
+                /* no member explains the data: keep the weights of the
+                 * living members, record the cycle, evidence -Inf */
+                degenerate = 1;
+                out->logz[k] = -HUGE_VAL;
+                wsum = 0.0;
+                for (j = 0; j < N; j++) {
+                    if (b.dead[cur][j])
+                        w[j] = 0.0;
+                    wsum += w[j];
+                }
+                if (wsum > 0)
+                    for (j = 0; j < N; j++)
+                        w[j] /= wsum;
+            } else {
+                if (err != NULL)
+                    *err = werr;
+                return st;
+            }
+            out->log_evidence += out->logz[k];
+        }
+        st = SL_OK;
+        wsum = 0.0;
+        ess = 0.0;
+        for (j = 0; j < N; j++) {
+            wsum += w[j];
+            ess += w[j] * w[j];
+        }
+        ess = ess > 0 ? 1.0 / ess : 0.0;
+
+        /* record */
+        summarise(cfg, &b, Xc, Pc, w, out, k);
+        out->ess[k] = ess;
+        out->skipped[k] = (double)nskipped;
+        out->nonfinite[k] = (double)ndead;
+        out->degenerate[k] = degenerate;
+        if (cfg->keep_history) {
+            memcpy(out->hist_X + k * n * N, Xc, n * N * sizeof(double));
+            if (p > 0)
+                memcpy(out->hist_P + k * p * N, Pc, p * N * sizeof(double));
+            memcpy(out->hist_w + k * N, w, N * sizeof(double));
+        }
+
+        /* resample */
+        if (wsum > 0 && ess < cfg->threshold * (double)N) {
+            int nx = 1 - cur;
+            st = sl_resample(cfg->resampler, N, w, N, cfg->seed, (uint32_t)k,
+                             b.rwork, b.anc, err);
+            if (st != SL_OK)
+                return st;
+            gather_cols(n, N, Xc, b.X[nx], b.anc, cfg->threads);
+            gather_cols(p, N, Pc, b.P[nx], b.anc, cfg->threads);
+            gather_cols(p, N, Zc, b.Z[nx], b.anc, cfg->threads);
+            gather_cols(q, N, b.E[cur], b.E[nx], b.anc, cfg->threads);
+            for (j = 0; j < N; j++) {
+                b.dead[nx][j] = b.dead[cur][b.anc[j]];
+                w[j] = 1.0 / (double)N;
+            }
+            cur = nx;
+            resampled = 1;
+        }
+        out->resampled[k] = resampled;
+        if (cfg->keep_history)
+            for (j = 0; j < N; j++)
+                out->hist_a[k * N + j] = resampled ? (double)b.anc[j] : (double)j;
+    }
+    memcpy(X, b.X[cur], n * N * sizeof(double));
+    memcpy(P, b.P[cur], p * N * sizeof(double));
+    return SL_OK;
+}

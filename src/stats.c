@@ -1,0 +1,188 @@
+/* stats.c - weighted ensemble summaries: means and exact quantiles. */
+#include "sluice/stats.h"
+
+#include <math.h>
+#include <stdlib.h>
+
+#define NBUCKET 1024
+#define SMALL 48 /* candidate sets this small are finished by sorting */
+
+/* candidates are (value, weight) pairs stored interleaved */
+typedef struct {
+    double v, w;
+} pair;
+
+size_t sl_quantile_workspace(size_t N)
+{
+    /* three pair regions of N pairs (all members, and two for refining)
+     * plus the bucket sums */
+    return 6 * N + 2 * NBUCKET;
+}
+
+static int cmp_pair(const void *a, const void *b)
+{
+    double x = ((const pair *)a)->v, y = ((const pair *)b)->v;
+    return (x > y) - (x < y);
+}
+
+static size_t bucket_of(double v, double lo, double scale)
+{
+    size_t k = (size_t)((v - lo) * scale);
+    return k < NBUCKET ? k : NBUCKET - 1;
+}
+
+/* Bucket b where the cumulative weight (starting at *acc) first reaches
+ * target; *acc becomes the weight below that bucket. */
+static size_t find_bucket(const double *bw, double *acc, double target)
+{
+    size_t b, last = 0;
+    double a = *acc;
+    for (b = 0; b < NBUCKET; b++) {
+        if (bw[b] > 0) {
+            if (a + bw[b] >= target) {
+                *acc = a;
+                return b;
+            }
+            last = b;
+        }
+        a += bw[b];
+    }
+    /* rounding kept the sum under target: the last non-empty bucket */
+    *acc = a - bw[last];
+    return last;
+}
+
+/* Smallest candidate value whose cumulative weight reaches target, among n
+ * candidates c (values in [lo, hi]) with weight `below` under them. Works
+ * in c and spare (each room for n pairs); bw holds NBUCKET doubles. */
+static double select_in(size_t n, pair *c, pair *spare, double lo, double hi,
+                        double below, double target, double *bw)
+{
+    for (;;) {
+        size_t i, b, m = 0;
+        double scale, nlo = HUGE_VAL, nhi = -HUGE_VAL;
+        if (!(hi > lo))
+            return lo; /* every candidate has the same value */
+        if (n <= SMALL) {
+            double acc = below;
+            qsort(c, n, sizeof *c, cmp_pair);
+            for (i = 0; i < n; i++) {
+                acc += c[i].w;
+                if (acc >= target)
+                    return c[i].v;
+            }
+            return c[n - 1].v;
+        }
+        scale = (double)NBUCKET / (hi - lo);
+        for (b = 0; b < NBUCKET; b++)
+            bw[b] = 0.0;
+        for (i = 0; i < n; i++)
+            bw[bucket_of(c[i].v, lo, scale)] += c[i].w;
+        b = find_bucket(bw, &below, target);
+        for (i = 0; i < n; i++)
+            if (bucket_of(c[i].v, lo, scale) == b) {
+                spare[m] = c[i];
+                if (c[i].v < nlo) nlo = c[i].v;
+                if (c[i].v > nhi) nhi = c[i].v;
+                m++;
+            }
+        if (2 * m > n) {
+            /* values bunched (for instance exponentially spread): one
+             * bucket pass gains little, so sort what is left */
+            n = m;
+            c = spare;
+            qsort(c, n, sizeof *c, cmp_pair);
+            for (i = 0; i < n; i++) {
+                below += c[i].w;
+                if (below >= target)
+                    return c[i].v;
+            }
+            return c[n - 1].v;
+        }
+        {
+            pair *t = c;
+            c = spare;
+            spare = t;
+        }
+        n = m;
+        lo = nlo;
+        hi = nhi;
+    }
+}
+
+void sl_weighted_summary(size_t N, const double *x, size_t inc,
+                         const double *w, size_t nq,
+                         const double *probs, double *mean, double *q,
+                         size_t qinc, double *work)
+{
+    pair *all = (pair *)(void *)work;
+    pair *r1 = all + N, *r2 = r1 + N;
+    double *bw = work + 6 * N, *bw2 = bw + NBUCKET;
+    double s = 0.0, W = 0.0, lo = HUGE_VAL, hi = -HUGE_VAL, scale;
+    size_t j, n = 0, k, i;
+    double ref = 0.0;
+    for (j = 0; j < N; j++) {
+        double v = x[j * inc], wj = w[j];
+        if (wj > 0) {
+            if (n == 0)
+                ref = v; /* deviations from a member: exact for a constant */
+            all[n].v = v;
+            all[n].w = wj;
+            n++;
+            s += wj * (v - ref);
+            W += wj;
+            if (v < lo) lo = v;
+            if (v > hi) hi = v;
+        }
+    }
+    if (n == 0) {
+        *mean = NAN;
+        for (k = 0; k < nq; k++)
+            q[k * qinc] = NAN;
+        return;
+    }
+    *mean = ref + s / W;
+    if (nq == 0)
+        return;
+    if (!(hi > lo)) {
+        for (k = 0; k < nq; k++)
+            q[k * qinc] = lo;
+        return;
+    }
+    if (!isfinite(hi - lo)) {
+        /* a range too wide for buckets: sort everything once */
+        qsort(all, n, sizeof *all, cmp_pair);
+        for (k = 0; k < nq; k++) {
+            double target = probs[k] * W, acc = 0.0;
+            q[k * qinc] = all[n - 1].v;
+            for (i = 0; i < n; i++) {
+                acc += all[i].w;
+                if (acc >= target) {
+                    q[k * qinc] = all[i].v;
+                    break;
+                }
+            }
+        }
+        return;
+    }
+    /* one histogram of all members serves every level */
+    scale = (double)NBUCKET / (hi - lo);
+    for (i = 0; i < NBUCKET; i++)
+        bw[i] = 0.0;
+    for (i = 0; i < n; i++)
+        bw[bucket_of(all[i].v, lo, scale)] += all[i].w;
+    for (k = 0; k < nq; k++) {
+        double target = probs[k] * W, below = 0.0;
+        double nlo = HUGE_VAL, nhi = -HUGE_VAL;
+        size_t b = find_bucket(bw, &below, target), m = 0;
+        for (i = 0; i < n; i++)
+            if (bucket_of(all[i].v, lo, scale) == b) {
+                r1[m] = all[i];
+                if (all[i].v < nlo) nlo = all[i].v;
+                if (all[i].v > nhi) nhi = all[i].v;
+                m++;
+            }
+        /* the histogram bw serves the next level: refine with bw2 */
+        q[k * qinc] = select_in(m, r1, r2, nlo, nhi, below, target, bw2);
+    }
+}
