@@ -24,7 +24,12 @@ typedef struct {
     uint32_t *anc;
     sl_error *terr;
     size_t mwork_per, qwork_per, m_max;
+    int nt; /* threads for per-member loops: 1 for small ensembles */
 } pf_buffers;
+
+/* Below this many members a parallel region costs more than it saves (and
+ * far more on a loaded machine, where a thread may wait a time slice). */
+#define PAR_MIN_MEMBERS 2048
 
 static size_t carve(unsigned char *base, size_t *off, size_t bytes,
                     void **out)
@@ -270,7 +275,7 @@ static void eval_forcing(const sl_pf_config *cfg, pf_buffers *b, double *E,
             memcpy(b->U + j * q, b->u0, q * sizeof(double));
         return;
     }
-#pragma omp parallel for num_threads(cfg->threads) schedule(static) private(i)
+#pragma omp parallel for num_threads(b->nt) schedule(static) private(i)
     for (j = 0; j < N; j++) {
         sl_stream st;
         double *e = E + j * q, *u = b->U + j * q;
@@ -298,7 +303,7 @@ static sl_status step_all(const sl_pf_config *cfg, pf_buffers *b, double *X,
     const sl_model *md = cfg->model;
     const size_t N = cfg->N, n = md->n_state, p = md->n_param,
                  q = md->n_forcing;
-    int nthr = md->thread_safe ? cfg->threads : 1, k;
+    int nthr = md->thread_safe ? b->nt : 1, k;
     sl_status st = SL_OK;
     if (nthr > 1 && (size_t)nthr > N)
         nthr = (int)N;
@@ -390,7 +395,7 @@ static void move_params(const sl_pf_config *cfg, pf_buffers *b, double *Z,
                 V[l + i * p] = V[i + l * p];
         chol_psd(p, V, b->lw_chol);
     }
-#pragma omp parallel for num_threads(cfg->threads) schedule(static) private(i, l)
+#pragma omp parallel for num_threads(b->nt) schedule(static) private(i, l)
     for (j = 0; j < N; j++) {
         sl_stream st;
         double *z = Z + j * p, xi[64];
@@ -424,7 +429,7 @@ static void predict_obs(const sl_pf_config *cfg, pf_buffers *b, size_t r0,
 {
     const size_t N = cfg->N, n = cfg->model->n_state, p = cfg->model->n_param;
     size_t i, j;
-#pragma omp parallel for num_threads(cfg->threads) schedule(static) private(i)
+#pragma omp parallel for num_threads(b->nt) schedule(static) private(i)
     for (j = 0; j < N; j++)
         for (i = 0; i < m; i++) {
             size_t v = cfg->var[r0 + i];
@@ -436,7 +441,7 @@ static void loglik_all(const sl_pf_config *cfg, pf_buffers *b, size_t r0,
                        size_t m, size_t *nskipped)
 {
     const size_t N = cfg->N;
-    int nthr = cfg->threads, t;
+    int nthr = b->nt, t;
     size_t skipped = 0;
     if ((size_t)nthr > N)
         nthr = (int)N;
@@ -461,7 +466,7 @@ static void summarise(const sl_pf_config *cfg, pf_buffers *b, const double *X,
     const size_t N = cfg->N, n = cfg->model->n_state, p = cfg->model->n_param;
     const size_t v = n + p, nq = cfg->nq;
     long r;
-#pragma omp parallel for num_threads(cfg->threads) schedule(dynamic, 1)
+#pragma omp parallel for num_threads(b->nt) schedule(dynamic, 1)
     for (r = 0; r < (long)v; r++) {
         int tid = 0;
         size_t row = (size_t)r;
@@ -515,6 +520,7 @@ sl_status sl_pf_run(const sl_pf_config *cfg, double *X, double *P, double *w,
     p = md->n_param;
     q = md->n_forcing;
     layout(cfg, (unsigned char *)work, &b);
+    b.nt = N >= PAR_MIN_MEMBERS ? cfg->threads : 1;
 
     memcpy(b.X[0], X, n * N * sizeof(double));
     memcpy(b.P[0], P, p * N * sizeof(double));
@@ -576,7 +582,7 @@ sl_status sl_pf_run(const sl_pf_config *cfg, double *X, double *P, double *w,
 
         /* optional additive state noise, then the health of every member */
         if (cfg->state_noise != NULL) {
-#pragma omp parallel for num_threads(cfg->threads) schedule(static) private(i)
+#pragma omp parallel for num_threads(b.nt) schedule(static) private(i)
             for (j = 0; j < N; j++) {
                 sl_stream sn;
                 sl_stream_init(&sn, cfg->seed, (uint32_t)j, (uint32_t)k,
@@ -672,10 +678,10 @@ sl_status sl_pf_run(const sl_pf_config *cfg, double *X, double *P, double *w,
                              b.rwork, b.anc, err);
             if (st != SL_OK)
                 return st;
-            gather_cols(n, N, Xc, b.X[nx], b.anc, cfg->threads);
-            gather_cols(p, N, Pc, b.P[nx], b.anc, cfg->threads);
-            gather_cols(p, N, Zc, b.Z[nx], b.anc, cfg->threads);
-            gather_cols(q, N, b.E[cur], b.E[nx], b.anc, cfg->threads);
+            gather_cols(n, N, Xc, b.X[nx], b.anc, b.nt);
+            gather_cols(p, N, Pc, b.P[nx], b.anc, b.nt);
+            gather_cols(p, N, Zc, b.Z[nx], b.anc, b.nt);
+            gather_cols(q, N, b.E[cur], b.E[nx], b.anc, b.nt);
             for (j = 0; j < N; j++) {
                 b.dead[nx][j] = b.dead[cur][b.anc[j]];
                 w[j] = 1.0 / (double)N;

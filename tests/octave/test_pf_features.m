@@ -191,3 +191,21 @@
 %!error id=sluice:filter:forcingrange ...
 %! s2 = sluice.model ('linear', 'A', 1, 'B', 1, 'states', {'x'}, 'forcings', {'u'});
 %! sluice.filter (s2, pr, obs, 't0', 0, 'forcing', struct ('time', [0; 0.5], 'values', [1; 1]))
+
+%!function X = slow_step (t, X, P, U, dt)
+%!  pause (0.025);
+%!endfunction
+%!test
+%! % the progress line of a long run (over 2 s) when asked for
+%! spec = sluice.model (@slow_step, 'states', {'x'});
+%! obs = struct ('time', 120, 'variable', {{'x'}}, 'value', 0, 'sigma', 1);
+%! txt = evalc ('sluice.filter (spec, [], obs, ''members'', 10, ''t0'', 0, ''progress'', true);');
+%! assert (~isempty (strfind (txt, '% done')));
+%! assert (~isempty (strfind (txt, 'sluice: done in')));
+%! % and none by default when the output is not a terminal
+%! txt = evalc ('sluice.filter (spec, [], setfield (obs, ''time'', 3), ''members'', 10, ''t0'', 0);');
+%! assert (isempty (strfind (txt, '% done')));
+%!test
+%! % the progress helper itself prints nothing unless asked
+%! assert (evalc ('sluice.kernel.progress (0.5, 3, 0)'), '');
+%! assert (~isempty (strfind (evalc ('sluice.kernel.progress (0.5, 3, 1)'), ' 50% done')));

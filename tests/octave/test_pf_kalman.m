@@ -90,12 +90,31 @@
 %! pr = sluice.prior ('u', 'normal', [0 1], 'v', 'uniform', [-1 1]);
 %! obs = struct ('time', (1:10)', 'variable', {repmat({'u'}, 10, 1)}, ...
 %!               'value', sin (1:10)', 'sigma', 0.5 * ones (10, 1));
-%! o = {'members', 3001, 'seed', 42, 't0', 0, 'history', true};
+%! % (5001 members: runs below 2048 members use one thread whatever is asked)
+%! o = {'members', 5001, 'seed', 42, 't0', 0, 'history', true};
 %! r1 = sluice.filter (spec, pr, obs, o{:}, 'threads', 1);
 %! r2 = sluice.filter (spec, pr, obs, o{:}, 'threads', 2);
 %! r3 = sluice.filter (spec, pr, obs, o{:}, 'threads', 2);
 %! assert (isequal (r1.states, r2.states) && isequal (r2.states, r3.states));
 %! assert (isequal (r1.history, r2.history));
 %! assert (isequal (r1.log_evidence, r2.log_evidence));
-%! r4 = sluice.filter (spec, pr, obs, 'members', 3001, 'seed', 43, 't0', 0);
+%! r4 = sluice.filter (spec, pr, obs, 'members', 5001, 'seed', 43, 't0', 0);
 %! assert (~isequal (r1.states.mean, r4.states.mean));
+
+%!test
+%! % every random path at once (forcing noise, state noise, parameter
+%! % kernel, resampling) is bit-identical for one and two threads
+%! f = @(t, X, P, U, dt) X + dt * (U - P(1, :) .* X);
+%! spec = sluice.model (f, 'states', {'s'}, 'params', {'k'}, 'forcings', {'u'});
+%! pr = sluice.prior ('s', 'uniform', [0 2], 'k', 'lognormal', [log(0.3) 0.4]);
+%! obs = struct ('time', (2:2:20)', 'variable', {repmat({'s'}, 10, 1)}, ...
+%!               'value', 1 + 0.2 * cos (1:10)', 'sigma', 0.3 * ones (10, 1));
+%! o = {'members', 4099, 'seed', 77, 't0', 0, 'history', true, ...
+%!      'forcing', struct('time', (0:20)', 'values', 0.3 + 0.1 * sin (0:20)'), ...
+%!      'forcing_noise', struct('kind', 'multiplicative', 'sd', 0.3, 'ar1', 0.5), ...
+%!      'state_noise', 0.01, 'param_move', 'liu_west'};
+%! r1 = sluice.filter (spec, pr, obs, o{:}, 'threads', 1);
+%! r2 = sluice.filter (spec, pr, obs, o{:}, 'threads', 2);
+%! assert (any (r1.resampled));
+%! assert (isequal (r1.history, r2.history));
+%! assert (isequal (r1.params, r2.params) && isequal (r1.states, r2.states));
