@@ -110,6 +110,34 @@ static double select_in(size_t n, pair *c, pair *spare, double lo, double hi,
     }
 }
 
+/* Neumaier's compensated sums (the Kahan-Babuska variant): the error stays
+ * near one rounding whatever the number of members. */
+static double compensated_sum_w(size_t n, const pair *c)
+{
+    double s = 0.0, e = 0.0;
+    size_t i;
+    for (i = 0; i < n; i++) {
+        double a = c[i].w, t = s + a;
+        e += fabs(s) >= fabs(a) ? (s - t) + a : (a - t) + s;
+        s = t;
+    }
+    return s + e;
+}
+
+/* sum of scale * w_i * (v_i - ref) */
+static double compensated_dot(size_t n, const pair *c, double ref,
+                              double scale)
+{
+    double s = 0.0, e = 0.0;
+    size_t i;
+    for (i = 0; i < n; i++) {
+        double a = (scale * c[i].w) * (c[i].v - ref), t = s + a;
+        e += fabs(s) >= fabs(a) ? (s - t) + a : (a - t) + s;
+        s = t;
+    }
+    return s + e;
+}
+
 void sl_weighted_summary(size_t N, const double *x, size_t inc,
                          const double *w, size_t nq,
                          const double *probs, double *mean, double *q,
@@ -118,19 +146,17 @@ void sl_weighted_summary(size_t N, const double *x, size_t inc,
     pair *all = (pair *)(void *)work;
     pair *r1 = all + N, *r2 = r1 + N;
     double *bw = work + 6 * N, *bw2 = bw + NBUCKET;
-    double s = 0.0, W = 0.0, lo = HUGE_VAL, hi = -HUGE_VAL, scale;
+    /* Wrun: the plain running sum, the same arithmetic as the cumulative
+     * sums of the selection, so that level 1 reaches the largest value */
+    double W, Wrun = 0.0, lo = HUGE_VAL, hi = -HUGE_VAL, scale;
     size_t j, n = 0, k, i;
-    double ref = 0.0;
     for (j = 0; j < N; j++) {
         double v = x[j * inc], wj = w[j];
         if (wj > 0) {
-            if (n == 0)
-                ref = v; /* deviations from a member: exact for a constant */
             all[n].v = v;
             all[n].w = wj;
             n++;
-            s += wj * (v - ref);
-            W += wj;
+            Wrun += wj;
             if (v < lo) lo = v;
             if (v > hi) hi = v;
         }
@@ -141,7 +167,16 @@ void sl_weighted_summary(size_t N, const double *x, size_t inc,
             q[k * qinc] = NAN;
         return;
     }
-    *mean = ref + s / W;
+    W = compensated_sum_w(n, all);
+    if (isfinite(hi - lo)) {
+        /* deviations from one member: exact for a constant ensemble */
+        double ref = all[0].v;
+        *mean = ref + compensated_dot(n, all, ref, 1.0) / W;
+    } else {
+        /* a range wider than the largest double: weights first, so no
+         * partial sum can overflow */
+        *mean = compensated_dot(n, all, 0.0, 1.0 / W);
+    }
     if (nq == 0)
         return;
     if (!(hi > lo)) {
@@ -153,7 +188,7 @@ void sl_weighted_summary(size_t N, const double *x, size_t inc,
         /* a range too wide for buckets: sort everything once */
         qsort(all, n, sizeof *all, cmp_pair);
         for (k = 0; k < nq; k++) {
-            double target = probs[k] * W, acc = 0.0;
+            double target = probs[k] * Wrun, acc = 0.0;
             q[k * qinc] = all[n - 1].v;
             for (i = 0; i < n; i++) {
                 acc += all[i].w;
@@ -172,7 +207,7 @@ void sl_weighted_summary(size_t N, const double *x, size_t inc,
     for (i = 0; i < n; i++)
         bw[bucket_of(all[i].v, lo, scale)] += all[i].w;
     for (k = 0; k < nq; k++) {
-        double target = probs[k] * W, below = 0.0;
+        double target = probs[k] * Wrun, below = 0.0;
         double nlo = HUGE_VAL, nhi = -HUGE_VAL;
         size_t b = find_bucket(bw, &below, target), m = 0;
         for (i = 0; i < n; i++)
