@@ -65,7 +65,7 @@ static sl_status handle_step(const sl_model *model, double t, double dt,
         snprintf(hm->identifier, sizeof hm->identifier, "sluice:filter:badmodeloutput");
         st = sl_fail(err, SL_EMODEL, "badmodeloutput", "%s", hm->message);
     } else {
-        memcpy(X, mxGetDoubles(out[0]), n * count * sizeof(double));
+        memcpy(X, slm_doubles(out[0]), n * count * sizeof(double));
     }
     for (k = 0; k < 3; k++)
         if (out[k] != NULL)

@@ -11,6 +11,13 @@
 #include <omp.h>
 #endif
 
+const double *slm_doubles(const mxArray *a)
+{
+    /* mxGetDoubles aborts Octave 7.3 on a range (1:5) and on copies made
+     * by mxDuplicateArray; mxGetData reads every real double array */
+    return (const double *)mxGetData(a);
+}
+
 void slm_init(void)
 {
     gsl_set_error_handler_off();
@@ -110,7 +117,7 @@ const double *slm_matrix(const char *fn, const mxArray *a, int pos,
         slm_fail(fn, "badsize", "argument %d (%s): expected %s, got %s", pos,
                  name, want, got);
     }
-    x = mxGetDoubles(a);
+    x = slm_doubles(a);
     if ((flags & (SLM_ALLOW_NAN | SLM_ALLOW_INF)) != (SLM_ALLOW_NAN | SLM_ALLOW_INF)) {
         for (i = 0; i < n; i++) {
             double v = x[i];
@@ -139,10 +146,10 @@ double slm_scalar(const char *fn, const mxArray *a, int pos, const char *name)
         slm_fail(fn, "badsize",
                  "argument %d (%s): expected a real double scalar, got %s", pos,
                  name, got);
-    if (!isfinite(mxGetDoubles(a)[0]))
+    if (!isfinite(slm_doubles(a)[0]))
         slm_fail(fn, "nonfinite", "argument %d (%s): expected a finite value",
                  pos, name);
-    return mxGetDoubles(a)[0];
+    return slm_doubles(a)[0];
 }
 
 double slm_integer(const char *fn, const mxArray *a, int pos,

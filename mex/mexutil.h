@@ -15,6 +15,10 @@ enum {
     SLM_VECTOR = 8        /* any 1 x n or n x 1 shape                  */
 };
 
+/* The data of a real double array passed in (use this, never mxGetDoubles,
+ * on arrays that come from Octave: a range would abort Octave). */
+const double *slm_doubles(const mxArray *a);
+
 /* Turn GSL's aborting error handler off. Every gateway calls it first. */
 void slm_init(void);
 

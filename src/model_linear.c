@@ -4,6 +4,9 @@
 #include <math.h>
 #include "sluice/rng.h"
 
+/* members whose noise is drawn in one batch */
+#define NOISE_BLOCK 64
+
 static sl_status linear_step(const sl_model *model, double t, double dt,
                              size_t first, size_t count, double *X,
                              const double *P, const double *U, uint64_t seed,
@@ -11,43 +14,42 @@ static sl_status linear_step(const sl_model *model, double t, double dt,
 {
     const sl_linear *lin = (const sl_linear *)model->ctx;
     const size_t n = lin->n, q = lin->q;
-    double *xo = work, *e = work + n;
-    size_t j, i, k;
+    double *xo = work, *E = work + n;
+    size_t j0, j, i, k;
     (void)t;
     (void)dt;
     (void)P;
     (void)err;
-    for (j = 0; j < count; j++) {
-        double *x = X + j * n;
-        const double *u = U + j * q;
-        for (i = 0; i < n; i++)
-            xo[i] = x[i];
-        if (lin->L != NULL) {
-            sl_stream s;
-            sl_stream_init(&s, seed, (uint32_t)(first + j), step,
-                           SL_PURPOSE_MODEL_NOISE);
-            for (i = 0; i < n; i++)
-                e[i] = sl_stream_normal(&s);
-        }
-        for (i = 0; i < n; i++)
-            x[i] = lin->c != NULL ? lin->c[i] : 0.0;
-        /* column-oriented products: unit stride through A, B and L */
-        for (k = 0; k < n; k++) {
-            const double *a = lin->A + k * n, xk = xo[k];
-            for (i = 0; i < n; i++)
-                x[i] += a[i] * xk;
-        }
-        for (k = 0; k < q; k++) {
-            const double *b = lin->B + k * n, uk = u[k];
-            for (i = 0; i < n; i++)
-                x[i] += b[i] * uk;
-        }
+    for (j0 = 0; j0 < count; j0 += NOISE_BLOCK) {
+        size_t cnt = count - j0 < NOISE_BLOCK ? count - j0 : NOISE_BLOCK;
         if (lin->L != NULL)
+            sl_normals_members(seed, (uint32_t)(first + j0), cnt, step,
+                               SL_PURPOSE_MODEL_NOISE, n, E, n);
+        for (j = j0; j < j0 + cnt; j++) {
+            double *x = X + j * n;
+            const double *u = U + j * q, *e = E + (j - j0) * n;
+            for (i = 0; i < n; i++)
+                xo[i] = x[i];
+            for (i = 0; i < n; i++)
+                x[i] = lin->c != NULL ? lin->c[i] : 0.0;
+            /* column-oriented products: unit stride through A, B and L */
             for (k = 0; k < n; k++) {
-                const double *l = lin->L + k * n, ek = e[k];
-                for (i = k; i < n; i++)
-                    x[i] += l[i] * ek;
+                const double *a = lin->A + k * n, xk = xo[k];
+                for (i = 0; i < n; i++)
+                    x[i] += a[i] * xk;
             }
+            for (k = 0; k < q; k++) {
+                const double *b = lin->B + k * n, uk = u[k];
+                for (i = 0; i < n; i++)
+                    x[i] += b[i] * uk;
+            }
+            if (lin->L != NULL)
+                for (k = 0; k < n; k++) {
+                    const double *l = lin->L + k * n, ek = e[k];
+                    for (i = k; i < n; i++)
+                        x[i] += l[i] * ek;
+                }
+        }
     }
     return SL_OK;
 }
@@ -72,7 +74,7 @@ sl_status sl_linear_model(sl_model *model, const sl_linear *lin, double dt,
     model->dt = dt;
     model->discrete = 1;
     model->thread_safe = 1;
-    model->work = 2 * lin->n;
+    model->work = lin->n + lin->n * NOISE_BLOCK;
     model->step = linear_step;
     model->ctx = (void *)(uintptr_t)lin;
     return SL_OK;

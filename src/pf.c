@@ -19,7 +19,7 @@
 typedef struct {
     double *X[2], *Z[2], *P[2], *E[2]; /* ping-pong pairs for resampling */
     unsigned char *dead[2];
-    double *U, *u0, *Yhat, *ll, *logw, *rwork, *mwork, *qwork;
+    double *U, *u0, *Yhat, *ll, *logw, *lw, *rwork, *mwork, *qwork;
     double *lw_mean, *lw_cov, *lw_chol;
     uint32_t *anc;
     sl_error *terr;
@@ -79,6 +79,7 @@ static size_t layout(const sl_pf_config *cfg, unsigned char *base,
     carve(base, &off, m_max * N * 8, (void **)&b->Yhat);
     carve(base, &off, N * 8, (void **)&b->ll);
     carve(base, &off, N * 8, (void **)&b->logw);
+    carve(base, &off, N * 8, (void **)&b->lw);
     carve(base, &off, rws * 8, (void **)&b->rwork);
     carve(base, &off, nthr * b->mwork_per * 8, (void **)&b->mwork);
     carve(base, &off, nthr * b->qwork_per * 8, (void **)&b->qwork);
@@ -536,6 +537,7 @@ sl_status sl_pf_run(const sl_pf_config *cfg, double *X, double *P, double *w,
     for (j = 0; j < N; j++) {
         b.dead[0][j] = (unsigned char)has_nonfinite(X + j * n, n);
         w[j] = 1.0 / (double)N;
+        b.lw[j] = -log((double)N);
     }
     if (q > 0)
         memset(b.E[0], 0, q * N * sizeof(double));
@@ -603,30 +605,27 @@ sl_status sl_pf_run(const sl_pf_config *cfg, double *X, double *P, double *w,
             }
         }
 
-        /* weight */
-        for (j = 0; j < N; j++)
-            b.logw[j] = w[j] > 0 ? log(w[j]) : -HUGE_VAL;
+        /* weight: b.lw holds the members' normalised log-weights */
         nobs = 0;
         if (m > 0) {
             predict_obs(cfg, &b, r0, m, Xc, Pc);
             loglik_all(cfg, &b, r0, m, &nskipped);
             nobs = m - nskipped;
-            if (nobs > 0) {
+            if (nobs > 0)
                 reweight = 1;
-                for (j = 0; j < N; j++)
-                    b.logw[j] += b.ll[j];
-            }
         }
-        for (j = 0; j < N; j++)
-            if (b.dead[cur][j])
-                b.logw[j] = -HUGE_VAL;
         out->logz[k] = 0.0;
         if (reweight) {
             sl_weight_summary ws;
             sl_error werr;
+            for (j = 0; j < N; j++)
+                b.logw[j] = b.dead[cur][j] ? -HUGE_VAL
+                                           : (nobs > 0 ? b.lw[j] + b.ll[j] : b.lw[j]);
             st = sl_weights_normalize(N, b.logw, b.ll, &ws, &werr);
             if (st == SL_OK) {
                 memcpy(w, b.ll, N * sizeof(double));
+                for (j = 0; j < N; j++)
+                    b.lw[j] = b.logw[j] - ws.log_sum;
                 out->logz[k] = ws.log_sum;
             } else if (st == SL_EDEGENERATE) {
                 /* no member explains the data: keep the weights of the
@@ -639,9 +638,11 @@ sl_status sl_pf_run(const sl_pf_config *cfg, double *X, double *P, double *w,
                         w[j] = 0.0;
                     wsum += w[j];
                 }
-                if (wsum > 0)
-                    for (j = 0; j < N; j++)
+                for (j = 0; j < N; j++) {
+                    if (wsum > 0)
                         w[j] /= wsum;
+                    b.lw[j] = w[j] > 0 ? log(w[j]) : -HUGE_VAL;
+                }
             } else {
                 if (err != NULL)
                     *err = werr;
@@ -685,6 +686,7 @@ sl_status sl_pf_run(const sl_pf_config *cfg, double *X, double *P, double *w,
             for (j = 0; j < N; j++) {
                 b.dead[nx][j] = b.dead[cur][b.anc[j]];
                 w[j] = 1.0 / (double)N;
+                b.lw[j] = -log((double)N);
             }
             cur = nx;
             resampled = 1;

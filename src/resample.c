@@ -34,17 +34,31 @@ static void fill_tail(size_t N, const double *w, size_t k, size_t M,
 
 /* Ancestors of the sorted positions pos[0..M-1] (merge with the running
  * sum), written to anc[0..M-1]. */
-static void merge_sorted(size_t N, const double *w, size_t M,
+static void merge_sorted(size_t N, const double *w, double sc, size_t M,
                          const double *pos, uint32_t *anc)
 {
     double c = 0;
     size_t i, k = 0;
     for (i = 0; i < N && k < M; i++) {
-        c += w[i];
+        c += w[i] * sc;
         while (k < M && pos[k] < c)
             anc[k++] = (uint32_t)i;
     }
     fill_tail(N, w, k, M, anc);
+}
+
+/* The schemes work with the weights times a power of two `sc`: 1 for sums
+ * in [2^-500, 2^500] (nothing changes, as scaling by a power of two is
+ * exact), otherwise chosen so that wsum * sc lies in [2^-75, 1). Then
+ * M / wsum and wsum / M can neither overflow nor fall into the subnormal
+ * range, where the positions would lose their precision. */
+static double weight_scale(double wsum)
+{
+    int e;
+    if (wsum >= 0x1p-500 && wsum <= 0x1p500)
+        return 1;
+    (void)frexp(wsum, &e); /* wsum = f 2^e, f in [1/2, 1) */
+    return ldexp(1.0, -e > 1000 ? 1000 : -e);
 }
 
 static size_t no_workspace(size_t N, size_t M)
@@ -79,8 +93,9 @@ static size_t m_doubles(size_t N, size_t M)
 static void run_systematic(size_t N, const double *w, double wsum, size_t M,
                            sl_stream *s, double *work, uint32_t *anc)
 {
-    const double u = sl_stream_uniform(s), step = wsum / (double)M;
-    const double per = (double)M / wsum;
+    const double sc = weight_scale(wsum), ws = wsum * sc;
+    const double u = sl_stream_uniform(s), step = ws / (double)M;
+    const double per = (double)M / ws;
     double c = 0, pos;
     size_t i = 0, k = 0;
     (void)work;
@@ -93,7 +108,7 @@ static void run_systematic(size_t N, const double *w, double wsum, size_t M,
             int64_t K;
             size_t j;
             uint32_t m = (uint32_t)i;
-            c += w[i];
+            c += w[i] * sc;
             e = c * per - u + 1.0; /* > 0: c >= 0 and u < 1 */
             K = (int64_t)e;
             f = e - (double)K;
@@ -121,7 +136,7 @@ static void run_systematic(size_t N, const double *w, double wsum, size_t M,
     /* the plain loop resumes at member i (not yet added to c) */
     pos = ((double)k + u) * step;
     for (; i < N; i++) {
-        c += w[i];
+        c += w[i] * sc;
         while (pos < c) {
             anc[k] = (uint32_t)i;
             if (++k == M)
@@ -136,12 +151,12 @@ static void run_systematic(size_t N, const double *w, double wsum, size_t M,
 static void run_stratified(size_t N, const double *w, double wsum, size_t M,
                            sl_stream *s, double *work, uint32_t *anc)
 {
-    const double step = wsum / (double)M;
+    const double sc = weight_scale(wsum), step = wsum * sc / (double)M;
     double c = 0, pos = sl_stream_uniform(s) * step;
     size_t i, k = 0;
     (void)work;
     for (i = 0; i < N; i++) {
-        c += w[i];
+        c += w[i] * sc;
         while (pos < c) {
             anc[k] = (uint32_t)i;
             if (++k == M)
@@ -154,8 +169,8 @@ static void run_stratified(size_t N, const double *w, double wsum, size_t M,
 
 /* M sorted uniforms times `scale`, into pos[0..M-1]: the partial sums of
  * M + 1 standard exponentials divided by their total are distributed as
- * the order statistics of M uniforms (the uniform spacings of Renyi's
- * representation), so no sort is needed. */
+ * the order statistics of M uniforms (exponential spacings), so no sort
+ * is needed and the multinomial scheme costs O(N + M). */
 static void sorted_positions(sl_stream *s, size_t M, double scale,
                              double *pos)
 {
@@ -175,15 +190,11 @@ static void sorted_positions(sl_stream *s, size_t M, double scale,
 static void run_multinomial(size_t N, const double *w, double wsum, size_t M,
                             sl_stream *s, double *work, uint32_t *anc)
 {
-    sorted_positions(s, M, wsum, work);
-    merge_sorted(N, w, M, work, anc);
+    const double sc = weight_scale(wsum);
+    sorted_positions(s, M, wsum * sc, work);
+    merge_sorted(N, w, sc, M, work, anc);
 }
 
-/* Residual: member i first gets n_i = floor(M w_i / wsum) copies (written
- * in order to the front of anc); the R = M - sum n_i draws left are
- * multinomial on the residual weights M w_i / wsum - n_i (the classic
- * residual scheme), written sorted after the copies. The residual weights
- * are recomputed by the same expression rather than stored. */
 /* M w_i / wsum = x split into copies n and residual r = x - n >= 0. A value
  * within about four units in the last place below a whole number is taken
  * as that number, so equal weights give exactly one copy each rather than
@@ -195,15 +206,20 @@ static double split_copies(double x, double *r)
     return n;
 }
 
+/* Residual: member i first gets n_i = floor(M w_i / wsum) copies (written
+ * in order to the front of anc); the R = M - sum n_i draws left are
+ * multinomial on the residual weights M w_i / wsum - n_i (the classic
+ * residual scheme), written sorted after the copies. The residual weights
+ * are recomputed by the same expression rather than stored. */
 static void run_residual(size_t N, const double *w, double wsum, size_t M,
                          sl_stream *s, double *work, uint32_t *anc)
 {
-    const double scale = (double)M / wsum;
+    const double sc = weight_scale(wsum), scale = (double)M / (wsum * sc);
     double rsum = 0, c = 0, r;
     size_t i, k = 0, R, j;
 
     for (i = 0; i < N; i++) {
-        size_t copies = (size_t)split_copies(w[i] * scale, &r);
+        size_t copies = (size_t)split_copies(w[i] * sc * scale, &r);
         if (copies > M - k) /* rounding can only overshoot at the end */
             copies = M - k;
         for (j = 0; j < copies; j++)
@@ -220,7 +236,7 @@ static void run_residual(size_t N, const double *w, double wsum, size_t M,
     sorted_positions(s, R, rsum, work);
     j = 0;
     for (i = 0; i < N && j < R; i++) {
-        split_copies(w[i] * scale, &r);
+        split_copies(w[i] * sc * scale, &r);
         c += r;
         while (j < R && work[j] < c)
             anc[k + j++] = (uint32_t)i;
@@ -229,7 +245,7 @@ static void run_residual(size_t N, const double *w, double wsum, size_t M,
     if (j < R) {
         uint32_t last = 0;
         for (i = N; i > 0; i--) {
-            split_copies(w[i - 1] * scale, &r);
+            split_copies(w[i - 1] * sc * scale, &r);
             if (r > 0) {
                 last = (uint32_t)(i - 1);
                 break;

@@ -37,6 +37,67 @@ struct sl_model {
     void *ctx;        /* the model's own data (matrices, a callback, ...) */
 };
 
+/* ------------------------------------------------------------------------
+ * Model definitions: what a built-in or a user's compiled model supplies.
+ * The engine wraps a definition and an integrator into an sl_model.
+ * Every function works on one member: x has n entries, p n_param, u
+ * n_forcing (the member's forcing values at the start of the step), ev
+ * n_event (the member's values of one event). They must not allocate and
+ * must be safe to call from several threads at once.
+ * ---------------------------------------------------------------------- */
+
+typedef struct sl_model_def sl_model_def;
+
+/* dx/dt = f(t, x, p, u) */
+typedef void (*sl_rhs_fn)(const sl_model_def *def, size_t n, double t,
+                          const double *x, const double *p, const double *u,
+                          double *dxdt);
+/* x <- g(t, dt, x, p, u): a discrete step map */
+typedef void (*sl_map_fn)(const sl_model_def *def, size_t n, double t,
+                          double dt, double *x, const double *p,
+                          const double *u);
+/* x <- J(t, x, p, ev): the jump applied once at an event time */
+typedef void (*sl_jump_fn)(const sl_model_def *def, size_t n, double t,
+                           double *x, const double *p, const double *ev);
+/* Optional fast path of a discrete map: advance `count` members at once
+ * (X n x count, P n_param x count, U n_forcing x count, column-major);
+ * `work` holds block_work(n, count) doubles. */
+typedef void (*sl_map_block_fn)(const sl_model_def *def, size_t n,
+                                size_t count, double t, double dt, double *X,
+                                const double *P, const double *U,
+                                double *work);
+
+struct sl_model_def {
+    const char *name;
+    const char *summary;          /* one line: what the model is */
+    size_t n_state;               /* 0: the user chooses n (>= n_min) */
+    size_t n_min;
+    size_t n_param, n_forcing, n_event;
+    const char *const *state_names;   /* NULL when n varies: x1, x2, ... */
+    const char *const *param_names;
+    const char *const *forcing_names;
+    const char *const *event_names;
+    const double *x0;             /* default initial state, NULL = zeros */
+    const double *p_default;      /* n_param defaults */
+    const double *p_lower;        /* n_param bounds (-Inf/Inf: none) */
+    const double *p_upper;
+    double dt;                    /* default step */
+    const char *integrator;       /* default integrator name */
+    sl_rhs_fn rhs;                /* continuous dynamics, or NULL */
+    sl_map_fn map;                /* discrete map, or NULL */
+    sl_jump_fn jump;              /* event map, or NULL (n_event = 0) */
+    sl_map_block_fn map_block;    /* optional fast path of map */
+    size_t (*block_work)(size_t n, size_t count);
+};
+
+/* The built-in definition with this name ("lorenz63", "lorenz96", "flood",
+ * "gr4j"), or NULL. */
+const sl_model_def *sl_model_def_find(const char *name);
+
+/* Number of built-in definitions, and the k-th (for listings). */
+size_t sl_model_def_count(void);
+const sl_model_def *sl_model_def_get(size_t k);
+
 /* The built-in linear-Gaussian model x_k = A x_{k-1} + B u_k + c + L e_k,
  * e_k ~ N(0, I): A (n x n), B (n x q, may be NULL when q = 0), c (n, may be
  * NULL), L (n x n lower-triangular factor of the noise covariance Q, may be

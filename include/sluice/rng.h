@@ -20,6 +20,7 @@ enum {
     SL_PURPOSE_RESAMPLE = 6,    /* the resampling uniforms of one cycle */
     SL_PURPOSE_OBS = 7,         /* synthetic observations of a twin run */
     SL_PURPOSE_ANALYSIS = 8,    /* perturbed observations of a stochastic EnKF */
+    SL_PURPOSE_EVENT = 9,       /* perturbation of event values (flood levels) */
     SL_PURPOSE_USER = 64        /* first value left to callers */
 };
 
@@ -50,6 +51,15 @@ double sl_u01(uint64_t bits);
 /* Standard normal by the 256-layer ziggurat (Marsaglia & Tsang 2000), with
  * the layer, sign and magnitude taken from independent bits. */
 double sl_stream_normal(sl_stream *s);
+
+/* The first k normals of the streams (seed, m, cycle, purpose) of members
+ * m = first .. first+count-1: out[i + j*ldo] is the i-th draw of member
+ * first+j, bit-identical to drawing them one by one with sl_stream_normal
+ * from a freshly initialised stream. The Philox blocks of several members
+ * are computed side by side, which the compiler can vectorise. */
+void sl_normals_members(uint64_t seed, uint32_t first, size_t count,
+                        uint32_t cycle, uint32_t purpose, size_t k,
+                        double *out, size_t ldo);
 
 /* Fill out[0..n-1] with uniforms / normals from one stream. */
 void sl_stream_uniforms(sl_stream *s, size_t n, double *out);

@@ -260,8 +260,9 @@ int main(void)
      * or ceil(M w_i) offspring (Kitagawa 1996); every scheme returns M
      * indices in 0..N-1, never a member of weight zero, sorted (residual:
      * copies in order, then the random part sorted). Weights span
-     * near-uniform, very uneven (u^8), ~30% exact zeros and scales 1e-300
-     * and 1e290 (not normalised). */
+     * near-uniform, very uneven (u^8), ~30% exact zeros and scales 1e-300,
+     * 1e290, 1e306 (sums near the largest double) and 1e-318 (subnormal
+     * weights); none normalised. */
     {
         sl_stream g;
         unsigned fails[4] = {0, 0, 0, 0}, zero_hit = 0, range = 0, order = 0,
@@ -272,8 +273,9 @@ int main(void)
         for (trial = 0; trial < 4000; trial++) {
             size_t N = 1 + (size_t)(sl_stream_u64(&g) % 60);
             size_t M = 1 + (size_t)(sl_stream_u64(&g) % 200);
-            unsigned kind = (unsigned)(trial % 5);
-            double wsum = 0, scale = kind == 3 ? 1e-300 : (kind == 4 ? 1e290 : 1);
+            unsigned kind = (unsigned)(trial % 7);
+            const double scales[7] = {1, 1, 1, 1e-300, 1e290, 1e-318, 1e306};
+            double wsum = 0, scale = scales[kind];
             for (i = 0; i < N; i++) {
                 double u = sl_stream_uniform(&g);
                 if (kind == 1)
@@ -475,6 +477,33 @@ int main(void)
             w[0] = 0.2;
             w[1] = 0.5;
             w[2] = 0.3;
+        }
+    }
+
+    /* Extreme sums: every weight the smallest subnormal, or a sum within
+     * a factor 2 of the largest double; each scheme terminates with valid
+     * ancestors, and systematic gives each member M/N copies exactly. */
+    {
+        double w[8];
+        for (s = 0; s < 4; s++) {
+            for (i = 0; i < 8; i++)
+                w[i] = i % 2 ? 4.9e-324 : 0;
+            st = draw(schemes[s], 8, w, 12, 5u, 1, anc, &err);
+            offspring(8, 12, anc, n);
+            CHECK(st == SL_OK && n[0] + n[2] + n[4] + n[6] == 0,
+                  "%s: subnormal weights", schemes[s]->name);
+            if (s == 0)
+                CHECK(n[1] == 3 && n[3] == 3 && n[5] == 3 && n[7] == 3,
+                      "systematic subnormal: %u %u %u %u", n[1], n[3], n[5],
+                      n[7]);
+            for (i = 0; i < 8; i++)
+                w[i] = 1.1e308 / 8;
+            st = draw(schemes[s], 8, w, 16, 5u, 1, anc, &err);
+            offspring(8, 16, anc, n);
+            for (i = 0; i < 8 && (s == 3 || n[i] == 2); i++)
+                ;
+            CHECK(st == SL_OK && i == 8, "%s: sum near the largest double",
+                  schemes[s]->name);
         }
     }
 

@@ -138,5 +138,23 @@ int main(void)
             beyond += fabs(x[i]) > 3.0;
         CHECK_CLOSE((double)beyond, expect, 4 * sqrt(expect), "normal tail count");
     }
+    /* Batched normals of many members are the one-by-one draws, bit for
+     * bit, for every number of draws per member and any block start. */
+    {
+        static double batch[37 * 21];
+        size_t k, j, bad = 0, firsts[3] = {0, 5, 1000003};
+        size_t f;
+        for (f = 0; f < 3; f++)
+            for (k = 1; k <= 21; k += 4) {
+                sl_normals_members(0xfeedbeefcafeULL, (uint32_t)firsts[f], 37, 9, 3, k, batch, 21);
+                for (j = 0; j < 37; j++) {
+                    sl_stream one;
+                    sl_stream_init(&one, 0xfeedbeefcafeULL, (uint32_t)(firsts[f] + j), 9, 3);
+                    for (i = 0; i < k; i++)
+                        bad += batch[i + j * 21] != sl_stream_normal(&one);
+                }
+            }
+        CHECK(bad == 0, "%lu batched normals differ from the stream's", (unsigned long)bad);
+    }
     CHECK_DONE("test_rng");
 }

@@ -209,3 +209,12 @@
 %! % the progress helper itself prints nothing unless asked
 %! assert (evalc ('sluice.kernel.progress (0.5, 3, 0)'), '');
 %! assert (~isempty (strfind (evalc ('sluice.kernel.progress (0.5, 3, 1)'), ' 50% done')));
+
+%!test
+%! % ranges (1:5) are arrays like any other for every gateway
+%! assert (sluice.kernel.resample (1:5, 'systematic', 5, 1, 0), [2 3 4 5 5]);
+%! f = @(t, X, P, U, dt) 1:columns (X);
+%! spec = sluice.model (f, 'n', 1);
+%! r = sluice.filter (spec, [], struct ('time', 1, 'variable', {{'x1'}}, 'value', 1, 'sigma', 1), ...
+%!                    'members', 5, 'quantiles', 0.1:0.4:0.9, 'times', 1:1);
+%! assert (squeeze (r.states.quantiles), [1 1 2]);

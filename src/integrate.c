@@ -1,0 +1,382 @@
+/* integrate.c - Euler, RK4, Dormand-Prince 5(4), discrete maps and events;
+ * the engine model built from a model definition. */
+#include "sluice/integrate.h"
+
+#include <math.h>
+#include <string.h>
+
+#include "sluice/pf.h"
+#include "sluice/rng.h"
+
+const sl_integrator sl_integrator_euler = {"euler", 0, 1, 1};
+const sl_integrator sl_integrator_rk4 = {"rk4", 0, 4, 5};
+const sl_integrator sl_integrator_dopri5 = {"dopri5", 1, 5, 9};
+const sl_integrator sl_integrator_discrete = {"discrete", 0, 0, 0};
+
+static const sl_integrator *const integrators[] = {
+    &sl_integrator_euler, &sl_integrator_rk4, &sl_integrator_dopri5,
+    &sl_integrator_discrete};
+
+const sl_integrator *sl_integrator_find(const char *name)
+{
+    size_t k;
+    if (name == NULL)
+        return NULL;
+    for (k = 0; k < sizeof integrators / sizeof *integrators; k++)
+        if (strcmp(name, integrators[k]->name) == 0)
+            return integrators[k];
+    return NULL;
+}
+
+static void axpy_to(size_t len, double *out, const double *x, double a,
+                    const double *k)
+{
+    size_t i;
+    for (i = 0; i < len; i++)
+        out[i] = x[i] + a * k[i];
+}
+
+/* Dormand & Prince (1980) 5(4) coefficients: the fifth-order solution is
+ * propagated, the embedded fourth-order one gives the error estimate. */
+static const double c2 = 1.0 / 5, c3 = 3.0 / 10, c4 = 4.0 / 5, c5 = 8.0 / 9;
+static const double a21 = 1.0 / 5;
+static const double a31 = 3.0 / 40, a32 = 9.0 / 40;
+static const double a41 = 44.0 / 45, a42 = -56.0 / 15, a43 = 32.0 / 9;
+static const double a51 = 19372.0 / 6561, a52 = -25360.0 / 2187,
+                    a53 = 64448.0 / 6561, a54 = -212.0 / 729;
+static const double a61 = 9017.0 / 3168, a62 = -355.0 / 33,
+                    a63 = 46732.0 / 5247, a64 = 49.0 / 176,
+                    a65 = -5103.0 / 18656;
+static const double b1 = 35.0 / 384, b3 = 500.0 / 1113, b4 = 125.0 / 192,
+                    b5 = -2187.0 / 6784, b6 = 11.0 / 84;
+static const double e1 = 71.0 / 57600, e3 = -71.0 / 16695, e4 = 71.0 / 1920,
+                    e5 = -17253.0 / 339200, e6 = 22.0 / 525, e7 = -1.0 / 40;
+
+static sl_status dopri5(sl_block_rhs_fn f, void *ctx, size_t n, size_t first,
+                        size_t count, double t, double h, double *X,
+                        const double *P, const double *U,
+                        const sl_tolerance *tol, double *work, size_t *nrhs,
+                        sl_error *err)
+{
+    const size_t len = n * count;
+    double *k1 = work, *k2 = k1 + len, *k3 = k2 + len, *k4 = k3 + len,
+           *k5 = k4 + len, *k6 = k5 + len, *k7 = k6 + len, *y = k7 + len,
+           *yn = y + len;
+    const double tend = t + h, hmin = tol->hmin_rel * h;
+    double step = h, tc = t;
+    size_t attempts = 0, i;
+    sl_status st;
+    int have_k1 = 0;
+    while (tc < tend) {
+        double e2 = 0.0, q;
+        int last = 0;
+        if (step >= tend - tc) {
+            step = tend - tc;
+            last = 1;
+        }
+        if (++attempts > tol->max_steps || step < hmin || !(step > 0))
+            goto blown;
+        if (!have_k1) {
+            if ((st = f(ctx, tc, first, count, X, P, U, k1, err)) != SL_OK)
+                return st;
+            if (nrhs) (*nrhs)++;
+            have_k1 = 1;
+        }
+        for (i = 0; i < len; i++) y[i] = X[i] + step * a21 * k1[i];
+        if ((st = f(ctx, tc + c2 * step, first, count, y, P, U, k2, err)) != SL_OK) return st;
+        for (i = 0; i < len; i++) y[i] = X[i] + step * (a31 * k1[i] + a32 * k2[i]);
+        if ((st = f(ctx, tc + c3 * step, first, count, y, P, U, k3, err)) != SL_OK) return st;
+        for (i = 0; i < len; i++) y[i] = X[i] + step * (a41 * k1[i] + a42 * k2[i] + a43 * k3[i]);
+        if ((st = f(ctx, tc + c4 * step, first, count, y, P, U, k4, err)) != SL_OK) return st;
+        for (i = 0; i < len; i++)
+            y[i] = X[i] + step * (a51 * k1[i] + a52 * k2[i] + a53 * k3[i] + a54 * k4[i]);
+        if ((st = f(ctx, tc + c5 * step, first, count, y, P, U, k5, err)) != SL_OK) return st;
+        for (i = 0; i < len; i++)
+            y[i] = X[i] + step * (a61 * k1[i] + a62 * k2[i] + a63 * k3[i] + a64 * k4[i] +
+                                  a65 * k5[i]);
+        if ((st = f(ctx, tc + step, first, count, y, P, U, k6, err)) != SL_OK) return st;
+        for (i = 0; i < len; i++)
+            yn[i] = X[i] + step * (b1 * k1[i] + b3 * k3[i] + b4 * k4[i] + b5 * k5[i] +
+                                   b6 * k6[i]);
+        if ((st = f(ctx, tc + step, first, count, yn, P, U, k7, err)) != SL_OK) return st;
+        if (nrhs) (*nrhs) += 6;
+        for (i = 0; i < len; i++) {
+            double ei = step * (e1 * k1[i] + e3 * k3[i] + e4 * k4[i] + e5 * k5[i] +
+                                e6 * k6[i] + e7 * k7[i]);
+            double sc = tol->atol + tol->rtol * fmax(fabs(X[i]), fabs(yn[i]));
+            double r = ei / sc;
+            e2 += r * r;
+        }
+        e2 = sqrt(e2 / (double)len);
+        if (e2 <= 1.0) {
+            /* accept; the last stage is the next step's first (FSAL) */
+            memcpy(X, yn, len * sizeof(double));
+            memcpy(k1, k7, len * sizeof(double));
+            tc = last ? tend : tc + step;
+            q = e2 > 0 ? 0.9 * pow(e2, -0.2) : 5.0;
+            step *= q > 5.0 ? 5.0 : (q < 0.2 ? 0.2 : q);
+        } else {
+            /* reject: a NaN error (a stage left the model's domain) shrinks
+             * the step the most */
+            q = isfinite(e2) ? 0.9 * pow(e2, -0.2) : 0.2;
+            step *= q < 0.2 ? 0.2 : (q > 1.0 ? 0.9 : q);
+        }
+    }
+    return SL_OK;
+blown:
+    for (i = 0; i < len; i++)
+        X[i] = NAN;
+    return SL_OK;
+}
+
+sl_status sl_integrate_block(const sl_integrator *method, sl_block_rhs_fn f,
+                             void *ctx, size_t n, size_t first, size_t count,
+                             double t, double h, double *X, const double *P,
+                             const double *U, const sl_tolerance *tol,
+                             double *work, size_t *nrhs, sl_error *err)
+{
+    const size_t len = n * count;
+    size_t i;
+    sl_status st;
+    if (method == &sl_integrator_dopri5)
+        return dopri5(f, ctx, n, first, count, t, h, X, P, U, tol, work, nrhs, err);
+    if (method == &sl_integrator_euler) {
+        if ((st = f(ctx, t, first, count, X, P, U, work, err)) != SL_OK)
+            return st;
+        if (nrhs) (*nrhs)++;
+        for (i = 0; i < len; i++)
+            X[i] += h * work[i];
+        return SL_OK;
+    }
+    if (method == &sl_integrator_rk4) {
+        double *k1 = work, *k2 = k1 + len, *k3 = k2 + len, *k4 = k3 + len,
+               *y = k4 + len;
+        if ((st = f(ctx, t, first, count, X, P, U, k1, err)) != SL_OK) return st;
+        axpy_to(len, y, X, 0.5 * h, k1);
+        if ((st = f(ctx, t + 0.5 * h, first, count, y, P, U, k2, err)) != SL_OK) return st;
+        axpy_to(len, y, X, 0.5 * h, k2);
+        if ((st = f(ctx, t + 0.5 * h, first, count, y, P, U, k3, err)) != SL_OK) return st;
+        axpy_to(len, y, X, h, k3);
+        if ((st = f(ctx, t + h, first, count, y, P, U, k4, err)) != SL_OK) return st;
+        if (nrhs) (*nrhs) += 4;
+        for (i = 0; i < len; i++)
+            X[i] += (h / 6.0) * (k1[i] + 2.0 * k2[i] + 2.0 * k3[i] + k4[i]);
+        return SL_OK;
+    }
+    return sl_fail(err, SL_EINVAL, "badintegrator",
+                   "the integrator '%s' does not integrate a right-hand side",
+                   method != NULL ? method->name : "(none)");
+}
+
+void sl_event_values(const sl_events *events, size_t e, size_t member,
+                     double *ev)
+{
+    size_t i;
+    sl_stream s;
+    int drawn = 0;
+    for (i = 0; i < events->nv; i++) {
+        double base = events->value[i + e * events->nv];
+        int kind = events->noise != NULL ? events->noise[i] : SL_FORCING_EXACT;
+        double z, sd;
+        if (kind == SL_FORCING_EXACT) {
+            ev[i] = base;
+            continue;
+        }
+        if (!drawn) {
+            sl_stream_init(&s, events->seed, (uint32_t)member, (uint32_t)e,
+                           SL_PURPOSE_EVENT);
+            drawn = 1;
+        }
+        sd = events->sd[i];
+        z = sl_stream_normal(&s);
+        ev[i] = kind == SL_FORCING_ADDITIVE ? base + sd * z
+                                            : base * exp(sd * z - 0.5 * sd * sd);
+    }
+}
+
+/* ---------------------------------------------------- the engine model */
+
+static sl_status def_block_rhs(void *ctx, double t, size_t first,
+                               size_t count, const double *X, const double *P,
+                               const double *U, double *dX, sl_error *err)
+{
+    const sl_def_model *dm = (const sl_def_model *)ctx;
+    const sl_model_def *def = dm->def;
+    const size_t n = dm->n, p = def->n_param, q = def->n_forcing;
+    size_t j;
+    (void)first;
+    (void)err;
+    for (j = 0; j < count; j++)
+        def->rhs(def, n, t, X + j * n, P + j * p, U + j * q, dX + j * n);
+    return SL_OK;
+}
+
+/* First event with time > t (events sorted). */
+static size_t first_event_after(const sl_events *ev, double t)
+{
+    size_t lo = 0, hi = ev->count;
+    while (lo < hi) {
+        size_t mid = lo + (hi - lo) / 2;
+        if (ev->time[mid] > t)
+            hi = mid;
+        else
+            lo = mid + 1;
+    }
+    return lo;
+}
+
+static sl_status advance_piece(const sl_def_model *dm, double t, double h,
+                               size_t first, size_t count, double *X,
+                               const double *P, const double *U, double *work,
+                               sl_error *err)
+{
+    const sl_model_def *def = dm->def;
+    const size_t n = dm->n, p = def->n_param, q = def->n_forcing;
+    size_t j;
+    if (!(h > 0))
+        return SL_OK;
+    if (dm->method == &sl_integrator_discrete) {
+        if (def->map_block != NULL) {
+            def->map_block(def, n, count, t, h, X, P, U, work);
+        } else {
+            for (j = 0; j < count; j++)
+                def->map(def, n, t, h, X + j * n, P + j * p, U + j * q);
+        }
+        return SL_OK;
+    }
+    if (dm->method->adaptive) {
+        /* each member its own steps: one stiff member slows only itself */
+        for (j = 0; j < count; j++) {
+            sl_status st = sl_integrate_block(dm->method, def_block_rhs, (void *)(uintptr_t)dm,
+                                              n, first + j, 1, t, h, X + j * n,
+                                              P + j * p, U + j * q, &dm->tol,
+                                              work, NULL, err);
+            if (st != SL_OK)
+                return st;
+        }
+        return SL_OK;
+    }
+    return sl_integrate_block(dm->method, def_block_rhs, (void *)(uintptr_t)dm, n,
+                              first, count, t, h, X, P, U, &dm->tol, work, NULL, err);
+}
+
+static sl_status def_step(const sl_model *model, double t, double h,
+                          size_t first, size_t count, double *X,
+                          const double *P, const double *U, uint64_t seed,
+                          uint32_t step, double *work, sl_error *err)
+{
+    const sl_def_model *dm = (const sl_def_model *)model->ctx;
+    const sl_model_def *def = dm->def;
+    const size_t n = dm->n, p = def->n_param, q = def->n_forcing;
+    const sl_events *ev = dm->events;
+    double *evv = work, *wk = work + (def->n_event + 1);
+    size_t b0;
+    (void)seed;
+    (void)step;
+    for (b0 = 0; b0 < count; b0 += SL_MODEL_BLOCK) {
+        size_t cnt = count - b0 < SL_MODEL_BLOCK ? count - b0 : SL_MODEL_BLOCK;
+        double *Xb = X + b0 * n;
+        const double *Pb = P + b0 * p, *Ub = U + b0 * q;
+        double tc = t, tend = t + h;
+        size_t e = ev != NULL && ev->count > 0 ? first_event_after(ev, t) : 0, j;
+        sl_status st;
+        if (ev != NULL)
+            for (; e < ev->count && ev->time[e] <= tend; e++) {
+                st = advance_piece(dm, tc, ev->time[e] - tc, first + b0, cnt, Xb, Pb,
+                                   Ub, wk, err);
+                if (st != SL_OK)
+                    return st;
+                tc = ev->time[e];
+                for (j = 0; j < cnt; j++) {
+                    sl_event_values(ev, e, first + b0 + j, evv);
+                    def->jump(def, n, tc, Xb + j * n, Pb + j * p, evv);
+                }
+            }
+        st = advance_piece(dm, tc, tend - tc, first + b0, cnt, Xb, Pb, Ub, wk, err);
+        if (st != SL_OK)
+            return st;
+    }
+    return SL_OK;
+}
+
+sl_status sl_def_model_init(sl_model *model, sl_def_model *dm,
+                            const sl_model_def *def, size_t n,
+                            const sl_integrator *method, double dt,
+                            const sl_tolerance *tol, const sl_events *events,
+                            sl_error *err)
+{
+    size_t k, work;
+    if (def == NULL)
+        return sl_fail(err, SL_EINVAL, "badmodel", "no model definition");
+    if (def->n_state > 0)
+        n = def->n_state;
+    if (n < 1 || n < def->n_min)
+        return sl_fail(err, SL_EINVAL, "badmodel",
+                       "model '%s' needs at least %lu states, got %lu", def->name,
+                       (unsigned long)(def->n_min > 1 ? def->n_min : 1), (unsigned long)n);
+    if (method == NULL)
+        method = sl_integrator_find(def->integrator);
+    if (method == NULL)
+        return sl_fail(err, SL_EINVAL, "badintegrator", "no integrator for model '%s'",
+                       def->name);
+    if (method == &sl_integrator_discrete ? def->map == NULL && def->map_block == NULL
+                                          : def->rhs == NULL)
+        return sl_fail(err, SL_EINVAL, "badintegrator",
+                       "model '%s' has no %s, so the integrator '%s' cannot drive it",
+                       def->name, method == &sl_integrator_discrete ? "step map" : "right-hand side",
+                       method->name);
+    if (dt <= 0)
+        dt = def->dt;
+    if (!(dt > 0) || !isfinite(dt))
+        return sl_fail(err, SL_EINVAL, "badstep", "the time step must be finite and > 0");
+    memset(dm, 0, sizeof *dm);
+    dm->def = def;
+    dm->n = n;
+    dm->method = method;
+    if (tol != NULL) {
+        dm->tol = *tol;
+    } else {
+        dm->tol.rtol = 1e-6;
+        dm->tol.atol = 1e-9;
+    }
+    if (dm->tol.hmin_rel <= 0)
+        dm->tol.hmin_rel = 1e-12;
+    if (dm->tol.max_steps == 0)
+        dm->tol.max_steps = 100000;
+    if (!(dm->tol.rtol >= 0) || !(dm->tol.atol >= 0) || !(dm->tol.rtol + dm->tol.atol > 0) ||
+        !isfinite(dm->tol.rtol) || !isfinite(dm->tol.atol))
+        return sl_fail(err, SL_EINVAL, "badtolerance",
+                       "tolerances must be finite, >= 0 and not both zero");
+    if (def->n_event > 0 && events != NULL) {
+        if (events->nv != def->n_event || def->jump == NULL)
+            return sl_fail(err, SL_EINVAL, "badevents",
+                           "model '%s' takes %lu values per event, got %lu", def->name,
+                           (unsigned long)def->n_event, (unsigned long)events->nv);
+        for (k = 0; k < events->count; k++)
+            if (!isfinite(events->time[k]) || (k > 0 && !(events->time[k] > events->time[k - 1])))
+                return sl_fail(err, SL_EINVAL, "badevents",
+                               "event times must be finite and increasing (event %lu)",
+                               (unsigned long)(k + 1));
+        for (k = 0; k < events->count * events->nv; k++)
+            if (!isfinite(events->value[k]))
+                return sl_fail(err, SL_EINVAL, "badevents", "event value %lu is not finite",
+                               (unsigned long)(k + 1));
+        dm->events = events;
+    } else if (events != NULL && events->count > 0) {
+        return sl_fail(err, SL_EINVAL, "badevents", "model '%s' takes no events", def->name);
+    }
+    work = method->stages * n * SL_MODEL_BLOCK + def->n_event + 1;
+    if (def->block_work != NULL)
+        work += def->block_work(n, SL_MODEL_BLOCK);
+    model->name = def->name;
+    model->n_state = n;
+    model->n_param = def->n_param;
+    model->n_forcing = def->n_forcing;
+    model->dt = dt;
+    model->discrete = method == &sl_integrator_discrete;
+    model->thread_safe = 1;
+    model->work = work;
+    model->step = def_step;
+    model->ctx = dm;
+    return SL_OK;
+}
