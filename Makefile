@@ -38,7 +38,7 @@ DEPS     := $(BUILD)/.deps-ok
 
 .PHONY: all deps lib mex ctests check check-c check-octave check-asan demo bench clean
 # keep the object files of the gateways (they are intermediate to make)
-.SECONDARY:
+.PRECIOUS: $(BUILD)/mex/%.o
 
 all: mex
 

@@ -9,34 +9,31 @@
 
 #include "mexutil.h"
 
-static sl_status handle_step(const sl_model *model, double t, double dt,
-                             size_t first, size_t count, double *X,
-                             const double *P, const double *U, uint64_t seed,
-                             uint32_t step, double *work, sl_error *err)
+/* Call the user's function with (t, X, P, U[, dt]); the result must be a
+ * real double n x count matrix, copied to out. */
+static sl_status call_user(slm_handle_model *hm, double t, size_t count,
+                           const double *X, const double *P, const double *U,
+                           double dt, int with_dt, double *out, sl_error *err)
 {
-    slm_handle_model *hm = (slm_handle_model *)model->ctx;
-    mxArray *in[6], *out[3] = {NULL, NULL, NULL}, *trap;
+    mxArray *in[6], *res[3] = {NULL, NULL, NULL}, *trap;
     const size_t n = hm->n, p = hm->p, q = hm->q;
+    const int nin = with_dt ? 6 : 5;
     sl_status st = SL_OK;
     int k;
-    (void)first;
-    (void)seed;
-    (void)step;
-    (void)work;
     /* the handle is passed as it is, never modified or destroyed */
     in[0] = (mxArray *)(uintptr_t)hm->fun;
     in[1] = mxCreateDoubleScalar(t);
     in[2] = mxCreateUninitNumericMatrix(n, count, mxDOUBLE_CLASS, mxREAL);
     in[3] = mxCreateUninitNumericMatrix(p, count, mxDOUBLE_CLASS, mxREAL);
     in[4] = mxCreateUninitNumericMatrix(q, count, mxDOUBLE_CLASS, mxREAL);
-    in[5] = mxCreateDoubleScalar(dt);
+    in[5] = with_dt ? mxCreateDoubleScalar(dt) : NULL;
     memcpy(mxGetDoubles(in[2]), X, n * count * sizeof(double));
     if (p)
         memcpy(mxGetDoubles(in[3]), P, p * count * sizeof(double));
     if (q)
         memcpy(mxGetDoubles(in[4]), U, q * count * sizeof(double));
-    trap = mexCallMATLABWithTrap(3, out, 6, in, "sluice.kernel.guarded_call");
-    for (k = 1; k < 6; k++)
+    trap = mexCallMATLABWithTrap(3, res, nin, in, "sluice.kernel.guarded_call");
+    for (k = 1; k < nin; k++)
         mxDestroyArray(in[k]);
     if (trap != NULL) {
         hm->interrupted = 1;
@@ -45,19 +42,19 @@ static sl_status handle_step(const sl_model *model, double t, double dt,
         hm->identifier[0] = '\0';
         return sl_fail(err, SL_EINTERRUPT, "interrupted", "%s", hm->message);
     }
-    if (mxGetNumberOfElements(out[1]) > 0) {
-        char *msg = mxArrayToString(out[1]), *id = mxArrayToString(out[2]);
+    if (mxGetNumberOfElements(res[1]) > 0) {
+        char *msg = mxArrayToString(res[1]), *id = mxArrayToString(res[2]);
         snprintf(hm->message, sizeof hm->message,
                  "the model function failed at t = %g: %s", t, msg ? msg : "");
         snprintf(hm->identifier, sizeof hm->identifier, "%s", id ? id : "");
         mxFree(msg);
         mxFree(id);
         st = sl_fail(err, SL_EMODEL, "modelfailed", "%s", hm->message);
-    } else if (!mxIsDouble(out[0]) || mxIsComplex(out[0]) || mxIsSparse(out[0]) ||
-               mxGetNumberOfDimensions(out[0]) != 2 || mxGetM(out[0]) != n ||
-               mxGetN(out[0]) != count) {
+    } else if (!mxIsDouble(res[0]) || mxIsComplex(res[0]) || mxIsSparse(res[0]) ||
+               mxGetNumberOfDimensions(res[0]) != 2 || mxGetM(res[0]) != n ||
+               mxGetN(res[0]) != count) {
         char got[96];
-        slm_describe(out[0], got, sizeof got);
+        slm_describe(res[0], got, sizeof got);
         snprintf(hm->message, sizeof hm->message,
                  "the model function must return a real double %lux%lu matrix "
                  "(states x members), got %s at t = %g",
@@ -65,32 +62,73 @@ static sl_status handle_step(const sl_model *model, double t, double dt,
         snprintf(hm->identifier, sizeof hm->identifier, "sluice:filter:badmodeloutput");
         st = sl_fail(err, SL_EMODEL, "badmodeloutput", "%s", hm->message);
     } else {
-        memcpy(X, slm_doubles(out[0]), n * count * sizeof(double));
+        memcpy(out, slm_doubles(res[0]), n * count * sizeof(double));
     }
     for (k = 0; k < 3; k++)
-        if (out[k] != NULL)
-            mxDestroyArray(out[k]);
+        if (res[k] != NULL)
+            mxDestroyArray(res[k]);
     return st;
+}
+
+static sl_status handle_step(const sl_model *model, double t, double t_end,
+                             size_t first, size_t count, double *X,
+                             const double *P, const double *U, uint64_t seed,
+                             uint32_t step, double *work, sl_error *err)
+{
+    slm_handle_model *hm = (slm_handle_model *)model->ctx;
+    (void)first;
+    (void)seed;
+    (void)step;
+    (void)work;
+    return call_user(hm, t, count, X, P, U, t_end - t, 1, X, err);
+}
+
+static sl_status handle_block_rhs(void *ctx, double t, size_t first,
+                                  size_t count, const double *X,
+                                  const double *P, const double *U,
+                                  double *dX, sl_error *err)
+{
+    (void)first;
+    return call_user((slm_handle_model *)ctx, t, count, X, P, U, 0.0, 0, dX, err);
+}
+
+static sl_status handle_rhs_step(const sl_model *model, double t, double t_end,
+                                 size_t first, size_t count, double *X,
+                                 const double *P, const double *U,
+                                 uint64_t seed, uint32_t step, double *work,
+                                 sl_error *err)
+{
+    slm_handle_model *hm = (slm_handle_model *)model->ctx;
+    (void)seed;
+    (void)step;
+    return sl_integrate_block(hm->method, handle_block_rhs, hm, hm->n, first,
+                              count, t, t_end - t, X, P, U, &hm->tol, work, NULL, err);
 }
 
 void slm_handle_model_init(sl_model *model, slm_handle_model *hm,
                            const mxArray *fun, size_t n, size_t p, size_t q,
-                           double dt)
+                           size_t N, double dt, const sl_integrator *method,
+                           const sl_tolerance *tol)
 {
     memset(hm, 0, sizeof *hm);
     hm->fun = fun;
     hm->n = n;
     hm->p = p;
     hm->q = q;
+    if (method == &sl_integrator_discrete)
+        method = NULL;
+    hm->method = method;
+    if (tol != NULL)
+        hm->tol = *tol;
     model->name = "octave function";
     model->n_state = n;
     model->n_param = p;
     model->n_forcing = q;
     model->dt = dt;
-    model->discrete = 1;
+    model->discrete = method == NULL;
     model->thread_safe = 0;
-    model->work = 0;
-    model->step = handle_step;
+    model->work = method != NULL ? method->stages * n * N : 0;
+    model->step = method != NULL ? handle_rhs_step : handle_step;
     model->ctx = hm;
 }
 

@@ -4,6 +4,7 @@
 #define SLUICE_MEXRUN_H
 
 #include "mex.h"
+#include "sluice/integrate.h"
 #include "sluice/model.h"
 
 /* A model whose step map is an Octave function X = f(t, X, P, U, dt),
@@ -13,15 +14,22 @@
 typedef struct {
     const mxArray *fun;
     size_t n, p, q;
+    const sl_integrator *method; /* NULL: fun is a step map */
+    sl_tolerance tol;
     char message[900];
     char identifier[128];
     int interrupted;
 } slm_handle_model;
 
-/* Fill `model` to call `fun` (which must outlive the run). */
+/* Fill `model` to call `fun` (which must outlive the run): a step map
+ * X = fun(t, X, P, U, dt) when `method` is NULL or the discrete
+ * integrator, else a right-hand side dX = fun(t, X, P, U) integrated by
+ * `method` over the whole ensemble (N members: the work it needs is sized
+ * for them). */
 void slm_handle_model_init(sl_model *model, slm_handle_model *hm,
                            const mxArray *fun, size_t n, size_t p, size_t q,
-                           double dt);
+                           size_t N, double dt, const sl_integrator *method,
+                           const sl_tolerance *tol);
 
 /* Raise the failure the handle model recorded (the user's own identifier
  * and message, or sluice:<fn>:interrupted). Never returns. */

@@ -6,12 +6,46 @@
 
 #include "mexrun.h"
 #include "mexutil.h"
+#include "sluice/integrate.h"
 #include "sluice/loglik.h"
 #include "sluice/model.h"
 #include "sluice/pf.h"
 #include "sluice/resample.h"
 
 static const char *FN = "filter";
+
+#ifdef SLUICE_USER_MODEL
+/* Gateways built by sluice.build_model link the user's definition. */
+const sl_model_def *sluice_user_model(void);
+#endif
+
+/* The integrator a config names ("" or absent: the model's default). */
+static const sl_integrator *config_integrator(const mxArray *c)
+{
+    const mxArray *f = slm_field(FN, c, "integrator", 0);
+    const sl_integrator *m;
+    char *name;
+    if (f == NULL || mxGetNumberOfElements(f) == 0)
+        return NULL;
+    name = slm_string(FN, f, 1, "integrator");
+    m = sl_integrator_find(name);
+    if (m == NULL)
+        slm_fail(FN, "badintegrator",
+                 "unknown integrator '%s' (euler, rk4, dopri5 or discrete)", name);
+    return m;
+}
+
+static void config_tolerance(const mxArray *c, sl_tolerance *tol)
+{
+    const mxArray *r = slm_field(FN, c, "rtol", 0), *a = slm_field(FN, c, "atol", 0);
+    memset(tol, 0, sizeof *tol);
+    tol->rtol = r != NULL && mxGetNumberOfElements(r) ? slm_scalar(FN, r, 1, "rtol") : 1e-6;
+    tol->atol = a != NULL && mxGetNumberOfElements(a) ? slm_scalar(FN, a, 1, "atol") : 1e-9;
+    if (!(tol->rtol >= 0) || !(tol->atol >= 0) || !(tol->rtol + tol->atol > 0))
+        slm_fail(FN, "badtolerance", "rtol and atol must be >= 0 and not both zero");
+    tol->hmin_rel = 1e-12;
+    tol->max_steps = 100000;
+}
 
 /* A field as a double matrix (rows x cols, 0 = any), flags as slm_matrix. */
 static const double *fmat(const mxArray *c, const char *name, size_t rows,
@@ -57,6 +91,10 @@ void mexFunction(int nlhs, mxArray *plhs[], int nrhs, const mxArray *prhs[])
     sl_model model;
     sl_linear lin;
     slm_handle_model hm;
+    sl_def_model dm;
+    sl_events events;
+    sl_tolerance tol;
+    int *enoise = NULL, history;
     slm_poll poll;
     sl_pf_config cfg;
     sl_pf_output out;
@@ -105,9 +143,54 @@ void mexFunction(int nlhs, mxArray *plhs[], int nrhs, const mxArray *prhs[])
             slm_raise(FN, &err);
     } else if (strcmp(kind, "handle") == 0) {
         const mxArray *fun = slm_field(FN, c, "fun", 1);
+        const sl_integrator *method = config_integrator(c);
         if (!mxIsClass(fun, "function_handle"))
             slm_fail(FN, "badmodel", "the model function must be a function handle");
-        slm_handle_model_init(&model, &hm, fun, n, p, q, dt);
+        config_tolerance(c, &tol);
+        slm_handle_model_init(&model, &hm, fun, n, p, q, N, dt, method, &tol);
+    } else if (strcmp(kind, "builtin") == 0 || strcmp(kind, "user") == 0) {
+        const sl_model_def *def = NULL;
+        const sl_integrator *method = config_integrator(c);
+        char *name = slm_string(FN, slm_field(FN, c, "model_name", 1), 1, "model_name");
+        if (strcmp(kind, "builtin") == 0)
+            def = sl_model_def_find(name);
+#ifdef SLUICE_USER_MODEL
+        else
+            def = sluice_user_model();
+#endif
+        if (def == NULL)
+            slm_fail(FN, "badmodel", "no compiled model '%s' in this gateway", name);
+        if (def->n_param != p || def->n_forcing != q || (def->n_state && def->n_state != n))
+            slm_fail(FN, "badmodel",
+                     "model '%s' has %lu states, %lu parameters and %lu forcings; the "
+                     "configuration has %lu, %lu and %lu", name,
+                     (unsigned long)def->n_state, (unsigned long)def->n_param,
+                     (unsigned long)def->n_forcing, (unsigned long)n, (unsigned long)p,
+                     (unsigned long)q);
+        config_tolerance(c, &tol);
+        memset(&events, 0, sizeof events);
+        if (def->n_event > 0) {
+            const mxArray *et = slm_field(FN, c, "event_time", 0);
+            events.nv = def->n_event;
+            if (et != NULL && mxGetNumberOfElements(et) > 0) {
+                events.count = mxGetNumberOfElements(et);
+                events.time = fmat(c, "event_time", 0, 0, SLM_VECTOR);
+                events.value = fmat(c, "event_value", def->n_event, events.count, 0);
+                if (numel_field(c, "event_noise") > 0) {
+                    const double *en = fmat(c, "event_noise", def->n_event, 0, SLM_VECTOR);
+                    enoise = (int *)slm_alloc(FN, def->n_event, sizeof(int));
+                    for (k = 0; k < def->n_event; k++)
+                        enoise[k] = (int)en[k];
+                    events.noise = enoise;
+                    events.sd = fmat(c, "event_sd", def->n_event, 0, SLM_VECTOR);
+                }
+            }
+        }
+        events.seed = (uint64_t)slm_integer(FN, slm_field(FN, c, "seed", 1), 1, "seed", 0,
+                                            9007199254740992.0);
+        if (sl_def_model_init(&model, &dm, def, n, method, dt, &tol,
+                              def->n_event > 0 ? &events : NULL, &err) != SL_OK)
+            slm_raise(FN, &err);
     } else {
         slm_fail(FN, "badmodel", "unknown model kind '%s'", kind);
     }
@@ -201,7 +284,8 @@ void mexFunction(int nlhs, mxArray *plhs[], int nrhs, const mxArray *prhs[])
     cfg.probs = numel_field(c, "probs") ? fmat(c, "probs", 0, 0, SLM_VECTOR) : NULL;
     cfg.nq = numel_field(c, "probs");
     nq = cfg.nq;
-    cfg.keep_history = fscalar(c, "history") != 0;
+    history = (int)slm_integer(FN, slm_field(FN, c, "history", 1), 1, "history", 0, 2);
+    cfg.keep_history = history != 0;
     slm_poll_init(&poll, (int)slm_integer(FN, slm_field(FN, c, "progress", 1), 1, "progress", 0, 2));
     cfg.poll = slm_poll_fn;
     cfg.poll_ctx = &poll;
@@ -257,6 +341,7 @@ void mexFunction(int nlhs, mxArray *plhs[], int nrhs, const mxArray *prhs[])
         ROWFIELD("nonfinite", out.nonfinite);
 #undef ROWFIELD
         if (cfg.keep_history) {
+            /* history 1: everything; 2: the states only (simulate, propagate) */
             mwSize d3[3];
             mxArray *h;
             size_t bytes;
@@ -267,16 +352,18 @@ void mexFunction(int nlhs, mxArray *plhs[], int nrhs, const mxArray *prhs[])
             h = mxCreateNumericArray(3, d3, mxDOUBLE_CLASS, mxREAL);
             out.hist_X = mxGetDoubles(h);
             mxSetField(res, 0, "history_X", h);
-            d3[0] = p;
-            h = mxCreateNumericArray(3, d3, mxDOUBLE_CLASS, mxREAL);
-            out.hist_P = mxGetDoubles(h);
-            mxSetField(res, 0, "history_P", h);
-            h = mxCreateDoubleMatrix(N, T, mxREAL);
-            out.hist_w = mxGetDoubles(h);
-            mxSetField(res, 0, "history_w", h);
-            h = mxCreateDoubleMatrix(N, T, mxREAL);
-            out.hist_a = mxGetDoubles(h);
-            mxSetField(res, 0, "history_ancestors", h);
+            if (history == 1) {
+                d3[0] = p;
+                h = mxCreateNumericArray(3, d3, mxDOUBLE_CLASS, mxREAL);
+                out.hist_P = mxGetDoubles(h);
+                mxSetField(res, 0, "history_P", h);
+                h = mxCreateDoubleMatrix(N, T, mxREAL);
+                out.hist_w = mxGetDoubles(h);
+                mxSetField(res, 0, "history_w", h);
+                h = mxCreateDoubleMatrix(N, T, mxREAL);
+                out.hist_a = mxGetDoubles(h);
+                mxSetField(res, 0, "history_ancestors", h);
+            }
         }
 
         if (sl_pf_run(&cfg, X, P, w, work, &out, &err) != SL_OK) {
@@ -287,7 +374,7 @@ void mexFunction(int nlhs, mxArray *plhs[], int nrhs, const mxArray *prhs[])
             slm_raise(FN, &err);
         }
         slm_poll_finish(&poll);
-        if (cfg.keep_history)
+        if (out.hist_a != NULL)
             for (k = 0; k < N * T; k++)
                 out.hist_a[k] += 1.0; /* 1-based, as Octave indexes */
         mxSetField(res, 0, "X", a);

@@ -68,13 +68,14 @@ static sl_status dopri5(sl_block_rhs_fn f, void *ctx, size_t n, size_t first,
     sl_status st;
     int have_k1 = 0;
     while (tc < tend) {
-        double e2 = 0.0, q;
+        double e2 = 0.0, q, rem = tend - tc;
         int last = 0;
-        if (step >= tend - tc) {
-            step = tend - tc;
+        if (step >= rem || rem - step < hmin) {
+            /* land on the end, stretching rather than leaving a sliver */
+            step = rem;
             last = 1;
         }
-        if (++attempts > tol->max_steps || step < hmin || !(step > 0))
+        if (++attempts > tol->max_steps || !(step > 0) || (step < hmin && !last))
             goto blown;
         if (!have_k1) {
             if ((st = f(ctx, tc, first, count, X, P, U, k1, err)) != SL_OK)
@@ -260,7 +261,7 @@ static sl_status advance_piece(const sl_def_model *dm, double t, double h,
                               first, count, t, h, X, P, U, &dm->tol, work, NULL, err);
 }
 
-static sl_status def_step(const sl_model *model, double t, double h,
+static sl_status def_step(const sl_model *model, double t, double t_end,
                           size_t first, size_t count, double *X,
                           const double *P, const double *U, uint64_t seed,
                           uint32_t step, double *work, sl_error *err)
@@ -277,19 +278,29 @@ static sl_status def_step(const sl_model *model, double t, double h,
         size_t cnt = count - b0 < SL_MODEL_BLOCK ? count - b0 : SL_MODEL_BLOCK;
         double *Xb = X + b0 * n;
         const double *Pb = P + b0 * p, *Ub = U + b0 * q;
-        double tc = t, tend = t + h;
+        double tc = t, tend = t_end;
         size_t e = ev != NULL && ev->count > 0 ? first_event_after(ev, t) : 0, j;
         sl_status st;
+        if (dm->method == &sl_integrator_discrete) {
+            /* a map advances whole steps only: the events of (t, t_end]
+             * follow it, in time order */
+            st = advance_piece(dm, t, tend - t, first + b0, cnt, Xb, Pb, Ub, wk, err);
+            if (st != SL_OK)
+                return st;
+            tc = tend;
+        }
         if (ev != NULL)
             for (; e < ev->count && ev->time[e] <= tend; e++) {
-                st = advance_piece(dm, tc, ev->time[e] - tc, first + b0, cnt, Xb, Pb,
-                                   Ub, wk, err);
-                if (st != SL_OK)
-                    return st;
-                tc = ev->time[e];
+                if (dm->method != &sl_integrator_discrete) {
+                    st = advance_piece(dm, tc, ev->time[e] - tc, first + b0, cnt, Xb, Pb,
+                                       Ub, wk, err);
+                    if (st != SL_OK)
+                        return st;
+                    tc = ev->time[e];
+                }
                 for (j = 0; j < cnt; j++) {
                     sl_event_values(ev, e, first + b0 + j, evv);
-                    def->jump(def, n, tc, Xb + j * n, Pb + j * p, evv);
+                    def->jump(def, n, ev->time[e], Xb + j * n, Pb + j * p, evv);
                 }
             }
         st = advance_piece(dm, tc, tend - tc, first + b0, cnt, Xb, Pb, Ub, wk, err);
@@ -339,8 +350,12 @@ sl_status sl_def_model_init(sl_model *model, sl_def_model *dm,
         dm->tol.rtol = 1e-6;
         dm->tol.atol = 1e-9;
     }
-    if (dm->tol.hmin_rel <= 0)
+    if (dm->tol.hmin_rel == 0)
         dm->tol.hmin_rel = 1e-12;
+    if (!(dm->tol.hmin_rel > 0 && dm->tol.hmin_rel < 1))
+        return sl_fail(err, SL_EINVAL, "badtolerance",
+                       "the smallest relative step must lie in (0, 1), got %g",
+                       dm->tol.hmin_rel);
     if (dm->tol.max_steps == 0)
         dm->tol.max_steps = 100000;
     if (!(dm->tol.rtol >= 0) || !(dm->tol.atol >= 0) || !(dm->tol.rtol + dm->tol.atol > 0) ||
@@ -361,6 +376,19 @@ sl_status sl_def_model_init(sl_model *model, sl_def_model *dm,
             if (!isfinite(events->value[k]))
                 return sl_fail(err, SL_EINVAL, "badevents", "event value %lu is not finite",
                                (unsigned long)(k + 1));
+        if (events->noise != NULL)
+            for (k = 0; k < events->nv; k++) {
+                int kind = events->noise[k];
+                if (kind < SL_FORCING_EXACT || kind > SL_FORCING_MULTIPLICATIVE)
+                    return sl_fail(err, SL_EINVAL, "badevents",
+                                   "unknown perturbation kind for event series %lu",
+                                   (unsigned long)(k + 1));
+                if (kind != SL_FORCING_EXACT &&
+                    (events->sd == NULL || !(events->sd[k] >= 0) || !isfinite(events->sd[k])))
+                    return sl_fail(err, SL_EINVAL, "badevents",
+                                   "event series %lu: the perturbation sd must be finite and >= 0",
+                                   (unsigned long)(k + 1));
+            }
         dm->events = events;
     } else if (events != NULL && events->count > 0) {
         return sl_fail(err, SL_EINVAL, "badevents", "model '%s' takes no events", def->name);

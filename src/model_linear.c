@@ -7,7 +7,7 @@
 /* members whose noise is drawn in one batch */
 #define NOISE_BLOCK 64
 
-static sl_status linear_step(const sl_model *model, double t, double dt,
+static sl_status linear_step(const sl_model *model, double t, double t_end,
                              size_t first, size_t count, double *X,
                              const double *P, const double *U, uint64_t seed,
                              uint32_t step, double *work, sl_error *err)
@@ -17,7 +17,7 @@ static sl_status linear_step(const sl_model *model, double t, double dt,
     double *xo = work, *E = work + n;
     size_t j0, j, i, k;
     (void)t;
-    (void)dt;
+    (void)t_end;
     (void)P;
     (void)err;
     for (j0 = 0; j0 < count; j0 += NOISE_BLOCK) {

@@ -298,7 +298,7 @@ static void eval_forcing(const sl_pf_config *cfg, pf_buffers *b, double *E,
 
 /* One model step of every member, in parallel blocks when the model allows. */
 static sl_status step_all(const sl_pf_config *cfg, pf_buffers *b, double *X,
-                          const double *P, double t, double h, uint32_t s,
+                          const double *P, double t, double t_end, uint32_t s,
                           sl_error *err)
 {
     const sl_model *md = cfg->model;
@@ -309,7 +309,7 @@ static sl_status step_all(const sl_pf_config *cfg, pf_buffers *b, double *X,
     if (nthr > 1 && (size_t)nthr > N)
         nthr = (int)N;
     if (nthr <= 1)
-        return md->step(md, t, h, 0, N, X, P, b->U, cfg->seed, s, b->mwork, err);
+        return md->step(md, t, t_end, 0, N, X, P, b->U, cfg->seed, s, b->mwork, err);
     for (k = 0; k < nthr; k++)
         b->terr[k].status = SL_OK;
 #pragma omp parallel num_threads(nthr)
@@ -322,7 +322,7 @@ static sl_status step_all(const sl_pf_config *cfg, pf_buffers *b, double *X,
         j0 = N * (size_t)tid / (size_t)nthr;
         j1 = N * (size_t)(tid + 1) / (size_t)nthr;
         if (j1 > j0)
-            md->step(md, t, h, j0, j1 - j0, X + j0 * n, P + j0 * p,
+            md->step(md, t, t_end, j0, j1 - j0, X + j0 * n, P + j0 * p,
                      b->U + j0 * q, cfg->seed, s, b->mwork + (size_t)tid * b->mwork_per,
                      &b->terr[tid]);
     }
@@ -565,10 +565,12 @@ sl_status sl_pf_run(const sl_pf_config *cfg, double *X, double *P, double *w,
             h = nsteps ? (tk - t) / (double)nsteps : 0.0;
         }
         for (l = 0; l < nsteps; l++) {
+            /* the end of step l is exactly the start of step l + 1 */
             double ts = t + (double)l * h;
+            double te = l + 1 == nsteps ? tk : t + (double)(l + 1) * h;
             if (q > 0)
                 eval_forcing(cfg, &b, b.E[cur], ts, s, &fidx);
-            st = step_all(cfg, &b, Xc, Pc, ts, h, s, err);
+            st = step_all(cfg, &b, Xc, Pc, ts, te, s, err);
             s++;
             out->steps++;
             if (st != SL_OK)
@@ -666,10 +668,12 @@ sl_status sl_pf_run(const sl_pf_config *cfg, double *X, double *P, double *w,
         out->nonfinite[k] = (double)ndead;
         out->degenerate[k] = degenerate;
         if (cfg->keep_history) {
-            memcpy(out->hist_X + k * n * N, Xc, n * N * sizeof(double));
-            if (p > 0)
+            if (out->hist_X != NULL)
+                memcpy(out->hist_X + k * n * N, Xc, n * N * sizeof(double));
+            if (out->hist_P != NULL && p > 0)
                 memcpy(out->hist_P + k * p * N, Pc, p * N * sizeof(double));
-            memcpy(out->hist_w + k * N, w, N * sizeof(double));
+            if (out->hist_w != NULL)
+                memcpy(out->hist_w + k * N, w, N * sizeof(double));
         }
 
         /* resample */
@@ -692,7 +696,7 @@ sl_status sl_pf_run(const sl_pf_config *cfg, double *X, double *P, double *w,
             resampled = 1;
         }
         out->resampled[k] = resampled;
-        if (cfg->keep_history)
+        if (cfg->keep_history && out->hist_a != NULL)
             for (j = 0; j < N; j++)
                 out->hist_a[k * N + j] = resampled ? (double)b.anc[j] : (double)j;
     }

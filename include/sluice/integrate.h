@@ -91,8 +91,9 @@ typedef struct {
  * n states (def->n_state, or the user's n when that is 0), integrator
  * `method` (NULL: the definition's default), step dt (<= 0: the
  * definition's), tolerances `tol` (NULL: rtol 1e-6, atol 1e-9) and
- * events (NULL when the model has none). Events in (t, t+h] of a step are
- * applied as jumps at their times. Reasons "badmodel", "badintegrator",
+ * events (NULL when the model has none). Events in (t, t_end] of a step
+ * are applied as jumps at their times (for a discrete map: after the map,
+ * which always advances the whole step). Reasons "badmodel", "badintegrator",
  * "badstep", "badtolerance", "badevents". */
 sl_status sl_def_model_init(sl_model *model, sl_def_model *dm,
                             const sl_model_def *def, size_t n,

@@ -13,14 +13,17 @@ extern "C" {
 typedef struct sl_model sl_model;
 
 /* Advance members first .. first+count-1 (their columns are X[0..n*count),
- * P[0..p*count), U[0..q*count)) by one step from t to t + dt. `step` is the
+ * P[0..p*count), U[0..q*count)) by one step from t to t_end. The driver
+ * passes as t_end exactly the t of the next step, so events and other
+ * things owned by the interval (t, t_end] are never lost or counted twice
+ * to rounding. `step` is the
  * run's global step counter and `seed` its seed, for models whose own
  * dynamics are random (they draw from stream (seed, member, step,
  * SL_PURPOSE_MODEL_NOISE)). `work` holds model->work doubles of scratch,
  * private to the calling thread. Must not allocate; must be safe to call on
  * disjoint member blocks from several threads at once when the model says
  * it is (thread_safe = 1). */
-typedef sl_status (*sl_step_fn)(const sl_model *model, double t, double dt,
+typedef sl_status (*sl_step_fn)(const sl_model *model, double t, double t_end,
                                 size_t first, size_t count, double *X,
                                 const double *P, const double *U,
                                 uint64_t seed, uint32_t step, double *work,

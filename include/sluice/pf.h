@@ -76,7 +76,8 @@ typedef struct {
 } sl_pf_config;
 
 /* What a run records; the caller allocates every array (sizes with
- * v = n + p). Arrays of the history may be NULL unless keep_history. */
+ * v = n + p). With keep_history, each history array that is not NULL is
+ * written (NULL ones are skipped). */
 typedef struct {
     double *mean;        /* v x T weighted means (states, then parameters) */
     double *quant;       /* v x nq x T weighted quantiles */

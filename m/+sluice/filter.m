@@ -48,6 +48,14 @@
 % @code{sd} and @code{ar1} (scalars or one per forcing): each member gets
 % its own perturbed copy of every forcing, e = AR(1) in model steps with
 % standard deviation sd; additive u + e, multiplicative u exp(e - sd^2/2).
+% @item events
+% for a model with events (the flood model's high-water levels): struct
+% with @code{time} (ne x 1, increasing) and @code{values} (ne x nv, one
+% column per event series of the model). Events in (t, t + dt] of a step
+% are applied once, at their times.
+% @item event_noise
+% struct with @code{kind} and @code{sd} as for forcing_noise (no ar1):
+% each member gets its own perturbed copy of every event value.
 % @item state_noise
 % standard deviations of additive Gaussian noise put on the states at each
 % cycle (scalar or n-vector; default 0: off).
@@ -126,14 +134,9 @@ function res = filter (model, prior, obs, varargin)
   [~, cyc] = ismember (tab.time, times);
   obs_first = [0, cumsum(accumarray (cyc(:), 1, [T 1]))'];
 
-  c = struct ();
-  c.n_state = n;
-  c.n_param = p;
-  c.n_forcing = q;
+  c = sluice.kernel.model_config (model, opts.forcing, opts.forcing_noise, ...
+                                  opts.events, opts.event_noise, 'filter');
   c.members = N;
-  c.dt = model.dt;
-  c.model_kind = model.kind;
-  c.A = model.A; c.B = model.B; c.c = model.c; c.L = model.L; c.fun = model.fun;
   c.t0 = t0;
   c.times = times;
   c.obs_first = obs_first;
@@ -142,7 +145,6 @@ function res = filter (model, prior, obs, varargin)
   c.obs_sigma = tab.sigma;
   c.obs_aux = tab.aux;
   c.obs_family = tab.family;
-  c = add_forcing (c, opts, q, model);
   c.state_noise = expand (opts.state_noise, n, 'state_noise');
   if (all (c.state_noise == 0))
     c.state_noise = [];
@@ -211,6 +213,7 @@ end
 function opts = parse_options (args)
   opts = struct ('method', 'pf', 'members', 1000, 'seed', [], 't0', [], ...
                  'times', zeros (1, 0), 'forcing', [], 'forcing_noise', [], ...
+                 'events', [], 'event_noise', [], ...
                  'state_noise', 0, 'param_move', 'fixed', 'param_step', 0.05, ...
                  'liu_west_delta', 0.98, 'resample', 'systematic', ...
                  'resample_threshold', 0.5, 'quantiles', [0.05 0.5 0.95], ...
@@ -400,6 +403,12 @@ function [X0, P0, lower, upper] = initial_ensemble (model, prior, N, seed)
         P0(ip, :) = D(k, :);
         lower(ip) = prior(k).lower;
         upper(ip) = prior(k).upper;
+        if (lower(ip) < model.lower(ip) || upper(ip) > model.upper(ip))
+          error ('sluice:filter:badprior', ...
+                 ['the prior of ''%s'' allows [%g, %g], outside the parameter''s bounds ', ...
+                  '[%g, %g]: choose a prior within them (lognormal, truncnormal, uniform)'], ...
+                 prior_names{k}, lower(ip), upper(ip), model.lower(ip), model.upper(ip));
+        end
       end
     end
   end
@@ -500,70 +509,4 @@ function tab = check_obs (obs, model, t0)
              'observation row %d: sigma must be finite and > 0, got %g', i, tab.sigma(i));
     end
   end
-end
-
-function c = add_forcing (c, opts, q, model)
-  c.forcing_time = [];
-  c.forcing_value = zeros (0, q);
-  c.forcing_hold = 0;
-  c.forcing_noise = [];
-  c.forcing_sd = [];
-  c.forcing_phi = [];
-  if (q == 0)
-    if (~isempty (opts.forcing))
-      error ('sluice:filter:badforcing', 'the model takes no forcing');
-    end
-    return;
-  end
-  f = opts.forcing;
-  if (~isstruct (f) || ~isfield (f, 'time') || ~isfield (f, 'values'))
-    error ('sluice:filter:badforcing', ...
-           'the model needs forcing: give opts.forcing with fields time and values');
-  end
-  tf = f.time(:);
-  vals = f.values;
-  if (~isnumeric (vals) || ~isreal (vals) || rows (vals) ~= numel (tf) || columns (vals) ~= q)
-    error ('sluice:filter:badforcing', ...
-           'forcing.values must be %d x %d (one row per forcing time, one column per forcing: %s)', ...
-           numel (tf), q, strjoin (model.forcings, ', '));
-  end
-  c.forcing_time = double (tf);
-  c.forcing_value = double (vals);
-  if (isfield (f, 'interp'))
-    if (strcmp (f.interp, 'previous'))
-      c.forcing_hold = 1;
-    elseif (~strcmp (f.interp, 'linear'))
-      error ('sluice:filter:badforcing', 'forcing.interp must be ''linear'' or ''previous''');
-    end
-  end
-  fn = opts.forcing_noise;
-  if (isempty (fn))
-    return;
-  end
-  if (~isstruct (fn) || ~isfield (fn, 'kind'))
-    error ('sluice:filter:badforcing', 'forcing_noise must be a struct with fields kind, sd, ar1');
-  end
-  kinds = fn.kind;
-  if (ischar (kinds))
-    kinds = repmat ({kinds}, q, 1);
-  end
-  if (~iscellstr (kinds) || numel (kinds) ~= q)
-    error ('sluice:filter:badforcing', 'forcing_noise.kind: one kind or one per forcing');
-  end
-  [ok, id] = ismember (kinds, {'none', 'additive', 'multiplicative'});
-  if (~all (ok))
-    error ('sluice:filter:badforcing', ...
-           'forcing_noise.kind must be ''none'', ''additive'' or ''multiplicative''');
-  end
-  sd = 0; phi = 0;
-  if (isfield (fn, 'sd')), sd = fn.sd; end
-  if (isfield (fn, 'ar1')), phi = fn.ar1; end
-  sd = expand (real_vector (sd, 'forcing_noise.sd', false), q, 'forcing_noise.sd');
-  phi = expand (real_vector (phi, 'forcing_noise.ar1', false), q, 'forcing_noise.ar1');
-  if (any (sd < 0) || any (phi < 0 | phi >= 1))
-    error ('sluice:filter:badforcing', 'forcing_noise: sd must be >= 0 and ar1 in [0, 1)');
-  end
-  c.forcing_noise = id(:) - 1;
-  c.forcing_sd = sd;
-  c.forcing_phi = phi;
 end

@@ -35,20 +35,44 @@ function spec = model (kind, varargin)
   if (nargin < 1)
     print_usage ();
   end
-  spec = struct ('kind', '', 'name', '', 'states', {{}}, 'params', {{}}, ...
-                 'forcings', {{}}, 'defaults', zeros (0, 1), 'dt', 1, ...
-                 't0', 0, 'x0', [], 'A', [], 'B', [], 'c', [], 'Q', [], ...
-                 'L', [], 'fun', []);
+  spec = struct ('kind', '', 'name', '', 'summary', '', 'states', {{}}, ...
+                 'params', {{}}, 'forcings', {{}}, 'events', {{}}, ...
+                 'defaults', zeros (0, 1), 'lower', zeros (0, 1), ...
+                 'upper', zeros (0, 1), 'dt', 1, 't0', 0, 'x0', [], ...
+                 'integrator', '', 'rtol', 1e-6, 'atol', 1e-9, ...
+                 'A', [], 'B', [], 'c', [], 'Q', [], 'L', [], 'fun', [], ...
+                 'handle_kind', '');
+  info = [];
   if (ischar (kind) && strcmp (kind, 'linear'))
     spec.kind = 'linear';
     spec.name = 'linear';
+    spec.integrator = 'discrete';
   elseif (isa (kind, 'function_handle'))
     spec.kind = 'handle';
     spec.name = func2str (kind);
     spec.fun = kind;
+    spec.handle_kind = 'step';
+  elseif (ischar (kind) && any (strcmp (kind, sluice.kernel.model_info ())))
+    info = sluice.kernel.model_info (kind);
+    spec.kind = 'builtin';
+    spec.name = info.name;
+    spec.summary = info.summary;
+    spec.states = info.states;
+    spec.params = info.params;
+    spec.forcings = info.forcings;
+    spec.events = info.events;
+    spec.defaults = info.defaults;
+    spec.lower = info.lower;
+    spec.upper = info.upper;
+    spec.dt = info.dt;
+    spec.integrator = info.integrator;
+    if (info.n_state > 0)
+      spec.x0 = info.x0;
+    end
   elseif (ischar (kind))
     error ('sluice:model:badmodel', ...
-           'unknown model ''%s''; expected ''linear'' or a function handle', kind);
+           'unknown model ''%s''; expected ''linear'', %s or a function handle', ...
+           kind, strjoin (strcat ('''', sluice.kernel.model_info (), ''''), ', '));
   else
     error ('sluice:model:badmodel', ...
            'argument 1 (model): expected ''linear'' or a function handle, got %s', ...
@@ -94,12 +118,34 @@ function spec = model (kind, varargin)
         if (~isscalar (nstate) || nstate < 1 || nstate ~= fix (nstate))
           error ('sluice:model:badoption', 'n must be a positive whole number');
         end
+      case 'integrator'
+        if (~ischar (val) || ~any (strcmp (val, {'euler', 'rk4', 'dopri5', 'discrete'})))
+          error ('sluice:model:badintegrator', ...
+                 'integrator must be ''euler'', ''rk4'', ''dopri5'' or ''discrete''');
+        end
+        spec.integrator = val;
+      case {'rtol', 'atol'}
+        v = real_arg (val, name, true);
+        if (v < 0)
+          error ('sluice:model:badtolerance', '%s must be >= 0', name);
+        end
+        spec.(lower (name)) = v;
+      case 'kind'
+        if (~strcmp (spec.kind, 'handle') || ~ischar (val) || ...
+            ~any (strcmp (val, {'step', 'rhs'})))
+          error ('sluice:model:badoption', ...
+                 '''kind'' applies to a function model: ''step'' or ''rhs''');
+        end
+        spec.handle_kind = val;
       otherwise
         error ('sluice:model:badoption', 'unknown option ''%s''', name);
     end
   end
   if (strcmp (spec.kind, 'linear'))
     spec = check_linear (spec);
+  elseif (strcmp (spec.kind, 'builtin'))
+    spec = check_builtin (spec, info, nstate);
+    nstate = [];
   elseif (isempty (spec.states))
     if (isempty (nstate))
       if (isempty (spec.x0))
@@ -120,16 +166,69 @@ function spec = model (kind, varargin)
     error ('sluice:model:badsize', 'x0 has %d values for %d states', ...
            numel (spec.x0), n);
   end
+  if (strcmp (spec.kind, 'handle'))
+    if (strcmp (spec.handle_kind, 'rhs'))
+      if (isempty (spec.integrator))
+        spec.integrator = 'rk4';
+      elseif (strcmp (spec.integrator, 'discrete'))
+        error ('sluice:model:badintegrator', ...
+               'a right-hand side needs euler, rk4 or dopri5, not discrete');
+      end
+    elseif (isempty (spec.integrator))
+      spec.integrator = 'discrete';
+    elseif (~strcmp (spec.integrator, 'discrete'))
+      error ('sluice:model:badintegrator', ...
+             'a step map (''kind'', ''step'') is advanced as it is; use ''kind'', ''rhs'' to integrate');
+    end
+  end
   if (isempty (spec.defaults))
     spec.defaults = nan (numel (spec.params), 1);
   elseif (numel (spec.defaults) ~= numel (spec.params))
     error ('sluice:model:badsize', '%d defaults for %d parameters', ...
            numel (spec.defaults), numel (spec.params));
   end
-  all_names = [spec.states(:); spec.params(:); spec.forcings(:)];
+  if (isempty (spec.lower))
+    spec.lower = -Inf (numel (spec.params), 1);
+    spec.upper = Inf (numel (spec.params), 1);
+  end
+  bad = find (spec.defaults < spec.lower | spec.defaults > spec.upper, 1);
+  if (~isempty (bad))
+    error ('sluice:model:badparams', ...
+           'parameter ''%s'': %g lies outside its bounds [%g, %g]', spec.params{bad}, ...
+           spec.defaults(bad), spec.lower(bad), spec.upper(bad));
+  end
+  all_names = [spec.states(:); spec.params(:); spec.forcings(:); spec.events(:)];
   if (numel (unique (all_names)) ~= numel (all_names))
     error ('sluice:model:badname', ...
            'state, parameter and forcing names must all differ');
+  end
+end
+
+function spec = check_builtin (spec, info, nstate)
+  if (info.n_state == 0)
+    if (isempty (nstate))
+      error ('sluice:model:badsize', 'model ''%s'' needs the number of states: ''n''', ...
+             spec.name);
+    end
+    if (nstate < info.n_min)
+      error ('sluice:model:badsize', 'model ''%s'' needs n >= %d, got %d', spec.name, ...
+             info.n_min, nstate);
+    end
+    spec.states = default_names (nstate);
+    if (isempty (spec.x0))
+      spec.x0 = zeros (nstate, 1);
+    end
+  elseif (~isempty (nstate) && nstate ~= info.n_state)
+    error ('sluice:model:badsize', 'model ''%s'' has %d states, not %d', spec.name, ...
+           info.n_state, nstate);
+  end
+  if (strcmp (spec.integrator, 'discrete') && ~info.has_map)
+    error ('sluice:model:badintegrator', 'model ''%s'' is continuous: use euler, rk4 or dopri5', ...
+           spec.name);
+  end
+  if (~strcmp (spec.integrator, 'discrete') && ~info.has_rhs)
+    error ('sluice:model:badintegrator', 'model ''%s'' is a discrete map: use ''discrete''', ...
+           spec.name);
   end
 end
 
@@ -261,6 +360,33 @@ end
 %!test
 %! s = sluice.model (@(t, X, P, U, dt) X, 'n', 3);
 %! assert (s.states, {'x1', 'x2', 'x3'});
+%!test
+%! s = sluice.model ('lorenz63');
+%! assert (s.kind, 'builtin');
+%! assert (s.states, {'x', 'y', 'z'});
+%! assert (s.params, {'sigma', 'rho', 'beta'});
+%! assert (s.defaults, [10; 28; 8/3], 1e-15);
+%! assert (s.integrator, 'rk4');
+%!test
+%! s = sluice.model ('lorenz96', 'n', 40, 'integrator', 'dopri5', 'rtol', 1e-8);
+%! assert (numel (s.states), 40);
+%! assert (s.states{40}, 'x40');
+%! assert (s.defaults, 8);
+%! assert (s.integrator, 'dopri5');
+%! assert (s.rtol, 1e-8);
+%!test
+%! s = sluice.model (@(t, X, P, U) -X, 'n', 2, 'kind', 'rhs');
+%! assert (s.integrator, 'rk4');
+%!error id=sluice:model:badsize sluice.model ('lorenz96')
+%!error id=sluice:model:badsize sluice.model ('lorenz96', 'n', 3)
+%!error id=sluice:model:badsize sluice.model ('lorenz63', 'n', 4)
+%!error id=sluice:model:badintegrator sluice.model ('lorenz63', 'integrator', 'discrete')
+%!error id=sluice:model:badintegrator sluice.model ('lorenz63', 'integrator', 'leapfrog')
+%!error id=sluice:model:badintegrator sluice.model (@(t, X, P, U) X, 'n', 1, 'kind', 'rhs', 'integrator', 'discrete')
+%!error id=sluice:model:badintegrator sluice.model (@(t, X, P, U, dt) X, 'n', 1, 'integrator', 'rk4')
+%!error id=sluice:model:badtolerance sluice.model ('lorenz63', 'rtol', -1)
+%!error id=sluice:model:badoption sluice.model ('lorenz63', 'kind', 'rhs')
+%!error id=sluice:model:badparams sluice.model ('lorenz63', 'defaults', [10 -28 1])
 %!error id=sluice:model:badmodel sluice.model ('nosuch')
 %!error id=sluice:model:badmodel sluice.model (3)
 %!error id=sluice:model:badmodel sluice.model ('linear')
