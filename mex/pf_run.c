@@ -300,7 +300,7 @@ void mexFunction(int nlhs, mxArray *plhs[], int nrhs, const mxArray *prhs[])
     {
         mxArray *pa = slm_create(FN, p, N);
         if (p) {
-            const double *p0 = fmat(c, "P0", p, N, 0);
+            const double *p0 = fmat(c, "P0", p, N, SLM_ALLOW_INF);
             memcpy(mxGetDoubles(pa), p0, p * N * sizeof(double));
         }
         P = mxGetDoubles(pa);

@@ -529,7 +529,9 @@ sl_status sl_pf_run(const sl_pf_config *cfg, double *X, double *P, double *w,
         for (i = 0; i < p; i++) {
             double x = P[i + j * p];
             b.Z[0][i + j * p] = sl_transform_forward(&cfg->ptrans[i], x);
-            if (!isfinite(b.Z[0][i + j * p]))
+            /* a fixed parameter may sit at an infinite bound (a levee cost
+             * of Inf: no levees ever); a moving one needs a finite z */
+            if (isnan(x) || (cfg->param_move != SL_PARAM_FIXED && !isfinite(b.Z[0][i + j * p])))
                 return sl_fail(err, SL_EINVAL, "badparams",
                                "parameter %lu of member %lu (%g) lies outside its bounds",
                                (unsigned long)(i + 1), (unsigned long)(j + 1), x);

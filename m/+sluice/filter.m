@@ -165,7 +165,7 @@ function res = filter (model, prior, obs, varargin)
   c.X0 = X0;
   c.P0 = P0;
 
-  r = sluice.kernel.pf_run (c);
+  r = sluice.kernel.run_engine (model, c);
 
   res = struct ();
   res.method = 'pf';

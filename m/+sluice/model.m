@@ -1,5 +1,6 @@
 % -*- texinfo -*-
 % @deftypefn  {} {@var{spec} =} sluice.model ('linear', @var{name}, @var{value}, @dots{})
+% @deftypefnx {} {@var{spec} =} sluice.model (@var{builtin}, @var{name}, @var{value}, @dots{})
 % @deftypefnx {} {@var{spec} =} sluice.model (@var{fun}, @var{name}, @var{value}, @dots{})
 % Describe a model for @code{sluice.filter}: its states, parameters,
 % forcings, time step and dynamics.
@@ -16,6 +17,54 @@
 % natural units, @var{U} q x N each member's forcing values at @var{t}.
 % It must return the n x N states at @code{t + dt}; a non-finite column
 % marks a member that blew up (it is given zero weight and reported).
+%
+% @strong{Built-in compiled models} (@code{sluice.model (name, @dots{})};
+% @code{sluice.kernel.model_info ()} lists them, @code{sluice.kernel.model_info (name)}
+% gives names, defaults and bounds):
+%
+% @table @code
+% @item 'lorenz63'
+% Lorenz (1963): dx = sigma (y - x), dy = x (rho - z) - y, dz = x y - beta z;
+% states x, y, z; parameters sigma = 10, rho = 28, beta = 8/3; RK4, dt 0.01.
+% @item 'lorenz96'
+% Lorenz (1996): dx_i/dt = (x_@{i+1@} - x_@{i-2@}) x_@{i-1@} - x_i + F,
+% cyclic; any n >= 4 (option @code{'n'}); parameter F = 8; RK4, dt 0.01.
+% @item 'flood'
+% the human-flood model of socio-hydrology (Di Baldassarre et al. 2013, in
+% the form of Viglione et al. 2014; equations read from a secondary
+% source). States G (settlement size), D (distance from the river), H
+% (levee height), M (collective memory), F and R (damage fraction and
+% levee raising of the latest flood; 0 before any). Between floods
+% dG/dt = rhoE (1 - D) G, dD/dt = (M - D/lambdaP) sigmaP/sqrt(G),
+% dH/dt = -kappaT H, dM/dt = -muS M. At a flood of high-water level W
+% (the event series @code{W}, option @code{'events'} of the runs):
+% F = 1 - exp(-(W + xiH H)/(alphaH D)) if W + xiH H > H, else 0; a levee
+% raising R* = epsT (W + xiH H - H) is made when it is worth it
+% (F G > gammaE R* sqrt(G)) and affordable (G - F G > gammaE R* sqrt(G));
+% G -> G - F G - gammaE R sqrt(G), H -> H + R, M -> M + S with S = alphaS F
+% if the levee was raised, else F. Parameters (defaults): xiH 0.5,
+% alphaH 10, rhoE 1, gammaE 0.005 (Inf: no levees ever), lambdaP 1,
+% sigmaP 0.1, epsT 1.1, kappaT 0.1, alphaS 0.5 (in [0, 1]), muS 0.215;
+% all >= 0. Initial state G 0.01, D 1, H = M = 0. Dimensionless units.
+% Adaptive Dormand-Prince 5(4) by default (dt 0.1 between outputs): a
+% settlement reduced to a tiny G makes D stiff.
+% @item 'gr4j'
+% the GR4J daily rainfall-runoff model (Perrin, Michel & Andreassian 2003,
+% equations as in the authors' reference spreadsheet): parameters X1
+% (production store capacity, mm), X2 (groundwater exchange, mm/d), X3
+% (routing store capacity, mm), X4 (unit hydrograph time base, d, up to
+% 20); forcings P (rain) and E (potential evapotranspiration), mm/d;
+% states S and R (stores, mm), the unit-hydrograph queues uh1_1..uh1_20 and
+% uh2_1..uh2_40, and Q, the flow of the latest day (mm/d). A discrete
+% daily map (dt 1).
+% @end table
+%
+% Options of compiled models and right-hand sides: @code{'integrator'}
+% (@code{'euler'}, @code{'rk4'}, @code{'dopri5'} (adaptive, tolerances
+% @code{'rtol'}, @code{'atol'}) or @code{'discrete'}), @code{'dt'}.
+% A function @var{fun} given with @code{'kind', 'rhs'} is a right-hand
+% side @code{dX = fun (t, X, P, U)} integrated by the chosen integrator
+% (default RK4) over the whole ensemble at once.
 %
 % Common options: @code{'states'} (cellstr of state names, default
 % x1, x2, @dots{}), @code{'params'} (cellstr of parameter names),
@@ -52,9 +101,17 @@ function spec = model (kind, varargin)
     spec.name = func2str (kind);
     spec.fun = kind;
     spec.handle_kind = 'step';
-  elseif (ischar (kind) && any (strcmp (kind, sluice.kernel.model_info ())))
-    info = sluice.kernel.model_info (kind);
-    spec.kind = 'builtin';
+  elseif ((ischar (kind) && any (strcmp (kind, sluice.kernel.model_info ()))) || ...
+          (isstruct (kind) && isscalar (kind) && isfield (kind, 'engine')))
+    if (ischar (kind))
+      info = sluice.kernel.model_info (kind);
+      spec.kind = 'builtin';
+    else
+      % a user's compiled model, as sluice.build_model describes it
+      info = kind;
+      spec.kind = 'user';
+      spec.engine = info.engine;
+    end
     spec.name = info.name;
     spec.summary = info.summary;
     spec.states = info.states;
@@ -143,7 +200,7 @@ function spec = model (kind, varargin)
   end
   if (strcmp (spec.kind, 'linear'))
     spec = check_linear (spec);
-  elseif (strcmp (spec.kind, 'builtin'))
+  elseif (any (strcmp (spec.kind, {'builtin', 'user'})))
     spec = check_builtin (spec, info, nstate);
     nstate = [];
   elseif (isempty (spec.states))

@@ -30,7 +30,7 @@ function X = run_states (model, X0, P0, t0, times, forcing, opts, fn)
     c.progress = 2;
     c.X0 = X0;
     c.P0 = P0;
-    r = sluice.kernel.pf_run (c);
+    r = sluice.kernel.run_engine (model, c);
   catch err
     id = err.identifier;
     if (strncmp (id, 'sluice:filter:', 14))
