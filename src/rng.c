@@ -2,6 +2,7 @@
 #include "sluice/rng.h"
 
 #include <math.h>
+#include <string.h>
 #include <Random123/philox.h>
 
 #include "ziggurat_tables.h"
@@ -47,6 +48,17 @@ uint64_t sl_stream_u64(sl_stream *s)
     return next_u64(s);
 }
 
+/* x with its sign bit flipped when bit 8 of u is set: -x without a branch
+ * (the sign is a coin toss, which a branch predictor cannot learn) */
+static inline double signed_by(double x, uint64_t u)
+{
+    uint64_t b;
+    memcpy(&b, &x, sizeof b);
+    b ^= (u & 256u) << 55;
+    memcpy(&x, &b, sizeof b);
+    return x;
+}
+
 /* k < 2^63 converts as a signed integer: one instruction, where an
  * unsigned 64-bit conversion takes a branch on x86-64 without AVX-512 */
 static inline double to_double(uint64_t k)
@@ -70,10 +82,9 @@ double sl_stream_normal(sl_stream *s)
     for (;;) {
         uint64_t u = next_u64(s);
         unsigned i = (unsigned)(u & 255u);
-        double sign = (u & 256u) ? -1.0 : 1.0;
         double x = (to_double(u >> 11) * 0x1.0p-53) * sl_zig_x[i];
         if (x < sl_zig_x[i + 1])
-            return sign * x;
+            return signed_by(x, u);
         if (i == 0) {
             /* tail beyond r (Marsaglia 1964) */
             double a, b;
@@ -81,11 +92,11 @@ double sl_stream_normal(sl_stream *s)
                 a = -log(sl_stream_uniform(s)) / sl_zig_r;
                 b = -log(sl_stream_uniform(s));
             } while (b + b < a * a);
-            return sign * (sl_zig_r + a);
+            return signed_by(sl_zig_r + a, u);
         }
         if (sl_zig_f[i] + sl_stream_uniform(s) * (sl_zig_f[i + 1] - sl_zig_f[i])
             < exp(-0.5 * x * x))
-            return sign * x;
+            return signed_by(x, u);
     }
 }
 
@@ -112,6 +123,7 @@ void sl_stream_normals(sl_stream *s, size_t n, double *out)
 /* Philox4x32-10 on LANES counters at once, laid out lane by lane so the
  * rounds vectorise; the same rounds as Random123's philox4x32 (checked
  * against it in the unit tests). */
+__attribute__((target_clones("avx2", "default")))
 static void philox_lanes(uint32_t k0, uint32_t k1, uint32_t *c0, uint32_t *c1,
                          uint32_t *c2, uint32_t *c3)
 {
@@ -171,7 +183,7 @@ void sl_normals_members(uint64_t seed, uint32_t first, size_t count,
                 double x = (to_double(u >> 11) * 0x1.0p-53) * sl_zig_x[zi];
                 if (!(x < sl_zig_x[zi + 1]))
                     break; /* the slow path: let the stream take over */
-                o[i] = (u & 256u) ? -x : x;
+                o[i] = signed_by(x, u);
             }
             if (i < k) {
                 /* continue as the stream would, from the word that failed
