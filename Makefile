@@ -16,7 +16,9 @@ WARN     := -Wall -Wextra -Wshadow -Wpointer-arith -Wstrict-prototypes \
             -Wwrite-strings -Wvla -Wdouble-promotion
 OPT      ?= -O2
 CSTD     := -std=c11 -D_POSIX_C_SOURCE=200809L
-CFLAGS_ALL = $(CSTD) $(OPT) -g -fPIC -fopenmp $(WARN) -Iinclude $(EXTRA_CFLAGS)
+# -fno-math-errno: sqrt and friends need not set errno, so loops over members
+# vectorise (NaN and Inf keep their meaning, unlike with -ffast-math)
+CFLAGS_ALL = $(CSTD) $(OPT) -g -fPIC -fopenmp -fno-math-errno $(WARN) -Iinclude $(EXTRA_CFLAGS)
 ifneq ($(MKOCT),)
 BLAS_LIBS   := $(shell mkoctfile -p BLAS_LIBS)
 LAPACK_LIBS := $(shell mkoctfile -p LAPACK_LIBS)

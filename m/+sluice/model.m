@@ -279,6 +279,11 @@ function spec = check_builtin (spec, info, nstate)
     error ('sluice:model:badsize', 'model ''%s'' has %d states, not %d', spec.name, ...
            info.n_state, nstate);
   end
+  if (strcmp (spec.integrator, 'discrete') && info.has_map && ~info.has_rhs && ...
+      spec.dt ~= info.dt)
+    error ('sluice:model:badstep', 'model ''%s'' is a map that steps by dt = %g, not %g', ...
+           spec.name, info.dt, spec.dt);
+  end
   if (strcmp (spec.integrator, 'discrete') && ~info.has_map)
     error ('sluice:model:badintegrator', 'model ''%s'' is continuous: use euler, rk4 or dopri5', ...
            spec.name);
@@ -434,6 +439,7 @@ end
 %!test
 %! s = sluice.model (@(t, X, P, U) -X, 'n', 2, 'kind', 'rhs');
 %! assert (s.integrator, 'rk4');
+%!error id=sluice:model:badstep sluice.model ('gr4j', 'dt', 2)
 %!error id=sluice:model:badsize sluice.model ('lorenz96')
 %!error id=sluice:model:badsize sluice.model ('lorenz96', 'n', 3)
 %!error id=sluice:model:badsize sluice.model ('lorenz63', 'n', 4)

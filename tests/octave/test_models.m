@@ -71,3 +71,41 @@
 %!error id=sluice:simulate:badevents sluice.simulate (sluice.model ('lorenz63'), [], [], [0 1], [], 'events', struct ('time', 1, 'values', 1))
 %!error id=sluice:simulate:badparams sluice.simulate (sluice.model ('flood'), [], -ones (10, 1), [0 1])
 %!error id=sluice:filter:badprior sluice.filter (sluice.model ('flood'), sluice.prior ('muS', 'normal', [0.2 0.1]), struct ('time', 1, 'variable', {{'G'}}, 'value', 1, 'sigma', 1))
+
+%!test
+%! % GR4J reproduces the model authors' reference spreadsheet case: flow
+%! % to 1e-9 mm/d on all 730 days, first-day Q = 4.1007378585214731, and
+%! % the Nash-Sutcliffe efficiency of days 366-730 = 0.91903003 (model notes
+%! % section 2; the data stay outside the project)
+%! % the tests run from the repository root; shared/ lies beside it
+%! cands = {getenv('SLUICE_REFERENCE_DIR'), fullfile(pwd (), '..', 'shared', 'reference'), ...
+%!          '/work/shared/reference'};
+%! file = '';
+%! for k = 1:numel (cands)
+%!   f = fullfile (cands{k}, 'gr4j_reference_case.csv');
+%!   if (~isempty (cands{k}) && exist (f, 'file'))
+%!     file = f; break;
+%!   end
+%! end
+%! if (isempty (file))
+%!   printf ('SKIP gr4j reference case: ../shared/reference/gr4j_reference_case.csv not found\n');
+%!   return;
+%! end
+%! d = dlmread (file, ',', 1, 1);   % P, E, Qobs m3/s, Qobs mm/d, Qsim mm/d
+%! P = d(:, 1); E = d(:, 2); qobs = d(:, 4); qsim = d(:, 5); T = rows (d);
+%! s = sluice.model ('gr4j');
+%! X1 = 320.10730922522407; X3 = 69.627618031872942;
+%! x0 = zeros (63, 1); x0(1) = 0.6 * X1; x0(2) = 0.7 * X3;
+%! forcing = struct ('time', (0:T-1)', 'values', [P E], 'interp', 'previous');
+%! X = sluice.simulate (s, x0, [], 0:T, forcing);
+%! Q = X(63, 2:end)';
+%! assert (Q(1), 4.1007378585214731, 1e-12);
+%! assert (max (abs (Q - qsim)) < 1e-9);
+%! o = qobs(366:730); q = Q(366:730);
+%! nse = 1 - sum ((o - q).^2) / sum ((o - mean (o)).^2);   % textbook NSE
+%! assert (nse, 0.91903003, 1e-8);
+%!error id=sluice:simulate:forcingrange ...
+%! s = sluice.model ('gr4j');
+%! sluice.simulate (s, [], [], 0:10, struct ('time', (0:4)', 'values', ones (5, 2)))
+%!error id=sluice:simulate:badforcing ...
+%! sluice.simulate (sluice.model ('gr4j'), [], [], 0:3, struct ('time', (0:4)', 'values', ones (5, 1)))
