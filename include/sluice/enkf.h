@@ -1,0 +1,104 @@
+/* enkf.h - ensemble Kalman analyses: stochastic EnKF, ETKF, serial EnSRF
+ * and EAKF, LETKF; localisation and inflation. */
+#ifndef SLUICE_ENKF_H
+#define SLUICE_ENKF_H
+
+#include <stddef.h>
+#include <stdint.h>
+#include "sluice/status.h"
+
+#ifdef __cplusplus
+extern "C" {
+#endif
+
+typedef enum {
+    SL_ENKF_STOCHASTIC = 0, /* perturbed observations (Burgers et al. 1998) */
+    SL_ENKF_ETKF,           /* symmetric square root (Bishop et al. 2001; Hunt et al. 2007) */
+    SL_ENKF_ENSRF,          /* serial square root (Whitaker & Hamill 2002) */
+    SL_ENKF_EAKF,           /* serial adjustment (Anderson 2001) */
+    SL_ENKF_LETKF,          /* local ETKF (Hunt et al. 2007), R-localisation */
+    SL_ENKF_COUNT
+} sl_enkf_method;
+
+/* The method with this name ("enkf", "etkf", "ensrf", "eakf", "letkf"),
+ * or -1. */
+int sl_enkf_method_find(const char *name);
+
+/* Geometry of positions, for the distances of localisation. */
+typedef enum {
+    SL_GEOM_LINE = 0, /* 1-D: |a - b| */
+    SL_GEOM_RING,     /* 1-D periodic with the given period */
+    SL_GEOM_PLANE,    /* 2-D Euclidean */
+    SL_GEOM_SPHERE    /* lon/lat in degrees; great-circle distance on a
+                       * sphere of the given radius (haversine) */
+} sl_geometry;
+
+/* Gaspari & Cohn (1999) eq. 4.10 for z = |d| / c: 1 at 0, 0 from z = 2. */
+double sl_gaspari_cohn(double d, double c);
+
+/* Distance between positions a and b (1 or 2 coordinates each). */
+double sl_distance(int geometry, double period_or_radius, const double *a,
+                   const double *b);
+
+/* Positions for localisation. A state row whose first coordinate is NaN
+ * (a parameter of state augmentation, say) is not localised: every
+ * observation acts on it with full weight, unless param_radius > 0, when
+ * it is treated as lying at distance 0 of no observation but damped by
+ * the factor param_factor in (0, 1]. */
+typedef struct {
+    int geometry;
+    double period_or_radius; /* ring period / sphere radius */
+    size_t dim;              /* 1 (line, ring) or 2 (plane, sphere) */
+    const double *state_pos; /* n x dim, column-major (row i: state i) */
+    const double *obs_pos;   /* m x dim */
+    const double *obs_c;     /* m Gaspari-Cohn half-widths c (> 0) */
+    double param_factor;     /* weight of every observation on rows that
+                              * are not localised (1 = full) */
+} sl_localization;
+
+typedef struct {
+    int method;
+    double inflation;  /* multiplicative prior inflation of the perturbations
+                        * (>= 1; 1 = none), applied before the analysis */
+    double rtpp;       /* relaxation to prior perturbations, [0, 1] */
+    double rtps;       /* relaxation to prior spread, [0, 1] */
+    const sl_localization *loc; /* NULL: no localisation (not for LETKF) */
+    uint64_t seed;     /* perturbed observations: stream (seed, member, */
+    uint32_t cycle;    /* cycle, SL_PURPOSE_ANALYSIS) */
+    int threads;       /* >= 1 */
+    double eig_floor;  /* relative floor on eigenvalues of the ensemble-
+                        * space matrix (0: 1e-12) */
+} sl_enkf_config;
+
+typedef struct {
+    size_t floored;      /* eigenvalues raised to the floor */
+    size_t local_skipped;/* LETKF points with no observation in reach */
+    double innov_dof;    /* d^T (HBH^T + R)^{-1} d of the global problem
+                          * (for adaptive inflation); NaN if not computed */
+} sl_enkf_info;
+
+/* Bytes of workspace sl_enkf_analysis needs (r_full as there), or 0 if a
+ * size overflows. */
+size_t sl_enkf_workspace(const sl_enkf_config *cfg, size_t n, size_t N,
+                         size_t m, int r_full);
+
+/* One analysis. X (n x N, column-major, member j in column j) is the
+ * forecast ensemble on entry (already augmented with any parameters) and
+ * the analysis on return; HX (m x N) the predicted observations of the
+ * forecast members; y (m) the observations; R their error covariance:
+ * with r_full = 0, R holds the m error variances (a diagonal covariance,
+ * the usual case: nothing m x m is ever formed); with r_full = 1, R is
+ * the m x m covariance, symmetric positive definite (the serial methods
+ * and LETKF need it diagonal: reason "nondiagonal"). The predicted observations of
+ * the analysis are not returned (call the observation operator again).
+ * Reasons: "badconfig", "badsize" (N < 2, m = 0), "nonfinite",
+ * "notpd" (R), "nondiagonal", "badlocalization". */
+sl_status sl_enkf_analysis(const sl_enkf_config *cfg, size_t n, size_t N,
+                           double *X, size_t m, const double *HX,
+                           const double *y, const double *R, int r_full,
+                           void *work, sl_enkf_info *info, sl_error *err);
+
+#ifdef __cplusplus
+}
+#endif
+#endif
