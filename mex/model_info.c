@@ -1,6 +1,7 @@
 /* model_info.c - gateway: sluice.kernel.model_info(name) describes a
  * compiled model definition; with no argument, the names of all. */
 #include <math.h>
+#include <stdio.h>
 #include <string.h>
 
 #include "mexutil.h"
@@ -8,16 +9,21 @@
 
 static const char *FN = "model";
 
-#ifdef SLUICE_USER_MODEL
-const sl_model_def *sluice_user_model(void);
-#endif
 
-static mxArray *names(const char *const *list, size_t count)
+/* Names of a list; a missing list (or entry) gets prefix1, prefix2, ... */
+static mxArray *names(const char *const *list, size_t count, const char *prefix)
 {
     mxArray *c = mxCreateCellMatrix(1, count);
     size_t k;
-    for (k = 0; k < count; k++)
-        mxSetCell(c, k, mxCreateString(list[k]));
+    char buf[64];
+    for (k = 0; k < count; k++) {
+        if (list != NULL && list[k] != NULL) {
+            mxSetCell(c, k, mxCreateString(list[k]));
+        } else {
+            snprintf(buf, sizeof buf, "%s%lu", prefix, (unsigned long)(k + 1));
+            mxSetCell(c, k, mxCreateString(buf));
+        }
+    }
     return c;
 }
 
@@ -64,12 +70,10 @@ void mexFunction(int nlhs, mxArray *plhs[], int nrhs, const mxArray *prhs[])
     mxSetField(s, 0, "summary", mxCreateString(def->summary != NULL ? def->summary : ""));
     mxSetField(s, 0, "n_state", mxCreateDoubleScalar((double)def->n_state));
     mxSetField(s, 0, "n_min", mxCreateDoubleScalar((double)def->n_min));
-    mxSetField(s, 0, "states", def->state_names != NULL
-                                   ? names(def->state_names, def->n_state)
-                                   : mxCreateCellMatrix(1, 0));
-    mxSetField(s, 0, "params", names(def->param_names, def->n_param));
-    mxSetField(s, 0, "forcings", names(def->forcing_names, def->n_forcing));
-    mxSetField(s, 0, "events", names(def->event_names, def->n_event));
+    mxSetField(s, 0, "states", names(def->state_names, def->n_state, "x"));
+    mxSetField(s, 0, "params", names(def->param_names, def->n_param, "p"));
+    mxSetField(s, 0, "forcings", names(def->forcing_names, def->n_forcing, "u"));
+    mxSetField(s, 0, "events", names(def->event_names, def->n_event, "e"));
     mxSetField(s, 0, "x0", column(def->x0, def->n_state, 0.0));
     mxSetField(s, 0, "defaults", column(def->p_default, def->n_param, NAN));
     mxSetField(s, 0, "lower", column(def->p_lower, def->n_param, -HUGE_VAL));

@@ -93,6 +93,10 @@ struct sl_model_def {
     size_t (*block_work)(size_t n, size_t count);
 };
 
+/* What a user's model file (built by sluice.build_model) defines: its
+ * definition, which must stay valid for the life of the program. */
+const sl_model_def *sluice_user_model(void);
+
 /* The built-in definition with this name ("lorenz63", "lorenz96", "flood",
  * "gr4j"), or NULL. */
 const sl_model_def *sl_model_def_find(const char *name);

@@ -1,0 +1,718 @@
+% -*- texinfo -*-
+% @deftypefn  {} {@var{spec} =} sluice.build_model (@var{cfile})
+% @deftypefnx {} {@var{spec} =} sluice.build_model (@var{cfile}, @var{name}, @var{value}, @dots{})
+% @deftypefnx {} {[@var{spec}, @var{rebuilt}] =} sluice.build_model (@dots{})
+% Compile a model written in one C file and return its spec, to be used
+% with @code{sluice.filter}, @code{sluice.simulate} and
+% @code{sluice.propagate} exactly like a built-in model, at the same speed.
+%
+% The file includes @code{"sluice/model.h"} and defines
+% @example
+% const sl_model_def *sluice_user_model (void);
+% @end example
+% returning a pointer to its static definition: names of the states,
+% parameters, forcings and events, default initial state and parameters,
+% parameter bounds, time step, default integrator and the functions of
+% the dynamics (a right-hand side @code{rhs}, a step map @code{map}, or
+% both; a @code{jump} for models with events). See the README and
+% @file{demos/user_model/reservoir.c} for the whole contract.
+%
+% Two gateways are compiled against the project's library
+% (@file{build/libsluice.a}, made by @command{make}): @file{NAME_run.mex},
+% the assimilation cycle with the model linked in, and
+% @file{NAME_info.mex}, which describes the definition. Before they are
+% built the definition is checked and its functions are called once, in
+% a separate process, at the default parameters: a definition with
+% missing names, no dynamics or an unknown integrator, or functions that
+% crash, is reported as an error and never loaded into Octave. The
+% gateways are rebuilt only when the C file (or the library, or the
+% gateway sources) is newer than they are, or when they were built from
+% another C file (a note @file{.NAME_source} beside them says which).
+%
+% Options (any other name/value pair is passed to @code{sluice.model},
+% for example @code{'n'}, @code{'integrator'}, @code{'dt'}, @code{'x0'},
+% @code{'defaults'}, @code{'rtol'}):
+% @table @code
+% @item outdir
+% folder for the two MEX files (default: the C file's folder; created if
+% needed). It is added to the path.
+% @item name
+% base name of the MEX files (default: the file's name without
+% @file{.c}); a valid Octave name of at most 58 characters.
+% @item force
+% true to compile even when the MEX files are up to date (default false).
+% @end table
+%
+% @var{rebuilt} is true when the gateways were compiled by this call.
+% Compiler warnings about the C file are shown as a warning
+% (@code{sluice:build_model:warnings}). Errors: @code{nofile},
+% @code{badclass}, @code{badname}, @code{badoption}, @code{badoutdir},
+% @code{notbuilt} (the library is missing or older than its sources: run
+% @command{make}), @code{compilefailed} (the compiler's message follows),
+% @code{noentry} (the file defines no @code{sluice_user_model}),
+% @code{baddef} (the definition is incomplete or its functions crash),
+% @code{loadfailed} (the MEX files do not load), @code{shadowed} (another
+% function of the same name comes first on the path, for example a file
+% in the current folder), all under @code{sluice:build_model:}.
+%
+% Example:
+% @example
+% spec = sluice.build_model ('reservoir.c');
+% X = sluice.simulate (spec, [], [], 0:30, struct ('time', t, 'values', rain));
+% @end example
+% @seealso{sluice.model, sluice.filter, sluice.simulate}
+% @end deftypefn
+function [spec, rebuilt] = build_model (cfile, varargin)
+  if (nargin < 1)
+    print_usage ();
+  end
+  if (~ischar (cfile) || isempty (cfile) || rows (cfile) ~= 1)
+    error ('sluice:build_model:badclass', ...
+           'argument 1 (cfile): expected the name of a C file, got %s', describe (cfile));
+  end
+  [opts, model_args] = parse_options (varargin);
+
+  cfile = make_absolute_filename (cfile);
+  if (~exist (cfile, 'file') || exist (cfile, 'dir'))
+    error ('sluice:build_model:nofile', 'no C file ''%s''', cfile);
+  end
+  [cdir, base, ext] = fileparts (cfile);
+  if (any (ismember (cfile, ['"$`\\' char(10) char(13)])))
+    error ('sluice:build_model:nofile', ...
+           'the path ''%s'' contains a character the compiler driver cannot pass on (" $ ` \\ or a line break)', ...
+           cfile);
+  end
+  if (~strcmp (ext, '.c'))
+    error ('sluice:build_model:nofile', ...
+           '''%s'' is not a C source file (expected a name ending in .c)', cfile);
+  end
+  name = opts.name;
+  if (isempty (name))
+    name = base;
+    if (~valid_name (name))
+      error ('sluice:build_model:badname', ...
+             ['''%s'' (from the file name) is not a valid Octave name of at most 58 ', ...
+              'characters: rename the file or give ''name'', for example ''%s'''], ...
+             name, suggest_name (name));
+    end
+  end
+
+  root = fileparts (fileparts (fileparts (mfilename ('fullpath'))));
+  lib = fullfile (root, 'build', 'libsluice.a');
+  if (~exist (lib, 'file'))
+    error ('sluice:build_model:notbuilt', ...
+           'the library %s is missing: run make in %s first', lib, root);
+  end
+  sources = fullfile (root, 'mex', {'pf_run.c', 'model_info.c', 'mexutil.c', 'mexrun.c'});
+  for k = 1:numel (sources)
+    if (~exist (sources{k}, 'file'))
+      error ('sluice:build_model:notbuilt', 'the gateway source %s is missing', sources{k});
+    end
+  end
+
+  outdir = opts.outdir;
+  if (isempty (outdir))
+    outdir = cdir;
+  end
+  outdir = make_absolute_filename (outdir);
+  if (~exist (outdir, 'dir'))
+    [ok, msg] = mkdir (outdir);
+    if (~ok)
+      error ('sluice:build_model:badoutdir', 'cannot create the folder %s: %s', outdir, msg);
+    end
+  end
+
+  run_fn = [name '_run'];
+  info_fn = [name '_info'];
+  targets = {fullfile(outdir, [run_fn '.' mexext()]), fullfile(outdir, [info_fn '.' mexext()])};
+  deps = [{cfile, lib}, sources, list_files(fullfile (root, 'mex'), '*.h'), ...
+          list_files(fullfile (root, 'include', 'sluice'), '*.h')];
+  % a note beside the MEX files says which C file they were built from,
+  % so that another file built under the same name is never taken for it
+  note = fullfile (outdir, ['.' name '_source']);
+  rebuilt = opts.force || ~strcmp (strtrim (read_text (note)), cfile) || ...
+            out_of_date (targets, deps);
+
+  % forget gateways of this name loaded before, so the files on disk are
+  % the ones used from now on
+  clear ('-f', run_fn, info_fn);
+  if (rebuilt)
+    check_library (root, lib);
+    compile (cfile, cdir, root, lib, outdir, targets);
+    fid = fopen (note, 'w');
+    if (fid >= 0)
+      fprintf (fid, '%s\n', cfile);
+      fclose (fid);
+    end
+  end
+  addpath (outdir);
+  if (rebuilt)
+    rehash ();
+  end
+  try
+    for k = 1:2
+      [~, fn] = fileparts (targets{k});
+      found = which (fn);   % loads the MEX file
+      if (isempty (found) || ~strcmp (canonicalize_file_name (found), ...
+                                      canonicalize_file_name (targets{k})))
+        error ('sluice:build_model:shadowed', ...
+               'the MEX file %s is shadowed by %s on the path', targets{k}, found);
+      end
+    end
+    info = feval (info_fn, '');
+  catch err
+    if (strcmp (err.identifier, 'sluice:build_model:shadowed'))
+      rethrow (err);
+    end
+    error ('sluice:build_model:loadfailed', ...
+           ['the gateways of %s do not load: %s\nThe library %s may be incomplete or ', ...
+            'older than its sources: run make, then sluice.build_model (..., ''force'', true).'], ...
+           cfile, err.message, lib);
+  end
+  info = check_info (info, cfile);
+  info.engine = run_fn;
+  spec = sluice.model (info, model_args{:});
+end
+
+function [opts, rest] = parse_options (args)
+  opts = struct ('outdir', '', 'name', '', 'force', false);
+  rest = {};
+  if (mod (numel (args), 2) ~= 0)
+    error ('sluice:build_model:badoption', 'options must come in name, value pairs');
+  end
+  for k = 1:2:numel (args)
+    key = args{k};
+    val = args{k + 1};
+    if (~ischar (key) || rows (key) ~= 1)
+      error ('sluice:build_model:badoption', 'option %d: expected a name, got %s', ...
+             (k + 1) / 2, describe (key));
+    end
+    switch (lower (key))
+      case 'outdir'
+        if (~ischar (val) || isempty (val) || rows (val) ~= 1)
+          error ('sluice:build_model:badoption', ...
+                 '''outdir'' must be the name of a folder, got %s', describe (val));
+        end
+        opts.outdir = val;
+      case 'name'
+        if (~ischar (val) || rows (val) > 1 || ~valid_name (val))
+          error ('sluice:build_model:badname', ...
+                 '''name'' must be a valid Octave name of at most 58 characters, got %s', ...
+                 describe (val));
+        end
+        opts.name = val;
+      case 'force'
+        if (~(islogical (val) || (isnumeric (val) && isreal (val))) || ~isscalar (val) || ...
+            isnan (double (val)))
+          error ('sluice:build_model:badoption', '''force'' must be true or false, got %s', ...
+                 describe (val));
+        end
+        opts.force = logical (val);
+      otherwise
+        rest = [rest, {key, val}];
+    end
+  end
+end
+
+function ok = valid_name (s)
+  % NAME_info must fit in an Octave name (63 characters)
+  ok = ischar (s) && isvarname (s) && numel (s) <= namelengthmax () - 5;
+end
+
+function s = suggest_name (s)
+  s = regexprep (s, '[^A-Za-z0-9_]', '_');
+  if (isempty (s) || ~isletter (s(1)))
+    s = ['model_' s];
+  end
+  s = s(1:min (end, namelengthmax () - 5));
+end
+
+function s = describe (v)
+  if (ischar (v) && rows (v) <= 1)
+    s = [ v ];
+  else
+    dims = arrayfun (@(d) sprintf ('%d', d), size (v), 'UniformOutput', false);
+    s = [strjoin(dims, 'x') ' ' class(v)];
+  end
+end
+
+function c = list_files (folder, pattern)
+  d = dir (fullfile (folder, pattern));
+  c = cellfun (@(f) fullfile (folder, f), {d.name}, 'UniformOutput', false);
+end
+
+function check_library (root, lib)
+  % gateways compiled against headers newer than the library would not
+  % match it (and could crash Octave): the library must be rebuilt first
+  st = stat (lib);
+  src = [list_files(fullfile (root, 'include', 'sluice'), '*.h'), ...
+         list_files(fullfile (root, 'src'), '*.c'), list_files(fullfile (root, 'src'), '*.h'), ...
+         list_files(fullfile (root, 'src', 'models'), '*.c'), ...
+         list_files(fullfile (root, 'src', 'models'), '*.h')];
+  for k = 1:numel (src)
+    [s, err] = stat (src{k});
+    if (err == 0 && s.mtime > st.mtime)
+      error ('sluice:build_model:notbuilt', ...
+             'the library %s is older than %s: run make in %s first', lib, src{k}, root);
+    end
+  end
+end
+
+function stale = out_of_date (targets, deps)
+  % stale when a target is missing or a source is newer than the oldest
+  % target. File times to the nanosecond where GNU stat gives them; with
+  % whole seconds only, a source of the same second counts as newer, so
+  % an edit is never missed.
+  [tt, exact] = file_times (targets);
+  if (any (isnan (tt)))
+    stale = true;
+    return;
+  end
+  td = file_times (deps);
+  if (exact)
+    stale = any (td > min (tt));
+  else
+    stale = any (td >= min (tt));
+  end
+end
+
+function [t, exact] = file_times (files)
+  % modification times (seconds since 1970; NaN: no such file)
+  t = nan (1, numel (files));
+  have = cellfun (@(f) exist (f, 'file') > 0, files);
+  exact = false;
+  if (any (have))
+    args = strjoin (cellfun (@shell_quote, files(have), 'UniformOutput', false), ' ');
+    [status, out] = system (['stat -c %.9Y ' args ' 2> /dev/null']);
+    v = str2double (strsplit (strtrim (out), char (10)));
+    if (status == 0 && numel (v) == sum (have) && all (isfinite (v)))
+      t(have) = v;
+      exact = true;
+      return;
+    end
+  end
+  for k = find (have)
+    [st, err] = stat (files{k});
+    if (err == 0)
+      t(k) = st.mtime;
+    end
+  end
+end
+
+function compile (cfile, cdir, root, lib, outdir, targets)
+  mk = mkoctfile_path ();
+  inc = ['-I' shell_quote(fullfile (root, 'include')) ' -I' shell_quote(fullfile (root, 'mex'))];
+  libs = ['-lgsl ' config_value(mk, 'LAPACK_LIBS') ' ' config_value(mk, 'BLAS_LIBS') ' -lm'];
+  [~, base] = fileparts (cfile);
+  % the build happens in a private folder inside outdir; the finished MEX
+  % files are renamed into place (an atomic replacement, also of files
+  % another Octave session has loaded)
+  tmp = tempname (outdir, ['.' base '_build_']);
+  [ok, msg] = mkdir (tmp);
+  if (~ok)
+    error ('sluice:build_model:badoutdir', 'cannot write in the folder %s: %s', outdir, msg);
+  end
+  cleanup = onCleanup (@() remove_folder (tmp));
+
+  % 1. the user's file alone: its own compiler messages
+  uobj = fullfile (tmp, 'model.o');
+  cmd = sprintf ('%s --mex -c -o %s %s -I%s %s -Wall -O2 -fopenmp', shell_quote (mk), ...
+                 shell_quote (uobj), inc, shell_quote (cdir), shell_quote (cfile));
+  [status, out] = system ([cmd ' 2>&1']);
+  out = strtrim (out);
+  if (status ~= 0)
+    error ('sluice:build_model:compilefailed', '%s does not compile:\n%s', cfile, out);
+  end
+  if (~isempty (out))
+    state = warning ('off', 'backtrace');
+    warning ('sluice:build_model:warnings', 'the compiler warned about %s:\n%s', cfile, out);
+    warning (state);
+  end
+
+  % 2. check the definition in a separate program, so that a definition
+  % that cannot be read, or functions that crash, never reach Octave
+  check_definition (mk, cfile, uobj, tmp, inc, lib, libs);
+
+  % 3. the two gateways, compiled side by side. mkoctfile does not quote
+  % the paths of its link step, so it runs inside the build folder with
+  % relative names only; "root" there points at the project
+  [err, ~] = symlink (root, fullfile (tmp, 'root'));
+  if (err == 0)
+    top = 'root';
+  else
+    top = root;
+  end
+  rel = @(varargin) shell_quote (strjoin (varargin, '/'));
+  names = {'run', 'info'};
+  gw = {'pf_run.c', 'model_info.c'};
+  part = cell (1, 2);
+  for k = 1:2
+    line = sprintf (['cd %s && %s --mex -o %s -DSLUICE_USER_MODEL -DMX_HAS_INTERLEAVED_COMPLEX=1 ', ...
+                     '-I%s -I%s %s model.o %s %s %s %s -O2 -fopenmp'], ...
+                    shell_quote (tmp), shell_quote (mk), [names{k} '.' mexext()], ...
+                    rel (top, 'include'), rel (top, 'mex'), rel (top, 'mex', gw{k}), ...
+                    rel (top, 'mex', 'mexutil.c'), rel (top, 'mex', 'mexrun.c'), ...
+                    rel (top, 'build', 'libsluice.a'), libs);
+    part{k} = sprintf ('(%s > %s 2>&1; echo $? > %s) &', line, ...
+                       shell_quote (fullfile (tmp, [names{k} '.log'])), ...
+                       shell_quote (fullfile (tmp, [names{k} '.rc'])));
+  end
+  system ([part{1} ' ' part{2} ' wait']);
+  for k = 1:2
+    rc = str2double (read_text (fullfile (tmp, [names{k} '.rc'])));
+    if (rc ~= 0)
+      error ('sluice:build_model:compilefailed', ...
+             'the gateway %s for %s did not build:\n%s', targets{k}, cfile, ...
+             strtrim (read_text (fullfile (tmp, [names{k} '.log']))));
+    end
+  end
+  for k = 1:2
+    [status, msg] = rename (fullfile (tmp, [names{k} '.' mexext()]), targets{k});
+    if (status ~= 0)
+      error ('sluice:build_model:badoutdir', 'cannot write %s: %s', targets{k}, msg);
+    end
+  end
+end
+
+function check_definition (mk, cfile, uobj, tmp, inc, lib, libs)
+  csrc = fullfile (tmp, 'check.c');
+  exe = fullfile (tmp, 'check');
+  fid = fopen (csrc, 'w');
+  fputs (fid, strjoin (checker_source (), char (10)));
+  fclose (fid);
+  cc = config_value (mk, 'CC');
+  cmd = sprintf ('%s -std=gnu11 %s %s %s %s -o %s -fopenmp %s', cc, inc, shell_quote (csrc), ...
+                 shell_quote (uobj), shell_quote (lib), shell_quote (exe), libs);
+  [status, out] = system ([cmd ' 2>&1']);
+  if (status ~= 0)
+    if (~isempty (strfind (out, 'undefined reference to `sluice_user_model''')))
+      error ('sluice:build_model:noentry', ...
+             ['%s defines no function sluice_user_model. Add (not static):\n', ...
+              '  const sl_model_def *sluice_user_model(void) { return &my_model; }\n', ...
+              'where my_model is the file''s static const sl_model_def.'], cfile);
+    end
+    error ('sluice:build_model:compilefailed', '%s does not link:\n%s', cfile, strtrim (out));
+  end
+  [status, out] = system ([timeout_prefix() shell_quote(exe) ' 2>&1']);
+  lines = strsplit (strtrim (out), char (10));
+  if (status == 2)
+    bad = lines(strncmp (lines, 'problem: ', 9));
+    bad = regexprep (bad, '^problem: ', '  ');
+    error ('sluice:build_model:baddef', 'the model definition in %s is not usable:\n%s', ...
+           cfile, strjoin (bad, char (10)));
+  elseif (status ~= 0)
+    calls = lines(strncmp (lines, 'calling ', 8));
+    if (isempty (calls))
+      where = 'while its definition was read (sluice_user_model)';
+    else
+      last = calls{end};
+      where = ['when ' last(9:end) ' was called once at the default parameters'];
+    end
+    if (status == 124)
+      what = 'did not return within 20 s';
+    else
+      what = sprintf ('crashed (exit status %d)', status);
+    end
+    error ('sluice:build_model:baddef', 'the model in %s %s %s', cfile, what, where);
+  end
+end
+
+function p = timeout_prefix ()
+  % a model function that never returns must not hang the build
+  [status, ~] = system ('command -v timeout > /dev/null 2>&1');
+  if (status == 0)
+    p = 'timeout 20 ';
+  else
+    p = '';
+  end
+end
+
+function src = checker_source ()
+  src = { ...
+  '/* Checks the definition a user''s model file returns, and calls each of'
+  ' * its functions once, before Octave loads it. Exit 0: usable; 2: the'
+  ' * problems printed; anything else: the model crashed. */'
+  '#include <math.h>'
+  '#include <stdio.h>'
+  '#include <stdlib.h>'
+  '#include <string.h>'
+  '#include "sluice/model.h"'
+  ''
+  'const sl_model_def *sluice_user_model(void);'
+  ''
+  'static int problems = 0;'
+  'static const double guard = -7.25e300;'
+  ''
+  'static void check_names(const char *const *list, size_t count, const char *what)'
+  '{'
+  '    size_t k;'
+  '    if (count == 0)'
+  '        return;'
+  '    if (list == NULL) {'
+  '        printf("problem: %s is NULL but %lu name(s) are declared\n", what, (unsigned long)count);'
+  '        problems++;'
+  '        return;'
+  '    }'
+  '    for (k = 0; k < count; k++)'
+  '        if (list[k] == NULL || list[k][0] == 0) {'
+  '            printf("problem: %s: name %lu is missing\n", what, (unsigned long)(k + 1));'
+  '            problems++;'
+  '        }'
+  '}'
+  ''
+  'static double *buffer(size_t count, const double *init)'
+  '{'
+  '    double *v = calloc(count + 8, sizeof(double));'
+  '    size_t k;'
+  '    if (v == NULL) {'
+  '        printf("problem: out of memory\n");'
+  '        exit(2);'
+  '    }'
+  '    for (k = 0; k < count; k++)'
+  '        v[k] = init != NULL ? init[k] : 0.0;'
+  '    for (k = count; k < count + 8; k++)'
+  '        v[k] = guard;'
+  '    return v;'
+  '}'
+  ''
+  'static void stage(const char *what)'
+  '{'
+  '    printf("calling %s\n", what);'
+  '    fflush(stdout);'
+  '}'
+  ''
+  'static void guarded(const double *v, size_t count, const char *who, const char *what)'
+  '{'
+  '    size_t k;'
+  '    for (k = count; k < count + 8; k++)'
+  '        if (v[k] != guard) {'
+  '            printf("problem: %s writes past the %lu entries of %s\n", who, (unsigned long)count, what);'
+  '            problems++;'
+  '            return;'
+  '        }'
+  '}'
+  ''
+  'int main(void)'
+  '{'
+  '    const sl_model_def *d = sluice_user_model();'
+  '    const char *in;'
+  '    size_t n, k, np, nq, ne;'
+  '    double *x, *dx, *p, *u, *ev;'
+  '    if (d == NULL) {'
+  '        printf("problem: sluice_user_model() returned NULL\n");'
+  '        return 2;'
+  '    }'
+  '    if (d->name == NULL || d->name[0] == 0) {'
+  '        printf("problem: the definition has no name\n");'
+  '        problems++;'
+  '    }'
+  '    np = d->n_param;'
+  '    nq = d->n_forcing;'
+  '    ne = d->n_event;'
+  '    if (d->n_state > 1000000 || d->n_min > 1000000 || np > 100000 || nq > 100000 || ne > 100000) {'
+  '        printf("problem: implausible sizes (n_state %lu, n_min %lu, n_param %lu, n_forcing %lu, n_event %lu)\n",'
+  '               (unsigned long)d->n_state, (unsigned long)d->n_min, (unsigned long)np,'
+  '               (unsigned long)nq, (unsigned long)ne);'
+  '        return 2;'
+  '    }'
+  '    n = d->n_state > 0 ? d->n_state : (d->n_min > 1 ? d->n_min : 1);'
+  '    if (d->n_state > 0 && d->n_min > d->n_state) {'
+  '        printf("problem: n_min (%lu) exceeds n_state (%lu)\n", (unsigned long)d->n_min, (unsigned long)d->n_state);'
+  '        problems++;'
+  '    }'
+  '    if (d->state_names != NULL)'
+  '        check_names(d->state_names, d->n_state, "state_names");'
+  '    check_names(d->param_names, np, "param_names");'
+  '    check_names(d->forcing_names, nq, "forcing_names");'
+  '    check_names(d->event_names, ne, "event_names");'
+  '    if (d->rhs == NULL && d->map == NULL && d->map_block == NULL) {'
+  '        printf("problem: neither a right-hand side (rhs) nor a step map (map) is given\n");'
+  '        problems++;'
+  '    }'
+  '    if (ne > 0 && d->jump == NULL) {'
+  '        printf("problem: n_event is %lu but no event map (jump) is given\n", (unsigned long)ne);'
+  '        problems++;'
+  '    }'
+  '    if (!(d->dt > 0) || !isfinite(d->dt)) {'
+  '        printf("problem: the time step dt must be finite and > 0, got %g\n", d->dt);'
+  '        problems++;'
+  '    }'
+  '    in = d->integrator;'
+  '    if (in != NULL && in[0] != 0) {'
+  '        if (strcmp(in, "euler") && strcmp(in, "rk4") && strcmp(in, "dopri5") && strcmp(in, "discrete")) {'
+  '            printf("problem: unknown integrator \"%s\" (euler, rk4, dopri5 or discrete)\n", in);'
+  '            problems++;'
+  '        } else if (strcmp(in, "discrete") == 0 && d->map == NULL && d->map_block == NULL) {'
+  '            printf("problem: the integrator \"discrete\" needs a step map (map)\n");'
+  '            problems++;'
+  '        } else if (strcmp(in, "discrete") != 0 && d->rhs == NULL) {'
+  '            printf("problem: the integrator \"%s\" needs a right-hand side (rhs)\n", in);'
+  '            problems++;'
+  '        }'
+  '    }'
+  '    if (d->p_lower != NULL && d->p_upper != NULL)'
+  '        for (k = 0; k < np; k++)'
+  '            if (!(d->p_lower[k] <= d->p_upper[k])) {'
+  '                printf("problem: parameter %lu: lower bound %g is not <= upper bound %g\n",'
+  '                       (unsigned long)(k + 1), d->p_lower[k], d->p_upper[k]);'
+  '                problems++;'
+  '            }'
+  '    if (problems)'
+  '        return 2;'
+  ''
+  '    /* one call of each function at the defaults, zero forcing and events */'
+  '    x = buffer(n, d->n_state > 0 ? d->x0 : NULL);'
+  '    dx = buffer(n, NULL);'
+  '    p = buffer(np, NULL);'
+  '    u = buffer(nq, NULL);'
+  '    ev = buffer(ne, NULL);'
+  '    for (k = 0; k < np; k++) {'
+  '        double lo = d->p_lower != NULL ? d->p_lower[k] : -HUGE_VAL;'
+  '        double hi = d->p_upper != NULL ? d->p_upper[k] : HUGE_VAL;'
+  '        if (d->p_default != NULL && isfinite(d->p_default[k]))'
+  '            p[k] = d->p_default[k];'
+  '        else if (isfinite(lo) && isfinite(hi))'
+  '            p[k] = 0.5 * (lo + hi);'
+  '        else if (isfinite(lo))'
+  '            p[k] = lo + 1.0;'
+  '        else if (isfinite(hi))'
+  '            p[k] = hi - 1.0;'
+  '        else'
+  '            p[k] = 1.0;'
+  '    }'
+  '    if (d->rhs != NULL) {'
+  '        stage("the right-hand side (rhs)");'
+  '        d->rhs(d, n, 0.0, x, p, u, dx);'
+  '        guarded(dx, n, "the right-hand side (rhs)", "dxdt");'
+  '    }'
+  '    if (d->map != NULL) {'
+  '        stage("the step map (map)");'
+  '        d->map(d, n, 0.0, d->dt, x, p, u);'
+  '        guarded(x, n, "the step map (map)", "x");'
+  '    }'
+  '    if (d->map_block != NULL) {'
+  '        size_t count = 3, w = d->block_work != NULL ? d->block_work(n, count) : 0;'
+  '        double *X = buffer(n * count, NULL), *P = buffer(np * count, NULL);'
+  '        double *U = buffer(nq * count, NULL), *W = buffer(w, NULL);'
+  '        for (k = 0; k < np * count; k++)'
+  '            P[k] = p[k % np];'
+  '        for (k = 0; k < n * count; k++)'
+  '            X[k] = x[k % n];'
+  '        stage("the block step map (map_block)");'
+  '        d->map_block(d, n, count, 0.0, d->dt, X, P, U, W);'
+  '        guarded(X, n * count, "the block step map (map_block)", "X");'
+  '        guarded(W, w, "the block step map (map_block)", "its work space (block_work)");'
+  '    }'
+  '    if (d->jump != NULL && ne > 0) {'
+  '        stage("the event map (jump)");'
+  '        d->jump(d, n, 0.0, x, p, ev);'
+  '        guarded(x, n, "the event map (jump)", "x");'
+  '    }'
+  '    printf("ok\n");'
+  '    return problems ? 2 : 0;'
+  '}'
+  ''};
+end
+
+function info = check_info (info, cfile)
+  lists = {'states', 'params', 'forcings', 'events'};
+  for k = 1:numel (lists)
+    c = info.(lists{k});
+    for j = 1:numel (c)
+      if (~isvarname (c{j}))
+        error ('sluice:build_model:baddef', ...
+               'the model in %s: ''%s'' (one of its %s) is not a valid Octave name', ...
+               cfile, c{j}, lists{k});
+      end
+    end
+  end
+  if (isempty (info.states) && info.n_state > 0)
+    % a fixed size without names: x1, x2, ...
+    info.states = arrayfun (@(k) sprintf ('x%d', k), 1:info.n_state, 'UniformOutput', false);
+  end
+  if (isempty (info.integrator))
+    if (info.has_rhs)
+      info.integrator = 'rk4';
+    else
+      info.integrator = 'discrete';
+    end
+  end
+end
+
+function mk = mkoctfile_path ()
+  % the mkoctfile of the running Octave
+  bin = fullfile (matlabroot (), 'bin');
+  cand = {fullfile(bin, ['mkoctfile-' version()]), fullfile(bin, 'mkoctfile')};
+  mk = 'mkoctfile';
+  for k = 1:numel (cand)
+    if (exist (cand{k}, 'file'))
+      mk = cand{k};
+      return;
+    end
+  end
+end
+
+function v = config_value (mk, var)
+  [status, v] = system ([shell_quote(mk) ' -p ' var]);
+  v = strtrim (v);
+  if (status ~= 0 || isempty (v))
+    error ('sluice:build_model:compilefailed', 'mkoctfile -p %s failed: %s', var, v);
+  end
+end
+
+function s = shell_quote (s)
+  s = ['''' strrep(s, '''', '''\''''') ''''];
+end
+
+function txt = read_text (file)
+  txt = '';
+  if (exist (file, 'file'))
+    txt = fileread (file);
+  end
+end
+
+function remove_folder (d)
+  % the build folder holds files and one symbolic link, no folders
+  if (exist (d, 'dir'))
+    f = dir (d);
+    for k = 1:numel (f)
+      if (~any (strcmp (f(k).name, {'.', '..'})))
+        unlink (fullfile (d, f(k).name));
+      end
+    end
+    rmdir (d);
+  end
+end
+
+%!error id=sluice:build_model:badclass sluice.build_model (3)
+%!error id=sluice:build_model:badclass sluice.build_model ({'a.c'})
+%!error id=sluice:build_model:badclass sluice.build_model ('')
+%!error id=sluice:build_model:nofile sluice.build_model ('/nonexistent/folder/model.c')
+%!error id=sluice:build_model:nofile sluice.build_model (tempdir ())
+%!error id=sluice:build_model:badoption sluice.build_model ('/nonexistent/m.c', 'outdir')
+%!error id=sluice:build_model:badoption sluice.build_model ('/nonexistent/m.c', 3, 4)
+%!error id=sluice:build_model:badoption sluice.build_model ('/nonexistent/m.c', 'outdir', 3)
+%!error id=sluice:build_model:badoption sluice.build_model ('/nonexistent/m.c', 'force', 'yes')
+%!error id=sluice:build_model:badoption sluice.build_model ('/nonexistent/m.c', 'force', [true true])
+%!error id=sluice:build_model:badname sluice.build_model ('/nonexistent/m.c', 'name', '2x')
+%!error id=sluice:build_model:badname sluice.build_model ('/nonexistent/m.c', 'name', repmat ('a', 1, 60))
+%!error <nonexistent> sluice.build_model ('/nonexistent/folder/model.c')
+%!test
+%! % a file that is not C, and a file name that is no Octave name
+%! d = tempname (); mkdir (d);
+%! f1 = fullfile (d, 'model.txt'); f2 = fullfile (d, 'two-words.c');
+%! fclose (fopen (f1, 'w')); fclose (fopen (f2, 'w'));
+%! try
+%!   sluice.build_model (f1);
+%!   error ('no error');
+%! catch err
+%!   assert (err.identifier, 'sluice:build_model:nofile');
+%! end
+%! try
+%!   sluice.build_model (f2);
+%!   error ('no error');
+%! catch err
+%!   assert (err.identifier, 'sluice:build_model:badname');
+%!   assert (~isempty (strfind (err.message, 'two_words')));
+%! end
+%! delete (f1); delete (f2); rmdir (d);
