@@ -6,6 +6,7 @@
 
 #include "mexrun.h"
 #include "mexutil.h"
+#include "sluice/enkf.h"
 #include "sluice/integrate.h"
 #include "sluice/loglik.h"
 #include "sluice/model.h"
@@ -14,10 +15,6 @@
 
 static const char *FN = "filter";
 
-#ifdef SLUICE_USER_MODEL
-/* Gateways built by sluice.build_model link the user's definition. */
-const sl_model_def *sluice_user_model(void);
-#endif
 
 /* The integrator a config names ("" or absent: the model's default). */
 static const sl_integrator *config_integrator(const mxArray *c)
@@ -85,7 +82,7 @@ void mexFunction(int nlhs, mxArray *plhs[], int nrhs, const mxArray *prhs[])
     static const char *const move_names[] = {"fixed", "random_walk", "liu_west"};
     static const char *out_names[] = {
         "mean", "quantiles", "ess", "logz", "resampled", "degenerate",
-        "skipped", "nonfinite", "log_evidence", "steps", "X", "P", "w",
+        "skipped", "nonfinite", "inflation", "floored", "log_evidence", "steps", "X", "P", "w",
         "history_X", "history_P", "history_w", "history_ancestors"};
     const mxArray *c;
     sl_model model;
@@ -94,6 +91,8 @@ void mexFunction(int nlhs, mxArray *plhs[], int nrhs, const mxArray *prhs[])
     sl_def_model dm;
     sl_events events;
     sl_tolerance tol;
+    sl_enkf_config ecfg;
+    sl_localization loc;
     int *enoise = NULL, history;
     slm_poll poll;
     sl_pf_config cfg;
@@ -290,6 +289,44 @@ void mexFunction(int nlhs, mxArray *plhs[], int nrhs, const mxArray *prhs[])
     cfg.poll = slm_poll_fn;
     cfg.poll_ctx = &poll;
 
+    /* ensemble Kalman methods */
+    {
+        char *method = slm_string(FN, slm_field(FN, c, "method", 1), 1, "method");
+        if (strcmp(method, "pf") != 0) {
+            const mxArray *g = slm_field(FN, c, "geometry", 0);
+            memset(&ecfg, 0, sizeof ecfg);
+            ecfg.method = sl_enkf_method_find(method);
+            if (ecfg.method < 0)
+                slm_fail(FN, "badmethod", "unknown method '%s'", method);
+            ecfg.inflation = fscalar(c, "inflation");
+            ecfg.rtpp = fscalar(c, "rtpp");
+            ecfg.rtps = fscalar(c, "rtps");
+            ecfg.eig_floor = 0.0;
+            cfg.enkf = &ecfg;
+            cfg.adaptive_inflation = fscalar(c, "adaptive_inflation") != 0;
+            cfg.inflation_max = fscalar(c, "inflation_max");
+            if (g != NULL && mxGetNumberOfElements(g) > 0) {
+                static const char *const geoms[] = {"line", "ring", "plane", "sphere"};
+                char *gname = slm_string(FN, g, 1, "geometry");
+                size_t mall = first[T];
+                memset(&loc, 0, sizeof loc);
+                loc.geometry = choose(FN, "geometry", gname, geoms, 4);
+                loc.dim = loc.geometry >= SL_GEOM_PLANE ? 2 : 1;
+                loc.period_or_radius = fscalar(c, "period_or_radius");
+                loc.state_pos = fmat(c, "state_pos", v, loc.dim, SLM_ALLOW_NAN);
+                loc.obs_pos = mall ? fmat(c, "obs_pos", mall, loc.dim, 0) : NULL;
+                loc.obs_c = mall ? fmat(c, "obs_c", mall, 0, SLM_VECTOR) : NULL;
+                loc.param_factor = fscalar(c, "param_factor");
+                for (k = 0; k < mall; k++)
+                    if (!(loc.obs_c[k] > 0))
+                        slm_fail(FN, "badlocalization",
+                                 "observation %lu: the localisation radius must be > 0",
+                                 (unsigned long)(k + 1));
+                cfg.loc = &loc;
+            }
+        }
+    }
+
     /* initial ensemble (copied: the run writes the final one in place) */
     {
         const double *x0 = fmat(c, "X0", n, N, 0);
@@ -339,6 +376,8 @@ void mexFunction(int nlhs, mxArray *plhs[], int nrhs, const mxArray *prhs[])
         ROWFIELD("degenerate", out.degenerate);
         ROWFIELD("skipped", out.skipped);
         ROWFIELD("nonfinite", out.nonfinite);
+        ROWFIELD("inflation", out.inflation);
+        ROWFIELD("floored", out.floored);
 #undef ROWFIELD
         if (cfg.keep_history) {
             /* history 1: everything; 2: the states only (simulate, propagate) */

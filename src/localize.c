@@ -11,9 +11,14 @@ double sl_gaspari_cohn(double d, double c)
         return NAN;
     if (z <= 1.0)
         return (((-0.25 * z + 0.5) * z + 0.625) * z - 5.0 / 3.0) * z * z + 1.0;
-    if (z < 2.0)
-        return ((((z / 12.0 - 0.5) * z + 0.625) * z + 5.0 / 3.0) * z - 5.0) * z + 4.0 -
-               2.0 / (3.0 * z);
+    if (z < 2.0) {
+        /* eq. 4.10's polynomial (z^5/12 - z^4/2 + 5z^3/8 + 5z^2/3 - 5z + 4
+         * - 2/(3z)) factored as (2 - z)^4 (2z^2 + 4z - 1) / (24 z): the same
+         * function, without the cancellation that leaves rounding noise
+         * (even negative values) near z = 2 */
+        double u = 2.0 - z, u2 = u * u;
+        return u2 * u2 * ((2.0 * z + 4.0) * z - 1.0) / (24.0 * z);
+    }
     return 0.0;
 }
 

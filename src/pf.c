@@ -7,6 +7,7 @@
 #include <omp.h>
 #endif
 
+#include "sluice/enkf.h"
 #include "sluice/loglik.h"
 #include "sluice/rng.h"
 #include "sluice/stats.h"
@@ -20,6 +21,11 @@ typedef struct {
     double *X[2], *Z[2], *P[2], *E[2]; /* ping-pong pairs for resampling */
     unsigned char *dead[2];
     double *U, *u0, *Yhat, *ll, *logw, *lw, *rwork, *mwork, *qwork;
+    /* ensemble Kalman analysis: augmented ensemble, compacted
+     * observations and their positions, live members, the method's work */
+    double *A, *Hc, *yc, *rc, *opos, *oc;
+    size_t *live;
+    void *ework;
     double *lw_mean, *lw_cov, *lw_chol;
     uint32_t *anc;
     sl_error *terr;
@@ -87,6 +93,24 @@ static size_t layout(const sl_pf_config *cfg, unsigned char *base,
     carve(base, &off, p * p * 8, (void **)&b->lw_cov);
     carve(base, &off, p * p * 8, (void **)&b->lw_chol);
     carve(base, &off, N * 4, (void **)&b->anc);
+    if (cfg->enkf != NULL) {
+        /* sized for the configuration the cycle runs (enkf_update) */
+        size_t dim = cfg->loc != NULL ? cfg->loc->dim : 0, ew;
+        sl_enkf_config ec = *cfg->enkf;
+        ec.threads = cfg->threads;
+        ec.loc = cfg->loc;
+        ew = sl_enkf_workspace(&ec, n + p, N, m_max ? m_max : 1, 0);
+        if (ew == 0 || dim > 2)
+            return 0;
+        carve(base, &off, (n + p) * N * 8, (void **)&b->A);
+        carve(base, &off, m_max * N * 8, (void **)&b->Hc);
+        carve(base, &off, m_max * 8, (void **)&b->yc);
+        carve(base, &off, m_max * 8, (void **)&b->rc);
+        carve(base, &off, m_max * dim * 8, (void **)&b->opos);
+        carve(base, &off, m_max * 8, (void **)&b->oc);
+        carve(base, &off, N * sizeof(size_t), (void **)&b->live);
+        carve(base, &off, ew, &b->ework);
+    }
     tmp = carve(base, &off, nthr * sizeof(sl_error), (void **)&b->terr);
     return tmp;
 }
@@ -243,6 +267,23 @@ sl_status sl_pf_check(const sl_pf_config *cfg, sl_error *err)
             return sl_fail(err, SL_EINVAL, "badconfig",
                            "quantile level %lu must lie in [0, 1], got %g",
                            (unsigned long)(k + 1), cfg->probs[k]);
+    if (cfg->enkf != NULL) {
+        if (cfg->N < 2)
+            return sl_fail(err, SL_EINVAL, "badconfig",
+                           "the ensemble Kalman methods need at least 2 members");
+        for (k = 0; k < m; k++)
+            if (cfg->family[k] != SL_FAMILY_GAUSSIAN)
+                return sl_fail(err, SL_EINVAL, "badfamily",
+                               "observation %lu: the ensemble Kalman methods take Gaussian "
+                               "observations only; use the particle filter for other families",
+                               (unsigned long)(k + 1));
+        if (cfg->enkf->method == SL_ENKF_LETKF && cfg->loc == NULL)
+            return sl_fail(err, SL_EINVAL, "badlocalization",
+                           "the LETKF needs positions of the states and observations");
+        if (cfg->adaptive_inflation && !(cfg->inflation_max >= 1))
+            return sl_fail(err, SL_EINVAL, "badconfig",
+                           "the largest adaptive inflation must be >= 1");
+    }
     if (sl_pf_workspace(cfg) == 0)
         return sl_fail(err, SL_ENOMEM, "nomemory",
                        "the run's workspace size overflows");
@@ -503,6 +544,116 @@ static int has_nonfinite(const double *x, size_t n)
     return 0;
 }
 
+/* The ensemble Kalman analysis of cycle k: live members only, observed
+ * rows only, states and transformed parameters together. */
+static sl_status enkf_update(const sl_pf_config *cfg, pf_buffers *b, size_t k,
+                             size_t r0, size_t m, const unsigned char *dead,
+                             double *X, double *Z, double *P, double *infl,
+                             sl_pf_output *out, int *degenerate,
+                             size_t *nskipped, sl_error *err)
+{
+    const size_t N = cfg->N, n = cfg->model->n_state, p = cfg->model->n_param;
+    const size_t v = n + p, dim = cfg->loc != NULL ? cfg->loc->dim : 0;
+    size_t L = 0, mk = 0, i, j, jj, d;
+    sl_enkf_config ecfg = *cfg->enkf;
+    sl_localization lc;
+    sl_enkf_info info;
+    sl_status st;
+    for (j = 0; j < N; j++)
+        if (!dead[j])
+            b->live[L++] = j;
+    for (i = 0; i < m; i++)
+        mk += !isnan(cfg->y[r0 + i]);
+    *nskipped = m - mk;
+    if (mk == 0)
+        return SL_OK;
+    if (L < 2) {
+        *degenerate = 1;
+        return SL_OK;
+    }
+    mk = 0;
+    for (i = 0; i < m; i++) {
+        size_t row = r0 + i;
+        if (isnan(cfg->y[row]))
+            continue;
+        b->yc[mk] = cfg->y[row];
+        b->rc[mk] = cfg->sigma[row] * cfg->sigma[row];
+        mk++;
+    }
+    for (i = 0, mk = 0; i < m; i++) {
+        size_t row = r0 + i, mt = m - *nskipped;
+        if (isnan(cfg->y[row]))
+            continue;
+        for (jj = 0; jj < L; jj++)
+            b->Hc[mk + jj * mt] = b->Yhat[i + b->live[jj] * m];
+        if (cfg->loc != NULL) {
+            size_t mall = cfg->obs_first[cfg->T];
+            for (d = 0; d < dim; d++)
+                b->opos[mk + d * mt] = cfg->loc->obs_pos[row + d * mall];
+            b->oc[mk] = cfg->loc->obs_c[row];
+        }
+        mk++;
+    }
+    for (jj = 0; jj < L; jj++) {
+        memcpy(b->A + jj * v, X + b->live[jj] * n, n * sizeof(double));
+        if (p > 0)
+            memcpy(b->A + jj * v + n, Z + b->live[jj] * p, p * sizeof(double));
+    }
+    if (cfg->adaptive_inflation) {
+        /* variance inflation from the innovations: E[d'd] = lambda tr(HBH') + tr R */
+        double d2 = 0.0, trR = 0.0, trB = 0.0, est;
+        for (i = 0; i < mk; i++) {
+            double mean = 0.0, var = 0.0;
+            for (jj = 0; jj < L; jj++)
+                mean += b->Hc[i + jj * mk];
+            mean /= (double)L;
+            for (jj = 0; jj < L; jj++) {
+                double e = b->Hc[i + jj * mk] - mean;
+                var += e * e;
+            }
+            trB += var / (double)(L - 1);
+            d2 += (b->yc[i] - mean) * (b->yc[i] - mean);
+            trR += b->rc[i];
+        }
+        est = trB > 0 ? sqrt(fmax((d2 - trR) / trB, 0.0)) : 1.0;
+        if (!(est >= 1.0))
+            est = 1.0;
+        if (est > cfg->inflation_max)
+            est = cfg->inflation_max;
+        *infl = 0.9 * *infl + 0.1 * est;
+        ecfg.inflation = *infl;
+    }
+    ecfg.seed = cfg->seed;
+    ecfg.cycle = (uint32_t)k;
+    ecfg.threads = cfg->threads;
+    if (cfg->loc != NULL) {
+        lc = *cfg->loc;
+        lc.obs_pos = b->opos;
+        lc.obs_c = b->oc;
+        ecfg.loc = &lc;
+    } else {
+        ecfg.loc = NULL;
+    }
+    memset(&info, 0, sizeof info);
+    st = sl_enkf_analysis(&ecfg, v, L, b->A, mk, b->Hc, b->yc, b->rc, 0, b->ework,
+                          &info, err);
+    if (st != SL_OK)
+        return st;
+    for (jj = 0; jj < L; jj++) {
+        size_t jm = b->live[jj];
+        memcpy(X + jm * n, b->A + jj * v, n * sizeof(double));
+        for (i = 0; i < p; i++) {
+            Z[i + jm * p] = b->A[jj * v + n + i];
+            P[i + jm * p] = sl_transform_inverse(&cfg->ptrans[i], Z[i + jm * p]);
+        }
+    }
+    if (out->inflation != NULL)
+        out->inflation[k] = ecfg.inflation;
+    if (out->floored != NULL)
+        out->floored[k] = (double)info.floored;
+    return SL_OK;
+}
+
 sl_status sl_pf_run(const sl_pf_config *cfg, double *X, double *P, double *w,
                     void *work, sl_pf_output *out, sl_error *err)
 {
@@ -511,7 +662,7 @@ sl_status sl_pf_run(const sl_pf_config *cfg, double *X, double *P, double *w,
     pf_buffers b;
     int cur = 0;
     uint32_t s = 0;
-    double t;
+    double t, infl;
     sl_status st = sl_pf_check(cfg, err);
     if (st != SL_OK)
         return st;
@@ -545,6 +696,7 @@ sl_status sl_pf_run(const sl_pf_config *cfg, double *X, double *P, double *w,
         memset(b.E[0], 0, q * N * sizeof(double));
     out->log_evidence = 0.0;
     out->steps = 0;
+    infl = cfg->enkf != NULL ? cfg->enkf->inflation : 1.0;
     t = cfg->t0;
 
     for (k = 0; k < cfg->T; k++) {
@@ -609,16 +761,34 @@ sl_status sl_pf_run(const sl_pf_config *cfg, double *X, double *P, double *w,
             }
         }
 
+        if (cfg->enkf != NULL) {
+            /* ensemble Kalman: the analysis moves the members; the living
+             * ones keep equal weights, the dead are replaced below */
+            size_t nlive = N - ndead;
+            if (m > 0) {
+                predict_obs(cfg, &b, r0, m, Xc, Pc);
+                st = enkf_update(cfg, &b, k, r0, m, b.dead[cur], Xc, Zc, Pc, &infl,
+                                 out, &degenerate, &nskipped, err);
+                if (st != SL_OK)
+                    return st;
+            }
+            for (j = 0; j < N; j++)
+                w[j] = b.dead[cur][j] || nlive == 0 ? 0.0 : 1.0 / (double)nlive;
+            out->logz[k] = NAN;
+            out->log_evidence = NAN;
+            reweight = 0;
+        }
         /* weight: b.lw holds the members' normalised log-weights */
         nobs = 0;
-        if (m > 0) {
+        if (cfg->enkf == NULL && m > 0) {
             predict_obs(cfg, &b, r0, m, Xc, Pc);
             loglik_all(cfg, &b, r0, m, &nskipped);
             nobs = m - nskipped;
             if (nobs > 0)
                 reweight = 1;
         }
-        out->logz[k] = 0.0;
+        if (cfg->enkf == NULL)
+            out->logz[k] = 0.0;
         if (reweight) {
             sl_weight_summary ws;
             sl_error werr;
@@ -678,8 +848,8 @@ sl_status sl_pf_run(const sl_pf_config *cfg, double *X, double *P, double *w,
                 memcpy(out->hist_w + k * N, w, N * sizeof(double));
         }
 
-        /* resample */
-        if (wsum > 0 && ess < cfg->threshold * (double)N) {
+        /* resample (ensemble Kalman: only to replace dead members) */
+        if (wsum > 0 && (cfg->enkf != NULL ? ndead > 0 : ess < cfg->threshold * (double)N)) {
             int nx = 1 - cur;
             st = sl_resample(cfg->resampler, N, w, N, cfg->seed, (uint32_t)k,
                              b.rwork, b.anc, err);

@@ -42,9 +42,7 @@ double sl_distance(int geometry, double period_or_radius, const double *a,
 
 /* Positions for localisation. A state row whose first coordinate is NaN
  * (a parameter of state augmentation, say) is not localised: every
- * observation acts on it with full weight, unless param_radius > 0, when
- * it is treated as lying at distance 0 of no observation but damped by
- * the factor param_factor in (0, 1]. */
+ * observation acts on it with the weight param_factor, in (0, 1]. */
 typedef struct {
     int geometry;
     double period_or_radius; /* ring period / sphere radius */

@@ -4,6 +4,7 @@
 
 #include <stddef.h>
 #include <stdint.h>
+#include "sluice/enkf.h"
 #include "sluice/model.h"
 #include "sluice/prior.h"
 #include "sluice/resample.h"
@@ -73,6 +74,21 @@ typedef struct {
     int keep_history;
     sl_poll_fn poll;             /* called between steps; non-zero stops */
     void *poll_ctx;
+    /* Ensemble Kalman methods: with enkf != NULL the analysis of
+     * sl_enkf_analysis replaces weighting and resampling. States and
+     * transformed parameters are updated together (state augmentation);
+     * observations must be Gaussian. loc (may be NULL, needed for LETKF)
+     * gives state_pos for the n + p rows (parameter rows NaN: not
+     * localised) and obs_pos / obs_c for every observation row of the run
+     * (obs_first[T] rows). adaptive_inflation: the multiplicative
+     * inflation is re-estimated each cycle from the innovations,
+     * lambda = (d'd - tr R) / tr(HBH'), kept within [1, inflation_max] and
+     * smoothed with weight 0.1 (common practice), starting from
+     * enkf->inflation. */
+    const sl_enkf_config *enkf;
+    const sl_localization *loc;
+    int adaptive_inflation;
+    double inflation_max;
 } sl_pf_config;
 
 /* What a run records; the caller allocates every array (sizes with
@@ -82,11 +98,14 @@ typedef struct {
     double *mean;        /* v x T weighted means (states, then parameters) */
     double *quant;       /* v x nq x T weighted quantiles */
     double *ess;         /* T: ESS after weighting, before resampling */
-    double *logz;        /* T: log-evidence increments */
+    double *logz;        /* T: log-evidence increments (NaN for the
+                          * ensemble Kalman methods) */
     double *resampled;   /* T: 1 if the cycle resampled */
     double *degenerate;  /* T: 1 if every member had zero likelihood */
     double *skipped;     /* T: observations skipped as missing */
     double *nonfinite;   /* T: members whose state was not finite */
+    double *inflation;   /* T: inflation used (ensemble Kalman), or NULL */
+    double *floored;     /* T: eigenvalues floored (ensemble Kalman), or NULL */
     double *hist_X;      /* n x N x T states after the forecast */
     double *hist_P;      /* p x N x T parameters */
     double *hist_w;      /* N x T weights after the update */

@@ -26,7 +26,31 @@
 % Options (a struct or name/value pairs):
 % @table @code
 % @item method
-% @code{'pf'} (default; the only method so far): the particle filter.
+% @code{'pf'} (default): the particle filter. The ensemble Kalman methods
+% (Gaussian observations only; states and parameters updated together by
+% state augmentation, parameters in their transformed space):
+% @code{'enkf'} (stochastic, perturbed observations), @code{'etkf'}
+% (symmetric square root), @code{'ensrf'} and @code{'eakf'} (serial, one
+% observation at a time), @code{'letkf'} (local, needs
+% @code{localization}). Their log-evidence is NaN; dead members are
+% replaced by copies of living ones.
+% @item inflation
+% multiplicative prior inflation of the perturbations (>= 1, default 1).
+% @item rtpp, rtps
+% relaxation to prior perturbations / to prior spread, in [0, 1].
+% @item adaptive_inflation
+% true to re-estimate the inflation each cycle from the innovations
+% (starting at @code{inflation}, at most @code{inflation_max}, default 2).
+% @item localization
+% struct: @code{geometry} (@code{'line'}, @code{'ring'} with
+% @code{period}, @code{'plane'}, @code{'sphere'} with lon/lat in degrees and
+% @code{sphere_radius}, default 6371), @code{positions} (n x 1 or n x 2,
+% one row per state; default 1..n in 1-D), @code{radius} (the
+% Gaspari-Cohn half-width c, support 2c: a scalar, or a struct of one
+% radius per observed variable), @code{param_factor} (weight of every
+% observation on the parameters, default 1). An observation sits at the
+% position of the state it observes, or at the table's columns @code{x}
+% (and @code{y}).
 % @item members
 % ensemble size N (default 1000).
 % @item seed
@@ -164,11 +188,18 @@ function res = filter (model, prior, obs, varargin)
   c.progress = opts.progress;
   c.X0 = X0;
   c.P0 = P0;
+  c.method = opts.method;
+  c.inflation = opts.inflation;
+  c.rtpp = opts.rtpp;
+  c.rtps = opts.rtps;
+  c.adaptive_inflation = double (opts.adaptive_inflation);
+  c.inflation_max = opts.inflation_max;
+  c = add_localization (c, opts, model, tab, obs);
 
   r = sluice.kernel.run_engine (model, c);
 
   res = struct ();
-  res.method = 'pf';
+  res.method = opts.method;
   res.model = model.name;
   res.members = N;
   res.seed = opts.seed;
@@ -189,6 +220,10 @@ function res = filter (model, prior, obs, varargin)
   res.skipped_total = sum (r.skipped);
   res.nonfinite = r.nonfinite;
   res.model_steps = r.steps;
+  if (~strcmp (opts.method, 'pf'))
+    res.inflation = r.inflation;
+    res.floored = r.floored;
+  end
   res.final = struct ('X', r.X, 'P', r.P, 'w', r.w);
   if (opts.history)
     res.history = struct ('X', r.history_X, 'P', r.history_P, ...
@@ -217,7 +252,9 @@ function opts = parse_options (args)
                  'state_noise', 0, 'param_move', 'fixed', 'param_step', 0.05, ...
                  'liu_west_delta', 0.98, 'resample', 'systematic', ...
                  'resample_threshold', 0.5, 'quantiles', [0.05 0.5 0.95], ...
-                 'history', false, 'threads', 0, 'progress', 'auto');
+                 'history', false, 'threads', 0, 'progress', 'auto', ...
+                 'inflation', 1, 'rtpp', 0, 'rtps', 0, 'adaptive_inflation', false, ...
+                 'inflation_max', 2, 'localization', []);
   if (numel (args) == 1 && isstruct (args{1}))
     given = args{1};
     names = fieldnames (given);
@@ -238,9 +275,30 @@ function opts = parse_options (args)
     end
     opts.(name) = args{k + 1};
   end
-  if (~ischar (opts.method) || ~strcmp (opts.method, 'pf'))
-    error ('sluice:filter:badmethod', 'unknown method; the available method is ''pf''');
+  methods = {'pf', 'enkf', 'etkf', 'ensrf', 'eakf', 'letkf'};
+  if (~ischar (opts.method) || ~any (strcmp (opts.method, methods)))
+    error ('sluice:filter:badmethod', 'unknown method; the methods are %s', ...
+           strjoin (methods, ', '));
   end
+  opts.inflation = real_scalar (opts.inflation, 'inflation');
+  if (opts.inflation < 1)
+    error ('sluice:filter:badoption', 'inflation must be >= 1');
+  end
+  for f = {'rtpp', 'rtps'}
+    v = real_scalar (opts.(f{1}), f{1});
+    if (v < 0 || v > 1)
+      error ('sluice:filter:badoption', '%s must lie in [0, 1]', f{1});
+    end
+  end
+  opts.inflation_max = real_scalar (opts.inflation_max, 'inflation_max');
+  if (opts.inflation_max < 1)
+    error ('sluice:filter:badoption', 'inflation_max must be >= 1');
+  end
+  if (~(islogical (opts.adaptive_inflation) || isnumeric (opts.adaptive_inflation)) || ...
+      ~isscalar (opts.adaptive_inflation))
+    error ('sluice:filter:badoption', 'adaptive_inflation must be true or false');
+  end
+  opts.adaptive_inflation = logical (opts.adaptive_inflation);
   opts.members = whole (opts.members, 'members', 1, 2^31);
   if (~isempty (opts.seed))
     opts.seed = whole (opts.seed, 'seed', 0, 2^53);
@@ -328,6 +386,121 @@ function v = expand (v, n, what)
   elseif (numel (v) ~= n)
     error ('sluice:filter:badoption', '%s needs 1 or %d values, got %d', what, n, numel (v));
   end
+end
+
+function c = add_localization (c, opts, model, tab, obs)
+  % positions of states and observations for the ensemble Kalman methods
+  c.geometry = '';
+  c.period_or_radius = 0;
+  c.state_pos = [];
+  c.obs_pos = [];
+  c.obs_c = [];
+  c.param_factor = 1;
+  L = opts.localization;
+  if (isempty (L))
+    if (strcmp (opts.method, 'letkf'))
+      error ('sluice:filter:badlocalization', ...
+             'the LETKF needs opts.localization (geometry, positions, radius)');
+    end
+    return;
+  end
+  if (strcmp (opts.method, 'pf'))
+    error ('sluice:filter:badoption', 'localization applies to the ensemble Kalman methods');
+  end
+  if (~isstruct (L) || ~isscalar (L) || ~isfield (L, 'radius'))
+    error ('sluice:filter:badlocalization', ...
+           'localization must be a struct with fields geometry, radius and positions');
+  end
+  geom = 'line';
+  if (isfield (L, 'geometry'))
+    geom = L.geometry;
+  end
+  if (~ischar (geom) || ~any (strcmp (geom, {'line', 'ring', 'plane', 'sphere'})))
+    error ('sluice:filter:badlocalization', ...
+           'localization.geometry must be ''line'', ''ring'', ''plane'' or ''sphere''');
+  end
+  dim = 1 + any (strcmp (geom, {'plane', 'sphere'}));
+  n = numel (model.states);
+  p = numel (model.params);
+  if (isfield (L, 'positions'))
+    pos = L.positions;
+  elseif (dim == 1)
+    pos = (1:n)';
+  else
+    error ('sluice:filter:badlocalization', 'localization.positions (n x 2) are needed in 2-D');
+  end
+  if (~isa (pos, 'double') || ~isreal (pos) || ~isequal (size (pos), [n dim]) || ...
+      any (~isfinite (pos(:))))
+    error ('sluice:filter:badlocalization', ...
+           'localization.positions must be %d x %d finite real doubles (one row per state)', n, dim);
+  end
+  c.geometry = geom;
+  if (strcmp (geom, 'ring'))
+    if (~isfield (L, 'period'))
+      error ('sluice:filter:badlocalization', 'a ring needs localization.period');
+    end
+    c.period_or_radius = real_scalar (L.period, 'localization.period');
+  elseif (strcmp (geom, 'sphere'))
+    c.period_or_radius = 6371;
+    if (isfield (L, 'sphere_radius'))
+      c.period_or_radius = real_scalar (L.sphere_radius, 'localization.sphere_radius');
+    end
+  end
+  if (c.period_or_radius < 0 || (any (strcmp (geom, {'ring', 'sphere'})) && c.period_or_radius == 0))
+    error ('sluice:filter:badlocalization', 'the period or sphere radius must be > 0');
+  end
+  % parameters are not localised: they see every observation, damped by
+  % param_factor
+  c.state_pos = [pos; nan(p, dim)];
+  if (isfield (L, 'param_factor'))
+    c.param_factor = real_scalar (L.param_factor, 'localization.param_factor');
+    if (c.param_factor <= 0 || c.param_factor > 1)
+      error ('sluice:filter:badlocalization', 'localization.param_factor must lie in (0, 1]');
+    end
+  end
+  m = numel (tab.time);
+  opos = nan (m, dim);
+  obs_state = tab.var <= n;
+  opos(obs_state, :) = pos(tab.var(obs_state), :);
+  cols = {'x', 'y'};
+  for d = 1:dim
+    if (isfield (obs, cols{d}))
+      v = obs.(cols{d});
+      if (~isa (v, 'double') || numel (v) ~= m)
+        error ('sluice:filter:badobs', 'observation column ''%s'' must give one position per row', cols{d});
+      end
+      given = ~isnan (v(:));
+      opos(given, d) = v(given);
+    end
+  end
+  bad = find (any (isnan (opos), 2), 1);
+  if (~isempty (bad))
+    error ('sluice:filter:badobs', ...
+           'observation row %d has no position (give column x%s for observations of parameters)', ...
+           bad, repmat (' and y', 1, dim == 2));
+  end
+  r = L.radius;
+  if (isstruct (r))
+    names = [model.states(:); model.params(:)];
+    oc = nan (m, 1);
+    f = fieldnames (r);
+    for k = 1:numel (f)
+      sel = strcmp (names(tab.var), f{k});
+      oc(sel) = r.(f{k});
+    end
+    bad = find (isnan (oc), 1);
+    if (~isempty (bad))
+      error ('sluice:filter:badlocalization', ...
+             'observation row %d (%s): no localisation radius for this variable', bad, names{tab.var(bad)});
+    end
+  else
+    oc = repmat (real_scalar (r, 'localization.radius'), m, 1);
+  end
+  if (any (~(oc > 0)))
+    error ('sluice:filter:badlocalization', 'localisation radii must be > 0');
+  end
+  c.obs_pos = opos;
+  c.obs_c = oc;
 end
 
 function v = obs_field (obs, name)

@@ -27,6 +27,7 @@ function X = run_states (model, X0, P0, t0, times, forcing, opts, fn)
     end
     c.probs = [];
     c.history = 2;
+    c.method = 'pf';
     c.progress = 2;
     c.X0 = X0;
     c.P0 = P0;

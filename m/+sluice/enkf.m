@@ -1,0 +1,82 @@
+% -*- texinfo -*-
+% @deftypefn  {} {@var{Xa} =} sluice.enkf (@var{Xf}, @var{HXf}, @var{y}, @var{R})
+% @deftypefnx {} {[@var{Xa}, @var{info}] =} sluice.enkf (@var{Xf}, @var{HXf}, @var{y}, @var{R}, @var{opts})
+% One ensemble Kalman analysis. @var{Xf} is the n x N forecast ensemble
+% (one column per member; parameters of a joint estimate are extra rows,
+% in the space where they should be updated), @var{HXf} the m x N
+% predicted observations of those members (any observation operator,
+% linear or not), @var{y} the m observations and @var{R} their error
+% covariance: m x m symmetric positive definite, or a vector of the m
+% error variances. Returns the n x N analysis ensemble.
+%
+% Options (a struct or name/value pairs): @code{method} (@code{'etkf'}
+% (default; symmetric square root, Hunt et al. 2007), @code{'enkf'}
+% (stochastic with perturbed observations, Burgers et al. 1998),
+% @code{'ensrf'} (serial, Whitaker & Hamill 2002), @code{'eakf'} (serial,
+% Anderson 2001), @code{'letkf'} (local, Hunt et al. 2007)),
+% @code{inflation} (multiplicative, of the prior perturbations, >= 1),
+% @code{rtpp}, @code{rtps} (relaxation coefficients in [0, 1]),
+% @code{seed} and @code{cycle} (the perturbed observations of
+% @code{'enkf'}), @code{threads}, and @code{localization}: a struct with
+% @code{geometry} (@code{'line'}, @code{'ring'} with @code{period},
+% @code{'plane'}, @code{'sphere'} with @code{sphere_radius}),
+% @code{state_pos} (n x dim; NaN rows are not localised),
+% @code{obs_pos} (m x dim), @code{radius} (Gaspari-Cohn half-width, scalar
+% or m values) and @code{param_factor}. The serial methods and the LETKF
+% need a diagonal R.
+%
+% @var{info} has @code{floored} (eigenvalues raised to the floor of an
+% ill-conditioned problem), @code{local_skipped} (LETKF rows with no
+% observation in reach) and @code{innovation} (d' (HBH' + R)^-1 d).
+% @seealso{sluice.filter, sluice.gaspari_cohn}
+% @end deftypefn
+function [Xa, info] = enkf (Xf, HXf, y, R, varargin)
+  if (nargin < 4)
+    print_usage ();
+  end
+  opts = struct ('method', 'etkf', 'inflation', 1, 'rtpp', 0, 'rtps', 0, ...
+                 'seed', 0, 'cycle', 0, 'threads', 0, 'localization', [], ...
+                 'eig_floor', 0);
+  opts = sluice.kernel.name_value (opts, varargin, 'enkf');
+  if (~ischar (opts.method))
+    error ('sluice:enkf:badmethod', 'method must be a name');
+  end
+  c = struct ('method', opts.method, 'inflation', num (opts.inflation, 'inflation'), ...
+              'rtpp', num (opts.rtpp, 'rtpp'), 'rtps', num (opts.rtps, 'rtps'), ...
+              'seed', num (opts.seed, 'seed'), 'cycle', num (opts.cycle, 'cycle'), ...
+              'threads', num (opts.threads, 'threads'), ...
+              'eig_floor', num (opts.eig_floor, 'eig_floor'));
+  L = opts.localization;
+  if (~isempty (L))
+    if (~isstruct (L) || ~isscalar (L) || ~isfield (L, 'state_pos') || ...
+        ~isfield (L, 'obs_pos') || ~isfield (L, 'radius'))
+      error ('sluice:enkf:badlocalization', ...
+             'localization needs fields state_pos, obs_pos and radius');
+    end
+    c.geometry = 'line';
+    if (isfield (L, 'geometry')), c.geometry = L.geometry; end
+    c.period_or_radius = 0;
+    if (isfield (L, 'period')), c.period_or_radius = L.period; end
+    if (isfield (L, 'sphere_radius')), c.period_or_radius = L.sphere_radius; end
+    if (strcmp (c.geometry, 'sphere') && c.period_or_radius == 0)
+      c.period_or_radius = 6371;
+    end
+    c.state_pos = L.state_pos;
+    c.obs_pos = L.obs_pos;
+    r = L.radius;
+    if (isscalar (r))
+      r = repmat (r, rows (HXf), 1);
+    end
+    c.obs_c = r;
+    c.param_factor = 1;
+    if (isfield (L, 'param_factor')), c.param_factor = L.param_factor; end
+  end
+  [Xa, fl, sk, dof] = sluice.kernel.enkf (Xf, HXf, y, R, c);
+  info = struct ('floored', fl, 'local_skipped', sk, 'innovation', dof);
+end
+
+function v = num (v, what)
+  if (~isa (v, 'double') || ~isreal (v) || ~isscalar (v) || ~isfinite (v))
+    error ('sluice:enkf:badoption', '%s must be a finite real scalar', what);
+  end
+end

@@ -1,0 +1,1114 @@
+/* enkf.c - ensemble Kalman analyses: stochastic EnKF, ETKF, serial EnSRF
+ * and EAKF, with prior inflation before and relaxation after each of them
+ * (the LETKF itself lives in letkf.c). */
+#include "sluice/enkf.h"
+
+#include <limits.h>
+#include <math.h>
+#include <string.h>
+
+#include "enkf_internal.h"
+#include "sluice/rng.h"
+
+/* BLAS and LAPACK through their Fortran interface; the trailing size_t
+ * arguments are the hidden lengths of the character arguments. */
+extern void dgemm_(const char *ta, const char *tb, const int *m, const int *n,
+                   const int *k, const double *alpha, const double *a,
+                   const int *lda, const double *b, const int *ldb,
+                   const double *beta, double *c, const int *ldc, size_t,
+                   size_t);
+extern void dgemv_(const char *t, const int *m, const int *n,
+                   const double *alpha, const double *a, const int *lda,
+                   const double *x, const int *incx, const double *beta,
+                   double *y, const int *incy, size_t);
+extern void dger_(const int *m, const int *n, const double *alpha,
+                  const double *x, const int *incx, const double *y,
+                  const int *incy, double *a, const int *lda);
+extern void dsyrk_(const char *uplo, const char *t, const int *n, const int *k,
+                   const double *alpha, const double *a, const int *lda,
+                   const double *beta, double *c, const int *ldc, size_t,
+                   size_t);
+extern void dtrsm_(const char *side, const char *uplo, const char *t,
+                   const char *diag, const int *m, const int *n,
+                   const double *alpha, const double *a, const int *lda,
+                   double *b, const int *ldb, size_t, size_t, size_t, size_t);
+extern void dtrmm_(const char *side, const char *uplo, const char *t,
+                   const char *diag, const int *m, const int *n,
+                   const double *alpha, const double *a, const int *lda,
+                   double *b, const int *ldb, size_t, size_t, size_t, size_t);
+extern void dpotrf_(const char *uplo, const int *n, double *a, const int *lda,
+                    int *info, size_t);
+extern void dpotrs_(const char *uplo, const int *n, const int *nrhs,
+                    const double *a, const int *lda, double *b, const int *ldb,
+                    int *info, size_t);
+extern void dsyev_(const char *jobz, const char *uplo, const int *n, double *a,
+                   const int *lda, double *w, double *work, const int *lwork,
+                   int *info, size_t, size_t);
+
+#define ALIGN 64
+#define BLOCK_ROWS 64        /* state rows per pass of the row loops */
+#define CHUNK 256            /* observations / members per packed slice */
+#define LWORK_PER_MEMBER 66  /* dsyev's optimal work, (block 64 + 2) N */
+#define DEFAULT_FLOOR 1e-12
+
+static const int I1 = 1;
+static const double D0 = 0.0, D1 = 1.0, DM1 = -1.0;
+
+static const char *const method_names[SL_ENKF_COUNT] = {
+    "enkf", "etkf", "ensrf", "eakf", "letkf"};
+
+int sl_enkf_method_find(const char *name)
+{
+    int k;
+    if (name == NULL)
+        return -1;
+    for (k = 0; k < SL_ENKF_COUNT; k++)
+        if (strcmp(name, method_names[k]) == 0)
+            return k;
+    return -1;
+}
+
+/* ------------------------------------------------------------ workspace */
+
+/* Every buffer of one analysis, carved from the caller's workspace. */
+typedef struct {
+    double *ybar, *dv, *rd, *aux; /* m each */
+    double *yp;    /* predicted-observation perturbations after inflation:
+                    * m x N, or N x m (one column per observation) for the
+                    * serial methods */
+    double *sq;    /* m x m: Cholesky factor of R, innovation covariance */
+    double *D;     /* m x N: perturbed innovations, then S^{-1} of them */
+    double *A, *T; /* N x N: eigenvectors, transform */
+    double *lam, *tv, *wv, *ev; /* N, N, N, lwork */
+    double *blk, *blk2; /* BLOCK_ROWS x N */
+    double *G;     /* BLOCK_ROWS x m */
+    double *stat;  /* 5 BLOCK_ROWS */
+    double *coef;  /* 3 m */
+    double *xw, *hw, *xbar, *rowf; /* LETKF: n x N, m x N, n, N */
+    double *dofw;  /* the innovation statistic's scratch */
+    void *lw;      /* LETKF's own workspace */
+    size_t b;
+    int lwork;
+} buffers;
+
+static void *carve(unsigned char *base, size_t *off, int *bad, size_t count,
+                   size_t size)
+{
+    size_t bytes, at;
+    if (*bad || sl_size_mul(count, size, &bytes) ||
+        *off > SIZE_MAX - 2 * ALIGN - bytes) {
+        *bad = 1;
+        return NULL;
+    }
+    at = (*off + ALIGN - 1) / ALIGN * ALIGN;
+    *off = at + bytes;
+    return base != NULL ? base + at : NULL;
+}
+
+static size_t mul(size_t a, size_t b, int *bad)
+{
+    size_t r = 0;
+    if (sl_size_mul(a, b, &r))
+        *bad = 1;
+    return r;
+}
+
+/* Doubles of scratch for the innovation statistic (see innov_dof_diag):
+ * the k x k matrix of the smaller space, k = min(m, N), a packed slice of
+ * k x CHUNK, and vectors. */
+static size_t dof_doubles(size_t N, size_t m, int *bad)
+{
+    size_t k = m < N ? m : N, s = mul(k + CHUNK, k, bad), t = mul(2, m + N, bad);
+    if (s > SIZE_MAX - t - CHUNK)
+        *bad = 1;
+    return s + t + CHUNK;
+}
+
+/* Lay the buffers out in base (NULL: only measure); the bytes needed, or 0
+ * if a size overflows. The sizes depend on the method, n, N, m and r_full
+ * only (not on localisation, inflation or relaxation) and never decrease
+ * when n, N or m grow, so one query for the largest problem serves every
+ * smaller analysis of the same method. */
+static size_t layout(const sl_enkf_config *cfg, size_t n, size_t N, size_t m,
+                     int r_full, unsigned char *base, buffers *w)
+{
+    size_t off = 0, b = n < BLOCK_ROWS ? n : BLOCK_ROWS, mN, bN;
+    int bad = 0;
+    memset(w, 0, sizeof *w);
+    if (n > INT_MAX || N > INT_MAX / LWORK_PER_MEMBER || m > INT_MAX)
+        return 0;
+    w->b = b;
+    mN = mul(m, N, &bad);
+    bN = mul(b, N, &bad);
+    w->ybar = carve(base, &off, &bad, m, sizeof(double));
+    w->dv = carve(base, &off, &bad, m, sizeof(double));
+    w->rd = carve(base, &off, &bad, m, sizeof(double));
+    w->aux = carve(base, &off, &bad, m, sizeof(double));
+    w->stat = carve(base, &off, &bad, 5 * b, sizeof(double));
+    switch (cfg->method) {
+    case SL_ENKF_STOCHASTIC:
+        w->yp = carve(base, &off, &bad, mN, sizeof(double));
+        w->sq = carve(base, &off, &bad, mul(m, m, &bad), sizeof(double));
+        w->D = carve(base, &off, &bad, mN, sizeof(double));
+        w->blk = carve(base, &off, &bad, bN, sizeof(double));
+        w->G = carve(base, &off, &bad, mul(b, m, &bad), sizeof(double));
+        break;
+    case SL_ENKF_ETKF:
+        w->yp = carve(base, &off, &bad, mN, sizeof(double));
+        w->sq = carve(base, &off, &bad, r_full ? mul(m, m, &bad) : 0,
+                      sizeof(double));
+        w->A = carve(base, &off, &bad, mul(N, N, &bad), sizeof(double));
+        w->T = carve(base, &off, &bad, mul(N, N, &bad), sizeof(double));
+        w->lam = carve(base, &off, &bad, N, sizeof(double));
+        w->tv = carve(base, &off, &bad, N, sizeof(double));
+        w->wv = carve(base, &off, &bad, N, sizeof(double));
+        w->lwork = (int)(LWORK_PER_MEMBER * (N > 0 ? N : 1));
+        w->ev = carve(base, &off, &bad, (size_t)w->lwork, sizeof(double));
+        w->blk = carve(base, &off, &bad, bN, sizeof(double));
+        break;
+    case SL_ENKF_ENSRF:
+    case SL_ENKF_EAKF:
+        w->yp = carve(base, &off, &bad, mN, sizeof(double));
+        w->coef = carve(base, &off, &bad, mul(3, m, &bad), sizeof(double));
+        w->blk = carve(base, &off, &bad, bN, sizeof(double));
+        w->blk2 = carve(base, &off, &bad, bN, sizeof(double));
+        w->dofw = carve(base, &off, &bad, dof_doubles(N, m, &bad), sizeof(double));
+        break;
+    case SL_ENKF_LETKF: {
+        size_t lb = sl_letkf_workspace(cfg, n, N, m);
+        if (lb == 0)
+            bad = 1;
+        w->xw = carve(base, &off, &bad, mul(n, N, &bad), sizeof(double));
+        w->hw = carve(base, &off, &bad, mN, sizeof(double));
+        w->xbar = carve(base, &off, &bad, n, sizeof(double));
+        w->rowf = carve(base, &off, &bad, N, sizeof(double));
+        w->dofw = carve(base, &off, &bad, dof_doubles(N, m, &bad), sizeof(double));
+        w->lw = carve(base, &off, &bad, lb, 1);
+        break;
+    }
+    default:
+        return 0;
+    }
+    if (bad)
+        return 0;
+    return off > ALIGN ? off : ALIGN;
+}
+
+size_t sl_enkf_workspace(const sl_enkf_config *cfg, size_t n, size_t N,
+                         size_t m, int r_full)
+{
+    buffers w;
+    if (cfg == NULL || cfg->method < 0 || cfg->method >= SL_ENKF_COUNT)
+        return 0;
+    return layout(cfg, n, N, m, r_full != 0, NULL, &w);
+}
+
+/* ------------------------------------------------------------- checks */
+
+static sl_status check_config(const sl_enkf_config *cfg, int r_full,
+                              sl_error *err)
+{
+    if (cfg == NULL)
+        return sl_fail(err, SL_EINVAL, "badconfig", "no configuration given");
+    if (cfg->method < 0 || cfg->method >= SL_ENKF_COUNT)
+        return sl_fail(err, SL_EINVAL, "badconfig", "unknown method %d",
+                       cfg->method);
+    if (r_full != 0 && r_full != 1)
+        return sl_fail(err, SL_EINVAL, "badconfig",
+                       "r_full must be 0 (variances) or 1 (covariance), got %d",
+                       r_full);
+    if (!(cfg->inflation >= 1 && cfg->inflation < HUGE_VAL))
+        return sl_fail(err, SL_EINVAL, "badconfig",
+                       "the inflation must be a finite number >= 1, got %g",
+                       cfg->inflation);
+    if (!(cfg->rtpp >= 0 && cfg->rtpp <= 1))
+        return sl_fail(err, SL_EINVAL, "badconfig",
+                       "the relaxation to prior perturbations must lie in [0, 1], got %g",
+                       cfg->rtpp);
+    if (!(cfg->rtps >= 0 && cfg->rtps <= 1))
+        return sl_fail(err, SL_EINVAL, "badconfig",
+                       "the relaxation to prior spread must lie in [0, 1], got %g",
+                       cfg->rtps);
+    if (cfg->threads < 1)
+        return sl_fail(err, SL_EINVAL, "badconfig",
+                       "the number of threads must be >= 1, got %d", cfg->threads);
+    if (!(cfg->eig_floor >= 0 && cfg->eig_floor < 1))
+        return sl_fail(err, SL_EINVAL, "badconfig",
+                       "the eigenvalue floor must lie in [0, 1), got %g",
+                       cfg->eig_floor);
+    return SL_OK;
+}
+
+static sl_status check_localization(const sl_enkf_config *cfg, size_t n,
+                                    size_t m, sl_error *err)
+{
+    static const char *const gnames[] = {"line", "ring", "plane", "sphere"};
+    const sl_localization *L = cfg->loc;
+    size_t i, k, d;
+    if (L == NULL) {
+        if (cfg->method == SL_ENKF_LETKF)
+            return sl_fail(err, SL_EINVAL, "badlocalization",
+                           "the LETKF needs the positions of the states and observations");
+        return SL_OK;
+    }
+    if (cfg->method == SL_ENKF_ETKF)
+        return sl_fail(err, SL_EINVAL, "badlocalization",
+                       "the ETKF is a global analysis and takes no localisation "
+                       "(use the LETKF, or a serial or stochastic method)");
+    if (L->geometry < SL_GEOM_LINE || L->geometry > SL_GEOM_SPHERE)
+        return sl_fail(err, SL_EINVAL, "badlocalization", "unknown geometry %d",
+                       L->geometry);
+    if (L->dim != (L->geometry >= SL_GEOM_PLANE ? 2u : 1u))
+        return sl_fail(err, SL_EINVAL, "badlocalization",
+                       "positions on a %s have %d coordinate(s), got %lu",
+                       gnames[L->geometry], L->geometry >= SL_GEOM_PLANE ? 2 : 1,
+                       (unsigned long)L->dim);
+    if ((L->geometry == SL_GEOM_RING || L->geometry == SL_GEOM_SPHERE) &&
+        !(L->period_or_radius > 0 && L->period_or_radius < HUGE_VAL))
+        return sl_fail(err, SL_EINVAL, "badlocalization",
+                       "the %s of the %s must be a finite number > 0, got %g",
+                       L->geometry == SL_GEOM_RING ? "period" : "radius",
+                       gnames[L->geometry], L->period_or_radius);
+    if (L->state_pos == NULL || L->obs_pos == NULL || L->obs_c == NULL)
+        return sl_fail(err, SL_EINVAL, "badlocalization",
+                       "the positions of the states and observations and the "
+                       "half-widths are required");
+    if (!(L->param_factor > 0 && L->param_factor <= 1))
+        return sl_fail(err, SL_EINVAL, "badlocalization",
+                       "the weight on rows without a position must lie in (0, 1], got %g",
+                       L->param_factor);
+    for (k = 0; k < m; k++) {
+        if (!(L->obs_c[k] > 0 && L->obs_c[k] < HUGE_VAL))
+            return sl_fail(err, SL_EINVAL, "badlocalization",
+                           "observation %lu: the half-width must be a finite number > 0, got %g",
+                           (unsigned long)(k + 1), L->obs_c[k]);
+        for (d = 0; d < L->dim; d++)
+            if (!isfinite(L->obs_pos[k + d * m]))
+                return sl_fail(err, SL_EINVAL, "badlocalization",
+                               "observation %lu: position coordinate %lu is not finite",
+                               (unsigned long)(k + 1), (unsigned long)(d + 1));
+        if (L->geometry == SL_GEOM_SPHERE && fabs(L->obs_pos[k + m]) > 90)
+            return sl_fail(err, SL_EINVAL, "badlocalization",
+                           "observation %lu: latitude %g outside [-90, 90]",
+                           (unsigned long)(k + 1), L->obs_pos[k + m]);
+    }
+    for (i = 0; i < n; i++) {
+        if (isnan(L->state_pos[i]))
+            continue; /* not localised */
+        for (d = 0; d < L->dim; d++)
+            if (!isfinite(L->state_pos[i + d * n]))
+                return sl_fail(err, SL_EINVAL, "badlocalization",
+                               "state row %lu: position coordinate %lu is not finite "
+                               "(NaN in the first coordinate marks a row without position)",
+                               (unsigned long)(i + 1), (unsigned long)(d + 1));
+        if (L->geometry == SL_GEOM_SPHERE && fabs(L->state_pos[i + n]) > 90)
+            return sl_fail(err, SL_EINVAL, "badlocalization",
+                           "state row %lu: latitude %g outside [-90, 90]",
+                           (unsigned long)(i + 1), L->state_pos[i + n]);
+    }
+    return SL_OK;
+}
+
+/* Index of the first non-finite entry of a[0..len-1], or len. */
+static size_t first_nonfinite(const double *a, size_t len)
+{
+    size_t i;
+    for (i = 0; i < len; i++)
+        if (!isfinite(a[i]))
+            return i;
+    return len;
+}
+
+/* Whether the lower triangle of the k x k matrix A has a non-finite entry
+ * (dsyrk leaves the other one unset). */
+static int lower_nonfinite(const double *A, size_t k)
+{
+    size_t i, j;
+    for (j = 0; j < k; j++)
+        for (i = j; i < k; i++)
+            if (!isfinite(A[i + j * k]))
+                return 1;
+    return 0;
+}
+
+static sl_status check_finite(size_t n, size_t N, const double *X, size_t m,
+                              const double *HX, const double *y,
+                              const double *R, int r_full, sl_error *err)
+{
+    size_t at, len;
+    if ((at = first_nonfinite(X, n * N)) < n * N)
+        return sl_fail(err, SL_EINVAL, "nonfinite",
+                       "X(%lu,%lu) is not finite", (unsigned long)(at % n + 1),
+                       (unsigned long)(at / n + 1));
+    if ((at = first_nonfinite(HX, m * N)) < m * N)
+        return sl_fail(err, SL_EINVAL, "nonfinite",
+                       "HX(%lu,%lu) is not finite", (unsigned long)(at % m + 1),
+                       (unsigned long)(at / m + 1));
+    if ((at = first_nonfinite(y, m)) < m)
+        return sl_fail(err, SL_EINVAL, "nonfinite",
+                       "observation %lu is not finite (remove missing values first)",
+                       (unsigned long)(at + 1));
+    len = r_full ? m * m : m;
+    if ((at = first_nonfinite(R, len)) < len) {
+        if (r_full)
+            return sl_fail(err, SL_EINVAL, "nonfinite", "R(%lu,%lu) is not finite",
+                           (unsigned long)(at % m + 1), (unsigned long)(at / m + 1));
+        return sl_fail(err, SL_EINVAL, "nonfinite",
+                       "error variance %lu is not finite", (unsigned long)(at + 1));
+    }
+    return SL_OK;
+}
+
+/* R: symmetric positive definite. On return *diag says whether it is
+ * diagonal, with the variances in w->rd; otherwise w->sq holds its lower
+ * Cholesky factor (LAPACK dpotrf). */
+static sl_status check_R(int method, size_t m, const double *R, int r_full,
+                         buffers *w, int *diag, sl_error *err)
+{
+    size_t k, l;
+    int im = (int)m, info = 0;
+    *diag = 1;
+    if (!r_full) {
+        for (k = 0; k < m; k++) {
+            if (!(R[k] > 0))
+                return sl_fail(err, SL_ENUMERIC, "notpd",
+                               "error variance %lu must be > 0, got %g",
+                               (unsigned long)(k + 1), R[k]);
+            w->rd[k] = R[k];
+        }
+        return SL_OK;
+    }
+    for (l = 0; l < m && *diag; l++)
+        for (k = 0; k < m; k++)
+            if (k != l && R[k + l * m] != 0) {
+                *diag = 0;
+                break;
+            }
+    if (!*diag && method != SL_ENKF_STOCHASTIC && method != SL_ENKF_ETKF)
+        return sl_fail(err, SL_EINVAL, "nondiagonal",
+                       "the %s needs uncorrelated observation errors (a diagonal R)",
+                       method_names[method]);
+    for (k = 0; k < m; k++) {
+        double r = R[k + k * m];
+        if (!(r > 0))
+            return sl_fail(err, SL_ENUMERIC, "notpd",
+                           "R is not positive definite: R(%lu,%lu) = %g",
+                           (unsigned long)(k + 1), (unsigned long)(k + 1), r);
+        w->rd[k] = r;
+    }
+    if (*diag)
+        return SL_OK;
+    for (l = 0; l < m; l++)
+        for (k = l + 1; k < m; k++) {
+            double a = R[k + l * m], b = R[l + k * m];
+            if (fabs(a - b) > 1e-12 * sqrt(R[k + k * m] * R[l + l * m]))
+                return sl_fail(err, SL_ENUMERIC, "notpd",
+                               "R is not symmetric: R(%lu,%lu) = %.17g but R(%lu,%lu) = %.17g",
+                               (unsigned long)(k + 1), (unsigned long)(l + 1), a,
+                               (unsigned long)(l + 1), (unsigned long)(k + 1), b);
+        }
+    for (l = 0; l < m; l++)
+        for (k = l; k < m; k++)
+            w->sq[k + l * m] = R[k + l * m];
+    dpotrf_("L", &im, w->sq, &im, &info, 1);
+    if (info != 0)
+        return sl_fail(err, SL_ENUMERIC, "notpd",
+                       "R is not positive definite (the Cholesky factorisation "
+                       "fails at row %d)", info);
+    return SL_OK;
+}
+
+/* ---------------------------------------------------- shared pieces */
+
+/* Means ybar of the rows of HX (m x N) and the perturbations after
+ * inflation, infl (HX - ybar), into yp: m x N, or N x m if transposed. */
+static void obs_perturbations(size_t m, size_t N, const double *HX, double infl,
+                              double *ybar, double *yp, int transposed)
+{
+    size_t k, j;
+    for (k = 0; k < m; k++)
+        ybar[k] = 0.0;
+    for (j = 0; j < N; j++)
+        for (k = 0; k < m; k++)
+            ybar[k] += HX[k + j * m];
+    for (k = 0; k < m; k++)
+        ybar[k] /= (double)N;
+    if (transposed) {
+        for (k = 0; k < m; k++)
+            for (j = 0; j < N; j++)
+                yp[j + k * N] = infl * (HX[k + j * m] - ybar[k]);
+    } else {
+        for (j = 0; j < N; j++)
+            for (k = 0; k < m; k++)
+                yp[k + j * m] = infl * (HX[k + j * m] - ybar[k]);
+    }
+}
+
+/* Rows i0 .. i0+nb-1 of X: their means into xbar and their perturbations
+ * after inflation, infl (X - xbar), into B (element (ii, j) at
+ * B[ii * rs + j * cs]). */
+static void block_prior(size_t n, size_t N, const double *X, size_t i0,
+                        size_t nb, double infl, double *xbar, double *B,
+                        size_t rs, size_t cs)
+{
+    size_t ii, j;
+    for (ii = 0; ii < nb; ii++)
+        xbar[ii] = 0.0;
+    for (j = 0; j < N; j++)
+        for (ii = 0; ii < nb; ii++)
+            xbar[ii] += X[i0 + ii + j * n];
+    for (ii = 0; ii < nb; ii++)
+        xbar[ii] /= (double)N;
+    for (j = 0; j < N; j++)
+        for (ii = 0; ii < nb; ii++)
+            B[ii * rs + j * cs] = infl * (X[i0 + ii + j * n] - xbar[ii]);
+}
+
+/* Relaxation of one analysed row xa (member j at xa[j * as]) toward the
+ * prior perturbations xf (at xf[j * fs]), which are those after inflation:
+ * first RTPP (Zhang et al. 2004), xa' <- (1 - a) xa' + a xf', then RTPS
+ * (Whitaker & Hamill 2012), xa' <- xa' (1 + a (sf - sa) / sa), with the
+ * spreads sf, sa of the row; perturbations are about the analysis mean,
+ * which neither changes. RTPS leaves a row without analysis spread as it
+ * is (it has no perturbations to scale). */
+static void relax_row(const sl_enkf_config *cfg, size_t N, double *xa,
+                      size_t as, const double *xf, size_t fs)
+{
+    size_t j;
+    double mean = 0.0;
+    for (j = 0; j < N; j++)
+        mean += xa[j * as];
+    mean /= (double)N;
+    if (cfg->rtpp > 0) {
+        const double a = cfg->rtpp;
+        double fmean = 0.0;
+        for (j = 0; j < N; j++)
+            fmean += xf[j * fs];
+        fmean /= (double)N;
+        for (j = 0; j < N; j++)
+            xa[j * as] = mean + (1.0 - a) * (xa[j * as] - mean) + a * (xf[j * fs] - fmean);
+    }
+    if (cfg->rtps > 0) {
+        double sa = 0.0, sf = 0.0, fmean = 0.0, f;
+        for (j = 0; j < N; j++)
+            fmean += xf[j * fs];
+        fmean /= (double)N;
+        for (j = 0; j < N; j++) {
+            double ea = xa[j * as] - mean, ef = xf[j * fs] - fmean;
+            sa += ea * ea;
+            sf += ef * ef;
+        }
+        if (sa > 0) {
+            sa = sqrt(sa);
+            f = 1.0 + cfg->rtps * (sqrt(sf) - sa) / sa;
+            for (j = 0; j < N; j++)
+                xa[j * as] = mean + f * (xa[j * as] - mean);
+        }
+    }
+}
+
+/* Gaspari-Cohn weight of observation k on state row i (rows whose first
+ * coordinate is NaN: the fixed weight param_factor). */
+static double state_weight(const sl_localization *L, size_t n, size_t i,
+                           size_t m, size_t k)
+{
+    double a[2], b[2];
+    size_t d;
+    if (isnan(L->state_pos[i]))
+        return L->param_factor;
+    for (d = 0; d < L->dim; d++) {
+        a[d] = L->state_pos[i + d * n];
+        b[d] = L->obs_pos[k + d * m];
+    }
+    return sl_gaspari_cohn(sl_distance(L->geometry, L->period_or_radius, a, b),
+                           L->obs_c[k]);
+}
+
+/* Gaspari-Cohn weight between observations k and l with half-width c. */
+static double obs_weight(const sl_localization *L, size_t m, size_t k,
+                         size_t l, double c)
+{
+    double a[2], b[2];
+    size_t d;
+    for (d = 0; d < L->dim; d++) {
+        a[d] = L->obs_pos[k + d * m];
+        b[d] = L->obs_pos[l + d * m];
+    }
+    return sl_gaspari_cohn(sl_distance(L->geometry, L->period_or_radius, a, b), c);
+}
+
+/* Stop the row loops on the first non-finite analysed value. */
+static int rows_finite(size_t n, size_t N, const double *X, size_t i0,
+                       size_t nb)
+{
+    size_t ii, j;
+    for (j = 0; j < N; j++)
+        for (ii = 0; ii < nb; ii++)
+            if (!isfinite(X[i0 + ii + j * n]))
+                return 0;
+    return 1;
+}
+
+static sl_status fail_nonfinite(sl_error *err)
+{
+    return sl_fail(err, SL_ENUMERIC, "nonfinite",
+                   "the analysis is not finite (the ensemble or the observations "
+                   "are too far out of scale)");
+}
+
+/* ------------------------------------------------- innovation statistic */
+
+/* d^T (HBH^T + R)^{-1} d for a diagonal R (variances rd), d = y - ybar and
+ * HBH^T = Y'Y'^T / (N - 1) with the perturbations after inflation
+ * Y' = infl (HX - ybar). Worked in the smaller space: for m <= N through the
+ * Cholesky factor of the m x m matrix; otherwise in ensemble space by the
+ * Sherman-Morrison-Woodbury identity (HBH^T + R)^{-1} d = R^{-1}(d - Y't),
+ * t = [(N - 1) I + Y'^T R^{-1} Y']^{-1} Y'^T R^{-1} d, with Y' packed and
+ * scaled by R^{-1/2} in slices of CHUNK observations. NaN if a
+ * factorisation fails. */
+static double innov_dof_diag(size_t N, size_t m, const double *HX,
+                             const double *ybar, double infl, const double *rd,
+                             const double *y, double *wk)
+{
+    size_t k, j, c0, cn;
+    int info = 0, ic;
+    double dof = 0.0;
+    if (m <= N) {
+        double *S = wk, *buf = S + m * m, *z = buf + m * CHUNK;
+        const int im = (int)m;
+        const double alpha = 1.0 / (double)(N - 1);
+        for (c0 = 0; c0 < N; c0 += cn) {
+            cn = N - c0 < CHUNK ? N - c0 : CHUNK;
+            ic = (int)cn;
+            for (j = 0; j < cn; j++)
+                for (k = 0; k < m; k++)
+                    buf[k + j * m] = infl * (HX[k + (c0 + j) * m] - ybar[k]);
+            dsyrk_("L", "N", &im, &ic, &alpha, buf, &im, c0 == 0 ? &D0 : &D1, S,
+                   &im, 1, 1);
+        }
+        for (k = 0; k < m; k++) {
+            S[k + k * m] += rd[k];
+            z[k] = y[k] - ybar[k];
+        }
+        dpotrf_("L", &im, S, &im, &info, 1);
+        if (info != 0)
+            return NAN;
+        dpotrs_("L", &im, &I1, S, &im, z, &im, &info, 1);
+        for (k = 0; k < m; k++)
+            dof += (y[k] - ybar[k]) * z[k];
+    } else {
+        double *A = wk, *buf = A + N * N, *c = buf + N * CHUNK, *dt = c + N,
+               *r = dt + m;
+        const int iN = (int)N;
+        for (k = 0; k < m; k++)
+            dt[k] = (y[k] - ybar[k]) / sqrt(rd[k]);
+        for (int pass = 0; pass < 2; pass++) {
+            for (c0 = 0; c0 < m; c0 += cn) {
+                cn = m - c0 < CHUNK ? m - c0 : CHUNK;
+                ic = (int)cn;
+                for (k = 0; k < cn; k++) {
+                    const double s = infl / sqrt(rd[c0 + k]);
+                    for (j = 0; j < N; j++)
+                        buf[j + k * N] = s * (HX[c0 + k + j * m] - ybar[c0 + k]);
+                }
+                if (pass == 0) {
+                    const double *beta = c0 == 0 ? &D0 : &D1;
+                    dsyrk_("L", "N", &iN, &ic, &D1, buf, &iN, beta, A, &iN, 1, 1);
+                    dgemv_("N", &iN, &ic, &D1, buf, &iN, dt + c0, &I1, beta, c, &I1, 1);
+                } else {
+                    memcpy(r, dt + c0, cn * sizeof(double));
+                    dgemv_("T", &iN, &ic, &DM1, buf, &iN, c, &I1, &D1, r, &I1, 1);
+                    for (k = 0; k < cn; k++)
+                        dof += dt[c0 + k] * r[k];
+                }
+            }
+            if (pass == 0) {
+                for (j = 0; j < N; j++)
+                    A[j + j * N] += (double)(N - 1);
+                dpotrf_("L", &iN, A, &iN, &info, 1);
+                if (info != 0)
+                    return NAN;
+                dpotrs_("L", &iN, &I1, A, &iN, c, &iN, &info, 1);
+            }
+        }
+    }
+    return dof;
+}
+
+/* ---------------------------------------------------------------- ETKF */
+
+/* The symmetric square-root ETKF (Hunt et al. 2007): with the
+ * whitened perturbations S = R^{-1/2} HX' (rows scaled by 1/sqrt(r) for a
+ * diagonal R, else L^{-1} HX' with R = L L^T) and d = R^{-1/2}(y - Hxbar),
+ * Pa~ = [(N - 1) I + S^T S]^{-1} = Q diag(1/lam) Q^T (dsyev; eigenvalues
+ * under eig_floor * max raised to it and counted), w = Pa~ S^T d,
+ * W = [(N - 1) Pa~]^{1/2} = Q diag(sqrt((N - 1)/lam)) Q^T, exactly
+ * symmetric (a dsyrk of Q diag(((N - 1)/lam)^{1/4}) mirrored), and
+ * Xa = xbar + X' (w 1^T + W), done by blocks of rows; nothing n x n or
+ * m x m is formed for a diagonal R. */
+static sl_status run_etkf(const sl_enkf_config *cfg, size_t n, size_t N,
+                          double *X, size_t m, const double *HX,
+                          const double *y, int rdiag, buffers *w, double *dof,
+                          size_t *floored, sl_error *err)
+{
+    const int iN = (int)N, im = (int)m, in = (int)n;
+    const double infl = cfg->inflation;
+    const double frel = cfg->eig_floor > 0 ? cfg->eig_floor : DEFAULT_FLOOR;
+    double *yp = w->yp, *d = w->dv, *A = w->A, *T = w->T, *lam = w->lam;
+    double *c = w->tv, *u = w->wv, *xbar = w->stat, *B = w->blk;
+    double lmax, fl, acc = 0.0;
+    size_t i, j, k, i0;
+    int info = 0;
+
+    obs_perturbations(m, N, HX, infl, w->ybar, yp, 0);
+    for (k = 0; k < m; k++)
+        d[k] = y[k] - w->ybar[k];
+    if (rdiag) {
+        for (k = 0; k < m; k++) {
+            w->aux[k] = 1.0 / sqrt(w->rd[k]);
+            d[k] *= w->aux[k];
+        }
+        for (j = 0; j < N; j++)
+            for (k = 0; k < m; k++)
+                yp[k + j * m] *= w->aux[k];
+    } else {
+        dtrsm_("L", "L", "N", "N", &im, &iN, &D1, w->sq, &im, yp, &im, 1, 1, 1, 1);
+        dtrsm_("L", "L", "N", "N", &im, &I1, &D1, w->sq, &im, d, &im, 1, 1, 1, 1);
+    }
+    dsyrk_("L", "T", &iN, &im, &D1, yp, &im, &D0, A, &iN, 1, 1);
+    for (j = 0; j < N; j++)
+        A[j + j * N] += (double)(N - 1);
+    dgemv_("T", &im, &iN, &D1, yp, &im, d, &I1, &D0, c, &I1, 1);
+    if (lower_nonfinite(A, N) || first_nonfinite(c, N) < N)
+        return fail_nonfinite(err);
+    dsyev_("V", "L", &iN, A, &iN, lam, w->ev, &w->lwork, &info, 1, 1);
+    if (info != 0)
+        return sl_fail(err, SL_ENUMERIC, "noconvergence",
+                       "the eigen-decomposition of the ensemble-space matrix failed "
+                       "(LAPACK dsyev info %d)", info);
+    lmax = lam[N - 1];
+    if (!(lmax > 0 && lmax < HUGE_VAL))
+        return fail_nonfinite(err);
+    fl = frel * lmax;
+    for (i = 0; i < N; i++)
+        if (!(lam[i] >= fl)) {
+            lam[i] = fl;
+            (*floored)++;
+        }
+    /* w = Q diag(1/lam) Q^T c, into c */
+    dgemv_("T", &iN, &iN, &D1, A, &iN, c, &I1, &D0, u, &I1, 1);
+    for (i = 0; i < N; i++)
+        u[i] /= lam[i];
+    dgemv_("N", &iN, &iN, &D1, A, &iN, u, &I1, &D0, c, &I1, 1);
+    /* d^T (HBH^T + R)^{-1} d = d~^T (d~ - S w), the same identity */
+    memcpy(w->aux, d, m * sizeof(double));
+    dgemv_("N", &im, &iN, &DM1, yp, &im, c, &I1, &D1, w->aux, &I1, 1);
+    for (k = 0; k < m; k++)
+        acc += d[k] * w->aux[k];
+    *dof = acc;
+    for (i = 0; i < N; i++) {
+        const double s = sqrt(sqrt((double)(N - 1) / lam[i]));
+        for (j = 0; j < N; j++)
+            A[j + i * N] *= s;
+    }
+    dsyrk_("L", "N", &iN, &iN, &D1, A, &iN, &D0, T, &iN, 1, 1);
+    for (j = 0; j < N; j++)
+        for (i = j + 1; i < N; i++)
+            T[j + i * N] = T[i + j * N];
+    for (j = 0; j < N; j++)
+        for (i = 0; i < N; i++)
+            T[i + j * N] += c[i];
+    if (first_nonfinite(T, N * N) < N * N)
+        return fail_nonfinite(err);
+    for (i0 = 0; i0 < n; i0 += w->b) {
+        const size_t nb = n - i0 < w->b ? n - i0 : w->b;
+        const int ib = (int)nb;
+        block_prior(n, N, X, i0, nb, infl, xbar, B, 1, nb);
+        dgemm_("N", "N", &ib, &iN, &iN, &D1, B, &ib, T, &iN, &D0, X + i0, &in, 1, 1);
+        for (j = 0; j < N; j++)
+            for (i = 0; i < nb; i++)
+                X[i0 + i + j * n] += xbar[i];
+        if (cfg->rtpp > 0 || cfg->rtps > 0)
+            for (i = 0; i < nb; i++)
+                relax_row(cfg, N, X + i0 + i, n, B + i, nb);
+        if (!rows_finite(n, N, X, i0, nb))
+            return fail_nonfinite(err);
+    }
+    return SL_OK;
+}
+
+/* ---------------------------------------------------- stochastic EnKF */
+
+/* Perturbed observations (Burgers et al. 1998): member j sees
+ * y_j = y + R^{1/2} eps_j with eps_j the first m normals of stream
+ * (seed, j, cycle, SL_PURPOSE_ANALYSIS) and R^{1/2} the Cholesky factor;
+ * Xa = Xf + K (Y - HXf) with K = P^f H^T (H P^f H^T + R)^{-1} from the
+ * ensemble, P^f H^T = X'(HX')^T/(N - 1), HP^fH^T = HX'(HX')^T/(N - 1).
+ * With localisation both are Schur products with Gaspari-Cohn weights:
+ * state row i / observation k with half-width c_k (rows without position:
+ * param_factor), observations k / l with the mean of their half-widths
+ * (this module's rule; with one half-width for all it is the usual one). The m x m
+ * system is solved once for all members (dpotrf / dpotrs), then every
+ * block of rows costs two dgemm. */
+static sl_status run_stochastic(const sl_enkf_config *cfg, size_t n, size_t N,
+                                double *X, size_t m, const double *HX,
+                                const double *y, const double *R, int rdiag,
+                                buffers *w, double *dof, sl_error *err)
+{
+    const int iN = (int)N, im = (int)m, in = (int)n;
+    const double infl = cfg->inflation, scale = 1.0 / (double)(N - 1);
+    const sl_localization *L = cfg->loc;
+    double *yp = w->yp, *S = w->sq, *D = w->D, *B = w->blk, *G = w->G;
+    double *xbar = w->stat, *touched = w->stat + w->b, acc = 0.0;
+    size_t i, j, k, l, i0;
+    int info = 0, pass;
+
+    obs_perturbations(m, N, HX, infl, w->ybar, yp, 0);
+    for (k = 0; k < m; k++)
+        w->dv[k] = y[k] - w->ybar[k];
+    sl_normals_members(cfg->seed, 0, N, cfg->cycle, SL_PURPOSE_ANALYSIS, m, D, m);
+    if (rdiag) {
+        for (k = 0; k < m; k++)
+            w->aux[k] = sqrt(w->rd[k]);
+        for (j = 0; j < N; j++)
+            for (k = 0; k < m; k++)
+                D[k + j * m] *= w->aux[k];
+    } else {
+        dtrmm_("L", "L", "N", "N", &im, &iN, &D1, S, &im, D, &im, 1, 1, 1, 1);
+    }
+    for (j = 0; j < N; j++)
+        for (k = 0; k < m; k++)
+            D[k + j * m] += w->dv[k] - yp[k + j * m];
+    /* pass 0: the global innovation covariance (its statistic, and the
+     * gain without localisation); pass 1: the localised one */
+    for (pass = 0; pass < (L != NULL ? 2 : 1); pass++) {
+        dsyrk_("L", "N", &im, &iN, &scale, yp, &im, &D0, S, &im, 1, 1);
+        if (pass == 0 && lower_nonfinite(S, m))
+            return fail_nonfinite(err);
+        if (pass == 1)
+            for (l = 0; l < m; l++)
+                for (k = l + 1; k < m; k++)
+                    S[k + l * m] *= obs_weight(L, m, k, l, 0.5 * (L->obs_c[k] + L->obs_c[l]));
+        for (l = 0; l < m; l++) {
+            if (rdiag)
+                S[l + l * m] += w->rd[l];
+            else
+                for (k = l; k < m; k++)
+                    S[k + l * m] += R[k + l * m];
+        }
+        dpotrf_("L", &im, S, &im, &info, 1);
+        if (info != 0) {
+            if (pass == 0 && L != NULL) {
+                *dof = NAN;
+                continue;
+            }
+            return sl_fail(err, SL_ENUMERIC, "notpd",
+                           "the %sinnovation covariance HBH^T + R is not positive definite",
+                           pass == 1 ? "localised " : "");
+        }
+        if (pass == 0) {
+            memcpy(w->aux, w->dv, m * sizeof(double));
+            dpotrs_("L", &im, &I1, S, &im, w->aux, &im, &info, 1);
+            for (k = 0; k < m; k++)
+                acc += w->dv[k] * w->aux[k];
+            *dof = acc;
+        }
+    }
+    dpotrs_("L", &im, &iN, S, &im, D, &im, &info, 1);
+    if (first_nonfinite(D, m * N) < m * N)
+        return fail_nonfinite(err);
+    for (i0 = 0; i0 < n; i0 += w->b) {
+        const size_t nb = n - i0 < w->b ? n - i0 : w->b;
+        const int ib = (int)nb;
+        block_prior(n, N, X, i0, nb, infl, xbar, B, 1, nb);
+        dgemm_("N", "T", &ib, &im, &iN, &scale, B, &ib, yp, &im, &D0, G, &ib, 1, 1);
+        for (i = 0; i < nb; i++)
+            touched[i] = 1.0;
+        if (L != NULL) {
+            for (i = 0; i < nb; i++) {
+                touched[i] = 0.0;
+                for (k = 0; k < m; k++) {
+                    const double r = state_weight(L, n, i0 + i, m, k);
+                    G[i + k * nb] *= r;
+                    if (r > 0)
+                        touched[i] = 1.0;
+                }
+            }
+        }
+        if (infl != 1.0)
+            for (j = 0; j < N; j++)
+                for (i = 0; i < nb; i++)
+                    X[i0 + i + j * n] = xbar[i] + B[i + j * nb];
+        dgemm_("N", "N", &ib, &iN, &im, &D1, G, &ib, D, &im, &D1, X + i0, &in, 1, 1);
+        if (cfg->rtpp > 0 || cfg->rtps > 0)
+            for (i = 0; i < nb; i++)
+                if (touched[i] > 0)
+                    relax_row(cfg, N, X + i0 + i, n, B + i, nb);
+        if (!rows_finite(n, N, X, i0, nb))
+            return fail_nonfinite(err);
+    }
+    return SL_OK;
+}
+
+/* ------------------------------------------------------ serial filters */
+
+static double dot(const double *a, const double *b, size_t N)
+{
+    size_t j;
+    double s = 0.0;
+    for (j = 0; j < N; j++)
+        s += a[j] * b[j];
+    return s;
+}
+
+/* The serial filters, one observation at a time (R diagonal). For
+ * observation k with predicted perturbations y'_k (after the observations
+ * before it), variance s = y'_k . y'_k / (N - 1), innovation
+ * d = y_k - ybar_k and error variance r:
+ *  EnSRF (Whitaker & Hamill 2002): K = rho cov(x, y_k) / (s + r),
+ *    mean += K d, x' -= alpha K y'_k with alpha = 1 / (1 + sqrt(r / (s + r)));
+ *  EAKF (Anderson 2001): the observation's members are adjusted first,
+ *    posterior variance s_a = (1/s + 1/r)^{-1}, mean shift
+ *    delta = s_a (ybar / s + y / r) - ybar (evaluated as s d / (s + r)),
+ *    spread shrunk by beta = sqrt(s_a / s): increments
+ *    dy_j = delta + (beta - 1) y'_kj, with beta - 1 evaluated as
+ *    -(s / (s + r)) / (1 + beta); each state member then moves by the
+ *    regression b dy_j, b = rho cov(x, y_k) / s (nothing moves if s = 0),
+ *    applied as its mean part b delta and perturbation part
+ *    b (beta - 1) y'_k.
+ * Both are kept as (g, h, 1/s): mean += b g, x' += b h y'_k with b the
+ * weighted covariance (EnSRF) or regression coefficient (EAKF). The
+ * remaining predicted observations are updated alike, with weights
+ * between observations of half-width c_k. A state row's updates depend
+ * only on the row itself and on the observation quantities, so the
+ * observations are run first through the predicted observations alone
+ * (each y'_k stays as it was when k was assimilated), then every block of
+ * rows takes its m updates in turn (a dgemv and a rank-1 dger each): the
+ * arithmetic of sweeping the whole state once per observation, in a
+ * single pass over X. */
+static sl_status run_serial(const sl_enkf_config *cfg, size_t n, size_t N,
+                            double *X, size_t m, const double *HX,
+                            const double *y, buffers *w, double *dof,
+                            sl_error *err)
+{
+    const int eakf = cfg->method == SL_ENKF_EAKF, iN = (int)N;
+    const double infl = cfg->inflation, scale = 1.0 / (double)(N - 1);
+    const sl_localization *L = cfg->loc;
+    double *yt = w->yp, *ybar = w->ybar, *rd = w->rd, *v = w->aux, *u = w->dv;
+    double *g = w->coef, *h = w->coef + m, *inv_s = w->coef + 2 * m;
+    double *xbar = w->stat, *flag = xbar + w->b, *rho = flag + w->b,
+           *bv = rho + w->b, *bu = bv + w->b, acc = 0.0;
+    size_t i, j, k, l, i0;
+
+    obs_perturbations(m, N, HX, infl, ybar, yt, 1);
+    if (L != NULL)
+        *dof = innov_dof_diag(N, m, HX, ybar, infl, rd, y, w->dofw);
+    for (k = 0; k < m; k++) {
+        const double *yk = yt + k * N;
+        const double s = dot(yk, yk, N) * scale, d = y[k] - ybar[k];
+        const double sr = s + rd[k], beta = sqrt(rd[k] / sr);
+        const size_t rest = m - k - 1;
+        const int ir = (int)rest;
+        acc += d * d / sr;
+        if (!eakf) {
+            g[k] = d / sr;
+            h[k] = -1.0 / (sr * (1.0 + beta));
+            inv_s[k] = 1.0;
+        } else if (s > 0) {
+            g[k] = s * d / sr;
+            h[k] = -(s / sr) / (1.0 + beta);
+            inv_s[k] = 1.0 / s;
+        } else {
+            g[k] = h[k] = inv_s[k] = 0.0;
+        }
+        if (!(isfinite(s) && isfinite(g[k]) && isfinite(h[k]) && isfinite(inv_s[k])))
+            return fail_nonfinite(err);
+        if (inv_s[k] == 0 || rest == 0)
+            continue;
+        /* the remaining predicted observations, columns k+1 .. m-1 */
+        dgemv_("T", &iN, &ir, &scale, yt + (k + 1) * N, &iN, yk, &I1, &D0, v, &I1, 1);
+        for (l = 0; l < rest; l++) {
+            const double r = L != NULL ? obs_weight(L, m, k + 1 + l, k, L->obs_c[k]) : 1.0;
+            const double b = r * v[l] * inv_s[k];
+            ybar[k + 1 + l] += b * g[k];
+            u[l] = b * h[k];
+        }
+        dger_(&iN, &ir, &D1, yk, &I1, u, &I1, yt + (k + 1) * N, &iN);
+    }
+    if (L == NULL)
+        *dof = acc;
+    if (first_nonfinite(ybar, m) < m || first_nonfinite(yt, m * N) < m * N)
+        return fail_nonfinite(err);
+    for (i0 = 0; i0 < n; i0 += w->b) {
+        const size_t nb = n - i0 < w->b ? n - i0 : w->b;
+        const int ib = (int)nb;
+        double *B = w->blk, *C = w->blk2;
+        /* prior perturbations: row i0 + i in column i of B (N x nb) */
+        block_prior(n, N, X, i0, nb, infl, xbar, B, N, 1);
+        memcpy(C, B, nb * N * sizeof(double));
+        for (i = 0; i < nb; i++)
+            flag[i] = 0.0;
+        for (k = 0; k < m; k++) {
+            const double *yk = yt + k * N;
+            int any = 0;
+            if (inv_s[k] == 0)
+                continue;
+            for (i = 0; i < nb; i++) {
+                rho[i] = L != NULL ? state_weight(L, n, i0 + i, m, k) : 1.0;
+                any |= rho[i] > 0;
+            }
+            if (!any)
+                continue;
+            dgemv_("T", &iN, &ib, &scale, C, &iN, yk, &I1, &D0, bv, &I1, 1);
+            for (i = 0; i < nb; i++) {
+                const double b = rho[i] * bv[i] * inv_s[k];
+                xbar[i] += b * g[k];
+                bu[i] = b * h[k];
+                if (rho[i] > 0)
+                    flag[i] = 1.0;
+            }
+            dger_(&iN, &ib, &D1, yk, &I1, bu, &I1, C, &iN);
+        }
+        for (i = 0; i < nb; i++) {
+            double *xa = C + i * N;
+            for (j = 0; j < N; j++)
+                xa[j] += xbar[i];
+            if (flag[i] > 0 && (cfg->rtpp > 0 || cfg->rtps > 0))
+                relax_row(cfg, N, xa, 1, B + i * N, 1);
+        }
+        /* rows no observation reaches keep their (inflated) prior: with
+         * no inflation, exactly the values they came with */
+        for (j = 0; j < N; j++)
+            for (i = 0; i < nb; i++)
+                if (flag[i] > 0 || infl != 1.0)
+                    X[i0 + i + j * n] = C[i * N + j];
+        if (!rows_finite(n, N, X, i0, nb))
+            return fail_nonfinite(err);
+    }
+    return SL_OK;
+}
+
+/* --------------------------------------------------------------- LETKF */
+
+/* Inflation into a copy of the ensemble, the local analyses of letkf.c on
+ * the copy, relaxation toward the prior perturbations after inflation;
+ * X is written only once everything succeeded. */
+static sl_status run_letkf(const sl_enkf_config *cfg, size_t n, size_t N,
+                           double *X, size_t m, const double *HX,
+                           const double *y, buffers *w, double *dof,
+                           size_t *floored, size_t *skipped, sl_error *err)
+{
+    const double infl = cfg->inflation;
+    const double *hx = HX;
+    double *xw = w->xw, *xbar = w->xbar;
+    sl_enkf_info li;
+    sl_status st;
+    size_t i, j, k;
+
+    for (i = 0; i < n; i++)
+        xbar[i] = 0.0;
+    for (j = 0; j < N; j++)
+        for (i = 0; i < n; i++)
+            xbar[i] += X[i + j * n];
+    for (i = 0; i < n; i++)
+        xbar[i] /= (double)N;
+    if (infl == 1.0) {
+        memcpy(xw, X, n * N * sizeof(double));
+    } else {
+        for (j = 0; j < N; j++)
+            for (i = 0; i < n; i++)
+                xw[i + j * n] = xbar[i] + infl * (X[i + j * n] - xbar[i]);
+    }
+    obs_perturbations(m, N, HX, infl, w->ybar, w->hw, 0);
+    if (infl != 1.0) {
+        for (j = 0; j < N; j++)
+            for (k = 0; k < m; k++)
+                w->hw[k + j * m] += w->ybar[k];
+        hx = w->hw;
+    }
+    *dof = innov_dof_diag(N, m, HX, w->ybar, infl, w->rd, y, w->dofw);
+    li.floored = 0;
+    li.local_skipped = 0;
+    li.innov_dof = NAN;
+    st = sl_letkf_run(cfg, n, N, xw, m, hx, y, w->rd, w->lw, &li, err);
+    if (st != SL_OK)
+        return st;
+    *floored = li.floored;
+    *skipped = li.local_skipped;
+    if (cfg->rtpp > 0 || cfg->rtps > 0)
+        for (i = 0; i < n; i++) {
+            for (j = 0; j < N; j++)
+                w->rowf[j] = infl * (X[i + j * n] - xbar[i]);
+            relax_row(cfg, N, xw + i, n, w->rowf, 1);
+        }
+    if (first_nonfinite(xw, n * N) < n * N)
+        return fail_nonfinite(err);
+    memcpy(X, xw, n * N * sizeof(double));
+    return SL_OK;
+}
+
+/* ------------------------------------------------------------ the entry */
+
+sl_status sl_enkf_analysis(const sl_enkf_config *cfg, size_t n, size_t N,
+                           double *X, size_t m, const double *HX,
+                           const double *y, const double *R, int r_full,
+                           void *work, sl_enkf_info *info, sl_error *err)
+{
+    buffers w;
+    sl_status st;
+    double dof = NAN;
+    size_t floored = 0, skipped = 0;
+    int rdiag = 1;
+
+    if (info != NULL) {
+        info->floored = 0;
+        info->local_skipped = 0;
+        info->innov_dof = NAN;
+    }
+    if ((st = check_config(cfg, r_full, err)) != SL_OK)
+        return st;
+    if (X == NULL || HX == NULL || y == NULL || R == NULL || work == NULL)
+        return sl_fail(err, SL_EINVAL, "badconfig",
+                       "the ensemble, predicted observations, observations, R "
+                       "and the workspace are required");
+    if (N < 2)
+        return sl_fail(err, SL_EINVAL, "badsize",
+                       "the analysis needs at least 2 members, got %lu", (unsigned long)N);
+    if (m == 0)
+        return sl_fail(err, SL_EINVAL, "badsize", "no observations to assimilate");
+    if (n == 0)
+        return sl_fail(err, SL_EINVAL, "badsize", "the ensemble has no state rows");
+    if (n > INT_MAX || N > INT_MAX / LWORK_PER_MEMBER || m > INT_MAX)
+        return sl_fail(err, SL_EINVAL, "badsize",
+                       "%lu rows, %lu members, %lu observations: too large for LAPACK",
+                       (unsigned long)n, (unsigned long)N, (unsigned long)m);
+    if ((st = check_localization(cfg, n, m, err)) != SL_OK)
+        return st;
+    if (layout(cfg, n, N, m, r_full, work, &w) == 0)
+        return sl_fail(err, SL_ENOMEM, "nomemory", "the analysis workspace size overflows");
+    if ((st = check_finite(n, N, X, m, HX, y, R, r_full, err)) != SL_OK)
+        return st;
+    if ((st = check_R(cfg->method, m, R, r_full, &w, &rdiag, err)) != SL_OK)
+        return st;
+    switch (cfg->method) {
+    case SL_ENKF_STOCHASTIC:
+        st = run_stochastic(cfg, n, N, X, m, HX, y, R, rdiag, &w, &dof, err);
+        break;
+    case SL_ENKF_ETKF:
+        st = run_etkf(cfg, n, N, X, m, HX, y, rdiag, &w, &dof, &floored, err);
+        break;
+    case SL_ENKF_ENSRF:
+    case SL_ENKF_EAKF:
+        st = run_serial(cfg, n, N, X, m, HX, y, &w, &dof, err);
+        break;
+    default:
+        st = run_letkf(cfg, n, N, X, m, HX, y, &w, &dof, &floored, &skipped, err);
+        break;
+    }
+    if (st == SL_OK && info != NULL) {
+        info->floored = floored;
+        info->local_skipped = skipped;
+        info->innov_dof = dof;
+    }
+    return st;
+}

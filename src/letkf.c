@@ -1,0 +1,805 @@
+/* letkf.c - the local ensemble transform Kalman filter: an ensemble-space
+ * analysis with R-localisation at every state row (Hunt, Kostelich &
+ * Szunyogh 2007). */
+#include <float.h>
+#include <math.h>
+#include <stdint.h>
+#include <string.h>
+#ifdef _OPENMP
+#include <omp.h>
+#endif
+
+#include "enkf_internal.h"
+
+#define MAX_THREADS 256
+#define ALIGN 64
+#define DEFAULT_FLOOR 1e-12
+#define MAX_QL_ITER 60
+
+/* A row or an observation with its sort keys: rows are sorted by position
+ * (a, b) so that rows at the same place form one group with one local
+ * analysis; observations by the coordinate whose difference bounds the
+ * distance from below (key a), so the observations in reach of a point
+ * lie in a contiguous range. */
+typedef struct {
+    double a, b;
+    size_t i;
+} entry;
+
+/* What one thread owns: its matrices and its tallies. */
+typedef struct {
+    double *A;    /* N x N: the ensemble-space matrix, then the transform */
+    double *Q;    /* N x N: its eigenvectors */
+    double *lam, *e, *beta, *c, *t, *xp;
+    size_t floored, skipped;
+    size_t fail_group; /* SIZE_MAX: no failure */
+    int fail_info;     /* 1 + eigenvalue that did not converge; 0: not finite */
+} slice;
+
+typedef struct {
+    double *YbT;     /* N x m: column k holds the perturbations of obs k */
+    double *d;       /* m innovations y - mean(HX) */
+    entry *obs;      /* m observations sorted by key */
+    entry *rows;     /* n rows sorted by position */
+    entry *scratch;  /* max(n, m): merge buffer */
+    size_t *gstart;  /* n + 1: first sorted row of each group */
+    slice *sl;       /* one per thread */
+} buffers;
+
+static size_t carve(unsigned char *base, size_t *off, size_t bytes, void **out)
+{
+    size_t at = (*off + ALIGN - 1) / ALIGN * ALIGN;
+    if (out != NULL)
+        *out = base != NULL ? base + at : NULL;
+    *off = at + bytes;
+    return *off;
+}
+
+/* Lay the buffers out in `base` (NULL: only measure). Returns the bytes
+ * needed, or 0 if a size overflows. */
+static size_t layout(size_t nthr, size_t n, size_t N, size_t m,
+                     unsigned char *base, buffers *b)
+{
+    /* every product below is checked once against this bound */
+    const size_t big = (size_t)1 << 56;
+    size_t off = 0, t, nm = n > m ? n : m;
+    if (nthr < 1)
+        nthr = 1;
+    if (nthr > MAX_THREADS || N > ((size_t)1 << 24) || nm > big / 64 ||
+        nm > big / 64 / (N > 0 ? N : 1) || N * N > big / 64 / MAX_THREADS)
+        return 0;
+    carve(base, &off, N * m * sizeof(double), (void **)&b->YbT);
+    carve(base, &off, m * sizeof(double), (void **)&b->d);
+    carve(base, &off, m * sizeof(entry), (void **)&b->obs);
+    carve(base, &off, n * sizeof(entry), (void **)&b->rows);
+    carve(base, &off, nm * sizeof(entry), (void **)&b->scratch);
+    carve(base, &off, (n + 1) * sizeof(size_t), (void **)&b->gstart);
+    carve(base, &off, nthr * sizeof(slice), (void **)&b->sl);
+    for (t = 0; t < nthr; t++) {
+        double *p[8];
+        size_t q;
+        carve(base, &off, N * N * sizeof(double), (void **)&p[0]);
+        carve(base, &off, N * N * sizeof(double), (void **)&p[1]);
+        for (q = 2; q < 8; q++)
+            carve(base, &off, N * sizeof(double), (void **)&p[q]);
+        if (base != NULL) {
+            slice *s = &b->sl[t];
+            s->A = p[0];
+            s->Q = p[1];
+            s->lam = p[2];
+            s->e = p[3];
+            s->beta = p[4];
+            s->c = p[5];
+            s->t = p[6];
+            s->xp = p[7];
+        }
+    }
+    /* a trailing cache line keeps the last slice apart from whatever
+     * follows the workspace */
+    return carve(base, &off, ALIGN, NULL);
+}
+
+size_t sl_letkf_workspace(const sl_enkf_config *cfg, size_t n, size_t N,
+                          size_t m)
+{
+    buffers b;
+    size_t nthr = cfg != NULL && cfg->threads > 0 ? (size_t)cfg->threads : 1;
+    return layout(nthr, n, N, m, NULL, &b);
+}
+
+/* ------------------------------------------------------------ sorting */
+
+/* Order of doubles with NaN after every number. */
+static int cmp_num(double x, double y)
+{
+    if (isnan(x))
+        return isnan(y) ? 0 : 1;
+    if (isnan(y))
+        return -1;
+    return (x > y) - (x < y);
+}
+
+static int entry_less_eq(const entry *x, const entry *y)
+{
+    int c = cmp_num(x->a, y->a);
+    if (c == 0)
+        c = cmp_num(x->b, y->b);
+    if (c == 0)
+        c = (x->i > y->i) - (x->i < y->i);
+    return c <= 0;
+}
+
+/* Bottom-up merge sort of e[0..len-1] with the buffer tmp (no allocation,
+ * the same order on every run); an input already in order costs one pass. */
+static void sort_entries(entry *e, entry *tmp, size_t len)
+{
+    size_t k, width;
+    entry *src = e, *dst = tmp;
+    for (k = 1; k < len && entry_less_eq(&e[k - 1], &e[k]); k++)
+        ;
+    if (k >= len)
+        return;
+    for (width = 1; width < len; width *= 2) {
+        size_t lo;
+        for (lo = 0; lo < len; lo += 2 * width) {
+            size_t mid = lo + width < len ? lo + width : len;
+            size_t hi = lo + 2 * width < len ? lo + 2 * width : len;
+            size_t i = lo, j = mid, o = lo;
+            while (i < mid && j < hi)
+                dst[o++] = entry_less_eq(&src[i], &src[j]) ? src[i++] : src[j++];
+            while (i < mid)
+                dst[o++] = src[i++];
+            while (j < hi)
+                dst[o++] = src[j++];
+        }
+        {
+            entry *sw = src;
+            src = dst;
+            dst = sw;
+        }
+    }
+    if (src != e)
+        memcpy(e, src, len * sizeof *e);
+}
+
+/* First index of the sorted obs whose key is >= lo. */
+static size_t lower_bound(const entry *obs, size_t m, double lo)
+{
+    size_t a = 0, b = m;
+    while (a < b) {
+        size_t h = a + (b - a) / 2;
+        if (obs[h].a < lo)
+            a = h + 1;
+        else
+            b = h;
+    }
+    return a;
+}
+
+/* A position on the ring brought into [0, period). */
+static double ring_wrap(double x, double period)
+{
+    double r = fmod(x, period);
+    if (r < 0)
+        r += period;
+    return r < period ? r : 0.0;
+}
+
+/* ------------------------------------------------------ eigensolver */
+
+/* Eigenvalues (unordered, in lam) and eigenvectors (the columns of Q) of
+ * the symmetric n x n matrix A (full storage, column-major; destroyed):
+ * Householder reduction to tridiagonal form, then the implicit QL
+ * algorithm with Wilkinson's shift (Golub & Van Loan, Matrix
+ * Computations, sections 5.1 and 8.3). It runs inside the calling thread
+ * (no BLAS threads beneath the OpenMP ones) and gives the same bits on
+ * every run. e and beta: n doubles of scratch. Returns 0, or 1 + the
+ * index of an eigenvalue that did not converge. */
+static int sym_eigen(size_t n, double *A, double *Q, double *lam, double *e,
+                     double *beta)
+{
+    size_t i, j, k, l;
+    double amax = 0.0, scale = 1.0;
+
+    /* scale by a power of two (exact) so that no square overflows */
+    for (i = 0; i < n * n; i++)
+        if (fabs(A[i]) > amax)
+            amax = fabs(A[i]);
+    if (amax > 0) {
+        int ex;
+        double inv;
+        frexp(amax, &ex);
+        scale = ldexp(1.0, ex);
+        inv = ldexp(1.0, -ex);
+        for (i = 0; i < n * n; i++)
+            A[i] *= inv;
+    }
+
+    /* H_k = I - beta_k v v' zeroes column k below row k + 1; v is kept in
+     * that column, with v_0 = 1 */
+    for (k = 0; k + 2 < n; k++) {
+        double *x = A + k * n + k + 1, *A22 = A + (k + 1) * n + (k + 1);
+        double *p = lam; /* scratch until the diagonal is read out */
+        double sigma = 0.0, x0 = x[0], mu, v0, b, pv;
+        size_t L = n - k - 1;
+        for (i = 1; i < L; i++)
+            sigma += x[i] * x[i];
+        if (sigma == 0.0) {
+            beta[k] = 0.0;
+            e[k] = x0;
+            continue;
+        }
+        mu = sqrt(x0 * x0 + sigma);
+        v0 = x0 <= 0 ? x0 - mu : -sigma / (x0 + mu);
+        b = 2.0 * v0 * v0 / (sigma + v0 * v0);
+        for (i = 1; i < L; i++)
+            x[i] /= v0;
+        x[0] = 1.0;
+        e[k] = mu;
+        beta[k] = b;
+        /* A22 <- H A22 H = A22 - v w' - w v', p = b A22 v,
+         * w = p - (b / 2)(p'v) v */
+        for (i = 0; i < L; i++)
+            p[i] = 0.0;
+        for (j = 0; j < L; j++) {
+            const double *col = A22 + j * n;
+            double vj = x[j];
+            for (i = 0; i < L; i++)
+                p[i] += col[i] * vj;
+        }
+        pv = 0.0;
+        for (i = 0; i < L; i++) {
+            p[i] *= b;
+            pv += p[i] * x[i];
+        }
+        pv *= 0.5 * b;
+        for (i = 0; i < L; i++)
+            p[i] -= pv * x[i];
+        for (j = 0; j < L; j++) {
+            double *col = A22 + j * n, vj = x[j], wj = p[j];
+            for (i = 0; i < L; i++)
+                col[i] -= x[i] * wj + p[i] * vj;
+        }
+    }
+    for (i = 0; i < n; i++)
+        lam[i] = A[i + i * n];
+    e[n - 2] = A[(n - 1) + (n - 2) * n];
+    e[n - 1] = 0.0;
+
+    /* Q = H_0 H_1 ... H_{n-3}, applied from the last */
+    memset(Q, 0, n * n * sizeof *Q);
+    for (i = 0; i < n; i++)
+        Q[i + i * n] = 1.0;
+    for (k = n - 2; k-- > 0;) {
+        const double *v = A + k * n + k + 1;
+        size_t L = n - k - 1;
+        double b = beta[k];
+        if (b == 0.0)
+            continue;
+        for (j = k + 1; j < n; j++) {
+            double *q = Q + j * n + k + 1, sd = 0.0;
+            for (i = 0; i < L; i++)
+                sd += v[i] * q[i];
+            sd *= b;
+            for (i = 0; i < L; i++)
+                q[i] -= sd * v[i];
+        }
+    }
+
+    /* implicit QL on the tridiagonal matrix (diagonal lam, off-diagonal
+     * e), the rotations accumulated into Q */
+    for (l = 0; l < n; l++) {
+        int iter = 0;
+        for (;;) {
+            double g, r, sn, cs, p;
+            size_t m, ii;
+            int underflow = 0;
+            for (m = l; m + 1 < n; m++)
+                if (fabs(e[m]) <= DBL_EPSILON * (fabs(lam[m]) + fabs(lam[m + 1])))
+                    break;
+            if (m == l)
+                break;
+            if (++iter > MAX_QL_ITER)
+                return (int)l + 1;
+            g = (lam[l + 1] - lam[l]) / (2.0 * e[l]);
+            r = sqrt(g * g + 1.0);
+            g = lam[m] - lam[l] + e[l] / (g + copysign(r, g));
+            sn = cs = 1.0;
+            p = 0.0;
+            for (ii = m; ii-- > l;) {
+                double f = sn * e[ii], bb = cs * e[ii];
+                double *z0 = Q + ii * n, *z1 = z0 + n;
+                r = sqrt(f * f + g * g);
+                e[ii + 1] = r;
+                if (r == 0.0) {
+                    lam[ii + 1] -= p;
+                    e[m] = 0.0;
+                    underflow = 1;
+                    break;
+                }
+                sn = f / r;
+                cs = g / r;
+                g = lam[ii + 1] - p;
+                r = (lam[ii] - g) * sn + 2.0 * cs * bb;
+                p = sn * r;
+                lam[ii + 1] = g + p;
+                g = cs * r - bb;
+                for (k = 0; k < n; k++) {
+                    double z = z1[k];
+                    z1[k] = sn * z0[k] + cs * z;
+                    z0[k] = cs * z0[k] - sn * z;
+                }
+            }
+            if (underflow)
+                continue;
+            lam[l] -= p;
+            e[l] = g;
+            e[m] = 0.0;
+        }
+    }
+    for (i = 0; i < n; i++)
+        lam[i] *= scale;
+    return 0;
+}
+
+/* ---------------------------------------------------------- analysis */
+
+typedef struct {
+    size_t n, N, m;
+    double *X;
+    const double *rdiag;
+    const sl_localization *loc;
+    const buffers *b;
+    double floor_rel;
+    double reach; /* half-width of the key window, or +Inf: scan every obs */
+} run_ctx;
+
+/* Add one observation with inverse error variance rinv and innovation dk
+ * to the upper triangle of A and to c = C d. */
+static void add_obs(size_t N, double *A, double *c, const double *yk,
+                    double rinv, double dk)
+{
+    size_t a, b;
+    double rd = rinv * dk;
+    for (b = 0; b < N; b++) {
+        double s = rinv * yk[b];
+        double *Ab = A + b * N;
+        for (a = 0; a <= b; a++)
+            Ab[a] += s * yk[a];
+        c[b] += rd * yk[b];
+    }
+}
+
+/* Add the observations that reach pos among the sorted ones from j0 on
+ * (up to the key key_hi if bounded); returns how many. */
+static size_t add_range(const run_ctx *cx, slice *s, const double *pos,
+                        size_t j0, double key_hi, int bounded)
+{
+    const sl_localization *loc = cx->loc;
+    const entry *obs = cx->b->obs;
+    const size_t m = cx->m, N = cx->N;
+    size_t j, used = 0;
+    for (j = j0; j < m && (!bounded || obs[j].a <= key_hi); j++) {
+        size_t k = obs[j].i;
+        double op[2], dist, g;
+        op[0] = loc->obs_pos[k];
+        op[1] = loc->dim > 1 ? loc->obs_pos[k + m] : 0.0;
+        dist = sl_distance(loc->geometry, loc->period_or_radius, pos, op);
+        g = sl_gaspari_cohn(dist, loc->obs_c[k]);
+        if (g > 0) {
+            add_obs(N, s->A, s->c, cx->b->YbT + k * N, g / cx->rdiag[k],
+                    cx->b->d[k]);
+            used++;
+        }
+    }
+    return used;
+}
+
+/* The local analysis of group g (rows at one place, or the rows that are
+ * not localised): builds the transform once and applies it to each row. */
+static void local_analysis(const run_ctx *cx, slice *s, size_t g)
+{
+    const size_t n = cx->n, N = cx->N, m = cx->m;
+    const buffers *b = cx->b;
+    const size_t r0 = b->gstart[g], r1 = b->gstart[g + 1];
+    const entry *rep = &b->rows[r0];
+    double *A = s->A, *Q = s->Q, *lam = s->lam, *c = s->c, *t = s->t;
+    double *xp = s->xp, *X = cx->X, lmax, fl, nm1 = (double)(N - 1);
+    size_t used = 0, a, e, j, r, nfl = 0;
+    int info;
+
+    memset(A, 0, N * N * sizeof *A);
+    memset(c, 0, N * sizeof *c);
+    if (isnan(rep->a)) {
+        /* not localised: every observation, damped by param_factor */
+        size_t k;
+        for (k = 0; k < m; k++)
+            add_obs(N, A, c, b->YbT + k * N, cx->loc->param_factor / cx->rdiag[k],
+                    b->d[k]);
+        used = m;
+    } else {
+        const sl_localization *loc = cx->loc;
+        double pos[2], key, h = cx->reach;
+        pos[0] = rep->a;
+        pos[1] = rep->b;
+        key = loc->geometry == SL_GEOM_SPHERE ? pos[1] : pos[0];
+        if (!(h < HUGE_VAL)) {
+            used = add_range(cx, s, pos, 0, 0.0, 0);
+        } else if (loc->geometry == SL_GEOM_RING) {
+            double L = loc->period_or_radius, x = ring_wrap(pos[0], L);
+            if (x - h < 0) {
+                used = add_range(cx, s, pos, lower_bound(b->obs, m, x - h + L), 0.0, 0);
+                used += add_range(cx, s, pos, 0, x + h, 1);
+            } else if (x + h >= L) {
+                used = add_range(cx, s, pos, lower_bound(b->obs, m, x - h), 0.0, 0);
+                used += add_range(cx, s, pos, 0, x + h - L, 1);
+            } else {
+                used = add_range(cx, s, pos, lower_bound(b->obs, m, x - h), x + h, 1);
+            }
+        } else {
+            used = add_range(cx, s, pos, lower_bound(b->obs, m, key - h), key + h, 1);
+        }
+    }
+    if (used == 0) {
+        s->skipped += r1 - r0;
+        return;
+    }
+
+    /* Pa~ = [(N-1) I + C HX']^{-1} through A = Q diag(lam) Q' */
+    for (j = 0; j < N; j++) {
+        A[j + j * N] += nm1;
+        for (a = 0; a < j; a++)
+            A[j + a * N] = A[a + j * N];
+    }
+    info = sym_eigen(N, A, Q, lam, s->e, s->beta);
+    lmax = 0.0;
+    for (e = 0; e < N; e++) {
+        if (!(lam[e] > -HUGE_VAL && lam[e] < HUGE_VAL))
+            lmax = NAN;
+        if (lam[e] > lmax)
+            lmax = lam[e];
+    }
+    if (info != 0 || !(lmax > 0 && lmax < HUGE_VAL)) {
+        if (g < s->fail_group) {
+            s->fail_group = g;
+            s->fail_info = info;
+        }
+        return;
+    }
+    fl = cx->floor_rel * lmax;
+    for (e = 0; e < N; e++)
+        if (lam[e] < fl) {
+            lam[e] = fl;
+            nfl++;
+        }
+    s->floored += nfl * (r1 - r0);
+
+    /* w = Pa~ C d = Q diag(1/lam) Q' c, kept in c */
+    for (e = 0; e < N; e++) {
+        const double *q = Q + e * N;
+        double acc = 0.0;
+        for (a = 0; a < N; a++)
+            acc += q[a] * c[a];
+        t[e] = acc / lam[e];
+    }
+    memset(c, 0, N * sizeof *c);
+    for (e = 0; e < N; e++) {
+        const double *q = Q + e * N;
+        for (a = 0; a < N; a++)
+            c[a] += q[a] * t[e];
+    }
+    /* the transform T = w 1' + W, W = [(N-1) Pa~]^{1/2}
+     * = Q diag(sqrt((N-1)/lam)) Q', in A */
+    for (e = 0; e < N; e++)
+        t[e] = sqrt(nm1 / lam[e]);
+    for (j = 0; j < N; j++) {
+        double *Tj = A + j * N;
+        memcpy(Tj, c, N * sizeof *Tj);
+        for (e = 0; e < N; e++) {
+            const double *q = Q + e * N;
+            double f = t[e] * q[j];
+            for (a = 0; a < N; a++)
+                Tj[a] += f * q[a];
+        }
+    }
+
+    /* row i of the analysis: xbar_i + X'_i T */
+    for (r = r0; r < r1; r++) {
+        size_t i = b->rows[r].i;
+        double xbar = 0.0;
+        for (j = 0; j < N; j++)
+            xbar += X[i + j * n];
+        xbar /= (double)N;
+        for (j = 0; j < N; j++)
+            xp[j] = X[i + j * n] - xbar;
+        for (j = 0; j < N; j++) {
+            const double *Tj = A + j * N;
+            double acc = 0.0;
+            for (a = 0; a < N; a++)
+                acc += xp[a] * Tj[a];
+            X[i + j * n] = xbar + acc;
+            if (!isfinite(X[i + j * n]) && g < s->fail_group) {
+                s->fail_group = g;
+                s->fail_info = 0;
+            }
+        }
+    }
+}
+
+/* ------------------------------------------------------------- checks */
+
+static sl_status check_localization(const sl_localization *loc, size_t n,
+                                    size_t m, sl_error *err)
+{
+    size_t i, dim;
+    if (loc == NULL)
+        return sl_fail(err, SL_EINVAL, "badlocalization",
+                       "the LETKF needs localisation (positions and half-widths)");
+    dim = loc->dim;
+    switch (loc->geometry) {
+    case SL_GEOM_LINE:
+    case SL_GEOM_RING:
+        if (dim != 1)
+            return sl_fail(err, SL_EINVAL, "badlocalization",
+                           "a line or ring has 1 coordinate per position, got %lu",
+                           (unsigned long)dim);
+        break;
+    case SL_GEOM_PLANE:
+    case SL_GEOM_SPHERE:
+        if (dim != 2)
+            return sl_fail(err, SL_EINVAL, "badlocalization",
+                           "a plane or sphere has 2 coordinates per position, got %lu",
+                           (unsigned long)dim);
+        break;
+    default:
+        return sl_fail(err, SL_EINVAL, "badlocalization", "unknown geometry %d",
+                       loc->geometry);
+    }
+    if ((loc->geometry == SL_GEOM_RING || loc->geometry == SL_GEOM_SPHERE) &&
+        !(loc->period_or_radius > 0 && loc->period_or_radius < HUGE_VAL))
+        return sl_fail(err, SL_EINVAL, "badlocalization",
+                       "the %s must be positive and finite, got %g",
+                       loc->geometry == SL_GEOM_RING ? "period" : "radius",
+                       loc->period_or_radius);
+    if (loc->state_pos == NULL || loc->obs_pos == NULL || loc->obs_c == NULL)
+        return sl_fail(err, SL_EINVAL, "badlocalization",
+                       "positions of the states and observations and the half-widths are needed");
+    if (!(loc->param_factor > 0 && loc->param_factor <= 1))
+        return sl_fail(err, SL_EINVAL, "badlocalization",
+                       "the weight of rows that are not localised must be in (0, 1], got %g",
+                       loc->param_factor);
+    for (i = 0; i < n; i++) {
+        double p0 = loc->state_pos[i];
+        if (isnan(p0))
+            continue;
+        if (!isfinite(p0) || (dim > 1 && !isfinite(loc->state_pos[i + n])))
+            return sl_fail(err, SL_EINVAL, "badlocalization",
+                           "the position of state row %lu is not finite",
+                           (unsigned long)(i + 1));
+        if (loc->geometry == SL_GEOM_SPHERE && !(fabs(loc->state_pos[i + n]) <= 90))
+            return sl_fail(err, SL_EINVAL, "badlocalization",
+                           "the latitude of state row %lu must be in [-90, 90], got %g",
+                           (unsigned long)(i + 1), loc->state_pos[i + n]);
+    }
+    for (i = 0; i < m; i++) {
+        if (!isfinite(loc->obs_pos[i]) || (dim > 1 && !isfinite(loc->obs_pos[i + m])))
+            return sl_fail(err, SL_EINVAL, "badlocalization",
+                           "the position of observation %lu is not finite",
+                           (unsigned long)(i + 1));
+        if (loc->geometry == SL_GEOM_SPHERE && !(fabs(loc->obs_pos[i + m]) <= 90))
+            return sl_fail(err, SL_EINVAL, "badlocalization",
+                           "the latitude of observation %lu must be in [-90, 90], got %g",
+                           (unsigned long)(i + 1), loc->obs_pos[i + m]);
+        if (!(loc->obs_c[i] > 0 && loc->obs_c[i] < HUGE_VAL))
+            return sl_fail(err, SL_EINVAL, "badlocalization",
+                           "the half-width of observation %lu must be positive and finite, got %g",
+                           (unsigned long)(i + 1), loc->obs_c[i]);
+    }
+    return SL_OK;
+}
+
+/* ---------------------------------------------------------------- run */
+
+sl_status sl_letkf_run(const sl_enkf_config *cfg, size_t n, size_t N,
+                       double *X, size_t m, const double *HX,
+                       const double *y, const double *rdiag, void *work,
+                       sl_enkf_info *info, sl_error *err)
+{
+    const sl_localization *loc;
+    buffers b;
+    run_ctx cx;
+    size_t nthr, i, j, k, ngroup, floored = 0, skipped = 0;
+    size_t fail_group = SIZE_MAX;
+    int fail_info = 0;
+    double xmax = 0.0, s1 = 0.0, s2 = 0.0, cmax = 0.0, bound;
+    sl_status st;
+
+    if (cfg == NULL)
+        return sl_fail(err, SL_EINVAL, "badconfig", "no configuration");
+    if (cfg->threads < 1 || cfg->threads > MAX_THREADS)
+        return sl_fail(err, SL_EINVAL, "badconfig", "threads must be 1 to %d, got %d",
+                       MAX_THREADS, cfg->threads);
+    if (!(cfg->eig_floor >= 0 && cfg->eig_floor < 1))
+        return sl_fail(err, SL_EINVAL, "badconfig",
+                       "the eigenvalue floor must be in [0, 1), got %g", cfg->eig_floor);
+    if (N < 2 || m == 0)
+        return sl_fail(err, SL_EINVAL, "badsize",
+                       "the LETKF needs at least 2 members and 1 observation, got %lu and %lu",
+                       (unsigned long)N, (unsigned long)m);
+    nthr = (size_t)cfg->threads;
+    if (layout(nthr, n, N, m, NULL, &b) == 0)
+        return sl_fail(err, SL_ENOMEM, "badsize", "the problem is too large");
+    if (work == NULL || (n > 0 && X == NULL) || HX == NULL || y == NULL ||
+        rdiag == NULL)
+        return sl_fail(err, SL_EINVAL, "badconfig", "a buffer is missing");
+    loc = cfg->loc;
+    st = check_localization(loc, n, m, err);
+    if (st != SL_OK)
+        return st;
+    for (k = 0; k < m; k++) {
+        if (!(rdiag[k] > 0 && rdiag[k] < HUGE_VAL))
+            return sl_fail(err, SL_EINVAL, "notpd",
+                           "the error variance of observation %lu must be positive and finite, got %g",
+                           (unsigned long)(k + 1), rdiag[k]);
+        if (!isfinite(y[k]))
+            return sl_fail(err, SL_EINVAL, "nonfinite", "observation %lu is not finite",
+                           (unsigned long)(k + 1));
+    }
+    for (k = 0; k < m * N; k++)
+        if (!isfinite(HX[k]))
+            return sl_fail(err, SL_EINVAL, "nonfinite",
+                           "predicted observation %lu of member %lu is not finite",
+                           (unsigned long)(k % m + 1), (unsigned long)(k / m + 1));
+    for (k = 0; k < n * N; k++) {
+        if (!isfinite(X[k]))
+            return sl_fail(err, SL_EINVAL, "nonfinite",
+                           "state row %lu of member %lu is not finite",
+                           (unsigned long)(k % n + 1), (unsigned long)(k / n + 1));
+        if (fabs(X[k]) > xmax)
+            xmax = fabs(X[k]);
+    }
+    layout(nthr, n, N, m, (unsigned char *)work, &b);
+
+    /* HX' (transposed, one column per observation) and the innovations,
+     * once for every row */
+    memset(b.d, 0, m * sizeof *b.d);
+    for (j = 0; j < N; j++)
+        for (k = 0; k < m; k++)
+            b.d[k] += HX[k + j * m];
+    for (k = 0; k < m; k++)
+        b.d[k] /= (double)N;
+    for (j = 0; j < N; j++)
+        for (k = 0; k < m; k++)
+            b.YbT[j + k * N] = HX[k + j * m] - b.d[k];
+    for (k = 0; k < m; k++) {
+        double ymax = 0.0;
+        b.d[k] = y[k] - b.d[k];
+        for (j = 0; j < N; j++)
+            if (fabs(b.YbT[j + k * N]) > ymax)
+                ymax = fabs(b.YbT[j + k * N]);
+        s1 += ymax * ymax / rdiag[k];
+        s2 += fabs(b.d[k]) * ymax / rdiag[k];
+        if (loc->obs_c[k] > cmax)
+            cmax = loc->obs_c[k];
+    }
+    /* bounds of the entries of A and c and of the analysis: rejecting a
+     * problem that could overflow here, before X is touched, keeps X whole
+     * in all but pathological cases (those are still reported below) */
+    bound = (double)N * ((double)N + s1) + s2 +
+            xmax * (double)N * (2.0 + 2.0 * sqrt((double)N) * s2);
+    if (!(bound < HUGE_VAL))
+        return sl_fail(err, SL_ENUMERIC, "nonfinite",
+                       "the local analyses would overflow (observation errors far smaller than the spread)");
+    if (n == 0) {
+        if (info != NULL) {
+            info->floored = 0;
+            info->local_skipped = 0;
+        }
+        return SL_OK;
+    }
+
+    /* observations sorted by the coordinate that bounds the distance */
+    for (k = 0; k < m; k++) {
+        double a;
+        switch (loc->geometry) {
+        case SL_GEOM_RING:
+            a = ring_wrap(loc->obs_pos[k], loc->period_or_radius);
+            break;
+        case SL_GEOM_SPHERE:
+            a = loc->obs_pos[k + m]; /* latitude */
+            break;
+        default:
+            a = loc->obs_pos[k];
+        }
+        b.obs[k].a = a;
+        b.obs[k].b = 0.0;
+        b.obs[k].i = k;
+    }
+    sort_entries(b.obs, b.scratch, m);
+    /* half-width of the window of keys: Gaspari-Cohn vanishes from 2c; the
+     * key difference is at most the distance (on the sphere the latitude
+     * difference in degrees is at most distance / radius * 180 / pi) */
+    cx.reach = 2.0 * cmax * (1.0 + 1e-9);
+    if (loc->geometry == SL_GEOM_RING && 2.0 * cx.reach >= loc->period_or_radius)
+        cx.reach = HUGE_VAL;
+    if (loc->geometry == SL_GEOM_SPHERE) {
+        cx.reach = cx.reach / loc->period_or_radius * (180.0 / 3.14159265358979323846);
+        if (cx.reach >= 180.0)
+            cx.reach = HUGE_VAL;
+    }
+
+    /* rows sorted by position; rows at one place share an analysis */
+    for (i = 0; i < n; i++) {
+        double p0 = loc->state_pos[i];
+        b.rows[i].a = p0;
+        b.rows[i].b = isnan(p0) ? 0.0 : (loc->dim > 1 ? loc->state_pos[i + n] : 0.0);
+        b.rows[i].i = i;
+    }
+    sort_entries(b.rows, b.scratch, n);
+    ngroup = 0;
+    for (i = 0; i < n; i++) {
+        const entry *q = &b.rows[i];
+        int same = 0;
+        if (i > 0) {
+            const entry *p = &b.rows[i - 1];
+            same = (isnan(p->a) && isnan(q->a)) || (p->a == q->a && p->b == q->b);
+        }
+        if (!same)
+            b.gstart[ngroup++] = i;
+    }
+    b.gstart[ngroup] = n;
+
+    cx.n = n;
+    cx.N = N;
+    cx.m = m;
+    cx.X = X;
+    cx.rdiag = rdiag;
+    cx.loc = loc;
+    cx.b = &b;
+    cx.floor_rel = cfg->eig_floor > 0 ? cfg->eig_floor : DEFAULT_FLOOR;
+    for (k = 0; k < nthr; k++) {
+        b.sl[k].floored = 0;
+        b.sl[k].skipped = 0;
+        b.sl[k].fail_group = SIZE_MAX;
+        b.sl[k].fail_info = 0;
+    }
+    if (nthr > ngroup)
+        nthr = ngroup;
+
+    /* every group reads the shared buffers and writes only its own rows
+     * of X, so the result is the same whichever thread takes it */
+#pragma omp parallel num_threads((int)nthr)
+    {
+        size_t tid = 0, g;
+#ifdef _OPENMP
+        tid = (size_t)omp_get_thread_num();
+#endif
+#pragma omp for schedule(dynamic, 4)
+        for (g = 0; g < ngroup; g++)
+            local_analysis(&cx, &b.sl[tid], g);
+    }
+
+    for (k = 0; k < nthr; k++) {
+        floored += b.sl[k].floored;
+        skipped += b.sl[k].skipped;
+        if (b.sl[k].fail_group < fail_group) {
+            fail_group = b.sl[k].fail_group;
+            fail_info = b.sl[k].fail_info;
+        }
+    }
+    if (info != NULL) {
+        info->floored = floored;
+        info->local_skipped = skipped;
+    }
+    if (fail_group != SIZE_MAX) {
+        size_t row = b.rows[b.gstart[fail_group]].i + 1;
+        if (fail_info != 0)
+            return sl_fail(err, SL_ENUMERIC, "noconvergence",
+                           "the eigen-decomposition of the local analysis at state row %lu did not converge (eigenvalue %d)",
+                           (unsigned long)row, fail_info);
+        return sl_fail(err, SL_ENUMERIC, "nonfinite",
+                       "the local analysis at state row %lu is not finite",
+                       (unsigned long)row);
+    }
+    return SL_OK;
+}

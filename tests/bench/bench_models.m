@@ -1,0 +1,553 @@
+function bench_models ()
+  % The built-in models advanced by sluice.propagate (1 and 2 threads)
+  % against a vectorised Octave implementation of the same model and the
+  % same integrator (one loop over time steps, none over members), in
+  % member-steps per second:
+  %   lorenz96  n = 40, F = 8, RK4 with dt = 0.01;
+  %   flood     the human-flood model, fixed-step RK4 with dt = 0.01, flood
+  %             events at Poisson times (mean gap 1) with generalized-Pareto
+  %             levels (theta = 0.28), the jumps applied at the event times
+  %             inside the step that holds them;
+  %   gr4j      the daily map with its unit-hydrograph queues, one parameter
+  %             set per member, synthetic daily rain and evaporation (only
+  %             when the model is registered).
+  % Before timing, a small ensemble checks that both give the same states.
+  % Each figure is the best of 3 runs of about 1 s (the Octave run has its
+  % own number of steps), the fixed cost of a call included; N = 1e4 and
+  % 1e5 members. The Octave versions are written for speed: flood treats
+  % the linear dH/dt, dM/dt through RK4's growth factor, and gr4j carries
+  % only the queue slots its ensemble's unit hydrographs reach (see their
+  % comments); both give RK4's and the map's states as compiled.
+  cfg.Ns = [1e4 1e5];
+  cfg.nrep = 3;
+  cfg.target = 1.0;   % seconds per timed run
+  printf ('   load average before: %s\n', load_average ());
+  guarded ('lorenz96', @() bench_lorenz96 (cfg));
+  guarded ('flood', @() bench_flood (cfg));
+  if (any (strcmp ('gr4j', sluice.kernel.model_info ())))
+    guarded ('gr4j', @() bench_gr4j (cfg));
+  else
+    printf ('   gr4j: not registered among the built-in models; skipped\n');
+  end
+  printf ('   load average after: %s\n', load_average ());
+end
+
+function guarded (name, fun)
+  % one model that fails prints a line; the others still run
+  try
+    fun ();
+  catch err
+    printf ('   %s did not complete: %s\n', name, err.message);
+  end
+end
+
+% ------------------------------------------------------------------------
+% Lorenz-96
+
+function bench_lorenz96 (cfg)
+  n = 40;
+  F = 8;
+  spec = sluice.model ('lorenz96', 'n', n);
+  dt = spec.dt;
+  printf ('   lorenz96: n = %d, F = %g, %s with dt = %g, members 8 + N(0, 1) per variable\n', ...
+          n, F, spec.integrator, dt);
+  randn ('state', 1);
+  Xs = 8 + randn (n, 200);
+  steps = 50;
+  a = sluice.propagate (spec, Xs, [], 0, steps * dt, [], 'threads', 1);
+  b = l96_octave (Xs, F, 0, steps * dt, dt);
+  report_check ('lorenz96', columns (Xs), steps, a, b);
+  for N = cfg.Ns
+    randn ('state', 2);
+    X0 = 8 + randn (n, N);
+    comp = @(s, thr) sluice.propagate (spec, X0, [], 0, s * dt, [], 'threads', thr);
+    oct = @(s) l96_octave (X0, F, 0, s * dt, dt);
+    time_model ('lorenz96', N, comp, oct, cfg, 5);
+  end
+end
+
+function X = l96_octave (X, F, t0, t1, dt)
+  % RK4 on dx_i/dt = (x_{i+1} - x_{i-2}) x_{i-1} - x_i + F over the whole
+  % ensemble at once, on the step grid of the compiled run
+  n = rows (X);
+  ip1 = [2:n 1];
+  im2 = [n-1 n 1:n-2];
+  im1 = [n 1:n-1];
+  [nsteps, h] = step_grid (t0, t1, dt);
+  for l = 0:nsteps-1
+    hl = step_length (t0, t1, h, l, nsteps);
+    k1 = (X(ip1, :) - X(im2, :)) .* X(im1, :) - X + F;
+    Y = X + 0.5 * hl * k1;
+    k2 = (Y(ip1, :) - Y(im2, :)) .* Y(im1, :) - Y + F;
+    Y = X + 0.5 * hl * k2;
+    k3 = (Y(ip1, :) - Y(im2, :)) .* Y(im1, :) - Y + F;
+    Y = X + hl * k3;
+    k4 = (Y(ip1, :) - Y(im2, :)) .* Y(im1, :) - Y + F;
+    X = X + (hl / 6) * (k1 + 2 * k2 + 2 * k3 + k4);
+  end
+end
+
+% ------------------------------------------------------------------------
+% the human-flood model
+
+function bench_flood (cfg)
+  dt = 0.01;
+  spec = sluice.model ('flood', 'integrator', 'rk4', 'dt', dt);
+  p = spec.defaults(:);
+  % flood events: Poisson arrivals with mean gap 1, levels
+  % W = ((theta + 1) / theta) (1 - (1 - U)^theta), theta = 0.28
+  rand ('state', 3);
+  gaps = -log (rand (400, 1));
+  te = cumsum (gaps);
+  te = te(te < 300);
+  theta = 0.28;
+  W = ((theta + 1) / theta) * (1 - (1 - rand (numel (te), 1)) .^ theta);
+  ev = struct ('time', te, 'values', W);
+  printf ('   flood: default parameters, rk4 with dt = %g, events at Poisson times (mean gap 1), generalized-Pareto levels (theta = %g)\n', ...
+          dt, theta);
+
+  Xs = flood_ensemble (300, 4);
+  t1 = 4;   % holds several events, some of them inside a step
+  a = sluice.propagate (spec, Xs, [], 0, t1, [], 'events', ev, 'threads', 1);
+  b = flood_octave (Xs, p, 0, t1, dt, te, W);
+  nev = sum (te > 0 & te <= t1);
+  report_check (sprintf ('flood (%d events)', nev), columns (Xs), step_grid (0, t1, dt), a, b);
+  for N = cfg.Ns
+    X0 = flood_ensemble (N, 5);
+    comp = @(s, thr) sluice.propagate (spec, X0, [], 0, s * dt, [], 'events', ev, 'threads', thr);
+    oct = @(s) flood_octave (X0, p, 0, s * dt, dt, te, W);
+    time_model ('flood', N, comp, oct, cfg, 30);
+  end
+end
+
+function X = flood_ensemble (N, seed)
+  % states G, D, H, M, F, R around the model's start (G0 = 0.01, D0 = 1)
+  randn ('state', seed);
+  rand ('state', seed);
+  X = zeros (6, N);
+  X(1, :) = 0.01 * exp (0.2 * randn (1, N));
+  X(2, :) = 1 + 0.05 * randn (1, N);
+  X(3, :) = 0.5 * rand (1, N);
+  X(4, :) = 0.1 * rand (1, N);
+end
+
+function X = flood_octave (X, p, t0, t1, dt, te, W)
+  % Fixed-step RK4 on the whole ensemble with the compiled run's step grid;
+  % an event at time t_e in (t_s, t_s + h] splits that step: RK4 over
+  % (t_s, t_e), the jump at t_e, RK4 over the rest. F and R have zero
+  % derivatives (RK4 leaves them unchanged), and dH = -kappaT H,
+  % dM = -muS M are linear with constant coefficients: RK4 over a piece h
+  % multiplies them by 1 + z + z^2/2 + z^3/6 + z^4/24 (z = -kappaT h,
+  % -muS h), and M's stage values, which enter dD/dt, are M times the
+  % matching partial sums. The result is RK4 on all six states, as
+  % compiled, up to rounding.
+  xiH = p(1); alphaH = p(2); rhoE = p(3); gammaE = p(4); lambdaP = p(5);
+  sigmaP = p(6); epsT = p(7); kappaT = p(8); alphaS = p(9); muS = p(10);
+  G = X(1, :); D = X(2, :); H = X(3, :); M = X(4, :); F = X(5, :); R = X(6, :);
+  [nsteps, h] = step_grid (t0, t1, dt);
+  ne = numel (te);
+  e = find (te > t0, 1);
+  if (isempty (e))
+    e = ne + 1;
+  end
+  for l = 0:nsteps-1
+    ts = t0 + l * h;
+    if (l + 1 == nsteps)
+      tend = t1;
+    else
+      tend = t0 + (l + 1) * h;
+    end
+    tc = ts;
+    while (e <= ne && te(e) <= tend)
+      [G, D, H, M] = flood_rk4 (G, D, H, M, te(e) - tc, rhoE, lambdaP, sigmaP, kappaT, muS);
+      tc = te(e);
+      % the jump (eqs. 4-6) at a flood of level W(e)
+      level = W(e) + xiH * H;
+      F = -expm1 (-level ./ (alphaH * D));
+      F(~(level > H)) = 0;
+      Rstar = epsT * (level - H);
+      % (a G that is not > 0 gives no levee in both: NaN or 0 tests false)
+      c = gammaE * Rstar .* sqrt (max (G, 0));
+      FG = F .* G;
+      raise = F > 0 & FG > c & G - FG > c;
+      R = zeros (size (G));
+      R(raise) = Rstar(raise);
+      cost = zeros (size (G));
+      cost(raise) = c(raise);
+      S = F;
+      S(R > 0) = alphaS * F(R > 0);
+      G = G - FG - cost;
+      H = H + R;
+      M = M + S;
+      e = e + 1;
+    end
+    [G, D, H, M] = flood_rk4 (G, D, H, M, tend - tc, rhoE, lambdaP, sigmaP, kappaT, muS);
+  end
+  X = [G; D; H; M; F; R];
+end
+
+function [G, D, H, M] = flood_rk4 (G, D, H, M, h, rhoE, lambdaP, sigmaP, kappaT, muS)
+  % one RK4 step of length h (nothing for h <= 0)
+  if (~(h > 0))
+    return;
+  end
+  z = -muS * h;
+  m2 = 1 + 0.5 * z;                 % M at the stages: M + h/2 kM1, ...
+  m3 = 1 + 0.5 * z * m2;
+  m4 = 1 + z * m3;
+  % a stage with G <= 0 lies outside the model's domain: the compiled
+  % right-hand side gives NaN derivatives there, and so does this one
+  [G1, bad] = outside (G, false (size (G)));
+  [g1, d1] = flood_gd (G1, D, M, rhoE, lambdaP, sigmaP);
+  G2 = G + 0.5 * h * g1;
+  D2 = D + 0.5 * h * d1;
+  [G2, bad] = outside (G2, bad);
+  [g2, d2] = flood_gd (G2, D2, m2 * M, rhoE, lambdaP, sigmaP);
+  G3 = G + 0.5 * h * g2;
+  D3 = D + 0.5 * h * d2;
+  [G3, bad] = outside (G3, bad);
+  [g3, d3] = flood_gd (G3, D3, m3 * M, rhoE, lambdaP, sigmaP);
+  G4 = G + h * g3;
+  D4 = D + h * d3;
+  [G4, bad] = outside (G4, bad);
+  [g4, d4] = flood_gd (G4, D4, m4 * M, rhoE, lambdaP, sigmaP);
+  G = G + (h / 6) * (g1 + 2 * g2 + 2 * g3 + g4);
+  D = D + (h / 6) * (d1 + 2 * d2 + 2 * d3 + d4);
+  y = -kappaT * h;
+  H = H * (1 + y * (1 + y * (1 / 2 + y * (1 / 6 + y / 24))));
+  M = M * (1 + z * (1 + z * (1 / 2 + z * (1 / 6 + z / 24))));
+  if (any (bad))
+    H(bad) = NaN;
+    M(bad) = NaN;
+  end
+end
+
+function [G, bad] = outside (G, bad)
+  % members whose stage value of G is not > 0: NaN (a real NaN root, not a
+  % complex one)
+  b = ~(G > 0);
+  if (any (b))
+    G(b) = NaN;
+    bad = bad | b;
+  end
+end
+
+function [g, d] = flood_gd (G, D, M, rhoE, lambdaP, sigmaP)
+  % dG/dt and dD/dt (eqs. 3a-b)
+  g = rhoE * (1 - D) .* G;
+  d = (M - D / lambdaP) * sigmaP ./ sqrt (G);
+end
+
+% ------------------------------------------------------------------------
+% GR4J
+
+function bench_gr4j (cfg)
+  spec = sluice.model ('gr4j');
+  st = spec.states;
+  if (~(numel (st) == 63 && strcmp (st{1}, 'S') && strcmp (st{2}, 'R') && ...
+        strcmp (st{3}, 'uh1_1') && strcmp (st{23}, 'uh2_1') && strcmp (st{63}, 'Q')))
+    error ('the gr4j states are not laid out as S, R, uh1_1..uh1_20, uh2_1..uh2_40, Q, which the Octave version follows');
+  end
+  p0 = spec.defaults(:);
+  % synthetic daily forcing: rain on 40% of days, exponential amounts of
+  % mean 8 mm; evaporation 2 + 1.5 sin(2 pi t / 365) mm
+  nd = 20000;
+  rand ('state', 6);
+  Pd = (rand (nd, 1) < 0.4) .* (-8 * log (rand (nd, 1)));
+  Ed = 2 + 1.5 * sin (2 * pi * (0:nd-1)' / 365);
+  frc = struct ('time', (0:nd-1)', 'values', [Pd Ed], 'interp', 'previous');
+  printf ('   gr4j: daily map, %d states, one parameter set per member around the reference set, synthetic rain and evaporation\n', ...
+          numel (spec.states));
+  Ps = gr4j_params (p0, 300, 7);
+  Xs = repmat (spec.x0(:), 1, columns (Ps));
+  days = 60;
+  a = sluice.propagate (spec, Xs, Ps, 0, days, frc, 'threads', 1);
+  b = gr4j_octave (Xs, Ps, days, Pd, Ed);
+  report_check ('gr4j', columns (Xs), days, a, b);
+  for N = cfg.Ns
+    P = gr4j_params (p0, N, 8);
+    X0 = repmat (spec.x0(:), 1, N);
+    comp = @(s, thr) sluice.propagate (spec, X0, P, 0, s, frc, 'threads', thr);
+    oct = @(s) gr4j_octave (X0, P, s, Pd, Ed);
+    time_model ('gr4j', N, comp, oct, cfg, 30);
+  end
+end
+
+function P = gr4j_params (p0, N, seed)
+  randn ('state', seed);
+  P = zeros (4, N);
+  P(1, :) = p0(1) * exp (0.2 * randn (1, N));
+  P(2, :) = p0(2) + 0.5 * randn (1, N);
+  P(3, :) = p0(3) * exp (0.2 * randn (1, N));
+  P(4, :) = min (max (p0(4) * exp (0.2 * randn (1, N)), 0.5), 20);
+end
+
+function X = gr4j_octave (X, Pm, days, Pd, Ed)
+  % The daily map on the whole ensemble: stores S, R as rows, the two
+  % queues as matrices with as many slots as the ensemble's longest unit
+  % hydrographs need (the other slots of the 20 + 40 stay 0, so they are
+  % not carried), the ordinates computed once for the run's parameters.
+  nh1 = 20;
+  nh2 = 40;
+  x1 = Pm(1, :); x2 = Pm(2, :); x3 = Pm(3, :); x4 = Pm(4, :);
+  N = columns (X);
+  m1 = min (nh1, ceil (max (x4)));
+  m2 = min (nh2, ceil (2 * max (x4)));
+  if (any (any (X(2 + m1 + 1:2 + nh1, :))) || any (any (X(2 + nh1 + m2 + 1:2 + nh1 + nh2, :))))
+    error ('the Octave version carries only the queue slots the ensemble uses');
+  end
+  [o1, o2] = gr4j_ordinates (x4, m1, m2, nh1, nh2);
+  S = X(1, :);
+  R = X(2, :);
+  U1 = X(3:2 + m1, :);
+  U2 = X(3 + nh1:2 + nh1 + m2, :);
+  Q = X(end, :);
+  z1 = zeros (1, N);
+  for k = 1:days
+    d = Pd(k) - Ed(k);             % forcing shared by all members
+    pn = max (d, 0);
+    en = max (-d, 0);
+    % production store: only one of Ps, Es is non-zero on a day
+    sr = S ./ x1;
+    if (pn > 0)
+      tp = tanh (pn ./ x1);
+      ps = x1 .* (1 - sr .* sr) .* tp ./ (1 + sr .* tp);
+      S = S + ps;
+    else
+      ps = 0;
+      if (en > 0)
+        tv = tanh (en ./ x1);
+        S = S - S .* (2 - sr) .* tv ./ (1 + (1 - sr) .* tv);
+      end
+    end
+    q = (4 / 9) * (S ./ x1);
+    q2 = q .* q;
+    perc = S .* (1 - 1 ./ sqrt (sqrt (1 + q2 .* q2)));
+    S = S - perc;
+    pr = perc + pn - ps;
+    % unit hydrographs
+    U1 = [U1(2:end, :); z1] + o1 .* (0.9 * pr);
+    U2 = [U2(2:end, :); z1] + o2 .* (0.1 * pr);
+    % exchange from R before the inflow, routing store
+    rr = R ./ x3;
+    f = x2 .* (rr .* rr .* rr .* sqrt (rr));
+    R = R + U1(1, :) + f;
+    R(R < 0) = 0;
+    rr = R ./ x3;
+    rr2 = rr .* rr;
+    qr = R .* (1 - 1 ./ sqrt (sqrt (1 + rr2 .* rr2)));
+    R = R - qr;
+    qd = U2(1, :) + f;
+    qd(qd < 0) = 0;
+    Q = qr + qd;
+  end
+  X(1, :) = S;
+  X(2, :) = R;
+  X(3:2 + m1, :) = U1;
+  X(3 + nh1:2 + nh1 + m2, :) = U2;
+  X(end, :) = Q;
+end
+
+function [o1, o2] = gr4j_ordinates (x4, m1, m2, nh1, nh2)
+  % UH ordinates: differences of the S-curves at whole days,
+  % SH1(t) = (t/X4)^2.5 for t < X4, else 1;
+  % SH2(t) = (t/X4)^2.5 / 2 for t <= X4, 1 - (2 - t/X4)^2.5 / 2 for
+  % X4 < t < 2 X4, else 1 (the last slot of each queue takes what is left)
+  N = numel (x4);
+  c = 1 ./ (x4 .* x4 .* sqrt (x4));
+  t = (1:m1)';
+  sh1 = min ((t .^ 2.5) .* c, 1);
+  sh1(t >= x4 | t == nh1) = 1;
+  o1 = diff ([zeros(1, N); sh1]);
+  t = (1:m2)';
+  sh2 = 0.5 * min ((t .^ 2.5) .* c, 1);
+  u = max (2 - t ./ x4, 0);
+  mid = t > x4;
+  v = 1 - 0.5 * (u .* u .* sqrt (u));
+  sh2(mid) = v(mid);
+  sh2(t >= 2 * x4 | t == nh2) = 1;
+  o2 = diff ([zeros(1, N); sh2]);
+end
+
+% ------------------------------------------------------------------------
+% timing and checks
+
+function time_model (name, N, comp, oct, cfg, target_ratio)
+  nrep = cfg.nrep;
+  c0 = cpu_snapshot ();
+  % the compiled run: steps for about cfg.target seconds on one thread
+  sc = calibrate (@(s) comp (s, 1), cfg.target);
+  t1 = Inf;
+  t2 = Inf;
+  n2 = 0;
+  for r = 1:nrep
+    t0 = tic ();
+    a = comp (sc, 1);
+    t1 = min (t1, toc (t0));
+    % two threads meet once a step: with a core taken by another process a
+    % step can wait a time slice; a run that slow is not repeated
+    if (r == 1 || t2 < 3 * t1)
+      t0 = tic ();
+      b = comp (sc, 2);
+      t2 = min (t2, toc (t0));
+      n2 = n2 + 1;
+    end
+  end
+  same = isequaln (a, b);
+  bad = sum (any (~isfinite (a), 1));
+  clear a b;
+  % a one-step call: the fixed cost of a call (checks, copies, buffers)
+  tone = Inf;
+  tone2 = Inf;
+  for r = 1:nrep
+    t0 = tic ();
+    a = comp (1, 1);
+    tone = min (tone, toc (t0));
+    clear a;
+    t0 = tic ();
+    a = comp (1, 2);
+    tone2 = min (tone2, toc (t0));
+    clear a;
+  end
+  so = calibrate (oct, cfg.target);
+  to = Inf;
+  for r = 1:nrep
+    t0 = tic ();
+    a = oct (so);
+    to = min (to, toc (t0));
+    clear a;
+  end
+  others = cpu_others (c0, cpu_snapshot ());
+  x = N * sc / t1;
+  y = N * sc / t2;
+  z = N * so / to;
+  printf ('%s N=%s: compiled %.3g member-steps/s (1 thread), %.3g (2 threads, speed-up %.2f); vectorised Octave %.3g; ratio %.1f (target >= %g; speed-up target >= 1.8 at N = 1e5)\n', ...
+          name, pow10_str (N), x, y, t1 / t2, z, x / z, target_ratio);
+  if (sc > 1 && t1 > tone && t2 > tone2)
+    marginal = sprintf ('%.1f ns beyond the one-step call, 2-thread speed-up %.2f there', ...
+                        1e9 * (t1 - tone) / ((sc - 1) * N), (t1 - tone) / (t2 - tone2));
+  else
+    marginal = 'the one-step call dominates';
+  end
+  printf ('      compiled %d steps in %.3f s (1 thread), %.3f s (2 threads); a one-step call %.1f ms (%.1f ms on 2 threads); %.1f ns per member-step (%s); Octave %d steps in %.3f s, %.1f ns per member-step\n', ...
+          sc, t1, t2, 1e3 * tone, 1e3 * tone2, 1e9 / x, marginal, so, to, 1e9 / z);
+  printf ('      1 and 2 threads identical: %s; non-finite members: %d; other processes used %s of the %d cores meanwhile%s\n', ...
+          yes_no (same, 'yes', 'NO'), bad, others, nproc (), ...
+          yes_no (n2 < nrep, sprintf ('; 2 threads timed %d time(s) only (over 3x the 1-thread time)', n2), ''));
+end
+
+function s = calibrate (fun, target)
+  % steps for a run of about `target` seconds, the fixed cost of a call
+  % included: double from 1 step until a run takes 0.4 target, then fit
+  % time = a + b steps through the runs of 1 step and of the most steps
+  s = 1;
+  tfirst = NaN;
+  while (true)
+    t0 = tic ();
+    a = fun (s);
+    t = toc (t0);
+    clear a;
+    if (s == 1)
+      tfirst = t;
+    end
+    if (t >= 0.4 * target || s >= 2 ^ 20)
+      break;
+    end
+    s = 2 * s;
+  end
+  if (s > 1 && t > tfirst)
+    b = (t - tfirst) / (s - 1);
+    s = round ((target - max (t - b * s, 0)) / b);
+  else
+    s = round (s * target / t);
+  end
+  s = max (1, s);
+end
+
+function c = cpu_snapshot ()
+  % [busy jiffies of the machine, jiffies of this process, wall seconds];
+  % NaN where /proc is not there
+  c = [NaN NaN now() * 86400];
+  fid = fopen ('/proc/stat', 'r');
+  if (fid >= 0)
+    v = sscanf (fgetl (fid), 'cpu %f %f %f %f %f %f %f %f');
+    fclose (fid);
+    if (numel (v) >= 8)
+      c(1) = sum (v([1:3 6:8]));
+    end
+  end
+  fid = fopen ('/proc/self/stat', 'r');
+  if (fid >= 0)
+    line = fgetl (fid);
+    fclose (fid);
+    f = strsplit (strtrim (line(find (line == ')', 1, 'last') + 1:end)), ' ');
+    if (numel (f) >= 13)
+      c(2) = str2double (f{12}) + str2double (f{13});   % utime + stime
+    end
+  end
+end
+
+function s = cpu_others (c0, c1)
+  % share of the machine's cores used by other processes between two
+  % snapshots (jiffies of 1/100 s)
+  d = c1 - c0;
+  u = (d(1) - d(2)) / (100 * d(3) * nproc ());
+  if (isfinite (u))
+    s = sprintf ('%.0f%%', 100 * max (u, 0));
+  else
+    s = 'an unknown share';
+  end
+end
+
+function report_check (name, N, steps, a, b)
+  % elementwise relative difference; equal values (zeros included) count 0
+  d = abs (a - b);
+  d(a == b) = 0;
+  rel = max (d(:) ./ max (abs (a(:)), realmin));
+  nf = sum (any (~isfinite (a), 1)) + sum (any (~isfinite (b), 1));
+  printf ('   check %s, %d members, %d steps: compiled and Octave states agree to %.1e relative (max over all states; %s)%s\n', ...
+          name, N, steps, rel, yes_no (rel <= 1e-10, 'within 1e-10', 'NOT within 1e-10'), ...
+          yes_no (nf == 0, '', sprintf ('; %d non-finite members', nf)));
+end
+
+function [nsteps, h] = step_grid (t0, t1, dt)
+  % the compiled run's grid: equal steps that land exactly on t1
+  nsteps = ceil ((t1 - t0) / dt - 1e-9);
+  h = (t1 - t0) / nsteps;
+end
+
+function hl = step_length (t0, t1, h, l, nsteps)
+  % step l (from 0) runs from t0 + l h to t0 + (l + 1) h, the last one to
+  % t1 exactly: its length is the difference of the two
+  if (l + 1 == nsteps)
+    hl = t1 - (t0 + l * h);
+  else
+    hl = (t0 + (l + 1) * h) - (t0 + l * h);
+  end
+end
+
+function s = pow10_str (N)
+  k = round (log10 (N));
+  if (10 ^ k == N)
+    s = sprintf ('1e%d', k);
+  else
+    s = sprintf ('%d', N);
+  end
+end
+
+function s = load_average ()
+  s = 'unknown';
+  fid = fopen ('/proc/loadavg', 'r');
+  if (fid >= 0)
+    s = strtrim (fgetl (fid));
+    fclose (fid);
+  end
+end
+
+function s = yes_no (t, yes, no)
+  if (t)
+    s = yes;
+  else
+    s = no;
+  end
+end
