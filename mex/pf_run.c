@@ -285,6 +285,7 @@ void mexFunction(int nlhs, mxArray *plhs[], int nrhs, const mxArray *prhs[])
     nq = cfg.nq;
     history = (int)slm_integer(FN, slm_field(FN, c, "history", 1), 1, "history", 0, 2);
     cfg.keep_history = history != 0;
+    cfg.no_summary = history == 2; /* simulate and propagate read the states only */
     slm_poll_init(&poll, (int)slm_integer(FN, slm_field(FN, c, "progress", 1), 1, "progress", 0, 2));
     cfg.poll = slm_poll_fn;
     cfg.poll_ctx = &poll;
@@ -358,6 +359,8 @@ void mexFunction(int nlhs, mxArray *plhs[], int nrhs, const mxArray *prhs[])
             quant = mxCreateNumericArray(3, dims, mxDOUBLE_CLASS, mxREAL);
             w = mxGetDoubles(wa);
             out.mean = mxGetDoubles(mean);
+            if (cfg.no_summary)
+                memset(out.mean, 0, v * T * sizeof(double));
             out.quant = mxGetDoubles(quant);
             mxSetField(res, 0, "mean", mean);
             mxSetField(res, 0, "quantiles", quant);

@@ -834,7 +834,8 @@ sl_status sl_pf_run(const sl_pf_config *cfg, double *X, double *P, double *w,
         ess = ess > 0 ? 1.0 / ess : 0.0;
 
         /* record */
-        summarise(cfg, &b, Xc, Pc, w, out, k);
+        if (!cfg->no_summary)
+            summarise(cfg, &b, Xc, Pc, w, out, k);
         out->ess[k] = ess;
         out->skipped[k] = (double)nskipped;
         out->nonfinite[k] = (double)ndead;

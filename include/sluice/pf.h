@@ -72,6 +72,8 @@ typedef struct {
     size_t nq;                   /* quantile levels to record */
     const double *probs;
     int keep_history;
+    int no_summary;              /* 1: do not record means and quantiles
+                                  * (a plain ensemble run: simulate, propagate) */
     sl_poll_fn poll;             /* called between steps; non-zero stops */
     void *poll_ctx;
     /* Ensemble Kalman methods: with enkf != NULL the analysis of
