@@ -46,7 +46,7 @@ function [P, names] = draw (prior, N, seed)
   if (~isstruct (prior) || isempty (prior) || ~isvector (prior))
     error ('sluice:draw:badprior', ...
            'argument 1 (prior): expected a non-empty struct array from sluice.prior, got %s', ...
-           describe (prior));
+           sluice.kernel.describe (prior));
   end
   for f = 1:numel (fields)
     if (~isfield (prior, fields{f}))
@@ -86,7 +86,7 @@ function [P, names] = draw (prior, N, seed)
           && isvector (args) && numel (args) == counts(id)))
       error ('sluice:draw:badprior', ...
              'argument 1 (prior): entry %d (''%s''): a %s prior takes %d real double arguments, got %s', ...
-             k, name, dist, counts(id), describe (args));
+             k, name, dist, counts(id), sluice.kernel.describe (args));
     end
     ids(k) = id - 1;
     a(k) = args(1);
@@ -103,42 +103,20 @@ function [P, names] = draw (prior, N, seed)
         && isfinite (N) && N == fix (N) && N >= 1 && N <= flintmax ()))
     error ('sluice:draw:badcount', ...
            'argument 2 (N): expected a positive whole number (a real double scalar), got %s', ...
-           describe_value (N));
+           sluice.kernel.describe (N, 'value'));
   end
   if (~(isa (seed, 'double') && isreal (seed) && ~issparse (seed) ...
         && isscalar (seed) && isfinite (seed) && seed == fix (seed) ...
         && seed >= 0 && seed <= flintmax ()))
     error ('sluice:draw:badseed', ...
            'argument 3 (seed): expected a whole number from 0 to 2^53 (a real double scalar), got %s', ...
-           describe_value (seed));
+           sluice.kernel.describe (seed, 'value'));
   end
 
   P = sluice.kernel.draw (ids, a, b, lo, hi, N, seed);
 end
 
-function s = describe (x)
-  % size and class, e.g. "1x3 single", "2x2 sparse double"
-  d = size (x);
-  s = sprintf ('%dx', d);
-  s = s(1:end-1);
-  extra = '';
-  if (issparse (x))
-    extra = [extra 'sparse '];
-  end
-  if (isnumeric (x) && ~isreal (x))
-    extra = [extra 'complex '];
-  end
-  s = [s ' ' extra class(x)];
-end
 
-function s = describe_value (x)
-  % the value itself for a real double scalar, else its size and class
-  if (isa (x, 'double') && isreal (x) && ~issparse (x) && isscalar (x))
-    s = sprintf ('%.17g', x);
-  else
-    s = describe (x);
-  end
-end
 
 %!shared pr
 %! pr = sluice.prior ('K', 'lognormal', [log(2.5) 0.4], ...

@@ -255,26 +255,7 @@ function opts = parse_options (args)
                  'history', false, 'threads', 0, 'progress', 'auto', ...
                  'inflation', 1, 'rtpp', 0, 'rtps', 0, 'adaptive_inflation', false, ...
                  'inflation_max', 2, 'localization', []);
-  if (numel (args) == 1 && isstruct (args{1}))
-    given = args{1};
-    names = fieldnames (given);
-    vals = struct2cell (given);
-    args = [names(:)'; vals(:)'];
-    args = args(:)';
-  end
-  if (mod (numel (args), 2) ~= 0)
-    error ('sluice:filter:badoption', 'options must be a struct or name, value pairs');
-  end
-  for k = 1:2:numel (args)
-    name = args{k};
-    if (~ischar (name) || ~isfield (opts, name))
-      if (ischar (name))
-        error ('sluice:filter:badoption', 'unknown option ''%s''', name);
-      end
-      error ('sluice:filter:badoption', 'option names must be strings');
-    end
-    opts.(name) = args{k + 1};
-  end
+  opts = sluice.kernel.name_value (opts, args, 'filter');
   methods = {'pf', 'enkf', 'etkf', 'ensrf', 'eakf', 'letkf'};
   if (~ischar (opts.method) || ~any (strcmp (opts.method, methods)))
     error ('sluice:filter:badmethod', 'unknown method; the methods are %s', ...

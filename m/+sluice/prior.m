@@ -72,7 +72,7 @@ function pr = prior (varargin)
       if (ischar (name) && isrow (name))
         got = ['''' name ''''];
       else
-        got = describe (name);
+        got = sluice.kernel.describe (name);
       end
       error ('sluice:prior:badname', ...
              'argument %d (name): expected a valid variable name, got %s', ...
@@ -102,7 +102,7 @@ function pr = prior (varargin)
       if (ischar (dist))
         got = ['''' dist(:)' ''''];
       else
-        got = describe (dist);
+        got = sluice.kernel.describe (dist);
       end
       error ('sluice:prior:baddist', ...
              'argument %d (distribution of ''%s''): expected one of %s, got %s', ...
@@ -114,7 +114,7 @@ function pr = prior (varargin)
           && isvector (args) && numel (args) == counts(id)))
       error ('sluice:prior:badargs', ...
              'argument %d (arguments of ''%s''): a %s prior takes a real double vector %s, got %s', ...
-             k + 2, name, dists{id}, forms{id}, describe (args));
+             k + 2, name, dists{id}, forms{id}, sluice.kernel.describe (args));
     end
     args = args(:)';
     [lower, upper] = check_args (dists{id}, args, name, k + 2);
@@ -204,7 +204,7 @@ function [lower, upper] = check_bounds (b, lo, hi, name, pos)
   if (~(isa (b, 'double') && isreal (b) && ~issparse (b) && isvector (b) ...
         && numel (b) == 2))
     error ('sluice:prior:badbounds', '%s: expected a real double vector [lo hi], got %s', ...
-           where, describe (b));
+           where, sluice.kernel.describe (b));
   end
   if (any (isnan (b)) || ~(b(1) <= b(2)))
     error ('sluice:prior:badbounds', '%s: expected lo <= hi without NaN, got %s', ...
@@ -219,20 +219,6 @@ function [lower, upper] = check_bounds (b, lo, hi, name, pos)
   upper = b(2);
 end
 
-function s = describe (x)
-  % size and class, e.g. "1x3 single", "2x2 sparse double", "1x1 complex double"
-  d = size (x);
-  s = sprintf ('%dx', d);
-  s = s(1:end-1);
-  extra = '';
-  if (issparse (x))
-    extra = [extra 'sparse '];
-  end
-  if (isnumeric (x) && ~isreal (x))
-    extra = [extra 'complex '];
-  end
-  s = [s ' ' extra class(x)];
-end
 
 %!test
 %! pr = sluice.prior ('K', 'lognormal', [log(2.5) 0.4], ...

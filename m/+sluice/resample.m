@@ -80,7 +80,7 @@ function a = resample (w, varargin)
     if (~(ischar (scheme) && (isrow (scheme) || isempty (scheme))))
       error ('sluice:resample:badscheme', ...
              'argument 2 (scheme): expected a scheme name (systematic, stratified, residual or multinomial), got %s', ...
-             describe (scheme));
+             sluice.kernel.describe (scheme));
     end
     scheme = lower (scheme);
     if (~any (strcmp (scheme, {'systematic', 'stratified', 'residual', 'multinomial'})))
@@ -103,28 +103,28 @@ function a = resample (w, varargin)
     value = args{k + 1};
     if (~(ischar (name) && isrow (name)))
       error ('sluice:resample:badoption', ...
-             'option names must be strings (count, seed, cycle), got %s', describe (name));
+             'option names must be strings (count, seed, cycle), got %s', sluice.kernel.describe (name));
     end
     switch (lower (name))
       case 'count'
         if (~whole (value, 1, 4294967294))
           error ('sluice:resample:badcount', ...
                  'option ''count'': expected a whole number from 1 to 4294967294 (a real double scalar), got %s', ...
-                 describe_value (value));
+                 sluice.kernel.describe (value, 'value'));
         end
         count = value;
       case 'seed'
         if (~whole (value, 0, flintmax ()))
           error ('sluice:resample:badseed', ...
                  'option ''seed'': expected a whole number from 0 to 2^53 (a real double scalar), got %s', ...
-                 describe_value (value));
+                 sluice.kernel.describe (value, 'value'));
         end
         seed = value;
       case 'cycle'
         if (~whole (value, 0, 4294967295))
           error ('sluice:resample:badcycle', ...
                  'option ''cycle'': expected a whole number from 0 to 2^32 - 1 (a real double scalar), got %s', ...
-                 describe_value (value));
+                 sluice.kernel.describe (value, 'value'));
         end
         cycle = value;
       otherwise
@@ -157,33 +157,11 @@ function s = name_of (x)
   if (ischar (x) && isrow (x))
     s = x;
   else
-    s = describe (x);
+    s = sluice.kernel.describe (x);
   end
 end
 
-function s = describe (x)
-  % size and class, e.g. "1x3 single", "2x2 sparse double"
-  d = size (x);
-  s = sprintf ('%dx', d);
-  s = s(1:end-1);
-  extra = '';
-  if (issparse (x))
-    extra = [extra 'sparse '];
-  end
-  if (isnumeric (x) && ~isreal (x))
-    extra = [extra 'complex '];
-  end
-  s = [s ' ' extra class(x)];
-end
 
-function s = describe_value (x)
-  % the value itself for a real double scalar, else size and class
-  if (isa (x, 'double') && isreal (x) && ~issparse (x) && isscalar (x))
-    s = sprintf ('%.17g', x);
-  else
-    s = describe (x);
-  end
-end
 
 % Reference facts: Kitagawa (1996); Douc, Cappe & Moulines (2005):
 % systematic, stratified, residual and multinomial resampling are unbiased
