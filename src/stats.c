@@ -3,9 +3,11 @@
 
 #include <math.h>
 #include <stdlib.h>
+#include <string.h>
 
 #define NBUCKET 1024
 #define SMALL 48 /* candidate sets this small are finished by sorting */
+#define MAXLEVELS 64 /* levels handled per pass; more are done in groups */
 
 /* candidates are (value, weight) pairs stored interleaved */
 typedef struct {
@@ -14,9 +16,9 @@ typedef struct {
 
 size_t sl_quantile_workspace(size_t N)
 {
-    /* three pair regions of N pairs (all members, and two for refining)
-     * plus the bucket sums */
-    return 6 * N + 2 * NBUCKET;
+    /* four pair regions of N pairs (all members, the gathered candidates,
+     * and two for refining) plus the bucket sums */
+    return 8 * N + 2 * NBUCKET;
 }
 
 static int cmp_pair(const void *a, const void *b)
@@ -144,12 +146,18 @@ void sl_weighted_summary(size_t N, const double *x, size_t inc,
                          size_t qinc, double *work)
 {
     pair *all = (pair *)(void *)work;
-    pair *r1 = all + N, *r2 = r1 + N;
-    double *bw = work + 6 * N, *bw2 = bw + NBUCKET;
+    pair *r1 = all + N, *r2 = r1 + N, *r3 = r2 + N;
+    double *bw = work + 8 * N, *bw2 = bw + NBUCKET;
+    /* per bucket: member count, and which target (1-based) it is; per
+     * target (at most one per level): where its candidates start, the next
+     * free place, their range; per level: its bucket and the weight below */
+    size_t cnt[NBUCKET], slot[NBUCKET], start_of[MAXLEVELS], fill[MAXLEVELS];
+    size_t lv_bucket[MAXLEVELS];
+    double tlo[MAXLEVELS], thi[MAXLEVELS], lv_below[MAXLEVELS];
     /* Wrun: the plain running sum, the same arithmetic as the cumulative
      * sums of the selection, so that level 1 reaches the largest value */
     double W, Wrun = 0.0, lo = HUGE_VAL, hi = -HUGE_VAL, scale;
-    size_t j, n = 0, k, i;
+    size_t j, n = 0, k, k0, i;
     for (j = 0; j < N; j++) {
         double v = x[j * inc], wj = w[j];
         if (wj > 0) {
@@ -200,24 +208,52 @@ void sl_weighted_summary(size_t N, const double *x, size_t inc,
         }
         return;
     }
-    /* one histogram of all members serves every level */
+    /* one histogram (weights and counts) of all members serves every
+     * level; then one pass gathers the candidates of every target bucket,
+     * each into its own stretch of r1 */
     scale = (double)NBUCKET / (hi - lo);
-    for (i = 0; i < NBUCKET; i++)
+    for (i = 0; i < NBUCKET; i++) {
         bw[i] = 0.0;
-    for (i = 0; i < n; i++)
-        bw[bucket_of(all[i].v, lo, scale)] += all[i].w;
-    for (k = 0; k < nq; k++) {
-        double target = probs[k] * Wrun, below = 0.0;
-        double nlo = HUGE_VAL, nhi = -HUGE_VAL;
-        size_t b = find_bucket(bw, &below, target), m = 0;
-        for (i = 0; i < n; i++)
-            if (bucket_of(all[i].v, lo, scale) == b) {
-                r1[m] = all[i];
-                if (all[i].v < nlo) nlo = all[i].v;
-                if (all[i].v > nhi) nhi = all[i].v;
-                m++;
+        cnt[i] = 0;
+    }
+    for (i = 0; i < n; i++) {
+        size_t b = bucket_of(all[i].v, lo, scale);
+        bw[b] += all[i].w;
+        cnt[b]++;
+    }
+    for (k0 = 0; k0 < nq; k0 += MAXLEVELS) {
+        size_t off = 0, nt = 0, k1 = nq - k0 < MAXLEVELS ? nq : k0 + MAXLEVELS;
+        for (i = 0; i < NBUCKET; i++)
+            slot[i] = 0;
+        for (k = k0; k < k1; k++) {
+            double target = probs[k] * Wrun;
+            lv_below[k - k0] = 0.0;
+            lv_bucket[k - k0] = find_bucket(bw, &lv_below[k - k0], target);
+            if (slot[lv_bucket[k - k0]] == 0) {
+                size_t b = lv_bucket[k - k0];
+                slot[b] = ++nt;   /* 1-based: 0 marks a bucket no level needs */
+                start_of[nt - 1] = off;
+                fill[nt - 1] = off;
+                tlo[nt - 1] = HUGE_VAL;
+                thi[nt - 1] = -HUGE_VAL;
+                off += cnt[b];
             }
-        /* the histogram bw serves the next level: refine with bw2 */
-        q[k * qinc] = select_in(m, r1, r2, nlo, nhi, below, target, bw2);
+        }
+        for (i = 0; i < n; i++) {
+            size_t t = slot[bucket_of(all[i].v, lo, scale)];
+            if (t != 0) {
+                double v = all[i].v;
+                r1[fill[t - 1]++] = all[i];
+                if (v < tlo[t - 1]) tlo[t - 1] = v;
+                if (v > thi[t - 1]) thi[t - 1] = v;
+            }
+        }
+        for (k = k0; k < k1; k++) {
+            size_t t = slot[lv_bucket[k - k0]] - 1, m = cnt[lv_bucket[k - k0]];
+            /* refine a copy: two levels may share a bucket */
+            memcpy(r2, r1 + start_of[t], m * sizeof *r2);
+            q[k * qinc] = select_in(m, r2, r3, tlo[t], thi[t], lv_below[k - k0],
+                                    probs[k] * Wrun, bw2);
+        }
     }
 }
