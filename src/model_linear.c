@@ -30,25 +30,19 @@ static sl_status linear_step(const sl_model *model, double t, double t_end,
             const double *u = U + j * q, *e = E + (j - j0) * n;
             for (i = 0; i < n; i++)
                 xo[i] = x[i];
-            for (i = 0; i < n; i++)
-                x[i] = lin->c != NULL ? lin->c[i] : 0.0;
-            /* column-oriented products: unit stride through A, B and L */
-            for (k = 0; k < n; k++) {
-                const double *a = lin->A + k * n, xk = xo[k];
-                for (i = 0; i < n; i++)
-                    x[i] += a[i] * xk;
+            /* each row in a register; the terms are added in the same
+             * order as A x, then B u, then L e */
+            for (i = 0; i < n; i++) {
+                double acc = lin->c != NULL ? lin->c[i] : 0.0;
+                for (k = 0; k < n; k++)
+                    acc += lin->A[i + k * n] * xo[k];
+                for (k = 0; k < q; k++)
+                    acc += lin->B[i + k * n] * u[k];
+                if (lin->L != NULL)
+                    for (k = 0; k <= i; k++)
+                        acc += lin->L[i + k * n] * e[k];
+                x[i] = acc;
             }
-            for (k = 0; k < q; k++) {
-                const double *b = lin->B + k * n, uk = u[k];
-                for (i = 0; i < n; i++)
-                    x[i] += b[i] * uk;
-            }
-            if (lin->L != NULL)
-                for (k = 0; k < n; k++) {
-                    const double *l = lin->L + k * n, ek = e[k];
-                    for (i = k; i < n; i++)
-                        x[i] += l[i] * ek;
-                }
         }
     }
     return SL_OK;
