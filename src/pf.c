@@ -559,6 +559,9 @@ static sl_status enkf_update(const sl_pf_config *cfg, pf_buffers *b, size_t k,
     sl_localization lc;
     sl_enkf_info info;
     sl_status st;
+    /* the inflation in force, recorded also for cycles with no analysis */
+    if (out->inflation != NULL)
+        out->inflation[k] = cfg->adaptive_inflation ? *infl : cfg->enkf->inflation;
     for (j = 0; j < N; j++)
         if (!dead[j])
             b->live[L++] = j;
@@ -621,6 +624,8 @@ static sl_status enkf_update(const sl_pf_config *cfg, pf_buffers *b, size_t k,
         if (est > cfg->inflation_max)
             est = cfg->inflation_max;
         *infl = 0.9 * *infl + 0.1 * est;
+        if (*infl > cfg->inflation_max)
+            *infl = cfg->inflation_max;
         ecfg.inflation = *infl;
     }
     ecfg.seed = cfg->seed;
@@ -697,6 +702,8 @@ sl_status sl_pf_run(const sl_pf_config *cfg, double *X, double *P, double *w,
     out->log_evidence = 0.0;
     out->steps = 0;
     infl = cfg->enkf != NULL ? cfg->enkf->inflation : 1.0;
+    if (cfg->enkf != NULL && cfg->adaptive_inflation && infl > cfg->inflation_max)
+        infl = cfg->inflation_max; /* adaptive inflation stays at most the maximum */
     t = cfg->t0;
 
     for (k = 0; k < cfg->T; k++) {
@@ -765,13 +772,13 @@ sl_status sl_pf_run(const sl_pf_config *cfg, double *X, double *P, double *w,
             /* ensemble Kalman: the analysis moves the members; the living
              * ones keep equal weights, the dead are replaced below */
             size_t nlive = N - ndead;
-            if (m > 0) {
+            if (m > 0)
                 predict_obs(cfg, &b, r0, m, Xc, Pc);
-                st = enkf_update(cfg, &b, k, r0, m, b.dead[cur], Xc, Zc, Pc, &infl,
-                                 out, &degenerate, &nskipped, err);
-                if (st != SL_OK)
-                    return st;
-            }
+            /* with no observation it records the inflation in force */
+            st = enkf_update(cfg, &b, k, r0, m, b.dead[cur], Xc, Zc, Pc, &infl, out,
+                             &degenerate, &nskipped, err);
+            if (st != SL_OK)
+                return st;
             for (j = 0; j < N; j++)
                 w[j] = b.dead[cur][j] || nlive == 0 ? 0.0 : 1.0 / (double)nlive;
             out->logz[k] = NAN;

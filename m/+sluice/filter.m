@@ -280,6 +280,7 @@ function opts = parse_options (args)
     error ('sluice:filter:badoption', 'adaptive_inflation must be true or false');
   end
   opts.adaptive_inflation = logical (opts.adaptive_inflation);
+
   opts.members = whole (opts.members, 'members', 1, 2^31);
   if (~isempty (opts.seed))
     opts.seed = whole (opts.seed, 'seed', 0, 2^53);
@@ -447,8 +448,10 @@ function c = add_localization (c, opts, model, tab, obs)
   for d = 1:dim
     if (isfield (obs, cols{d}))
       v = obs.(cols{d});
-      if (~isa (v, 'double') || numel (v) ~= m)
-        error ('sluice:filter:badobs', 'observation column ''%s'' must give one position per row', cols{d});
+      if (~isa (v, 'double') || ~isreal (v) || numel (v) ~= m || any (isinf (v(:))))
+        error ('sluice:filter:badobs', ...
+               'observation column ''%s'' must give one finite position per row (NaN: the observed state''s)', ...
+               cols{d});
       end
       given = ~isnan (v(:));
       opos(given, d) = v(given);
@@ -466,8 +469,16 @@ function c = add_localization (c, opts, model, tab, obs)
     oc = nan (m, 1);
     f = fieldnames (r);
     for k = 1:numel (f)
-      sel = strcmp (names(tab.var), f{k});
-      oc(sel) = r.(f{k});
+      v = r.(f{k});
+      if (~any (strcmp (f{k}, names)))
+        error ('sluice:filter:badlocalization', ...
+               'localization.radius.%s: the model has no state or parameter of that name', f{k});
+      end
+      if (~isa (v, 'double') || ~isreal (v) || ~isscalar (v) || ~isfinite (v) || v <= 0)
+        error ('sluice:filter:badlocalization', ...
+               'localization.radius.%s must be one finite real number > 0', f{k});
+      end
+      oc(strcmp (names(tab.var), f{k})) = v;
     end
     bad = find (isnan (oc), 1);
     if (~isempty (bad))
@@ -497,6 +508,10 @@ function check_memory (n, p, q, N, m, opts)
   need = 8 * N * (3 * n + 5 * p + 3 * q + min (m, 1e4) + 8);
   if (opts.history)
     need = need + 8 * N * T * (n + p + 2);
+  end
+  if (~strcmp (opts.method, 'pf'))
+    % the square-root analyses work with N x N matrices in ensemble space
+    need = need + 8 * 3 * N^2;
   end
   avail = Inf;
   try

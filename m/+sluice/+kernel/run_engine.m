@@ -8,8 +8,18 @@ function r = run_engine (model, c)
              'the compiled gateway of model ''%s'' is not on the path; run sluice.build_model again', ...
              model.name);
     end
-    r = feval (model.engine, c);
+    fn = model.engine;
   else
-    r = sluice.kernel.pf_run (c);
+    fn = 'sluice.kernel.pf_run';
+  end
+  try
+    r = feval (fn, c);
+  catch err
+    % the gateway's name is an internal detail: drop Octave's prefix
+    msg = regexprep (err.message, '^(pf_run|[A-Za-z]\w*_run): ', '');
+    if (isempty (err.identifier))
+      error ('%s', msg);
+    end
+    error (err.identifier, '%s', msg);
   end
 end
