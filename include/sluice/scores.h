@@ -1,0 +1,45 @@
+/* scores.h - ensemble verification: CRPS and the rank of the observation. */
+#ifndef SLUICE_SCORES_H
+#define SLUICE_SCORES_H
+
+#include <stddef.h>
+#include <stdint.h>
+#include "sluice/status.h"
+
+#ifdef __cplusplus
+extern "C" {
+#endif
+
+/* Doubles of workspace sl_scores_crps needs for N members. */
+size_t sl_scores_crps_workspace(size_t N);
+
+/* Continuous ranked probability score of each of m rows of an ensemble:
+ * row i has members X[i + j*ldx], j = 0..N-1 (column-major, ldx >= m), and
+ * observation y[i]. The score is the CRPS of the empirical distribution of
+ * the members,
+ *     crps_i = (1/N) sum_j |x_j - y| - (1/(2 N^2)) sum_{j,k} |x_j - x_k|,
+ * the second sum taken in O(N log N) from the sorted members through
+ *     sum_{j<k} (x_(k) - x_(j)) = sum_k (2k - N - 1) x_(k)   (k 1-based).
+ * For members drawn from F its expectation exceeds the CRPS of F by
+ * E|X - X'| / (2N). A NaN y[i] gives crps[i] = NaN. work holds at least
+ * sl_scores_crps_workspace(N) doubles. Fails (SL_EINVAL) when N = 0,
+ * ldx < m, or a member is not finite. */
+sl_status sl_scores_crps(size_t m, size_t N, const double *X, size_t ldx,
+                         const double *y, double *crps, double *work,
+                         sl_error *err);
+
+/* Rank of the observation among the members of each row, 1 .. N+1:
+ * rank[i] = 1 + #{x_j < y[i]} + u, where u is uniform on 0 .. #{x_j = y[i]}
+ * (ties broken at random). u is drawn from the stream
+ * (seed, i mod 2^32, i / 2^32, SL_PURPOSE_USER), so the ranks depend only
+ * on the seed and the row, never on m or on the order of the calls. A NaN
+ * y[i] gives rank[i] = NaN. Fails (SL_EINVAL) when N = 0, ldx < m, or a
+ * member is not finite. */
+sl_status sl_scores_rank(size_t m, size_t N, const double *X, size_t ldx,
+                         const double *y, uint64_t seed, double *rank,
+                         sl_error *err);
+
+#ifdef __cplusplus
+}
+#endif
+#endif

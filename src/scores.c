@@ -1,0 +1,195 @@
+/* scores.c - ensemble verification: CRPS and the rank of the observation. */
+#include "sluice/scores.h"
+#include "sluice/rng.h"
+
+#include <math.h>
+
+/* In-place sort of finite doubles: quicksort with a median-of-three pivot,
+ * insertion sort for short runs and heapsort once the depth limit is hit,
+ * so the worst case stays O(n log n) and nothing is allocated. */
+static void insertion_sort(double *a, size_t n)
+{
+    size_t i, j;
+    for (i = 1; i < n; i++) {
+        double v = a[i];
+        for (j = i; j > 0 && a[j - 1] > v; j--)
+            a[j] = a[j - 1];
+        a[j] = v;
+    }
+}
+
+static void sift_down(double *a, size_t root, size_t n)
+{
+    double v = a[root];
+    size_t child;
+    while ((child = 2 * root + 1) < n) {
+        if (child + 1 < n && a[child + 1] > a[child])
+            child++;
+        if (!(a[child] > v))
+            break;
+        a[root] = a[child];
+        root = child;
+    }
+    a[root] = v;
+}
+
+static void heap_sort(double *a, size_t n)
+{
+    size_t i;
+    if (n < 2)
+        return;
+    for (i = n / 2; i-- > 0;)
+        sift_down(a, i, n);
+    for (i = n - 1; i > 0; i--) {
+        double t = a[0];
+        a[0] = a[i];
+        a[i] = t;
+        sift_down(a, 0, i);
+    }
+}
+
+static void swap2(double *a, size_t i, size_t j)
+{
+    double t = a[i];
+    a[i] = a[j];
+    a[j] = t;
+}
+
+static void sort_doubles(double *a, size_t n)
+{
+    unsigned depth = 0;
+    size_t k;
+    for (k = n; k > 1; k >>= 1)
+        depth += 2;
+    while (n > 16) {
+        size_t mid = n / 2, i, j;
+        double p;
+        if (depth == 0) {
+            heap_sort(a, n);
+            return;
+        }
+        depth--;
+        /* median of a[0], a[mid], a[n-1] into a[mid] */
+        if (a[mid] < a[0]) swap2(a, mid, 0);
+        if (a[n - 1] < a[0]) swap2(a, n - 1, 0);
+        if (a[n - 1] < a[mid]) swap2(a, n - 1, mid);
+        p = a[mid];
+        /* Hoare partition: a[0..j] <= p <= a[j+1..n-1] */
+        i = 0;
+        j = n - 1;
+        for (;;) {
+            while (a[i] < p) i++;
+            while (a[j] > p) j--;
+            if (i >= j)
+                break;
+            swap2(a, i, j);
+            i++;
+            j--;
+        }
+        /* recurse into the smaller part, loop on the larger */
+        if (j + 1 < n - (j + 1)) {
+            sort_doubles(a, j + 1);
+            a += j + 1;
+            n -= j + 1;
+        } else {
+            sort_doubles(a + j + 1, n - (j + 1));
+            n = j + 1;
+        }
+    }
+    insertion_sort(a, n);
+}
+
+static sl_status check_shape(size_t m, size_t N, size_t ldx, const char *what,
+                             sl_error *err)
+{
+    if (N == 0)
+        return sl_fail(err, SL_EINVAL, "empty", "%s: the ensemble has no members", what);
+    if (m > 0 && ldx < m)
+        return sl_fail(err, SL_EINVAL, "badsize",
+                       "%s: leading dimension %lu is below the %lu rows", what,
+                       (unsigned long)ldx, (unsigned long)m);
+    return SL_OK;
+}
+
+size_t sl_scores_crps_workspace(size_t N)
+{
+    return N;
+}
+
+sl_status sl_scores_crps(size_t m, size_t N, const double *X, size_t ldx,
+                         const double *y, double *crps, double *work,
+                         sl_error *err)
+{
+    size_t i, j;
+    sl_status st = check_shape(m, N, ldx, "crps", err);
+    if (st != SL_OK)
+        return st;
+    for (i = 0; i < m; i++) {
+        double yi = y[i], shift, abs_obs = 0, spread = 0, dN = (double)N;
+        for (j = 0; j < N; j++) {
+            double v = X[i + j * ldx];
+            if (!isfinite(v))
+                return sl_fail(err, SL_EINVAL, "nonfinite",
+                               "crps: member %lu of row %lu is not finite",
+                               (unsigned long)(j + 1), (unsigned long)(i + 1));
+            work[j] = v;
+        }
+        if (isnan(yi)) {
+            crps[i] = NAN;
+            continue;
+        }
+        sort_doubles(work, N);
+        /* the coefficients (2k - N - 1) sum to zero, so shifting every
+         * member by the median leaves the sum unchanged and keeps the
+         * terms small when the members sit far from zero */
+        shift = work[(N - 1) / 2];
+        for (j = 0; j < N; j++) {
+            double v = work[j];
+            abs_obs += fabs(v - yi);
+            spread += (2.0 * (double)j + 1.0 - dN) * (v - shift);
+        }
+        crps[i] = abs_obs / dN - spread / (dN * dN);
+    }
+    return SL_OK;
+}
+
+sl_status sl_scores_rank(size_t m, size_t N, const double *X, size_t ldx,
+                         const double *y, uint64_t seed, double *rank,
+                         sl_error *err)
+{
+    size_t i, j;
+    sl_status st = check_shape(m, N, ldx, "rank", err);
+    if (st != SL_OK)
+        return st;
+    for (i = 0; i < m; i++) {
+        double yi = y[i];
+        size_t below = 0, equal = 0;
+        for (j = 0; j < N; j++) {
+            double v = X[i + j * ldx];
+            if (!isfinite(v))
+                return sl_fail(err, SL_EINVAL, "nonfinite",
+                               "rank: member %lu of row %lu is not finite",
+                               (unsigned long)(j + 1), (unsigned long)(i + 1));
+            below += v < yi;
+            equal += v == yi;
+        }
+        if (isnan(yi)) {
+            rank[i] = NAN;
+            continue;
+        }
+        if (equal > 0) {
+            sl_stream s;
+            double u;
+            size_t extra;
+            sl_stream_init(&s, seed, (uint32_t)(i & 0xffffffffu),
+                           (uint32_t)((uint64_t)i >> 32), SL_PURPOSE_USER);
+            u = sl_stream_uniform(&s);
+            extra = (size_t)(u * (double)(equal + 1));
+            if (extra > equal)
+                extra = equal;
+            below += extra;
+        }
+        rank[i] = (double)(below + 1);
+    }
+    return SL_OK;
+}

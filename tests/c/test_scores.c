@@ -1,0 +1,329 @@
+/* test_scores.c - ensemble CRPS and observation ranks: hand-computed cases,
+ * the Gaussian closed form, the naive double sum, and rank histograms. */
+#include "check.h"
+#include "sluice/scores.h"
+#include "sluice/rng.h"
+
+#include <stdint.h>
+#include <stdlib.h>
+#include <time.h>
+#include <gsl/gsl_cdf.h>
+#include <gsl/gsl_randist.h>
+#include <gsl/gsl_math.h>
+
+/* CRPS of N(mu, s^2) at y: s [z (2 Phi(z) - 1) + 2 phi(z) - 1/sqrt(pi)],
+ * z = (y - mu)/s (Gneiting & Raftery 2007), with GSL's Phi and phi. */
+static double crps_gauss(double mu, double s, double y)
+{
+    double z = (y - mu) / s;
+    return s * (z * (2 * gsl_cdf_ugaussian_P(z) - 1) +
+                2 * gsl_ran_ugaussian_pdf(z) - 1 / sqrt(M_PI));
+}
+
+/* The estimator by its definition, the O(N^2) double sum:
+ * (1/N) sum |x_j - y| - (1/(2 N^2)) sum_{j,k} |x_j - x_k|. */
+static double crps_naive(size_t N, const double *x, size_t inc, double y)
+{
+    size_t j, k;
+    double a = 0, b = 0;
+    for (j = 0; j < N; j++) {
+        a += fabs(x[j * inc] - y);
+        for (k = 0; k < N; k++)
+            b += fabs(x[j * inc] - x[k * inc]);
+    }
+    return a / (double)N - b / (2.0 * (double)N * (double)N);
+}
+
+/* Pearson's chi-square statistic of counts against equal expectation. */
+static double chi_square_flat(size_t K, const double *counts, double total)
+{
+    size_t k;
+    double e = total / (double)K, c2 = 0;
+    for (k = 0; k < K; k++)
+        c2 += (counts[k] - e) * (counts[k] - e) / e;
+    return c2;
+}
+
+static double now(void)
+{
+    struct timespec t;
+    clock_gettime(CLOCK_MONOTONIC, &t);
+    return (double)t.tv_sec + 1e-9 * (double)t.tv_nsec;
+}
+
+int main(void)
+{
+    sl_error err;
+    sl_stream s;
+    size_t i, j;
+
+    /* Hand-computed: members {1, 2, 4}, y = 3.
+     * E|X - y| = (2 + 1 + 1)/3 = 4/3; pairs |1-2| + |1-4| + |2-4| = 6, so
+     * (1/(2*9)) * 2 * 6 = 2/3; CRPS = 4/3 - 2/3 = 2/3. The same from the
+     * integral of (F - H(x - 3))^2 over the steps of the empirical F:
+     * (1/3)^2 + (2/3)^2 + (1/3)^2 = 6/9. With y = 0: 7/3 - 2/3 = 5/3
+     * (integral 1 + 4/9 + 2 * 1/9). A single member: CRPS = |x - y|. */
+    {
+        double X[3] = {4, 1, 2}, y[3] = {3, 0, NAN}, c[3], w[3];
+        CHECK(sl_scores_crps(1, 3, X, 1, y, c, w, &err) == SL_OK, "hand 1");
+        CHECK_CLOSE(c[0], 2.0 / 3.0, 1e-15, "crps {1,2,4} at 3 (by hand)");
+        CHECK(sl_scores_crps(1, 3, X, 1, y + 1, c, w, &err) == SL_OK, "hand 2");
+        CHECK_CLOSE(c[0], 5.0 / 3.0, 1e-15, "crps {1,2,4} at 0 (by hand)");
+        CHECK(sl_scores_crps(1, 3, X, 1, y + 2, c, w, &err) == SL_OK, "hand 3");
+        CHECK(isnan(c[0]), "NaN observation gives NaN score, got %g", c[0]);
+        CHECK(sl_scores_crps(1, 1, X, 1, y, c, w, &err) == SL_OK, "one member");
+        CHECK_CLOSE(c[0], 1.0, 0, "one member: |x - y|");
+    }
+
+    /* The O(N log N) formula against the naive double sum on random cases:
+     * several rows, a leading dimension above m, ties, a large offset, and
+     * orders that stress the sort (sorted, reversed, constant, organ pipe). */
+    {
+        enum { M = 5, LD = 7, NMAX = 1500 };
+        static double X[LD * NMAX], w[NMAX];
+        double y[M], c[M];
+        size_t sizes[] = {1, 2, 3, 5, 16, 17, 40, 333, NMAX};
+        size_t t, worst_case = 0;
+        double worst = 0;
+        sl_stream_init(&s, 777u, 0, 0, SL_PURPOSE_USER);
+        for (t = 0; t < sizeof sizes / sizeof *sizes; t++) {
+            size_t N = sizes[t];
+            for (j = 0; j < N; j++) {
+                X[0 + j * LD] = 2.385 * sl_stream_normal(&s);          /* random */
+                X[1 + j * LD] = floor(4 * sl_stream_uniform(&s));      /* ties */
+                X[2 + j * LD] = 1e6 + 0.01 * sl_stream_normal(&s);     /* offset */
+                X[3 + j * LD] = (double)j;                             /* sorted */
+                X[4 + j * LD] = (double)(j < N / 2 ? j : N - j);       /* organ pipe */
+                X[5 + j * LD] = -1.0;                                  /* unused */
+                X[6 + j * LD] = 0.5;                                   /* unused */
+            }
+            y[0] = 0.731;
+            y[1] = 2;
+            y[2] = 1e6 + 0.003;
+            y[3] = 0.4 * (double)N;
+            y[4] = -3.3;
+            CHECK(sl_scores_crps(M, N, X, LD, y, c, w, &err) == SL_OK,
+                  "crps N=%lu: %s", (unsigned long)N, err.message);
+            for (i = 0; i < M; i++) {
+                double ref = crps_naive(N, X + i, LD, y[i]);
+                double d = fabs(c[i] - ref) / (fabs(ref) > 1 ? fabs(ref) : 1);
+                if (d > worst) {
+                    worst = d;
+                    worst_case = N;
+                }
+            }
+        }
+        /* the offset row loses digits in the naive sum itself (|x - y| is
+         * 1e-2 next to 1e6): 1e-9 relative is what both can promise */
+        CHECK(worst < 1e-9, "fast vs naive: worst relative difference %g (N=%lu)",
+              worst, (unsigned long)worst_case);
+        /* reversed and constant rows */
+        for (t = 0; t < 2; t++) {
+            size_t N = NMAX;
+            for (j = 0; j < N; j++)
+                X[j] = t == 0 ? (double)(N - j) : 1.25;
+            y[0] = 100.5;
+            CHECK(sl_scores_crps(1, N, X, 1, y, c, w, &err) == SL_OK, "crps rev");
+            CHECK_REL(c[0], crps_naive(N, X, 1, y[0]), 1e-12,
+                      t == 0 ? "reversed vs naive" : "constant vs naive");
+        }
+    }
+
+    /* Against the Gaussian closed form (Gneiting & Raftery 2007; N(0,1) at
+     * y = 0: (sqrt(2) - 1)/sqrt(pi) = 0.2336949773). Members are drawn from
+     * the forecast distribution itself. The estimator (the CRPS of the
+     * empirical distribution) is biased: its expectation is
+     * CRPS + E|X - X'|/(2N) = CRPS + s/(N sqrt(pi)) for N(mu, s^2); its
+     * standard deviation falls as 1/sqrt(N).
+     * (a) R = 2000 rows of N = 1000 members: the mean over rows matches
+     *     CRPS + bias within 4 standard errors of that mean.
+     * (b) One row each of N = 1e4, 1e5, 1e6: within bias + 5 standard
+     *     deviations, the standard deviation scaled from (a) by sqrt(1e3/N). */
+    {
+        enum { R = 2000, NA = 1000, NB = 1000000 };
+        static double X[(size_t)R * NA], w[NB], c[R], y[R];
+        double ref0 = crps_gauss(0, 1, 0), mean = 0, var = 0, sd1000, bias;
+        CHECK_CLOSE(ref0, (sqrt(2.0) - 1) / sqrt(M_PI), 1e-15,
+                    "closed form at N(0,1), y = 0");
+        CHECK_CLOSE(ref0, 0.2336949773, 1e-10, "0.2336949773 (MODELS.md 5)");
+        for (i = 0; i < R; i++) {
+            sl_stream_init(&s, 31u, (uint32_t)i, 0, SL_PURPOSE_USER);
+            for (j = 0; j < NA; j++)
+                X[i + j * R] = sl_stream_normal(&s); /* row i, member j */
+            y[i] = 0;
+        }
+        CHECK(sl_scores_crps(R, NA, X, R, y, c, w, &err) == SL_OK, "crps R rows");
+        for (i = 0; i < R; i++)
+            mean += c[i];
+        mean /= R;
+        for (i = 0; i < R; i++)
+            var += (c[i] - mean) * (c[i] - mean);
+        var /= R - 1;
+        sd1000 = sqrt(var);
+        bias = 1 / ((double)NA * sqrt(M_PI));
+        CHECK_CLOSE(mean, ref0 + bias, 4 * sd1000 / sqrt((double)R),
+                    "mean CRPS of 2000 ensembles of 1000 vs closed form + bias");
+        printf("N=1000: mean over %d rows %.6f, closed form %.6f, bias %.2e, "
+               "sd of one row %.4f\n", R, mean, ref0, bias, sd1000);
+        {
+            size_t Ns[] = {10000, 100000, NB};
+            size_t t;
+            for (t = 0; t < 3; t++) {
+                size_t N = Ns[t];
+                double t0, dt, y0 = 0.0, tol;
+                /* also a shifted, scaled case: N(0.3, 2^2) at y = 0.7 */
+                double mu = 0.3, sg = 2.0, y1 = 0.7, c1;
+                sl_stream_init(&s, 4242u, (uint32_t)t, 0, SL_PURPOSE_USER);
+                sl_stream_normals(&s, N, X);
+                t0 = now();
+                CHECK(sl_scores_crps(1, N, X, 1, &y0, c, w, &err) == SL_OK, "big");
+                dt = now() - t0;
+                tol = 1 / ((double)N * sqrt(M_PI)) + 5 * sd1000 * sqrt(1e3 / (double)N);
+                CHECK_CLOSE(c[0], ref0, tol, "big ensemble vs closed form");
+                printf("N=%lu: crps %.7f, closed form %.7f, |diff| %.2e, tol %.2e, "
+                       "%.3f s\n", (unsigned long)N, c[0], ref0, fabs(c[0] - ref0),
+                       tol, dt);
+                for (j = 0; j < N; j++)
+                    X[j] = mu + sg * X[j];
+                CHECK(sl_scores_crps(1, N, X, 1, &y1, &c1, w, &err) == SL_OK, "big2");
+                /* sd scales with the forecast spread sigma; a looser 6 sd
+                 * since the spread at z = 0.2 differs a little from z = 0 */
+                tol = sg / ((double)N * sqrt(M_PI)) + 6 * sg * sd1000 * sqrt(1e3 / (double)N);
+                CHECK_CLOSE(c1, crps_gauss(mu, sg, y1), tol,
+                            "big ensemble vs closed form, N(0.3, 4) at 0.7");
+            }
+        }
+    }
+
+    /* Ranks without ties are exact: {1, 2, 4} at 3 -> 3, at 0 -> 1, at 5
+     * -> 4 (M members, M + 1 ranks; Hamill 2001). */
+    {
+        double X[3] = {2, 4, 1}, y[4] = {3, 0, 5, NAN}, r;
+        size_t k;
+        double want[4] = {3, 1, 4, NAN};
+        for (k = 0; k < 4; k++) {
+            CHECK(sl_scores_rank(1, 3, X, 1, y + k, 9u, &r, &err) == SL_OK, "rank");
+            if (k < 3)
+                CHECK(r == want[k], "rank of %g: %g, want %g", y[k], r, want[k]);
+            else
+                CHECK(isnan(r), "NaN observation gives NaN rank, got %g", r);
+        }
+    }
+
+    /* Rank histograms over many rows (Hamill 2001). */
+    {
+        enum { M = 20000, N = 9 };
+        static double X[(size_t)M * N], y[M], r[M];
+        double counts[N + 1], c2, p, e = (double)M / (N + 1);
+        /* (a) ensemble and observation from the same N(0,1): flat. Pearson
+         * chi-square with N degrees of freedom, accepted at the 1% level
+         * (p from GSL's gsl_cdf_chisq_Q). */
+        sl_normals_members(5u, 0, N, 0, SL_PURPOSE_USER, M, X, M);
+        sl_stream_init(&s, 6u, 0, 0, SL_PURPOSE_USER);
+        sl_stream_normals(&s, M, y);
+        CHECK(sl_scores_rank(M, N, X, M, y, 1u, r, &err) == SL_OK, "ranks");
+        for (j = 0; j <= N; j++)
+            counts[j] = 0;
+        for (i = 0; i < M; i++)
+            counts[(size_t)r[i] - 1] += 1;
+        c2 = chi_square_flat(N + 1, counts, M);
+        p = gsl_cdf_chisq_Q(c2, N);
+        CHECK(p > 0.01, "reliable ensemble: chi2 %g, p %g (want flat at 1%%)", c2, p);
+        printf("flat: chi2 %.2f on %d dof, p %.3f\n", c2, N, p);
+        /* (b) under-dispersed ensemble (sd 0.5 for an N(0,1) truth): the
+         * end ranks are over-populated, the middle ones under (U shape). */
+        for (i = 0; i < (size_t)M * N; i++)
+            X[i] *= 0.5;
+        CHECK(sl_scores_rank(M, N, X, M, y, 1u, r, &err) == SL_OK, "ranks");
+        for (j = 0; j <= N; j++)
+            counts[j] = 0;
+        for (i = 0; i < M; i++)
+            counts[(size_t)r[i] - 1] += 1;
+        c2 = chi_square_flat(N + 1, counts, M);
+        CHECK(counts[0] > 2 * e && counts[N] > 2 * e,
+              "under-dispersed: end ranks %g, %g, expected 2x %g", counts[0],
+              counts[N], e);
+        CHECK(counts[N / 2] < e, "under-dispersed: middle rank %g >= %g",
+              counts[N / 2], e);
+        CHECK(gsl_cdf_chisq_Q(c2, N) < 1e-6, "under-dispersed: chi2 %g not rejected", c2);
+        printf("U-shape: first %.0f, middle %.0f, last %.0f (flat %.0f)\n",
+               counts[0], counts[N / 2], counts[N], e);
+    }
+
+    /* Ties broken at random: identical members equal to y spread the rank
+     * uniformly over 1..N+1 (chi-square at the 1% level); members {1,2,2,3}
+     * at y = 2 give ranks 2, 3, 4 with probability 1/3 each. Ranks are
+     * reproducible, depend on the seed, and not on the number of rows. */
+    {
+        enum { M = 30000, N = 4 };
+        static double X[(size_t)M * N], y[M], r[M], r2[M];
+        double counts[N + 1], c2, p;
+        size_t diff = 0, same = 1;
+        for (i = 0; i < (size_t)M * N; i++)
+            X[i] = 1.5;
+        for (i = 0; i < M; i++)
+            y[i] = 1.5;
+        CHECK(sl_scores_rank(M, N, X, M, y, 2024u, r, &err) == SL_OK, "ties");
+        for (j = 0; j <= N; j++)
+            counts[j] = 0;
+        for (i = 0; i < M; i++)
+            counts[(size_t)r[i] - 1] += 1;
+        c2 = chi_square_flat(N + 1, counts, M);
+        p = gsl_cdf_chisq_Q(c2, N);
+        CHECK(p > 0.01, "all tied: chi2 %g, p %g (want flat at 1%%)", c2, p);
+        printf("all tied: chi2 %.2f on %d dof, p %.3f\n", c2, N, p);
+        CHECK(sl_scores_rank(M, N, X, M, y, 2024u, r2, &err) == SL_OK, "ties");
+        for (i = 0; i < M; i++)
+            same &= r[i] == r2[i];
+        CHECK(same, "same seed, same ranks");
+        CHECK(sl_scores_rank(17, N, X, 17, y, 2024u, r2, &err) == SL_OK, "ties");
+        for (i = 0; i < 17; i++)
+            same &= r[i] == r2[i];
+        CHECK(same, "rank of a row does not depend on the number of rows");
+        CHECK(sl_scores_rank(M, N, X, M, y, 2025u, r2, &err) == SL_OK, "ties");
+        for (i = 0; i < M; i++)
+            diff += r[i] != r2[i];
+        CHECK(diff > M / 2, "another seed changes the ranks (%lu differ)",
+              (unsigned long)diff);
+        for (i = 0; i < M; i++) {
+            X[i] = 1;
+            X[i + M] = 2;
+            X[i + 2 * (size_t)M] = 2;
+            X[i + 3 * (size_t)M] = 3;
+            y[i] = 2;
+        }
+        CHECK(sl_scores_rank(M, N, X, M, y, 3u, r, &err) == SL_OK, "partial ties");
+        for (j = 0; j <= N; j++)
+            counts[j] = 0;
+        for (i = 0; i < M; i++)
+            counts[(size_t)r[i] - 1] += 1;
+        CHECK(counts[0] == 0 && counts[4] == 0, "partial ties: outside 2..4");
+        for (j = 1; j <= 3; j++)
+            CHECK_CLOSE(counts[j], M / 3.0, 4 * sqrt(M * (1 / 3.0) * (2 / 3.0)),
+                        "partial ties: rank 2..4 each 1/3 (binomial sd)");
+    }
+
+    /* Errors. */
+    {
+        double X[4] = {1, NAN, 2, 3}, y[2] = {0, 0}, out[2], w[4];
+        CHECK(sl_scores_crps(2, 2, X, 2, y, out, w, &err) == SL_EINVAL &&
+                  strcmp(err.reason, "nonfinite") == 0,
+              "crps: NaN member -> %s", err.reason);
+        CHECK(sl_scores_rank(2, 2, X, 2, y, 1u, out, &err) == SL_EINVAL &&
+                  strcmp(err.reason, "nonfinite") == 0,
+              "rank: NaN member -> %s", err.reason);
+        X[1] = INFINITY;
+        CHECK(sl_scores_crps(2, 2, X, 2, y, out, w, &err) == SL_EINVAL,
+              "crps: infinite member");
+        CHECK(sl_scores_crps(2, 0, X, 2, y, out, w, &err) == SL_EINVAL &&
+                  strcmp(err.reason, "empty") == 0, "crps: no members");
+        CHECK(sl_scores_rank(2, 0, X, 2, y, 1u, out, &err) == SL_EINVAL,
+              "rank: no members");
+        CHECK(sl_scores_crps(2, 2, X, 1, y, out, w, &err) == SL_EINVAL &&
+                  strcmp(err.reason, "badsize") == 0, "crps: ldx < m");
+        CHECK(sl_scores_crps(0, 2, X, 0, y, out, w, &err) == SL_OK, "no rows");
+        CHECK(sl_scores_crps_workspace(7) >= 7, "workspace size");
+    }
+
+    CHECK_DONE("test_scores");
+}
