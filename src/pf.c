@@ -574,19 +574,13 @@ static sl_status enkf_update(const sl_pf_config *cfg, pf_buffers *b, size_t k,
         *degenerate = 1;
         return SL_OK;
     }
-    mk = 0;
-    for (i = 0; i < m; i++) {
-        size_t row = r0 + i;
-        if (isnan(cfg->y[row]))
-            continue;
-        b->yc[mk] = cfg->y[row];
-        b->rc[mk] = cfg->sigma[row] * cfg->sigma[row];
-        mk++;
-    }
+    /* compact the observed rows (mk of them: the leading dimension) */
     for (i = 0, mk = 0; i < m; i++) {
         size_t row = r0 + i, mt = m - *nskipped;
         if (isnan(cfg->y[row]))
             continue;
+        b->yc[mk] = cfg->y[row];
+        b->rc[mk] = cfg->sigma[row] * cfg->sigma[row];
         for (jj = 0; jj < L; jj++)
             b->Hc[mk + jj * mt] = b->Yhat[i + b->live[jj] * m];
         if (cfg->loc != NULL) {
