@@ -1,0 +1,609 @@
+% -*- texinfo -*-
+% @deftypefn  {} {[@var{table}, @var{info}] =} sluice.sweep (@var{fun}, @var{grid})
+% @deftypefnx {} {[@var{table}, @var{info}] =} sluice.sweep (@var{fun}, @var{grid}, @var{opts})
+% @deftypefnx {} {[@var{table}, @var{info}] =} sluice.sweep (@var{fun}, @var{grid}, @var{name}, @var{value}, @dots{})
+% Run a function over every point of a grid of option values and collect
+% its scores in one table.
+%
+% @var{grid} is a scalar struct whose fields are the dimensions of the
+% sweep. Each field holds the values of that dimension: a non-empty real
+% vector (double, single, integer or logical; no NaN) or a non-empty cell
+% array whose elements are character rows or real scalars. Values within a
+% dimension must be distinct. The sweep visits the Cartesian product of all
+% dimensions, the first dimension varying fastest (as @code{ndgrid}).
+% A dimension may not be called @code{seed}.
+%
+% @var{fun} is a function handle called as @code{@var{s} = fun (@var{point})}.
+% @var{point} is a struct with one field per dimension, holding that
+% point's value (an element of the vector, or the content of the cell), and
+% the field @code{seed}: a whole number in [0, 2^32) to seed whatever random
+% draws @var{fun} makes. @var{s} is either a real scalar (stored as the
+% score @code{score}) or a scalar struct of real scalar scores (numeric or
+% logical; NaN and Inf are kept). Points may return different sets of
+% scores: a score a point did not return is NaN in its row.
+%
+% The seed of a point depends only on @code{opts.seed} and on the point's
+% own values, never on its position in the grid, the order of the
+% dimensions or the order of evaluation, so a sweep gives the same results
+% serially, in parallel, or resumed. It is computed from the point's key,
+% the text made of the dimensions in sorted name order, each written as
+% @code{name=n:V;} for a number (V printed with @code{%.17g}) or
+% @code{name=sL:T;} for a text T of L characters. With the bytes
+% b_1 @dots{} b_L of the text @code{[sprintf('%.17g', opts.seed) '|' key]}:
+% @example
+% h_0 = 0,   h_i = mod (h_@{i-1@} * 65599 + b_i, 4294967291),   seed = h_L
+% @end example
+% (4294967291 is the largest prime below 2^32; every product is exact in
+% double arithmetic).
+%
+% Options, as a struct @var{opts} or as name, value pairs:
+% @table @code
+% @item seed
+% a whole number from 0 to 2^53 (default 1), the root of every point seed.
+% @item workers
+% a whole number >= 1 (default @code{nproc ()}). With more than one worker
+% and Octave's @code{parallel} package loadable, points are run with
+% @code{pararrayfun} in batches of @var{workers} points; otherwise serially.
+% @item file
+% the name of a results file. After each finished point (each batch, in
+% parallel) the results so far are written there: to a temporary file in
+% the same directory, then renamed over it, so the file is always whole.
+% It holds the variable @code{sweep_done}, a struct of columns @code{key}
+% (the point keys), @code{seed}, @code{time} and @code{scores} (a cell of
+% score structs), saved in Octave's own binary format (@code{save -binary}).
+% Its cost grows with the number of points saved. A later call with the same
+% file reuses every point whose key and seed are found there and runs only
+% the others: an interrupted sweep resumes where it stopped.
+% @end table
+%
+% @var{table} is a struct of column vectors, one row per grid point: one
+% column per dimension (double, or a cell column for a cell dimension),
+% the column @code{seed}, then one double column per score.
+%
+% @var{info} has the fields @code{time} (a column: seconds spent in
+% @var{fun} at each point; for a reused point, the time recorded in the
+% file), @code{reused} (a logical column), @code{computed} and
+% @code{nreused} (counts of points run now and taken from the file),
+% @code{total} (seconds for the whole call), @code{overhead} (seconds per
+% point computed now spent outside @var{fun}: (total - time in fun) /
+% computed), @code{workers} and @code{parallel} (true if
+% @code{pararrayfun} was used).
+%
+% Example:
+% @example
+% @group
+% grid = struct ('interval', [5 10 20], 'members', [100 500], ...
+%                'method', @{@{'pf', 'etkf'@}@});
+% score = @@(p) struct ('rmse', p.interval / sqrt (p.members), ...
+%                       'fast', strcmp (p.method, 'etkf'));
+% [t, info] = sluice.sweep (score, grid, 'seed', 7, 'file', 'sweep.mat');
+% [~, best] = min (t.rmse);
+% printf ('best: interval %g, members %g, %s\n', ...
+%         t.interval(best), t.members(best), t.method@{best@});
+% @end group
+% @end example
+%
+% Errors: @code{sluice:sweep:badfun} (@var{fun} not a function handle, or
+% one taking no argument), @code{sluice:sweep:badgrid} (not a scalar
+% struct, no field, an empty or ill-typed dimension, a repeated value, a
+% dimension named @code{seed}), @code{sluice:sweep:badoption} (unknown
+% option, a name without a value, a bad value),
+% @code{sluice:sweep:badfile} (a results file that cannot be read or
+% written), @code{sluice:sweep:badscores} (@var{fun} returned something
+% other than a real scalar or a struct of real scalars, or a score named
+% like a dimension or @code{seed}), @code{sluice:sweep:pointfailed}
+% (@var{fun} raised an error: the message names the point and repeats the
+% original message; points finished before it are already in the file).
+% @seealso{sluice.filter}
+% @end deftypefn
+
+function [table, info] = sweep (fun, grid, varargin)
+  if (nargin < 2)
+    print_usage ();
+  end
+  t_all = tic ();
+  check_fun (fun);
+  [names, vals, sizes, frags] = check_grid (grid);
+  opts = parse_options (varargin);
+
+  % every point: its subscripts, key and seed
+  D = numel (names);
+  N = prod (sizes);
+  subs = cell (1, D);
+  [subs{:}] = ind2sub ([sizes 1], (1:N)');
+  [~, order] = sort (names);
+  keys = repmat ({''}, N, 1);
+  for d = order
+    keys = strcat (keys, frags{d}(subs{d}));
+  end
+  seeds = point_seeds (keys, opts.seed);
+
+  % results already in the file
+  done = struct ('key', {cell(0, 1)}, 'seed', zeros (0, 1), ...
+                 'time', zeros (0, 1), 'scores', {cell(0, 1)});
+  if (~isempty (opts.file) && exist (opts.file, 'file'))
+    done = load_done (opts.file);
+  end
+  scores = cell (N, 1);
+  times = zeros (N, 1);
+  reused = false (N, 1);
+  if (~isempty (done.key))
+    [tf, loc] = ismember (keys, done.key);
+    idx = find (tf);
+    idx = idx(done.seed(loc(idx)) == seeds(idx));
+    reused(idx) = true;
+    scores(idx) = done.scores(loc(idx));
+    times(idx) = done.time(loc(idx));
+  end
+
+  todo = find (~reused);
+  use_par = false;
+  if (opts.workers > 1 && numel (todo) > 1)
+    try
+      pkg ('load', 'parallel');
+      use_par = exist ('pararrayfun') > 0;
+    catch
+      use_par = false;
+    end
+  end
+
+  t_fun = 0;
+  if (use_par)
+    nb = opts.workers;
+    for b = 1:nb:numel (todo)
+      batch = todo(b:min (b + nb - 1, numel (todo)));
+      pts = cell (numel (batch), 1);
+      for j = 1:numel (batch)
+        pts{j} = make_point (names, vals, subs, batch(j), seeds(batch(j)));
+      end
+      res = pararrayfun (min (nb, numel (batch)), @(j) run_point (fun, pts{j}), ...
+                         1:numel (batch), 'UniformOutput', false, ...
+                         'VerboseLevel', 0);
+      failed = 0;
+      for j = 1:numel (batch)
+        r = res{j};
+        p = batch(j);
+        if (~r.ok)
+          if (failed == 0)
+            failed = j;
+          end
+          continue;
+        end
+        times(p) = r.time;
+        t_fun = t_fun + r.time;
+        scores{p} = check_scores (r.scores, names, keys{p});
+        done = add_done (done, keys{p}, seeds(p), r.time, scores{p});
+      end
+      if (~isempty (opts.file))
+        save_done (opts.file, done);
+      end
+      if (failed > 0)
+        point_failed (keys{batch(failed)}, res{failed});
+      end
+    end
+  else
+    for p = todo'
+      point = make_point (names, vals, subs, p, seeds(p));
+      r = run_point (fun, point);
+      if (~r.ok)
+        point_failed (keys{p}, r);
+      end
+      times(p) = r.time;
+      t_fun = t_fun + r.time;
+      scores{p} = check_scores (r.scores, names, keys{p});
+      if (~isempty (opts.file))
+        done = add_done (done, keys{p}, seeds(p), r.time, scores{p});
+        save_done (opts.file, done);
+      end
+    end
+  end
+
+  % the table: dimensions, seed, scores (union of names, NaN where absent)
+  table = struct ();
+  for d = 1:D
+    v = vals{d}(subs{d});
+    if (iscell (v))
+      table.(names{d}) = v(:);
+    else
+      table.(names{d}) = double (v(:));
+    end
+  end
+  table.seed = seeds;
+  snames = {};
+  for p = 1:N
+    f = fieldnames (scores{p});
+    snames = [snames; f(~ismember (f, snames))];
+  end
+  for k = 1:numel (snames)
+    col = NaN (N, 1);
+    for p = 1:N
+      if (isfield (scores{p}, snames{k}))
+        col(p) = scores{p}.(snames{k});
+      end
+    end
+    table.(snames{k}) = col;
+  end
+
+  total = toc (t_all);
+  ncomp = numel (todo);
+  info = struct ('time', times, 'reused', reused, 'computed', ncomp, ...
+                 'nreused', N - ncomp, 'total', total, ...
+                 'overhead', (total - t_fun) / max (ncomp, 1), ...
+                 'workers', opts.workers, 'parallel', use_par);
+end
+
+function check_fun (fun)
+  if (~isa (fun, 'function_handle'))
+    error ('sluice:sweep:badfun', ...
+           'argument 1 (fun): expected a function handle, got %s', describe (fun));
+  end
+  n = -1;
+  try
+    n = nargin (fun);
+  catch
+    n = -1;
+  end
+  if (n == 0)
+    error ('sluice:sweep:badfun', ...
+           'argument 1 (fun): the function takes no argument; it must accept the point struct');
+  end
+end
+
+function [names, vals, sizes, frags] = check_grid (grid)
+  if (~isstruct (grid) || ~isscalar (grid))
+    error ('sluice:sweep:badgrid', ...
+           'argument 2 (grid): expected a scalar struct of dimensions, got %s', describe (grid));
+  end
+  names = fieldnames (grid)';
+  if (isempty (names))
+    error ('sluice:sweep:badgrid', 'argument 2 (grid): the struct has no field (no dimension)');
+  end
+  D = numel (names);
+  vals = cell (1, D);
+  frags = cell (1, D);
+  sizes = zeros (1, D);
+  for d = 1:D
+    nm = names{d};
+    v = grid.(nm);
+    if (strcmp (nm, 'seed'))
+      error ('sluice:sweep:badgrid', ...
+             'argument 2 (grid): a dimension may not be called ''seed'' (the point seed uses that field)');
+    end
+    if (isempty (v))
+      error ('sluice:sweep:badgrid', 'argument 2 (grid): dimension ''%s'' is empty', nm);
+    end
+    if (~isvector (v))
+      error ('sluice:sweep:badgrid', ...
+             'argument 2 (grid): dimension ''%s'' must be a vector, got %s', nm, describe (v));
+    end
+    n = numel (v);
+    fr = cell (n, 1);
+    if (iscell (v))
+      for i = 1:n
+        e = v{i};
+        if (ischar (e) && (isrow (e) || isempty (e)))
+          fr{i} = sprintf ('%s=s%d:%s;', nm, numel (e), e);
+        elseif (good_number (e))
+          fr{i} = sprintf ('%s=n:%.17g;', nm, double (e));
+        else
+          error ('sluice:sweep:badgrid', ...
+                 'argument 2 (grid): dimension ''%s'', value %d: expected a character row or a real scalar, got %s', ...
+                 nm, i, describe (e));
+        end
+      end
+    elseif ((isnumeric (v) || islogical (v)) && isreal (v) && ~issparse (v))
+      if (any (isnan (v)))
+        error ('sluice:sweep:badgrid', 'argument 2 (grid): dimension ''%s'' holds NaN', nm);
+      end
+      for i = 1:n
+        fr{i} = sprintf ('%s=n:%.17g;', nm, double (v(i)));
+      end
+    else
+      error ('sluice:sweep:badgrid', ...
+             'argument 2 (grid): dimension ''%s'': expected a real vector or a cell array, got %s', ...
+             nm, describe (v));
+    end
+    [u, iu] = unique (fr);
+    if (numel (u) < n)
+      dup = setdiff (1:n, iu);
+      error ('sluice:sweep:badgrid', ...
+             'argument 2 (grid): dimension ''%s'', value %d repeats an earlier value', nm, dup(1));
+    end
+    vals{d} = v(:);
+    frags{d} = fr;
+    sizes(d) = n;
+  end
+end
+
+function tf = good_number (e)
+  tf = (isnumeric (e) || islogical (e)) && isscalar (e) && isreal (e) ...
+       && ~issparse (e) && ~isnan (e);
+end
+
+function opts = parse_options (args)
+  opts = struct ('seed', 1, 'workers', nproc (), 'file', '');
+  if (numel (args) == 1 && isstruct (args{1}))
+    if (~isscalar (args{1}))
+      error ('sluice:sweep:badoption', 'argument 3 (opts): expected a scalar struct, got %s', ...
+             describe (args{1}));
+    end
+    given = args{1};
+    f = fieldnames (given);
+    pairs = cell (1, 2 * numel (f));
+    for k = 1:numel (f)
+      pairs{2 * k - 1} = f{k};
+      pairs{2 * k} = given.(f{k});
+    end
+  else
+    pairs = args;
+    if (mod (numel (pairs), 2) ~= 0)
+      error ('sluice:sweep:badoption', 'options must come in name, value pairs or as one struct');
+    end
+  end
+  for k = 1:2:numel (pairs)
+    nm = pairs{k};
+    v = pairs{k + 1};
+    if (~(ischar (nm) && isrow (nm)))
+      error ('sluice:sweep:badoption', 'option %d: expected a name, got %s', ...
+             (k + 1) / 2, describe (nm));
+    end
+    switch (lower (nm))
+      case 'seed'
+        if (~(isa (v, 'double') && isscalar (v) && isreal (v) && ~issparse (v) ...
+              && v >= 0 && v <= 2^53 && v == fix (v)))
+          error ('sluice:sweep:badoption', ...
+                 'seed: expected a whole number from 0 to 2^53, got %s', describe (v));
+        end
+        opts.seed = v;
+      case 'workers'
+        if (~(isnumeric (v) && isscalar (v) && isreal (v) && ~issparse (v) ...
+              && v >= 1 && v == fix (v) && isfinite (v)))
+          error ('sluice:sweep:badoption', ...
+                 'workers: expected a whole number >= 1, got %s', describe (v));
+        end
+        opts.workers = double (v);
+      case 'file'
+        if (~(ischar (v) && isrow (v)))
+          error ('sluice:sweep:badoption', ...
+                 'file: expected a file name (a character row), got %s', describe (v));
+        end
+        opts.file = v;
+      otherwise
+        error ('sluice:sweep:badoption', ...
+               'unknown option ''%s'' (known: seed, workers, file)', nm);
+    end
+  end
+end
+
+function seeds = point_seeds (keys, seed)
+  % the documented hash, run over all keys at once, one byte column a step
+  txt = strcat (sprintf ('%.17g|', seed), keys);
+  len = cellfun ('length', txt);
+  B = double (char (txt));
+  M = 4294967291;
+  seeds = zeros (numel (keys), 1);
+  for i = 1:size (B, 2)
+    m = len >= i;
+    seeds(m) = mod (seeds(m) * 65599 + B(m, i), M);
+  end
+end
+
+function point = make_point (names, vals, subs, p, seed)
+  point = struct ();
+  for d = 1:numel (names)
+    v = vals{d};
+    if (iscell (v))
+      point.(names{d}) = v{subs{d}(p)};
+    else
+      point.(names{d}) = v(subs{d}(p));
+    end
+  end
+  point.seed = seed;
+end
+
+function r = run_point (fun, point)
+  r = struct ('ok', true, 'scores', [], 'time', 0, 'message', '', 'identifier', '');
+  t0 = tic ();
+  try
+    r.scores = fun (point);
+  catch err
+    r.ok = false;
+    r.message = err.message;
+    r.identifier = err.identifier;
+  end
+  r.time = toc (t0);
+end
+
+function point_failed (key, r)
+  if (isempty (r.identifier))
+    why = r.message;
+  else
+    why = sprintf ('%s (%s)', r.message, r.identifier);
+  end
+  error ('sluice:sweep:pointfailed', 'the function failed at point %s: %s', ...
+         point_text (key), why);
+end
+
+function s = check_scores (s, names, key)
+  if (good_number (s))
+    s = struct ('score', double (s));
+    return;
+  end
+  if (~(isstruct (s) && isscalar (s) && numel (fieldnames (s)) > 0))
+    error ('sluice:sweep:badscores', ...
+           'at point %s: the function must return a real scalar or a struct of real scalars, got %s', ...
+           point_text (key), describe (s));
+  end
+  f = fieldnames (s);
+  for k = 1:numel (f)
+    v = s.(f{k});
+    if (strcmp (f{k}, 'seed') || any (strcmp (f{k}, names)))
+      error ('sluice:sweep:badscores', ...
+             'at point %s: score ''%s'' has the name of a table column', point_text (key), f{k});
+    end
+    if (~(good_number (v) || (isnumeric (v) && isscalar (v) && isreal (v) && isnan (v))))
+      error ('sluice:sweep:badscores', ...
+             'at point %s: score ''%s'' must be a real scalar, got %s', ...
+             point_text (key), f{k}, describe (v));
+    end
+    s.(f{k}) = double (full (v));
+  end
+end
+
+function t = point_text (key)
+  % "a=n:5;m=s2:pf;" -> "(a=5, m=pf)"
+  t = regexprep (key, '=n:', '=');
+  t = regexprep (t, '=s\d+:', '=');
+  t = ['(' strrep(t(1:end-1), ';', ', ') ')'];
+end
+
+function done = add_done (done, key, seed, time, scores)
+  done.key{end + 1, 1} = key;
+  done.seed(end + 1, 1) = seed;
+  done.time(end + 1, 1) = time;
+  done.scores{end + 1, 1} = scores;
+end
+
+function done = load_done (file)
+  try
+    s = load (file);
+  catch err
+    error ('sluice:sweep:badfile', 'file %s: cannot be read as a results file: %s', ...
+           file, err.message);
+  end
+  ok = isfield (s, 'sweep_done') && isstruct (s.sweep_done) && isscalar (s.sweep_done) ...
+       && all (isfield (s.sweep_done, {'key', 'seed', 'time', 'scores'}));
+  if (ok)
+    done = s.sweep_done;
+    n = numel (done.key);
+    ok = iscellstr (done.key) && iscell (done.scores) && isnumeric (done.seed) ...
+         && isnumeric (done.time) && numel (done.seed) == n ...
+         && numel (done.time) == n && numel (done.scores) == n;
+  end
+  if (~ok)
+    error ('sluice:sweep:badfile', ...
+           'file %s: holds no sweep results (variable sweep_done with key, seed, time, scores)', file);
+  end
+  done.key = done.key(:);
+  done.seed = double (done.seed(:));
+  done.time = double (done.time(:));
+  done.scores = done.scores(:);
+end
+
+function save_done (file, done)
+  sweep_done = done;
+  tmp = sprintf ('%s.tmp%d', file, getpid ());
+  try
+    save ('-binary', tmp, 'sweep_done');
+  catch err
+    error ('sluice:sweep:badfile', 'file %s: cannot write the results: %s', file, err.message);
+  end
+  [st, msg] = rename (tmp, file);
+  if (st ~= 0)
+    delete (tmp);
+    error ('sluice:sweep:badfile', 'file %s: cannot replace it with the new results: %s', file, msg);
+  end
+end
+
+function t = describe (v)
+  if (ischar (v) && isrow (v) && numel (v) < 40)
+    t = sprintf ('''%s''', v);
+  else
+    sz = sprintf ('%dx', size (v));
+    t = [sz(1:end-1) ' ' class(v)];
+    if (isnumeric (v) && ~isreal (v))
+      t = [t ' complex'];
+    end
+    if (issparse (v))
+      t = [t ' sparse'];
+    end
+  end
+end
+
+%!test
+%! g = struct ('a', [1 2 3], 'm', {{'x', 'yy'}});
+%! [t, info] = sluice.sweep (@(p) struct ('v', p.a * numel (p.m)), g, 'workers', 1);
+%! assert (t.a, [1; 2; 3; 1; 2; 3]);
+%! assert (t.m, {'x'; 'x'; 'x'; 'yy'; 'yy'; 'yy'});
+%! assert (t.v, [1; 2; 3; 2; 4; 6]);
+%! assert (info.computed, 6);
+%! assert (info.nreused, 0);
+%! assert (all (t.seed >= 0 & t.seed < 2^32 & t.seed == fix (t.seed)));
+
+%!test
+%! % the example of the help text
+%! grid = struct ('interval', [5 10 20], 'members', [100 500], ...
+%!                'method', {{'pf', 'etkf'}});
+%! score = @(p) struct ('rmse', p.interval / sqrt (p.members), ...
+%!                      'fast', strcmp (p.method, 'etkf'));
+%! [t, info] = sluice.sweep (score, grid, 'seed', 7, 'workers', 1);
+%! [~, best] = min (t.rmse);
+%! assert ([t.interval(best), t.members(best)], [5 500]);
+%! assert (t.fast, [zeros(6, 1); ones(6, 1)]);
+%! assert (numel (info.time), 12);
+%! assert (info.overhead >= 0);
+
+%!test
+%! % a scalar result is the score 'score'
+%! t = sluice.sweep (@(p) p.a ^ 2, struct ('a', [2 3]), struct ('workers', 1));
+%! assert (t.score, [4; 9]);
+
+%!error id=sluice:sweep:badfun sluice.sweep (3, struct ('a', 1))
+%!error id=sluice:sweep:badfun sluice.sweep ('sin', struct ('a', 1))
+%!error id=sluice:sweep:badfun sluice.sweep (@() 1, struct ('a', 1))
+%!error id=sluice:sweep:badgrid sluice.sweep (@(p) 1, 3)
+%!error id=sluice:sweep:badgrid sluice.sweep (@(p) 1, {1, 2})
+%!error id=sluice:sweep:badgrid sluice.sweep (@(p) 1, struct ())
+%!error id=sluice:sweep:badgrid sluice.sweep (@(p) 1, struct ('a', {1, 2}))
+%!error id=sluice:sweep:badgrid sluice.sweep (@(p) 1, struct ('a', []))
+%!error id=sluice:sweep:badgrid sluice.sweep (@(p) 1, struct ('a', {{}}))
+%!error id=sluice:sweep:badgrid sluice.sweep (@(p) 1, struct ('a', [1 2; 3 4]))
+%!error id=sluice:sweep:badgrid sluice.sweep (@(p) 1, struct ('a', [1 NaN]))
+%!error id=sluice:sweep:badgrid sluice.sweep (@(p) 1, struct ('a', [1 2 1]))
+%!error id=sluice:sweep:badgrid sluice.sweep (@(p) 1, struct ('a', {{'u', 'u'}}))
+%!error id=sluice:sweep:badgrid sluice.sweep (@(p) 1, struct ('a', {{'u', [1 2]}}))
+%!error id=sluice:sweep:badgrid sluice.sweep (@(p) 1, struct ('a', [1i 2]))
+%!error id=sluice:sweep:badgrid sluice.sweep (@(p) 1, struct ('a', 'abc'))
+%!error id=sluice:sweep:badgrid sluice.sweep (@(p) 1, struct ('seed', [1 2]))
+%!error id=sluice:sweep:badgrid sluice.sweep (@(p) 1, struct ('a', {{struct()}}))
+%!error id=sluice:sweep:badoption sluice.sweep (@(p) 1, struct ('a', 1), 'speed', 2)
+%!error id=sluice:sweep:badoption sluice.sweep (@(p) 1, struct ('a', 1), struct ('speed', 2))
+%!error id=sluice:sweep:badoption sluice.sweep (@(p) 1, struct ('a', 1), 'seed')
+%!error id=sluice:sweep:badoption sluice.sweep (@(p) 1, struct ('a', 1), 3, 4)
+%!error id=sluice:sweep:badoption sluice.sweep (@(p) 1, struct ('a', 1), 'seed', -1)
+%!error id=sluice:sweep:badoption sluice.sweep (@(p) 1, struct ('a', 1), 'seed', 1.5)
+%!error id=sluice:sweep:badoption sluice.sweep (@(p) 1, struct ('a', 1), 'seed', int32 (3))
+%!error id=sluice:sweep:badoption sluice.sweep (@(p) 1, struct ('a', 1), 'seed', 2^54)
+%!error id=sluice:sweep:badoption sluice.sweep (@(p) 1, struct ('a', 1), 'workers', 0)
+%!error id=sluice:sweep:badoption sluice.sweep (@(p) 1, struct ('a', 1), 'workers', Inf)
+%!error id=sluice:sweep:badoption sluice.sweep (@(p) 1, struct ('a', 1), 'file', 3)
+%!error id=sluice:sweep:badoption sluice.sweep (@(p) 1, struct ('a', 1), struct ('seed', {1, 2}))
+%!error id=sluice:sweep:badscores sluice.sweep (@(p) 'text', struct ('a', 1), 'workers', 1)
+%!error id=sluice:sweep:badscores sluice.sweep (@(p) [1 2], struct ('a', 1), 'workers', 1)
+%!error id=sluice:sweep:badscores sluice.sweep (@(p) struct (), struct ('a', 1), 'workers', 1)
+%!error id=sluice:sweep:badscores sluice.sweep (@(p) struct ('r', [1 2]), struct ('a', 1), 'workers', 1)
+%!error id=sluice:sweep:badscores sluice.sweep (@(p) struct ('r', 1i), struct ('a', 1), 'workers', 1)
+%!error id=sluice:sweep:badscores sluice.sweep (@(p) struct ('a', 1), struct ('a', 1), 'workers', 1)
+%!error id=sluice:sweep:badscores sluice.sweep (@(p) struct ('seed', 1), struct ('a', 1), 'workers', 1)
+%!error id=sluice:sweep:pointfailed sluice.sweep (@(p) error ('my:id', 'no'), struct ('a', 1), 'workers', 1)
+%!error <point \(a=2, m=pf\): bad interval> sluice.sweep (@(p) error ('bad interval'), struct ('a', 2, 'm', {{'pf'}}), 'workers', 1)
+%!error id=sluice:sweep:badfile sluice.sweep (@(p) 1, struct ('a', 1), 'workers', 1, 'file', '/nonexistent_dir_sl/x.mat')
+%!test
+%! f = [tempname() '.mat'];
+%! fid = fopen (f, 'w'); fputs (fid, 'not a results file'); fclose (fid);
+%! unwind_protect
+%!   for k = 1:2
+%!     if (k == 2)
+%!       x = 3; save ('-v7', f, 'x');
+%!     end
+%!     id = '';
+%!     try
+%!       sluice.sweep (@(p) 1, struct ('a', 1), 'file', f);
+%!     catch e
+%!       id = e.identifier;
+%!     end
+%!     assert (id, 'sluice:sweep:badfile');
+%!   end
+%! unwind_protect_cleanup
+%!   delete (f);
+%! end_unwind_protect
