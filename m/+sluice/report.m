@@ -1,0 +1,723 @@
+% -*- texinfo -*-
+% @deftypefn  {} {@var{files} =} sluice.report (@var{res})
+% @deftypefnx {} {@var{files} =} sluice.report (@var{res}, @var{opts})
+% @deftypefnx {} {@var{files} =} sluice.report (@var{res}, @var{name}, @var{value}, @dots{})
+% Write a report of a filter run: PNG figures, CSV tables and a plain-text
+% summary, all in one directory.
+%
+% @var{res} is a result of @code{sluice.filter} or of @code{sluice.twin}
+% (whose filter run is reported, with its truth and observations).
+% The figures are drawn without a display (@code{figure ('visible', 'off')}
+% and @code{print}); when no graphics toolkit can print, the error
+% @code{sluice:report:nographics} says so.
+%
+% Files written:
+% @table @code
+% @item fan_<name>.png
+% one per state and per parameter: the ensemble median as a line, the
+% 50% and 90% bands as shaded areas (from the quantile levels 0.25, 0.75
+% and 0.05, 0.95 of the run; a band whose levels were not recorded is left
+% out and the summary says so), the observations of that variable as
+% points and the truth as a line when known.
+% @item ess.png
+% effective sample size over time, the resampling threshold, and marks at
+% the cycles where the ensemble was resampled.
+% @item params.png
+% parameter trajectories: mean and 90% band over time, one panel each
+% (only when the model has parameters).
+% @item rank.png
+% rank histogram, when @code{opts.rank} gives the counts.
+% @item summary.txt
+% method, members, seed, times, log-evidence, skipped observations,
+% non-finite members, final parameter means and 90% intervals.
+% @item summary.csv
+% one row per cycle: time, the mean and every recorded quantile of each
+% state and parameter, the ESS and whether the ensemble was resampled.
+% The first line holds the column names.
+% @item final.csv
+% the last cycle's mean and 90% interval of every state and parameter.
+% @end table
+%
+% Options (a struct or name/value pairs):
+% @table @code
+% @item outdir
+% directory of the report (default @code{'out/report'}; created when
+% missing).
+% @item obs
+% observation table (as @code{sluice.filter} takes it) to draw as points;
+% default the twin's observations.
+% @item truth
+% struct with @code{times} (1 x T) and @code{X} (n x T, one row per
+% state), optionally @code{params} (p x 1); or a twin result. Default the
+% twin's truth.
+% @item rank
+% rank histogram counts from @code{sluice.rank_histogram}.
+% @item units
+% struct of unit strings by variable name, e.g.
+% @code{struct ('level', 'm')}, used in the axis labels.
+% @item time_unit
+% unit of time for the axis labels (default none).
+% @item title
+% a heading for the summary (default the model's name).
+% @end table
+%
+% @var{files} is a cellstr of the files written.
+%
+% @seealso{sluice.filter, sluice.twin, sluice.rank_histogram}
+% @end deftypefn
+function files = report (res, varargin)
+  if (nargin < 1)
+    print_usage ();
+  end
+  opts = parse_options (varargin);
+  [rf, obs, truth, scores] = unpack (res, opts);
+  toolkit = find_toolkit ();
+  % the gnuplot toolkit is the one that prints without a display: its
+  % notice that another toolkit is preferred for interactive use is moot here
+  old = warning ('off', 'Octave:gnuplot-graphics');
+  restore = onCleanup (@() warning (old));
+
+  outdir = opts.outdir;
+  if (~exist (outdir, 'dir'))
+    if (exist (outdir, 'file'))
+      error ('sluice:report:badoutdir', ...
+             'outdir ''%s'' exists and is not a directory', outdir);
+    end
+    [ok, msg] = mkdir (outdir);
+    if (~ok)
+      error ('sluice:report:badoutdir', 'cannot create outdir ''%s'': %s', outdir, msg);
+    end
+  end
+
+  lv = rf.quantile_levels(:)';
+  i05 = level (lv, 0.05);
+  i25 = level (lv, 0.25);
+  i50 = level (lv, 0.5);
+  i75 = level (lv, 0.75);
+  i95 = level (lv, 0.95);
+  bands = struct ('outer', ~isempty (i05) && ~isempty (i95), ...
+                  'inner', ~isempty (i25) && ~isempty (i75), ...
+                  'median', ~isempty (i50));
+  idx = struct ('q05', i05, 'q25', i25, 'q50', i50, 'q75', i75, 'q95', i95);
+
+  files = {};
+  names = [rf.state_names(:); rf.param_names(:)];
+  n = numel (rf.state_names);
+  used = {};
+  for k = 1:numel (names)
+    if (k <= n)
+      M = rf.states.mean(k, :);
+      Q = reshape (rf.states.quantiles(k, :, :), numel (lv), []);
+    else
+      M = rf.params.mean(k - n, :);
+      Q = reshape (rf.params.quantiles(k - n, :, :), numel (lv), []);
+    end
+    [tt, yt] = truth_of (truth, names{k}, k, n, rf.times);
+    [to, yo] = obs_of (obs, names{k});
+    base = unique_name (['fan_', safe_name(names{k})], used);
+    used{end + 1} = base;
+    f = fullfile (outdir, [base, '.png']);
+    fan_chart (f, toolkit, rf.times, M, Q, idx, bands, to, yo, tt, yt, ...
+               names{k}, label (names{k}, opts), time_label (opts), k > n);
+    files{end + 1} = f;
+  end
+
+  f = fullfile (outdir, 'ess.png');
+  ess_chart (f, toolkit, rf, time_label (opts));
+  files{end + 1} = f;
+
+  if (~isempty (rf.param_names))
+    f = fullfile (outdir, 'params.png');
+    param_chart (f, toolkit, rf, idx, bands, truth, opts);
+    files{end + 1} = f;
+  end
+
+  if (~isempty (opts.rank))
+    f = fullfile (outdir, 'rank.png');
+    rank_chart (f, toolkit, opts.rank);
+    files{end + 1} = f;
+  end
+
+  f = fullfile (outdir, 'summary.csv');
+  write_series (f, rf, names, n);
+  files{end + 1} = f;
+  f = fullfile (outdir, 'final.csv');
+  write_final (f, rf, names, n, idx);
+  files{end + 1} = f;
+  f = fullfile (outdir, 'summary.txt');
+  write_text (f, rf, opts, bands, toolkit, scores, ~isempty (obs), ~isempty (truth));
+  files{end + 1} = f;
+  files = files(:);
+end
+
+function opts = parse_options (args)
+  opts = struct ('outdir', 'out/report', 'obs', [], 'truth', [], 'rank', [], ...
+                 'units', struct (), 'time_unit', '', 'title', '');
+  if (numel (args) == 1 && isstruct (args{1}) && isscalar (args{1}))
+    given = args{1};
+    f = fieldnames (given);
+    vals = struct2cell (given);
+    args = [f(:)'; vals(:)'];
+    args = args(:)';
+  elseif (mod (numel (args), 2) ~= 0)
+    error ('sluice:report:badoption', ...
+           'options must be a struct or name/value pairs, got %d trailing argument(s)', numel (args));
+  end
+  for k = 1:2:numel (args)
+    name = args{k};
+    if (~ischar (name) || ~isfield (opts, name))
+      if (ischar (name))
+        what = ['''', name, ''''];
+      else
+        what = ['a ', class(name)];
+      end
+      error ('sluice:report:badoption', 'unknown option %s; the options are %s', ...
+             what, strjoin (fieldnames (opts)', ', '));
+    end
+    opts.(name) = args{k + 1};
+  end
+  d = opts.outdir;
+  if (~ischar (d) || isempty (d) || rows (d) ~= 1)
+    error ('sluice:report:badoutdir', 'outdir must be a non-empty string (a directory path)');
+  end
+  if (~isstruct (opts.units) || ~isscalar (opts.units))
+    error ('sluice:report:badoption', 'units must be a struct of unit strings by variable name');
+  end
+  f = fieldnames (opts.units);
+  for k = 1:numel (f)
+    if (~ischar (opts.units.(f{k})))
+      error ('sluice:report:badoption', 'units.%s must be a string', f{k});
+    end
+  end
+  if (~ischar (opts.time_unit))
+    error ('sluice:report:badoption', 'time_unit must be a string');
+  end
+  if (~ischar (opts.title))
+    error ('sluice:report:badoption', 'title must be a string');
+  end
+  r = opts.rank;
+  if (~isempty (r) && (~isa (r, 'double') || ~isreal (r) || ~isvector (r) || ...
+                       numel (r) < 2 || any (~isfinite (r)) || any (r < 0)))
+    error ('sluice:report:badoption', ...
+           'rank must be the counts of sluice.rank_histogram (a vector of >= 2 finite counts >= 0)');
+  end
+end
+
+function [rf, obs, truth, scores] = unpack (res, opts)
+  scores = [];
+  obs = [];
+  truth = [];
+  if (isstruct (res) && isscalar (res) && isfield (res, 'filter') && isfield (res, 'truth'))
+    rf = res.filter;
+    truth = res.truth;
+    if (isfield (res, 'obs'))
+      obs = res.obs;
+    end
+    if (isfield (res, 'scores'))
+      scores = res.scores;
+    end
+  else
+    rf = res;
+  end
+  need = {'times', 'state_names', 'param_names', 'states', 'params', ...
+          'quantile_levels', 'ess', 'resampled', 'members'};
+  ok = isstruct (rf) && isscalar (rf);
+  for k = 1:numel (need)
+    ok = ok && isfield (rf, need{k});
+  end
+  if (~ok)
+    error ('sluice:report:badresult', ...
+           'argument 1 (res): expected a result of sluice.filter or sluice.twin, got %s', ...
+           describe (res));
+  end
+  rf.method_label = 'unknown method';
+  if (isfield (rf, 'method') && ischar (rf.method))
+    rf.method_label = rf.method;
+  end
+  if (~isempty (opts.obs))
+    obs = opts.obs;
+  end
+  if (~isempty (obs))
+    if (~isstruct (obs) || ~isscalar (obs) || ~isfield (obs, 'time') || ...
+        ~isfield (obs, 'variable') || ~isfield (obs, 'value') || ...
+        numel (obs.time) ~= numel (obs.value))
+      error ('sluice:report:badoption', ...
+             'obs must be an observation table with columns time, variable, value');
+    end
+  end
+  if (~isempty (opts.truth))
+    truth = opts.truth;
+    if (isstruct (truth) && isscalar (truth) && isfield (truth, 'truth'))
+      truth = truth.truth;
+    end
+  end
+  if (~isempty (truth))
+    n = numel (rf.state_names);
+    if (~isstruct (truth) || ~isscalar (truth) || ~isfield (truth, 'times') || ...
+        ~isfield (truth, 'X') || ~isa (truth.X, 'double') || rows (truth.X) ~= n || ...
+        columns (truth.X) ~= numel (truth.times))
+      error ('sluice:report:badoption', ...
+             'truth must be a struct with times (1 x T) and X (%d x T), or a twin result', n);
+    end
+  end
+end
+
+function s = describe (a)
+  s = sprintf ('%s %s', strjoin (arrayfun (@num2str, size (a), 'UniformOutput', false), 'x'), class (a));
+end
+
+function tk = find_toolkit ()
+  % a toolkit that can print without a display
+  tk = '';
+  if (~exist ('OCTAVE_VERSION', 'builtin'))
+    tk = 'native';
+    return;
+  end
+  avail = available_graphics_toolkits ();
+  if (isempty (avail))
+    error ('sluice:report:nographics', ...
+           ['no graphics toolkit is available to draw the figures ', ...
+            '(install gnuplot, or run Octave with a display)']);
+  end
+  if (any (strcmp (avail, 'gnuplot')))
+    tk = 'gnuplot';
+  elseif (~isempty (getenv ('DISPLAY')))
+    tk = avail{1};
+  else
+    error ('sluice:report:nographics', ...
+           ['no graphics toolkit can print without a display (available: %s); ', ...
+            'install gnuplot or run Octave with a display'], strjoin (avail, ', '));
+  end
+end
+
+function h = new_figure (tk, wh)
+  if (strcmp (tk, 'native'))
+    h = figure ('visible', 'off');
+  else
+    h = figure ('visible', 'off', '__graphics_toolkit__', tk);
+  end
+  set (h, 'paperunits', 'inches', 'paperposition', [0 0 wh / 100]);
+end
+
+function save_figure (h, f)
+  try
+    print (h, '-dpng', '-r100', f);
+  catch err
+    close (h);
+    error ('sluice:report:nographics', 'cannot print the figure %s: %s', f, err.message);
+  end
+  close (h);
+  d = dir (f);
+  if (isempty (d) || d.bytes == 0)
+    error ('sluice:report:nographics', 'printing gave no image in %s', f);
+  end
+end
+
+function tidy_axes (xgrid)
+  % light dotted grid under the data
+  set (gca, 'layer', 'bottom', 'gridcolor', [0.7 0.7 0.7], 'gridlinestyle', ':', ...
+       'ygrid', 'on', 'xgrid', xgrid, 'box', 'on');
+end
+
+function c = palette (which)
+  % the report's own colours: a family of blues for the ensemble, black
+  % observations, red truth, amber marks
+  switch (which)
+    case 'outer'
+      c = [0.80 0.87 0.96];
+    case 'inner'
+      c = [0.52 0.67 0.88];
+    case 'line'
+      c = [0.06 0.22 0.52];
+    case 'obs'
+      c = [0 0 0];
+    case 'truth'
+      c = [0.80 0.10 0.10];
+    otherwise
+      c = [0.85 0.55 0.05];
+  end
+end
+
+function i = level (lv, p)
+  i = find (abs (lv - p) < 1e-9, 1);
+end
+
+function hb = band (t, lo, hi, c)
+  hb = [];
+  ok = isfinite (lo) & isfinite (hi);
+  t = t(ok);
+  lo = lo(ok);
+  hi = hi(ok);
+  if (isempty (t))
+    return;
+  end
+  hb = fill ([t, fliplr(t)], [lo, fliplr(hi)], c, 'edgecolor', c);
+end
+
+function fan_chart (f, tk, t, M, Q, idx, bands, to, yo, tt, yt, name, ylab, xlab, is_param)
+  h = new_figure (tk, [800 450]);
+  hold on;
+  hs = [];
+  leg = {};
+  if (bands.outer)
+    hb = band (t, Q(idx.q05, :), Q(idx.q95, :), palette ('outer'));
+    hs(end + 1:end + numel (hb)) = hb;
+    leg(end + 1:end + numel (hb)) = {'90% band'};
+  end
+  if (bands.inner)
+    hb = band (t, Q(idx.q25, :), Q(idx.q75, :), palette ('inner'));
+    hs(end + 1:end + numel (hb)) = hb;
+    leg(end + 1:end + numel (hb)) = {'50% band'};
+  end
+  if (bands.median)
+    hs(end + 1) = plot (t, Q(idx.q50, :), '-', 'color', palette ('line'), 'linewidth', 2);
+    leg{end + 1} = 'median';
+  else
+    hs(end + 1) = plot (t, M, '--', 'color', palette ('line'), 'linewidth', 2);
+    leg{end + 1} = 'mean (no median recorded)';
+  end
+  if (~isempty (tt))
+    hs(end + 1) = plot (tt, yt, '-', 'color', palette ('truth'), 'linewidth', 1.5);
+    leg{end + 1} = 'truth';
+  end
+  if (~isempty (to))
+    hs(end + 1) = plot (to, yo, 'o', 'color', palette ('obs'), ...
+                        'markerfacecolor', palette ('obs'), 'markersize', 4);
+    leg{end + 1} = 'observations';
+  end
+  hold off;
+  tidy_axes ('on');
+  xlabel (xlab);
+  ylabel (ylab);
+  if (is_param)
+    kind = 'parameter';
+  else
+    kind = 'state';
+  end
+  title (sprintf ('%s %s: ensemble median and bands', kind, name), 'interpreter', 'none');
+  legend (hs, leg, 'location', 'northeastoutside');
+  save_figure (h, f);
+end
+
+function ess_chart (f, tk, rf, xlab)
+  h = new_figure (tk, [800 400]);
+  t = rf.times;
+  N = rf.members;
+  hold on;
+  hs = plot (t, rf.ess, '-', 'color', palette ('line'), 'linewidth', 1.5);
+  leg = {'ESS'};
+  th = NaN;
+  if (isfield (rf, 'options') && isfield (rf.options, 'resample_threshold'))
+    th = rf.options.resample_threshold * N;
+  end
+  if (isfinite (th))
+    hs(end + 1) = plot ([t(1), t(end)], [th, th], '--', 'color', [0.4 0.4 0.4]);
+    leg{end + 1} = 'resampling threshold';
+  end
+  r = logical (rf.resampled(:)');
+  if (any (r))
+    hs(end + 1) = plot (t(r), rf.ess(r), 'v', 'color', palette ('mark'), ...
+                        'markerfacecolor', palette ('mark'), 'markersize', 6);
+    leg{end + 1} = 'resampled';
+  end
+  if (isfield (rf, 'degenerate') && any (rf.degenerate))
+    d = logical (rf.degenerate(:)');
+    hs(end + 1) = plot (t(d), rf.ess(d), 'x', 'color', palette ('truth'), 'markersize', 8);
+    leg{end + 1} = 'degenerate';
+  end
+  hold off;
+  tidy_axes ('on');
+  ylim ([0, 1.05 * N]);
+  xlabel (xlab);
+  ylabel (sprintf ('effective sample size (of %d members)', N));
+  title (sprintf ('ESS over time (%s, %d of %d cycles resampled)', ...
+                  rf.method_label, sum (r), numel (t)), 'interpreter', 'none');
+  legend (hs, leg, 'location', 'northeastoutside');
+  save_figure (h, f);
+end
+
+function param_chart (f, tk, rf, idx, bands, truth, opts)
+  p = numel (rf.param_names);
+  h = new_figure (tk, [800, 160 + 240 * p]);
+  t = rf.times;
+  for k = 1:p
+    subplot (p, 1, k);
+    hold on;
+    if (bands.outer)
+      Q = reshape (rf.params.quantiles(k, :, :), numel (rf.quantile_levels), []);
+      band (t, Q(idx.q05, :), Q(idx.q95, :), palette ('outer'));
+    end
+    plot (t, rf.params.mean(k, :), '-', 'color', palette ('line'), 'linewidth', 2);
+    if (~isempty (truth) && isfield (truth, 'params') && numel (truth.params) == p)
+      plot ([t(1), t(end)], truth.params(k) * [1 1], '-', 'color', palette ('truth'), ...
+            'linewidth', 1.5);
+    end
+    hold off;
+    tidy_axes ('on');
+    ylabel (label (rf.param_names{k}, opts));
+    if (k == 1)
+      if (bands.outer)
+        what = 'mean (line) and 90% band';
+      else
+        what = 'mean (no 90% band recorded)';
+      end
+      title (sprintf ('parameter trajectories: %s', what));
+    end
+    if (k == p)
+      xlabel (time_label (opts));
+    end
+  end
+  save_figure (h, f);
+end
+
+function rank_chart (f, tk, counts)
+  counts = counts(:)';
+  K = numel (counts);
+  h = new_figure (tk, [700 400]);
+  bar (1:K, counts, 1, 'facecolor', palette ('inner'), 'edgecolor', palette ('line'));
+  hold on;
+  flat = sum (counts) / K;
+  plot ([0.5, K + 0.5], [flat, flat], '--', 'color', palette ('obs'));
+  hold off;
+  xlim ([0.5, K + 0.5]);
+  tidy_axes ('off');
+  xlabel (sprintf ('rank of the observation among the members (1 .. %d)', K));
+  ylabel ('count');
+  title (sprintf ('rank histogram (%d observations; dashed: flat)', sum (counts)));
+  save_figure (h, f);
+end
+
+function [tt, yt] = truth_of (truth, name, k, n, times)
+  tt = [];
+  yt = [];
+  if (isempty (truth))
+    return;
+  end
+  if (k <= n)
+    tt = truth.times(:)';
+    yt = truth.X(k, :);
+  elseif (isfield (truth, 'params') && numel (truth.params) >= k - n)
+    tt = [times(1), times(end)];
+    yt = truth.params(k - n) * [1 1];
+  end
+end
+
+function [to, yo] = obs_of (obs, name)
+  to = [];
+  yo = [];
+  if (isempty (obs))
+    return;
+  end
+  v = obs.variable;
+  if (ischar (v))
+    v = {v};
+  end
+  sel = strcmp (v(:), name) & isfinite (obs.value(:));
+  to = obs.time(sel);
+  to = to(:)';
+  yo = obs.value(sel);
+  yo = yo(:)';
+end
+
+function s = label (name, opts)
+  % axis labels are read as TeX (units such as m^3/s): keep the name literal
+  s = strrep (name, '_', '\_');
+  if (isfield (opts.units, name) && ~isempty (opts.units.(name)))
+    s = sprintf ('%s (%s)', s, opts.units.(name));
+  end
+end
+
+function s = time_label (opts)
+  s = 'time';
+  if (~isempty (opts.time_unit))
+    s = sprintf ('time (%s)', opts.time_unit);
+  end
+end
+
+function s = safe_name (name)
+  s = regexprep (name, '[^A-Za-z0-9_.-]', '_');
+end
+
+function s = unique_name (s, used)
+  base = s;
+  k = 1;
+  while (any (strcmp (s, used)))
+    k = k + 1;
+    s = sprintf ('%s_%d', base, k);
+  end
+end
+
+function s = qname (p)
+  s = sprintf ('q%02d', round (100 * p));
+  if (abs (100 * p - round (100 * p)) > 1e-9)
+    s = sprintf ('q%s', regexprep (sprintf ('%.6g', 100 * p), '\.', '_'));
+  end
+end
+
+function write_series (f, rf, names, n)
+  lv = rf.quantile_levels(:)';
+  T = numel (rf.times);
+  nq = numel (lv);
+  head = {'time'};
+  cols = rf.times(:);
+  for k = 1:numel (names)
+    if (k <= n)
+      M = rf.states.mean(k, :);
+      Q = reshape (rf.states.quantiles(k, :, :), nq, T);
+    else
+      M = rf.params.mean(k - n, :);
+      Q = reshape (rf.params.quantiles(k - n, :, :), nq, T);
+    end
+    head{end + 1} = [safe_name(names{k}), '_mean'];
+    cols = [cols, M(:)];
+    for j = 1:nq
+      head{end + 1} = [safe_name(names{k}), '_', qname(lv(j))];
+      cols = [cols, Q(j, :)'];
+    end
+  end
+  head = [head, {'ess', 'resampled'}];
+  cols = [cols, rf.ess(:), double(rf.resampled(:))];
+  fid = open_file (f);
+  fprintf (fid, '%s\n', strjoin (head, ','));
+  fmt = [strjoin(repmat ({'%.10g'}, 1, columns (cols)), ','), '\n'];
+  fprintf (fid, fmt, cols');
+  fclose (fid);
+end
+
+function write_final (f, rf, names, n, idx)
+  fid = open_file (f);
+  fprintf (fid, 'variable,kind,mean,lower90,upper90\n');
+  for k = 1:numel (names)
+    [m, lo, hi] = final_of (rf, k, n, idx);
+    if (k <= n)
+      kind = 'state';
+    else
+      kind = 'parameter';
+    end
+    fprintf (fid, '%s,%s,%.10g,%.10g,%.10g\n', names{k}, kind, m, lo, hi);
+  end
+  fclose (fid);
+end
+
+function [m, lo, hi] = final_of (rf, k, n, idx)
+  lo = NaN;
+  hi = NaN;
+  if (k <= n)
+    m = rf.states.mean(k, end);
+    Q = rf.states.quantiles(k, :, end);
+  else
+    m = rf.params.mean(k - n, end);
+    Q = rf.params.quantiles(k - n, :, end);
+  end
+  if (~isempty (idx.q05) && ~isempty (idx.q95))
+    lo = Q(idx.q05);
+    hi = Q(idx.q95);
+  end
+end
+
+function fid = open_file (f)
+  [fid, msg] = fopen (f, 'w');
+  if (fid < 0)
+    error ('sluice:report:badoutdir', 'cannot write %s: %s', f, msg);
+  end
+end
+
+function write_text (f, rf, opts, bands, tk, scores, have_obs, have_truth)
+  fid = open_file (f);
+  heading = opts.title;
+  if (isempty (heading) && isfield (rf, 'model'))
+    heading = sprintf ('model %s', rf.model);
+  end
+  fprintf (fid, 'Report of a filter run: %s\n\n', heading);
+  fprintf (fid, 'method:              %s\n', rf.method_label);
+  fprintf (fid, 'members:             %d\n', rf.members);
+  if (isfield (rf, 'seed'))
+    fprintf (fid, 'seed:                %.17g\n', rf.seed);
+  end
+  t = rf.times;
+  fprintf (fid, 'cycles:              %d, times %g to %g\n', numel (t), t(1), t(end));
+  if (isfield (rf, 'log_evidence'))
+    fprintf (fid, 'log-evidence:        %.10g\n', rf.log_evidence);
+  end
+  if (isfield (rf, 'skipped'))
+    fprintf (fid, 'skipped (missing) observations: %d\n', sum (rf.skipped(:)));
+  end
+  if (isfield (rf, 'nonfinite'))
+    nf = rf.nonfinite(:);
+    fprintf (fid, 'non-finite members:  %d at most in one cycle, in %d cycle(s)\n', ...
+             max ([0; nf]), sum (nf > 0));
+  end
+  if (isfield (rf, 'degenerate'))
+    fprintf (fid, 'degenerate cycles:   %d\n', sum (rf.degenerate(:)));
+  end
+  fprintf (fid, 'resampled cycles:    %d of %d\n', sum (rf.resampled(:)), numel (t));
+  fprintf (fid, 'quantile levels:     %s\n', sprintf ('%g ', rf.quantile_levels));
+
+  fprintf (fid, '\nFigures (drawn with the %s graphics toolkit):\n', tk);
+  fprintf (fid, '  fan charts: median line%s%s%s', ...
+           ifelse (bands.inner, ', 50% band', ''), ...
+           ifelse (bands.outer, ', 90% band', ''), ...
+           ifelse (have_obs, ', observations as points', ''));
+  fprintf (fid, '%s\n', ifelse (have_truth, ', truth as a red line', ''));
+  if (~bands.median)
+    fprintf (fid, '  no 0.5 quantile was recorded: the fan charts show the mean instead of the median\n');
+  end
+  if (~bands.inner)
+    fprintf (fid, '  the 50%% band is not drawn: the run did not record the 0.25 and 0.75 quantiles\n');
+  end
+  if (~bands.outer)
+    fprintf (fid, '  the 90%% band is not drawn: the run did not record the 0.05 and 0.95 quantiles\n');
+  end
+  if (~bands.inner || ~bands.outer || ~bands.median)
+    fprintf (fid, '  (run sluice.filter with ''quantiles'', [0.05 0.25 0.5 0.75 0.95] for every band)\n');
+  end
+
+  p = numel (rf.param_names);
+  n = numel (rf.state_names);
+  idx = struct ('q05', level (rf.quantile_levels(:)', 0.05), ...
+                'q95', level (rf.quantile_levels(:)', 0.95));
+  if (p > 0)
+    fprintf (fid, '\nFinal parameters (mean, 90%% interval):\n');
+    for k = 1:p
+      [m, lo, hi] = final_of (rf, n + k, n, idx);
+      if (isnan (lo))
+        fprintf (fid, '  %-12s %.6g  (no 90%% interval recorded)\n', rf.param_names{k}, m);
+      else
+        fprintf (fid, '  %-12s %.6g  [%.6g, %.6g]\n', rf.param_names{k}, m, lo, hi);
+      end
+    end
+  else
+    fprintf (fid, '\nThe model has no parameters.\n');
+  end
+  fprintf (fid, '\nFinal states (mean, 90%% interval):\n');
+  for k = 1:n
+    [m, lo, hi] = final_of (rf, k, n, idx);
+    fprintf (fid, '  %-12s %.6g  [%.6g, %.6g]\n', rf.state_names{k}, m, lo, hi);
+  end
+  if (~isempty (scores) && isfield (scores, 'rmse'))
+    fprintf (fid, '\nScores against the truth:\n');
+    fprintf (fid, '  RMSE %.6g, spread %.6g', mean (scores.rmse(:)), mean (scores.spread(:)));
+    if (isfield (scores, 'openloop_rmse'))
+      fprintf (fid, '; open loop: RMSE %.6g, spread %.6g', ...
+               mean (scores.openloop_rmse(:)), mean (scores.openloop_spread(:)));
+    end
+    fprintf (fid, '\n');
+  end
+  fprintf (fid, ['\nThis report supports studies of flood risk. It is not a flood warning ', ...
+                 'and not a basis for the design of defences; follow local codes and ', ...
+                 'licensed engineering practice.\n']);
+  fclose (fid);
+end
+
+function s = ifelse (c, a, b)
+  if (c)
+    s = a;
+  else
+    s = b;
+  end
+end
+
+%!error <Invalid call> sluice.report ()
+%!error id=sluice:report:badresult sluice.report (1)
+%!error id=sluice:report:badresult sluice.report (struct ('filter', 1))
+%!error id=sluice:report:badoutdir sluice.report (struct ('times', 1, 'state_names', {{}}, 'param_names', {{}}, 'states', 1, 'params', 1, 'quantile_levels', 0.5, 'ess', 1, 'resampled', false, 'members', 1), 'outdir', 7)

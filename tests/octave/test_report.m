@@ -1,0 +1,120 @@
+% Tests of sluice.report: the files of a report and its errors.
+
+%!function s = fgetl_first (f)
+%! fid = fopen (f, 'r');
+%! s = fgetl (fid);
+%! fclose (fid);
+%!endfunction
+
+%!shared res, obs, dir0
+%! m = sluice.model ('linear', 'A', 0.9, 'Q', 0.1, 'states', {'level'});
+%! T = 25;
+%! obs = struct ('time', (1:T)', 'variable', {repmat({'level'}, T, 1)}, ...
+%!               'value', sin ((1:T)' / 4) + 0.3 * cos ((1:T)' * 1.7), ...
+%!               'sigma', 0.4 * ones (T, 1));
+%! obs.value(7) = NaN;
+%! res = sluice.filter (m, [], obs, 'members', 200, 'seed', 11, ...
+%!                      'quantiles', [0.05 0.25 0.5 0.75 0.95], 'progress', false);
+%! dir0 = tempname ();
+
+%!test
+%! d = dir0;
+%! unwind_protect
+%!   files = sluice.report (res, 'outdir', d, 'obs', obs, 'units', struct ('level', 'm'), ...
+%!                          'rank', [4 6 5 7 3]);
+%!   names = {'fan_level.png', 'ess.png', 'rank.png', 'summary.csv', 'final.csv', 'summary.txt'};
+%!   assert (sort (cellfun (@(f) [fliplr(strtok (fliplr (f), filesep))], files, ...
+%!                          'UniformOutput', false)), sort (names(:)));
+%!   for k = 1:numel (names)
+%!     s = dir (fullfile (d, names{k}));
+%!     assert (numel (s), 1);
+%!     assert (s.bytes > 0);
+%!   end
+%!   % a PNG starts with the signature 137 'PNG' (PNG specification, section 5.2)
+%!   fid = fopen (fullfile (d, 'fan_level.png'), 'r');
+%!   sig = fread (fid, 4)';
+%!   fclose (fid);
+%!   assert (sig, [137 80 78 71]);
+%!   txt = fileread (fullfile (d, 'summary.txt'));
+%!   assert (~isempty (strfind (txt, ['This report supports studies of flood risk. ', ...
+%!     'It is not a flood warning and not a basis for the design of defences; ', ...
+%!     'follow local codes and licensed engineering practice.'])));
+%!   assert (~isempty (strfind (txt, 'members:             200')));
+%!   assert (~isempty (strfind (txt, 'skipped (missing) observations: 1')));
+%!   % one row per cycle after the header: time, mean and 5 quantiles, ess, resampled
+%!   C = dlmread (fullfile (d, 'summary.csv'), ',', 1, 0);
+%!   assert (size (C), [numel(res.times), 1 + 6 + 2]);
+%!   assert (C(:, 1), res.times(:), 1e-9);
+%!   assert (C(:, 2), res.states.mean(:), 1e-8 * max (1, max (abs (res.states.mean))));
+%!   assert (C(:, 4)', reshape (res.states.quantiles(1, 2, :), 1, []), 1e-8);
+%!   assert (C(:, 8), res.ess(:), 1e-6);
+%!   C2 = csvread (fullfile (d, 'summary.csv'), 1, 0);
+%!   assert (C2, C);
+%!   head = strtrim (fgetl_first (fullfile (d, 'summary.csv')));
+%!   assert (head, 'time,level_mean,level_q05,level_q25,level_q50,level_q75,level_q95,ess,resampled');
+%! unwind_protect_cleanup
+%!   if (exist (d, 'dir'))
+%!     confirm_recursive_rmdir (false, 'local');
+%!     rmdir (d, 's');
+%!   end
+%! end_unwind_protect
+%! assert (~exist (d, 'dir'));
+
+%!test
+%! % fewer quantile levels: the missing 50% band is said in the summary
+%! m = sluice.model ('linear', 'A', 0.9, 'Q', 0.1);
+%! o = struct ('time', (1:6)', 'variable', {repmat({'x1'}, 6, 1)}, ...
+%!             'value', [0.3; -0.2; 0.1; 0.5; 0.2; -0.1], 'sigma', 0.5 * ones (6, 1));
+%! r = sluice.filter (m, [], o, 'members', 50, 'seed', 2, 'progress', false);
+%! d = tempname ();
+%! unwind_protect
+%!   files = sluice.report (r, struct ('outdir', d));
+%!   assert (numel (files), 5);
+%!   txt = fileread (fullfile (d, 'summary.txt'));
+%!   assert (~isempty (strfind (txt, 'the 50% band is not drawn')));
+%!   C = csvread (fullfile (d, 'summary.csv'), 1, 0);
+%!   assert (rows (C), 6);
+%! unwind_protect_cleanup
+%!   if (exist (d, 'dir'))
+%!     confirm_recursive_rmdir (false, 'local');
+%!     rmdir (d, 's');
+%!   end
+%! end_unwind_protect
+
+%!test
+%! % an outdir that is a plain file, and one that cannot be created
+%! f = tempname ();
+%! fid = fopen (f, 'w');
+%! fputs (fid, 'not a directory');
+%! fclose (fid);
+%! unwind_protect
+%!   id = '';
+%!   try
+%!     sluice.report (res, 'outdir', f);
+%!   catch err
+%!     id = err.identifier;
+%!   end
+%!   assert (id, 'sluice:report:badoutdir');
+%!   id = '';
+%!   try
+%!     sluice.report (res, 'outdir', fullfile (f, 'sub'));
+%!   catch err
+%!     id = err.identifier;
+%!   end
+%!   assert (id, 'sluice:report:badoutdir');
+%!   assert (~exist (fullfile (f, 'sub'), 'dir'));
+%! unwind_protect_cleanup
+%!   delete (f);
+%! end_unwind_protect
+
+%!error <Invalid call> sluice.report ()
+%!error id=sluice:report:badresult sluice.report (42)
+%!error id=sluice:report:badresult sluice.report (struct ('times', 1:3))
+%!error id=sluice:report:badresult sluice.report ({res})
+%!error id=sluice:report:badoutdir sluice.report (res, 'outdir', 3)
+%!error id=sluice:report:badoutdir sluice.report (res, 'outdir', '')
+%!error id=sluice:report:badoption sluice.report (res, 'colour', 'blue')
+%!error id=sluice:report:badoption sluice.report (res, 'outdir')
+%!error id=sluice:report:badoption sluice.report (res, 'rank', [1 NaN])
+%!error id=sluice:report:badoption sluice.report (res, 'truth', struct ('times', 1:3, 'X', ones (2, 3)))
+%!error id=sluice:report:badoption sluice.report (res, 'obs', struct ('time', 1))
