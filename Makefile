@@ -98,7 +98,7 @@ check-asan: | $(DEPS)
 	@ASAN_OPTIONS=detect_leaks=1 bash tests/run_all.sh build-asan none
 
 demo: all
-	$(OCTAVE) --no-gui --quiet --eval "warning('off', 'Octave:shadowed-function'); addpath('$(CURDIR)/m'); addpath('$(CURDIR)/demos'); demo_river_town"
+	$(OCTAVE) --no-gui --quiet --eval "warning('off', 'Octave:shadowed-function'); addpath('$(CURDIR)/m'); addpath('$(CURDIR)/demos'); demo_flood_town; demo_river_town"
 
 bench: all
 	$(OCTAVE) --no-gui --quiet --eval "warning('off', 'Octave:shadowed-function'); addpath('$(CURDIR)/m'); addpath('$(CURDIR)/tests/bench'); run_benchmarks"

@@ -89,7 +89,7 @@ static size_t layout(const sl_pf_config *cfg, unsigned char *base,
     carve(base, &off, rws * 8, (void **)&b->rwork);
     carve(base, &off, nthr * b->mwork_per * 8, (void **)&b->mwork);
     carve(base, &off, nthr * b->qwork_per * 8, (void **)&b->qwork);
-    carve(base, &off, p * 8, (void **)&b->lw_mean);
+    carve(base, &off, 2 * p * 8, (void **)&b->lw_mean); /* means, spread flags */
     carve(base, &off, p * p * 8, (void **)&b->lw_cov);
     carve(base, &off, p * p * 8, (void **)&b->lw_chol);
     carve(base, &off, N * 4, (void **)&b->anc);
@@ -436,6 +436,15 @@ static void move_params(const sl_pf_config *cfg, pf_buffers *b, double *Z,
             for (l = 0; l < i; l++)
                 V[l + i * p] = V[i + l * p];
         chol_psd(p, V, b->lw_chol);
+        /* which parameters have any spread at all (the same value in every
+         * member: held fixed, exactly, rather than moved by rounding) */
+        for (i = 0; i < p; i++) {
+            double z0 = Z[i], spread = 0.0;
+            for (j = 0; j < N && spread == 0.0; j++)
+                if (w[j] > 0 && Z[i + j * p] != z0)
+                    spread = 1.0;
+            m[p + i] = spread;
+        }
     }
 #pragma omp parallel for num_threads(b->nt) schedule(static) private(i, l)
     for (j = 0; j < N; j++) {
@@ -450,7 +459,8 @@ static void move_params(const sl_pf_config *cfg, pf_buffers *b, double *Z,
             size_t i0;
             double *m = b->lw_mean;
             for (i = 0; i < p; i++)
-                z[i] = a * z[i] + (1.0 - a) * m[i];
+                if (b->lw_mean[p + i] != 0) /* a parameter without spread stays put */
+                    z[i] = a * z[i] + (1.0 - a) * m[i];
             for (i0 = 0; i0 < p; i0 += 64) {
                 size_t nb = p - i0 < 64 ? p - i0 : 64;
                 for (l = 0; l < nb; l++)

@@ -59,6 +59,10 @@
 % unit of time for the axis labels (default none).
 % @item title
 % a heading for the summary (default the model's name).
+% @item log_scale
+% cellstr of variables whose fan chart is drawn on a logarithmic axis
+% (for quantities that grow by orders of magnitude, such as settlement
+% size).
 % @end table
 %
 % @var{files} is a cellstr of the files written.
@@ -104,7 +108,11 @@ function files = report (res, varargin)
   names = [rf.state_names(:); rf.param_names(:)];
   n = numel (rf.state_names);
   used = {};
+  moving = varying_params (rf);
   for k = 1:numel (names)
+    if (k > n && ~moving(k - n))
+      continue;   % a parameter held fixed has nothing to chart
+    end
     if (k <= n)
       M = rf.states.mean(k, :);
       Q = reshape (rf.states.quantiles(k, :, :), numel (lv), []);
@@ -118,7 +126,8 @@ function files = report (res, varargin)
     used{end + 1} = base;
     f = fullfile (outdir, [base, '.png']);
     fan_chart (f, toolkit, rf.times, M, Q, idx, bands, to, yo, tt, yt, ...
-               names{k}, label (names{k}, opts), time_label (opts), k > n);
+               names{k}, label (names{k}, opts), time_label (opts), k > n, ...
+               any (strcmp (names{k}, opts.log_scale)));
     files{end + 1} = f;
   end
 
@@ -126,7 +135,7 @@ function files = report (res, varargin)
   ess_chart (f, toolkit, rf, time_label (opts));
   files{end + 1} = f;
 
-  if (~isempty (rf.param_names))
+  if (any (moving))
     f = fullfile (outdir, 'params.png');
     param_chart (f, toolkit, rf, idx, bands, truth, opts);
     files{end + 1} = f;
@@ -152,7 +161,7 @@ end
 
 function opts = parse_options (args)
   opts = struct ('outdir', 'out/report', 'obs', [], 'truth', [], 'rank', [], ...
-                 'units', struct (), 'time_unit', '', 'title', '');
+                 'units', struct (), 'time_unit', '', 'title', '', 'log_scale', {{}});
   if (numel (args) == 1 && isstruct (args{1}) && isscalar (args{1}))
     given = args{1};
     f = fieldnames (given);
@@ -191,6 +200,12 @@ function opts = parse_options (args)
   end
   if (~ischar (opts.time_unit))
     error ('sluice:report:badoption', 'time_unit must be a string');
+  end
+  if (ischar (opts.log_scale))
+    opts.log_scale = {opts.log_scale};
+  end
+  if (~iscellstr (opts.log_scale))
+    error ('sluice:report:badoption', 'log_scale must be a cellstr of variable names');
   end
   if (~ischar (opts.title))
     error ('sluice:report:badoption', 'title must be a string');
@@ -354,7 +369,7 @@ function hb = band (t, lo, hi, c)
   hb = fill ([t, fliplr(t)], [lo, fliplr(hi)], c, 'edgecolor', c);
 end
 
-function fan_chart (f, tk, t, M, Q, idx, bands, to, yo, tt, yt, name, ylab, xlab, is_param)
+function fan_chart (f, tk, t, M, Q, idx, bands, to, yo, tt, yt, name, ylab, xlab, is_param, logy)
   h = new_figure (tk, [800 450]);
   hold on;
   hs = [];
@@ -387,6 +402,9 @@ function fan_chart (f, tk, t, M, Q, idx, bands, to, yo, tt, yt, name, ylab, xlab
   end
   hold off;
   tidy_axes ('on');
+  if (logy)
+    set (gca (), 'yscale', 'log');
+  end
   xlabel (xlab);
   ylabel (ylab);
   if (is_param)
@@ -436,26 +454,38 @@ function ess_chart (f, tk, rf, xlab)
   save_figure (h, f);
 end
 
-function param_chart (f, tk, rf, idx, bands, truth, opts)
+function moving = varying_params (rf)
+  % parameters whose ensemble has any spread or change over the run
   p = numel (rf.param_names);
+  moving = false (p, 1);
+  for k = 1:p
+    v = [reshape(rf.params.quantiles(k, :, :), 1, []), rf.params.mean(k, :)];
+    moving(k) = max (v(:)) > min (v(:));
+  end
+end
+
+function param_chart (f, tk, rf, idx, bands, truth, opts)
+  ks = find (varying_params (rf))';
+  p = numel (ks);
   h = new_figure (tk, [800, 160 + 240 * p]);
   t = rf.times;
-  for k = 1:p
-    subplot (p, 1, k);
+  for j = 1:p
+    k = ks(j);
+    subplot (p, 1, j);
     hold on;
     if (bands.outer)
       Q = reshape (rf.params.quantiles(k, :, :), numel (rf.quantile_levels), []);
       band (t, Q(idx.q05, :), Q(idx.q95, :), palette ('outer'));
     end
     plot (t, rf.params.mean(k, :), '-', 'color', palette ('line'), 'linewidth', 2);
-    if (~isempty (truth) && isfield (truth, 'params') && numel (truth.params) == p)
+    if (~isempty (truth) && isfield (truth, 'params') && numel (truth.params) == numel (rf.param_names))
       plot ([t(1), t(end)], truth.params(k) * [1 1], '-', 'color', palette ('truth'), ...
             'linewidth', 1.5);
     end
     hold off;
     tidy_axes ('on');
     ylabel (label (rf.param_names{k}, opts));
-    if (k == 1)
+    if (j == 1)
       if (bands.outer)
         what = 'mean (line) and 90% band';
       else
@@ -463,7 +493,7 @@ function param_chart (f, tk, rf, idx, bands, truth, opts)
       end
       title (sprintf ('parameter trajectories: %s', what));
     end
-    if (k == p)
+    if (j == p)
       xlabel (time_label (opts));
     end
   end
