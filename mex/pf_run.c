@@ -82,7 +82,8 @@ void mexFunction(int nlhs, mxArray *plhs[], int nrhs, const mxArray *prhs[])
     static const char *const move_names[] = {"fixed", "random_walk", "liu_west"};
     static const char *out_names[] = {
         "mean", "quantiles", "ess", "logz", "resampled", "degenerate",
-        "skipped", "nonfinite", "inflation", "floored", "log_evidence", "steps", "X", "P", "w",
+        "skipped", "nonfinite", "inflation", "floored", "forecast_mean", "log_evidence",
+        "steps", "X", "P", "w",
         "history_X", "history_P", "history_w", "history_ancestors"};
     const mxArray *c;
     sl_model model;
@@ -363,6 +364,12 @@ void mexFunction(int nlhs, mxArray *plhs[], int nrhs, const mxArray *prhs[])
                 memset(out.mean, 0, v * T * sizeof(double));
             out.quant = mxGetDoubles(quant);
             mxSetField(res, 0, "mean", mean);
+            if (!cfg.no_summary) {
+                mxArray *fm = slm_create(FN, v, T);
+                out.fmean = mxGetDoubles(fm);
+                memset(out.fmean, 0, v * T * sizeof(double));
+                mxSetField(res, 0, "forecast_mean", fm);
+            }
             mxSetField(res, 0, "quantiles", quant);
             mxSetField(res, 0, "w", wa);
         }

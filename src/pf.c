@@ -554,6 +554,29 @@ static int has_nonfinite(const double *x, size_t n)
     return 0;
 }
 
+/* Weighted means of the living members before the update: the forecast. */
+static void forecast_mean(const sl_pf_config *cfg, const unsigned char *dead,
+                          const double *X, const double *P, const double *w,
+                          double *out)
+{
+    const size_t N = cfg->N, n = cfg->model->n_state, p = cfg->model->n_param;
+    double W = 0.0;
+    size_t i, j;
+    for (i = 0; i < n + p; i++)
+        out[i] = 0.0;
+    for (j = 0; j < N; j++) {
+        if (dead[j] || !(w[j] > 0))
+            continue;
+        W += w[j];
+        for (i = 0; i < n; i++)
+            out[i] += w[j] * X[i + j * n];
+        for (i = 0; i < p; i++)
+            out[n + i] += w[j] * P[i + j * p];
+    }
+    for (i = 0; i < n + p; i++)
+        out[i] = W > 0 ? out[i] / W : (double)NAN;
+}
+
 /* The ensemble Kalman analysis of cycle k: live members only, observed
  * rows only, states and transformed parameters together. */
 static sl_status enkf_update(const sl_pf_config *cfg, pf_buffers *b, size_t k,
@@ -772,6 +795,8 @@ sl_status sl_pf_run(const sl_pf_config *cfg, double *X, double *P, double *w,
             }
         }
 
+        if (out->fmean != NULL)
+            forecast_mean(cfg, b.dead[cur], Xc, Pc, w, out->fmean + k * (n + p));
         if (cfg->enkf != NULL) {
             /* ensemble Kalman: the analysis moves the members; the living
              * ones keep equal weights, the dead are replaced below */

@@ -106,6 +106,8 @@ typedef struct {
     double *degenerate;  /* T: 1 if every member had zero likelihood */
     double *skipped;     /* T: observations skipped as missing */
     double *nonfinite;   /* T: members whose state was not finite */
+    double *fmean;       /* v x T forecast means (before the update, with
+                          * the weights the forecast carries), or NULL */
     double *inflation;   /* T: inflation used (ensemble Kalman), or NULL */
     double *floored;     /* T: eigenvalues floored (ensemble Kalman), or NULL */
     double *hist_X;      /* n x N x T states after the forecast */

@@ -117,7 +117,9 @@
 % (members whose state was not finite, given zero weight), @code{final}
 % (the last ensemble: @code{X}, @code{P}, @code{w}) and, when asked,
 % @code{history} (@code{X} n x N x T, @code{P}, @code{w} N x T,
-% @code{ancestors} N x T, 1-based).
+% @code{ancestors} N x T, 1-based). @code{forecast.mean} (n x T) and
+% @code{forecast.params} are the means before each update (the forecast),
+% for innovation statistics (@code{sluice.scores}).
 %
 % @seealso{sluice.model, sluice.prior, sluice.loglik, sluice.resample}
 % @end deftypefn
@@ -211,6 +213,8 @@ function res = filter (model, prior, obs, varargin)
   res.states = struct ('mean', r.mean(1:n, :), 'quantiles', r.quantiles(1:n, :, :));
   res.params = struct ('mean', r.mean(n+1:end, :), ...
                        'quantiles', r.quantiles(n+1:end, :, :));
+  res.forecast = struct ('mean', r.forecast_mean(1:n, :), ...
+                         'params', r.forecast_mean(n+1:end, :));
   res.ess = r.ess;
   res.resampled = logical (r.resampled);
   res.degenerate = logical (r.degenerate);

@@ -73,9 +73,8 @@
 % covariance): @code{ratio} is below 1 and @code{ratio_with_spread} is
 % near 1. The full check of Desroziers et al. (2005),
 % E[d_oa d_ob'] = R, needs the forecast (observation-minus-background)
-% residuals d_ob, which @code{sluice.filter} does not record; if @var{res}
-% carries a field @code{forecast} with a @code{mean} of the size of
-% @code{states.mean}, d_ob is formed from it and the innovation also gets
+% residuals d_ob: @code{sluice.filter} records the forecast means in
+% @code{res.forecast.mean}, from which d_ob is formed, and the innovation also gets
 % @code{d_ob}, @code{cross} (mean of d_oa d_ob) and @code{cross_ratio}
 % (cross / sigma2, near 1); otherwise those fields are empty
 % (@code{has_forecast} false).
