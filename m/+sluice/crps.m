@@ -31,47 +31,21 @@ function c = crps (X, y)
   if (nargin ~= 2)
     print_usage ();
   end
-  check_real (X, 1, 'X', false);
+  sluice.kernel.check_real (X, 1, 'X', false, 'crps');
   if (ndims (X) ~= 2)
     error ('sluice:crps:badsize', ...
-           'argument 1 (X): expected an m x N matrix, got %s', describe (X));
+           'argument 1 (X): expected an m x N matrix, got %s', sluice.kernel.describe (X));
   end
-  check_real (y, 2, 'y', true);
+  sluice.kernel.check_real (y, 2, 'y', true, 'crps');
   if (~isvector (y) || numel (y) ~= size (X, 1))
     error ('sluice:crps:badsize', ...
            'argument 2 (y): expected a vector of length %d (the rows of X), got %s', ...
-           size (X, 1), describe (y));
+           size (X, 1), sluice.kernel.describe (y));
   end
   c = sluice.kernel.scores ('crps', X, y(:));
 end
 
-function check_real (a, pos, name, allow_nan)
-  if (~isa (a, 'double') || ~isreal (a) || issparse (a))
-    error ('sluice:crps:badclass', ...
-           'argument %d (%s): expected a real double array, got %s', pos, name, describe (a));
-  end
-  if (isempty (a))
-    error ('sluice:crps:empty', 'argument %d (%s): must not be empty', pos, name);
-  end
-  if (~allow_nan && any (isnan (a(:))))
-    error ('sluice:crps:nonfinite', 'argument %d (%s): NaN is not allowed', pos, name);
-  end
-  if (any (isinf (a(:))))
-    error ('sluice:crps:nonfinite', 'argument %d (%s): Inf is not allowed', pos, name);
-  end
-end
 
-function s = describe (a)
-  d = sprintf ('%dx', size (a));
-  s = [d(1:end-1) ' '];
-  if (issparse (a))
-    s = [s 'sparse '];
-  end
-  if (isnumeric (a) && ~isreal (a))
-    s = [s 'complex '];
-  end
-  s = [s class(a)];
-end
 
 %!test
 %! % by hand: {1, 2, 4} at 3: E|X - y| = 4/3, E|X - X'|/2 = (2*6/9)/2 = 2/3,

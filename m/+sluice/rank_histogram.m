@@ -35,11 +35,11 @@ function [counts, edges, chi2, p] = rank_histogram (X, Y, varargin)
     print_usage ();
   end
   opts = sluice.kernel.name_value (struct ('seed', 0), varargin, 'rank_histogram');
-  check_real (X, 1, 'X', false);
-  check_real (Y, 2, 'Y', true);
+  sluice.kernel.check_real (X, 1, 'X', false, 'rank_histogram');
+  sluice.kernel.check_real (Y, 2, 'Y', true, 'rank_histogram');
   if (ndims (X) > 3)
     error ('sluice:rank_histogram:badsize', ...
-           'argument 1 (X): expected an m x N or m x N x T array, got %s', describe (X));
+           'argument 1 (X): expected an m x N or m x N x T array, got %s', sluice.kernel.describe (X));
   end
   m = size (X, 1);
   N = size (X, 2);
@@ -47,7 +47,7 @@ function [counts, edges, chi2, p] = rank_histogram (X, Y, varargin)
   if (ndims (Y) ~= 2 || size (Y, 1) ~= m || size (Y, 2) ~= T)
     error ('sluice:rank_histogram:badsize', ...
            'argument 2 (Y): expected %dx%d (rows of X by times of X), got %s', ...
-           m, T, describe (Y));
+           m, T, sluice.kernel.describe (Y));
   end
   seed = opts.seed;
   if (~isa (seed, 'double') || ~isreal (seed) || issparse (seed) || numel (seed) ~= 1 ...
@@ -73,33 +73,7 @@ function [counts, edges, chi2, p] = rank_histogram (X, Y, varargin)
   end
 end
 
-function check_real (a, pos, name, allow_nan)
-  if (~isa (a, 'double') || ~isreal (a) || issparse (a))
-    error ('sluice:rank_histogram:badclass', ...
-           'argument %d (%s): expected a real double array, got %s', pos, name, describe (a));
-  end
-  if (isempty (a))
-    error ('sluice:rank_histogram:empty', 'argument %d (%s): must not be empty', pos, name);
-  end
-  if (~allow_nan && any (isnan (a(:))))
-    error ('sluice:rank_histogram:nonfinite', 'argument %d (%s): NaN is not allowed', pos, name);
-  end
-  if (any (isinf (a(:))))
-    error ('sluice:rank_histogram:nonfinite', 'argument %d (%s): Inf is not allowed', pos, name);
-  end
-end
 
-function s = describe (a)
-  d = sprintf ('%dx', size (a));
-  s = [d(1:end-1) ' '];
-  if (issparse (a))
-    s = [s 'sparse '];
-  end
-  if (isnumeric (a) && ~isreal (a))
-    s = [s 'complex '];
-  end
-  s = [s class(a)];
-end
 
 %!test
 %! % exact ranks without ties: {1, 2, 4} at 3 -> 3, at 0 -> 1, at 5 -> 4
