@@ -141,6 +141,78 @@ void slm_handle_model_raise(const char *fn, const slm_handle_model *hm)
     slm_fail(fn, "modelfailed", "%s", hm->message);
 }
 
+void slm_handle_obs_init(slm_handle_obs *ho, const mxArray *funs,
+                         const mxArray *rows, size_t n, size_t p, size_t n_fun)
+{
+    memset(ho, 0, sizeof *ho);
+    ho->funs = funs;
+    ho->rows = rows;
+    ho->n = n;
+    ho->p = p;
+    ho->n_fun = n_fun;
+}
+
+sl_status slm_handle_obs_fn(void *ctx, double t, size_t N, const double *X,
+                            const double *P, double *Y, sl_error *err)
+{
+    slm_handle_obs *ho = (slm_handle_obs *)ctx;
+    mxArray *in[5], *res[3] = {NULL, NULL, NULL}, *trap;
+    sl_status st = SL_OK;
+    int k;
+    in[0] = (mxArray *)(uintptr_t)ho->funs;
+    in[1] = (mxArray *)(uintptr_t)ho->rows;
+    in[2] = mxCreateDoubleScalar(t);
+    in[3] = mxCreateUninitNumericMatrix(ho->n, N, mxDOUBLE_CLASS, mxREAL);
+    in[4] = mxCreateUninitNumericMatrix(ho->p, N, mxDOUBLE_CLASS, mxREAL);
+    memcpy(mxGetDoubles(in[3]), X, ho->n * N * sizeof(double));
+    if (ho->p)
+        memcpy(mxGetDoubles(in[4]), P, ho->p * N * sizeof(double));
+    trap = mexCallMATLABWithTrap(3, res, 5, in, "sluice.kernel.observe");
+    for (k = 2; k < 5; k++)
+        mxDestroyArray(in[k]);
+    ho->failed = 1;
+    if (trap != NULL) {
+        ho->interrupted = 1;
+        snprintf(ho->message, sizeof ho->message,
+                 "the observation operator was interrupted at t = %g", t);
+        return sl_fail(err, SL_EINTERRUPT, "interrupted", "%s", ho->message);
+    }
+    if (mxGetNumberOfElements(res[1]) > 0) {
+        char *msg = mxArrayToString(res[1]), *id = mxArrayToString(res[2]);
+        snprintf(ho->message, sizeof ho->message, "%s", msg ? msg : "");
+        snprintf(ho->identifier, sizeof ho->identifier, "%s", id ? id : "");
+        mxFree(msg);
+        mxFree(id);
+        st = sl_fail(err, SL_EMODEL, "operatorfailed", "%s", ho->message);
+    } else if (!mxIsDouble(res[0]) || mxIsComplex(res[0]) || mxIsSparse(res[0]) ||
+               mxGetNumberOfDimensions(res[0]) != 2 || mxGetM(res[0]) != ho->n_fun ||
+               mxGetN(res[0]) != N) {
+        char got[96];
+        slm_describe(res[0], got, sizeof got);
+        snprintf(ho->message, sizeof ho->message,
+                 "the observation operators must give a real double %lux%lu matrix, "
+                 "got %s at t = %g", (unsigned long)ho->n_fun, (unsigned long)N, got, t);
+        ho->identifier[0] = '\0';
+        st = sl_fail(err, SL_EMODEL, "badoperatoroutput", "%s", ho->message);
+    } else {
+        memcpy(Y, slm_doubles(res[0]), ho->n_fun * N * sizeof(double));
+        ho->failed = 0;
+    }
+    for (k = 0; k < 3; k++)
+        if (res[k] != NULL)
+            mxDestroyArray(res[k]);
+    return st;
+}
+
+void slm_handle_obs_raise(const char *fn, const slm_handle_obs *ho)
+{
+    if (ho->interrupted)
+        slm_fail(fn, "interrupted", "%s", ho->message);
+    if (ho->identifier[0] != '\0')
+        mexErrMsgIdAndTxt(ho->identifier, "%s", ho->message);
+    slm_fail(fn, "badoperatoroutput", "%s", ho->message);
+}
+
 static double now_seconds(void)
 {
     struct timespec ts;

@@ -39,6 +39,34 @@ void slm_handle_model_raise(const char *fn, const slm_handle_model *hm)
 #endif
     ;
 
+/* Observation operators written as Octave functions Y = h(t, X, P): a
+ * cell of handles, handle i giving rows(i) derived quantities of every
+ * member (stacked in order into n_fun rows), called through
+ * sluice.kernel.observe, which traps the user's error and checks sizes. */
+typedef struct {
+    const mxArray *funs, *rows;
+    size_t n, p, n_fun;
+    char message[900];
+    char identifier[128];
+    int interrupted, failed;
+} slm_handle_obs;
+
+void slm_handle_obs_init(slm_handle_obs *ho, const mxArray *funs,
+                         const mxArray *rows, size_t n, size_t p, size_t n_fun);
+
+/* The sl_obs_fn of the cycle; ctx is the slm_handle_obs. */
+sl_status slm_handle_obs_fn(void *ctx, double t, size_t N, const double *X,
+                            const double *P, double *Y, sl_error *err);
+
+/* Raise the failure the operator recorded (the user's identifier and
+ * message, sluice:<fn>:badoperatoroutput or sluice:<fn>:interrupted).
+ * Never returns. */
+void slm_handle_obs_raise(const char *fn, const slm_handle_obs *ho)
+#if defined(__GNUC__)
+    __attribute__((noreturn))
+#endif
+    ;
+
 /* Progress report and Ctrl-C check: at most every 0.1 s calls
  * sluice.kernel.progress(fraction, elapsed, show) with a trap; a trapped
  * error (an interrupt) makes the poll return non-zero. `mode`: 0 never

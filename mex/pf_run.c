@@ -84,11 +84,13 @@ void mexFunction(int nlhs, mxArray *plhs[], int nrhs, const mxArray *prhs[])
         "mean", "quantiles", "ess", "logz", "resampled", "degenerate",
         "skipped", "nonfinite", "inflation", "floored", "forecast_mean", "log_evidence",
         "steps", "X", "P", "w",
-        "history_X", "history_P", "history_w", "history_ancestors"};
+        "history_X", "history_P", "history_w", "history_ancestors",
+        "smooth_mean", "smooth_quantiles"};
     const mxArray *c;
     sl_model model;
     sl_linear lin;
     slm_handle_model hm;
+    slm_handle_obs ho;
     sl_def_model dm;
     sl_events events;
     sl_tolerance tol;
@@ -197,6 +199,33 @@ void mexFunction(int nlhs, mxArray *plhs[], int nrhs, const mxArray *prhs[])
     cfg.model = &model;
     cfg.N = N;
 
+    /* derived observables: a linear operator and Octave functions */
+    memset(&ho, 0, sizeof ho);
+    v = n + p;
+    if (slm_field(FN, c, "op_H", 0) != NULL && numel_field(c, "op_H") > 0) {
+        const mxArray *h = slm_field(FN, c, "op_H", 1);
+        cfg.n_lin = mxGetM(h);
+        cfg.H = fmat(c, "op_H", cfg.n_lin, v, 0);
+    }
+    if (slm_field(FN, c, "op_funs", 0) != NULL && numel_field(c, "op_funs") > 0) {
+        const mxArray *fs = slm_field(FN, c, "op_funs", 1), *rs = slm_field(FN, c, "op_rows", 1);
+        const double *rows = fmat(c, "op_rows", mxGetNumberOfElements(fs), 0, SLM_VECTOR);
+        size_t nf = 0;
+        if (!mxIsCell(fs))
+            slm_fail(FN, "badoperator", "op_funs must be a cell of function handles");
+        for (k = 0; k < mxGetNumberOfElements(fs); k++) {
+            if (!mxIsClass(mxGetCell(fs, k), "function_handle") || !(rows[k] >= 1) ||
+                rows[k] != floor(rows[k]) || rows[k] > 1e6)
+                slm_fail(FN, "badoperator", "operator %lu: expected a function handle and a "
+                         "row count", (unsigned long)(k + 1));
+            nf += (size_t)rows[k];
+        }
+        slm_handle_obs_init(&ho, fs, rs, n, p, nf);
+        cfg.n_fun = nf;
+        cfg.obs_fn = slm_handle_obs_fn;
+        cfg.obs_ctx = &ho;
+    }
+
     /* times and observations */
     cfg.t0 = fscalar(c, "t0");
     cfg.times = fmat(c, "times", 0, 0, SLM_VECTOR);
@@ -229,7 +258,8 @@ void mexFunction(int nlhs, mxArray *plhs[], int nrhs, const mxArray *prhs[])
                 slm_fail(FN, "badfamily", "observation %lu: unknown likelihood family '%s'",
                          (unsigned long)(k + 1), name);
             mxFree(name);
-            if (ovar[k] < 0 || ovar[k] >= (double)v || ovar[k] != floor(ovar[k]))
+            if (ovar[k] < 0 || ovar[k] >= (double)(v + cfg.n_lin + cfg.n_fun) ||
+                ovar[k] != floor(ovar[k]))
                 slm_fail(FN, "badobs", "observation %lu: bad variable index", (unsigned long)(k + 1));
             var[k] = (size_t)ovar[k];
         }
@@ -285,6 +315,8 @@ void mexFunction(int nlhs, mxArray *plhs[], int nrhs, const mxArray *prhs[])
     cfg.nq = numel_field(c, "probs");
     nq = cfg.nq;
     history = (int)slm_integer(FN, slm_field(FN, c, "history", 1), 1, "history", 0, 2);
+    if (slm_field(FN, c, "lag", 0) != NULL)
+        cfg.lag = (size_t)slm_integer(FN, slm_field(FN, c, "lag", 1), 1, "lag", 0, 4294967295.0);
     cfg.keep_history = history != 0;
     cfg.no_summary = history == 2; /* simulate and propagate read the states only */
     slm_poll_init(&poll, (int)slm_integer(FN, slm_field(FN, c, "progress", 1), 1, "progress", 0, 2));
@@ -389,6 +421,16 @@ void mexFunction(int nlhs, mxArray *plhs[], int nrhs, const mxArray *prhs[])
         ROWFIELD("inflation", out.inflation);
         ROWFIELD("floored", out.floored);
 #undef ROWFIELD
+        if (cfg.lag > 0) {
+            mwSize d3[3];
+            mxArray *sm = slm_create(FN, v, T), *sq;
+            d3[0] = v; d3[1] = nq; d3[2] = T;
+            sq = mxCreateNumericArray(3, d3, mxDOUBLE_CLASS, mxREAL);
+            out.smean = mxGetDoubles(sm);
+            out.squant = mxGetDoubles(sq);
+            mxSetField(res, 0, "smooth_mean", sm);
+            mxSetField(res, 0, "smooth_quantiles", sq);
+        }
         if (cfg.keep_history) {
             /* history 1: everything; 2: the states only (simulate, propagate) */
             mwSize d3[3];
@@ -417,6 +459,8 @@ void mexFunction(int nlhs, mxArray *plhs[], int nrhs, const mxArray *prhs[])
 
         if (sl_pf_run(&cfg, X, P, w, work, &out, &err) != SL_OK) {
             slm_poll_finish(&poll);
+            if (ho.failed && (err.status == SL_EMODEL || err.status == SL_EINTERRUPT))
+                slm_handle_obs_raise(FN, &ho);
             if (model.step != NULL && strcmp(kind, "handle") == 0 &&
                 (err.status == SL_EMODEL || (err.status == SL_EINTERRUPT && hm.interrupted)))
                 slm_handle_model_raise(FN, &hm);

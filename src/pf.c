@@ -20,7 +20,7 @@
 typedef struct {
     double *X[2], *Z[2], *P[2], *E[2]; /* ping-pong pairs for resampling */
     unsigned char *dead[2];
-    double *U, *u0, *Yhat, *ll, *logw, *lw, *rwork, *mwork, *qwork;
+    double *U, *u0, *Yhat, *Yfun, *ll, *logw, *lw, *rwork, *mwork, *qwork;
     /* ensemble Kalman analysis: augmented ensemble, compacted
      * observations and their positions, live members, the method's work */
     double *A, *Hc, *yc, *rc, *opos, *oc;
@@ -28,6 +28,11 @@ typedef struct {
     void *ework;
     double *lw_mean, *lw_cov, *lw_chol;
     uint32_t *anc;
+    /* fixed-lag smoothing: the window's slots (v x N each, slot of cycle
+     * s at win[s % nwin]), a spare slot for resampling, a buffer for the
+     * summaries, the state positions of the augmented rows */
+    double **win, *wspare, *wtmp, *spos;
+    size_t nwin;
     sl_error *terr;
     size_t mwork_per, qwork_per, m_max;
     int nt; /* threads for per-member loops: 1 for small ensembles */
@@ -65,7 +70,7 @@ static size_t layout(const sl_pf_config *cfg, unsigned char *base,
             m_max = m;
     }
     if (N > big / 8 || n > big / N / 8 || p > big / N / 8 ||
-        q > big / N / 8 || m_max > big / N / 8 || nthr > MAX_THREADS ||
+        q > big / N / 8 || m_max > big / N / 8 || cfg->n_fun > big / N / 8 || nthr > MAX_THREADS ||
         md->work > big / 8 / MAX_THREADS || rws > big / 8)
         return 0;
     b->m_max = m_max;
@@ -83,6 +88,7 @@ static size_t layout(const sl_pf_config *cfg, unsigned char *base,
     carve(base, &off, q * N * 8, (void **)&b->U);
     carve(base, &off, q * 8, (void **)&b->u0);
     carve(base, &off, m_max * N * 8, (void **)&b->Yhat);
+    carve(base, &off, cfg->obs_fn != NULL ? cfg->n_fun * N * 8 : 0, (void **)&b->Yfun);
     carve(base, &off, N * 8, (void **)&b->ll);
     carve(base, &off, N * 8, (void **)&b->logw);
     carve(base, &off, N * 8, (void **)&b->lw);
@@ -93,16 +99,29 @@ static size_t layout(const sl_pf_config *cfg, unsigned char *base,
     carve(base, &off, p * p * 8, (void **)&b->lw_cov);
     carve(base, &off, p * p * 8, (void **)&b->lw_chol);
     carve(base, &off, N * 4, (void **)&b->anc);
+    b->nwin = cfg->lag < cfg->T ? cfg->lag : cfg->T;
+    if (b->nwin > 0) {
+        if (b->nwin > big / 8 / N / (n + p + 1))
+            return 0;
+        carve(base, &off, (b->nwin + 1) * sizeof(double *), (void **)&b->win);
+        for (k = 0; k <= b->nwin; k++)
+            carve(base, &off, (n + p) * N * 8,
+                  base != NULL ? (void **)&b->win[k] : NULL);
+        if (base != NULL)
+            b->wspare = b->win[b->nwin];
+        carve(base, &off, (n + p) * N * 8, (void **)&b->wtmp);
+    }
     if (cfg->enkf != NULL) {
         /* sized for the configuration the cycle runs (enkf_update) */
         size_t dim = cfg->loc != NULL ? cfg->loc->dim : 0, ew;
         sl_enkf_config ec = *cfg->enkf;
         ec.threads = cfg->threads;
         ec.loc = cfg->loc;
-        ew = sl_enkf_workspace(&ec, n + p, N, m_max ? m_max : 1, 0);
+        ew = sl_enkf_workspace(&ec, (n + p) * (b->nwin + 1), N, m_max ? m_max : 1, 0);
         if (ew == 0 || dim > 2)
             return 0;
-        carve(base, &off, (n + p) * N * 8, (void **)&b->A);
+        carve(base, &off, (n + p) * (b->nwin + 1) * N * 8, (void **)&b->A);
+        carve(base, &off, (n + p) * (b->nwin + 1) * dim * 8, (void **)&b->spos);
         carve(base, &off, m_max * N * 8, (void **)&b->Hc);
         carve(base, &off, m_max * 8, (void **)&b->yc);
         carve(base, &off, m_max * 8, (void **)&b->rc);
@@ -174,12 +193,23 @@ sl_status sl_pf_check(const sl_pf_config *cfg, sl_error *err)
     if (cfg->obs_first[0] != 0)
         return sl_fail(err, SL_EINVAL, "badobs", "observation groups must start at 0");
     m = cfg->obs_first[cfg->T];
+    if (cfg->n_lin > 0 && cfg->H == NULL)
+        return sl_fail(err, SL_EINVAL, "badoperator", "the linear operator has no matrix");
+    for (k = 0; k < cfg->n_lin * v; k++)
+        if (!isfinite(cfg->H[k]))
+            return sl_fail(err, SL_EINVAL, "badoperator",
+                           "the linear operator has a non-finite entry (row %lu, column %lu)",
+                           (unsigned long)(k % cfg->n_lin + 1),
+                           (unsigned long)(k / cfg->n_lin + 1));
+    if (cfg->n_fun > 0 && cfg->obs_fn == NULL)
+        return sl_fail(err, SL_EINVAL, "badoperator", "the observation operator has no function");
     for (k = 0; k < m; k++)
-        if (cfg->var[k] >= v)
+        if (cfg->var[k] >= v + cfg->n_lin + cfg->n_fun)
             return sl_fail(err, SL_EINVAL, "badobs",
-                           "observation %lu refers to quantity %lu; the model has %lu",
+                           "observation %lu refers to quantity %lu; the model and its "
+                           "operators have %lu",
                            (unsigned long)(k + 1), (unsigned long)(cfg->var[k] + 1),
-                           (unsigned long)v);
+                           (unsigned long)(v + cfg->n_lin + cfg->n_fun));
     if (m > 0) {
         sl_status st = sl_loglik_check(m, cfg->y, cfg->sigma, cfg->aux,
                                        cfg->family, err);
@@ -475,18 +505,46 @@ static void move_params(const sl_pf_config *cfg, pf_buffers *b, double *Z,
     }
 }
 
-/* Predicted observations of cycle k rows r0..r1-1 into Yhat (m x N). */
-static void predict_obs(const sl_pf_config *cfg, pf_buffers *b, size_t r0,
-                        size_t m, const double *X, const double *P)
+/* Predicted observations of cycle k rows r0..r0+m-1 at time t into Yhat
+ * (m x N): states and parameters directly, linear rows by H, the rest
+ * from the operator function (called once, only when a row needs it). */
+static sl_status predict_obs(const sl_pf_config *cfg, pf_buffers *b, size_t r0,
+                             size_t m, double t, const double *X, const double *P,
+                             sl_error *err)
 {
     const size_t N = cfg->N, n = cfg->model->n_state, p = cfg->model->n_param;
+    const size_t v = n + p, nl = cfg->n_lin;
     size_t i, j;
+    for (i = 0; i < m; i++)
+        if (cfg->var[r0 + i] >= v + nl) {
+            sl_status st = cfg->obs_fn(cfg->obs_ctx, t, N, X, P, b->Yfun, err);
+            if (st != SL_OK)
+                return st;
+            break;
+        }
 #pragma omp parallel for num_threads(b->nt) schedule(static) private(i)
     for (j = 0; j < N; j++)
         for (i = 0; i < m; i++) {
-            size_t v = cfg->var[r0 + i];
-            b->Yhat[i + j * m] = v < n ? X[v + j * n] : P[(v - n) + j * p];
+            size_t r = cfg->var[r0 + i];
+            double y;
+            if (r < n) {
+                y = X[r + j * n];
+            } else if (r < v) {
+                y = P[(r - n) + j * p];
+            } else if (r < v + nl) {
+                const double *h = cfg->H + (r - v);
+                size_t l;
+                y = 0.0;
+                for (l = 0; l < n; l++)
+                    y += h[l * nl] * X[l + j * n];
+                for (l = 0; l < p; l++)
+                    y += h[(n + l) * nl] * P[l + j * p];
+            } else {
+                y = b->Yfun[(r - v - nl) + j * cfg->n_fun];
+            }
+            b->Yhat[i + j * m] = y;
         }
+    return SL_OK;
 }
 
 static void loglik_all(const sl_pf_config *cfg, pf_buffers *b, size_t r0,
@@ -579,15 +637,32 @@ static void forecast_mean(const sl_pf_config *cfg, const unsigned char *dead,
 
 /* The ensemble Kalman analysis of cycle k: live members only, observed
  * rows only, states and transformed parameters together. */
+/* Multiplicative inflation of the live members' rows r0 .. r0+rows-1 of
+ * an ld x L block about their mean. */
+static void inflate_rows(double *M, size_t ld, size_t r0, size_t rows,
+                         size_t L, double lambda)
+{
+    size_t i, jj;
+    for (i = r0; i < r0 + rows; i++) {
+        double mean = 0.0;
+        for (jj = 0; jj < L; jj++)
+            mean += M[i + jj * ld];
+        mean /= (double)L;
+        for (jj = 0; jj < L; jj++)
+            M[i + jj * ld] = mean + lambda * (M[i + jj * ld] - mean);
+    }
+}
+
 static sl_status enkf_update(const sl_pf_config *cfg, pf_buffers *b, size_t k,
                              size_t r0, size_t m, const unsigned char *dead,
                              double *X, double *Z, double *P, double *infl,
-                             sl_pf_output *out, int *degenerate,
+                             size_t nw, sl_pf_output *out, int *degenerate,
                              size_t *nskipped, sl_error *err)
 {
     const size_t N = cfg->N, n = cfg->model->n_state, p = cfg->model->n_param;
     const size_t v = n + p, dim = cfg->loc != NULL ? cfg->loc->dim : 0;
-    size_t L = 0, mk = 0, i, j, jj, d;
+    const size_t va = v * (nw + 1); /* rows of the augmented ensemble */
+    size_t L = 0, mk = 0, i, j, jj, d, s;
     sl_enkf_config ecfg = *cfg->enkf;
     sl_localization lc;
     sl_enkf_info info;
@@ -625,9 +700,13 @@ static sl_status enkf_update(const sl_pf_config *cfg, pf_buffers *b, size_t k,
         mk++;
     }
     for (jj = 0; jj < L; jj++) {
-        memcpy(b->A + jj * v, X + b->live[jj] * n, n * sizeof(double));
+        memcpy(b->A + jj * va, X + b->live[jj] * n, n * sizeof(double));
         if (p > 0)
-            memcpy(b->A + jj * v + n, Z + b->live[jj] * p, p * sizeof(double));
+            memcpy(b->A + jj * va + n, Z + b->live[jj] * p, p * sizeof(double));
+        /* the window: cycles k-1, k-2, ..., k-nw below the current rows */
+        for (s = 1; s <= nw; s++)
+            memcpy(b->A + jj * va + s * v, b->win[(k - s) % b->nwin] + b->live[jj] * v,
+                   v * sizeof(double));
     }
     if (cfg->adaptive_inflation) {
         /* variance inflation from the innovations: E[d'd] = lambda tr(HBH') + tr R */
@@ -662,28 +741,107 @@ static sl_status enkf_update(const sl_pf_config *cfg, pf_buffers *b, size_t k,
         lc = *cfg->loc;
         lc.obs_pos = b->opos;
         lc.obs_c = b->oc;
+        if (nw > 0) {
+            /* a row of the window sits where the state it copies sits */
+            for (d = 0; d < dim; d++)
+                for (s = 0; s <= nw; s++)
+                    memcpy(b->spos + d * va + s * v, cfg->loc->state_pos + d * v,
+                           v * sizeof(double));
+            lc.state_pos = b->spos;
+        }
         ecfg.loc = &lc;
     } else {
         ecfg.loc = NULL;
     }
-    memset(&info, 0, sizeof info);
-    st = sl_enkf_analysis(&ecfg, v, L, b->A, mk, b->Hc, b->yc, b->rc, 0, b->ework,
-                          &info, err);
+    if (nw > 0 && ecfg.inflation != 1.0) {
+        /* inflate the current ensemble and its predicted observations
+         * only: the window's past is not inflated again */
+        inflate_rows(b->A, va, 0, v, L, ecfg.inflation);
+        inflate_rows(b->Hc, mk, 0, mk, L, ecfg.inflation);
+    }
+    {
+        const double used = ecfg.inflation;
+        if (nw > 0)
+            ecfg.inflation = 1.0;
+        memset(&info, 0, sizeof info);
+        st = sl_enkf_analysis(&ecfg, va, L, b->A, mk, b->Hc, b->yc, b->rc, 0, b->ework,
+                              &info, err);
+        ecfg.inflation = used;
+    }
     if (st != SL_OK)
         return st;
     for (jj = 0; jj < L; jj++) {
         size_t jm = b->live[jj];
-        memcpy(X + jm * n, b->A + jj * v, n * sizeof(double));
+        memcpy(X + jm * n, b->A + jj * va, n * sizeof(double));
         for (i = 0; i < p; i++) {
-            Z[i + jm * p] = b->A[jj * v + n + i];
+            Z[i + jm * p] = b->A[jj * va + n + i];
             P[i + jm * p] = sl_transform_inverse(&cfg->ptrans[i], Z[i + jm * p]);
         }
+        for (s = 1; s <= nw; s++)
+            memcpy(b->win[(k - s) % b->nwin] + jm * v, b->A + jj * va + s * v,
+                   v * sizeof(double));
     }
     if (out->inflation != NULL)
         out->inflation[k] = ecfg.inflation;
     if (out->floored != NULL)
         out->floored[k] = (double)info.floored;
     return SL_OK;
+}
+
+/* Record the smoothed summary of cycle s from its window slot with the
+ * current weights (parameters back in natural units first). */
+static void window_emit(const sl_pf_config *cfg, pf_buffers *b, size_t s,
+                        const double *w, sl_pf_output *out)
+{
+    const size_t N = cfg->N, n = cfg->model->n_state, p = cfg->model->n_param;
+    const size_t v = n + p, nq = cfg->nq;
+    const double *slot = b->win[s % b->nwin];
+    size_t i, j;
+    long r;
+    memcpy(b->wtmp, slot, v * N * sizeof(double));
+    for (j = 0; j < N; j++)
+        for (i = 0; i < p; i++)
+            b->wtmp[n + i + j * v] = sl_transform_inverse(&cfg->ptrans[i], slot[n + i + j * v]);
+#pragma omp parallel for num_threads(b->nt) schedule(dynamic, 1)
+    for (r = 0; r < (long)v; r++) {
+        int tid = 0;
+#ifdef _OPENMP
+        tid = omp_get_thread_num();
+#endif
+        sl_weighted_summary(N, b->wtmp + r, v, w, nq, cfg->probs,
+                            out->smean + (size_t)r + s * v,
+                            out->squant + (size_t)r + s * v * nq, v,
+                            b->qwork + (size_t)tid * b->qwork_per);
+    }
+}
+
+/* Store cycle k's ensemble (states, transformed parameters) in its slot. */
+static void window_store(const sl_pf_config *cfg, pf_buffers *b, size_t k,
+                         const double *X, const double *Z)
+{
+    const size_t N = cfg->N, n = cfg->model->n_state, p = cfg->model->n_param;
+    double *slot = b->win[k % b->nwin];
+    size_t j;
+    for (j = 0; j < N; j++) {
+        memcpy(slot + j * (n + p), X + j * n, n * sizeof(double));
+        if (p > 0)
+            memcpy(slot + j * (n + p) + n, Z + j * p, p * sizeof(double));
+    }
+}
+
+/* Resample the window with the members: slot by slot into the spare. */
+static void window_gather(const sl_pf_config *cfg, pf_buffers *b, size_t k)
+{
+    const size_t N = cfg->N, v = cfg->model->n_state + cfg->model->n_param;
+    size_t s, filled = k + 1 < b->nwin ? k + 1 : b->nwin;
+    for (s = 0; s < filled; s++) {
+        size_t at = (k - s) % b->nwin;
+        double *t;
+        gather_cols(v, N, b->win[at], b->wspare, b->anc, b->nt);
+        t = b->win[at];
+        b->win[at] = b->wspare;
+        b->wspare = t;
+    }
 }
 
 sl_status sl_pf_run(const sl_pf_config *cfg, double *X, double *P, double *w,
@@ -801,10 +959,11 @@ sl_status sl_pf_run(const sl_pf_config *cfg, double *X, double *P, double *w,
             /* ensemble Kalman: the analysis moves the members; the living
              * ones keep equal weights, the dead are replaced below */
             size_t nlive = N - ndead;
-            if (m > 0)
-                predict_obs(cfg, &b, r0, m, Xc, Pc);
+            if (m > 0 && (st = predict_obs(cfg, &b, r0, m, tk, Xc, Pc, err)) != SL_OK)
+                return st;
             /* with no observation it records the inflation in force */
-            st = enkf_update(cfg, &b, k, r0, m, b.dead[cur], Xc, Zc, Pc, &infl, out,
+            st = enkf_update(cfg, &b, k, r0, m, b.dead[cur], Xc, Zc, Pc, &infl,
+                             b.nwin ? (k < b.nwin ? k : b.nwin) : 0, out,
                              &degenerate, &nskipped, err);
             if (st != SL_OK)
                 return st;
@@ -817,7 +976,8 @@ sl_status sl_pf_run(const sl_pf_config *cfg, double *X, double *P, double *w,
         /* weight: b.lw holds the members' normalised log-weights */
         nobs = 0;
         if (cfg->enkf == NULL && m > 0) {
-            predict_obs(cfg, &b, r0, m, Xc, Pc);
+            if ((st = predict_obs(cfg, &b, r0, m, tk, Xc, Pc, err)) != SL_OK)
+                return st;
             loglik_all(cfg, &b, r0, m, &nskipped);
             nobs = m - nskipped;
             if (nobs > 0)
@@ -885,6 +1045,20 @@ sl_status sl_pf_run(const sl_pf_config *cfg, double *X, double *P, double *w,
                 memcpy(out->hist_w + k * N, w, N * sizeof(double));
         }
 
+        /* fixed-lag smoothing: the oldest cycle of the window has now seen
+         * the observations up to this one; this cycle takes its slot; at
+         * the end every cycle still in the window is recorded */
+        if (b.nwin > 0) {
+            if (k >= b.nwin)
+                window_emit(cfg, &b, k - b.nwin, w, out);
+            window_store(cfg, &b, k, Xc, Zc);
+            if (k + 1 == cfg->T) {
+                size_t s0 = k + 1 >= b.nwin ? k + 1 - b.nwin : 0, s1;
+                for (s1 = s0; s1 <= k; s1++)
+                    window_emit(cfg, &b, s1, w, out);
+            }
+        }
+
         /* resample (ensemble Kalman: only to replace dead members) */
         if (wsum > 0 && (cfg->enkf != NULL ? ndead > 0 : ess < cfg->threshold * (double)N)) {
             int nx = 1 - cur;
@@ -896,6 +1070,8 @@ sl_status sl_pf_run(const sl_pf_config *cfg, double *X, double *P, double *w,
             gather_cols(p, N, Pc, b.P[nx], b.anc, b.nt);
             gather_cols(p, N, Zc, b.Z[nx], b.anc, b.nt);
             gather_cols(q, N, b.E[cur], b.E[nx], b.anc, b.nt);
+            if (b.nwin > 0)
+                window_gather(cfg, &b, k);
             for (j = 0; j < N; j++) {
                 b.dead[nx][j] = b.dead[cur][b.anc[j]];
                 w[j] = 1.0 / (double)N;

@@ -46,6 +46,15 @@ typedef enum {
 
 typedef int (*sl_poll_fn)(void *ctx, double fraction);
 
+/* An observation operator computed outside the core (an Octave function,
+ * say): the n_fun derived quantities of every member at time t into Y
+ * (n_fun x N, column-major) from the states X (n x N) and the parameters
+ * P (p x N, natural units). Called from one thread, outside any parallel
+ * region, once per cycle whose observations need it; a non-OK status
+ * ends the run. */
+typedef sl_status (*sl_obs_fn)(void *ctx, double t, size_t N, const double *X,
+                               const double *P, double *Y, sl_error *err);
+
 typedef struct {
     const sl_model *model;
     size_t N;               /* members */
@@ -59,6 +68,14 @@ typedef struct {
     const double *y, *sigma, *aux;
     const int *family;
     const size_t *var;
+    /* derived observables: H (n_lin x (n + p), column-major) maps a
+     * member's states and natural-unit parameters to n_lin values; obs_fn
+     * (with obs_ctx) computes n_fun more */
+    size_t n_lin;
+    const double *H;
+    size_t n_fun;
+    sl_obs_fn obs_fn;
+    void *obs_ctx;
     sl_forcing forcing;
     const double *state_noise;   /* n standard deviations, or NULL */
     const sl_transform *ptrans;  /* p transforms of the parameters */
@@ -91,6 +108,19 @@ typedef struct {
     const sl_localization *loc;
     int adaptive_inflation;
     double inflation_max;
+    /* Fixed-lag smoothing (lag >= 1; 0: off). The run keeps the ensembles
+     * of the last lag cycles (states and transformed parameters, member by
+     * member: lag x (n + p) x N doubles) and records, for every cycle s,
+     * the summary of the ensemble given the observations up to cycle
+     * s + lag (or the last one). The particle filter resamples that
+     * window with its members (each member carries its recent past: the
+     * genealogy over the window) and weighs it with the current weights;
+     * the ensemble Kalman methods update the window by the same analysis
+     * (the window's rows augment the state; localised like the states
+     * they copy; prior inflation is applied to the current ensemble only,
+     * relaxation to every row): the fixed-lag ensemble Kalman smoother.
+     * lag >= T is the full smoother. */
+    size_t lag;
 } sl_pf_config;
 
 /* What a run records; the caller allocates every array (sizes with
@@ -114,6 +144,8 @@ typedef struct {
     double *hist_P;      /* p x N x T parameters */
     double *hist_w;      /* N x T weights after the update */
     double *hist_a;      /* N x T ancestors (0-based) chosen at the cycle */
+    double *smean;       /* v x T smoothed means (with lag >= 1) */
+    double *squant;      /* v x nq x T smoothed quantiles (with lag >= 1) */
     double log_evidence; /* sum of logz */
     size_t steps;        /* model steps taken */
 } sl_pf_output;

@@ -16,7 +16,8 @@
 % @code{student_t}, @code{poisson}, @code{binomial}, @code{censored}) and
 % the family's extra column: @code{n} (binomial trials), @code{dof}
 % (Student-t degrees of freedom) or @code{limit} (detection limit of a
-% censored observation). Rows must be in time order.
+% censored observation). Rows must be in time order. A @code{variable}
+% may also name a derived quantity defined by the option @code{operators}.
 %
 % The whole run is one call into compiled code: each member is advanced to
 % the next observation time, weighted by the likelihood of the
@@ -51,6 +52,19 @@
 % observation on the parameters, default 1). An observation sits at the
 % position of the state it observes, or at the table's columns @code{x}
 % (and @code{y}).
+% @item operators
+% derived quantities to observe besides the states and parameters: a
+% struct (or a struct array, or a cell of structs), each with
+% @code{names} (a name or a cellstr of k names, unique and different from
+% the model's states and parameters) and either @code{H}, a k x n matrix
+% acting on the states or a k x (n + p) matrix acting on the states and
+% the parameters in natural units (a linear operator, evaluated in
+% compiled code), or @code{fun}, a function handle
+% @code{Y = fun (t, X, P)} returning k x N predicted values for the whole
+% ensemble (X n x N, P p x N; called once per cycle whose observations
+% need it). Rows of the observation table then name them like states. For
+% the ensemble Kalman methods with localisation, observations of derived
+% quantities need the position columns @code{x} (and @code{y}).
 % @item members
 % ensemble size N (default 1000).
 % @item seed
@@ -99,6 +113,17 @@
 % quantile levels to record (default [0.05 0.5 0.95]).
 % @item history
 % true to keep the whole ensemble at every cycle (default false).
+% @item lag
+% fixed-lag smoothing over that many cycles (a whole number; default 0:
+% off; @code{Inf}: over the whole run). For every cycle s the run also
+% records the ensemble given the observations up to cycle s + lag:
+% the particle filter carries each member's recent past with it when it
+% resamples (the genealogy over the window) and weighs it with the
+% current weights; the ensemble Kalman methods update the window with the
+% same analysis as the current ensemble (the ensemble Kalman smoother;
+% prior inflation acts on the current ensemble only). Memory: lag x
+% (n + p) x N doubles, whatever the length of the run. The result gets
+% @code{smoothed} (see below).
 % @item threads
 % OpenMP threads (default: @env{OMP_NUM_THREADS} or all cores).
 % @item progress
@@ -119,7 +144,11 @@
 % @code{history} (@code{X} n x N x T, @code{P}, @code{w} N x T,
 % @code{ancestors} N x T, 1-based). @code{forecast.mean} (n x T) and
 % @code{forecast.params} are the means before each update (the forecast),
-% for innovation statistics (@code{sluice.scores}).
+% for innovation statistics (@code{sluice.scores}). With @code{lag},
+% @code{smoothed} has @code{method} (@code{'fixed_lag'} for the particle
+% filter, @code{'enks'} for the ensemble Kalman methods), @code{lag},
+% @code{states.mean}, @code{states.quantiles}, @code{params.mean} and
+% @code{params.quantiles}, laid out as the filtered ones.
 %
 % @seealso{sluice.model, sluice.prior, sluice.loglik, sluice.resample}
 % @end deftypefn
@@ -147,7 +176,8 @@ function res = filter (model, prior, obs, varargin)
   [X0, P0, lower, upper] = initial_ensemble (model, prior, N, opts.seed);
 
   % observations and the cycle times
-  tab = check_obs (obs, model, t0);
+  ops = sluice.kernel.operators (opts.operators, model);
+  tab = check_obs (obs, model, t0, ops.names);
   times = unique ([tab.time(:); opts.times(:)])';
   if (isempty (times))
     error ('sluice:filter:noobs', 'no observation and no output time to run to');
@@ -171,6 +201,9 @@ function res = filter (model, prior, obs, varargin)
   c.obs_sigma = tab.sigma;
   c.obs_aux = tab.aux;
   c.obs_family = tab.family;
+  c.op_H = ops.H;
+  c.op_funs = ops.funs;
+  c.op_rows = ops.rows;
   c.state_noise = expand (opts.state_noise, n, 'state_noise');
   if (all (c.state_noise == 0))
     c.state_noise = [];
@@ -187,6 +220,7 @@ function res = filter (model, prior, obs, varargin)
   c.threads = opts.threads;
   c.probs = opts.quantiles;
   c.history = double (opts.history);
+  c.lag = min (opts.lag, T);
   c.progress = opts.progress;
   c.X0 = X0;
   c.P0 = P0;
@@ -196,7 +230,7 @@ function res = filter (model, prior, obs, varargin)
   c.rtps = opts.rtps;
   c.adaptive_inflation = double (opts.adaptive_inflation);
   c.inflation_max = opts.inflation_max;
-  c = add_localization (c, opts, model, tab, obs);
+  c = add_localization (c, opts, model, tab, obs, ops.names);
 
   r = sluice.kernel.run_engine (model, c);
 
@@ -229,6 +263,17 @@ function res = filter (model, prior, obs, varargin)
     res.floored = r.floored;
   end
   res.final = struct ('X', r.X, 'P', r.P, 'w', r.w);
+  if (opts.lag > 0)
+    meth = 'enks';
+    if (strcmp (opts.method, 'pf'))
+      meth = 'fixed_lag';
+    end
+    res.smoothed = struct ('method', meth, 'lag', opts.lag, ...
+                           'states', struct ('mean', r.smooth_mean(1:n, :), ...
+                                             'quantiles', r.smooth_quantiles(1:n, :, :)), ...
+                           'params', struct ('mean', r.smooth_mean(n+1:end, :), ...
+                                             'quantiles', r.smooth_quantiles(n+1:end, :, :)));
+  end
   if (opts.history)
     res.history = struct ('X', r.history_X, 'P', r.history_P, ...
                           'w', r.history_w, 'ancestors', r.history_ancestors);
@@ -258,7 +303,7 @@ function opts = parse_options (args)
                  'resample_threshold', 0.5, 'quantiles', [0.05 0.5 0.95], ...
                  'history', false, 'threads', 0, 'progress', 'auto', ...
                  'inflation', 1, 'rtpp', 0, 'rtps', 0, 'adaptive_inflation', false, ...
-                 'inflation_max', 2, 'localization', []);
+                 'inflation_max', 2, 'localization', [], 'operators', [], 'lag', 0);
   opts = sluice.kernel.name_value (opts, args, 'filter');
   methods = {'pf', 'enkf', 'etkf', 'ensrf', 'eakf', 'letkf'};
   if (~ischar (opts.method) || ~any (strcmp (opts.method, methods)))
@@ -328,6 +373,11 @@ function opts = parse_options (args)
     error ('sluice:filter:badoption', 'history must be true or false');
   end
   opts.history = logical (opts.history);
+  lag = opts.lag;
+  if (~isa (lag, 'double') || ~isreal (lag) || ~isscalar (lag) || isnan (lag) || ...
+      lag < 0 || (isfinite (lag) && lag ~= fix (lag)))
+    error ('sluice:filter:badoption', 'lag must be a whole number of cycles >= 0, or Inf');
+  end
   opts.threads = whole (opts.threads, 'threads', 0, 256);
   pr = opts.progress;
   if (ischar (pr) && strcmp (pr, 'auto'))
@@ -374,7 +424,7 @@ function v = expand (v, n, what)
   end
 end
 
-function c = add_localization (c, opts, model, tab, obs)
+function c = add_localization (c, opts, model, tab, obs, derived)
   % positions of states and observations for the ensemble Kalman methods
   c.geometry = '';
   c.period_or_radius = 0;
@@ -464,19 +514,19 @@ function c = add_localization (c, opts, model, tab, obs)
   bad = find (any (isnan (opos), 2), 1);
   if (~isempty (bad))
     error ('sluice:filter:badobs', ...
-           'observation row %d has no position (give column x%s for observations of parameters)', ...
+           'observation row %d has no position (give column x%s for observations of parameters or derived quantities)', ...
            bad, repmat (' and y', 1, dim == 2));
   end
   r = L.radius;
   if (isstruct (r))
-    names = [model.states(:); model.params(:)];
+    names = [model.states(:); model.params(:); derived(:)];
     oc = nan (m, 1);
     f = fieldnames (r);
     for k = 1:numel (f)
       v = r.(f{k});
       if (~any (strcmp (f{k}, names)))
         error ('sluice:filter:badlocalization', ...
-               'localization.radius.%s: the model has no state or parameter of that name', f{k});
+               'localization.radius.%s: the model has no state, parameter or derived quantity of that name', f{k});
       end
       if (~isa (v, 'double') || ~isreal (v) || ~isscalar (v) || ~isfinite (v) || v <= 0)
         error ('sluice:filter:badlocalization', ...
@@ -512,6 +562,10 @@ function check_memory (n, p, q, N, m, opts)
   need = 8 * N * (3 * n + 5 * p + 3 * q + min (m, 1e4) + 8);
   if (opts.history)
     need = need + 8 * N * T * (n + p + 2);
+  end
+  if (opts.lag > 0)
+    % the window, and for the ensemble Kalman methods its augmented copy
+    need = need + 8 * N * (n + p) * (min (opts.lag, T) + 2) * (1 + ~strcmp (opts.method, 'pf'));
   end
   if (~strcmp (opts.method, 'pf'))
     % the square-root analyses work with N x N matrices in ensemble space
@@ -593,7 +647,7 @@ function [X0, P0, lower, upper] = initial_ensemble (model, prior, N, seed)
   end
 end
 
-function tab = check_obs (obs, model, t0)
+function tab = check_obs (obs, model, t0, derived)
   if (~isstruct (obs) || ~isscalar (obs))
     error ('sluice:filter:badobs', ...
            'argument 3 (obs): expected a struct of columns time, variable, value, sigma');
@@ -652,7 +706,7 @@ function tab = check_obs (obs, model, t0)
       tab.aux(sel) = double (v(sel));
     end
   end
-  names = [model.states(:); model.params(:)];
+  names = [model.states(:); model.params(:); derived(:)];
   [ok, tab.var] = ismember (var(:), names);
   for i = 1:m
     if (~ok(i))

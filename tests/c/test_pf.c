@@ -758,6 +758,205 @@ static void check_workspace(void)
     CHECK(sl_pf_workspace(&c) == 0, "workspace for 2^50 observations");
 }
 
+/* ------------------------------------------------ observation operators */
+
+typedef struct {
+    double scale;
+    int calls, fail_at;
+} scale_ctx;
+
+/* Y = scale * x for the one state: the callback form of the operator. */
+static sl_status scale_obs(void *ctx, double t, size_t N, const double *X,
+                           const double *P, double *Y, sl_error *err)
+{
+    scale_ctx *c = (scale_ctx *)ctx;
+    size_t j;
+    (void)P;
+    c->calls++;
+    if (c->fail_at > 0 && c->calls == c->fail_at)
+        return sl_fail(err, SL_EMODEL, "operatorfailed", "failed at t = %g", t);
+    for (j = 0; j < N; j++)
+        Y[j] = c->scale * X[j];
+    return SL_OK;
+}
+
+/* Observing y of the state x directly, 2y through the linear row H = 2
+ * with sigma 2, or 2y through a callback that returns 2x gives the same
+ * weights and means: the likelihoods differ by the constant factor 1/2
+ * per observation (the change of variables y' = 2y), so the log-evidence
+ * differs by exactly -T log 2 (common practice). */
+static void check_operators(void)
+{
+    enum { N = 5000, T = 3 };
+    const double yv[T] = {1.0, 2.0, 0.0}, y2[T] = {2.0, 4.0, 0.0};
+    const double times[T] = {1.0, 2.0, 3.0};
+    double A = 1.0, L = 1.0, H = 2.0;
+    double *X0 = malloc(N * sizeof *X0);
+    sl_linear lin = {1, 0, &A, NULL, NULL, &L};
+    sl_model md;
+    sl_pf_config cfg;
+    obs_table o, o2, o3;
+    scale_ctx sc = {2.0, 0, 0};
+    sl_error err;
+    run_buf r1, r2, r3;
+    sl_status st;
+    size_t j, k;
+
+    sl_linear_model(&md, &lin, 1.0, &err);
+    for (j = 0; j < N; j++) {
+        sl_stream s;
+        sl_stream_init(&s, 7, (uint32_t)j, 0, SL_PURPOSE_PRIOR);
+        X0[j] = sl_stream_normal(&s);
+    }
+    one_obs_per_cycle(&o, T, yv, 1.0);
+    base_config(&cfg, &md, N, T, times, &o);
+    st = run(&cfg, X0, &r1, &err);
+    CHECK(st == SL_OK, "direct observation: %s", st ? err.message : "");
+
+    one_obs_per_cycle(&o2, T, y2, 2.0);
+    for (k = 0; k < T; k++)
+        o2.var[k] = 1; /* the first derived row: H */
+    base_config(&cfg, &md, N, T, times, &o2);
+    cfg.n_lin = 1;
+    cfg.H = &H;
+    st = run(&cfg, X0, &r2, &err);
+    CHECK(st == SL_OK, "linear operator: %s", st ? err.message : "");
+
+    one_obs_per_cycle(&o3, T, y2, 2.0);
+    for (k = 0; k < T; k++)
+        o3.var[k] = 1; /* no linear rows: the first callback row */
+    base_config(&cfg, &md, N, T, times, &o3);
+    cfg.n_fun = 1;
+    cfg.obs_fn = scale_obs;
+    cfg.obs_ctx = &sc;
+    st = run(&cfg, X0, &r3, &err);
+    CHECK(st == SL_OK, "operator callback: %s", st ? err.message : "");
+    CHECK(sc.calls == T, "the callback ran %d times, expected once per cycle", sc.calls);
+    for (k = 0; k < T; k++) {
+        CHECK_CLOSE(r2.out.mean[k], r1.out.mean[k], 1e-12, "mean through H");
+        CHECK_CLOSE(r3.out.mean[k], r1.out.mean[k], 1e-12, "mean through the callback");
+        CHECK_CLOSE(r2.out.ess[k], r1.out.ess[k], 1e-8, "ess through H");
+    }
+    CHECK_CLOSE(r2.out.log_evidence, r1.out.log_evidence - T * log(2.0), 1e-12,
+                "log-evidence through H: the Jacobian of y' = 2y");
+    CHECK_CLOSE(r3.out.log_evidence, r2.out.log_evidence, 1e-12,
+                "log-evidence through the callback");
+    run_free(&r3);
+
+    /* a failing callback ends the run with its status */
+    sc.calls = 0;
+    sc.fail_at = 2;
+    st = run(&cfg, X0, &r3, &err);
+    CHECK(st == SL_EMODEL && strcmp(err.reason, "operatorfailed") == 0,
+          "a failing operator stops the run: status %d", (int)st);
+    run_free(&r3);
+
+    /* rows beyond the operators, a missing matrix or function: errors */
+    cfg.obs_fn = NULL;
+    CHECK(sl_pf_check(&cfg, &err) == SL_EINVAL && strcmp(err.reason, "badoperator") == 0,
+          "a callback row without a function");
+    cfg.n_fun = 0;
+    CHECK(sl_pf_check(&cfg, &err) == SL_EINVAL && strcmp(err.reason, "badobs") == 0,
+          "a derived row beyond the operators");
+    cfg.n_lin = 1;
+    cfg.H = NULL;
+    CHECK(sl_pf_check(&cfg, &err) == SL_EINVAL && strcmp(err.reason, "badoperator") == 0,
+          "a linear row without a matrix");
+    H = NAN;
+    cfg.H = &H;
+    CHECK(sl_pf_check(&cfg, &err) == SL_EINVAL && strcmp(err.reason, "badoperator") == 0,
+          "a non-finite operator entry");
+    run_free(&r1);
+    run_free(&r2);
+    free(X0);
+}
+
+/* Fixed-lag smoothing over the whole run of the worked example: the
+ * smoothed means of the Rauch-Tung-Striebel smoother (Rauch, Tung &
+ * Striebel 1965), hand-computed: 6/7, 8/7, 4/7; a lag of 1 gives the
+ * smoother of the data up to the next cycle (cycle 1: the RTS mean of
+ * y = (1, 2), 2/3 + (2/5)(3/2 - 2/3) = 1, hand-computed); the window
+ * leaves the filter as it was. */
+static void check_lag(void)
+{
+    enum { N = 40000, T = 3 };
+    const double yv[T] = {1.0, 2.0, 0.0}, times[T] = {1.0, 2.0, 3.0};
+    const double rts[T] = {6.0 / 7.0, 8.0 / 7.0, 4.0 / 7.0};
+    double A = 1.0, L = 1.0, *X0 = malloc(N * sizeof *X0);
+    double sm[T], sq[3 * T];
+    const double probs[3] = {0.05, 0.5, 0.95};
+    sl_linear lin = {1, 0, &A, NULL, NULL, &L};
+    sl_model md;
+    sl_pf_config cfg;
+    obs_table o;
+    sl_error err;
+    run_buf r0, r1;
+    sl_status st;
+    size_t j, k, lag;
+
+    sl_linear_model(&md, &lin, 1.0, &err);
+    for (j = 0; j < N; j++) {
+        sl_stream s;
+        sl_stream_init(&s, 3, (uint32_t)j, 0, SL_PURPOSE_PRIOR);
+        X0[j] = sl_stream_normal(&s);
+    }
+    one_obs_per_cycle(&o, T, yv, 1.0);
+    base_config(&cfg, &md, N, T, times, &o);
+    cfg.nq = 3;
+    cfg.probs = probs;
+    st = run(&cfg, X0, &r0, &err);
+    CHECK(st == SL_OK, "run without a window: %s", st ? err.message : "");
+    for (lag = 1; lag <= 5; lag += 2) {
+        sl_pf_output keep;
+        cfg.lag = lag;
+        memset(&r1, 0, sizeof r1);
+        /* run() fills the outputs; give it the smoothed arrays too */
+        {
+            size_t bytes = sl_pf_workspace(&cfg);
+            memset(&keep, 0, sizeof keep);
+            keep.mean = calloc(3, sizeof(double));
+            keep.quant = calloc(9, sizeof(double));
+            keep.ess = calloc(T, sizeof(double));
+            keep.logz = calloc(T, sizeof(double));
+            keep.resampled = calloc(T, sizeof(double));
+            keep.degenerate = calloc(T, sizeof(double));
+            keep.skipped = calloc(T, sizeof(double));
+            keep.nonfinite = calloc(T, sizeof(double));
+            keep.smean = sm;
+            keep.squant = sq;
+            r1.X = malloc(N * sizeof(double));
+            r1.P = calloc(1, sizeof(double));
+            r1.w = malloc(N * sizeof(double));
+            r1.work = malloc(bytes);
+            memcpy(r1.X, X0, N * sizeof(double));
+            st = sl_pf_run(&cfg, r1.X, r1.P, r1.w, r1.work, &keep, &err);
+        }
+        CHECK(st == SL_OK, "run with lag %lu: %s", (unsigned long)lag, st ? err.message : "");
+        if (st == SL_OK) {
+            for (k = 0; k < T; k++)
+                CHECK(keep.mean[k] == r0.out.mean[k], "lag %lu: the filter is unchanged",
+                      (unsigned long)lag);
+            /* Monte Carlo error of a traced mean with N = 4e4: < 0.01 */
+            if (lag >= T) {
+                for (k = 0; k < T; k++)
+                    CHECK_CLOSE(sm[k], rts[k], 0.03, "smoothed mean, full lag");
+            } else {
+                CHECK_CLOSE(sm[0], 1.0, 0.03, "smoothed mean, lag 1, cycle 1");
+            }
+            CHECK_CLOSE(sm[T - 1], r0.out.mean[T - 1], 1e-12,
+                        "the last cycle's smoothed mean is the filtered one");
+            CHECK(sq[0] < sm[0] && sm[0] < sq[2], "smoothed quantiles bracket the mean");
+        }
+        free(keep.mean); free(keep.quant); free(keep.ess); free(keep.logz);
+        free(keep.resampled); free(keep.degenerate); free(keep.skipped);
+        free(keep.nonfinite);
+        free(r1.X); free(r1.P); free(r1.w); free(r1.work);
+    }
+    cfg.lag = 0;
+    run_free(&r0);
+    free(X0);
+}
+
 int main(void)
 {
     check_worked_example();
@@ -766,5 +965,7 @@ int main(void)
     check_degenerate();
     check_resampling();
     check_workspace();
+    check_operators();
+    check_lag();
     CHECK_DONE("test_pf");
 }
