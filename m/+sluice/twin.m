@@ -15,7 +15,10 @@
 % @var{network} is a struct array, one element per observed series:
 % @table @code
 % @item variable
-% the name of a state or parameter of the model.
+% the name of a state or parameter of the model, or of a derived
+% quantity defined by the filter option @code{operators} (given in
+% @code{filter}); the truth of a derived quantity is the operator applied
+% to the true states and parameters.
 % @item every
 % the observation interval (model time, > 0).
 % @item from, to
@@ -23,10 +26,22 @@
 % must lie within them). Observations are made at from, from + every,
 % @dots{} up to to.
 % @item sigma
-% the error standard deviation (> 0).
+% the error standard deviation (> 0; not used by the count families).
 % @item family
-% @code{'gaussian'} (default: y = x + sigma z) or @code{'lognormal'}
-% (log y = log x + sigma z; the truth must be > 0 there).
+% the likelihood of the observations, as in @code{sluice.filter}:
+% @code{'gaussian'} (default: y = x + sigma z), @code{'lognormal'}
+% (log y = log x + sigma z; the truth must be > 0 there),
+% @code{'student_t'} (y = x + sigma t with @code{dof} degrees of
+% freedom), @code{'censored'} (y = max(x + sigma z, @code{limit}): a
+% value at the detection limit means "at or below"), @code{'poisson'}
+% (a count y ~ Poisson(x); the truth must be >= 0) or @code{'binomial'}
+% (y successes of @code{n} trials, success probability 1/(1 + exp(-x)):
+% x is the logit, e.g. a derived quantity; the answers of a
+% questionnaire). The draws are exact inversions of the distributions'
+% CDFs at uniforms from the counter-based streams.
+% @item n, dof, limit
+% the family's extra number: binomial trials (a whole number >= 1),
+% Student-t degrees of freedom (> 0), detection limit.
 % @item missing
 % the fraction of the series' observations dropped at random (in [0, 1],
 % default 0): round(missing * count) of them, chosen at random, get the
@@ -136,7 +151,8 @@ function res = twin (model, truth, network, varargin)
   [x0, params, times, forcing, events] = check_truth (model, truth);
   names = [model.states(:); model.params(:)];
   n = numel (model.states);
-  net = check_network (network, names, times);
+  ops = sluice.kernel.operators (filter_option (opts.filter, 'operators'), model);
+  net = check_network (network, [names; ops.names], times);
 
   % the truth, at its own times and at every observation time
   tobs = cell2mat (cellfun (@(t) t(:), {net.times}', 'UniformOutput', false));
@@ -152,8 +168,11 @@ function res = twin (model, truth, network, varargin)
     error (id, 'the truth run failed: %s', err.message);
   end
   truth_all = [Xall; repmat(params(:), 1, numel (tall))];
+  if (~isempty (ops.names))
+    truth_all = [truth_all; derived_truth(ops, model, tall, Xall, params, net, numel (names))];
+  end
 
-  obs = synthesize (net, names, tall, truth_all, seed_obs);
+  obs = synthesize (net, [names; ops.names], tall, truth_all, seed_obs);
 
   % filter options: the twin's defaults, then the user's
   fo = opts.filter;
@@ -229,6 +248,49 @@ function res = twin (model, truth, network, varargin)
   res.scores = sc;
 end
 
+function v = filter_option (fo, name)
+  v = [];
+  if (iscell (fo))
+    for k = 1:2:numel (fo) - 1
+      if (ischar (fo{k}) && strcmp (fo{k}, name))
+        v = fo{k + 1};
+      end
+    end
+  end
+end
+
+function Y = derived_truth (ops, model, tall, Xall, params, net, v)
+  % the derived quantities along the truth: linear rows at every time,
+  % function rows only where a series needs them (one call per time)
+  T = numel (tall);
+  P = repmat (params(:), 1, T);
+  if (isempty (P))
+    P = zeros (0, T);
+  end
+  nl = rows (ops.H);
+  Y = nan (numel (ops.names), T);
+  if (nl > 0)
+    Y(1:nl, :) = ops.H * [Xall; P];
+  end
+  if (~isempty (ops.funs))
+    used = [net.var] > v + nl;
+    need = false (1, T);
+    for e = net(used)
+      need = need | ismember (tall, e.times);
+    end
+    for it = find (need)
+      [y, msg, id] = sluice.kernel.observe (ops.funs, ops.rows, tall(it), Xall(:, it), P(:, it));
+      if (~isempty (msg))
+        if (isempty (id))
+          id = 'sluice:twin:badoperator';
+        end
+        error (id, 'on the truth: %s', msg);
+      end
+      Y(nl+1:end, it) = y;
+    end
+  end
+end
+
 function [x0, params, times, forcing, events] = check_truth (model, truth)
   if (~isstruct (truth) || ~isscalar (truth) || ~isfield (truth, 'times'))
     error ('sluice:twin:badtruth', ...
@@ -279,7 +341,7 @@ function net = check_network (network, names, times)
            'argument 3 (network): expected a struct array, got %s', ...
            sluice.kernel.describe (network));
   end
-  known = {'variable', 'every', 'from', 'to', 'sigma', 'family', 'missing'};
+  known = {'variable', 'every', 'from', 'to', 'sigma', 'family', 'missing', 'n', 'dof', 'limit'};
   f = fieldnames (network);
   for k = 1:numel (f)
     if (~any (strcmp (f{k}, known)))
@@ -288,14 +350,15 @@ function net = check_network (network, names, times)
              f{k}, strjoin (known, ', '));
     end
   end
-  for k = {'variable', 'every', 'sigma'}
+  for k = {'variable', 'every'}
     if (~isfield (network, k{1}))
       error ('sluice:twin:badnetwork', 'argument 3 (network): the field ''%s'' is required', k{1});
     end
   end
   t1 = times(1);
   tT = times(end);
-  net = struct ('var', {}, 'times', {}, 'sigma', {}, 'family', {}, 'missing', {});
+  net = struct ('var', {}, 'times', {}, 'sigma', {}, 'family', {}, 'missing', {}, 'aux', {});
+  families = {'gaussian', 'lognormal', 'student_t', 'censored', 'poisson', 'binomial'};
   for k = 1:numel (network)
     e = network(k);
     v = e.variable;
@@ -305,11 +368,37 @@ function net = check_network (network, names, times)
     iv = find (strcmp (v, names));
     if (isempty (iv))
       error ('sluice:twin:badnetwork', ...
-             'network(%d).variable: the model has no state or parameter ''%s'' (it has %s)', ...
+             'network(%d).variable: the model has no state, parameter or derived quantity ''%s'' (it has %s)', ...
              k, v, strjoin (names', ', '));
     end
     every = positive (e.every, k, 'every');
-    sigma = positive (e.sigma, k, 'sigma');
+    fam = field_or (e, 'family', 'gaussian');
+    if (~ischar (fam) || ~any (strcmp (fam, families)))
+      error ('sluice:twin:badnetwork', 'network(%d).family must be one of %s', ...
+             k, strjoin (families, ', '));
+    end
+    counts = any (strcmp (fam, {'poisson', 'binomial'}));
+    if (counts)
+      sigma = NaN;
+    elseif (~isfield (e, 'sigma') || isempty (e.sigma))
+      error ('sluice:twin:badnetwork', 'network(%d): a %s series needs sigma', k, fam);
+    else
+      sigma = positive (e.sigma, k, 'sigma');
+    end
+    aux = NaN;
+    switch (fam)
+      case 'binomial'
+        aux = field_or (e, 'n', []);
+        if (~isa (aux, 'double') || ~isreal (aux) || ~isscalar (aux) || ~isfinite (aux) || ...
+            aux < 1 || aux ~= fix (aux) || aux > 2^31)
+          error ('sluice:twin:badnetwork', ...
+                 'network(%d).n must be the number of trials, a whole number >= 1', k);
+        end
+      case 'student_t'
+        aux = positive (field_or (e, 'dof', []), k, 'dof');
+      case 'censored'
+        aux = finite_scalar (field_or (e, 'limit', []), k, 'limit');
+    end
     from = field_or (e, 'from', t1);
     to = field_or (e, 'to', tT);
     from = finite_scalar (from, k, 'from');
@@ -318,11 +407,6 @@ function net = check_network (network, names, times)
       error ('sluice:twin:badnetwork', ...
              'network(%d): the window [%g, %g] must lie within the truth''s times [%g, %g]', ...
              k, from, to, t1, tT);
-    end
-    fam = field_or (e, 'family', 'gaussian');
-    if (~ischar (fam) || ~any (strcmp (fam, {'gaussian', 'lognormal'})))
-      error ('sluice:twin:badnetwork', ...
-             'network(%d).family must be ''gaussian'' or ''lognormal''', k);
     end
     miss = field_or (e, 'missing', 0);
     if (~isa (miss, 'double') || ~isreal (miss) || ~isscalar (miss) || ~(miss >= 0 && miss <= 1))
@@ -339,7 +423,8 @@ function net = check_network (network, names, times)
       t = from + (0:K) * every;
       t = min (t, to);
     end
-    net(k) = struct ('var', iv, 'times', t, 'sigma', sigma, 'family', fam, 'missing', miss);
+    net(k) = struct ('var', iv, 'times', t, 'sigma', sigma, 'family', fam, 'missing', miss, ...
+                     'aux', aux);
   end
   if (sum (cellfun (@numel, {net.times})) == 0)
     error ('sluice:twin:emptynetwork', ...
@@ -372,12 +457,14 @@ function obs = synthesize (net, names, tall, truth_all, seed)
   counts = cellfun (@numel, {net.times});
   m = sum (counts);
   D = sluice.draw ([sluice.prior('z', 'normal', [0 1]), ...
-                    sluice.prior('u', 'uniform', [0 1])], m, seed);
+                    sluice.prior('u', 'uniform', [0 1]), ...
+                    sluice.prior('v', 'uniform', [0 1])], m, seed);
   time = zeros (m, 1);
   var = cell (m, 1);
   value = zeros (m, 1);
   sigma = zeros (m, 1);
   family = cell (m, 1);
+  aux = nan (m, 1);
   j = 0;
   for k = 1:numel (net)
     e = net(k);
@@ -385,16 +472,38 @@ function obs = synthesize (net, names, tall, truth_all, seed)
     [~, it] = ismember (e.times, tall);
     x = truth_all(e.var, it);
     z = D(1, r);
-    if (strcmp (e.family, 'lognormal'))
-      bad = find (~(x > 0), 1);
-      if (~isempty (bad))
-        error ('sluice:twin:badnetwork', ...
-               'network(%d): a lognormal observation of ''%s'' needs a truth > 0, got %g at t = %g', ...
-               k, names{e.var}, x(bad), e.times(bad));
-      end
-      y = exp (log (x) + e.sigma * z);
-    else
-      y = x + e.sigma * z;
+    u = D(3, r);
+    switch (e.family)
+      case 'lognormal'
+        bad = find (~(x > 0), 1);
+        if (~isempty (bad))
+          error ('sluice:twin:badnetwork', ...
+                 'network(%d): a lognormal observation of ''%s'' needs a truth > 0, got %g at t = %g', ...
+                 k, names{e.var}, x(bad), e.times(bad));
+        end
+        y = exp (log (x) + e.sigma * z);
+      case 'student_t'
+        y = x + e.sigma * t_inverse (u, e.aux);
+      case 'censored'
+        y = max (x + e.sigma * z, e.aux);
+      case 'poisson'
+        bad = find (~(x >= 0 & isfinite (x)), 1);
+        if (~isempty (bad))
+          error ('sluice:twin:badnetwork', ...
+                 'network(%d): a Poisson observation of ''%s'' needs a finite truth >= 0, got %g at t = %g', ...
+                 k, names{e.var}, x(bad), e.times(bad));
+        end
+        y = poisson_inverse (u, x);
+      case 'binomial'
+        bad = find (~isfinite (x), 1);
+        if (~isempty (bad))
+          error ('sluice:twin:badnetwork', ...
+                 'network(%d): a binomial observation of ''%s'' needs a finite logit, got %g at t = %g', ...
+                 k, names{e.var}, x(bad), e.times(bad));
+        end
+        y = binomial_inverse (u, e.aux, 1 ./ (1 + exp (-x)));
+      otherwise
+        y = x + e.sigma * z;
     end
     drop = round (e.missing * counts(k));
     if (drop > 0)
@@ -406,11 +515,66 @@ function obs = synthesize (net, names, tall, truth_all, seed)
     value(r) = y;
     sigma(r) = e.sigma;
     family(r) = {e.family};
+    aux(r) = e.aux;
     j = j + counts(k);
   end
   [~, order] = sort (time);   % stable: series order within a time
   obs = struct ('time', time(order), 'variable', {var(order)}, 'value', value(order), ...
                 'sigma', sigma(order), 'family', {family(order)});
+  % the families' extra columns, where some series uses them
+  extra = {'n', 'binomial'; 'dof', 'student_t'; 'limit', 'censored'};
+  for k = 1:rows (extra)
+    sel = strcmp (family(order), extra{k, 2});
+    if (any (sel))
+      a = aux(order);
+      a(~sel) = NaN;
+      obs.(extra{k, 1}) = a;
+    end
+  end
+end
+
+function y = t_inverse (u, nu)
+  % the Student-t quantile by the regularised incomplete beta function:
+  % for t > 0, P(T > t) = I_{nu/(nu + t^2)}(nu/2, 1/2) / 2 (Abramowitz &
+  % Stegun 26.7.1)
+  p = min (u, 1 - u);
+  b = betaincinv (2 * p, nu / 2, 0.5);
+  y = sign (u - 0.5) .* sqrt (nu * (1 ./ b - 1));
+end
+
+function y = poisson_inverse (u, lambda)
+  % the smallest k with P(Y <= k) >= u, by bisection on
+  % P(Y <= k) = Q(k + 1, lambda), the upper regularised incomplete gamma
+  % function (Abramowitz & Stegun 6.5.2 and 26.4.21)
+  lo = -ones (size (u));
+  hi = ceil (lambda + 40 * sqrt (lambda) + 40);
+  while (any (hi - lo > 1))
+    mid = floor ((lo + hi) / 2);
+    F = gammainc (lambda, mid + 1, 'upper');
+    F(lambda == 0) = 1;
+    up = F >= u;
+    hi(up) = mid(up);
+    lo(~up) = mid(~up);
+  end
+  y = hi;
+end
+
+function y = binomial_inverse (u, n, p)
+  % the smallest k with P(Y <= k) >= u, by bisection on
+  % P(Y <= k) = I_{1-p}(n - k, k + 1), the regularised incomplete beta
+  % function (Abramowitz & Stegun 26.5.24)
+  lo = -ones (size (u));
+  hi = n * ones (size (u));
+  while (any (hi - lo > 1))
+    mid = floor ((lo + hi) / 2);
+    F = ones (size (u));
+    in = mid < n;
+    F(in) = betainc (1 - p(in), n - mid(in), mid(in) + 1);
+    up = F >= u;
+    hi(up) = mid(up);
+    lo(~up) = mid(~up);
+  end
+  y = hi;
 end
 
 function [rmse, spread, perr] = score (r, Xt, times, params, n)
@@ -480,9 +644,9 @@ end
 %!error id=sluice:twin:emptynetwork sluice.twin (sluice.model ('linear', 'A', 0.9), struct ('times', 0:5), struct ('variable', {}, 'every', {}, 'sigma', {}), 'prior', sluice.prior ('x1', 'normal', [0 1]))
 %!error id=sluice:twin:emptynetwork sluice.twin (sluice.model ('linear', 'A', 0.9), struct ('times', 0:5), [], 'prior', sluice.prior ('x1', 'normal', [0 1]))
 %!error id=sluice:twin:emptynetwork sluice.twin (sluice.model ('linear', 'A', 0.9), struct ('times', 0:5), struct ('variable', 'x1', 'every', 1, 'sigma', 1, 'from', 3, 'to', 2), 'prior', sluice.prior ('x1', 'normal', [0 1]))
-%!error <no state or parameter 'level'> sluice.twin (sluice.model ('linear', 'A', 0.9), struct ('times', 0:5), struct ('variable', 'level', 'every', 1, 'sigma', 1), 'prior', sluice.prior ('x1', 'normal', [0 1]))
+%!error <no state, parameter or derived quantity 'level'> sluice.twin (sluice.model ('linear', 'A', 0.9), struct ('times', 0:5), struct ('variable', 'level', 'every', 1, 'sigma', 1), 'prior', sluice.prior ('x1', 'normal', [0 1]))
 %!error id=sluice:twin:badnetwork sluice.twin (sluice.model ('linear', 'A', 0.9), struct ('times', 0:5), struct ('variable', 'level', 'every', 1, 'sigma', 1), 'prior', sluice.prior ('x1', 'normal', [0 1]))
-%!error id=sluice:twin:badnetwork sluice.twin (sluice.model ('linear', 'A', 0.9), struct ('times', 0:5), struct ('variable', 'x1', 'every', 1, 'sigma', 1, 'family', 'poisson'), 'prior', sluice.prior ('x1', 'normal', [0 1]))
+%!error id=sluice:twin:badnetwork sluice.twin (sluice.model ('linear', 'A', 0.9), struct ('times', 0:5), struct ('variable', 'x1', 'every', 1, 'sigma', 1, 'family', 'weibull'), 'prior', sluice.prior ('x1', 'normal', [0 1]))
 %!error id=sluice:twin:badnetwork sluice.twin (sluice.model ('linear', 'A', 0.9), struct ('times', 0:5), struct ('variable', 'x1', 'every', 0, 'sigma', 1), 'prior', sluice.prior ('x1', 'normal', [0 1]))
 %!error id=sluice:twin:badnetwork sluice.twin (sluice.model ('linear', 'A', 0.9), struct ('times', 0:5), struct ('variable', 'x1', 'every', 1, 'sigma', -1), 'prior', sluice.prior ('x1', 'normal', [0 1]))
 %!error id=sluice:twin:badnetwork sluice.twin (sluice.model ('linear', 'A', 0.9), struct ('times', 0:5), struct ('variable', 'x1', 'every', 1, 'sigma', single (1)), 'prior', sluice.prior ('x1', 'normal', [0 1]))
