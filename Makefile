@@ -45,7 +45,7 @@ DEPS     := $(BUILD)/.deps-ok
 all: mex
 
 # Debian packages the build needs; installed with apt-get when run as root.
-PKGS := octave liboctave-dev libgsl-dev libopenblas-dev librandom123-dev octave-statistics gnuplot-nox
+PKGS := octave liboctave-dev libgsl-dev libopenblas-dev librandom123-dev octave-statistics octave-parallel gnuplot-nox
 deps: $(DEPS)
 $(DEPS):
 	@bash tools/deps.sh $(PKGS)

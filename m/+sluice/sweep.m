@@ -43,11 +43,21 @@
 % @item workers
 % a whole number >= 1 (default @code{nproc ()}). With more than one worker
 % and Octave's @code{parallel} package loadable, points are run with
-% @code{pararrayfun} in batches of @var{workers} points; otherwise serially.
+% @code{pararrayfun} (one call over all the points to run, each worker
+% taking the next point when it is free); otherwise serially.
+% Each worker is a separate Octave process, so in parallel @var{fun} must
+% be callable there: a function in a file on the path, or an anonymous
+% function that calls only such functions (not a subfunction or a
+% function defined in a script). Each point then runs its filter with the
+% OpenMP threads it asks for: give the filter @code{'threads', 1} to keep
+% one thread per worker.
 % @item file
-% the name of a results file. After each finished point (each batch, in
-% parallel) the results so far are written there: to a temporary file in
+% the name of a results file. After each finished point the results so
+% far are written there: to a temporary file in
 % the same directory, then renamed over it, so the file is always whole.
+% In parallel, each worker also writes its finished point at once to
+% @var{file}@code{.part}@var{k} (merged into @var{file} at the end, or by
+% the next call), so a sweep stopped part-way loses no finished point.
 % It holds the variable @code{sweep_done}, a struct of columns @code{key}
 % (the point keys), @code{seed}, @code{time} and @code{scores} (a cell of
 % score structs), saved in Octave's own binary format (@code{save -binary}).
@@ -124,6 +134,14 @@ function [table, info] = sweep (fun, grid, varargin)
   if (~isempty (opts.file) && exist (opts.file, 'file'))
     done = load_done (opts.file);
   end
+  if (~isempty (opts.file))
+    % points that workers of a stopped parallel sweep finished
+    [done, merged] = merge_parts (opts.file, done, names);
+    if (merged)
+      save_done (opts.file, done);
+      remove_parts (opts.file);
+    end
+  end
   scores = cell (N, 1);
   times = zeros (N, 1);
   reused = false (N, 1);
@@ -149,16 +167,30 @@ function [table, info] = sweep (fun, grid, varargin)
 
   t_fun = 0;
   if (use_par)
+    % one call over every point to run: the workers take points as they
+    % free up (starting workers costs ~0.1 s a call); each finished point
+    % is on disk at once through its part file
     nb = opts.workers;
-    for b = 1:nb:numel (todo)
-      batch = todo(b:min (b + nb - 1, numel (todo)));
+    for b = 1:numel (todo):numel (todo)
+      batch = todo;
       pts = cell (numel (batch), 1);
       for j = 1:numel (batch)
         pts{j} = make_point (names, vals, subs, batch(j), seeds(batch(j)));
       end
-      res = pararrayfun (min (nb, numel (batch)), @(j) run_point (fun, pts{j}), ...
+      spill = cell (numel (batch), 1);
+      if (~isempty (opts.file))
+        for j = 1:numel (batch)
+          spill{j} = sprintf ('%s.part%d', opts.file, batch(j));
+        end
+      end
+      % a failure of the worker itself (not of fun) comes back as a point
+      % failure through the error handler
+      on_error = @(e, varargin) struct ('ok', false, 'scores', [], 'time', 0, ...
+                                        'message', e.message, 'identifier', e.identifier);
+      res = pararrayfun (min (nb, numel (batch)), ...
+                         @(j) sluice.kernel.sweep_point (fun, pts{j}, keys{batch(j)}, spill{j}), ...
                          1:numel (batch), 'UniformOutput', false, ...
-                         'VerboseLevel', 0);
+                         'VerboseLevel', 0, 'ErrorHandler', on_error);
       failed = 0;
       for j = 1:numel (batch)
         r = res{j};
@@ -176,6 +208,7 @@ function [table, info] = sweep (fun, grid, varargin)
       end
       if (~isempty (opts.file))
         save_done (opts.file, done);
+        remove_parts (opts.file);
       end
       if (failed > 0)
         point_failed (keys{batch(failed)}, res{failed});
@@ -184,7 +217,7 @@ function [table, info] = sweep (fun, grid, varargin)
   else
     for p = todo'
       point = make_point (names, vals, subs, p, seeds(p));
-      r = run_point (fun, point);
+      r = sluice.kernel.sweep_point (fun, point, keys{p});
       if (~r.ok)
         point_failed (keys{p}, r);
       end
@@ -401,19 +434,6 @@ function point = make_point (names, vals, subs, p, seed)
   point.seed = seed;
 end
 
-function r = run_point (fun, point)
-  r = struct ('ok', true, 'scores', [], 'time', 0, 'message', '', 'identifier', '');
-  t0 = tic ();
-  try
-    r.scores = fun (point);
-  catch err
-    r.ok = false;
-    r.message = err.message;
-    r.identifier = err.identifier;
-  end
-  r.time = toc (t0);
-end
-
 function point_failed (key, r)
   if (isempty (r.identifier))
     why = r.message;
@@ -455,6 +475,31 @@ function t = point_text (key)
   t = regexprep (key, '=n:', '=');
   t = regexprep (t, '=s\d+:', '=');
   t = ['(' strrep(t(1:end-1), ';', ', ') ')'];
+end
+
+function [done, merged] = merge_parts (file, done, names)
+  parts = glob ([file '.part*']);
+  merged = false;
+  for i = 1:numel (parts)
+    try
+      s = load (parts{i});
+      e = s.sweep_part;
+      if (~any (strcmp (e.key, done.key)))
+        done = add_done (done, e.key, e.seed, e.time, check_scores (e.scores, names, e.key));
+        merged = true;
+      end
+    catch
+      % a part file that cannot be read is dropped: its point runs again
+    end
+  end
+  merged = merged || ~isempty (parts);
+end
+
+function remove_parts (file)
+  parts = glob ([file '.part*']);
+  for i = 1:numel (parts)
+    delete (parts{i});
+  end
 end
 
 function done = add_done (done, key, seed, time, scores)
