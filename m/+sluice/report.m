@@ -6,7 +6,12 @@
 % summary, all in one directory.
 %
 % @var{res} is a result of @code{sluice.filter} or of @code{sluice.twin}
-% (whose filter run is reported, with its truth and observations).
+% (whose filter run is reported, with its truth and observations), or
+% the table of @code{sluice.sweep} (a sweep report, below). When the run
+% has a smoothed estimate (@code{res.smoothed}, from the filter's
+% @code{lag} or from @code{sluice.smooth}), the fan charts also draw the
+% smoothed median (an orange line) and 90% band (orange dashes), and @code{smoothed.csv}
+% holds them.
 % The figures are drawn without a display (@code{figure ('visible', 'off')}
 % and @code{print}); when no graphics toolkit can print, the error
 % @code{sluice:report:nographics} says so.
@@ -38,6 +43,16 @@
 % the last cycle's mean and 90% interval of every state and parameter.
 % @end table
 %
+% A sweep report (@var{res} a table of @code{sluice.sweep}: its columns
+% before @code{seed} are the dimensions, those after it the scores)
+% writes @code{heat_<score>.png} for every score: the score over two
+% dimensions (@code{opts.axes}, default the first two; a cell dimension
+% such as a method name is drawn as categories) as coloured cells with
+% their values written in, averaged over the other dimensions (seeds or
+% replicates, say), darker for larger values; over one dimension, a line
+% with points. Plus @code{sweep.csv} (the table) and @code{summary.txt}
+% (the best point of every score).
+%
 % Options (a struct or name/value pairs):
 % @table @code
 % @item outdir
@@ -63,6 +78,10 @@
 % cellstr of variables whose fan chart is drawn on a logarithmic axis
 % (for quantities that grow by orders of magnitude, such as settlement
 % size).
+% @item axes
+% sweep report: the two dimensions of the heat maps (a cellstr).
+% @item scores
+% sweep report: the scores to draw (default all).
 % @end table
 %
 % @var{files} is a cellstr of the files written.
@@ -74,6 +93,14 @@ function files = report (res, varargin)
     print_usage ();
   end
   opts = parse_options (varargin);
+  if (is_sweep_table (res))
+    toolkit = find_toolkit ();
+    old = warning ('off', 'Octave:gnuplot-graphics');
+    restore = onCleanup (@() warning (old));
+    make_outdir (opts.outdir);
+    files = sweep_report (res, opts, toolkit);
+    return;
+  end
   [rf, obs, truth, scores] = unpack (res, opts);
   toolkit = find_toolkit ();
   % the gnuplot toolkit is the one that prints without a display: its
@@ -82,16 +109,7 @@ function files = report (res, varargin)
   restore = onCleanup (@() warning (old));
 
   outdir = opts.outdir;
-  if (~exist (outdir, 'dir'))
-    if (exist (outdir, 'file'))
-      error ('sluice:report:badoutdir', ...
-             'outdir ''%s'' exists and is not a directory', outdir);
-    end
-    [ok, msg] = mkdir (outdir);
-    if (~ok)
-      error ('sluice:report:badoutdir', 'cannot create outdir ''%s'': %s', outdir, msg);
-    end
-  end
+  make_outdir (outdir);
 
   lv = rf.quantile_levels(:)';
   i05 = level (lv, 0.05);
@@ -109,6 +127,7 @@ function files = report (res, varargin)
   n = numel (rf.state_names);
   used = {};
   moving = varying_params (rf);
+  sm = smoothed_of (rf);
   for k = 1:numel (names)
     if (k > n && ~moving(k - n))
       continue;   % a parameter held fixed has nothing to chart
@@ -120,6 +139,10 @@ function files = report (res, varargin)
       M = rf.params.mean(k - n, :);
       Q = reshape (rf.params.quantiles(k - n, :, :), numel (lv), []);
     end
+    S = [];
+    if (~isempty (sm))
+      S = smoothed_row (sm, k, n, lv);
+    end
     [tt, yt] = truth_of (truth, names{k}, k, n, rf.times);
     [to, yo] = obs_of (obs, names{k});
     base = unique_name (['fan_', safe_name(names{k})], used);
@@ -127,7 +150,7 @@ function files = report (res, varargin)
     f = fullfile (outdir, [base, '.png']);
     fan_chart (f, toolkit, rf.times, M, Q, idx, bands, to, yo, tt, yt, ...
                names{k}, label (names{k}, opts), time_label (opts), k > n, ...
-               any (strcmp (names{k}, opts.log_scale)));
+               any (strcmp (names{k}, opts.log_scale)), S);
     files{end + 1} = f;
   end
 
@@ -153,6 +176,11 @@ function files = report (res, varargin)
   f = fullfile (outdir, 'final.csv');
   write_final (f, rf, names, n, idx);
   files{end + 1} = f;
+  if (~isempty (sm))
+    f = fullfile (outdir, 'smoothed.csv');
+    write_series (f, smoothed_result (rf, sm), names, n);
+    files{end + 1} = f;
+  end
   f = fullfile (outdir, 'summary.txt');
   write_text (f, rf, opts, bands, toolkit, scores, ~isempty (obs), ~isempty (truth));
   files{end + 1} = f;
@@ -161,7 +189,8 @@ end
 
 function opts = parse_options (args)
   opts = struct ('outdir', 'out/report', 'obs', [], 'truth', [], 'rank', [], ...
-                 'units', struct (), 'time_unit', '', 'title', '', 'log_scale', {{}});
+                 'units', struct (), 'time_unit', '', 'title', '', 'log_scale', {{}}, ...
+                 'axes', {{}}, 'scores', {{}});
   if (numel (args) == 1 && isstruct (args{1}) && isscalar (args{1}))
     given = args{1};
     f = fieldnames (given);
@@ -209,6 +238,16 @@ function opts = parse_options (args)
   end
   if (~ischar (opts.title))
     error ('sluice:report:badoption', 'title must be a string');
+  end
+  for f = {'axes', 'scores'}
+    v = opts.(f{1});
+    if (ischar (v))
+      v = {v};
+    end
+    if (~iscellstr (v))
+      error ('sluice:report:badoption', '%s must be a cellstr of column names', f{1});
+    end
+    opts.(f{1}) = v;
   end
   r = opts.rank;
   if (~isempty (r) && (~isa (r, 'double') || ~isreal (r) || ~isvector (r) || ...
@@ -348,6 +387,8 @@ function c = palette (which)
       c = [0 0 0];
     case 'truth'
       c = [0.80 0.10 0.10];
+    case 'smooth'
+      c = [0.90 0.40 0.00];
     otherwise
       c = [0.85 0.55 0.05];
   end
@@ -369,7 +410,226 @@ function hb = band (t, lo, hi, c)
   hb = fill ([t, fliplr(t)], [lo, fliplr(hi)], c, 'edgecolor', c);
 end
 
-function fan_chart (f, tk, t, M, Q, idx, bands, to, yo, tt, yt, name, ylab, xlab, is_param, logy)
+function make_outdir (outdir)
+  if (~exist (outdir, 'dir'))
+    if (exist (outdir, 'file'))
+      error ('sluice:report:badoutdir', ...
+             'outdir ''%s'' exists and is not a directory', outdir);
+    end
+    [ok, msg] = mkdir (outdir);
+    if (~ok)
+      error ('sluice:report:badoutdir', 'cannot create outdir ''%s'': %s', outdir, msg);
+    end
+  end
+end
+
+function sm = smoothed_of (rf)
+  sm = [];
+  if (isfield (rf, 'smoothed') && isstruct (rf.smoothed) && isfield (rf.smoothed, 'states') ...
+      && isfield (rf.smoothed.states, 'quantiles'))
+    sm = rf.smoothed;
+  end
+end
+
+function S = smoothed_row (sm, k, n, lv)
+  % the smoothed median and 90% band of row k (the run's quantile levels)
+  S = [];
+  if (k <= n)
+    Q = sm.states.quantiles;
+    r = k;
+  else
+    Q = sm.params.quantiles;
+    r = k - n;
+  end
+  if (size (Q, 2) ~= numel (lv))
+    return;
+  end
+  Q = reshape (Q(r, :, :), numel (lv), []);
+  i05 = level (lv, 0.05);
+  i50 = level (lv, 0.5);
+  i95 = level (lv, 0.95);
+  if (~isempty (i50))
+    S.median = Q(i50, :);
+  end
+  if (~isempty (i05) && ~isempty (i95))
+    S.lo = Q(i05, :);
+    S.hi = Q(i95, :);
+  end
+end
+
+function r = smoothed_result (rf, sm)
+  % the smoothed summaries in the layout write_series reads
+  r = rf;
+  r.states = struct ('mean', sm.states.mean, 'quantiles', sm.states.quantiles);
+  if (isfield (sm, 'params') && isfield (sm.params, 'mean') && ...
+      size (sm.params.mean, 1) == numel (rf.param_names))
+    r.params = struct ('mean', sm.params.mean, 'quantiles', sm.params.quantiles);
+  end
+end
+
+function tf = is_sweep_table (res)
+  tf = isstruct (res) && isscalar (res) && isfield (res, 'seed') && ...
+       ~isfield (res, 'state_names') && ~isfield (res, 'filter');
+end
+
+function files = sweep_report (t, opts, tk)
+  f = fieldnames (t)';
+  is = find (strcmp (f, 'seed'), 1);
+  dims = f(1:is - 1);
+  sc = f(is + 1:end);
+  if (isempty (dims) || isempty (sc))
+    error ('sluice:report:badsweep', ...
+           'a sweep table needs dimension columns before ''seed'' and score columns after it');
+  end
+  if (~isempty (opts.scores))
+    bad = setdiff (opts.scores, sc);
+    if (~isempty (bad))
+      error ('sluice:report:badsweep', 'the sweep has no score ''%s'' (it has %s)', ...
+             bad{1}, strjoin (sc, ', '));
+    end
+    sc = opts.scores;
+  end
+  ax = opts.axes;
+  if (isempty (ax))
+    ax = dims(1:min (2, numel (dims)));
+  end
+  bad = setdiff (ax, dims);
+  if (~isempty (bad) || numel (ax) > 2 || numel (unique (ax)) < numel (ax))
+    error ('sluice:report:badsweep', ...
+           'axes must name one or two different dimensions of the sweep (%s)', strjoin (dims, ', '));
+  end
+  files = {};
+  lines = {'sluice sweep report', '', ...
+           sprintf('%d points; dimensions: %s', numel(t.seed), strjoin(dims, ', ')), ...
+           sprintf('drawn over: %s (mean over the other dimensions)', strjoin(ax, ' x ')), ''};
+  for k = 1:numel (sc)
+    y = t.(sc{k});
+    if (~isnumeric (y) && ~islogical (y))
+      continue;
+    end
+    y = double (y(:));
+    [lab1, g1] = categories (t.(ax{1}));
+    if (numel (ax) == 2)
+      [lab2, g2] = categories (t.(ax{2}));
+    else
+      lab2 = {''};
+      g2 = ones (size (g1));
+    end
+    ok = isfinite (y);
+    M = accumarray ([g2(ok), g1(ok)], y(ok), [numel(lab2), numel(lab1)], @mean, NaN);
+    fn = fullfile (opts.outdir, ['heat_', safe_name(sc{k}), '.png']);
+    if (numel (ax) == 2)
+      heat_chart (fn, tk, M, lab1, lab2, ax{1}, ax{2}, sc{k});
+    else
+      line_chart (fn, tk, M, lab1, ax{1}, sc{k});
+    end
+    files{end + 1} = fn;
+    [best, ib] = min (y);
+    [worst, iw] = max (y);
+    lines{end + 1} = sprintf ('%s: smallest %.4g at %s; largest %.4g at %s', sc{k}, ...
+                              best, point_of (t, dims, ib), worst, point_of (t, dims, iw));
+  end
+  fn = fullfile (opts.outdir, 'sweep.csv');
+  fid = open_file (fn);
+  cols = [dims, {'seed'}, f(is + 1:end)];
+  fprintf (fid, '%s\n', strjoin (cols, ','));
+  for i = 1:numel (t.seed)
+    cells = cell (1, numel (cols));
+    for c = 1:numel (cols)
+      v = t.(cols{c});
+      if (iscell (v))
+        cells{c} = v{i};
+      else
+        cells{c} = sprintf ('%.10g', v(i));
+      end
+    end
+    fprintf (fid, '%s\n', strjoin (cells, ','));
+  end
+  fclose (fid);
+  files{end + 1} = fn;
+  lines = [lines, {'', ['This report supports studies of flood risk; it is not a flood ', ...
+                        'warning and not a design method for defences: defer to local ', ...
+                        'codes and licensed engineering practice.']}];
+  fn = fullfile (opts.outdir, 'summary.txt');
+  fid = open_file (fn);
+  fprintf (fid, '%s\n', lines{:});
+  fclose (fid);
+  files{end + 1} = fn;
+  files = files(:);
+end
+
+function s = point_of (t, dims, i)
+  parts = cell (1, numel (dims));
+  for d = 1:numel (dims)
+    v = t.(dims{d});
+    if (iscell (v))
+      parts{d} = sprintf ('%s=%s', dims{d}, v{i});
+    else
+      parts{d} = sprintf ('%s=%g', dims{d}, v(i));
+    end
+  end
+  s = strjoin (parts, ', ');
+end
+
+function [labels, g] = categories (v)
+  if (iscell (v))
+    % categories in the order they first appear
+    [labels, ia, g] = unique (v(:));
+    [~, ord] = sort (ia);
+    rank = zeros (numel (ord), 1);
+    rank(ord) = 1:numel (ord);
+    labels = labels(ord)';
+    g = rank(g);
+  else
+    [u, ~, g] = unique (double (v(:)));
+    labels = arrayfun (@(x) sprintf ('%g', x), u(:)', 'UniformOutput', false);
+  end
+  g = g(:);
+end
+
+function heat_chart (f, tk, M, lab1, lab2, n1, n2, score)
+  h = new_figure (tk, [760 480]);
+  imagesc (M);
+  % light to dark blue: the report's ensemble colours
+  c0 = [0.95 0.97 1.00];
+  c1 = palette ('line');
+  z = linspace (0, 1, 64)';
+  colormap (c0 + z * (c1 - c0));
+  cb = colorbar ();
+  ylabel (cb, score, 'interpreter', 'none');
+  lo = min (M(:));
+  hi = max (M(:));
+  for i = 1:rows (M)
+    for j = 1:columns (M)
+      if (isfinite (M(i, j)))
+        dark = hi > lo && (M(i, j) - lo) / (hi - lo) > 0.55;
+        text (j, i, sprintf ('%.3g', M(i, j)), 'horizontalalignment', 'center', ...
+              'color', ifelse (dark, [1 1 1], [0 0 0]));
+      end
+    end
+  end
+  set (gca, 'xtick', 1:numel (lab1), 'xticklabel', lab1, 'ytick', 1:numel (lab2), ...
+       'yticklabel', lab2, 'ydir', 'normal');
+  xlabel (n1, 'interpreter', 'none');
+  ylabel (n2, 'interpreter', 'none');
+  title (sprintf ('%s over %s and %s', score, n1, n2), 'interpreter', 'none');
+  save_figure (h, f);
+end
+
+function line_chart (f, tk, M, lab1, n1, score)
+  h = new_figure (tk, [700 420]);
+  plot (1:numel (lab1), M(1, :), '-o', 'color', palette ('line'), ...
+        'markerfacecolor', palette ('line'), 'linewidth', 2);
+  set (gca, 'xtick', 1:numel (lab1), 'xticklabel', lab1);
+  xlim ([0.5, numel(lab1) + 0.5]);
+  tidy_axes ('on');
+  xlabel (n1, 'interpreter', 'none');
+  ylabel (score, 'interpreter', 'none');
+  title (sprintf ('%s over %s', score, n1), 'interpreter', 'none');
+  save_figure (h, f);
+end
+
+function fan_chart (f, tk, t, M, Q, idx, bands, to, yo, tt, yt, name, ylab, xlab, is_param, logy, S)
   h = new_figure (tk, [800 450]);
   hold on;
   hs = [];
@@ -390,6 +650,17 @@ function fan_chart (f, tk, t, M, Q, idx, bands, to, yo, tt, yt, name, ylab, xlab
   else
     hs(end + 1) = plot (t, M, '--', 'color', palette ('line'), 'linewidth', 2);
     leg{end + 1} = 'mean (no median recorded)';
+  end
+  if (~isempty (S))
+    if (isfield (S, 'median'))
+      hs(end + 1) = plot (t, S.median, '-', 'color', palette ('smooth'), 'linewidth', 2);
+      leg{end + 1} = 'smoothed median';
+    end
+    if (isfield (S, 'lo'))
+      hs(end + 1) = plot (t, S.lo, '--', 'color', palette ('smooth'), 'linewidth', 1.5);
+      leg{end + 1} = 'smoothed 90% band';
+      plot (t, S.hi, '--', 'color', palette ('smooth'), 'linewidth', 1.5);
+    end
   end
   if (~isempty (tt))
     hs(end + 1) = plot (tt, yt, '-', 'color', palette ('truth'), 'linewidth', 1.5);
