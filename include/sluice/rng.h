@@ -21,6 +21,7 @@ enum {
     SL_PURPOSE_OBS = 7,         /* synthetic observations of a twin run */
     SL_PURPOSE_ANALYSIS = 8,    /* perturbed observations of a stochastic EnKF */
     SL_PURPOSE_EVENT = 9,       /* perturbation of event values (flood levels) */
+    SL_PURPOSE_SMOOTH = 10,     /* backward-simulation draws of a smoother */
     SL_PURPOSE_USER = 64        /* first value left to callers */
 };
 
