@@ -571,6 +571,9 @@ function check_memory (n, p, q, N, m, opts)
     % the square-root analyses work with N x N matrices in ensemble space
     need = need + 8 * 3 * N^2;
   end
+  if (need < 2^30)
+    return;   % small runs: not worth the 3 ms memory () costs per call
+  end
   avail = Inf;
   try
     [~, sys] = memory ();
