@@ -4,7 +4,7 @@ function bench_sweep ()
   % text dimension), serially, without and with a results file (rewritten
   % after every point), and a rerun that reuses the whole file. Best of 3.
   % Then the speed-up of 2 workers (Octave's parallel package) on a sweep
-  % of 16 particle-filter runs of about 0.3 s each, one thread per run.
+  % of 16 particle-filter runs of about 0.3 s each (2e4 members), one thread per run.
   grid = struct ('interval', 1:10, 'members', [50 100 200 500 1000], ...
                  'method', {{'pf', 'etkf', 'enkf', 'apf'}});
   fun = @(p) struct ('rmse', p.interval, 'crps', p.members);
@@ -45,7 +45,7 @@ function bench_sweep ()
   run = @(p) struct ('ev', getfield (sluice.filter (spec, pr, obs, 'members', p.members, ...
                                                    'seed', p.seed, 'threads', 1, ...
                                                    'progress', false), 'log_evidence'));
-  g = struct ('members', [4000 4001 4002 4003], 'rep', 1:4);
+  g = struct ('members', [20000 20001 20002 20003], 'rep', 1:4);
   ts = Inf;
   tp = Inf;
   for r = 1:2
