@@ -635,8 +635,6 @@ static void forecast_mean(const sl_pf_config *cfg, const unsigned char *dead,
         out[i] = W > 0 ? out[i] / W : (double)NAN;
 }
 
-/* The ensemble Kalman analysis of cycle k: live members only, observed
- * rows only, states and transformed parameters together. */
 /* Multiplicative inflation of the live members' rows r0 .. r0+rows-1 of
  * an ld x L block about their mean. */
 static void inflate_rows(double *M, size_t ld, size_t r0, size_t rows,
@@ -653,6 +651,8 @@ static void inflate_rows(double *M, size_t ld, size_t r0, size_t rows,
     }
 }
 
+/* The ensemble Kalman analysis of cycle k: live members only, observed
+ * rows only, states and transformed parameters together. */
 static sl_status enkf_update(const sl_pf_config *cfg, pf_buffers *b, size_t k,
                              size_t r0, size_t m, const unsigned char *dead,
                              double *X, double *Z, double *P, double *infl,
@@ -863,6 +863,9 @@ sl_status sl_pf_run(const sl_pf_config *cfg, double *X, double *P, double *w,
     q = md->n_forcing;
     layout(cfg, (unsigned char *)work, &b);
     b.nt = N >= PAR_MIN_MEMBERS ? cfg->threads : 1;
+    if (b.nwin > 0 && (out->smean == NULL || (cfg->nq > 0 && out->squant == NULL)))
+        return sl_fail(err, SL_EINVAL, "badconfig",
+                       "a run with a lag needs the outputs smean and squant");
 
     memcpy(b.X[0], X, n * N * sizeof(double));
     memcpy(b.P[0], P, p * N * sizeof(double));

@@ -952,6 +952,12 @@ static void check_lag(void)
         free(keep.nonfinite);
         free(r1.X); free(r1.P); free(r1.w); free(r1.work);
     }
+    /* a lag without the smoothed outputs is refused */
+    cfg.lag = 2;
+    st = run(&cfg, X0, &r1, &err);
+    CHECK(st == SL_EINVAL && strcmp(err.reason, "badconfig") == 0,
+          "a lag without smean: status %d", (int)st);
+    run_free(&r1);
     cfg.lag = 0;
     run_free(&r0);
     free(X0);
