@@ -47,3 +47,22 @@
 %!     delete (parts{i});
 %!   end
 %! end_unwind_protect
+
+%!test
+%! % a grid over the filter's options, one of which the filter does not
+%! % know: the point fails with the filter's own message and identifier
+%! spec = sluice.model ('linear', 'A', 0.9, 'Q', 0.1);
+%! obs = struct ('time', (1:5)', 'variable', {repmat({'x1'}, 5, 1)}, ...
+%!               'value', zeros (5, 1), 'sigma', ones (5, 1));
+%! run = @(p) struct ('ev', getfield (sluice.filter (spec, [], obs, rmfield (p, 'seed')), ...
+%!                                    'log_evidence'));
+%! t = sluice.sweep (run, struct ('members', [10 20], 'progress', false), 'workers', 1);
+%! assert (all (isfinite (t.ev)));
+%! try
+%!   sluice.sweep (run, struct ('members', [10 20], 'membrs', 5), 'workers', 1);
+%!   error ('the sweep should have failed');
+%! catch err
+%!   assert (err.identifier, 'sluice:sweep:pointfailed');
+%!   assert (~isempty (strfind (err.message, 'membrs')), err.message);
+%!   assert (~isempty (strfind (err.message, 'sluice:filter:badoption')), err.message);
+%! end
