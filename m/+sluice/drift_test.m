@@ -84,13 +84,8 @@ function res = drift_test (model, prior, obs, names, steps, varargin)
   q = numel (names);
   steps = check_steps (steps, q);
 
-  args = varargin;
-  if (numel (args) == 1 && isstruct (args{1}) && isscalar (args{1}))
-    f = fieldnames (args{1});
-    v = struct2cell (args{1});
-    args = [f(:)'; v(:)'];
-    args = args(:)';
-  elseif (numel (args) == 1)
+  args = sluice.kernel.option_pairs (varargin);
+  if (numel (args) == 1)
     error ('sluice:drift_test:badoption', ...
            'argument 6 (opts): expected a scalar struct or name, value pairs, got %s', ...
            sluice.kernel.describe (args{1}));

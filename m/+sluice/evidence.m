@@ -54,13 +54,8 @@ function ev = evidence (model, prior, obs, varargin)
   if (nargin < 3)
     print_usage ();
   end
-  args = varargin;
-  if (numel (args) == 1 && isstruct (args{1}) && isscalar (args{1}))
-    names = fieldnames (args{1});
-    vals = struct2cell (args{1});
-    args = [names(:)'; vals(:)'];
-    args = args(:)';
-  elseif (numel (args) == 1)
+  args = sluice.kernel.option_pairs (varargin);
+  if (numel (args) == 1)
     error ('sluice:evidence:badoption', ...
            'argument 4 (opts): expected a scalar struct or name, value pairs, got %s', ...
            sluice.kernel.describe (args{1}));

@@ -574,18 +574,7 @@ function check_memory (n, p, q, N, m, opts)
   if (need < 2^30)
     return;   % small runs: not worth the 3 ms memory () costs per call
   end
-  avail = Inf;
-  try
-    [~, sys] = memory ();
-    avail = sys.PhysicalMemory.Available;
-  catch
-    % memory () is not available on every platform: rely on allocation errors
-  end
-  if (need > avail)
-    error ('sluice:filter:nomemory', ...
-           'a run of %d members needs about %.3g GB; %.3g GB are available', ...
-           N, need / 1e9, avail / 1e9);
-  end
+  sluice.kernel.ensure_memory (need, 'filter', sprintf ('a run of %d members', N));
 end
 
 function check_model (model)

@@ -191,13 +191,8 @@ function opts = parse_options (args)
   opts = struct ('outdir', 'out/report', 'obs', [], 'truth', [], 'rank', [], ...
                  'units', struct (), 'time_unit', '', 'title', '', 'log_scale', {{}}, ...
                  'axes', {{}}, 'scores', {{}});
-  if (numel (args) == 1 && isstruct (args{1}) && isscalar (args{1}))
-    given = args{1};
-    f = fieldnames (given);
-    vals = struct2cell (given);
-    args = [f(:)'; vals(:)'];
-    args = args(:)';
-  elseif (mod (numel (args), 2) ~= 0)
+  args = sluice.kernel.option_pairs (args);
+  if (mod (numel (args), 2) ~= 0)
     error ('sluice:report:badoption', ...
            'options must be a struct or name/value pairs, got %d trailing argument(s)', numel (args));
   end

@@ -137,7 +137,8 @@ function res = smooth (res, varargin)
       seed = whole (opts.seed, seed, 'seed', 0, 2^53, 'badoption');
       tries = whole (opts.rejection_tries, 0, 'rejection_tries', 0, 1000, 'badoption');
       n = size (h.X, 1);
-      check_memory (8 * (n * M * h.T + M * h.T + 2 * M) + 16 * n * h.N * h.T);
+      sluice.kernel.ensure_memory (8 * (n * M * h.T + M * h.T + 2 * M) + 16 * n * h.N * h.T, ...
+                                   'smooth', 'the smoother');
       [F, L] = transitions (res, h, opts.model, threads);
       s = run_kernel ('ffbsi', h.X, h.P, h.w, probs, threads, F, L, M, seed, tries);
       sm = struct ('method', 'ffbsi');
@@ -169,20 +170,6 @@ function s = run_kernel (varargin)
   end
 end
 
-function check_memory (need)
-  % refuse a smoother run that cannot fit before anything large is made
-  avail = Inf;
-  try
-    [~, sys] = memory ();
-    avail = sys.PhysicalMemory.Available;
-  catch
-    % memory () is not available on every platform: rely on allocation errors
-  end
-  if (need > avail)
-    error ('sluice:smooth:nomemory', ...
-           'the smoother needs about %.3g GB; %.3g GB are available', need / 1e9, avail / 1e9);
-  end
-end
 
 function [names, default] = smoothers_for (method)
   % the smoothers that apply to the result of each filter method

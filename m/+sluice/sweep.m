@@ -360,13 +360,7 @@ function opts = parse_options (args)
       error ('sluice:sweep:badoption', 'argument 3 (opts): expected a scalar struct, got %s', ...
              describe (args{1}));
     end
-    given = args{1};
-    f = fieldnames (given);
-    pairs = cell (1, 2 * numel (f));
-    for k = 1:numel (f)
-      pairs{2 * k - 1} = f{k};
-      pairs{2 * k} = given.(f{k});
-    end
+    pairs = sluice.kernel.option_pairs (args);
   else
     pairs = args;
     if (mod (numel (pairs), 2) ~= 0)

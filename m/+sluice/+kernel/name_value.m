@@ -1,13 +1,7 @@
 function opts = name_value (opts, args, fn)
   % Internal: merge name/value pairs (or one struct) into the defaults
   % opts; unknown names raise sluice:<fn>:badoption.
-  if (numel (args) == 1 && isstruct (args{1}))
-    given = args{1};
-    names = fieldnames (given);
-    vals = struct2cell (given);
-    args = [names(:)'; vals(:)'];
-    args = args(:)';
-  end
+  args = sluice.kernel.option_pairs (args);
   if (mod (numel (args), 2) ~= 0)
     error (['sluice:' fn ':badoption'], 'options must be a struct or name, value pairs');
   end
