@@ -496,80 +496,17 @@ function Y = predict (model, P, x0, defaults, is_state, srow, is_param, prow, ..
 end
 
 function tab = check_obs (obs, model, t0)
-  if (~isstruct (obs) || ~isscalar (obs))
-    error ('sluice:esmda:badobs', ...
-           'argument 3 (obs): expected a struct of columns time, variable, value, sigma, got %s', ...
-           sluice.kernel.describe (obs));
-  end
-  need = {'time', 'variable', 'value', 'sigma'};
-  for k = 1:numel (need)
-    if (~isfield (obs, need{k}))
-      error ('sluice:esmda:badobs', 'the observation table has no column ''%s''', need{k});
-    end
-  end
-  m = numel (obs.time);
-  if (m == 0)
+  % the filter's table checks (rows in any order), then what ES-MDA adds:
+  % at least one row, Gaussian rows only
+  tab = sluice.kernel.obs_table (obs, [model.states(:); model.params(:)], t0, 'esmda', false);
+  if (isempty (tab.time))
     error ('sluice:esmda:badobs', 'the observation table is empty');
   end
-  num = {'time', 'value', 'sigma'};
-  for k = 1:numel (num)
-    v = obs.(num{k});
-    if (~isa (v, 'double') || ~isreal (v) || issparse (v) || ~isvector (v) || numel (v) ~= m)
-      error ('sluice:esmda:badobs', ...
-             'observation column ''%s'' must be a real double vector with one entry per row (%d), got %s', ...
-             num{k}, m, sluice.kernel.describe (v));
-    end
-  end
-  var = obs.variable;
-  if (ischar (var) && m == 1)
-    var = {var};
-  end
-  if (~iscellstr (var) || numel (var) ~= m)
+  bad = find (~strcmpi (tab.family, 'gaussian'), 1);
+  if (~isempty (bad))
     error ('sluice:esmda:badobs', ...
-           'observation column ''variable'' must be a cellstr with one name per row (%d)', m);
-  end
-  if (isfield (obs, 'family'))
-    fam = obs.family;
-    if (ischar (fam))
-      fam = repmat ({fam}, m, 1);
-    end
-    if (~iscellstr (fam) || numel (fam) ~= m)
-      error ('sluice:esmda:badobs', ...
-             'observation column ''family'' must be a cellstr with one name per row');
-    end
-    bad = find (~strcmpi (fam(:), 'gaussian'), 1);
-    if (~isempty (bad))
-      error ('sluice:esmda:badobs', ...
-             'observation row %d: family ''%s''; the smoother takes Gaussian rows only', ...
-             bad, fam{bad});
-    end
-  end
-  names = [model.states(:); model.params(:)];
-  [ok, tab.var] = ismember (var(:), names);
-  tab.time = obs.time(:);
-  tab.value = obs.value(:);
-  tab.sigma = obs.sigma(:);
-  for i = 1:m
-    if (~ok(i))
-      error ('sluice:esmda:badobs', ...
-             'observation row %d: unknown variable ''%s'' (the model has %s)', ...
-             i, var{i}, strjoin (names', ', '));
-    end
-    if (~isfinite (tab.time(i)))
-      error ('sluice:esmda:badobs', 'observation row %d: time is not finite', i);
-    end
-    if (tab.time(i) < t0)
-      error ('sluice:esmda:badobs', ...
-             'observation row %d: time %g lies before the start of the run (%g)', ...
-             i, tab.time(i), t0);
-    end
-    if (isinf (tab.value(i)))
-      error ('sluice:esmda:badobs', 'observation row %d: value is infinite', i);
-    end
-    if (~(isfinite (tab.sigma(i)) && tab.sigma(i) > 0))
-      error ('sluice:esmda:badobs', ...
-             'observation row %d: sigma must be finite and > 0, got %g', i, tab.sigma(i));
-    end
+           'observation row %d: family ''%s''; the smoother takes Gaussian rows only', ...
+           bad, tab.family{bad});
   end
 end
 

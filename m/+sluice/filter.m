@@ -177,7 +177,8 @@ function res = filter (model, prior, obs, varargin)
 
   % observations and the cycle times
   ops = sluice.kernel.operators (opts.operators, model);
-  tab = check_obs (obs, model, t0, ops.names);
+  tab = sluice.kernel.obs_table (obs, [model.states(:); model.params(:); ops.names(:)], ...
+                                  t0, 'filter', true);
   times = unique ([tab.time(:); opts.times(:)])';
   if (isempty (times))
     error ('sluice:filter:noobs', 'no observation and no output time to run to');
@@ -639,93 +640,3 @@ function [X0, P0, lower, upper] = initial_ensemble (model, prior, N, seed)
   end
 end
 
-function tab = check_obs (obs, model, t0, derived)
-  if (~isstruct (obs) || ~isscalar (obs))
-    error ('sluice:filter:badobs', ...
-           'argument 3 (obs): expected a struct of columns time, variable, value, sigma');
-  end
-  need = {'time', 'variable', 'value', 'sigma'};
-  for k = 1:numel (need)
-    if (~isfield (obs, need{k}))
-      error ('sluice:filter:badobs', 'the observation table has no column ''%s''', need{k});
-    end
-  end
-  m = numel (obs.time);
-  num = {'time', 'value', 'sigma'};
-  for k = 1:numel (num)
-    v = obs.(num{k});
-    if (~isa (v, 'double') || ~isreal (v) || issparse (v) || ...
-        (~isempty (v) && ~isvector (v)) || numel (v) ~= m)
-      error ('sluice:filter:badobs', ...
-             'observation column ''%s'' must be a real double vector with one entry per row (%d), got %s', ...
-             num{k}, m, class (v));
-    end
-  end
-  var = obs.variable;
-  if (ischar (var) && m == 1)
-    var = {var};
-  end
-  if (~iscellstr (var) || numel (var) ~= m)
-    error ('sluice:filter:badobs', ...
-           'observation column ''variable'' must be a cellstr with one name per row (%d)', m);
-  end
-  tab.time = double (obs.time(:));
-  tab.value = double (obs.value(:));
-  tab.sigma = double (obs.sigma(:));
-  if (isfield (obs, 'family'))
-    fam = obs.family;
-    if (ischar (fam))
-      fam = repmat ({fam}, m, 1);
-    end
-    if (~iscellstr (fam) || numel (fam) ~= m)
-      error ('sluice:filter:badobs', ...
-             'observation column ''family'' must be a cellstr with one name per row');
-    end
-    tab.family = fam(:);
-  else
-    tab.family = repmat ({'gaussian'}, m, 1);
-  end
-  tab.aux = nan (m, 1);
-  extra = {'n', 'binomial'; 'dof', 'student_t'; 'limit', 'censored'};
-  for k = 1:rows (extra)
-    if (isfield (obs, extra{k, 1}))
-      v = obs.(extra{k, 1});
-      if (~isnumeric (v) || ~isreal (v) || numel (v) ~= m)
-        error ('sluice:filter:badobs', ...
-               'observation column ''%s'' must be numeric with one entry per row', extra{k, 1});
-      end
-      sel = strcmp (tab.family, extra{k, 2});
-      tab.aux(sel) = double (v(sel));
-    end
-  end
-  names = [model.states(:); model.params(:); derived(:)];
-  [ok, tab.var] = ismember (var(:), names);
-  for i = 1:m
-    if (~ok(i))
-      error ('sluice:filter:badobs', ...
-             'observation row %d: unknown variable ''%s'' (the model has %s)', ...
-             i, var{i}, strjoin (names', ', '));
-    end
-    if (~isfinite (tab.time(i)))
-      error ('sluice:filter:badobs', 'observation row %d: time is not finite', i);
-    end
-    if (i > 1 && tab.time(i) < tab.time(i - 1))
-      error ('sluice:filter:badobs', ...
-             'observation row %d: time %g comes before the previous row''s %g (rows must be in time order)', ...
-             i, tab.time(i), tab.time(i - 1));
-    end
-    if (tab.time(i) < t0)
-      error ('sluice:filter:badobs', ...
-             'observation row %d: time %g lies before the start of the run (%g)', ...
-             i, tab.time(i), t0);
-    end
-    if (isinf (tab.value(i)))
-      error ('sluice:filter:badobs', 'observation row %d: value is infinite', i);
-    end
-    if (~any (strcmp (tab.family{i}, {'poisson', 'binomial'})) && ...
-        ~(isfinite (tab.sigma(i)) && tab.sigma(i) > 0))
-      error ('sluice:filter:badobs', ...
-             'observation row %d: sigma must be finite and > 0, got %g', i, tab.sigma(i));
-    end
-  end
-end
