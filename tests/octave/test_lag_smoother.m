@@ -1,34 +1,14 @@
 % Fixed-lag smoothing inside the filter (option 'lag'): the particle
 % filter's window and the ensemble Kalman smoother against the exact
 % Rauch-Tung-Striebel smoother (Rauch, Tung & Striebel 1965), written
-% here, for linear-Gaussian models.
-
-%!function [ms, Ps] = rts (A, Q, H, R, m0, P0, Y)
-%!  % Kalman filter (Kalman 1960) then the RTS backward pass; Y is p x T
-%!  n = numel (m0); T = columns (Y);
-%!  mf = zeros (n, T); Pf = zeros (n, n, T); mp = mf; Pp = Pf;
-%!  m = m0; P = P0;
-%!  for k = 1:T
-%!    m = A * m; P = A * P * A' + Q;
-%!    mp(:, k) = m; Pp(:, :, k) = P;
-%!    K = P * H' / (H * P * H' + R);
-%!    m = m + K * (Y(:, k) - H * m); P = (eye (n) - K * H) * P;
-%!    mf(:, k) = m; Pf(:, :, k) = P;
-%!  end
-%!  ms = mf; Ps = Pf;
-%!  for k = T-1:-1:1
-%!    J = Pf(:, :, k) * A' / Pp(:, :, k + 1);
-%!    ms(:, k) = mf(:, k) + J * (ms(:, k + 1) - mp(:, k + 1));
-%!    Ps(:, :, k) = Pf(:, :, k) + J * (Ps(:, :, k + 1) - Pp(:, :, k + 1)) * J';
-%!  end
-%!endfunction
+% in tests/octave/kalman_rts.m, for linear-Gaussian models.
 
 %!test
 %! % the worked example of a random walk (A = 1, Q = R = 1, x0 ~ N(0, 1),
 %! % y = (1, 2, 0)): RTS smoothed means 6/7, 8/7, 4/7 and variances 10/21,
 %! % 10/21, 13/21 (hand-computed from the filtered means 2/3, 3/2, 4/7 and
 %! % variances 2/3, 5/8, 13/21)
-%! [ms, Ps] = rts (1, 1, 1, 1, 0, 1, [1 2 0]);
+%! [ms, Ps] = kalman_rts (1, 1, 1, 1, 0, 1, [1 2 0]);
 %! assert (ms, [6/7 8/7 4/7], 1e-12);
 %! assert (squeeze (Ps)', [10/21 10/21 13/21], 1e-12);
 %! spec = sluice.model ('linear', 'A', 1, 'Q', 1);
@@ -69,7 +49,7 @@
 %! end
 %! ref = zeros (2, T);
 %! for s = 1:T
-%!   ms = rts (A, Q, H, R, [1; 0], 0.5 * eye (2), Y(1:min (s + L, T)));
+%!   ms = kalman_rts (A, Q, H, R, [1; 0], 0.5 * eye (2), Y(1:min (s + L, T)));
 %!   ref(:, s) = ms(:, s);
 %! end
 %! spec = sluice.model ('linear', 'A', A, 'Q', Q);

@@ -1,39 +1,13 @@
 % Particle smoothers against the exact Rauch-Tung-Striebel smoother on
 % linear-Gaussian models, and the compiled smoother's argument checks.
 % Reference: the Kalman filter (Kalman 1960) followed by the
-% Rauch-Tung-Striebel smoother (Rauch, Tung & Striebel 1965), written below
-% from the textbook equations. Worked example of the project's model notes
-% (random walk A = 1, Q = R = 1, x0 ~ N(0, 1), y = (1, 2, 0)): smoothed
+% Rauch-Tung-Striebel smoother (Rauch, Tung & Striebel 1965), written in
+% tests/octave/kalman_rts.m from the textbook equations. Worked example of
+% the project's model notes (random walk A = 1, Q = R = 1, x0 ~ N(0, 1),
+% y = (1, 2, 0)): smoothed
 % means 6/7, 8/7, 4/7 and variances 10/21, 10/21, 13/21, computed by hand
 % from the RTS equations and checked by hand against the joint Gaussian
 % (posterior precision [2.5 -1 0; -1 3 -1; 0 -1 2], right-hand side y).
-
-%!function [ms, Ps, mf, Pf] = rts (A, Q, H, R, m0, P0, Y, c)
-%!  % Kalman filter then RTS smoother over model steps k = 1..T: x_k =
-%!  % A x_{k-1} + c(:, k) + q, y_k = H x_k + r; a NaN column of Y is a step
-%!  % without observation
-%!  T = columns (Y); n = numel (m0);
-%!  if (nargin < 8)
-%!    c = zeros (n, T);
-%!  end
-%!  mf = zeros (n, T); Pf = zeros (n, n, T); mp = mf; Pp = Pf;
-%!  m = m0; P = P0;
-%!  for k = 1:T
-%!    m = A * m + c(:, k); P = A * P * A' + Q;
-%!    mp(:, k) = m; Pp(:, :, k) = P;
-%!    if (~any (isnan (Y(:, k))))
-%!      S = H * P * H' + R; K = P * H' / S;
-%!      m = m + K * (Y(:, k) - H * m); P = (eye (n) - K * H) * P;
-%!    end
-%!    mf(:, k) = m; Pf(:, :, k) = P;
-%!  end
-%!  ms = mf; Ps = Pf;
-%!  for k = T-1:-1:1
-%!    J = Pf(:, :, k) * A' / Pp(:, :, k + 1);
-%!    ms(:, k) = mf(:, k) + J * (ms(:, k + 1) - mp(:, k + 1));
-%!    Ps(:, :, k) = Pf(:, :, k) + J * (Ps(:, :, k + 1) - Pp(:, :, k + 1)) * J';
-%!  end
-%!endfunction
 
 %!function v = diagonals (P)
 %!  % n x T variances from n x n x T covariances
@@ -59,7 +33,7 @@
 
 %!test
 %! % the worked example: the reference itself first, then both smoothers
-%! [ms, Ps] = rts (1, 1, 1, 1, 0, 1, [1 2 0]);
+%! [ms, Ps] = kalman_rts (1, 1, 1, 1, 0, 1, [1 2 0]);
 %! assert (ms, [6/7 8/7 4/7], 1e-14);
 %! assert (squeeze (Ps)', [10/21 10/21 13/21], 1e-14);
 %! spec = sluice.model ('linear', 'A', 1, 'Q', 1, 'states', {'x'});
@@ -103,7 +77,7 @@
 %!   x = A * x + Lq * randn (2, 1);
 %!   Y(k) = H * x + sqrt (R) * randn ();
 %! end
-%! [ms, Ps] = rts (A, Q, H, R, [0; 0], eye (2), Y);
+%! [ms, Ps] = kalman_rts (A, Q, H, R, [0; 0], eye (2), Y);
 %! spec = sluice.model ('linear', 'A', A, 'Q', Q, 'states', {'a', 'b'});
 %! pr = sluice.prior ('a', 'normal', [0 1], 'b', 'normal', [0 1]);
 %! obs = struct ('time', (1:T)', 'variable', {repmat({'a'}, T, 1)}, ...
@@ -163,7 +137,7 @@
 %!     Ym(k) = x + randn ();
 %!   end
 %! end
-%! [m1, P1] = rts (a, q, 1, 1, 0, 1, Ym, u(1:Tm)');
+%! [m1, P1] = kalman_rts (a, q, 1, 1, 0, 1, Ym, u(1:Tm)');
 %! m1 = m1(2:2:end); v1 = squeeze (P1(1, 1, 2:2:end))';
 %! s1 = sluice.model ('linear', 'A', a, 'Q', q, 'B', 1, 'forcings', {'u'}, 'states', {'x'});
 %! fo = struct ('time', (0:Tm)', 'values', u, 'interp', 'previous');
@@ -189,7 +163,7 @@
 %!   x = Ad * x + sn .* randn (2, 1);
 %!   Yn(:, k) = x + 0.6 * randn (2, 1);
 %! end
-%! [m2, P2] = rts (Ad, diag (sn .^ 2), eye (2), 0.36 * eye (2), [0; 0], eye (2), Yn);
+%! [m2, P2] = kalman_rts (Ad, diag (sn .^ 2), eye (2), 0.36 * eye (2), [0; 0], eye (2), Yn);
 %! fm = sluice.model (@(t, X, P, U, dt) Ad * X, 'states', {'p', 'q'});
 %! ob = struct ('time', kron ((1:Tn)', [1; 1]), 'variable', {repmat({'p'; 'q'}, Tn, 1)}, ...
 %!              'value', Yn(:), 'sigma', 0.6 * ones (2 * Tn, 1));
