@@ -1,107 +1,111 @@
-# sluice - build, test, demo, benchmark.
+# sluice - build, test, demo, benchmark, package.
 #   make            build libsluice and the Octave gateways
 #   make check      every test (C unit tests, then Octave tests)
 #   make demo       the demo scenario
 #   make bench      benchmarks (ratios against vectorised Octave)
 #   make check-asan C unit tests under AddressSanitizer + UBSan
+#   make pkg        the Octave package sluice-<version>.tar.gz
+#   make check-pkg  install that package in a temporary place, test it there
+#
+# Every target that compiles or runs Octave first runs the dependency step
+# (tools/deps.sh with tools/debian-packages); nothing here runs mkoctfile or
+# Octave while the makefile is read.
 
-SHELL    := /bin/bash
-CC       ?= cc
-OCTAVE   ?= octave-cli
-BUILD    ?= build
-MKOCT    := $(shell command -v mkoctfile 2>/dev/null)
+SHELL     := /bin/bash
+OCTAVE    ?= octave-cli
+OCTRUN     = $(OCTAVE) --no-gui --quiet --no-history --norc
+BUILD     ?= build
+MKOCTFILE ?= mkoctfile
+VERSION   := $(shell sed -n 's/^Version: *//p' DESCRIPTION)
+PKGFILE   := sluice-$(VERSION).tar.gz
 
-WARN     := -Wall -Wextra -Wshadow -Wpointer-arith -Wstrict-prototypes \
-            -Wmissing-prototypes -Wformat=2 -Wundef -Wcast-qual \
-            -Wwrite-strings -Wvla -Wdouble-promotion
-OPT      ?= -O2
-CSTD     := -std=c11 -D_POSIX_C_SOURCE=200809L
-# -fno-math-errno: sqrt and friends need not set errno, so loops over members
-# vectorise (NaN and Inf keep their meaning, unlike with -ffast-math)
-CFLAGS_ALL = $(CSTD) $(OPT) -g -fPIC -fopenmp -fno-math-errno $(WARN) -Iinclude $(EXTRA_CFLAGS)
-ifneq ($(MKOCT),)
-BLAS_LIBS   := $(shell mkoctfile -p BLAS_LIBS)
-LAPACK_LIBS := $(shell mkoctfile -p LAPACK_LIBS)
-OCT_INC     := $(shell mkoctfile -p INCFLAGS)
-endif
-LIBS     := -lgsl $(LAPACK_LIBS) $(BLAS_LIBS) -lm
+DEPS      := $(BUILD)/.deps-ok
+SL_SRC    := src
+SL_INC    := include
+SL_MEX    := mex
+SL_BUILD  := $(BUILD)
+SL_MEXOUT := m/+sluice/+kernel
+SL_ORDER  := $(DEPS)
+.DEFAULT_GOAL := all
+include mk/build.mk
 
-SRC      := $(sort $(wildcard src/*.c src/models/*.c))
-OBJ      := $(patsubst src/%.c,$(BUILD)/obj/%.o,$(SRC))
-LIB      := $(BUILD)/libsluice.a
-# mex/mex*.c are helpers linked into every gateway; the rest are gateways
-MEXHELP  := $(sort $(wildcard mex/mex*.c))
-MEXHOBJ  := $(patsubst mex/%.c,$(BUILD)/mex/%.o,$(MEXHELP))
-MEXSRC   := $(filter-out $(MEXHELP),$(sort $(wildcard mex/*.c)))
-MEXOUT   := $(patsubst mex/%.c,m/+sluice/+kernel/%.mex,$(MEXSRC))
-CTESTSRC := $(sort $(wildcard tests/c/test_*.c))
-CTESTS   := $(patsubst tests/c/%.c,$(BUILD)/tests/%,$(CTESTSRC))
-DEPS     := $(BUILD)/.deps-ok
+# the public functions, and for each a file m/sluice.<name> (a link to it)
+# that Octave's test and demo find: "test sluice.filter" then works
+PUBLIC    := $(sort $(basename $(notdir $(wildcard m/+sluice/*.m))))
+PUBLIC    := $(filter-out Contents,$(PUBLIC))
+TESTLINKS := $(addprefix m/sluice.,$(PUBLIC))
 
-.PHONY: all deps lib mex ctests check check-c check-octave check-asan demo bench clean
-# keep the object files of the gateways (they are intermediate to make)
-.PRECIOUS: $(BUILD)/mex/%.o
+CTESTSRC  := $(sort $(wildcard tests/c/test_*.c))
+CTESTS    := $(patsubst tests/c/%.c,$(BUILD)/tests/%,$(CTESTSRC))
 
-all: mex
+.PHONY: all deps lib mex links ctests check check-c check-octave check-asan \
+        demo bench pkg check-pkg clean
 
-# Debian packages the build needs; installed with apt-get when run as root.
-PKGS := octave liboctave-dev libgsl-dev libopenblas-dev librandom123-dev octave-statistics octave-parallel gnuplot-nox
+all: mex links
+
 deps: $(DEPS)
-$(DEPS):
-	@bash tools/deps.sh $(PKGS)
-	@mkdir -p $(BUILD) && touch $@
+# redone when the package list or the script changes
+$(DEPS): tools/debian-packages tools/deps.sh
+	@bash tools/deps.sh tools/debian-packages
+	@mkdir -p $(dir $@) && touch $@
 
-$(BUILD)/obj/%.o: src/%.c $(wildcard include/sluice/*.h) $(wildcard src/*.h src/models/*.h) | $(DEPS)
+lib: $(SL_LIB)
+mex: $(SL_MEXBIN)
+links: $(TESTLINKS)
+
+m/sluice.%: m/+sluice/%.m
+	@ln -sf +sluice/$*.m $@
+
+$(BUILD)/tests/%: tests/c/%.c $(SL_LIB) | $(DEPS)
 	@mkdir -p $(dir $@)
-	$(CC) $(CFLAGS_ALL) -c $< -o $@
-
-# the random streams are the hot loop of every filter: let the compiler
-# vectorise the Philox rounds over members
-$(BUILD)/obj/rng.o: OPT := -O3
-
-$(LIB): $(OBJ)
-	@rm -f $@
-	ar rcs $@ $^
-
-lib: $(LIB)
-
-$(BUILD)/mex/%.o: mex/%.c $(wildcard mex/*.h) $(wildcard include/sluice/*.h) | $(DEPS)
-	@mkdir -p $(dir $@)
-	$(CC) $(CFLAGS_ALL) -DMX_HAS_INTERLEAVED_COMPLEX=1 $(OCT_INC) -c $< -o $@
-
-m/+sluice/+kernel/%.mex: $(BUILD)/mex/%.o $(MEXHOBJ) $(LIB)
-	mkoctfile --mex -o $@ $^ -fopenmp $(LIBS)
-
-mex: $(MEXOUT)
-
-$(BUILD)/tests/%: tests/c/%.c tests/c/check.h $(LIB)
-	@mkdir -p $(dir $@)
-	$(CC) $(CFLAGS_ALL) -Itests/c $< $(LIB) -o $@ -fopenmp $(LIBS) $(EXTRA_LDFLAGS)
+	$(CC) $(SL_CFLAGS) -Itests/c $< $(SL_LIB) -o $@ -fopenmp $(SL_LIBS) $(EXTRA_LDFLAGS)
 
 ctests: $(CTESTS)
+-include $(CTESTS:=.d)
 
 check: all ctests
-	@bash tests/run_all.sh $(BUILD) "$(OCTAVE)"
+	@bash tests/run_all.sh $(BUILD) "$(OCTRUN)"
 
 check-c: ctests
 	@bash tests/run_all.sh $(BUILD) none
 
 check-octave: all
-	@bash tests/run_all.sh none "$(OCTAVE)"
+	@bash tests/run_all.sh none "$(OCTRUN)"
 
 # The C unit tests again, built with AddressSanitizer and UBSan.
 check-asan: | $(DEPS)
 	$(MAKE) BUILD=build-asan OPT=-O1 \
 	  EXTRA_CFLAGS="-fsanitize=address,undefined -fno-omit-frame-pointer -fno-sanitize-recover=undefined" \
 	  EXTRA_LDFLAGS="-fsanitize=address,undefined" ctests
-	@mkdir -p build-asan && touch build-asan/.deps-ok
 	@ASAN_OPTIONS=detect_leaks=1 bash tests/run_all.sh build-asan none
 
 demo: all
-	$(OCTAVE) --no-gui --quiet --eval "warning('off', 'Octave:shadowed-function'); addpath('$(CURDIR)/m'); addpath('$(CURDIR)/demos'); demo_flood_town; demo_river_town"
+	$(OCTRUN) --eval "warning('off', 'Octave:shadowed-function'); addpath('$(CURDIR)/m'); addpath('$(CURDIR)/demos'); demo_flood_town; demo_river_town"
 
 bench: all
-	$(OCTAVE) --no-gui --quiet --eval "warning('off', 'Octave:shadowed-function'); addpath('$(CURDIR)/m'); addpath('$(CURDIR)/tests/bench'); run_benchmarks"
+	$(OCTRUN) --eval "warning('off', 'Octave:shadowed-function'); addpath('$(CURDIR)/m'); addpath('$(CURDIR)/tests/bench'); run_benchmarks"
+
+# The Octave package: the .m files under inst/, the C sources under src/
+# with src/Makefile (mk/pkg-src.mk, which includes the same mk/build.mk).
+PKGDIR := $(BUILD)/pkg/sluice-$(VERSION)
+pkg: $(PKGFILE)
+$(PKGFILE): DESCRIPTION INDEX NEWS COPYING mk/build.mk mk/pkg-src.mk tools/pkg-add \
+            $(SL_CSRC) $(wildcard src/*.h src/models/*.h include/sluice/*.h mex/*.c mex/*.h) \
+            $(shell find m -name '*.m' 2>/dev/null)
+	@rm -rf $(BUILD)/pkg && mkdir -p $(PKGDIR)/inst $(PKGDIR)/src
+	cp DESCRIPTION INDEX NEWS COPYING $(PKGDIR)/
+	cp -r m/. $(PKGDIR)/inst
+	rm -f $(PKGDIR)/inst/+sluice/+kernel/*.mex $(PKGDIR)/inst/sluice.* $(PKGDIR)/inst/doc-cache
+	cp tools/pkg-add $(PKGDIR)/inst/PKG_ADD
+	cp -r src $(PKGDIR)/src/core
+	cp -r include mex $(PKGDIR)/src/
+	cp mk/build.mk $(PKGDIR)/src/build.mk
+	cp mk/pkg-src.mk $(PKGDIR)/src/Makefile
+	tar -C $(BUILD)/pkg -czf $@ sluice-$(VERSION)
+	@echo "built $@"
+
+check-pkg: $(PKGFILE) | $(DEPS)
+	@bash tests/check_pkg.sh $(PKGFILE) "$(OCTRUN)"
 
 clean:
-	rm -rf build build-asan m/+sluice/+kernel/*.mex out
+	rm -rf build build-asan out m/+sluice/+kernel/*.mex m/sluice.* m/doc-cache sluice-*.tar.gz

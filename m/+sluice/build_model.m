@@ -97,7 +97,13 @@ function [spec, rebuilt] = build_model (cfile, varargin)
     end
   end
 
-  root = fileparts (fileparts (fileparts (mfilename ('fullpath'))));
+  % in a clone the project's tree holds the library and the sources; an
+  % installed package carries them in the folder sdk beside +sluice
+  here = fileparts (fileparts (mfilename ('fullpath')));
+  root = fullfile (here, 'sdk');
+  if (~exist (fullfile (root, 'include', 'sluice'), 'dir'))
+    root = fileparts (here);
+  end
   lib = fullfile (root, 'build', 'libsluice.a');
   if (~exist (lib, 'file'))
     error ('sluice:build_model:notbuilt', ...
