@@ -66,7 +66,7 @@ function [spec, rebuilt] = build_model (cfile, varargin)
   if (nargin < 1)
     print_usage ();
   end
-  if (~ischar (cfile) || isempty (cfile) || rows (cfile) ~= 1)
+  if (~ischar (cfile) || isempty (cfile) || size (cfile, 1) ~= 1)
     error ('sluice:build_model:badclass', ...
            'argument 1 (cfile): expected the name of a C file, got %s', describe (cfile));
   end
@@ -183,19 +183,19 @@ function [opts, rest] = parse_options (args)
   for k = 1:2:numel (args)
     key = args{k};
     val = args{k + 1};
-    if (~ischar (key) || rows (key) ~= 1)
+    if (~ischar (key) || size (key, 1) ~= 1)
       error ('sluice:build_model:badoption', 'option %d: expected a name, got %s', ...
              (k + 1) / 2, describe (key));
     end
     switch (lower (key))
       case 'outdir'
-        if (~ischar (val) || isempty (val) || rows (val) ~= 1)
+        if (~ischar (val) || isempty (val) || size (val, 1) ~= 1)
           error ('sluice:build_model:badoption', ...
                  '''outdir'' must be the name of a folder, got %s', describe (val));
         end
         opts.outdir = val;
       case 'name'
-        if (~ischar (val) || rows (val) > 1 || ~valid_name (val))
+        if (~ischar (val) || size (val, 1) > 1 || ~valid_name (val))
           error ('sluice:build_model:badname', ...
                  '''name'' must be a valid Octave name of at most 58 characters, got %s', ...
                  describe (val));
@@ -228,7 +228,7 @@ function s = suggest_name (s)
 end
 
 function s = describe (v)
-  if (ischar (v) && rows (v) <= 1)
+  if (ischar (v) && size (v, 1) <= 1)
     s = [ v ];
   else
     dims = arrayfun (@(d) sprintf ('%d', d), size (v), 'UniformOutput', false);

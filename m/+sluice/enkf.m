@@ -65,7 +65,7 @@ function [Xa, info] = enkf (Xf, HXf, y, R, varargin)
     c.obs_pos = L.obs_pos;
     r = L.radius;
     if (isscalar (r))
-      r = repmat (r, rows (HXf), 1);
+      r = repmat (r, size (HXf, 1), 1);
     end
     c.obs_c = r;
     c.param_factor = 1;
