@@ -64,7 +64,7 @@
 % @end deftypefn
 function [spec, rebuilt] = build_model (cfile, varargin)
   if (nargin < 1)
-    print_usage ();
+    sluice.kernel.compat ('usage', mfilename ());
   end
   if (~ischar (cfile) || isempty (cfile) || size (cfile, 1) ~= 1)
     error ('sluice:build_model:badclass', ...

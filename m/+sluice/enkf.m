@@ -32,7 +32,7 @@
 % @end deftypefn
 function [Xa, info] = enkf (Xf, HXf, y, R, varargin)
   if (nargin < 4)
-    print_usage ();
+    sluice.kernel.compat ('usage', mfilename ());
   end
   opts = struct ('method', 'etkf', 'inflation', 1, 'rtpp', 0, 'rtps', 0, ...
                  'seed', 0, 'cycle', 0, 'threads', 0, 'localization', [], ...

@@ -82,7 +82,7 @@
 % @end deftypefn
 function spec = model (kind, varargin)
   if (nargin < 1)
-    print_usage ();
+    sluice.kernel.compat ('usage', mfilename ());
   end
   spec = struct ('kind', '', 'name', '', 'summary', '', 'states', {{}}, ...
                  'params', {{}}, 'forcings', {{}}, 'events', {{}}, ...

@@ -152,7 +152,7 @@ function res = pmmh (model, prior, obs, varargin)
     return;
   end
   if (nargin < 3)
-    print_usage ();
+    sluice.kernel.compat ('usage', mfilename ());
   end
   t_all = tic ();
   check_model (model);

@@ -45,7 +45,7 @@
 % @end deftypefn
 function [obs, nmissing] = read_obs (filename)
   if (nargin ~= 1)
-    print_usage ();
+    sluice.kernel.compat ('usage', mfilename ());
   end
   if (~ischar (filename) || isempty (filename) || size (filename, 1) ~= 1)
     error ('sluice:read_obs:badfilename', ...

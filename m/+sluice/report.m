@@ -90,7 +90,7 @@
 % @end deftypefn
 function files = report (res, varargin)
   if (nargin < 1)
-    print_usage ();
+    sluice.kernel.compat ('usage', mfilename ());
   end
   opts = parse_options (varargin);
   if (is_sweep_table (res))

@@ -109,7 +109,7 @@
 
 function [table, info] = sweep (fun, grid, varargin)
   if (nargin < 2)
-    print_usage ();
+    sluice.kernel.compat ('usage', mfilename ());
   end
   t_all = tic ();
   check_fun (fun);

@@ -120,7 +120,7 @@
 % @end deftypefn
 function res = twin (model, truth, network, varargin)
   if (nargin < 3)
-    print_usage ();
+    sluice.kernel.compat ('usage', mfilename ());
   end
   opts = struct ('seed', 1, 'prior', [], 'filter', {{}}, 'openloop', true);
   opts = sluice.kernel.name_value (opts, varargin, 'twin');

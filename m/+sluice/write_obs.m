@@ -27,7 +27,7 @@
 % @end deftypefn
 function write_obs (filename, obs)
   if (nargin ~= 2 || nargout > 0)
-    print_usage ();
+    sluice.kernel.compat ('usage', mfilename ());
   end
   if (~ischar (filename) || isempty (filename) || size (filename, 1) ~= 1)
     error ('sluice:write_obs:badfilename', ...
