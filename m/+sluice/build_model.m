@@ -72,7 +72,7 @@ function [spec, rebuilt] = build_model (cfile, varargin)
   end
   [opts, model_args] = parse_options (varargin);
 
-  cfile = make_absolute_filename (cfile);
+  cfile = sluice.kernel.compat ('absolute_path', cfile);
   if (~exist (cfile, 'file') || exist (cfile, 'dir'))
     error ('sluice:build_model:nofile', 'no C file ''%s''', cfile);
   end
@@ -114,7 +114,7 @@ function [spec, rebuilt] = build_model (cfile, varargin)
   if (isempty (outdir))
     outdir = cdir;
   end
-  outdir = make_absolute_filename (outdir);
+  outdir = sluice.kernel.compat ('absolute_path', outdir);
   if (~exist (outdir, 'dir'))
     [ok, msg] = mkdir (outdir);
     if (~ok)
@@ -153,8 +153,8 @@ function [spec, rebuilt] = build_model (cfile, varargin)
     for k = 1:2
       [~, fn] = fileparts (targets{k});
       found = which (fn);   % loads the MEX file
-      if (isempty (found) || ~strcmp (canonicalize_file_name (found), ...
-                                      canonicalize_file_name (targets{k})))
+      if (isempty (found) || ~strcmp (sluice.kernel.compat ('canonical_path', found), ...
+                                      sluice.kernel.compat ('canonical_path', targets{k})))
         error ('sluice:build_model:shadowed', ...
                'the MEX file %s is shadowed by %s on the path', targets{k}, found);
       end
@@ -336,7 +336,7 @@ function compile (cfile, cdir, root, lib, outdir, targets)
   % 3. the two gateways, compiled side by side. mkoctfile does not quote
   % the paths of its link step, so it runs inside the build folder with
   % relative names only; "root" there points at the project
-  [err, ~] = symlink (root, fullfile (tmp, 'root'));
+  [err, ~] = sluice.kernel.compat ('symlink', root, fullfile (tmp, 'root'));
   if (err == 0)
     top = 'root';
   else
@@ -367,7 +367,7 @@ function compile (cfile, cdir, root, lib, outdir, targets)
     end
   end
   for k = 1:2
-    [status, msg] = rename (fullfile (tmp, [names{k} '.' mexext()]), targets{k});
+    [status, msg] = sluice.kernel.compat ('rename', fullfile (tmp, [names{k} '.' mexext()]), targets{k});
     if (status ~= 0)
       error ('sluice:build_model:badoutdir', 'cannot write %s: %s', targets{k}, msg);
     end
@@ -378,7 +378,7 @@ function check_definition (mk, cfile, uobj, tmp, inc, lib, libs)
   csrc = fullfile (tmp, 'check.c');
   exe = fullfile (tmp, 'check');
   fid = fopen (csrc, 'w');
-  fputs (fid, strjoin (checker_source (), char (10)));
+  fprintf (fid, '%s', strjoin (checker_source (), char (10)));
   fclose (fid);
   cc = config_value (mk, 'CC');
   cmd = sprintf ('%s -std=gnu11 %s %s %s %s -o %s -fopenmp %s', cc, inc, shell_quote (csrc), ...
@@ -677,7 +677,7 @@ function remove_folder (d)
     f = dir (d);
     for k = 1:numel (f)
       if (~any (strcmp (f(k).name, {'.', '..'})))
-        unlink (fullfile (d, f(k).name));
+        sluice.kernel.compat ('delete_file', fullfile (d, f(k).name));
       end
     end
     rmdir (d);

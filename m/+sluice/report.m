@@ -318,11 +318,11 @@ end
 function tk = find_toolkit ()
   % a toolkit that can print without a display
   tk = '';
-  if (~exist ('OCTAVE_VERSION', 'builtin'))
+  if (~sluice.kernel.compat ('is_octave'))
     tk = 'native';
     return;
   end
-  avail = available_graphics_toolkits ();
+  avail = sluice.kernel.compat ('graphics_toolkits');
   if (isempty (avail))
     error ('sluice:report:nographics', ...
            ['no graphics toolkit is available to draw the figures ', ...
@@ -340,11 +340,7 @@ function tk = find_toolkit ()
 end
 
 function h = new_figure (tk, wh)
-  if (strcmp (tk, 'native'))
-    h = figure ('visible', 'off');
-  else
-    h = figure ('visible', 'off', '__graphics_toolkit__', tk);
-  end
+  h = sluice.kernel.compat ('hidden_figure', tk);
   set (h, 'paperunits', 'inches', 'paperposition', [0 0 wh / 100]);
 end
 
