@@ -81,7 +81,13 @@ $(BUILD)/tests/%: tests/c/%.c tests/c/check.h $(LIB)
 ctests: $(CTESTS)
 
 check: all ctests
+	@bash tools/lint_matlab
 	@bash tests/run_all.sh $(BUILD) "$(OCTAVE)"
+
+.PHONY: lint
+# m/ in the language Octave and MATLAB share, mex/ without platform headers
+lint:
+	@bash tools/lint_matlab
 
 check-c: ctests
 	@bash tests/run_all.sh $(BUILD) none
