@@ -6,6 +6,7 @@
 #   make check-asan C unit tests under AddressSanitizer + UBSan
 #   make pkg        the Octave package sluice-<version>.tar.gz
 #   make check-pkg  install that package in a temporary place, test it there
+#   make lint       m/ in the Octave/MATLAB subset, mex/ free of platform headers
 #
 # Every target that compiles or runs Octave first runs the dependency step
 # (tools/deps.sh with tools/debian-packages); nothing here runs mkoctfile or
@@ -39,7 +40,7 @@ CTESTSRC  := $(sort $(wildcard tests/c/test_*.c))
 CTESTS    := $(patsubst tests/c/%.c,$(BUILD)/tests/%,$(CTESTSRC))
 
 .PHONY: all deps lib mex links ctests check check-c check-octave check-asan \
-        demo bench pkg check-pkg clean
+        demo bench pkg check-pkg lint clean
 
 all: mex links
 
@@ -64,7 +65,12 @@ ctests: $(CTESTS)
 -include $(CTESTS:=.d)
 
 check: all ctests
+	@bash tools/lint_matlab
 	@bash tests/run_all.sh $(BUILD) "$(OCTRUN)"
+
+# m/ in the language Octave and MATLAB share, mex/ without platform headers
+lint:
+	@bash tools/lint_matlab
 
 check-c: ctests
 	@bash tests/run_all.sh $(BUILD) none

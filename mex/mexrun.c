@@ -4,8 +4,6 @@
 #include <stdio.h>
 #include <stdint.h>
 #include <string.h>
-#include <time.h>
-#include <unistd.h>
 
 #include "mexutil.h"
 
@@ -213,17 +211,10 @@ void slm_handle_obs_raise(const char *fn, const slm_handle_obs *ho)
     slm_fail(fn, "badoperatoroutput", "%s", ho->message);
 }
 
-static double now_seconds(void)
-{
-    struct timespec ts;
-    clock_gettime(CLOCK_MONOTONIC, &ts);
-    return (double)ts.tv_sec + 1e-9 * (double)ts.tv_nsec;
-}
-
 void slm_poll_init(slm_poll *pl, int mode)
 {
-    pl->start = pl->last = now_seconds();
-    pl->show = mode == 1 || (mode == 2 && isatty(STDOUT_FILENO));
+    pl->start = pl->last = slm_monotonic_seconds();
+    pl->show = mode == 1 || (mode == 2 && slm_stdout_is_terminal());
     pl->shown = 0;
 }
 
@@ -245,7 +236,7 @@ static int call_progress(slm_poll *pl, double fraction, double elapsed,
 int slm_poll_fn(void *ctx, double fraction)
 {
     slm_poll *pl = (slm_poll *)ctx;
-    double t = now_seconds(), elapsed = t - pl->start;
+    double t = slm_monotonic_seconds(), elapsed = t - pl->start;
     int show;
     if (t - pl->last < 0.1)
         return 0;
@@ -259,5 +250,5 @@ int slm_poll_fn(void *ctx, double fraction)
 void slm_poll_finish(slm_poll *pl)
 {
     if (pl->shown)
-        call_progress(pl, 1.0, now_seconds() - pl->start, 2.0);
+        call_progress(pl, 1.0, slm_monotonic_seconds() - pl->start, 2.0);
 }

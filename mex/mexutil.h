@@ -75,6 +75,11 @@ void *slm_alloc(const char *fn, size_t count, size_t size);
 /* An uninitialised rows x cols double matrix, with the same size checks. */
 mxArray *slm_create(const char *fn, size_t rows, size_t cols);
 
+/* Platform services (mex/mexplatform.c, the one file with platform code):
+ * a monotonic clock in seconds, and whether standard output is a terminal. */
+double slm_monotonic_seconds(void);
+int slm_stdout_is_terminal(void);
+
 /* Numbers of threads to use: `requested` if > 0, else omp_get_max_threads(). */
 int slm_threads(double requested);
 

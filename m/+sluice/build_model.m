@@ -64,15 +64,15 @@
 % @end deftypefn
 function [spec, rebuilt] = build_model (cfile, varargin)
   if (nargin < 1)
-    print_usage ();
+    sluice.kernel.compat ('usage', mfilename ());
   end
-  if (~ischar (cfile) || isempty (cfile) || rows (cfile) ~= 1)
+  if (~ischar (cfile) || isempty (cfile) || size (cfile, 1) ~= 1)
     error ('sluice:build_model:badclass', ...
            'argument 1 (cfile): expected the name of a C file, got %s', describe (cfile));
   end
   [opts, model_args] = parse_options (varargin);
 
-  cfile = make_absolute_filename (cfile);
+  cfile = sluice.kernel.compat ('absolute_path', cfile);
   if (~exist (cfile, 'file') || exist (cfile, 'dir'))
     error ('sluice:build_model:nofile', 'no C file ''%s''', cfile);
   end
@@ -109,7 +109,7 @@ function [spec, rebuilt] = build_model (cfile, varargin)
     error ('sluice:build_model:notbuilt', ...
            'the library %s is missing: run make in %s first', lib, root);
   end
-  sources = fullfile (root, 'mex', {'pf_run.c', 'model_info.c', 'mexutil.c', 'mexrun.c'});
+  sources = fullfile (root, 'mex', {'pf_run.c', 'model_info.c', 'mexutil.c', 'mexrun.c', 'mexplatform.c'});
   for k = 1:numel (sources)
     if (~exist (sources{k}, 'file'))
       error ('sluice:build_model:notbuilt', 'the gateway source %s is missing', sources{k});
@@ -120,7 +120,7 @@ function [spec, rebuilt] = build_model (cfile, varargin)
   if (isempty (outdir))
     outdir = cdir;
   end
-  outdir = make_absolute_filename (outdir);
+  outdir = sluice.kernel.compat ('absolute_path', outdir);
   if (~exist (outdir, 'dir'))
     [ok, msg] = mkdir (outdir);
     if (~ok)
@@ -159,8 +159,8 @@ function [spec, rebuilt] = build_model (cfile, varargin)
     for k = 1:2
       [~, fn] = fileparts (targets{k});
       found = which (fn);   % loads the MEX file
-      if (isempty (found) || ~strcmp (canonicalize_file_name (found), ...
-                                      canonicalize_file_name (targets{k})))
+      if (isempty (found) || ~strcmp (sluice.kernel.compat ('canonical_path', found), ...
+                                      sluice.kernel.compat ('canonical_path', targets{k})))
         error ('sluice:build_model:shadowed', ...
                'the MEX file %s is shadowed by %s on the path', targets{k}, found);
       end
@@ -189,19 +189,19 @@ function [opts, rest] = parse_options (args)
   for k = 1:2:numel (args)
     key = args{k};
     val = args{k + 1};
-    if (~ischar (key) || rows (key) ~= 1)
+    if (~ischar (key) || size (key, 1) ~= 1)
       error ('sluice:build_model:badoption', 'option %d: expected a name, got %s', ...
              (k + 1) / 2, describe (key));
     end
     switch (lower (key))
       case 'outdir'
-        if (~ischar (val) || isempty (val) || rows (val) ~= 1)
+        if (~ischar (val) || isempty (val) || size (val, 1) ~= 1)
           error ('sluice:build_model:badoption', ...
                  '''outdir'' must be the name of a folder, got %s', describe (val));
         end
         opts.outdir = val;
       case 'name'
-        if (~ischar (val) || rows (val) > 1 || ~valid_name (val))
+        if (~ischar (val) || size (val, 1) > 1 || ~valid_name (val))
           error ('sluice:build_model:badname', ...
                  '''name'' must be a valid Octave name of at most 58 characters, got %s', ...
                  describe (val));
@@ -234,7 +234,7 @@ function s = suggest_name (s)
 end
 
 function s = describe (v)
-  if (ischar (v) && rows (v) <= 1)
+  if (ischar (v) && size (v, 1) <= 1)
     s = [ v ];
   else
     dims = arrayfun (@(d) sprintf ('%d', d), size (v), 'UniformOutput', false);
@@ -342,7 +342,7 @@ function compile (cfile, cdir, root, lib, outdir, targets)
   % 3. the two gateways, compiled side by side. mkoctfile does not quote
   % the paths of its link step, so it runs inside the build folder with
   % relative names only; "root" there points at the project
-  [err, ~] = symlink (root, fullfile (tmp, 'root'));
+  [err, ~] = sluice.kernel.compat ('symlink', root, fullfile (tmp, 'root'));
   if (err == 0)
     top = 'root';
   else
@@ -354,10 +354,10 @@ function compile (cfile, cdir, root, lib, outdir, targets)
   part = cell (1, 2);
   for k = 1:2
     line = sprintf (['cd %s && %s --mex -o %s -DSLUICE_USER_MODEL -DMX_HAS_INTERLEAVED_COMPLEX=1 ', ...
-                     '-I%s -I%s %s model.o %s %s %s %s -O2 -fopenmp'], ...
+                     '-I%s -I%s %s model.o %s %s %s %s %s -O2 -fopenmp'], ...
                     shell_quote (tmp), shell_quote (mk), [names{k} '.' mexext()], ...
                     rel (top, 'include'), rel (top, 'mex'), rel (top, 'mex', gw{k}), ...
-                    rel (top, 'mex', 'mexutil.c'), rel (top, 'mex', 'mexrun.c'), ...
+                    rel (top, 'mex', 'mexutil.c'), rel (top, 'mex', 'mexrun.c'), rel (top, 'mex', 'mexplatform.c'), ...
                     rel (top, 'build', 'libsluice.a'), libs);
     part{k} = sprintf ('(%s > %s 2>&1; echo $? > %s) &', line, ...
                        shell_quote (fullfile (tmp, [names{k} '.log'])), ...
@@ -373,7 +373,7 @@ function compile (cfile, cdir, root, lib, outdir, targets)
     end
   end
   for k = 1:2
-    [status, msg] = rename (fullfile (tmp, [names{k} '.' mexext()]), targets{k});
+    [status, msg] = sluice.kernel.compat ('rename', fullfile (tmp, [names{k} '.' mexext()]), targets{k});
     if (status ~= 0)
       error ('sluice:build_model:badoutdir', 'cannot write %s: %s', targets{k}, msg);
     end
@@ -384,7 +384,7 @@ function check_definition (mk, cfile, uobj, tmp, inc, lib, libs)
   csrc = fullfile (tmp, 'check.c');
   exe = fullfile (tmp, 'check');
   fid = fopen (csrc, 'w');
-  fputs (fid, strjoin (checker_source (), char (10)));
+  fprintf (fid, '%s', strjoin (checker_source (), char (10)));
   fclose (fid);
   cc = config_value (mk, 'CC');
   cmd = sprintf ('%s -std=gnu11 %s %s %s %s -o %s -fopenmp %s', cc, inc, shell_quote (csrc), ...
@@ -683,7 +683,7 @@ function remove_folder (d)
     f = dir (d);
     for k = 1:numel (f)
       if (~any (strcmp (f(k).name, {'.', '..'})))
-        unlink (fullfile (d, f(k).name));
+        sluice.kernel.compat ('delete_file', fullfile (d, f(k).name));
       end
     end
     rmdir (d);

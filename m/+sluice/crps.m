@@ -29,7 +29,7 @@
 % @end deftypefn
 function c = crps (X, y)
   if (nargin ~= 2)
-    print_usage ();
+    sluice.kernel.compat ('usage', mfilename ());
   end
   sluice.kernel.check_real (X, 1, 'X', false, 'crps');
   if (ndims (X) ~= 2)

@@ -37,7 +37,7 @@
 
 function [P, names] = draw (prior, N, seed)
   if (nargin ~= 3)
-    print_usage ();
+    sluice.kernel.compat ('usage', mfilename ());
   end
   dists = {'uniform', 'normal', 'lognormal', 'truncnormal', 'fixed'};
   counts = [2 2 2 4 1];

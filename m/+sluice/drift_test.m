@@ -73,7 +73,7 @@
 % @end deftypefn
 function res = drift_test (model, prior, obs, names, steps, varargin)
   if (nargin < 5)
-    print_usage ();
+    sluice.kernel.compat ('usage', mfilename ());
   end
   if (~isstruct (model) || ~isscalar (model) || ~isfield (model, 'params'))
     error ('sluice:drift_test:badmodel', ...

@@ -32,7 +32,7 @@
 % @end deftypefn
 function [Xa, info] = enkf (Xf, HXf, y, R, varargin)
   if (nargin < 4)
-    print_usage ();
+    sluice.kernel.compat ('usage', mfilename ());
   end
   opts = struct ('method', 'etkf', 'inflation', 1, 'rtpp', 0, 'rtps', 0, ...
                  'seed', 0, 'cycle', 0, 'threads', 0, 'localization', [], ...
@@ -65,7 +65,7 @@ function [Xa, info] = enkf (Xf, HXf, y, R, varargin)
     c.obs_pos = L.obs_pos;
     r = L.radius;
     if (isscalar (r))
-      r = repmat (r, rows (HXf), 1);
+      r = repmat (r, size (HXf, 1), 1);
     end
     c.obs_c = r;
     c.param_factor = 1;

@@ -105,11 +105,11 @@
 % @end deftypefn
 function [post, info] = esmda (fwd, prior, data, varargin)
   if (nargin < 3)
-    print_usage ();
+    sluice.kernel.compat ('usage', mfilename ());
   end
   if (isa (fwd, 'function_handle'))
     if (nargin < 4)
-      print_usage ();
+      sluice.kernel.compat ('usage', mfilename ());
     end
     noise = varargin{1};
     opts = parse_options (varargin(2:end), false);

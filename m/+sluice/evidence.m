@@ -52,7 +52,7 @@
 % @end deftypefn
 function ev = evidence (model, prior, obs, varargin)
   if (nargin < 3)
-    print_usage ();
+    sluice.kernel.compat ('usage', mfilename ());
   end
   args = sluice.kernel.option_pairs (varargin);
   if (numel (args) == 1)

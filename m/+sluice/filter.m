@@ -154,7 +154,7 @@
 % @end deftypefn
 function res = filter (model, prior, obs, varargin)
   if (nargin < 3)
-    print_usage ();
+    sluice.kernel.compat ('usage', mfilename ());
   end
   opts = parse_options (varargin);
   check_model (model);

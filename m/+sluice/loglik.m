@@ -78,7 +78,7 @@
 
 function [ll, nskipped] = loglik (family, y, Yhat, sigma, aux)
   if (nargin < 4 || nargin > 5)
-    print_usage ();
+    sluice.kernel.compat ('usage', mfilename ());
   end
   if (nargin < 5)
     if (ischar (family))
@@ -211,8 +211,8 @@ end
 %! assert (ll, ref, 1e-12);
 
 % argument count
-%!error id=Octave:invalid-fun-call sluice.loglik ()
-%!error id=Octave:invalid-fun-call sluice.loglik ('gaussian', 1, 1)
+%!error id=sluice:loglik:usage sluice.loglik ()
+%!error id=sluice:loglik:usage sluice.loglik ('gaussian', 1, 1)
 %!error id=Octave:invalid-fun-call sluice.loglik ('gaussian', 1, 1, 1, 1, 1)
 %!error id=sluice:loglik:nargin sluice.kernel.loglik ('gaussian', 1, 1, 1)
 %!error id=sluice:loglik:nargout [a, b, c] = sluice.kernel.loglik ('gaussian', 1, 1, 1, NaN)

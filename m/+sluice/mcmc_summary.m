@@ -49,7 +49,7 @@
 % @end deftypefn
 function s = mcmc_summary (samples, varargin)
   if (nargin < 1)
-    print_usage ();
+    sluice.kernel.compat ('usage', mfilename ());
   end
   if (~(isa (samples, 'double') || isa (samples, 'single')) || ~isreal (samples) || ...
       issparse (samples) || ndims (samples) > 3 || isempty (samples))

@@ -82,7 +82,7 @@
 % @end deftypefn
 function spec = model (kind, varargin)
   if (nargin < 1)
-    print_usage ();
+    sluice.kernel.compat ('usage', mfilename ());
   end
   spec = struct ('kind', '', 'name', '', 'summary', '', 'states', {{}}, ...
                  'params', {{}}, 'forcings', {{}}, 'events', {{}}, ...
@@ -344,9 +344,9 @@ function spec = check_linear (spec)
   if (isempty (A))
     error ('sluice:model:badmodel', 'the linear model needs a matrix ''A''');
   end
-  n = rows (A);
-  if (columns (A) ~= n || ndims (A) ~= 2)
-    error ('sluice:model:badsize', 'A must be square, got %dx%d', rows (A), columns (A));
+  n = size (A, 1);
+  if (size (A, 2) ~= n || ndims (A) ~= 2)
+    error ('sluice:model:badsize', 'A must be square, got %dx%d', size (A, 1), size (A, 2));
   end
   if (isempty (spec.states))
     spec.states = default_names (n);

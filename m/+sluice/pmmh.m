@@ -152,7 +152,7 @@ function res = pmmh (model, prior, obs, varargin)
     return;
   end
   if (nargin < 3)
-    print_usage ();
+    sluice.kernel.compat ('usage', mfilename ());
   end
   t_all = tic ();
   check_model (model);
@@ -163,12 +163,7 @@ function res = pmmh (model, prior, obs, varargin)
 
   use_par = false;
   if (C > 1 && opts.workers > 1 && ~isequal (opts.parallel, false))
-    try
-      pkg ('load', 'parallel');
-      use_par = exist ('parcellfun') > 0;
-    catch
-      use_par = false;
-    end
+    use_par = sluice.kernel.compat ('has_parallel');
     if (~use_par && isequal (opts.parallel, true))
       error ('sluice:pmmh:noparallel', ...
              'parallel is true but Octave''s parallel package (parcellfun) cannot be loaded');
@@ -179,8 +174,7 @@ function res = pmmh (model, prior, obs, varargin)
     S.pmmh_job = true;
     S.warnings = warning ();
     nw = min (opts.workers, C);
-    out = parcellfun (nw, @(c) sluice.pmmh (S, c), num2cell (1:C), ...
-                      'UniformOutput', false, 'VerboseLevel', 0);
+    out = sluice.kernel.compat ('parallel_map', nw, @(c) sluice.pmmh (S, c), num2cell (1:C));
   else
     out = cell (1, C);
     for c = 1:C
@@ -372,7 +366,7 @@ function out = chain_body (c, S, out)
     if (S.opts.progress && mod (i, tick) == 0)
       fprintf (1, 'pmmh chain %d: %d of %d iterations, acceptance %.3f\n', ...
                c, i, ntot, accepted / i);
-      fflush (stdout);
+      sluice.kernel.compat ('flush');
     end
   end
   out.X = X;
@@ -712,7 +706,7 @@ function opts = parse_options (args)
   opts = struct ('members', 500, 'chains', 4, 'iterations', 2000, 'burnin', 500, ...
                  'thin', 1, 'proposal', [], 'adapt', true, 'adapt_start', [], ...
                  'adapt_end', [], 'adapt_eps', 1e-10, 'seed', 1, 'filter', [], ...
-                 'parallel', 'auto', 'workers', nproc (), 'progress', false);
+                 'parallel', 'auto', 'workers', sluice.kernel.compat ('nproc'), 'progress', false);
   opts = sluice.kernel.name_value (opts, args, 'pmmh');
   opts.members = whole (opts.members, 'members', 1, 2^31, 'badoption');
   opts.chains = whole (opts.chains, 'chains', 1, 1024, 'badoption');

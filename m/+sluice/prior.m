@@ -59,7 +59,7 @@
 
 function pr = prior (varargin)
   if (nargin < 3)
-    print_usage ();
+    sluice.kernel.compat ('usage', mfilename ());
   end
   dists = {'uniform', 'normal', 'lognormal', 'truncnormal', 'fixed'};
   forms = {'[lo hi]', '[mean sd]', '[meanlog sdlog]', '[mean sd lo hi]', '[value]'};

@@ -13,7 +13,7 @@
 % @end deftypefn
 function X1 = propagate (model, X, P, t0, t1, forcing, varargin)
   if (nargin < 5)
-    print_usage ();
+    sluice.kernel.compat ('usage', mfilename ());
   end
   if (nargin < 6)
     forcing = [];

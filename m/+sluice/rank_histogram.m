@@ -32,7 +32,7 @@
 % @end deftypefn
 function [counts, edges, chi2, p] = rank_histogram (X, Y, varargin)
   if (nargin < 2)
-    print_usage ();
+    sluice.kernel.compat ('usage', mfilename ());
   end
   opts = sluice.kernel.name_value (struct ('seed', 0), varargin, 'rank_histogram');
   sluice.kernel.check_real (X, 1, 'X', false, 'rank_histogram');

@@ -45,9 +45,9 @@
 % @end deftypefn
 function [obs, nmissing] = read_obs (filename)
   if (nargin ~= 1)
-    print_usage ();
+    sluice.kernel.compat ('usage', mfilename ());
   end
-  if (~ischar (filename) || isempty (filename) || rows (filename) ~= 1)
+  if (~ischar (filename) || isempty (filename) || size (filename, 1) ~= 1)
     error ('sluice:read_obs:badfilename', ...
            'argument 1 (filename): expected a file name (a character string)');
   end

@@ -90,7 +90,7 @@
 % @end deftypefn
 function files = report (res, varargin)
   if (nargin < 1)
-    print_usage ();
+    sluice.kernel.compat ('usage', mfilename ());
   end
   opts = parse_options (varargin);
   if (is_sweep_table (res))
@@ -210,7 +210,7 @@ function opts = parse_options (args)
     opts.(name) = args{k + 1};
   end
   d = opts.outdir;
-  if (~ischar (d) || isempty (d) || rows (d) ~= 1)
+  if (~ischar (d) || isempty (d) || size (d, 1) ~= 1)
     error ('sluice:report:badoutdir', 'outdir must be a non-empty string (a directory path)');
   end
   if (~isstruct (opts.units) || ~isscalar (opts.units))
@@ -303,8 +303,8 @@ function [rf, obs, truth, scores] = unpack (res, opts)
   if (~isempty (truth))
     n = numel (rf.state_names);
     if (~isstruct (truth) || ~isscalar (truth) || ~isfield (truth, 'times') || ...
-        ~isfield (truth, 'X') || ~isa (truth.X, 'double') || rows (truth.X) ~= n || ...
-        columns (truth.X) ~= numel (truth.times))
+        ~isfield (truth, 'X') || ~isa (truth.X, 'double') || size (truth.X, 1) ~= n || ...
+        size (truth.X, 2) ~= numel (truth.times))
       error ('sluice:report:badoption', ...
              'truth must be a struct with times (1 x T) and X (%d x T), or a twin result', n);
     end
@@ -318,11 +318,11 @@ end
 function tk = find_toolkit ()
   % a toolkit that can print without a display
   tk = '';
-  if (~exist ('OCTAVE_VERSION', 'builtin'))
+  if (~sluice.kernel.compat ('is_octave'))
     tk = 'native';
     return;
   end
-  avail = available_graphics_toolkits ();
+  avail = sluice.kernel.compat ('graphics_toolkits');
   if (isempty (avail))
     error ('sluice:report:nographics', ...
            ['no graphics toolkit is available to draw the figures ', ...
@@ -340,11 +340,7 @@ function tk = find_toolkit ()
 end
 
 function h = new_figure (tk, wh)
-  if (strcmp (tk, 'native'))
-    h = figure ('visible', 'off');
-  else
-    h = figure ('visible', 'off', '__graphics_toolkit__', tk);
-  end
+  h = sluice.kernel.compat ('hidden_figure', tk);
   set (h, 'paperunits', 'inches', 'paperposition', [0 0 wh / 100]);
 end
 
@@ -594,8 +590,8 @@ function heat_chart (f, tk, M, lab1, lab2, n1, n2, score)
   ylabel (cb, score, 'interpreter', 'none');
   lo = min (M(:));
   hi = max (M(:));
-  for i = 1:rows (M)
-    for j = 1:columns (M)
+  for i = 1:size (M, 1)
+    for j = 1:size (M, 2)
       if (isfinite (M(i, j)))
         dark = hi > lo && (M(i, j) - lo) / (hi - lo) > 0.55;
         text (j, i, sprintf ('%.3g', M(i, j)), 'horizontalalignment', 'center', ...
@@ -875,7 +871,7 @@ function write_series (f, rf, names, n)
   cols = [cols, rf.ess(:), double(rf.resampled(:))];
   fid = open_file (f);
   fprintf (fid, '%s\n', strjoin (head, ','));
-  fmt = [strjoin(repmat ({'%.10g'}, 1, columns (cols)), ','), '\n'];
+  fmt = [strjoin(repmat ({'%.10g'}, 1, size (cols, 2)), ','), '\n'];
   fprintf (fid, fmt, cols');
   fclose (fid);
 end

@@ -69,7 +69,7 @@
 
 function a = resample (w, varargin)
   if (nargin < 1)
-    print_usage ();
+    sluice.kernel.compat ('usage', mfilename ());
   end
   opt_names = {'count', 'seed', 'cycle'};
   scheme = 'systematic';

@@ -82,7 +82,7 @@
 % @end deftypefn
 function s = scores (res, truth, obs)
   if (nargin < 2 || nargin > 3)
-    print_usage ();
+    sluice.kernel.compat ('usage', mfilename ());
   end
   check_result (res);
   n = numel (res.state_names);

@@ -21,7 +21,7 @@
 % @end deftypefn
 function [X, times] = simulate (model, x0, params, times, forcing, varargin)
   if (nargin < 4)
-    print_usage ();
+    sluice.kernel.compat ('usage', mfilename ());
   end
   if (nargin < 5)
     forcing = [];

@@ -82,7 +82,7 @@
 % @end deftypefn
 function res = smooth (res, varargin)
   if (nargin < 1)
-    print_usage ();
+    sluice.kernel.compat ('usage', mfilename ());
   end
   t_start = tic ();
   opts = struct ('method', '', 'model', [], 'trajectories', [], ...

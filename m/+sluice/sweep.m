@@ -109,7 +109,7 @@
 
 function [table, info] = sweep (fun, grid, varargin)
   if (nargin < 2)
-    print_usage ();
+    sluice.kernel.compat ('usage', mfilename ());
   end
   t_all = tic ();
   check_fun (fun);
@@ -157,12 +157,7 @@ function [table, info] = sweep (fun, grid, varargin)
   todo = find (~reused);
   use_par = false;
   if (opts.workers > 1 && numel (todo) > 1)
-    try
-      pkg ('load', 'parallel');
-      use_par = exist ('pararrayfun') > 0;
-    catch
-      use_par = false;
-    end
+    use_par = sluice.kernel.compat ('has_parallel');
   end
 
   t_fun = 0;
@@ -187,10 +182,9 @@ function [table, info] = sweep (fun, grid, varargin)
       % failure through the error handler
       on_error = @(e, varargin) struct ('ok', false, 'scores', [], 'time', 0, ...
                                         'message', e.message, 'identifier', e.identifier);
-      res = pararrayfun (min (nb, numel (batch)), ...
-                         @(j) sluice.kernel.sweep_point (fun, pts{j}, keys{batch(j)}, spill{j}), ...
-                         1:numel (batch), 'UniformOutput', false, ...
-                         'VerboseLevel', 0, 'ErrorHandler', on_error);
+      res = sluice.kernel.compat ('parallel_map', min (nb, numel (batch)), ...
+                               @(j) sluice.kernel.sweep_point (fun, pts{j}, keys{batch(j)}, spill{j}), ...
+                               num2cell (1:numel (batch)), on_error);
       failed = 0;
       for j = 1:numel (batch)
         r = res{j};
@@ -354,7 +348,7 @@ function tf = good_number (e)
 end
 
 function opts = parse_options (args)
-  opts = struct ('seed', 1, 'workers', nproc (), 'file', '');
+  opts = struct ('seed', 1, 'workers', sluice.kernel.compat ('nproc'), 'file', '');
   if (numel (args) == 1 && isstruct (args{1}))
     if (~isscalar (args{1}))
       error ('sluice:sweep:badoption', 'argument 3 (opts): expected a scalar struct, got %s', ...
@@ -472,11 +466,11 @@ function t = point_text (key)
 end
 
 function [done, merged] = merge_parts (file, done, names)
-  parts = glob ([file '.part*']);
+  parts = sluice.kernel.compat ('glob', [file '.part*']);
   merged = false;
   for i = 1:numel (parts)
     try
-      s = load (parts{i});
+      s = sluice.kernel.compat ('load_binary', parts{i});
       e = s.sweep_part;
       if (~any (strcmp (e.key, done.key)))
         done = add_done (done, e.key, e.seed, e.time, check_scores (e.scores, names, e.key));
@@ -490,7 +484,7 @@ function [done, merged] = merge_parts (file, done, names)
 end
 
 function remove_parts (file)
-  parts = glob ([file '.part*']);
+  parts = sluice.kernel.compat ('glob', [file '.part*']);
   for i = 1:numel (parts)
     delete (parts{i});
   end
@@ -505,7 +499,7 @@ end
 
 function done = load_done (file)
   try
-    s = load (file);
+    s = sluice.kernel.compat ('load_binary', file);
   catch err
     error ('sluice:sweep:badfile', 'file %s: cannot be read as a results file: %s', ...
            file, err.message);
@@ -531,13 +525,13 @@ end
 
 function save_done (file, done)
   sweep_done = done;
-  tmp = sprintf ('%s.tmp%d', file, getpid ());
+  tmp = sprintf ('%s.tmp%d', file, sluice.kernel.compat ('pid'));
   try
-    save ('-binary', tmp, 'sweep_done');
+    sluice.kernel.compat ('save_binary', tmp, 'sweep_done', sweep_done);
   catch err
     error ('sluice:sweep:badfile', 'file %s: cannot write the results: %s', file, err.message);
   end
-  [st, msg] = rename (tmp, file);
+  [st, msg] = sluice.kernel.compat ('rename', tmp, file);
   if (st ~= 0)
     delete (tmp);
     error ('sluice:sweep:badfile', 'file %s: cannot replace it with the new results: %s', file, msg);

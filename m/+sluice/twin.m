@@ -120,7 +120,7 @@
 % @end deftypefn
 function res = twin (model, truth, network, varargin)
   if (nargin < 3)
-    print_usage ();
+    sluice.kernel.compat ('usage', mfilename ());
   end
   opts = struct ('seed', 1, 'prior', [], 'filter', {{}}, 'openloop', true);
   opts = sluice.kernel.name_value (opts, varargin, 'twin');
@@ -267,7 +267,7 @@ function Y = derived_truth (ops, model, tall, Xall, params, net, v)
   if (isempty (P))
     P = zeros (0, T);
   end
-  nl = rows (ops.H);
+  nl = size (ops.H, 1);
   Y = nan (numel (ops.names), T);
   if (nl > 0)
     Y(1:nl, :) = ops.H * [Xall; P];
@@ -523,7 +523,7 @@ function obs = synthesize (net, names, tall, truth_all, seed)
                 'sigma', sigma(order), 'family', {family(order)});
   % the families' extra columns, where some series uses them
   extra = {'n', 'binomial'; 'dof', 'student_t'; 'limit', 'censored'};
-  for k = 1:rows (extra)
+  for k = 1:size (extra, 1)
     sel = strcmp (family(order), extra{k, 2});
     if (any (sel))
       a = aux(order);
@@ -584,7 +584,7 @@ function [rmse, spread, perr] = score (r, Xt, times, params, n)
   lo = find (abs (r.quantile_levels - 0.05) < 1e-12, 1);
   hi = find (abs (r.quantile_levels - 0.95) < 1e-12, 1);
   rmse = sqrt (mean ((M - Xt) .^ 2, 2));
-  width = reshape (Qs(:, hi, :) - Qs(:, lo, :), rows (M), []);
+  width = reshape (Qs(:, hi, :) - Qs(:, lo, :), size (M, 1), []);
   spread = mean (width, 2);
   perr = r.params.mean(:, end) - params(:);
   if (n + numel (params) == 0)

@@ -27,9 +27,9 @@
 % @end deftypefn
 function write_obs (filename, obs)
   if (nargin ~= 2 || nargout > 0)
-    print_usage ();
+    sluice.kernel.compat ('usage', mfilename ());
   end
-  if (~ischar (filename) || isempty (filename) || rows (filename) ~= 1)
+  if (~ischar (filename) || isempty (filename) || size (filename, 1) ~= 1)
     error ('sluice:write_obs:badfilename', ...
            'argument 1 (filename): expected a file name (a character string)');
   end
@@ -55,7 +55,7 @@ function tab = check_table (obs)
     nm = names{k};
     v = obs.(nm);
     if (any (strcmp (nm, {'variable', 'family'})))
-      if (ischar (v) && (m == 1 || strcmp (nm, 'family')) && rows (v) <= 1)
+      if (ischar (v) && (m == 1 || strcmp (nm, 'family')) && size (v, 1) <= 1)
         v = repmat ({v}, m, 1);
       end
       if (~iscellstr (v) || numel (v) ~= m || (m > 0 && ~isvector (v)))

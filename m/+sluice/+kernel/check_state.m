@@ -11,7 +11,7 @@ function [X, P] = check_state (model, X, P, N, fn)
   if (isempty (X))
     X = model.x0(:);
   end
-  if (~isa (X, 'double') || ~isreal (X) || issparse (X) || rows (X) ~= n || ndims (X) ~= 2)
+  if (~isa (X, 'double') || ~isreal (X) || issparse (X) || size (X, 1) ~= n || ndims (X) ~= 2)
     error (['sluice:' fn ':badstate'], 'the state must be a real double array with %d rows (%s), got %s %s', ...
            n, strjoin (model.states(1:min (n, 6)), ', '), mat2str (size (X)), class (X));
   end
@@ -19,15 +19,15 @@ function [X, P] = check_state (model, X, P, N, fn)
     error (['sluice:' fn ':badstate'], 'the state must be finite');
   end
   if (isempty (N))
-    N = columns (X);
-  elseif (columns (X) ~= N)
+    N = size (X, 2);
+  elseif (size (X, 2) ~= N)
     error (['sluice:' fn ':badstate'], 'the state must have %d column(s)', N);
   end
   if (isempty (P))
     P = model.defaults(:);
   end
-  if (~isa (P, 'double') || ~isreal (P) || issparse (P) || rows (P) ~= p || ...
-      ~(columns (P) == 1 || columns (P) == N))
+  if (~isa (P, 'double') || ~isreal (P) || issparse (P) || size (P, 1) ~= p || ...
+      ~(size (P, 2) == 1 || size (P, 2) == N))
     error (['sluice:' fn ':badparams'], 'parameters must be a real double %d x 1 or %d x %d array', ...
            p, p, N);
   end
@@ -36,13 +36,13 @@ function [X, P] = check_state (model, X, P, N, fn)
            strjoin (model.params, ', '));
   end
   if (p > 0)
-    lo = repmat (model.lower(:), 1, columns (P));
-    hi = repmat (model.upper(:), 1, columns (P));
+    lo = repmat (model.lower(:), 1, size (P, 2));
+    hi = repmat (model.upper(:), 1, size (P, 2));
     [i, j] = find (P < lo | P > hi, 1);
     if (~isempty (i))
       error (['sluice:' fn ':badparams'], 'parameter ''%s'' = %g lies outside its bounds [%g, %g]', ...
              model.params{i}, P(i, j), model.lower(i), model.upper(i));
     end
   end
-  P = repmat (P, 1, N / columns (P));
+  P = repmat (P, 1, N / size (P, 2));
 end

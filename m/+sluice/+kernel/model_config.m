@@ -44,7 +44,7 @@ function c = add_forcing (c, f, fn_noise, q, model, fn)
   end
   tf = f.time(:);
   vals = f.values;
-  if (~isa (vals, 'double') || ~isreal (vals) || rows (vals) ~= numel (tf) || columns (vals) ~= q)
+  if (~isa (vals, 'double') || ~isreal (vals) || size (vals, 1) ~= numel (tf) || size (vals, 2) ~= q)
     error (id, ['forcing values must be %d x %d real doubles (one row per forcing ', ...
                 'time, one column per forcing: %s)'], numel (tf), q, strjoin (model.forcings, ', '));
   end
@@ -91,7 +91,7 @@ function c = add_events (c, ev, ev_noise, model, fn)
   end
   te = ev.time(:);
   vals = ev.values;
-  if (~isa (vals, 'double') || ~isreal (vals) || rows (vals) ~= numel (te) || columns (vals) ~= nv)
+  if (~isa (vals, 'double') || ~isreal (vals) || size (vals, 1) ~= numel (te) || size (vals, 2) ~= nv)
     error (id, 'event values must be %d x %d real doubles (one row per event, one column per %s)', ...
            numel (te), nv, strjoin (model.events, ', '));
   end

@@ -55,7 +55,7 @@ function tab = obs_table (obs, names, t0, fn, ordered)
   end
   tab.aux = nan (m, 1);
   extra = {'n', 'binomial'; 'dof', 'student_t'; 'limit', 'censored'};
-  for k = 1:rows (extra)
+  for k = 1:size (extra, 1)
     if (isfield (obs, extra{k, 1}))
       v = obs.(extra{k, 1});
       if (~isnumeric (v) || ~isreal (v) || numel (v) ~= m)

@@ -6,7 +6,7 @@ function [Y, msg, id] = observe (funs, rows, t, X, P)
   % unwind before it is raised again.
   msg = '';
   id = '';
-  N = columns (X);
+  N = size (X, 2);
   Y = zeros (sum (rows), N);
   r = 0;
   for i = 1:numel (funs)

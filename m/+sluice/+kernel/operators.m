@@ -43,12 +43,12 @@ function ops = operators (spec, model)
     if (hasH)
       H = e.H;
       if (~isa (H, 'double') || ~isreal (H) || issparse (H) || ndims (H) ~= 2 || ...
-          rows (H) ~= k || ~any (columns (H) == [n, n + p]) || any (~isfinite (H(:))))
+          size (H, 1) ~= k || ~any (size (H, 2) == [n, n + p]) || any (~isfinite (H(:))))
         error ('sluice:filter:badoperator', ...
                'operator %d: H must be a finite real %dx%d (or %dx%d) double matrix, got %s', ...
                i, k, n, k, n + p, sluice.kernel.describe (H));
       end
-      if (columns (H) == n)
+      if (size (H, 2) == n)
         H = [H, zeros(k, p)];
       end
       ops.H = [ops.H; H];

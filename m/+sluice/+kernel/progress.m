@@ -5,9 +5,9 @@ function progress (fraction, elapsed, show)
     left = elapsed * (1 - fraction) / max (fraction, 1e-9);
     fprintf (1, '\rsluice: %3.0f%% done, %.0f s elapsed, about %.0f s left   ', ...
              100 * fraction, elapsed, left);
-    fflush (stdout);
+    sluice.kernel.compat ('flush');
   elseif (show == 2)
     fprintf (1, '\rsluice: done in %.1f s%s\n', elapsed, blanks (30));
-    fflush (stdout);
+    sluice.kernel.compat ('flush');
   end
 end

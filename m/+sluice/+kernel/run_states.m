@@ -5,7 +5,7 @@ function X = run_states (model, X0, P0, t0, times, forcing, opts, fn)
   % under sluice:<fn>:<reason>; a user's own identifiers are kept.
   try
     c = sluice.kernel.model_config (model, forcing, [], opts.events, [], fn);
-    N = columns (X0);
+    N = size (X0, 2);
     T = numel (times);
     c.members = N;
     c.t0 = t0;

@@ -18,10 +18,10 @@ function r = sweep_point (fun, point, key, spill)
   if (r.ok && nargin > 3 && ~isempty (spill))
     sweep_part = struct ('key', key, 'seed', point.seed, 'time', r.time, ...
                          'scores', {r.scores});
-    tmp = sprintf ('%s.tmp%d', spill, getpid ());
+    tmp = sprintf ('%s.tmp%d', spill, sluice.kernel.compat ('pid'));
     try
-      save ('-binary', tmp, 'sweep_part');
-      rename (tmp, spill);
+      sluice.kernel.compat ('save_binary', tmp, 'sweep_part', sweep_part);
+      sluice.kernel.compat ('rename', tmp, spill);
     catch
       % the parent writes the point with its batch; nothing is lost but
       % the early copy
