@@ -1,7 +1,8 @@
 % -*- texinfo -*-
 % @deftypefn  {} {@var{Xa} =} sluice.enkf (@var{Xf}, @var{HXf}, @var{y}, @var{R})
 % @deftypefnx {} {[@var{Xa}, @var{info}] =} sluice.enkf (@var{Xf}, @var{HXf}, @var{y}, @var{R}, @var{opts})
-% One ensemble Kalman analysis. @var{Xf} is the n x N forecast ensemble
+% One ensemble Kalman analysis: update a forecast ensemble with observations.
+% @var{Xf} is the n x N forecast ensemble
 % (one column per member; parameters of a joint estimate are extra rows,
 % in the space where they should be updated), @var{HXf} the m x N
 % predicted observations of those members (any observation operator,

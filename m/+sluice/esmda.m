@@ -5,8 +5,9 @@
 % @deftypefnx {} {@var{post} =} sluice.esmda (@var{model}, @var{prior}, @var{obs}, @var{opts})
 % @deftypefnx {} {[@var{post}, @var{info}] =} sluice.esmda (@dots{})
 % @deftypefnx {} {[@dots{}] =} sluice.esmda (@dots{}, @var{name}, @var{value}, @dots{})
-% Batch calibration of parameters by the ensemble smoother with multiple
-% data assimilation (ES-MDA, Emerick & Reynolds 2013).
+% Calibrate parameters on a whole record with the ES-MDA ensemble smoother.
+% ES-MDA is the ensemble smoother with multiple data assimilation
+% (Emerick & Reynolds 2013).
 %
 % An ensemble of parameter vectors is drawn from @var{prior} (a struct
 % array from @code{sluice.prior}); each of the @var{Na} iterations runs

@@ -2,8 +2,8 @@
 % @deftypefn  {} {@var{res} =} sluice.pmmh (@var{model}, @var{prior}, @var{obs})
 % @deftypefnx {} {@var{res} =} sluice.pmmh (@var{model}, @var{prior}, @var{obs}, @var{opts})
 % @deftypefnx {} {@var{res} =} sluice.pmmh (@dots{}, @var{name}, @var{value}, @dots{})
-% Sample the posterior of a model's parameters by particle marginal
-% Metropolis-Hastings (Andrieu, Doucet & Holenstein 2010, J. R. Statist.
+% Sample a model's parameter posterior by particle marginal Metropolis-Hastings.
+% The method is that of Andrieu, Doucet & Holenstein (2010, J. R. Statist.
 % Soc. B 72, 269-342).
 %
 % @var{model} is a spec from @code{sluice.model}, @var{obs} the long

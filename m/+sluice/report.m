@@ -2,8 +2,8 @@
 % @deftypefn  {} {@var{files} =} sluice.report (@var{res})
 % @deftypefnx {} {@var{files} =} sluice.report (@var{res}, @var{opts})
 % @deftypefnx {} {@var{files} =} sluice.report (@var{res}, @var{name}, @var{value}, @dots{})
-% Write a report of a filter run: PNG figures, CSV tables and a plain-text
-% summary, all in one directory.
+% Write a report of a filter run or of a sweep: figures, tables, a summary.
+% The PNG figures, CSV tables and plain-text summary go in one directory.
 %
 % @var{res} is a result of @code{sluice.filter} or of @code{sluice.twin}
 % (whose filter run is reported, with its truth and observations), or

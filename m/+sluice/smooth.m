@@ -2,8 +2,8 @@
 % @deftypefn  {} {@var{res} =} sluice.smooth (@var{res})
 % @deftypefnx {} {@var{res} =} sluice.smooth (@var{res}, @var{opts})
 % @deftypefnx {} {@var{res} =} sluice.smooth (@var{res}, @var{name}, @var{value}, @dots{})
-% Smoothed distributions of the states and parameters of a filter run,
-% given all observations of the run, computed after the run from its
+% Smooth a filter run: its states and parameters given all its observations.
+% The smoothed distributions are computed after the run from its
 % history.
 %
 % @var{res} is a result of @code{sluice.filter} run with

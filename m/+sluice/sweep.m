@@ -2,8 +2,8 @@
 % @deftypefn  {} {[@var{table}, @var{info}] =} sluice.sweep (@var{fun}, @var{grid})
 % @deftypefnx {} {[@var{table}, @var{info}] =} sluice.sweep (@var{fun}, @var{grid}, @var{opts})
 % @deftypefnx {} {[@var{table}, @var{info}] =} sluice.sweep (@var{fun}, @var{grid}, @var{name}, @var{value}, @dots{})
-% Run a function over every point of a grid of option values and collect
-% its scores in one table.
+% Run a function over a grid of option values and collect its scores.
+% Every point of the grid is run and the scores go in one table.
 %
 % @var{grid} is a scalar struct whose fields are the dimensions of the
 % sweep. Each field holds the values of that dimension: a non-empty real

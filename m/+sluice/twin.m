@@ -1,8 +1,9 @@
 % -*- texinfo -*-
 % @deftypefn  {} {@var{res} =} sluice.twin (@var{model}, @var{truth}, @var{network}, @var{opts})
 % @deftypefnx {} {@var{res} =} sluice.twin (@var{model}, @var{truth}, @var{network}, @var{name}, @var{value}, @dots{})
-% Twin experiment: run a known truth, observe it through a synthetic
-% network, assimilate the observations and score the filter against the
+% Twin experiment: assimilate synthetic observations of a known truth.
+% It runs a known truth, observes it through a synthetic
+% network, assimilates the observations and scores the filter against the
 % truth.
 %
 % @var{model} is a spec from @code{sluice.model}. @var{truth} is a struct
