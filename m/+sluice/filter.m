@@ -640,3 +640,52 @@ function [X0, P0, lower, upper] = initial_ensemble (model, prior, N, seed)
   end
 end
 
+
+%!shared m, pr, obs, y, km, kq, kll
+%! % a scalar linear-Gaussian river level: x_t = 0.9 x_(t-1) + N(0, 0.1),
+%! % x_0 ~ N(0, 1), observed with sd 0.4 at t = 1..8
+%! m = sluice.model ('linear', 'A', 0.9, 'Q', 0.1, 'states', {'level'});
+%! pr = sluice.prior ('level', 'normal', [0 1]);
+%! y = [0.5; 0.9; 0.4; -0.3; 0.2; 0.8; 1.1; 0.6];
+%! obs = struct ('time', (1:8)', 'variable', {repmat({'level'}, 8, 1)}, ...
+%!               'value', y, 'sigma', 0.4 * ones (8, 1));
+%! % reference: the exact Kalman filter (Kalman 1960) written out for this
+%! % model; the evidence is the product of the innovation densities
+%! % N(y_t; m_f, P_f + R) (the prediction error decomposition, Harvey 1989)
+%! mk = 0; P = 1; R = 0.16; kll = 0; km = zeros (1, 8); kq = zeros (3, 8);
+%! z = sqrt (2) * erfinv (2 * [0.05; 0.5; 0.95] - 1);   % standard normal quantiles
+%! for t = 1:8
+%!   mk = 0.9 * mk; P = 0.81 * P + 0.1; S = P + R;
+%!   kll = kll - 0.5 * log (2 * pi * S) - 0.5 * (y(t) - mk)^2 / S;
+%!   K = P / S; mk = mk + K * (y(t) - mk); P = (1 - K) * P;
+%!   km(t) = mk; kq(:, t) = mk + z * sqrt (P);
+%! end
+
+%!test
+%! % the particle filter's mean, quantiles and log-evidence against the
+%! % exact Kalman filter; 20000 members leave a Monte Carlo error of about
+%! % 0.005 on the means (tolerances: a few times that, common practice)
+%! r = sluice.filter (m, pr, obs, 'members', 20000, 'seed', 3, 't0', 0, 'progress', false);
+%! assert (r.times, 1:8);
+%! assert (r.states.mean, km, 0.02);
+%! assert (reshape (r.states.quantiles(1, :, :), 3, 8), kq, 0.04);
+%! assert (r.log_evidence, kll, 0.05);
+%! assert (r.members, 20000);
+%! assert (sum (r.skipped), 0);
+
+%!test
+%! % same seed, same result; a missing value is skipped and counted
+%! o = obs;
+%! o.value(3) = NaN;
+%! a = sluice.filter (m, pr, o, 'members', 500, 'seed', 9, 't0', 0, 'progress', false);
+%! b = sluice.filter (m, pr, o, 'members', 500, 'seed', 9, 't0', 0, 'progress', false);
+%! assert (a.states.mean, b.states.mean);
+%! assert (sum (a.skipped), 1);
+
+%!error <Invalid call> sluice.filter ()
+%!error id=sluice:filter:noobs sluice.filter (m, pr, struct ('time', zeros (0, 1), 'variable', {cell(0, 1)}, 'value', zeros (0, 1), 'sigma', zeros (0, 1)))
+%!error id=sluice:filter:badoption sluice.filter (m, pr, obs, 'members', -3)
+%!error id=sluice:filter:badoption sluice.filter (m, pr, obs, 'no_such_option', 1)
+%!error id=sluice:filter:badmethod sluice.filter (m, pr, obs, 'method', 'nope')
+%!error <row 2: unknown variable 'flow'> o = obs; o.variable{2} = 'flow'; sluice.filter (m, pr, o)
+%!error id=sluice:filter:badobs o = obs; o.sigma(4) = 0; sluice.filter (m, pr, o)
