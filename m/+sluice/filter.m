@@ -689,3 +689,31 @@ end
 %!error id=sluice:filter:badmethod sluice.filter (m, pr, obs, 'method', 'nope')
 %!error <row 2: unknown variable 'flow'> o = obs; o.variable{2} = 'flow'; sluice.filter (m, pr, o)
 %!error id=sluice:filter:badobs o = obs; o.sigma(4) = 0; sluice.filter (m, pr, o)
+
+%!demo
+%! % Lowmarsh, an invented town on the invented river Vell: twenty years of
+%! % annual peak levels (m) at the town gauge, two years unread. Is the
+%! % peak level drifting? A level-and-trend model, filtered year by year.
+%! years = (1:20)';
+%! value = [3.02 3.21 2.95 NaN 3.18 3.31 3.07 3.12 3.40 3.22 NaN 3.35 ...
+%!          3.28 3.51 3.30 3.46 3.58 3.37 3.55 3.62]';   % invented record
+%! obs = struct ('time', years, 'variable', {repmat({'level'}, 20, 1)}, ...
+%!               'value', value, 'sigma', 0.1 * ones (20, 1));
+%! trend = sluice.model ('linear', 'A', [1 1; 0 1], 'Q', diag ([0.08^2 0.002^2]), ...
+%!                       'states', {'level', 'trend'});
+%! prior = sluice.prior ('level', 'normal', [3 0.5], 'trend', 'normal', [0 0.03]);
+%! r = sluice.filter (trend, prior, obs, 'members', 5000, 'seed', 7, 't0', 0, ...
+%!                    'progress', false);
+%! q = r.states.quantiles(2, :, end);
+%! fprintf ('Vell at Lowmarsh, year 20: peak level %.2f m, trend %.3f m/year\n', ...
+%!          r.states.mean(1, end), r.states.mean(2, end));
+%! fprintf ('  90%% interval of the trend: %.3f to %.3f m/year\n', q(1), q(3));
+%! fprintf ('  %d unread years skipped; log-evidence %.2f\n', sum (r.skipped), r.log_evidence);
+%! fprintf ('  (an input to a flood-risk study of an invented town, not a flood warning)\n');
+%! L = reshape (r.states.quantiles(1, :, :), 3, []);
+%! figure ();
+%! plot (r.times, L(2, :), 'b-', r.times, L(1, :), 'b:', r.times, L(3, :), 'b:', ...
+%!       years, value, 'k.');
+%! xlabel ('year');
+%! ylabel ('annual peak level (m)');
+%! title ('Vell at Lowmarsh: filtered median and 90% band; dots: readings');

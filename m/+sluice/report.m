@@ -1136,3 +1136,19 @@ end
 %!   rmdir (bin, 's');
 %!   if (exist (d, 'dir')), rmdir (d, 's'); end
 %! end_unwind_protect
+
+%!demo
+%! % Lowmarsh on the invented river Vell: a report of a filter run over
+%! % fifteen invented yearly levels, written to a temporary folder.
+%! m = sluice.model ('linear', 'A', 0.9, 'Q', 0.05, 'states', {'level'});
+%! value = [0.8; 1.1; 0.7; NaN; 0.4; 0.6; 0.9; 1.3; 1.0; 0.5; 0.3; NaN; 0.6; 0.8; 0.7];
+%! obs = struct ('time', (1:15)', 'variable', {repmat({'level'}, 15, 1)}, ...
+%!               'value', value, 'sigma', 0.2 * ones (15, 1));
+%! r = sluice.filter (m, [], obs, 'members', 1000, 'seed', 8, 't0', 0, 'progress', false, ...
+%!                    'quantiles', [0.05 0.25 0.5 0.75 0.95]);
+%! d = tempname ();
+%! files = sluice.report (r, 'outdir', d, 'obs', obs, 'units', struct ('level', 'm'), ...
+%!                        'time_unit', 'year', 'title', 'Vell at Lowmarsh (invented)');
+%! fprintf ('report written to %s:\n', d);
+%! fprintf ('  %s\n', files{:});
+%! fprintf ('%s', fileread (fullfile (d, 'summary.txt')));
