@@ -2,7 +2,7 @@
 % @deftypefn  {} {@var{spec} =} sluice.build_model (@var{cfile})
 % @deftypefnx {} {@var{spec} =} sluice.build_model (@var{cfile}, @var{name}, @var{value}, @dots{})
 % @deftypefnx {} {[@var{spec}, @var{rebuilt}] =} sluice.build_model (@dots{})
-% Compile a model written in one C file and return its spec, to be used
+% Compile a model written in one C file and return its spec. It is used
 % with @code{sluice.filter}, @code{sluice.simulate} and
 % @code{sluice.propagate} exactly like a built-in model, at the same speed.
 %

@@ -1,6 +1,6 @@
 % -*- texinfo -*-
 % @deftypefn {} {@var{c} =} sluice.crps (@var{X}, @var{y})
-% Continuous ranked probability score of an ensemble forecast, one score
+% Continuous ranked probability score of an ensemble forecast. One score
 % per row.
 %
 % @var{X} is an m x N real double matrix of finite values (one row per

@@ -2,7 +2,7 @@
 % @deftypefn  {} {@var{res} =} sluice.drift_test (@var{model}, @var{prior}, @var{obs}, @var{names}, @var{steps})
 % @deftypefnx {} {@var{res} =} sluice.drift_test (@var{model}, @var{prior}, @var{obs}, @var{names}, @var{steps}, @var{opts})
 % @deftypefnx {} {@var{res} =} sluice.drift_test (@dots{}, @var{name}, @var{value}, @dots{})
-% Test whether parameters of @var{model} drift in time, by comparing the
+% Test whether parameters of @var{model} drift in time. It compares the
 % evidence of a fixed parameter with that of a drifting one.
 %
 % A drifting parameter is one that takes a random-walk step between

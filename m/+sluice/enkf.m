@@ -1,7 +1,8 @@
 % -*- texinfo -*-
 % @deftypefn  {} {@var{Xa} =} sluice.enkf (@var{Xf}, @var{HXf}, @var{y}, @var{R})
 % @deftypefnx {} {[@var{Xa}, @var{info}] =} sluice.enkf (@var{Xf}, @var{HXf}, @var{y}, @var{R}, @var{opts})
-% One ensemble Kalman analysis. @var{Xf} is the n x N forecast ensemble
+% One ensemble Kalman analysis: update a forecast ensemble with observations.
+% @var{Xf} is the n x N forecast ensemble
 % (one column per member; parameters of a joint estimate are extra rows,
 % in the space where they should be updated), @var{HXf} the m x N
 % predicted observations of those members (any observation operator,
@@ -80,3 +81,40 @@ function v = num (v, what)
     error ('sluice:enkf:badoption', '%s must be a finite real scalar', what);
   end
 end
+
+%!shared X, H, y, R
+%! X = [0.3 -1.2 0.8 1.9 -0.4 0.1 -0.9 1.1 0.6 -0.2;
+%!      1.4 0.2 -0.7 0.5 0.9 -1.1 0.3 -0.5 1.2 0.0;
+%!      -0.6 0.8 0.4 -1.3 0.2 1.0 -0.1 0.7 -0.8 0.5];
+%! H = [1 0 0; 0 0 1];
+%! y = [0.3; -0.4];
+%! R = [0.5; 0.2];
+
+%!test
+%! % with a linear operator the ETKF's analysis mean and covariance are the
+%! % Kalman update of the ensemble mean and covariance (Kalman gain
+%! % K = P H' (H P H' + R)^-1, P the N-1 sample covariance; exact for the
+%! % square-root filters, Tippett et al. 2003)
+%! Xa = sluice.enkf (X, H * X, y, R);
+%! P = cov (X');
+%! K = P * H' / (H * P * H' + diag (R));
+%! assert (size (Xa), size (X));
+%! assert (mean (Xa, 2), mean (X, 2) + K * (y - H * mean (X, 2)), 1e-12);
+%! assert (cov (Xa'), (eye (3) - K * H) * P, 1e-12);
+
+%!test
+%! % a full R gives the same as its diagonal when it is diagonal; the serial
+%! % EnSRF reaches the same Kalman mean
+%! a = sluice.enkf (X, H * X, y, R);
+%! b = sluice.enkf (X, H * X, y, diag (R));
+%! assert (b, a, 1e-12);
+%! [c, info] = sluice.enkf (X, H * X, y, R, 'method', 'ensrf');
+%! assert (mean (c, 2), mean (a, 2), 1e-12);
+%! assert (isstruct (info));
+
+%!error <Invalid call> sluice.enkf (X, H * X, y)
+%!error id=sluice:enkf:badmethod sluice.enkf (X, H * X, y, R, 'method', 7)
+%!error id=sluice:enkf:badmethod sluice.enkf (X, H * X, y, R, 'method', 'bogus')
+%!error id=sluice:enkf:badoption sluice.enkf (X, H * X, y, R, 'inflation', NaN)
+%!error id=sluice:enkf:badsize sluice.enkf (X, H * X, [y; 1], R)
+%!error id=sluice:enkf:notpd sluice.enkf (X, H * X, y, [0.5; -0.5])

@@ -5,8 +5,9 @@
 % @deftypefnx {} {@var{post} =} sluice.esmda (@var{model}, @var{prior}, @var{obs}, @var{opts})
 % @deftypefnx {} {[@var{post}, @var{info}] =} sluice.esmda (@dots{})
 % @deftypefnx {} {[@dots{}] =} sluice.esmda (@dots{}, @var{name}, @var{value}, @dots{})
-% Batch calibration of parameters by the ensemble smoother with multiple
-% data assimilation (ES-MDA, Emerick & Reynolds 2013).
+% Calibrate parameters on a whole record with the ES-MDA ensemble smoother.
+% ES-MDA is the ensemble smoother with multiple data assimilation
+% (Emerick & Reynolds 2013).
 %
 % An ensemble of parameter vectors is drawn from @var{prior} (a struct
 % array from @code{sluice.prior}); each of the @var{Na} iterations runs
@@ -696,3 +697,19 @@ end
 %!                    'params', {'k'}, 'x0', 1);
 %! warning ('off', 'sluice:esmda:nonfinite', 'local');
 %! sluice.esmda (s2, q, obs, 'members', 20, 'seed', 1);
+
+%!demo
+%! % Lowmarsh on the invented river Vell: calibrate the town gauge's rating
+%! % curve Q = a (h - 0.5)^b from five invented gaugings, by ES-MDA.
+%! h = [0.9; 1.3; 1.8; 2.4; 3.1];                  % stage (m)
+%! q = [2.1; 6.0; 12.8; 24.5; 41.0];               % measured flow (m3/s), invented
+%! rating = @(P) P(1, :) .* (h - 0.5) .^ P(2, :);  % 5 x N flows for N members
+%! pr = sluice.prior ('a', 'lognormal', [log(8) 0.5], 'b', 'normal', [1.5 0.3]);
+%! [post, info] = sluice.esmda (rating, pr, q, (0.08 * q) .^ 2, 'members', 500, 'seed', 3);
+%! names = {'a', 'b'};
+%! for k = 1:2
+%!   fprintf ('%s: median %.3f, 90%% interval %.3f to %.3f\n', names{k}, ...
+%!            post.quantiles(k, 2), post.quantiles(k, 1), post.quantiles(k, 3));
+%! end
+%! fprintf ('misfit from %.3g to %.3g over %d forward runs\n', ...
+%!          info.misfit(1), info.misfit(end), info.forward_runs);

@@ -2,8 +2,9 @@
 % @deftypefn  {} {@var{ev} =} sluice.evidence (@var{model}, @var{prior}, @var{obs})
 % @deftypefnx {} {@var{ev} =} sluice.evidence (@var{model}, @var{prior}, @var{obs}, @var{opts})
 % @deftypefnx {} {@var{ev} =} sluice.evidence (@dots{}, @var{name}, @var{value}, @dots{})
-% The log marginal likelihood (log-evidence) of @var{obs} under
-% @var{model} and @var{prior}, with its Monte Carlo error, from repeated
+% Estimate the log-evidence of a record under a model and its prior.
+% The log marginal likelihood of @var{obs} under @var{model} and
+% @var{prior}, with its Monte Carlo error, comes from repeated
 % particle-filter runs.
 %
 % The particle filter's estimate of the likelihood, @code{exp

@@ -1,7 +1,7 @@
 % -*- texinfo -*-
 % @deftypefn {} {@var{w} =} sluice.gaspari_cohn (@var{d}, @var{c})
-% The Gaspari & Cohn (1999) compactly supported correlation function
-% (their eq. 4.10) at distances @var{d} for half-width @var{c} > 0 (a
+% The Gaspari & Cohn (1999) compactly supported correlation function.
+% It is evaluated (their eq. 4.10) at distances @var{d} for half-width @var{c} > 0 (a
 % scalar or one per distance): with z = |d|/c,
 % @math{-z^5/4 + z^4/2 + 5z^3/8 - 5z^2/3 + 1} for z <= 1,
 % @math{z^5/12 - z^4/2 + 5z^3/8 + 5z^2/3 - 5z + 4 - 2/(3z)} for 1 < z < 2,

@@ -2,8 +2,8 @@
 % @deftypefn  {} {@var{spec} =} sluice.model ('linear', @var{name}, @var{value}, @dots{})
 % @deftypefnx {} {@var{spec} =} sluice.model (@var{builtin}, @var{name}, @var{value}, @dots{})
 % @deftypefnx {} {@var{spec} =} sluice.model (@var{fun}, @var{name}, @var{value}, @dots{})
-% Describe a model for @code{sluice.filter}: its states, parameters,
-% forcings, time step and dynamics.
+% Describe a model: its states, parameters, forcings, time step and dynamics.
+% The spec is what @code{sluice.filter} and the other workflows run.
 %
 % @strong{Built-in linear-Gaussian model} (@code{'linear'}):
 % @math{x_k = A x_{k-1} + B u_k + c + q_k}, @math{q_k ~ N(0, Q)}, one step

@@ -2,9 +2,10 @@
 % @deftypefn  {} {@var{X1} =} sluice.propagate (@var{model}, @var{X}, @var{P}, @var{t0}, @var{t1})
 % @deftypefnx {} {@var{X1} =} sluice.propagate (@var{model}, @var{X}, @var{P}, @var{t0}, @var{t1}, @var{forcing})
 % @deftypefnx {} {@var{X1} =} sluice.propagate (@dots{}, @var{name}, @var{value}, @dots{})
-% Advance an ensemble: @var{X} (n x N states, one column per member) and
+% Advance an ensemble of states with a model from one time to another.
+% @var{X} (n x N states, one column per member) and
 % @var{P} (p x N parameters, or p x 1 for all members, or empty for the
-% model's defaults) from time @var{t0} to @var{t1} with @var{model}; the
+% model's defaults) go from time @var{t0} to @var{t1} with @var{model}; the
 % result is n x N. Forcing and options as for @code{sluice.simulate}
 % (@code{'events'}, @code{'seed'}), plus @code{'threads'}. Members whose
 % state becomes non-finite are returned as NaN columns with a warning

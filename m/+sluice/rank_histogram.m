@@ -1,7 +1,8 @@
 % -*- texinfo -*-
 % @deftypefn  {} {@var{counts} =} sluice.rank_histogram (@var{X}, @var{Y})
 % @deftypefnx {} {[@var{counts}, @var{edges}, @var{chi2}, @var{p}] =} sluice.rank_histogram (@var{X}, @var{Y}, 'seed', @var{seed})
-% Rank histogram of an ensemble forecast: how often the observation falls
+% Rank histogram of an ensemble forecast against its observations.
+% It counts how often the observation falls
 % below all N members, between members 1 and 2, ..., above all of them.
 %
 % @var{X} is an m x N real double matrix of finite values (m quantities,

@@ -2,8 +2,8 @@
 % @deftypefn  {} {@var{files} =} sluice.report (@var{res})
 % @deftypefnx {} {@var{files} =} sluice.report (@var{res}, @var{opts})
 % @deftypefnx {} {@var{files} =} sluice.report (@var{res}, @var{name}, @var{value}, @dots{})
-% Write a report of a filter run: PNG figures, CSV tables and a plain-text
-% summary, all in one directory.
+% Write a report of a filter run or of a sweep: figures, tables, a summary.
+% The PNG figures, CSV tables and plain-text summary go in one directory.
 %
 % @var{res} is a result of @code{sluice.filter} or of @code{sluice.twin}
 % (whose filter run is reported, with its truth and observations), or
@@ -326,17 +326,46 @@ function tk = find_toolkit ()
   if (isempty (avail))
     error ('sluice:report:nographics', ...
            ['no graphics toolkit is available to draw the figures ', ...
-            '(install gnuplot, or run Octave with a display)']);
+            '(install gnuplot, or run Octave with a display); %s'], graphics_packages ());
   end
   if (any (strcmp (avail, 'gnuplot')))
     tk = 'gnuplot';
+    check_print_tools ();
   elseif (~isempty (getenv ('DISPLAY')))
     tk = avail{1};
   else
     error ('sluice:report:nographics', ...
            ['no graphics toolkit can print without a display (available: %s); ', ...
-            'install gnuplot or run Octave with a display'], strjoin (avail, ', '));
+            'install gnuplot or run Octave with a display; %s'], strjoin (avail, ', '), ...
+           graphics_packages ());
   end
+end
+
+function check_print_tools ()
+  % what printing a PNG with gnuplot needs: a working gnuplot and Ghostscript
+  % (the figure goes to PostScript first); a missing font shows only when
+  % printing, where save_figure catches it
+  gp = gnuplot_binary ();
+  if (isempty (sluice.kernel.find_program (gp)))
+    error ('sluice:report:nographics', ...
+           'the gnuplot program (''%s'') is not on the PATH; %s', gp, graphics_packages ());
+  end
+  [st, out] = system (sprintf ('"%s" --version 2>&1', gp));
+  if (st ~= 0)
+    error ('sluice:report:nographics', 'gnuplot does not run (%s); %s', ...
+           strtrim (out), graphics_packages ());
+  end
+  if (isempty (sluice.kernel.find_program ('gs')) && ...
+      isempty (sluice.kernel.find_program (getenv ('GSC'))))
+    error ('sluice:report:nographics', ...
+           'Ghostscript (gs) is not on the PATH: printing PNG figures needs it; %s', ...
+           graphics_packages ());
+  end
+end
+
+function s = graphics_packages ()
+  s = ['the report draws its figures with gnuplot, Ghostscript and a font ', ...
+       '(on Debian: apt-get install gnuplot-nox ghostscript fonts-freefont-otf)'];
 end
 
 function h = new_figure (tk, wh)
@@ -349,12 +378,14 @@ function save_figure (h, f)
     print (h, '-dpng', '-r100', f);
   catch err
     close (h);
-    error ('sluice:report:nographics', 'cannot print the figure %s: %s', f, err.message);
+    error ('sluice:report:nographics', 'cannot print the figure %s: %s; %s', f, ...
+           err.message, graphics_packages ());
   end
   close (h);
   d = dir (f);
   if (isempty (d) || d.bytes == 0)
-    error ('sluice:report:nographics', 'printing gave no image in %s', f);
+    error ('sluice:report:nographics', 'printing gave no image in %s; %s', f, ...
+           graphics_packages ());
   end
 end
 
@@ -1013,3 +1044,107 @@ end
 %!error id=sluice:report:badresult sluice.report (1)
 %!error id=sluice:report:badresult sluice.report (struct ('filter', 1))
 %!error id=sluice:report:badoutdir sluice.report (struct ('times', 1, 'state_names', {{}}, 'param_names', {{}}, 'states', 1, 'params', 1, 'quantile_levels', 0.5, 'ess', 1, 'resampled', false, 'members', 1), 'outdir', 7)
+
+%!shared r0, o0
+%! m0 = sluice.model ('linear', 'A', 0.8, 'Q', 0.05, 'states', {'level'});
+%! o0 = struct ('time', (1:8)', 'variable', {repmat({'level'}, 8, 1)}, ...
+%!              'value', [0.4; 0.1; -0.2; 0.3; 0.5; 0.2; 0; -0.1], 'sigma', 0.3 * ones (8, 1));
+%! r0 = sluice.filter (m0, [], o0, 'members', 100, 'seed', 5, 'progress', false, ...
+%!                     'quantiles', [0.05 0.25 0.5 0.75 0.95]);
+
+%!test
+%! % the main job: the files of a filter run's report, a PNG among them
+%! d = tempname ();
+%! unwind_protect
+%!   files = sluice.report (r0, 'outdir', d, 'obs', o0);
+%!   assert (numel (files), 5);
+%!   assert (exist (fullfile (d, 'fan_level.png'), 'file'), 2);
+%!   % a PNG starts with the bytes 137 'PNG' (PNG specification, section 5.2)
+%!   fid = fopen (fullfile (d, 'fan_level.png'), 'r');
+%!   sig = fread (fid, 4)';
+%!   fclose (fid);
+%!   assert (sig, [137 80 78 71]);
+%!   C = csvread (fullfile (d, 'summary.csv'), 1, 0);
+%!   assert (C(:, 2), r0.states.mean(:), 1e-8);
+%! unwind_protect_cleanup
+%!   confirm_recursive_rmdir (false, 'local');
+%!   if (exist (d, 'dir')), rmdir (d, 's'); end
+%! end_unwind_protect
+
+%!test
+%! % no Ghostscript on the PATH (gnuplot alone): refused before drawing,
+%! % with the Debian packages named
+%! gp = sluice.kernel.find_program (gnuplot_binary ());
+%! bin = tempname ();
+%! d = tempname ();
+%! mkdir (bin);
+%! symlink (gp, fullfile (bin, 'gnuplot'));
+%! old = getenv ('PATH');
+%! oldgsc = getenv ('GSC');
+%! unwind_protect
+%!   setenv ('PATH', bin);
+%!   unsetenv ('GSC');
+%!   try
+%!     sluice.report (r0, 'outdir', d);
+%!     error ('no error');
+%!   catch err
+%!     assert (err.identifier, 'sluice:report:nographics');
+%!     assert (~isempty (strfind (err.message, 'Ghostscript')));
+%!     assert (~isempty (strfind (err.message, 'gnuplot-nox ghostscript fonts-freefont-otf')));
+%!   end
+%!   setenv ('PATH', '');
+%!   fail ('sluice.report (r0, ''outdir'', d)', 'gnuplot program');
+%! unwind_protect_cleanup
+%!   setenv ('PATH', old);
+%!   if (~isempty (oldgsc)), setenv ('GSC', oldgsc); end
+%!   confirm_recursive_rmdir (false, 'local');
+%!   rmdir (bin, 's');
+%!   if (exist (d, 'dir')), rmdir (d, 's'); end
+%! end_unwind_protect
+
+%!test
+%! % a Ghostscript that fails (as it does without a font): the print comes
+%! % out as sluice:report:nographics, not as a crash or a silent gap
+%! bin = tempname ();
+%! d = tempname ();
+%! mkdir (bin);
+%! fid = fopen (fullfile (bin, 'gs'), 'w');
+%! fprintf (fid, '#!/bin/sh\nexit 1\n');
+%! fclose (fid);
+%! system (sprintf ('chmod 755 "%s"', fullfile (bin, 'gs')));
+%! old = getenv ('PATH');
+%! oldgsc = getenv ('GSC');
+%! unwind_protect
+%!   setenv ('PATH', [bin, pathsep(), old]);
+%!   unsetenv ('GSC');
+%!   clear functions;   % print keeps the Ghostscript it found first
+%!   fail ('sluice.report (r0, ''outdir'', d)', 'fonts-freefont-otf');
+%!   try
+%!     sluice.report (r0, 'outdir', d);
+%!   catch err
+%!     assert (err.identifier, 'sluice:report:nographics');
+%!   end
+%! unwind_protect_cleanup
+%!   setenv ('PATH', old);
+%!   if (~isempty (oldgsc)), setenv ('GSC', oldgsc); end
+%!   clear functions;
+%!   confirm_recursive_rmdir (false, 'local');
+%!   rmdir (bin, 's');
+%!   if (exist (d, 'dir')), rmdir (d, 's'); end
+%! end_unwind_protect
+
+%!demo
+%! % Lowmarsh on the invented river Vell: a report of a filter run over
+%! % fifteen invented yearly levels, written to a temporary folder.
+%! m = sluice.model ('linear', 'A', 0.9, 'Q', 0.05, 'states', {'level'});
+%! value = [0.8; 1.1; 0.7; NaN; 0.4; 0.6; 0.9; 1.3; 1.0; 0.5; 0.3; NaN; 0.6; 0.8; 0.7];
+%! obs = struct ('time', (1:15)', 'variable', {repmat({'level'}, 15, 1)}, ...
+%!               'value', value, 'sigma', 0.2 * ones (15, 1));
+%! r = sluice.filter (m, [], obs, 'members', 1000, 'seed', 8, 't0', 0, 'progress', false, ...
+%!                    'quantiles', [0.05 0.25 0.5 0.75 0.95]);
+%! d = tempname ();
+%! files = sluice.report (r, 'outdir', d, 'obs', obs, 'units', struct ('level', 'm'), ...
+%!                        'time_unit', 'year', 'title', 'Vell at Lowmarsh (invented)');
+%! fprintf ('report written to %s:\n', d);
+%! fprintf ('  %s\n', files{:});
+%! fprintf ('%s', fileread (fullfile (d, 'summary.txt')));

@@ -2,7 +2,8 @@
 % @deftypefn  {} {[@var{X}, @var{t}] =} sluice.simulate (@var{model}, @var{x0}, @var{params}, @var{times})
 % @deftypefnx {} {[@var{X}, @var{t}] =} sluice.simulate (@var{model}, @var{x0}, @var{params}, @var{times}, @var{forcing})
 % @deftypefnx {} {[@var{X}, @var{t}] =} sluice.simulate (@dots{}, @var{name}, @var{value}, @dots{})
-% Run one trajectory of @var{model} (a spec from @code{sluice.model}) from
+% Run one trajectory of a model from one initial state and parameter set.
+% The run of @var{model} (a spec from @code{sluice.model}) starts from
 % state @var{x0} (n x 1; empty: the model's @code{x0}) with parameters
 % @var{params} (p x 1; empty: the model's defaults) and return the states
 % at @var{times} (increasing; the run starts at @code{times(1)}, where

@@ -2,8 +2,8 @@
 % @deftypefn  {} {@var{res} =} sluice.smooth (@var{res})
 % @deftypefnx {} {@var{res} =} sluice.smooth (@var{res}, @var{opts})
 % @deftypefnx {} {@var{res} =} sluice.smooth (@var{res}, @var{name}, @var{value}, @dots{})
-% Smoothed distributions of the states and parameters of a filter run,
-% given all observations of the run, computed after the run from its
+% Smooth a filter run: its states and parameters given all its observations.
+% The smoothed distributions are computed after the run from its
 % history.
 %
 % @var{res} is a result of @code{sluice.filter} run with
@@ -523,3 +523,27 @@ end
 %! r = sluice.filter (spec, pr, obs, 'members', 50, 'seed', 1, 't0', 0, 'history', true);
 %! r.history.X = single (r.history.X);
 %! sluice.smooth (r)
+
+%!demo
+%! % Lowmarsh on the invented river Vell: a reanalysis of ten years of the
+%! % town's flood storage. The filter knows each year only the readings up
+%! % to it; the smoother looks back from the whole record.
+%! m = sluice.model ('linear', 'A', 0.9, 'Q', 0.1, 'states', {'storage'});
+%! pr = sluice.prior ('storage', 'normal', [0 1]);
+%! value = [0.4; NaN; 1.1; 0.9; NaN; NaN; 0.2; -0.3; 0.1; 0.5];   % invented
+%! obs = struct ('time', (1:10)', 'variable', {repmat({'storage'}, 10, 1)}, ...
+%!               'value', value, 'sigma', 0.3 * ones (10, 1));
+%! r = sluice.filter (m, pr, obs, 'members', 1000, 'seed', 2, 't0', 0, ...
+%!                    'history', true, 'progress', false);
+%! r = sluice.smooth (r, 'method', 'ffbsi', 'model', m);
+%! fprintf ('year  reading  filtered  smoothed\n');
+%! for k = 1:10
+%!   fprintf ('%4d  %7.2f  %8.3f  %8.3f\n', r.times(k), value(k), ...
+%!            r.states.mean(k), r.smoothed.states.mean(k));
+%! end
+%! figure ();
+%! plot (r.times, r.states.mean, 'b-', r.times, r.smoothed.states.mean, 'r-', ...
+%!       obs.time, value, 'k.');
+%! legend ('filtered mean', 'smoothed mean', 'readings');
+%! xlabel ('year');
+%! title ('Vell at Lowmarsh: filter and reanalysis');

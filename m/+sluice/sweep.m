@@ -2,8 +2,8 @@
 % @deftypefn  {} {[@var{table}, @var{info}] =} sluice.sweep (@var{fun}, @var{grid})
 % @deftypefnx {} {[@var{table}, @var{info}] =} sluice.sweep (@var{fun}, @var{grid}, @var{opts})
 % @deftypefnx {} {[@var{table}, @var{info}] =} sluice.sweep (@var{fun}, @var{grid}, @var{name}, @var{value}, @dots{})
-% Run a function over every point of a grid of option values and collect
-% its scores in one table.
+% Run a function over a grid of option values and collect its scores.
+% Every point of the grid is run and the scores go in one table.
 %
 % @var{grid} is a scalar struct whose fields are the dimensions of the
 % sweep. Each field holds the values of that dimension: a non-empty real
@@ -640,3 +640,22 @@ end
 %! unwind_protect_cleanup
 %!   delete (f);
 %! end_unwind_protect
+
+%!demo
+%! % Lowmarsh on the invented river Vell: sweep the gauge's reading error
+%! % and the ensemble size of the filter over a twin experiment, two seeds
+%! % each, and collect the RMSE of every point in one table.
+%! m = sluice.model ('linear', 'A', 0.9, 'Q', 0.05, 'states', {'level'});
+%! pr = sluice.prior ('level', 'normal', [0 1]);
+%! truth = struct ('times', 0:20, 'x0', 1);
+%! run = @(p) sluice.twin (m, truth, struct ('variable', 'level', 'every', 1, ...
+%!                                          'sigma', p.sigma), ...
+%!                         'seed', p.seed, 'prior', pr, ...
+%!                         'filter', {'members', p.members});
+%! grid = struct ('sigma', [0.1 0.3], 'members', [50 500], 'replicate', [1 2]);
+%! score = @(p) struct ('rmse', getfield (run (p), 'scores', 'rmse'));
+%! t = sluice.sweep (score, grid, 'workers', 1, 'seed', 1);
+%! for k = 1:numel (t.rmse)
+%!   fprintf ('sigma %.1f, %3d members, replicate %d: RMSE %.3f\n', ...
+%!            t.sigma(k), t.members(k), t.replicate(k), t.rmse(k));
+%! end
