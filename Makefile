@@ -42,7 +42,7 @@ CTESTS    := $(patsubst tests/c/%.c,$(BUILD)/tests/%,$(CTESTSRC))
 .PHONY: all deps lib mex links ctests check check-c check-octave check-asan \
         demo bench pkg check-pkg lint clean
 
-all: mex links
+all: mex links m/doc-cache
 
 deps: $(DEPS)
 # redone when the package list or the script changes
@@ -56,6 +56,11 @@ links: $(TESTLINKS)
 
 m/sluice.%: m/+sluice/%.m
 	@ln -sf +sluice/$*.m $@
+
+# lookfor's index of the package's functions (Octave's own indexing skips
+# package folders)
+m/doc-cache: $(wildcard m/+sluice/*.m) m/+sluice/+kernel/help_cache.m | $(DEPS)
+	$(OCTRUN) --eval "warning('off', 'Octave:shadowed-function'); addpath('$(CURDIR)/m'); sluice.kernel.help_cache('$(CURDIR)/m');"
 
 $(BUILD)/tests/%: tests/c/%.c $(SL_LIB) | $(DEPS)
 	@mkdir -p $(dir $@)

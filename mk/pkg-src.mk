@@ -4,6 +4,7 @@
 # user's model against (headers, gateway sources, the library) into
 # ../inst/sdk.
 MKOCTFILE ?= mkoctfile
+OCTAVE    ?= octave-cli
 CC        := $(or $(shell $(MKOCTFILE) -p CC 2>/dev/null),cc)
 SL_SRC    := core
 SL_INC    := include
@@ -17,11 +18,11 @@ include build.mk
 PUBLIC    := $(sort $(basename $(notdir $(wildcard ../inst/+sluice/*.m))))
 PUBLIC    := $(filter-out Contents,$(PUBLIC))
 
-.PHONY: all sdk links
-all: $(SL_MEXBIN) sdk links
+.PHONY: all sdk links help-index
+all: $(SL_MEXBIN) sdk links help-index
 
 sdk: $(SL_LIB)
-	rm -rf ../inst/sdk && mkdir -p ../inst/sdk/build
+	mkdir -p ../inst/sdk/build
 	cp -r include mex ../inst/sdk/
 	cp $(SL_LIB) ../inst/sdk/build/
 
@@ -29,3 +30,12 @@ sdk: $(SL_LIB)
 # so that Octave's "test sluice.<name>" and "demo sluice.<name>" find it
 links:
 	for f in $(PUBLIC); do cp ../inst/+sluice/$$f.m ../inst/sluice.$$f; done
+
+# lookfor's index of the package's functions. pkg install rewrites every
+# doc-cache under the package after this build (indexing top-level
+# functions only), so the index is kept as sdk/help-index and PKG_ADD puts
+# it in place when the package is loaded.
+help-index: sdk
+	$(OCTAVE) --no-gui --quiet --no-history --norc --eval \
+	  "warning('off', 'Octave:shadowed-function'); addpath('$(CURDIR)/../inst'); sluice.kernel.help_cache('$(CURDIR)/../inst');"
+	mv ../inst/doc-cache ../inst/sdk/help-index

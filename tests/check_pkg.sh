@@ -23,6 +23,15 @@ if (isempty (strfind (which ('sluice.filter'), '$tmp')))
   error ('check_pkg: sluice.filter does not come from the installed package');
 end
 printf ('installed in %s\n', where);
+% lookfor sees the package's functions (the index PKG_ADD put in place)
+found = lookfor ('assimilate');
+if (~any (strcmp (found, 'sluice.filter')))
+  error ('check_pkg: lookfor does not find sluice.filter in the installed package');
+end
+% the overview by task
+if (isempty (strfind (help ('sluice.Contents'), 'sluice.twin')))
+  error ('check_pkg: help sluice.Contents does not list sluice.twin');
+end
 f = dir (fullfile (where, '+sluice', '*.m'));
 np = 0; nf = 0;
 for k = 1:numel (f)

@@ -62,6 +62,15 @@
 % @item hidden_figure
 % a new invisible figure drawn by @var{toolkit} (@code{'native'}: the
 % default one).
+% @item help_text
+% @code{[text, sentence] = compat ('help_text', file)}: the help of an .m
+% file as plain text (texinfo rendered as Octave's help renders it) and
+% its first sentence; both empty when the file has no usable help, and
+% always empty in MATLAB, which keeps no such index.
+% @item save_help_index
+% @code{compat ('save_help_index', file, cache)}: write the 3-row cell
+% @var{cache} (names, help texts, first sentences) as the text file that
+% Octave's @code{lookfor} reads for a folder on the path (MATLAB: nothing).
 % @end table
 %
 % Errors: @code{sluice:compat:badop} (an unknown operation),
@@ -197,9 +206,43 @@ function varargout = compat (op, varargin)
       else
         varargout{1} = figure ('visible', 'off');
       end
+    case 'help_text'
+      need (varargin, 1, op);
+      varargout = {'', ''};
+      if (oct)
+        [varargout{1}, varargout{2}] = octave_help_text (varargin{1});
+      end
+    case 'save_help_index'
+      need (varargin, 2, op);
+      if (oct)
+        cache = varargin{2};
+        save_header_format_string (['# doc-cache created by sluice, Octave ', OCTAVE_VERSION()], ...
+                                   'local');
+        save ('-text', varargin{1}, 'cache');
+      end
     otherwise
       error ('sluice:compat:badop', 'unknown operation ''%s''', op);
   end
+end
+
+function [text, sentence] = octave_help_text (f)
+  text = '';
+  sentence = '';
+  [raw, format] = get_help_text (f);
+  switch (lower (format))
+    case 'plain text'
+      text = raw;
+      status = 0;
+    case 'texinfo'
+      [text, status] = __makeinfo__ (raw, 'plain text');
+    otherwise
+      status = 1;
+  end
+  if (status ~= 0 || isempty (strtrim (text)))
+    text = '';
+    return;
+  end
+  sentence = get_first_help_sentence (f);
 end
 
 function need (args, n, op)

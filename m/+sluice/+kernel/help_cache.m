@@ -1,4 +1,4 @@
-function file = help_cache (folder)
+function file = help_cache (folder, mode)
   % Internal: write FOLDER/doc-cache, the help index that Octave's lookfor
   % reads for a directory on the load path, and return its name. It covers
   % the functions of the package FOLDER/+sluice (as sluice.<name>) and the
@@ -7,7 +7,26 @@ function file = help_cache (folder)
   % sentence of the help, which lookfor searches and prints. Without this
   % file lookfor does not see the functions of a package at all.
   % Raises sluice:help_cache:baddir and sluice:help_cache:cantwrite.
-  if (nargin ~= 1 || ~ischar (folder) || isempty (folder) || rows (folder) ~= 1)
+  %
+  % help_cache (FOLDER, 'install') instead puts the index built with the
+  % installed package, FOLDER/sdk/help-index, in place as FOLDER/doc-cache
+  % when that is not already it, and says nothing if the folder is not
+  % writable (the package's PKG_ADD calls it on every load).
+  if (nargin == 2 && ischar (mode) && strcmp (mode, 'install'))
+    file = fullfile (folder, 'doc-cache');
+    index = fullfile (folder, 'sdk', 'help-index');
+    a = dir (index);
+    b = dir (file);
+    if (numel (a) == 1 && (numel (b) ~= 1 || b.bytes ~= a.bytes))
+      try
+        copyfile (index, file, 'f');
+      catch
+        % a read-only installation keeps pkg's own index
+      end
+    end
+    return;
+  end
+  if (nargin ~= 1 || ~ischar (folder) || isempty (folder) || size (folder, 1) ~= 1)
     error ('sluice:help_cache:baddir', 'expected the name of a directory (a string)');
   end
   if (exist (folder, 'dir') ~= 7)
@@ -42,10 +61,7 @@ function file = help_cache (folder)
   end
   file = fullfile (folder, 'doc-cache');
   try
-    v = OCTAVE_VERSION ();
-    save_header_format_string (['# doc-cache created by sluice.kernel.help_cache, Octave ', v], ...
-                               'local');
-    save ('-text', file, 'cache');
+    sluice.kernel.compat ('save_help_index', file, cache);
   catch err
     error ('sluice:help_cache:cantwrite', 'cannot write %s: %s', file, err.message);
   end
@@ -54,23 +70,7 @@ end
 function [text, sentence] = help_of (f)
   % the help of the file f as plain text, and its first sentence ('' when
   % the file has no usable help)
-  text = '';
-  sentence = '';
-  [raw, format] = get_help_text (f);
-  switch (lower (format))
-    case 'plain text'
-      text = raw;
-      status = 0;
-    case 'texinfo'
-      [text, status] = __makeinfo__ (raw, 'plain text');
-    otherwise
-      status = 1;
-  end
-  if (status ~= 0 || isempty (strtrim (text)))
-    text = '';
-    return;
-  end
-  sentence = get_first_help_sentence (f);
+  [text, sentence] = sluice.kernel.compat ('help_text', f);
 end
 
 %!shared folder
@@ -146,3 +146,20 @@ end
 %!test
 %! confirm_recursive_rmdir (false, 'local');
 %! rmdir (folder, 's');
+
+%!test
+%! % the installed package's form: the index built with the package takes
+%! % the place of the one pkg install wrote, once
+%! d = tempname ();
+%! mkdir (d);
+%! mkdir (fullfile (d, 'sdk'));
+%! fid = fopen (fullfile (d, 'sdk', 'help-index'), 'w');
+%! fprintf (fid, 'index built with the package\n');
+%! fclose (fid);
+%! fid = fopen (fullfile (d, 'doc-cache'), 'w');
+%! fprintf (fid, 'pkg''s own\n');
+%! fclose (fid);
+%! sluice.kernel.help_cache (d, 'install');
+%! assert (fileread (fullfile (d, 'doc-cache')), sprintf ('index built with the package\n'));
+%! confirm_recursive_rmdir (false, 'local');
+%! rmdir (d, 's');
