@@ -21,6 +21,7 @@ VERSION   := $(shell sed -n 's/^Version: *//p' DESCRIPTION)
 PKGFILE   := sluice-$(VERSION).tar.gz
 
 DEPS      := $(BUILD)/.deps-ok
+DEPLIST   ?= tools/debian-packages
 SL_SRC    := src
 SL_INC    := include
 SL_MEX    := mex
@@ -46,15 +47,15 @@ all: mex links m/doc-cache
 
 deps: $(DEPS)
 # redone when the package list or the script changes
-$(DEPS): tools/debian-packages tools/deps.sh
-	@bash tools/deps.sh tools/debian-packages
+$(DEPS): $(DEPLIST) tools/deps.sh
+	@bash tools/deps.sh $(DEPLIST)
 	@mkdir -p $(dir $@) && touch $@
 
 lib: $(SL_LIB)
 mex: $(SL_MEXBIN)
 links: $(TESTLINKS)
 
-m/sluice.%: m/+sluice/%.m
+m/sluice.%: m/+sluice/%.m | $(DEPS)
 	@ln -sf +sluice/$*.m $@
 
 # lookfor's index of the package's functions (Octave's own indexing skips
@@ -100,6 +101,7 @@ bench: all
 # with src/Makefile (mk/pkg-src.mk, which includes the same mk/build.mk).
 PKGDIR := $(BUILD)/pkg/sluice-$(VERSION)
 pkg: $(PKGFILE)
+$(PKGFILE): | $(DEPS)
 $(PKGFILE): DESCRIPTION INDEX NEWS COPYING mk/build.mk mk/pkg-src.mk tools/pkg-add \
             $(SL_CSRC) $(wildcard src/*.h src/models/*.h include/sluice/*.h mex/*.c mex/*.h) \
             $(shell find m -name '*.m' 2>/dev/null)

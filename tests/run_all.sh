@@ -29,10 +29,12 @@ if [ "$build" != none ]; then
   done
 fi
 if [ "$octave" != none ]; then
-  bash "$here/tests/lint/run.sh" >"$log" 2>&1; rc=$?
-  grep -E '^FAIL' "$log" | head -n 40
-  if ! tally "$log"; then echo "CRASH lint tests (exit $rc)"; crashed=$((crashed + 1)); fi
-  tail -n 1 "$log"
+  for s in lint build; do   # the shell-level tests: the lint, the dependency step
+    bash "$here/tests/$s/run.sh" >"$log" 2>&1; rc=$?
+    grep -E '^(FAIL|SKIP)' "$log" | head -n 40
+    if ! tally "$log"; then echo "CRASH $s tests (exit $rc)"; crashed=$((crashed + 1)); fi
+    tail -n 1 "$log"
+  done
   (cd "$here" && $octave --no-gui --quiet --norc \
      --eval "warning('off', 'Octave:shadowed-function'); addpath('$here/m'); addpath('$here/tests/octave'); run_octave_tests('$here')") \
      >"$log" 2>&1; rc=$?

@@ -1,0 +1,54 @@
+#!/usr/bin/env bash
+# run.sh - tests of the dependency step (tools/deps.sh and the Makefile's
+# use of it): on a machine without a package and without root, every
+# target prints the one apt-get command that installs it and fails before
+# anything compiles. Prints "build: N passed, N failed". The
+# not-root cases run as the user nobody when this runs as root, and are
+# skipped (counted as passed only when they ran) otherwise.
+set -u
+here=$(cd "$(dirname "$0")/../.." && pwd)
+passed=0; failed=0
+ok()   { passed=$((passed + 1)); }
+fail() { failed=$((failed + 1)); echo "FAIL $*"; }
+tmp=$(mktemp -d); chmod 755 "$tmp"
+trap 'rm -rf "$tmp"' EXIT
+printf '# a comment\nbash   # the shell is always there\n\n' > "$tmp/present"
+printf 'bash\nsluice-no-such-package-a\n  sluice-no-such-package-b  # missing\n' > "$tmp/missing"
+chmod 644 "$tmp/present" "$tmp/missing"
+
+# every package present: silent success
+out=$(bash "$here/tools/deps.sh" "$tmp/present" 2>&1); rc=$?
+[ $rc -eq 0 ] && [ -z "$out" ] && ok || fail "deps.sh with everything installed: exit $rc, output '$out'"
+
+as_nobody() {
+  if [ "$(id -u)" -eq 0 ]; then setpriv --reuid=65534 --regid=65534 --clear-groups "$@"
+  else "$@"; fi
+}
+if [ "$(id -u)" -eq 0 ] && ! command -v setpriv >/dev/null; then
+  echo "SKIP not-root cases: setpriv missing"
+elif ! as_nobody test -r "$here/Makefile" 2>/dev/null; then
+  echo "SKIP not-root cases: the user nobody cannot read $here"
+else
+  # a missing package without root: the one command, exit non-zero
+  out=$(as_nobody bash "$here/tools/deps.sh" "$tmp/missing" 2>&1); rc=$?
+  [ $rc -ne 0 ] && ok || fail "deps.sh without root and with missing packages exited 0"
+  grep -qx '  apt-get install -y --no-install-recommends sluice-no-such-package-a sluice-no-such-package-b' <<<"$out" \
+    && ok || fail "deps.sh did not print the one apt-get command: $out"
+  [ "$(grep -c 'apt-get install' <<<"$out")" -eq 1 ] && ok || fail "more than one apt-get command: $out"
+
+  # make, any building target, as not root: stops at the dependency step
+  for target in all check demo pkg; do
+    mkdir -p "$tmp/b-$target"; chown 65534 "$tmp/b-$target" 2>/dev/null
+    out=$(cd "$here" && as_nobody make --no-print-directory BUILD="$tmp/b-$target" \
+            DEPLIST="$tmp/missing" "$target" 2>&1); rc=$?
+    [ $rc -ne 0 ] && ok || fail "make $target without root and packages exited 0"
+    grep -q 'apt-get install -y --no-install-recommends sluice-no-such-package-a' <<<"$out" \
+      && ok || fail "make $target did not print the apt-get command: $out"
+    if grep -qE '(^| )(cc|gcc|mkoctfile|octave-cli|ar|tar|ln) ' <<<"$out" \
+       || [ -n "$(find "$tmp/b-$target" -name '*.o' -o -name '*.a' | head -n 1)" ]; then
+      fail "make $target compiled or ran something before the dependency step: $out"
+    else ok; fi
+  done
+fi
+echo "build: $passed passed, $failed failed"
+[ $failed -eq 0 ]
