@@ -124,6 +124,19 @@ static size_t dof_doubles(size_t N, size_t m, int *bad)
     return s + t + CHUNK;
 }
 
+/* Rows per block of the ETKF's observation-space form, for kb doubles a
+ * row: at least BLOCK_ROWS and about OBS_BLOCK doubles a block, so that
+ * the few long products there are not cut into many short BLAS calls
+ * (each of which the threaded BLAS splits and joins again). */
+#define OBS_BLOCK ((size_t)1 << 20)
+static size_t obs_block(size_t n, size_t kb)
+{
+    size_t b = (OBS_BLOCK + kb - 1) / kb;
+    if (b < BLOCK_ROWS)
+        b = BLOCK_ROWS;
+    return n < b ? n : b;
+}
+
 /* Whether the ETKF works in observation space (see sl_etkf_form). */
 static int etkf_obs_form(const sl_enkf_config *cfg, size_t N, size_t m)
 {
@@ -168,15 +181,27 @@ static size_t layout(const sl_enkf_config *cfg, size_t n, size_t N, size_t m,
         w->sq = carve(base, &off, &bad, r_full ? mul(m, m, &bad) : 0,
                       sizeof(double));
         if (obs_form) {
-            /* m x m eigenvectors, the m x N rows of the transform, m
-             * eigenvalues, N weights of the mean, m scratch */
+            /* m x m eigenvectors, the (m + 1) x N rows of the transform and
+             * the mean's weights, m eigenvalues, N weights, m scratch; the
+             * row blocks (see obs_block) in blk */
+            size_t kb = N + m + 3, bo = obs_block(n, kb), region;
             w->A = carve(base, &off, &bad, mul(m, m, &bad), sizeof(double));
-            w->T = carve(base, &off, &bad, mN, sizeof(double));
+            w->T = carve(base, &off, &bad, mul(m + 1, N, &bad), sizeof(double));
             w->lam = carve(base, &off, &bad, m, sizeof(double));
             w->tv = carve(base, &off, &bad, N, sizeof(double));
             w->wv = carve(base, &off, &bad, m, sizeof(double));
             w->lwork = (int)(LWORK_PER_MEMBER * (m > 0 ? m : 1));
-            w->G = carve(base, &off, &bad, mul(b, m, &bad), sizeof(double));
+            w->ev = carve(base, &off, &bad, (size_t)w->lwork, sizeof(double));
+            /* bo kb doubles at most: min(n, max(BLOCK_ROWS, OBS_BLOCK / kb
+             * rounded up)) kb <= min(n kb, max(BLOCK_ROWS kb, OBS_BLOCK +
+             * kb)), which never decreases when n, N or m grow */
+            region = mul(BLOCK_ROWS, kb, &bad);
+            if (region < OBS_BLOCK + kb)
+                region = OBS_BLOCK + kb;
+            if (region > mul(n, kb, &bad))
+                region = mul(n, kb, &bad);
+            w->blk = carve(base, &off, &bad, region, sizeof(double));
+            w->b = bo;
         } else {
             w->A = carve(base, &off, &bad, mul(N, N, &bad), sizeof(double));
             w->T = carve(base, &off, &bad, mul(N, N, &bad), sizeof(double));
@@ -184,9 +209,9 @@ static size_t layout(const sl_enkf_config *cfg, size_t n, size_t N, size_t m,
             w->tv = carve(base, &off, &bad, N, sizeof(double));
             w->wv = carve(base, &off, &bad, N, sizeof(double));
             w->lwork = (int)(LWORK_PER_MEMBER * (N > 0 ? N : 1));
+            w->ev = carve(base, &off, &bad, (size_t)w->lwork, sizeof(double));
+            w->blk = carve(base, &off, &bad, bN, sizeof(double));
         }
-        w->ev = carve(base, &off, &bad, (size_t)w->lwork, sizeof(double));
-        w->blk = carve(base, &off, &bad, bN, sizeof(double));
         break;
     case SL_ENKF_ENSRF:
     case SL_ENKF_EAKF:
@@ -701,8 +726,8 @@ static double innov_dof_diag(size_t N, size_t m, const double *HX,
  *    which for c0 = 1 is 1 / (L_k + sqrt((N - 1) L_k)), free of cancellation
  *    and finite at lam_k = 0 (the v_k of a zero lam_k never enters);
  *  Xa = xbar + X'(w 1^T + W) = xbar + X' w + c0 X' - (X' V^T) V,
- * by blocks of rows, two dgemm of b x N x m each. Nothing N x N is formed:
- * O(m^3 + m^2 N + n N m) in all. */
+ * by blocks of rows (obs_block), two dgemm of b x N x (m + 1) each. Nothing
+ * N x N is formed: O(m^3 + m^2 N + n N m) in all. */
 static sl_status etkf_obs_space(const sl_enkf_config *cfg, size_t n, size_t N,
                                 double *X, size_t m, buffers *w, double *dof,
                                 size_t *floored, sl_error *err)
@@ -710,9 +735,11 @@ static sl_status etkf_obs_space(const sl_enkf_config *cfg, size_t n, size_t N,
     const int iN = (int)N, im = (int)m, in = (int)n;
     const double infl = cfg->inflation, nm1 = (double)(N - 1);
     const double frel = cfg->eig_floor > 0 ? cfg->eig_floor : DEFAULT_FLOOR;
+    const size_t m1 = m + 1;
+    const int im1 = (int)m1;
     double *S = w->yp, *d = w->dv, *U = w->A, *V = w->T, *lam = w->lam;
-    double *wm = w->tv, *u = w->wv, *xbar = w->stat, *xw = w->stat + w->b;
-    double *B = w->blk, *G = w->G;
+    double *wm = w->tv, *u = w->wv;
+    double *B = w->blk, *G = B + w->b * N, *xbar = G + w->b * m1;
     double lmax, fl, Lo, c0, acc = 0.0;
     size_t i, j, k, i0;
     int info = 0;
@@ -766,24 +793,26 @@ static sl_status etkf_obs_space(const sl_enkf_config *cfg, size_t n, size_t N,
     for (k = 0; k < m; k++)
         acc += d[k] * w->aux[k];
     *dof = acc;
-    /* V = diag(sqrt(phi)) U^T S */
-    dgemm_("T", "N", &im, &iN, &im, &D1, U, &im, S, &im, &D0, V, &im, 1, 1);
-    for (j = 0; j < N; j++)
+    /* V = diag(sqrt(phi)) U^T S in rows 0 .. m-1 of the (m + 1) x N
+     * matrix, w^T in row m: one product per block gives X'V^T and X'w */
+    dgemm_("T", "N", &im, &iN, &im, &D1, U, &im, S, &im, &D0, V, &im1, 1, 1);
+    for (j = 0; j < N; j++) {
         for (k = 0; k < m; k++)
-            V[k + j * m] *= lam[k];
-    if (first_nonfinite(V, m * N) < m * N || first_nonfinite(wm, N) < N)
+            V[k + j * m1] *= lam[k];
+        V[m + j * m1] = wm[j];
+    }
+    if (first_nonfinite(V, m1 * N) < m1 * N)
         return fail_nonfinite(err);
     for (i0 = 0; i0 < n; i0 += w->b) {
         const size_t nb = n - i0 < w->b ? n - i0 : w->b;
         const int ib = (int)nb;
+        const double *xw = G + m * nb; /* X'w, the mean's increment */
         block_prior(n, N, X, i0, nb, infl, xbar, B, 1, nb);
-        /* the analysis mean xbar + X' w */
-        dgemv_("N", &ib, &iN, &D1, B, &ib, wm, &I1, &D0, xw, &I1, 1);
-        dgemm_("N", "T", &ib, &im, &iN, &D1, B, &ib, V, &im, &D0, G, &ib, 1, 1);
+        dgemm_("N", "T", &ib, &im1, &iN, &D1, B, &ib, V, &im1, &D0, G, &ib, 1, 1);
         for (j = 0; j < N; j++)
             for (i = 0; i < nb; i++)
                 X[i0 + i + j * n] = c0 * B[i + j * nb];
-        dgemm_("N", "N", &ib, &iN, &im, &DM1, G, &ib, V, &im, &D1, X + i0, &in, 1, 1);
+        dgemm_("N", "N", &ib, &iN, &im, &DM1, G, &ib, V, &im1, &D1, X + i0, &in, 1, 1);
         for (j = 0; j < N; j++)
             for (i = 0; i < nb; i++)
                 X[i0 + i + j * n] += xbar[i] + xw[i];

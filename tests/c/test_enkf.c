@@ -522,6 +522,39 @@ static void test_etkf_large(void)
     CHECK(fabs(info.innov_dof - dof) <= 1e-10 * dof, "innov_dof %g vs %g", info.innov_dof, dof);
     free(Xa);
     free_problem(&p);
+    /* several blocks of rows: the transform depends on HX alone (Hunt et
+     * al. 2007), so rows analysed 50 at a time (one block each) are the
+     * rows of the whole analysis (blocks of 64), to rounding */
+    {
+        const size_t n2 = 150, N2 = 20000, m2 = 3, part = 50;
+        double *Xb = dalloc(part * N2), e2 = 0.0, scale = 0.0;
+        size_t i, j, i0;
+        make_problem(&p, n2, N2, m2, 9191);
+        Xa = dalloc(n2 * N2);
+        cfg.inflation = 1.0735;
+        cfg.rtps = 0.385;
+        CHECK(analyse_problem(&cfg, &p, NULL, Xa, &info, &err) == SL_OK, "%s", err.message);
+        for (i0 = 0; i0 < n2; i0 += part) {
+            for (j = 0; j < N2; j++)
+                for (i = 0; i < part; i++)
+                    Xb[i + j * part] = p.X[i0 + i + j * n2];
+            CHECK(analyse(&cfg, part, N2, Xb, m2, p.HX, p.y, p.rd, 0, &info, &err) == SL_OK,
+                  "%s", err.message);
+            for (j = 0; j < N2; j++)
+                for (i = 0; i < part; i++) {
+                    double a = Xa[i0 + i + j * n2];
+                    if (fabs(a - Xb[i + j * part]) > e2)
+                        e2 = fabs(a - Xb[i + j * part]);
+                    if (fabs(a) > scale)
+                        scale = fabs(a);
+                }
+        }
+        printf("  etkf N=20000, n=150 in blocks vs 50 rows at a time: %.1e\n", e2 / scale);
+        CHECK(e2 <= 1e-13 * scale, "blocks of rows differ by %g", e2);
+        free(Xa);
+        free(Xb);
+        free_problem(&p);
+    }
 }
 
 /* ------------------------------------------------- stochastic EnKF */
@@ -1417,6 +1450,17 @@ static void test_errors(void)
                         a > sl_enkf_workspace(&cfg, nn, NN + 1, mm, 0) ||
                         a > sl_enkf_workspace(&cfg, nn, NN, mm + 1, 0) ||
                         a > sl_enkf_workspace(&cfg, nn, NN, mm, 1))
+                        shrinks++;
+                }
+        /* and where the observation form's row blocks stop shrinking
+         * with N (about 2^20 doubles a block, at least 64 rows) */
+        for (nn = 60; nn <= 5000; nn = nn < 70 ? nn + 1 : nn * 3)
+            for (NN = 16360; NN <= 16400; NN++)
+                for (mm = 1; mm <= 40; mm += 13) {
+                    size_t a = sl_enkf_workspace(&cfg, nn, NN, mm, 0);
+                    if (a == 0 || a > sl_enkf_workspace(&cfg, nn + 1, NN, mm, 0) ||
+                        a > sl_enkf_workspace(&cfg, nn, NN + 1, mm, 0) ||
+                        a > sl_enkf_workspace(&cfg, nn, NN, mm + 1, 0))
                         shrinks++;
                 }
         CHECK(shrinks == 0, "etkf form %lu: workspace shrinks at %lu points", (unsigned long)q,
