@@ -31,7 +31,8 @@
 % (Gaussian observations only; states and parameters updated together by
 % state augmentation, parameters in their transformed space):
 % @code{'enkf'} (stochastic, perturbed observations), @code{'etkf'}
-% (symmetric square root), @code{'ensrf'} and @code{'eakf'} (serial, one
+% (symmetric square root; worked out with m x m matrices when a cycle has
+% m observations, fewer than the members, else with N x N ones), @code{'ensrf'} and @code{'eakf'} (serial, one
 % observation at a time), @code{'letkf'} (local, needs
 % @code{localization}). Their log-evidence is NaN; dead members are
 % replaced by copies of living ones.
