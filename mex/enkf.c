@@ -1,6 +1,9 @@
 /* enkf.c - gateway: [Xa, floored, skipped, dof] = sluice.kernel.enkf(Xf, HXf,
  * y, R, cfg): one ensemble Kalman analysis. cfg is the struct sluice.enkf
- * prepares. */
+ * prepares. bytes = sluice.kernel.enkf('workspace', method, n, N, m,
+ * threads): the workspace the analysis of n rows, N members and m
+ * observations (diagonal R) takes, Inf if the size overflows; memory
+ * guards ask it before a run. */
 #include <math.h>
 #include <string.h>
 
@@ -30,6 +33,25 @@ void mexFunction(int nlhs, mxArray *plhs[], int nrhs, const mxArray *prhs[])
     double *Xa;
 
     slm_init();
+    if (nrhs > 0 && mxIsChar(prhs[0])) {
+        char *what = slm_string(FN, prhs[0], 1, "query");
+        if (strcmp(what, "workspace") != 0)
+            slm_fail(FN, "badquery", "argument 1: unknown query '%s' (workspace)", what);
+        slm_nargs(FN, nrhs, 6, 6, nlhs, 1);
+        memset(&cfg, 0, sizeof cfg);
+        method = slm_string(FN, prhs[1], 2, "method");
+        cfg.method = sl_enkf_method_find(method);
+        if (cfg.method < 0)
+            slm_fail(FN, "badmethod", "unknown method '%s' (enkf, etkf, ensrf, eakf, letkf)",
+                     method);
+        n = (size_t)slm_integer(FN, prhs[2], 3, "n", 1, 9007199254740992.0);
+        N = (size_t)slm_integer(FN, prhs[3], 4, "N", 2, 9007199254740992.0);
+        m = (size_t)slm_integer(FN, prhs[4], 5, "m", 1, 9007199254740992.0);
+        cfg.threads = slm_threads(slm_integer(FN, prhs[5], 6, "threads", 0, 256));
+        bytes = sl_enkf_workspace(&cfg, n, N, m, 0);
+        plhs[0] = mxCreateDoubleScalar(bytes > 0 ? (double)bytes : HUGE_VAL);
+        return;
+    }
     slm_nargs(FN, nrhs, 5, 5, nlhs, 4);
     Xf = slm_matrix(FN, prhs[0], 1, "Xf", 0, 0, 0);
     n = mxGetM(prhs[0]);

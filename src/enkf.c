@@ -124,13 +124,36 @@ static size_t dof_doubles(size_t N, size_t m, int *bad)
     return s + t + CHUNK;
 }
 
+/* Rows per block of the ETKF's observation-space form, for kb doubles a
+ * row: at least BLOCK_ROWS and about OBS_BLOCK doubles a block, so that
+ * the few long products there are not cut into many short BLAS calls
+ * (each of which the threaded BLAS splits and joins again). */
+#define OBS_BLOCK ((size_t)1 << 20)
+static size_t obs_block(size_t n, size_t kb)
+{
+    size_t b = (OBS_BLOCK + kb - 1) / kb;
+    if (b < BLOCK_ROWS)
+        b = BLOCK_ROWS;
+    return n < b ? n : b;
+}
+
+/* Whether the ETKF works in observation space (see sl_etkf_form). */
+static int etkf_obs_form(const sl_enkf_config *cfg, size_t N, size_t m)
+{
+    if (cfg->etkf_form == SL_ETKF_OBSERVATION)
+        return 1;
+    if (cfg->etkf_form == SL_ETKF_ENSEMBLE)
+        return 0;
+    return m < N;
+}
+
 /* Lay the buffers out in base (NULL: only measure); the bytes needed, or 0
- * if a size overflows. The sizes depend on the method, n, N, m and r_full
- * only (not on localisation, inflation or relaxation) and never decrease
- * when n, N or m grow, so one query for the largest problem serves every
- * smaller analysis of the same method. */
+ * if a size overflows. obs_form: the ETKF's observation-space form. The
+ * sizes depend on the method, n, N, m, r_full and the ETKF's form only
+ * (not on localisation, inflation or relaxation) and never decrease when
+ * n, N or m grow. */
 static size_t layout(const sl_enkf_config *cfg, size_t n, size_t N, size_t m,
-                     int r_full, unsigned char *base, buffers *w)
+                     int r_full, int obs_form, unsigned char *base, buffers *w)
 {
     size_t off = 0, b = n < BLOCK_ROWS ? n : BLOCK_ROWS, mN, bN;
     int bad = 0;
@@ -157,14 +180,38 @@ static size_t layout(const sl_enkf_config *cfg, size_t n, size_t N, size_t m,
         w->yp = carve(base, &off, &bad, mN, sizeof(double));
         w->sq = carve(base, &off, &bad, r_full ? mul(m, m, &bad) : 0,
                       sizeof(double));
-        w->A = carve(base, &off, &bad, mul(N, N, &bad), sizeof(double));
-        w->T = carve(base, &off, &bad, mul(N, N, &bad), sizeof(double));
-        w->lam = carve(base, &off, &bad, N, sizeof(double));
-        w->tv = carve(base, &off, &bad, N, sizeof(double));
-        w->wv = carve(base, &off, &bad, N, sizeof(double));
-        w->lwork = (int)(LWORK_PER_MEMBER * (N > 0 ? N : 1));
-        w->ev = carve(base, &off, &bad, (size_t)w->lwork, sizeof(double));
-        w->blk = carve(base, &off, &bad, bN, sizeof(double));
+        if (obs_form) {
+            /* m x m eigenvectors, the (m + 1) x N rows of the transform and
+             * the mean's weights, m eigenvalues, N weights, m scratch; the
+             * row blocks (see obs_block) in blk */
+            size_t kb = N + m + 3, bo = obs_block(n, kb), region;
+            w->A = carve(base, &off, &bad, mul(m, m, &bad), sizeof(double));
+            w->T = carve(base, &off, &bad, mul(m + 1, N, &bad), sizeof(double));
+            w->lam = carve(base, &off, &bad, m, sizeof(double));
+            w->tv = carve(base, &off, &bad, N, sizeof(double));
+            w->wv = carve(base, &off, &bad, m, sizeof(double));
+            w->lwork = (int)(LWORK_PER_MEMBER * (m > 0 ? m : 1));
+            w->ev = carve(base, &off, &bad, (size_t)w->lwork, sizeof(double));
+            /* bo kb doubles at most: min(n, max(BLOCK_ROWS, OBS_BLOCK / kb
+             * rounded up)) kb <= min(n kb, max(BLOCK_ROWS kb, OBS_BLOCK +
+             * kb)), which never decreases when n, N or m grow */
+            region = mul(BLOCK_ROWS, kb, &bad);
+            if (region < OBS_BLOCK + kb)
+                region = OBS_BLOCK + kb;
+            if (region > mul(n, kb, &bad))
+                region = mul(n, kb, &bad);
+            w->blk = carve(base, &off, &bad, region, sizeof(double));
+            w->b = bo;
+        } else {
+            w->A = carve(base, &off, &bad, mul(N, N, &bad), sizeof(double));
+            w->T = carve(base, &off, &bad, mul(N, N, &bad), sizeof(double));
+            w->lam = carve(base, &off, &bad, N, sizeof(double));
+            w->tv = carve(base, &off, &bad, N, sizeof(double));
+            w->wv = carve(base, &off, &bad, N, sizeof(double));
+            w->lwork = (int)(LWORK_PER_MEMBER * (N > 0 ? N : 1));
+            w->ev = carve(base, &off, &bad, (size_t)w->lwork, sizeof(double));
+            w->blk = carve(base, &off, &bad, bN, sizeof(double));
+        }
         break;
     case SL_ENKF_ENSRF:
     case SL_ENKF_EAKF:
@@ -194,13 +241,37 @@ static size_t layout(const sl_enkf_config *cfg, size_t n, size_t N, size_t m,
     return off > ALIGN ? off : ALIGN;
 }
 
+/* The bytes to ask for: the layout of the form the analysis will use;
+ * for the ETKF's automatic choice, at least the layouts of the other form
+ * at the switch (m = N - 1 and N = m), so that the size still never
+ * decreases when m grows past N - 1 or N past m. One query for the
+ * largest problem then serves every smaller analysis. */
+static size_t workspace_bytes(const sl_enkf_config *cfg, size_t n, size_t N,
+                              size_t m, int r_full)
+{
+    buffers w;
+    size_t a, b;
+    if (cfg->method != SL_ENKF_ETKF || cfg->etkf_form != SL_ETKF_AUTO)
+        return layout(cfg, n, N, m, r_full, etkf_obs_form(cfg, N, m), NULL, &w);
+    if (m < N) {
+        a = layout(cfg, n, N, m, r_full, 1, NULL, &w);
+        b = layout(cfg, n, m, m, r_full, 0, NULL, &w);
+    } else {
+        a = layout(cfg, n, N, m, r_full, 0, NULL, &w);
+        b = N > 0 ? layout(cfg, n, N, N - 1, r_full, 1, NULL, &w) : a;
+    }
+    if (a == 0 || b == 0)
+        return 0;
+    return a > b ? a : b;
+}
+
 size_t sl_enkf_workspace(const sl_enkf_config *cfg, size_t n, size_t N,
                          size_t m, int r_full)
 {
-    buffers w;
-    if (cfg == NULL || cfg->method < 0 || cfg->method >= SL_ENKF_COUNT)
+    if (cfg == NULL || cfg->method < 0 || cfg->method >= SL_ENKF_COUNT ||
+        cfg->etkf_form < SL_ETKF_AUTO || cfg->etkf_form > SL_ETKF_OBSERVATION)
         return 0;
-    return layout(cfg, n, N, m, r_full != 0, NULL, &w);
+    return workspace_bytes(cfg, n, N, m, r_full != 0);
 }
 
 /* ------------------------------------------------------------- checks */
@@ -232,6 +303,10 @@ static sl_status check_config(const sl_enkf_config *cfg, int r_full,
     if (cfg->threads < 1)
         return sl_fail(err, SL_EINVAL, "badconfig",
                        "the number of threads must be >= 1, got %d", cfg->threads);
+    if (cfg->etkf_form < SL_ETKF_AUTO || cfg->etkf_form > SL_ETKF_OBSERVATION)
+        return sl_fail(err, SL_EINVAL, "badconfig",
+                       "unknown form of the ETKF %d (0 automatic, 1 ensemble space, "
+                       "2 observation space)", cfg->etkf_form);
     if (!(cfg->eig_floor >= 0 && cfg->eig_floor < 1))
         return sl_fail(err, SL_EINVAL, "badconfig",
                        "the eigenvalue floor must lie in [0, 1), got %g",
@@ -637,6 +712,119 @@ static double innov_dof_diag(size_t N, size_t m, const double *HX,
 
 /* ---------------------------------------------------------------- ETKF */
 
+/* The ETKF of run_etkf worked out in observation space, for m < N: with
+ * the whitened S (m x N) and d already in w->yp and w->dv, and the
+ * eigen-decomposition S S^T = U diag(lam) U^T (dsyev, m x m; lam >= 0 after
+ * rounding is clipped), the ensemble-space matrix (N - 1) I + S^T S has the
+ * eigenvalues L_k = N - 1 + lam_k on the directions v_k = S^T u_k /
+ * sqrt(lam_k) and N - 1 on the N - m others (floored as there). Then
+ *  w = [(N - 1) I + S^T S]^{-1} S^T d = S^T q, q = U diag(1/L) U^T d
+ *    (push-through identity S^T (c I + S S^T)^{-1} = (c I + S^T S)^{-1} S^T);
+ *  W = c0 I + sum_k (g_k - c0) v_k v_k^T = c0 I - V^T V,
+ *    g_k = sqrt((N - 1) / L_k), c0 = the g of the others,
+ *    V = diag(sqrt(phi_k)) U^T S (m x N), phi_k = (c0 - g_k) / lam_k >= 0,
+ *    which for c0 = 1 is 1 / (L_k + sqrt((N - 1) L_k)), free of cancellation
+ *    and finite at lam_k = 0 (the v_k of a zero lam_k never enters);
+ *  Xa = xbar + X'(w 1^T + W) = xbar + X' w + c0 X' - (X' V^T) V,
+ * by blocks of rows (obs_block), two dgemm of b x N x (m + 1) each. Nothing
+ * N x N is formed: O(m^3 + m^2 N + n N m) in all. */
+static sl_status etkf_obs_space(const sl_enkf_config *cfg, size_t n, size_t N,
+                                double *X, size_t m, buffers *w, double *dof,
+                                size_t *floored, sl_error *err)
+{
+    const int iN = (int)N, im = (int)m, in = (int)n;
+    const double infl = cfg->inflation, nm1 = (double)(N - 1);
+    const double frel = cfg->eig_floor > 0 ? cfg->eig_floor : DEFAULT_FLOOR;
+    const size_t m1 = m + 1;
+    const int im1 = (int)m1;
+    double *S = w->yp, *d = w->dv, *U = w->A, *V = w->T, *lam = w->lam;
+    double *wm = w->tv, *u = w->wv;
+    double *B = w->blk, *G = B + w->b * N, *xbar = G + w->b * m1;
+    double lmax, fl, Lo, c0, acc = 0.0;
+    size_t i, j, k, i0;
+    int info = 0;
+
+    dsyrk_("L", "N", &im, &iN, &D1, S, &im, &D0, U, &im, 1, 1);
+    if (lower_nonfinite(U, m) || first_nonfinite(d, m) < m)
+        return fail_nonfinite(err);
+    dsyev_("V", "L", &im, U, &im, lam, w->ev, &w->lwork, &info, 1, 1);
+    if (info != 0)
+        return sl_fail(err, SL_ENUMERIC, "noconvergence",
+                       "the eigen-decomposition of the observation-space matrix failed "
+                       "(LAPACK dsyev info %d)", info);
+    for (k = 0; k < m; k++)
+        if (!(lam[k] > 0))
+            lam[k] = 0.0; /* rounding below zero (NaN is caught next) */
+    lmax = nm1 + lam[m - 1];
+    if (!(lmax > 0 && lmax < HUGE_VAL))
+        return fail_nonfinite(err);
+    fl = frel * lmax;
+    /* the eigenvalue N - 1 outside the span of S^T (N - m times in
+     * ensemble space; with m >= N, where this form may be asked for, the
+     * m - N smallest lam are no eigenvalues there and are not counted) */
+    Lo = nm1;
+    if (!(Lo >= fl)) {
+        Lo = fl;
+        *floored += N > m ? N - m : 0;
+    }
+    c0 = sqrt(nm1 / Lo);
+    /* q = U diag(1/L) U^T d into u, then w = S^T q */
+    dgemv_("T", &im, &im, &D1, U, &im, d, &I1, &D0, u, &I1, 1);
+    for (k = 0; k < m; k++) {
+        double L = nm1 + lam[k];
+        if (!(L >= fl)) {
+            L = fl;
+            if (k + N >= m)
+                (*floored)++;
+        }
+        u[k] /= L;
+        /* from here lam[k] holds sqrt(phi_k) */
+        if (Lo == nm1)
+            lam[k] = sqrt(1.0 / (L + sqrt(nm1 * L)));
+        else
+            lam[k] = lam[k] > 0 ? sqrt((c0 - sqrt(nm1 / L)) / lam[k]) : 0.0;
+    }
+    memcpy(w->aux, u, m * sizeof(double));
+    dgemv_("N", &im, &im, &D1, U, &im, w->aux, &I1, &D0, u, &I1, 1);
+    dgemv_("T", &im, &iN, &D1, S, &im, u, &I1, &D0, wm, &I1, 1);
+    /* d^T (HBH^T + R)^{-1} d = d~^T (d~ - S w), as in ensemble space */
+    memcpy(w->aux, d, m * sizeof(double));
+    dgemv_("N", &im, &iN, &DM1, S, &im, wm, &I1, &D1, w->aux, &I1, 1);
+    for (k = 0; k < m; k++)
+        acc += d[k] * w->aux[k];
+    *dof = acc;
+    /* V = diag(sqrt(phi)) U^T S in rows 0 .. m-1 of the (m + 1) x N
+     * matrix, w^T in row m: one product per block gives X'V^T and X'w */
+    dgemm_("T", "N", &im, &iN, &im, &D1, U, &im, S, &im, &D0, V, &im1, 1, 1);
+    for (j = 0; j < N; j++) {
+        for (k = 0; k < m; k++)
+            V[k + j * m1] *= lam[k];
+        V[m + j * m1] = wm[j];
+    }
+    if (first_nonfinite(V, m1 * N) < m1 * N)
+        return fail_nonfinite(err);
+    for (i0 = 0; i0 < n; i0 += w->b) {
+        const size_t nb = n - i0 < w->b ? n - i0 : w->b;
+        const int ib = (int)nb;
+        const double *xw = G + m * nb; /* X'w, the mean's increment */
+        block_prior(n, N, X, i0, nb, infl, xbar, B, 1, nb);
+        dgemm_("N", "T", &ib, &im1, &iN, &D1, B, &ib, V, &im1, &D0, G, &ib, 1, 1);
+        for (j = 0; j < N; j++)
+            for (i = 0; i < nb; i++)
+                X[i0 + i + j * n] = c0 * B[i + j * nb];
+        dgemm_("N", "N", &ib, &iN, &im, &DM1, G, &ib, V, &im1, &D1, X + i0, &in, 1, 1);
+        for (j = 0; j < N; j++)
+            for (i = 0; i < nb; i++)
+                X[i0 + i + j * n] += xbar[i] + xw[i];
+        if (cfg->rtpp > 0 || cfg->rtps > 0)
+            for (i = 0; i < nb; i++)
+                relax_row(cfg, N, X + i0 + i, n, B + i, nb);
+        if (!rows_finite(n, N, X, i0, nb))
+            return fail_nonfinite(err);
+    }
+    return SL_OK;
+}
+
 /* The symmetric square-root ETKF (Hunt et al. 2007): with the
  * whitened perturbations S = R^{-1/2} HX' (rows scaled by 1/sqrt(r) for a
  * diagonal R, else L^{-1} HX' with R = L L^T) and d = R^{-1/2}(y - Hxbar),
@@ -645,7 +833,9 @@ static double innov_dof_diag(size_t N, size_t m, const double *HX,
  * W = [(N - 1) Pa~]^{1/2} = Q diag(sqrt((N - 1)/lam)) Q^T, exactly
  * symmetric (a dsyrk of Q diag(((N - 1)/lam)^{1/4}) mirrored), and
  * Xa = xbar + X' (w 1^T + W), done by blocks of rows; nothing n x n or
- * m x m is formed for a diagonal R. */
+ * m x m is formed for a diagonal R. With fewer observations than members
+ * (or when asked, cfg->etkf_form) the same analysis is worked out in
+ * observation space instead (etkf_obs_space), with nothing N x N. */
 static sl_status run_etkf(const sl_enkf_config *cfg, size_t n, size_t N,
                           double *X, size_t m, const double *HX,
                           const double *y, int rdiag, buffers *w, double *dof,
@@ -675,6 +865,8 @@ static sl_status run_etkf(const sl_enkf_config *cfg, size_t n, size_t N,
         dtrsm_("L", "L", "N", "N", &im, &iN, &D1, w->sq, &im, yp, &im, 1, 1, 1, 1);
         dtrsm_("L", "L", "N", "N", &im, &I1, &D1, w->sq, &im, d, &im, 1, 1, 1, 1);
     }
+    if (etkf_obs_form(cfg, N, m))
+        return etkf_obs_space(cfg, n, N, X, m, w, dof, floored, err);
     dsyrk_("L", "T", &iN, &im, &D1, yp, &im, &D0, A, &iN, 1, 1);
     for (j = 0; j < N; j++)
         A[j + j * N] += (double)(N - 1);
@@ -1084,7 +1276,7 @@ sl_status sl_enkf_analysis(const sl_enkf_config *cfg, size_t n, size_t N,
                        (unsigned long)n, (unsigned long)N, (unsigned long)m);
     if ((st = check_localization(cfg, n, m, err)) != SL_OK)
         return st;
-    if (layout(cfg, n, N, m, r_full, work, &w) == 0)
+    if (layout(cfg, n, N, m, r_full, etkf_obs_form(cfg, N, m), work, &w) == 0)
         return sl_fail(err, SL_ENOMEM, "nomemory", "the analysis workspace size overflows");
     if ((st = check_finite(n, N, X, m, HX, y, R, r_full, err)) != SL_OK)
         return st;

@@ -24,6 +24,15 @@ typedef enum {
  * or -1. */
 int sl_enkf_method_find(const char *name);
 
+/* Where the ETKF works out its transform. Both give the same analysis to
+ * rounding; the ensemble space costs O(N^3 + m N^2) with N x N matrices,
+ * the observation space O(m^3 + m^2 N) with m x m and m x N ones. */
+typedef enum {
+    SL_ETKF_AUTO = 0,        /* observation space when m < N, else ensemble */
+    SL_ETKF_ENSEMBLE,
+    SL_ETKF_OBSERVATION
+} sl_etkf_form;
+
 /* Geometry of positions, for the distances of localisation. */
 typedef enum {
     SL_GEOM_LINE = 0, /* 1-D: |a - b| */
@@ -66,6 +75,7 @@ typedef struct {
     int threads;       /* >= 1 */
     double eig_floor;  /* relative floor on eigenvalues of the ensemble-
                         * space matrix (0: 1e-12) */
+    int etkf_form;     /* sl_etkf_form (ETKF only; 0: automatic) */
 } sl_enkf_config;
 
 typedef struct {
@@ -76,7 +86,8 @@ typedef struct {
 } sl_enkf_info;
 
 /* Bytes of workspace sl_enkf_analysis needs (r_full as there), or 0 if a
- * size overflows. */
+ * size overflows. The size never decreases when n, N or m grow, so one
+ * query for the largest problem serves every smaller one. */
 size_t sl_enkf_workspace(const sl_enkf_config *cfg, size_t n, size_t N,
                          size_t m, int r_full);
 

@@ -11,7 +11,8 @@
 % error variances. Returns the n x N analysis ensemble.
 %
 % Options (a struct or name/value pairs): @code{method} (@code{'etkf'}
-% (default; symmetric square root, Hunt et al. 2007), @code{'enkf'}
+% (default; symmetric square root, Hunt et al. 2007; with m x m matrices
+% when there are fewer observations than members, else N x N), @code{'enkf'}
 % (stochastic with perturbed observations, Burgers et al. 1998),
 % @code{'ensrf'} (serial, Whitaker & Hamill 2002), @code{'eakf'} (serial,
 % Anderson 2001), @code{'letkf'} (local, Hunt et al. 2007)),

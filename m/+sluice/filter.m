@@ -31,7 +31,8 @@
 % (Gaussian observations only; states and parameters updated together by
 % state augmentation, parameters in their transformed space):
 % @code{'enkf'} (stochastic, perturbed observations), @code{'etkf'}
-% (symmetric square root), @code{'ensrf'} and @code{'eakf'} (serial, one
+% (symmetric square root; worked out with m x m matrices when a cycle has
+% m observations, fewer than the members, else with N x N ones), @code{'ensrf'} and @code{'eakf'} (serial, one
 % observation at a time), @code{'letkf'} (local, needs
 % @code{localization}). Their log-evidence is NaN; dead members are
 % replaced by copies of living ones.
@@ -170,7 +171,7 @@ function res = filter (model, prior, obs, varargin)
     t0 = model.t0;
   end
 
-  check_memory (n, p, q, N, numel (obs_field (obs, 'time')), opts);
+  check_memory (n, p, q, N, obs_field (obs, 'time'), opts);
 
   % initial ensemble: prior draws by name
   [X0, P0, lower, upper] = initial_ensemble (model, prior, N, opts.seed);
@@ -557,20 +558,37 @@ function v = obs_field (obs, name)
   end
 end
 
-function check_memory (n, p, q, N, m, opts)
+function check_memory (n, p, q, N, obs_time, opts)
   % refuse a run that cannot fit before anything large is allocated
+  m = numel (obs_time);
   T = m + numel (opts.times);
   need = 8 * N * (3 * n + 5 * p + 3 * q + min (m, 1e4) + 8);
   if (opts.history)
     need = need + 8 * N * T * (n + p + 2);
   end
+  nwin = 0;
   if (opts.lag > 0)
     % the window, and for the ensemble Kalman methods its augmented copy
-    need = need + 8 * N * (n + p) * (min (opts.lag, T) + 2) * (1 + ~strcmp (opts.method, 'pf'));
+    nwin = min (opts.lag, T);
+    need = need + 8 * N * (n + p) * (nwin + 2) * (1 + ~strcmp (opts.method, 'pf'));
   end
-  if (~strcmp (opts.method, 'pf'))
-    % the square-root analyses work with N x N matrices in ensemble space
-    need = need + 8 * 3 * N^2;
+  if (~strcmp (opts.method, 'pf') && N >= 2 && m > 0)
+    % the analysis workspace as the core asks for it (N x N matrices for
+    % the LETKF, and for the ETKF only with as many observations in one
+    % cycle as members), for the most rows of one time; it never shrinks
+    % as the rows grow, so all m rows at once bound it cheaply first
+    rows = (n + p) * (nwin + 1);
+    work = sluice.kernel.enkf ('workspace', opts.method, rows, N, m, opts.threads);
+    if (need + work >= 2^30)
+      try
+        [~, ~, k] = unique (obs_time(:));
+        work = sluice.kernel.enkf ('workspace', opts.method, rows, N, ...
+                                   max (accumarray (k(:), 1)), opts.threads);
+      catch
+        % a malformed table: the table check reports it later
+      end
+    end
+    need = need + work;
   end
   if (need < 2^30)
     return;   % small runs: not worth the 3 ms memory () costs per call

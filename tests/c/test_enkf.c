@@ -6,6 +6,7 @@
 #include "sluice/enkf.h"
 #include "sluice/rng.h"
 
+#include <float.h>
 #include <stdint.h>
 #include <stdlib.h>
 #include <gsl/gsl_errno.h>
@@ -383,6 +384,177 @@ static void test_etkf_symmetric(void)
     free(Pa);
     free(W);
     free_problem(&p);
+}
+
+/* ------------------------------------------------- ETKF: two forms */
+
+/* The ETKF's transform worked out in ensemble space (N x N) and in
+ * observation space (m x m) is the same matrix: (I + S^T S / (N - 1))^{-1/2}
+ * and [(N - 1) I + S^T S]^{-1} S^T = S^T [(N - 1) I + S S^T]^{-1} share
+ * their eigenvectors through the SVD of S (matrix identities, Golub & Van
+ * Loan, Matrix Computations, 4th ed., sec. 2.4 and 8.6). Both forms on the
+ * same inputs (random high-entropy ensembles, diagonal and correlated R,
+ * with inflation and relaxation, m = 1 to m > N) must agree to rounding,
+ * in the analysis, the innovation statistic and the floored count. */
+static void test_etkf_forms(void)
+{
+    static const size_t shape[][3] = {
+        {5, 12, 1}, {4, 30, 3}, {70, 40, 7}, {6, 9, 8}, {3, 2, 1}, {9, 200, 1},
+        {3, 6, 6}, {3, 5, 9}};
+    double emax = 0.0, dmax = 0.0;
+    size_t t;
+    int variant;
+    for (t = 0; t < sizeof shape / sizeof shape[0]; t++)
+        for (variant = 0; variant < 4; variant++) {
+            const size_t n = shape[t][0], N = shape[t][1], m = shape[t][2];
+            const int full = variant & 1, relaxed = variant >= 2;
+            problem p;
+            double *Xa = dalloc(n * N), *Xb = dalloc(n * N), scale = 0.0, e, kappa, dd;
+            sl_enkf_config ce = config(SL_ENKF_ETKF), co = config(SL_ENKF_ETKF);
+            sl_enkf_info ie, io;
+            sl_error err;
+            size_t i, j, k;
+            make_problem(&p, n, N, m, 4100 + 17 * t + (size_t)variant);
+            /* rounding: both forms are backward stable, so they differ by
+             * a few eps times the condition number of I + S^T S / (N - 1),
+             * at most kappa = 1 + tr(S^T S) / (N - 1) (with the variances
+             * of R: a scale for the correlated R too), and the innovation
+             * statistic by as much of kappa d~^T d~ (Golub & Van Loan,
+             * sec. 2.7 and 8.1: perturbation of linear systems and of
+             * symmetric eigenproblems) */
+            kappa = 0.0;
+            dd = 0.0;
+            for (k = 0; k < m; k++) {
+                double mu = 0.0;
+                for (j = 0; j < N; j++)
+                    mu += p.HX[k + j * m];
+                mu /= (double)N;
+                for (j = 0; j < N; j++)
+                    kappa += (p.HX[k + j * m] - mu) * (p.HX[k + j * m] - mu) / p.rd[k];
+                dd += (p.y[k] - mu) * (p.y[k] - mu) / p.rd[k];
+            }
+            kappa = 1.0 + kappa / (double)(N - 1);
+            ce.etkf_form = SL_ETKF_ENSEMBLE;
+            co.etkf_form = SL_ETKF_OBSERVATION;
+            if (relaxed) {
+                ce.inflation = co.inflation = 1.0735;
+                ce.rtps = co.rtps = 0.385;
+                ce.rtpp = co.rtpp = 0.215;
+            }
+            CHECK(analyse_problem(&ce, &p, full ? p.Rfull : NULL, Xa, &ie, &err) == SL_OK,
+                  "ensemble form: %s", err.message);
+            CHECK(analyse_problem(&co, &p, full ? p.Rfull : NULL, Xb, &io, &err) == SL_OK,
+                  "observation form: %s", err.message);
+            for (i = 0; i < n * N; i++)
+                if (fabs(Xa[i]) > scale)
+                    scale = fabs(Xa[i]);
+            e = max_abs_diff(Xa, Xb, n * N) / scale;
+            if (e / kappa > emax)
+                emax = e / kappa;
+            CHECK(e <= 8 * DBL_EPSILON * kappa, "n=%lu N=%lu m=%lu variant %d: forms differ by %g",
+                  (unsigned long)n, (unsigned long)N, (unsigned long)m, variant, e);
+            e = fabs(ie.innov_dof - io.innov_dof) / (kappa * dd);
+            if (e > dmax)
+                dmax = e;
+            CHECK(e <= 8 * DBL_EPSILON, "innov_dof %.17g vs %.17g", ie.innov_dof, io.innov_dof);
+            CHECK(ie.floored == 0 && io.floored == 0, "floored %lu / %lu on a sound problem",
+                  (unsigned long)ie.floored, (unsigned long)io.floored);
+            /* the automatic choice is one of the two, bit for bit */
+            co.etkf_form = SL_ETKF_AUTO;
+            CHECK(analyse_problem(&co, &p, full ? p.Rfull : NULL, Xa, &io, &err) == SL_OK,
+                  "automatic form: %s", err.message);
+            if (m < N)
+                CHECK(memcmp(Xa, Xb, n * N * sizeof(double)) == 0,
+                      "automatic choice with m < N is not the observation form");
+            /* a floor of 0.99 of the largest eigenvalue: the same floored
+             * eigenvalues in both forms, and the same analysis */
+            ce.eig_floor = co.eig_floor = 0.99;
+            co.etkf_form = SL_ETKF_OBSERVATION;
+            CHECK(analyse_problem(&ce, &p, full ? p.Rfull : NULL, Xa, &ie, &err) == SL_OK,
+                  "%s", err.message);
+            CHECK(analyse_problem(&co, &p, full ? p.Rfull : NULL, Xb, &io, &err) == SL_OK,
+                  "%s", err.message);
+            CHECK(ie.floored == io.floored && ie.floored > 0,
+                  "floor 0.99: %lu floored in ensemble space, %lu in observation space",
+                  (unsigned long)ie.floored, (unsigned long)io.floored);
+            e = max_abs_diff(Xa, Xb, n * N) / scale;
+            if (e / kappa > emax)
+                emax = e / kappa;
+            CHECK(e <= 8 * DBL_EPSILON * kappa, "floor 0.99, n=%lu N=%lu m=%lu: forms differ by %g",
+                  (unsigned long)n, (unsigned long)N, (unsigned long)m, e);
+            free(Xa);
+            free(Xb);
+            free_problem(&p);
+        }
+    printf("  etkf ensemble vs observation space: max diff %.1f eps kappa, innov_dof %.1f "
+           "eps kappa d'd\n", emax / DBL_EPSILON, dmax / DBL_EPSILON);
+}
+
+/* The observation-space form needs nothing N x N: its workspace grows
+ * linearly in N (here N = 1e5 members and 2 observations take well under
+ * 100 doubles a member, where one N x N matrix would be 1e10 doubles),
+ * and an analysis of 20000 members is still the Kalman analysis of the
+ * ensemble's own mean and covariance (Kalman 1960, as above). */
+static void test_etkf_large(void)
+{
+    const size_t n = 3, N = 20000, m = 2;
+    problem p;
+    double xm[3], P[9], xa[3], Pa[9], am[3], aP[9], dof, e;
+    double *Xa = dalloc(n * N);
+    sl_enkf_config cfg = config(SL_ENKF_ETKF);
+    sl_enkf_info info;
+    sl_error err;
+    size_t bytes = sl_enkf_workspace(&cfg, n, 100000, m, 0);
+    printf("  etkf N=1e5, m=2: workspace %.1f doubles a member\n",
+           (double)bytes / 8.0 / 1e5);
+    CHECK(bytes > 0 && bytes < (size_t)8 * 100 * 100000, "workspace %lu bytes",
+          (unsigned long)bytes);
+    make_problem(&p, n, N, m, 9090);
+    ens_stats(n, N, p.X, xm, P);
+    kalman(n, m, xm, P, p.H, p.y, p.Rdiag, xa, Pa, NULL, &dof);
+    CHECK(analyse_problem(&cfg, &p, NULL, Xa, &info, &err) == SL_OK, "%s", err.message);
+    ens_stats(n, N, Xa, am, aP);
+    e = max_abs_diff(am, xa, n);
+    if (max_abs_diff(aP, Pa, n * n) > e)
+        e = max_abs_diff(aP, Pa, n * n);
+    printf("  etkf N=20000, m=2 vs Kalman: %.1e\n", e);
+    CHECK(e <= 1e-10, "N=20000 vs Kalman: %g", e);
+    CHECK(fabs(info.innov_dof - dof) <= 1e-10 * dof, "innov_dof %g vs %g", info.innov_dof, dof);
+    free(Xa);
+    free_problem(&p);
+    /* several blocks of rows: the transform depends on HX alone (Hunt et
+     * al. 2007), so rows analysed 50 at a time (one block each) are the
+     * rows of the whole analysis (blocks of 64), to rounding */
+    {
+        const size_t n2 = 150, N2 = 20000, m2 = 3, part = 50;
+        double *Xb = dalloc(part * N2), e2 = 0.0, scale = 0.0;
+        size_t i, j, i0;
+        make_problem(&p, n2, N2, m2, 9191);
+        Xa = dalloc(n2 * N2);
+        cfg.inflation = 1.0735;
+        cfg.rtps = 0.385;
+        CHECK(analyse_problem(&cfg, &p, NULL, Xa, &info, &err) == SL_OK, "%s", err.message);
+        for (i0 = 0; i0 < n2; i0 += part) {
+            for (j = 0; j < N2; j++)
+                for (i = 0; i < part; i++)
+                    Xb[i + j * part] = p.X[i0 + i + j * n2];
+            CHECK(analyse(&cfg, part, N2, Xb, m2, p.HX, p.y, p.rd, 0, &info, &err) == SL_OK,
+                  "%s", err.message);
+            for (j = 0; j < N2; j++)
+                for (i = 0; i < part; i++) {
+                    double a = Xa[i0 + i + j * n2];
+                    if (fabs(a - Xb[i + j * part]) > e2)
+                        e2 = fabs(a - Xb[i + j * part]);
+                    if (fabs(a) > scale)
+                        scale = fabs(a);
+                }
+        }
+        printf("  etkf N=20000, n=150 in blocks vs 50 rows at a time: %.1e\n", e2 / scale);
+        CHECK(e2 <= 1e-13 * scale, "blocks of rows differ by %g", e2);
+        free(Xa);
+        free(Xb);
+        free_problem(&p);
+    }
 }
 
 /* ------------------------------------------------- stochastic EnKF */
@@ -1264,6 +1436,41 @@ static void test_errors(void)
         CHECK(sl_enkf_workspace(&cfg, 50, 40, 30, 0) == a,
               "%s workspace depends on localisation or relaxation", MNAME[q]);
     }
+    /* the ETKF switches form at m = N: still never shrinking, in every
+     * direction, over a grid across the switch (small and large blocks) */
+    for (q = 0; q < 3; q++) {
+        size_t nn, NN, mm, shrinks = 0;
+        cfg = config(SL_ENKF_ETKF);
+        cfg.etkf_form = (int)q;
+        for (nn = 1; nn <= 70; nn += 23)
+            for (NN = 2; NN <= 40; NN++)
+                for (mm = 1; mm <= 45; mm++) {
+                    size_t a = sl_enkf_workspace(&cfg, nn, NN, mm, 0);
+                    if (a == 0 || a > sl_enkf_workspace(&cfg, nn + 1, NN, mm, 0) ||
+                        a > sl_enkf_workspace(&cfg, nn, NN + 1, mm, 0) ||
+                        a > sl_enkf_workspace(&cfg, nn, NN, mm + 1, 0) ||
+                        a > sl_enkf_workspace(&cfg, nn, NN, mm, 1))
+                        shrinks++;
+                }
+        /* and where the observation form's row blocks stop shrinking
+         * with N (about 2^20 doubles a block, at least 64 rows) */
+        for (nn = 60; nn <= 5000; nn = nn < 70 ? nn + 1 : nn * 3)
+            for (NN = 16360; NN <= 16400; NN++)
+                for (mm = 1; mm <= 40; mm += 13) {
+                    size_t a = sl_enkf_workspace(&cfg, nn, NN, mm, 0);
+                    if (a == 0 || a > sl_enkf_workspace(&cfg, nn + 1, NN, mm, 0) ||
+                        a > sl_enkf_workspace(&cfg, nn, NN + 1, mm, 0) ||
+                        a > sl_enkf_workspace(&cfg, nn, NN, mm + 1, 0))
+                        shrinks++;
+                }
+        CHECK(shrinks == 0, "etkf form %lu: workspace shrinks at %lu points", (unsigned long)q,
+              (unsigned long)shrinks);
+    }
+    cfg = config(SL_ENKF_ETKF);
+    cfg.etkf_form = 3;
+    CHECK(sl_enkf_workspace(&cfg, n, N, m, 0) == 0, "workspace of an unknown form");
+    expect_fail(&cfg, p.X, p.HX, p.y, p.rd, 0, n, N, m, SL_EINVAL, "badconfig",
+                "unknown ETKF form");
     free_problem(&p);
 }
 
@@ -1273,6 +1480,8 @@ int main(void)
     gsl_set_error_handler_off();
     test_kalman_equivalence();
     test_etkf_symmetric();
+    test_etkf_forms();
+    test_etkf_large();
     test_stochastic_replay();
     test_stochastic_rate();
     for (method = 0; method < SL_ENKF_COUNT; method++) {

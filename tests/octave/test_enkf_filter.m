@@ -524,3 +524,36 @@
 %!error id=sluice:filter:badobs
 %! ob = obs; ob.x = [1; Inf];
 %! sluice.filter (spec, pr, ob, o{:}, 'method', 'ensrf', 'localization', L);
+
+% memory: the filter's guard counts the analysis workspace the core asks
+% for (sluice.kernel.enkf ('workspace', ...)), not a formula
+%!test
+%! % 1e5 members and one observation a cycle: the ETKF works in observation
+%! % space and needs nothing N x N (three N x N matrices would be 240 GB);
+%! % its mean is the Kalman filter's (the textbook scalar recursion, Kalman
+%! % 1960) up to the sampling error of 1e5 members (sd about 2e-3 here)
+%! sp = sluice.model ('linear', 'A', 0.9, 'Q', 0.1, 'states', {'x'});
+%! ob = struct ('time', (1:3)', 'variable', {{'x'; 'x'; 'x'}}, ...
+%!              'value', [0.37; -0.21; 0.52], 'sigma', [0.5; 0.5; 0.5]);
+%! r = sluice.filter (sp, sluice.prior ('x', 'normal', [0 1]), ob, 'members', 1e5, ...
+%!                    'seed', 1, 't0', 0, 'method', 'etkf', 'progress', false);
+%! m = 0; P = 1; km = zeros (1, 3);
+%! for k = 1:3
+%!   m = 0.9 * m; P = 0.81 * P + 0.1;
+%!   K = P / (P + 0.25); m = m + K * (ob.value(k) - m); P = (1 - K) * P;
+%!   km(k) = m;
+%! end
+%! assert (r.states.mean, km, 0.02);
+%!assert (sluice.kernel.enkf ('workspace', 'etkf', 5, 1e5, 1, 1) < 8 * 100 * 1e5)
+%!assert (sluice.kernel.enkf ('workspace', 'etkf', 5, 100, 100, 1) > 8 * 2 * 100^2)
+%!assert (sluice.kernel.enkf ('workspace', 'etkf', 5, 2^31, 1, 1), Inf)
+% the LETKF still needs N x N matrices: 1e6 members cannot fit
+%!error id=sluice:filter:nomemory
+%! sp = sluice.model ('linear', 'A', 0.9, 'Q', 0.1, 'states', {'x'});
+%! ob = struct ('time', 1, 'variable', {{'x'}}, 'value', 0.37, 'sigma', 0.5);
+%! sluice.filter (sp, sluice.prior ('x', 'normal', [0 1]), ob, 'members', 1e6, 'seed', 1, ...
+%!                't0', 0, 'method', 'letkf', 'localization', struct ('radius', 1), ...
+%!                'progress', false);
+%!error id=sluice:enkf:badquery sluice.kernel.enkf ('bogus', 'etkf', 5, 10, 1, 1)
+%!error id=sluice:enkf:badmethod sluice.kernel.enkf ('workspace', 'kalman', 5, 10, 1, 1)
+%!error id=sluice:enkf:nargin sluice.kernel.enkf ('workspace', 'etkf', 5, 10, 1)
