@@ -79,13 +79,12 @@ static int choose(const char *fn, const char *what, const char *s,
 
 void mexFunction(int nlhs, mxArray *plhs[], int nrhs, const mxArray *prhs[])
 {
-    static const char *const move_names[] = {"fixed", "random_walk", "liu_west"};
     static const char *out_names[] = {
         "mean", "quantiles", "ess", "logz", "resampled", "degenerate",
         "skipped", "nonfinite", "inflation", "floored", "forecast_mean", "log_evidence",
         "steps", "X", "P", "w",
         "history_X", "history_P", "history_w", "history_ancestors",
-        "smooth_mean", "smooth_quantiles"};
+        "smooth_mean", "smooth_quantiles", "distinct", "spread"};
     const mxArray *c;
     sl_model model;
     sl_linear lin;
@@ -300,9 +299,15 @@ void mexFunction(int nlhs, mxArray *plhs[], int nrhs, const mxArray *prhs[])
     }
     cfg.ptrans = tr;
     move = slm_string(FN, slm_field(FN, c, "param_move", 1), 1, "param_move");
-    cfg.param_move = choose(FN, "parameter evolution", move, move_names, 3);
-    cfg.param_step = p ? fmat(c, "param_step", p, 0, SLM_VECTOR) : NULL;
-    cfg.lw_delta = fscalar(c, "lw_delta");
+    cfg.param_move = sl_param_mover_find(move);
+    if (cfg.param_move == NULL)
+        slm_fail(FN, "badoption", "unknown parameter move '%s'", move);
+    cfg.move.step = p ? fmat(c, "param_step", p, 0, SLM_VECTOR) : NULL;
+    cfg.move.lw_delta = fscalar(c, "lw_delta");
+    cfg.move.kernel_scale = slm_field(FN, c, "kernel_scale", 0) != NULL
+                                ? fscalar(c, "kernel_scale") : 1.0;
+    cfg.move.min_ess = slm_field(FN, c, "kernel_min_ess", 0) != NULL
+                           ? fscalar(c, "kernel_min_ess") : SL_KERNEL_MIN_ESS;
 
     scheme = slm_string(FN, slm_field(FN, c, "resample", 1), 1, "resample");
     cfg.resampler = sl_resampler_find(scheme);
@@ -421,6 +426,17 @@ void mexFunction(int nlhs, mxArray *plhs[], int nrhs, const mxArray *prhs[])
         ROWFIELD("inflation", out.inflation);
         ROWFIELD("floored", out.floored);
 #undef ROWFIELD
+        {
+            mxArray *dv = slm_create(FN, p, T), *sp = slm_create(FN, p, T);
+            out.distinct = mxGetDoubles(dv);
+            out.pspread = mxGetDoubles(sp);
+            if (p * T > 0) {
+                memset(out.distinct, 0, p * T * sizeof(double));
+                memset(out.pspread, 0, p * T * sizeof(double));
+            }
+            mxSetField(res, 0, "distinct", dv);
+            mxSetField(res, 0, "spread", sp);
+        }
         if (cfg.lag > 0) {
             mwSize d3[3];
             mxArray *sm = slm_create(FN, v, T), *sq;

@@ -26,7 +26,9 @@ typedef struct {
     double *A, *Hc, *yc, *rc, *opos, *oc;
     size_t *live;
     void *ework;
-    double *lw_mean, *lw_cov, *lw_chol;
+    double *mv;                 /* the parameter move's workspace */
+    uint32_t *vid[2];           /* value ids of the parameters (p x N) */
+    unsigned char *mark;        /* N flags for counting distinct ids */
     uint32_t *anc;
     /* fixed-lag smoothing: the window's slots (v x N each, slot of cycle
      * s at win[s % nwin]), a spare slot for resampling, a buffer for the
@@ -95,9 +97,12 @@ static size_t layout(const sl_pf_config *cfg, unsigned char *base,
     carve(base, &off, rws * 8, (void **)&b->rwork);
     carve(base, &off, nthr * b->mwork_per * 8, (void **)&b->mwork);
     carve(base, &off, nthr * b->qwork_per * 8, (void **)&b->qwork);
-    carve(base, &off, 2 * p * 8, (void **)&b->lw_mean); /* means, spread flags */
-    carve(base, &off, p * p * 8, (void **)&b->lw_cov);
-    carve(base, &off, p * p * 8, (void **)&b->lw_chol);
+    if (sl_param_move_workspace(p) == 0)
+        return 0;
+    carve(base, &off, sl_param_move_workspace(p) * 8, (void **)&b->mv);
+    carve(base, &off, p * N * 4, (void **)&b->vid[0]);
+    carve(base, &off, p * N * 4, (void **)&b->vid[1]);
+    carve(base, &off, N, (void **)&b->mark);
     carve(base, &off, N * 4, (void **)&b->anc);
     b->nwin = cfg->lag < cfg->T ? cfg->lag : cfg->T;
     if (b->nwin > 0) {
@@ -267,24 +272,10 @@ sl_status sl_pf_check(const sl_pf_config *cfg, sl_error *err)
                                (unsigned long)(k + 1));
     if (p > 0 && cfg->ptrans == NULL)
         return sl_fail(err, SL_EINVAL, "badconfig", "parameter transforms missing");
-    switch (cfg->param_move) {
-    case SL_PARAM_FIXED:
-        break;
-    case SL_PARAM_RANDOM_WALK:
-        for (k = 0; k < p; k++)
-            if (!(cfg->param_step[k] >= 0) || !isfinite(cfg->param_step[k]))
-                return sl_fail(err, SL_EINVAL, "badconfig",
-                               "random-walk step %lu must be finite and >= 0",
-                               (unsigned long)(k + 1));
-        break;
-    case SL_PARAM_LIU_WEST:
-        if (!(cfg->lw_delta > 0 && cfg->lw_delta <= 1))
-            return sl_fail(err, SL_EINVAL, "badconfig",
-                           "the Liu-West discount must lie in (0, 1], got %g",
-                           cfg->lw_delta);
-        break;
-    default:
-        return sl_fail(err, SL_EINVAL, "badconfig", "unknown parameter evolution");
+    if (cfg->param_move != NULL) {
+        sl_status st = cfg->param_move->check(&cfg->move, p, err);
+        if (st != SL_OK)
+            return st;
     }
     if (cfg->resampler == NULL)
         return sl_fail(err, SL_EINVAL, "badconfig", "no resampling scheme");
@@ -406,102 +397,80 @@ static sl_status step_all(const sl_pf_config *cfg, pf_buffers *b, double *X,
     return st;
 }
 
-/* Cholesky factor L (lower, p x p) of a positive semi-definite A; pivots
- * below a relative floor give a zero column (a parameter without spread). */
-static void chol_psd(size_t p, const double *A, double *L)
+/* Move the parameters (transformed Z, natural P) of every member with the
+ * run's parameter move fitted to the weights w; draws of member j come
+ * from its stream (seed, j, cycle, SL_PURPOSE_PARAM_MOVE). */
+static void move_params(const sl_pf_config *cfg, pf_buffers *b, double *Z,
+                        double *P, const double *w, uint32_t cycle)
 {
-    size_t i, j, k;
-    double tr = 0;
-    for (i = 0; i < p; i++)
-        tr += A[i + i * p];
-    for (i = 0; i < p * p; i++)
-        L[i] = 0.0;
-    for (j = 0; j < p; j++) {
-        double d = A[j + j * p];
-        for (k = 0; k < j; k++)
-            d -= L[j + k * p] * L[j + k * p];
-        if (!(d > 1e-13 * tr))
-            continue;
-        d = sqrt(d);
-        L[j + j * p] = d;
-        for (i = j + 1; i < p; i++) {
-            double s = A[i + j * p];
-            for (k = 0; k < j; k++)
-                s -= L[i + k * p] * L[j + k * p];
-            L[i + j * p] = s / d;
-        }
+    const sl_param_mover *mv = cfg->param_move;
+    const size_t N = cfg->N, p = cfg->model->n_param;
+    size_t i, j;
+    if (p == 0 || mv == NULL || mv->member == NULL)
+        return;
+    if (mv->prepare != NULL)
+        mv->prepare(&cfg->move, p, N, Z, w, b->mv, NULL);
+#pragma omp parallel for num_threads(b->nt) schedule(static) private(i)
+    for (j = 0; j < N; j++) {
+        sl_stream st;
+        double *z = Z + j * p;
+        sl_stream_init(&st, cfg->seed, (uint32_t)j, cycle, SL_PURPOSE_PARAM_MOVE);
+        mv->member(&cfg->move, p, b->mv, z, &st);
+        for (i = 0; i < p; i++)
+            P[i + j * p] = sl_transform_inverse(&cfg->ptrans[i], z[i]);
     }
 }
 
-/* Parameter evolution before cycle k, in the transformed space Z. */
-static void move_params(const sl_pf_config *cfg, pf_buffers *b, double *Z,
-                        double *P, const double *w, uint32_t k)
+/* Value ids: members whose parameter i has the same id hold the same
+ * value (copies made by resampling). A parameter that a move or an
+ * analysis changed gets fresh ids (the member indices). */
+static void refresh_ids(size_t p, size_t N, const double *Zold, const double *Znew,
+                        uint32_t *id)
+{
+    size_t i, j;
+    for (i = 0; i < p; i++) {
+        int changed = 0;
+        for (j = 0; j < N && !changed; j++)
+            changed = Znew[i + j * p] != Zold[i + j * p];
+        if (changed)
+            for (j = 0; j < N; j++)
+                id[i + j * p] = (uint32_t)j;
+    }
+}
+
+/* Distinct values of each parameter among the members of positive weight
+ * (by their ids), and each parameter's weighted standard deviation in
+ * the transformed space, into column k of the outputs. */
+static void record_diversity(const sl_pf_config *cfg, pf_buffers *b, const uint32_t *id,
+                             const double *Z, const double *w, sl_pf_output *out,
+                             size_t k)
 {
     const size_t N = cfg->N, p = cfg->model->n_param;
-    size_t i, j, l;
-    double a = 1.0, h = 0.0;
-    if (p == 0 || cfg->param_move == SL_PARAM_FIXED)
-        return;
-    if (cfg->param_move == SL_PARAM_LIU_WEST) {
-        double *m = b->lw_mean, *V = b->lw_cov;
-        double dl = cfg->lw_delta;
-        a = (3.0 * dl - 1.0) / (2.0 * dl);
-        h = sqrt(1.0 - a * a);
-        for (i = 0; i < p; i++)
-            m[i] = 0.0;
-        for (i = 0; i < p * p; i++)
-            V[i] = 0.0;
-        for (j = 0; j < N; j++)
-            if (w[j] > 0)
-                for (i = 0; i < p; i++)
-                    m[i] += w[j] * Z[i + j * p];
-        for (j = 0; j < N; j++)
-            if (w[j] > 0)
-                for (i = 0; i < p; i++) {
-                    double di = Z[i + j * p] - m[i];
-                    for (l = 0; l <= i; l++)
-                        V[i + l * p] += w[j] * di * (Z[l + j * p] - m[l]);
+    size_t i, j;
+    for (i = 0; i < p; i++) {
+        if (out->distinct != NULL) {
+            size_t count = 0;
+            memset(b->mark, 0, N);
+            for (j = 0; j < N; j++)
+                if (w[j] > 0 && !b->mark[id[i + j * p]]) {
+                    b->mark[id[i + j * p]] = 1;
+                    count++;
                 }
-        for (i = 0; i < p; i++)
-            for (l = 0; l < i; l++)
-                V[l + i * p] = V[i + l * p];
-        chol_psd(p, V, b->lw_chol);
-        /* which parameters have any spread at all (the same value in every
-         * member: held fixed, exactly, rather than moved by rounding) */
-        for (i = 0; i < p; i++) {
-            double z0 = Z[i], spread = 0.0;
-            for (j = 0; j < N && spread == 0.0; j++)
-                if (w[j] > 0 && Z[i + j * p] != z0)
-                    spread = 1.0;
-            m[p + i] = spread;
+            out->distinct[i + k * p] = (double)count;
         }
-    }
-#pragma omp parallel for num_threads(b->nt) schedule(static) private(i, l)
-    for (j = 0; j < N; j++) {
-        sl_stream st;
-        double *z = Z + j * p, xi[64];
-        sl_stream_init(&st, cfg->seed, (uint32_t)j, k, SL_PURPOSE_PARAM_MOVE);
-        if (cfg->param_move == SL_PARAM_RANDOM_WALK) {
-            for (i = 0; i < p; i++)
-                z[i] += cfg->param_step[i] * sl_stream_normal(&st);
-        } else {
-            /* blocks of 64 keep the draws on the stack for any p */
-            size_t i0;
-            double *m = b->lw_mean;
-            for (i = 0; i < p; i++)
-                if (b->lw_mean[p + i] != 0) /* a parameter without spread stays put */
-                    z[i] = a * z[i] + (1.0 - a) * m[i];
-            for (i0 = 0; i0 < p; i0 += 64) {
-                size_t nb = p - i0 < 64 ? p - i0 : 64;
-                for (l = 0; l < nb; l++)
-                    xi[l] = sl_stream_normal(&st);
-                for (l = 0; l < nb; l++)
-                    for (i = i0 + l; i < p; i++)
-                        z[i] += h * b->lw_chol[i + (i0 + l) * p] * xi[l];
-            }
+        if (out->pspread != NULL) {
+            double m = 0.0, v = 0.0, W = 0.0;
+            for (j = 0; j < N; j++)
+                if (w[j] > 0) {
+                    W += w[j];
+                    m += w[j] * Z[i + j * p];
+                }
+            m = W > 0 ? m / W : 0.0;
+            for (j = 0; j < N; j++)
+                if (w[j] > 0)
+                    v += w[j] * (Z[i + j * p] - m) * (Z[i + j * p] - m);
+            out->pspread[i + k * p] = W > 0 ? sqrt(v / W) : (double)NAN;
         }
-        for (i = 0; i < p; i++)
-            P[i + j * p] = sl_transform_inverse(&cfg->ptrans[i], z[i]);
     }
 }
 
@@ -850,7 +819,7 @@ sl_status sl_pf_run(const sl_pf_config *cfg, double *X, double *P, double *w,
     const sl_model *md;
     size_t N, n, p, q, i, j, k, fidx = 0, ndead;
     pf_buffers b;
-    int cur = 0;
+    int cur = 0, moving;
     uint32_t s = 0;
     double t, infl;
     sl_status st = sl_pf_check(cfg, err);
@@ -869,13 +838,14 @@ sl_status sl_pf_run(const sl_pf_config *cfg, double *X, double *P, double *w,
 
     memcpy(b.X[0], X, n * N * sizeof(double));
     memcpy(b.P[0], P, p * N * sizeof(double));
+    moving = cfg->param_move != NULL && cfg->param_move->when != SL_MOVE_NEVER;
     for (j = 0; j < N; j++)
         for (i = 0; i < p; i++) {
             double x = P[i + j * p];
             b.Z[0][i + j * p] = sl_transform_forward(&cfg->ptrans[i], x);
             /* a fixed parameter may sit at an infinite bound (a levee cost
              * of Inf: no levees ever); a moving one needs a finite z */
-            if (isnan(x) || (cfg->param_move != SL_PARAM_FIXED && !isfinite(b.Z[0][i + j * p])))
+            if (isnan(x) || (moving && !isfinite(b.Z[0][i + j * p])))
                 return sl_fail(err, SL_EINVAL, "badparams",
                                "parameter %lu of member %lu (%g) lies outside its bounds",
                                (unsigned long)(i + 1), (unsigned long)(j + 1), x);
@@ -884,6 +854,14 @@ sl_status sl_pf_run(const sl_pf_config *cfg, double *X, double *P, double *w,
         b.dead[0][j] = (unsigned char)has_nonfinite(X + j * n, n);
         w[j] = 1.0 / (double)N;
         b.lw[j] = -log((double)N);
+    }
+    /* value ids: a parameter with one value in every member has one id */
+    for (i = 0; i < p; i++) {
+        int same = 1;
+        for (j = 1; j < N && same; j++)
+            same = b.Z[0][i + j * p] == b.Z[0][i];
+        for (j = 0; j < N; j++)
+            b.vid[0][i + j * p] = same ? 0u : (uint32_t)j;
     }
     if (q > 0)
         memset(b.E[0], 0, q * N * sizeof(double));
@@ -902,8 +880,11 @@ sl_status sl_pf_run(const sl_pf_config *cfg, double *X, double *P, double *w,
         double h, ess, wsum;
         int reweight = 0, resampled = 0, degenerate = 0;
 
-        if (k > 0)
+        if (k > 0 && p > 0 && moving && cfg->param_move->when == SL_MOVE_EACH_CYCLE) {
+            memcpy(b.Z[1 - cur], Zc, p * N * sizeof(double));
             move_params(cfg, &b, Zc, Pc, w, (uint32_t)k);
+            refresh_ids(p, N, b.Z[1 - cur], Zc, b.vid[cur]);
+        }
 
         /* forecast: equal steps that land exactly on tk */
         if (md->discrete) {
@@ -964,12 +945,15 @@ sl_status sl_pf_run(const sl_pf_config *cfg, double *X, double *P, double *w,
             size_t nlive = N - ndead;
             if (m > 0 && (st = predict_obs(cfg, &b, r0, m, tk, Xc, Pc, err)) != SL_OK)
                 return st;
+            if (p > 0)
+                memcpy(b.Z[1 - cur], Zc, p * N * sizeof(double));
             /* with no observation it records the inflation in force */
             st = enkf_update(cfg, &b, k, r0, m, b.dead[cur], Xc, Zc, Pc, &infl,
                              b.nwin ? (k < b.nwin ? k : b.nwin) : 0, out,
                              &degenerate, &nskipped, err);
             if (st != SL_OK)
                 return st;
+            refresh_ids(p, N, b.Z[1 - cur], Zc, b.vid[cur]);
             for (j = 0; j < N; j++)
                 w[j] = b.dead[cur][j] || nlive == 0 ? 0.0 : 1.0 / (double)nlive;
             out->logz[k] = NAN;
@@ -1065,6 +1049,12 @@ sl_status sl_pf_run(const sl_pf_config *cfg, double *X, double *P, double *w,
         /* resample (ensemble Kalman: only to replace dead members) */
         if (wsum > 0 && (cfg->enkf != NULL ? ndead > 0 : ess < cfg->threshold * (double)N)) {
             int nx = 1 - cur;
+            /* the kernel move is fitted to the weighted ensemble before
+             * it is resampled */
+            int kmove = p > 0 && moving && cfg->enkf == NULL &&
+                        cfg->param_move->when == SL_MOVE_AT_RESAMPLE;
+            if (kmove && cfg->param_move->prepare != NULL)
+                cfg->param_move->prepare(&cfg->move, p, N, Zc, w, b.mv, NULL);
             st = sl_resample(cfg->resampler, N, w, N, cfg->seed, (uint32_t)k,
                              b.rwork, b.anc, err);
             if (st != SL_OK)
@@ -1072,6 +1062,24 @@ sl_status sl_pf_run(const sl_pf_config *cfg, double *X, double *P, double *w,
             gather_cols(n, N, Xc, b.X[nx], b.anc, b.nt);
             gather_cols(p, N, Pc, b.P[nx], b.anc, b.nt);
             gather_cols(p, N, Zc, b.Z[nx], b.anc, b.nt);
+            for (j = 0; j < N && p > 0; j++)
+                memcpy(b.vid[nx] + j * p, b.vid[cur] + (size_t)b.anc[j] * p,
+                       p * sizeof(uint32_t));
+            if (kmove) {
+                const sl_param_mover *mv = cfg->param_move;
+                double *Zn = b.Z[nx], *Pn = b.P[nx];
+                memcpy(Zc, Zn, p * N * sizeof(double)); /* Zc is free now */
+#pragma omp parallel for num_threads(b.nt) schedule(static) private(i)
+                for (j = 0; j < N; j++) {
+                    sl_stream sm;
+                    sl_stream_init(&sm, cfg->seed, (uint32_t)j, (uint32_t)k,
+                                   SL_PURPOSE_PARAM_MOVE);
+                    mv->member(&cfg->move, p, b.mv, Zn + j * p, &sm);
+                    for (i = 0; i < p; i++)
+                        Pn[i + j * p] = sl_transform_inverse(&cfg->ptrans[i], Zn[i + j * p]);
+                }
+                refresh_ids(p, N, Zc, Zn, b.vid[nx]);
+            }
             gather_cols(q, N, b.E[cur], b.E[nx], b.anc, b.nt);
             if (b.nwin > 0)
                 window_gather(cfg, &b, k);
@@ -1084,6 +1092,8 @@ sl_status sl_pf_run(const sl_pf_config *cfg, double *X, double *P, double *w,
             resampled = 1;
         }
         out->resampled[k] = resampled;
+        if (p > 0)
+            record_diversity(cfg, &b, b.vid[cur], b.Z[cur], w, out, k);
         if (cfg->keep_history && out->hist_a != NULL)
             for (j = 0; j < N; j++)
                 out->hist_a[k * N + j] = resampled ? (double)b.anc[j] : (double)j;

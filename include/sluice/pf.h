@@ -6,6 +6,7 @@
 #include <stdint.h>
 #include "sluice/enkf.h"
 #include "sluice/model.h"
+#include "sluice/param_move.h"
 #include "sluice/prior.h"
 #include "sluice/resample.h"
 #include "sluice/status.h"
@@ -36,13 +37,6 @@ typedef struct {
     const double *sd;    /* q standard deviations (with noise) */
     const double *phi;   /* q AR(1) coefficients in [0, 1) (with noise) */
 } sl_forcing;
-
-/* Parameter evolution between cycles, in the transformed space. */
-typedef enum {
-    SL_PARAM_FIXED = 0,   /* parameters keep the values they were drawn with */
-    SL_PARAM_RANDOM_WALK, /* z += step * N(0, 1) */
-    SL_PARAM_LIU_WEST     /* kernel shrinkage (Liu & West 2001), delta given */
-} sl_param_move;
 
 typedef int (*sl_poll_fn)(void *ctx, double fraction);
 
@@ -79,9 +73,13 @@ typedef struct {
     sl_forcing forcing;
     const double *state_noise;   /* n standard deviations, or NULL */
     const sl_transform *ptrans;  /* p transforms of the parameters */
-    int param_move;              /* sl_param_move */
-    const double *param_step;    /* p random-walk steps (transformed space) */
-    double lw_delta;             /* Liu-West discount factor in (0, 1] */
+    /* how parameters move, in the transformed space (param_move.h; NULL:
+     * fixed) and the moves' settings (random-walk steps, Liu-West
+     * discount, kernel bandwidth scale and smallest ESS). The kernel move
+     * acts when the particle filter resamples; the ensemble Kalman
+     * methods move parameters by their analysis and ignore it. */
+    const sl_param_mover *param_move;
+    sl_param_move_opts move;
     const sl_resampler *resampler;
     double threshold;            /* resample when ESS < threshold * N */
     uint64_t seed;
@@ -140,6 +138,12 @@ typedef struct {
                           * the weights the forecast carries), or NULL */
     double *inflation;   /* T: inflation used (ensemble Kalman), or NULL */
     double *floored;     /* T: eigenvalues floored (ensemble Kalman), or NULL */
+    double *distinct;    /* p x T: distinct values of each parameter among
+                          * the members at the end of the cycle (after
+                          * resampling and any move), or NULL */
+    double *pspread;     /* p x T: weighted standard deviation of each
+                          * parameter in its transformed space at the end
+                          * of the cycle, or NULL */
     double *hist_X;      /* n x N x T states after the forecast */
     double *hist_P;      /* p x N x T parameters */
     double *hist_w;      /* N x T weights after the update */

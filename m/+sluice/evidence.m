@@ -25,7 +25,9 @@
 % (@code{members}, @code{t0}, @code{forcing}, @code{param_move},
 % @code{param_step}, @code{resample}, @dots{}), passed on to every run.
 % The method must be the particle filter (@code{'pf'}, the default); the
-% progress line is off unless asked for.
+% progress line is off unless asked for; @code{param_move} is
+% @code{'fixed'} unless asked for (the evidence of the model as stated,
+% with parameters drawn once from the prior).
 %
 % The result @var{ev} has @code{log_evidence} (the mean of the R
 % estimates), @code{se} (its standard error), @code{log_mean_exp},
@@ -66,7 +68,9 @@ function ev = evidence (model, prior, obs, varargin)
   end
   R = 10;
   seed = [];
-  fopts = struct ('progress', false);
+  % the evidence of the model as stated: parameters drawn once from the
+  % prior and kept (a move would change the model whose evidence it is)
+  fopts = struct ('progress', false, 'param_move', 'fixed');
   for k = 1:2:numel (args)
     name = args{k};
     if (~ischar (name) || ~isrow (name))

@@ -99,10 +99,36 @@
 % standard deviations of additive Gaussian noise put on the states at each
 % cycle (scalar or n-vector; default 0: off).
 % @item param_move
-% how parameters evolve between cycles, in their transformed space (log
-% for positive, logit for bounded): @code{'fixed'} (default),
-% @code{'random_walk'} (step @code{param_step}) or @code{'liu_west'}
-% (kernel shrinkage with discount @code{liu_west_delta}, default 0.98).
+% how estimated parameters (those whose prior has spread) move, in their
+% transformed space (log for positive, logit for bounded):
+% @table @code
+% @item 'kernel'
+% (default) each time the particle filter resamples, every member's
+% parameters are moved by the kernel of the regularised particle filter
+% (Musso, Oudjane & Le Gland 2001) with the shrinkage of Liu & West
+% (2001): z <- a z + (1 - a) m + h L e, e standard normal, where m and
+% L L' are the weighted mean and covariance of the ensemble before it was
+% resampled, h = s A N^(-1/(d+4)) with A = (4/(d+2))^(1/(d+4)) the
+% optimal Gaussian-kernel bandwidth for the d parameters with spread
+% (s = @code{kernel_scale}, h at most 1) and a = sqrt(1 - h^2), so the
+% move keeps the ensemble's mean and covariance. The bandwidth follows
+% the current spread: nothing to tune. When the weighted ESS is below
+% 10, the covariance is that of the members without their weights (a
+% weighted covariance from so few effective members would shrink the
+% kernel to nothing). Parameters without spread stay exactly put. The
+% ensemble Kalman methods move parameters by their analysis and ignore
+% this move.
+% @item 'fixed'
+% parameters keep the values they were drawn with; resampling alone
+% thins them (over a long record to a few values: see the warnings).
+% @item 'random_walk'
+% before every cycle z <- z + step e (step @code{param_step}).
+% @item 'liu_west'
+% before every cycle, kernel shrinkage with discount
+% @code{liu_west_delta} (default 0.98; Liu & West 2001).
+% @end table
+% @item kernel_scale
+% factor on the kernel bandwidth h (default 1; > 0).
 % @item param_step
 % random-walk standard deviations in the transformed space (default 0.05).
 % @item resample
@@ -139,6 +165,10 @@
 % @code{resampled}, @code{degenerate} (cycles where no member explained
 % the data: the weights were kept and the evidence is -Inf),
 % @code{log_evidence} and its increments @code{log_evidence_steps},
+% @code{params.distinct} (p x T: distinct values of each parameter among
+% the members at the end of each cycle, after resampling and any move),
+% @code{params.spread} (p x T: each parameter's weighted standard
+% deviation in its transformed space at the end of each cycle),
 % @code{skipped} (missing observations per cycle), @code{nonfinite}
 % (members whose state was not finite, given zero weight), @code{final}
 % (the last ensemble: @code{X}, @code{P}, @code{w}) and, when asked,
@@ -150,6 +180,17 @@
 % filter, @code{'enks'} for the ensemble Kalman methods), @code{lag},
 % @code{states.mean}, @code{states.quantiles}, @code{params.mean} and
 % @code{params.quantiles}, laid out as the filtered ones.
+%
+% The run warns (the thresholds are in @code{sluice.kernel.diversity_limits}):
+% @code{sluice:filter:paramcollapse} when an estimated parameter ends with
+% (nearly) one value, @code{sluice:filter:atbound} when at least half of
+% a parameter's final posterior weight lies in the outermost 5% of its
+% prior next to a finite bound, @code{sluice:filter:lowess} when the ESS
+% stays below 2 for 10 or more consecutive cycles with observations,
+% besides @code{sluice:filter:degenerate} and @code{sluice:filter:nonfinite}.
+% A prior without spread for a parameter whose bounds let it move is an
+% error (@code{sluice:filter:nospread}) with the moves @code{'kernel'} and
+% @code{'liu_west'}.
 %
 % @seealso{sluice.model, sluice.prior, sluice.loglik, sluice.resample}
 % @end deftypefn
@@ -175,6 +216,7 @@ function res = filter (model, prior, obs, varargin)
 
   % initial ensemble: prior draws by name
   [X0, P0, lower, upper] = initial_ensemble (model, prior, N, opts.seed);
+  check_spread (model, P0, lower, upper, opts);
 
   % observations and the cycle times
   ops = sluice.kernel.operators (opts.operators, model);
@@ -216,6 +258,7 @@ function res = filter (model, prior, obs, varargin)
   c.param_step = expand (opts.param_step, p, 'param_step');
   c.param_step(lower == upper) = 0;
   c.lw_delta = opts.liu_west_delta;
+  c.kernel_scale = opts.kernel_scale;
   c.resample = opts.resample;
   c.threshold = opts.resample_threshold;
   c.seed = opts.seed;
@@ -248,7 +291,8 @@ function res = filter (model, prior, obs, varargin)
   res.quantile_levels = opts.quantiles;
   res.states = struct ('mean', r.mean(1:n, :), 'quantiles', r.quantiles(1:n, :, :));
   res.params = struct ('mean', r.mean(n+1:end, :), ...
-                       'quantiles', r.quantiles(n+1:end, :, :));
+                       'quantiles', r.quantiles(n+1:end, :, :), ...
+                       'distinct', r.distinct, 'spread', r.spread);
   res.forecast = struct ('mean', r.forecast_mean(1:n, :), ...
                          'params', r.forecast_mean(n+1:end, :));
   res.ess = r.ess;
@@ -294,13 +338,96 @@ function res = filter (model, prior, obs, varargin)
              ['%d member(s) reached a non-finite state (first at t = %g); ', ...
               'they were given zero weight'], max (res.nonfinite), times(k));
   end
+  warn_diversity (res, P0, lower, upper, tab, cyc);
+end
+
+function check_spread (model, P0, lower, upper, opts)
+  % an estimated parameter (its bounds let it move) whose prior gives
+  % every member the same value cannot be moved by a move that takes its
+  % size from the ensemble's spread
+  if (~any (strcmp (opts.param_move, {'kernel', 'liu_west'})) || ...
+      (strcmp (opts.param_move, 'kernel') && ~strcmp (opts.method, 'pf')))
+    return;
+  end
+  for i = 1:size (P0, 1)
+    if (lower(i) < upper(i) && all (P0(i, :) == P0(i, 1)))
+      error ('sluice:filter:nospread', ...
+             ['parameter ''%s'' may move within [%g, %g] but its prior gives every member ', ...
+              'the value %g: the %s move takes its size from the ensemble''s spread and ', ...
+              'would never move it; give it a prior with spread, bounds [%g %g] to keep it ', ...
+              'fixed, or param_move ''random_walk'''], model.params{i}, lower(i), upper(i), ...
+             P0(i, 1), opts.param_move, P0(i, 1), P0(i, 1));
+    end
+  end
+end
+
+function warn_diversity (res, P0, lower, upper, tab, cyc)
+  % warnings about the parameter ensemble and the weights; thresholds in
+  % sluice.kernel.diversity_limits
+  L = sluice.kernel.diversity_limits ();
+  N = res.members;
+  names = res.param_names;
+  for i = 1:size (P0, 1)
+    if (~(lower(i) < upper(i)) || all (P0(i, :) == P0(i, 1)) || isempty (res.params.distinct))
+      continue;   % not estimated
+    end
+    dv = res.params.distinct(i, end);
+    sp = res.params.spread(i, :);
+    if (dv < max (L.collapse_min, L.collapse_fraction * N) || ...
+        sp(end) < L.collapse_spread * max (sp))
+      warning ('sluice:filter:paramcollapse', ...
+               ['parameter ''%s'' has collapsed: %d distinct value(s) among %d members at the ', ...
+                'end (spread %.3g of its largest); its band is too narrow to trust. ', ...
+                'Use param_move ''kernel'' (the default) or more members'], ...
+               names{i}, dv, N, sp(end) / max (max (sp), realmin));
+    end
+    w = res.final.w(:)';
+    x = res.final.P(i, :);
+    pq = sort (P0(i, :));
+    bounds = [lower(i), upper(i)];
+    tails = [pq(max (1, floor (L.bound_tail * N))), pq(min (N, ceil ((1 - L.bound_tail) * N)))];
+    mass = [sum(w(x <= tails(1))), sum(w(x >= tails(2)))];
+    side = {'lower', 'upper'};
+    for b = 1:2
+      if (isfinite (bounds(b)) && mass(b) >= L.bound_mass)
+        warning ('sluice:filter:atbound', ...
+                 ['parameter ''%s'': %.0f%% of the posterior weight lies in the prior''s ', ...
+                  'outermost %g%% next to its %s bound %g; the prior may be cutting off ', ...
+                  'the values the data support'], names{i}, 100 * mass(b), ...
+                 100 * L.bound_tail, side{b}, bounds(b));
+      end
+    end
+  end
+  if (strcmp (res.method, 'pf') && ~isempty (cyc))
+    hasobs = false (1, numel (res.times));
+    hasobs(unique (cyc(~isnan (tab.value)))) = true;
+    low = (res.ess < L.lowess_ess) & hasobs;
+    run = 0;
+    longest = 0;
+    for k = 1:numel (low)
+      if (low(k))
+        run = run + 1;
+        longest = max (longest, run);
+      elseif (hasobs(k))
+        run = 0;
+      end
+    end
+    if (longest >= L.lowess_cycles)
+      warning ('sluice:filter:lowess', ...
+               ['the ESS stayed below %g for %d consecutive cycles with observations ', ...
+                '(%d cycles in all): one member carried the weight; the likelihood is ', ...
+                'sharp for %d members (more members, or check the observation errors)'], ...
+               L.lowess_ess, longest, sum (low), N);
+    end
+  end
 end
 
 function opts = parse_options (args)
   opts = struct ('method', 'pf', 'members', 1000, 'seed', [], 't0', [], ...
                  'times', zeros (1, 0), 'forcing', [], 'forcing_noise', [], ...
                  'events', [], 'event_noise', [], ...
-                 'state_noise', 0, 'param_move', 'fixed', 'param_step', 0.05, ...
+                 'state_noise', 0, 'param_move', 'kernel', 'param_step', 0.05, ...
+                 'kernel_scale', 1, ...
                  'liu_west_delta', 0.98, 'resample', 'systematic', ...
                  'resample_threshold', 0.5, 'quantiles', [0.05 0.5 0.95], ...
                  'history', false, 'threads', 0, 'progress', 'auto', ...
@@ -344,10 +471,15 @@ function opts = parse_options (args)
   if (any (opts.state_noise < 0))
     error ('sluice:filter:badoption', 'state_noise must be >= 0');
   end
-  if (~ischar (opts.param_move) || ...
-      ~any (strcmp (opts.param_move, {'fixed', 'random_walk', 'liu_west'})))
+  moves = {'kernel', 'fixed', 'random_walk', 'liu_west'};
+  if (~ischar (opts.param_move) || ~any (strcmp (opts.param_move, moves)))
+    error ('sluice:filter:badoption', 'param_move must be one of ''%s''', ...
+           strjoin (moves, ''', '''));
+  end
+  ks = real_scalar (opts.kernel_scale, 'kernel_scale');
+  if (~(ks > 0))
     error ('sluice:filter:badoption', ...
-           'param_move must be ''fixed'', ''random_walk'' or ''liu_west''');
+           'kernel_scale (a factor on the kernel bandwidth) must be > 0, got %g', ks);
   end
   opts.param_step = real_vector (opts.param_step, 'param_step', false);
   if (any (opts.param_step < 0))

@@ -631,6 +631,7 @@ function S = setup (model, prior, obs, opts)
            'filter.param_move must be ''fixed'': the parameters stay at the proposed values in each run');
   end
   fo.members = opts.members;
+  fo.param_move = 'fixed';
   fo.progress = false;
   if (~isfield (fo, 'quantiles'))
     fo.quantiles = zeros (1, 0);

@@ -1009,6 +1009,15 @@ function write_text (f, rf, opts, bands, tk, scores, have_obs, have_truth)
         fprintf (fid, '  %-12s %.6g  [%.6g, %.6g]\n', rf.param_names{k}, m, lo, hi);
       end
     end
+    if (isfield (rf.params, 'distinct') && size (rf.params.distinct, 1) == p && ...
+        ~isempty (rf.params.distinct))
+      fprintf (fid, ['\nParameter diversity at the last cycle (distinct values among ', ...
+                     'the %d members; smallest over the run):\n'], rf.members);
+      for k = 1:p
+        dv = rf.params.distinct(k, :);
+        fprintf (fid, '  %-12s %d  (smallest %d)\n', rf.param_names{k}, dv(end), min (dv));
+      end
+    end
   else
     fprintf (fid, '\nThe model has no parameters.\n');
   end

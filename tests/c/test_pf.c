@@ -114,8 +114,10 @@ static void base_config(sl_pf_config *c, const sl_model *md, size_t N,
     c->family = o->family;
     c->var = o->var;
     c->forcing.q = md->n_forcing;
-    c->param_move = SL_PARAM_FIXED;
-    c->lw_delta = 0.98;
+    c->param_move = &sl_param_move_fixed;
+    c->move.lw_delta = 0.98;
+    c->move.kernel_scale = 1.0;
+    c->move.min_ess = SL_KERNEL_MIN_ESS;
     c->resampler = &sl_resampler_systematic;
     c->threshold = 0.5;
     c->seed = 42;
@@ -431,13 +433,14 @@ static void check_errors(void)
     pr[1] = -1e-9; expect_fail(&c, SL_EINVAL, "badconfig", "quantile level -1e-9");
     pr[1] = NAN; expect_fail(&c, SL_EINVAL, "badconfig", "quantile level NaN");
     pr[0] = 0.0; pr[1] = 1.0; expect_ok(&c, "quantile levels 0 and 1");
-    c = base; c.param_move = SL_PARAM_LIU_WEST;
-    c.lw_delta = 0.0; expect_fail(&c, SL_EINVAL, "badconfig", "Liu-West delta 0");
-    c.lw_delta = 1.01; expect_fail(&c, SL_EINVAL, "badconfig", "Liu-West delta 1.01");
-    c.lw_delta = NAN; expect_fail(&c, SL_EINVAL, "badconfig", "Liu-West delta NaN");
-    c.lw_delta = -0.5; expect_fail(&c, SL_EINVAL, "badconfig", "Liu-West delta -0.5");
-    c.lw_delta = 1.0; expect_ok(&c, "Liu-West delta 1");
-    c = base; c.param_move = 9; expect_fail(&c, SL_EINVAL, "badconfig", "unknown parameter evolution");
+    c = base; c.param_move = &sl_param_move_liu_west;
+    c.move.lw_delta = 0.0; expect_fail(&c, SL_EINVAL, "badconfig", "Liu-West delta 0");
+    c.move.lw_delta = 1.01; expect_fail(&c, SL_EINVAL, "badconfig", "Liu-West delta 1.01");
+    c.move.lw_delta = NAN; expect_fail(&c, SL_EINVAL, "badconfig", "Liu-West delta NaN");
+    c.move.lw_delta = -0.5; expect_fail(&c, SL_EINVAL, "badconfig", "Liu-West delta -0.5");
+    c.move.lw_delta = 1.0; expect_ok(&c, "Liu-West delta 1");
+    CHECK(sl_param_mover_find("jump") == NULL && sl_param_mover_find(NULL) == NULL,
+          "an unknown parameter move is not found");
     c = base; c.resampler = NULL; expect_fail(&c, SL_EINVAL, "badconfig", "no resampler");
     sn[0] = -0.1;
     c = base; c.state_noise = sn; expect_fail(&c, SL_EINVAL, "badconfig", "state noise -0.1");

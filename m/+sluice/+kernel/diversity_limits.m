@@ -1,0 +1,27 @@
+function L = diversity_limits ()
+  % Internal: the thresholds of sluice.filter's warnings about its
+  % parameter ensemble and its weights, in one place.
+  %
+  %   collapse_fraction, collapse_min - sluice:filter:paramcollapse when an
+  %       estimated parameter (one whose prior has spread) ends the run with
+  %       fewer distinct values than max (collapse_min, collapse_fraction * N)
+  %       among the N members: its quantiles then come from a handful of
+  %       values and its band says nothing (a 90% band needs at least a few
+  %       values beyond each end);
+  %   collapse_spread - ... or with a standard deviation (in its
+  %       transformed space) below collapse_spread times the largest it had
+  %       at the end of any cycle: nearly one value;
+  %   bound_tail, bound_mass - sluice:filter:atbound when at least
+  %       bound_mass of the final posterior weight lies in the prior's
+  %       outermost bound_tail next to a finite bound (beyond the
+  %       bound_tail or 1 - bound_tail quantile of the initial ensemble);
+  %   lowess_ess, lowess_cycles - sluice:filter:lowess when the ESS after
+  %       weighting is below lowess_ess in lowess_cycles or more consecutive
+  %       cycles with observations (an ESS near 1: one member carries the
+  %       weight).
+  % Values of our own choosing (common practice puts the resampling
+  % trigger at N/2; these mark far worse states than that).
+  L = struct ('collapse_fraction', 0.01, 'collapse_min', 2, 'collapse_spread', 1e-3, ...
+              'bound_tail', 0.05, 'bound_mass', 0.5, ...
+              'lowess_ess', 2, 'lowess_cycles', 10);
+end
