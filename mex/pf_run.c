@@ -84,7 +84,8 @@ void mexFunction(int nlhs, mxArray *plhs[], int nrhs, const mxArray *prhs[])
         "skipped", "nonfinite", "inflation", "floored", "forecast_mean", "log_evidence",
         "steps", "X", "P", "w",
         "history_X", "history_P", "history_w", "history_ancestors",
-        "smooth_mean", "smooth_quantiles", "distinct", "spread"};
+        "smooth_mean", "smooth_quantiles", "distinct", "spread",
+        "temper_steps", "loglik_evals"};
     const mxArray *c;
     sl_model model;
     sl_linear lin;
@@ -314,6 +315,14 @@ void mexFunction(int nlhs, mxArray *plhs[], int nrhs, const mxArray *prhs[])
     if (cfg.resampler == NULL)
         slm_fail(FN, "badscheme", "unknown resampling scheme '%s'", scheme);
     cfg.threshold = fscalar(c, "threshold");
+    /* tempering: off unless the config asks for it (sluice.filter does) */
+    cfg.temper.ess = slm_field(FN, c, "temper_ess", 0) != NULL ? fscalar(c, "temper_ess") : 0.0;
+    cfg.temper.max_steps = slm_field(FN, c, "temper_max_steps", 0) != NULL
+                               ? fcount(c, "temper_max_steps", 1, SL_TEMPER_MAX_STEPS)
+                               : 50;
+    if (!(cfg.temper.ess >= 0 && cfg.temper.ess <= 1))
+        slm_fail(FN, "badoption", "temper_ess must lie in (0, 1] (0: off), got %g",
+                 cfg.temper.ess);
     cfg.seed = (uint64_t)slm_integer(FN, slm_field(FN, c, "seed", 1), 1, "seed", 0, 9007199254740992.0);
     cfg.threads = slm_threads(slm_integer(FN, slm_field(FN, c, "threads", 1), 1, "threads", 0, 256));
     cfg.probs = numel_field(c, "probs") ? fmat(c, "probs", 0, 0, SLM_VECTOR) : NULL;
@@ -425,6 +434,8 @@ void mexFunction(int nlhs, mxArray *plhs[], int nrhs, const mxArray *prhs[])
         ROWFIELD("nonfinite", out.nonfinite);
         ROWFIELD("inflation", out.inflation);
         ROWFIELD("floored", out.floored);
+        ROWFIELD("temper_steps", out.temper_steps);
+        ROWFIELD("loglik_evals", out.loglik_evals);
 #undef ROWFIELD
         {
             mxArray *dv = slm_create(FN, p, T), *sp = slm_create(FN, p, T);

@@ -11,6 +11,7 @@
 #include "sluice/loglik.h"
 #include "sluice/rng.h"
 #include "sluice/stats.h"
+#include "sluice/temper.h"
 #include "sluice/weights.h"
 
 #define MAX_THREADS 256
@@ -30,6 +31,8 @@ typedef struct {
     uint32_t *vid[2];           /* value ids of the parameters (p x N) */
     unsigned char *mark;        /* N flags for counting distinct ids */
     uint32_t *anc;
+    uint32_t *tanc, *tanc2;     /* ancestors composed over tempering steps */
+    double *llx;                /* gathered log-likelihoods (tempering) */
     /* fixed-lag smoothing: the window's slots (v x N each, slot of cycle
      * s at win[s % nwin]), a spare slot for resampling, a buffer for the
      * summaries, the state positions of the augmented rows */
@@ -104,6 +107,9 @@ static size_t layout(const sl_pf_config *cfg, unsigned char *base,
     carve(base, &off, p * N * 4, (void **)&b->vid[1]);
     carve(base, &off, N, (void **)&b->mark);
     carve(base, &off, N * 4, (void **)&b->anc);
+    carve(base, &off, N * 4, (void **)&b->tanc);
+    carve(base, &off, N * 4, (void **)&b->tanc2);
+    carve(base, &off, N * 8, (void **)&b->llx);
     b->nwin = cfg->lag < cfg->T ? cfg->lag : cfg->T;
     if (b->nwin > 0) {
         if (b->nwin > big / 8 / N / (n + p + 1))
@@ -279,6 +285,11 @@ sl_status sl_pf_check(const sl_pf_config *cfg, sl_error *err)
     }
     if (cfg->resampler == NULL)
         return sl_fail(err, SL_EINVAL, "badconfig", "no resampling scheme");
+    {
+        sl_status st = sl_temper_check(&cfg->temper, err);
+        if (st != SL_OK)
+            return st;
+    }
     if (!(cfg->threshold >= 0 && cfg->threshold <= 1))
         return sl_fail(err, SL_EINVAL, "badconfig",
                        "the resampling threshold must lie in [0, 1], got %g",
@@ -798,11 +809,13 @@ static void window_store(const sl_pf_config *cfg, pf_buffers *b, size_t k,
     }
 }
 
-/* Resample the window with the members: slot by slot into the spare. */
-static void window_gather(const sl_pf_config *cfg, pf_buffers *b, size_t k)
+/* Resample the window with the members: slot by slot into the spare,
+ * the slots of cycles k, k-1, ... (filled of them). */
+static void window_gather(const sl_pf_config *cfg, pf_buffers *b, size_t k,
+                          size_t filled)
 {
     const size_t N = cfg->N, v = cfg->model->n_state + cfg->model->n_param;
-    size_t s, filled = k + 1 < b->nwin ? k + 1 : b->nwin;
+    size_t s;
     for (s = 0; s < filled; s++) {
         size_t at = (k - s) % b->nwin;
         double *t;
@@ -810,6 +823,135 @@ static void window_gather(const sl_pf_config *cfg, pf_buffers *b, size_t k)
         t = b->win[at];
         b->win[at] = b->wspare;
         b->wspare = t;
+    }
+}
+
+/* Whether the observed rows r0 .. r0+m-1 depend on the parameters (a
+ * parameter observed, a linear row with a parameter column, an operator
+ * function, which sees them): then a parameter move changes their
+ * likelihood. */
+static int obs_need_params(const sl_pf_config *cfg, size_t r0, size_t m)
+{
+    const size_t n = cfg->model->n_state, p = cfg->model->n_param;
+    const size_t v = n + p, nl = cfg->n_lin;
+    size_t i, l;
+    for (i = 0; i < m && p > 0; i++) {
+        size_t r = cfg->var[r0 + i];
+        if (isnan(cfg->y[r0 + i]))
+            continue;
+        if ((r >= n && r < v) || r >= v + nl)
+            return 1;
+        if (r >= v)
+            for (l = 0; l < p; l++)
+                if (cfg->H[(r - v) + (n + l) * nl] != 0)
+                    return 1;
+    }
+    return 0;
+}
+
+/* Adaptive tempering of cycle k (Jasra et al. 2011; Beskos et al. 2016):
+ * while the rest of the likelihood b->ll would bring the conditional ESS
+ * below the target, take the step that brings it to the target, resample
+ * (ensemble *cur -> 1 - *cur, with everything that travels with the
+ * members) and move the parameters. On return the weights w / b->lw and
+ * b->ll belong to ensemble *cur; *phi is the exponent taken (the caller
+ * applies the rest), *logz the log-evidence of the steps taken, *steps
+ * their number; *evals grows by N per likelihood pass. b->tanc composes
+ * the steps' ancestors (member j of the result descends from forecast
+ * member tanc[j]). */
+static sl_status temper_cycle(const sl_pf_config *cfg, pf_buffers *b, size_t k,
+                              size_t r0, size_t m, double tk, int *cur, double *w,
+                              double *phi, double *logz, size_t *steps,
+                              size_t *evals, sl_error *err)
+{
+    const size_t N = cfg->N, n = cfg->model->n_state, p = cfg->model->n_param,
+                 q = cfg->model->n_forcing;
+    const sl_param_mover *mv = cfg->param_move;
+    const int moving = p > 0 && mv != NULL && mv->when == SL_MOVE_AT_RESAMPLE &&
+                       mv->member != NULL;
+    const int relik = moving && obs_need_params(cfg, r0, m);
+    size_t i, j;
+    *phi = 0.0;
+    *logz = 0.0;
+    *steps = 0;
+    for (;;) {
+        const int c = *cur, nx = 1 - c;
+        const double rest = 1.0 - *phi;
+        double delta, wsum;
+        sl_weight_summary ws;
+        sl_stream rs;
+        sl_status st;
+        uint32_t *t;
+        for (j = 0; j < N; j++)
+            if (b->dead[c][j])
+                b->lw[j] = -HUGE_VAL; /* the dead carry no weight */
+        if (*steps + 1 >= cfg->temper.max_steps ||
+            sl_temper_cess(N, b->lw, b->ll, rest) >= cfg->temper.ess)
+            return SL_OK;
+        delta = sl_temper_next(N, b->lw, b->ll, rest, cfg->temper.ess);
+        if (!(delta < rest))
+            return SL_OK;
+        for (j = 0; j < N; j++)
+            b->logw[j] = b->dead[c][j] ? -HUGE_VAL : b->lw[j] + delta * b->ll[j];
+        if ((st = sl_weights_normalize(N, b->logw, w, &ws, err)) != SL_OK)
+            return st;
+        *logz += ws.log_sum;
+        *phi += delta;
+        (*steps)++;
+        /* the move is fitted to the tempered weights before resampling */
+        if (moving && mv->prepare != NULL)
+            mv->prepare(&cfg->move, p, N, b->Z[c], w, b->mv, NULL);
+        if ((st = sl_weights_check(N, w, &wsum, err)) != SL_OK)
+            return st;
+        sl_stream_init(&rs, cfg->seed, (uint32_t)*steps, (uint32_t)k,
+                       SL_PURPOSE_TEMPER_RESAMPLE);
+        cfg->resampler->run(N, w, wsum, N, &rs, b->rwork, b->anc);
+        gather_cols(n, N, b->X[c], b->X[nx], b->anc, b->nt);
+        gather_cols(p, N, b->P[c], b->P[nx], b->anc, b->nt);
+        gather_cols(p, N, b->Z[c], b->Z[nx], b->anc, b->nt);
+        gather_cols(q, N, b->E[c], b->E[nx], b->anc, b->nt);
+        gather_cols(1, N, b->ll, b->llx, b->anc, b->nt);
+        for (j = 0; j < N; j++) {
+            if (p > 0)
+                memcpy(b->vid[nx] + j * p, b->vid[c] + (size_t)b->anc[j] * p,
+                       p * sizeof(uint32_t));
+            b->dead[nx][j] = b->dead[c][b->anc[j]];
+            b->tanc2[j] = *steps == 1 ? b->anc[j] : b->tanc[b->anc[j]];
+            w[j] = 1.0 / (double)N;
+            b->lw[j] = -log((double)N);
+        }
+        t = b->tanc;
+        b->tanc = b->tanc2;
+        b->tanc2 = t;
+        {
+            double *l = b->ll;
+            b->ll = b->llx;
+            b->llx = l;
+        }
+        if (b->nwin > 0 && k > 0)
+            window_gather(cfg, b, k - 1, k < b->nwin ? k : b->nwin);
+        if (moving) {
+            double *Zn = b->Z[nx], *Pn = b->P[nx];
+            const uint32_t purpose = (uint32_t)SL_PURPOSE_TEMPER_MOVE + (uint32_t)*steps;
+            memcpy(b->Z[c], Zn, p * N * sizeof(double)); /* Z[c] is free now */
+#pragma omp parallel for num_threads(b->nt) schedule(static) private(i)
+            for (j = 0; j < N; j++) {
+                sl_stream sm;
+                sl_stream_init(&sm, cfg->seed, (uint32_t)j, (uint32_t)k, purpose);
+                mv->member(&cfg->move, p, b->mv, Zn + j * p, &sm);
+                for (i = 0; i < p; i++)
+                    Pn[i + j * p] = sl_transform_inverse(&cfg->ptrans[i], Zn[i + j * p]);
+            }
+            refresh_ids(p, N, b->Z[c], Zn, b->vid[nx]);
+        }
+        *cur = nx;
+        if (relik) {
+            size_t skipped;
+            if ((st = predict_obs(cfg, b, r0, m, tk, b->X[nx], b->P[nx], err)) != SL_OK)
+                return st;
+            loglik_all(cfg, b, r0, m, &skipped);
+            *evals += N;
+        }
     }
 }
 
@@ -876,8 +1018,8 @@ sl_status sl_pf_run(const sl_pf_config *cfg, double *X, double *P, double *w,
         const double tk = cfg->times[k];
         const size_t r0 = cfg->obs_first[k], m = cfg->obs_first[k + 1] - r0;
         double *Xc = b.X[cur], *Pc = b.P[cur], *Zc = b.Z[cur];
-        size_t nsteps, l, nskipped = 0, nobs;
-        double h, ess, wsum;
+        size_t nsteps, l, nskipped = 0, nobs, tsteps = 0, evals = 0;
+        double h, ess, wsum, tphi = 0.0, tlogz = 0.0;
         int reweight = 0, resampled = 0, degenerate = 0;
 
         if (k > 0 && p > 0 && moving && cfg->param_move->when == SL_MOVE_EACH_CYCLE) {
@@ -966,24 +1108,40 @@ sl_status sl_pf_run(const sl_pf_config *cfg, double *X, double *P, double *w,
             if ((st = predict_obs(cfg, &b, r0, m, tk, Xc, Pc, err)) != SL_OK)
                 return st;
             loglik_all(cfg, &b, r0, m, &nskipped);
+            evals += N;
             nobs = m - nskipped;
             if (nobs > 0)
                 reweight = 1;
+            if (nobs > 0 && cfg->temper.ess > 0) {
+                st = temper_cycle(cfg, &b, k, r0, m, tk, &cur, w, &tphi, &tlogz, &tsteps,
+                                  &evals, err);
+                if (st != SL_OK)
+                    return st;
+                Xc = b.X[cur];
+                Pc = b.P[cur];
+                Zc = b.Z[cur];
+            }
         }
+        if (out->temper_steps != NULL)
+            out->temper_steps[k] = nobs > 0 ? (double)(tsteps + 1) : 0.0;
+        if (out->loglik_evals != NULL)
+            out->loglik_evals[k] = (double)evals;
         if (cfg->enkf == NULL)
             out->logz[k] = 0.0;
         if (reweight) {
             sl_weight_summary ws;
             sl_error werr;
+            /* the exponent tempering left (1 without tempering) */
+            const double rest = 1.0 - tphi;
             for (j = 0; j < N; j++)
                 b.logw[j] = b.dead[cur][j] ? -HUGE_VAL
-                                           : (nobs > 0 ? b.lw[j] + b.ll[j] : b.lw[j]);
+                                           : (nobs > 0 ? b.lw[j] + rest * b.ll[j] : b.lw[j]);
             st = sl_weights_normalize(N, b.logw, b.ll, &ws, &werr);
             if (st == SL_OK) {
                 memcpy(w, b.ll, N * sizeof(double));
                 for (j = 0; j < N; j++)
                     b.lw[j] = b.logw[j] - ws.log_sum;
-                out->logz[k] = ws.log_sum;
+                out->logz[k] = ws.log_sum + tlogz;
             } else if (st == SL_EDEGENERATE) {
                 /* no member explains the data: keep the weights of the
                  * living members, record the cycle, evidence -Inf */
@@ -1082,7 +1240,7 @@ sl_status sl_pf_run(const sl_pf_config *cfg, double *X, double *P, double *w,
             }
             gather_cols(q, N, b.E[cur], b.E[nx], b.anc, b.nt);
             if (b.nwin > 0)
-                window_gather(cfg, &b, k);
+                window_gather(cfg, &b, k, k + 1 < b.nwin ? k + 1 : b.nwin);
             for (j = 0; j < N; j++) {
                 b.dead[nx][j] = b.dead[cur][b.anc[j]];
                 w[j] = 1.0 / (double)N;
@@ -1091,12 +1249,22 @@ sl_status sl_pf_run(const sl_pf_config *cfg, double *X, double *P, double *w,
             cur = nx;
             resampled = 1;
         }
-        out->resampled[k] = resampled;
+        out->resampled[k] = resampled || tsteps > 0;
         if (p > 0)
             record_diversity(cfg, &b, b.vid[cur], b.Z[cur], w, out, k);
-        if (cfg->keep_history && out->hist_a != NULL)
+        if (cfg->keep_history && out->hist_a != NULL) {
             for (j = 0; j < N; j++)
                 out->hist_a[k * N + j] = resampled ? (double)b.anc[j] : (double)j;
+            /* the members recorded at cycle k descend, through the
+             * tempering steps, from forecast members tanc[j], whose parents
+             * at cycle k - 1 the previous row names */
+            if (tsteps > 0 && k > 0) {
+                double *prev = out->hist_a + (k - 1) * N;
+                for (j = 0; j < N; j++)
+                    b.llx[j] = prev[b.tanc[j]];
+                memcpy(prev, b.llx, N * sizeof(double));
+            }
+        }
     }
     memcpy(X, b.X[cur], n * N * sizeof(double));
     memcpy(P, b.P[cur], p * N * sizeof(double));

@@ -10,6 +10,7 @@
 #include "sluice/prior.h"
 #include "sluice/resample.h"
 #include "sluice/status.h"
+#include "sluice/temper.h"
 
 #ifdef __cplusplus
 extern "C" {
@@ -82,6 +83,21 @@ typedef struct {
     sl_param_move_opts move;
     const sl_resampler *resampler;
     double threshold;            /* resample when ESS < threshold * N */
+    /* Adaptive likelihood tempering of the particle filter (temper.h;
+     * temper.ess = 0: off). When a cycle's likelihood would bring the
+     * conditional ESS below temper.ess * N, the likelihood enters in
+     * steps L^(phi_s - phi_(s-1)), 0 = phi_0 < ... < phi_K = 1, each
+     * chosen by bisection so its conditional ESS is the target; after
+     * every step but the last the ensemble is resampled (streams
+     * (seed, s, cycle, SL_PURPOSE_TEMPER_RESAMPLE)) and, with a move that
+     * acts at resampling, the parameters are moved (streams (seed, j,
+     * cycle, SL_PURPOSE_TEMPER_MOVE + s)); the likelihood is evaluated
+     * again only when the cycle's observations depend on the parameters
+     * (a parameter observed, a linear row with parameter columns, an
+     * operator function). The log-evidence increment is the sum over
+     * steps of the log mean incremental weights. The ensemble Kalman
+     * methods ignore it. */
+    sl_temper_opts temper;
     uint64_t seed;
     int threads;                 /* >= 1 */
     size_t nq;                   /* quantile levels to record */
@@ -150,6 +166,10 @@ typedef struct {
     double *hist_a;      /* N x T ancestors (0-based) chosen at the cycle */
     double *smean;       /* v x T smoothed means (with lag >= 1) */
     double *squant;      /* v x nq x T smoothed quantiles (with lag >= 1) */
+    double *temper_steps; /* T: likelihood steps of the cycle (1 untempered,
+                           * 0 with no observation), or NULL */
+    double *loglik_evals; /* T: member likelihood evaluations of the cycle
+                           * (N per pass over the ensemble), or NULL */
     double log_evidence; /* sum of logz */
     size_t steps;        /* model steps taken */
 } sl_pf_output;

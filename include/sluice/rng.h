@@ -22,7 +22,12 @@ enum {
     SL_PURPOSE_ANALYSIS = 8,    /* perturbed observations of a stochastic EnKF */
     SL_PURPOSE_EVENT = 9,       /* perturbation of event values (flood levels) */
     SL_PURPOSE_SMOOTH = 10,     /* backward-simulation draws of a smoother */
-    SL_PURPOSE_USER = 64        /* first value left to callers */
+    SL_PURPOSE_TEMPER_RESAMPLE = 11, /* resampling at tempering step s of a
+                                      * cycle: stream (seed, s, cycle, 11) */
+    SL_PURPOSE_USER = 64,       /* first value left to callers */
+    /* the parameter move after tempering step s (1, 2, ...) of a cycle
+     * draws from (seed, member, cycle, SL_PURPOSE_TEMPER_MOVE + s) */
+    SL_PURPOSE_TEMPER_MOVE = 0x40000000
 };
 
 /* A stream: Philox4x32-10 (Salmon et al. 2011, Random123) with key = seed

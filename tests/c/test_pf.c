@@ -34,6 +34,8 @@ static void run_free(run_buf *r)
     free(r->out.degenerate);
     free(r->out.skipped);
     free(r->out.nonfinite);
+    free(r->out.temper_steps);
+    free(r->out.loglik_evals);
     free(r->out.hist_X);
     free(r->out.hist_P);
     free(r->out.hist_w);
@@ -70,6 +72,8 @@ static sl_status run(const sl_pf_config *cfg, const double *X0, run_buf *r,
     r->out.degenerate = zalloc(T, sizeof(double));
     r->out.skipped = zalloc(T, sizeof(double));
     r->out.nonfinite = zalloc(T, sizeof(double));
+    r->out.temper_steps = zalloc(T, sizeof(double));
+    r->out.loglik_evals = zalloc(T, sizeof(double));
     if (cfg->keep_history) {
         r->out.hist_X = zalloc(n * N * T, sizeof(double));
         r->out.hist_w = zalloc(N * T, sizeof(double));
@@ -81,7 +85,7 @@ static sl_status run(const sl_pf_config *cfg, const double *X0, run_buf *r,
     r->work = bytes ? malloc(bytes) : NULL;
     if (!r->out.mean || !r->out.quant || !r->out.ess || !r->out.logz ||
         !r->out.resampled || !r->out.degenerate || !r->out.skipped ||
-        !r->out.nonfinite || !r->X || !r->P || !r->w || !r->work ||
+        !r->out.nonfinite || !r->out.temper_steps || !r->out.loglik_evals || !r->X || !r->P || !r->w || !r->work ||
         (cfg->keep_history &&
          (!r->out.hist_X || !r->out.hist_w || !r->out.hist_a)))
         return sl_fail(err, SL_ENOMEM, "nomemory", "test buffers");
@@ -221,7 +225,40 @@ static void check_worked_example(void)
         CHECK_CLOSE(r.out.logz[0] + r.out.logz[1] + r.out.logz[2],
                     r.out.log_evidence, 1e-12, "log-evidence is the sum of logz");
         CHECK(r.out.steps == 3, "steps %lu, expected 3", (unsigned long)r.out.steps);
+        for (k = 0; k < T; k++)
+            CHECK(r.out.temper_steps[k] == 1 && r.out.loglik_evals[k] == N,
+                  "untempered cycle %lu: %g steps, %g evaluations", (unsigned long)k,
+                  r.out.temper_steps[k], r.out.loglik_evals[k]);
     }
+    run_free(&r);
+    /* With tempering at a target of 0.9 N (above every cycle's ESS here)
+     * the likelihood enters in steps; the evidence is the product over
+     * steps of the mean incremental weights and must still be the
+     * Kalman value, within the same tolerances (the extra resamplings
+     * add Monte Carlo error of the same order). */
+    cfg.temper.ess = 0.9;
+    cfg.temper.max_steps = 50;
+    st = run(&cfg, X0, &r, &err);
+    CHECK(st == SL_OK, "tempered worked example: %s", st ? err.message : "");
+    if (st == SL_OK) {
+        double logz = 0.0;
+        for (k = 0; k < T; k++) {
+            CHECK(r.out.temper_steps[k] >= 2 && r.out.temper_steps[k] <= 50,
+                  "cycle %lu tempered: %g steps", (unsigned long)k, r.out.temper_steps[k]);
+            CHECK(r.out.loglik_evals[k] == N, "no parameter: one likelihood pass, got %g",
+                  r.out.loglik_evals[k]);
+            CHECK(r.out.resampled[k] == 1, "tempering resamples");
+            CHECK_CLOSE(r.out.mean[k], hand_mean[k], 0.012, "tempered filtered mean");
+            logz += r.out.logz[k];
+        }
+        CHECK_CLOSE(r.out.log_evidence, hand_logz, 0.05, "tempered log-evidence");
+        CHECK_CLOSE(logz, r.out.log_evidence, 1e-12, "tempered log-evidence is the sum of logz");
+    }
+    run_free(&r);
+    cfg.temper.max_steps = 1; /* a cap of one step: no tempering */
+    st = run(&cfg, X0, &r, &err);
+    CHECK(st == SL_OK && r.out.temper_steps[0] == 1 && r.out.temper_steps[2] == 1,
+          "max_steps 1 is no tempering");
     run_free(&r);
     free(X0);
 }
@@ -285,6 +322,8 @@ static int identical(const run_buf *a, const run_buf *b, size_t nq)
            same(a->out.logz, b->out.logz, T * d) &&
            same(a->out.resampled, b->out.resampled, T * d) &&
            same(a->out.skipped, b->out.skipped, T * d) &&
+           same(a->out.temper_steps, b->out.temper_steps, T * d) &&
+           same(a->out.loglik_evals, b->out.loglik_evals, T * d) &&
            same(a->out.hist_X, b->out.hist_X, n * N * T * d) &&
            same(a->out.hist_w, b->out.hist_w, N * T * d) &&
            same(a->out.hist_a, b->out.hist_a, N * T * d) &&
@@ -362,6 +401,32 @@ static void check_determinism(void)
         CHECK(!same(r1.X, other.X, 2 * N * sizeof(double)) &&
               r1.out.log_evidence != other.out.log_evidence,
               "a different seed gives the same run");
+    }
+    run_free(&r1);
+    run_free(&r2);
+    run_free(&r3);
+    /* the same with tempering (a target above the ESS of every cycle with
+     * observations, so each takes several steps and resamples between
+     * them): still identical across thread counts */
+    cfg.seed = 777;
+    cfg.temper.ess = 0.95;
+    cfg.temper.max_steps = 50;
+    cfg.threads = 1;
+    s1 = run(&cfg, X0, &r1, &err);
+    cfg.threads = 2;
+    s2 = run(&cfg, X0, &r2, &err);
+    cfg.threads = 3;
+    s3 = run(&cfg, X0, &r3, &err);
+    CHECK(s1 == SL_OK && s2 == SL_OK && s3 == SL_OK, "tempered determinism runs: %s",
+          err.message);
+    if (s1 == SL_OK && s2 == SL_OK && s3 == SL_OK) {
+        double most = 0;
+        for (j = 0; j < T; j++)
+            most = r1.out.temper_steps[j] > most ? r1.out.temper_steps[j] : most;
+        CHECK(most >= 2, "a cycle was tempered: most steps %g", most);
+        CHECK(r1.out.temper_steps[2] == 0, "no observation: no step");
+        CHECK(identical(&r1, &r2, 3), "tempered: threads 1 and 2 differ");
+        CHECK(identical(&r1, &r3, 3), "tempered: threads 1 and 3 differ");
     }
     run_free(&r1);
     run_free(&r2);

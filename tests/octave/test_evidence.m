@@ -60,3 +60,27 @@
 %! evb = sluice.evidence (bad, pr, obs, 'members', 1000, 't0', 0, 'seed', 31, ...
 %!                        'repeats', 4);
 %! assert (evb.log_evidence < ll - 10);
+
+%!test
+%! % adaptive tempering inside the cycle (Jasra et al. 2011): the
+%! % log-evidence is the sum over steps of the log mean incremental
+%! % weights and must still match the exact Kalman log-likelihood. Sharp
+%! % observations (sd 0.2 against a prior sd near 1) so that every cycle
+%! % takes several steps at a target ESS of N/2
+%! T = 10; randn ('state', 8);
+%! x = cumsum (randn (T, 1)); y = x + 0.2 * randn (T, 1);
+%! ll = kalman_loglik (1, 1, 0.04, 0, 1, y);
+%! spec = sluice.model ('linear', 'A', 1, 'Q', 1, 'states', {'x'});
+%! pr = sluice.prior ('x', 'normal', [0 1]);
+%! obs = struct ('time', (1:T)', 'variable', {repmat({'x'}, T, 1)}, 'value', y, ...
+%!               'sigma', 0.2 * ones (T, 1));
+%! r = sluice.filter (spec, pr, obs, 'members', 2000, 't0', 0, 'seed', 41, ...
+%!                    'temper_ess', 0.5, 'progress', false);
+%! assert (all (r.temper_steps >= 2) && all (r.temper_steps <= 50));
+%! assert (r.loglik_evals, 2000 * ones (1, T));   % no parameter: one pass a cycle
+%! assert (sum (r.log_evidence_steps), r.log_evidence, 1e-12);
+%! ev = sluice.evidence (spec, pr, obs, 'members', 2000, 't0', 0, 'seed', 41, ...
+%!                       'temper_ess', 0.5);
+%! assert (ev.se > 0 && ev.se < 0.1);
+%! assert (abs (ev.log_evidence - ll) < 4 * ev.se);
+%! assert (abs (ev.log_mean_exp - ll) < 4 * ev.se);

@@ -38,6 +38,31 @@
 %! end
 
 %!test
+%! % with adaptive tempering (target 0.9 N: every cycle takes several
+%! % steps and resamples between them) the window travels with the members
+%! % through every step: the smoothed means still match the RTS smoother
+%! % of the worked example (6/7, 8/7, 4/7; tolerance as above), and they
+%! % equal, to rounding, the means over the paths traced back through the
+%! % recorded ancestors (which then compose the steps' resamplings)
+%! spec = sluice.model ('linear', 'A', 1, 'Q', 1);
+%! pr = sluice.prior ('x1', 'normal', [0 1]);
+%! obs = struct ('time', [1; 2; 3], 'variable', {{'x1'; 'x1'; 'x1'}}, 'value', [1; 2; 0], ...
+%!               'sigma', [1; 1; 1]);
+%! N = 100000;
+%! r = sluice.filter (spec, pr, obs, 'members', N, 'seed', 3, 'lag', Inf, 'history', true, ...
+%!                    'temper_ess', 0.9, 'progress', false);
+%! assert (all (r.temper_steps >= 2));
+%! assert (r.smoothed.states.mean, [6/7 8/7 4/7], 0.02);
+%! w = r.history.w(:, 3); idx = (1:N)'; traced = zeros (1, 3);
+%! for k = 3:-1:1
+%!   traced(k) = sum (w .* r.history.X(1, idx, k)');
+%!   if (k > 1)
+%!     idx = r.history.ancestors(idx, k - 1);
+%!   end
+%! end
+%! assert (traced, r.smoothed.states.mean, 1e-10);
+
+%!test
 %! % a 2-state model over 60 cycles, lag 5: against the exact fixed-lag
 %! % smoother (the RTS smoother of the data up to cycle s + 5, for each s)
 %! A = [0.9 0.2; -0.1 0.8]; Q = diag ([0.1 0.05]); H = [1 0]; R = 0.2; T = 60; L = 5;

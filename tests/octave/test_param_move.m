@@ -95,6 +95,14 @@
 %! assert (isequal (r1.params, r2.params) && isequal (r2.params, r3.params));
 %! assert (isequal (r1.history, r2.history) && isequal (r2.history, r3.history));
 %! assert (isequal (r1.log_evidence, r3.log_evidence));
+%! % with adaptive tempering and the kernel move between its steps (draws
+%! % keyed by step as well): again identical
+%! t1 = sluice.filter (spec, pr, obs, o{:}, 'threads', 1, 'temper_ess', 0.9);
+%! t3 = sluice.filter (spec, pr, obs, o{:}, 'threads', 3, 'temper_ess', 0.9);
+%! assert (max (t1.temper_steps) >= 2);
+%! assert (isequal (t1.params, t3.params) && isequal (t1.history, t3.history));
+%! assert (isequal (t1.temper_steps, t3.temper_steps) && isequal (t1.ess, t3.ess));
+%! assert (isequal (t1.log_evidence, t3.log_evidence));
 
 %!test
 %! % a parameter fixed by its prior stays exactly put under the kernel move
@@ -133,6 +141,15 @@
 %!error id=sluice:filter:badoption sluice.filter (spec, pr, obs, 'kernel_scale', 'wide')
 %!error id=sluice:filter:badoption sluice.filter (spec, pr, obs, 'param_move', 'shake')
 %!error id=sluice:filter:badoption sluice.filter (spec, pr, obs, 'param_move', 3)
+%!error id=sluice:filter:badoption sluice.filter (spec, pr, obs, 'temper_ess', -0.1)
+%!error id=sluice:filter:badoption sluice.filter (spec, pr, obs, 'temper_ess', 1.5)
+%!error id=sluice:filter:badoption sluice.filter (spec, pr, obs, 'temper_ess', NaN)
+%!error id=sluice:filter:badoption sluice.filter (spec, pr, obs, 'temper_ess', 'half')
+%!error id=sluice:filter:badoption sluice.filter (spec, pr, obs, 'temper_ess', [0.5 0.6])
+%!error id=sluice:filter:badoption sluice.filter (spec, pr, obs, 'temper_max_steps', 0)
+%!error id=sluice:filter:badoption sluice.filter (spec, pr, obs, 'temper_max_steps', 2.5)
+%!error id=sluice:filter:badoption sluice.filter (spec, pr, obs, 'temper_max_steps', -3)
+%!error id=sluice:filter:badoption sluice.filter (spec, pr, obs, 'temper_max_steps', Inf)
 %!error id=sluice:filter:nospread sluice.filter (spec, sluice.prior ('a', 'fixed', 0.5, 'bounds', [-1 1]), obs)
 %!error id=sluice:filter:nospread sluice.filter (spec, sluice.prior ('a', 'fixed', 0.5, 'bounds', [-1 1]), obs, 'param_move', 'liu_west')
 %!test
