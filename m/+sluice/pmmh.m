@@ -156,8 +156,16 @@ function res = pmmh (model, prior, obs, varargin)
   end
   t_all = tic ();
   check_model (model);
-  opts = parse_options (varargin);
+  [opts, prev] = parse_options (varargin);
   S = setup (model, prior, obs, opts);
+  if (isempty (prev))
+    S = setup_start (S, opts.start);
+    S.resume = [];
+    S.from = 1;
+    S.to = opts.burnin + opts.iterations;
+  else
+    S = setup_resume (S, prev);
+  end
   d = numel (S.free);
   C = opts.chains;
 
@@ -190,41 +198,61 @@ function res = pmmh (model, prior, obs, varargin)
     end
   end
 
-  nk = floor (opts.iterations / opts.thin);
+  % the rows kept in this call (iteration i > burnin with mod (i - burnin,
+  % thin) = 0, counted over all calls)
+  nb = opts.burnin;
+  nk = floor ((S.to - nb) / opts.thin) - floor (max (S.from - 1 - nb, 0) / opts.thin);
+  X = zeros (nk, d, C);
+  LL = zeros (nk, C);
+  LP = zeros (nk, C);
   res = struct ();
   res.names = S.names;
-  res.samples = zeros (nk, d, C);
-  res.loglik = zeros (nk, C);
-  res.logpost = zeros (nk, C);
-  res.acceptance = zeros (1, C);
-  res.acceptance_burnin = nan (1, C);
   res.proposal = zeros (d, d, C);
+  res.scale = zeros (1, C);
   res.start = zeros (d, C);
-  res.degenerate = zeros (1, C);
-  res.outside = zeros (1, C);
-  res.nonfinite_runs = zeros (1, C);
-  res.chain_time = zeros (1, C);
-  res.filter_time = zeros (1, C);
+  fresh = struct ('degenerate', zeros (1, C), 'outside', zeros (1, C), ...
+                  'nonfinite_runs', zeros (1, C), 'chain_time', zeros (1, C), ...
+                  'filter_time', zeros (1, C));
   calls = 0;
   for c = 1:C
     o = out{c};
-    res.samples(:, :, c) = o.X;
-    res.loglik(:, c) = o.LL;
-    res.logpost(:, c) = o.LP;
-    res.acceptance(c) = o.acc_post / opts.iterations;
-    if (opts.burnin > 0)
-      res.acceptance_burnin(c) = o.acc_burn / opts.burnin;
-    end
-    res.proposal(:, :, c) = o.cov;
+    X(:, :, c) = o.X;
+    LL(:, c) = o.LL;
+    LP(:, c) = o.LP;
+    res.proposal(:, :, c) = o.state.cov;
+    res.scale(c) = exp (o.state.s);
     res.start(:, c) = o.start;
-    res.degenerate(c) = o.degenerate;
-    res.outside(c) = o.outside;
-    res.nonfinite_runs(c) = o.nonfinite;
-    res.chain_time(c) = o.time;
-    res.filter_time(c) = o.filter_time;
+    fresh.degenerate(c) = o.degenerate;
+    fresh.outside(c) = o.outside;
+    fresh.nonfinite_runs(c) = o.nonfinite;
+    fresh.chain_time(c) = o.time;
+    fresh.filter_time(c) = o.filter_time;
     calls = calls + o.calls;
+    states(c) = o.state;
   end
-  if (nk >= 4)
+  ntot = S.to - nb;                         % iterations after the burn-in, all calls
+  if (isempty (prev))
+    res.samples = X;
+    res.loglik = LL;
+    res.logpost = LP;
+  else
+    res.samples = cat (1, prev.samples, X);
+    res.loglik = [prev.loglik; LL];
+    res.logpost = [prev.logpost; LP];
+    res.start = prev.start;
+    fields = fieldnames (fresh);
+    for k = 1:numel (fields)
+      fresh.(fields{k}) = fresh.(fields{k}) + prev.(fields{k});
+    end
+    calls = calls + prev.filter_calls;
+  end
+  res.acceptance = [states.acc_post] / ntot;
+  res.acceptance_burnin = nan (1, C);
+  if (nb > 0)
+    res.acceptance_burnin = [states.acc_burn] / nb;
+  end
+  res.target_acceptance = S.target;
+  if (size (res.samples, 1) >= 4)
     res.summary = sluice.mcmc_summary (res.samples, 'names', S.names);
   else
     res.summary = [];
@@ -234,18 +262,70 @@ function res = pmmh (model, prior, obs, varargin)
   res.upper = S.hi;
   res.members = opts.members;
   res.chains = C;
-  res.iterations = opts.iterations;
-  res.burnin = opts.burnin;
+  res.iterations = ntot;
+  res.burnin = nb;
   res.thin = opts.thin;
   res.seed = opts.seed;
+  res.degenerate = fresh.degenerate;
+  res.outside = fresh.outside;
+  res.nonfinite_runs = fresh.nonfinite_runs;
+  res.chain_time = fresh.chain_time;
+  res.filter_time = fresh.filter_time;
   res.filter_calls = calls;
   res.parallel = use_par;
   res.workers = 1;
   if (use_par)
     res.workers = min (opts.workers, C);
   end
+  res.chain_state = states;
+  opts.start = res.start;
+  opts.continue = [];
   res.options = opts;
   res.time = toc (t_all);
+  if (~isempty (prev))
+    res.time = res.time + prev.time;
+  end
+  res = convergence_check (res, opts);
+end
+
+% ---------------------------------------------------------------------------
+% split R-hat and bulk ESS of every parameter against the limits: a
+% warning with the numbers, and the verdict in the result
+function res = convergence_check (res, opts)
+  res.max_rhat = opts.max_rhat;
+  res.min_ess = opts.min_ess;
+  s = res.summary;
+  if (isempty (s))
+    res.converged = false;
+    warning ('sluice:pmmh:notconverged', ...
+             'only %d kept iteration(s) per chain: too few for split R-hat (at least 4 are needed)', ...
+             size (res.samples, 1));
+    return;
+  end
+  rh = s.rhat;
+  es = s.ess_bulk;
+  bad_r = ~(rh <= opts.max_rhat);
+  bad_e = ~(es >= opts.min_ess);
+  res.converged = ~any (bad_r) && ~any (bad_e);
+  if (any (bad_r))
+    k = find (bad_r);
+    txt = strjoin (arrayfun (@(j) sprintf ('%s %.3g', res.names{j}, rh(j)), k(:)', ...
+                             'UniformOutput', false), ', ');
+    warning ('sluice:pmmh:notconverged', ...
+             ['the chains have not converged: split R-hat above %.3g for %s ', ...
+              '(%d chains x %d kept iterations); run longer (''continue'') or start ', ...
+              'from a posterior (''start'')'], opts.max_rhat, txt, res.chains, ...
+             size (res.samples, 1));
+  end
+  if (any (bad_e))
+    k = find (bad_e);
+    txt = strjoin (arrayfun (@(j) sprintf ('%s %.1f', res.names{j}, es(j)), k(:)', ...
+                             'UniformOutput', false), ', ');
+    warning ('sluice:pmmh:lowess', ...
+             ['bulk effective sample size below %g for %s (of %d draws); run longer ', ...
+              '(''continue'') or with more members if the acceptance rate (%.3f) is low'], ...
+             opts.min_ess, txt, numel (res.samples(:, 1, :)), mean (res.acceptance));
+  end
 end
 
 % ---------------------------------------------------------------------------
@@ -273,113 +353,189 @@ end
 function out = chain_body (c, S, out)
   d = numel (S.free);
   nb = S.opts.burnin;
-  ni = S.opts.iterations;
   th = S.opts.thin;
-  ntot = nb + ni;
-  nk = floor (ni / th);
   ev = struct ('degenerate', 0, 'nonfinite', 0, 'calls', 0, 'time', 0);
+  if (isempty (S.resume))
+    [st, ev] = chain_start (c, S, ev);
+  else
+    st = S.resume(c);
+  end
+  out.start = st.x;
 
-  % the starting point: a prior draw with a finite log-evidence
-  starts = sluice.draw (S.free_prior, 100, S.hash_start + c - 1);
+  % the random-walk steps and acceptance uniforms of every iteration
+  % (member i of the stream is iteration i, whichever call runs it)
+  R = sluice.draw (S.step_prior, S.to, S.hash_steps + c - 1);
+
+  nk = floor ((S.to - nb) / th) - floor (max (S.from - 1 - nb, 0) / th);
+  X = zeros (nk, d);
+  LL = zeros (nk, 1);
+  LP = zeros (nk, 1);
+  r = 0;
+  outside = 0;
+  a0 = S.opts.adapt_start;
+  a1 = S.opts.adapt_end;
+  tick = max (1, round ((S.to - S.from + 1) / 10));
+  L = chol (exp (2 * st.s) * st.base, 'lower');
+
+  for i = S.from:S.to
+    zp = st.z + L * R(1:d, i);
+    xp = inverse (S, zp);
+    lpp = logprior (S, xp);
+    ljp = logjac (S, zp);
+    ok = false;
+    alpha = 0;
+    if (lpp > -Inf)
+      [llp, ev] = loglik_at (S, xp, S.hash_filter + (c - 1) + 1024 * (i - 1), ev);
+      la = (llp + lpp + ljp) - (st.ll + st.lp + st.lj);
+      ok = log (R(d + 1, i)) < la;
+      if (la > 0)
+        alpha = 1;
+      elseif (la > -Inf)
+        alpha = exp (la);
+      end
+    else
+      outside = outside + 1;
+    end
+    if (ok)
+      st.z = zp; st.x = xp; st.ll = llp; st.lp = lpp; st.lj = ljp;
+      if (i <= nb)
+        st.acc_burn = st.acc_burn + 1;
+      else
+        st.acc_post = st.acc_post + 1;
+      end
+    end
+    if (i > nb && mod (i - nb, th) == 0)
+      r = r + 1;
+      X(r, :) = st.x';
+      LL(r) = st.ll;
+      LP(r) = st.lp + st.ll;
+    end
+    if (S.opts.adapt && i <= a1)
+      [st, Ln] = adapt_step (st, S, i, ok, alpha, a0);
+      if (~isempty (Ln))
+        L = Ln;
+      end
+      if (i == a1)
+        st.hist = zeros (d, 0);     % frozen from here on: the history is not needed
+        st.hacc = false (1, 0);
+      end
+    end
+    st.iteration = i;
+    if (S.opts.progress && mod (i - S.from + 1, tick) == 0)
+      fprintf (1, 'pmmh chain %d: %d of %d iterations, acceptance %.3f\n', ...
+               c, i, S.to, (st.acc_burn + st.acc_post) / i);
+      sluice.kernel.compat ('flush');
+    end
+  end
+  st.cov = exp (2 * st.s) * st.base;
+  out.X = X;
+  out.LL = LL;
+  out.LP = LP;
+  out.state = st;
+  out.degenerate = ev.degenerate;
+  out.nonfinite = ev.nonfinite;
+  out.outside = outside;
+  out.calls = ev.calls;
+  out.filter_time = ev.time;
+end
+
+% The adaptation after iteration i (documented in the help text): a
+% Robbins-Monro step of the log-scale toward the target acceptance rate,
+% and after adapt_start the covariance of the latter half of the chain's
+% states since adapt_start. Returns the new Cholesky factor, or [] when
+% the proposal stays as it was.
+function [st, Ln] = adapt_step (st, S, i, ok, alpha, a0)
+  d = numel (st.z);
+  st.k = st.k + 1;
+  st.s = st.s + st.k ^ (-S.gain_power) * (alpha - S.target);
+  base = st.base;
+  if (i > a0)
+    st.hist(:, end + 1) = st.z;
+    st.hacc(end + 1) = ok;
+    nh = size (st.hist, 2);
+    w = floor (nh / 2) + 1 : nh;
+    if (sum (st.hacc(w)) >= d + 1)
+      Z = st.hist(:, w);
+      Zc = Z - mean (Z, 2);
+      cn = S.sd * (Zc * Zc') / (numel (w) - 1) + S.opts.adapt_eps * eye (d);
+      cn = (cn + cn') / 2;
+      if (all (isfinite (cn(:))))
+        base = cn;
+        if (~st.learned)
+          % the learned covariance carries the scale 2.38^2/d: start the
+          % log-scale again from 0 with a fresh gain sequence
+          st.learned = true;
+          st.s = 0;
+          st.k = 0;
+        end
+      end
+    end
+  end
+  if (st.learned)
+    st.s = min (max (st.s, -S.scale_band), S.scale_band);
+  else
+    st.s = min (max (st.s, -30), 30);
+  end
+  [Ln, fail] = chol (exp (2 * st.s) * base, 'lower');
+  if (fail == 0)
+    st.base = base;
+  else
+    Ln = [];
+  end
+end
+
+% The starting point of chain c and the chain's first state.
+function [st, ev] = chain_start (c, S, ev)
+  d = numel (S.free);
+  switch (S.start_kind)
+    case 'prior'
+      cand = sluice.draw (S.free_prior, 100, S.hash_start + c - 1);
+    case 'posterior'
+      % overdispersed around the posterior: z = m + 2 sd-spread draws
+      E = sluice.draw (S.step_prior(1:d), 100, S.hash_start + c - 1);
+      cand = zeros (d, 100);
+      for k = 1:100
+        cand(:, k) = inverse (S, S.post_mean + S.post_spread * E(:, k));
+      end
+    otherwise
+      cand = S.start(:, min (c, size (S.start, 2)));
+  end
   ll = -Inf;
-  for k = 1:size (starts, 2)
-    x = starts(:, k);
+  for k = 1:size (cand, 2)
+    x = cand(:, k);
+    if (~(logprior (S, x) > -Inf))
+      continue;
+    end
     [ll, ev] = loglik_at (S, x, S.hash_startfilter + (c - 1) + 1024 * (k - 1), ev);
     if (ll > -Inf)
       break;
     end
   end
   if (~(ll > -Inf))
+    if (strcmp (S.start_kind, 'user'))
+      error ('sluice:pmmh:badstart', ...
+             'chain %d: the particle filter run at the given start explained no observation (log-evidence -Inf)', c);
+    end
     error ('sluice:pmmh:badstart', ...
-           'chain %d: no particle filter run from 100 prior draws explained the observations (log-evidence -Inf)', c);
+           'chain %d: no particle filter run from 100 %s draws explained the observations (log-evidence -Inf)', ...
+           c, S.start_kind);
   end
-  z = forward (S, x);
-  lp = logprior (S, x);
-  lj = logjac (S, z);
-  out.start = x;
-
-  % the random-walk steps and acceptance uniforms of every iteration
-  R = sluice.draw (S.step_prior, ntot, S.hash_steps + c - 1);
-
-  cov = S.proposal;
-  L = chol (cov, 'lower');
-  sd = 2.38 ^ 2 / d;
-  hist_n = 1;
-  hist_mean = z;
-  hist_M2 = zeros (d, d);
-  accepted = 0;
-  acc_burn = 0;
-  acc_post = 0;
-  outside = 0;
-  X = zeros (nk, d);
-  LL = zeros (nk, 1);
-  LP = zeros (nk, 1);
-  a0 = S.opts.adapt_start;
-  a1 = S.opts.adapt_end;
-  tick = max (1, round (ntot / 10));
-
-  for i = 1:ntot
-    zp = z + L * R(1:d, i);
-    xp = inverse (S, zp);
-    lpp = logprior (S, xp);
-    ljp = logjac (S, zp);
-    ok = false;
-    if (lpp > -Inf)
-      [llp, ev] = loglik_at (S, xp, S.hash_filter + (c - 1) + 1024 * (i - 1), ev);
-      la = (llp + lpp + ljp) - (ll + lp + lj);
-      ok = log (R(d + 1, i)) < la;
-    else
-      outside = outside + 1;
-    end
-    if (ok)
-      z = zp; x = xp; ll = llp; lp = lpp; lj = ljp;
-      accepted = accepted + 1;
-      if (i <= nb)
-        acc_burn = acc_burn + 1;
-      else
-        acc_post = acc_post + 1;
-      end
-    end
-    if (i > nb && mod (i - nb, th) == 0)
-      r = (i - nb) / th;
-      X(r, :) = x';
-      LL(r) = ll;
-      LP(r) = lp + ll;
-    end
-    % the history of the chain (Welford's running mean and covariance)
-    % and, within the window, the adapted proposal for iteration i + 1
-    if (S.opts.adapt)
-      hist_n = hist_n + 1;
-      delta = z - hist_mean;
-      hist_mean = hist_mean + delta / hist_n;
-      hist_M2 = hist_M2 + delta * (z - hist_mean)';
-      if (i + 1 > a0 && i + 1 <= a1 && accepted >= d + 1)
-        cn = sd * (hist_M2 / (hist_n - 1)) + S.opts.adapt_eps * eye (d);
-        cn = (cn + cn') / 2;
-        [Ln, fail] = chol (cn, 'lower');
-        if (fail == 0)
-          cov = cn;
-          L = Ln;
-        end
-      end
-    end
-    if (S.opts.progress && mod (i, tick) == 0)
-      fprintf (1, 'pmmh chain %d: %d of %d iterations, acceptance %.3f\n', ...
-               c, i, ntot, accepted / i);
-      sluice.kernel.compat ('flush');
-    end
-  end
-  out.X = X;
-  out.LL = LL;
-  out.LP = LP;
-  out.acc_burn = acc_burn;
-  out.acc_post = acc_post;
-  out.cov = cov;
-  out.degenerate = ev.degenerate;
-  out.nonfinite = ev.nonfinite;
-  out.outside = outside;
-  out.calls = ev.calls;
-  out.filter_time = ev.time;
+  st = struct ();
+  st.x = x;
+  st.z = forward (S, x);
+  st.ll = ll;
+  st.lp = logprior (S, x);
+  st.lj = logjac (S, st.z);
+  st.s = 0;
+  st.k = 0;
+  st.base = S.proposal;
+  st.learned = false;
+  st.hist = zeros (d, 0);
+  st.hacc = false (1, 0);
+  st.acc_burn = 0;
+  st.acc_post = 0;
+  st.iteration = 0;
+  st.cov = S.proposal;
 end
 
 function [ll, ev] = loglik_at (S, x, seed, ev)
@@ -648,20 +804,24 @@ function S = setup (model, prior, obs, opts)
   step_args = step_args';
   S.step_prior = sluice.prior (step_args{:}, 'u', 'uniform', [0 1]);
 
-  if (isempty (opts.proposal))
-    P = sluice.draw (S.free_prior, 2000, seed_hash (opts.seed, 5));
-    Z = zeros (size (P));
-    for j = 1:size (P, 2)
-      Z(:, j) = forward (S, P(:, j));
-    end
-    v = var (Z, 0, 2);
-    v(~(v > 0 & isfinite (v))) = 1;
-    S.proposal = diag (0.01 * v);
-  else
+  % the prior's spread in the transformed space (2000 draws): the default
+  % proposal, and the floor of the spread of starts drawn from a posterior
+  P = sluice.draw (S.free_prior, 2000, seed_hash (opts.seed, 5));
+  Z = zeros (size (P));
+  for j = 1:size (P, 2)
+    Z(:, j) = forward (S, P(:, j));
+  end
+  v = var (Z, 0, 2);
+  v(~(v > 0 & isfinite (v))) = 1;
+  S.prior_zvar = v;
+  S.user_proposal = ~isempty (opts.proposal);
+  if (S.user_proposal)
     S.proposal = check_proposal (opts.proposal, d);
+  else
+    S.proposal = diag (0.01 * v);
   end
   if (opts.adapt && isempty (opts.adapt_start))
-    S.opts.adapt_start = floor (opts.burnin / 2);
+    S.opts.adapt_start = floor (opts.burnin / 4);
   end
   if (opts.adapt && isempty (opts.adapt_end))
     S.opts.adapt_end = opts.burnin;
@@ -670,6 +830,170 @@ function S = setup (model, prior, obs, opts)
     error ('sluice:pmmh:badoption', 'adapt_start (%g) must not exceed adapt_end (%g)', ...
            S.opts.adapt_start, S.opts.adapt_end);
   end
+  % the adaptation's constants (see the help text)
+  S.sd = 2.38 ^ 2 / d;
+  S.target = opts.target_acceptance;
+  if (isempty (S.target))
+    S.target = 0.234;
+    if (d == 1)
+      S.target = 0.44;
+    end
+  end
+  S.gain_power = 0.6;
+  S.scale_band = log (5);
+end
+
+% Starting values: 'prior' (draws of the prior), 'user' (a d x 1 or
+% d x chains matrix) or 'posterior' (a sluice.filter or sluice.esmda
+% result: draws overdispersed around its parameter ensemble).
+function S = setup_start (S, start)
+  d = numel (S.free);
+  C = S.opts.chains;
+  if (isempty (start) && isnumeric (start))
+    S.start_kind = 'prior';
+    return;
+  end
+  if (isstruct (start))
+    S.start_kind = 'posterior';
+    [E, w] = posterior_ensemble (S, start);
+    Z = zeros (size (E));
+    for j = 1:size (E, 2)
+      Z(:, j) = forward (S, E(:, j));
+    end
+    m = Z * w;
+    Zc = Z - m;
+    Sig = (Zc .* w') * Zc';
+    Sig = (Sig + Sig') / 2;
+    % starts: twice the posterior spread, but at least a tenth of the prior's
+    sd = sqrt (max (diag (Sig), 0));
+    floor_sd = 0.1 * sqrt (S.prior_zvar);
+    spread = Sig + diag (max (floor_sd .^ 2 - sd .^ 2, 0));
+    [Ls, fail] = chol (4 * spread + 1e-12 * diag (S.prior_zvar), 'lower');
+    if (fail ~= 0)
+      Ls = diag (2 * max (sd, floor_sd));
+    end
+    S.post_mean = m;
+    S.post_spread = Ls;
+    if (~S.user_proposal)
+      % the first proposal: 2.38^2/d times the posterior covariance, with
+      % the default steps where the posterior has (almost) no spread
+      cn = S.sd * Sig;
+      thin_dir = diag (Sig) < 1e-6 * S.prior_zvar;
+      cn(thin_dir, :) = 0;
+      cn(:, thin_dir) = 0;
+      dd = diag (cn);
+      dd(thin_dir) = 0.01 * S.prior_zvar(thin_dir);
+      cn(1:d + 1:end) = dd + 1e-10 * S.prior_zvar;
+      [~, fail] = chol (cn);
+      if (fail == 0)
+        S.proposal = cn;
+      end
+    end
+    return;
+  end
+  if (~isa (start, 'double') || ~isreal (start) || issparse (start) || ndims (start) ~= 2 || ...
+      size (start, 1) ~= d || ~(size (start, 2) == 1 || size (start, 2) == C))
+    error ('sluice:pmmh:badstart', ...
+           ['start: expected a real double %d x 1 or %d x %d matrix (one row per free ', ...
+            'parameter: %s), or a sluice.filter or sluice.esmda result, got %s'], ...
+           d, d, C, strjoin (S.names', ', '), sluice.kernel.describe (start));
+  end
+  for c = 1:size (start, 2)
+    x = start(:, c);
+    for k = 1:d
+      inside = isfinite (x(k)) && (x(k) > S.lo(k) || S.lo(k) == -Inf) && ...
+               (x(k) < S.hi(k) || S.hi(k) == Inf);
+      if (inside)
+        inside = single_logprior (S, k, x(k)) > -Inf;
+      end
+      if (~inside)
+        error ('sluice:pmmh:badstart', ...
+               'start: column %d gives %s = %g, outside the support of its prior (bounds [%g, %g])', ...
+               c, S.names{k}, x(k), S.lo(k), S.hi(k));
+      end
+    end
+  end
+  S.start_kind = 'user';
+  S.start = start;
+end
+
+function lp = single_logprior (S, k, v)
+  T = S;
+  T.args = S.args(k);
+  T.dist = S.dist(k);
+  T.logmass = S.logmass(k);
+  lp = logprior (T, v);
+end
+
+% The parameter ensemble (natural units, free parameters in order) and its
+% normalised weights from a sluice.filter or sluice.esmda result.
+function [E, w] = posterior_ensemble (S, r)
+  d = numel (S.free);
+  if (~isscalar (r))
+    error ('sluice:pmmh:badstart', 'start: expected one result struct, got a %s', ...
+           sluice.kernel.describe (r));
+  end
+  if (isfield (r, 'final') && isfield (r, 'param_names') && isstruct (r.final) && ...
+      isscalar (r.final) && isfield (r.final, 'P') && isfield (r.final, 'w'))
+    names = r.param_names;
+    P = r.final.P;
+    w = r.final.w;
+    what = 'sluice.filter';
+  elseif (isfield (r, 'names') && isfield (r, 'P') && ~isfield (r, 'chain_state'))
+    names = r.names;
+    P = r.P;
+    w = [];
+    what = 'sluice.esmda';
+  else
+    error ('sluice:pmmh:badstart', ...
+           'start: a struct must be a sluice.filter result (param_names, final.P, final.w) or a sluice.esmda result (names, P)');
+  end
+  if (~iscellstr (names) || ~isa (P, 'double') || ~isreal (P) || ndims (P) ~= 2 || ...
+      size (P, 1) ~= numel (names) || size (P, 2) < 1)
+    error ('sluice:pmmh:badstart', 'start: the %s result''s parameter ensemble is malformed', what);
+  end
+  N = size (P, 2);
+  if (isempty (w))
+    w = ones (N, 1);
+  end
+  if (~isa (w, 'double') || ~isreal (w) || numel (w) ~= N)
+    error ('sluice:pmmh:badstart', 'start: the %s result''s weights are malformed', what);
+  end
+  w = w(:);
+  E = zeros (d, N);
+  for k = 1:d
+    j = find (strcmp (names, S.names{k}), 1);
+    if (isempty (j))
+      error ('sluice:pmmh:badstart', 'start: the %s result has no parameter ''%s''', ...
+             what, S.names{k});
+    end
+    E(k, :) = P(j, :);
+  end
+  % members strictly inside the bounds, with finite values and weights
+  ok = all (isfinite (E), 1)' & isfinite (w) & w >= 0;
+  ok = ok & all (E > S.lo | S.lo == -Inf, 1)' & all (E < S.hi | S.hi == Inf, 1)';
+  if (~any (ok) || ~(sum (w(ok)) > 0))
+    error ('sluice:pmmh:badstart', ...
+           'start: no member of the %s result lies inside the bounds of the prior', what);
+  end
+  E = E(:, ok);
+  w = w(ok) / sum (w(ok));
+end
+
+% Continuing a run: the earlier result's options and chain states.
+function S = setup_resume (S, prev)
+  d = numel (S.free);
+  if (~isequal (prev.names, S.names) || ~isequal (prev.lower, S.lo) || ...
+      ~isequal (prev.upper, S.hi) || ~isequal (size (prev.chain_state), [1 S.opts.chains]) || ...
+      ~isequal (size (prev.chain_state(1).z), [d 1]))
+    error ('sluice:pmmh:badcontinue', ...
+           'continue: the earlier run sampled other parameters (%s) than this prior gives (%s)', ...
+           strjoin (prev.names(:)', ', '), strjoin (S.names', ', '));
+  end
+  S.start_kind = 'continued';
+  S.resume = prev.chain_state;
+  S.from = prev.burnin + prev.iterations + 1;
+  S.to = prev.burnin + prev.iterations + S.opts.iterations;
 end
 
 function C = check_proposal (C, d)
@@ -702,12 +1026,35 @@ function h = seed_hash (seed, k)
   h = mod (h1, 2^31) * 2^21 + mod (h2, 2^21);
 end
 
-function opts = parse_options (args)
+function [opts, prev] = parse_options (args)
   opts = struct ('members', 500, 'chains', 4, 'iterations', 2000, 'burnin', 500, ...
                  'thin', 1, 'proposal', [], 'adapt', true, 'adapt_start', [], ...
-                 'adapt_end', [], 'adapt_eps', 1e-10, 'seed', 1, 'filter', [], ...
-                 'parallel', 'auto', 'workers', sluice.kernel.compat ('nproc'), 'progress', false);
+                 'adapt_end', [], 'adapt_eps', 1e-10, 'target_acceptance', [], ...
+                 'start', [], 'continue', [], 'max_rhat', 1.05, 'min_ess', 400, ...
+                 'seed', 1, 'filter', [], 'parallel', 'auto', ...
+                 'workers', sluice.kernel.compat ('nproc'), 'progress', false);
   opts = sluice.kernel.name_value (opts, args, 'pmmh');
+  prev = opts.continue;
+  if (~isempty (prev) || ~isnumeric (prev))
+    % continuing: the earlier run's options, and only these may change
+    check_previous (prev);
+    given = sluice.kernel.option_pairs (args);
+    given = given(1:2:end);
+    may = {'continue', 'iterations', 'parallel', 'workers', 'progress', 'max_rhat', 'min_ess'};
+    other = setdiff (given, may);
+    if (~isempty (other))
+      error ('sluice:pmmh:badcontinue', ...
+             ['continue: option ''%s'' cannot change when a run is continued ', ...
+              '(only %s can)'], other{1}, strjoin (may(2:end), ', '));
+    end
+    o2 = prev.options;
+    for k = 1:numel (given)
+      o2.(given{k}) = opts.(given{k});
+    end
+    o2.start = [];
+    o2.continue = [];
+    opts = parse_options ({o2});
+  end
   opts.members = whole (opts.members, 'members', 1, 2^31, 'badoption');
   opts.chains = whole (opts.chains, 'chains', 1, 1024, 'badoption');
   opts.iterations = whole (opts.iterations, 'iterations', 1, 2^40, 'baditerations');
@@ -734,6 +1081,27 @@ function opts = parse_options (args)
   if (~(isa (e, 'double') && isreal (e) && isscalar (e) && isfinite (e) && e > 0))
     error ('sluice:pmmh:badoption', 'adapt_eps must be a finite real number > 0');
   end
+  t = opts.target_acceptance;
+  if (~isempty (t) && ~(isa (t, 'double') && isreal (t) && isscalar (t) && t > 0 && t < 1))
+    error ('sluice:pmmh:badoption', ...
+           'target_acceptance must be a real number strictly between 0 and 1, got %s', ...
+           sluice.kernel.describe (t, 'value'));
+  end
+  t = opts.max_rhat;
+  if (~(isa (t, 'double') && isreal (t) && isscalar (t) && t > 1 && t < Inf))
+    error ('sluice:pmmh:badoption', 'max_rhat must be a finite real number > 1, got %s', ...
+           sluice.kernel.describe (t, 'value'));
+  end
+  t = opts.min_ess;
+  if (~(isa (t, 'double') && isreal (t) && isscalar (t) && t >= 0 && t < Inf))
+    error ('sluice:pmmh:badoption', 'min_ess must be a finite real number >= 0, got %s', ...
+           sluice.kernel.describe (t, 'value'));
+  end
+  if (~isempty (opts.start) && ~isnumeric (opts.start) && ~isstruct (opts.start))
+    error ('sluice:pmmh:badstart', ...
+           'start: expected a matrix of starting values or a sluice.filter or sluice.esmda result, got %s', ...
+           sluice.kernel.describe (opts.start));
+  end
   p = opts.parallel;
   if (ischar (p) && strcmp (p, 'auto'))
     opts.parallel = 'auto';
@@ -743,6 +1111,17 @@ function opts = parse_options (args)
     error ('sluice:pmmh:badoption', 'parallel must be ''auto'', true or false');
   end
   opts.workers = whole (opts.workers, 'workers', 1, 1024, 'badoption');
+end
+
+function check_previous (prev)
+  need = {'chain_state', 'options', 'names', 'samples', 'loglik', 'logpost', 'burnin', ...
+          'iterations', 'lower', 'upper', 'start', 'filter_calls', 'time'};
+  if (~isstruct (prev) || ~isscalar (prev) || ~all (isfield (prev, need)) || ...
+      ~isstruct (prev.chain_state) || ~isstruct (prev.options))
+    error ('sluice:pmmh:badcontinue', ...
+           'continue: expected the result of an earlier sluice.pmmh run, got %s', ...
+           sluice.kernel.describe (prev));
+  end
 end
 
 function v = whole (v, what, lo, hi, reason)
