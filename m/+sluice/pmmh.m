@@ -1185,6 +1185,85 @@ end
 %!               '''filter'', struct (''t0'', 0))']);
 %! assert (numel (strfind (txt, 'pmmh chain 1:')), 10);
 
+%!test
+%! % continuing a run gives exactly the chains of one longer run: the same
+%! % states, seeds and frozen proposal, samples appended (thinning counted
+%! % over all calls)
+%! warning ('off', 'sluice:pmmh:notconverged', 'local');
+%! warning ('off', 'sluice:pmmh:lowess', 'local');
+%! o = {'members', 20, 'chains', 2, 'burnin', 10, 'seed', 4, 'parallel', false, ...
+%!      'filter', struct('t0', 0, 'state_noise', 1)};
+%! r0 = sluice.pmmh (spec, pr, obs, o{:}, 'iterations', 16, 'thin', 2);
+%! r1 = sluice.pmmh (spec, pr, obs, o{:}, 'iterations', 7, 'thin', 2);
+%! r2 = sluice.pmmh (spec, pr, obs, 'continue', r1, 'iterations', 9);
+%! assert (r2.samples, r0.samples, 0);
+%! assert (r2.loglik, r0.loglik, 0);
+%! assert (r2.acceptance, r0.acceptance, 0);
+%! assert (r2.proposal, r0.proposal, 0);
+%! assert (r2.start, r0.start, 0);
+%! assert (r2.filter_calls, r0.filter_calls);
+%! assert ([r2.iterations, r2.burnin], [16, 10]);
+%! % continual adaptation (adapt_end Inf) carries the adaptation state too
+%! r0 = sluice.pmmh (spec, pr, obs, o{:}, 'iterations', 12, 'adapt_end', Inf);
+%! r1 = sluice.pmmh (spec, pr, obs, o{:}, 'iterations', 5, 'adapt_end', Inf);
+%! r2 = sluice.pmmh (spec, pr, obs, 'continue', r1, 'iterations', 7);
+%! assert (r2.samples, r0.samples, 0);
+%! assert (r2.proposal, r0.proposal, 0);
+
+%!test
+%! % user starts: one column for all chains, or one per chain
+%! warning ('off', 'sluice:pmmh:notconverged', 'local');
+%! warning ('off', 'sluice:pmmh:lowess', 'local');
+%! o = {'members', 10, 'iterations', 4, 'burnin', 0, 'parallel', false, ...
+%!      'filter', struct('t0', 0)};
+%! r = sluice.pmmh (spec, pr, obs, o{:}, 'chains', 3, 'start', [0.1 -0.2 0.7]);
+%! assert (r.start, [0.1 -0.2 0.7]);
+%! r = sluice.pmmh (spec, pr, obs, o{:}, 'chains', 2, 'start', 0.25);
+%! assert (r.start, [0.25 0.25]);
+
+%!test
+%! % the verdict: too short a run warns with its numbers and says so
+%! % (the warnings stay on: a disabled warning does not reach lastwarn)
+%! o = {'members', 10, 'chains', 2, 'iterations', 40, 'burnin', 0, 'seed', 2, ...
+%!      'parallel', false, 'filter', struct('t0', 0)};
+%! lastwarn ('');
+%! r = sluice.pmmh (spec, pr, obs, o{:});
+%! [msg, id] = lastwarn ();
+%! assert (id, 'sluice:pmmh:lowess');
+%! assert (~isempty (strfind (msg, sprintf ('%.1f', r.summary.ess_bulk))));
+%! assert (r.converged, false);
+%! assert ([r.max_rhat, r.min_ess], [1.05 400]);
+%! % with the limits set so that R-hat fails (any R-hat exceeds 1 + 1e-9
+%! % unless the chains agree exactly) and ESS passes
+%! lastwarn ('');
+%! r = sluice.pmmh (spec, pr, obs, o{:}, 'max_rhat', 1 + 1e-9, 'min_ess', 0);
+%! [msg, id] = lastwarn ();
+%! assert (id, 'sluice:pmmh:notconverged');
+%! assert (~isempty (strfind (msg, sprintf ('a %.3g', r.summary.rhat))));
+%! assert (r.converged, false);
+%! % generous limits: no warning, converged
+%! lastwarn ('');
+%! r = sluice.pmmh (spec, pr, obs, o{:}, 'max_rhat', 1e6, 'min_ess', 0);
+%! assert (lastwarn (), '');
+%! assert (r.converged, true);
+
+%!test
+%! % starts from an ES-MDA or a particle-filter posterior: dispersed draws
+%! % around its ensemble, inside the support, one per chain
+%! warning ('off', 'sluice:pmmh:notconverged', 'local');
+%! warning ('off', 'sluice:pmmh:lowess', 'local');
+%! fo = struct ('t0', 0, 'state_noise', 1);
+%! post = struct ('names', {{'a'; 'b'}}, 'P', [0.3 + 0.05 * (-2:2); ones(1, 5)]);
+%! o = {'members', 10, 'chains', 3, 'iterations', 4, 'burnin', 0, 'parallel', false, 'filter', fo};
+%! r = sluice.pmmh (spec, pr, obs, o{:}, 'start', post);
+%! assert (all (r.start > -1 & r.start < 1));
+%! assert (numel (unique (r.start)), 3);
+%! f = sluice.filter (spec, sluice.prior ('a', 'uniform', [-1 1], 'x', 'normal', [0 1]), ...
+%!                    obs, 'members', 50, 'seed', 3, 't0', 0, 'state_noise', 1);
+%! r = sluice.pmmh (spec, pr, obs, o{:}, 'start', f);
+%! assert (all (r.start > -1 & r.start < 1));
+%! assert (numel (unique (r.start)), 3);
+
 %!error <Invalid call> sluice.pmmh ()
 %!error <Invalid call> sluice.pmmh (spec, pr)
 %!error id=sluice:pmmh:badmodel sluice.pmmh (3, pr, obs)
@@ -1234,6 +1313,66 @@ end
 %!error id=sluice:pmmh:badoption sluice.pmmh (spec, pr, obs, 'adapt_start', 10, 'adapt_end', 5)
 %!error id=sluice:pmmh:badoption sluice.pmmh (spec, pr, obs, 'adapt_end', -Inf)
 %!error id=sluice:pmmh:badoption sluice.pmmh (spec, pr, obs, 'speed', 2)
+%!error id=sluice:pmmh:badoption sluice.pmmh (spec, pr, obs, 'target_acceptance', 0)
+%!error id=sluice:pmmh:badoption sluice.pmmh (spec, pr, obs, 'target_acceptance', 1)
+%!error id=sluice:pmmh:badoption sluice.pmmh (spec, pr, obs, 'target_acceptance', -0.2)
+%!error id=sluice:pmmh:badoption sluice.pmmh (spec, pr, obs, 'target_acceptance', NaN)
+%!error id=sluice:pmmh:badoption sluice.pmmh (spec, pr, obs, 'target_acceptance', [0.2 0.3])
+%!error id=sluice:pmmh:badoption sluice.pmmh (spec, pr, obs, 'target_acceptance', '0.2')
+%!error id=sluice:pmmh:badoption sluice.pmmh (spec, pr, obs, 'target_acceptance', 0.2i)
+%!error id=sluice:pmmh:badoption sluice.pmmh (spec, pr, obs, 'max_rhat', 1)
+%!error id=sluice:pmmh:badoption sluice.pmmh (spec, pr, obs, 'max_rhat', Inf)
+%!error id=sluice:pmmh:badoption sluice.pmmh (spec, pr, obs, 'max_rhat', {1.1})
+%!error id=sluice:pmmh:badoption sluice.pmmh (spec, pr, obs, 'min_ess', -1)
+%!error id=sluice:pmmh:badoption sluice.pmmh (spec, pr, obs, 'min_ess', NaN)
+%!error id=sluice:pmmh:badoption sluice.pmmh (spec, pr, obs, 'adapt_start', -5)
+%!error id=sluice:pmmh:badoption sluice.pmmh (spec, pr, obs, 'adapt_end', 2.5)
+%!error id=sluice:pmmh:badoption sluice.pmmh (spec, pr, obs, 'adapt_eps', -1)
+%!error id=sluice:pmmh:badoption sluice.pmmh (spec, pr, obs, 'adapt_eps', Inf)
+%!error id=sluice:pmmh:badstart sluice.pmmh (spec, pr, obs, 'start', 1.5)
+%!error id=sluice:pmmh:badstart sluice.pmmh (spec, pr, obs, 'start', -1)
+%!error id=sluice:pmmh:badstart sluice.pmmh (spec, pr, obs, 'start', NaN)
+%!error id=sluice:pmmh:badstart sluice.pmmh (spec, pr, obs, 'start', Inf)
+%!error id=sluice:pmmh:badstart sluice.pmmh (spec, pr, obs, 'chains', 2, 'start', [0.1 0.2 0.3])
+%!error id=sluice:pmmh:badstart sluice.pmmh (spec, pr, obs, 'start', [0.1; 0.2])
+%!error id=sluice:pmmh:badstart sluice.pmmh (spec, pr, obs, 'start', single (0.1))
+%!error id=sluice:pmmh:badstart sluice.pmmh (spec, pr, obs, 'start', 0.1i)
+%!error id=sluice:pmmh:badstart sluice.pmmh (spec, pr, obs, 'start', int8 (0))
+%!error id=sluice:pmmh:badstart sluice.pmmh (spec, pr, obs, 'start', {0.1})
+%!error id=sluice:pmmh:badstart sluice.pmmh (spec, pr, obs, 'start', 'a')
+%!error id=sluice:pmmh:badstart sluice.pmmh (spec, pr, obs, 'start', struct ('x', 1))
+%!error id=sluice:pmmh:badstart sluice.pmmh (spec, pr, obs, 'start', struct ('names', {{'b'}}, 'P', 1))
+%!error id=sluice:pmmh:badstart sluice.pmmh (spec, pr, obs, 'start', struct ('names', {{'a'}}, 'P', 3))
+%!error id=sluice:pmmh:badstart sluice.pmmh (spec, pr, obs, 'start', struct ('names', {{'a'}}, 'P', {1, 2}))
+%!error id=sluice:pmmh:badstart sluice.pmmh (spec, pr, obs, 'start', struct ('names', {{'a'}}, 'P', 'x'))
+%!error id=sluice:pmmh:badstart
+%! % a start inside the bounds [-2 2] but outside the prior's support
+%! p2 = sluice.prior ('a', 'truncnormal', [0 1 -0.5 0.5], 'bounds', [-2 2], 'x', 'normal', [0 1]);
+%! sluice.pmmh (spec, p2, obs, 'start', 0.9);
+%!error id=sluice:pmmh:badstart
+%! % a start where the filter explains nothing
+%! f = @(t, X, P, U, dt) P(1, :) .* X + 0 ./ (P(1, :) < 0.7);
+%! s2 = sluice.model (f, 'states', {'x'}, 'params', {'a'});
+%! sluice.pmmh (s2, pr, obs, 'members', 5, 'chains', 1, 'iterations', 2, 'burnin', 0, ...
+%!              'start', 0.9, 'filter', struct ('t0', 0));
+%!error id=sluice:pmmh:badcontinue sluice.pmmh (spec, pr, obs, 'continue', 3)
+%!error id=sluice:pmmh:badcontinue sluice.pmmh (spec, pr, obs, 'continue', struct ('names', 1))
+%!error id=sluice:pmmh:badcontinue
+%! warning ('off', 'all', 'local');
+%! o = {'members', 10, 'chains', 1, 'iterations', 4, 'burnin', 0, 'filter', struct('t0', 0)};
+%! r = sluice.pmmh (spec, pr, obs, o{:});
+%! sluice.pmmh (spec, pr, obs, 'continue', r, 'members', 20);
+%!error id=sluice:pmmh:badcontinue
+%! warning ('off', 'all', 'local');
+%! o = {'members', 10, 'chains', 1, 'iterations', 4, 'burnin', 0, 'filter', struct('t0', 0)};
+%! r = sluice.pmmh (spec, pr, obs, o{:});
+%! sluice.pmmh (spec, sluice.prior ('a', 'uniform', [-0.9 1]), obs, 'continue', r);
+%!error id=sluice:pmmh:badcontinue
+%! warning ('off', 'all', 'local');
+%! o = {'members', 10, 'chains', 1, 'iterations', 4, 'burnin', 0, 'filter', struct('t0', 0)};
+%! r = sluice.pmmh (spec, pr, obs, o{:});
+%! r.chain_state = 1;
+%! sluice.pmmh (spec, pr, obs, 'continue', r);
 %!error id=sluice:pmmh:badoption sluice.pmmh (spec, pr, obs, 'iterations')
 %!error id=sluice:pmmh:badoption sluice.pmmh (spec, pr, obs, 'filter', 3)
 %!error id=sluice:pmmh:badoption sluice.pmmh (spec, pr, obs, 'filter', struct ('members', 10))
