@@ -31,26 +31,73 @@
 % covariance. The acceptance ratio includes the Jacobian |dx/dz| of the
 % back-transform: x - lo, hi - x and (x - lo)(hi - x)/(hi - lo).
 %
-% Adaptation (Haario, Saksman & Tamminen 2001, Bernoulli 7, 223-242): with
-% @code{adapt} true, at each iteration t of the window
-% @code{adapt_start} < t <= @code{adapt_end} the proposal covariance is
-% (2.38^2/d) Cov + @code{adapt_eps} I, where Cov is the sample covariance
-% of every state of the chain so far (the start and iterations 1 .. t-1,
-% in the transformed space) and d the number of free parameters. By default
-% the window is the second half of the burn-in (@code{adapt_start} =
-% floor (burnin/2), @code{adapt_end} = burnin): the kept iterations then
-% come from a fixed kernel. @code{adapt_end} = Inf adapts throughout, as
-% in the original adaptive Metropolis algorithm. Until the chain has
-% accepted d + 1 moves the proposal stays as it is.
+% Adaptation, during the burn-in only (defaults in brackets):
+% @itemize
+% @item
+% Scale: the proposal covariance is exp (2 s) B. After every adapted
+% iteration k the log-scale takes a Robbins-Monro step
+% s <- s + k^(-0.6) (alpha - target), alpha = min (1, acceptance ratio)
+% of that iteration (0 for a proposal outside the prior's support), so
+% the acceptance rate is driven toward @code{target_acceptance} [0.234,
+% or 0.44 with one free parameter: the rates of the best random-walk
+% scaling for Gaussian targets, Roberts, Gelman & Gilks 1997, Ann. Appl.
+% Probab. 7, 110-120, and Roberts & Rosenthal 2001, Statist. Sci. 16,
+% 351-367; the scheme is that of Andrieu & Thoms 2008, Stat. Comput. 18,
+% 343-373, and Roberts & Rosenthal 2009, J. Comput. Graph. Statist. 18,
+% 349-367].
+% @item
+% Shape: up to iteration @code{adapt_start} [floor (burnin/4)] B is the
+% initial proposal. After it, B = (2.38^2/d) Cov + @code{adapt_eps} I
+% (Haario, Saksman & Tamminen 2001, Bernoulli 7, 223-242), where Cov is
+% the sample covariance of the latter half of the chain's states since
+% @code{adapt_start} (in the transformed space), so the climb out of the
+% starting region is forgotten as the chain settles. It is used once that
+% half holds d + 1 accepted moves; s then starts again from 0 and stays
+% within [0, log 5]: for a Gaussian target 2.38/sqrt(d) is the best
+% scale, and with a noisy likelihood estimate the best scale is no
+% smaller (Sherlock, Thiery, Roberts & Rosenthal 2015, Ann. Statist. 43,
+% 238-275), so an acceptance rate held down by that noise does not shrink
+% the steps.
+% @item
+% Freeze: after iteration @code{adapt_end} [burnin] nothing changes: the
+% kept iterations come from one fixed kernel. @code{adapt_end} = Inf
+% adapts throughout.
+% @end itemize
+% The proposal at the end is @code{res.proposal}, its scale exp (s)
+% @code{res.scale}.
+%
+% Starting values (option @code{start}): by default a draw of the prior
+% per chain (dispersed: a start whose log-evidence is -Inf is redrawn, up
+% to 100 times); a d x 1 (every chain) or d x chains matrix in natural
+% units, each value inside its prior's support; or the result of
+% @code{sluice.filter} (its final weighted parameter ensemble) or
+% @code{sluice.esmda} (its posterior ensemble): the starts are then drawn,
+% in the transformed space, from a normal around the ensemble's mean with
+% twice its spread (at least a fifth of the prior's), and unless
+% @code{proposal} is given the first proposal is 2.38^2/d times the
+% ensemble's covariance.
+%
+% Convergence: at the end, the split R-hat and the bulk effective sample
+% size of @code{sluice.mcmc_summary} are checked for every parameter.
+% R-hat above @code{max_rhat} [1.05] warns @code{sluice:pmmh:notconverged},
+% a bulk ESS below @code{min_ess} [400, the number Vehtari et al. 2021,
+% Bayesian Analysis 16, 667-718, ask for] warns @code{sluice:pmmh:lowess};
+% both give the numbers, and @code{res.converged} says whether both held.
+%
+% Continuing: @code{sluice.pmmh (@var{model}, @var{prior}, @var{obs},
+% 'continue', @var{res}, 'iterations', @var{n})} runs @var{n} more
+% iterations of every chain of @var{res} from its last state, with its
+% proposal and adaptation state and the same random streams, and returns
+% @var{res} with the new rows appended: the same as one longer run, bit
+% for bit. Only @code{iterations}, @code{parallel}, @code{workers},
+% @code{progress}, @code{max_rhat} and @code{min_ess} may be given then.
 %
 % Options (a struct or name/value pairs):
 % @table @code
 % @item members
 % particles of each filter run (default 500).
 % @item chains
-% independent chains, 1 to 1024 (default 4), each started from a draw of
-% the prior (a start whose log-evidence is -Inf is redrawn, up to 100
-% times).
+% independent chains, 1 to 1024 (default 4).
 % @item iterations
 % iterations after the burn-in (default 2000); each one is one filter run.
 % @item burnin
@@ -65,9 +112,15 @@
 % prior draws), i.e. steps of a tenth of a prior standard deviation.
 % @item adapt
 % true (default) or false (fixed proposal).
-% @item adapt_start, adapt_end, adapt_eps
-% the adaptation window and regularisation (above; adapt_eps default
-% 1e-10).
+% @item adapt_start, adapt_end, adapt_eps, target_acceptance
+% the adaptation's settings (above; adapt_eps default 1e-10;
+% target_acceptance strictly between 0 and 1).
+% @item start
+% starting values (above).
+% @item continue
+% an earlier result to continue (above).
+% @item max_rhat, min_ess
+% the convergence limits (above): a number > 1, a number >= 0.
 % @item seed
 % whole number from 0 to 2^53 (default 1). Everything random follows from
 % it, so results are identical whatever the parallel setting and number of
@@ -104,8 +157,11 @@
 % prior density + log-evidence of each kept state), @code{acceptance}
 % (1 x chains, after the burn-in) and @code{acceptance_burnin},
 % @code{summary} (@code{sluice.mcmc_summary} of the samples; empty with
-% fewer than 4 kept rows), @code{proposal} (d x d x chains, the proposal
-% covariance at the end, transformed space), @code{transforms} (d x 1:
+% fewer than 4 kept rows), @code{converged}, @code{max_rhat},
+% @code{min_ess}, @code{target_acceptance}, @code{proposal} (d x d x
+% chains, the proposal covariance at the end, transformed space),
+% @code{scale} (1 x chains), @code{chain_state} (what a continuation
+% needs), @code{transforms} (d x 1:
 % 'none', 'log', 'neglog', 'logit'), @code{lower}, @code{upper},
 % @code{start} (d x chains, the starting points), @code{degenerate}
 % (1 x chains, filter runs with log-evidence -Inf or NaN),
@@ -139,8 +195,12 @@
 % outside the model's), @code{sluice:pmmh:noparams} (no free parameter),
 % @code{sluice:pmmh:baditerations}, @code{sluice:pmmh:badproposal},
 % @code{sluice:pmmh:badoption}, @code{sluice:pmmh:noparallel},
-% @code{sluice:pmmh:badstart}; errors of the filter keep their own
-% identifiers.
+% @code{sluice:pmmh:badstart} (a start outside the prior's support, of
+% the wrong shape or class, a result without the parameters, or no start
+% with a finite log-evidence), @code{sluice:pmmh:badcontinue} (not a
+% pmmh result, other parameters, an option that cannot change), and the
+% warnings @code{sluice:pmmh:notconverged} and @code{sluice:pmmh:lowess};
+% errors of the filter keep their own identifiers.
 % @seealso{sluice.filter, sluice.prior, sluice.mcmc_summary}
 % @end deftypefn
 function res = pmmh (model, prior, obs, varargin)
@@ -472,7 +532,7 @@ function [st, Ln] = adapt_step (st, S, i, ok, alpha, a0)
     end
   end
   if (st.learned)
-    st.s = min (max (st.s, -S.scale_band), S.scale_band);
+    st.s = min (max (st.s, S.scale_band(1)), S.scale_band(2));
   else
     st.s = min (max (st.s, -30), 30);
   end
@@ -840,7 +900,7 @@ function S = setup (model, prior, obs, opts)
     end
   end
   S.gain_power = 0.6;
-  S.scale_band = log (5);
+  S.scale_band = log ([1 5]);
 end
 
 % Starting values: 'prior' (draws of the prior), 'user' (a d x 1 or
@@ -1115,9 +1175,13 @@ end
 
 function check_previous (prev)
   need = {'chain_state', 'options', 'names', 'samples', 'loglik', 'logpost', 'burnin', ...
-          'iterations', 'lower', 'upper', 'start', 'filter_calls', 'time'};
+          'iterations', 'lower', 'upper', 'start', 'filter_calls', 'time', 'degenerate', ...
+          'outside', 'nonfinite_runs', 'chain_time', 'filter_time'};
+  state = {'x', 'z', 'll', 'lp', 'lj', 's', 'k', 'base', 'learned', 'hist', 'hacc', ...
+           'acc_burn', 'acc_post', 'iteration', 'cov'};
   if (~isstruct (prev) || ~isscalar (prev) || ~all (isfield (prev, need)) || ...
-      ~isstruct (prev.chain_state) || ~isstruct (prev.options))
+      ~isstruct (prev.chain_state) || isempty (prev.chain_state) || ...
+      ~all (isfield (prev.chain_state, state)) || ~isstruct (prev.options))
     error ('sluice:pmmh:badcontinue', ...
            'continue: expected the result of an earlier sluice.pmmh run, got %s', ...
            sluice.kernel.describe (prev));
