@@ -31,26 +31,73 @@
 % covariance. The acceptance ratio includes the Jacobian |dx/dz| of the
 % back-transform: x - lo, hi - x and (x - lo)(hi - x)/(hi - lo).
 %
-% Adaptation (Haario, Saksman & Tamminen 2001, Bernoulli 7, 223-242): with
-% @code{adapt} true, at each iteration t of the window
-% @code{adapt_start} < t <= @code{adapt_end} the proposal covariance is
-% (2.38^2/d) Cov + @code{adapt_eps} I, where Cov is the sample covariance
-% of every state of the chain so far (the start and iterations 1 .. t-1,
-% in the transformed space) and d the number of free parameters. By default
-% the window is the second half of the burn-in (@code{adapt_start} =
-% floor (burnin/2), @code{adapt_end} = burnin): the kept iterations then
-% come from a fixed kernel. @code{adapt_end} = Inf adapts throughout, as
-% in the original adaptive Metropolis algorithm. Until the chain has
-% accepted d + 1 moves the proposal stays as it is.
+% Adaptation, during the burn-in only (defaults in brackets):
+% @itemize
+% @item
+% Scale: the proposal covariance is exp (2 s) B. After every adapted
+% iteration k the log-scale takes a Robbins-Monro step
+% s <- s + k^(-0.6) (alpha - target), alpha = min (1, acceptance ratio)
+% of that iteration (0 for a proposal outside the prior's support), so
+% the acceptance rate is driven toward @code{target_acceptance} [0.234,
+% or 0.44 with one free parameter: the rates of the best random-walk
+% scaling for Gaussian targets, Roberts, Gelman & Gilks 1997, Ann. Appl.
+% Probab. 7, 110-120, and Roberts & Rosenthal 2001, Statist. Sci. 16,
+% 351-367; the scheme is that of Andrieu & Thoms 2008, Stat. Comput. 18,
+% 343-373, and Roberts & Rosenthal 2009, J. Comput. Graph. Statist. 18,
+% 349-367].
+% @item
+% Shape: up to iteration @code{adapt_start} [floor (burnin/4)] B is the
+% initial proposal. After it, B = (2.38^2/d) Cov + @code{adapt_eps} I
+% (Haario, Saksman & Tamminen 2001, Bernoulli 7, 223-242), where Cov is
+% the sample covariance of the latter half of the chain's states since
+% @code{adapt_start} (in the transformed space), so the climb out of the
+% starting region is forgotten as the chain settles. It is used once that
+% half holds d + 1 accepted moves; s then starts again from 0 and stays
+% within [0, log 5]: for a Gaussian target 2.38/sqrt(d) is the best
+% scale, and with a noisy likelihood estimate the best scale is no
+% smaller (Sherlock, Thiery, Roberts & Rosenthal 2015, Ann. Statist. 43,
+% 238-275), so an acceptance rate held down by that noise does not shrink
+% the steps.
+% @item
+% Freeze: after iteration @code{adapt_end} [burnin] nothing changes: the
+% kept iterations come from one fixed kernel. @code{adapt_end} = Inf
+% adapts throughout.
+% @end itemize
+% The proposal at the end is @code{res.proposal}, its scale exp (s)
+% @code{res.scale}.
+%
+% Starting values (option @code{start}): by default a draw of the prior
+% per chain (dispersed: a start whose log-evidence is -Inf is redrawn, up
+% to 100 times); a d x 1 (every chain) or d x chains matrix in natural
+% units, each value inside its prior's support; or the result of
+% @code{sluice.filter} (its final weighted parameter ensemble) or
+% @code{sluice.esmda} (its posterior ensemble): the starts are then drawn,
+% in the transformed space, from a normal around the ensemble's mean with
+% twice its spread (at least a fifth of the prior's), and unless
+% @code{proposal} is given the first proposal is 2.38^2/d times the
+% ensemble's covariance.
+%
+% Convergence: at the end, the split R-hat and the bulk effective sample
+% size of @code{sluice.mcmc_summary} are checked for every parameter.
+% R-hat above @code{max_rhat} [1.05] warns @code{sluice:pmmh:notconverged},
+% a bulk ESS below @code{min_ess} [400, the number Vehtari et al. 2021,
+% Bayesian Analysis 16, 667-718, ask for] warns @code{sluice:pmmh:lowess};
+% both give the numbers, and @code{res.converged} says whether both held.
+%
+% Continuing: @code{sluice.pmmh (@var{model}, @var{prior}, @var{obs},
+% 'continue', @var{res}, 'iterations', @var{n})} runs @var{n} more
+% iterations of every chain of @var{res} from its last state, with its
+% proposal and adaptation state and the same random streams, and returns
+% @var{res} with the new rows appended: the same as one longer run, bit
+% for bit. Only @code{iterations}, @code{parallel}, @code{workers},
+% @code{progress}, @code{max_rhat} and @code{min_ess} may be given then.
 %
 % Options (a struct or name/value pairs):
 % @table @code
 % @item members
 % particles of each filter run (default 500).
 % @item chains
-% independent chains, 1 to 1024 (default 4), each started from a draw of
-% the prior (a start whose log-evidence is -Inf is redrawn, up to 100
-% times).
+% independent chains, 1 to 1024 (default 4).
 % @item iterations
 % iterations after the burn-in (default 2000); each one is one filter run.
 % @item burnin
@@ -65,9 +112,15 @@
 % prior draws), i.e. steps of a tenth of a prior standard deviation.
 % @item adapt
 % true (default) or false (fixed proposal).
-% @item adapt_start, adapt_end, adapt_eps
-% the adaptation window and regularisation (above; adapt_eps default
-% 1e-10).
+% @item adapt_start, adapt_end, adapt_eps, target_acceptance
+% the adaptation's settings (above; adapt_eps default 1e-10;
+% target_acceptance strictly between 0 and 1).
+% @item start
+% starting values (above).
+% @item continue
+% an earlier result to continue (above).
+% @item max_rhat, min_ess
+% the convergence limits (above): a number > 1, a number >= 0.
 % @item seed
 % whole number from 0 to 2^53 (default 1). Everything random follows from
 % it, so results are identical whatever the parallel setting and number of
@@ -104,8 +157,11 @@
 % prior density + log-evidence of each kept state), @code{acceptance}
 % (1 x chains, after the burn-in) and @code{acceptance_burnin},
 % @code{summary} (@code{sluice.mcmc_summary} of the samples; empty with
-% fewer than 4 kept rows), @code{proposal} (d x d x chains, the proposal
-% covariance at the end, transformed space), @code{transforms} (d x 1:
+% fewer than 4 kept rows), @code{converged}, @code{max_rhat},
+% @code{min_ess}, @code{target_acceptance}, @code{proposal} (d x d x
+% chains, the proposal covariance at the end, transformed space),
+% @code{scale} (1 x chains), @code{chain_state} (what a continuation
+% needs), @code{transforms} (d x 1:
 % 'none', 'log', 'neglog', 'logit'), @code{lower}, @code{upper},
 % @code{start} (d x chains, the starting points), @code{degenerate}
 % (1 x chains, filter runs with log-evidence -Inf or NaN),
@@ -139,8 +195,12 @@
 % outside the model's), @code{sluice:pmmh:noparams} (no free parameter),
 % @code{sluice:pmmh:baditerations}, @code{sluice:pmmh:badproposal},
 % @code{sluice:pmmh:badoption}, @code{sluice:pmmh:noparallel},
-% @code{sluice:pmmh:badstart}; errors of the filter keep their own
-% identifiers.
+% @code{sluice:pmmh:badstart} (a start outside the prior's support, of
+% the wrong shape or class, a result without the parameters, or no start
+% with a finite log-evidence), @code{sluice:pmmh:badcontinue} (not a
+% pmmh result, other parameters, an option that cannot change), and the
+% warnings @code{sluice:pmmh:notconverged} and @code{sluice:pmmh:lowess};
+% errors of the filter keep their own identifiers.
 % @seealso{sluice.filter, sluice.prior, sluice.mcmc_summary}
 % @end deftypefn
 function res = pmmh (model, prior, obs, varargin)
@@ -156,8 +216,16 @@ function res = pmmh (model, prior, obs, varargin)
   end
   t_all = tic ();
   check_model (model);
-  opts = parse_options (varargin);
+  [opts, prev] = parse_options (varargin);
   S = setup (model, prior, obs, opts);
+  if (isempty (prev))
+    S = setup_start (S, opts.start);
+    S.resume = [];
+    S.from = 1;
+    S.to = opts.burnin + opts.iterations;
+  else
+    S = setup_resume (S, prev);
+  end
   d = numel (S.free);
   C = opts.chains;
 
@@ -190,41 +258,61 @@ function res = pmmh (model, prior, obs, varargin)
     end
   end
 
-  nk = floor (opts.iterations / opts.thin);
+  % the rows kept in this call (iteration i > burnin with mod (i - burnin,
+  % thin) = 0, counted over all calls)
+  nb = opts.burnin;
+  nk = floor ((S.to - nb) / opts.thin) - floor (max (S.from - 1 - nb, 0) / opts.thin);
+  X = zeros (nk, d, C);
+  LL = zeros (nk, C);
+  LP = zeros (nk, C);
   res = struct ();
   res.names = S.names;
-  res.samples = zeros (nk, d, C);
-  res.loglik = zeros (nk, C);
-  res.logpost = zeros (nk, C);
-  res.acceptance = zeros (1, C);
-  res.acceptance_burnin = nan (1, C);
   res.proposal = zeros (d, d, C);
+  res.scale = zeros (1, C);
   res.start = zeros (d, C);
-  res.degenerate = zeros (1, C);
-  res.outside = zeros (1, C);
-  res.nonfinite_runs = zeros (1, C);
-  res.chain_time = zeros (1, C);
-  res.filter_time = zeros (1, C);
+  fresh = struct ('degenerate', zeros (1, C), 'outside', zeros (1, C), ...
+                  'nonfinite_runs', zeros (1, C), 'chain_time', zeros (1, C), ...
+                  'filter_time', zeros (1, C));
   calls = 0;
   for c = 1:C
     o = out{c};
-    res.samples(:, :, c) = o.X;
-    res.loglik(:, c) = o.LL;
-    res.logpost(:, c) = o.LP;
-    res.acceptance(c) = o.acc_post / opts.iterations;
-    if (opts.burnin > 0)
-      res.acceptance_burnin(c) = o.acc_burn / opts.burnin;
-    end
-    res.proposal(:, :, c) = o.cov;
+    X(:, :, c) = o.X;
+    LL(:, c) = o.LL;
+    LP(:, c) = o.LP;
+    res.proposal(:, :, c) = o.state.cov;
+    res.scale(c) = exp (o.state.s);
     res.start(:, c) = o.start;
-    res.degenerate(c) = o.degenerate;
-    res.outside(c) = o.outside;
-    res.nonfinite_runs(c) = o.nonfinite;
-    res.chain_time(c) = o.time;
-    res.filter_time(c) = o.filter_time;
+    fresh.degenerate(c) = o.degenerate;
+    fresh.outside(c) = o.outside;
+    fresh.nonfinite_runs(c) = o.nonfinite;
+    fresh.chain_time(c) = o.time;
+    fresh.filter_time(c) = o.filter_time;
     calls = calls + o.calls;
+    states(c) = o.state;
   end
-  if (nk >= 4)
+  ntot = S.to - nb;                         % iterations after the burn-in, all calls
+  if (isempty (prev))
+    res.samples = X;
+    res.loglik = LL;
+    res.logpost = LP;
+  else
+    res.samples = cat (1, prev.samples, X);
+    res.loglik = [prev.loglik; LL];
+    res.logpost = [prev.logpost; LP];
+    res.start = prev.start;
+    fields = fieldnames (fresh);
+    for k = 1:numel (fields)
+      fresh.(fields{k}) = fresh.(fields{k}) + prev.(fields{k});
+    end
+    calls = calls + prev.filter_calls;
+  end
+  res.acceptance = [states.acc_post] / ntot;
+  res.acceptance_burnin = nan (1, C);
+  if (nb > 0)
+    res.acceptance_burnin = [states.acc_burn] / nb;
+  end
+  res.target_acceptance = S.target;
+  if (size (res.samples, 1) >= 4)
     res.summary = sluice.mcmc_summary (res.samples, 'names', S.names);
   else
     res.summary = [];
@@ -234,18 +322,70 @@ function res = pmmh (model, prior, obs, varargin)
   res.upper = S.hi;
   res.members = opts.members;
   res.chains = C;
-  res.iterations = opts.iterations;
-  res.burnin = opts.burnin;
+  res.iterations = ntot;
+  res.burnin = nb;
   res.thin = opts.thin;
   res.seed = opts.seed;
+  res.degenerate = fresh.degenerate;
+  res.outside = fresh.outside;
+  res.nonfinite_runs = fresh.nonfinite_runs;
+  res.chain_time = fresh.chain_time;
+  res.filter_time = fresh.filter_time;
   res.filter_calls = calls;
   res.parallel = use_par;
   res.workers = 1;
   if (use_par)
     res.workers = min (opts.workers, C);
   end
+  res.chain_state = states;
+  opts.start = res.start;
+  opts.continue = [];
   res.options = opts;
   res.time = toc (t_all);
+  if (~isempty (prev))
+    res.time = res.time + prev.time;
+  end
+  res = convergence_check (res, opts);
+end
+
+% ---------------------------------------------------------------------------
+% split R-hat and bulk ESS of every parameter against the limits: a
+% warning with the numbers, and the verdict in the result
+function res = convergence_check (res, opts)
+  res.max_rhat = opts.max_rhat;
+  res.min_ess = opts.min_ess;
+  s = res.summary;
+  if (isempty (s))
+    res.converged = false;
+    warning ('sluice:pmmh:notconverged', ...
+             'only %d kept iteration(s) per chain: too few for split R-hat (at least 4 are needed)', ...
+             size (res.samples, 1));
+    return;
+  end
+  rh = s.rhat;
+  es = s.ess_bulk;
+  bad_r = ~(rh <= opts.max_rhat);
+  bad_e = ~(es >= opts.min_ess);
+  res.converged = ~any (bad_r) && ~any (bad_e);
+  if (any (bad_r))
+    k = find (bad_r);
+    txt = strjoin (arrayfun (@(j) sprintf ('%s %.3g', res.names{j}, rh(j)), k(:)', ...
+                             'UniformOutput', false), ', ');
+    warning ('sluice:pmmh:notconverged', ...
+             ['the chains have not converged: split R-hat above %.3g for %s ', ...
+              '(%d chains x %d kept iterations); run longer (''continue'') or start ', ...
+              'from a posterior (''start'')'], opts.max_rhat, txt, res.chains, ...
+             size (res.samples, 1));
+  end
+  if (any (bad_e))
+    k = find (bad_e);
+    txt = strjoin (arrayfun (@(j) sprintf ('%s %.1f', res.names{j}, es(j)), k(:)', ...
+                             'UniformOutput', false), ', ');
+    warning ('sluice:pmmh:lowess', ...
+             ['bulk effective sample size below %g for %s (of %d draws); run longer ', ...
+              '(''continue'') or with more members if the acceptance rate (%.3f) is low'], ...
+             opts.min_ess, txt, numel (res.samples(:, 1, :)), mean (res.acceptance));
+  end
 end
 
 % ---------------------------------------------------------------------------
@@ -273,113 +413,189 @@ end
 function out = chain_body (c, S, out)
   d = numel (S.free);
   nb = S.opts.burnin;
-  ni = S.opts.iterations;
   th = S.opts.thin;
-  ntot = nb + ni;
-  nk = floor (ni / th);
   ev = struct ('degenerate', 0, 'nonfinite', 0, 'calls', 0, 'time', 0);
+  if (isempty (S.resume))
+    [st, ev] = chain_start (c, S, ev);
+  else
+    st = S.resume(c);
+  end
+  out.start = st.x;
 
-  % the starting point: a prior draw with a finite log-evidence
-  starts = sluice.draw (S.free_prior, 100, S.hash_start + c - 1);
+  % the random-walk steps and acceptance uniforms of every iteration
+  % (member i of the stream is iteration i, whichever call runs it)
+  R = sluice.draw (S.step_prior, S.to, S.hash_steps + c - 1);
+
+  nk = floor ((S.to - nb) / th) - floor (max (S.from - 1 - nb, 0) / th);
+  X = zeros (nk, d);
+  LL = zeros (nk, 1);
+  LP = zeros (nk, 1);
+  r = 0;
+  outside = 0;
+  a0 = S.opts.adapt_start;
+  a1 = S.opts.adapt_end;
+  tick = max (1, round ((S.to - S.from + 1) / 10));
+  L = chol (exp (2 * st.s) * st.base, 'lower');
+
+  for i = S.from:S.to
+    zp = st.z + L * R(1:d, i);
+    xp = inverse (S, zp);
+    lpp = logprior (S, xp);
+    ljp = logjac (S, zp);
+    ok = false;
+    alpha = 0;
+    if (lpp > -Inf)
+      [llp, ev] = loglik_at (S, xp, S.hash_filter + (c - 1) + 1024 * (i - 1), ev);
+      la = (llp + lpp + ljp) - (st.ll + st.lp + st.lj);
+      ok = log (R(d + 1, i)) < la;
+      if (la > 0)
+        alpha = 1;
+      elseif (la > -Inf)
+        alpha = exp (la);
+      end
+    else
+      outside = outside + 1;
+    end
+    if (ok)
+      st.z = zp; st.x = xp; st.ll = llp; st.lp = lpp; st.lj = ljp;
+      if (i <= nb)
+        st.acc_burn = st.acc_burn + 1;
+      else
+        st.acc_post = st.acc_post + 1;
+      end
+    end
+    if (i > nb && mod (i - nb, th) == 0)
+      r = r + 1;
+      X(r, :) = st.x';
+      LL(r) = st.ll;
+      LP(r) = st.lp + st.ll;
+    end
+    if (S.opts.adapt && i <= a1)
+      [st, Ln] = adapt_step (st, S, i, ok, alpha, a0);
+      if (~isempty (Ln))
+        L = Ln;
+      end
+      if (i == a1)
+        st.hist = zeros (d, 0);     % frozen from here on: the history is not needed
+        st.hacc = false (1, 0);
+      end
+    end
+    st.iteration = i;
+    if (S.opts.progress && mod (i - S.from + 1, tick) == 0)
+      fprintf (1, 'pmmh chain %d: %d of %d iterations, acceptance %.3f\n', ...
+               c, i, S.to, (st.acc_burn + st.acc_post) / i);
+      sluice.kernel.compat ('flush');
+    end
+  end
+  st.cov = exp (2 * st.s) * st.base;
+  out.X = X;
+  out.LL = LL;
+  out.LP = LP;
+  out.state = st;
+  out.degenerate = ev.degenerate;
+  out.nonfinite = ev.nonfinite;
+  out.outside = outside;
+  out.calls = ev.calls;
+  out.filter_time = ev.time;
+end
+
+% The adaptation after iteration i (documented in the help text): a
+% Robbins-Monro step of the log-scale toward the target acceptance rate,
+% and after adapt_start the covariance of the latter half of the chain's
+% states since adapt_start. Returns the new Cholesky factor, or [] when
+% the proposal stays as it was.
+function [st, Ln] = adapt_step (st, S, i, ok, alpha, a0)
+  d = numel (st.z);
+  st.k = st.k + 1;
+  st.s = st.s + st.k ^ (-S.gain_power) * (alpha - S.target);
+  base = st.base;
+  if (i > a0)
+    st.hist(:, end + 1) = st.z;
+    st.hacc(end + 1) = ok;
+    nh = size (st.hist, 2);
+    w = floor (nh / 2) + 1 : nh;
+    if (sum (st.hacc(w)) >= d + 1)
+      Z = st.hist(:, w);
+      Zc = Z - mean (Z, 2);
+      cn = S.sd * (Zc * Zc') / (numel (w) - 1) + S.opts.adapt_eps * eye (d);
+      cn = (cn + cn') / 2;
+      if (all (isfinite (cn(:))))
+        base = cn;
+        if (~st.learned)
+          % the learned covariance carries the scale 2.38^2/d: start the
+          % log-scale again from 0 with a fresh gain sequence
+          st.learned = true;
+          st.s = 0;
+          st.k = 0;
+        end
+      end
+    end
+  end
+  if (st.learned)
+    st.s = min (max (st.s, S.scale_band(1)), S.scale_band(2));
+  else
+    st.s = min (max (st.s, -30), 30);
+  end
+  [Ln, fail] = chol (exp (2 * st.s) * base, 'lower');
+  if (fail == 0)
+    st.base = base;
+  else
+    Ln = [];
+  end
+end
+
+% The starting point of chain c and the chain's first state.
+function [st, ev] = chain_start (c, S, ev)
+  d = numel (S.free);
+  switch (S.start_kind)
+    case 'prior'
+      cand = sluice.draw (S.free_prior, 100, S.hash_start + c - 1);
+    case 'posterior'
+      % overdispersed around the posterior: z = m + 2 sd-spread draws
+      E = sluice.draw (S.step_prior(1:d), 100, S.hash_start + c - 1);
+      cand = zeros (d, 100);
+      for k = 1:100
+        cand(:, k) = inverse (S, S.post_mean + S.post_spread * E(:, k));
+      end
+    otherwise
+      cand = S.start(:, min (c, size (S.start, 2)));
+  end
   ll = -Inf;
-  for k = 1:size (starts, 2)
-    x = starts(:, k);
+  for k = 1:size (cand, 2)
+    x = cand(:, k);
+    if (~(logprior (S, x) > -Inf))
+      continue;
+    end
     [ll, ev] = loglik_at (S, x, S.hash_startfilter + (c - 1) + 1024 * (k - 1), ev);
     if (ll > -Inf)
       break;
     end
   end
   if (~(ll > -Inf))
+    if (strcmp (S.start_kind, 'user'))
+      error ('sluice:pmmh:badstart', ...
+             'chain %d: the particle filter run at the given start explained no observation (log-evidence -Inf)', c);
+    end
     error ('sluice:pmmh:badstart', ...
-           'chain %d: no particle filter run from 100 prior draws explained the observations (log-evidence -Inf)', c);
+           'chain %d: no particle filter run from 100 %s draws explained the observations (log-evidence -Inf)', ...
+           c, S.start_kind);
   end
-  z = forward (S, x);
-  lp = logprior (S, x);
-  lj = logjac (S, z);
-  out.start = x;
-
-  % the random-walk steps and acceptance uniforms of every iteration
-  R = sluice.draw (S.step_prior, ntot, S.hash_steps + c - 1);
-
-  cov = S.proposal;
-  L = chol (cov, 'lower');
-  sd = 2.38 ^ 2 / d;
-  hist_n = 1;
-  hist_mean = z;
-  hist_M2 = zeros (d, d);
-  accepted = 0;
-  acc_burn = 0;
-  acc_post = 0;
-  outside = 0;
-  X = zeros (nk, d);
-  LL = zeros (nk, 1);
-  LP = zeros (nk, 1);
-  a0 = S.opts.adapt_start;
-  a1 = S.opts.adapt_end;
-  tick = max (1, round (ntot / 10));
-
-  for i = 1:ntot
-    zp = z + L * R(1:d, i);
-    xp = inverse (S, zp);
-    lpp = logprior (S, xp);
-    ljp = logjac (S, zp);
-    ok = false;
-    if (lpp > -Inf)
-      [llp, ev] = loglik_at (S, xp, S.hash_filter + (c - 1) + 1024 * (i - 1), ev);
-      la = (llp + lpp + ljp) - (ll + lp + lj);
-      ok = log (R(d + 1, i)) < la;
-    else
-      outside = outside + 1;
-    end
-    if (ok)
-      z = zp; x = xp; ll = llp; lp = lpp; lj = ljp;
-      accepted = accepted + 1;
-      if (i <= nb)
-        acc_burn = acc_burn + 1;
-      else
-        acc_post = acc_post + 1;
-      end
-    end
-    if (i > nb && mod (i - nb, th) == 0)
-      r = (i - nb) / th;
-      X(r, :) = x';
-      LL(r) = ll;
-      LP(r) = lp + ll;
-    end
-    % the history of the chain (Welford's running mean and covariance)
-    % and, within the window, the adapted proposal for iteration i + 1
-    if (S.opts.adapt)
-      hist_n = hist_n + 1;
-      delta = z - hist_mean;
-      hist_mean = hist_mean + delta / hist_n;
-      hist_M2 = hist_M2 + delta * (z - hist_mean)';
-      if (i + 1 > a0 && i + 1 <= a1 && accepted >= d + 1)
-        cn = sd * (hist_M2 / (hist_n - 1)) + S.opts.adapt_eps * eye (d);
-        cn = (cn + cn') / 2;
-        [Ln, fail] = chol (cn, 'lower');
-        if (fail == 0)
-          cov = cn;
-          L = Ln;
-        end
-      end
-    end
-    if (S.opts.progress && mod (i, tick) == 0)
-      fprintf (1, 'pmmh chain %d: %d of %d iterations, acceptance %.3f\n', ...
-               c, i, ntot, accepted / i);
-      sluice.kernel.compat ('flush');
-    end
-  end
-  out.X = X;
-  out.LL = LL;
-  out.LP = LP;
-  out.acc_burn = acc_burn;
-  out.acc_post = acc_post;
-  out.cov = cov;
-  out.degenerate = ev.degenerate;
-  out.nonfinite = ev.nonfinite;
-  out.outside = outside;
-  out.calls = ev.calls;
-  out.filter_time = ev.time;
+  st = struct ();
+  st.x = x;
+  st.z = forward (S, x);
+  st.ll = ll;
+  st.lp = logprior (S, x);
+  st.lj = logjac (S, st.z);
+  st.s = 0;
+  st.k = 0;
+  st.base = S.proposal;
+  st.learned = false;
+  st.hist = zeros (d, 0);
+  st.hacc = false (1, 0);
+  st.acc_burn = 0;
+  st.acc_post = 0;
+  st.iteration = 0;
+  st.cov = S.proposal;
 end
 
 function [ll, ev] = loglik_at (S, x, seed, ev)
@@ -649,20 +865,24 @@ function S = setup (model, prior, obs, opts)
   step_args = step_args';
   S.step_prior = sluice.prior (step_args{:}, 'u', 'uniform', [0 1]);
 
-  if (isempty (opts.proposal))
-    P = sluice.draw (S.free_prior, 2000, seed_hash (opts.seed, 5));
-    Z = zeros (size (P));
-    for j = 1:size (P, 2)
-      Z(:, j) = forward (S, P(:, j));
-    end
-    v = var (Z, 0, 2);
-    v(~(v > 0 & isfinite (v))) = 1;
-    S.proposal = diag (0.01 * v);
-  else
+  % the prior's spread in the transformed space (2000 draws): the default
+  % proposal, and the floor of the spread of starts drawn from a posterior
+  P = sluice.draw (S.free_prior, 2000, seed_hash (opts.seed, 5));
+  Z = zeros (size (P));
+  for j = 1:size (P, 2)
+    Z(:, j) = forward (S, P(:, j));
+  end
+  v = var (Z, 0, 2);
+  v(~(v > 0 & isfinite (v))) = 1;
+  S.prior_zvar = v;
+  S.user_proposal = ~isempty (opts.proposal);
+  if (S.user_proposal)
     S.proposal = check_proposal (opts.proposal, d);
+  else
+    S.proposal = diag (0.01 * v);
   end
   if (opts.adapt && isempty (opts.adapt_start))
-    S.opts.adapt_start = floor (opts.burnin / 2);
+    S.opts.adapt_start = floor (opts.burnin / 4);
   end
   if (opts.adapt && isempty (opts.adapt_end))
     S.opts.adapt_end = opts.burnin;
@@ -671,6 +891,170 @@ function S = setup (model, prior, obs, opts)
     error ('sluice:pmmh:badoption', 'adapt_start (%g) must not exceed adapt_end (%g)', ...
            S.opts.adapt_start, S.opts.adapt_end);
   end
+  % the adaptation's constants (see the help text)
+  S.sd = 2.38 ^ 2 / d;
+  S.target = opts.target_acceptance;
+  if (isempty (S.target))
+    S.target = 0.234;
+    if (d == 1)
+      S.target = 0.44;
+    end
+  end
+  S.gain_power = 0.6;
+  S.scale_band = log ([1 5]);
+end
+
+% Starting values: 'prior' (draws of the prior), 'user' (a d x 1 or
+% d x chains matrix) or 'posterior' (a sluice.filter or sluice.esmda
+% result: draws overdispersed around its parameter ensemble).
+function S = setup_start (S, start)
+  d = numel (S.free);
+  C = S.opts.chains;
+  if (isempty (start) && isnumeric (start))
+    S.start_kind = 'prior';
+    return;
+  end
+  if (isstruct (start))
+    S.start_kind = 'posterior';
+    [E, w] = posterior_ensemble (S, start);
+    Z = zeros (size (E));
+    for j = 1:size (E, 2)
+      Z(:, j) = forward (S, E(:, j));
+    end
+    m = Z * w;
+    Zc = Z - m;
+    Sig = (Zc .* w') * Zc';
+    Sig = (Sig + Sig') / 2;
+    % starts: twice the posterior spread, but at least a tenth of the prior's
+    sd = sqrt (max (diag (Sig), 0));
+    floor_sd = 0.1 * sqrt (S.prior_zvar);
+    spread = Sig + diag (max (floor_sd .^ 2 - sd .^ 2, 0));
+    [Ls, fail] = chol (4 * spread + 1e-12 * diag (S.prior_zvar), 'lower');
+    if (fail ~= 0)
+      Ls = diag (2 * max (sd, floor_sd));
+    end
+    S.post_mean = m;
+    S.post_spread = Ls;
+    if (~S.user_proposal)
+      % the first proposal: 2.38^2/d times the posterior covariance, with
+      % the default steps where the posterior has (almost) no spread
+      cn = S.sd * Sig;
+      thin_dir = diag (Sig) < 1e-6 * S.prior_zvar;
+      cn(thin_dir, :) = 0;
+      cn(:, thin_dir) = 0;
+      dd = diag (cn);
+      dd(thin_dir) = 0.01 * S.prior_zvar(thin_dir);
+      cn(1:d + 1:end) = dd + 1e-10 * S.prior_zvar;
+      [~, fail] = chol (cn);
+      if (fail == 0)
+        S.proposal = cn;
+      end
+    end
+    return;
+  end
+  if (~isa (start, 'double') || ~isreal (start) || issparse (start) || ndims (start) ~= 2 || ...
+      size (start, 1) ~= d || ~(size (start, 2) == 1 || size (start, 2) == C))
+    error ('sluice:pmmh:badstart', ...
+           ['start: expected a real double %d x 1 or %d x %d matrix (one row per free ', ...
+            'parameter: %s), or a sluice.filter or sluice.esmda result, got %s'], ...
+           d, d, C, strjoin (S.names', ', '), sluice.kernel.describe (start));
+  end
+  for c = 1:size (start, 2)
+    x = start(:, c);
+    for k = 1:d
+      inside = isfinite (x(k)) && (x(k) > S.lo(k) || S.lo(k) == -Inf) && ...
+               (x(k) < S.hi(k) || S.hi(k) == Inf);
+      if (inside)
+        inside = single_logprior (S, k, x(k)) > -Inf;
+      end
+      if (~inside)
+        error ('sluice:pmmh:badstart', ...
+               'start: column %d gives %s = %g, outside the support of its prior (bounds [%g, %g])', ...
+               c, S.names{k}, x(k), S.lo(k), S.hi(k));
+      end
+    end
+  end
+  S.start_kind = 'user';
+  S.start = start;
+end
+
+function lp = single_logprior (S, k, v)
+  T = S;
+  T.args = S.args(k);
+  T.dist = S.dist(k);
+  T.logmass = S.logmass(k);
+  lp = logprior (T, v);
+end
+
+% The parameter ensemble (natural units, free parameters in order) and its
+% normalised weights from a sluice.filter or sluice.esmda result.
+function [E, w] = posterior_ensemble (S, r)
+  d = numel (S.free);
+  if (~isscalar (r))
+    error ('sluice:pmmh:badstart', 'start: expected one result struct, got a %s', ...
+           sluice.kernel.describe (r));
+  end
+  if (isfield (r, 'final') && isfield (r, 'param_names') && isstruct (r.final) && ...
+      isscalar (r.final) && isfield (r.final, 'P') && isfield (r.final, 'w'))
+    names = r.param_names;
+    P = r.final.P;
+    w = r.final.w;
+    what = 'sluice.filter';
+  elseif (isfield (r, 'names') && isfield (r, 'P') && ~isfield (r, 'chain_state'))
+    names = r.names;
+    P = r.P;
+    w = [];
+    what = 'sluice.esmda';
+  else
+    error ('sluice:pmmh:badstart', ...
+           'start: a struct must be a sluice.filter result (param_names, final.P, final.w) or a sluice.esmda result (names, P)');
+  end
+  if (~iscellstr (names) || ~isa (P, 'double') || ~isreal (P) || ndims (P) ~= 2 || ...
+      size (P, 1) ~= numel (names) || size (P, 2) < 1)
+    error ('sluice:pmmh:badstart', 'start: the %s result''s parameter ensemble is malformed', what);
+  end
+  N = size (P, 2);
+  if (isempty (w))
+    w = ones (N, 1);
+  end
+  if (~isa (w, 'double') || ~isreal (w) || numel (w) ~= N)
+    error ('sluice:pmmh:badstart', 'start: the %s result''s weights are malformed', what);
+  end
+  w = w(:);
+  E = zeros (d, N);
+  for k = 1:d
+    j = find (strcmp (names, S.names{k}), 1);
+    if (isempty (j))
+      error ('sluice:pmmh:badstart', 'start: the %s result has no parameter ''%s''', ...
+             what, S.names{k});
+    end
+    E(k, :) = P(j, :);
+  end
+  % members strictly inside the bounds, with finite values and weights
+  ok = all (isfinite (E), 1)' & isfinite (w) & w >= 0;
+  ok = ok & all (E > S.lo | S.lo == -Inf, 1)' & all (E < S.hi | S.hi == Inf, 1)';
+  if (~any (ok) || ~(sum (w(ok)) > 0))
+    error ('sluice:pmmh:badstart', ...
+           'start: no member of the %s result lies inside the bounds of the prior', what);
+  end
+  E = E(:, ok);
+  w = w(ok) / sum (w(ok));
+end
+
+% Continuing a run: the earlier result's options and chain states.
+function S = setup_resume (S, prev)
+  d = numel (S.free);
+  if (~isequal (prev.names, S.names) || ~isequal (prev.lower, S.lo) || ...
+      ~isequal (prev.upper, S.hi) || ~isequal (size (prev.chain_state), [1 S.opts.chains]) || ...
+      ~isequal (size (prev.chain_state(1).z), [d 1]))
+    error ('sluice:pmmh:badcontinue', ...
+           'continue: the earlier run sampled other parameters (%s) than this prior gives (%s)', ...
+           strjoin (prev.names(:)', ', '), strjoin (S.names', ', '));
+  end
+  S.start_kind = 'continued';
+  S.resume = prev.chain_state;
+  S.from = prev.burnin + prev.iterations + 1;
+  S.to = prev.burnin + prev.iterations + S.opts.iterations;
 end
 
 function C = check_proposal (C, d)
@@ -703,12 +1087,35 @@ function h = seed_hash (seed, k)
   h = mod (h1, 2^31) * 2^21 + mod (h2, 2^21);
 end
 
-function opts = parse_options (args)
+function [opts, prev] = parse_options (args)
   opts = struct ('members', 500, 'chains', 4, 'iterations', 2000, 'burnin', 500, ...
                  'thin', 1, 'proposal', [], 'adapt', true, 'adapt_start', [], ...
-                 'adapt_end', [], 'adapt_eps', 1e-10, 'seed', 1, 'filter', [], ...
-                 'parallel', 'auto', 'workers', sluice.kernel.compat ('nproc'), 'progress', false);
+                 'adapt_end', [], 'adapt_eps', 1e-10, 'target_acceptance', [], ...
+                 'start', [], 'continue', [], 'max_rhat', 1.05, 'min_ess', 400, ...
+                 'seed', 1, 'filter', [], 'parallel', 'auto', ...
+                 'workers', sluice.kernel.compat ('nproc'), 'progress', false);
   opts = sluice.kernel.name_value (opts, args, 'pmmh');
+  prev = opts.continue;
+  if (~isempty (prev) || ~isnumeric (prev))
+    % continuing: the earlier run's options, and only these may change
+    check_previous (prev);
+    given = sluice.kernel.option_pairs (args);
+    given = given(1:2:end);
+    may = {'continue', 'iterations', 'parallel', 'workers', 'progress', 'max_rhat', 'min_ess'};
+    other = setdiff (given, may);
+    if (~isempty (other))
+      error ('sluice:pmmh:badcontinue', ...
+             ['continue: option ''%s'' cannot change when a run is continued ', ...
+              '(only %s can)'], other{1}, strjoin (may(2:end), ', '));
+    end
+    o2 = prev.options;
+    for k = 1:numel (given)
+      o2.(given{k}) = opts.(given{k});
+    end
+    o2.start = [];
+    o2.continue = [];
+    opts = parse_options ({o2});
+  end
   opts.members = whole (opts.members, 'members', 1, 2^31, 'badoption');
   opts.chains = whole (opts.chains, 'chains', 1, 1024, 'badoption');
   opts.iterations = whole (opts.iterations, 'iterations', 1, 2^40, 'baditerations');
@@ -735,6 +1142,27 @@ function opts = parse_options (args)
   if (~(isa (e, 'double') && isreal (e) && isscalar (e) && isfinite (e) && e > 0))
     error ('sluice:pmmh:badoption', 'adapt_eps must be a finite real number > 0');
   end
+  t = opts.target_acceptance;
+  if (~isempty (t) && ~(isa (t, 'double') && isreal (t) && isscalar (t) && t > 0 && t < 1))
+    error ('sluice:pmmh:badoption', ...
+           'target_acceptance must be a real number strictly between 0 and 1, got %s', ...
+           sluice.kernel.describe (t, 'value'));
+  end
+  t = opts.max_rhat;
+  if (~(isa (t, 'double') && isreal (t) && isscalar (t) && t > 1 && t < Inf))
+    error ('sluice:pmmh:badoption', 'max_rhat must be a finite real number > 1, got %s', ...
+           sluice.kernel.describe (t, 'value'));
+  end
+  t = opts.min_ess;
+  if (~(isa (t, 'double') && isreal (t) && isscalar (t) && t >= 0 && t < Inf))
+    error ('sluice:pmmh:badoption', 'min_ess must be a finite real number >= 0, got %s', ...
+           sluice.kernel.describe (t, 'value'));
+  end
+  if (~isempty (opts.start) && ~isnumeric (opts.start) && ~isstruct (opts.start))
+    error ('sluice:pmmh:badstart', ...
+           'start: expected a matrix of starting values or a sluice.filter or sluice.esmda result, got %s', ...
+           sluice.kernel.describe (opts.start));
+  end
   p = opts.parallel;
   if (ischar (p) && strcmp (p, 'auto'))
     opts.parallel = 'auto';
@@ -744,6 +1172,21 @@ function opts = parse_options (args)
     error ('sluice:pmmh:badoption', 'parallel must be ''auto'', true or false');
   end
   opts.workers = whole (opts.workers, 'workers', 1, 1024, 'badoption');
+end
+
+function check_previous (prev)
+  need = {'chain_state', 'options', 'names', 'samples', 'loglik', 'logpost', 'burnin', ...
+          'iterations', 'lower', 'upper', 'start', 'filter_calls', 'time', 'degenerate', ...
+          'outside', 'nonfinite_runs', 'chain_time', 'filter_time'};
+  state = {'x', 'z', 'll', 'lp', 'lj', 's', 'k', 'base', 'learned', 'hist', 'hacc', ...
+           'acc_burn', 'acc_post', 'iteration', 'cov'};
+  if (~isstruct (prev) || ~isscalar (prev) || ~all (isfield (prev, need)) || ...
+      ~isstruct (prev.chain_state) || isempty (prev.chain_state) || ...
+      ~all (isfield (prev.chain_state, state)) || ~isstruct (prev.options))
+    error ('sluice:pmmh:badcontinue', ...
+           'continue: expected the result of an earlier sluice.pmmh run, got %s', ...
+           sluice.kernel.describe (prev));
+  end
 end
 
 function v = whole (v, what, lo, hi, reason)
@@ -807,6 +1250,85 @@ end
 %!               '''filter'', struct (''t0'', 0))']);
 %! assert (numel (strfind (txt, 'pmmh chain 1:')), 10);
 
+%!test
+%! % continuing a run gives exactly the chains of one longer run: the same
+%! % states, seeds and frozen proposal, samples appended (thinning counted
+%! % over all calls)
+%! warning ('off', 'sluice:pmmh:notconverged', 'local');
+%! warning ('off', 'sluice:pmmh:lowess', 'local');
+%! o = {'members', 20, 'chains', 2, 'burnin', 10, 'seed', 4, 'parallel', false, ...
+%!      'filter', struct('t0', 0, 'state_noise', 1)};
+%! r0 = sluice.pmmh (spec, pr, obs, o{:}, 'iterations', 16, 'thin', 2);
+%! r1 = sluice.pmmh (spec, pr, obs, o{:}, 'iterations', 7, 'thin', 2);
+%! r2 = sluice.pmmh (spec, pr, obs, 'continue', r1, 'iterations', 9);
+%! assert (r2.samples, r0.samples, 0);
+%! assert (r2.loglik, r0.loglik, 0);
+%! assert (r2.acceptance, r0.acceptance, 0);
+%! assert (r2.proposal, r0.proposal, 0);
+%! assert (r2.start, r0.start, 0);
+%! assert (r2.filter_calls, r0.filter_calls);
+%! assert ([r2.iterations, r2.burnin], [16, 10]);
+%! % continual adaptation (adapt_end Inf) carries the adaptation state too
+%! r0 = sluice.pmmh (spec, pr, obs, o{:}, 'iterations', 12, 'adapt_end', Inf);
+%! r1 = sluice.pmmh (spec, pr, obs, o{:}, 'iterations', 5, 'adapt_end', Inf);
+%! r2 = sluice.pmmh (spec, pr, obs, 'continue', r1, 'iterations', 7);
+%! assert (r2.samples, r0.samples, 0);
+%! assert (r2.proposal, r0.proposal, 0);
+
+%!test
+%! % user starts: one column for all chains, or one per chain
+%! warning ('off', 'sluice:pmmh:notconverged', 'local');
+%! warning ('off', 'sluice:pmmh:lowess', 'local');
+%! o = {'members', 10, 'iterations', 4, 'burnin', 0, 'parallel', false, ...
+%!      'filter', struct('t0', 0)};
+%! r = sluice.pmmh (spec, pr, obs, o{:}, 'chains', 3, 'start', [0.1 -0.2 0.7]);
+%! assert (r.start, [0.1 -0.2 0.7]);
+%! r = sluice.pmmh (spec, pr, obs, o{:}, 'chains', 2, 'start', 0.25);
+%! assert (r.start, [0.25 0.25]);
+
+%!test
+%! % the verdict: too short a run warns with its numbers and says so
+%! % (the warnings stay on: a disabled warning does not reach lastwarn)
+%! o = {'members', 10, 'chains', 2, 'iterations', 40, 'burnin', 0, 'seed', 2, ...
+%!      'parallel', false, 'filter', struct('t0', 0)};
+%! lastwarn ('');
+%! r = sluice.pmmh (spec, pr, obs, o{:});
+%! [msg, id] = lastwarn ();
+%! assert (id, 'sluice:pmmh:lowess');
+%! assert (~isempty (strfind (msg, sprintf ('%.1f', r.summary.ess_bulk))));
+%! assert (r.converged, false);
+%! assert ([r.max_rhat, r.min_ess], [1.05 400]);
+%! % with the limits set so that R-hat fails (any R-hat exceeds 1 + 1e-9
+%! % unless the chains agree exactly) and ESS passes
+%! lastwarn ('');
+%! r = sluice.pmmh (spec, pr, obs, o{:}, 'max_rhat', 1 + 1e-9, 'min_ess', 0);
+%! [msg, id] = lastwarn ();
+%! assert (id, 'sluice:pmmh:notconverged');
+%! assert (~isempty (strfind (msg, sprintf ('a %.3g', r.summary.rhat))));
+%! assert (r.converged, false);
+%! % generous limits: no warning, converged
+%! lastwarn ('');
+%! r = sluice.pmmh (spec, pr, obs, o{:}, 'max_rhat', 1e6, 'min_ess', 0);
+%! assert (lastwarn (), '');
+%! assert (r.converged, true);
+
+%!test
+%! % starts from an ES-MDA or a particle-filter posterior: dispersed draws
+%! % around its ensemble, inside the support, one per chain
+%! warning ('off', 'sluice:pmmh:notconverged', 'local');
+%! warning ('off', 'sluice:pmmh:lowess', 'local');
+%! fo = struct ('t0', 0, 'state_noise', 1);
+%! post = struct ('names', {{'a'; 'b'}}, 'P', [0.3 + 0.05 * (-2:2); ones(1, 5)]);
+%! o = {'members', 10, 'chains', 3, 'iterations', 4, 'burnin', 0, 'parallel', false, 'filter', fo};
+%! r = sluice.pmmh (spec, pr, obs, o{:}, 'start', post);
+%! assert (all (r.start > -1 & r.start < 1));
+%! assert (numel (unique (r.start)), 3);
+%! f = sluice.filter (spec, sluice.prior ('a', 'uniform', [-1 1], 'x', 'normal', [0 1]), ...
+%!                    obs, 'members', 50, 'seed', 3, 't0', 0, 'state_noise', 1);
+%! r = sluice.pmmh (spec, pr, obs, o{:}, 'start', f);
+%! assert (all (r.start > -1 & r.start < 1));
+%! assert (numel (unique (r.start)), 3);
+
 %!error <Invalid call> sluice.pmmh ()
 %!error <Invalid call> sluice.pmmh (spec, pr)
 %!error id=sluice:pmmh:badmodel sluice.pmmh (3, pr, obs)
@@ -856,6 +1378,66 @@ end
 %!error id=sluice:pmmh:badoption sluice.pmmh (spec, pr, obs, 'adapt_start', 10, 'adapt_end', 5)
 %!error id=sluice:pmmh:badoption sluice.pmmh (spec, pr, obs, 'adapt_end', -Inf)
 %!error id=sluice:pmmh:badoption sluice.pmmh (spec, pr, obs, 'speed', 2)
+%!error id=sluice:pmmh:badoption sluice.pmmh (spec, pr, obs, 'target_acceptance', 0)
+%!error id=sluice:pmmh:badoption sluice.pmmh (spec, pr, obs, 'target_acceptance', 1)
+%!error id=sluice:pmmh:badoption sluice.pmmh (spec, pr, obs, 'target_acceptance', -0.2)
+%!error id=sluice:pmmh:badoption sluice.pmmh (spec, pr, obs, 'target_acceptance', NaN)
+%!error id=sluice:pmmh:badoption sluice.pmmh (spec, pr, obs, 'target_acceptance', [0.2 0.3])
+%!error id=sluice:pmmh:badoption sluice.pmmh (spec, pr, obs, 'target_acceptance', '0.2')
+%!error id=sluice:pmmh:badoption sluice.pmmh (spec, pr, obs, 'target_acceptance', 0.2i)
+%!error id=sluice:pmmh:badoption sluice.pmmh (spec, pr, obs, 'max_rhat', 1)
+%!error id=sluice:pmmh:badoption sluice.pmmh (spec, pr, obs, 'max_rhat', Inf)
+%!error id=sluice:pmmh:badoption sluice.pmmh (spec, pr, obs, 'max_rhat', {1.1})
+%!error id=sluice:pmmh:badoption sluice.pmmh (spec, pr, obs, 'min_ess', -1)
+%!error id=sluice:pmmh:badoption sluice.pmmh (spec, pr, obs, 'min_ess', NaN)
+%!error id=sluice:pmmh:badoption sluice.pmmh (spec, pr, obs, 'adapt_start', -5)
+%!error id=sluice:pmmh:badoption sluice.pmmh (spec, pr, obs, 'adapt_end', 2.5)
+%!error id=sluice:pmmh:badoption sluice.pmmh (spec, pr, obs, 'adapt_eps', -1)
+%!error id=sluice:pmmh:badoption sluice.pmmh (spec, pr, obs, 'adapt_eps', Inf)
+%!error id=sluice:pmmh:badstart sluice.pmmh (spec, pr, obs, 'start', 1.5)
+%!error id=sluice:pmmh:badstart sluice.pmmh (spec, pr, obs, 'start', -1)
+%!error id=sluice:pmmh:badstart sluice.pmmh (spec, pr, obs, 'start', NaN)
+%!error id=sluice:pmmh:badstart sluice.pmmh (spec, pr, obs, 'start', Inf)
+%!error id=sluice:pmmh:badstart sluice.pmmh (spec, pr, obs, 'chains', 2, 'start', [0.1 0.2 0.3])
+%!error id=sluice:pmmh:badstart sluice.pmmh (spec, pr, obs, 'start', [0.1; 0.2])
+%!error id=sluice:pmmh:badstart sluice.pmmh (spec, pr, obs, 'start', single (0.1))
+%!error id=sluice:pmmh:badstart sluice.pmmh (spec, pr, obs, 'start', 0.1i)
+%!error id=sluice:pmmh:badstart sluice.pmmh (spec, pr, obs, 'start', int8 (0))
+%!error id=sluice:pmmh:badstart sluice.pmmh (spec, pr, obs, 'start', {0.1})
+%!error id=sluice:pmmh:badstart sluice.pmmh (spec, pr, obs, 'start', 'a')
+%!error id=sluice:pmmh:badstart sluice.pmmh (spec, pr, obs, 'start', struct ('x', 1))
+%!error id=sluice:pmmh:badstart sluice.pmmh (spec, pr, obs, 'start', struct ('names', {{'b'}}, 'P', 1))
+%!error id=sluice:pmmh:badstart sluice.pmmh (spec, pr, obs, 'start', struct ('names', {{'a'}}, 'P', 3))
+%!error id=sluice:pmmh:badstart sluice.pmmh (spec, pr, obs, 'start', struct ('names', {{'a'}}, 'P', {1, 2}))
+%!error id=sluice:pmmh:badstart sluice.pmmh (spec, pr, obs, 'start', struct ('names', {{'a'}}, 'P', 'x'))
+%!error id=sluice:pmmh:badstart
+%! % a start inside the bounds [-2 2] but outside the prior's support
+%! p2 = sluice.prior ('a', 'truncnormal', [0 1 -0.5 0.5], 'bounds', [-2 2], 'x', 'normal', [0 1]);
+%! sluice.pmmh (spec, p2, obs, 'start', 0.9);
+%!error id=sluice:pmmh:badstart
+%! % a start where the filter explains nothing
+%! f = @(t, X, P, U, dt) P(1, :) .* X + 0 ./ (P(1, :) < 0.7);
+%! s2 = sluice.model (f, 'states', {'x'}, 'params', {'a'});
+%! sluice.pmmh (s2, pr, obs, 'members', 5, 'chains', 1, 'iterations', 2, 'burnin', 0, ...
+%!              'start', 0.9, 'filter', struct ('t0', 0));
+%!error id=sluice:pmmh:badcontinue sluice.pmmh (spec, pr, obs, 'continue', 3)
+%!error id=sluice:pmmh:badcontinue sluice.pmmh (spec, pr, obs, 'continue', struct ('names', 1))
+%!error id=sluice:pmmh:badcontinue
+%! warning ('off', 'all', 'local');
+%! o = {'members', 10, 'chains', 1, 'iterations', 4, 'burnin', 0, 'filter', struct('t0', 0)};
+%! r = sluice.pmmh (spec, pr, obs, o{:});
+%! sluice.pmmh (spec, pr, obs, 'continue', r, 'members', 20);
+%!error id=sluice:pmmh:badcontinue
+%! warning ('off', 'all', 'local');
+%! o = {'members', 10, 'chains', 1, 'iterations', 4, 'burnin', 0, 'filter', struct('t0', 0)};
+%! r = sluice.pmmh (spec, pr, obs, o{:});
+%! sluice.pmmh (spec, sluice.prior ('a', 'uniform', [-0.9 1]), obs, 'continue', r);
+%!error id=sluice:pmmh:badcontinue
+%! warning ('off', 'all', 'local');
+%! o = {'members', 10, 'chains', 1, 'iterations', 4, 'burnin', 0, 'filter', struct('t0', 0)};
+%! r = sluice.pmmh (spec, pr, obs, o{:});
+%! r.chain_state = 1;
+%! sluice.pmmh (spec, pr, obs, 'continue', r);
 %!error id=sluice:pmmh:badoption sluice.pmmh (spec, pr, obs, 'iterations')
 %!error id=sluice:pmmh:badoption sluice.pmmh (spec, pr, obs, 'filter', 3)
 %!error id=sluice:pmmh:badoption sluice.pmmh (spec, pr, obs, 'filter', struct ('members', 10))

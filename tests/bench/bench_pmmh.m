@@ -7,6 +7,9 @@ function bench_pmmh ()
   % iterations, and splits the cost of one filter call into the compiled
   % run and the .m code around it.
   warning ('off', 'sluice:filter:nonfinite');
+  % short chains: the convergence warnings would only repeat the figures below
+  warning ('off', 'sluice:pmmh:notconverged');
+  warning ('off', 'sluice:pmmh:lowess');
   % other work on the machine slows the wall-clock figures: say how busy it was
   load_text = 'unknown';
   fid = fopen ('/proc/loadavg', 'r');
@@ -106,6 +109,10 @@ function bench_pmmh ()
             t_job / toc (t0));
   end
   printf ('     acceptance after burn-in         %s\n', sprintf ('%.2f ', rs.acceptance));
+  % the cost of an effective draw: filter calls (burn-in included) per
+  % bulk effective sample of the worst-mixing parameter
+  printf ('     likelihood evaluations per effective sample %8.1f  (bulk ESS %s; short chains: rough)\n', ...
+          rs.filter_calls / min (rs.summary.ess_bulk), sprintf ('%.0f ', rs.summary.ess_bulk));
   printf ('     posterior means (short chains)   muS %.3f, lambdaP %.3f (truth %.3f, %.3f)\n', ...
           mean (vec (rs.samples(:, 1, :))), mean (vec (rs.samples(:, 2, :))), ...
           p_true(i_mu), p_true(i_la));
