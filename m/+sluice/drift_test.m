@@ -143,10 +143,7 @@ function res = drift_test (model, prior, obs, names, steps, varargin)
       if (strncmp (id, 'sluice:evidence:', 16))
         id = ['sluice:drift_test:' id(17:end)];
       end
-      if (isempty (id))
-        error ('%s', err.message);
-      end
-      error (id, '%s', err.message);
+      sluice.kernel.raise_again (id, 'sluice:drift_test:failed', err.message);
     end
     runs(k) = ev;
     lz(k) = ev.log_evidence;

@@ -253,7 +253,8 @@ function Z = analysis (Z, Y, y, R, seed, cycle, threads)
                      'threads', threads);
   catch err
     id = strrep (err.identifier, 'sluice:enkf:', 'sluice:esmda:');
-    error (id, 'iteration %d: %s', cycle, regexprep (err.message, '^enkf: ', ''));
+    sluice.kernel.raise_again (id, 'sluice:esmda:failed', ...
+                               sprintf ('iteration %d: %s', cycle, regexprep (err.message, '^enkf: ', '')));
   end
 end
 
@@ -285,7 +286,7 @@ function P = draw_prior (prior, N, seed)
     P = sluice.draw (prior, N, seed);
   catch err
     id = strrep (err.identifier, 'sluice:draw:', 'sluice:esmda:');
-    error (id, '%s', regexprep (err.message, '^draw: ', ''));
+    sluice.kernel.raise_again (id, 'sluice:esmda:failed', regexprep (err.message, '^draw: ', ''));
   end
 end
 

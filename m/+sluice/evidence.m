@@ -113,10 +113,7 @@ function ev = evidence (model, prior, obs, varargin)
       if (strncmp (id, 'sluice:filter:', 14))
         id = ['sluice:evidence:' id(15:end)];
       end
-      if (isempty (id))
-        error ('%s', err.message);
-      end
-      error (id, '%s', err.message);
+      sluice.kernel.raise_again (id, 'sluice:evidence:failed', err.message);
     end
     values(r) = res.log_evidence;
     members = res.members;

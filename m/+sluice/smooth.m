@@ -166,7 +166,7 @@ function s = run_kernel (varargin)
     for k = 1:numel (from)
       msg = regexprep (msg, from{k}, to{k});
     end
-    error (err.identifier, '%s', msg);
+    sluice.kernel.raise_again (err.identifier, 'sluice:smooth:failed', msg);
   end
 end
 

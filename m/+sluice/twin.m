@@ -166,7 +166,7 @@ function res = twin (model, truth, network, varargin)
     if (strncmp (id, 'sluice:simulate:', 16))
       id = ['sluice:twin:' id(17:end)];
     end
-    error (id, 'the truth run failed: %s', err.message);
+    sluice.kernel.raise_again (id, 'sluice:twin:failed', ['the truth run failed: ' err.message]);
   end
   truth_all = [Xall; repmat(params(:), 1, numel (tall))];
   if (~isempty (ops.names))

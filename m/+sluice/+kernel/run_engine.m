@@ -17,9 +17,6 @@ function r = run_engine (model, c)
   catch err
     % the gateway's name is an internal detail: drop Octave's prefix
     msg = regexprep (err.message, '^(pf_run|[A-Za-z]\w*_run): ', '');
-    if (isempty (err.identifier))
-      error ('%s', msg);
-    end
-    error (err.identifier, '%s', msg);
+    sluice.kernel.raise_again (err.identifier, 'sluice:filter:failed', msg);
   end
 end

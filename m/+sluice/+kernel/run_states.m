@@ -37,7 +37,7 @@ function X = run_states (model, X0, P0, t0, times, forcing, opts, fn)
     if (strncmp (id, 'sluice:filter:', 14))
       id = ['sluice:' fn ':' id(15:end)];
     end
-    error (id, '%s', err.message);
+    sluice.kernel.raise_again (id, ['sluice:' fn ':failed'], err.message);
   end
   X = r.history_X;
   if (any (r.nonfinite > 0))
