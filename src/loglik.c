@@ -1,6 +1,7 @@
 /* loglik.c - observation log-likelihoods of six families, per ensemble member. */
 #include "sluice/loglik.h"
 
+#include <float.h>
 #include <math.h>
 #include <stdio.h>
 #include <stdlib.h>
@@ -34,6 +35,11 @@ static void add_constant(double v, size_t n, double *ll)
 }
 
 static int positive_finite(double v) { return isfinite(v) && v > 0; }
+
+/* An error scale must be a finite normal double: below DBL_MIN (a
+   subnormal) 1/sigma overflows and the log-likelihood comes out NaN or
+   -Inf (IEEE 754 binary64: DBL_MIN = 2^-1022 is the smallest normal). */
+static int scale_ok(double v) { return isfinite(v) && v >= DBL_MIN; }
 
 static int whole_count(double v)
 {
@@ -91,7 +97,7 @@ static void gaussian_rows(double y, double sigma, double aux, const double *h,
     double is, c;
     size_t j;
     (void)aux;
-    if (!positive_finite(sigma)) {
+    if (!scale_ok(sigma)) {
         add_constant(NOT_A_NUMBER, n, ll);
         return;
     }
@@ -113,7 +119,7 @@ static void lognormal_rows(double y, double sigma, double aux, const double *h,
     double ly, is, c;
     size_t j;
     (void)aux;
-    if (!positive_finite(sigma)) {
+    if (!scale_ok(sigma)) {
         add_constant(NOT_A_NUMBER, n, ll);
         return;
     }
@@ -143,7 +149,7 @@ static void student_t_rows(double y, double sigma, double aux, const double *h,
     const double nu = aux;
     double is, inu, e, c;
     size_t j;
-    if (!positive_finite(sigma) || !positive_finite(nu)) {
+    if (!scale_ok(sigma) || !positive_finite(nu)) {
         add_constant(NOT_A_NUMBER, n, ll);
         return;
     }
@@ -237,7 +243,7 @@ static void censored_rows(double y, double sigma, double aux, const double *h,
     const double limit = aux;
     double is;
     size_t j;
-    if (!positive_finite(sigma) || !isfinite(limit) || isnan(y)) {
+    if (!scale_ok(sigma) || !isfinite(limit) || isnan(y)) {
         add_constant(NOT_A_NUMBER, n, ll);
         return;
     }
@@ -376,9 +382,11 @@ sl_status sl_loglik_check(size_t m, const double *y, const double *sigma,
         f = &families[family[i]];
         if (f->type.uses_sigma) {
             const double s = sigma != NULL ? sigma[i] : NOT_A_NUMBER;
-            if (!positive_finite(s))
+            if (!scale_ok(s))
                 return sl_fail(err, SL_EINVAL, "badsigma",
-                               "observation %lu: sigma must be finite and > 0, got %s",
+                               "observation %lu: sigma must be finite and at least "
+                               "2.2250738585072014e-308 (the smallest normal "
+                               "double), got %s",
                                row, show(s, b1, sizeof b1));
         }
         if (f->aux_ok != NULL) {

@@ -3,6 +3,7 @@
 #include "sluice/loglik.h"
 
 #include <errno.h>
+#include <float.h>
 #include <math.h>
 #include <stdint.h>
 #include <stdio.h>
@@ -204,10 +205,13 @@ static sl_status check_row(size_t line, double t, int have_prev, double prev,
                        "line %zu, column value: the value is infinite "
                        "(NaN or an empty field marks a missing value)",
                        line);
-    if (sl_family_get(fam)->uses_sigma && !(isfinite(sigma) && sigma > 0))
+    /* a subnormal sigma (below DBL_MIN, IEEE 754 binary64) makes the
+       log-likelihood NaN or -Inf: refused like 0 */
+    if (sl_family_get(fam)->uses_sigma && !(isfinite(sigma) && sigma >= DBL_MIN))
         return sl_fail(err, SL_EINVAL, "badsigma",
-                       "line %zu, column sigma: sigma must be finite and > 0 "
-                       "for a %s observation, got %g",
+                       "line %zu, column sigma: sigma must be finite and at "
+                       "least 2.2250738585072014e-308 (the smallest normal "
+                       "double) for a %s observation, got %g",
                        line, sl_family_get(fam)->name, sigma);
     return SL_OK;
 }

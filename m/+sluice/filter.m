@@ -890,6 +890,7 @@ end
 %!error id=sluice:filter:badmethod sluice.filter (m, pr, obs, 'method', 'nope')
 %!error <row 2: unknown variable 'flow'> o = obs; o.variable{2} = 'flow'; sluice.filter (m, pr, o)
 %!error id=sluice:filter:badobs o = obs; o.sigma(4) = 0; sluice.filter (m, pr, o)
+%!error <smallest normal double> o = obs; o.sigma(4) = 1e-320; sluice.filter (m, pr, o)
 
 %!demo
 %! % Lowmarsh, an invented town on the invented river Vell: twenty years of

@@ -58,7 +58,8 @@
 % Errors have identifiers @code{sluice:loglik:@var{reason}}:
 % @code{badclass}, @code{badsize} and @code{empty} for arguments of the wrong
 % class or shape; @code{badfamily} for an unknown family name;
-% @code{badsigma} for a @var{sigma} that is not finite and > 0;
+% @code{badsigma} for a @var{sigma} that is not finite and at least
+% @code{realmin} (a subnormal scale makes the log-likelihood NaN);
 % @code{badaux} for a bad number of degrees of freedom, trials or limit;
 % @code{badvalue} for an infinite value or one outside the family's support;
 % @code{missingaux} when @var{aux} is needed but not given.  Messages about a
@@ -288,12 +289,14 @@ end
 %!error id=sluice:loglik:badsize sluice.loglik ('gaussian', [1 2], ones (2, 2), ones (2, 2))
 %!error id=sluice:loglik:empty sluice.loglik ('gaussian', 1, 1, [])
 %!error id=sluice:loglik:badsigma sluice.loglik ('gaussian', 1, 1, 0)
+%!error id=sluice:loglik:badsigma sluice.loglik ('gaussian', 1, 1, 1e-320)
+%!error id=sluice:loglik:badsigma sluice.loglik ('student_t', [1 2], ones (2, 1), [1 1e-310], 4)
 %!error id=sluice:loglik:badsigma sluice.loglik ('gaussian', [1 2 3], ones (3, 1), [1 1 -1])
 %!error id=sluice:loglik:badsigma sluice.loglik ('gaussian', 1, 1, NaN)
 %!error id=sluice:loglik:badsigma sluice.loglik ('student_t', 1, 1, Inf, 4)
 %!error id=sluice:loglik:badsigma sluice.loglik ('censored', 1, 1, -Inf, 0)
 %!error id=sluice:loglik:badsigma sluice.loglik ('lognormal', 1, 1, -0.5)
-%!error <observation 3: sigma must be finite and \S 0, got -1$> sluice.loglik ('gaussian', [1 2 3], ones (3, 1), [1 1 -1])
+%!error <observation 3: sigma must be finite and at least 2.2250738585072014e-308 \(the smallest normal double\), got -1$> sluice.loglik ('gaussian', [1 2 3], ones (3, 1), [1 1 -1])
 %!error id=sluice:loglik:badsigma sluice.loglik ('gaussian', NaN, 1, NaN)
 
 % aux: class, size, empty, values

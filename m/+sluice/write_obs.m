@@ -5,7 +5,7 @@
 % @var{obs} is a struct of column vectors as @code{sluice.filter} takes
 % it: @code{time} (in the model's time units, finite, non-decreasing),
 % @code{variable} (cellstr of names), @code{value} (NaN = missing) and
-% @code{sigma} (in the units of @code{value}; finite and > 0 except on
+% @code{sigma} (in the units of @code{value}; finite and >= realmin except on
 % @code{poisson} and @code{binomial} rows), optionally @code{family}
 % (cellstr, or one name for every row), @code{n}, @code{dof}, @code{limit}
 % and any other numeric column. The file has a header row with the field
@@ -97,8 +97,10 @@ end
 %! f = [tempname() '.csv'];
 
 %!test
-%! obs = struct ('time', [0; 1; 1; 2], 'variable', {{'h'; 'q'; 'h, x'; ' h'}}, ...
-%!               'value', [1.5; -0; pi; 1e308], 'sigma', [0.1; 2; 1/3; 5e-324]);
+%! % (a subnormal value round-trips; sigma at its floor, realmin)
+%! obs = struct ('time', [0; 1; 1; 2; 3], 'variable', {{'h'; 'q'; 'h, x'; ' h'; 'h'}}, ...
+%!               'value', [1.5; -0; pi; 1e308; 5e-324], ...
+%!               'sigma', [0.1; 2; 1/3; realmin; 1]);
 %! sluice.write_obs (f, obs);
 %! back = sluice.read_obs (f);
 %! delete (f);
@@ -129,6 +131,7 @@ end
 %!error id=sluice:write_obs:badobs sluice.write_obs (f, struct ('time', [1 2], 'variable', {{'h'; 'h'}}, 'value', [1 2], 'sigma', [1 1], 'family', {{'gaussian'}}))
 %!error id=sluice:write_obs:badtime sluice.write_obs (f, struct ('time', NaN, 'variable', 'h', 'value', 1, 'sigma', 1))
 %!error id=sluice:write_obs:badsigma sluice.write_obs (f, struct ('time', 1, 'variable', 'h', 'value', 1, 'sigma', 0))
+%!error id=sluice:write_obs:badsigma sluice.write_obs (f, struct ('time', 1, 'variable', 'h', 'value', 1, 'sigma', 1e-320))
 %!error id=sluice:write_obs:badnumber sluice.write_obs (f, struct ('time', 1, 'variable', 'h', 'value', Inf, 'sigma', 1))
 %!error id=sluice:write_obs:badfamily sluice.write_obs (f, struct ('time', 1, 'variable', 'h', 'value', 1, 'sigma', 1, 'family', 'normal'))
 %!error <line 3, column time> sluice.write_obs (f, struct ('time', [2 1], 'variable', {{'h', 'h'}}, 'value', [1 1], 'sigma', [1 1]))

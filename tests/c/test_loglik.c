@@ -390,7 +390,9 @@ int main(void)
             st = sl_loglik_check(3, ys, ss, NULL, fs, &err);
             CHECK(st == SL_EINVAL && strcmp(err.reason, "badsigma") == 0 &&
                       strcmp(err.message,
-                             "observation 3: sigma must be finite and > 0, got -1") == 0,
+                             "observation 3: sigma must be finite and at least "
+                             "2.2250738585072014e-308 (the smallest normal "
+                             "double), got -1") == 0,
                   "badsigma message: '%s'", err.message);
             CHECK(err.status == SL_EINVAL, "error record carries the status");
         }
@@ -401,6 +403,12 @@ int main(void)
         expect_fail(SL_FAMILY_LOGNORMAL, 1, nan, 0, "badsigma", "sigma NaN");
         expect_fail(SL_FAMILY_STUDENT_T, 1, inf, 4, "badsigma", "sigma Inf");
         expect_fail(SL_FAMILY_CENSORED, 1, -inf, 0, "badsigma", "sigma -Inf");
+        /* subnormal scales: 1/sigma overflows and the log-likelihood
+           comes out NaN or -Inf, so they are refused like 0 */
+        expect_fail(SL_FAMILY_GAUSSIAN, 1, 1e-320, 0, "badsigma", "sigma 1e-320");
+        expect_fail(SL_FAMILY_LOGNORMAL, 1, 1e-310, 0, "badsigma", "sigma 1e-310");
+        expect_fail(SL_FAMILY_STUDENT_T, 1, 4.9e-324, 4, "badsigma", "sigma 4.9e-324");
+        expect_fail(SL_FAMILY_CENSORED, 1, 2e-308, 0, "badsigma", "sigma 2e-308");
         expect_fail(SL_FAMILY_STUDENT_T, 1, 1, 0, "badaux", "dof 0");
         expect_fail(SL_FAMILY_STUDENT_T, 1, 1, -4, "badaux", "dof < 0");
         expect_fail(SL_FAMILY_STUDENT_T, 1, 1, nan, "badaux", "dof NaN");

@@ -174,6 +174,7 @@ int main(void)
     expect_error("time,variable,value,sigma\n0,x\"y,1,1\n", "badfield", "line 2, column variable");
     expect_error("time,variable,value,sigma\n0,\"x,1,1\n", "badfield", "line 2, column variable");
     expect_error("time,variable,value,sigma\n0,x,1,0\n", "badsigma", "line 2, column sigma");
+    expect_error("time,variable,value,sigma\n0,x,1,1e-320\n", "badsigma", "line 2, column sigma");
     expect_error("time,variable,value,sigma\n0,x,1,-1\n", "badsigma", "line 2, column sigma");
     expect_error("time,variable,value,sigma\n0,x,1,\n", "badsigma", "line 2, column sigma");
     expect_error("time,variable,value,sigma\n0,x,1,Inf\n", "badsigma", "line 2, column sigma");

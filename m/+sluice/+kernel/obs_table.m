@@ -90,9 +90,11 @@ function tab = obs_table (obs, names, t0, fn, ordered)
       error (id, 'observation row %d: value is infinite', i);
     end
     if (~any (strcmp (tab.family{i}, {'poisson', 'binomial'})) && ...
-        ~(isfinite (tab.sigma(i)) && tab.sigma(i) > 0))
-      error (id, ...
-             'observation row %d: sigma must be finite and > 0, got %g', i, tab.sigma(i));
+        ~(isfinite (tab.sigma(i)) && tab.sigma(i) >= realmin))
+      % below realmin (a subnormal double) 1/sigma overflows and the
+      % log-likelihood is NaN or -Inf: refused like 0
+      error (id, ['observation row %d: sigma must be finite and at least %.17g ', ...
+                  '(the smallest normal double), got %g'], i, tab.sigma(i), realmin);
     end
   end
 end
