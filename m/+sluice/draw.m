@@ -97,6 +97,7 @@ function [P, names] = draw (prior, N, seed)
       lo(k) = args(3);
       hi(k) = args(4);
     end
+    check_bounds (prior(k), k, name, dist, args);
   end
 
   if (~(isa (N, 'double') && isreal (N) && ~issparse (N) && isscalar (N) ...
@@ -116,7 +117,41 @@ function [P, names] = draw (prior, N, seed)
   P = sluice.kernel.draw (ids, a, b, lo, hi, N, seed);
 end
 
-
+function check_bounds (pr, k, name, dist, args)
+  % The bounds of an entry are what the filters transform with (log,
+  % logit) and clip to; sluice.prior makes them contain the support of
+  % the distribution, so every draw lies inside them. A hand-edited entry
+  % whose bounds cut into the support would get draws outside its bounds:
+  % refuse it rather than draw values the rest of sluice calls impossible.
+  lower = pr.lower;
+  upper = pr.upper;
+  if (~(isa (lower, 'double') && isa (upper, 'double') && isreal (lower) && isreal (upper) ...
+        && isscalar (lower) && isscalar (upper) && ~isnan (lower) && ~isnan (upper) ...
+        && lower <= upper))
+    error ('sluice:draw:badprior', ...
+           'argument 1 (prior): entry %d (''%s''): lower and upper must be real scalars with lower <= upper', ...
+           k, name);
+  end
+  switch (dist)
+    case 'uniform'
+      support = args(1:2);
+    case 'normal'
+      support = [-Inf Inf];
+    case 'lognormal'
+      support = [0 Inf];
+    case 'truncnormal'
+      support = args(3:4);
+    otherwise
+      support = [args(1) args(1)];
+  end
+  if (~(lower <= support(1) && upper >= support(2)))
+    error ('sluice:draw:badprior', ...
+           ['argument 1 (prior): entry %d (''%s''): the bounds [%g %g] must contain ', ...
+            'the support [%g %g] of the %s distribution (edit args, or remake the ', ...
+            'entry with sluice.prior and its bounds option)'], ...
+           k, name, lower, upper, support(1), support(2), dist);
+  end
+end
 
 %!shared pr
 %! pr = sluice.prior ('K', 'lognormal', [log(2.5) 0.4], ...
@@ -164,6 +199,20 @@ end
 %!error <Invalid call> sluice.draw (pr, 10)
 %!error <called with too many inputs> sluice.draw (pr, 10, 1, 2)
 %!error id=sluice:draw:badprior sluice.draw ([], 10, 1)
+%!test
+%! % bounds widened past the support are kept: the draws lie inside them
+%! q = sluice.prior ('a', 'uniform', [0.2 0.4], 'bounds', [0 1]);
+%! q.upper = 2;
+%! P = sluice.draw (q, 200, 3);
+%! assert (all (P >= 0.2 & P <= 0.4));
+%!error <must contain the support \[-Inf Inf\] of the normal> q = sluice.prior ('a', 'normal', [0 1]); q.lower = -1; q.upper = 1; sluice.draw (q, 10, 1)
+%!error id=sluice:draw:badprior q = sluice.prior ('a', 'uniform', [0 1]); q.upper = 0.5; sluice.draw (q, 10, 1)
+%!error id=sluice:draw:badprior q = sluice.prior ('a', 'lognormal', [0 1]); q.lower = 0.1; sluice.draw (q, 10, 1)
+%!error id=sluice:draw:badprior q = sluice.prior ('a', 'truncnormal', [0 1 -1 1]); q.lower = 0; sluice.draw (q, 10, 1)
+%!error id=sluice:draw:badprior q = sluice.prior ('a', 'fixed', 2); q.lower = 3; q.upper = 4; sluice.draw (q, 10, 1)
+%!error id=sluice:draw:badprior q = sluice.prior ('a', 'normal', [0 1]); q.lower = NaN; sluice.draw (q, 10, 1)
+%!error id=sluice:draw:badprior q = sluice.prior ('a', 'normal', [0 1]); q.lower = [1 2]; sluice.draw (q, 10, 1)
+%!error id=sluice:draw:badprior q = sluice.prior ('a', 'normal', [0 1]); q.upper = 'x'; sluice.draw (q, 10, 1)
 %!error id=sluice:draw:badprior sluice.draw (struct ('name', {}), 10, 1)
 %!error id=sluice:draw:badprior sluice.draw ({'a', 'normal', [0 1]}, 10, 1)
 %!error id=sluice:draw:badprior sluice.draw (1, 10, 1)
