@@ -1177,7 +1177,10 @@ sl_status sl_pf_run(const sl_pf_config *cfg, double *X, double *P, double *w,
         /* record */
         if (!cfg->no_summary)
             summarise(cfg, &b, Xc, Pc, w, out, k);
-        out->ess[k] = ess;
+        /* a particle-filter cycle where no member explains the data has
+         * no effective members: its weights are all zero, and the weights
+         * kept to go on with must not show it as a healthy ensemble */
+        out->ess[k] = cfg->enkf == NULL && degenerate ? 0.0 : ess;
         out->skipped[k] = (double)nskipped;
         out->nonfinite[k] = (double)ndead;
         out->degenerate[k] = degenerate;

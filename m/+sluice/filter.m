@@ -191,7 +191,7 @@
 % @code{states.quantiles} (n x nq x T), @code{params.mean},
 % @code{params.quantiles}, @code{quantile_levels}, @code{ess},
 % @code{resampled}, @code{degenerate} (cycles where no member explained
-% the data: the weights were kept and the evidence is -Inf),
+% the data: the weights were kept, the evidence is -Inf and the ESS 0),
 % @code{log_evidence} and its increments @code{log_evidence_steps},
 % @code{params.distinct} (p x T: distinct values of each parameter among
 % the members at the end of each cycle, after resampling and any move),

@@ -601,8 +601,8 @@ static void check_errors(void)
 
 /* Every member negative: a log-normal observation (log y ~ N(log h, s^2),
  * h <= 0 impossible) rules them all out at cycle 2. The run records the
- * cycle as degenerate with logz = -Inf, keeps the previous weights, and
- * goes on to cycle 3. */
+ * cycle as degenerate with logz = -Inf and ESS 0, keeps the previous
+ * weights, and goes on to cycle 3. */
 static void check_degenerate(void)
 {
     enum { N = 500, T = 3 };
@@ -654,9 +654,12 @@ static void check_degenerate(void)
         CHECK_CLOSE(s1, 1.0, 1e-12, "weights after the degenerate cycle sum to 1");
         CHECK_CLOSE(s2, 1.0, 1e-12, "final weights sum to 1");
         CHECK(dw <= 1e-15, "the degenerate cycle changed the weights by %g", dw);
-        CHECK(isfinite(r.out.mean[1]) && isfinite(r.out.ess[1]) &&
-              r.out.ess[1] > 0, "degenerate cycle: mean %g, ess %g",
-              r.out.mean[1], r.out.ess[1]);
+        /* no member explains the data: the ESS of the cycle's weights is
+         * 0, not that of the weights kept to go on with */
+        CHECK(isfinite(r.out.mean[1]) && r.out.ess[1] == 0.0 &&
+              r.out.ess[0] > 0 && r.out.ess[2] > 0,
+              "degenerate cycle: mean %g, ess %g %g %g", r.out.mean[1],
+              r.out.ess[0], r.out.ess[1], r.out.ess[2]);
         CHECK(r.out.steps == 3, "steps %lu", (unsigned long)r.out.steps);
     }
     run_free(&r);

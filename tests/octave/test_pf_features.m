@@ -121,6 +121,21 @@
 %! assert (r.log_evidence, -Inf);
 %! assert (r.states.mean, [-5 -5]);
 %! assert (all (isfinite (r.final.w)));
+%! assert (r.ess, [0 0]);
+
+%!test
+%! % the ESS of a cycle where no member explains the data is 0, not that
+%! % of the weights kept to go on with; the cycles around it are healthy
+%! spec = sluice.model ('linear', 'A', 1, 'Q', 0, 'states', {'x'});
+%! pr = sluice.prior ('x', 'normal', [-3 0.3]);
+%! obs = struct ('time', [1; 2; 3], 'variable', {{'x'; 'x'; 'x'}}, 'value', [-3; 3; -3], ...
+%!               'sigma', [1; 0.1; 1], 'family', {{'gaussian'; 'lognormal'; 'gaussian'}});
+%! warning ('off', 'sluice:filter:degenerate', 'local');
+%! warning ('off', 'sluice:filter:lowess', 'local');
+%! r = sluice.filter (spec, pr, obs, 'members', 200, 'seed', 1, 't0', 0);
+%! assert (r.degenerate, [false true false]);
+%! assert (r.ess(2), 0);
+%! assert (r.ess([1 3]) > 100);
 %!warning <no member could explain> ...
 %! spec = sluice.model ('linear', 'A', 1, 'states', {'x'}, 'x0', -5);
 %! obs = struct ('time', 1, 'variable', {{'x'}}, 'value', 3, 'sigma', 0.1, 'family', {{'lognormal'}});
