@@ -172,10 +172,27 @@ char *slm_string(const char *fn, const mxArray *a, int pos, const char *name)
         slm_fail(fn, "badclass",
                  "argument %d (%s): expected a character string, got %s", pos,
                  name, got);
-    s = mxArrayToString(a);
+    s = slm_string_copy(a);
     if (s == NULL)
         slm_fail(fn, "badclass", "argument %d (%s): could not read the string",
                  pos, name);
+    return s;
+}
+
+char *slm_string_copy(const mxArray *a)
+{
+    /* Octave's mxArrayToString returns memory that is not freed when the
+     * gateway returns or an error unwinds: copy it into mxMalloc'd memory
+     * (freed then, or earlier by mxFree) and free the original at once */
+    char *t = mxArrayToString(a), *s;
+    size_t len;
+    if (t == NULL)
+        return NULL;
+    len = strlen(t);
+    s = mxMalloc(len + 1);
+    if (s != NULL)
+        memcpy(s, t, len + 1);
+    mxFree(t);
     return s;
 }
 

@@ -60,8 +60,14 @@ double slm_scalar(const char *fn, const mxArray *a, int pos, const char *name);
 double slm_integer(const char *fn, const mxArray *a, int pos,
                    const char *name, double lo, double hi);
 
-/* A character row vector, returned as an mxMalloc'd C string. */
+/* A character row vector, returned as an mxMalloc'd C string: freed when
+ * the gateway returns or an error unwinds (or earlier with mxFree). */
 char *slm_string(const char *fn, const mxArray *a, int pos, const char *name);
+
+/* The text of a char array as an mxMalloc'd C string like slm_string's,
+ * or NULL when it cannot be read. Use it, never mxArrayToString directly:
+ * Octave does not free what that returns. */
+char *slm_string_copy(const mxArray *a);
 
 /* A field of a scalar struct, or NULL when absent (required = 0) / raise
  * sluice:<fn>:missingfield (required = 1). */

@@ -167,7 +167,7 @@ static void do_write(int nlhs, const mxArray *farg, const mxArray *t)
                                  "argument 3 (tab): column '%s', row %lu: the text "
                                  "holds a NUL character",
                                  name, (unsigned long)(i + 1));
-                s[i] = n ? mxArrayToString(c) : "";
+                s[i] = n ? slm_string_copy(c) : "";
                 if (s[i] == NULL)
                     slm_fail(FN, "badobs",
                              "argument 3 (tab): column '%s', row %lu: could not read the text",
