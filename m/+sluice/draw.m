@@ -114,6 +114,9 @@ function [P, names] = draw (prior, N, seed)
            sluice.kernel.describe (seed, 'value'));
   end
 
+  % the output alone is p x N doubles: refuse at once what cannot fit
+  sluice.kernel.ensure_memory (8 * p * N, 'draw', ...
+                               sprintf ('a draw of %d members of %d parameter(s)', N, p));
   P = sluice.kernel.draw (ids, a, b, lo, hi, N, seed);
 end
 
@@ -199,6 +202,8 @@ end
 %!error <Invalid call> sluice.draw (pr, 10)
 %!error <called with too many inputs> sluice.draw (pr, 10, 1, 2)
 %!error id=sluice:draw:badprior sluice.draw ([], 10, 1)
+%!error <needs about 4e\+03 GB> sluice.draw (sluice.prior ('a', 'normal', [0 1]), 5e11, 1)
+%!error id=sluice:draw:nomemory sluice.draw (pr, 1e13, 1)
 %!test
 %! % bounds widened past the support are kept: the draws lie inside them
 %! q = sluice.prior ('a', 'uniform', [0.2 0.4], 'bounds', [0 1]);

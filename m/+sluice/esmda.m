@@ -150,6 +150,12 @@ function [post, info] = esmda (fwd, prior, data, varargin)
     m = numel (y);
   end
 
+  % P, Z and the posterior (p x N each), the predictions Y and the
+  % perturbed data of an analysis (m x N each): refuse at once what
+  % cannot fit rather than fail in the middle of the iterations
+  sluice.kernel.ensure_memory (8 * N * (3 * p + 2 * m), 'esmda', ...
+                               sprintf ('a run of %d members (%d parameters, %d data)', N, p, m));
+
   alpha = opts.alpha;
   Na = numel (alpha);
 
@@ -566,6 +572,7 @@ end
 %! q = pr; q(1).lower = NaN;
 %! sluice.esmda (@(P) G * P, q, y, 0.1, 'seed', 1);
 %!error id=sluice:esmda:badobs sluice.esmda (@(P) G * P, pr, [], 0.1)
+%!error id=sluice:esmda:nomemory sluice.esmda (@(P) ones (1e4, columns (P)), pr, ones (1e4, 1), 0.1, 'members', 2^31)
 %!error id=sluice:esmda:badobs sluice.esmda (@(P) G * P, pr, [1; NaN; 2], 0.1)
 %!error id=sluice:esmda:badobs sluice.esmda (@(P) G * P, pr, [1; Inf; 2], 0.1)
 %!error id=sluice:esmda:badobs sluice.esmda (@(P) G * P, pr, single (y), 0.1)

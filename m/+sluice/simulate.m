@@ -29,6 +29,11 @@ function [X, times] = simulate (model, x0, params, times, forcing, varargin)
   end
   opts = struct ('events', [], 'seed', 1);
   opts = sluice.kernel.name_value (opts, varargin, 'simulate');
+  % before times is checked (a range costs nothing until it is expanded):
+  % the run keeps n x T states three times over (the run's history, its
+  % copy and the result) and the times four times (checks and copies)
+  sluice.kernel.ensure_memory (8 * numel (times) * (3 * max (1, numel (x0)) + 4), 'simulate', ...
+                               sprintf ('a run over %d output times', numel (times)));
   if (~isa (times, 'double') || ~isreal (times) || isempty (times) || ~isvector (times) || ...
       any (~isfinite (times)) || any (diff (times) <= 0))
     error ('sluice:simulate:badtimes', 'times must be a finite, increasing real vector');
@@ -67,6 +72,7 @@ end
 %! ex = @(t) 6 + (2 - 6) * exp (-0.5 * t);
 %! assert (X, ex ([0 1 2]), 1e-9);
 %!error id=sluice:simulate:badtimes sluice.simulate (sluice.model ('lorenz63'), [], [], [0 2 1])
+%!error id=sluice:simulate:nomemory sluice.simulate (sluice.model ('lorenz63'), [1; 1; 1], [], 0:1e-12:1)
 %!error id=sluice:simulate:badtimes sluice.simulate (sluice.model ('lorenz63'), [], [], single ([0 1]))
 %!error id=sluice:simulate:badstate sluice.simulate (sluice.model ('lorenz63'), [1; 2], [], [0 1])
 %!error id=sluice:simulate:badstate sluice.simulate (sluice.model ('lorenz63'), [1; NaN; 2], [], [0 1])
