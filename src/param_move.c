@@ -84,6 +84,25 @@ static void mean_cov(size_t p, size_t N, const double *Z, const double *w,
             V[l + i * p] = V[i + l * p];
 }
 
+/* Mean of the members with w > 0, normalised by the sum of their weights
+ * (the first member's values when no weight is positive). */
+static void weighted_mean(size_t p, size_t N, const double *Z, const double *w,
+                          double *m)
+{
+    double W = 0.0;
+    size_t i, j;
+    for (i = 0; i < p; i++)
+        m[i] = 0.0;
+    for (j = 0; j < N; j++)
+        if (w[j] > 0) {
+            W += w[j];
+            for (i = 0; i < p; i++)
+                m[i] += w[j] * Z[i + j * p];
+        }
+    for (i = 0; i < p; i++)
+        m[i] = W > 0 ? m[i] / W : Z[i];
+}
+
 /* z += h L xi with xi standard normals drawn in blocks of 64 (on the stack
  * for any p); only flagged rows move when flag != NULL. */
 static void add_jitter(size_t p, const double *L, double h, const double *flag,
@@ -100,6 +119,21 @@ static void add_jitter(size_t p, const double *L, double h, const double *flag,
                 if (flag == NULL || flag[i] != 0)
                     z[i] += h * L[i + (i0 + l) * p] * xi[l];
     }
+}
+
+/* One member's kernel step: z = a z + (1 - a) m + h L xi, where the
+ * shrinkage leaves a parameter without spread where it is and only rows
+ * flagged in jflag (all rows when NULL) receive the jitter. */
+static void shrink_jitter(size_t p, const double *ws, const double *jflag, double *z,
+                          sl_stream *s)
+{
+    const double *m = WS_MEAN(ws, p), *flag = WS_FLAG(ws, p);
+    const double a = WS_A(ws, p);
+    size_t i;
+    for (i = 0; i < p; i++)
+        if (flag[i] != 0)
+            z[i] = a * z[i] + (1.0 - a) * m[i];
+    add_jitter(p, WS_CHOL(ws, p), WS_H(ws, p), jflag, z, s);
 }
 
 /* ------------------------------------------------------------- fixed */
@@ -190,14 +224,8 @@ static void lw_prepare(const sl_param_move_opts *o, size_t p, size_t N,
 static void lw_member(const sl_param_move_opts *o, size_t p, const double *ws,
                       double *z, sl_stream *s)
 {
-    const double *m = WS_MEAN(ws, p), *flag = WS_FLAG(ws, p);
-    const double a = WS_A(ws, p);
-    size_t i;
     (void)o;
-    for (i = 0; i < p; i++)
-        if (flag[i] != 0) /* a parameter without spread stays put */
-            z[i] = a * z[i] + (1.0 - a) * m[i];
-    add_jitter(p, WS_CHOL(ws, p), WS_H(ws, p), NULL, z, s);
+    shrink_jitter(p, ws, NULL, z, s);
 }
 
 const sl_param_mover sl_param_move_liu_west = {"liu_west", SL_MOVE_EACH_CYCLE, 1, lw_check,
@@ -250,24 +278,12 @@ static void kernel_prepare(const sl_param_move_opts *o, size_t p, size_t N,
     if (unweighted) {
         /* the weighted spread of a few effective members says little:
          * take the covariance of the members as they were before this
-         * weighting, about their own mean */
+         * weighting, about their own mean; the shrinkage still goes
+         * toward the weighted mean */
         mean_cov(p, N, Z, NULL, m, V);
+        weighted_mean(p, N, Z, w, m);
     } else {
         mean_cov(p, N, Z, w, m, V);
-    }
-    /* shrink toward the weighted mean in either case */
-    if (unweighted) {
-        double W = 0.0;
-        for (i = 0; i < p; i++)
-            m[i] = 0.0;
-        for (j = 0; j < N; j++)
-            if (w[j] > 0) {
-                W += w[j];
-                for (i = 0; i < p; i++)
-                    m[i] += w[j] * Z[i + j * p];
-            }
-        for (i = 0; i < p; i++)
-            m[i] = W > 0 ? m[i] / W : Z[i];
     }
     for (i = 0; i < p; i++)
         if (flag[i] == 0)
@@ -291,16 +307,9 @@ static void kernel_prepare(const sl_param_move_opts *o, size_t p, size_t N,
 static void kernel_member(const sl_param_move_opts *o, size_t p, const double *ws,
                           double *z, sl_stream *s)
 {
-    const double *m = WS_MEAN(ws, p), *flag = WS_FLAG(ws, p);
-    const double a = WS_A(ws, p);
-    size_t i;
     (void)o;
-    if (!(WS_H(ws, p) > 0))
-        return;
-    for (i = 0; i < p; i++)
-        if (flag[i] != 0)
-            z[i] = a * z[i] + (1.0 - a) * m[i];
-    add_jitter(p, WS_CHOL(ws, p), WS_H(ws, p), flag, z, s);
+    if (WS_H(ws, p) > 0)
+        shrink_jitter(p, ws, WS_FLAG(ws, p), z, s);
 }
 
 const sl_param_mover sl_param_move_kernel = {"kernel", SL_MOVE_AT_RESAMPLE, 1, kernel_check,
