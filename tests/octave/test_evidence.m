@@ -1,8 +1,8 @@
 % The particle filter's log-evidence (sluice.evidence) against the exact
 % log-likelihood of linear-Gaussian models. Reference: the Kalman filter
 % (Kalman 1960) and its log-likelihood by the prediction-error
-% decomposition, sum_k log N(y_k; H m_k|k-1, H P_k|k-1 H' + R), written
-% below from the textbook equations; the worked example of the project's
+% decomposition, sum_k log N(y_k; H m_k|k-1, H P_k|k-1 H' + R), in
+% tests/octave/ar1_loglik.m from the textbook equations; the worked example of the project's
 % model notes (random walk A = 1, Q = R = 1, x0 ~ N(0, 1), y = (1, 2, 0):
 % log-likelihood -(3/2) log 2pi - (1/2) log 21 - 13/14, computed by hand).
 % The exact value must lie within 4 Monte Carlo standard errors of the
@@ -10,21 +10,10 @@
 % far below that here: var ~ (0.05)^2 for the short series, (0.3)^2 for
 % the long one).
 
-%!function ll = kalman_loglik (a, q, r, m0, p0, y)
-%!  % scalar model x_k = a x_(k-1) + N(0, q), y_k = x_k + N(0, r)
-%!  ll = 0; m = m0; P = p0;
-%!  for k = 1:numel (y)
-%!    m = a * m; P = a * P * a + q;
-%!    S = P + r; v = y(k) - m;
-%!    ll = ll - 0.5 * (log (2 * pi) + log (S) + v ^ 2 / S);
-%!    K = P / S; m = m + K * v; P = (1 - K) * P;
-%!  end
-%!endfunction
-
 %!test
 %! % the worked example, first through the reference itself
 %! ll = -1.5 * log (2 * pi) - 0.5 * log (21) - 13 / 14;
-%! assert (kalman_loglik (1, 1, 1, 0, 1, [1 2 0]), ll, 1e-13);
+%! assert (ar1_loglik (1, 1, 1, 0, 1, [1 2 0]), ll, 1e-13);
 %! spec = sluice.model ('linear', 'A', 1, 'Q', 1, 'states', {'x'});
 %! pr = sluice.prior ('x', 'normal', [0 1]);
 %! obs = struct ('time', [1; 2; 3], 'variable', {{'x'; 'x'; 'x'}}, ...
@@ -44,7 +33,7 @@
 %!   x = a * x + sqrt (q) * randn ();
 %!   y(k) = x + sqrt (r) * randn ();
 %! end
-%! ll = kalman_loglik (a, q, r, 0, 1, y);
+%! ll = ar1_loglik (a, q, r, 0, 1, y);
 %! spec = sluice.model ('linear', 'A', a, 'Q', q, 'states', {'x'});
 %! pr = sluice.prior ('x', 'normal', [0 1]);
 %! obs = struct ('time', (1:T)', 'variable', {repmat({'x'}, T, 1)}, 'value', y, ...
@@ -69,7 +58,7 @@
 %! % takes several steps at a target ESS of N/2
 %! T = 10; randn ('state', 8);
 %! x = cumsum (randn (T, 1)); y = x + 0.2 * randn (T, 1);
-%! ll = kalman_loglik (1, 1, 0.04, 0, 1, y);
+%! ll = ar1_loglik (1, 1, 0.04, 0, 1, y);
 %! spec = sluice.model ('linear', 'A', 1, 'Q', 1, 'states', {'x'});
 %! pr = sluice.prior ('x', 'normal', [0 1]);
 %! obs = struct ('time', (1:T)', 'variable', {repmat({'x'}, T, 1)}, 'value', y, ...

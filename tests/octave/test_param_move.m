@@ -17,15 +17,8 @@
 %! % the exact posterior of a on a grid: the Kalman filter's likelihood by
 %! % the prediction-error decomposition (Kalman 1960; Harvey 1989) times the
 %! % flat prior, normalised on the grid
-%! g = linspace (-0.999, 0.999, 4001); ll = zeros (size (g));
-%! for i = 1:numel (g)
-%!   m = 0; P = 1;
-%!   for t = 1:T
-%!     m = g(i) * m; P = g(i)^2 * P + q; S = P + r;
-%!     ll(i) = ll(i) - 0.5 * log (2 * pi * S) - 0.5 * (y(t) - m)^2 / S;
-%!     K = P / S; m = m + K * (y(t) - m); P = (1 - K) * P;
-%!   end
-%! end
+%! g = linspace (-0.999, 0.999, 4001);
+%! ll = arrayfun (@(a) ar1_loglik (a, q, r, 0, 1, y), g);
 %! pw = exp (ll - max (ll)); pw = pw / sum (pw);
 %! [c, iu] = unique (cumsum (pw));
 %! gq = interp1 (c, g(iu), [0.05 0.5 0.95]);

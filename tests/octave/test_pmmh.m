@@ -1,7 +1,7 @@
 % Particle marginal Metropolis-Hastings (sluice.pmmh) against exact answers.
 % References: the Kalman filter (Kalman 1960) and its log-likelihood by the
-% prediction-error decomposition, written below in plain Octave and first
-% checked on the project's hand-worked example (random walk, Q = R = 1,
+% prediction-error decomposition (tests/octave/ar1_loglik.m), first
+% checked here on the project's hand-worked example (random walk, Q = R = 1,
 % x0 ~ N(0, 1), y = (1, 2, 0): log-likelihood
 % -(3/2) log 2pi - (1/2) log 21 - 13/14); prior densities from Octave's
 % statistics package (unifpdf, lognpdf, normpdf, normcdf); moments of the
@@ -10,20 +10,26 @@
 % 13.10.1, from memory). Monte Carlo errors of MCMC means come from the
 % effective sample size of sluice.mcmc_summary (Gelman et al., BDA3 11.5).
 
-%!function ll = kalman_loglik (a, Q, R, P0, y)
-%!  % x_k = a x_(k-1) + q, q ~ N(0, Q); y_k = x_k + r, r ~ N(0, R); x_0 ~ N(0, P0)
-%!  m = 0; P = P0; ll = 0;
-%!  for k = 1:numel (y)
-%!    m = a * m; P = a * P * a + Q;
-%!    S = P + R; v = y(k) - m;
-%!    ll = ll - 0.5 * (log (2 * pi * S) + v ^ 2 / S);
-%!    K = P / S; m = m + K * v; P = (1 - K) * P;
+%!function [y, post_mean, post_sd] = ar1_case (T, a_true, Q, R, P0, state)
+%!  % invented data from x_k = a_true x_(k-1) + N(0, Q), y_k = x_k + N(0, R),
+%!  % x_0 ~ N(0, P0), and the exact posterior mean and sd of a under a flat
+%!  % prior on (-1, 1): the Kalman likelihood on a grid of 4000 points
+%!  randn ('state', state);
+%!  x = sqrt (P0) * randn (); y = zeros (T, 1);
+%!  for k = 1:T
+%!    x = a_true * x + sqrt (Q) * randn ();
+%!    y(k) = x + sqrt (R) * randn ();
 %!  end
+%!  g = linspace (-1, 1, 4002); g = g(2:end-1);
+%!  L = arrayfun (@(a) ar1_loglik (a, Q, R, 0, P0, y), g);
+%!  w = exp (L - max (L)); w = w / sum (w);
+%!  post_mean = sum (w .* g);
+%!  post_sd = sqrt (sum (w .* (g - post_mean) .^ 2));
 %!endfunction
 
 %!test
 %! % the reference itself on the hand-worked example
-%! assert (kalman_loglik (1, 1, 1, 1, [1 2 0]), ...
+%! assert (ar1_loglik (1, 1, 1, 0, 1, [1 2 0]), ...
 %!         -1.5 * log (2 * pi) - 0.5 * log (21) - 13/14, 1e-13);
 
 %!test
@@ -37,18 +43,8 @@
 %! % matters: without the log one, log g would centre 1 sd (sdlog^2/sdlog)
 %! % too low; without the logit one, the chain would drift to the bounds.
 %! pkg load statistics
-%! T = 20; a_true = 0.8; Q = 0.5; R = 0.5; P0 = 1;
-%! randn ('state', 2010);
-%! x = sqrt (P0) * randn (); y = zeros (T, 1);
-%! for k = 1:T
-%!   x = a_true * x + sqrt (Q) * randn ();
-%!   y(k) = x + sqrt (R) * randn ();
-%! end
-%! g = linspace (-1, 1, 4002); g = g(2:end-1);
-%! L = arrayfun (@(a) kalman_loglik (a, Q, R, P0, y), g);
-%! w = exp (L - max (L)); w = w / sum (w);
-%! post_mean = sum (w .* g);
-%! post_sd = sqrt (sum (w .* (g - post_mean) .^ 2));
+%! T = 20; Q = 0.5; R = 0.5; P0 = 1;
+%! [y, post_mean, post_sd] = ar1_case (T, 0.8, Q, R, P0, 2010);
 %!
 %! spec = sluice.model (@(t, X, P, U, dt) P(1, :) .* X, 'states', {'x'}, ...
 %!                      'params', {'a', 'g', 'v'});
@@ -164,18 +160,8 @@
 %! % above (common practice). With seeds 1 and 4 the mean was 0.28 and
 %! % 1.51 MCSE from the exact one, the sd 0.31 and 1.18 of its error away,
 %! % R-hat 1.035 and 1.013, acceptance 0.21-0.42 (measured here).
-%! T = 30; a_true = 0.7; Q = 0.5; R = 0.5; P0 = 1;
-%! randn ('state', 2009);
-%! x = sqrt (P0) * randn (); y = zeros (T, 1);
-%! for k = 1:T
-%!   x = a_true * x + sqrt (Q) * randn ();
-%!   y(k) = x + sqrt (R) * randn ();
-%! end
-%! g = linspace (-1, 1, 4002); g = g(2:end-1);
-%! L = arrayfun (@(a) kalman_loglik (a, Q, R, P0, y), g);
-%! w = exp (L - max (L)); w = w / sum (w);
-%! post_mean = sum (w .* g);
-%! post_sd = sqrt (sum (w .* (g - post_mean) .^ 2));
+%! T = 30; Q = 0.5; R = 0.5; P0 = 1;
+%! [y, post_mean, post_sd] = ar1_case (T, 0.7, Q, R, P0, 2009);
 %! spec = sluice.model (@(t, X, P, U, dt) P(1, :) .* X, 'states', {'x'}, 'params', {'a'});
 %! pr = sluice.prior ('a', 'uniform', [-1 1], 'x', 'normal', [0 sqrt(P0)]);
 %! obs = struct ('time', (1:T)', 'variable', {repmat({'x'}, T, 1)}, ...
