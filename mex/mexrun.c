@@ -125,6 +125,7 @@ void slm_handle_model_init(sl_model *model, slm_handle_model *hm,
     model->dt = dt;
     model->discrete = method == NULL;
     model->thread_safe = 0;
+    model->member_draws = 0;
     model->work = method != NULL ? method->stages * n * N : 0;
     model->step = method != NULL ? handle_rhs_step : handle_step;
     model->ctx = hm;

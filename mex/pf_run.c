@@ -85,7 +85,7 @@ void mexFunction(int nlhs, mxArray *plhs[], int nrhs, const mxArray *prhs[])
         "steps", "X", "P", "w",
         "history_X", "history_P", "history_w", "history_ancestors",
         "smooth_mean", "smooth_quantiles", "distinct", "spread",
-        "temper_steps", "loglik_evals"};
+        "temper_steps", "loglik_evals", "move_sweeps", "move_accept", "param_move"};
     const mxArray *c;
     sl_model model;
     sl_linear lin;
@@ -300,7 +300,8 @@ void mexFunction(int nlhs, mxArray *plhs[], int nrhs, const mxArray *prhs[])
     }
     cfg.ptrans = tr;
     move = slm_string(FN, slm_field(FN, c, "param_move", 1), 1, "param_move");
-    cfg.param_move = sl_param_mover_find(move);
+    cfg.param_move = strcmp(move, "auto") == 0 ? sl_pf_auto_move(&cfg)
+                                               : sl_param_mover_find(move);
     if (cfg.param_move == NULL)
         slm_fail(FN, "badoption", "unknown parameter move '%s'", move);
     cfg.move.step = p ? fmat(c, "param_step", p, 0, SLM_VECTOR) : NULL;
@@ -309,6 +310,34 @@ void mexFunction(int nlhs, mxArray *plhs[], int nrhs, const mxArray *prhs[])
                                 ? fscalar(c, "kernel_scale") : 1.0;
     cfg.move.min_ess = slm_field(FN, c, "kernel_min_ess", 0) != NULL
                            ? fscalar(c, "kernel_min_ess") : SL_KERNEL_MIN_ESS;
+    cfg.move.rm_scale = slm_field(FN, c, "move_scale", 0) != NULL ? fscalar(c, "move_scale") : 1.0;
+    cfg.move.rm_diversity = slm_field(FN, c, "move_diversity", 0) != NULL
+                                ? fscalar(c, "move_diversity") : 0.5;
+    cfg.move.rm_sweeps = slm_field(FN, c, "move_sweeps", 0) != NULL
+                             ? fcount(c, "move_sweeps", 1, 1000) : 10;
+    /* the priors of the parameters, for moves that weigh by them: ids as
+     * sluice.kernel.draw takes them, -1 for a parameter without prior
+     * (it keeps its default: a point mass there) */
+    if (p > 0 && slm_field(FN, c, "prior_dist", 0) != NULL) {
+        const double *pd = fmat(c, "prior_dist", p, 0, SLM_VECTOR);
+        const double *pa = fmat(c, "prior_a", p, 0, SLM_VECTOR | SLM_ALLOW_INF);
+        const double *pb = fmat(c, "prior_b", p, 0, SLM_VECTOR);
+        const double *plo = fmat(c, "prior_lo", p, 0, SLM_VECTOR | SLM_ALLOW_INF);
+        const double *phi = fmat(c, "prior_hi", p, 0, SLM_VECTOR | SLM_ALLOW_INF);
+        sl_prior_entry *pe = (sl_prior_entry *)slm_alloc(FN, p, sizeof *pe);
+        for (k = 0; k < p; k++) {
+            if (pd[k] != floor(pd[k]) || pd[k] < -1 || pd[k] >= SL_DIST_COUNT)
+                slm_fail(FN, "badprior", "prior_dist %lu must be a distribution id or -1",
+                         (unsigned long)(k + 1));
+            pe[k].dist = pd[k] < 0 ? SL_DIST_FIXED : (int)pd[k];
+            /* a point mass is never moved or weighed: its value is moot */
+            pe[k].a = pe[k].dist == SL_DIST_FIXED ? 0.0 : pa[k];
+            pe[k].b = pb[k];
+            pe[k].lo = plo[k];
+            pe[k].hi = phi[k];
+        }
+        cfg.prior = pe;
+    }
 
     scheme = slm_string(FN, slm_field(FN, c, "resample", 1), 1, "resample");
     cfg.resampler = sl_resampler_find(scheme);
@@ -436,6 +465,8 @@ void mexFunction(int nlhs, mxArray *plhs[], int nrhs, const mxArray *prhs[])
         ROWFIELD("floored", out.floored);
         ROWFIELD("temper_steps", out.temper_steps);
         ROWFIELD("loglik_evals", out.loglik_evals);
+        ROWFIELD("move_sweeps", out.move_sweeps);
+        ROWFIELD("move_accept", out.move_accept);
 #undef ROWFIELD
         {
             mxArray *dv = slm_create(FN, p, T), *sp = slm_create(FN, p, T);
@@ -502,5 +533,6 @@ void mexFunction(int nlhs, mxArray *plhs[], int nrhs, const mxArray *prhs[])
     }
     mxSetField(res, 0, "log_evidence", mxCreateDoubleScalar(out.log_evidence));
     mxSetField(res, 0, "steps", mxCreateDoubleScalar((double)out.steps));
+    mxSetField(res, 0, "param_move", mxCreateString(cfg.param_move->name));
     plhs[0] = res;
 }

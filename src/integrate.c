@@ -403,6 +403,11 @@ sl_status sl_def_model_init(sl_model *model, sl_def_model *dm,
     model->dt = dt;
     model->discrete = method == &sl_integrator_discrete;
     model->thread_safe = 1;
+    model->member_draws = 0;
+    if (dm->events != NULL && dm->events->noise != NULL)
+        for (k = 0; k < dm->events->nv; k++)
+            if (dm->events->noise[k] != SL_FORCING_EXACT)
+                model->member_draws = 1;
     model->work = work;
     model->step = def_step;
     model->ctx = dm;

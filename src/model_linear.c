@@ -68,6 +68,7 @@ sl_status sl_linear_model(sl_model *model, const sl_linear *lin, double dt,
     model->dt = dt;
     model->discrete = 1;
     model->thread_safe = 1;
+    model->member_draws = lin->L != NULL;
     model->work = lin->n + lin->n * NOISE_BLOCK;
     model->step = linear_step;
     model->ctx = (void *)(uintptr_t)lin;

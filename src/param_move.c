@@ -146,7 +146,7 @@ static sl_status fixed_check(const sl_param_move_opts *o, size_t p, sl_error *er
     return SL_OK;
 }
 
-const sl_param_mover sl_param_move_fixed = {"fixed", SL_MOVE_NEVER, 0, fixed_check,
+const sl_param_mover sl_param_move_fixed = {"fixed", SL_MOVE_NEVER, 0, 0, fixed_check,
                                             NULL, NULL};
 
 /* ------------------------------------------------------- random walk */
@@ -173,7 +173,7 @@ static void rw_member(const sl_param_move_opts *o, size_t p, const double *ws,
         z[i] += o->step[i] * sl_stream_normal(s);
 }
 
-const sl_param_mover sl_param_move_random_walk = {"random_walk", SL_MOVE_EACH_CYCLE, 0,
+const sl_param_mover sl_param_move_random_walk = {"random_walk", SL_MOVE_EACH_CYCLE, 0, 0,
                                                   rw_check, NULL, rw_member};
 
 /* ---------------------------------------------------------- Liu-West */
@@ -228,7 +228,7 @@ static void lw_member(const sl_param_move_opts *o, size_t p, const double *ws,
     shrink_jitter(p, ws, NULL, z, s);
 }
 
-const sl_param_mover sl_param_move_liu_west = {"liu_west", SL_MOVE_EACH_CYCLE, 1, lw_check,
+const sl_param_mover sl_param_move_liu_west = {"liu_west", SL_MOVE_EACH_CYCLE, 1, 0, lw_check,
                                                lw_prepare, lw_member};
 
 /* ------------------------------------------------------------ kernel */
@@ -312,14 +312,91 @@ static void kernel_member(const sl_param_move_opts *o, size_t p, const double *w
         shrink_jitter(p, ws, WS_FLAG(ws, p), z, s);
 }
 
-const sl_param_mover sl_param_move_kernel = {"kernel", SL_MOVE_AT_RESAMPLE, 1, kernel_check,
-                                             kernel_prepare, kernel_member};
+const sl_param_mover sl_param_move_kernel = {"kernel", SL_MOVE_AT_RESAMPLE, 1, 0,
+                                             kernel_check, kernel_prepare, kernel_member};
+
+/* ----------------------------------------------------- resample_move */
+
+static sl_status rm_check(const sl_param_move_opts *o, size_t p, sl_error *err)
+{
+    (void)p;
+    if (!(o->rm_scale > 0) || !isfinite(o->rm_scale))
+        return sl_fail(err, SL_EINVAL, "badconfig",
+                       "the proposal scale of resample_move must be finite and > 0, got %g",
+                       o->rm_scale);
+    if (!(o->rm_diversity > 0 && o->rm_diversity <= 1))
+        return sl_fail(err, SL_EINVAL, "badconfig",
+                       "the diversity that starts resample_move must lie in (0, 1], got %g",
+                       o->rm_diversity);
+    if (o->rm_sweeps < 1 || o->rm_sweeps > 1000)
+        return sl_fail(err, SL_EINVAL, "badconfig",
+                       "resample_move's sweeps per move must be 1 to 1000, got %lu",
+                       (unsigned long)o->rm_sweeps);
+    return SL_OK;
+}
+
+/* The random-walk proposal fitted to the ensemble (w: its weights): the
+ * Cholesky factor of its covariance over the parameters with spread, and
+ * the scale rm_scale 2.38 / sqrt(d) (Roberts & Rosenthal 2001), kept in
+ * the bandwidth slot. */
+static void rm_prepare(const sl_param_move_opts *o, size_t p, size_t N,
+                       const double *Z, const double *w, double *ws,
+                       sl_param_move_info *info)
+{
+    double *m = WS_MEAN(ws, p), *flag = WS_FLAG(ws, p), *V = WS_COV(ws, p);
+    size_t i, j, l, d = 0;
+    for (i = 0; i < p; i++) {
+        double z0 = Z[i], spread = 0.0;
+        for (j = 1; j < N && spread == 0.0; j++)
+            if (Z[i + j * p] != z0)
+                spread = 1.0;
+        flag[i] = spread;
+        d += spread != 0;
+    }
+    mean_cov(p, N, Z, w, m, V);
+    for (i = 0; i < p; i++)
+        if (flag[i] == 0)
+            for (l = 0; l < p; l++)
+                V[i + l * p] = V[l + i * p] = 0.0;
+    chol_psd(p, V, WS_CHOL(ws, p));
+    WS_H(ws, p) = d > 0 ? o->rm_scale * 2.38 / sqrt((double)d) : 0.0;
+    WS_A(ws, p) = 1.0;
+    if (info != NULL) {
+        info->a = 1.0;
+        info->h = WS_H(ws, p);
+        info->ess = 0.0;
+        info->dim = d;
+        info->unweighted = w == NULL;
+    }
+}
+
+static void rm_member(const sl_param_move_opts *o, size_t p, const double *ws,
+                      double *z, sl_stream *s)
+{
+    (void)o;
+    if (WS_H(ws, p) > 0)
+        add_jitter(p, WS_CHOL(ws, p), WS_H(ws, p), WS_FLAG(ws, p), z, s);
+}
+
+void sl_param_move_rescale(const sl_param_mover *mv, const sl_param_move_opts *o,
+                           size_t p, double *ws)
+{
+    size_t i, d = 0;
+    if (mv != &sl_param_move_resample_move)
+        return;
+    for (i = 0; i < p; i++)
+        d += WS_FLAG(ws, p)[i] != 0;
+    WS_H(ws, p) = d > 0 ? o->rm_scale * 2.38 / sqrt((double)d) : 0.0;
+}
+
+const sl_param_mover sl_param_move_resample_move = {
+    "resample_move", SL_MOVE_AT_RESAMPLE, 1, 1, rm_check, rm_prepare, rm_member};
 
 /* ------------------------------------------------------------- table */
 
 static const sl_param_mover *const movers[] = {
     &sl_param_move_kernel, &sl_param_move_fixed, &sl_param_move_random_walk,
-    &sl_param_move_liu_west};
+    &sl_param_move_liu_west, &sl_param_move_resample_move};
 
 const sl_param_mover *sl_param_mover_at(size_t i)
 {

@@ -28,6 +28,9 @@ typedef struct {
     size_t *live;
     void *ework;
     double *mv;                 /* the parameter move's workspace */
+    double *mvlast;             /* resample_move: the last proposal fitted
+                                 * to an ensemble where every estimated
+                                 * parameter had spread */
     uint32_t *vid[2];           /* value ids of the parameters (p x N) */
     unsigned char *mark;        /* N flags for counting distinct ids */
     uint32_t *anc;
@@ -41,6 +44,20 @@ typedef struct {
     sl_error *terr;
     size_t mwork_per, qwork_per, m_max;
     int nt; /* threads for per-member loops: 1 for small ensembles */
+    /* resample_move: the ancestors of every cycle (lin, T x N: the
+     * forecast index at cycle c of the parent of member j after cycle
+     * c), the paths being re-run (path, T x N), the initial states, the
+     * re-run ensemble (states, transformed and natural parameters,
+     * forcing perturbations and values, health), the members' path
+     * log-likelihoods before the cycle (cll) and of the cycle (llk), the
+     * re-run ones (rll, rllk), log-priors (lp, rlp), the uniforms of the
+     * accept step, accept flags, id map and estimated-parameter flags */
+    uint32_t *lin, *path, *idmap;
+    double *X0, *RX, *RZ, *RP, *RE, *RU, *cll, *llk, *rll, *rllk, *lp, *rlp, *ru, *tmp;
+    unsigned char *rdead, *acc, *est;
+    double rm_adapt;
+    size_t rm_sweeps, rm_proposed, rm_accepted; /* of the current cycle */
+    int replay;
 } pf_buffers;
 
 /* Below this many members a parallel region costs more than it saves (and
@@ -110,6 +127,33 @@ static size_t layout(const sl_pf_config *cfg, unsigned char *base,
     carve(base, &off, N * 4, (void **)&b->tanc);
     carve(base, &off, N * 4, (void **)&b->tanc2);
     carve(base, &off, N * 8, (void **)&b->llx);
+    b->replay = cfg->enkf == NULL && p > 0 && cfg->param_move != NULL &&
+                cfg->param_move->replay;
+    if (b->replay) {
+        if (cfg->T > big / 8 / N)
+            return 0;
+        carve(base, &off, cfg->T * N * 4, (void **)&b->lin);
+        carve(base, &off, cfg->T * N * 4, (void **)&b->path);
+        carve(base, &off, N * 4, (void **)&b->idmap);
+        carve(base, &off, n * N * 8, (void **)&b->X0);
+        carve(base, &off, n * N * 8, (void **)&b->RX);
+        carve(base, &off, p * N * 8, (void **)&b->RZ);
+        carve(base, &off, p * N * 8, (void **)&b->RP);
+        carve(base, &off, q * N * 8, (void **)&b->RE);
+        carve(base, &off, q * N * 8, (void **)&b->RU);
+        carve(base, &off, N * 8, (void **)&b->cll);
+        carve(base, &off, N * 8, (void **)&b->llk);
+        carve(base, &off, N * 8, (void **)&b->rll);
+        carve(base, &off, N * 8, (void **)&b->rllk);
+        carve(base, &off, N * 8, (void **)&b->lp);
+        carve(base, &off, N * 8, (void **)&b->rlp);
+        carve(base, &off, N * 8, (void **)&b->ru);
+        carve(base, &off, N * 8, (void **)&b->tmp);
+        carve(base, &off, N, (void **)&b->rdead);
+        carve(base, &off, N, (void **)&b->acc);
+        carve(base, &off, p, (void **)&b->est);
+        carve(base, &off, sl_param_move_workspace(p) * 8, (void **)&b->mvlast);
+    }
     b->nwin = cfg->lag < cfg->T ? cfg->lag : cfg->T;
     if (b->nwin > 0) {
         if (b->nwin > big / 8 / N / (n + p + 1))
@@ -143,6 +187,28 @@ static size_t layout(const sl_pf_config *cfg, unsigned char *base,
     }
     tmp = carve(base, &off, nthr * sizeof(sl_error), (void **)&b->terr);
     return tmp;
+}
+
+int sl_pf_paths_random(const sl_pf_config *cfg)
+{
+    const sl_forcing *f = &cfg->forcing;
+    size_t i;
+    if (cfg->model != NULL && cfg->model->member_draws)
+        return 1;
+    if (f->noise != NULL)
+        for (i = 0; i < f->q; i++)
+            if (f->noise[i] != SL_FORCING_EXACT && f->sd != NULL && f->sd[i] > 0)
+                return 1;
+    if (cfg->state_noise != NULL && cfg->model != NULL)
+        for (i = 0; i < cfg->model->n_state; i++)
+            if (cfg->state_noise[i] > 0)
+                return 1;
+    return 0;
+}
+
+const sl_param_mover *sl_pf_auto_move(const sl_pf_config *cfg)
+{
+    return sl_pf_paths_random(cfg) ? &sl_param_move_kernel : &sl_param_move_resample_move;
 }
 
 size_t sl_pf_workspace(const sl_pf_config *cfg)
@@ -282,6 +348,22 @@ sl_status sl_pf_check(const sl_pf_config *cfg, sl_error *err)
         sl_status st = cfg->param_move->check(&cfg->move, p, err);
         if (st != SL_OK)
             return st;
+        if (cfg->param_move->replay && cfg->enkf == NULL && p > 0) {
+            if (cfg->prior == NULL)
+                return sl_fail(err, SL_EINVAL, "badconfig",
+                               "the move '%s' needs the parameters' priors",
+                               cfg->param_move->name);
+            for (k = 0; k < p; k++) {
+                st = sl_prior_check(&cfg->prior[k], k + 1, err);
+                if (st != SL_OK)
+                    return st;
+            }
+            if (cfg->lag > 0)
+                return sl_fail(err, SL_EINVAL, "badconfig",
+                               "the move '%s' re-runs whole paths and does not "
+                               "carry a fixed-lag window: run it without a lag, "
+                               "or smooth with the kernel move", cfg->param_move->name);
+        }
     }
     if (cfg->resampler == NULL)
         return sl_fail(err, SL_EINVAL, "badconfig", "no resampling scheme");
@@ -325,9 +407,11 @@ sl_status sl_pf_check(const sl_pf_config *cfg, sl_error *err)
 /* ------------------------------------------------------------ the cycle */
 
 /* Forcing values of every member at time t into U (q x N); advances the
- * AR(1) perturbations E by one step s. *idx tracks the forcing interval. */
+ * AR(1) perturbations E by one step s. *idx tracks the forcing interval.
+ * Member j draws from the stream of index ids[j] (j when ids is NULL). */
 static void eval_forcing(const sl_pf_config *cfg, pf_buffers *b, double *E,
-                         double t, uint32_t s, size_t *idx)
+                         double *U, double t, uint32_t s, size_t *idx,
+                         const uint32_t *ids)
 {
     const sl_forcing *f = &cfg->forcing;
     const size_t q = f->q, N = cfg->N, nt = f->nt;
@@ -346,14 +430,15 @@ static void eval_forcing(const sl_pf_config *cfg, pf_buffers *b, double *E,
     }
     if (f->noise == NULL) {
         for (j = 0; j < N; j++)
-            memcpy(b->U + j * q, b->u0, q * sizeof(double));
+            memcpy(U + j * q, b->u0, q * sizeof(double));
         return;
     }
 #pragma omp parallel for num_threads(b->nt) schedule(static) private(i)
     for (j = 0; j < N; j++) {
         sl_stream st;
-        double *e = E + j * q, *u = b->U + j * q;
-        sl_stream_init(&st, cfg->seed, (uint32_t)j, s, SL_PURPOSE_FORCING);
+        double *e = E + j * q, *u = U + j * q;
+        sl_stream_init(&st, cfg->seed, ids != NULL ? ids[j] : (uint32_t)j, s,
+                       SL_PURPOSE_FORCING);
         for (i = 0; i < q; i++) {
             double sd = f->sd[i], phi = f->phi[i], z;
             if (f->noise[i] == SL_FORCING_EXACT) {
@@ -369,10 +454,12 @@ static void eval_forcing(const sl_pf_config *cfg, pf_buffers *b, double *E,
     }
 }
 
-/* One model step of every member, in parallel blocks when the model allows. */
+/* One model step of every member, in parallel blocks when the model
+ * allows. With ids (re-run paths) a model that draws by member index
+ * steps each member j alone under index ids[j]. */
 static sl_status step_all(const sl_pf_config *cfg, pf_buffers *b, double *X,
-                          const double *P, double t, double t_end, uint32_t s,
-                          sl_error *err)
+                          const double *P, const double *U, double t, double t_end,
+                          uint32_t s, const uint32_t *ids, sl_error *err)
 {
     const sl_model *md = cfg->model;
     const size_t N = cfg->N, n = md->n_state, p = md->n_param,
@@ -381,8 +468,32 @@ static sl_status step_all(const sl_pf_config *cfg, pf_buffers *b, double *X,
     sl_status st = SL_OK;
     if (nthr > 1 && (size_t)nthr > N)
         nthr = (int)N;
+    if (ids != NULL && md->member_draws) {
+        long jj;
+        for (k = 0; k < nthr; k++)
+            b->terr[k].status = SL_OK;
+#pragma omp parallel for num_threads(nthr) schedule(static)
+        for (jj = 0; jj < (long)N; jj++) {
+            int tid = 0;
+            size_t j = (size_t)jj;
+#ifdef _OPENMP
+            tid = omp_get_thread_num();
+#endif
+            if (b->terr[tid].status == SL_OK)
+                md->step(md, t, t_end, ids[j], 1, X + j * n, P + j * p, U + j * q,
+                         cfg->seed, s, b->mwork + (size_t)tid * b->mwork_per,
+                         &b->terr[tid]);
+        }
+        for (k = 0; k < nthr && st == SL_OK; k++)
+            if (b->terr[k].status != SL_OK) {
+                st = b->terr[k].status;
+                if (err != NULL)
+                    *err = b->terr[k];
+            }
+        return st;
+    }
     if (nthr <= 1)
-        return md->step(md, t, t_end, 0, N, X, P, b->U, cfg->seed, s, b->mwork, err);
+        return md->step(md, t, t_end, 0, N, X, P, U, cfg->seed, s, b->mwork, err);
     for (k = 0; k < nthr; k++)
         b->terr[k].status = SL_OK;
 #pragma omp parallel num_threads(nthr)
@@ -396,7 +507,7 @@ static sl_status step_all(const sl_pf_config *cfg, pf_buffers *b, double *X,
         j1 = N * (size_t)(tid + 1) / (size_t)nthr;
         if (j1 > j0)
             md->step(md, t, t_end, j0, j1 - j0, X + j0 * n, P + j0 * p,
-                     b->U + j0 * q, cfg->seed, s, b->mwork + (size_t)tid * b->mwork_per,
+                     U + j0 * q, cfg->seed, s, b->mwork + (size_t)tid * b->mwork_per,
                      &b->terr[tid]);
     }
     for (k = 0; k < nthr && st == SL_OK; k++)
@@ -527,8 +638,8 @@ static sl_status predict_obs(const sl_pf_config *cfg, pf_buffers *b, size_t r0,
     return SL_OK;
 }
 
-static void loglik_all(const sl_pf_config *cfg, pf_buffers *b, size_t r0,
-                       size_t m, size_t *nskipped)
+static void loglik_into(const sl_pf_config *cfg, pf_buffers *b, size_t r0,
+                        size_t m, double *ll, size_t *nskipped)
 {
     const size_t N = cfg->N;
     int nthr = b->nt, t;
@@ -542,11 +653,17 @@ static void loglik_all(const sl_pf_config *cfg, pf_buffers *b, size_t r0,
         if (j1 > j0)
             sl_loglik_ensemble(m, j1 - j0, cfg->y + r0, b->Yhat + j0 * m, m,
                                cfg->sigma + r0, cfg->aux + r0,
-                               cfg->family + r0, 0, b->ll + j0, &sk, NULL);
+                               cfg->family + r0, 0, ll + j0, &sk, NULL);
         if (t == 0)
             skipped = sk;
     }
     *nskipped = skipped;
+}
+
+static void loglik_all(const sl_pf_config *cfg, pf_buffers *b, size_t r0,
+                       size_t m, size_t *nskipped)
+{
+    loglik_into(cfg, b, r0, m, b->ll, nskipped);
 }
 
 static void summarise(const sl_pf_config *cfg, pf_buffers *b, const double *X,
@@ -581,6 +698,26 @@ static void gather_cols(size_t rows, size_t N, const double *src, double *dst,
 #pragma omp parallel for num_threads(threads) schedule(static)
     for (j = 0; j < N; j++)
         memcpy(dst + j * rows, src + (size_t)anc[j] * rows, rows * sizeof(double));
+}
+
+/* The optional additive state noise of cycle k; member j draws from the
+ * stream of index ids[j] (j when ids is NULL). */
+static void add_state_noise(const sl_pf_config *cfg, pf_buffers *b, double *X,
+                            size_t k, const uint32_t *ids)
+{
+    const size_t N = cfg->N, n = cfg->model->n_state;
+    size_t i, j;
+    if (cfg->state_noise == NULL)
+        return;
+#pragma omp parallel for num_threads(b->nt) schedule(static) private(i)
+    for (j = 0; j < N; j++) {
+        sl_stream sn;
+        sl_stream_init(&sn, cfg->seed, ids != NULL ? ids[j] : (uint32_t)j, (uint32_t)k,
+                       SL_PURPOSE_STATE_NOISE);
+        for (i = 0; i < n; i++)
+            if (cfg->state_noise[i] > 0)
+                X[i + j * n] += cfg->state_noise[i] * sl_stream_normal(&sn);
+    }
 }
 
 static int has_nonfinite(const double *x, size_t n)
@@ -826,6 +963,237 @@ static void window_gather(const sl_pf_config *cfg, pf_buffers *b, size_t k,
     }
 }
 
+/* ------------------------------------------------------ resample-move */
+
+/* Re-run every member's path from t0 to cycle k with the proposed
+ * parameters RP: member j follows the path that ends at the forecast
+ * index anc_k[j] of cycle k, back through the recorded ancestors, and
+ * draws its forcing perturbations, state noise and model noise from the
+ * streams of the indices along that path, as its ancestors did. Into RX
+ * (states at cycle k), rdead, rll (the log-likelihood of cycles before
+ * k) and rllk (that of cycle k, 0 with no observation). */
+static sl_status replay(const sl_pf_config *cfg, pf_buffers *b, size_t k,
+                        const uint32_t *anc_k, size_t *evals, sl_error *err)
+{
+    const sl_model *md = cfg->model;
+    const size_t N = cfg->N, n = md->n_state, q = md->n_forcing;
+    size_t c, j, l, fidx = 0;
+    uint32_t s = 0;
+    double t = cfg->t0;
+    sl_status st;
+    memcpy(b->path + k * N, anc_k, N * sizeof(uint32_t));
+    for (c = k; c-- > 0;)
+        for (j = 0; j < N; j++)
+            b->path[c * N + j] = b->lin[c * N + b->path[(c + 1) * N + j]];
+    for (j = 0; j < N; j++) {
+        memcpy(b->RX + j * n, b->X0 + (size_t)b->path[j] * n, n * sizeof(double));
+        b->rdead[j] = (unsigned char)has_nonfinite(b->RX + j * n, n);
+        b->rll[j] = 0.0;
+        b->rllk[j] = 0.0;
+    }
+    if (q > 0)
+        memset(b->RE, 0, q * N * sizeof(double));
+    for (c = 0; c <= k; c++) {
+        const double tc = cfg->times[c];
+        const size_t r0 = cfg->obs_first[c], m = cfg->obs_first[c + 1] - r0;
+        const uint32_t *ids = b->path + c * N;
+        size_t nsteps, skipped;
+        double h;
+        if (md->discrete) {
+            nsteps = (size_t)floor((tc - t) / md->dt + 0.5);
+            h = md->dt;
+        } else {
+            nsteps = (size_t)ceil((tc - t) / md->dt - 1e-9);
+            h = nsteps ? (tc - t) / (double)nsteps : 0.0;
+        }
+        for (l = 0; l < nsteps; l++) {
+            double ts = t + (double)l * h;
+            double te = l + 1 == nsteps ? tc : t + (double)(l + 1) * h;
+            if (q > 0)
+                eval_forcing(cfg, b, b->RE, b->RU, ts, s, &fidx, ids);
+            st = step_all(cfg, b, b->RX, b->RP, b->RU, ts, te, s, ids, err);
+            s++;
+            if (st != SL_OK)
+                return st;
+            if (cfg->poll != NULL && cfg->poll(cfg->poll_ctx, (double)k / (double)cfg->T))
+                return sl_fail(err, SL_EINTERRUPT, "interrupted",
+                               "the run was interrupted at cycle %lu of %lu",
+                               (unsigned long)(k + 1), (unsigned long)cfg->T);
+        }
+        t = tc;
+        add_state_noise(cfg, b, b->RX, c, ids);
+        for (j = 0; j < N; j++)
+            if (!b->rdead[j] && has_nonfinite(b->RX + j * n, n))
+                b->rdead[j] = 1;
+        if (m == 0)
+            continue;
+        if ((st = predict_obs(cfg, b, r0, m, tc, b->RX, b->RP, err)) != SL_OK)
+            return st;
+        loglik_into(cfg, b, r0, m, b->tmp, &skipped);
+        *evals += N;
+        for (j = 0; j < N; j++) {
+            double v = b->rdead[j] || isnan(b->tmp[j]) ? -HUGE_VAL : b->tmp[j];
+            if (c < k)
+                b->rll[j] += v;
+            else
+                b->rllk[j] = v;
+        }
+    }
+    return SL_OK;
+}
+
+/* log prior density of member j's transformed parameters z (the
+ * estimated ones), with the transforms' Jacobians */
+static double log_prior_z(const sl_pf_config *cfg, const unsigned char *est,
+                          const double *z)
+{
+    const size_t p = cfg->model->n_param;
+    double lp = 0.0;
+    size_t i;
+    for (i = 0; i < p; i++)
+        if (est[i]) {
+            const double x = sl_transform_inverse(&cfg->ptrans[i], z[i]);
+            lp += sl_prior_logpdf(&cfg->prior[i], x) +
+                  sl_transform_logjac(&cfg->ptrans[i], z[i]);
+        }
+    return isnan(lp) ? -HUGE_VAL : lp;
+}
+
+/* The fewest distinct values (by id) among the estimated parameters, as
+ * a fraction of N. */
+static double diversity(const sl_pf_config *cfg, pf_buffers *b, const uint32_t *id)
+{
+    const size_t N = cfg->N, p = cfg->model->n_param;
+    size_t i, j, fewest = N;
+    for (i = 0; i < p; i++) {
+        size_t count = 0;
+        if (!b->est[i])
+            continue;
+        memset(b->mark, 0, N);
+        for (j = 0; j < N; j++)
+            if (!b->mark[id[i + j * p]]) {
+                b->mark[id[i + j * p]] = 1;
+                count++;
+            }
+        if (count < fewest)
+            fewest = count;
+    }
+    return (double)fewest / (double)N;
+}
+
+/* resample_move on the current (just resampled, equally weighted)
+ * ensemble of cycle k at tempering exponent phi: cll holds the members'
+ * log-likelihoods of the cycles before k, llk that of cycle k, anc_k the
+ * forecast indices of their parents at cycle k; tstep is the tempering
+ * step (0 at the end of the cycle). */
+static sl_status replay_move(const sl_pf_config *cfg, pf_buffers *b, size_t k,
+                             int cur, double phi, const uint32_t *anc_k,
+                             double *llk, size_t tstep, size_t *evals,
+                             sl_error *err)
+{
+    const sl_param_mover *mv = cfg->param_move;
+    const size_t N = cfg->N, n = cfg->model->n_state, p = cfg->model->n_param;
+    const double target = 0.5 * (1.0 + cfg->move.rm_diversity);
+    double *X = b->X[cur], *Z = b->Z[cur], *P = b->P[cur];
+    unsigned char *dead = b->dead[cur];
+    uint32_t *vid = b->vid[cur];
+    sl_param_move_opts o = cfg->move;
+    sl_param_move_info info;
+    size_t w, i, j, nest = 0;
+    sl_status st;
+    if (diversity(cfg, b, vid) >= cfg->move.rm_diversity)
+        return SL_OK;
+    for (j = 0; j < N; j++)
+        b->lp[j] = log_prior_z(cfg, b->est, Z + j * p);
+    for (i = 0; i < p; i++)
+        nest += b->est[i];
+    for (w = 0; w < cfg->move.rm_sweeps; w++) {
+        size_t live = 0, acc = 0;
+        const uint32_t purpose = (uint32_t)SL_PURPOSE_REPLAY_MOVE +
+                                 ((uint32_t)tstep << 12) + (uint32_t)w;
+        o.rm_scale = cfg->move.rm_scale * b->rm_adapt;
+        mv->prepare(&o, p, N, Z, NULL, b->mv, &info);
+        if (info.dim >= nest) {
+            memcpy(b->mvlast, b->mv, sl_param_move_workspace(p) * sizeof(double));
+        } else {
+            /* the ensemble has collapsed to one value of a parameter (a
+             * very sharp likelihood): its own spread cannot propose a
+             * move, so the proposal fitted last (at the start: to the
+             * prior draws) does, at the current scale */
+            memcpy(b->mv, b->mvlast, sl_param_move_workspace(p) * sizeof(double));
+            sl_param_move_rescale(mv, &o, p, b->mv);
+        }
+#pragma omp parallel for num_threads(b->nt) schedule(static) private(i)
+        for (j = 0; j < N; j++) {
+            sl_stream sm;
+            double *z = b->RZ + j * p;
+            sl_stream_init(&sm, cfg->seed, (uint32_t)j, (uint32_t)k, purpose);
+            memcpy(z, Z + j * p, p * sizeof(double));
+            mv->member(&o, p, b->mv, z, &sm);
+            b->ru[j] = sl_stream_uniform(&sm);
+            for (i = 0; i < p; i++)
+                b->RP[i + j * p] = sl_transform_inverse(&cfg->ptrans[i], z[i]);
+            b->rlp[j] = log_prior_z(cfg, b->est, z);
+        }
+        if ((st = replay(cfg, b, k, anc_k, evals, err)) != SL_OK)
+            return st;
+        for (j = 0; j < N; j++) {
+            double now, prop;
+            b->acc[j] = 0;
+            if (dead[j])
+                continue;
+            live++;
+            now = b->lp[j] + b->cll[j] + phi * llk[j];
+            prop = b->rlp[j] + b->rll[j] + phi * b->rllk[j];
+            if (b->rdead[j] || !(prop > -HUGE_VAL) || isnan(prop))
+                continue;
+            if (!(now > -HUGE_VAL) || log(b->ru[j]) < prop - now) {
+                memcpy(X + j * n, b->RX + j * n, n * sizeof(double));
+                memcpy(Z + j * p, b->RZ + j * p, p * sizeof(double));
+                memcpy(P + j * p, b->RP + j * p, p * sizeof(double));
+                b->cll[j] = b->rll[j];
+                llk[j] = b->rllk[j];
+                b->lp[j] = b->rlp[j];
+                b->acc[j] = 1;
+                acc++;
+            }
+        }
+        /* the accepted members hold new values: fresh ids, the others
+         * keep theirs (renumbered so that ids stay below N) */
+        for (i = 0; i < p; i++) {
+            uint32_t next = 0;
+            if (!b->est[i])
+                continue;
+            memset(b->idmap, 0xff, N * sizeof(uint32_t));
+            for (j = 0; j < N; j++) {
+                uint32_t old = vid[i + j * p];
+                if (b->acc[j]) {
+                    vid[i + j * p] = next++;
+                } else {
+                    if (b->idmap[old] == UINT32_MAX)
+                        b->idmap[old] = next++;
+                    vid[i + j * p] = b->idmap[old];
+                }
+            }
+        }
+        b->rm_sweeps++;
+        b->rm_proposed += live;
+        b->rm_accepted += acc;
+        /* scale adaptation toward an acceptance rate of 0.234 (Roberts,
+         * Gelman & Gilks 1997), kept within 1e-3 .. 1e3 of the start */
+        if (live > 0) {
+            b->rm_adapt *= exp((double)acc / (double)live - 0.234);
+            if (b->rm_adapt < 1e-3)
+                b->rm_adapt = 1e-3;
+            if (b->rm_adapt > 1e3)
+                b->rm_adapt = 1e3;
+        }
+        if (diversity(cfg, b, vid) >= target)
+            break;
+    }
+    return SL_OK;
+}
+
 /* Whether the observed rows r0 .. r0+m-1 depend on the parameters (a
  * parameter observed, a linear row with a parameter column, an operator
  * function, which sees them): then a parameter move changes their
@@ -868,7 +1236,7 @@ static sl_status temper_cycle(const sl_pf_config *cfg, pf_buffers *b, size_t k,
                  q = cfg->model->n_forcing;
     const sl_param_mover *mv = cfg->param_move;
     const int moving = p > 0 && mv != NULL && mv->when == SL_MOVE_AT_RESAMPLE &&
-                       mv->member != NULL;
+                       mv->member != NULL && !b->replay;
     const int relik = moving && obs_need_params(cfg, r0, m);
     size_t i, j;
     *phi = 0.0;
@@ -911,6 +1279,10 @@ static sl_status temper_cycle(const sl_pf_config *cfg, pf_buffers *b, size_t k,
         gather_cols(p, N, b->Z[c], b->Z[nx], b->anc, b->nt);
         gather_cols(q, N, b->E[c], b->E[nx], b->anc, b->nt);
         gather_cols(1, N, b->ll, b->llx, b->anc, b->nt);
+        if (b->replay) {
+            gather_cols(1, N, b->cll, b->tmp, b->anc, b->nt);
+            memcpy(b->cll, b->tmp, N * sizeof(double));
+        }
         for (j = 0; j < N; j++) {
             if (p > 0)
                 memcpy(b->vid[nx] + j * p, b->vid[c] + (size_t)b->anc[j] * p,
@@ -930,6 +1302,10 @@ static sl_status temper_cycle(const sl_pf_config *cfg, pf_buffers *b, size_t k,
         }
         if (b->nwin > 0 && k > 0)
             window_gather(cfg, b, k - 1, k < b->nwin ? k : b->nwin);
+        *cur = nx;
+        if (b->replay &&
+            (st = replay_move(cfg, b, k, nx, *phi, b->tanc, b->ll, *steps, evals, err)) != SL_OK)
+            return st;
         if (moving) {
             double *Zn = b->Z[nx], *Pn = b->P[nx];
             const uint32_t purpose = (uint32_t)SL_PURPOSE_TEMPER_MOVE + (uint32_t)*steps;
@@ -944,7 +1320,6 @@ static sl_status temper_cycle(const sl_pf_config *cfg, pf_buffers *b, size_t k,
             }
             refresh_ids(p, N, b->Z[c], Zn, b->vid[nx]);
         }
-        *cur = nx;
         if (relik) {
             size_t skipped;
             if ((st = predict_obs(cfg, b, r0, m, tk, b->X[nx], b->P[nx], err)) != SL_OK)
@@ -1007,6 +1382,15 @@ sl_status sl_pf_run(const sl_pf_config *cfg, double *X, double *P, double *w,
     }
     if (q > 0)
         memset(b.E[0], 0, q * N * sizeof(double));
+    if (b.replay) {
+        memcpy(b.X0, X, n * N * sizeof(double));
+        for (i = 0; i < p; i++)
+            b.est[i] = (unsigned char)(N > 1 && b.vid[0][i + p] != 0);
+        for (j = 0; j < N; j++)
+            b.cll[j] = 0.0;
+        b.rm_adapt = 1.0;
+        cfg->param_move->prepare(&cfg->move, p, N, b.Z[0], NULL, b.mvlast, NULL);
+    }
     out->log_evidence = 0.0;
     out->steps = 0;
     infl = cfg->enkf != NULL ? cfg->enkf->inflation : 1.0;
@@ -1021,6 +1405,8 @@ sl_status sl_pf_run(const sl_pf_config *cfg, double *X, double *P, double *w,
         size_t nsteps, l, nskipped = 0, nobs, tsteps = 0, evals = 0;
         double h, ess, wsum, tphi = 0.0, tlogz = 0.0;
         int reweight = 0, resampled = 0, degenerate = 0;
+
+        b.rm_sweeps = b.rm_proposed = b.rm_accepted = 0;
 
         if (k > 0 && p > 0 && moving && cfg->param_move->when == SL_MOVE_EACH_CYCLE) {
             memcpy(b.Z[1 - cur], Zc, p * N * sizeof(double));
@@ -1041,8 +1427,8 @@ sl_status sl_pf_run(const sl_pf_config *cfg, double *X, double *P, double *w,
             double ts = t + (double)l * h;
             double te = l + 1 == nsteps ? tk : t + (double)(l + 1) * h;
             if (q > 0)
-                eval_forcing(cfg, &b, b.E[cur], ts, s, &fidx);
-            st = step_all(cfg, &b, Xc, Pc, ts, te, s, err);
+                eval_forcing(cfg, &b, b.E[cur], b.U, ts, s, &fidx, NULL);
+            st = step_all(cfg, &b, Xc, Pc, b.U, ts, te, s, NULL, err);
             s++;
             out->steps++;
             if (st != SL_OK)
@@ -1057,17 +1443,7 @@ sl_status sl_pf_run(const sl_pf_config *cfg, double *X, double *P, double *w,
         t = tk;
 
         /* optional additive state noise, then the health of every member */
-        if (cfg->state_noise != NULL) {
-#pragma omp parallel for num_threads(b.nt) schedule(static) private(i)
-            for (j = 0; j < N; j++) {
-                sl_stream sn;
-                sl_stream_init(&sn, cfg->seed, (uint32_t)j, (uint32_t)k,
-                               SL_PURPOSE_STATE_NOISE);
-                for (i = 0; i < n; i++)
-                    if (cfg->state_noise[i] > 0)
-                        Xc[i + j * n] += cfg->state_noise[i] * sl_stream_normal(&sn);
-            }
-        }
+        add_state_noise(cfg, &b, Xc, k, NULL);
         ndead = 0;
         for (j = 0; j < N; j++) {
             if (!b.dead[cur][j] && has_nonfinite(Xc + j * n, n))
@@ -1122,6 +1498,13 @@ sl_status sl_pf_run(const sl_pf_config *cfg, double *X, double *P, double *w,
                 Zc = b.Z[cur];
             }
         }
+        if (b.replay)
+            /* the cycle's log-likelihood of each member, before the
+             * weighting reuses b.ll */
+            for (j = 0; j < N; j++)
+                b.llk[j] = b.dead[cur][j] ? -HUGE_VAL
+                                          : (nobs > 0 && !isnan(b.ll[j]) ? b.ll[j]
+                                                                         : (nobs > 0 ? -HUGE_VAL : 0.0));
         if (out->temper_steps != NULL)
             out->temper_steps[k] = nobs > 0 ? (double)(tsteps + 1) : 0.0;
         if (out->loglik_evals != NULL)
@@ -1212,7 +1595,7 @@ sl_status sl_pf_run(const sl_pf_config *cfg, double *X, double *P, double *w,
             int nx = 1 - cur;
             /* the kernel move is fitted to the weighted ensemble before
              * it is resampled */
-            int kmove = p > 0 && moving && cfg->enkf == NULL &&
+            int kmove = p > 0 && moving && cfg->enkf == NULL && !b.replay &&
                         cfg->param_move->when == SL_MOVE_AT_RESAMPLE;
             if (kmove && cfg->param_move->prepare != NULL)
                 cfg->param_move->prepare(&cfg->move, p, N, Zc, w, b.mv, NULL);
@@ -1251,7 +1634,33 @@ sl_status sl_pf_run(const sl_pf_config *cfg, double *X, double *P, double *w,
             }
             cur = nx;
             resampled = 1;
+            if (b.replay) {
+                uint32_t *lk = b.lin + k * N;
+                gather_cols(1, N, b.cll, b.tmp, b.anc, b.nt);
+                memcpy(b.cll, b.tmp, N * sizeof(double));
+                gather_cols(1, N, b.llk, b.tmp, b.anc, b.nt);
+                memcpy(b.llk, b.tmp, N * sizeof(double));
+                for (j = 0; j < N; j++)
+                    lk[j] = tsteps > 0 ? b.tanc[b.anc[j]] : b.anc[j];
+                st = replay_move(cfg, &b, k, cur, 1.0, lk, b.llk, 0, &evals, err);
+                if (st != SL_OK)
+                    return st;
+                if (out->loglik_evals != NULL)
+                    out->loglik_evals[k] = (double)evals;
+            }
+        } else if (b.replay) {
+            for (j = 0; j < N; j++)
+                b.lin[k * N + j] = tsteps > 0 ? b.tanc[j] : (uint32_t)j;
         }
+        if (b.replay)
+            for (j = 0; j < N; j++)
+                b.cll[j] += b.llk[j];
+        if (out->move_sweeps != NULL)
+            out->move_sweeps[k] = (double)b.rm_sweeps;
+        if (out->move_accept != NULL)
+            out->move_accept[k] = b.rm_proposed > 0
+                                      ? (double)b.rm_accepted / (double)b.rm_proposed
+                                      : (double)NAN;
         out->resampled[k] = resampled || tsteps > 0;
         if (p > 0)
             record_diversity(cfg, &b, b.vid[cur], b.Z[cur], w, out, k);

@@ -124,6 +124,24 @@ double sl_transform_inverse(const sl_transform *t, double z)
     return clamp_open(x, t->lo, t->hi);
 }
 
+double sl_transform_logjac(const sl_transform *t, double z)
+{
+    double a;
+    switch (t->kind) {
+    case SL_TRANSFORM_NONE:
+        return isnan(z) ? z : 0.0;
+    case SL_TRANSFORM_LOG:    /* x = lo + e^z */
+    case SL_TRANSFORM_NEGLOG: /* x = hi - e^z */
+        return z;
+    case SL_TRANSFORM_LOGIT:
+        /* x = lo + (hi - lo) s(z), dx/dz = (hi - lo) s(z) (1 - s(z)),
+         * written with |z| so that neither factor underflows early */
+        a = fabs(z);
+        return log(t->hi - t->lo) - a - 2.0 * log1p(exp(-a));
+    }
+    return NAN;
+}
+
 /* ---------------------------------------------------------------------
  * Truncated standard normal by inversion
  * ------------------------------------------------------------------- */
@@ -246,6 +264,7 @@ typedef struct {
     int (*check)(const sl_prior_entry *e, const char **what);
     void (*support)(const sl_prior_entry *e, double *lo, double *hi);
     double (*draw)(const sl_prior_entry *e, sl_stream *s);
+    double (*logpdf)(const sl_prior_entry *e, double x);
 } dist_type;
 
 static int check_uniform(const sl_prior_entry *e, const char **what)
@@ -359,16 +378,70 @@ static double draw_fixed_entry(const sl_prior_entry *e, sl_stream *s)
     return e->a;
 }
 
+/* log of the standard normal density, -(z^2 + log(2 pi)) / 2 */
+static double log_phi(double z)
+{
+    return -0.5 * z * z - 0.91893853320467274178;
+}
+
+static double logpdf_uniform(const sl_prior_entry *e, double x)
+{
+    if (!(x >= e->a && x <= e->b))
+        return -HUGE_VAL;
+    return -log(e->b - e->a);
+}
+
+static double logpdf_normal(const sl_prior_entry *e, double x)
+{
+    if (!isfinite(x))
+        return -HUGE_VAL;
+    return log_phi((x - e->a) / e->b) - log(e->b);
+}
+
+static double logpdf_lognormal(const sl_prior_entry *e, double x)
+{
+    if (!(x > 0) || !isfinite(x))
+        return -HUGE_VAL;
+    return log_phi((log(x) - e->a) / e->b) - log(e->b) - log(x);
+}
+
+/* log(Phi(beta) - Phi(alpha)), alpha < beta, from the side where the
+ * difference keeps its precision (upper-tail probabilities above the
+ * mean, lower-tail ones below it) */
+static double log_normal_mass(double alpha, double beta)
+{
+    if (alpha >= 0)
+        return log(gsl_cdf_ugaussian_Q(alpha) - gsl_cdf_ugaussian_Q(beta));
+    if (beta <= 0)
+        return log(gsl_cdf_ugaussian_P(beta) - gsl_cdf_ugaussian_P(alpha));
+    return log1p(-gsl_cdf_ugaussian_P(alpha) - gsl_cdf_ugaussian_Q(beta));
+}
+
+static double logpdf_truncnormal(const sl_prior_entry *e, double x)
+{
+    if (!(x >= e->lo && x <= e->hi) || !isfinite(x))
+        return -HUGE_VAL;
+    return log_phi((x - e->a) / e->b) - log(e->b) -
+           log_normal_mass((e->lo - e->a) / e->b, (e->hi - e->a) / e->b);
+}
+
+/* a point mass has no density: 0 at its value (it is never moved) */
+static double logpdf_fixed(const sl_prior_entry *e, double x)
+{
+    return x == e->a ? 0.0 : -HUGE_VAL;
+}
+
 static const dist_type dist_types[SL_DIST_COUNT] = {
     {"uniform", "[lo hi]", 2, check_uniform, support_uniform,
-     draw_uniform_entry},
+     draw_uniform_entry, logpdf_uniform},
     {"normal", "[mean sd]", 2, check_location_scale, support_real,
-     draw_normal_entry},
+     draw_normal_entry, logpdf_normal},
     {"lognormal", "[meanlog sdlog]", 2, check_location_scale, support_positive,
-     draw_lognormal_entry},
+     draw_lognormal_entry, logpdf_lognormal},
     {"truncnormal", "[mean sd lo hi]", 4, check_truncnormal, support_truncnormal,
-     draw_truncnormal_entry},
-    {"fixed", "[value]", 1, check_fixed, support_fixed, draw_fixed_entry}
+     draw_truncnormal_entry, logpdf_truncnormal},
+    {"fixed", "[value]", 1, check_fixed, support_fixed, draw_fixed_entry,
+     logpdf_fixed}
 };
 
 static const dist_type *dist_of(int id)
@@ -487,4 +560,14 @@ sl_status sl_prior_draw(size_t p, const sl_prior_entry *prior, size_t N,
         }
     }
     return SL_OK;
+}
+
+double sl_prior_logpdf(const sl_prior_entry *e, double x)
+{
+    const dist_type *d = e != NULL ? dist_of(e->dist) : NULL;
+    double v;
+    if (d == NULL || isnan(x))
+        return -HUGE_VAL;
+    v = d->logpdf(e, x);
+    return isnan(v) ? -HUGE_VAL : v;
 }

@@ -35,6 +35,10 @@ struct sl_model {
     double dt;        /* the model's step */
     int discrete;     /* 1: a map that only advances whole steps of dt */
     int thread_safe;  /* 1: step may run on member blocks in parallel */
+    int member_draws; /* 1: step draws from streams keyed by the member
+                       * index `first + i` (model noise, perturbed events),
+                       * so re-running one member's path must pass its own
+                       * index; 0: the index is not used */
     size_t work;      /* doubles of per-thread scratch the step needs */
     sl_step_fn step;
     void *ctx;        /* the model's own data (matrices, a callback, ...) */

@@ -33,6 +33,12 @@ typedef struct {
     double min_ess;      /* weighted ESS below which the kernel's
                           * covariance is the unweighted one (kernel);
                           * 0 turns the guard off */
+    double rm_scale;     /* proposal scale in units of 2.38 / sqrt(d)
+                          * (resample_move), > 0 */
+    double rm_diversity; /* resample_move acts when the estimated parameter
+                          * with the fewest distinct values has fewer than
+                          * rm_diversity * N of them, in (0, 1] */
+    size_t rm_sweeps;    /* most Metropolis-Hastings sweeps per move, >= 1 */
 } sl_param_move_opts;
 
 /* What a move's preparation found (for diagnostics and tests). */
@@ -55,6 +61,9 @@ typedef struct {
     const char *name;
     int when;          /* sl_move_when */
     int needs_spread;  /* moves only parameters that differ between members */
+    int replay;        /* 1: member() only proposes; the filter accepts or
+                        * rejects each proposal by Metropolis-Hastings on
+                        * the member's whole path, re-run from the start */
     sl_status (*check)(const sl_param_move_opts *o, size_t p, sl_error *err);
     void (*prepare)(const sl_param_move_opts *o, size_t p, size_t N,
                     const double *Z, const double *w, double *ws,
@@ -65,17 +74,27 @@ typedef struct {
 
 /* The moves: "fixed", "random_walk", "liu_west" (Liu & West 2001, before
  * every cycle), "kernel" (regularised particle filter, Musso, Oudjane &
- * Le Gland 2001, with Liu-West shrinkage, at resampling). */
+ * Le Gland 2001, with Liu-West shrinkage, at resampling), "resample_move"
+ * (Gilks & Berzuini 2001: after resampling, Metropolis-Hastings steps
+ * that leave the joint posterior of parameters and paths invariant; the
+ * proposal z' = z + s L xi, L L' the members' covariance, s = rm_scale
+ * 2.38 / sqrt(d), Roberts & Rosenthal 2001). */
 extern const sl_param_mover sl_param_move_fixed;
 extern const sl_param_mover sl_param_move_random_walk;
 extern const sl_param_mover sl_param_move_liu_west;
 extern const sl_param_mover sl_param_move_kernel;
+extern const sl_param_mover sl_param_move_resample_move;
 
 /* The move of this name, or NULL. */
 const sl_param_mover *sl_param_mover_find(const char *name);
 
 /* The i-th move of the table (i = 0, 1, ...), NULL past the end. */
 const sl_param_mover *sl_param_mover_at(size_t i);
+
+/* Set the proposal scale of a prepared resample_move workspace ws to
+ * o->rm_scale 2.38 / sqrt(d) (nothing for the other moves). */
+void sl_param_move_rescale(const sl_param_mover *mv, const sl_param_move_opts *o,
+                           size_t p, double *ws);
 
 /* Doubles of workspace prepare needs for p parameters (0 if it overflows). */
 size_t sl_param_move_workspace(size_t p);

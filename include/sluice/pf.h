@@ -81,6 +81,28 @@ typedef struct {
      * methods move parameters by their analysis and ignore it. */
     const sl_param_mover *param_move;
     sl_param_move_opts move;
+    /* The parameters' priors (p entries, natural units), which a move
+     * with replay (resample_move) weighs its proposals by; may be NULL
+     * for the other moves. With resample_move, after the ensemble is
+     * resampled (at the end of a cycle, or after a tempering step) and
+     * when an estimated parameter has fewer than move.rm_diversity * N
+     * distinct values, every living member j proposes z' = z + s L xi
+     * (stream (seed, j, cycle, SL_PURPOSE_REPLAY_MOVE + (step << 12) +
+     * sweep), step 0 at the end of the cycle, s the tempering step) and
+     * its whole path is re-run from t0 with z': the same initial state,
+     * forcing perturbations, state noise and model draws as its
+     * ancestors had (their streams are keyed by the ancestors' indices,
+     * which the run keeps: T x N indices). The proposal is accepted with
+     * probability min(1, prior(z') L(z') / prior(z) L(z)) (densities in
+     * the transformed space), L the likelihood of the observations up to
+     * the cycle (the current one at the tempering exponent): a
+     * Metropolis-Hastings step that leaves the joint posterior of the
+     * parameters and the paths invariant (resample-move, Gilks &
+     * Berzuini 2001). Sweeps repeat, with the scale s adapted toward an
+     * acceptance rate of 0.234, until every estimated parameter has at
+     * least (1 + rm_diversity) / 2 * N distinct values or rm_sweeps
+     * sweeps are done. */
+    const sl_prior_entry *prior;
     const sl_resampler *resampler;
     double threshold;            /* resample when ESS < threshold * N */
     /* Adaptive likelihood tempering of the particle filter (temper.h;
@@ -169,7 +191,11 @@ typedef struct {
     double *temper_steps; /* T: likelihood steps of the cycle (1 untempered,
                            * 0 with no observation), or NULL */
     double *loglik_evals; /* T: member likelihood evaluations of the cycle
-                           * (N per pass over the ensemble), or NULL */
+                           * (N per pass over the ensemble, and N per
+                           * cycle re-run by resample_move), or NULL */
+    double *move_sweeps;  /* T: resample_move sweeps in the cycle, or NULL */
+    double *move_accept;  /* T: fraction of its proposals accepted (NaN
+                           * when it did not act), or NULL */
     double log_evidence; /* sum of logz */
     size_t steps;        /* model steps taken */
 } sl_pf_output;
@@ -177,6 +203,21 @@ typedef struct {
 /* Check a configuration; reasons "badconfig", "badtimes", "offgrid",
  * "badforcing", "forcingrange", "badobs" and those of sl_loglik_check. */
 sl_status sl_pf_check(const sl_pf_config *cfg, sl_error *err);
+
+/* 1 if a member's path holds random draws besides its initial state:
+ * perturbed forcing (a series with noise and sd > 0), state noise > 0,
+ * or a model that draws by member index (model noise, perturbed
+ * events); 0 if the path is a deterministic function of the initial
+ * state and the parameters. */
+int sl_pf_paths_random(const sl_pf_config *cfg);
+
+/* The parameter move a run gets by default: resample_move when the
+ * paths are deterministic given the initial states and the parameters
+ * (there its Metropolis-Hastings moves sample the exact posterior), the
+ * kernel move otherwise (re-running a random path conditions the
+ * parameters on the few paths that survive resampling, which narrows
+ * their bands). */
+const sl_param_mover *sl_pf_auto_move(const sl_pf_config *cfg);
 
 /* Bytes of workspace sl_pf_run needs, or 0 if a size overflows. */
 size_t sl_pf_workspace(const sl_pf_config *cfg);

@@ -34,6 +34,10 @@ sl_transform sl_transform_for_bounds(double lo, double hi);
 double sl_transform_forward(const sl_transform *t, double x);
 double sl_transform_inverse(const sl_transform *t, double z);
 
+/* log |dx/dz| at z, x = sl_transform_inverse(t, z): what turns a density
+ * of x into the density of z (log p_z(z) = log p_x(x) + logjac). */
+double sl_transform_logjac(const sl_transform *t, double z);
+
 /* Prior distributions of one parameter:
  *   uniform     a = lower, b = upper (a < b)
  *   normal      a = mean,  b = standard deviation > 0
@@ -66,6 +70,11 @@ sl_status sl_prior_check(const sl_prior_entry *e, size_t index, sl_error *err);
 
 /* The support of the entry's distribution: bounds for the transform. */
 void sl_prior_support(const sl_prior_entry *e, double *lo, double *hi);
+
+/* The log-density of the entry's distribution at x (natural units),
+ * -Inf outside its support or for NaN; a fixed entry gives 0 at its
+ * value (a point mass, never moved) and -Inf elsewhere. */
+double sl_prior_logpdf(const sl_prior_entry *e, double x);
 
 /* Draw member j = first .. first+N-1 of p parameters into P (p x N,
  * column-major): member j uses stream (seed, j, 0, SL_PURPOSE_PRIOR) alone,

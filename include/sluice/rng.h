@@ -27,7 +27,11 @@ enum {
     SL_PURPOSE_USER = 64,       /* first value left to callers */
     /* the parameter move after tempering step s (1, 2, ...) of a cycle
      * draws from (seed, member, cycle, SL_PURPOSE_TEMPER_MOVE + s) */
-    SL_PURPOSE_TEMPER_MOVE = 0x40000000
+    SL_PURPOSE_TEMPER_MOVE = 0x40000000,
+    /* the Metropolis-Hastings proposals of resample_move: sweep w after
+     * tempering step s (0: at the end of the cycle) draws from (seed,
+     * member, cycle, SL_PURPOSE_REPLAY_MOVE + (s << 12) + w) */
+    SL_PURPOSE_REPLAY_MOVE = 0x20000000
 };
 
 /* A stream: Philox4x32-10 (Salmon et al. 2011, Random123) with key = seed

@@ -102,8 +102,35 @@
 % how estimated parameters (those whose prior has spread) move, in their
 % transformed space (log for positive, logit for bounded):
 % @table @code
+% @item 'auto'
+% (default) @code{'resample_move'} when every member's path is a
+% deterministic function of its initial state and parameters (no
+% forcing noise, state noise, event noise or model noise), where it
+% samples the exact posterior; @code{'kernel'} otherwise. The move used
+% is in @code{res.param_move}.
+% @item 'resample_move'
+% (Gilks & Berzuini 2001) after the particle filter resamples, when an
+% estimated parameter has fewer than @code{move_diversity} * N distinct
+% values among the members, every member proposes z' = z + s L e (L L'
+% the members' covariance, s = @code{move_scale} * 2.38 / sqrt(d),
+% Roberts & Rosenthal 2001), its whole path is re-run from the start
+% with z' (the same initial state, forcing perturbations, state noise
+% and model draws its ancestors had), and z' is accepted with
+% probability min(1, prior(z') L(z') / (prior(z) L(z))), L the
+% likelihood of every observation so far (at the current exponent when
+% tempering). Sweeps repeat, the scale adapting toward an acceptance rate
+% of 0.234, until every estimated parameter has (1 + move_diversity) / 2
+% * N distinct values or @code{move_sweeps} sweeps are done; the
+% per-cycle sweeps and acceptance rates are in @code{res.move_sweeps} and
+% @code{res.move_accept}. A Metropolis-Hastings move of the joint
+% posterior of parameters and paths: exact (up to Monte Carlo error) when
+% the paths are deterministic. With random paths it keeps the
+% parameters conditional on the few early paths that survive
+% resampling, which narrows their bands (on a linear-Gaussian test to
+% about half the exact width). Its cost grows with the record: a sweep
+% re-runs the whole record so far. It does not combine with @code{lag}.
 % @item 'kernel'
-% (default) each time the particle filter resamples, every member's
+% each time the particle filter resamples, every member's
 % parameters are moved by the kernel of the regularised particle filter
 % (Musso, Oudjane & Le Gland 2001) with the shrinkage of Liu & West
 % (2001): z <- a z + (1 - a) m + h L e, e standard normal, where m and
@@ -129,6 +156,15 @@
 % @end table
 % @item kernel_scale
 % factor on the kernel bandwidth h (default 1; > 0).
+% @item move_diversity
+% resample_move acts when an estimated parameter has fewer than this
+% fraction of N distinct values (in (0, 1], default 0.5).
+% @item move_sweeps
+% most Metropolis-Hastings sweeps per move of resample_move (1 to 1000,
+% default 10).
+% @item move_scale
+% factor on resample_move's starting proposal scale 2.38 / sqrt(d)
+% (finite, > 0; default 1).
 % @item temper_ess
 % adaptive likelihood tempering inside a cycle of the particle filter
 % (Jasra, Stephens, Doucet & Tsagaris 2011; Beskos, Jasra, Kantas &
@@ -198,10 +234,13 @@
 % @code{params.spread} (p x T: each parameter's weighted standard
 % deviation in its transformed space at the end of each cycle),
 % @code{temper_steps} (1 x T: likelihood steps of each cycle, 1 without
-% tempering, 0 with no observation) and @code{loglik_evals} (1 x T:
+% tempering, 0 with no observation), @code{loglik_evals} (1 x T:
 % member likelihood evaluations per cycle, N per pass; a pass is redone
 % after a tempering step's move only when the observations depend on the
-% parameters) for the particle filter,
+% parameters; resample_move adds N per cycle it re-runs),
+% @code{param_move} (the move used), @code{move_sweeps} and
+% @code{move_accept} (1 x T: resample_move's sweeps and acceptance rate
+% per cycle, NaN where it did not act) for the particle filter,
 % @code{skipped} (missing observations per cycle), @code{nonfinite}
 % (members whose state was not finite, given zero weight), @code{final}
 % (the last ensemble: @code{X}, @code{P}, @code{w}) and, when asked,
@@ -248,7 +287,7 @@ function res = filter (model, prior, obs, varargin)
   check_memory (n, p, q, N, obs_field (obs, 'time'), opts);
 
   % initial ensemble: prior draws by name
-  [X0, P0, lower, upper] = initial_ensemble (model, prior, N, opts.seed);
+  [X0, P0, lower, upper, pdist] = initial_ensemble (model, prior, N, opts.seed);
   check_spread (model, P0, lower, upper, opts);
 
   % observations and the cycle times
@@ -292,6 +331,14 @@ function res = filter (model, prior, obs, varargin)
   c.param_step(lower == upper) = 0;
   c.lw_delta = opts.liu_west_delta;
   c.kernel_scale = opts.kernel_scale;
+  c.move_diversity = opts.move_diversity;
+  c.move_sweeps = opts.move_sweeps;
+  c.move_scale = opts.move_scale;
+  c.prior_dist = pdist.id;
+  c.prior_a = pdist.a;
+  c.prior_b = pdist.b;
+  c.prior_lo = pdist.lo;
+  c.prior_hi = pdist.hi;
   c.resample = opts.resample;
   c.threshold = opts.resample_threshold;
   c.temper_ess = opts.temper_ess;
@@ -342,6 +389,9 @@ function res = filter (model, prior, obs, varargin)
   if (strcmp (opts.method, 'pf'))
     res.temper_steps = r.temper_steps;
     res.loglik_evals = r.loglik_evals;
+    res.param_move = r.param_move;
+    res.move_sweeps = r.move_sweeps;
+    res.move_accept = r.move_accept;
   end
   if (~strcmp (opts.method, 'pf'))
     res.inflation = r.inflation;
@@ -384,8 +434,8 @@ function check_spread (model, P0, lower, upper, opts)
   % an estimated parameter (its bounds let it move) whose prior gives
   % every member the same value cannot be moved by a move that takes its
   % size from the ensemble's spread
-  if (~any (strcmp (opts.param_move, {'kernel', 'liu_west'})) || ...
-      (strcmp (opts.param_move, 'kernel') && ~strcmp (opts.method, 'pf')))
+  if (~any (strcmp (opts.param_move, {'auto', 'kernel', 'liu_west', 'resample_move'})) || ...
+      (~strcmp (opts.param_move, 'liu_west') && ~strcmp (opts.method, 'pf')))
     return;
   end
   for i = 1:size (P0, 1)
@@ -417,7 +467,7 @@ function warn_diversity (res, P0, lower, upper, tab, cyc)
       warning ('sluice:filter:paramcollapse', ...
                ['parameter ''%s'' has collapsed: %d distinct value(s) among %d members at the ', ...
                 'end (spread %.3g of its largest); its band is too narrow to trust. ', ...
-                'Use param_move ''kernel'' (the default) or more members'], ...
+                'Use param_move ''auto'' (the default), ''kernel'' or ''resample_move'', or more members'], ...
                names{i}, dv, N, sp(end) / max (max (sp), realmin));
     end
     w = res.final.w(:)';
@@ -465,8 +515,9 @@ function opts = parse_options (args)
   opts = struct ('method', 'pf', 'members', 1000, 'seed', [], 't0', [], ...
                  'times', zeros (1, 0), 'forcing', [], 'forcing_noise', [], ...
                  'events', [], 'event_noise', [], ...
-                 'state_noise', 0, 'param_move', 'kernel', 'param_step', 0.05, ...
+                 'state_noise', 0, 'param_move', 'auto', 'param_step', 0.05, ...
                  'kernel_scale', 1, 'temper_ess', 0, 'temper_max_steps', 50, ...
+                 'move_diversity', 0.5, 'move_sweeps', 10, 'move_scale', 1, ...
                  'liu_west_delta', 0.98, 'resample', 'systematic', ...
                  'resample_threshold', 0.5, 'quantiles', [0.05 0.5 0.95], ...
                  'history', false, 'threads', 0, 'progress', 'auto', ...
@@ -510,7 +561,7 @@ function opts = parse_options (args)
   if (any (opts.state_noise < 0))
     error ('sluice:filter:badoption', 'state_noise must be >= 0');
   end
-  moves = {'kernel', 'fixed', 'random_walk', 'liu_west'};
+  moves = {'auto', 'kernel', 'fixed', 'random_walk', 'liu_west', 'resample_move'};
   if (~ischar (opts.param_move) || ~any (strcmp (opts.param_move, moves)))
     error ('sluice:filter:badoption', 'param_move must be one of ''%s''', ...
            strjoin (moves, ''', '''));
@@ -532,6 +583,17 @@ function opts = parse_options (args)
     opts.temper_ess = te;
   end
   opts.temper_max_steps = whole (opts.temper_max_steps, 'temper_max_steps', 1, 10000);
+  md = real_scalar (opts.move_diversity, 'move_diversity');
+  if (~(md > 0 && md <= 1))
+    error ('sluice:filter:badoption', ...
+           'move_diversity (a fraction of the members) must lie in (0, 1], got %g', md);
+  end
+  opts.move_sweeps = whole (opts.move_sweeps, 'move_sweeps', 1, 1000);
+  ms = real_scalar (opts.move_scale, 'move_scale');
+  if (~(ms > 0) || ~isfinite (ms))
+    error ('sluice:filter:badoption', ...
+           'move_scale (a factor on the proposal step) must be finite and > 0, got %g', ms);
+  end
   opts.param_step = real_vector (opts.param_step, 'param_step', false);
   if (any (opts.param_step < 0))
     error ('sluice:filter:badoption', 'param_step must be >= 0');
@@ -786,9 +848,13 @@ function check_model (model)
   end
 end
 
-function [X0, P0, lower, upper] = initial_ensemble (model, prior, N, seed)
+function [X0, P0, lower, upper, pdist] = initial_ensemble (model, prior, N, seed)
   n = numel (model.states);
   p = numel (model.params);
+  % the parameters' priors as the core weighs them (id -1: no prior, the
+  % default holds)
+  pdist = struct ('id', -ones (p, 1), 'a', zeros (p, 1), 'b', zeros (p, 1), ...
+                  'lo', zeros (p, 1), 'hi', zeros (p, 1));
   try
     X0 = repmat (model.x0(:), 1, N);
     P0 = repmat (model.defaults(:), 1, N);
@@ -824,6 +890,7 @@ function [X0, P0, lower, upper] = initial_ensemble (model, prior, N, seed)
         P0(ip, :) = D(k, :);
         lower(ip) = prior(k).lower;
         upper(ip) = prior(k).upper;
+        pdist = prior_entry (pdist, ip, prior(k));
         if (lower(ip) < model.lower(ip) || upper(ip) > model.upper(ip))
           error ('sluice:filter:badprior', ...
                  ['the prior of ''%s'' allows [%g, %g], outside the parameter''s bounds ', ...
@@ -841,6 +908,22 @@ function [X0, P0, lower, upper] = initial_ensemble (model, prior, N, seed)
   end
 end
 
+
+
+function pdist = prior_entry (pdist, ip, pr)
+  % distribution ids as sluice.kernel.draw numbers them
+  ids = struct ('uniform', 0, 'normal', 1, 'lognormal', 2, 'truncnormal', 3, 'fixed', 4);
+  a = pr.args;
+  pdist.id(ip) = ids.(pr.dist);
+  pdist.a(ip) = a(1);
+  if (numel (a) >= 2)
+    pdist.b(ip) = a(2);
+  end
+  if (numel (a) >= 4)
+    pdist.lo(ip) = a(3);
+    pdist.hi(ip) = a(4);
+  end
+end
 
 %!shared m, pr, obs, y, km, kq, kll
 %! % a scalar linear-Gaussian river level: x_t = 0.9 x_(t-1) + N(0, 0.1),

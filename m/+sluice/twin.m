@@ -617,7 +617,7 @@ end
 %! a = sluice.twin (spec, truth, net, 'seed', 9, 'prior', pr, 'filter', {'members', 100});
 %! b = sluice.twin (spec, truth, net, struct ('seed', 9, 'prior', pr, 'filter', {{'members', 100}}));
 %! c = sluice.twin (spec, truth, net, 'seed', 10, 'prior', pr, 'filter', {'members', 100});
-%! assert (isequal (a, b));
+%! assert (isequaln (a, b));   % NaN marks cycles without a parameter move
 %! assert (~isequal (a.obs.value, c.obs.value));
 %! assert (~isequal (a.truth.X, c.truth.X));
 

@@ -13,15 +13,17 @@ static uint32_t anc[NMAX];
 
 static void test_table(void)
 {
-    const char *names[] = {"kernel", "fixed", "random_walk", "liu_west"};
+    const char *names[] = {"kernel", "fixed", "random_walk", "liu_west", "resample_move"};
     size_t i;
-    for (i = 0; i < 4; i++) {
+    for (i = 0; i < 5; i++) {
         const sl_param_mover *m = sl_param_mover_find(names[i]);
         CHECK(m != NULL && strcmp(m->name, names[i]) == 0, "find %s", names[i]);
         CHECK(sl_param_mover_at(i) == m, "the table holds %s at %lu", names[i],
               (unsigned long)i);
     }
-    CHECK(sl_param_mover_at(4) == NULL, "the table has four moves");
+    CHECK(sl_param_mover_at(5) == NULL, "the table has five moves");
+    CHECK(sl_param_move_resample_move.replay && !sl_param_move_kernel.replay,
+          "only resample_move re-runs paths");
     CHECK(sl_param_mover_find("jump") == NULL, "unknown name");
     CHECK(sl_param_mover_find(NULL) == NULL, "NULL name");
     CHECK(sl_param_mover_find("Kernel") == NULL, "names are case-sensitive");
@@ -223,6 +225,83 @@ static void test_kernel_degenerate(void)
     CHECK_CLOSE(m1[0], Z[2 * 17], 0.05, "centred on the one member with weight");
 }
 
+/* The proposal of resample_move: z' - z ~ N(0, s^2 V), s = rm_scale
+ * 2.38 / sqrt(d) (Roberts & Rosenthal 2001), V the members' covariance.
+ * Monte Carlo check over N = 40000 proposals from one z (standard errors
+ * of the variances about s^2 V sqrt(2 / N) = 0.007 s^2 V). */
+static void test_rm_proposal(void)
+{
+    const size_t N = NMAX;
+    sl_param_move_opts o;
+    sl_param_move_info info;
+    sl_error err;
+    double ws[16], m0[2], V0[3], m1[2], V1[3], s2;
+    const double bad_div[] = {0.0, -0.5, 1.5, NAN}, bad_scale[] = {0.0, -1.0, HUGE_VAL, NAN};
+    size_t j;
+    memset(&o, 0, sizeof o);
+    o.rm_scale = 1.0;
+    o.rm_diversity = 0.5;
+    o.rm_sweeps = 10;
+    CHECK(sl_param_move_resample_move.check(&o, 2, &err) == SL_OK, "default settings");
+    for (j = 0; j < 4; j++) {
+        o.rm_diversity = bad_div[j];
+        CHECK(sl_param_move_resample_move.check(&o, 2, &err) == SL_EINVAL &&
+                  strcmp(err.reason, "badconfig") == 0, "diversity %g refused", bad_div[j]);
+        o.rm_diversity = 0.5;
+        o.rm_scale = bad_scale[j];
+        CHECK(sl_param_move_resample_move.check(&o, 2, &err) == SL_EINVAL,
+              "scale %g refused", bad_scale[j]);
+        o.rm_scale = 1.0;
+    }
+    o.rm_sweeps = 0;
+    CHECK(sl_param_move_resample_move.check(&o, 2, &err) == SL_EINVAL, "no sweeps refused");
+    o.rm_sweeps = 10;
+    make_ensemble(N, 0);
+    moments(N, Z, NULL, m0, V0);
+    o.rm_scale = 0.5;
+    sl_param_move_resample_move.prepare(&o, 2, N, Z, NULL, ws, &info);
+    s2 = 0.25 * 2.38 * 2.38 / 2.0;
+    CHECK(info.dim == 2, "two parameters with spread");
+    CHECK_CLOSE(info.h, 0.5 * 2.38 / sqrt(2.0), 1e-15, "scale");
+    for (j = 0; j < N; j++) {
+        sl_stream s;
+        Zr[2 * j] = 0.3;
+        Zr[2 * j + 1] = -0.2;
+        sl_stream_init(&s, 11, (uint32_t)j, 1, SL_PURPOSE_PARAM_MOVE);
+        sl_param_move_resample_move.member(&o, 2, ws, Zr + 2 * j, &s);
+    }
+    moments(N, Zr, NULL, m1, V1);
+    CHECK_CLOSE(m1[0], 0.3, 0.03, "proposals centred on z (1)");
+    CHECK_CLOSE(m1[1], -0.2, 0.03, "proposals centred on z (2)");
+    CHECK_CLOSE(V1[0] / (s2 * V0[0]), 1.0, 0.04, "proposal variance 1");
+    CHECK_CLOSE(V1[1] / (s2 * V0[1]), 1.0, 0.06, "proposal covariance");
+    CHECK_CLOSE(V1[2] / (s2 * V0[2]), 1.0, 0.04, "proposal variance 2");
+    /* rescaling a prepared workspace sets the scale for the new setting */
+    o.rm_scale = 2.0;
+    sl_param_move_rescale(&sl_param_move_resample_move, &o, 2, ws);
+    for (j = 0; j < N; j++) {
+        sl_stream s;
+        Zr[2 * j] = 0.0;
+        Zr[2 * j + 1] = 0.0;
+        sl_stream_init(&s, 12, (uint32_t)j, 1, SL_PURPOSE_PARAM_MOVE);
+        sl_param_move_resample_move.member(&o, 2, ws, Zr + 2 * j, &s);
+    }
+    moments(N, Zr, NULL, m1, V1);
+    CHECK_CLOSE(V1[0] / (16.0 * s2 * V0[0]), 1.0, 0.04, "rescaled proposal variance");
+    /* a parameter without spread is never proposed a move */
+    make_ensemble(N, 1);
+    o.rm_scale = 1.0;
+    sl_param_move_resample_move.prepare(&o, 2, N, Z, NULL, ws, &info);
+    CHECK(info.dim == 1, "one parameter with spread");
+    for (j = 0; j < 100; j++) {
+        sl_stream s;
+        double z[2] = {0.1, -1.37};
+        sl_stream_init(&s, 13, (uint32_t)j, 1, SL_PURPOSE_PARAM_MOVE);
+        sl_param_move_resample_move.member(&o, 2, ws, z, &s);
+        CHECK(z[1] == -1.37, "the fixed parameter stays put");
+    }
+}
+
 int main(void)
 {
     test_table();
@@ -231,5 +310,6 @@ int main(void)
     test_kernel_moments();
     test_kernel_fixed_param();
     test_kernel_degenerate();
+    test_rm_proposal();
     CHECK_DONE("test_param_move");
 }

@@ -760,6 +760,63 @@ static void test_names_and_errors(void)
     }
 }
 
+/* Log-densities against GSL's densities (gsl_ran_flat_pdf,
+ * gsl_ran_gaussian_pdf, gsl_ran_lognormal_pdf; the truncated normal as
+ * the Gaussian density over the mass gsl_cdf_gaussian_P gives), and the
+ * transforms' log-Jacobians against a central difference of the inverse. */
+static void test_logpdf(void)
+{
+    sl_prior_entry u = {SL_DIST_UNIFORM, 0.5, 4.0, 0, 0};
+    sl_prior_entry nrm = {SL_DIST_NORMAL, -1.5, 0.7, 0, 0};
+    sl_prior_entry lgn = {SL_DIST_LOGNORMAL, log(100.0), 0.5, 0, 0};
+    sl_prior_entry tn = {SL_DIST_TRUNCNORMAL, 2.0, 3.0, 0.0, 5.0};
+    sl_prior_entry tail = {SL_DIST_TRUNCNORMAL, 0.0, 1.0, 6.0, 7.0};
+    sl_prior_entry fx = {SL_DIST_FIXED, 3.0, 0, 0, 0};
+    const double xs[] = {0.6, 1.0, 2.5, 3.9};
+    size_t k;
+    for (k = 0; k < 4; k++) {
+        double x = xs[k];
+        double mass = gsl_cdf_gaussian_P(5.0 - 2.0, 3.0) - gsl_cdf_gaussian_P(0.0 - 2.0, 3.0);
+        CHECK_REL(sl_prior_logpdf(&u, x), log(gsl_ran_flat_pdf(x, 0.5, 4.0)), 1e-13, "uniform");
+        CHECK_REL(sl_prior_logpdf(&nrm, x), log(gsl_ran_gaussian_pdf(x + 1.5, 0.7)), 1e-13,
+                  "normal");
+        CHECK_REL(sl_prior_logpdf(&lgn, 40.0 * x),
+                  log(gsl_ran_lognormal_pdf(40.0 * x, log(100.0), 0.5)), 1e-13, "lognormal");
+        CHECK_REL(sl_prior_logpdf(&tn, x), log(gsl_ran_gaussian_pdf(x - 2.0, 3.0) / mass),
+                  1e-13, "truncnormal");
+    }
+    /* a far-tail truncation keeps its mass (Q(6) - Q(7) ~ 1e-9) */
+    CHECK_REL(sl_prior_logpdf(&tail, 6.5),
+              log(gsl_ran_ugaussian_pdf(6.5) /
+                  (gsl_cdf_ugaussian_Q(6.0) - gsl_cdf_ugaussian_Q(7.0))), 1e-12, "far tail");
+    CHECK(sl_prior_logpdf(&u, 0.4) == -HUGE_VAL, "uniform outside its support");
+    CHECK(sl_prior_logpdf(&lgn, 0.0) == -HUGE_VAL, "lognormal at 0");
+    CHECK(sl_prior_logpdf(&lgn, -1.0) == -HUGE_VAL, "lognormal below 0");
+    CHECK(sl_prior_logpdf(&tn, 5.5) == -HUGE_VAL, "truncnormal outside");
+    CHECK(sl_prior_logpdf(&nrm, NAN) == -HUGE_VAL, "NaN");
+    CHECK(sl_prior_logpdf(&nrm, HUGE_VAL) == -HUGE_VAL, "Inf");
+    CHECK(sl_prior_logpdf(&fx, 3.0) == 0.0 && sl_prior_logpdf(&fx, 3.1) == -HUGE_VAL, "fixed");
+    {
+        const sl_transform ts[] = {sl_transform_for_bounds(-HUGE_VAL, HUGE_VAL),
+                                   sl_transform_for_bounds(2.0, HUGE_VAL),
+                                   sl_transform_for_bounds(-HUGE_VAL, 7.0),
+                                   sl_transform_for_bounds(0.5, 4.0)};
+        const double zv[] = {-3.0, -0.2, 0.0, 1.3, 4.0};
+        size_t i, j;
+        for (i = 0; i < 4; i++)
+            for (j = 0; j < 5; j++) {
+                double z = zv[j], h = 1e-5;
+                double d = (sl_transform_inverse(&ts[i], z + h) -
+                            sl_transform_inverse(&ts[i], z - h)) / (2.0 * h);
+                CHECK_CLOSE(sl_transform_logjac(&ts[i], z), log(fabs(d)), 1e-8,
+                            "log-Jacobian against a central difference");
+            }
+        /* far out the logistic's slope underflows in the difference but
+         * not in the closed form: log((hi - lo) e^-|z|) to rounding */
+        CHECK_REL(sl_transform_logjac(&ts[3], 800.0), log(3.5) - 800.0, 1e-14, "logit far out");
+    }
+}
+
 int main(void)
 {
     gsl_set_error_handler_off();
@@ -769,5 +826,6 @@ int main(void)
     test_inversion();
     test_determinism();
     test_names_and_errors();
+    test_logpdf();
     CHECK_DONE("test_prior");
 }
