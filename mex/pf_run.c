@@ -302,6 +302,7 @@ void mexFunction(int nlhs, mxArray *plhs[], int nrhs, const mxArray *prhs[])
     move = slm_string(FN, slm_field(FN, c, "param_move", 1), 1, "param_move");
     cfg.param_move = strcmp(move, "auto") == 0 ? sl_pf_auto_move(&cfg)
                                                : sl_param_mover_find(move);
+    cfg.inner = slm_field(FN, c, "inner", 0) != NULL ? fcount(c, "inner", 0, 1e9) : 0;
     if (cfg.param_move == NULL)
         slm_fail(FN, "badoption", "unknown parameter move '%s'", move);
     cfg.move.step = p ? fmat(c, "param_step", p, 0, SLM_VECTOR) : NULL;
@@ -533,6 +534,7 @@ void mexFunction(int nlhs, mxArray *plhs[], int nrhs, const mxArray *prhs[])
     }
     mxSetField(res, 0, "log_evidence", mxCreateDoubleScalar(out.log_evidence));
     mxSetField(res, 0, "steps", mxCreateDoubleScalar((double)out.steps));
-    mxSetField(res, 0, "param_move", mxCreateString(cfg.param_move->name));
+    mxSetField(res, 0, "param_move",
+               mxCreateString(cfg.inner > 0 ? "smc2" : cfg.param_move->name));
     plhs[0] = res;
 }

@@ -103,6 +103,26 @@ typedef struct {
      * least (1 + rm_diversity) / 2 * N distinct values or rm_sweeps
      * sweeps are done. */
     const sl_prior_entry *prior;
+    /* SMC2 (Chopin, Jacob & Papaspiliopoulos 2013; inner = 0: off): the N
+     * members form G = N / inner groups of `inner` members (N a multiple
+     * of inner); the members of group g share the parameters of its first
+     * member and run as that parameter vector's particle filter (inner
+     * resampling within the group when its ESS < threshold * inner,
+     * stream (seed, g, cycle, SL_PURPOSE_INNER_RESAMPLE)). Each group is
+     * weighted by its filter's likelihood increment; when the ESS of the
+     * group weights falls below threshold * G the groups are resampled
+     * and each gets a particle-marginal Metropolis-Hastings move (Andrieu,
+     * Doucet & Holenstein 2010): a proposal z' as resample_move's, a new
+     * particle filter of `inner` members run with z' from t0 (initial
+     * states drawn from the run's initial ensemble, all streams from a
+     * seed of the move's own), accepted with probability min(1, prior(z')
+     * L^(z') / (prior(z) L^(z))), L^ the filters' likelihood estimates;
+     * sweeps as resample_move's (move.rm_*), over groups. Exact for the
+     * parameters' posterior for any inner >= 1 as the number of groups
+     * grows. Needs prior; no lag, tempering or ensemble Kalman method. The
+     * member weights are the group weight times the weight within the
+     * group. */
+    size_t inner;
     const sl_resampler *resampler;
     double threshold;            /* resample when ESS < threshold * N */
     /* Adaptive likelihood tempering of the particle filter (temper.h;

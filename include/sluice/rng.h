@@ -24,6 +24,10 @@ enum {
     SL_PURPOSE_SMOOTH = 10,     /* backward-simulation draws of a smoother */
     SL_PURPOSE_TEMPER_RESAMPLE = 11, /* resampling at tempering step s of a
                                       * cycle: stream (seed, s, cycle, 11) */
+    SL_PURPOSE_INNER_RESAMPLE = 12, /* SMC2: resampling within group g at
+                                     * cycle c: stream (seed, g, c, 12) */
+    SL_PURPOSE_OUTER_RESAMPLE = 13, /* SMC2: resampling of the groups */
+    SL_PURPOSE_RERUN_START = 14,    /* SMC2: a proposal filter's start */
     SL_PURPOSE_USER = 64,       /* first value left to callers */
     /* the parameter move after tempering step s (1, 2, ...) of a cycle
      * draws from (seed, member, cycle, SL_PURPOSE_TEMPER_MOVE + s) */

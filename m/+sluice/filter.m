@@ -129,6 +129,25 @@
 % resampling, which narrows their bands (on a linear-Gaussian test to
 % about half the exact width). Its cost grows with the record: a sweep
 % re-runs the whole record so far. It does not combine with @code{lag}.
+% @item 'smc2'
+% SMC2 (Chopin, Jacob & Papaspiliopoulos 2013), for the exact posterior
+% of the parameters of a model with noisy paths: @code{members} parameter
+% vectors, each running its own particle filter of
+% @code{inner_members} members (so members x inner_members states in
+% all). Each vector is weighted by its filter's likelihood increments;
+% when the ESS of those weights falls below @code{resample_threshold}
+% times their number, the vectors are resampled and each takes
+% particle-marginal Metropolis-Hastings steps (Andrieu, Doucet &
+% Holenstein 2010): a proposal as resample_move's, a new particle filter
+% run with it from the start, accepted by the ratio of the filters'
+% likelihood estimates times the priors (sweeps, scale and diversity as
+% resample_move's). Exact for the parameters as the number of vectors
+% grows, for any inner_members; more inner members raise the acceptance
+% rate. The state summaries weigh every member by its vector's weight
+% times its weight within the vector, and @code{log_evidence} estimates
+% the evidence. Costly: a move re-runs every vector's filter over the
+% record so far. Not with @code{lag}, @code{history}, tempering or an
+% ensemble Kalman method.
 % @item 'kernel'
 % each time the particle filter resamples, every member's
 % parameters are moved by the kernel of the regularised particle filter
@@ -162,6 +181,9 @@
 % @item move_sweeps
 % most Metropolis-Hastings sweeps per move of resample_move (1 to 1000,
 % default 10).
+% @item inner_members
+% members of each parameter vector's particle filter with @code{'smc2'}
+% (a whole number >= 1, default 100).
 % @item move_scale
 % factor on resample_move's starting proposal scale 2.38 / sqrt(d)
 % (finite, > 0; default 1).
@@ -334,6 +356,10 @@ function res = filter (model, prior, obs, varargin)
   c.move_diversity = opts.move_diversity;
   c.move_sweeps = opts.move_sweeps;
   c.move_scale = opts.move_scale;
+  if (strcmp (opts.param_move, 'smc2'))
+    c.param_move = 'resample_move';
+    c.inner = opts.inner_members;
+  end
   c.prior_dist = pdist.id;
   c.prior_a = pdist.a;
   c.prior_b = pdist.b;
@@ -518,6 +544,7 @@ function opts = parse_options (args)
                  'state_noise', 0, 'param_move', 'auto', 'param_step', 0.05, ...
                  'kernel_scale', 1, 'temper_ess', 0, 'temper_max_steps', 50, ...
                  'move_diversity', 0.5, 'move_sweeps', 10, 'move_scale', 1, ...
+                 'inner_members', 100, ...
                  'liu_west_delta', 0.98, 'resample', 'systematic', ...
                  'resample_threshold', 0.5, 'quantiles', [0.05 0.5 0.95], ...
                  'history', false, 'threads', 0, 'progress', 'auto', ...
@@ -561,7 +588,7 @@ function opts = parse_options (args)
   if (any (opts.state_noise < 0))
     error ('sluice:filter:badoption', 'state_noise must be >= 0');
   end
-  moves = {'auto', 'kernel', 'fixed', 'random_walk', 'liu_west', 'resample_move'};
+  moves = {'auto', 'kernel', 'fixed', 'random_walk', 'liu_west', 'resample_move', 'smc2'};
   if (~ischar (opts.param_move) || ~any (strcmp (opts.param_move, moves)))
     error ('sluice:filter:badoption', 'param_move must be one of ''%s''', ...
            strjoin (moves, ''', '''));
@@ -589,6 +616,19 @@ function opts = parse_options (args)
            'move_diversity (a fraction of the members) must lie in (0, 1], got %g', md);
   end
   opts.move_sweeps = whole (opts.move_sweeps, 'move_sweeps', 1, 1000);
+  opts.inner_members = whole (opts.inner_members, 'inner_members', 1, 2^31);
+  if (strcmp (opts.param_move, 'smc2'))
+    if (~strcmp (opts.method, 'pf'))
+      error ('sluice:filter:badoption', 'param_move ''smc2'' is a particle method: use method ''pf''');
+    end
+    % members counts the parameter vectors; each runs inner_members states
+    if (opts.members * opts.inner_members > 2^31)
+      error ('sluice:filter:badoption', ...
+             'members x inner_members must be at most 2^31, got %d x %d', ...
+             opts.members, opts.inner_members);
+    end
+    opts.members = opts.members * opts.inner_members;
+  end
   ms = real_scalar (opts.move_scale, 'move_scale');
   if (~(ms > 0) || ~isfinite (ms))
     error ('sluice:filter:badoption', ...
