@@ -1018,6 +1018,15 @@ function write_text (f, rf, opts, bands, tk, scores, have_obs, have_truth)
         fprintf (fid, '  %-12s %d  (smallest %d)\n', rf.param_names{k}, dv(end), min (dv));
       end
     end
+    if (isfield (rf, 'param_move') && ischar (rf.param_move))
+      fprintf (fid, '\nParameter move: %s', rf.param_move);
+      if (isfield (rf, 'move_accept') && any (~isnan (rf.move_accept)))
+        acc = rf.move_accept(~isnan (rf.move_accept));
+        fprintf (fid, ' (%d Metropolis-Hastings sweeps in %d cycles, acceptance %.2f on average)', ...
+                 sum (rf.move_sweeps), numel (acc), mean (acc));
+      end
+      fprintf (fid, '\n');
+    end
   else
     fprintf (fid, '\nThe model has no parameters.\n');
   end
@@ -1075,6 +1084,24 @@ end
 %!   assert (sig, [137 80 78 71]);
 %!   C = csvread (fullfile (d, 'summary.csv'), 1, 0);
 %!   assert (C(:, 2), r0.states.mean(:), 1e-8);
+%! unwind_protect_cleanup
+%!   confirm_recursive_rmdir (false, 'local');
+%!   if (exist (d, 'dir')), rmdir (d, 's'); end
+%! end_unwind_protect
+
+%!test
+%! % the summary names the parameter move and its acceptance
+%! m1 = sluice.model (@(t, X, P, U, dt) P(1, :) .* X, 'states', {'x'}, 'params', {'a'}, 'x0', 5);
+%! o1 = struct ('time', (1:20)', 'variable', {repmat({'x'}, 20, 1)}, ...
+%!              'value', 5 * 0.9 .^ (1:20)', 'sigma', 0.05 * ones (20, 1));
+%! r1 = sluice.filter (m1, sluice.prior ('a', 'normal', [0.9 0.1]), o1, 'members', 200, ...
+%!                     'seed', 1, 't0', 0, 'progress', false);
+%! d = tempname ();
+%! unwind_protect
+%!   sluice.report (r1, 'outdir', d);
+%!   txt = fileread (fullfile (d, 'summary.txt'));
+%!   assert (~isempty (strfind (txt, 'Parameter move: resample_move (')));
+%!   assert (~isempty (regexp (txt, 'acceptance 0\.\d\d on average', 'once')));
 %! unwind_protect_cleanup
 %!   confirm_recursive_rmdir (false, 'local');
 %!   if (exist (d, 'dir')), rmdir (d, 's'); end
