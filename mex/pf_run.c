@@ -303,6 +303,7 @@ void mexFunction(int nlhs, mxArray *plhs[], int nrhs, const mxArray *prhs[])
     cfg.param_move = strcmp(move, "auto") == 0 ? sl_pf_auto_move(&cfg)
                                                : sl_param_mover_find(move);
     cfg.inner = slm_field(FN, c, "inner", 0) != NULL ? fcount(c, "inner", 0, 1e9) : 0;
+    cfg.wenkf = slm_field(FN, c, "wenkf", 0) != NULL && fscalar(c, "wenkf") != 0;
     if (cfg.param_move == NULL)
         slm_fail(FN, "badoption", "unknown parameter move '%s'", move);
     cfg.move.step = p ? fmat(c, "param_step", p, 0, SLM_VECTOR) : NULL;

@@ -123,6 +123,19 @@ typedef struct {
      * member weights are the group weight times the weight within the
      * group. */
     size_t inner;
+    /* The weighted ensemble Kalman filter (Papadakis, Memin, Cuzol &
+     * Gengembre 2010; 0: off): the particle filter whose members, at a
+     * cycle with observations, move by a perturbed-observation ensemble
+     * Kalman update of their states (the gain from the weighted forecast
+     * ensemble, the perturbations from stream (seed, j, cycle,
+     * SL_PURPOSE_ANALYSIS)) and are weighted by likelihood x transition
+     * density / proposal density, so that the weights correct the
+     * update: exact as N grows, whatever the gain. The transition over a
+     * cycle is the deterministic forecast plus the state noise, which
+     * must be > 0 on every state; observations Gaussian, of states,
+     * parameters or linear operators. Parameters are not updated by the
+     * analysis (param_move moves them at resampling). */
+    int wenkf;
     const sl_resampler *resampler;
     double threshold;            /* resample when ESS < threshold * N */
     /* Adaptive likelihood tempering of the particle filter (temper.h;

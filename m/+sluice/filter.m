@@ -27,7 +27,18 @@
 % Options (a struct or name/value pairs):
 % @table @code
 % @item method
-% @code{'pf'} (default): the particle filter. The ensemble Kalman methods
+% @code{'pf'} (default): the particle filter. @code{'wenkf'}: the
+% weighted ensemble Kalman filter (Papadakis, Memin, Cuzol & Gengembre
+% 2010), a particle filter for models between the two regimes: at a cycle
+% with observations each member's states move by a perturbed-observation
+% ensemble Kalman update (the gain from the weighted forecast ensemble)
+% and the member is weighted by likelihood x transition density /
+% proposal density, so the weights correct the update (exact as the
+% members grow, tested against the Kalman filter) and the log-evidence
+% stays an estimate of the evidence. The transition is the model's step
+% plus @code{state_noise}, which must be > 0 on every state; observations
+% Gaussian, of states, parameters or linear operators; parameters move
+% by @code{param_move}, not by the update. The ensemble Kalman methods
 % (Gaussian observations only; states and parameters updated together by
 % state augmentation, parameters in their transformed space):
 % @code{'enkf'} (stochastic, perturbed observations), @code{'etkf'}
@@ -378,6 +389,7 @@ function res = filter (model, prior, obs, varargin)
   c.X0 = X0;
   c.P0 = P0;
   c.method = opts.method;
+  c.wenkf = double (opts.wenkf);
   c.inflation = opts.inflation;
   c.rtpp = opts.rtpp;
   c.rtps = opts.rtps;
@@ -389,6 +401,9 @@ function res = filter (model, prior, obs, varargin)
 
   res = struct ();
   res.method = opts.method;
+  if (opts.wenkf)
+    res.method = 'wenkf';
+  end
   res.model = model.name;
   res.members = N;
   res.seed = opts.seed;
@@ -513,7 +528,7 @@ function warn_diversity (res, P0, lower, upper, tab, cyc)
       end
     end
   end
-  if (strcmp (res.method, 'pf') && ~isempty (cyc))
+  if (any (strcmp (res.method, {'pf', 'wenkf'})) && ~isempty (cyc))
     hasobs = false (1, numel (res.times));
     hasobs(unique (cyc(~isnan (tab.value)))) = true;
     low = (res.ess < L.lowess_ess) & hasobs;
@@ -551,10 +566,16 @@ function opts = parse_options (args)
                  'inflation', 1, 'rtpp', 0, 'rtps', 0, 'adaptive_inflation', false, ...
                  'inflation_max', 2, 'localization', [], 'operators', [], 'lag', 0);
   opts = sluice.kernel.name_value (opts, args, 'filter');
-  methods = {'pf', 'enkf', 'etkf', 'ensrf', 'eakf', 'letkf'};
+  methods = {'pf', 'wenkf', 'enkf', 'etkf', 'ensrf', 'eakf', 'letkf'};
   if (~ischar (opts.method) || ~any (strcmp (opts.method, methods)))
     error ('sluice:filter:badmethod', 'unknown method; the methods are %s', ...
            strjoin (methods, ', '));
+  end
+  % the weighted ensemble Kalman filter is a particle filter with another
+  % proposal: the particle filter's path with a flag
+  opts.wenkf = strcmp (opts.method, 'wenkf');
+  if (opts.wenkf)
+    opts.method = 'pf';
   end
   opts.inflation = real_scalar (opts.inflation, 'inflation');
   if (opts.inflation < 1)

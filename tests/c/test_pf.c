@@ -3,6 +3,7 @@
  * across thread counts, every reason of sl_pf_check, degenerate cycles,
  * resampling and ancestry, and absurd workspace sizes. */
 #include "check.h"
+#include "sluice/integrate.h"
 #include "sluice/loglik.h"
 #include "sluice/pf.h"
 #include "sluice/rng.h"
@@ -1034,8 +1035,208 @@ static void check_lag(void)
     free(X0);
 }
 
+/* The worked example above (x_k = x_(k-1) + N(0, 1), y = 1, 2, 0 with
+ * unit error, x_0 ~ N(0, 1); hand values from the Kalman filter) by SMC2
+ * with 200 groups of 100 members (no parameters: independent filters
+ * weighted by their evidence) and by the weighted ensemble Kalman filter
+ * (the model's step without noise, the noise as state noise). Tolerances
+ * as in check_worked_example (a few Monte Carlo errors). */
+static void check_smc2_wenkf(void)
+{
+    enum { N = 20000, T = 3 };
+    const double yv[T] = {1.0, 2.0, 0.0}, times[T] = {1.0, 2.0, 3.0};
+    const double hand_mean[T] = {2.0 / 3.0, 1.5, 4.0 / 7.0};
+    const double hand_logz = -1.5 * log(TWO_PI) - 0.5 * log(21.0) - 13.0 / 14.0;
+    const double one = 1.0;
+    double A = 1.0, L = 1.0, *X0 = malloc(N * sizeof *X0);
+    sl_linear lin = {1, 0, &A, NULL, NULL, &L}, det = {1, 0, &A, NULL, NULL, NULL};
+    sl_model md, mdet;
+    sl_pf_config cfg;
+    obs_table o;
+    sl_error err;
+    run_buf r;
+    sl_status st;
+    size_t j, k;
+    CHECK(X0 != NULL, "memory");
+    if (X0 == NULL)
+        return;
+    CHECK(sl_linear_model(&md, &lin, 1.0, &err) == SL_OK, "linear model");
+    CHECK(sl_linear_model(&mdet, &det, 1.0, &err) == SL_OK, "deterministic linear model");
+    one_obs_per_cycle(&o, T, yv, 1.0);
+    for (j = 0; j < N; j++) {
+        sl_stream s;
+        sl_stream_init(&s, 7, (uint32_t)j, 0, SL_PURPOSE_PRIOR);
+        X0[j] = sl_stream_normal(&s);
+    }
+    base_config(&cfg, &md, N, T, times, &o);
+    cfg.inner = 100;
+    cfg.move.rm_scale = 1.0;
+    cfg.move.rm_diversity = 0.5;
+    cfg.move.rm_sweeps = 3;
+    st = run(&cfg, X0, &r, &err);
+    CHECK(st == SL_OK, "SMC2 run: %s", st ? err.message : "");
+    if (st == SL_OK) {
+        for (k = 0; k < T; k++)
+            CHECK_CLOSE(r.out.mean[k], hand_mean[k], 0.012, "SMC2 filtered mean");
+        CHECK_CLOSE(r.out.log_evidence, hand_logz, 0.05, "SMC2 log-evidence");
+    }
+    run_free(&r);
+    cfg.inner = 300; /* 20000 members are not whole groups of 300 */
+    CHECK(sl_pf_check(&cfg, &err) == SL_EINVAL && strcmp(err.reason, "badconfig") == 0,
+          "SMC2 groups must divide the members");
+    base_config(&cfg, &mdet, N, T, times, &o);
+    cfg.wenkf = 1;
+    CHECK(sl_pf_check(&cfg, &err) == SL_EINVAL, "the weighted EnKF needs state noise");
+    cfg.state_noise = &one;
+    st = run(&cfg, X0, &r, &err);
+    CHECK(st == SL_OK, "weighted EnKF run: %s", st ? err.message : "");
+    if (st == SL_OK) {
+        for (k = 0; k < T; k++)
+            CHECK_CLOSE(r.out.mean[k], hand_mean[k], 0.012, "weighted EnKF filtered mean");
+        CHECK_CLOSE(r.out.log_evidence, hand_logz, 0.05, "weighted EnKF log-evidence");
+        /* near the optimal proposal: most members stay effective */
+        CHECK(r.out.ess[0] > 0.6 * N, "weighted EnKF ESS %g", r.out.ess[0]);
+    }
+    run_free(&r);
+    free(X0);
+}
+
+/* resample_move on the built-in GR4J (63 states, 4 parameters) with
+ * perturbed rain and evaporation: a proposal of scale 1e-9 is accepted
+ * at nearly every member, since each re-run reproduces the member's path
+ * (its forcing draws come from its ancestors' streams) to rounding; a
+ * normal scale rejects many. Also run under AddressSanitizer. */
+static void check_resample_move(void)
+{
+    enum { N = 200, T = 40, NS = 63 };
+    const sl_model_def *d = sl_model_def_find("gr4j");
+    static double times[T], Fv[T * 2], Ft[T], y[T], sg[T], aux[T];
+    static size_t first[T + 1], var[T];
+    static int fam[T];
+    const int noise[2] = {SL_FORCING_MULTIPLICATIVE, SL_FORCING_MULTIPLICATIVE};
+    const double fsd[2] = {0.2, 0.1}, fphi[2] = {0.3, 0.0};
+    sl_prior_entry prior[4];
+    sl_transform tr[4];
+    sl_model md;
+    sl_def_model dm;
+    sl_pf_config cfg;
+    sl_pf_output out;
+    sl_error err;
+    double *P = malloc(4 * N * sizeof *P), *w = malloc(N * sizeof *w), *X = malloc(NS * N * sizeof *X);
+    double mean[(NS + 4) * T], ess[T], logz[T], res[T], deg[T], skip[T], nonf[T], sw[T], acc[T];
+    void *work;
+    size_t j, k, i, moved;
+    double amin;
+    int scale;
+    CHECK(d != NULL && P != NULL && w != NULL && X != NULL, "gr4j and memory");
+    if (d == NULL || P == NULL || w == NULL || X == NULL)
+        return;
+    CHECK(sl_def_model_init(&md, &dm, d, 0, NULL, 0, NULL, NULL, &err) == SL_OK, "gr4j model");
+    for (k = 0; k < T; k++) {
+        sl_stream s;
+        sl_stream_init(&s, 3, 0, (uint32_t)k, SL_PURPOSE_USER);
+        Ft[k] = (double)k;
+        times[k] = (double)(k + 1);
+        Fv[k] = sl_stream_uniform(&s) < 0.4 ? -6.0 * log(sl_stream_uniform(&s)) : 0.0;
+        Fv[T + k] = 2.0;
+        first[k] = k;
+        var[k] = NS - 1; /* Q */
+        y[k] = 0.5 + 0.02 * (double)k;
+        sg[k] = 0.3;
+        aux[k] = 0.0;
+        fam[k] = SL_FAMILY_LOGNORMAL;
+    }
+    first[T] = T;
+    for (i = 0; i < 4; i++) {
+        prior[i].dist = SL_DIST_FIXED;
+        prior[i].a = d->p_default[i];
+        tr[i] = sl_transform_for_bounds(d->p_lower[i], d->p_upper[i]);
+    }
+    prior[0].dist = SL_DIST_LOGNORMAL;
+    prior[0].a = log(300.0);
+    prior[0].b = 0.3;
+    prior[2].dist = SL_DIST_LOGNORMAL;
+    prior[2].a = log(80.0);
+    prior[2].b = 0.3;
+    for (scale = 0; scale < 2; scale++) {
+        memset(&cfg, 0, sizeof cfg);
+        cfg.model = &md;
+        cfg.N = N;
+        cfg.t0 = 0.0;
+        cfg.T = T;
+        cfg.times = times;
+        cfg.obs_first = first;
+        cfg.y = y;
+        cfg.sigma = sg;
+        cfg.aux = aux;
+        cfg.family = fam;
+        cfg.var = var;
+        cfg.forcing.q = 2;
+        cfg.forcing.nt = T;
+        cfg.forcing.time = Ft;
+        cfg.forcing.value = Fv;
+        cfg.forcing.hold = 1;
+        cfg.forcing.noise = noise;
+        cfg.forcing.sd = fsd;
+        cfg.forcing.phi = fphi;
+        cfg.ptrans = tr;
+        cfg.prior = prior;
+        cfg.param_move = &sl_param_move_resample_move;
+        cfg.move.rm_scale = scale == 0 ? 1e-9 : 1.0;
+        cfg.move.rm_diversity = 0.5;
+        cfg.move.rm_sweeps = 5;
+        cfg.resampler = &sl_resampler_systematic;
+        cfg.threshold = 0.5;
+        cfg.seed = 11;
+        cfg.threads = 1;
+        memset(&out, 0, sizeof out);
+        out.mean = mean;
+        out.ess = ess;
+        out.logz = logz;
+        out.resampled = res;
+        out.degenerate = deg;
+        out.skipped = skip;
+        out.nonfinite = nonf;
+        out.move_sweeps = sw;
+        out.move_accept = acc;
+        for (j = 0; j < N; j++) {
+            sl_stream s;
+            memcpy(X + j * NS, d->x0, NS * sizeof(double));
+            sl_stream_init(&s, 5, (uint32_t)j, 0, SL_PURPOSE_PRIOR);
+            for (i = 0; i < 4; i++)
+                P[i + 4 * j] = d->p_default[i];
+            P[0 + 4 * j] = exp(log(300.0) + 0.3 * sl_stream_normal(&s));
+            P[2 + 4 * j] = exp(log(80.0) + 0.3 * sl_stream_normal(&s));
+        }
+        work = malloc(sl_pf_workspace(&cfg));
+        CHECK(work != NULL && sl_pf_run(&cfg, X, P, w, work, &out, &err) == SL_OK,
+              "resample_move run: %s", err.message);
+        free(work);
+        moved = 0;
+        amin = 1.0;
+        for (k = 0; k < T; k++)
+            if (sw[k] > 0) {
+                moved++;
+                if (acc[k] < amin)
+                    amin = acc[k];
+            } else {
+                CHECK(isnan(acc[k]), "no move, no acceptance rate");
+            }
+        CHECK(moved >= 2, "resample_move acted in %lu cycles", (unsigned long)moved);
+        if (scale == 0)
+            CHECK(amin > 0.99, "a still proposal is accepted (smallest rate %g)", amin);
+        else
+            CHECK(amin < 0.9, "a real proposal is sometimes rejected (smallest rate %g)", amin);
+    }
+    free(P);
+    free(w);
+    free(X);
+}
+
 int main(void)
 {
+    check_resample_move();
+    check_smc2_wenkf();
     check_worked_example();
     check_determinism();
     check_errors();
