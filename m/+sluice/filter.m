@@ -292,10 +292,13 @@
 % a parameter's final posterior weight lies in the outermost 5% of its
 % prior next to a finite bound, @code{sluice:filter:lowess} when the ESS
 % stays below 2 for 10 or more consecutive cycles with observations,
-% besides @code{sluice:filter:degenerate} and @code{sluice:filter:nonfinite}.
+% @code{sluice:filter:approxparams} when the default move estimated
+% parameters with the kernel move because the paths hold noise (their
+% bands are then approximate), besides @code{sluice:filter:degenerate}
+% and @code{sluice:filter:nonfinite}.
 % A prior without spread for a parameter whose bounds let it move is an
-% error (@code{sluice:filter:nospread}) with the moves @code{'kernel'} and
-% @code{'liu_west'}.
+% error (@code{sluice:filter:nospread}) with the moves @code{'auto'},
+% @code{'kernel'}, @code{'resample_move'} and @code{'liu_west'}.
 %
 % @seealso{sluice.model, sluice.prior, sluice.loglik, sluice.resample}
 % @end deftypefn
@@ -467,6 +470,19 @@ function res = filter (model, prior, obs, varargin)
     warning ('sluice:filter:nonfinite', ...
              ['%d member(s) reached a non-finite state (first at t = %g); ', ...
               'they were given zero weight'], max (res.nonfinite), times(k));
+  end
+  % the general caveat first, the specific diagnostics after it
+  % the default move on noisy paths is the kernel move, whose parameter
+  % bands are approximate: say so once, with the way to exact ones
+  est = lower < upper & any (P0 ~= P0(:, 1), 2);
+  if (strcmp (opts.param_move, 'auto') && isfield (res, 'param_move') && ...
+      strcmp (res.param_move, 'kernel') && any (est) && ~isempty (cyc))
+    warning ('sluice:filter:approxparams', ...
+             ['the paths hold noise (forcing, state or model noise), so the default ', ...
+              'kernel move estimated the parameters (%s): their bands are approximate ', ...
+              '(too narrow, or off, on long precise records). For exact bands use ', ...
+              'param_move ''smc2'' (slower) or check against sluice.pmmh'], ...
+             strjoin (res.param_names(est), ', '));
   end
   warn_diversity (res, P0, lower, upper, tab, cyc);
 end

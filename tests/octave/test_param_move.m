@@ -98,6 +98,27 @@
 %! assert (isequal (t1.log_evidence, t3.log_evidence));
 
 %!test
+%! % the default move on noisy paths (state noise here) is the kernel move,
+%! % and the run says its parameter bands are approximate; asked for by
+%! % name it does not; without noise the default is resample_move, with
+%! % no such warning
+%! o = {'members', 300, 'seed', 1, 't0', 0, 'progress', false};
+%! warning ('error', 'sluice:filter:approxparams', 'local');
+%! msg = '';
+%! try
+%!   sluice.filter (spec, pr, obs, o{:}, 'state_noise', sqrt (q));
+%! catch err
+%!   assert (err.identifier, 'sluice:filter:approxparams');
+%!   msg = err.message;
+%! end
+%! assert (~isempty (strfind (msg, 'smc2')) && ~isempty (strfind (msg, '(a)')));
+%! r = sluice.filter (spec, pr, obs, o{:}, 'state_noise', sqrt (q), 'param_move', 'kernel');
+%! assert (r.param_move, 'kernel');
+%! warning ('off', 'sluice:filter:atbound', 'local');
+%! r = sluice.filter (spec, pr, obs, o{:});
+%! assert (r.param_move, 'resample_move');
+
+%!test
 %! % a parameter fixed by its prior stays exactly put under the kernel move
 %! pr2 = sluice.prior ('x', 'normal', [0 1], 'a', 'fixed', 0.8);
 %! res = sluice.filter (spec, pr2, obs, 'members', 500, 'seed', 2, 't0', 0, ...
