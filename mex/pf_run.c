@@ -317,6 +317,7 @@ void mexFunction(int nlhs, mxArray *plhs[], int nrhs, const mxArray *prhs[])
                                 ? fscalar(c, "move_diversity") : 0.5;
     cfg.move.rm_sweeps = slm_field(FN, c, "move_sweeps", 0) != NULL
                              ? fcount(c, "move_sweeps", 1, 1000) : 10;
+    cfg.move.rm_paths = slm_field(FN, c, "move_paths", 0) != NULL ? fscalar(c, "move_paths") : 0.1;
     /* the priors of the parameters, for moves that weigh by them: ids as
      * sluice.kernel.draw takes them, -1 for a parameter without prior
      * (it keeps its default: a point mass there) */

@@ -328,6 +328,10 @@ static sl_status rm_check(const sl_param_move_opts *o, size_t p, sl_error *err)
         return sl_fail(err, SL_EINVAL, "badconfig",
                        "the diversity that starts resample_move must lie in (0, 1], got %g",
                        o->rm_diversity);
+    if (!(o->rm_paths >= 0 && o->rm_paths <= 1))
+        return sl_fail(err, SL_EINVAL, "badconfig",
+                       "the path step of resample_move must lie in [0, 1], got %g",
+                       o->rm_paths);
     if (o->rm_sweeps < 1 || o->rm_sweeps > 1000)
         return sl_fail(err, SL_EINVAL, "badconfig",
                        "resample_move's sweeps per move must be 1 to 1000, got %lu",

@@ -58,6 +58,14 @@ typedef struct {
     double rm_adapt;
     size_t rm_sweeps, rm_proposed, rm_accepted; /* of the current cycle */
     int replay;
+    /* resample_move on paths with noise (pcn): every member's standard
+     * normal draws, zlen per member (forcing draws of step s, series
+     * slot i at s * zq + i; state noise of cycle c, state slot l at
+     * zsteps * zq + c * zs + l), a gather target and the proposals' */
+    double *zp, *zp2, *rzp, pcn_beta;
+    size_t zlen, zq, zs, zsteps, *fslot, *sslot;
+    uint32_t s_now; /* steps taken so far (for gather_draws in tempering) */
+    int pcn;
     /* SMC2: the proposal system's gather targets, inner log-weights,
      * and the groups' transformed parameters (p x G, twice) */
     double *RX2, *RZ2, *RP2, *RE2, *rlw, *ZG, *ZG2;
@@ -141,6 +149,33 @@ static size_t layout(const sl_pf_config *cfg, unsigned char *base,
     carve(base, &off, N * 8, (void **)&b->llx);
     b->replay = cfg->enkf == NULL && cfg->inner == 0 && p > 0 &&
                 cfg->param_move != NULL && cfg->param_move->replay;
+    b->pcn = b->replay && cfg->move.rm_paths > 0 && !md->member_draws &&
+             sl_pf_paths_random(cfg);
+    b->zq = b->zs = b->zsteps = b->zlen = 0;
+    if (b->pcn) {
+        size_t i;
+        double t = cfg->t0;
+        for (i = 0; i < q; i++)
+            b->zq += cfg->forcing.noise != NULL && cfg->forcing.noise[i] != SL_FORCING_EXACT;
+        for (i = 0; i < n; i++)
+            b->zs += cfg->state_noise != NULL && cfg->state_noise[i] > 0;
+        for (k = 0; k < cfg->T; k++) {
+            double tk = cfg->times[k];
+            b->zsteps += md->discrete ? (size_t)floor((tk - t) / md->dt + 0.5)
+                                      : (size_t)ceil((tk - t) / md->dt - 1e-9);
+            t = tk;
+        }
+        if (b->zsteps > big / 8 / (b->zq + 1) || cfg->T > big / 8 / (b->zs + 1))
+            return 0;
+        b->zlen = b->zsteps * b->zq + cfg->T * b->zs;
+        if (b->zlen > big / 8 / N)
+            return 0;
+        carve(base, &off, b->zlen * N * 8, (void **)&b->zp);
+        carve(base, &off, b->zlen * N * 8, (void **)&b->zp2);
+        carve(base, &off, b->zlen * N * 8, (void **)&b->rzp);
+        carve(base, &off, (q + 1) * sizeof(size_t), (void **)&b->fslot);
+        carve(base, &off, (n + 1) * sizeof(size_t), (void **)&b->sslot);
+    }
     b->smc2 = cfg->enkf == NULL && cfg->inner > 0;
     if (b->replay || b->smc2) {
         if (cfg->T > big / 8 / N)
@@ -501,7 +536,7 @@ sl_status sl_pf_check(const sl_pf_config *cfg, sl_error *err)
  * Member j draws from the stream of index ids[j] (j when ids is NULL). */
 static void eval_forcing(const sl_pf_config *cfg, pf_buffers *b, double *E,
                          double *U, double t, uint32_t s, size_t *idx,
-                         const uint32_t *ids, uint64_t seed)
+                         const uint32_t *ids, uint64_t seed, double *zst, int zread)
 {
     const sl_forcing *f = &cfg->forcing;
     const size_t q = f->q, N = cfg->N, nt = f->nt;
@@ -535,7 +570,13 @@ static void eval_forcing(const sl_pf_config *cfg, pf_buffers *b, double *E,
                 u[i] = b->u0[i];
                 continue;
             }
-            z = sl_stream_normal(&st);
+            if (zst != NULL && zread) {
+                z = zst[j * b->zlen + (size_t)s * b->zq + b->fslot[i]];
+            } else {
+                z = sl_stream_normal(&st);
+                if (zst != NULL)
+                    zst[j * b->zlen + (size_t)s * b->zq + b->fslot[i]] = z;
+            }
             e[i] = (s == 0) ? sd * z : phi * e[i] + sqrt(1.0 - phi * phi) * sd * z;
             u[i] = f->noise[i] == SL_FORCING_ADDITIVE
                        ? b->u0[i] + e[i]
@@ -793,7 +834,8 @@ static void gather_cols(size_t rows, size_t N, const double *src, double *dst,
 /* The optional additive state noise of cycle k; member j draws from the
  * stream of index ids[j] (j when ids is NULL). */
 static void add_state_noise(const sl_pf_config *cfg, pf_buffers *b, double *X,
-                            size_t k, const uint32_t *ids, uint64_t seed)
+                            size_t k, const uint32_t *ids, uint64_t seed, double *zst,
+                            int zread)
 {
     const size_t N = cfg->N, n = cfg->model->n_state;
     size_t i, j;
@@ -805,9 +847,44 @@ static void add_state_noise(const sl_pf_config *cfg, pf_buffers *b, double *X,
         sl_stream_init(&sn, seed, ids != NULL ? ids[j] : (uint32_t)j, (uint32_t)k,
                        SL_PURPOSE_STATE_NOISE);
         for (i = 0; i < n; i++)
-            if (cfg->state_noise[i] > 0)
-                X[i + j * n] += cfg->state_noise[i] * sl_stream_normal(&sn);
+            if (cfg->state_noise[i] > 0) {
+                double z;
+                size_t at = zst != NULL
+                                ? j * b->zlen + b->zsteps * b->zq + k * b->zs + b->sslot[i]
+                                : 0;
+                if (zst != NULL && zread) {
+                    z = zst[at];
+                } else {
+                    z = sl_stream_normal(&sn);
+                    if (zst != NULL)
+                        zst[at] = z;
+                }
+                X[i + j * n] += cfg->state_noise[i] * z;
+            }
     }
+}
+
+/* pcn: the members' stored draws follow them through resampling (the
+ * filled part only: forcing draws of steps < s, state noise of cycles
+ * <= k) */
+static void gather_draws(pf_buffers *b, size_t N, const uint32_t *anc, uint32_t s, size_t k)
+{
+    const size_t nf = (size_t)s * b->zq, ns = (k + 1) * b->zs,
+                 off = b->zsteps * b->zq;
+    size_t j;
+    double *t;
+    if (!b->pcn)
+        return;
+#pragma omp parallel for num_threads(b->nt) schedule(static)
+    for (j = 0; j < N; j++) {
+        const double *src = b->zp + (size_t)anc[j] * b->zlen;
+        double *dst = b->zp2 + j * b->zlen;
+        memcpy(dst, src, nf * sizeof(double));
+        memcpy(dst + off, src + off, ns * sizeof(double));
+    }
+    t = b->zp;
+    b->zp = b->zp2;
+    b->zp2 = t;
 }
 
 static int has_nonfinite(const double *x, size_t n)
@@ -1100,7 +1177,8 @@ static sl_status replay(const sl_pf_config *cfg, pf_buffers *b, size_t k,
             double ts = t + (double)l * h;
             double te = l + 1 == nsteps ? tc : t + (double)(l + 1) * h;
             if (q > 0)
-                eval_forcing(cfg, b, b->RE, b->RU, ts, s, &fidx, ids, cfg->seed);
+                eval_forcing(cfg, b, b->RE, b->RU, ts, s, &fidx, ids, cfg->seed,
+                             b->pcn ? b->rzp : NULL, 1);
             st = step_all(cfg, b, b->RX, b->RP, b->RU, ts, te, s, ids, cfg->seed, err);
             s++;
             if (st != SL_OK)
@@ -1111,7 +1189,7 @@ static sl_status replay(const sl_pf_config *cfg, pf_buffers *b, size_t k,
                                (unsigned long)(k + 1), (unsigned long)cfg->T);
         }
         t = tc;
-        add_state_noise(cfg, b, b->RX, c, ids, cfg->seed);
+        add_state_noise(cfg, b, b->RX, c, ids, cfg->seed, b->pcn ? b->rzp : NULL, 1);
         for (j = 0; j < N; j++)
             if (!b->rdead[j] && has_nonfinite(b->RX + j * n, n))
                 b->rdead[j] = 1;
@@ -1182,7 +1260,8 @@ static sl_status replay_move(const sl_pf_config *cfg, pf_buffers *b, size_t k,
                              sl_error *err)
 {
     const sl_param_mover *mv = cfg->param_move;
-    const size_t N = cfg->N, n = cfg->model->n_state, p = cfg->model->n_param;
+    const size_t N = cfg->N, n = cfg->model->n_state, p = cfg->model->n_param,
+                 q = cfg->model->n_forcing;
     const double target = 0.5 * (1.0 + cfg->move.rm_diversity);
     double *X = b->X[cur], *Z = b->Z[cur], *P = b->P[cur];
     unsigned char *dead = b->dead[cur];
@@ -1190,6 +1269,7 @@ static sl_status replay_move(const sl_pf_config *cfg, pf_buffers *b, size_t k,
     sl_param_move_opts o = cfg->move;
     sl_param_move_info info;
     size_t w, i, j, nest = 0;
+    int zdone = 0;
     sl_status st;
     if (diversity(cfg, b, vid) >= cfg->move.rm_diversity)
         return SL_OK;
@@ -1201,6 +1281,12 @@ static sl_status replay_move(const sl_pf_config *cfg, pf_buffers *b, size_t k,
         size_t live = 0, acc = 0;
         const uint32_t purpose = (uint32_t)SL_PURPOSE_REPLAY_MOVE +
                                  ((uint32_t)tstep << 12) + (uint32_t)w;
+        /* with stored draws every other sweep moves the paths' draws
+         * instead of the parameters */
+        const int zsweep = b->pcn && (w % 2 == 1);
+        const size_t nf = (size_t)b->s_now * b->zq, ns = (k + 1) * b->zs,
+                     zoff = b->zsteps * b->zq;
+        const double beta = b->pcn_beta, rho = sqrt(1.0 - b->pcn_beta * b->pcn_beta);
         o.rm_scale = cfg->move.rm_scale * b->rm_adapt;
         mv->prepare(&o, p, N, Z, NULL, b->mv, &info);
         if (info.dim >= nest) {
@@ -1219,7 +1305,25 @@ static sl_status replay_move(const sl_pf_config *cfg, pf_buffers *b, size_t k,
             double *z = b->RZ + j * p;
             sl_stream_init(&sm, cfg->seed, (uint32_t)j, (uint32_t)k, purpose);
             memcpy(z, Z + j * p, p * sizeof(double));
-            mv->member(&o, p, b->mv, z, &sm);
+            if (b->pcn) {
+                const double *zs = b->zp + j * b->zlen;
+                double *zr = b->rzp + j * b->zlen;
+                size_t l;
+                memcpy(zr, zs, nf * sizeof(double));
+                memcpy(zr + zoff, zs + zoff, ns * sizeof(double));
+                if (zsweep) {
+                    /* preconditioned Crank-Nicolson (Cotter, Roberts,
+                     * Stuart & White 2013): z' = rho z + beta xi leaves
+                     * the draws' N(0, I) prior invariant, so the
+                     * acceptance ratio is the likelihood ratio alone */
+                    for (l = 0; l < nf; l++)
+                        zr[l] = rho * zr[l] + beta * sl_stream_normal(&sm);
+                    for (l = 0; l < ns; l++)
+                        zr[zoff + l] = rho * zr[zoff + l] + beta * sl_stream_normal(&sm);
+                }
+            }
+            if (!zsweep)
+                mv->member(&o, p, b->mv, z, &sm);
             b->ru[j] = sl_stream_uniform(&sm);
             for (i = 0; i < p; i++)
                 b->RP[i + j * p] = sl_transform_inverse(&cfg->ptrans[i], z[i]);
@@ -1238,6 +1342,13 @@ static sl_status replay_move(const sl_pf_config *cfg, pf_buffers *b, size_t k,
             if (b->rdead[j] || !(prop > -HUGE_VAL) || isnan(prop))
                 continue;
             if (!(now > -HUGE_VAL) || log(b->ru[j]) < prop - now) {
+                if (b->pcn) {
+                    memcpy(b->zp + j * b->zlen, b->rzp + j * b->zlen, nf * sizeof(double));
+                    memcpy(b->zp + j * b->zlen + zoff, b->rzp + j * b->zlen + zoff,
+                           ns * sizeof(double));
+                }
+                if (q > 0)
+                    memcpy(b->E[cur] + j * q, b->RE + j * q, q * sizeof(double));
                 memcpy(X + j * n, b->RX + j * n, n * sizeof(double));
                 memcpy(Z + j * p, b->RZ + j * p, p * sizeof(double));
                 memcpy(P + j * p, b->RP + j * p, p * sizeof(double));
@@ -1250,7 +1361,7 @@ static sl_status replay_move(const sl_pf_config *cfg, pf_buffers *b, size_t k,
         }
         /* the accepted members hold new values: fresh ids, the others
          * keep theirs (renumbered so that ids stay below N) */
-        for (i = 0; i < p; i++) {
+        for (i = 0; i < p && !zsweep; i++) {
             uint32_t next = 0;
             if (!b->est[i])
                 continue;
@@ -1271,14 +1382,21 @@ static sl_status replay_move(const sl_pf_config *cfg, pf_buffers *b, size_t k,
         b->rm_accepted += acc;
         /* scale adaptation toward an acceptance rate of 0.234 (Roberts,
          * Gelman & Gilks 1997), kept within 1e-3 .. 1e3 of the start */
-        if (live > 0) {
+        if (live > 0 && zsweep) {
+            b->pcn_beta *= exp((double)acc / (double)live - 0.234);
+            if (b->pcn_beta < 1e-4)
+                b->pcn_beta = 1e-4;
+            if (b->pcn_beta > 1.0)
+                b->pcn_beta = 1.0;
+        } else if (live > 0) {
             b->rm_adapt *= exp((double)acc / (double)live - 0.234);
             if (b->rm_adapt < 1e-3)
                 b->rm_adapt = 1e-3;
             if (b->rm_adapt > 1e3)
                 b->rm_adapt = 1e3;
         }
-        if (diversity(cfg, b, vid) >= target)
+        zdone |= zsweep;
+        if ((!b->pcn || zdone) && diversity(cfg, b, vid) >= target)
             break;
     }
     return SL_OK;
@@ -1368,6 +1486,7 @@ static sl_status temper_cycle(const sl_pf_config *cfg, pf_buffers *b, size_t k,
         gather_cols(p, N, b->P[c], b->P[nx], b->anc, b->nt);
         gather_cols(p, N, b->Z[c], b->Z[nx], b->anc, b->nt);
         gather_cols(q, N, b->E[c], b->E[nx], b->anc, b->nt);
+        gather_draws(b, N, b->anc, b->s_now, k);
         gather_cols(1, N, b->ll, b->llx, b->anc, b->nt);
         if (b->replay) {
             gather_cols(1, N, b->cll, b->tmp, b->anc, b->nt);
@@ -1703,7 +1822,7 @@ static sl_status smc2_cycle(const sl_pf_config *cfg, pf_buffers *b, smc2_sys *sy
         double ts = *t + (double)l * h;
         double te = l + 1 == nsteps ? tc : *t + (double)(l + 1) * h;
         if (q > 0)
-            eval_forcing(cfg, b, sy->E, b->U, ts, *s, fidx, NULL, seed);
+            eval_forcing(cfg, b, sy->E, b->U, ts, *s, fidx, NULL, seed, NULL, 0);
         st = step_all(cfg, b, sy->X, sy->P, b->U, ts, te, *s, NULL, seed, err);
         (*s)++;
         if (st != SL_OK)
@@ -1714,7 +1833,7 @@ static sl_status smc2_cycle(const sl_pf_config *cfg, pf_buffers *b, smc2_sys *sy
                            (unsigned long)(c + 1), (unsigned long)cfg->T);
     }
     *t = tc;
-    add_state_noise(cfg, b, sy->X, c, NULL, seed);
+    add_state_noise(cfg, b, sy->X, c, NULL, seed, NULL, 0);
     for (j = 0; j < N; j++)
         if (!sy->dead[j] && has_nonfinite(sy->X + j * n, n))
             sy->dead[j] = 1;
@@ -2165,6 +2284,16 @@ sl_status sl_pf_run(const sl_pf_config *cfg, double *X, double *P, double *w,
     }
     if (q > 0)
         memset(b.E[0], 0, q * N * sizeof(double));
+    if (b.pcn) {
+        size_t a = 0;
+        for (i = 0; i < q; i++)
+            b.fslot[i] = cfg->forcing.noise != NULL && cfg->forcing.noise[i] != SL_FORCING_EXACT
+                             ? a++ : 0;
+        a = 0;
+        for (i = 0; i < n; i++)
+            b.sslot[i] = cfg->state_noise != NULL && cfg->state_noise[i] > 0 ? a++ : 0;
+        b.pcn_beta = cfg->move.rm_paths;
+    }
     if (b.replay) {
         memcpy(b.X0, X, n * N * sizeof(double));
         for (i = 0; i < p; i++)
@@ -2210,7 +2339,8 @@ sl_status sl_pf_run(const sl_pf_config *cfg, double *X, double *P, double *w,
             double ts = t + (double)l * h;
             double te = l + 1 == nsteps ? tk : t + (double)(l + 1) * h;
             if (q > 0)
-                eval_forcing(cfg, &b, b.E[cur], b.U, ts, s, &fidx, NULL, cfg->seed);
+                eval_forcing(cfg, &b, b.E[cur], b.U, ts, s, &fidx, NULL, cfg->seed,
+                             b.pcn ? b.zp : NULL, 0);
             st = step_all(cfg, &b, Xc, Pc, b.U, ts, te, s, NULL, cfg->seed, err);
             s++;
             out->steps++;
@@ -2228,7 +2358,7 @@ sl_status sl_pf_run(const sl_pf_config *cfg, double *X, double *P, double *w,
         /* optional additive state noise, then the health of every member */
         if (cfg->wenkf)
             memcpy(b.wk_m, Xc, n * N * sizeof(double));
-        add_state_noise(cfg, &b, Xc, k, NULL, cfg->seed);
+        add_state_noise(cfg, &b, Xc, k, NULL, cfg->seed, b.pcn ? b.zp : NULL, 0);
         ndead = 0;
         for (j = 0; j < N; j++) {
             if (!b.dead[cur][j] && has_nonfinite(Xc + j * n, n))
@@ -2280,6 +2410,7 @@ sl_status sl_pf_run(const sl_pf_config *cfg, double *X, double *P, double *w,
             if (nobs > 0)
                 reweight = 1;
             if (nobs > 0 && cfg->temper.ess > 0) {
+                b.s_now = s;
                 st = temper_cycle(cfg, &b, k, r0, m, tk, &cur, w, &tphi, &tlogz, &tsteps,
                                   &evals, err);
                 if (st != SL_OK)
@@ -2416,6 +2547,7 @@ sl_status sl_pf_run(const sl_pf_config *cfg, double *X, double *P, double *w,
                 refresh_ids(p, N, Zc, Zn, b.vid[nx]);
             }
             gather_cols(q, N, b.E[cur], b.E[nx], b.anc, b.nt);
+            gather_draws(&b, N, b.anc, s, k);
             if (b.nwin > 0)
                 window_gather(cfg, &b, k, k + 1 < b.nwin ? k + 1 : b.nwin);
             for (j = 0; j < N; j++) {
@@ -2433,6 +2565,7 @@ sl_status sl_pf_run(const sl_pf_config *cfg, double *X, double *P, double *w,
                 memcpy(b.llk, b.tmp, N * sizeof(double));
                 for (j = 0; j < N; j++)
                     lk[j] = tsteps > 0 ? b.tanc[b.anc[j]] : b.anc[j];
+                b.s_now = s;
                 st = replay_move(cfg, &b, k, cur, 1.0, lk, b.llk, 0, &evals, err);
                 if (st != SL_OK)
                     return st;

@@ -39,6 +39,9 @@ typedef struct {
                           * with the fewest distinct values has fewer than
                           * rm_diversity * N of them, in (0, 1] */
     size_t rm_sweeps;    /* most Metropolis-Hastings sweeps per move, >= 1 */
+    double rm_paths;     /* resample_move on paths with noise: the starting
+                          * step beta in [0, 1] of the moves of the paths'
+                          * draws (0: the paths' draws are not moved) */
 } sl_param_move_opts;
 
 /* What a move's preparation found (for diagnostics and tests). */

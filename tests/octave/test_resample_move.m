@@ -54,13 +54,20 @@
 %! m = sluice.model (@(t, X, P, U, dt) P(1, :) .* X, 'states', {'x'}, 'params', {'a'});
 %! o = struct ('time', (1:T)', 'variable', {repmat({'x'}, T, 1)}, 'value', y, ...
 %!             'sigma', 0.2 * ones (T, 1));
-%! res = sluice.filter (m, sluice.prior ('x', 'normal', [0 1], 'a', 'uniform', [0.5 1.1]), o, ...
-%!                      'members', 400, 'seed', 2, 't0', 0, 'state_noise', 0.3, ...
-%!                      'param_move', 'resample_move', 'move_scale', 1e-9, 'progress', false);
-%! acc = res.move_accept(~isnan (res.move_accept));
-%! assert (numel (acc) > 5);
-%! assert (min (acc) > 0.99);
-%! % the same with a proposal of the default size rejects many
+%! % (through the recorded parents' streams, and through the stored draws
+%! % that the path moves work on, with a path step of 1e-9)
+%! for mp = [0 1e-9]
+%!   res = sluice.filter (m, sluice.prior ('x', 'normal', [0 1], 'a', 'uniform', [0.5 1.1]), o, ...
+%!                        'members', 400, 'seed', 2, 't0', 0, 'state_noise', 0.3, ...
+%!                        'param_move', 'resample_move', 'move_scale', 1e-9, ...
+%!                        'move_paths', mp, 'progress', false);
+%!   acc = res.move_accept(~isnan (res.move_accept));
+%!   assert (numel (acc) > 5);
+%!   % (the path step adapts toward 23% acceptance and soon stops being
+%!   % still: the first moves are the check)
+%!   assert (min (acc(1:3 + (mp == 0) * (end - 3))) > 0.99);
+%! end
+%! % the same with proposals of the default size rejects many
 %! res = sluice.filter (m, sluice.prior ('x', 'normal', [0 1], 'a', 'uniform', [0.5 1.1]), o, ...
 %!                      'members', 400, 'seed', 2, 't0', 0, 'state_noise', 0.3, ...
 %!                      'param_move', 'resample_move', 'progress', false);
@@ -82,12 +89,14 @@
 %!             'sigma', 0.2 * ones (Tn, 1), 'family', {repmat({'lognormal'}, Tn, 1)});
 %! pg = sluice.prior ('X1', 'lognormal', [log(300) 0.3], 'X3', 'lognormal', [log(80) 0.3]);
 %! fn = struct ('kind', {{'multiplicative', 'multiplicative'}}, 'sd', [0.2 0.1], 'ar1', 0.5);
-%! res = sluice.filter (s, pg, o, 'members', 300, 'seed', 5, 't0', 0, 'forcing', f, ...
-%!                      'forcing_noise', fn, 'param_move', 'resample_move', ...
-%!                      'move_scale', 1e-9, 'progress', false);
-%! acc = res.move_accept(~isnan (res.move_accept));
-%! assert (numel (acc) > 3);
-%! assert (min (acc) > 0.99);
+%! for mp = [0 1e-9]
+%!   res = sluice.filter (s, pg, o, 'members', 300, 'seed', 5, 't0', 0, 'forcing', f, ...
+%!                        'forcing_noise', fn, 'param_move', 'resample_move', ...
+%!                        'move_scale', 1e-9, 'move_paths', mp, 'progress', false);
+%!   acc = res.move_accept(~isnan (res.move_accept));
+%!   assert (numel (acc) > 3);
+%!   assert (min (acc(1:3 + (mp == 0) * (end - 3))) > 0.99);
+%! end
 %! s = sluice.model ('flood');
 %! ev = struct ('time', [3.2; 7.5; 12.1; 16.4], 'values', [1.5; 2.5; 0.8; 2.0]);
 %! pf = sluice.prior ('muS', 'lognormal', [log(0.2) 0.5]);
@@ -126,6 +135,8 @@
 %!error id=sluice:filter:badoption sluice.filter (spec, pr, obs, 'param_move', 'resample_move', 'move_scale', 0)
 %!error id=sluice:filter:badoption sluice.filter (spec, pr, obs, 'param_move', 'resample_move', 'move_scale', Inf)
 %!error id=sluice:filter:badoption sluice.filter (spec, pr, obs, 'param_move', 'resample_move', 'move_scale', 'big')
+%!error id=sluice:filter:badoption sluice.filter (spec, pr, obs, 'param_move', 'resample_move', 'move_paths', -0.1)
+%!error id=sluice:filter:badoption sluice.filter (spec, pr, obs, 'param_move', 'resample_move', 'move_paths', 1.5)
 %!error id=sluice:filter:badconfig sluice.filter (spec, pr, obs, 'param_move', 'resample_move', 'lag', 3, 'progress', false)
 
 %!test
