@@ -8,7 +8,8 @@ function bench_param_move ()
   % estimated parameters; 1 thread; best of 2.
   %   deterministic paths: fixed, kernel, resample_move (the default there)
   %   perturbed rain and evaporation: fixed, kernel (the default there),
-  %   smc2 with 100 parameter vectors x 20 members
+  %   resample_move (with moves of the paths' draws), smc2 with 100
+  %   parameter vectors x 20 members
   S0 = 365; Tn = 365; t = (-S0:Tn-1)';
   rand ('state', 21); randn ('state', 21);
   E = max (0.2, 2.2 + 1.8 * sin (2 * pi * (t - 100) / 365));
@@ -28,7 +29,7 @@ function bench_param_move ()
   cases = {'deterministic paths, N = 1000', {'members', 1000}, ...
            {{'param_move', 'fixed'}, {'param_move', 'kernel'}, {'param_move', 'resample_move'}};
            'perturbed forcing, N = 2000', {'members', 2000, 'forcing_noise', fn}, ...
-           {{'param_move', 'fixed'}, {'param_move', 'kernel'}, ...
+           {{'param_move', 'fixed'}, {'param_move', 'kernel'}, {'param_move', 'resample_move'}, ...
             {'param_move', 'smc2', 'members', 100, 'inner_members', 20}}};
   for c = 1:rows (cases)
     printf ('   %s\n', cases{c, 1});
