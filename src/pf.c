@@ -2183,6 +2183,11 @@ static sl_status smc2_run(const sl_pf_config *cfg, pf_buffers *b, double *X, dou
         out->ess[k] = ess;
         out->skipped[k] = (double)(m - nobs);
         out->nonfinite[k] = (double)ndead;
+        if (out->fmean != NULL)
+            /* SMC2 does not record the forecast (its cycle weighs as it
+             * goes): NaN, not a mean it did not compute */
+            for (i = 0; i < n + p; i++)
+                out->fmean[i + k * (n + p)] = NAN;
         /* resample the groups and move them */
         if (ogess < cfg->threshold * (double)G && mx > -HUGE_VAL) {
             sl_stream rs;

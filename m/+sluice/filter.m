@@ -167,7 +167,8 @@
 % times its weight within the vector, and @code{log_evidence} estimates
 % the evidence. Costly: a move re-runs every vector's filter over the
 % record so far. Not with @code{lag}, @code{history}, tempering or an
-% ensemble Kalman method.
+% ensemble Kalman method; @code{forecast} holds NaN (the forecast means
+% are not recorded).
 % @item 'kernel'
 % each time the particle filter resamples, every member's
 % parameters are moved by the kernel of the regularised particle filter

@@ -176,6 +176,7 @@
 %!                        'progress', false);
 %!   assert (res.param_move, 'smc2');
 %!   assert (res.members, 10000);
+%!   assert (all (isnan (res.forecast.mean(:))));
 %!   b = reshape (res.params.quantiles(1, :, end), 1, 3);
 %!   meds(seed) = b(2);
 %!   assert (abs (b(2) - gq(2)) < gsd);
