@@ -17,68 +17,7 @@
 #define MAX_THREADS 256
 #define ALIGN 64
 
-/* Every buffer of a run, carved from the caller's workspace. */
-typedef struct {
-    double *X[2], *Z[2], *P[2], *E[2]; /* ping-pong pairs for resampling */
-    unsigned char *dead[2];
-    double *U, *u0, *Yhat, *Yfun, *ll, *logw, *lw, *rwork, *mwork, *qwork;
-    /* ensemble Kalman analysis: augmented ensemble, compacted
-     * observations and their positions, live members, the method's work */
-    double *A, *Hc, *yc, *rc, *opos, *oc;
-    size_t *live;
-    void *ework;
-    double *mv;                 /* the parameter move's workspace */
-    double *mvlast;             /* resample_move: the last proposal fitted
-                                 * to an ensemble where every estimated
-                                 * parameter had spread */
-    uint32_t *vid[2];           /* value ids of the parameters (p x N) */
-    unsigned char *mark;        /* N flags for counting distinct ids */
-    uint32_t *anc;
-    uint32_t *tanc, *tanc2;     /* ancestors composed over tempering steps */
-    double *llx;                /* gathered log-likelihoods (tempering) */
-    /* fixed-lag smoothing: the window's slots (v x N each, slot of cycle
-     * s at win[s % nwin]), a spare slot for resampling, a buffer for the
-     * summaries, the state positions of the augmented rows */
-    double **win, *wspare, *wtmp, *spos;
-    size_t nwin;
-    sl_error *terr;
-    size_t mwork_per, qwork_per, m_max;
-    int nt; /* threads for per-member loops: 1 for small ensembles */
-    /* resample_move: the ancestors of every cycle (lin, T x N: the
-     * forecast index at cycle c of the parent of member j after cycle
-     * c), the paths being re-run (path, T x N), the initial states, the
-     * re-run ensemble (states, transformed and natural parameters,
-     * forcing perturbations and values, health), the members' path
-     * log-likelihoods before the cycle (cll) and of the cycle (llk), the
-     * re-run ones (rll, rllk), log-priors (lp, rlp), the uniforms of the
-     * accept step, accept flags, id map and estimated-parameter flags */
-    uint32_t *lin, *path, *idmap;
-    double *X0, *RX, *RZ, *RP, *RE, *RU, *cll, *llk, *rll, *rllk, *lp, *rlp, *ru, *tmp;
-    unsigned char *rdead, *acc, *est;
-    double rm_adapt;
-    size_t rm_sweeps, rm_proposed, rm_accepted; /* of the current cycle */
-    int replay;
-    /* resample_move on paths with noise (pcn): every member's standard
-     * normal draws, zlen per member (forcing draws of step s, series
-     * slot i at s * zq + i; state noise of cycle c, state slot l at
-     * zsteps * zq + c * zs + l), a gather target and the proposals' */
-    double *zp, *zp2, *rzp, pcn_beta;
-    size_t zlen, zq, zs, zsteps, *fslot, *sslot;
-    uint32_t s_now; /* steps taken so far (for gather_draws in tempering) */
-    int pcn;
-    /* SMC2: the proposal system's gather targets, inner log-weights,
-     * and the groups' transformed parameters (p x G, twice) */
-    double *RX2, *RZ2, *RP2, *RE2, *rlw, *ZG, *ZG2;
-    unsigned char *rdead2;
-    int smc2;
-    /* weighted ensemble Kalman filter: deterministic forecasts, predicted
-     * observations of the forecasts and of the deterministic forecasts,
-     * gain, innovation covariance, H on the states, proposal covariance,
-     * scratch, means, cross-covariance, observed rows, log-weights */
-    double *wk_m, *wk_hf, *wk_hm, *wk_k, *wk_s, *wk_h, *wk_sig, *wk_tmp, *wk_xb,
-        *wk_hb, *wk_cxh, *wk_d, *tmp2;
-    size_t *wk_row;
-} pf_buffers;
+#include "pf_internal.h"
 
 /* Below this many members a parallel region costs more than it saves (and
  * far more on a loaded machine, where a thread may wait a time slice). */
@@ -534,7 +473,7 @@ sl_status sl_pf_check(const sl_pf_config *cfg, sl_error *err)
 /* Forcing values of every member at time t into U (q x N); advances the
  * AR(1) perturbations E by one step s. *idx tracks the forcing interval.
  * Member j draws from the stream of index ids[j] (j when ids is NULL). */
-static void eval_forcing(const sl_pf_config *cfg, pf_buffers *b, double *E,
+void sl_pfi_eval_forcing(const sl_pf_config *cfg, pf_buffers *b, double *E,
                          double *U, double t, uint32_t s, size_t *idx,
                          const uint32_t *ids, uint64_t seed, double *zst, int zread)
 {
@@ -588,7 +527,7 @@ static void eval_forcing(const sl_pf_config *cfg, pf_buffers *b, double *E,
 /* One model step of every member, in parallel blocks when the model
  * allows. With ids (re-run paths) a model that draws by member index
  * steps each member j alone under index ids[j]. */
-static sl_status step_all(const sl_pf_config *cfg, pf_buffers *b, double *X,
+sl_status sl_pfi_step_all(const sl_pf_config *cfg, pf_buffers *b, double *X,
                           const double *P, const double *U, double t, double t_end,
                           uint32_t s, const uint32_t *ids, uint64_t seed, sl_error *err)
 {
@@ -694,7 +633,7 @@ static void refresh_ids(size_t p, size_t N, const double *Zold, const double *Zn
 /* Distinct values of each parameter among the members of positive weight
  * (by their ids), and each parameter's weighted standard deviation in
  * the transformed space, into column k of the outputs. */
-static void record_diversity(const sl_pf_config *cfg, pf_buffers *b, const uint32_t *id,
+void sl_pfi_record_diversity(const sl_pf_config *cfg, pf_buffers *b, const uint32_t *id,
                              const double *Z, const double *w, sl_pf_output *out,
                              size_t k)
 {
@@ -730,7 +669,7 @@ static void record_diversity(const sl_pf_config *cfg, pf_buffers *b, const uint3
 /* Predicted observations of cycle k rows r0..r0+m-1 at time t into Yhat
  * (m x N): states and parameters directly, linear rows by H, the rest
  * from the operator function (called once, only when a row needs it). */
-static sl_status predict_obs(const sl_pf_config *cfg, pf_buffers *b, size_t r0,
+sl_status sl_pfi_predict_obs(const sl_pf_config *cfg, pf_buffers *b, size_t r0,
                              size_t m, double t, const double *X, const double *P,
                              sl_error *err)
 {
@@ -769,7 +708,7 @@ static sl_status predict_obs(const sl_pf_config *cfg, pf_buffers *b, size_t r0,
     return SL_OK;
 }
 
-static void loglik_into(const sl_pf_config *cfg, pf_buffers *b, size_t r0,
+void sl_pfi_loglik_into(const sl_pf_config *cfg, pf_buffers *b, size_t r0,
                         size_t m, double *ll, size_t *nskipped)
 {
     const size_t N = cfg->N;
@@ -791,13 +730,13 @@ static void loglik_into(const sl_pf_config *cfg, pf_buffers *b, size_t r0,
     *nskipped = skipped;
 }
 
-static void loglik_all(const sl_pf_config *cfg, pf_buffers *b, size_t r0,
+void sl_pfi_loglik_all(const sl_pf_config *cfg, pf_buffers *b, size_t r0,
                        size_t m, size_t *nskipped)
 {
-    loglik_into(cfg, b, r0, m, b->ll, nskipped);
+    sl_pfi_loglik_into(cfg, b, r0, m, b->ll, nskipped);
 }
 
-static void summarise(const sl_pf_config *cfg, pf_buffers *b, const double *X,
+void sl_pfi_summarise(const sl_pf_config *cfg, pf_buffers *b, const double *X,
                       const double *P, const double *w, sl_pf_output *out,
                       size_t k)
 {
@@ -820,7 +759,7 @@ static void summarise(const sl_pf_config *cfg, pf_buffers *b, const double *X,
 }
 
 /* Copy member columns by ancestor: dst(:, j) = src(:, anc[j]). */
-static void gather_cols(size_t rows, size_t N, const double *src, double *dst,
+void sl_pfi_gather_cols(size_t rows, size_t N, const double *src, double *dst,
                         const uint32_t *anc, int threads)
 {
     size_t j;
@@ -833,7 +772,7 @@ static void gather_cols(size_t rows, size_t N, const double *src, double *dst,
 
 /* The optional additive state noise of cycle k; member j draws from the
  * stream of index ids[j] (j when ids is NULL). */
-static void add_state_noise(const sl_pf_config *cfg, pf_buffers *b, double *X,
+void sl_pfi_add_state_noise(const sl_pf_config *cfg, pf_buffers *b, double *X,
                             size_t k, const uint32_t *ids, uint64_t seed, double *zst,
                             int zread)
 {
@@ -887,7 +826,7 @@ static void gather_draws(pf_buffers *b, size_t N, const uint32_t *anc, uint32_t 
     b->zp2 = t;
 }
 
-static int has_nonfinite(const double *x, size_t n)
+int sl_pfi_has_nonfinite(const double *x, size_t n)
 {
     size_t i;
     for (i = 0; i < n; i++)
@@ -1123,7 +1062,7 @@ static void window_gather(const sl_pf_config *cfg, pf_buffers *b, size_t k,
     for (s = 0; s < filled; s++) {
         size_t at = (k - s) % b->nwin;
         double *t;
-        gather_cols(v, N, b->win[at], b->wspare, b->anc, b->nt);
+        sl_pfi_gather_cols(v, N, b->win[at], b->wspare, b->anc, b->nt);
         t = b->win[at];
         b->win[at] = b->wspare;
         b->wspare = t;
@@ -1154,7 +1093,7 @@ static sl_status replay(const sl_pf_config *cfg, pf_buffers *b, size_t k,
             b->path[c * N + j] = b->lin[c * N + b->path[(c + 1) * N + j]];
     for (j = 0; j < N; j++) {
         memcpy(b->RX + j * n, b->X0 + (size_t)b->path[j] * n, n * sizeof(double));
-        b->rdead[j] = (unsigned char)has_nonfinite(b->RX + j * n, n);
+        b->rdead[j] = (unsigned char)sl_pfi_has_nonfinite(b->RX + j * n, n);
         b->rll[j] = 0.0;
         b->rllk[j] = 0.0;
     }
@@ -1177,9 +1116,9 @@ static sl_status replay(const sl_pf_config *cfg, pf_buffers *b, size_t k,
             double ts = t + (double)l * h;
             double te = l + 1 == nsteps ? tc : t + (double)(l + 1) * h;
             if (q > 0)
-                eval_forcing(cfg, b, b->RE, b->RU, ts, s, &fidx, ids, cfg->seed,
+                sl_pfi_eval_forcing(cfg, b, b->RE, b->RU, ts, s, &fidx, ids, cfg->seed,
                              b->pcn ? b->rzp : NULL, 1);
-            st = step_all(cfg, b, b->RX, b->RP, b->RU, ts, te, s, ids, cfg->seed, err);
+            st = sl_pfi_step_all(cfg, b, b->RX, b->RP, b->RU, ts, te, s, ids, cfg->seed, err);
             s++;
             if (st != SL_OK)
                 return st;
@@ -1189,15 +1128,15 @@ static sl_status replay(const sl_pf_config *cfg, pf_buffers *b, size_t k,
                                (unsigned long)(k + 1), (unsigned long)cfg->T);
         }
         t = tc;
-        add_state_noise(cfg, b, b->RX, c, ids, cfg->seed, b->pcn ? b->rzp : NULL, 1);
+        sl_pfi_add_state_noise(cfg, b, b->RX, c, ids, cfg->seed, b->pcn ? b->rzp : NULL, 1);
         for (j = 0; j < N; j++)
-            if (!b->rdead[j] && has_nonfinite(b->RX + j * n, n))
+            if (!b->rdead[j] && sl_pfi_has_nonfinite(b->RX + j * n, n))
                 b->rdead[j] = 1;
         if (m == 0)
             continue;
-        if ((st = predict_obs(cfg, b, r0, m, tc, b->RX, b->RP, err)) != SL_OK)
+        if ((st = sl_pfi_predict_obs(cfg, b, r0, m, tc, b->RX, b->RP, err)) != SL_OK)
             return st;
-        loglik_into(cfg, b, r0, m, b->tmp, &skipped);
+        sl_pfi_loglik_into(cfg, b, r0, m, b->tmp, &skipped);
         *evals += N;
         for (j = 0; j < N; j++) {
             double v = b->rdead[j] || isnan(b->tmp[j]) ? -HUGE_VAL : b->tmp[j];
@@ -1212,7 +1151,7 @@ static sl_status replay(const sl_pf_config *cfg, pf_buffers *b, size_t k,
 
 /* log prior density of member j's transformed parameters z (the
  * estimated ones), with the transforms' Jacobians */
-static double log_prior_z(const sl_pf_config *cfg, const unsigned char *est,
+double sl_pfi_log_prior_z(const sl_pf_config *cfg, const unsigned char *est,
                           const double *z)
 {
     const size_t p = cfg->model->n_param;
@@ -1274,7 +1213,7 @@ static sl_status replay_move(const sl_pf_config *cfg, pf_buffers *b, size_t k,
     if (diversity(cfg, b, vid) >= cfg->move.rm_diversity)
         return SL_OK;
     for (j = 0; j < N; j++)
-        b->lp[j] = log_prior_z(cfg, b->est, Z + j * p);
+        b->lp[j] = sl_pfi_log_prior_z(cfg, b->est, Z + j * p);
     for (i = 0; i < p; i++)
         nest += b->est[i];
     for (w = 0; w < cfg->move.rm_sweeps; w++) {
@@ -1327,7 +1266,7 @@ static sl_status replay_move(const sl_pf_config *cfg, pf_buffers *b, size_t k,
             b->ru[j] = sl_stream_uniform(&sm);
             for (i = 0; i < p; i++)
                 b->RP[i + j * p] = sl_transform_inverse(&cfg->ptrans[i], z[i]);
-            b->rlp[j] = log_prior_z(cfg, b->est, z);
+            b->rlp[j] = sl_pfi_log_prior_z(cfg, b->est, z);
         }
         if ((st = replay(cfg, b, k, anc_k, evals, err)) != SL_OK)
             return st;
@@ -1482,14 +1421,14 @@ static sl_status temper_cycle(const sl_pf_config *cfg, pf_buffers *b, size_t k,
         sl_stream_init(&rs, cfg->seed, (uint32_t)*steps, (uint32_t)k,
                        SL_PURPOSE_TEMPER_RESAMPLE);
         cfg->resampler->run(N, w, wsum, N, &rs, b->rwork, b->anc);
-        gather_cols(n, N, b->X[c], b->X[nx], b->anc, b->nt);
-        gather_cols(p, N, b->P[c], b->P[nx], b->anc, b->nt);
-        gather_cols(p, N, b->Z[c], b->Z[nx], b->anc, b->nt);
-        gather_cols(q, N, b->E[c], b->E[nx], b->anc, b->nt);
+        sl_pfi_gather_cols(n, N, b->X[c], b->X[nx], b->anc, b->nt);
+        sl_pfi_gather_cols(p, N, b->P[c], b->P[nx], b->anc, b->nt);
+        sl_pfi_gather_cols(p, N, b->Z[c], b->Z[nx], b->anc, b->nt);
+        sl_pfi_gather_cols(q, N, b->E[c], b->E[nx], b->anc, b->nt);
         gather_draws(b, N, b->anc, b->s_now, k);
-        gather_cols(1, N, b->ll, b->llx, b->anc, b->nt);
+        sl_pfi_gather_cols(1, N, b->ll, b->llx, b->anc, b->nt);
         if (b->replay) {
-            gather_cols(1, N, b->cll, b->tmp, b->anc, b->nt);
+            sl_pfi_gather_cols(1, N, b->cll, b->tmp, b->anc, b->nt);
             memcpy(b->cll, b->tmp, N * sizeof(double));
         }
         for (j = 0; j < N; j++) {
@@ -1531,708 +1470,12 @@ static sl_status temper_cycle(const sl_pf_config *cfg, pf_buffers *b, size_t k,
         }
         if (relik) {
             size_t skipped;
-            if ((st = predict_obs(cfg, b, r0, m, tk, b->X[nx], b->P[nx], err)) != SL_OK)
+            if ((st = sl_pfi_predict_obs(cfg, b, r0, m, tk, b->X[nx], b->P[nx], err)) != SL_OK)
                 return st;
-            loglik_all(cfg, b, r0, m, &skipped);
+            sl_pfi_loglik_all(cfg, b, r0, m, &skipped);
             *evals += N;
         }
     }
-}
-
-/* ------------------------------------------------- weighted ensemble Kalman */
-
-/* Cholesky factor (lower, in place) of the d x d symmetric positive
- * definite A; returns 0, or 1 when a pivot is not positive. */
-static int wk_chol(size_t d, double *A)
-{
-    size_t i, j, l;
-    for (j = 0; j < d; j++) {
-        double s = A[j + j * d];
-        for (l = 0; l < j; l++)
-            s -= A[j + l * d] * A[j + l * d];
-        if (!(s > 0) || !isfinite(s))
-            return 1;
-        s = sqrt(s);
-        A[j + j * d] = s;
-        for (i = j + 1; i < d; i++) {
-            double v = A[i + j * d];
-            for (l = 0; l < j; l++)
-                v -= A[i + l * d] * A[j + l * d];
-            A[i + j * d] = v / s;
-        }
-        for (i = 0; i < j; i++)
-            A[i + j * d] = 0.0;
-    }
-    return 0;
-}
-
-/* x <- L^-1 x for the lower factor L (d x d) */
-static void wk_lsolve(size_t d, const double *L, double *x)
-{
-    size_t i, l;
-    for (i = 0; i < d; i++) {
-        double v = x[i];
-        for (l = 0; l < i; l++)
-            v -= L[i + l * d] * x[l];
-        x[i] = v / L[i + i * d];
-    }
-}
-
-/* The weighted ensemble Kalman filter's proposal and weights at cycle k
- * (Papadakis, Memin, Cuzol & Gengembre 2010). On entry Mx holds every
- * member's deterministic forecast m_j and X its forecast with state noise
- * x_f = m_j + eta, eta ~ N(0, Q), Q = diag(state_noise^2). With the
- * weighted ensemble's gain K = C_xh (C_hh + R)^-1, each member moves to
- * x_a = x_f + K (y + eps - H x_f), eps ~ N(0, R) from stream (seed, j,
- * k, SL_PURPOSE_ANALYSIS): a draw from q(x | m_j) = N(m_j + K (y - H
- * m_j), Sigma), Sigma = (I - K H) Q (I - K H)' + K R K'. Its incremental
- * log-weight, into b->ll, is log N(y; H x_a, R) + log N(x_a; m_j, Q) -
- * log q(x_a | m_j): the weights correct the proposal whatever the gain.
- * Observed rows only (missing ones skipped; their count into
- * *nskipped). */
-static sl_status wenkf_update(const sl_pf_config *cfg, pf_buffers *b, size_t k,
-                              size_t r0, size_t m, double tk, double *X, const double *P,
-                              const double *w, const unsigned char *dead,
-                              size_t *nskipped, sl_error *err)
-{
-    const size_t N = cfg->N, n = cfg->model->n_state, p = cfg->model->n_param;
-    const size_t v = n + p, nl = cfg->n_lin;
-    size_t mk = 0, i, j, l, r;
-    double *HF = b->wk_hf, *HM = b->wk_hm, *K = b->wk_k, *S = b->wk_s,
-           *Hs = b->wk_h, *Sg = b->wk_sig, *tmp = b->wk_tmp, *xb = b->wk_xb,
-           *hb = b->wk_hb, *Cxh = b->wk_cxh;
-    double ldQ = 0.0, ldS = 0.0, W = 0.0;
-    sl_status st;
-    for (i = 0; i < m; i++)
-        if (!isnan(cfg->y[r0 + i]))
-            b->wk_row[mk++] = i;
-    *nskipped = m - mk;
-    if (mk == 0) {
-        for (j = 0; j < N; j++)
-            b->ll[j] = 0.0;
-        return SL_OK;
-    }
-    /* H on the states (mk x n): a state row, a linear row's state part,
-     * or nothing for a row that observes a parameter */
-    for (i = 0; i < mk; i++) {
-        size_t vr = cfg->var[r0 + b->wk_row[i]];
-        for (l = 0; l < n; l++)
-            Hs[i + l * mk] = vr < n ? (double)(vr == l)
-                                    : (vr >= v ? cfg->H[(vr - v) + l * nl] : 0.0);
-    }
-    /* predicted observations of x_f and of m */
-    if ((st = predict_obs(cfg, b, r0, m, tk, X, P, err)) != SL_OK)
-        return st;
-    for (j = 0; j < N; j++)
-        for (i = 0; i < mk; i++)
-            HF[i + j * mk] = b->Yhat[b->wk_row[i] + j * m];
-    if ((st = predict_obs(cfg, b, r0, m, tk, b->wk_m, P, err)) != SL_OK)
-        return st;
-    for (j = 0; j < N; j++)
-        for (i = 0; i < mk; i++)
-            HM[i + j * mk] = b->Yhat[b->wk_row[i] + j * m];
-    /* weighted means and covariances of the forecast (living members) */
-    for (l = 0; l < n; l++)
-        xb[l] = 0.0;
-    for (i = 0; i < mk; i++)
-        hb[i] = 0.0;
-    for (j = 0; j < N; j++)
-        if (w[j] > 0 && !dead[j]) {
-            W += w[j];
-            for (l = 0; l < n; l++)
-                xb[l] += w[j] * X[l + j * n];
-            for (i = 0; i < mk; i++)
-                hb[i] += w[j] * HF[i + j * mk];
-        }
-    if (!(W > 0))
-        return sl_fail(err, SL_EDEGENERATE, "degenerate", "no member has weight");
-    for (l = 0; l < n; l++)
-        xb[l] /= W;
-    for (i = 0; i < mk; i++)
-        hb[i] /= W;
-    memset(Cxh, 0, n * mk * sizeof(double));
-    memset(S, 0, mk * mk * sizeof(double));
-    for (j = 0; j < N; j++) {
-        if (!(w[j] > 0) || dead[j])
-            continue;
-        for (i = 0; i < mk; i++) {
-            double di = HF[i + j * mk] - hb[i];
-            for (l = 0; l < n; l++)
-                Cxh[l + i * n] += w[j] / W * (X[l + j * n] - xb[l]) * di;
-            for (r = 0; r <= i; r++)
-                S[i + r * mk] += w[j] / W * di * (HF[r + j * mk] - hb[r]);
-        }
-    }
-    for (i = 0; i < mk; i++) {
-        double sg = cfg->sigma[r0 + b->wk_row[i]];
-        for (r = 0; r < i; r++)
-            S[r + i * mk] = S[i + r * mk];
-        S[i + i * mk] += sg * sg;
-    }
-    /* K' = S^-1 C_hx: solve with the Cholesky factor of S */
-    if (wk_chol(mk, S))
-        return sl_fail(err, SL_EDEGENERATE, "degenerate",
-                       "the innovation covariance of cycle %lu is not positive definite",
-                       (unsigned long)(k + 1));
-    for (l = 0; l < n; l++) {
-        for (i = 0; i < mk; i++)
-            tmp[i] = Cxh[l + i * n];
-        wk_lsolve(mk, S, tmp);
-        /* back substitution with L' */
-        for (i = mk; i-- > 0;) {
-            double vv = tmp[i];
-            for (r = i + 1; r < mk; r++)
-                vv -= S[r + i * mk] * tmp[r];
-            tmp[i] = vv / S[i + i * mk];
-        }
-        for (i = 0; i < mk; i++)
-            K[l + i * n] = tmp[i];
-    }
-    /* Sigma = (I - K H) Q (I - K H)' + K R K' and its factor */
-    for (l = 0; l < n; l++)
-        ldQ += 2.0 * log(cfg->state_noise[l]);
-    for (l = 0; l < n; l++)
-        for (r = 0; r <= l; r++) {
-            double s = 0.0;
-            size_t c;
-            for (c = 0; c < n; c++) {
-                double al = (double)(l == c), ar = (double)(r == c), q2;
-                for (i = 0; i < mk; i++) {
-                    al -= K[l + i * n] * Hs[i + c * mk];
-                    ar -= K[r + i * n] * Hs[i + c * mk];
-                }
-                q2 = cfg->state_noise[c] * cfg->state_noise[c];
-                s += al * q2 * ar;
-            }
-            for (i = 0; i < mk; i++) {
-                double sg = cfg->sigma[r0 + b->wk_row[i]];
-                s += K[l + i * n] * sg * sg * K[r + i * n];
-            }
-            Sg[l + r * n] = s;
-            Sg[r + l * n] = s;
-        }
-    if (wk_chol(n, Sg))
-        return sl_fail(err, SL_EDEGENERATE, "degenerate",
-                       "the proposal covariance of cycle %lu is not positive definite",
-                       (unsigned long)(k + 1));
-    for (l = 0; l < n; l++)
-        ldS += 2.0 * log(Sg[l + l * n]);
-    /* move every member and weigh it */
-    for (j = 0; j < N; j++) {
-        sl_stream se;
-        double *x = X + j * n;
-        const double *mj = b->wk_m + j * n;
-        double lp = 0.0;
-        sl_stream_init(&se, cfg->seed, (uint32_t)j, (uint32_t)k, SL_PURPOSE_ANALYSIS);
-        for (i = 0; i < mk; i++)
-            tmp[i] = cfg->y[r0 + b->wk_row[i]] +
-                     cfg->sigma[r0 + b->wk_row[i]] * sl_stream_normal(&se) - HF[i + j * mk];
-        for (l = 0; l < n; l++)
-            for (i = 0; i < mk; i++)
-                x[l] += K[l + i * n] * tmp[i];
-        /* log N(x_a; m_j, Q) */
-        for (l = 0; l < n; l++) {
-            double d = (x[l] - mj[l]) / cfg->state_noise[l];
-            lp -= 0.5 * d * d;
-        }
-        lp -= 0.5 * ldQ;
-        /* - log q(x_a | m_j), mu_j = m_j + K (y - H m_j) */
-        {
-            double *d = b->wk_d, q = 0.0;
-            for (l = 0; l < n; l++) {
-                d[l] = x[l] - mj[l];
-                for (i = 0; i < mk; i++)
-                    d[l] -= K[l + i * n] * (cfg->y[r0 + b->wk_row[i]] - HM[i + j * mk]);
-            }
-            wk_lsolve(n, Sg, d);
-            for (l = 0; l < n; l++)
-                q += d[l] * d[l];
-            lp += 0.5 * q + 0.5 * ldS;
-        }
-        b->tmp2[j] = lp;
-    }
-    /* + log N(y; H x_a, R): the observation likelihood of the moved
-     * members, by the run's own likelihood code */
-    if ((st = predict_obs(cfg, b, r0, m, tk, X, P, err)) != SL_OK)
-        return st;
-    {
-        size_t sk;
-        loglik_all(cfg, b, r0, m, &sk);
-    }
-    for (j = 0; j < N; j++)
-        b->ll[j] = isnan(b->ll[j]) ? -HUGE_VAL : b->ll[j] + b->tmp2[j];
-    return SL_OK;
-}
-
-/* ------------------------------------------------------------------ SMC2 */
-
-/* A grouped ensemble of SMC2 (Chopin, Jacob & Papaspiliopoulos 2013): G
- * groups of M = cfg->inner members; the members of a group share one
- * parameter vector and form that vector's particle filter. */
-typedef struct {
-    double *X, *Z, *P, *E, *X2, *Z2, *P2, *E2;
-    unsigned char *dead, *dead2;
-    double *lw;   /* N: inner log-weights, normalised within each group */
-    double *logz; /* G: each group's log-likelihood estimate so far */
-    double *incr; /* G: its increment at the current cycle */
-} smc2_sys;
-
-/* A seed of its own for the particle filters that a move at cycle k,
- * tempering step 0, sweep w runs (splitmix64's finaliser, Steele, Lea &
- * Flood 2014, on the run's seed and the move's place). */
-static uint64_t smc2_seed(uint64_t seed, size_t k, size_t w)
-{
-    uint64_t z = seed + 0x9E3779B97F4A7C15ULL * (1 + (uint64_t)k * 1024 + (uint64_t)w);
-    z = (z ^ (z >> 30)) * 0xBF58476D1CE4E5B9ULL;
-    z = (z ^ (z >> 27)) * 0x94D049BB133111EBULL;
-    return z ^ (z >> 31);
-}
-
-static void smc2_swap(double **a, double **b)
-{
-    double *t = *a;
-    *a = *b;
-    *b = t;
-}
-
-/* Advance every group's particle filter through cycle c: forecast,
- * weights, the group's log-likelihood increment into incr (added to
- * logz), and resampling within each group whose ESS fell below the
- * threshold (stream (seed, g, c, SL_PURPOSE_INNER_RESAMPLE)). */
-static sl_status smc2_cycle(const sl_pf_config *cfg, pf_buffers *b, smc2_sys *sy,
-                            size_t c, uint64_t seed, size_t *fidx, uint32_t *s,
-                            double *t, size_t *evals, sl_error *err)
-{
-    const sl_model *md = cfg->model;
-    const size_t N = cfg->N, M = cfg->inner, G = N / M, n = md->n_state,
-                 p = md->n_param, q = md->n_forcing;
-    const double tc = cfg->times[c];
-    const size_t r0 = cfg->obs_first[c], m = cfg->obs_first[c + 1] - r0;
-    size_t nsteps, l, j, g, skipped;
-    double h;
-    sl_status st;
-    if (md->discrete) {
-        nsteps = (size_t)floor((tc - *t) / md->dt + 0.5);
-        h = md->dt;
-    } else {
-        nsteps = (size_t)ceil((tc - *t) / md->dt - 1e-9);
-        h = nsteps ? (tc - *t) / (double)nsteps : 0.0;
-    }
-    for (l = 0; l < nsteps; l++) {
-        double ts = *t + (double)l * h;
-        double te = l + 1 == nsteps ? tc : *t + (double)(l + 1) * h;
-        if (q > 0)
-            eval_forcing(cfg, b, sy->E, b->U, ts, *s, fidx, NULL, seed, NULL, 0);
-        st = step_all(cfg, b, sy->X, sy->P, b->U, ts, te, *s, NULL, seed, err);
-        (*s)++;
-        if (st != SL_OK)
-            return st;
-        if (cfg->poll != NULL && cfg->poll(cfg->poll_ctx, (double)c / (double)cfg->T))
-            return sl_fail(err, SL_EINTERRUPT, "interrupted",
-                           "the run was interrupted at cycle %lu of %lu",
-                           (unsigned long)(c + 1), (unsigned long)cfg->T);
-    }
-    *t = tc;
-    add_state_noise(cfg, b, sy->X, c, NULL, seed, NULL, 0);
-    for (j = 0; j < N; j++)
-        if (!sy->dead[j] && has_nonfinite(sy->X + j * n, n))
-            sy->dead[j] = 1;
-    for (g = 0; g < G; g++)
-        sy->incr[g] = 0.0;
-    if (m > 0) {
-        if ((st = predict_obs(cfg, b, r0, m, tc, sy->X, sy->P, err)) != SL_OK)
-            return st;
-        loglik_into(cfg, b, r0, m, b->tmp, &skipped);
-        *evals += N;
-        if (skipped < m)
-            for (g = 0; g < G; g++) {
-                double mx = -HUGE_VAL, sum = 0.0, lse;
-                for (j = g * M; j < (g + 1) * M; j++) {
-                    double a = sy->dead[j] || isnan(b->tmp[j]) ? -HUGE_VAL
-                                                               : sy->lw[j] + b->tmp[j];
-                    b->tmp[j] = a;
-                    if (a > mx)
-                        mx = a;
-                }
-                if (!(mx > -HUGE_VAL)) {
-                    /* no member of the group explains the data: its
-                     * estimate is 0, and its weights stay as they were */
-                    sy->incr[g] = -HUGE_VAL;
-                    sy->logz[g] = -HUGE_VAL;
-                    continue;
-                }
-                for (j = g * M; j < (g + 1) * M; j++)
-                    sum += exp(b->tmp[j] - mx);
-                lse = mx + log(sum);
-                sy->incr[g] = lse;
-                sy->logz[g] += lse;
-                for (j = g * M; j < (g + 1) * M; j++)
-                    sy->lw[j] = b->tmp[j] - lse;
-            }
-    }
-    /* resampling within the groups whose ESS fell below the threshold */
-    {
-        int any = 0;
-        for (g = 0; g < G; g++) {
-            double e = 0.0, wsum = 0.0;
-            uint32_t *anc = b->anc + g * M;
-            for (j = g * M; j < (g + 1) * M; j++) {
-                double wj = exp(sy->lw[j]);
-                b->ll[j] = wj;
-                e += wj * wj;
-                wsum += wj;
-            }
-            if (wsum > 0 && 1.0 / e * (wsum * wsum) < cfg->threshold * (double)M) {
-                sl_stream rs;
-                size_t i;
-                sl_stream_init(&rs, seed, (uint32_t)g, (uint32_t)c, SL_PURPOSE_INNER_RESAMPLE);
-                cfg->resampler->run(M, b->ll + g * M, wsum, M, &rs, b->rwork, anc);
-                for (i = 0; i < M; i++) {
-                    anc[i] += (uint32_t)(g * M);
-                    sy->lw[g * M + i] = -log((double)M);
-                }
-                any = 1;
-            } else {
-                for (j = 0; j < M; j++)
-                    anc[j] = (uint32_t)(g * M + j);
-            }
-        }
-        if (any) {
-            gather_cols(n, N, sy->X, sy->X2, b->anc, b->nt);
-            gather_cols(p, N, sy->Z, sy->Z2, b->anc, b->nt);
-            gather_cols(p, N, sy->P, sy->P2, b->anc, b->nt);
-            gather_cols(q, N, sy->E, sy->E2, b->anc, b->nt);
-            for (j = 0; j < N; j++)
-                sy->dead2[j] = sy->dead[b->anc[j]];
-            smc2_swap(&sy->X, &sy->X2);
-            smc2_swap(&sy->Z, &sy->Z2);
-            smc2_swap(&sy->P, &sy->P2);
-            smc2_swap(&sy->E, &sy->E2);
-            {
-                unsigned char *d = sy->dead;
-                sy->dead = sy->dead2;
-                sy->dead2 = d;
-            }
-        }
-    }
-    return SL_OK;
-}
-
-/* Copy group gs of system a into group gd of system d. */
-static void smc2_copy_group(const sl_pf_config *cfg, const smc2_sys *a, size_t gs,
-                            smc2_sys *d, size_t gd)
-{
-    const size_t M = cfg->inner, n = cfg->model->n_state, p = cfg->model->n_param,
-                 q = cfg->model->n_forcing;
-    memcpy(d->X + gd * M * n, a->X + gs * M * n, M * n * sizeof(double));
-    memcpy(d->Z + gd * M * p, a->Z + gs * M * p, M * p * sizeof(double));
-    memcpy(d->P + gd * M * p, a->P + gs * M * p, M * p * sizeof(double));
-    memcpy(d->E + gd * M * q, a->E + gs * M * q, M * q * sizeof(double));
-    memcpy(d->dead + gd * M, a->dead + gs * M, M);
-    memcpy(d->lw + gd * M, a->lw + gs * M, M * sizeof(double));
-    d->logz[gd] = a->logz[gs];
-}
-
-/* The PMMH move of every group after the groups were resampled at cycle
- * k: each proposes z' = z + s L xi (stream (seed, g, k,
- * SL_PURPOSE_REPLAY_MOVE + w)), runs a particle filter of M members with
- * z' from t0 through cycle k (a seed of its own; initial states drawn
- * from the run's initial ensemble, stream (seed', j, 0,
- * SL_PURPOSE_RERUN_START)), and takes that filter in place of its own
- * with probability min(1, prior(z') L^(z') / (prior(z) L^(z))). */
-static sl_status smc2_move(const sl_pf_config *cfg, pf_buffers *b, smc2_sys *sy,
-                           smc2_sys *pr, size_t k, uint32_t *gid, size_t *evals,
-                           sl_error *err)
-{
-    const sl_param_mover *mv = &sl_param_move_resample_move;
-    const size_t N = cfg->N, M = cfg->inner, G = N / M, n = cfg->model->n_state,
-                 p = cfg->model->n_param, q = cfg->model->n_forcing;
-    const double target = 0.5 * (1.0 + cfg->move.rm_diversity);
-    sl_param_move_opts o = cfg->move;
-    sl_param_move_info info;
-    size_t w, g, i, j, nest = 0;
-    sl_status st;
-    for (i = 0; i < p; i++)
-        nest += b->est[i];
-    if (nest == 0)
-        return SL_OK;
-    for (g = 0; g < G; g++) {
-        memcpy(b->ZG + g * p, sy->Z + g * M * p, p * sizeof(double));
-        b->lp[g] = log_prior_z(cfg, b->est, b->ZG + g * p);
-    }
-    for (w = 0; w < cfg->move.rm_sweeps; w++) {
-        const uint64_t seed2 = smc2_seed(cfg->seed, k, w);
-        size_t live = 0, acc = 0, fidx = 0, c, distinct;
-        uint32_t s = 0;
-        double t = cfg->t0;
-        o.rm_scale = cfg->move.rm_scale * b->rm_adapt;
-        mv->prepare(&o, p, G, b->ZG, NULL, b->mv, &info);
-        if (info.dim >= nest) {
-            memcpy(b->mvlast, b->mv, sl_param_move_workspace(p) * sizeof(double));
-        } else {
-            memcpy(b->mv, b->mvlast, sl_param_move_workspace(p) * sizeof(double));
-            sl_param_move_rescale(mv, &o, p, b->mv);
-        }
-        for (g = 0; g < G; g++) {
-            sl_stream sm;
-            double *z = b->ZG2 + g * p;
-            sl_stream_init(&sm, cfg->seed, (uint32_t)g, (uint32_t)k,
-                           (uint32_t)SL_PURPOSE_REPLAY_MOVE + (uint32_t)w);
-            memcpy(z, b->ZG + g * p, p * sizeof(double));
-            mv->member(&o, p, b->mv, z, &sm);
-            b->ru[g] = sl_stream_uniform(&sm);
-            b->rlp[g] = log_prior_z(cfg, b->est, z);
-        }
-        /* the proposals' particle filters, all groups at once */
-        for (j = 0; j < N; j++) {
-            sl_stream s0;
-            size_t src;
-            const double *z = b->ZG2 + (j / M) * p;
-            sl_stream_init(&s0, seed2, (uint32_t)j, 0, SL_PURPOSE_RERUN_START);
-            src = (size_t)(sl_stream_uniform(&s0) * (double)N);
-            if (src >= N)
-                src = N - 1;
-            memcpy(pr->X + j * n, b->X0 + src * n, n * sizeof(double));
-            pr->dead[j] = (unsigned char)has_nonfinite(pr->X + j * n, n);
-            memcpy(pr->Z + j * p, z, p * sizeof(double));
-            for (i = 0; i < p; i++)
-                pr->P[i + j * p] = sl_transform_inverse(&cfg->ptrans[i], z[i]);
-            pr->lw[j] = -log((double)M);
-        }
-        if (q > 0)
-            memset(pr->E, 0, q * N * sizeof(double));
-        for (g = 0; g < G; g++)
-            pr->logz[g] = 0.0;
-        for (c = 0; c <= k; c++)
-            if ((st = smc2_cycle(cfg, b, pr, c, seed2, &fidx, &s, &t, evals, err)) != SL_OK)
-                return st;
-        for (g = 0; g < G; g++) {
-            double now = b->lp[g] + sy->logz[g], prop = b->rlp[g] + pr->logz[g];
-            b->acc[g] = 0;
-            live++;
-            if (!(prop > -HUGE_VAL) || isnan(prop))
-                continue;
-            if (!(now > -HUGE_VAL) || log(b->ru[g]) < prop - now) {
-                smc2_copy_group(cfg, pr, g, sy, g);
-                memcpy(b->ZG + g * p, b->ZG2 + g * p, p * sizeof(double));
-                b->lp[g] = b->rlp[g];
-                b->acc[g] = 1;
-                acc++;
-            }
-        }
-        /* fresh ids for the accepted groups, renumbered below G */
-        for (i = 0; i < p; i++) {
-            uint32_t next = 0;
-            memset(b->idmap, 0xff, G * sizeof(uint32_t));
-            for (g = 0; g < G; g++) {
-                uint32_t old = gid[i + g * p];
-                if (b->acc[g]) {
-                    gid[i + g * p] = next++;
-                } else {
-                    if (b->idmap[old] == UINT32_MAX)
-                        b->idmap[old] = next++;
-                    gid[i + g * p] = b->idmap[old];
-                }
-            }
-        }
-        b->rm_sweeps++;
-        b->rm_proposed += live;
-        b->rm_accepted += acc;
-        if (live > 0) {
-            b->rm_adapt *= exp((double)acc / (double)live - 0.234);
-            if (b->rm_adapt < 1e-3)
-                b->rm_adapt = 1e-3;
-            if (b->rm_adapt > 1e3)
-                b->rm_adapt = 1e3;
-        }
-        distinct = G;
-        for (i = 0; i < p; i++) {
-            size_t cnt = 0;
-            if (!b->est[i])
-                continue;
-            memset(b->mark, 0, G);
-            for (g = 0; g < G; g++)
-                if (!b->mark[gid[i + g * p]]) {
-                    b->mark[gid[i + g * p]] = 1;
-                    cnt++;
-                }
-            if (cnt < distinct)
-                distinct = cnt;
-        }
-        if ((double)distinct >= target * (double)G)
-            break;
-    }
-    return SL_OK;
-}
-
-/* The SMC2 run: the groups' filters advance together; each group weighs
- * by its filter's likelihood increment; when the ESS of the group
- * weights falls below threshold * G the groups are resampled (stream
- * (seed, 0, k, SL_PURPOSE_OUTER_RESAMPLE)) and moved by smc2_move. */
-static sl_status smc2_run(const sl_pf_config *cfg, pf_buffers *b, double *X, double *P,
-                          double *w, sl_pf_output *out, sl_error *err)
-{
-    const sl_model *md = cfg->model;
-    const size_t N = cfg->N, M = cfg->inner, G = N / M, n = md->n_state,
-                 p = md->n_param, q = md->n_forcing;
-    smc2_sys sy, pr;
-    double *olw = b->logw, *W = b->llx, t = cfg->t0;
-    uint32_t *gid = b->vid[1], s = 0;
-    size_t k, j, g, i, fidx = 0;
-    sl_status st;
-
-    memset(&sy, 0, sizeof sy);
-    sy.X = b->X[0]; sy.Z = b->Z[0]; sy.P = b->P[0]; sy.E = b->E[0];
-    sy.X2 = b->X[1]; sy.Z2 = b->Z[1]; sy.P2 = b->P[1]; sy.E2 = b->E[1];
-    sy.dead = b->dead[0]; sy.dead2 = b->dead[1];
-    sy.lw = b->lw; sy.logz = b->cll; sy.incr = b->rll;
-    pr.X = b->RX; pr.Z = b->RZ; pr.P = b->RP; pr.E = b->RE;
-    pr.X2 = b->RX2; pr.Z2 = b->RZ2; pr.P2 = b->RP2; pr.E2 = b->RE2;
-    pr.dead = b->rdead; pr.dead2 = b->rdead2;
-    pr.lw = b->rlw; pr.logz = b->llk; pr.incr = b->rllk;
-
-    memcpy(b->X0, X, n * N * sizeof(double));
-    /* every member of a group takes its group's first parameter vector */
-    for (j = 0; j < N; j++) {
-        const size_t g0 = (j / M) * M;
-        memcpy(sy.X + j * n, X + j * n, n * sizeof(double));
-        for (i = 0; i < p; i++) {
-            sy.P[i + j * p] = P[i + g0 * p];
-            sy.Z[i + j * p] = sl_transform_forward(&cfg->ptrans[i], P[i + g0 * p]);
-        }
-        sy.dead[j] = (unsigned char)has_nonfinite(X + j * n, n);
-        sy.lw[j] = -log((double)M);
-    }
-    if (q > 0)
-        memset(sy.E, 0, q * N * sizeof(double));
-    for (i = 0; i < p; i++) {
-        int same = 1;
-        for (g = 1; g < G && same; g++)
-            same = sy.Z[i + g * M * p] == sy.Z[i];
-        b->est[i] = (unsigned char)(!same);
-        for (g = 0; g < G; g++)
-            gid[i + g * p] = same ? 0u : (uint32_t)g;
-        for (g = 0; g < G; g++)
-            if (!isfinite(sy.Z[i + g * M * p]) && !same)
-                return sl_fail(err, SL_EINVAL, "badparams",
-                               "parameter %lu of group %lu (%g) lies outside its bounds",
-                               (unsigned long)(i + 1), (unsigned long)(g + 1),
-                               P[i + g * M * p]);
-    }
-    for (g = 0; g < G; g++) {
-        sy.logz[g] = 0.0;
-        olw[g] = -log((double)G);
-    }
-    b->rm_adapt = 1.0;
-    for (g = 0; g < G; g++)
-        memcpy(b->ZG + g * p, sy.Z + g * M * p, p * sizeof(double));
-    sl_param_move_resample_move.prepare(&cfg->move, p, G, b->ZG, NULL, b->mvlast, NULL);
-    out->log_evidence = 0.0;
-    out->steps = 0;
-
-    for (k = 0; k < cfg->T; k++) {
-        size_t evals = 0, m = cfg->obs_first[k + 1] - cfg->obs_first[k], nobs = 0, ndead = 0;
-        double mx = -HUGE_VAL, sum = 0.0, lse, e2 = 0.0, ess, ogess;
-        int resampled = 0;
-        uint32_t s0 = s;
-        b->rm_sweeps = b->rm_proposed = b->rm_accepted = 0;
-        if ((st = smc2_cycle(cfg, b, &sy, k, cfg->seed, &fidx, &s, &t, &evals, err)) != SL_OK)
-            return st;
-        out->steps += s - s0;
-        for (i = 0; i < m; i++)
-            nobs += !isnan(cfg->y[cfg->obs_first[k] + i]);
-        /* group weights: the previous ones times the increments */
-        for (g = 0; g < G; g++) {
-            double a = olw[g] + sy.incr[g];
-            if (a > mx)
-                mx = a;
-        }
-        if (!(mx > -HUGE_VAL)) {
-            out->degenerate[k] = 1;
-            out->logz[k] = -HUGE_VAL;
-            out->log_evidence = -HUGE_VAL;
-        } else {
-            for (g = 0; g < G; g++)
-                sum += exp(olw[g] + sy.incr[g] - mx);
-            lse = mx + log(sum);
-            for (g = 0; g < G; g++)
-                olw[g] = olw[g] + sy.incr[g] - lse;
-            out->degenerate[k] = 0;
-            out->logz[k] = lse; /* olw was normalised: log sum W_g exp(incr_g) */
-            out->log_evidence += lse;
-        }
-        for (g = 0; g < G; g++) {
-            W[g] = exp(olw[g]);
-            e2 += W[g] * W[g];
-        }
-        ogess = e2 > 0 ? 1.0 / e2 : 0.0;
-        /* member weights W_g w_gi, for the record */
-        for (j = 0; j < N; j++) {
-            w[j] = W[j / M] * exp(sy.lw[j]);
-            ndead += sy.dead[j];
-        }
-        e2 = 0.0;
-        for (j = 0; j < N; j++)
-            e2 += w[j] * w[j];
-        ess = e2 > 0 ? 1.0 / e2 : 0.0;
-        for (j = 0; j < N; j++)
-            for (i = 0; i < p; i++)
-                b->vid[0][i + j * p] = gid[i + (j / M) * p];
-        if (!cfg->no_summary)
-            summarise(cfg, b, sy.X, sy.P, w, out, k);
-        out->ess[k] = ess;
-        out->skipped[k] = (double)(m - nobs);
-        out->nonfinite[k] = (double)ndead;
-        if (out->fmean != NULL)
-            /* SMC2 does not record the forecast (its cycle weighs as it
-             * goes): NaN, not a mean it did not compute */
-            for (i = 0; i < n + p; i++)
-                out->fmean[i + k * (n + p)] = NAN;
-        /* resample the groups and move them */
-        if (ogess < cfg->threshold * (double)G && mx > -HUGE_VAL) {
-            sl_stream rs;
-            double wsum = 0.0;
-            for (g = 0; g < G; g++)
-                wsum += W[g];
-            sl_stream_init(&rs, cfg->seed, 0, (uint32_t)k, SL_PURPOSE_OUTER_RESAMPLE);
-            cfg->resampler->run(G, W, wsum, G, &rs, b->rwork, b->anc);
-            /* gather whole groups into the proposal system, then back */
-            for (g = 0; g < G; g++)
-                smc2_copy_group(cfg, &sy, b->anc[g], &pr, g);
-            for (g = 0; g < G; g++) {
-                smc2_copy_group(cfg, &pr, g, &sy, g);
-                for (i = 0; i < p; i++)
-                    b->vid[0][i + g * p] = gid[i + (size_t)b->anc[g] * p];
-            }
-            memcpy(gid, b->vid[0], G * p * sizeof(uint32_t));
-            for (g = 0; g < G; g++)
-                olw[g] = -log((double)G);
-            resampled = 1;
-            if ((st = smc2_move(cfg, b, &sy, &pr, k, gid, &evals, err)) != SL_OK)
-                return st;
-            for (j = 0; j < N; j++)
-                w[j] = exp(sy.lw[j]) / (double)G;
-            for (j = 0; j < N; j++)
-                for (i = 0; i < p; i++)
-                    b->vid[0][i + j * p] = gid[i + (j / M) * p];
-        }
-        out->resampled[k] = resampled;
-        if (p > 0)
-            record_diversity(cfg, b, b->vid[0], sy.Z, w, out, k);
-        if (out->temper_steps != NULL)
-            out->temper_steps[k] = nobs > 0 ? 1.0 : 0.0;
-        if (out->loglik_evals != NULL)
-            out->loglik_evals[k] = (double)evals;
-        if (out->move_sweeps != NULL)
-            out->move_sweeps[k] = (double)b->rm_sweeps;
-        if (out->move_accept != NULL)
-            out->move_accept[k] = b->rm_proposed > 0
-                                      ? (double)b->rm_accepted / (double)b->rm_proposed
-                                      : (double)NAN;
-    }
-    memcpy(X, sy.X, n * N * sizeof(double));
-    memcpy(P, sy.P, p * N * sizeof(double));
-    return SL_OK;
 }
 
 sl_status sl_pf_run(const sl_pf_config *cfg, double *X, double *P, double *w,
@@ -2258,7 +1501,7 @@ sl_status sl_pf_run(const sl_pf_config *cfg, double *X, double *P, double *w,
         return sl_fail(err, SL_EINVAL, "badconfig",
                        "a run with a lag needs the outputs smean and squant");
     if (b.smc2)
-        return smc2_run(cfg, &b, X, P, w, out, err);
+        return sl_pfi_smc2_run(cfg, &b, X, P, w, out, err);
 
     memcpy(b.X[0], X, n * N * sizeof(double));
     memcpy(b.P[0], P, p * N * sizeof(double));
@@ -2275,7 +1518,7 @@ sl_status sl_pf_run(const sl_pf_config *cfg, double *X, double *P, double *w,
                                (unsigned long)(i + 1), (unsigned long)(j + 1), x);
         }
     for (j = 0; j < N; j++) {
-        b.dead[0][j] = (unsigned char)has_nonfinite(X + j * n, n);
+        b.dead[0][j] = (unsigned char)sl_pfi_has_nonfinite(X + j * n, n);
         w[j] = 1.0 / (double)N;
         b.lw[j] = -log((double)N);
     }
@@ -2344,9 +1587,9 @@ sl_status sl_pf_run(const sl_pf_config *cfg, double *X, double *P, double *w,
             double ts = t + (double)l * h;
             double te = l + 1 == nsteps ? tk : t + (double)(l + 1) * h;
             if (q > 0)
-                eval_forcing(cfg, &b, b.E[cur], b.U, ts, s, &fidx, NULL, cfg->seed,
+                sl_pfi_eval_forcing(cfg, &b, b.E[cur], b.U, ts, s, &fidx, NULL, cfg->seed,
                              b.pcn ? b.zp : NULL, 0);
-            st = step_all(cfg, &b, Xc, Pc, b.U, ts, te, s, NULL, cfg->seed, err);
+            st = sl_pfi_step_all(cfg, &b, Xc, Pc, b.U, ts, te, s, NULL, cfg->seed, err);
             s++;
             out->steps++;
             if (st != SL_OK)
@@ -2363,10 +1606,10 @@ sl_status sl_pf_run(const sl_pf_config *cfg, double *X, double *P, double *w,
         /* optional additive state noise, then the health of every member */
         if (cfg->wenkf)
             memcpy(b.wk_m, Xc, n * N * sizeof(double));
-        add_state_noise(cfg, &b, Xc, k, NULL, cfg->seed, b.pcn ? b.zp : NULL, 0);
+        sl_pfi_add_state_noise(cfg, &b, Xc, k, NULL, cfg->seed, b.pcn ? b.zp : NULL, 0);
         ndead = 0;
         for (j = 0; j < N; j++) {
-            if (!b.dead[cur][j] && has_nonfinite(Xc + j * n, n))
+            if (!b.dead[cur][j] && sl_pfi_has_nonfinite(Xc + j * n, n))
                 b.dead[cur][j] = 1;
             if (b.dead[cur][j]) {
                 ndead++;
@@ -2381,7 +1624,7 @@ sl_status sl_pf_run(const sl_pf_config *cfg, double *X, double *P, double *w,
             /* ensemble Kalman: the analysis moves the members; the living
              * ones keep equal weights, the dead are replaced below */
             size_t nlive = N - ndead;
-            if (m > 0 && (st = predict_obs(cfg, &b, r0, m, tk, Xc, Pc, err)) != SL_OK)
+            if (m > 0 && (st = sl_pfi_predict_obs(cfg, &b, r0, m, tk, Xc, Pc, err)) != SL_OK)
                 return st;
             if (p > 0)
                 memcpy(b.Z[1 - cur], Zc, p * N * sizeof(double));
@@ -2402,13 +1645,13 @@ sl_status sl_pf_run(const sl_pf_config *cfg, double *X, double *P, double *w,
         nobs = 0;
         if (cfg->enkf == NULL && m > 0) {
             if (cfg->wenkf) {
-                if ((st = wenkf_update(cfg, &b, k, r0, m, tk, Xc, Pc, w, b.dead[cur],
+                if ((st = sl_pfi_wenkf_update(cfg, &b, k, r0, m, tk, Xc, Pc, w, b.dead[cur],
                                        &nskipped, err)) != SL_OK)
                     return st;
             } else {
-                if ((st = predict_obs(cfg, &b, r0, m, tk, Xc, Pc, err)) != SL_OK)
+                if ((st = sl_pfi_predict_obs(cfg, &b, r0, m, tk, Xc, Pc, err)) != SL_OK)
                     return st;
-                loglik_all(cfg, &b, r0, m, &nskipped);
+                sl_pfi_loglik_all(cfg, &b, r0, m, &nskipped);
             }
             evals += N;
             nobs = m - nskipped;
@@ -2486,7 +1729,7 @@ sl_status sl_pf_run(const sl_pf_config *cfg, double *X, double *P, double *w,
 
         /* record */
         if (!cfg->no_summary)
-            summarise(cfg, &b, Xc, Pc, w, out, k);
+            sl_pfi_summarise(cfg, &b, Xc, Pc, w, out, k);
         /* a particle-filter cycle where no member explains the data has
          * no effective members: its weights are all zero, and the weights
          * kept to go on with must not show it as a healthy ensemble */
@@ -2530,9 +1773,9 @@ sl_status sl_pf_run(const sl_pf_config *cfg, double *X, double *P, double *w,
                              b.rwork, b.anc, err);
             if (st != SL_OK)
                 return st;
-            gather_cols(n, N, Xc, b.X[nx], b.anc, b.nt);
-            gather_cols(p, N, Pc, b.P[nx], b.anc, b.nt);
-            gather_cols(p, N, Zc, b.Z[nx], b.anc, b.nt);
+            sl_pfi_gather_cols(n, N, Xc, b.X[nx], b.anc, b.nt);
+            sl_pfi_gather_cols(p, N, Pc, b.P[nx], b.anc, b.nt);
+            sl_pfi_gather_cols(p, N, Zc, b.Z[nx], b.anc, b.nt);
             for (j = 0; j < N && p > 0; j++)
                 memcpy(b.vid[nx] + j * p, b.vid[cur] + (size_t)b.anc[j] * p,
                        p * sizeof(uint32_t));
@@ -2551,7 +1794,7 @@ sl_status sl_pf_run(const sl_pf_config *cfg, double *X, double *P, double *w,
                 }
                 refresh_ids(p, N, Zc, Zn, b.vid[nx]);
             }
-            gather_cols(q, N, b.E[cur], b.E[nx], b.anc, b.nt);
+            sl_pfi_gather_cols(q, N, b.E[cur], b.E[nx], b.anc, b.nt);
             gather_draws(&b, N, b.anc, s, k);
             if (b.nwin > 0)
                 window_gather(cfg, &b, k, k + 1 < b.nwin ? k + 1 : b.nwin);
@@ -2564,9 +1807,9 @@ sl_status sl_pf_run(const sl_pf_config *cfg, double *X, double *P, double *w,
             resampled = 1;
             if (b.replay) {
                 uint32_t *lk = b.lin + k * N;
-                gather_cols(1, N, b.cll, b.tmp, b.anc, b.nt);
+                sl_pfi_gather_cols(1, N, b.cll, b.tmp, b.anc, b.nt);
                 memcpy(b.cll, b.tmp, N * sizeof(double));
-                gather_cols(1, N, b.llk, b.tmp, b.anc, b.nt);
+                sl_pfi_gather_cols(1, N, b.llk, b.tmp, b.anc, b.nt);
                 memcpy(b.llk, b.tmp, N * sizeof(double));
                 for (j = 0; j < N; j++)
                     lk[j] = tsteps > 0 ? b.tanc[b.anc[j]] : b.anc[j];
@@ -2592,7 +1835,7 @@ sl_status sl_pf_run(const sl_pf_config *cfg, double *X, double *P, double *w,
                                       : (double)NAN;
         out->resampled[k] = resampled || tsteps > 0;
         if (p > 0)
-            record_diversity(cfg, &b, b.vid[cur], b.Z[cur], w, out, k);
+            sl_pfi_record_diversity(cfg, &b, b.vid[cur], b.Z[cur], w, out, k);
         if (cfg->keep_history && out->hist_a != NULL) {
             for (j = 0; j < N; j++)
                 out->hist_a[k * N + j] = resampled ? (double)b.anc[j] : (double)j;

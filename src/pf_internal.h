@@ -1,0 +1,112 @@
+/* pf_internal.h - what the particle-filter cycle (pf.c) shares with its
+ * engines in other files: the run's buffers and the cycle's helpers. */
+#ifndef SLUICE_PF_INTERNAL_H
+#define SLUICE_PF_INTERNAL_H
+
+#include <stddef.h>
+#include <stdint.h>
+#include "sluice/pf.h"
+
+/* Every buffer of a run, carved from the caller's workspace. */
+typedef struct {
+    double *X[2], *Z[2], *P[2], *E[2]; /* ping-pong pairs for resampling */
+    unsigned char *dead[2];
+    double *U, *u0, *Yhat, *Yfun, *ll, *logw, *lw, *rwork, *mwork, *qwork;
+    /* ensemble Kalman analysis: augmented ensemble, compacted
+     * observations and their positions, live members, the method's work */
+    double *A, *Hc, *yc, *rc, *opos, *oc;
+    size_t *live;
+    void *ework;
+    double *mv;                 /* the parameter move's workspace */
+    double *mvlast;             /* resample_move: the last proposal fitted
+                                 * to an ensemble where every estimated
+                                 * parameter had spread */
+    uint32_t *vid[2];           /* value ids of the parameters (p x N) */
+    unsigned char *mark;        /* N flags for counting distinct ids */
+    uint32_t *anc;
+    uint32_t *tanc, *tanc2;     /* ancestors composed over tempering steps */
+    double *llx;                /* gathered log-likelihoods (tempering) */
+    /* fixed-lag smoothing: the window's slots (v x N each, slot of cycle
+     * s at win[s % nwin]), a spare slot for resampling, a buffer for the
+     * summaries, the state positions of the augmented rows */
+    double **win, *wspare, *wtmp, *spos;
+    size_t nwin;
+    sl_error *terr;
+    size_t mwork_per, qwork_per, m_max;
+    int nt; /* threads for per-member loops: 1 for small ensembles */
+    /* resample_move: the ancestors of every cycle (lin, T x N: the
+     * forecast index at cycle c of the parent of member j after cycle
+     * c), the paths being re-run (path, T x N), the initial states, the
+     * re-run ensemble (states, transformed and natural parameters,
+     * forcing perturbations and values, health), the members' path
+     * log-likelihoods before the cycle (cll) and of the cycle (llk), the
+     * re-run ones (rll, rllk), log-priors (lp, rlp), the uniforms of the
+     * accept step, accept flags, id map and estimated-parameter flags */
+    uint32_t *lin, *path, *idmap;
+    double *X0, *RX, *RZ, *RP, *RE, *RU, *cll, *llk, *rll, *rllk, *lp, *rlp, *ru, *tmp;
+    unsigned char *rdead, *acc, *est;
+    double rm_adapt;
+    size_t rm_sweeps, rm_proposed, rm_accepted; /* of the current cycle */
+    int replay;
+    /* resample_move on paths with noise (pcn): every member's standard
+     * normal draws, zlen per member (forcing draws of step s, series
+     * slot i at s * zq + i; state noise of cycle c, state slot l at
+     * zsteps * zq + c * zs + l), a gather target and the proposals' */
+    double *zp, *zp2, *rzp, pcn_beta;
+    size_t zlen, zq, zs, zsteps, *fslot, *sslot;
+    uint32_t s_now; /* steps taken so far (for gather_draws in tempering) */
+    int pcn;
+    /* SMC2: the proposal system's gather targets, inner log-weights,
+     * and the groups' transformed parameters (p x G, twice) */
+    double *RX2, *RZ2, *RP2, *RE2, *rlw, *ZG, *ZG2;
+    unsigned char *rdead2;
+    int smc2;
+    /* weighted ensemble Kalman filter: deterministic forecasts, predicted
+     * observations of the forecasts and of the deterministic forecasts,
+     * gain, innovation covariance, H on the states, proposal covariance,
+     * scratch, means, cross-covariance, observed rows, log-weights */
+    double *wk_m, *wk_hf, *wk_hm, *wk_k, *wk_s, *wk_h, *wk_sig, *wk_tmp, *wk_xb,
+        *wk_hb, *wk_cxh, *wk_d, *tmp2;
+    size_t *wk_row;
+} pf_buffers;
+
+/* The cycle's helpers (pf.c): forcing values and their perturbations,
+ * a model step of every member, the state noise, predicted observations,
+ * member log-likelihoods, summaries and diversity, gathering columns by
+ * ancestors, a finiteness check, and the log prior of transformed
+ * parameters (est flags the estimated ones). */
+void sl_pfi_eval_forcing(const sl_pf_config *cfg, pf_buffers *b, double *E,
+                         double *U, double t, uint32_t s, size_t *idx,
+                         const uint32_t *ids, uint64_t seed, double *zst, int zread);
+sl_status sl_pfi_step_all(const sl_pf_config *cfg, pf_buffers *b, double *X,
+                          const double *P, const double *U, double t, double t_end,
+                          uint32_t s, const uint32_t *ids, uint64_t seed, sl_error *err);
+void sl_pfi_record_diversity(const sl_pf_config *cfg, pf_buffers *b, const uint32_t *id,
+                             const double *Z, const double *w, sl_pf_output *out,
+                             size_t k);
+sl_status sl_pfi_predict_obs(const sl_pf_config *cfg, pf_buffers *b, size_t r0,
+                             size_t m, double t, const double *X, const double *P,
+                             sl_error *err);
+void sl_pfi_loglik_into(const sl_pf_config *cfg, pf_buffers *b, size_t r0,
+                        size_t m, double *ll, size_t *nskipped);
+void sl_pfi_loglik_all(const sl_pf_config *cfg, pf_buffers *b, size_t r0,
+                       size_t m, size_t *nskipped);
+void sl_pfi_summarise(const sl_pf_config *cfg, pf_buffers *b, const double *X,
+                      const double *P, const double *w, sl_pf_output *out,
+                      size_t k);
+void sl_pfi_gather_cols(size_t rows, size_t N, const double *src, double *dst,
+                        const uint32_t *anc, int threads);
+void sl_pfi_add_state_noise(const sl_pf_config *cfg, pf_buffers *b, double *X,
+                            size_t k, const uint32_t *ids, uint64_t seed, double *zst,
+                            int zread);
+int sl_pfi_has_nonfinite(const double *x, size_t n);
+double sl_pfi_log_prior_z(const sl_pf_config *cfg, const unsigned char *est,
+                          const double *z);
+sl_status sl_pfi_wenkf_update(const sl_pf_config *cfg, pf_buffers *b, size_t k,
+                              size_t r0, size_t m, double tk, double *X, const double *P,
+                              const double *w, const unsigned char *dead,
+                              size_t *nskipped, sl_error *err);
+sl_status sl_pfi_smc2_run(const sl_pf_config *cfg, pf_buffers *b, double *X, double *P,
+                          double *w, sl_pf_output *out, sl_error *err);
+
+#endif
