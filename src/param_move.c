@@ -103,6 +103,37 @@ static void weighted_mean(size_t p, size_t N, const double *Z, const double *w,
         m[i] = W > 0 ? m[i] / W : Z[i];
 }
 
+/* Flag (1) the parameters that differ between the N members of Z,
+ * whatever their weights: a parameter the prior fixed has one value
+ * everywhere and is never moved. Returns how many are flagged. */
+static size_t spread_flags(size_t p, size_t N, const double *Z, double *flag)
+{
+    size_t i, j, d = 0;
+    for (i = 0; i < p; i++) {
+        double z0 = Z[i], spread = 0.0;
+        for (j = 1; j < N && spread == 0.0; j++)
+            if (Z[i + j * p] != z0)
+                spread = 1.0;
+        flag[i] = spread;
+        d += spread != 0;
+    }
+    return d;
+}
+
+/* The Cholesky factor of the workspace's covariance into its slot, with
+ * the rows and columns of unflagged parameters zeroed first. */
+static void factor_flagged(size_t p, double *ws)
+{
+    double *V = WS_COV(ws, p);
+    const double *flag = WS_FLAG(ws, p);
+    size_t i, l;
+    for (i = 0; i < p; i++)
+        if (flag[i] == 0)
+            for (l = 0; l < p; l++)
+                V[i + l * p] = V[l + i * p] = 0.0;
+    chol_psd(p, V, WS_CHOL(ws, p));
+}
+
 /* z += h L xi with xi standard normals drawn in blocks of 64 (on the stack
  * for any p); only flagged rows move when flag != NULL. */
 static void add_jitter(size_t p, const double *L, double h, const double *flag,
@@ -259,21 +290,12 @@ static void kernel_prepare(const sl_param_move_opts *o, size_t p, size_t N,
 {
     double *m = WS_MEAN(ws, p), *flag = WS_FLAG(ws, p), *V = WS_COV(ws, p);
     double e = 0.0, h, ess;
-    size_t i, j, l, d = 0;
+    size_t j, d;
     int unweighted;
     for (j = 0; j < N; j++)
         e += w[j] * w[j];
     ess = e > 0 ? 1.0 / e : 0.0;
-    /* spread over every member, whatever its weight: a parameter the
-     * prior fixed has one value everywhere and is never moved */
-    for (i = 0; i < p; i++) {
-        double z0 = Z[i], spread = 0.0;
-        for (j = 1; j < N && spread == 0.0; j++)
-            if (Z[i + j * p] != z0)
-                spread = 1.0;
-        flag[i] = spread;
-        d += spread != 0;
-    }
+    d = spread_flags(p, N, Z, flag);
     unweighted = ess < o->min_ess;
     if (unweighted) {
         /* the weighted spread of a few effective members says little:
@@ -285,11 +307,7 @@ static void kernel_prepare(const sl_param_move_opts *o, size_t p, size_t N,
     } else {
         mean_cov(p, N, Z, w, m, V);
     }
-    for (i = 0; i < p; i++)
-        if (flag[i] == 0)
-            for (l = 0; l < p; l++)
-                V[i + l * p] = V[l + i * p] = 0.0;
-    chol_psd(p, V, WS_CHOL(ws, p));
+    factor_flagged(p, ws);
     h = d > 0 ? o->kernel_scale * sl_kernel_bandwidth(N, d) : 0.0;
     if (h > 1.0)
         h = 1.0;
@@ -347,22 +365,9 @@ static void rm_prepare(const sl_param_move_opts *o, size_t p, size_t N,
                        const double *Z, const double *w, double *ws,
                        sl_param_move_info *info)
 {
-    double *m = WS_MEAN(ws, p), *flag = WS_FLAG(ws, p), *V = WS_COV(ws, p);
-    size_t i, j, l, d = 0;
-    for (i = 0; i < p; i++) {
-        double z0 = Z[i], spread = 0.0;
-        for (j = 1; j < N && spread == 0.0; j++)
-            if (Z[i + j * p] != z0)
-                spread = 1.0;
-        flag[i] = spread;
-        d += spread != 0;
-    }
-    mean_cov(p, N, Z, w, m, V);
-    for (i = 0; i < p; i++)
-        if (flag[i] == 0)
-            for (l = 0; l < p; l++)
-                V[i + l * p] = V[l + i * p] = 0.0;
-    chol_psd(p, V, WS_CHOL(ws, p));
+    const size_t d = spread_flags(p, N, Z, WS_FLAG(ws, p));
+    mean_cov(p, N, Z, w, WS_MEAN(ws, p), WS_COV(ws, p));
+    factor_flagged(p, ws);
     WS_H(ws, p) = d > 0 ? o->rm_scale * 2.38 / sqrt((double)d) : 0.0;
     WS_A(ws, p) = 1.0;
     if (info != NULL) {
