@@ -100,8 +100,8 @@ static size_t layout(const sl_pf_config *cfg, unsigned char *base,
             b->zs += cfg->state_noise != NULL && cfg->state_noise[i] > 0;
         for (k = 0; k < cfg->T; k++) {
             double tk = cfg->times[k];
-            b->zsteps += md->discrete ? (size_t)floor((tk - t) / md->dt + 0.5)
-                                      : (size_t)ceil((tk - t) / md->dt - 1e-9);
+            double h;
+            b->zsteps += sl_pfi_nsteps(md, t, tk, &h);
             t = tk;
         }
         if (b->zsteps > big / 8 / (b->zq + 1) || cfg->T > big / 8 / (b->zs + 1))
@@ -588,6 +588,62 @@ sl_status sl_pfi_step_all(const sl_pf_config *cfg, pf_buffers *b, double *X,
         }
     return st;
 }
+
+/* Model steps from t to tk, and their length *h: whole steps of dt for a
+ * map, else equal steps that land exactly on tk. Every pass over the
+ * record (the run, resample-move's re-runs, SMC2's filters) counts its
+ * steps here, so their step indices (the streams' counters) agree. */
+size_t sl_pfi_nsteps(const sl_model *md, double t, double tk, double *h)
+{
+    size_t nsteps;
+    if (md->discrete) {
+        nsteps = (size_t)floor((tk - t) / md->dt + 0.5);
+        *h = md->dt;
+    } else {
+        nsteps = (size_t)ceil((tk - t) / md->dt - 1e-9);
+        *h = nsteps ? (tk - t) / (double)nsteps : 0.0;
+    }
+    return nsteps;
+}
+
+/* Advance every member (X, P, forcing perturbations E, forcing values U)
+ * from *t to the time of cycle k: forcing, then a model step, for each
+ * step; *s counts steps (a failing step counted too), *fidx tracks the
+ * forcing interval, ids/seed/zst/zread as sl_pfi_eval_forcing. Between
+ * steps the run's poll may stop it; it is told the fraction of the run
+ * done at cycle `at` (through its steps when `through` is set, else
+ * at / T), and an interruption names cycle `at`. */
+sl_status sl_pfi_forecast(const sl_pf_config *cfg, pf_buffers *b, double *X,
+                          const double *P, double *E, double *U, double *t, size_t k,
+                          size_t at, uint32_t *s, size_t *fidx, const uint32_t *ids,
+                          uint64_t seed, double *zst, int zread, int through,
+                          sl_error *err)
+{
+    const double tk = cfg->times[k];
+    double h;
+    const size_t nsteps = sl_pfi_nsteps(cfg->model, *t, tk, &h);
+    size_t l;
+    sl_status st;
+    for (l = 0; l < nsteps; l++) {
+        /* the end of step l is exactly the start of step l + 1 */
+        double ts = *t + (double)l * h;
+        double te = l + 1 == nsteps ? tk : *t + (double)(l + 1) * h;
+        double done = through ? (double)at + (double)(l + 1) / (double)nsteps : (double)at;
+        if (cfg->model->n_forcing > 0)
+            sl_pfi_eval_forcing(cfg, b, E, U, ts, *s, fidx, ids, seed, zst, zread);
+        st = sl_pfi_step_all(cfg, b, X, P, U, ts, te, *s, ids, seed, err);
+        (*s)++;
+        if (st != SL_OK)
+            return st;
+        if (cfg->poll != NULL && cfg->poll(cfg->poll_ctx, done / (double)cfg->T))
+            return sl_fail(err, SL_EINTERRUPT, "interrupted",
+                           "the run was interrupted at cycle %lu of %lu",
+                           (unsigned long)(at + 1), (unsigned long)cfg->T);
+    }
+    *t = tk;
+    return SL_OK;
+}
+
 
 /* Move the parameters (transformed Z, natural P) of every member with the
  * run's parameter move fitted to the weights w; draws of member j come
@@ -1083,7 +1139,7 @@ static sl_status replay(const sl_pf_config *cfg, pf_buffers *b, size_t k,
 {
     const sl_model *md = cfg->model;
     const size_t N = cfg->N, n = md->n_state, q = md->n_forcing;
-    size_t c, j, l, fidx = 0;
+    size_t c, j, fidx = 0;
     uint32_t s = 0;
     double t = cfg->t0;
     sl_status st;
@@ -1103,31 +1159,10 @@ static sl_status replay(const sl_pf_config *cfg, pf_buffers *b, size_t k,
         const double tc = cfg->times[c];
         const size_t r0 = cfg->obs_first[c], m = cfg->obs_first[c + 1] - r0;
         const uint32_t *ids = b->path + c * N;
-        size_t nsteps, skipped;
-        double h;
-        if (md->discrete) {
-            nsteps = (size_t)floor((tc - t) / md->dt + 0.5);
-            h = md->dt;
-        } else {
-            nsteps = (size_t)ceil((tc - t) / md->dt - 1e-9);
-            h = nsteps ? (tc - t) / (double)nsteps : 0.0;
-        }
-        for (l = 0; l < nsteps; l++) {
-            double ts = t + (double)l * h;
-            double te = l + 1 == nsteps ? tc : t + (double)(l + 1) * h;
-            if (q > 0)
-                sl_pfi_eval_forcing(cfg, b, b->RE, b->RU, ts, s, &fidx, ids, cfg->seed,
-                             b->pcn ? b->rzp : NULL, 1);
-            st = sl_pfi_step_all(cfg, b, b->RX, b->RP, b->RU, ts, te, s, ids, cfg->seed, err);
-            s++;
-            if (st != SL_OK)
-                return st;
-            if (cfg->poll != NULL && cfg->poll(cfg->poll_ctx, (double)k / (double)cfg->T))
-                return sl_fail(err, SL_EINTERRUPT, "interrupted",
-                               "the run was interrupted at cycle %lu of %lu",
-                               (unsigned long)(k + 1), (unsigned long)cfg->T);
-        }
-        t = tc;
+        size_t skipped;
+        if ((st = sl_pfi_forecast(cfg, b, b->RX, b->RP, b->RE, b->RU, &t, c, k, &s, &fidx, ids,
+                                  cfg->seed, b->pcn ? b->rzp : NULL, 1, 0, err)) != SL_OK)
+            return st;
         sl_pfi_add_state_noise(cfg, b, b->RX, c, ids, cfg->seed, b->pcn ? b->rzp : NULL, 1);
         for (j = 0; j < N; j++)
             if (!b->rdead[j] && sl_pfi_has_nonfinite(b->RX + j * n, n))
@@ -1166,26 +1201,91 @@ double sl_pfi_log_prior_z(const sl_pf_config *cfg, const unsigned char *est,
     return isnan(lp) ? -HUGE_VAL : lp;
 }
 
-/* The fewest distinct values (by id) among the estimated parameters, as
- * a fraction of N. */
-static double diversity(const sl_pf_config *cfg, pf_buffers *b, const uint32_t *id)
+/* The fewest distinct values (by id: p x count) among the estimated
+ * parameters of `count` members or groups, as a fraction of count. */
+double sl_pfi_diversity(const sl_pf_config *cfg, pf_buffers *b, const uint32_t *id,
+                        size_t count)
 {
-    const size_t N = cfg->N, p = cfg->model->n_param;
-    size_t i, j, fewest = N;
+    const size_t p = cfg->model->n_param;
+    size_t i, j, fewest = count;
     for (i = 0; i < p; i++) {
-        size_t count = 0;
+        size_t distinct = 0;
         if (!b->est[i])
             continue;
-        memset(b->mark, 0, N);
-        for (j = 0; j < N; j++)
+        memset(b->mark, 0, count);
+        for (j = 0; j < count; j++)
             if (!b->mark[id[i + j * p]]) {
                 b->mark[id[i + j * p]] = 1;
-                count++;
+                distinct++;
             }
-        if (count < fewest)
-            fewest = count;
+        if (distinct < fewest)
+            fewest = distinct;
     }
-    return (double)fewest / (double)N;
+    return (double)fewest / (double)count;
+}
+
+/* Fit resample_move's proposal (o: its settings at the current scale) to
+ * the transformed parameters Z of `count` members or groups into b->mv.
+ * When an estimated parameter has no spread left (a very sharp
+ * likelihood collapsed it to one value) the ensemble cannot propose a
+ * move: the proposal fitted last (at the start: to the prior draws) does,
+ * at the current scale. */
+void sl_pfi_fit_proposal(const sl_pf_config *cfg, pf_buffers *b,
+                         const sl_param_move_opts *o, const double *Z, size_t count)
+{
+    const sl_param_mover *mv = &sl_param_move_resample_move;
+    const size_t p = cfg->model->n_param, ws = sl_param_move_workspace(p);
+    sl_param_move_info info;
+    size_t i, nest = 0;
+    for (i = 0; i < p; i++)
+        nest += b->est[i];
+    mv->prepare(o, p, count, Z, NULL, b->mv, &info);
+    if (info.dim >= nest) {
+        memcpy(b->mvlast, b->mv, ws * sizeof(double));
+    } else {
+        memcpy(b->mv, b->mvlast, ws * sizeof(double));
+        sl_param_move_rescale(mv, o, p, b->mv);
+    }
+}
+
+/* After a sweep: members or groups with acc[j] set hold new parameter
+ * values and get fresh ids, the others keep theirs, renumbered so that
+ * ids stay below count (id: p x count; b->idmap is scratch). */
+void sl_pfi_renumber_ids(const sl_pf_config *cfg, pf_buffers *b, const unsigned char *acc,
+                         uint32_t *id, size_t count)
+{
+    const size_t p = cfg->model->n_param;
+    size_t i, j;
+    for (i = 0; i < p; i++) {
+        uint32_t next = 0;
+        if (!b->est[i])
+            continue;
+        memset(b->idmap, 0xff, count * sizeof(uint32_t));
+        for (j = 0; j < count; j++) {
+            uint32_t old = id[i + j * p];
+            if (acc[j]) {
+                id[i + j * p] = next++;
+            } else {
+                if (b->idmap[old] == UINT32_MAX)
+                    b->idmap[old] = next++;
+                id[i + j * p] = b->idmap[old];
+            }
+        }
+    }
+}
+
+/* Scale adaptation toward an acceptance rate of 0.234 (Roberts, Gelman &
+ * Gilks 1997): *scale times exp(rate - 0.234), kept within [lo, hi]. */
+void sl_pfi_adapt_scale(double *scale, size_t accepted, size_t proposed, double lo,
+                        double hi)
+{
+    if (proposed == 0)
+        return;
+    *scale *= exp((double)accepted / (double)proposed - 0.234);
+    if (*scale < lo)
+        *scale = lo;
+    if (*scale > hi)
+        *scale = hi;
 }
 
 /* resample_move on the current (just resampled, equally weighted)
@@ -1206,16 +1306,13 @@ static sl_status replay_move(const sl_pf_config *cfg, pf_buffers *b, size_t k,
     unsigned char *dead = b->dead[cur];
     uint32_t *vid = b->vid[cur];
     sl_param_move_opts o = cfg->move;
-    sl_param_move_info info;
-    size_t w, i, j, nest = 0;
+    size_t w, i, j;
     int zdone = 0;
     sl_status st;
-    if (diversity(cfg, b, vid) >= cfg->move.rm_diversity)
+    if (sl_pfi_diversity(cfg, b, vid, N) >= cfg->move.rm_diversity)
         return SL_OK;
     for (j = 0; j < N; j++)
         b->lp[j] = sl_pfi_log_prior_z(cfg, b->est, Z + j * p);
-    for (i = 0; i < p; i++)
-        nest += b->est[i];
     for (w = 0; w < cfg->move.rm_sweeps; w++) {
         size_t live = 0, acc = 0;
         const uint32_t purpose = (uint32_t)SL_PURPOSE_REPLAY_MOVE +
@@ -1227,17 +1324,7 @@ static sl_status replay_move(const sl_pf_config *cfg, pf_buffers *b, size_t k,
                      zoff = b->zsteps * b->zq;
         const double beta = b->pcn_beta, rho = sqrt(1.0 - b->pcn_beta * b->pcn_beta);
         o.rm_scale = cfg->move.rm_scale * b->rm_adapt;
-        mv->prepare(&o, p, N, Z, NULL, b->mv, &info);
-        if (info.dim >= nest) {
-            memcpy(b->mvlast, b->mv, sl_param_move_workspace(p) * sizeof(double));
-        } else {
-            /* the ensemble has collapsed to one value of a parameter (a
-             * very sharp likelihood): its own spread cannot propose a
-             * move, so the proposal fitted last (at the start: to the
-             * prior draws) does, at the current scale */
-            memcpy(b->mv, b->mvlast, sl_param_move_workspace(p) * sizeof(double));
-            sl_param_move_rescale(mv, &o, p, b->mv);
-        }
+        sl_pfi_fit_proposal(cfg, b, &o, Z, N);
 #pragma omp parallel for num_threads(b->nt) schedule(static) private(i)
         for (j = 0; j < N; j++) {
             sl_stream sm;
@@ -1298,44 +1385,19 @@ static sl_status replay_move(const sl_pf_config *cfg, pf_buffers *b, size_t k,
                 acc++;
             }
         }
-        /* the accepted members hold new values: fresh ids, the others
-         * keep theirs (renumbered so that ids stay below N) */
-        for (i = 0; i < p && !zsweep; i++) {
-            uint32_t next = 0;
-            if (!b->est[i])
-                continue;
-            memset(b->idmap, 0xff, N * sizeof(uint32_t));
-            for (j = 0; j < N; j++) {
-                uint32_t old = vid[i + j * p];
-                if (b->acc[j]) {
-                    vid[i + j * p] = next++;
-                } else {
-                    if (b->idmap[old] == UINT32_MAX)
-                        b->idmap[old] = next++;
-                    vid[i + j * p] = b->idmap[old];
-                }
-            }
-        }
+        if (!zsweep)
+            sl_pfi_renumber_ids(cfg, b, b->acc, vid, N);
         b->rm_sweeps++;
         b->rm_proposed += live;
         b->rm_accepted += acc;
         /* scale adaptation toward an acceptance rate of 0.234 (Roberts,
          * Gelman & Gilks 1997), kept within 1e-3 .. 1e3 of the start */
-        if (live > 0 && zsweep) {
-            b->pcn_beta *= exp((double)acc / (double)live - 0.234);
-            if (b->pcn_beta < 1e-4)
-                b->pcn_beta = 1e-4;
-            if (b->pcn_beta > 1.0)
-                b->pcn_beta = 1.0;
-        } else if (live > 0) {
-            b->rm_adapt *= exp((double)acc / (double)live - 0.234);
-            if (b->rm_adapt < 1e-3)
-                b->rm_adapt = 1e-3;
-            if (b->rm_adapt > 1e3)
-                b->rm_adapt = 1e3;
-        }
+        if (zsweep)
+            sl_pfi_adapt_scale(&b->pcn_beta, acc, live, 1e-4, 1.0);
+        else
+            sl_pfi_adapt_scale(&b->rm_adapt, acc, live, 1e-3, 1e3);
         zdone |= zsweep;
-        if ((!b->pcn || zdone) && diversity(cfg, b, vid) >= target)
+        if ((!b->pcn || zdone) && sl_pfi_diversity(cfg, b, vid, N) >= target)
             break;
     }
     return SL_OK;
@@ -1562,8 +1624,8 @@ sl_status sl_pf_run(const sl_pf_config *cfg, double *X, double *P, double *w,
         const double tk = cfg->times[k];
         const size_t r0 = cfg->obs_first[k], m = cfg->obs_first[k + 1] - r0;
         double *Xc = b.X[cur], *Pc = b.P[cur], *Zc = b.Z[cur];
-        size_t nsteps, l, nskipped = 0, nobs, tsteps = 0, evals = 0;
-        double h, ess, wsum, tphi = 0.0, tlogz = 0.0;
+        size_t nskipped = 0, nobs, tsteps = 0, evals = 0;
+        double ess, wsum, tphi = 0.0, tlogz = 0.0;
         int reweight = 0, resampled = 0, degenerate = 0;
 
         b.rm_sweeps = b.rm_proposed = b.rm_accepted = 0;
@@ -1574,34 +1636,15 @@ sl_status sl_pf_run(const sl_pf_config *cfg, double *X, double *P, double *w,
             refresh_ids(p, N, b.Z[1 - cur], Zc, b.vid[cur]);
         }
 
-        /* forecast: equal steps that land exactly on tk */
-        if (md->discrete) {
-            nsteps = (size_t)floor((tk - t) / md->dt + 0.5);
-            h = md->dt;
-        } else {
-            nsteps = (size_t)ceil((tk - t) / md->dt - 1e-9);
-            h = nsteps ? (tk - t) / (double)nsteps : 0.0;
-        }
-        for (l = 0; l < nsteps; l++) {
-            /* the end of step l is exactly the start of step l + 1 */
-            double ts = t + (double)l * h;
-            double te = l + 1 == nsteps ? tk : t + (double)(l + 1) * h;
-            if (q > 0)
-                sl_pfi_eval_forcing(cfg, &b, b.E[cur], b.U, ts, s, &fidx, NULL, cfg->seed,
-                             b.pcn ? b.zp : NULL, 0);
-            st = sl_pfi_step_all(cfg, &b, Xc, Pc, b.U, ts, te, s, NULL, cfg->seed, err);
-            s++;
-            out->steps++;
+        /* forecast */
+        {
+            const uint32_t s0 = s;
+            st = sl_pfi_forecast(cfg, &b, Xc, Pc, b.E[cur], b.U, &t, k, k, &s, &fidx, NULL,
+                                 cfg->seed, b.pcn ? b.zp : NULL, 0, 1, err);
+            out->steps += s - s0;
             if (st != SL_OK)
                 return st;
-            if (cfg->poll != NULL &&
-                cfg->poll(cfg->poll_ctx, ((double)k + (double)(l + 1) / (double)nsteps) /
-                                             (double)cfg->T))
-                return sl_fail(err, SL_EINTERRUPT, "interrupted",
-                               "the run was interrupted at cycle %lu of %lu",
-                               (unsigned long)(k + 1), (unsigned long)cfg->T);
         }
-        t = tk;
 
         /* optional additive state noise, then the health of every member */
         if (cfg->wenkf)

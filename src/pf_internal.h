@@ -100,6 +100,20 @@ void sl_pfi_add_state_noise(const sl_pf_config *cfg, pf_buffers *b, double *X,
                             size_t k, const uint32_t *ids, uint64_t seed, double *zst,
                             int zread);
 int sl_pfi_has_nonfinite(const double *x, size_t n);
+double sl_pfi_diversity(const sl_pf_config *cfg, pf_buffers *b, const uint32_t *id,
+                        size_t count);
+void sl_pfi_fit_proposal(const sl_pf_config *cfg, pf_buffers *b,
+                         const sl_param_move_opts *o, const double *Z, size_t count);
+void sl_pfi_renumber_ids(const sl_pf_config *cfg, pf_buffers *b, const unsigned char *acc,
+                         uint32_t *id, size_t count);
+void sl_pfi_adapt_scale(double *scale, size_t accepted, size_t proposed, double lo,
+                        double hi);
+size_t sl_pfi_nsteps(const sl_model *md, double t, double tk, double *h);
+sl_status sl_pfi_forecast(const sl_pf_config *cfg, pf_buffers *b, double *X,
+                          const double *P, double *E, double *U, double *t, size_t k,
+                          size_t at, uint32_t *s, size_t *fidx, const uint32_t *ids,
+                          uint64_t seed, double *zst, int zread, int through,
+                          sl_error *err);
 double sl_pfi_log_prior_z(const sl_pf_config *cfg, const unsigned char *est,
                           const double *z);
 sl_status sl_pfi_wenkf_update(const sl_pf_config *cfg, pf_buffers *b, size_t k,

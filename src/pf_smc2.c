@@ -55,31 +55,11 @@ static sl_status smc2_cycle(const sl_pf_config *cfg, pf_buffers *b, smc2_sys *sy
                  p = md->n_param, q = md->n_forcing;
     const double tc = cfg->times[c];
     const size_t r0 = cfg->obs_first[c], m = cfg->obs_first[c + 1] - r0;
-    size_t nsteps, l, j, g, skipped;
-    double h;
+    size_t j, g, skipped;
     sl_status st;
-    if (md->discrete) {
-        nsteps = (size_t)floor((tc - *t) / md->dt + 0.5);
-        h = md->dt;
-    } else {
-        nsteps = (size_t)ceil((tc - *t) / md->dt - 1e-9);
-        h = nsteps ? (tc - *t) / (double)nsteps : 0.0;
-    }
-    for (l = 0; l < nsteps; l++) {
-        double ts = *t + (double)l * h;
-        double te = l + 1 == nsteps ? tc : *t + (double)(l + 1) * h;
-        if (q > 0)
-            sl_pfi_eval_forcing(cfg, b, sy->E, b->U, ts, *s, fidx, NULL, seed, NULL, 0);
-        st = sl_pfi_step_all(cfg, b, sy->X, sy->P, b->U, ts, te, *s, NULL, seed, err);
-        (*s)++;
-        if (st != SL_OK)
-            return st;
-        if (cfg->poll != NULL && cfg->poll(cfg->poll_ctx, (double)c / (double)cfg->T))
-            return sl_fail(err, SL_EINTERRUPT, "interrupted",
-                           "the run was interrupted at cycle %lu of %lu",
-                           (unsigned long)(c + 1), (unsigned long)cfg->T);
-    }
-    *t = tc;
+    if ((st = sl_pfi_forecast(cfg, b, sy->X, sy->P, sy->E, b->U, t, c, c, s, fidx, NULL, seed,
+                              NULL, 0, 0, err)) != SL_OK)
+        return st;
     sl_pfi_add_state_noise(cfg, b, sy->X, c, NULL, seed, NULL, 0);
     for (j = 0; j < N; j++)
         if (!sy->dead[j] && sl_pfi_has_nonfinite(sy->X + j * n, n))
@@ -196,7 +176,6 @@ static sl_status smc2_move(const sl_pf_config *cfg, pf_buffers *b, smc2_sys *sy,
                  p = cfg->model->n_param, q = cfg->model->n_forcing;
     const double target = 0.5 * (1.0 + cfg->move.rm_diversity);
     sl_param_move_opts o = cfg->move;
-    sl_param_move_info info;
     size_t w, g, i, j, nest = 0;
     sl_status st;
     for (i = 0; i < p; i++)
@@ -209,17 +188,11 @@ static sl_status smc2_move(const sl_pf_config *cfg, pf_buffers *b, smc2_sys *sy,
     }
     for (w = 0; w < cfg->move.rm_sweeps; w++) {
         const uint64_t seed2 = smc2_seed(cfg->seed, k, w);
-        size_t live = 0, acc = 0, fidx = 0, c, distinct;
+        size_t live = 0, acc = 0, fidx = 0, c;
         uint32_t s = 0;
         double t = cfg->t0;
         o.rm_scale = cfg->move.rm_scale * b->rm_adapt;
-        mv->prepare(&o, p, G, b->ZG, NULL, b->mv, &info);
-        if (info.dim >= nest) {
-            memcpy(b->mvlast, b->mv, sl_param_move_workspace(p) * sizeof(double));
-        } else {
-            memcpy(b->mv, b->mvlast, sl_param_move_workspace(p) * sizeof(double));
-            sl_param_move_rescale(mv, &o, p, b->mv);
-        }
+        sl_pfi_fit_proposal(cfg, b, &o, b->ZG, G);
         for (g = 0; g < G; g++) {
             sl_stream sm;
             double *z = b->ZG2 + g * p;
@@ -267,46 +240,13 @@ static sl_status smc2_move(const sl_pf_config *cfg, pf_buffers *b, smc2_sys *sy,
                 acc++;
             }
         }
-        /* fresh ids for the accepted groups, renumbered below G */
-        for (i = 0; i < p; i++) {
-            uint32_t next = 0;
-            memset(b->idmap, 0xff, G * sizeof(uint32_t));
-            for (g = 0; g < G; g++) {
-                uint32_t old = gid[i + g * p];
-                if (b->acc[g]) {
-                    gid[i + g * p] = next++;
-                } else {
-                    if (b->idmap[old] == UINT32_MAX)
-                        b->idmap[old] = next++;
-                    gid[i + g * p] = b->idmap[old];
-                }
-            }
-        }
+        /* fresh ids for the accepted groups */
+        sl_pfi_renumber_ids(cfg, b, b->acc, gid, G);
         b->rm_sweeps++;
         b->rm_proposed += live;
         b->rm_accepted += acc;
-        if (live > 0) {
-            b->rm_adapt *= exp((double)acc / (double)live - 0.234);
-            if (b->rm_adapt < 1e-3)
-                b->rm_adapt = 1e-3;
-            if (b->rm_adapt > 1e3)
-                b->rm_adapt = 1e3;
-        }
-        distinct = G;
-        for (i = 0; i < p; i++) {
-            size_t cnt = 0;
-            if (!b->est[i])
-                continue;
-            memset(b->mark, 0, G);
-            for (g = 0; g < G; g++)
-                if (!b->mark[gid[i + g * p]]) {
-                    b->mark[gid[i + g * p]] = 1;
-                    cnt++;
-                }
-            if (cnt < distinct)
-                distinct = cnt;
-        }
-        if ((double)distinct >= target * (double)G)
+        sl_pfi_adapt_scale(&b->rm_adapt, acc, live, 1e-3, 1e3);
+        if (sl_pfi_diversity(cfg, b, gid, G) >= target)
             break;
     }
     return SL_OK;
