@@ -7,22 +7,10 @@
 %! % a linear-Gaussian AR(1) river anomaly x_t = a x_(t-1) + N(0, q),
 %! % y_t = x_t + N(0, r), x_0 ~ N(0, 1), unknown a with a uniform prior on
 %! % (-1, 1); invented data (truth a = 0.8)
+%! % (ar1_record: the data and the exact posterior of a on a grid, the
+%! % Kalman filter's likelihood times the flat prior)
 %! T = 100; q = 1; r = 0.25;
-%! randn ('state', 11);
-%! x = zeros (T, 1); xp = randn ();
-%! for t = 1:T
-%!   xp = 0.8 * xp + sqrt (q) * randn (); x(t) = xp;
-%! end
-%! y = x + sqrt (r) * randn (T, 1);
-%! % the exact posterior of a on a grid: the Kalman filter's likelihood by
-%! % the prediction-error decomposition (Kalman 1960; Harvey 1989) times the
-%! % flat prior, normalised on the grid
-%! g = linspace (-0.999, 0.999, 4001);
-%! ll = arrayfun (@(a) ar1_loglik (a, q, r, 0, 1, y), g);
-%! pw = exp (ll - max (ll)); pw = pw / sum (pw);
-%! [c, iu] = unique (cumsum (pw));
-%! gq = interp1 (c, g(iu), [0.05 0.5 0.95]);
-%! gsd = sqrt (sum (pw .* g.^2) - sum (pw .* g)^2);
+%! [y, gq, gsd] = ar1_record ();
 %! % the same model as a vectorised step map; the model noise is the
 %! % filter's additive state noise, applied once per unit step
 %! spec = sluice.model (@(t, X, P, U, dt) P(1, :) .* X, 'states', {'x'}, 'params', {'a'});

@@ -152,19 +152,7 @@
 %! % bands of half the exact width on these data and the kernel 15-35%
 %! % narrower. Checks a few Monte Carlo errors wide.
 %! T = 100; q = 1; r = 0.25;
-%! randn ('state', 11);
-%! x = zeros (T, 1); xp = randn ();
-%! for t = 1:T
-%!   xp = 0.8 * xp + sqrt (q) * randn (); x(t) = xp;
-%! end
-%! y = x + sqrt (r) * randn (T, 1);
-%! g = linspace (-0.999, 0.999, 4001);
-%! ll = arrayfun (@(a) ar1_loglik (a, q, r, 0, 1, y), g);
-%! pw = exp (ll - max (ll)); pw = pw / sum (pw);
-%! [c, iu] = unique (cumsum (pw));
-%! gq = interp1 (c, g(iu), [0.05 0.5 0.95]);
-%! gsd = sqrt (sum (pw .* g.^2) - sum (pw .* g)^2);
-%! lz = log (sum (exp (ll - max (ll))) * (g(2) - g(1)) / 2) + max (ll);
+%! [y, gq, gsd, lz] = ar1_record ();
 %! m = sluice.model (@(t, X, P, U, dt) P(1, :) .* X, 'states', {'x'}, 'params', {'a'});
 %! p0 = sluice.prior ('x', 'normal', [0 1], 'a', 'uniform', [-1 1]);
 %! o = struct ('time', (1:T)', 'variable', {repmat({'x'}, T, 1)}, 'value', y, ...
@@ -206,12 +194,7 @@
 %! % median within 1 sd, the seeds' mean within 0.5 sd, widths within a
 %! % factor 0.6-1.5 (Monte Carlo error of 200 parameter vectors).
 %! T = 100; r = 0.25;
-%! randn ('state', 11);
-%! x = zeros (T, 1); xp = randn ();
-%! for t = 1:T
-%!   xp = 0.8 * xp + randn (); x(t) = xp;
-%! end
-%! y = x + sqrt (r) * randn (T, 1);
+%! y = ar1_record ();   % the same record: a = 0.8, s = 1
 %! [A, S] = ndgrid (linspace (0.5, 0.999, 300), linspace (0.3, 2.5, 300));
 %! m = zeros (size (A)); P = ones (size (A)); ll = zeros (size (A)); Q = S.^2;
 %! for t = 1:T
