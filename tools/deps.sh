@@ -14,7 +14,20 @@ cmd="apt-get install -y --no-install-recommends ${missing[*]}"
 echo "sluice: missing Debian packages: ${missing[*]}"
 if [ "$(id -u)" -eq 0 ] && command -v apt-get >/dev/null; then
   export DEBIAN_FRONTEND=noninteractive
-  { apt-get update -qq && apt-get install -y -qq --no-install-recommends "${missing[@]}"; } || {
+  # another install running (a second make, the system's own updates) is
+  # waited for, up to 15 minutes, not taken as a failure: install waits on
+  # dpkg's lock by itself; update does not, so it is tried again while the
+  # lock of the package lists is held
+  update() {
+    local i out
+    for i in $(seq 90); do
+      out=$(apt-get update -qq 2>&1) && return 0
+      case $out in *"Could not get lock"*) sleep "${SLUICE_APT_WAIT:-10}" ;; *) echo "$out" >&2; return 1 ;; esac
+    done
+    echo "$out" >&2; return 1
+  }
+  { update && apt-get -o DPkg::Lock::Timeout=900 install -y -qq \
+      --no-install-recommends "${missing[@]}"; } || {
     echo "sluice: apt-get failed; the command was: $cmd" >&2; exit 1; }
   echo "sluice: installed ${missing[*]}"
 else

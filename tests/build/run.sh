@@ -50,5 +50,38 @@ else
     else ok; fi
   done
 fi
+# as root, another apt running: deps.sh waits for it instead of failing
+# (a stand-in apt-get on PATH that reports the lock held twice)
+if [ "$(id -u)" -eq 0 ]; then
+  mkdir -p "$tmp/bin"
+  cat > "$tmp/bin/apt-get" <<'FAKE'
+#!/usr/bin/env bash
+log=${FAKE_APT_LOG:?}
+echo "$*" >> "$log"
+case " $* " in
+  *" update "*)
+    n=$(grep -c update "$log")
+    if [ "$n" -le "${FAKE_APT_BUSY:-0}" ]; then
+      echo "E: Could not get lock /var/lib/apt/lists/lock. It is held by process 1 (apt-get)" >&2; exit 100
+    fi
+    [ -n "${FAKE_APT_BROKEN:-}" ] && { echo "E: The repository is broken" >&2; exit 100; }
+    exit 0 ;;
+esac
+exit 0
+FAKE
+  chmod 755 "$tmp/bin/apt-get"
+  : > "$tmp/apt.log"
+  out=$(PATH="$tmp/bin:$PATH" FAKE_APT_LOG="$tmp/apt.log" FAKE_APT_BUSY=2 SLUICE_APT_WAIT=0 \
+          bash "$here/tools/deps.sh" "$tmp/missing" 2>&1); rc=$?
+  [ $rc -eq 0 ] && ok || fail "deps.sh gave up while another apt held the lock: $out"
+  [ "$(grep -c update "$tmp/apt.log")" -eq 3 ] && ok || fail "deps.sh did not retry update: $(cat "$tmp/apt.log")"
+  grep -q 'DPkg::Lock::Timeout=.*install.*sluice-no-such-package-b' "$tmp/apt.log" \
+    && ok || fail "deps.sh install does not wait for dpkg's lock: $(cat "$tmp/apt.log")"
+  : > "$tmp/apt.log"
+  out=$(PATH="$tmp/bin:$PATH" FAKE_APT_LOG="$tmp/apt.log" FAKE_APT_BROKEN=1 SLUICE_APT_WAIT=0 \
+          bash "$here/tools/deps.sh" "$tmp/missing" 2>&1); rc=$?
+  [ $rc -ne 0 ] && [ "$(wc -l < "$tmp/apt.log")" -eq 1 ] && grep -q 'repository is broken' <<<"$out" \
+    && ok || fail "deps.sh retried or hid a failure that is not a lock: exit $rc, $(cat "$tmp/apt.log")"
+fi
 echo "build: $passed passed, $failed failed"
 [ $failed -eq 0 ]
