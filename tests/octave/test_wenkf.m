@@ -87,3 +87,35 @@
 %!error id=sluice:filter:badfamily sluice.filter (spec, pr, setfield (setfield (obs, 'value', abs (y) + 0.1), 'family', repmat ({'lognormal'}, 50, 1)), 'method', 'wenkf', 'members', 50, 't0', 0, 'state_noise', 1, 'progress', false)
 %!error id=sluice:filter:badoperator sluice.filter (spec, pr, setfield (obs, 'variable', repmat ({'g'}, 50, 1)), 'method', 'wenkf', 'members', 50, 't0', 0, 'state_noise', 1, 'progress', false, 'operators', struct ('names', 'g', 'fun', @(t, X, P) 2 * X))
 %!error id=sluice:filter:badmethod sluice.filter (spec, pr, obs, 'method', 'wenkff')
+
+%!test
+%! % joint estimation: the AR(1) coefficient a of an invented record
+%! % (ar1_record: x_t = 0.8 x_(t-1) + N(0, 1), y_t = x_t + N(0, 0.25),
+%! % 100 times) with the weighted EnKF and the default parameter move,
+%! % against the exact posterior of a on a grid (the Kalman filter's
+%! % likelihood times the flat prior; median 0.895, 90% band [0.824,
+%! % 0.964]). Measured over seeds 1-4: medians 0.899-0.916, band widths
+%! % 0.94-1.15 of the exact one (the bootstrap filter's: 0.67-0.85). Each
+%! % band holds the exact median and overlaps the exact band over most of
+%! % its width; the mean median lies within 0.5 posterior sd of the exact
+%! % one (seed-to-seed spread about 0.4 sd, common practice).
+%! [ya, gq, gsd] = ar1_record ();
+%! T = 100;
+%! sp = sluice.model (@(t, X, P, U, dt) P(1, :) .* X, 'states', {'x'}, 'params', {'a'});
+%! pa = sluice.prior ('x', 'normal', [0 1], 'a', 'uniform', [-1 1]);
+%! ob = struct ('time', (1:T)', 'variable', {repmat({'x'}, T, 1)}, 'value', ya, ...
+%!              'sigma', 0.5 * ones (T, 1));
+%! warning ('off', 'sluice:filter:approxparams', 'local');
+%! warning ('off', 'sluice:filter:atbound', 'local');
+%! meds = zeros (1, 4);
+%! for seed = 1:4
+%!   res = sluice.filter (sp, pa, ob, 'method', 'wenkf', 'members', 2000, 'seed', seed, ...
+%!                        't0', 0, 'state_noise', 1, 'progress', false);
+%!   b = reshape (res.params.quantiles(1, :, end), 1, 3);
+%!   meds(seed) = b(2);
+%!   assert (b(1) <= gq(2) && gq(2) <= b(3));
+%!   assert (min (b(3), gq(3)) - max (b(1), gq(1)) >= 0.7 * (b(3) - b(1)));
+%!   ratio = (b(3) - b(1)) / (gq(3) - gq(1));
+%!   assert (ratio > 0.75 && ratio < 1.4);
+%! end
+%! assert (abs (mean (meds) - gq(2)) < 0.5 * gsd);
