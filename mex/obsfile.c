@@ -1,5 +1,6 @@
-/* obsfile.c - gateway: tab = sluice.kernel.obsfile('read', file),
- * [tab, nmissing] = ..., sluice.kernel.obsfile('write', file, tab). */
+/* obsfile.c - gateway: [tab, nmissing, codes, info] =
+ * sluice.kernel.obsfile('read', file [, origin, unit_days, datenums, sort]),
+ * sluice.kernel.obsfile('write', file, tab). */
 #include "mexutil.h"
 #include "sluice/obsfile.h"
 
@@ -15,19 +16,114 @@ static void raise_in(const char *fn, const char *file, const sl_error *err)
              err->message[0] ? err->message : sl_status_name(err->status));
 }
 
-static void do_read(int nlhs, mxArray *plhs[], const mxArray *arg)
+/* A logical or real double scalar as 0 / 1. */
+static int flag_arg(const char *fn, const mxArray *a, int pos, const char *name)
+{
+    char got[96];
+    if ((mxIsLogical(a) || (mxIsDouble(a) && !mxIsComplex(a) && !mxIsSparse(a))) &&
+        mxGetNumberOfElements(a) == 1) {
+        double v = mxIsLogical(a) ? (double)mxGetLogicals(a)[0] : slm_doubles(a)[0];
+        if (v == 0 || v == 1)
+            return v == 1;
+    }
+    slm_describe(a, got, sizeof got);
+    slm_fail(fn, "badoption", "argument %d (%s): expected true or false, got %s", pos,
+             name, got);
+}
+
+/* The reader's options from arguments 3-6: origin ([] / ISO text / datenum),
+ * unit_days, datenums, sort. */
+static void read_options(const char *fn, const mxArray *const a[4], sl_obs_read_opts *o)
+{
+    sl_error err;
+    char got[96];
+    sl_obs_read_opts_init(o);
+    if (mxIsChar(a[0]) && mxGetNumberOfElements(a[0]) > 0) {
+        char *s = slm_string(fn, a[0], 3, "origin");
+        if (sl_date_parse(s, strlen(s), &o->origin, &err) != SL_OK)
+            slm_fail(fn, "badorigin", "option 'origin': '%s' is not a date: %s", s,
+                     err.message);
+        o->has_origin = 1;
+        mxFree(s);
+    } else if (mxIsDouble(a[0]) && !mxIsComplex(a[0]) && !mxIsSparse(a[0]) &&
+               mxGetNumberOfElements(a[0]) == 1) {
+        if (sl_date_from_datenum(slm_doubles(a[0])[0], &o->origin, &err) != SL_OK)
+            slm_fail(fn, "badorigin", "option 'origin': %s", err.message);
+        o->has_origin = 1;
+    } else if (!(mxIsDouble(a[0]) && mxGetNumberOfElements(a[0]) == 0)) {
+        slm_describe(a[0], got, sizeof got);
+        slm_fail(fn, "badorigin",
+                 "option 'origin': expected a date such as '2001-01-01' or a datenum, got %s",
+                 got);
+    }
+    o->unit_days = slm_scalar(fn, a[1], 4, "unit_days");
+    if (!(o->unit_days > 0))
+        slm_fail(fn, "badoption", "argument 4 (unit_days): expected a positive number, got %g",
+                 o->unit_days);
+    o->datenums = flag_arg(fn, a[2], 5, "datenums");
+    o->sort_rows = flag_arg(fn, a[3], 6, "sort");
+}
+
+static const char *const time_forms[3] = {"numbers", "dates", "datenums"};
+
+/* info: separator, time_form, time_origin, origin_datenum, units,
+ * unsorted, unsorted_line. */
+static mxArray *read_info(const sl_obs_read_opts *o, const sl_obs_size *sz,
+                          const sl_obs_table *tab)
+{
+    static const char *fields[7] = {"separator",  "time_form", "time_origin",
+                                    "origin_datenum", "units", "unsorted",
+                                    "unsorted_line"};
+    char sep[3] = {sz->sep, '\0', '\0'}, origin[64] = "";
+    int dated = sz->time_form != SL_OBS_TIME_NUMBERS && o->has_origin;
+    mxArray *info = mxCreateStructMatrix(1, 1, 7, fields), *units;
+    size_t j, nu = 0;
+    const char **unames;
+    if (dated)
+        sl_date_format(o->origin, origin, sizeof origin);
+    mxSetFieldByNumber(info, 0, 0, mxCreateString(sep));
+    mxSetFieldByNumber(info, 0, 1, mxCreateString(time_forms[sz->time_form]));
+    mxSetFieldByNumber(info, 0, 2, mxCreateString(origin));
+    mxSetFieldByNumber(info, 0, 3, mxCreateDoubleScalar(
+                                       dated ? sl_date_to_datenum(o->origin) : mxGetNaN()));
+    unames = slm_alloc("read_obs", sz->cols + 1, sizeof *unames);
+    for (j = 0; j < sz->cols; j++)
+        if (tab->units[tab->unit_at[j]] != '\0')
+            unames[nu++] = tab->names + tab->name_at[j];
+    units = mxCreateStructMatrix(1, 1, (int)nu, unames);
+    for (j = 0, nu = 0; j < sz->cols; j++)
+        if (tab->units[tab->unit_at[j]] != '\0')
+            mxSetFieldByNumber(units, 0, (int)nu++, mxCreateString(tab->units + tab->unit_at[j]));
+    mxSetFieldByNumber(info, 0, 4, units);
+    mxSetFieldByNumber(info, 0, 5, mxCreateDoubleScalar((double)sz->unsorted));
+    mxSetFieldByNumber(info, 0, 6, mxCreateDoubleScalar((double)sz->unsorted_line));
+    return info;
+}
+
+/* tab = obsfile('read', file [, origin, unit_days, datenums, sort]);
+ * [tab, nmissing, codes, info] = ...: with codes asked for, a text column
+ * of tab holds its distinct texts and codes.(name) the 1-based index of
+ * each row's text among them (tab.(name)(codes.(name)) is the column). */
+static void do_read(int nlhs, mxArray *plhs[], int nrhs, const mxArray *prhs[])
 {
     static const char *FN = "read_obs";
-    char *file = slm_string(FN, arg, 2, "filename");
+    char *file = slm_string(FN, prhs[1], 2, "filename");
     FILE *fp;
     long flen;
     size_t len, got, j, i;
     char *buf;
+    sl_obs_read_opts opts;
     sl_obs_size sz;
     sl_obs_table tab;
     sl_error err;
     const char **names;
-    mxArray *out;
+    mxArray *out, *codes = NULL;
+    int want_codes = nlhs > 2;
+
+    if (nrhs == 6)
+        read_options(FN, prhs + 2, &opts);
+    else
+        sl_obs_read_opts_init(&opts);
 
     fp = fopen(file, "rb");
     if (fp == NULL)
@@ -59,21 +155,29 @@ static void do_read(int nlhs, mxArray *plhs[], const mxArray *arg)
     }
     fclose(fp);
 
-    if (sl_obsfile_measure(buf, len, &sz, &err) != SL_OK)
+    if (sl_obsfile_measure_with(buf, len, &opts, &sz, &err) != SL_OK)
         raise_in(FN, file, &err);
+    memset(&tab, 0, sizeof tab);
     tab.names = slm_alloc(FN, sz.name_bytes, 1);
     tab.name_at = slm_alloc(FN, sz.cols, sizeof(size_t));
     tab.is_text = slm_alloc(FN, sz.cols, sizeof(int));
     tab.slot = slm_alloc(FN, sz.cols, sizeof(size_t));
+    tab.units = slm_alloc(FN, sz.unit_bytes, 1);
+    tab.unit_at = slm_alloc(FN, sz.cols, sizeof(size_t));
     {
         size_t nn, nt;
         if (sl_size_mul(sz.rows, sz.nnum, &nn) || sl_size_mul(sz.rows, sz.ntext, &nt))
             slm_fail(FN, "nomemory", "the table of %s is too large", file);
         tab.num = slm_alloc(FN, nn, sizeof(double));
         tab.text_at = slm_alloc(FN, nt, sizeof(size_t));
+        if (want_codes) {
+            tab.text_code = slm_alloc(FN, nt, sizeof(size_t));
+            tab.ncodes = slm_alloc(FN, sz.ntext, sizeof(size_t));
+        }
     }
     tab.text = slm_alloc(FN, sz.text_bytes, 1);
-    if (sl_obsfile_parse(buf, len, &sz, &tab, &err) != SL_OK)
+    tab.work = slm_alloc(FN, sz.work_bytes, 1);
+    if (sl_obsfile_parse_with(buf, len, &opts, &sz, &tab, &err) != SL_OK)
         raise_in(FN, file, &err);
     mxFree(buf);
 
@@ -81,10 +185,30 @@ static void do_read(int nlhs, mxArray *plhs[], const mxArray *arg)
     for (j = 0; j < sz.cols; j++)
         names[j] = tab.names + tab.name_at[j];
     out = mxCreateStructMatrix(1, 1, (int)sz.cols, names);
+    if (want_codes) {
+        size_t nt = 0;
+        const char **tnames = slm_alloc(FN, sz.ntext + 1, sizeof *tnames);
+        for (j = 0; j < sz.cols; j++)
+            if (tab.is_text[j])
+                tnames[nt++] = names[j];
+        codes = mxCreateStructMatrix(1, 1, (int)nt, tnames);
+    }
     for (j = 0; j < sz.cols; j++) {
         size_t k = tab.slot[j];
         mxArray *c;
-        if (tab.is_text[j]) {
+        if (tab.is_text[j] && want_codes) {
+            const size_t *code = tab.text_code + k * sz.rows;
+            mxArray *idx = slm_create(FN, sz.rows, 1);
+            double *d = mxGetDoubles(idx);
+            c = mxCreateCellMatrix(tab.ncodes[k], 1);
+            for (i = 0; i < sz.rows; i++) {
+                d[i] = (double)code[i] + 1;
+                if (mxGetCell(c, code[i]) == NULL)
+                    mxSetCell(c, code[i],
+                              mxCreateString(tab.text + tab.text_at[i + k * sz.rows]));
+            }
+            mxSetField(codes, 0, names[j], idx);
+        } else if (tab.is_text[j]) {
             c = mxCreateCellMatrix(sz.rows, 1);
             for (i = 0; i < sz.rows; i++)
                 mxSetCell(c, i, mxCreateString(tab.text + tab.text_at[i + k * sz.rows]));
@@ -98,6 +222,10 @@ static void do_read(int nlhs, mxArray *plhs[], const mxArray *arg)
     plhs[0] = out;
     if (nlhs > 1)
         plhs[1] = mxCreateDoubleScalar((double)sz.nmissing);
+    if (nlhs > 2)
+        plhs[2] = codes;
+    if (nlhs > 3)
+        plhs[3] = read_info(&opts, &sz, &tab);
 }
 
 static int is_text_name(const char *name)
@@ -207,12 +335,12 @@ void mexFunction(int nlhs, mxArray *plhs[], int nrhs, const mxArray *prhs[])
     static const char *FN = "obsfile";
     char *mode;
     slm_init();
-    slm_nargs(FN, nrhs, 2, 3, nlhs, 2);
+    slm_nargs(FN, nrhs, 2, 6, nlhs, 4);
     mode = slm_string(FN, prhs[0], 1, "mode");
     if (strcmp(mode, "read") == 0) {
-        if (nrhs != 2)
-            slm_fail("read_obs", "nargin", "expected 2 input arguments, got %d", nrhs);
-        do_read(nlhs, plhs, prhs[1]);
+        if (nrhs != 2 && nrhs != 6)
+            slm_fail("read_obs", "nargin", "expected 2 or 6 input arguments, got %d", nrhs);
+        do_read(nlhs, plhs, nrhs, prhs);
     } else if (strcmp(mode, "write") == 0) {
         if (nrhs != 3)
             slm_fail("write_obs", "nargin", "expected 3 input arguments, got %d", nrhs);

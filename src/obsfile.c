@@ -104,8 +104,30 @@ static int known_index(const char *s, size_t n)
     return -1;
 }
 
+/* s[0..n-1] equals the lower-case word w, in any case. */
+static int same_word(const char *s, size_t n, const char *w)
+{
+    size_t k;
+    if (strlen(w) != n)
+        return 0;
+    for (k = 0; k < n; k++) {
+        char c = s[k];
+        if (c >= 'A' && c <= 'Z')
+            c = (char)(c - 'A' + 'a');
+        if (c != w[k])
+            return 0;
+    }
+    return 1;
+}
+
+/* The words spreadsheets and R write for a missing number. */
+static int is_missing_word(const char *s, size_t n)
+{
+    return same_word(s, n, "na") || same_word(s, n, "n/a") || same_word(s, n, "#n/a");
+}
+
 /* Parse a numeric field. 0: ok; 1: not a number; 2: out of range. An empty
- * field is NaN. The syntax is checked before strtod, so neither hex floats
+ * field, NA, N/A and #N/A are NaN. The syntax is checked before strtod, so neither hex floats
  * nor a locale's decimal comma slip through. */
 static int parse_number(const char *s, size_t n, double *out)
 {
@@ -122,6 +144,10 @@ static int parse_number(const char *s, size_t n, double *out)
         return 1;
     memcpy(b, s, n);
     b[n] = '\0';
+    if (is_missing_word(b, n)) {
+        *out = NAN;
+        return 0;
+    }
     if (b[0] == '+' || b[0] == '-')
         i = 1;
     q = b + i;
@@ -191,6 +217,11 @@ static int parse_number(const char *s, size_t n, double *out)
 static sl_status check_row(size_t line, double t, int have_prev, double prev,
                            double value, double sigma, int fam, sl_error *err)
 {
+    if (isnan(t))
+        return sl_fail(err, SL_EINVAL, "badtime",
+                       "line %zu, column time: the time is missing (every row "
+                       "needs one)",
+                       line);
     if (!isfinite(t))
         return sl_fail(err, SL_EINVAL, "badtime",
                        "line %zu, column time: the time must be finite, got %g",
@@ -206,8 +237,10 @@ static sl_status check_row(size_t line, double t, int have_prev, double prev,
                        "(NaN or an empty field marks a missing value)",
                        line);
     /* a subnormal sigma (below DBL_MIN, IEEE 754 binary64) makes the
-       log-likelihood NaN or -Inf: refused like 0 */
-    if (sl_family_get(fam)->uses_sigma && !(isfinite(sigma) && sigma >= DBL_MIN))
+       log-likelihood NaN or -Inf: refused like 0. A missing value needs
+       no sigma. */
+    if (sl_family_get(fam)->uses_sigma && !isnan(value) &&
+        !(isfinite(sigma) && sigma >= DBL_MIN))
         return sl_fail(err, SL_EINVAL, "badsigma",
                        "line %zu, column sigma: sigma must be finite and at "
                        "least 2.2250738585072014e-308 (the smallest normal "
@@ -221,6 +254,7 @@ static sl_status check_row(size_t line, double t, int have_prev, double prev,
 typedef struct {
     const char *p, *end;
     size_t line;
+    char sep;
 } lexer;
 
 /* One field: the text s[0..n-1] as it stands in the buffer (quoted fields
@@ -233,6 +267,12 @@ typedef struct {
     int last;
     size_t line;
 } field;
+
+/* A blank around fields: a space, or a tab unless the tab separates. */
+static int lx_blank(const lexer *lx, char c)
+{
+    return c == ' ' || (c == '\t' && lx->sep != '\t');
+}
 
 /* The length of a field's text once "" pairs are undone. */
 static size_t field_len(const field *f)
@@ -275,35 +315,43 @@ static int eat_eol(lexer *lx)
     return 0;
 }
 
-/* Skip lines that hold only blanks; 1 if a record follows, 0 at the end. */
-static int skip_blank_lines(lexer *lx)
+/* Skip blank lines, comment lines (first non-blank character # or %) and,
+ * with seps_too, lines of separators and blanks only; 1 if a record
+ * follows, 0 at the end. */
+static int skip_lines(lexer *lx, int seps_too)
 {
     for (;;) {
         const char *q = lx->p;
-        while (q < lx->end && is_blank(*q))
+        while (q < lx->end && (*q == ' ' || *q == '\t' || (seps_too && *q == lx->sep)))
             q++;
         if (q == lx->end) {
             lx->p = q;
             return 0;
         }
-        if (*q != '\r' && *q != '\n')
+        if (*q == '#' || *q == '%') {
+            while (q < lx->end && *q != '\r' && *q != '\n')
+                q++;
+        } else if (*q != '\r' && *q != '\n') {
             return 1;
+        }
         lx->p = q;
-        eat_eol(lx);
+        if (!eat_eol(lx))
+            return 0;
     }
 }
 
-struct header_s;
-static const char *colref(const struct header_s *h, size_t j, char *out,
+struct reader_s;
+static const char *colref(const struct reader_s *rd, size_t j, char *out,
                           size_t cap);
 
-/* Lex one field of column j (0-based); h (NULL while the header itself is
- * read) names the column in messages. */
-static sl_status lex_field(lexer *lx, field *f, const struct header_s *h,
+/* Lex one field of header column j (0-based); rd names the column in
+ * messages once the header is known. */
+static sl_status lex_field(lexer *lx, field *f, const struct reader_s *rd,
                            size_t j, sl_error *err)
 {
     char col[80];
-    while (lx->p < lx->end && is_blank(*lx->p))
+    const char sep = lx->sep;
+    while (lx->p < lx->end && lx_blank(lx, *lx->p))
         lx->p++;
     f->line = lx->line;
     f->quoted = 0;
@@ -314,7 +362,7 @@ static sl_status lex_field(lexer *lx, field *f, const struct header_s *h,
             if (q == lx->end)
                 return sl_fail(err, SL_EINVAL, "badfield",
                                "line %zu, column %s: the quoted field is never closed",
-                               f->line, colref(h, j, col, sizeof col));
+                               f->line, colref(rd, j, col, sizeof col));
             if (*q == '"') {
                 if (q + 1 < lx->end && q[1] == '"') {
                     q += 2;
@@ -325,7 +373,7 @@ static sl_status lex_field(lexer *lx, field *f, const struct header_s *h,
             if (*q == '\0')
                 return sl_fail(err, SL_EINVAL, "badfield",
                                "line %zu, column %s: the field holds a NUL byte",
-                               lx->line, colref(h, j, col, sizeof col));
+                               lx->line, colref(rd, j, col, sizeof col));
             if (*q == '\n' || (*q == '\r' && !(q + 1 < lx->end && q[1] == '\n')))
                 lx->line++;
             q++;
@@ -333,33 +381,33 @@ static sl_status lex_field(lexer *lx, field *f, const struct header_s *h,
         f->s = lx->p;
         f->n = (size_t)(q - lx->p);
         lx->p = q + 1;
-        while (lx->p < lx->end && is_blank(*lx->p))
+        while (lx->p < lx->end && lx_blank(lx, *lx->p))
             lx->p++;
-        if (lx->p < lx->end && *lx->p != ',' && *lx->p != '\r' && *lx->p != '\n')
+        if (lx->p < lx->end && *lx->p != sep && *lx->p != '\r' && *lx->p != '\n')
             return sl_fail(err, SL_EINVAL, "badfield",
                            "line %zu, column %s: unexpected text after the closing quote",
-                           lx->line, colref(h, j, col, sizeof col));
+                           lx->line, colref(rd, j, col, sizeof col));
     } else {
         const char *q = lx->p;
-        while (q < lx->end && *q != ',' && *q != '\r' && *q != '\n') {
+        while (q < lx->end && *q != sep && *q != '\r' && *q != '\n') {
             if (*q == '"')
                 return sl_fail(err, SL_EINVAL, "badfield",
                                "line %zu, column %s: a quote inside an unquoted "
                                "field (quote the whole field and double the quote)",
-                               f->line, colref(h, j, col, sizeof col));
+                               f->line, colref(rd, j, col, sizeof col));
             if (*q == '\0')
                 return sl_fail(err, SL_EINVAL, "badfield",
                                "line %zu, column %s: the field holds a NUL byte",
-                               f->line, colref(h, j, col, sizeof col));
+                               f->line, colref(rd, j, col, sizeof col));
             q++;
         }
         f->s = lx->p;
         f->n = (size_t)(q - lx->p);
-        while (f->n > 0 && is_blank(f->s[f->n - 1]))
+        while (f->n > 0 && lx_blank(lx, f->s[f->n - 1]))
             f->n--;
         lx->p = q;
     }
-    if (lx->p < lx->end && *lx->p == ',') {
+    if (lx->p < lx->end && *lx->p == sep) {
         lx->p++;
         f->last = 0;
     } else {
@@ -371,175 +419,542 @@ static sl_status lex_field(lexer *lx, field *f, const struct header_s *h,
 
 /* ---- the reader ------------------------------------------------------------ */
 
-typedef struct header_s {
-    const char *hdr;   /* start of the header record */
-    const char *end;
-    size_t hdr_line;
-    size_t cols;
-    size_t idx[C_KNOWN]; /* column of each known name, SIZE_MAX if absent */
-} header;
+/* What a header column is: one of the required or family columns (C_*),
+ * a numeric column the families use, another column, or one without a
+ * name. */
+enum { R_N = C_KNOWN, R_DOF, R_LIMIT, R_OTHER, R_UNNAMED };
+static const char *const numeric_known[3] = {"n", "dof", "limit"};
 
-/* The name of header column j (0-based) into out, for messages. */
-static const char *column_name(const header *h, size_t j, char *out, size_t cap)
+/* Equal texts in lower and upper case alike. */
+static int same_name(const char *a, size_t na, const char *b, size_t nb)
 {
-    lexer lx;
-    field f;
     size_t k;
-    f.s = "";
-    f.n = 0;
-    if (j >= h->cols) {
-        snprintf(out, cap, "%zu (the header has %zu columns)", j + 1, h->cols);
-        return out;
+    if (na != nb)
+        return 0;
+    for (k = 0; k < na; k++) {
+        char x = a[k], y = b[k];
+        if (x >= 'A' && x <= 'Z')
+            x = (char)(x - 'A' + 'a');
+        if (y >= 'A' && y <= 'Z')
+            y = (char)(y - 'A' + 'a');
+        if (x != y)
+            return 0;
     }
-    lx.p = h->hdr;
-    lx.end = h->end;
-    lx.line = h->hdr_line;
-    for (k = 0; k <= j; k++)
-        if (lex_field(&lx, &f, NULL, k, NULL) != SL_OK)
-            break;
-    snippet(f.s, f.n, out, cap);
+    return 1;
+}
+
+static int role_of(const char *s, size_t n)
+{
+    int k;
+    for (k = 0; k < C_KNOWN; k++)
+        if (same_name(s, n, known_names[k], strlen(known_names[k])))
+            return k;
+    for (k = 0; k < 3; k++)
+        if (same_name(s, n, numeric_known[k], strlen(numeric_known[k])))
+            return R_N + k;
+    return R_OTHER;
+}
+
+/* Equal texts share a code through a table of HASH_MAX slots per text
+ * column at most, filled to half. */
+enum { HASH_MAX = 4096 };
+
+typedef struct {
+    size_t off;  /* the text's offset, SIZE_MAX when the slot is free */
+    size_t code;
+} hash_slot;
+
+typedef struct reader_s {
+    const sl_obs_read_opts *o;
+    int decimal_comma;
+    /* the header, by column position */
+    size_t hdr_line;
+    size_t ncols;               /* columns of the header line */
+    size_t idx[C_KNOWN];        /* position of each known column, SIZE_MAX if absent */
+    int header_done;
+    const char *name[COLS_MAX]; /* as written, without the unit */
+    size_t name_len[COLS_MAX];
+    const char *unit[COLS_MAX];
+    size_t unit_len[COLS_MAX];
+    unsigned char role[COLS_MAX];
+    size_t kept[COLS_MAX];      /* index among the kept columns */
+    /* while measuring: text bytes of each other column, whatever its kind */
+    size_t other_bytes[COLS_MAX];
+} reader;
+
+static const char *colref(const reader *rd, size_t j, char *out, size_t cap)
+{
+    if (rd == NULL || !rd->header_done || (j < rd->ncols && rd->role[j] == R_UNNAMED))
+        snprintf(out, cap, "%zu", j + 1);
+    else if (j >= rd->ncols)
+        snprintf(out, cap, "%zu (the header has %zu columns)", j + 1, rd->ncols);
+    else
+        snippet(rd->name[j], rd->name_len[j], out, cap);
     return out;
 }
 
-static const char *colref(const header *h, size_t j, char *out, size_t cap)
+char sl_obsfile_separator(const char *buf, size_t len)
 {
-    if (h == NULL) {
-        snprintf(out, cap, "%zu", j + 1);
-        return out;
+    lexer lx;
+    const char *q;
+    size_t count[3] = {0, 0, 0};
+    int quoted = 0, depth = 0;
+    if (buf == NULL)
+        return ',';
+    lx.p = buf;
+    lx.end = buf + len;
+    lx.line = 1;
+    lx.sep = ',';
+    if (len >= 3 && (unsigned char)buf[0] == 0xEF && (unsigned char)buf[1] == 0xBB &&
+        (unsigned char)buf[2] == 0xBF)
+        lx.p += 3;
+    if (!skip_lines(&lx, 0))
+        return ',';
+    for (q = lx.p; q < lx.end; q++) {
+        char c = *q;
+        if (c == '"') {
+            quoted = !quoted;
+        } else if (quoted) {
+            continue;
+        } else if (c == '\r' || c == '\n') {
+            break;
+        } else if (c == '[' || c == '(') {
+            depth++;
+        } else if ((c == ']' || c == ')') && depth > 0) {
+            depth--;
+        } else if (depth == 0) {
+            count[0] += c == ',';
+            count[1] += c == ';';
+            count[2] += c == '\t';
+        }
     }
-    return column_name(h, j, out, cap);
+    return count[0] ? ',' : count[1] ? ';' : count[2] ? '\t' : ',';
 }
 
-/* Lex and check the header; with tab given, store the names. */
-static sl_status read_header(lexer *lx, header *h, sl_obs_size *sz,
+/* Split a header field into its name and an optional unit in brackets. */
+static sl_status split_name(const field *f, size_t j, const char **name,
+                            size_t *nlen, const char **unit, size_t *ulen,
+                            sl_error *err)
+{
+    size_t i, k;
+    char snip[64];
+    const char *s = f->s;
+    *unit = s + f->n;
+    *ulen = 0;
+    for (i = 0; i < f->n && s[i] != '[' && s[i] != '('; i++)
+        ;
+    *name = s;
+    *nlen = i;
+    while (*nlen > 0 && (s[*nlen - 1] == ' ' || s[*nlen - 1] == '\t'))
+        (*nlen)--;
+    if (i < f->n) {
+        char close = s[i] == '[' ? ']' : ')';
+        for (k = i + 1; k < f->n && s[k] != close; k++)
+            ;
+        if (k == f->n)
+            return sl_fail(err, SL_EINVAL, "badheader",
+                           "line %zu, column %zu: '%s': the unit's bracket is "
+                           "never closed (write e.g. value [m3/s])",
+                           f->line, j + 1, snippet(s, f->n, snip, sizeof snip));
+        *unit = s + i + 1;
+        *ulen = k - i - 1;
+        for (k = k + 1; k < f->n; k++)
+            if (s[k] != ' ' && s[k] != '\t')
+                return sl_fail(err, SL_EINVAL, "badheader",
+                               "line %zu, column %zu: '%s': text after the unit "
+                               "(write the name, then the unit in brackets)",
+                               f->line, j + 1, snippet(s, f->n, snip, sizeof snip));
+    }
+    return SL_OK;
+}
+
+/* Lex and check the header; with tab given, store the names and units. */
+static sl_status read_header(lexer *lx, reader *rd, sl_obs_size *sz,
                              sl_obs_table *tab, sl_error *err)
 {
     field f;
-    size_t j = 0, k, name_off = 0, ntext = 0, nnum = 0;
+    size_t j = 0, k, kept = 0, name_off = 0, unit_off = 0, ntext = 0, nnum = 0;
     sl_status st;
     char snip[64];
     for (k = 0; k < C_KNOWN; k++)
-        h->idx[k] = SIZE_MAX;
-    if (!skip_blank_lines(lx))
+        rd->idx[k] = SIZE_MAX;
+    rd->header_done = 0;
+    if (!skip_lines(lx, rd->o->skip_empty))
         return sl_fail(err, SL_EINVAL, "badheader",
                        "line %zu: no header row (expected the columns time, "
                        "variable, value, sigma)",
                        lx->line);
-    h->hdr = lx->p;
-    h->end = lx->end;
-    h->hdr_line = lx->line;
+    rd->hdr_line = lx->line;
     do {
-        int kn;
+        const char *name, *unit;
+        size_t nlen, ulen;
+        int role;
         if (j >= COLS_MAX)
             return sl_fail(err, SL_EINVAL, "badheader",
-                           "line %zu: more than %d columns", h->hdr_line,
+                           "line %zu: more than %d columns", rd->hdr_line,
                            (int)COLS_MAX);
         st = lex_field(lx, &f, NULL, j, err);
         if (st != SL_OK)
             return st;
-        if (!valid_name(f.s, f.n) || (f.quoted && memchr(f.s, '"', f.n)))
+        if (f.quoted && memchr(f.s, '"', f.n))
             return sl_fail(err, SL_EINVAL, "badheader",
                            "line %zu, column %zu: '%s' is not a column name (a "
                            "letter, then letters, digits or _, at most %d characters)",
                            f.line, j + 1, snippet(f.s, f.n, snip, sizeof snip),
                            (int)SL_OBS_NAME_MAX);
-        {
-            /* the earlier names are valid, so they hold no "" pairs */
-            lexer again;
-            field g;
-            again.p = h->hdr;
-            again.end = h->end;
-            again.line = h->hdr_line;
-            for (k = 0; k < j; k++) {
-                lex_field(&again, &g, NULL, k, NULL);
-                if (g.n == f.n && memcmp(g.s, f.s, f.n) == 0)
+        st = split_name(&f, j, &name, &nlen, &unit, &ulen, err);
+        if (st != SL_OK)
+            return st;
+        if (f.n == 0 && rd->o->skip_empty) {
+            role = R_UNNAMED;
+        } else if (nlen == 0 && f.n > 0) {
+            return sl_fail(err, SL_EINVAL, "badheader",
+                           "line %zu, column %zu: the unit '%s' has no column name",
+                           f.line, j + 1, snippet(f.s, f.n, snip, sizeof snip));
+        } else if (!valid_name(name, nlen)) {
+            return sl_fail(err, SL_EINVAL, "badheader",
+                           "line %zu, column %zu: '%s' is not a column name (a "
+                           "letter, then letters, digits or _, at most %d characters)",
+                           f.line, j + 1, snippet(name, nlen, snip, sizeof snip),
+                           (int)SL_OBS_NAME_MAX);
+        } else {
+            role = role_of(name, nlen);
+            for (k = 0; k < j; k++)
+                if (rd->role[k] != R_UNNAMED &&
+                    same_name(rd->name[k], rd->name_len[k], name, nlen))
                     return sl_fail(err, SL_EINVAL, "badheader",
                                    "line %zu, column %s: the name appears "
                                    "twice (columns %zu and %zu)",
-                                   f.line, snippet(f.s, f.n, snip, sizeof snip),
+                                   f.line, snippet(name, nlen, snip, sizeof snip),
                                    k + 1, j + 1);
+        }
+        rd->name[j] = name;
+        rd->name_len[j] = nlen;
+        rd->unit[j] = unit;
+        rd->unit_len[j] = ulen;
+        rd->role[j] = (unsigned char)role;
+        if (role < C_KNOWN)
+            rd->idx[role] = j;
+        if (role != R_UNNAMED) {
+            int text = role == C_VARIABLE || role == C_FAMILY ||
+                       (role == R_OTHER && tab != NULL && sz->col_text[j]);
+            rd->kept[j] = kept;
+            if (tab != NULL) {
+                if (name_off + nlen + 1 > sz->name_bytes ||
+                    (tab->units != NULL && unit_off + ulen + 1 > sz->unit_bytes))
+                    return sl_fail(err, SL_EINVAL, "badsize",
+                                   "the buffers do not match the measured table");
+                for (k = 0; k < nlen; k++) {
+                    char c = name[k];
+                    tab->names[name_off + k] =
+                        (c >= 'A' && c <= 'Z') ? (char)(c - 'A' + 'a') : c;
+                }
+                tab->names[name_off + nlen] = '\0';
+                tab->name_at[kept] = name_off;
+                if (tab->units != NULL) {
+                    memcpy(tab->units + unit_off, unit, ulen);
+                    tab->units[unit_off + ulen] = '\0';
+                    tab->unit_at[kept] = unit_off;
+                }
+                tab->is_text[kept] = text;
+                tab->slot[kept] = text ? ntext : nnum;
+                if (text)
+                    ntext++;
+                else
+                    nnum++;
             }
+            name_off += nlen + 1;
+            unit_off += ulen + 1;
+            kept++;
         }
-        kn = known_index(f.s, f.n);
-        if (kn >= 0)
-            h->idx[kn] = j;
-        if (tab != NULL) {
-            if (name_off + f.n + 1 > sz->name_bytes)
-                return sl_fail(err, SL_EINVAL, "badsize",
-                               "the buffers do not match the measured table");
-            memcpy(tab->names + name_off, f.s, f.n);
-            tab->names[name_off + f.n] = '\0';
-            tab->name_at[j] = name_off;
-            tab->is_text[j] = kn == C_VARIABLE || kn == C_FAMILY;
-            tab->slot[j] = tab->is_text[j] ? ntext : nnum;
-        }
-        if (kn == C_VARIABLE || kn == C_FAMILY)
-            ntext++;
-        else
-            nnum++;
-        name_off += f.n + 1;
         j++;
     } while (!f.last);
-    h->cols = j;
+    rd->ncols = j;
+    rd->header_done = 1;
     for (k = 0; k < C_FAMILY; k++)
-        if (h->idx[k] == SIZE_MAX)
+        if (rd->idx[k] == SIZE_MAX)
             return sl_fail(err, SL_EINVAL, "badheader",
                            "line %zu, column %s: the header has no such column "
                            "(time, variable, value and sigma are required)",
-                           h->hdr_line, known_names[k]);
+                           rd->hdr_line, known_names[k]);
     if (tab == NULL) {
-        sz->cols = j;
-        sz->ntext = ntext;
-        sz->nnum = nnum;
+        sz->cols = kept;
         sz->name_bytes = name_off;
-    } else if (sz->cols != j || sz->ntext != ntext || sz->nnum != nnum) {
+        sz->unit_bytes = unit_off;
+    } else if (sz->cols != kept || sz->ntext != ntext || sz->nnum != nnum) {
         return sl_fail(err, SL_EINVAL, "badsize",
                        "the buffers do not match the measured table");
     }
     return SL_OK;
 }
 
+/* A numeric field into v: 0 ok, 1 not a number, 2 out of range. A decimal
+ * comma is read as a point where the comma does not separate. */
+static int field_number(const reader *rd, const field *f, double *v)
+{
+    char num[NUMBER_MAX + 1];
+    size_t n = field_len(f);
+    if (n > NUMBER_MAX)
+        return 1;
+    field_copy(f, num);
+    if (rd->decimal_comma && memchr(num, ',', n) != NULL && memchr(num, '.', n) == NULL) {
+        char *c = memchr(num, ',', n);
+        if (memchr(c + 1, ',', n - (size_t)(c - num) - 1) == NULL)
+            *c = '.';
+    }
+    return parse_number(num, n, v);
+}
+
+/* The model time of a time field; *form is the form of the first row
+ * (-1 before it), *form_line its line. */
+static sl_status read_time(const reader *rd, const field *f, int *form,
+                           size_t *form_line, double *t, sl_error *err)
+{
+    char snip[64];
+    int this_form;
+    const char *s = f->s;
+    size_t n = f->n;
+    sl_utc at;
+    sl_error derr;
+    if (f->quoted && memchr(s, '"', n) != NULL)
+        return sl_fail(err, SL_EINVAL, "badnumber",
+                       "line %zu, column time: '%s' is not a number or a date",
+                       f->line, snippet(s, n, snip, sizeof snip));
+    this_form = sl_date_like(s, n) ? SL_OBS_TIME_DATES
+                : rd->o->datenums  ? SL_OBS_TIME_DATENUMS
+                                   : SL_OBS_TIME_NUMBERS;
+    if (*form < 0) {
+        *form = this_form;
+        *form_line = f->line;
+    } else if (this_form != *form && n > 0) {
+        return sl_fail(err, SL_EINVAL, "badtime",
+                       "line %zu, column time: '%s' is %s, but line %zu holds %s; "
+                       "write every time the same way",
+                       f->line, snippet(s, n, snip, sizeof snip),
+                       this_form == SL_OBS_TIME_DATES ? "a date" : "a number",
+                       *form_line, *form == SL_OBS_TIME_DATES ? "a date" : "a number");
+    }
+    if (this_form == SL_OBS_TIME_NUMBERS || n == 0) {
+        int rc = field_number(rd, f, t);
+        if (rc != 0)
+            return sl_fail(err, SL_EINVAL, "badnumber",
+                           "line %zu, column time: '%s' is %s", f->line,
+                           snippet(s, n, snip, sizeof snip),
+                           rc == 1 ? "not a number or a date (dates are written "
+                                     "YYYY-MM-DD or YYYY-MM-DDThh:mm:ss)"
+                                   : "out of the range of doubles");
+        return SL_OK;
+    }
+    if (!rd->o->has_origin)
+        return sl_fail(err, SL_EINVAL, "noorigin",
+                       "line %zu, column time: the times are %s ('%s'), but no "
+                       "origin (the date of model time 0) was given",
+                       f->line, this_form == SL_OBS_TIME_DATES ? "dates" : "day numbers",
+                       snippet(s, n, snip, sizeof snip));
+    if (this_form == SL_OBS_TIME_DATES) {
+        if (sl_date_parse(s, n, &at, &derr) != SL_OK)
+            return sl_fail(err, SL_EINVAL, "baddate",
+                           "line %zu, column time: '%s' is not a date: %s", f->line,
+                           snippet(s, n, snip, sizeof snip), derr.message);
+    } else {
+        double dn;
+        int rc = field_number(rd, f, &dn);
+        if (rc != 0)
+            return sl_fail(err, SL_EINVAL, "badnumber",
+                           "line %zu, column time: '%s' is not a day number",
+                           f->line, snippet(s, n, snip, sizeof snip));
+        if (isnan(dn)) {
+            *t = NAN;
+            return SL_OK;
+        }
+        if (sl_date_from_datenum(dn, &at, &derr) != SL_OK)
+            return sl_fail(err, SL_EINVAL, "baddate", "line %zu, column time: %s",
+                           f->line, derr.message);
+    }
+    *t = sl_date_elapsed(at, rd->o->origin, rd->o->unit_days);
+    return SL_OK;
+}
+
+static size_t hash_slots(size_t rows)
+{
+    size_t hs = 16;
+    while (hs < 2 * rows && hs < HASH_MAX)
+        hs *= 2;
+    return hs;
+}
+
+static uint64_t text_hash(const char *s)
+{
+    uint64_t h = 1469598103934665603ull;
+    for (; *s; s++) {
+        h ^= (unsigned char)*s;
+        h *= 1099511628211ull;
+    }
+    return h;
+}
+
+/* The code of the text just copied to text + *off for text column k: an
+ * earlier equal text's code (and *off rewinds onto that text), or a new
+ * one. */
+static size_t text_code(sl_obs_table *tab, size_t k, size_t hs, size_t *off)
+{
+    hash_slot *tb = (hash_slot *)tab->work + k * hs;
+    const char *s = tab->text + *off;
+    size_t i = (size_t)(text_hash(s) & (hs - 1)), code;
+    while (tb[i].off != SIZE_MAX) {
+        if (strcmp(tab->text + tb[i].off, s) == 0) {
+            *off = tb[i].off;
+            return tb[i].code;
+        }
+        i = (i + 1) & (hs - 1);
+    }
+    code = tab->ncodes[k]++;
+    if (code < hs / 2) {
+        tb[i].off = *off;
+        tb[i].code = code;
+    }
+    return code;
+}
+
+/* Sort the parsed rows stably by time (merge sort of row indices). */
+static void sort_rows(const sl_obs_size *sz, sl_obs_table *tab, size_t time_slot)
+{
+    const size_t m = sz->rows;
+    size_t *perm = (size_t *)tab->work, *tmp = perm + m, width, i, k;
+    double *dbuf = (double *)(tmp + m);
+    size_t *zbuf = (size_t *)(tmp + m);
+    const double *key = tab->num + time_slot * m;
+    for (i = 0; i < m; i++)
+        perm[i] = i;
+    for (width = 1; width < m; width *= 2) {
+        for (i = 0; i < m; i += 2 * width) {
+            size_t a = i, mid = i + width < m ? i + width : m,
+                   end = i + 2 * width < m ? i + 2 * width : m, b = mid, o = i;
+            while (a < mid && b < end)
+                tmp[o++] = key[perm[b]] < key[perm[a]] ? perm[b++] : perm[a++];
+            while (a < mid)
+                tmp[o++] = perm[a++];
+            while (b < end)
+                tmp[o++] = perm[b++];
+        }
+        memcpy(perm, tmp, m * sizeof *perm);
+    }
+    for (k = 0; k < sz->nnum; k++) {
+        double *c = tab->num + k * m;
+        for (i = 0; i < m; i++)
+            dbuf[i] = c[perm[i]];
+        memcpy(c, dbuf, m * sizeof *c);
+    }
+    for (k = 0; k < sz->ntext; k++) {
+        size_t *c = tab->text_at + k * m;
+        for (i = 0; i < m; i++)
+            zbuf[i] = c[perm[i]];
+        memcpy(c, zbuf, m * sizeof *c);
+        if (tab->text_code != NULL) {
+            c = tab->text_code + k * m;
+            for (i = 0; i < m; i++)
+                zbuf[i] = c[perm[i]];
+            memcpy(c, zbuf, m * sizeof *c);
+        }
+    }
+}
+
+/* The workspace of a parse: text codes, then (reusing it) sorting. */
+static sl_status work_size(const sl_obs_read_opts *o, sl_obs_size *sz)
+{
+    size_t hash = 0, sort = 0, cell;
+    cell = sizeof(double) > sizeof(size_t) ? sizeof(double) : sizeof(size_t);
+    if (sl_size_mul(hash_slots(sz->rows), sz->ntext, &hash) ||
+        sl_size_mul(hash, sizeof(hash_slot), &hash))
+        return SL_ENOMEM;
+    if (o->sort_rows && sz->unsorted > 0 &&
+        sl_size_mul(sz->rows, 2 * sizeof(size_t) + cell, &sort))
+        return SL_ENOMEM;
+    sz->work_bytes = hash > sort ? hash : sort;
+    return SL_OK;
+}
+
 /* The one pass of measure (tab NULL) and parse (tab given). */
-static sl_status run(const char *buf, size_t len, sl_obs_size *sz,
-                     sl_obs_table *tab, sl_error *err)
+static sl_status run(const char *buf, size_t len, const sl_obs_read_opts *o,
+                     sl_obs_size *sz, sl_obs_table *tab, sl_error *err)
 {
     lexer lx;
-    header h;
+    reader *rd;
+    reader rd_store;
     sl_status st;
-    size_t rows = 0, text_off = 0, nmissing = 0;
+    size_t rows = 0, text_off = 0, nmissing = 0, unsorted = 0, unsorted_line = 0;
+    size_t form_line = 0, hs = 0, j, k;
+    int form = -1;
     double prev = 0;
     char col[80], snip[64];
+    rd = &rd_store;
+    rd->o = o;
     lx.p = buf;
     lx.end = buf + len;
     lx.line = 1;
+    if (len >= 2 && (((unsigned char)buf[0] == 0xFF && (unsigned char)buf[1] == 0xFE) ||
+                     ((unsigned char)buf[0] == 0xFE && (unsigned char)buf[1] == 0xFF)))
+        return sl_fail(err, SL_EINVAL, "badencoding",
+                       "line 1: the file is UTF-16 text; save it as UTF-8 "
+                       "(\"CSV UTF-8\") or plain text");
+    lx.sep = sl_obsfile_separator(buf, len);
+    rd->decimal_comma = lx.sep != ',';
     if (len >= 3 && (unsigned char)buf[0] == 0xEF &&
         (unsigned char)buf[1] == 0xBB && (unsigned char)buf[2] == 0xBF)
         lx.p += 3;
-    st = read_header(&lx, &h, sz, tab, err);
+    if (tab == NULL)
+        memset(sz->col_text, 0, sizeof sz->col_text);
+    st = read_header(&lx, rd, sz, tab, err);
     if (st != SL_OK)
         return st;
-    while (skip_blank_lines(&lx)) {
-        size_t j = 0, line = lx.line;
+    if (tab == NULL)
+        for (j = 0; j < rd->ncols; j++)
+            rd->other_bytes[j] = 0;
+    if (tab != NULL && tab->text_code != NULL) {
+        hash_slot *tb = (hash_slot *)tab->work;
+        hs = hash_slots(sz->rows);
+        for (k = 0; k < hs * sz->ntext; k++)
+            tb[k].off = SIZE_MAX;
+        for (k = 0; k < sz->ntext; k++)
+            tab->ncodes[k] = 0;
+    }
+    while (skip_lines(&lx, o->skip_empty)) {
+        size_t line = lx.line;
         double t = NAN, value = NAN, sigma = NAN;
         int fam = SL_FAMILY_GAUSSIAN;
         field f;
+        j = 0;
         if (tab != NULL && rows >= sz->rows)
             return sl_fail(err, SL_EINVAL, "badsize",
                            "the buffers do not match the measured table");
         do {
-            int is_text;
-            if (j >= h.cols)
-                return sl_fail(err, SL_EINVAL, "badfield",
-                               "line %zu, column %zu: more fields than the "
-                               "header's %zu columns",
-                               lx.line, j + 1, h.cols);
-            st = lex_field(&lx, &f, &h, j, err);
+            int role, is_text;
+            st = lex_field(&lx, &f, rd, j, err);
             if (st != SL_OK)
                 return st;
-            is_text = j == h.idx[C_VARIABLE] || j == h.idx[C_FAMILY];
+            if (j >= rd->ncols || rd->role[j] == R_UNNAMED) {
+                if (o->skip_empty && f.n == 0) {
+                    j++;
+                    continue;
+                }
+                if (j >= rd->ncols)
+                    return sl_fail(err, SL_EINVAL, "badfield",
+                                   "line %zu, column %zu: more fields than the "
+                                   "header's %zu columns",
+                                   f.line, j + 1, rd->ncols);
+                return sl_fail(err, SL_EINVAL, "badfield",
+                               "line %zu, column %zu: '%s' stands in a column "
+                               "without a name in the header (line %zu); name "
+                               "the column or empty it",
+                               f.line, j + 1, snippet(f.s, f.n, snip, sizeof snip),
+                               rd->hdr_line);
+            }
+            role = rd->role[j];
+            is_text = role == C_VARIABLE || role == C_FAMILY ||
+                      (role == R_OTHER && sz->col_text[j] && tab != NULL);
             if (is_text) {
                 size_t n = field_len(&f);
-                if (j == h.idx[C_FAMILY]) {
+                if (role == C_FAMILY) {
                     char name[32];
                     if (n >= sizeof name)
                         return fail_family(err, f.line, f.s, f.n);
@@ -549,97 +964,187 @@ static sl_status run(const char *buf, size_t len, sl_obs_size *sz,
                         return fail_family(err, f.line, name, n);
                 }
                 if (tab != NULL) {
-                    size_t k = tab->slot[j];
+                    size_t s = tab->slot[rd->kept[j]], at = text_off;
                     if (text_off + n + 1 > sz->text_bytes)
                         return sl_fail(err, SL_EINVAL, "badsize",
                                        "the buffers do not match the measured table");
                     field_copy(&f, tab->text + text_off);
-                    tab->text_at[rows + k * sz->rows] = text_off;
-                }
-                text_off += n + 1;
-            } else {
-                char num[NUMBER_MAX + 1];
-                double v;
-                size_t n = field_len(&f);
-                int rc;
-                if (n > NUMBER_MAX) {
-                    rc = 1;
+                    if (tab->text_code != NULL)
+                        tab->text_code[rows + s * sz->rows] = text_code(tab, s, hs, &at);
+                    tab->text_at[rows + s * sz->rows] = at;
+                    if (at == text_off)
+                        text_off += n + 1;
                 } else {
-                    field_copy(&f, num);
-                    rc = parse_number(num, n, &v);
+                    text_off += n + 1;
+                }
+            } else if (role == C_TIME) {
+                st = read_time(rd, &f, &form, &form_line, &t, err);
+                if (st != SL_OK)
+                    return st;
+                if (tab != NULL)
+                    tab->num[rows + tab->slot[rd->kept[j]] * sz->rows] = t;
+            } else {
+                double v;
+                int rc = field_number(rd, &f, &v);
+                if (rc != 0 && role == R_OTHER && o->text_columns && tab == NULL) {
+                    sz->col_text[j] = 1;
+                    rc = 0;
                 }
                 if (rc != 0)
                     return sl_fail(err, SL_EINVAL, "badnumber",
                                    "line %zu, column %s: '%s' is %s", f.line,
-                                   column_name(&h, j, col, sizeof col), snippet(f.s, f.n, snip, sizeof snip),
+                                   colref(rd, j, col, sizeof col),
+                                   snippet(f.s, f.n, snip, sizeof snip),
                                    rc == 1 ? "not a number"
                                            : "out of the range of doubles");
-                if (j == h.idx[C_TIME])
-                    t = v;
-                else if (j == h.idx[C_VALUE])
+                if (role == C_VALUE)
                     value = v;
-                else if (j == h.idx[C_SIGMA])
+                else if (role == C_SIGMA)
                     sigma = v;
                 if (tab != NULL)
-                    tab->num[rows + tab->slot[j] * sz->rows] = v;
+                    tab->num[rows + tab->slot[rd->kept[j]] * sz->rows] = v;
+                else if (role == R_OTHER)
+                    rd->other_bytes[j] += field_len(&f) + 1;
             }
             j++;
         } while (!f.last);
-        if (j < h.cols)
-            return sl_fail(err, SL_EINVAL, "badfield",
-                           "line %zu, column %s: the row has %zu fields, the "
-                           "header %zu",
-                           line, column_name(&h, j, col, sizeof col), j, h.cols);
-        st = check_row(line, t, rows > 0, prev, value, sigma, fam, err);
+        if (j < rd->ncols) {
+            size_t need = j;
+            while (o->skip_empty && need < rd->ncols && rd->role[need] == R_UNNAMED)
+                need++;
+            if (need < rd->ncols)
+                return sl_fail(err, SL_EINVAL, "badfield",
+                               "line %zu, column %s: the row has %zu fields, the "
+                               "header %zu",
+                               line, colref(rd, j, col, sizeof col), j, rd->ncols);
+        }
+        st = check_row(line, t, rows > 0 && !o->sort_rows, prev, value, sigma, fam, err);
         if (st != SL_OK)
             return st;
+        if (rows > 0 && t < prev && unsorted++ == 0)
+            unsorted_line = line;
         prev = t;
         if (isnan(value))
             nmissing++;
         rows++;
     }
     if (tab == NULL) {
+        size_t ntext = 0;
+        for (j = 0; j < rd->ncols; j++) {
+            int role = rd->role[j];
+            if (role == R_UNNAMED)
+                continue;
+            if (role == C_VARIABLE || role == C_FAMILY || sz->col_text[j])
+                ntext++;
+            if (sz->col_text[j])
+                text_off += rd->other_bytes[j];
+        }
         sz->rows = rows;
+        sz->ntext = ntext;
+        sz->nnum = sz->cols - ntext;
         sz->text_bytes = text_off;
         sz->nmissing = nmissing;
-    } else if (rows != sz->rows) {
-        return sl_fail(err, SL_EINVAL, "badsize",
-                       "the buffers do not match the measured table");
+        sz->unsorted = unsorted;
+        sz->unsorted_line = unsorted_line;
+        sz->time_form = form < 0 ? SL_OBS_TIME_NUMBERS : form;
+        sz->sep = lx.sep;
+        if (work_size(o, sz) != SL_OK)
+            return sl_fail(err, SL_ENOMEM, "nomemory",
+                           "line %zu: the table is too large to sort", lx.line);
+    } else {
+        if (rows != sz->rows)
+            return sl_fail(err, SL_EINVAL, "badsize",
+                           "the buffers do not match the measured table");
+        if (o->sort_rows && sz->unsorted > 0)
+            sort_rows(sz, tab, tab->slot[rd->kept[rd->idx[C_TIME]]]);
     }
     return SL_OK;
+}
+
+static const sl_obs_read_opts strict_opts = {0, 0, 0, 0, 0, {0, 0}, 1};
+
+void sl_obs_read_opts_init(sl_obs_read_opts *opts)
+{
+    if (opts == NULL)
+        return;
+    *opts = strict_opts;
+    opts->sort_rows = 1;
+    opts->skip_empty = 1;
+    opts->text_columns = 1;
+}
+
+static sl_status check_opts(const sl_obs_read_opts *o, sl_error *err)
+{
+    if (!(o->unit_days > 0 && isfinite(o->unit_days)))
+        return sl_fail(err, SL_EINVAL, "badarg",
+                       "the time unit must be a positive number of days, got %g",
+                       o->unit_days);
+    if (o->has_origin && !(o->origin.frac >= 0 && o->origin.frac < 1))
+        return sl_fail(err, SL_EINVAL, "badarg",
+                       "the origin's fraction of a second must lie in [0, 1)");
+    return SL_OK;
+}
+
+sl_status sl_obsfile_measure_with(const char *buf, size_t len,
+                                  const sl_obs_read_opts *opts,
+                                  sl_obs_size *size, sl_error *err)
+{
+    sl_obs_size sz;
+    sl_status st;
+    const sl_obs_read_opts *o = opts != NULL ? opts : &strict_opts;
+    sl_error_clear(err);
+    if ((buf == NULL && len > 0) || size == NULL)
+        return sl_fail(err, SL_EINVAL, "badarg",
+                       "sl_obsfile_measure: NULL buffer or size record");
+    st = check_opts(o, err);
+    if (st != SL_OK)
+        return st;
+    memset(&sz, 0, sizeof sz);
+    st = run(buf != NULL ? buf : "", len, o, &sz, NULL, err);
+    if (st == SL_OK)
+        *size = sz;
+    return st;
+}
+
+sl_status sl_obsfile_parse_with(const char *buf, size_t len,
+                                const sl_obs_read_opts *opts,
+                                const sl_obs_size *size, sl_obs_table *tab,
+                                sl_error *err)
+{
+    sl_obs_size sz;
+    sl_status st;
+    const sl_obs_read_opts *o = opts != NULL ? opts : &strict_opts;
+    sl_error_clear(err);
+    if ((buf == NULL && len > 0) || size == NULL || tab == NULL ||
+        tab->names == NULL || tab->name_at == NULL || tab->is_text == NULL ||
+        tab->slot == NULL || (size->rows > 0 && size->nnum > 0 && tab->num == NULL) ||
+        (size->text_bytes > 0 && tab->text == NULL) ||
+        (size->rows > 0 && size->ntext > 0 && tab->text_at == NULL) ||
+        (tab->units != NULL && tab->unit_at == NULL) ||
+        (tab->text_code != NULL &&
+         ((size->ntext > 0 && tab->ncodes == NULL) ||
+          (size->work_bytes > 0 && tab->work == NULL))) ||
+        (o->sort_rows && size->unsorted > 0 && tab->work == NULL))
+        return sl_fail(err, SL_EINVAL, "badarg",
+                       "sl_obsfile_parse: NULL buffer or table");
+    st = check_opts(o, err);
+    if (st != SL_OK)
+        return st;
+    sz = *size;
+    return run(buf != NULL ? buf : "", len, o, &sz, tab, err);
 }
 
 sl_status sl_obsfile_measure(const char *buf, size_t len, sl_obs_size *size,
                              sl_error *err)
 {
-    sl_obs_size sz;
-    sl_status st;
-    sl_error_clear(err);
-    if ((buf == NULL && len > 0) || size == NULL)
-        return sl_fail(err, SL_EINVAL, "badarg",
-                       "sl_obsfile_measure: NULL buffer or size record");
-    memset(&sz, 0, sizeof sz);
-    st = run(buf != NULL ? buf : "", len, &sz, NULL, err);
-    if (st == SL_OK)
-        *size = sz;
-    return st;
+    return sl_obsfile_measure_with(buf, len, NULL, size, err);
 }
 
 sl_status sl_obsfile_parse(const char *buf, size_t len,
                            const sl_obs_size *size, sl_obs_table *tab,
                            sl_error *err)
 {
-    sl_obs_size sz;
-    sl_error_clear(err);
-    if ((buf == NULL && len > 0) || size == NULL || tab == NULL ||
-        tab->names == NULL || tab->name_at == NULL || tab->is_text == NULL ||
-        tab->slot == NULL || (size->rows > 0 && size->nnum > 0 && tab->num == NULL) ||
-        (size->text_bytes > 0 && tab->text == NULL) ||
-        (size->rows > 0 && size->ntext > 0 && tab->text_at == NULL))
-        return sl_fail(err, SL_EINVAL, "badarg",
-                       "sl_obsfile_parse: NULL buffer or table");
-    sz = *size;
-    return run(buf != NULL ? buf : "", len, &sz, tab, err);
+    return sl_obsfile_parse_with(buf, len, NULL, size, tab, err);
 }
 
 /* ---- the writer ------------------------------------------------------------ */

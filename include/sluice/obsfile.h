@@ -3,54 +3,109 @@
 #define SLUICE_OBSFILE_H
 
 #include <stddef.h>
+#include "sluice/datetime.h"
 #include "sluice/status.h"
 
 #ifdef __cplusplus
 extern "C" {
 #endif
 
-/* The CSV text of an observation table:
- *   - an optional UTF-8 byte order mark, then a header row naming the
- *     columns; lines end in LF or CRLF; blank lines (empty or only spaces
- *     and tabs) are skipped everywhere; line numbers count physical lines,
- *     the header being line 1 when the file starts with it;
- *   - fields separated by commas; spaces and tabs around a field are
- *     dropped; a field may be quoted with double quotes ("" inside stands
- *     for one quote; commas and line breaks inside quotes are kept);
- *   - required columns time, variable, value, sigma (any order, names
- *     case-sensitive); optional family, n, dof, limit and any other
- *     numeric column; a name is a letter followed by letters, digits or
- *     underscores, at most SL_OBS_NAME_MAX characters, each name once;
- *   - variable and family are text, every other column numeric: a decimal
- *     number ([+-]digits[.digits][e[+-]digits]), NaN / Inf / Infinity in
- *     any case with an optional sign, or an empty field (= NaN);
- *   - value NaN (empty, NaN) is a missing observation (counted); value
- *     +-Inf is an error; time must be finite and non-decreasing; sigma must
- *     be finite and > 0 except on poisson and binomial rows (where it may be
- *     empty); family (default gaussian) is one of the names known to
+/* The CSV text of an observation table, as people keep it:
+ *   - an optional UTF-8 byte order mark (UTF-16 text is refused with a
+ *     message saying to save as UTF-8); lines end in LF, CRLF or CR; blank
+ *     lines and comment lines (whose first non-blank character is # or %)
+ *     are skipped everywhere; line numbers count physical lines;
+ *   - the first other line is the header; its fields are separated by a
+ *     comma, a semicolon or a tab, whichever the header holds (outside
+ *     quotes and brackets; the first of , ; tab that occurs), and the rows
+ *     use the same separator (sl_obsfile_separator); spaces (and tabs,
+ *     unless the tab separates) around a field are dropped; a field may be
+ *     quoted with double quotes ("" inside stands for one quote; separators
+ *     and line breaks inside quotes are kept);
+ *   - a header field is a name, optionally followed by a unit in brackets,
+ *     "value [m3/s]" or "value (m3/s)"; names are compared without regard to
+ *     case and returned in lower case; a name is a letter followed by
+ *     letters, digits or underscores, at most SL_OBS_NAME_MAX characters,
+ *     each name once; required columns time, variable, value, sigma (any
+ *     order); optional family, n, dof, limit and any other column;
+ *   - variable and family are text; value, sigma, n, dof, limit numeric:
+ *     a decimal number ([+-]digits[.digits][e[+-]digits]), NaN / Inf /
+ *     Infinity in any case with an optional sign, NA, N/A, #N/A or an empty
+ *     field (all = NaN); where the separator is ';' or a tab, a number may
+ *     use a decimal comma (1,5 = 1.5; one comma and no point);
+ *   - other columns are numeric, or (opts->text_columns) text when any of
+ *     their fields is not a number;
+ *   - the time column holds numbers (the model's time, or with
+ *     opts->datenums Octave datenums) or ISO 8601 dates and date-times
+ *     (sl_date_parse), all rows the same way; dates and datenums need
+ *     opts->has_origin and become (t - origin) / unit_days;
+ *   - value NaN is a missing observation (counted); value +-Inf is an
+ *     error; time must be finite and, unless opts->sort_rows, non-decreasing
+ *     (with it, rows are sorted stably by time and the size record says how
+ *     many were out of order); sigma must be finite and >= DBL_MIN except on
+ *     poisson and binomial rows and on rows whose value is missing (where it
+ *     may be empty); family (default gaussian) is one of the names known to
  *     sl_family_find.
  * Failures name the line and the column: "line 4, column sigma: ...", with
  * the reasons "badheader", "badnumber", "badfield", "badsigma", "badtime",
- * "badorder", "badfamily". */
+ * "baddate", "noorigin", "badorder", "badfamily", "badencoding". */
 
-enum { SL_OBS_NAME_MAX = 63 };
+enum { SL_OBS_NAME_MAX = 63, SL_OBS_COLS_MAX = 1000 };
+
+/* How the time column of a file was written. */
+enum { SL_OBS_TIME_NUMBERS = 0, SL_OBS_TIME_DATES = 1, SL_OBS_TIME_DATENUMS = 2 };
+
+/* Options of the reader. */
+typedef struct {
+    int sort_rows;    /* 1: rows out of time order are sorted stably by time;
+                         0: refused ("badorder") */
+    int skip_empty;   /* 1: header columns without a name, fields past the
+                         header and lines of separators only are ignored
+                         while they hold nothing; 0: refused */
+    int text_columns; /* 1: other columns holding text are text columns;
+                         0: every other column must be numeric */
+    int datenums;     /* 1: numbers in the time column are Octave datenums */
+    int has_origin;   /* 1: origin is given */
+    sl_utc origin;    /* the instant of model time 0 (dates, datenums) */
+    double unit_days; /* the model's time unit in days, > 0 (1 = days) */
+} sl_obs_read_opts;
+
+/* The options of a file as a spreadsheet leaves it: sort_rows, skip_empty
+ * and text_columns 1, datenums 0, no origin, unit_days 1.
+ * (sl_obsfile_measure / _parse use the strict form: the first three 0.) */
+void sl_obs_read_opts_init(sl_obs_read_opts *opts);
 
 /* What a table needs, from sl_obsfile_measure. */
 typedef struct {
     size_t rows;       /* data rows */
-    size_t cols;       /* columns of the header */
-    size_t ntext;      /* text columns (variable, and family if present) */
+    size_t cols;       /* columns kept (the named ones of the header) */
+    size_t ntext;      /* text columns (variable, family, other text) */
     size_t nnum;       /* numeric columns (cols - ntext) */
     size_t name_bytes; /* bytes of the column names, each NUL-terminated */
-    size_t text_bytes; /* bytes of the text cells, each NUL-terminated */
+    size_t unit_bytes; /* bytes of the units, each NUL-terminated ("" = none) */
+    size_t text_bytes; /* bytes of the text cells, each NUL-terminated (at most) */
     size_t nmissing;   /* rows whose value is NaN */
+    size_t unsorted;   /* rows whose time is below the previous row's */
+    size_t unsorted_line; /* the line of the first of them (0: none) */
+    size_t work_bytes; /* the workspace a parse with text codes or sorting needs */
+    int time_form;     /* SL_OBS_TIME_NUMBERS, _DATES or _DATENUMS */
+    char sep;          /* the separator: ',', ';' or '\t' */
+    /* for the parse: which header columns (by position) hold text */
+    unsigned char col_text[SL_OBS_COLS_MAX];
 } sl_obs_size;
 
-/* Caller-owned buffers that sl_obsfile_parse fills. Column j of the header
- * has its name at names + name_at[j]; is_text[j] says whether it is text;
- * slot[j] is its index among the numeric (or the text) columns. Numeric
- * column k, row i is num[i + k*rows]; text column k, row i is the string at
- * text + text_at[i + k*rows]. */
+/* Caller-owned buffers that sl_obsfile_parse fills. Column j (of the kept
+ * columns) has its name at names + name_at[j] and its unit at units +
+ * unit_at[j]; is_text[j] says whether it is text; slot[j] is its index
+ * among the numeric (or the text) columns. Numeric column k, row i is
+ * num[i + k*rows]; text column k, row i is the string at text +
+ * text_at[i + k*rows]. Optional (NULL: not filled): units and unit_at;
+ * text_code with ncodes (ntext) and work (work_bytes) -- then text column
+ * k, row i also has the code text_code[i + k*rows], 0-based, such that
+ * rows with the same code hold the same text, codes numbered in the order
+ * the rows first use them (0, 1, ... ncodes[k]-1; equal texts share a code
+ * up to 2048 different texts per column, later ones get codes of their
+ * own). work is also needed when rows are to be sorted. */
 typedef struct {
     char *names;     /* name_bytes */
     size_t *name_at; /* cols */
@@ -59,15 +114,33 @@ typedef struct {
     double *num;     /* rows * nnum */
     char *text;      /* text_bytes */
     size_t *text_at; /* rows * ntext */
+    char *units;     /* unit_bytes (optional) */
+    size_t *unit_at; /* cols (with units) */
+    size_t *text_code; /* rows * ntext (optional) */
+    size_t *ncodes;  /* ntext (with text_code) */
+    void *work;      /* work_bytes (with text_code, or rows to sort) */
 } sl_obs_table;
 
+/* The separator of the CSV text buf[0..len-1] as described above: ',' when
+ * the header holds none of the three. */
+char sl_obsfile_separator(const char *buf, size_t len);
+
 /* Check the CSV text buf[0..len-1] completely and report the sizes a parse
- * needs. Does not allocate. */
+ * needs. Does not allocate. opts NULL: the strict form. */
+sl_status sl_obsfile_measure_with(const char *buf, size_t len,
+                                  const sl_obs_read_opts *opts,
+                                  sl_obs_size *size, sl_error *err);
+
+/* Parse buf into tab, whose buffers have the sizes sl_obsfile_measure_with
+ * reported for the same text and options (size is that report). */
+sl_status sl_obsfile_parse_with(const char *buf, size_t len,
+                                const sl_obs_read_opts *opts,
+                                const sl_obs_size *size, sl_obs_table *tab,
+                                sl_error *err);
+
+/* The same in the strict form (opts NULL). */
 sl_status sl_obsfile_measure(const char *buf, size_t len, sl_obs_size *size,
                              sl_error *err);
-
-/* Parse buf into tab, whose buffers have the sizes sl_obsfile_measure
- * reported for the same text (size is that report). */
 sl_status sl_obsfile_parse(const char *buf, size_t len,
                            const sl_obs_size *size, sl_obs_table *tab,
                            sl_error *err);

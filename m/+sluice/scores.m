@@ -410,7 +410,8 @@ function check_obs (obs)
            ['argument 3 (obs): expected the observation table (struct of equally long ', ...
             'columns time, variable (cellstr), value, sigma)']);
   end
-  bad = find (~(isfinite (obs.sigma(:)) & obs.sigma(:) > 0), 1);
+  % a missing value (NaN) needs no sigma
+  bad = find (~isnan (obs.value(:)) & ~(isfinite (obs.sigma(:)) & obs.sigma(:) > 0), 1);
   if (~isempty (bad))
     error ('sluice:scores:badobs', ...
            'argument 3 (obs): row %d: sigma must be finite and positive, got %g', bad, obs.sigma(bad));

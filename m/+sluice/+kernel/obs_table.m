@@ -66,6 +66,9 @@ function tab = obs_table (obs, names, t0, fn, ordered)
       tab.aux(sel) = double (v(sel));
     end
   end
+  % a missing value needs no sigma: the engine never reads it there, and
+  % checks every row's sigma, so an absent one (NaN) stands in as 1
+  tab.sigma(isnan (tab.value) & isnan (tab.sigma)) = 1;
   [ok, tab.var] = ismember (var(:), names(:));
   for i = 1:m
     if (~ok(i))
@@ -90,9 +93,10 @@ function tab = obs_table (obs, names, t0, fn, ordered)
       error (id, 'observation row %d: value is infinite', i);
     end
     if (~any (strcmp (tab.family{i}, {'poisson', 'binomial'})) && ...
-        ~(isfinite (tab.sigma(i)) && tab.sigma(i) >= realmin))
+        ~isnan (tab.value(i)) && ~(isfinite (tab.sigma(i)) && tab.sigma(i) >= realmin))
       % below realmin (a subnormal double) 1/sigma overflows and the
-      % log-likelihood is NaN or -Inf: refused like 0
+      % log-likelihood is NaN or -Inf: refused like 0. A missing value
+      % (NaN, skipped) needs no sigma.
       error (id, ['observation row %d: sigma must be finite and at least %.17g ', ...
                   '(the smallest normal double), got %g'], i, tab.sigma(i), realmin);
     end
