@@ -269,7 +269,7 @@ static void do_write(int nlhs, const mxArray *farg, const mxArray *t)
         cols[j].name = name;
         cols[j].num = NULL;
         cols[j].text = NULL;
-        if (is_text_name(name)) {
+        if (is_text_name(name) || mxIsCell(v)) {
             const char **s;
             if (!mxIsCell(v) || !vec)
                 slm_fail(FN, "badobs",

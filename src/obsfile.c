@@ -1219,7 +1219,7 @@ sl_status sl_obsfile_format(size_t rows, size_t cols,
     for (j = 0; j < cols; j++) {
         const char *name = col[j].name;
         size_t n = name != NULL ? strlen(name) : 0;
-        int kn, want_text;
+        int kn, want_text, want_num;
         char snip[64];
         if (!valid_name(name != NULL ? name : "", n))
             return sl_fail(err, SL_EINVAL, "badheader",
@@ -1227,8 +1227,9 @@ sl_status sl_obsfile_format(size_t rows, size_t cols,
                            "letter, then letters, digits or _, at most %d characters)",
                            j + 1, snippet(name != NULL ? name : "", n, snip, sizeof snip),
                            (int)SL_OBS_NAME_MAX);
+        /* the reader compares names without regard to case */
         for (k = 0; k < j; k++)
-            if (strcmp(col[k].name, name) == 0)
+            if (same_name(col[k].name, strlen(col[k].name), name, n))
                 return sl_fail(err, SL_EINVAL, "badheader",
                                "line 1, column %s: the name appears twice "
                                "(columns %zu and %zu)",
@@ -1236,14 +1237,17 @@ sl_status sl_obsfile_format(size_t rows, size_t cols,
         kn = known_index(name, n);
         if (kn >= 0)
             idx[kn] = j;
+        /* variable and family are text; time, value, sigma, n, dof and
+           limit numbers; any other column either */
         want_text = kn == C_VARIABLE || kn == C_FAMILY;
+        want_num = !want_text && role_of(name, n) != R_OTHER;
         if ((col[j].num != NULL) == (col[j].text != NULL) ||
             (want_text && col[j].text == NULL) ||
-            (!want_text && col[j].num == NULL))
+            (want_num && col[j].num == NULL))
             return sl_fail(err, SL_EINVAL, "badfield",
                            "line 1, column %s: expected a %s column", name,
                            want_text ? "text" : "numeric");
-        if (want_text && rows > 0)
+        if (col[j].text != NULL && rows > 0)
             for (i = 0; i < rows; i++)
                 if (col[j].text[i] == NULL)
                     return sl_fail(err, SL_EINVAL, "badfield",

@@ -157,8 +157,10 @@ typedef struct {
  * gives the same doubles to the bit; NaN as NaN, infinities as Inf / -Inf;
  * text quoted when it holds a comma, quote, line break, or leading or
  * trailing blank). The table must pass the same checks as a parsed one
- * (the required columns with the right kinds, valid distinct names, times,
- * sigmas and families); failures name the line the row would have.
+ * (the required columns with the right kinds -- variable and family text;
+ * time, value, sigma, n, dof, limit numeric; any other column either --,
+ * valid names distinct without regard to case, times, sigmas and
+ * families); failures name the line the row would have.
  * *need receives the number of bytes of the text (no NUL is added). With
  * buf NULL only *need is computed; otherwise cap must be >= the need
  * ("bufsize" otherwise). Does not allocate. */

@@ -8,7 +8,10 @@
 % @code{sigma} (in the units of @code{value}; finite and >= realmin except on
 % @code{poisson} and @code{binomial} rows), optionally @code{family}
 % (cellstr, or one name for every row), @code{n}, @code{dof}, @code{limit}
-% and any other numeric column. The file has a header row with the field
+% and any other numeric or text (cellstr) column; names must differ in more
+% than case (@code{sluice.read_obs} compares them without regard to case).
+% A text column whose every entry reads as a number comes back from
+% @code{sluice.read_obs} as a numeric column. The file has a header row with the field
 % names in the struct's order, then one line per row; numbers are written
 % with 17 significant digits (@code{%.17g}), so @code{sluice.read_obs}
 % gives back the same doubles to the bit; NaN is written @code{NaN},
@@ -54,8 +57,10 @@ function tab = check_table (obs)
   for k = 1:numel (names)
     nm = names{k};
     v = obs.(nm);
-    if (any (strcmp (nm, {'variable', 'family'})))
-      if (ischar (v) && (m == 1 || strcmp (nm, 'family')) && size (v, 1) <= 1)
+    known_text = any (strcmp (nm, {'variable', 'family'}));
+    other_text = iscell (v) && ~any (strcmpi (nm, {'time', 'value', 'sigma', 'n', 'dof', 'limit'}));
+    if (known_text || other_text)
+      if (known_text && ischar (v) && (m == 1 || strcmp (nm, 'family')) && size (v, 1) <= 1)
         v = repmat ({v}, m, 1);
       end
       if (~iscellstr (v) || numel (v) ~= m || (m > 0 && ~isvector (v)))
@@ -118,7 +123,19 @@ end
 %! assert (back.gauge, [3; 4]);
 %! assert (nm, 1);
 
+%!test
+%! % a text column besides variable and family: written and read back
+%! obs = struct ('time', [0; 1; 2], 'variable', {{'h'; 'h'; 'q'}}, 'value', [1; NaN; 2], ...
+%!               'sigma', [0.1; NaN; 0.2], 'site', {{'Vell bridge'; 'weir, upper'; 'Vell bridge'}});
+%! sluice.write_obs (f, obs);
+%! back = sluice.read_obs (f);
+%! delete (f);
+%! assert (isequaln (back, obs));
+
 %!error <Invalid call> sluice.write_obs ('x.csv')
+%!error id=sluice:write_obs:badobs sluice.write_obs (f, struct ('time', 1, 'variable', 'h', 'value', 1, 'sigma', 1, 'dof', {{'4'}}))
+%!error id=sluice:write_obs:badobs sluice.write_obs (f, struct ('time', 1, 'variable', 'h', 'value', 1, 'sigma', 1, 'site', {{3}}))
+%!error <line 1, column Site: the name appears twice> sluice.write_obs (f, struct ('time', 1, 'variable', 'h', 'value', 1, 'sigma', 1, 'site', 1, 'Site', 2))
 %!error id=sluice:write_obs:badfilename sluice.write_obs (1, struct ())
 %!error id=sluice:write_obs:badobs sluice.write_obs (f, 3)
 %!error id=sluice:write_obs:badobs sluice.write_obs (f, struct ('time', 1, 'variable', 'h', 'value', 1))

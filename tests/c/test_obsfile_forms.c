@@ -372,6 +372,38 @@ int main(void)
         strict.unit_days = 0;
         expect_error_with("time,variable,value,sigma\n", &strict, "badarg", "time unit");
     }
+    /* the writer: another text column is written and read back as text;
+       names differing only in case and text in numeric columns refused */
+    {
+        double tm[3] = {0, 1, 2}, val[3] = {1, NAN, 2}, sg[3] = {0.1, NAN, 0.2};
+        const char *var[3] = {"h", "h", "q"}, *site[3] = {"Vell bridge", "weir, upper", ""};
+        sl_obs_column c[5];
+        char out[512];
+        size_t need = 0;
+        sl_error err;
+        c[0].name = "time"; c[0].num = tm; c[0].text = NULL;
+        c[1].name = "variable"; c[1].num = NULL; c[1].text = var;
+        c[2].name = "value"; c[2].num = val; c[2].text = NULL;
+        c[3].name = "sigma"; c[3].num = sg; c[3].text = NULL;
+        c[4].name = "site"; c[4].num = NULL; c[4].text = site;
+        CHECK(sl_obsfile_format(3, 5, c, out, sizeof out - 1, &need, &err) == SL_OK,
+              "write a text column: %s", err.message);
+        out[need] = '\0';
+        parse_default(out, &p);
+        CHECK(p.st == SL_OK && strcmp(text_at(&p, "site", 1), "weir, upper") == 0 &&
+                  strcmp(text_at(&p, "site", 2), "") == 0 && isnan(num_at(&p, "sigma", 1)),
+              "read the text column back: %s", p.err.message);
+        release(&p);
+        c[4].name = "dof";
+        CHECK(sl_obsfile_format(3, 5, c, NULL, 0, &need, &err) != SL_OK &&
+                  strcmp(err.reason, "badfield") == 0, "text in dof refused");
+        c[4].name = "Value";
+        CHECK(sl_obsfile_format(3, 5, c, NULL, 0, &need, &err) != SL_OK &&
+                  strcmp(err.reason, "badheader") == 0 &&
+                  strstr(err.message, "line 1, column Value: the name appears twice") != NULL,
+              "names equal but for case refused: %s", err.message);
+    }
+
     /* random damage to a file using every form at once (common practice
        of fuzzing a parser; run under ASan by make check-asan): each result
        is a table or an error with a reason and a line */
