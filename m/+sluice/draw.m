@@ -39,66 +39,8 @@ function [P, names] = draw (prior, N, seed)
   if (nargin ~= 3)
     sluice.kernel.compat ('usage', mfilename ());
   end
-  dists = {'uniform', 'normal', 'lognormal', 'truncnormal', 'fixed'};
-  counts = [2 2 2 4 1];
-  fields = {'name', 'dist', 'args', 'lower', 'upper'};
-
-  if (~isstruct (prior) || isempty (prior) || ~isvector (prior))
-    error ('sluice:draw:badprior', ...
-           'argument 1 (prior): expected a non-empty struct array from sluice.prior, got %s', ...
-           sluice.kernel.describe (prior));
-  end
-  for f = 1:numel (fields)
-    if (~isfield (prior, fields{f}))
-      error ('sluice:draw:badprior', ...
-             'argument 1 (prior): the struct array has no field ''%s''', fields{f});
-    end
-  end
-  p = numel (prior);
-  ids = zeros (1, p);
-  a = zeros (1, p);
-  b = zeros (1, p);
-  lo = -Inf (1, p);
-  hi = Inf (1, p);
-  names = cell (p, 1);
-  for k = 1:p
-    name = prior(k).name;
-    if (~(ischar (name) && isrow (name) && isvarname (name)))
-      error ('sluice:draw:badprior', ...
-             'argument 1 (prior): entry %d: the name is not a valid variable name', k);
-    end
-    if (any (strcmp (name, names(1:k-1))))
-      error ('sluice:draw:badprior', ...
-             'argument 1 (prior): entry %d: parameter ''%s'' is named twice', k, name);
-    end
-    names{k} = name;
-    dist = prior(k).dist;
-    id = [];
-    if (ischar (dist) && isrow (dist))
-      id = find (strcmp (dist, dists));
-    end
-    if (isempty (id))
-      error ('sluice:draw:badprior', ...
-             'argument 1 (prior): entry %d (''%s''): unknown distribution', k, name);
-    end
-    args = prior(k).args;
-    if (~(isa (args, 'double') && isreal (args) && ~issparse (args) ...
-          && isvector (args) && numel (args) == counts(id)))
-      error ('sluice:draw:badprior', ...
-             'argument 1 (prior): entry %d (''%s''): a %s prior takes %d real double arguments, got %s', ...
-             k, name, dist, counts(id), sluice.kernel.describe (args));
-    end
-    ids(k) = id - 1;
-    a(k) = args(1);
-    if (counts(id) >= 2)
-      b(k) = args(2);
-    end
-    if (counts(id) == 4)
-      lo(k) = args(3);
-      hi(k) = args(4);
-    end
-    check_bounds (prior(k), k, name, dist, args);
-  end
+  [ids, a, b, lo, hi, names] = sluice.kernel.check_prior (prior, 1, 'draw');
+  p = numel (ids);
 
   if (~(isa (N, 'double') && isreal (N) && ~issparse (N) && isscalar (N) ...
         && isfinite (N) && N == fix (N) && N >= 1 && N <= flintmax ()))
@@ -118,42 +60,6 @@ function [P, names] = draw (prior, N, seed)
   sluice.kernel.ensure_memory (8 * p * N, 'draw', ...
                                sprintf ('a draw of %d members of %d parameter(s)', N, p));
   P = sluice.kernel.draw (ids, a, b, lo, hi, N, seed);
-end
-
-function check_bounds (pr, k, name, dist, args)
-  % The bounds of an entry are what the filters transform with (log,
-  % logit) and clip to; sluice.prior makes them contain the support of
-  % the distribution, so every draw lies inside them. A hand-edited entry
-  % whose bounds cut into the support would get draws outside its bounds:
-  % refuse it rather than draw values the rest of sluice calls impossible.
-  lower = pr.lower;
-  upper = pr.upper;
-  if (~(isa (lower, 'double') && isa (upper, 'double') && isreal (lower) && isreal (upper) ...
-        && isscalar (lower) && isscalar (upper) && ~isnan (lower) && ~isnan (upper) ...
-        && lower <= upper))
-    error ('sluice:draw:badprior', ...
-           'argument 1 (prior): entry %d (''%s''): lower and upper must be real scalars with lower <= upper', ...
-           k, name);
-  end
-  switch (dist)
-    case 'uniform'
-      support = args(1:2);
-    case 'normal'
-      support = [-Inf Inf];
-    case 'lognormal'
-      support = [0 Inf];
-    case 'truncnormal'
-      support = args(3:4);
-    otherwise
-      support = [args(1) args(1)];
-  end
-  if (~(lower <= support(1) && upper >= support(2)))
-    error ('sluice:draw:badprior', ...
-           ['argument 1 (prior): entry %d (''%s''): the bounds [%g %g] must contain ', ...
-            'the support [%g %g] of the %s distribution (edit args, or remake the ', ...
-            'entry with sluice.prior and its bounds option)'], ...
-           k, name, lower, upper, support(1), support(2), dist);
-  end
 end
 
 %!shared pr

@@ -75,10 +75,9 @@ function res = drift_test (model, prior, obs, names, steps, varargin)
   if (nargin < 5)
     sluice.kernel.compat ('usage', mfilename ());
   end
-  if (~isstruct (model) || ~isscalar (model) || ~isfield (model, 'params'))
-    error ('sluice:drift_test:badmodel', ...
-           'argument 1 (model): expected a spec from sluice.model, got %s', ...
-           sluice.kernel.describe (model));
+  sluice.kernel.check_model (model, 1, 'drift_test');
+  if (~isempty (prior))
+    sluice.kernel.check_prior (prior, 2, 'drift_test');
   end
   names = check_names (names, model, prior);
   q = numel (names);

@@ -121,7 +121,10 @@ function [post, info] = esmda (fwd, prior, data, varargin)
            'argument 1: expected a function handle or a spec from sluice.model, got %s', ...
            sluice.kernel.describe (fwd));
   end
-  check_prior (prior);
+  if (isstruct (fwd))
+    sluice.kernel.check_model (fwd, 1, 'esmda');
+  end
+  sluice.kernel.check_prior (prior, 2, 'esmda');
   if (isempty (opts.seed))
     opts.seed = floor (rand () * 2^32);
   end
@@ -271,22 +274,6 @@ function v = whole (v, what, lo, hi)
   end
 end
 
-function check_prior (prior)
-  if (~isstruct (prior) || isempty (prior) || ~isvector (prior) || ...
-      ~all (isfield (prior, {'name', 'dist', 'args', 'lower', 'upper'})))
-    error ('sluice:esmda:badprior', ...
-           'argument 2 (prior): expected a non-empty struct array from sluice.prior, got %s', ...
-           sluice.kernel.describe (prior));
-  end
-  for k = 1:numel (prior)
-    b = [prior(k).lower, prior(k).upper];
-    if (~isa (b, 'double') || ~isreal (b) || numel (b) ~= 2 || any (isnan (b)) || b(1) > b(2))
-      error ('sluice:esmda:badprior', ...
-             'argument 2 (prior): entry %d: lower and upper must be real bounds with lower <= upper', k);
-    end
-  end
-end
-
 function P = draw_prior (prior, N, seed)
   try
     P = sluice.draw (prior, N, seed);
@@ -410,10 +397,6 @@ end
 % ------------------------------------------------------ a model spec's run
 
 function [forward, y, R, Rfac, skipped] = model_forward (model, prior, obs, opts, N)
-  if (~isscalar (model) || ~all (isfield (model, {'kind', 'states', 'params', 'x0', ...
-                                                   'defaults', 'lower', 'upper', 't0'})))
-    error ('sluice:esmda:badmodel', 'argument 1 (model): expected a spec from sluice.model');
-  end
   n = numel (model.states);
   np = numel (model.params);
   t0 = opts.t0;

@@ -57,6 +57,10 @@ function ev = evidence (model, prior, obs, varargin)
   if (nargin < 3)
     sluice.kernel.compat ('usage', mfilename ());
   end
+  sluice.kernel.check_model (model, 1, 'evidence');
+  if (~isempty (prior))
+    sluice.kernel.check_prior (prior, 2, 'evidence');
+  end
   args = sluice.kernel.option_pairs (varargin);
   if (numel (args) == 1)
     error ('sluice:evidence:badoption', ...

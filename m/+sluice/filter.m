@@ -320,7 +320,7 @@ function res = filter (model, prior, obs, varargin)
     sluice.kernel.compat ('usage', mfilename ());
   end
   opts = parse_options (varargin);
-  check_model (model);
+  sluice.kernel.check_model (model, 1, 'filter');
   n = numel (model.states);
   p = numel (model.params);
   q = numel (model.forcings);
@@ -938,13 +938,6 @@ function check_memory (n, p, q, N, obs_time, opts)
   sluice.kernel.ensure_memory (need, 'filter', sprintf ('a run of %d members', N));
 end
 
-function check_model (model)
-  if (~isstruct (model) || ~isscalar (model) || ~isfield (model, 'kind') || ...
-      ~isfield (model, 'states'))
-    error ('sluice:filter:badmodel', 'argument 1 (model): expected a spec from sluice.model');
-  end
-end
-
 function [X0, P0, lower, upper, pdist] = initial_ensemble (model, prior, N, seed)
   n = numel (model.states);
   p = numel (model.params);
@@ -964,9 +957,7 @@ function [X0, P0, lower, upper, pdist] = initial_ensemble (model, prior, N, seed
   if (isempty (prior))
     prior_names = {};
   else
-    if (~isstruct (prior) || ~isfield (prior, 'name'))
-      error ('sluice:filter:badprior', 'argument 2 (prior): expected a struct array from sluice.prior');
-    end
+    sluice.kernel.check_prior (prior, 2, 'filter');
     prior_names = {prior.name};
   end
   for k = 1:numel (prior_names)

@@ -215,7 +215,7 @@ function res = pmmh (model, prior, obs, varargin)
     sluice.kernel.compat ('usage', mfilename ());
   end
   t_all = tic ();
-  check_model (model);
+  sluice.kernel.check_model (model, 1, 'pmmh');
   [opts, prev] = parse_options (varargin);
   S = setup (model, prior, obs, opts);
   if (isempty (prev))
@@ -744,26 +744,10 @@ function lm = log_normal_mass (a, b)
 end
 
 % ---------------------------------------------------------------------------
-function check_model (model)
-  if (~isstruct (model) || ~isscalar (model) || ~isfield (model, 'kind') || ...
-      ~isfield (model, 'states') || ~isfield (model, 'params'))
-    error ('sluice:pmmh:badmodel', 'argument 1 (model): expected a spec from sluice.model');
-  end
-end
-
 function S = setup (model, prior, obs, opts)
-  fields = {'name', 'dist', 'args', 'lower', 'upper'};
-  if (~isstruct (prior) || isempty (prior) || ~isvector (prior) || ...
-      ~all (isfield (prior, fields)))
-    error ('sluice:pmmh:badprior', ...
-           'argument 2 (prior): expected a non-empty struct array from sluice.prior, got %s', ...
-           sluice.kernel.describe (prior));
-  end
+  sluice.kernel.check_prior (prior, 2, 'pmmh');
   prior = prior(:)';
   names = {prior.name};
-  if (~iscellstr (names) || numel (unique (names)) ~= numel (names))
-    error ('sluice:pmmh:badprior', 'argument 2 (prior): the names must be unique strings');
-  end
   dists = {'uniform', 'normal', 'lognormal', 'truncnormal', 'fixed'};
   free = [];
   for k = 1:numel (prior)

@@ -94,6 +94,7 @@ function files = report (res, varargin)
   end
   opts = parse_options (varargin);
   if (is_sweep_table (res))
+    sluice.kernel.check_sweep (res, 1, 'report');
     toolkit = find_toolkit ();
     old = warning ('off', 'Octave:gnuplot-graphics');
     restore = onCleanup (@() warning (old));
@@ -265,20 +266,17 @@ function [rf, obs, truth, scores] = unpack (res, opts)
     if (isfield (res, 'scores'))
       scores = res.scores;
     end
+    where = 'argument 1 (res.filter)';
   else
     rf = res;
+    where = 'argument 1 (res)';
   end
-  need = {'times', 'state_names', 'param_names', 'states', 'params', ...
-          'quantile_levels', 'ess', 'resampled', 'members'};
-  ok = isstruct (rf) && isscalar (rf);
-  for k = 1:numel (need)
-    ok = ok && isfield (rf, need{k});
-  end
-  if (~ok)
+  if (~isstruct (rf) || ~isscalar (rf))
     error ('sluice:report:badresult', ...
            'argument 1 (res): expected a result of sluice.filter or sluice.twin, got %s', ...
            describe (res));
   end
+  sluice.kernel.check_result (rf, where, 'report', {'param_names', 'params', 'members'});
   rf.method_label = 'unknown method';
   if (isfield (rf, 'method') && ischar (rf.method))
     rf.method_label = rf.method;

@@ -84,7 +84,12 @@ function s = scores (res, truth, obs)
   if (nargin < 2 || nargin > 3)
     sluice.kernel.compat ('usage', mfilename ());
   end
-  check_result (res);
+  if (nargin > 2)
+    % the innovations read the parameters' summaries too
+    sluice.kernel.check_result (res, 1, 'scores', {'param_names', 'params'});
+  else
+    sluice.kernel.check_result (res, 1, 'scores');
+  end
   n = numel (res.state_names);
   check_truth (truth, n);
 
@@ -338,36 +343,6 @@ function inn = innovations (res, obs, has_history)
   inn.skipped_family = skipped_family;
 end
 
-function check_result (res)
-  if (~isstruct (res) || ~isscalar (res))
-    error ('sluice:scores:badresult', ...
-           'argument 1 (res): expected a result struct of sluice.filter, got %s', describe (res));
-  end
-  need = {'times', 'state_names', 'states', 'quantile_levels', 'ess', 'resampled'};
-  for k = 1:numel (need)
-    if (~isfield (res, need{k}))
-      error ('sluice:scores:badresult', ...
-             'argument 1 (res): the field ''%s'' of a filter result is missing', need{k});
-    end
-  end
-  if (~iscellstr (res.state_names) || ~isstruct (res.states) || ...
-      ~isfield (res.states, 'mean') || ~isfield (res.states, 'quantiles'))
-    error ('sluice:scores:badresult', ...
-           'argument 1 (res): expected state_names (cellstr) and states.mean, states.quantiles');
-  end
-  n = numel (res.state_names);
-  T = numel (res.times);
-  nq = numel (res.quantile_levels);
-  if (~is_real (res.times) || ~isvector (res.times) || ~is_real (res.states.mean) || ...
-      ~isequal (size (res.states.mean), [n T]) || ~is_real (res.states.quantiles) || ...
-      numel (res.states.quantiles) ~= n * nq * T || ~is_real (res.quantile_levels) || ...
-      numel (res.ess) ~= T || numel (res.resampled) ~= T)
-    error ('sluice:scores:badresult', ...
-           ['argument 1 (res): expected times (1 x T), states.mean (n x T), ', ...
-            'states.quantiles (n x nq x T), ess and resampled (1 x T) with n = %d state names'], n);
-  end
-end
-
 function check_truth (truth, n)
   if (~isstruct (truth) || ~isscalar (truth) || ~isfield (truth, 'times') || ~isfield (truth, 'X'))
     error ('sluice:scores:badtruth', ...
@@ -415,6 +390,14 @@ function check_obs (obs)
   if (~isempty (bad))
     error ('sluice:scores:badobs', ...
            'argument 3 (obs): row %d: sigma must be finite and positive, got %g', bad, obs.sigma(bad));
+  end
+  if (isfield (obs, 'family'))
+    fam = obs.family;
+    if (~((ischar (fam) && isrow (fam)) || (iscellstr (fam) && numel (fam) == m)))
+      error ('sluice:scores:badobs', ...
+             ['argument 3 (obs): column ''family'' must be one family name or a cellstr ', ...
+              'with one per row (%d), got %s'], m, describe (fam));
+    end
   end
 end
 

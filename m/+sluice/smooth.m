@@ -88,7 +88,7 @@ function res = smooth (res, varargin)
   opts = struct ('method', '', 'model', [], 'trajectories', [], ...
                  'rejection_tries', 0, 'seed', [], 'threads', []);
   opts = sluice.kernel.name_value (opts, varargin, 'smooth');
-  check_result (res);
+  sluice.kernel.check_result (res, 1, 'smooth', {'method'});
   [names, default] = smoothers_for (res.method);
   if (any (strcmp (names, 'enks')))
     % the ensemble Kalman smoother ran inside the filter (option 'lag')
@@ -183,15 +183,6 @@ function [names, default] = smoothers_for (method)
     otherwise
       names = {};
       default = '';
-  end
-end
-
-function check_result (res)
-  if (~isstruct (res) || ~isscalar (res) || ~isfield (res, 'method') || ...
-      ~ischar (res.method) || ~isfield (res, 'times') || ~isfield (res, 'state_names'))
-    error ('sluice:smooth:badresult', ...
-           'argument 1 (res): expected the result of sluice.filter, got %s', ...
-           sluice.kernel.describe (res));
   end
 end
 

@@ -130,9 +130,11 @@ function res = twin (model, truth, network, varargin)
       seed ~= fix (seed) || seed < 0 || seed > 2^51 - 1)
     error ('sluice:twin:badoption', 'seed must be a whole number from 0 to 2^51 - 1');
   end
+  sluice.kernel.check_model (model, 1, 'twin');
   if (isempty (opts.prior))
     error ('sluice:twin:noprior', 'option ''prior'' (a struct array from sluice.prior) is required');
   end
+  sluice.kernel.check_prior (opts.prior, 'option ''prior''', 'twin');
   if (~iscell (opts.filter) || mod (numel (opts.filter), 2) ~= 0)
     error ('sluice:twin:badoption', ...
            'option ''filter'' must be a cell of name/value pairs for sluice.filter, got %s', ...

@@ -2,10 +2,7 @@ function [X, P] = check_state (model, X, P, N, fn)
   % Internal: states X (n x N; empty: the model's x0) and parameters P
   % (p x N, p x 1 or empty: the model's defaults) of a run, checked against
   % the model's sizes and parameter bounds. N = [] takes it from X.
-  if (~isstruct (model) || ~isscalar (model) || ~isfield (model, 'kind') || ...
-      ~isfield (model, 'states'))
-    error (['sluice:' fn ':badmodel'], 'the model must be a spec from sluice.model');
-  end
+  sluice.kernel.check_model (model, 1, fn);
   n = numel (model.states);
   p = numel (model.params);
   if (isempty (X))

@@ -1,11 +1,8 @@
 function c = model_config (model, forcing, forcing_noise, events, event_noise, fn)
   % Internal: the model, forcing and event fields of the configuration
   % that sluice.kernel.pf_run reads, checked, for the workflow function fn
-  % (its name is used in error identifiers: sluice:<fn>:<reason>).
-  if (~isstruct (model) || ~isscalar (model) || ~isfield (model, 'kind') || ...
-      ~isfield (model, 'states'))
-    error (['sluice:' fn ':badmodel'], 'the model must be a spec from sluice.model');
-  end
+  % (its name is used in error identifiers: sluice:<fn>:<reason>). The
+  % caller has checked the spec on entry (sluice.kernel.check_model).
   n = numel (model.states);
   p = numel (model.params);
   q = numel (model.forcings);
