@@ -265,6 +265,7 @@ function [rf, obs, truth, scores] = unpack (res, opts)
     end
     if (isfield (res, 'scores'))
       scores = res.scores;
+      check_twin_scores (scores);
     end
     where = 'argument 1 (res.filter)';
   else
@@ -306,6 +307,36 @@ function [rf, obs, truth, scores] = unpack (res, opts)
       error ('sluice:report:badoption', ...
              'truth must be a struct with times (1 x T) and X (%d x T), or a twin result', n);
     end
+  end
+end
+
+function check_twin_scores (sc)
+  % the twin's scores that the summary prints
+  if (isempty (sc))
+    return;
+  end
+  if (~isstruct (sc) || ~isscalar (sc))
+    error ('sluice:report:badresult', ...
+           'argument 1 (res.scores): expected the scores struct of sluice.twin, got %s', ...
+           describe (sc));
+  end
+  f = {'rmse', 'spread', 'openloop_rmse', 'openloop_spread'};
+  for k = 1:numel (f)
+    if (isfield (sc, f{k}))
+      v = sc.(f{k});
+      if (~(isa (v, 'double') && isreal (v) && ~issparse (v)))
+        error ('sluice:report:badresult', ...
+               'argument 1 (res.scores): field ''%s'' must be a real double array, got %s', ...
+               f{k}, describe (v));
+      end
+    end
+  end
+  if (isfield (sc, 'rmse') && ~isfield (sc, 'spread'))
+    error ('sluice:report:badresult', 'argument 1 (res.scores): field ''spread'' is missing');
+  end
+  if (isfield (sc, 'openloop_rmse') && ~isfield (sc, 'openloop_spread'))
+    error ('sluice:report:badresult', ...
+           'argument 1 (res.scores): field ''openloop_spread'' is missing');
   end
 end
 

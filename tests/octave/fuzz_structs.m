@@ -158,7 +158,7 @@ function sites = fixtures (outdir)
   sites(end+1) = site ('report/filter', res, 2, rep, 0.25);
   sites(end+1) = site ('report/twin', tw, 2, rep, 0.25);
   sites(end+1) = site ('report/sweep', sw, 1, rep, 0.25);
-  sites(end+1) = site ('scores/twin', tw, 2, @(r) sluice.scores (r.filter, r.truth, r.obs));
+  sites(end+1) = site ('scores/twin', tw.filter, 2, @(r) sluice.scores (r, tw.truth, tw.obs));
   sites(end+1) = site ('report/evidence', ev, 1, rep, 0.1);
 end
 

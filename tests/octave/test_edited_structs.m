@@ -87,6 +87,15 @@
 %!error id=sluice:report:badresult r = res; r.members = struct ('a', 1); sluice.report (r, 'outdir', tempname ())
 %!error <res.filter> r = tw; r.filter.ess(end) = []; sluice.report (r, 'outdir', tempname ())
 %!error <'smoothed'> r = res; r.smoothed = 1; sluice.report (r, 'outdir', tempname ())
+%!error <'times'> r = res; r.times = r.times'; sluice.report (r, 'outdir', tempname ())
+%!error <'model'> r = res; r.model = {'linear'}; sluice.report (r, 'outdir', tempname ())
+%!error <options.resample_threshold> r = res; r.options.resample_threshold = struct (); sluice.report (r, 'outdir', tempname ())
+%!error <'history'> r = res; r.history = [r.history, r.history]; sluice.scores (r, tw.truth)
+%!error id=sluice:smooth:badresult r = res; r.history = r.history([]); sluice.smooth (r)
+%!error <'forecast'> r = res; r.forecast = 3; sluice.scores (r, tw.truth)
+%!error <forecast.mean> r = res; r.forecast.mean = {1}; sluice.scores (r, tw.truth)
+%!error <res.scores> r = tw; r.scores.openloop_spread = 'x'; sluice.report (r, 'outdir', tempname ())
+%!error <'spread' is missing> r = tw; r.scores = rmfield (r.scores, 'spread'); sluice.report (r, 'outdir', tempname ())
 
 % sweep tables
 %!error id=sluice:report:badsweep sluice.report (struct ('a', [1; 2], 'seed', [1; 2], 'v', {{1; 2}}), 'outdir', tempname ())

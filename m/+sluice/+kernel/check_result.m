@@ -28,8 +28,8 @@ function check_result (res, pos, fn, need)
     end
   end
   t = res.times;
-  if (~(is_real (t) && isvector (t) && all (isfinite (t))))
-    error (id, '%s: field ''times'' must be a non-empty finite real double vector, got %s', ...
+  if (~(is_real (t) && isrow (t) && all (isfinite (t))))
+    error (id, '%s: field ''times'' must be a non-empty finite real double row (1 x T), got %s', ...
            where, sluice.kernel.describe (t));
   end
   T = numel (t);
@@ -75,14 +75,44 @@ function check_result (res, pos, fn, need)
       per_cycle (res.(cycles{k}), cycles{k}, T, where, id);
     end
   end
-  if (isfield (res, 'param_move') && ~(ischar (res.param_move) && ...
-                                      (isrow (res.param_move) || isempty (res.param_move))))
-    error (id, '%s: field ''param_move'' must be a character string, got %s', where, ...
-           sluice.kernel.describe (res.param_move));
+  texts = {'param_move', 'model'};
+  for k = 1:numel (texts)
+    if (isfield (res, texts{k}))
+      v = res.(texts{k});
+      if (~(ischar (v) && (isrow (v) || isempty (v))))
+        error (id, '%s: field ''%s'' must be a character string, got %s', where, ...
+               texts{k}, sluice.kernel.describe (v));
+      end
+    end
   end
-  if (isfield (res, 'options') && ~(isstruct (res.options) && isscalar (res.options)))
-    error (id, '%s: field ''options'' must be a struct of the run''s options, got %s', ...
-           where, sluice.kernel.describe (res.options));
+  if (isfield (res, 'options'))
+    o = res.options;
+    if (~(isstruct (o) && isscalar (o)))
+      error (id, '%s: field ''options'' must be a struct of the run''s options, got %s', ...
+             where, sluice.kernel.describe (o));
+    end
+    if (isfield (o, 'resample_threshold') && ~(is_real (o.resample_threshold) && ...
+                                               isscalar (o.resample_threshold)))
+      error (id, '%s: field ''options.resample_threshold'' must be a real double scalar, got %s', ...
+             where, sluice.kernel.describe (o.resample_threshold));
+    end
+  end
+  % the ensemble history and the forecast summaries: their callers check
+  % the sizes of what they read; each is a scalar struct or [] (not kept)
+  nested = {'history', 'forecast'};
+  for k = 1:numel (nested)
+    if (isfield (res, nested{k}))
+      v = res.(nested{k});
+      if (isstruct (v) ~= (isstruct (v) && isscalar (v)) || (~isstruct (v) && ~isempty (v)))
+        error (id, '%s: field ''%s'' must be a scalar struct (or [] when not kept), got %s', ...
+               where, nested{k}, sluice.kernel.describe (v));
+      end
+    end
+  end
+  if (isfield (res, 'forecast') && isstruct (res.forecast) && isfield (res.forecast, 'mean') ...
+      && ~is_real (res.forecast.mean))
+    error (id, '%s: field ''forecast.mean'' must be a real double array, got %s', where, ...
+           sluice.kernel.describe (res.forecast.mean));
   end
   if (isfield (res, 'smoothed') && ~isempty (res.smoothed))
     sm = res.smoothed;
