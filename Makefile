@@ -4,6 +4,8 @@
 #   make demo       the demo scenario
 #   make bench      benchmarks (ratios against vectorised Octave)
 #   make check-asan C unit tests under AddressSanitizer + UBSan
+#   make check-valgrind  C unit tests under valgrind's memcheck (errors and
+#                   leaks fail; valgrind comes from tools/debian-packages-dev)
 #   make pkg        the Octave package sluice-<version>.tar.gz
 #   make check-pkg  install that package in a temporary place, test it there
 #   make lint       m/ in the Octave/MATLAB subset, mex/ free of platform headers
@@ -22,6 +24,9 @@ PKGFILE   := sluice-$(VERSION).tar.gz
 
 DEPS      := $(BUILD)/.deps-ok
 DEPLIST   ?= tools/debian-packages
+# developers' tools (memory checker), installed only by the targets using them
+DEVDEPS   := $(BUILD)/.deps-dev-ok
+DEVLIST   ?= tools/debian-packages-dev
 SL_SRC    := src
 SL_INC    := include
 SL_MEX    := mex
@@ -40,7 +45,7 @@ TESTLINKS := $(addprefix m/sluice.,$(PUBLIC))
 CTESTSRC  := $(sort $(wildcard tests/c/test_*.c))
 CTESTS    := $(patsubst tests/c/%.c,$(BUILD)/tests/%,$(CTESTSRC))
 
-.PHONY: all deps lib mex links ctests check check-c check-octave check-asan \
+.PHONY: all deps lib mex links ctests check check-c check-octave check-asan check-valgrind \
         demo bench pkg check-pkg lint clean
 
 all: mex links m/doc-cache
@@ -49,6 +54,9 @@ deps: $(DEPS)
 # redone when the package list or the script changes
 $(DEPS): $(DEPLIST) tools/deps.sh
 	@bash tools/deps.sh $(DEPLIST)
+	@mkdir -p $(dir $@) && touch $@
+$(DEVDEPS): $(DEVLIST) tools/deps.sh | $(DEPS)
+	@bash tools/deps.sh $(DEVLIST)
 	@mkdir -p $(dir $@) && touch $@
 
 lib: $(SL_LIB)
@@ -90,6 +98,14 @@ check-asan: | $(DEPS)
 	  EXTRA_CFLAGS="-fsanitize=address,undefined -fno-omit-frame-pointer -fno-sanitize-recover=undefined" \
 	  EXTRA_LDFLAGS="-fsanitize=address,undefined" ctests
 	@ASAN_OPTIONS=detect_leaks=1 bash tests/run_all.sh build-asan none
+
+# memcheck: any invalid access, use of an uninitialised value or definite
+# leak is an error (exit 99); OpenMP's thread pool is left out of the leak
+# count by looking only at definite and indirect losses
+VALGRIND := valgrind -q --error-exitcode=99 --leak-check=full \
+            --errors-for-leak-kinds=definite,indirect --show-leak-kinds=definite,indirect
+check-valgrind: ctests | $(DEVDEPS)
+	@SL_CHECK_LIGHT=1 SL_TEST_RUNNER="$(VALGRIND)" bash tests/run_all.sh $(BUILD) none
 
 demo: all
 	$(OCTRUN) --eval "warning('off', 'Octave:shadowed-function'); addpath('$(CURDIR)/m'); addpath('$(CURDIR)/demos'); demo_flood_town; demo_river_town"

@@ -2,7 +2,8 @@
 # run_all.sh BUILD OCTAVE - run the C unit tests in BUILD/tests (unless BUILD
 # is "none") and the Octave tests (unless OCTAVE is "none"); print one
 # closing line "total: N passed, N failed"; exit non-zero on any failure or
-# when nothing ran.
+# when nothing ran. SL_TEST_RUNNER, when set, is a command put before each
+# C unit test (make check-valgrind runs them under valgrind this way).
 set -u
 build=${1:-build}
 octave=${2:-octave-cli}
@@ -20,7 +21,7 @@ log=$(mktemp)
 if [ "$build" != none ]; then
   for t in "$build"/tests/test_*; do
     [ -x "$t" ] || continue
-    "$t" >"$log" 2>&1; rc=$?
+    ${SL_TEST_RUNNER:-} "$t" >"$log" 2>&1; rc=$?
     grep -E '^(FAIL|SKIP)' "$log" | head -n 40
     if ! tally "$log" || { [ $rc -ne 0 ] && ! grep -qE ' [1-9][0-9]* failed' "$log"; }; then
       echo "CRASH $(basename "$t") (exit $rc)"; tail -n 20 "$log"; crashed=$((crashed + 1))

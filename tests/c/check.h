@@ -4,6 +4,7 @@
 
 #include <math.h>
 #include <stdio.h>
+#include <stdlib.h>
 #include <string.h>
 
 static int check_passed_ = 0, check_failed_ = 0;
@@ -38,6 +39,15 @@ static int check_passed_ = 0, check_failed_ = 0;
         CHECK(ok_, "%s: %.17g vs %.17g (rel tol %.3g)", (what), ra_, rb_,     \
               (double)(tol));                                                 \
     } while (0)
+
+/* 1 when the environment sets SL_CHECK_LIGHT (make check-valgrind, where
+ * every instruction costs about 50 times more): a test then runs its
+ * longest loops over fewer cases, or skips them with a SKIP line. */
+static inline int check_light_(void)
+{
+    const char *e = getenv("SL_CHECK_LIGHT");
+    return e != NULL && e[0] != '\0' && strcmp(e, "0") != 0;
+}
 
 /* Print the closing line and return the process exit code. */
 static int check_report_(const char *name)

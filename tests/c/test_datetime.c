@@ -131,8 +131,11 @@ int main(void)
               !sl_date_like("2001-x", 6),
           "date-like text");
 
-    /* every day of the years 0000 to 9999: written, read back, the same */
-    for (day = sl_date_days(0, 1, 1); day <= sl_date_days(9999, 12, 31); day += 1) {
+    /* every day of the years 0000 to 9999: written, read back, the same
+     * (light: every 37th day, which still meets every day of the month and
+     * many 29 Februaries) */
+    for (day = sl_date_days(0, 1, 1); day <= sl_date_days(9999, 12, 31);
+         day += check_light_() ? 37 : 1) {
         sl_utc t, u;
         size_t n;
         t.sec = day * 86400 + (day % 7 == 0 ? 0 : (day % 86400 + 86400) % 86400);

@@ -1245,7 +1245,11 @@ int main(void)
     check_resample_move();
     check_smc2_wenkf();
     check_worked_example();
-    check_determinism();
+    if (check_light_())
+        printf("SKIP check_determinism: SL_CHECK_LIGHT (14 s of thread-count runs; "
+               "make check and check-asan run it)\n");
+    else
+        check_determinism();
     check_errors();
     check_degenerate();
     check_resampling();
