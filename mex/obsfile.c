@@ -1,6 +1,9 @@
 /* obsfile.c - gateway: [tab, nmissing, codes, info] =
  * sluice.kernel.obsfile('read', file [, origin, unit_days, datenums, sort]),
- * sluice.kernel.obsfile('write', file, tab). */
+ * sluice.kernel.obsfile('write', file, tab),
+ * [dn, text] = sluice.kernel.obsfile('date', x): x one ISO 8601 text or an
+ * array of datenums; dn its datenums, text the canonical ISO 8601 text (a
+ * string for a text, a cellstr the shape of x for datenums). */
 #include "mexutil.h"
 #include "sluice/obsfile.h"
 
@@ -330,6 +333,46 @@ static void do_write(int nlhs, const mxArray *farg, const mxArray *t)
         slm_fail(FN, "writefail", "cannot write %s: %s", file, strerror(errno));
 }
 
+/* [dn, text] = obsfile('date', x) */
+static void do_date(int nlhs, mxArray *plhs[], const mxArray *x)
+{
+    static const char *FN = "date";
+    sl_error err;
+    sl_utc t;
+    char buf[48], got[96];
+    if (mxIsChar(x)) {
+        char *s = slm_string(FN, x, 2, "date");
+        if (sl_date_parse(s, strlen(s), &t, &err) != SL_OK)
+            slm_fail(FN, "baddate", "'%s' is not a date: %s", s, err.message);
+        mxFree(s);
+        sl_date_format(t, buf, sizeof buf);
+        plhs[0] = mxCreateDoubleScalar(sl_date_to_datenum(t));
+        if (nlhs > 1)
+            plhs[1] = mxCreateString(buf);
+    } else if (mxIsDouble(x) && !mxIsComplex(x) && !mxIsSparse(x)) {
+        const size_t m = mxGetNumberOfElements(x);
+        const double *d = slm_doubles(x);
+        mxArray *c = mxCreateCellArray(mxGetNumberOfDimensions(x), mxGetDimensions(x));
+        size_t i;
+        for (i = 0; i < m; i++) {
+            if (sl_date_from_datenum(d[i], &t, &err) != SL_OK) {
+                mxDestroyArray(c);
+                slm_fail(FN, "baddate", "element %lu: %s", (unsigned long)(i + 1), err.message);
+            }
+            sl_date_format(t, buf, sizeof buf);
+            mxSetCell(c, i, mxCreateString(buf));
+        }
+        plhs[0] = mxDuplicateArray(x);
+        if (nlhs > 1)
+            plhs[1] = c;
+        else
+            mxDestroyArray(c);
+    } else {
+        slm_describe(x, got, sizeof got);
+        slm_fail(FN, "baddate", "expected a date such as '2001-01-01' or datenums, got %s", got);
+    }
+}
+
 void mexFunction(int nlhs, mxArray *plhs[], int nrhs, const mxArray *prhs[])
 {
     static const char *FN = "obsfile";
@@ -347,8 +390,12 @@ void mexFunction(int nlhs, mxArray *plhs[], int nrhs, const mxArray *prhs[])
         if (nlhs > 0)
             slm_fail("write_obs", "nargout", "no output arguments, asked for %d", nlhs);
         do_write(nlhs, prhs[1], prhs[2]);
+    } else if (strcmp(mode, "date") == 0) {
+        if (nrhs != 2)
+            slm_fail("date", "nargin", "expected 2 input arguments, got %d", nrhs);
+        do_date(nlhs, plhs, prhs[1]);
     } else {
-        slm_fail(FN, "badmode", "argument 1 (mode): expected 'read' or 'write', got '%s'",
-                 mode);
+        slm_fail(FN, "badmode",
+                 "argument 1 (mode): expected 'read', 'write' or 'date', got '%s'", mode);
     }
 }

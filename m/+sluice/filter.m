@@ -87,6 +87,16 @@
 % start time (default the model's @code{t0}).
 % @item times
 % extra times at which to record the ensemble without observations.
+% @item origin
+% the date of model time 0 (ISO 8601 text such as @code{'2001-01-01'} or
+% @code{'2001-01-01T06:00+01:00'}, or an Octave datenum; default none),
+% for a run whose observations were read with dates
+% (@code{sluice.read_obs (file, 'origin', ...)}): the result then carries
+% @code{time_origin}, @code{time_unit} and @code{dates} (the datenums of
+% @code{times}), and @code{sluice.report} draws and writes dates.
+% @item time_unit
+% the model's time unit when @code{origin} is given: @code{'days'}
+% (default) or @code{'years'} (of 365.25 days).
 % @item forcing
 % struct with @code{time} (nt x 1), @code{values} (nt x q, a column per
 % forcing of the model) and @code{interp} (@code{'linear'} (default) or
@@ -268,7 +278,9 @@
 % 2 s), true or false.
 % @end table
 %
-% The result @var{res} has @code{times} (1 x T cycle times),
+% The result @var{res} has @code{times} (1 x T cycle times; with
+% @code{origin} also @code{time_origin}, @code{time_unit} and
+% @code{dates}, 1 x T datenums),
 % @code{state_names}, @code{param_names}, @code{states.mean} (n x T),
 % @code{states.quantiles} (n x nq x T), @code{params.mean},
 % @code{params.quantiles}, @code{quantile_levels}, @code{ess},
@@ -426,6 +438,12 @@ function res = filter (model, prior, obs, varargin)
   res.seed = opts.seed;
   res.t0 = t0;
   res.times = times;
+  if (~isempty (opts.calendar))
+    % the calendar of the time axis: model times as dates
+    res.time_origin = opts.calendar.text;
+    res.time_unit = opts.calendar.unit;
+    res.dates = opts.calendar.datenum + times * opts.calendar.unit_days;
+  end
   res.state_names = model.states;
   res.param_names = model.params;
   res.quantile_levels = opts.quantiles;
@@ -595,8 +613,16 @@ function opts = parse_options (args)
                  'resample_threshold', 0.5, 'quantiles', [0.05 0.5 0.95], ...
                  'history', false, 'threads', 0, 'progress', 'auto', ...
                  'inflation', 1, 'rtpp', 0, 'rtps', 0, 'adaptive_inflation', false, ...
-                 'inflation_max', 2, 'localization', [], 'operators', [], 'lag', 0);
+                 'inflation_max', 2, 'localization', [], 'operators', [], 'lag', 0, ...
+                 'origin', [], 'time_unit', 'days');
   opts = sluice.kernel.name_value (opts, args, 'filter');
+  opts.calendar = [];
+  if (~(isempty (opts.origin) && isnumeric (opts.origin)))
+    opts.calendar = sluice.kernel.time_origin (opts.origin, opts.time_unit, 'filter');
+  elseif (~(ischar (opts.time_unit) && any (strcmpi (opts.time_unit, {'days', 'years'}))))
+    error ('sluice:filter:badoption', ...
+           'option ''time_unit'': expected ''days'' or ''years'' (the model''s time unit)');
+  end
   methods = {'pf', 'wenkf', 'enkf', 'etkf', 'ensrf', 'eakf', 'letkf'};
   if (~ischar (opts.method) || ~any (strcmp (opts.method, methods)))
     error ('sluice:filter:badmethod', 'unknown method; the methods are %s', ...

@@ -71,7 +71,10 @@
 % struct of unit strings by variable name, e.g.
 % @code{struct ('level', 'm')}, used in the axis labels.
 % @item time_unit
-% unit of time for the axis labels (default none).
+% unit of time for the axis labels (default none). A run with a calendar
+% (@code{sluice.filter} with @code{origin}) is drawn against dates
+% instead, and its CSV tables get a @code{date} column (ISO 8601, UTC)
+% beside @code{time}.
 % @item title
 % a heading for the summary (default the model's name).
 % @item log_scale
@@ -103,6 +106,8 @@ function files = report (res, varargin)
     return;
   end
   [rf, obs, truth, scores] = unpack (res, opts);
+  % the time axis: model times, or dates when the run has a calendar
+  xa = time_axis (rf, opts);
   toolkit = find_toolkit ();
   % the gnuplot toolkit is the one that prints without a display: its
   % notice that another toolkit is preferred for interactive use is moot here
@@ -149,19 +154,19 @@ function files = report (res, varargin)
     base = unique_name (['fan_', safe_name(names{k})], used);
     used{end + 1} = base;
     f = fullfile (outdir, [base, '.png']);
-    fan_chart (f, toolkit, rf.times, M, Q, idx, bands, to, yo, tt, yt, ...
-               names{k}, label (names{k}, opts), time_label (opts), k > n, ...
+    fan_chart (f, toolkit, xa.x (rf.times), M, Q, idx, bands, xa.x (to), yo, xa.x (tt), yt, ...
+               names{k}, label (names{k}, opts), xa, k > n, ...
                any (strcmp (names{k}, opts.log_scale)), S);
     files{end + 1} = f;
   end
 
   f = fullfile (outdir, 'ess.png');
-  ess_chart (f, toolkit, rf, time_label (opts));
+  ess_chart (f, toolkit, rf, xa);
   files{end + 1} = f;
 
   if (any (moving))
     f = fullfile (outdir, 'params.png');
-    param_chart (f, toolkit, rf, idx, bands, truth, opts);
+    param_chart (f, toolkit, rf, idx, bands, truth, opts, xa);
     files{end + 1} = f;
   end
 
@@ -172,18 +177,18 @@ function files = report (res, varargin)
   end
 
   f = fullfile (outdir, 'summary.csv');
-  write_series (f, rf, names, n);
+  write_series (f, rf, names, n, xa);
   files{end + 1} = f;
   f = fullfile (outdir, 'final.csv');
   write_final (f, rf, names, n, idx);
   files{end + 1} = f;
   if (~isempty (sm))
     f = fullfile (outdir, 'smoothed.csv');
-    write_series (f, smoothed_result (rf, sm), names, n);
+    write_series (f, smoothed_result (rf, sm), names, n, xa);
     files{end + 1} = f;
   end
   f = fullfile (outdir, 'summary.txt');
-  write_text (f, rf, opts, bands, toolkit, scores, ~isempty (obs), ~isempty (truth));
+  write_text (f, rf, opts, bands, toolkit, scores, ~isempty (obs), ~isempty (truth), xa);
   files{end + 1} = f;
   files = files(:);
 end
@@ -680,7 +685,7 @@ function line_chart (f, tk, M, lab1, n1, score)
   save_figure (h, f);
 end
 
-function fan_chart (f, tk, t, M, Q, idx, bands, to, yo, tt, yt, name, ylab, xlab, is_param, logy, S)
+function fan_chart (f, tk, t, M, Q, idx, bands, to, yo, tt, yt, name, ylab, xa, is_param, logy, S)
   h = new_figure (tk, [800 450]);
   hold on;
   hs = [];
@@ -727,7 +732,8 @@ function fan_chart (f, tk, t, M, Q, idx, bands, to, yo, tt, yt, name, ylab, xlab
   if (logy)
     set (gca (), 'yscale', 'log');
   end
-  xlabel (xlab);
+  date_ticks (xa, t);
+  xlabel (xa.label);
   ylabel (ylab);
   if (is_param)
     kind = 'parameter';
@@ -739,9 +745,9 @@ function fan_chart (f, tk, t, M, Q, idx, bands, to, yo, tt, yt, name, ylab, xlab
   save_figure (h, f);
 end
 
-function ess_chart (f, tk, rf, xlab)
+function ess_chart (f, tk, rf, xa)
   h = new_figure (tk, [800 400]);
-  t = rf.times;
+  t = xa.x (rf.times);
   N = rf.members;
   hold on;
   hs = plot (t, rf.ess, '-', 'color', palette ('line'), 'linewidth', 1.5);
@@ -768,7 +774,8 @@ function ess_chart (f, tk, rf, xlab)
   hold off;
   tidy_axes ('on');
   ylim ([0, 1.05 * N]);
-  xlabel (xlab);
+  date_ticks (xa, t);
+  xlabel (xa.label);
   ylabel (sprintf ('effective sample size (of %d members)', N));
   title (sprintf ('ESS over time (%s, %d of %d cycles resampled)', ...
                   rf.method_label, sum (r), numel (t)), 'interpreter', 'none');
@@ -786,11 +793,11 @@ function moving = varying_params (rf)
   end
 end
 
-function param_chart (f, tk, rf, idx, bands, truth, opts)
+function param_chart (f, tk, rf, idx, bands, truth, opts, xa)
   ks = find (varying_params (rf))';
   p = numel (ks);
   h = new_figure (tk, [800, 160 + 240 * p]);
-  t = rf.times;
+  t = xa.x (rf.times);
   for j = 1:p
     k = ks(j);
     subplot (p, 1, j);
@@ -806,6 +813,7 @@ function param_chart (f, tk, rf, idx, bands, truth, opts)
     end
     hold off;
     tidy_axes ('on');
+    date_ticks (xa, t);
     ylabel (label (rf.param_names{k}, opts));
     if (j == 1)
       if (bands.outer)
@@ -816,7 +824,7 @@ function param_chart (f, tk, rf, idx, bands, truth, opts)
       title (sprintf ('parameter trajectories: %s', what));
     end
     if (j == p)
-      xlabel (time_label (opts));
+      xlabel (xa.label);
     end
   end
   save_figure (h, f);
@@ -879,11 +887,40 @@ function s = label (name, opts)
   end
 end
 
-function s = time_label (opts)
-  s = 'time';
+function xa = time_axis (rf, opts)
+  % the x axis of the time charts: xa.x maps model times to the values
+  % drawn (themselves, or datenums for a run with a calendar), xa.label
+  % names the axis, xa.dates (1 x T ISO 8601 texts, or {}) go in the tables
+  xa = struct ('dated', false, 'x', @(t) t, 'label', 'time', 'dates', {{}}, ...
+               'origin', '', 'unit', '');
   if (~isempty (opts.time_unit))
-    s = sprintf ('time (%s)', opts.time_unit);
+    xa.label = sprintf ('time (%s)', opts.time_unit);
   end
+  if (isfield (rf, 'time_origin') && ~isempty (rf.time_origin))
+    cal = sluice.kernel.time_origin (rf.time_origin, rf.time_unit, 'report');
+    xa.dated = true;
+    xa.x = @(t) cal.datenum + t * cal.unit_days;
+    xa.label = 'date (UTC)';
+    [~, xa.dates] = sluice.kernel.obsfile ('date', xa.x (rf.times(:)'));
+    xa.origin = cal.text;
+    xa.unit = cal.unit;
+  end
+end
+
+function date_ticks (xa, t)
+  % dates on the x axis, as fine as the span asks
+  if (~xa.dated || isempty (t))
+    return;
+  end
+  span = max (t(:)) - min (t(:));
+  if (span >= 3 * 365)
+    fmt = 'yyyy';
+  elseif (span >= 60)
+    fmt = 'yyyy-mm';
+  else
+    fmt = 'yyyy-mm-dd';
+  end
+  datetick ('x', fmt, 'keeplimits');
 end
 
 function s = safe_name (name)
@@ -906,7 +943,7 @@ function s = qname (p)
   end
 end
 
-function write_series (f, rf, names, n)
+function write_series (f, rf, names, n, xa)
   lv = rf.quantile_levels(:)';
   T = numel (rf.times);
   nq = numel (lv);
@@ -930,9 +967,19 @@ function write_series (f, rf, names, n)
   head = [head, {'ess', 'resampled'}];
   cols = [cols, rf.ess(:), double(rf.resampled(:))];
   fid = open_file (f);
-  fprintf (fid, '%s\n', strjoin (head, ','));
   fmt = [strjoin(repmat ({'%.10g'}, 1, size (cols, 2)), ','), '\n'];
-  fprintf (fid, fmt, cols');
+  if (xa.dated)
+    % the date beside the model time: time,date,...
+    fprintf (fid, '%s\n', strjoin ([head(1), {'date'}, head(2:end)], ','));
+    rest = [strjoin(repmat ({'%.10g'}, 1, size (cols, 2) - 1), ','), '\n'];
+    for i = 1:T
+      fprintf (fid, '%.10g,%s,', cols(i, 1), xa.dates{i});
+      fprintf (fid, rest, cols(i, 2:end));
+    end
+  else
+    fprintf (fid, '%s\n', strjoin (head, ','));
+    fprintf (fid, fmt, cols');
+  end
   fclose (fid);
 end
 
@@ -974,7 +1021,7 @@ function fid = open_file (f)
   end
 end
 
-function write_text (f, rf, opts, bands, tk, scores, have_obs, have_truth)
+function write_text (f, rf, opts, bands, tk, scores, have_obs, have_truth, xa)
   fid = open_file (f);
   heading = opts.title;
   if (isempty (heading) && isfield (rf, 'model'))
@@ -988,6 +1035,10 @@ function write_text (f, rf, opts, bands, tk, scores, have_obs, have_truth)
   end
   t = rf.times;
   fprintf (fid, 'cycles:              %d, times %g to %g\n', numel (t), t(1), t(end));
+  if (xa.dated)
+    fprintf (fid, 'dates:               %s to %s (UTC; time 0 is %s, time in %s)\n', ...
+             xa.dates{1}, xa.dates{end}, xa.origin, xa.unit);
+  end
   if (isfield (rf, 'log_evidence'))
     fprintf (fid, 'log-evidence:        %.10g\n', rf.log_evidence);
   end

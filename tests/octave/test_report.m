@@ -118,3 +118,54 @@
 %!error id=sluice:report:badoption sluice.report (res, 'rank', [1 NaN])
 %!error id=sluice:report:badoption sluice.report (res, 'truth', struct ('times', 1:3, 'X', ones (2, 3)))
 %!error id=sluice:report:badoption sluice.report (res, 'obs', struct ('time', 1))
+
+%!test
+%! % dates through the whole path: observations read with dates (across
+%! % the 29th of February 2004), a run given the same origin, a report
+%! % drawn and written with dates. Expected dates from Octave's datenum
+%! % and datestr (their own calendar), and by hand: day 59 after
+%! % 2004-01-01 is 2004-02-29 (2004 is a leap year, Gregorian rule).
+%! d = tempname ();
+%! mkdir (d);
+%! unwind_protect
+%!   f = fullfile (d, 'gauge.csv');
+%!   fid = fopen (f, 'w');
+%!   fprintf (fid, 'Time;Variable;Value [m];Sigma\n');
+%!   days = [0 30 59 60 90];
+%!   for k = 1:numel (days)
+%!     fprintf (fid, '%s;level;%g;0,4\n', datestr (datenum (2004, 1, 1) + days(k), 'yyyy-mm-dd'), ...
+%!              sin (k / 2));
+%!   end
+%!   fclose (fid);
+%!   ob = sluice.read_obs (f, 'origin', '2004-01-01');
+%!   assert (ob.time', days);
+%!   m = sluice.model ('linear', 'A', 0.99, 'Q', 0.01, 'states', {'level'});
+%!   r = sluice.filter (m, [], ob, 'members', 100, 'seed', 3, 'progress', false, ...
+%!                      'origin', '2004-01-01', 't0', 0);
+%!   assert (r.time_origin, '2004-01-01');
+%!   assert (r.time_unit, 'days');
+%!   assert (r.dates, datenum (2004, 1, 1) + days);
+%!   files = sluice.report (r, 'outdir', fullfile (d, 'out'), 'obs', ob);
+%!   txt = fileread (fullfile (d, 'out', 'summary.csv'));
+%!   lines = strsplit (strtrim (txt), "\n");
+%!   assert (strncmp (lines{1}, 'time,date,level_mean', 20));
+%!   assert (strncmp (lines{4}, '59,2004-02-29,', 14));
+%!   assert (strncmp (lines{6}, '90,2004-03-31,', 14));
+%!   txt = fileread (fullfile (d, 'out', 'summary.txt'));
+%!   assert (~isempty (strfind (txt, 'dates:               2004-01-01 to 2004-03-31')));
+%!   % years as the unit: time 1 is 365.25 days after the origin
+%!   r = sluice.filter (m, [], struct ('time', [1; 2], 'variable', {{'level'; 'level'}}, ...
+%!                      'value', [0.1; 0.2], 'sigma', [1; 1]), 'members', 50, 'seed', 1, ...
+%!                      'progress', false, 'origin', datenum (2000, 1, 1), ...
+%!                      'time_unit', 'years', 't0', 0);
+%!   assert (r.time_origin, '2000-01-01');
+%!   assert (r.dates, datenum (2000, 1, 1) + [365.25 730.5]);
+%! unwind_protect_cleanup
+%!   confirm_recursive_rmdir (false, 'local');
+%!   rmdir (d, 's');
+%! end_unwind_protect
+
+%!error id=sluice:filter:badorigin sluice.filter (sluice.model ('linear', 'A', 1, 'Q', 1), [], struct ('time', 1, 'variable', {{'x1'}}, 'value', 1, 'sigma', 1), 'origin', '2001-02-30', 'progress', false)
+%!error id=sluice:filter:badorigin sluice.filter (sluice.model ('linear', 'A', 1, 'Q', 1), [], struct ('time', 1, 'variable', {{'x1'}}, 'value', 1, 'sigma', 1), 'origin', {1}, 'progress', false)
+%!error id=sluice:filter:badoption sluice.filter (sluice.model ('linear', 'A', 1, 'Q', 1), [], struct ('time', 1, 'variable', {{'x1'}}, 'value', 1, 'sigma', 1), 'origin', '2001-01-01', 'time_unit', 'hours', 'progress', false)
+%!error id=sluice:filter:badoption sluice.filter (sluice.model ('linear', 'A', 1, 'Q', 1), [], struct ('time', 1, 'variable', {{'x1'}}, 'value', 1, 'sigma', 1), 'time_unit', 3, 'progress', false)
