@@ -42,7 +42,7 @@ void mexFunction(int nlhs, mxArray *plhs[], int nrhs, const mxArray *prhs[])
     static const char *fields[] = {"name", "summary", "n_state", "n_min", "states",
                                    "params", "forcings", "events", "x0", "defaults",
                                    "lower", "upper", "dt", "integrator", "has_rhs",
-                                   "has_map"};
+                                   "has_map", "internal"};
     const sl_model_def *def = NULL;
     mxArray *s;
     char *name;
@@ -82,5 +82,13 @@ void mexFunction(int nlhs, mxArray *plhs[], int nrhs, const mxArray *prhs[])
     mxSetField(s, 0, "integrator", mxCreateString(def->integrator != NULL ? def->integrator : ""));
     mxSetField(s, 0, "has_rhs", mxCreateDoubleScalar(def->rhs != NULL));
     mxSetField(s, 0, "has_map", mxCreateDoubleScalar(def->map != NULL || def->map_block != NULL));
+    {
+        mxArray *in = mxCreateLogicalMatrix(def->n_state, 1);
+        mxLogical *f = mxGetLogicals(in);
+        size_t k;
+        for (k = 0; k < def->n_state; k++)
+            f[k] = def->state_internal != NULL && def->state_internal[k] != 0;
+        mxSetField(s, 0, "internal", in);
+    }
     plhs[0] = s;
 }

@@ -95,6 +95,10 @@ struct sl_model_def {
     sl_jump_fn jump;              /* event map, or NULL (n_event = 0) */
     sl_map_block_fn map_block;    /* optional fast path of map */
     size_t (*block_work)(size_t n, size_t count);
+    /* n_state flags, 1 for a state that is the model's own bookkeeping
+     * (GR4J's unit-hydrograph queues): carried and assimilated like the
+     * others, but not drawn or reported unless asked for; NULL: none */
+    const unsigned char *state_internal;
 };
 
 /* What a user's model file (built by sluice.build_model) defines: its

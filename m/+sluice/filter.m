@@ -445,6 +445,10 @@ function res = filter (model, prior, obs, varargin)
     res.dates = opts.calendar.datenum + times * opts.calendar.unit_days;
   end
   res.state_names = model.states;
+  if (isfield (model, 'internal') && any (model.internal))
+    % states that are the model's own bookkeeping: not drawn by default
+    res.internal_states = logical (model.internal(:)');
+  end
   res.param_names = model.params;
   res.quantile_levels = opts.quantiles;
   res.states = struct ('mean', r.mean(1:n, :), 'quantiles', r.quantiles(1:n, :, :));

@@ -56,7 +56,9 @@
 % 20); forcings P (rain) and E (potential evapotranspiration), mm/d;
 % states S and R (stores, mm), the unit-hydrograph queues uh1_1..uh1_20 and
 % uh2_1..uh2_40, and Q, the flow of the latest day (mm/d). A discrete
-% daily map (dt 1).
+% daily map (dt 1). The queues are internal states (@code{internal} of
+% the spec): assimilated like the others, but not drawn by
+% @code{sluice.report} unless asked for.
 % @end table
 %
 % Options of compiled models and right-hand sides: @code{'integrator'}
@@ -90,7 +92,7 @@ function spec = model (kind, varargin)
                  'upper', zeros (0, 1), 'dt', 1, 't0', 0, 'x0', [], ...
                  'integrator', '', 'rtol', 1e-6, 'atol', 1e-9, ...
                  'A', [], 'B', [], 'c', [], 'Q', [], 'L', [], 'fun', [], ...
-                 'handle_kind', '');
+                 'handle_kind', '', 'internal', false (0, 1));
   info = [];
   if (ischar (kind) && strcmp (kind, 'linear'))
     spec.kind = 'linear';
@@ -125,6 +127,9 @@ function spec = model (kind, varargin)
     spec.integrator = info.integrator;
     if (info.n_state > 0)
       spec.x0 = info.x0;
+    end
+    if (isfield (info, 'internal') && numel (info.internal) == numel (info.states))
+      spec.internal = logical (info.internal(:));
     end
   elseif (ischar (kind))
     error ('sluice:model:badmodel', ...
@@ -262,6 +267,10 @@ function spec = model (kind, varargin)
   if (numel (unique (all_names)) ~= numel (all_names))
     error ('sluice:model:badname', ...
            'state, parameter and forcing names must all differ');
+  end
+  % states that are the model's own bookkeeping (not drawn by default)
+  if (~isfield (spec, 'internal') || numel (spec.internal) ~= n)
+    spec.internal = false (n, 1);
   end
 end
 

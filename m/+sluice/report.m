@@ -77,6 +77,10 @@
 % beside @code{time}.
 % @item title
 % a heading for the summary (default the model's name).
+% @item variables
+% cellstr of the states and parameters to draw (default: every state
+% except the model's internal ones, such as GR4J's unit-hydrograph
+% queues, and every parameter that moved). The CSV tables hold them all.
 % @item log_scale
 % cellstr of variables whose fan chart is drawn on a logarithmic axis
 % (for quantities that grow by orders of magnitude, such as settlement
@@ -133,10 +137,11 @@ function files = report (res, varargin)
   n = numel (rf.state_names);
   used = {};
   moving = varying_params (rf);
+  show = shown_variables (rf, opts, names, n);
   sm = smoothed_of (rf);
   for k = 1:numel (names)
-    if (k > n && ~moving(k - n))
-      continue;   % a parameter held fixed has nothing to chart
+    if (~show(k) || (k > n && ~moving(k - n)))
+      continue;   % not asked for, internal, or a parameter held fixed
     end
     if (k <= n)
       M = rf.states.mean(k, :);
@@ -164,9 +169,10 @@ function files = report (res, varargin)
   ess_chart (f, toolkit, rf, xa);
   files{end + 1} = f;
 
+  moving = moving & show(n + 1:end);
   if (any (moving))
     f = fullfile (outdir, 'params.png');
-    param_chart (f, toolkit, rf, idx, bands, truth, opts, xa);
+    param_chart (f, toolkit, rf, idx, bands, truth, opts, xa, moving);
     files{end + 1} = f;
   end
 
@@ -196,7 +202,7 @@ end
 function opts = parse_options (args)
   opts = struct ('outdir', 'out/report', 'obs', [], 'truth', [], 'rank', [], ...
                  'units', struct (), 'time_unit', '', 'title', '', 'log_scale', {{}}, ...
-                 'axes', {{}}, 'scores', {{}});
+                 'axes', {{}}, 'scores', {{}}, 'variables', []);
   args = sluice.kernel.option_pairs (args);
   if (mod (numel (args), 2) ~= 0)
     error ('sluice:report:badoption', ...
@@ -230,6 +236,12 @@ function opts = parse_options (args)
   end
   if (~ischar (opts.time_unit))
     error ('sluice:report:badoption', 'time_unit must be a string');
+  end
+  if (ischar (opts.variables))
+    opts.variables = {opts.variables};
+  end
+  if (~(isempty (opts.variables) && isnumeric (opts.variables)) && ~iscellstr (opts.variables))
+    error ('sluice:report:badoption', 'variables must be a cellstr of state and parameter names');
   end
   if (ischar (opts.log_scale))
     opts.log_scale = {opts.log_scale};
@@ -783,6 +795,25 @@ function ess_chart (f, tk, rf, xa)
   save_figure (h, f);
 end
 
+function show = shown_variables (rf, opts, names, n)
+  % the states and parameters to draw: those asked for, or all but the
+  % model's internal states
+  if (isempty (opts.variables))
+    show = true (numel (names), 1);
+    if (isfield (rf, 'internal_states') && numel (rf.internal_states) == n)
+      show(1:n) = ~logical (rf.internal_states(:));
+    end
+  else
+    [show, ~] = ismember (names(:), opts.variables(:));
+    unknown = setdiff (opts.variables(:), names(:));
+    if (~isempty (unknown))
+      error ('sluice:report:badoption', ...
+             'variables: ''%s'' is not a state or parameter of the run (they are %s)', ...
+             unknown{1}, strjoin (names(:)', ', '));
+    end
+  end
+end
+
 function moving = varying_params (rf)
   % parameters whose ensemble has any spread or change over the run
   p = numel (rf.param_names);
@@ -793,8 +824,8 @@ function moving = varying_params (rf)
   end
 end
 
-function param_chart (f, tk, rf, idx, bands, truth, opts, xa)
-  ks = find (varying_params (rf))';
+function param_chart (f, tk, rf, idx, bands, truth, opts, xa, moving)
+  ks = find (moving)';
   p = numel (ks);
   h = new_figure (tk, [800, 160 + 240 * p]);
   t = xa.x (rf.times);

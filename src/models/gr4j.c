@@ -430,6 +430,11 @@ static const char *const gr4j_forcings[] = {"P", "E"};
 /* stores 60% and 70% full, queues empty */
 static const double gr4j_x0[NSTATE] = {[IS] = 0.6 * REF_X1, [IR] = 0.7 * REF_X3};
 static const double gr4j_p[] = {REF_X1, REF_X2, REF_X3, REF_X4};
+/* the unit-hydrograph queues are internal: S, R and Q are the model's face */
+static const unsigned char gr4j_internal[NSTATE] = {
+    0, 0, 1, 1, 1, 1, 1, 1, 1, 1, 1, 1, 1, 1, 1, 1, 1, 1, 1, 1, 1, 1,
+    1, 1, 1, 1, 1, 1, 1, 1, 1, 1, 1, 1, 1, 1, 1, 1, 1, 1, 1, 1, 1, 1,
+    1, 1, 1, 1, 1, 1, 1, 1, 1, 1, 1, 1, 1, 1, 1, 1, 1, 1, 0};
 static const double gr4j_lo[] = {0.0, -HUGE_VAL, 0.0, 0.5};
 static const double gr4j_hi[] = {HUGE_VAL, HUGE_VAL, HUGE_VAL, 20.0};
 
@@ -441,4 +446,4 @@ const sl_model_def sl_model_gr4j = {
     gr4j_states, gr4j_params, gr4j_forcings, NULL,
     gr4j_x0, gr4j_p, gr4j_lo, gr4j_hi,
     1.0, "discrete",
-    NULL, gr4j_map, NULL, gr4j_block, gr4j_block_work};
+    NULL, gr4j_map, NULL, gr4j_block, gr4j_block_work, gr4j_internal};

@@ -169,3 +169,41 @@
 %!error id=sluice:filter:badorigin sluice.filter (sluice.model ('linear', 'A', 1, 'Q', 1), [], struct ('time', 1, 'variable', {{'x1'}}, 'value', 1, 'sigma', 1), 'origin', {1}, 'progress', false)
 %!error id=sluice:filter:badoption sluice.filter (sluice.model ('linear', 'A', 1, 'Q', 1), [], struct ('time', 1, 'variable', {{'x1'}}, 'value', 1, 'sigma', 1), 'origin', '2001-01-01', 'time_unit', 'hours', 'progress', false)
 %!error id=sluice:filter:badoption sluice.filter (sluice.model ('linear', 'A', 1, 'Q', 1), [], struct ('time', 1, 'variable', {{'x1'}}, 'value', 1, 'sigma', 1), 'time_unit', 3, 'progress', false)
+
+%!test
+%! % a GR4J run: its 60 unit-hydrograph queues are internal states, so the
+%! % report draws S, R and Q only (and the parameters that moved); the
+%! % tables keep every state; 'variables' chooses others
+%! s = sluice.model ('gr4j');
+%! assert (s.internal, strncmp (s.states(:), 'uh', 2));
+%! assert (sum (s.internal), 60);
+%! T = 60; t = (0:T)';
+%! rand ('state', 4);
+%! f = struct ('time', t, 'values', [8 * (rand (T + 1, 1) < 0.3), 2 * ones(T + 1, 1)], ...
+%!             'interp', 'previous');
+%! X = sluice.simulate (s, s.x0, s.defaults, 0:T, f);
+%! ob = struct ('time', (1:T)', 'variable', {repmat({'Q'}, T, 1)}, 'value', X(63, 2:end)', ...
+%!              'sigma', 0.1 * ones (T, 1), 'family', {repmat({'lognormal'}, T, 1)});
+%! pr = sluice.prior ('X1', 'lognormal', [log(350) 0.3]);
+%! r = sluice.filter (s, pr, ob, 'members', 100, 'seed', 2, 't0', 0, 'forcing', f, ...
+%!                    'progress', false);
+%! assert (r.internal_states, s.internal');
+%! d = tempname ();
+%! unwind_protect
+%!   files = sluice.report (r, 'outdir', d, 'obs', ob);
+%!   [~, nm] = cellfun (@fileparts, files, 'UniformOutput', false);
+%!   assert (sort (nm(strncmp (nm, 'fan_', 4))), {'fan_Q'; 'fan_R'; 'fan_S'; 'fan_X1'});
+%!   head = fgetl_first (fullfile (d, 'summary.csv'));
+%!   assert (~isempty (strfind (head, 'uh2_40_mean')));
+%!   files = sluice.report (r, 'outdir', fullfile (d, 'b'), 'variables', {'Q', 'uh1_3'});
+%!   [~, nm] = cellfun (@fileparts, files, 'UniformOutput', false);
+%!   assert (sort (nm(strncmp (nm, 'fan_', 4))), {'fan_Q'; 'fan_uh1_3'});
+%!   assert (~any (strcmp (nm, 'params')));
+%! unwind_protect_cleanup
+%!   confirm_recursive_rmdir (false, 'local');
+%!   rmdir (d, 's');
+%! end_unwind_protect
+
+%!error id=sluice:report:badoption sluice.report (res, 'outdir', tempname (), 'variables', {'nosuch'})
+%!error id=sluice:report:badoption sluice.report (res, 'outdir', tempname (), 'variables', 3)
+%!error id=sluice:filter:badmodel sluice.filter (setfield (sluice.model ('gr4j'), 'internal', 1), [], struct ('time', 1, 'variable', {{'Q'}}, 'value', 1, 'sigma', 1), 'progress', false)

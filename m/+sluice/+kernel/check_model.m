@@ -83,6 +83,11 @@ function check_model (model, pos, fn)
     otherwise
       check_compiled (model, n, p, q, where, id);
   end
+  if (isfield (model, 'internal') && ...
+      ~((islogical (model.internal) || isnumeric (model.internal)) && ...
+        numel (model.internal) == n && all (model.internal(:) == 0 | model.internal(:) == 1)))
+    error (id, '%s: field ''internal'' must be %d true/false flags, one per state', where, n);
+  end
 end
 
 function tf = is_text (v)
