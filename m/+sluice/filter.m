@@ -623,9 +623,8 @@ function opts = parse_options (args)
   opts.calendar = [];
   if (~(isempty (opts.origin) && isnumeric (opts.origin)))
     opts.calendar = sluice.kernel.time_origin (opts.origin, opts.time_unit, 'filter');
-  elseif (~(ischar (opts.time_unit) && any (strcmpi (opts.time_unit, {'days', 'years'}))))
-    error ('sluice:filter:badoption', ...
-           'option ''time_unit'': expected ''days'' or ''years'' (the model''s time unit)');
+  else
+    sluice.kernel.time_unit (opts.time_unit, 'filter', 'time_unit');
   end
   methods = {'pf', 'wenkf', 'enkf', 'etkf', 'ensrf', 'eakf', 'letkf'};
   if (~ischar (opts.method) || ~any (strcmp (opts.method, methods)))

@@ -115,16 +115,7 @@ function [obs, nmissing, info] = read_obs (filename, varargin)
            'option ''origin'': expected a date such as ''2001-01-01'' or a datenum, got %s', ...
            sluice.kernel.describe (origin));
   end
-  units = {'days', 'years'};
-  unit_days = [1, 365.25];
-  ku = [];
-  if (ischar (opts.unit))
-    ku = find (strcmpi (opts.unit, units));
-  end
-  if (isempty (ku))
-    error ('sluice:read_obs:badoption', ...
-           'option ''unit'': expected ''days'' or ''years''');
-  end
+  [unit_name, unit_days] = sluice.kernel.time_unit (opts.unit, 'read_obs', 'unit');
   if (~ischar (opts.time_numbers) || ~any (strcmpi (opts.time_numbers, {'model', 'datenum'})))
     error ('sluice:read_obs:badoption', ...
            'option ''time_numbers'': expected ''model'' or ''datenum''');
@@ -140,7 +131,7 @@ function [obs, nmissing, info] = read_obs (filename, varargin)
   end
   try
     [obs, nmissing, codes, kinfo] = sluice.kernel.obsfile ('read', filename, origin, ...
-        unit_days(ku), datenums, logical (opts.sort));
+        unit_days, datenums, logical (opts.sort));
   catch err
     % the gateway's name is an internal detail: drop Octave's prefix
     msg = regexprep (err.message, '^obsfile: ', '');
@@ -166,7 +157,7 @@ function [obs, nmissing, info] = read_obs (filename, varargin)
                    'units', kinfo.units, 'separator', kinfo.separator, ...
                    'sorted', kinfo.unsorted);
     if (~strcmp (kinfo.time_form, 'numbers'))
-      info.time_unit = units{ku};
+      info.time_unit = unit_name;
     else
       info.time_origin = '';
     end

@@ -12,16 +12,7 @@ function o = time_origin (origin, unit, fn)
            'option ''origin'': expected a date such as ''2001-01-01'' or a datenum, got %s', ...
            sluice.kernel.describe (origin));
   end
-  units = {'days', 'years'};
-  unit_days = [1, 365.25];
-  k = [];
-  if (ischar (unit))
-    k = find (strcmpi (unit, units));
-  end
-  if (isempty (k))
-    error (['sluice:' fn ':badoption'], ...
-           'option ''time_unit'': expected ''days'' or ''years'' (the model''s time unit)');
-  end
+  [unit, unit_days] = sluice.kernel.time_unit (unit, fn, 'time_unit');
   try
     [dn, text] = sluice.kernel.obsfile ('date', origin);
   catch err
@@ -31,7 +22,7 @@ function o = time_origin (origin, unit, fn)
   if (iscell (text))
     text = text{1};
   end
-  o = struct ('text', text, 'datenum', dn, 'unit', units{k}, 'unit_days', unit_days(k));
+  o = struct ('text', text, 'datenum', dn, 'unit', unit, 'unit_days', unit_days);
 end
 
 %!test
