@@ -81,13 +81,19 @@
 % [] when not asked), @code{seed} and @code{scores}:
 % @table @code
 % @item names
-% (n + p) x 1: the states, then the parameters.
+% (n + p + d) x 1: the states, the parameters, then the d derived
+% quantities of the filter option @code{operators}.
 % @item times
 % the truth's times, where the scores are taken.
 % @item rmse, spread
-% (n + p) x 1: the root-mean-square error of the filter mean against the
-% truth, and the mean width of the filter's 90% band (quantiles 0.05 to
-% 0.95), both over @code{times}.
+% (n + p + d) x 1: the root-mean-square error of the filter mean against
+% the truth, and the mean width of the filter's 90% band (quantiles 0.05
+% to 0.95), both over @code{times}. A derived quantity is scored against
+% its truth (the operator applied to the true states and parameters):
+% the filter mean of a linear one (@code{H}) is H times the mean of the
+% states and parameters; the mean of a function operator (@code{fun})
+% and the band of any derived quantity need the ensemble, which the
+% filter does not summarise, and are NaN.
 % @item openloop_rmse, openloop_spread
 % the same for the open loop (NaN without it).
 % @item param_error, openloop_param_error
@@ -238,14 +244,14 @@ function res = twin (model, truth, network, varargin)
   res.openloop = ro;
   res.seed = seed;
   Xt = truth_all(:, it);
-  sc = struct ('names', {names}, 'times', times);
-  [sc.rmse, sc.spread, sc.param_error] = score (rf, Xt, times, params, n);
+  sc = struct ('names', {[names; ops.names]}, 'times', times);
+  [sc.rmse, sc.spread, sc.param_error] = score (rf, Xt, times, params, ops);
   if (opts.openloop)
     [sc.openloop_rmse, sc.openloop_spread, sc.openloop_param_error] = ...
-        score (ro, Xt, times, params, n);
+        score (ro, Xt, times, params, ops);
   else
-    sc.openloop_rmse = nan (numel (names), 1);
-    sc.openloop_spread = nan (numel (names), 1);
+    sc.openloop_rmse = nan (numel (sc.names), 1);
+    sc.openloop_spread = nan (numel (sc.names), 1);
     sc.openloop_param_error = nan (numel (params), 1);
   end
   res.scores = sc;
@@ -580,17 +586,29 @@ function y = binomial_inverse (u, n, p)
   y = hi;
 end
 
-function [rmse, spread, perr] = score (r, Xt, times, params, n)
+function [rmse, spread, perr] = score (r, Xt, times, params, ops)
+  % rows: the states, the parameters, then the derived quantities. The
+  % filter records no summaries of derived quantities: the mean of a
+  % linear one is H times the mean of the states and parameters (the
+  % weighted mean is linear); a function's mean and every derived band
+  % would need the ensemble, and are NaN
   [~, it] = ismember (times, r.times);
   M = [r.states.mean(:, it); r.params.mean(:, it)];
   Qs = [r.states.quantiles(:, :, it); r.params.quantiles(:, :, it)];
   lo = find (abs (r.quantile_levels - 0.05) < 1e-12, 1);
   hi = find (abs (r.quantile_levels - 0.95) < 1e-12, 1);
-  rmse = sqrt (mean ((M - Xt) .^ 2, 2));
-  width = reshape (Qs(:, hi, :) - Qs(:, lo, :), size (M, 1), []);
-  spread = mean (width, 2);
+  v = size (M, 1);
+  nd = numel (ops.names);
+  nl = size (ops.H, 1);
+  D = nan (nd, numel (it));
+  if (nl > 0)
+    D(1:nl, :) = ops.H * M;
+  end
+  width = reshape (Qs(:, hi, :) - Qs(:, lo, :), v, []);
+  rmse = sqrt (mean (([M; D] - Xt) .^ 2, 2));
+  spread = [mean(width, 2); nan(nd, 1)];
   perr = r.params.mean(:, end) - params(:);
-  if (n + numel (params) == 0)
+  if (v + nd == 0)
     rmse = zeros (0, 1);
     spread = zeros (0, 1);
   end

@@ -113,3 +113,59 @@
 %! assert (r.obs.time', (0:10) / 10, 1e-12);
 %! assert (any (abs (r.filter.times - 0.3) < 1e-12));
 %! assert (r.scores.times, [0 0.5 1]);
+
+%!test
+%! % a derived quantity observed through a linear operator (total of two
+%! % states) is scored against its own truth, H times the true states;
+%! % the filter mean of a linear quantity is H times the state mean (the
+%! % weighted mean is linear: common practice). This call failed with
+%! % nonconformant arguments in the scoring.
+%! spec = sluice.model ('linear', 'A', [0.9 0.1; 0 0.8], 'Q', 0.1);
+%! pr = sluice.prior ('x1', 'normal', [0 2], 'x2', 'normal', [0 2]);
+%! ops = struct ('names', 'total', 'H', [1 1]);
+%! r = sluice.twin (spec, struct ('times', 0:20, 'x0', [2; 1]), ...
+%!                  struct ('variable', 'total', 'every', 1, 'sigma', 0.3), ...
+%!                  'prior', pr, 'filter', {'members', 200, 'operators', ops});
+%! assert (r.scores.names, {'x1'; 'x2'; 'total'});
+%! [~, it] = ismember (0:20, r.filter.times);
+%! m = sum (r.filter.states.mean(:, it), 1);
+%! assert (r.scores.rmse(3), sqrt (mean ((m - sum (r.truth.X, 1)) .^ 2)), 1e-12);
+%! assert (r.scores.rmse(1:2), sqrt (mean ((r.filter.states.mean(:, it) - r.truth.X) .^ 2, 2)), 1e-12);
+%! assert (size (r.scores.spread), [3 1]);
+%! assert (isnan (r.scores.spread(3)) && all (isfinite (r.scores.spread(1:2))));
+%! assert (size (r.scores.openloop_rmse), [3 1]);
+%! assert (r.scores.rmse(3) < r.scores.openloop_rmse(3));
+
+%!test
+%! % a 1-state model with a derived quantity: one row per name (the
+%! % scoring broadcast the 1-row mean against the 2-row truth and scored a
+%! % meaningless extra row). The derived quantity 2.5 x has an RMSE of
+%! % exactly 2.5 times the state's (hand-computed from the definition).
+%! spec = sluice.model ('linear', 'A', 0.9, 'Q', 0.1);
+%! pr = sluice.prior ('x1', 'normal', [0 2]);
+%! ops = struct ('names', 'scaled', 'H', 2.5);
+%! r = sluice.twin (spec, struct ('times', 0:15, 'x0', 2), ...
+%!                  struct ('variable', 'x1', 'every', 1, 'sigma', 0.3), ...
+%!                  'prior', pr, 'openloop', false, ...
+%!                  'filter', {'members', 100, 'operators', ops});
+%! assert (r.scores.names, {'x1'; 'scaled'});
+%! assert (size (r.scores.rmse), [2 1]);
+%! assert (r.scores.rmse(2), 2.5 * r.scores.rmse(1), 1e-12);
+%! assert (size (r.scores.openloop_rmse), [2 1]);
+
+%!test
+%! % a function operator on the flood model, observed by a Poisson count:
+%! % the twin runs and scores states and parameters; the function's mean
+%! % needs the ensemble and is NaN
+%! spec = sluice.model ('flood');
+%! pr = sluice.prior ('H', 'uniform', [0 0.2]);
+%! ops = struct ('names', 'count', 'fun', @(t, X, P) 50 + 100 * X(4, :));
+%! r = sluice.twin (spec, struct ('times', 0:10), ...
+%!                  struct ('variable', 'count', 'every', 5, 'family', 'poisson'), ...
+%!                  'prior', pr, 'openloop', false, ...
+%!                  'filter', {'members', 50, 'operators', ops});
+%! k = numel (spec.states) + numel (spec.params);
+%! assert (numel (r.scores.names), k + 1);
+%! assert (r.scores.names{end}, 'count');
+%! assert (all (isfinite (r.scores.rmse(1:k))));
+%! assert (isnan (r.scores.rmse(end)));
