@@ -36,7 +36,10 @@
 % @item a model spec @var{model} from @code{sluice.model}
 % with @var{obs}, an observation table as @code{sluice.filter} takes it
 % (a struct of columns @code{time}, @code{variable}, @code{value},
-% @code{sigma}; Gaussian rows only; NaN values are skipped and counted).
+% @code{sigma}; Gaussian rows only; rows with a NaN value are missing:
+% skipped and counted, whatever their family, and their sigma may be NaN).
+% For lognormal rows give the function form the logarithms of the values
+% and of the predictions, or use @code{sluice.filter}.
 % An entry of @var{prior} named after a parameter of the model is that
 % parameter's prior, one named after a state the distribution of its
 % initial value; other parameters keep the model's defaults, other
@@ -488,16 +491,39 @@ end
 
 function tab = check_obs (obs, model, t0)
   % the filter's table checks (rows in any order), then what ES-MDA adds:
-  % at least one row, Gaussian rows only
+  % at least one row, Gaussian rows only. A missing row (NaN value) is
+  % skipped whatever its family and needs no sigma (DESIGN.md 2: NaN
+  % value = missing): a NaN sigma there passes the checks as 1 and is
+  % never used
+  if (isstruct (obs) && isscalar (obs) && isfield (obs, 'value') && isfield (obs, 'sigma'))
+    v = obs.value;
+    sg = obs.sigma;
+    if (isa (sg, 'double') && isempty (sg) && isa (v, 'double') && ~isempty (v))
+      sg = nan (size (v));   % a blank sigma column
+    end
+    if (isa (v, 'double') && isa (sg, 'double') && isreal (sg) && ~issparse (sg) && ...
+        isequal (size (v), size (sg)))
+      sg(isnan (v) & isnan (sg)) = 1;
+    end
+    obs.sigma = sg;
+  end
   tab = sluice.kernel.obs_table (obs, [model.states(:); model.params(:)], t0, 'esmda', false);
   if (isempty (tab.time))
     error ('sluice:esmda:badobs', 'the observation table is empty');
   end
-  bad = find (~strcmpi (tab.family, 'gaussian'), 1);
-  if (~isempty (bad))
+  bad = find (~strcmpi (tab.family, 'gaussian') & ~isnan (tab.value), 1);
+  if (~isempty (bad) && strcmpi (tab.family{bad}, 'lognormal'))
     error ('sluice:esmda:badobs', ...
-           'observation row %d: family ''%s''; the smoother takes Gaussian rows only', ...
-           bad, tab.family{bad});
+           ['observation row %d: family ''lognormal'', but ES-MDA takes Gaussian rows only. ', ...
+            'To calibrate on lognormal data, call sluice.esmda (fun, prior, log (value), sigma.^2) ', ...
+            'with fun returning the logarithms of the predictions (log y = log x + sigma z is ', ...
+            'Gaussian in the logarithms), or assimilate the table with sluice.filter, which ', ...
+            'takes every family'], bad);
+  elseif (~isempty (bad))
+    error ('sluice:esmda:badobs', ...
+           ['observation row %d: family ''%s'', but ES-MDA takes Gaussian rows only. ', ...
+            'Assimilate the table with sluice.filter, which takes every family, or give ', ...
+            'the rows as Gaussian with a sigma'], bad, tab.family{bad});
   end
 end
 
