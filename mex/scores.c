@@ -1,15 +1,48 @@
-/* scores.c - gateway: ensemble verification scores, one value per row.
+/* scores.c - gateway: ensemble verification scores and hydrograph skill.
  *   c = sluice.kernel.scores ('crps', X, y)        CRPS of each row
  *   r = sluice.kernel.scores ('rank', X, y, seed)  rank of y, 1 .. N+1
+ *   k = sluice.kernel.scores ('skill', s, o)       skill of s against o
  * X: m x N real double, finite (members as columns); y: m-vector, NaN
  * allowed (NaN score / NaN rank); seed: whole number 0 .. 2^53 that keys
- * the random tie-breaking. Outputs are m x 1. */
+ * the random tie-breaking. Outputs are m x 1. For 'skill', s and o are
+ * real double vectors of one length (o NaN: missing, left out) and k is
+ * 1 x 6: [NSE, KGE, r, alpha, beta, pairs used] (sl_scores_skill). */
 #include "mexutil.h"
 #include "sluice/scores.h"
 
 #include <string.h>
 
 static const char *FN = "scores";
+
+static void skill(int nrhs, mxArray *plhs[], const mxArray *prhs[])
+{
+    const double *sim, *obs;
+    size_t n;
+    double *out;
+    sl_skill k;
+    sl_error err;
+    if (nrhs != 3)
+        slm_fail(FN, "nargin", "'skill' takes 3 input arguments, got %d", nrhs);
+    sim = slm_matrix(FN, prhs[1], 2, "simulated", 0, 0,
+                     SLM_VECTOR | SLM_ALLOW_EMPTY | SLM_ALLOW_NAN | SLM_ALLOW_INF);
+    n = mxGetNumberOfElements(prhs[1]);
+    obs = slm_matrix(FN, prhs[2], 3, "observed", n, 0,
+                     SLM_VECTOR | SLM_ALLOW_EMPTY | SLM_ALLOW_NAN | SLM_ALLOW_INF);
+    if (mxGetNumberOfElements(prhs[2]) != n)
+        slm_fail(FN, "badsize", "argument 3 (observed): expected %lu values, one per simulated value, got %lu",
+                 (unsigned long)n, (unsigned long)mxGetNumberOfElements(prhs[2]));
+    sl_error_clear(&err);
+    if (sl_scores_skill(n, sim, obs, 1, &k, &err) != SL_OK)
+        slm_raise(FN, &err);
+    plhs[0] = slm_create(FN, 1, 6);
+    out = mxGetDoubles(plhs[0]);
+    out[0] = k.nse;
+    out[1] = k.kge;
+    out[2] = k.r;
+    out[3] = k.alpha;
+    out[4] = k.beta;
+    out[5] = (double)k.count;
+}
 
 void mexFunction(int nlhs, mxArray *plhs[], int nrhs, const mxArray *prhs[])
 {
@@ -22,13 +55,18 @@ void mexFunction(int nlhs, mxArray *plhs[], int nrhs, const mxArray *prhs[])
     slm_init();
     slm_nargs(FN, nrhs, 3, 4, nlhs, 1);
     what = slm_string(FN, prhs[0], 1, "score");
+    if (strcmp(what, "skill") == 0) {
+        mxFree(what);
+        skill(nrhs, plhs, prhs);
+        return;
+    }
     if (strcmp(what, "crps") == 0)
         rank = 0;
     else if (strcmp(what, "rank") == 0)
         rank = 1;
     else
         slm_fail(FN, "badscore",
-                 "argument 1 (score): expected 'crps' or 'rank', got '%s'", what);
+                 "argument 1 (score): expected 'crps', 'rank' or 'skill', got '%s'", what);
     mxFree(what);
     if (nrhs != (rank ? 4 : 3))
         slm_fail(FN, "nargin", "'%s' takes %d input arguments, got %d",

@@ -1,4 +1,4 @@
-/* scores.c - ensemble verification: CRPS and the rank of the observation. */
+/* scores.c - verification: CRPS, rank of the observation, hydrograph skill. */
 #include "sluice/scores.h"
 #include "sluice/rng.h"
 
@@ -190,6 +190,76 @@ sl_status sl_scores_rank(size_t m, size_t N, const double *X, size_t ldx,
             below += extra;
         }
         rank[i] = (double)(below + 1);
+    }
+    return SL_OK;
+}
+
+sl_status sl_scores_skill(size_t n, const double *sim, const double *obs,
+                          size_t inc, sl_skill *out, sl_error *err)
+{
+    size_t i, c = 0;
+    double ms = 0, mo = 0, sss = 0, soo = 0, sso = 0, see = 0;
+    double smin = INFINITY, smax = -INFINITY, omin = INFINITY, omax = -INFINITY;
+    out->nse = out->kge = out->r = out->alpha = out->beta = NAN;
+    out->count = 0;
+    if (inc == 0)
+        return sl_fail(err, SL_EINVAL, "badsize", "skill: the stride must be >= 1");
+    /* first pass: check, count and the two means */
+    for (i = 0; i < n; i++) {
+        double o = obs[i * inc], s = sim[i * inc];
+        if (isnan(o))
+            continue;
+        if (!isfinite(o))
+            return sl_fail(err, SL_EINVAL, "nonfinite",
+                           "skill: observation %zu is infinite", i + 1);
+        if (!isfinite(s))
+            return sl_fail(err, SL_EINVAL, "nonfinite",
+                           "skill: the simulated value paired with observation %zu is not finite (%g)",
+                           i + 1, s);
+        c++;
+        ms += s;
+        mo += o;
+        smin = s < smin ? s : smin;
+        smax = s > smax ? s : smax;
+        omin = o < omin ? o : omin;
+        omax = o > omax ? o : omax;
+    }
+    out->count = c;
+    if (c < 2)
+        return SL_OK;
+    ms /= (double)c;
+    mo /= (double)c;
+    /* second pass: centred sums of squares and products, and the
+     * squared errors; a constant series has exactly zero spread (its
+     * rounded mean may differ from its value in the last bit) */
+    for (i = 0; i < n; i++) {
+        double o = obs[i * inc], s = sim[i * inc];
+        double ds, dq;
+        if (isnan(o))
+            continue;
+        ds = smin == smax ? 0 : s - ms;
+        dq = omin == omax ? 0 : o - mo;
+        sss += ds * ds;
+        soo += dq * dq;
+        sso += ds * dq;
+        see += (s - o) * (s - o);
+    }
+    if (soo > 0) {
+        /* Nash & Sutcliffe (1970): 1 - sum (s - o)^2 / sum (o - mean o)^2 */
+        out->nse = 1 - see / soo;
+        /* Gupta et al. (2009) eq. 11: alpha = sigma_s / sigma_o (the same
+         * divisor in both, so it cancels) */
+        out->alpha = sqrt(sss / soo);
+        if (sss > 0)
+            out->r = sso / sqrt(sss * soo);
+    }
+    if (mo != 0)
+        out->beta = ms / mo; /* Gupta et al. (2009) eq. 10: mu_s / mu_o */
+    if (!isnan(out->r) && !isnan(out->alpha) && !isnan(out->beta)) {
+        /* Gupta et al. (2009) eq. 9, the Euclidean distance from the
+         * ideal point (1, 1, 1) */
+        double a = out->r - 1, b = out->alpha - 1, d = out->beta - 1;
+        out->kge = 1 - sqrt(a * a + b * b + d * d);
     }
     return SL_OK;
 }

@@ -1,4 +1,4 @@
-/* scores.h - ensemble verification: CRPS and the rank of the observation. */
+/* scores.h - verification: CRPS, rank of the observation, hydrograph skill. */
 #ifndef SLUICE_SCORES_H
 #define SLUICE_SCORES_H
 
@@ -38,6 +38,33 @@ sl_status sl_scores_crps(size_t m, size_t N, const double *X, size_t ldx,
 sl_status sl_scores_rank(size_t m, size_t N, const double *X, size_t ldx,
                          const double *y, uint64_t seed, double *rank,
                          sl_error *err);
+
+/* Skill of a simulated series against an observed one (hydrograph
+ * skill): the Nash-Sutcliffe efficiency and the Kling-Gupta efficiency
+ * with its three parts. */
+typedef struct {
+    double nse;   /* 1 - sum (s - o)^2 / sum (o - mean o)^2 */
+    double kge;   /* 1 - sqrt ((r - 1)^2 + (alpha - 1)^2 + (beta - 1)^2) */
+    double r;     /* Pearson correlation of s and o */
+    double alpha; /* sd(s) / sd(o) */
+    double beta;  /* mean(s) / mean(o) */
+    size_t count; /* pairs used */
+} sl_skill;
+
+/* Skill of sim[i*inc] against obs[i*inc], i = 0..n-1. A pair whose
+ * observation is NaN (missing) is left out; count says how many were
+ * used. NSE after Nash & Sutcliffe (1970), J. Hydrol. 10, 282-290;
+ * KGE after Gupta, Kling, Yilmaz & Martinez (2009), J. Hydrol. 377,
+ * 80-91 (eq. 9, with alpha and beta of their eq. 10-11: ratios of the
+ * standard deviations and of the means). Means and sums of squares are
+ * formed in two passes. What is undefined is NaN, not an error: with
+ * fewer than 2 pairs everything; with constant observations NSE, r,
+ * alpha and KGE; with a constant simulation r and KGE; with an
+ * observed mean of 0 beta and KGE. Fails (SL_EINVAL, reason
+ * "nonfinite") when an observation is infinite or a simulated value
+ * paired with an observation is not finite; inc must be >= 1. */
+sl_status sl_scores_skill(size_t n, const double *sim, const double *obs,
+                          size_t inc, sl_skill *out, sl_error *err);
 
 #ifdef __cplusplus
 }

@@ -78,6 +78,26 @@
 % @code{d_ob}, @code{cross} (mean of d_oa d_ob) and @code{cross_ratio}
 % (cross / sigma2, near 1); otherwise those fields are empty
 % (@code{has_forecast} false).
+%
+% The observation table also gives hydrograph skill scores, per observed
+% variable, in @code{s.skill}: @code{variables} (1 x v cellstr),
+% @code{count} (the pairs used), @code{nse}, the Nash-Sutcliffe
+% efficiency 1 - sum (m - y)^2 / sum (y - mean y)^2 (Nash & Sutcliffe
+% 1970), and @code{kge}, the Kling-Gupta efficiency
+% 1 - sqrt ((r - 1)^2 + (alpha - 1)^2 + (beta - 1)^2) with its parts
+% @code{r} (the correlation of m and y), @code{alpha} = sd(m) / sd(y) and
+% @code{beta} = mean(m) / mean(y) (Gupta et al. 2009). Both are 1 for a
+% perfect fit; an NSE of 0 is no better than the observed mean. m is the
+% ensemble mean (the weighted mean the filter reports, not the median) at
+% each observation's time: the analysis mean, which has already seen that
+% observation, so the scores flatter the filter; @code{nse_forecast} and
+% @code{kge_forecast} score the forecast mean, which has not, when the
+% result records it (states only; NaN otherwise, @code{has_forecast}).
+% Rows of every family but binomial (whose counts are on another scale
+% than their logit) are used; rows with a NaN value are missing and left
+% out. What a series cannot define (fewer than 2 pairs, constant
+% observations, an observed mean of 0 for beta and KGE, a constant mean
+% for r and KGE) is NaN.
 % @seealso{sluice.filter, sluice.crps, sluice.rank_histogram}
 % @end deftypefn
 function s = scores (res, truth, obs)
@@ -177,6 +197,55 @@ function s = scores (res, truth, obs)
 
   if (nargin == 3)
     s.innovation = innovations (res, obs, has_history);
+    s.skill = hydrograph_skill (res, obs);
+  end
+end
+
+function sk = hydrograph_skill (res, obs)
+  % NSE and KGE of the ensemble mean at the observation times against the
+  % observed values, per observed variable, in the compiled core
+  % (sl_scores_skill: Nash & Sutcliffe 1970; Gupta et al. 2009, eq. 9-11).
+  % Rows with a NaN value are missing and left out; binomial rows are
+  % counts of another scale than their variable (a logit) and left out.
+  names = [res.state_names(:); res.param_names(:)];
+  n = numel (res.state_names);
+  means = [res.states.mean; res.params.mean];
+  nrow = numel (obs.time);
+  fam = repmat ({'gaussian'}, nrow, 1);
+  if (isfield (obs, 'family'))
+    fam = obs.family;
+    if (ischar (fam))
+      fam = repmat ({fam}, nrow, 1);
+    end
+  end
+  use = ~strcmpi (fam(:), 'binomial');
+  [~, vi] = ismember (obs.variable(:), names);
+  [~, ci] = ismember (obs.time(:), res.times(:));
+  has_fc = isfield (res, 'forecast') && isstruct (res.forecast) && ...
+           isfield (res.forecast, 'mean') && isequal (size (res.forecast.mean), size (res.states.mean));
+  vars = unique (obs.variable(use & ~isnan (obs.value(:))));
+  nv = numel (vars);
+  sk = struct ('variables', {vars(:)'}, 'count', zeros (1, nv), 'nse', NaN (1, nv), ...
+               'kge', NaN (1, nv), 'r', NaN (1, nv), 'alpha', NaN (1, nv), ...
+               'beta', NaN (1, nv), 'nse_forecast', NaN (1, nv), 'kge_forecast', NaN (1, nv), ...
+               'has_forecast', has_fc);
+  for j = 1:nv
+    rows = find (use & strcmp (obs.variable(:), vars{j}));
+    o = obs.value(rows);
+    lin = sub2ind (size (means), vi(rows), ci(rows));
+    k = sluice.kernel.scores ('skill', means(lin), o(:));
+    sk.nse(j) = k(1);
+    sk.kge(j) = k(2);
+    sk.r(j) = k(3);
+    sk.alpha(j) = k(4);
+    sk.beta(j) = k(5);
+    sk.count(j) = k(6);
+    if (has_fc && vi(rows(1)) <= n)
+      lin = sub2ind (size (res.forecast.mean), vi(rows), ci(rows));
+      k = sluice.kernel.scores ('skill', res.forecast.mean(lin), o(:));
+      sk.nse_forecast(j) = k(1);
+      sk.kge_forecast(j) = k(2);
+    end
   end
 end
 
@@ -385,6 +454,11 @@ function check_obs (obs)
            ['argument 3 (obs): expected the observation table (struct of equally long ', ...
             'columns time, variable (cellstr), value, sigma)']);
   end
+  bad = find (isinf (obs.value(:)), 1);
+  if (~isempty (bad))
+    error ('sluice:scores:badobs', ...
+           'argument 3 (obs): row %d: value is infinite (NaN marks a missing value)', bad);
+  end
   % a missing value (NaN) needs no sigma
   bad = find (~isnan (obs.value(:)) & ~(isfinite (obs.sigma(:)) & obs.sigma(:) > 0), 1);
   if (~isempty (bad))
@@ -451,6 +525,33 @@ end
 %! assert (all (isnan (s.crps)));
 %! assert ([s.ess_mean s.ess_min s.ess_mean_fraction], [6 2 0.6]);
 %! assert ([s.resampling_rate s.resampled_count], [0.5 2]);
+
+%!test
+%! % hydrograph skill by hand: means m = {1, 2, 3, 4} at t = 1..4 against
+%! % y = {1.5, 2, 2.5, 5}; a missing row (NaN) and a binomial row are left
+%! % out, a lognormal row is used. sum (m - y)^2 = 1.5,
+%! % sum (y - mean y)^2 = 7.25: NSE = 1 - 1.5/7.25 (Nash & Sutcliffe
+%! % 1970); centred products 5.5, sum (m - mean m)^2 = 5: r =
+%! % 5.5/sqrt(5 * 7.25), alpha = sqrt(5/7.25), beta = 2.5/2.75, KGE =
+%! % 1 - sqrt((r-1)^2 + (alpha-1)^2 + (beta-1)^2) (Gupta et al. 2009)
+%! o = struct ('time', [1; 2; 2; 3; 4; 4], 'variable', {repmat({'x'}, 6, 1)}, ...
+%!             'value', [1.5; NaN; 2; 2.5; 5; 7], 'sigma', ones (6, 1), ...
+%!             'family', {{'gaussian'; 'gaussian'; 'lognormal'; 'gaussian'; 'gaussian'; 'binomial'}});
+%! s = sluice.scores (res0, tr0, o);
+%! r = 5.5 / sqrt (5 * 7.25); a = sqrt (5 / 7.25); b = 2.5 / 2.75;
+%! assert (s.skill.variables, {'x'});
+%! assert (s.skill.count, 4);
+%! assert (s.skill.nse, 1 - 1.5 / 7.25, 1e-15);
+%! assert ([s.skill.r s.skill.alpha s.skill.beta], [r a b], 1e-15);
+%! assert (s.skill.kge, 1 - sqrt ((r - 1)^2 + (a - 1)^2 + (b - 1)^2), 1e-15);
+%! assert (~s.skill.has_forecast && isnan (s.skill.nse_forecast));
+%! % a forecast mean equal to the observations scores 1 and 1
+%! rf = res0; rf.forecast = struct ('mean', [1.5 2 2.5 5]);
+%! s = sluice.scores (rf, tr0, o);
+%! assert ([s.skill.nse_forecast s.skill.kge_forecast], [1 1], 1e-15);
+%! % the kernel alone: the same numbers the other way round (C tests)
+%! k = sluice.kernel.scores ('skill', [1.5 2 2.5 5], [1 2 3 4]);
+%! assert (k([1 6]), [0.7 4], 1e-15);
 
 %!test
 %! % history with weights: members {1, 2, 4}, weights {1/2, 1/4, 1/4},
@@ -539,3 +640,9 @@ end
 %!error id=sluice:scores:badobs sluice.scores (res0, tr0, struct ('time', [1 2], 'variable', {{'x'}}, 'value', 1, 'sigma', 1))
 %!error id=sluice:scores:unknownvariable sluice.scores (res0, tr0, struct ('time', 1, 'variable', {{'y'}}, 'value', 1, 'sigma', 1))
 %!error id=sluice:scores:obstimes sluice.scores (res0, tr0, struct ('time', 7, 'variable', {{'x'}}, 'value', 1, 'sigma', 1))
+%!error id=sluice:scores:badobs sluice.scores (res0, tr0, struct ('time', [1; 2], 'variable', {{'x'; 'x'}}, 'value', [1; Inf], 'sigma', [1; 1]))
+%!error id=sluice:scores:badsize sluice.kernel.scores ('skill', [1 2], [1 2 3])
+%!error id=sluice:scores:nonfinite sluice.kernel.scores ('skill', [1 Inf 2], [1 2 3])
+%!error id=sluice:scores:nonfinite sluice.kernel.scores ('skill', [1 2 3], [1 -Inf 3])
+%!error id=sluice:scores:nargin sluice.kernel.scores ('skill', [1 2])
+%!error id=sluice:scores:badclass sluice.kernel.scores ('skill', single ([1 2]), [1 2])

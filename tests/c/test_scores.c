@@ -1,5 +1,6 @@
 /* test_scores.c - ensemble CRPS and observation ranks: hand-computed cases,
- * the Gaussian closed form, the naive double sum, and rank histograms. */
+ * the Gaussian closed form, the naive double sum, and rank histograms;
+ * NSE and KGE against hand-computed cases and their definitions. */
 #include "check.h"
 #include "sluice/scores.h"
 #include "sluice/rng.h"
@@ -323,6 +324,99 @@ int main(void)
                   strcmp(err.reason, "badsize") == 0, "crps: ldx < m");
         CHECK(sl_scores_crps(0, 2, X, 0, y, out, w, &err) == SL_OK, "no rows");
         CHECK(sl_scores_crps_workspace(7) >= 7, "workspace size");
+    }
+
+    /* Hydrograph skill. Hand-computed: o = {1, 2, 3, 4}, s = {1.5, 2,
+     * 2.5, 5}: mean o 2.5, mean s 2.75, sum (o - mean o)^2 = 5,
+     * sum (s - o)^2 = 1.5, sum (s - mean s)^2 = 7.25, sum of the
+     * centred products 5.5. NSE = 1 - 1.5/5 = 0.7 (Nash & Sutcliffe
+     * 1970); r = 5.5/sqrt(7.25 * 5), alpha = sqrt(7.25/5), beta =
+     * 2.75/2.5, KGE = 1 - sqrt((r-1)^2 + (alpha-1)^2 + (beta-1)^2)
+     * (Gupta et al. 2009, eq. 9-11). */
+    {
+        double o[4] = {1, 2, 3, 4}, sm[4] = {1.5, 2, 2.5, 5};
+        double r = 5.5 / sqrt(7.25 * 5), a = sqrt(7.25 / 5), b = 1.1;
+        double kge = 1 - sqrt((r - 1) * (r - 1) + (a - 1) * (a - 1) + (b - 1) * (b - 1));
+        sl_skill k;
+        CHECK(sl_scores_skill(4, sm, o, 1, &k, &err) == SL_OK, "skill: ok");
+        CHECK_CLOSE(k.nse, 0.7, 1e-15, "skill: hand NSE");
+        CHECK_CLOSE(k.r, r, 1e-15, "skill: hand r");
+        CHECK_CLOSE(k.alpha, a, 1e-15, "skill: hand alpha");
+        CHECK_CLOSE(k.beta, b, 1e-15, "skill: hand beta");
+        CHECK_CLOSE(k.kge, kge, 1e-15, "skill: hand KGE");
+        CHECK(k.count == 4, "skill: 4 pairs");
+    }
+    /* Missing observations (NaN) are left out whatever the simulated
+     * value beside them; a stride picks every other entry. */
+    {
+        double o[7] = {NAN, 1, 2, NAN, 3, 4, NAN};
+        double sm[7] = {NAN, 1.5, 2, INFINITY, 2.5, 5, 1e300};
+        double o2[8] = {1, 9, 2, 9, 3, 9, NAN, 9}, s2[8] = {1.5, 0, 2, 0, 2.5, 0, NAN, 0};
+        sl_skill k, k2;
+        CHECK(sl_scores_skill(7, sm, o, 1, &k, &err) == SL_OK && k.count == 4,
+              "skill: NaN observations left out");
+        CHECK_CLOSE(k.nse, 0.7, 1e-15, "skill: NSE with missing rows");
+        CHECK(sl_scores_skill(4, s2, o2, 2, &k2, &err) == SL_OK && k2.count == 3,
+              "skill: stride 2");
+        /* o {1, 2, 3}, s {1.5, 2, 2.5}: sum (s - o)^2 = 0.5, sum (o -
+         * mean o)^2 = 2, NSE 0.75; s - mean s = o - mean o halved: r = 1,
+         * alpha = 1/2, beta = 1, KGE = 1/2 */
+        CHECK_CLOSE(k2.nse, 0.75, 1e-15, "skill: stride NSE");
+        CHECK_CLOSE(k2.r, 1, 1e-15, "skill: stride r");
+        CHECK_CLOSE(k2.kge, 0.5, 1e-15, "skill: stride KGE");
+    }
+    /* By the definitions: a perfect simulation scores NSE = KGE = 1; the
+     * observed mean as simulation scores NSE = 0 (Nash & Sutcliffe
+     * 1970), and has no correlation (r, KGE NaN); s = c o (c > 0) has
+     * r = 1, alpha = beta = c, KGE = 1 - sqrt(2) |c - 1| (Gupta et al.
+     * 2009, eq. 9). High-entropy series from the stream (seed 7). */
+    {
+        enum { T = 257 };
+        double o[T], sm[T], mean = 0, c = 1.37;
+        sl_skill k;
+        sl_stream_init(&s, 7u, 0u, 0u, SL_PURPOSE_USER);
+        for (i = 0; i < T; i++) {
+            o[i] = 3.0 + exp(sl_stream_normal(&s));
+            mean += o[i];
+        }
+        mean /= T;
+        CHECK(sl_scores_skill(T, o, o, 1, &k, &err) == SL_OK, "skill: perfect ok");
+        CHECK_CLOSE(k.nse, 1, 1e-15, "skill: perfect NSE");
+        CHECK_CLOSE(k.kge, 1, 1e-14, "skill: perfect KGE");
+        for (i = 0; i < T; i++)
+            sm[i] = mean;
+        CHECK(sl_scores_skill(T, sm, o, 1, &k, &err) == SL_OK, "skill: mean ok");
+        CHECK_CLOSE(k.nse, 0, 1e-13, "skill: the mean scores NSE 0");
+        CHECK(isnan(k.r) && isnan(k.kge) && k.alpha == 0, "skill: constant simulation");
+        CHECK_CLOSE(k.beta, 1, 1e-14, "skill: the mean's beta");
+        for (i = 0; i < T; i++)
+            sm[i] = c * o[i];
+        CHECK(sl_scores_skill(T, sm, o, 1, &k, &err) == SL_OK, "skill: scaled ok");
+        CHECK_CLOSE(k.r, 1, 1e-14, "skill: scaled r");
+        CHECK_CLOSE(k.alpha, c, 1e-14, "skill: scaled alpha");
+        CHECK_CLOSE(k.beta, c, 1e-14, "skill: scaled beta");
+        CHECK_CLOSE(k.kge, 1 - sqrt(2.0) * (c - 1), 1e-14, "skill: scaled KGE");
+    }
+    /* Undefined parts are NaN, errors are errors. */
+    {
+        double o[3] = {2, 2, 2}, sm[3] = {1, 2, 3}, z[3] = {-1, 0, 1};
+        double inf[3] = {1, INFINITY, 2};
+        sl_skill k;
+        CHECK(sl_scores_skill(3, sm, o, 1, &k, &err) == SL_OK && isnan(k.nse) &&
+                  isnan(k.r) && isnan(k.alpha) && isnan(k.kge) && k.beta == 1,
+              "skill: constant observations");
+        CHECK(sl_scores_skill(3, sm, z, 1, &k, &err) == SL_OK && isnan(k.beta) &&
+                  isnan(k.kge) && isfinite(k.nse), "skill: observed mean 0");
+        CHECK(sl_scores_skill(1, sm, z, 1, &k, &err) == SL_OK && k.count == 1 &&
+                  isnan(k.nse) && isnan(k.kge), "skill: one pair");
+        CHECK(sl_scores_skill(0, sm, z, 1, &k, &err) == SL_OK && k.count == 0,
+              "skill: no pairs");
+        CHECK(sl_scores_skill(3, sm, inf, 1, &k, &err) == SL_EINVAL &&
+                  strcmp(err.reason, "nonfinite") == 0, "skill: infinite observation");
+        CHECK(sl_scores_skill(3, inf, sm, 1, &k, &err) == SL_EINVAL &&
+                  strcmp(err.reason, "nonfinite") == 0, "skill: infinite simulation");
+        CHECK(sl_scores_skill(3, sm, o, 0, &k, &err) == SL_EINVAL &&
+                  strcmp(err.reason, "badsize") == 0, "skill: stride 0");
     }
 
     CHECK_DONE("test_scores");

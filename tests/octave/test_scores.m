@@ -105,3 +105,26 @@
 %! assert (abs (v.cross_ratio - 1) <= 0.15);
 %! printf ('  innovations: mean %.4f, E[d_oa^2]/sigma^2 %.3f (Kalman %.3f), with spread %.3f\n', ...
 %!         v.mean, v.ratio, mean (sig^2 ./ S), v.ratio_with_spread);
+
+%!test
+%! % hydrograph skill of the filter mean against the observations, by the
+%! % definitions written out here: NSE (Nash & Sutcliffe 1970) and KGE
+%! % with r, alpha = sd ratio, beta = mean ratio (Gupta et al. 2009)
+%! s = sluice.scores (r, tr, obs);
+%! [~, ci] = ismember (obs.time, r.times);
+%! y = obs.value;
+%! for src = {'mean', 'forecast'}
+%!   if (strcmp (src{1}, 'mean'))
+%!     m = r.states.mean(1, ci)'; nse = s.skill.nse; kge = s.skill.kge;
+%!   else
+%!     m = r.forecast.mean(1, ci)'; nse = s.skill.nse_forecast; kge = s.skill.kge_forecast;
+%!   end
+%!   c = corrcoef (m, y);
+%!   a = std (m) / std (y); b = mean (m) / mean (y);
+%!   assert (nse, 1 - sum ((m - y) .^ 2) / sum ((y - mean (y)) .^ 2), 1e-12);
+%!   assert (kge, 1 - sqrt ((c(1, 2) - 1)^2 + (a - 1)^2 + (b - 1)^2), 1e-12);
+%! end
+%! assert (s.skill.count, 1000);
+%! % the analysis mean has seen each observation, the forecast mean has
+%! % not: the analysis scores higher (common practice)
+%! assert (s.skill.nse > s.skill.nse_forecast);
