@@ -10,7 +10,7 @@
 %   filter         - Joint estimate of states and parameters (option param_move).
 %   esmda          - Calibrate parameters on a whole record by ES-MDA.
 %   pmmh           - Sample the parameter posterior by particle MCMC.
-%   mcmc_summary   - R-hat, effective sample size and Monte Carlo error of MCMC draws.
+%   chain_summary  - R-hat, effective sample size and Monte Carlo error of MCMC draws.
 %   evidence       - Log-evidence of a record under a model and prior.
 %   drift_test     - Do parameters drift in time? Bayes factors of random walks.
 %

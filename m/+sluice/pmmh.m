@@ -78,7 +78,7 @@
 % ensemble's covariance.
 %
 % Convergence: at the end, the split R-hat and the bulk effective sample
-% size of @code{sluice.mcmc_summary} are checked for every parameter.
+% size of @code{sluice.chain_summary} are checked for every parameter.
 % R-hat above @code{max_rhat} [1.05] warns @code{sluice:pmmh:notconverged},
 % a bulk ESS below @code{min_ess} [400, the number Vehtari et al. 2021,
 % Bayesian Analysis 16, 667-718, ask for] warns @code{sluice:pmmh:lowess};
@@ -156,7 +156,7 @@
 % @code{logpost} (kept rows x chains: the log-evidence estimate and log
 % prior density + log-evidence of each kept state), @code{acceptance}
 % (1 x chains, after the burn-in) and @code{acceptance_burnin},
-% @code{summary} (@code{sluice.mcmc_summary} of the samples; empty with
+% @code{summary} (@code{sluice.chain_summary} of the samples; empty with
 % fewer than 4 kept rows), @code{converged}, @code{max_rhat},
 % @code{min_ess}, @code{target_acceptance}, @code{proposal} (d x d x
 % chains, the proposal covariance at the end, transformed space),
@@ -201,7 +201,7 @@
 % pmmh result, other parameters, an option that cannot change), and the
 % warnings @code{sluice:pmmh:notconverged} and @code{sluice:pmmh:lowess};
 % errors of the filter keep their own identifiers.
-% @seealso{sluice.filter, sluice.prior, sluice.mcmc_summary}
+% @seealso{sluice.filter, sluice.prior, sluice.chain_summary}
 % @end deftypefn
 function res = pmmh (model, prior, obs, varargin)
   if (nargin == 2 && isstruct (model) && isscalar (model) && isfield (model, 'pmmh_job'))
@@ -313,7 +313,7 @@ function res = pmmh (model, prior, obs, varargin)
   end
   res.target_acceptance = S.target;
   if (size (res.samples, 1) >= 4)
-    res.summary = sluice.mcmc_summary (res.samples, 'names', S.names);
+    res.summary = sluice.chain_summary (res.samples, 'names', S.names);
   else
     res.summary = [];
   end

@@ -8,7 +8,7 @@
 % lognormal and of the truncated normal (Johnson, Kotz & Balakrishnan,
 % Continuous Univariate Distributions 1, 2nd ed. 1994, chapters 13-14 and
 % 13.10.1, from memory). Monte Carlo errors of MCMC means come from the
-% effective sample size of sluice.mcmc_summary (Gelman et al., BDA3 11.5).
+% effective sample size of sluice.chain_summary (Gelman et al., BDA3 11.5).
 
 %!function [y, post_mean, post_sd] = ar1_case (T, a_true, Q, R, P0, state)
 %!  % invented data from x_k = a_true x_(k-1) + N(0, Q), y_k = x_k + N(0, R),
@@ -72,7 +72,7 @@
 %! assert (abs (s.mean(1) - post_mean) < 4 * s.mcse(1));
 %! assert (abs (s.sd(1) - post_sd) < 4 * post_sd / sqrt (2 * s.ess(1)));
 %! % g: log g ~ N(0.3, 1)
-%! lg = sluice.mcmc_summary (log (res.samples(:, 2, :)));
+%! lg = sluice.chain_summary (log (res.samples(:, 2, :)));
 %! assert (abs (lg.mean - 0.3) < 4 * lg.mcse);
 %! assert (abs (lg.sd - 1) < 4 / sqrt (2 * lg.ess));
 %! % v: N(0, 1) truncated above at b = 0.5; with lam = phi(b)/Phi(b):
