@@ -115,6 +115,7 @@ static const sl_model_def reservoir = {
     .rhs = NULL,
     .map = reservoir_map,
     .jump = NULL,
+    .state_internal = NULL,       /* flags of bookkeeping states; NULL: none */
 };
 
 /* The one function sluice.build_model looks for. */

@@ -14,7 +14,9 @@
 % parameters, forcings and events, default initial state and parameters,
 % parameter bounds, time step, default integrator and the functions of
 % the dynamics (a right-hand side @code{rhs}, a step map @code{map}, or
-% both; a @code{jump} for models with events). See the README and
+% both; a @code{jump} for models with events), and optionally
+% @code{state_internal}, one flag per state for the model's own
+% bookkeeping that reports leave out. See the README and
 % @file{demos/user_model/reservoir.c} for the whole contract.
 %
 % Two gateways are compiled against the project's library
