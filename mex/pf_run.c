@@ -85,7 +85,8 @@ void mexFunction(int nlhs, mxArray *plhs[], int nrhs, const mxArray *prhs[])
         "steps", "X", "P", "w",
         "history_X", "history_P", "history_w", "history_ancestors",
         "smooth_mean", "smooth_quantiles", "distinct", "spread",
-        "temper_steps", "loglik_evals", "move_sweeps", "move_accept", "param_move"};
+        "temper_steps", "loglik_evals", "move_sweeps", "move_accept", "param_move",
+        "derived_mean", "derived_quantiles"};
     const mxArray *c;
     sl_model model;
     sl_linear lin;
@@ -365,6 +366,9 @@ void mexFunction(int nlhs, mxArray *plhs[], int nrhs, const mxArray *prhs[])
         cfg.lag = (size_t)slm_integer(FN, slm_field(FN, c, "lag", 1), 1, "lag", 0, 4294967295.0);
     cfg.keep_history = history != 0;
     cfg.no_summary = history == 2; /* simulate and propagate read the states only */
+    cfg.derived_summary = !cfg.no_summary && cfg.n_lin + cfg.n_fun > 0 &&
+                          slm_field(FN, c, "derived_summary", 0) != NULL &&
+                          fscalar(c, "derived_summary") != 0;
     slm_poll_init(&poll, (int)slm_integer(FN, slm_field(FN, c, "progress", 1), 1, "progress", 0, 2));
     cfg.poll = slm_poll_fn;
     cfg.poll_ctx = &poll;
@@ -481,6 +485,18 @@ void mexFunction(int nlhs, mxArray *plhs[], int nrhs, const mxArray *prhs[])
             }
             mxSetField(res, 0, "distinct", dv);
             mxSetField(res, 0, "spread", sp);
+        }
+        if (cfg.derived_summary) {
+            /* the derived quantities' summary, laid out as the states' */
+            size_t d = cfg.n_lin + cfg.n_fun;
+            mwSize d3[3];
+            mxArray *dmn = slm_create(FN, d, T), *dq;
+            d3[0] = d; d3[1] = nq; d3[2] = T;
+            dq = mxCreateNumericArray(3, d3, mxDOUBLE_CLASS, mxREAL);
+            out.dmean = mxGetDoubles(dmn);
+            out.dquant = mxGetDoubles(dq);
+            mxSetField(res, 0, "derived_mean", dmn);
+            mxSetField(res, 0, "derived_quantiles", dq);
         }
         if (cfg.lag > 0) {
             mwSize d3[3];

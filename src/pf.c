@@ -70,6 +70,10 @@ static size_t layout(const sl_pf_config *cfg, unsigned char *base,
     carve(base, &off, q * 8, (void **)&b->u0);
     carve(base, &off, m_max * N * 8, (void **)&b->Yhat);
     carve(base, &off, cfg->obs_fn != NULL ? cfg->n_fun * N * 8 : 0, (void **)&b->Yfun);
+    if (cfg->n_lin > big / N / 8 - cfg->n_fun)
+        return 0;
+    carve(base, &off, cfg->derived_summary ? (cfg->n_lin + cfg->n_fun) * N * 8 : 0,
+          (void **)&b->Yd);
     carve(base, &off, N * 8, (void **)&b->ll);
     carve(base, &off, N * 8, (void **)&b->logw);
     carve(base, &off, N * 8, (void **)&b->lw);
@@ -812,6 +816,62 @@ void sl_pfi_summarise(const sl_pf_config *cfg, pf_buffers *b, const double *X,
                             out->quant + row + k * v * nq, v,
                             b->qwork + (size_t)tid * b->qwork_per);
     }
+}
+
+/* The summary of the derived quantities at the end of cycle k (time t),
+ * when the run records it: every member's values (linear rows by H, the
+ * others by one call of the operator function) into Yd (d x N), then the
+ * weighted mean and quantiles of each row. */
+sl_status sl_pfi_summarise_derived(const sl_pf_config *cfg, pf_buffers *b, double t,
+                                   const double *X, const double *P, const double *w,
+                                   sl_pf_output *out, size_t k, sl_error *err)
+{
+    const size_t N = cfg->N, n = cfg->model->n_state, p = cfg->model->n_param;
+    const size_t nl = cfg->n_lin, nf = cfg->n_fun, d = nl + nf, nq = cfg->nq;
+    long r;
+    size_t j;
+    if (!cfg->derived_summary || d == 0)
+        return SL_OK;
+    if (nf > 0) {
+        sl_status st = cfg->obs_fn(cfg->obs_ctx, t, N, X, P, b->Yfun, err);
+        if (st != SL_OK)
+            return st;
+    }
+#pragma omp parallel for num_threads(b->nt) schedule(static)
+    for (j = 0; j < N; j++) {
+        size_t i, l;
+        for (i = 0; i < nl; i++) {
+            const double *h = cfg->H + i;
+            double y = 0.0;
+            for (l = 0; l < n; l++)
+                y += h[l * nl] * X[l + j * n];
+            for (l = 0; l < p; l++)
+                y += h[(n + l) * nl] * P[l + j * p];
+            b->Yd[i + j * d] = y;
+        }
+        for (i = 0; i < nf; i++)
+            b->Yd[nl + i + j * d] = b->Yfun[i + j * nf];
+    }
+#pragma omp parallel for num_threads(b->nt) schedule(dynamic, 1)
+    for (r = 0; r < (long)d; r++) {
+        int tid = 0;
+        size_t row = (size_t)r, i, bad = 0;
+        double *mean = out->dmean + row + k * d, *q = out->dquant + row + k * d * nq;
+#ifdef _OPENMP
+        tid = omp_get_thread_num();
+#endif
+        for (i = 0; i < N && !bad; i++)
+            bad = w[i] > 0 && isnan(b->Yd[row + i * d]);
+        if (bad) {
+            *mean = NAN;
+            for (i = 0; i < nq; i++)
+                q[i * d] = NAN;
+            continue;
+        }
+        sl_weighted_summary(N, b->Yd + row, d, w, nq, cfg->probs, mean, q, d,
+                            b->qwork + (size_t)tid * b->qwork_per);
+    }
+    return SL_OK;
 }
 
 /* Copy member columns by ancestor: dst(:, j) = src(:, anc[j]). */
@@ -1559,6 +1619,10 @@ sl_status sl_pf_run(const sl_pf_config *cfg, double *X, double *P, double *w,
     q = md->n_forcing;
     layout(cfg, (unsigned char *)work, &b);
     b.nt = N >= PAR_MIN_MEMBERS ? cfg->threads : 1;
+    if (cfg->derived_summary && cfg->n_lin + cfg->n_fun > 0 &&
+        (out->dmean == NULL || (cfg->nq > 0 && out->dquant == NULL)))
+        return sl_fail(err, SL_EINVAL, "badconfig",
+                       "a run that summarises derived quantities needs the outputs dmean and dquant");
     if (b.nwin > 0 && (out->smean == NULL || (cfg->nq > 0 && out->squant == NULL)))
         return sl_fail(err, SL_EINVAL, "badconfig",
                        "a run with a lag needs the outputs smean and squant");
@@ -1771,8 +1835,12 @@ sl_status sl_pf_run(const sl_pf_config *cfg, double *X, double *P, double *w,
         ess = ess > 0 ? 1.0 / ess : 0.0;
 
         /* record */
-        if (!cfg->no_summary)
+        if (!cfg->no_summary) {
             sl_pfi_summarise(cfg, &b, Xc, Pc, w, out, k);
+            st = sl_pfi_summarise_derived(cfg, &b, tk, Xc, Pc, w, out, k, err);
+            if (st != SL_OK)
+                return st;
+        }
         /* a particle-filter cycle where no member explains the data has
          * no effective members: its weights are all zero, and the weights
          * kept to go on with must not show it as a healthy ensemble */

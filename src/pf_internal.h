@@ -11,7 +11,7 @@
 typedef struct {
     double *X[2], *Z[2], *P[2], *E[2]; /* ping-pong pairs for resampling */
     unsigned char *dead[2];
-    double *U, *u0, *Yhat, *Yfun, *ll, *logw, *lw, *rwork, *mwork, *qwork;
+    double *U, *u0, *Yhat, *Yfun, *Yd, *ll, *logw, *lw, *rwork, *mwork, *qwork;
     /* ensemble Kalman analysis: augmented ensemble, compacted
      * observations and their positions, live members, the method's work */
     double *A, *Hc, *yc, *rc, *opos, *oc;
@@ -94,6 +94,9 @@ void sl_pfi_loglik_all(const sl_pf_config *cfg, pf_buffers *b, size_t r0,
 void sl_pfi_summarise(const sl_pf_config *cfg, pf_buffers *b, const double *X,
                       const double *P, const double *w, sl_pf_output *out,
                       size_t k);
+sl_status sl_pfi_summarise_derived(const sl_pf_config *cfg, pf_buffers *b, double t,
+                                   const double *X, const double *P, const double *w,
+                                   sl_pf_output *out, size_t k, sl_error *err);
 void sl_pfi_gather_cols(size_t rows, size_t N, const double *src, double *dst,
                         const uint32_t *anc, int threads);
 void sl_pfi_add_state_noise(const sl_pf_config *cfg, pf_buffers *b, double *X,

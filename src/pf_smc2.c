@@ -365,8 +365,13 @@ sl_status sl_pfi_smc2_run(const sl_pf_config *cfg, pf_buffers *b, double *X, dou
         for (j = 0; j < N; j++)
             for (i = 0; i < p; i++)
                 b->vid[0][i + j * p] = gid[i + (j / M) * p];
-        if (!cfg->no_summary)
+        if (!cfg->no_summary) {
+            sl_status sst;
             sl_pfi_summarise(cfg, b, sy.X, sy.P, w, out, k);
+            sst = sl_pfi_summarise_derived(cfg, b, cfg->times[k], sy.X, sy.P, w, out, k, err);
+            if (sst != SL_OK)
+                return sst;
+        }
         out->ess[k] = ess;
         out->skipped[k] = (double)(m - nobs);
         out->nonfinite[k] = (double)ndead;

@@ -71,6 +71,12 @@ typedef struct {
     size_t n_fun;
     sl_obs_fn obs_fn;
     void *obs_ctx;
+    /* 1: record the summary of the n_lin + n_fun derived quantities at the
+     * end of every cycle (out->dmean, out->dquant), as the states': the
+     * linear rows by H, the others by one call of obs_fn per cycle on the
+     * ensemble the cycle ends with. A row where a member of positive
+     * weight has a NaN value gets a NaN mean and NaN quantiles. */
+    int derived_summary;
     sl_forcing forcing;
     const double *state_noise;   /* n standard deviations, or NULL */
     const sl_transform *ptrans;  /* p transforms of the parameters */
@@ -229,6 +235,9 @@ typedef struct {
     double *move_sweeps;  /* T: resample_move sweeps in the cycle, or NULL */
     double *move_accept;  /* T: fraction of its proposals accepted (NaN
                            * when it did not act), or NULL */
+    double *dmean;       /* d x T weighted means of the d = n_lin + n_fun
+                          * derived quantities (with derived_summary) */
+    double *dquant;      /* d x nq x T their weighted quantiles */
     double log_evidence; /* sum of logz */
     size_t steps;        /* model steps taken */
 } sl_pf_output;

@@ -74,7 +74,9 @@
 % compiled code), or @code{fun}, a function handle
 % @code{Y = fun (t, X, P)} returning k x N predicted values for the whole
 % ensemble (X n x N, P p x N; called once per cycle whose observations
-% need it). Rows of the observation table then name them like states. For
+% need it, and once more per cycle for the summary in @code{res.derived}
+% unless @code{derived_summary} is false). Rows of the observation table
+% then name them like states. For
 % the ensemble Kalman methods with localisation, observations of derived
 % quantities need the position columns @code{x} (and @code{y}).
 % @item members
@@ -260,6 +262,11 @@
 % quantile levels to record (default [0.05 0.5 0.95]).
 % @item history
 % true to keep the whole ensemble at every cycle (default false).
+% @item derived_summary
+% true (default) to record the mean and quantiles of every derived
+% quantity of @code{operators} at every cycle (@code{res.derived}); false
+% calls an operator function only at the cycles whose observations need
+% it.
 % @item lag
 % fixed-lag smoothing over that many cycles (a whole number; default 0:
 % off; @code{Inf}: over the whole run). For every cycle s the run also
@@ -305,7 +312,11 @@
 % @code{history} (@code{X} n x N x T, @code{P}, @code{w} N x T,
 % @code{ancestors} N x T, 1-based). @code{forecast.mean} (n x T) and
 % @code{forecast.params} are the means before each update (the forecast),
-% for innovation statistics (@code{sluice.scores}). With @code{lag},
+% for innovation statistics (@code{sluice.scores}). With
+% @code{operators} (and @code{derived_summary} true), @code{derived} has @code{names} (1 x d, linear
+% operators first), @code{mean} (d x T) and @code{quantiles} (d x nq x T):
+% the derived quantities of the ensemble each cycle ends with, weighted
+% as the states (NaN where a member of positive weight gives NaN). With @code{lag},
 % @code{smoothed} has @code{method} (@code{'fixed_lag'} for the particle
 % filter, @code{'enks'} for the ensemble Kalman methods), @code{lag},
 % @code{states.mean}, @code{states.quantiles}, @code{params.mean} and
@@ -381,6 +392,7 @@ function res = filter (model, prior, obs, varargin)
   c.op_H = ops.H;
   c.op_funs = ops.funs;
   c.op_rows = ops.rows;
+  c.derived_summary = double (opts.derived_summary && ~isempty (ops.names));
   c.state_noise = expand (opts.state_noise, n, 'state_noise');
   if (all (c.state_noise == 0))
     c.state_noise = [];
@@ -457,6 +469,11 @@ function res = filter (model, prior, obs, varargin)
                        'distinct', r.distinct, 'spread', r.spread);
   res.forecast = struct ('mean', r.forecast_mean(1:n, :), ...
                          'params', r.forecast_mean(n+1:end, :));
+  if (c.derived_summary)
+    % the derived quantities of the option operators, summarised as the states
+    res.derived = struct ('names', {ops.names(:)'}, 'mean', r.derived_mean, ...
+                          'quantiles', r.derived_quantiles);
+  end
   res.ess = r.ess;
   res.resampled = logical (r.resampled);
   res.degenerate = logical (r.degenerate);
@@ -618,7 +635,7 @@ function opts = parse_options (args)
                  'history', false, 'threads', 0, 'progress', 'auto', ...
                  'inflation', 1, 'rtpp', 0, 'rtps', 0, 'adaptive_inflation', false, ...
                  'inflation_max', 2, 'localization', [], 'operators', [], 'lag', 0, ...
-                 'origin', [], 'time_unit', 'days');
+                 'origin', [], 'time_unit', 'days', 'derived_summary', true);
   opts = sluice.kernel.name_value (opts, args, 'filter');
   opts.calendar = [];
   if (~(isempty (opts.origin) && isnumeric (opts.origin)))
@@ -746,6 +763,11 @@ function opts = parse_options (args)
     error ('sluice:filter:badoption', 'history must be true or false');
   end
   opts.history = logical (opts.history);
+  if (~(islogical (opts.derived_summary) || isnumeric (opts.derived_summary)) || ...
+      ~isscalar (opts.derived_summary) || isnan (opts.derived_summary))
+    error ('sluice:filter:badoption', 'derived_summary must be true or false');
+  end
+  opts.derived_summary = logical (opts.derived_summary);
   lag = opts.lag;
   if (~isa (lag, 'double') || ~isreal (lag) || ~isscalar (lag) || isnan (lag) || ...
       lag < 0 || (isfinite (lag) && lag ~= fix (lag)))

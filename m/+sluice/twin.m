@@ -89,11 +89,12 @@
 % (n + p + d) x 1: the root-mean-square error of the filter mean against
 % the truth, and the mean width of the filter's 90% band (quantiles 0.05
 % to 0.95), both over @code{times}. A derived quantity is scored against
-% its truth (the operator applied to the true states and parameters):
-% the filter mean of a linear one (@code{H}) is H times the mean of the
-% states and parameters; the mean of a function operator (@code{fun})
-% and the band of any derived quantity need the ensemble, which the
-% filter does not summarise, and are NaN.
+% its truth (the operator applied to the true states and parameters,
+% at every time) through the filter's summary of it (@code{res.derived}).
+% With the filter option @code{derived_summary} false there is no such
+% summary: the mean of a linear one (@code{H}) is then H times the mean
+% of the states and parameters, and the mean of a function operator
+% (@code{fun}) and every derived band are NaN.
 % @item openloop_rmse, openloop_spread
 % the same for the open loop (NaN without it).
 % @item param_error, openloop_param_error
@@ -178,7 +179,8 @@ function res = twin (model, truth, network, varargin)
   end
   truth_all = [Xall; repmat(params(:), 1, numel (tall))];
   if (~isempty (ops.names))
-    truth_all = [truth_all; derived_truth(ops, model, tall, Xall, params, net, numel (names))];
+    truth_all = [truth_all; derived_truth(ops, model, tall, Xall, params, net, numel (names), ...
+                                          summarised (opts.filter))];
   end
 
   obs = synthesize (net, [names; ops.names], tall, truth_all, seed_obs);
@@ -268,9 +270,22 @@ function v = filter_option (fo, name)
   end
 end
 
-function Y = derived_truth (ops, model, tall, Xall, params, net, v)
+function tf = summarised (fo)
+  % whether the filter summarises the derived quantities: its option
+  % derived_summary (default true; the filter checks the value)
+  tf = true;
+  for k = 1:2:numel (fo) - 1
+    if (ischar (fo{k}) && strcmp (fo{k}, 'derived_summary') && isscalar (fo{k + 1}) && ...
+        (islogical (fo{k + 1}) || isnumeric (fo{k + 1})))
+      tf = logical (fo{k + 1});
+    end
+  end
+end
+
+function Y = derived_truth (ops, model, tall, Xall, params, net, v, every)
   % the derived quantities along the truth: linear rows at every time,
-  % function rows only where a series needs them (one call per time)
+  % function rows at every time when the filter summarises them (every),
+  % otherwise only where a series needs them (one call per time)
   T = numel (tall);
   P = repmat (params(:), 1, T);
   if (isempty (P))
@@ -286,6 +301,9 @@ function Y = derived_truth (ops, model, tall, Xall, params, net, v)
     need = false (1, T);
     for e = net(used)
       need = need | ismember (tall, e.times);
+    end
+    if (every)
+      need(:) = true;
     end
     for it = find (need)
       [y, msg, id] = sluice.kernel.observe (ops.funs, ops.rows, tall(it), Xall(:, it), P(:, it));
@@ -587,11 +605,12 @@ function y = binomial_inverse (u, n, p)
 end
 
 function [rmse, spread, perr] = score (r, Xt, times, params, ops)
-  % rows: the states, the parameters, then the derived quantities. The
-  % filter records no summaries of derived quantities: the mean of a
-  % linear one is H times the mean of the states and parameters (the
-  % weighted mean is linear); a function's mean and every derived band
-  % would need the ensemble, and are NaN
+  % rows: the states, the parameters, then the derived quantities, from
+  % the filter's summary of them (res.derived). Without it (the filter
+  % option derived_summary false) the mean of a linear one is H times
+  % the mean of the states and parameters (the weighted mean is linear);
+  % a function's mean and every derived band would need the ensemble,
+  % and are NaN
   [~, it] = ismember (times, r.times);
   M = [r.states.mean(:, it); r.params.mean(:, it)];
   Qs = [r.states.quantiles(:, :, it); r.params.quantiles(:, :, it)];
@@ -605,8 +624,14 @@ function [rmse, spread, perr] = score (r, Xt, times, params, ops)
     D(1:nl, :) = ops.H * M;
   end
   width = reshape (Qs(:, hi, :) - Qs(:, lo, :), v, []);
+  dwidth = nan (nd, 1);
+  if (nd > 0 && isfield (r, 'derived') && ~isempty (r.derived))
+    D = r.derived.mean(:, it);
+    Qd = r.derived.quantiles(:, :, it);
+    dwidth = mean (reshape (Qd(:, hi, :) - Qd(:, lo, :), nd, []), 2);
+  end
   rmse = sqrt (mean (([M; D] - Xt) .^ 2, 2));
-  spread = [mean(width, 2); nan(nd, 1)];
+  spread = [mean(width, 2); dwidth];
   perr = r.params.mean(:, end) - params(:);
   if (v + nd == 0)
     rmse = zeros (0, 1);

@@ -943,6 +943,101 @@ static void check_operators(void)
     free(X0);
 }
 
+/* The summary of the derived quantities (derived_summary): a linear row
+ * 2x and a callback row 3x of the one state. Scaling by a positive factor
+ * keeps the order of the members, so the weighted mean and every weighted
+ * quantile of the derived rows are the state's times the factor (common
+ * practice); the callback runs once per cycle for the summary (no
+ * observation needs it); a failing callback ends the run; a run without
+ * the outputs is refused. */
+static void check_derived_summary(void)
+{
+    enum { N = 2000, T = 3, NQ = 3 };
+    const double y2[T] = {2.0, 4.0, 0.0}, times[T] = {1.0, 2.0, 3.0};
+    const double probs[NQ] = {0.05, 0.5, 0.95};
+    double A = 1.0, L = 1.0, H = 2.0;
+    double *X0 = malloc(N * sizeof *X0);
+    double dmean[2 * T], dquant[2 * NQ * T];
+    sl_linear lin = {1, 0, &A, NULL, NULL, &L};
+    sl_model md;
+    sl_pf_config cfg;
+    obs_table o;
+    scale_ctx sc = {3.0, 0, 0};
+    sl_error err;
+    run_buf r;
+    sl_status st;
+    size_t j, k, q;
+
+    sl_linear_model(&md, &lin, 1.0, &err);
+    for (j = 0; j < N; j++) {
+        sl_stream s;
+        sl_stream_init(&s, 8, (uint32_t)j, 0, SL_PURPOSE_PRIOR);
+        X0[j] = sl_stream_normal(&s);
+    }
+    one_obs_per_cycle(&o, T, y2, 2.0);
+    for (k = 0; k < T; k++)
+        o.var[k] = 1; /* observed through H */
+    base_config(&cfg, &md, N, T, times, &o);
+    cfg.n_lin = 1;
+    cfg.H = &H;
+    cfg.n_fun = 1;
+    cfg.obs_fn = scale_obs;
+    cfg.obs_ctx = &sc;
+    cfg.nq = NQ;
+    cfg.probs = probs;
+    cfg.derived_summary = 1;
+    /* the outputs are missing until run() is given them: refused */
+    st = run(&cfg, X0, &r, &err);
+    CHECK(st == SL_EINVAL && strcmp(err.reason, "badconfig") == 0,
+          "derived_summary without dmean: status %d", (int)st);
+    run_free(&r);
+
+    {
+        /* run() allocates the standard outputs; add the derived ones */
+        size_t bytes = sl_pf_workspace(&cfg);
+        memset(&r, 0, sizeof r);
+        r.out.mean = zalloc(T, sizeof(double));
+        r.out.quant = zalloc(NQ * T, sizeof(double));
+        r.out.ess = zalloc(T, sizeof(double));
+        r.out.logz = zalloc(T, sizeof(double));
+        r.out.resampled = zalloc(T, sizeof(double));
+        r.out.degenerate = zalloc(T, sizeof(double));
+        r.out.skipped = zalloc(T, sizeof(double));
+        r.out.nonfinite = zalloc(T, sizeof(double));
+        r.out.dmean = dmean;
+        r.out.dquant = dquant;
+        r.X = zalloc(N, sizeof(double));
+        r.P = zalloc(1, sizeof(double));
+        r.w = zalloc(N, sizeof(double));
+        r.work = malloc(bytes);
+        memcpy(r.X, X0, N * sizeof(double));
+        st = sl_pf_run(&cfg, r.X, r.P, r.w, r.work, &r.out, &err);
+        CHECK(st == SL_OK, "derived summary run: %s", st ? err.message : "");
+        CHECK(sc.calls == T, "the callback ran %d times for the summary, expected %d",
+              sc.calls, (int)T);
+        for (k = 0; k < T; k++) {
+            CHECK_CLOSE(dmean[0 + 2 * k], 2.0 * r.out.mean[k], 1e-12, "mean of 2x");
+            CHECK_CLOSE(dmean[1 + 2 * k], 3.0 * r.out.mean[k], 1e-12, "mean of 3x");
+            for (q = 0; q < NQ; q++) {
+                CHECK(dquant[0 + 2 * q + 2 * NQ * k] == 2.0 * r.out.quant[q + NQ * k],
+                      "quantile %lu of 2x at cycle %lu", (unsigned long)q, (unsigned long)k);
+                CHECK(dquant[1 + 2 * q + 2 * NQ * k] == 3.0 * r.out.quant[q + NQ * k],
+                      "quantile %lu of 3x at cycle %lu", (unsigned long)q, (unsigned long)k);
+            }
+        }
+        /* a callback failing in the summary ends the run with its status */
+        sc.calls = 0;
+        sc.fail_at = 2;
+        memcpy(r.X, X0, N * sizeof(double));
+        st = sl_pf_run(&cfg, r.X, r.P, r.w, r.work, &r.out, &err);
+        CHECK(st == SL_EMODEL && strcmp(err.reason, "operatorfailed") == 0,
+              "a failing operator in the summary stops the run: status %d", (int)st);
+        r.out.dmean = r.out.dquant = NULL;
+        run_free(&r);
+    }
+    free(X0);
+}
+
 /* Fixed-lag smoothing over the whole run of the worked example: the
  * smoothed means of the Rauch-Tung-Striebel smoother (Rauch, Tung &
  * Striebel 1965), hand-computed: 6/7, 8/7, 4/7; a lag of 1 gives the
@@ -1255,6 +1350,7 @@ int main(void)
     check_resampling();
     check_workspace();
     check_operators();
+    check_derived_summary();
     check_lag();
     CHECK_DONE("test_pf");
 }

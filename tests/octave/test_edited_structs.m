@@ -83,6 +83,8 @@
 %!error id=sluice:scores:badobs o = tw.obs; o.family = repmat ({'gaussian'}, 2, 1); sluice.scores (tw.filter, tw.truth, o)
 %!error id=sluice:smooth:badresult r = res; r.times = {1}; sluice.smooth (r)
 %!error id=sluice:smooth:badresult r = res; r.quantile_levels = [0.5 2]; sluice.smooth (r)
+%!error <derived.mean. must be a real double 1x> r = res; r.derived = struct ('names', {{'d'}}, 'mean', 1, 'quantiles', 1); sluice.report (r, 'outdir', tempname ())
+%!error id=sluice:report:badresult r = res; r.derived = struct ('names', 5); sluice.report (r, 'outdir', tempname ())
 %!error id=sluice:report:badresult r = res; r.state_names{1} = -1; sluice.report (r, 'outdir', tempname ())
 %!error id=sluice:report:badresult r = res; r.members = struct ('a', 1); sluice.report (r, 'outdir', tempname ())
 %!error <res.filter> r = tw; r.filter.ess(end) = []; sluice.report (r, 'outdir', tempname ())

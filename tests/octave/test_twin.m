@@ -132,7 +132,10 @@
 %! assert (r.scores.rmse(3), sqrt (mean ((m - sum (r.truth.X, 1)) .^ 2)), 1e-12);
 %! assert (r.scores.rmse(1:2), sqrt (mean ((r.filter.states.mean(:, it) - r.truth.X) .^ 2, 2)), 1e-12);
 %! assert (size (r.scores.spread), [3 1]);
-%! assert (isnan (r.scores.spread(3)) && all (isfinite (r.scores.spread(1:2))));
+%! assert (all (isfinite (r.scores.spread)));
+%! % the band of the total, from the filter's summary of it
+%! Q = r.filter.derived.quantiles(1, :, it);
+%! assert (r.scores.spread(3), mean (Q(1, 3, :) - Q(1, 1, :)), 1e-12);
 %! assert (size (r.scores.openloop_rmse), [3 1]);
 %! assert (r.scores.rmse(3) < r.scores.openloop_rmse(3));
 
@@ -155,8 +158,9 @@
 
 %!test
 %! % a function operator on the flood model, observed by a Poisson count:
-%! % the twin runs and scores states and parameters; the function's mean
-%! % needs the ensemble and is NaN
+%! % the twin scores states, parameters and the count, whose mean and band
+%! % come from the filter's summary; without that summary
+%! % (derived_summary false) the count's scores are NaN
 %! spec = sluice.model ('flood');
 %! pr = sluice.prior ('H', 'uniform', [0 0.2]);
 %! ops = struct ('names', 'count', 'fun', @(t, X, P) 50 + 100 * X(4, :));
@@ -167,5 +171,14 @@
 %! k = numel (spec.states) + numel (spec.params);
 %! assert (numel (r.scores.names), k + 1);
 %! assert (r.scores.names{end}, 'count');
+%! assert (all (isfinite (r.scores.rmse)) && all (isfinite (r.scores.spread)));
+%! % scored at every time against the operator on the true states
+%! [~, it] = ismember (0:10, r.filter.times);
+%! assert (r.scores.rmse(end), ...
+%!         sqrt (mean ((r.filter.derived.mean(1, it) - (50 + 100 * r.truth.X(4, :))) .^ 2)), 1e-12);
+%! r = sluice.twin (spec, struct ('times', 0:10), ...
+%!                  struct ('variable', 'count', 'every', 5, 'family', 'poisson'), ...
+%!                  'prior', pr, 'openloop', false, ...
+%!                  'filter', {'members', 50, 'operators', ops, 'derived_summary', false});
 %! assert (all (isfinite (r.scores.rmse(1:k))));
-%! assert (isnan (r.scores.rmse(end)));
+%! assert (isnan (r.scores.rmse(end)) && isnan (r.scores.spread(end)));

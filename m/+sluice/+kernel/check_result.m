@@ -114,6 +114,16 @@ function check_result (res, pos, fn, need)
     error (id, '%s: field ''forecast.mean'' must be a real double array, got %s', where, ...
            sluice.kernel.describe (res.forecast.mean));
   end
+  if (isfield (res, 'derived') && ~isempty (res.derived))
+    % the summaries of the option operators' derived quantities
+    dv = res.derived;
+    if (~(isstruct (dv) && isscalar (dv) && isfield (dv, 'names')))
+      error (id, '%s: field ''derived'' must be a struct with names, mean and quantiles, got %s', ...
+             where, sluice.kernel.describe (dv));
+    end
+    d = name_list (dv.names, 'derived.names', where, id);
+    summary (dv, 'derived', d, L, T, where, id);
+  end
   if (isfield (res, 'smoothed') && ~isempty (res.smoothed))
     sm = res.smoothed;
     if (~(isstruct (sm) && isscalar (sm) && isfield (sm, 'states')))
