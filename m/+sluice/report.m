@@ -137,7 +137,8 @@ function files = report (res, varargin)
   n = numel (rf.state_names);
   used = {};
   moving = varying_params (rf);
-  show = shown_variables (rf, opts, names, n);
+  dnames = derived_names (rf);
+  [show, dshow] = shown_variables (rf, opts, names, n, dnames, obs);
   sm = smoothed_of (rf);
   for k = 1:numel (names)
     if (~show(k) || (k > n && ~moving(k - n)))
@@ -164,6 +165,45 @@ function files = report (res, varargin)
                any (strcmp (names{k}, opts.log_scale)), S);
     files{end + 1} = f;
   end
+  % the derived quantities of the filter's operators: by default those
+  % observed, drawn on their own axis with their observations
+  for k = find (dshow(:)')
+    M = rf.derived.mean(k, :);
+    Q = reshape (rf.derived.quantiles(k, :, :), numel (lv), []);
+    [to, yo] = obs_of (obs, dnames{k});
+    base = unique_name (['fan_', safe_name(dnames{k})], used);
+    used{end + 1} = base;
+    f = fullfile (outdir, [base, '.png']);
+    fan_chart (f, toolkit, xa.x (rf.times), M, Q, idx, bands, xa.x (to), yo, [], [], ...
+               dnames{k}, label (dnames{k}, opts), xa, 'derived quantity', ...
+               any (strcmp (dnames{k}, opts.log_scale)), []);
+    files{end + 1} = f;
+  end
+  % binomial counts are not on the axis of the quantity they observe (its
+  % logit): each such variable gets a chart of the counts beside the
+  % predicted count's band
+  all_names = [names; dnames(:)];
+  all_show = [show(:); dshow(:)];
+  counted = {};
+  for k = find (all_show(:)')
+    c = counts_of (obs, all_names{k});
+    if (isempty (c.time))
+      continue;
+    end
+    [~, Q] = summary_of (rf, k, n, numel (names), lv);
+    base = unique_name (['counts_', safe_name(all_names{k})], used);
+    used{end + 1} = base;
+    f = fullfile (outdir, [base, '.png']);
+    count_chart (f, toolkit, xa.x (rf.times), Q, idx, bands, c, xa.x (c.time), ...
+                 all_names{k}, xa);
+    files{end + 1} = f;
+    counted{end + 1} = {k, c, Q};
+  end
+  if (~isempty (counted))
+    f = fullfile (outdir, 'counts.csv');
+    write_counts (f, rf, counted, all_names, idx, xa);
+    files{end + 1} = f;
+  end
 
   f = fullfile (outdir, 'ess.png');
   ess_chart (f, toolkit, rf, xa);
@@ -183,14 +223,14 @@ function files = report (res, varargin)
   end
 
   f = fullfile (outdir, 'summary.csv');
-  write_series (f, rf, names, n, xa);
+  write_series (f, rf, [names; dnames(:)], n, xa);
   files{end + 1} = f;
   f = fullfile (outdir, 'final.csv');
   write_final (f, rf, names, n, idx);
   files{end + 1} = f;
   if (~isempty (sm))
     f = fullfile (outdir, 'smoothed.csv');
-    write_series (f, smoothed_result (rf, sm), names, n, xa);
+    write_series (f, smoothed_result (rf, sm), names, n, xa);   % no smoothed derived quantities
     files{end + 1} = f;
   end
   f = fullfile (outdir, 'summary.txt');
@@ -747,7 +787,9 @@ function fan_chart (f, tk, t, M, Q, idx, bands, to, yo, tt, yt, name, ylab, xa, 
   date_ticks (xa, t);
   xlabel (xa.label);
   ylabel (ylab);
-  if (is_param)
+  if (ischar (is_param))
+    kind = is_param;
+  elseif (is_param)
     kind = 'parameter';
   else
     kind = 'state';
@@ -795,23 +837,132 @@ function ess_chart (f, tk, rf, xa)
   save_figure (h, f);
 end
 
-function show = shown_variables (rf, opts, names, n)
-  % the states and parameters to draw: those asked for, or all but the
-  % model's internal states
+function [show, dshow] = shown_variables (rf, opts, names, n, dnames, obs)
+  % the states and parameters to draw (show) and the derived quantities
+  % (dshow): those asked for, or all but the model's internal states and
+  % the derived quantities that were observed
   if (isempty (opts.variables))
     show = true (numel (names), 1);
     if (isfield (rf, 'internal_states') && numel (rf.internal_states) == n)
       show(1:n) = ~logical (rf.internal_states(:));
     end
+    dshow = false (numel (dnames), 1);
+    if (~isempty (obs))
+      v = obs.variable;
+      if (ischar (v))
+        v = {v};
+      end
+      % strcmp, not ismember: an edited table may hold a non-text entry
+      dshow = cellfun (@(d) any (strcmp (v(:), d)), dnames(:));
+    end
   else
     [show, ~] = ismember (names(:), opts.variables(:));
-    unknown = setdiff (opts.variables(:), names(:));
+    [dshow, ~] = ismember (dnames(:), opts.variables(:));
+    known = [names(:); dnames(:)];
+    unknown = setdiff (opts.variables(:), known);
     if (~isempty (unknown))
       error ('sluice:report:badoption', ...
-             'variables: ''%s'' is not a state or parameter of the run (they are %s)', ...
-             unknown{1}, strjoin (names(:)', ', '));
+             'variables: ''%s'' is not a state, parameter or derived quantity of the run (they are %s)', ...
+             unknown{1}, strjoin (known', ', '));
     end
   end
+end
+
+function d = derived_names (rf)
+  % the names of the derived quantities the run summarised (1 x d)
+  d = cell (1, 0);
+  if (isfield (rf, 'derived') && ~isempty (rf.derived))
+    d = rf.derived.names(:)';
+  end
+end
+
+function [M, Q] = summary_of (rf, k, n, v, lv)
+  % mean (1 x T) and quantiles (nq x T) of row k of [states; parameters;
+  % derived quantities]
+  if (k <= n)
+    s = rf.states;
+  elseif (k <= v)
+    s = rf.params;
+    k = k - n;
+  else
+    s = rf.derived;
+    k = k - v;
+  end
+  M = s.mean(k, :);
+  Q = reshape (s.quantiles(k, :, :), numel (lv), []);
+end
+
+function c = counts_of (obs, name)
+  % the binomial rows observing name: times, counts and trials. Their
+  % value is a count of n, the quantity observed the logit of the share
+  c = struct ('time', zeros (1, 0), 'y', zeros (1, 0), 'n', zeros (1, 0));
+  if (isempty (obs) || ~isfield (obs, 'family') || ~isfield (obs, 'n'))
+    return;
+  end
+  v = obs.variable;
+  fam = obs.family;
+  if (ischar (v))
+    v = {v};
+  end
+  if (ischar (fam))
+    fam = repmat ({fam}, numel (obs.value), 1);
+  end
+  if (~iscellstr (fam) || numel (fam) ~= numel (obs.value) || numel (obs.n) ~= numel (obs.value))
+    return;
+  end
+  sel = strcmp (v(:), name) & strcmpi (fam(:), 'binomial') & isfinite (obs.value(:));
+  c.time = reshape (obs.time(sel), 1, []);
+  c.y = reshape (obs.value(sel), 1, []);
+  c.n = reshape (obs.n(sel), 1, []);
+end
+
+function count_chart (f, tk, t, Q, idx, bands, c, tc, name, xa)
+  % binomial counts beside the band of the predicted count n p, p = 1 /
+  % (1 + exp(-x)) of the quantity x observed (a monotone map, so the
+  % quantiles of x map to those of n p); with trials that differ between
+  % rows, shares y / n beside the band of p
+  same_n = all (c.n == c.n(1));
+  scale = 1;
+  what = 'share answering yes';
+  if (same_n)
+    scale = c.n(1);
+    what = sprintf ('count (of %d)', scale);
+  end
+  P = scale ./ (1 + exp (-Q));
+  y = c.y;
+  if (~same_n)
+    y = c.y ./ c.n;
+  end
+  h = new_figure (tk, [800 450]);
+  hold on;
+  hs = [];
+  leg = {};
+  if (bands.outer)
+    hb = band (t, P(idx.q05, :), P(idx.q95, :), palette ('outer'));
+    hs(end + 1:end + numel (hb)) = hb;
+    leg(end + 1:end + numel (hb)) = {'90% band'};
+  end
+  if (bands.inner)
+    hb = band (t, P(idx.q25, :), P(idx.q75, :), palette ('inner'));
+    hs(end + 1:end + numel (hb)) = hb;
+    leg(end + 1:end + numel (hb)) = {'50% band'};
+  end
+  if (bands.median)
+    hs(end + 1) = plot (t, P(idx.q50, :), '-', 'color', palette ('line'), 'linewidth', 2);
+    leg{end + 1} = 'median';
+  end
+  hs(end + 1) = plot (tc, y, 's', 'color', palette ('obs'), ...
+                      'markerfacecolor', palette ('obs'), 'markersize', 6);
+  leg{end + 1} = 'observed';
+  hold off;
+  tidy_axes ('on');
+  ylim ([0, scale]);
+  date_ticks (xa, t);
+  xlabel (xa.label);
+  ylabel (what);
+  title (sprintf ('binomial observations of %s: predicted %s', name, what), 'interpreter', 'none');
+  legend (hs, leg, 'location', 'northeastoutside');
+  save_figure (h, f);
 end
 
 function moving = varying_params (rf)
@@ -904,6 +1055,15 @@ function [to, yo] = obs_of (obs, name)
     v = {v};
   end
   sel = strcmp (v(:), name) & isfinite (obs.value(:));
+  c = counts_of (obs, name);
+  if (~isempty (c.time))
+    % binomial counts: drawn on a chart of their own (count_chart)
+    fam = obs.family;
+    if (ischar (fam))
+      fam = repmat ({fam}, numel (obs.value), 1);
+    end
+    sel = sel & ~strcmpi (fam(:), 'binomial');
+  end
   to = obs.time(sel);
   to = to(:)';
   yo = obs.value(sel);
@@ -980,14 +1140,9 @@ function write_series (f, rf, names, n, xa)
   nq = numel (lv);
   head = {'time'};
   cols = rf.times(:);
+  v = n + numel (rf.param_names);   % names: states, parameters, derived quantities
   for k = 1:numel (names)
-    if (k <= n)
-      M = rf.states.mean(k, :);
-      Q = reshape (rf.states.quantiles(k, :, :), nq, T);
-    else
-      M = rf.params.mean(k - n, :);
-      Q = reshape (rf.params.quantiles(k - n, :, :), nq, T);
-    end
+    [M, Q] = summary_of (rf, k, n, v, lv);
     head{end + 1} = [safe_name(names{k}), '_mean'];
     cols = [cols, M(:)];
     for j = 1:nq
@@ -1010,6 +1165,38 @@ function write_series (f, rf, names, n, xa)
   else
     fprintf (fid, '%s\n', strjoin (head, ','));
     fprintf (fid, fmt, cols');
+  end
+  fclose (fid);
+end
+
+function write_counts (f, rf, counted, names, idx, xa)
+  % every binomial observation beside its predicted count: n / (1 +
+  % exp(-x)) at the quantiles of the quantity x observed, at its cycle
+  fid = open_file (f);
+  cols = {'variable', 'time', 'observed', 'trials', 'predicted_q05', 'predicted_median', ...
+          'predicted_q95'};
+  if (xa.dated)
+    cols = [cols(1:2), {'date'}, cols(3:end)];
+  end
+  fprintf (fid, '%s\n', strjoin (cols, ','));
+  for e = counted
+    [k, c, Q] = deal (e{1}{:});
+    [~, it] = ismember (c.time, rf.times);
+    for i = 1:numel (c.time)
+      q = nan (1, 3);
+      lv = {idx.q05, idx.q50, idx.q95};
+      for j = 1:3
+        if (~isempty (lv{j}) && it(i) > 0)
+          q(j) = c.n(i) / (1 + exp (-Q(lv{j}, it(i))));
+        end
+      end
+      fprintf (fid, '%s,%.10g,', names{k}, c.time(i));
+      if (xa.dated)
+        [~, d] = sluice.kernel.obsfile ('date', xa.x (c.time(i)));
+        fprintf (fid, '%s,', d{1});
+      end
+      fprintf (fid, '%.10g,%.10g,%.10g,%.10g,%.10g\n', c.y(i), c.n(i), q);
+    end
   end
   fclose (fid);
 end

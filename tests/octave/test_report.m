@@ -207,3 +207,62 @@
 %!error id=sluice:report:badoption sluice.report (res, 'outdir', tempname (), 'variables', {'nosuch'})
 %!error id=sluice:report:badoption sluice.report (res, 'outdir', tempname (), 'variables', 3)
 %!error id=sluice:filter:badmodel sluice.filter (setfield (sluice.model ('gr4j'), 'internal', 1), [], struct ('time', 1, 'variable', {{'Q'}}, 'value', 1, 'sigma', 1), 'progress', false)
+
+%!test
+%! % derived quantities and binomial counts on their own axes. A state x is
+%! % the logit of a share; a questionnaire of 200 counts answers (binomial,
+%! % logit link: p = 1 / (1 + exp(-x)), McCullagh & Nelder 1989, ch. 4);
+%! % the derived quantity 'twice' = 2 x (linear operator) is observed too,
+%! % 'half' = x / 2 (function operator) is not.
+%! m = sluice.model ('linear', 'A', 0.95, 'Q', 0.02, 'states', {'x'});
+%! T = 30;
+%! tt = [(1:T)'; 10; 20];
+%! vv = [repmat({'twice'}, T, 1); {'x'; 'x'}];
+%! yy = [2 * 0.5 * cos((1:T)' / 6); 130; 90];
+%! fam = [repmat({'gaussian'}, T, 1); {'binomial'; 'binomial'}];
+%! [tt, o] = sort (tt);
+%! ob = struct ('time', tt, 'variable', {vv(o)}, 'value', yy(o), ...
+%!              'sigma', [0.5 * ones(T, 1); NaN; NaN](o), 'family', {fam(o)}, ...
+%!              'n', [nan(T, 1); 200; 200](o));
+%! ops = {struct('names', 'twice', 'H', 2), struct('names', 'half', 'fun', @(t, X, P) X / 2)};
+%! r = sluice.filter (m, sluice.prior ('x', 'normal', [0 1]), ob, 'members', 300, 'seed', 3, ...
+%!                    'operators', ops, 'progress', false);
+%! d = tempname ();
+%! unwind_protect
+%!   files = sluice.report (r, 'outdir', d, 'obs', ob);
+%!   short = cellfun (@(f) fliplr (strtok (fliplr (f), filesep)), files, 'UniformOutput', false);
+%!   assert (all (ismember ({'fan_x.png', 'fan_twice.png', 'counts_x.png', 'counts.csv'}, short)));
+%!   % 'half' was not observed: not drawn unless asked for
+%!   assert (~any (strcmp (short, 'fan_half.png')));
+%!   % the table of counts: each observed count beside n p at the 5%, 50%
+%!   % and 95% quantiles of x at its cycle (p monotone in x)
+%!   fid = fopen (fullfile (d, 'counts.csv'));
+%!   head = fgetl (fid);
+%!   C = textscan (fid, '%s %f %f %f %f %f %f', 'delimiter', ',');
+%!   fclose (fid);
+%!   assert (head, 'variable,time,observed,trials,predicted_q05,predicted_median,predicted_q95');
+%!   assert (C{1}, {'x'; 'x'});
+%!   assert ([C{2:4}], [10 130 200; 20 90 200]);
+%!   for i = 1:2
+%!     k = find (r.times == C{2}(i));
+%!     q = r.states.quantiles(1, :, k);
+%!     assert ([C{5}(i), C{6}(i), C{7}(i)], 200 ./ (1 + exp (-q)), -1e-9);   % %.10g in the file
+%!   end
+%!   % summary.csv carries the derived quantities' columns
+%!   X = dlmread (fullfile (d, 'summary.csv'), ',', 1, 0);
+%!   h = strsplit (fgetl_first (fullfile (d, 'summary.csv')), ',');
+%!   assert (X(:, strcmp (h, 'twice_mean'))', r.derived.mean(1, :), 1e-8);
+%!   assert (X(:, strcmp (h, 'half_q50'))', reshape (r.derived.quantiles(2, 2, :), 1, []), 1e-8);
+%!   % asked for by name, an unobserved derived quantity is drawn
+%!   files = sluice.report (r, 'outdir', d, 'obs', ob, 'variables', {'half'});
+%!   short = cellfun (@(f) fliplr (strtok (fliplr (f), filesep)), files, 'UniformOutput', false);
+%!   assert (any (strcmp (short, 'fan_half.png')));
+%!   assert (~any (strcmp (short, 'fan_x.png')));
+%! unwind_protect_cleanup
+%!   confirm_recursive_rmdir (false, 'local');
+%!   if (exist (d, 'dir'))
+%!     rmdir (d, 's');
+%!   end
+%! end_unwind_protect
+
+%!error <not a state, parameter or derived quantity> sluice.report (res, 'outdir', tempname (), 'variables', {'nothing'})
