@@ -41,6 +41,24 @@
 % The first line holds the column names.
 % @item final.csv
 % the last cycle's mean and 90% interval of every state and parameter.
+% @item fan_<derived>.png
+% for every derived quantity of the filter's @code{operators} that was
+% observed (or named in @code{variables}): its median and bands
+% (@code{res.derived}) with its observations; @code{summary.csv} holds
+% the columns of every derived quantity.
+% @item counts_<name>.png, counts.csv
+% binomial observations (counts y of n trials), which observe the logit x
+% of a share: the counts beside the band of the predicted count
+% n / (1 + exp(-x)), and a table of each count with that prediction's
+% 5%, 50% and 95% points at its cycle. Such counts are not drawn on the
+% fan chart of x.
+% @item skill.csv
+% with observations: per observed variable (binomial counts aside), the
+% Nash-Sutcliffe efficiency and the Kling-Gupta efficiency with its parts
+% r, alpha, beta of the analysis mean, and of the forecast mean where
+% recorded (as @code{sluice.scores}); @code{summary.txt} lists them. The
+% analysis mean has seen the observations it is scored against and
+% flatters the run; the forecast scores have not.
 % @end table
 %
 % A sweep report (@var{res} a table of @code{sluice.sweep}: its columns
@@ -78,9 +96,10 @@
 % @item title
 % a heading for the summary (default the model's name).
 % @item variables
-% cellstr of the states and parameters to draw (default: every state
-% except the model's internal ones, such as GR4J's unit-hydrograph
-% queues, and every parameter that moved). The CSV tables hold them all.
+% cellstr of the states, parameters and derived quantities to draw
+% (default: every state except the model's internal ones, such as GR4J's
+% unit-hydrograph queues, every parameter that moved, and the derived
+% quantities that were observed). The CSV tables hold them all.
 % @item log_scale
 % cellstr of variables whose fan chart is drawn on a logarithmic axis
 % (for quantities that grow by orders of magnitude, such as settlement
@@ -233,8 +252,18 @@ function files = report (res, varargin)
     write_series (f, smoothed_result (rf, sm), names, n, xa);   % no smoothed derived quantities
     files{end + 1} = f;
   end
+  skill = [];
+  if (~isempty (obs))
+    % how well the ensemble mean follows the observations (NSE, KGE)
+    skill = sluice.kernel.hydrograph_skill (rf, obs);
+    if (~isempty (skill.variables))
+      f = fullfile (outdir, 'skill.csv');
+      write_skill (f, skill);
+      files{end + 1} = f;
+    end
+  end
   f = fullfile (outdir, 'summary.txt');
-  write_text (f, rf, opts, bands, toolkit, scores, ~isempty (obs), ~isempty (truth), xa);
+  write_text (f, rf, opts, bands, toolkit, scores, ~isempty (obs), ~isempty (truth), xa, skill);
   files{end + 1} = f;
   files = files(:);
 end
@@ -1239,7 +1268,37 @@ function fid = open_file (f)
   end
 end
 
-function write_text (f, rf, opts, bands, tk, scores, have_obs, have_truth, xa)
+function write_skill (f, sk)
+  fid = open_file (f);
+  fprintf (fid, 'variable,count,nse,kge,r,alpha,beta,nse_forecast,kge_forecast\n');
+  for j = 1:numel (sk.variables)
+    fprintf (fid, '%s,%d,%.10g,%.10g,%.10g,%.10g,%.10g,%.10g,%.10g\n', sk.variables{j}, ...
+             sk.count(j), sk.nse(j), sk.kge(j), sk.r(j), sk.alpha(j), sk.beta(j), ...
+             sk.nse_forecast(j), sk.kge_forecast(j));
+  end
+  fclose (fid);
+end
+
+function skill_text (fid, sk)
+  % the skill scores in the summary: what they are and how to read them
+  if (isempty (sk) || isempty (sk.variables))
+    return;
+  end
+  fprintf (fid, ['\nSkill of the ensemble mean against the observations (Nash-Sutcliffe ', ...
+                 'efficiency NSE; Kling-Gupta efficiency KGE; 1 is a perfect fit, an NSE ', ...
+                 'of 0 no better than the observed mean):\n']);
+  fprintf (fid, '  %-12s %6s %9s %9s %12s %12s\n', 'variable', 'pairs', 'NSE', 'KGE', ...
+           'NSE forecast', 'KGE forecast');
+  for j = 1:numel (sk.variables)
+    fprintf (fid, '  %-12s %6d %9.4f %9.4f %12.4f %12.4f\n', sk.variables{j}, sk.count(j), ...
+             sk.nse(j), sk.kge(j), sk.nse_forecast(j), sk.kge_forecast(j));
+  end
+  fprintf (fid, ['  (the analysis mean has seen each observation it is scored against, so ', ...
+                 'it flatters the run;\n   the forecast mean, before the update, has not: ', ...
+                 'judge a model by the forecast scores)\n']);
+end
+
+function write_text (f, rf, opts, bands, tk, scores, have_obs, have_truth, xa, skill)
   fid = open_file (f);
   heading = opts.title;
   if (isempty (heading) && isfield (rf, 'model'))
@@ -1333,6 +1392,7 @@ function write_text (f, rf, opts, bands, tk, scores, have_obs, have_truth, xa)
     [m, lo, hi] = final_of (rf, k, n, idx);
     fprintf (fid, '  %-12s %.6g  [%.6g, %.6g]\n', rf.state_names{k}, m, lo, hi);
   end
+  skill_text (fid, skill);
   if (~isempty (scores) && isfield (scores, 'rmse'))
     fprintf (fid, '\nScores against the truth:\n');
     fprintf (fid, '  RMSE %.6g, spread %.6g', mean (scores.rmse(:)), mean (scores.spread(:)));

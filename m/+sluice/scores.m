@@ -80,7 +80,8 @@
 % (@code{has_forecast} false).
 %
 % The observation table also gives hydrograph skill scores, per observed
-% variable, in @code{s.skill}: @code{variables} (1 x v cellstr),
+% variable (a state, a parameter, or a derived quantity the result
+% summarises in @code{res.derived}), in @code{s.skill}: @code{variables} (1 x v cellstr),
 % @code{count} (the pairs used), @code{nse}, the Nash-Sutcliffe
 % efficiency 1 - sum (m - y)^2 / sum (y - mean y)^2 (Nash & Sutcliffe
 % 1970), and @code{kge}, the Kling-Gupta efficiency
@@ -197,55 +198,7 @@ function s = scores (res, truth, obs)
 
   if (nargin == 3)
     s.innovation = innovations (res, obs, has_history);
-    s.skill = hydrograph_skill (res, obs);
-  end
-end
-
-function sk = hydrograph_skill (res, obs)
-  % NSE and KGE of the ensemble mean at the observation times against the
-  % observed values, per observed variable, in the compiled core
-  % (sl_scores_skill: Nash & Sutcliffe 1970; Gupta et al. 2009, eq. 9-11).
-  % Rows with a NaN value are missing and left out; binomial rows are
-  % counts of another scale than their variable (a logit) and left out.
-  names = [res.state_names(:); res.param_names(:)];
-  n = numel (res.state_names);
-  means = [res.states.mean; res.params.mean];
-  nrow = numel (obs.time);
-  fam = repmat ({'gaussian'}, nrow, 1);
-  if (isfield (obs, 'family'))
-    fam = obs.family;
-    if (ischar (fam))
-      fam = repmat ({fam}, nrow, 1);
-    end
-  end
-  use = ~strcmpi (fam(:), 'binomial');
-  [~, vi] = ismember (obs.variable(:), names);
-  [~, ci] = ismember (obs.time(:), res.times(:));
-  has_fc = isfield (res, 'forecast') && isstruct (res.forecast) && ...
-           isfield (res.forecast, 'mean') && isequal (size (res.forecast.mean), size (res.states.mean));
-  vars = unique (obs.variable(use & ~isnan (obs.value(:))));
-  nv = numel (vars);
-  sk = struct ('variables', {vars(:)'}, 'count', zeros (1, nv), 'nse', NaN (1, nv), ...
-               'kge', NaN (1, nv), 'r', NaN (1, nv), 'alpha', NaN (1, nv), ...
-               'beta', NaN (1, nv), 'nse_forecast', NaN (1, nv), 'kge_forecast', NaN (1, nv), ...
-               'has_forecast', has_fc);
-  for j = 1:nv
-    rows = find (use & strcmp (obs.variable(:), vars{j}));
-    o = obs.value(rows);
-    lin = sub2ind (size (means), vi(rows), ci(rows));
-    k = sluice.kernel.scores ('skill', means(lin), o(:));
-    sk.nse(j) = k(1);
-    sk.kge(j) = k(2);
-    sk.r(j) = k(3);
-    sk.alpha(j) = k(4);
-    sk.beta(j) = k(5);
-    sk.count(j) = k(6);
-    if (has_fc && vi(rows(1)) <= n)
-      lin = sub2ind (size (res.forecast.mean), vi(rows), ci(rows));
-      k = sluice.kernel.scores ('skill', res.forecast.mean(lin), o(:));
-      sk.nse_forecast(j) = k(1);
-      sk.kge_forecast(j) = k(2);
-    end
+    s.skill = sluice.kernel.hydrograph_skill (res, obs);
   end
 end
 
@@ -295,8 +248,7 @@ end
 
 function inn = innovations (res, obs, has_history)
   check_obs (obs);
-  names = [res.state_names(:); res.param_names(:)];
-  means = [res.states.mean; res.params.mean];
+  [names, means, Q] = sluice.kernel.summaries (res);
   nrow = numel (obs.time);
   keep = ~isnan (obs.value(:));
   skipped_missing = sum (~keep);
@@ -315,7 +267,7 @@ function inn = innovations (res, obs, has_history)
   if (any (~known))
     r = find (~known, 1);
     error ('sluice:scores:unknownvariable', ...
-           'argument 3 (obs): row %d names ''%s'', which is no state or parameter of the result', ...
+           'argument 3 (obs): row %d names ''%s'', which is no state, parameter or derived quantity of the result', ...
            r, obs.variable{r});
   end
   [at, ci] = ismember (obs.time(:), res.times(:));
@@ -340,8 +292,6 @@ function inn = innovations (res, obs, has_history)
   lev = res.quantile_levels(:)';
   [ilo, ihi] = symmetric_pairs (lev);
   if (~isempty (ilo))
-    Q = [reshape(res.states.quantiles, n, numel (lev), []); ...
-         reshape(res.params.quantiles, [], numel (lev), numel (res.times))];
     z = -sqrt (2) * erfcinv (2 * (1 - lev(ilo(1))));   % Phi^-1(1 - a)
     lo = Q(sub2ind (size (Q), vi(rows), repmat (ilo(1), numel (rows), 1), ci(rows)));
     hi = Q(sub2ind (size (Q), vi(rows), repmat (ihi(1), numel (rows), 1), ci(rows)));
@@ -367,7 +317,8 @@ function inn = innovations (res, obs, has_history)
   has_fc = isfield (res, 'forecast') && isstruct (res.forecast) && ...
            isfield (res.forecast, 'mean') && isequal (size (res.forecast.mean), size (res.states.mean));
   if (has_fc)
-    fmeans = [res.forecast.mean; NaN(size (res.params.mean))];
+    % no forecast of the parameters or derived quantities is recorded
+    fmeans = [res.forecast.mean; NaN(size (means, 1) - size (res.forecast.mean, 1), size (means, 2))];
     d_ob = y - reshape (fmeans(lin), [], 1);
   else
     d_ob = [];

@@ -230,3 +230,21 @@
 
 %!error <derived_summary must be true or false> sluice.filter (spec, pr, obs, 'members', 100, 'derived_summary', 'yes')
 %!error id=sluice:filter:badoption sluice.filter (spec, pr, obs, 'members', 100, 'derived_summary', NaN)
+
+%!test
+%! % sluice.scores with observations of a derived quantity: its innovations
+%! % and skill come from the run's summary of it (they were refused as an
+%! % unknown variable). NSE = 1 - sum (m - y)^2 / sum (y - mean y)^2 (Nash
+%! % & Sutcliffe 1970), computed here from res.derived.
+%! r = sluice.filter (spec, pr, obs, 'members', 500, 'seed', 4, 't0', 0, 'progress', false, ...
+%!                    'operators', struct ('names', 'total', 'H', H));
+%! truth = struct ('times', r.times, 'X', zeros (2, T));
+%! s = sluice.scores (r, truth, obs);
+%! assert (s.skill.variables, {'a', 'total'});
+%! sel = strcmp (obs.variable, 'total');
+%! [~, it] = ismember (obs.time(sel), r.times);
+%! m = r.derived.mean(1, it)'; yv = obs.value(sel);
+%! assert (s.skill.nse(2), 1 - sum ((m - yv) .^ 2) / sum ((yv - mean (yv)) .^ 2), 1e-12);
+%! assert (s.skill.count(2), T / 5);
+%! % no forecast mean is recorded for derived quantities
+%! assert (isnan (s.skill.nse_forecast(2)));

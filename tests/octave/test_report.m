@@ -22,7 +22,8 @@
 %! unwind_protect
 %!   files = sluice.report (res, 'outdir', d, 'obs', obs, 'units', struct ('level', 'm'), ...
 %!                          'rank', [4 6 5 7 3]);
-%!   names = {'fan_level.png', 'ess.png', 'rank.png', 'summary.csv', 'final.csv', 'summary.txt'};
+%!   names = {'fan_level.png', 'ess.png', 'rank.png', 'summary.csv', 'final.csv', 'summary.txt', ...
+%!            'skill.csv'};
 %!   assert (sort (cellfun (@(f) [fliplr(strtok (fliplr (f), filesep))], files, ...
 %!                          'UniformOutput', false)), sort (names(:)));
 %!   for k = 1:numel (names)
@@ -266,3 +267,31 @@
 %! end_unwind_protect
 
 %!error <not a state, parameter or derived quantity> sluice.report (res, 'outdir', tempname (), 'variables', {'nothing'})
+
+%!test
+%! % skill.csv and the summary's skill lines hold sluice.scores' NSE and
+%! % KGE of the same observations (those are checked against
+%! % hand-computed cases of Nash & Sutcliffe 1970 and Gupta et al. 2009)
+%! d = tempname ();
+%! unwind_protect
+%!   sluice.report (res, 'outdir', d, 'obs', obs);
+%!   truth = struct ('times', res.times, 'X', zeros (1, numel (res.times)));
+%!   s = sluice.scores (res, truth, obs);
+%!   fid = fopen (fullfile (d, 'skill.csv'));
+%!   head = fgetl (fid);
+%!   C = textscan (fid, '%s %f %f %f %f %f %f %f %f', 'delimiter', ',');
+%!   fclose (fid);
+%!   assert (head, 'variable,count,nse,kge,r,alpha,beta,nse_forecast,kge_forecast');
+%!   assert (C{1}, {'level'});
+%!   assert ([C{2:9}], [s.skill.count, s.skill.nse, s.skill.kge, s.skill.r, s.skill.alpha, ...
+%!                      s.skill.beta, s.skill.nse_forecast, s.skill.kge_forecast], -1e-9);
+%!   txt = fileread (fullfile (d, 'summary.txt'));
+%!   assert (~isempty (strfind (txt, 'Nash-Sutcliffe efficiency')));
+%!   assert (~isempty (regexp (txt, sprintf ('level +%d +%.4f +%.4f', s.skill.count, ...
+%!                                           s.skill.nse, s.skill.kge), 'once')));
+%! unwind_protect_cleanup
+%!   confirm_recursive_rmdir (false, 'local');
+%!   if (exist (d, 'dir'))
+%!     rmdir (d, 's');
+%!   end
+%! end_unwind_protect
