@@ -1,6 +1,12 @@
 /* obsfile.c - gateway: [tab, nmissing, codes, info] =
  * sluice.kernel.obsfile('read', file [, origin, unit_days, datenums, sort]),
  * sluice.kernel.obsfile('write', file, tab),
+ * [tab, info] = sluice.kernel.obsfile('series', file, origin, unit_days,
+ * datenums, sort, fill): a wide series table (fill 'error', 'interpolate'
+ * or 'zero'); tab has time (m x 1), values (m x q), names and units (1 x q
+ * cellstr),
+ * sluice.kernel.obsfile('write_series', file, time, values, names, units,
+ * origin, unit_days): origin '' writes the times as numbers,
  * [dn, text] = sluice.kernel.obsfile('date', x): x one ISO 8601 text or an
  * array of datenums; dn its datenums, text the canonical ISO 8601 text (a
  * string for a text, a cellstr the shape of x for datenums). */
@@ -103,6 +109,45 @@ static mxArray *read_info(const sl_obs_read_opts *o, const sl_obs_size *sz,
     return info;
 }
 
+/* The whole of file, in mxMalloc'd memory; its length in *len. */
+static char *read_whole(const char *fn, const char *file, size_t *len)
+{
+    FILE *fp;
+    long flen;
+    size_t got;
+    char *buf;
+    fp = fopen(file, "rb");
+    if (fp == NULL)
+        slm_fail(fn, "nofile", "cannot open %s: %s", file, strerror(errno));
+    if (fseek(fp, 0, SEEK_END) != 0 || (flen = ftell(fp)) < 0 ||
+        fseek(fp, 0, SEEK_SET) != 0) {
+        int e = errno;
+        fclose(fp);
+        slm_fail(fn, "nofile", "cannot read %s: %s", file, strerror(e));
+    }
+    *len = (size_t)flen;
+    {
+        /* probe the allocation before it can raise with the file open */
+        void *probe = malloc(*len ? *len : 1);
+        if (probe == NULL) {
+            fclose(fp);
+            slm_fail(fn, "nomemory", "cannot hold %s (%.3g bytes) in memory",
+                     file, (double)*len);
+        }
+        free(probe);
+    }
+    buf = mxMalloc(*len ? *len : 1);
+    got = *len ? fread(buf, 1, *len, fp) : 0;
+    if (got != *len || ferror(fp)) {
+        int e = errno;
+        fclose(fp);
+        slm_fail(fn, "nofile", "cannot read %s: %s", file,
+                 e ? strerror(e) : "short read");
+    }
+    fclose(fp);
+    return buf;
+}
+
 /* tab = obsfile('read', file [, origin, unit_days, datenums, sort]);
  * [tab, nmissing, codes, info] = ...: with codes asked for, a text column
  * of tab holds its distinct texts and codes.(name) the 1-based index of
@@ -111,9 +156,7 @@ static void do_read(int nlhs, mxArray *plhs[], int nrhs, const mxArray *prhs[])
 {
     static const char *FN = "read_obs";
     char *file = slm_string(FN, prhs[1], 2, "filename");
-    FILE *fp;
-    long flen;
-    size_t len, got, j, i;
+    size_t len, j, i;
     char *buf;
     sl_obs_read_opts opts;
     sl_obs_size sz;
@@ -128,35 +171,7 @@ static void do_read(int nlhs, mxArray *plhs[], int nrhs, const mxArray *prhs[])
     else
         sl_obs_read_opts_init(&opts);
 
-    fp = fopen(file, "rb");
-    if (fp == NULL)
-        slm_fail(FN, "nofile", "cannot open %s: %s", file, strerror(errno));
-    if (fseek(fp, 0, SEEK_END) != 0 || (flen = ftell(fp)) < 0 ||
-        fseek(fp, 0, SEEK_SET) != 0) {
-        int e = errno;
-        fclose(fp);
-        slm_fail(FN, "nofile", "cannot read %s: %s", file, strerror(e));
-    }
-    len = (size_t)flen;
-    {
-        /* probe the allocation before it can raise with the file open */
-        void *probe = malloc(len ? len : 1);
-        if (probe == NULL) {
-            fclose(fp);
-            slm_fail(FN, "nomemory", "cannot hold %s (%.3g bytes) in memory",
-                     file, (double)len);
-        }
-        free(probe);
-    }
-    buf = mxMalloc(len ? len : 1);
-    got = len ? fread(buf, 1, len, fp) : 0;
-    if (got != len || ferror(fp)) {
-        int e = errno;
-        fclose(fp);
-        slm_fail(FN, "nofile", "cannot read %s: %s", file,
-                 e ? strerror(e) : "short read");
-    }
-    fclose(fp);
+    buf = read_whole(FN, file, &len);
 
     if (sl_obsfile_measure_with(buf, len, &opts, &sz, &err) != SL_OK)
         raise_in(FN, file, &err);
@@ -333,6 +348,191 @@ static void do_write(int nlhs, const mxArray *farg, const mxArray *t)
         slm_fail(FN, "writefail", "cannot write %s: %s", file, strerror(errno));
 }
 
+/* A cellstr of n strings s[k] (NUL-terminated, at base + at[k]). */
+static mxArray *cellstr_row(const char *base, const size_t *at, size_t n)
+{
+    mxArray *c = mxCreateCellMatrix(1, n);
+    size_t k;
+    for (k = 0; k < n; k++)
+        mxSetCell(c, k, mxCreateString(base + at[k]));
+    return c;
+}
+
+/* [tab, info] = obsfile('series', file, origin, unit_days, datenums, sort, fill) */
+static void do_series(int nlhs, mxArray *plhs[], const mxArray *prhs[])
+{
+    static const char *FN = "read_forcing";
+    static const char *tfields[4] = {"time", "values", "names", "units"};
+    static const char *ifields[8] = {"separator", "time_form", "time_origin",
+                                     "origin_datenum", "unsorted", "unsorted_line",
+                                     "nmissing", "filled"};
+    char *file = slm_string(FN, prhs[1], 2, "filename");
+    char *fill, sep[3] = {'\0', '\0', '\0'}, origin[64] = "";
+    size_t len, nv, k;
+    char *buf;
+    sl_obs_read_opts ro;
+    sl_series_read_opts so;
+    sl_series_size sz;
+    sl_series_table tab;
+    sl_error err;
+    mxArray *out, *t, *v, *info, *filled;
+    int dated;
+
+    read_options(FN, prhs + 2, &ro);
+    sl_series_read_opts_init(&so);
+    so.sort_rows = ro.sort_rows;
+    so.datenums = ro.datenums;
+    so.has_origin = ro.has_origin;
+    so.origin = ro.origin;
+    so.unit_days = ro.unit_days;
+    fill = slm_string(FN, prhs[6], 7, "fill");
+    if (strcmp(fill, "error") == 0)
+        so.fill = SL_FILL_NONE;
+    else if (strcmp(fill, "interpolate") == 0)
+        so.fill = SL_FILL_INTERPOLATE;
+    else if (strcmp(fill, "zero") == 0)
+        so.fill = SL_FILL_ZERO;
+    else
+        slm_fail(FN, "badoption",
+                 "argument 7 (fill): expected 'error', 'interpolate' or 'zero', got '%s'",
+                 fill);
+
+    buf = read_whole(FN, file, &len);
+    if (sl_obsfile_measure_series(buf, len, &so, &sz, &err) != SL_OK)
+        raise_in(FN, file, &err);
+    memset(&tab, 0, sizeof tab);
+    if (sl_size_mul(sz.rows, sz.cols, &nv))
+        slm_fail(FN, "nomemory", "the table of %s is too large", file);
+    tab.names = slm_alloc(FN, sz.name_bytes, 1);
+    tab.name_at = slm_alloc(FN, sz.cols, sizeof(size_t));
+    tab.units = slm_alloc(FN, sz.unit_bytes, 1);
+    tab.unit_at = slm_alloc(FN, sz.cols, sizeof(size_t));
+    tab.filled = slm_alloc(FN, sz.cols, sizeof(size_t));
+    tab.work = slm_alloc(FN, sz.work_bytes, 1);
+    t = slm_create(FN, sz.rows, 1);
+    v = slm_create(FN, sz.rows, sz.cols);
+    tab.time = mxGetDoubles(t);
+    tab.values = mxGetDoubles(v);
+    if (sl_obsfile_parse_series(buf, len, &so, &sz, &tab, &err) != SL_OK)
+        raise_in(FN, file, &err);
+    mxFree(buf);
+
+    out = mxCreateStructMatrix(1, 1, 4, tfields);
+    mxSetFieldByNumber(out, 0, 0, t);
+    mxSetFieldByNumber(out, 0, 1, v);
+    mxSetFieldByNumber(out, 0, 2, cellstr_row(tab.names, tab.name_at, sz.cols));
+    mxSetFieldByNumber(out, 0, 3, cellstr_row(tab.units, tab.unit_at, sz.cols));
+    plhs[0] = out;
+    if (nlhs < 2)
+        return;
+    dated = sz.time_form != SL_OBS_TIME_NUMBERS && so.has_origin;
+    if (dated)
+        sl_date_format(so.origin, origin, sizeof origin);
+    sep[0] = sz.sep;
+    info = mxCreateStructMatrix(1, 1, 8, ifields);
+    mxSetFieldByNumber(info, 0, 0, mxCreateString(sep));
+    mxSetFieldByNumber(info, 0, 1, mxCreateString(time_forms[sz.time_form]));
+    mxSetFieldByNumber(info, 0, 2, mxCreateString(origin));
+    mxSetFieldByNumber(info, 0, 3, mxCreateDoubleScalar(
+                                       dated ? sl_date_to_datenum(so.origin) : mxGetNaN()));
+    mxSetFieldByNumber(info, 0, 4, mxCreateDoubleScalar((double)sz.unsorted));
+    mxSetFieldByNumber(info, 0, 5, mxCreateDoubleScalar((double)sz.unsorted_line));
+    mxSetFieldByNumber(info, 0, 6, mxCreateDoubleScalar((double)sz.nmissing));
+    filled = slm_create(FN, 1, sz.cols);
+    for (k = 0; k < sz.cols; k++)
+        mxGetDoubles(filled)[k] = (double)tab.filled[k];
+    mxSetFieldByNumber(info, 0, 7, filled);
+    plhs[1] = info;
+}
+
+/* The k-th string of a cellstr argument (a 1-row char array or ''). */
+static const char *cell_text(const char *fn, const mxArray *c, size_t k, int pos,
+                             const char *what)
+{
+    const mxArray *e = mxGetCell(c, k);
+    char *s;
+    if (e == NULL || !mxIsChar(e) || mxGetM(e) > 1 || mxGetNumberOfDimensions(e) > 2)
+        slm_fail(fn, "badforcing", "argument %d (%s), entry %lu: expected a character string",
+                 pos, what, (unsigned long)(k + 1));
+    if (mxGetNumberOfElements(e) == 0)
+        return "";
+    s = slm_string_copy(e);
+    if (s == NULL || strlen(s) != mxGetNumberOfElements(e))
+        slm_fail(fn, "badforcing", "argument %d (%s), entry %lu: could not read the text",
+                 pos, what, (unsigned long)(k + 1));
+    return s;
+}
+
+/* obsfile('write_series', file, time, values, names, units, origin, unit_days) */
+static void do_write_series(const mxArray *prhs[])
+{
+    static const char *FN = "write_forcing";
+    char *file = slm_string(FN, prhs[1], 2, "filename");
+    char got[96];
+    sl_series_data d;
+    sl_error err;
+    size_t need = 0, k;
+    const char **names, **units;
+    char *buf;
+    FILE *fp;
+    memset(&d, 0, sizeof d);
+    d.time = slm_matrix(FN, prhs[2], 3, "time", 0, 0, SLM_VECTOR | SLM_ALLOW_EMPTY |
+                                                          SLM_ALLOW_NAN | SLM_ALLOW_INF);
+    d.rows = mxGetNumberOfElements(prhs[2]);
+    d.values = slm_matrix(FN, prhs[3], 4, "values", d.rows, 0,
+                          SLM_ALLOW_EMPTY | SLM_ALLOW_NAN | SLM_ALLOW_INF);
+    d.cols = mxGetN(prhs[3]);
+    if (mxGetM(prhs[3]) != d.rows || mxGetNumberOfDimensions(prhs[3]) > 2) {
+        slm_describe(prhs[3], got, sizeof got);
+        slm_fail(FN, "badforcing", "argument 4 (values): expected %lu rows, got %s",
+                 (unsigned long)d.rows, got);
+    }
+    for (k = 4; k <= 5; k++)
+        if (!mxIsCell(prhs[k]) || mxGetNumberOfElements(prhs[k]) != d.cols) {
+            slm_describe(prhs[k], got, sizeof got);
+            slm_fail(FN, "badforcing", "argument %d (%s): expected a cellstr of %lu, got %s",
+                     (int)k + 1, k == 4 ? "names" : "units", (unsigned long)d.cols, got);
+        }
+    names = slm_alloc(FN, d.cols, sizeof *names);
+    units = slm_alloc(FN, d.cols, sizeof *units);
+    for (k = 0; k < d.cols; k++) {
+        names[k] = cell_text(FN, prhs[4], k, 5, "names");
+        units[k] = cell_text(FN, prhs[5], k, 6, "units");
+    }
+    d.names = names;
+    d.units = units;
+    if (mxIsChar(prhs[6]) && mxGetNumberOfElements(prhs[6]) > 0) {
+        char *o = slm_string(FN, prhs[6], 7, "origin");
+        if (sl_date_parse(o, strlen(o), &d.origin, &err) != SL_OK)
+            slm_fail(FN, "badorigin", "the forcing's time_origin '%s' is not a date: %s", o,
+                     err.message);
+        d.dated = 1;
+        d.unit_days = slm_scalar(FN, prhs[7], 8, "unit_days");
+        if (!(d.unit_days > 0))
+            slm_fail(FN, "badoption", "argument 8 (unit_days): expected a positive number, got %g",
+                     d.unit_days);
+    } else if (!mxIsChar(prhs[6]) && !(mxIsDouble(prhs[6]) && mxIsEmpty(prhs[6]))) {
+        slm_describe(prhs[6], got, sizeof got);
+        slm_fail(FN, "badorigin", "argument 7 (origin): expected ISO 8601 text or '', got %s",
+                 got);
+    }
+    if (sl_obsfile_format_series(&d, NULL, 0, &need, &err) != SL_OK)
+        raise_in(FN, file, &err);
+    buf = slm_alloc(FN, need, 1);
+    if (sl_obsfile_format_series(&d, buf, need, &need, &err) != SL_OK)
+        raise_in(FN, file, &err);
+    fp = fopen(file, "wb");
+    if (fp == NULL)
+        slm_fail(FN, "nofile", "cannot open %s for writing: %s", file, strerror(errno));
+    if (fwrite(buf, 1, need, fp) != need) {
+        int e = errno;
+        fclose(fp);
+        slm_fail(FN, "writefail", "cannot write %s: %s", file, strerror(e));
+    }
+    if (fclose(fp) != 0)
+        slm_fail(FN, "writefail", "cannot write %s: %s", file, strerror(errno));
+}
+
 /* [dn, text] = obsfile('date', x) */
 static void do_date(int nlhs, mxArray *plhs[], const mxArray *x)
 {
@@ -378,7 +578,7 @@ void mexFunction(int nlhs, mxArray *plhs[], int nrhs, const mxArray *prhs[])
     static const char *FN = "obsfile";
     char *mode;
     slm_init();
-    slm_nargs(FN, nrhs, 2, 6, nlhs, 4);
+    slm_nargs(FN, nrhs, 2, 8, nlhs, 4);
     mode = slm_string(FN, prhs[0], 1, "mode");
     if (strcmp(mode, "read") == 0) {
         if (nrhs != 2 && nrhs != 6)
@@ -390,12 +590,27 @@ void mexFunction(int nlhs, mxArray *plhs[], int nrhs, const mxArray *prhs[])
         if (nlhs > 0)
             slm_fail("write_obs", "nargout", "no output arguments, asked for %d", nlhs);
         do_write(nlhs, prhs[1], prhs[2]);
+    } else if (strcmp(mode, "series") == 0) {
+        if (nrhs != 7)
+            slm_fail("read_forcing", "nargin", "expected 7 input arguments, got %d", nrhs);
+        if (nlhs > 2)
+            slm_fail("read_forcing", "nargout", "at most 2 output arguments, asked for %d",
+                     nlhs);
+        do_series(nlhs, plhs, prhs);
+    } else if (strcmp(mode, "write_series") == 0) {
+        if (nrhs != 8)
+            slm_fail("write_forcing", "nargin", "expected 8 input arguments, got %d", nrhs);
+        if (nlhs > 0)
+            slm_fail("write_forcing", "nargout", "no output arguments, asked for %d", nlhs);
+        do_write_series(prhs);
     } else if (strcmp(mode, "date") == 0) {
         if (nrhs != 2)
             slm_fail("date", "nargin", "expected 2 input arguments, got %d", nrhs);
         do_date(nlhs, plhs, prhs[1]);
     } else {
         slm_fail(FN, "badmode",
-                 "argument 1 (mode): expected 'read', 'write' or 'date', got '%s'", mode);
+                 "argument 1 (mode): expected 'read', 'write', 'series', 'write_series' "
+                 "or 'date', got '%s'",
+                 mode);
     }
 }

@@ -1,6 +1,7 @@
 /* datetime.c - ISO 8601 dates and date-times as UTC instants, Octave day numbers. */
 #include "sluice/datetime.h"
 
+#include <float.h>
 #include <math.h>
 #include <stdio.h>
 #include <string.h>
@@ -216,6 +217,44 @@ double sl_date_elapsed(sl_utc t, sl_utc origin, double unit_days)
 {
     double s = (double)(t.sec - origin.sec) + (t.frac - origin.frac);
     return s / (DAY_SECONDS * unit_days);
+}
+
+sl_status sl_date_after(sl_utc origin, double elapsed, double unit_days,
+                        sl_utc *t, sl_error *err)
+{
+    /* the years 0000-9999 in seconds since 1970 */
+    const double lo = (double)sl_date_days(0, 1, 1) * DAY_SECONDS,
+                 hi = (double)sl_date_days(10000, 1, 1) * DAY_SECONDS;
+    double s, whole, frac;
+    int64_t sec;
+    if (t == NULL)
+        return sl_fail(err, SL_EINVAL, "badarg", "sl_date_after: NULL result");
+    s = elapsed * ((double)DAY_SECONDS * unit_days);
+    if (!isfinite(s) || !(unit_days > 0) ||
+        !((double)origin.sec + s >= lo && (double)origin.sec + s < hi))
+        return sl_fail(err, SL_EINVAL, "baddate",
+                       "the time %.17g is not a date of the years 0000 to 9999 "
+                       "from the origin",
+                       elapsed);
+    /* seconds from origin.sec; sl_date_elapsed divided a number of seconds
+       once, so an instant on a whole second comes back within an ulp or
+       two of a whole number here: take it as whole */
+    s += origin.frac;
+    whole = floor(s + 0.5);
+    if (fabs(s - whole) <= 8 * DBL_EPSILON * fabs(s - origin.frac)) {
+        frac = 0;
+    } else {
+        whole = floor(s);
+        frac = s - whole;
+        if (frac >= 1) { /* s just below a whole number, rounded up */
+            frac = 0;
+            whole += 1;
+        }
+    }
+    sec = origin.sec + (int64_t)whole;
+    t->sec = sec;
+    t->frac = frac;
+    return SL_OK;
 }
 
 size_t sl_date_format(sl_utc t, char *buf, size_t cap)

@@ -466,6 +466,7 @@ typedef struct {
 
 typedef struct reader_s {
     const sl_obs_read_opts *o;
+    int wide;                   /* 1: a series table (time or date, then series) */
     int decimal_comma;
     /* the header, by column position */
     size_t hdr_line;
@@ -581,9 +582,9 @@ static sl_status read_header(lexer *lx, reader *rd, sl_obs_size *sz,
     rd->header_done = 0;
     if (!skip_lines(lx, rd->o->skip_empty))
         return sl_fail(err, SL_EINVAL, "badheader",
-                       "line %zu: no header row (expected the columns time, "
-                       "variable, value, sigma)",
-                       lx->line);
+                       "line %zu: no header row (expected %s)", lx->line,
+                       rd->wide ? "a time or date column and one column per series"
+                                : "the columns time, variable, value, sigma");
     rd->hdr_line = lx->line;
     do {
         const char *name, *unit;
@@ -618,7 +619,11 @@ static sl_status read_header(lexer *lx, reader *rd, sl_obs_size *sz,
                            f.line, j + 1, snippet(name, nlen, snip, sizeof snip),
                            (int)SL_OBS_NAME_MAX);
         } else {
-            role = role_of(name, nlen);
+            role = rd->wide ? (same_name(name, nlen, "time", 4) ||
+                                       same_name(name, nlen, "date", 4)
+                                   ? C_TIME
+                                   : R_OTHER)
+                            : role_of(name, nlen);
             for (k = 0; k < j; k++)
                 if (rd->role[k] != R_UNNAMED &&
                     same_name(rd->name[k], rd->name_len[k], name, nlen))
@@ -627,6 +632,12 @@ static sl_status read_header(lexer *lx, reader *rd, sl_obs_size *sz,
                                    "twice (columns %zu and %zu)",
                                    f.line, snippet(name, nlen, snip, sizeof snip),
                                    k + 1, j + 1);
+            if (rd->wide && role == C_TIME && rd->idx[C_TIME] != SIZE_MAX)
+                return sl_fail(err, SL_EINVAL, "badheader",
+                               "line %zu, column %s: a second time column "
+                               "(column %zu is one); keep one of them",
+                               f.line, snippet(name, nlen, snip, sizeof snip),
+                               rd->idx[C_TIME] + 1);
         }
         rd->name[j] = name;
         rd->name_len[j] = nlen;
@@ -635,9 +646,10 @@ static sl_status read_header(lexer *lx, reader *rd, sl_obs_size *sz,
         rd->role[j] = (unsigned char)role;
         if (role < C_KNOWN)
             rd->idx[role] = j;
-        if (role != R_UNNAMED) {
-            int text = role == C_VARIABLE || role == C_FAMILY ||
-                       (role == R_OTHER && tab != NULL && sz->col_text[j]);
+        if (role != R_UNNAMED && !(rd->wide && role == C_TIME)) {
+            /* (a series table keeps its time column apart) */
+            int text = !rd->wide && (role == C_VARIABLE || role == C_FAMILY ||
+                                     (role == R_OTHER && tab != NULL && sz->col_text[j]));
             rd->kept[j] = kept;
             if (tab != NULL) {
                 if (name_off + nlen + 1 > sz->name_bytes ||
@@ -656,8 +668,10 @@ static sl_status read_header(lexer *lx, reader *rd, sl_obs_size *sz,
                     tab->units[unit_off + ulen] = '\0';
                     tab->unit_at[kept] = unit_off;
                 }
-                tab->is_text[kept] = text;
-                tab->slot[kept] = text ? ntext : nnum;
+                if (tab->is_text != NULL)
+                    tab->is_text[kept] = text;
+                if (tab->slot != NULL)
+                    tab->slot[kept] = text ? ntext : nnum;
                 if (text)
                     ntext++;
                 else
@@ -671,7 +685,17 @@ static sl_status read_header(lexer *lx, reader *rd, sl_obs_size *sz,
     } while (!f.last);
     rd->ncols = j;
     rd->header_done = 1;
-    for (k = 0; k < C_FAMILY; k++)
+    if (rd->wide) {
+        if (rd->idx[C_TIME] == SIZE_MAX)
+            return sl_fail(err, SL_EINVAL, "badheader",
+                           "line %zu: no time column (name one column time or date)",
+                           rd->hdr_line);
+        if (kept == 0)
+            return sl_fail(err, SL_EINVAL, "badheader",
+                           "line %zu: no series besides the time column",
+                           rd->hdr_line);
+    }
+    for (k = 0; k < C_FAMILY && !rd->wide; k++)
         if (rd->idx[k] == SIZE_MAX)
             return sl_fail(err, SL_EINVAL, "badheader",
                            "line %zu, column %s: the header has no such column "
@@ -716,10 +740,14 @@ static sl_status read_time(const reader *rd, const field *f, int *form,
     size_t n = f->n;
     sl_utc at;
     sl_error derr;
+    char tcol[80];
+    /* the observation table's time column is time; a series table's is
+       named as its header writes it (time or date) */
+    const char *tname = rd->wide ? colref(rd, rd->idx[C_TIME], tcol, sizeof tcol) : "time";
     if (f->quoted && memchr(s, '"', n) != NULL)
         return sl_fail(err, SL_EINVAL, "badnumber",
-                       "line %zu, column time: '%s' is not a number or a date",
-                       f->line, snippet(s, n, snip, sizeof snip));
+                       "line %zu, column %s: '%s' is not a number or a date",
+                       f->line, tname, snippet(s, n, snip, sizeof snip));
     this_form = sl_date_like(s, n) ? SL_OBS_TIME_DATES
                 : rd->o->datenums  ? SL_OBS_TIME_DATENUMS
                                    : SL_OBS_TIME_NUMBERS;
@@ -728,9 +756,9 @@ static sl_status read_time(const reader *rd, const field *f, int *form,
         *form_line = f->line;
     } else if (this_form != *form && n > 0) {
         return sl_fail(err, SL_EINVAL, "badtime",
-                       "line %zu, column time: '%s' is %s, but line %zu holds %s; "
+                       "line %zu, column %s: '%s' is %s, but line %zu holds %s; "
                        "write every time the same way",
-                       f->line, snippet(s, n, snip, sizeof snip),
+                       f->line, tname, snippet(s, n, snip, sizeof snip),
                        this_form == SL_OBS_TIME_DATES ? "a date" : "a number",
                        *form_line, *form == SL_OBS_TIME_DATES ? "a date" : "a number");
     }
@@ -738,7 +766,7 @@ static sl_status read_time(const reader *rd, const field *f, int *form,
         int rc = field_number(rd, f, t);
         if (rc != 0)
             return sl_fail(err, SL_EINVAL, "badnumber",
-                           "line %zu, column time: '%s' is %s", f->line,
+                           "line %zu, column %s: '%s' is %s", f->line, tname,
                            snippet(s, n, snip, sizeof snip),
                            rc == 1 ? "not a number or a date (dates are written "
                                      "YYYY-MM-DD or YYYY-MM-DDThh:mm:ss)"
@@ -747,29 +775,29 @@ static sl_status read_time(const reader *rd, const field *f, int *form,
     }
     if (!rd->o->has_origin)
         return sl_fail(err, SL_EINVAL, "noorigin",
-                       "line %zu, column time: the times are %s ('%s'), but no "
+                       "line %zu, column %s: the times are %s ('%s'), but no "
                        "origin (the date of model time 0) was given",
-                       f->line, this_form == SL_OBS_TIME_DATES ? "dates" : "day numbers",
+                       f->line, tname, this_form == SL_OBS_TIME_DATES ? "dates" : "day numbers",
                        snippet(s, n, snip, sizeof snip));
     if (this_form == SL_OBS_TIME_DATES) {
         if (sl_date_parse(s, n, &at, &derr) != SL_OK)
             return sl_fail(err, SL_EINVAL, "baddate",
-                           "line %zu, column time: '%s' is not a date: %s", f->line,
-                           snippet(s, n, snip, sizeof snip), derr.message);
+                           "line %zu, column %s: '%s' is not a date: %s", f->line,
+                           tname, snippet(s, n, snip, sizeof snip), derr.message);
     } else {
         double dn;
         int rc = field_number(rd, f, &dn);
         if (rc != 0)
             return sl_fail(err, SL_EINVAL, "badnumber",
-                           "line %zu, column time: '%s' is not a day number",
-                           f->line, snippet(s, n, snip, sizeof snip));
+                           "line %zu, column %s: '%s' is not a day number",
+                           f->line, tname, snippet(s, n, snip, sizeof snip));
         if (isnan(dn)) {
             *t = NAN;
             return SL_OK;
         }
         if (sl_date_from_datenum(dn, &at, &derr) != SL_OK)
-            return sl_fail(err, SL_EINVAL, "baddate", "line %zu, column time: %s",
-                           f->line, derr.message);
+            return sl_fail(err, SL_EINVAL, "baddate", "line %zu, column %s: %s",
+                           f->line, tname, derr.message);
     }
     *t = sl_date_elapsed(at, rd->o->origin, rd->o->unit_days);
     return SL_OK;
@@ -816,14 +844,11 @@ static size_t text_code(sl_obs_table *tab, size_t k, size_t hs, size_t *off)
     return code;
 }
 
-/* Sort the parsed rows stably by time (merge sort of row indices). */
-static void sort_rows(const sl_obs_size *sz, sl_obs_table *tab, size_t time_slot)
+/* perm[0..m-1]: the row indices in a stable order of key (merge sort;
+ * tmp holds m indices). */
+static void stable_order(const double *key, size_t m, size_t *perm, size_t *tmp)
 {
-    const size_t m = sz->rows;
-    size_t *perm = (size_t *)tab->work, *tmp = perm + m, width, i, k;
-    double *dbuf = (double *)(tmp + m);
-    size_t *zbuf = (size_t *)(tmp + m);
-    const double *key = tab->num + time_slot * m;
+    size_t width, i;
     for (i = 0; i < m; i++)
         perm[i] = i;
     for (width = 1; width < m; width *= 2) {
@@ -839,6 +864,16 @@ static void sort_rows(const sl_obs_size *sz, sl_obs_table *tab, size_t time_slot
         }
         memcpy(perm, tmp, m * sizeof *perm);
     }
+}
+
+/* Sort the parsed rows stably by time. */
+static void sort_rows(const sl_obs_size *sz, sl_obs_table *tab, size_t time_slot)
+{
+    const size_t m = sz->rows;
+    size_t *perm = (size_t *)tab->work, *tmp = perm + m, i, k;
+    double *dbuf = (double *)(tmp + m);
+    size_t *zbuf = (size_t *)(tmp + m);
+    stable_order(tab->num + time_slot * m, m, perm, tmp);
     for (k = 0; k < sz->nnum; k++) {
         double *c = tab->num + k * m;
         for (i = 0; i < m; i++)
@@ -874,6 +909,27 @@ static sl_status work_size(const sl_obs_read_opts *o, sl_obs_size *sz)
     return SL_OK;
 }
 
+/* Set the lexer at the start of buf: UTF-16 refused, the separator found,
+ * a byte order mark skipped. */
+static sl_status start(const char *buf, size_t len, lexer *lx, reader *rd,
+                       sl_error *err)
+{
+    lx->p = buf;
+    lx->end = buf + len;
+    lx->line = 1;
+    if (len >= 2 && (((unsigned char)buf[0] == 0xFF && (unsigned char)buf[1] == 0xFE) ||
+                     ((unsigned char)buf[0] == 0xFE && (unsigned char)buf[1] == 0xFF)))
+        return sl_fail(err, SL_EINVAL, "badencoding",
+                       "line 1: the file is UTF-16 text; save it as UTF-8 "
+                       "(\"CSV UTF-8\") or plain text");
+    lx->sep = sl_obsfile_separator(buf, len);
+    rd->decimal_comma = lx->sep != ',';
+    if (len >= 3 && (unsigned char)buf[0] == 0xEF &&
+        (unsigned char)buf[1] == 0xBB && (unsigned char)buf[2] == 0xBF)
+        lx->p += 3;
+    return SL_OK;
+}
+
 /* The one pass of measure (tab NULL) and parse (tab given). */
 static sl_status run(const char *buf, size_t len, const sl_obs_read_opts *o,
                      sl_obs_size *sz, sl_obs_table *tab, sl_error *err)
@@ -889,19 +945,10 @@ static sl_status run(const char *buf, size_t len, const sl_obs_read_opts *o,
     char col[80], snip[64];
     rd = &rd_store;
     rd->o = o;
-    lx.p = buf;
-    lx.end = buf + len;
-    lx.line = 1;
-    if (len >= 2 && (((unsigned char)buf[0] == 0xFF && (unsigned char)buf[1] == 0xFE) ||
-                     ((unsigned char)buf[0] == 0xFE && (unsigned char)buf[1] == 0xFF)))
-        return sl_fail(err, SL_EINVAL, "badencoding",
-                       "line 1: the file is UTF-16 text; save it as UTF-8 "
-                       "(\"CSV UTF-8\") or plain text");
-    lx.sep = sl_obsfile_separator(buf, len);
-    rd->decimal_comma = lx.sep != ',';
-    if (len >= 3 && (unsigned char)buf[0] == 0xEF &&
-        (unsigned char)buf[1] == 0xBB && (unsigned char)buf[2] == 0xBF)
-        lx.p += 3;
+    rd->wide = 0;
+    st = start(buf, len, &lx, rd, err);
+    if (st != SL_OK)
+        return st;
     if (tab == NULL)
         memset(sz->col_text, 0, sizeof sz->col_text);
     st = read_header(&lx, rd, sz, tab, err);
@@ -1147,6 +1194,359 @@ sl_status sl_obsfile_parse(const char *buf, size_t len,
     return sl_obsfile_parse_with(buf, len, NULL, size, tab, err);
 }
 
+/* ---- the series table ------------------------------------------------------- */
+
+/* The header position of series k (for messages). */
+static size_t series_column(const reader *rd, size_t k)
+{
+    size_t j;
+    for (j = 0; j < rd->ncols; j++)
+        if (rd->role[j] == R_OTHER && rd->kept[j] == k)
+            return j;
+    return 0;
+}
+
+/* Sort the rows of a parsed series table stably by time; work holds the
+ * row lines, then room for the order. */
+static void sort_series(const sl_series_size *sz, sl_series_table *tab)
+{
+    const size_t m = sz->rows;
+    size_t *line = (size_t *)tab->work, *perm = line + m, *tmp = perm + m, i, k;
+    double *dbuf = (double *)(tmp + m);
+    stable_order(tab->time, m, perm, tmp);
+    for (i = 0; i < m; i++)
+        dbuf[i] = tab->time[perm[i]];
+    memcpy(tab->time, dbuf, m * sizeof *dbuf);
+    for (k = 0; k < sz->cols; k++) {
+        double *c = tab->values + k * m;
+        for (i = 0; i < m; i++)
+            dbuf[i] = c[perm[i]];
+        memcpy(c, dbuf, m * sizeof *c);
+    }
+    for (i = 0; i < m; i++)
+        tmp[i] = line[perm[i]];
+    memcpy(line, tmp, m * sizeof *line);
+}
+
+/* Fill the missing cells of series k (after sorting); line[i] is row i's
+ * line. */
+static sl_status fill_series(const reader *rd, const sl_series_read_opts *so,
+                             const sl_series_size *sz, sl_series_table *tab,
+                             size_t k, const size_t *line, sl_error *err)
+{
+    const size_t m = sz->rows;
+    double *v = tab->values + k * m;
+    const double *t = tab->time;
+    size_t i, count = 0, last = SIZE_MAX;
+    char col[80];
+    for (i = 0; i < m; i++) {
+        size_t g;
+        if (!isnan(v[i])) {
+            last = i;
+            continue;
+        }
+        if (so->fill == SL_FILL_ZERO) {
+            v[i] = 0;
+            count++;
+            continue;
+        }
+        /* a gap of missing cells i..g-1 between rows last and g */
+        for (g = i; g < m && isnan(v[g]); g++)
+            ;
+        if (last == SIZE_MAX || g == m)
+            return sl_fail(err, SL_EINVAL, "missing",
+                           "line %zu, column %s: the value is missing and no %s "
+                           "time has one (interpolation fills a gap between two "
+                           "values only)",
+                           line[i], colref(rd, series_column(rd, k), col, sizeof col),
+                           last == SIZE_MAX ? "earlier" : "later");
+        for (; i < g; i++) {
+            double w = (t[i] - t[last]) / (t[g] - t[last]);
+            v[i] = v[last] + w * (v[g] - v[last]);
+            count++;
+        }
+        last = g;
+        i = g;
+    }
+    if (tab->filled != NULL)
+        tab->filled[k] = count;
+    return SL_OK;
+}
+
+/* The one pass of measure (tab NULL) and parse (tab given) of a series
+ * table. */
+static sl_status run_series(const char *buf, size_t len, const sl_series_read_opts *so,
+                            sl_series_size *sz, sl_series_table *tab, sl_error *err)
+{
+    sl_obs_read_opts o;
+    reader rd_store, *rd = &rd_store;
+    sl_obs_size osz;
+    sl_obs_table otab;
+    lexer lx;
+    sl_status st;
+    size_t rows = 0, nmissing = 0, unsorted = 0, unsorted_line = 0, form_line = 0;
+    size_t prev_line = 0, j, k;
+    size_t *line_of = NULL;
+    int form = -1;
+    double prev = 0;
+    char col[80], snip[64];
+
+    o.sort_rows = so->sort_rows;
+    o.skip_empty = 1;
+    o.text_columns = 0;
+    o.datenums = so->datenums;
+    o.has_origin = so->has_origin;
+    o.origin = so->origin;
+    o.unit_days = so->unit_days;
+    rd->o = &o;
+    rd->wide = 1;
+    st = start(buf, len, &lx, rd, err);
+    if (st != SL_OK)
+        return st;
+    memset(&osz, 0, sizeof osz);
+    memset(&otab, 0, sizeof otab);
+    if (tab != NULL) {
+        otab.names = tab->names;
+        otab.name_at = tab->name_at;
+        otab.units = tab->units;
+        otab.unit_at = tab->unit_at;
+        osz.cols = sz->cols;
+        osz.nnum = sz->cols;
+        osz.name_bytes = sz->name_bytes;
+        osz.unit_bytes = sz->unit_bytes;
+        line_of = (size_t *)tab->work;
+    }
+    st = read_header(&lx, rd, &osz, tab != NULL ? &otab : NULL, err);
+    if (st != SL_OK)
+        return st;
+    if (tab == NULL) {
+        sz->cols = osz.cols;
+        sz->name_bytes = osz.name_bytes;
+        sz->unit_bytes = osz.unit_bytes;
+    }
+    while (skip_lines(&lx, 1)) {
+        size_t line = lx.line;
+        double t = NAN;
+        field f;
+        if (tab != NULL && rows >= sz->rows)
+            return sl_fail(err, SL_EINVAL, "badsize",
+                           "the buffers do not match the measured table");
+        j = 0;
+        do {
+            st = lex_field(&lx, &f, rd, j, err);
+            if (st != SL_OK)
+                return st;
+            if (j >= rd->ncols || rd->role[j] == R_UNNAMED) {
+                if (f.n == 0) {
+                    j++;
+                    continue;
+                }
+                if (j >= rd->ncols)
+                    return sl_fail(err, SL_EINVAL, "badfield",
+                                   "line %zu, column %zu: more fields than the "
+                                   "header's %zu columns",
+                                   f.line, j + 1, rd->ncols);
+                return sl_fail(err, SL_EINVAL, "badfield",
+                               "line %zu, column %zu: '%s' stands in a column "
+                               "without a name in the header (line %zu); name "
+                               "the column or empty it",
+                               f.line, j + 1, snippet(f.s, f.n, snip, sizeof snip),
+                               rd->hdr_line);
+            }
+            if (rd->role[j] == C_TIME) {
+                st = read_time(rd, &f, &form, &form_line, &t, err);
+                if (st != SL_OK)
+                    return st;
+            } else {
+                double v;
+                int rc = field_number(rd, &f, &v);
+                if (rc != 0)
+                    return sl_fail(err, SL_EINVAL, "badnumber",
+                                   "line %zu, column %s: '%s' is %s", f.line,
+                                   colref(rd, j, col, sizeof col),
+                                   snippet(f.s, f.n, snip, sizeof snip),
+                                   rc == 1 ? "not a number"
+                                           : "out of the range of doubles");
+                if (isinf(v))
+                    return sl_fail(err, SL_EINVAL, "badnumber",
+                                   "line %zu, column %s: the value is infinite",
+                                   f.line, colref(rd, j, col, sizeof col));
+                if (isnan(v)) {
+                    if (so->fill == SL_FILL_NONE) {
+                        char what[80];
+                        if (f.n == 0)
+                            snprintf(what, sizeof what, "an empty field");
+                        else
+                            snprintf(what, sizeof what, "'%s'",
+                                     snippet(f.s, f.n, snip, sizeof snip));
+                        return sl_fail(err, SL_EINVAL, "missing",
+                                       "line %zu, column %s: the value is missing (%s)",
+                                       f.line, colref(rd, j, col, sizeof col), what);
+                    }
+                    nmissing++;
+                }
+                if (tab != NULL)
+                    tab->values[rows + rd->kept[j] * sz->rows] = v;
+            }
+            j++;
+        } while (!f.last);
+        if (j < rd->ncols) {
+            size_t need = j;
+            while (need < rd->ncols && rd->role[need] == R_UNNAMED)
+                need++;
+            if (need < rd->ncols)
+                return sl_fail(err, SL_EINVAL, "badfield",
+                               "line %zu, column %s: the row has %zu fields, the "
+                               "header %zu",
+                               line, colref(rd, j, col, sizeof col), j, rd->ncols);
+        }
+        if (isnan(t))
+            return sl_fail(err, SL_EINVAL, "badtime",
+                           "line %zu, column %s: the time is missing (every row "
+                           "needs one)",
+                           line, colref(rd, rd->idx[C_TIME], col, sizeof col));
+        if (!isfinite(t))
+            return sl_fail(err, SL_EINVAL, "badtime",
+                           "line %zu, column %s: the time must be finite, got %g",
+                           line, colref(rd, rd->idx[C_TIME], col, sizeof col), t);
+        if (rows > 0 && t == prev)
+            return sl_fail(err, SL_EINVAL, "duptime",
+                           "line %zu, column %s: the same time as line %zu "
+                           "(each time may appear once)",
+                           line, colref(rd, rd->idx[C_TIME], col, sizeof col), prev_line);
+        if (rows > 0 && t < prev) {
+            if (!so->sort_rows)
+                return sl_fail(err, SL_EINVAL, "badorder",
+                               "line %zu, column %s: time %.17g comes before the "
+                               "previous row's %.17g (rows must be in time order)",
+                               line, colref(rd, rd->idx[C_TIME], col, sizeof col),
+                               t, prev);
+            if (unsorted++ == 0)
+                unsorted_line = line;
+        }
+        if (tab != NULL) {
+            tab->time[rows] = t;
+            line_of[rows] = line;
+        }
+        prev = t;
+        prev_line = line;
+        rows++;
+    }
+    if (rows == 0)
+        return sl_fail(err, SL_EINVAL, "empty",
+                       "line %zu: no rows after the header (line %zu)", lx.line,
+                       rd->hdr_line);
+    if (tab == NULL) {
+        size_t lines, sort = 0;
+        sz->rows = rows;
+        sz->nmissing = nmissing;
+        sz->unsorted = unsorted;
+        sz->unsorted_line = unsorted_line;
+        sz->time_form = form < 0 ? SL_OBS_TIME_NUMBERS : form;
+        sz->sep = lx.sep;
+        if (sl_size_mul(rows, sizeof(size_t), &lines) ||
+            (unsorted > 0 && sl_size_mul(rows, 2 * sizeof(size_t) + sizeof(double), &sort)) ||
+            lines > SIZE_MAX - sort)
+            return sl_fail(err, SL_ENOMEM, "nomemory",
+                           "line %zu: the table is too large", lx.line);
+        sz->work_bytes = lines + sort;
+        return SL_OK;
+    }
+    if (rows != sz->rows)
+        return sl_fail(err, SL_EINVAL, "badsize",
+                       "the buffers do not match the measured table");
+    if (sz->unsorted > 0) {
+        /* equal times that sorting brought together: name the pair whose
+           later line comes first in the file */
+        size_t at = 0, i;
+        sort_series(sz, tab);
+        for (i = 1; i < rows; i++)
+            if (tab->time[i] == tab->time[i - 1] && (at == 0 || line_of[i] < line_of[at]))
+                at = i;
+        if (at > 0)
+            return sl_fail(err, SL_EINVAL, "duptime",
+                           "line %zu, column %s: the same time as line %zu "
+                           "(each time may appear once)",
+                           line_of[at], colref(rd, rd->idx[C_TIME], col, sizeof col),
+                           line_of[at - 1]);
+    }
+    for (k = 0; k < sz->cols; k++) {
+        if (tab->filled != NULL)
+            tab->filled[k] = 0;
+        if (sz->nmissing > 0) {
+            st = fill_series(rd, so, sz, tab, k, line_of, err);
+            if (st != SL_OK)
+                return st;
+        }
+    }
+    return SL_OK;
+}
+
+static const sl_series_read_opts series_defaults = {1, SL_FILL_NONE, 0, 0, {0, 0}, 1};
+
+void sl_series_read_opts_init(sl_series_read_opts *opts)
+{
+    if (opts != NULL)
+        *opts = series_defaults;
+}
+
+static sl_status check_series_opts(const sl_series_read_opts *o, sl_error *err)
+{
+    if (!(o->unit_days > 0 && isfinite(o->unit_days)))
+        return sl_fail(err, SL_EINVAL, "badarg",
+                       "the time unit must be a positive number of days, got %g",
+                       o->unit_days);
+    if (o->has_origin && !(o->origin.frac >= 0 && o->origin.frac < 1))
+        return sl_fail(err, SL_EINVAL, "badarg",
+                       "the origin's fraction of a second must lie in [0, 1)");
+    if (o->fill != SL_FILL_NONE && o->fill != SL_FILL_INTERPOLATE && o->fill != SL_FILL_ZERO)
+        return sl_fail(err, SL_EINVAL, "badarg", "unknown fill %d", o->fill);
+    return SL_OK;
+}
+
+sl_status sl_obsfile_measure_series(const char *buf, size_t len,
+                                    const sl_series_read_opts *opts,
+                                    sl_series_size *size, sl_error *err)
+{
+    sl_series_size sz;
+    sl_status st;
+    const sl_series_read_opts *o = opts != NULL ? opts : &series_defaults;
+    sl_error_clear(err);
+    if ((buf == NULL && len > 0) || size == NULL)
+        return sl_fail(err, SL_EINVAL, "badarg",
+                       "sl_obsfile_measure_series: NULL buffer or size record");
+    st = check_series_opts(o, err);
+    if (st != SL_OK)
+        return st;
+    memset(&sz, 0, sizeof sz);
+    st = run_series(buf != NULL ? buf : "", len, o, &sz, NULL, err);
+    if (st == SL_OK)
+        *size = sz;
+    return st;
+}
+
+sl_status sl_obsfile_parse_series(const char *buf, size_t len,
+                                  const sl_series_read_opts *opts,
+                                  const sl_series_size *size,
+                                  sl_series_table *tab, sl_error *err)
+{
+    sl_series_size sz;
+    sl_status st;
+    const sl_series_read_opts *o = opts != NULL ? opts : &series_defaults;
+    sl_error_clear(err);
+    if ((buf == NULL && len > 0) || size == NULL || tab == NULL ||
+        tab->names == NULL || tab->name_at == NULL || tab->units == NULL ||
+        tab->unit_at == NULL || tab->time == NULL || tab->values == NULL ||
+        tab->work == NULL)
+        return sl_fail(err, SL_EINVAL, "badarg",
+                       "sl_obsfile_parse_series: NULL buffer or table");
+    st = check_series_opts(o, err);
+    if (st != SL_OK)
+        return st;
+    sz = *size;
+    return run_series(buf != NULL ? buf : "", len, o, &sz, tab, err);
+}
+
 /* ---- the writer ------------------------------------------------------------ */
 
 typedef struct {
@@ -1294,6 +1694,118 @@ sl_status sl_obsfile_format(size_t rows, size_t cols,
                 put_text(&o, col[j].text[i]);
             else
                 put_number(&o, col[j].num[i]);
+        }
+        put(&o, "\n", 1);
+    }
+    if (o.overflow == 2)
+        return sl_fail(err, SL_ENOMEM, "nomemory",
+                       "the CSV text would exceed the address space");
+    *need = o.n;
+    if (o.overflow)
+        return sl_fail(err, SL_EINVAL, "bufsize",
+                       "the buffer holds %zu bytes, the text needs %zu", cap,
+                       o.n);
+    return SL_OK;
+}
+
+sl_status sl_obsfile_format_series(const sl_series_data *d, char *buf,
+                                   size_t cap, size_t *need, sl_error *err)
+{
+    size_t i, j, k;
+    sink o;
+    char snip[64];
+    sl_error_clear(err);
+    if (need == NULL || d == NULL ||
+        (d->cols > 0 && d->names == NULL) ||
+        (d->rows > 0 && (d->time == NULL || (d->cols > 0 && d->values == NULL))))
+        return sl_fail(err, SL_EINVAL, "badarg",
+                       "sl_obsfile_format_series: NULL table or need");
+    if (d->dated && !(d->unit_days > 0 && isfinite(d->unit_days) &&
+                      d->origin.frac >= 0 && d->origin.frac < 1))
+        return sl_fail(err, SL_EINVAL, "badarg",
+                       "sl_obsfile_format_series: a bad origin or time unit");
+    for (j = 0; j < d->cols; j++) {
+        const char *name = d->names[j] != NULL ? d->names[j] : "";
+        const char *unit = d->units != NULL && d->units[j] != NULL ? d->units[j] : "";
+        size_t n = strlen(name);
+        if (!valid_name(name, n))
+            return sl_fail(err, SL_EINVAL, "badheader",
+                           "line 1, column %zu: '%s' is not a column name (a "
+                           "letter, then letters, digits or _, at most %d characters)",
+                           j + 2, snippet(name, n, snip, sizeof snip),
+                           (int)SL_OBS_NAME_MAX);
+        if (same_name(name, n, "time", 4) || same_name(name, n, "date", 4))
+            return sl_fail(err, SL_EINVAL, "badheader",
+                           "line 1, column %s: a series may not be named time or "
+                           "date (the time column's names)",
+                           name);
+        for (k = 0; k < j; k++)
+            if (same_name(d->names[k], strlen(d->names[k]), name, n))
+                return sl_fail(err, SL_EINVAL, "badheader",
+                               "line 1, column %s: the name appears twice "
+                               "(columns %zu and %zu)",
+                               name, k + 2, j + 2);
+        if (strpbrk(unit, ",\"[]\r\n") != NULL)
+            return sl_fail(err, SL_EINVAL, "badheader",
+                           "line 1, column %s: the unit '%s' holds a comma, a "
+                           "quote, a bracket or a line break",
+                           name, snippet(unit, strlen(unit), snip, sizeof snip));
+    }
+    for (i = 0; i < d->rows; i++) {
+        double t = d->time[i];
+        if (!isfinite(t))
+            return sl_fail(err, SL_EINVAL, "badtime",
+                           "line %zu, column time: the time must be finite, got %g",
+                           i + 2, t);
+        if (i > 0 && t == d->time[i - 1])
+            return sl_fail(err, SL_EINVAL, "duptime",
+                           "line %zu, column time: the same time as line %zu "
+                           "(each time may appear once)",
+                           i + 2, i + 1);
+        if (i > 0 && t < d->time[i - 1])
+            return sl_fail(err, SL_EINVAL, "badorder",
+                           "line %zu, column time: time %.17g comes before the "
+                           "previous row's %.17g (rows must be in time order)",
+                           i + 2, t, d->time[i - 1]);
+        for (j = 0; j < d->cols; j++)
+            if (isinf(d->values[i + j * d->rows]))
+                return sl_fail(err, SL_EINVAL, "badnumber",
+                               "line %zu, column %s: the value is infinite",
+                               i + 2, d->names[j]);
+    }
+    o.buf = buf;
+    o.cap = cap;
+    o.n = 0;
+    o.overflow = 0;
+    put(&o, "time", 4);
+    for (j = 0; j < d->cols; j++) {
+        const char *unit = d->units != NULL && d->units[j] != NULL ? d->units[j] : "";
+        put(&o, ",", 1);
+        put(&o, d->names[j], strlen(d->names[j]));
+        if (unit[0] != '\0') {
+            put(&o, " [", 2);
+            put(&o, unit, strlen(unit));
+            put(&o, "]", 1);
+        }
+    }
+    put(&o, "\n", 1);
+    for (i = 0; i < d->rows; i++) {
+        if (d->dated) {
+            sl_utc at;
+            char date[48];
+            size_t w;
+            sl_error derr;
+            if (sl_date_after(d->origin, d->time[i], d->unit_days, &at, &derr) != SL_OK)
+                return sl_fail(err, SL_EINVAL, "baddate", "line %zu, column time: %s",
+                               i + 2, derr.message);
+            w = sl_date_format(at, date, sizeof date);
+            put(&o, date, w);
+        } else {
+            put_number(&o, d->time[i]);
+        }
+        for (j = 0; j < d->cols; j++) {
+            put(&o, ",", 1);
+            put_number(&o, d->values[i + j * d->rows]);
         }
         put(&o, "\n", 1);
     }

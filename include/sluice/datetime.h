@@ -58,6 +58,15 @@ sl_status sl_date_from_datenum(double dn, sl_utc *t, sl_error *err);
  * days units give whole numbers. */
 double sl_date_elapsed(sl_utc t, sl_utc origin, double unit_days);
 
+/* The instant `elapsed` units of unit_days days after origin, the inverse
+ * of sl_date_elapsed. A number of seconds within a few units in the last
+ * place of a whole number is taken as that whole number, so a time that
+ * sl_date_elapsed made from an instant on a whole second gives that
+ * instant back exactly. Reason "baddate" when elapsed is not finite or the
+ * instant falls outside the years 0000-9999. */
+sl_status sl_date_after(sl_utc origin, double elapsed, double unit_days,
+                        sl_utc *t, sl_error *err);
+
 /* Write t as YYYY-MM-DD when it falls on midnight, else as
  * YYYY-MM-DDThh:mm:ssZ (with .fff... when there is a fraction of a second,
  * to the microsecond). Returns the length written (cap >= 40 always

@@ -168,6 +168,108 @@ sl_status sl_obsfile_format(size_t rows, size_t cols,
                             const sl_obs_column *col, char *buf, size_t cap,
                             size_t *need, sl_error *err);
 
+/* ---- the wide series table (forcing files) ---------------------------------
+ *
+ * One row per time, one column per series: the same text forms as the
+ * observation table (byte order mark, line ends, comment and blank lines,
+ * separator detection, quotes, units in brackets, decimal commas after ';'
+ * or a tab, NA / N/A / #N/A / empty / NaN as missing, dates, day numbers,
+ * origin and unit), with these differences:
+ *   - exactly one time column, named time or date (any case); every other
+ *     named column is a numeric series (text is refused, "badnumber");
+ *     at least one series; header columns without a name are ignored while
+ *     they hold nothing;
+ *   - a missing cell is refused ("missing") unless opts->fill says how to
+ *     fill it: SL_FILL_ZERO writes 0; SL_FILL_INTERPOLATE interpolates
+ *     linearly in time between the nearest earlier and later values of the
+ *     same series (a gap at the start or the end of a series is refused,
+ *     "missing"); infinite values are refused ("badnumber");
+ *   - times must be finite and distinct ("duptime" names both lines);
+ *     rows out of time order are sorted (opts->sort_rows) or refused
+ *     ("badorder");
+ *   - a file without data rows is refused ("empty").
+ * Failures name the line and the column as for the observation table. */
+
+enum { SL_FILL_NONE = 0, SL_FILL_INTERPOLATE = 1, SL_FILL_ZERO = 2 };
+
+typedef struct {
+    int sort_rows;    /* 1: rows out of time order are sorted; 0: refused */
+    int fill;         /* SL_FILL_*: what a missing cell becomes */
+    int datenums;     /* 1: numbers in the time column are Octave datenums */
+    int has_origin;   /* 1: origin is given */
+    sl_utc origin;    /* the instant of model time 0 (dates, datenums) */
+    double unit_days; /* the model's time unit in days, > 0 */
+} sl_series_read_opts;
+
+/* sort_rows 1, fill SL_FILL_NONE, datenums 0, no origin, unit_days 1. */
+void sl_series_read_opts_init(sl_series_read_opts *opts);
+
+/* What a series table needs, from sl_obsfile_measure_series. */
+typedef struct {
+    size_t rows;          /* data rows (times) */
+    size_t cols;          /* series (the time column not counted) */
+    size_t name_bytes;    /* bytes of the series names, each NUL-terminated */
+    size_t unit_bytes;    /* bytes of their units, each NUL-terminated */
+    size_t nmissing;      /* missing cells (to be filled) */
+    size_t unsorted;      /* rows whose time is below the previous row's */
+    size_t unsorted_line; /* the line of the first of them (0: none) */
+    size_t work_bytes;    /* the workspace of the parse */
+    int time_form;        /* SL_OBS_TIME_NUMBERS, _DATES or _DATENUMS */
+    char sep;             /* ',', ';' or '\t' */
+} sl_series_size;
+
+/* Caller-owned buffers of sl_obsfile_parse_series. Series k has its name
+ * (lower case) at names + name_at[k], its unit ("" = none) at units +
+ * unit_at[k], and its value at time[i] in values[i + k*rows]. filled
+ * (optional, cols) receives the number of cells filled per series. */
+typedef struct {
+    char *names;     /* name_bytes */
+    size_t *name_at; /* cols */
+    char *units;     /* unit_bytes */
+    size_t *unit_at; /* cols */
+    double *time;    /* rows */
+    double *values;  /* rows * cols */
+    size_t *filled;  /* cols (optional) */
+    void *work;      /* work_bytes */
+} sl_series_table;
+
+/* Check the text buf[0..len-1] as a series table and report the sizes a
+ * parse needs (duplicate times that sorting brings together, and gaps a
+ * fill cannot close, are found by the parse). Does not allocate. */
+sl_status sl_obsfile_measure_series(const char *buf, size_t len,
+                                    const sl_series_read_opts *opts,
+                                    sl_series_size *size, sl_error *err);
+
+/* Parse buf into tab, whose buffers have the sizes `size` reports. */
+sl_status sl_obsfile_parse_series(const char *buf, size_t len,
+                                  const sl_series_read_opts *opts,
+                                  const sl_series_size *size,
+                                  sl_series_table *tab, sl_error *err);
+
+/* A series table to format. */
+typedef struct {
+    size_t rows, cols;
+    const double *time;        /* rows: finite, increasing */
+    const double *values;      /* rows * cols: finite or NaN (written NaN) */
+    const char *const *names;  /* cols column names (not time or date) */
+    const char *const *units;  /* cols units ("" = none), or NULL */
+    int dated;                 /* 1: times are written as dates */
+    sl_utc origin;             /* with dated: the instant of time 0 */
+    double unit_days;          /* with dated: the time unit in days */
+} sl_series_data;
+
+/* Format d as CSV text: a header "time,name [unit],...", then one line per
+ * row; numbers as %.17g (read back to the same bits); with d->dated the
+ * times as dates (sl_date_after, sl_date_format: a time read from a date
+ * to the second gives back that date, and reads back to the same bits).
+ * Checks: names valid and distinct without regard to case, none time or
+ * date ("badheader"); units without a comma, quote, bracket or line break
+ * ("badheader"); times finite ("badtime"), increasing ("badorder",
+ * "duptime"), dates within 0000-9999 ("baddate"); values not infinite
+ * ("badnumber"). *need, buf and cap as for sl_obsfile_format. */
+sl_status sl_obsfile_format_series(const sl_series_data *d, char *buf,
+                                   size_t cap, size_t *need, sl_error *err);
+
 #ifdef __cplusplus
 }
 #endif

@@ -30,9 +30,11 @@
 %   crps           - Continuous ranked probability score of an ensemble.
 %   rank_histogram - Where observations fall among the ensemble members.
 %
-% Read and write observation files
+% Read and write observation and forcing files
 %   read_obs       - Read a long observation table from a CSV file.
 %   write_obs      - Write a long observation table to a CSV file.
+%   read_forcing   - Read forcing series (rain, evaporation ...) from a CSV file.
+%   write_forcing  - Write forcing series to a CSV file.
 %
 % Report
 %   report         - PNG figures, CSV tables and a summary of a run or sweep.

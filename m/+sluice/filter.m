@@ -103,7 +103,16 @@
 % struct with @code{time} (nt x 1), @code{values} (nt x q, a column per
 % forcing of the model) and @code{interp} (@code{'linear'} (default) or
 % @code{'previous'}: hold each value until the next). A model step from
-% t uses the forcing at t.
+% t uses the forcing at t. With a field @code{names} (a cellstr, one per
+% column of @code{values}, as @code{sluice.read_forcing} returns) the
+% columns are matched to the model's forcings by name, without regard to
+% case where no name is equal, in any order; other columns are left aside
+% and a forcing without a column is an error
+% (@code{sluice:filter:noforcing}). A forcing read with dates carries
+% @code{time_origin} and @code{time_unit}; they must then equal the run's
+% @code{origin} and @code{time_unit} (@code{sluice:filter:forcingorigin}
+% otherwise: the times are not converted). A run without @code{origin}
+% takes the forcing's times as model times.
 % @item forcing_noise
 % struct with @code{kind} (@code{'none'}, @code{'additive'} or
 % @code{'multiplicative'}; a string, or a cellstr with one per forcing),
@@ -379,7 +388,7 @@ function res = filter (model, prior, obs, varargin)
   obs_first = [0, cumsum(accumarray (cyc(:), 1, [T 1]))'];
 
   c = sluice.kernel.model_config (model, opts.forcing, opts.forcing_noise, ...
-                                  opts.events, opts.event_noise, 'filter');
+                                  opts.events, opts.event_noise, 'filter', opts.calendar);
   c.members = N;
   c.t0 = t0;
   c.times = times;

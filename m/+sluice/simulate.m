@@ -10,7 +10,9 @@
 % @var{X}(:, 1) = @var{x0}). @var{X} is n x numel(@var{times}).
 %
 % @var{forcing} is a struct with @code{time} and @code{values} (one column
-% per forcing of the model), as for @code{sluice.filter}. Options:
+% per forcing of the model), as for @code{sluice.filter}; a struct from
+% @code{sluice.read_forcing} has @code{names}, and its columns are matched
+% to the model's forcings by name. Options:
 % @code{'events'} (struct with @code{time}, @code{values} for a model with
 % events, such as the flood model's high-water levels W), @code{'seed'}
 % (for models whose own dynamics are random, default 1).
@@ -18,7 +20,7 @@
 % This is the "truth" run of a twin experiment. A trajectory that blows
 % up (a non-finite state) is returned as it is, with a warning
 % (@code{sluice:simulate:nonfinite}).
-% @seealso{sluice.propagate, sluice.model, sluice.filter}
+% @seealso{sluice.propagate, sluice.model, sluice.filter, sluice.read_forcing}
 % @end deftypefn
 function [X, times] = simulate (model, x0, params, times, forcing, varargin)
   if (nargin < 4)

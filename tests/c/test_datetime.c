@@ -151,5 +151,49 @@ int main(void)
     CHECK(strcmp(buf, "2000-02-29") == 0, "midnight written as a date: %s", buf);
     sl_date_format(parse_ok("2000-02-29T06:30:15+00:00"), buf, sizeof buf);
     CHECK(strcmp(buf, "2000-02-29T06:30:15Z") == 0, "date-time written in UTC: %s", buf);
+
+    /* sl_date_after undoes sl_date_elapsed: instants on whole seconds over
+     * 0000-9999 against origins on whole and half seconds, in days and in
+     * years of 365.25 days, come back exactly (light: fewer) */
+    {
+        const double units[2] = {1, 365.25};
+        const int64_t lo = sl_date_days(0, 1, 1) * 86400, hi = sl_date_days(9999, 12, 31) * 86400;
+        size_t i, n = check_light_() ? 2000 : 200000, off = 0;
+        uint64_t x = 88172645463325252ull; /* xorshift64 (Marsaglia 2003) */
+        sl_utc o1 = parse_ok("1950-01-01"), o2 = parse_ok("2001-07-01T12:00:00.5");
+        for (i = 0; i < n; i++) {
+            sl_utc t, u, o = i % 2 ? o1 : o2;
+            double unit = units[(i / 2) % 2];
+            x ^= x << 13;
+            x ^= x >> 7;
+            x ^= x << 17;
+            t.sec = lo + (int64_t)(x % (uint64_t)(hi - lo));
+            t.frac = 0;
+            if (sl_date_after(o, sl_date_elapsed(t, o, unit), unit, &u, NULL) != SL_OK ||
+                u.sec != t.sec || u.frac != 0)
+                off++;
+        }
+        CHECK(off == 0, "after(elapsed(t)) != t for %zu of %zu instants", off, n);
+    }
+    /* hand-computed: 1.25 days after 2000-02-28 is 2000-02-29T06:00Z; half
+       a Julian year (182.625 days) after 2001-01-01 is 2001-07-02T15:00Z */
+    a = parse_ok("2000-02-28");
+    CHECK(sl_date_after(a, 1.25, 1, &b, NULL) == SL_OK &&
+              b.sec == parse_ok("2000-02-29T06:00Z").sec && b.frac == 0,
+          "1.25 days after 2000-02-28");
+    a = parse_ok("2001-01-01");
+    CHECK(sl_date_after(a, 0.5, 365.25, &b, NULL) == SL_OK &&
+              b.sec == parse_ok("2001-07-02T15:00Z").sec, "half a year after 2001-01-01");
+    CHECK(sl_date_after(a, -1.0 / 86400 / 4, 1, &b, NULL) == SL_OK &&
+              b.sec == a.sec - 1 && b.frac == 0.75, "a quarter second before");
+    {
+        sl_error err;
+        CHECK(sl_date_after(a, 1e9, 1, &b, &err) != SL_OK && strcmp(err.reason, "baddate") == 0,
+              "a time past 9999 is refused");
+        CHECK(sl_date_after(a, -800000, 1, &b, &err) != SL_OK && strcmp(err.reason, "baddate") == 0,
+              "a time before 0000 is refused");
+        CHECK(sl_date_after(a, NAN, 1, &b, &err) != SL_OK && strcmp(err.reason, "baddate") == 0,
+              "NaN is refused");
+    }
     CHECK_DONE("test_datetime");
 }

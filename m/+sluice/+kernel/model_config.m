@@ -1,8 +1,14 @@
-function c = model_config (model, forcing, forcing_noise, events, event_noise, fn)
+function c = model_config (model, forcing, forcing_noise, events, event_noise, fn, calendar)
   % Internal: the model, forcing and event fields of the configuration
   % that sluice.kernel.pf_run reads, checked, for the workflow function fn
   % (its name is used in error identifiers: sluice:<fn>:<reason>). The
   % caller has checked the spec on entry (sluice.kernel.check_model).
+  % calendar (optional) is the run's time axis from
+  % sluice.kernel.time_origin, or []: a forcing that carries another
+  % origin or time unit is refused (sluice:<fn>:forcingorigin).
+  if (nargin < 7)
+    calendar = [];
+  end
   n = numel (model.states);
   p = numel (model.params);
   q = numel (model.forcings);
@@ -17,11 +23,11 @@ function c = model_config (model, forcing, forcing_noise, events, event_noise, f
   c.rtol = model.rtol;
   c.atol = model.atol;
   c.A = model.A; c.B = model.B; c.c = model.c; c.L = model.L; c.fun = model.fun;
-  c = add_forcing (c, forcing, forcing_noise, q, model, fn);
+  c = add_forcing (c, forcing, forcing_noise, q, model, fn, calendar);
   c = add_events (c, events, event_noise, model, fn);
 end
 
-function c = add_forcing (c, f, fn_noise, q, model, fn)
+function c = add_forcing (c, f, fn_noise, q, model, fn, calendar)
   c.forcing_time = [];
   c.forcing_value = zeros (0, q);
   c.forcing_hold = 0;
@@ -41,10 +47,20 @@ function c = add_forcing (c, f, fn_noise, q, model, fn)
   end
   tf = f.time(:);
   vals = f.values;
+  if (isfield (f, 'names'))
+    % series named (sluice.read_forcing): the model's forcings by name
+    if (~isa (vals, 'double') || ~isreal (vals) || ndims (vals) ~= 2 || ...
+        size (vals, 1) ~= numel (tf))
+      error (id, 'forcing values must be real doubles with one row per forcing time (%d)', ...
+             numel (tf));
+    end
+    vals = vals(:, series_columns (f.names, size (vals, 2), model.forcings, fn));
+  end
   if (~isa (vals, 'double') || ~isreal (vals) || size (vals, 1) ~= numel (tf) || size (vals, 2) ~= q)
     error (id, ['forcing values must be %d x %d real doubles (one row per forcing ', ...
                 'time, one column per forcing: %s)'], numel (tf), q, strjoin (model.forcings, ', '));
   end
+  check_calendar (f, calendar, fn);
   if (~isa (tf, 'double') || ~isreal (tf) || any (~isfinite (tf)) || any (diff (tf) <= 0))
     error (id, 'forcing times must be finite, real and increasing');
   end
@@ -64,6 +80,65 @@ function c = add_forcing (c, f, fn_noise, q, model, fn)
   c.forcing_noise = kind;
   c.forcing_sd = sd;
   c.forcing_phi = phi;
+end
+
+function idx = series_columns (names, ncol, wanted, fn)
+  % the column of each of the model's forcings among the named series:
+  % the same name, else the one name equal without regard to case
+  id = ['sluice:' fn ':badforcing'];
+  if (~iscellstr (names) || numel (names) ~= ncol)
+    error (id, 'forcing names must be a cellstr with one name per column of values (%d)', ncol);
+  end
+  names = names(:)';
+  idx = zeros (1, numel (wanted));
+  for k = 1:numel (wanted)
+    hit = find (strcmp (names, wanted{k}));
+    if (isempty (hit))
+      hit = find (strcmpi (names, wanted{k}));
+    end
+    if (isempty (hit))
+      error (['sluice:' fn ':noforcing'], ...
+             ['the forcing has no series ''%s'' (the model''s forcings are %s; the ', ...
+              'series are %s): name the file''s columns after the model''s forcings, ', ...
+              'or set forcing.names'], ...
+             wanted{k}, strjoin (wanted, ', '), strjoin (names, ', '));
+    end
+    if (numel (hit) > 1)
+      error (id, 'the forcing names ''%s'' more than once (series %s)', wanted{k}, ...
+             strjoin (arrayfun (@num2str, hit, 'UniformOutput', false), ', '));
+    end
+    idx(k) = hit;
+  end
+end
+
+function check_calendar (f, calendar, fn)
+  % a forcing read with dates carries its origin and unit: they must be
+  % the run's (a run without an origin has nothing to compare)
+  if (~isfield (f, 'time_origin') || ...
+      (isempty (f.time_origin) && (ischar (f.time_origin) || isnumeric (f.time_origin))))
+    return;
+  end
+  id = ['sluice:' fn ':badforcing'];
+  unit = 'days';
+  if (isfield (f, 'time_unit'))
+    unit = f.time_unit;
+  end
+  try
+    fc = sluice.kernel.time_origin (f.time_origin, unit, fn);
+  catch err
+    error (id, 'forcing.time_origin / time_unit: %s', ...
+           regexprep (err.message, '^option ''[a-z_]+'': ', ''));
+  end
+  if (isempty (calendar))
+    return;
+  end
+  if (~strcmp (fc.text, calendar.text) || ~strcmp (fc.unit, calendar.unit))
+    error (['sluice:' fn ':forcingorigin'], ...
+           ['the forcing''s times count %s from %s (it was read with that origin), ', ...
+            'the run''s count %s from %s (options origin and time_unit): read the ', ...
+            'forcing with the run''s origin and unit'], ...
+           fc.unit, fc.text, calendar.unit, calendar.text);
+  end
 end
 
 function c = add_events (c, ev, ev_noise, model, fn)

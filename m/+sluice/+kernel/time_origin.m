@@ -16,7 +16,7 @@ function o = time_origin (origin, unit, fn)
   try
     [dn, text] = sluice.kernel.obsfile ('date', origin);
   catch err
-    msg = regexprep (err.message, '^date: ', '');
+    msg = regexprep (err.message, '^(obsfile|date): ', '');
     error (['sluice:' fn ':badorigin'], 'option ''origin'': %s', msg);
   end
   if (iscell (text))
@@ -39,7 +39,7 @@ end
 %! o = sluice.kernel.time_origin (datenum (1999, 12, 31), 'days', 'x');
 %! assert (o.text, '1999-12-31');
 %!error id=sluice:x:badorigin sluice.kernel.time_origin ('2001-02-29', 'days', 'x')
-%!error <February 2001 has 28 days> sluice.kernel.time_origin ('2001-02-29', 'days', 'x')
+%!error <^option 'origin': '2001-02-29' is not a date: February 2001 has 28 days> sluice.kernel.time_origin ('2001-02-29', 'days', 'x')
 %!error id=sluice:x:badorigin sluice.kernel.time_origin ({'2001-01-01'}, 'days', 'x')
 %!error id=sluice:x:badorigin sluice.kernel.time_origin (NaN, 'days', 'x')
 %!error id=sluice:x:badorigin sluice.kernel.time_origin (1e9, 'days', 'x')
