@@ -571,3 +571,18 @@ double sl_prior_logpdf(const sl_prior_entry *e, double x)
     v = d->logpdf(e, x);
     return isnan(v) ? -HUGE_VAL : v;
 }
+
+sl_status sl_prior_logpdf_points(size_t p, const sl_prior_entry *prior, size_t K,
+                                 const double *X, double *L, sl_error *err)
+{
+    size_t j, k;
+    for (k = 0; k < p; k++) {
+        sl_status st = sl_prior_check(&prior[k], k + 1, err);
+        if (st != SL_OK)
+            return st;
+    }
+    for (j = 0; j < K; j++)
+        for (k = 0; k < p; k++)
+            L[k + j * p] = sl_prior_logpdf(&prior[k], X[k + j * p]);
+    return SL_OK;
+}

@@ -76,6 +76,13 @@ void sl_prior_support(const sl_prior_entry *e, double *lo, double *hi);
  * value (a point mass, never moved) and -Inf elsewhere. */
 double sl_prior_logpdf(const sl_prior_entry *e, double x);
 
+/* The log-densities of K points of p parameters: L[k + j p] is entry k's
+ * log-density at X[k + j p] (X and L p x K, column-major), as
+ * sl_prior_logpdf gives it. Every entry is checked first (reasons as
+ * sl_prior_check's); nothing is written when one is invalid. */
+sl_status sl_prior_logpdf_points(size_t p, const sl_prior_entry *prior, size_t K,
+                                 const double *X, double *L, sl_error *err);
+
 /* Draw member j = first .. first+N-1 of p parameters into P (p x N,
  * column-major): member j uses stream (seed, j, 0, SL_PURPOSE_PRIOR) alone,
  * so its values do not depend on N or on the other members. */

@@ -89,7 +89,9 @@ function s = chain_summary (samples, varargin)
   if (isempty (opts.quantiles))
     s.quantiles = zeros (p, 0);
   else
-    s.quantiles = quantile (pooled, opts.quantiles, 1)';
+    % levels as a column: with one quantity (pooled a column) Octave's
+    % quantile would otherwise return them as a row
+    s.quantiles = reshape (quantile (pooled, opts.quantiles(:), 1), numel (opts.quantiles), p)';
   end
   s.rhat = nan (p, 1);
   s.ess = nan (p, 1);
@@ -189,6 +191,10 @@ end
 %! assert (s.names, {'a'; 'b'});
 %! assert ([s.iterations s.chains s.draws], [50 3 150]);
 %! assert (s.mcse, s.sd ./ sqrt (s.ess), 1e-14);
+%! % one quantity: still p x nq (1 x nq), against Octave's quantile
+%! s1 = sluice.chain_summary (x(:, 2, :), 'quantiles', [0.1 0.5 0.9]);
+%! assert (size (s1.quantiles), [1 3]);
+%! assert (s1.quantiles, quantile (y(:, 2), [0.1; 0.5; 0.9])', 1e-14);
 
 %!test
 %! % split R-hat and the ESS against the formulas of Gelman et al., BDA3

@@ -161,7 +161,8 @@
 % @code{min_ess}, @code{target_acceptance}, @code{proposal} (d x d x
 % chains, the proposal covariance at the end, transformed space),
 % @code{scale} (1 x chains), @code{chain_state} (what a continuation
-% needs), @code{transforms} (d x 1:
+% needs), @code{prior} (d x 1, the prior entries of the free parameters,
+% as @code{sluice.prior} made them), @code{transforms} (d x 1:
 % 'none', 'log', 'neglog', 'logit'), @code{lower}, @code{upper},
 % @code{start} (d x chains, the starting points), @code{degenerate}
 % (1 x chains, filter runs with log-evidence -Inf or NaN),
@@ -201,7 +202,9 @@
 % pmmh result, other parameters, an option that cannot change), and the
 % warnings @code{sluice:pmmh:notconverged} and @code{sluice:pmmh:lowess};
 % errors of the filter keep their own identifiers.
-% @seealso{sluice.filter, sluice.prior, sluice.chain_summary}
+% @code{sluice.report (@var{res})} draws the chains: traces, densities,
+% a table and the convergence verdict.
+% @seealso{sluice.filter, sluice.prior, sluice.chain_summary, sluice.report}
 % @end deftypefn
 function res = pmmh (model, prior, obs, varargin)
   if (nargin == 2 && isstruct (model) && isscalar (model) && isfield (model, 'pmmh_job'))
@@ -317,6 +320,7 @@ function res = pmmh (model, prior, obs, varargin)
   else
     res.summary = [];
   end
+  res.prior = S.free_prior(:);
   res.transforms = S.tnames;
   res.lower = S.lo;
   res.upper = S.hi;

@@ -2,7 +2,7 @@
 % @deftypefn  {} {@var{files} =} sluice.report (@var{res})
 % @deftypefnx {} {@var{files} =} sluice.report (@var{res}, @var{opts})
 % @deftypefnx {} {@var{files} =} sluice.report (@var{res}, @var{name}, @var{value}, @dots{})
-% Write a report of a filter run or of a sweep: figures, tables, a summary.
+% Write figures, tables and a summary of a filter run, a sweep or MCMC chains.
 % The PNG figures, CSV tables and plain-text summary go in one directory.
 %
 % @var{res} is a result of @code{sluice.filter} or of @code{sluice.twin}
@@ -71,6 +71,27 @@
 % with points. Plus @code{sweep.csv} (the table) and @code{summary.txt}
 % (the best point of every score).
 %
+% An MCMC report (@var{res} a result of @code{sluice.pmmh}) writes, for
+% every parameter, @code{trace_<name>.png} (each chain's kept draws
+% against the iteration, the chains told apart by colour, line style and
+% marker; its split R-hat and bulk ESS in the title) and
+% @code{density_<name>.png} (a histogram of the draws of all chains as a
+% density, bins by the Rice rule 2 N^(1/3) within 10 to 60, each
+% chain's histogram as a line, the 2.5% and 97.5% quantiles, and the
+% prior density when the result carries its prior or @code{opts.prior}
+% gives it); @code{pairs.png} (the draws of every pair, for two to six
+% parameters); @code{chains.csv} (one row per parameter: name, unit,
+% and the numbers of the result's @code{summary} from
+% @code{sluice.chain_summary}: mean, sd, quantiles, split R-hat, ESS,
+% bulk ESS, Monte Carlo standard error); and @code{summary.txt} (the
+% verdict: converged when every split R-hat is at most the run's
+% @code{max_rhat} and every bulk ESS at least its @code{min_ess}, the
+% numbers per parameter, each chain's acceptance rate). The burn-in is
+% not kept by @code{sluice.pmmh}: the traces start after it. The summary
+% of @code{sluice.chain_summary} alone is refused: it holds no draws.
+% An edited result is refused with @code{sluice:report:badchains}
+% naming the field.
+%
 % Options (a struct or name/value pairs):
 % @table @code
 % @item outdir
@@ -87,7 +108,8 @@
 % rank histogram counts from @code{sluice.rank_histogram}.
 % @item units
 % struct of unit strings by variable name, e.g.
-% @code{struct ('level', 'm')}, used in the axis labels.
+% @code{struct ('level', 'm')}, used in the axis labels (and in
+% @code{chains.csv}).
 % @item time_unit
 % unit of time for the axis labels (default none). A run with a calendar
 % (@code{sluice.filter} with @code{origin}) is drawn against dates
@@ -99,7 +121,12 @@
 % cellstr of the states, parameters and derived quantities to draw
 % (default: every state except the model's internal ones, such as GR4J's
 % unit-hydrograph queues, every parameter that moved, and the derived
-% quantities that were observed). The CSV tables hold them all.
+% quantities that were observed; in an MCMC report, every parameter).
+% The CSV tables hold them all.
+% @item prior
+% MCMC report: a prior (@code{sluice.prior}) whose density to draw over
+% the histograms, such as the one given to @code{sluice.pmmh}; entries
+% for other names are ignored. Default the result's own @code{prior}.
 % @item log_scale
 % cellstr of variables whose fan chart is drawn on a logarithmic axis
 % (for quantities that grow by orders of magnitude, such as settlement
@@ -112,13 +139,22 @@
 %
 % @var{files} is a cellstr of the files written.
 %
-% @seealso{sluice.filter, sluice.twin, sluice.rank_histogram}
+% @seealso{sluice.filter, sluice.twin, sluice.rank_histogram, sluice.pmmh, sluice.chain_summary}
 % @end deftypefn
 function files = report (res, varargin)
   if (nargin < 1)
     sluice.kernel.compat ('usage', mfilename ());
   end
   opts = parse_options (varargin);
+  if (is_chain_result (res))
+    % a result of sluice.pmmh: its chains (it has a seed, as a sweep table has)
+    sluice.kernel.check_chains (res, 1, 'report');
+    toolkit = find_toolkit ();
+    old = warning ('off', 'Octave:gnuplot-graphics');
+    restore = onCleanup (@() warning (old));
+    files = chain_report (res, opts, toolkit);
+    return;
+  end
   if (is_sweep_table (res))
     sluice.kernel.check_sweep (res, 1, 'report');
     toolkit = find_toolkit ();
@@ -271,7 +307,7 @@ end
 function opts = parse_options (args)
   opts = struct ('outdir', 'out/report', 'obs', [], 'truth', [], 'rank', [], ...
                  'units', struct (), 'time_unit', '', 'title', '', 'log_scale', {{}}, ...
-                 'axes', {{}}, 'scores', {{}}, 'variables', []);
+                 'axes', {{}}, 'scores', {{}}, 'variables', [], 'prior', []);
   args = sluice.kernel.option_pairs (args);
   if (mod (numel (args), 2) ~= 0)
     error ('sluice:report:badoption', ...
@@ -1414,6 +1450,460 @@ function s = ifelse (c, a, b)
   else
     s = b;
   end
+end
+
+% ---------------------------------------------------------------------------
+% The report of a sluice.pmmh result: traces, marginal densities, pairs,
+% chains.csv and summary.txt. The statistics are those of the result's
+% summary (sluice.chain_summary); nothing here recomputes them.
+
+function tf = is_chain_result (res)
+  % a result of sluice.pmmh (its draws), or the summary of
+  % sluice.chain_summary alone, which is refused here: it holds no draws
+  tf = false;
+  if (~isstruct (res) || ~isscalar (res) || isfield (res, 'state_names') || ...
+      isfield (res, 'filter'))
+    return;
+  end
+  if (isfield (res, 'samples'))
+    tf = true;
+  elseif (isfield (res, 'rhat') && isfield (res, 'ess_bulk'))
+    error ('sluice:report:badresult', ...
+           ['argument 1 (res): this is a summary of sluice.chain_summary, which holds no ', ...
+            'draws to draw; pass the result of sluice.pmmh (its field summary is such a ', ...
+            'summary, and its samples are the draws)']);
+  end
+end
+
+function files = chain_report (res, opts, tk)
+  X = res.samples;
+  [n, d, C] = size (X);
+  names = res.names(:);
+  show = chain_variables (names, opts);
+  dens = chain_prior (res, opts, names);
+  it = res.burnin + res.thin * (1:n)';       % the iterations kept (see sluice.pmmh)
+  outdir = opts.outdir;
+  make_outdir (outdir);
+  files = {};
+  for k = find (show(:))'
+    Y = reshape (X(:, k, :), n, C);
+    base = safe_name (names{k});
+    f = fullfile (outdir, ['trace_', base, '.png']);
+    trace_chart (f, tk, it, Y, names{k}, label (names{k}, opts), res, k);
+    files{end + 1} = f;
+    f = fullfile (outdir, ['density_', base, '.png']);
+    density_chart (f, tk, Y, names{k}, label (names{k}, opts), res.summary, k, dens(k));
+    files{end + 1} = f;
+  end
+  ks = find (show(:))';
+  if (numel (ks) >= 2 && numel (ks) <= 6)
+    f = fullfile (outdir, 'pairs.png');
+    pairs_chart (f, tk, X(:, ks, :), names(ks), opts);
+    files{end + 1} = f;
+  end
+  f = fullfile (outdir, 'chains.csv');
+  write_chain_table (f, res, names, opts);
+  files{end + 1} = f;
+  f = fullfile (outdir, 'summary.txt');
+  write_chain_text (f, res, opts, tk, show, dens);
+  files{end + 1} = f;
+  files = files(:);
+end
+
+function show = chain_variables (names, opts)
+  % the parameters to draw: those asked for ('variables'), or all
+  if (isempty (opts.variables))
+    show = true (numel (names), 1);
+    return;
+  end
+  show = ismember (names, opts.variables(:));
+  unknown = setdiff (opts.variables(:), names);
+  if (~isempty (unknown))
+    error ('sluice:report:badoption', ...
+           'variables: ''%s'' is not a parameter of the chains (they are %s)', ...
+           unknown{1}, strjoin (names(:)', ', '));
+  end
+end
+
+function dens = chain_prior (res, opts, names)
+  % each parameter's prior entry, for its density: the option 'prior' (the
+  % prior given to sluice.pmmh, its other entries ignored) or the result's
+  % own; dens(k).ok is false when parameter k has none or a fixed one
+  d = numel (names);
+  dens = struct ('ok', num2cell (false (d, 1)), 'id', 0, 'a', 0, 'b', 0, 'lo', 0, 'hi', 0, ...
+                 'dist', '');
+  pr = opts.prior;
+  where = 'option prior';
+  if (isempty (pr) && isfield (res, 'prior') && ~isempty (res.prior))
+    pr = res.prior;
+    where = 'argument 1 (res): field ''prior''';
+  end
+  if (isempty (pr))
+    return;
+  end
+  [ids, a, b, lo, hi, pn] = sluice.kernel.check_prior (pr, where, 'report');
+  for k = 1:d
+    j = find (strcmp (pn, names{k}), 1);
+    if (isempty (j) || strcmp (pr(j).dist, 'fixed'))
+      continue;
+    end
+    dens(k) = struct ('ok', true, 'id', ids(j), 'a', a(j), 'b', b(j), 'lo', lo(j), ...
+                      'hi', hi(j), 'dist', pr(j).dist);
+  end
+end
+
+function [col, ls, mk] = chain_style (c)
+  % chain c's colour, line style and marker: colours from the report's
+  % palette, and styles and markers that differ too, so the chains stay
+  % apart in grey print and for readers who do not tell the colours apart
+  cols = {palette('line'), palette('smooth'), palette('obs'), palette('inner'), palette('mark')};
+  styles = {'-', '--', ':', '-.'};
+  marks = {'o', 's', '^', 'd', 'v', 'x', '+'};
+  col = cols{mod (c - 1, numel (cols)) + 1};
+  ls = styles{mod (c - 1, numel (styles)) + 1};
+  mk = marks{mod (c - 1, numel (marks)) + 1};
+end
+
+function h = chain_lines (x, Y, c, every, width)
+  % one chain as a line in its style, its marker on every every-th point
+  % (shifted per chain so the marks of different chains do not sit on one
+  % another); h is a legend handle showing line and marker together
+  [col, ls, mk] = chain_style (c);
+  m = numel (x);
+  plot (x, Y, ls, 'color', col, 'linewidth', width);
+  first = 1 + mod (round ((c - 1) * every / 3), max (every, 1));
+  j = first:every:m;
+  if (isempty (j))
+    j = m;
+  end
+  plot (x(j), Y(j), mk, 'color', col, 'markerfacecolor', 'none', 'markersize', 6, ...
+        'linewidth', width);
+  h = plot (NaN, NaN, [ls, mk], 'color', col, 'linewidth', width, 'markersize', 6);
+end
+
+function s = chain_name (res, c)
+  s = sprintf ('chain %d (acceptance %.2f)', c, res.acceptance(c));
+end
+
+function trace_chart (f, tk, it, Y, name, ylab, res, k)
+  [n, C] = size (Y);
+  h = new_figure (tk, [900 420]);
+  hold on;
+  hs = zeros (1, C);
+  leg = cell (1, C);
+  every = max (1, floor (n / 12));
+  for c = 1:C
+    hs(c) = chain_lines (it(:)', Y(:, c)', c, every, 1);
+    leg{c} = chain_name (res, c);
+  end
+  hold off;
+  tidy_axes ('on');
+  if (n > 1)
+    xlim ([res.burnin, it(end)]);
+  end
+  if (res.burnin > 0)
+    xl = sprintf ('iteration (burn-in: iterations 1 to %d, not kept', res.burnin);
+  else
+    xl = 'iteration (no burn-in';
+  end
+  if (res.thin > 1)
+    xl = sprintf ('%s; every %d-th iteration kept)', xl, res.thin);
+  else
+    xl = [xl, ')'];
+  end
+  xlabel (xl);
+  ylabel (ylab);
+  s = res.summary;
+  if (isempty (s))
+    diag_text = sprintf ('too few kept iterations (%d) for R-hat', n);
+  else
+    diag_text = sprintf ('split R-hat %.3f, bulk ESS %.0f', s.rhat(k), s.ess_bulk(k));
+  end
+  title (sprintf ('trace of %s: %d chain(s), %s', name, C, diag_text), 'interpreter', 'none');
+  legend (hs, leg, 'location', 'northeastoutside');
+  save_figure (h, f);
+end
+
+function [edges, dens] = histogram_density (x, edges)
+  % counts of x in the bins [e(i), e(i+1)) (the last bin closed) as a
+  % density: the bars' areas add up to 1
+  cnt = histc (x(:), edges);
+  cnt = cnt(:)';
+  cnt(end - 1) = cnt(end - 1) + cnt(end);
+  cnt = cnt(1:end - 1);
+  dens = cnt / (numel (x) * (edges(2) - edges(1)));
+end
+
+function density_chart (f, tk, Y, name, xlab, s, k, pd)
+  [n, C] = size (Y);
+  x = Y(:);
+  N = numel (x);
+  % bins by the Rice rule, 2 N^(1/3), kept between 10 and 60
+  nb = min (60, max (10, ceil (2 * N ^ (1/3))));
+  lo = min (x);
+  hi = max (x);
+  if (hi <= lo)
+    w = max (abs (lo), 1) * 1e-3;       % every draw equal: one narrow bin
+    lo = lo - w;
+    hi = hi + w;
+    nb = 1;
+  end
+  edges = linspace (lo, hi, nb + 1);
+  [edges, dp] = histogram_density (x, edges);
+  mid = (edges(1:end - 1) + edges(2:end)) / 2;
+  h = new_figure (tk, [900 450]);
+  hold on;
+  hs = bar (mid, dp, 1, 'facecolor', palette ('outer'), 'edgecolor', palette ('inner'));
+  leg = {sprintf('all chains (%d draws)', N)};
+  every = max (1, floor (nb / 5));
+  if (C > 1)
+    for c = 1:C
+      [~, dc] = histogram_density (Y(:, c), edges);
+      hs(end + 1) = chain_lines (mid, dc, c, every, 1.2);
+      leg{end + 1} = sprintf ('chain %d', c);
+    end
+  end
+  if (pd.ok)
+    xg = linspace (edges(1), edges(end), 201);
+    lp = sluice.kernel.prior_logpdf (pd.id, pd.a, pd.b, pd.lo, pd.hi, xg);
+    hs(end + 1) = plot (xg, exp (lp), '-', 'color', palette ('truth'), 'linewidth', 2.5);
+    leg{end + 1} = sprintf ('prior density (%s)', pd.dist);
+  end
+  if (~isempty (s))
+    lv = s.quantile_levels(:)';
+    i1 = level (lv, 0.025);
+    i2 = level (lv, 0.975);
+    if (~isempty (i1) && ~isempty (i2))
+      top = max ([dp(:); 0]) * 1.05;
+      q = s.quantiles(k, [i1 i2]);
+      hs(end + 1) = plot ([q(1) q(1)], [0 top], '--', 'color', [0.3 0.3 0.3], 'linewidth', 1.5);
+      plot ([q(2) q(2)], [0 top], '--', 'color', [0.3 0.3 0.3], 'linewidth', 1.5);
+      leg{end + 1} = '95% interval (2.5% and 97.5% quantiles)';
+    end
+  end
+  hold off;
+  tidy_axes ('off');
+  yl = ylim ();
+  ylim ([0, yl(2)]);
+  xlabel (xlab);
+  ylabel ('density');
+  title (sprintf ('marginal posterior of %s: histogram of the draws after burn-in (%d bins)', ...
+                  name, numel (mid)), 'interpreter', 'none');
+  legend (hs, leg, 'location', 'northeastoutside');
+  save_figure (h, f);
+end
+
+function pairs_chart (f, tk, X, names, opts)
+  % every pair of parameters: the draws of each chain as points in the
+  % chain's colour and marker, at most about 2000 points in all
+  [n, p, C] = size (X);
+  step = max (1, ceil (n * C / 2000));
+  rows = 1:step:n;
+  h = new_figure (tk, [300 * (p - 1) + 320, 280 * (p - 1) + 120]);
+  hs = zeros (1, C);
+  for i = 2:p
+    for j = 1:i - 1
+      subplot (p - 1, p - 1, (i - 2) * (p - 1) + j);
+      hold on;
+      for c = 1:C
+        [col, ~, mk] = chain_style (c);
+        hc = plot (X(rows, j, c), X(rows, i, c), mk, 'color', col, 'markersize', 3);
+        if (i == 2)
+          hs(c) = hc;     % the first panel's, for the legend
+        end
+      end
+      hold off;
+      tidy_axes ('on');
+      if (i == p)
+        xlabel (label (names{j}, opts));
+      end
+      if (j == 1)
+        ylabel (label (names{i}, opts));
+      end
+    end
+  end
+  subplot (p - 1, p - 1, 1);
+  if (step > 1)
+    what = sprintf ('every %d-th draw of each chain', step);
+  else
+    what = 'every draw';
+  end
+  title (sprintf ('pairs of parameters (%s)', what));
+  % the legend beside the first panel, where the upper triangle is empty
+  legend (hs, arrayfun (@(c) sprintf ('chain %d', c), 1:C, 'UniformOutput', false), ...
+          'location', 'northeastoutside');
+  save_figure (h, f);
+end
+
+function write_chain_table (f, res, names, opts)
+  % one row per parameter, the numbers of the result's summary as they are
+  s = res.summary;
+  d = numel (names);
+  if (isempty (s))
+    lv = [0.025 0.25 0.5 0.75 0.975];
+    Q = nan (d, numel (lv));
+    cols = nan (d, 6);
+  else
+    lv = s.quantile_levels(:)';
+    Q = s.quantiles;
+    cols = [s.mean, s.sd, s.rhat, s.ess, s.ess_bulk, s.mcse];
+  end
+  head = [{'parameter', 'unit', 'mean', 'sd'}, arrayfun(@qname, lv, 'UniformOutput', false), ...
+          {'rhat', 'ess', 'ess_bulk', 'mcse'}];
+  fid = open_file (f);
+  fprintf (fid, '%s\n', strjoin (head, ','));
+  fmt = [strjoin(repmat ({'%.10g'}, 1, 6 + numel (lv)), ','), '\n'];
+  for k = 1:d
+    u = '';
+    if (isfield (opts.units, names{k}))
+      u = opts.units.(names{k});
+    end
+    fprintf (fid, '%s,%s,', names{k}, strrep (u, ',', ' '));
+    fprintf (fid, fmt, [cols(k, 1:2), Q(k, :), cols(k, 3:6)]);
+  end
+  fclose (fid);
+end
+
+function [ok, bad_r, bad_e] = chain_verdict (res)
+  % the rule of sluice.pmmh: every split R-hat at most max_rhat and every
+  % bulk ESS at least min_ess (a NaN fails)
+  s = res.summary;
+  d = numel (res.names);
+  if (isempty (s))
+    ok = false;
+    bad_r = true (d, 1);
+    bad_e = true (d, 1);
+    return;
+  end
+  bad_r = ~(s.rhat <= res.max_rhat);
+  bad_e = ~(s.ess_bulk >= res.min_ess);
+  ok = ~any (bad_r) && ~any (bad_e);
+end
+
+function write_chain_text (f, res, opts, tk, show, dens)
+  [n, d, C] = size (res.samples);
+  names = res.names(:);
+  s = res.summary;
+  fid = open_file (f);
+  heading = opts.title;
+  if (isempty (heading))
+    heading = sprintf ('parameters %s', strjoin (names', ', '));
+  end
+  fprintf (fid, 'Report of an MCMC run (particle marginal Metropolis-Hastings): %s\n\n', heading);
+  fprintf (fid, 'parameters:          %s\n', strjoin (names', ', '));
+  fprintf (fid, 'chains:              %d, %d kept iteration(s) each (%d draws)\n', C, n, n * C);
+  fprintf (fid, 'burn-in:             %d iteration(s) per chain, not kept\n', res.burnin);
+  if (res.thin > 1)
+    fprintf (fid, 'thinning:            every %d-th iteration kept\n', res.thin);
+  else
+    fprintf (fid, 'thinning:            none (every iteration kept)\n');
+  end
+  if (isfield (res, 'members'))
+    fprintf (fid, 'particles per run:   %d\n', res.members);
+  end
+  if (isfield (res, 'seed'))
+    fprintf (fid, 'seed:                %.17g\n', res.seed);
+  end
+
+  [ok, bad_r, bad_e] = chain_verdict (res);
+  fprintf (fid, '\nConvergence: %s\n', ifelse (ok, 'CONVERGED', 'NOT CONVERGED'));
+  fprintf (fid, ['  limits: split R-hat at most %.4g and bulk ESS at least %.4g for every ', ...
+                 'parameter\n'], res.max_rhat, res.min_ess);
+  if (isempty (s))
+    fprintf (fid, ['  only %d kept iteration(s) per chain: split R-hat and ESS need at ', ...
+                   'least 4; run longer\n'], n);
+  else
+    fprintf (fid, '  %-14s %10s %10s  %s\n', 'parameter', 'R-hat', 'bulk ESS', 'verdict');
+    for k = 1:d
+      why = {};
+      if (bad_r(k))
+        why{end + 1} = sprintf ('R-hat above %.4g', res.max_rhat);
+      end
+      if (bad_e(k))
+        why{end + 1} = sprintf ('bulk ESS below %.4g', res.min_ess);
+      end
+      if (isempty (why))
+        why = {'ok'};
+      end
+      fprintf (fid, '  %-14s %10.4f %10.1f  %s\n', names{k}, s.rhat(k), s.ess_bulk(k), ...
+               strjoin (why, '; '));
+    end
+    if (~ok)
+      fprintf (fid, ['  run longer (sluice.pmmh with ''continue''), or start the chains ', ...
+                     'from a posterior (''start''); do not use these draws as they are\n']);
+    end
+  end
+  if (logical (res.converged) ~= ok)
+    fprintf (fid, ['  note: the result''s field converged says %s, which its summary and ', ...
+                   'limits do not (was the result edited?)\n'], ifelse (res.converged, 'true', 'false'));
+  end
+
+  fprintf (fid, '\nAcceptance rates (after the burn-in');
+  have_burn = isfield (res, 'acceptance_burnin') && res.burnin > 0;
+  if (have_burn)
+    fprintf (fid, '; during it');
+  end
+  fprintf (fid, ')');
+  if (isfield (res, 'target_acceptance'))
+    fprintf (fid, ', the adaptation''s target %.3g', res.target_acceptance);
+  end
+  fprintf (fid, ':\n');
+  for c = 1:C
+    fprintf (fid, '  chain %-3d %.3f', c, res.acceptance(c));
+    if (have_burn)
+      fprintf (fid, '  (%.3f)', res.acceptance_burnin(c));
+    end
+    extra = {};
+    what = {'degenerate', 'filter runs with log-evidence -Inf or NaN'; ...
+            'outside', 'proposals outside the prior''s support'; ...
+            'nonfinite_runs', 'runs with non-finite particles'};
+    for j = 1:size (what, 1)
+      if (isfield (res, what{j, 1}))
+        v = res.(what{j, 1});
+        if (v(c) > 0)
+          extra{end + 1} = sprintf ('%d %s', v(c), what{j, 2});
+        end
+      end
+    end
+    if (~isempty (extra))
+      fprintf (fid, '; %s', strjoin (extra, ', '));
+    end
+    fprintf (fid, '\n');
+  end
+
+  if (~isempty (s))
+    lv = s.quantile_levels(:)';
+    i1 = level (lv, 0.025);
+    i2 = level (lv, 0.975);
+    fprintf (fid, '\nPosterior summaries (all chains pooled; chains.csv has every column):\n');
+    for k = 1:d
+      fprintf (fid, '  %-14s mean %.6g, sd %.6g', names{k}, s.mean(k), s.sd(k));
+      if (~isempty (i1) && ~isempty (i2))
+        fprintf (fid, ', 95%% interval [%.6g, %.6g]', s.quantiles(k, i1), s.quantiles(k, i2));
+      end
+      fprintf (fid, '\n');
+    end
+  end
+
+  fprintf (fid, '\nFigures (drawn with the %s graphics toolkit):\n', tk);
+  fprintf (fid, ['  trace_<name>.png: every chain''s kept draws against the iteration, ', ...
+                 'each chain in its own colour, line style and marker\n']);
+  fprintf (fid, ['  density_<name>.png: histogram of the pooled draws as a density, each ', ...
+                 'chain''s histogram as a line, the 95%% interval']);
+  if (any ([dens.ok]))
+    fprintf (fid, ', the prior density (red)');
+  end
+  fprintf (fid, '\n');
+  np = sum (show);
+  if (np >= 2 && np <= 6)
+    fprintf (fid, '  pairs.png: the draws of every pair of parameters\n');
+  elseif (np > 6)
+    fprintf (fid, '  no pairs chart: more than 6 parameters (choose some with ''variables'')\n');
+  end
+  fprintf (fid, ['\nThis report supports studies of flood risk. It is not a flood warning ', ...
+                 'and not a basis for the design of defences; follow local codes and ', ...
+                 'licensed engineering practice.\n']);
+  fclose (fid);
 end
 
 %!error <Invalid call> sluice.report ()

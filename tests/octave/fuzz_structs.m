@@ -160,6 +160,7 @@ function sites = fixtures (outdir)
   sites(end+1) = site ('report/sweep', sw, 1, rep, 0.25);
   sites(end+1) = site ('scores/twin', tw.filter, 2, @(r) sluice.scores (r, tw.truth, tw.obs));
   sites(end+1) = site ('report/evidence', ev, 1, rep, 0.1);
+  sites(end+1) = site ('report/pmmh', chain, 2, rep, 0.25);
 end
 
 function s = site (name, value, depth, call, weight)
