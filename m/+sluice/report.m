@@ -978,9 +978,15 @@ function write_series (f, rf, names, n, xa)
   lv = rf.quantile_levels(:)';
   T = numel (rf.times);
   nq = numel (lv);
-  head = {'time'};
-  cols = rf.times(:);
-  for k = 1:numel (names)
+  K = numel (names);
+  % columns filled in place: growing the matrix column by column copies
+  % it every time, which a run with many states and cycles feels
+  head = cell (1, 1 + K * (nq + 1));
+  head{1} = 'time';
+  cols = zeros (T, 1 + K * (nq + 1) + 2);
+  cols(:, 1) = rf.times(:);
+  c = 1;
+  for k = 1:K
     if (k <= n)
       M = rf.states.mean(k, :);
       Q = reshape (rf.states.quantiles(k, :, :), nq, T);
@@ -988,27 +994,34 @@ function write_series (f, rf, names, n, xa)
       M = rf.params.mean(k - n, :);
       Q = reshape (rf.params.quantiles(k - n, :, :), nq, T);
     end
-    head{end + 1} = [safe_name(names{k}), '_mean'];
-    cols = [cols, M(:)];
+    c = c + 1;
+    head{c} = [safe_name(names{k}), '_mean'];
+    cols(:, c) = M(:);
     for j = 1:nq
-      head{end + 1} = [safe_name(names{k}), '_', qname(lv(j))];
-      cols = [cols, Q(j, :)'];
+      c = c + 1;
+      head{c} = [safe_name(names{k}), '_', qname(lv(j))];
+      cols(:, c) = Q(j, :)';
     end
   end
   head = [head, {'ess', 'resampled'}];
-  cols = [cols, rf.ess(:), double(rf.resampled(:))];
+  cols(:, end - 1) = rf.ess(:);
+  cols(:, end) = double (rf.resampled(:));
   fid = open_file (f);
-  fmt = [strjoin(repmat ({'%.10g'}, 1, size (cols, 2)), ','), '\n'];
   if (xa.dated)
-    % the date beside the model time: time,date,...
+    % the date beside the model time: time,date,...; the numbers of all
+    % rows are formatted in one call, then joined to their dates
     fprintf (fid, '%s\n', strjoin ([head(1), {'date'}, head(2:end)], ','));
     rest = [strjoin(repmat ({'%.10g'}, 1, size (cols, 2) - 1), ','), '\n'];
-    for i = 1:T
-      fprintf (fid, '%.10g,%s,', cols(i, 1), xa.dates{i});
-      fprintf (fid, rest, cols(i, 2:end));
-    end
+    body = sprintf (rest, cols(:, 2:end)');
+    tt = sprintf ('%.10g\n', cols(:, 1));
+    lines = cell (3, T);
+    lines(1, :) = regexp (tt(1:end - 1), '\n', 'split');
+    lines(2, :) = xa.dates(:)';
+    lines(3, :) = regexp (body(1:end - 1), '\n', 'split');
+    fprintf (fid, '%s,%s,%s\n', lines{:});
   else
     fprintf (fid, '%s\n', strjoin (head, ','));
+    fmt = [strjoin(repmat ({'%.10g'}, 1, size (cols, 2)), ','), '\n'];
     fprintf (fid, fmt, cols');
   end
   fclose (fid);
