@@ -442,24 +442,9 @@ function tidy_axes (xgrid)
 end
 
 function c = palette (which)
-  % the report's own colours: a family of blues for the ensemble, black
-  % observations, red truth, amber marks
-  switch (which)
-    case 'outer'
-      c = [0.80 0.87 0.96];
-    case 'inner'
-      c = [0.52 0.67 0.88];
-    case 'line'
-      c = [0.06 0.22 0.52];
-    case 'obs'
-      c = [0 0 0];
-    case 'truth'
-      c = [0.80 0.10 0.10];
-    case 'smooth'
-      c = [0.90 0.40 0.00];
-    otherwise
-      c = [0.85 0.55 0.05];
-  end
+  % the report's own colours, chosen for grey prints and colour-blind
+  % readers: see sluice.kernel.report_palette for the choice and the values
+  c = sluice.kernel.report_palette (which);
 end
 
 function i = level (lv, p)

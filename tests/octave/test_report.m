@@ -207,3 +207,76 @@
 %!error id=sluice:report:badoption sluice.report (res, 'outdir', tempname (), 'variables', {'nosuch'})
 %!error id=sluice:report:badoption sluice.report (res, 'outdir', tempname (), 'variables', 3)
 %!error id=sluice:filter:badmodel sluice.filter (setfield (sluice.model ('gr4j'), 'internal', 1), [], struct ('time', 1, 'variable', {{'Q'}}, 'value', 1, 'sigma', 1), 'progress', false)
+
+%!function L = srgb_to_linear (c)
+%! % the sRGB transfer function (IEC 61966-2-1)
+%! L = c / 12.92;
+%! k = c > 0.04045;
+%! L(k) = ((c(k) + 0.055) / 1.055) .^ 2.4;
+%!endfunction
+
+%!function lab = linear_to_lab (L)
+%! % linear sRGB (rows) to CIELAB under D65: the sRGB-to-XYZ matrix of
+%! % IEC 61966-2-1 and the CIE 1976 L*a*b* formulas (CIE 15:2004)
+%! M = [0.4124 0.3576 0.1805; 0.2126 0.7152 0.0722; 0.0193 0.1192 0.9505];
+%! X = min (max (L, 0), 1) * M' ./ [0.9505 1 1.0890];
+%! d = 6 / 29;
+%! g = X .^ (1 / 3);
+%! k = X <= d ^ 3;
+%! g(k) = X(k) / (3 * d ^ 2) + 4 / 29;
+%! lab = [116 * g(:, 2) - 16, 500 * (g(:, 1) - g(:, 2)), 200 * (g(:, 2) - g(:, 3))];
+%!endfunction
+
+%!test
+%! % the palette in grey: luma Y' = 0.299 R' + 0.587 G' + 0.114 B' on the
+%! % gamma-encoded values (ITU-R BT.601); every role has a grey of its own,
+%! % at least 0.1 from the next, the bands light and the lines dark
+%! P = sluice.kernel.report_palette ();
+%! assert (size (P.rgb), [numel(P.names), 3]);
+%! assert (all (P.rgb(:) >= 0 & P.rgb(:) <= 1));
+%! Y = P.rgb * [0.299; 0.587; 0.114];
+%! assert (all (diff (sort (Y)) >= 0.1));
+%! grey = @(n) Y(strcmp (P.names, n));
+%! assert (min (grey ('inner'), grey ('outer')) >= 0.7);
+%! assert (max ([grey('line'), grey('truth'), grey('smooth'), grey('obs')]) <= 0.5);
+%! % the truth line stands apart from the median line and from both bands
+%! assert (abs (grey ('truth') - grey ('line')) >= 0.25);
+%! assert (grey ('inner') - grey ('truth') >= 0.25);
+%! % one entry by name, and an unknown name falls back to the marks' colour
+%! assert (sluice.kernel.report_palette ('truth'), P.rgb(strcmp (P.names, 'truth'), :));
+%! assert (sluice.kernel.report_palette ('other'), sluice.kernel.report_palette ('mark'));
+
+%!test
+%! % colour-vision deficiencies: the full-severity (1.0) simulation
+%! % matrices of Machado, Oliveira and Fernandes (2009), "A physiologically-
+%! % based model for simulation of color vision deficiency", IEEE TVCG
+%! % 15(6), applied to linear RGB. Every pair of palette colours stays at
+%! % least 15 CIELAB units (Delta E*ab, CIE 1976) apart for normal vision
+%! % and under protanopia, deuteranopia and tritanopia.
+%! sim = {eye(3), ...
+%!        [0.152286 1.052583 -0.204868; 0.114503 0.786281 0.099216; -0.003882 -0.048116 1.051998], ...
+%!        [0.367322 0.860646 -0.227968; 0.280085 0.672501 0.047413; -0.011820 0.042940 0.968881], ...
+%!        [1.255528 -0.076749 -0.178779; -0.078411 0.930809 0.147602; 0.004733 0.691367 0.303900]};
+%! % each matrix keeps white white: its rows sum to 1 (a property the paper's matrices have)
+%! for v = 2:4
+%!   assert (sum (sim{v}, 2), ones (3, 1), 1e-5);
+%! end
+%! P = sluice.kernel.report_palette ();
+%! K = size (P.rgb, 1);
+%! for v = 1:4
+%!   lab = linear_to_lab (srgb_to_linear (P.rgb) * sim{v}');
+%!   for i = 1:K
+%!     for j = i + 1:K
+%!       dE = norm (lab(i, :) - lab(j, :));
+%!       assert (dE >= 15, sprintf ('vision %d: %s and %s only %.1f apart', v, ...
+%!                                  P.names{i}, P.names{j}, dE));
+%!     end
+%!   end
+%! end
+%! % the CIELAB conversion itself: white is L* 100, black 0, and sRGB's
+%! % pure red (Y = 0.2126, IEC 61966-2-1) is L* = 116 * 0.2126^(1/3) - 16
+%! % = 53.24 (CIE 1976 formula, by hand)
+%! lab = linear_to_lab ([1 1 1; 0 0 0; 1 0 0]);
+%! assert (lab(1:2, 1), [100; 0], 1e-3);
+%! assert (norm (lab(1, 2:3)), 0, 2e-3);
+%! assert (lab(3, 1), 53.24, 0.01);
