@@ -22,7 +22,8 @@
 %! unwind_protect
 %!   files = sluice.report (res, 'outdir', d, 'obs', obs, 'units', struct ('level', 'm'), ...
 %!                          'rank', [4 6 5 7 3]);
-%!   names = {'fan_level.png', 'ess.png', 'rank.png', 'summary.csv', 'final.csv', 'summary.txt'};
+%!   names = {'fan_level.png', 'ess.png', 'overview.png', 'rank.png', 'summary.csv', ...
+%!            'final.csv', 'summary.txt'};
 %!   assert (sort (cellfun (@(f) [fliplr(strtok (fliplr (f), filesep))], files, ...
 %!                          'UniformOutput', false)), sort (names(:)));
 %!   for k = 1:numel (names)
@@ -69,7 +70,7 @@
 %! d = tempname ();
 %! unwind_protect
 %!   files = sluice.report (r, struct ('outdir', d));
-%!   assert (numel (files), 5);
+%!   assert (numel (files), 6);
 %!   txt = fileread (fullfile (d, 'summary.txt'));
 %!   assert (~isempty (strfind (txt, 'the 50% band is not drawn')));
 %!   C = csvread (fullfile (d, 'summary.csv'), 1, 0);
@@ -199,6 +200,11 @@
 %!   [~, nm] = cellfun (@fileparts, files, 'UniformOutput', false);
 %!   assert (sort (nm(strncmp (nm, 'fan_', 4))), {'fan_Q'; 'fan_uh1_3'});
 %!   assert (~any (strcmp (nm, 'params')));
+%!   % the overview holds at most 8 variables and the summary names the rest
+%!   sluice.report (r, 'outdir', fullfile (d, 'c'), 'variables', s.states(4:13));
+%!   txt = fileread (fullfile (d, 'c', 'summary.txt'));
+%!   assert (~isempty (strfind (txt, ['overview.png: 2 variable(s) left out for room (', ...
+%!                                    s.states{12}, ', ', s.states{13}, ')'])));
 %! unwind_protect_cleanup
 %!   confirm_recursive_rmdir (false, 'local');
 %!   rmdir (d, 's');
@@ -207,6 +213,23 @@
 %!error id=sluice:report:badoption sluice.report (res, 'outdir', tempname (), 'variables', {'nosuch'})
 %!error id=sluice:report:badoption sluice.report (res, 'outdir', tempname (), 'variables', 3)
 %!error id=sluice:filter:badmodel sluice.filter (setfield (sluice.model ('gr4j'), 'internal', 1), [], struct ('time', 1, 'variable', {{'Q'}}, 'value', 1, 'sigma', 1), 'progress', false)
+
+%!function [w, h] = png_size (f)
+%! % width and height from the IHDR chunk, bytes 17-24, big-endian
+%! % (PNG specification, sections 5.2 and 11.2.2)
+%! fid = fopen (f, 'r');
+%! b = fread (fid, 24)';
+%! fclose (fid);
+%! w = b(17:20) * (256 .^ (3:-1:0))';
+%! h = b(21:24) * (256 .^ (3:-1:0))';
+%!endfunction
+
+%!function rm_dir (d)
+%! if (exist (d, 'dir'))
+%!   confirm_recursive_rmdir (false, 'local');
+%!   rmdir (d, 's');
+%! end
+%!endfunction
 
 %!function L = srgb_to_linear (c)
 %! % the sRGB transfer function (IEC 61966-2-1)
@@ -280,3 +303,173 @@
 %! assert (lab(1:2, 1), [100; 0], 1e-3);
 %! assert (norm (lab(1, 2:3)), 0, 2e-3);
 %! assert (lab(3, 1), 53.24, 0.01);
+
+%!shared rd, od
+%! % a daily GR4J record of 7 years with a calendar (2001-01-01 on): long
+%! % enough for panels, and for a second page (6 years a page)
+%! s = sluice.model ('gr4j');
+%! T = datenum (2007, 12, 31) - datenum (2001, 1, 1);
+%! t = (0:T)';
+%! rand ('state', 7);
+%! E = max (0.2, 2.2 + 1.8 * sin (2 * pi * (t - 100) / 365));
+%! P = (rand (T + 1, 1) < 0.35) .* (-6 * log (rand (T + 1, 1)));
+%! f = struct ('time', t, 'values', [P E], 'interp', 'previous');
+%! X = sluice.simulate (s, s.x0, s.defaults, 0:T, f);
+%! od = struct ('time', (1:T)', 'variable', {repmat({'Q'}, T, 1)}, 'value', X(63, 2:end)', ...
+%!              'sigma', 0.1 * ones (T, 1), 'family', {repmat({'lognormal'}, T, 1)});
+%! rd = sluice.filter (s, [], od, 'members', 30, 'seed', 4, 't0', 0, 'forcing', f, ...
+%!                     'progress', false, 'origin', '2001-01-01', ...
+%!                     'quantiles', [0.05 0.25 0.5 0.75 0.95]);
+
+%!test
+%! % a long daily record: one panel per calendar year, 6 a page, the 7th
+%! % year on a second page; the overview besides; the tables whole
+%! d = tempname ();
+%! unwind_protect
+%!   files = sluice.report (rd, 'outdir', d, 'obs', od, 'variables', {'Q'});
+%!   [~, nm, ext] = cellfun (@fileparts, files, 'UniformOutput', false);
+%!   nm = strcat (nm, ext);
+%!   assert (sort (nm), sort ({'fan_Q.png'; 'fan_Q_page2.png'; 'ess.png'; 'overview.png'; ...
+%!                             'summary.csv'; 'final.csv'; 'summary.txt'}));
+%!   for k = 1:numel (files)
+%!     s = dir (files{k});
+%!     assert (s.bytes > 0);
+%!   end
+%!   % a page of 6 panels is taller than wide, the second (one panel) is not
+%!   [w1, h1] = png_size (fullfile (d, 'fan_Q.png'));
+%!   [w2, h2] = png_size (fullfile (d, 'fan_Q_page2.png'));
+%!   assert (h1 > w1);
+%!   assert (w2, w1);
+%!   assert (h2 < h1 / 3);
+%!   txt = fileread (fullfile (d, 'summary.txt'));
+%!   assert (~isempty (strfind (txt, 'one panel per calendar year (2001 to 2007)')));
+%!   assert (~isempty (strfind (txt, '6 panels a page on 2 pages')));
+%!   [w, h] = png_size (fullfile (d, 'ess.png'));
+%!   assert ([w, h], [800, 450]);
+%!   % the CSV holds every cycle and every state, the unit-hydrograph queues too
+%!   C = csvread (fullfile (d, 'summary.csv'), 1, 0);
+%!   assert (size (C, 1), numel (rd.times));
+%!   assert (C(:, 1), rd.times(:));
+%!   head = fgetl_first (fullfile (d, 'summary.csv'));
+%!   assert (~isempty (strfind (head, 'uh2_40_q95')));
+%!   lines = strsplit (strtrim (fileread (fullfile (d, 'summary.csv'))), "\n");
+%!   % the last day: day 2555 after 2001-01-01 is 2007-12-31 (Octave's datestr)
+%!   assert (rd.times(end), 2555);
+%!   assert (datestr (datenum (2001, 1, 1) + 2555, 'yyyy-mm-dd'), '2007-12-31');
+%!   assert (strncmp (lines{end}, '2555,2007-12-31,', 16));
+%!   % 'none': one chart of the usual size
+%!   files = sluice.report (rd, 'outdir', fullfile (d, 'one'), 'obs', od, 'variables', {'Q'}, ...
+%!                          'panels', 'none');
+%!   assert (~any (~cellfun ('isempty', strfind (files, 'page2'))));
+%!   [w, h] = png_size (fullfile (d, 'one', 'fan_Q.png'));
+%!   assert ([w, h], [800, 450]);
+%!   txt = fileread (fullfile (d, 'one', 'summary.txt'));
+%!   assert (~isempty (strfind (txt, 'time charts: the whole run in one chart each')));
+%! unwind_protect_cleanup
+%!   rm_dir (d);
+%! end_unwind_protect
+
+%!test
+%! % 'period' as dates and as model times: one chart of that period,
+%! % the tables still whole
+%! d = tempname ();
+%! unwind_protect
+%!   sluice.report (rd, 'outdir', d, 'obs', od, 'variables', {'Q'}, ...
+%!                  'period', {'2003-03-01', '2003-09-30'}, 'log_scale', 'Q');
+%!   assert (exist (fullfile (d, 'fan_Q_page2.png'), 'file'), 0);
+%!   [w, h] = png_size (fullfile (d, 'fan_Q.png'));
+%!   assert ([w, h], [800, 450]);
+%!   txt = fileread (fullfile (d, 'summary.txt'));
+%!   assert (~isempty (strfind (txt, 'time charts: the period 2003-03-01 to 2003-09-30 in one chart each')));
+%!   C = csvread (fullfile (d, 'summary.csv'), 1, 0);
+%!   assert (size (C, 1), numel (rd.times));
+%!   % model times 400 to 800 are these dates (Octave's datestr), and span
+%!   % under two years: one chart; 'year' asks for panels: 2002 and 2003
+%!   sluice.report (rd, 'outdir', fullfile (d, 'b'), 'variables', {'Q'}, 'period', [400 800]);
+%!   txt = fileread (fullfile (d, 'b', 'summary.txt'));
+%!   want = sprintf ('the period %s to %s in one chart', ...
+%!                   datestr (datenum (2001, 1, 1) + 400, 'yyyy-mm-dd'), ...
+%!                   datestr (datenum (2001, 1, 1) + 800, 'yyyy-mm-dd'));
+%!   assert (~isempty (strfind (txt, want)));
+%!   assert (~isempty (strfind (want, '2002-02-05 to 2003-03-12')));
+%!   sluice.report (rd, 'outdir', fullfile (d, 'c'), 'variables', {'Q'}, 'period', [400 800], ...
+%!                  'panels', 'year');
+%!   txt = fileread (fullfile (d, 'c', 'summary.txt'));
+%!   assert (~isempty (strfind (txt, 'one panel per calendar year (2002 to 2003)')));
+%!   [w, h] = png_size (fullfile (d, 'c', 'fan_Q.png'));
+%!   assert (w, 1000);
+%! unwind_protect_cleanup
+%!   rm_dir (d);
+%! end_unwind_protect
+
+%!error <no cycle of the run> sluice.report (rd, 'outdir', tempname (), 'period', [5000 6000])
+%!error <no cycle of the run> sluice.report (rd, 'outdir', tempname (), 'period', {'1990-01-01', '1990-12-31'})
+%!error <not a date> sluice.report (rd, 'outdir', tempname (), 'period', {'2003-02-30', '2003-04-01'})
+%!error <does not come after> sluice.report (rd, 'outdir', tempname (), 'period', {'2003-04-01', '2003-01-01'})
+%!error id=sluice:report:badoption sluice.report (rd, 'outdir', tempname (), 'period', {'2003-02-30', '2003-04-01'})
+%!error id=sluice:report:badoption sluice.report (rd, 'outdir', tempname (), 'period', {'2003-04-01', '2003-01-01'})
+%!error id=sluice:report:badoption sluice.report (rd, 'outdir', tempname (), 'period', [5000 6000])
+%!error id=sluice:report:badoption sluice.report (rd, 'outdir', tempname (), 'period', [3 1])
+%!error id=sluice:report:badoption sluice.report (rd, 'outdir', tempname (), 'period', [1 NaN])
+%!error id=sluice:report:badoption sluice.report (rd, 'outdir', tempname (), 'period', [1 2 3])
+%!error id=sluice:report:badoption sluice.report (rd, 'outdir', tempname (), 'period', '2003')
+%!error id=sluice:report:badoption sluice.report (rd, 'outdir', tempname (), 'period', {'2003-01-01'})
+%!error id=sluice:report:badoption sluice.report (rd, 'outdir', tempname (), 'period', {1, 2})
+%!error id=sluice:report:badoption sluice.report (rd, 'outdir', tempname (), 'period', single ([1 2]))
+%!error id=sluice:report:badoption sluice.report (rd, 'outdir', tempname (), 'period', [1 2i])
+%!error id=sluice:report:badoption sluice.report (rd, 'outdir', tempname (), 'panels', 'weekly')
+%!error id=sluice:report:badoption sluice.report (rd, 'outdir', tempname (), 'panels', 3)
+
+%!test
+%! % dates for a run without a calendar are refused
+%! m = sluice.model ('linear', 'A', 0.9, 'Q', 0.1, 'states', {'level'});
+%! o = struct ('time', (1:5)', 'variable', {repmat({'level'}, 5, 1)}, 'value', (1:5)' / 5, ...
+%!             'sigma', ones (5, 1));
+%! r = sluice.filter (m, [], o, 'members', 20, 'seed', 1, 'progress', false);
+%! d = tempname ();
+%! try
+%!   sluice.report (r, 'outdir', d, 'period', {'2003-01-01', '2003-02-01'});
+%!   error ('no error');
+%! catch err
+%!   assert (err.identifier, 'sluice:report:badoption');
+%!   assert (~isempty (strfind (err.message, 'calendar')));
+%! end
+%! assert (~exist (d, 'dir'));
+
+%!test
+%! % a long record without a calendar: panels of 365 cycles; a log axis
+%! % with values <= 0 leaves them out and counts them; a variable with no
+%! % positive value is drawn on a linear axis, and the summary says both
+%! m = sluice.model ('linear', 'A', 0.95, 'Q', 0.1, 'states', {'level'});
+%! T = 800;
+%! randn ('state', 1);
+%! v = sin ((1:T)' / 30) + 0.2 * randn (T, 1);
+%! o = struct ('time', (1:T)', 'variable', {repmat({'level'}, T, 1)}, 'value', v, ...
+%!             'sigma', 0.3 * ones (T, 1));
+%! r = sluice.filter (m, [], o, 'members', 50, 'seed', 1, 'progress', false, ...
+%!                    'quantiles', [0.05 0.25 0.5 0.75 0.95]);
+%! m2 = sluice.model (@(t, X, P, U, dt) -abs (X) - 1, 'states', {'deficit'}, 'x0', -2);
+%! o2 = struct ('time', (1:5)', 'variable', {repmat({'deficit'}, 5, 1)}, 'value', -2 * ones (5, 1), ...
+%!              'sigma', ones (5, 1));
+%! r2 = sluice.filter (m2, [], o2, 'members', 20, 'seed', 1, 'progress', false);
+%! d = tempname ();
+%! unwind_protect
+%!   files = sluice.report (r, 'outdir', d, 'obs', o, 'log_scale', {'level'});
+%!   [~, nm] = cellfun (@fileparts, files, 'UniformOutput', false);
+%!   assert (any (strcmp (nm, 'overview')));
+%!   txt = fileread (fullfile (d, 'summary.txt'));
+%!   assert (~isempty (strfind (txt, 'one panel per 365 cycles (3 panels)')));
+%!   % the count: quantiles of the drawn period and observations <= 0
+%!   Q = reshape (r.states.quantiles(1, :, :), 5, []);
+%!   nbad = sum (Q(:) <= 0) + sum (v <= 0);
+%!   assert (nbad > 0);
+%!   assert (~isempty (strfind (txt, sprintf ('level: %d value(s) <= 0', nbad))));
+%!   assert (all (r2.states.quantiles(:) < 0));
+%!   sluice.report (r2, 'outdir', fullfile (d, 'b'), 'obs', o2, 'log_scale', 'deficit');
+%!   txt = fileread (fullfile (d, 'b', 'summary.txt'));
+%!   assert (~isempty (strfind (txt, ['deficit: no positive value in the drawn period, ', ...
+%!                                    'drawn on a linear axis'])));
+%!   assert (~isempty (strfind (txt, 'time charts: the whole run in one chart each')));
+%! unwind_protect_cleanup
+%!   rm_dir (d);
+%! end_unwind_protect
