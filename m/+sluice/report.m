@@ -10,8 +10,8 @@
 % the table of @code{sluice.sweep} (a sweep report, below). When the run
 % has a smoothed estimate (@code{res.smoothed}, from the filter's
 % @code{lag} or from @code{sluice.smooth}), the fan charts also draw the
-% smoothed median (an orange line) and 90% band (orange dashes), and @code{smoothed.csv}
-% holds them.
+% smoothed median (a purple dash-dot line) and 90% band (purple dashes),
+% and @code{smoothed.csv} holds them.
 % The figures are drawn without a display (@code{figure ('visible', 'off')}
 % and @code{print}); when no graphics toolkit can print, the error
 % @code{sluice:report:nographics} says so.
@@ -23,13 +23,24 @@
 % 50% and 90% bands as shaded areas (from the quantile levels 0.25, 0.75
 % and 0.05, 0.95 of the run; a band whose levels were not recorded is left
 % out and the summary says so), the observations of that variable as
-% points and the truth as a line when known.
+% black dots and the truth as a line when known. A state's long record
+% is drawn in panels (see @code{panels} below): one panel per calendar
+% year, stacked on a page of up to 6 panels; a longer record continues
+% on @code{fan_<name>_page2.png}, @code{fan_<name>_page3.png}, @dots{}
+% A parameter's fan chart is always one chart (parameters move slowly).
 % @item ess.png
-% effective sample size over time, the resampling threshold, and marks at
-% the cycles where the ensemble was resampled.
+% effective sample size over the drawn period, the resampling threshold,
+% and marks at the cycles where the ensemble was resampled (one chart: its
+% dips show at 2 or 3 daily cycles a pixel).
 % @item params.png
-% parameter trajectories: mean and 90% band over time, one panel each
-% (only when the model has parameters).
+% parameter trajectories: mean and 90% band over the drawn period, one
+% panel each (only when the model has parameters; never cut into years,
+% since parameters move slowly).
+% @item overview.png
+% the main panels on one page, over the drawn period on one axis each:
+% the fan charts of the observed states (of every drawn state when no
+% observations are given), of the parameters that moved (at most 8
+% charts in all; the summary names any left out) and the ESS.
 % @item rank.png
 % rank histogram, when @code{opts.rank} gives the counts.
 % @item summary.txt
@@ -130,7 +141,27 @@
 % @item log_scale
 % cellstr of variables whose fan chart is drawn on a logarithmic axis
 % (for quantities that grow by orders of magnitude, such as settlement
-% size).
+% size, or river flow). Values <= 0 cannot be drawn there: they are left
+% out (a line or band breaks at them) and the summary counts them; a
+% variable with no positive value in the drawn period is drawn on a
+% linear axis and the summary says so.
+% @item period
+% the part of the run the time charts draw: @code{[t1 t2]} in model time,
+% or, for a run with a calendar, two dates such as
+% @code{@{'2003-01-01', '2003-12-31'@}} (ISO 8601, UTC; both ends
+% included, a date alone meaning its 00:00). Default the whole run. The
+% CSV tables always hold the whole run. A period that holds no cycle of
+% the run is an error.
+% @item panels
+% @code{'auto'} (default), @code{'year'} or @code{'none'}: how the fan
+% charts of the states cut the drawn period. @code{'year'}: one
+% panel per calendar year, each spanning the whole year so that the
+% seasons line up from panel to panel, each with its own y range (the
+% overview compares the years on one axis); a run without a calendar is
+% cut into panels of 365 cycles instead. @code{'auto'} cuts a long
+% record: more than 730 cycles drawn (two years of daily cycles) and, with
+% a calendar, more than 730 days between the first and last of them.
+% Shorter records, and every record with @code{'none'}, get one chart.
 % @item axes
 % sweep report: the two dimensions of the heat maps (a cellstr).
 % @item scores
@@ -188,6 +219,7 @@ function files = report (res, varargin)
   idx = struct ('q05', i05, 'q25', i25, 'q50', i50, 'q75', i75, 'q95', i95);
 
   files = {};
+  notes = {};
   names = [rf.state_names(:); rf.param_names(:)];
   n = numel (rf.state_names);
   used = {};
@@ -215,10 +247,11 @@ function files = report (res, varargin)
     base = unique_name (['fan_', safe_name(names{k})], used);
     used{end + 1} = base;
     f = fullfile (outdir, [base, '.png']);
-    fan_chart (f, toolkit, xa.x (rf.times), M, Q, idx, bands, xa.x (to), yo, xa.x (tt), yt, ...
-               names{k}, label (names{k}, opts), xa, k > n, ...
-               any (strcmp (names{k}, opts.log_scale)), S);
-    files{end + 1} = f;
+    [fk, note] = fan_chart (f, toolkit, xa.x (rf.times), M, Q, idx, bands, xa.x (to), yo, ...
+                            xa.x (tt), yt, names{k}, label (names{k}, opts), xa, k > n, ...
+                            any (strcmp (names{k}, opts.log_scale)), S);
+    files = [files, fk];
+    notes{end + 1} = note;
   end
   % the derived quantities of the filter's operators: by default those
   % observed, drawn on their own axis with their observations
@@ -229,10 +262,11 @@ function files = report (res, varargin)
     base = unique_name (['fan_', safe_name(dnames{k})], used);
     used{end + 1} = base;
     f = fullfile (outdir, [base, '.png']);
-    fan_chart (f, toolkit, xa.x (rf.times), M, Q, idx, bands, xa.x (to), yo, [], [], ...
-               dnames{k}, label (dnames{k}, opts), xa, 'derived quantity', ...
-               any (strcmp (dnames{k}, opts.log_scale)), []);
-    files{end + 1} = f;
+    [fk, note] = fan_chart (f, toolkit, xa.x (rf.times), M, Q, idx, bands, xa.x (to), yo, ...
+                            [], [], dnames{k}, label (dnames{k}, opts), xa, 'derived quantity', ...
+                            any (strcmp (dnames{k}, opts.log_scale)), []);
+    files = [files, fk];
+    notes{end + 1} = note;
   end
   % binomial counts are not on the axis of the quantity they observe (its
   % logit): each such variable gets a chart of the counts beside the
@@ -261,8 +295,7 @@ function files = report (res, varargin)
   end
 
   f = fullfile (outdir, 'ess.png');
-  ess_chart (f, toolkit, rf, xa);
-  files{end + 1} = f;
+  files = [files, ess_chart(f, toolkit, rf, xa)];
 
   moving = moving & show(n + 1:end);
   if (any (moving))
@@ -270,6 +303,11 @@ function files = report (res, varargin)
     param_chart (f, toolkit, rf, idx, bands, truth, opts, xa, moving);
     files{end + 1} = f;
   end
+
+  % one page of the main panels, besides the single figures
+  f = fullfile (outdir, 'overview.png');
+  notes{end + 1} = overview_chart (f, toolkit, rf, obs, truth, idx, bands, opts, xa, show, moving, sm);
+  files{end + 1} = f;
 
   if (~isempty (opts.rank))
     f = fullfile (outdir, 'rank.png');
@@ -299,7 +337,8 @@ function files = report (res, varargin)
     end
   end
   f = fullfile (outdir, 'summary.txt');
-  write_text (f, rf, opts, bands, toolkit, scores, ~isempty (obs), ~isempty (truth), xa, skill);
+  write_text (f, rf, opts, bands, toolkit, scores, ~isempty (obs), ~isempty (truth), xa, ...
+              notes(~cellfun ('isempty', notes)), skill);
   files{end + 1} = f;
   files = files(:);
 end
@@ -307,7 +346,8 @@ end
 function opts = parse_options (args)
   opts = struct ('outdir', 'out/report', 'obs', [], 'truth', [], 'rank', [], ...
                  'units', struct (), 'time_unit', '', 'title', '', 'log_scale', {{}}, ...
-                 'axes', {{}}, 'scores', {{}}, 'variables', [], 'prior', []);
+                 'axes', {{}}, 'scores', {{}}, 'variables', [], 'prior', [], 'period', [], ...
+                 'panels', 'auto');
   args = sluice.kernel.option_pairs (args);
   if (mod (numel (args), 2) ~= 0)
     error ('sluice:report:badoption', ...
@@ -357,6 +397,10 @@ function opts = parse_options (args)
   if (~ischar (opts.title))
     error ('sluice:report:badoption', 'title must be a string');
   end
+  opts.period = check_period (opts.period);
+  if (~ischar (opts.panels) || ~any (strcmp (opts.panels, {'auto', 'year', 'none'})))
+    error ('sluice:report:badoption', 'panels must be ''auto'', ''year'' or ''none''');
+  end
   for f = {'axes', 'scores'}
     v = opts.(f{1});
     if (ischar (v))
@@ -373,6 +417,30 @@ function opts = parse_options (args)
     error ('sluice:report:badoption', ...
            'rank must be the counts of sluice.rank_histogram (a vector of >= 2 finite counts >= 0)');
   end
+end
+
+function p = check_period (p)
+  % 'period': [t1 t2] in model time, or two dates (a cellstr) for a run
+  % with a calendar; whether the run has one is checked in time_layout
+  if (isempty (p) && isnumeric (p))
+    p = [];
+    return;
+  end
+  if (isa (p, 'double') && isreal (p) && ~issparse (p) && numel (p) == 2)
+    if (any (~isfinite (p)) || p(2) <= p(1))
+      error ('sluice:report:badoption', ...
+             'period [t1 t2] must be finite with t1 < t2, got [%g %g]', p(1), p(2));
+    end
+    p = p(:)';
+    return;
+  end
+  if (iscellstr (p) && numel (p) == 2)
+    p = p(:)';
+    return;
+  end
+  error ('sluice:report:badoption', ...
+         ['period must be [t1 t2] in model time, or two dates such as ', ...
+          '{''2003-01-01'', ''2003-12-31''} for a run with a calendar; got %s'], describe (p));
 end
 
 function [rf, obs, truth, scores] = unpack (res, opts)
@@ -547,24 +615,9 @@ function tidy_axes (xgrid)
 end
 
 function c = palette (which)
-  % the report's own colours: a family of blues for the ensemble, black
-  % observations, red truth, amber marks
-  switch (which)
-    case 'outer'
-      c = [0.80 0.87 0.96];
-    case 'inner'
-      c = [0.52 0.67 0.88];
-    case 'line'
-      c = [0.06 0.22 0.52];
-    case 'obs'
-      c = [0 0 0];
-    case 'truth'
-      c = [0.80 0.10 0.10];
-    case 'smooth'
-      c = [0.90 0.40 0.00];
-    otherwise
-      c = [0.85 0.55 0.05];
-  end
+  % the report's own colours, chosen for grey prints and colour-blind
+  % readers: see sluice.kernel.report_palette for the choice and the values
+  c = sluice.kernel.report_palette (which);
 end
 
 function i = level (lv, p)
@@ -572,15 +625,21 @@ function i = level (lv, p)
 end
 
 function hb = band (t, lo, hi, c)
+  % a shaded band between lo and hi, one patch per run of cycles where both
+  % are finite (a gap, such as values left off a log axis, breaks it); hb
+  % is the first patch, for the legend
   hb = [];
-  ok = isfinite (lo) & isfinite (hi);
-  t = t(ok);
-  lo = lo(ok);
-  hi = hi(ok);
-  if (isempty (t))
-    return;
+  ok = isfinite (lo(:)') & isfinite (hi(:)');
+  d = diff ([false, ok, false]);
+  s = find (d == 1);
+  e = find (d == -1) - 1;
+  for k = 1:numel (s)
+    r = s(k):e(k);
+    hk = fill ([t(r), fliplr(t(r))], [lo(r), fliplr(hi(r))], c, 'edgecolor', c);
+    if (k == 1)
+      hb = hk;
+    end
   end
-  hb = fill ([t, fliplr(t)], [lo, fliplr(hi)], c, 'edgecolor', c);
 end
 
 function make_outdir (outdir)
@@ -802,8 +861,31 @@ function line_chart (f, tk, M, lab1, n1, score)
   save_figure (h, f);
 end
 
-function fan_chart (f, tk, t, M, Q, idx, bands, to, yo, tt, yt, name, ylab, xa, is_param, logy, S)
-  h = new_figure (tk, [800 450]);
+function [written, note] = fan_chart (f, tk, t, M, Q, idx, bands, to, yo, tt, yt, name, ylab, xa, is_param, logy, S)
+  % the fan chart of one variable: one figure, or pages of panels (one per
+  % year) when the record is long (xa.pages); written lists the files and
+  % note says what a logarithmic axis left out ('' when nothing)
+  if (ischar (is_param))
+    kind = is_param;
+  elseif (is_param)
+    kind = 'parameter';
+    xa = one_chart (xa);   % parameters move slowly: no panels per year
+  else
+    kind = 'state';
+  end
+  D = struct ('t', t, 'M', M, 'Q', Q, 'to', to, 'yo', yo, 'tt', tt, 'yt', yt, 'S', S, ...
+              'outer', xa.lim);
+  [D, logy, note] = log_ready (D, xa, logy, name);
+  heading = sprintf ('%s %s: ensemble median and bands', kind, name);
+  written = time_pages (f, tk, xa, heading, ylab, logy, @(lim) fan_axes (D, idx, bands, lim));
+end
+
+function [hs, leg] = fan_axes (D, idx, bands, lim)
+  % a fan chart into the current axes, of the cycles in lim (and the one
+  % on either side, so lines run to the panel's edges)
+  i = near (D.t, lim, D.outer);
+  t = D.t(i);
+  Q = D.Q(:, i);
   hold on;
   hs = [];
   leg = {};
@@ -818,88 +900,282 @@ function fan_chart (f, tk, t, M, Q, idx, bands, to, yo, tt, yt, name, ylab, xa, 
     leg(end + 1:end + numel (hb)) = {'50% band'};
   end
   if (bands.median)
-    hs(end + 1) = plot (t, Q(idx.q50, :), '-', 'color', palette ('line'), 'linewidth', 2);
+    hs(end + 1) = plot (t, Q(idx.q50, :), '-', 'color', palette ('line'), 'linewidth', 3.5);
     leg{end + 1} = 'median';
   else
-    hs(end + 1) = plot (t, M, '--', 'color', palette ('line'), 'linewidth', 2);
+    hs(end + 1) = plot (t, D.M(i), '--', 'color', palette ('line'), 'linewidth', 3.5);
     leg{end + 1} = 'mean (no median recorded)';
   end
+  S = D.S;
   if (~isempty (S))
     if (isfield (S, 'median'))
-      hs(end + 1) = plot (t, S.median, '-', 'color', palette ('smooth'), 'linewidth', 2);
+      hs(end + 1) = plot (t, S.median(i), '-.', 'color', palette ('smooth'), 'linewidth', 3.5);
       leg{end + 1} = 'smoothed median';
     end
     if (isfield (S, 'lo'))
-      hs(end + 1) = plot (t, S.lo, '--', 'color', palette ('smooth'), 'linewidth', 1.5);
+      hs(end + 1) = plot (t, S.lo(i), '--', 'color', palette ('smooth'), 'linewidth', 2.5);
       leg{end + 1} = 'smoothed 90% band';
-      plot (t, S.hi, '--', 'color', palette ('smooth'), 'linewidth', 1.5);
+      plot (t, S.hi(i), '--', 'color', palette ('smooth'), 'linewidth', 2.5);
     end
   end
-  if (~isempty (tt))
-    hs(end + 1) = plot (tt, yt, '-', 'color', palette ('truth'), 'linewidth', 1.5);
-    leg{end + 1} = 'truth';
+  if (~isempty (D.tt))
+    [xt, yt] = clip_line (D.tt, D.yt, lim);
+    if (~isempty (xt))
+      hs(end + 1) = plot (xt, yt, '-', 'color', palette ('truth'), 'linewidth', 3);
+      leg{end + 1} = 'truth';
+    end
   end
-  if (~isempty (to))
-    hs(end + 1) = plot (to, yo, 'o', 'color', palette ('obs'), ...
-                        'markerfacecolor', palette ('obs'), 'markersize', 4);
-    leg{end + 1} = 'observations';
+  if (~isempty (D.to))
+    j = D.to >= lim(1) & D.to <= lim(2) & isfinite (D.yo);
+    if (any (j))
+      % filled black dots: a shape of their own, apart from every line;
+      % smaller where they are dense (daily), so the median shows between
+      ms = 4 - 2 * (sum (j) > 120);
+      hs(end + 1) = plot (D.to(j), D.yo(j), 'o', 'color', palette ('obs'), ...
+                          'markerfacecolor', palette ('obs'), 'markersize', ms);
+      leg{end + 1} = 'observations';
+    end
   end
   hold off;
+end
+
+function [x, y] = clip_line (t, v, lim)
+  % the line through (t, v) between lim(1) and lim(2): the points inside
+  % and the line's values at the two ends (linear interpolation), so a
+  % line such as a parameter's true value spans a period inside it
+  x = [];
+  y = [];
+  if (numel (t) < 2 || any (diff (t) <= 0) || any (~isfinite (t)))
+    k = t >= lim(1) & t <= lim(2);
+    x = t(k);
+    y = v(k);
+    return;
+  end
+  e = lim(lim >= t(1) & lim <= t(end));
+  x = unique ([t(t >= lim(1) & t <= lim(2)), e]);
+  if (~isempty (x))
+    y = interp1 (t, v, x);
+  end
+end
+
+function i = near (t, lim, outer)
+  % the cycles in [lim(1), lim(2)] and the one just outside on each side
+  % (so lines run to a panel's edges), but none outside [outer(1), outer(2)]
+  % (the period asked for)
+  i = near_all (t, lim) & t >= outer(1) & t <= outer(2);
+end
+
+function i = near_all (t, lim)
+  i = t >= lim(1) & t <= lim(2);
+  a = find (i, 1);
+  b = find (i, 1, 'last');
+  if (isempty (a))
+    a = find (t < lim(1), 1, 'last');
+    b = find (t > lim(2), 1);
+    if (isempty (a) || isempty (b))
+      return;
+    end
+    i(a:b) = true;   % a panel between two cycles: the line that crosses it
+    return;
+  end
+  if (a > 1)
+    i(a - 1) = true;
+  end
+  if (b < numel (t))
+    i(b + 1) = true;
+  end
+end
+
+function [D, logy, note] = log_ready (D, xa, logy, name)
+  % a logarithmic axis cannot show values <= 0: they are left out (a line
+  % or band breaks there) and counted; a variable with no positive value
+  % in the drawn period is drawn on a linear axis instead
+  note = '';
+  if (~logy)
+    return;
+  end
+  in = D.t >= xa.lim(1) & D.t <= xa.lim(2);
+  v = D.Q(:, in);
+  if (~any (v(:) > 0) && ~any (D.M(in) > 0))
+    logy = false;
+    note = sprintf ('%s: no positive value in the drawn period, drawn on a linear axis', name);
+    return;
+  end
+  bad = sum (v(:) <= 0);
+  D.Q(D.Q <= 0) = NaN;
+  D.M(D.M <= 0) = NaN;
+  if (~isempty (D.yo))
+    j = D.to >= xa.lim(1) & D.to <= xa.lim(2);
+    bad = bad + sum (D.yo(j) <= 0);
+    D.yo(D.yo <= 0) = NaN;
+  end
+  if (~isempty (D.yt))
+    j = D.tt >= xa.lim(1) & D.tt <= xa.lim(2);
+    bad = bad + sum (D.yt(j) <= 0);
+    D.yt(D.yt <= 0) = NaN;
+  end
+  if (~isempty (D.S))
+    for fn = {'median', 'lo', 'hi'}
+      if (isfield (D.S, fn{1}))
+        w = D.S.(fn{1});
+        bad = bad + sum (w(in) <= 0);
+        w(w <= 0) = NaN;
+        D.S.(fn{1}) = w;
+      end
+    end
+  end
+  if (bad > 0)
+    note = sprintf (['%s: %d value(s) <= 0 (quantiles, observations, truth) left out ', ...
+                     'of the logarithmic axis; lines and bands break there'], name, bad);
+  end
+end
+
+function written = time_pages (f, tk, xa, heading, ylab, logy, draw)
+  % a time chart: one figure over the drawn period, or, for a record cut
+  % into panels (xa.split not 'none'), pages of panels stacked one under
+  % the other, each with its own y range (the overview has the whole run
+  % on one axis), and the key right of the first panel; draw(lim) draws
+  % into the current axes and returns the handles and labels of the key
+  written = {};
+  [d, base] = fileparts (f);
+  for pg = 1:numel (xa.pages)
+    L = xa.pages{pg};
+    labels = xa.panel_labels{pg};
+    if (strcmp (xa.split, 'none'))
+      h = new_figure (tk, [800 450]);
+      [hs, leg] = draw (L);
+      time_panel (xa, L, logy, ylab);
+      xlabel (xa.label);
+      if (isempty (labels{1}))
+        title (heading, 'interpreter', 'none');
+      else
+        title (sprintf ('%s, %s', heading, labels{1}), 'interpreter', 'none');
+      end
+      legend (hs, leg, 'location', 'northeastoutside');
+    else
+      % pixels: panels 190 high, 72 between them for the ticks and title
+      np = size (L, 1);
+      ph = 190;
+      gap = 72;
+      top = 40;
+      bottom = 50;
+      W = 1000;
+      H = top + np * ph + (np - 1) * gap + bottom;
+      h = new_figure (tk, [W, H]);
+      for j = 1:np
+        y = H - top - j * ph - (j - 1) * gap;
+        axes ('position', [75 / W, y / H, 725 / W, ph / H]);
+        % the panel's part of the period (a year panel may reach beyond it)
+        [hs, leg] = draw ([max(L(j, 1), xa.lim(1)), min(L(j, 2), xa.lim(2))]);
+        time_panel (xa, L(j, :), logy, ylab);
+        if (j == 1)
+          title (sprintf ('%s, %s', heading, labels{j}), 'interpreter', 'none');
+          key_axes ([815 / W, y / H, 180 / W, ph / H], hs, leg);
+        else
+          title (labels{j}, 'interpreter', 'none');
+        end
+      end
+      xlabel (xa.label);
+    end
+    if (pg == 1)
+      fn = f;
+    else
+      fn = fullfile (d, sprintf ('%s_page%d.png', base, pg));
+    end
+    save_figure (h, fn);
+    written{end + 1} = fn;
+  end
+end
+
+function time_panel (xa, lim, logy, ylab)
+  % the dressing of one time panel drawn into the current axes
   tidy_axes ('on');
   if (logy)
     set (gca (), 'yscale', 'log');
   end
-  date_ticks (xa, t);
-  xlabel (xa.label);
-  ylabel (ylab);
-  if (ischar (is_param))
-    kind = is_param;
-  elseif (is_param)
-    kind = 'parameter';
-  else
-    kind = 'state';
+  if (lim(2) > lim(1))
+    xlim (lim);
   end
-  title (sprintf ('%s %s: ensemble median and bands', kind, name), 'interpreter', 'none');
-  legend (hs, leg, 'location', 'northeastoutside');
-  save_figure (h, f);
+  panel_ticks (xa, lim);
+  ylabel (ylab);
 end
 
-function ess_chart (f, tk, rf, xa)
-  h = new_figure (tk, [800 400]);
+function key_axes (pos, hs, leg, orient)
+  % a key in an axes of its own at pos (figure units): one sample of each
+  % item, drawn outside the axes' limits, so panels keep equal widths
+  % (a key placed outside an axes narrows that axes only)
+  if (isempty (hs))
+    return;
+  end
+  ax = gca ();
+  k = axes ('position', pos);
+  hold on;
+  q = zeros (1, numel (hs));
+  for i = 1:numel (hs)
+    if (strcmp (get (hs(i), 'type'), 'patch'))
+      c = get (hs(i), 'facecolor');
+      q(i) = fill ([2 3 3 2], [2 2 3 3], c, 'edgecolor', c);
+    else
+      q(i) = plot ([2 3], [2 2], 'color', get (hs(i), 'color'), ...
+                   'linestyle', get (hs(i), 'linestyle'), 'linewidth', get (hs(i), 'linewidth'), ...
+                   'marker', get (hs(i), 'marker'), 'markersize', get (hs(i), 'markersize'), ...
+                   'markerfacecolor', get (hs(i), 'markerfacecolor'));
+    end
+  end
+  hold off;
+  xlim ([0 1]);
+  ylim ([0 1]);
+  set (k, 'visible', 'off');
+  if (nargin < 4)
+    legend (q, leg, 'location', 'northwest');
+  else
+    legend (q, leg, 'location', 'north', 'orientation', orient);
+  end
+  axes (ax);
+end
+
+function written = ess_chart (f, tk, rf, xa)
+  % one chart over the drawn period: the ESS is bounded and read for its
+  % dips, which show at 2-3 daily cycles a pixel; no panels per year
+  xa = one_chart (xa);
+  N = rf.members;
+  r = logical (rf.resampled(:)');
+  heading = sprintf ('ESS over time (%s, %d of %d cycles resampled)', ...
+                     rf.method_label, sum (r), numel (r));
+  ylab = sprintf ('effective sample size (of %d members)', N);
+  written = time_pages (f, tk, xa, heading, ylab, false, @(lim) ess_axes (rf, xa, lim));
+end
+
+function [hs, leg] = ess_axes (rf, xa, lim)
   t = xa.x (rf.times);
   N = rf.members;
+  i = near (t, lim, xa.lim);
   hold on;
-  hs = plot (t, rf.ess, '-', 'color', palette ('line'), 'linewidth', 1.5);
+  hs = plot (t(i), rf.ess(i), '-', 'color', palette ('line'), 'linewidth', 2.5);
   leg = {'ESS'};
   th = NaN;
   if (isfield (rf, 'options') && isfield (rf.options, 'resample_threshold'))
     th = rf.options.resample_threshold * N;
   end
   if (isfinite (th))
-    hs(end + 1) = plot ([t(1), t(end)], [th, th], '--', 'color', [0.4 0.4 0.4]);
+    hs(end + 1) = plot (lim, [th, th], '--', 'color', [0.4 0.4 0.4]);
     leg{end + 1} = 'resampling threshold';
   end
-  r = logical (rf.resampled(:)');
+  r = logical (rf.resampled(:)') & i;
   if (any (r))
     hs(end + 1) = plot (t(r), rf.ess(r), 'v', 'color', palette ('mark'), ...
                         'markerfacecolor', palette ('mark'), 'markersize', 6);
     leg{end + 1} = 'resampled';
   end
   if (isfield (rf, 'degenerate') && any (rf.degenerate))
-    d = logical (rf.degenerate(:)');
-    hs(end + 1) = plot (t(d), rf.ess(d), 'x', 'color', palette ('truth'), 'markersize', 8);
-    leg{end + 1} = 'degenerate';
+    d = logical (rf.degenerate(:)') & i;
+    if (any (d))
+      hs(end + 1) = plot (t(d), rf.ess(d), 'x', 'color', palette ('truth'), 'markersize', 8);
+      leg{end + 1} = 'degenerate';
+    end
   end
   hold off;
-  tidy_axes ('on');
   ylim ([0, 1.05 * N]);
-  date_ticks (xa, t);
-  xlabel (xa.label);
-  ylabel (sprintf ('effective sample size (of %d members)', N));
-  title (sprintf ('ESS over time (%s, %d of %d cycles resampled)', ...
-                  rf.method_label, sum (r), numel (t)), 'interpreter', 'none');
-  legend (hs, leg, 'location', 'northeastoutside');
-  save_figure (h, f);
 end
 
 function [show, dshow] = shown_variables (rf, opts, names, n, dnames, obs)
@@ -1041,26 +1317,20 @@ function moving = varying_params (rf)
 end
 
 function param_chart (f, tk, rf, idx, bands, truth, opts, xa, moving)
+  % the parameters' trajectories over the whole drawn period, one panel
+  % each (they move slowly: no panels per year)
   ks = find (moving)';
   p = numel (ks);
   h = new_figure (tk, [800, 160 + 240 * p]);
-  t = xa.x (rf.times);
   for j = 1:p
     k = ks(j);
     subplot (p, 1, j);
-    hold on;
-    if (bands.outer)
-      Q = reshape (rf.params.quantiles(k, :, :), numel (rf.quantile_levels), []);
-      band (t, Q(idx.q05, :), Q(idx.q95, :), palette ('outer'));
-    end
-    plot (t, rf.params.mean(k, :), '-', 'color', palette ('line'), 'linewidth', 2);
-    if (~isempty (truth) && isfield (truth, 'params') && numel (truth.params) == numel (rf.param_names))
-      plot ([t(1), t(end)], truth.params(k) * [1 1], '-', 'color', palette ('truth'), ...
-            'linewidth', 1.5);
-    end
-    hold off;
+    param_axes (rf, k, idx, bands, truth, xa, xa.lim);
     tidy_axes ('on');
-    date_ticks (xa, t);
+    if (xa.lim(2) > xa.lim(1))
+      xlim (xa.lim);
+    end
+    date_ticks (xa, xa.lim);
     ylabel (label (rf.param_names{k}, opts));
     if (j == 1)
       if (bands.outer)
@@ -1075,6 +1345,133 @@ function param_chart (f, tk, rf, idx, bands, truth, opts, xa, moving)
     end
   end
   save_figure (h, f);
+end
+
+function param_axes (rf, k, idx, bands, truth, xa, lim)
+  % parameter k's mean, 90% band and true value into the current axes
+  t = xa.x (rf.times);
+  i = near (t, lim, xa.lim);
+  hold on;
+  if (bands.outer)
+    Q = reshape (rf.params.quantiles(k, :, i), numel (rf.quantile_levels), []);
+    band (t(i), Q(idx.q05, :), Q(idx.q95, :), palette ('outer'));
+  end
+  plot (t(i), rf.params.mean(k, i), '-', 'color', palette ('line'), 'linewidth', 3.5);
+  if (~isempty (truth) && isfield (truth, 'params') && numel (truth.params) == numel (rf.param_names))
+    plot (lim, truth.params(k) * [1 1], '-', 'color', palette ('truth'), 'linewidth', 3);
+  end
+  hold off;
+end
+
+function note = overview_chart (f, tk, rf, obs, truth, idx, bands, opts, xa, show, moving, sm)
+  % one page over the whole drawn period: the fans of the observed states
+  % (of every drawn state when no observation is given), the parameters
+  % that moved, and the ESS; at most 8 variables, the rest in note
+  note = '';
+  n = numel (rf.state_names);
+  names = [rf.state_names(:); rf.param_names(:)];
+  lv = rf.quantile_levels(:)';
+  ks = find (show(1:n)');
+  if (~isempty (obs) && ~isempty (ks))
+    seen = false (size (ks));
+    for j = 1:numel (ks)
+      to = obs_of (obs, names{ks(j)});
+      seen(j) = ~isempty (to);
+    end
+    if (any (seen))
+      ks = ks(seen);
+    end
+  end
+  ks = [ks, n + find(moving(:)')];
+  cap = 8;
+  if (numel (ks) > cap)
+    note = sprintf ('overview.png: %d variable(s) left out for room (%s); see their own charts', ...
+                    numel (ks) - cap, strjoin (names(ks(cap + 1:end))', ', '));
+    ks = ks(1:cap);
+  end
+  items = numel (ks) + 1;
+  ncol = 1 + (items > 3);
+  nrow = ceil (items / ncol);
+  % pixels: cells 640 wide, panels 190 high with 75 between rows, a
+  % heading and a key across the top
+  cw = 640;
+  ph = 190;
+  gap = 75;
+  top = 140;
+  W = ncol * cw + 20;
+  H = top + nrow * ph + (nrow - 1) * gap + 55;
+  h = new_figure (tk, [W, H]);
+  hk = [];
+  lk = {};
+  for j = 1:items
+    r = ceil (j / ncol);
+    c = j - (r - 1) * ncol;
+    axes ('position', [((c - 1) * cw + 85) / W, (H - top - r * ph - (r - 1) * gap) / H, ...
+                       (cw - 110) / W, ph / H]);
+    if (j <= numel (ks))
+      k = ks(j);
+      logy = any (strcmp (names{k}, opts.log_scale));
+      D = fan_data (rf, k, n, lv, sm, truth, obs, names{k}, xa);
+      [D, logy] = log_ready (D, xa, logy, names{k});
+      [hs, leg] = fan_axes (D, idx, bands, xa.lim);
+      if (j == 1)
+        hk = hs;
+        lk = leg;
+      end
+      if (logy)
+        set (gca (), 'yscale', 'log');
+      end
+      ylabel (label (names{k}, opts));
+      title (sprintf ('%s %s', ifelse (k <= n, 'state', 'parameter'), names{k}), ...
+             'interpreter', 'none');
+    else
+      ess_axes (rf, xa, xa.lim);
+      ylabel (sprintf ('ESS (of %d)', rf.members));
+      title (sprintf ('effective sample size (%s)', rf.method_label), 'interpreter', 'none');
+    end
+    tidy_axes ('on');
+    if (xa.lim(2) > xa.lim(1))
+      xlim (xa.lim);
+    end
+    date_ticks (xa, xa.lim);
+    if (j > items - ncol)
+      xlabel (xa.label);
+    end
+  end
+  % the heading and the key of the fan panels, across the top
+  heading = opts.title;
+  if (isempty (heading) && isfield (rf, 'model') && ischar (rf.model))
+    heading = sprintf ('model %s', rf.model);
+  end
+  what = 'the whole run';
+  if (~isempty (xa.period_text))
+    what = xa.period_text;
+  end
+  axes ('position', [0, (H - 45) / H, 1, 40 / H], 'visible', 'off');
+  text (0.5, 0.5, sprintf ('Overview: %s (%s, %d members), %s', heading, rf.method_label, ...
+                           rf.members, what), 'units', 'normalized', ...
+        'horizontalalignment', 'center', 'fontweight', 'bold', 'interpreter', 'none');
+  key_axes ([85 / W, (H - 110) / H, (W - 110) / W, 65 / H], hk, lk, 'horizontal');
+  save_figure (h, f);
+end
+
+function D = fan_data (rf, k, n, lv, sm, truth, obs, name, xa)
+  % what fan_axes draws for row k (a state, or parameter k - n)
+  if (k <= n)
+    M = rf.states.mean(k, :);
+    Q = reshape (rf.states.quantiles(k, :, :), numel (lv), []);
+  else
+    M = rf.params.mean(k - n, :);
+    Q = reshape (rf.params.quantiles(k - n, :, :), numel (lv), []);
+  end
+  S = [];
+  if (~isempty (sm))
+    S = smoothed_row (sm, k, n, lv);
+  end
+  [tt, yt] = truth_of (truth, name, k, n, rf.times);
+  [to, yo] = obs_of (obs, name);
+  D = struct ('t', xa.x (rf.times), 'M', M, 'Q', Q, 'to', xa.x (to), 'yo', yo, ...
+              'tt', xa.x (tt), 'yt', yt, 'S', S, 'outer', xa.lim);
 end
 
 function rank_chart (f, tk, counts)
@@ -1161,6 +1558,7 @@ function xa = time_axis (rf, opts)
     xa.origin = cal.text;
     xa.unit = cal.unit;
   end
+  xa = time_layout (xa, rf, opts);
 end
 
 function date_ticks (xa, t)
@@ -1177,6 +1575,140 @@ function date_ticks (xa, t)
     fmt = 'yyyy-mm-dd';
   end
   datetick ('x', fmt, 'keeplimits');
+end
+
+function xa = time_layout (xa, rf, opts)
+  % what the time charts draw (opts.period) and how (opts.panels):
+  % xa.lim [x1 x2] the drawn span in axis units; xa.split 'none', 'year'
+  % (one panel per calendar year) or 'block' (one per 365 cycles);
+  % xa.pages a cell of k x 2 panel limits, at most 6 panels a page, and
+  % xa.panel_labels the names of those panels; xa.period_text says what
+  % was asked for ('' for the whole run)
+  x = xa.x (rf.times(:)');
+  xa.period_text = '';
+  if (isempty (opts.period))
+    lim = [x(1), x(end)];
+  else
+    lim = period_limits (opts.period, xa);
+    if (~any (x >= lim(1) & x <= lim(2)))
+      error ('sluice:report:badoption', ...
+             'period %s holds no cycle of the run (%s to %s)', period_string (xa, lim), ...
+             time_string (xa, x(1)), time_string (xa, x(end)));
+    end
+    xa.period_text = period_string (xa, lim);
+  end
+  xa.lim = lim;
+  in = find (x >= lim(1) & x <= lim(2));
+  split = opts.panels;
+  if (strcmp (split, 'auto'))
+    % long records: more than 730 cycles (two years of daily cycles), and
+    % with a calendar more than two years (730 days) between first and last
+    long = numel (in) > 730 && (~xa.dated || x(in(end)) - x(in(1)) > 730);
+    split = ifelse (long, 'year', 'none');
+  end
+  if (strcmp (split, 'year') && ~xa.dated)
+    split = 'block';
+  end
+  xa.split = split;
+  switch (split)
+    case 'year'
+      v0 = datevec (x(in(1)));
+      v1 = datevec (x(in(end)));
+      years = v0(1):v1(1);
+      L = [datenum(years(:), 1, 1), datenum(years(:) + 1, 1, 1)];
+      labels = arrayfun (@(y) sprintf ('%d', y), years, 'UniformOutput', false);
+    case 'block'
+      first = in(1:365:end);
+      L = zeros (numel (first), 2);
+      labels = cell (1, numel (first));
+      for k = 1:numel (first)
+        last = in(min (numel (in), (k - 1) * 365 + 365));
+        L(k, 1) = x(first(k));
+        if (k < numel (first))
+          L(k, 2) = x(first(k + 1));
+        else
+          w = 0;
+          if (numel (first) > 1)
+            w = x(first(2)) - x(first(1));
+          end
+          L(k, 2) = max (x(last), x(first(k)) + w);
+        end
+        labels{k} = sprintf ('time %g to %g', rf.times(first(k)), rf.times(last));
+      end
+    otherwise
+      L = lim;
+      labels = {''};
+      if (~isempty (xa.period_text))
+        labels = {xa.period_text};
+      end
+  end
+  per = 6;
+  np = size (L, 1);
+  xa.pages = {};
+  xa.panel_labels = {};
+  for a = 1:per:np
+    b = min (np, a + per - 1);
+    xa.pages{end + 1} = L(a:b, :);
+    xa.panel_labels{end + 1} = labels(a:b);
+  end
+end
+
+function xa = one_chart (xa)
+  % the layout of one chart over the whole drawn period
+  xa.split = 'none';
+  xa.pages = {xa.lim};
+  xa.panel_labels = {{xa.period_text}};
+end
+
+function lim = period_limits (p, xa)
+  % opts.period in axis units: model times through xa.x, or dates
+  if (isnumeric (p))
+    lim = xa.x (p(:)');
+    return;
+  end
+  if (~xa.dated)
+    error ('sluice:report:badoption', ...
+           ['period as dates needs a run with a calendar (sluice.filter''s origin); ', ...
+            'give [t1 t2] in model time instead']);
+  end
+  lim = zeros (1, 2);
+  for k = 1:2
+    try
+      lim(k) = sluice.kernel.obsfile ('date', p{k});
+    catch err
+      error ('sluice:report:badoption', 'period: ''%s'' is not a date (%s)', p{k}, err.message);
+    end
+  end
+  if (lim(2) <= lim(1))
+    error ('sluice:report:badoption', 'period: %s does not come after %s', p{2}, p{1});
+  end
+end
+
+function s = time_string (xa, v)
+  % a value of the time axis as the user reads it: a date, or model time
+  if (xa.dated)
+    [~, s] = sluice.kernel.obsfile ('date', v);
+    s = s{1};
+  else
+    s = sprintf ('%g', v);
+  end
+end
+
+function s = period_string (xa, lim)
+  s = sprintf ('%s to %s', time_string (xa, lim(1)), time_string (xa, lim(2)));
+end
+
+function panel_ticks (xa, lim)
+  % the x ticks of one panel: months in a year's panel, else as the span asks
+  if (strcmp (xa.split, 'year'))
+    v = datevec (lim(1));
+    ticks = datenum (v(1), 1:13, 1);
+    months = {'Jan', 'Feb', 'Mar', 'Apr', 'May', 'Jun', 'Jul', 'Aug', 'Sep', ...
+              'Oct', 'Nov', 'Dec', ''};
+    set (gca (), 'xtick', ticks, 'xticklabel', months);
+  else
+    date_ticks (xa, lim);
+  end
 end
 
 function s = safe_name (name)
@@ -1203,32 +1735,45 @@ function write_series (f, rf, names, n, xa)
   lv = rf.quantile_levels(:)';
   T = numel (rf.times);
   nq = numel (lv);
-  head = {'time'};
-  cols = rf.times(:);
+  K = numel (names);
   v = n + numel (rf.param_names);   % names: states, parameters, derived quantities
-  for k = 1:numel (names)
+  % columns filled in place: growing the matrix column by column copies
+  % it every time, which a run with many states and cycles feels
+  head = cell (1, 1 + K * (nq + 1));
+  head{1} = 'time';
+  cols = zeros (T, 1 + K * (nq + 1) + 2);
+  cols(:, 1) = rf.times(:);
+  c = 1;
+  for k = 1:K
     [M, Q] = summary_of (rf, k, n, v, lv);
-    head{end + 1} = [safe_name(names{k}), '_mean'];
-    cols = [cols, M(:)];
+    c = c + 1;
+    head{c} = [safe_name(names{k}), '_mean'];
+    cols(:, c) = M(:);
     for j = 1:nq
-      head{end + 1} = [safe_name(names{k}), '_', qname(lv(j))];
-      cols = [cols, Q(j, :)'];
+      c = c + 1;
+      head{c} = [safe_name(names{k}), '_', qname(lv(j))];
+      cols(:, c) = Q(j, :)';
     end
   end
   head = [head, {'ess', 'resampled'}];
-  cols = [cols, rf.ess(:), double(rf.resampled(:))];
+  cols(:, end - 1) = rf.ess(:);
+  cols(:, end) = double (rf.resampled(:));
   fid = open_file (f);
-  fmt = [strjoin(repmat ({'%.10g'}, 1, size (cols, 2)), ','), '\n'];
   if (xa.dated)
-    % the date beside the model time: time,date,...
+    % the date beside the model time: time,date,...; the numbers of all
+    % rows are formatted in one call, then joined to their dates
     fprintf (fid, '%s\n', strjoin ([head(1), {'date'}, head(2:end)], ','));
     rest = [strjoin(repmat ({'%.10g'}, 1, size (cols, 2) - 1), ','), '\n'];
-    for i = 1:T
-      fprintf (fid, '%.10g,%s,', cols(i, 1), xa.dates{i});
-      fprintf (fid, rest, cols(i, 2:end));
-    end
+    body = sprintf (rest, cols(:, 2:end)');
+    tt = sprintf ('%.10g\n', cols(:, 1));
+    lines = cell (3, T);
+    lines(1, :) = regexp (tt(1:end - 1), '\n', 'split');
+    lines(2, :) = xa.dates(:)';
+    lines(3, :) = regexp (body(1:end - 1), '\n', 'split');
+    fprintf (fid, '%s,%s,%s\n', lines{:});
   else
     fprintf (fid, '%s\n', strjoin (head, ','));
+    fmt = [strjoin(repmat ({'%.10g'}, 1, size (cols, 2)), ','), '\n'];
     fprintf (fid, fmt, cols');
   end
   fclose (fid);
@@ -1334,7 +1879,7 @@ function skill_text (fid, sk)
                  'judge a model by the forecast scores)\n']);
 end
 
-function write_text (f, rf, opts, bands, tk, scores, have_obs, have_truth, xa, skill)
+function write_text (f, rf, opts, bands, tk, scores, have_obs, have_truth, xa, notes, skill)
   fid = open_file (f);
   heading = opts.title;
   if (isempty (heading) && isfield (rf, 'model'))
@@ -1374,7 +1919,12 @@ function write_text (f, rf, opts, bands, tk, scores, have_obs, have_truth, xa, s
            ifelse (bands.inner, ', 50% band', ''), ...
            ifelse (bands.outer, ', 90% band', ''), ...
            ifelse (have_obs, ', observations as points', ''));
-  fprintf (fid, '%s\n', ifelse (have_truth, ', truth as a red line', ''));
+  fprintf (fid, '%s\n', ifelse (have_truth, ', truth as a vermilion line', ''));
+  fprintf (fid, '  %s\n', layout_text (xa));
+  fprintf (fid, '  overview.png: the main panels on one page; the CSV tables hold the whole run\n');
+  for k = 1:numel (notes)
+    fprintf (fid, '  %s\n', notes{k});
+  end
   if (~bands.median)
     fprintf (fid, '  no 0.5 quantile was recorded: the fan charts show the mean instead of the median\n');
   end
@@ -1442,6 +1992,30 @@ function write_text (f, rf, opts, bands, tk, scores, have_obs, have_truth, xa, s
                  'and not a basis for the design of defences; follow local codes and ', ...
                  'licensed engineering practice.\n']);
   fclose (fid);
+end
+
+function s = layout_text (xa)
+  % how the time charts are laid out, for the summary
+  what = 'the whole run';
+  if (~isempty (xa.period_text))
+    what = sprintf ('the period %s', xa.period_text);
+  end
+  np = sum (cellfun (@(L) size (L, 1), xa.pages));
+  switch (xa.split)
+    case 'year'
+      s = sprintf ('fan charts of the states: %s, one panel per calendar year (%s to %s)', ...
+                   what, xa.panel_labels{1}{1}, xa.panel_labels{end}{end});
+    case 'block'
+      s = sprintf ('fan charts of the states: %s, one panel per 365 cycles (%d panels)', what, np);
+    otherwise
+      s = sprintf ('time charts: %s in one chart each', what);
+      return;
+  end
+  if (numel (xa.pages) > 1)
+    s = sprintf ('%s,\n  %d panels a page on %d pages (fan_<name>.png, fan_<name>_page2.png, ...)', ...
+                 s, size (xa.pages{1}, 1), numel (xa.pages));
+  end
+  s = sprintf ('%s;\n  the parameters, the ESS and the overview: one chart each over %s', s, what);
 end
 
 function s = ifelse (c, a, b)
@@ -1923,7 +2497,8 @@ end
 %! d = tempname ();
 %! unwind_protect
 %!   files = sluice.report (r0, 'outdir', d, 'obs', o0);
-%!   assert (numel (files), 5);
+%!   assert (numel (files), 6);
+%!   assert (exist (fullfile (d, 'overview.png'), 'file'), 2);
 %!   assert (exist (fullfile (d, 'fan_level.png'), 'file'), 2);
 %!   % a PNG starts with the bytes 137 'PNG' (PNG specification, section 5.2)
 %!   fid = fopen (fullfile (d, 'fan_level.png'), 'r');
