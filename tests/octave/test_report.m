@@ -417,7 +417,7 @@
 %!   [~, nm, ext] = cellfun (@fileparts, files, 'UniformOutput', false);
 %!   nm = strcat (nm, ext);
 %!   assert (sort (nm), sort ({'fan_Q.png'; 'fan_Q_page2.png'; 'ess.png'; 'overview.png'; ...
-%!                             'summary.csv'; 'final.csv'; 'summary.txt'}));
+%!                             'summary.csv'; 'final.csv'; 'summary.txt'; 'skill.csv'}));
 %!   for k = 1:numel (files)
 %!     s = dir (files{k});
 %!     assert (s.bytes > 0);
