@@ -39,6 +39,10 @@
 % Report
 %   report         - PNG figures, CSV tables and a summary of a run or sweep.
 %
+% Save and reopen a run
+%   save_run       - Write a result and its settings to NetCDF (CF) or an Octave file.
+%   load_run       - Read a saved run back into a result.
+%
 % Build your own model
 %   model          - An Octave step function or right-hand side as a model.
 %   build_model    - Compile a model written in one C file, as fast as a built-in.

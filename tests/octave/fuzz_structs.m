@@ -161,6 +161,19 @@ function sites = fixtures (outdir)
   sites(end+1) = site ('scores/twin', tw.filter, 2, @(r) sluice.scores (r, tw.truth, tw.obs));
   sites(end+1) = site ('report/evidence', ev, 1, rep, 0.1);
   sites(end+1) = site ('report/pmmh', chain, 2, rep, 0.25);
+  sites(end+1) = site ('save_run/filter', res, 2, @(r) save_load (r, outdir, 'fuzz.nc'), 0.25);
+  sites(end+1) = site ('save_run/twin', tw, 2, @(r) save_load (r, outdir, 'fuzz.nc'), 0.25);
+  sites(end+1) = site ('save_run/octave', resp, 2, @(r) save_load (r, outdir, 'fuzz.mat'), 0.1);
+end
+
+function save_load (r, outdir, name)
+  % a run saved and read back: save_run and load_run take what the other gives
+  if (~exist (outdir, 'dir'))
+    mkdir (outdir);
+  end
+  f = fullfile (outdir, name);
+  sluice.save_run (r, f);
+  sluice.load_run (f);
 end
 
 function s = site (name, value, depth, call, weight)

@@ -12,6 +12,8 @@
 % @deftypefnx {} {@var{files} =} sluice.kernel.compat ('glob', @var{pattern})
 % @deftypefnx {} {} sluice.kernel.compat ('save_binary', @var{file}, @var{name}, @var{value})
 % @deftypefnx {} {@var{s} =} sluice.kernel.compat ('load_binary', @var{file})
+% @deftypefnx {} {@var{nc} =} sluice.kernel.compat ('netcdf', @var{fn})
+% @deftypefnx {} {@var{d} =} sluice.kernel.compat ('utc_now')
 % @deftypefnx {} {@var{tf} =} sluice.kernel.compat ('has_parallel')
 % @deftypefnx {} {@var{out} =} sluice.kernel.compat ('parallel_map', @var{nworkers}, @var{fun}, @var{inputs})
 % @deftypefnx {} {@var{out} =} sluice.kernel.compat ('parallel_map', @var{nworkers}, @var{fun}, @var{inputs}, @var{on_error})
@@ -48,6 +50,14 @@
 % write the variable @var{name} with the value @var{value} to @var{file}
 % in the platform's own binary format, and read such a file back as a
 % struct.
+% @item netcdf
+% the low-level NetCDF functions as a struct of function handles
+% (@code{@var{nc}.create}, @code{@var{nc}.defVar}, @dots{}): Octave's
+% netcdf package (loaded when needed; Debian's @code{octave-netcdf}), or
+% MATLAB's @code{netcdf} namespace. Without the package, the error
+% @code{sluice:@var{fn}:nonetcdf}.
+% @item utc_now
+% the current time (UTC) as a datenum.
 % @item has_parallel
 % true when @code{parallel_map} can use worker processes (Octave's
 % parallel package, or MATLAB's parallel pool); loads the package.
@@ -183,6 +193,15 @@ function varargout = compat (op, varargin)
       else
         varargout{1} = load (varargin{1}, '-mat');
       end
+    case 'netcdf'
+      need (varargin, 1, op);
+      varargout{1} = netcdf_api (oct, varargin{1});
+    case 'utc_now'
+      if (oct)
+        varargout{1} = datenum (1970, 1, 1) + time () / 86400;
+      else
+        varargout{1} = datenum (datetime ('now', 'TimeZone', 'UTC'));
+      end
     case 'has_parallel'
       varargout{1} = have_parallel (oct);
     case 'parallel_map'
@@ -243,6 +262,41 @@ function [text, sentence] = octave_help_text (f)
     return;
   end
   sentence = get_first_help_sentence (f);
+end
+
+function api = netcdf_api (oct, fn)
+  % the NetCDF calls sluice.save_run and sluice.load_run make
+  names = {'create', 'open', 'close', 'getConstant', 'defDim', 'defVar', 'defGrp', ...
+           'putVar', 'getVar', 'putAtt', 'getAtt', 'inqNcid', 'inqVarID', 'inqAttID'};
+  prefix = 'netcdf.';
+  if (oct)
+    prefix = 'netcdf_';
+    why = '';
+    if (exist ('netcdf_create') == 0)
+      % the package's PKG_ADD leaves two variables in the base workspace:
+      % those that were not there before are removed again
+      stray = {'doc_file', 'pkg_dir'};
+      had = cellfun (@(v) evalin ('base', sprintf ('exist (''%s'', ''var'')', v)), stray);
+      try
+        pkg ('load', 'netcdf');
+      catch err
+        why = [' (' err.message ')'];
+      end
+      for k = find (~had)
+        evalin ('base', sprintf ('clear (''%s'');', stray{k}));
+      end
+    end
+    if (exist ('netcdf_create') == 0)
+      error (['sluice:' fn ':nonetcdf'], ...
+             ['NetCDF files need Octave''s netcdf package, which could not be loaded%s; ', ...
+              'install it (Debian: apt-get install octave-netcdf; make deps does) ', ...
+              'or save to a .mat file'], why);
+    end
+  end
+  api = struct ();
+  for k = 1:numel (names)
+    api.(names{k}) = str2func ([prefix names{k}]);
+  end
 end
 
 function need (args, n, op)
@@ -378,6 +432,14 @@ end
 %!assert (sluice.kernel.compat ('is_octave'), true)
 %!assert (sluice.kernel.compat ('nproc') >= 1)
 %!assert (sluice.kernel.compat ('pid'), getpid ())
+%!test
+%! % against Octave's clock: the same instant, here in UTC
+%! d = sluice.kernel.compat ('utc_now') - datenum (1970, 1, 1);
+%! assert (abs (d * 86400 - time ()) < 5);
+%!test
+%! nc = sluice.kernel.compat ('netcdf', 'x');
+%! assert (func2str (nc.create), 'netcdf_create');
+%! assert (nc.getConstant ('NC_GLOBAL'), netcdf_getConstant ('NC_GLOBAL'));
 %!test
 %! sluice.kernel.compat ('flush');
 %!test
