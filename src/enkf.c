@@ -8,6 +8,7 @@
 #include <string.h>
 
 #include "enkf_internal.h"
+#include "workspace.h"
 #include "sluice/rng.h"
 
 /* BLAS and LAPACK through their Fortran interface; the trailing size_t
@@ -45,7 +46,6 @@ extern void dsyev_(const char *jobz, const char *uplo, const int *n, double *a,
                    const int *lda, double *w, double *work, const int *lwork,
                    int *info, size_t, size_t);
 
-#define ALIGN 64
 #define BLOCK_ROWS 64        /* state rows per pass of the row loops */
 #define CHUNK 256            /* observations / members per packed slice */
 #define LWORK_PER_MEMBER 66  /* dsyev's optimal work, (block 64 + 2) N */
@@ -90,20 +90,6 @@ typedef struct {
     size_t b;
     int lwork;
 } buffers;
-
-static void *carve(unsigned char *base, size_t *off, int *bad, size_t count,
-                   size_t size)
-{
-    size_t bytes, at;
-    if (*bad || sl_size_mul(count, size, &bytes) ||
-        *off > SIZE_MAX - 2 * ALIGN - bytes) {
-        *bad = 1;
-        return NULL;
-    }
-    at = (*off + ALIGN - 1) / ALIGN * ALIGN;
-    *off = at + bytes;
-    return base != NULL ? base + at : NULL;
-}
 
 static size_t mul(size_t a, size_t b, int *bad)
 {
@@ -156,42 +142,41 @@ static size_t layout(const sl_enkf_config *cfg, size_t n, size_t N, size_t m,
                      int r_full, int obs_form, unsigned char *base, buffers *w)
 {
     size_t off = 0, b = n < BLOCK_ROWS ? n : BLOCK_ROWS, mN, bN;
-    int bad = 0;
+    int bad = 0; /* a product of sizes overflowed (sl_ws_take marks its own in off) */
     memset(w, 0, sizeof *w);
     if (n > INT_MAX || N > INT_MAX / LWORK_PER_MEMBER || m > INT_MAX)
         return 0;
     w->b = b;
     mN = mul(m, N, &bad);
     bN = mul(b, N, &bad);
-    w->ybar = carve(base, &off, &bad, m, sizeof(double));
-    w->dv = carve(base, &off, &bad, m, sizeof(double));
-    w->rd = carve(base, &off, &bad, m, sizeof(double));
-    w->aux = carve(base, &off, &bad, m, sizeof(double));
-    w->stat = carve(base, &off, &bad, 5 * b, sizeof(double));
+    w->ybar = sl_ws_take(base, &off, m, sizeof(double));
+    w->dv = sl_ws_take(base, &off, m, sizeof(double));
+    w->rd = sl_ws_take(base, &off, m, sizeof(double));
+    w->aux = sl_ws_take(base, &off, m, sizeof(double));
+    w->stat = sl_ws_take(base, &off, 5 * b, sizeof(double));
     switch (cfg->method) {
     case SL_ENKF_STOCHASTIC:
-        w->yp = carve(base, &off, &bad, mN, sizeof(double));
-        w->sq = carve(base, &off, &bad, mul(m, m, &bad), sizeof(double));
-        w->D = carve(base, &off, &bad, mN, sizeof(double));
-        w->blk = carve(base, &off, &bad, bN, sizeof(double));
-        w->G = carve(base, &off, &bad, mul(b, m, &bad), sizeof(double));
+        w->yp = sl_ws_take(base, &off, mN, sizeof(double));
+        w->sq = sl_ws_take(base, &off, mul(m, m, &bad), sizeof(double));
+        w->D = sl_ws_take(base, &off, mN, sizeof(double));
+        w->blk = sl_ws_take(base, &off, bN, sizeof(double));
+        w->G = sl_ws_take(base, &off, mul(b, m, &bad), sizeof(double));
         break;
     case SL_ENKF_ETKF:
-        w->yp = carve(base, &off, &bad, mN, sizeof(double));
-        w->sq = carve(base, &off, &bad, r_full ? mul(m, m, &bad) : 0,
-                      sizeof(double));
+        w->yp = sl_ws_take(base, &off, mN, sizeof(double));
+        w->sq = sl_ws_take(base, &off, r_full ? mul(m, m, &bad) : 0, sizeof(double));
         if (obs_form) {
             /* m x m eigenvectors, the (m + 1) x N rows of the transform and
              * the mean's weights, m eigenvalues, N weights, m scratch; the
              * row blocks (see obs_block) in blk */
             size_t kb = N + m + 3, bo = obs_block(n, kb), region;
-            w->A = carve(base, &off, &bad, mul(m, m, &bad), sizeof(double));
-            w->T = carve(base, &off, &bad, mul(m + 1, N, &bad), sizeof(double));
-            w->lam = carve(base, &off, &bad, m, sizeof(double));
-            w->tv = carve(base, &off, &bad, N, sizeof(double));
-            w->wv = carve(base, &off, &bad, m, sizeof(double));
+            w->A = sl_ws_take(base, &off, mul(m, m, &bad), sizeof(double));
+            w->T = sl_ws_take(base, &off, mul(m + 1, N, &bad), sizeof(double));
+            w->lam = sl_ws_take(base, &off, m, sizeof(double));
+            w->tv = sl_ws_take(base, &off, N, sizeof(double));
+            w->wv = sl_ws_take(base, &off, m, sizeof(double));
             w->lwork = (int)(LWORK_PER_MEMBER * (m > 0 ? m : 1));
-            w->ev = carve(base, &off, &bad, (size_t)w->lwork, sizeof(double));
+            w->ev = sl_ws_take(base, &off, (size_t)w->lwork, sizeof(double));
             /* bo kb doubles at most: min(n, max(BLOCK_ROWS, OBS_BLOCK / kb
              * rounded up)) kb <= min(n kb, max(BLOCK_ROWS kb, OBS_BLOCK +
              * kb)), which never decreases when n, N or m grow */
@@ -200,45 +185,45 @@ static size_t layout(const sl_enkf_config *cfg, size_t n, size_t N, size_t m,
                 region = OBS_BLOCK + kb;
             if (region > mul(n, kb, &bad))
                 region = mul(n, kb, &bad);
-            w->blk = carve(base, &off, &bad, region, sizeof(double));
+            w->blk = sl_ws_take(base, &off, region, sizeof(double));
             w->b = bo;
         } else {
-            w->A = carve(base, &off, &bad, mul(N, N, &bad), sizeof(double));
-            w->T = carve(base, &off, &bad, mul(N, N, &bad), sizeof(double));
-            w->lam = carve(base, &off, &bad, N, sizeof(double));
-            w->tv = carve(base, &off, &bad, N, sizeof(double));
-            w->wv = carve(base, &off, &bad, N, sizeof(double));
+            w->A = sl_ws_take(base, &off, mul(N, N, &bad), sizeof(double));
+            w->T = sl_ws_take(base, &off, mul(N, N, &bad), sizeof(double));
+            w->lam = sl_ws_take(base, &off, N, sizeof(double));
+            w->tv = sl_ws_take(base, &off, N, sizeof(double));
+            w->wv = sl_ws_take(base, &off, N, sizeof(double));
             w->lwork = (int)(LWORK_PER_MEMBER * (N > 0 ? N : 1));
-            w->ev = carve(base, &off, &bad, (size_t)w->lwork, sizeof(double));
-            w->blk = carve(base, &off, &bad, bN, sizeof(double));
+            w->ev = sl_ws_take(base, &off, (size_t)w->lwork, sizeof(double));
+            w->blk = sl_ws_take(base, &off, bN, sizeof(double));
         }
         break;
     case SL_ENKF_ENSRF:
     case SL_ENKF_EAKF:
-        w->yp = carve(base, &off, &bad, mN, sizeof(double));
-        w->coef = carve(base, &off, &bad, mul(3, m, &bad), sizeof(double));
-        w->blk = carve(base, &off, &bad, bN, sizeof(double));
-        w->blk2 = carve(base, &off, &bad, bN, sizeof(double));
-        w->dofw = carve(base, &off, &bad, dof_doubles(N, m, &bad), sizeof(double));
+        w->yp = sl_ws_take(base, &off, mN, sizeof(double));
+        w->coef = sl_ws_take(base, &off, mul(3, m, &bad), sizeof(double));
+        w->blk = sl_ws_take(base, &off, bN, sizeof(double));
+        w->blk2 = sl_ws_take(base, &off, bN, sizeof(double));
+        w->dofw = sl_ws_take(base, &off, dof_doubles(N, m, &bad), sizeof(double));
         break;
     case SL_ENKF_LETKF: {
         size_t lb = sl_letkf_workspace(cfg, n, N, m);
         if (lb == 0)
             bad = 1;
-        w->xw = carve(base, &off, &bad, mul(n, N, &bad), sizeof(double));
-        w->hw = carve(base, &off, &bad, mN, sizeof(double));
-        w->xbar = carve(base, &off, &bad, n, sizeof(double));
-        w->rowf = carve(base, &off, &bad, N, sizeof(double));
-        w->dofw = carve(base, &off, &bad, dof_doubles(N, m, &bad), sizeof(double));
-        w->lw = carve(base, &off, &bad, lb, 1);
+        w->xw = sl_ws_take(base, &off, mul(n, N, &bad), sizeof(double));
+        w->hw = sl_ws_take(base, &off, mN, sizeof(double));
+        w->xbar = sl_ws_take(base, &off, n, sizeof(double));
+        w->rowf = sl_ws_take(base, &off, N, sizeof(double));
+        w->dofw = sl_ws_take(base, &off, dof_doubles(N, m, &bad), sizeof(double));
+        w->lw = sl_ws_take(base, &off, lb, 1);
         break;
     }
     default:
         return 0;
     }
-    if (bad)
+    if (bad || off == SL_WS_OVERFLOW)
         return 0;
-    return off > ALIGN ? off : ALIGN;
+    return off > SL_WS_ALIGN ? off : SL_WS_ALIGN;
 }
 
 /* The bytes to ask for: the layout of the form the analysis will use;

@@ -10,9 +10,9 @@
 #endif
 
 #include "enkf_internal.h"
+#include "workspace.h"
 
 #define MAX_THREADS 256
-#define ALIGN 64
 #define DEFAULT_FLOOR 1e-12
 #define MAX_QL_ITER 60
 
@@ -46,15 +46,6 @@ typedef struct {
     slice *sl;       /* one per thread */
 } buffers;
 
-static size_t carve(unsigned char *base, size_t *off, size_t bytes, void **out)
-{
-    size_t at = (*off + ALIGN - 1) / ALIGN * ALIGN;
-    if (out != NULL)
-        *out = base != NULL ? base + at : NULL;
-    *off = at + bytes;
-    return *off;
-}
-
 /* Lay the buffers out in `base` (NULL: only measure). Returns the bytes
  * needed, or 0 if a size overflows. */
 static size_t layout(size_t nthr, size_t n, size_t N, size_t m,
@@ -68,20 +59,20 @@ static size_t layout(size_t nthr, size_t n, size_t N, size_t m,
     if (nthr > MAX_THREADS || N > ((size_t)1 << 24) || nm > big / 64 ||
         nm > big / 64 / (N > 0 ? N : 1) || N * N > big / 64 / MAX_THREADS)
         return 0;
-    carve(base, &off, N * m * sizeof(double), (void **)&b->YbT);
-    carve(base, &off, m * sizeof(double), (void **)&b->d);
-    carve(base, &off, m * sizeof(entry), (void **)&b->obs);
-    carve(base, &off, n * sizeof(entry), (void **)&b->rows);
-    carve(base, &off, nm * sizeof(entry), (void **)&b->scratch);
-    carve(base, &off, (n + 1) * sizeof(size_t), (void **)&b->gstart);
-    carve(base, &off, nthr * sizeof(slice), (void **)&b->sl);
+    sl_ws_carve(base, &off, N * m * sizeof(double), (void **)&b->YbT);
+    sl_ws_carve(base, &off, m * sizeof(double), (void **)&b->d);
+    sl_ws_carve(base, &off, m * sizeof(entry), (void **)&b->obs);
+    sl_ws_carve(base, &off, n * sizeof(entry), (void **)&b->rows);
+    sl_ws_carve(base, &off, nm * sizeof(entry), (void **)&b->scratch);
+    sl_ws_carve(base, &off, (n + 1) * sizeof(size_t), (void **)&b->gstart);
+    sl_ws_carve(base, &off, nthr * sizeof(slice), (void **)&b->sl);
     for (t = 0; t < nthr; t++) {
         double *p[8];
         size_t q;
-        carve(base, &off, N * N * sizeof(double), (void **)&p[0]);
-        carve(base, &off, N * N * sizeof(double), (void **)&p[1]);
+        sl_ws_carve(base, &off, N * N * sizeof(double), (void **)&p[0]);
+        sl_ws_carve(base, &off, N * N * sizeof(double), (void **)&p[1]);
         for (q = 2; q < 8; q++)
-            carve(base, &off, N * sizeof(double), (void **)&p[q]);
+            sl_ws_carve(base, &off, N * sizeof(double), (void **)&p[q]);
         if (base != NULL) {
             slice *s = &b->sl[t];
             s->A = p[0];
@@ -96,7 +87,7 @@ static size_t layout(size_t nthr, size_t n, size_t N, size_t m,
     }
     /* a trailing cache line keeps the last slice apart from whatever
      * follows the workspace */
-    return carve(base, &off, ALIGN, NULL);
+    return sl_ws_size(sl_ws_carve(base, &off, SL_WS_ALIGN, NULL));
 }
 
 size_t sl_letkf_workspace(const sl_enkf_config *cfg, size_t n, size_t N,

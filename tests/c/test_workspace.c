@@ -1,6 +1,8 @@
-/* test_workspace.c - the workspace sizes the size queries report
- * (sl_enkf_workspace, sl_pf_workspace, sl_smooth_workspace, and through
- * them the LETKF's) for a fixed set of configurations. The expected
+/* test_workspace.c - the layout helper of src/workspace.h (alignment,
+ * order, the size query against the layout in memory, overflow), and the
+ * workspace sizes the size queries report (sl_enkf_workspace,
+ * sl_pf_workspace, sl_smooth_workspace, and through them the LETKF's) for
+ * a fixed set of configurations. The expected
  * numbers were recorded from the build before the layouts were written
  * with one shared helper: the layouts (alignment, order) must not have
  * moved. They hold for this ABI (x86-64 Linux: 8-byte size_t and
@@ -14,6 +16,62 @@
 #include "sluice/smooth.h"
 
 #include <stdint.h>
+
+#include "../../src/workspace.h"
+
+/* ------------------------------------------------------------------ the helper */
+
+static void test_helper(void)
+{
+    /* buffers of 24, 0, 65, 1 and 8 x 3 bytes: each starts at the next
+     * multiple of 64 (hand-computed offsets 0, 64, 64, 192, 256) */
+    static const size_t count[5] = {3, 0, 65, 1, 3}, size[5] = {8, 8, 1, 1, 8};
+    static const size_t at[5] = {0, 64, 64, 192, 256};
+    static unsigned char spare[SL_WS_ALIGN];
+    unsigned char *mem;
+    size_t off = 0, k, end;
+    void *p, *q;
+    for (k = 0; k < 5; k++)
+        CHECK(sl_ws_take(NULL, &off, count[k], size[k]) == NULL, "measuring gives no buffer");
+    end = off;
+    CHECK(end == 256 + 24, "end of the layout %lu, expected 280", (unsigned long)end);
+    CHECK(sl_ws_size(end) == end, "size of a layout");
+    mem = aligned_alloc(SL_WS_ALIGN, 320);
+    CHECK(mem != NULL, "memory");
+    if (mem != NULL) {
+        off = 0;
+        for (k = 0; k < 5; k++) {
+            p = sl_ws_take(mem, &off, count[k], size[k]);
+            CHECK(p == mem + at[k], "buffer %lu at %ld, expected %lu", (unsigned long)k,
+                  (long)((unsigned char *)p - mem), (unsigned long)at[k]);
+        }
+        CHECK(off == end, "the layout in memory ends where the query did");
+        /* the byte form: the buffer into *out, the new end returned */
+        off = 5;
+        CHECK(sl_ws_carve(mem, &off, 10, &q) == 74 && q == mem + 64, "carve after 5 bytes");
+        CHECK(sl_ws_carve(mem, &off, 1, NULL) == 129, "carve without a pointer");
+        CHECK(sl_ws_carve(NULL, &off, 0, &q) == 192 && q == NULL, "carve while measuring");
+        free(mem);
+    }
+    /* overflow of the product, then every later call keeps it */
+    off = 0;
+    CHECK(sl_ws_take(NULL, &off, SIZE_MAX / 2, 4) == NULL && off == SL_WS_OVERFLOW,
+          "an overflowing product");
+    p = sl_ws_take(spare, &off, 1, 1);
+    CHECK(p == NULL && off == SL_WS_OVERFLOW, "an overflow stays");
+    CHECK(sl_ws_carve(NULL, &off, 1, NULL) == SL_WS_OVERFLOW && sl_ws_size(off) == 0,
+          "the size of an overflowed layout is 0");
+    /* the end stays 2 SL_WS_ALIGN below SIZE_MAX: the limits either side */
+    off = SIZE_MAX - 2 * SL_WS_ALIGN - 10;
+    sl_ws_take(NULL, &off, 10, 1);
+    CHECK(off != SL_WS_OVERFLOW && off > SIZE_MAX - 2 * SL_WS_ALIGN, "the last end allowed");
+    off = SIZE_MAX - 2 * SL_WS_ALIGN - 10;
+    sl_ws_take(NULL, &off, 11, 1);
+    CHECK(off == SL_WS_OVERFLOW, "one byte more overflows");
+    off = 0;
+    sl_ws_take(NULL, &off, SIZE_MAX - SL_WS_ALIGN, 1);
+    CHECK(off == SL_WS_OVERFLOW, "a buffer of nearly SIZE_MAX bytes");
+}
 
 /* ------------------------------------------------------- the ensemble Kalman analyses */
 
@@ -267,6 +325,7 @@ static void test_smooth_sizes(void)
 
 int main(void)
 {
+    test_helper();
     test_enkf_sizes();
     test_pf_sizes();
     test_smooth_sizes();
