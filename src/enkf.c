@@ -299,13 +299,12 @@ static sl_status check_config(const sl_enkf_config *cfg, int r_full,
     return SL_OK;
 }
 
+/* The method's needs (the LETKF needs positions, the ETKF takes none),
+ * then the localisation itself (sl_localization_check). */
 static sl_status check_localization(const sl_enkf_config *cfg, size_t n,
                                     size_t m, sl_error *err)
 {
-    static const char *const gnames[] = {"line", "ring", "plane", "sphere"};
-    const sl_localization *L = cfg->loc;
-    size_t i, k, d;
-    if (L == NULL) {
+    if (cfg->loc == NULL) {
         if (cfg->method == SL_ENKF_LETKF)
             return sl_fail(err, SL_EINVAL, "badlocalization",
                            "the LETKF needs the positions of the states and observations");
@@ -315,58 +314,7 @@ static sl_status check_localization(const sl_enkf_config *cfg, size_t n,
         return sl_fail(err, SL_EINVAL, "badlocalization",
                        "the ETKF is a global analysis and takes no localisation "
                        "(use the LETKF, or a serial or stochastic method)");
-    if (L->geometry < SL_GEOM_LINE || L->geometry > SL_GEOM_SPHERE)
-        return sl_fail(err, SL_EINVAL, "badlocalization", "unknown geometry %d",
-                       L->geometry);
-    if (L->dim != (L->geometry >= SL_GEOM_PLANE ? 2u : 1u))
-        return sl_fail(err, SL_EINVAL, "badlocalization",
-                       "positions on a %s have %d coordinate(s), got %lu",
-                       gnames[L->geometry], L->geometry >= SL_GEOM_PLANE ? 2 : 1,
-                       (unsigned long)L->dim);
-    if ((L->geometry == SL_GEOM_RING || L->geometry == SL_GEOM_SPHERE) &&
-        !(L->period_or_radius > 0 && L->period_or_radius < HUGE_VAL))
-        return sl_fail(err, SL_EINVAL, "badlocalization",
-                       "the %s of the %s must be a finite number > 0, got %g",
-                       L->geometry == SL_GEOM_RING ? "period" : "radius",
-                       gnames[L->geometry], L->period_or_radius);
-    if (L->state_pos == NULL || L->obs_pos == NULL || L->obs_c == NULL)
-        return sl_fail(err, SL_EINVAL, "badlocalization",
-                       "the positions of the states and observations and the "
-                       "half-widths are required");
-    if (!(L->param_factor > 0 && L->param_factor <= 1))
-        return sl_fail(err, SL_EINVAL, "badlocalization",
-                       "the weight on rows without a position must lie in (0, 1], got %g",
-                       L->param_factor);
-    for (k = 0; k < m; k++) {
-        if (!(L->obs_c[k] > 0 && L->obs_c[k] < HUGE_VAL))
-            return sl_fail(err, SL_EINVAL, "badlocalization",
-                           "observation %lu: the half-width must be a finite number > 0, got %g",
-                           (unsigned long)(k + 1), L->obs_c[k]);
-        for (d = 0; d < L->dim; d++)
-            if (!isfinite(L->obs_pos[k + d * m]))
-                return sl_fail(err, SL_EINVAL, "badlocalization",
-                               "observation %lu: position coordinate %lu is not finite",
-                               (unsigned long)(k + 1), (unsigned long)(d + 1));
-        if (L->geometry == SL_GEOM_SPHERE && fabs(L->obs_pos[k + m]) > 90)
-            return sl_fail(err, SL_EINVAL, "badlocalization",
-                           "observation %lu: latitude %g outside [-90, 90]",
-                           (unsigned long)(k + 1), L->obs_pos[k + m]);
-    }
-    for (i = 0; i < n; i++) {
-        if (isnan(L->state_pos[i]))
-            continue; /* not localised */
-        for (d = 0; d < L->dim; d++)
-            if (!isfinite(L->state_pos[i + d * n]))
-                return sl_fail(err, SL_EINVAL, "badlocalization",
-                               "state row %lu: position coordinate %lu is not finite "
-                               "(NaN in the first coordinate marks a row without position)",
-                               (unsigned long)(i + 1), (unsigned long)(d + 1));
-        if (L->geometry == SL_GEOM_SPHERE && fabs(L->state_pos[i + n]) > 90)
-            return sl_fail(err, SL_EINVAL, "badlocalization",
-                           "state row %lu: latitude %g outside [-90, 90]",
-                           (unsigned long)(i + 1), L->state_pos[i + n]);
-    }
-    return SL_OK;
+    return sl_localization_check(cfg->loc, n, m, err);
 }
 
 /* Index of the first non-finite entry of a[0..len-1], or len. */
