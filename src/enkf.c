@@ -68,6 +68,11 @@ int sl_enkf_method_find(const char *name)
     return -1;
 }
 
+const char *sl_enkf_method_name(int method)
+{
+    return method >= 0 && method < SL_ENKF_COUNT ? method_names[method] : NULL;
+}
+
 /* ------------------------------------------------------------ workspace */
 
 /* Every buffer of one analysis, carved from the caller's workspace. */

@@ -797,6 +797,11 @@ const sl_smoother *sl_smoother_find(const char *name)
     return NULL;
 }
 
+const sl_smoother *sl_smoother_at(size_t k)
+{
+    return k < sizeof all_smoothers / sizeof *all_smoothers ? all_smoothers[k] : NULL;
+}
+
 sl_status sl_smooth_run(const sl_smoother *type, const sl_smooth_config *cfg, void *work,
                         sl_smooth_output *out, sl_error *err)
 {

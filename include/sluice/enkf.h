@@ -25,6 +25,9 @@ typedef enum {
  * or -1. */
 int sl_enkf_method_find(const char *name);
 
+/* The name of a method (sl_enkf_method), or NULL. */
+const char *sl_enkf_method_name(int method);
+
 /* Where the ETKF works out its transform. Both give the same analysis to
  * rounding; the ensemble space costs O(N^3 + m N^2) with N x N matrices,
  * the observation space O(m^3 + m^2 N) with m x m and m x N ones. */
