@@ -19,7 +19,6 @@ static double fnum(const mxArray *c, const char *name)
 
 void mexFunction(int nlhs, mxArray *plhs[], int nrhs, const mxArray *prhs[])
 {
-    static const char *const geoms[] = {"line", "ring", "plane", "sphere"};
     const double *Xf, *HX, *y, *R;
     const mxArray *c, *g;
     size_t n, N, m, k, bytes;
@@ -87,11 +86,9 @@ void mexFunction(int nlhs, mxArray *plhs[], int nrhs, const mxArray *prhs[])
     g = slm_field(FN, c, "geometry", 0);
     if (g != NULL && mxGetNumberOfElements(g) > 0) {
         char *gname = slm_string(FN, g, 5, "geometry");
-        int gk;
+        int gk = sl_geometry_find(gname);
         memset(&loc, 0, sizeof loc);
-        for (gk = 0; gk < 4 && strcmp(gname, geoms[gk]) != 0; gk++)
-            ;
-        if (gk == 4)
+        if (gk < 0)
             slm_fail(FN, "badlocalization", "unknown geometry '%s'", gname);
         loc.geometry = gk;
         loc.dim = gk >= SL_GEOM_PLANE ? 2 : 1;

@@ -67,16 +67,6 @@ static size_t numel_field(const mxArray *c, const char *name)
     return mxGetNumberOfElements(slm_field(FN, c, name, 1));
 }
 
-static int choose(const char *fn, const char *what, const char *s,
-                  const char *const *names, int count)
-{
-    int k;
-    for (k = 0; k < count; k++)
-        if (strcmp(s, names[k]) == 0)
-            return k;
-    slm_fail(fn, "badoption", "unknown %s '%s'", what, s);
-}
-
 void mexFunction(int nlhs, mxArray *plhs[], int nrhs, const mxArray *prhs[])
 {
     static const char *out_names[] = {
@@ -390,11 +380,12 @@ void mexFunction(int nlhs, mxArray *plhs[], int nrhs, const mxArray *prhs[])
             cfg.adaptive_inflation = fscalar(c, "adaptive_inflation") != 0;
             cfg.inflation_max = fscalar(c, "inflation_max");
             if (g != NULL && mxGetNumberOfElements(g) > 0) {
-                static const char *const geoms[] = {"line", "ring", "plane", "sphere"};
                 char *gname = slm_string(FN, g, 1, "geometry");
                 size_t mall = first[T];
                 memset(&loc, 0, sizeof loc);
-                loc.geometry = choose(FN, "geometry", gname, geoms, 4);
+                loc.geometry = sl_geometry_find(gname);
+                if (loc.geometry < 0)
+                    slm_fail(FN, "badoption", "unknown geometry '%s'", gname);
                 loc.dim = loc.geometry >= SL_GEOM_PLANE ? 2 : 1;
                 loc.period_or_radius = fscalar(c, "period_or_radius");
                 loc.state_pos = fmat(c, "state_pos", v, loc.dim, SLM_ALLOW_NAN);

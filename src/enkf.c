@@ -8,6 +8,7 @@
 #include <string.h>
 
 #include "enkf_internal.h"
+#include "workspace.h"
 #include "sluice/rng.h"
 
 /* BLAS and LAPACK through their Fortran interface; the trailing size_t
@@ -45,7 +46,6 @@ extern void dsyev_(const char *jobz, const char *uplo, const int *n, double *a,
                    const int *lda, double *w, double *work, const int *lwork,
                    int *info, size_t, size_t);
 
-#define ALIGN 64
 #define BLOCK_ROWS 64        /* state rows per pass of the row loops */
 #define CHUNK 256            /* observations / members per packed slice */
 #define LWORK_PER_MEMBER 66  /* dsyev's optimal work, (block 64 + 2) N */
@@ -66,6 +66,11 @@ int sl_enkf_method_find(const char *name)
         if (strcmp(name, method_names[k]) == 0)
             return k;
     return -1;
+}
+
+const char *sl_enkf_method_name(int method)
+{
+    return method >= 0 && method < SL_ENKF_COUNT ? method_names[method] : NULL;
 }
 
 /* ------------------------------------------------------------ workspace */
@@ -90,20 +95,6 @@ typedef struct {
     size_t b;
     int lwork;
 } buffers;
-
-static void *carve(unsigned char *base, size_t *off, int *bad, size_t count,
-                   size_t size)
-{
-    size_t bytes, at;
-    if (*bad || sl_size_mul(count, size, &bytes) ||
-        *off > SIZE_MAX - 2 * ALIGN - bytes) {
-        *bad = 1;
-        return NULL;
-    }
-    at = (*off + ALIGN - 1) / ALIGN * ALIGN;
-    *off = at + bytes;
-    return base != NULL ? base + at : NULL;
-}
 
 static size_t mul(size_t a, size_t b, int *bad)
 {
@@ -156,42 +147,41 @@ static size_t layout(const sl_enkf_config *cfg, size_t n, size_t N, size_t m,
                      int r_full, int obs_form, unsigned char *base, buffers *w)
 {
     size_t off = 0, b = n < BLOCK_ROWS ? n : BLOCK_ROWS, mN, bN;
-    int bad = 0;
+    int bad = 0; /* a product of sizes overflowed (sl_ws_take marks its own in off) */
     memset(w, 0, sizeof *w);
     if (n > INT_MAX || N > INT_MAX / LWORK_PER_MEMBER || m > INT_MAX)
         return 0;
     w->b = b;
     mN = mul(m, N, &bad);
     bN = mul(b, N, &bad);
-    w->ybar = carve(base, &off, &bad, m, sizeof(double));
-    w->dv = carve(base, &off, &bad, m, sizeof(double));
-    w->rd = carve(base, &off, &bad, m, sizeof(double));
-    w->aux = carve(base, &off, &bad, m, sizeof(double));
-    w->stat = carve(base, &off, &bad, 5 * b, sizeof(double));
+    w->ybar = sl_ws_take(base, &off, m, sizeof(double));
+    w->dv = sl_ws_take(base, &off, m, sizeof(double));
+    w->rd = sl_ws_take(base, &off, m, sizeof(double));
+    w->aux = sl_ws_take(base, &off, m, sizeof(double));
+    w->stat = sl_ws_take(base, &off, 5 * b, sizeof(double));
     switch (cfg->method) {
     case SL_ENKF_STOCHASTIC:
-        w->yp = carve(base, &off, &bad, mN, sizeof(double));
-        w->sq = carve(base, &off, &bad, mul(m, m, &bad), sizeof(double));
-        w->D = carve(base, &off, &bad, mN, sizeof(double));
-        w->blk = carve(base, &off, &bad, bN, sizeof(double));
-        w->G = carve(base, &off, &bad, mul(b, m, &bad), sizeof(double));
+        w->yp = sl_ws_take(base, &off, mN, sizeof(double));
+        w->sq = sl_ws_take(base, &off, mul(m, m, &bad), sizeof(double));
+        w->D = sl_ws_take(base, &off, mN, sizeof(double));
+        w->blk = sl_ws_take(base, &off, bN, sizeof(double));
+        w->G = sl_ws_take(base, &off, mul(b, m, &bad), sizeof(double));
         break;
     case SL_ENKF_ETKF:
-        w->yp = carve(base, &off, &bad, mN, sizeof(double));
-        w->sq = carve(base, &off, &bad, r_full ? mul(m, m, &bad) : 0,
-                      sizeof(double));
+        w->yp = sl_ws_take(base, &off, mN, sizeof(double));
+        w->sq = sl_ws_take(base, &off, r_full ? mul(m, m, &bad) : 0, sizeof(double));
         if (obs_form) {
             /* m x m eigenvectors, the (m + 1) x N rows of the transform and
              * the mean's weights, m eigenvalues, N weights, m scratch; the
              * row blocks (see obs_block) in blk */
             size_t kb = N + m + 3, bo = obs_block(n, kb), region;
-            w->A = carve(base, &off, &bad, mul(m, m, &bad), sizeof(double));
-            w->T = carve(base, &off, &bad, mul(m + 1, N, &bad), sizeof(double));
-            w->lam = carve(base, &off, &bad, m, sizeof(double));
-            w->tv = carve(base, &off, &bad, N, sizeof(double));
-            w->wv = carve(base, &off, &bad, m, sizeof(double));
+            w->A = sl_ws_take(base, &off, mul(m, m, &bad), sizeof(double));
+            w->T = sl_ws_take(base, &off, mul(m + 1, N, &bad), sizeof(double));
+            w->lam = sl_ws_take(base, &off, m, sizeof(double));
+            w->tv = sl_ws_take(base, &off, N, sizeof(double));
+            w->wv = sl_ws_take(base, &off, m, sizeof(double));
             w->lwork = (int)(LWORK_PER_MEMBER * (m > 0 ? m : 1));
-            w->ev = carve(base, &off, &bad, (size_t)w->lwork, sizeof(double));
+            w->ev = sl_ws_take(base, &off, (size_t)w->lwork, sizeof(double));
             /* bo kb doubles at most: min(n, max(BLOCK_ROWS, OBS_BLOCK / kb
              * rounded up)) kb <= min(n kb, max(BLOCK_ROWS kb, OBS_BLOCK +
              * kb)), which never decreases when n, N or m grow */
@@ -200,45 +190,45 @@ static size_t layout(const sl_enkf_config *cfg, size_t n, size_t N, size_t m,
                 region = OBS_BLOCK + kb;
             if (region > mul(n, kb, &bad))
                 region = mul(n, kb, &bad);
-            w->blk = carve(base, &off, &bad, region, sizeof(double));
+            w->blk = sl_ws_take(base, &off, region, sizeof(double));
             w->b = bo;
         } else {
-            w->A = carve(base, &off, &bad, mul(N, N, &bad), sizeof(double));
-            w->T = carve(base, &off, &bad, mul(N, N, &bad), sizeof(double));
-            w->lam = carve(base, &off, &bad, N, sizeof(double));
-            w->tv = carve(base, &off, &bad, N, sizeof(double));
-            w->wv = carve(base, &off, &bad, N, sizeof(double));
+            w->A = sl_ws_take(base, &off, mul(N, N, &bad), sizeof(double));
+            w->T = sl_ws_take(base, &off, mul(N, N, &bad), sizeof(double));
+            w->lam = sl_ws_take(base, &off, N, sizeof(double));
+            w->tv = sl_ws_take(base, &off, N, sizeof(double));
+            w->wv = sl_ws_take(base, &off, N, sizeof(double));
             w->lwork = (int)(LWORK_PER_MEMBER * (N > 0 ? N : 1));
-            w->ev = carve(base, &off, &bad, (size_t)w->lwork, sizeof(double));
-            w->blk = carve(base, &off, &bad, bN, sizeof(double));
+            w->ev = sl_ws_take(base, &off, (size_t)w->lwork, sizeof(double));
+            w->blk = sl_ws_take(base, &off, bN, sizeof(double));
         }
         break;
     case SL_ENKF_ENSRF:
     case SL_ENKF_EAKF:
-        w->yp = carve(base, &off, &bad, mN, sizeof(double));
-        w->coef = carve(base, &off, &bad, mul(3, m, &bad), sizeof(double));
-        w->blk = carve(base, &off, &bad, bN, sizeof(double));
-        w->blk2 = carve(base, &off, &bad, bN, sizeof(double));
-        w->dofw = carve(base, &off, &bad, dof_doubles(N, m, &bad), sizeof(double));
+        w->yp = sl_ws_take(base, &off, mN, sizeof(double));
+        w->coef = sl_ws_take(base, &off, mul(3, m, &bad), sizeof(double));
+        w->blk = sl_ws_take(base, &off, bN, sizeof(double));
+        w->blk2 = sl_ws_take(base, &off, bN, sizeof(double));
+        w->dofw = sl_ws_take(base, &off, dof_doubles(N, m, &bad), sizeof(double));
         break;
     case SL_ENKF_LETKF: {
         size_t lb = sl_letkf_workspace(cfg, n, N, m);
         if (lb == 0)
             bad = 1;
-        w->xw = carve(base, &off, &bad, mul(n, N, &bad), sizeof(double));
-        w->hw = carve(base, &off, &bad, mN, sizeof(double));
-        w->xbar = carve(base, &off, &bad, n, sizeof(double));
-        w->rowf = carve(base, &off, &bad, N, sizeof(double));
-        w->dofw = carve(base, &off, &bad, dof_doubles(N, m, &bad), sizeof(double));
-        w->lw = carve(base, &off, &bad, lb, 1);
+        w->xw = sl_ws_take(base, &off, mul(n, N, &bad), sizeof(double));
+        w->hw = sl_ws_take(base, &off, mN, sizeof(double));
+        w->xbar = sl_ws_take(base, &off, n, sizeof(double));
+        w->rowf = sl_ws_take(base, &off, N, sizeof(double));
+        w->dofw = sl_ws_take(base, &off, dof_doubles(N, m, &bad), sizeof(double));
+        w->lw = sl_ws_take(base, &off, lb, 1);
         break;
     }
     default:
         return 0;
     }
-    if (bad)
+    if (bad || off == SL_WS_OVERFLOW)
         return 0;
-    return off > ALIGN ? off : ALIGN;
+    return off > SL_WS_ALIGN ? off : SL_WS_ALIGN;
 }
 
 /* The bytes to ask for: the layout of the form the analysis will use;
@@ -314,13 +304,12 @@ static sl_status check_config(const sl_enkf_config *cfg, int r_full,
     return SL_OK;
 }
 
+/* The method's needs (the LETKF needs positions, the ETKF takes none),
+ * then the localisation itself (sl_localization_check). */
 static sl_status check_localization(const sl_enkf_config *cfg, size_t n,
                                     size_t m, sl_error *err)
 {
-    static const char *const gnames[] = {"line", "ring", "plane", "sphere"};
-    const sl_localization *L = cfg->loc;
-    size_t i, k, d;
-    if (L == NULL) {
+    if (cfg->loc == NULL) {
         if (cfg->method == SL_ENKF_LETKF)
             return sl_fail(err, SL_EINVAL, "badlocalization",
                            "the LETKF needs the positions of the states and observations");
@@ -330,58 +319,7 @@ static sl_status check_localization(const sl_enkf_config *cfg, size_t n,
         return sl_fail(err, SL_EINVAL, "badlocalization",
                        "the ETKF is a global analysis and takes no localisation "
                        "(use the LETKF, or a serial or stochastic method)");
-    if (L->geometry < SL_GEOM_LINE || L->geometry > SL_GEOM_SPHERE)
-        return sl_fail(err, SL_EINVAL, "badlocalization", "unknown geometry %d",
-                       L->geometry);
-    if (L->dim != (L->geometry >= SL_GEOM_PLANE ? 2u : 1u))
-        return sl_fail(err, SL_EINVAL, "badlocalization",
-                       "positions on a %s have %d coordinate(s), got %lu",
-                       gnames[L->geometry], L->geometry >= SL_GEOM_PLANE ? 2 : 1,
-                       (unsigned long)L->dim);
-    if ((L->geometry == SL_GEOM_RING || L->geometry == SL_GEOM_SPHERE) &&
-        !(L->period_or_radius > 0 && L->period_or_radius < HUGE_VAL))
-        return sl_fail(err, SL_EINVAL, "badlocalization",
-                       "the %s of the %s must be a finite number > 0, got %g",
-                       L->geometry == SL_GEOM_RING ? "period" : "radius",
-                       gnames[L->geometry], L->period_or_radius);
-    if (L->state_pos == NULL || L->obs_pos == NULL || L->obs_c == NULL)
-        return sl_fail(err, SL_EINVAL, "badlocalization",
-                       "the positions of the states and observations and the "
-                       "half-widths are required");
-    if (!(L->param_factor > 0 && L->param_factor <= 1))
-        return sl_fail(err, SL_EINVAL, "badlocalization",
-                       "the weight on rows without a position must lie in (0, 1], got %g",
-                       L->param_factor);
-    for (k = 0; k < m; k++) {
-        if (!(L->obs_c[k] > 0 && L->obs_c[k] < HUGE_VAL))
-            return sl_fail(err, SL_EINVAL, "badlocalization",
-                           "observation %lu: the half-width must be a finite number > 0, got %g",
-                           (unsigned long)(k + 1), L->obs_c[k]);
-        for (d = 0; d < L->dim; d++)
-            if (!isfinite(L->obs_pos[k + d * m]))
-                return sl_fail(err, SL_EINVAL, "badlocalization",
-                               "observation %lu: position coordinate %lu is not finite",
-                               (unsigned long)(k + 1), (unsigned long)(d + 1));
-        if (L->geometry == SL_GEOM_SPHERE && fabs(L->obs_pos[k + m]) > 90)
-            return sl_fail(err, SL_EINVAL, "badlocalization",
-                           "observation %lu: latitude %g outside [-90, 90]",
-                           (unsigned long)(k + 1), L->obs_pos[k + m]);
-    }
-    for (i = 0; i < n; i++) {
-        if (isnan(L->state_pos[i]))
-            continue; /* not localised */
-        for (d = 0; d < L->dim; d++)
-            if (!isfinite(L->state_pos[i + d * n]))
-                return sl_fail(err, SL_EINVAL, "badlocalization",
-                               "state row %lu: position coordinate %lu is not finite "
-                               "(NaN in the first coordinate marks a row without position)",
-                               (unsigned long)(i + 1), (unsigned long)(d + 1));
-        if (L->geometry == SL_GEOM_SPHERE && fabs(L->state_pos[i + n]) > 90)
-            return sl_fail(err, SL_EINVAL, "badlocalization",
-                           "state row %lu: latitude %g outside [-90, 90]",
-                           (unsigned long)(i + 1), L->state_pos[i + n]);
-    }
-    return SL_OK;
+    return sl_localization_check(cfg->loc, n, m, err);
 }
 
 /* Index of the first non-finite entry of a[0..len-1], or len. */

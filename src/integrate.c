@@ -28,6 +28,11 @@ const sl_integrator *sl_integrator_find(const char *name)
     return NULL;
 }
 
+const sl_integrator *sl_integrator_at(size_t k)
+{
+    return k < sizeof integrators / sizeof *integrators ? integrators[k] : NULL;
+}
+
 static void axpy_to(size_t len, double *out, const double *x, double a,
                     const double *k)
 {

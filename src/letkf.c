@@ -10,9 +10,9 @@
 #endif
 
 #include "enkf_internal.h"
+#include "workspace.h"
 
 #define MAX_THREADS 256
-#define ALIGN 64
 #define DEFAULT_FLOOR 1e-12
 #define MAX_QL_ITER 60
 
@@ -46,15 +46,6 @@ typedef struct {
     slice *sl;       /* one per thread */
 } buffers;
 
-static size_t carve(unsigned char *base, size_t *off, size_t bytes, void **out)
-{
-    size_t at = (*off + ALIGN - 1) / ALIGN * ALIGN;
-    if (out != NULL)
-        *out = base != NULL ? base + at : NULL;
-    *off = at + bytes;
-    return *off;
-}
-
 /* Lay the buffers out in `base` (NULL: only measure). Returns the bytes
  * needed, or 0 if a size overflows. */
 static size_t layout(size_t nthr, size_t n, size_t N, size_t m,
@@ -68,20 +59,20 @@ static size_t layout(size_t nthr, size_t n, size_t N, size_t m,
     if (nthr > MAX_THREADS || N > ((size_t)1 << 24) || nm > big / 64 ||
         nm > big / 64 / (N > 0 ? N : 1) || N * N > big / 64 / MAX_THREADS)
         return 0;
-    carve(base, &off, N * m * sizeof(double), (void **)&b->YbT);
-    carve(base, &off, m * sizeof(double), (void **)&b->d);
-    carve(base, &off, m * sizeof(entry), (void **)&b->obs);
-    carve(base, &off, n * sizeof(entry), (void **)&b->rows);
-    carve(base, &off, nm * sizeof(entry), (void **)&b->scratch);
-    carve(base, &off, (n + 1) * sizeof(size_t), (void **)&b->gstart);
-    carve(base, &off, nthr * sizeof(slice), (void **)&b->sl);
+    sl_ws_carve(base, &off, N * m * sizeof(double), (void **)&b->YbT);
+    sl_ws_carve(base, &off, m * sizeof(double), (void **)&b->d);
+    sl_ws_carve(base, &off, m * sizeof(entry), (void **)&b->obs);
+    sl_ws_carve(base, &off, n * sizeof(entry), (void **)&b->rows);
+    sl_ws_carve(base, &off, nm * sizeof(entry), (void **)&b->scratch);
+    sl_ws_carve(base, &off, (n + 1) * sizeof(size_t), (void **)&b->gstart);
+    sl_ws_carve(base, &off, nthr * sizeof(slice), (void **)&b->sl);
     for (t = 0; t < nthr; t++) {
         double *p[8];
         size_t q;
-        carve(base, &off, N * N * sizeof(double), (void **)&p[0]);
-        carve(base, &off, N * N * sizeof(double), (void **)&p[1]);
+        sl_ws_carve(base, &off, N * N * sizeof(double), (void **)&p[0]);
+        sl_ws_carve(base, &off, N * N * sizeof(double), (void **)&p[1]);
         for (q = 2; q < 8; q++)
-            carve(base, &off, N * sizeof(double), (void **)&p[q]);
+            sl_ws_carve(base, &off, N * sizeof(double), (void **)&p[q]);
         if (base != NULL) {
             slice *s = &b->sl[t];
             s->A = p[0];
@@ -96,7 +87,7 @@ static size_t layout(size_t nthr, size_t n, size_t N, size_t m,
     }
     /* a trailing cache line keeps the last slice apart from whatever
      * follows the workspace */
-    return carve(base, &off, ALIGN, NULL);
+    return sl_ws_size(sl_ws_carve(base, &off, SL_WS_ALIGN, NULL));
 }
 
 size_t sl_letkf_workspace(const sl_enkf_config *cfg, size_t n, size_t N,
@@ -526,78 +517,6 @@ static void local_analysis(const run_ctx *cx, slice *s, size_t g)
     }
 }
 
-/* ------------------------------------------------------------- checks */
-
-static sl_status check_localization(const sl_localization *loc, size_t n,
-                                    size_t m, sl_error *err)
-{
-    size_t i, dim;
-    if (loc == NULL)
-        return sl_fail(err, SL_EINVAL, "badlocalization",
-                       "the LETKF needs localisation (positions and half-widths)");
-    dim = loc->dim;
-    switch (loc->geometry) {
-    case SL_GEOM_LINE:
-    case SL_GEOM_RING:
-        if (dim != 1)
-            return sl_fail(err, SL_EINVAL, "badlocalization",
-                           "a line or ring has 1 coordinate per position, got %lu",
-                           (unsigned long)dim);
-        break;
-    case SL_GEOM_PLANE:
-    case SL_GEOM_SPHERE:
-        if (dim != 2)
-            return sl_fail(err, SL_EINVAL, "badlocalization",
-                           "a plane or sphere has 2 coordinates per position, got %lu",
-                           (unsigned long)dim);
-        break;
-    default:
-        return sl_fail(err, SL_EINVAL, "badlocalization", "unknown geometry %d",
-                       loc->geometry);
-    }
-    if ((loc->geometry == SL_GEOM_RING || loc->geometry == SL_GEOM_SPHERE) &&
-        !(loc->period_or_radius > 0 && loc->period_or_radius < HUGE_VAL))
-        return sl_fail(err, SL_EINVAL, "badlocalization",
-                       "the %s must be positive and finite, got %g",
-                       loc->geometry == SL_GEOM_RING ? "period" : "radius",
-                       loc->period_or_radius);
-    if (loc->state_pos == NULL || loc->obs_pos == NULL || loc->obs_c == NULL)
-        return sl_fail(err, SL_EINVAL, "badlocalization",
-                       "positions of the states and observations and the half-widths are needed");
-    if (!(loc->param_factor > 0 && loc->param_factor <= 1))
-        return sl_fail(err, SL_EINVAL, "badlocalization",
-                       "the weight of rows that are not localised must be in (0, 1], got %g",
-                       loc->param_factor);
-    for (i = 0; i < n; i++) {
-        double p0 = loc->state_pos[i];
-        if (isnan(p0))
-            continue;
-        if (!isfinite(p0) || (dim > 1 && !isfinite(loc->state_pos[i + n])))
-            return sl_fail(err, SL_EINVAL, "badlocalization",
-                           "the position of state row %lu is not finite",
-                           (unsigned long)(i + 1));
-        if (loc->geometry == SL_GEOM_SPHERE && !(fabs(loc->state_pos[i + n]) <= 90))
-            return sl_fail(err, SL_EINVAL, "badlocalization",
-                           "the latitude of state row %lu must be in [-90, 90], got %g",
-                           (unsigned long)(i + 1), loc->state_pos[i + n]);
-    }
-    for (i = 0; i < m; i++) {
-        if (!isfinite(loc->obs_pos[i]) || (dim > 1 && !isfinite(loc->obs_pos[i + m])))
-            return sl_fail(err, SL_EINVAL, "badlocalization",
-                           "the position of observation %lu is not finite",
-                           (unsigned long)(i + 1));
-        if (loc->geometry == SL_GEOM_SPHERE && !(fabs(loc->obs_pos[i + m]) <= 90))
-            return sl_fail(err, SL_EINVAL, "badlocalization",
-                           "the latitude of observation %lu must be in [-90, 90], got %g",
-                           (unsigned long)(i + 1), loc->obs_pos[i + m]);
-        if (!(loc->obs_c[i] > 0 && loc->obs_c[i] < HUGE_VAL))
-            return sl_fail(err, SL_EINVAL, "badlocalization",
-                           "the half-width of observation %lu must be positive and finite, got %g",
-                           (unsigned long)(i + 1), loc->obs_c[i]);
-    }
-    return SL_OK;
-}
-
 /* ---------------------------------------------------------------- run */
 
 sl_status sl_letkf_run(const sl_enkf_config *cfg, size_t n, size_t N,
@@ -633,7 +552,7 @@ sl_status sl_letkf_run(const sl_enkf_config *cfg, size_t n, size_t N,
         rdiag == NULL)
         return sl_fail(err, SL_EINVAL, "badconfig", "a buffer is missing");
     loc = cfg->loc;
-    st = check_localization(loc, n, m, err);
+    st = sl_localization_check(loc, n, m, err);
     if (st != SL_OK)
         return st;
     for (k = 0; k < m; k++) {

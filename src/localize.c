@@ -1,7 +1,28 @@
-/* localize.c - Gaspari-Cohn correlation and the distances of localisation. */
-#include <math.h>
+/* localize.c - Gaspari-Cohn correlation, the distances of localisation and
+ * the check of a localisation. */
+#include "sluice/localize.h"
 
-#include "sluice/enkf.h"
+#include <math.h>
+#include <string.h>
+
+static const char *const geometry_names[SL_GEOM_COUNT] = {"line", "ring", "plane",
+                                                          "sphere"};
+
+const char *sl_geometry_name(int geometry)
+{
+    return geometry >= 0 && geometry < SL_GEOM_COUNT ? geometry_names[geometry] : NULL;
+}
+
+int sl_geometry_find(const char *name)
+{
+    int k;
+    if (name == NULL)
+        return -1;
+    for (k = 0; k < SL_GEOM_COUNT; k++)
+        if (strcmp(name, geometry_names[k]) == 0)
+            return k;
+    return -1;
+}
 
 double sl_gaspari_cohn(double d, double c)
 {
@@ -47,4 +68,66 @@ double sl_distance(int geometry, double period_or_radius, const double *a,
     default:
         return NAN;
     }
+}
+
+sl_status sl_localization_check(const sl_localization *L, size_t n, size_t m,
+                                sl_error *err)
+{
+    size_t i, k, d;
+    if (L == NULL)
+        return sl_fail(err, SL_EINVAL, "badlocalization",
+                       "no localisation given (the positions of the states and "
+                       "observations and the half-widths)");
+    if (L->geometry < SL_GEOM_LINE || L->geometry > SL_GEOM_SPHERE)
+        return sl_fail(err, SL_EINVAL, "badlocalization", "unknown geometry %d",
+                       L->geometry);
+    if (L->dim != (L->geometry >= SL_GEOM_PLANE ? 2u : 1u))
+        return sl_fail(err, SL_EINVAL, "badlocalization",
+                       "positions on a %s have %d coordinate(s), got %lu",
+                       geometry_names[L->geometry], L->geometry >= SL_GEOM_PLANE ? 2 : 1,
+                       (unsigned long)L->dim);
+    if ((L->geometry == SL_GEOM_RING || L->geometry == SL_GEOM_SPHERE) &&
+        !(L->period_or_radius > 0 && L->period_or_radius < HUGE_VAL))
+        return sl_fail(err, SL_EINVAL, "badlocalization",
+                       "the %s of the %s must be a finite number > 0, got %g",
+                       L->geometry == SL_GEOM_RING ? "period" : "radius",
+                       geometry_names[L->geometry], L->period_or_radius);
+    if (L->state_pos == NULL || L->obs_pos == NULL || L->obs_c == NULL)
+        return sl_fail(err, SL_EINVAL, "badlocalization",
+                       "the positions of the states and observations and the "
+                       "half-widths are required");
+    if (!(L->param_factor > 0 && L->param_factor <= 1))
+        return sl_fail(err, SL_EINVAL, "badlocalization",
+                       "the weight on rows without a position must lie in (0, 1], got %g",
+                       L->param_factor);
+    for (k = 0; k < m; k++) {
+        if (!(L->obs_c[k] > 0 && L->obs_c[k] < HUGE_VAL))
+            return sl_fail(err, SL_EINVAL, "badlocalization",
+                           "observation %lu: the half-width must be a finite number > 0, got %g",
+                           (unsigned long)(k + 1), L->obs_c[k]);
+        for (d = 0; d < L->dim; d++)
+            if (!isfinite(L->obs_pos[k + d * m]))
+                return sl_fail(err, SL_EINVAL, "badlocalization",
+                               "observation %lu: position coordinate %lu is not finite",
+                               (unsigned long)(k + 1), (unsigned long)(d + 1));
+        if (L->geometry == SL_GEOM_SPHERE && fabs(L->obs_pos[k + m]) > 90)
+            return sl_fail(err, SL_EINVAL, "badlocalization",
+                           "observation %lu: latitude %g outside [-90, 90]",
+                           (unsigned long)(k + 1), L->obs_pos[k + m]);
+    }
+    for (i = 0; i < n; i++) {
+        if (isnan(L->state_pos[i]))
+            continue; /* not localised */
+        for (d = 0; d < L->dim; d++)
+            if (!isfinite(L->state_pos[i + d * n]))
+                return sl_fail(err, SL_EINVAL, "badlocalization",
+                               "state row %lu: position coordinate %lu is not finite "
+                               "(NaN in the first coordinate marks a row without position)",
+                               (unsigned long)(i + 1), (unsigned long)(d + 1));
+        if (L->geometry == SL_GEOM_SPHERE && fabs(L->state_pos[i + n]) > 90)
+            return sl_fail(err, SL_EINVAL, "badlocalization",
+                           "state row %lu: latitude %g outside [-90, 90]",
+                           (unsigned long)(i + 1), L->state_pos[i + n]);
+    }
+    return SL_OK;
 }

@@ -15,23 +15,13 @@
 #include "sluice/weights.h"
 
 #define MAX_THREADS 256
-#define ALIGN 64
 
 #include "pf_internal.h"
+#include "workspace.h"
 
 /* Below this many members a parallel region costs more than it saves (and
  * far more on a loaded machine, where a thread may wait a time slice). */
 #define PAR_MIN_MEMBERS 2048
-
-static size_t carve(unsigned char *base, size_t *off, size_t bytes,
-                    void **out)
-{
-    size_t at = (*off + ALIGN - 1) / ALIGN * ALIGN;
-    if (out != NULL)
-        *out = base != NULL ? base + at : NULL;
-    *off = at + bytes;
-    return *off;
-}
 
 /* Lay the buffers out in `base` (NULL: only measure). Returns the bytes
  * needed, or 0 if a size overflows. */
@@ -60,36 +50,36 @@ static size_t layout(const sl_pf_config *cfg, unsigned char *base,
     if (b->qwork_per > big / 8 / MAX_THREADS)
         return 0;
     for (k = 0; k < 2; k++) {
-        carve(base, &off, n * N * 8, (void **)&b->X[k]);
-        carve(base, &off, p * N * 8, (void **)&b->Z[k]);
-        carve(base, &off, p * N * 8, (void **)&b->P[k]);
-        carve(base, &off, q * N * 8, (void **)&b->E[k]);
-        carve(base, &off, N, (void **)&b->dead[k]);
+        sl_ws_carve(base, &off, n * N * 8, (void **)&b->X[k]);
+        sl_ws_carve(base, &off, p * N * 8, (void **)&b->Z[k]);
+        sl_ws_carve(base, &off, p * N * 8, (void **)&b->P[k]);
+        sl_ws_carve(base, &off, q * N * 8, (void **)&b->E[k]);
+        sl_ws_carve(base, &off, N, (void **)&b->dead[k]);
     }
-    carve(base, &off, q * N * 8, (void **)&b->U);
-    carve(base, &off, q * 8, (void **)&b->u0);
-    carve(base, &off, m_max * N * 8, (void **)&b->Yhat);
-    carve(base, &off, cfg->obs_fn != NULL ? cfg->n_fun * N * 8 : 0, (void **)&b->Yfun);
+    sl_ws_carve(base, &off, q * N * 8, (void **)&b->U);
+    sl_ws_carve(base, &off, q * 8, (void **)&b->u0);
+    sl_ws_carve(base, &off, m_max * N * 8, (void **)&b->Yhat);
+    sl_ws_carve(base, &off, cfg->obs_fn != NULL ? cfg->n_fun * N * 8 : 0, (void **)&b->Yfun);
     if (cfg->n_lin > big / N / 8 - cfg->n_fun)
         return 0;
-    carve(base, &off, cfg->derived_summary ? (cfg->n_lin + cfg->n_fun) * N * 8 : 0,
-          (void **)&b->Yd);
-    carve(base, &off, N * 8, (void **)&b->ll);
-    carve(base, &off, N * 8, (void **)&b->logw);
-    carve(base, &off, N * 8, (void **)&b->lw);
-    carve(base, &off, rws * 8, (void **)&b->rwork);
-    carve(base, &off, nthr * b->mwork_per * 8, (void **)&b->mwork);
-    carve(base, &off, nthr * b->qwork_per * 8, (void **)&b->qwork);
+    sl_ws_carve(base, &off, cfg->derived_summary ? (cfg->n_lin + cfg->n_fun) * N * 8 : 0,
+                (void **)&b->Yd);
+    sl_ws_carve(base, &off, N * 8, (void **)&b->ll);
+    sl_ws_carve(base, &off, N * 8, (void **)&b->logw);
+    sl_ws_carve(base, &off, N * 8, (void **)&b->lw);
+    sl_ws_carve(base, &off, rws * 8, (void **)&b->rwork);
+    sl_ws_carve(base, &off, nthr * b->mwork_per * 8, (void **)&b->mwork);
+    sl_ws_carve(base, &off, nthr * b->qwork_per * 8, (void **)&b->qwork);
     if (sl_param_move_workspace(p) == 0)
         return 0;
-    carve(base, &off, sl_param_move_workspace(p) * 8, (void **)&b->mv);
-    carve(base, &off, p * N * 4, (void **)&b->vid[0]);
-    carve(base, &off, p * N * 4, (void **)&b->vid[1]);
-    carve(base, &off, N, (void **)&b->mark);
-    carve(base, &off, N * 4, (void **)&b->anc);
-    carve(base, &off, N * 4, (void **)&b->tanc);
-    carve(base, &off, N * 4, (void **)&b->tanc2);
-    carve(base, &off, N * 8, (void **)&b->llx);
+    sl_ws_carve(base, &off, sl_param_move_workspace(p) * 8, (void **)&b->mv);
+    sl_ws_carve(base, &off, p * N * 4, (void **)&b->vid[0]);
+    sl_ws_carve(base, &off, p * N * 4, (void **)&b->vid[1]);
+    sl_ws_carve(base, &off, N, (void **)&b->mark);
+    sl_ws_carve(base, &off, N * 4, (void **)&b->anc);
+    sl_ws_carve(base, &off, N * 4, (void **)&b->tanc);
+    sl_ws_carve(base, &off, N * 4, (void **)&b->tanc2);
+    sl_ws_carve(base, &off, N * 8, (void **)&b->llx);
     b->replay = cfg->enkf == NULL && cfg->inner == 0 && p > 0 &&
                 cfg->param_move != NULL && cfg->param_move->replay;
     b->pcn = b->replay && cfg->move.rm_paths > 0 && !md->member_draws &&
@@ -113,79 +103,79 @@ static size_t layout(const sl_pf_config *cfg, unsigned char *base,
         b->zlen = b->zsteps * b->zq + cfg->T * b->zs;
         if (b->zlen > big / 8 / N)
             return 0;
-        carve(base, &off, b->zlen * N * 8, (void **)&b->zp);
-        carve(base, &off, b->zlen * N * 8, (void **)&b->zp2);
-        carve(base, &off, b->zlen * N * 8, (void **)&b->rzp);
-        carve(base, &off, (q + 1) * sizeof(size_t), (void **)&b->fslot);
-        carve(base, &off, (n + 1) * sizeof(size_t), (void **)&b->sslot);
+        sl_ws_carve(base, &off, b->zlen * N * 8, (void **)&b->zp);
+        sl_ws_carve(base, &off, b->zlen * N * 8, (void **)&b->zp2);
+        sl_ws_carve(base, &off, b->zlen * N * 8, (void **)&b->rzp);
+        sl_ws_carve(base, &off, (q + 1) * sizeof(size_t), (void **)&b->fslot);
+        sl_ws_carve(base, &off, (n + 1) * sizeof(size_t), (void **)&b->sslot);
     }
     b->smc2 = cfg->enkf == NULL && cfg->inner > 0;
     if (b->replay || b->smc2) {
         if (cfg->T > big / 8 / N)
             return 0;
         if (b->replay) {
-            carve(base, &off, cfg->T * N * 4, (void **)&b->lin);
-            carve(base, &off, cfg->T * N * 4, (void **)&b->path);
+            sl_ws_carve(base, &off, cfg->T * N * 4, (void **)&b->lin);
+            sl_ws_carve(base, &off, cfg->T * N * 4, (void **)&b->path);
         } else {
-            carve(base, &off, n * N * 8, (void **)&b->RX2);
-            carve(base, &off, p * N * 8, (void **)&b->RZ2);
-            carve(base, &off, p * N * 8, (void **)&b->RP2);
-            carve(base, &off, q * N * 8, (void **)&b->RE2);
-            carve(base, &off, N * 8, (void **)&b->rlw);
-            carve(base, &off, p * N * 8, (void **)&b->ZG);
-            carve(base, &off, p * N * 8, (void **)&b->ZG2);
-            carve(base, &off, N, (void **)&b->rdead2);
+            sl_ws_carve(base, &off, n * N * 8, (void **)&b->RX2);
+            sl_ws_carve(base, &off, p * N * 8, (void **)&b->RZ2);
+            sl_ws_carve(base, &off, p * N * 8, (void **)&b->RP2);
+            sl_ws_carve(base, &off, q * N * 8, (void **)&b->RE2);
+            sl_ws_carve(base, &off, N * 8, (void **)&b->rlw);
+            sl_ws_carve(base, &off, p * N * 8, (void **)&b->ZG);
+            sl_ws_carve(base, &off, p * N * 8, (void **)&b->ZG2);
+            sl_ws_carve(base, &off, N, (void **)&b->rdead2);
         }
-        carve(base, &off, N * 4, (void **)&b->idmap);
-        carve(base, &off, n * N * 8, (void **)&b->X0);
-        carve(base, &off, n * N * 8, (void **)&b->RX);
-        carve(base, &off, p * N * 8, (void **)&b->RZ);
-        carve(base, &off, p * N * 8, (void **)&b->RP);
-        carve(base, &off, q * N * 8, (void **)&b->RE);
-        carve(base, &off, q * N * 8, (void **)&b->RU);
-        carve(base, &off, N * 8, (void **)&b->cll);
-        carve(base, &off, N * 8, (void **)&b->llk);
-        carve(base, &off, N * 8, (void **)&b->rll);
-        carve(base, &off, N * 8, (void **)&b->rllk);
-        carve(base, &off, N * 8, (void **)&b->lp);
-        carve(base, &off, N * 8, (void **)&b->rlp);
-        carve(base, &off, N * 8, (void **)&b->ru);
-        carve(base, &off, N * 8, (void **)&b->tmp);
-        carve(base, &off, N, (void **)&b->rdead);
-        carve(base, &off, N, (void **)&b->acc);
-        carve(base, &off, p, (void **)&b->est);
-        carve(base, &off, sl_param_move_workspace(p) * 8, (void **)&b->mvlast);
+        sl_ws_carve(base, &off, N * 4, (void **)&b->idmap);
+        sl_ws_carve(base, &off, n * N * 8, (void **)&b->X0);
+        sl_ws_carve(base, &off, n * N * 8, (void **)&b->RX);
+        sl_ws_carve(base, &off, p * N * 8, (void **)&b->RZ);
+        sl_ws_carve(base, &off, p * N * 8, (void **)&b->RP);
+        sl_ws_carve(base, &off, q * N * 8, (void **)&b->RE);
+        sl_ws_carve(base, &off, q * N * 8, (void **)&b->RU);
+        sl_ws_carve(base, &off, N * 8, (void **)&b->cll);
+        sl_ws_carve(base, &off, N * 8, (void **)&b->llk);
+        sl_ws_carve(base, &off, N * 8, (void **)&b->rll);
+        sl_ws_carve(base, &off, N * 8, (void **)&b->rllk);
+        sl_ws_carve(base, &off, N * 8, (void **)&b->lp);
+        sl_ws_carve(base, &off, N * 8, (void **)&b->rlp);
+        sl_ws_carve(base, &off, N * 8, (void **)&b->ru);
+        sl_ws_carve(base, &off, N * 8, (void **)&b->tmp);
+        sl_ws_carve(base, &off, N, (void **)&b->rdead);
+        sl_ws_carve(base, &off, N, (void **)&b->acc);
+        sl_ws_carve(base, &off, p, (void **)&b->est);
+        sl_ws_carve(base, &off, sl_param_move_workspace(p) * 8, (void **)&b->mvlast);
     }
     if (cfg->wenkf && cfg->enkf == NULL) {
         size_t mm = m_max ? m_max : 1;
         if (n > big / 8 / n || mm > big / 8 / mm || n > big / 8 / mm)
             return 0;
-        carve(base, &off, n * N * 8, (void **)&b->wk_m);
-        carve(base, &off, mm * N * 8, (void **)&b->wk_hf);
-        carve(base, &off, mm * N * 8, (void **)&b->wk_hm);
-        carve(base, &off, n * mm * 8, (void **)&b->wk_k);
-        carve(base, &off, mm * mm * 8, (void **)&b->wk_s);
-        carve(base, &off, mm * n * 8, (void **)&b->wk_h);
-        carve(base, &off, n * n * 8, (void **)&b->wk_sig);
-        carve(base, &off, (mm > n ? mm : n) * 8, (void **)&b->wk_tmp);
-        carve(base, &off, n * 8, (void **)&b->wk_xb);
-        carve(base, &off, mm * 8, (void **)&b->wk_hb);
-        carve(base, &off, n * mm * 8, (void **)&b->wk_cxh);
-        carve(base, &off, n * 8, (void **)&b->wk_d);
-        carve(base, &off, N * 8, (void **)&b->tmp2);
-        carve(base, &off, mm * sizeof(size_t), (void **)&b->wk_row);
+        sl_ws_carve(base, &off, n * N * 8, (void **)&b->wk_m);
+        sl_ws_carve(base, &off, mm * N * 8, (void **)&b->wk_hf);
+        sl_ws_carve(base, &off, mm * N * 8, (void **)&b->wk_hm);
+        sl_ws_carve(base, &off, n * mm * 8, (void **)&b->wk_k);
+        sl_ws_carve(base, &off, mm * mm * 8, (void **)&b->wk_s);
+        sl_ws_carve(base, &off, mm * n * 8, (void **)&b->wk_h);
+        sl_ws_carve(base, &off, n * n * 8, (void **)&b->wk_sig);
+        sl_ws_carve(base, &off, (mm > n ? mm : n) * 8, (void **)&b->wk_tmp);
+        sl_ws_carve(base, &off, n * 8, (void **)&b->wk_xb);
+        sl_ws_carve(base, &off, mm * 8, (void **)&b->wk_hb);
+        sl_ws_carve(base, &off, n * mm * 8, (void **)&b->wk_cxh);
+        sl_ws_carve(base, &off, n * 8, (void **)&b->wk_d);
+        sl_ws_carve(base, &off, N * 8, (void **)&b->tmp2);
+        sl_ws_carve(base, &off, mm * sizeof(size_t), (void **)&b->wk_row);
     }
     b->nwin = cfg->lag < cfg->T ? cfg->lag : cfg->T;
     if (b->nwin > 0) {
         if (b->nwin > big / 8 / N / (n + p + 1))
             return 0;
-        carve(base, &off, (b->nwin + 1) * sizeof(double *), (void **)&b->win);
+        sl_ws_carve(base, &off, (b->nwin + 1) * sizeof(double *), (void **)&b->win);
         for (k = 0; k <= b->nwin; k++)
-            carve(base, &off, (n + p) * N * 8,
-                  base != NULL ? (void **)&b->win[k] : NULL);
+            sl_ws_carve(base, &off, (n + p) * N * 8,
+                        base != NULL ? (void **)&b->win[k] : NULL);
         if (base != NULL)
             b->wspare = b->win[b->nwin];
-        carve(base, &off, (n + p) * N * 8, (void **)&b->wtmp);
+        sl_ws_carve(base, &off, (n + p) * N * 8, (void **)&b->wtmp);
     }
     if (cfg->enkf != NULL) {
         /* sized for the configuration the cycle runs (enkf_update) */
@@ -196,18 +186,18 @@ static size_t layout(const sl_pf_config *cfg, unsigned char *base,
         ew = sl_enkf_workspace(&ec, (n + p) * (b->nwin + 1), N, m_max ? m_max : 1, 0);
         if (ew == 0 || dim > 2)
             return 0;
-        carve(base, &off, (n + p) * (b->nwin + 1) * N * 8, (void **)&b->A);
-        carve(base, &off, (n + p) * (b->nwin + 1) * dim * 8, (void **)&b->spos);
-        carve(base, &off, m_max * N * 8, (void **)&b->Hc);
-        carve(base, &off, m_max * 8, (void **)&b->yc);
-        carve(base, &off, m_max * 8, (void **)&b->rc);
-        carve(base, &off, m_max * dim * 8, (void **)&b->opos);
-        carve(base, &off, m_max * 8, (void **)&b->oc);
-        carve(base, &off, N * sizeof(size_t), (void **)&b->live);
-        carve(base, &off, ew, &b->ework);
+        sl_ws_carve(base, &off, (n + p) * (b->nwin + 1) * N * 8, (void **)&b->A);
+        sl_ws_carve(base, &off, (n + p) * (b->nwin + 1) * dim * 8, (void **)&b->spos);
+        sl_ws_carve(base, &off, m_max * N * 8, (void **)&b->Hc);
+        sl_ws_carve(base, &off, m_max * 8, (void **)&b->yc);
+        sl_ws_carve(base, &off, m_max * 8, (void **)&b->rc);
+        sl_ws_carve(base, &off, m_max * dim * 8, (void **)&b->opos);
+        sl_ws_carve(base, &off, m_max * 8, (void **)&b->oc);
+        sl_ws_carve(base, &off, N * sizeof(size_t), (void **)&b->live);
+        sl_ws_carve(base, &off, ew, &b->ework);
     }
-    tmp = carve(base, &off, nthr * sizeof(sl_error), (void **)&b->terr);
-    return tmp;
+    tmp = sl_ws_carve(base, &off, nthr * sizeof(sl_error), (void **)&b->terr);
+    return sl_ws_size(tmp);
 }
 
 int sl_pf_paths_random(const sl_pf_config *cfg)

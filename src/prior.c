@@ -477,6 +477,18 @@ const char *sl_dist_name(int id)
     return d != NULL ? d->name : NULL;
 }
 
+const char *sl_dist_form(int id)
+{
+    const dist_type *d = dist_of(id);
+    return d != NULL ? d->form : NULL;
+}
+
+int sl_dist_nargs(int id)
+{
+    const dist_type *d = dist_of(id);
+    return d != NULL ? d->nargs : 0;
+}
+
 sl_status sl_prior_check(const sl_prior_entry *e, size_t index, sl_error *err)
 {
     const dist_type *d;

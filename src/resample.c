@@ -280,6 +280,11 @@ const sl_resampler *sl_resampler_find(const char *name)
     return NULL;
 }
 
+const sl_resampler *sl_resampler_at(size_t k)
+{
+    return k < sizeof all_schemes / sizeof all_schemes[0] ? all_schemes[k] : NULL;
+}
+
 size_t sl_resample_workspace(const sl_resampler *scheme, size_t N, size_t M)
 {
     return scheme != NULL ? scheme->workspace(N, M) : 0;

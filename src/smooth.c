@@ -6,11 +6,11 @@
 #include <string.h>
 #include "sluice/rng.h"
 #include "sluice/stats.h"
+#include "workspace.h"
 #ifdef _OPENMP
 #include <omp.h>
 #endif
 
-#define ALIGN 64
 /* cycles summarised between two polls, per thread */
 #define SUMMARY_BLOCK 8
 #define NONE UINT32_MAX
@@ -50,16 +50,6 @@ typedef struct {
     double *cnt;      /* M x 2: evaluations and fallbacks of each trajectory */
 } smooth_ws;
 
-static int region(size_t *off, size_t count, size_t size, void *base, void **at)
-{
-    size_t bytes, o = (*off + ALIGN - 1) / ALIGN * ALIGN;
-    if (o < *off || sl_size_mul(count, size, &bytes) || o + bytes < o)
-        return 1;
-    *at = base != NULL ? (unsigned char *)base + o : NULL;
-    *off = o + bytes;
-    return 0;
-}
-
 static int threads_of(const sl_smooth_config *cfg, size_t items)
 {
     int nt = cfg->threads;
@@ -76,8 +66,8 @@ static int layout(const sl_smooth_config *cfg, int kind, void *base,
                   smooth_ws *ws, size_t *bytes)
 {
     const size_t N = cfg->N, n = cfg->n;
+    unsigned char *at = base;
     size_t off = 0, nt, items = N > cfg->T ? N : cfg->T, cnt;
-    void *at;
     memset(ws, 0, sizeof *ws);
     if (kind == KIND_FFBSI && cfg->M > items)
         items = cfg->M;
@@ -86,54 +76,44 @@ static int layout(const sl_smooth_config *cfg, int kind, void *base,
     ws->qper = sl_quantile_workspace(N);
     if (ws->qper < N) /* 8 N + constant overflowed */
         return 1;
-    if (sl_size_mul(nt, N, &cnt) || region(&off, cnt, sizeof(uint32_t), base, &at))
+    if (sl_size_mul(nt, N, &cnt))
         return 1;
-    ws->pos = at;
-    if (region(&off, cnt, sizeof(uint32_t), base, &at))
+    ws->pos = sl_ws_take(at, &off, cnt, sizeof(uint32_t));
+    ws->list = sl_ws_take(at, &off, cnt, sizeof(uint32_t));
+    ws->W = sl_ws_take(at, &off, cnt, sizeof(double));
+    ws->vals = sl_ws_take(at, &off, cnt, sizeof(double));
+    if (sl_size_mul(nt, ws->qper, &cnt))
         return 1;
-    ws->list = at;
-    if (region(&off, cnt, sizeof(double), base, &at))
-        return 1;
-    ws->W = at;
-    if (region(&off, cnt, sizeof(double), base, &at))
-        return 1;
-    ws->vals = at;
-    if (sl_size_mul(nt, ws->qper, &cnt) || region(&off, cnt, sizeof(double), base, &at))
-        return 1;
-    ws->qwork = at;
-    if (region(&off, cfg->T, sizeof(size_t), base, &at))
-        return 1;
-    ws->bad = at;
+    ws->qwork = sl_ws_take(at, &off, cnt, sizeof(double));
+    ws->bad = sl_ws_take(at, &off, cfg->T, sizeof(size_t));
     if (kind == KIND_FFBSI) {
         const size_t T1 = cfg->T - 1;
-        if (sl_size_mul(n, N, &cnt) || sl_size_mul(cnt, T1, &cnt) ||
-            region(&off, cnt, sizeof(double), base, &at))
+        if (sl_size_mul(n, N, &cnt) || sl_size_mul(cnt, T1, &cnt))
             return 1;
-        ws->G = at;
-        if (sl_size_mul(N, T1, &cnt) || region(&off, cnt, sizeof(double), base, &at))
+        ws->G = sl_ws_take(at, &off, cnt, sizeof(double));
+        if (sl_size_mul(N, T1, &cnt))
             return 1;
-        ws->logw = at;
-        if (region(&off, T1, sizeof(double), base, &at))
+        ws->logw = sl_ws_take(at, &off, cnt, sizeof(double));
+        ws->top = sl_ws_take(at, &off, T1, sizeof(double));
+        if (sl_size_mul(N, cfg->tries > 0 ? cfg->T : 1, &cnt))
             return 1;
-        ws->top = at;
-        if (sl_size_mul(N, cfg->tries > 0 ? cfg->T : 1, &cnt) ||
-            region(&off, cnt, sizeof(double), base, &at))
+        ws->cw = sl_ws_take(at, &off, cnt, sizeof(double));
+        if (sl_size_mul(nt, N, &cnt))
             return 1;
-        ws->cw = at;
-        if (sl_size_mul(nt, N, &cnt) || region(&off, cnt, sizeof(double), base, &at))
-            return 1;
-        ws->lw = at;
+        ws->lw = sl_ws_take(at, &off, cnt, sizeof(double));
         ws->nb = (N + SUMBLOCK - 1) / SUMBLOCK;
-        if (sl_size_mul(nt, ws->nb, &cnt) || region(&off, cnt, sizeof(double), base, &at))
+        if (sl_size_mul(nt, ws->nb, &cnt))
             return 1;
-        ws->bs = at;
-        if (sl_size_mul(nt, n, &cnt) || region(&off, cnt, sizeof(double), base, &at))
+        ws->bs = sl_ws_take(at, &off, cnt, sizeof(double));
+        if (sl_size_mul(nt, n, &cnt))
             return 1;
-        ws->z = at;
-        if (sl_size_mul(cfg->M, 2, &cnt) || region(&off, cnt, sizeof(double), base, &at))
+        ws->z = sl_ws_take(at, &off, cnt, sizeof(double));
+        if (sl_size_mul(cfg->M, 2, &cnt))
             return 1;
-        ws->cnt = at;
+        ws->cnt = sl_ws_take(at, &off, cnt, sizeof(double));
     }
+    if (off == SL_WS_OVERFLOW)
+        return 1;
     *bytes = off;
     return 0;
 }
@@ -815,6 +795,11 @@ const sl_smoother *sl_smoother_find(const char *name)
         if (strcmp(all_smoothers[k]->name, name) == 0)
             return all_smoothers[k];
     return NULL;
+}
+
+const sl_smoother *sl_smoother_at(size_t k)
+{
+    return k < sizeof all_smoothers / sizeof *all_smoothers ? all_smoothers[k] : NULL;
 }
 
 sl_status sl_smooth_run(const sl_smoother *type, const sl_smooth_config *cfg, void *work,

@@ -1,10 +1,11 @@
 /* enkf.h - ensemble Kalman analyses: stochastic EnKF, ETKF, serial EnSRF
- * and EAKF, LETKF; localisation and inflation. */
+ * and EAKF, LETKF; inflation (localisation: sluice/localize.h). */
 #ifndef SLUICE_ENKF_H
 #define SLUICE_ENKF_H
 
 #include <stddef.h>
 #include <stdint.h>
+#include "sluice/localize.h"
 #include "sluice/status.h"
 
 #ifdef __cplusplus
@@ -24,6 +25,9 @@ typedef enum {
  * or -1. */
 int sl_enkf_method_find(const char *name);
 
+/* The name of a method (sl_enkf_method), or NULL. */
+const char *sl_enkf_method_name(int method);
+
 /* Where the ETKF works out its transform. Both give the same analysis to
  * rounding; the ensemble space costs O(N^3 + m N^2) with N x N matrices,
  * the observation space O(m^3 + m^2 N) with m x m and m x N ones. */
@@ -32,36 +36,6 @@ typedef enum {
     SL_ETKF_ENSEMBLE,
     SL_ETKF_OBSERVATION
 } sl_etkf_form;
-
-/* Geometry of positions, for the distances of localisation. */
-typedef enum {
-    SL_GEOM_LINE = 0, /* 1-D: |a - b| */
-    SL_GEOM_RING,     /* 1-D periodic with the given period */
-    SL_GEOM_PLANE,    /* 2-D Euclidean */
-    SL_GEOM_SPHERE    /* lon/lat in degrees; great-circle distance on a
-                       * sphere of the given radius (haversine) */
-} sl_geometry;
-
-/* Gaspari & Cohn (1999) eq. 4.10 for z = |d| / c: 1 at 0, 0 from z = 2. */
-double sl_gaspari_cohn(double d, double c);
-
-/* Distance between positions a and b (1 or 2 coordinates each). */
-double sl_distance(int geometry, double period_or_radius, const double *a,
-                   const double *b);
-
-/* Positions for localisation. A state row whose first coordinate is NaN
- * (a parameter of state augmentation, say) is not localised: every
- * observation acts on it with the weight param_factor, in (0, 1]. */
-typedef struct {
-    int geometry;
-    double period_or_radius; /* ring period / sphere radius */
-    size_t dim;              /* 1 (line, ring) or 2 (plane, sphere) */
-    const double *state_pos; /* n x dim, column-major (row i: state i) */
-    const double *obs_pos;   /* m x dim */
-    const double *obs_c;     /* m Gaspari-Cohn half-widths c (> 0) */
-    double param_factor;     /* weight of every observation on rows that
-                              * are not localised (1 = full) */
-} sl_localization;
 
 typedef struct {
     int method;

@@ -35,6 +35,9 @@ extern const sl_integrator sl_integrator_discrete;
 
 const sl_integrator *sl_integrator_find(const char *name);
 
+/* The k-th integrator of the table (k = 0, 1, ...), NULL past the end. */
+const sl_integrator *sl_integrator_at(size_t k);
+
 /* Tolerances and limits of the adaptive method. */
 typedef struct {
     double rtol, atol;  /* error per component <= atol + rtol * |x| */

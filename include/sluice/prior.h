@@ -64,6 +64,11 @@ typedef struct {
 int sl_dist_find(const char *name);
 const char *sl_dist_name(int id);
 
+/* What a distribution's numbers are ("[lo hi]", "[mean sd]", ...) and how
+ * many of a, b, lo, hi it takes; NULL and 0 for an unknown id. */
+const char *sl_dist_form(int id);
+int sl_dist_nargs(int id);
+
 /* Check one entry; reasons "baddist", "badprior" (message says which
  * number is wrong). `index` (1-based) is named in the message. */
 sl_status sl_prior_check(const sl_prior_entry *e, size_t index, sl_error *err);

@@ -33,6 +33,9 @@ extern const sl_resampler sl_resampler_multinomial;
 /* The scheme with this name, or NULL. */
 const sl_resampler *sl_resampler_find(const char *name);
 
+/* The k-th scheme of the table (k = 0, 1, ...), NULL past the end. */
+const sl_resampler *sl_resampler_at(size_t k);
+
 /* Doubles of workspace that sl_resample needs for this scheme. */
 size_t sl_resample_workspace(const sl_resampler *scheme, size_t N, size_t M);
 

@@ -102,6 +102,9 @@ extern const sl_smoother sl_smoother_ffbsi;
 /* The smoother with this name, or NULL. */
 const sl_smoother *sl_smoother_find(const char *name);
 
+/* The k-th smoother of the table (k = 0, 1, ...), NULL past the end. */
+const sl_smoother *sl_smoother_at(size_t k);
+
 /* Check cfg for the smoother and report the bytes of workspace it needs.
  * Reasons "badsize", "badweight", "zeroweights", "badprobs", "badconfig",
  * and "nomemory" (the size overflows). */

@@ -652,7 +652,8 @@ function opts = parse_options (args)
   else
     sluice.kernel.time_unit (opts.time_unit, 'filter', 'time_unit');
   end
-  methods = {'pf', 'wenkf', 'enkf', 'etkf', 'ensrf', 'eakf', 'letkf'};
+  core = core_lists ();
+  methods = [{'pf', 'wenkf'}, core.methods];
   if (~ischar (opts.method) || ~any (strcmp (opts.method, methods)))
     error ('sluice:filter:badmethod', 'unknown method; the methods are %s', ...
            strjoin (methods, ', '));
@@ -695,7 +696,7 @@ function opts = parse_options (args)
   if (any (opts.state_noise < 0))
     error ('sluice:filter:badoption', 'state_noise must be >= 0');
   end
-  moves = {'auto', 'kernel', 'fixed', 'random_walk', 'liu_west', 'resample_move', 'smc2'};
+  moves = [{'auto'}, core.moves, {'smc2'}];
   if (~ischar (opts.param_move) || ~any (strcmp (opts.param_move, moves)))
     error ('sluice:filter:badoption', 'param_move must be one of ''%s''', ...
            strjoin (moves, ''', '''));
@@ -755,7 +756,7 @@ function opts = parse_options (args)
     error ('sluice:filter:badoption', 'liu_west_delta must lie in (0, 1]');
   end
   if (~ischar (opts.resample) || ...
-      ~any (strcmp (opts.resample, {'systematic', 'stratified', 'residual', 'multinomial'})))
+      ~any (strcmp (opts.resample, core.resamplers)))
     error ('sluice:filter:badscheme', ...
            'resample must be ''systematic'', ''stratified'', ''residual'' or ''multinomial''');
   end
@@ -855,7 +856,8 @@ function c = add_localization (c, opts, model, tab, obs, derived)
   if (isfield (L, 'geometry'))
     geom = L.geometry;
   end
-  if (~ischar (geom) || ~any (strcmp (geom, {'line', 'ring', 'plane', 'sphere'})))
+  core = core_lists ();
+  if (~ischar (geom) || ~any (strcmp (geom, core.geometries)))
     error ('sluice:filter:badlocalization', ...
            'localization.geometry must be ''line'', ''ring'', ''plane'' or ''sphere''');
   end
@@ -1058,11 +1060,20 @@ end
 
 
 
+function c = core_lists ()
+  % the names the core knows (sluice.kernel.core_names), asked once
+  persistent lists
+  if (isempty (lists))
+    lists = sluice.kernel.core_names ();
+  end
+  c = lists;
+end
+
 function pdist = prior_entry (pdist, ip, pr)
-  % distribution ids as sluice.kernel.draw numbers them
-  ids = struct ('uniform', 0, 'normal', 1, 'lognormal', 2, 'truncnormal', 3, 'fixed', 4);
+  % distribution ids as sluice.kernel.draw numbers them: the core's
+  core = core_lists ();
   a = pr.args;
-  pdist.id(ip) = ids.(pr.dist);
+  pdist.id(ip) = find (strcmp (pr.dist, core.distributions)) - 1;
   pdist.a(ip) = a(1);
   if (numel (a) >= 2)
     pdist.b(ip) = a(2);

@@ -83,6 +83,11 @@
 % @seealso{sluice.filter, sluice.prior}
 % @end deftypefn
 function spec = model (kind, varargin)
+  % the core's names (sluice.kernel.core_names), asked once
+  persistent core
+  if (isempty (core))
+    core = sluice.kernel.core_names ();
+  end
   if (nargin < 1)
     sluice.kernel.compat ('usage', mfilename ());
   end
@@ -185,7 +190,7 @@ function spec = model (kind, varargin)
         sluice.kernel.ensure_memory (400 * nstate, 'model', ...
                                      sprintf ('a model of %d states', nstate));
       case 'integrator'
-        if (~ischar (val) || ~any (strcmp (val, {'euler', 'rk4', 'dopri5', 'discrete'})))
+        if (~ischar (val) || ~any (strcmp (val, core.integrators)))
           error ('sluice:model:badintegrator', ...
                  'integrator must be ''euler'', ''rk4'', ''dopri5'' or ''discrete''');
         end

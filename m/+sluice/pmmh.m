@@ -749,10 +749,11 @@ end
 
 % ---------------------------------------------------------------------------
 function S = setup (model, prior, obs, opts)
-  sluice.kernel.check_prior (prior, 2, 'pmmh');
+  % ids: the core's distribution ids (0-based: uniform, normal, lognormal,
+  % truncnormal, fixed); check_prior refuses any other distribution
+  ids = sluice.kernel.check_prior (prior, 2, 'pmmh');
   prior = prior(:)';
   names = {prior.name};
-  dists = {'uniform', 'normal', 'lognormal', 'truncnormal', 'fixed'};
   free = [];
   for k = 1:numel (prior)
     is_state = any (strcmp (names{k}, model.states));
@@ -761,9 +762,6 @@ function S = setup (model, prior, obs, opts)
       error ('sluice:pmmh:badprior', ...
              'the prior names ''%s'', which is neither a state nor a parameter of the model (parameters: %s)', ...
              names{k}, strjoin (model.params(:)', ', '));
-    end
-    if (~ischar (prior(k).dist) || ~any (strcmp (prior(k).dist, dists)))
-      error ('sluice:pmmh:badprior', 'prior entry ''%s'': unknown distribution', names{k});
     end
     if (~isempty (ip) && ~strcmp (prior(k).dist, 'fixed'))
       lo = prior(k).lower;
@@ -801,7 +799,7 @@ function S = setup (model, prior, obs, opts)
   S.tkind(isfinite (S.lo) & isfinite (S.hi) & S.lo < S.hi) = 3;
   tn = {'none', 'log', 'neglog', 'logit'};
   S.tnames = tn(S.tkind + 1)';
-  [~, S.dist] = ismember ({prior(free).dist}, dists);
+  S.dist = ids(free) + 1;   % logprior's cases: 1 uniform ... 4 truncnormal
   S.args = {prior(free).args};
   S.logmass = zeros (d, 1);
   for k = 1:d

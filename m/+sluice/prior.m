@@ -58,12 +58,17 @@
 % @end deftypefn
 
 function pr = prior (varargin)
+  % the core's distributions (sluice.kernel.core_names), asked once
+  persistent core
+  if (isempty (core))
+    core = sluice.kernel.core_names ();
+  end
   if (nargin < 3)
     sluice.kernel.compat ('usage', mfilename ());
   end
-  dists = {'uniform', 'normal', 'lognormal', 'truncnormal', 'fixed'};
-  forms = {'[lo hi]', '[mean sd]', '[meanlog sdlog]', '[mean sd lo hi]', '[value]'};
-  counts = [2 2 2 4 1];
+  dists = core.distributions;
+  forms = core.distribution_forms;
+  counts = core.distribution_args;
   pr = struct ('name', {}, 'dist', {}, 'args', {}, 'lower', {}, 'upper', {});
   k = 1;
   while (k <= nargin)

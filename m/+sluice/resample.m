@@ -68,6 +68,11 @@
 % @end deftypefn
 
 function a = resample (w, varargin)
+  % the core's names (sluice.kernel.core_names), asked once
+  persistent core
+  if (isempty (core))
+    core = sluice.kernel.core_names ();
+  end
   if (nargin < 1)
     sluice.kernel.compat ('usage', mfilename ());
   end
@@ -83,7 +88,7 @@ function a = resample (w, varargin)
              sluice.kernel.describe (scheme));
     end
     scheme = lower (scheme);
-    if (~any (strcmp (scheme, {'systematic', 'stratified', 'residual', 'multinomial'})))
+    if (~any (strcmp (scheme, core.resamplers)))
       error ('sluice:resample:badscheme', ...
              'argument 2 (scheme): unknown resampling scheme ''%s''; expected systematic, stratified, residual or multinomial', ...
              scheme);

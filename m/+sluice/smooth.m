@@ -172,12 +172,17 @@ end
 
 
 function [names, default] = smoothers_for (method)
-  % the smoothers that apply to the result of each filter method
+  % the smoothers that apply to the result of each filter method (the
+  % core's lists, sluice.kernel.core_names, asked once)
+  persistent core
+  if (isempty (core))
+    core = sluice.kernel.core_names ();
+  end
   switch (method)
     case 'pf'
-      names = {'genealogy', 'ffbsi'};
+      names = core.smoothers;
       default = 'genealogy';
-    case {'enkf', 'etkf', 'ensrf', 'eakf', 'letkf'}
+    case core.methods
       names = {'enks'};
       default = 'enks';
     otherwise

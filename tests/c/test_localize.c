@@ -1,7 +1,8 @@
 /* test_localize.c - the Gaspari-Cohn correlation and the distances of
- * localisation on the line, ring, plane and sphere. */
+ * localisation on the line, ring, plane and sphere; the geometries' names
+ * and the check of a localisation, fault by fault. */
 #include "check.h"
-#include "sluice/enkf.h"
+#include "sluice/localize.h"
 
 static const double PI = 3.14159265358979323846;
 
@@ -33,8 +34,110 @@ static double law_of_cosines(double R, double lon1, double lat1, double lon2,
     return R * acos(c);
 }
 
+/* One fault of a valid localisation (2 states, 3 observations on a
+ * sphere): reason "badlocalization" and a message holding `words`. */
+static void expect_bad(const sl_localization *L, size_t n, size_t m, const char *words,
+                       const char *what)
+{
+    sl_error err;
+    sl_status st;
+    sl_error_clear(&err);
+    st = sl_localization_check(L, n, m, &err);
+    CHECK(st == SL_EINVAL && strcmp(err.reason, "badlocalization") == 0,
+          "%s: status %d reason '%s'", what, (int)st, err.reason);
+    CHECK(strstr(err.message, words) != NULL, "%s: message '%s' lacks '%s'", what,
+          err.message, words);
+}
+
+static void test_check(void)
+{
+    /* columns: longitudes, then latitudes; state row 2 has no position */
+    double spos[4] = {10.0, NAN, 45.0, 0.0}, opos[6] = {0.0, 5.0, 8.0, 44.0, 46.0, -3.0};
+    double oc[3] = {100.0, 250.0, 80.0};
+    sl_localization L, B;
+    sl_error err;
+    memset(&L, 0, sizeof L);
+    L.geometry = SL_GEOM_SPHERE;
+    L.period_or_radius = 6371.0;
+    L.dim = 2;
+    L.state_pos = spos;
+    L.obs_pos = opos;
+    L.obs_c = oc;
+    L.param_factor = 0.5;
+    sl_error_clear(&err);
+    CHECK(sl_localization_check(&L, 2, 3, &err) == SL_OK, "a valid localisation: %s",
+          err.message);
+    /* a line, one coordinate, the first state row at NaN: valid */
+    B = L;
+    B.geometry = SL_GEOM_LINE;
+    B.dim = 1;
+    B.state_pos = spos + 1;
+    CHECK(sl_localization_check(&B, 1, 3, &err) == SL_OK, "a row without position");
+    expect_bad(NULL, 2, 3, "no localisation", "none given");
+    B = L;
+    B.geometry = 4;
+    expect_bad(&B, 2, 3, "unknown geometry 4", "unknown geometry");
+    B.geometry = -1;
+    expect_bad(&B, 2, 3, "unknown geometry -1", "negative geometry");
+    B = L;
+    B.dim = 1;
+    expect_bad(&B, 2, 3, "positions on a sphere have 2 coordinate(s), got 1", "dimension");
+    B = L;
+    B.period_or_radius = INFINITY;
+    expect_bad(&B, 2, 3, "the radius of the sphere", "infinite radius");
+    B.geometry = SL_GEOM_RING;
+    B.dim = 1;
+    B.period_or_radius = 0;
+    expect_bad(&B, 2, 3, "the period of the ring", "zero period");
+    B = L;
+    B.obs_c = NULL;
+    expect_bad(&B, 2, 3, "are required", "no half-widths");
+    B = L;
+    B.param_factor = 1.5;
+    expect_bad(&B, 2, 3, "(0, 1], got 1.5", "param_factor 1.5");
+    B.param_factor = NAN;
+    expect_bad(&B, 2, 3, "(0, 1]", "param_factor NaN");
+    oc[1] = 0;
+    expect_bad(&L, 2, 3, "observation 2: the half-width", "half-width 0");
+    oc[1] = 250.0;
+    opos[5] = NAN;
+    expect_bad(&L, 2, 3, "observation 3: position coordinate 2 is not finite", "obs NaN");
+    opos[5] = -90.5;
+    expect_bad(&L, 2, 3, "observation 3: latitude -90.5 outside [-90, 90]", "obs latitude");
+    opos[5] = -3.0;
+    spos[2] = INFINITY;
+    expect_bad(&L, 2, 3, "state row 1: position coordinate 2 is not finite", "state Inf");
+    spos[2] = 91.0;
+    expect_bad(&L, 2, 3, "state row 1: latitude 91 outside [-90, 90]", "state latitude");
+    spos[2] = 45.0;
+    /* the second coordinate of a row without position is not read */
+    spos[3] = NAN;
+    CHECK(sl_localization_check(&L, 2, 3, &err) == SL_OK, "NaN row, any latitude");
+    /* m = 0: nothing of the observations is read */
+    CHECK(sl_localization_check(&L, 2, 0, &err) == SL_OK, "no observations");
+}
+
+static void test_names(void)
+{
+    static const char *const names[] = {"line", "ring", "plane", "sphere"};
+    int k;
+    CHECK(SL_GEOM_COUNT == 4, "four geometries");
+    for (k = 0; k < SL_GEOM_COUNT; k++) {
+        CHECK(sl_geometry_name(k) != NULL && strcmp(sl_geometry_name(k), names[k]) == 0,
+              "name of geometry %d", k);
+        CHECK(sl_geometry_find(names[k]) == k, "geometry '%s' found", names[k]);
+    }
+    CHECK(sl_geometry_name(-1) == NULL && sl_geometry_name(SL_GEOM_COUNT) == NULL,
+          "no name out of range");
+    CHECK(sl_geometry_find("torus") == -1 && sl_geometry_find(NULL) == -1 &&
+              sl_geometry_find("Line") == -1,
+          "unknown names");
+}
+
 int main(void)
 {
+    test_check();
+    test_names();
     const double c = 2.385;
     size_t k, neg = 0, off = 0;
     double worst = 0.0;

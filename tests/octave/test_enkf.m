@@ -1,16 +1,15 @@
 % Single ensemble Kalman analyses (sluice.enkf) against the Kalman
 % analysis of the ensemble's own mean and covariance (textbook update:
-% K = P H' (H P H' + R)^-1, mean + K (y - H mean), (I - K H) P), which the
-% deterministic square-root filters reproduce exactly when N > n.
+% K = P H' (H P H' + R)^-1, mean + K (y - H mean), (I - K H) P, in
+% tests/octave/kalman_rts.m), which the deterministic square-root filters
+% reproduce exactly when N > n.
 
 %!function [m, P] = kalman_update (X, H, R, y)
-%!  N = columns (X);
-%!  m = mean (X, 2);
-%!  A = X - m;
-%!  P = A * A' / (N - 1);
-%!  K = P * H' / (H * P * H' + R);
-%!  m = m + K * (y - H * m);
-%!  P = (eye (rows (X)) - K * H) * P;
+%!  % the update of the ensemble's mean and N-1 sample covariance: one step
+%!  % of the reference with A = I, Q = 0
+%!  [n, N] = size (X);
+%!  A = X - mean (X, 2);
+%!  [~, ~, m, P] = kalman_rts (eye (n), zeros (n), H, R, mean (X, 2), A * A' / (N - 1), y);
 %!endfunction
 
 %!test

@@ -1,28 +1,15 @@
 % The ensemble Kalman methods run inside sluice.filter: against the exact
 % Kalman filter on linear-Gaussian models (Kalman 1960; the textbook
-% prediction and update written below), joint state-parameter estimation by
+% prediction and update in tests/octave/kalman_rts.m), joint
+% state-parameter estimation by
 % state augmentation against Bayes' rule on a grid, inflation, relaxation
 % and localisation through the whole cycle, and the errors a user can cause.
 
-%!function [m, P] = kalman (A, Q, H, R, m0, P0, Y)
-%!  % the textbook Kalman filter; Y: T columns, all rows observed each step
-%!  T = columns (Y); n = numel (m0);
-%!  m = zeros (n, T); P = zeros (n, n, T);
-%!  mk = m0; Pk = P0;
-%!  for k = 1:T
-%!    mk = A * mk; Pk = A * Pk * A' + Q;
-%!    S = H * Pk * H' + R;
-%!    K = Pk * H' / S;
-%!    mk = mk + K * (Y(:, k) - H * mk); Pk = (eye (n) - K * H) * Pk;
-%!    m(:, k) = mk; P(:, :, k) = Pk;
-%!  end
-%!endfunction
-
 %!function [m, P] = kalman_update (m, P, H, R, y)
-%!  % one textbook Kalman update of a mean and covariance
-%!  K = P * H' / (H * P * H' + R);
-%!  m = m + K * (y - H * m);
-%!  P = (eye (rows (P)) - K * H) * P;
+%!  % one Kalman update of a mean and covariance: a step of the reference
+%!  % (tests/octave/kalman_rts.m) with A = I, Q = 0
+%!  n = numel (m);
+%!  [~, ~, m, P] = kalman_rts (eye (n), zeros (n), H, R, m, P, y);
 %!endfunction
 
 %!test
@@ -30,7 +17,7 @@
 %! % x0 ~ N(0, 1), y = (1, 2, 0): filtered means 2/3, 3/2, 4/7, computed by
 %! % hand from the Kalman equations), first through the reference itself;
 %! % filtered variances 2/3, 5/8, 13/21 by the same equations
-%! [m, P] = kalman (1, 1, 1, 1, 0, 1, [1 2 0]);
+%! [~, ~, m, P] = kalman_rts (1, 1, 1, 1, 0, 1, [1 2 0]);
 %! assert (m, [2/3 3/2 4/7], 1e-14);
 %! assert (squeeze (P)', [2/3 5/8 13/21], 1e-14);
 %! spec = sluice.model ('linear', 'A', 1, 'Q', 1, 'states', {'x'});
@@ -58,7 +45,7 @@
 %!test
 %! % a three-state rotation-and-decay model, two states observed, 25 cycles:
 %! % every filter mean converges to the exact Kalman filter mean (textbook
-%! % equations above). The Monte Carlo error of the filter mean is not only
+%! % equations, kalman_rts.m). The Monte Carlo error of the filter mean is not only
 %! % sd/sqrt(N): the sampled gain carries a relative error ~ sqrt(2/N) that
 %! % multiplies the innovation, and it accumulates over cycles. Measured
 %! % over 60 seeds at N = 2000 (this model and data) the standard deviation
@@ -78,7 +65,7 @@
 %!   x = A * x + sqrt (Q) * randn (3, 1);
 %!   Y(:, k) = H * x + sqrt (R) * randn (2, 1);
 %! end
-%! [m, P] = kalman (A, Q, H, R, zeros (3, 1), eye (3), Y);
+%! [~, ~, m, P] = kalman_rts (A, Q, H, R, zeros (3, 1), eye (3), Y);
 %! sd = sqrt ([squeeze(P(1, 1, :))'; squeeze(P(2, 2, :))'; squeeze(P(3, 3, :))']);
 %! spec = sluice.model ('linear', 'A', A, 'Q', Q, 'states', {'a', 'b', 'c'});
 %! pr = sluice.prior ('a', 'normal', [0 1], 'b', 'normal', [0 1], 'c', 'normal', [0 1]);
@@ -530,19 +517,14 @@
 %!test
 %! % 1e5 members and one observation a cycle: the ETKF works in observation
 %! % space and needs nothing N x N (three N x N matrices would be 240 GB);
-%! % its mean is the Kalman filter's (the textbook scalar recursion, Kalman
-%! % 1960) up to the sampling error of 1e5 members (sd about 2e-3 here)
+%! % its mean is the Kalman filter's (Kalman 1960; kalman_rts.m) up to the
+%! % sampling error of 1e5 members (sd about 2e-3 here)
 %! sp = sluice.model ('linear', 'A', 0.9, 'Q', 0.1, 'states', {'x'});
 %! ob = struct ('time', (1:3)', 'variable', {{'x'; 'x'; 'x'}}, ...
 %!              'value', [0.37; -0.21; 0.52], 'sigma', [0.5; 0.5; 0.5]);
 %! r = sluice.filter (sp, sluice.prior ('x', 'normal', [0 1]), ob, 'members', 1e5, ...
 %!                    'seed', 1, 't0', 0, 'method', 'etkf', 'progress', false);
-%! m = 0; P = 1; km = zeros (1, 3);
-%! for k = 1:3
-%!   m = 0.9 * m; P = 0.81 * P + 0.1;
-%!   K = P / (P + 0.25); m = m + K * (ob.value(k) - m); P = (1 - K) * P;
-%!   km(k) = m;
-%! end
+%! [~, ~, km] = kalman_rts (0.9, 0.1, 1, 0.25, 0, 1, ob.value');
 %! assert (r.states.mean, km, 0.02);
 %!assert (sluice.kernel.enkf ('workspace', 'etkf', 5, 1e5, 1, 1) < 8 * 100 * 1e5)
 %!assert (sluice.kernel.enkf ('workspace', 'etkf', 5, 100, 100, 1) > 8 * 2 * 100^2)

@@ -25,20 +25,12 @@
 %! R = [];
 
 %!test
-%! % Against the exact Kalman filter (Kalman 1960) with the same H rows
-%! % (written here): for a linear-Gaussian model the ETKF and the particle
-%! % filter differ from it only by sampling error.
-%! m = [0; 1]; P = diag ([1 0.25]); kf = zeros (2, T);
-%! for k = 1:T
-%!   m = A * m; P = A * P * A' + Q;
-%!   Hk = [1 0]; yk = y(k); Rk = 0.09;
-%!   if (mod (k, 5) == 0)
-%!     Hk = [1 0; 1 1]; yk = [y(k); yd(k / 5)]; Rk = diag ([0.09 0.04]);
-%!   end
-%!   K = P * Hk' / (Hk * P * Hk' + Rk);
-%!   m = m + K * (yk - Hk * m); P = (eye (2) - K * Hk) * P;
-%!   kf(:, k) = m;
-%! end
+%! % Against the exact Kalman filter (Kalman 1960; kalman_rts.m) with the
+%! % same H rows, the sum missing (NaN) at the cycles without it: for a
+%! % linear-Gaussian model the ETKF and the particle filter differ from it
+%! % only by sampling error.
+%! Y = [y; nan(1, T)]; Y(2, 5:5:T) = yd;
+%! [~, ~, kf] = kalman_rts (A, Q, [1 0; 1 1], diag ([0.09 0.04]), [0; 1], diag ([1 0.25]), Y);
 %! ops = struct ('names', 'total', 'H', [1 1]);
 %! r = sluice.filter (spec, pr, obs, 'members', 500, 'seed', 2, 't0', 0, ...
 %!                    'method', 'etkf', 'operators', ops, 'progress', false);

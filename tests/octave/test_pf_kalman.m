@@ -1,28 +1,13 @@
 % Particle filter against the exact Kalman filter on linear-Gaussian models.
 % Reference: the Kalman filter (Kalman 1960) and its log-likelihood by the
-% prediction-error decomposition, written below from the textbook
-% equations; the worked example of the project's model notes (random walk,
+% prediction-error decomposition (Harvey 1989), in tests/octave/kalman_rts.m
+% from the textbook equations; the worked example of the project's model notes (random walk,
 % Q = R = 1, x0 ~ N(0, 1), y = (1, 2, 0): filtered means 2/3, 3/2, 4/7,
 % log-likelihood -(3/2) log 2pi - (1/2) log 21 - 13/14, computed by hand).
 
-%!function [m, P, ll] = kalman (A, Q, H, R, m0, P0, Y)
-%!  % Y: T columns of observations (all components observed every step)
-%!  T = columns (Y); n = numel (m0);
-%!  m = zeros (n, T); P = zeros (n, n, T); ll = 0;
-%!  mk = m0; Pk = P0;
-%!  for k = 1:T
-%!    mk = A * mk; Pk = A * Pk * A' + Q;
-%!    S = H * Pk * H' + R; v = Y(:, k) - H * mk;
-%!    ll = ll - 0.5 * (numel (v) * log (2*pi) + log (det (S)) + v' * (S \ v));
-%!    K = Pk * H' / S;
-%!    mk = mk + K * v; Pk = (eye (n) - K * H) * Pk;
-%!    m(:, k) = mk; P(:, :, k) = Pk;
-%!  end
-%!endfunction
-
 %!test
 %! % the hand-computed worked example, first through the reference itself
-%! [m, P, ll] = kalman (1, 1, 1, 1, 0, 1, [1 2 0]);
+%! [~, ~, m, P, ll] = kalman_rts (1, 1, 1, 1, 0, 1, [1 2 0]);
 %! assert (m, [2/3 3/2 4/7], 1e-14);
 %! assert (ll, -1.5*log (2*pi) - 0.5*log (21) - 13/14, 1e-13);
 %! % then the particle filter: N = 1e5 members, posterior variances about
@@ -55,7 +40,7 @@
 %!   x = A * x + sqrt (Q) * randn (3, 1);
 %!   Y(:, k) = H * x + sqrt (R) * randn (2, 1);
 %! end
-%! [m, P, ll] = kalman (A, Q, H, R, zeros (3, 1), eye (3), Y);
+%! [~, ~, m, P, ll] = kalman_rts (A, Q, H, R, zeros (3, 1), eye (3), Y);
 %! spec = sluice.model ('linear', 'A', A, 'Q', Q, 'states', {'a', 'b', 'c'});
 %! pr = sluice.prior ('a', 'normal', [0 1], 'b', 'normal', [0 1], 'c', 'normal', [0 1]);
 %! t = kron ((1:T)', [1; 1]);

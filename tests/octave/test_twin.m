@@ -1,24 +1,9 @@
 % Twin experiments (sluice.twin): the filter's scores against its truth.
-% References: the Kalman filter (Kalman 1960), written below from the
-% textbook equations, for the linear-Gaussian twin; the lognormal
+% References: the Kalman filter (Kalman 1960; tests/octave/kalman_rts.m,
+% from the textbook equations) for the linear-Gaussian twin; the lognormal
 % distribution function of Octave's statistics package (logncdf) for the
 % synthetic lognormal errors; comparisons of networks and with the open
 % loop are common practice.
-
-%!function [m, P] = kalman (A, Q, R, m0, P0, Y)
-%!  % scalar state observed directly at every time of Y (1 x T); the first
-%!  % observation is at the start, before any model step
-%!  T = numel (Y); m = zeros (1, T); P = zeros (1, T);
-%!  mk = m0; Pk = P0;
-%!  for k = 1:T
-%!    if (k > 1)
-%!      mk = A * mk; Pk = A * Pk * A + Q;
-%!    end
-%!    K = Pk / (Pk + R);
-%!    mk = mk + K * (Y(k) - mk); Pk = (1 - K) * Pk;
-%!    m(k) = mk; P(k) = Pk;
-%!  end
-%!endfunction
 
 %!test
 %! % a denser network beats a sparser one (common practice): observing
@@ -53,7 +38,12 @@
 %! r = sluice.twin (spec, truth, net, 'seed', 4, 'prior', pr, ...
 %!                  'filter', {'members', 2e4}, 'openloop', false);
 %! assert (r.filter.times, 0:30);
-%! [m, P] = kalman (0.9, 0.1, 0.09, 0, 4, r.obs.value');
+%! % the first observation is at the start, before any model step:
+%! % A = 1 and Q = 0 at the first step of the reference
+%! T = numel (r.obs.value);
+%! [~, ~, m, P] = kalman_rts (cat (3, 1, repmat (0.9, [1 1 T-1])), ...
+%!                            cat (3, 0, repmat (0.1, [1 1 T-1])), 1, 0.09, 0, 4, r.obs.value');
+%! P = P(:)';
 %! assert (r.filter.states.mean, m, 0.04);
 %! % the score is the RMSE of that mean against the truth
 %! assert (r.scores.rmse, sqrt (mean ((m - r.truth.X) .^ 2)), 0.02);

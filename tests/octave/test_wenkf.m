@@ -6,7 +6,7 @@
 %! % a scalar linear-Gaussian river anomaly x_t = 0.8 x_(t-1) + N(0, 1),
 %! % observed precisely (sd 0.1) at t = 1..50, x_0 ~ N(0, 1); invented data.
 %! % Reference: the Kalman filter (Kalman 1960) and its evidence by the
-%! % prediction-error decomposition (Harvey 1989, 3.4).
+%! % prediction-error decomposition (Harvey 1989, 3.4), in kalman_rts.m.
 %! T = 50; q = 1; r = 0.01; a = 0.8;
 %! randn ('state', 11);
 %! x = zeros (T, 1); xp = randn ();
@@ -14,12 +14,7 @@
 %!   xp = a * xp + sqrt (q) * randn (); x(t) = xp;
 %! end
 %! y = x + sqrt (r) * randn (T, 1);
-%! mk = 0; P = 1; km = zeros (1, T); kll = 0;
-%! for t = 1:T
-%!   mk = a * mk; P = a * P * a + q; S = P + r;
-%!   kll = kll - 0.5 * (log (2 * pi * S) + (y(t) - mk)^2 / S);
-%!   K = P / S; mk = mk + K * (y(t) - mk); P = (1 - K) * P; km(t) = mk;
-%! end
+%! [~, ~, km, ~, kll] = kalman_rts (a, q, 1, r, 0, 1, y');
 %! spec = sluice.model ('linear', 'A', a, 'states', {'x'});
 %! pr = sluice.prior ('x', 'normal', [0 1]);
 %! obs = struct ('time', (1:T)', 'variable', {repmat({'x'}, T, 1)}, 'value', y, ...
@@ -57,13 +52,7 @@
 %! for t = 1:T
 %!   x = A * x + sqrt (diag (Q)) .* randn (2, 1); Y(t) = H * x + 0.2 * randn ();
 %! end
-%! [~, ~, mf] = kalman_rts (A, Q, H, R, [0; 0], eye (2), Y);
-%! m = zeros (2, 1); P = eye (2); ll = 0;
-%! for t = 1:T
-%!   m = A * m; P = A * P * A' + Q; S = H * P * H' + R; v = Y(t) - H * m;
-%!   ll = ll - 0.5 * (log (2 * pi * S) + v^2 / S);
-%!   K = P * H' / S; m = m + K * v; P = (eye (2) - K * H) * P;
-%! end
+%! [~, ~, mf, ~, ll] = kalman_rts (A, Q, H, R, [0; 0], eye (2), Y);
 %! s2 = sluice.model ('linear', 'A', A, 'states', {'a', 'b'});
 %! p2 = sluice.prior ('a', 'normal', [0 1], 'b', 'normal', [0 1]);
 %! o2 = struct ('time', (1:T)', 'variable', {repmat({'sum'}, T, 1)}, 'value', Y(:), ...

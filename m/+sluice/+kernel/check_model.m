@@ -4,6 +4,12 @@ function check_model (model, pos, fn)
   % struct a user may edit: every field the runs read is checked here,
   % so an edited one is refused with sluice:<fn>:badmodel and a message
   % naming the field, rather than failing somewhere inside.
+  % the core's names (sluice.kernel.core_names), asked once: this check
+  % runs on every filter call
+  persistent core
+  if (isempty (core))
+    core = sluice.kernel.core_names ();
+  end
   id = ['sluice:' fn ':badmodel'];
   if (ischar (pos))
     where = pos;   % an option, named as the caller says
@@ -58,7 +64,7 @@ function check_model (model, pos, fn)
   scalar (model.rtol, 'rtol', where, id, @(v) v >= 0, 'a finite number >= 0');
   scalar (model.atol, 'atol', where, id, @(v) v >= 0, 'a finite number >= 0');
 
-  integrators = {'euler', 'rk4', 'dopri5', 'discrete'};
+  integrators = core.integrators;
   if (~is_text (model.integrator) || ~any (strcmp (model.integrator, integrators)))
     error (id, '%s: field ''integrator'' must be one of %s', where, strjoin (integrators, ', '));
   end

@@ -7,8 +7,14 @@ function [ids, a, b, lo, hi, names] = check_prior (prior, pos, fn)
   % order uniform, normal, lognormal, truncnormal, fixed), their first
   % two arguments a, b, truncation bounds lo, hi (1 x p each) and the
   % names (p x 1).
-  dists = {'uniform', 'normal', 'lognormal', 'truncnormal', 'fixed'};
-  counts = [2 2 2 4 1];
+  % the core's distributions (sluice.kernel.core_names), asked once: this
+  % check runs on every filter call
+  persistent core
+  if (isempty (core))
+    core = sluice.kernel.core_names ();
+  end
+  dists = core.distributions;
+  counts = core.distribution_args;
   fields = {'name', 'dist', 'args', 'lower', 'upper'};
   id = ['sluice:' fn ':badprior'];
   if (ischar (pos))
