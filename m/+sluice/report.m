@@ -2497,7 +2497,8 @@ end
 %! d = tempname ();
 %! unwind_protect
 %!   files = sluice.report (r0, 'outdir', d, 'obs', o0);
-%!   assert (numel (files), 6);
+%!   assert (numel (files), 7);
+%!   assert (exist (fullfile (d, 'skill.csv'), 'file'), 2);
 %!   assert (exist (fullfile (d, 'overview.png'), 'file'), 2);
 %!   assert (exist (fullfile (d, 'fan_level.png'), 'file'), 2);
 %!   % a PNG starts with the bytes 137 'PNG' (PNG specification, section 5.2)

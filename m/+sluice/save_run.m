@@ -3,6 +3,7 @@
 % @deftypefnx {} {} sluice.save_run (@var{res}, @var{file}, @var{opts})
 % @deftypefnx {} {} sluice.save_run (@var{res}, @var{file}, @var{name}, @var{value}, @dots{})
 % Save a run's result, with the settings that produced it, to a file.
+%
 % @code{sluice.load_run} reads the file back into a result that
 % @code{sluice.report}, @code{sluice.scores}, @code{sluice.smooth} and
 % the other consumers of results take as they take the original.
