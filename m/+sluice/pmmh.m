@@ -198,8 +198,11 @@
 % @code{sluice:pmmh:badstart} (a start outside the prior's support, of
 % the wrong shape or class, a result without the parameters, or no start
 % with a finite log-evidence), @code{sluice:pmmh:badcontinue} (not a
-% pmmh result, other parameters, an option that cannot change), and the
-% warnings @code{sluice:pmmh:notconverged} and @code{sluice:pmmh:lowess};
+% pmmh result, other parameters, an option that cannot change),
+% @code{sluice:pmmh:chainfailed} (an error without an identifier in a
+% chain), @code{sluice:pmmh:interrupted} (Ctrl-C during a chain's filter
+% run; nothing is returned), and the warnings
+% @code{sluice:pmmh:notconverged} and @code{sluice:pmmh:lowess}; other
 % errors of the filter keep their own identifiers.
 % @seealso{sluice.filter, sluice.prior, sluice.chain_summary}
 % @end deftypefn
@@ -626,7 +629,13 @@ function chain_failed (c, o)
   if (isempty (o.identifier))
     error ('sluice:pmmh:chainfailed', 'chain %d: %s', c, o.message);
   end
-  error (o.identifier, '%s', o.message);
+  id = o.identifier;
+  if (strncmp (id, 'sluice:', 7) && numel (id) > 12 && strcmp (id(end-11:end), ':interrupted'))
+    error ('sluice:pmmh:interrupted', ...
+           ['chain %d: %s. Nothing is returned: run fewer iterations at a time and ', ...
+            'extend the result with ''continue'' to keep what a long run has done.'], c, o.message);
+  end
+  error (id, '%s', o.message);
 end
 
 % ---------------------------------------------------------------------------

@@ -103,7 +103,11 @@
 % other than a real scalar or a struct of real scalars, or a score named
 % like a dimension or @code{seed}), @code{sluice:sweep:pointfailed}
 % (@var{fun} raised an error: the message names the point and repeats the
-% original message; points finished before it are already in the file).
+% original message; points finished before it are already in the file),
+% @code{sluice:sweep:interrupted} (Ctrl-C during a point of a serial
+% sweep: the finished points are in the file; a Ctrl-C between points,
+% or during a parallel sweep, is Octave's own interrupt, and there too the
+% file keeps every finished point).
 % @seealso{sluice.filter}
 % @end deftypefn
 
@@ -213,6 +217,9 @@ function [table, info] = sweep (fun, grid, varargin)
       point = make_point (names, vals, subs, p, seeds(p));
       r = sluice.kernel.sweep_point (fun, point, keys{p});
       if (~r.ok)
+        if (is_interrupt (r.identifier))
+          interrupted (keys{p}, r, opts.file, numel (done.key));
+        end
         point_failed (keys{p}, r);
       end
       times(p) = r.time;
@@ -430,6 +437,25 @@ function point_failed (key, r)
   end
   error ('sluice:sweep:pointfailed', 'the function failed at point %s: %s', ...
          point_text (key), why);
+end
+
+function tf = is_interrupt (id)
+  % Ctrl-C in a run of fun (sluice:<fn>:interrupted)
+  tf = strncmp (id, 'sluice:', 7) && numel (id) > 12 && strcmp (id(end-11:end), ':interrupted');
+end
+
+function interrupted (key, r, file, nkept)
+  error ('sluice:sweep:interrupted', 'the sweep was interrupted (Ctrl-C) at point %s: %s. %s', ...
+         point_text (key), r.message, kept_text (file, nkept));
+end
+
+function t = kept_text (file, nkept)
+  if (isempty (file))
+    t = 'No results file was given (option ''file''), so no finished point is kept.';
+  else
+    t = sprintf (['%d finished point(s) are kept in %s; call sluice.sweep again ', ...
+                  'with the same file to run only the others.'], nkept, file);
+  end
 end
 
 function s = check_scores (s, names, key)
