@@ -200,10 +200,13 @@
 % with a finite log-evidence), @code{sluice:pmmh:badcontinue} (not a
 % pmmh result, other parameters, an option that cannot change),
 % @code{sluice:pmmh:chainfailed} (an error without an identifier in a
-% chain), @code{sluice:pmmh:interrupted} (Ctrl-C during a chain's filter
-% run; nothing is returned), and the warnings
-% @code{sluice:pmmh:notconverged} and @code{sluice:pmmh:lowess}; other
-% errors of the filter keep their own identifiers.
+% chain), @code{sluice:pmmh:workerfailed} (a worker process of parallel
+% chains died -- killed, out of memory, a crash -- or the parallel package
+% failed: the message names the chain; the other workers are stopped),
+% @code{sluice:pmmh:interrupted} (Ctrl-C during a chain's filter run;
+% nothing is returned), and the warnings @code{sluice:pmmh:notconverged}
+% and @code{sluice:pmmh:lowess}; other errors of the filter keep their
+% own identifiers.
 % @seealso{sluice.filter, sluice.prior, sluice.chain_summary}
 % @end deftypefn
 function res = pmmh (model, prior, obs, varargin)
@@ -245,7 +248,10 @@ function res = pmmh (model, prior, obs, varargin)
     S.pmmh_job = true;
     S.warnings = warning ();
     nw = min (opts.workers, C);
-    out = sluice.kernel.compat ('parallel_map', nw, @(c) sluice.pmmh (S, c), num2cell (1:C));
+    [out, broke] = sluice.kernel.compat ('parallel_map', nw, @(c) sluice.pmmh (S, c), num2cell (1:C));
+    if (~isempty (broke))
+      worker_failed (broke);
+    end
   else
     out = cell (1, C);
     for c = 1:C
@@ -636,6 +642,23 @@ function chain_failed (c, o)
             'extend the result with ''continue'' to keep what a long run has done.'], c, o.message);
   end
   error (id, '%s', o.message);
+end
+
+function worker_failed (broke)
+  chains = strjoin (arrayfun (@(c) sprintf ('%d', c), broke.index, 'UniformOutput', false), ', ');
+  if (isempty (broke.index))
+    what = 'a worker process failed while the chains were running';
+  elseif (broke.died)
+    what = sprintf ('a worker process died while running chain %s', chains);
+  else
+    what = sprintf ('a worker process failed while chains %s were running', chains);
+  end
+  if (~isempty (broke.how))
+    what = sprintf ('%s (%s: killed, out of memory, or a crash)', what, broke.how);
+  end
+  error ('sluice:pmmh:workerfailed', ['%s: %s. The other ', ...
+         'workers were stopped and nothing is returned; ''parallel'', false runs ', ...
+         'the chains in this process.'], what, broke.message);
 end
 
 % ---------------------------------------------------------------------------
