@@ -17,43 +17,57 @@ function [out, msg, id] = interruptible (what, varargin)
   % Ctrl-C (true) or by an error raised outside this function's try, such
   % as running out of memory while returning (false).
   %
+  % out = interruptible ('-run', gateway, args...) runs a whole compiled
+  % run the same way, with its errors passed through: an interrupt that
+  % still escapes the gateway (one arriving in the few statements before
+  % a callback is protected) becomes sluice:kernel:interrupted there.
+  %
   % unwind_protect is Octave's own syntax: this file is the one place in
   % m/ that uses it (tools/lint_matlab allows it here), and MATLAB, whose
   % gateways call guarded_call, observe and progress directly, never
-  % reads it.
+  % reads it. The interpreter acts on a pending interrupt before each
+  % statement, so the protection starts at the second statement.
   persistent stopped
-  if (nargin == 0)
-    out = isequal (stopped, true);
+  unwind_protect
+    returned = false;
+    failed = [];
+    out = [];
     msg = '';
     id = '';
-    stopped = false;
-    return;
-  end
-  stopped = false;
-  out = [];
-  msg = '';
-  id = '';
-  returned = false;
-  unwind_protect
-    try
-      if (~ischar (what))
-        out = what (varargin{:});
-      elseif (nargout == 0)
-        feval (what, varargin{:});
-      else
-        [out, msg, id] = feval (what, varargin{:});
+    if (nargin == 0)
+      out = isequal (stopped, true);
+      stopped = false;
+    else
+      stopped = false;
+      try
+        if (~ischar (what))
+          out = what (varargin{:});
+        elseif (strcmp (what, '-run'))
+          out = feval (varargin{:});
+        elseif (nargout == 0)
+          feval (what, varargin{:});
+        else
+          [out, msg, id] = feval (what, varargin{:});
+        end
+      catch err
+        if (strcmp (what, '-run'))
+          failed = err;
+        else
+          out = [];
+          msg = err.message;
+          id = err.identifier;
+        end
       end
-    catch err
-      out = [];
-      msg = err.message;
-      id = err.identifier;
     end
     returned = true;
   unwind_protect_cleanup
-    if (~returned)
+    if (~(exist ('returned', 'var') && returned))
       stopped = true;
       error ('sluice:kernel:interrupted', 'interrupted (Ctrl-C)');
     end
+  end
+  if (~isempty (failed))
+    rethrow (failed);
   end
 end
 
@@ -76,4 +90,16 @@ end
 %! assert (isempty (out));
 %! assert ({msg, id}, {'escaped', 'my:own:id'});
 %! sluice.kernel.interruptible ('sluice.kernel.progress', 0.5, 1, 0);
+%! assert (sluice.kernel.interruptible (), false);
+
+%!test
+%! % the run form passes results and errors through
+%! assert (sluice.kernel.interruptible ('-run', 'max', [3 1 2]), 3);
+%! try
+%!   sluice.kernel.interruptible ('-run', 'error', 'my:run:failed', 'the run failed');
+%!   error ('it should have failed');
+%! catch err
+%!   assert (err.identifier, 'my:run:failed');
+%!   assert (err.message, 'the run failed');
+%! end
 %! assert (sluice.kernel.interruptible (), false);
