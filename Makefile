@@ -8,7 +8,8 @@
 #                   leaks fail; valgrind comes from tools/debian-packages-dev)
 #   make pkg        the Octave package sluice-<version>.tar.gz
 #   make check-pkg  install that package in a temporary place, test it there
-#   make lint       m/ in the Octave/MATLAB subset, mex/ free of platform headers
+#   make lint       m/ in the Octave/MATLAB subset, mex/ free of platform headers,
+#                   the core (src/, include/) free of allocator calls
 #
 # Every target that compiles or runs Octave first runs the dependency step
 # (tools/deps.sh with tools/debian-packages); nothing here runs mkoctfile or
@@ -80,11 +81,14 @@ ctests: $(CTESTS)
 
 check: all ctests
 	@bash tools/lint_matlab
+	@bash tools/lint_core
 	@bash tests/run_all.sh $(BUILD) "$(OCTRUN)"
 
-# m/ in the language Octave and MATLAB share, mex/ without platform headers
+# m/ in the language Octave and MATLAB share, mex/ without platform headers,
+# the core without allocator calls (its memory comes from the caller)
 lint:
 	@bash tools/lint_matlab
+	@bash tools/lint_core
 
 check-c: ctests
 	@bash tests/run_all.sh $(BUILD) none

@@ -13,6 +13,17 @@
 #include <time.h>
 #endif
 
+#if defined(HAVE_OCTAVE) && defined(__GNUC__) && !defined(_WIN32)
+#include <signal.h>
+/* Octave's record of a pending Ctrl-C (liboctave's quit.h, checked on
+ * Octave 7.3): its SIGINT handler adds one at once, and the interpreter
+ * turns a value > 0 into an interrupt the next time it checks. A weak
+ * reference, so that a gateway loaded by a program without the symbol
+ * still loads (the address is then NULL). */
+extern sig_atomic_t octave_interrupt_state __attribute__((weak));
+#define SLM_SEES_OCTAVE_INTERRUPT 1
+#endif
+
 double slm_monotonic_seconds(void)
 {
 #if defined(_WIN32)
@@ -38,4 +49,20 @@ int slm_stdout_is_terminal(void)
 #else
     return 0;
 #endif
+}
+
+int slm_take_interrupt(void)
+{
+#if defined(SLM_SEES_OCTAVE_INTERRUPT)
+    /* Taken here, the interrupt becomes the run's own error
+     * (sluice:<fn>:interrupted) after the core has unwound; left to the
+     * interpreter it would unwind through the core's frames as Octave's
+     * own interrupt. Only the pending count is cleared: Octave's flag of
+     * caught signals stays, so any other signal is still handled. */
+    if (&octave_interrupt_state != NULL && octave_interrupt_state > 0) {
+        octave_interrupt_state = 0;
+        return 1;
+    }
+#endif
+    return 0;
 }

@@ -7,17 +7,67 @@
 
 #include "mexutil.h"
 
+/* What a trapped call of an Octave function came to. */
+enum { CALL_RETURNED = 0, CALL_INTERRUPTED = 1, CALL_FAILED = 2 };
+
+/* Call an Octave function of the run with a trap: the trampoline fname
+ * with the arguments in[0..nin-1], or with model set, the user's model
+ * function in[0] with in[1..] (through sluice.kernel.guarded_call). A
+ * Ctrl-C already pending is taken first and the call not made. In Octave
+ * the call goes through sluice.kernel.interruptible, which returns errors
+ * as values and turns a Ctrl-C that arrives during the call into an
+ * error the trap catches (try/catch does not catch an interrupt); asked
+ * after a trap, it tells that apart from an error raised outside its own
+ * try (such as running out of memory there). Elsewhere a trap cannot be
+ * told apart and counts as a failure. */
+static int call_trapped(int nout, mxArray **out, int nin, mxArray **in,
+                        const char *fname, int model)
+{
+    mxArray *trap;
+    if (slm_take_interrupt())
+        return CALL_INTERRUPTED;
+#if defined(HAVE_OCTAVE)
+    {
+        mxArray *args[8], *q[1] = {NULL};
+        int k, code = CALL_FAILED, nargs = 0;
+        if (!model)
+            args[nargs++] = mxCreateString(fname);
+        for (k = 0; k < nin && nargs < 8; k++)
+            args[nargs++] = in[k];
+        trap = mexCallMATLABWithTrap(nout, out, nargs, args, "sluice.kernel.interruptible");
+        if (!model)
+            mxDestroyArray(args[0]);
+        if (trap == NULL)
+            return CALL_RETURNED;
+        mxDestroyArray(trap);
+        if (mexCallMATLABWithTrap(1, q, 0, NULL, "sluice.kernel.interruptible") == NULL) {
+            if (mxIsLogicalScalarTrue(q[0]))
+                code = CALL_INTERRUPTED;
+            mxDestroyArray(q[0]);
+        }
+        /* an interrupt that came during the question is still one */
+        if (slm_take_interrupt())
+            code = CALL_INTERRUPTED;
+        return code;
+    }
+#else
+    trap = mexCallMATLABWithTrap(nout, out, nin, in,
+                                 model ? "sluice.kernel.guarded_call" : fname);
+    return trap == NULL ? CALL_RETURNED : CALL_FAILED;
+#endif
+}
+
 /* Call the user's function with (t, X, P, U[, dt]); the result must be a
  * real double n x count matrix, copied to out. */
 static sl_status call_user(slm_handle_model *hm, double t, size_t count,
                            const double *X, const double *P, const double *U,
                            double dt, int with_dt, double *out, sl_error *err)
 {
-    mxArray *in[6], *res[3] = {NULL, NULL, NULL}, *trap;
+    mxArray *in[6], *res[3] = {NULL, NULL, NULL};
     const size_t n = hm->n, p = hm->p, q = hm->q;
     const int nin = with_dt ? 6 : 5;
     sl_status st = SL_OK;
-    int k;
+    int k, code;
     /* the handle is passed as it is, never modified or destroyed */
     in[0] = (mxArray *)(uintptr_t)hm->fun;
     in[1] = mxCreateDoubleScalar(t);
@@ -30,15 +80,23 @@ static sl_status call_user(slm_handle_model *hm, double t, size_t count,
         memcpy(mxGetDoubles(in[3]), P, p * count * sizeof(double));
     if (q)
         memcpy(mxGetDoubles(in[4]), U, q * count * sizeof(double));
-    trap = mexCallMATLABWithTrap(3, res, nin, in, "sluice.kernel.guarded_call");
+    code = call_trapped(3, res, nin, in, "sluice.kernel.guarded_call", 1);
     for (k = 1; k < nin; k++)
         mxDestroyArray(in[k]);
-    if (trap != NULL) {
+    if (code == CALL_INTERRUPTED) {
         hm->interrupted = 1;
         snprintf(hm->message, sizeof hm->message,
-                 "the model function was interrupted at t = %g", t);
+                 "the model function was interrupted (Ctrl-C) at t = %g; no result is returned", t);
         hm->identifier[0] = '\0';
         return sl_fail(err, SL_EINTERRUPT, "interrupted", "%s", hm->message);
+    }
+    if (code == CALL_FAILED) {
+        snprintf(hm->message, sizeof hm->message,
+                 "the call of the model function at t = %g failed outside the function "
+                 "(an error Octave raised while passing its arguments or result: out of memory?)",
+                 t);
+        hm->identifier[0] = '\0';
+        return sl_fail(err, SL_EMODEL, "modelfailed", "%s", hm->message);
     }
     if (mxGetNumberOfElements(res[1]) > 0) {
         char *msg = mxArrayToString(res[1]), *id = mxArrayToString(res[2]);
@@ -155,9 +213,9 @@ sl_status slm_handle_obs_fn(void *ctx, double t, size_t N, const double *X,
                             const double *P, double *Y, sl_error *err)
 {
     slm_handle_obs *ho = (slm_handle_obs *)ctx;
-    mxArray *in[5], *res[3] = {NULL, NULL, NULL}, *trap;
+    mxArray *in[5], *res[3] = {NULL, NULL, NULL};
     sl_status st = SL_OK;
-    int k;
+    int k, code;
     in[0] = (mxArray *)(uintptr_t)ho->funs;
     in[1] = (mxArray *)(uintptr_t)ho->rows;
     in[2] = mxCreateDoubleScalar(t);
@@ -166,15 +224,25 @@ sl_status slm_handle_obs_fn(void *ctx, double t, size_t N, const double *X,
     memcpy(mxGetDoubles(in[3]), X, ho->n * N * sizeof(double));
     if (ho->p)
         memcpy(mxGetDoubles(in[4]), P, ho->p * N * sizeof(double));
-    trap = mexCallMATLABWithTrap(3, res, 5, in, "sluice.kernel.observe");
+    code = call_trapped(3, res, 5, in, "sluice.kernel.observe", 0);
     for (k = 2; k < 5; k++)
         mxDestroyArray(in[k]);
     ho->failed = 1;
-    if (trap != NULL) {
+    if (code == CALL_INTERRUPTED) {
         ho->interrupted = 1;
+        ho->identifier[0] = '\0';
         snprintf(ho->message, sizeof ho->message,
-                 "the observation operator was interrupted at t = %g", t);
+                 "the observation operator was interrupted (Ctrl-C) at t = %g; no result is returned", t);
         return sl_fail(err, SL_EINTERRUPT, "interrupted", "%s", ho->message);
+    }
+    if (code == CALL_FAILED) {
+        snprintf(ho->message, sizeof ho->message,
+                 "the call of the observation operators at t = %g failed outside them "
+                 "(an error Octave raised while passing their arguments or result: out of memory?)",
+                 t);
+        ho->identifier[0] = '\0';
+        snprintf(ho->reason, sizeof ho->reason, "operatorfailed");
+        return sl_fail(err, SL_EMODEL, "operatorfailed", "%s", ho->message);
     }
     if (mxGetNumberOfElements(res[1]) > 0) {
         char *msg = mxArrayToString(res[1]), *id = mxArrayToString(res[2]);
@@ -209,7 +277,7 @@ void slm_handle_obs_raise(const char *fn, const slm_handle_obs *ho)
         slm_fail(fn, "interrupted", "%s", ho->message);
     if (ho->identifier[0] != '\0')
         mexErrMsgIdAndTxt(ho->identifier, "%s", ho->message);
-    slm_fail(fn, "badoperatoroutput", "%s", ho->message);
+    slm_fail(fn, ho->reason[0] ? ho->reason : "badoperatoroutput", "%s", ho->message);
 }
 
 void slm_poll_init(slm_poll *pl, int mode)
@@ -217,39 +285,54 @@ void slm_poll_init(slm_poll *pl, int mode)
     pl->start = pl->last = slm_monotonic_seconds();
     pl->show = mode == 1 || (mode == 2 && slm_stdout_is_terminal());
     pl->shown = 0;
+    pl->broken = 0;
+    pl->stopped = 0;
+    pl->calls = 0;
 }
 
+/* The progress line; 1 when a Ctrl-C stopped it. A progress line that
+ * cannot be shown (an error in it) is given up, not the run. */
 static int call_progress(slm_poll *pl, double fraction, double elapsed,
                          double show)
 {
-    mxArray *in[3], *trap;
-    int k;
+    mxArray *in[3];
+    int k, code;
+    if (pl->broken)
+        return slm_take_interrupt();
     in[0] = mxCreateDoubleScalar(fraction);
     in[1] = mxCreateDoubleScalar(elapsed);
     in[2] = mxCreateDoubleScalar(show);
-    trap = mexCallMATLABWithTrap(0, NULL, 3, in, "sluice.kernel.progress");
+    code = call_trapped(0, NULL, 3, in, "sluice.kernel.progress", 0);
     for (k = 0; k < 3; k++)
         mxDestroyArray(in[k]);
-    (void)pl;
-    return trap != NULL;
+    if (code == CALL_FAILED)
+        pl->broken = 1;
+    return code == CALL_INTERRUPTED;
 }
 
 int slm_poll_fn(void *ctx, double fraction)
 {
     slm_poll *pl = (slm_poll *)ctx;
-    double t = slm_monotonic_seconds(), elapsed = t - pl->start;
+    double t, elapsed;
     int show;
+    pl->calls++;
+    /* a pending Ctrl-C stops the run at once; the clock only paces the
+     * progress line */
+    if (slm_take_interrupt())
+        return pl->stopped = 1;
+    t = slm_monotonic_seconds();
+    elapsed = t - pl->start;
     if (t - pl->last < 0.1)
         return 0;
     pl->last = t;
     show = pl->show && elapsed > 2.0;
     if (show)
         pl->shown = 1;
-    return call_progress(pl, fraction, elapsed, show ? 1.0 : 0.0);
+    return pl->stopped = call_progress(pl, fraction, elapsed, show ? 1.0 : 0.0);
 }
 
 void slm_poll_finish(slm_poll *pl)
 {
     if (pl->shown)
-        call_progress(pl, 1.0, slm_monotonic_seconds() - pl->start, 2.0);
+        call_progress(pl, 1.0, slm_monotonic_seconds() - pl->start, pl->stopped ? 3.0 : 2.0);
 }

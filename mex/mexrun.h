@@ -32,7 +32,8 @@ void slm_handle_model_init(sl_model *model, slm_handle_model *hm,
                            const sl_tolerance *tol);
 
 /* Raise the failure the handle model recorded (the user's own identifier
- * and message, or sluice:<fn>:interrupted). Never returns. */
+ * and message, sluice:<fn>:modelfailed, or sluice:<fn>:interrupted).
+ * Never returns. */
 void slm_handle_model_raise(const char *fn, const slm_handle_model *hm)
 #if defined(__GNUC__)
     __attribute__((noreturn))
@@ -48,6 +49,7 @@ typedef struct {
     size_t n, p, n_fun;
     char message[900];
     char identifier[128];
+    char reason[32];   /* of sluice:<fn>:<reason> without an identifier */
     int interrupted, failed;
 } slm_handle_obs;
 
@@ -67,13 +69,17 @@ void slm_handle_obs_raise(const char *fn, const slm_handle_obs *ho)
 #endif
     ;
 
-/* Progress report and Ctrl-C check: at most every 0.1 s calls
- * sluice.kernel.progress(fraction, elapsed, show) with a trap; a trapped
- * error (an interrupt) makes the poll return non-zero. `mode`: 0 never
- * show, 1 always (after 2 s), 2 only when stdout is a terminal. */
+/* Ctrl-C check and progress report. Every call takes a pending Ctrl-C
+ * (slm_take_interrupt) and then returns non-zero; at most every 0.1 s it
+ * also calls sluice.kernel.progress(fraction, elapsed, show) through
+ * sluice.kernel.interruptible, and an interrupt there stops the run too
+ * (an error there only ends the progress line). `mode`: 0 never show, 1
+ * always (after 2 s), 2 only when stdout is a terminal. `calls` counts
+ * the polls (for tests of how often a run looks). */
 typedef struct {
     double start, last;
-    int show, shown;
+    int show, shown, broken, stopped;
+    double calls;
 } slm_poll;
 
 void slm_poll_init(slm_poll *pl, int mode);

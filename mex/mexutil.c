@@ -37,6 +37,10 @@ void slm_fail(const char *fn, const char *reason, const char *fmt, ...)
 
 void slm_raise(const char *fn, const sl_error *err)
 {
+    /* the gateways' polls stop a run only for Ctrl-C */
+    if (err->status == SL_EINTERRUPT)
+        slm_fail(fn, "interrupted", "%s (Ctrl-C); no result is returned",
+                 err->message[0] ? err->message : "the run was interrupted");
     slm_fail(fn, err->reason[0] ? err->reason : "failed", "%s",
              err->message[0] ? err->message : sl_status_name(err->status));
 }

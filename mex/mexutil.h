@@ -86,6 +86,13 @@ mxArray *slm_create(const char *fn, size_t rows, size_t cols);
 double slm_monotonic_seconds(void);
 int slm_stdout_is_terminal(void);
 
+/* 1 when a Ctrl-C is pending in Octave, which it then takes over (the
+ * interpreter will not act on it): the caller stops its run and raises
+ * sluice:<fn>:interrupted. Always 0 where the pending interrupt cannot be
+ * read (then Ctrl-C reaches the run only through a trapped call of
+ * sluice.kernel.interruptible, or as the host's own interrupt). */
+int slm_take_interrupt(void);
+
 /* Numbers of threads to use: `requested` if > 0, else omp_get_max_threads(). */
 int slm_threads(double requested);
 

@@ -569,6 +569,27 @@ static sl_status fail_nonfinite(sl_error *err)
                    "are too far out of scale)");
 }
 
+/* The caller's poll (sl_enkf_config.poll) between two parts of the
+ * analysis; a non-zero answer stops it. */
+static sl_status poll_stop(const sl_enkf_config *cfg, sl_error *err)
+{
+    if (cfg->poll != NULL && cfg->poll(cfg->poll_ctx, cfg->poll_fraction))
+        return sl_fail(err, SL_EINTERRUPT, "interrupted", "the analysis was interrupted");
+    return SL_OK;
+}
+
+/* The same after `add` flops more of a long serial loop: it polls once
+ * the flops since the last poll pass SL_ENKF_POLL_WORK. */
+static sl_status poll_budget(const sl_enkf_config *cfg, double *since, double add,
+                             sl_error *err)
+{
+    *since += add;
+    if (*since < SL_ENKF_POLL_WORK)
+        return SL_OK;
+    *since = 0.0;
+    return poll_stop(cfg, err);
+}
+
 /* ------------------------------------------------- innovation statistic */
 
 /* d^T (HBH^T + R)^{-1} d for a diagonal R (variances rd), d = y - ybar and
@@ -682,9 +703,13 @@ static sl_status etkf_obs_space(const sl_enkf_config *cfg, size_t n, size_t N,
     size_t i, j, k, i0;
     int info = 0;
 
+    sl_status st;
+
     dsyrk_("L", "N", &im, &iN, &D1, S, &im, &D0, U, &im, 1, 1);
     if (lower_nonfinite(U, m) || first_nonfinite(d, m) < m)
         return fail_nonfinite(err);
+    if ((st = poll_stop(cfg, err)) != SL_OK)
+        return st;
     dsyev_("V", "L", &im, U, &im, lam, w->ev, &w->lwork, &info, 1, 1);
     if (info != 0)
         return sl_fail(err, SL_ENUMERIC, "noconvergence",
@@ -745,6 +770,8 @@ static sl_status etkf_obs_space(const sl_enkf_config *cfg, size_t n, size_t N,
         const size_t nb = n - i0 < w->b ? n - i0 : w->b;
         const int ib = (int)nb;
         const double *xw = G + m * nb; /* X'w, the mean's increment */
+        if ((st = poll_stop(cfg, err)) != SL_OK)
+            return st;
         block_prior(n, N, X, i0, nb, infl, xbar, B, 1, nb);
         dgemm_("N", "T", &ib, &im1, &iN, &D1, B, &ib, V, &im1, &D0, G, &ib, 1, 1);
         for (j = 0; j < N; j++)
@@ -787,6 +814,7 @@ static sl_status run_etkf(const sl_enkf_config *cfg, size_t n, size_t N,
     double lmax, fl, acc = 0.0;
     size_t i, j, k, i0;
     int info = 0;
+    sl_status st;
 
     obs_perturbations(m, N, HX, infl, w->ybar, yp, 0);
     for (k = 0; k < m; k++)
@@ -811,6 +839,8 @@ static sl_status run_etkf(const sl_enkf_config *cfg, size_t n, size_t N,
     dgemv_("T", &im, &iN, &D1, yp, &im, d, &I1, &D0, c, &I1, 1);
     if (lower_nonfinite(A, N) || first_nonfinite(c, N) < N)
         return fail_nonfinite(err);
+    if ((st = poll_stop(cfg, err)) != SL_OK)
+        return st;
     dsyev_("V", "L", &iN, A, &iN, lam, w->ev, &w->lwork, &info, 1, 1);
     if (info != 0)
         return sl_fail(err, SL_ENUMERIC, "noconvergence",
@@ -853,6 +883,8 @@ static sl_status run_etkf(const sl_enkf_config *cfg, size_t n, size_t N,
     for (i0 = 0; i0 < n; i0 += w->b) {
         const size_t nb = n - i0 < w->b ? n - i0 : w->b;
         const int ib = (int)nb;
+        if ((st = poll_stop(cfg, err)) != SL_OK)
+            return st;
         block_prior(n, N, X, i0, nb, infl, xbar, B, 1, nb);
         dgemm_("N", "N", &ib, &iN, &iN, &D1, B, &ib, T, &iN, &D0, X + i0, &in, 1, 1);
         for (j = 0; j < N; j++)
@@ -950,6 +982,9 @@ static sl_status run_stochastic(const sl_enkf_config *cfg, size_t n, size_t N,
     for (i0 = 0; i0 < n; i0 += w->b) {
         const size_t nb = n - i0 < w->b ? n - i0 : w->b;
         const int ib = (int)nb;
+        sl_status st = poll_stop(cfg, err);
+        if (st != SL_OK)
+            return st;
         block_prior(n, N, X, i0, nb, infl, xbar, B, 1, nb);
         dgemm_("N", "T", &ib, &im, &iN, &scale, B, &ib, yp, &im, &D0, G, &ib, 1, 1);
         for (i = 0; i < nb; i++)
@@ -1027,8 +1062,9 @@ static sl_status run_serial(const sl_enkf_config *cfg, size_t n, size_t N,
     double *yt = w->yp, *ybar = w->ybar, *rd = w->rd, *v = w->aux, *u = w->dv;
     double *g = w->coef, *h = w->coef + m, *inv_s = w->coef + 2 * m;
     double *xbar = w->stat, *flag = xbar + w->b, *rho = flag + w->b,
-           *bv = rho + w->b, *bu = bv + w->b, acc = 0.0;
+           *bv = rho + w->b, *bu = bv + w->b, acc = 0.0, since = 0.0;
     size_t i, j, k, l, i0;
+    sl_status st;
 
     obs_perturbations(m, N, HX, infl, ybar, yt, 1);
     if (L != NULL)
@@ -1053,6 +1089,8 @@ static sl_status run_serial(const sl_enkf_config *cfg, size_t n, size_t N,
         }
         if (!(isfinite(s) && isfinite(g[k]) && isfinite(h[k]) && isfinite(inv_s[k])))
             return fail_nonfinite(err);
+        if ((st = poll_budget(cfg, &since, 4.0 * (double)N * (double)(rest + 1), err)) != SL_OK)
+            return st;
         if (inv_s[k] == 0 || rest == 0)
             continue;
         /* the remaining predicted observations, columns k+1 .. m-1 */
@@ -1073,6 +1111,8 @@ static sl_status run_serial(const sl_enkf_config *cfg, size_t n, size_t N,
         const size_t nb = n - i0 < w->b ? n - i0 : w->b;
         const int ib = (int)nb;
         double *B = w->blk, *C = w->blk2;
+        if ((st = poll_stop(cfg, err)) != SL_OK)
+            return st;
         /* prior perturbations: row i0 + i in column i of B (N x nb) */
         block_prior(n, N, X, i0, nb, infl, xbar, B, N, 1);
         memcpy(C, B, nb * N * sizeof(double));

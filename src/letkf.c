@@ -686,16 +686,37 @@ sl_status sl_letkf_run(const sl_enkf_config *cfg, size_t n, size_t N,
         nthr = ngroup;
 
     /* every group reads the shared buffers and writes only its own rows
-     * of X, so the result is the same whichever thread takes it */
-#pragma omp parallel num_threads((int)nthr)
+     * of X, so the result is the same whichever thread takes it. The
+     * groups go in batches with the caller's poll between them (outside
+     * any parallel region): a batch is about SL_ENKF_POLL_WORK flops a
+     * thread, counting N^3 a group (its eigen-decomposition), and at least
+     * one group a thread; groups that cost a good part of that are handed
+     * out one at a time. */
     {
-        size_t tid = 0, g;
+        const double wg = (double)N * (double)N * (double)N;
+        const int dyn = wg > SL_ENKF_POLL_WORK / 4 ? 1 : 4;
+        double per = floor(SL_ENKF_POLL_WORK / wg);
+        size_t batch, g0;
+        if (per < 1)
+            per = 1;
+        batch = per * (double)nthr < (double)ngroup ? (size_t)per * nthr : ngroup;
+        if (batch < (size_t)dyn * nthr)
+            batch = (size_t)dyn * nthr;
+        for (g0 = 0; g0 < ngroup; g0 += batch) {
+            const size_t g1 = ngroup - g0 < batch ? ngroup : g0 + batch;
+            if (cfg->poll != NULL && cfg->poll(cfg->poll_ctx, cfg->poll_fraction))
+                return sl_fail(err, SL_EINTERRUPT, "interrupted", "the analysis was interrupted");
+#pragma omp parallel num_threads((int)nthr)
+            {
+                size_t tid = 0, g;
 #ifdef _OPENMP
-        tid = (size_t)omp_get_thread_num();
+                tid = (size_t)omp_get_thread_num();
 #endif
-#pragma omp for schedule(dynamic, 4)
-        for (g = 0; g < ngroup; g++)
-            local_analysis(&cx, &b.sl[tid], g);
+#pragma omp for schedule(dynamic, dyn)
+                for (g = g0; g < g1; g++)
+                    local_analysis(&cx, &b.sl[tid], g);
+            }
+        }
     }
 
     for (k = 0; k < nthr; k++) {

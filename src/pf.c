@@ -1066,6 +1066,10 @@ static sl_status enkf_update(const sl_pf_config *cfg, pf_buffers *b, size_t k,
     ecfg.seed = cfg->seed;
     ecfg.cycle = (uint32_t)k;
     ecfg.threads = cfg->threads;
+    /* the run's poll also between the parts of a long analysis */
+    ecfg.poll = cfg->poll;
+    ecfg.poll_ctx = cfg->poll_ctx;
+    ecfg.poll_fraction = (double)k / (double)cfg->T;
     if (cfg->loc != NULL) {
         lc = *cfg->loc;
         lc.obs_pos = b->opos;
@@ -1097,6 +1101,10 @@ static sl_status enkf_update(const sl_pf_config *cfg, pf_buffers *b, size_t k,
                               &info, err);
         ecfg.inflation = used;
     }
+    if (st == SL_EINTERRUPT)
+        return sl_fail(err, SL_EINTERRUPT, "interrupted",
+                       "the run was interrupted at cycle %lu of %lu, in its analysis",
+                       (unsigned long)(k + 1), (unsigned long)cfg->T);
     if (st != SL_OK)
         return st;
     for (jj = 0; jj < L; jj++) {

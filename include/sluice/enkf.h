@@ -50,7 +50,22 @@ typedef struct {
     double eig_floor;  /* relative floor on eigenvalues of the ensemble-
                         * space matrix (0: 1e-12) */
     int etkf_form;     /* sl_etkf_form (ETKF only; 0: automatic) */
+    /* Called between the parts of the analysis, from the calling thread
+     * (never inside a parallel region): the ETKF before and after its
+     * eigen-decomposition and before every block of rows, the other
+     * global methods before every block of rows, the LETKF between
+     * batches of grid points (at least one point per thread, and no more
+     * than about SL_ENKF_POLL_WORK flops per thread, counting N^3 a
+     * point). A non-zero return stops the analysis with SL_EINTERRUPT
+     * (reason "interrupted"); X may then be partly updated. fraction is
+     * poll_fraction, passed on unchanged. May be NULL. */
+    int (*poll)(void *ctx, double fraction);
+    void *poll_ctx;
+    double poll_fraction;
 } sl_enkf_config;
+
+/* The LETKF's work between two polls, in flops per thread. */
+#define SL_ENKF_POLL_WORK 2e8
 
 typedef struct {
     size_t floored;      /* eigenvalues raised to the floor */
@@ -75,7 +90,8 @@ size_t sl_enkf_workspace(const sl_enkf_config *cfg, size_t n, size_t N,
  * and LETKF need it diagonal: reason "nondiagonal"). The predicted observations of
  * the analysis are not returned (call the observation operator again).
  * Reasons: "badconfig", "badsize" (N < 2, m = 0), "nonfinite",
- * "notpd" (R), "nondiagonal", "badlocalization". */
+ * "notpd" (R), "nondiagonal", "badlocalization", "interrupted" (the
+ * poll asked to stop). */
 sl_status sl_enkf_analysis(const sl_enkf_config *cfg, size_t n, size_t N,
                            double *X, size_t m, const double *HX,
                            const double *y, const double *R, int r_full,

@@ -199,9 +199,15 @@
 % @code{sluice:pmmh:badstart} (a start outside the prior's support, of
 % the wrong shape or class, a result without the parameters, or no start
 % with a finite log-evidence), @code{sluice:pmmh:badcontinue} (not a
-% pmmh result, other parameters, an option that cannot change), and the
-% warnings @code{sluice:pmmh:notconverged} and @code{sluice:pmmh:lowess};
-% errors of the filter keep their own identifiers.
+% pmmh result, other parameters, an option that cannot change),
+% @code{sluice:pmmh:chainfailed} (an error without an identifier in a
+% chain), @code{sluice:pmmh:workerfailed} (a worker process of parallel
+% chains died -- killed, out of memory, a crash -- or the parallel package
+% failed: the message names the chain; the other workers are stopped),
+% @code{sluice:pmmh:interrupted} (Ctrl-C during a chain's filter run;
+% nothing is returned), and the warnings @code{sluice:pmmh:notconverged}
+% and @code{sluice:pmmh:lowess}; other errors of the filter keep their
+% own identifiers.
 % @code{sluice.report (@var{res})} draws the chains: traces, densities,
 % a table and the convergence verdict.
 % @seealso{sluice.filter, sluice.prior, sluice.chain_summary, sluice.report}
@@ -245,7 +251,10 @@ function res = pmmh (model, prior, obs, varargin)
     S.pmmh_job = true;
     S.warnings = warning ();
     nw = min (opts.workers, C);
-    out = sluice.kernel.compat ('parallel_map', nw, @(c) sluice.pmmh (S, c), num2cell (1:C));
+    [out, broke] = sluice.kernel.compat ('parallel_map', nw, @(c) sluice.pmmh (S, c), num2cell (1:C));
+    if (~isempty (broke))
+      worker_failed (broke);
+    end
   else
     out = cell (1, C);
     for c = 1:C
@@ -630,7 +639,30 @@ function chain_failed (c, o)
   if (isempty (o.identifier))
     error ('sluice:pmmh:chainfailed', 'chain %d: %s', c, o.message);
   end
-  error (o.identifier, '%s', o.message);
+  id = o.identifier;
+  if (strncmp (id, 'sluice:', 7) && numel (id) > 12 && strcmp (id(end-11:end), ':interrupted'))
+    error ('sluice:pmmh:interrupted', ...
+           ['chain %d: %s. Nothing is returned: run fewer iterations at a time and ', ...
+            'extend the result with ''continue'' to keep what a long run has done.'], c, o.message);
+  end
+  error (id, '%s', o.message);
+end
+
+function worker_failed (broke)
+  chains = strjoin (arrayfun (@(c) sprintf ('%d', c), broke.index, 'UniformOutput', false), ', ');
+  if (isempty (broke.index))
+    what = 'a worker process failed while the chains were running';
+  elseif (broke.died)
+    what = sprintf ('a worker process died while running chain %s', chains);
+  else
+    what = sprintf ('a worker process failed while chains %s were running', chains);
+  end
+  if (~isempty (broke.how))
+    what = sprintf ('%s (%s: killed, out of memory, or a crash)', what, broke.how);
+  end
+  error ('sluice:pmmh:workerfailed', ['%s: %s. The other ', ...
+         'workers were stopped and nothing is returned; ''parallel'', false runs ', ...
+         'the chains in this process.'], what, broke.message);
 end
 
 % ---------------------------------------------------------------------------

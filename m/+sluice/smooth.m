@@ -157,8 +157,16 @@ end
 function s = run_kernel (varargin)
   % the compiled smoother; its messages name the fields of res.history
   try
-    s = sluice.kernel.smooth (varargin{:});
+    if (sluice.kernel.compat ('is_octave'))
+      % a Ctrl-C that escapes the gateway is still the run's error
+      s = sluice.kernel.interruptible ('-run', 'sluice.kernel.smooth', varargin{:});
+    else
+      s = sluice.kernel.smooth (varargin{:});
+    end
   catch err
+    if (strcmp (err.identifier, 'sluice:kernel:interrupted'))
+      error ('sluice:smooth:interrupted', 'the smoother was interrupted (Ctrl-C); no result is returned');
+    end
     msg = regexprep (err.message, '^smooth: ', '');
     from = {'argument 2 \(X\)', 'argument 3 \(P\)', 'argument 4 \(weights\)', ...
             'argument 7 \(ancestors\)'};

@@ -103,7 +103,16 @@
 % other than a real scalar or a struct of real scalars, or a score named
 % like a dimension or @code{seed}), @code{sluice:sweep:pointfailed}
 % (@var{fun} raised an error: the message names the point and repeats the
-% original message; points finished before it are already in the file).
+% original message; points finished before it are already in the file),
+% @code{sluice:sweep:workerfailed} (in parallel, a worker process died --
+% killed, out of memory, a crash -- or the parallel package failed: the
+% message names the point it was running, what the package said, and how
+% many finished points the file keeps; the other workers are stopped and
+% the next call with the same file runs only the points not kept),
+% @code{sluice:sweep:interrupted} (Ctrl-C during a point of a serial
+% sweep: the finished points are in the file; a Ctrl-C between points,
+% or during a parallel sweep, is Octave's own interrupt, and there too the
+% file keeps every finished point).
 % @seealso{sluice.filter}
 % @end deftypefn
 
@@ -182,9 +191,20 @@ function [table, info] = sweep (fun, grid, varargin)
       % failure through the error handler
       on_error = @(e, varargin) struct ('ok', false, 'scores', [], 'time', 0, ...
                                         'message', e.message, 'identifier', e.identifier);
-      res = sluice.kernel.compat ('parallel_map', min (nb, numel (batch)), ...
+      [res, broke] = sluice.kernel.compat ('parallel_map', min (nb, numel (batch)), ...
                                @(j) sluice.kernel.sweep_point (fun, pts{j}, keys{batch(j)}, spill{j}), ...
                                num2cell (1:numel (batch)), on_error);
+      if (~isempty (broke))
+        % a worker died: what the workers finished is in their part files
+        if (~isempty (opts.file))
+          [done, merged] = merge_parts (opts.file, done, names);
+          if (merged)
+            save_done (opts.file, done);
+            remove_parts (opts.file);
+          end
+        end
+        worker_failed (keys(batch(broke.index)), broke, opts.file, numel (done.key));
+      end
       failed = 0;
       for j = 1:numel (batch)
         r = res{j};
@@ -213,6 +233,9 @@ function [table, info] = sweep (fun, grid, varargin)
       point = make_point (names, vals, subs, p, seeds(p));
       r = sluice.kernel.sweep_point (fun, point, keys{p});
       if (~r.ok)
+        if (is_interrupt (r.identifier))
+          interrupted (keys{p}, r, opts.file, numel (done.key));
+        end
         point_failed (keys{p}, r);
       end
       times(p) = r.time;
@@ -430,6 +453,41 @@ function point_failed (key, r)
   end
   error ('sluice:sweep:pointfailed', 'the function failed at point %s: %s', ...
          point_text (key), why);
+end
+
+function tf = is_interrupt (id)
+  % Ctrl-C in a run of fun (sluice:<fn>:interrupted)
+  tf = strncmp (id, 'sluice:', 7) && numel (id) > 12 && strcmp (id(end-11:end), ':interrupted');
+end
+
+function interrupted (key, r, file, nkept)
+  error ('sluice:sweep:interrupted', 'the sweep was interrupted (Ctrl-C) at point %s: %s. %s', ...
+         point_text (key), r.message, kept_text (file, nkept));
+end
+
+function worker_failed (key, broke, file, nkept)
+  pts = strjoin (cellfun (@point_text, key(:)', 'UniformOutput', false), ', ');
+  if (isempty (key))
+    what = 'a worker process failed while the sweep''s points were running';
+  elseif (broke.died)
+    what = sprintf ('a worker process died while running point %s', pts);
+  else
+    what = sprintf ('a worker process failed while points %s were running', pts);
+  end
+  if (~isempty (broke.how))
+    what = sprintf ('%s (%s: killed, out of memory, or a crash)', what, broke.how);
+  end
+  error ('sluice:sweep:workerfailed', '%s: %s. %s', what, broke.message, ...
+         kept_text (file, nkept));
+end
+
+function t = kept_text (file, nkept)
+  if (isempty (file))
+    t = 'No results file was given (option ''file''), so no finished point is kept.';
+  else
+    t = sprintf (['%d finished point(s) are kept in %s; call sluice.sweep again ', ...
+                  'with the same file to run only the others.'], nkept, file);
+  end
 end
 
 function s = check_scores (s, names, key)

@@ -1213,6 +1213,148 @@ static void test_threads(void)
     free_problem(&p);
 }
 
+
+/* ------------------------------------------------------------- polls */
+
+/* What the analysis did between the calls of its poll: the rows of X it
+ * had changed by each call, so the work between two calls is counted in
+ * rows (not timed). */
+typedef struct {
+    const double *X, *X0;
+    size_t n, N;
+    size_t calls, stop_at;       /* stop_at: answer 1 at that call (0: never) */
+    size_t changed;              /* rows changed at the last call */
+    size_t most_between;         /* most rows changed between two calls */
+    size_t before_change;        /* calls made before any row changed */
+    double fraction;
+} poll_log;
+
+static size_t rows_changed(const poll_log *q)
+{
+    size_t i, j, c = 0;
+    for (i = 0; i < q->n; i++)
+        for (j = 0; j < q->N; j++)
+            if (q->X[i + j * q->n] != q->X0[i + j * q->n]) {
+                c++;
+                break;
+            }
+    return c;
+}
+
+static void log_rows(poll_log *q)
+{
+    size_t c = rows_changed(q);
+    if (c - q->changed > q->most_between)
+        q->most_between = c - q->changed;
+    q->changed = c;
+}
+
+static int log_poll(void *ctx, double fraction)
+{
+    poll_log *q = (poll_log *)ctx;
+    log_rows(q);
+    if (q->changed == 0)
+        q->before_change++;
+    q->calls++;
+    q->fraction = fraction;
+    return q->stop_at != 0 && q->calls == q->stop_at;
+}
+
+/* Every global method polls before each block of BLOCK_ROWS (64) rows,
+ * the ETKF also before its eigen-decomposition; a poll changes nothing
+ * in the result, and a poll that answers 1 stops the analysis with
+ * SL_EINTERRUPT. */
+static void test_poll(void)
+{
+    const size_t n = 300, N = 8, m = 12;
+    static const struct { int method, form; const char *name; size_t most, before; } cases[] = {
+        {SL_ENKF_ETKF, SL_ETKF_ENSEMBLE, "etkf, ensemble space", 64, 2},
+        {SL_ENKF_ETKF, SL_ETKF_OBSERVATION, "etkf, observation space", 300, 2},
+        {SL_ENKF_STOCHASTIC, 0, "enkf", 64, 1},
+        {SL_ENKF_ENSRF, 0, "ensrf", 64, 1},
+        {SL_ENKF_EAKF, 0, "eakf", 64, 1},
+    };
+    problem p;
+    double *Xa = dalloc(n * N), *Xb = dalloc(n * N);
+    size_t q;
+    sl_error err;
+    make_problem(&p, n, N, m, 4711);
+    for (q = 0; q < sizeof cases / sizeof *cases; q++) {
+        sl_enkf_config cfg = config(cases[q].method);
+        poll_log lg;
+        sl_status st;
+        cfg.etkf_form = cases[q].form;
+        CHECK(analyse_problem(&cfg, &p, NULL, Xa, NULL, &err) == SL_OK, "%s: %s",
+              cases[q].name, err.message);
+        memset(&lg, 0, sizeof lg);
+        lg.X = Xb;
+        lg.X0 = p.X;
+        lg.n = n;
+        lg.N = N;
+        cfg.poll = log_poll;
+        cfg.poll_ctx = &lg;
+        cfg.poll_fraction = 0.375;
+        st = analyse_problem(&cfg, &p, NULL, Xb, NULL, &err);
+        log_rows(&lg);
+        CHECK(st == SL_OK, "%s with a poll: %s", cases[q].name, err.message);
+        CHECK(memcmp(Xa, Xb, n * N * sizeof(double)) == 0,
+              "%s: the poll changed the analysis", cases[q].name);
+        CHECK(lg.changed == n, "%s: %lu of %lu rows changed", cases[q].name,
+              (unsigned long)lg.changed, (unsigned long)n);
+        CHECK(lg.most_between <= cases[q].most, "%s: %lu rows between two polls",
+              cases[q].name, (unsigned long)lg.most_between);
+        CHECK(lg.before_change >= cases[q].before, "%s: %lu polls before the first row",
+              cases[q].name, (unsigned long)lg.before_change);
+        CHECK(lg.fraction == 0.375, "%s: the poll was told %g", cases[q].name, lg.fraction);
+        printf("  poll, %s: %lu calls, at most %lu rows between two\n", cases[q].name,
+               (unsigned long)lg.calls, (unsigned long)lg.most_between);
+        /* stopped at its second call */
+        memset(&lg, 0, sizeof lg);
+        lg.X = Xb;
+        lg.X0 = p.X;
+        lg.n = n;
+        lg.N = N;
+        lg.stop_at = 2;
+        st = analyse_problem(&cfg, &p, NULL, Xb, NULL, &err);
+        CHECK(st == SL_EINTERRUPT && strcmp(err.reason, "interrupted") == 0,
+              "%s stopped by its poll: status %d, reason %s", cases[q].name, (int)st, err.reason);
+        CHECK(lg.calls == 2, "%s: %lu polls after the stop", cases[q].name, (unsigned long)lg.calls);
+    }
+    /* the LETKF through the same entry (its batches: test_letkf.c) */
+    {
+        double *spos = dalloc(n), opos[12], oc[12];
+        sl_localization loc;
+        sl_enkf_config cfg = config(SL_ENKF_LETKF);
+        poll_log lg;
+        size_t i, k;
+        for (i = 0; i < n; i++)
+            spos[i] = (double)i;
+        for (k = 0; k < m; k++) {
+            opos[k] = 25.0 * (double)k;
+            oc[k] = 10.0;
+        }
+        set_loc(&loc, spos, opos, oc, 1.0);
+        cfg.loc = &loc;
+        memset(&lg, 0, sizeof lg);
+        lg.X = Xb;
+        lg.X0 = p.X;
+        lg.n = n;
+        lg.N = N;
+        lg.stop_at = 1;
+        cfg.poll = log_poll;
+        cfg.poll_ctx = &lg;
+        CHECK(analyse_problem(&cfg, &p, NULL, Xb, NULL, &err) == SL_EINTERRUPT &&
+                  strcmp(err.reason, "interrupted") == 0,
+              "letkf stopped by its poll: %s", err.reason);
+        CHECK(memcmp(Xb, p.X, n * N * sizeof(double)) == 0,
+              "a stopped LETKF analysis left the ensemble changed");
+        free(spos);
+    }
+    free(Xa);
+    free(Xb);
+    free_problem(&p);
+}
+
 /* ------------------------------------------------- errors */
 
 static void expect_fail(const sl_enkf_config *cfg, const double *X,
@@ -1493,6 +1635,7 @@ int main(void)
     test_letkf_dispatch();
     test_floor();
     test_threads();
+    test_poll();
     test_errors();
     CHECK_DONE("test_enkf");
 }

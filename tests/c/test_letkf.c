@@ -790,6 +790,124 @@ static void test_errors(void)
     }
 }
 
+/* ------------------------------------------------------------- polls */
+
+typedef struct {
+    const double *X, *X0;
+    size_t n, N, calls, changed, most_between;
+} batch_log;
+
+static void count_rows(batch_log *q)
+{
+    size_t i, j, c = 0;
+    for (i = 0; i < q->n; i++)
+        for (j = 0; j < q->N; j++)
+            if (q->X[i + j * q->n] != q->X0[i + j * q->n]) {
+                c++;
+                break;
+            }
+    if (c - q->changed > q->most_between)
+        q->most_between = c - q->changed;
+    q->changed = c;
+}
+
+static int batch_poll(void *ctx, double fraction)
+{
+    batch_log *q = (batch_log *)ctx;
+    (void)fraction;
+    count_rows(q);
+    q->calls++;
+    return 0;
+}
+
+/* The local analyses go in batches with the poll between them: with N
+ * members a point counts N^3 flops, a batch is SL_ENKF_POLL_WORK flops a
+ * thread (at least 4 points a thread while a point costs under a quarter
+ * of that), so the rows analysed between two polls are counted, not
+ * timed. 200 rows at distinct places, 120 members: 115 points a thread. */
+static void test_poll_batches(void)
+{
+    const size_t n = 200, N = 120, m = 40;
+    const double per = floor(SL_ENKF_POLL_WORK / ((double)N * N * N));
+    double *X = malloc(n * N * sizeof(double)), *X0 = malloc(n * N * sizeof(double));
+    double *HX = malloc(m * N * sizeof(double)), y[40], r[40], spos[200], opos[40], oc[40];
+    sl_localization loc;
+    sl_enkf_config cfg;
+    sl_enkf_info info;
+    sl_error err;
+    sl_stream s;
+    size_t i, j, k, ws;
+    int t;
+    void *work;
+    if (check_light_()) {
+        printf("SKIP test_letkf: the batches of 120-member analyses under the memory checker\n");
+        free(X);
+        free(X0);
+        free(HX);
+        return;
+    }
+    sl_stream_init(&s, 31, 0, 0, SL_PURPOSE_USER);
+    for (i = 0; i < n; i++)
+        spos[i] = 0.25 * (double)i;
+    for (k = 0; k < m; k++) {
+        opos[k] = 1.25 * (double)k;
+        oc[k] = 2.0;
+        r[k] = 0.5;
+    }
+    for (j = 0; j < N; j++) {
+        double a = sl_stream_normal(&s), b = sl_stream_normal(&s);
+        for (i = 0; i < n; i++)
+            X0[i + j * n] = a * sin(0.1 * spos[i]) + b * cos(0.07 * spos[i]) +
+                            0.3 * sl_stream_normal(&s);
+        for (k = 0; k < m; k++)
+            HX[k + j * m] = a * sin(0.1 * opos[k]) + b * cos(0.07 * opos[k]);
+    }
+    for (k = 0; k < m; k++)
+        y[k] = 0.4 * sl_stream_normal(&s);
+    memset(&loc, 0, sizeof loc);
+    loc.geometry = SL_GEOM_LINE;
+    loc.dim = 1;
+    loc.state_pos = spos;
+    loc.obs_pos = opos;
+    loc.obs_c = oc;
+    loc.param_factor = 1.0;
+    for (t = 1; t <= 2; t++) {
+        batch_log lg;
+        const size_t batch = (size_t)per * (size_t)t;
+        memset(&cfg, 0, sizeof cfg);
+        cfg.method = SL_ENKF_LETKF;
+        cfg.inflation = 1.0;
+        cfg.loc = &loc;
+        cfg.threads = t;
+        memset(&lg, 0, sizeof lg);
+        lg.X = X;
+        lg.X0 = X0;
+        lg.n = n;
+        lg.N = N;
+        cfg.poll = batch_poll;
+        cfg.poll_ctx = &lg;
+        memcpy(X, X0, n * N * sizeof(double));
+        ws = sl_letkf_workspace(&cfg, n, N, m);
+        work = malloc(ws);
+        sl_error_clear(&err);
+        CHECK(sl_letkf_run(&cfg, n, N, X, m, HX, y, r, work, &info, &err) == SL_OK, "%s",
+              err.message);
+        free(work);
+        count_rows(&lg);
+        CHECK(lg.calls == (n + batch - 1) / batch, "%d thread(s): %lu polls for batches of %lu",
+              t, (unsigned long)lg.calls, (unsigned long)batch);
+        CHECK(lg.most_between <= batch, "%d thread(s): %lu rows between two polls", t,
+              (unsigned long)lg.most_between);
+        CHECK(lg.changed + info.local_skipped == n, "%d thread(s): %lu rows analysed", t,
+              (unsigned long)lg.changed);
+        printf("  letkf batches, %d thread(s): %lu polls, at most %lu rows between two\n", t,
+               (unsigned long)lg.calls, (unsigned long)lg.most_between);
+    }
+    free(X);
+    free(X0);
+    free(HX);
+}
+
 int main(void)
 {
     static const int geoms[4] = {SL_GEOM_LINE, SL_GEOM_RING, SL_GEOM_PLANE, SL_GEOM_SPHERE};
@@ -826,5 +944,6 @@ int main(void)
     test_ill_conditioned();
     test_out_of_reach();
     test_errors();
+    test_poll_batches();
     CHECK_DONE("test_letkf");
 }

@@ -1,14 +1,16 @@
 #!/usr/bin/env bash
-# run.sh - tests of tools/lint_matlab on the fixtures beside this file:
-# every code line of bad.m / bad.c must be reported, no line of good.m /
-# mexplatform.c may be. Prints "lint: N passed, N failed".
+# run.sh - tests of tools/lint_matlab and tools/lint_core on the fixtures
+# beside this file: every code line of bad.m / bad.c / core_alloc.c must be
+# reported, no line of good.m / mexplatform.c / core_good.c may be. Prints
+# "lint: N passed, N failed".
 set -u
 here=$(cd "$(dirname "$0")" && pwd)
 lint="$here/../../tools/lint_matlab"
+lint_core="$here/../../tools/lint_core"
 passed=0; failed=0
-check() { # check FILE MUST(1 = every code line reported, 0 = none)
-  local file=$1 must=$2 out n line
-  out=$(bash "$lint" "$file")
+check() { # check FILE MUST(1 = every code line reported, 0 = none) [TOOL]
+  local file=$1 must=$2 tool=${3:-$lint} out n line
+  out=$(bash "$tool" "$file")
   n=0
   while IFS= read -r line || [ -n "$line" ]; do
     n=$((n + 1))
@@ -33,11 +35,18 @@ check "$here/bad.m" 1
 check "$here/good.m" 0
 check "$here/bad.c" 1
 check "$here/mexplatform.c" 0
+check "$here/core_alloc.c" 1 "$lint_core"
+check "$here/core_good.c" 0 "$lint_core"
 # the tree itself
 if bash "$lint" >/dev/null; then
   passed=$((passed + 1))
 else
   failed=$((failed + 1)); echo "FAIL tools/lint_matlab reports findings in m/ or mex/ (run make lint)"
+fi
+if bash "$lint_core" >/dev/null; then
+  passed=$((passed + 1))
+else
+  failed=$((failed + 1)); echo "FAIL tools/lint_core reports an allocator call in src/ or include/ (run make lint)"
 fi
 echo "lint: $passed passed, $failed failed"
 [ "$failed" -eq 0 ]

@@ -17,6 +17,7 @@
 % @deftypefnx {} {@var{tf} =} sluice.kernel.compat ('has_parallel')
 % @deftypefnx {} {@var{out} =} sluice.kernel.compat ('parallel_map', @var{nworkers}, @var{fun}, @var{inputs})
 % @deftypefnx {} {@var{out} =} sluice.kernel.compat ('parallel_map', @var{nworkers}, @var{fun}, @var{inputs}, @var{on_error})
+% @deftypefnx {} {[@var{out}, @var{failure}] =} sluice.kernel.compat ('parallel_map', @dots{})
 % @deftypefnx {} {@var{list} =} sluice.kernel.compat ('graphics_toolkits')
 % @deftypefnx {} {@var{h} =} sluice.kernel.compat ('hidden_figure', @var{toolkit})
 % The one place where sluice calls functions that only Octave has; every
@@ -64,9 +65,17 @@
 % @item parallel_map
 % @code{@var{out}@{k@} = @var{fun} (@var{inputs}@{k@})} in @var{nworkers}
 % worker processes. When @var{fun} fails and @var{on_error} is given,
-% @code{@var{on_error} (@var{err}, @var{inputs}@{k@})} gives
+% @code{@var{on_error} (@var{err}, @var{inputs}@{k@}, @dots{})} gives
 % @var{out}@{k@}; @var{err} has fields @code{message}, @code{identifier}
-% and @code{index}.
+% and @code{index}. When a worker process dies (killed, out of memory) or
+% the parallel machinery fails, the other workers are stopped (none is
+% left behind) and, with a second output, @var{failure} is a struct with
+% @code{message} (the machinery's message), @code{index} (the items whose
+% worker died; when none can be named, the items that were running),
+% @code{died} (true when a dead worker was found) and @code{how} (such as
+% "killed by signal 9"); @var{out} is then empty. Without a second output
+% such a failure is the error @code{sluice:compat:workerfailed}. With no
+% failure, @var{failure} is empty.
 % @item graphics_toolkits
 % the graphics toolkits available (empty in MATLAB, which has one).
 % @item hidden_figure
@@ -85,7 +94,9 @@
 %
 % Errors: @code{sluice:compat:badop} (an unknown operation),
 % @code{sluice:compat:badarg} (missing or wrong arguments),
-% @code{sluice:compat:fileop} (a failed file operation without outputs).
+% @code{sluice:compat:fileop} (a failed file operation without outputs),
+% @code{sluice:compat:workerfailed} (a worker process of
+% @code{parallel_map} died, asked for without the failure output).
 % @end deftypefn
 
 function varargout = compat (op, varargin)
@@ -210,7 +221,12 @@ function varargout = compat (op, varargin)
       if (numel (varargin) > 3)
         on_error = varargin{4};
       end
-      varargout{1} = parallel_map (oct, varargin{1}, varargin{2}, varargin{3}, on_error);
+      [varargout{1}, failure] = parallel_map (oct, varargin{1}, varargin{2}, varargin{3}, on_error);
+      if (nargout > 1)
+        varargout{2} = failure;
+      elseif (~isempty (failure))
+        error ('sluice:compat:workerfailed', 'a worker process failed: %s', failure.message);
+      end
     case 'graphics_toolkits'
       if (oct)
         varargout{1} = available_graphics_toolkits ();
@@ -405,27 +421,113 @@ function tf = have_parallel (oct)
   end
 end
 
-function out = parallel_map (oct, nw, fun, inputs, on_error)
+function [out, failure] = parallel_map (oct, nw, fun, inputs, on_error)
+  failure = [];
   if (oct)
     pkg ('load', 'parallel');
     opts = {'UniformOutput', false, 'VerboseLevel', 0};
     if (~isempty (on_error))
       opts = [opts, {'ErrorHandler', on_error}];
     end
-    out = parcellfun (nw, fun, inputs, opts{:});
-  else
-    out = cell (size (inputs));
-    parfor (k = 1:numel (inputs), nw)
+    % each worker marks the item it runs (sluice.kernel.worker_call)
+    mark = tempname ();
+    mkdir (mark);
+    index = num2cell (1:numel (inputs));
+    index = reshape (index, size (inputs));
+    try
+      out = parcellfun (nw, @(x, k) sluice.kernel.worker_call (fun, x, mark, k), ...
+                        inputs, index, opts{:});
+    catch err
+      out = {};
       try
-        out{k} = fun (inputs{k});
-      catch e
-        if (isempty (on_error))
-          rethrow (e);
-        end
-        out{k} = on_error (struct ('message', e.message, 'identifier', e.identifier, ...
-                                   'index', k), inputs{k});
+        failure = worker_failure (err, mark);
+      catch
+        failure = struct ('message', err.message, 'index', zeros (1, 0), ...
+                          'died', false, 'how', '');
+      end
+      % stop the workers still running and collect the dead one: the
+      % next call starts afresh and no process is left behind
+      try
+        parcellfun_set_nproc (0);
+      catch
+        % nothing more can be done about them here
       end
     end
+    old = confirm_recursive_rmdir (false);
+    rmdir (mark, 's');
+    confirm_recursive_rmdir (old);
+  else
+    out = cell (size (inputs));
+    try
+      parfor (k = 1:numel (inputs), nw)
+        try
+          out{k} = fun (inputs{k});
+        catch e
+          if (isempty (on_error))
+            rethrow (e);
+          end
+          out{k} = on_error (struct ('message', e.message, 'identifier', e.identifier, ...
+                                     'index', k), inputs{k});
+        end
+      end
+    catch err
+      out = {};
+      failure = struct ('message', err.message, 'index', zeros (1, 0), ...
+                        'died', false, 'how', '');
+    end
+  end
+end
+
+function f = worker_failure (err, mark)
+  % the items still marked as running, and which of their workers died
+  f = struct ('message', err.message, 'index', zeros (1, 0), 'died', false, 'how', '');
+  d = dir (fullfile (mark, '*'));
+  running = zeros (1, 0);
+  pids = zeros (1, 0);
+  for i = 1:numel (d)
+    k = str2double (d(i).name);
+    if (d(i).isdir || isnan (k))
+      continue;
+    end
+    % a worker that finishes meanwhile removes its mark
+    try
+      pid = str2double (fileread (fullfile (mark, d(i).name)));
+    catch
+      continue;
+    end
+    running(end + 1) = k;
+    pids(end + 1) = pid;
+  end
+  % a worker is a child of this process: one that has ended is collected
+  % here (its exit status tells how it ended), one still running answers
+  % 0. The parent can see a worker's pipe close a moment before the
+  % worker has ended, so it looks again for up to a second.
+  dead = zeros (1, 0);
+  for attempt = 1:50
+    for i = 1:numel (pids)
+      if (isnan (pids(i)) || pids(i) <= 0 || any (dead == running(i)))
+        continue;
+      end
+      [got, status] = waitpid (pids(i), WNOHANG ());
+      if (got == pids(i))
+        dead(end + 1) = running(i);
+        if (WIFSIGNALED (status))
+          f.how = sprintf ('killed by signal %d', WTERMSIG (status));
+        elseif (WIFEXITED (status))
+          f.how = sprintf ('ended with exit status %d', WEXITSTATUS (status));
+        end
+      end
+    end
+    if (~isempty (dead) || isempty (pids))
+      break;
+    end
+    pause (0.02);
+  end
+  if (~isempty (dead))
+    f.index = sort (dead);
+    f.died = true;
+  else
+    f.index = sort (running);
   end
 end
 

@@ -13,10 +13,20 @@ function r = run_engine (model, c)
     fn = 'sluice.kernel.pf_run';
   end
   try
-    r = feval (fn, c);
+    if (sluice.kernel.compat ('is_octave'))
+      % a Ctrl-C that escapes the gateway is still the run's error
+      r = sluice.kernel.interruptible ('-run', fn, c);
+    else
+      r = feval (fn, c);
+    end
   catch err
     % the gateway's name is an internal detail: drop Octave's prefix
     msg = regexprep (err.message, '^(pf_run|[A-Za-z]\w*_run): ', '');
-    sluice.kernel.raise_again (err.identifier, 'sluice:filter:failed', msg);
+    id = err.identifier;
+    if (strcmp (id, 'sluice:kernel:interrupted'))
+      id = 'sluice:filter:interrupted';
+      msg = 'the run was interrupted (Ctrl-C); no result is returned';
+    end
+    sluice.kernel.raise_again (id, 'sluice:filter:failed', msg);
   end
 end
