@@ -76,7 +76,7 @@ void mexFunction(int nlhs, mxArray *plhs[], int nrhs, const mxArray *prhs[])
         "history_X", "history_P", "history_w", "history_ancestors",
         "smooth_mean", "smooth_quantiles", "distinct", "spread",
         "temper_steps", "loglik_evals", "move_sweeps", "move_accept", "param_move",
-        "derived_mean", "derived_quantiles"};
+        "derived_mean", "derived_quantiles", "nanpred"};
     const mxArray *c;
     sl_model model;
     sl_linear lin;
@@ -465,6 +465,7 @@ void mexFunction(int nlhs, mxArray *plhs[], int nrhs, const mxArray *prhs[])
         ROWFIELD("loglik_evals", out.loglik_evals);
         ROWFIELD("move_sweeps", out.move_sweeps);
         ROWFIELD("move_accept", out.move_accept);
+        ROWFIELD("nanpred", out.nanpred);
 #undef ROWFIELD
         {
             mxArray *dv = slm_create(FN, p, T), *sp = slm_create(FN, p, T);

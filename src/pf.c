@@ -1598,6 +1598,25 @@ static sl_status temper_cycle(const sl_pf_config *cfg, pf_buffers *b, size_t k,
     }
 }
 
+/* Living members (a finite state) with a NaN among their predicted
+ * observations of cycle rows r0..r0+m-1 whose value is not missing: an
+ * operator that failed for them, so their likelihood is zero. */
+static size_t count_nan_predictions(const sl_pf_config *cfg, const pf_buffers *b, size_t r0,
+                                    size_t m, const unsigned char *dead)
+{
+    size_t i, j, count = 0;
+    for (j = 0; j < cfg->N; j++) {
+        if (dead[j])
+            continue;
+        for (i = 0; i < m; i++)
+            if (!isnan(cfg->y[r0 + i]) && isnan(b->Yhat[i + j * m])) {
+                count++;
+                break;
+            }
+    }
+    return count;
+}
+
 sl_status sl_pf_run(const sl_pf_config *cfg, double *X, double *P, double *w,
                     void *work, sl_pf_output *out, sl_error *err)
 {
@@ -1756,6 +1775,8 @@ sl_status sl_pf_run(const sl_pf_config *cfg, double *X, double *P, double *w,
             } else {
                 if ((st = sl_pfi_predict_obs(cfg, &b, r0, m, tk, Xc, Pc, err)) != SL_OK)
                     return st;
+                if (out->nanpred != NULL)
+                    out->nanpred[k] = (double)count_nan_predictions(cfg, &b, r0, m, b.dead[cur]);
                 sl_pfi_loglik_all(cfg, &b, r0, m, &nskipped);
             }
             evals += N;

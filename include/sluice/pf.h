@@ -235,6 +235,10 @@ typedef struct {
     double *move_sweeps;  /* T: resample_move sweeps in the cycle, or NULL */
     double *move_accept;  /* T: fraction of its proposals accepted (NaN
                            * when it did not act), or NULL */
+    double *nanpred;     /* T: living members (finite state) whose predicted
+                          * observation (an operator's value) was NaN where
+                          * the observation was not missing, so their
+                          * likelihood was zero (particle filter), or NULL */
     double *dmean;       /* d x T weighted means of the d = n_lin + n_fun
                           * derived quantities (with derived_summary) */
     double *dquant;      /* d x nq x T their weighted quantiles */

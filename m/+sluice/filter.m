@@ -315,6 +315,9 @@
 % @code{param_move} (the move used), @code{move_sweeps} and
 % @code{move_accept} (1 x T: resample_move's sweeps and acceptance rate
 % per cycle, NaN where it did not act) for the particle filter,
+% @code{nanpredicted} (particle filter: members per cycle with a finite
+% state but a NaN predicted observation, from an operator, given zero
+% weight; warning @code{sluice:filter:nanprediction}),
 % @code{skipped} (missing observations per cycle), @code{nonfinite}
 % (members whose state was not finite, given zero weight), @code{final}
 % (the last ensemble: @code{X}, @code{P}, @code{w}) and, when asked,
@@ -339,8 +342,8 @@
 % stays below 2 for 10 or more consecutive cycles with observations,
 % @code{sluice:filter:approxparams} when the default move estimated
 % parameters with the kernel move because the paths hold noise (their
-% bands are then approximate), besides @code{sluice:filter:degenerate}
-% and @code{sluice:filter:nonfinite}.
+% bands are then approximate), besides @code{sluice:filter:degenerate},
+% @code{sluice:filter:nonfinite} and @code{sluice:filter:nanprediction}.
 % A prior without spread for a parameter whose bounds let it move is an
 % error (@code{sluice:filter:nospread}) with the moves @code{'auto'},
 % @code{'kernel'}, @code{'resample_move'} and @code{'liu_west'}.
@@ -499,6 +502,9 @@ function res = filter (model, prior, obs, varargin)
     res.move_sweeps = r.move_sweeps;
     res.move_accept = r.move_accept;
   end
+  if (strcmp (res.method, 'pf'))
+    res.nanpredicted = r.nanpred;
+  end
   if (~strcmp (opts.method, 'pf'))
     res.inflation = r.inflation;
     res.floored = r.floored;
@@ -532,6 +538,14 @@ function res = filter (model, prior, obs, varargin)
     warning ('sluice:filter:nonfinite', ...
              ['%d member(s) reached a non-finite state (first at t = %g); ', ...
               'they were given zero weight'], max (res.nonfinite), times(k));
+  end
+  if (isfield (res, 'nanpredicted') && any (res.nanpredicted > 0))
+    k = find (res.nanpredicted > 0, 1);
+    warning ('sluice:filter:nanprediction', ...
+             ['%d member(s) with a finite state got a NaN predicted observation ', ...
+              '(an operator''s value) at %d cycle(s), first at t = %g; they were ', ...
+              'given zero weight: check the operator for states outside its domain'], ...
+             max (res.nanpredicted), sum (res.nanpredicted > 0), times(k));
   end
   % the general caveat first, the specific diagnostics after it
   % the default move on noisy paths is the kernel move, whose parameter

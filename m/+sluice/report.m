@@ -1908,6 +1908,10 @@ function write_text (f, rf, opts, bands, tk, scores, have_obs, have_truth, xa, n
     fprintf (fid, 'non-finite members:  %d at most in one cycle, in %d cycle(s)\n', ...
              max ([0; nf]), sum (nf > 0));
   end
+  if (isfield (rf, 'nanpredicted') && any (rf.nanpredicted(:) > 0))
+    fprintf (fid, 'NaN predictions:     %d members at most in one cycle, in %d cycle(s) (an operator gave NaN)\n', ...
+             max (rf.nanpredicted(:)), sum (rf.nanpredicted(:) > 0));
+  end
   if (isfield (rf, 'degenerate'))
     fprintf (fid, 'degenerate cycles:   %d\n', sum (rf.degenerate(:)));
   end

@@ -17,9 +17,9 @@
 %                                          never "interrupted"
 %   operator errors / wrong size           its id, or sluice:filter:               test_operators.m (boom, user:oops,
 %                                          badoperatoroutput                       badoperatoroutput)
-%   operator returns NaN                   pf: zero likelihood (not in             here
-%                                          res.nonfinite); etkf: sluice:filter:
-%                                          nonfinite
+%   operator returns NaN                   pf: zero likelihood, res.nanpredicted,  here
+%                                          warning sluice:filter:nanprediction;
+%                                          etkf: sluice:filter:nonfinite
 %   operator result that fails its check   the error's own id (was reported as     here
 %                                          an interrupt)
 %   observation table errors               sluice:filter:badobs (row named),      test_pf_features.m, test_obs_csv.m,
@@ -102,19 +102,32 @@
 
 %!test
 %! % an operator that returns NaN for some members: the particle filter
-%! % gives them a zero likelihood (they are not counted as blown up); for
-%! % every member the cycles are degenerate; the ETKF refuses the run
+%! % gives them a zero likelihood (they are not counted as blown up: their
+%! % state is finite), counts them in res.nanpredicted and warns
+%! % (sluice:filter:nanprediction); for every member the cycles are
+%! % degenerate; the ETKF refuses the run
 %! spec = sluice.model ('linear', 'A', 0.8, 'states', {'x'});
 %! pr = sluice.prior ('x', 'normal', [0 1]);
 %! o = setfield (obs1, 'variable', repmat ({'h'}, 3, 1));
 %! ops = struct ('names', 'h', 'fun', @(t, X, P) [NaN(1, 3), X(1, 4:end)]);
+%! lastwarn ('');
 %! r = sluice.filter (spec, pr, o, 'members', 20, 'seed', 4, 't0', 0, 'operators', ops, ...
 %!                    'resample_threshold', 0);
+%! [msg, id] = lastwarn ();
+%! assert (id, 'sluice:filter:nanprediction');
+%! assert (! isempty (strfind (msg, '3 member(s) with a finite state got a NaN predicted')));
 %! assert (r.final.w(1:3), zeros (1, 3));
 %! assert (r.nonfinite, [0 0 0]);
+%! assert (r.nanpredicted, [3 3 3]);
 %! assert (r.degenerate, false (1, 3));
+%! % a missing observation needs no prediction: not counted
+%! o2 = o; o2.value(2) = NaN;
+%! r = sluice.filter (spec, pr, o2, 'members', 20, 'seed', 4, 't0', 0, 'operators', ops, ...
+%!                    'resample_threshold', 0);
+%! assert (r.nanpredicted, [3 0 3]);
 %! ops = struct ('names', 'h', 'fun', @(t, X, P) NaN (1, columns (X)));
 %! warning ('off', 'sluice:filter:degenerate', 'local');
+%! warning ('off', 'sluice:filter:nanprediction', 'local');
 %! r = sluice.filter (spec, pr, o, 'members', 20, 'seed', 4, 't0', 0, 'operators', ops);
 %! assert (r.degenerate, true (1, 3));
 %! assert (r.ess, [0 0 0]);

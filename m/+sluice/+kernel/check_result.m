@@ -69,7 +69,7 @@ function check_result (res, pos, fn, need)
       end
     end
   end
-  cycles = {'skipped', 'nonfinite', 'degenerate', 'move_sweeps', 'move_accept'};
+  cycles = {'skipped', 'nonfinite', 'nanpredicted', 'degenerate', 'move_sweeps', 'move_accept'};
   for k = 1:numel (cycles)
     if (isfield (res, cycles{k}))
       per_cycle (res.(cycles{k}), cycles{k}, T, where, id);
