@@ -107,31 +107,14 @@ function [obs, nmissing, info] = read_obs (filename, varargin)
   end
   opts = struct ('origin', [], 'unit', 'days', 'time_numbers', 'model', 'sort', true);
   opts = sluice.kernel.name_value (opts, varargin, 'read_obs');
-  origin = opts.origin;
-  if (~(isempty (origin) && isnumeric (origin)) && ...
-      ~(ischar (origin) && size (origin, 1) == 1) && ...
-      ~(isa (origin, 'double') && isreal (origin) && isscalar (origin) && isfinite (origin)))
-    error ('sluice:read_obs:badorigin', ...
-           'option ''origin'': expected a date such as ''2001-01-01'' or a datenum, got %s', ...
-           sluice.kernel.describe (origin));
-  end
-  [unit_name, unit_days] = sluice.kernel.time_unit (opts.unit, 'read_obs', 'unit');
-  if (~ischar (opts.time_numbers) || ~any (strcmpi (opts.time_numbers, {'model', 'datenum'})))
-    error ('sluice:read_obs:badoption', ...
-           'option ''time_numbers'': expected ''model'' or ''datenum''');
-  end
-  datenums = strcmpi (opts.time_numbers, 'datenum');
-  if (datenums && isempty (origin))
-    error ('sluice:read_obs:noorigin', ...
-           'option ''time_numbers'' ''datenum'' needs the option ''origin'' (the date of model time 0)');
-  end
-  if (~((islogical (opts.sort) || isnumeric (opts.sort)) && isscalar (opts.sort) && ...
-        isreal (opts.sort) && (opts.sort == 0 || opts.sort == 1)))
-    error ('sluice:read_obs:badoption', 'option ''sort'': expected true or false');
-  end
+  tm = sluice.kernel.file_time (opts, 'read_obs');
+  origin = tm.origin;
+  unit_name = tm.unit_name;
+  unit_days = tm.unit_days;
+  datenums = tm.datenums;
   try
     [obs, nmissing, codes, kinfo] = sluice.kernel.obsfile ('read', filename, origin, ...
-        unit_days, datenums, logical (opts.sort));
+        unit_days, datenums, tm.sort);
   catch err
     % the gateway's name is an internal detail: drop Octave's prefix
     msg = regexprep (err.message, '^obsfile: ', '');

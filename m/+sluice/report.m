@@ -880,13 +880,10 @@ function [written, note] = fan_chart (f, tk, t, M, Q, idx, bands, to, yo, tt, yt
   written = time_pages (f, tk, xa, heading, ylab, logy, @(lim) fan_axes (D, idx, bands, lim));
 end
 
-function [hs, leg] = fan_axes (D, idx, bands, lim)
-  % a fan chart into the current axes, of the cycles in lim (and the one
-  % on either side, so lines run to the panel's edges)
-  i = near (D.t, lim, D.outer);
-  t = D.t(i);
-  Q = D.Q(:, i);
-  hold on;
+function [hs, leg] = band_layers (t, Q, M, idx, bands)
+  % the 90% and 50% bands and the median line of quantiles Q (nq x T)
+  % into the current axes, or the mean M when no median was recorded (and
+  % M is given); hs and leg are the handles and names for the legend
   hs = [];
   leg = {};
   if (bands.outer)
@@ -902,10 +899,20 @@ function [hs, leg] = fan_axes (D, idx, bands, lim)
   if (bands.median)
     hs(end + 1) = plot (t, Q(idx.q50, :), '-', 'color', palette ('line'), 'linewidth', 3.5);
     leg{end + 1} = 'median';
-  else
-    hs(end + 1) = plot (t, D.M(i), '--', 'color', palette ('line'), 'linewidth', 3.5);
+  elseif (~isempty (M))
+    hs(end + 1) = plot (t, M, '--', 'color', palette ('line'), 'linewidth', 3.5);
     leg{end + 1} = 'mean (no median recorded)';
   end
+end
+
+function [hs, leg] = fan_axes (D, idx, bands, lim)
+  % a fan chart into the current axes, of the cycles in lim (and the one
+  % on either side, so lines run to the panel's edges)
+  i = near (D.t, lim, D.outer);
+  t = D.t(i);
+  Q = D.Q(:, i);
+  hold on;
+  [hs, leg] = band_layers (t, Q, D.M(i), idx, bands);
   S = D.S;
   if (~isempty (S))
     if (isfield (S, 'median'))
@@ -1276,22 +1283,7 @@ function count_chart (f, tk, t, Q, idx, bands, c, tc, name, xa)
   end
   h = new_figure (tk, [800 450]);
   hold on;
-  hs = [];
-  leg = {};
-  if (bands.outer)
-    hb = band (t, P(idx.q05, :), P(idx.q95, :), palette ('outer'));
-    hs(end + 1:end + numel (hb)) = hb;
-    leg(end + 1:end + numel (hb)) = {'90% band'};
-  end
-  if (bands.inner)
-    hb = band (t, P(idx.q25, :), P(idx.q75, :), palette ('inner'));
-    hs(end + 1:end + numel (hb)) = hb;
-    leg(end + 1:end + numel (hb)) = {'50% band'};
-  end
-  if (bands.median)
-    hs(end + 1) = plot (t, P(idx.q50, :), '-', 'color', palette ('line'), 'linewidth', 2);
-    leg{end + 1} = 'median';
-  end
+  [hs, leg] = band_layers (t, P, [], idx, bands);
   hs(end + 1) = plot (tc, y, 's', 'color', palette ('obs'), ...
                       'markerfacecolor', palette ('obs'), 'markersize', 6);
   leg{end + 1} = 'observed';
