@@ -33,6 +33,7 @@ SL_INC    := include
 SL_MEX    := mex
 SL_BUILD  := $(BUILD)
 SL_MEXOUT := m/+sluice/+kernel
+SL_CHECKSRC := tools/model_check.c
 SL_ORDER  := $(DEPS)
 .DEFAULT_GOAL := all
 include mk/build.mk
@@ -46,10 +47,10 @@ TESTLINKS := $(addprefix m/sluice.,$(PUBLIC))
 CTESTSRC  := $(sort $(wildcard tests/c/test_*.c))
 CTESTS    := $(patsubst tests/c/%.c,$(BUILD)/tests/%,$(CTESTSRC))
 
-.PHONY: all deps lib mex links ctests check check-c check-octave check-asan check-valgrind \
+.PHONY: all deps lib mex checker links ctests check check-c check-octave check-asan check-valgrind \
         demo bench pkg check-pkg lint clean
 
-all: mex links m/doc-cache
+all: mex checker links m/doc-cache
 
 deps: $(DEPS)
 # redone when the package list or the script changes
@@ -62,6 +63,7 @@ $(DEVDEPS): $(DEVLIST) tools/deps.sh | $(DEPS)
 
 lib: $(SL_LIB)
 mex: $(SL_MEXBIN)
+checker: $(SL_CHECK)
 links: $(TESTLINKS)
 
 m/sluice.%: m/+sluice/%.m | $(DEPS)
@@ -118,11 +120,12 @@ bench: all
 	$(OCTRUN) --eval "warning('off', 'Octave:shadowed-function'); addpath('$(CURDIR)/m'); addpath('$(CURDIR)/tests/bench'); run_benchmarks"
 
 # The Octave package: the .m files under inst/, the C sources under src/
-# with src/Makefile (mk/pkg-src.mk, which includes the same mk/build.mk).
+# with src/Makefile (mk/pkg-src.mk, which includes the same mk/build.mk),
+# and the model checker's source under src/tools.
 PKGDIR := $(BUILD)/pkg/sluice-$(VERSION)
 pkg: $(PKGFILE)
 $(PKGFILE): | $(DEPS)
-$(PKGFILE): DESCRIPTION INDEX NEWS COPYING mk/build.mk mk/pkg-src.mk tools/pkg-add \
+$(PKGFILE): DESCRIPTION INDEX NEWS COPYING mk/build.mk mk/pkg-src.mk tools/pkg-add $(SL_CHECKSRC) \
             $(SL_CSRC) $(wildcard src/*.h src/models/*.h include/sluice/*.h mex/*.c mex/*.h) \
             $(shell find m -name '*.m' 2>/dev/null)
 	@rm -rf $(BUILD)/pkg && mkdir -p $(PKGDIR)/inst $(PKGDIR)/src
@@ -132,6 +135,7 @@ $(PKGFILE): DESCRIPTION INDEX NEWS COPYING mk/build.mk mk/pkg-src.mk tools/pkg-a
 	cp tools/pkg-add $(PKGDIR)/inst/PKG_ADD
 	cp -r src $(PKGDIR)/src/core
 	cp -r include mex $(PKGDIR)/src/
+	mkdir -p $(PKGDIR)/src/tools && cp $(SL_CHECKSRC) $(PKGDIR)/src/tools/
 	cp mk/build.mk $(PKGDIR)/src/build.mk
 	cp mk/pkg-src.mk $(PKGDIR)/src/Makefile
 	tar -C $(BUILD)/pkg -czf $@ sluice-$(VERSION)

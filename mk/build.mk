@@ -1,5 +1,6 @@
-# build.mk - compile rules of libsluice and its MEX gateways, shared by the
-# project's Makefile and by the Octave package's src/Makefile (make pkg).
+# build.mk - compile rules of libsluice, its MEX gateways and the model
+# checker of sluice.build_model, shared by the project's Makefile and by
+# the Octave package's src/Makefile (make pkg).
 #
 # The including file sets:
 #   SL_SRC     core sources (src/*.c, src/models/*.c)
@@ -7,6 +8,7 @@
 #   SL_MEX     gateway sources (mex/*.c; mex/mex*.c are helpers linked into all)
 #   SL_BUILD   where objects and the library go
 #   SL_MEXOUT  where the built gateways go (m/+sluice/+kernel)
+#   SL_CHECKSRC  the checker of a user's model definition (tools/model_check.c)
 #   MKOCTFILE  the mkoctfile of the Octave the gateways are for
 #   SL_ORDER   an order-only prerequisite of every compile (the dependency step)
 #
@@ -39,6 +41,11 @@ SL_MEXHELP := $(sort $(wildcard $(SL_MEX)/mex*.c))
 SL_MEXHOBJ := $(patsubst $(SL_MEX)/%.c,$(SL_BUILD)/mex/%.o,$(SL_MEXHELP))
 SL_MEXSRC  := $(filter-out $(SL_MEXHELP),$(sort $(wildcard $(SL_MEX)/*.c)))
 SL_MEXBIN  := $(patsubst $(SL_MEX)/%.c,$(SL_MEXOUT)/%.mex,$(SL_MEXSRC))
+# sluice.build_model links this object with a user's compiled model file
+# and runs the program before building the model's gateways. It refuses a
+# checker older than any public header, so every header is a prerequisite
+# (not only those the checker includes).
+SL_CHECK   := $(SL_BUILD)/model_check.o
 
 # keep the object files of the gateways (they are intermediate to make)
 .PRECIOUS: $(SL_BUILD)/mex/%.o
@@ -59,8 +66,12 @@ $(SL_BUILD)/mex/%.o: $(SL_MEX)/%.c | $(SL_ORDER)
 	@mkdir -p $(dir $@)
 	$(CC) $(SL_CFLAGS) -DMX_HAS_INTERLEAVED_COMPLEX=1 $(SL_OCT_INC) -c $< -o $@
 
+$(SL_CHECK): $(SL_CHECKSRC) $(wildcard $(SL_INC)/sluice/*.h) | $(SL_ORDER)
+	@mkdir -p $(dir $@)
+	$(CC) $(SL_CFLAGS) -c $< -o $@
+
 $(SL_MEXOUT)/%.mex: $(SL_BUILD)/mex/%.o $(SL_MEXHOBJ) $(SL_LIB)
 	@mkdir -p $(dir $@)
 	$(MKOCTFILE) --mex -o $@ $^ -fopenmp $(SL_LIBS)
 
--include $(SL_OBJ:.o=.d) $(patsubst $(SL_MEX)/%.c,$(SL_BUILD)/mex/%.d,$(SL_MEXHELP) $(SL_MEXSRC))
+-include $(SL_OBJ:.o=.d) $(SL_CHECK:.o=.d) $(patsubst $(SL_MEX)/%.c,$(SL_BUILD)/mex/%.d,$(SL_MEXHELP) $(SL_MEXSRC))

@@ -1,8 +1,8 @@
 # Makefile of the compiled part of the sluice Octave package: pkg install
 # runs it in src/ with MKOCTFILE set. It builds the gateways into
 # ../inst/+sluice/+kernel, and puts what sluice.build_model compiles a
-# user's model against (headers, gateway sources, the library) into
-# ../inst/sdk.
+# user's model against (headers, gateway sources, the library, the
+# compiled model checker) into ../inst/sdk.
 MKOCTFILE ?= mkoctfile
 OCTAVE    ?= octave-cli
 CC        := $(or $(shell $(MKOCTFILE) -p CC 2>/dev/null),cc)
@@ -11,6 +11,7 @@ SL_INC    := include
 SL_MEX    := mex
 SL_BUILD  := build
 SL_MEXOUT := ../inst/+sluice/+kernel
+SL_CHECKSRC := tools/model_check.c
 SL_ORDER  :=
 .DEFAULT_GOAL := all
 include build.mk
@@ -21,10 +22,12 @@ PUBLIC    := $(filter-out Contents,$(PUBLIC))
 .PHONY: all sdk links help-index
 all: $(SL_MEXBIN) sdk links help-index
 
-sdk: $(SL_LIB)
+# the headers first: sluice.build_model refuses a library or checker
+# older than the headers beside it
+sdk: $(SL_LIB) $(SL_CHECK)
 	mkdir -p ../inst/sdk/build
 	cp -r include mex ../inst/sdk/
-	cp $(SL_LIB) ../inst/sdk/build/
+	cp $(SL_LIB) $(SL_CHECK) ../inst/sdk/build/
 
 # a file sluice.<name> beside the package folder for each public function,
 # so that Octave's "test sluice.<name>" and "demo sluice.<name>" find it

@@ -24,7 +24,9 @@
 % the assimilation cycle with the model linked in, and
 % @file{NAME_info.mex}, which describes the definition. Before they are
 % built the definition is checked and its functions are called once, in
-% a separate process, at the default parameters: a definition with
+% a separate process (the file linked with the model checker
+% @file{build/model_check.o}, also made by @command{make}), at the
+% default parameters: a definition with
 % missing names, no dynamics or an unknown integrator, or functions that
 % crash, is reported as an error and never loaded into Octave. The
 % gateways are rebuilt only when the C file (or the library, or the
@@ -49,8 +51,8 @@
 % Compiler warnings about the C file are shown as a warning
 % (@code{sluice:build_model:warnings}). Errors: @code{nofile},
 % @code{badclass}, @code{badname}, @code{badoption}, @code{badoutdir},
-% @code{notbuilt} (the library is missing or older than its sources: run
-% @command{make}), @code{compilefailed} (the compiler's message follows),
+% @code{notbuilt} (the library or the model checker is missing or older
+% than its sources: run @command{make}), @code{compilefailed} (the compiler's message follows),
 % @code{noentry} (the file defines no @code{sluice_user_model}),
 % @code{baddef} (the definition is incomplete or its functions crash),
 % @code{loadfailed} (the MEX files do not load), @code{shadowed} (another
@@ -145,8 +147,9 @@ function [spec, rebuilt] = build_model (cfile, varargin)
   % the ones used from now on
   clear ('-f', run_fn, info_fn);
   if (rebuilt)
-    check_library (root, lib);
-    compile (cfile, cdir, root, lib, outdir, targets);
+    checker = fullfile (root, 'build', 'model_check.o');
+    check_library (root, lib, checker);
+    compile (cfile, cdir, root, lib, checker, outdir, targets);
     fid = fopen (note, 'w');
     if (fid >= 0)
       fprintf (fid, '%s\n', cfile);
@@ -249,19 +252,32 @@ function c = list_files (folder, pattern)
   c = cellfun (@(f) fullfile (folder, f), {d.name}, 'UniformOutput', false);
 end
 
-function check_library (root, lib)
+function check_library (root, lib, checker)
   % gateways compiled against headers newer than the library would not
-  % match it (and could crash Octave): the library must be rebuilt first
-  st = stat (lib);
-  src = [list_files(fullfile (root, 'include', 'sluice'), '*.h'), ...
+  % match it (and could crash Octave): the library must be rebuilt first.
+  % The same holds for the model checker (made from tools/model_check.c)
+  % that the user's file is linked with.
+  if (~exist (checker, 'file'))
+    error ('sluice:build_model:notbuilt', ...
+           'the model checker %s is missing: run make in %s first', checker, root);
+  end
+  headers = list_files (fullfile (root, 'include', 'sluice'), '*.h');
+  src = [headers, ...
          list_files(fullfile (root, 'src'), '*.c'), list_files(fullfile (root, 'src'), '*.h'), ...
          list_files(fullfile (root, 'src', 'models'), '*.c'), ...
          list_files(fullfile (root, 'src', 'models'), '*.h')];
-  for k = 1:numel (src)
-    [s, err] = stat (src{k});
+  older_than (lib, src, 'the library', root);
+  older_than (checker, [headers, list_files(fullfile (root, 'tools'), 'model_check.c')], ...
+              'the model checker', root);
+end
+
+function older_than (built, sources, what, root)
+  st = stat (built);
+  for k = 1:numel (sources)
+    [s, err] = stat (sources{k});
     if (err == 0 && s.mtime > st.mtime)
       error ('sluice:build_model:notbuilt', ...
-             'the library %s is older than %s: run make in %s first', lib, src{k}, root);
+             '%s %s is older than %s: run make in %s first', what, built, sources{k}, root);
     end
   end
 end
@@ -307,7 +323,7 @@ function [t, exact] = file_times (files)
   end
 end
 
-function compile (cfile, cdir, root, lib, outdir, targets)
+function compile (cfile, cdir, root, lib, checker, outdir, targets)
   mk = mkoctfile_path ();
   inc = ['-I' shell_quote(fullfile (root, 'include')) ' -I' shell_quote(fullfile (root, 'mex'))];
   libs = ['-lgsl ' config_value(mk, 'LAPACK_LIBS') ' ' config_value(mk, 'BLAS_LIBS') ' -lm'];
@@ -337,9 +353,10 @@ function compile (cfile, cdir, root, lib, outdir, targets)
     warning (state);
   end
 
-  % 2. check the definition in a separate program, so that a definition
-  % that cannot be read, or functions that crash, never reach Octave
-  check_definition (mk, cfile, uobj, tmp, inc, lib, libs);
+  % 2. check the definition in a separate program (the checker make
+  % built, linked with the user's file), so that a definition that cannot
+  % be read, or functions that crash, never reach Octave
+  check_definition (mk, cfile, uobj, tmp, checker, lib, libs);
 
   % 3. the two gateways, compiled side by side. mkoctfile does not quote
   % the paths of its link step, so it runs inside the build folder with
@@ -382,14 +399,12 @@ function compile (cfile, cdir, root, lib, outdir, targets)
   end
 end
 
-function check_definition (mk, cfile, uobj, tmp, inc, lib, libs)
-  csrc = fullfile (tmp, 'check.c');
+function check_definition (mk, cfile, uobj, tmp, checker, lib, libs)
+  % the checker's exit status: 0 usable, 2 problems listed ("problem: "
+  % lines), anything else a crash after a "calling <function>" line
   exe = fullfile (tmp, 'check');
-  fid = fopen (csrc, 'w');
-  fprintf (fid, '%s', strjoin (checker_source (), char (10)));
-  fclose (fid);
   cc = config_value (mk, 'CC');
-  cmd = sprintf ('%s -std=gnu11 %s %s %s %s -o %s -fopenmp %s', cc, inc, shell_quote (csrc), ...
+  cmd = sprintf ('%s %s %s %s -o %s -fopenmp %s', cc, shell_quote (checker), ...
                  shell_quote (uobj), shell_quote (lib), shell_quote (exe), libs);
   [status, out] = system ([cmd ' 2>&1']);
   if (status ~= 0)
@@ -433,193 +448,6 @@ function p = timeout_prefix ()
   else
     p = '';
   end
-end
-
-function src = checker_source ()
-  src = { ...
-  '/* Checks the definition a user''s model file returns, and calls each of'
-  ' * its functions once, before Octave loads it. Exit 0: usable; 2: the'
-  ' * problems printed; anything else: the model crashed. */'
-  '#include <math.h>'
-  '#include <stdio.h>'
-  '#include <stdlib.h>'
-  '#include <string.h>'
-  '#include "sluice/model.h"'
-  ''
-  'const sl_model_def *sluice_user_model(void);'
-  ''
-  'static int problems = 0;'
-  'static const double guard = -7.25e300;'
-  ''
-  'static void check_names(const char *const *list, size_t count, const char *what)'
-  '{'
-  '    size_t k;'
-  '    if (count == 0)'
-  '        return;'
-  '    if (list == NULL) {'
-  '        printf("problem: %s is NULL but %lu name(s) are declared\n", what, (unsigned long)count);'
-  '        problems++;'
-  '        return;'
-  '    }'
-  '    for (k = 0; k < count; k++)'
-  '        if (list[k] == NULL || list[k][0] == 0) {'
-  '            printf("problem: %s: name %lu is missing\n", what, (unsigned long)(k + 1));'
-  '            problems++;'
-  '        }'
-  '}'
-  ''
-  'static double *buffer(size_t count, const double *init)'
-  '{'
-  '    double *v = calloc(count + 8, sizeof(double));'
-  '    size_t k;'
-  '    if (v == NULL) {'
-  '        printf("problem: out of memory\n");'
-  '        exit(2);'
-  '    }'
-  '    for (k = 0; k < count; k++)'
-  '        v[k] = init != NULL ? init[k] : 0.0;'
-  '    for (k = count; k < count + 8; k++)'
-  '        v[k] = guard;'
-  '    return v;'
-  '}'
-  ''
-  'static void stage(const char *what)'
-  '{'
-  '    printf("calling %s\n", what);'
-  '    fflush(stdout);'
-  '}'
-  ''
-  'static void guarded(const double *v, size_t count, const char *who, const char *what)'
-  '{'
-  '    size_t k;'
-  '    for (k = count; k < count + 8; k++)'
-  '        if (v[k] != guard) {'
-  '            printf("problem: %s writes past the %lu entries of %s\n", who, (unsigned long)count, what);'
-  '            problems++;'
-  '            return;'
-  '        }'
-  '}'
-  ''
-  'int main(void)'
-  '{'
-  '    const sl_model_def *d = sluice_user_model();'
-  '    const char *in;'
-  '    size_t n, k, np, nq, ne;'
-  '    double *x, *dx, *p, *u, *ev;'
-  '    if (d == NULL) {'
-  '        printf("problem: sluice_user_model() returned NULL\n");'
-  '        return 2;'
-  '    }'
-  '    if (d->name == NULL || d->name[0] == 0) {'
-  '        printf("problem: the definition has no name\n");'
-  '        problems++;'
-  '    }'
-  '    np = d->n_param;'
-  '    nq = d->n_forcing;'
-  '    ne = d->n_event;'
-  '    if (d->n_state > 1000000 || d->n_min > 1000000 || np > 100000 || nq > 100000 || ne > 100000) {'
-  '        printf("problem: implausible sizes (n_state %lu, n_min %lu, n_param %lu, n_forcing %lu, n_event %lu)\n",'
-  '               (unsigned long)d->n_state, (unsigned long)d->n_min, (unsigned long)np,'
-  '               (unsigned long)nq, (unsigned long)ne);'
-  '        return 2;'
-  '    }'
-  '    n = d->n_state > 0 ? d->n_state : (d->n_min > 1 ? d->n_min : 1);'
-  '    if (d->n_state > 0 && d->n_min > d->n_state) {'
-  '        printf("problem: n_min (%lu) exceeds n_state (%lu)\n", (unsigned long)d->n_min, (unsigned long)d->n_state);'
-  '        problems++;'
-  '    }'
-  '    if (d->state_names != NULL)'
-  '        check_names(d->state_names, d->n_state, "state_names");'
-  '    check_names(d->param_names, np, "param_names");'
-  '    check_names(d->forcing_names, nq, "forcing_names");'
-  '    check_names(d->event_names, ne, "event_names");'
-  '    if (d->rhs == NULL && d->map == NULL && d->map_block == NULL) {'
-  '        printf("problem: neither a right-hand side (rhs) nor a step map (map) is given\n");'
-  '        problems++;'
-  '    }'
-  '    if (ne > 0 && d->jump == NULL) {'
-  '        printf("problem: n_event is %lu but no event map (jump) is given\n", (unsigned long)ne);'
-  '        problems++;'
-  '    }'
-  '    if (!(d->dt > 0) || !isfinite(d->dt)) {'
-  '        printf("problem: the time step dt must be finite and > 0, got %g\n", d->dt);'
-  '        problems++;'
-  '    }'
-  '    in = d->integrator;'
-  '    if (in != NULL && in[0] != 0) {'
-  '        if (strcmp(in, "euler") && strcmp(in, "rk4") && strcmp(in, "dopri5") && strcmp(in, "discrete")) {'
-  '            printf("problem: unknown integrator \"%s\" (euler, rk4, dopri5 or discrete)\n", in);'
-  '            problems++;'
-  '        } else if (strcmp(in, "discrete") == 0 && d->map == NULL && d->map_block == NULL) {'
-  '            printf("problem: the integrator \"discrete\" needs a step map (map)\n");'
-  '            problems++;'
-  '        } else if (strcmp(in, "discrete") != 0 && d->rhs == NULL) {'
-  '            printf("problem: the integrator \"%s\" needs a right-hand side (rhs)\n", in);'
-  '            problems++;'
-  '        }'
-  '    }'
-  '    if (d->p_lower != NULL && d->p_upper != NULL)'
-  '        for (k = 0; k < np; k++)'
-  '            if (!(d->p_lower[k] <= d->p_upper[k])) {'
-  '                printf("problem: parameter %lu: lower bound %g is not <= upper bound %g\n",'
-  '                       (unsigned long)(k + 1), d->p_lower[k], d->p_upper[k]);'
-  '                problems++;'
-  '            }'
-  '    if (problems)'
-  '        return 2;'
-  ''
-  '    /* one call of each function at the defaults, zero forcing and events */'
-  '    x = buffer(n, d->n_state > 0 ? d->x0 : NULL);'
-  '    dx = buffer(n, NULL);'
-  '    p = buffer(np, NULL);'
-  '    u = buffer(nq, NULL);'
-  '    ev = buffer(ne, NULL);'
-  '    for (k = 0; k < np; k++) {'
-  '        double lo = d->p_lower != NULL ? d->p_lower[k] : -HUGE_VAL;'
-  '        double hi = d->p_upper != NULL ? d->p_upper[k] : HUGE_VAL;'
-  '        if (d->p_default != NULL && isfinite(d->p_default[k]))'
-  '            p[k] = d->p_default[k];'
-  '        else if (isfinite(lo) && isfinite(hi))'
-  '            p[k] = 0.5 * (lo + hi);'
-  '        else if (isfinite(lo))'
-  '            p[k] = lo + 1.0;'
-  '        else if (isfinite(hi))'
-  '            p[k] = hi - 1.0;'
-  '        else'
-  '            p[k] = 1.0;'
-  '    }'
-  '    if (d->rhs != NULL) {'
-  '        stage("the right-hand side (rhs)");'
-  '        d->rhs(d, n, 0.0, x, p, u, dx);'
-  '        guarded(dx, n, "the right-hand side (rhs)", "dxdt");'
-  '    }'
-  '    if (d->map != NULL) {'
-  '        stage("the step map (map)");'
-  '        d->map(d, n, 0.0, d->dt, x, p, u);'
-  '        guarded(x, n, "the step map (map)", "x");'
-  '    }'
-  '    if (d->map_block != NULL) {'
-  '        size_t count = 3, w = d->block_work != NULL ? d->block_work(n, count) : 0;'
-  '        double *X = buffer(n * count, NULL), *P = buffer(np * count, NULL);'
-  '        double *U = buffer(nq * count, NULL), *W = buffer(w, NULL);'
-  '        for (k = 0; k < np * count; k++)'
-  '            P[k] = p[k % np];'
-  '        for (k = 0; k < n * count; k++)'
-  '            X[k] = x[k % n];'
-  '        stage("the block step map (map_block)");'
-  '        d->map_block(d, n, count, 0.0, d->dt, X, P, U, W);'
-  '        guarded(X, n * count, "the block step map (map_block)", "X");'
-  '        guarded(W, w, "the block step map (map_block)", "its work space (block_work)");'
-  '    }'
-  '    if (d->jump != NULL && ne > 0) {'
-  '        stage("the event map (jump)");'
-  '        d->jump(d, n, 0.0, x, p, ev);'
-  '        guarded(x, n, "the event map (jump)", "x");'
-  '    }'
-  '    printf("ok\n");'
-  '    return problems ? 2 : 0;'
-  '}'
-  ''};
 end
 
 function info = check_info (info, cfile)
@@ -724,3 +552,53 @@ end
 %!   assert (~isempty (strfind (err.message, 'two_words')));
 %! end
 %! delete (f1); delete (f2); rmdir (d);
+%!test
+%! % the checker is the object make compiled from tools/model_check.c:
+%! % build/model_check.o in the tree, sdk/build/model_check.o in an
+%! % installed package; this file holds no C source of it
+%! here = fileparts (fileparts (which ('sluice.build_model')));
+%! root = fullfile (here, 'sdk');
+%! if (~exist (fullfile (root, 'include', 'sluice'), 'dir'))
+%!   root = fileparts (here);
+%! end
+%! obj = fullfile (root, 'build', 'model_check.o');
+%! assert (exist (obj, 'file') > 0);
+%! assert (~isempty (strfind (fileread (obj), 'unknown integrator')));
+%! assert (isempty (strfind (fileread (which ('sluice.build_model')), ['int ', 'main'])));
+%! src = fullfile (root, 'tools', 'model_check.c');
+%! if (exist (src, 'file'))
+%!   assert (~isempty (strfind (fileread (src), '"problem: the time step dt must be finite and > 0, got %g\n"')));
+%! end
+%!test
+%! % a definition the checker refuses: every problem named, no MEX file
+%! % left behind
+%! d = tempname (); mkdir (d);
+%! f = fullfile (d, 'odd_steps.c');
+%! fid = fopen (f, 'w');
+%! fprintf (fid, '%s\n', '#include "sluice/model.h"', ...
+%!          'static const char *const states[] = {"h"};', ...
+%!          'static void rhs(const sl_model_def *def, size_t n, double t, const double *x,', ...
+%!          '                const double *p, const double *u, double *dxdt)', ...
+%!          '{ (void)def; (void)n; (void)t; (void)p; (void)u; dxdt[0] = -x[0]; }', ...
+%!          'static const sl_model_def odd = { .name = "odd_steps", .n_state = 1,', ...
+%!          '    .n_event = 1, .state_names = states, .dt = -0.5, .integrator = "leapfrog",', ...
+%!          '    .rhs = rhs };', ...
+%!          'const sl_model_def *sluice_user_model(void) { return &odd; }');
+%! fclose (fid);
+%! try
+%!   sluice.build_model (f);
+%!   id = '';
+%! catch err
+%!   id = err.identifier;
+%!   msg = err.message;
+%! end
+%! left = dir (fullfile (d, ['odd_steps_*.' mexext()]));
+%! old = confirm_recursive_rmdir (false);
+%! rmdir (d, 's');
+%! confirm_recursive_rmdir (old);
+%! assert (id, 'sluice:build_model:baddef');
+%! assert (~isempty (strfind (msg, 'the time step dt must be finite and > 0, got -0.5')));
+%! assert (~isempty (strfind (msg, 'unknown integrator "leapfrog" (euler, rk4, dopri5 or discrete)')));
+%! assert (~isempty (strfind (msg, 'n_event is 1 but no event map (jump) is given')));
+%! assert (~isempty (strfind (msg, 'event_names is NULL but 1 name(s) are declared')));
+%! assert (isempty (left));

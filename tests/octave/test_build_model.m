@@ -246,6 +246,53 @@
 %!error id=sluice:build_model:nofile sluice.build_model (fullfile (tmp, 'missing.c'))
 
 %!test
+%! % the model checker is the object make builds from tools/model_check.c:
+%! % it is newer than that source, and a copy of sluice.build_model in a
+%! % folder with an sdk (the layout of an installed package) refuses to
+%! % build without it, or with one older than the headers beside it
+%! root = fileparts (fileparts (fileparts (which ('sluice.build_model'))));
+%! obj = fullfile (root, 'build', 'model_check.o');
+%! s_obj = stat (obj);
+%! s_src = stat (fullfile (root, 'tools', 'model_check.c'));
+%! assert (s_obj.mtime >= s_src.mtime);
+%! top = fullfile (tmp, 'pkgcopy');
+%! sdk = fullfile (top, 'sdk');
+%! mkdir (fullfile (top, '+sluice'));
+%! mkdir (fullfile (sdk, 'build'));
+%! copyfile (which ('sluice.build_model'), fullfile (top, '+sluice'));
+%! copyfile (fullfile (root, 'include'), fullfile (sdk, 'include'));
+%! copyfile (fullfile (root, 'mex'), fullfile (sdk, 'mex'));
+%! copyfile (fullfile (root, 'build', 'libsluice.a'), fullfile (sdk, 'build'));
+%! saved = path ();
+%! addpath (top);
+%! msg = cell (1, 3);
+%! for k = 1:3
+%!   if (k == 2)
+%!     % a checker older than the headers
+%!     copyfile (obj, fullfile (sdk, 'build'));
+%!     system (sprintf ('touch -d 2001-01-01 ''%s''', fullfile (sdk, 'build', 'model_check.o')));
+%!   elseif (k == 3)
+%!     copyfile (obj, fullfile (sdk, 'build'));
+%!   end
+%!   try
+%!     sluice.build_model (fullfile (tmp, 'bad_definition.c'), 'outdir', fullfile (top, 'out'));
+%!     msg{k} = 'no error';
+%!   catch err
+%!     msg{k} = [err.identifier ' ' err.message];
+%!   end
+%! end
+%! where = which ('sluice.build_model');
+%! path (saved);
+%! assert (where, fullfile (top, '+sluice', 'build_model.m'));
+%! head = ['sluice:build_model:notbuilt the model checker ' fullfile(sdk, 'build', 'model_check.o')];
+%! assert (strncmp (msg{1}, [head ' is missing'], numel (head) + 11));
+%! assert (strncmp (msg{2}, [head ' is older than ' fullfile(sdk, 'include', 'sluice')], ...
+%!                  numel (head) + 15 + numel (fullfile (sdk, 'include', 'sluice'))));
+%! % with the checker in place it runs: the definition's problems
+%! assert (strncmp (msg{3}, 'sluice:build_model:baddef ', 26));
+%! assert (~isempty (strfind (msg{3}, 'leapfrog')));
+
+%!test
 %! % remove the temporary folder
 %! clear -f cascade_run cascade_info cascade_fast_run cascade_fast_info two_tanks_run two_tanks_info junk_run junk_info
 %! rmpath (fullfile (tmp, 'elsewhere'));

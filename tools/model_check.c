@@ -1,0 +1,188 @@
+/* model_check.c - the check of a user's model definition. make compiles
+ * it to $(BUILD)/model_check.o (the package: sdk/build/model_check.o);
+ * sluice.build_model links that object with the user's compiled file and
+ * the library, and runs the program before the gateways are built, so a
+ * definition that cannot be read, or functions that crash, never reach
+ * Octave. It reads the definition sluice_user_model() returns, prints
+ * one "problem: ..." line for each thing wrong with it, then calls each
+ * of its functions once at the default parameters (a line "calling ..."
+ * before each call says which one ran last if the program dies).
+ * Exit 0: usable; 2: the problems printed; anything else: the model
+ * crashed. */
+#include <math.h>
+#include <stdio.h>
+#include <stdlib.h>
+#include <string.h>
+#include "sluice/model.h"
+
+static int problems = 0;
+static const double guard = -7.25e300;
+
+static void check_names(const char *const *list, size_t count, const char *what)
+{
+    size_t k;
+    if (count == 0)
+        return;
+    if (list == NULL) {
+        printf("problem: %s is NULL but %lu name(s) are declared\n", what, (unsigned long)count);
+        problems++;
+        return;
+    }
+    for (k = 0; k < count; k++)
+        if (list[k] == NULL || list[k][0] == 0) {
+            printf("problem: %s: name %lu is missing\n", what, (unsigned long)(k + 1));
+            problems++;
+        }
+}
+
+static double *buffer(size_t count, const double *init)
+{
+    double *v = calloc(count + 8, sizeof(double));
+    size_t k;
+    if (v == NULL) {
+        printf("problem: out of memory\n");
+        exit(2);
+    }
+    for (k = 0; k < count; k++)
+        v[k] = init != NULL ? init[k] : 0.0;
+    for (k = count; k < count + 8; k++)
+        v[k] = guard;
+    return v;
+}
+
+static void stage(const char *what)
+{
+    printf("calling %s\n", what);
+    fflush(stdout);
+}
+
+static void guarded(const double *v, size_t count, const char *who, const char *what)
+{
+    size_t k;
+    for (k = count; k < count + 8; k++)
+        if (v[k] != guard) {
+            printf("problem: %s writes past the %lu entries of %s\n", who, (unsigned long)count, what);
+            problems++;
+            return;
+        }
+}
+
+int main(void)
+{
+    const sl_model_def *d = sluice_user_model();
+    const char *in;
+    size_t n, k, np, nq, ne;
+    double *x, *dx, *p, *u, *ev;
+    if (d == NULL) {
+        printf("problem: sluice_user_model() returned NULL\n");
+        return 2;
+    }
+    if (d->name == NULL || d->name[0] == 0) {
+        printf("problem: the definition has no name\n");
+        problems++;
+    }
+    np = d->n_param;
+    nq = d->n_forcing;
+    ne = d->n_event;
+    if (d->n_state > 1000000 || d->n_min > 1000000 || np > 100000 || nq > 100000 || ne > 100000) {
+        printf("problem: implausible sizes (n_state %lu, n_min %lu, n_param %lu, n_forcing %lu, n_event %lu)\n",
+               (unsigned long)d->n_state, (unsigned long)d->n_min, (unsigned long)np,
+               (unsigned long)nq, (unsigned long)ne);
+        return 2;
+    }
+    n = d->n_state > 0 ? d->n_state : (d->n_min > 1 ? d->n_min : 1);
+    if (d->n_state > 0 && d->n_min > d->n_state) {
+        printf("problem: n_min (%lu) exceeds n_state (%lu)\n", (unsigned long)d->n_min, (unsigned long)d->n_state);
+        problems++;
+    }
+    if (d->state_names != NULL)
+        check_names(d->state_names, d->n_state, "state_names");
+    check_names(d->param_names, np, "param_names");
+    check_names(d->forcing_names, nq, "forcing_names");
+    check_names(d->event_names, ne, "event_names");
+    if (d->rhs == NULL && d->map == NULL && d->map_block == NULL) {
+        printf("problem: neither a right-hand side (rhs) nor a step map (map) is given\n");
+        problems++;
+    }
+    if (ne > 0 && d->jump == NULL) {
+        printf("problem: n_event is %lu but no event map (jump) is given\n", (unsigned long)ne);
+        problems++;
+    }
+    if (!(d->dt > 0) || !isfinite(d->dt)) {
+        printf("problem: the time step dt must be finite and > 0, got %g\n", d->dt);
+        problems++;
+    }
+    in = d->integrator;
+    if (in != NULL && in[0] != 0) {
+        if (strcmp(in, "euler") && strcmp(in, "rk4") && strcmp(in, "dopri5") && strcmp(in, "discrete")) {
+            printf("problem: unknown integrator \"%s\" (euler, rk4, dopri5 or discrete)\n", in);
+            problems++;
+        } else if (strcmp(in, "discrete") == 0 && d->map == NULL && d->map_block == NULL) {
+            printf("problem: the integrator \"discrete\" needs a step map (map)\n");
+            problems++;
+        } else if (strcmp(in, "discrete") != 0 && d->rhs == NULL) {
+            printf("problem: the integrator \"%s\" needs a right-hand side (rhs)\n", in);
+            problems++;
+        }
+    }
+    if (d->p_lower != NULL && d->p_upper != NULL)
+        for (k = 0; k < np; k++)
+            if (!(d->p_lower[k] <= d->p_upper[k])) {
+                printf("problem: parameter %lu: lower bound %g is not <= upper bound %g\n",
+                       (unsigned long)(k + 1), d->p_lower[k], d->p_upper[k]);
+                problems++;
+            }
+    if (problems)
+        return 2;
+
+    /* one call of each function at the defaults, zero forcing and events */
+    x = buffer(n, d->n_state > 0 ? d->x0 : NULL);
+    dx = buffer(n, NULL);
+    p = buffer(np, NULL);
+    u = buffer(nq, NULL);
+    ev = buffer(ne, NULL);
+    for (k = 0; k < np; k++) {
+        double lo = d->p_lower != NULL ? d->p_lower[k] : -HUGE_VAL;
+        double hi = d->p_upper != NULL ? d->p_upper[k] : HUGE_VAL;
+        if (d->p_default != NULL && isfinite(d->p_default[k]))
+            p[k] = d->p_default[k];
+        else if (isfinite(lo) && isfinite(hi))
+            p[k] = 0.5 * (lo + hi);
+        else if (isfinite(lo))
+            p[k] = lo + 1.0;
+        else if (isfinite(hi))
+            p[k] = hi - 1.0;
+        else
+            p[k] = 1.0;
+    }
+    if (d->rhs != NULL) {
+        stage("the right-hand side (rhs)");
+        d->rhs(d, n, 0.0, x, p, u, dx);
+        guarded(dx, n, "the right-hand side (rhs)", "dxdt");
+    }
+    if (d->map != NULL) {
+        stage("the step map (map)");
+        d->map(d, n, 0.0, d->dt, x, p, u);
+        guarded(x, n, "the step map (map)", "x");
+    }
+    if (d->map_block != NULL) {
+        size_t count = 3, w = d->block_work != NULL ? d->block_work(n, count) : 0;
+        double *X = buffer(n * count, NULL), *P = buffer(np * count, NULL);
+        double *U = buffer(nq * count, NULL), *W = buffer(w, NULL);
+        for (k = 0; k < np * count; k++)
+            P[k] = p[k % np];
+        for (k = 0; k < n * count; k++)
+            X[k] = x[k % n];
+        stage("the block step map (map_block)");
+        d->map_block(d, n, count, 0.0, d->dt, X, P, U, W);
+        guarded(X, n * count, "the block step map (map_block)", "X");
+        guarded(W, w, "the block step map (map_block)", "its work space (block_work)");
+    }
+    if (d->jump != NULL && ne > 0) {
+        stage("the event map (jump)");
+        d->jump(d, n, 0.0, x, p, ev);
+        guarded(x, n, "the event map (jump)", "x");
+    }
+    printf("ok\n");
+    return problems ? 2 : 0;
+}
