@@ -103,3 +103,21 @@
 %!error id=sluice:report:badsweep sluice.report (struct ('a', [1; 2], 'seed', [1; 2], 'v', {{1; 2}}), 'outdir', tempname ())
 %!error id=sluice:report:badsweep sluice.report (struct ('a', [1; 2], 'seed', {{1; 2}}, 'v', [1; 2]), 'outdir', tempname ())
 %!error id=sluice:report:badsweep sluice.report (struct ('a', @sin, 'seed', 1, 'v', 1), 'outdir', tempname ())
+
+%!test
+%! % the opening check of a filter result (sluice.kernel.result_fields):
+%! % not a scalar struct, or a field missing, named with where it was found
+%! msgs = cell (1, 3);
+%! calls = {@() sluice.smooth ([res, res]), @() sluice.smooth (rmfield (res, 'ess')), ...
+%!          @() sluice.save_run (setfield (tw, 'filter', rmfield (tw.filter, 'times')), [tempname() '.mat'])};
+%! for k = 1:3
+%!   try
+%!     calls{k} ();
+%!     msgs{k} = 'no error';
+%!   catch e
+%!     msgs{k} = [e.identifier ' | ' e.message];
+%!   end
+%! end
+%! assert (msgs{1}, 'sluice:smooth:badresult | argument 1 (res): expected a result of sluice.filter, got 1x2 struct');
+%! assert (msgs{2}, 'sluice:smooth:badresult | argument 1 (res): the field ''ess'' of a filter result is missing');
+%! assert (msgs{3}, 'sluice:save_run:badresult | argument 1 (res.filter): the field ''times'' of a filter result is missing');

@@ -252,3 +252,13 @@
 %!error id=sluice:report:badprior sluice.report (r0, 'outdir', tempname (), 'prior', struct ('name', 'a'))
 %!error id=sluice:report:badoption sluice.report (r0, 'outdir', tempname (), 'variables', {'b'})
 %!error id=sluice:report:badoutdir sluice.report (r0, 'outdir', 7)
+
+%!test
+%! % the opening check of a sluice.pmmh result (sluice.kernel.result_fields)
+%! try
+%!   sluice.report (rmfield (r0, 'thin'), 'outdir', tempname ());
+%!   msg = 'no error';
+%! catch e
+%!   msg = [e.identifier ' | ' e.message];
+%! end
+%! assert (msg, 'sluice:report:badchains | argument 1 (res): the field ''thin'' of a sluice.pmmh result is missing');

@@ -8,23 +8,10 @@ function [n, d, C] = check_chains (res, pos, fn)
   % converged, max_rhat, min_ess, burnin, thin. The other fields a
   % reader may use are checked when present. Returns the kept iterations
   % per chain n, the parameters d and the chains C.
-  id = ['sluice:' fn ':badchains'];
-  if (ischar (pos))
-    where = pos;
-  else
-    where = sprintf ('argument %d (res)', pos);
-  end
-  if (~isstruct (res) || ~isscalar (res))
-    error (id, '%s: expected a result of sluice.pmmh, got %s', where, ...
-           sluice.kernel.describe (res));
-  end
   need = {'samples', 'names', 'acceptance', 'summary', 'converged', 'max_rhat', ...
           'min_ess', 'burnin', 'thin'};
-  for k = 1:numel (need)
-    if (~isfield (res, need{k}))
-      error (id, '%s: the field ''%s'' of a sluice.pmmh result is missing', where, need{k});
-    end
-  end
+  [id, where] = sluice.kernel.result_fields (res, pos, fn, 'badchains', 'sluice.pmmh', ...
+                                             'a sluice.pmmh result', need);
 
   X = res.samples;
   if (~(isa (X, 'double') && isreal (X) && ~issparse (X) && ndims (X) <= 3 && ~isempty (X)))

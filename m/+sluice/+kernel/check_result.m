@@ -11,22 +11,9 @@ function check_result (res, pos, fn, need)
   if (nargin < 4)
     need = {};
   end
-  id = ['sluice:' fn ':badresult'];
-  if (ischar (pos))
-    where = pos;
-  else
-    where = sprintf ('argument %d (res)', pos);
-  end
-  if (~isstruct (res) || ~isscalar (res))
-    error (id, '%s: expected a result of sluice.filter, got %s', where, ...
-           sluice.kernel.describe (res));
-  end
   need = [{'times', 'state_names', 'states', 'quantile_levels', 'ess', 'resampled'}, need];
-  for k = 1:numel (need)
-    if (~isfield (res, need{k}))
-      error (id, '%s: the field ''%s'' of a filter result is missing', where, need{k});
-    end
-  end
+  [id, where] = sluice.kernel.result_fields (res, pos, fn, 'badresult', 'sluice.filter', ...
+                                             'a filter result', need);
   t = res.times;
   if (~(is_real (t) && isrow (t) && all (isfinite (t))))
     error (id, '%s: field ''times'' must be a non-empty finite real double row (1 x T), got %s', ...
