@@ -231,13 +231,7 @@ function files = report (res, varargin)
     if (~show(k) || (k > n && ~moving(k - n)))
       continue;   % not asked for, internal, or a parameter held fixed
     end
-    if (k <= n)
-      M = rf.states.mean(k, :);
-      Q = reshape (rf.states.quantiles(k, :, :), numel (lv), []);
-    else
-      M = rf.params.mean(k - n, :);
-      Q = reshape (rf.params.quantiles(k - n, :, :), numel (lv), []);
-    end
+    [M, Q] = summary_of (rf, k, n, numel (names), lv);
     S = [];
     if (~isempty (sm))
       S = smoothed_row (sm, k, n, lv);
@@ -256,8 +250,7 @@ function files = report (res, varargin)
   % the derived quantities of the filter's operators: by default those
   % observed, drawn on their own axis with their observations
   for k = find (dshow(:)')
-    M = rf.derived.mean(k, :);
-    Q = reshape (rf.derived.quantiles(k, :, :), numel (lv), []);
+    [M, Q] = summary_of (rf, numel (names) + k, n, numel (names), lv);
     [to, yo] = obs_of (obs, dnames{k});
     base = unique_name (['fan_', safe_name(dnames{k})], used);
     used{end + 1} = base;
@@ -1449,13 +1442,7 @@ end
 
 function D = fan_data (rf, k, n, lv, sm, truth, obs, name, xa)
   % what fan_axes draws for row k (a state, or parameter k - n)
-  if (k <= n)
-    M = rf.states.mean(k, :);
-    Q = reshape (rf.states.quantiles(k, :, :), numel (lv), []);
-  else
-    M = rf.params.mean(k - n, :);
-    Q = reshape (rf.params.quantiles(k - n, :, :), numel (lv), []);
-  end
+  [M, Q] = summary_of (rf, k, n, n + numel (rf.param_names), lv);
   S = [];
   if (~isempty (sm))
     S = smoothed_row (sm, k, n, lv);
@@ -1821,16 +1808,11 @@ end
 function [m, lo, hi] = final_of (rf, k, n, idx)
   lo = NaN;
   hi = NaN;
-  if (k <= n)
-    m = rf.states.mean(k, end);
-    Q = rf.states.quantiles(k, :, end);
-  else
-    m = rf.params.mean(k - n, end);
-    Q = rf.params.quantiles(k - n, :, end);
-  end
+  [M, Q] = summary_of (rf, k, n, n + numel (rf.param_names), rf.quantile_levels);
+  m = M(end);
   if (~isempty (idx.q05) && ~isempty (idx.q95))
-    lo = Q(idx.q05);
-    hi = Q(idx.q95);
+    lo = Q(idx.q05, end);
+    hi = Q(idx.q95, end);
   end
 end
 
