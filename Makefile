@@ -10,6 +10,9 @@
 #   make check-pkg  install that package in a temporary place, test it there
 #   make lint       m/ in the Octave/MATLAB subset, mex/ free of platform headers,
 #                   the core (src/, include/) free of allocator calls
+#   make fuzz       libFuzzer harnesses (tests/fuzz/) of the CSV readers and the
+#                   entry points' argument checks, FUZZ_RUNS executions each
+#                   (clang from tools/debian-packages-dev); any crash fails
 #
 # Every target that compiles or runs Octave first runs the dependency step
 # (tools/deps.sh with tools/debian-packages); nothing here runs mkoctfile or
@@ -48,7 +51,7 @@ CTESTSRC  := $(sort $(wildcard tests/c/test_*.c))
 CTESTS    := $(patsubst tests/c/%.c,$(BUILD)/tests/%,$(CTESTSRC))
 
 .PHONY: all deps lib mex checker links ctests check check-c check-octave check-asan check-valgrind \
-        demo bench pkg check-pkg lint clean
+        fuzz fuzz-build demo bench pkg check-pkg lint clean
 
 all: mex checker links m/doc-cache
 
@@ -113,6 +116,41 @@ VALGRIND := valgrind -q --error-exitcode=99 --leak-check=full \
 check-valgrind: ctests | $(DEVDEPS)
 	@SL_CHECK_LIGHT=1 SL_TEST_RUNNER="$(VALGRIND)" bash tests/run_all.sh $(BUILD) none
 
+# Fuzzing (libFuzzer, clang): the core built again in build-fuzz/ with the
+# fuzzer's coverage and AddressSanitizer + UBSan (without OpenMP, so no
+# OpenMP runtime is needed), then each harness run FUZZ_RUNS times from its
+# seed corpus tests/fuzz/corpus/<name>/ on one worker. New inputs go to
+# build-fuzz/corpus/<name>/ (the tree's corpus is only read); a crash is
+# written to build-fuzz/crash-* and fails the target. -Wdouble-promotion is
+# left out: with clang, glibc's NAN is a float constant.
+FUZZ_CC    ?= clang
+FUZZ_RUNS  ?= 200000
+FUZZ_FLAGS ?= -max_len=4096 -timeout=20 -print_final_stats=1
+FUZZ_NAMES := fuzz_obsfile fuzz_checks
+FUZZ_SAN   := -fsanitize=address,undefined -fno-sanitize-recover=undefined \
+              -fno-omit-frame-pointer
+fuzz: | $(DEVDEPS)
+	$(MAKE) BUILD=build-fuzz CC=$(FUZZ_CC) \
+	  SL_CFLAGS='$$(SL_CSTD) -O1 -g -fno-math-errno -MMD -MP $$(filter-out -Wdouble-promotion,$$(SL_WARN)) -I$$(SL_INC) $(FUZZ_SAN) -fsanitize=fuzzer-no-link' \
+	  fuzz-build
+	@set -e; for h in $(FUZZ_NAMES); do \
+	  mkdir -p build-fuzz/corpus/$$h; \
+	  dict=; [ -f tests/fuzz/$$h.dict ] && dict=-dict=tests/fuzz/$$h.dict; \
+	  echo "fuzz: $$h, $(FUZZ_RUNS) runs"; \
+	  build-fuzz/fuzz/$$h $(FUZZ_FLAGS) -runs=$(FUZZ_RUNS) $$dict \
+	    -artifact_prefix=build-fuzz/ build-fuzz/corpus/$$h tests/fuzz/corpus/$$h \
+	    > build-fuzz/$$h.log 2>&1 || { tail -n 60 build-fuzz/$$h.log; \
+	    echo "fuzz: $$h FAILED (log: build-fuzz/$$h.log)"; exit 1; }; \
+	  grep -E '^(Done|stat::number_of_executed_units|stat::average_exec_per_sec)|(DONE|INITED) +cov:' \
+	    build-fuzz/$$h.log | tail -n 4; \
+	done
+
+# (inside the make that fuzz starts, with BUILD=build-fuzz)
+fuzz-build: $(addprefix $(BUILD)/fuzz/,$(FUZZ_NAMES))
+$(BUILD)/fuzz/%: tests/fuzz/%.c $(SL_LIB) | $(DEPS)
+	@mkdir -p $(dir $@)
+	$(CC) $(SL_CFLAGS) -fsanitize=fuzzer $< $(SL_LIB) -o $@ $(SL_LIBS)
+
 demo: all
 	$(OCTRUN) --eval "warning('off', 'Octave:shadowed-function'); addpath('$(CURDIR)/m'); addpath('$(CURDIR)/demos'); demo_flood_town; demo_river_town"
 
@@ -145,4 +183,4 @@ check-pkg: $(PKGFILE) | $(DEPS)
 	@bash tests/check_pkg.sh $(PKGFILE) "$(OCTRUN)"
 
 clean:
-	rm -rf build build-asan out m/+sluice/+kernel/*.mex m/sluice.* m/doc-cache sluice-*.tar.gz
+	rm -rf build build-asan build-fuzz out m/+sluice/+kernel/*.mex m/sluice.* m/doc-cache sluice-*.tar.gz

@@ -50,7 +50,12 @@ double sl_distance(int geometry, double period_or_radius, const double *a,
     case SL_GEOM_LINE:
         return fabs(a[0] - b[0]);
     case SL_GEOM_RING: {
-        double L = period_or_radius, d = fmod(fabs(a[0] - b[0]), L);
+        /* positions far apart whose difference overflows: reduced onto
+         * the ring first (fmod is exact) */
+        double L = period_or_radius, diff = a[0] - b[0], d;
+        if (!isfinite(diff))
+            diff = fmod(a[0], L) - fmod(b[0], L);
+        d = fmod(fabs(diff), L);
         return d > 0.5 * L ? L - d : d;
     }
     case SL_GEOM_PLANE:

@@ -245,6 +245,11 @@ static double draw_truncnormal(const sl_prior_entry *e, double u)
         /* below the mean: the mirror image of the upper-tail case (with
          * 1 - u, so that x still increases with u) */
         x = hi - sd * upper_offset(-beta, -alpha, 1.0 - u);
+    } else if (log(hi - lo) - log(sd) + log(fmax(1.0, fmax(-alpha, beta))) < log(1e-6)) {
+        /* straddling the mean and so narrow (sd far above hi - lo) that the
+         * density is flat to 1e-12 over it, where Phi(alpha) and Phi(beta)
+         * would both round to 1/2 and every draw to the mean: uniform */
+        x = lo + u * (hi - lo);
     } else {
         double pa = gsl_cdf_ugaussian_P(alpha), pb = gsl_cdf_ugaussian_P(beta);
         x = mu + sd * gsl_cdf_ugaussian_Pinv((1.0 - u) * pa + u * pb);
@@ -407,9 +412,17 @@ static double logpdf_lognormal(const sl_prior_entry *e, double x)
 
 /* log(Phi(beta) - Phi(alpha)), alpha < beta, from the side where the
  * difference keeps its precision (upper-tail probabilities above the
- * mean, lower-tail ones below it) */
-static double log_normal_mass(double alpha, double beta)
+ * mean, lower-tail ones below it); -Inf when it underflows. lw is
+ * log(beta - alpha), given apart since beta - alpha itself may round to
+ * 0: when the interval is so narrow that the density hardly changes over
+ * it (width times max(1, |z|) below 1e-6) the midpoint rule, whose
+ * relative error is below 1e-13 there, where the difference of the tails
+ * would lose every digit. */
+static double log_normal_mass(double alpha, double beta, double lw)
 {
+    double zmax = fmax(1.0, fmax(fabs(alpha), fabs(beta)));
+    if (lw + log(zmax) < log(1e-6))
+        return lw + log_phi(0.5 * alpha + 0.5 * beta);
     if (alpha >= 0)
         return log(gsl_cdf_ugaussian_Q(alpha) - gsl_cdf_ugaussian_Q(beta));
     if (beta <= 0)
@@ -417,12 +430,51 @@ static double log_normal_mass(double alpha, double beta)
     return log1p(-gsl_cdf_ugaussian_P(alpha) - gsl_cdf_ugaussian_Q(beta));
 }
 
+/* The log-density of a truncated normal whose interval holds less than
+ * e^-700 of the normal's probability: far out in one tail (or narrower
+ * than e^-700 standard deviations). Measured from the bound nearer the
+ * mean, a >= 0 standard deviations out (the lower bound above the mean,
+ * the upper one below it, mirrored): with u = |x - bound| / sd and
+ * w = (hi - lo) / sd the density is exp(-u (a + u/2)) / (sd M),
+ * M = int_0^w exp(-a s - s^2/2) ds = R(a) - exp(-w (a + w/2)) R(a + w),
+ * R = 1 / the normal's hazard (the Mills ratio), so nothing of the size
+ * of a^2 is ever subtracted. */
+static double logpdf_truncnormal_tail(const sl_prior_entry *e, double x, double lw)
+{
+    const double ln2 = 0.69314718055994530942;
+    double mu = e->a, sd = e->b, lo = e->lo, hi = e->hi, a, u, w, lh, logM;
+    int upper = (lo - mu) / sd >= 0; /* the interval lies above the mean */
+    if (!upper && !((hi - mu) / sd <= 0))
+        return -log(hi - lo); /* straddling the mean: narrow, hence flat */
+    a = upper ? (lo - mu) / sd : (mu - hi) / sd;
+    u = upper ? (x - lo) / sd : (hi - x) / sd;
+    w = exp(lw);
+    if (lw + log(fmax(1.0, a + w)) < log(1e-6)) {
+        /* narrow: the midpoint rule, relative error below 1e-13 */
+        logM = lw - 0.5 * w * (a + 0.25 * w);
+    } else {
+        /* log R(a) = -log h(a); h(a) ~ a when a overflows */
+        lh = isfinite(a) ? log(gsl_sf_hazard(a))
+                         : log(upper ? 0.5 * lo - 0.5 * mu : 0.5 * mu - 0.5 * hi) + ln2 -
+                               log(sd);
+        logM = -lh;
+        if (isfinite(w) && isfinite(a))
+            logM += log1p(-exp(-w * (a + 0.5 * w)) * gsl_sf_hazard(a) /
+                          gsl_sf_hazard(a + w));
+    }
+    return (u > 0 ? -u * (a + 0.5 * u) : 0.0) - log(sd) - logM;
+}
+
 static double logpdf_truncnormal(const sl_prior_entry *e, double x)
 {
+    double lw, lm;
     if (!(x >= e->lo && x <= e->hi) || !isfinite(x))
         return -HUGE_VAL;
-    return log_phi((x - e->a) / e->b) - log(e->b) -
-           log_normal_mass((e->lo - e->a) / e->b, (e->hi - e->a) / e->b);
+    lw = log(e->hi - e->lo) - log(e->b);
+    lm = log_normal_mass((e->lo - e->a) / e->b, (e->hi - e->a) / e->b, lw);
+    if (!(lm > -700))
+        return logpdf_truncnormal_tail(e, x, lw);
+    return log_phi((x - e->a) / e->b) - log(e->b) - lm;
 }
 
 /* a point mass has no density: 0 at its value (it is never moved) */
