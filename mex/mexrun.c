@@ -115,7 +115,8 @@ static sl_status call_user(slm_handle_model *hm, double t, size_t count,
                  "the model function must return a real double %lux%lu matrix "
                  "(states x members), got %s at t = %g",
                  (unsigned long)n, (unsigned long)count, got, t);
-        snprintf(hm->identifier, sizeof hm->identifier, "sluice:filter:badmodeloutput");
+        hm->identifier[0] = '\0';  /* raised as sluice:<fn>:badmodeloutput */
+        hm->bad_output = 1;
         st = sl_fail(err, SL_EMODEL, "badmodeloutput", "%s", hm->message);
     } else {
         memcpy(out, slm_doubles(res[0]), n * count * sizeof(double));
@@ -195,13 +196,14 @@ void slm_handle_model_raise(const char *fn, const slm_handle_model *hm)
         slm_fail(fn, "interrupted", "%s", hm->message);
     if (hm->identifier[0] != '\0')
         mexErrMsgIdAndTxt(hm->identifier, "%s", hm->message);
-    slm_fail(fn, "modelfailed", "%s", hm->message);
+    slm_fail(fn, hm->bad_output ? "badmodeloutput" : "modelfailed", "%s", hm->message);
 }
 
-void slm_handle_obs_init(slm_handle_obs *ho, const mxArray *funs,
+void slm_handle_obs_init(slm_handle_obs *ho, const char *fn, const mxArray *funs,
                          const mxArray *rows, size_t n, size_t p, size_t n_fun)
 {
     memset(ho, 0, sizeof *ho);
+    ho->fn = fn;
     ho->funs = funs;
     ho->rows = rows;
     ho->n = n;
@@ -213,7 +215,7 @@ sl_status slm_handle_obs_fn(void *ctx, double t, size_t N, const double *X,
                             const double *P, double *Y, sl_error *err)
 {
     slm_handle_obs *ho = (slm_handle_obs *)ctx;
-    mxArray *in[5], *res[3] = {NULL, NULL, NULL};
+    mxArray *in[6], *res[3] = {NULL, NULL, NULL};
     sl_status st = SL_OK;
     int k, code;
     in[0] = (mxArray *)(uintptr_t)ho->funs;
@@ -224,8 +226,9 @@ sl_status slm_handle_obs_fn(void *ctx, double t, size_t N, const double *X,
     memcpy(mxGetDoubles(in[3]), X, ho->n * N * sizeof(double));
     if (ho->p)
         memcpy(mxGetDoubles(in[4]), P, ho->p * N * sizeof(double));
-    code = call_trapped(3, res, 5, in, "sluice.kernel.observe", 0);
-    for (k = 2; k < 5; k++)
+    in[5] = mxCreateString(ho->fn);
+    code = call_trapped(3, res, 6, in, "sluice.kernel.observe", 0);
+    for (k = 2; k < 6; k++)
         mxDestroyArray(in[k]);
     ho->failed = 1;
     if (code == CALL_INTERRUPTED) {

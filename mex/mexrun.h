@@ -19,6 +19,7 @@ typedef struct {
     char message[900];
     char identifier[128];
     int interrupted;
+    int bad_output;      /* the result had the wrong size or class */
 } slm_handle_model;
 
 /* Fill `model` to call `fun` (which must outlive the run): a step map
@@ -32,7 +33,8 @@ void slm_handle_model_init(sl_model *model, slm_handle_model *hm,
                            const sl_tolerance *tol);
 
 /* Raise the failure the handle model recorded (the user's own identifier
- * and message, sluice:<fn>:modelfailed, or sluice:<fn>:interrupted).
+ * and message, sluice:<fn>:badmodeloutput, sluice:<fn>:modelfailed, or
+ * sluice:<fn>:interrupted).
  * Never returns. */
 void slm_handle_model_raise(const char *fn, const slm_handle_model *hm)
 #if defined(__GNUC__)
@@ -45,6 +47,7 @@ void slm_handle_model_raise(const char *fn, const slm_handle_model *hm)
  * member (stacked in order into n_fun rows), called through
  * sluice.kernel.observe, which traps the user's error and checks sizes. */
 typedef struct {
+    const char *fn;    /* the caller, passed to sluice.kernel.observe */
     const mxArray *funs, *rows;
     size_t n, p, n_fun;
     char message[900];
@@ -53,7 +56,7 @@ typedef struct {
     int interrupted, failed;
 } slm_handle_obs;
 
-void slm_handle_obs_init(slm_handle_obs *ho, const mxArray *funs,
+void slm_handle_obs_init(slm_handle_obs *ho, const char *fn, const mxArray *funs,
                          const mxArray *rows, size_t n, size_t p, size_t n_fun);
 
 /* The sl_obs_fn of the cycle; ctx is the slm_handle_obs. */

@@ -45,6 +45,27 @@ void slm_raise(const char *fn, const sl_error *err)
              err->message[0] ? err->message : sl_status_name(err->status));
 }
 
+const char *slm_caller(const char *gateway, const mxArray *settings)
+{
+    const mxArray *f;
+    char *name;
+    size_t k, len;
+    if (!mxIsStruct(settings) || mxGetNumberOfElements(settings) != 1)
+        slm_fail(gateway, "badclass", "argument 1 (settings): expected a scalar struct");
+    f = slm_field(gateway, settings, "caller", 1);
+    name = slm_string(gateway, f, 1, "caller");
+    len = strlen(name);
+    for (k = 0; k < len; k++)
+        if (!((name[k] >= 'a' && name[k] <= 'z') || (name[k] >= '0' && name[k] <= '9') ||
+              name[k] == '_'))
+            break;
+    if (len == 0 || len > 40 || k < len || name[0] < 'a' || name[0] > 'z')
+        slm_fail(gateway, "badcaller",
+                 "argument 1 (settings): caller must name a function (lowercase letters, "
+                 "digits and _, at most 40), got '%.40s'", name);
+    return name;
+}
+
 void slm_nargs(const char *fn, int nrhs, int min_in, int max_in, int nlhs,
                int max_out)
 {

@@ -36,6 +36,14 @@ void slm_raise(const char *fn, const sl_error *err)
 #endif
     ;
 
+/* The name of the public function a settings struct was built for (its
+ * field 'caller', set by the one builder of a run's settings): the <fn>
+ * of every error the gateway raises, so that a workflow's errors carry
+ * its own identifier. `gateway` names the errors of a settings struct
+ * without a usable caller (sluice:<gateway>:badclass / badcaller): a
+ * lowercase name of letters, digits and '_', 1 to 40 characters. */
+const char *slm_caller(const char *gateway, const mxArray *settings);
+
 /* Check nrhs/nlhs; raises sluice:<fn>:nargin / nargout. */
 void slm_nargs(const char *fn, int nrhs, int min_in, int max_in, int nlhs,
                int max_out);

@@ -135,15 +135,9 @@ function res = drift_test (model, prior, obs, names, steps, varargin)
       step(idx) = all_steps(k, :);
       move = {'param_move', 'random_walk', 'param_step', step};
     end
-    try
-      ev = sluice.evidence (model, prior, obs, pass{:}, move{:}, 'seed', seed);
-    catch err
-      id = err.identifier;
-      if (strncmp (id, 'sluice:evidence:', 16))
-        id = ['sluice:drift_test:' id(17:end)];
-      end
-      sluice.kernel.raise_again (id, 'sluice:drift_test:failed', err.message);
-    end
+    % the evidence's and the filter's errors come out as this function's
+    ev = sluice.kernel.evidence_run (model, prior, obs, [pass, move, {'seed', seed}], ...
+                                     'drift_test');
     runs(k) = ev;
     lz(k) = ev.log_evidence;
     se(k) = ev.se;

@@ -31,24 +31,7 @@ function [X, times] = simulate (model, x0, params, times, forcing, varargin)
   end
   opts = struct ('events', [], 'seed', 1);
   opts = sluice.kernel.name_value (opts, varargin, 'simulate');
-  % before times is checked (a range costs nothing until it is expanded):
-  % the run keeps n x T states three times over (the run's history, its
-  % copy and the result) and the times four times (checks and copies)
-  sluice.kernel.ensure_memory (8 * numel (times) * (3 * max (1, numel (x0)) + 4), 'simulate', ...
-                               sprintf ('a run over %d output times', numel (times)));
-  if (~isa (times, 'double') || ~isreal (times) || isempty (times) || ~isvector (times) || ...
-      any (~isfinite (times)) || any (diff (times) <= 0))
-    error ('sluice:simulate:badtimes', 'times must be a finite, increasing real vector');
-  end
-  times = times(:)';
-  [x0, params] = sluice.kernel.check_state (model, x0, params, 1, 'simulate');
-  if (numel (times) == 1)
-    X = x0;
-    return;
-  end
-  X = sluice.kernel.run_states (model, x0, params, times(1), times(2:end), forcing, ...
-                                opts, 'simulate');
-  X = [x0, reshape(X, numel (x0), [])];
+  [X, times] = sluice.kernel.simulate_run (model, x0, params, times, forcing, opts, 'simulate');
 end
 
 %!test

@@ -168,14 +168,12 @@ function res = twin (model, truth, network, varargin)
   tobs = cell2mat (cellfun (@(t) t(:), {net.times}', 'UniformOutput', false));
   tall = unique ([times(:); tobs(:)])';
   try
-    Xall = sluice.simulate (model, x0, params, tall, forcing, 'events', events, ...
-                            'seed', seed_truth);
+    % run as this function's step: its errors are sluice:twin:<reason>
+    Xall = sluice.kernel.simulate_run (model, x0, params, tall, forcing, ...
+                                       struct ('events', events, 'seed', seed_truth), 'twin');
   catch err
-    id = err.identifier;
-    if (strncmp (id, 'sluice:simulate:', 16))
-      id = ['sluice:twin:' id(17:end)];
-    end
-    sluice.kernel.raise_again (id, 'sluice:twin:failed', ['the truth run failed: ' err.message]);
+    sluice.kernel.raise_again (err.identifier, 'sluice:twin:failed', ...
+                               ['the truth run failed: ' err.message]);
   end
   truth_all = [Xall; repmat(params(:), 1, numel (tall))];
   if (~isempty (ops.names))

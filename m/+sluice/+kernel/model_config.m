@@ -1,8 +1,14 @@
 function c = model_config (model, forcing, forcing_noise, events, event_noise, fn, calendar)
-  % Internal: the model, forcing and event fields of the configuration
-  % that sluice.kernel.pf_run reads, checked, for the workflow function fn
-  % (its name is used in error identifiers: sluice:<fn>:<reason>). The
-  % caller has checked the spec on entry (sluice.kernel.check_model).
+  % Internal: the builder of a run's settings, the struct the gateway
+  % sluice.kernel.pf_run reads (DEVELOPERS.md, "A run's settings"): the
+  % caller's name, the model, forcing and event fields, checked, and every
+  % other engine setting at its default from sluice.kernel.run_defaults.
+  % The caller (sluice.filter, sluice.kernel.run_states) then sets the
+  % members, times, observations and initial ensemble, and the settings
+  % it chooses. fn is the public function the run is for: the gateway
+  % raises its errors as sluice:<fn>:<reason> (field caller), and so do
+  % the checks here. The caller has checked the spec on entry
+  % (sluice.kernel.check_model).
   % calendar (optional) is the run's time axis from
   % sluice.kernel.time_origin, or []: a forcing that carries another
   % origin or time unit is refused (sluice:<fn>:forcingorigin).
@@ -13,6 +19,7 @@ function c = model_config (model, forcing, forcing_noise, events, event_noise, f
   p = numel (model.params);
   q = numel (model.forcings);
   c = struct ();
+  c.caller = fn;
   c.n_state = n;
   c.n_param = p;
   c.n_forcing = q;
@@ -25,6 +32,49 @@ function c = model_config (model, forcing, forcing_noise, events, event_noise, f
   c.A = model.A; c.B = model.B; c.c = model.c; c.L = model.L; c.fun = model.fun;
   c = add_forcing (c, forcing, forcing_noise, q, model, fn, calendar);
   c = add_events (c, events, event_noise, model, fn);
+  c = add_defaults (c, n, p);
+end
+
+function c = add_defaults (c, n, p)
+  % the engine's settings at the defaults of sluice.filter's options, in
+  % the gateway's form; no other place sets them
+  d = sluice.kernel.run_defaults ();
+  c.state_noise = [];                      % state_noise 0: none
+  c.op_H = [];                             % operators []: none
+  c.op_funs = {};
+  c.op_rows = [];
+  c.derived_summary = double (d.derived_summary);
+  c.param_move = d.param_move;
+  c.param_step = repmat (d.param_step, p, 1);
+  c.lw_delta = d.liu_west_delta;
+  c.kernel_scale = d.kernel_scale;
+  c.move_diversity = d.move_diversity;
+  c.move_sweeps = d.move_sweeps;
+  c.move_scale = d.move_scale;
+  c.move_paths = d.move_paths;
+  c.inner = 0;                             % param_move smc2 sets inner_members
+  c.resample = d.resample;
+  c.threshold = d.resample_threshold;
+  c.temper_ess = d.temper_ess;
+  c.temper_max_steps = d.temper_max_steps;
+  c.threads = d.threads;
+  c.probs = d.quantiles;
+  c.history = double (d.history);
+  c.lag = d.lag;
+  c.progress = 2;                          % progress 'auto'
+  c.method = d.method;
+  c.wenkf = 0;                             % method 'wenkf' sets it
+  c.inflation = d.inflation;
+  c.rtpp = d.rtpp;
+  c.rtps = d.rtps;
+  c.adaptive_inflation = double (d.adaptive_inflation);
+  c.inflation_max = d.inflation_max;
+  c.geometry = '';                         % localization []: none
+  c.period_or_radius = 0;
+  c.state_pos = [];
+  c.obs_pos = [];
+  c.obs_c = [];
+  c.param_factor = 1;
 end
 
 function c = add_forcing (c, f, fn_noise, q, model, fn, calendar)

@@ -1,9 +1,12 @@
-function ops = operators (spec, model)
+function ops = operators (spec, model, fn)
   % Internal: check the derived observables of sluice.filter's option
   % 'operators' and lay them out for the compiled cycle: the linear rows
   % first (in the order given, H padded to n + p columns), then the rows
   % of the function handles; ops.names lists the derived names in that
-  % order. Errors are sluice:filter:badoperator.
+  % order. Errors are sluice:<fn>:badoperator (fn: default 'filter').
+  if (nargin < 3)
+    fn = 'filter';
+  end
   n = numel (model.states);
   p = numel (model.params);
   ops = struct ('names', {cell(0, 1)}, 'H', zeros (0, n + p), 'funs', {cell(1, 0)}, ...
@@ -15,7 +18,7 @@ function ops = operators (spec, model)
     spec = num2cell (spec);
   end
   if (~iscell (spec))
-    error ('sluice:filter:badoperator', ...
+    error (['sluice:' fn ':badoperator'], ...
            'operators must be a struct (or struct array, or cell of structs) with names and H or fun');
   end
   lin_names = cell (0, 1);
@@ -23,14 +26,14 @@ function ops = operators (spec, model)
   for i = 1:numel (spec)
     e = spec{i};
     if (~isstruct (e) || ~isscalar (e) || ~isfield (e, 'names'))
-      error ('sluice:filter:badoperator', 'operator %d: expected a struct with a field ''names''', i);
+      error (['sluice:' fn ':badoperator'], 'operator %d: expected a struct with a field ''names''', i);
     end
     nm = e.names;
     if (ischar (nm))
       nm = {nm};
     end
     if (~iscellstr (nm) || isempty (nm) || ~all (cellfun (@isvarname, nm)))
-      error ('sluice:filter:badoperator', ...
+      error (['sluice:' fn ':badoperator'], ...
              'operator %d: names must be a valid name or a cellstr of valid names', i);
     end
     nm = nm(:);
@@ -38,13 +41,13 @@ function ops = operators (spec, model)
     hasH = isfield (e, 'H') && ~isempty (e.H);
     hasF = isfield (e, 'fun') && ~isempty (e.fun);
     if (hasH == hasF)
-      error ('sluice:filter:badoperator', 'operator %d: give exactly one of H (a matrix) and fun (a function handle)', i);
+      error (['sluice:' fn ':badoperator'], 'operator %d: give exactly one of H (a matrix) and fun (a function handle)', i);
     end
     if (hasH)
       H = e.H;
       if (~isa (H, 'double') || ~isreal (H) || issparse (H) || ndims (H) ~= 2 || ...
           size (H, 1) ~= k || ~any (size (H, 2) == [n, n + p]) || any (~isfinite (H(:))))
-        error ('sluice:filter:badoperator', ...
+        error (['sluice:' fn ':badoperator'], ...
                'operator %d: H must be a finite real %dx%d (or %dx%d) double matrix, got %s', ...
                i, k, n, k, n + p, sluice.kernel.describe (H));
       end
@@ -55,7 +58,7 @@ function ops = operators (spec, model)
       lin_names = [lin_names; nm];
     else
       if (~isa (e.fun, 'function_handle'))
-        error ('sluice:filter:badoperator', 'operator %d: fun must be a function handle', i);
+        error (['sluice:' fn ':badoperator'], 'operator %d: fun must be a function handle', i);
       end
       ops.funs{end + 1} = e.fun;
       ops.rows(end + 1) = k;
@@ -67,7 +70,7 @@ function ops = operators (spec, model)
   [u, ~, j] = unique (all_names);
   if (numel (u) < numel (all_names))
     dup = u{find (accumarray (j(:), 1) > 1, 1)};
-    error ('sluice:filter:badoperator', ...
+    error (['sluice:' fn ':badoperator'], ...
            'the derived quantity ''%s'' is named twice or is a state or parameter of the model', dup);
   end
 end

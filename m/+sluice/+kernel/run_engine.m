@@ -1,32 +1,36 @@
 function r = run_engine (model, c)
-  % Internal: run the compiled cycle for a configuration c: the shared
-  % gateway sluice.kernel.pf_run, or for a user's compiled model the
-  % gateway that sluice.build_model made for it (model.engine).
+  % Internal: run the compiled cycle for the settings c (built by
+  % sluice.kernel.model_config): the shared gateway sluice.kernel.pf_run,
+  % or for a user's compiled model the gateway that sluice.build_model
+  % made for it (model.engine). The gateway raises its errors as
+  % sluice:<c.caller>:<reason> itself; here only Octave's prefix of the
+  % gateway's name comes off the message.
+  fn = c.caller;
   if (strcmp (model.kind, 'user'))
     if (~isfield (model, 'engine') || exist (model.engine, 'file') ~= 3)
-      error ('sluice:filter:badmodel', ...
+      error (['sluice:' fn ':badmodel'], ...
              'the compiled gateway of model ''%s'' is not on the path; run sluice.build_model again', ...
              model.name);
     end
-    fn = model.engine;
+    gateway = model.engine;
   else
-    fn = 'sluice.kernel.pf_run';
+    gateway = 'sluice.kernel.pf_run';
   end
   try
     if (sluice.kernel.compat ('is_octave'))
       % a Ctrl-C that escapes the gateway is still the run's error
-      r = sluice.kernel.interruptible ('-run', fn, c);
+      r = sluice.kernel.interruptible ('-run', gateway, c);
     else
-      r = feval (fn, c);
+      r = feval (gateway, c);
     end
   catch err
     % the gateway's name is an internal detail: drop Octave's prefix
     msg = regexprep (err.message, '^(pf_run|[A-Za-z]\w*_run): ', '');
     id = err.identifier;
     if (strcmp (id, 'sluice:kernel:interrupted'))
-      id = 'sluice:filter:interrupted';
+      id = ['sluice:' fn ':interrupted'];
       msg = 'the run was interrupted (Ctrl-C); no result is returned';
     end
-    sluice.kernel.raise_again (id, 'sluice:filter:failed', msg);
+    sluice.kernel.raise_again (id, ['sluice:' fn ':failed'], msg);
   end
 end

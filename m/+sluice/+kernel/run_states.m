@@ -1,8 +1,9 @@
 function X = run_states (model, X0, P0, t0, times, forcing, opts, fn)
   % Internal: run the ensemble (X0, P0) from t0 through the increasing
   % times with no observations and return the states at those times
-  % (n x N x numel(times)). Errors of the compiled run are raised again
-  % under sluice:<fn>:<reason>; a user's own identifiers are kept.
+  % (n x N x numel(times)). The settings name fn as the caller: the
+  % compiled run raises its errors as sluice:<fn>:<reason> (a user's own
+  % identifiers are kept; an error without one becomes sluice:<fn>:failed).
   try
     c = sluice.kernel.model_config (model, forcing, [], opts.events, [], fn);
     N = size (X0, 2);
@@ -12,32 +13,24 @@ function X = run_states (model, X0, P0, t0, times, forcing, opts, fn)
     c.times = times(:)';
     c.obs_first = zeros (1, T + 1);
     c.obs_var = []; c.obs_value = []; c.obs_sigma = []; c.obs_aux = []; c.obs_family = {};
-    c.state_noise = [];
     c.lower = model.lower(:);
     c.upper = model.upper(:);
+    % parameters kept, no resampling, the states only
     c.param_move = 'fixed';
     c.param_step = zeros (numel (model.params), 1);
-    c.lw_delta = 1;
-    c.resample = 'systematic';
     c.threshold = 0;
     c.seed = opts.seed;
-    c.threads = 0;
     if (isfield (opts, 'threads'))
       c.threads = opts.threads;
     end
     c.probs = [];
     c.history = 2;
-    c.method = 'pf';
-    c.progress = 2;
     c.X0 = X0;
     c.P0 = P0;
     r = sluice.kernel.run_engine (model, c);
   catch err
-    id = err.identifier;
-    if (strncmp (id, 'sluice:filter:', 14))
-      id = ['sluice:' fn ':' id(15:end)];
-    end
-    sluice.kernel.raise_again (id, ['sluice:' fn ':failed'], err.message);
+    % an error raised without an identifier: sluice:<fn>:failed
+    sluice.kernel.raise_again (err.identifier, ['sluice:' fn ':failed'], err.message);
   end
   X = r.history_X;
   if (any (r.nonfinite > 0))

@@ -1,0 +1,143 @@
+% A run's settings take one path (DEVELOPERS.md, "A run's settings"): the
+% builder sluice.kernel.model_config sets the caller's name and every
+% default, the gateway sluice.kernel.pf_run decodes them section by
+% section and raises its errors as sluice:<caller>:<reason> itself, so a
+% workflow's errors carry its own identifier without being rewritten.
+% The identifiers checked are the project's convention
+% sluice:<function>:<reason> (STYLE and DEVELOPERS.md).
+
+%!function c = settings (model, fn, N)
+%!  % the builder's settings completed with a run's data only: two cycle
+%!  % times, no observations, the model's defaults as parameters
+%!  c = sluice.kernel.model_config (model, [], [], [], [], fn);
+%!  p = numel (model.params);
+%!  c.members = N;
+%!  c.t0 = 0;
+%!  c.times = [1 2];
+%!  c.obs_first = [0 0 0];
+%!  c.obs_var = []; c.obs_value = []; c.obs_sigma = []; c.obs_aux = [];
+%!  c.obs_family = {};
+%!  c.lower = model.defaults(:);
+%!  c.upper = model.defaults(:);
+%!  c.seed = 7;
+%!  c.progress = 0;
+%!  c.X0 = repmat (model.x0(:), 1, N);
+%!  c.P0 = repmat (model.defaults(:), 1, N);
+%!endfunction
+
+%!function id = raised (f)
+%!  id = '';
+%!  try
+%!    f ();
+%!  catch err
+%!    id = err.identifier;
+%!  end
+%!endfunction
+
+%!shared good, bad, obs
+%! good = sluice.model (@(t, X, P, U, dt) 0.9 * X, 'states', {'level'}, 'x0', 1);
+%! % a step map that gives two rows for one state: the gateway refuses it
+%! bad = sluice.model (@(t, X, P, U, dt) [X; X], 'states', {'level'}, 'x0', 1);
+%! obs = struct ('time', [1; 2], 'variable', {{'level'; 'level'}}, ...
+%!               'value', [0.9; 0.8], 'sigma', [0.1; 0.1]);
+
+%!test
+%! % the builder's settings alone run: the gateway needs no default of its own
+%! r = sluice.kernel.pf_run (settings (good, 'twin', 4));
+%! assert (size (r.X), [1 4]);
+%! % x_t = 0.9 x_(t-1) from x0 = 1, no noise: 0.9^2 after two steps (exact)
+%! assert (r.X, repmat (0.81, 1, 4), 1e-12);
+
+%!test
+%! % every setting the gateway read with a default of its own before is
+%! % now the builder's alone: without it, the gateway refuses the settings
+%! % under the caller's identifier
+%! c = settings (good, 'sweep', 4);
+%! for f = {'rtol', 'atol', 'integrator', 'op_H', 'op_funs', 'derived_summary', ...
+%!          'inner', 'wenkf', 'kernel_scale', 'move_scale', 'move_diversity', ...
+%!          'move_sweeps', 'move_paths', 'temper_ess', 'temper_max_steps', 'lag'}
+%!   id = raised (@() sluice.kernel.pf_run (rmfield (c, f{1})));
+%!   assert ([f{1} ' ' id], [f{1} ' sluice:sweep:missingfield']);
+%! end
+
+%!test
+%! % the gateway's own errors carry the caller's name: the model's output
+%! % (mexrun.c), a setting's class (mexutil.c) and the core's check of
+%! % the times (sl_pf_check)
+%! assert (raised (@() sluice.kernel.pf_run (settings (bad, 'twin', 3))), ...
+%!         'sluice:twin:badmodeloutput');
+%! c = settings (good, 'evidence', 3);
+%! c.lag = 'none';
+%! assert (raised (@() sluice.kernel.pf_run (c)), 'sluice:evidence:badclass');
+%! c = settings (good, 'drift_test', 3);
+%! c.times = [-1 2];
+%! assert (raised (@() sluice.kernel.pf_run (c)), 'sluice:drift_test:badtimes');
+
+%!test
+%! % an operator's output of the wrong size, under the caller's name
+%! c = settings (good, 'smooth', 3);
+%! c.op_funs = {@(t, X, P) [X; X]};
+%! c.op_rows = 1;
+%! c.obs_first = [0 1 1];
+%! c.obs_var = 1; c.obs_value = 1; c.obs_sigma = 1; c.obs_aux = NaN;
+%! c.obs_family = {'gaussian'};
+%! assert (raised (@() sluice.kernel.pf_run (c)), 'sluice:smooth:badoperatoroutput');
+
+%!test
+%! % settings without a usable caller are refused under the gateway's name
+%! c = settings (good, 'twin', 3);
+%! assert (raised (@() sluice.kernel.pf_run (rmfield (c, 'caller'))), ...
+%!         'sluice:pf_run:missingfield');
+%! for v = {'', 'Twin', 'sluice:twin', '9lives', repmat('a', 1, 41), 3, {'twin'}}
+%!   c.caller = v{1};
+%!   id = raised (@() sluice.kernel.pf_run (c));
+%!   assert (any (strcmp (id, {'sluice:pf_run:badcaller', 'sluice:pf_run:badclass'})), id);
+%! end
+%! assert (raised (@() sluice.kernel.pf_run (5)), 'sluice:pf_run:badclass');
+
+%!test
+%! % the workflows: an error raised inside the gateway during the truth
+%! % run of sluice.twin is sluice:twin:*, with the twin's context added
+%! truth = struct ('times', 0:2, 'x0', 1);
+%! net = struct ('variable', 'level', 'every', 1, 'sigma', 0.3);
+%! try
+%!   sluice.twin (bad, truth, net, 'seed', 1, 'prior', sluice.prior ('level', 'normal', [1 0.1]), ...
+%!                'filter', {'members', 5});
+%!   error ('no error');
+%! catch err
+%!   assert (err.identifier, 'sluice:twin:badmodeloutput');
+%!   assert (strncmp (err.message, 'the truth run failed: ', 22), err.message);
+%! end
+
+%!test
+%! % ... and so in sluice.simulate, sluice.evidence and sluice.drift_test,
+%! % whose runs are built for them by name; sluice.filter keeps its own
+%! assert (raised (@() sluice.simulate (bad, 1, [], 0:2)), 'sluice:simulate:badmodeloutput');
+%! assert (raised (@() sluice.filter (bad, [], obs, 'members', 5, 't0', 0, 'progress', false)), ...
+%!         'sluice:filter:badmodeloutput');
+%! assert (raised (@() sluice.evidence (bad, [], obs, 'members', 5, 't0', 0, 'repeats', 2)), ...
+%!         'sluice:evidence:badmodeloutput');
+%! drift = sluice.model (@(t, X, P, U, dt) [X; P], 'states', {'level'}, 'params', {'k'}, ...
+%!                       'defaults', 0.5, 'x0', 1);
+%! pk = sluice.prior ('k', 'uniform', [0 1]);
+%! assert (raised (@() sluice.drift_test (drift, pk, obs, 'k', 0.1, 'members', 5, 't0', 0, ...
+%!                                       'repeats', 2)), ...
+%!         'sluice:drift_test:badmodeloutput');
+
+%!test
+%! % the filter's option errors reach a workflow that runs it under the
+%! % workflow's name too (they were renamed after the fact before)
+%! assert (raised (@() sluice.evidence (good, [], obs, 'members', 5, 'lag', -1)), ...
+%!         'sluice:evidence:badoption');
+%! assert (raised (@() sluice.filter (good, [], obs, 'members', 5, 'lag', -1)), ...
+%!         'sluice:filter:badoption');
+
+%!test
+%! % one table of defaults: sluice.filter's options start from it
+%! d = sluice.kernel.run_defaults ();
+%! r = sluice.filter (good, [], obs, 'members', 5, 't0', 0, 'progress', false, 'seed', 1);
+%! for f = {'param_step', 'kernel_scale', 'move_sweeps', 'temper_max_steps', ...
+%!          'liu_west_delta', 'resample', 'resample_threshold', 'inflation_max'}
+%!   assert (r.options.(f{1}), d.(f{1}));
+%! end
+%! assert (r.options.quantiles, d.quantiles);
