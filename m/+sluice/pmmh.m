@@ -90,7 +90,21 @@
 % proposal and adaptation state and the same random streams, and returns
 % @var{res} with the new rows appended: the same as one longer run, bit
 % for bit. Only @code{iterations}, @code{parallel}, @code{workers},
-% @code{progress}, @code{max_rhat} and @code{min_ess} may be given then.
+% @code{progress}, @code{max_rhat}, @code{min_ess} and the checkpoint
+% options may be given then.
+%
+% Checkpoints: with @code{checkpoint} (a file name) the run writes its
+% result so far to that file after every @code{checkpoint_every} [100]
+% iterations of every chain, burn-in included: to a temporary file in the
+% same directory, then renamed over it, so the file is always whole,
+% whenever the run is stopped or killed. The same call made again with the
+% same file resumes after the last block written and returns what a run
+% never stopped returns, bit for bit (only the times differ); a larger
+% @code{iterations} extends a finished run. A checkpoint written by a run
+% with another model, prior, observation table or options (other than
+% @code{iterations}, @code{parallel}, @code{workers}, @code{progress},
+% @code{max_rhat} and @code{min_ess}) is refused. Each block starts the
+% parallel workers again, so a block should hold many seconds of work.
 %
 % Options (a struct or name/value pairs):
 % @table @code
@@ -121,6 +135,9 @@
 % an earlier result to continue (above).
 % @item max_rhat, min_ess
 % the convergence limits (above): a number > 1, a number >= 0.
+% @item checkpoint, checkpoint_every
+% a file to keep the run's result in as it goes, and the iterations
+% between writes (above; default '' (none) and 100).
 % @item seed
 % whole number from 0 to 2^53 (default 1). Everything random follows from
 % it, so results are identical whatever the parallel setting and number of
@@ -200,12 +217,16 @@
 % the wrong shape or class, a result without the parameters, or no start
 % with a finite log-evidence), @code{sluice:pmmh:badcontinue} (not a
 % pmmh result, other parameters, an option that cannot change),
+% @code{sluice:pmmh:badcheckpoint} (a checkpoint that cannot be
+% written or read, holds no pmmh checkpoint, was written by a run with
+% other settings, or holds more iterations than asked for),
 % @code{sluice:pmmh:chainfailed} (an error without an identifier in a
 % chain), @code{sluice:pmmh:workerfailed} (a worker process of parallel
 % chains died -- killed, out of memory, a crash -- or the parallel package
 % failed: the message names the chain; the other workers are stopped),
 % @code{sluice:pmmh:interrupted} (Ctrl-C during a chain's filter run;
-% nothing is returned), and the warnings @code{sluice:pmmh:notconverged}
+% nothing is returned, but a checkpoint keeps the blocks done: the message
+% says how many), and the warnings @code{sluice:pmmh:notconverged}
 % and @code{sluice:pmmh:lowess}; other errors of the filter keep their
 % own identifiers.
 % @code{sluice.report (@var{res})} draws the chains: traces, densities,
@@ -232,10 +253,25 @@ function res = pmmh (model, prior, obs, varargin)
     S.resume = [];
     S.from = 1;
     S.to = opts.burnin + opts.iterations;
+    base = 0;
   else
     S = setup_resume (S, prev);
+    base = prev.burnin + prev.iterations;
   end
-  d = numel (S.free);
+  target = S.to;
+  ck = [];
+  every = Inf;
+  if (~isempty (opts.checkpoint))
+    % a checkpoint of this same run: resume from it (the random streams
+    % are keyed by iteration, so the result is that of one whole run)
+    [ck, saved] = checkpoint_open (opts, model, prior, obs, base, target);
+    every = opts.checkpoint_every;
+    if (~isempty (saved))
+      prev = saved;
+      S = setup_resume (S, prev);
+      S.to = target;
+    end
+  end
   C = opts.chains;
 
   use_par = false;
@@ -250,6 +286,36 @@ function res = pmmh (model, prior, obs, varargin)
     S.fopts.threads = 1;
     S.pmmh_job = true;
     S.warnings = warning ();
+  end
+
+  % the iterations in blocks of `every`, a checkpoint after each
+  while (true)
+    S.to = min (target, S.from - 1 + every);
+    out = run_chains (S, C, use_par, opts);
+    for c = 1:C
+      if (~isempty (out{c}) && ~out{c}.ok)
+        chain_failed (c, out{c}, ck, S.from - 1);
+      end
+    end
+    final = S.to == target;
+    res = assemble (S, opts, out, prev, use_par, toc (t_all), final);
+    if (~isempty (ck))
+      checkpoint_write (ck, res, final);
+    end
+    if (final)
+      break;
+    end
+    t_all = tic ();
+    prev = res;
+    S = setup_resume (S, prev);
+  end
+  res = convergence_check (res, opts);
+end
+
+% Run iterations S.from .. S.to of every chain, in worker processes or one
+% after another (stopping at the first that fails).
+function out = run_chains (S, C, use_par, opts)
+  if (use_par)
     nw = min (opts.workers, C);
     [out, broke] = sluice.kernel.compat ('parallel_map', nw, @(c) sluice.pmmh (S, c), num2cell (1:C));
     if (~isempty (broke))
@@ -264,16 +330,18 @@ function res = pmmh (model, prior, obs, varargin)
       end
     end
   end
-  for c = 1:C
-    if (~isempty (out{c}) && ~out{c}.ok)
-      chain_failed (c, out{c});
-    end
-  end
+end
 
+% The result of iterations 1 .. S.to: the chains' rows of this call (out)
+% after those of prev (an earlier result, or empty). The summary only when
+% final (a checkpoint between blocks needs none).
+function res = assemble (S, opts, out, prev, use_par, elapsed, final)
+  C = opts.chains;
+  d = numel (S.free);
   % the rows kept in this call (iteration i > burnin with mod (i - burnin,
   % thin) = 0, counted over all calls)
   nb = opts.burnin;
-  nk = floor ((S.to - nb) / opts.thin) - floor (max (S.from - 1 - nb, 0) / opts.thin);
+  nk = kept_rows (S, nb, opts.thin);
   X = zeros (nk, d, C);
   LL = zeros (nk, C);
   LP = zeros (nk, C);
@@ -302,7 +370,9 @@ function res = pmmh (model, prior, obs, varargin)
     calls = calls + o.calls;
     states(c) = o.state;
   end
-  ntot = S.to - nb;                         % iterations after the burn-in, all calls
+  % iterations after the burn-in, all calls (negative while a checkpointed
+  % run is still in its burn-in: the next block starts at S.to + 1)
+  ntot = S.to - nb;
   if (isempty (prev))
     res.samples = X;
     res.loglik = LL;
@@ -318,13 +388,13 @@ function res = pmmh (model, prior, obs, varargin)
     end
     calls = calls + prev.filter_calls;
   end
-  res.acceptance = [states.acc_post] / ntot;
+  res.acceptance = [states.acc_post] / max (ntot, 1);
   res.acceptance_burnin = nan (1, C);
   if (nb > 0)
-    res.acceptance_burnin = [states.acc_burn] / nb;
+    res.acceptance_burnin = [states.acc_burn] / min (nb, S.to);
   end
   res.target_acceptance = S.target;
-  if (size (res.samples, 1) >= 4)
+  if (final && size (res.samples, 1) >= 4)
     res.summary = sluice.chain_summary (res.samples, 'names', S.names);
   else
     res.summary = [];
@@ -353,12 +423,17 @@ function res = pmmh (model, prior, obs, varargin)
   res.chain_state = states;
   opts.start = res.start;
   opts.continue = [];
+  opts.checkpoint = '';
   res.options = opts;
-  res.time = toc (t_all);
+  res.time = elapsed;
   if (~isempty (prev))
     res.time = res.time + prev.time;
   end
-  res = convergence_check (res, opts);
+end
+
+% Rows kept among iterations S.from .. S.to.
+function nk = kept_rows (S, nb, th)
+  nk = floor (max (S.to - nb, 0) / th) - floor (max (S.from - 1 - nb, 0) / th);
 end
 
 % ---------------------------------------------------------------------------
@@ -439,7 +514,7 @@ function out = chain_body (c, S, out)
   % (member i of the stream is iteration i, whichever call runs it)
   R = sluice.draw (S.step_prior, S.to, S.hash_steps + c - 1);
 
-  nk = floor ((S.to - nb) / th) - floor (max (S.from - 1 - nb, 0) / th);
+  nk = kept_rows (S, nb, th);
   X = zeros (nk, d);
   LL = zeros (nk, 1);
   LP = zeros (nk, 1);
@@ -635,17 +710,103 @@ function [ll, ev] = loglik_at (S, x, seed, ev)
   end
 end
 
-function chain_failed (c, o)
+function chain_failed (c, o, ck, done)
+  % done: the iterations a checkpoint holds (ck not empty)
+  if (isempty (ck))
+    keep = ['Nothing is returned: run fewer iterations at a time and extend the ', ...
+            'result with ''continue'', or give ''checkpoint'', to keep what a long run has done.'];
+  elseif (done > 0)
+    keep = sprintf (['The checkpoint %s holds the first %d iterations of every chain: ', ...
+                     'the same call resumes from there.'], ck.file, done);
+  else
+    keep = 'No checkpoint was written yet.';
+  end
   if (isempty (o.identifier))
     error ('sluice:pmmh:chainfailed', 'chain %d: %s', c, o.message);
   end
   id = o.identifier;
   if (strncmp (id, 'sluice:', 7) && numel (id) > 12 && strcmp (id(end-11:end), ':interrupted'))
-    error ('sluice:pmmh:interrupted', ...
-           ['chain %d: %s. Nothing is returned: run fewer iterations at a time and ', ...
-            'extend the result with ''continue'' to keep what a long run has done.'], c, o.message);
+    error ('sluice:pmmh:interrupted', 'chain %d: %s. %s', c, o.message, keep);
   end
   error (id, '%s', o.message);
+end
+
+% ---------------------------------------------------------------------------
+% checkpoints: the result so far in a file, replaced whole after every block
+
+% The checkpoint of this run, and what it holds (empty when the file does
+% not exist yet). base: the iterations of an earlier result continued;
+% target: those the run ends with.
+function [ck, saved] = checkpoint_open (opts, model, prior, obs, base, target)
+  key = opts;
+  for f = {'iterations', 'parallel', 'workers', 'progress', 'max_rhat', 'min_ess', ...
+           'checkpoint', 'checkpoint_every', 'continue'}
+    key = rmfield (key, f{1});
+  end
+  ck = struct ('file', opts.checkpoint, 'key', []);
+  ck.key = struct ('model', sluice.kernel.comparable (model), ...
+                   'prior', sluice.kernel.comparable (prior), ...
+                   'obs', sluice.kernel.comparable (obs), ...
+                   'options', sluice.kernel.comparable (key), 'base', base);
+  saved = [];
+  file = ck.file;
+  if (~exist (file, 'file'))
+    % find out now, not after the first block, that it cannot be written
+    tmp = sprintf ('%s.tmp%d', file, sluice.kernel.compat ('pid'));
+    fid = fopen (tmp, 'w');
+    if (fid < 0)
+      error ('sluice:pmmh:badcheckpoint', 'checkpoint %s: cannot be written there', file);
+    end
+    fclose (fid);
+    delete (tmp);
+    return;
+  end
+  try
+    s = sluice.kernel.compat ('load_binary', file);
+  catch err
+    error ('sluice:pmmh:badcheckpoint', 'checkpoint %s: cannot be read: %s', file, err.message);
+  end
+  if (~isfield (s, 'pmmh_checkpoint') || ~isstruct (s.pmmh_checkpoint) || ...
+      ~all (isfield (s.pmmh_checkpoint, {'key', 'result'})))
+    error ('sluice:pmmh:badcheckpoint', ...
+           'checkpoint %s: holds no sluice.pmmh checkpoint (variable pmmh_checkpoint)', file);
+  end
+  c = s.pmmh_checkpoint;
+  parts = fieldnames (ck.key);
+  for k = 1:numel (parts)
+    if (~isstruct (c.key) || ~isfield (c.key, parts{k}) || ...
+        ~isequaln (c.key.(parts{k}), ck.key.(parts{k})))
+      error ('sluice:pmmh:badcheckpoint', ...
+             ['checkpoint %s: written by a run with another %s; give another file, ', ...
+              'or delete it to start again'], file, ...
+             strrep (strrep (parts{k}, 'obs', 'observation table'), 'base', 'continued result'));
+    end
+  end
+  check_previous (c.result);
+  saved = c.result;
+  done = saved.burnin + saved.iterations;
+  if (done > target)
+    error ('sluice:pmmh:badcheckpoint', ...
+           ['checkpoint %s: holds %d iterations of every chain, more than this run asks ', ...
+            'for (%d)'], file, done, target);
+  end
+end
+
+% Write the result so far: to a temporary file, then renamed over the
+% checkpoint, so a run killed at any moment leaves the old or the new one.
+function checkpoint_write (ck, res, final)
+  pmmh_checkpoint = struct ('key', ck.key, 'result', res, 'complete', final);
+  tmp = sprintf ('%s.tmp%d', ck.file, sluice.kernel.compat ('pid'));
+  try
+    sluice.kernel.compat ('save_binary', tmp, 'pmmh_checkpoint', pmmh_checkpoint);
+  catch err
+    error ('sluice:pmmh:badcheckpoint', 'checkpoint %s: cannot be written: %s', ck.file, err.message);
+  end
+  [st, msg] = sluice.kernel.compat ('rename', tmp, ck.file);
+  if (st ~= 0)
+    sluice.kernel.compat ('delete_file', tmp);
+    error ('sluice:pmmh:badcheckpoint', 'checkpoint %s: cannot replace it: %s', ck.file, msg);
+  end
 end
 
 function worker_failed (broke)
@@ -1111,7 +1272,8 @@ function [opts, prev] = parse_options (args)
                  'adapt_end', [], 'adapt_eps', 1e-10, 'target_acceptance', [], ...
                  'start', [], 'continue', [], 'max_rhat', 1.05, 'min_ess', 400, ...
                  'seed', 1, 'filter', [], 'parallel', 'auto', ...
-                 'workers', sluice.kernel.compat ('nproc'), 'progress', false);
+                 'workers', sluice.kernel.compat ('nproc'), 'progress', false, ...
+                 'checkpoint', '', 'checkpoint_every', 100);
   opts = sluice.kernel.name_value (opts, args, 'pmmh');
   prev = opts.continue;
   if (~isempty (prev) || ~isnumeric (prev))
@@ -1119,7 +1281,8 @@ function [opts, prev] = parse_options (args)
     check_previous (prev);
     given = sluice.kernel.option_pairs (args);
     given = given(1:2:end);
-    may = {'continue', 'iterations', 'parallel', 'workers', 'progress', 'max_rhat', 'min_ess'};
+    may = {'continue', 'iterations', 'parallel', 'workers', 'progress', 'max_rhat', 'min_ess', ...
+           'checkpoint', 'checkpoint_every'};
     other = setdiff (given, may);
     if (~isempty (other))
       error ('sluice:pmmh:badcontinue', ...
@@ -1127,6 +1290,7 @@ function [opts, prev] = parse_options (args)
               '(only %s can)'], other{1}, strjoin (may(2:end), ', '));
     end
     o2 = prev.options;
+    o2.checkpoint = '';   % a checkpoint belongs to one call
     for k = 1:numel (given)
       o2.(given{k}) = opts.(given{k});
     end
@@ -1190,6 +1354,12 @@ function [opts, prev] = parse_options (args)
     error ('sluice:pmmh:badoption', 'parallel must be ''auto'', true or false');
   end
   opts.workers = whole (opts.workers, 'workers', 1, 1024, 'badoption');
+  c = opts.checkpoint;
+  if (~(ischar (c) && (isempty (c) || isrow (c))))
+    error ('sluice:pmmh:badoption', 'checkpoint must be a file name (text), got %s', ...
+           sluice.kernel.describe (c));
+  end
+  opts.checkpoint_every = whole (opts.checkpoint_every, 'checkpoint_every', 1, 2^40, 'badoption');
 end
 
 function check_previous (prev)
@@ -1292,6 +1462,95 @@ end
 %! r2 = sluice.pmmh (spec, pr, obs, 'continue', r1, 'iterations', 7);
 %! assert (r2.samples, r0.samples, 0);
 %! assert (r2.proposal, r0.proposal, 0);
+
+%!test
+%! % a checkpointed run (blocks of 3 iterations, the first ones inside the
+%! % burn-in) equals one whole run bit for bit; the finished checkpoint
+%! % extends with more iterations (runs killed between blocks:
+%! % tests/octave/test_kill_resume.m)
+%! warning ('off', 'sluice:pmmh:notconverged', 'local');
+%! warning ('off', 'sluice:pmmh:lowess', 'local');
+%! f = [tempname() '.ckp'];
+%! unwind_protect
+%!   o = {'members', 20, 'chains', 2, 'burnin', 7, 'seed', 5, 'parallel', false, ...
+%!        'thin', 2, 'filter', struct('t0', 0, 'state_noise', 1)};
+%!   r0 = sluice.pmmh (spec, pr, obs, o{:}, 'iterations', 14);
+%!   r1 = sluice.pmmh (spec, pr, obs, o{:}, 'iterations', 14, 'checkpoint', f, ...
+%!                     'checkpoint_every', 3);
+%!   same = {'samples', 'loglik', 'logpost', 'acceptance', 'acceptance_burnin', 'proposal', ...
+%!           'scale', 'start', 'filter_calls', 'iterations', 'burnin', 'degenerate', 'summary'};
+%!   for k = 1:numel (same)
+%!     assert (r1.(same{k}), r0.(same{k}), 0);
+%!   end
+%!   assert (isequaln (r1.chain_state, r0.chain_state));
+%!   s = load (f);
+%!   assert (s.pmmh_checkpoint.complete);
+%!   assert (s.pmmh_checkpoint.result.samples, r0.samples, 0);
+%!   % the same call again: nothing left to do, the same result
+%!   r2 = sluice.pmmh (spec, pr, obs, o{:}, 'iterations', 14, 'checkpoint', f, ...
+%!                     'checkpoint_every', 3);
+%!   assert (r2.samples, r0.samples, 0);
+%!   assert (r2.filter_calls, r0.filter_calls);
+%!   % extended: as one run of 20
+%!   r3 = sluice.pmmh (spec, pr, obs, o{:}, 'iterations', 20, 'checkpoint', f, ...
+%!                     'checkpoint_every', 4);
+%!   r4 = sluice.pmmh (spec, pr, obs, o{:}, 'iterations', 20);
+%!   assert (r3.samples, r4.samples, 0);
+%!   assert (r3.proposal, r4.proposal, 0);
+%! unwind_protect_cleanup
+%!   if (exist (f, 'file'))
+%!     delete (f);
+%!   end
+%! end_unwind_protect
+
+%!test
+%! % checkpoints refused: other settings, more iterations than asked, not
+%! % a checkpoint, a place that cannot be written
+%! warning ('off', 'sluice:pmmh:notconverged', 'local');
+%! warning ('off', 'sluice:pmmh:lowess', 'local');
+%! f = [tempname() '.ckp'];
+%! unwind_protect
+%!   o = {'members', 10, 'chains', 1, 'burnin', 2, 'parallel', false, ...
+%!        'filter', struct('t0', 0, 'state_noise', 1)};
+%!   sluice.pmmh (spec, pr, obs, o{:}, 'iterations', 6, 'checkpoint', f);
+%!   try
+%!     sluice.pmmh (spec, pr, obs, o{:}, 'iterations', 6, 'checkpoint', f, 'seed', 9);
+%!     error ('no error');
+%!   catch err
+%!     assert (err.identifier, 'sluice:pmmh:badcheckpoint');
+%!     assert (strfind (err.message, 'another options') > 0);
+%!   end
+%!   pr2 = sluice.prior ('a', 'uniform', [-0.9 1], 'x', 'normal', [0 1]);
+%!   try
+%!     sluice.pmmh (spec, pr2, obs, o{:}, 'iterations', 6, 'checkpoint', f);
+%!     error ('no error');
+%!   catch err
+%!     assert (err.identifier, 'sluice:pmmh:badcheckpoint');
+%!     assert (strfind (err.message, 'another prior') > 0);
+%!   end
+%!   try
+%!     sluice.pmmh (spec, pr, obs, o{:}, 'iterations', 5, 'checkpoint', f);
+%!     error ('no error');
+%!   catch err
+%!     assert (err.identifier, 'sluice:pmmh:badcheckpoint');
+%!     assert (strfind (err.message, 'holds 8 iterations') > 0);
+%!   end
+%!   x = 1;
+%!   save ('-binary', f, 'x');
+%!   try
+%!     sluice.pmmh (spec, pr, obs, o{:}, 'iterations', 6, 'checkpoint', f);
+%!     error ('no error');
+%!   catch err
+%!     assert (err.identifier, 'sluice:pmmh:badcheckpoint');
+%!   end
+%! unwind_protect_cleanup
+%!   if (exist (f, 'file'))
+%!     delete (f);
+%!   end
+%! end_unwind_protect
+%!error id=sluice:pmmh:badcheckpoint sluice.pmmh (spec, pr, obs, 'checkpoint', fullfile (tempname (), 'no', 'ckp'))
+%!error id=sluice:pmmh:badoption sluice.pmmh (spec, pr, obs, 'checkpoint', 3)
+%!error id=sluice:pmmh:badoption sluice.pmmh (spec, pr, obs, 'checkpoint_every', 0)
 
 %!test
 %! % user starts: one column for all chains, or one per chain

@@ -30,6 +30,9 @@
 %   Ctrl-C                                 sluice:filter:interrupted (also         test_interrupt.m; test_enkf.c,
 %                                          esmda, smooth, ...), sweep:interrupted, test_letkf.c, test_smooth.c (polls);
 %                                          pmmh:interrupted                        here (pmmh mapping)
+%   run killed (kill -9, power cut)        sweep 'file' / pmmh 'checkpoint' kept   test_kill_resume.m (random kills,
+%                                          whole; the same call resumes, bit for   bit-identical resumes), pmmh.m
+%                                          bit; sluice:pmmh:badcheckpoint          (%!error id=...badcheckpoint)
 %   parallel worker dies                   sluice:sweep:workerfailed,              here
 %                                          sluice:pmmh:workerfailed
 %   parallel point / chain errors          sluice:sweep:pointfailed; a chain's     here, test_sweep_parallel.m
@@ -155,6 +158,50 @@
 %!   assert (~isempty (strfind (err.message, 'the run was interrupted at cycle 2')), '%s', err.message);
 %!   assert (~isempty (strfind (err.message, '''continue''')), '%s', err.message);
 %! end
+
+%!function X = stop_once (X, at)
+%!  % the model x' = x that stops one run (as Ctrl-C would) at its at-th
+%!  % call; at < 0 starts the count again
+%!  persistent calls
+%!  if (at < 0 || isempty (calls))
+%!    calls = 0;
+%!    return;
+%!  end
+%!  calls = calls + 1;
+%!  if (calls == at)
+%!    error ('sluice:filter:interrupted', 'the run was interrupted at cycle 1 of 3 (Ctrl-C)');
+%!  end
+%!endfunction
+
+%!test
+%! % the same with a checkpoint: the message says what it keeps, and the
+%! % same call resumes to the result of a run never stopped
+%! spec = sluice.model (@(t, X, P, U, dt) stop_once (X, 40), 'states', {'x'}, 'params', {'a'});
+%! pr = sluice.prior ('a', 'uniform', [0 1], 'x', 'normal', [0 1]);
+%! o = {'members', 5, 'chains', 1, 'iterations', 30, 'burnin', 0, 'parallel', false, ...
+%!      'filter', struct('t0', 0), 'max_rhat', 1e9, 'min_ess', 0};
+%! f = [tempname() '.ckp'];
+%! unwind_protect
+%!   stop_once ([], -1);
+%!   try
+%!     sluice.pmmh (spec, pr, obs1, o{:}, 'checkpoint', f, 'checkpoint_every', 4);
+%!     error ('the run should have failed');
+%!   catch err
+%!     assert (err.identifier, 'sluice:pmmh:interrupted');
+%!     done = regexp (err.message, 'holds the first (\d+) iterations', 'tokens', 'once');
+%!     assert (~isempty (done), '%s', err.message);
+%!     assert (mod (str2double (done{1}), 4), 0);
+%!     assert (str2double (done{1}) > 0 && str2double (done{1}) < 30);
+%!   end
+%!   r1 = sluice.pmmh (spec, pr, obs1, o{:}, 'checkpoint', f, 'checkpoint_every', 4);
+%!   r0 = sluice.pmmh (spec, pr, obs1, o{:});
+%!   assert (r1.samples, r0.samples, 0);
+%!   assert (r1.filter_calls, r0.filter_calls);
+%! unwind_protect_cleanup
+%!   if (exist (f, 'file'))
+%!     delete (f);
+%!   end
+%! end_unwind_protect
 
 %!test
 %! % a parallel sweep whose model kills its own worker at a = 3: the
