@@ -52,12 +52,14 @@ static const char *family(size_t k)
 
 static const char *distribution(size_t k)
 {
-    return k < SL_DIST_COUNT ? sl_dist_name((int)k) : NULL;
+    const sl_dist_type *t = k < SL_DIST_COUNT ? sl_dist_get((int)k) : NULL;
+    return t != NULL ? t->name : NULL;
 }
 
 static const char *distribution_form(size_t k)
 {
-    return k < SL_DIST_COUNT ? sl_dist_form((int)k) : NULL;
+    const sl_dist_type *t = k < SL_DIST_COUNT ? sl_dist_get((int)k) : NULL;
+    return t != NULL ? t->form : NULL;
 }
 
 static const char *method(size_t k)
@@ -101,7 +103,7 @@ void mexFunction(int nlhs, mxArray *plhs[], int nrhs, const mxArray *prhs[])
     mxSetField(s, 0, "distribution_forms", list(distribution_form));
     nargs = mxCreateDoubleMatrix(1, SL_DIST_COUNT, mxREAL);
     for (k = 0; k < SL_DIST_COUNT; k++)
-        mxGetDoubles(nargs)[k] = (double)sl_dist_nargs((int)k);
+        mxGetDoubles(nargs)[k] = (double)sl_dist_get((int)k)->nargs;
     mxSetField(s, 0, "distribution_args", nargs);
     mxSetField(s, 0, "methods", list(method));
     mxSetField(s, 0, "moves", list(move));

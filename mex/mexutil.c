@@ -1,6 +1,7 @@
 /* mexutil.c - argument checks and error raising shared by every gateway. */
 #include "mexutil.h"
 
+#include <limits.h>
 #include <math.h>
 #include <stdarg.h>
 #include <stdio.h>
@@ -265,6 +266,42 @@ mxArray *slm_create(const char *fn, size_t rows, size_t cols)
                  (unsigned long)rows, (unsigned long)cols);
     free(probe);
     return mxCreateUninitNumericMatrix(rows, cols, mxDOUBLE_CLASS, mxREAL);
+}
+
+sl_prior_entry *slm_prior(const char *fn, const mxArray *const *args, int pos,
+                          size_t *p)
+{
+    static const char *const names[5] = {"dist_ids", "a", "b", "lo", "hi"};
+    const double *v[5];
+    sl_prior_entry *prior;
+    sl_error err;
+    size_t k, n;
+    int i;
+    v[0] = slm_matrix(fn, args[0], pos, names[0], 0, 0, SLM_VECTOR);
+    n = mxGetNumberOfElements(args[0]);
+    /* the numbers of each entry are checked by the core, entry by entry */
+    for (i = 1; i < 5; i++)
+        v[i] = slm_matrix(fn, args[i], pos + i, names[i], n, 0,
+                          SLM_VECTOR | SLM_ALLOW_NAN | SLM_ALLOW_INF);
+    prior = slm_alloc(fn, n, sizeof *prior);
+    sl_error_clear(&err);
+    for (k = 0; k < n; k++) {
+        double id = v[0][k];
+        if (id != floor(id) || fabs(id) > (double)INT_MAX)
+            slm_fail(fn, "baddist",
+                     "argument %d (dist_ids): element %lu is %.17g; expected a "
+                     "whole-number distribution id from 0 to %d",
+                     pos, (unsigned long)(k + 1), id, SL_DIST_COUNT - 1);
+        prior[k].dist = (int)id;
+        prior[k].a = v[1][k];
+        prior[k].b = v[2][k];
+        prior[k].lo = v[3][k];
+        prior[k].hi = v[4][k];
+        if (sl_prior_check(&prior[k], k + 1, &err) != SL_OK)
+            slm_raise(fn, &err);
+    }
+    *p = n;
+    return prior;
 }
 
 int slm_threads(double requested)

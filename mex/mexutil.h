@@ -5,6 +5,7 @@
 #include <stddef.h>
 #include <stdint.h>
 #include "mex.h"
+#include "sluice/prior.h"
 #include "sluice/status.h"
 
 /* Flags for slm_matrix. */
@@ -88,6 +89,14 @@ void *slm_alloc(const char *fn, size_t count, size_t size);
 
 /* An uninitialised rows x cols double matrix, with the same size checks. */
 mxArray *slm_create(const char *fn, size_t rows, size_t cols);
+
+/* The p entries of a prior given as five vectors, args[0..4] = argument
+ * positions pos .. pos+4: dist_ids (the core's distribution ids, whole
+ * numbers), a, b, lo, hi (each of length p, any values: the core checks
+ * them). Every entry passes sl_prior_check (reasons "baddist",
+ * "badprior"); *p receives their number. mxMalloc'd, freed with the call. */
+sl_prior_entry *slm_prior(const char *fn, const mxArray *const *args, int pos,
+                          size_t *p);
 
 /* Platform services (mex/mexplatform.c, the one file with platform code):
  * a monotonic clock in seconds, and whether standard output is a terminal. */

@@ -261,17 +261,6 @@ static double draw_truncnormal(const sl_prior_entry *e, double u)
  * The distributions
  * ------------------------------------------------------------------- */
 
-typedef struct {
-    const char *name;
-    const char *form; /* what its numbers are, for messages */
-    int nargs;        /* how many of a, b, lo, hi it uses */
-    /* 0 if the entry's numbers are valid; else writes which one is wrong */
-    int (*check)(const sl_prior_entry *e, const char **what);
-    void (*support)(const sl_prior_entry *e, double *lo, double *hi);
-    double (*draw)(const sl_prior_entry *e, sl_stream *s);
-    double (*logpdf)(const sl_prior_entry *e, double x);
-} dist_type;
-
 static int check_uniform(const sl_prior_entry *e, const char **what)
 {
     if (!isfinite(e->a) || !isfinite(e->b)) {
@@ -483,20 +472,22 @@ static double logpdf_fixed(const sl_prior_entry *e, double x)
     return x == e->a ? 0.0 : -HUGE_VAL;
 }
 
-static const dist_type dist_types[SL_DIST_COUNT] = {
-    {"uniform", "[lo hi]", 2, check_uniform, support_uniform,
-     draw_uniform_entry, logpdf_uniform},
-    {"normal", "[mean sd]", 2, check_location_scale, support_real,
-     draw_normal_entry, logpdf_normal},
-    {"lognormal", "[meanlog sdlog]", 2, check_location_scale, support_positive,
-     draw_lognormal_entry, logpdf_lognormal},
-    {"truncnormal", "[mean sd lo hi]", 4, check_truncnormal, support_truncnormal,
-     draw_truncnormal_entry, logpdf_truncnormal},
-    {"fixed", "[value]", 1, check_fixed, support_fixed, draw_fixed_entry,
-     logpdf_fixed}
+/* The table of distributions, indexed by id. */
+static const sl_dist_type dist_types[SL_DIST_COUNT] = {
+    [SL_DIST_UNIFORM] = {"uniform", "[lo hi]", 2, 0, check_uniform, support_uniform,
+                         logpdf_uniform, draw_uniform_entry},
+    [SL_DIST_NORMAL] = {"normal", "[mean sd]", 2, 0, check_location_scale, support_real,
+                        logpdf_normal, draw_normal_entry},
+    [SL_DIST_LOGNORMAL] = {"lognormal", "[meanlog sdlog]", 2, 1, check_location_scale,
+                           support_positive, logpdf_lognormal, draw_lognormal_entry},
+    [SL_DIST_TRUNCNORMAL] = {"truncnormal", "[mean sd lo hi]", 4, 0, check_truncnormal,
+                             support_truncnormal, logpdf_truncnormal,
+                             draw_truncnormal_entry},
+    [SL_DIST_FIXED] = {"fixed", "[value]", 1, 0, check_fixed, support_fixed, logpdf_fixed,
+                       draw_fixed_entry}
 };
 
-static const dist_type *dist_of(int id)
+const sl_dist_type *sl_dist_get(int id)
 {
     if (id < 0 || id >= SL_DIST_COUNT)
         return NULL;
@@ -523,32 +514,14 @@ int sl_dist_find(const char *name)
     return -1;
 }
 
-const char *sl_dist_name(int id)
-{
-    const dist_type *d = dist_of(id);
-    return d != NULL ? d->name : NULL;
-}
-
-const char *sl_dist_form(int id)
-{
-    const dist_type *d = dist_of(id);
-    return d != NULL ? d->form : NULL;
-}
-
-int sl_dist_nargs(int id)
-{
-    const dist_type *d = dist_of(id);
-    return d != NULL ? d->nargs : 0;
-}
-
 sl_status sl_prior_check(const sl_prior_entry *e, size_t index, sl_error *err)
 {
-    const dist_type *d;
+    const sl_dist_type *d;
     const char *what = "";
     if (e == NULL)
         return sl_fail(err, SL_EINVAL, "badprior", "parameter %zu: no entry",
                        index);
-    d = dist_of(e->dist);
+    d = sl_dist_get(e->dist);
     if (d == NULL)
         return sl_fail(err, SL_EINVAL, "baddist",
                        "parameter %zu: unknown distribution id %d (expected 0 to %d)",
@@ -570,7 +543,7 @@ sl_status sl_prior_check(const sl_prior_entry *e, size_t index, sl_error *err)
 
 void sl_prior_support(const sl_prior_entry *e, double *lo, double *hi)
 {
-    const dist_type *d = e != NULL ? dist_of(e->dist) : NULL;
+    const sl_dist_type *d = e != NULL ? sl_dist_get(e->dist) : NULL;
     if (d == NULL) {
         *lo = NAN;
         *hi = NAN;
@@ -610,15 +583,16 @@ sl_status sl_prior_draw(size_t p, const sl_prior_entry *prior, size_t N,
         sl_stream_init(&s, seed, member, 0, SL_PURPOSE_PRIOR);
         for (k = 0; k < p; k++) {
             const sl_prior_entry *e = &prior[k];
-            double x = dist_types[e->dist].draw(e, &s), lo, hi;
-            dist_types[e->dist].support(e, &lo, &hi);
+            const sl_dist_type *d = &dist_types[e->dist];
+            double x = d->draw(e, &s), lo, hi;
+            d->support(e, &lo, &hi);
             if (!isfinite(x) || x < lo || x > hi ||
-                (e->dist == SL_DIST_LOGNORMAL && !(x > 0)))
+                (d->open_support && !(x > lo && x < hi)))
                 return sl_fail(err, SL_ENUMERIC, "baddraw",
                                "parameter %zu (%s), member %lu: the draw %.17g "
                                "left the support of its distribution (its "
                                "numbers are too extreme for double precision)",
-                               k + 1, dist_types[e->dist].name,
+                               k + 1, d->name,
                                (unsigned long)member, x);
             col[k] = x;
         }
@@ -628,7 +602,7 @@ sl_status sl_prior_draw(size_t p, const sl_prior_entry *prior, size_t N,
 
 double sl_prior_logpdf(const sl_prior_entry *e, double x)
 {
-    const dist_type *d = e != NULL ? dist_of(e->dist) : NULL;
+    const sl_dist_type *d = e != NULL ? sl_dist_get(e->dist) : NULL;
     double v;
     if (d == NULL || isnan(x))
         return -HUGE_VAL;
@@ -648,5 +622,107 @@ sl_status sl_prior_logpdf_points(size_t p, const sl_prior_entry *prior, size_t K
     for (j = 0; j < K; j++)
         for (k = 0; k < p; k++)
             L[k + j * p] = sl_prior_logpdf(&prior[k], X[k + j * p]);
+    return SL_OK;
+}
+
+sl_status sl_prior_logpdf_sum(size_t p, const sl_prior_entry *prior, size_t K,
+                              const double *X, double *L, sl_error *err)
+{
+    size_t j, k;
+    if ((p > 0 && prior == NULL) || (p > 0 && K > 0 && X == NULL) ||
+        (K > 0 && L == NULL))
+        return sl_fail(err, SL_EINVAL, "badarg", "no prior, points or output buffer");
+    for (k = 0; k < p; k++) {
+        sl_status st = sl_prior_check(&prior[k], k + 1, err);
+        if (st != SL_OK)
+            return st;
+    }
+    for (j = 0; j < K; j++) {
+        double s = 0.0;
+        for (k = 0; k < p; k++) {
+            double v = sl_prior_logpdf(&prior[k], X[k + j * p]);
+            if (v == -HUGE_VAL) {
+                s = v;
+                break;
+            }
+            s += v;
+        }
+        L[j] = isnan(s) ? -HUGE_VAL : s;
+    }
+    return SL_OK;
+}
+
+/* ---------------------------------------------------------------------
+ * Transforms of many parameters at many points
+ * ------------------------------------------------------------------- */
+
+sl_status sl_transform_from_bounds(size_t p, const double *lo, const double *hi,
+                                   sl_transform *t, sl_error *err)
+{
+    size_t k;
+    if (p > 0 && (lo == NULL || hi == NULL || t == NULL))
+        return sl_fail(err, SL_EINVAL, "badarg", "no bounds or no output buffer");
+    for (k = 0; k < p; k++)
+        if (isnan(lo[k]) || isnan(hi[k]) || lo[k] > hi[k])
+            return sl_fail(err, SL_EINVAL, "badbounds",
+                           "parameter %zu: the bounds [%.17g %.17g] must be "
+                           "lower <= upper without NaN",
+                           k + 1, lo[k], hi[k]);
+    for (k = 0; k < p; k++)
+        t[k] = sl_transform_for_bounds(lo[k], hi[k]);
+    return SL_OK;
+}
+
+/* the checks the array functions share: buffers present, p x K addressable */
+static sl_status points_args(size_t p, const sl_transform *t, size_t K,
+                             const double *in, const void *out, sl_error *err)
+{
+    size_t total;
+    if (sl_size_mul(p, K, &total))
+        return sl_fail(err, SL_ENOMEM, "nomemory", "%zu x %zu points overflow", p, K);
+    if ((p > 0 && t == NULL) || (total > 0 && in == NULL) || (K > 0 && out == NULL))
+        return sl_fail(err, SL_EINVAL, "badarg", "no transforms, points or output buffer");
+    return SL_OK;
+}
+
+sl_status sl_transform_forward_points(size_t p, const sl_transform *t, size_t K,
+                                      const double *X, double *Z, sl_error *err)
+{
+    size_t j, k;
+    sl_status st = points_args(p, t, K, X, Z, err);
+    if (st != SL_OK)
+        return st;
+    for (j = 0; j < K; j++)
+        for (k = 0; k < p; k++)
+            Z[k + j * p] = sl_transform_forward(&t[k], X[k + j * p]);
+    return SL_OK;
+}
+
+sl_status sl_transform_inverse_points(size_t p, const sl_transform *t, size_t K,
+                                      const double *Z, double *X, sl_error *err)
+{
+    size_t j, k;
+    sl_status st = points_args(p, t, K, Z, X, err);
+    if (st != SL_OK)
+        return st;
+    for (j = 0; j < K; j++)
+        for (k = 0; k < p; k++)
+            X[k + j * p] = sl_transform_inverse(&t[k], Z[k + j * p]);
+    return SL_OK;
+}
+
+sl_status sl_transform_logjac_sum(size_t p, const sl_transform *t, size_t K,
+                                  const double *Z, double *J, sl_error *err)
+{
+    size_t j, k;
+    sl_status st = points_args(p, t, K, Z, J, err);
+    if (st != SL_OK)
+        return st;
+    for (j = 0; j < K; j++) {
+        double s = 0.0;
+        for (k = 0; k < p; k++)
+            s += sl_transform_logjac(&t[k], Z[k + j * p]);
+        J[j] = s;
+    }
     return SL_OK;
 }

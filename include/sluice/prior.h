@@ -4,6 +4,7 @@
 
 #include <stddef.h>
 #include <stdint.h>
+#include "sluice/rng.h"
 #include "sluice/status.h"
 
 #ifdef __cplusplus
@@ -38,6 +39,27 @@ double sl_transform_inverse(const sl_transform *t, double z);
  * of x into the density of z (log p_z(z) = log p_x(x) + logjac). */
 double sl_transform_logjac(const sl_transform *t, double z);
 
+/* The transforms of p parameters from their bounds lo[k], hi[k]
+ * (sl_transform_for_bounds; -Inf, +Inf = no bound). Reason "badbounds"
+ * for a NaN bound or lo[k] > hi[k] (lo[k] == hi[k], a fixed value, has
+ * the identity); nothing is written then. */
+sl_status sl_transform_from_bounds(size_t p, const double *lo, const double *hi,
+                                   sl_transform *t, sl_error *err);
+
+/* The transforms at K points of p parameters (column-major p x K arrays,
+ * row k by t[k]): Z = forward(X), X = inverse(Z) elementwise as
+ * sl_transform_forward / sl_transform_inverse give them (out may be in). */
+sl_status sl_transform_forward_points(size_t p, const sl_transform *t, size_t K,
+                                      const double *X, double *Z, sl_error *err);
+sl_status sl_transform_inverse_points(size_t p, const sl_transform *t, size_t K,
+                                      const double *Z, double *X, sl_error *err);
+
+/* The log-Jacobian of the whole inverse transform at K points z (p x K):
+ * J[j] = sum over k of sl_transform_logjac(t[k], Z[k + j p]), in order of
+ * k = log |det dx/dz| of the map z -> x, which acts row by row. */
+sl_status sl_transform_logjac_sum(size_t p, const sl_transform *t, size_t K,
+                                  const double *Z, double *J, sl_error *err);
+
 /* Prior distributions of one parameter:
  *   uniform     a = lower, b = upper (a < b)
  *   normal      a = mean,  b = standard deviation > 0
@@ -59,15 +81,34 @@ typedef struct {
     double lo, hi; /* truncation for truncnormal; ignored otherwise */
 } sl_prior_entry;
 
+/* A distribution as a type object: one entry of the core's table of
+ * distributions, found by name (sl_dist_find) or id (sl_dist_get). To add
+ * a distribution: an id before SL_DIST_COUNT above, static functions and
+ * one table entry in src/prior.c; every user of the table (the checks,
+ * draws and densities here, sluice.kernel.core_names) then knows it. */
+typedef struct {
+    const char *name;   /* "uniform", "normal", ... */
+    const char *form;   /* what its numbers are, for messages: "[lo hi]" */
+    int nargs;          /* how many of a, b, lo, hi it takes (1 to 4) */
+    int open_support;   /* 1: a draw must lie strictly inside the support
+                           (lognormal: 0 is its support's end, never a value) */
+    /* 0 if the entry's numbers are valid; else 1, *what saying which is wrong */
+    int (*check)(const sl_prior_entry *e, const char **what);
+    /* the closed interval [lo, hi] holding every value of positive density */
+    void (*support)(const sl_prior_entry *e, double *lo, double *hi);
+    /* the log-density at x in natural units (-Inf outside the support);
+     * called with x not NaN on a checked entry */
+    double (*logpdf)(const sl_prior_entry *e, double x);
+    /* one draw from the entry's stream (a checked entry) */
+    double (*draw)(const sl_prior_entry *e, sl_stream *s);
+} sl_dist_type;
+
+/* The distribution with this id, NULL for an id out of range. */
+const sl_dist_type *sl_dist_get(int id);
+
 /* The id of a distribution name ("uniform", "normal", "lognormal",
  * "truncnormal", "fixed"), or -1. */
 int sl_dist_find(const char *name);
-const char *sl_dist_name(int id);
-
-/* What a distribution's numbers are ("[lo hi]", "[mean sd]", ...) and how
- * many of a, b, lo, hi it takes; NULL and 0 for an unknown id. */
-const char *sl_dist_form(int id);
-int sl_dist_nargs(int id);
 
 /* Check one entry; reasons "baddist", "badprior" (message says which
  * number is wrong). `index` (1-based) is named in the message. */
@@ -87,6 +128,15 @@ double sl_prior_logpdf(const sl_prior_entry *e, double x);
  * sl_prior_check's); nothing is written when one is invalid. */
 sl_status sl_prior_logpdf_points(size_t p, const sl_prior_entry *prior, size_t K,
                                  const double *X, double *L, sl_error *err);
+
+/* The joint log-density of the p independent entries at K points:
+ * L[j] = sum over k of sl_prior_logpdf(prior[k], X[k + j p]) in order of k,
+ * -Inf as soon as one term is (a point outside a support) and where the
+ * sum is NaN. Entries are checked first, as by sl_prior_logpdf_points.
+ * With the transforms, L + sl_transform_logjac_sum is the log-density of
+ * the transformed point z (change of variables). */
+sl_status sl_prior_logpdf_sum(size_t p, const sl_prior_entry *prior, size_t K,
+                              const double *X, double *L, sl_error *err);
 
 /* Draw member j = first .. first+N-1 of p parameters into P (p x N,
  * column-major): member j uses stream (seed, j, 0, SL_PURPOSE_PRIOR) alone,

@@ -350,51 +350,14 @@ end
 % ------------------------------------------------------------ transforms
 
 function Z = to_free (P, lo, hi)
-  % natural units -> the unbounded space of each row's bounds
-  Z = P;
-  for i = 1:size (P, 1)
-    a = lo(i);
-    b = hi(i);
-    x = P(i, :);
-    if (isfinite (a) && isfinite (b) && a < b)
-      Z(i, :) = log (x - a) - log (b - x);
-    elseif (isfinite (a) && ~isfinite (b))
-      Z(i, :) = log (x - a);
-    elseif (~isfinite (a) && isfinite (b))
-      Z(i, :) = log (b - x);
-    end
-  end
+  % natural units -> the unbounded space of each row's bounds (the core's
+  % transforms, as the filter uses them)
+  Z = sluice.kernel.prior_eval ('forward', lo, hi, P);
 end
 
 function P = from_free (Z, lo, hi)
   % the unbounded space -> natural units, strictly inside the bounds
-  P = Z;
-  for i = 1:size (Z, 1)
-    a = lo(i);
-    b = hi(i);
-    z = Z(i, :);
-    if (isfinite (a) && isfinite (b) && a < b)
-      x = zeros (size (z));
-      neg = z < 0;
-      e = exp (z(neg));
-      x(neg) = a + (b - a) * (e ./ (1 + e));
-      e = exp (-z(~neg));
-      x(~neg) = b - (b - a) * (e ./ (1 + e));
-    elseif (isfinite (a) && ~isfinite (b))
-      x = a + exp (z);
-    elseif (~isfinite (a) && isfinite (b))
-      x = b - exp (z);
-    else
-      continue;
-    end
-    if (isfinite (a))
-      x(x <= a) = a + eps (a);
-    end
-    if (isfinite (b))
-      x(x >= b) = b - eps (b);
-    end
-    P(i, :) = x;
-  end
+  P = sluice.kernel.prior_eval ('inverse', lo, hi, Z);
 end
 
 % ------------------------------------------------------ a model spec's run

@@ -641,17 +641,19 @@ function [st, ev] = chain_start (c, S, ev)
     case 'posterior'
       % overdispersed around the posterior: z = m + 2 sd-spread draws
       E = sluice.draw (S.step_prior(1:d), 100, S.hash_start + c - 1);
-      cand = zeros (d, 100);
+      Zc = zeros (d, 100);
       for k = 1:100
-        cand(:, k) = inverse (S, S.post_mean + S.post_spread * E(:, k));
+        Zc(:, k) = S.post_mean + S.post_spread * E(:, k);
       end
+      cand = inverse (S, Zc);
     otherwise
       cand = S.start(:, min (c, size (S.start, 2)));
   end
+  lpc = logprior (S, cand);
   ll = -Inf;
   for k = 1:size (cand, 2)
     x = cand(:, k);
-    if (~(logprior (S, x) > -Inf))
+    if (~(lpc(k) > -Inf))
       continue;
     end
     [ll, ev] = loglik_at (S, x, S.hash_startfilter + (c - 1) + 1024 * (k - 1), ev);
@@ -672,7 +674,7 @@ function [st, ev] = chain_start (c, S, ev)
   st.x = x;
   st.z = forward (S, x);
   st.ll = ll;
-  st.lp = logprior (S, x);
+  st.lp = lpc(k);
   st.lj = logjac (S, st.z);
   st.s = 0;
   st.k = 0;
@@ -827,124 +829,33 @@ function worker_failed (broke)
 end
 
 % ---------------------------------------------------------------------------
-% transforms, their Jacobians and the prior's log-density (vectors of the
-% d free parameters)
+% the transforms of the d free parameters, the log-Jacobian of the inverse
+% and the prior's log-density, at the columns of a d x K matrix: computed
+% by the core (sluice.kernel.prior_eval), as the filter computes them
 function z = forward (S, x)
-  z = x;
-  t = S.tkind;
-  k = t == 1;
-  z(k) = log (x(k) - S.lo(k));
-  k = t == 2;
-  z(k) = log (S.hi(k) - x(k));
-  k = t == 3;
-  z(k) = log (x(k) - S.lo(k)) - log (S.hi(k) - x(k));
+  z = sluice.kernel.prior_eval ('forward', S.lo, S.hi, x);
 end
 
 function x = inverse (S, z)
-  % as the filter's back-transform: the logistic from the nearer bound,
-  % and a value that rounds onto a bound is moved just inside it
-  x = z;
-  t = S.tkind;
-  lo = S.lo;
-  hi = S.hi;
-  k = t == 1;
-  x(k) = lo(k) + exp (z(k));
-  k = t == 2;
-  x(k) = hi(k) - exp (z(k));
-  k = t == 3;
-  e = exp (-abs (z(k)));
-  s = e ./ (1 + e);
-  w = hi(k) - lo(k);
-  xl = lo(k) + w .* s;
-  xh = hi(k) - w .* s;
-  neg = z(k) < 0;
-  xk = xh;
-  xk(neg) = xl(neg);
-  x(k) = xk;
-  b = t ~= 0 & isfinite (x);
-  low = b & x <= lo;
-  x(low) = lo(low) + eps (lo(low));
-  high = b & x >= hi;
-  x(high) = hi(high) - eps (hi(high));
+  % a value that rounds onto a bound is moved just inside it
+  x = sluice.kernel.prior_eval ('inverse', S.lo, S.hi, z);
 end
 
 function lj = logjac (S, z)
-  % log |dx/dz|: z for log and neglog, log (hi - lo) + log s(z) + log (1 - s(z))
-  % for the logistic s, written in z so that it stays exact far out
-  t = S.tkind;
-  lj = 0;
-  k = t == 1 | t == 2;
-  lj = lj + sum (z(k));
-  k = t == 3;
-  if (any (k))
-    a = abs (z(k));
-    lj = lj + sum (log (S.hi(k) - S.lo(k)) - a - 2 * log1p (exp (-a)));
-  end
+  % log |dx/dz|, 1 x K
+  lj = sluice.kernel.prior_eval ('logjac', S.lo, S.hi, z);
 end
 
 function lp = logprior (S, x)
-  lp = 0;
-  for k = 1:numel (x)
-    a = S.args{k};
-    v = x(k);
-    switch (S.dist(k))
-      case 1  % uniform [lo hi]
-        if (v >= a(1) && v <= a(2))
-          lp = lp - log (a(2) - a(1));
-        else
-          lp = -Inf;
-        end
-      case 2  % normal [mean sd]
-        lp = lp - 0.5 * ((v - a(1)) / a(2)) ^ 2 - log (a(2)) - 0.5 * log (2 * pi);
-      case 3  % lognormal [meanlog sdlog]
-        if (v > 0 && v < Inf)
-          lp = lp - 0.5 * ((log (v) - a(1)) / a(2)) ^ 2 - log (a(2)) - log (v) ...
-               - 0.5 * log (2 * pi);
-        else
-          lp = -Inf;
-        end
-      case 4  % truncnormal [mean sd lo hi]
-        if (v >= a(3) && v <= a(4) && isfinite (v))
-          lp = lp - 0.5 * ((v - a(1)) / a(2)) ^ 2 - log (a(2)) - 0.5 * log (2 * pi) ...
-               - S.logmass(k);
-        else
-          lp = -Inf;
-        end
-    end
-    if (lp == -Inf)
-      return;
-    end
-  end
-  if (isnan (lp))
-    lp = -Inf;
-  end
-end
-
-function lm = log_normal_mass (a, b)
-  % log (Phi(b) - Phi(a)) for a < b, accurate in either tail: on the upper
-  % side Phi(b) - Phi(a) = (erfc(a/r2) - erfc(b/r2))/2, and
-  % erfc(u) = erfcx(u) exp(-u^2) keeps far tails from underflowing
-  if (a >= 0)
-    u = a / sqrt (2);
-    v = b / sqrt (2);
-    if (isinf (v))
-      tail = 0;
-    else
-      tail = erfcx (v) * exp (u ^ 2 - v ^ 2);
-    end
-    lm = log (0.5) - u ^ 2 + log (erfcx (u) - tail);
-  elseif (b <= 0)
-    lm = log_normal_mass (-b, -a);
-  else
-    lm = log1p (-0.5 * erfc (-a / sqrt (2)) - 0.5 * erfc (b / sqrt (2)));
-  end
+  % the joint log-density in natural units, 1 x K (-Inf outside the support)
+  lp = sluice.kernel.prior_eval ('logprior', S.pid, S.pa, S.pb, S.plo, S.phi, x);
 end
 
 % ---------------------------------------------------------------------------
 function S = setup (model, prior, obs, opts)
   % ids: the core's distribution ids (0-based: uniform, normal, lognormal,
   % truncnormal, fixed); check_prior refuses any other distribution
-  ids = sluice.kernel.check_prior (prior, 2, 'pmmh');
+  [ids, pa, pb, plo, phi] = sluice.kernel.check_prior (prior, 2, 'pmmh');
   prior = prior(:)';
   names = {prior.name};
   free = [];
@@ -992,15 +903,12 @@ function S = setup (model, prior, obs, opts)
   S.tkind(isfinite (S.lo) & isfinite (S.hi) & S.lo < S.hi) = 3;
   tn = {'none', 'log', 'neglog', 'logit'};
   S.tnames = tn(S.tkind + 1)';
-  S.dist = ids(free) + 1;   % logprior's cases: 1 uniform ... 4 truncnormal
-  S.args = {prior(free).args};
-  S.logmass = zeros (d, 1);
-  for k = 1:d
-    if (S.dist(k) == 4)
-      a = S.args{k};
-      S.logmass(k) = log_normal_mass ((a(3) - a(1)) / a(2), (a(4) - a(1)) / a(2));
-    end
-  end
+  % the free entries as the core takes them (sluice.kernel.prior_eval)
+  S.pid = ids(free);
+  S.pa = pa(free);
+  S.pb = pb(free);
+  S.plo = plo(free);
+  S.phi = phi(free);
 
   % the filter's options: the user's, then ours
   fo = opts.filter;
@@ -1047,10 +955,7 @@ function S = setup (model, prior, obs, opts)
   % the prior's spread in the transformed space (2000 draws): the default
   % proposal, and the floor of the spread of starts drawn from a posterior
   P = sluice.draw (S.free_prior, 2000, seed_hash (opts.seed, 5));
-  Z = zeros (size (P));
-  for j = 1:size (P, 2)
-    Z(:, j) = forward (S, P(:, j));
-  end
+  Z = forward (S, P);
   v = var (Z, 0, 2);
   v(~(v > 0 & isfinite (v))) = 1;
   S.prior_zvar = v;
@@ -1096,10 +1001,7 @@ function S = setup_start (S, start)
   if (isstruct (start))
     S.start_kind = 'posterior';
     [E, w] = posterior_ensemble (S, start);
-    Z = zeros (size (E));
-    for j = 1:size (E, 2)
-      Z(:, j) = forward (S, E(:, j));
-    end
+    Z = forward (S, E);
     m = Z * w;
     Zc = Z - m;
     Sig = (Zc .* w') * Zc';
@@ -1138,14 +1040,12 @@ function S = setup_start (S, start)
             'parameter: %s), or a sluice.filter or sluice.esmda result, got %s'], ...
            d, d, C, strjoin (S.names', ', '), sluice.kernel.describe (start));
   end
+  L = sluice.kernel.prior_eval ('logpdf', S.pid, S.pa, S.pb, S.plo, S.phi, start);
   for c = 1:size (start, 2)
     x = start(:, c);
     for k = 1:d
       inside = isfinite (x(k)) && (x(k) > S.lo(k) || S.lo(k) == -Inf) && ...
-               (x(k) < S.hi(k) || S.hi(k) == Inf);
-      if (inside)
-        inside = single_logprior (S, k, x(k)) > -Inf;
-      end
+               (x(k) < S.hi(k) || S.hi(k) == Inf) && L(k, c) > -Inf;
       if (~inside)
         error ('sluice:pmmh:badstart', ...
                'start: column %d gives %s = %g, outside the support of its prior (bounds [%g, %g])', ...
@@ -1155,14 +1055,6 @@ function S = setup_start (S, start)
   end
   S.start_kind = 'user';
   S.start = start;
-end
-
-function lp = single_logprior (S, k, v)
-  T = S;
-  T.args = S.args(k);
-  T.dist = S.dist(k);
-  T.logmass = S.logmass(k);
-  lp = logprior (T, v);
 end
 
 % The parameter ensemble (natural units, free parameters in order) and its

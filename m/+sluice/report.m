@@ -2217,7 +2217,7 @@ function density_chart (f, tk, Y, name, xlab, s, k, pd)
   end
   if (pd.ok)
     xg = linspace (edges(1), edges(end), 201);
-    lp = sluice.kernel.prior_logpdf (pd.id, pd.a, pd.b, pd.lo, pd.hi, xg);
+    lp = sluice.kernel.prior_eval ('logpdf', pd.id, pd.a, pd.b, pd.lo, pd.hi, xg);
     hs(end + 1) = plot (xg, exp (lp), '-', 'color', palette ('truth'), 'linewidth', 2.5);
     leg{end + 1} = sprintf ('prior density (%s)', pd.dist);
   end

@@ -92,18 +92,18 @@ int main(void)
                                             "[mean sd lo hi]", "[value]"};
         static const int nargs[] = {2, 2, 2, 4, 1};
         for (k = 0; k < SL_DIST_COUNT; k++) {
-            got[k] = sl_dist_name((int)k);
+            const sl_dist_type *d = sl_dist_get((int)k);
+            got[k] = d != NULL ? d->name : NULL;
             CHECK(got[k] != NULL && sl_dist_find(got[k]) == (int)k, "distribution %lu found",
                   (unsigned long)k);
-            CHECK(k < COUNT(forms) && sl_dist_form((int)k) != NULL &&
-                      strcmp(sl_dist_form((int)k), forms[k]) == 0,
+            CHECK(d != NULL && k < COUNT(forms) && strcmp(d->form, forms[k]) == 0,
                   "form of distribution %lu", (unsigned long)k);
-            CHECK(k < COUNT(nargs) && sl_dist_nargs((int)k) == nargs[k],
+            CHECK(d != NULL && k < COUNT(nargs) && d->nargs == nargs[k],
                   "numbers of distribution %lu", (unsigned long)k);
         }
         check_list("distributions", got, k, want, COUNT(want));
-        CHECK(sl_dist_name(SL_DIST_COUNT) == NULL && sl_dist_form(-1) == NULL &&
-                  sl_dist_nargs(SL_DIST_COUNT) == 0,
+        CHECK(sl_dist_get(SL_DIST_COUNT) == NULL && sl_dist_get(-1) == NULL &&
+                  sl_dist_find("Normal") == -1 && sl_dist_find(NULL) == -1,
               "nothing out of range");
     }
     {

@@ -633,15 +633,15 @@ static void test_names_and_errors(void)
 
     for (k = 0; k < SL_DIST_COUNT; k++) {
         CHECK(sl_dist_find(names[k]) == k, "find %s", names[k]);
-        CHECK(sl_dist_name(k) != NULL && strcmp(sl_dist_name(k), names[k]) == 0,
+        CHECK(sl_dist_get(k) != NULL && strcmp(sl_dist_get(k)->name, names[k]) == 0,
               "name of %d", k);
     }
     CHECK(sl_dist_find("Normal") == -1 && sl_dist_find("") == -1 &&
               sl_dist_find("norm") == -1 && sl_dist_find("normals") == -1 &&
               sl_dist_find(NULL) == -1,
           "unknown names -> -1");
-    CHECK(sl_dist_name(-1) == NULL && sl_dist_name(SL_DIST_COUNT) == NULL,
-          "unknown ids have no name");
+    CHECK(sl_dist_get(-1) == NULL && sl_dist_get(SL_DIST_COUNT) == NULL,
+          "unknown ids have no entry");
 
     /* supports */
     e = (sl_prior_entry){SL_DIST_UNIFORM, -1.37, 2.385, 9, 9};
@@ -851,6 +851,193 @@ static void test_logpdf_points(void)
           "an invalid entry is refused before anything is written");
 }
 
+
+/* The table of distributions: every id has an entry with its functions,
+ * found again by its name; the lognormal alone needs draws strictly
+ * inside its support (its density is 0 at 0, common practice). */
+static void test_table(void)
+{
+    int k;
+    for (k = 0; k < SL_DIST_COUNT; k++) {
+        const sl_dist_type *d = sl_dist_get(k);
+        CHECK(d != NULL && d->name != NULL && d->form != NULL && d->check != NULL &&
+                  d->support != NULL && d->logpdf != NULL && d->draw != NULL,
+              "entry %d complete", k);
+        CHECK(d != NULL && sl_dist_find(d->name) == k, "entry %d found by its name", k);
+        CHECK(d != NULL && d->nargs >= 1 && d->nargs <= 4, "entry %d: 1 to 4 numbers", k);
+        CHECK(d != NULL && d->open_support == (k == SL_DIST_LOGNORMAL),
+              "entry %d: open support only for the lognormal", k);
+    }
+}
+
+/* Bounds to transforms, and the transforms at many points: the same
+ * values as the single-point functions (checked above), the handbook
+ * definitions log(x - lo), log(hi - x), log((x - lo)/(hi - x)) (to
+ * rounding, z_tol), round trips, and the log-Jacobian of the whole map
+ * against central differences of the inverse. The change-of-variables
+ * formula (any probability handbook): p_z(z) = p_x(x(z)) |dx/dz|, so
+ * exp(logpdf_sum(inverse(z)) + logjac_sum(z)) integrates to 1 over z. */
+static void test_points(void)
+{
+    const double lo[4] = {-INFINITY, 2.385, -INFINITY, -1.37};
+    const double hi[4] = {INFINITY, INFINITY, 7.91, 2.385};
+    sl_transform t[4], tkeep[1];
+    double X[4 * 5], Z[4 * 5], B[4 * 5], J[5], buf[2] = {17.0, 17.0};
+    sl_error err;
+    sl_status st;
+    size_t j, k;
+    char what[96];
+
+    sl_error_clear(&err);
+    st = sl_transform_from_bounds(4, lo, hi, t, &err);
+    CHECK(st == SL_OK && t[0].kind == SL_TRANSFORM_NONE && t[1].kind == SL_TRANSFORM_LOG &&
+              t[2].kind == SL_TRANSFORM_NEGLOG && t[3].kind == SL_TRANSFORM_LOGIT,
+          "kinds from the bounds");
+    {
+        const double l1[1] = {3.3}, h1[1] = {3.3}, lnan[1] = {NAN}, hlow[1] = {3.2};
+        st = sl_transform_from_bounds(1, l1, h1, tkeep, &err);
+        CHECK(st == SL_OK && tkeep[0].kind == SL_TRANSFORM_NONE, "a fixed value: identity");
+        tkeep[0].kind = 99;
+        st = sl_transform_from_bounds(1, lnan, h1, tkeep, &err);
+        CHECK(st == SL_EINVAL && strcmp(err.reason, "badbounds") == 0 && tkeep[0].kind == 99,
+              "NaN bound refused, nothing written");
+        st = sl_transform_from_bounds(1, l1, hlow, tkeep, &err);
+        CHECK(st == SL_EINVAL && strcmp(err.reason, "badbounds") == 0 &&
+                  strstr(err.message, "parameter 1") != NULL,
+              "lower above upper refused: %s", err.message);
+        st = sl_transform_from_bounds(1, NULL, h1, tkeep, &err);
+        CHECK(st == SL_EINVAL && strcmp(err.reason, "badarg") == 0, "no bounds");
+    }
+
+    /* points inside each parameter's bounds, one column per fraction (not
+     * so near a bound that the central differences below lose digits) */
+    for (j = 0; j < 5; j++) {
+        static const double f5[5] = {0.0137, 0.31831, 0.5, 0.7071, 0.93};
+        double f = f5[j];
+        X[0 + j * 4] = -37.7 + 100.0 * f;
+        X[1 + j * 4] = 2.385 + 40.0 * f;
+        X[2 + j * 4] = 7.91 - 40.0 * f;
+        X[3 + j * 4] = -1.37 + 3.755 * f;
+    }
+    st = sl_transform_forward_points(4, t, 5, X, Z, &err);
+    CHECK(st == SL_OK, "forward at points runs");
+    st = sl_transform_inverse_points(4, t, 5, Z, B, &err);
+    CHECK(st == SL_OK, "inverse at points runs");
+    for (j = 0; j < 5; j++)
+        for (k = 0; k < 4; k++) {
+            double x = X[k + j * 4], z = Z[k + j * 4], def;
+            CHECK(z == sl_transform_forward(&t[k], x) &&
+                      B[k + j * 4] == sl_transform_inverse(&t[k], z),
+                  "points = single values, row %zu column %zu", k, j);
+            def = k == 0 ? x : k == 1 ? log(x - lo[1]) : k == 2 ? log(hi[2] - x)
+                                                              : log((x - lo[3]) / (hi[3] - x));
+            snprintf(what, sizeof what, "forward against its definition, row %zu x %.17g", k, x);
+            CHECK_CLOSE(z, def, z_tol(&t[k], x, z), what);
+            snprintf(what, sizeof what, "round trip, row %zu x %.17g", k, x);
+            CHECK_CLOSE(B[k + j * 4], x, 16 * DBL_EPSILON * (fabs(x) + 10.0), what);
+        }
+
+    /* the log-Jacobian of the whole inverse: the sum of the rows' logs of
+     * central differences (h = 1e-5: error O(h^2) relative) */
+    st = sl_transform_logjac_sum(4, t, 5, Z, J, &err);
+    CHECK(st == SL_OK, "logjac at points runs");
+    for (j = 0; j < 5; j++) {
+        double want = 0.0, h = 1e-5;
+        for (k = 0; k < 4; k++) {
+            double z = Z[k + j * 4];
+            double d = (sl_transform_inverse(&t[k], z + h) - sl_transform_inverse(&t[k], z - h)) /
+                       (2.0 * h);
+            want += log(fabs(d));
+        }
+        snprintf(what, sizeof what, "log |det dx/dz| at column %zu", j);
+        CHECK_CLOSE(J[j], want, 1e-8, what);
+    }
+    st = sl_transform_logjac_sum(4, t, 0, NULL, NULL, &err);
+    CHECK(st == SL_OK, "no points: nothing to do");
+    st = sl_transform_inverse_points(4, t, 1, NULL, buf, &err);
+    CHECK(st == SL_EINVAL && strcmp(err.reason, "badarg") == 0 && buf[0] == 17.0,
+          "no input refused");
+
+    /* change of variables: each prior, in the space of its support's
+     * transform, has a density of z integrating to 1 (midpoint rule over
+     * [-40, 40], 80000 cells; the tails beyond hold < 1e-12 here) */
+    {
+        const sl_prior_entry pr[4] = {{SL_DIST_NORMAL, -1.37, 2.385, 0, 0},
+                                      {SL_DIST_LOGNORMAL, 0.413, 0.347, 0, 0},
+                                      {SL_DIST_UNIFORM, -1.37, 2.385, 0, 0},
+                                      {SL_DIST_TRUNCNORMAL, 0.2, 0.9, -INFINITY, 0.95}};
+        for (k = 0; k < 4; k++) {
+            double plo, phi, sum = 0.0, dz = 1e-3;
+            sl_transform tk;
+            size_t i, n = check_light_() ? 8000 : 80000;
+            if (n == 8000)
+                dz = 1e-2;
+            sl_prior_support(&pr[k], &plo, &phi);
+            if (pr[k].dist == SL_DIST_TRUNCNORMAL)
+                plo = -INFINITY;
+            tk = sl_transform_for_bounds(plo, phi);
+            for (i = 0; i < n; i++) {
+                double z = -40.0 + ((double)i + 0.5) * dz, x, lp, lj;
+                sl_transform_inverse_points(1, &tk, 1, &z, &x, &err);
+                sl_prior_logpdf_sum(1, &pr[k], 1, &x, &lp, &err);
+                sl_transform_logjac_sum(1, &tk, 1, &z, &lj, &err);
+                sum += exp(lp + lj) * dz;
+            }
+            snprintf(what, sizeof what, "density of z integrates to 1 (%s)",
+                     sl_dist_get(pr[k].dist)->name);
+            CHECK_CLOSE(sum, 1.0, 1e-6, what);
+        }
+    }
+}
+
+/* The joint log-density of several entries: the sum of GSL's log-densities
+ * (gsl_ran_flat_pdf, gsl_ran_gaussian_pdf, gsl_ran_lognormal_pdf; the
+ * truncated normal as the Gaussian density over the mass
+ * gsl_cdf_gaussian_P gives), -Inf when a point leaves a support or is NaN,
+ * and the sum in order of the rows of what sl_prior_logpdf_points gives. */
+static void test_logpdf_sum(void)
+{
+    const sl_prior_entry pr[4] = {{SL_DIST_UNIFORM, 0.5, 4.0, 0, 0},
+                                  {SL_DIST_NORMAL, -1.5, 0.7, 0, 0},
+                                  {SL_DIST_LOGNORMAL, log(100.0), 0.5, 0, 0},
+                                  {SL_DIST_TRUNCNORMAL, 2.0, 3.0, 0.0, 5.0}};
+    const double X[4 * 4] = {0.6, -1.2, 40.0, 0.6,   3.9, 0.3, 160.0, 4.99,
+                             4.1, -1.2, 40.0, 0.6,   1.0, NAN, 90.0, 2.0};
+    double L[4], P[16], Lbad[1] = {17.0};
+    const sl_prior_entry bad[2] = {{SL_DIST_NORMAL, 0.0, 1.0, 0, 0},
+                                   {SL_DIST_UNIFORM, 2.0, 1.0, 0, 0}};
+    double mass = gsl_cdf_gaussian_P(5.0 - 2.0, 3.0) - gsl_cdf_gaussian_P(0.0 - 2.0, 3.0);
+    sl_error err;
+    sl_status st;
+    size_t j, k;
+    sl_error_clear(&err);
+    st = sl_prior_logpdf_sum(4, pr, 4, X, L, &err);
+    CHECK(st == SL_OK, "logpdf_sum runs");
+    st = sl_prior_logpdf_points(4, pr, 4, X, P, &err);
+    for (j = 0; j < 2; j++) {
+        const double *x = X + 4 * j;
+        double want = log(gsl_ran_flat_pdf(x[0], 0.5, 4.0)) +
+                      log(gsl_ran_gaussian_pdf(x[1] + 1.5, 0.7)) +
+                      log(gsl_ran_lognormal_pdf(x[2], log(100.0), 0.5)) +
+                      log(gsl_ran_gaussian_pdf(x[3] - 2.0, 3.0) / mass);
+        double rows = 0.0;
+        CHECK_REL(L[j], want, 1e-13, "joint log-density against GSL");
+        for (k = 0; k < 4; k++)
+            rows += P[k + 4 * j];
+        CHECK(L[j] == rows, "the sum of the rows' log-densities, in order");
+    }
+    CHECK(L[2] == -HUGE_VAL, "a point outside one support: -Inf");
+    CHECK(L[3] == -HUGE_VAL, "a NaN value: -Inf");
+    st = sl_prior_logpdf_sum(2, bad, 1, X, Lbad, &err);
+    CHECK(st == SL_EINVAL && strcmp(err.reason, "badprior") == 0 &&
+              strstr(err.message, "parameter 2") != NULL && Lbad[0] == 17.0,
+          "an invalid entry is refused before anything is written");
+    st = sl_prior_logpdf_sum(1, pr, 1, X, NULL, &err);
+    CHECK(st == SL_EINVAL && strcmp(err.reason, "badarg") == 0, "no output buffer");
+    st = sl_prior_logpdf_sum(0, pr, 1, X, Lbad, &err);
+    CHECK(st == SL_OK && Lbad[0] == 0.0, "no entries: log-density 0");
+}
+
 int main(void)
 {
     gsl_set_error_handler_off();
@@ -862,5 +1049,8 @@ int main(void)
     test_names_and_errors();
     test_logpdf();
     test_logpdf_points();
+    test_table();
+    test_points();
+    test_logpdf_sum();
     CHECK_DONE("test_prior");
 }

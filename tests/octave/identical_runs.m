@@ -10,7 +10,7 @@ function [h, names] = identical_runs (name)
   % compiler and the BLAS it runs with.
   names = {'pf', 'pf_lag', 'resample_move', 'liu_west', 'smc2', 'wenkf', ...
            'etkf_ensemble', 'etkf_observation', 'letkf', 'enkf', 'ensrf', 'eakf', ...
-           'etkf_lag', 'smooth_genealogy', 'smooth_ffbsi', 'analysis'};
+           'etkf_lag', 'smooth_genealogy', 'smooth_ffbsi', 'analysis', 'pmmh', 'esmda'};
   if (nargin < 1)
     h = '';
     return;
@@ -99,6 +99,25 @@ function [h, names] = identical_runs (name)
       b = sluice.enkf (X, H * X, y, diag (R), 'method', 'enkf', 'seed', 9);
       c = sluice.enkf (X(:, 1:2), H * X(:, 1:2), y, diag (R), 'method', 'etkf');
       h = digest (struct ('a', a, 'b', b, 'c', c), {'a', 'b', 'c'});
+    case 'pmmh'
+      % one free parameter per transform (logit, log, neglog, none), so
+      % that every prior density and transform of the core is on the path
+      [spec, pr, obs] = pmmh_case ();
+      w = warning ('off', 'sluice:pmmh:notconverged');   % a short run, on purpose
+      warning ('off', 'sluice:pmmh:lowess');
+      r = sluice.pmmh (spec, pr, obs, 'members', 30, 'chains', 2, 'iterations', 60, ...
+                       'burnin', 20, 'seed', 13, 'parallel', false, ...
+                       'filter', struct ('t0', 0, 'state_noise', 0.3));
+      warning (w);
+      h = digest (r, {'samples', 'loglik', 'logpost', 'acceptance', 'proposal'});
+    case 'esmda'
+      G = [1 0.5 0.2 0.1; 0.2 1 0.3 0.5; 1 1 1 1; 0.3 0.1 0.9 0.4; 0.5 0.5 0.1 1];
+      pr = sluice.prior ('a', 'uniform', [-1 2], 'g', 'lognormal', [0 0.5], ...
+                         'v', 'truncnormal', [0 1 -Inf 1.5], 'bounds', [-Inf 1.5], ...
+                         'w', 'normal', [0 1]);
+      [post, info] = sluice.esmda (@(P) G * P, pr, [0.9; 1.2; 2.3; 0.7; 1.1], 0.1, ...
+                                   'members', 60, 'seed', 14, 'threads', 1);
+      h = digest (struct ('post', post, 'info', info), {'post.P', 'post.Y', 'info.misfit'});
     otherwise
       error ('identical_runs: unknown case %s', name);
   end
@@ -137,6 +156,19 @@ function [spec, pr, obs] = recession_case ()
   y = 5 * 0.95 .^ (1:T)' + 0.3 * sin (5 * (1:T)');
   obs = struct ('time', (1:T)', 'variable', {repmat({'x'}, T, 1)}, 'value', y, ...
                 'sigma', 0.3 * ones (T, 1));
+end
+
+function [spec, pr, obs] = pmmh_case ()
+  % x_t = a x_(t-1) observed at t = 1..12; g, v and w do not enter the model
+  T = 12;
+  spec = sluice.model (@(t, X, P, U, dt) P(1, :) .* X, 'states', {'x'}, ...
+                       'params', {'a', 'g', 'v', 'w'}, 'x0', 2);
+  pr = sluice.prior ('a', 'uniform', [-1 1], 'g', 'lognormal', [0.3 1], ...
+                     'v', 'truncnormal', [0 1 -Inf 0.5], 'bounds', [-Inf 1], ...
+                     'w', 'normal', [0.2 1.5]);
+  y = 2 * 0.8 .^ (1:T)' + 0.3 * sin (5 * (1:T)');
+  obs = struct ('time', (1:T)', 'variable', {repmat({'x'}, T, 1)}, 'value', y, ...
+                'sigma', 0.4 * ones (T, 1));
 end
 
 function [spec, pr, obs] = ring_case ()

@@ -211,17 +211,15 @@
 %!                   'c', 'uniform', [0.5 4]);
 %! [ids, a, b, lo, hi] = sluice.kernel.check_prior (q, 1, 'report');
 %! x = [-3.1 0.2 1.9 5.5; 0.4 1.3 2.2 -1; 0.6 0.5 3.99 4.2];
-%! L = sluice.kernel.prior_logpdf (ids, a, b, lo, hi, x);
+%! L = sluice.kernel.prior_eval ('logpdf', ids, a, b, lo, hi, x);
 %! assert (L(1, :), log (normpdf (x(1, :), -1.37, 2.385)), -1e-13);
 %! assert (L(2, 1:3), log (lognpdf (x(2, 1:3), 0.3, 0.7)), -1e-13);
 %! assert (L(3, 1:3), log (unifpdf (x(3, 1:3), 0.5, 4)), -1e-13);
 %! assert (L(2, 4), -Inf);
 %! assert (L(3, 4), -Inf);
-%! assert (sluice.kernel.prior_logpdf (ids, a, b, lo, hi, zeros (3, 0)), zeros (3, 0));
+%! assert (sluice.kernel.prior_eval ('logpdf', ids, a, b, lo, hi, zeros (3, 0)), zeros (3, 0));
 
-%!error id=sluice:prior_logpdf:badsize sluice.kernel.prior_logpdf (1, 0, 1, -Inf, Inf, ones (2, 3))
-%!error id=sluice:prior_logpdf:badprior sluice.kernel.prior_logpdf (1, 0, -1, -Inf, Inf, 1)
-%!error id=sluice:prior_logpdf:baddist sluice.kernel.prior_logpdf (1.5, 0, 1, -Inf, Inf, 1)
+% (the errors of sluice.kernel.prior_eval: tests/octave/test_prior_eval.m)
 
 % the summary of sluice.chain_summary alone holds no draws
 %!error <holds no draws> sluice.report (r0.summary, 'outdir', tempname ())
