@@ -86,7 +86,9 @@
 % and bounds, then the rating curve a (>= 0, default 0.4; 0: the river
 % never floods the town, and the two parts run as the two models alone),
 % b (in [0.1, 3], default 0.6), Q0 (mm/d, >= 0, default 5) and year_length
-% (days, a whole number >= 1, default 365). The level is in the flood
+% (days, a whole number >= 1, default 365; a setting, not an unknown: the
+% spec's bounds of year_length both equal it, so runs refuse another value
+% and a prior cannot move it). The level is in the flood
 % model's units of W, a in those units per (mm/d)^b. Options:
 % @code{'rating'}, [a b Q0], and @code{'year_length'}, days, set those
 % defaults.
@@ -296,7 +298,12 @@ function spec = model (kind, varargin)
     spec.upper = Inf (numel (spec.params), 1);
   end
   if (strcmp (spec.kind, 'builtin') && strcmp (spec.name, 'river_town'))
-    check_year (spec.defaults(strcmp (spec.params, 'year_length')), spec.dt);
+    % the year length is a setting of the spec, not an unknown: its bounds
+    % close on it, so a run refuses other values and a prior cannot move it
+    iy = strcmp (spec.params, 'year_length');
+    check_year (spec.defaults(iy), spec.dt);
+    spec.lower(iy) = spec.defaults(iy);
+    spec.upper(iy) = spec.defaults(iy);
   end
   bad = find (spec.defaults < spec.lower | spec.defaults > spec.upper, 1);
   if (~isempty (bad))

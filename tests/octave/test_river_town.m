@@ -27,8 +27,8 @@
 %! assert (s.states(64:72), {'G', 'D', 'H', 'M', 'F', 'R_levee', 'Qmax', 'level', 'day'});
 %! assert (s.params, [g.params, fl.params, {'a', 'b', 'Q0', 'year_length'}]);
 %! assert (s.defaults, [g.defaults; fl.defaults; 0.4; 0.6; 5; 365]);
-%! assert (s.lower, [g.lower; fl.lower; 0; 0.1; 0; 1]);
-%! assert (s.upper, [g.upper; fl.upper; Inf; 3; Inf; Inf]);
+%! assert (s.lower, [g.lower; fl.lower; 0; 0.1; 0; 365]);
+%! assert (s.upper, [g.upper; fl.upper; Inf; 3; Inf; 365]);
 %! assert (s.x0, [g.x0; fl.x0; 0; 0; 0]);
 %! assert (s.internal, [g.internal; false(8, 1); true]);
 %! assert (s.forcings, {'P', 'E'});
@@ -37,6 +37,7 @@
 %! assert (s.integrator, 'discrete');
 %! s2 = sluice.model ('river_town', 'rating', [0.2 1.5 3], 'year_length', 360);
 %! assert (s2.defaults(15:18), [0.2; 1.5; 3; 360]);
+%! assert ([s2.lower(18), s2.upper(18)], [360 360]);
 
 %!test
 %! % coupling off (a = 0: the river never floods the town): the GR4J part
@@ -112,5 +113,8 @@
 
 %!error id=sluice:model:badrating sluice.model ('river_town', 'rating', [0.4 0.6 5 1])
 %!error id=sluice:model:badyear sluice.model ('river_town', 'year_length', 365.5)
+%!error id=sluice:simulate:badparams sluice.simulate (sluice.model ('river_town'), [], [s.defaults(1:17); 365.5], 0:3, struct ('time', (0:3)', 'values', ones (4, 2)))
+%!error id=sluice:simulate:badparams sluice.simulate (sluice.model ('river_town'), [], [s.defaults(1:14); -0.1; 0.6; 5; 365], 0:3, struct ('time', (0:3)', 'values', ones (4, 2)))
+%!error id=sluice:filter:badprior sluice.filter (sluice.model ('river_town'), sluice.prior ('year_length', 'uniform', [360 370]), struct ('time', 1, 'variable', {{'Q'}}, 'value', 1, 'sigma', 1), 'forcing', struct ('time', (0:3)', 'values', ones (4, 2)))
 %!error id=sluice:simulate:badforcing sluice.simulate (sluice.model ('river_town'), [], [], 0:3)
 %!error id=sluice:simulate:badevents sluice.simulate (sluice.model ('river_town'), [], [], 0:3, struct ('time', (0:3)', 'values', ones (4, 2)), 'events', struct ('time', [2; 1], 'values', [1; 1]))
