@@ -106,7 +106,7 @@ struct sl_model_def {
 const sl_model_def *sluice_user_model(void);
 
 /* The built-in definition with this name ("lorenz63", "lorenz96", "flood",
- * "gr4j"), or NULL. */
+ * "gr4j", "river_town"), or NULL. */
 const sl_model_def *sl_model_def_find(const char *name);
 
 /* Number of built-in definitions, and the k-th (for listings). */

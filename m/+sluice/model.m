@@ -59,6 +59,39 @@
 % daily map (dt 1). The queues are internal states (@code{internal} of
 % the spec): assimilated like the others, but not drawn by
 % @code{sluice.report} unless asked for.
+% @item 'river_town'
+% a river and the town beside it as one coupled model: the GR4J model
+% above makes the river's daily flow, and each year's largest flow,
+% through a rating curve, is the flood the human-flood model above meets.
+% Time is in days; a discrete daily map (dt 1) with forcings P and E
+% (mm/d) as for GR4J. Each day: GR4J advances one day; Qmax, the largest
+% daily flow Q of the current year so far (mm/d), becomes max (Qmax, Q);
+% the town advances over the same day with the flood model's own
+% right-hand side and integrator (Dormand-Prince 5(4), rtol 1e-6, atol
+% 1e-9), its four rates per year (rhoE, sigmaP, kappaT, muS) divided by
+% @code{year_length}, so the town runs in days exactly as the flood model
+% would with those rates; the day counter @code{day} grows by one. When
+% @code{day} reaches @code{year_length} the year ends with that day: its
+% high-water level is level = a (Qmax - Q0)^b if Qmax > Q0, else 0
+% (h = 0: no flood, the town is left alone), a level > 0 is a flood of
+% W = level (the flood model's jump, at the end of the day), and Qmax and
+% @code{day} start again from 0. Years thus end every @code{year_length}
+% days from the start of the run (an x0 with day > 0 starts mid-year).
+% Given events W (the runs' option @code{'events'}) are floods too, applied
+% at the end of the day that holds them. States (72): GR4J's 63 (S, R, the
+% queues, Q), the town's G, D, H, M, F and R_levee (the flood model's R,
+% renamed: GR4J has an R), Qmax, level (the latest year end's high-water
+% level, 0 before the first) and day. Internal: GR4J's queues and day.
+% Parameters (18): X1..X4 and the flood model's ten, with their defaults
+% and bounds, then the rating curve a (>= 0, default 0.4; 0: the river
+% never floods the town, and the two parts run as the two models alone),
+% b (in [0.1, 3], default 0.6), Q0 (mm/d, >= 0, default 5) and year_length
+% (days, a whole number >= 1, default 365; a setting, not an unknown: the
+% spec's bounds of year_length both equal it, so runs refuse another value
+% and a prior cannot move it). The level is in the flood
+% model's units of W, a in those units per (mm/d)^b. Options:
+% @code{'rating'}, [a b Q0], and @code{'year_length'}, days, set those
+% defaults.
 % @end table
 %
 % Options of compiled models and right-hand sides: @code{'integrator'}
@@ -201,6 +234,8 @@ function spec = model (kind, varargin)
           error ('sluice:model:badtolerance', '%s must be >= 0', name);
         end
         spec.(lower (name)) = v;
+      case {'rating', 'year_length'}
+        spec = coupled_option (spec, lower (name), val);
       case 'kind'
         if (~strcmp (spec.kind, 'handle') || ~ischar (val) || ...
             ~any (strcmp (val, {'step', 'rhs'})))
@@ -262,6 +297,14 @@ function spec = model (kind, varargin)
     spec.lower = -Inf (numel (spec.params), 1);
     spec.upper = Inf (numel (spec.params), 1);
   end
+  if (strcmp (spec.kind, 'builtin') && strcmp (spec.name, 'river_town'))
+    % the year length is a setting of the spec, not an unknown: its bounds
+    % close on it, so a run refuses other values and a prior cannot move it
+    iy = strcmp (spec.params, 'year_length');
+    check_year (spec.defaults(iy), spec.dt);
+    spec.lower(iy) = spec.defaults(iy);
+    spec.upper(iy) = spec.defaults(iy);
+  end
   bad = find (spec.defaults < spec.lower | spec.defaults > spec.upper, 1);
   if (~isempty (bad))
     error ('sluice:model:badparams', ...
@@ -309,6 +352,45 @@ function spec = check_builtin (spec, info, nstate)
   if (~strcmp (spec.integrator, 'discrete') && ~info.has_rhs)
     error ('sluice:model:badintegrator', 'model ''%s'' is a discrete map: use ''discrete''', ...
            spec.name);
+  end
+end
+
+% The options of the coupled model river_town: the rating curve [a b Q0]
+% and the length of its years (days), as defaults of those parameters.
+function spec = coupled_option (spec, name, val)
+  if (~strcmp (spec.kind, 'builtin') || ~strcmp (spec.name, 'river_town'))
+    error ('sluice:model:badoption', ...
+           'option ''%s'' belongs to the model ''river_town''', name);
+  end
+  if (strcmp (name, 'year_length'))
+    v = real_arg (val, name, true);
+    check_year (v, spec.dt);
+    spec.defaults(strcmp (spec.params, 'year_length')) = v;
+    return;
+  end
+  v = real_arg (val, name, false);
+  if (numel (v) ~= 3)
+    error ('sluice:model:badrating', ...
+           'rating must be [a b Q0] (3 values), got %d values', numel (v));
+  end
+  names = {'a', 'b', 'Q0'};
+  for k = 1:3
+    i = strcmp (spec.params, names{k});
+    if (v(k) < spec.lower(i) || v(k) > spec.upper(i))
+      error ('sluice:model:badrating', ...
+             'rating curve: %s = %g lies outside [%g, %g]', names{k}, v(k), ...
+             spec.lower(i), spec.upper(i));
+    end
+    spec.defaults(i) = v(k);
+  end
+end
+
+% A year of the coupled model must be a whole number (>= 1) of its daily
+% steps: a year ends at the end of a day.
+function check_year (L, dt)
+  if (~(L >= 1) || L ~= fix (L) || ~isfinite (L))
+    error ('sluice:model:badyear', ...
+           'year_length must be a whole number >= 1 of days (steps of %g), got %g', dt, L);
   end
 end
 
@@ -458,6 +540,20 @@ end
 %! s = sluice.model (@(t, X, P, U) -X, 'n', 2, 'kind', 'rhs');
 %! assert (s.integrator, 'rk4');
 %!error id=sluice:model:badstep sluice.model ('gr4j', 'dt', 2)
+%!error id=sluice:model:badstep sluice.model ('river_town', 'dt', 2)
+%!error id=sluice:model:badrating sluice.model ('river_town', 'rating', [-0.1 0.6 5])
+%!error id=sluice:model:badrating sluice.model ('river_town', 'rating', [0.4 0 5])
+%!error id=sluice:model:badrating sluice.model ('river_town', 'rating', [0.4 3.5 5])
+%!error id=sluice:model:badrating sluice.model ('river_town', 'rating', [0.4 0.6 -1])
+%!error id=sluice:model:badrating sluice.model ('river_town', 'rating', [0.4 0.6])
+%!error id=sluice:model:nonfinite sluice.model ('river_town', 'rating', [0.4 NaN 5])
+%!error id=sluice:model:badyear sluice.model ('river_town', 'year_length', 365.25)
+%!error id=sluice:model:badyear sluice.model ('river_town', 'year_length', 0)
+%!error id=sluice:model:badsize sluice.model ('river_town', 'year_length', [365 366])
+%!error id=sluice:model:badyear sluice.model ('river_town', 'defaults', [320.1 2.42 69.6 1.39 0.5 10 1 0.005 1 0.1 1.1 0.1 0.5 0.215 0.4 0.6 5 365.5])
+%!error id=sluice:model:badparams sluice.model ('river_town', 'defaults', [320.1 2.42 69.6 1.39 0.5 10 1 0.005 1 0.1 1.1 0.1 0.5 0.215 -1 0.6 5 365])
+%!error id=sluice:model:badoption sluice.model ('gr4j', 'rating', [0.4 0.6 5])
+%!error id=sluice:model:badoption sluice.model ('flood', 'year_length', 365)
 %!error id=sluice:model:badsize sluice.model ('lorenz96')
 %!error id=sluice:model:badsize sluice.model ('lorenz96', 'n', 3)
 %!error id=sluice:model:nomemory sluice.model ('lorenz96', 'n', 1e13)

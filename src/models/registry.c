@@ -8,6 +8,7 @@ static const sl_model_def *const builtin[] = {
     &sl_model_lorenz96,
     &sl_model_flood,
     &sl_model_gr4j,
+    &sl_model_river_town,
 };
 
 size_t sl_model_def_count(void)
