@@ -1,4 +1,11 @@
-/* loglik.c - gateway: [ll, nskipped] = sluice.kernel.loglik(family, y, Yhat, sigma, aux). */
+/* loglik.c - gateway: log-likelihoods, quantiles and draws of the families.
+ *   [ll, nskipped] = sluice.kernel.loglik (family, y, Yhat, sigma, aux)
+ *   q = sluice.kernel.loglik ('quantile', family, u, h, sigma, aux)
+ *   y = sluice.kernel.loglik ('sample', family, z, u, h, sigma, aux)
+ * family: a name (every row) or a cell of m names; y, u, z: m-vectors
+ * (for the ll form Yhat is m x N); h, sigma, aux: scalars or m-vectors. The
+ * outputs of 'quantile' and 'sample' are m x 1 (sl_family_quantiles,
+ * sl_family_samples). */
 #include "mexutil.h"
 #include "sluice/loglik.h"
 
@@ -20,16 +27,16 @@ static void family_list(char *buf, size_t len)
 
 /* The id of a family name, or raise badfamily naming it. `where` is "" or
  * "element 3: ". */
-static int family_id(const mxArray *a, const char *where)
+static int family_id(const mxArray *a, int pos, const char *where)
 {
     char list[160];
-    char *name = slm_string(FN, a, 1, "family");
+    char *name = slm_string(FN, a, pos, "family");
     int id = sl_family_find(name);
     if (id < 0) {
         family_list(list, sizeof list);
         slm_fail(FN, "badfamily",
-                 "argument 1 (family): %sunknown family '%s'; expected one of %s",
-                 where, name, list);
+                 "argument %d (family): %sunknown family '%s'; expected one of %s",
+                 pos, where, name, list);
     }
     mxFree(name);
     return id;
@@ -42,24 +49,24 @@ static int is_string(const mxArray *a)
 }
 
 /* Argument 1: the class only (its length is checked once m is known). */
-static void check_family_class(const mxArray *a)
+static void check_family_class(const mxArray *a, int pos)
 {
     char got[96];
     if (is_string(a) || mxIsCell(a))
         return;
     slm_describe(a, got, sizeof got);
     slm_fail(FN, "badclass",
-             "argument 1 (family): expected a family name or a cell array of names, got %s",
-             got);
+             "argument %d (family): expected a family name or a cell array of names, got %s",
+             pos, got);
 }
 
 /* One id per row from a name (all rows) or a cell array of m names. */
-static void read_families(const mxArray *a, size_t m, int *fam)
+static void read_families(const mxArray *a, int pos, size_t m, int *fam)
 {
     char got[96], where[48];
     size_t i;
     if (!mxIsCell(a)) {
-        const int id = family_id(a, "");
+        const int id = family_id(a, pos, "");
         for (i = 0; i < m; i++)
             fam[i] = id;
         return;
@@ -68,8 +75,8 @@ static void read_families(const mxArray *a, size_t m, int *fam)
         mxGetNumberOfElements(a) != m) {
         slm_describe(a, got, sizeof got);
         slm_fail(FN, "badsize",
-                 "argument 1 (family): expected a family name or a cell array of %lu names, got %s",
-                 (unsigned long)m, got);
+                 "argument %d (family): expected a family name or a cell array of %lu names, got %s",
+                 pos, (unsigned long)m, got);
     }
     for (i = 0; i < m; i++) {
         const mxArray *c = mxGetCell(a, (mwIndex)i);
@@ -80,10 +87,10 @@ static void read_families(const mxArray *a, size_t m, int *fam)
             else
                 slm_describe(c, got, sizeof got);
             slm_fail(FN, "badclass",
-                     "argument 1 (family): %sexpected a family name, got %s",
-                     where, got);
+                     "argument %d (family): %sexpected a family name, got %s",
+                     pos, where, got);
         }
-        fam[i] = family_id(c, where);
+        fam[i] = family_id(c, pos, where);
     }
 }
 
@@ -110,6 +117,45 @@ static double *read_per_row(const mxArray *a, int pos, const char *name,
     return out;
 }
 
+/* 'quantile' (draw = 0) or 'sample' (draw = 1): the arguments after the
+ * mode are family, [z,] u, h, sigma, aux. */
+static void quantiles(int draw, int nlhs, mxArray *plhs[], int nrhs,
+                      const mxArray *prhs[])
+{
+    const int pu = draw ? 4 : 3; /* argument positions, 1-based */
+    const double *z = NULL, *u;
+    double *h, *sigma, *aux;
+    int *fam;
+    size_t m;
+    sl_error err;
+
+    slm_nargs(FN, nrhs, pu + 3, pu + 3, nlhs, 1);
+    check_family_class(prhs[1], 2);
+    u = slm_matrix(FN, prhs[pu - 1], pu, "u", 0, 0,
+                   SLM_VECTOR | SLM_ALLOW_NAN | SLM_ALLOW_INF);
+    m = mxGetNumberOfElements(prhs[pu - 1]);
+    if (draw)
+        z = slm_matrix(FN, prhs[2], 3, "z", m, 0,
+                       SLM_VECTOR | SLM_ALLOW_NAN | SLM_ALLOW_INF);
+    h = read_per_row(prhs[pu], pu + 1, "h", m);
+    sigma = read_per_row(prhs[pu + 1], pu + 2, "sigma", m);
+    aux = read_per_row(prhs[pu + 2], pu + 3, "aux", m);
+    fam = slm_alloc(FN, m, sizeof *fam);
+    read_families(prhs[1], 2, m, fam);
+
+    sl_error_clear(&err);
+    plhs[0] = slm_create(FN, m, 1);
+    if ((draw ? sl_family_samples(m, fam, z, u, h, sigma, aux,
+                                  mxGetDoubles(plhs[0]), &err)
+              : sl_family_quantiles(m, fam, u, h, sigma, aux,
+                                    mxGetDoubles(plhs[0]), &err)) != SL_OK)
+        slm_raise(FN, &err);
+    mxFree(fam);
+    mxFree(aux);
+    mxFree(sigma);
+    mxFree(h);
+}
+
 void mexFunction(int nlhs, mxArray *plhs[], int nrhs, const mxArray *prhs[])
 {
     const double *y, *Yhat;
@@ -119,8 +165,17 @@ void mexFunction(int nlhs, mxArray *plhs[], int nrhs, const mxArray *prhs[])
     sl_error err;
 
     slm_init();
+    if (nrhs > 0 && is_string(prhs[0]) && mxGetNumberOfElements(prhs[0]) > 0) {
+        char *mode = slm_string(FN, prhs[0], 1, "family");
+        const int q = strcmp(mode, "quantile") == 0, d = strcmp(mode, "sample") == 0;
+        mxFree(mode);
+        if (q || d) {
+            quantiles(d, nlhs, plhs, nrhs, prhs);
+            return;
+        }
+    }
     slm_nargs(FN, nrhs, 5, 5, nlhs, 2);
-    check_family_class(prhs[0]);
+    check_family_class(prhs[0], 1);
     y = slm_matrix(FN, prhs[1], 2, "y", 0, 0,
                    SLM_VECTOR | SLM_ALLOW_NAN | SLM_ALLOW_INF);
     m = mxGetNumberOfElements(prhs[1]);
@@ -130,7 +185,7 @@ void mexFunction(int nlhs, mxArray *plhs[], int nrhs, const mxArray *prhs[])
     sigma = read_per_row(prhs[3], 4, "sigma", m);
     aux = read_per_row(prhs[4], 5, "aux", m);
     fam = slm_alloc(FN, m, sizeof *fam);
-    read_families(prhs[0], m, fam);
+    read_families(prhs[0], 1, m, fam);
 
     sl_error_clear(&err);
     if (sl_loglik_check(m, y, sigma, aux, fam, &err) != SL_OK)

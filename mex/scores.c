@@ -2,11 +2,15 @@
  *   c = sluice.kernel.scores ('crps', X, y)        CRPS of each row
  *   r = sluice.kernel.scores ('rank', X, y, seed)  rank of y, 1 .. N+1
  *   k = sluice.kernel.scores ('skill', s, o)       skill of s against o
+ *   c = sluice.kernel.scores ('crps_weighted', X, y, w)  weighted CRPS
  * X: m x N real double, finite (members as columns); y: m-vector, NaN
  * allowed (NaN score / NaN rank); seed: whole number 0 .. 2^53 that keys
  * the random tie-breaking. Outputs are m x 1. For 'skill', s and o are
  * real double vectors of one length (o NaN: missing, left out) and k is
- * 1 x 6: [NSE, KGE, r, alpha, beta, pairs used] (sl_scores_skill). */
+ * 1 x 6: [NSE, KGE, r, alpha, beta, pairs used] (sl_scores_skill).
+ * For 'crps_weighted', X is m x N x K (K blocks of m rows, finite), y is
+ * m x K (NaN allowed), w is N x K (one weight vector per block, >= 0, not
+ * all 0) and c is m x K (sl_scores_crps_weighted). */
 #include "mexutil.h"
 #include "sluice/scores.h"
 
@@ -44,6 +48,51 @@ static void skill(int nrhs, mxArray *plhs[], const mxArray *prhs[])
     out[5] = (double)k.count;
 }
 
+static void crps_weighted(int nrhs, mxArray *plhs[], const mxArray *prhs[])
+{
+    const mwSize *dims;
+    mwSize nd;
+    size_t m, N, K;
+    const double *X, *y, *w;
+    double *work;
+    char got[96];
+    sl_error err;
+    if (nrhs != 4)
+        slm_fail(FN, "nargin", "'crps_weighted' takes 4 input arguments, got %d", nrhs);
+    nd = mxGetNumberOfDimensions(prhs[1]);
+    if (!mxIsDouble(prhs[1]) || mxIsComplex(prhs[1]) || mxIsSparse(prhs[1]) ||
+        nd > 3) {
+        slm_describe(prhs[1], got, sizeof got);
+        slm_fail(FN, "badclass",
+                 "argument 2 (X): expected a real double m x N x K array, got %s", got);
+    }
+    dims = mxGetDimensions(prhs[1]);
+    m = (size_t)dims[0];
+    N = (size_t)dims[1];
+    K = nd == 3 ? (size_t)dims[2] : 1;
+    X = slm_doubles(prhs[1]);
+    if (mxGetM(prhs[2]) != m || mxGetNumberOfElements(prhs[2]) != m * K) {
+        slm_describe(prhs[2], got, sizeof got);
+        slm_fail(FN, "badsize", "argument 3 (y): expected %lux%lu, got %s",
+                 (unsigned long)m, (unsigned long)K, got);
+    }
+    if (mxGetM(prhs[3]) != N || mxGetNumberOfElements(prhs[3]) != N * K) {
+        slm_describe(prhs[3], got, sizeof got);
+        slm_fail(FN, "badsize", "argument 4 (w): expected %lux%lu, got %s",
+                 (unsigned long)N, (unsigned long)K, got);
+    }
+    y = slm_matrix(FN, prhs[2], 3, "y", 0, 0, SLM_ALLOW_EMPTY | SLM_ALLOW_NAN);
+    w = slm_matrix(FN, prhs[3], 4, "w", 0, 0, SLM_ALLOW_EMPTY | SLM_ALLOW_NAN | SLM_ALLOW_INF);
+    plhs[0] = slm_create(FN, m, K);
+    work = (double *)slm_alloc(FN, sl_scores_crps_weighted_workspace(N) + 1,
+                               sizeof(double));
+    sl_error_clear(&err);
+    if (sl_scores_crps_weighted(m, N, K, X, w, y, mxGetDoubles(plhs[0]), work,
+                                &err) != SL_OK)
+        slm_raise(FN, &err);
+    mxFree(work);
+}
+
 void mexFunction(int nlhs, mxArray *plhs[], int nrhs, const mxArray *prhs[])
 {
     const double *X, *y;
@@ -60,13 +109,18 @@ void mexFunction(int nlhs, mxArray *plhs[], int nrhs, const mxArray *prhs[])
         skill(nrhs, plhs, prhs);
         return;
     }
+    if (strcmp(what, "crps_weighted") == 0) {
+        mxFree(what);
+        crps_weighted(nrhs, plhs, prhs);
+        return;
+    }
     if (strcmp(what, "crps") == 0)
         rank = 0;
     else if (strcmp(what, "rank") == 0)
         rank = 1;
     else
         slm_fail(FN, "badscore",
-                 "argument 1 (score): expected 'crps', 'rank' or 'skill', got '%s'", what);
+                 "argument 1 (score): expected 'crps', 'crps_weighted', 'rank' or 'skill', got '%s'", what);
     mxFree(what);
     if (nrhs != (rank ? 4 : 3))
         slm_fail(FN, "nargin", "'%s' takes %d input arguments, got %d",

@@ -258,6 +258,310 @@ static void censored_rows(double y, double sigma, double aux, const double *h,
     }
 }
 
+static int dof_ok(double aux) { return positive_finite(aux); }
+static int trials_ok(double aux) { return aux >= 1 && whole_count(aux); }
+static int limit_ok(double aux) { return isfinite(aux); }
+
+/* ---- quantiles and draws --------------------------------------------------
+ * The quantile of y at u in (0, 1) given h, sigma and aux, in the
+ * parameterisation of the densities above; for the count families the
+ * smallest k with P(Y <= k) >= u. An invalid u, sigma, aux or an h outside
+ * the family's domain gives NaN. */
+
+static int prob_ok(double u) { return u > 0 && u < 1; }
+
+static double gaussian_quantile(double u, double h, double sigma, double aux)
+{
+    (void)aux;
+    if (!prob_ok(u) || !scale_ok(sigma) || !isfinite(h))
+        return NOT_A_NUMBER;
+    return h + sigma * gsl_cdf_ugaussian_Pinv(u);
+}
+
+static double lognormal_quantile(double u, double h, double sigma, double aux)
+{
+    (void)aux;
+    if (!prob_ok(u) || !scale_ok(sigma) || !(h > 0 && h < HUGE_VAL))
+        return NOT_A_NUMBER;
+    return exp(log(h) + sigma * gsl_cdf_ugaussian_Pinv(u));
+}
+
+/* The midpoint of a bracket [lo, hi]: geometric when it spans more than a
+ * factor of 4 above 0, so a bracket of many decades halves in log. */
+static double bracket_mid(double lo, double hi)
+{
+    return lo > 0 && hi > 4 * lo ? sqrt(lo) * sqrt(hi) : 0.5 * (lo + hi);
+}
+
+/* The quantile of Student's t with nu > 0 degrees of freedom at u in (0, 1).
+ * By symmetry it solves Q(y) = p for y >= 0, Q(y) = P(T > y) from
+ * gsl_cdf_tdist_Q, p = min(u, 1 - u) (1 - u is exact for u >= 1/2).
+ * Newton steps on Q in the body and on log Q against log y in the tails
+ * (where Q falls as a power of y), each kept inside a bracket that every
+ * evaluation narrows; a step that leaves it is replaced by the bracket's
+ * midpoint, so the search converges for every nu (an iteration from a
+ * fixed-form first guess does not: it fails for nu below 1 at moderate u).
+ * A quantile beyond T_MAX is +-Inf: past it y^2, which GSL's Q forms,
+ * overflows (only below about 0.12 degrees of freedom can a uniform of
+ * the streams, at least 2^-53 from 0 and 1, reach it). */
+#define T_MAX 1e154
+static double t_std_quantile(double u, double nu)
+{
+    const double p = u < 0.5 ? u : 1 - u;
+    const double sign = u < 0.5 ? -1 : 1;
+    const double c = t_log_norm(nu), e = -0.5 * (nu + 1), inu = 1 / nu;
+    double lo = 0, hi = 1, y;
+    int k;
+    if (p == 0.5)
+        return 0;
+    /* bracket Q(lo) > p >= Q(hi), hi growing by squaring up to T_MAX */
+    while (gsl_cdf_tdist_Q(hi, nu) > p) {
+        lo = hi;
+        if (hi == T_MAX)
+            return sign * HUGE_VAL;
+        hi = hi < 2 ? 2 : (hi < 1e77 ? hi * hi : T_MAX);
+    }
+    y = bracket_mid(lo, hi);
+    for (k = 0; k < 400; k++) {
+        const double q = gsl_cdf_tdist_Q(y, nu);
+        /* density by the row kernel's formula; 1/nu may overflow */
+        const double lr = inu < HUGE_VAL ? log1p(y * y * inu)
+                                         : log(nu + y * y) - log(nu);
+        const double d = exp(c + e * lr);
+        double next;
+        if (q > p)
+            lo = y;
+        else if (q < p)
+            hi = y;
+        else
+            return sign * y;
+        if (q < 0.25) /* Newton on log Q against log y */
+            next = y * exp((log(q) - log(p)) * q / (y * d));
+        else          /* Newton on Q against y */
+            next = y + (q - p) / d;
+        if (!(next > lo && next < hi))
+            next = bracket_mid(lo, hi);
+        if (fabs(next - y) <= 2 * DBL_EPSILON * next || next == lo ||
+            next == hi)
+            return sign * next;
+        y = next;
+    }
+    return sign * y;
+}
+
+static double student_t_quantile(double u, double h, double sigma, double aux)
+{
+    if (!prob_ok(u) || !scale_ok(sigma) || !positive_finite(aux) ||
+        !isfinite(h))
+        return NOT_A_NUMBER;
+    return h + sigma * t_std_quantile(u, aux);
+}
+
+/* The smallest whole k in (lo, hi] with cdf(k) >= u, given cdf(lo) < u
+ * (lo may be -1, "below the support") and cdf(hi) >= u: bisection, so
+ * the answer is exact whatever the shape of the CDF. */
+static double count_search(double u, double lo, double hi,
+                           double (*cdf)(double k, double p1, double p2),
+                           double p1, double p2)
+{
+    while (hi - lo > 1) {
+        const double mid = floor(0.5 * (lo + hi));
+        if (cdf(mid, p1, p2) >= u)
+            hi = mid;
+        else
+            lo = mid;
+    }
+    return hi;
+}
+
+/* P(Y <= k) of Poisson(lambda) = Q(k + 1, lambda), the upper regularised
+ * incomplete gamma function (Abramowitz & Stegun 6.5.2, 26.4.21), as
+ * gsl_cdf_poisson_P forms it (through gsl_cdf_gamma_Q), here for k beyond
+ * unsigned int too. Above lambda = 1e6 and below the mean it is taken as
+ * 1 - P(k + 1, lambda): GSL's Q there switches to a large-x expansion that
+ * holds only for k + 1 much below lambda (its quantiles were off by
+ * thousands of counts at lambda = 1e9), while its P takes the continued
+ * fraction, which converges there. */
+static double poisson_cdf(double k, double lambda, double unused)
+{
+    (void)unused;
+    if (!(lambda > 0))
+        return 1.0;
+    if (k + 1 <= lambda && lambda > 1e6)
+        return 1 - gsl_sf_gamma_inc_P(k + 1, lambda);
+    return gsl_cdf_gamma_Q(lambda, k + 1, 1.0);
+}
+
+static double poisson_quantile(double u, double h, double sigma, double aux)
+{
+    double hi;
+    (void)sigma;
+    (void)aux;
+    if (!prob_ok(u) || !(h >= 0 && h <= MAX_COUNT))
+        return NOT_A_NUMBER;
+    /* 40 standard deviations above the mean hold all but far less than
+     * 2^-53 of the mass; widen all the same until the bracket holds */
+    hi = ceil(h + 40 * sqrt(h) + 40);
+    while (poisson_cdf(hi, h, 0) < u)
+        hi *= 2;
+    return count_search(u, -1, hi, poisson_cdf, h, 0);
+}
+
+/* The continued fraction of the regularised incomplete beta function,
+ * I_x(a, b) = x^a (1 - x)^b / (a B(a, b)) / (1 + d1/(1 + d2/(1 + ...))),
+ * d_{2m+1} = -(a + m)(a + b + m) x / ((a + 2m)(a + 2m + 1)),
+ * d_{2m} = m (b - m) x / ((a + 2m - 1)(a + 2m))  (DLMF 8.17.22), by the
+ * modified Lentz method, for x < (a + 1)/(a + b + 2) where it converges
+ * fast. Returns the fraction's value 1/(1 + d1/(1 + ...)) times 1. GSL's
+ * own evaluation stops after 512 terms, too few once a and b pass about
+ * 1e6 (a binomial of 1e7 trials); this one allows up to 1e6 terms, the
+ * count grows as the square root of a + b. */
+static double beta_cf(double a, double b, double x)
+{
+    const double tiny = 1e-300;
+    double c = 1, d = 1 - (a + b) * x / (a + 1), f;
+    long m;
+    if (fabs(d) < tiny)
+        d = tiny;
+    d = 1 / d;
+    f = d;
+    for (m = 1; m <= 1000000; m++) {
+        const double dm = (double)m;
+        double t, delta;
+        t = dm * (b - dm) * x / ((a + 2 * dm - 1) * (a + 2 * dm));
+        d = 1 + t * d;
+        c = 1 + t / c;
+        d = fabs(d) < tiny ? 1 / tiny : 1 / d;
+        c = fabs(c) < tiny ? tiny : c;
+        f *= d * c;
+        t = -(a + dm) * (a + b + dm) * x / ((a + 2 * dm) * (a + 2 * dm + 1));
+        d = 1 + t * d;
+        c = 1 + t / c;
+        d = fabs(d) < tiny ? 1 / tiny : 1 / d;
+        c = fabs(c) < tiny ? tiny : c;
+        delta = d * c;
+        f *= delta;
+        if (fabs(delta - 1) < 2 * DBL_EPSILON)
+            break;
+    }
+    return f;
+}
+
+/* lgamma(x) minus its Stirling approximation (x - 1/2) log x - x +
+ * log sqrt(2 pi): from x = 10 up its asymptotic series (the first term
+ * left out is below 2e-12 / x^9), below through lgamma itself. */
+static double stirling_rest(double x)
+{
+    double ix, ix2;
+    if (x < 10)
+        return gsl_sf_lngamma(x) - ((x - 0.5) * log(x) - x + LN_SQRT_2PI);
+    ix = 1 / x;
+    ix2 = ix * ix;
+    return ix * (1.0 / 12 - ix2 * (1.0 / 360 - ix2 * (1.0 / 1260 - ix2 / 1680)));
+}
+
+/* P(Y <= k) of Bin(n, p) = I_q(n - k, k + 1), q = 1 - p (Abramowitz &
+ * Stegun 26.5.24), as gsl_cdf_binomial_P forms it (there through
+ * gsl_cdf_beta_Q), here for doubles. Up to 1e6 trials GSL evaluates it.
+ * Above, the continued fraction above does, with the factor
+ * q^a p^b / B(a, b) (a = n - k, b = k + 1) taken without the cancellation
+ * of terms of the size of n: with d = p (a + b) - b (one rounding, by fma)
+ * and B by Stirling's formula, its log is
+ *   a log1p(-d/a) + b log1p(d/b) + log(a b/(a + b))/2 - log sqrt(2 pi)
+ *   - (rest(a) + rest(b) - rest(a + b)).
+ * The smaller of p and q is the one formed from the logit h (it is the
+ * accurate one); the other is 1 minus it, exactly in the formulas. */
+static double binomial_cdf(double k, double h, double trials)
+{
+    double a, b, p, q, d, lpre, pre;
+    if (k >= trials)
+        return 1.0;
+    if (trials <= 1e6)
+        return gsl_cdf_beta_Q(1 / (1 + exp(-h)), k + 1, trials - k);
+    a = trials - k;
+    b = k + 1;
+    if (h <= 0) {
+        p = 1 / (1 + exp(-h));
+        q = 1 - p;
+        d = fma(p, a + b, -b);
+    } else {
+        q = 1 / (1 + exp(h));
+        p = 1 - q;
+        d = -fma(q, a + b, -a);
+    }
+    lpre = a * log1p(-d / a) + b * log1p(d / b) +
+           0.5 * (log(a) + log(b) - log(a + b)) - LN_SQRT_2PI -
+           (stirling_rest(a) + stirling_rest(b) - stirling_rest(a + b));
+    pre = exp(lpre);
+    if (q < (a + 1) / (a + b + 2))
+        return pre * beta_cf(a, b, q) / a;
+    return 1 - pre * beta_cf(b, a, p) / b;
+}
+
+static double binomial_quantile(double u, double h, double sigma, double aux)
+{
+    (void)sigma;
+    if (!prob_ok(u) || !trials_ok(aux) || !isfinite(h))
+        return NOT_A_NUMBER;
+    return count_search(u, -1, aux, binomial_cdf, h, aux);
+}
+
+/* Y = max(X, L) with X ~ N(h, sigma^2): P(Y = L) = Phi((L - h)/sigma), so
+ * the quantile is L up to that level and X's quantile above it. */
+static double censored_quantile(double u, double h, double sigma, double aux)
+{
+    double x;
+    if (!limit_ok(aux))
+        return NOT_A_NUMBER;
+    x = gaussian_quantile(u, h, sigma, aux);
+    return isnan(x) ? x : (x > aux ? x : aux);
+}
+
+/* A draw from a standard normal z: the families that are transforms of a
+ * normal take z itself (the value of their quantile at Phi(z), without
+ * rounding through Phi); the others invert their CDF at u. */
+static double gaussian_sample(double z, double u, double h, double sigma,
+                              double aux)
+{
+    (void)u;
+    (void)aux;
+    if (!isfinite(z) || !scale_ok(sigma) || !isfinite(h))
+        return NOT_A_NUMBER;
+    return h + sigma * z;
+}
+
+static double lognormal_sample(double z, double u, double h, double sigma,
+                               double aux)
+{
+    (void)u;
+    (void)aux;
+    if (!isfinite(z) || !scale_ok(sigma) || !(h > 0 && h < HUGE_VAL))
+        return NOT_A_NUMBER;
+    return exp(log(h) + sigma * z);
+}
+
+static double censored_sample(double z, double u, double h, double sigma,
+                              double aux)
+{
+    double x;
+    if (!limit_ok(aux))
+        return NOT_A_NUMBER;
+    x = gaussian_sample(z, u, h, sigma, aux);
+    return isnan(x) ? x : (x > aux ? x : aux);
+}
+
+#define SAMPLE_BY_QUANTILE(fam)                                               \
+    static double fam##_sample(double z, double u, double h, double sigma,    \
+                               double aux)                                    \
+    {                                                                         \
+        (void)z;                                                              \
+        return fam##_quantile(u, h, sigma, aux);                              \
+    }
+SAMPLE_BY_QUANTILE(student_t)
+SAMPLE_BY_QUANTILE(poisson)
+SAMPLE_BY_QUANTILE(binomial)
+#undef SAMPLE_BY_QUANTILE
+
 /* ---- the type table ------------------------------------------------------ */
 
 /* The scalar density of each family is its row kernel for one member. */
@@ -276,9 +580,6 @@ SCALAR_LOGPDF(binomial)
 SCALAR_LOGPDF(censored)
 #undef SCALAR_LOGPDF
 
-static int dof_ok(double aux) { return positive_finite(aux); }
-static int trials_ok(double aux) { return aux >= 1 && whole_count(aux); }
-static int limit_ok(double aux) { return isfinite(aux); }
 
 static int positive_ok(double y, double aux)
 {
@@ -302,21 +603,27 @@ typedef struct {
 } family_impl;
 
 static const family_impl families[SL_FAMILY_COUNT] = {
-    [SL_FAMILY_GAUSSIAN] = {{"gaussian", 1, NULL, gaussian_logpdf},
+    [SL_FAMILY_GAUSSIAN] = {{"gaussian", 1, NULL, gaussian_logpdf,
+        gaussian_quantile, gaussian_sample},
                             gaussian_rows, NULL, NULL, NULL, NULL},
-    [SL_FAMILY_LOGNORMAL] = {{"lognormal", 1, NULL, lognormal_logpdf},
+    [SL_FAMILY_LOGNORMAL] = {{"lognormal", 1, NULL, lognormal_logpdf,
+        lognormal_quantile, lognormal_sample},
                              lognormal_rows, NULL, NULL, positive_ok, "> 0"},
-    [SL_FAMILY_STUDENT_T] = {{"student_t", 1, "dof", student_t_logpdf},
+    [SL_FAMILY_STUDENT_T] = {{"student_t", 1, "dof", student_t_logpdf,
+        student_t_quantile, student_t_sample},
                              student_t_rows, dof_ok, "finite and > 0", NULL,
                              NULL},
-    [SL_FAMILY_POISSON] = {{"poisson", 0, NULL, poisson_logpdf}, poisson_rows,
+    [SL_FAMILY_POISSON] = {{"poisson", 0, NULL, poisson_logpdf,
+        poisson_quantile, poisson_sample}, poisson_rows,
                            NULL, NULL, count_ok,
                            "a whole number from 0 to 2^53"},
-    [SL_FAMILY_BINOMIAL] = {{"binomial", 0, "n", binomial_logpdf},
+    [SL_FAMILY_BINOMIAL] = {{"binomial", 0, "n", binomial_logpdf,
+        binomial_quantile, binomial_sample},
                             binomial_rows, trials_ok,
                             "a whole number from 1 to 2^53", successes_ok,
                             "a whole number from 0 to n"},
-    [SL_FAMILY_CENSORED] = {{"censored", 1, "limit", censored_logpdf},
+    [SL_FAMILY_CENSORED] = {{"censored", 1, "limit", censored_logpdf,
+        censored_quantile, censored_sample},
                             censored_rows, limit_ok, "finite", NULL, NULL},
 };
 
@@ -356,6 +663,40 @@ static const char *show(double v, char *buf, size_t len)
     return buf;
 }
 
+/* The family id, sigma and aux of row i (0-based), as sl_loglik_check
+ * states them; *a receives the aux that was checked (NaN when unused). */
+static sl_status check_row(size_t i, const double *sigma, const double *aux,
+                           const int *family, double *a, sl_error *err)
+{
+    const unsigned long row = (unsigned long)(i + 1);
+    const family_impl *f;
+    char b1[40];
+    *a = NOT_A_NUMBER;
+    if (family[i] < 0 || family[i] >= SL_FAMILY_COUNT)
+        return sl_fail(err, SL_EINVAL, "badfamily",
+                       "observation %lu: family id must be from 0 to %d, got %d",
+                       row, SL_FAMILY_COUNT - 1, family[i]);
+    f = &families[family[i]];
+    if (f->type.uses_sigma) {
+        const double s = sigma != NULL ? sigma[i] : NOT_A_NUMBER;
+        if (!scale_ok(s))
+            return sl_fail(err, SL_EINVAL, "badsigma",
+                           "observation %lu: sigma must be finite and at least "
+                           "2.2250738585072014e-308 (the smallest normal "
+                           "double), got %s",
+                           row, show(s, b1, sizeof b1));
+    }
+    if (f->aux_ok != NULL) {
+        *a = aux != NULL ? aux[i] : NOT_A_NUMBER;
+        if (!f->aux_ok(*a))
+            return sl_fail(err, SL_EINVAL, "badaux",
+                           "observation %lu: %s %s must be %s, got %s",
+                           row, f->type.name, f->type.aux_name,
+                           f->aux_rule, show(*a, b1, sizeof b1));
+    }
+    return SL_OK;
+}
+
 sl_status sl_loglik_check(size_t m, const double *y, const double *sigma,
                           const double *aux, const int *family, sl_error *err)
 {
@@ -374,29 +715,11 @@ sl_status sl_loglik_check(size_t m, const double *y, const double *sigma,
         const unsigned long row = (unsigned long)(i + 1);
         const family_impl *f;
         const double v = y[i];
-        double a = NOT_A_NUMBER;
-        if (family[i] < 0 || family[i] >= SL_FAMILY_COUNT)
-            return sl_fail(err, SL_EINVAL, "badfamily",
-                           "observation %lu: family id must be from 0 to %d, got %d",
-                           row, SL_FAMILY_COUNT - 1, family[i]);
+        double a;
+        sl_status st = check_row(i, sigma, aux, family, &a, err);
+        if (st != SL_OK)
+            return st;
         f = &families[family[i]];
-        if (f->type.uses_sigma) {
-            const double s = sigma != NULL ? sigma[i] : NOT_A_NUMBER;
-            if (!scale_ok(s))
-                return sl_fail(err, SL_EINVAL, "badsigma",
-                               "observation %lu: sigma must be finite and at least "
-                               "2.2250738585072014e-308 (the smallest normal "
-                               "double), got %s",
-                               row, show(s, b1, sizeof b1));
-        }
-        if (f->aux_ok != NULL) {
-            a = aux != NULL ? aux[i] : NOT_A_NUMBER;
-            if (!f->aux_ok(a))
-                return sl_fail(err, SL_EINVAL, "badaux",
-                               "observation %lu: %s %s must be %s, got %s",
-                               row, f->type.name, f->type.aux_name,
-                               f->aux_rule, show(a, b1, sizeof b1));
-        }
         if (isinf(v))
             return sl_fail(err, SL_EINVAL, "badvalue",
                            "observation %lu: value must be finite or NaN (missing), got %s",
@@ -414,6 +737,76 @@ sl_status sl_loglik_check(size_t m, const double *y, const double *sigma,
                            show(v, b1, sizeof b1));
         }
     }
+    return SL_OK;
+}
+
+/* ---- quantiles and draws of many rows ------------------------------------ */
+
+/* The checks shared by sl_family_quantiles and sl_family_samples. */
+static sl_status check_draws(size_t m, const int *family, const double *z,
+                             const double *u, const double *h,
+                             const double *sigma, const double *aux,
+                             const double *y, sl_error *err)
+{
+    size_t i;
+    char b1[40];
+    if (m == 0)
+        return SL_OK;
+    if (family == NULL || u == NULL || h == NULL || y == NULL)
+        return sl_fail(err, SL_EINVAL, "badarg",
+                       "family ids, uniforms, predictions and the output are "
+                       "required for %lu draws", (unsigned long)m);
+    for (i = 0; i < m; i++) {
+        double a;
+        sl_status st = check_row(i, sigma, aux, family, &a, err);
+        if (st != SL_OK)
+            return st;
+        if (!prob_ok(u[i]))
+            return sl_fail(err, SL_EINVAL, "badprob",
+                           "draw %lu: the uniform must lie strictly between 0 "
+                           "and 1, got %s",
+                           (unsigned long)(i + 1), show(u[i], b1, sizeof b1));
+        if (z != NULL && !isfinite(z[i]))
+            return sl_fail(err, SL_EINVAL, "badnormal",
+                           "draw %lu: the standard normal must be finite, got %s",
+                           (unsigned long)(i + 1), show(z[i], b1, sizeof b1));
+    }
+    return SL_OK;
+}
+
+sl_status sl_family_quantiles(size_t m, const int *family, const double *u,
+                              const double *h, const double *sigma,
+                              const double *aux, double *y, sl_error *err)
+{
+    size_t i;
+    sl_status st = check_draws(m, family, NULL, u, h, sigma, aux, y, err);
+    if (st != SL_OK)
+        return st;
+    for (i = 0; i < m; i++)
+        y[i] = families[family[i]].type.quantile(
+            u[i], h[i], sigma != NULL ? sigma[i] : NOT_A_NUMBER,
+            aux != NULL ? aux[i] : NOT_A_NUMBER);
+    return SL_OK;
+}
+
+sl_status sl_family_samples(size_t m, const int *family, const double *z,
+                            const double *u, const double *h,
+                            const double *sigma, const double *aux, double *y,
+                            sl_error *err)
+{
+    size_t i;
+    sl_status st;
+    if (m > 0 && z == NULL)
+        return sl_fail(err, SL_EINVAL, "badarg",
+                       "standard normals are required for %lu draws",
+                       (unsigned long)m);
+    st = check_draws(m, family, z, u, h, sigma, aux, y, err);
+    if (st != SL_OK)
+        return st;
+    for (i = 0; i < m; i++)
+        y[i] = families[family[i]].type.sample(
+            z[i], u[i], h[i], sigma != NULL ? sigma[i] : NOT_A_NUMBER,
+            aux != NULL ? aux[i] : NOT_A_NUMBER);
     return SL_OK;
 }
 

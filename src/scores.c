@@ -3,6 +3,7 @@
 #include "sluice/rng.h"
 
 #include <math.h>
+#include <stdlib.h>
 
 /* In-place sort of finite doubles: quicksort with a median-of-three pivot,
  * insertion sort for short runs and heapsort once the depth limit is hit,
@@ -149,6 +150,89 @@ sl_status sl_scores_crps(size_t m, size_t N, const double *X, size_t ldx,
             spread += (2.0 * (double)j + 1.0 - dN) * (v - shift);
         }
         crps[i] = abs_obs / dN - spread / (dN * dN);
+    }
+    return SL_OK;
+}
+
+/* A member and its weight, sorted together by the member's value. */
+typedef struct {
+    double x, w;
+} weighted_member;
+
+static int by_value(const void *a, const void *b)
+{
+    const double x = ((const weighted_member *)a)->x;
+    const double y = ((const weighted_member *)b)->x;
+    return (x > y) - (x < y);
+}
+
+size_t sl_scores_crps_weighted_workspace(size_t N)
+{
+    return 2 * N;
+}
+
+sl_status sl_scores_crps_weighted(size_t m, size_t N, size_t K,
+                                  const double *X, const double *w,
+                                  const double *y, double *crps, double *work,
+                                  sl_error *err)
+{
+    weighted_member *s = (weighted_member *)work;
+    size_t i, j, k;
+    sl_status st = check_shape(m, N, m, "crps", err);
+    if (st != SL_OK)
+        return st;
+    for (k = 0; k < K; k++) {
+        const double *wk = w + k * N;
+        double total = 0;
+        for (j = 0; j < N; j++) {
+            if (!(isfinite(wk[j]) && wk[j] >= 0))
+                return sl_fail(err, SL_EINVAL, "badweights",
+                               "crps: weight %lu of block %lu must be finite "
+                               "and >= 0, got %g",
+                               (unsigned long)(j + 1), (unsigned long)(k + 1),
+                               wk[j]);
+            total += wk[j];
+        }
+        if (!(total > 0) || !isfinite(total))
+            return sl_fail(err, SL_EINVAL, "badweights",
+                           "crps: the weights of block %lu must have a finite "
+                           "positive sum, got %g",
+                           (unsigned long)(k + 1), total);
+        for (i = 0; i < m; i++) {
+            const double *x = X + k * m * N + i;
+            const double yi = y[k * m + i];
+            double cum = 0, abs_obs = 0, spread = 0, shift;
+            size_t n = 0;
+            for (j = 0; j < N; j++) {
+                if (wk[j] == 0)
+                    continue; /* no part in either sum */
+                if (!isfinite(x[j * m]))
+                    return sl_fail(err, SL_EINVAL, "nonfinite",
+                                   "crps: member %lu of row %lu of block %lu is not finite",
+                                   (unsigned long)(j + 1), (unsigned long)(i + 1),
+                                   (unsigned long)(k + 1));
+                s[n].x = x[j * m];
+                s[n].w = wk[j] / total;
+                n++;
+            }
+            if (isnan(yi)) {
+                crps[k * m + i] = NAN;
+                continue;
+            }
+            qsort(s, n, sizeof *s, by_value);
+            /* E_w|X - y| - (1/2) sum_jk w_j w_k |x_j - x_k|, the latter
+             * for sorted members sum_i w_i x_i (2 W_i - w_i - 1) with
+             * W_i = w_1 + ... + w_i; those coefficients sum to zero, so
+             * members shifted by the middle one give the same sum with
+             * smaller terms */
+            shift = s[(n - 1) / 2].x;
+            for (j = 0; j < n; j++) {
+                cum += s[j].w;
+                abs_obs += s[j].w * fabs(s[j].x - yi);
+                spread += s[j].w * (s[j].x - shift) * (2 * cum - s[j].w - 1);
+            }
+            crps[k * m + i] = abs_obs - spread;
+        }
     }
     return SL_OK;
 }

@@ -36,6 +36,21 @@ typedef struct {
     int uses_sigma;       /* 1 if sigma must be finite and > 0 */
     const char *aux_name; /* NULL if aux is unused, else e.g. "n", "dof", "limit" */
     double (*logpdf)(double y, double h, double sigma, double aux);
+    /* The quantile (inverse CDF) of y at u in (0, 1) given h, sigma and aux,
+     * in the parameterisation of logpdf; for the count families (poisson,
+     * binomial) the smallest k with P(Y <= k) >= u, for censored the
+     * limit up to the level P(Y = limit). NaN for a u outside (0, 1), an
+     * invalid sigma or aux, or an h outside the family's domain (non-finite;
+     * lognormal h <= 0; poisson h < 0 or above 2^53). A student_t
+     * quantile of the standard t beyond 1e154 in size is +-Inf. */
+    double (*quantile)(double u, double h, double sigma, double aux);
+    /* A draw of y given h, sigma and aux from an independent standard
+     * normal z and uniform u in (0, 1). The families that are transforms of
+     * a normal (gaussian h + sigma z, lognormal exp(log h + sigma z),
+     * censored max(h + sigma z, limit)) use z: their quantile at Phi(z)
+     * without rounding through Phi. The others return quantile(u). NaN
+     * as for quantile, and for a non-finite z where z is used. */
+    double (*sample)(double z, double u, double h, double sigma, double aux);
 } sl_family;
 
 /* The family with this id, or NULL for an id out of range. */
@@ -49,6 +64,23 @@ int sl_family_find(const char *name);
  * "badfamily", "badsigma", "badaux", "badvalue", naming the 1-based row. */
 sl_status sl_loglik_check(size_t m, const double *y, const double *sigma,
                           const double *aux, const int *family, sl_error *err);
+
+/* Quantiles of m rows: y[i] = quantile of family[i] at u[i] given h[i],
+ * sigma[i] and aux[i] (sigma and aux may be NULL when no row's family uses
+ * them). Fails (SL_EINVAL) with the reasons of sl_loglik_check for a bad
+ * family id, sigma or aux, and "badprob" for a u[i] outside (0, 1); an h[i]
+ * outside the family's domain gives y[i] = NaN. Does not allocate. */
+sl_status sl_family_quantiles(size_t m, const int *family, const double *u,
+                              const double *h, const double *sigma,
+                              const double *aux, double *y, sl_error *err);
+
+/* Draws of m rows: y[i] = sample of family[i] from z[i] (standard normal)
+ * and u[i] (uniform) given h[i], sigma[i] and aux[i]. Fails as
+ * sl_family_quantiles, and with "badnormal" for a non-finite z[i]. */
+sl_status sl_family_samples(size_t m, const int *family, const double *z,
+                            const double *u, const double *h,
+                            const double *sigma, const double *aux, double *y,
+                            sl_error *err);
 
 /* Log-likelihood of every member: ll[j] = sum over rows i with non-NaN y_i of
  * logpdf(y_i | Yhat[i + j*ldy]). If `accumulate` is non-zero the sum is added

@@ -28,6 +28,29 @@ sl_status sl_scores_crps(size_t m, size_t N, const double *X, size_t ldx,
                          const double *y, double *crps, double *work,
                          sl_error *err);
 
+/* Doubles of workspace sl_scores_crps_weighted needs for N members. */
+size_t sl_scores_crps_weighted_workspace(size_t N);
+
+/* CRPS of weighted ensembles: K blocks, block k holding m rows of N
+ * members X[i + j*m + k*m*N] (an m x N x K array, column-major), weights
+ * w[j + k*N] (normalised within the block) and observations y[i + k*m].
+ * The score is that of the weighted empirical distribution,
+ *     crps = sum_j w_j |x_j - y| - (1/2) sum_{j,k} w_j w_k |x_j - x_k|,
+ * the double sum in O(N log N) from the members sorted with their weights:
+ *     sum_{j<k} w_j w_k (x_(k) - x_(j)) = sum_i w_i x_(i) (2 W_i - w_i - 1),
+ * W_i the cumulative weight. With equal weights it is sl_scores_crps. A
+ * member of weight 0 has no part in it (and may be non-finite). A NaN
+ * y gives NaN. Results go to crps[i + k*m]. work holds at least
+ * sl_scores_crps_weighted_workspace(N) doubles. Fails (SL_EINVAL) when
+ * N = 0 ("empty"), a member of positive weight is not finite
+ * ("nonfinite"), or a weight is
+ * negative or not finite or a block's weights do not have a finite positive
+ * sum ("badweights"). */
+sl_status sl_scores_crps_weighted(size_t m, size_t N, size_t K,
+                                  const double *X, const double *w,
+                                  const double *y, double *crps, double *work,
+                                  sl_error *err);
+
 /* Rank of the observation among the members of each row, 1 .. N+1:
  * rank[i] = 1 + #{x_j < y[i]} + u, where u is uniform on 0 .. #{x_j = y[i]}
  * (ties broken at random). u is drawn from the stream

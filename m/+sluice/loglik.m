@@ -321,3 +321,60 @@ end
 %!error id=sluice:loglik:badaux sluice.loglik ('censored', 1, 1, 1, NaN)
 %!error <observation 1: student_t dof must be finite and \S 0, got 0$> sluice.loglik ('student_t', 1, 1, 1, 0)
 %!error <observation 2: binomial n must be a whole number> sluice.loglik ('binomial', [1 1], [1; 1], 1, [3 2.5])
+
+% quantiles and draws of the families (sluice.kernel.loglik's 'quantile'
+% and 'sample' modes, which sluice.twin uses)
+%!test
+%! % gaussian and lognormal against the normal quantile by erfinv,
+%! % Phi^-1(u) = sqrt(2) erfinv(2u - 1) (handbook formula)
+%! u = [0.0123 0.31 0.5 0.77 0.9987];
+%! z = sqrt (2) * erfinv (2 * u - 1);
+%! q = sluice.kernel.loglik ('quantile', 'gaussian', u, [1.7 -2 0 3 4], 0.63, NaN);
+%! assert (q', [1.7 -2 0 3 4] + 0.63 * z, 1e-13);
+%! q = sluice.kernel.loglik ('quantile', 'lognormal', u, 4.41, 0.39, NaN);
+%! assert (q', exp (log (4.41) + 0.39 * z), 1e-12);
+%! % censored: the limit up to Phi((L - h)/sigma), erfc form
+%! q = sluice.kernel.loglik ('quantile', 'censored', u, 2, 0.8, 1.5);
+%! assert (q', max (2 + 0.8 * z, 1.5), 1e-13);
+%! % Student-t with 1 degree of freedom is the Cauchy: tan(pi (u - 1/2))
+%! q = sluice.kernel.loglik ('quantile', 'student_t', u, 0.25, 1.9, 1);
+%! assert (q', 0.25 + 1.9 * tan (pi * (u - 0.5)), 1e-9);
+
+%!test
+%! % counts: the smallest k with P(Y <= k) >= u, by Octave's gammainc
+%! % (P(Y <= k) = Q(k + 1, lambda), Abramowitz & Stegun 26.4.21) and
+%! % betainc (I_{1-p}(n - k, k + 1), 26.5.24)
+%! u = [0.0123 0.31 0.5 0.77 0.9987];
+%! k = sluice.kernel.loglik ('quantile', 'poisson', u, 3.7, NaN, NaN)';
+%! assert (all (gammainc (3.7, k + 1, 'upper') >= u));
+%! assert (all (k == 0 | gammainc (3.7, k, 'upper') < u));
+%! p = 1 / (1 + exp (0.8));
+%! k = sluice.kernel.loglik ('quantile', 'binomial', u, -0.8, NaN, 25)';
+%! F = @(k) betainc (1 - p, 25 - k, k + 1);
+%! assert (all (k == 25 | F (min (k, 24)) >= u));
+%! assert (all (k == 0 | F (max (k - 1, 0)) < u));
+
+%!test
+%! % draws: z for the normal families, u for the others; a cell of
+%! % families, one per row
+%! y = sluice.kernel.loglik ('sample', {'gaussian', 'student_t', 'poisson'}, ...
+%!                           [0.3 -1 2], [0.2 0.9 0.6], [1 2 3.7], [0.5 0.4 NaN], [NaN 3 NaN]);
+%! assert (y(1), 1 + 0.5 * 0.3);
+%! assert (y(2), sluice.kernel.loglik ('quantile', 'student_t', 0.9, 2, 0.4, 3));
+%! assert (y(3), sluice.kernel.loglik ('quantile', 'poisson', 0.6, 3.7, NaN, NaN));
+%! % outside the family's domain: NaN
+%! assert (isnan (sluice.kernel.loglik ('quantile', 'lognormal', 0.5, -1, 1, NaN)));
+
+%!error id=sluice:loglik:badprob sluice.kernel.loglik ('quantile', 'gaussian', 0, 1, 1, NaN)
+%!error id=sluice:loglik:badprob sluice.kernel.loglik ('quantile', 'poisson', [0.5 1], [1 1], NaN, NaN)
+%!error id=sluice:loglik:badprob sluice.kernel.loglik ('sample', 'gaussian', 0, NaN, 1, 1, NaN)
+%!error id=sluice:loglik:badnormal sluice.kernel.loglik ('sample', 'gaussian', Inf, 0.5, 1, 1, NaN)
+%!error id=sluice:loglik:badsigma sluice.kernel.loglik ('quantile', 'gaussian', 0.5, 1, -1, NaN)
+%!error id=sluice:loglik:badaux sluice.kernel.loglik ('quantile', 'binomial', 0.5, 1, NaN, 2.5)
+%!error id=sluice:loglik:badfamily sluice.kernel.loglik ('quantile', 'weibull', 0.5, 1, 1, NaN)
+%!error id=sluice:loglik:badclass sluice.kernel.loglik ('quantile', 3, 0.5, 1, 1, NaN)
+%!error id=sluice:loglik:badsize sluice.kernel.loglik ('quantile', 'gaussian', [0.5 0.6], [1 2 3], 1, NaN)
+%!error id=sluice:loglik:badsize sluice.kernel.loglik ('quantile', {'gaussian'}, [0.5 0.6], [1 2], 1, NaN)
+%!error id=sluice:loglik:nargin sluice.kernel.loglik ('quantile', 'gaussian', 0.5, 1, 1)
+%!error id=sluice:loglik:nargin sluice.kernel.loglik ('sample', 'gaussian', 0.5, 1, 1, NaN)
+%!error id=sluice:loglik:nargout [a, b] = sluice.kernel.loglik ('quantile', 'gaussian', 0.5, 1, 1, NaN)

@@ -45,7 +45,8 @@
 % equal weights is scored with @code{sluice.crps}; a weighted ensemble with
 % the weighted form E|X - y| - E|X - X'|/2 with E_w |X - X'| the double sum
 % of w_j w_k |x_j - x_k|, which equals the CRPS of the resampled
-% equivalent (each member repeated in proportion to its weight).
+% equivalent (each member repeated in proportion to its weight), computed
+% in the C core; a member of weight 0 has no part in it.
 % @item ess_mean, ess_min, ess_mean_fraction, resampling_rate, resampled_count
 % effective sample size and resampling statistics over all cycles of the
 % run (they need no truth); the fraction is ESS / N.
@@ -226,19 +227,8 @@ function [V, C] = ensemble_scores (X, W, Y)
   Wb = reshape (repmat (reshape (W, 1, N, K), [n 1 1]), n, N, K);
   m = sum (Wb .* X, 2);                                   % n x 1 x K
   V = reshape (sum (Wb .* (X - m) .^ 2, 2), n, K);
-  % rows (state, time) as an (n K) x N matrix
-  R = reshape (permute (X, [1 3 2]), n * K, N);
-  Rw = reshape (permute (Wb, [1 3 2]), n * K, N);
-  y = Y(:);
-  [Rs, o] = sort (R, 2);
-  idx = sub2ind ([n * K, N], repmat ((1:n*K)', 1, N), o);
-  ws = Rw(idx);
-  cw = cumsum (ws, 2);
-  % E_w|X - y| - (1/2) sum_jk w_j w_k |x_j - x_k|, the latter for sorted
-  % members being sum_i w_i x_i (2 W_i - w_i - 1), W_i = w_1 + ... + w_i
-  half = sum (ws .* Rs .* (2 * cw - ws - 1), 2);
-  C = sum (Rw .* abs (R - y), 2) - half;
-  C = reshape (C, n, K);
+  % the weighted CRPS of every row and time in the core
+  C = sluice.kernel.scores ('crps_weighted', X, Y, W);
   % cycles with equal weights: the ensemble CRPS itself
   equal = all (abs (W - 1 / N) <= 1e-12 / N, 1);
   for k = find (equal)
@@ -597,3 +587,26 @@ end
 %!error id=sluice:scores:nonfinite sluice.kernel.scores ('skill', [1 2 3], [1 -Inf 3])
 %!error id=sluice:scores:nargin sluice.kernel.scores ('skill', [1 2])
 %!error id=sluice:scores:badclass sluice.kernel.scores ('skill', single ([1 2]), [1 2])
+
+% the weighted CRPS kernel
+%!test
+%! % two members x1 < x2 with weights w, 1 - w, by the definition:
+%! % w |x1 - y| + (1 - w) |x2 - y| - w (1 - w) (x2 - x1)
+%! c = sluice.kernel.scores ('crps_weighted', [-0.731 2.385], 0.5, [0.3; 0.7]);
+%! assert (c, 0.3 * 1.231 + 0.7 * 1.885 - 0.21 * 3.116, 1e-15);
+%! % a member of weight 0 has no part, even NaN; NaN truth gives NaN
+%! X = reshape ([-0.731 NaN 2.385 1 2 3], 1, 3, 2);   % 1 row, 3 members, 2 blocks
+%! c = sluice.kernel.scores ('crps_weighted', X, [0.5 NaN], [3 0 7; 1 1 1]');
+%! assert (size (c), [1 2]);
+%! assert (c(1), 0.3 * 1.231 + 0.7 * 1.885 - 0.21 * 3.116, 1e-15);
+%! assert (isnan (c(2)));
+%!error id=sluice:scores:badweights sluice.kernel.scores ('crps_weighted', [1 2], 1, [1; -1])
+%!error id=sluice:scores:badweights sluice.kernel.scores ('crps_weighted', [1 2], 1, [0; 0])
+%!error id=sluice:scores:nonfinite sluice.kernel.scores ('crps_weighted', [1 Inf], 1, [1; 1])
+%!error id=sluice:scores:badweights sluice.kernel.scores ('crps_weighted', [1 2], 1, [1; NaN])
+%!error id=sluice:scores:badsize sluice.kernel.scores ('crps_weighted', [1 2], [1 2], [1; 1])
+%!error id=sluice:scores:badsize sluice.kernel.scores ('crps_weighted', [1 2], 1, [1; 1; 1])
+%!error id=sluice:scores:badclass sluice.kernel.scores ('crps_weighted', single ([1 2]), 1, [1; 1])
+%!error id=sluice:scores:badclass sluice.kernel.scores ('crps_weighted', ones (1, 2, 2, 2), 1, [1; 1])
+%!error id=sluice:scores:empty sluice.kernel.scores ('crps_weighted', zeros (1, 0), 1, zeros (0, 1))
+%!error id=sluice:scores:nargin sluice.kernel.scores ('crps_weighted', [1 2], 1)

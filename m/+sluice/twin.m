@@ -38,8 +38,10 @@
 % (a count y ~ Poisson(x); the truth must be >= 0) or @code{'binomial'}
 % (y successes of @code{n} trials, success probability 1/(1 + exp(-x)):
 % x is the logit, e.g. a derived quantity; the answers of a
-% questionnaire). The draws are exact inversions of the distributions'
-% CDFs at uniforms from the counter-based streams.
+% questionnaire). Gaussian, lognormal and censored values are made from
+% the standard normal of the observation (see @code{seed}); Student-t,
+% Poisson and binomial values invert the family's CDF exactly at a
+% uniform from the same stream. The truth observed must be finite.
 % @item n, dof, limit
 % the family's extra number: binomial trials (a whole number >= 1),
 % Student-t degrees of freedom (> 0), detection limit.
@@ -117,7 +119,8 @@
 %
 % Errors: @code{sluice:twin:badtruth}, @code{sluice:twin:badnetwork}
 % (not a struct array, unknown variable, unknown family, invalid interval,
-% window, sigma or fraction, lognormal observation of a truth <= 0),
+% window, sigma or fraction, a non-finite truth, lognormal observation of
+% a truth <= 0, Poisson observation of a truth < 0 or above 2^53),
 % @code{sluice:twin:emptynetwork} (no observation time at all),
 % @code{sluice:twin:noprior}, @code{sluice:twin:badoption}; the truth's
 % state and parameters raise @code{sluice:twin:badstate} and
@@ -383,7 +386,8 @@ function net = check_network (network, names, times)
   t1 = times(1);
   tT = times(end);
   net = struct ('var', {}, 'times', {}, 'sigma', {}, 'family', {}, 'missing', {}, 'aux', {});
-  families = {'gaussian', 'lognormal', 'student_t', 'censored', 'poisson', 'binomial'};
+  core = sluice.kernel.core_names ();   % the core's table of families
+  families = core.families;
   for k = 1:numel (network)
     e = network(k);
     v = e.variable;
@@ -496,8 +500,12 @@ function obs = synthesize (net, names, tall, truth_all, seed)
     r = j + (1:counts(k));
     [~, it] = ismember (e.times, tall);
     x = truth_all(e.var, it);
-    z = D(1, r);
-    u = D(3, r);
+    bad = find (~isfinite (x), 1);
+    if (~isempty (bad))
+      error ('sluice:twin:badnetwork', ...
+             'network(%d): a %s observation of ''%s'' needs a finite truth, got %g at t = %g', ...
+             k, e.family, names{e.var}, x(bad), e.times(bad));
+    end
     switch (e.family)
       case 'lognormal'
         bad = find (~(x > 0), 1);
@@ -506,29 +514,19 @@ function obs = synthesize (net, names, tall, truth_all, seed)
                  'network(%d): a lognormal observation of ''%s'' needs a truth > 0, got %g at t = %g', ...
                  k, names{e.var}, x(bad), e.times(bad));
         end
-        y = exp (log (x) + e.sigma * z);
-      case 'student_t'
-        y = x + e.sigma * t_inverse (u, e.aux);
-      case 'censored'
-        y = max (x + e.sigma * z, e.aux);
       case 'poisson'
-        bad = find (~(x >= 0 & isfinite (x)), 1);
+        bad = find (~(x >= 0 & x <= 2^53), 1);
         if (~isempty (bad))
           error ('sluice:twin:badnetwork', ...
-                 'network(%d): a Poisson observation of ''%s'' needs a finite truth >= 0, got %g at t = %g', ...
+                 'network(%d): a Poisson observation of ''%s'' needs a truth from 0 to 2^53, got %g at t = %g', ...
                  k, names{e.var}, x(bad), e.times(bad));
         end
-        y = poisson_inverse (u, x);
-      case 'binomial'
-        bad = find (~isfinite (x), 1);
-        if (~isempty (bad))
-          error ('sluice:twin:badnetwork', ...
-                 'network(%d): a binomial observation of ''%s'' needs a finite logit, got %g at t = %g', ...
-                 k, names{e.var}, x(bad), e.times(bad));
-        end
-        y = binomial_inverse (u, e.aux, 1 ./ (1 + exp (-x)));
-      otherwise
-        y = x + e.sigma * z;
+    end
+    % the family's draw in the core: gaussian, lognormal and censored from
+    % the normal z, the others by inverting the CDF at the uniform
+    y = zeros (1, counts(k));
+    if (counts(k) > 0)
+      y = sluice.kernel.loglik ('sample', e.family, D(1, r), D(3, r), x, e.sigma, e.aux)';
     end
     drop = round (e.missing * counts(k));
     if (drop > 0)
@@ -556,50 +554,6 @@ function obs = synthesize (net, names, tall, truth_all, seed)
       obs.(extra{k, 1}) = a;
     end
   end
-end
-
-function y = t_inverse (u, nu)
-  % the Student-t quantile by the regularised incomplete beta function:
-  % for t > 0, P(T > t) = I_{nu/(nu + t^2)}(nu/2, 1/2) / 2 (Abramowitz &
-  % Stegun 26.7.1)
-  p = min (u, 1 - u);
-  b = betaincinv (2 * p, nu / 2, 0.5);
-  y = sign (u - 0.5) .* sqrt (nu * (1 ./ b - 1));
-end
-
-function y = poisson_inverse (u, lambda)
-  % the smallest k with P(Y <= k) >= u, by bisection on
-  % P(Y <= k) = Q(k + 1, lambda), the upper regularised incomplete gamma
-  % function (Abramowitz & Stegun 6.5.2 and 26.4.21)
-  lo = -ones (size (u));
-  hi = ceil (lambda + 40 * sqrt (lambda) + 40);
-  while (any (hi - lo > 1))
-    mid = floor ((lo + hi) / 2);
-    F = gammainc (lambda, mid + 1, 'upper');
-    F(lambda == 0) = 1;
-    up = F >= u;
-    hi(up) = mid(up);
-    lo(~up) = mid(~up);
-  end
-  y = hi;
-end
-
-function y = binomial_inverse (u, n, p)
-  % the smallest k with P(Y <= k) >= u, by bisection on
-  % P(Y <= k) = I_{1-p}(n - k, k + 1), the regularised incomplete beta
-  % function (Abramowitz & Stegun 26.5.24)
-  lo = -ones (size (u));
-  hi = n * ones (size (u));
-  while (any (hi - lo > 1))
-    mid = floor ((lo + hi) / 2);
-    F = ones (size (u));
-    in = mid < n;
-    F(in) = betainc (1 - p(in), n - mid(in), mid(in) + 1);
-    up = F >= u;
-    hi(up) = mid(up);
-    lo(~up) = mid(~up);
-  end
-  y = hi;
 end
 
 function [rmse, spread, perr] = score (r, Xt, times, params, ops)
@@ -685,6 +639,23 @@ end
 %! assert (all (isnan (r.obs.value) <= ismember (r.obs.time, 12:2:18)));
 %! assert (r.filter.skipped_total, 2);
 
+%!test
+%! % Student-t values invert the t CDF at the third uniform of each
+%! % observation's stream (seed 4 seed + 1 = 9): for t > 0,
+%! % P(T > t) = I_{nu/(nu + t^2)}(nu/2, 1/2) / 2 (Abramowitz & Stegun
+%! % 26.7.1), by Octave's betainc
+%! n3 = struct ('variable', 'x1', 'every', 1, 'family', 'student_t', 'sigma', 0.3, 'dof', 2.7);
+%! r = sluice.twin (spec, truth, n3, 'seed', 2, 'prior', pr, 'openloop', false, ...
+%!                  'filter', {'members', 50});
+%! D = sluice.draw ([sluice.prior('z', 'normal', [0 1]), sluice.prior('u', 'uniform', [0 1]), ...
+%!                   sluice.prior('v', 'uniform', [0 1])], 41, 9);
+%! t = (r.obs.value' - r.truth.X) / 0.3;
+%! tail = betainc (2.7 ./ (2.7 + t .^ 2), 2.7 / 2, 0.5) / 2;
+%! F = tail; F(t > 0) = 1 - tail(t > 0);
+%! assert (F, D(3, :), 1e-12);
+
+%!error <needs a finite truth> sluice.twin (sluice.model ('linear', 'A', 0.9), struct ('times', 0:5, 'x0', 1), struct ('variable', 'big', 'every', 1, 'sigma', 1), 'prior', sluice.prior ('x1', 'normal', [0 1]), 'filter', {'operators', struct('names', 'big', 'fun', @(t, X, P) Inf * X)})
+%!error id=sluice:twin:badnetwork sluice.twin (sluice.model ('linear', 'A', 0.9), struct ('times', 0:5, 'x0', 1), struct ('variable', 'big', 'every', 1, 'sigma', 1), 'prior', sluice.prior ('x1', 'normal', [0 1]), 'filter', {'operators', struct('names', 'big', 'fun', @(t, X, P) Inf * X)})
 %!error id=sluice:twin:emptynetwork sluice.twin (sluice.model ('linear', 'A', 0.9), struct ('times', 0:5), struct ('variable', {}, 'every', {}, 'sigma', {}), 'prior', sluice.prior ('x1', 'normal', [0 1]))
 %!error id=sluice:twin:emptynetwork sluice.twin (sluice.model ('linear', 'A', 0.9), struct ('times', 0:5), [], 'prior', sluice.prior ('x1', 'normal', [0 1]))
 %!error id=sluice:twin:emptynetwork sluice.twin (sluice.model ('linear', 'A', 0.9), struct ('times', 0:5), struct ('variable', 'x1', 'every', 1, 'sigma', 1, 'from', 3, 'to', 2), 'prior', sluice.prior ('x1', 'normal', [0 1]))

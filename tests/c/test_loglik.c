@@ -1,10 +1,13 @@
 /* test_loglik.c - the six likelihood families against GSL's densities, the
  * ensemble sum (missing rows, accumulation, blown-up members), far tails and
- * every reason the check can give. GSL's aborting error handler is left on
+ * every reason the check can give; their quantiles and draws against GSL's
+ * inverse CDFs and CDFs. GSL's aborting error handler is left on
  * on purpose: no input here may reach a GSL error path. */
 #include "check.h"
 #include "sluice/loglik.h"
+#include "sluice/rng.h"
 
+#include <float.h>
 #include <stdlib.h>
 #include <gsl/gsl_cdf.h>
 #include <gsl/gsl_math.h>
@@ -95,6 +98,39 @@ static void expect_ok(int fam, double y, double sigma, double aux,
     sl_error err;
     sl_status st = check1(fam, y, sigma, aux, &err);
     CHECK(st == SL_OK, "%s: status %d (%s)", what, (int)st, err.message);
+}
+
+
+/* The smallest k with cdf(k) >= u by a scan from 0: the definition of a
+ * discrete quantile, with GSL's gsl_cdf_poisson_P / gsl_cdf_binomial_P. */
+static double ref_poisson_quantile(double u, double mu)
+{
+    unsigned int k = 0;
+    if (mu == 0)
+        return 0;
+    while (gsl_cdf_poisson_P(k, mu) < u)
+        k++;
+    return (double)k;
+}
+
+static double ref_binomial_quantile(double u, double p, unsigned int n)
+{
+    unsigned int k = 0;
+    while (k < n && gsl_cdf_binomial_P(k, p, n) < u)
+        k++;
+    return (double)k;
+}
+
+/* A Cornish-Fisher approximation of a discrete quantile with mean mu,
+ * standard deviation sd and skewness g at u, continuity-corrected: the
+ * quantile k satisfies k + 1/2 ~ mu + sd (z + g (z^2 - 1)/6), with
+ * z = Phi^-1(u) (Johnson, Kemp & Kotz, Univariate Discrete Distributions,
+ * from memory); its error is O(1/sd) counts, so for large sd the exact
+ * quantile lies within about one count of it. */
+static double cornish_fisher_k(double u, double mu, double sd, double g)
+{
+    const double z = gsl_cdf_ugaussian_Pinv(u);
+    return mu + sd * (z + g * (z * z - 1) / 6) - 0.5;
 }
 
 int main(void)
@@ -517,6 +553,236 @@ int main(void)
             CHECK(sl_loglik_ensemble(2, 2, ys, Y, 2, ss, NULL, fs, 0, ll, NULL,
                                      NULL) == SL_OK,
                   "a NULL error record is allowed");
+        }
+    }
+
+
+    /* ---- quantiles against GSL's inverse CDFs ---- */
+    {
+        sl_stream st;
+        const sl_family *g = sl_family_get(SL_FAMILY_GAUSSIAN);
+        const sl_family *ln = sl_family_get(SL_FAMILY_LOGNORMAL);
+        const sl_family *t = sl_family_get(SL_FAMILY_STUDENT_T);
+        const sl_family *po = sl_family_get(SL_FAMILY_POISSON);
+        const sl_family *bi = sl_family_get(SL_FAMILY_BINOMIAL);
+        const sl_family *ce = sl_family_get(SL_FAMILY_CENSORED);
+        static const double dofs[] = {1, 2, 3, 4.5, 10, 47.3, 1e4};
+        static const double mus[] = {0, 0.0371, 1, 3.7, 28.6, 512.25};
+        static const unsigned int trials[] = {1, 7, 25, 400};
+        static const double logits[] = {-6.2, -0.8, 0, 1.37, 9.5};
+        int k;
+        for (k = 0; k < SL_FAMILY_COUNT; k++)
+            CHECK(sl_family_get(k)->quantile != NULL &&
+                      sl_family_get(k)->sample != NULL,
+                  "family %d has quantile and sample", k);
+        sl_stream_init(&st, 2385, 0, 0, SL_PURPOSE_USER);
+        for (i = 0; i < 200; i++) {
+            /* uniforms of the streams, plus far tails */
+            double u = i < 190 ? sl_stream_uniform(&st)
+                               : (i % 2 ? 1 - pow(10, -(double)(i - 185)) : pow(10, -(double)(i - 184)));
+            /* gsl_cdf_gaussian_Pinv and gsl_cdf_lognormal_Pinv: the same
+             * arithmetic, so equal to the bit */
+            CHECK(g->quantile(u, 1.7319, 0.6283, QNAN) ==
+                      1.7319 + gsl_cdf_gaussian_Pinv(u, 0.6283),
+                  "gaussian quantile at %.17g", u);
+            CHECK(ln->quantile(u, 4.41, 0.39, QNAN) ==
+                      gsl_cdf_lognormal_Pinv(u, log(4.41), 0.39),
+                  "lognormal quantile at %.17g", u);
+            /* censored at L: L up to Phi((L - h)/sigma), above it the
+             * normal quantile (gsl_cdf_gaussian_P / _Pinv) */
+            {
+                const double L = 1.5, h = 2.0, sd = 0.8;
+                const double q = ce->quantile(u, h, sd, L);
+                if (u <= gsl_cdf_gaussian_P(L - h, sd) - 1e-15)
+                    CHECK(q == L, "censored quantile at %.17g: %.17g", u, q);
+                else if (u >= gsl_cdf_gaussian_P(L - h, sd) + 1e-15)
+                    CHECK(q == h + gsl_cdf_gaussian_Pinv(u, sd),
+                          "censored quantile at %.17g: %.17g", u, q);
+            }
+            /* Student's t: gsl_cdf_tdist_Pinv where its Newton iteration
+             * converges (nu >= 1); nu = 1 and 2 also in closed form,
+             * tan(pi (u - 1/2)) = -cot(pi u) and (2u - 1)/sqrt(2 u (1 - u))
+             * (from memory: the Cauchy and the t with 2 degrees of
+             * freedom), the first in a form exact in the tails */
+            for (j = 0; j < sizeof dofs / sizeof dofs[0]; j++) {
+                const double q = t->quantile(u, 0.25, 1.9, dofs[j]);
+                const double z = (q - 0.25) / 1.9;
+                if (i < 190)
+                    CHECK_REL(z, gsl_cdf_tdist_Pinv(u, dofs[j]), 1e-11,
+                              "t quantile vs gsl_cdf_tdist_Pinv");
+                CHECK_RELV(gsl_cdf_tdist_P(t->quantile(u, 0, 1, dofs[j]), dofs[j]),
+                           u, 1e-12, "t: P(quantile) = u");
+            }
+            CHECK_REL(t->quantile(u, 0, 1, 1),
+                      u < 0.5 ? -1 / tan(M_PI * u) : 1 / tan(M_PI * (1 - u)),
+                      1e-12, "Cauchy quantile");
+            CHECK_REL(t->quantile(u, 0, 1, 2),
+                      (2 * u - 1) / sqrt(2 * u * (1 - u)), 1e-12,
+                      "t(2) quantile");
+            /* below 1 degree of freedom gsl_cdf_tdist_Pinv does not always
+             * converge (it fails at nu = 0.7, u = 0.627); the quantile
+             * must still invert GSL's CDF */
+            {
+                static const double small[] = {0.7, 0.31};
+                for (j = 0; j < 2; j++) {
+                    const double q = t->quantile(u, 0, 1, small[j]);
+                    if (fabs(q) < 1e300)
+                        CHECK_RELV(gsl_cdf_tdist_P(q, small[j]), u, 1e-11,
+                                   "t below 1 dof: P(quantile) = u");
+                }
+                CHECK(t->quantile(0.627, 0, 1, 0.7) > 0 &&
+                          fabs(gsl_cdf_tdist_P(t->quantile(0.627, 0, 1, 0.7), 0.7) -
+                               0.627) < 1e-14,
+                      "t(0.7) at u = 0.627");
+            }
+            if (i >= 190)
+                continue;
+            /* Poisson and binomial: the smallest k with GSL's CDF >= u */
+            for (j = 0; j < sizeof mus / sizeof mus[0]; j++)
+                CHECK(po->quantile(u, mus[j], QNAN, QNAN) ==
+                          ref_poisson_quantile(u, mus[j]),
+                      "poisson(%g) quantile at %.17g: %g vs %g", mus[j], u,
+                      po->quantile(u, mus[j], QNAN, QNAN),
+                      ref_poisson_quantile(u, mus[j]));
+            for (j = 0; j < sizeof trials / sizeof trials[0]; j++) {
+                size_t l;
+                for (l = 0; l < sizeof logits / sizeof logits[0]; l++) {
+                    const double p = 1 / (1 + exp(-logits[l]));
+                    CHECK(bi->quantile(u, logits[l], QNAN, trials[j]) ==
+                              ref_binomial_quantile(u, p, trials[j]),
+                          "binomial(%u, %g) quantile at %.17g", trials[j],
+                          logits[l], u);
+                }
+            }
+        }
+        /* large counts: GSL's own CDFs lose their way here (its Q past
+         * lambda = 1e6, its incomplete beta past 512 continued-fraction
+         * terms), so the reference is the Cornish-Fisher expansion */
+        sl_stream_init(&st, 2385, 1, 0, SL_PURPOSE_USER);
+        for (i = 0; i < 40; i++) {
+            const double u = sl_stream_uniform(&st);
+            static const double lam[] = {2.5e6, 1e9, 3.3e12};
+            static const double big[] = {1e6 + 1, 3e7, 2147483648.0};
+            for (j = 0; j < 3; j++) {
+                const double q = po->quantile(u, lam[j], QNAN, QNAN);
+                const double c = cornish_fisher_k(u, lam[j], sqrt(lam[j]),
+                                                  1 / sqrt(lam[j]));
+                CHECK(q == floor(q) && fabs(q - c) <= 1.01,
+                      "poisson(%g) at %.17g: %.17g vs %.17g", lam[j], u, q, c);
+            }
+            for (j = 0; j < 3; j++) {
+                const double h = -0.8, p = 1 / (1 + exp(0.8));
+                const double sd = sqrt(big[j] * p * (1 - p));
+                const double q = bi->quantile(u, h, QNAN, big[j]);
+                const double c = cornish_fisher_k(u, big[j] * p, sd,
+                                                  (1 - 2 * p) / sd);
+                CHECK(q == floor(q) && fabs(q - c) <= 1.01,
+                      "binomial(%g) at %.17g: %.17g vs %.17g", big[j], u, q, c);
+            }
+            /* just above the switch to the own continued fraction GSL's
+             * CDF still holds: the smallest k by gsl_cdf_binomial_P */
+            if (i < 5) {
+                const double p = 1 / (1 + exp(-1.37));
+                const double q = bi->quantile(u, 1.37, QNAN, 1e6 + 1);
+                CHECK(gsl_cdf_binomial_P((unsigned int)q, p, 1000001) >= u &&
+                          gsl_cdf_binomial_P((unsigned int)q - 1, p, 1000001) < u,
+                      "binomial(1e6 + 1) at %.17g: %.17g", u, q);
+            }
+        }
+        /* edges: the support's bottom, u outside (0, 1), bad parameters */
+        CHECK(po->quantile(0.3, 0, QNAN, QNAN) == 0, "poisson(0) is 0");
+        CHECK(bi->quantile(1e-300, -700, QNAN, 5) == 0 &&
+                  bi->quantile(1 - 1e-16, 700, QNAN, 5) == 5,
+              "binomial at its ends");
+        CHECK(isnan(g->quantile(0, 0, 1, QNAN)) && isnan(g->quantile(1, 0, 1, QNAN)) &&
+                  isnan(g->quantile(QNAN, 0, 1, QNAN)), "u outside (0, 1)");
+        CHECK(isnan(g->quantile(0.5, 0, 0, QNAN)) && isnan(g->quantile(0.5, HUGE_VAL, 1, QNAN)),
+              "gaussian bad sigma, h");
+        CHECK(isnan(ln->quantile(0.5, 0, 1, QNAN)) && isnan(ln->quantile(0.5, -1, 1, QNAN)),
+              "lognormal h <= 0");
+        CHECK(isnan(t->quantile(0.5, 0, 1, 0)) && isnan(t->quantile(0.5, 0, 1, QNAN)),
+              "t bad dof");
+        CHECK(t->quantile(0.5, 3, 1, 2.5) == 3, "t median is h");
+        CHECK(isnan(po->quantile(0.5, -1, QNAN, QNAN)) &&
+                  isnan(po->quantile(0.5, 1e17, QNAN, QNAN)),
+              "poisson h outside [0, 2^53]");
+        CHECK(isnan(bi->quantile(0.5, 0, QNAN, 2.5)) && isnan(bi->quantile(0.5, 0, QNAN, 0)) &&
+                  isnan(bi->quantile(0.5, QNAN, QNAN, 4)), "binomial bad n, h");
+        CHECK(isnan(ce->quantile(0.5, 0, 1, HUGE_VAL)), "censored bad limit");
+        /* with 1e-3 degrees of freedom P(T > y) ~ y^-nu falls so slowly
+         * that the 1e-10 quantile lies beyond 1e154: +-Inf */
+        CHECK(t->quantile(1e-10, 0, 1, 1e-3) == -HUGE_VAL &&
+                  t->quantile(1 - 1e-10, 0, 1, 1e-3) == HUGE_VAL,
+              "t quantile beyond 1e154 is infinite");
+        CHECK(fabs(t->quantile(0.45, 0, 1, 1e-3)) < 1e154 &&
+                  fabs(gsl_cdf_tdist_P(t->quantile(0.45, 0, 1, 1e-3), 1e-3) - 0.45) < 1e-13,
+              "t(1e-3) at u = 0.45: %.17g", t->quantile(0.45, 0, 1, 1e-3));
+
+        /* draws: the normal families from z, the others from u */
+        CHECK(g->sample(-0.37, 0.9, 2, 0.5, QNAN) == 2 + 0.5 * -0.37, "gaussian draw");
+        CHECK(ln->sample(-0.37, 0.9, 2, 0.5, QNAN) == exp(log(2.0) + 0.5 * -0.37),
+              "lognormal draw");
+        CHECK(ce->sample(-0.37, 0.9, 2, 0.5, 1.9) == 1.9 &&
+                  ce->sample(0.37, 0.9, 2, 0.5, 1.9) == 2 + 0.5 * 0.37,
+              "censored draw");
+        CHECK(t->sample(-0.37, 0.9, 2, 0.5, 3) == t->quantile(0.9, 2, 0.5, 3) &&
+                  po->sample(-0.37, 0.9, 3.7, QNAN, QNAN) == po->quantile(0.9, 3.7, QNAN, QNAN) &&
+                  bi->sample(-0.37, 0.9, 0.4, QNAN, 9) == bi->quantile(0.9, 0.4, QNAN, 9),
+              "t, poisson, binomial draws are quantiles at u");
+        CHECK(isnan(g->sample(HUGE_VAL, 0.5, 0, 1, QNAN)), "gaussian draw from z = Inf");
+    }
+
+    /* ---- quantiles and draws of many rows, and their checks ---- */
+    {
+        const int fam[4] = {SL_FAMILY_GAUSSIAN, SL_FAMILY_POISSON,
+                            SL_FAMILY_STUDENT_T, SL_FAMILY_BINOMIAL};
+        const double u[4] = {0.2, 0.7, 0.95, 0.4}, z[4] = {0.3, -1, 2, 0};
+        const double h[4] = {1, 3.7, -2, 0.5}, sg[4] = {0.5, QNAN, 2, QNAN};
+        const double ax[4] = {QNAN, QNAN, 4, 12};
+        double y[4], bad[4];
+        sl_error_clear(&err);
+        CHECK(sl_family_quantiles(4, fam, u, h, sg, ax, y, &err) == SL_OK, "quantiles");
+        for (i = 0; i < 4; i++)
+            CHECK(y[i] == sl_family_get(fam[i])->quantile(u[i], h[i], sg[i], ax[i]),
+                  "row %lu", (unsigned long)i);
+        CHECK(sl_family_samples(4, fam, z, u, h, sg, ax, y, &err) == SL_OK, "samples");
+        for (i = 0; i < 4; i++)
+            CHECK(y[i] == sl_family_get(fam[i])->sample(z[i], u[i], h[i], sg[i], ax[i]),
+                  "draw %lu", (unsigned long)i);
+        memcpy(bad, u, sizeof u);
+        bad[2] = 1;
+        CHECK(sl_family_quantiles(4, fam, bad, h, sg, ax, y, &err) == SL_EINVAL &&
+                  strcmp(err.reason, "badprob") == 0 &&
+                  strncmp(err.message, "draw 3:", 7) == 0, "u = 1: '%s'", err.message);
+        memcpy(bad, z, sizeof z);
+        bad[0] = QNAN;
+        CHECK(sl_family_samples(4, fam, bad, u, h, sg, ax, y, &err) == SL_EINVAL &&
+                  strcmp(err.reason, "badnormal") == 0, "z NaN: '%s'", err.message);
+        memcpy(bad, sg, sizeof sg);
+        bad[2] = -1;
+        CHECK(sl_family_samples(4, fam, z, u, h, bad, ax, y, &err) == SL_EINVAL &&
+                  strcmp(err.reason, "badsigma") == 0, "sigma < 0: '%s'", err.message);
+        memcpy(bad, ax, sizeof ax);
+        bad[3] = 2.5;
+        CHECK(sl_family_quantiles(4, fam, u, h, sg, bad, y, &err) == SL_EINVAL &&
+                  strcmp(err.reason, "badaux") == 0, "n = 2.5: '%s'", err.message);
+        {
+            int f2[4] = {SL_FAMILY_GAUSSIAN, SL_FAMILY_POISSON,
+                         SL_FAMILY_STUDENT_T, 9};
+            CHECK(sl_family_quantiles(4, f2, u, h, sg, ax, y, &err) == SL_EINVAL &&
+                      strcmp(err.reason, "badfamily") == 0, "family 9");
+        }
+        CHECK(sl_family_samples(4, fam, NULL, u, h, sg, ax, y, &err) == SL_EINVAL &&
+                  strcmp(err.reason, "badarg") == 0, "no z");
+        CHECK(sl_family_quantiles(4, fam, u, NULL, sg, ax, y, &err) == SL_EINVAL &&
+                  strcmp(err.reason, "badarg") == 0, "no h");
+        CHECK(sl_family_quantiles(0, NULL, NULL, NULL, NULL, NULL, NULL, &err) == SL_OK,
+              "no rows");
+        {
+            const double hneg[4] = {1, -3, -2, 0.5};
+            CHECK(sl_family_quantiles(4, fam, u, hneg, sg, ax, y, &err) == SL_OK &&
+                      isnan(y[1]) && !isnan(y[0]),
+                  "h outside the domain gives NaN");
         }
     }
 

@@ -1,5 +1,6 @@
 /* test_scores.c - ensemble CRPS and observation ranks: hand-computed cases,
- * the Gaussian closed form, the naive double sum, and rank histograms;
+ * the Gaussian closed form, the naive double sum, and rank histograms; the
+ * weighted CRPS against its defining double sum and a two-point ensemble;
  * NSE and KGE against hand-computed cases and their definitions. */
 #include "check.h"
 #include "sluice/scores.h"
@@ -33,6 +34,25 @@ static double crps_naive(size_t N, const double *x, size_t inc, double y)
             b += fabs(x[j * inc] - x[k * inc]);
     }
     return a / (double)N - b / (2.0 * (double)N * (double)N);
+}
+
+/* The weighted CRPS by its definition (Gneiting & Raftery 2007, JASA 102,
+ * 359, eq. 20 with the weighted empirical distribution for F):
+ * E_w|X - y| - (1/2) E_w|X - X'| = sum_j w_j |x_j - y|
+ * - (1/2) sum_{j,k} w_j w_k |x_j - x_k|, weights normalised, O(N^2). */
+static double crps_weighted_naive(size_t N, const double *x, size_t inc,
+                                  const double *w, double y)
+{
+    size_t j, k;
+    double a = 0, b = 0, tw = 0;
+    for (j = 0; j < N; j++)
+        tw += w[j];
+    for (j = 0; j < N; j++) {
+        a += w[j] / tw * fabs(x[j * inc] - y);
+        for (k = 0; k < N; k++)
+            b += w[j] / tw * w[k] / tw * fabs(x[j * inc] - x[k * inc]);
+    }
+    return a - 0.5 * b;
 }
 
 /* Pearson's chi-square statistic of counts against equal expectation. */
@@ -417,6 +437,91 @@ int main(void)
                   strcmp(err.reason, "nonfinite") == 0, "skill: infinite simulation");
         CHECK(sl_scores_skill(3, sm, o, 0, &k, &err) == SL_EINVAL &&
                   strcmp(err.reason, "badsize") == 0, "skill: stride 0");
+    }
+
+
+    /* ---- weighted CRPS ---- */
+    {
+        enum { WM = 3, WN = 41, WK = 4 };
+        static double X[WM * WN * WK], W[WN * WK], Y[WM * WK], C[WM * WK];
+        double work[2 * WN], eq[WM];
+        size_t k;
+        sl_stream_init(&s, 359, 0, 0, SL_PURPOSE_USER);
+        for (i = 0; i < WM * WN * WK; i++)
+            X[i] = 3.7 + 2.1 * sl_stream_normal(&s);
+        for (i = 0; i < WN * WK; i++)
+            W[i] = sl_stream_uniform(&s) * (i % 7 == 3 ? 0 : 1); /* some zero */
+        for (i = 0; i < WM * WK; i++)
+            Y[i] = 3.7 + 2.5 * sl_stream_normal(&s);
+        /* ties: block 2 repeats a member value */
+        X[WM * WN * 2 + 0] = X[WM * WN * 2 + WM];
+        Y[WM * WK - 1] = NAN;
+        sl_error_clear(&err);
+        CHECK(sl_scores_crps_weighted_workspace(WN) >= 2 * WN, "workspace size");
+        CHECK(sl_scores_crps_weighted(WM, WN, WK, X, W, Y, C, work, &err) == SL_OK,
+              "weighted crps: %s", err.message);
+        for (k = 0; k < WK; k++)
+            for (i = 0; i < WM; i++) {
+                if (isnan(Y[k * WM + i])) {
+                    CHECK(isnan(C[k * WM + i]), "NaN observation gives NaN");
+                    continue;
+                }
+                CHECK_REL(C[k * WM + i],
+                          crps_weighted_naive(WN, X + k * WM * WN + i, WM, W + k * WN,
+                                              Y[k * WM + i]),
+                          1e-13, "weighted crps vs the double sum");
+            }
+        /* two members x1 < x2 with weights w, 1 - w: by the definition,
+         * w |x1 - y| + (1 - w) |x2 - y| - w (1 - w) (x2 - x1) */
+        {
+            const double x2[2] = {-0.731, 2.385}, w2[2] = {0.3, 0.7};
+            const double ys[3] = {-1.9, 0.5, 4.44};
+            for (i = 0; i < 3; i++) {
+                double c;
+                CHECK(sl_scores_crps_weighted(1, 2, 1, x2, w2, ys + i, &c, work, &err) == SL_OK,
+                      "two members");
+                CHECK_CLOSE(c, 0.3 * fabs(x2[0] - ys[i]) + 0.7 * fabs(x2[1] - ys[i]) -
+                                   0.3 * 0.7 * (x2[1] - x2[0]),
+                            1e-15, "two-member closed form");
+            }
+            /* unnormalised weights give the same; a member of weight 0
+             * has no part, even when it is NaN */
+            {
+                const double x3[3] = {-0.731, NAN, 2.385}, w3[3] = {3, 0, 7};
+                double c, c2;
+                CHECK(sl_scores_crps_weighted(1, 3, 1, x3, w3, ys + 1, &c, work, &err) == SL_OK &&
+                          sl_scores_crps_weighted(1, 2, 1, x2, w2, ys + 1, &c2, work, &err) == SL_OK,
+                      "zero-weight NaN member");
+                CHECK_CLOSE(c, c2, 1e-15, "zero-weight member left out");
+            }
+        }
+        /* equal weights: the ensemble CRPS of sl_scores_crps */
+        for (i = 0; i < WN; i++)
+            W[i] = 1;
+        CHECK(sl_scores_crps_weighted(WM, WN, 1, X, W, Y, C, work, &err) == SL_OK &&
+                  sl_scores_crps(WM, WN, X, WM, Y, eq, work, &err) == SL_OK,
+              "equal weights");
+        for (i = 0; i < WM; i++)
+            CHECK_REL(C[i], eq[i], 1e-13, "equal weights = sl_scores_crps");
+        /* errors */
+        {
+            const double xe[2] = {1, 2}, ye = 1.5;
+            const double wneg[2] = {1, -0.5}, wzero[2] = {0, 0}, winf[2] = {1, INFINITY};
+            const double xinf[2] = {1, INFINITY}, wok[2] = {1, 1};
+            double c;
+            CHECK(sl_scores_crps_weighted(1, 2, 1, xe, wneg, &ye, &c, work, &err) == SL_EINVAL &&
+                      strcmp(err.reason, "badweights") == 0, "negative weight: %s", err.message);
+            CHECK(sl_scores_crps_weighted(1, 2, 1, xe, wzero, &ye, &c, work, &err) == SL_EINVAL &&
+                      strcmp(err.reason, "badweights") == 0, "zero sum: %s", err.message);
+            CHECK(sl_scores_crps_weighted(1, 2, 1, xe, winf, &ye, &c, work, &err) == SL_EINVAL &&
+                      strcmp(err.reason, "badweights") == 0, "infinite weight");
+            CHECK(sl_scores_crps_weighted(1, 2, 1, xinf, wok, &ye, &c, work, &err) == SL_EINVAL &&
+                      strcmp(err.reason, "nonfinite") == 0, "infinite member");
+            CHECK(sl_scores_crps_weighted(1, 0, 1, xe, wok, &ye, &c, work, &err) == SL_EINVAL &&
+                      strcmp(err.reason, "empty") == 0, "no members");
+            CHECK(sl_scores_crps_weighted(0, 2, 1, xe, wok, &ye, &c, work, &err) == SL_OK,
+                  "no rows");
+        }
     }
 
     CHECK_DONE("test_scores");
