@@ -9,6 +9,7 @@
  * Viglione et al. (2014), secondary source (MODELS.md 1, eqs. 4-6). The
  * rating curve h = a (Q - Q0)^b: common practice. */
 #include "check.h"
+#include "gr4j_reference.h"
 #include "sluice/integrate.h"
 #include "sluice/model.h"
 #include "sluice/rng.h"
@@ -26,54 +27,6 @@ static const int flood_rates[4] = {2, 5, 7, 9};
 
 /* ---------------------------------------------------------------- helpers */
 
-static const char *const ref_name = "gr4j_reference_case.csv";
-
-/* The reference case as test_gr4j.c reads it. */
-static FILE *open_reference(void)
-{
-    char path[4096];
-    const char *dir = getenv("SLUICE_REFERENCE_DIR");
-    FILE *f;
-    if (dir != NULL && *dir != '\0') {
-        snprintf(path, sizeof path, "%s/%s", dir, ref_name);
-        if ((f = fopen(path, "r")) != NULL)
-            return f;
-    }
-    snprintf(path, sizeof path, "../shared/reference/%s", ref_name);
-    if ((f = fopen(path, "r")) != NULL)
-        return f;
-    snprintf(path, sizeof path, "/work/shared/reference/%s", ref_name);
-    return fopen(path, "r");
-}
-
-/* Columns date, P, E, Qobs m3/s, Qobs mm/d, Qsim mm/d; returns the rows. */
-static size_t read_reference(FILE *f, double *P, double *E, double *qobs,
-                             double *qsim, size_t cap)
-{
-    char line[512];
-    size_t rows = 0;
-    if (fgets(line, sizeof line, f) == NULL) /* header */
-        return 0;
-    while (rows < cap && fgets(line, sizeof line, f) != NULL) {
-        double v[5];
-        char *c = strchr(line, ','), *end;
-        int k;
-        if (c == NULL)
-            continue;
-        for (k = 0; k < 5; k++) {
-            v[k] = strtod(c + 1, &end);
-            if (end == c + 1)
-                return 0;
-            c = end;
-        }
-        P[rows] = v[0];
-        E[rows] = v[1];
-        qobs[rows] = v[3];
-        qsim[rows] = v[4];
-        rows++;
-    }
-    return rows;
-}
 
 /* Invented daily forcing of a fictional catchment: rain on about 45% of
  * days, exponential amounts of mean 8 mm; a seasonal evapotranspiration. */
