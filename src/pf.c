@@ -327,7 +327,7 @@ sl_status sl_pf_check(const sl_pf_config *cfg, sl_error *err)
                            f->time[f->nt - 1], last_start);
         if (f->noise != NULL)
             for (k = 0; k < f->q; k++) {
-                if (f->noise[k] < SL_FORCING_EXACT || f->noise[k] > SL_FORCING_MULTIPLICATIVE)
+                if (sl_forcing_noise_get(f->noise[k]) == NULL)
                     return sl_fail(err, SL_EINVAL, "badforcing",
                                    "unknown perturbation kind for forcing %lu",
                                    (unsigned long)(k + 1));
@@ -452,8 +452,9 @@ void sl_pfi_eval_forcing(const sl_pf_config *cfg, pf_buffers *b, double *E,
         sl_stream_init(&st, seed, ids != NULL ? ids[j] : (uint32_t)j, s,
                        SL_PURPOSE_FORCING);
         for (i = 0; i < q; i++) {
+            const sl_forcing_noise_type *kind = sl_forcing_noise_get(f->noise[i]);
             double sd = f->sd[i], phi = f->phi[i], z;
-            if (f->noise[i] == SL_FORCING_EXACT) {
+            if (!kind->draws) {
                 u[i] = b->u0[i];
                 continue;
             }
@@ -465,9 +466,7 @@ void sl_pfi_eval_forcing(const sl_pf_config *cfg, pf_buffers *b, double *E,
                     zst[j * b->zlen + (size_t)s * b->zq + b->fslot[i]] = z;
             }
             e[i] = (s == 0) ? sd * z : phi * e[i] + sqrt(1.0 - phi * phi) * sd * z;
-            u[i] = f->noise[i] == SL_FORCING_ADDITIVE
-                       ? b->u0[i] + e[i]
-                       : b->u0[i] * exp(e[i] - 0.5 * sd * sd);
+            u[i] = kind->apply(b->u0[i], e[i], sd);
         }
     }
 }

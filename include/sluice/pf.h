@@ -23,6 +23,23 @@ typedef enum {
     SL_FORCING_MULTIPLICATIVE  /* u * exp(e - sd^2/2): log-normal, mean-preserving */
 } sl_forcing_noise;
 
+/* A kind of perturbation as a type object: its name as the Octave layer
+ * spells it ("none", "additive", "multiplicative", at the index of its
+ * sl_forcing_noise id), whether it draws (0: the value as given), and
+ * the perturbed value of u for the member's perturbation e of standard
+ * deviation sd. */
+typedef struct {
+    const char *name;
+    int draws;
+    double (*apply)(double u, double e, double sd);
+} sl_forcing_noise_type;
+
+/* The kind of this id (sl_forcing_noise), or NULL. */
+const sl_forcing_noise_type *sl_forcing_noise_get(int kind);
+
+/* The id of the kind with this name, or -1. */
+int sl_forcing_noise_find(const char *name);
+
 /* q forcing series on their own time axis, and their perturbation. The
  * perturbation e of member j follows an AR(1) in model steps s:
  *   e_0 = sd * z_0,  e_s = phi e_{s-1} + sqrt(1 - phi^2) sd z_s,
