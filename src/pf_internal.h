@@ -12,8 +12,9 @@ typedef struct sl_pfi_buffers {
     double *X[2], *Z[2], *P[2], *E[2]; /* ping-pong pairs for resampling */
     unsigned char *dead[2];
     double *U, *u0, *Yhat, *Yfun, *Yd, *ll, *logw, *lw, *rwork, *mwork, *qwork;
-    /* ensemble Kalman analysis: augmented ensemble, compacted
-     * observations and their positions, live members, the method's work */
+    /* ensemble Kalman analysis (laid out in awork by its table entry):
+     * augmented ensemble, compacted observations and their positions,
+     * live members, the method's work */
     double *A, *Hc, *yc, *rc, *opos, *oc;
     size_t *live;
     void *ework;
