@@ -86,7 +86,7 @@ static size_t layout(const sl_pf_config *cfg, unsigned char *base,
     sl_ws_carve(base, &off, N * 4, (void **)&b->tanc);
     sl_ws_carve(base, &off, N * 4, (void **)&b->tanc2);
     sl_ws_carve(base, &off, N * 8, (void **)&b->llx);
-    b->replay = weighs && cfg->inner == 0 && p > 0 &&
+    b->replay = weighs && !(an->flags & SL_ANALYSIS_MOVES) && cfg->inner == 0 && p > 0 &&
                 cfg->param_move != NULL && cfg->param_move->replay;
     b->pcn = b->replay && cfg->move.rm_paths > 0 && !md->member_draws &&
              sl_pf_paths_random(cfg);
@@ -375,6 +375,12 @@ sl_status sl_pf_check(const sl_pf_config *cfg, sl_error *err)
         if (st != SL_OK)
             return st;
     }
+    /* re-running a path would not repeat the moves of the analysis */
+    if (weighs && (an->flags & SL_ANALYSIS_MOVES) && p > 0 && cfg->param_move != NULL &&
+        cfg->param_move->replay)
+        return sl_fail(err, SL_EINVAL, "badconfig",
+                       "the analysis '%s' moves members: the move '%s', which re-runs "
+                       "paths, cannot follow it", an->name, cfg->param_move->name);
     if (cfg->inner > 0) {
         sl_param_move_opts mo = cfg->move;
         sl_status st;

@@ -8,6 +8,7 @@
 #include "check.h"
 #include "sluice/model.h"
 #include "sluice/pf.h"
+#include "sluice/prior.h"
 #include "sluice/resample.h"
 
 #include <stdint.h>
@@ -534,6 +535,36 @@ static void check_table(void)
               strstr(err.message, "SMC2") != NULL,
           "SMC2 with another analysis refused: %s", err.message);
     c.inner = 0;
+    {
+        /* an analysis that weighs and moves cannot be followed by a move
+         * that re-runs paths (the model given a parameter for the check) */
+        sl_analysis moving = noop;
+        sl_model mp = pb.md;
+        sl_transform tr = sl_transform_for_bounds(-HUGE_VAL, HUGE_VAL);
+        sl_prior_entry pe;
+        memset(&pe, 0, sizeof pe);
+        pe.dist = sl_dist_find("normal");
+        pe.a = 0.0;
+        pe.b = 1.0;
+        mp.n_param = 1;
+        config(&c, &pb);
+        c.model = &mp;
+        c.ptrans = &tr;
+        c.prior = &pe;
+        c.param_move = &sl_param_move_resample_move;
+        c.move.rm_scale = 1.0;
+        c.move.rm_diversity = 0.5;
+        c.move.rm_sweeps = 2;
+        c.analysis = &noop;
+        CHECK(sl_pf_check(&c, &err) == SL_OK, "resample_move after a weighing analysis: %s",
+              err.message);
+        moving.flags = SL_ANALYSIS_WEIGHTS | SL_ANALYSIS_MOVES;
+        c.analysis = &moving;
+        CHECK(sl_pf_check(&c, &err) == SL_EINVAL && strcmp(err.reason, "badconfig") == 0 &&
+                  strstr(err.message, "re-runs paths") != NULL,
+              "resample_move after an analysis that moves refused: %s", err.message);
+        config(&c, &pb);
+    }
     {
         sl_analysis broken = noop;
         broken.update = NULL;
