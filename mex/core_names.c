@@ -1,10 +1,12 @@
 /* core_names.c - gateway: sluice.kernel.core_names () lists the names the
- * core knows, each in the core's own order: a struct of 1 x k cellstr
- * fields integrators, resamplers, families (by id), distributions (by id,
- * with distribution_forms and distribution_args, 1 x k doubles), methods
- * (the ensemble Kalman analyses, by id), moves (the parameter moves),
- * smoothers and geometries (by id). The .m layer checks names against
- * these lists rather than keeping copies. */
+ * core knows, each in the order of the core's table: a struct of 1 x k
+ * cellstr fields integrators, resamplers, families (by id), distributions
+ * (by id, with distribution_forms and distribution_args, 1 x k doubles),
+ * analyses (every analysis a filter cycle can run), methods (the ensemble
+ * Kalman analyses, by id), moves (the parameter moves), smoothers,
+ * geometries (by id, with geometry_dims, 1 x k doubles: coordinates of a
+ * position) and forcing_noises (the perturbation kinds, by id). The .m
+ * layer checks names against these lists rather than keeping copies. */
 #include <stddef.h>
 
 #include "mexutil.h"
@@ -13,6 +15,7 @@
 #include "sluice/localize.h"
 #include "sluice/loglik.h"
 #include "sluice/param_move.h"
+#include "sluice/pf.h"
 #include "sluice/prior.h"
 #include "sluice/resample.h"
 #include "sluice/smooth.h"
@@ -62,6 +65,12 @@ static const char *distribution_form(size_t k)
     return t != NULL ? t->form : NULL;
 }
 
+static const char *analysis(size_t k)
+{
+    const sl_analysis *t = sl_analysis_at(k);
+    return t != NULL ? t->name : NULL;
+}
+
 static const char *method(size_t k)
 {
     return k < SL_ENKF_COUNT ? sl_enkf_method_name((int)k) : NULL;
@@ -81,16 +90,24 @@ static const char *smoother(size_t k)
 
 static const char *geometry(size_t k)
 {
-    return k < SL_GEOM_COUNT ? sl_geometry_name((int)k) : NULL;
+    const sl_geometry_type *t = k < SL_GEOM_COUNT ? sl_geometry_get((int)k) : NULL;
+    return t != NULL ? t->name : NULL;
+}
+
+static const char *forcing_noise(size_t k)
+{
+    const sl_forcing_noise_type *t = k < 64 ? sl_forcing_noise_get((int)k) : NULL;
+    return t != NULL ? t->name : NULL;
 }
 
 void mexFunction(int nlhs, mxArray *plhs[], int nrhs, const mxArray *prhs[])
 {
     static const char *fields[] = {"integrators", "resamplers", "families",
                                    "distributions", "distribution_forms",
-                                   "distribution_args", "methods", "moves",
-                                   "smoothers", "geometries"};
-    mxArray *s, *nargs;
+                                   "distribution_args", "analyses", "methods",
+                                   "moves", "smoothers", "geometries",
+                                   "geometry_dims", "forcing_noises"};
+    mxArray *s, *nargs, *dims;
     size_t k;
     (void)prhs;
     slm_init();
@@ -105,9 +122,15 @@ void mexFunction(int nlhs, mxArray *plhs[], int nrhs, const mxArray *prhs[])
     for (k = 0; k < SL_DIST_COUNT; k++)
         mxGetDoubles(nargs)[k] = (double)sl_dist_get((int)k)->nargs;
     mxSetField(s, 0, "distribution_args", nargs);
+    mxSetField(s, 0, "analyses", list(analysis));
     mxSetField(s, 0, "methods", list(method));
     mxSetField(s, 0, "moves", list(move));
     mxSetField(s, 0, "smoothers", list(smoother));
     mxSetField(s, 0, "geometries", list(geometry));
+    dims = mxCreateDoubleMatrix(1, SL_GEOM_COUNT, mxREAL);
+    for (k = 0; k < SL_GEOM_COUNT; k++)
+        mxGetDoubles(dims)[k] = (double)sl_geometry_get((int)k)->dim;
+    mxSetField(s, 0, "geometry_dims", dims);
+    mxSetField(s, 0, "forcing_noises", list(forcing_noise));
     plhs[0] = s;
 }

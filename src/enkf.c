@@ -54,25 +54,6 @@ extern void dsyev_(const char *jobz, const char *uplo, const int *n, double *a,
 static const int I1 = 1;
 static const double D0 = 0.0, D1 = 1.0, DM1 = -1.0;
 
-static const char *const method_names[SL_ENKF_COUNT] = {
-    "enkf", "etkf", "ensrf", "eakf", "letkf"};
-
-int sl_enkf_method_find(const char *name)
-{
-    int k;
-    if (name == NULL)
-        return -1;
-    for (k = 0; k < SL_ENKF_COUNT; k++)
-        if (strcmp(name, method_names[k]) == 0)
-            return k;
-    return -1;
-}
-
-const char *sl_enkf_method_name(int method)
-{
-    return method >= 0 && method < SL_ENKF_COUNT ? method_names[method] : NULL;
-}
-
 /* ------------------------------------------------------------ workspace */
 
 /* Every buffer of one analysis, carved from the caller's workspace. */
@@ -138,6 +119,108 @@ static int etkf_obs_form(const sl_enkf_config *cfg, size_t N, size_t m)
     return m < N;
 }
 
+/* What every method's layout below is given: where the layout stands
+ * (base NULL: only measuring), the sizes, the rows per block b and the
+ * products m N and b N, and a flag for a product that overflowed
+ * (sl_ws_take marks its own overflow in off). */
+typedef struct {
+    unsigned char *base;
+    size_t off, n, N, m, b, mN, bN;
+    int r_full, obs_form, bad;
+} carving;
+
+/* An analysis method as a type object: its name, whether it takes a
+ * correlated R (a full covariance that is not diagonal), what it does
+ * with a localisation (0 takes none, 1 may take one, 2 needs one),
+ * whether it has the ETKF's two forms (sl_etkf_form), the layout of its
+ * own buffers, and the analysis. Indexed by sl_enkf_method. */
+typedef struct {
+    const char *name;
+    int correlated_r;
+    int localization;
+    int two_forms;
+    void (*layout)(carving *c, const sl_enkf_config *cfg, buffers *w);
+    sl_status (*run)(const sl_enkf_config *cfg, size_t n, size_t N, double *X, size_t m,
+                     const double *HX, const double *y, const double *R, int rdiag,
+                     buffers *w, double *dof, size_t *floored, size_t *skipped,
+                     sl_error *err);
+} method_type;
+
+static void layout_stochastic(carving *c, const sl_enkf_config *cfg, buffers *w)
+{
+    (void)cfg;
+    w->yp = sl_ws_take(c->base, &c->off, c->mN, sizeof(double));
+    w->sq = sl_ws_take(c->base, &c->off, mul(c->m, c->m, &c->bad), sizeof(double));
+    w->D = sl_ws_take(c->base, &c->off, c->mN, sizeof(double));
+    w->blk = sl_ws_take(c->base, &c->off, c->bN, sizeof(double));
+    w->G = sl_ws_take(c->base, &c->off, mul(c->b, c->m, &c->bad), sizeof(double));
+}
+
+static void layout_etkf(carving *c, const sl_enkf_config *cfg, buffers *w)
+{
+    const size_t n = c->n, N = c->N, m = c->m;
+    (void)cfg;
+    w->yp = sl_ws_take(c->base, &c->off, c->mN, sizeof(double));
+    w->sq = sl_ws_take(c->base, &c->off, c->r_full ? mul(m, m, &c->bad) : 0, sizeof(double));
+    if (c->obs_form) {
+        /* m x m eigenvectors, the (m + 1) x N rows of the transform and
+         * the mean's weights, m eigenvalues, N weights, m scratch; the
+         * row blocks (see obs_block) in blk */
+        size_t kb = N + m + 3, bo = obs_block(n, kb), region;
+        w->A = sl_ws_take(c->base, &c->off, mul(m, m, &c->bad), sizeof(double));
+        w->T = sl_ws_take(c->base, &c->off, mul(m + 1, N, &c->bad), sizeof(double));
+        w->lam = sl_ws_take(c->base, &c->off, m, sizeof(double));
+        w->tv = sl_ws_take(c->base, &c->off, N, sizeof(double));
+        w->wv = sl_ws_take(c->base, &c->off, m, sizeof(double));
+        w->lwork = (int)(LWORK_PER_MEMBER * (m > 0 ? m : 1));
+        w->ev = sl_ws_take(c->base, &c->off, (size_t)w->lwork, sizeof(double));
+        /* bo kb doubles at most: min(n, max(BLOCK_ROWS, OBS_BLOCK / kb
+         * rounded up)) kb <= min(n kb, max(BLOCK_ROWS kb, OBS_BLOCK +
+         * kb)), which never decreases when n, N or m grow */
+        region = mul(BLOCK_ROWS, kb, &c->bad);
+        if (region < OBS_BLOCK + kb)
+            region = OBS_BLOCK + kb;
+        if (region > mul(n, kb, &c->bad))
+            region = mul(n, kb, &c->bad);
+        w->blk = sl_ws_take(c->base, &c->off, region, sizeof(double));
+        w->b = bo;
+    } else {
+        w->A = sl_ws_take(c->base, &c->off, mul(N, N, &c->bad), sizeof(double));
+        w->T = sl_ws_take(c->base, &c->off, mul(N, N, &c->bad), sizeof(double));
+        w->lam = sl_ws_take(c->base, &c->off, N, sizeof(double));
+        w->tv = sl_ws_take(c->base, &c->off, N, sizeof(double));
+        w->wv = sl_ws_take(c->base, &c->off, N, sizeof(double));
+        w->lwork = (int)(LWORK_PER_MEMBER * (N > 0 ? N : 1));
+        w->ev = sl_ws_take(c->base, &c->off, (size_t)w->lwork, sizeof(double));
+        w->blk = sl_ws_take(c->base, &c->off, c->bN, sizeof(double));
+    }
+}
+
+static void layout_serial(carving *c, const sl_enkf_config *cfg, buffers *w)
+{
+    (void)cfg;
+    w->yp = sl_ws_take(c->base, &c->off, c->mN, sizeof(double));
+    w->coef = sl_ws_take(c->base, &c->off, mul(3, c->m, &c->bad), sizeof(double));
+    w->blk = sl_ws_take(c->base, &c->off, c->bN, sizeof(double));
+    w->blk2 = sl_ws_take(c->base, &c->off, c->bN, sizeof(double));
+    w->dofw = sl_ws_take(c->base, &c->off, dof_doubles(c->N, c->m, &c->bad), sizeof(double));
+}
+
+static void layout_letkf(carving *c, const sl_enkf_config *cfg, buffers *w)
+{
+    size_t lb = sl_letkf_workspace(cfg, c->n, c->N, c->m);
+    if (lb == 0)
+        c->bad = 1;
+    w->xw = sl_ws_take(c->base, &c->off, mul(c->n, c->N, &c->bad), sizeof(double));
+    w->hw = sl_ws_take(c->base, &c->off, c->mN, sizeof(double));
+    w->xbar = sl_ws_take(c->base, &c->off, c->n, sizeof(double));
+    w->rowf = sl_ws_take(c->base, &c->off, c->N, sizeof(double));
+    w->dofw = sl_ws_take(c->base, &c->off, dof_doubles(c->N, c->m, &c->bad), sizeof(double));
+    w->lw = sl_ws_take(c->base, &c->off, lb, 1);
+}
+
+static const method_type *method_get(int method);
+
 /* Lay the buffers out in base (NULL: only measure); the bytes needed, or 0
  * if a size overflows. obs_form: the ETKF's observation-space form. The
  * sizes depend on the method, n, N, m, r_full and the ETKF's form only
@@ -146,89 +229,31 @@ static int etkf_obs_form(const sl_enkf_config *cfg, size_t N, size_t m)
 static size_t layout(const sl_enkf_config *cfg, size_t n, size_t N, size_t m,
                      int r_full, int obs_form, unsigned char *base, buffers *w)
 {
-    size_t off = 0, b = n < BLOCK_ROWS ? n : BLOCK_ROWS, mN, bN;
-    int bad = 0; /* a product of sizes overflowed (sl_ws_take marks its own in off) */
+    const method_type *mt = method_get(cfg->method);
+    carving c;
     memset(w, 0, sizeof *w);
-    if (n > INT_MAX || N > INT_MAX / LWORK_PER_MEMBER || m > INT_MAX)
+    if (mt == NULL || n > INT_MAX || N > INT_MAX / LWORK_PER_MEMBER || m > INT_MAX)
         return 0;
-    w->b = b;
-    mN = mul(m, N, &bad);
-    bN = mul(b, N, &bad);
-    w->ybar = sl_ws_take(base, &off, m, sizeof(double));
-    w->dv = sl_ws_take(base, &off, m, sizeof(double));
-    w->rd = sl_ws_take(base, &off, m, sizeof(double));
-    w->aux = sl_ws_take(base, &off, m, sizeof(double));
-    w->stat = sl_ws_take(base, &off, 5 * b, sizeof(double));
-    switch (cfg->method) {
-    case SL_ENKF_STOCHASTIC:
-        w->yp = sl_ws_take(base, &off, mN, sizeof(double));
-        w->sq = sl_ws_take(base, &off, mul(m, m, &bad), sizeof(double));
-        w->D = sl_ws_take(base, &off, mN, sizeof(double));
-        w->blk = sl_ws_take(base, &off, bN, sizeof(double));
-        w->G = sl_ws_take(base, &off, mul(b, m, &bad), sizeof(double));
-        break;
-    case SL_ENKF_ETKF:
-        w->yp = sl_ws_take(base, &off, mN, sizeof(double));
-        w->sq = sl_ws_take(base, &off, r_full ? mul(m, m, &bad) : 0, sizeof(double));
-        if (obs_form) {
-            /* m x m eigenvectors, the (m + 1) x N rows of the transform and
-             * the mean's weights, m eigenvalues, N weights, m scratch; the
-             * row blocks (see obs_block) in blk */
-            size_t kb = N + m + 3, bo = obs_block(n, kb), region;
-            w->A = sl_ws_take(base, &off, mul(m, m, &bad), sizeof(double));
-            w->T = sl_ws_take(base, &off, mul(m + 1, N, &bad), sizeof(double));
-            w->lam = sl_ws_take(base, &off, m, sizeof(double));
-            w->tv = sl_ws_take(base, &off, N, sizeof(double));
-            w->wv = sl_ws_take(base, &off, m, sizeof(double));
-            w->lwork = (int)(LWORK_PER_MEMBER * (m > 0 ? m : 1));
-            w->ev = sl_ws_take(base, &off, (size_t)w->lwork, sizeof(double));
-            /* bo kb doubles at most: min(n, max(BLOCK_ROWS, OBS_BLOCK / kb
-             * rounded up)) kb <= min(n kb, max(BLOCK_ROWS kb, OBS_BLOCK +
-             * kb)), which never decreases when n, N or m grow */
-            region = mul(BLOCK_ROWS, kb, &bad);
-            if (region < OBS_BLOCK + kb)
-                region = OBS_BLOCK + kb;
-            if (region > mul(n, kb, &bad))
-                region = mul(n, kb, &bad);
-            w->blk = sl_ws_take(base, &off, region, sizeof(double));
-            w->b = bo;
-        } else {
-            w->A = sl_ws_take(base, &off, mul(N, N, &bad), sizeof(double));
-            w->T = sl_ws_take(base, &off, mul(N, N, &bad), sizeof(double));
-            w->lam = sl_ws_take(base, &off, N, sizeof(double));
-            w->tv = sl_ws_take(base, &off, N, sizeof(double));
-            w->wv = sl_ws_take(base, &off, N, sizeof(double));
-            w->lwork = (int)(LWORK_PER_MEMBER * (N > 0 ? N : 1));
-            w->ev = sl_ws_take(base, &off, (size_t)w->lwork, sizeof(double));
-            w->blk = sl_ws_take(base, &off, bN, sizeof(double));
-        }
-        break;
-    case SL_ENKF_ENSRF:
-    case SL_ENKF_EAKF:
-        w->yp = sl_ws_take(base, &off, mN, sizeof(double));
-        w->coef = sl_ws_take(base, &off, mul(3, m, &bad), sizeof(double));
-        w->blk = sl_ws_take(base, &off, bN, sizeof(double));
-        w->blk2 = sl_ws_take(base, &off, bN, sizeof(double));
-        w->dofw = sl_ws_take(base, &off, dof_doubles(N, m, &bad), sizeof(double));
-        break;
-    case SL_ENKF_LETKF: {
-        size_t lb = sl_letkf_workspace(cfg, n, N, m);
-        if (lb == 0)
-            bad = 1;
-        w->xw = sl_ws_take(base, &off, mul(n, N, &bad), sizeof(double));
-        w->hw = sl_ws_take(base, &off, mN, sizeof(double));
-        w->xbar = sl_ws_take(base, &off, n, sizeof(double));
-        w->rowf = sl_ws_take(base, &off, N, sizeof(double));
-        w->dofw = sl_ws_take(base, &off, dof_doubles(N, m, &bad), sizeof(double));
-        w->lw = sl_ws_take(base, &off, lb, 1);
-        break;
-    }
-    default:
+    memset(&c, 0, sizeof c);
+    c.base = base;
+    c.n = n;
+    c.N = N;
+    c.m = m;
+    c.b = n < BLOCK_ROWS ? n : BLOCK_ROWS;
+    c.r_full = r_full;
+    c.obs_form = obs_form;
+    w->b = c.b;
+    c.mN = mul(m, N, &c.bad);
+    c.bN = mul(c.b, N, &c.bad);
+    w->ybar = sl_ws_take(base, &c.off, m, sizeof(double));
+    w->dv = sl_ws_take(base, &c.off, m, sizeof(double));
+    w->rd = sl_ws_take(base, &c.off, m, sizeof(double));
+    w->aux = sl_ws_take(base, &c.off, m, sizeof(double));
+    w->stat = sl_ws_take(base, &c.off, 5 * c.b, sizeof(double));
+    mt->layout(&c, cfg, w);
+    if (c.bad || c.off == SL_WS_OVERFLOW)
         return 0;
-    }
-    if (bad || off == SL_WS_OVERFLOW)
-        return 0;
-    return off > SL_WS_ALIGN ? off : SL_WS_ALIGN;
+    return c.off > SL_WS_ALIGN ? c.off : SL_WS_ALIGN;
 }
 
 /* The bytes to ask for: the layout of the form the analysis will use;
@@ -241,7 +266,7 @@ static size_t workspace_bytes(const sl_enkf_config *cfg, size_t n, size_t N,
 {
     buffers w;
     size_t a, b;
-    if (cfg->method != SL_ENKF_ETKF || cfg->etkf_form != SL_ETKF_AUTO)
+    if (!method_get(cfg->method)->two_forms || cfg->etkf_form != SL_ETKF_AUTO)
         return layout(cfg, n, N, m, r_full, etkf_obs_form(cfg, N, m), NULL, &w);
     if (m < N) {
         a = layout(cfg, n, N, m, r_full, 1, NULL, &w);
@@ -258,7 +283,7 @@ static size_t workspace_bytes(const sl_enkf_config *cfg, size_t n, size_t N,
 size_t sl_enkf_workspace(const sl_enkf_config *cfg, size_t n, size_t N,
                          size_t m, int r_full)
 {
-    if (cfg == NULL || cfg->method < 0 || cfg->method >= SL_ENKF_COUNT ||
+    if (cfg == NULL || method_get(cfg->method) == NULL ||
         cfg->etkf_form < SL_ETKF_AUTO || cfg->etkf_form > SL_ETKF_OBSERVATION)
         return 0;
     return workspace_bytes(cfg, n, N, m, r_full != 0);
@@ -271,7 +296,7 @@ static sl_status check_config(const sl_enkf_config *cfg, int r_full,
 {
     if (cfg == NULL)
         return sl_fail(err, SL_EINVAL, "badconfig", "no configuration given");
-    if (cfg->method < 0 || cfg->method >= SL_ENKF_COUNT)
+    if (method_get(cfg->method) == NULL)
         return sl_fail(err, SL_EINVAL, "badconfig", "unknown method %d",
                        cfg->method);
     if (r_full != 0 && r_full != 1)
@@ -309,13 +334,14 @@ static sl_status check_config(const sl_enkf_config *cfg, int r_full,
 static sl_status check_localization(const sl_enkf_config *cfg, size_t n,
                                     size_t m, sl_error *err)
 {
+    const method_type *mt = method_get(cfg->method);
     if (cfg->loc == NULL) {
-        if (cfg->method == SL_ENKF_LETKF)
+        if (mt->localization == 2)
             return sl_fail(err, SL_EINVAL, "badlocalization",
                            "the LETKF needs the positions of the states and observations");
         return SL_OK;
     }
-    if (cfg->method == SL_ENKF_ETKF)
+    if (mt->localization == 0)
         return sl_fail(err, SL_EINVAL, "badlocalization",
                        "the ETKF is a global analysis and takes no localisation "
                        "(use the LETKF, or a serial or stochastic method)");
@@ -375,7 +401,7 @@ static sl_status check_finite(size_t n, size_t N, const double *X, size_t m,
 /* R: symmetric positive definite. On return *diag says whether it is
  * diagonal, with the variances in w->rd; otherwise w->sq holds its lower
  * Cholesky factor (LAPACK dpotrf). */
-static sl_status check_R(int method, size_t m, const double *R, int r_full,
+static sl_status check_R(const method_type *mt, size_t m, const double *R, int r_full,
                          buffers *w, int *diag, sl_error *err)
 {
     size_t k, l;
@@ -397,10 +423,10 @@ static sl_status check_R(int method, size_t m, const double *R, int r_full,
                 *diag = 0;
                 break;
             }
-    if (!*diag && method != SL_ENKF_STOCHASTIC && method != SL_ENKF_ETKF)
+    if (!*diag && !mt->correlated_r)
         return sl_fail(err, SL_EINVAL, "nondiagonal",
                        "the %s needs uncorrelated observation errors (a diagonal R)",
-                       method_names[method]);
+                       mt->name);
     for (k = 0; k < m; k++) {
         double r = R[k + k * m];
         if (!(r > 0))
@@ -1217,6 +1243,81 @@ static sl_status run_letkf(const sl_enkf_config *cfg, size_t n, size_t N,
     return SL_OK;
 }
 
+/* ------------------------------------------------------------ the methods */
+
+static sl_status go_stochastic(const sl_enkf_config *cfg, size_t n, size_t N, double *X,
+                               size_t m, const double *HX, const double *y, const double *R,
+                               int rdiag, buffers *w, double *dof, size_t *floored,
+                               size_t *skipped, sl_error *err)
+{
+    (void)floored;
+    (void)skipped;
+    return run_stochastic(cfg, n, N, X, m, HX, y, R, rdiag, w, dof, err);
+}
+
+static sl_status go_etkf(const sl_enkf_config *cfg, size_t n, size_t N, double *X, size_t m,
+                         const double *HX, const double *y, const double *R, int rdiag,
+                         buffers *w, double *dof, size_t *floored, size_t *skipped,
+                         sl_error *err)
+{
+    (void)R;
+    (void)skipped;
+    return run_etkf(cfg, n, N, X, m, HX, y, rdiag, w, dof, floored, err);
+}
+
+static sl_status go_serial(const sl_enkf_config *cfg, size_t n, size_t N, double *X,
+                           size_t m, const double *HX, const double *y, const double *R,
+                           int rdiag, buffers *w, double *dof, size_t *floored,
+                           size_t *skipped, sl_error *err)
+{
+    (void)R;
+    (void)rdiag;
+    (void)floored;
+    (void)skipped;
+    return run_serial(cfg, n, N, X, m, HX, y, w, dof, err);
+}
+
+static sl_status go_letkf(const sl_enkf_config *cfg, size_t n, size_t N, double *X, size_t m,
+                          const double *HX, const double *y, const double *R, int rdiag,
+                          buffers *w, double *dof, size_t *floored, size_t *skipped,
+                          sl_error *err)
+{
+    (void)R;
+    (void)rdiag;
+    return run_letkf(cfg, n, N, X, m, HX, y, w, dof, floored, skipped, err);
+}
+
+/* The methods, at the index of their sl_enkf_method id. */
+static const method_type methods[SL_ENKF_COUNT] = {
+    {"enkf", 1, 1, 0, layout_stochastic, go_stochastic},
+    {"etkf", 1, 0, 1, layout_etkf, go_etkf},
+    {"ensrf", 0, 1, 0, layout_serial, go_serial},
+    {"eakf", 0, 1, 0, layout_serial, go_serial},
+    {"letkf", 0, 2, 0, layout_letkf, go_letkf},
+};
+
+static const method_type *method_get(int method)
+{
+    return method >= 0 && method < SL_ENKF_COUNT ? &methods[method] : NULL;
+}
+
+int sl_enkf_method_find(const char *name)
+{
+    int k;
+    if (name == NULL)
+        return -1;
+    for (k = 0; k < SL_ENKF_COUNT; k++)
+        if (strcmp(name, methods[k].name) == 0)
+            return k;
+    return -1;
+}
+
+const char *sl_enkf_method_name(int method)
+{
+    const method_type *mt = method_get(method);
+    return mt != NULL ? mt->name : NULL;
+}
+
 /* ------------------------------------------------------------ the entry */
 
 sl_status sl_enkf_analysis(const sl_enkf_config *cfg, size_t n, size_t N,
@@ -1258,23 +1359,10 @@ sl_status sl_enkf_analysis(const sl_enkf_config *cfg, size_t n, size_t N,
         return sl_fail(err, SL_ENOMEM, "nomemory", "the analysis workspace size overflows");
     if ((st = check_finite(n, N, X, m, HX, y, R, r_full, err)) != SL_OK)
         return st;
-    if ((st = check_R(cfg->method, m, R, r_full, &w, &rdiag, err)) != SL_OK)
+    if ((st = check_R(method_get(cfg->method), m, R, r_full, &w, &rdiag, err)) != SL_OK)
         return st;
-    switch (cfg->method) {
-    case SL_ENKF_STOCHASTIC:
-        st = run_stochastic(cfg, n, N, X, m, HX, y, R, rdiag, &w, &dof, err);
-        break;
-    case SL_ENKF_ETKF:
-        st = run_etkf(cfg, n, N, X, m, HX, y, rdiag, &w, &dof, &floored, err);
-        break;
-    case SL_ENKF_ENSRF:
-    case SL_ENKF_EAKF:
-        st = run_serial(cfg, n, N, X, m, HX, y, &w, &dof, err);
-        break;
-    default:
-        st = run_letkf(cfg, n, N, X, m, HX, y, &w, &dof, &floored, &skipped, err);
-        break;
-    }
+    st = method_get(cfg->method)->run(cfg, n, N, X, m, HX, y, R, rdiag, &w, &dof, &floored,
+                                       &skipped, err);
     if (st == SL_OK && info != NULL) {
         info->floored = floored;
         info->local_skipped = skipped;

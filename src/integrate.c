@@ -182,9 +182,10 @@ void sl_event_values(const sl_events *events, size_t e, size_t member,
     int drawn = 0;
     for (i = 0; i < events->nv; i++) {
         double base = events->value[i + e * events->nv];
-        int kind = events->noise != NULL ? events->noise[i] : SL_FORCING_EXACT;
+        const sl_forcing_noise_type *kind =
+            sl_forcing_noise_get(events->noise != NULL ? events->noise[i] : SL_FORCING_EXACT);
         double z, sd;
-        if (kind == SL_FORCING_EXACT) {
+        if (!kind->draws) {
             ev[i] = base;
             continue;
         }
@@ -195,8 +196,7 @@ void sl_event_values(const sl_events *events, size_t e, size_t member,
         }
         sd = events->sd[i];
         z = sl_stream_normal(&s);
-        ev[i] = kind == SL_FORCING_ADDITIVE ? base + sd * z
-                                            : base * exp(sd * z - 0.5 * sd * sd);
+        ev[i] = kind->apply(base, sd * z, sd);
     }
 }
 
@@ -384,7 +384,7 @@ sl_status sl_def_model_init(sl_model *model, sl_def_model *dm,
         if (events->noise != NULL)
             for (k = 0; k < events->nv; k++) {
                 int kind = events->noise[k];
-                if (kind < SL_FORCING_EXACT || kind > SL_FORCING_MULTIPLICATIVE)
+                if (sl_forcing_noise_get(kind) == NULL)
                     return sl_fail(err, SL_EINVAL, "badevents",
                                    "unknown perturbation kind for event series %lu",
                                    (unsigned long)(k + 1));

@@ -167,15 +167,6 @@ static size_t lower_bound(const entry *obs, size_t m, double lo)
     return a;
 }
 
-/* A position on the ring brought into [0, period). */
-static double ring_wrap(double x, double period)
-{
-    double r = fmod(x, period);
-    if (r < 0)
-        r += period;
-    return r < period ? r : 0.0;
-}
-
 /* ------------------------------------------------------ eigensolver */
 
 /* Eigenvalues (unordered, in lam) and eigenvectors (the columns of Q) of
@@ -343,6 +334,7 @@ typedef struct {
     const buffers *b;
     double floor_rel;
     double reach; /* half-width of the key window, or +Inf: scan every obs */
+    const sl_geometry_type *geom;
 } run_ctx;
 
 /* Add one observation with inverse error variance rinv and innovation dk
@@ -375,7 +367,7 @@ static size_t add_range(const run_ctx *cx, slice *s, const double *pos,
         double op[2], dist, g;
         op[0] = loc->obs_pos[k];
         op[1] = loc->dim > 1 ? loc->obs_pos[k + m] : 0.0;
-        dist = sl_distance(loc->geometry, loc->period_or_radius, pos, op);
+        dist = cx->geom->distance(loc->period_or_radius, pos, op);
         g = sl_gaspari_cohn(dist, loc->obs_c[k]);
         if (g > 0) {
             add_obs(N, s->A, s->c, cx->b->YbT + k * N, g / cx->rdiag[k],
@@ -413,11 +405,11 @@ static void local_analysis(const run_ctx *cx, slice *s, size_t g)
         double pos[2], key, h = cx->reach;
         pos[0] = rep->a;
         pos[1] = rep->b;
-        key = loc->geometry == SL_GEOM_SPHERE ? pos[1] : pos[0];
+        key = cx->geom->key(loc->period_or_radius, pos);
         if (!(h < HUGE_VAL)) {
             used = add_range(cx, s, pos, 0, 0.0, 0);
-        } else if (loc->geometry == SL_GEOM_RING) {
-            double L = loc->period_or_radius, x = ring_wrap(pos[0], L);
+        } else if (cx->geom->key_periodic) {
+            double L = loc->period_or_radius, x = key;
             if (x - h < 0) {
                 used = add_range(cx, s, pos, lower_bound(b->obs, m, x - h + L), 0.0, 0);
                 used += add_range(cx, s, pos, 0, x + h, 1);
@@ -618,19 +610,12 @@ sl_status sl_letkf_run(const sl_enkf_config *cfg, size_t n, size_t N,
     }
 
     /* observations sorted by the coordinate that bounds the distance */
+    cx.geom = sl_geometry_get(loc->geometry);
     for (k = 0; k < m; k++) {
-        double a;
-        switch (loc->geometry) {
-        case SL_GEOM_RING:
-            a = ring_wrap(loc->obs_pos[k], loc->period_or_radius);
-            break;
-        case SL_GEOM_SPHERE:
-            a = loc->obs_pos[k + m]; /* latitude */
-            break;
-        default:
-            a = loc->obs_pos[k];
-        }
-        b.obs[k].a = a;
+        double op[2];
+        op[0] = loc->obs_pos[k];
+        op[1] = loc->dim > 1 ? loc->obs_pos[k + m] : 0.0;
+        b.obs[k].a = cx.geom->key(loc->period_or_radius, op);
         b.obs[k].b = 0.0;
         b.obs[k].i = k;
     }
@@ -638,14 +623,7 @@ sl_status sl_letkf_run(const sl_enkf_config *cfg, size_t n, size_t N,
     /* half-width of the window of keys: Gaspari-Cohn vanishes from 2c; the
      * key difference is at most the distance (on the sphere the latitude
      * difference in degrees is at most distance / radius * 180 / pi) */
-    cx.reach = 2.0 * cmax * (1.0 + 1e-9);
-    if (loc->geometry == SL_GEOM_RING && 2.0 * cx.reach >= loc->period_or_radius)
-        cx.reach = HUGE_VAL;
-    if (loc->geometry == SL_GEOM_SPHERE) {
-        cx.reach = cx.reach / loc->period_or_radius * (180.0 / 3.14159265358979323846);
-        if (cx.reach >= 180.0)
-            cx.reach = HUGE_VAL;
-    }
+    cx.reach = cx.geom->reach(loc->period_or_radius, 2.0 * cmax * (1.0 + 1e-9));
 
     /* rows sorted by position; rows at one place share an analysis */
     for (i = 0; i < n; i++) {

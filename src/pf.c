@@ -35,6 +35,12 @@ static size_t layout(const sl_pf_config *cfg, unsigned char *base,
     size_t rws = sl_resample_workspace(cfg->resampler, N, N);
     /* every product below is checked once against this bound */
     const size_t big = (size_t)1 << 58;
+    const sl_analysis *an = sl_pf_analysis_of(cfg);
+    int weighs;
+    if (an == NULL || an->update == NULL)
+        return 0;
+    weighs = (an->flags & SL_ANALYSIS_WEIGHTS) != 0;
+    b->an = an;
     for (k = 0; k < cfg->T; k++) {
         size_t m = cfg->obs_first[k + 1] - cfg->obs_first[k];
         if (m > m_max)
@@ -80,7 +86,7 @@ static size_t layout(const sl_pf_config *cfg, unsigned char *base,
     sl_ws_carve(base, &off, N * 4, (void **)&b->tanc);
     sl_ws_carve(base, &off, N * 4, (void **)&b->tanc2);
     sl_ws_carve(base, &off, N * 8, (void **)&b->llx);
-    b->replay = cfg->enkf == NULL && cfg->inner == 0 && p > 0 &&
+    b->replay = weighs && !(an->flags & SL_ANALYSIS_MOVES) && cfg->inner == 0 && p > 0 &&
                 cfg->param_move != NULL && cfg->param_move->replay;
     b->pcn = b->replay && cfg->move.rm_paths > 0 && !md->member_draws &&
              sl_pf_paths_random(cfg);
@@ -109,7 +115,7 @@ static size_t layout(const sl_pf_config *cfg, unsigned char *base,
         sl_ws_carve(base, &off, (q + 1) * sizeof(size_t), (void **)&b->fslot);
         sl_ws_carve(base, &off, (n + 1) * sizeof(size_t), (void **)&b->sslot);
     }
-    b->smc2 = cfg->enkf == NULL && cfg->inner > 0;
+    b->smc2 = weighs && cfg->inner > 0;
     if (b->replay || b->smc2) {
         if (cfg->T > big / 8 / N)
             return 0;
@@ -146,25 +152,9 @@ static size_t layout(const sl_pf_config *cfg, unsigned char *base,
         sl_ws_carve(base, &off, p, (void **)&b->est);
         sl_ws_carve(base, &off, sl_param_move_workspace(p) * 8, (void **)&b->mvlast);
     }
-    if (cfg->wenkf && cfg->enkf == NULL) {
-        size_t mm = m_max ? m_max : 1;
-        if (n > big / 8 / n || mm > big / 8 / mm || n > big / 8 / mm)
-            return 0;
-        sl_ws_carve(base, &off, n * N * 8, (void **)&b->wk_m);
-        sl_ws_carve(base, &off, mm * N * 8, (void **)&b->wk_hf);
-        sl_ws_carve(base, &off, mm * N * 8, (void **)&b->wk_hm);
-        sl_ws_carve(base, &off, n * mm * 8, (void **)&b->wk_k);
-        sl_ws_carve(base, &off, mm * mm * 8, (void **)&b->wk_s);
-        sl_ws_carve(base, &off, mm * n * 8, (void **)&b->wk_h);
-        sl_ws_carve(base, &off, n * n * 8, (void **)&b->wk_sig);
-        sl_ws_carve(base, &off, (mm > n ? mm : n) * 8, (void **)&b->wk_tmp);
-        sl_ws_carve(base, &off, n * 8, (void **)&b->wk_xb);
-        sl_ws_carve(base, &off, mm * 8, (void **)&b->wk_hb);
-        sl_ws_carve(base, &off, n * mm * 8, (void **)&b->wk_cxh);
-        sl_ws_carve(base, &off, n * 8, (void **)&b->wk_d);
-        sl_ws_carve(base, &off, N * 8, (void **)&b->tmp2);
-        sl_ws_carve(base, &off, mm * sizeof(size_t), (void **)&b->wk_row);
-    }
+    /* the forecast before the state noise, for an analysis that needs it */
+    sl_ws_carve(base, &off, an->flags & SL_ANALYSIS_NOISE_FREE ? n * N * 8 : 0,
+                (void **)&b->wk_m);
     b->nwin = cfg->lag < cfg->T ? cfg->lag : cfg->T;
     if (b->nwin > 0) {
         if (b->nwin > big / 8 / N / (n + p + 1))
@@ -177,24 +167,13 @@ static size_t layout(const sl_pf_config *cfg, unsigned char *base,
             b->wspare = b->win[b->nwin];
         sl_ws_carve(base, &off, (n + p) * N * 8, (void **)&b->wtmp);
     }
-    if (cfg->enkf != NULL) {
-        /* sized for the configuration the cycle runs (enkf_update) */
-        size_t dim = cfg->loc != NULL ? cfg->loc->dim : 0, ew;
-        sl_enkf_config ec = *cfg->enkf;
-        ec.threads = cfg->threads;
-        ec.loc = cfg->loc;
-        ew = sl_enkf_workspace(&ec, (n + p) * (b->nwin + 1), N, m_max ? m_max : 1, 0);
-        if (ew == 0 || dim > 2)
+    /* the analysis's own buffers */
+    b->awork = NULL;
+    if (an->workspace != NULL) {
+        size_t aw = an->workspace(an, cfg, m_max, b->nwin);
+        if (aw == 0)
             return 0;
-        sl_ws_carve(base, &off, (n + p) * (b->nwin + 1) * N * 8, (void **)&b->A);
-        sl_ws_carve(base, &off, (n + p) * (b->nwin + 1) * dim * 8, (void **)&b->spos);
-        sl_ws_carve(base, &off, m_max * N * 8, (void **)&b->Hc);
-        sl_ws_carve(base, &off, m_max * 8, (void **)&b->yc);
-        sl_ws_carve(base, &off, m_max * 8, (void **)&b->rc);
-        sl_ws_carve(base, &off, m_max * dim * 8, (void **)&b->opos);
-        sl_ws_carve(base, &off, m_max * 8, (void **)&b->oc);
-        sl_ws_carve(base, &off, N * sizeof(size_t), (void **)&b->live);
-        sl_ws_carve(base, &off, ew, &b->ework);
+        sl_ws_carve(base, &off, aw, &b->awork);
     }
     tmp = sl_ws_carve(base, &off, nthr * sizeof(sl_error), (void **)&b->terr);
     return sl_ws_size(tmp);
@@ -233,9 +212,22 @@ size_t sl_pf_workspace(const sl_pf_config *cfg)
 sl_status sl_pf_check(const sl_pf_config *cfg, sl_error *err)
 {
     const sl_model *md = cfg->model;
+    const sl_analysis *an = sl_pf_analysis_of(cfg);
     size_t k, n, p, v, m;
+    int weighs;
     if (md == NULL || md->step == NULL)
         return sl_fail(err, SL_EINVAL, "badconfig", "no model to run");
+    if (an == NULL)
+        return sl_fail(err, SL_EINVAL, "badconfig", "unknown ensemble Kalman method %d",
+                       cfg->enkf->method);
+    if (an->update == NULL)
+        return sl_fail(err, SL_EINVAL, "badconfig", "the analysis '%s' has no update",
+                       an->name != NULL ? an->name : "");
+    if (cfg->analysis != NULL && cfg->wenkf && an != &sl_analysis_wenkf)
+        return sl_fail(err, SL_EINVAL, "badconfig",
+                       "the analysis '%s' was asked for together with the weighted "
+                       "ensemble Kalman filter", an->name != NULL ? an->name : "");
+    weighs = (an->flags & SL_ANALYSIS_WEIGHTS) != 0;
     n = md->n_state;
     p = md->n_param;
     v = n + p;
@@ -335,7 +327,7 @@ sl_status sl_pf_check(const sl_pf_config *cfg, sl_error *err)
                            f->time[f->nt - 1], last_start);
         if (f->noise != NULL)
             for (k = 0; k < f->q; k++) {
-                if (f->noise[k] < SL_FORCING_EXACT || f->noise[k] > SL_FORCING_MULTIPLICATIVE)
+                if (sl_forcing_noise_get(f->noise[k]) == NULL)
                     return sl_fail(err, SL_EINVAL, "badforcing",
                                    "unknown perturbation kind for forcing %lu",
                                    (unsigned long)(k + 1));
@@ -359,7 +351,7 @@ sl_status sl_pf_check(const sl_pf_config *cfg, sl_error *err)
         sl_status st = cfg->param_move->check(&cfg->move, p, err);
         if (st != SL_OK)
             return st;
-        if (cfg->param_move->replay && cfg->enkf == NULL && p > 0) {
+        if (cfg->param_move->replay && weighs && p > 0) {
             if (cfg->prior == NULL)
                 return sl_fail(err, SL_EINVAL, "badconfig",
                                "the move '%s' needs the parameters' priors",
@@ -378,34 +370,17 @@ sl_status sl_pf_check(const sl_pf_config *cfg, sl_error *err)
     }
     if (cfg->resampler == NULL)
         return sl_fail(err, SL_EINVAL, "badconfig", "no resampling scheme");
-    if (cfg->wenkf) {
-        if (cfg->enkf != NULL || cfg->inner > 0 || cfg->temper.ess > 0 ||
-            (cfg->param_move != NULL && cfg->param_move->replay))
-            return sl_fail(err, SL_EINVAL, "badconfig",
-                           "the weighted ensemble Kalman filter runs without an ensemble "
-                           "Kalman analysis, SMC2, tempering or a move that re-runs paths");
-        if (cfg->state_noise == NULL)
-            return sl_fail(err, SL_EINVAL, "badconfig",
-                           "the weighted ensemble Kalman filter needs state noise > 0 on "
-                           "every state (its transition density)");
-        for (k = 0; k < n; k++)
-            if (!(cfg->state_noise[k] > 0))
-                return sl_fail(err, SL_EINVAL, "badconfig",
-                               "the weighted ensemble Kalman filter needs state noise > 0 "
-                               "on every state; state %lu has %g",
-                               (unsigned long)(k + 1), cfg->state_noise[k]);
-        for (k = 0; k < m; k++) {
-            if (cfg->family[k] != SL_FAMILY_GAUSSIAN)
-                return sl_fail(err, SL_EINVAL, "badfamily",
-                               "observation %lu: the weighted ensemble Kalman filter takes "
-                               "Gaussian observations only", (unsigned long)(k + 1));
-            if (cfg->var[k] >= v + cfg->n_lin)
-                return sl_fail(err, SL_EINVAL, "badoperator",
-                               "observation %lu: the weighted ensemble Kalman filter takes "
-                               "states, parameters and linear operators only",
-                               (unsigned long)(k + 1));
-        }
+    if (an->check != NULL) {
+        sl_status st = an->check(an, cfg, err);
+        if (st != SL_OK)
+            return st;
     }
+    /* re-running a path would not repeat the moves of the analysis */
+    if (weighs && (an->flags & SL_ANALYSIS_MOVES) && p > 0 && cfg->param_move != NULL &&
+        cfg->param_move->replay)
+        return sl_fail(err, SL_EINVAL, "badconfig",
+                       "the analysis '%s' moves members: the move '%s', which re-runs "
+                       "paths, cannot follow it", an->name, cfg->param_move->name);
     if (cfg->inner > 0) {
         sl_param_move_opts mo = cfg->move;
         sl_status st;
@@ -413,9 +388,11 @@ sl_status sl_pf_check(const sl_pf_config *cfg, sl_error *err)
             return sl_fail(err, SL_EINVAL, "badconfig",
                            "SMC2: the %lu members must be a whole number of groups of %lu",
                            (unsigned long)cfg->N, (unsigned long)cfg->inner);
-        if (cfg->enkf != NULL || cfg->lag > 0 || cfg->temper.ess > 0 || cfg->keep_history)
+        if (an != &sl_analysis_pf || cfg->lag > 0 || cfg->temper.ess > 0 ||
+            cfg->keep_history)
             return sl_fail(err, SL_EINVAL, "badconfig",
-                           "SMC2 runs without an ensemble Kalman method, a lag, "
+                           "SMC2 runs without an ensemble Kalman method (or another "
+                           "analysis than the particle filter's), a lag, "
                            "tempering or a kept history");
         if (p > 0 && cfg->prior == NULL)
             return sl_fail(err, SL_EINVAL, "badconfig", "SMC2 needs the parameters' priors");
@@ -439,23 +416,6 @@ sl_status sl_pf_check(const sl_pf_config *cfg, sl_error *err)
             return sl_fail(err, SL_EINVAL, "badconfig",
                            "quantile level %lu must lie in [0, 1], got %g",
                            (unsigned long)(k + 1), cfg->probs[k]);
-    if (cfg->enkf != NULL) {
-        if (cfg->N < 2)
-            return sl_fail(err, SL_EINVAL, "badconfig",
-                           "the ensemble Kalman methods need at least 2 members");
-        for (k = 0; k < m; k++)
-            if (cfg->family[k] != SL_FAMILY_GAUSSIAN)
-                return sl_fail(err, SL_EINVAL, "badfamily",
-                               "observation %lu: the ensemble Kalman methods take Gaussian "
-                               "observations only; use the particle filter for other families",
-                               (unsigned long)(k + 1));
-        if (cfg->enkf->method == SL_ENKF_LETKF && cfg->loc == NULL)
-            return sl_fail(err, SL_EINVAL, "badlocalization",
-                           "the LETKF needs positions of the states and observations");
-        if (cfg->adaptive_inflation && !(cfg->inflation_max >= 1))
-            return sl_fail(err, SL_EINVAL, "badconfig",
-                           "the largest adaptive inflation must be >= 1");
-    }
     if (sl_pf_workspace(cfg) == 0)
         return sl_fail(err, SL_ENOMEM, "nomemory",
                        "the run's workspace size overflows");
@@ -498,8 +458,9 @@ void sl_pfi_eval_forcing(const sl_pf_config *cfg, pf_buffers *b, double *E,
         sl_stream_init(&st, seed, ids != NULL ? ids[j] : (uint32_t)j, s,
                        SL_PURPOSE_FORCING);
         for (i = 0; i < q; i++) {
+            const sl_forcing_noise_type *kind = sl_forcing_noise_get(f->noise[i]);
             double sd = f->sd[i], phi = f->phi[i], z;
-            if (f->noise[i] == SL_FORCING_EXACT) {
+            if (!kind->draws) {
                 u[i] = b->u0[i];
                 continue;
             }
@@ -511,9 +472,7 @@ void sl_pfi_eval_forcing(const sl_pf_config *cfg, pf_buffers *b, double *E,
                     zst[j * b->zlen + (size_t)s * b->zq + b->fslot[i]] = z;
             }
             e[i] = (s == 0) ? sd * z : phi * e[i] + sqrt(1.0 - phi * phi) * sd * z;
-            u[i] = f->noise[i] == SL_FORCING_ADDITIVE
-                       ? b->u0[i] + e[i]
-                       : b->u0[i] * exp(e[i] - 0.5 * sd * sd);
+            u[i] = kind->apply(b->u0[i], e[i], sd);
         }
     }
 }
@@ -982,7 +941,8 @@ static void inflate_rows(double *M, size_t ld, size_t r0, size_t rows,
 
 /* The ensemble Kalman analysis of cycle k: live members only, observed
  * rows only, states and transformed parameters together. */
-static sl_status enkf_update(const sl_pf_config *cfg, pf_buffers *b, size_t k,
+static sl_status enkf_update(const sl_pf_config *cfg, const sl_enkf_config *settings,
+                             pf_buffers *b, size_t k,
                              size_t r0, size_t m, const unsigned char *dead,
                              double *X, double *Z, double *P, double *infl,
                              size_t nw, sl_pf_output *out, int *degenerate,
@@ -992,13 +952,13 @@ static sl_status enkf_update(const sl_pf_config *cfg, pf_buffers *b, size_t k,
     const size_t v = n + p, dim = cfg->loc != NULL ? cfg->loc->dim : 0;
     const size_t va = v * (nw + 1); /* rows of the augmented ensemble */
     size_t L = 0, mk = 0, i, j, jj, d, s;
-    sl_enkf_config ecfg = *cfg->enkf;
+    sl_enkf_config ecfg = *settings;
     sl_localization lc;
     sl_enkf_info info;
     sl_status st;
     /* the inflation in force, recorded also for cycles with no analysis */
     if (out->inflation != NULL)
-        out->inflation[k] = cfg->adaptive_inflation ? *infl : cfg->enkf->inflation;
+        out->inflation[k] = cfg->adaptive_inflation ? *infl : settings->inflation;
     for (j = 0; j < N; j++)
         if (!dead[j])
             b->live[L++] = j;
@@ -1123,6 +1083,220 @@ static sl_status enkf_update(const sl_pf_config *cfg, pf_buffers *b, size_t k,
     if (out->floored != NULL)
         out->floored[k] = (double)info.floored;
     return SL_OK;
+}
+
+/* ------------------------------------------------------ the analyses */
+
+/* The method of an ensemble Kalman entry. */
+static int kalman_method(const sl_analysis *self)
+{
+    return *(const int *)self->data;
+}
+
+/* The settings an ensemble Kalman entry runs with: the run's (enkf) with
+ * the entry's method, or none (no inflation or relaxation). */
+static void kalman_settings(const sl_analysis *self, const sl_pf_config *cfg,
+                            sl_enkf_config *ec)
+{
+    if (cfg->enkf != NULL) {
+        *ec = *cfg->enkf;
+    } else {
+        memset(ec, 0, sizeof *ec);
+        ec->inflation = 1.0;
+        ec->threads = 1;
+    }
+    ec->method = kalman_method(self);
+}
+
+static sl_status kalman_check(const sl_analysis *self, const sl_pf_config *cfg,
+                              sl_error *err)
+{
+    const int method = kalman_method(self);
+    const size_t m = cfg->obs_first[cfg->T];
+    size_t k;
+    if (cfg->enkf != NULL && cfg->enkf->method != method)
+        return sl_fail(err, SL_EINVAL, "badconfig",
+                       "the analysis '%s' was given the settings of another method (%d)",
+                       self->name, cfg->enkf->method);
+    if (cfg->N < 2)
+        return sl_fail(err, SL_EINVAL, "badconfig",
+                       "the ensemble Kalman methods need at least 2 members");
+    for (k = 0; k < m; k++)
+        if (cfg->family[k] != SL_FAMILY_GAUSSIAN)
+            return sl_fail(err, SL_EINVAL, "badfamily",
+                           "observation %lu: the ensemble Kalman methods take Gaussian "
+                           "observations only; use the particle filter for other families",
+                           (unsigned long)(k + 1));
+    if (method == SL_ENKF_LETKF && cfg->loc == NULL)
+        return sl_fail(err, SL_EINVAL, "badlocalization",
+                       "the LETKF needs positions of the states and observations");
+    if (cfg->adaptive_inflation && !(cfg->inflation_max >= 1))
+        return sl_fail(err, SL_EINVAL, "badconfig",
+                       "the largest adaptive inflation must be >= 1");
+    return SL_OK;
+}
+
+/* The buffers of an ensemble Kalman analysis in base (NULL: only
+ * measure), sized for the configuration the cycle runs (enkf_update):
+ * the augmented ensemble, compacted observations, their positions, the
+ * living members, the method's workspace. The end, or 0 on overflow. */
+static size_t kalman_layout(const sl_analysis *self, const sl_pf_config *cfg,
+                            size_t m_max, size_t nwin, unsigned char *base,
+                            pf_buffers *b)
+{
+    const size_t N = cfg->N, n = cfg->model->n_state, p = cfg->model->n_param;
+    size_t dim = cfg->loc != NULL ? cfg->loc->dim : 0, ew, off = 0, end;
+    sl_enkf_config ec;
+    kalman_settings(self, cfg, &ec);
+    ec.threads = cfg->threads;
+    ec.loc = cfg->loc;
+    ew = sl_enkf_workspace(&ec, (n + p) * (nwin + 1), N, m_max ? m_max : 1, 0);
+    if (ew == 0 || dim > 2)
+        return 0;
+    sl_ws_carve(base, &off, (n + p) * (nwin + 1) * N * 8, (void **)&b->A);
+    sl_ws_carve(base, &off, (n + p) * (nwin + 1) * dim * 8, (void **)&b->spos);
+    sl_ws_carve(base, &off, m_max * N * 8, (void **)&b->Hc);
+    sl_ws_carve(base, &off, m_max * 8, (void **)&b->yc);
+    sl_ws_carve(base, &off, m_max * 8, (void **)&b->rc);
+    sl_ws_carve(base, &off, m_max * dim * 8, (void **)&b->opos);
+    sl_ws_carve(base, &off, m_max * 8, (void **)&b->oc);
+    sl_ws_carve(base, &off, N * sizeof(size_t), (void **)&b->live);
+    end = sl_ws_carve(base, &off, ew, &b->ework);
+    return sl_ws_size(end);
+}
+
+static size_t kalman_workspace(const sl_analysis *self, const sl_pf_config *cfg,
+                               size_t m_max, size_t nwin)
+{
+    pf_buffers b;
+    return kalman_layout(self, cfg, m_max, nwin, NULL, &b);
+}
+
+static void kalman_start(const sl_analysis *self, const sl_pf_config *cfg, void *work,
+                         pf_buffers *run)
+{
+    sl_enkf_config ec;
+    kalman_layout(self, cfg, run->m_max, run->nwin, (unsigned char *)work, run);
+    kalman_settings(self, cfg, &ec);
+    run->infl = ec.inflation;
+    if (cfg->adaptive_inflation && run->infl > cfg->inflation_max)
+        run->infl = cfg->inflation_max; /* adaptive inflation stays at most the maximum */
+}
+
+/* The ensemble Kalman analysis of a cycle: the analysis moves the
+ * members; the living ones get equal weights (the dead are replaced by
+ * resampling). With no observation it records the inflation in force. */
+static sl_status kalman_cycle(sl_analysis_cycle *c, sl_error *err)
+{
+    const sl_pf_config *cfg = c->cfg;
+    pf_buffers *b = c->run;
+    const size_t N = cfg->N, p = cfg->model->n_param, nlive = N - c->ndead;
+    /* the ping-pong half that holds c->Z, and the other one (free now) */
+    const int cur = c->Z == b->Z[1];
+    sl_enkf_config ec;
+    sl_status st;
+    size_t j;
+    kalman_settings(c->self, cfg, &ec);
+    if (c->m > 0 &&
+        (st = sl_pfi_predict_obs(cfg, b, c->r0, c->m, c->t, c->X, c->P, err)) != SL_OK)
+        return st;
+    if (p > 0)
+        memcpy(b->Z[1 - cur], c->Z, p * N * sizeof(double));
+    st = enkf_update(cfg, &ec, b, c->k, c->r0, c->m, c->dead, c->X, c->Z, c->P, &b->infl,
+                     c->nwin, c->out, &c->degenerate, &c->skipped, err);
+    if (st != SL_OK)
+        return st;
+    refresh_ids(p, N, b->Z[1 - cur], c->Z, b->vid[cur]);
+    for (j = 0; j < N; j++)
+        c->w[j] = c->dead[j] || nlive == 0 ? 0.0 : 1.0 / (double)nlive;
+    return SL_OK;
+}
+
+static size_t count_nan_predictions(const sl_pf_config *cfg, const pf_buffers *b, size_t r0,
+                                    size_t m, const unsigned char *dead);
+
+static sl_status pf_check(const sl_analysis *self, const sl_pf_config *cfg, sl_error *err)
+{
+    if (cfg->analysis != NULL && cfg->enkf != NULL)
+        return sl_fail(err, SL_EINVAL, "badconfig",
+                       "the analysis '%s' takes no ensemble Kalman settings", self->name);
+    return SL_OK;
+}
+
+/* The particle filter's analysis: each member's log-likelihood. */
+static sl_status pf_cycle(sl_analysis_cycle *c, sl_error *err)
+{
+    const sl_pf_config *cfg = c->cfg;
+    sl_status st;
+    if (c->m == 0)
+        return SL_OK;
+    if ((st = sl_pfi_predict_obs(cfg, c->run, c->r0, c->m, c->t, c->X, c->P, err)) != SL_OK)
+        return st;
+    if (c->out->nanpred != NULL)
+        c->out->nanpred[c->k] =
+            (double)count_nan_predictions(cfg, c->run, c->r0, c->m, c->dead);
+    sl_pfi_loglik_all(cfg, c->run, c->r0, c->m, &c->skipped);
+    c->evals = cfg->N;
+    c->nobs = c->m - c->skipped;
+    return SL_OK;
+}
+
+static const int method_enkf = SL_ENKF_STOCHASTIC, method_etkf = SL_ENKF_ETKF,
+                 method_ensrf = SL_ENKF_ENSRF, method_eakf = SL_ENKF_EAKF,
+                 method_letkf = SL_ENKF_LETKF;
+
+const sl_analysis sl_analysis_pf = {
+    "pf", SL_ANALYSIS_WEIGHTS, NULL, pf_check, NULL, NULL, pf_cycle,
+};
+
+#define KALMAN_ENTRY(var, name)                                                         \
+    const sl_analysis sl_analysis_##var = {                                             \
+        name, SL_ANALYSIS_MOVES, &method_##var, kalman_check, kalman_workspace,         \
+        kalman_start, kalman_cycle,                                                     \
+    }
+KALMAN_ENTRY(enkf, "enkf");
+KALMAN_ENTRY(etkf, "etkf");
+KALMAN_ENTRY(ensrf, "ensrf");
+KALMAN_ENTRY(eakf, "eakf");
+KALMAN_ENTRY(letkf, "letkf");
+
+/* The table: the particle filters first, then the ensemble Kalman
+ * analyses in the order of sl_enkf_method. */
+static const sl_analysis *const analyses[] = {
+    &sl_analysis_pf,   &sl_analysis_wenkf, &sl_analysis_enkf, &sl_analysis_etkf,
+    &sl_analysis_ensrf, &sl_analysis_eakf, &sl_analysis_letkf,
+};
+
+const sl_analysis *sl_analysis_at(size_t k)
+{
+    return k < sizeof analyses / sizeof *analyses ? analyses[k] : NULL;
+}
+
+const sl_analysis *sl_analysis_find(const char *name)
+{
+    size_t k;
+    if (name == NULL)
+        return NULL;
+    for (k = 0; k < sizeof analyses / sizeof *analyses; k++)
+        if (strcmp(analyses[k]->name, name) == 0)
+            return analyses[k];
+    return NULL;
+}
+
+const sl_analysis *sl_pf_analysis_of(const sl_pf_config *cfg)
+{
+    if (cfg->analysis != NULL)
+        return cfg->analysis;
+    if (cfg->wenkf)
+        return &sl_analysis_wenkf;
+    if (cfg->enkf != NULL) {
+        size_t k;
+        for (k = 2; k < sizeof analyses / sizeof *analyses; k++)
+            if (kalman_method(analyses[k]) == cfg->enkf->method)
+                return analyses[k];
+        return NULL;
+    }
+    return &sl_analysis_pf;
 }
 
 /* Record the smoothed summary of cycle s from its window slot with the
@@ -1623,9 +1797,10 @@ sl_status sl_pf_run(const sl_pf_config *cfg, double *X, double *P, double *w,
     const sl_model *md;
     size_t N, n, p, q, i, j, k, fidx = 0, ndead;
     pf_buffers b;
-    int cur = 0, moving;
+    const sl_analysis *an;
+    int cur = 0, moving, weighs;
     uint32_t s = 0;
-    double t, infl;
+    double t;
     sl_status st = sl_pf_check(cfg, err);
     if (st != SL_OK)
         return st;
@@ -1635,6 +1810,8 @@ sl_status sl_pf_run(const sl_pf_config *cfg, double *X, double *P, double *w,
     p = md->n_param;
     q = md->n_forcing;
     layout(cfg, (unsigned char *)work, &b);
+    an = b.an;
+    weighs = (an->flags & SL_ANALYSIS_WEIGHTS) != 0;
     b.nt = N >= PAR_MIN_MEMBERS ? cfg->threads : 1;
     if (cfg->derived_summary && cfg->n_lin + cfg->n_fun > 0 &&
         (out->dmean == NULL || (cfg->nq > 0 && out->dquant == NULL)))
@@ -1696,9 +1873,8 @@ sl_status sl_pf_run(const sl_pf_config *cfg, double *X, double *P, double *w,
     }
     out->log_evidence = 0.0;
     out->steps = 0;
-    infl = cfg->enkf != NULL ? cfg->enkf->inflation : 1.0;
-    if (cfg->enkf != NULL && cfg->adaptive_inflation && infl > cfg->inflation_max)
-        infl = cfg->inflation_max; /* adaptive inflation stays at most the maximum */
+    if (an->start != NULL)
+        an->start(an, cfg, b.awork, &b);
     t = cfg->t0;
 
     for (k = 0; k < cfg->T; k++) {
@@ -1728,7 +1904,7 @@ sl_status sl_pf_run(const sl_pf_config *cfg, double *X, double *P, double *w,
         }
 
         /* optional additive state noise, then the health of every member */
-        if (cfg->wenkf)
+        if (an->flags & SL_ANALYSIS_NOISE_FREE)
             memcpy(b.wk_m, Xc, n * N * sizeof(double));
         sl_pfi_add_state_noise(cfg, &b, Xc, k, NULL, cfg->seed, b.pcn ? b.zp : NULL, 0);
         ndead = 0;
@@ -1744,46 +1920,45 @@ sl_status sl_pf_run(const sl_pf_config *cfg, double *X, double *P, double *w,
 
         if (out->fmean != NULL)
             forecast_mean(cfg, b.dead[cur], Xc, Pc, w, out->fmean + k * (n + p));
-        if (cfg->enkf != NULL) {
-            /* ensemble Kalman: the analysis moves the members; the living
-             * ones keep equal weights, the dead are replaced below */
-            size_t nlive = N - ndead;
-            if (m > 0 && (st = sl_pfi_predict_obs(cfg, &b, r0, m, tk, Xc, Pc, err)) != SL_OK)
+        /* the cycle's analysis, through its table entry: it weighs the
+         * members (b.ll, nobs) or leaves the weights it wants in w */
+        {
+            sl_analysis_cycle ac;
+            memset(&ac, 0, sizeof ac);
+            ac.self = an;
+            ac.cfg = cfg;
+            ac.k = k;
+            ac.t = tk;
+            ac.r0 = r0;
+            ac.m = m;
+            ac.X = Xc;
+            ac.Z = Zc;
+            ac.P = Pc;
+            ac.w = w;
+            ac.dead = b.dead[cur];
+            ac.ndead = ndead;
+            ac.Xf = an->flags & SL_ANALYSIS_NOISE_FREE ? b.wk_m : NULL;
+            ac.work = b.awork;
+            ac.nwin = b.nwin ? (k < b.nwin ? k : b.nwin) : 0;
+            ac.out = out;
+            ac.run = &b;
+            ac.ll = b.ll;
+            if ((st = an->update(&ac, err)) != SL_OK)
                 return st;
-            if (p > 0)
-                memcpy(b.Z[1 - cur], Zc, p * N * sizeof(double));
-            /* with no observation it records the inflation in force */
-            st = enkf_update(cfg, &b, k, r0, m, b.dead[cur], Xc, Zc, Pc, &infl,
-                             b.nwin ? (k < b.nwin ? k : b.nwin) : 0, out,
-                             &degenerate, &nskipped, err);
-            if (st != SL_OK)
-                return st;
-            refresh_ids(p, N, b.Z[1 - cur], Zc, b.vid[cur]);
-            for (j = 0; j < N; j++)
-                w[j] = b.dead[cur][j] || nlive == 0 ? 0.0 : 1.0 / (double)nlive;
+            nskipped = ac.skipped;
+            evals += ac.evals;
+            if (ac.degenerate)
+                degenerate = 1;
+            nobs = weighs ? ac.nobs : 0;
+        }
+        if (!weighs) {
             out->logz[k] = NAN;
             out->log_evidence = NAN;
             reweight = 0;
         }
-        /* weight: b.lw holds the members' normalised log-weights */
-        nobs = 0;
-        if (cfg->enkf == NULL && m > 0) {
-            if (cfg->wenkf) {
-                if ((st = sl_pfi_wenkf_update(cfg, &b, k, r0, m, tk, Xc, Pc, w, b.dead[cur],
-                                       &nskipped, err)) != SL_OK)
-                    return st;
-            } else {
-                if ((st = sl_pfi_predict_obs(cfg, &b, r0, m, tk, Xc, Pc, err)) != SL_OK)
-                    return st;
-                if (out->nanpred != NULL)
-                    out->nanpred[k] = (double)count_nan_predictions(cfg, &b, r0, m, b.dead[cur]);
-                sl_pfi_loglik_all(cfg, &b, r0, m, &nskipped);
-            }
-            evals += N;
-            nobs = m - nskipped;
-            if (nobs > 0)
-                reweight = 1;
-            if (nobs > 0 && cfg->temper.ess > 0) {
+        if (nobs > 0) {
+            reweight = 1;
+            if (cfg->temper.ess > 0) {
                 b.s_now = s;
                 st = temper_cycle(cfg, &b, k, r0, m, tk, &cur, w, &tphi, &tlogz, &tsteps,
                                   &evals, err);
@@ -1805,7 +1980,7 @@ sl_status sl_pf_run(const sl_pf_config *cfg, double *X, double *P, double *w,
             out->temper_steps[k] = nobs > 0 ? (double)(tsteps + 1) : 0.0;
         if (out->loglik_evals != NULL)
             out->loglik_evals[k] = (double)evals;
-        if (cfg->enkf == NULL)
+        if (weighs)
             out->logz[k] = 0.0;
         if (reweight) {
             sl_weight_summary ws;
@@ -1863,7 +2038,7 @@ sl_status sl_pf_run(const sl_pf_config *cfg, double *X, double *P, double *w,
         /* a particle-filter cycle where no member explains the data has
          * no effective members: its weights are all zero, and the weights
          * kept to go on with must not show it as a healthy ensemble */
-        out->ess[k] = cfg->enkf == NULL && degenerate ? 0.0 : ess;
+        out->ess[k] = weighs && degenerate ? 0.0 : ess;
         out->skipped[k] = (double)nskipped;
         out->nonfinite[k] = (double)ndead;
         out->degenerate[k] = degenerate;
@@ -1891,11 +2066,11 @@ sl_status sl_pf_run(const sl_pf_config *cfg, double *X, double *P, double *w,
         }
 
         /* resample (ensemble Kalman: only to replace dead members) */
-        if (wsum > 0 && (cfg->enkf != NULL ? ndead > 0 : ess < cfg->threshold * (double)N)) {
+        if (wsum > 0 && (!weighs ? ndead > 0 : ess < cfg->threshold * (double)N)) {
             int nx = 1 - cur;
             /* the kernel move is fitted to the weighted ensemble before
              * it is resampled */
-            int kmove = p > 0 && moving && cfg->enkf == NULL && !b.replay &&
+            int kmove = p > 0 && moving && weighs && !b.replay &&
                         cfg->param_move->when == SL_MOVE_AT_RESAMPLE;
             if (kmove && cfg->param_move->prepare != NULL)
                 cfg->param_move->prepare(&cfg->move, p, N, Zc, w, b.mv, NULL);

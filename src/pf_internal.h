@@ -8,15 +8,20 @@
 #include "sluice/pf.h"
 
 /* Every buffer of a run, carved from the caller's workspace. */
-typedef struct {
+typedef struct sl_pfi_buffers {
     double *X[2], *Z[2], *P[2], *E[2]; /* ping-pong pairs for resampling */
     unsigned char *dead[2];
     double *U, *u0, *Yhat, *Yfun, *Yd, *ll, *logw, *lw, *rwork, *mwork, *qwork;
-    /* ensemble Kalman analysis: augmented ensemble, compacted
-     * observations and their positions, live members, the method's work */
+    /* ensemble Kalman analysis (laid out in awork by its table entry):
+     * augmented ensemble, compacted observations and their positions,
+     * live members, the method's work */
     double *A, *Hc, *yc, *rc, *opos, *oc;
     size_t *live;
     void *ework;
+    double infl;                /* the inflation in force (adaptive) */
+    /* the run's analysis and its workspace */
+    const sl_analysis *an;
+    void *awork;
     double *mv;                 /* the parameter move's workspace */
     double *mvlast;             /* resample_move: the last proposal fitted
                                  * to an ensemble where every estimated
@@ -61,7 +66,8 @@ typedef struct {
     double *RX2, *RZ2, *RP2, *RE2, *rlw, *ZG, *ZG2;
     unsigned char *rdead2;
     int smc2;
-    /* weighted ensemble Kalman filter: deterministic forecasts, predicted
+    /* weighted ensemble Kalman filter: deterministic forecasts (the
+     * run's copy of the forecast before the state noise), predicted
      * observations of the forecasts and of the deterministic forecasts,
      * gain, innovation covariance, H on the states, proposal covariance,
      * scratch, means, cross-covariance, observed rows, log-weights */
@@ -119,10 +125,6 @@ sl_status sl_pfi_forecast(const sl_pf_config *cfg, pf_buffers *b, double *X,
                           sl_error *err);
 double sl_pfi_log_prior_z(const sl_pf_config *cfg, const unsigned char *est,
                           const double *z);
-sl_status sl_pfi_wenkf_update(const sl_pf_config *cfg, pf_buffers *b, size_t k,
-                              size_t r0, size_t m, double tk, double *X, const double *P,
-                              const double *w, const unsigned char *dead,
-                              size_t *nskipped, sl_error *err);
 sl_status sl_pfi_smc2_run(const sl_pf_config *cfg, pf_buffers *b, double *X, double *P,
                           double *w, sl_pf_output *out, sl_error *err);
 

@@ -4,6 +4,7 @@
 #include <string.h>
 
 #include "pf_internal.h"
+#include "workspace.h"
 #include "sluice/loglik.h"
 #include "sluice/param_move.h"
 #include "sluice/prior.h"
@@ -62,10 +63,10 @@ static void wk_lsolve(size_t d, const double *L, double *x)
  * log q(x_a | m_j): the weights correct the proposal whatever the gain.
  * Observed rows only (missing ones skipped; their count into
  * *nskipped). */
-sl_status sl_pfi_wenkf_update(const sl_pf_config *cfg, pf_buffers *b, size_t k,
-                              size_t r0, size_t m, double tk, double *X, const double *P,
-                              const double *w, const unsigned char *dead,
-                              size_t *nskipped, sl_error *err)
+static sl_status wenkf_update(const sl_pf_config *cfg, pf_buffers *b, size_t k,
+                           size_t r0, size_t m, double tk, double *X, const double *P,
+                           const double *w, const unsigned char *dead,
+                           size_t *nskipped, sl_error *err)
 {
     const size_t N = cfg->N, n = cfg->model->n_state, p = cfg->model->n_param;
     const size_t v = n + p, nl = cfg->n_lin;
@@ -235,3 +236,102 @@ sl_status sl_pfi_wenkf_update(const sl_pf_config *cfg, pf_buffers *b, size_t k,
         b->ll[j] = isnan(b->ll[j]) ? -HUGE_VAL : b->ll[j] + b->tmp2[j];
     return SL_OK;
 }
+
+/* ------------------------------------------------------ the table entry */
+
+/* The filter's buffers (but the deterministic forecasts, which the run
+ * keeps: SL_ANALYSIS_NOISE_FREE) laid out in base (NULL: only measure);
+ * returns the end of the layout, or 0 if a size overflows. */
+static size_t wenkf_layout(const sl_pf_config *cfg, size_t m_max, unsigned char *base,
+                           pf_buffers *b)
+{
+    const size_t N = cfg->N, n = cfg->model->n_state, big = (size_t)1 << 58;
+    size_t mm = m_max ? m_max : 1, off = 0, end;
+    if (n > big / 8 / n || mm > big / 8 / mm || n > big / 8 / mm)
+        return 0;
+    sl_ws_carve(base, &off, mm * N * 8, (void **)&b->wk_hf);
+    sl_ws_carve(base, &off, mm * N * 8, (void **)&b->wk_hm);
+    sl_ws_carve(base, &off, n * mm * 8, (void **)&b->wk_k);
+    sl_ws_carve(base, &off, mm * mm * 8, (void **)&b->wk_s);
+    sl_ws_carve(base, &off, mm * n * 8, (void **)&b->wk_h);
+    sl_ws_carve(base, &off, n * n * 8, (void **)&b->wk_sig);
+    sl_ws_carve(base, &off, (mm > n ? mm : n) * 8, (void **)&b->wk_tmp);
+    sl_ws_carve(base, &off, n * 8, (void **)&b->wk_xb);
+    sl_ws_carve(base, &off, mm * 8, (void **)&b->wk_hb);
+    sl_ws_carve(base, &off, n * mm * 8, (void **)&b->wk_cxh);
+    sl_ws_carve(base, &off, n * 8, (void **)&b->wk_d);
+    sl_ws_carve(base, &off, N * 8, (void **)&b->tmp2);
+    end = sl_ws_carve(base, &off, mm * sizeof(size_t), (void **)&b->wk_row);
+    return sl_ws_size(end);
+}
+
+static size_t wenkf_workspace(const sl_analysis *self, const sl_pf_config *cfg,
+                              size_t m_max, size_t nwin)
+{
+    pf_buffers b;
+    (void)self;
+    (void)nwin;
+    return wenkf_layout(cfg, m_max, NULL, &b);
+}
+
+static void wenkf_start(const sl_analysis *self, const sl_pf_config *cfg, void *work,
+                        pf_buffers *run)
+{
+    (void)self;
+    wenkf_layout(cfg, run->m_max, (unsigned char *)work, run);
+}
+
+static sl_status wenkf_check(const sl_analysis *self, const sl_pf_config *cfg,
+                             sl_error *err)
+{
+    const size_t n = cfg->model->n_state, v = n + cfg->model->n_param;
+    const size_t m = cfg->obs_first[cfg->T];
+    size_t k;
+    (void)self;
+    if (cfg->enkf != NULL || cfg->inner > 0 || cfg->temper.ess > 0 ||
+        (cfg->param_move != NULL && cfg->param_move->replay))
+        return sl_fail(err, SL_EINVAL, "badconfig",
+                       "the weighted ensemble Kalman filter runs without an ensemble "
+                       "Kalman analysis, SMC2, tempering or a move that re-runs paths");
+    if (cfg->state_noise == NULL)
+        return sl_fail(err, SL_EINVAL, "badconfig",
+                       "the weighted ensemble Kalman filter needs state noise > 0 on "
+                       "every state (its transition density)");
+    for (k = 0; k < n; k++)
+        if (!(cfg->state_noise[k] > 0))
+            return sl_fail(err, SL_EINVAL, "badconfig",
+                           "the weighted ensemble Kalman filter needs state noise > 0 "
+                           "on every state; state %lu has %g",
+                           (unsigned long)(k + 1), cfg->state_noise[k]);
+    for (k = 0; k < m; k++) {
+        if (cfg->family[k] != SL_FAMILY_GAUSSIAN)
+            return sl_fail(err, SL_EINVAL, "badfamily",
+                           "observation %lu: the weighted ensemble Kalman filter takes "
+                           "Gaussian observations only", (unsigned long)(k + 1));
+        if (cfg->var[k] >= v + cfg->n_lin)
+            return sl_fail(err, SL_EINVAL, "badoperator",
+                           "observation %lu: the weighted ensemble Kalman filter takes "
+                           "states, parameters and linear operators only",
+                           (unsigned long)(k + 1));
+    }
+    return SL_OK;
+}
+
+static sl_status wenkf_cycle(sl_analysis_cycle *c, sl_error *err)
+{
+    sl_status st;
+    if (c->m == 0)
+        return SL_OK;
+    st = wenkf_update(c->cfg, c->run, c->k, c->r0, c->m, c->t, c->X, c->P, c->w, c->dead,
+                      &c->skipped, err);
+    if (st != SL_OK)
+        return st;
+    c->evals = c->cfg->N;
+    c->nobs = c->m - c->skipped;
+    return SL_OK;
+}
+
+const sl_analysis sl_analysis_wenkf = {
+    "wenkf", SL_ANALYSIS_WEIGHTS | SL_ANALYSIS_MOVES | SL_ANALYSIS_NOISE_FREE, NULL,
+    wenkf_check, wenkf_workspace, wenkf_start, wenkf_cycle,
+};

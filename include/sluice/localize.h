@@ -21,6 +21,30 @@ typedef enum {
     SL_GEOM_COUNT
 } sl_geometry;
 
+/* A geometry as a type object: its name, the number of coordinates of a
+ * position, what the localisation's period_or_radius means for it (NULL:
+ * nothing), the names and ranges of the coordinates, and its functions:
+ * distance between positions a and b (`scale` is period_or_radius); key,
+ * the coordinate that bounds the distance, by which the LETKF sorts
+ * observations (|key(a) - key(b)| <= reach(scale, d) whenever the
+ * distance is at most d, or the key is periodic with period `scale`
+ * when key_periodic); reach returns HUGE_VAL when no window of keys
+ * bounds d. The entry of id k is at index k of the table. */
+typedef struct {
+    const char *name;
+    size_t dim;
+    const char *scale;
+    int key_periodic;
+    const char *coord[2];      /* names of the coordinates */
+    double lo[2], hi[2];       /* their ranges (-HUGE_VAL, HUGE_VAL: any) */
+    double (*distance)(double scale, const double *a, const double *b);
+    double (*key)(double scale, const double *pos);
+    double (*reach)(double scale, double d);
+} sl_geometry_type;
+
+/* The geometry of id k (sl_geometry), or NULL. */
+const sl_geometry_type *sl_geometry_get(int geometry);
+
 /* The name of a geometry ("line", "ring", "plane", "sphere"), or NULL. */
 const char *sl_geometry_name(int geometry);
 

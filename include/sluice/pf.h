@@ -23,6 +23,23 @@ typedef enum {
     SL_FORCING_MULTIPLICATIVE  /* u * exp(e - sd^2/2): log-normal, mean-preserving */
 } sl_forcing_noise;
 
+/* A kind of perturbation as a type object: its name as the Octave layer
+ * spells it ("none", "additive", "multiplicative", at the index of its
+ * sl_forcing_noise id), whether it draws (0: the value as given), and
+ * the perturbed value of u for the member's perturbation e of standard
+ * deviation sd. */
+typedef struct {
+    const char *name;
+    int draws;
+    double (*apply)(double u, double e, double sd);
+} sl_forcing_noise_type;
+
+/* The kind of this id (sl_forcing_noise), or NULL. */
+const sl_forcing_noise_type *sl_forcing_noise_get(int kind);
+
+/* The id of the kind with this name, or -1. */
+int sl_forcing_noise_find(const char *name);
+
 /* q forcing series on their own time axis, and their perturbation. The
  * perturbation e of member j follows an AR(1) in model steps s:
  *   e_0 = sd * z_0,  e_s = phi e_{s-1} + sqrt(1 - phi^2) sd z_s,
@@ -40,6 +57,9 @@ typedef struct {
 } sl_forcing;
 
 typedef int (*sl_poll_fn)(void *ctx, double fraction);
+
+/* The analysis of a cycle, as a type object (defined below). */
+typedef struct sl_analysis sl_analysis;
 
 /* An observation operator computed outside the core (an Octave function,
  * say): the n_fun derived quantities of every member at time t into Y
@@ -183,6 +203,12 @@ typedef struct {
     const sl_localization *loc;
     int adaptive_inflation;
     double inflation_max;
+    /* The analysis every cycle runs (an entry of the analysis table, or
+     * an entry of the caller's own); NULL: the one enkf and wenkf name
+     * (sl_pf_analysis_of). With an ensemble Kalman entry, enkf (may be
+     * NULL: no inflation or relaxation) gives its settings, and its
+     * method, if given, must be the entry's. */
+    const sl_analysis *analysis;
     /* Fixed-lag smoothing (lag >= 1; 0: off). The run keeps the ensembles
      * of the last lag cycles (states and transformed parameters, member by
      * member: lag x (n + p) x N doubles) and records, for every cycle s,
@@ -245,6 +271,100 @@ typedef struct {
     double log_evidence; /* sum of logz */
     size_t steps;        /* model steps taken */
 } sl_pf_output;
+
+/* What an analysis does, in its flags:
+ * SL_ANALYSIS_WEIGHTS  weighs the members: the update leaves every
+ *     member's log-likelihood increment in ll and the count of the
+ *     observations it used in nobs; the run multiplies the weights by
+ *     them, records the log-evidence, resamples when the ESS falls below
+ *     threshold * N and tempers when asked. Without it the update leaves
+ *     the weights it wants in w (the ensemble Kalman methods: equal on
+ *     the living members), the log-evidence is NaN and the run resamples
+ *     only to replace members whose state is not finite.
+ * SL_ANALYSIS_MOVES    moves the members (their states, and parameters
+ *     if it says so by changing Z and P); a move that re-runs paths
+ *     cannot follow it.
+ * SL_ANALYSIS_NOISE_FREE  needs the forecast before the state noise:
+ *     the run keeps it in Xf. */
+#define SL_ANALYSIS_WEIGHTS 1u
+#define SL_ANALYSIS_MOVES 2u
+#define SL_ANALYSIS_NOISE_FREE 4u
+
+/* The run's internals (the analyses of the core reach their buffers
+ * through them; an analysis of the caller's own ignores them). */
+struct sl_pfi_buffers;
+
+/* One cycle as its analysis sees it. The run fills the inputs; the
+ * update fills the results it has (they start at 0). */
+typedef struct {
+    const sl_analysis *self;  /* the entry */
+    const sl_pf_config *cfg;
+    size_t k;                 /* cycle (0-based) */
+    double t;                 /* its time */
+    size_t r0, m;             /* its observation rows r0 .. r0 + m - 1 */
+    double *X;                /* n x N states after forecast and state noise */
+    double *Z;                /* p x N parameters, transformed */
+    double *P;                /* p x N parameters, natural units */
+    double *w;                /* N weights the forecast carries */
+    const unsigned char *dead;/* N flags: 1 for a state that is not finite */
+    size_t ndead;             /* how many */
+    const double *Xf;         /* n x N forecast before the state noise
+                               * (SL_ANALYSIS_NOISE_FREE), else NULL */
+    void *work;               /* the entry's workspace, NULL without one */
+    size_t nwin;              /* past cycles in the fixed-lag window */
+    sl_pf_output *out;        /* the run's records (cycle k is this one) */
+    struct sl_pfi_buffers *run;
+    /* results */
+    double *ll;               /* N log-likelihood increments (weighing) */
+    size_t nobs;              /* observations the weights used (weighing) */
+    size_t skipped;           /* observations skipped as missing */
+    size_t evals;             /* member likelihood evaluations */
+    int degenerate;           /* 1: the analysis could not be done (too
+                               * few living members) */
+} sl_analysis_cycle;
+
+/* An analysis as a type object: a name, flags, data of its own (the
+ * ensemble Kalman entries: their sl_enkf_method), and its functions,
+ * each given the entry itself. check (may be NULL) refuses a configuration the analysis
+ * cannot run, from sl_pf_check; workspace (NULL: none) gives the bytes it
+ * needs for a run whose cycles have at most m_max observations and whose
+ * fixed-lag window holds nwin cycles (0 if a size overflows); start (may
+ * be NULL) prepares the workspace at the start of a run; update runs the
+ * analysis of one cycle (also of a cycle without observations, m = 0). */
+struct sl_analysis {
+    const char *name;
+    unsigned flags;
+    const void *data;
+    sl_status (*check)(const sl_analysis *self, const sl_pf_config *cfg, sl_error *err);
+    size_t (*workspace)(const sl_analysis *self, const sl_pf_config *cfg, size_t m_max,
+                        size_t nwin);
+    void (*start)(const sl_analysis *self, const sl_pf_config *cfg, void *work,
+                  struct sl_pfi_buffers *run);
+    sl_status (*update)(sl_analysis_cycle *c, sl_error *err);
+};
+
+/* The analyses of the core: "pf" (weighing by the likelihood: the
+ * particle filter), "wenkf" (the weighted ensemble Kalman filter), and
+ * the ensemble Kalman analyses of sl_enkf_analysis, "enkf", "etkf",
+ * "ensrf", "eakf", "letkf" (in the order of sl_enkf_method). */
+extern const sl_analysis sl_analysis_pf;
+extern const sl_analysis sl_analysis_wenkf;
+extern const sl_analysis sl_analysis_enkf;
+extern const sl_analysis sl_analysis_etkf;
+extern const sl_analysis sl_analysis_ensrf;
+extern const sl_analysis sl_analysis_eakf;
+extern const sl_analysis sl_analysis_letkf;
+
+/* The analysis with this name, or NULL. */
+const sl_analysis *sl_analysis_find(const char *name);
+
+/* The k-th analysis of the table (k = 0, 1, ...), NULL past the end. */
+const sl_analysis *sl_analysis_at(size_t k);
+
+/* The analysis a configuration runs: cfg->analysis if set, else the
+ * weighted ensemble Kalman filter with wenkf, the method of enkf when it
+ * is not NULL, the particle filter otherwise. */
+const sl_analysis *sl_pf_analysis_of(const sl_pf_config *cfg);
 
 /* Check a configuration; reasons "badconfig", "badtimes", "offgrid",
  * "badforcing", "forcingrange", "badobs" and those of sl_loglik_check. */

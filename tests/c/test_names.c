@@ -9,6 +9,7 @@
 #include "sluice/localize.h"
 #include "sluice/loglik.h"
 #include "sluice/param_move.h"
+#include "sluice/pf.h"
 #include "sluice/prior.h"
 #include "sluice/resample.h"
 #include "sluice/smooth.h"
@@ -117,9 +118,57 @@ int main(void)
     }
     {
         static const char *const want[] = {"line", "ring", "plane", "sphere"};
-        for (k = 0; k < SL_GEOM_COUNT; k++)
+        static const size_t dims[] = {1, 1, 2, 2};
+        for (k = 0; k < SL_GEOM_COUNT; k++) {
+            const sl_geometry_type *g = sl_geometry_get((int)k);
             got[k] = sl_geometry_name((int)k);
+            CHECK(g != NULL && g->name == got[k] && g->dim == dims[k] &&
+                      sl_geometry_find(got[k]) == (int)k,
+                  "geometry '%s': %lu coordinates, found by name", got[k],
+                  g != NULL ? (unsigned long)g->dim : 0ul);
+        }
         check_list("geometries", got, k, want, COUNT(want));
+        CHECK(sl_geometry_get(SL_GEOM_COUNT) == NULL && sl_geometry_get(-1) == NULL &&
+                  sl_geometry_find("torus") == -1 && sl_geometry_find(NULL) == -1,
+              "nothing out of range");
+    }
+    {
+        /* the perturbation kinds by id (sl_forcing_noise), as the Octave
+         * layer spells them */
+        static const char *const want[] = {"none", "additive", "multiplicative"};
+        static const int ids[] = {SL_FORCING_EXACT, SL_FORCING_ADDITIVE,
+                                  SL_FORCING_MULTIPLICATIVE};
+        for (k = 0; k < 16 && sl_forcing_noise_get((int)k) != NULL; k++) {
+            got[k] = sl_forcing_noise_get((int)k)->name;
+            CHECK(sl_forcing_noise_find(got[k]) == (int)k, "kind '%s' found", got[k]);
+        }
+        check_list("perturbation kinds", got, k, want, COUNT(want));
+        for (k = 0; k < COUNT(ids); k++)
+            CHECK(sl_forcing_noise_find(want[k]) == ids[k], "'%s' has id %d", want[k], ids[k]);
+        CHECK(sl_forcing_noise_get(-1) == NULL && sl_forcing_noise_find("lognormal") == -1,
+              "nothing out of range");
+        /* the perturbed values: u + e; u exp(e - sd^2/2), whose mean over
+         * e ~ N(0, sd^2) is u (the log-normal mean exp(mu + sd^2/2),
+         * common practice); 'none' leaves u as given */
+        CHECK(sl_forcing_noise_get(SL_FORCING_EXACT)->draws == 0 &&
+                  sl_forcing_noise_get(SL_FORCING_EXACT)->apply(2.385, 0.7, 0.3) == 2.385,
+              "none: as given");
+        CHECK(sl_forcing_noise_get(SL_FORCING_ADDITIVE)->apply(2.385, 0.7, 0.3) == 2.385 + 0.7,
+              "additive");
+        CHECK_REL(sl_forcing_noise_get(SL_FORCING_MULTIPLICATIVE)->apply(2.385, 0.7, 0.3),
+                  2.385 * exp(0.7 - 0.045), 1e-15, "multiplicative");
+    }
+    {
+        /* the analyses a filter cycle can run: the particle filters, then
+         * the ensemble Kalman methods by id */
+        static const char *const want[] = {"pf", "wenkf", "enkf", "etkf", "ensrf", "eakf",
+                                           "letkf"};
+        for (k = 0; k < 16 && sl_analysis_at(k) != NULL; k++) {
+            got[k] = sl_analysis_at(k)->name;
+            CHECK(sl_analysis_find(got[k]) == sl_analysis_at(k), "analysis '%s' found",
+                  got[k]);
+        }
+        check_list("analyses", got, k, want, COUNT(want));
     }
     CHECK_DONE("test_names");
 }

@@ -9,13 +9,57 @@
 
 %!test
 %! f = {'integrators', 'resamplers', 'families', 'distributions', 'distribution_forms', ...
-%!      'methods', 'moves', 'smoothers', 'geometries'};
+%!      'analyses', 'methods', 'moves', 'smoothers', 'geometries', 'forcing_noises'};
 %! for k = 1:numel (f)
 %!   v = c.(f{k});
 %!   assert (iscellstr (v) && size (v, 1) == 1 && numel (v) >= 2, f{k});
 %!   assert (numel (unique (v)), numel (v), f{k});
 %! end
 %! assert (size (c.distribution_args), size (c.distributions));
+%! assert (size (c.geometry_dims), size (c.geometries));
+%! % the ensemble Kalman analyses are among the analyses, in their order
+%! assert (c.analyses(end-numel (c.methods)+1:end), c.methods);
+
+%!test
+%! % every analysis runs a filter (the weighted ensemble Kalman filter
+%! % with the state noise it needs), and every geometry localises with
+%! % positions of as many coordinates as listed
+%! spec = sluice.model ('linear', 'A', [0.9 0.1; 0 0.8], 'Q', 0.1 * eye (2));
+%! obs = struct ('time', (1:4)', 'variable', {{'x1'; 'x2'; 'x1'; 'x2'}}, ...
+%!               'value', [0.3; -0.2; 0.5; 0.1], 'sigma', 0.4 * ones (4, 1));
+%! o = {'members', 30, 'seed', 2, 'progress', false, 't0', 0, 'state_noise', 0.2};
+%! loc = struct ('geometry', 'line', 'radius', 5, 'positions', [1; 2]);
+%! for a = c.analyses
+%!   l = {};
+%!   if (any (strcmp (a{1}, setdiff (c.methods, {'etkf'}))))
+%!     l = {'localization', loc};
+%!   end
+%!   r = sluice.filter (spec, [], obs, o{:}, 'method', a{1}, l{:});
+%!   assert (r.method, a{1});
+%!   assert (all (isfinite (r.states.mean(:))), a{1});
+%! end
+%! pos = {[1; 2], [1; 2], [1 1; 2 1], [10 5; 12 6]};
+%! for k = 1:numel (c.geometries)
+%!   L = struct ('geometry', c.geometries{k}, 'radius', 5, 'positions', pos{k}, ...
+%!               'period', 10, 'sphere_radius', 100);
+%!   assert (columns (pos{k}), c.geometry_dims(k));
+%!   r = sluice.filter (spec, [], obs, o{:}, 'method', 'letkf', 'localization', L);
+%!   assert (all (isfinite (r.states.mean(:))), c.geometries{k});
+%! end
+
+%!test
+%! % every perturbation kind perturbs a forcing: 'none' leaves every
+%! % member on the series, the others spread them
+%! spec = sluice.model (@(t, X, P, U, dt) U, 'states', {'x'}, 'forcings', {'u'});
+%! forcing = struct ('time', [0; 10], 'values', [2; 2]);
+%! none = struct ('time', zeros (0, 1), 'variable', {{}}, 'value', [], 'sigma', []);
+%! for k = 1:numel (c.forcing_noises)
+%!   r = sluice.filter (spec, [], none, 'members', 50, 'seed', 3, 't0', 0, 'times', 1:3, ...
+%!                      'progress', false, 'forcing', forcing, ...
+%!                      'forcing_noise', struct ('kind', c.forcing_noises{k}, 'sd', 0.2));
+%!   spread = std (r.final.X);
+%!   assert (spread == 0, strcmp (c.forcing_noises{k}, 'none'));
+%! end
 
 %!test
 %! % every scheme resamples, every distribution makes a prior with the
@@ -66,6 +110,9 @@
 %! sluice.filter (sluice.model ('linear', 'A', 1), [], struct ('time', 1, 'variable', {{'x1'}}, 'value', 1, 'sigma', 1), 'param_move', 'walk');
 %!error <resample must be 'systematic', 'stratified', 'residual' or 'multinomial'>
 %! sluice.filter (sluice.model ('linear', 'A', 1), [], struct ('time', 1, 'variable', {{'x1'}}, 'value', 1, 'sigma', 1), 'resample', 'fair');
+%!error <perturbation kind must be 'none', 'additive' or 'multiplicative'>
+%! spec = sluice.model (@(t, X, P, U, dt) U, 'states', {'x'}, 'forcings', {'u'});
+%! sluice.filter (spec, [], struct ('time', 1, 'variable', {{'x'}}, 'value', 1, 'sigma', 1), 'forcing', struct ('time', [0; 2], 'values', [1; 1]), 'forcing_noise', struct ('kind', 'lognormal', 'sd', 1));
 %!error <localization.geometry must be 'line', 'ring', 'plane' or 'sphere'>
 %! sluice.filter (sluice.model ('linear', 'A', 1), [], struct ('time', 1, 'variable', {{'x1'}}, 'value', 1, 'sigma', 1), 'method', 'ensrf', 'localization', struct ('geometry', 'torus', 'radius', 1));
 %!error <method must be 'genealogy' or 'ffbsi'>

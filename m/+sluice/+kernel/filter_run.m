@@ -307,7 +307,7 @@ function opts = parse_options (args, fn)
     sluice.kernel.time_unit (opts.time_unit, fn, 'time_unit');
   end
   core = core_lists ();
-  methods = [{'pf', 'wenkf'}, core.methods];
+  methods = core.analyses;
   if (~ischar (opts.method) || ~any (strcmp (opts.method, methods)))
     error (['sluice:' fn ':badmethod'], 'unknown method; the methods are %s', ...
            strjoin (methods, ', '));
@@ -508,9 +508,9 @@ function c = add_localization (c, opts, model, tab, obs, derived, fn)
   core = core_lists ();
   if (~ischar (geom) || ~any (strcmp (geom, core.geometries)))
     error (['sluice:' fn ':badlocalization'], ...
-           'localization.geometry must be ''line'', ''ring'', ''plane'' or ''sphere''');
+           'localization.geometry must be %s', quoted_list (core.geometries));
   end
-  dim = 1 + any (strcmp (geom, {'plane', 'sphere'}));
+  dim = core.geometry_dims(strcmp (geom, core.geometries));
   n = numel (model.states);
   p = numel (model.params);
   if (isfield (L, 'positions'))
@@ -708,6 +708,16 @@ function [X0, P0, lower, upper, pdist] = initial_ensemble (model, prior, N, seed
 end
 
 
+
+function s = quoted_list (names)
+  % 'a', 'b' or 'c'
+  q = strcat ({''''}, names, {''''});
+  if (numel (q) > 1)
+    s = [strjoin(q(1:end-1), ', '), ' or ', q{end}];
+  else
+    s = q{1};
+  end
+end
 
 function c = core_lists ()
   % the names the core knows (sluice.kernel.core_names), asked once

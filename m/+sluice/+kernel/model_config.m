@@ -245,9 +245,15 @@ function [kind, sd, phi] = noise_spec (spec, q, with_ar1, id)
   if (~iscellstr (kinds) || numel (kinds) ~= q)
     error (id, 'perturbation kind: one kind, or one per series (%d)', q);
   end
-  [ok, k] = ismember (kinds, {'none', 'additive', 'multiplicative'});
+  % the core's kinds, in the order of their ids (sluice.kernel.core_names)
+  persistent core
+  if (isempty (core))
+    core = sluice.kernel.core_names ();
+  end
+  [ok, k] = ismember (kinds, core.forcing_noises);
   if (~all (ok))
-    error (id, 'perturbation kind must be ''none'', ''additive'' or ''multiplicative''');
+    q = strcat ({''''}, core.forcing_noises, {''''});
+    error (id, 'perturbation kind must be %s or %s', strjoin (q(1:end-1), ', '), q{end});
   end
   sd = field_or (spec, 'sd', 0, q, id);
   phi = field_or (spec, 'ar1', 0, q, id);
