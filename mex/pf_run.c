@@ -661,11 +661,11 @@ static void ck_read(run_settings *s, FILE *f)
  * up front a file that could not be written. */
 static void decode_checkpoint(run_settings *s)
 {
-    const mxArray *fa = slm_field(s->fn, s->c, "checkpoint", 0);
     size_t len;
     FILE *f;
-    if (fa == NULL || mxGetNumberOfElements(fa) == 0)
+    if (fnumel(s, "checkpoint") == 0)
         return;
+    (void)field(s, "checkpoint_key"); /* required: the fingerprint needs it */
     s->ck_file = fstring(s, "checkpoint");
     s->cfg.checkpoint_every = (size_t)fwhole(s, "checkpoint_every", 1, 1e15);
     len = strlen(s->ck_file) + 32;
