@@ -66,3 +66,38 @@ int slm_take_interrupt(void)
 #endif
     return 0;
 }
+
+long slm_pid(void)
+{
+#if defined(_WIN32)
+    return (long)GetCurrentProcessId();
+#elif defined(__unix__) || defined(__APPLE__)
+    return (long)getpid();
+#else
+    return 0;
+#endif
+}
+
+int slm_file_sync(FILE *f)
+{
+    if (fflush(f) != 0)
+        return -1;
+#if defined(_WIN32)
+    return _commit(_fileno(f));
+#elif defined(__unix__) || defined(__APPLE__)
+    return fsync(fileno(f));
+#else
+    return 0;
+#endif
+}
+
+int slm_file_replace(const char *from, const char *to)
+{
+#if defined(_WIN32)
+    return MoveFileExA(from, to, MOVEFILE_REPLACE_EXISTING | MOVEFILE_WRITE_THROUGH) ? 0 : -1;
+#else
+    /* POSIX rename replaces `to` atomically: a reader sees the old file
+     * or the new one, never a part */
+    return rename(from, to);
+#endif
+}

@@ -4,6 +4,8 @@
 
 #include <stddef.h>
 #include <stdint.h>
+#include <stdio.h>
+
 #include "mex.h"
 #include "sluice/prior.h"
 #include "sluice/status.h"
@@ -102,6 +104,11 @@ sl_prior_entry *slm_prior(const char *fn, const mxArray *const *args, int pos,
  * a monotonic clock in seconds, and whether standard output is a terminal. */
 double slm_monotonic_seconds(void);
 int slm_stdout_is_terminal(void);
+/* The process id; flush a file's data to the disk (0: done); replace
+ * file `to` by `from` at once (0: done), so a reader never sees a part. */
+long slm_pid(void);
+int slm_file_sync(FILE *f);
+int slm_file_replace(const char *from, const char *to);
 
 /* 1 when a Ctrl-C is pending in Octave, which it then takes over (the
  * interpreter will not act on it): the caller stops its run and raises

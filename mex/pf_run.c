@@ -38,6 +38,12 @@ typedef struct {
     sl_localization loc;
     slm_poll poll;
     sl_pf_config cfg;
+    /* checkpoints: the file, its temporary name, the fingerprint of the
+     * settings, the outputs recorded so far, the snapshot resumed */
+    char *ck_file, *ck_tmp;
+    uint64_t ck_key;
+    mxArray *ck_res;
+    sl_pf_snapshot ck_snap;
 } run_settings;
 
 /* ------------------------------------------------------- field readers */
@@ -477,6 +483,204 @@ static void decode_recording(run_settings *s)
     cfg->poll_ctx = &s->poll;
 }
 
+/* -------------------------------------------------------- checkpoints */
+
+/* A checkpoint file: a magic text, the format's version, the fingerprint
+ * of the run's settings, the threads of the run, the size of the core's
+ * header and the header, then every double output recorded so far (in
+ * the order of out_names: a count, the values; the weights w among them),
+ * the workspace, and the FNV-1a checksum of all that. Written whole to
+ * file.tmp<pid> and renamed over the file. */
+static const char ck_magic[8] = {'S', 'L', 'F', 'C', 'K', 'P', 'T', '1'};
+#define CK_VERSION 1u
+
+/* Settings that do not change what a run computes: not in the fingerprint. */
+static int ck_ignored(const char *name)
+{
+    return strcmp(name, "checkpoint") == 0 || strcmp(name, "checkpoint_every") == 0 ||
+           strcmp(name, "progress") == 0 || strcmp(name, "threads") == 0;
+}
+
+/* The FNV-1a hash of a value: its class, size and data, struct fields
+ * by name, cells element by element. A function handle counts by its
+ * class only: the text of the .m layer (checkpoint_key) stands for it. */
+static uint64_t ck_hash(uint64_t h, const mxArray *a, int top)
+{
+    const mwSize *d = mxGetDimensions(a);
+    size_t nd = mxGetNumberOfDimensions(a), ne = mxGetNumberOfElements(a), k, e;
+    uint64_t u = (uint64_t)mxGetClassID(a);
+    h = sl_fnv1a(h, &u, sizeof u);
+    for (k = 0; k < nd; k++) {
+        u = (uint64_t)d[k];
+        h = sl_fnv1a(h, &u, sizeof u);
+    }
+    if (mxIsStruct(a)) {
+        int f, nf = mxGetNumberOfFields(a);
+        for (e = 0; e < ne; e++)
+            for (f = 0; f < nf; f++) {
+                const char *name = mxGetFieldNameByNumber(a, f);
+                const mxArray *v = mxGetFieldByNumber(a, (mwIndex)e, f);
+                if (top && ck_ignored(name))
+                    continue;
+                h = sl_fnv1a(h, name, strlen(name) + 1);
+                if (v != NULL)
+                    h = ck_hash(h, v, 0);
+            }
+    } else if (mxIsCell(a)) {
+        for (e = 0; e < ne; e++) {
+            const mxArray *v = mxGetCell(a, (mwIndex)e);
+            if (v != NULL)
+                h = ck_hash(h, v, 0);
+        }
+    } else if ((mxIsNumeric(a) || mxIsChar(a) || mxIsLogical(a)) && ne > 0) {
+        h = sl_fnv1a(h, mxGetData(a), ne * mxGetElementSize(a));
+    }
+    return h;
+}
+
+/* The double outputs a checkpoint holds, in order: field k of res, or
+ * NULL when the run does not record it. */
+static mxArray *ck_output(const mxArray *res, int k)
+{
+    mxArray *a = mxGetFieldByNumber(res, 0, k);
+    return a != NULL && mxIsDouble(a) ? a : NULL;
+}
+
+static int ck_put(FILE *f, uint64_t *h, const void *p, size_t n)
+{
+    *h = sl_fnv1a(*h, p, n);
+    return n == 0 || fwrite(p, 1, n, f) == n;
+}
+
+static int ck_get(FILE *f, uint64_t *h, void *p, size_t n)
+{
+    if (n > 0 && fread(p, 1, n, f) != n)
+        return 0;
+    *h = sl_fnv1a(*h, p, n);
+    return 1;
+}
+
+/* The core's checkpoint callback: the snapshot and the outputs so far,
+ * written whole to the temporary file, synced, renamed over the file. */
+static sl_status ck_write(void *ctx, const sl_pf_snapshot *sn, sl_error *err)
+{
+    run_settings *s = (run_settings *)ctx;
+    FILE *f = fopen(s->ck_tmp, "wb");
+    uint64_t h = SL_FNV_START, u;
+    int ok, k, nf;
+    if (f == NULL)
+        return sl_fail(err, SL_EINVAL, "badcheckpoint", "checkpoint %s: cannot be written",
+                       s->ck_file);
+    ok = ck_put(f, &h, ck_magic, sizeof ck_magic);
+    u = CK_VERSION;
+    ok = ok && ck_put(f, &h, &u, sizeof u);
+    ok = ok && ck_put(f, &h, &s->ck_key, sizeof s->ck_key);
+    u = (uint64_t)s->cfg.threads;
+    ok = ok && ck_put(f, &h, &u, sizeof u);
+    u = sizeof sn->head;
+    ok = ok && ck_put(f, &h, &u, sizeof u);
+    ok = ok && ck_put(f, &h, &sn->head, sizeof sn->head);
+    nf = mxGetNumberOfFields(s->ck_res);
+    for (k = 0; k < nf && ok; k++) {
+        mxArray *a = ck_output(s->ck_res, k);
+        u = a != NULL ? (uint64_t)mxGetNumberOfElements(a) : 0;
+        ok = ck_put(f, &h, &u, sizeof u) && (u == 0 || ck_put(f, &h, mxGetDoubles(a), u * 8));
+    }
+    ok = ok && ck_put(f, &h, sn->work, (size_t)sn->head.work_bytes);
+    u = h;
+    ok = ok && fwrite(&u, 1, sizeof u, f) == sizeof u;
+    ok = slm_file_sync(f) == 0 && ok;
+    ok = fclose(f) == 0 && ok;
+    if (!ok || slm_file_replace(s->ck_tmp, s->ck_file) != 0) {
+        remove(s->ck_tmp);
+        return sl_fail(err, SL_EINVAL, "badcheckpoint",
+                       "checkpoint %s: cannot be written (disk full?)", s->ck_file);
+    }
+    return SL_OK;
+}
+
+/* Read the checkpoint into the outputs and the workspace and set the run
+ * to resume from it; refuse a file that is not whole, of another format,
+ * or of a run with other settings. */
+static void ck_read(run_settings *s, FILE *f)
+{
+    const char *fn = s->fn, *file = s->ck_file;
+    sl_pf_snapshot *sn = &s->ck_snap;
+    uint64_t h = SL_FNV_START, u, sum;
+    char magic[sizeof ck_magic];
+    sl_error err;
+    int k, nf, ok;
+    sl_error_clear(&err);
+#define CK_BAD(...)                                          \
+    do {                                                     \
+        fclose(f);                                           \
+        slm_fail(fn, "badcheckpoint", __VA_ARGS__);          \
+    } while (0)
+    if (!ck_get(f, &h, magic, sizeof magic) || memcmp(magic, ck_magic, sizeof magic) != 0)
+        CK_BAD("checkpoint %s: not a sluice.filter checkpoint; give another file", file);
+    if (!ck_get(f, &h, &u, sizeof u) || u != CK_VERSION)
+        CK_BAD("checkpoint %s: written in another format (version %lu; this build "
+               "reads %u); delete it to start again", file, (unsigned long)u, CK_VERSION);
+    if (!ck_get(f, &h, &u, sizeof u) || u != s->ck_key)
+        CK_BAD("checkpoint %s: written by a run with other settings (model, "
+               "observations or options); give another file, or delete it to start "
+               "again", file);
+    if (!ck_get(f, &h, &u, sizeof u) || u != (uint64_t)s->cfg.threads)
+        CK_BAD("checkpoint %s: written by a run with %lu threads; resume it with "
+               "'threads', %lu", file, (unsigned long)u, (unsigned long)u);
+    if (!ck_get(f, &h, &u, sizeof u) || u != sizeof sn->head ||
+        !ck_get(f, &h, &sn->head, sizeof sn->head))
+        CK_BAD("checkpoint %s: damaged (its header)", file);
+    /* the run starts before it restores: the snapshot needs its own
+     * memory (the sizes are checked first) */
+    sn->w = (double *)s;
+    sn->work = s;
+    if (sl_pf_snapshot_check(&s->cfg, sn, &err) != SL_OK)
+        CK_BAD("checkpoint %s: %s", file, err.message);
+    sn->work = slm_alloc(fn, (size_t)sn->head.work_bytes, 1);
+    sn->w = (double *)slm_alloc(fn, s->N, sizeof(double));
+    nf = mxGetNumberOfFields(s->ck_res);
+    for (k = 0, ok = 1; k < nf && ok; k++) {
+        mxArray *a = ck_output(s->ck_res, k);
+        ok = ck_get(f, &h, &u, sizeof u) &&
+             u == (a != NULL ? (uint64_t)mxGetNumberOfElements(a) : 0) &&
+             (u == 0 || ck_get(f, &h, mxGetDoubles(a), (size_t)u * 8));
+    }
+    ok = ok && ck_get(f, &h, sn->work, (size_t)sn->head.work_bytes);
+    if (!ok || fread(&sum, 1, sizeof sum, f) != sizeof sum || sum != h ||
+        fread(&u, 1, 1, f) != 0)
+        CK_BAD("checkpoint %s: damaged (its outputs or workspace do not match its "
+               "checksum); delete it to start again", file);
+#undef CK_BAD
+    fclose(f);
+    memcpy(sn->w, mxGetDoubles(mxGetField(s->ck_res, 0, "w")), s->N * sizeof(double));
+    s->cfg.resume = sn;
+}
+
+/* The checkpoint settings; the fingerprint of all the others. Refuses
+ * up front a file that could not be written. */
+static void decode_checkpoint(run_settings *s)
+{
+    size_t len;
+    FILE *f;
+    if (fnumel(s, "checkpoint") == 0)
+        return;
+    (void)field(s, "checkpoint_key"); /* required: the fingerprint needs it */
+    s->ck_file = fstring(s, "checkpoint");
+    s->cfg.checkpoint_every = (size_t)fwhole(s, "checkpoint_every", 1, 1e15);
+    len = strlen(s->ck_file) + 32;
+    s->ck_tmp = (char *)slm_alloc(s->fn, len, 1);
+    snprintf(s->ck_tmp, len, "%s.tmp%ld", s->ck_file, slm_pid());
+    f = fopen(s->ck_tmp, "wb");
+    if (f == NULL)
+        slm_fail(s->fn, "badcheckpoint", "checkpoint %s: cannot be written there", s->ck_file);
+    fclose(f);
+    remove(s->ck_tmp);
+    s->ck_key = ck_hash(SL_FNV_START, s->c, 1);
+    s->cfg.checkpoint = ck_write;
+    s->cfg.checkpoint_ctx = s;
+}
+
 /* ------------------------------------------------------------ outputs */
 
 /* A new v x nq x T array (the layout of the quantiles). */
@@ -640,6 +844,7 @@ void mexFunction(int nlhs, mxArray *plhs[], int nrhs, const mxArray *prhs[])
     decode_cycle(&s);
     decode_recording(&s);
     decode_analysis(&s);
+    decode_checkpoint(&s);
 
     xa = initial(&s, "X0", s.n, 0);
     pa = initial(&s, "P0", s.p, SLM_ALLOW_INF);
@@ -653,6 +858,12 @@ void mexFunction(int nlhs, mxArray *plhs[], int nrhs, const mxArray *prhs[])
     create_summaries(&s, res, &out);
     create_optional(&s, res, &out);
     create_history(&s, res, &out);
+    if (s.ck_file != NULL) {
+        FILE *f = fopen(s.ck_file, "rb");
+        s.ck_res = res;
+        if (f != NULL)
+            ck_read(&s, f); /* resume from it */
+    }
 
     if (sl_pf_run(&s.cfg, mxGetDoubles(xa), mxGetDoubles(pa), mxGetDoubles(wa), work,
                   &out, &err) != SL_OK)

@@ -165,6 +165,8 @@ static size_t layout(const sl_pf_config *cfg, unsigned char *base,
                         base != NULL ? (void **)&b->win[k] : NULL);
         if (base != NULL)
             b->wspare = b->win[b->nwin];
+        b->wstride = ((n + p) * N * 8 + SL_WS_ALIGN - 1) / SL_WS_ALIGN * SL_WS_ALIGN;
+        b->wslot0 = base != NULL ? b->win[0] : NULL;
         sl_ws_carve(base, &off, (n + p) * N * 8, (void **)&b->wtmp);
     }
     /* the analysis's own buffers */
@@ -176,7 +178,8 @@ static size_t layout(const sl_pf_config *cfg, unsigned char *base,
         sl_ws_carve(base, &off, aw, &b->awork);
     }
     tmp = sl_ws_carve(base, &off, nthr * sizeof(sl_error), (void **)&b->terr);
-    return sl_ws_size(tmp);
+    b->bytes = sl_ws_size(tmp);
+    return b->bytes;
 }
 
 int sl_pf_paths_random(const sl_pf_config *cfg)
@@ -416,10 +419,117 @@ sl_status sl_pf_check(const sl_pf_config *cfg, sl_error *err)
             return sl_fail(err, SL_EINVAL, "badconfig",
                            "quantile level %lu must lie in [0, 1], got %g",
                            (unsigned long)(k + 1), cfg->probs[k]);
+    if (cfg->checkpoint != NULL && cfg->checkpoint_every < 1)
+        return sl_fail(err, SL_EINVAL, "badconfig",
+                       "checkpoints need a number of cycles >= 1 between them");
     if (sl_pf_workspace(cfg) == 0)
         return sl_fail(err, SL_ENOMEM, "nomemory",
                        "the run's workspace size overflows");
     return SL_OK;
+}
+
+/* ----------------------------------------------------------- checkpoints */
+
+uint64_t sl_fnv1a(uint64_t h, const void *data, size_t n)
+{
+    /* Fowler-Noll-Vo FNV-1a, 64 bits: xor a byte, multiply by the prime */
+    const unsigned char *c = (const unsigned char *)data;
+    size_t i;
+    for (i = 0; i < n; i++) {
+        h ^= c[i];
+        h *= 0x100000001b3ULL;
+    }
+    return h;
+}
+
+sl_status sl_pf_snapshot_check(const sl_pf_config *cfg, const sl_pf_snapshot *snap,
+                               sl_error *err)
+{
+    const sl_pf_snapshot_head *h = &snap->head;
+    pf_buffers b;
+    size_t bytes = layout(cfg, NULL, &b);
+    if (h->magic != SL_PF_SNAPSHOT_MAGIC)
+        return sl_fail(err, SL_EINVAL, "badsnapshot", "not a snapshot of a filter run");
+    if (h->version != SL_PF_SNAPSHOT_VERSION)
+        return sl_fail(err, SL_EINVAL, "badsnapshot",
+                       "a snapshot of version %lu; this build reads version %u",
+                       (unsigned long)h->version, SL_PF_SNAPSHOT_VERSION);
+    if (h->N != cfg->N || h->T != cfg->T || h->work_bytes != bytes)
+        return sl_fail(err, SL_EINVAL, "badsnapshot",
+                       "a snapshot of a run of another size (%lu members, %lu cycles, "
+                       "%lu bytes of workspace; this run has %lu, %lu and %lu)",
+                       (unsigned long)h->N, (unsigned long)h->T,
+                       (unsigned long)h->work_bytes, (unsigned long)cfg->N,
+                       (unsigned long)cfg->T, (unsigned long)bytes);
+    if (h->next < 1 || h->next > cfg->T || h->cur > 1 || h->s > UINT32_MAX ||
+        h->s_now > UINT32_MAX || h->swapped >= (1u << 13) || h->wspare > b.nwin ||
+        (cfg->forcing.nt > 0 && h->fidx >= cfg->forcing.nt) || snap->w == NULL ||
+        snap->work == NULL)
+        return sl_fail(err, SL_EINVAL, "badsnapshot", "the snapshot's header is damaged");
+    return SL_OK;
+}
+
+sl_status sl_pfi_snap_restore(const sl_pf_config *cfg, pf_buffers *b, void *work, double *w,
+                              sl_error *err)
+{
+    const sl_pf_snapshot *sn = cfg->resume;
+    const sl_pf_snapshot_head *h = &sn->head;
+    size_t k;
+    sl_status st = sl_pf_snapshot_check(cfg, sn, err);
+    if (st != SL_OK)
+        return st;
+    memcpy(work, sn->work, b->bytes);
+    memcpy(w, sn->w, cfg->N * sizeof(double));
+    b->rm_adapt = h->rm_adapt;
+    b->pcn_beta = h->pcn_beta;
+    b->s_now = (uint32_t)h->s_now;
+    SL_PFI_ORDER(double, b->ll, b->llx, h->swapped & 1);
+    SL_PFI_ORDER(uint32_t, b->tanc, b->tanc2, (h->swapped >> 1) & 1);
+    SL_PFI_ORDER(double, b->zp, b->zp2, (h->swapped >> 2) & 1);
+    if (b->nwin > 0) {
+        /* the window's slot numbers back to addresses */
+        for (k = 0; k < b->nwin; k++) {
+            uintptr_t slot = (uintptr_t)b->win[k];
+            if (slot > b->nwin || slot == h->wspare)
+                return sl_fail(err, SL_EINVAL, "badsnapshot",
+                               "the snapshot's window is damaged");
+            b->win[k] = b->wslot0 + slot * (b->wstride / 8);
+        }
+        b->wspare = b->wslot0 + h->wspare * (b->wstride / 8);
+    }
+    return SL_OK;
+}
+
+sl_status sl_pfi_snap_call(const sl_pf_config *cfg, pf_buffers *b, void *work, double *w,
+                           sl_pf_snapshot *sn, sl_error *err)
+{
+    sl_pf_snapshot_head *h = &sn->head;
+    sl_status st;
+    size_t k;
+    h->magic = SL_PF_SNAPSHOT_MAGIC;
+    h->version = SL_PF_SNAPSHOT_VERSION;
+    h->work_bytes = b->bytes;
+    h->N = cfg->N;
+    h->T = cfg->T;
+    h->s_now = b->s_now;
+    h->rm_adapt = b->rm_adapt;
+    h->pcn_beta = b->pcn_beta;
+    h->swapped |= SL_PFI_AFTER(b->ll, b->llx) | SL_PFI_AFTER(b->tanc, b->tanc2) << 1 |
+                  SL_PFI_AFTER(b->zp, b->zp2) << 2;
+    h->wspare = 0;
+    if (b->nwin > 0) {
+        /* addresses in the workspace as slot numbers, for the call only */
+        h->wspare = (uint64_t)((size_t)(b->wspare - b->wslot0) * 8 / b->wstride);
+        for (k = 0; k < b->nwin; k++)
+            b->win[k] = (double *)(uintptr_t)((size_t)(b->win[k] - b->wslot0) * 8 / b->wstride);
+    }
+    sn->w = w;
+    sn->work = work;
+    st = cfg->checkpoint(cfg->checkpoint_ctx, sn, err);
+    if (b->nwin > 0)
+        for (k = 0; k < b->nwin; k++)
+            b->win[k] = b->wslot0 + (uintptr_t)b->win[k] * (b->wstride / 8);
+    return st;
 }
 
 /* ------------------------------------------------------------ the cycle */
@@ -1795,7 +1905,7 @@ sl_status sl_pf_run(const sl_pf_config *cfg, double *X, double *P, double *w,
                     void *work, sl_pf_output *out, sl_error *err)
 {
     const sl_model *md;
-    size_t N, n, p, q, i, j, k, fidx = 0, ndead;
+    size_t N, n, p, q, i, j, k, k0 = 0, fidx = 0, ndead;
     pf_buffers b;
     const sl_analysis *an;
     int cur = 0, moving, weighs;
@@ -1809,6 +1919,7 @@ sl_status sl_pf_run(const sl_pf_config *cfg, double *X, double *P, double *w,
     n = md->n_state;
     p = md->n_param;
     q = md->n_forcing;
+    memset(&b, 0, sizeof b);
     layout(cfg, (unsigned char *)work, &b);
     an = b.an;
     weighs = (an->flags & SL_ANALYSIS_WEIGHTS) != 0;
@@ -1821,7 +1932,7 @@ sl_status sl_pf_run(const sl_pf_config *cfg, double *X, double *P, double *w,
         return sl_fail(err, SL_EINVAL, "badconfig",
                        "a run with a lag needs the outputs smean and squant");
     if (b.smc2)
-        return sl_pfi_smc2_run(cfg, &b, X, P, w, out, err);
+        return sl_pfi_smc2_run(cfg, &b, work, X, P, w, out, err);
 
     memcpy(b.X[0], X, n * N * sizeof(double));
     memcpy(b.P[0], P, p * N * sizeof(double));
@@ -1876,8 +1987,22 @@ sl_status sl_pf_run(const sl_pf_config *cfg, double *X, double *P, double *w,
     if (an->start != NULL)
         an->start(an, cfg, b.awork, &b);
     t = cfg->t0;
+    if (cfg->resume != NULL) {
+        /* a checkpoint: the workspace, weights and loop values it holds */
+        const sl_pf_snapshot_head *h = &cfg->resume->head;
+        if ((st = sl_pfi_snap_restore(cfg, &b, work, w, err)) != SL_OK)
+            return st;
+        k0 = (size_t)h->next;
+        cur = (int)h->cur;
+        s = (uint32_t)h->s;
+        fidx = (size_t)h->fidx;
+        t = h->t;
+        b.infl = h->infl;
+        out->log_evidence = h->log_evidence;
+        out->steps = (size_t)h->steps;
+    }
 
-    for (k = 0; k < cfg->T; k++) {
+    for (k = k0; k < cfg->T; k++) {
         const double tk = cfg->times[k];
         const size_t r0 = cfg->obs_first[k], m = cfg->obs_first[k + 1] - r0;
         double *Xc = b.X[cur], *Pc = b.P[cur], *Zc = b.Z[cur];
@@ -2153,6 +2278,21 @@ sl_status sl_pf_run(const sl_pf_config *cfg, double *X, double *P, double *w,
                     b.llx[j] = prev[b.tanc[j]];
                 memcpy(prev, b.llx, N * sizeof(double));
             }
+        }
+        if (cfg->checkpoint != NULL &&
+            ((k + 1) % cfg->checkpoint_every == 0 || k + 1 == cfg->T)) {
+            sl_pf_snapshot sn;
+            memset(&sn, 0, sizeof sn);
+            sn.head.next = k + 1;
+            sn.head.cur = (uint64_t)cur;
+            sn.head.s = s;
+            sn.head.fidx = fidx;
+            sn.head.t = t;
+            sn.head.infl = b.infl;
+            sn.head.log_evidence = out->log_evidence;
+            sn.head.steps = out->steps;
+            if ((st = sl_pfi_snap_call(cfg, &b, work, w, &sn, err)) != SL_OK)
+                return st;
         }
     }
     memcpy(X, b.X[cur], n * N * sizeof(double));

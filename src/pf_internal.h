@@ -36,6 +36,9 @@ typedef struct sl_pfi_buffers {
      * summaries, the state positions of the augmented rows */
     double **win, *wspare, *wtmp, *spos;
     size_t nwin;
+    double *wslot0;  /* the first window slot; slots lie wstride bytes apart */
+    size_t wstride;
+    size_t bytes;    /* the workspace's size */
     sl_error *terr;
     size_t mwork_per, qwork_per, m_max;
     int nt; /* threads for per-member loops: 1 for small ensembles */
@@ -125,7 +128,28 @@ sl_status sl_pfi_forecast(const sl_pf_config *cfg, pf_buffers *b, double *X,
                           sl_error *err);
 double sl_pfi_log_prior_z(const sl_pf_config *cfg, const unsigned char *est,
                           const double *z);
-sl_status sl_pfi_smc2_run(const sl_pf_config *cfg, pf_buffers *b, double *X, double *P,
+/* Checkpoints (pf.c): restore a run from cfg->resume into b, the
+ * workspace `work` and the weights w (the caller takes the loop-carried
+ * values from the header); take a snapshot of the run at the end of a
+ * cycle (sn->head holds the caller's loop-carried values and its bits of
+ * `swapped`, 3 and up) and hand it to cfg->checkpoint. Bits 0 to 2 of
+ * `swapped` are the pairs ll/llx, tanc/tanc2 and zp/zp2. */
+sl_status sl_pfi_snap_restore(const sl_pf_config *cfg, pf_buffers *b, void *work, double *w,
+                              sl_error *err);
+sl_status sl_pfi_snap_call(const sl_pf_config *cfg, pf_buffers *b, void *work, double *w,
+                           sl_pf_snapshot *sn, sl_error *err);
+/* 1 if buffer a lies after buffer b; put a pair back in a saved order */
+#define SL_PFI_AFTER(a, b) ((uint64_t)((const unsigned char *)(a) > (const unsigned char *)(b)))
+#define SL_PFI_ORDER(T, a, b, bit)                   \
+    do {                                             \
+        if (SL_PFI_AFTER(a, b) != (uint64_t)(bit)) { \
+            T *t_ = (a);                             \
+            (a) = (b);                               \
+            (b) = t_;                                \
+        }                                            \
+    } while (0)
+
+sl_status sl_pfi_smc2_run(const sl_pf_config *cfg, pf_buffers *b, void *work, double *X, double *P,
                           double *w, sl_pf_output *out, sl_error *err);
 
 #endif

@@ -42,6 +42,23 @@ static void smc2_swap(double **a, double **b)
     *b = t;
 }
 
+/* Which buffer of each pair a system uses (5 bits), and back. */
+static uint64_t smc2_bits(const smc2_sys *a)
+{
+    return SL_PFI_AFTER(a->X, a->X2) | SL_PFI_AFTER(a->Z, a->Z2) << 1 |
+           SL_PFI_AFTER(a->P, a->P2) << 2 | SL_PFI_AFTER(a->E, a->E2) << 3 |
+           SL_PFI_AFTER(a->dead, a->dead2) << 4;
+}
+
+static void smc2_order(smc2_sys *a, uint64_t bits)
+{
+    SL_PFI_ORDER(double, a->X, a->X2, bits & 1);
+    SL_PFI_ORDER(double, a->Z, a->Z2, (bits >> 1) & 1);
+    SL_PFI_ORDER(double, a->P, a->P2, (bits >> 2) & 1);
+    SL_PFI_ORDER(double, a->E, a->E2, (bits >> 3) & 1);
+    SL_PFI_ORDER(unsigned char, a->dead, a->dead2, (bits >> 4) & 1);
+}
+
 /* Advance every group's particle filter through cycle c: forecast,
  * weights, the group's log-likelihood increment into incr (added to
  * logz), and resampling within each group whose ESS fell below the
@@ -256,8 +273,8 @@ static sl_status smc2_move(const sl_pf_config *cfg, pf_buffers *b, smc2_sys *sy,
  * by its filter's likelihood increment; when the ESS of the group
  * weights falls below threshold * G the groups are resampled (stream
  * (seed, 0, k, SL_PURPOSE_OUTER_RESAMPLE)) and moved by smc2_move. */
-sl_status sl_pfi_smc2_run(const sl_pf_config *cfg, pf_buffers *b, double *X, double *P,
-                          double *w, sl_pf_output *out, sl_error *err)
+sl_status sl_pfi_smc2_run(const sl_pf_config *cfg, pf_buffers *b, void *work, double *X,
+                          double *P, double *w, sl_pf_output *out, sl_error *err)
 {
     const sl_model *md = cfg->model;
     const size_t N = cfg->N, M = cfg->inner, G = N / M, n = md->n_state,
@@ -265,7 +282,7 @@ sl_status sl_pfi_smc2_run(const sl_pf_config *cfg, pf_buffers *b, double *X, dou
     smc2_sys sy, pr;
     double *olw = b->logw, *W = b->llx, t = cfg->t0;
     uint32_t *gid = b->vid[1], s = 0;
-    size_t k, j, g, i, fidx = 0;
+    size_t k, k0 = 0, j, g, i, fidx = 0;
     sl_status st;
 
     memset(&sy, 0, sizeof sy);
@@ -316,8 +333,23 @@ sl_status sl_pfi_smc2_run(const sl_pf_config *cfg, pf_buffers *b, double *X, dou
     sl_param_move_resample_move.prepare(&cfg->move, p, G, b->ZG, NULL, b->mvlast, NULL);
     out->log_evidence = 0.0;
     out->steps = 0;
+    if (cfg->resume != NULL) {
+        /* a checkpoint: the workspace, weights, loop values and which
+         * buffer of each pair the two systems use */
+        const sl_pf_snapshot_head *h = &cfg->resume->head;
+        if ((st = sl_pfi_snap_restore(cfg, b, work, w, err)) != SL_OK)
+            return st;
+        smc2_order(&sy, h->swapped >> 3);
+        smc2_order(&pr, h->swapped >> 8);
+        k0 = (size_t)h->next;
+        s = (uint32_t)h->s;
+        fidx = (size_t)h->fidx;
+        t = h->t;
+        out->log_evidence = h->log_evidence;
+        out->steps = (size_t)h->steps;
+    }
 
-    for (k = 0; k < cfg->T; k++) {
+    for (k = k0; k < cfg->T; k++) {
         size_t evals = 0, m = cfg->obs_first[k + 1] - cfg->obs_first[k], nobs = 0, ndead = 0;
         double mx = -HUGE_VAL, sum = 0.0, lse, e2 = 0.0, ess, ogess;
         int resampled = 0;
@@ -421,6 +453,20 @@ sl_status sl_pfi_smc2_run(const sl_pf_config *cfg, pf_buffers *b, double *X, dou
             out->move_accept[k] = b->rm_proposed > 0
                                       ? (double)b->rm_accepted / (double)b->rm_proposed
                                       : (double)NAN;
+        if (cfg->checkpoint != NULL &&
+            ((k + 1) % cfg->checkpoint_every == 0 || k + 1 == cfg->T)) {
+            sl_pf_snapshot sn;
+            memset(&sn, 0, sizeof sn);
+            sn.head.next = k + 1;
+            sn.head.s = s;
+            sn.head.fidx = fidx;
+            sn.head.t = t;
+            sn.head.log_evidence = out->log_evidence;
+            sn.head.steps = out->steps;
+            sn.head.swapped = smc2_bits(&sy) << 3 | smc2_bits(&pr) << 8;
+            if ((st = sl_pfi_snap_call(cfg, b, work, w, &sn, err)) != SL_OK)
+                return st;
+        }
     }
     memcpy(X, sy.X, n * N * sizeof(double));
     memcpy(P, sy.P, p * N * sizeof(double));

@@ -61,6 +61,44 @@ typedef int (*sl_poll_fn)(void *ctx, double fraction);
 /* The analysis of a cycle, as a type object (defined below). */
 typedef struct sl_analysis sl_analysis;
 
+/* A run between two cycles, as a checkpoint holds it. The run's whole
+ * state is its workspace (work_bytes bytes, sl_pf_workspace), the
+ * weights w (N) and the loop-carried values of the header; the random
+ * streams are counter-based (keyed by seed, member, cycle and purpose),
+ * so no generator state is kept. The workspace holds no address: the
+ * window slots of a lag are stored there as slot numbers while a
+ * snapshot is taken, and which buffer of each swapped pair is in use is
+ * a bit of `swapped`. A snapshot is for the same build on the same kind
+ * of machine (sizes and byte order as written). */
+#define SL_PF_SNAPSHOT_MAGIC 0x31504b4350534c53ULL /* "SLSPCKP1" */
+#define SL_PF_SNAPSHOT_VERSION 1u
+
+typedef struct {
+    uint64_t magic, version;
+    uint64_t work_bytes, N, T;
+    uint64_t next;          /* the cycle the run goes on with (T: done) */
+    uint64_t cur;           /* which ensemble of the ping-pong pair holds it */
+    uint64_t s;             /* model steps taken (the streams' step counter) */
+    uint64_t fidx;          /* the forcing interval */
+    uint64_t steps;         /* out->steps */
+    uint64_t s_now;
+    uint64_t swapped;       /* a bit per swapped pair of buffers */
+    uint64_t wspare;        /* the window's spare slot */
+    double t, infl, log_evidence, rm_adapt, pcn_beta;
+} sl_pf_snapshot_head;
+
+typedef struct {
+    sl_pf_snapshot_head head;
+    double *w;              /* N weights */
+    void *work;             /* head.work_bytes bytes: the run's workspace */
+} sl_pf_snapshot;
+
+/* Called at the end of every `checkpoint_every`-th cycle and of the last
+ * one, from one thread outside any parallel region, with the run's
+ * snapshot (valid during the call only); a non-OK status ends the run. */
+typedef sl_status (*sl_pf_checkpoint_fn)(void *ctx, const sl_pf_snapshot *snap,
+                                         sl_error *err);
+
 /* An observation operator computed outside the core (an Octave function,
  * say): the n_fun derived quantities of every member at time t into Y
  * (n_fun x N, column-major) from the states X (n x N) and the parameters
@@ -222,6 +260,18 @@ typedef struct {
      * relaxation to every row): the fixed-lag ensemble Kalman smoother.
      * lag >= T is the full smoother. */
     size_t lag;
+    /* Checkpoints (checkpoint NULL: none): the snapshot of the run after
+     * every checkpoint_every-th cycle (>= 1) and after the last. With
+     * resume (a snapshot taken by a run of this same configuration; its
+     * w and work must not be the run's own, which the run sets up
+     * before it restores)
+     * the run restores it and goes on with cycle head.next: the outputs
+     * of the cycles before are the caller's to restore. The result is
+     * bit-identical to a run that was never stopped. */
+    sl_pf_checkpoint_fn checkpoint;
+    void *checkpoint_ctx;
+    size_t checkpoint_every;
+    const sl_pf_snapshot *resume;
 } sl_pf_config;
 
 /* What a run records; the caller allocates every array (sizes with
@@ -387,6 +437,16 @@ const sl_param_mover *sl_pf_auto_move(const sl_pf_config *cfg);
 
 /* Bytes of workspace sl_pf_run needs, or 0 if a size overflows. */
 size_t sl_pf_workspace(const sl_pf_config *cfg);
+
+/* Check that snap is a snapshot of a run of cfg (magic, version, sizes,
+ * the cycle, the slot numbers it holds); reason "badsnapshot". */
+sl_status sl_pf_snapshot_check(const sl_pf_config *cfg, const sl_pf_snapshot *snap,
+                               sl_error *err);
+
+/* The 64-bit FNV-1a hash of n bytes, continuing from h (start from
+ * SL_FNV_START): a fingerprint of a run's inputs, a checksum of a file. */
+#define SL_FNV_START 0xcbf29ce484222325ULL
+uint64_t sl_fnv1a(uint64_t h, const void *data, size_t n);
 
 /* Run the filter. X (n x N) holds the initial states and receives the final
  * ones; P (p x N, natural units) the initial and final parameters; w (N)

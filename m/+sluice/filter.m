@@ -289,6 +289,24 @@
 % @code{smoothed} (see below).
 % @item threads
 % OpenMP threads (default: @env{OMP_NUM_THREADS} or all cores).
+% @item checkpoint, checkpoint_every
+% A file name (default @code{''}: none) and a number of cycles [100]:
+% after every @code{checkpoint_every} cycles, and after the last, the
+% run writes its whole state and the outputs so far to that file (to a
+% temporary file first, then renamed over it, so a run killed at any
+% moment leaves the old checkpoint or the new one, never a part). The
+% same call made again resumes from it and returns, bit for bit, what a
+% run never stopped returns; a finished run keeps its final checkpoint,
+% so the same call then returns at once (delete the file to run again).
+% Needs @code{seed}. The file holds a fingerprint of every setting (the
+% model, with the text of its functions and the values they captured,
+% the observations and the options except @code{progress},
+% @code{checkpoint_every} and @code{threads}); a file of other settings,
+% of another number of threads, damaged or not a checkpoint is refused
+% (@code{sluice:filter:badcheckpoint}), as is, up front, a place where
+% the file cannot be written. It is as large as the run's working
+% memory (with @code{history}, the history too) and is meant for the
+% same build on the same machine type.
 % @item progress
 % @code{'auto'} (default: a progress line on a terminal for runs over
 % 2 s), true or false.

@@ -918,7 +918,7 @@ function S = setup (model, prior, obs, opts)
   if (~isstruct (fo) || ~isscalar (fo))
     error ('sluice:pmmh:badoption', 'filter must be a scalar struct of sluice.filter options');
   end
-  for f = {'members', 'seed', 'history'}
+  for f = {'members', 'seed', 'history', 'checkpoint'}
     if (isfield (fo, f{1}))
       error ('sluice:pmmh:badoption', ...
              'filter.%s cannot be set: pmmh chooses it (use the pmmh option ''%s'' where there is one)', ...

@@ -333,6 +333,149 @@ static int identical(const run_buf *a, const run_buf *b, size_t nq)
            a->out.steps == b->out.steps;
 }
 
+/* ----------------------------------------------------------- checkpoints */
+
+/* The snapshot a checkpoint callback took (its copies), and the cycle at
+ * which to take it. */
+typedef struct {
+    size_t at, calls;
+    sl_pf_snapshot snap;
+    size_t N, bytes;
+    int fail;
+} snap_keep;
+
+static sl_status keep_snapshot(void *ctx, const sl_pf_snapshot *sn, sl_error *err)
+{
+    snap_keep *k = (snap_keep *)ctx;
+    k->calls++;
+    if (k->fail)
+        return sl_fail(err, SL_EINVAL, "full", "the disk is full");
+    if (sn->head.next != k->at)
+        return SL_OK;
+    k->snap.head = sn->head;
+    k->bytes = (size_t)sn->head.work_bytes;
+    k->snap.w = malloc(k->N * sizeof(double));
+    k->snap.work = malloc(k->bytes);
+    if (k->snap.w == NULL || k->snap.work == NULL)
+        return sl_fail(err, SL_ENOMEM, "nomemory", "test snapshot");
+    memcpy(k->snap.w, sn->w, k->N * sizeof(double));
+    memcpy(k->snap.work, sn->work, k->bytes);
+    return SL_OK;
+}
+
+/* A run resumed from the snapshot of its cycle 2 ends bit-identical to
+ * the run never stopped, with forcing and state noise and resampling;
+ * the snapshot's checks refuse a damaged or foreign one; a failing
+ * callback ends the run with its error. */
+static void check_snapshot(void)
+{
+    enum { N = 301, T = 5, NT = 20 };
+    const double times[T] = {1.0, 2.5, 3.0, 4.5, 6.0};
+    const double probs[2] = {0.1, 0.9};
+    const double snoise[2] = {0.05, 0.02};
+    const int noise[1] = {SL_FORCING_ADDITIVE};
+    const double fsd[1] = {0.3}, fphi[1] = {0.5};
+    double ft[NT], fv[NT], X0[2 * N];
+    sl_model md;
+    sl_pf_config cfg;
+    obs_table o;
+    sl_error err;
+    run_buf ref, res;
+    snap_keep keep;
+    sl_status st;
+    size_t j, k;
+
+    CHECK(sl_linear_model(&md, &lin2, 0.5, &err) == SL_OK, "model: %s", err.message);
+    forcing_series(ft, fv, NT);
+    two_state_obs(&o);
+    base_config(&cfg, &md, N, T, times, &o);
+    cfg.forcing.nt = NT;
+    cfg.forcing.time = ft;
+    cfg.forcing.value = fv;
+    cfg.forcing.noise = noise;
+    cfg.forcing.sd = fsd;
+    cfg.forcing.phi = fphi;
+    cfg.state_noise = snoise;
+    cfg.threshold = 0.9;
+    cfg.nq = 2;
+    cfg.probs = probs;
+    cfg.keep_history = 1;
+    for (j = 0; j < 2 * N; j++)
+        X0[j] = 0.3 * (double)(j % 7) - 0.9;
+    memset(&keep, 0, sizeof keep);
+    keep.at = 2;
+    keep.N = N;
+    cfg.checkpoint = keep_snapshot;
+    cfg.checkpoint_ctx = &keep;
+    cfg.checkpoint_every = 2;
+    st = run(&cfg, X0, &ref, &err);
+    CHECK(st == SL_OK, "checkpointed run: %s", err.message);
+    /* cycles 2 and 4, and the last */
+    CHECK(keep.calls == 3, "checkpoint calls: %lu, expected 3", (unsigned long)keep.calls);
+    CHECK(keep.snap.work != NULL, "no snapshot at cycle 2");
+    if (st == SL_OK && keep.snap.work != NULL) {
+        double nres = 0;
+        for (k = 2; k < T; k++)
+            nres += ref.out.resampled[k];
+        CHECK(nres >= 1, "the resumed cycles must resample");
+        cfg.checkpoint = NULL;
+        cfg.resume = &keep.snap;
+        st = run(&cfg, X0, &res, &err);
+        CHECK(st == SL_OK, "resumed run: %s", err.message);
+        if (st == SL_OK) {
+            /* the outputs of cycles 0 and 1 are the caller's to restore */
+            for (k = 0; k < 2; k++) {
+                memcpy(res.out.mean + 2 * k, ref.out.mean + 2 * k, 2 * sizeof(double));
+                memcpy(res.out.quant + 4 * k, ref.out.quant + 4 * k, 4 * sizeof(double));
+                res.out.ess[k] = ref.out.ess[k];
+                res.out.logz[k] = ref.out.logz[k];
+                res.out.resampled[k] = ref.out.resampled[k];
+                res.out.skipped[k] = ref.out.skipped[k];
+                res.out.temper_steps[k] = ref.out.temper_steps[k];
+                res.out.loglik_evals[k] = ref.out.loglik_evals[k];
+                memcpy(res.out.hist_X + 2 * N * k, ref.out.hist_X + 2 * N * k,
+                       2 * N * sizeof(double));
+                memcpy(res.out.hist_w + N * k, ref.out.hist_w + N * k, N * sizeof(double));
+                memcpy(res.out.hist_a + N * k, ref.out.hist_a + N * k, N * sizeof(double));
+            }
+            CHECK(identical(&ref, &res, 2), "resumed run differs from the unbroken one");
+        }
+        run_free(&res);
+        /* damaged or foreign snapshots */
+        keep.snap.head.magic ^= 1;
+        CHECK(sl_pf_snapshot_check(&cfg, &keep.snap, &err) == SL_EINVAL &&
+                  strcmp(err.reason, "badsnapshot") == 0, "bad magic accepted");
+        keep.snap.head.magic ^= 1;
+        keep.snap.head.next = T + 1;
+        CHECK(sl_pf_snapshot_check(&cfg, &keep.snap, &err) == SL_EINVAL, "next > T accepted");
+        keep.snap.head.next = 2;
+        keep.snap.head.cur = 2;
+        CHECK(sl_pf_snapshot_check(&cfg, &keep.snap, &err) == SL_EINVAL, "cur 2 accepted");
+        keep.snap.head.cur = 0;
+        CHECK(sl_pf_snapshot_check(&cfg, &keep.snap, &err) == SL_OK, "a good snapshot: %s",
+              err.message);
+        cfg.N = N - 1;
+        CHECK(sl_pf_snapshot_check(&cfg, &keep.snap, &err) == SL_EINVAL,
+              "a snapshot of another ensemble size accepted");
+        cfg.N = N;
+        cfg.resume = NULL;
+    }
+    run_free(&ref);
+    free(keep.snap.w);
+    free(keep.snap.work);
+    /* a callback that fails ends the run; no interval is refused */
+    cfg.checkpoint = keep_snapshot;
+    keep.fail = 1;
+    st = run(&cfg, X0, &res, &err);
+    CHECK(st == SL_EINVAL && strcmp(err.reason, "full") == 0, "failing checkpoint: %d", st);
+    run_free(&res);
+    cfg.checkpoint_every = 0;
+    CHECK(sl_pf_check(&cfg, &err) == SL_EINVAL && strcmp(err.reason, "badconfig") == 0,
+          "checkpoint_every 0 accepted");
+    /* the fingerprint: FNV-1a of "a" (the published test vector) */
+    CHECK(sl_fnv1a(SL_FNV_START, "a", 1) == 0xaf63dc4c8601ec8cULL, "FNV-1a of 'a'");
+}
+
 /* N is odd, not a multiple of 3, and large enough that the run goes
  * parallel (small ensembles are run on one thread whatever is asked). */
 static void check_determinism(void)
@@ -1345,6 +1488,7 @@ int main(void)
                "make check and check-asan run it)\n");
     else
         check_determinism();
+    check_snapshot();
     check_errors();
     check_degenerate();
     check_resampling();

@@ -1,5 +1,5 @@
-% Long runs that survive kill -9: a checkpointed PMMH run and a sweep with
-% a results file are each run in a child octave-cli, killed with SIGKILL
+% Long runs that survive kill -9: a checkpointed PMMH run, a checkpointed
+% particle filter and a sweep with a results file are each run in a child octave-cli, killed with SIGKILL
 % at random moments, and started again with the same call; after every
 % kill the file left behind must load whole, and the run finished at last
 % must equal one run never stopped (the reference, also run in a child).
@@ -51,9 +51,13 @@
 %!  assert (~isnan (v), 'no number in %s', f);
 %!endfunction
 
-%!function [ref, got, kills, early] = kill_campaign (body, check_file, seed)
+%!function [ref, got, kills, early] = kill_campaign (body, check_file, seed, within)
 %!  % the reference result (an unbroken child run), then kills at random
-%!  % times within that run's duration, then a last run to the end
+%!  % times within that run's duration (its first fraction `within`,
+%!  % default 1), then a last run to the end
+%!  if (nargin < 4)
+%!    within = 1;
+%!  end
 %!  nk = str2double (getenv ('SLUICE_KILLS'));
 %!  if (isnan (nk))
 %!    nk = 4;
@@ -73,7 +77,7 @@
 %!    attempts = 0;
 %!    while (kills < nk && attempts < 3 * nk)
 %!      attempts = attempts + 1;
-%!      if (run_child (strrep (body, 'FILE', 'run.bin'), span * rand (), d))
+%!      if (run_child (strrep (body, 'FILE', 'run.bin'), within * span * rand (), d))
 %!        early = early + 1;
 %!        [~] = unlink (fullfile (d, 'run.bin'));   % start the campaign again
 %!      else
@@ -98,6 +102,19 @@
 %!  c = s.pmmh_checkpoint;
 %!  assert (all (isfield (c, {'key', 'result', 'complete'})));
 %!  assert (all (isfield (c.result, {'samples', 'chain_state', 'iterations'})));
+%!endfunction
+
+%!function check_filter_file (f)
+%!  % every checkpoint of one run has the same size (the workspace and the
+%!  % outputs do not grow) and opens with the format's magic text; the
+%!  % checksum inside is verified when the next run resumes from it
+%!  ref = dir (fullfile (fileparts (f), 'ref.bin'));
+%!  got = dir (f);
+%!  assert (got.bytes, ref.bytes);
+%!  fid = fopen (f, 'r');
+%!  magic = fread (fid, 8, 'char=>char')';
+%!  fclose (fid);
+%!  assert (magic, 'SLFCKPT1');
 %!endfunction
 
 %!function check_sweep_file (f)
@@ -129,6 +146,25 @@
 %! assert (got.proposal, ref.proposal, 0);
 %! assert (got.calls, ref.calls);
 %! assert (isequaln (got.state, ref.state));
+
+%!test
+%! % a particle filter over 500 cycles, resample_move on noisy paths (its
+%! % stored draws move too), a checkpoint every 10 cycles
+%! body = [' spec = sluice.model (@(t, X, P, U, dt) P(1, :) .* X + 0.1, ''states'', {''x''}, ', ...
+%!         '''params'', {''a''});\n', ...
+%!         ' pr = sluice.prior (''a'', ''uniform'', [0.5 1], ''x'', ''normal'', [0 1]);\n', ...
+%!         ' obs = struct (''time'', (1:500)'', ''variable'', {repmat({''x''}, 500, 1)}, ', ...
+%!         '''value'', sin ((1:500)''), ''sigma'', 0.5 * ones (500, 1));\n', ...
+%!         ' r = sluice.filter (spec, pr, obs, ''members'', 400, ''seed'', 5, ''t0'', 0, ', ...
+%!         '''progress'', false, ''param_move'', ''resample_move'', ''state_noise'', 0.1, ', ...
+%!         '''checkpoint'', ''FILE'', ''checkpoint_every'', 10);\n', ...
+%!         ' r = rmfield (r, ''options'');\n', ...
+%!         ' save (''-binary'', ''result.bin'', ''r'');\n'];
+%! % kills within the first half of the unbroken run's time: a resumed
+%! % run is shorter, and one that finishes first starts the campaign over
+%! [ref, got, kills, early] = kill_campaign (sprintf (body), @check_filter_file, 13, 0.5);
+%! printf ('filter: %d kills, %d runs finished before their kill\n', kills, early);
+%! assert (isequaln (got.r, ref.r));
 
 %!test
 %! % a sweep of 30 points with a results file

@@ -101,6 +101,15 @@ function res = filter_run (model, prior, obs, args, fn)
   c.adaptive_inflation = double (opts.adaptive_inflation);
   c.inflation_max = opts.inflation_max;
   c = add_localization (c, opts, model, tab, obs, ops.names, fn);
+  if (~isempty (opts.checkpoint))
+    % the gateway fingerprints every setting; what it cannot see (the
+    % text of a model's or an operator's function and the values it
+    % captured) comes as comparable values
+    c.checkpoint = opts.checkpoint;
+    c.checkpoint_every = opts.checkpoint_every;
+    c.checkpoint_key = {sluice.kernel.comparable(model), ...
+                        sluice.kernel.comparable(opts.operators)};
+  end
 
   r = sluice.kernel.run_engine (model, c);
 
@@ -438,6 +447,15 @@ function opts = parse_options (args, fn)
     error (['sluice:' fn ':badoption'], 'lag must be a whole number of cycles >= 0, or Inf');
   end
   opts.threads = whole (opts.threads, 'threads', 0, 256, fn);
+  ck = opts.checkpoint;
+  if (~(ischar (ck) && (isempty (ck) || isrow (ck))))
+    error (['sluice:' fn ':badoption'], 'checkpoint must be a file name (text), or '''' for none');
+  end
+  opts.checkpoint_every = whole (opts.checkpoint_every, 'checkpoint_every', 1, 1e15, fn);
+  if (~isempty (ck) && isempty (opts.seed))
+    error (['sluice:' fn ':badoption'], ...
+           'a run with a checkpoint needs a ''seed'': a resumed run must draw the same numbers');
+  end
   pr = opts.progress;
   if (ischar (pr) && strcmp (pr, 'auto'))
     opts.progress = 2;

@@ -75,6 +75,9 @@ function c = add_defaults (c, n, p)
   c.obs_pos = [];
   c.obs_c = [];
   c.param_factor = 1;
+  c.checkpoint = d.checkpoint;             % '': none
+  c.checkpoint_every = d.checkpoint_every;
+  c.checkpoint_key = {};                   % the functions' text (filter_run)
 end
 
 function c = add_forcing (c, f, fn_noise, q, model, fn, calendar)
