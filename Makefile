@@ -74,8 +74,8 @@ m/sluice.%: m/+sluice/%.m | $(DEPS)
 
 # lookfor's index of the package's functions (Octave's own indexing skips
 # package folders)
-m/doc-cache: $(wildcard m/+sluice/*.m) m/+sluice/+kernel/help_cache.m | $(DEPS)
-	$(OCTRUN) --eval "warning('off', 'Octave:shadowed-function'); addpath('$(CURDIR)/m'); sluice.kernel.help_cache('$(CURDIR)/m');"
+m/doc-cache: $(wildcard m/+sluice/*.m) m/+sluice/+internal/help_cache.m | $(DEPS)
+	$(OCTRUN) --eval "warning('off', 'Octave:shadowed-function'); addpath('$(CURDIR)/m'); sluice.internal.help_cache('$(CURDIR)/m');"
 
 $(BUILD)/tests/%: tests/c/%.c $(SL_LIB) | $(DEPS)
 	@mkdir -p $(dir $@)

@@ -12,9 +12,9 @@ enum { CALL_RETURNED = 0, CALL_INTERRUPTED = 1, CALL_FAILED = 2 };
 
 /* Call an Octave function of the run with a trap: the trampoline fname
  * with the arguments in[0..nin-1], or with model set, the user's model
- * function in[0] with in[1..] (through sluice.kernel.guarded_call). A
+ * function in[0] with in[1..] (through sluice.internal.guarded_call). A
  * Ctrl-C already pending is taken first and the call not made. In Octave
- * the call goes through sluice.kernel.interruptible, which returns errors
+ * the call goes through sluice.internal.interruptible, which returns errors
  * as values and turns a Ctrl-C that arrives during the call into an
  * error the trap catches (try/catch does not catch an interrupt); asked
  * after a trap, it tells that apart from an error raised outside its own
@@ -34,13 +34,13 @@ static int call_trapped(int nout, mxArray **out, int nin, mxArray **in,
             args[nargs++] = mxCreateString(fname);
         for (k = 0; k < nin && nargs < 8; k++)
             args[nargs++] = in[k];
-        trap = mexCallMATLABWithTrap(nout, out, nargs, args, "sluice.kernel.interruptible");
+        trap = mexCallMATLABWithTrap(nout, out, nargs, args, "sluice.internal.interruptible");
         if (!model)
             mxDestroyArray(args[0]);
         if (trap == NULL)
             return CALL_RETURNED;
         mxDestroyArray(trap);
-        if (mexCallMATLABWithTrap(1, q, 0, NULL, "sluice.kernel.interruptible") == NULL) {
+        if (mexCallMATLABWithTrap(1, q, 0, NULL, "sluice.internal.interruptible") == NULL) {
             if (mxIsLogicalScalarTrue(q[0]))
                 code = CALL_INTERRUPTED;
             mxDestroyArray(q[0]);
@@ -52,7 +52,7 @@ static int call_trapped(int nout, mxArray **out, int nin, mxArray **in,
     }
 #else
     trap = mexCallMATLABWithTrap(nout, out, nin, in,
-                                 model ? "sluice.kernel.guarded_call" : fname);
+                                 model ? "sluice.internal.guarded_call" : fname);
     return trap == NULL ? CALL_RETURNED : CALL_FAILED;
 #endif
 }
@@ -80,7 +80,7 @@ static sl_status call_user(slm_handle_model *hm, double t, size_t count,
         memcpy(mxGetDoubles(in[3]), P, p * count * sizeof(double));
     if (q)
         memcpy(mxGetDoubles(in[4]), U, q * count * sizeof(double));
-    code = call_trapped(3, res, nin, in, "sluice.kernel.guarded_call", 1);
+    code = call_trapped(3, res, nin, in, "sluice.internal.guarded_call", 1);
     for (k = 1; k < nin; k++)
         mxDestroyArray(in[k]);
     if (code == CALL_INTERRUPTED) {
@@ -227,7 +227,7 @@ sl_status slm_handle_obs_fn(void *ctx, double t, size_t N, const double *X,
     if (ho->p)
         memcpy(mxGetDoubles(in[4]), P, ho->p * N * sizeof(double));
     in[5] = mxCreateString(ho->fn);
-    code = call_trapped(3, res, 6, in, "sluice.kernel.observe", 0);
+    code = call_trapped(3, res, 6, in, "sluice.internal.observe", 0);
     for (k = 2; k < 6; k++)
         mxDestroyArray(in[k]);
     ho->failed = 1;
@@ -305,7 +305,7 @@ static int call_progress(slm_poll *pl, double fraction, double elapsed,
     in[0] = mxCreateDoubleScalar(fraction);
     in[1] = mxCreateDoubleScalar(elapsed);
     in[2] = mxCreateDoubleScalar(show);
-    code = call_trapped(0, NULL, 3, in, "sluice.kernel.progress", 0);
+    code = call_trapped(0, NULL, 3, in, "sluice.internal.progress", 0);
     for (k = 0; k < 3; k++)
         mxDestroyArray(in[k]);
     if (code == CALL_FAILED)

@@ -9,7 +9,7 @@
 
 /* A model whose step map is an Octave function X = f(t, X, P, U, dt),
  * called once per step with the whole ensemble through the trampoline
- * sluice.kernel.guarded_call, so that the user's error comes back as a
+ * sluice.internal.guarded_call, so that the user's error comes back as a
  * status and not as a jump through the core's frames. */
 typedef struct {
     const mxArray *fun;
@@ -45,9 +45,9 @@ void slm_handle_model_raise(const char *fn, const slm_handle_model *hm)
 /* Observation operators written as Octave functions Y = h(t, X, P): a
  * cell of handles, handle i giving rows(i) derived quantities of every
  * member (stacked in order into n_fun rows), called through
- * sluice.kernel.observe, which traps the user's error and checks sizes. */
+ * sluice.internal.observe, which traps the user's error and checks sizes. */
 typedef struct {
-    const char *fn;    /* the caller, passed to sluice.kernel.observe */
+    const char *fn;    /* the caller, passed to sluice.internal.observe */
     const mxArray *funs, *rows;
     size_t n, p, n_fun;
     char message[900];
@@ -74,8 +74,8 @@ void slm_handle_obs_raise(const char *fn, const slm_handle_obs *ho)
 
 /* Ctrl-C check and progress report. Every call takes a pending Ctrl-C
  * (slm_take_interrupt) and then returns non-zero; at most every 0.1 s it
- * also calls sluice.kernel.progress(fraction, elapsed, show) through
- * sluice.kernel.interruptible, and an interrupt there stops the run too
+ * also calls sluice.internal.progress(fraction, elapsed, show) through
+ * sluice.internal.interruptible, and an interrupt there stops the run too
  * (an error there only ends the progress line). `mode`: 0 never show, 1
  * always (after 2 s), 2 only when stdout is a terminal. `calls` counts
  * the polls (for tests of how often a run looks). */

@@ -114,7 +114,7 @@ int slm_file_replace(const char *from, const char *to);
  * interpreter will not act on it): the caller stops its run and raises
  * sluice:<fn>:interrupted. Always 0 where the pending interrupt cannot be
  * read (then Ctrl-C reaches the run only through a trapped call of
- * sluice.kernel.interruptible, or as the host's own interrupt). */
+ * sluice.internal.interruptible, or as the host's own interrupt). */
 int slm_take_interrupt(void);
 
 /* Numbers of threads to use: `requested` if > 0, else omp_get_max_threads(). */

@@ -1,5 +1,5 @@
 /* pf_run.c - gateway: sluice.kernel.pf_run(cfg) runs the particle filter.
- * cfg is the settings struct sluice.kernel.model_config builds and its
+ * cfg is the settings struct sluice.internal.model_config builds and its
  * caller completes (DEVELOPERS.md, "A run's settings"); the result is a
  * struct of the recorded arrays. Errors are sluice:<cfg.caller>:<reason>.
  *

@@ -40,5 +40,5 @@ links:
 # it in place when the package is loaded.
 help-index: sdk
 	$(OCTAVE) --no-gui --quiet --no-history --norc --eval \
-	  "warning('off', 'Octave:shadowed-function'); addpath('$(CURDIR)/../inst'); sluice.kernel.help_cache('$(CURDIR)/../inst');"
+	  "warning('off', 'Octave:shadowed-function'); addpath('$(CURDIR)/../inst'); sluice.internal.help_cache('$(CURDIR)/../inst');"
 	mv ../inst/doc-cache ../inst/sdk/help-index

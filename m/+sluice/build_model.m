@@ -68,7 +68,7 @@
 % @end deftypefn
 function [spec, rebuilt] = build_model (cfile, varargin)
   if (nargin < 1)
-    sluice.kernel.compat ('usage', mfilename ());
+    sluice.internal.compat ('usage', mfilename ());
   end
   if (~ischar (cfile) || isempty (cfile) || size (cfile, 1) ~= 1)
     error ('sluice:build_model:badclass', ...
@@ -76,7 +76,7 @@ function [spec, rebuilt] = build_model (cfile, varargin)
   end
   [opts, model_args] = parse_options (varargin);
 
-  cfile = sluice.kernel.compat ('absolute_path', cfile);
+  cfile = sluice.internal.compat ('absolute_path', cfile);
   if (~exist (cfile, 'file') || exist (cfile, 'dir'))
     error ('sluice:build_model:nofile', 'no C file ''%s''', cfile);
   end
@@ -124,7 +124,7 @@ function [spec, rebuilt] = build_model (cfile, varargin)
   if (isempty (outdir))
     outdir = cdir;
   end
-  outdir = sluice.kernel.compat ('absolute_path', outdir);
+  outdir = sluice.internal.compat ('absolute_path', outdir);
   if (~exist (outdir, 'dir'))
     [ok, msg] = mkdir (outdir);
     if (~ok)
@@ -164,8 +164,8 @@ function [spec, rebuilt] = build_model (cfile, varargin)
     for k = 1:2
       [~, fn] = fileparts (targets{k});
       found = which (fn);   % loads the MEX file
-      if (isempty (found) || ~strcmp (sluice.kernel.compat ('canonical_path', found), ...
-                                      sluice.kernel.compat ('canonical_path', targets{k})))
+      if (isempty (found) || ~strcmp (sluice.internal.compat ('canonical_path', found), ...
+                                      sluice.internal.compat ('canonical_path', targets{k})))
         error ('sluice:build_model:shadowed', ...
                'the MEX file %s is shadowed by %s on the path', targets{k}, found);
       end
@@ -361,7 +361,7 @@ function compile (cfile, cdir, root, lib, checker, outdir, targets)
   % 3. the two gateways, compiled side by side. mkoctfile does not quote
   % the paths of its link step, so it runs inside the build folder with
   % relative names only; "root" there points at the project
-  [err, ~] = sluice.kernel.compat ('symlink', root, fullfile (tmp, 'root'));
+  [err, ~] = sluice.internal.compat ('symlink', root, fullfile (tmp, 'root'));
   if (err == 0)
     top = 'root';
   else
@@ -392,7 +392,7 @@ function compile (cfile, cdir, root, lib, checker, outdir, targets)
     end
   end
   for k = 1:2
-    [status, msg] = sluice.kernel.compat ('rename', fullfile (tmp, [names{k} '.' mexext()]), targets{k});
+    [status, msg] = sluice.internal.compat ('rename', fullfile (tmp, [names{k} '.' mexext()]), targets{k});
     if (status ~= 0)
       error ('sluice:build_model:badoutdir', 'cannot write %s: %s', targets{k}, msg);
     end
@@ -513,7 +513,7 @@ function remove_folder (d)
     f = dir (d);
     for k = 1:numel (f)
       if (~any (strcmp (f(k).name, {'.', '..'})))
-        sluice.kernel.compat ('delete_file', fullfile (d, f(k).name));
+        sluice.internal.compat ('delete_file', fullfile (d, f(k).name));
       end
     end
     rmdir (d);

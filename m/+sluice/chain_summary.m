@@ -60,13 +60,13 @@
 % @end deftypefn
 function s = chain_summary (samples, varargin)
   if (nargin < 1)
-    sluice.kernel.compat ('usage', mfilename ());
+    sluice.internal.compat ('usage', mfilename ());
   end
   if (~(isa (samples, 'double') || isa (samples, 'single')) || ~isreal (samples) || ...
       issparse (samples) || ndims (samples) > 3 || isempty (samples))
     error ('sluice:chain_summary:badsamples', ...
            'argument 1 (samples): expected a non-empty real double iterations x p x chains array, got %s', ...
-           sluice.kernel.describe (samples));
+           sluice.internal.describe (samples));
   end
   if (any (~isfinite (samples(:))))
     error ('sluice:chain_summary:badsamples', ...
@@ -163,7 +163,7 @@ end
 
 function opts = parse_options (args, p)
   opts = struct ('names', {{}}, 'quantiles', [0.025 0.25 0.5 0.75 0.975]);
-  opts = sluice.kernel.name_value (opts, args, 'chain_summary');
+  opts = sluice.internal.name_value (opts, args, 'chain_summary');
   if (isempty (opts.names))
     opts.names = arrayfun (@(k) sprintf ('theta%d', k), (1:p)', 'UniformOutput', false);
   elseif (~iscellstr (opts.names) || numel (opts.names) ~= p)

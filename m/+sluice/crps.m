@@ -29,18 +29,18 @@
 % @end deftypefn
 function c = crps (X, y)
   if (nargin ~= 2)
-    sluice.kernel.compat ('usage', mfilename ());
+    sluice.internal.compat ('usage', mfilename ());
   end
-  sluice.kernel.check_real (X, 1, 'X', false, 'crps');
+  sluice.internal.check_real (X, 1, 'X', false, 'crps');
   if (ndims (X) ~= 2)
     error ('sluice:crps:badsize', ...
-           'argument 1 (X): expected an m x N matrix, got %s', sluice.kernel.describe (X));
+           'argument 1 (X): expected an m x N matrix, got %s', sluice.internal.describe (X));
   end
-  sluice.kernel.check_real (y, 2, 'y', true, 'crps');
+  sluice.internal.check_real (y, 2, 'y', true, 'crps');
   if (~isvector (y) || numel (y) ~= size (X, 1))
     error ('sluice:crps:badsize', ...
            'argument 2 (y): expected a vector of length %d (the rows of X), got %s', ...
-           size (X, 1), sluice.kernel.describe (y));
+           size (X, 1), sluice.internal.describe (y));
   end
   c = sluice.kernel.scores ('crps', X, y(:));
 end

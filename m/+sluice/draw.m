@@ -37,27 +37,27 @@
 
 function [P, names] = draw (prior, N, seed)
   if (nargin ~= 3)
-    sluice.kernel.compat ('usage', mfilename ());
+    sluice.internal.compat ('usage', mfilename ());
   end
-  [ids, a, b, lo, hi, names] = sluice.kernel.check_prior (prior, 1, 'draw');
+  [ids, a, b, lo, hi, names] = sluice.internal.check_prior (prior, 1, 'draw');
   p = numel (ids);
 
   if (~(isa (N, 'double') && isreal (N) && ~issparse (N) && isscalar (N) ...
         && isfinite (N) && N == fix (N) && N >= 1 && N <= flintmax ()))
     error ('sluice:draw:badcount', ...
            'argument 2 (N): expected a positive whole number (a real double scalar), got %s', ...
-           sluice.kernel.describe (N, 'value'));
+           sluice.internal.describe (N, 'value'));
   end
   if (~(isa (seed, 'double') && isreal (seed) && ~issparse (seed) ...
         && isscalar (seed) && isfinite (seed) && seed == fix (seed) ...
         && seed >= 0 && seed <= flintmax ()))
     error ('sluice:draw:badseed', ...
            'argument 3 (seed): expected a whole number from 0 to 2^53 (a real double scalar), got %s', ...
-           sluice.kernel.describe (seed, 'value'));
+           sluice.internal.describe (seed, 'value'));
   end
 
   % the output alone is p x N doubles: refuse at once what cannot fit
-  sluice.kernel.ensure_memory (8 * p * N, 'draw', ...
+  sluice.internal.ensure_memory (8 * p * N, 'draw', ...
                                sprintf ('a draw of %d members of %d parameter(s)', N, p));
   P = sluice.kernel.draw (ids, a, b, lo, hi, N, seed);
 end

@@ -73,21 +73,21 @@
 % @end deftypefn
 function res = drift_test (model, prior, obs, names, steps, varargin)
   if (nargin < 5)
-    sluice.kernel.compat ('usage', mfilename ());
+    sluice.internal.compat ('usage', mfilename ());
   end
-  sluice.kernel.check_model (model, 1, 'drift_test');
+  sluice.internal.check_model (model, 1, 'drift_test');
   if (~isempty (prior))
-    sluice.kernel.check_prior (prior, 2, 'drift_test');
+    sluice.internal.check_prior (prior, 2, 'drift_test');
   end
   names = check_names (names, model, prior);
   q = numel (names);
   steps = check_steps (steps, q);
 
-  args = sluice.kernel.option_pairs (varargin);
+  args = sluice.internal.option_pairs (varargin);
   if (numel (args) == 1)
     error ('sluice:drift_test:badoption', ...
            'argument 6 (opts): expected a scalar struct or name, value pairs, got %s', ...
-           sluice.kernel.describe (args{1}));
+           sluice.internal.describe (args{1}));
   end
   if (mod (numel (args), 2) ~= 0)
     error ('sluice:drift_test:badoption', 'options must be a struct or name, value pairs');
@@ -136,7 +136,7 @@ function res = drift_test (model, prior, obs, names, steps, varargin)
       move = {'param_move', 'random_walk', 'param_step', step};
     end
     % the evidence's and the filter's errors come out as this function's
-    ev = sluice.kernel.evidence_run (model, prior, obs, [pass, move, {'seed', seed}], ...
+    ev = sluice.internal.evidence_run (model, prior, obs, [pass, move, {'seed', seed}], ...
                                      'drift_test');
     runs(k) = ev;
     lz(k) = ev.log_evidence;
@@ -179,7 +179,7 @@ function names = check_names (names, model, prior)
   if (~iscellstr (names) || isempty (names))
     error ('sluice:drift_test:badname', ...
            'argument 4 (names): expected a parameter name or a cellstr of names, got %s', ...
-           sluice.kernel.describe (names));
+           sluice.internal.describe (names));
   end
   names = names(:)';
   if (numel (unique (names)) ~= numel (names))
@@ -216,7 +216,7 @@ function steps = check_steps (steps, q)
       ndims (steps) ~= 2)
     error ('sluice:drift_test:badsteps', ...
            'argument 5 (steps): expected a non-empty real double vector or matrix, got %s', ...
-           sluice.kernel.describe (steps));
+           sluice.internal.describe (steps));
   end
   if (any (~isfinite (steps(:))) || any (steps(:) <= 0))
     error ('sluice:drift_test:badsteps', ...

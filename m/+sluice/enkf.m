@@ -34,12 +34,12 @@
 % @end deftypefn
 function [Xa, info] = enkf (Xf, HXf, y, R, varargin)
   if (nargin < 4)
-    sluice.kernel.compat ('usage', mfilename ());
+    sluice.internal.compat ('usage', mfilename ());
   end
   opts = struct ('method', 'etkf', 'inflation', 1, 'rtpp', 0, 'rtps', 0, ...
                  'seed', 0, 'cycle', 0, 'threads', 0, 'localization', [], ...
                  'eig_floor', 0);
-  opts = sluice.kernel.name_value (opts, varargin, 'enkf');
+  opts = sluice.internal.name_value (opts, varargin, 'enkf');
   if (~ischar (opts.method))
     error ('sluice:enkf:badmethod', 'method must be a name');
   end

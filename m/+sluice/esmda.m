@@ -109,11 +109,11 @@
 % @end deftypefn
 function [post, info] = esmda (fwd, prior, data, varargin)
   if (nargin < 3)
-    sluice.kernel.compat ('usage', mfilename ());
+    sluice.internal.compat ('usage', mfilename ());
   end
   if (isa (fwd, 'function_handle'))
     if (nargin < 4)
-      sluice.kernel.compat ('usage', mfilename ());
+      sluice.internal.compat ('usage', mfilename ());
     end
     noise = varargin{1};
     opts = parse_options (varargin(2:end), false);
@@ -122,12 +122,12 @@ function [post, info] = esmda (fwd, prior, data, varargin)
   else
     error ('sluice:esmda:badmodel', ...
            'argument 1: expected a function handle or a spec from sluice.model, got %s', ...
-           sluice.kernel.describe (fwd));
+           sluice.internal.describe (fwd));
   end
   if (isstruct (fwd))
-    sluice.kernel.check_model (fwd, 1, 'esmda');
+    sluice.internal.check_model (fwd, 1, 'esmda');
   end
-  sluice.kernel.check_prior (prior, 2, 'esmda');
+  sluice.internal.check_prior (prior, 2, 'esmda');
   if (isempty (opts.seed))
     opts.seed = floor (rand () * 2^32);
   end
@@ -144,7 +144,7 @@ function [post, info] = esmda (fwd, prior, data, varargin)
         ~isvector (y) || any (~isfinite (y)))
       error ('sluice:esmda:badobs', ...
              'argument 3 (y): expected a non-empty finite real double vector, got %s', ...
-             sluice.kernel.describe (y));
+             sluice.internal.describe (y));
     end
     y = y(:);
     m = numel (y);
@@ -159,7 +159,7 @@ function [post, info] = esmda (fwd, prior, data, varargin)
   % P, Z and the posterior (p x N each), the predictions Y and the
   % perturbed data of an analysis (m x N each): refuse at once what
   % cannot fit rather than fail in the middle of the iterations
-  sluice.kernel.ensure_memory (8 * N * (3 * p + 2 * m), 'esmda', ...
+  sluice.internal.ensure_memory (8 * N * (3 * p + 2 * m), 'esmda', ...
                                sprintf ('a run of %d members (%d parameters, %d data)', N, p, m));
 
   alpha = opts.alpha;
@@ -199,7 +199,7 @@ function opts = parse_options (args, is_model)
   opts = struct ('members', 200, 'alpha', [], 'iterations', [], 'seed', [], ...
                  'quantiles', [0.05 0.5 0.95], 'threads', 0, 't0', [], ...
                  'forcing', [], 'events', []);
-  opts = sluice.kernel.name_value (opts, args, 'esmda');
+  opts = sluice.internal.name_value (opts, args, 'esmda');
   if (~is_model)
     % options that only a model spec can use
     extra = {'t0', 'forcing', 'events'};
@@ -236,7 +236,7 @@ function opts = parse_options (args, is_model)
   if (~isa (a, 'double') || ~isreal (a) || issparse (a) || ~isvector (a))
     error ('sluice:esmda:badalpha', ...
            'alpha must be a real double vector (one inflation per iteration), got %s', ...
-           sluice.kernel.describe (a));
+           sluice.internal.describe (a));
   end
   if (numel (a) > 1e6)
     error ('sluice:esmda:badalpha', 'alpha has %d values; at most 1e6 iterations', numel (a));
@@ -265,7 +265,7 @@ function Z = analysis (Z, Y, y, R, seed, cycle, threads)
                      'threads', threads);
   catch err
     id = strrep (err.identifier, 'sluice:enkf:', 'sluice:esmda:');
-    sluice.kernel.raise_again (id, 'sluice:esmda:failed', ...
+    sluice.internal.raise_again (id, 'sluice:esmda:failed', ...
                                sprintf ('iteration %d: %s', cycle, regexprep (err.message, '^enkf: ', '')));
   end
 end
@@ -282,7 +282,7 @@ function P = draw_prior (prior, N, seed)
     P = sluice.draw (prior, N, seed);
   catch err
     id = strrep (err.identifier, 'sluice:draw:', 'sluice:esmda:');
-    sluice.kernel.raise_again (id, 'sluice:esmda:failed', regexprep (err.message, '^draw: ', ''));
+    sluice.internal.raise_again (id, 'sluice:esmda:failed', regexprep (err.message, '^draw: ', ''));
   end
 end
 
@@ -290,7 +290,7 @@ function [R, Rfac] = check_noise (R, m)
   if (~isa (R, 'double') || ~isreal (R) || issparse (R) || isempty (R) || ndims (R) ~= 2)
     error ('sluice:esmda:badnoise', ...
            'argument 4 (R): expected a real double matrix or vector, got %s', ...
-           sluice.kernel.describe (R));
+           sluice.internal.describe (R));
   end
   if (any (~isfinite (R(:))))
     error ('sluice:esmda:badnoise', 'argument 4 (R): must be finite');
@@ -309,7 +309,7 @@ function [R, Rfac] = check_noise (R, m)
   if (~isequal (size (R), [m m]))
     error ('sluice:esmda:badnoise', ...
            'argument 4 (R): expected %d x %d, %d variances or a scalar for %d observations, got %s', ...
-           m, m, m, m, sluice.kernel.describe (R));
+           m, m, m, m, sluice.internal.describe (R));
   end
   if (norm (R - R', 1) > 1e-12 * norm (R, 1))
     error ('sluice:esmda:badnoise', 'argument 4 (R): must be symmetric');
@@ -337,7 +337,7 @@ function Y = call_fun (fun, P, m)
   if (~isa (Y, 'double') || ~isreal (Y) || issparse (Y) || ~isequal (size (Y), [m N]))
     error ('sluice:esmda:badoutput', ...
            'the forward model must return a real double %d x %d array (observations x members), got %s', ...
-           m, N, sluice.kernel.describe (Y));
+           m, N, sluice.internal.describe (Y));
   end
   bad = find (any (~isfinite (Y), 1), 1);
   if (~isempty (bad))
@@ -429,7 +429,7 @@ function Y = predict (model, P, x0, defaults, is_state, srow, is_param, prow, ..
   if (isempty (times))
     X = zeros (n, N, 0);
   else
-    X = sluice.kernel.run_states (model, X0, Pm, t0, times, forcing, run, 'esmda');
+    X = sluice.internal.run_states (model, X0, Pm, t0, times, forcing, run, 'esmda');
     X = reshape (X, n, N, numel (times));
   end
   m = numel (var);
@@ -470,7 +470,7 @@ function tab = check_obs (obs, model, t0)
     end
     obs.sigma = sg;
   end
-  tab = sluice.kernel.obs_table (obs, [model.states(:); model.params(:)], t0, 'esmda', false);
+  tab = sluice.internal.obs_table (obs, [model.states(:); model.params(:)], t0, 'esmda', false);
   if (isempty (tab.time))
     error ('sluice:esmda:badobs', 'the observation table is empty');
   end

@@ -55,9 +55,9 @@
 % @end deftypefn
 function ev = evidence (model, prior, obs, varargin)
   if (nargin < 3)
-    sluice.kernel.compat ('usage', mfilename ());
+    sluice.internal.compat ('usage', mfilename ());
   end
-  ev = sluice.kernel.evidence_run (model, prior, obs, varargin, 'evidence');
+  ev = sluice.internal.evidence_run (model, prior, obs, varargin, 'evidence');
 end
 
 %!shared spec, pr, obs

@@ -352,7 +352,7 @@
 % @code{states.mean}, @code{states.quantiles}, @code{params.mean} and
 % @code{params.quantiles}, laid out as the filtered ones.
 %
-% The run warns (the thresholds are in @code{sluice.kernel.diversity_limits}):
+% The run warns (the thresholds are in @code{sluice.internal.diversity_limits}):
 % @code{sluice:filter:paramcollapse} when an estimated parameter ends with
 % (nearly) one value, @code{sluice:filter:atbound} when at least half of
 % a parameter's final posterior weight lies in the outermost 5% of its
@@ -370,9 +370,9 @@
 % @end deftypefn
 function res = filter (model, prior, obs, varargin)
   if (nargin < 3)
-    sluice.kernel.compat ('usage', mfilename ());
+    sluice.internal.compat ('usage', mfilename ());
   end
-  res = sluice.kernel.filter_run (model, prior, obs, varargin, 'filter');
+  res = sluice.internal.filter_run (model, prior, obs, varargin, 'filter');
 end
 
 %!shared m, pr, obs, y, km, kq, kll

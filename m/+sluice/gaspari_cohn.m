@@ -11,7 +11,7 @@
 % @end deftypefn
 function w = gaspari_cohn (d, c)
   if (nargin ~= 2)
-    sluice.kernel.compat ('usage', mfilename ());
+    sluice.internal.compat ('usage', mfilename ());
   end
   w = sluice.kernel.gaspari_cohn (d, c);
 end

@@ -39,11 +39,11 @@
 % @end deftypefn
 function res = load_run (file)
   if (nargin ~= 1)
-    sluice.kernel.compat ('usage', mfilename ());
+    sluice.internal.compat ('usage', mfilename ());
   end
   if (~(ischar (file) && isrow (file)))
     error ('sluice:load_run:badfile', 'argument 1 (file): expected a file name, got %s', ...
-           sluice.kernel.describe (file));
+           sluice.internal.describe (file));
   end
   fid = -1;
   if (~isfolder (file))
@@ -68,9 +68,9 @@ function res = load_run (file)
     if (~(isstruct (res) && isscalar (res) && isfield (res, 'filter')))
       error ('sluice:load_run:badresult', '%s: the saved twin has no filter run', file);
     end
-    sluice.kernel.check_result (res.filter, [where ' (filter)'], 'load_run');
+    sluice.internal.check_result (res.filter, [where ' (filter)'], 'load_run');
   else
-    sluice.kernel.check_result (res, where, 'load_run');
+    sluice.internal.check_result (res, where, 'load_run');
   end
   res.saved = struct ('file', file, 'format', info.format, ...
                       'sluice_version', info.version, 'written', info.written, ...
@@ -84,7 +84,7 @@ end
 
 function [res, info] = read_octave (file)
   try
-    s = sluice.kernel.compat ('load_binary', file);
+    s = sluice.internal.compat ('load_binary', file);
   catch err
     error ('sluice:load_run:unreadable', '%s: cannot be read: %s', file, err.message);
   end
@@ -119,7 +119,7 @@ function check_version (v, file)
 end
 
 function [res, info] = read_netcdf (file)
-  nc = sluice.kernel.compat ('netcdf', 'load_run');
+  nc = sluice.internal.compat ('netcdf', 'load_run');
   try
     ncid = nc.open (file, 'NC_NOWRITE');
   catch err

@@ -79,7 +79,7 @@
 
 function [ll, nskipped] = loglik (family, y, Yhat, sigma, aux)
   if (nargin < 4 || nargin > 5)
-    sluice.kernel.compat ('usage', mfilename ());
+    sluice.internal.compat ('usage', mfilename ());
   end
   if (nargin < 5)
     if (ischar (family))

@@ -21,7 +21,7 @@ function s = mcmc_summary (varargin)
     s = sluice.chain_summary (varargin{:});
   catch err
     id = strrep (err.identifier, 'sluice:chain_summary:', 'sluice:mcmc_summary:');
-    sluice.kernel.raise_again (id, 'sluice:mcmc_summary:failed', err.message);
+    sluice.internal.raise_again (id, 'sluice:mcmc_summary:failed', err.message);
   end
 end
 

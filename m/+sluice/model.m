@@ -122,7 +122,7 @@ function spec = model (kind, varargin)
     core = sluice.kernel.core_names ();
   end
   if (nargin < 1)
-    sluice.kernel.compat ('usage', mfilename ());
+    sluice.internal.compat ('usage', mfilename ());
   end
   spec = struct ('kind', '', 'name', '', 'summary', '', 'states', {{}}, ...
                  'params', {{}}, 'forcings', {{}}, 'events', {{}}, ...
@@ -220,7 +220,7 @@ function spec = model (kind, varargin)
         end
         % a spec holds about 400 bytes per state (its name, initial state
         % and bounds; measured here with Octave 7.3 at n = 1e6)
-        sluice.kernel.ensure_memory (400 * nstate, 'model', ...
+        sluice.internal.ensure_memory (400 * nstate, 'model', ...
                                      sprintf ('a model of %d states', nstate));
       case 'integrator'
         if (~ischar (val) || ~any (strcmp (val, core.integrators)))

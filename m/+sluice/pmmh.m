@@ -242,10 +242,10 @@ function res = pmmh (model, prior, obs, varargin)
     return;
   end
   if (nargin < 3)
-    sluice.kernel.compat ('usage', mfilename ());
+    sluice.internal.compat ('usage', mfilename ());
   end
   t_all = tic ();
-  sluice.kernel.check_model (model, 1, 'pmmh');
+  sluice.internal.check_model (model, 1, 'pmmh');
   [opts, prev] = parse_options (varargin);
   S = setup (model, prior, obs, opts);
   if (isempty (prev))
@@ -276,7 +276,7 @@ function res = pmmh (model, prior, obs, varargin)
 
   use_par = false;
   if (C > 1 && opts.workers > 1 && ~isequal (opts.parallel, false))
-    use_par = sluice.kernel.compat ('has_parallel');
+    use_par = sluice.internal.compat ('has_parallel');
     if (~use_par && isequal (opts.parallel, true))
       error ('sluice:pmmh:noparallel', ...
              'parallel is true but Octave''s parallel package (parcellfun) cannot be loaded');
@@ -317,7 +317,7 @@ end
 function out = run_chains (S, C, use_par, opts)
   if (use_par)
     nw = min (opts.workers, C);
-    [out, broke] = sluice.kernel.compat ('parallel_map', nw, @(c) sluice.pmmh (S, c), num2cell (1:C));
+    [out, broke] = sluice.internal.compat ('parallel_map', nw, @(c) sluice.pmmh (S, c), num2cell (1:C));
     if (~isempty (broke))
       worker_failed (broke);
     end
@@ -572,7 +572,7 @@ function out = chain_body (c, S, out)
     if (S.opts.progress && mod (i - S.from + 1, tick) == 0)
       fprintf (1, 'pmmh chain %d: %d of %d iterations, acceptance %.3f\n', ...
                c, i, S.to, (st.acc_burn + st.acc_post) / i);
-      sluice.kernel.compat ('flush');
+      sluice.internal.compat ('flush');
     end
   end
   st.cov = exp (2 * st.s) * st.base;
@@ -746,15 +746,15 @@ function [ck, saved] = checkpoint_open (opts, model, prior, obs, base, target)
     key = rmfield (key, f{1});
   end
   ck = struct ('file', opts.checkpoint, 'key', []);
-  ck.key = struct ('model', sluice.kernel.comparable (model), ...
-                   'prior', sluice.kernel.comparable (prior), ...
-                   'obs', sluice.kernel.comparable (obs), ...
-                   'options', sluice.kernel.comparable (key), 'base', base);
+  ck.key = struct ('model', sluice.internal.comparable (model), ...
+                   'prior', sluice.internal.comparable (prior), ...
+                   'obs', sluice.internal.comparable (obs), ...
+                   'options', sluice.internal.comparable (key), 'base', base);
   saved = [];
   file = ck.file;
   if (~exist (file, 'file'))
     % find out now, not after the first block, that it cannot be written
-    tmp = sprintf ('%s.tmp%d', file, sluice.kernel.compat ('pid'));
+    tmp = sprintf ('%s.tmp%d', file, sluice.internal.compat ('pid'));
     fid = fopen (tmp, 'w');
     if (fid < 0)
       error ('sluice:pmmh:badcheckpoint', 'checkpoint %s: cannot be written there', file);
@@ -764,7 +764,7 @@ function [ck, saved] = checkpoint_open (opts, model, prior, obs, base, target)
     return;
   end
   try
-    s = sluice.kernel.compat ('load_binary', file);
+    s = sluice.internal.compat ('load_binary', file);
   catch err
     error ('sluice:pmmh:badcheckpoint', 'checkpoint %s: cannot be read: %s', file, err.message);
   end
@@ -798,15 +798,15 @@ end
 % checkpoint, so a run killed at any moment leaves the old or the new one.
 function checkpoint_write (ck, res, final)
   pmmh_checkpoint = struct ('key', ck.key, 'result', res, 'complete', final);
-  tmp = sprintf ('%s.tmp%d', ck.file, sluice.kernel.compat ('pid'));
+  tmp = sprintf ('%s.tmp%d', ck.file, sluice.internal.compat ('pid'));
   try
-    sluice.kernel.compat ('save_binary', tmp, 'pmmh_checkpoint', pmmh_checkpoint);
+    sluice.internal.compat ('save_binary', tmp, 'pmmh_checkpoint', pmmh_checkpoint);
   catch err
     error ('sluice:pmmh:badcheckpoint', 'checkpoint %s: cannot be written: %s', ck.file, err.message);
   end
-  [st, msg] = sluice.kernel.compat ('rename', tmp, ck.file);
+  [st, msg] = sluice.internal.compat ('rename', tmp, ck.file);
   if (st ~= 0)
-    sluice.kernel.compat ('delete_file', tmp);
+    sluice.internal.compat ('delete_file', tmp);
     error ('sluice:pmmh:badcheckpoint', 'checkpoint %s: cannot replace it: %s', ck.file, msg);
   end
 end
@@ -855,7 +855,7 @@ end
 function S = setup (model, prior, obs, opts)
   % ids: the core's distribution ids (0-based: uniform, normal, lognormal,
   % truncnormal, fixed); check_prior refuses any other distribution
-  [ids, pa, pb, plo, phi] = sluice.kernel.check_prior (prior, 2, 'pmmh');
+  [ids, pa, pb, plo, phi] = sluice.internal.check_prior (prior, 2, 'pmmh');
   prior = prior(:)';
   names = {prior.name};
   free = [];
@@ -1038,7 +1038,7 @@ function S = setup_start (S, start)
     error ('sluice:pmmh:badstart', ...
            ['start: expected a real double %d x 1 or %d x %d matrix (one row per free ', ...
             'parameter: %s), or a sluice.filter or sluice.esmda result, got %s'], ...
-           d, d, C, strjoin (S.names', ', '), sluice.kernel.describe (start));
+           d, d, C, strjoin (S.names', ', '), sluice.internal.describe (start));
   end
   L = sluice.kernel.prior_eval ('logpdf', S.pid, S.pa, S.pb, S.plo, S.phi, start);
   for c = 1:size (start, 2)
@@ -1063,7 +1063,7 @@ function [E, w] = posterior_ensemble (S, r)
   d = numel (S.free);
   if (~isscalar (r))
     error ('sluice:pmmh:badstart', 'start: expected one result struct, got a %s', ...
-           sluice.kernel.describe (r));
+           sluice.internal.describe (r));
   end
   if (isfield (r, 'final') && isfield (r, 'param_names') && isstruct (r.final) && ...
       isscalar (r.final) && isfield (r.final, 'P') && isfield (r.final, 'w'))
@@ -1133,7 +1133,7 @@ function C = check_proposal (C, d)
       any (~isfinite (C(:))))
     error ('sluice:pmmh:badproposal', ...
            'proposal: expected a finite real %d x %d double matrix (one row per free parameter), got %s', ...
-           d, d, sluice.kernel.describe (C));
+           d, d, sluice.internal.describe (C));
   end
   if (norm (C - C', 1) > 1e-12 * norm (C, 1))
     error ('sluice:pmmh:badproposal', 'proposal: the covariance must be symmetric');
@@ -1164,14 +1164,14 @@ function [opts, prev] = parse_options (args)
                  'adapt_end', [], 'adapt_eps', 1e-10, 'target_acceptance', [], ...
                  'start', [], 'continue', [], 'max_rhat', 1.05, 'min_ess', 400, ...
                  'seed', 1, 'filter', [], 'parallel', 'auto', ...
-                 'workers', sluice.kernel.compat ('nproc'), 'progress', false, ...
+                 'workers', sluice.internal.compat ('nproc'), 'progress', false, ...
                  'checkpoint', '', 'checkpoint_every', 100);
-  opts = sluice.kernel.name_value (opts, args, 'pmmh');
+  opts = sluice.internal.name_value (opts, args, 'pmmh');
   prev = opts.continue;
   if (~isempty (prev) || ~isnumeric (prev))
     % continuing: the earlier run's options, and only these may change
     check_previous (prev);
-    given = sluice.kernel.option_pairs (args);
+    given = sluice.internal.option_pairs (args);
     given = given(1:2:end);
     may = {'continue', 'iterations', 'parallel', 'workers', 'progress', 'max_rhat', 'min_ess', ...
            'checkpoint', 'checkpoint_every'};
@@ -1220,22 +1220,22 @@ function [opts, prev] = parse_options (args)
   if (~isempty (t) && ~(isa (t, 'double') && isreal (t) && isscalar (t) && t > 0 && t < 1))
     error ('sluice:pmmh:badoption', ...
            'target_acceptance must be a real number strictly between 0 and 1, got %s', ...
-           sluice.kernel.describe (t, 'value'));
+           sluice.internal.describe (t, 'value'));
   end
   t = opts.max_rhat;
   if (~(isa (t, 'double') && isreal (t) && isscalar (t) && t > 1 && t < Inf))
     error ('sluice:pmmh:badoption', 'max_rhat must be a finite real number > 1, got %s', ...
-           sluice.kernel.describe (t, 'value'));
+           sluice.internal.describe (t, 'value'));
   end
   t = opts.min_ess;
   if (~(isa (t, 'double') && isreal (t) && isscalar (t) && t >= 0 && t < Inf))
     error ('sluice:pmmh:badoption', 'min_ess must be a finite real number >= 0, got %s', ...
-           sluice.kernel.describe (t, 'value'));
+           sluice.internal.describe (t, 'value'));
   end
   if (~isempty (opts.start) && ~isnumeric (opts.start) && ~isstruct (opts.start))
     error ('sluice:pmmh:badstart', ...
            'start: expected a matrix of starting values or a sluice.filter or sluice.esmda result, got %s', ...
-           sluice.kernel.describe (opts.start));
+           sluice.internal.describe (opts.start));
   end
   p = opts.parallel;
   if (ischar (p) && strcmp (p, 'auto'))
@@ -1249,7 +1249,7 @@ function [opts, prev] = parse_options (args)
   c = opts.checkpoint;
   if (~(ischar (c) && (isempty (c) || isrow (c))))
     error ('sluice:pmmh:badoption', 'checkpoint must be a file name (text), got %s', ...
-           sluice.kernel.describe (c));
+           sluice.internal.describe (c));
   end
   opts.checkpoint_every = whole (opts.checkpoint_every, 'checkpoint_every', 1, 2^40, 'badoption');
 end
@@ -1265,7 +1265,7 @@ function check_previous (prev)
       ~all (isfield (prev.chain_state, state)) || ~isstruct (prev.options))
     error ('sluice:pmmh:badcontinue', ...
            'continue: expected the result of an earlier sluice.pmmh run, got %s', ...
-           sluice.kernel.describe (prev));
+           sluice.internal.describe (prev));
   end
 end
 
@@ -1273,7 +1273,7 @@ function v = whole (v, what, lo, hi, reason)
   if (~isa (v, 'double') || ~isreal (v) || ~isscalar (v) || ~isfinite (v) || ...
       v ~= fix (v) || v < lo || v > hi)
     error (['sluice:pmmh:' reason], '%s must be a whole number from %g to %g, got %s', ...
-           what, lo, hi, sluice.kernel.describe (v, 'value'));
+           what, lo, hi, sluice.internal.describe (v, 'value'));
   end
   v = double (v);
 end

@@ -64,7 +64,7 @@ function pr = prior (varargin)
     core = sluice.kernel.core_names ();
   end
   if (nargin < 3)
-    sluice.kernel.compat ('usage', mfilename ());
+    sluice.internal.compat ('usage', mfilename ());
   end
   dists = core.distributions;
   forms = core.distribution_forms;
@@ -77,7 +77,7 @@ function pr = prior (varargin)
       if (ischar (name) && isrow (name))
         got = ['''' name ''''];
       else
-        got = sluice.kernel.describe (name);
+        got = sluice.internal.describe (name);
       end
       error ('sluice:prior:badname', ...
              'argument %d (name): expected a valid variable name, got %s', ...
@@ -107,7 +107,7 @@ function pr = prior (varargin)
       if (ischar (dist))
         got = ['''' dist(:)' ''''];
       else
-        got = sluice.kernel.describe (dist);
+        got = sluice.internal.describe (dist);
       end
       error ('sluice:prior:baddist', ...
              'argument %d (distribution of ''%s''): expected one of %s, got %s', ...
@@ -119,7 +119,7 @@ function pr = prior (varargin)
           && isvector (args) && numel (args) == counts(id)))
       error ('sluice:prior:badargs', ...
              'argument %d (arguments of ''%s''): a %s prior takes a real double vector %s, got %s', ...
-             k + 2, name, dists{id}, forms{id}, sluice.kernel.describe (args));
+             k + 2, name, dists{id}, forms{id}, sluice.internal.describe (args));
     end
     args = args(:)';
     [lower, upper] = check_args (dists{id}, args, name, k + 2);
@@ -209,7 +209,7 @@ function [lower, upper] = check_bounds (b, lo, hi, name, pos)
   if (~(isa (b, 'double') && isreal (b) && ~issparse (b) && isvector (b) ...
         && numel (b) == 2))
     error ('sluice:prior:badbounds', '%s: expected a real double vector [lo hi], got %s', ...
-           where, sluice.kernel.describe (b));
+           where, sluice.internal.describe (b));
   end
   if (any (isnan (b)) || ~(b(1) <= b(2)))
     error ('sluice:prior:badbounds', '%s: expected lo <= hi without NaN, got %s', ...

@@ -14,13 +14,13 @@
 % @end deftypefn
 function X1 = propagate (model, X, P, t0, t1, forcing, varargin)
   if (nargin < 5)
-    sluice.kernel.compat ('usage', mfilename ());
+    sluice.internal.compat ('usage', mfilename ());
   end
   if (nargin < 6)
     forcing = [];
   end
   opts = struct ('events', [], 'seed', 1, 'threads', 0);
-  opts = sluice.kernel.name_value (opts, varargin, 'propagate');
+  opts = sluice.internal.name_value (opts, varargin, 'propagate');
   for v = {t0, t1}
     if (~isa (v{1}, 'double') || ~isreal (v{1}) || ~isscalar (v{1}) || ~isfinite (v{1}))
       error ('sluice:propagate:badtimes', 't0 and t1 must be finite real scalars');
@@ -29,12 +29,12 @@ function X1 = propagate (model, X, P, t0, t1, forcing, varargin)
   if (t1 < t0)
     error ('sluice:propagate:badtimes', 't1 (%g) lies before t0 (%g)', t1, t0);
   end
-  [X, P] = sluice.kernel.check_state (model, X, P, [], 'propagate');
+  [X, P] = sluice.internal.check_state (model, X, P, [], 'propagate');
   if (t1 == t0)
     X1 = X;
     return;
   end
-  X1 = sluice.kernel.run_states (model, X, P, t0, t1, forcing, opts, 'propagate');
+  X1 = sluice.internal.run_states (model, X, P, t0, t1, forcing, opts, 'propagate');
   X1 = reshape (X1, size (X));
 end
 

@@ -33,14 +33,14 @@
 % @end deftypefn
 function [counts, edges, chi2, p] = rank_histogram (X, Y, varargin)
   if (nargin < 2)
-    sluice.kernel.compat ('usage', mfilename ());
+    sluice.internal.compat ('usage', mfilename ());
   end
-  opts = sluice.kernel.name_value (struct ('seed', 0), varargin, 'rank_histogram');
-  sluice.kernel.check_real (X, 1, 'X', false, 'rank_histogram');
-  sluice.kernel.check_real (Y, 2, 'Y', true, 'rank_histogram');
+  opts = sluice.internal.name_value (struct ('seed', 0), varargin, 'rank_histogram');
+  sluice.internal.check_real (X, 1, 'X', false, 'rank_histogram');
+  sluice.internal.check_real (Y, 2, 'Y', true, 'rank_histogram');
   if (ndims (X) > 3)
     error ('sluice:rank_histogram:badsize', ...
-           'argument 1 (X): expected an m x N or m x N x T array, got %s', sluice.kernel.describe (X));
+           'argument 1 (X): expected an m x N or m x N x T array, got %s', sluice.internal.describe (X));
   end
   m = size (X, 1);
   N = size (X, 2);
@@ -48,7 +48,7 @@ function [counts, edges, chi2, p] = rank_histogram (X, Y, varargin)
   if (ndims (Y) ~= 2 || size (Y, 1) ~= m || size (Y, 2) ~= T)
     error ('sluice:rank_histogram:badsize', ...
            'argument 2 (Y): expected %dx%d (rows of X by times of X), got %s', ...
-           m, T, sluice.kernel.describe (Y));
+           m, T, sluice.internal.describe (Y));
   end
   seed = opts.seed;
   if (~isa (seed, 'double') || ~isreal (seed) || issparse (seed) || numel (seed) ~= 1 ...

@@ -98,7 +98,7 @@
 % @end deftypefn
 function [forcing, info] = read_forcing (filename, varargin)
   if (nargin < 1)
-    sluice.kernel.compat ('usage', mfilename ());
+    sluice.internal.compat ('usage', mfilename ());
   end
   if (~ischar (filename) || isempty (filename) || size (filename, 1) ~= 1)
     error ('sluice:read_forcing:badfilename', ...
@@ -106,8 +106,8 @@ function [forcing, info] = read_forcing (filename, varargin)
   end
   opts = struct ('origin', [], 'unit', 'days', 'time_numbers', 'model', 'sort', true, ...
                  'missing', 'error', 'interp', 'linear');
-  opts = sluice.kernel.name_value (opts, varargin, 'read_forcing');
-  tm = sluice.kernel.file_time (opts, 'read_forcing');
+  opts = sluice.internal.name_value (opts, varargin, 'read_forcing');
+  tm = sluice.internal.file_time (opts, 'read_forcing');
   origin = tm.origin;
   unit_name = tm.unit_name;
   unit_days = tm.unit_days;
@@ -135,7 +135,7 @@ function [forcing, info] = read_forcing (filename, varargin)
         msg = [msg '; complete the file, or fill gaps with the option ''missing'' ' ...
                '(''interpolate'' or ''zero'')'];
     end
-    sluice.kernel.raise_again (err.identifier, 'sluice:read_forcing:failed', msg);
+    sluice.internal.raise_again (err.identifier, 'sluice:read_forcing:failed', msg);
   end
   if (kinfo.unsorted > 0)
     warning ('sluice:read_forcing:sorted', ...

@@ -99,15 +99,15 @@
 % @end deftypefn
 function [obs, nmissing, info] = read_obs (filename, varargin)
   if (nargin < 1)
-    sluice.kernel.compat ('usage', mfilename ());
+    sluice.internal.compat ('usage', mfilename ());
   end
   if (~ischar (filename) || isempty (filename) || size (filename, 1) ~= 1)
     error ('sluice:read_obs:badfilename', ...
            'argument 1 (filename): expected a file name (a character string)');
   end
   opts = struct ('origin', [], 'unit', 'days', 'time_numbers', 'model', 'sort', true);
-  opts = sluice.kernel.name_value (opts, varargin, 'read_obs');
-  tm = sluice.kernel.file_time (opts, 'read_obs');
+  opts = sluice.internal.name_value (opts, varargin, 'read_obs');
+  tm = sluice.internal.file_time (opts, 'read_obs');
   origin = tm.origin;
   unit_name = tm.unit_name;
   unit_days = tm.unit_days;
@@ -121,7 +121,7 @@ function [obs, nmissing, info] = read_obs (filename, varargin)
     if (strcmp (err.identifier, 'sluice:read_obs:noorigin'))
       msg = [msg '; give it as sluice.read_obs (file, ''origin'', ''YYYY-MM-DD'')'];
     end
-    sluice.kernel.raise_again (err.identifier, 'sluice:read_obs:failed', msg);
+    sluice.internal.raise_again (err.identifier, 'sluice:read_obs:failed', msg);
   end
   % text columns come as their distinct texts and each row's index
   names = fieldnames (codes);

@@ -174,12 +174,12 @@
 % @end deftypefn
 function files = report (res, varargin)
   if (nargin < 1)
-    sluice.kernel.compat ('usage', mfilename ());
+    sluice.internal.compat ('usage', mfilename ());
   end
   opts = parse_options (varargin);
   if (is_chain_result (res))
     % a result of sluice.pmmh: its chains (it has a seed, as a sweep table has)
-    sluice.kernel.check_chains (res, 1, 'report');
+    sluice.internal.check_chains (res, 1, 'report');
     toolkit = find_toolkit ();
     old = warning ('off', 'Octave:gnuplot-graphics');
     restore = onCleanup (@() warning (old));
@@ -187,7 +187,7 @@ function files = report (res, varargin)
     return;
   end
   if (is_sweep_table (res))
-    sluice.kernel.check_sweep (res, 1, 'report');
+    sluice.internal.check_sweep (res, 1, 'report');
     toolkit = find_toolkit ();
     old = warning ('off', 'Octave:gnuplot-graphics');
     restore = onCleanup (@() warning (old));
@@ -322,7 +322,7 @@ function files = report (res, varargin)
   skill = [];
   if (~isempty (obs))
     % how well the ensemble mean follows the observations (NSE, KGE)
-    skill = sluice.kernel.hydrograph_skill (rf, obs);
+    skill = sluice.internal.hydrograph_skill (rf, obs);
     if (~isempty (skill.variables))
       f = fullfile (outdir, 'skill.csv');
       write_skill (f, skill);
@@ -341,7 +341,7 @@ function opts = parse_options (args)
                  'units', struct (), 'time_unit', '', 'title', '', 'log_scale', {{}}, ...
                  'axes', {{}}, 'scores', {{}}, 'variables', [], 'prior', [], 'period', [], ...
                  'panels', 'auto');
-  args = sluice.kernel.option_pairs (args);
+  args = sluice.internal.option_pairs (args);
   if (mod (numel (args), 2) ~= 0)
     error ('sluice:report:badoption', ...
            'options must be a struct or name/value pairs, got %d trailing argument(s)', numel (args));
@@ -460,7 +460,7 @@ function [rf, obs, truth, scores] = unpack (res, opts)
            'argument 1 (res): expected a result of sluice.filter or sluice.twin, got %s', ...
            describe (res));
   end
-  sluice.kernel.check_result (rf, where, 'report', {'param_names', 'params', 'members'});
+  sluice.internal.check_result (rf, where, 'report', {'param_names', 'params', 'members'});
   rf.method_label = 'unknown method';
   if (isfield (rf, 'method') && ischar (rf.method))
     rf.method_label = rf.method;
@@ -530,11 +530,11 @@ end
 function tk = find_toolkit ()
   % a toolkit that can print without a display
   tk = '';
-  if (~sluice.kernel.compat ('is_octave'))
+  if (~sluice.internal.compat ('is_octave'))
     tk = 'native';
     return;
   end
-  avail = sluice.kernel.compat ('graphics_toolkits');
+  avail = sluice.internal.compat ('graphics_toolkits');
   if (isempty (avail))
     error ('sluice:report:nographics', ...
            ['no graphics toolkit is available to draw the figures ', ...
@@ -558,7 +558,7 @@ function check_print_tools ()
   % (the figure goes to PostScript first); a missing font shows only when
   % printing, where save_figure catches it
   gp = gnuplot_binary ();
-  if (isempty (sluice.kernel.find_program (gp)))
+  if (isempty (sluice.internal.find_program (gp)))
     error ('sluice:report:nographics', ...
            'the gnuplot program (''%s'') is not on the PATH; %s', gp, graphics_packages ());
   end
@@ -567,8 +567,8 @@ function check_print_tools ()
     error ('sluice:report:nographics', 'gnuplot does not run (%s); %s', ...
            strtrim (out), graphics_packages ());
   end
-  if (isempty (sluice.kernel.find_program ('gs')) && ...
-      isempty (sluice.kernel.find_program (getenv ('GSC'))))
+  if (isempty (sluice.internal.find_program ('gs')) && ...
+      isempty (sluice.internal.find_program (getenv ('GSC'))))
     error ('sluice:report:nographics', ...
            'Ghostscript (gs) is not on the PATH: printing PNG figures needs it; %s', ...
            graphics_packages ());
@@ -581,7 +581,7 @@ function s = graphics_packages ()
 end
 
 function h = new_figure (tk, wh)
-  h = sluice.kernel.compat ('hidden_figure', tk);
+  h = sluice.internal.compat ('hidden_figure', tk);
   set (h, 'paperunits', 'inches', 'paperposition', [0 0 wh / 100]);
 end
 
@@ -609,8 +609,8 @@ end
 
 function c = palette (which)
   % the report's own colours, chosen for grey prints and colour-blind
-  % readers: see sluice.kernel.report_palette for the choice and the values
-  c = sluice.kernel.report_palette (which);
+  % readers: see sluice.internal.report_palette for the choice and the values
+  c = sluice.internal.report_palette (which);
 end
 
 function i = level (lv, p)
@@ -1529,7 +1529,7 @@ function xa = time_axis (rf, opts)
     xa.label = sprintf ('time (%s)', opts.time_unit);
   end
   if (isfield (rf, 'time_origin') && ~isempty (rf.time_origin))
-    cal = sluice.kernel.time_origin (rf.time_origin, rf.time_unit, 'report');
+    cal = sluice.internal.time_origin (rf.time_origin, rf.time_unit, 'report');
     xa.dated = true;
     xa.x = @(t) cal.datenum + t * cal.unit_days;
     xa.label = 'date (UTC)';
@@ -2093,7 +2093,7 @@ function dens = chain_prior (res, opts, names)
   if (isempty (pr))
     return;
   end
-  [ids, a, b, lo, hi, pn] = sluice.kernel.check_prior (pr, where, 'report');
+  [ids, a, b, lo, hi, pn] = sluice.internal.check_prior (pr, where, 'report');
   for k = 1:d
     j = find (strcmp (pn, names{k}), 1);
     if (isempty (j) || strcmp (pr(j).dist, 'fixed'))
@@ -2512,7 +2512,7 @@ end
 %!test
 %! % no Ghostscript on the PATH (gnuplot alone): refused before drawing,
 %! % with the Debian packages named
-%! gp = sluice.kernel.find_program (gnuplot_binary ());
+%! gp = sluice.internal.find_program (gnuplot_binary ());
 %! bin = tempname ();
 %! d = tempname ();
 %! mkdir (bin);

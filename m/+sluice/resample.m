@@ -74,7 +74,7 @@ function a = resample (w, varargin)
     core = sluice.kernel.core_names ();
   end
   if (nargin < 1)
-    sluice.kernel.compat ('usage', mfilename ());
+    sluice.internal.compat ('usage', mfilename ());
   end
   opt_names = {'count', 'seed', 'cycle'};
   scheme = 'systematic';
@@ -85,7 +85,7 @@ function a = resample (w, varargin)
     if (~(ischar (scheme) && (isrow (scheme) || isempty (scheme))))
       error ('sluice:resample:badscheme', ...
              'argument 2 (scheme): expected a scheme name (systematic, stratified, residual or multinomial), got %s', ...
-             sluice.kernel.describe (scheme));
+             sluice.internal.describe (scheme));
     end
     scheme = lower (scheme);
     if (~any (strcmp (scheme, core.resamplers)))
@@ -108,28 +108,28 @@ function a = resample (w, varargin)
     value = args{k + 1};
     if (~(ischar (name) && isrow (name)))
       error ('sluice:resample:badoption', ...
-             'option names must be strings (count, seed, cycle), got %s', sluice.kernel.describe (name));
+             'option names must be strings (count, seed, cycle), got %s', sluice.internal.describe (name));
     end
     switch (lower (name))
       case 'count'
         if (~whole (value, 1, 4294967294))
           error ('sluice:resample:badcount', ...
                  'option ''count'': expected a whole number from 1 to 4294967294 (a real double scalar), got %s', ...
-                 sluice.kernel.describe (value, 'value'));
+                 sluice.internal.describe (value, 'value'));
         end
         count = value;
       case 'seed'
         if (~whole (value, 0, flintmax ()))
           error ('sluice:resample:badseed', ...
                  'option ''seed'': expected a whole number from 0 to 2^53 (a real double scalar), got %s', ...
-                 sluice.kernel.describe (value, 'value'));
+                 sluice.internal.describe (value, 'value'));
         end
         seed = value;
       case 'cycle'
         if (~whole (value, 0, 4294967295))
           error ('sluice:resample:badcycle', ...
                  'option ''cycle'': expected a whole number from 0 to 2^32 - 1 (a real double scalar), got %s', ...
-                 sluice.kernel.describe (value, 'value'));
+                 sluice.internal.describe (value, 'value'));
         end
         cycle = value;
       otherwise
@@ -162,7 +162,7 @@ function s = name_of (x)
   if (ischar (x) && isrow (x))
     s = x;
   else
-    s = sluice.kernel.describe (x);
+    s = sluice.internal.describe (x);
   end
 end
 

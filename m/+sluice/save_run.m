@@ -126,10 +126,10 @@
 % @end deftypefn
 function save_run (res, file, varargin)
   if (nargin < 2 || nargout > 0)
-    sluice.kernel.compat ('usage', mfilename ());
+    sluice.internal.compat ('usage', mfilename ());
   end
   opts = struct ('units', struct (), 'title', '', 'institution', '');
-  opts = sluice.kernel.name_value (opts, varargin, 'save_run');
+  opts = sluice.internal.name_value (opts, varargin, 'save_run');
   [kind, main] = result_kind (res);
   opts.units = check_units (opts.units, main);
   check_text (opts.title, 'title');
@@ -137,17 +137,17 @@ function save_run (res, file, varargin)
   [file, tmp] = target (file);
   as_netcdf = numel (file) > 3 && strcmpi (file(end-2:end), '.nc');
   if (as_netcdf)
-    nc = sluice.kernel.compat ('netcdf', 'save_run');
+    nc = sluice.internal.compat ('netcdf', 'save_run');
   end
   try
     if (as_netcdf)
       write_netcdf (nc, tmp, res, kind, main, opts);
     else
       run = struct ('format', 'sluice.save_run', 'format_version', 1, 'kind', kind, ...
-                    'sluice_version', sluice.kernel.version (), 'saved', now_text (), ...
+                    'sluice_version', sluice.internal.version (), 'saved', now_text (), ...
                     'result', []);
       run.result = res;
-      sluice.kernel.compat ('save_binary', tmp, 'sluice_run', run);
+      sluice.internal.compat ('save_binary', tmp, 'sluice_run', run);
     end
   catch err
     remove (tmp);
@@ -156,7 +156,7 @@ function save_run (res, file, varargin)
     end
     error ('sluice:save_run:cannotwrite', '%s: could not be written: %s', file, err.message);
   end
-  [failed, msg] = sluice.kernel.compat ('rename', tmp, file);
+  [failed, msg] = sluice.internal.compat ('rename', tmp, file);
   if (failed)
     remove (tmp);
     error ('sluice:save_run:cannotwrite', '%s: could not be written: %s', file, msg);
@@ -169,7 +169,7 @@ function [kind, main] = result_kind (res)
   if (isstruct (res) && isscalar (res) && isfield (res, 'filter') && isfield (res, 'truth'))
     kind = 'twin';
     main = res.filter;
-    sluice.kernel.check_result (main, 'argument 1 (res.filter)', 'save_run', {'params'});
+    sluice.internal.check_result (main, 'argument 1 (res.filter)', 'save_run', {'params'});
     for f = {'obs', 'openloop', 'scores'}
       if (~isfield (res, f{1}))
         error ('sluice:save_run:badresult', ...
@@ -177,13 +177,13 @@ function [kind, main] = result_kind (res)
       end
     end
     if (~isempty (res.openloop))
-      sluice.kernel.check_result (res.openloop, 'argument 1 (res.openloop)', 'save_run', ...
+      sluice.internal.check_result (res.openloop, 'argument 1 (res.openloop)', 'save_run', ...
                                   {'params'});
     end
   else
     kind = 'filter';
     main = res;
-    sluice.kernel.check_result (res, 1, 'save_run', {'params'});
+    sluice.internal.check_result (res, 1, 'save_run', {'params'});
   end
 end
 
@@ -191,7 +191,7 @@ function units = check_units (units, main)
   if (~(isstruct (units) && isscalar (units)))
     error ('sluice:save_run:badoption', ...
            'option ''units'': expected a struct of unit strings by variable name, got %s', ...
-           sluice.kernel.describe (units));
+           sluice.internal.describe (units));
   end
   names = [main.state_names(:); main.param_names(:)];
   f = fieldnames (units);
@@ -205,7 +205,7 @@ function units = check_units (units, main)
     if (~(ischar (u) && isrow (u)))
       error ('sluice:save_run:badoption', ...
              'option ''units'': the units of ''%s'' must be a string, got %s', f{k}, ...
-             sluice.kernel.describe (u));
+             sluice.internal.describe (u));
     end
   end
 end
@@ -213,7 +213,7 @@ end
 function check_text (v, what)
   if (~(ischar (v) && (isrow (v) || isempty (v))))
     error ('sluice:save_run:badoption', 'option ''%s'': expected a string, got %s', ...
-           what, sluice.kernel.describe (v));
+           what, sluice.internal.describe (v));
   end
 end
 
@@ -222,7 +222,7 @@ function [file, tmp] = target (file)
   % temporary file the run is written to
   if (~(ischar (file) && isrow (file)))
     error ('sluice:save_run:badfile', 'argument 2 (file): expected a file name, got %s', ...
-           sluice.kernel.describe (file));
+           sluice.internal.describe (file));
   end
   [folder, name, ext] = fileparts (file);
   if (isempty (folder))
@@ -235,7 +235,7 @@ function [file, tmp] = target (file)
     error ('sluice:save_run:cannotwrite', '%s: is a folder', file);
   end
   tmp = fullfile (folder, sprintf ('.%s%s.%d-%06d.part', name, ext, ...
-                                   sluice.kernel.compat ('pid'), floor (rand () * 1e6)));
+                                   sluice.internal.compat ('pid'), floor (rand () * 1e6)));
   [fid, msg] = fopen (tmp, 'w');
   if (fid < 0)
     error ('sluice:save_run:cannotwrite', '%s: cannot write in %s: %s', file, folder, msg);
@@ -245,12 +245,12 @@ end
 
 function remove (f)
   if (exist (f, 'file'))
-    sluice.kernel.compat ('delete_file', f);
+    sluice.internal.compat ('delete_file', f);
   end
 end
 
 function s = now_text ()
-  s = datestr (sluice.kernel.compat ('utc_now'), 'yyyy-mm-ddTHH:MM:SSZ');
+  s = datestr (sluice.internal.compat ('utc_now'), 'yyyy-mm-ddTHH:MM:SSZ');
 end
 
 % ---------------------------------------------------------------- NetCDF
@@ -273,7 +273,7 @@ function write_netcdf (nc, tmp, res, kind, main, opts)
     if (~isempty (opts.institution))
       nc.putAtt (ncid, G, 'institution', opts.institution);
     end
-    version = sluice.kernel.version ();
+    version = sluice.internal.version ();
     nc.putAtt (ncid, G, 'source', ['sluice ' version]);
     nc.putAtt (ncid, G, 'history', sprintf ('%s written by sluice.save_run', now_text ()));
     nc.putAtt (ncid, G, 'comment', ...
@@ -363,7 +363,7 @@ function cal = calendar_of (r)
   if (isempty (t) || isempty (t.y))
     error ('sluice:save_run:badresult', ...
            'argument 1 (res): field ''time_origin'' must be an ISO 8601 date, got %s', ...
-           sluice.kernel.describe (o));
+           sluice.internal.describe (o));
   end
   u = r.time_unit;
   if (~ischar (u) || ~any (strcmp (u, {'days', 'years'})))
@@ -474,7 +474,7 @@ end
 function unsupported (key, v)
   error ('sluice:save_run:unsupported', ...
          'field %s (%s) cannot be written to NetCDF; save to a .mat file instead', ...
-         key, sluice.kernel.describe (v));
+         key, sluice.internal.describe (v));
 end
 
 function e = entry (path, kind, cls, sz, var, value)

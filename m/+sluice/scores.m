@@ -104,13 +104,13 @@
 % @end deftypefn
 function s = scores (res, truth, obs)
   if (nargin < 2 || nargin > 3)
-    sluice.kernel.compat ('usage', mfilename ());
+    sluice.internal.compat ('usage', mfilename ());
   end
   if (nargin > 2)
     % the innovations read the parameters' summaries too
-    sluice.kernel.check_result (res, 1, 'scores', {'param_names', 'params'});
+    sluice.internal.check_result (res, 1, 'scores', {'param_names', 'params'});
   else
-    sluice.kernel.check_result (res, 1, 'scores');
+    sluice.internal.check_result (res, 1, 'scores');
   end
   n = numel (res.state_names);
   check_truth (truth, n);
@@ -199,7 +199,7 @@ function s = scores (res, truth, obs)
 
   if (nargin == 3)
     s.innovation = innovations (res, obs, has_history);
-    s.skill = sluice.kernel.hydrograph_skill (res, obs);
+    s.skill = sluice.internal.hydrograph_skill (res, obs);
   end
 end
 
@@ -238,7 +238,7 @@ end
 
 function inn = innovations (res, obs, has_history)
   check_obs (obs);
-  [names, means, Q] = sluice.kernel.summaries (res);
+  [names, means, Q] = sluice.internal.summaries (res);
   nrow = numel (obs.time);
   keep = ~isnan (obs.value(:));
   skipped_missing = sum (~keep);

@@ -24,14 +24,14 @@
 % @end deftypefn
 function [X, times] = simulate (model, x0, params, times, forcing, varargin)
   if (nargin < 4)
-    sluice.kernel.compat ('usage', mfilename ());
+    sluice.internal.compat ('usage', mfilename ());
   end
   if (nargin < 5)
     forcing = [];
   end
   opts = struct ('events', [], 'seed', 1);
-  opts = sluice.kernel.name_value (opts, varargin, 'simulate');
-  [X, times] = sluice.kernel.simulate_run (model, x0, params, times, forcing, opts, 'simulate');
+  opts = sluice.internal.name_value (opts, varargin, 'simulate');
+  [X, times] = sluice.internal.simulate_run (model, x0, params, times, forcing, opts, 'simulate');
 end
 
 %!test

@@ -82,13 +82,13 @@
 % @end deftypefn
 function res = smooth (res, varargin)
   if (nargin < 1)
-    sluice.kernel.compat ('usage', mfilename ());
+    sluice.internal.compat ('usage', mfilename ());
   end
   t_start = tic ();
   opts = struct ('method', '', 'model', [], 'trajectories', [], ...
                  'rejection_tries', 0, 'seed', [], 'threads', []);
-  opts = sluice.kernel.name_value (opts, varargin, 'smooth');
-  sluice.kernel.check_result (res, 1, 'smooth', {'method'});
+  opts = sluice.internal.name_value (opts, varargin, 'smooth');
+  sluice.internal.check_result (res, 1, 'smooth', {'method'});
   [names, default] = smoothers_for (res.method);
   if (any (strcmp (names, 'enks')))
     % the ensemble Kalman smoother ran inside the filter (option 'lag')
@@ -137,7 +137,7 @@ function res = smooth (res, varargin)
       seed = whole (opts.seed, seed, 'seed', 0, 2^53, 'badoption');
       tries = whole (opts.rejection_tries, 0, 'rejection_tries', 0, 1000, 'badoption');
       n = size (h.X, 1);
-      sluice.kernel.ensure_memory (8 * (n * M * h.T + M * h.T + 2 * M) + 16 * n * h.N * h.T, ...
+      sluice.internal.ensure_memory (8 * (n * M * h.T + M * h.T + 2 * M) + 16 * n * h.N * h.T, ...
                                    'smooth', 'the smoother');
       [F, L] = transitions (res, h, opts.model, threads);
       s = run_kernel ('ffbsi', h.X, h.P, h.w, probs, threads, F, L, M, seed, tries);
@@ -157,9 +157,9 @@ end
 function s = run_kernel (varargin)
   % the compiled smoother; its messages name the fields of res.history
   try
-    if (sluice.kernel.compat ('is_octave'))
+    if (sluice.internal.compat ('is_octave'))
       % a Ctrl-C that escapes the gateway is still the run's error
-      s = sluice.kernel.interruptible ('-run', 'sluice.kernel.smooth', varargin{:});
+      s = sluice.internal.interruptible ('-run', 'sluice.kernel.smooth', varargin{:});
     else
       s = sluice.kernel.smooth (varargin{:});
     end
@@ -174,7 +174,7 @@ function s = run_kernel (varargin)
     for k = 1:numel (from)
       msg = regexprep (msg, from{k}, to{k});
     end
-    sluice.kernel.raise_again (err.identifier, 'sluice:smooth:failed', msg);
+    sluice.internal.raise_again (err.identifier, 'sluice:smooth:failed', msg);
   end
 end
 
@@ -213,15 +213,15 @@ function h = check_history (res)
   N = size (h.X, 2);
   if (~isa (h.X, 'double') || size (h.X, 1) ~= n || size (h.X, 3) ~= T || ndims (h.X) > 3)
     error ('sluice:smooth:badhistory', 'res.history.X must be %d x N x %d, got %s', ...
-           n, T, sluice.kernel.describe (h.X));
+           n, T, sluice.internal.describe (h.X));
   end
   if (~isa (h.w, 'double') || ~isequal (size (h.w), [N T]))
     error ('sluice:smooth:badhistory', 'res.history.w must be %d x %d, got %s', ...
-           N, T, sluice.kernel.describe (h.w));
+           N, T, sluice.internal.describe (h.w));
   end
   if (~isa (h.ancestors, 'double') || ~isequal (size (h.ancestors), [N T]))
     error ('sluice:smooth:badhistory', 'res.history.ancestors must be %d x %d, got %s', ...
-           N, T, sluice.kernel.describe (h.ancestors));
+           N, T, sluice.internal.describe (h.ancestors));
   end
   h.N = N;
   h.T = T;
@@ -241,7 +241,7 @@ function v = whole (v, default, what, lo, hi, reason)
   if (~isa (v, 'double') || ~isreal (v) || ~isscalar (v) || ~isfinite (v) || ...
       v ~= fix (v) || v < lo || v > hi)
     error (['sluice:smooth:' reason], '%s must be a whole number from %.0f to %.0f, got %s', ...
-           what, lo, hi, sluice.kernel.describe (v, 'value'));
+           what, lo, hi, sluice.internal.describe (v, 'value'));
   end
 end
 

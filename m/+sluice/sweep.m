@@ -118,7 +118,7 @@
 
 function [table, info] = sweep (fun, grid, varargin)
   if (nargin < 2)
-    sluice.kernel.compat ('usage', mfilename ());
+    sluice.internal.compat ('usage', mfilename ());
   end
   t_all = tic ();
   check_fun (fun);
@@ -166,7 +166,7 @@ function [table, info] = sweep (fun, grid, varargin)
   todo = find (~reused);
   use_par = false;
   if (opts.workers > 1 && numel (todo) > 1)
-    use_par = sluice.kernel.compat ('has_parallel');
+    use_par = sluice.internal.compat ('has_parallel');
   end
 
   t_fun = 0;
@@ -191,8 +191,8 @@ function [table, info] = sweep (fun, grid, varargin)
       % failure through the error handler
       on_error = @(e, varargin) struct ('ok', false, 'scores', [], 'time', 0, ...
                                         'message', e.message, 'identifier', e.identifier);
-      [res, broke] = sluice.kernel.compat ('parallel_map', min (nb, numel (batch)), ...
-                               @(j) sluice.kernel.sweep_point (fun, pts{j}, keys{batch(j)}, spill{j}), ...
+      [res, broke] = sluice.internal.compat ('parallel_map', min (nb, numel (batch)), ...
+                               @(j) sluice.internal.sweep_point (fun, pts{j}, keys{batch(j)}, spill{j}), ...
                                num2cell (1:numel (batch)), on_error);
       if (~isempty (broke))
         % a worker died: what the workers finished is in their part files
@@ -231,7 +231,7 @@ function [table, info] = sweep (fun, grid, varargin)
   else
     for p = todo'
       point = make_point (names, vals, subs, p, seeds(p));
-      r = sluice.kernel.sweep_point (fun, point, keys{p});
+      r = sluice.internal.sweep_point (fun, point, keys{p});
       if (~r.ok)
         if (is_interrupt (r.identifier))
           interrupted (keys{p}, r, opts.file, numel (done.key));
@@ -371,13 +371,13 @@ function tf = good_number (e)
 end
 
 function opts = parse_options (args)
-  opts = struct ('seed', 1, 'workers', sluice.kernel.compat ('nproc'), 'file', '');
+  opts = struct ('seed', 1, 'workers', sluice.internal.compat ('nproc'), 'file', '');
   if (numel (args) == 1 && isstruct (args{1}))
     if (~isscalar (args{1}))
       error ('sluice:sweep:badoption', 'argument 3 (opts): expected a scalar struct, got %s', ...
              describe (args{1}));
     end
-    pairs = sluice.kernel.option_pairs (args);
+    pairs = sluice.internal.option_pairs (args);
   else
     pairs = args;
     if (mod (numel (pairs), 2) ~= 0)
@@ -524,11 +524,11 @@ function t = point_text (key)
 end
 
 function [done, merged] = merge_parts (file, done, names)
-  parts = sluice.kernel.compat ('glob', [file '.part*']);
+  parts = sluice.internal.compat ('glob', [file '.part*']);
   merged = false;
   for i = 1:numel (parts)
     try
-      s = sluice.kernel.compat ('load_binary', parts{i});
+      s = sluice.internal.compat ('load_binary', parts{i});
       e = s.sweep_part;
       if (~any (strcmp (e.key, done.key)))
         done = add_done (done, e.key, e.seed, e.time, check_scores (e.scores, names, e.key));
@@ -542,7 +542,7 @@ function [done, merged] = merge_parts (file, done, names)
 end
 
 function remove_parts (file)
-  parts = sluice.kernel.compat ('glob', [file '.part*']);
+  parts = sluice.internal.compat ('glob', [file '.part*']);
   for i = 1:numel (parts)
     delete (parts{i});
   end
@@ -557,7 +557,7 @@ end
 
 function done = load_done (file)
   try
-    s = sluice.kernel.compat ('load_binary', file);
+    s = sluice.internal.compat ('load_binary', file);
   catch err
     error ('sluice:sweep:badfile', 'file %s: cannot be read as a results file: %s', ...
            file, err.message);
@@ -583,13 +583,13 @@ end
 
 function save_done (file, done)
   sweep_done = done;
-  tmp = sprintf ('%s.tmp%d', file, sluice.kernel.compat ('pid'));
+  tmp = sprintf ('%s.tmp%d', file, sluice.internal.compat ('pid'));
   try
-    sluice.kernel.compat ('save_binary', tmp, 'sweep_done', sweep_done);
+    sluice.internal.compat ('save_binary', tmp, 'sweep_done', sweep_done);
   catch err
     error ('sluice:sweep:badfile', 'file %s: cannot write the results: %s', file, err.message);
   end
-  [st, msg] = sluice.kernel.compat ('rename', tmp, file);
+  [st, msg] = sluice.internal.compat ('rename', tmp, file);
   if (st ~= 0)
     delete (tmp);
     error ('sluice:sweep:badfile', 'file %s: cannot replace it with the new results: %s', file, msg);

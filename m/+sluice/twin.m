@@ -131,24 +131,24 @@
 % @end deftypefn
 function res = twin (model, truth, network, varargin)
   if (nargin < 3)
-    sluice.kernel.compat ('usage', mfilename ());
+    sluice.internal.compat ('usage', mfilename ());
   end
   opts = struct ('seed', 1, 'prior', [], 'filter', {{}}, 'openloop', true);
-  opts = sluice.kernel.name_value (opts, varargin, 'twin');
+  opts = sluice.internal.name_value (opts, varargin, 'twin');
   seed = opts.seed;
   if (~isa (seed, 'double') || ~isreal (seed) || ~isscalar (seed) || ~isfinite (seed) || ...
       seed ~= fix (seed) || seed < 0 || seed > 2^51 - 1)
     error ('sluice:twin:badoption', 'seed must be a whole number from 0 to 2^51 - 1');
   end
-  sluice.kernel.check_model (model, 1, 'twin');
+  sluice.internal.check_model (model, 1, 'twin');
   if (isempty (opts.prior))
     error ('sluice:twin:noprior', 'option ''prior'' (a struct array from sluice.prior) is required');
   end
-  sluice.kernel.check_prior (opts.prior, 'option ''prior''', 'twin');
+  sluice.internal.check_prior (opts.prior, 'option ''prior''', 'twin');
   if (~iscell (opts.filter) || mod (numel (opts.filter), 2) ~= 0)
     error ('sluice:twin:badoption', ...
            'option ''filter'' must be a cell of name/value pairs for sluice.filter, got %s', ...
-           sluice.kernel.describe (opts.filter));
+           sluice.internal.describe (opts.filter));
   end
   ol = opts.openloop;
   if (~(islogical (ol) || isnumeric (ol)) || ~isscalar (ol) || ~isreal (ol) || isnan (ol))
@@ -164,7 +164,7 @@ function res = twin (model, truth, network, varargin)
   [x0, params, times, forcing, events] = check_truth (model, truth);
   names = [model.states(:); model.params(:)];
   n = numel (model.states);
-  ops = sluice.kernel.operators (filter_option (opts.filter, 'operators'), model);
+  ops = sluice.internal.operators (filter_option (opts.filter, 'operators'), model);
   net = check_network (network, [names; ops.names], times);
 
   % the truth, at its own times and at every observation time
@@ -172,10 +172,10 @@ function res = twin (model, truth, network, varargin)
   tall = unique ([times(:); tobs(:)])';
   try
     % run as this function's step: its errors are sluice:twin:<reason>
-    Xall = sluice.kernel.simulate_run (model, x0, params, tall, forcing, ...
+    Xall = sluice.internal.simulate_run (model, x0, params, tall, forcing, ...
                                        struct ('events', events, 'seed', seed_truth), 'twin');
   catch err
-    sluice.kernel.raise_again (err.identifier, 'sluice:twin:failed', ...
+    sluice.internal.raise_again (err.identifier, 'sluice:twin:failed', ...
                                ['the truth run failed: ' err.message]);
   end
   truth_all = [Xall; repmat(params(:), 1, numel (tall))];
@@ -307,7 +307,7 @@ function Y = derived_truth (ops, model, tall, Xall, params, net, v, every)
       need(:) = true;
     end
     for it = find (need)
-      [y, msg, id] = sluice.kernel.observe (ops.funs, ops.rows, tall(it), Xall(:, it), P(:, it));
+      [y, msg, id] = sluice.internal.observe (ops.funs, ops.rows, tall(it), Xall(:, it), P(:, it));
       if (~isempty (msg))
         if (isempty (id))
           id = 'sluice:twin:badoperator';
@@ -323,7 +323,7 @@ function [x0, params, times, forcing, events] = check_truth (model, truth)
   if (~isstruct (truth) || ~isscalar (truth) || ~isfield (truth, 'times'))
     error ('sluice:twin:badtruth', ...
            'argument 2 (truth): expected a struct with field times, got %s', ...
-           sluice.kernel.describe (truth));
+           sluice.internal.describe (truth));
   end
   known = {'times', 'x0', 'params', 'forcing', 'events'};
   f = fieldnames (truth);
@@ -357,7 +357,7 @@ function [x0, params, times, forcing, events] = check_truth (model, truth)
   if (isfield (truth, 'events'))
     events = truth.events;
   end
-  [x0, params] = sluice.kernel.check_state (model, x0, params, 1, 'twin');
+  [x0, params] = sluice.internal.check_state (model, x0, params, 1, 'twin');
 end
 
 function net = check_network (network, names, times)
@@ -367,7 +367,7 @@ function net = check_network (network, names, times)
   if (~isstruct (network) || ~isvector (network))
     error ('sluice:twin:badnetwork', ...
            'argument 3 (network): expected a struct array, got %s', ...
-           sluice.kernel.describe (network));
+           sluice.internal.describe (network));
   end
   known = {'variable', 'every', 'from', 'to', 'sigma', 'family', 'missing', 'n', 'dof', 'limit'};
   f = fieldnames (network);

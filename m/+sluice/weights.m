@@ -52,7 +52,7 @@
 
 function [w, ess, logz, info] = weights (logw)
   if (nargin ~= 1)
-    sluice.kernel.compat ('usage', mfilename ());
+    sluice.internal.compat ('usage', mfilename ());
   end
   if (isa (logw, 'double'))
     % a range (such as 1:N) reaches a MEX gateway of Octave 7.3 in a form

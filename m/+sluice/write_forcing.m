@@ -33,7 +33,7 @@
 % @end deftypefn
 function write_forcing (filename, forcing)
   if (nargin ~= 2 || nargout > 0)
-    sluice.kernel.compat ('usage', mfilename ());
+    sluice.internal.compat ('usage', mfilename ());
   end
   if (~ischar (filename) || isempty (filename) || size (filename, 1) ~= 1)
     error ('sluice:write_forcing:badfilename', ...
@@ -43,17 +43,17 @@ function write_forcing (filename, forcing)
   if (~isstruct (forcing) || ~isscalar (forcing) || ~isfield (forcing, 'time') || ...
       ~isfield (forcing, 'values') || ~isfield (forcing, 'names'))
     error (id, 'argument 2 (forcing): expected a struct with fields time, values and names, got %s', ...
-           sluice.kernel.describe (forcing));
+           sluice.internal.describe (forcing));
   end
   t = forcing.time;
   v = forcing.values;
   if (~isa (t, 'double') || ~isreal (t) || issparse (t) || (~isempty (t) && ~isvector (t)))
-    error (id, 'forcing.time must be a real double vector, got %s', sluice.kernel.describe (t));
+    error (id, 'forcing.time must be a real double vector, got %s', sluice.internal.describe (t));
   end
   m = numel (t);
   if (~isa (v, 'double') || ~isreal (v) || issparse (v) || ndims (v) ~= 2 || size (v, 1) ~= m)
     error (id, 'forcing.values must be real doubles with one row per time (%d), got %s', ...
-           m, sluice.kernel.describe (v));
+           m, sluice.internal.describe (v));
   end
   q = size (v, 2);
   names = forcing.names;
@@ -77,7 +77,7 @@ function write_forcing (filename, forcing)
     if (isfield (forcing, 'time_unit') && ~isempty (forcing.time_unit))
       unit = forcing.time_unit;
     end
-    cal = sluice.kernel.time_origin (forcing.time_origin, unit, 'write_forcing');
+    cal = sluice.internal.time_origin (forcing.time_origin, unit, 'write_forcing');
     origin = cal.text;
     unit_days = cal.unit_days;
   end
@@ -86,7 +86,7 @@ function write_forcing (filename, forcing)
                            origin, unit_days);
   catch err
     msg = regexprep (err.message, '^obsfile: ', '');
-    sluice.kernel.raise_again (err.identifier, 'sluice:write_forcing:failed', msg);
+    sluice.internal.raise_again (err.identifier, 'sluice:write_forcing:failed', msg);
   end
 end
 

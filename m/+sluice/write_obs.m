@@ -30,7 +30,7 @@
 % @end deftypefn
 function write_obs (filename, obs)
   if (nargin ~= 2 || nargout > 0)
-    sluice.kernel.compat ('usage', mfilename ());
+    sluice.internal.compat ('usage', mfilename ());
   end
   if (~ischar (filename) || isempty (filename) || size (filename, 1) ~= 1)
     error ('sluice:write_obs:badfilename', ...

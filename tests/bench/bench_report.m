@@ -58,7 +58,7 @@ end
 function plain_figure (r, ob, f)
   % the record's flow drawn the plainest way: a line and the points
   % the toolkit the report draws with when no display is at hand
-  h = sluice.kernel.compat ('hidden_figure', 'gnuplot');
+  h = sluice.internal.compat ('hidden_figure', 'gnuplot');
   set (h, 'paperunits', 'inches', 'paperposition', [0 0 8 4.5]);
   q = find (strcmp (r.state_names, 'Q'));
   x = datenum (2001, 1, 1) + r.times;

@@ -7,7 +7,7 @@
 function [y, n] = good (x, varargin)
   % each line below is valid in both Octave and MATLAB
   if (nargin < 1)
-    sluice.kernel.compat ('usage', mfilename ());
+    sluice.internal.compat ('usage', mfilename ());
   end
   if (~isempty (x) && x(1) ~= 1)
     y = x';

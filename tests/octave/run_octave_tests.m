@@ -6,10 +6,10 @@ function run_octave_tests (root)
   for k = 1:numel (d)
     files{end+1} = fullfile (root, 'm', '+sluice', d(k).name);
   end
-  % the internal helpers of +kernel that carry tests (sluice.kernel.compat)
-  d = dir (fullfile (root, 'm', '+sluice', '+kernel', '*.m'));
+  % the internal helpers of +internal that carry tests (sluice.internal.compat)
+  d = dir (fullfile (root, 'm', '+sluice', '+internal', '*.m'));
   for k = 1:numel (d)
-    f = fullfile (root, 'm', '+sluice', '+kernel', d(k).name);
+    f = fullfile (root, 'm', '+sluice', '+internal', d(k).name);
     if (~isempty (strfind (fileread (f), [char(10) '%!'])))
       files{end+1} = f;
     end

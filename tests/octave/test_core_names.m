@@ -90,20 +90,20 @@
 %!     s = sluice.model (@(t, X, P, U) -X, 'n', 1, 'kind', 'rhs', 'integrator', in);
 %!   end
 %!   assert (s.integrator, in);
-%!   sluice.kernel.check_model (s, 1, 'filter');
+%!   sluice.internal.check_model (s, 1, 'filter');
 %! end
 
 % the messages built from the lists, word for word
 %!error <integrator must be 'euler', 'rk4', 'dopri5' or 'discrete'> sluice.model ('lorenz63', 'integrator', 'rk5')
 %!error <field 'integrator' must be one of euler, rk4, dopri5, discrete>
 %! s = sluice.model ('lorenz63'); s.integrator = 'rk5';
-%! sluice.kernel.check_model (s, 1, 'filter');
+%! sluice.internal.check_model (s, 1, 'filter');
 %!error <unknown resampling scheme 'fair'; expected systematic, stratified, residual or multinomial> sluice.resample ([0.5 0.5], 'fair')
 %!error <expected one of uniform, normal, lognormal, truncnormal, fixed, got 'gamma'> sluice.prior ('a', 'gamma', [1 2])
 %!error <a truncnormal prior takes a real double vector \[mean sd lo hi\]> sluice.prior ('a', 'truncnormal', [0 1])
 %!error <unknown distribution; expected one of uniform, normal, lognormal, truncnormal, fixed>
 %! pr = sluice.prior ('a', 'normal', [0 1]); pr.dist = 'gamma';
-%! sluice.kernel.check_prior (pr, 1, 'draw');
+%! sluice.internal.check_prior (pr, 1, 'draw');
 %!error <the methods are pf, wenkf, enkf, etkf, ensrf, eakf, letkf>
 %! sluice.filter (sluice.model ('linear', 'A', 1), [], struct ('time', 1, 'variable', {{'x1'}}, 'value', 1, 'sigma', 1), 'method', 'kf');
 %!error <param_move must be one of 'auto', 'kernel', 'fixed', 'random_walk', 'liu_west', 'resample_move', 'smc2'>

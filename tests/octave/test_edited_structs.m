@@ -1,6 +1,6 @@
 % Hand-edited model specs, priors, results and sweep tables are refused on
 % entry with sluice:<fn>:badmodel, :badprior, :badresult or :badsweep and
-% a message naming the field (sluice.kernel.check_model, check_prior,
+% a message naming the field (sluice.internal.check_model, check_prior,
 % check_result, check_sweep).
 
 %!shared lin, flood, obs, pr, res, tw, net, truth
@@ -105,7 +105,7 @@
 %!error id=sluice:report:badsweep sluice.report (struct ('a', @sin, 'seed', 1, 'v', 1), 'outdir', tempname ())
 
 %!test
-%! % the opening check of a filter result (sluice.kernel.result_fields):
+%! % the opening check of a filter result (sluice.internal.result_fields):
 %! % not a scalar struct, or a field missing, named with where it was found
 %! msgs = cell (1, 3);
 %! calls = {@() sluice.smooth ([res, res]), @() sluice.smooth (rmfield (res, 'ess')), ...

@@ -227,7 +227,7 @@
 %!     assert (~isempty (strfind (err.message, ['are kept in ' file])), '%s', err.message);
 %!   end
 %!   assert (isempty (child_processes ()), 'left behind: %s', strjoin (child_processes (), '; '));
-%!   kept = sluice.kernel.compat ('load_binary', file);
+%!   kept = sluice.internal.compat ('load_binary', file);
 %!   assert (~any (strcmp (kept.sweep_done.key, 'a=n:3;')));
 %!   [t, info] = sluice.sweep (fun, g, 'workers', 1, 'file', file);
 %!   assert (info.nreused, numel (kept.sweep_done.key));
@@ -303,12 +303,12 @@
 %! end
 %! parent = getpid ();
 %! try
-%!   sluice.kernel.compat ('parallel_map', 2, @(a) doomed_step (0, 1, a, [], 1, parent), {1, 3});
+%!   sluice.internal.compat ('parallel_map', 2, @(a) doomed_step (0, 1, a, [], 1, parent), {1, 3});
 %!   error ('the map should have failed');
 %! catch err
 %!   assert (err.identifier, 'sluice:compat:workerfailed');
 %! end
-%! [out, failure] = sluice.kernel.compat ('parallel_map', 2, @(a) doomed_step (0, 1, a, [], 1, parent), {1, 3});
+%! [out, failure] = sluice.internal.compat ('parallel_map', 2, @(a) doomed_step (0, 1, a, [], 1, parent), {1, 3});
 %! assert (isempty (out));
 %! assert (failure.index, 2);
 %! assert (failure.died);
@@ -316,6 +316,6 @@
 %! assert (isempty (child_processes ()), 'left behind: %s', strjoin (child_processes (), '; '));
 %! % a map that goes well keeps its workers for the next call (the
 %! % parallel package's own habit)
-%! [out, failure] = sluice.kernel.compat ('parallel_map', 2, @(a) doomed_step (0, 1, a, [], 1, parent), {1, 2});
+%! [out, failure] = sluice.internal.compat ('parallel_map', 2, @(a) doomed_step (0, 1, a, [], 1, parent), {1, 2});
 %! assert (out, {1, 1.1}, 1e-15);
 %! assert (isempty (failure));

@@ -1,9 +1,9 @@
-% The in-file tests of sluice.kernel.help_cache (the runner only visits
+% The in-file tests of sluice.internal.help_cache (the runner only visits
 % m/+sluice/*.m and tests/octave/test_*.m): lookfor finds the pack's
 % functions through the doc-cache it writes.
 
 %!test
-%! [n, nmax] = test (which ('sluice.kernel.help_cache'), 'quiet', stdout);
+%! [n, nmax] = test (which ('sluice.internal.help_cache'), 'quiet', stdout);
 %! assert (nmax >= 6);
 %! assert (n, nmax);
 

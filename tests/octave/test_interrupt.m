@@ -77,7 +77,7 @@
 
 %!test
 %! % a model written as an Octave function: the Ctrl-C arrives while the
-%! % function runs (it pauses), and sluice.kernel.interruptible turns it
+%! % function runs (it pauses), and sluice.internal.interruptible turns it
 %! % into the run's error
 %! body = [' f = @(t, X, P, U, dt) 0.9 * X + 0 * mark_once (X, marker, 0.02);\n', ...
 %!         ' spec = sluice.model (f, ''states'', {''x''});\n', ...

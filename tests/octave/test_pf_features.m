@@ -222,8 +222,8 @@
 %! assert (isempty (strfind (txt, '% done')));
 %!test
 %! % the progress helper itself prints nothing unless asked
-%! assert (evalc ('sluice.kernel.progress (0.5, 3, 0)'), '');
-%! assert (~isempty (strfind (evalc ('sluice.kernel.progress (0.5, 3, 1)'), ' 50% done')));
+%! assert (evalc ('sluice.internal.progress (0.5, 3, 0)'), '');
+%! assert (~isempty (strfind (evalc ('sluice.internal.progress (0.5, 3, 1)'), ' 50% done')));
 
 %!test
 %! % ranges (1:5) are arrays like any other for every gateway

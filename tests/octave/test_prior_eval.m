@@ -10,7 +10,7 @@
 %!shared q, ids, a, b, lo, hi
 %! q = sluice.prior ('n', 'normal', [-1.37 2.385], 'l', 'lognormal', [0.3 0.7], ...
 %!                   'u', 'uniform', [0.5 4], 't', 'truncnormal', [0.2 0.9 -1 0.95]);
-%! [ids, a, b, lo, hi] = sluice.kernel.check_prior (q, 1, 'x');
+%! [ids, a, b, lo, hi] = sluice.internal.check_prior (q, 1, 'x');
 
 %!test
 %! pkg load statistics

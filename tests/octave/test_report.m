@@ -341,7 +341,7 @@
 %! % the palette in grey: luma Y' = 0.299 R' + 0.587 G' + 0.114 B' on the
 %! % gamma-encoded values (ITU-R BT.601); every role has a grey of its own,
 %! % at least 0.1 from the next, the bands light and the lines dark
-%! P = sluice.kernel.report_palette ();
+%! P = sluice.internal.report_palette ();
 %! assert (size (P.rgb), [numel(P.names), 3]);
 %! assert (all (P.rgb(:) >= 0 & P.rgb(:) <= 1));
 %! Y = P.rgb * [0.299; 0.587; 0.114];
@@ -353,8 +353,8 @@
 %! assert (abs (grey ('truth') - grey ('line')) >= 0.25);
 %! assert (grey ('inner') - grey ('truth') >= 0.25);
 %! % one entry by name, and an unknown name falls back to the marks' colour
-%! assert (sluice.kernel.report_palette ('truth'), P.rgb(strcmp (P.names, 'truth'), :));
-%! assert (sluice.kernel.report_palette ('other'), sluice.kernel.report_palette ('mark'));
+%! assert (sluice.internal.report_palette ('truth'), P.rgb(strcmp (P.names, 'truth'), :));
+%! assert (sluice.internal.report_palette ('other'), sluice.internal.report_palette ('mark'));
 
 %!test
 %! % colour-vision deficiencies: the full-severity (1.0) simulation
@@ -371,7 +371,7 @@
 %! for v = 2:4
 %!   assert (sum (sim{v}, 2), ones (3, 1), 1e-5);
 %! end
-%! P = sluice.kernel.report_palette ();
+%! P = sluice.internal.report_palette ();
 %! K = size (P.rgb, 1);
 %! for v = 1:4
 %!   lab = linear_to_lab (srgb_to_linear (P.rgb) * sim{v}');

@@ -209,7 +209,7 @@
 %! pkg load statistics
 %! q = sluice.prior ('a', 'normal', [-1.37 2.385], 'b', 'lognormal', [0.3 0.7], ...
 %!                   'c', 'uniform', [0.5 4]);
-%! [ids, a, b, lo, hi] = sluice.kernel.check_prior (q, 1, 'report');
+%! [ids, a, b, lo, hi] = sluice.internal.check_prior (q, 1, 'report');
 %! x = [-3.1 0.2 1.9 5.5; 0.4 1.3 2.2 -1; 0.6 0.5 3.99 4.2];
 %! L = sluice.kernel.prior_eval ('logpdf', ids, a, b, lo, hi, x);
 %! assert (L(1, :), log (normpdf (x(1, :), -1.37, 2.385)), -1e-13);
@@ -252,7 +252,7 @@
 %!error id=sluice:report:badoutdir sluice.report (r0, 'outdir', 7)
 
 %!test
-%! % the opening check of a sluice.pmmh result (sluice.kernel.result_fields)
+%! % the opening check of a sluice.pmmh result (sluice.internal.result_fields)
 %! try
 %!   sluice.report (rmfield (r0, 'thin'), 'outdir', tempname ());
 %!   msg = 'no error';

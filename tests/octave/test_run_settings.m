@@ -1,5 +1,5 @@
 % A run's settings take one path (DEVELOPERS.md, "A run's settings"): the
-% builder sluice.kernel.model_config sets the caller's name and every
+% builder sluice.internal.model_config sets the caller's name and every
 % default, the gateway sluice.kernel.pf_run decodes them section by
 % section and raises its errors as sluice:<caller>:<reason> itself, so a
 % workflow's errors carry its own identifier without being rewritten.
@@ -9,7 +9,7 @@
 %!function c = settings (model, fn, N)
 %!  % the builder's settings completed with a run's data only: two cycle
 %!  % times, no observations, the model's defaults as parameters
-%!  c = sluice.kernel.model_config (model, [], [], [], [], fn);
+%!  c = sluice.internal.model_config (model, [], [], [], [], fn);
 %!  p = numel (model.params);
 %!  c.members = N;
 %!  c.t0 = 0;
@@ -134,7 +134,7 @@
 
 %!test
 %! % one table of defaults: sluice.filter's options start from it
-%! d = sluice.kernel.run_defaults ();
+%! d = sluice.internal.run_defaults ();
 %! r = sluice.filter (good, [], obs, 'members', 5, 't0', 0, 'progress', false, 'seed', 1);
 %! for f = {'param_step', 'kernel_scale', 'move_sweeps', 'temper_max_steps', ...
 %!          'liu_west_delta', 'resample', 'resample_threshold', 'inflation_max'}

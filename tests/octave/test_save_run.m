@@ -64,7 +64,7 @@
 %!endfunction
 
 %!shared spec, pr, obs, pf, ops
-%! sluice.kernel.compat ('netcdf', 'save_run');   % loads the netcdf package
+%! sluice.internal.compat ('netcdf', 'save_run');   % loads the netcdf package
 %! % x(t + 1) = a x(t) with an estimated a; a derived quantity 'twice'
 %! % observed through a function handle (which NetCDF keeps as text)
 %! spec = sluice.model (@(t, X, P, U, dt) P(1, :) .* X, 'states', {'x'}, 'params', {'a'});
@@ -85,7 +85,7 @@
 %!   back = sluice.load_run (f);
 %!   assert (back.saved.format, 'netcdf');
 %!   assert (back.saved.file, f);
-%!   assert (back.saved.sluice_version, sluice.kernel.version ());
+%!   assert (back.saved.sluice_version, sluice.internal.version ());
 %!   % the handle comes back as its text, and the result says so
 %!   assert (back.saved.rerunnable, false);
 %!   assert (~isempty (strfind (back.saved.note, 'options.operators.fun')));
@@ -94,7 +94,7 @@
 %!   want.options.operators.fun = func2str (pf.options.operators.fun);
 %!   same (rmfield (back, 'saved'), want, 'res');
 %!   % what the consumers of results take
-%!   sluice.kernel.check_result (back, 1, 'x', {'params'});
+%!   sluice.internal.check_result (back, 1, 'x', {'params'});
 %!   files = sluice.report (back, 'outdir', fullfile (d, 'report'), 'obs', obs);
 %!   assert (numel (files) >= 4);
 %!   assert (exist (fullfile (d, 'report', 'fan_x.png'), 'file') > 0);
@@ -113,7 +113,7 @@
 %!   info = ncinfo (f);
 %!   assert (attr (info, 'Conventions'), 'CF-1.8');
 %!   assert (attr (info, 'title'), 'Vell at the mill');
-%!   assert (attr (info, 'source'), ['sluice ' sluice.kernel.version()]);
+%!   assert (attr (info, 'source'), ['sluice ' sluice.internal.version()]);
 %!   assert (~isempty (regexp (attr (info, 'history'), ...
 %!                             '^\d{4}-\d\d-\d\dT\d\d:\d\d:\d\dZ written by sluice.save_run$', 'once')));
 %!   assert (attr (info, 'model'), pf.model);
@@ -425,7 +425,7 @@
 %!   assert (back.ess, pf.ess);
 %! unwind_protect_cleanup
 %!   rmpath (fake);
-%!   sluice.kernel.compat ('netcdf', 'save_run');
+%!   sluice.internal.compat ('netcdf', 'save_run');
 %!   drop (d);
 %! end_unwind_protect
 

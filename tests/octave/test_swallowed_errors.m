@@ -34,12 +34,12 @@
 
 %!test
 %! s = sluice.model ('lorenz63', 'dt', 0.001);
-%! check_raised ('+sluice/+kernel/run_engine', ...
+%! check_raised ('+sluice/+internal/run_engine', ...
 %!               @() sluice.simulate (s, [1; 1; 1], [], 0:0.5:1), 'sluice:simulate:failed');
 
 %!test
 %! s = sluice.model ('lorenz63', 'dt', 0.001);
-%! check_raised ('+sluice/+kernel/run_engine', ...
+%! check_raised ('+sluice/+internal/run_engine', ...
 %!               @() sluice.propagate (s, ones (3, 5), [], 0, 0.5), 'sluice:propagate:failed');
 
 %!test
@@ -47,7 +47,7 @@
 %! pr = sluice.prior ('x1', 'normal', [0 2]);
 %! truth = struct ('times', 0:5, 'x0', 2);
 %! net = struct ('variable', 'x1', 'every', 1, 'sigma', 0.3);
-%! check_raised ('+sluice/+kernel/run_engine', ...
+%! check_raised ('+sluice/+internal/run_engine', ...
 %!               @() sluice.twin (spec, truth, net, 'seed', 5, 'prior', pr, ...
 %!                                'filter', {'members', 50}), 'sluice:twin:failed');
 

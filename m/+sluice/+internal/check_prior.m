@@ -1,0 +1,142 @@
+function [ids, a, b, lo, hi, names] = check_prior (prior, pos, fn)
+  % Internal: argument pos of sluice.<fn> must be a prior, a struct array
+  % as sluice.prior makes it (entries joined with [p1, p2] allowed). A
+  % prior is a plain struct a user may edit: every field is checked here
+  % and a bad one raises sluice:<fn>:badprior naming the entry and field.
+  % Returns what the draws need: the distributions' ids (0-based, in the
+  % order uniform, normal, lognormal, truncnormal, fixed), their first
+  % two arguments a, b, truncation bounds lo, hi (1 x p each) and the
+  % names (p x 1).
+  % the core's distributions (sluice.kernel.core_names), asked once: this
+  % check runs on every filter call
+  persistent core
+  if (isempty (core))
+    core = sluice.kernel.core_names ();
+  end
+  dists = core.distributions;
+  counts = core.distribution_args;
+  fields = {'name', 'dist', 'args', 'lower', 'upper'};
+  id = ['sluice:' fn ':badprior'];
+  if (ischar (pos))
+    where = pos;   % an option, named as the caller says
+  else
+    where = sprintf ('argument %d (prior)', pos);
+  end
+
+  if (~isstruct (prior) || isempty (prior) || ~isvector (prior))
+    error (id, '%s: expected a non-empty struct array from sluice.prior, got %s', ...
+           where, sluice.internal.describe (prior));
+  end
+  for f = 1:numel (fields)
+    if (~isfield (prior, fields{f}))
+      error (id, '%s: the struct array has no field ''%s''', where, fields{f});
+    end
+  end
+  p = numel (prior);
+  ids = zeros (1, p);
+  a = zeros (1, p);
+  b = zeros (1, p);
+  lo = -Inf (1, p);
+  hi = Inf (1, p);
+  names = cell (p, 1);
+  for k = 1:p
+    name = prior(k).name;
+    if (~(ischar (name) && isrow (name) && isvarname (name)))
+      error (id, '%s: entry %d: the name is not a valid variable name', where, k);
+    end
+    if (any (strcmp (name, names(1:k-1))))
+      error (id, '%s: entry %d: parameter ''%s'' is named twice', where, k, name);
+    end
+    names{k} = name;
+    dist = prior(k).dist;
+    d = [];
+    if (ischar (dist) && isrow (dist))
+      d = find (strcmp (dist, dists));
+    end
+    if (isempty (d))
+      error (id, '%s: entry %d (''%s''): unknown distribution; expected one of %s', ...
+             where, k, name, strjoin (dists, ', '));
+    end
+    args = prior(k).args;
+    if (~(isa (args, 'double') && isreal (args) && ~issparse (args) ...
+          && isvector (args) && numel (args) == counts(d)))
+      error (id, '%s: entry %d (''%s''): a %s prior takes %d real double arguments, got %s', ...
+             where, k, name, dist, counts(d), sluice.internal.describe (args));
+    end
+    check_args (dist, args, where, k, name, id);
+    ids(k) = d - 1;
+    a(k) = args(1);
+    if (counts(d) >= 2)
+      b(k) = args(2);
+    end
+    if (counts(d) == 4)
+      lo(k) = args(3);
+      hi(k) = args(4);
+    end
+    check_bounds (prior(k), k, name, dist, args, where, id);
+  end
+end
+
+function check_args (dist, args, where, k, name, id)
+  % the values sluice.prior accepts for each distribution
+  head = sprintf ('%s: entry %d (''%s''): %s arguments', where, k, name, dist);
+  if (strcmp (dist, 'truncnormal'))
+    if (~all (isfinite (args(1:2))) || any (isnan (args(3:4))))
+      error (id, '%s must be a finite mean and sd and bounds without NaN, got %s', ...
+             head, mat2str (args));
+    end
+  elseif (~all (isfinite (args)))
+    error (id, '%s must be finite, got %s', head, mat2str (args));
+  end
+  switch (dist)
+    case 'uniform'
+      ok = args(1) < args(2);
+      expected = 'lo < hi';
+    case {'normal', 'lognormal'}
+      ok = args(2) > 0;
+      expected = 'a standard deviation > 0';
+    case 'truncnormal'
+      ok = args(2) > 0 && args(3) < args(4);
+      expected = 'a standard deviation > 0 and lo < hi';
+    otherwise
+      ok = true;
+      expected = '';
+  end
+  if (~ok)
+    error (id, '%s: expected %s, got %s', head, expected, mat2str (args));
+  end
+end
+
+function check_bounds (pr, k, name, dist, args, where, id)
+  % The bounds of an entry are what the filters transform with (log,
+  % logit) and clip to; sluice.prior makes them contain the support of
+  % the distribution, so every draw lies inside them. A hand-edited entry
+  % whose bounds cut into the support would get draws outside its bounds:
+  % refuse it rather than draw values the rest of sluice calls impossible.
+  lower = pr.lower;
+  upper = pr.upper;
+  if (~(isa (lower, 'double') && isa (upper, 'double') && isreal (lower) && isreal (upper) ...
+        && isscalar (lower) && isscalar (upper) && ~isnan (lower) && ~isnan (upper) ...
+        && lower <= upper))
+    error (id, '%s: entry %d (''%s''): lower and upper must be real scalars with lower <= upper', ...
+           where, k, name);
+  end
+  switch (dist)
+    case 'uniform'
+      support = args(1:2);
+    case 'normal'
+      support = [-Inf Inf];
+    case 'lognormal'
+      support = [0 Inf];
+    case 'truncnormal'
+      support = args(3:4);
+    otherwise
+      support = [args(1) args(1)];
+  end
+  if (~(lower <= support(1) && upper >= support(2)))
+    error (id, ['%s: entry %d (''%s''): the bounds [%g %g] must contain ', ...
+                'the support [%g %g] of the %s distribution (edit args, or remake the ', ...
+                'entry with sluice.prior and its bounds option)'], ...
+           where, k, name, lower, upper, support(1), support(2), dist);
+  end
+end

@@ -1,0 +1,762 @@
+function res = filter_run (model, prior, obs, args, fn)
+  % Internal: the body of sluice.filter (see its help) for the public
+  % function fn: sluice.filter itself, or a workflow that runs the filter
+  % as its own step (sluice.evidence). Every error is raised as
+  % sluice:<fn>:<reason>, here and, through the settings' caller, in the
+  % compiled run; the warnings keep sluice:filter:<reason>, the filter's
+  % own. args are the options as sluice.filter takes them (a cell of name,
+  % value pairs or of one struct).
+  opts = parse_options (args, fn);
+  sluice.internal.check_model (model, 1, fn);
+  n = numel (model.states);
+  p = numel (model.params);
+  q = numel (model.forcings);
+  N = opts.members;
+  if (isempty (opts.seed))
+    opts.seed = floor (rand () * 2^32);
+  end
+  t0 = opts.t0;
+  if (isempty (t0))
+    t0 = model.t0;
+  end
+
+  check_memory (n, p, q, N, obs_field (obs, 'time'), opts, fn);
+
+  % initial ensemble: prior draws by name
+  [X0, P0, lower, upper, pdist] = initial_ensemble (model, prior, N, opts.seed, fn);
+  check_spread (model, P0, lower, upper, opts, fn);
+
+  % observations and the cycle times
+  ops = sluice.internal.operators (opts.operators, model, fn);
+  tab = sluice.internal.obs_table (obs, [model.states(:); model.params(:); ops.names(:)], ...
+                                  t0, fn, true);
+  times = unique ([tab.time(:); opts.times(:)])';
+  if (isempty (times))
+    error (['sluice:' fn ':noobs'], 'no observation and no output time to run to');
+  end
+  if (times(1) < t0)
+    error (['sluice:' fn ':badtimes'], 'output time %g lies before the start time %g', ...
+           times(1), t0);
+  end
+  T = numel (times);
+  [~, cyc] = ismember (tab.time, times);
+  obs_first = [0, cumsum(accumarray (cyc(:), 1, [T 1]))'];
+
+  c = sluice.internal.model_config (model, opts.forcing, opts.forcing_noise, ...
+                                  opts.events, opts.event_noise, fn, opts.calendar);
+  c.members = N;
+  c.t0 = t0;
+  c.times = times;
+  c.obs_first = obs_first;
+  c.obs_var = tab.var - 1;
+  c.obs_value = tab.value;
+  c.obs_sigma = tab.sigma;
+  c.obs_aux = tab.aux;
+  c.obs_family = tab.family;
+  c.op_H = ops.H;
+  c.op_funs = ops.funs;
+  c.op_rows = ops.rows;
+  c.derived_summary = double (opts.derived_summary && ~isempty (ops.names));
+  c.state_noise = expand (opts.state_noise, n, 'state_noise', fn);
+  if (all (c.state_noise == 0))
+    c.state_noise = [];
+  end
+  c.lower = lower;
+  c.upper = upper;
+  c.param_move = opts.param_move;
+  c.param_step = expand (opts.param_step, p, 'param_step', fn);
+  c.param_step(lower == upper) = 0;
+  c.lw_delta = opts.liu_west_delta;
+  c.kernel_scale = opts.kernel_scale;
+  c.move_diversity = opts.move_diversity;
+  c.move_sweeps = opts.move_sweeps;
+  c.move_scale = opts.move_scale;
+  c.move_paths = opts.move_paths;
+  if (strcmp (opts.param_move, 'smc2'))
+    c.param_move = 'resample_move';
+    c.inner = opts.inner_members;
+  end
+  c.prior_dist = pdist.id;
+  c.prior_a = pdist.a;
+  c.prior_b = pdist.b;
+  c.prior_lo = pdist.lo;
+  c.prior_hi = pdist.hi;
+  c.resample = opts.resample;
+  c.threshold = opts.resample_threshold;
+  c.temper_ess = opts.temper_ess;
+  c.temper_max_steps = opts.temper_max_steps;
+  c.seed = opts.seed;
+  c.threads = opts.threads;
+  c.probs = opts.quantiles;
+  c.history = double (opts.history);
+  c.lag = min (opts.lag, T);
+  c.progress = opts.progress;
+  c.X0 = X0;
+  c.P0 = P0;
+  c.method = opts.method;
+  c.wenkf = double (opts.wenkf);
+  c.inflation = opts.inflation;
+  c.rtpp = opts.rtpp;
+  c.rtps = opts.rtps;
+  c.adaptive_inflation = double (opts.adaptive_inflation);
+  c.inflation_max = opts.inflation_max;
+  c = add_localization (c, opts, model, tab, obs, ops.names, fn);
+  if (~isempty (opts.checkpoint))
+    % the gateway fingerprints every setting; what it cannot see (the
+    % text of a model's or an operator's function and the values it
+    % captured) comes as comparable values
+    c.checkpoint = opts.checkpoint;
+    c.checkpoint_every = opts.checkpoint_every;
+    c.checkpoint_key = {sluice.internal.comparable(model), ...
+                        sluice.internal.comparable(opts.operators)};
+  end
+
+  r = sluice.internal.run_engine (model, c);
+
+  res = struct ();
+  res.method = opts.method;
+  if (opts.wenkf)
+    res.method = 'wenkf';
+  end
+  res.model = model.name;
+  res.members = N;
+  res.seed = opts.seed;
+  res.t0 = t0;
+  res.times = times;
+  if (~isempty (opts.calendar))
+    % the calendar of the time axis: model times as dates
+    res.time_origin = opts.calendar.text;
+    res.time_unit = opts.calendar.unit;
+    res.dates = opts.calendar.datenum + times * opts.calendar.unit_days;
+  end
+  res.state_names = model.states;
+  if (isfield (model, 'internal') && any (model.internal))
+    % states that are the model's own bookkeeping: not drawn by default
+    res.internal_states = logical (model.internal(:)');
+  end
+  res.param_names = model.params;
+  res.quantile_levels = opts.quantiles;
+  res.states = struct ('mean', r.mean(1:n, :), 'quantiles', r.quantiles(1:n, :, :));
+  res.params = struct ('mean', r.mean(n+1:end, :), ...
+                       'quantiles', r.quantiles(n+1:end, :, :), ...
+                       'distinct', r.distinct, 'spread', r.spread);
+  res.forecast = struct ('mean', r.forecast_mean(1:n, :), ...
+                         'params', r.forecast_mean(n+1:end, :));
+  if (c.derived_summary)
+    % the derived quantities of the option operators, summarised as the states
+    res.derived = struct ('names', {ops.names(:)'}, 'mean', r.derived_mean, ...
+                          'quantiles', r.derived_quantiles);
+  end
+  res.ess = r.ess;
+  res.resampled = logical (r.resampled);
+  res.degenerate = logical (r.degenerate);
+  res.log_evidence = r.log_evidence;
+  res.log_evidence_steps = r.logz;
+  res.skipped = r.skipped;
+  res.skipped_total = sum (r.skipped);
+  res.nonfinite = r.nonfinite;
+  res.model_steps = r.steps;
+  if (strcmp (opts.method, 'pf'))
+    res.temper_steps = r.temper_steps;
+    res.loglik_evals = r.loglik_evals;
+    res.param_move = r.param_move;
+    res.move_sweeps = r.move_sweeps;
+    res.move_accept = r.move_accept;
+  end
+  if (strcmp (res.method, 'pf'))
+    res.nanpredicted = r.nanpred;
+  end
+  if (~strcmp (opts.method, 'pf'))
+    res.inflation = r.inflation;
+    res.floored = r.floored;
+  end
+  res.final = struct ('X', r.X, 'P', r.P, 'w', r.w);
+  if (opts.lag > 0)
+    meth = 'enks';
+    if (strcmp (opts.method, 'pf'))
+      meth = 'fixed_lag';
+    end
+    res.smoothed = struct ('method', meth, 'lag', opts.lag, ...
+                           'states', struct ('mean', r.smooth_mean(1:n, :), ...
+                                             'quantiles', r.smooth_quantiles(1:n, :, :)), ...
+                           'params', struct ('mean', r.smooth_mean(n+1:end, :), ...
+                                             'quantiles', r.smooth_quantiles(n+1:end, :, :)));
+  end
+  if (opts.history)
+    res.history = struct ('X', r.history_X, 'P', r.history_P, ...
+                          'w', r.history_w, 'ancestors', r.history_ancestors);
+  end
+  res.options = opts;
+  if (any (res.degenerate))
+    k = find (res.degenerate, 1);
+    warning ('sluice:filter:degenerate', ...
+             ['no member could explain the observations at %d cycle(s), ', ...
+              'first at t = %g: the weights were kept there and the log-evidence is -Inf'], ...
+             sum (res.degenerate), times(k));
+  end
+  if (any (res.nonfinite > 0))
+    k = find (res.nonfinite > 0, 1);
+    warning ('sluice:filter:nonfinite', ...
+             ['%d member(s) reached a non-finite state (first at t = %g); ', ...
+              'they were given zero weight'], max (res.nonfinite), times(k));
+  end
+  if (isfield (res, 'nanpredicted') && any (res.nanpredicted > 0))
+    k = find (res.nanpredicted > 0, 1);
+    warning ('sluice:filter:nanprediction', ...
+             ['%d member(s) with a finite state got a NaN predicted observation ', ...
+              '(an operator''s value) at %d cycle(s), first at t = %g; they were ', ...
+              'given zero weight: check the operator for states outside its domain'], ...
+             max (res.nanpredicted), sum (res.nanpredicted > 0), times(k));
+  end
+  % the general caveat first, the specific diagnostics after it
+  % the default move on noisy paths is the kernel move, whose parameter
+  % bands are approximate: say so once, with the way to exact ones
+  est = lower < upper & any (P0 ~= P0(:, 1), 2);
+  if (strcmp (opts.param_move, 'auto') && isfield (res, 'param_move') && ...
+      strcmp (res.param_move, 'kernel') && any (est) && ~isempty (cyc))
+    warning ('sluice:filter:approxparams', ...
+             ['the paths hold noise (forcing, state or model noise), so the default ', ...
+              'kernel move estimated the parameters (%s): their bands are approximate ', ...
+              '(too narrow, or off, on long precise records). For better bands use ', ...
+              'param_move ''resample_move'' (slower), for exact ones ''smc2'' (slowest), ', ...
+              'or check against sluice.pmmh'], ...
+             strjoin (res.param_names(est), ', '));
+  end
+  warn_diversity (res, P0, lower, upper, tab, cyc);
+end
+
+function check_spread (model, P0, lower, upper, opts, fn)
+  % an estimated parameter (its bounds let it move) whose prior gives
+  % every member the same value cannot be moved by a move that takes its
+  % size from the ensemble's spread
+  if (~any (strcmp (opts.param_move, {'auto', 'kernel', 'liu_west', 'resample_move'})) || ...
+      (~strcmp (opts.param_move, 'liu_west') && ~strcmp (opts.method, 'pf')))
+    return;
+  end
+  for i = 1:size (P0, 1)
+    if (lower(i) < upper(i) && all (P0(i, :) == P0(i, 1)))
+      error (['sluice:' fn ':nospread'], ...
+             ['parameter ''%s'' may move within [%g, %g] but its prior gives every member ', ...
+              'the value %g: the %s move takes its size from the ensemble''s spread and ', ...
+              'would never move it; give it a prior with spread, bounds [%g %g] to keep it ', ...
+              'fixed, or param_move ''random_walk'''], model.params{i}, lower(i), upper(i), ...
+             P0(i, 1), opts.param_move, P0(i, 1), P0(i, 1));
+    end
+  end
+end
+
+function warn_diversity (res, P0, lower, upper, tab, cyc)
+  % warnings about the parameter ensemble and the weights; thresholds in
+  % sluice.internal.diversity_limits
+  L = sluice.internal.diversity_limits ();
+  N = res.members;
+  names = res.param_names;
+  for i = 1:size (P0, 1)
+    if (~(lower(i) < upper(i)) || all (P0(i, :) == P0(i, 1)) || isempty (res.params.distinct))
+      continue;   % not estimated
+    end
+    dv = res.params.distinct(i, end);
+    sp = res.params.spread(i, :);
+    if (dv < max (L.collapse_min, L.collapse_fraction * N) || ...
+        sp(end) < L.collapse_spread * max (sp))
+      warning ('sluice:filter:paramcollapse', ...
+               ['parameter ''%s'' has collapsed: %d distinct value(s) among %d members at the ', ...
+                'end (spread %.3g of its largest); its band is too narrow to trust. ', ...
+                'Use param_move ''auto'' (the default), ''kernel'' or ''resample_move'', or more members'], ...
+               names{i}, dv, N, sp(end) / max (max (sp), realmin));
+    end
+    w = res.final.w(:)';
+    x = res.final.P(i, :);
+    pq = sort (P0(i, :));
+    bounds = [lower(i), upper(i)];
+    tails = [pq(max (1, floor (L.bound_tail * N))), pq(min (N, ceil ((1 - L.bound_tail) * N)))];
+    mass = [sum(w(x <= tails(1))), sum(w(x >= tails(2)))];
+    side = {'lower', 'upper'};
+    for b = 1:2
+      if (isfinite (bounds(b)) && mass(b) >= L.bound_mass)
+        warning ('sluice:filter:atbound', ...
+                 ['parameter ''%s'': %.0f%% of the posterior weight lies in the prior''s ', ...
+                  'outermost %g%% next to its %s bound %g; the prior may be cutting off ', ...
+                  'the values the data support'], names{i}, 100 * mass(b), ...
+                 100 * L.bound_tail, side{b}, bounds(b));
+      end
+    end
+  end
+  if (any (strcmp (res.method, {'pf', 'wenkf'})) && ~isempty (cyc))
+    hasobs = false (1, numel (res.times));
+    hasobs(unique (cyc(~isnan (tab.value)))) = true;
+    low = (res.ess < L.lowess_ess) & hasobs;
+    run = 0;
+    longest = 0;
+    for k = 1:numel (low)
+      if (low(k))
+        run = run + 1;
+        longest = max (longest, run);
+      elseif (hasobs(k))
+        run = 0;
+      end
+    end
+    if (longest >= L.lowess_cycles)
+      warning ('sluice:filter:lowess', ...
+               ['the ESS stayed below %g for %d consecutive cycles with observations ', ...
+                '(%d cycles in all): one member carried the weight; the likelihood is ', ...
+                'sharp for %d members (more members, or check the observation errors)'], ...
+               L.lowess_ess, longest, sum (low), N);
+    end
+  end
+end
+
+function opts = parse_options (args, fn)
+  opts = sluice.internal.run_defaults ();
+  opts = sluice.internal.name_value (opts, args, fn);
+  opts.calendar = [];
+  if (~(isempty (opts.origin) && isnumeric (opts.origin)))
+    opts.calendar = sluice.internal.time_origin (opts.origin, opts.time_unit, fn);
+  else
+    sluice.internal.time_unit (opts.time_unit, fn, 'time_unit');
+  end
+  core = core_lists ();
+  methods = core.analyses;
+  if (~ischar (opts.method) || ~any (strcmp (opts.method, methods)))
+    error (['sluice:' fn ':badmethod'], 'unknown method; the methods are %s', ...
+           strjoin (methods, ', '));
+  end
+  % the weighted ensemble Kalman filter is a particle filter with another
+  % proposal: the particle filter's path with a flag
+  opts.wenkf = strcmp (opts.method, 'wenkf');
+  if (opts.wenkf)
+    opts.method = 'pf';
+  end
+  opts.inflation = real_scalar (opts.inflation, 'inflation', fn);
+  if (opts.inflation < 1)
+    error (['sluice:' fn ':badoption'], 'inflation must be >= 1');
+  end
+  for f = {'rtpp', 'rtps'}
+    v = real_scalar (opts.(f{1}), f{1}, fn);
+    if (v < 0 || v > 1)
+      error (['sluice:' fn ':badoption'], '%s must lie in [0, 1]', f{1});
+    end
+  end
+  opts.inflation_max = real_scalar (opts.inflation_max, 'inflation_max', fn);
+  if (opts.inflation_max < 1)
+    error (['sluice:' fn ':badoption'], 'inflation_max must be >= 1');
+  end
+  if (~(islogical (opts.adaptive_inflation) || isnumeric (opts.adaptive_inflation)) || ...
+      ~isscalar (opts.adaptive_inflation))
+    error (['sluice:' fn ':badoption'], 'adaptive_inflation must be true or false');
+  end
+  opts.adaptive_inflation = logical (opts.adaptive_inflation);
+
+  opts.members = whole (opts.members, 'members', 1, 2^31, fn);
+  if (~isempty (opts.seed))
+    opts.seed = whole (opts.seed, 'seed', 0, 2^53, fn);
+  end
+  if (~isempty (opts.t0))
+    opts.t0 = real_scalar (opts.t0, 't0', fn);
+  end
+  opts.times = real_vector (opts.times, 'times', true, fn);
+  opts.state_noise = real_vector (opts.state_noise, 'state_noise', false, fn);
+  if (any (opts.state_noise < 0))
+    error (['sluice:' fn ':badoption'], 'state_noise must be >= 0');
+  end
+  moves = [{'auto'}, core.moves, {'smc2'}];
+  if (~ischar (opts.param_move) || ~any (strcmp (opts.param_move, moves)))
+    error (['sluice:' fn ':badoption'], 'param_move must be one of ''%s''', ...
+           strjoin (moves, ''', '''));
+  end
+  ks = real_scalar (opts.kernel_scale, 'kernel_scale', fn);
+  if (~(ks > 0))
+    error (['sluice:' fn ':badoption'], ...
+           'kernel_scale (a factor on the kernel bandwidth) must be > 0, got %g', ks);
+  end
+  te = opts.temper_ess;
+  if (ischar (te) && strcmp (te, 'off'))
+    opts.temper_ess = 0;
+  else
+    te = real_scalar (te, 'temper_ess', fn);
+    if (~(te >= 0 && te <= 1))
+      error (['sluice:' fn ':badoption'], ...
+             'temper_ess (a fraction of the members) must lie in (0, 1], or 0 or ''off'', got %g', te);
+    end
+    opts.temper_ess = te;
+  end
+  opts.temper_max_steps = whole (opts.temper_max_steps, 'temper_max_steps', 1, 10000, fn);
+  md = real_scalar (opts.move_diversity, 'move_diversity', fn);
+  if (~(md > 0 && md <= 1))
+    error (['sluice:' fn ':badoption'], ...
+           'move_diversity (a fraction of the members) must lie in (0, 1], got %g', md);
+  end
+  opts.move_sweeps = whole (opts.move_sweeps, 'move_sweeps', 1, 1000, fn);
+  mp = real_scalar (opts.move_paths, 'move_paths', fn);
+  if (~(mp >= 0 && mp <= 1))
+    error (['sluice:' fn ':badoption'], ...
+           'move_paths (the starting step of the path moves) must lie in [0, 1] (0: off), got %g', mp);
+  end
+  opts.inner_members = whole (opts.inner_members, 'inner_members', 1, 2^31, fn);
+  if (strcmp (opts.param_move, 'smc2'))
+    if (~strcmp (opts.method, 'pf'))
+      error (['sluice:' fn ':badoption'], 'param_move ''smc2'' is a particle method: use method ''pf''');
+    end
+    % members counts the parameter vectors; each runs inner_members states
+    if (opts.members * opts.inner_members > 2^31)
+      error (['sluice:' fn ':badoption'], ...
+             'members x inner_members must be at most 2^31, got %d x %d', ...
+             opts.members, opts.inner_members);
+    end
+    opts.members = opts.members * opts.inner_members;
+  end
+  ms = real_scalar (opts.move_scale, 'move_scale', fn);
+  if (~(ms > 0) || ~isfinite (ms))
+    error (['sluice:' fn ':badoption'], ...
+           'move_scale (a factor on the proposal step) must be finite and > 0, got %g', ms);
+  end
+  opts.param_step = real_vector (opts.param_step, 'param_step', false, fn);
+  if (any (opts.param_step < 0))
+    error (['sluice:' fn ':badoption'], 'param_step must be >= 0');
+  end
+  d = real_scalar (opts.liu_west_delta, 'liu_west_delta', fn);
+  if (~(d > 0 && d <= 1))
+    error (['sluice:' fn ':badoption'], 'liu_west_delta must lie in (0, 1]');
+  end
+  if (~ischar (opts.resample) || ...
+      ~any (strcmp (opts.resample, core.resamplers)))
+    error (['sluice:' fn ':badscheme'], ...
+           'resample must be ''systematic'', ''stratified'', ''residual'' or ''multinomial''');
+  end
+  th = real_scalar (opts.resample_threshold, 'resample_threshold', fn);
+  if (~(th >= 0 && th <= 1))
+    error (['sluice:' fn ':badoption'], 'resample_threshold must lie in [0, 1]');
+  end
+  opts.quantiles = real_vector (opts.quantiles, 'quantiles', true, fn);
+  if (any (opts.quantiles < 0 | opts.quantiles > 1))
+    error (['sluice:' fn ':badoption'], 'quantile levels must lie in [0, 1]');
+  end
+  opts.quantiles = opts.quantiles(:)';
+  if (~(islogical (opts.history) || isnumeric (opts.history)) || ~isscalar (opts.history))
+    error (['sluice:' fn ':badoption'], 'history must be true or false');
+  end
+  opts.history = logical (opts.history);
+  if (~(islogical (opts.derived_summary) || isnumeric (opts.derived_summary)) || ...
+      ~isscalar (opts.derived_summary) || isnan (opts.derived_summary))
+    error (['sluice:' fn ':badoption'], 'derived_summary must be true or false');
+  end
+  opts.derived_summary = logical (opts.derived_summary);
+  lag = opts.lag;
+  if (~isa (lag, 'double') || ~isreal (lag) || ~isscalar (lag) || isnan (lag) || ...
+      lag < 0 || (isfinite (lag) && lag ~= fix (lag)))
+    error (['sluice:' fn ':badoption'], 'lag must be a whole number of cycles >= 0, or Inf');
+  end
+  opts.threads = whole (opts.threads, 'threads', 0, 256, fn);
+  ck = opts.checkpoint;
+  if (~(ischar (ck) && (isempty (ck) || isrow (ck))))
+    error (['sluice:' fn ':badoption'], 'checkpoint must be a file name (text), or '''' for none');
+  end
+  opts.checkpoint_every = whole (opts.checkpoint_every, 'checkpoint_every', 1, 1e15, fn);
+  if (~isempty (ck) && isempty (opts.seed))
+    error (['sluice:' fn ':badoption'], ...
+           'a run with a checkpoint needs a ''seed'': a resumed run must draw the same numbers');
+  end
+  pr = opts.progress;
+  if (ischar (pr) && strcmp (pr, 'auto'))
+    opts.progress = 2;
+  elseif ((islogical (pr) || isnumeric (pr)) && isscalar (pr))
+    opts.progress = double (logical (pr));
+  else
+    error (['sluice:' fn ':badoption'], 'progress must be ''auto'', true or false');
+  end
+end
+
+function v = whole (v, what, lo, hi, fn)
+  if (~isa (v, 'double') || ~isreal (v) || ~isscalar (v) || ~isfinite (v) || ...
+      v ~= fix (v) || v < lo || v > hi)
+    error (['sluice:' fn ':badoption'], '%s must be a whole number from %g to %g', ...
+           what, lo, hi);
+  end
+  v = double (v);
+end
+
+function v = real_scalar (v, what, fn)
+  if (~isa (v, 'double') || ~isreal (v) || ~isscalar (v) || ~isfinite (v))
+    error (['sluice:' fn ':badoption'], '%s must be a finite real scalar', what);
+  end
+  v = double (v);
+end
+
+function v = real_vector (v, what, allow_empty, fn)
+  if (~isa (v, 'double') || ~isreal (v) || issparse (v) || ...
+      (~allow_empty && isempty (v)) || (~isempty (v) && ~isvector (v)) || ...
+      any (~isfinite (v(:))))
+    error (['sluice:' fn ':badoption'], '%s must be a finite real vector', what);
+  end
+  v = double (v(:));
+end
+
+function v = expand (v, n, what, fn)
+  if (n == 0)
+    v = zeros (0, 1);
+  elseif (isscalar (v))
+    v = repmat (v, n, 1);
+  elseif (numel (v) ~= n)
+    error (['sluice:' fn ':badoption'], '%s needs 1 or %d values, got %d', what, n, numel (v));
+  end
+end
+
+function c = add_localization (c, opts, model, tab, obs, derived, fn)
+  % positions of states and observations for the ensemble Kalman methods
+  % (none: the builder's settings stand)
+  L = opts.localization;
+  if (isempty (L))
+    if (strcmp (opts.method, 'letkf'))
+      error (['sluice:' fn ':badlocalization'], ...
+             'the LETKF needs opts.localization (geometry, positions, radius)');
+    end
+    return;
+  end
+  if (strcmp (opts.method, 'pf'))
+    error (['sluice:' fn ':badoption'], 'localization applies to the ensemble Kalman methods');
+  end
+  if (~isstruct (L) || ~isscalar (L) || ~isfield (L, 'radius'))
+    error (['sluice:' fn ':badlocalization'], ...
+           'localization must be a struct with fields geometry, radius and positions');
+  end
+  geom = 'line';
+  if (isfield (L, 'geometry'))
+    geom = L.geometry;
+  end
+  core = core_lists ();
+  if (~ischar (geom) || ~any (strcmp (geom, core.geometries)))
+    error (['sluice:' fn ':badlocalization'], ...
+           'localization.geometry must be %s', quoted_list (core.geometries));
+  end
+  dim = core.geometry_dims(strcmp (geom, core.geometries));
+  n = numel (model.states);
+  p = numel (model.params);
+  if (isfield (L, 'positions'))
+    pos = L.positions;
+  elseif (dim == 1)
+    pos = (1:n)';
+  else
+    error (['sluice:' fn ':badlocalization'], 'localization.positions (n x 2) are needed in 2-D');
+  end
+  if (~isa (pos, 'double') || ~isreal (pos) || ~isequal (size (pos), [n dim]) || ...
+      any (~isfinite (pos(:))))
+    error (['sluice:' fn ':badlocalization'], ...
+           'localization.positions must be %d x %d finite real doubles (one row per state)', n, dim);
+  end
+  c.geometry = geom;
+  if (strcmp (geom, 'ring'))
+    if (~isfield (L, 'period'))
+      error (['sluice:' fn ':badlocalization'], 'a ring needs localization.period');
+    end
+    c.period_or_radius = real_scalar (L.period, 'localization.period', fn);
+  elseif (strcmp (geom, 'sphere'))
+    c.period_or_radius = 6371;
+    if (isfield (L, 'sphere_radius'))
+      c.period_or_radius = real_scalar (L.sphere_radius, 'localization.sphere_radius', fn);
+    end
+  end
+  if (c.period_or_radius < 0 || (any (strcmp (geom, {'ring', 'sphere'})) && c.period_or_radius == 0))
+    error (['sluice:' fn ':badlocalization'], 'the period or sphere radius must be > 0');
+  end
+  % parameters are not localised: they see every observation, damped by
+  % param_factor
+  c.state_pos = [pos; nan(p, dim)];
+  if (isfield (L, 'param_factor'))
+    c.param_factor = real_scalar (L.param_factor, 'localization.param_factor', fn);
+    if (c.param_factor <= 0 || c.param_factor > 1)
+      error (['sluice:' fn ':badlocalization'], 'localization.param_factor must lie in (0, 1]');
+    end
+  end
+  m = numel (tab.time);
+  opos = nan (m, dim);
+  obs_state = tab.var <= n;
+  opos(obs_state, :) = pos(tab.var(obs_state), :);
+  cols = {'x', 'y'};
+  for d = 1:dim
+    if (isfield (obs, cols{d}))
+      v = obs.(cols{d});
+      if (~isa (v, 'double') || ~isreal (v) || numel (v) ~= m || any (isinf (v(:))))
+        error (['sluice:' fn ':badobs'], ...
+               'observation column ''%s'' must give one finite position per row (NaN: the observed state''s)', ...
+               cols{d});
+      end
+      given = ~isnan (v(:));
+      opos(given, d) = v(given);
+    end
+  end
+  bad = find (any (isnan (opos), 2), 1);
+  if (~isempty (bad))
+    error (['sluice:' fn ':badobs'], ...
+           'observation row %d has no position (give column x%s for observations of parameters or derived quantities)', ...
+           bad, repmat (' and y', 1, dim == 2));
+  end
+  r = L.radius;
+  if (isstruct (r))
+    names = [model.states(:); model.params(:); derived(:)];
+    oc = nan (m, 1);
+    f = fieldnames (r);
+    for k = 1:numel (f)
+      v = r.(f{k});
+      if (~any (strcmp (f{k}, names)))
+        error (['sluice:' fn ':badlocalization'], ...
+               'localization.radius.%s: the model has no state, parameter or derived quantity of that name', f{k});
+      end
+      if (~isa (v, 'double') || ~isreal (v) || ~isscalar (v) || ~isfinite (v) || v <= 0)
+        error (['sluice:' fn ':badlocalization'], ...
+               'localization.radius.%s must be one finite real number > 0', f{k});
+      end
+      oc(strcmp (names(tab.var), f{k})) = v;
+    end
+    bad = find (isnan (oc), 1);
+    if (~isempty (bad))
+      error (['sluice:' fn ':badlocalization'], ...
+             'observation row %d (%s): no localisation radius for this variable', bad, names{tab.var(bad)});
+    end
+  else
+    oc = repmat (real_scalar (r, 'localization.radius', fn), m, 1);
+  end
+  if (any (~(oc > 0)))
+    error (['sluice:' fn ':badlocalization'], 'localisation radii must be > 0');
+  end
+  c.obs_pos = opos;
+  c.obs_c = oc;
+end
+
+function v = obs_field (obs, name)
+  v = [];
+  if (isstruct (obs) && isscalar (obs) && isfield (obs, name))
+    v = obs.(name);
+  end
+end
+
+function check_memory (n, p, q, N, obs_time, opts, fn)
+  % refuse a run that cannot fit before anything large is allocated
+  m = numel (obs_time);
+  T = m + numel (opts.times);
+  need = 8 * N * (3 * n + 5 * p + 3 * q + min (m, 1e4) + 8);
+  if (opts.history)
+    need = need + 8 * N * T * (n + p + 2);
+  end
+  nwin = 0;
+  if (opts.lag > 0)
+    % the window, and for the ensemble Kalman methods its augmented copy
+    nwin = min (opts.lag, T);
+    need = need + 8 * N * (n + p) * (nwin + 2) * (1 + ~strcmp (opts.method, 'pf'));
+  end
+  if (~strcmp (opts.method, 'pf') && N >= 2 && m > 0)
+    % the analysis workspace as the core asks for it (N x N matrices for
+    % the LETKF, and for the ETKF only with as many observations in one
+    % cycle as members), for the most rows of one time; it never shrinks
+    % as the rows grow, so all m rows at once bound it cheaply first
+    rows = (n + p) * (nwin + 1);
+    work = sluice.kernel.enkf ('workspace', opts.method, rows, N, m, opts.threads);
+    if (need + work >= 2^30)
+      try
+        [~, ~, k] = unique (obs_time(:));
+        work = sluice.kernel.enkf ('workspace', opts.method, rows, N, ...
+                                   max (accumarray (k(:), 1)), opts.threads);
+      catch
+        % a malformed table: the table check reports it later
+      end
+    end
+    need = need + work;
+  end
+  if (need < 2^30)
+    return;   % small runs: not worth the 3 ms memory () costs per call
+  end
+  sluice.internal.ensure_memory (need, fn, sprintf ('a run of %d members', N));
+end
+
+function [X0, P0, lower, upper, pdist] = initial_ensemble (model, prior, N, seed, fn)
+  n = numel (model.states);
+  p = numel (model.params);
+  % the parameters' priors as the core weighs them (id -1: no prior, the
+  % default holds)
+  pdist = struct ('id', -ones (p, 1), 'a', zeros (p, 1), 'b', zeros (p, 1), ...
+                  'lo', zeros (p, 1), 'hi', zeros (p, 1));
+  try
+    X0 = repmat (model.x0(:), 1, N);
+    P0 = repmat (model.defaults(:), 1, N);
+  catch err
+    error (['sluice:' fn ':nomemory'], 'cannot hold %d members of %d states: %s', ...
+           N, n, err.message);
+  end
+  lower = model.defaults(:);
+  upper = model.defaults(:);
+  if (isempty (prior))
+    prior_names = {};
+  else
+    sluice.internal.check_prior (prior, 2, fn);
+    prior_names = {prior.name};
+  end
+  for k = 1:numel (prior_names)
+    if (~any (strcmp (prior_names{k}, [model.states(:); model.params(:)])))
+      error (['sluice:' fn ':badprior'], ...
+             'the prior names ''%s'', which is neither a state nor a parameter of the model', ...
+             prior_names{k});
+    end
+  end
+  if (~isempty (prior_names))
+    D = sluice.draw (prior, N, seed);
+    for k = 1:numel (prior_names)
+      is = find (strcmp (prior_names{k}, model.states));
+      ip = find (strcmp (prior_names{k}, model.params));
+      if (~isempty (is))
+        X0(is, :) = D(k, :);
+      else
+        P0(ip, :) = D(k, :);
+        lower(ip) = prior(k).lower;
+        upper(ip) = prior(k).upper;
+        pdist = prior_entry (pdist, ip, prior(k));
+        if (lower(ip) < model.lower(ip) || upper(ip) > model.upper(ip))
+          error (['sluice:' fn ':badprior'], ...
+                 ['the prior of ''%s'' allows [%g, %g], outside the parameter''s bounds ', ...
+                  '[%g, %g]: choose a prior within them (lognormal, truncnormal, uniform)'], ...
+                 prior_names{k}, lower(ip), upper(ip), model.lower(ip), model.upper(ip));
+        end
+      end
+    end
+  end
+  missing = find (isnan (P0(:, 1)));
+  if (~isempty (missing))
+    error (['sluice:' fn ':badprior'], ...
+           'parameter ''%s'' has neither a prior nor a default value', ...
+           model.params{missing(1)});
+  end
+end
+
+
+
+function s = quoted_list (names)
+  % 'a', 'b' or 'c'
+  q = strcat ({''''}, names, {''''});
+  if (numel (q) > 1)
+    s = [strjoin(q(1:end-1), ', '), ' or ', q{end}];
+  else
+    s = q{1};
+  end
+end
+
+function c = core_lists ()
+  % the names the core knows (sluice.kernel.core_names), asked once
+  persistent lists
+  if (isempty (lists))
+    lists = sluice.kernel.core_names ();
+  end
+  c = lists;
+end
+
+function pdist = prior_entry (pdist, ip, pr)
+  % distribution ids as sluice.kernel.draw numbers them: the core's
+  core = core_lists ();
+  a = pr.args;
+  pdist.id(ip) = find (strcmp (pr.dist, core.distributions)) - 1;
+  pdist.a(ip) = a(1);
+  if (numel (a) >= 2)
+    pdist.b(ip) = a(2);
+  end
+  if (numel (a) >= 4)
+    pdist.lo(ip) = a(3);
+    pdist.hi(ip) = a(4);
+  end
+end

@@ -1,0 +1,36 @@
+function r = run_engine (model, c)
+  % Internal: run the compiled cycle for the settings c (built by
+  % sluice.internal.model_config): the shared gateway sluice.kernel.pf_run,
+  % or for a user's compiled model the gateway that sluice.build_model
+  % made for it (model.engine). The gateway raises its errors as
+  % sluice:<c.caller>:<reason> itself; here only Octave's prefix of the
+  % gateway's name comes off the message.
+  fn = c.caller;
+  if (strcmp (model.kind, 'user'))
+    if (~isfield (model, 'engine') || exist (model.engine, 'file') ~= 3)
+      error (['sluice:' fn ':badmodel'], ...
+             'the compiled gateway of model ''%s'' is not on the path; run sluice.build_model again', ...
+             model.name);
+    end
+    gateway = model.engine;
+  else
+    gateway = 'sluice.kernel.pf_run';
+  end
+  try
+    if (sluice.internal.compat ('is_octave'))
+      % a Ctrl-C that escapes the gateway is still the run's error
+      r = sluice.internal.interruptible ('-run', gateway, c);
+    else
+      r = feval (gateway, c);
+    end
+  catch err
+    % the gateway's name is an internal detail: drop Octave's prefix
+    msg = regexprep (err.message, '^(pf_run|[A-Za-z]\w*_run): ', '');
+    id = err.identifier;
+    if (strcmp (id, 'sluice:kernel:interrupted'))
+      id = ['sluice:' fn ':interrupted'];
+      msg = 'the run was interrupted (Ctrl-C); no result is returned';
+    end
+    sluice.internal.raise_again (id, ['sluice:' fn ':failed'], msg);
+  end
+end
