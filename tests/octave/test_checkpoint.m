@@ -48,6 +48,32 @@
 %! assert (isequaln (again, ref));
 
 %!test
+%! % an interrupted run with a checkpoint says what it keeps and how to go on
+%! global SLUICE_TRIP_AT SLUICE_TRIP_ID
+%! f = [tempname() '.ckpt'];
+%! op = struct ('names', 'y', 'fun', @checkpoint_trip);
+%! SLUICE_TRIP_AT = 10;
+%! SLUICE_TRIP_ID = 'sluice:filter:interrupted';
+%! unwind_protect
+%!   try
+%!     sluice.filter (m, pr, obs, 'members', 50, 'seed', 3, 't0', 0, 'operators', op, ...
+%!                    'progress', false, 'checkpoint', f, 'checkpoint_every', 4);
+%!     error ('the run should have stopped');
+%!   catch err
+%!     assert (err.identifier, 'sluice:filter:interrupted');
+%!     assert (~isempty (strfind (err.message, ['The checkpoint ' f ...
+%!                                              ' keeps the run up to its last write (every 4 cycles)'])), ...
+%!             '%s', err.message);
+%!     assert (~isempty (strfind (err.message, 'the same call resumes from there')), '%s', err.message);
+%!   end
+%! unwind_protect_cleanup
+%!   clear -global SLUICE_TRIP_AT SLUICE_TRIP_ID
+%!   if (exist (f, 'file'))
+%!     delete (f);
+%!   end
+%! end_unwind_protect
+
+%!test
 %! % resample_move on noisy paths (its stored draws move too), checkpoint every cycle
 %! [ref, got] = stop_and_resume (m, pr, obs, {'members', 100, 'seed', 5, 't0', 0, ...
 %!                     'param_move', 'resample_move', 'state_noise', 0.1}, 9, 1);

@@ -31,6 +31,14 @@ function r = run_engine (model, c)
       id = ['sluice:' fn ':interrupted'];
       msg = 'the run was interrupted (Ctrl-C); no result is returned';
     end
+    if (isfield (c, 'checkpoint') && ~isempty (c.checkpoint) && ...
+        numel (id) > 12 && strcmp (id(end-11:end), ':interrupted') && exist (c.checkpoint, 'file'))
+      % what a checkpointed run keeps, and how to go on
+      msg = sprintf (['%s. The checkpoint %s keeps the run up to its last write ', ...
+                      '(every %d cycles): the same call resumes from there'], ...
+                     regexprep (msg, '[.;]? *no result is returned$', ''), c.checkpoint, ...
+                     c.checkpoint_every);
+    end
     sluice.internal.raise_again (id, ['sluice:' fn ':failed'], msg);
   end
 end
