@@ -240,6 +240,9 @@ sl_status sl_pf_check(const sl_pf_config *cfg, sl_error *err)
                        (unsigned long)SL_RESAMPLE_MAX, (unsigned long)cfg->N);
     if (n < 1)
         return sl_fail(err, SL_EINVAL, "badconfig", "the model has no states");
+    if (!(md->dt > 0) || !isfinite(md->dt))
+        return sl_fail(err, SL_EINVAL, "badstep",
+                       "the model's time step must be finite and > 0, got %g", md->dt);
     if (cfg->threads < 1 || cfg->threads > MAX_THREADS)
         return sl_fail(err, SL_EINVAL, "badconfig",
                        "threads must be 1 to %d, got %d", MAX_THREADS,
@@ -350,6 +353,13 @@ sl_status sl_pf_check(const sl_pf_config *cfg, sl_error *err)
                                (unsigned long)(k + 1));
     if (p > 0 && cfg->ptrans == NULL)
         return sl_fail(err, SL_EINVAL, "badconfig", "parameter transforms missing");
+    if (cfg->prior != NULL)
+        for (k = 0; k < p; k++)
+            if (sl_dist_get(cfg->prior[k].dist) == NULL)
+                return sl_fail(err, SL_EINVAL, "badprior",
+                               "parameter %lu: unknown prior distribution id %d "
+                               "(expected 0 to %d)",
+                               (unsigned long)(k + 1), cfg->prior[k].dist, SL_DIST_COUNT - 1);
     if (cfg->param_move != NULL) {
         sl_status st = cfg->param_move->check(&cfg->move, p, err);
         if (st != SL_OK)
