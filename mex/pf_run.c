@@ -6,6 +6,7 @@
  * Each section of the settings has its own decoder, which checks class
  * and size and points the core's configuration at the data; the core
  * checks the values (sl_pf_check). mexFunction only calls them in order. */
+#include <limits.h>
 #include <math.h>
 #include <string.h>
 
@@ -17,6 +18,10 @@
 #include "sluice/model.h"
 #include "sluice/pf.h"
 #include "sluice/resample.h"
+
+/* The largest index a decoder converts: 2^53, below which every whole
+ * double is exact and fits a size_t. */
+#define INDEX_MAX 9007199254740992.0
 
 /* Everything the decoders fill, on mexFunction's stack for one call (the
  * core's configuration points into it). */
@@ -107,9 +112,7 @@ static void decode_sizes(run_settings *s)
     s->q = (size_t)fwhole(s, "n_forcing", 0, 1e9);
     s->N = (size_t)fwhole(s, "members", 1, (double)SL_RESAMPLE_MAX);
     s->v = s->n + s->p;
-    s->dt = fscalar(s, "dt");
-    if (!(s->dt > 0))
-        slm_fail(s->fn, "badstep", "the model's time step must be > 0, got %g", s->dt);
+    s->dt = fscalar(s, "dt"); /* its value: the model's init and sl_pf_check */
     s->cfg.N = s->N;
     s->cfg.model = &s->model;
 }
@@ -135,8 +138,6 @@ static void decode_tolerance(run_settings *s)
     memset(tol, 0, sizeof *tol);
     tol->rtol = fscalar(s, "rtol");
     tol->atol = fscalar(s, "atol");
-    if (!(tol->rtol >= 0) || !(tol->atol >= 0) || !(tol->rtol + tol->atol > 0))
-        slm_fail(s->fn, "badtolerance", "rtol and atol must be >= 0 and not both zero");
     tol->hmin_rel = 1e-12;
     tol->max_steps = 100000;
 }
@@ -163,9 +164,14 @@ static void decode_handle(run_settings *s)
 {
     const mxArray *fun = field(s, "fun");
     const sl_integrator *method = decode_integrator(s);
+    sl_error err;
+    sl_error_clear(&err);
     if (!mxIsClass(fun, "function_handle"))
         slm_fail(s->fn, "badmodel", "the model function must be a function handle");
     decode_tolerance(s);
+    /* the core's rule for tolerances (a compiled model's init applies it) */
+    if (sl_tolerance_check(&s->tol, &err) != SL_OK)
+        slm_raise(s->fn, &err);
     slm_handle_model_init(&s->model, &s->hm, fun, s->n, s->p, s->q, s->N, s->dt,
                           method, &s->tol);
 }
@@ -272,9 +278,11 @@ static void decode_times(run_settings *s)
     T = s->T = s->cfg.T = fnumel(s, "times");
     ofirst = fmat(s, "obs_first", T + 1, 0, SLM_VECTOR);
     first = (size_t *)slm_alloc(s->fn, T + 1, sizeof(size_t));
+    /* whole numbers a size_t holds; their order is sl_pf_check's */
     for (k = 0; k <= T; k++) {
-        if (ofirst[k] < 0 || ofirst[k] != floor(ofirst[k]) || (k > 0 && ofirst[k] < ofirst[k - 1]))
-            slm_fail(s->fn, "badobs", "obs_first must be non-decreasing whole numbers");
+        if (!(ofirst[k] >= 0 && ofirst[k] <= INDEX_MAX) || ofirst[k] != floor(ofirst[k]))
+            slm_fail(s->fn, "badobs", "obs_first %lu must be a whole number from 0 to %.17g",
+                     (unsigned long)(k + 1), INDEX_MAX);
         first[k] = (size_t)ofirst[k];
     }
     s->cfg.obs_first = first;
@@ -303,9 +311,10 @@ static void decode_observations(run_settings *s)
                 slm_fail(s->fn, "badfamily", "observation %lu: unknown likelihood family '%s'",
                          (unsigned long)(k + 1), name);
             mxFree(name);
-            if (ovar[k] < 0 || ovar[k] >= (double)(s->v + cfg->n_lin + cfg->n_fun) ||
-                ovar[k] != floor(ovar[k]))
-                slm_fail(s->fn, "badobs", "observation %lu: bad variable index", (unsigned long)(k + 1));
+            /* an index a size_t holds; its range is sl_pf_check's */
+            if (!(ovar[k] >= 0 && ovar[k] <= INDEX_MAX) || ovar[k] != floor(ovar[k]))
+                slm_fail(s->fn, "badobs", "observation %lu: the variable index must be a "
+                         "whole number >= 0", (unsigned long)(k + 1));
             var[k] = (size_t)ovar[k];
         }
     }
@@ -333,20 +342,19 @@ static void decode_forcing(run_settings *s)
 
 /* ------------------------------------------------ parameters and moves */
 
+/* The transforms of the bounds: the core makes them and checks the
+ * bounds (sl_transform_from_bounds, reason badbounds). */
 static void decode_bounds(run_settings *s)
 {
-    size_t p = s->p, k;
+    size_t p = s->p;
     sl_transform *tr = (sl_transform *)slm_alloc(s->fn, p ? p : 1, sizeof *tr);
     if (p > 0) {
         const double *lower = fmat(s, "lower", p, 0, SLM_VECTOR | SLM_ALLOW_INF);
         const double *upper = fmat(s, "upper", p, 0, SLM_VECTOR | SLM_ALLOW_INF);
-        for (k = 0; k < p; k++) {
-            if (!(lower[k] < upper[k]) && lower[k] != upper[k])
-                slm_fail(s->fn, "badbounds", "parameter %lu: lower bound above upper",
-                         (unsigned long)(k + 1));
-            tr[k] = lower[k] == upper[k] ? sl_transform_for_bounds(-HUGE_VAL, HUGE_VAL)
-                                         : sl_transform_for_bounds(lower[k], upper[k]);
-        }
+        sl_error err;
+        sl_error_clear(&err);
+        if (sl_transform_from_bounds(p, lower, upper, tr, &err) != SL_OK)
+            slm_raise(s->fn, &err);
     }
     s->cfg.ptrans = tr;
 }
@@ -390,9 +398,10 @@ static void decode_priors(run_settings *s)
     phi = fmat(s, "prior_hi", p, 0, SLM_VECTOR | SLM_ALLOW_INF);
     pe = (sl_prior_entry *)slm_alloc(s->fn, p, sizeof *pe);
     for (k = 0; k < p; k++) {
-        if (pd[k] != floor(pd[k]) || pd[k] < -1 || pd[k] >= SL_DIST_COUNT)
-            slm_fail(s->fn, "badprior", "prior_dist %lu must be a distribution id or -1",
-                     (unsigned long)(k + 1));
+        /* a whole number an int holds; whether the id is known: sl_pf_check */
+        if (pd[k] != floor(pd[k]) || !(pd[k] >= -1 && pd[k] <= INT_MAX))
+            slm_fail(s->fn, "badprior", "prior_dist %lu must be a whole number: a "
+                     "distribution id or -1", (unsigned long)(k + 1));
         pe[k].dist = pd[k] < 0 ? SL_DIST_FIXED : (int)pd[k];
         /* a point mass is never moved or weighed: its value is moot */
         pe[k].a = pe[k].dist == SL_DIST_FIXED ? 0.0 : pa[k];
@@ -415,9 +424,6 @@ static void decode_cycle(run_settings *s)
     cfg->threshold = fscalar(s, "threshold");
     cfg->temper.ess = fscalar(s, "temper_ess");
     cfg->temper.max_steps = (size_t)fwhole(s, "temper_max_steps", 1, SL_TEMPER_MAX_STEPS);
-    if (!(cfg->temper.ess >= 0 && cfg->temper.ess <= 1))
-        slm_fail(s->fn, "badoption", "temper_ess must lie in (0, 1] (0: off), got %g",
-                 cfg->temper.ess);
     cfg->seed = (uint64_t)fwhole(s, "seed", 0, 9007199254740992.0);
     cfg->threads = slm_threads(fwhole(s, "threads", 0, 256));
 }

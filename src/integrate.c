@@ -315,6 +315,25 @@ static sl_status def_step(const sl_model *model, double t, double t_end,
     return SL_OK;
 }
 
+sl_status sl_tolerance_check(const sl_tolerance *tol, sl_error *err)
+{
+    if (tol == NULL)
+        return sl_fail(err, SL_EINVAL, "badtolerance", "no tolerances");
+    if (!(tol->hmin_rel > 0 && tol->hmin_rel < 1))
+        return sl_fail(err, SL_EINVAL, "badtolerance",
+                       "the smallest relative step must lie in (0, 1), got %g",
+                       tol->hmin_rel);
+    if (tol->max_steps < 1)
+        return sl_fail(err, SL_EINVAL, "badtolerance",
+                       "the adaptive method needs at least 1 attempt per interval");
+    if (!(tol->rtol >= 0) || !(tol->atol >= 0) || !(tol->rtol + tol->atol > 0) ||
+        !isfinite(tol->rtol) || !isfinite(tol->atol))
+        return sl_fail(err, SL_EINVAL, "badtolerance",
+                       "tolerances must be finite, >= 0 and not both zero (rtol %g, atol %g)",
+                       tol->rtol, tol->atol);
+    return SL_OK;
+}
+
 sl_status sl_def_model_init(sl_model *model, sl_def_model *dm,
                             const sl_model_def *def, size_t n,
                             const sl_integrator *method, double dt,
@@ -322,6 +341,7 @@ sl_status sl_def_model_init(sl_model *model, sl_def_model *dm,
                             sl_error *err)
 {
     size_t k, work;
+    sl_status st;
     if (def == NULL)
         return sl_fail(err, SL_EINVAL, "badmodel", "no model definition");
     if (def->n_state > 0)
@@ -357,16 +377,10 @@ sl_status sl_def_model_init(sl_model *model, sl_def_model *dm,
     }
     if (dm->tol.hmin_rel == 0)
         dm->tol.hmin_rel = 1e-12;
-    if (!(dm->tol.hmin_rel > 0 && dm->tol.hmin_rel < 1))
-        return sl_fail(err, SL_EINVAL, "badtolerance",
-                       "the smallest relative step must lie in (0, 1), got %g",
-                       dm->tol.hmin_rel);
     if (dm->tol.max_steps == 0)
         dm->tol.max_steps = 100000;
-    if (!(dm->tol.rtol >= 0) || !(dm->tol.atol >= 0) || !(dm->tol.rtol + dm->tol.atol > 0) ||
-        !isfinite(dm->tol.rtol) || !isfinite(dm->tol.atol))
-        return sl_fail(err, SL_EINVAL, "badtolerance",
-                       "tolerances must be finite, >= 0 and not both zero");
+    if ((st = sl_tolerance_check(&dm->tol, err)) != SL_OK)
+        return st;
     if (def->n_event > 0 && events != NULL) {
         if (events->nv != def->n_event || def->jump == NULL)
             return sl_fail(err, SL_EINVAL, "badevents",

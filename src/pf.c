@@ -240,6 +240,9 @@ sl_status sl_pf_check(const sl_pf_config *cfg, sl_error *err)
                        (unsigned long)SL_RESAMPLE_MAX, (unsigned long)cfg->N);
     if (n < 1)
         return sl_fail(err, SL_EINVAL, "badconfig", "the model has no states");
+    if (!(md->dt > 0) || !isfinite(md->dt))
+        return sl_fail(err, SL_EINVAL, "badstep",
+                       "the model's time step must be finite and > 0, got %g", md->dt);
     if (cfg->threads < 1 || cfg->threads > MAX_THREADS)
         return sl_fail(err, SL_EINVAL, "badconfig",
                        "threads must be 1 to %d, got %d", MAX_THREADS,
@@ -350,6 +353,13 @@ sl_status sl_pf_check(const sl_pf_config *cfg, sl_error *err)
                                (unsigned long)(k + 1));
     if (p > 0 && cfg->ptrans == NULL)
         return sl_fail(err, SL_EINVAL, "badconfig", "parameter transforms missing");
+    if (cfg->prior != NULL)
+        for (k = 0; k < p; k++)
+            if (sl_dist_get(cfg->prior[k].dist) == NULL)
+                return sl_fail(err, SL_EINVAL, "badprior",
+                               "parameter %lu: unknown prior distribution id %d "
+                               "(expected 0 to %d)",
+                               (unsigned long)(k + 1), cfg->prior[k].dist, SL_DIST_COUNT - 1);
     if (cfg->param_move != NULL) {
         sl_status st = cfg->param_move->check(&cfg->move, p, err);
         if (st != SL_OK)
@@ -735,7 +745,7 @@ static void move_params(const sl_pf_config *cfg, pf_buffers *b, double *Z,
 /* Value ids: members whose parameter i has the same id hold the same
  * value (copies made by resampling). A parameter that a move or an
  * analysis changed gets fresh ids (the member indices). */
-static void refresh_ids(size_t p, size_t N, const double *Zold, const double *Znew,
+void sl_pfi_refresh_ids(size_t p, size_t N, const double *Zold, const double *Znew,
                         uint32_t *id)
 {
     size_t i, j;
@@ -1033,294 +1043,7 @@ static void forecast_mean(const sl_pf_config *cfg, const unsigned char *dead,
         out[i] = W > 0 ? out[i] / W : (double)NAN;
 }
 
-/* Multiplicative inflation of the live members' rows r0 .. r0+rows-1 of
- * an ld x L block about their mean. */
-static void inflate_rows(double *M, size_t ld, size_t r0, size_t rows,
-                         size_t L, double lambda)
-{
-    size_t i, jj;
-    for (i = r0; i < r0 + rows; i++) {
-        double mean = 0.0;
-        for (jj = 0; jj < L; jj++)
-            mean += M[i + jj * ld];
-        mean /= (double)L;
-        for (jj = 0; jj < L; jj++)
-            M[i + jj * ld] = mean + lambda * (M[i + jj * ld] - mean);
-    }
-}
-
-/* The ensemble Kalman analysis of cycle k: live members only, observed
- * rows only, states and transformed parameters together. */
-static sl_status enkf_update(const sl_pf_config *cfg, const sl_enkf_config *settings,
-                             pf_buffers *b, size_t k,
-                             size_t r0, size_t m, const unsigned char *dead,
-                             double *X, double *Z, double *P, double *infl,
-                             size_t nw, sl_pf_output *out, int *degenerate,
-                             size_t *nskipped, sl_error *err)
-{
-    const size_t N = cfg->N, n = cfg->model->n_state, p = cfg->model->n_param;
-    const size_t v = n + p, dim = cfg->loc != NULL ? cfg->loc->dim : 0;
-    const size_t va = v * (nw + 1); /* rows of the augmented ensemble */
-    size_t L = 0, mk = 0, i, j, jj, d, s;
-    sl_enkf_config ecfg = *settings;
-    sl_localization lc;
-    sl_enkf_info info;
-    sl_status st;
-    /* the inflation in force, recorded also for cycles with no analysis */
-    if (out->inflation != NULL)
-        out->inflation[k] = cfg->adaptive_inflation ? *infl : settings->inflation;
-    for (j = 0; j < N; j++)
-        if (!dead[j])
-            b->live[L++] = j;
-    for (i = 0; i < m; i++)
-        mk += !isnan(cfg->y[r0 + i]);
-    *nskipped = m - mk;
-    if (mk == 0)
-        return SL_OK;
-    if (L < 2) {
-        *degenerate = 1;
-        return SL_OK;
-    }
-    /* compact the observed rows (mk of them: the leading dimension) */
-    for (i = 0, mk = 0; i < m; i++) {
-        size_t row = r0 + i, mt = m - *nskipped;
-        if (isnan(cfg->y[row]))
-            continue;
-        b->yc[mk] = cfg->y[row];
-        b->rc[mk] = cfg->sigma[row] * cfg->sigma[row];
-        for (jj = 0; jj < L; jj++)
-            b->Hc[mk + jj * mt] = b->Yhat[i + b->live[jj] * m];
-        if (cfg->loc != NULL) {
-            size_t mall = cfg->obs_first[cfg->T];
-            for (d = 0; d < dim; d++)
-                b->opos[mk + d * mt] = cfg->loc->obs_pos[row + d * mall];
-            b->oc[mk] = cfg->loc->obs_c[row];
-        }
-        mk++;
-    }
-    for (jj = 0; jj < L; jj++) {
-        memcpy(b->A + jj * va, X + b->live[jj] * n, n * sizeof(double));
-        if (p > 0)
-            memcpy(b->A + jj * va + n, Z + b->live[jj] * p, p * sizeof(double));
-        /* the window: cycles k-1, k-2, ..., k-nw below the current rows */
-        for (s = 1; s <= nw; s++)
-            memcpy(b->A + jj * va + s * v, b->win[(k - s) % b->nwin] + b->live[jj] * v,
-                   v * sizeof(double));
-    }
-    if (cfg->adaptive_inflation) {
-        /* variance inflation from the innovations: E[d'd] = lambda tr(HBH') + tr R */
-        double d2 = 0.0, trR = 0.0, trB = 0.0, est;
-        for (i = 0; i < mk; i++) {
-            double mean = 0.0, var = 0.0;
-            for (jj = 0; jj < L; jj++)
-                mean += b->Hc[i + jj * mk];
-            mean /= (double)L;
-            for (jj = 0; jj < L; jj++) {
-                double e = b->Hc[i + jj * mk] - mean;
-                var += e * e;
-            }
-            trB += var / (double)(L - 1);
-            d2 += (b->yc[i] - mean) * (b->yc[i] - mean);
-            trR += b->rc[i];
-        }
-        est = trB > 0 ? sqrt(fmax((d2 - trR) / trB, 0.0)) : 1.0;
-        if (!(est >= 1.0))
-            est = 1.0;
-        if (est > cfg->inflation_max)
-            est = cfg->inflation_max;
-        *infl = 0.9 * *infl + 0.1 * est;
-        if (*infl > cfg->inflation_max)
-            *infl = cfg->inflation_max;
-        ecfg.inflation = *infl;
-    }
-    ecfg.seed = cfg->seed;
-    ecfg.cycle = (uint32_t)k;
-    ecfg.threads = cfg->threads;
-    /* the run's poll also between the parts of a long analysis */
-    ecfg.poll = cfg->poll;
-    ecfg.poll_ctx = cfg->poll_ctx;
-    ecfg.poll_fraction = (double)k / (double)cfg->T;
-    if (cfg->loc != NULL) {
-        lc = *cfg->loc;
-        lc.obs_pos = b->opos;
-        lc.obs_c = b->oc;
-        if (nw > 0) {
-            /* a row of the window sits where the state it copies sits */
-            for (d = 0; d < dim; d++)
-                for (s = 0; s <= nw; s++)
-                    memcpy(b->spos + d * va + s * v, cfg->loc->state_pos + d * v,
-                           v * sizeof(double));
-            lc.state_pos = b->spos;
-        }
-        ecfg.loc = &lc;
-    } else {
-        ecfg.loc = NULL;
-    }
-    if (nw > 0 && ecfg.inflation != 1.0) {
-        /* inflate the current ensemble and its predicted observations
-         * only: the window's past is not inflated again */
-        inflate_rows(b->A, va, 0, v, L, ecfg.inflation);
-        inflate_rows(b->Hc, mk, 0, mk, L, ecfg.inflation);
-    }
-    {
-        const double used = ecfg.inflation;
-        if (nw > 0)
-            ecfg.inflation = 1.0;
-        memset(&info, 0, sizeof info);
-        st = sl_enkf_analysis(&ecfg, va, L, b->A, mk, b->Hc, b->yc, b->rc, 0, b->ework,
-                              &info, err);
-        ecfg.inflation = used;
-    }
-    if (st == SL_EINTERRUPT)
-        return sl_fail(err, SL_EINTERRUPT, "interrupted",
-                       "the run was interrupted at cycle %lu of %lu, in its analysis",
-                       (unsigned long)(k + 1), (unsigned long)cfg->T);
-    if (st != SL_OK)
-        return st;
-    for (jj = 0; jj < L; jj++) {
-        size_t jm = b->live[jj];
-        memcpy(X + jm * n, b->A + jj * va, n * sizeof(double));
-        for (i = 0; i < p; i++) {
-            Z[i + jm * p] = b->A[jj * va + n + i];
-            P[i + jm * p] = sl_transform_inverse(&cfg->ptrans[i], Z[i + jm * p]);
-        }
-        for (s = 1; s <= nw; s++)
-            memcpy(b->win[(k - s) % b->nwin] + jm * v, b->A + jj * va + s * v,
-                   v * sizeof(double));
-    }
-    if (out->inflation != NULL)
-        out->inflation[k] = ecfg.inflation;
-    if (out->floored != NULL)
-        out->floored[k] = (double)info.floored;
-    return SL_OK;
-}
-
 /* ------------------------------------------------------ the analyses */
-
-/* The method of an ensemble Kalman entry. */
-static int kalman_method(const sl_analysis *self)
-{
-    return *(const int *)self->data;
-}
-
-/* The settings an ensemble Kalman entry runs with: the run's (enkf) with
- * the entry's method, or none (no inflation or relaxation). */
-static void kalman_settings(const sl_analysis *self, const sl_pf_config *cfg,
-                            sl_enkf_config *ec)
-{
-    if (cfg->enkf != NULL) {
-        *ec = *cfg->enkf;
-    } else {
-        memset(ec, 0, sizeof *ec);
-        ec->inflation = 1.0;
-        ec->threads = 1;
-    }
-    ec->method = kalman_method(self);
-}
-
-static sl_status kalman_check(const sl_analysis *self, const sl_pf_config *cfg,
-                              sl_error *err)
-{
-    const int method = kalman_method(self);
-    const size_t m = cfg->obs_first[cfg->T];
-    size_t k;
-    if (cfg->enkf != NULL && cfg->enkf->method != method)
-        return sl_fail(err, SL_EINVAL, "badconfig",
-                       "the analysis '%s' was given the settings of another method (%d)",
-                       self->name, cfg->enkf->method);
-    if (cfg->N < 2)
-        return sl_fail(err, SL_EINVAL, "badconfig",
-                       "the ensemble Kalman methods need at least 2 members");
-    for (k = 0; k < m; k++)
-        if (cfg->family[k] != SL_FAMILY_GAUSSIAN)
-            return sl_fail(err, SL_EINVAL, "badfamily",
-                           "observation %lu: the ensemble Kalman methods take Gaussian "
-                           "observations only; use the particle filter for other families",
-                           (unsigned long)(k + 1));
-    if (method == SL_ENKF_LETKF && cfg->loc == NULL)
-        return sl_fail(err, SL_EINVAL, "badlocalization",
-                       "the LETKF needs positions of the states and observations");
-    if (cfg->adaptive_inflation && !(cfg->inflation_max >= 1))
-        return sl_fail(err, SL_EINVAL, "badconfig",
-                       "the largest adaptive inflation must be >= 1");
-    return SL_OK;
-}
-
-/* The buffers of an ensemble Kalman analysis in base (NULL: only
- * measure), sized for the configuration the cycle runs (enkf_update):
- * the augmented ensemble, compacted observations, their positions, the
- * living members, the method's workspace. The end, or 0 on overflow. */
-static size_t kalman_layout(const sl_analysis *self, const sl_pf_config *cfg,
-                            size_t m_max, size_t nwin, unsigned char *base,
-                            pf_buffers *b)
-{
-    const size_t N = cfg->N, n = cfg->model->n_state, p = cfg->model->n_param;
-    size_t dim = cfg->loc != NULL ? cfg->loc->dim : 0, ew, off = 0, end;
-    sl_enkf_config ec;
-    kalman_settings(self, cfg, &ec);
-    ec.threads = cfg->threads;
-    ec.loc = cfg->loc;
-    ew = sl_enkf_workspace(&ec, (n + p) * (nwin + 1), N, m_max ? m_max : 1, 0);
-    if (ew == 0 || dim > 2)
-        return 0;
-    sl_ws_carve(base, &off, (n + p) * (nwin + 1) * N * 8, (void **)&b->A);
-    sl_ws_carve(base, &off, (n + p) * (nwin + 1) * dim * 8, (void **)&b->spos);
-    sl_ws_carve(base, &off, m_max * N * 8, (void **)&b->Hc);
-    sl_ws_carve(base, &off, m_max * 8, (void **)&b->yc);
-    sl_ws_carve(base, &off, m_max * 8, (void **)&b->rc);
-    sl_ws_carve(base, &off, m_max * dim * 8, (void **)&b->opos);
-    sl_ws_carve(base, &off, m_max * 8, (void **)&b->oc);
-    sl_ws_carve(base, &off, N * sizeof(size_t), (void **)&b->live);
-    end = sl_ws_carve(base, &off, ew, &b->ework);
-    return sl_ws_size(end);
-}
-
-static size_t kalman_workspace(const sl_analysis *self, const sl_pf_config *cfg,
-                               size_t m_max, size_t nwin)
-{
-    pf_buffers b;
-    return kalman_layout(self, cfg, m_max, nwin, NULL, &b);
-}
-
-static void kalman_start(const sl_analysis *self, const sl_pf_config *cfg, void *work,
-                         pf_buffers *run)
-{
-    sl_enkf_config ec;
-    kalman_layout(self, cfg, run->m_max, run->nwin, (unsigned char *)work, run);
-    kalman_settings(self, cfg, &ec);
-    run->infl = ec.inflation;
-    if (cfg->adaptive_inflation && run->infl > cfg->inflation_max)
-        run->infl = cfg->inflation_max; /* adaptive inflation stays at most the maximum */
-}
-
-/* The ensemble Kalman analysis of a cycle: the analysis moves the
- * members; the living ones get equal weights (the dead are replaced by
- * resampling). With no observation it records the inflation in force. */
-static sl_status kalman_cycle(sl_analysis_cycle *c, sl_error *err)
-{
-    const sl_pf_config *cfg = c->cfg;
-    pf_buffers *b = c->run;
-    const size_t N = cfg->N, p = cfg->model->n_param, nlive = N - c->ndead;
-    /* the ping-pong half that holds c->Z, and the other one (free now) */
-    const int cur = c->Z == b->Z[1];
-    sl_enkf_config ec;
-    sl_status st;
-    size_t j;
-    kalman_settings(c->self, cfg, &ec);
-    if (c->m > 0 &&
-        (st = sl_pfi_predict_obs(cfg, b, c->r0, c->m, c->t, c->X, c->P, err)) != SL_OK)
-        return st;
-    if (p > 0)
-        memcpy(b->Z[1 - cur], c->Z, p * N * sizeof(double));
-    st = enkf_update(cfg, &ec, b, c->k, c->r0, c->m, c->dead, c->X, c->Z, c->P, &b->infl,
-                     c->nwin, c->out, &c->degenerate, &c->skipped, err);
-    if (st != SL_OK)
-        return st;
-    refresh_ids(p, N, b->Z[1 - cur], c->Z, b->vid[cur]);
-    for (j = 0; j < N; j++)
-        c->w[j] = c->dead[j] || nlive == 0 ? 0.0 : 1.0 / (double)nlive;
-    return SL_OK;
-}
 
 static size_t count_nan_predictions(const sl_pf_config *cfg, const pf_buffers *b, size_t r0,
                                     size_t m, const unsigned char *dead);
@@ -1351,24 +1074,9 @@ static sl_status pf_cycle(sl_analysis_cycle *c, sl_error *err)
     return SL_OK;
 }
 
-static const int method_enkf = SL_ENKF_STOCHASTIC, method_etkf = SL_ENKF_ETKF,
-                 method_ensrf = SL_ENKF_ENSRF, method_eakf = SL_ENKF_EAKF,
-                 method_letkf = SL_ENKF_LETKF;
-
 const sl_analysis sl_analysis_pf = {
     "pf", SL_ANALYSIS_WEIGHTS, NULL, pf_check, NULL, NULL, pf_cycle,
 };
-
-#define KALMAN_ENTRY(var, name)                                                         \
-    const sl_analysis sl_analysis_##var = {                                             \
-        name, SL_ANALYSIS_MOVES, &method_##var, kalman_check, kalman_workspace,         \
-        kalman_start, kalman_cycle,                                                     \
-    }
-KALMAN_ENTRY(enkf, "enkf");
-KALMAN_ENTRY(etkf, "etkf");
-KALMAN_ENTRY(ensrf, "ensrf");
-KALMAN_ENTRY(eakf, "eakf");
-KALMAN_ENTRY(letkf, "letkf");
 
 /* The table: the particle filters first, then the ensemble Kalman
  * analyses in the order of sl_enkf_method. */
@@ -1399,13 +1107,8 @@ const sl_analysis *sl_pf_analysis_of(const sl_pf_config *cfg)
         return cfg->analysis;
     if (cfg->wenkf)
         return &sl_analysis_wenkf;
-    if (cfg->enkf != NULL) {
-        size_t k;
-        for (k = 2; k < sizeof analyses / sizeof *analyses; k++)
-            if (kalman_method(analyses[k]) == cfg->enkf->method)
-                return analyses[k];
-        return NULL;
-    }
+    if (cfg->enkf != NULL)
+        return sl_pfi_kalman_of(cfg->enkf->method);
     return &sl_analysis_pf;
 }
 
@@ -1870,7 +1573,7 @@ static sl_status temper_cycle(const sl_pf_config *cfg, pf_buffers *b, size_t k,
                 for (i = 0; i < p; i++)
                     Pn[i + j * p] = sl_transform_inverse(&cfg->ptrans[i], Zn[i + j * p]);
             }
-            refresh_ids(p, N, b->Z[c], Zn, b->vid[nx]);
+            sl_pfi_refresh_ids(p, N, b->Z[c], Zn, b->vid[nx]);
         }
         if (relik) {
             size_t skipped;
@@ -2015,7 +1718,7 @@ sl_status sl_pf_run(const sl_pf_config *cfg, double *X, double *P, double *w,
         if (k > 0 && p > 0 && moving && cfg->param_move->when == SL_MOVE_EACH_CYCLE) {
             memcpy(b.Z[1 - cur], Zc, p * N * sizeof(double));
             move_params(cfg, &b, Zc, Pc, w, (uint32_t)k);
-            refresh_ids(p, N, b.Z[1 - cur], Zc, b.vid[cur]);
+            sl_pfi_refresh_ids(p, N, b.Z[1 - cur], Zc, b.vid[cur]);
         }
 
         /* forecast */
@@ -2222,7 +1925,7 @@ sl_status sl_pf_run(const sl_pf_config *cfg, double *X, double *P, double *w,
                     for (i = 0; i < p; i++)
                         Pn[i + j * p] = sl_transform_inverse(&cfg->ptrans[i], Zn[i + j * p]);
                 }
-                refresh_ids(p, N, Zc, Zn, b.vid[nx]);
+                sl_pfi_refresh_ids(p, N, Zc, Zn, b.vid[nx]);
             }
             sl_pfi_gather_cols(q, N, b.E[cur], b.E[nx], b.anc, b.nt);
             gather_draws(&b, N, b.anc, s, k);

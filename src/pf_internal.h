@@ -128,6 +128,14 @@ sl_status sl_pfi_forecast(const sl_pf_config *cfg, pf_buffers *b, double *X,
                           sl_error *err);
 double sl_pfi_log_prior_z(const sl_pf_config *cfg, const unsigned char *est,
                           const double *z);
+/* Value ids (p x N) after an analysis or a move changed the transformed
+ * parameters from Zold to Znew: a changed parameter's ids become the
+ * member indices (pf.c). */
+void sl_pfi_refresh_ids(size_t p, size_t N, const double *Zold, const double *Znew,
+                        uint32_t *id);
+/* The ensemble Kalman analyses (pf_kalman.c): the table's entry for an
+ * sl_enkf_method, NULL for none. */
+const sl_analysis *sl_pfi_kalman_of(int method);
 /* Checkpoints (pf.c): restore a run from cfg->resume into b, the
  * workspace `work` and the weights w (the caller takes the loop-carried
  * values from the header); take a snapshot of the run at the end of a

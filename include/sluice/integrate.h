@@ -45,6 +45,13 @@ typedef struct {
     size_t max_steps;   /* attempts allowed for one interval */
 } sl_tolerance;
 
+/* The check of tolerances, the one place their rules live: rtol and atol
+ * finite, >= 0 and not both zero, hmin_rel in (0, 1), max_steps >= 1.
+ * Reason "badtolerance". sl_def_model_init calls it after filling its
+ * defaults; a model that drives an integrator itself (the gateways'
+ * Octave-function models) calls it on the tolerances it will pass. */
+sl_status sl_tolerance_check(const sl_tolerance *tol, sl_error *err);
+
 /* Advance the block X over [t, t+h] with a continuous method (euler and
  * rk4: one step of size h; dopri5: adaptive steps, shared by the block,
  * landing exactly on t+h). work holds stages * n * count doubles. On a

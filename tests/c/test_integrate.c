@@ -930,6 +930,35 @@ static void test_errors(void)
                   SL_OK &&
               dm.tol.hmin_rel > 0 && dm.tol.max_steps > 0,
           "rtol 0 with atol > 0 is fine; hmin and max_steps get defaults");
+    /* sl_tolerance_check on its own: the rules sl_def_model_init applies
+     * after its defaults, and that the filter's gateway applies to a model
+     * written in Octave */
+    tol.rtol = 1e-6;
+    tol.atol = 1e-9;
+    tol.hmin_rel = 1e-12;
+    tol.max_steps = 100000;
+    CHECK(sl_tolerance_check(&tol, &err) == SL_OK, "tolerances 1e-6, 1e-9: %s", err.message);
+    tol.rtol = 0;
+    CHECK(sl_tolerance_check(&tol, &err) == SL_OK, "rtol 0 with atol > 0: %s", err.message);
+    tol.atol = 0;
+    expect_fail(sl_tolerance_check(&tol, &err), &err, "badtolerance", "both zero (check)");
+    tol.rtol = -1e-6;
+    tol.atol = 1e-9;
+    expect_fail(sl_tolerance_check(&tol, &err), &err, "badtolerance", "rtol < 0 (check)");
+    tol.rtol = 1e-6;
+    tol.atol = -HUGE_VAL;
+    expect_fail(sl_tolerance_check(&tol, &err), &err, "badtolerance", "atol -Inf (check)");
+    tol.atol = NAN;
+    expect_fail(sl_tolerance_check(&tol, &err), &err, "badtolerance", "atol NaN (check)");
+    tol.atol = 1e-9;
+    tol.hmin_rel = 0;
+    expect_fail(sl_tolerance_check(&tol, &err), &err, "badtolerance", "hmin_rel 0 (check)");
+    tol.hmin_rel = 1;
+    expect_fail(sl_tolerance_check(&tol, &err), &err, "badtolerance", "hmin_rel 1 (check)");
+    tol.hmin_rel = 1e-12;
+    tol.max_steps = 0;
+    expect_fail(sl_tolerance_check(&tol, &err), &err, "badtolerance", "max_steps 0 (check)");
+    expect_fail(sl_tolerance_check(NULL, &err), &err, "badtolerance", "no tolerances");
 
     /* badevents */
     memset(&ev, 0, sizeof ev);

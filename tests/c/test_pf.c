@@ -618,6 +618,8 @@ static void check_errors(void)
     sl_pf_output out;
     int noise[1];
     double fsd[1], fphi[1];
+    sl_transform ptr;
+    sl_prior_entry pe;
 
     sl_linear_model(&md, &lin, 1.0, &err);
     one_obs_per_cycle(&o, T, yv, 1.0);
@@ -654,6 +656,30 @@ static void check_errors(void)
     sn[0] = -0.1;
     c = base; c.state_noise = sn; expect_fail(&c, SL_EINVAL, "badconfig", "state noise -0.1");
     sn[0] = HUGE_VAL; expect_fail(&c, SL_EINVAL, "badconfig", "state noise Inf");
+
+    /* badstep: the time step of the model the run drives (a model written
+     * in Octave comes with the settings' dt unchecked otherwise) */
+    md2 = md;
+    c = base; c.model = &md2;
+    md2.dt = 0.0; expect_fail(&c, SL_EINVAL, "badstep", "dt 0");
+    md2.dt = -1.0; expect_fail(&c, SL_EINVAL, "badstep", "dt -1");
+    md2.dt = NAN; expect_fail(&c, SL_EINVAL, "badstep", "dt NaN");
+    md2.dt = HUGE_VAL; expect_fail(&c, SL_EINVAL, "badstep", "dt Inf");
+    md2.dt = 1.0; expect_ok(&c, "dt 1");
+
+    /* badprior: every prior given names a distribution of the core's
+     * table, whether or not the move weighs by it */
+    md2 = md;
+    md2.n_param = 1;
+    c = base; c.model = &md2; c.ptrans = &ptr; c.prior = &pe;
+    ptr = sl_transform_for_bounds(-HUGE_VAL, HUGE_VAL);
+    memset(&pe, 0, sizeof pe);
+    pe.dist = SL_DIST_NORMAL; pe.a = 0.0; pe.b = 1.0;
+    expect_ok(&c, "a normal prior");
+    pe.dist = SL_DIST_FIXED; expect_ok(&c, "a fixed prior");
+    pe.dist = SL_DIST_COUNT; expect_fail(&c, SL_EINVAL, "badprior", "distribution id past the table");
+    pe.dist = -1; expect_fail(&c, SL_EINVAL, "badprior", "distribution id -1");
+    pe.dist = 1000000; expect_fail(&c, SL_EINVAL, "badprior", "distribution id 1e6");
 
     /* badtimes */
     c = base; c.t0 = NAN; expect_fail(&c, SL_EINVAL, "badtimes", "t0 NaN");

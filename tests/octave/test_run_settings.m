@@ -141,3 +141,53 @@
 %!   assert (r.options.(f{1}), d.(f{1}));
 %! end
 %! assert (r.options.quantiles, d.quantiles);
+
+%!test
+%! % the values of the settings are the core's to check (sl_pf_check, the
+%! % tolerances' and the bounds' checks): the gateway converts, the core
+%! % refuses, and the error carries the caller's name
+%! c = settings (good, 'twin', 3);
+%! for dt = [0 -1]
+%!   c.dt = dt;
+%!   assert (raised (@() sluice.kernel.pf_run (c)), 'sluice:twin:badstep');
+%! end
+%! c = settings (good, 'twin', 3);
+%! c.rtol = -1e-6;
+%! assert (raised (@() sluice.kernel.pf_run (c)), 'sluice:twin:badtolerance');
+%! c.rtol = 0; c.atol = 0;
+%! assert (raised (@() sluice.kernel.pf_run (c)), 'sluice:twin:badtolerance');
+%! c = settings (good, 'sweep', 3);
+%! c.temper_ess = 1.5;
+%! assert (raised (@() sluice.kernel.pf_run (c)), 'sluice:sweep:badconfig');
+%! % observations: the order of the groups and the range of the variable
+%! % index are the core's; a fraction cannot be converted (the gateway's)
+%! c = settings (good, 'smooth', 3);
+%! c.obs_var = 0; c.obs_value = 1; c.obs_sigma = 1; c.obs_aux = NaN;
+%! c.obs_family = {'gaussian'};
+%! c.obs_first = [0 1 1];
+%! r = sluice.kernel.pf_run (c);
+%! assert (size (r.X), [1 3]);
+%! for of = {[0 1 0], [1 1 1]}
+%!   c.obs_first = of{1};
+%!   assert (raised (@() sluice.kernel.pf_run (c)), 'sluice:smooth:badobs');
+%! end
+%! c.obs_first = [0 1 1];
+%! for v = [1 0.5 -1]
+%!   c.obs_var = v;
+%!   assert (raised (@() sluice.kernel.pf_run (c)), 'sluice:smooth:badobs');
+%! end
+%! % parameters: bounds in order (sl_transform_from_bounds), known prior
+%! % distributions (sl_pf_check), whole-number ids (the gateway's)
+%! drift = sluice.model (@(t, X, P, U, dt) X, 'states', {'level'}, 'params', {'k'}, ...
+%!                       'defaults', 0.5, 'x0', 1);
+%! c = settings (drift, 'evidence', 3);
+%! c.lower = 1; c.upper = 0;
+%! assert (raised (@() sluice.kernel.pf_run (c)), 'sluice:evidence:badbounds');
+%! c = settings (drift, 'evidence', 3);
+%! c.prior_dist = 1; c.prior_a = 0.5; c.prior_b = 0.1; c.prior_lo = -Inf; c.prior_hi = Inf;
+%! r = sluice.kernel.pf_run (c);
+%! assert (size (r.P), [1 3]);
+%! for d = [99 0.5 -2]
+%!   c.prior_dist = d;
+%!   assert (raised (@() sluice.kernel.pf_run (c)), 'sluice:evidence:badprior');
+%! end
