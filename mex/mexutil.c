@@ -268,13 +268,12 @@ mxArray *slm_create(const char *fn, size_t rows, size_t cols)
     return mxCreateUninitNumericMatrix(rows, cols, mxDOUBLE_CLASS, mxREAL);
 }
 
-sl_prior_entry *slm_prior(const char *fn, const mxArray *const *args, int pos,
-                          size_t *p)
+sl_prior_entry *slm_prior_entries(const char *fn, const mxArray *const *args, int pos,
+                                  size_t *p)
 {
     static const char *const names[5] = {"dist_ids", "a", "b", "lo", "hi"};
     const double *v[5];
     sl_prior_entry *prior;
-    sl_error err;
     size_t k, n;
     int i;
     v[0] = slm_matrix(fn, args[0], pos, names[0], 0, 0, SLM_VECTOR);
@@ -284,7 +283,6 @@ sl_prior_entry *slm_prior(const char *fn, const mxArray *const *args, int pos,
         v[i] = slm_matrix(fn, args[i], pos + i, names[i], n, 0,
                           SLM_VECTOR | SLM_ALLOW_NAN | SLM_ALLOW_INF);
     prior = slm_alloc(fn, n, sizeof *prior);
-    sl_error_clear(&err);
     for (k = 0; k < n; k++) {
         double id = v[0][k];
         if (id != floor(id) || fabs(id) > (double)INT_MAX)
@@ -297,10 +295,21 @@ sl_prior_entry *slm_prior(const char *fn, const mxArray *const *args, int pos,
         prior[k].b = v[2][k];
         prior[k].lo = v[3][k];
         prior[k].hi = v[4][k];
-        if (sl_prior_check(&prior[k], k + 1, &err) != SL_OK)
-            slm_raise(fn, &err);
     }
     *p = n;
+    return prior;
+}
+
+sl_prior_entry *slm_prior(const char *fn, const mxArray *const *args, int pos,
+                          size_t *p)
+{
+    sl_prior_entry *prior = slm_prior_entries(fn, args, pos, p);
+    sl_error err;
+    size_t k;
+    sl_error_clear(&err);
+    for (k = 0; k < *p; k++)
+        if (sl_prior_check(&prior[k], k + 1, &err) != SL_OK)
+            slm_raise(fn, &err);
     return prior;
 }
 

@@ -92,6 +92,11 @@ void *slm_alloc(const char *fn, size_t count, size_t size);
 /* An uninitialised rows x cols double matrix, with the same size checks. */
 mxArray *slm_create(const char *fn, size_t rows, size_t cols);
 
+/* The p entries of a prior as slm_prior reads them, unchecked: only the
+ * ids are whole numbers (any may be out of range). */
+sl_prior_entry *slm_prior_entries(const char *fn, const mxArray *const *args, int pos,
+                                  size_t *p);
+
 /* The p entries of a prior given as five vectors, args[0..4] = argument
  * positions pos .. pos+4: dist_ids (the core's distribution ids, whole
  * numbers), a, b, lo, hi (each of length p, any values: the core checks

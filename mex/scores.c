@@ -3,6 +3,7 @@
  *   r = sluice.kernel.scores ('rank', X, y, seed)  rank of y, 1 .. N+1
  *   k = sluice.kernel.scores ('skill', s, o)       skill of s against o
  *   c = sluice.kernel.scores ('crps_weighted', X, y, w)  weighted CRPS
+ *   [mu, v] = sluice.kernel.scores ('moments', X, w)   weighted mean, variance
  * X: m x N real double, finite (members as columns); y: m-vector, NaN
  * allowed (NaN score / NaN rank); seed: whole number 0 .. 2^53 that keys
  * the random tie-breaking. Outputs are m x 1. For 'skill', s and o are
@@ -10,7 +11,9 @@
  * 1 x 6: [NSE, KGE, r, alpha, beta, pairs used] (sl_scores_skill).
  * For 'crps_weighted', X is m x N x K (K blocks of m rows, finite), y is
  * m x K (NaN allowed), w is N x K (one weight vector per block, >= 0, not
- * all 0) and c is m x K (sl_scores_crps_weighted). */
+ * all 0) and c is m x K (sl_scores_crps_weighted). For 'moments', X and w
+ * are as for 'crps_weighted' and mu, v are m x K
+ * (sl_scores_weighted_moments). */
 #include "mexutil.h"
 #include "sluice/scores.h"
 
@@ -48,10 +51,36 @@ static void skill(int nrhs, mxArray *plhs[], const mxArray *prhs[])
     out[5] = (double)k.count;
 }
 
-static void crps_weighted(int nrhs, mxArray *plhs[], const mxArray *prhs[])
+/* X (m x N x K real double) and w (N x K) of 'crps_weighted' and
+ * 'moments', at argument 2 and argument wpos */
+static void weighted_ensemble(const mxArray *Xa, const mxArray *wa, int wpos,
+                              size_t *m, size_t *N, size_t *K, const double **X,
+                              const double **w)
 {
     const mwSize *dims;
-    mwSize nd;
+    mwSize nd = mxGetNumberOfDimensions(Xa);
+    char got[96];
+    if (!mxIsDouble(Xa) || mxIsComplex(Xa) || mxIsSparse(Xa) || nd > 3) {
+        slm_describe(Xa, got, sizeof got);
+        slm_fail(FN, "badclass",
+                 "argument 2 (X): expected a real double m x N x K array, got %s", got);
+    }
+    dims = mxGetDimensions(Xa);
+    *m = (size_t)dims[0];
+    *N = (size_t)dims[1];
+    *K = nd == 3 ? (size_t)dims[2] : 1;
+    *X = slm_doubles(Xa);
+    if (mxGetM(wa) != *N || mxGetNumberOfElements(wa) != *N * *K) {
+        slm_describe(wa, got, sizeof got);
+        slm_fail(FN, "badsize", "argument %d (w): expected %lux%lu, got %s", wpos,
+                 (unsigned long)*N, (unsigned long)*K, got);
+    }
+    *w = slm_matrix(FN, wa, wpos, "w", 0, 0,
+                    SLM_ALLOW_EMPTY | SLM_ALLOW_NAN | SLM_ALLOW_INF);
+}
+
+static void crps_weighted(int nrhs, mxArray *plhs[], const mxArray *prhs[])
+{
     size_t m, N, K;
     const double *X, *y, *w;
     double *work;
@@ -59,30 +88,13 @@ static void crps_weighted(int nrhs, mxArray *plhs[], const mxArray *prhs[])
     sl_error err;
     if (nrhs != 4)
         slm_fail(FN, "nargin", "'crps_weighted' takes 4 input arguments, got %d", nrhs);
-    nd = mxGetNumberOfDimensions(prhs[1]);
-    if (!mxIsDouble(prhs[1]) || mxIsComplex(prhs[1]) || mxIsSparse(prhs[1]) ||
-        nd > 3) {
-        slm_describe(prhs[1], got, sizeof got);
-        slm_fail(FN, "badclass",
-                 "argument 2 (X): expected a real double m x N x K array, got %s", got);
-    }
-    dims = mxGetDimensions(prhs[1]);
-    m = (size_t)dims[0];
-    N = (size_t)dims[1];
-    K = nd == 3 ? (size_t)dims[2] : 1;
-    X = slm_doubles(prhs[1]);
+    weighted_ensemble(prhs[1], prhs[3], 4, &m, &N, &K, &X, &w);
     if (mxGetM(prhs[2]) != m || mxGetNumberOfElements(prhs[2]) != m * K) {
         slm_describe(prhs[2], got, sizeof got);
         slm_fail(FN, "badsize", "argument 3 (y): expected %lux%lu, got %s",
                  (unsigned long)m, (unsigned long)K, got);
     }
-    if (mxGetM(prhs[3]) != N || mxGetNumberOfElements(prhs[3]) != N * K) {
-        slm_describe(prhs[3], got, sizeof got);
-        slm_fail(FN, "badsize", "argument 4 (w): expected %lux%lu, got %s",
-                 (unsigned long)N, (unsigned long)K, got);
-    }
     y = slm_matrix(FN, prhs[2], 3, "y", 0, 0, SLM_ALLOW_EMPTY | SLM_ALLOW_NAN);
-    w = slm_matrix(FN, prhs[3], 4, "w", 0, 0, SLM_ALLOW_EMPTY | SLM_ALLOW_NAN | SLM_ALLOW_INF);
     plhs[0] = slm_create(FN, m, K);
     work = (double *)slm_alloc(FN, sl_scores_crps_weighted_workspace(N) + 1,
                                sizeof(double));
@@ -91,6 +103,26 @@ static void crps_weighted(int nrhs, mxArray *plhs[], const mxArray *prhs[])
                                 &err) != SL_OK)
         slm_raise(FN, &err);
     mxFree(work);
+}
+
+static void moments(int nrhs, int nlhs, mxArray *plhs[], const mxArray *prhs[])
+{
+    size_t m, N, K;
+    const double *X, *w;
+    mxArray *mu, *v;
+    sl_error err;
+    if (nrhs != 3)
+        slm_fail(FN, "nargin", "'moments' takes 3 input arguments, got %d", nrhs);
+    weighted_ensemble(prhs[1], prhs[2], 3, &m, &N, &K, &X, &w);
+    mu = slm_create(FN, m, K);
+    v = slm_create(FN, m, K);
+    sl_error_clear(&err);
+    if (sl_scores_weighted_moments(m, N, K, X, w, mxGetDoubles(mu), mxGetDoubles(v),
+                                   &err) != SL_OK)
+        slm_raise(FN, &err);
+    plhs[0] = mu;
+    if (nlhs > 1)
+        plhs[1] = v;
 }
 
 void mexFunction(int nlhs, mxArray *plhs[], int nrhs, const mxArray *prhs[])
@@ -102,8 +134,15 @@ void mexFunction(int nlhs, mxArray *plhs[], int nrhs, const mxArray *prhs[])
     sl_error err;
     int rank;
     slm_init();
-    slm_nargs(FN, nrhs, 3, 4, nlhs, 1);
+    slm_nargs(FN, nrhs, 3, 4, nlhs, 2);
     what = slm_string(FN, prhs[0], 1, "score");
+    if (strcmp(what, "moments") == 0) {
+        mxFree(what);
+        moments(nrhs, nlhs, plhs, prhs);
+        return;
+    }
+    if (nlhs > 1)
+        slm_fail(FN, "nargout", "'%s' gives 1 output, %d asked for", what, nlhs);
     if (strcmp(what, "skill") == 0) {
         mxFree(what);
         skill(nrhs, plhs, prhs);
@@ -120,7 +159,7 @@ void mexFunction(int nlhs, mxArray *plhs[], int nrhs, const mxArray *prhs[])
         rank = 1;
     else
         slm_fail(FN, "badscore",
-                 "argument 1 (score): expected 'crps', 'crps_weighted', 'rank' or 'skill', got '%s'", what);
+                 "argument 1 (score): expected 'crps', 'crps_weighted', 'moments', 'rank' or 'skill', got '%s'", what);
     mxFree(what);
     if (nrhs != (rank ? 4 : 3))
         slm_fail(FN, "nargin", "'%s' takes %d input arguments, got %d",

@@ -514,10 +514,32 @@ int sl_dist_find(const char *name)
     return -1;
 }
 
+const char *sl_prior_fault(const sl_prior_entry *e, const char **reason)
+{
+    const sl_dist_type *d = e != NULL ? sl_dist_get(e->dist) : NULL;
+    const char *what = "";
+    if (e == NULL) {
+        *reason = "badprior";
+        return "no entry";
+    }
+    if (d == NULL) {
+        *reason = "baddist";
+        return "unknown distribution id";
+    }
+    if (d->check(e, &what)) {
+        *reason = "badprior";
+        return what;
+    }
+    *reason = NULL;
+    return NULL;
+}
+
 sl_status sl_prior_check(const sl_prior_entry *e, size_t index, sl_error *err)
 {
     const sl_dist_type *d;
-    const char *what = "";
+    const char *reason, *what = sl_prior_fault(e, &reason);
+    if (what == NULL)
+        return SL_OK;
     if (e == NULL)
         return sl_fail(err, SL_EINVAL, "badprior", "parameter %zu: no entry",
                        index);
@@ -526,7 +548,7 @@ sl_status sl_prior_check(const sl_prior_entry *e, size_t index, sl_error *err)
         return sl_fail(err, SL_EINVAL, "baddist",
                        "parameter %zu: unknown distribution id %d (expected 0 to %d)",
                        index, e->dist, SL_DIST_COUNT - 1);
-    if (d->check(e, &what)) {
+    {
         const double v[4] = {e->a, e->b, e->lo, e->hi};
         char nums[112];
         size_t used = 0;
@@ -538,7 +560,6 @@ sl_status sl_prior_check(const sl_prior_entry *e, size_t index, sl_error *err)
                        "parameter %zu (%s %s = [%s]): %s", index, d->name,
                        d->form, nums, what);
     }
-    return SL_OK;
 }
 
 void sl_prior_support(const sl_prior_entry *e, double *lo, double *hi)

@@ -166,6 +166,74 @@ static int by_value(const void *a, const void *b)
     return (x > y) - (x < y);
 }
 
+/* The weights of block k checked: each finite and >= 0, their sum finite
+ * and positive (*total). */
+static sl_status block_weights(const char *fn, const double *wk, size_t N, size_t k,
+                               double *total, sl_error *err)
+{
+    size_t j;
+    double t = 0;
+    for (j = 0; j < N; j++) {
+        if (!(isfinite(wk[j]) && wk[j] >= 0))
+            return sl_fail(err, SL_EINVAL, "badweights",
+                           "%s: weight %lu of block %lu must be finite "
+                           "and >= 0, got %g",
+                           fn, (unsigned long)(j + 1), (unsigned long)(k + 1), wk[j]);
+        t += wk[j];
+    }
+    if (!(t > 0) || !isfinite(t))
+        return sl_fail(err, SL_EINVAL, "badweights",
+                       "%s: the weights of block %lu must have a finite "
+                       "positive sum, got %g",
+                       fn, (unsigned long)(k + 1), t);
+    *total = t;
+    return SL_OK;
+}
+
+sl_status sl_scores_weighted_moments(size_t m, size_t N, size_t K,
+                                     const double *X, const double *w,
+                                     double *mean, double *var, sl_error *err)
+{
+    size_t i, j, k;
+    if (N == 0)
+        return sl_fail(err, SL_EINVAL, "empty", "moments: no members");
+    if (m > 0 && K > 0 && (X == NULL || w == NULL || mean == NULL || var == NULL))
+        return sl_fail(err, SL_EINVAL, "badarg", "moments: no members, weights or output");
+    for (k = 0; k < K; k++) {
+        const double *wk = w + k * N;
+        double total;
+        sl_status st = block_weights("moments", wk, N, k, &total, err);
+        if (st != SL_OK)
+            return st;
+        for (i = 0; i < m; i++) {
+            const double *x = X + k * m * N + i;
+            double mu = 0, v = 0;
+            for (j = 0; j < N; j++) {
+                if (wk[j] == 0)
+                    continue; /* no part in either sum */
+                if (!isfinite(x[j * m]))
+                    return sl_fail(err, SL_EINVAL, "nonfinite",
+                                   "moments: member %lu of row %lu of block %lu is not finite",
+                                   (unsigned long)(j + 1), (unsigned long)(i + 1),
+                                   (unsigned long)(k + 1));
+                mu += (wk[j] / total) * x[j * m];
+            }
+            /* two passes: the squares of deviations from the mean, never
+             * the difference of two large sums */
+            for (j = 0; j < N; j++) {
+                double d;
+                if (wk[j] == 0)
+                    continue;
+                d = x[j * m] - mu;
+                v += (wk[j] / total) * (d * d);
+            }
+            mean[k * m + i] = mu;
+            var[k * m + i] = v;
+        }
+    }
+    return SL_OK;
+}
+
 size_t sl_scores_crps_weighted_workspace(size_t N)
 {
     return 2 * N;
@@ -183,21 +251,10 @@ sl_status sl_scores_crps_weighted(size_t m, size_t N, size_t K,
         return st;
     for (k = 0; k < K; k++) {
         const double *wk = w + k * N;
-        double total = 0;
-        for (j = 0; j < N; j++) {
-            if (!(isfinite(wk[j]) && wk[j] >= 0))
-                return sl_fail(err, SL_EINVAL, "badweights",
-                               "crps: weight %lu of block %lu must be finite "
-                               "and >= 0, got %g",
-                               (unsigned long)(j + 1), (unsigned long)(k + 1),
-                               wk[j]);
-            total += wk[j];
-        }
-        if (!(total > 0) || !isfinite(total))
-            return sl_fail(err, SL_EINVAL, "badweights",
-                           "crps: the weights of block %lu must have a finite "
-                           "positive sum, got %g",
-                           (unsigned long)(k + 1), total);
+        double total;
+        st = block_weights("crps", wk, N, k, &total, err);
+        if (st != SL_OK)
+            return st;
         for (i = 0; i < m; i++) {
             const double *x = X + k * m * N + i;
             const double yi = y[k * m + i];

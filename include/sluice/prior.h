@@ -114,6 +114,13 @@ int sl_dist_find(const char *name);
  * number is wrong). `index` (1-based) is named in the message. */
 sl_status sl_prior_check(const sl_prior_entry *e, size_t index, sl_error *err);
 
+/* The verdict of sl_prior_check without its message: NULL for a valid
+ * entry; else what is wrong (the distribution's own words, "the standard
+ * deviation must be positive and finite"; "unknown distribution id"),
+ * *reason then "badprior" or "baddist" (NULL for a valid entry). The
+ * text is static; callers add which entry it is. */
+const char *sl_prior_fault(const sl_prior_entry *e, const char **reason);
+
 /* The support of the entry's distribution: bounds for the transform. */
 void sl_prior_support(const sl_prior_entry *e, double *lo, double *hi);
 

@@ -51,6 +51,20 @@ sl_status sl_scores_crps_weighted(size_t m, size_t N, size_t K,
                                   const double *y, double *crps, double *work,
                                   sl_error *err);
 
+/* Weighted mean and variance of each row of K weighted ensembles, laid
+ * out as for sl_scores_crps_weighted (X m x N x K, w N x K): with the
+ * block's weights normalised, v_j = w_j / sum w,
+ *     mean = sum_j v_j x_j,   var = sum_j v_j (x_j - mean)^2
+ * (the variance of the weighted empirical distribution, no small-sample
+ * correction), in two passes. Results go to mean[i + k*m], var[i + k*m].
+ * A member of weight 0 has no part (and may be non-finite). Fails
+ * (SL_EINVAL) as sl_scores_crps_weighted does: N = 0 ("empty"), a member
+ * of positive weight not finite ("nonfinite"), bad weights
+ * ("badweights"). */
+sl_status sl_scores_weighted_moments(size_t m, size_t N, size_t K,
+                                     const double *X, const double *w,
+                                     double *mean, double *var, sl_error *err);
+
 /* Rank of the observation among the members of each row, 1 .. N+1:
  * rank[i] = 1 + #{x_j < y[i]} + u, where u is uniform on 0 .. #{x_j = y[i]}
  * (ties broken at random). u is drawn from the stream

@@ -122,7 +122,7 @@ function pr = prior (varargin)
              k + 2, name, dists{id}, forms{id}, sluice.internal.describe (args));
     end
     args = args(:)';
-    [lower, upper] = check_args (dists{id}, args, name, k + 2);
+    [lower, upper] = check_args (id - 1, args, name, k + 2);
 
     k = k + 3;
     if (k <= nargin && is_bounds_key (varargin{k}))
@@ -152,55 +152,18 @@ function tf = is_bounds_key (x)
   tf = ischar (x) && isrow (x) && strcmpi (x, 'bounds');
 end
 
-function [lower, upper] = check_args (dist, args, name, pos)
-  where = sprintf ('argument %d (arguments of ''%s'')', pos, name);
-  switch (dist)
-    case 'truncnormal'
-      finite_part = args(1:2);
-      if (any (isnan (args(3:4))))
-        error ('sluice:prior:badargs', '%s: the truncation bounds must not be NaN', where);
-      end
-    otherwise
-      finite_part = args;
-  end
-  if (~all (isfinite (finite_part)))
-    error ('sluice:prior:badargs', '%s: expected finite values, got %s', ...
-           where, mat2str (args));
-  end
-  switch (dist)
-    case 'uniform'
-      if (~(args(1) < args(2)))
-        error ('sluice:prior:badargs', '%s: expected lo < hi, got %s', ...
-               where, mat2str (args));
-      end
-      lower = args(1);
-      upper = args(2);
-    case {'normal', 'lognormal'}
-      if (~(args(2) > 0))
-        error ('sluice:prior:badargs', ...
-               '%s: the standard deviation must be > 0, got %g', where, args(2));
-      end
-      if (strcmp (dist, 'normal'))
-        lower = -Inf;
-      else
-        lower = 0;
-      end
-      upper = Inf;
-    case 'truncnormal'
-      if (~(args(2) > 0))
-        error ('sluice:prior:badargs', ...
-               '%s: the standard deviation must be > 0, got %g', where, args(2));
-      end
-      if (~(args(3) < args(4)))
-        error ('sluice:prior:badargs', ...
-               '%s: expected truncation bounds lo < hi, got [%g %g]', ...
-               where, args(3), args(4));
-      end
-      lower = args(3);
-      upper = args(4);
-    otherwise
-      lower = args(1);
-      upper = args(1);
+function [lower, upper] = check_args (id, args, name, pos)
+  % the core's verdict on the numbers (sl_prior_fault) and the support:
+  % a, b, lo, hi as the core holds an entry, unused ones at rest values
+  v = [0 0 -Inf Inf];
+  v(1:numel (args)) = args;
+  [reason, what, lower, upper] = sluice.kernel.prior_eval ('check', id, ...
+                                                           v(1), v(2), v(3), v(4));
+  what = what{1};
+  if (~isempty (reason{1}))
+    error ('sluice:prior:badargs', '%s: %s, got %s', ...
+           sprintf ('argument %d (arguments of ''%s'')', pos, name), what, ...
+           mat2str (args));
   end
 end
 

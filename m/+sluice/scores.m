@@ -221,13 +221,10 @@ end
 
 function [V, C] = ensemble_scores (X, W, Y)
   % weighted variance and CRPS of n x N x K members with N x K weights at
-  % the n x K truth, all rows and times at once
-  [n, N, K] = size (X);
+  % the n x K truth, all rows and times at once, in the core
+  N = size (X, 2);
   W = W ./ sum (W, 1);
-  Wb = reshape (repmat (reshape (W, 1, N, K), [n 1 1]), n, N, K);
-  m = sum (Wb .* X, 2);                                   % n x 1 x K
-  V = reshape (sum (Wb .* (X - m) .^ 2, 2), n, K);
-  % the weighted CRPS of every row and time in the core
+  [~, V] = sluice.kernel.scores ('moments', X, W);
   C = sluice.kernel.scores ('crps_weighted', X, Y, W);
   % cycles with equal weights: the ensemble CRPS itself
   equal = all (abs (W - 1 / N) <= 1e-12 / N, 1);
@@ -292,15 +289,15 @@ function inn = innovations (res, obs, has_history)
     if (any (isst))
       X = res.history.X;
       W = res.history.w;
-      W = W ./ sum (W, 1);
       rr = rows(isst);
-      xs = zeros (numel (rr), size (X, 2));
+      % each observed point as a one-row block with the weights of its
+      % cycle: the weighted variance of its members, in the core
+      xs = zeros (1, size (X, 2), numel (rr));
       for k = 1:numel (rr)
-        xs(k, :) = X(vi(rr(k)), :, ci(rr(k)));
+        xs(1, :, k) = X(vi(rr(k)), :, ci(rr(k)));
       end
-      wk = W(:, ci(rr))';
-      mk = sum (wk .* xs, 2);
-      av(isst) = sum (wk .* (xs - mk) .^ 2, 2);
+      [~, v] = sluice.kernel.scores ('moments', xs, W(:, ci(rr)));
+      av(isst) = v(:);
     end
   end
 
@@ -610,3 +607,31 @@ end
 %!error id=sluice:scores:badclass sluice.kernel.scores ('crps_weighted', ones (1, 2, 2, 2), 1, [1; 1])
 %!error id=sluice:scores:empty sluice.kernel.scores ('crps_weighted', zeros (1, 0), 1, zeros (0, 1))
 %!error id=sluice:scores:nargin sluice.kernel.scores ('crps_weighted', [1 2], 1)
+
+% the weighted mean and variance kernel
+%!test
+%! % members {1, 2, 4}, weights {1, 1, 2} -> {1/4, 1/4, 1/2}: mean 2.75,
+%! % variance (1.75^2 + 0.75^2) / 4 + 1.25^2 / 2 = 1.6875 (by hand); equal
+%! % weights: Octave's var (x, 1); a member of weight 0 has no part, even NaN
+%! [mu, v] = sluice.kernel.scores ('moments', [1 2 4], [1; 1; 2]);
+%! assert ([mu v], [2.75 1.6875], 1e-15);
+%! X = cat (3, [1 NaN 2 4; 3 NaN 5 9], [1 7 2 4; 0.5 -2 8 1]);
+%! W = [1 0 1 2; 1 1 1 1]';
+%! [mu, v] = sluice.kernel.scores ('moments', X, W);
+%! assert (size (mu), [2 2]);
+%! assert (mu(:, 1), [2.75; 6.5], 1e-15);
+%! assert (v(:, 1), [1.6875; 0.25 * 3.5^2 + 0.25 * 1.5^2 + 0.5 * 2.5^2], 1e-14);
+%! assert (mu(:, 2), mean (X(:, :, 2), 2), 1e-15);
+%! assert (v(:, 2), var (X(:, :, 2), 1, 2), 1e-14);
+%! assert (sluice.kernel.scores ('moments', [1 2 4], [1; 1; 2]), 2.75, 1e-15);
+%!error id=sluice:scores:badweights sluice.kernel.scores ('moments', [1 2], [1; -1])
+%!error id=sluice:scores:badweights sluice.kernel.scores ('moments', [1 2], [0; 0])
+%!error id=sluice:scores:badweights sluice.kernel.scores ('moments', [1 2], [1; NaN])
+%!error id=sluice:scores:nonfinite sluice.kernel.scores ('moments', [1 Inf], [1; 1])
+%!error id=sluice:scores:badsize sluice.kernel.scores ('moments', [1 2], [1; 1; 1])
+%!error id=sluice:scores:badclass sluice.kernel.scores ('moments', single ([1 2]), [1; 1])
+%!error id=sluice:scores:badclass sluice.kernel.scores ('moments', ones (1, 2, 2, 2), [1; 1])
+%!error id=sluice:scores:empty sluice.kernel.scores ('moments', zeros (1, 0), zeros (0, 1))
+%!error id=sluice:scores:nargin sluice.kernel.scores ('moments', [1 2], [1; 1], 1)
+%!error id=sluice:scores:nargout [a, b, c] = sluice.kernel.scores ('moments', [1 2], [1; 1])
+%!error id=sluice:scores:nargout [a, b] = sluice.kernel.scores ('crps', [1 2], 1)

@@ -607,17 +607,29 @@ static void expect_check(sl_prior_entry e, const char *reason, const char *what)
 {
     sl_error err;
     sl_status st;
+    const char *freason = "unset", *fwhat;
     sl_error_clear(&err);
     st = sl_prior_check(&e, 3, &err);
+    /* the verdict without the message says the same: no fault for a valid
+     * entry; else the same reason, and words the message ends with */
+    fwhat = sl_prior_fault(&e, &freason);
     if (reason == NULL) {
         CHECK(st == SL_OK, "%s: expected valid, got %s (%s)", what, err.reason,
               err.message);
+        CHECK(fwhat == NULL && freason == NULL, "%s: sl_prior_fault finds no fault", what);
         return;
     }
     CHECK(st == SL_EINVAL && strcmp(err.reason, reason) == 0 &&
               strstr(err.message, "parameter 3") != NULL,
           "%s: expected %s naming parameter 3, got status %d reason '%s' (%s)",
           what, reason, (int)st, err.reason, err.message);
+    CHECK(fwhat != NULL && freason != NULL && strcmp(freason, reason) == 0,
+          "%s: sl_prior_fault gives reason %s", what, reason);
+    if (fwhat != NULL && strcmp(reason, "badprior") == 0) {
+        size_t lm = strlen(err.message), lw = strlen(fwhat);
+        CHECK(lw > 0 && lm >= lw && strcmp(err.message + lm - lw, fwhat) == 0,
+              "%s: the message '%s' ends with the verdict '%s'", what, err.message, fwhat);
+    }
 }
 
 static void test_names_and_errors(void)
@@ -702,6 +714,11 @@ static void test_names_and_errors(void)
     st = sl_prior_check(NULL, 1, &err);
     CHECK(st == SL_EINVAL && strcmp(err.reason, "badprior") == 0, "NULL entry");
     CHECK(sl_prior_check(NULL, 1, NULL) == SL_EINVAL, "err may be NULL");
+    {
+        const char *r = NULL;
+        CHECK(sl_prior_fault(NULL, &r) != NULL && r != NULL && strcmp(r, "badprior") == 0,
+              "sl_prior_fault: NULL entry");
+    }
 
     /* sl_prior_draw: the entry checks, in order, name the parameter */
     {

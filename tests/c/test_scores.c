@@ -1,6 +1,7 @@
 /* test_scores.c - ensemble CRPS and observation ranks: hand-computed cases,
  * the Gaussian closed form, the naive double sum, and rank histograms; the
  * weighted CRPS against its defining double sum and a two-point ensemble;
+ * the weighted mean and variance against a hand-computed case and GSL;
  * NSE and KGE against hand-computed cases and their definitions. */
 #include "check.h"
 #include "sluice/scores.h"
@@ -12,6 +13,7 @@
 #include <gsl/gsl_cdf.h>
 #include <gsl/gsl_randist.h>
 #include <gsl/gsl_math.h>
+#include <gsl/gsl_statistics_double.h>
 
 /* CRPS of N(mu, s^2) at y: s [z (2 Phi(z) - 1) + 2 phi(z) - 1/sqrt(pi)],
  * z = (y - mu)/s (Gneiting & Raftery 2007), with GSL's Phi and phi. */
@@ -521,6 +523,78 @@ int main(void)
                       strcmp(err.reason, "empty") == 0, "no members");
             CHECK(sl_scores_crps_weighted(0, 2, 1, xe, wok, &ye, &c, work, &err) == SL_OK,
                   "no rows");
+        }
+    }
+
+    /* ---- weighted mean and variance ---- */
+    {
+        enum { MM = 3, MN = 57, MK = 3 };
+        static double X[MM * MN * MK], W[MN * MK], M[MM * MK], V[MM * MK];
+        double col[MN], wcol[MN];
+        size_t k, n;
+        /* by hand: members {1, 2, 4}, weights {1, 1, 2} -> {1/4, 1/4, 1/2}:
+         * mean 1/4 + 2/4 + 4/2 = 2.75; variance
+         * (1.75^2 + 0.75^2) / 4 + 1.25^2 / 2 = 1.6875 (all exact in binary) */
+        {
+            const double xh[3] = {1, 2, 4}, wh[3] = {1, 1, 2};
+            double mh, vh;
+            CHECK(sl_scores_weighted_moments(1, 3, 1, xh, wh, &mh, &vh, &err) == SL_OK,
+                  "moments by hand: %s", err.message);
+            CHECK_CLOSE(mh, 2.75, 0, "weighted mean by hand");
+            CHECK_CLOSE(vh, 1.6875, 0, "weighted variance by hand");
+        }
+        sl_stream_init(&s, 4411, 0, 0, SL_PURPOSE_USER);
+        for (i = 0; i < MM * MN * MK; i++)
+            X[i] = (i % MM == 2 ? 1e6 : 3.7) + 2.1 * sl_stream_normal(&s);
+        for (i = 0; i < MN * MK; i++)
+            W[i] = sl_stream_uniform(&s) * (i % 5 == 1 ? 0 : 1); /* some zero */
+        /* a NaN member of weight 0 has no part */
+        X[MM * 4 + 1] = NAN;
+        W[4] = 0;
+        CHECK(sl_scores_weighted_moments(MM, MN, MK, X, W, M, V, &err) == SL_OK,
+              "weighted moments: %s", err.message);
+        for (k = 0; k < MK; k++)
+            for (i = 0; i < MM; i++) {
+                double sw = 0, sw2 = 0, mu, v0, vu;
+                /* GSL takes the members of positive weight (a NaN member
+                 * of weight 0 would poison its sums) */
+                n = 0;
+                for (j = 0; j < MN; j++)
+                    if (W[k * MN + j] > 0) {
+                        col[n] = X[k * MM * MN + j * MM + i];
+                        wcol[n] = W[k * MN + j];
+                        sw += wcol[n];
+                        sw2 += wcol[n] * wcol[n];
+                        n++;
+                    }
+                /* GSL's weighted mean; its variance with a given mean,
+                 * sum w (x - mu)^2 / sum w, is the handbook formula with
+                 * normalised weights and no correction */
+                mu = gsl_stats_wmean(wcol, 1, col, 1, n);
+                v0 = gsl_stats_wvariance_with_fixed_mean(wcol, 1, col, 1, n, mu);
+                CHECK_REL(M[k * MM + i], mu, 1e-14, "weighted mean vs gsl_stats_wmean");
+                CHECK_REL(V[k * MM + i], v0, 1e-12,
+                          "weighted variance vs gsl_stats_wvariance_with_fixed_mean");
+                /* gsl_stats_wvariance is normalised otherwise: it carries
+                 * the factor (sum w)^2 / ((sum w)^2 - sum w^2) of an
+                 * unbiased estimate, which ours does not */
+                vu = gsl_stats_wvariance(wcol, 1, col, 1, n);
+                CHECK_REL(V[k * MM + i] * (sw * sw / (sw * sw - sw2)), vu, 1e-12,
+                          "gsl_stats_wvariance = ours times the bias factor");
+            }
+        /* errors as for the weighted CRPS */
+        {
+            const double xe[2] = {1, 2}, xinf[2] = {1, INFINITY};
+            const double wneg[2] = {1, -0.5}, wzero[2] = {0, 0}, wok[2] = {1, 1};
+            double me, ve;
+            CHECK(sl_scores_weighted_moments(1, 2, 1, xe, wneg, &me, &ve, &err) == SL_EINVAL &&
+                      strcmp(err.reason, "badweights") == 0, "moments: negative weight");
+            CHECK(sl_scores_weighted_moments(1, 2, 1, xe, wzero, &me, &ve, &err) == SL_EINVAL &&
+                      strcmp(err.reason, "badweights") == 0, "moments: zero sum");
+            CHECK(sl_scores_weighted_moments(1, 2, 1, xinf, wok, &me, &ve, &err) == SL_EINVAL &&
+                      strcmp(err.reason, "nonfinite") == 0, "moments: infinite member");
+            CHECK(sl_scores_weighted_moments(1, 0, 1, xe, wok, &me, &ve, &err) == SL_EINVAL &&
+                      strcmp(err.reason, "empty") == 0, "moments: no members");
         }
     }
 

@@ -67,7 +67,7 @@
 
 % priors
 %!error id=sluice:filter:badprior q = pr; q.args = [0 -1]; sluice.filter (lin, q, obs, 'progress', false)
-%!error <expected a standard deviation> q = pr; q.args = [0 -1]; sluice.filter (lin, q, obs, 'progress', false)
+%!error <the standard deviation must be positive> q = pr; q.args = [0 -1]; sluice.filter (lin, q, obs, 'progress', false)
 %!error id=sluice:twin:badprior q = pr; q.dist = {'normal'}; sluice.twin (lin, truth, net, 'prior', q)
 %!error <option 'prior'> q = pr; q.dist = {'normal'}; sluice.twin (lin, truth, net, 'prior', q)
 %!error id=sluice:evidence:badprior sluice.evidence (lin, rmfield (pr, 'upper'), obs)

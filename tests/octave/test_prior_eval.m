@@ -79,7 +79,7 @@
 %!error id=sluice:prior_eval:nargout [u, v] = sluice.kernel.prior_eval ('forward', 0, 1, 0.5)
 %!error id=sluice:prior_eval:badclass sluice.kernel.prior_eval (3, 0, 1, 0.5)
 %!error id=sluice:prior_eval:badclass sluice.kernel.prior_eval ({'forward'}, 0, 1, 0.5)
-%!error <expected 'logpdf', 'logprior', 'forward', 'inverse' or 'logjac', got 'backward'> sluice.kernel.prior_eval ('backward', 0, 1, 0.5)
+%!error <expected 'logpdf', 'logprior', 'forward', 'inverse', 'logjac' or 'check', got 'backward'> sluice.kernel.prior_eval ('backward', 0, 1, 0.5)
 %!error id=sluice:prior_eval:badmode sluice.kernel.prior_eval ('Forward', 0, 1, 0.5)
 %!error id=sluice:prior_eval:badclass sluice.kernel.prior_eval ('forward', single (0), 1, 0.5)
 %!error id=sluice:prior_eval:badclass sluice.kernel.prior_eval ('forward', 0, int8 (1), 0.5)
@@ -105,3 +105,31 @@
 %!error id=sluice:prior_eval:baddist sluice.kernel.prior_eval ('logprior', -1, 0, 1, -Inf, Inf, 1)
 %!error <parameter 1 \(normal \[mean sd\] = \[0 -1\]\): the standard deviation> sluice.kernel.prior_eval ('logpdf', 1, 0, -1, -Inf, Inf, 1)
 %!error id=sluice:prior_eval:badprior sluice.kernel.prior_eval ('logprior', [0 3], [0 0], [1 1], [0 2], [0 1], [0.5; 0.5])
+
+% mode 'check': the core's verdict on every entry (sl_prior_fault) and its
+% support, raising nothing; the supports are those the header gives each
+% distribution (include/sluice/prior.h), the verdicts its checks' words
+%!test
+%! ids = [0 1 2 3 4 0 1 3 7 3];
+%! a = [-1.37 0 0 0.2 1.25 2 0 0 0 0];
+%! b = [2.385 1 0.4 0.1 0 1 -1 1 1 1];
+%! lo = [-Inf -Inf -Inf 0 -Inf -Inf -Inf NaN -Inf 3];
+%! hi = [Inf Inf Inf Inf Inf Inf Inf 2 Inf 2];
+%! [r, w, slo, shi] = sluice.kernel.prior_eval ('check', ids, a, b, lo, hi);
+%! assert (r, {'', '', '', '', '', 'badprior', 'badprior', 'badprior', 'baddist', 'badprior'});
+%! assert (w(1:5), {'', '', '', '', ''});
+%! assert (w{6}, 'the lower limit must be below the upper limit');
+%! assert (w{7}, 'the standard deviation must be positive and finite');
+%! assert (w{8}, 'the truncation bounds must not be NaN');
+%! assert (w{9}, 'unknown distribution id');
+%! assert (w{10}, 'the lower truncation bound must be below the upper one');
+%! assert (slo, [-1.37 -Inf 0 0 1.25 NaN NaN NaN NaN NaN]);
+%! assert (shi, [2.385 Inf Inf Inf 1.25 NaN NaN NaN NaN NaN]);
+%!test
+%! % one output: the reasons alone
+%! assert (sluice.kernel.prior_eval ('check', 4, NaN, 0, -Inf, Inf), {'badprior'});
+%!error id=sluice:prior_eval:nargin sluice.kernel.prior_eval ('check', 0, 0, 1, -Inf, Inf, 1)
+%!error id=sluice:prior_eval:nargout [a, b, c, d, e] = sluice.kernel.prior_eval ('check', 0, 0, 1, -Inf, Inf)
+%!error id=sluice:prior_eval:nargout [a, b] = sluice.kernel.prior_eval ('logpdf', 0, 0, 1, -Inf, Inf, 0.5)
+%!error <argument 2 \(dist_ids\): element 1 is 0.5> sluice.kernel.prior_eval ('check', 0.5, 0, 1, -Inf, Inf)
+%!error id=sluice:prior_eval:badsize sluice.kernel.prior_eval ('check', [0 1], 0, [1 1], [0 0], [1 1])

@@ -15,6 +15,7 @@ function [ids, a, b, lo, hi, names] = check_prior (prior, pos, fn)
   end
   dists = core.distributions;
   counts = core.distribution_args;
+  forms = core.distribution_forms;
   fields = {'name', 'dist', 'args', 'lower', 'upper'};
   id = ['sluice:' fn ':badprior'];
   if (ischar (pos))
@@ -63,7 +64,6 @@ function [ids, a, b, lo, hi, names] = check_prior (prior, pos, fn)
       error (id, '%s: entry %d (''%s''): a %s prior takes %d real double arguments, got %s', ...
              where, k, name, dist, counts(d), sluice.internal.describe (args));
     end
-    check_args (dist, args, where, k, name, id);
     ids(k) = d - 1;
     a(k) = args(1);
     if (counts(d) >= 2)
@@ -73,41 +73,20 @@ function [ids, a, b, lo, hi, names] = check_prior (prior, pos, fn)
       lo(k) = args(3);
       hi(k) = args(4);
     end
-    check_bounds (prior(k), k, name, dist, args, where, id);
   end
-end
-
-function check_args (dist, args, where, k, name, id)
-  % the values sluice.prior accepts for each distribution
-  head = sprintf ('%s: entry %d (''%s''): %s arguments', where, k, name, dist);
-  if (strcmp (dist, 'truncnormal'))
-    if (~all (isfinite (args(1:2))) || any (isnan (args(3:4))))
-      error (id, '%s must be a finite mean and sd and bounds without NaN, got %s', ...
-             head, mat2str (args));
+  % the numbers of every entry and their supports: the core's verdict
+  [reasons, whats, slo, shi] = sluice.kernel.prior_eval ('check', ids, a, b, lo, hi);
+  for k = 1:p
+    if (~isempty (reasons{k}))
+      error (id, '%s: entry %d (''%s''): %s arguments %s = %s: %s', where, k, ...
+             names{k}, dists{ids(k) + 1}, forms{ids(k) + 1}, ...
+             mat2str (prior(k).args(:)'), whats{k});
     end
-  elseif (~all (isfinite (args)))
-    error (id, '%s must be finite, got %s', head, mat2str (args));
-  end
-  switch (dist)
-    case 'uniform'
-      ok = args(1) < args(2);
-      expected = 'lo < hi';
-    case {'normal', 'lognormal'}
-      ok = args(2) > 0;
-      expected = 'a standard deviation > 0';
-    case 'truncnormal'
-      ok = args(2) > 0 && args(3) < args(4);
-      expected = 'a standard deviation > 0 and lo < hi';
-    otherwise
-      ok = true;
-      expected = '';
-  end
-  if (~ok)
-    error (id, '%s: expected %s, got %s', head, expected, mat2str (args));
+    check_bounds (prior(k), k, names{k}, dists{ids(k) + 1}, [slo(k) shi(k)], where, id);
   end
 end
 
-function check_bounds (pr, k, name, dist, args, where, id)
+function check_bounds (pr, k, name, dist, support, where, id)
   % The bounds of an entry are what the filters transform with (log,
   % logit) and clip to; sluice.prior makes them contain the support of
   % the distribution, so every draw lies inside them. A hand-edited entry
@@ -120,18 +99,6 @@ function check_bounds (pr, k, name, dist, args, where, id)
         && lower <= upper))
     error (id, '%s: entry %d (''%s''): lower and upper must be real scalars with lower <= upper', ...
            where, k, name);
-  end
-  switch (dist)
-    case 'uniform'
-      support = args(1:2);
-    case 'normal'
-      support = [-Inf Inf];
-    case 'lognormal'
-      support = [0 Inf];
-    case 'truncnormal'
-      support = args(3:4);
-    otherwise
-      support = [args(1) args(1)];
   end
   if (~(lower <= support(1) && upper >= support(2)))
     error (id, ['%s: entry %d (''%s''): the bounds [%g %g] must contain ', ...
