@@ -70,7 +70,7 @@ function [spec, rebuilt] = build_model (cfile, varargin)
   if (nargin < 1)
     sluice.internal.compat ('usage', mfilename ());
   end
-  if (~ischar (cfile) || isempty (cfile) || size (cfile, 1) ~= 1)
+  if (~ischar (cfile) || isempty (cfile) || ~isrow (cfile))
     error ('sluice:build_model:badclass', ...
            'argument 1 (cfile): expected the name of a C file, got %s', describe (cfile));
   end
@@ -194,13 +194,13 @@ function [opts, rest] = parse_options (args)
   for k = 1:2:numel (args)
     key = args{k};
     val = args{k + 1};
-    if (~ischar (key) || size (key, 1) ~= 1)
+    if (~ischar (key) || ~isrow (key))
       error ('sluice:build_model:badoption', 'option %d: expected a name, got %s', ...
              (k + 1) / 2, describe (key));
     end
     switch (lower (key))
       case 'outdir'
-        if (~ischar (val) || isempty (val) || size (val, 1) ~= 1)
+        if (~ischar (val) || isempty (val) || ~isrow (val))
           error ('sluice:build_model:badoption', ...
                  '''outdir'' must be the name of a folder, got %s', describe (val));
         end
@@ -532,6 +532,7 @@ end
 %!error id=sluice:build_model:badoption sluice.build_model ('/nonexistent/m.c', 'force', [true true])
 %!error id=sluice:build_model:badname sluice.build_model ('/nonexistent/m.c', 'name', '2x')
 %!error id=sluice:build_model:badname sluice.build_model ('/nonexistent/m.c', 'name', repmat ('a', 1, 60))
+%!error id=sluice:build_model:badclass sluice.build_model (cat (3, 'a.c', 'b.c'))
 %!error <nonexistent> sluice.build_model ('/nonexistent/folder/model.c')
 %!test
 %! % a file that is not C, and a file name that is no Octave name

@@ -82,7 +82,7 @@ function [ll, nskipped] = loglik (family, y, Yhat, sigma, aux)
     sluice.internal.compat ('usage', mfilename ());
   end
   if (nargin < 5)
-    if (ischar (family))
+    if (ischar (family) && isrow (family))
       names = {family};
     elseif (iscellstr (family))
       names = family(:)';
@@ -214,6 +214,7 @@ end
 % argument count
 %!error id=sluice:loglik:usage sluice.loglik ()
 %!error id=sluice:loglik:usage sluice.loglik ('gaussian', 1, 1)
+%!error id=sluice:loglik:badclass sluice.loglik (cat (3, 'gaussian', 'gaussian'), 1, 1, 1)
 %!error id=Octave:invalid-fun-call sluice.loglik ('gaussian', 1, 1, 1, 1, 1)
 %!error id=sluice:loglik:nargin sluice.kernel.loglik ('gaussian', 1, 1, 1)
 %!error id=sluice:loglik:nargout [a, b, c] = sluice.kernel.loglik ('gaussian', 1, 1, 1, NaN)

@@ -141,7 +141,7 @@ function spec = model (kind, varargin)
     spec.name = func2str (kind);
     spec.fun = kind;
     spec.handle_kind = 'step';
-  elseif ((ischar (kind) && any (strcmp (kind, sluice.kernel.model_info ()))) || ...
+  elseif ((ischar (kind) && isrow (kind) && any (strcmp (kind, sluice.kernel.model_info ()))) || ...
           (isstruct (kind) && isscalar (kind) && isfield (kind, 'engine')))
     if (ischar (kind))
       info = sluice.kernel.model_info (kind);
@@ -185,7 +185,7 @@ function spec = model (kind, varargin)
   for k = 1:2:numel (varargin)
     name = varargin{k};
     val = varargin{k + 1};
-    if (~ischar (name))
+    if (~ischar (name) || ~isrow (name))
       error ('sluice:model:badoption', 'option %d: expected a name', (k + 1) / 2);
     end
     switch (lower (name))
@@ -588,4 +588,6 @@ end
 %!error id=sluice:model:badname sluice.model (@(t, X, P, U, dt) X, 'states', {'a', 'a'})
 %!error id=sluice:model:badname sluice.model (@(t, X, P, U, dt) X, 'states', {'a'}, 'params', {'a'})
 %!error id=sluice:model:nostates sluice.model (@(t, X, P, U, dt) X)
+%!error id=sluice:model:badoption sluice.model ('linear', cat (3, 'A', 'A'), 0.9)
+%!error id=sluice:model:badmodel sluice.model (cat (3, 'flood', 'flood'))
 %!error id=sluice:model:badsize sluice.model (@(t, X, P, U, dt) X, 'params', {'k'}, 'defaults', [1 2], 'n', 1)

@@ -130,3 +130,4 @@ end
 %!error id=sluice:rank_histogram:badseed sluice.rank_histogram ([1 2], 1, 'seed', 'a')
 %!error id=sluice:rank_histogram:badseed sluice.rank_histogram ([1 2], 1, 'seed', [1 2])
 %!error id=sluice:rank_histogram:badseed sluice.rank_histogram ([1 2], 1, 'seed', NaN)
+%!error id=sluice:rank_histogram:badoption sluice.rank_histogram ([1 2], 1, cat (3, 'seed', 'seed'), 1)

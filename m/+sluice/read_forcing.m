@@ -100,7 +100,7 @@ function [forcing, info] = read_forcing (filename, varargin)
   if (nargin < 1)
     sluice.internal.compat ('usage', mfilename ());
   end
-  if (~ischar (filename) || isempty (filename) || size (filename, 1) ~= 1)
+  if (~ischar (filename) || isempty (filename) || ~isrow (filename))
     error ('sluice:read_forcing:badfilename', ...
            'argument 1 (filename): expected a file name (a character string)');
   end
@@ -113,7 +113,7 @@ function [forcing, info] = read_forcing (filename, varargin)
   unit_days = tm.unit_days;
   datenums = tm.datenums;
   fills = {'error', 'interpolate', 'zero'};
-  if (~ischar (opts.missing) || ~any (strcmpi (opts.missing, fills)))
+  if (~ischar (opts.missing) || ~isrow (opts.missing) || ~any (strcmpi (opts.missing, fills)))
     error ('sluice:read_forcing:badoption', ...
            'option ''missing'': expected ''error'', ''interpolate'' or ''zero''');
   end
@@ -202,6 +202,8 @@ end
 %!error id=sluice:read_forcing:noorigin sluice.read_forcing ('x.csv', 'time_numbers', 'datenum')
 %!error id=sluice:read_forcing:badorigin sluice.read_forcing ('x.csv', 'origin', {'2001-01-01'})
 %!error id=sluice:read_forcing:badorigin sluice.read_forcing ('x.csv', 'origin', '2001-02-30')
+%!error id=sluice:read_forcing:badfilename sluice.read_forcing (cat (3, 'a.csv', 'b.csv'))
+%!error id=sluice:read_forcing:badoption sluice.read_forcing ('x.csv', 'missing', cat (3, 'zero', 'zero'))
 %!test
 %! f = csvfile (sprintf ('time,rain\n0,1\n1,\n'));
 %! try

@@ -101,7 +101,7 @@ function [obs, nmissing, info] = read_obs (filename, varargin)
   if (nargin < 1)
     sluice.internal.compat ('usage', mfilename ());
   end
-  if (~ischar (filename) || isempty (filename) || size (filename, 1) ~= 1)
+  if (~ischar (filename) || isempty (filename) || ~isrow (filename))
     error ('sluice:read_obs:badfilename', ...
            'argument 1 (filename): expected a file name (a character string)');
   end
@@ -189,6 +189,7 @@ end
 %!error <Invalid call> sluice.read_obs ()
 %!error id=sluice:read_obs:badfilename sluice.read_obs (3)
 %!error id=sluice:read_obs:badfilename sluice.read_obs ('')
+%!error id=sluice:read_obs:badfilename sluice.read_obs (cat (3, 'a.csv', 'b.csv'))
 %!error id=sluice:read_obs:nofile sluice.read_obs ([tempname() '.csv'])
 %!test
 %! f = csvfile (sprintf ('time,variable,value\n0,h,1\n'));

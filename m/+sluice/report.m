@@ -348,8 +348,8 @@ function opts = parse_options (args)
   end
   for k = 1:2:numel (args)
     name = args{k};
-    if (~ischar (name) || ~isfield (opts, name))
-      if (ischar (name))
+    if (~ischar (name) || ~isrow (name) || ~isfield (opts, name))
+      if (ischar (name) && isrow (name))
         what = ['''', name, ''''];
       else
         what = ['a ', class(name)];
@@ -360,7 +360,7 @@ function opts = parse_options (args)
     opts.(name) = args{k + 1};
   end
   d = opts.outdir;
-  if (~ischar (d) || isempty (d) || size (d, 1) ~= 1)
+  if (~ischar (d) || isempty (d) || ~isrow (d))
     error ('sluice:report:badoutdir', 'outdir must be a non-empty string (a directory path)');
   end
   if (~isstruct (opts.units) || ~isscalar (opts.units))
@@ -2461,6 +2461,8 @@ end
 %!error <Invalid call> sluice.report ()
 %!error id=sluice:report:badresult sluice.report (1)
 %!error id=sluice:report:badresult sluice.report (struct ('filter', 1))
+%!error id=sluice:report:badoption sluice.report (struct ('filter', 1), ['o'; 'u'; 't'], 'x')
+%!error id=sluice:report:badoutdir sluice.report (struct ('times', 1, 'state_names', {{}}, 'param_names', {{}}, 'states', 1, 'params', 1, 'quantile_levels', 0.5, 'ess', 1, 'resampled', false, 'members', 1), 'outdir', cat (3, 'ab', 'ab'))
 %!error id=sluice:report:badoutdir sluice.report (struct ('times', 1, 'state_names', {{}}, 'param_names', {{}}, 'states', 1, 'params', 1, 'quantile_levels', 0.5, 'ess', 1, 'resampled', false, 'members', 1), 'outdir', 7)
 
 %!shared r0, o0

@@ -79,7 +79,7 @@ function a = resample (w, varargin)
   opt_names = {'count', 'seed', 'cycle'};
   scheme = 'systematic';
   args = varargin;
-  if (numel (args) >= 1 && ~(ischar (args{1}) && any (strcmpi (args{1}, opt_names))))
+  if (numel (args) >= 1 && ~(ischar (args{1}) && isrow (args{1}) && any (strcmpi (args{1}, opt_names))))
     scheme = args{1};
     args = args(2:end);
     if (~(ischar (scheme) && (isrow (scheme) || isempty (scheme))))
@@ -334,3 +334,4 @@ end
 %!error id=sluice:resample:badcycle sluice.resample ([1 2], 'cycle', -1)
 %!error id=sluice:resample:badcycle sluice.resample ([1 2], 'cycle', 2^32)
 %!error id=sluice:resample:badcycle sluice.resample ([1 2], 'cycle', true)
+%!error id=sluice:resample:badscheme sluice.resample ([1 2], cat (3, 'count', 'count'), 3)

@@ -187,7 +187,7 @@ function res = twin (model, truth, network, varargin)
   obs = synthesize (net, [names; ops.names], tall, truth_all, seed_obs);
 
   % filter options: the twin's defaults, then the user's
-  fo = opts.filter;
+  fo = opts.filter(:)';
   given = fo(1:2:end);
   if (~iscellstr (given))
     error ('sluice:twin:badoption', 'option ''filter'': the option names must be strings');
@@ -608,6 +608,12 @@ end
 %! assert (all (ismember (0:40, r.filter.times)));
 %! assert (r.openloop.skipped_total, 0);
 %! assert (r.scores.names, {'x1'});
+
+%!test
+%! % the filter's options may come as a column of name, value pairs
+%! a = sluice.twin (spec, truth, net, 'seed', 9, 'prior', pr, 'filter', {'members', 30});
+%! b = sluice.twin (spec, truth, net, 'seed', 9, 'prior', pr, 'filter', {'members'; 30});
+%! assert (b.filter.states.mean, a.filter.states.mean);
 
 %!test
 %! % same seed, identical result; another seed, other observations

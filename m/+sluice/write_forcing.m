@@ -35,7 +35,7 @@ function write_forcing (filename, forcing)
   if (nargin ~= 2 || nargout > 0)
     sluice.internal.compat ('usage', mfilename ());
   end
-  if (~ischar (filename) || isempty (filename) || size (filename, 1) ~= 1)
+  if (~ischar (filename) || isempty (filename) || ~isrow (filename))
     error ('sluice:write_forcing:badfilename', ...
            'argument 1 (filename): expected a file name (a character string)');
   end
@@ -137,4 +137,5 @@ end
 %!error id=sluice:write_forcing:badtime sluice.write_forcing (f, struct ('time', NaN, 'values', 1, 'names', {{'a'}}))
 %!error <line 2, column a: the value is infinite> sluice.write_forcing (f, struct ('time', 1, 'values', Inf, 'names', {{'a'}}))
 %!error id=sluice:write_forcing:baddate sluice.write_forcing (f, struct ('time', 1e9, 'values', 1, 'names', {{'a'}}, 'time_origin', '2001-01-01'))
+%!error id=sluice:write_forcing:badfilename sluice.write_forcing (cat (3, 'a.csv', 'b.csv'), struct ('time', 1, 'values', 1, 'names', {{'a'}}))
 %!error id=sluice:write_forcing:nofile sluice.write_forcing ([tempname() '/no/such/dir.csv'], struct ('time', 1, 'values', 1, 'names', {{'a'}}))

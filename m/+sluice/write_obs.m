@@ -32,7 +32,7 @@ function write_obs (filename, obs)
   if (nargin ~= 2 || nargout > 0)
     sluice.internal.compat ('usage', mfilename ());
   end
-  if (~ischar (filename) || isempty (filename) || size (filename, 1) ~= 1)
+  if (~ischar (filename) || isempty (filename) || ~isrow (filename))
     error ('sluice:write_obs:badfilename', ...
            'argument 1 (filename): expected a file name (a character string)');
   end
@@ -153,4 +153,5 @@ end
 %!error id=sluice:write_obs:badfamily sluice.write_obs (f, struct ('time', 1, 'variable', 'h', 'value', 1, 'sigma', 1, 'family', 'normal'))
 %!error <line 3, column time> sluice.write_obs (f, struct ('time', [2 1], 'variable', {{'h', 'h'}}, 'value', [1 1], 'sigma', [1 1]))
 %!error id=sluice:write_obs:badorder sluice.write_obs (f, struct ('time', [2 1], 'variable', {{'h', 'h'}}, 'value', [1 1], 'sigma', [1 1]))
+%!error id=sluice:write_obs:badfilename sluice.write_obs (cat (3, 'a.csv', 'b.csv'), struct ('time', 1, 'variable', 'h', 'value', 1, 'sigma', 1))
 %!error id=sluice:write_obs:nofile sluice.write_obs ([tempname() '/no/such/dir.csv'], struct ('time', 1, 'variable', 'h', 'value', 1, 'sigma', 1))

@@ -100,7 +100,7 @@
 % @end deftypefn
 
 function varargout = compat (op, varargin)
-  if (nargin < 1 || ~ischar (op) || size (op, 1) ~= 1)
+  if (nargin < 1 || ~ischar (op) || ~isrow (op))
     error ('sluice:compat:badop', 'argument 1 (op): expected the name of an operation');
   end
   oct = exist ('OCTAVE_VERSION', 'builtin') > 0;
@@ -369,7 +369,7 @@ function p = matlab_absolute (p)
 end
 
 function raise_usage (fn)
-  if (~ischar (fn) || size (fn, 1) ~= 1 || isempty (fn))
+  if (~ischar (fn) || ~isrow (fn) || isempty (fn))
     error ('sluice:compat:badarg', 'usage: expected the name of the calling function');
   end
   forms = usage_forms (fn);

@@ -432,7 +432,8 @@ function opts = parse_options (args, fn)
     error (['sluice:' fn ':badoption'], 'quantile levels must lie in [0, 1]');
   end
   opts.quantiles = opts.quantiles(:)';
-  if (~(islogical (opts.history) || isnumeric (opts.history)) || ~isscalar (opts.history))
+  if (~(islogical (opts.history) || isnumeric (opts.history)) || ~isscalar (opts.history) || ...
+      isnan (opts.history))
     error (['sluice:' fn ':badoption'], 'history must be true or false');
   end
   opts.history = logical (opts.history);
@@ -459,7 +460,7 @@ function opts = parse_options (args, fn)
   pr = opts.progress;
   if (ischar (pr) && strcmp (pr, 'auto'))
     opts.progress = 2;
-  elseif ((islogical (pr) || isnumeric (pr)) && isscalar (pr))
+  elseif ((islogical (pr) || isnumeric (pr)) && isscalar (pr) && ~isnan (pr))
     opts.progress = double (logical (pr));
   else
     error (['sluice:' fn ':badoption'], 'progress must be ''auto'', true or false');

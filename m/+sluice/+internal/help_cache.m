@@ -26,7 +26,7 @@ function file = help_cache (folder, mode)
     end
     return;
   end
-  if (nargin ~= 1 || ~ischar (folder) || isempty (folder) || size (folder, 1) ~= 1)
+  if (nargin ~= 1 || ~ischar (folder) || isempty (folder) || ~isrow (folder))
     error ('sluice:help_cache:baddir', 'expected the name of a directory (a string)');
   end
   if (exist (folder, 'dir') ~= 7)

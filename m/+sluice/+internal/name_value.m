@@ -7,7 +7,7 @@ function opts = name_value (opts, args, fn)
   end
   for k = 1:2:numel (args)
     name = args{k};
-    if (~ischar (name))
+    if (~ischar (name) || ~isrow (name))
       error (['sluice:' fn ':badoption'], 'option names must be strings');
     end
     if (~isfield (opts, name))
