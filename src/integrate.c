@@ -315,6 +315,82 @@ static sl_status def_step(const sl_model *model, double t, double t_end,
     return SL_OK;
 }
 
+sl_status sl_span_steps(double t, double t_end, double dt, int discrete,
+                        double *steps, sl_error *err)
+{
+    double x, c;
+    *steps = 0.0;
+    if (!isfinite(t) || !isfinite(t_end) || t_end < t)
+        return sl_fail(err, SL_EINVAL, "badtimes",
+                       "a span must run forward between finite times, got %g to %g",
+                       t, t_end);
+    if (!(dt > 0) || !isfinite(dt))
+        return sl_fail(err, SL_EINVAL, "badstep",
+                       "the time step must be finite and > 0, got %g", dt);
+    x = (t_end - t) / dt; /* Inf when the difference or the ratio overflows */
+    c = discrete ? floor(x + 0.5) : ceil(x - 1e-9);
+    if (c < 0)
+        c = 0.0;
+    *steps = c;
+    if (!(c <= SL_SPAN_STEPS_MAX))
+        return sl_fail(err, SL_EINVAL, "toomanysteps",
+                       "the span from t = %g to %g takes %.3g model steps of dt = %g, "
+                       "more than 2^53, the most a double counts exactly: use a "
+                       "larger dt or a shorter span", t, t_end, c, dt);
+    return SL_OK;
+}
+
+sl_status sl_run_steps(double t0, const double *times, size_t T, double dt,
+                       int discrete, size_t members, size_t states,
+                       double *total, sl_error *err)
+{
+    const uint64_t limit = (uint64_t)SL_RUN_WORK_MAX;
+    double sum = 0.0, t = t0, t_end = t0;
+    uint64_t steps;
+    size_t k;
+    if (total != NULL)
+        *total = 0.0;
+    if (T > 0 && times == NULL)
+        return sl_fail(err, SL_EINVAL, "badtimes", "the run has no times");
+    for (k = 0; k < T; k++) {
+        double c;
+        sl_status st = sl_span_steps(t, times[k], dt, discrete, &c, err);
+        if (st != SL_OK && c == 0.0)
+            return st; /* badtimes, badstep */
+        sum += c;      /* inexact once a span is beyond 2^53: only reported */
+        t = t_end = times[k];
+    }
+    if (!(sum <= SL_RUN_STEPS_MAX)) {
+        if (sum <= SL_SPAN_STEPS_MAX)
+            return sl_fail(err, SL_EINVAL, "toomanysteps",
+                           "the run from t = %g to %g takes %.0f model steps of dt = %g; "
+                           "a run may take at most 4294967295 (2^32 - 1: a step's number "
+                           "keys its random draws): use a larger dt, a shorter span or "
+                           "fewer output times", t0, t_end, sum, dt);
+        return sl_fail(err, SL_EINVAL, "toomanysteps",
+                       "the run from t = %g to %g takes %.3g model steps of dt = %g; "
+                       "a run may take at most 4294967295 (2^32 - 1: a step's number "
+                       "keys its random draws): use a larger dt, a shorter span or "
+                       "fewer output times", t0, t_end, sum, dt);
+    }
+    if (total != NULL)
+        *total = sum;
+    /* steps x members x states <= limit, in whole numbers: a x b <= L
+     * exactly when a <= floor(L / b) */
+    steps = (uint64_t)sum;
+    if (steps > 0 && members > 0 && states > 0 &&
+        ((uint64_t)members > limit / steps ||
+         (uint64_t)states > limit / (steps * (uint64_t)members)))
+        return sl_fail(err, SL_EINVAL, "toomanysteps",
+                       "the run from t = %g to %g takes %.0f model steps of dt = %g for "
+                       "%lu member(s) of %lu state(s), %.3g member-state-steps: more "
+                       "than the 1e15 that could end within days on any machine; use a "
+                       "larger dt, a shorter span, fewer output times or fewer members",
+                       t0, t_end, sum, dt, (unsigned long)members, (unsigned long)states,
+                       sum * (double)members * (double)states);
+    return SL_OK;
+}
+
 sl_status sl_tolerance_check(const sl_tolerance *tol, sl_error *err)
 {
     if (tol == NULL)

@@ -8,6 +8,7 @@
 #endif
 
 #include "sluice/enkf.h"
+#include "sluice/integrate.h"
 #include "sluice/loglik.h"
 #include "sluice/rng.h"
 #include "sluice/stats.h"
@@ -435,7 +436,11 @@ sl_status sl_pf_check(const sl_pf_config *cfg, sl_error *err)
     if (sl_pf_workspace(cfg) == 0)
         return sl_fail(err, SL_ENOMEM, "nomemory",
                        "the run's workspace size overflows");
-    return SL_OK;
+    /* the run's length, refused before any work when it cannot be counted
+     * or could not end (sl_run_steps); after the sizes, so that a run too
+     * large for any memory says so */
+    return sl_run_steps(cfg->t0, cfg->times, cfg->T, md->dt, md->discrete, cfg->N, n,
+                        NULL, err);
 }
 
 /* ----------------------------------------------------------- checkpoints */
@@ -668,14 +673,15 @@ sl_status sl_pfi_step_all(const sl_pf_config *cfg, pf_buffers *b, double *X,
  * steps here, so their step indices (the streams' counters) agree. */
 size_t sl_pfi_nsteps(const sl_model *md, double t, double tk, double *h)
 {
+    double c;
     size_t nsteps;
-    if (md->discrete) {
-        nsteps = (size_t)floor((tk - t) / md->dt + 0.5);
+    /* sl_pf_check has refused a run whose spans it cannot count */
+    (void)sl_span_steps(t, tk, md->dt, md->discrete, &c, NULL);
+    nsteps = c <= SL_RUN_STEPS_MAX ? (size_t)c : 0;
+    if (md->discrete)
         *h = md->dt;
-    } else {
-        nsteps = (size_t)ceil((tk - t) / md->dt - 1e-9);
+    else
         *h = nsteps ? (tk - t) / (double)nsteps : 0.0;
-    }
     return nsteps;
 }
 

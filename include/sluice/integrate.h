@@ -65,6 +65,52 @@ sl_status sl_integrate_block(const sl_integrator *method, sl_block_rhs_fn f,
                              const double *U, const sl_tolerance *tol,
                              double *work, size_t *nrhs, sl_error *err);
 
+/* The limits of the steps of a run (sl_run_steps):
+ * SL_SPAN_STEPS_MAX: one span's count, 2^53, the largest whole number
+ *   from which every smaller one is exact in a double (the count and the
+ *   step times t + l h are computed in doubles);
+ * SL_RUN_STEPS_MAX: all the steps of a run, 2^32 - 1: a step's number keys
+ *   its random draws (model noise, forcing perturbations) in 32 bits, so
+ *   step 2^32 would repeat the draws of step 0;
+ * SL_RUN_WORK_MAX: member-state-steps (steps x members x states), 1e15.
+ *   A state of a member advanced by one step costs a compiled model at
+ *   least about a nanosecond (the fastest model code measured here, SIMD
+ *   over members, reaches a few 1e8 member-state-steps per second and
+ *   core), so 1e15 is days of work on a large many-core machine and weeks
+ *   on a workstation: common practice for such a guard is to refuse what
+ *   cannot finish rather than start a run nobody will see end. Normal
+ *   long runs stay far below it (60 years at dt = 0.01 d is 2.2e6 steps;
+ *   1e4 members of 40 states then make 8.8e11). */
+#define SL_SPAN_STEPS_MAX 9007199254740992.0
+#define SL_RUN_STEPS_MAX 4294967295.0
+#define SL_RUN_WORK_MAX 1e15
+
+/* The model steps of the span [t, t_end] with step dt, as a run takes
+ * them: for a map (discrete != 0) whole steps of dt, the nearest whole
+ * number of them; otherwise the fewest equal steps no longer than dt (a
+ * relative slack of 1e-9 of a step absorbs rounding). An adaptive method
+ * (dopri5) takes this many model steps too; inside each, its own
+ * error-controlled steps are bounded by its tolerances' max_steps.
+ * *steps gets the count (a whole number, exact), also on failure (then
+ * possibly inexact or Inf, for a message). Reasons: "badtimes" (t or t_end
+ * not finite, t_end < t), "badstep" (dt not finite and > 0),
+ * "toomanysteps" (more than SL_SPAN_STEPS_MAX steps). err may be NULL. */
+sl_status sl_span_steps(double t, double t_end, double dt, int discrete,
+                        double *steps, sl_error *err);
+
+/* The model steps of a whole run from t0 through the T increasing times
+ * (each span counted by sl_span_steps) for `members` members of `states`
+ * states, refused when they exceed the limits above: reason
+ * "toomanysteps" (SL_EINVAL), with a message giving the count and what to
+ * change (a larger dt, a shorter span, fewer output times or members).
+ * *total (may be NULL) gets the steps counted (up to the first refusal).
+ * The run's own re-runs (resample-move, SMC2) come on top of this count;
+ * it is the least work the run does. Also "badtimes" and "badstep" as
+ * sl_span_steps. */
+sl_status sl_run_steps(double t0, const double *times, size_t T, double dt,
+                       int discrete, size_t members, size_t states,
+                       double *total, sl_error *err);
+
 /* Events shared by every member (the times), with values per member: the
  * value v of series i at event e for member j is
  *   exact:           base

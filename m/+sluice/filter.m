@@ -419,6 +419,8 @@ end
 %!error <Invalid call> sluice.filter ()
 %!error id=sluice:filter:noobs sluice.filter (m, pr, struct ('time', zeros (0, 1), 'variable', {cell(0, 1)}, 'value', zeros (0, 1), 'sigma', zeros (0, 1)))
 %!error id=sluice:filter:badoption sluice.filter (m, pr, obs, 'members', -3)
+%!error id=sluice:filter:toomanysteps sluice.filter (m, pr, obs, 't0', -1e15)
+%!error id=sluice:filter:toomanysteps sluice.filter (m, pr, obs, 't0', 0, 'members', 1e6, 'times', [1e9 2e9])
 %!error id=sluice:filter:badoption sluice.filter (m, pr, obs, 'no_such_option', 1)
 %!error id=sluice:filter:badoption sluice.filter (m, pr, obs, cat (3, 'se', 'ed'), 1)
 %!error id=sluice:filter:badoption sluice.filter (m, pr, obs, 'history', NaN)

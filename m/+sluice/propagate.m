@@ -60,6 +60,31 @@ end
 %! X = 8 + randn (40, 3000);
 %! assert (isequal (sluice.propagate (s, X, [], 0, 0.2, [], 'threads', 1), ...
 %!                  sluice.propagate (s, X, [], 0, 0.2, [], 'threads', 2)));
+%!test
+%! % a long run is still accepted: 60 years of days at dt = 0.01 (2.19e6
+%! % steps); a random walk with q = 0 stays where it is
+%! s = sluice.model ('linear', 'A', 1, 'Q', 0, 'dt', 0.01);
+%! assert (sluice.propagate (s, [1 2], [], 0, 60 * 365.25), [1 2]);
+%!test
+%! % the refusal names the count and what to change
+%! s = sluice.model ('linear', 'A', 1, 'Q', 0.1);
+%! try
+%!   sluice.propagate (s, [1 2], [], 0, 1e10);
+%!   error ('not refused');
+%! catch err
+%!   assert (err.identifier, 'sluice:propagate:toomanysteps');
+%!   assert (~isempty (strfind (err.message, '10000000000 model steps')));
+%!   assert (~isempty (strfind (err.message, 'larger dt')));
+%! end
+%!shared lin
+%! lin = sluice.model ('linear', 'A', 1, 'Q', 0.1);
+%!error id=sluice:propagate:toomanysteps sluice.propagate (lin, [1 2], [], 0, 2^53 + 1)
+%!error id=sluice:propagate:toomanysteps sluice.propagate (lin, [1 2], [], 0, 1e300)
+%!error id=sluice:propagate:toomanysteps sluice.propagate (lin, [1 2], [], -1e308, 1e308)
+%!error id=sluice:propagate:toomanysteps sluice.propagate (lin, [1 2], [], 0, 2^32)
+%!error id=sluice:propagate:toomanysteps sluice.propagate (sluice.model ('lorenz63', 'dt', 1e-300), [1;1;1], [], 0, 1)
+%!error id=sluice:propagate:toomanysteps sluice.propagate (sluice.model (@(t, X, P, U, dt) X, 'states', {'x'}, 'dt', 1e-6), 1, [], 0, 1e6)
+%!error <1\.1e\+15 member-state-steps> sluice.propagate (sluice.model ('linear', 'A', eye (100)), zeros (100, 1e4), [], 0, 1.1e9)
 %!error id=sluice:propagate:badtimes sluice.propagate (sluice.model ('lorenz63'), [1;1;1], [], 1, 0)
 %!error id=sluice:propagate:badstate sluice.propagate (sluice.model ('lorenz63'), ones (2, 3), [], 0, 1)
 %!error id=sluice:propagate:badstate sluice.propagate (sluice.model ('lorenz63'), int32 (ones (3, 3)), [], 0, 1)

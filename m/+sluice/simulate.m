@@ -56,6 +56,9 @@ end
 %! X = sluice.simulate (s, 2, [], [0 1 2], struct ('time', [0; 10], 'values', [3; 3]));
 %! ex = @(t) 6 + (2 - 6) * exp (-0.5 * t);
 %! assert (X, ex ([0 1 2]), 1e-9);
+%!error id=sluice:simulate:toomanysteps sluice.simulate (sluice.model ('linear', 'A', 1, 'Q', 0.1), 1, [], [0 1e15])
+%!error id=sluice:simulate:toomanysteps sluice.simulate (sluice.model ('linear', 'A', 1, 'Q', 0.1), 1, [], [0 1 1e300])
+%!error id=sluice:simulate:toomanysteps sluice.simulate (sluice.model ('lorenz63', 'integrator', 'dopri5'), [], [], [0 1e12])
 %!error id=sluice:simulate:badtimes sluice.simulate (sluice.model ('lorenz63'), [], [], [0 2 1])
 %!error id=sluice:simulate:nomemory sluice.simulate (sluice.model ('lorenz63'), [1; 1; 1], [], 0:1e-12:1)
 %!error id=sluice:simulate:badtimes sluice.simulate (sluice.model ('lorenz63'), [], [], single ([0 1]))

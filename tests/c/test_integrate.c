@@ -1127,6 +1127,92 @@ static void test_determinism(void)
     }
 }
 
+/* ------------------------------------------------------- step counts */
+
+static void expect_steps(double t, double t_end, double dt, int discrete,
+                         sl_status want, const char *reason, double steps,
+                         const char *what)
+{
+    sl_error err;
+    double c = -1.0;
+    sl_status st;
+    sl_error_clear(&err);
+    st = sl_span_steps(t, t_end, dt, discrete, &c, &err);
+    CHECK(st == want && (want == SL_OK ? c == steps : strcmp(err.reason, reason) == 0),
+          "%s: status %d reason '%s' steps %.17g (%s)", what, (int)st, err.reason, c,
+          err.message);
+}
+
+static void expect_run(double t_end, size_t members, size_t states, sl_status want,
+                       const char *what)
+{
+    const double times[2] = {1.0, t_end};
+    sl_error err;
+    double total = -1.0;
+    sl_status st;
+    sl_error_clear(&err);
+    st = sl_run_steps(0.0, times, 2, 1.0, 1, members, states, &total, &err);
+    CHECK(st == want && (want == SL_OK ? total == t_end && err.reason[0] == '\0'
+                                       : strcmp(err.reason, "toomanysteps") == 0 &&
+                                             strstr(err.message, "larger dt") != NULL),
+          "%s: status %d reason '%s' total %.17g (%s)", what, (int)st, err.reason, total,
+          err.message);
+}
+
+/* sl_span_steps and sl_run_steps: the count a run makes (whole steps of
+ * a map, equal steps no longer than dt otherwise), and each limit at
+ * exactly its value and one past it. 2^53 = 9007199254740992, the next
+ * double 2^53 + 2 (IEEE 754 binary64: 53-bit significand); 2^32 - 1 =
+ * 4294967295; 1e15 + 1 = 7 * 11 * 13 * 211 * 241 * 2161 * 9091
+ * (factorisation checked by multiplying out). */
+static void test_steps(void)
+{
+    const double two53 = 9007199254740992.0;
+    double times[3] = {1.0, 2.0, 3.0};
+    sl_error err;
+    /* the counts: 0.9 / 0.3 is 3.0000000000000004 in doubles, 3 steps */
+    expect_steps(0.0, 1.0, 0.3, 0, SL_OK, "", 4.0, "1 / 0.3, a method: 4 steps");
+    expect_steps(0.0, 1.0, 0.3, 1, SL_OK, "", 3.0, "1 / 0.3, a map: 3 steps");
+    expect_steps(0.0, 0.9, 0.3, 0, SL_OK, "", 3.0, "0.9 / 0.3, a method: 3 steps");
+    expect_steps(2.5, 2.5, 0.1, 0, SL_OK, "", 0.0, "an empty span");
+    expect_steps(0.0, 21915.0, 0.01, 0, SL_OK, "", 2191500.0, "60 years at dt = 0.01");
+    /* one span: 2^53 steps counted, the next double refused */
+    expect_steps(0.0, two53, 1.0, 0, SL_OK, "", two53, "2^53 steps (method)");
+    expect_steps(0.0, two53, 1.0, 1, SL_OK, "", two53, "2^53 steps (map)");
+    expect_steps(0.0, two53 + 2.0, 1.0, 0, SL_EINVAL, "toomanysteps", 0, "2^53 + 2 steps");
+    expect_steps(0.0, two53 + 2.0, 1.0, 1, SL_EINVAL, "toomanysteps", 0, "2^53 + 2 (map)");
+    expect_steps(0.0, 1.0, 1e-300, 0, SL_EINVAL, "toomanysteps", 0, "1e300 steps");
+    expect_steps(-1e308, 1e308, 1.0, 0, SL_EINVAL, "toomanysteps", 0, "an overflowing span");
+    expect_steps(0.0, 1.0, 4.9e-324, 1, SL_EINVAL, "toomanysteps", 0, "a subnormal dt");
+    expect_steps(1.0, 0.0, 1.0, 0, SL_EINVAL, "badtimes", 0, "a span backwards");
+    expect_steps(0.0, NAN, 1.0, 0, SL_EINVAL, "badtimes", 0, "a NaN end");
+    expect_steps(-HUGE_VAL, 0.0, 1.0, 0, SL_EINVAL, "badtimes", 0, "an infinite start");
+    expect_steps(0.0, 1.0, 0.0, 0, SL_EINVAL, "badstep", 0, "dt 0");
+    expect_steps(0.0, 1.0, NAN, 0, SL_EINVAL, "badstep", 0, "dt NaN");
+    expect_steps(0.0, 1.0, HUGE_VAL, 0, SL_EINVAL, "badstep", 0, "dt Inf");
+    /* a run: 2^32 - 1 steps in all, over two spans; one more refused */
+    expect_run(4294967295.0, 1, 1, SL_OK, "2^32 - 1 steps");
+    expect_run(4294967296.0, 1, 1, SL_EINVAL, "2^32 steps");
+    expect_run(two53, 1, 1, SL_EINVAL, "2^53 steps");
+    expect_run(1e300, 1, 1, SL_EINVAL, "1e300 steps");
+    /* the work: exactly 1e15 member-state-steps, and 1e15 + 1 */
+    expect_run(1e6, 1000000, 1000, SL_OK, "1e6 steps x 1e6 members x 1000 states");
+    expect_run(1e6, 1000000, 1001, SL_EINVAL, "... x 1001 states");
+    expect_run(100001.0, 4627441, 2161, SL_EINVAL, "1e15 + 1 member-state-steps");
+    expect_run(100000.0, 4627441, 2161, SL_OK, "1e15 - 1e10 + 1 member-state-steps");
+    expect_run(4294967295.0, SIZE_MAX, SIZE_MAX, SL_EINVAL, "a product past 2^64");
+    expect_run(4294967295.0, 0, 5, SL_OK, "no members");
+    /* the times' faults come back with their reasons */
+    sl_error_clear(&err);
+    times[1] = 0.5;
+    CHECK(sl_run_steps(0.0, times, 3, 1.0, 0, 1, 1, NULL, &err) == SL_EINVAL &&
+          strcmp(err.reason, "badtimes") == 0, "decreasing times: %s", err.reason);
+    sl_error_clear(&err);
+    CHECK(sl_run_steps(0.0, NULL, 3, 1.0, 0, 1, 1, NULL, &err) == SL_EINVAL &&
+          strcmp(err.reason, "badtimes") == 0, "no times: %s", err.reason);
+    CHECK(sl_run_steps(0.0, NULL, 0, 1.0, 0, 1, 1, NULL, NULL) == SL_OK, "no spans");
+}
+
 int main(void)
 {
     gsl_set_error_handler_off();
@@ -1149,5 +1235,6 @@ int main(void)
     test_errors();
     test_integrate_block();
     test_determinism();
+    test_steps();
     CHECK_DONE("test_integrate");
 }

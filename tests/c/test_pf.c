@@ -695,6 +695,18 @@ static void check_errors(void)
     c.t0 = 1.5; expect_fail(&c, SL_EINVAL, "badtimes", "a time before t0");
     c.t0 = 1.0; expect_ok(&c, "first cycle at t0");
 
+    /* toomanysteps: the run's steps counted before any work
+     * (sl_run_steps); base has N = 100 members of 1 state, dt = 1 */
+    memcpy(t, times, sizeof t);
+    c = base; c.times = t;
+    t[2] = 4294967295.0; expect_ok(&c, "2^32 - 1 steps in all");
+    t[2] = 4294967296.0; expect_fail(&c, SL_EINVAL, "toomanysteps", "2^32 steps in all");
+    t[2] = 9007199254740994.0; expect_fail(&c, SL_EINVAL, "toomanysteps", "2^53 + 2 steps");
+    t[2] = 1e300; expect_fail(&c, SL_EINVAL, "toomanysteps", "1e300 steps");
+    c.N = 1000000; t[2] = 1e9; expect_ok(&c, "1e15 member-state-steps");
+    t[2] = 1e9 + 1.0; expect_fail(&c, SL_EINVAL, "toomanysteps", "1e15 + 1e6 member-state-steps");
+    memcpy(t, times, sizeof t);
+
     /* offgrid: the linear model is a discrete map with dt = 1 */
     c = base; c.times = t;
     t[0] = 1.5; expect_fail(&c, SL_EINVAL, "offgrid", "1.5 steps");

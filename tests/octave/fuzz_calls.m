@@ -438,7 +438,10 @@ function seeds = seed_calls (outdir)
                  sd({@(t, X, P, U, dt) X, 'states', {'s'}, 'params', {'k'}, 'defaults', 0.3})];
   seeds.pmmh = sd ({fun, pr_a, obs_x, pm{:}}, ip);
   seeds.prior = [sd({'a', 'normal', [0 1]}), sd({'b', 'truncnormal', [1 2 -Inf 3.5]})];
-  seeds.propagate = sd ({lin, [1 2], [], 0, 2}, [], 5);
+  % a span of more model steps than a run may take is refused before
+  % any work (sluice:<fn>:toomanysteps), so the times take huge values too
+  seeds.propagate = [sd({lin, [1 2], [], 0, 2}), ...
+                     sd({lin, [1 2], [], 0, 2^53 + 1}, [], [], 'sluice:propagate:toomanysteps')];
   seeds.rank_histogram = sd ({[1 2 4; 4 2 1; 2 1 4], [3; 0; 5], 'seed', 7});
   seeds.read_forcing = sd ({fo_file, 'missing', 'zero'});
   seeds.read_obs = sd ({obs_file});
@@ -446,7 +449,8 @@ function seeds = seed_calls (outdir)
   seeds.resample = sd ({[0.1 0.2 0.3 0.4], 'systematic', 'count', 10, 'seed', 1});
   seeds.save_run = sd ({res, fullfile(outdir, 'run.nc')});
   seeds.scores = sd ({res, truth, obs});
-  seeds.simulate = sd ({lin, 1, [], 0:2}, [], 4);
+  seeds.simulate = [sd({lin, 1, [], 0:2}), ...
+                    sd({lin, 1, [], [0 1e15]}, [], [], 'sluice:simulate:toomanysteps')];
   seeds.smooth = sd ({res});
   seeds.sweep = sd ({@(p) p.a ^ 2, struct('a', [2 3]), 'workers', 1}, 4);
   seeds.twin = sd ({lin, struct('times', 0:T, 'x0', 1), net, 'seed', 2, 'prior', pr, ...
@@ -494,8 +498,9 @@ end
 
 function s = sd (args, keep, long, expect)
   % a seed call: its arguments, those never changed, those never made
-  % huge (times: a huge span is a valid run without end), the error
-  % the call raises as it is ('' for none)
+  % huge (an argument whose huge values would start a valid run without
+  % end; the spans of a run are not: the core refuses one too long), the
+  % error the call raises as it is ('' for none)
   if (nargin < 2)
     keep = [];
   end

@@ -27,6 +27,8 @@
 %                                          column named)
 %   memory refused before the run          sluice:<fn>:nomemory                    test_pf_features.m, draw.m, esmda.m,
 %                                                                                  model.m, simulate.m, smooth.m
+%   run too long to end (steps > 2^32 - 1  sluice:<fn>:toomanysteps, before any   propagate.m, simulate.m, filter.m;
+%   or > 1e15 member-state-steps)          work                                    test_integrate.c, test_pf.c
 %   Ctrl-C                                 sluice:filter:interrupted (also         test_interrupt.m; test_enkf.c,
 %                                          esmda, smooth, ...), sweep:interrupted, test_letkf.c, test_smooth.c (polls);
 %                                          pmmh:interrupted                        here (pmmh mapping)
