@@ -294,7 +294,9 @@
 % after every @code{checkpoint_every} cycles, and after the last, the
 % run writes its whole state and the outputs so far to that file (to a
 % temporary file first, then renamed over it, so a run killed at any
-% moment leaves the old checkpoint or the new one, never a part). The
+% moment leaves the old checkpoint or the new one, never a part; the
+% temporary file such a kill leaves, @var{file}@code{.tmp}@var{pid}, goes
+% at the next run with the same file once process @var{pid} is gone). The
 % same call made again resumes from it and returns, bit for bit, what a
 % run never stopped returns; a finished run keeps its final checkpoint,
 % so the same call then returns at once (delete the file to run again).

@@ -97,7 +97,8 @@
 % result so far to that file after every @code{checkpoint_every} [100]
 % iterations of every chain, burn-in included: to a temporary file in the
 % same directory, then renamed over it, so the file is always whole,
-% whenever the run is stopped or killed. The same call made again with the
+% whenever the run is stopped or killed (the temporary file a kill leaves
+% goes at the next run with the same file, once its process is gone). The same call made again with the
 % same file resumes after the last block written and returns what a run
 % never stopped returns, bit for bit (only the times differ); a larger
 % @code{iterations} extends a finished run. A checkpoint written by a run
@@ -752,6 +753,8 @@ function [ck, saved] = checkpoint_open (opts, model, prior, obs, base, target)
                    'options', sluice.internal.comparable (key), 'base', base);
   saved = [];
   file = ck.file;
+  % what a run killed while writing this checkpoint left beside it
+  sluice.internal.stale_tmp (file);
   if (~exist (file, 'file'))
     % find out now, not after the first block, that it cannot be written
     tmp = sprintf ('%s.tmp%d', file, sluice.internal.compat ('pid'));

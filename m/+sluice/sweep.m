@@ -144,6 +144,9 @@ function [table, info] = sweep (fun, grid, varargin)
     done = load_done (opts.file);
   end
   if (~isempty (opts.file))
+    % what a sweep killed while writing the file left beside it (the
+    % workers' part files and theirs go with the merge below)
+    sluice.internal.stale_tmp (opts.file);
     % points that workers of a stopped parallel sweep finished
     [done, merged] = merge_parts (opts.file, done, names);
     if (merged)

@@ -107,6 +107,8 @@ function res = filter_run (model, prior, obs, args, fn)
     % captured) comes as comparable values
     c.checkpoint = opts.checkpoint;
     c.checkpoint_every = opts.checkpoint_every;
+    % what a run killed while writing this checkpoint left beside it
+    sluice.internal.stale_tmp (opts.checkpoint);
     c.checkpoint_key = {sluice.internal.comparable(model), ...
                         sluice.internal.comparable(opts.operators)};
   end
