@@ -38,7 +38,10 @@
 % log (10)), @code{z} (>= 0, default 2), and the options of
 % @code{sluice.evidence} (@code{repeats}, @code{seed}, @code{members},
 % @code{t0}, @dots{}) except @code{param_move} and @code{param_step},
-% which this function sets.
+% which this function sets. A @code{checkpoint} file @var{f} (with a
+% @code{seed}) gives each candidate's runs their own files,
+% @var{f}@code{.step}@var{k}@code{.seed}@var{s} (k = 0 for no drift, then
+% the rows of @var{steps}), so the same call resumes.
 %
 % The result @var{res} has @code{names}, @code{steps} ((K+1) x q, the
 % first row zeros: no drift), @code{log_evidence}, @code{se} and
@@ -116,6 +119,12 @@ function res = drift_test (model, prior, obs, names, steps, varargin)
         pass(end+1:end+2) = {name, args{k + 1}};
     end
   end
+  ic = 2 * find (strcmp (pass(1:2:end), 'checkpoint'));
+  if (isempty (seed) && ~isempty (ic) && ~isempty (pass{ic(end)}))
+    error ('sluice:drift_test:badoption', ...
+           ['a run with a checkpoint needs a ''seed'': the same call resumes its runs ', ...
+            'only with the same seeds']);
+  end
   if (isempty (seed))
     seed = floor (rand () * 2^32);
   end
@@ -135,8 +144,15 @@ function res = drift_test (model, prior, obs, names, steps, varargin)
       step(idx) = all_steps(k, :);
       move = {'param_move', 'random_walk', 'param_step', step};
     end
+    % a checkpoint: the candidates share their seeds, so each has its own
+    % files, <checkpoint>.step<k-1>.seed<s> (step0: no drift)
+    own = pass;
+    ic = 2 * find (strcmp (own(1:2:end), 'checkpoint'));
+    if (~isempty (ic) && ischar (own{ic(end)}) && ~isempty (own{ic(end)}))
+      own{ic(end)} = sprintf ('%s.step%d', own{ic(end)}, k - 1);
+    end
     % the evidence's and the filter's errors come out as this function's
-    ev = sluice.internal.evidence_run (model, prior, obs, [pass, move, {'seed', seed}], ...
+    ev = sluice.internal.evidence_run (model, prior, obs, [own, move, {'seed', seed}], ...
                                      'drift_test');
     runs(k) = ev;
     lz(k) = ev.log_evidence;

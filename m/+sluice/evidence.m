@@ -27,7 +27,12 @@
 % The method must be the particle filter (@code{'pf'}, the default); the
 % progress line is off unless asked for; @code{param_move} is
 % @code{'fixed'} unless asked for (the evidence of the model as stated,
-% with parameters drawn once from the prior).
+% with parameters drawn once from the prior). With @code{checkpoint}, a
+% file name @var{f} (and a @code{seed}), each run keeps its own
+% checkpoint, @var{f}@code{.seed}@var{s} for the run with seed @var{s}
+% (one file for all would clash: the runs differ in their seed): the same
+% call made again resumes the run that was stopped and reads the finished
+% ones back. The files stay until deleted.
 %
 % The result @var{ev} has @code{log_evidence} (the mean of the R
 % estimates), @code{se} (its standard error), @code{log_mean_exp},
@@ -36,7 +41,8 @@
 % number of runs whose estimate is -Inf: no member explained some
 % observation; then @code{log_evidence} is -Inf and @code{se} NaN).
 %
-% Errors: @code{sluice:evidence:badoption} (repeats, seed, method), and
+% Errors: @code{sluice:evidence:badoption} (repeats, seed, method, a
+% checkpoint without a seed), and
 % the errors of @code{sluice.filter} under @code{sluice:evidence:}
 % (@code{badmodel}, @code{badprior}, @code{badobs}, @dots{}).
 %

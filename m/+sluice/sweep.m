@@ -66,6 +66,13 @@
 % the others: an interrupted sweep resumes where it stopped.
 % @end table
 %
+% A sweep takes no @code{checkpoint} (@code{sluice:sweep:badoption}):
+% its @code{file} is how it resumes. A filter that @var{fun} runs with a
+% @code{'checkpoint'} needs a file of its own at each point (a name made
+% of the point's values): one file for every point would be refused at
+% the second point as written by a run with other settings
+% (@code{sluice:sweep:pointfailed}).
+%
 % @var{table} is a struct of column vectors, one row per grid point: one
 % column per dimension (double, or a cell column for a cell dimension),
 % the column @code{seed}, then one double column per score.
@@ -415,6 +422,12 @@ function opts = parse_options (args)
                  'file: expected a file name (a character row), got %s', describe (v));
         end
         opts.file = v;
+      case {'checkpoint', 'checkpoint_every'}
+        error ('sluice:sweep:badoption', ...
+               ['a sweep takes no ''%s'': its ''file'' keeps every finished point and the ', ...
+                'same call resumes; a filter run inside fun that keeps a checkpoint ', ...
+                'needs a file of its own for each point (a name made of the point''s ', ...
+                'values)'], nm);
       otherwise
         error ('sluice:sweep:badoption', ...
                'unknown option ''%s'' (known: seed, workers, file)', nm);
@@ -661,6 +674,26 @@ end
 %!error id=sluice:sweep:badgrid sluice.sweep (@(p) 1, struct ('seed', [1 2]))
 %!error id=sluice:sweep:badgrid sluice.sweep (@(p) 1, struct ('a', {{struct()}}))
 %!error id=sluice:sweep:badoption sluice.sweep (@(p) 1, struct ('a', 1), 'speed', 2)
+%!error <its 'file' keeps every finished point> sluice.sweep (@(p) 1, struct ('a', 1), 'checkpoint', 'x.ckpt')
+%!error id=sluice:sweep:badoption sluice.sweep (@(p) 1, struct ('a', 1), struct ('checkpoint_every', 5))
+%!test
+%! % a filter inside fun with one checkpoint file for every point: the
+%! % second point's run is refused, never resumed from the first's
+%! f = [tempname() '.ckpt'];
+%! spec = sluice.model ('linear', 'A', 0.9, 'Q', 0.1, 'states', {'x'});
+%! pr = sluice.prior ('x', 'normal', [0 1]);
+%! obs = struct ('time', [1; 2], 'variable', {{'x'; 'x'}}, 'value', [0.2; 0.1], 'sigma', [1; 1]);
+%! fun = @(p) getfield (sluice.filter (spec, pr, obs, 'members', p.members, 'seed', 1, ...
+%!                                    't0', 0, 'progress', false, 'checkpoint', f), ...
+%!                     'log_evidence');
+%! try
+%!   sluice.sweep (fun, struct ('members', [10 20]), 'workers', 1);
+%!   error ('not refused');
+%! catch err
+%!   assert (err.identifier, 'sluice:sweep:pointfailed');
+%!   assert (~isempty (strfind (err.message, 'other settings')));
+%! end
+%! delete (f);
 %!error id=sluice:sweep:badoption sluice.sweep (@(p) 1, struct ('a', 1), struct ('speed', 2))
 %!error id=sluice:sweep:badoption sluice.sweep (@(p) 1, struct ('a', 1), 'seed')
 %!error id=sluice:sweep:badoption sluice.sweep (@(p) 1, struct ('a', 1), 3, 4)

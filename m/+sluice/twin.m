@@ -72,7 +72,10 @@
 % @code{quantiles}.
 % @item openloop
 % true (default) to run the filter also with no observations, with the
-% same prior, options and seed: the open-loop reference.
+% same prior, options and seed: the open-loop reference. With a
+% @code{'checkpoint'} file among the filter's options, the open loop, a
+% run of its own, keeps its checkpoint in @var{file}@code{.openloop}; the
+% same call then resumes both.
 % @end table
 %
 % The result @var{res} has @code{truth} (@code{times}, @code{X} n x T,
@@ -236,7 +239,14 @@ function res = twin (model, truth, network, varargin)
   if (opts.openloop)
     empty = struct ('time', zeros (0, 1), 'variable', {cell(0, 1)}, ...
                     'value', zeros (0, 1), 'sigma', zeros (0, 1));
-    ro = sluice.filter (model, opts.prior, empty, fargs{:});
+    % a checkpoint of the filter: the open loop, another run, keeps its
+    % own, <checkpoint>.openloop
+    oargs = fargs;
+    ic = 2 * find (strcmp (oargs(1:2:end), 'checkpoint'));
+    if (~isempty (ic) && ischar (oargs{ic(end)}) && ~isempty (oargs{ic(end)}))
+      oargs{ic(end)} = [oargs{ic(end)} '.openloop'];
+    end
+    ro = sluice.filter (model, opts.prior, empty, oargs{:});
   end
 
   res = struct ();

@@ -166,3 +166,75 @@
 %! assert (raised (@() sluice.filter (mlin, prlin, obs, a{:}, 'seed', 1, 'checkpoint', f, ...
 %!                                    'threads', 2)), 'sluice:filter:badcheckpoint');
 %! delete (f);
+
+%!test
+%! % sluice.evidence runs one filter per seed: each keeps its own file,
+%! % <checkpoint>.seed<s> (one file for all clashed at the second run).
+%! % Stopped in its first run and called again, it resumes and gives what
+%! % an unbroken call gives; called once more, it reads every run back.
+%! global SLUICE_TRIP_AT
+%! f = [tempname() '.ckpt'];
+%! op = struct ('names', 'y', 'fun', @checkpoint_trip);
+%! o = obs;
+%! o.variable = repmat ({'y'}, numel (o.time), 1);
+%! args = {'members', 50, 't0', 0, 'seed', 7, 'repeats', 3, 'operators', op};
+%! SLUICE_TRIP_AT = [];
+%! ref = sluice.evidence (mlin, prlin, o, args{:});
+%! SLUICE_TRIP_AT = 12;
+%! try
+%!   sluice.evidence (mlin, prlin, o, args{:}, 'checkpoint', f, 'checkpoint_every', 5);
+%!   stopped = false;
+%! catch err
+%!   stopped = ~isempty (strfind (err.message, 'stopped on purpose'));
+%! end
+%! SLUICE_TRIP_AT = [];
+%! clear -global SLUICE_TRIP_AT
+%! assert (stopped);
+%! assert (exist ([f '.seed7'], 'file') == 2 && exist ([f '.seed8'], 'file') == 0);
+%! got = sluice.evidence (mlin, prlin, o, args{:}, 'checkpoint', f, 'checkpoint_every', 5);
+%! again = sluice.evidence (mlin, prlin, o, args{:}, 'checkpoint', f, 'checkpoint_every', 5);
+%! assert (isequal (got, ref) && isequal (again, ref));
+%! for s = 7:9
+%!   assert (exist (sprintf ('%s.seed%d', f, s), 'file') == 2);
+%!   delete (sprintf ('%s.seed%d', f, s));
+%! end
+%! assert (exist (f, 'file') == 0);
+
+%!error id=sluice:evidence:badoption sluice.evidence (mlin, prlin, struct ('time', 1, 'variable', {{'x'}}, 'value', 0, 'sigma', 1), 'checkpoint', 'x.ckpt')
+%!error id=sluice:evidence:badoption sluice.evidence (mlin, prlin, struct ('time', 1, 'variable', {{'x'}}, 'value', 0, 'sigma', 1), 'seed', 1, 'checkpoint', 5)
+
+%!test
+%! % sluice.drift_test: each candidate's runs have their own files
+%! % (<checkpoint>.step<k>.seed<s>, step0 without drift); the same call
+%! % reads them back and gives the same result
+%! f = [tempname() '.ckpt'];
+%! args = {'a', [0.05 0.2], 'members', 50, 'repeats', 2, 'seed', 3, 't0', 0};
+%! ref = sluice.drift_test (m, pr, obs, args{:});
+%! a = sluice.drift_test (m, pr, obs, args{:}, 'checkpoint', f);
+%! b = sluice.drift_test (m, pr, obs, args{:}, 'checkpoint', f);
+%! assert (isequal (a, ref) && isequal (b, ref));
+%! for k = 0:2
+%!   for s = 3:4
+%!     g = sprintf ('%s.step%d.seed%d', f, k, s);
+%!     assert (exist (g, 'file') == 2, g);
+%!     delete (g);
+%!   end
+%! end
+%!error id=sluice:drift_test:badoption sluice.drift_test (m, pr, obs, 'a', 0.1, 'repeats', 2, 't0', 0, 'checkpoint', 'x.ckpt')
+
+%!test
+%! % sluice.twin: the filter keeps the checkpoint, its open loop (another
+%! % run) <checkpoint>.openloop; called again, the twin reads both back
+%! f = [tempname() '.ckpt'];
+%! net = struct ('variable', 'x', 'every', 1, 'sigma', 0.3);
+%! t = {mlin, struct('times', 0:12, 'x0', [1; 0]), net, 'seed', 2, 'prior', prlin};
+%! fo = {'members', 40, 'seed', 5};
+%! ref = sluice.twin (t{:}, 'filter', fo);
+%! a = sluice.twin (t{:}, 'filter', [fo, {'checkpoint', f}]);
+%! b = sluice.twin (t{:}, 'filter', [fo, {'checkpoint', f}]);
+%! assert (exist (f, 'file') == 2 && exist ([f '.openloop'], 'file') == 2);
+%! delete (f);
+%! delete ([f '.openloop']);
+%! ref.filter.options = []; a.filter.options = []; b.filter.options = [];
+%! ref.openloop.options = []; a.openloop.options = []; b.openloop.options = [];
+%! assert (isequaln (a, ref) && isequaln (b, ref));

@@ -35,6 +35,8 @@
 %   run killed (kill -9, power cut)        sweep 'file' / pmmh 'checkpoint' kept   test_kill_resume.m (random kills,
 %                                          whole; the same call resumes, bit for   bit-identical resumes), pmmh.m
 %                                          bit; sluice:pmmh:badcheckpoint          (%!error id=...badcheckpoint)
+%                                          the <file>.tmp<pid> it left: removed    test_stale_tmp.m
+%                                          by the next run, once <pid> is gone
 %   parallel worker dies                   sluice:sweep:workerfailed,              here
 %                                          sluice:pmmh:workerfailed
 %   parallel point / chain errors          sluice:sweep:pointfailed; a chain's     here, test_sweep_parallel.m

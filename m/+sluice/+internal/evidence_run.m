@@ -45,6 +45,21 @@ function ev = evidence_run (model, prior, obs, args, fn)
         fopts.(name) = args{k + 1};
     end
   end
+  % a checkpoint: one file per run, <checkpoint>.seed<s> (the runs differ
+  % in their seed; one file for all would clash), so the same call
+  % resumes every run; that needs the seeds of the call, given
+  ck = '';
+  if (isfield (fopts, 'checkpoint'))
+    ck = fopts.checkpoint;
+    if (~ischar (ck) || (~isempty (ck) && ~isrow (ck)))
+      error (['sluice:' fn ':badoption'], 'checkpoint must be a file name (text), or '''' for none');
+    end
+    if (~isempty (ck) && isempty (seed))
+      error (['sluice:' fn ':badoption'], ...
+             ['a run with a checkpoint needs a ''seed'': the same call resumes its runs ', ...
+              'only with the same seeds']);
+    end
+  end
   if (isempty (seed))
     seed = floor (rand () * 2^32);
   end
@@ -58,6 +73,9 @@ function ev = evidence_run (model, prior, obs, args, fn)
   members = NaN;
   for r = 1:R
     fopts.seed = seeds(r);
+    if (~isempty (ck))
+      fopts.checkpoint = sprintf ('%s.seed%d', ck, seeds(r));
+    end
     % the filter's errors come out as fn's (sluice:<fn>:*); one raised
     % without an identifier gets sluice:<fn>:failed
     try
