@@ -1,6 +1,7 @@
-% The memory check of a run: the compiled filter adds up exactly what it
-% will allocate (the core's workspace by part, its outputs, the history)
-% and refuses only what would not fit, naming the largest part and the
+% The memory check of a run: the compiled filter adds up what it will
+% allocate (the core's workspace to the byte, by part, and the arrays of
+% its result, the history among them) and refuses only what would not
+% fit, naming the largest part and the
 % option that drives it. The test hook SLUICE_MEMORY_AVAILABLE (bytes)
 % stands for the machine's available memory and makes the check run at
 % every size, so the boundary can be put anywhere: for every method and
@@ -75,6 +76,22 @@
 %!  assert (strncmp (msg, 'a run of ', 9), msg);
 %!  assert (~isempty (strfind (msg, what)), msg);
 %!  assert (~isempty (strfind (msg, sprintf ('driven by ''%s''', option))), msg);
+%!  check_options (msg);
+%!endfunction
+
+%!function check_options (msg)
+%!  % every option a refusal names is one of sluice.filter's
+%!  % (sluice.internal.run_defaults)
+%!  names = regexp (msg, 'driven by ([^;)]*)', 'tokens');
+%!  assert (~isempty (names), msg);
+%!  d = sluice.internal.run_defaults ();
+%!  for k = 1:numel (names)
+%!    opts = regexp (names{k}{1}, '''(\w+)''', 'tokens');
+%!    assert (~isempty (opts), msg);
+%!    for j = 1:numel (opts)
+%!      assert (isfield (d, opts{j}{1}), sprintf ('%s: %s is no option', msg, opts{j}{1}));
+%!    end
+%!  end
 %!endfunction
 
 %!shared spec, spec_a, pr_a, obs, obsm, o
@@ -197,6 +214,7 @@
 %!                                            'state_noise', 0.05));
 %! assert (strncmp (msg, 'a run of 20 x 30 members', 24), msg);
 %! assert (~isempty (strfind (msg, 'driven by ''param_move'' and ''inner_members''')), msg);
+%! check_options (msg);
 %! assert (res.param_move, 'smc2');
 %! assert (B > 8 * 600 * 2);
 
@@ -205,6 +223,7 @@
 %! [B, msg, res] = boundary (@() sluice.filter (spec, [], obs, o{:}, 'members', 300, ...
 %!                                            'temper_ess', 0.5));
 %! assert (strncmp (msg, 'a run of 300 members with ''method'' ''pf''', 39), msg);
+%! check_options (msg);
 %! assert (numel (res.temper_steps), 20);
 
 %!test
@@ -287,3 +306,13 @@
 %! unwind_protect_cleanup
 %!   unsetenv ('SLUICE_MEMORY_AVAILABLE');
 %! end_unwind_protect
+
+%!test
+%! % a few members and many quantile levels: the summaries of every
+%! % cycle, v x (nq + 2) x T doubles and 13 series of T, dominate
+%! N = 10; T = 20; nq = 99;
+%! B0 = boundary (@() sluice.filter (spec, [], obs, o{:}, 'members', N, 'quantiles', 0.5));
+%! [B, msg] = boundary (@() sluice.filter (spec, [], obs, o{:}, 'members', N, ...
+%!                                       'quantiles', (1:nq) / 100));
+%! check_named (msg, 'summaries of every cycle', 'quantiles');
+%! assert (B - B0 >= 8 * T * (nq - 1));
