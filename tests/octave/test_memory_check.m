@@ -316,3 +316,24 @@
 %!                                       'quantiles', (1:nq) / 100));
 %! check_named (msg, 'summaries of every cycle', 'quantiles');
 %! assert (B - B0 >= 8 * T * (nq - 1));
+
+%!test
+%! % resuming a checkpoint reads the run's whole workspace and weights
+%! % into memory of their own, besides the run's (the first call writes
+%! % the file, the second resumes its last write)
+%! N = 300;
+%! f = [tempname() '.ckpt'];
+%! unwind_protect
+%!   run = @() sluice.filter (spec, [], obs, o{:}, 'members', N, 'checkpoint', f);
+%!   B1 = boundary (run);
+%!   assert (exist (f, 'file') == 2);
+%!   [B2, msg] = boundary (run);
+%!   check_named (msg, 'checkpoint', 'checkpoint');
+%!   % the copy is the workspace, which holds the members' states at least
+%!   % twice over (8 bytes a double), and the N weights
+%!   assert (B2 - B1 >= 8 * N + 2 * 8 * N);
+%! unwind_protect_cleanup
+%!   if (exist (f, 'file'))
+%!     delete (f);
+%!   end
+%! end_unwind_protect
