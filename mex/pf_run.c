@@ -8,6 +8,8 @@
  * checks the values (sl_pf_check). mexFunction only calls them in order. */
 #include <limits.h>
 #include <math.h>
+#include <stdio.h>
+#include <stdlib.h>
 #include <string.h>
 
 #include "mexrun.h"
@@ -772,7 +774,9 @@ static void create_history(const run_settings *s, mxArray *res, sl_pf_output *ou
         return;
     if (sl_size_mul(s->v * N, T, &bytes) || sl_size_mul(bytes, 8, &bytes))
         slm_fail(s->fn, "nomemory", "the ensemble history is too large");
-    slm_alloc(s->fn, bytes + 2 * N * T * 8, 1); /* probe, freed at exit */
+    /* a probe, so that a size the machine refuses is sluice's error (the
+     * run's memory check has passed; it is given back at once) */
+    mxFree(slm_alloc(s->fn, bytes + 2 * N * T * 8, 1));
     h = cube(s->n, N, T);
     out->hist_X = mxGetDoubles(h);
     mxSetField(res, 0, "history_X", h);
@@ -799,6 +803,133 @@ static mxArray *initial(const run_settings *s, const char *name, size_t rows, in
         memcpy(mxGetDoubles(a), x0, rows * s->N * sizeof(double));
     }
     return a;
+}
+
+/* ------------------------------------------------------- memory check */
+
+/* Runs below this many bytes are not checked (memory () costs a few ms a
+ * call); the test hook SLUICE_MEMORY_AVAILABLE checks every run. */
+#define CHECK_FROM 1073741824.0
+
+/* The parts of a run's memory: the core's workspace parts, then what the
+ * gateway allocates besides (its outputs and copies). */
+enum {
+    OUT_FINAL = SL_PF_NPARTS, /* the final weights */
+    OUT_RECORDS,              /* the summaries of every cycle */
+    OUT_SMOOTHED,             /* the smoothed summaries */
+    OUT_HISTORY,              /* the ensemble history */
+    OUT_CALLS,                /* the arguments of a model or operator function */
+    OUT_CHECKPOINT,           /* a resumed checkpoint's workspace */
+    NPARTS
+};
+
+/* Everything the run will hold, by part (bytes as doubles: exact to
+ * 2^53); the workspace's parts exactly as the core lays them out. */
+static double memory_parts(const run_settings *s, sl_pf_part part[NPARTS])
+{
+    const sl_pf_config *cfg = &s->cfg;
+    const double N = (double)s->N, T = (double)s->T, v = (double)s->v, n = (double)s->n,
+                 p = (double)s->p, q = (double)s->q, nq = (double)cfg->nq, d8 = 8.0;
+    const double d = (double)(cfg->n_lin + cfg->n_fun);
+    double total = 0.0, model_args = 0.0, op_args = 0.0;
+    size_t k;
+    memset(part, 0, NPARTS * sizeof *part);
+    sl_pf_workspace_parts(cfg, part);
+    /* the final states and parameters are made before the check (as
+     * copies of the initial ones), the weights after it */
+    part[OUT_FINAL].name = "final weights";
+    part[OUT_FINAL].option[0] = "members";
+    part[OUT_FINAL].bytes = (size_t)(d8 * N);
+    /* mean, quantiles, forecast means, 13 series of T, 2 of p x T; the
+     * derived quantities' summary, laid out as the states' */
+    part[OUT_RECORDS].name = "summaries of every cycle";
+    part[OUT_RECORDS].option[0] = "quantiles";
+    part[OUT_RECORDS].option[1] = "times";
+    part[OUT_RECORDS].bytes = (size_t)(d8 * T * (v * (nq + (cfg->no_summary ? 1 : 2)) + 13 + 2 * p));
+    if (cfg->derived_summary)
+        part[SL_PF_PART_DERIVED].bytes += (size_t)(d8 * T * d * (nq + 1));
+    part[OUT_SMOOTHED].name = "smoothed summaries";
+    part[OUT_SMOOTHED].option[0] = "lag";
+    part[OUT_SMOOTHED].bytes = cfg->lag > 0 ? (size_t)(d8 * T * v * (nq + 1)) : 0;
+    part[OUT_HISTORY].name = "history";
+    part[OUT_HISTORY].option[0] = "history";
+    if (cfg->keep_history)
+        part[OUT_HISTORY].bytes = (size_t)(d8 * N * T * (s->history == 1 ? v + 2 : n));
+    /* a model or operator function gets copies of the ensemble and
+     * returns its result; one call at a time */
+    if (strcmp(s->kind, "handle") == 0)
+        model_args = d8 * N * (2 * n + p + q);
+    if (cfg->obs_fn != NULL)
+        op_args = d8 * N * (n + p + (double)cfg->n_fun);
+    part[OUT_CALLS].name = "arguments of the model or operator functions";
+    part[OUT_CALLS].option[0] = "members";
+    part[OUT_CALLS].bytes = (size_t)(model_args > op_args ? model_args : op_args);
+    part[OUT_CHECKPOINT].name = "checkpoint's copy of the workspace";
+    part[OUT_CHECKPOINT].option[0] = "checkpoint";
+    if (s->ck_file != NULL) {
+        FILE *f = fopen(s->ck_file, "rb");
+        if (f != NULL) {
+            fclose(f);
+            part[OUT_CHECKPOINT].bytes = sl_pf_workspace(cfg) + s->N * sizeof(double);
+        }
+    }
+    for (k = 0; k < NPARTS; k++)
+        total += (double)part[k].bytes;
+    return total;
+}
+
+/* Refuse a run the machine cannot hold, before anything large is made:
+ * sluice.internal.ensure_memory raises sluice:<fn>:nomemory naming the
+ * largest part and its options, and the next largest when it holds a
+ * quarter of the need or more (the LETKF's analysis and its copies per
+ * thread, say). */
+static void check_memory(const run_settings *s)
+{
+    sl_pf_part part[NPARTS];
+    const char *hook = getenv("SLUICE_MEMORY_AVAILABLE");
+    double total = memory_parts(s, part);
+    size_t k, j, top[2] = {0, 0}, ntop, nopt;
+    const sl_analysis *an = sl_pf_analysis_of(&s->cfg);
+    mxArray *in[6];
+    char what[200];
+    if (total < CHECK_FROM && (hook == NULL || hook[0] == '\0'))
+        return;
+    for (k = 1; k < NPARTS; k++)
+        if (part[k].bytes > part[top[0]].bytes)
+            top[0] = k;
+    top[1] = top[0] == 0 ? 1 : 0;
+    for (k = 0; k < NPARTS; k++)
+        if (k != top[0] && part[k].bytes > part[top[1]].bytes)
+            top[1] = k;
+    ntop = 4.0 * (double)part[top[1]].bytes >= total ? 2 : 1;
+    if (s->cfg.inner > 0)
+        snprintf(what, sizeof what, "a run of %lu x %lu members with 'param_move' 'smc2'",
+                 (unsigned long)(s->N / s->cfg.inner), (unsigned long)s->cfg.inner);
+    else
+        snprintf(what, sizeof what, "a run of %lu members with 'method' '%s'",
+                 (unsigned long)s->N, an != NULL && an->name != NULL ? an->name : "?");
+    in[0] = mxCreateDoubleScalar(total);
+    in[1] = mxCreateString(s->fn);
+    in[2] = mxCreateString(what);
+    in[3] = mxCreateDoubleMatrix(1, ntop, mxREAL);
+    in[4] = mxCreateCellMatrix(1, ntop);
+    in[5] = mxCreateCellMatrix(1, ntop);
+    for (j = 0; j < ntop; j++) {
+        const sl_pf_part *pt = &part[top[j]];
+        mxArray *opts;
+        nopt = pt->option[1] != NULL ? 2 : 1;
+        opts = mxCreateCellMatrix(1, nopt);
+        for (k = 0; k < nopt; k++)
+            mxSetCell(opts, k, mxCreateString(pt->option[k]));
+        mxGetDoubles(in[3])[j] = (double)pt->bytes;
+        mxSetCell(in[4], j, mxCreateString(pt->name));
+        mxSetCell(in[5], j, opts);
+    }
+    /* its error (the refusal) goes through to the caller: nothing but
+     * the gateway's own mxMalloc'd memory is held yet */
+    mexCallMATLAB(0, NULL, 6, in, "sluice.internal.ensure_memory");
+    for (k = 0; k < 6; k++)
+        mxDestroyArray(in[k]);
 }
 
 /* Raise a failed run's error: the user's own function's first. */
@@ -856,6 +987,7 @@ void mexFunction(int nlhs, mxArray *plhs[], int nrhs, const mxArray *prhs[])
     pa = initial(&s, "P0", s.p, SLM_ALLOW_INF);
     if (sl_pf_check(&s.cfg, &err) != SL_OK)
         slm_raise(s.fn, &err);
+    check_memory(&s);
     work = slm_alloc(s.fn, sl_pf_workspace(&s.cfg), 1);
 
     res = mxCreateStructMatrix(1, 1, (int)(sizeof out_names / sizeof *out_names), out_names);

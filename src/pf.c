@@ -24,20 +24,56 @@
  * far more on a loaded machine, where a thread may wait a time slice). */
 #define PAR_MIN_MEMBERS 2048
 
+/* Share the `bytes` an analysis's workspace of aw bytes took (its
+ * alignment included) among the parts: what it needs on one thread
+ * without a window is the analysis's, what more it needs on the run's
+ * threads the threads', what more for the window's rows the lag's. The
+ * sizes of the entries never shrink as the threads or the rows grow;
+ * should one, the difference stays with the analysis (the parts still
+ * sum to `bytes`). */
+static void split_analysis(const sl_pf_config *cfg, const sl_analysis *an, size_t m_max,
+                           size_t aw, size_t bytes, size_t *part)
+{
+    sl_pf_config one = *cfg;
+    size_t a1, at, thr, lag;
+    one.threads = 1;
+    a1 = an->workspace(an, &one, m_max, 0);
+    at = an->workspace(an, cfg, m_max, 0);
+    if (a1 == 0 || a1 > aw)
+        a1 = aw;
+    if (at == 0 || at > aw || at < a1)
+        at = a1;
+    thr = at - a1;
+    lag = aw - at;
+    part[SL_PF_PART_ANALYSIS] += bytes - thr - lag;
+    part[SL_PF_PART_THREADS] += thr;
+    part[SL_PF_PART_LAG] += lag;
+}
+
 /* Lay the buffers out in `base` (NULL: only measure). Returns the bytes
- * needed, or 0 if a size overflows. */
+ * needed, or 0 if a size overflows. With `part` (SL_PF_NPARTS entries,
+ * zeroed by the caller) every byte of the layout, alignment included,
+ * is also added to the part it belongs to (sl_pf_workspace_parts), so
+ * the parts sum to the bytes returned. */
 static size_t layout(const sl_pf_config *cfg, unsigned char *base,
-                     pf_buffers *b)
+                     pf_buffers *b, size_t *part)
 {
     const sl_model *md = cfg->model;
     const size_t N = cfg->N, n = md->n_state, p = md->n_param,
                  q = md->n_forcing;
-    size_t off = 0, k, m_max = 0, nthr = (size_t)cfg->threads, tmp;
+    size_t off = 0, k, m_max = 0, nthr = (size_t)cfg->threads, tmp, mark = 0;
     size_t rws = sl_resample_workspace(cfg->resampler, N, N);
     /* every product below is checked once against this bound */
     const size_t big = (size_t)1 << 58;
     const sl_analysis *an = sl_pf_analysis_of(cfg);
     int weighs;
+/* the bytes laid out since the last PART go to part id */
+#define PART(id)                         \
+    do {                                 \
+        if (part != NULL)                \
+            part[id] += off - mark;      \
+        mark = off;                      \
+    } while (0)
     if (an == NULL || an->update == NULL)
         return 0;
     weighs = (an->flags & SL_ANALYSIS_WEIGHTS) != 0;
@@ -65,28 +101,38 @@ static size_t layout(const sl_pf_config *cfg, unsigned char *base,
     }
     sl_ws_carve(base, &off, q * N * 8, (void **)&b->U);
     sl_ws_carve(base, &off, q * 8, (void **)&b->u0);
+    PART(SL_PF_PART_ENSEMBLE);
     sl_ws_carve(base, &off, m_max * N * 8, (void **)&b->Yhat);
+    PART(SL_PF_PART_PREDICTED);
     sl_ws_carve(base, &off, cfg->obs_fn != NULL ? cfg->n_fun * N * 8 : 0, (void **)&b->Yfun);
     if (cfg->n_lin > big / N / 8 - cfg->n_fun)
         return 0;
     sl_ws_carve(base, &off, cfg->derived_summary ? (cfg->n_lin + cfg->n_fun) * N * 8 : 0,
                 (void **)&b->Yd);
+    PART(SL_PF_PART_DERIVED);
     sl_ws_carve(base, &off, N * 8, (void **)&b->ll);
     sl_ws_carve(base, &off, N * 8, (void **)&b->logw);
     sl_ws_carve(base, &off, N * 8, (void **)&b->lw);
     sl_ws_carve(base, &off, rws * 8, (void **)&b->rwork);
+    PART(SL_PF_PART_ENSEMBLE);
     sl_ws_carve(base, &off, nthr * b->mwork_per * 8, (void **)&b->mwork);
     sl_ws_carve(base, &off, nthr * b->qwork_per * 8, (void **)&b->qwork);
+    PART(SL_PF_PART_THREADS);
     if (sl_param_move_workspace(p) == 0)
         return 0;
     sl_ws_carve(base, &off, sl_param_move_workspace(p) * 8, (void **)&b->mv);
+    PART(SL_PF_PART_MOVES);
     sl_ws_carve(base, &off, p * N * 4, (void **)&b->vid[0]);
     sl_ws_carve(base, &off, p * N * 4, (void **)&b->vid[1]);
     sl_ws_carve(base, &off, N, (void **)&b->mark);
     sl_ws_carve(base, &off, N * 4, (void **)&b->anc);
+    PART(SL_PF_PART_ENSEMBLE);
+    /* the tempering steps' ancestors and gathered log-likelihoods (the
+     * latter also serve resample_move): members' buffers without it */
     sl_ws_carve(base, &off, N * 4, (void **)&b->tanc);
     sl_ws_carve(base, &off, N * 4, (void **)&b->tanc2);
     sl_ws_carve(base, &off, N * 8, (void **)&b->llx);
+    PART(cfg->temper.ess > 0 && weighs ? SL_PF_PART_TEMPER : SL_PF_PART_ENSEMBLE);
     b->replay = weighs && !(an->flags & SL_ANALYSIS_MOVES) && cfg->inner == 0 && p > 0 &&
                 cfg->param_move != NULL && cfg->param_move->replay;
     b->pcn = b->replay && cfg->move.rm_paths > 0 && !md->member_draws &&
@@ -115,6 +161,7 @@ static size_t layout(const sl_pf_config *cfg, unsigned char *base,
         sl_ws_carve(base, &off, b->zlen * N * 8, (void **)&b->rzp);
         sl_ws_carve(base, &off, (q + 1) * sizeof(size_t), (void **)&b->fslot);
         sl_ws_carve(base, &off, (n + 1) * sizeof(size_t), (void **)&b->sslot);
+        PART(SL_PF_PART_PATHS);
     }
     b->smc2 = weighs && cfg->inner > 0;
     if (b->replay || b->smc2) {
@@ -152,10 +199,12 @@ static size_t layout(const sl_pf_config *cfg, unsigned char *base,
         sl_ws_carve(base, &off, N, (void **)&b->acc);
         sl_ws_carve(base, &off, p, (void **)&b->est);
         sl_ws_carve(base, &off, sl_param_move_workspace(p) * 8, (void **)&b->mvlast);
+        PART(SL_PF_PART_MOVES);
     }
     /* the forecast before the state noise, for an analysis that needs it */
     sl_ws_carve(base, &off, an->flags & SL_ANALYSIS_NOISE_FREE ? n * N * 8 : 0,
                 (void **)&b->wk_m);
+    PART(SL_PF_PART_ANALYSIS);
     b->nwin = cfg->lag < cfg->T ? cfg->lag : cfg->T;
     if (b->nwin > 0) {
         if (b->nwin > big / 8 / N / (n + p + 1))
@@ -169,6 +218,7 @@ static size_t layout(const sl_pf_config *cfg, unsigned char *base,
         b->wstride = ((n + p) * N * 8 + SL_WS_ALIGN - 1) / SL_WS_ALIGN * SL_WS_ALIGN;
         b->wslot0 = base != NULL ? b->win[0] : NULL;
         sl_ws_carve(base, &off, (n + p) * N * 8, (void **)&b->wtmp);
+        PART(SL_PF_PART_LAG);
     }
     /* the analysis's own buffers */
     b->awork = NULL;
@@ -177,8 +227,13 @@ static size_t layout(const sl_pf_config *cfg, unsigned char *base,
         if (aw == 0)
             return 0;
         sl_ws_carve(base, &off, aw, &b->awork);
+        if (part != NULL)
+            split_analysis(cfg, an, m_max, aw, off - mark, part);
+        mark = off;
     }
     tmp = sl_ws_carve(base, &off, nthr * sizeof(sl_error), (void **)&b->terr);
+    PART(SL_PF_PART_THREADS);
+#undef PART
     b->bytes = sl_ws_size(tmp);
     return b->bytes;
 }
@@ -208,7 +263,36 @@ const sl_param_mover *sl_pf_auto_move(const sl_pf_config *cfg)
 size_t sl_pf_workspace(const sl_pf_config *cfg)
 {
     pf_buffers b;
-    return layout(cfg, NULL, &b);
+    return layout(cfg, NULL, &b, NULL);
+}
+
+size_t sl_pf_workspace_parts(const sl_pf_config *cfg, sl_pf_part part[SL_PF_NPARTS])
+{
+    static const char *const names[SL_PF_NPARTS] = {
+        "ensemble", "predicted observations", "derived quantities", "analysis",
+        "lag window", "parameter moves", "path draws", "tempering", "thread scratch"};
+    const int smc2 = cfg->inner > 0;
+    const char *const options[SL_PF_NPARTS][2] = {
+        {"members", smc2 ? "inner_members" : NULL},
+        {"members", NULL},
+        {"operators", "derived_summary"},
+        {"method", "members"},
+        {"lag", NULL},
+        {"param_move", smc2 ? "inner_members" : NULL},
+        {"move_paths", "param_move"},
+        {"temper_ess", NULL},
+        {"threads", NULL}};
+    size_t bytes[SL_PF_NPARTS], total, k;
+    pf_buffers b;
+    memset(bytes, 0, sizeof bytes);
+    total = layout(cfg, NULL, &b, bytes);
+    for (k = 0; k < SL_PF_NPARTS; k++) {
+        part[k].name = names[k];
+        part[k].option[0] = options[k][0];
+        part[k].option[1] = options[k][1];
+        part[k].bytes = total != 0 ? bytes[k] : 0;
+    }
+    return total;
 }
 
 /* ---------------------------------------------------------------- checks */
@@ -462,7 +546,7 @@ sl_status sl_pf_snapshot_check(const sl_pf_config *cfg, const sl_pf_snapshot *sn
 {
     const sl_pf_snapshot_head *h = &snap->head;
     pf_buffers b;
-    size_t bytes = layout(cfg, NULL, &b);
+    size_t bytes = layout(cfg, NULL, &b, NULL);
     if (h->magic != SL_PF_SNAPSHOT_MAGIC)
         return sl_fail(err, SL_EINVAL, "badsnapshot", "not a snapshot of a filter run");
     if (h->version != SL_PF_SNAPSHOT_VERSION)
@@ -1629,7 +1713,7 @@ sl_status sl_pf_run(const sl_pf_config *cfg, double *X, double *P, double *w,
     p = md->n_param;
     q = md->n_forcing;
     memset(&b, 0, sizeof b);
-    layout(cfg, (unsigned char *)work, &b);
+    layout(cfg, (unsigned char *)work, &b, NULL);
     an = b.an;
     weighs = (an->flags & SL_ANALYSIS_WEIGHTS) != 0;
     b.nt = N >= PAR_MIN_MEMBERS ? cfg->threads : 1;

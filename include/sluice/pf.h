@@ -438,6 +438,59 @@ const sl_param_mover *sl_pf_auto_move(const sl_pf_config *cfg);
 /* Bytes of workspace sl_pf_run needs, or 0 if a size overflows. */
 size_t sl_pf_workspace(const sl_pf_config *cfg);
 
+/* The parts of a run's workspace, by what they hold; each names the
+ * options of sluice.filter that drive its size (the Octave layer's
+ * names), so that a run too large for the machine can say what to
+ * change:
+ *   ENSEMBLE   the members' states, parameters, forcing values and
+ *              perturbations (two copies each, for resampling), weights,
+ *              likelihoods, value ids, ancestors, resampling scratch
+ *              ('members'; with SMC2 members x 'inner_members')
+ *   PREDICTED  the predicted observations of the cycle with the most
+ *              observations, m_max x N ('members')
+ *   DERIVED    the operator functions' values and the derived summary's
+ *              ('operators', 'derived_summary')
+ *   ANALYSIS   the analysis's own buffers for the current ensemble on one
+ *              thread: the N x N or m x m matrices of the ensemble
+ *              Kalman methods, the weighted filter's gain ('method',
+ *              'members')
+ *   LAG        the fixed-lag window (lag + 2 slots of (n + p) x N) and the
+ *              rows it adds to an ensemble Kalman analysis ('lag')
+ *   MOVES      resample_move's record of ancestors (2 T x N) and re-run
+ *              ensemble, SMC2's groups, the moves' covariance
+ *              ('param_move'; with SMC2 'inner_members')
+ *   PATHS      resample_move's standard normal draws of random paths, 3 x
+ *              (steps x noisy forcings + T x noisy states) x N
+ *              ('move_paths', 'param_move')
+ *   TEMPER     the tempering steps' ancestors and log-likelihoods
+ *              ('temper_ess'; without tempering they count as ENSEMBLE)
+ *   THREADS    per-thread scratch: the model's work, the quantiles', the
+ *              LETKF's local analyses beyond one thread ('threads') */
+enum {
+    SL_PF_PART_ENSEMBLE = 0,
+    SL_PF_PART_PREDICTED,
+    SL_PF_PART_DERIVED,
+    SL_PF_PART_ANALYSIS,
+    SL_PF_PART_LAG,
+    SL_PF_PART_MOVES,
+    SL_PF_PART_PATHS,
+    SL_PF_PART_TEMPER,
+    SL_PF_PART_THREADS,
+    SL_PF_NPARTS
+};
+
+typedef struct {
+    const char *name;       /* "ensemble", "analysis", "lag window" ... */
+    const char *option[2];  /* the options driving it (option[1] may be NULL) */
+    size_t bytes;
+} sl_pf_part;
+
+/* Fill part[0 .. SL_PF_NPARTS-1], in the order of the ids above; every
+ * byte of the workspace (alignment included) is in exactly one part, so
+ * the bytes sum to sl_pf_workspace(cfg), which is returned (0, with
+ * every part 0, if a size overflows). */
+size_t sl_pf_workspace_parts(const sl_pf_config *cfg, sl_pf_part part[SL_PF_NPARTS]);
+
 /* Check that snap is a snapshot of a run of cfg (magic, version, sizes,
  * the cycle, the slot numbers it holds); reason "badsnapshot". */
 sl_status sl_pf_snapshot_check(const sl_pf_config *cfg, const sl_pf_snapshot *snap,

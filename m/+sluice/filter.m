@@ -367,6 +367,12 @@
 % A prior without spread for a parameter whose bounds let it move is an
 % error (@code{sluice:filter:nospread}) with the moves @code{'auto'},
 % @code{'kernel'}, @code{'resample_move'} and @code{'liu_west'}.
+% A run of 1 GiB or more that would not fit in the memory available is
+% refused before anything large is made (@code{sluice:filter:nomemory});
+% the message gives what it needs and names its largest part and the
+% options that drive it (@code{members}, @code{method}, @code{lag},
+% @code{history}, @code{param_move}, @code{move_paths},
+% @code{inner_members}, @code{threads}, @dots{}).
 %
 % @seealso{sluice.model, sluice.prior, sluice.loglik, sluice.resample}
 % @end deftypefn

@@ -1,5 +1,7 @@
 /* test_workspace.c - the layout helper of src/workspace.h (alignment,
- * order, the size query against the layout in memory, overflow), and the
+ * order, the size query against the layout in memory, overflow), the
+ * parts of a run's workspace (sl_pf_workspace_parts: they sum to
+ * sl_pf_workspace for every analysis and option combination), and the
  * workspace sizes the size queries report (sl_enkf_workspace,
  * sl_pf_workspace, sl_smooth_workspace, and through them the LETKF's) for
  * a fixed set of configurations. The expected
@@ -14,6 +16,7 @@
 #include "sluice/pf.h"
 #include "sluice/resample.h"
 #include "sluice/smooth.h"
+#include "sluice/stats.h"
 
 #include <stdint.h>
 
@@ -185,9 +188,10 @@ static void pf_base(pf_case *c, size_t n, size_t p, size_t q, size_t N, size_t T
     c->cfg.threads = 1;
 }
 
-static size_t pf_size(int which)
+/* Case `which` of the fixed set into c. */
+static void pf_setup(pf_case *c_, int which)
 {
-    pf_case c;
+#define c (*c_)
     switch (which) {
     case 0: /* the plain particle filter */
         pf_base(&c, 3, 0, 0, 100, 5, 2);
@@ -250,6 +254,13 @@ static size_t pf_size(int which)
         c.cfg.threads = 2;
         break;
     }
+#undef c
+}
+
+static size_t pf_size(int which)
+{
+    pf_case c;
+    pf_setup(&c, which);
     return sl_pf_workspace(&c.cfg);
 }
 
@@ -267,6 +278,175 @@ static void test_pf_sizes(void)
               (unsigned long)got);
     }
     CHECK(count == 9, "9 pf cases, %lu expected sizes", (unsigned long)count);
+}
+
+/* ------------------------------------------------------ the parts of a run's workspace */
+
+/* The parts of c: each named, with an option, and summing to
+ * sl_pf_workspace exactly; the parts' bytes in got. */
+static size_t parts_of(const pf_case *c, size_t got[SL_PF_NPARTS], const char *what)
+{
+    sl_pf_part part[SL_PF_NPARTS];
+    size_t total = sl_pf_workspace_parts(&c->cfg, part), sum = 0, k, j;
+    CHECK(total == sl_pf_workspace(&c->cfg), "%s: parts_of total %lu, workspace %lu", what,
+          (unsigned long)total, (unsigned long)sl_pf_workspace(&c->cfg));
+    for (k = 0; k < SL_PF_NPARTS; k++) {
+        got[k] = part[k].bytes;
+        sum += part[k].bytes;
+        CHECK(part[k].name != NULL && part[k].option[0] != NULL, "%s: part %lu named", what,
+              (unsigned long)k);
+        for (j = 0; j < k && part[k].name != NULL; j++)
+            CHECK(part[j].name == NULL || strcmp(part[j].name, part[k].name) != 0,
+                  "%s: parts %lu and %lu share a name", what, (unsigned long)j,
+                  (unsigned long)k);
+    }
+    CHECK(total > 0 && sum == total, "%s: the parts sum to %lu, the workspace is %lu", what,
+          (unsigned long)sum, (unsigned long)total);
+    return total;
+}
+
+static void test_pf_parts_fixed(void)
+{
+    size_t got[SL_PF_NPARTS], k;
+    sl_pf_part part[SL_PF_NPARTS];
+    pf_case c;
+    char what[32];
+    for (k = 0; k < 9; k++) {
+        pf_setup(&c, (int)k);
+        snprintf(what, sizeof what, "pf case %lu", (unsigned long)k);
+        CHECK(parts_of(&c, got, what) == pf_expected[k], "%s: the sizes stay", what);
+    }
+    /* case 6: the window holds lag + 1 slots and a summary buffer of
+     * (n + p) x N doubles (slot size a multiple of 64 here: 4 x 80 x 8 =
+     * 2560) and lag + 1 slot pointers in one cache line; nothing else
+     * is the lag's (the particle filter has no analysis workspace) */
+    pf_setup(&c, 6);
+    parts_of(&c, got, "lag parts");
+    CHECK(got[SL_PF_PART_LAG] == 64 + (3 + 2) * 4 * 80 * 8, "lag part %lu, expected %d",
+          (unsigned long)got[SL_PF_PART_LAG], 64 + 5 * 2560);
+    CHECK(got[SL_PF_PART_ANALYSIS] == 0 && got[SL_PF_PART_PATHS] == 0 &&
+          got[SL_PF_PART_TEMPER] == 0, "the plain filter has no analysis, paths, tempering");
+    /* case 2: resample_move keeps the ancestors and paths of every cycle,
+     * 2 T x N 4-byte indices, besides its re-run ensemble */
+    pf_setup(&c, 2);
+    parts_of(&c, got, "resample_move parts");
+    CHECK(got[SL_PF_PART_MOVES] >= 2 * 6 * 200 * 4 + 2 * 2 * 200 * 8,
+          "resample_move part %lu", (unsigned long)got[SL_PF_PART_MOVES]);
+    CHECK(got[SL_PF_PART_PATHS] == 0, "deterministic paths keep no draws");
+    /* case 3: the draws of random paths, 3 buffers of zlen x N doubles:
+     * 20 steps of dt 0.25 to t = 5 with one noisy forcing and 5 cycles
+     * with one noisy state, zlen = 20 + 5 = 25, and two index lists */
+    pf_setup(&c, 3);
+    parts_of(&c, got, "path parts");
+    CHECK(got[SL_PF_PART_PATHS] >= 3 * 25 * 150 * 8 + (2 + 4) * 8 &&
+          got[SL_PF_PART_PATHS] <= 3 * 25 * 150 * 8 + (2 + 4) * 8 + 6 * 64,
+          "path part %lu, expected 90048 to 90432", (unsigned long)got[SL_PF_PART_PATHS]);
+    /* case 4: SMC2's groups and re-run filters; the ensemble names the
+     * inner members */
+    pf_setup(&c, 4);
+    parts_of(&c, got, "smc2 parts");
+    sl_pf_workspace_parts(&c.cfg, part);
+    CHECK(got[SL_PF_PART_MOVES] >= 120 * 8 * (2 * 2 + 3 * 1) && part[SL_PF_PART_ENSEMBLE].option[1] != NULL &&
+          strcmp(part[SL_PF_PART_ENSEMBLE].option[1], "inner_members") == 0,
+          "smc2 part %lu and its options", (unsigned long)got[SL_PF_PART_MOVES]);
+    /* case 1: three threads of model work (11 doubles), quantile scratch
+     * and an error record each */
+    pf_setup(&c, 1);
+    parts_of(&c, got, "thread parts");
+    CHECK(got[SL_PF_PART_THREADS] >= 3 * (11 + sl_quantile_workspace(257)) * 8 +
+                                         3 * sizeof(sl_error),
+          "thread part %lu", (unsigned long)got[SL_PF_PART_THREADS]);
+    CHECK(got[SL_PF_PART_DERIVED] >= 3 * 257 * 8, "an operator function's values");
+    /* the ETKF with as many observations as members at a cycle works with
+     * two N x N matrices (8 N^2 bytes each, common practice) */
+    pf_setup(&c, 7);
+    c.cfg.lag = 0;
+    c.first[1] = 40;
+    c.first[2] = c.first[3] = c.first[4] = c.first[5] = 40;
+    parts_of(&c, got, "etkf parts");
+    CHECK(got[SL_PF_PART_ANALYSIS] >= 2 * 8 * 40 * 40, "etkf analysis part %lu",
+          (unsigned long)got[SL_PF_PART_ANALYSIS]);
+    CHECK(got[SL_PF_PART_PREDICTED] >= 40 * 40 * 8, "predicted observations of one cycle");
+}
+
+/* Every analysis of the table with and without a window, on one and
+ * three threads, with each move, tempering and SMC2 where the analysis
+ * weighs, forcing and state noise, derived quantities: the parts always
+ * sum to the workspace, and each option only grows its own parts. */
+static void test_pf_parts_all(void)
+{
+    static const sl_param_mover *const moves[] = {
+        &sl_param_move_fixed, &sl_param_move_kernel, &sl_param_move_resample_move};
+    size_t got[SL_PF_NPARTS], base[4][2][SL_PF_NPARTS], k, cases = 0;
+    const sl_analysis *an;
+    char what[96];
+    for (k = 0; (an = sl_analysis_at(k)) != NULL; k++) {
+        int lag, thr, mv, tmp, noise;
+        const int weighs = (an->flags & SL_ANALYSIS_WEIGHTS) != 0;
+        for (lag = 0; lag <= 1; lag++)
+            for (thr = 0; thr <= 1; thr++)
+                for (mv = 0; mv < 4; mv++)
+                    for (tmp = 0; tmp <= 1; tmp++)
+                        for (noise = 0; noise <= 1; noise++) {
+                            pf_case c;
+                            if (!weighs && (mv == 3 || tmp))
+                                continue;
+                            pf_base(&c, 3, 2, 2, 64, 5, 3);
+                            c.cfg.analysis = an;
+                            c.loc.geometry = SL_GEOM_PLANE;
+                            c.loc.dim = 2;
+                            c.cfg.loc = &c.loc;
+                            c.cfg.lag = lag ? 2 : 0;
+                            c.cfg.threads = thr ? 3 : 1;
+                            c.cfg.param_move = moves[mv < 3 ? mv : 2];
+                            c.cfg.move.rm_paths = 0.1;
+                            c.cfg.inner = mv == 3 ? 8 : 0;
+                            c.cfg.temper.ess = tmp ? 0.5 : 0.0;
+                            c.cfg.temper.max_steps = 10;
+                            c.cfg.n_fun = 2;
+                            c.cfg.obs_fn = (sl_obs_fn)(uintptr_t)1;
+                            c.cfg.derived_summary = 1;
+                            if (noise) {
+                                c.noise[0] = SL_FORCING_MULTIPLICATIVE;
+                                c.sd[0] = 0.2;
+                                c.cfg.forcing.noise = c.noise;
+                                c.cfg.forcing.sd = c.sd;
+                                c.noise_sd[0] = c.noise_sd[2] = 0.1;
+                                c.cfg.state_noise = c.noise_sd;
+                            }
+                            snprintf(what, sizeof what,
+                                     "%s lag %d threads %d move %d temper %d noise %d",
+                                     an->name, c.cfg.lag ? 2 : 0, c.cfg.threads, mv, tmp,
+                                     noise);
+                            parts_of(&c, got, what);
+                            cases++;
+                            if (!lag && !thr && !tmp) {
+                                memcpy(base[mv][noise], got, sizeof base[mv][noise]);
+                                /* the same without the window, one thread,
+                                 * no tempering: what the options add */
+                                continue;
+                            }
+                            {
+                                const size_t *b0 = base[mv][noise];
+                                const size_t a0 = b0[SL_PF_PART_ANALYSIS],
+                                             a1 = got[SL_PF_PART_ANALYSIS];
+                                CHECK(tmp || got[SL_PF_PART_ENSEMBLE] == b0[SL_PF_PART_ENSEMBLE],
+                                      "%s: the ensemble does not change", what);
+                                CHECK((got[SL_PF_PART_LAG] > 0) == (lag != 0),
+                                      "%s: a window only with lag", what);
+                                CHECK(!thr || got[SL_PF_PART_THREADS] > b0[SL_PF_PART_THREADS],
+                                      "%s: threads add scratch", what);
+                                CHECK(!tmp || got[SL_PF_PART_TEMPER] >= 64 * 16,
+                                      "%s: tempering's buffers", what);
+                                /* the one-thread, windowless analysis, up
+                                 * to the alignment before it */
+                                CHECK(a1 + 64 > a0 && a0 + 64 > a1,
+                                      "%s: the analysis part %lu, without the options %lu",
+                                      what, (unsigned long)a1, (unsigned long)a0);
+                            }
+                        }
+    }
+    CHECK(cases >= 7 * 8 * 2, "%lu combinations", (unsigned long)cases);
 }
 
 /* ------------------------------------------------------------------ the smoothers */
@@ -328,6 +508,8 @@ int main(void)
     test_helper();
     test_enkf_sizes();
     test_pf_sizes();
+    test_pf_parts_fixed();
+    test_pf_parts_all();
     test_smooth_sizes();
     CHECK_DONE("test_workspace");
 }

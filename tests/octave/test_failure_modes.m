@@ -25,10 +25,12 @@
 %   observation table errors               sluice:filter:badobs (row named),      test_pf_features.m, test_obs_csv.m,
 %                                          sluice:read_obs:<reason> (file, line,   test_read_obs_forms.m
 %                                          column named)
-%   memory refused before the run          sluice:<fn>:nomemory                    test_pf_features.m, draw.m, esmda.m,
-%                                                                                  model.m, simulate.m, smooth.m
 %   run too long to end (steps > 2^32 - 1  sluice:<fn>:toomanysteps, before any   propagate.m, simulate.m, filter.m;
 %   or > 1e15 member-state-steps)          work                                    test_integrate.c, test_pf.c
+%   memory refused before the run          sluice:<fn>:nomemory, naming the        test_memory_check.m (the boundary of
+%                                          largest part and its option             every method and option), test_pf_
+%                                                                                  features.m, draw.m, esmda.m, model.m,
+%                                                                                  simulate.m, smooth.m
 %   Ctrl-C                                 sluice:filter:interrupted (also         test_interrupt.m; test_enkf.c,
 %                                          esmda, smooth, ...), sweep:interrupted, test_letkf.c, test_smooth.c (polls);
 %                                          pmmh:interrupted                        here (pmmh mapping)

@@ -20,7 +20,7 @@ function res = filter_run (model, prior, obs, args, fn)
     t0 = model.t0;
   end
 
-  check_memory (n, p, q, N, obs_field (obs, 'time'), opts, fn);
+  check_memory (n, p, N, fn);
 
   % initial ensemble: prior draws by name
   [X0, P0, lower, upper, pdist] = initial_ensemble (model, prior, N, opts.seed, fn);
@@ -625,49 +625,18 @@ function c = add_localization (c, opts, model, tab, obs, derived, fn)
   c.obs_c = oc;
 end
 
-function v = obs_field (obs, name)
-  v = [];
-  if (isstruct (obs) && isscalar (obs) && isfield (obs, name))
-    v = obs.(name);
-  end
-end
-
-function check_memory (n, p, q, N, obs_time, opts, fn)
-  % refuse a run that cannot fit before anything large is allocated
-  m = numel (obs_time);
-  T = m + numel (opts.times);
-  need = 8 * N * (3 * n + 5 * p + 3 * q + min (m, 1e4) + 8);
-  if (opts.history)
-    need = need + 8 * N * T * (n + p + 2);
-  end
-  nwin = 0;
-  if (opts.lag > 0)
-    % the window, and for the ensemble Kalman methods its augmented copy
-    nwin = min (opts.lag, T);
-    need = need + 8 * N * (n + p) * (nwin + 2) * (1 + ~strcmp (opts.method, 'pf'));
-  end
-  if (~strcmp (opts.method, 'pf') && N >= 2 && m > 0)
-    % the analysis workspace as the core asks for it (N x N matrices for
-    % the LETKF, and for the ETKF only with as many observations in one
-    % cycle as members), for the most rows of one time; it never shrinks
-    % as the rows grow, so all m rows at once bound it cheaply first
-    rows = (n + p) * (nwin + 1);
-    work = sluice.kernel.enkf ('workspace', opts.method, rows, N, m, opts.threads);
-    if (need + work >= 2^30)
-      try
-        [~, ~, k] = unique (obs_time(:));
-        work = sluice.kernel.enkf ('workspace', opts.method, rows, N, ...
-                                   max (accumarray (k(:), 1)), opts.threads);
-      catch
-        % a malformed table: the table check reports it later
-      end
-    end
-    need = need + work;
-  end
-  if (need < 2^30)
+function check_memory (n, p, N, fn)
+  % refuse up front an initial ensemble that cannot be drawn: the states
+  % and parameters of every member, and as much again while they are
+  % drawn. What the run needs besides (its workspace, outputs and
+  % history, by part) the compiled run checks exactly before it
+  % allocates anything (sluice.kernel.pf_run).
+  need = 16 * N * (n + p);
+  if (need < 2^30 && isempty (getenv ('SLUICE_MEMORY_AVAILABLE')))
     return;   % small runs: not worth the 3 ms memory () costs per call
   end
-  sluice.internal.ensure_memory (need, fn, sprintf ('a run of %d members', N));
+  sluice.internal.ensure_memory (need, fn, sprintf ('the initial ensemble of %d members', N), ...
+                                 need, 'states and parameters of every member', {'members'});
 end
 
 function [X0, P0, lower, upper, pdist] = initial_ensemble (model, prior, N, seed, fn)
