@@ -381,7 +381,9 @@ function res = run_prepared (run, args, fn)
   % run a prepared run again: options seed, params, values; nothing
   % checked when it was prepared is checked again
   R = prepared_engine (run, fn);
-  args = sluice.internal.option_pairs (args);
+  if (numel (args) == 1 && isstruct (args{1}))
+    args = sluice.internal.option_pairs (args);
+  end
   if (mod (numel (args), 2) ~= 0)
     error (['sluice:' fn ':badoption'], 'options must be a struct or name, value pairs');
   end
@@ -422,7 +424,9 @@ function res = run_prepared (run, args, fn)
   end
   if (seed ~= c.seed || redraw)
     [c.X0, c.P0] = draw_members (R.plan, c.members, seed, numel (R.model.states), fn);
-    check_spread (R.model, c.P0, c.lower, c.upper, R.opts, fn);
+    if (any (c.lower < c.upper))
+      check_spread (R.model, c.P0, c.lower, c.upper, R.opts, fn);   % else nothing to check
+    end
   end
   c.seed = seed;
   R.opts.seed = seed;
