@@ -210,7 +210,7 @@ function R = prepare (model, prior, obs, opts, fn)
   R.plan = plan;
   R.param_step = step;
   R.obs_value = tab.value;
-  R.obs_sigma = obs_field (obs, 'sigma');
+  R.obs_sigma = double (obs.sigma(:));   % as given (obs_table checked it)
   R.obs_counted = strcmp (tab.family, 'poisson') | strcmp (tab.family, 'binomial');
   R.cyc = cyc;
 end
