@@ -2,6 +2,8 @@
 % @deftypefn  {} {@var{res} =} sluice.filter (@var{model}, @var{prior}, @var{obs})
 % @deftypefnx {} {@var{res} =} sluice.filter (@var{model}, @var{prior}, @var{obs}, @var{opts})
 % @deftypefnx {} {@var{res} =} sluice.filter (@dots{}, @var{name}, @var{value}, @dots{})
+% @deftypefnx {} {@var{run} =} sluice.filter (@dots{}, 'prepare', true)
+% @deftypefnx {} {@var{res} =} sluice.filter (@var{run}, @var{name}, @var{value}, @dots{})
 % Assimilate a record of observations into an ensemble run of @var{model}.
 %
 % @var{model} is a spec from @code{sluice.model}. @var{prior} is a struct
@@ -312,7 +314,46 @@
 % @item progress
 % @code{'auto'} (default: a progress line on a terminal for runs over
 % 2 s), true or false.
+% @item prepare
+% true to return a prepared run instead of running (see below; default
+% false).
 % @end table
+%
+% A prepared run, for many runs that differ only in the seed, the values
+% of fixed parameters or the observation values (a sweep over seeds, a
+% Markov chain over parameters, twin experiments on one observing
+% network): @code{run = sluice.filter (model, prior, obs, @dots{},
+% 'prepare', true)} makes every check of the call and its settings once
+% and returns them, without running. @code{sluice.filter (run)} then
+% returns exactly what the call without @code{prepare} returns, and
+% takes these options (a struct or name/value pairs), which change only
+% what they say:
+% @table @code
+% @item seed
+% the seed of this run (default: the seed the run was prepared with, or,
+% when it had none, a new one drawn from Octave's @code{rand} each run).
+% @item params
+% a struct of parameter values, a field per parameter, for parameters
+% that the prior does not draw: a parameter with a @code{fixed} prior
+% entry runs as if the entry were @code{sluice.prior (name, 'fixed',
+% value)}, one the prior does not name as if the model's default were
+% the value. A value must be finite and within the parameter's bounds
+% (@code{sluice:filter:badparams}); @code{run.settable_params} lists the
+% parameters this takes.
+% @item values
+% the observation values, one per row of the table (NaN: missing): the
+% same times, variables, sigmas and families.
+% @end table
+% Anything else cannot change a prepared run: another option of the
+% run, a parameter the prior draws or the model lacks, or another number
+% of values is refused with @code{sluice:filter:preparedchange} (prepare
+% the run again instead), and a struct that is not a prepared run with
+% @code{sluice:filter:badrun}. A prepared run cannot have a
+% @code{checkpoint}. Its fields @code{model}, @code{members},
+% @code{seed}, @code{times}, @code{state_names}, @code{param_names},
+% @code{settable_params} and @code{obs_rows} describe it; the field
+% @code{engine} holds the prepared settings and is not for editing.
+% @code{sluice.pmmh} runs its filters this way.
 %
 % The result @var{res} has @code{times} (1 x T cycle times; with
 % @code{origin} also @code{time_origin}, @code{time_unit} and
@@ -377,6 +418,17 @@
 % @seealso{sluice.model, sluice.prior, sluice.loglik, sluice.resample}
 % @end deftypefn
 function res = filter (model, prior, obs, varargin)
+  if (nargin >= 1 && isstruct (model) && isfield (model, 'prepared_for'))
+    % a prepared run: every other argument is an option of its run
+    args = varargin;
+    if (nargin >= 3)
+      args = [{prior, obs}, varargin];
+    elseif (nargin == 2)
+      args = {prior};
+    end
+    res = sluice.internal.filter_run ('-run', model, [], args, 'filter');
+    return;
+  end
   if (nargin < 3)
     sluice.internal.compat ('usage', mfilename ());
   end

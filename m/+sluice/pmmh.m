@@ -503,7 +503,7 @@ function out = chain_body (c, S, out)
   d = numel (S.free);
   nb = S.opts.burnin;
   th = S.opts.thin;
-  ev = struct ('degenerate', 0, 'nonfinite', 0, 'calls', 0, 'time', 0);
+  ev = struct ('degenerate', 0, 'nonfinite', 0, 'calls', 0, 'time', 0, 'run', []);
   if (isempty (S.resume))
     [st, ev] = chain_start (c, S, ev);
   else
@@ -690,17 +690,26 @@ function [st, ev] = chain_start (c, S, ev)
 end
 
 function [ll, ev] = loglik_at (S, x, seed, ev)
-  pr = S.filter_prior;
-  for k = 1:numel (S.free)
-    j = S.free(k);
-    pr(j).args = x(k);
-    pr(j).lower = x(k);
-    pr(j).upper = x(k);
-  end
-  fo = S.fopts;
-  fo.seed = seed;
+  % the filter's log-evidence at the free parameters x: a run of the
+  % chain's prepared filter (sluice.filter, option 'prepare') with the
+  % free parameters' fixed prior entries set to x, prepared at the first
+  % call; the same as an unprepared run with those entries
+  % sluice.prior (name, 'fixed', x(k))
   t0 = tic ();
-  r = sluice.filter (S.model, pr, S.obs, fo);
+  if (isempty (ev.run))
+    pr = S.filter_prior;
+    for k = 1:numel (S.free)
+      j = S.free(k);
+      pr(j).args = x(k);
+      pr(j).lower = x(k);
+      pr(j).upper = x(k);
+    end
+    fo = S.fopts;
+    fo.seed = seed;
+    fo.prepare = true;
+    ev.run = sluice.filter (S.model, pr, S.obs, fo);
+  end
+  r = sluice.filter (ev.run, 'seed', seed, 'params', cell2struct (num2cell (x(:)), S.names(:), 1));
   ev.time = ev.time + toc (t0);
   ev.calls = ev.calls + 1;
   ll = r.log_evidence;

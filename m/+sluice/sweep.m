@@ -50,7 +50,14 @@
 % function that calls only such functions (not a subfunction or a
 % function defined in a script). Each point then runs its filter with the
 % OpenMP threads it asks for: give the filter @code{'threads', 1} to keep
-% one thread per worker.
+% one thread per worker. Where the points change only the seed, the
+% values of fixed parameters or the observation values, @var{fun} can run
+% a filter prepared once before the sweep (@code{sluice.filter}, option
+% @code{prepare}), which skips the checks every point would repeat:
+% @code{run = sluice.filter (model, prior, obs, 'prepare', true)} and
+% @code{fun = @@(p) struct ('ll', getfield (sluice.filter (run, 'seed',
+% p.seed, 'params', struct ('k', p.k)), 'log_evidence'))} return what the
+% unprepared calls return.
 % @item file
 % the name of a results file. After each finished point the results so
 % far are written there: to a temporary file in

@@ -10,6 +10,9 @@ function check_model (model, pos, fn)
   if (isempty (core))
     core = sluice.kernel.core_names ();
   end
+  if (quick_ok (model, core))
+    return;
+  end
   id = ['sluice:' fn ':badmodel'];
   if (ischar (pos))
     where = pos;   % an option, named as the caller says
@@ -94,6 +97,111 @@ function check_model (model, pos, fn)
         numel (model.internal) == n && all (model.internal(:) == 0 | model.internal(:) == 1)))
     error (id, '%s: field ''internal'' must be %d true/false flags, one per state', where, n);
   end
+end
+
+function ok = quick_ok (m, core)
+  % true when the spec passes every check of check_model: the same checks
+  % as one expression each, with no call per field. A false reports
+  % nothing: the spec then goes through the checks one by one, which name
+  % what is wrong. (A spec this accepts, they accept too.)
+  ok = false;
+  need = {'kind', 'name', 'states', 'params', 'forcings', 'events', 'defaults', ...
+          'lower', 'upper', 'dt', 't0', 'x0', 'integrator', 'rtol', 'atol', ...
+          'A', 'B', 'c', 'Q', 'L', 'fun', 'handle_kind'};
+  if (~(isstruct (m) && isscalar (m) && all (isfield (m, need)) && ...
+        ischar (m.kind) && isrow (m.kind) && ischar (m.name) && (isrow (m.name) || isempty (m.name)) && ...
+        ischar (m.integrator) && isrow (m.integrator) && any (strcmp (m.integrator, core.integrators))))
+    return;
+  end
+  all_names = {};
+  lists = {m.states, m.params, m.forcings, m.events};
+  for k = 1:4
+    c = lists{k};
+    if (~iscellstr (c))
+      return;
+    end
+    for j = 1:numel (c)
+      if (size (c{j}, 1) ~= 1 || ~isvarname (c{j}))
+        return;
+      end
+    end
+    all_names = [all_names; c(:)];
+  end
+  n = numel (m.states);
+  p = numel (m.params);
+  q = numel (m.forcings);
+  if (n == 0)
+    return;
+  end
+  for k = 1:numel (all_names) - 1
+    if (any (strcmp (all_names{k}, all_names(k+1:end))))
+      return;
+    end
+  end
+  lo = m.lower;
+  hi = m.upper;
+  def = m.defaults;
+  x0 = m.x0;
+  if (~(is_vec (lo, p) && is_vec (hi, p) && is_vec (def, p) && is_vec (x0, n) && ...
+        ~any (isnan (lo(:))) && ~any (isnan (hi(:))) && all (lo(:) <= hi(:)) && ...
+        ~any (def(:) < lo(:) | def(:) > hi(:)) && all (isfinite (x0(:)))))
+    return;
+  end
+  if (~(is_num (m.dt) && m.dt > 0 && is_num (m.t0) && is_num (m.rtol) && m.rtol >= 0 && ...
+        is_num (m.atol) && m.atol >= 0))
+    return;
+  end
+  if (isfield (m, 'internal') && ...
+      ~((islogical (m.internal) || isnumeric (m.internal)) && ...
+        numel (m.internal) == n && all (m.internal(:) == 0 | m.internal(:) == 1)))
+    return;
+  end
+  switch (m.kind)
+    case 'linear'
+      if (~(strcmp (m.integrator, 'discrete') && p == 0 && isempty (m.events) && ...
+            is_mat (m.A, n, n, false) && is_mat (m.B, n, q, q == 0) && ...
+            ((isempty (m.c) && isnumeric (m.c)) || (is_vec (m.c, n) && all (isfinite (m.c(:))))) && ...
+            is_mat (m.Q, n, n, true) && is_mat (m.L, n, n, true) && ...
+            isempty (m.Q) == isempty (m.L)))
+        return;
+      end
+      if (~isempty (m.Q) && ~(norm (m.L * m.L' - m.Q, 1) <= 1e-8 * max (1, norm (m.Q, 1))))
+        return;
+      end
+      ok = true;
+    case 'handle'
+      ok = isa (m.fun, 'function_handle') && ischar (m.handle_kind) && ...
+           (strcmp (m.handle_kind, 'step') || strcmp (m.handle_kind, 'rhs')) && ...
+           strcmp (m.handle_kind, 'step') == strcmp (m.integrator, 'discrete') && ...
+           isempty (m.events);
+    otherwise
+      % a compiled model: its own checks, whose message is not needed here
+      try
+        % (a real identifier: error () with an empty one raises nothing)
+        check_compiled (m, n, p, q, 'spec', 'sluice:check_model:quick');
+        ok = true;
+      catch
+        ok = false;
+      end
+  end
+end
+
+function tf = is_vec (v, len)
+  % as vec below, without its rule
+  tf = isa (v, 'double') && isreal (v) && ~issparse (v) && numel (v) == len && ...
+       (len == 0 || isvector (v));
+end
+
+function tf = is_num (v)
+  % as scalar below, without its test
+  tf = isa (v, 'double') && isreal (v) && ~issparse (v) && isscalar (v) && isfinite (v);
+end
+
+function tf = is_mat (v, r, c, may_be_empty)
+  % as matrix below
+  tf = (may_be_empty && isempty (v) && isnumeric (v)) || ...
+       (isa (v, 'double') && isreal (v) && ~issparse (v) && ndims (v) == 2 && ...
+        size (v, 1) == r && size (v, 2) == c && all (isfinite (v(:))));
 end
 
 function tf = is_text (v)
@@ -188,10 +296,24 @@ function check_compiled (model, n, p, q, where, id)
     end
     return;   % its gateway checks the counts against the compiled definition
   end
-  try
-    info = sluice.kernel.model_info (model.name);
-  catch
-    error (id, '%s: field ''name'': there is no built-in model ''%s''', where, model.name);
+  % what a built-in model is cannot change while Octave runs: asked once
+  % per model name
+  persistent known
+  if (isempty (known))
+    known = struct ();
+  end
+  key = ['m_' model.name];
+  if (isvarname (key) && isfield (known, key))
+    info = known.(key);
+  else
+    try
+      info = sluice.kernel.model_info (model.name);
+    catch
+      error (id, '%s: field ''name'': there is no built-in model ''%s''', where, model.name);
+    end
+    if (isvarname (key))
+      known.(key) = info;
+    end
   end
   if ((info.n_state > 0 && n ~= info.n_state) || n < info.n_min || ...
       p ~= numel (info.params) || q ~= numel (info.forcings) || ...

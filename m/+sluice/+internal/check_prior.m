@@ -77,6 +77,13 @@ function [ids, a, b, lo, hi, names] = check_prior (prior, pos, fn)
   % the numbers of every entry and their supports: the core's verdict
   [reasons, whats, slo, shi] = sluice.kernel.prior_eval ('check', ids, a, b, lo, hi);
   for k = 1:p
+    lower = prior(k).lower;
+    upper = prior(k).upper;
+    if (isempty (reasons{k}) && isa (lower, 'double') && isa (upper, 'double') && ...
+        isreal (lower) && isreal (upper) && isscalar (lower) && isscalar (upper) && ...
+        lower <= slo(k) && upper >= shi(k) && lower <= upper)
+      continue;   % what check_bounds accepts (NaN fails the comparisons)
+    end
     if (~isempty (reasons{k}))
       error (id, '%s: entry %d (''%s''): %s arguments %s = %s: %s', where, k, ...
              names{k}, dists{ids(k) + 1}, forms{ids(k) + 1}, ...

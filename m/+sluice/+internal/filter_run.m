@@ -6,13 +6,75 @@ function res = filter_run (model, prior, obs, args, fn)
   % compiled run; the warnings keep sluice:filter:<reason>, the filter's
   % own. args are the options as sluice.filter takes them (a cell of name,
   % value pairs or of one struct).
+  %
+  % filter_run ('-run', run, [], args, fn) runs a prepared run (made with
+  % the option 'prepare') with the options args that a prepared run takes
+  % (seed, params, values).
+  %
+  % A run is made in two steps: prepare (every check, and the settings of
+  % the compiled run) and execute (the compiled run and the result). A
+  % prepared run keeps the first step's work, so that running it again
+  % with another seed, other values of fixed parameters or other
+  % observation values redoes only what those change.
+  if (ischar (model) && strcmp (model, '-run'))
+    res = run_prepared (prior, args, fn);
+    return;
+  end
+  [args, prep] = take_prepare (args, fn);
   opts = parse_options (args, fn);
+  if (prep && ~isempty (opts.checkpoint))
+    error (['sluice:' fn ':badoption'], ...
+           ['a prepared run cannot have a checkpoint (each run of it may have another ', ...
+            'seed); give the checkpoint to an unprepared call']);
+  end
+  R = prepare (model, prior, obs, opts, fn);
+  if (prep)
+    res = prepared_view (R);
+    return;
+  end
+  res = execute (R);
+end
+
+function [args, prep] = take_prepare (args, fn)
+  % the option 'prepare' (sluice.filter only): not a setting of the run,
+  % so it is taken out before the run's options are read
+  prep = false;
+  if (~strcmp (fn, 'filter'))
+    return;
+  end
+  args = sluice.internal.option_pairs (args);
+  if (mod (numel (args), 2) ~= 0)
+    return;   % parse_options reports it
+  end
+  names = args(1:2:end);
+  k = [];
+  for j = 1:numel (names)
+    if (ischar (names{j}) && isrow (names{j}) && strcmp (names{j}, 'prepare'))
+      k(end + 1) = j;
+    end
+  end
+  if (isempty (k))
+    return;
+  end
+  v = args{2 * k(end)};
+  if (~((islogical (v) || isnumeric (v)) && isscalar (v) && isreal (v) && ~isnan (v)))
+    error (['sluice:' fn ':badoption'], 'prepare must be true or false');
+  end
+  prep = logical (v);
+  drop = [2 * k - 1, 2 * k];
+  args(drop) = [];
+end
+
+function R = prepare (model, prior, obs, opts, fn)
+  % every check of a run and its settings for the compiled run, with the
+  % initial ensemble of opts.seed (drawn when not given)
   sluice.internal.check_model (model, 1, fn);
   n = numel (model.states);
   p = numel (model.params);
   q = numel (model.forcings);
   N = opts.members;
-  if (isempty (opts.seed))
+  seed_given = ~isempty (opts.seed);
+  if (~seed_given)
     opts.seed = floor (rand () * 2^32);
   end
   t0 = opts.t0;
@@ -23,14 +85,32 @@ function res = filter_run (model, prior, obs, args, fn)
   check_memory (n, p, N, fn);
 
   % initial ensemble: prior draws by name
-  [X0, P0, lower, upper, pdist] = initial_ensemble (model, prior, N, opts.seed, fn);
+  plan = prior_plan (model, prior, fn);
+  [X0, P0] = draw_members (plan, N, opts.seed, n, fn);
+  lower = plan.lower;
+  upper = plan.upper;
   check_spread (model, P0, lower, upper, opts, fn);
 
   % observations and the cycle times
-  ops = sluice.internal.operators (opts.operators, model, fn);
+  if (isempty (opts.operators))
+    % none: the layout sluice.internal.operators gives for none
+    ops = struct ('names', {cell(0, 1)}, 'H', zeros (0, n + p), 'funs', {cell(1, 0)}, ...
+                  'rows', zeros (1, 0));
+  else
+    ops = sluice.internal.operators (opts.operators, model, fn);
+  end
   tab = sluice.internal.obs_table (obs, [model.states(:); model.params(:); ops.names(:)], ...
                                   t0, fn, true);
-  times = unique ([tab.time(:); opts.times(:)])';
+  m = numel (tab.time);
+  if (isempty (opts.times))
+    % the table's times are in order (obs_table checked it): the cycles
+    % start where the time changes
+    starts = true (m, 1);
+    starts(2:end) = tab.time(2:end) ~= tab.time(1:end-1);
+    times = tab.time(starts)';
+  else
+    times = unique ([tab.time(:); opts.times(:)])';
+  end
   if (isempty (times))
     error (['sluice:' fn ':noobs'], 'no observation and no output time to run to');
   end
@@ -39,8 +119,14 @@ function res = filter_run (model, prior, obs, args, fn)
            times(1), t0);
   end
   T = numel (times);
-  [~, cyc] = ismember (tab.time, times);
-  obs_first = [0, cumsum(accumarray (cyc(:), 1, [T 1]))'];
+  if (isempty (opts.times))
+    % each row's cycle by counting; every cycle has rows
+    cyc = cumsum (starts);
+    obs_first = [0, find([starts(2:end); true])'];
+  else
+    [~, cyc] = ismember (tab.time, times);
+    obs_first = [0, cumsum(accumarray (cyc(:), 1, [T 1]))'];
+  end
 
   c = sluice.internal.model_config (model, opts.forcing, opts.forcing_noise, ...
                                   opts.events, opts.event_noise, fn, opts.calendar);
@@ -64,7 +150,8 @@ function res = filter_run (model, prior, obs, args, fn)
   c.lower = lower;
   c.upper = upper;
   c.param_move = opts.param_move;
-  c.param_step = expand (opts.param_step, p, 'param_step', fn);
+  step = expand (opts.param_step, p, 'param_step', fn);
+  c.param_step = step;
   c.param_step(lower == upper) = 0;
   c.lw_delta = opts.liu_west_delta;
   c.kernel_scale = opts.kernel_scale;
@@ -76,11 +163,11 @@ function res = filter_run (model, prior, obs, args, fn)
     c.param_move = 'resample_move';
     c.inner = opts.inner_members;
   end
-  c.prior_dist = pdist.id;
-  c.prior_a = pdist.a;
-  c.prior_b = pdist.b;
-  c.prior_lo = pdist.lo;
-  c.prior_hi = pdist.hi;
+  c.prior_dist = plan.pdist.id;
+  c.prior_a = plan.pdist.a;
+  c.prior_b = plan.pdist.b;
+  c.prior_lo = plan.pdist.lo;
+  c.prior_hi = plan.pdist.hi;
   c.resample = opts.resample;
   c.threshold = opts.resample_threshold;
   c.temper_ess = opts.temper_ess;
@@ -113,6 +200,35 @@ function res = filter_run (model, prior, obs, args, fn)
                         sluice.internal.comparable(opts.operators)};
   end
 
+  % what execute needs, and what a prepared run needs to run again
+  R = struct ();
+  R.version = 1;
+  R.fn = fn;
+  R.model = model;
+  R.opts = opts;
+  R.seed_given = seed_given;
+  R.c = c;
+  R.ops_names = ops.names;
+  R.plan = plan;
+  R.param_step = step;
+  R.obs_value = tab.value;
+  R.obs_sigma = double (obs.sigma(:));   % as given (obs_table checked it)
+  R.obs_counted = strcmp (tab.family, 'poisson') | strcmp (tab.family, 'binomial');
+  R.cyc = cyc;
+end
+
+function res = execute (R)
+  % the compiled run of the settings R.c and its result
+  c = R.c;
+  opts = R.opts;
+  model = R.model;
+  n = numel (model.states);
+  times = c.times;
+  P0 = c.P0;
+  lower = c.lower;
+  upper = c.upper;
+  cyc = R.cyc;
+
   r = sluice.internal.run_engine (model, c);
 
   res = struct ();
@@ -121,9 +237,9 @@ function res = filter_run (model, prior, obs, args, fn)
     res.method = 'wenkf';
   end
   res.model = model.name;
-  res.members = N;
+  res.members = c.members;
   res.seed = opts.seed;
-  res.t0 = t0;
+  res.t0 = c.t0;
   res.times = times;
   if (~isempty (opts.calendar))
     % the calendar of the time axis: model times as dates
@@ -146,7 +262,7 @@ function res = filter_run (model, prior, obs, args, fn)
                          'params', r.forecast_mean(n+1:end, :));
   if (c.derived_summary)
     % the derived quantities of the option operators, summarised as the states
-    res.derived = struct ('names', {ops.names(:)'}, 'mean', r.derived_mean, ...
+    res.derived = struct ('names', {R.ops_names(:)'}, 'mean', r.derived_mean, ...
                           'quantiles', r.derived_quantiles);
   end
   res.ess = r.ess;
@@ -224,7 +340,183 @@ function res = filter_run (model, prior, obs, args, fn)
               'or check against sluice.pmmh'], ...
              strjoin (res.param_names(est), ', '));
   end
-  warn_diversity (res, P0, lower, upper, tab, cyc);
+  warn_diversity (res, P0, lower, upper, R.obs_value, cyc);
+end
+
+function run = prepared_view (R)
+  % a prepared run as sluice.filter returns it: a few fields to read, and
+  % the prepared settings (field engine) that a run of it uses
+  run = struct ();
+  run.prepared_for = 'sluice.filter';
+  run.model = R.model.name;
+  run.members = R.c.members;
+  run.seed = [];
+  if (R.seed_given)
+    run.seed = R.opts.seed;
+  end
+  run.times = R.c.times;
+  run.state_names = R.model.states;
+  run.param_names = R.model.params;
+  run.settable_params = R.model.params(R.plan.role(:)' >= 0);
+  run.settable_params = run.settable_params(:)';
+  run.obs_rows = numel (R.obs_value);
+  run.engine = R;
+end
+
+function R = prepared_engine (run, fn)
+  % the prepared settings of a prepared run, or the error
+  % sluice:<fn>:badrun for anything else
+  need = {'version', 'fn', 'model', 'opts', 'seed_given', 'c', 'ops_names', 'plan', ...
+          'param_step', 'obs_value', 'obs_sigma', 'obs_counted', 'cyc'};
+  if (~(isstruct (run) && isscalar (run) && isfield (run, 'prepared_for') && ...
+        strcmp (run.prepared_for, 'sluice.filter') && isfield (run, 'engine') && ...
+        isstruct (run.engine) && isscalar (run.engine) && all (isfield (run.engine, need)) && ...
+        isnumeric (run.engine.version) && isscalar (run.engine.version) && run.engine.version == 1))
+    error (['sluice:' fn ':badrun'], ...
+           ['argument 1 (run): expected a prepared run of sluice.filter (option ''prepare'') ', ...
+            'as it was returned, got %s'], sluice.internal.describe (run));
+  end
+  R = run.engine;
+end
+
+function res = run_prepared (run, args, fn)
+  % run a prepared run again: options seed, params, values; nothing
+  % checked when it was prepared is checked again
+  R = prepared_engine (run, fn);
+  if (numel (args) == 1 && isstruct (args{1}))
+    args = sluice.internal.option_pairs (args);
+  end
+  if (mod (numel (args), 2) ~= 0)
+    error (['sluice:' fn ':badoption'], 'options must be a struct or name, value pairs');
+  end
+  c = R.c;
+  seed = [];
+  redraw = false;
+  for k = 1:2:numel (args)
+    name = args{k};
+    v = args{k + 1};
+    if (~ischar (name) || ~isrow (name))
+      error (['sluice:' fn ':badoption'], 'option names must be strings');
+    end
+    switch (name)
+      case 'seed'
+        seed = whole (v, 'seed', 0, 2^53, fn);
+      case 'params'
+        [R, c] = set_params (R, c, v, fn);
+        redraw = true;
+      case 'values'
+        c = set_values (R, c, v, fn);
+        R.obs_value = c.obs_value;
+      otherwise
+        if (isfield (sluice.internal.run_defaults (), name) || strcmp (name, 'prepare'))
+          error (['sluice:' fn ':preparedchange'], ...
+                 ['option ''%s'' cannot change in a prepared run (it takes seed, params ', ...
+                  'and values): prepare the run again with it'], name);
+        end
+        error (['sluice:' fn ':badoption'], ...
+               'unknown option ''%s'' (a prepared run takes seed, params and values)', name);
+    end
+  end
+  if (isempty (seed))
+    if (R.seed_given)
+      seed = R.opts.seed;
+    else
+      seed = floor (rand () * 2^32);
+    end
+  end
+  if (seed ~= c.seed || redraw)
+    [c.X0, c.P0] = draw_members (R.plan, c.members, seed, numel (R.model.states), fn);
+    if (any (c.lower < c.upper))
+      check_spread (R.model, c.P0, c.lower, c.upper, R.opts, fn);   % else nothing to check
+    end
+  end
+  c.seed = seed;
+  R.opts.seed = seed;
+  R.c = c;
+  res = execute (R);
+end
+
+function [R, c] = set_params (R, c, v, fn)
+  % the option params of a prepared run: new values of parameters that no
+  % prior draws (each as if its prior entry were sluice.prior (name,
+  % 'fixed', value), or the model's default when the prior names it not)
+  if (~(isstruct (v) && isscalar (v)))
+    error (['sluice:' fn ':badparams'], ...
+           'params must be a struct of parameter values (a field per parameter), got %s', ...
+           sluice.internal.describe (v));
+  end
+  model = R.model;
+  plan = R.plan;
+  names = fieldnames (v);
+  for k = 1:numel (names)
+    ip = find (strcmp (names{k}, model.params));
+    if (isempty (ip))
+      error (['sluice:' fn ':preparedchange'], ...
+             'params.%s: the model of the prepared run has no parameter of that name (it has %s)', ...
+             names{k}, strjoin (model.params(:)', ', '));
+    end
+    if (plan.role(ip) < 0)
+      error (['sluice:' fn ':preparedchange'], ...
+             ['params.%s: the prior of the prepared run draws this parameter; a prepared run ', ...
+              'sets only parameters with a fixed prior or none (prepare again with another prior)'], ...
+             names{k});
+    end
+    x = v.(names{k});
+    if (~(isa (x, 'double') && isreal (x) && ~issparse (x) && isscalar (x) && isfinite (x)))
+      error (['sluice:' fn ':badparams'], 'params.%s must be a finite real double scalar, got %s', ...
+             names{k}, sluice.internal.describe (x));
+    end
+    if (x < model.lower(ip) || x > model.upper(ip))
+      error (['sluice:' fn ':badparams'], ...
+             'params.%s = %g lies outside the parameter''s bounds [%g, %g]', ...
+             names{k}, x, model.lower(ip), model.upper(ip));
+    end
+    e = plan.role(ip);
+    if (e > 0)
+      plan.a(e) = x;            % the fixed prior entry's value
+      plan.pdist.a(ip) = x;
+    else
+      plan.def(ip) = x;         % the model's default
+    end
+    plan.lower(ip) = x;
+    plan.upper(ip) = x;
+  end
+  R.plan = plan;
+  c.lower = plan.lower;
+  c.upper = plan.upper;
+  c.prior_a = plan.pdist.a;
+  c.param_step = R.param_step;
+  c.param_step(plan.lower == plan.upper) = 0;
+end
+
+function c = set_values (R, c, v, fn)
+  % the option values of a prepared run: new values of the observation
+  % table's rows (times, variables, sigmas and families as prepared)
+  m = numel (R.obs_value);
+  if (~(isa (v, 'double') && isreal (v) && ~issparse (v) && (isvector (v) || isempty (v))))
+    error (['sluice:' fn ':badobs'], ...
+           'values must be a real double vector (one value per observation row), got %s', ...
+           sluice.internal.describe (v));
+  end
+  if (numel (v) ~= m)
+    error (['sluice:' fn ':preparedchange'], ...
+           'values: the prepared run has %d observation rows, got %d values', m, numel (v));
+  end
+  v = v(:);
+  s = R.obs_sigma(:);
+  s(isnan (v) & isnan (s)) = 1;   % as sluice.internal.obs_table stands it in
+  bad = isinf (v) | (~R.obs_counted & ~isnan (v) & ~(isfinite (s) & s >= realmin));
+  i = find (bad, 1);
+  if (~isempty (i))
+    if (isinf (v(i)))
+      error (['sluice:' fn ':badobs'], 'observation row %d: value is infinite', i);
+    end
+    error (['sluice:' fn ':badobs'], ['observation row %d: sigma must be finite and at ', ...
+                                       'least %.17g (the smallest normal double), got %g'], ...
+           i, realmin, s(i));
+  end
+  c.obs_value = v;
+  c.obs_sigma = s;
 end
 
 function check_spread (model, P0, lower, upper, opts, fn)
@@ -247,10 +539,13 @@ function check_spread (model, P0, lower, upper, opts, fn)
   end
 end
 
-function warn_diversity (res, P0, lower, upper, tab, cyc)
+function warn_diversity (res, P0, lower, upper, obs_value, cyc)
   % warnings about the parameter ensemble and the weights; thresholds in
   % sluice.internal.diversity_limits
-  L = sluice.internal.diversity_limits ();
+  persistent L
+  if (isempty (L))
+    L = sluice.internal.diversity_limits ();   % constants
+  end
   N = res.members;
   names = res.param_names;
   for i = 1:size (P0, 1)
@@ -286,11 +581,15 @@ function warn_diversity (res, P0, lower, upper, tab, cyc)
   end
   if (any (strcmp (res.method, {'pf', 'wenkf'})) && ~isempty (cyc))
     hasobs = false (1, numel (res.times));
-    hasobs(unique (cyc(~isnan (tab.value)))) = true;
+    hasobs(cyc(~isnan (obs_value))) = true;
     low = (res.ess < L.lowess_ess) & hasobs;
     run = 0;
     longest = 0;
-    for k = 1:numel (low)
+    first = find (low, 1);
+    if (isempty (first))
+      first = numel (low) + 1;
+    end
+    for k = first:numel (low)   % from the first low cycle on
       if (low(k))
         run = run + 1;
         longest = max (longest, run);
@@ -309,92 +608,164 @@ function warn_diversity (res, P0, lower, upper, tab, cyc)
 end
 
 function opts = parse_options (args, fn)
-  opts = sluice.internal.run_defaults ();
-  opts = sluice.internal.name_value (opts, args, fn);
-  opts.calendar = [];
-  if (~(isempty (opts.origin) && isnumeric (opts.origin)))
-    opts.calendar = sluice.internal.time_origin (opts.origin, opts.time_unit, fn);
-  else
-    sluice.internal.time_unit (opts.time_unit, fn, 'time_unit');
+  % the run's options: the defaults (sluice.internal.run_defaults),
+  % checked and put in their working form once per session, with the
+  % options given merged in; only the options given are checked again,
+  % in the order below (the first bad one is reported)
+  persistent base unset
+  if (isempty (base))
+    unset = sluice.internal.run_defaults ();
+    names = fieldnames (unset);
+    for k = 1:numel (names)
+      unset.(names{k}) = true;
+    end
+    base = check_options (sluice.internal.run_defaults (), unset, 'filter');
+    for k = 1:numel (names)
+      unset.(names{k}) = false;
+    end
+  end
+  opts = base;
+  g = unset;
+  args = sluice.internal.option_pairs (args);
+  if (mod (numel (args), 2) ~= 0)
+    error (['sluice:' fn ':badoption'], 'options must be a struct or name, value pairs');
+  end
+  for k = 1:2:numel (args)
+    name = args{k};
+    if (~ischar (name) || ~isrow (name))
+      error (['sluice:' fn ':badoption'], 'option names must be strings');
+    end
+    if (~isfield (g, name))
+      error (['sluice:' fn ':badoption'], 'unknown option ''%s''', name);
+    end
+    opts.(name) = args{k + 1};
+    g.(name) = true;
+  end
+  if (numel (args) > 0)
+    opts = check_options (opts, g, fn);
+  end
+end
+
+function opts = check_options (opts, g, fn)
+  % the checks of the options flagged in g (and of what depends on them)
+  if (g.origin || g.time_unit)
+    opts.calendar = [];
+    if (~(isempty (opts.origin) && isnumeric (opts.origin)))
+      opts.calendar = sluice.internal.time_origin (opts.origin, opts.time_unit, fn);
+    else
+      sluice.internal.time_unit (opts.time_unit, fn, 'time_unit');
+    end
   end
   core = core_lists ();
-  methods = core.analyses;
-  if (~ischar (opts.method) || ~any (strcmp (opts.method, methods)))
-    error (['sluice:' fn ':badmethod'], 'unknown method; the methods are %s', ...
-           strjoin (methods, ', '));
+  if (g.method)
+    methods = core.analyses;
+    if (~ischar (opts.method) || ~any (strcmp (opts.method, methods)))
+      error (['sluice:' fn ':badmethod'], 'unknown method; the methods are %s', ...
+             strjoin (methods, ', '));
+    end
+    % the weighted ensemble Kalman filter is a particle filter with another
+    % proposal: the particle filter's path with a flag
+    opts.wenkf = strcmp (opts.method, 'wenkf');
+    if (opts.wenkf)
+      opts.method = 'pf';
+    end
   end
-  % the weighted ensemble Kalman filter is a particle filter with another
-  % proposal: the particle filter's path with a flag
-  opts.wenkf = strcmp (opts.method, 'wenkf');
-  if (opts.wenkf)
-    opts.method = 'pf';
-  end
-  opts.inflation = real_scalar (opts.inflation, 'inflation', fn);
-  if (opts.inflation < 1)
-    error (['sluice:' fn ':badoption'], 'inflation must be >= 1');
+  if (g.inflation)
+    opts.inflation = real_scalar (opts.inflation, 'inflation', fn);
+    if (opts.inflation < 1)
+      error (['sluice:' fn ':badoption'], 'inflation must be >= 1');
+    end
   end
   for f = {'rtpp', 'rtps'}
-    v = real_scalar (opts.(f{1}), f{1}, fn);
-    if (v < 0 || v > 1)
-      error (['sluice:' fn ':badoption'], '%s must lie in [0, 1]', f{1});
+    if (g.(f{1}))
+      v = real_scalar (opts.(f{1}), f{1}, fn);
+      if (v < 0 || v > 1)
+        error (['sluice:' fn ':badoption'], '%s must lie in [0, 1]', f{1});
+      end
     end
   end
-  opts.inflation_max = real_scalar (opts.inflation_max, 'inflation_max', fn);
-  if (opts.inflation_max < 1)
-    error (['sluice:' fn ':badoption'], 'inflation_max must be >= 1');
+  if (g.inflation_max)
+    opts.inflation_max = real_scalar (opts.inflation_max, 'inflation_max', fn);
+    if (opts.inflation_max < 1)
+      error (['sluice:' fn ':badoption'], 'inflation_max must be >= 1');
+    end
   end
-  if (~(islogical (opts.adaptive_inflation) || isnumeric (opts.adaptive_inflation)) || ...
-      ~isscalar (opts.adaptive_inflation))
-    error (['sluice:' fn ':badoption'], 'adaptive_inflation must be true or false');
+  if (g.adaptive_inflation)
+    if (~(islogical (opts.adaptive_inflation) || isnumeric (opts.adaptive_inflation)) || ...
+        ~isscalar (opts.adaptive_inflation))
+      error (['sluice:' fn ':badoption'], 'adaptive_inflation must be true or false');
+    end
+    opts.adaptive_inflation = logical (opts.adaptive_inflation);
   end
-  opts.adaptive_inflation = logical (opts.adaptive_inflation);
 
-  opts.members = whole (opts.members, 'members', 1, 2^31, fn);
-  if (~isempty (opts.seed))
+  if (g.members || g.param_move || g.inner_members)
+    opts.members = whole (opts.members, 'members', 1, 2^31, fn);
+  end
+  if (g.seed && ~isempty (opts.seed))
     opts.seed = whole (opts.seed, 'seed', 0, 2^53, fn);
   end
-  if (~isempty (opts.t0))
+  if (g.t0 && ~isempty (opts.t0))
     opts.t0 = real_scalar (opts.t0, 't0', fn);
   end
-  opts.times = real_vector (opts.times, 'times', true, fn);
-  opts.state_noise = real_vector (opts.state_noise, 'state_noise', false, fn);
-  if (any (opts.state_noise < 0))
-    error (['sluice:' fn ':badoption'], 'state_noise must be >= 0');
+  if (g.times)
+    opts.times = real_vector (opts.times, 'times', true, fn);
   end
-  moves = [{'auto'}, core.moves, {'smc2'}];
-  if (~ischar (opts.param_move) || ~any (strcmp (opts.param_move, moves)))
-    error (['sluice:' fn ':badoption'], 'param_move must be one of ''%s''', ...
-           strjoin (moves, ''', '''));
-  end
-  ks = real_scalar (opts.kernel_scale, 'kernel_scale', fn);
-  if (~(ks > 0))
-    error (['sluice:' fn ':badoption'], ...
-           'kernel_scale (a factor on the kernel bandwidth) must be > 0, got %g', ks);
-  end
-  te = opts.temper_ess;
-  if (ischar (te) && strcmp (te, 'off'))
-    opts.temper_ess = 0;
-  else
-    te = real_scalar (te, 'temper_ess', fn);
-    if (~(te >= 0 && te <= 1))
-      error (['sluice:' fn ':badoption'], ...
-             'temper_ess (a fraction of the members) must lie in (0, 1], or 0 or ''off'', got %g', te);
+  if (g.state_noise)
+    opts.state_noise = real_vector (opts.state_noise, 'state_noise', false, fn);
+    if (any (opts.state_noise < 0))
+      error (['sluice:' fn ':badoption'], 'state_noise must be >= 0');
     end
-    opts.temper_ess = te;
   end
-  opts.temper_max_steps = whole (opts.temper_max_steps, 'temper_max_steps', 1, 10000, fn);
-  md = real_scalar (opts.move_diversity, 'move_diversity', fn);
-  if (~(md > 0 && md <= 1))
-    error (['sluice:' fn ':badoption'], ...
-           'move_diversity (a fraction of the members) must lie in (0, 1], got %g', md);
+  if (g.param_move)
+    moves = [{'auto'}, core.moves, {'smc2'}];
+    if (~ischar (opts.param_move) || ~any (strcmp (opts.param_move, moves)))
+      error (['sluice:' fn ':badoption'], 'param_move must be one of ''%s''', ...
+             strjoin (moves, ''', '''));
+    end
   end
-  opts.move_sweeps = whole (opts.move_sweeps, 'move_sweeps', 1, 1000, fn);
-  mp = real_scalar (opts.move_paths, 'move_paths', fn);
-  if (~(mp >= 0 && mp <= 1))
-    error (['sluice:' fn ':badoption'], ...
-           'move_paths (the starting step of the path moves) must lie in [0, 1] (0: off), got %g', mp);
+  if (g.kernel_scale)
+    ks = real_scalar (opts.kernel_scale, 'kernel_scale', fn);
+    if (~(ks > 0))
+      error (['sluice:' fn ':badoption'], ...
+             'kernel_scale (a factor on the kernel bandwidth) must be > 0, got %g', ks);
+    end
   end
-  opts.inner_members = whole (opts.inner_members, 'inner_members', 1, 2^31, fn);
+  if (g.temper_ess)
+    te = opts.temper_ess;
+    if (ischar (te) && strcmp (te, 'off'))
+      opts.temper_ess = 0;
+    else
+      te = real_scalar (te, 'temper_ess', fn);
+      if (~(te >= 0 && te <= 1))
+        error (['sluice:' fn ':badoption'], ...
+               'temper_ess (a fraction of the members) must lie in (0, 1], or 0 or ''off'', got %g', te);
+      end
+      opts.temper_ess = te;
+    end
+  end
+  if (g.temper_max_steps)
+    opts.temper_max_steps = whole (opts.temper_max_steps, 'temper_max_steps', 1, 10000, fn);
+  end
+  if (g.move_diversity)
+    md = real_scalar (opts.move_diversity, 'move_diversity', fn);
+    if (~(md > 0 && md <= 1))
+      error (['sluice:' fn ':badoption'], ...
+             'move_diversity (a fraction of the members) must lie in (0, 1], got %g', md);
+    end
+  end
+  if (g.move_sweeps)
+    opts.move_sweeps = whole (opts.move_sweeps, 'move_sweeps', 1, 1000, fn);
+  end
+  if (g.move_paths)
+    mp = real_scalar (opts.move_paths, 'move_paths', fn);
+    if (~(mp >= 0 && mp <= 1))
+      error (['sluice:' fn ':badoption'], ...
+             'move_paths (the starting step of the path moves) must lie in [0, 1] (0: off), got %g', mp);
+    end
+  end
+  if (g.inner_members)
+    opts.inner_members = whole (opts.inner_members, 'inner_members', 1, 2^31, fn);
+  end
   if (strcmp (opts.param_move, 'smc2'))
     if (~strcmp (opts.method, 'pf'))
       error (['sluice:' fn ':badoption'], 'param_move ''smc2'' is a particle method: use method ''pf''');
@@ -407,65 +778,91 @@ function opts = parse_options (args, fn)
     end
     opts.members = opts.members * opts.inner_members;
   end
-  ms = real_scalar (opts.move_scale, 'move_scale', fn);
-  if (~(ms > 0) || ~isfinite (ms))
-    error (['sluice:' fn ':badoption'], ...
-           'move_scale (a factor on the proposal step) must be finite and > 0, got %g', ms);
+  if (g.move_scale)
+    ms = real_scalar (opts.move_scale, 'move_scale', fn);
+    if (~(ms > 0) || ~isfinite (ms))
+      error (['sluice:' fn ':badoption'], ...
+             'move_scale (a factor on the proposal step) must be finite and > 0, got %g', ms);
+    end
   end
-  opts.param_step = real_vector (opts.param_step, 'param_step', false, fn);
-  if (any (opts.param_step < 0))
-    error (['sluice:' fn ':badoption'], 'param_step must be >= 0');
+  if (g.param_step)
+    opts.param_step = real_vector (opts.param_step, 'param_step', false, fn);
+    if (any (opts.param_step < 0))
+      error (['sluice:' fn ':badoption'], 'param_step must be >= 0');
+    end
   end
-  d = real_scalar (opts.liu_west_delta, 'liu_west_delta', fn);
-  if (~(d > 0 && d <= 1))
-    error (['sluice:' fn ':badoption'], 'liu_west_delta must lie in (0, 1]');
+  if (g.liu_west_delta)
+    d = real_scalar (opts.liu_west_delta, 'liu_west_delta', fn);
+    if (~(d > 0 && d <= 1))
+      error (['sluice:' fn ':badoption'], 'liu_west_delta must lie in (0, 1]');
+    end
   end
-  if (~ischar (opts.resample) || ...
-      ~any (strcmp (opts.resample, core.resamplers)))
-    error (['sluice:' fn ':badscheme'], ...
-           'resample must be ''systematic'', ''stratified'', ''residual'' or ''multinomial''');
+  if (g.resample)
+    if (~ischar (opts.resample) || ...
+        ~any (strcmp (opts.resample, core.resamplers)))
+      error (['sluice:' fn ':badscheme'], ...
+             'resample must be ''systematic'', ''stratified'', ''residual'' or ''multinomial''');
+    end
   end
-  th = real_scalar (opts.resample_threshold, 'resample_threshold', fn);
-  if (~(th >= 0 && th <= 1))
-    error (['sluice:' fn ':badoption'], 'resample_threshold must lie in [0, 1]');
+  if (g.resample_threshold)
+    th = real_scalar (opts.resample_threshold, 'resample_threshold', fn);
+    if (~(th >= 0 && th <= 1))
+      error (['sluice:' fn ':badoption'], 'resample_threshold must lie in [0, 1]');
+    end
   end
-  opts.quantiles = real_vector (opts.quantiles, 'quantiles', true, fn);
-  if (any (opts.quantiles < 0 | opts.quantiles > 1))
-    error (['sluice:' fn ':badoption'], 'quantile levels must lie in [0, 1]');
+  if (g.quantiles)
+    opts.quantiles = real_vector (opts.quantiles, 'quantiles', true, fn);
+    if (any (opts.quantiles < 0 | opts.quantiles > 1))
+      error (['sluice:' fn ':badoption'], 'quantile levels must lie in [0, 1]');
+    end
+    opts.quantiles = opts.quantiles(:)';
   end
-  opts.quantiles = opts.quantiles(:)';
-  if (~(islogical (opts.history) || isnumeric (opts.history)) || ~isscalar (opts.history) || ...
-      isnan (opts.history))
-    error (['sluice:' fn ':badoption'], 'history must be true or false');
+  if (g.history)
+    if (~(islogical (opts.history) || isnumeric (opts.history)) || ~isscalar (opts.history) || ...
+        isnan (opts.history))
+      error (['sluice:' fn ':badoption'], 'history must be true or false');
+    end
+    opts.history = logical (opts.history);
   end
-  opts.history = logical (opts.history);
-  if (~(islogical (opts.derived_summary) || isnumeric (opts.derived_summary)) || ...
-      ~isscalar (opts.derived_summary) || isnan (opts.derived_summary))
-    error (['sluice:' fn ':badoption'], 'derived_summary must be true or false');
+  if (g.derived_summary)
+    if (~(islogical (opts.derived_summary) || isnumeric (opts.derived_summary)) || ...
+        ~isscalar (opts.derived_summary) || isnan (opts.derived_summary))
+      error (['sluice:' fn ':badoption'], 'derived_summary must be true or false');
+    end
+    opts.derived_summary = logical (opts.derived_summary);
   end
-  opts.derived_summary = logical (opts.derived_summary);
-  lag = opts.lag;
-  if (~isa (lag, 'double') || ~isreal (lag) || ~isscalar (lag) || isnan (lag) || ...
-      lag < 0 || (isfinite (lag) && lag ~= fix (lag)))
-    error (['sluice:' fn ':badoption'], 'lag must be a whole number of cycles >= 0, or Inf');
+  if (g.lag)
+    lag = opts.lag;
+    if (~isa (lag, 'double') || ~isreal (lag) || ~isscalar (lag) || isnan (lag) || ...
+        lag < 0 || (isfinite (lag) && lag ~= fix (lag)))
+      error (['sluice:' fn ':badoption'], 'lag must be a whole number of cycles >= 0, or Inf');
+    end
   end
-  opts.threads = whole (opts.threads, 'threads', 0, 256, fn);
+  if (g.threads)
+    opts.threads = whole (opts.threads, 'threads', 0, 256, fn);
+  end
   ck = opts.checkpoint;
-  if (~(ischar (ck) && (isempty (ck) || isrow (ck))))
-    error (['sluice:' fn ':badoption'], 'checkpoint must be a file name (text), or '''' for none');
+  if (g.checkpoint)
+    if (~(ischar (ck) && (isempty (ck) || isrow (ck))))
+      error (['sluice:' fn ':badoption'], 'checkpoint must be a file name (text), or '''' for none');
+    end
   end
-  opts.checkpoint_every = whole (opts.checkpoint_every, 'checkpoint_every', 1, 1e15, fn);
+  if (g.checkpoint_every)
+    opts.checkpoint_every = whole (opts.checkpoint_every, 'checkpoint_every', 1, 1e15, fn);
+  end
   if (~isempty (ck) && isempty (opts.seed))
     error (['sluice:' fn ':badoption'], ...
            'a run with a checkpoint needs a ''seed'': a resumed run must draw the same numbers');
   end
-  pr = opts.progress;
-  if (ischar (pr) && strcmp (pr, 'auto'))
-    opts.progress = 2;
-  elseif ((islogical (pr) || isnumeric (pr)) && isscalar (pr) && ~isnan (pr))
-    opts.progress = double (logical (pr));
-  else
-    error (['sluice:' fn ':badoption'], 'progress must be ''auto'', true or false');
+  if (g.progress)
+    pr = opts.progress;
+    if (ischar (pr) && strcmp (pr, 'auto'))
+      opts.progress = 2;
+    elseif ((islogical (pr) || isnumeric (pr)) && isscalar (pr) && ~isnan (pr))
+      opts.progress = double (logical (pr));
+    else
+      error (['sluice:' fn ':badoption'], 'progress must be ''auto'', true or false');
+    end
   end
 end
 
@@ -498,7 +895,7 @@ function v = expand (v, n, what, fn)
   if (n == 0)
     v = zeros (0, 1);
   elseif (isscalar (v))
-    v = repmat (v, n, 1);
+    v = v(ones (n, 1), 1);
   elseif (numel (v) ~= n)
     error (['sluice:' fn ':badoption'], '%s needs 1 or %d values, got %d', what, n, numel (v));
   end
@@ -639,64 +1036,96 @@ function check_memory (n, p, N, fn)
                                  need, 'states and parameters of every member', {'members'});
 end
 
-function [X0, P0, lower, upper, pdist] = initial_ensemble (model, prior, N, seed, fn)
+function plan = prior_plan (model, prior, fn)
+  % the checks of the prior against the model, and what the initial
+  % ensemble is drawn from: the entries' distributions as
+  % sluice.kernel.draw takes them, the row each entry fills, the columns
+  % (x0, defaults) of the rows no entry fills, the parameters' bounds and
+  % their priors as the core weighs them (id -1: no prior, the default
+  % holds); role (p x 1) says where each parameter's value comes from: 0
+  % the default, k > 0 the fixed prior entry k, -1 draws of its prior
   n = numel (model.states);
   p = numel (model.params);
-  % the parameters' priors as the core weighs them (id -1: no prior, the
-  % default holds)
-  pdist = struct ('id', -ones (p, 1), 'a', zeros (p, 1), 'b', zeros (p, 1), ...
-                  'lo', zeros (p, 1), 'hi', zeros (p, 1));
+  plan = struct ();
+  plan.x0 = model.x0(:);
+  plan.def = model.defaults(:);
+  plan.lower = model.defaults(:);
+  plan.upper = model.defaults(:);
+  plan.pdist = struct ('id', -ones (p, 1), 'a', zeros (p, 1), 'b', zeros (p, 1), ...
+                       'lo', zeros (p, 1), 'hi', zeros (p, 1));
+  plan.role = zeros (p, 1);
+  plan.ids = [];
+  plan.a = [];
+  plan.b = [];
+  plan.lo = [];
+  plan.hi = [];
+  plan.state_rows = zeros (0, 1);   % (row of X0, prior entry) pairs
+  plan.state_entries = zeros (0, 1);
+  plan.param_rows = zeros (0, 1);   % (row of P0, prior entry) pairs
+  plan.param_entries = zeros (0, 1);
+  if (~isempty (prior))
+    [plan.ids, plan.a, plan.b, plan.lo, plan.hi, prior_names] = ...
+        sluice.internal.check_prior (prior, 2, fn);
+    for k = 1:numel (prior_names)
+      if (~any (strcmp (prior_names{k}, model.states)) && ...
+          ~any (strcmp (prior_names{k}, model.params)))
+        error (['sluice:' fn ':badprior'], ...
+               'the prior names ''%s'', which is neither a state nor a parameter of the model', ...
+               prior_names{k});
+      end
+    end
+    core = core_lists ();
+    fixed = find (strcmp ('fixed', core.distributions)) - 1;
+    for k = 1:numel (prior_names)
+      i = find (strcmp (prior_names{k}, model.states));
+      if (~isempty (i))
+        plan.state_rows(end + 1, 1) = i;
+        plan.state_entries(end + 1, 1) = k;
+        continue;
+      end
+      j = find (strcmp (prior_names{k}, model.params));
+      plan.param_rows(end + 1, 1) = j;
+      plan.param_entries(end + 1, 1) = k;
+      plan.lower(j) = prior(k).lower;
+      plan.upper(j) = prior(k).upper;
+      plan.pdist = prior_entry (plan.pdist, j, prior(k));
+      if (plan.ids(k) == fixed)
+        plan.role(j) = k;
+      else
+        plan.role(j) = -1;
+      end
+      if (plan.lower(j) < model.lower(j) || plan.upper(j) > model.upper(j))
+        error (['sluice:' fn ':badprior'], ...
+               ['the prior of ''%s'' allows [%g, %g], outside the parameter''s bounds ', ...
+                '[%g, %g]: choose a prior within them (lognormal, truncnormal, uniform)'], ...
+               prior_names{k}, plan.lower(j), plan.upper(j), model.lower(j), model.upper(j));
+      end
+    end
+  end
+  % a prior draw is never NaN: only a default can be missing
+  missing = find (isnan (plan.def) & plan.role == 0, 1);
+  if (~isempty (missing))
+    error (['sluice:' fn ':badprior'], ...
+           'parameter ''%s'' has neither a prior nor a default value', ...
+           model.params{missing});
+  end
+end
+
+function [X0, P0] = draw_members (plan, N, seed, n, fn)
+  % the initial ensemble of N members for the seed
   try
-    X0 = repmat (model.x0(:), 1, N);
-    P0 = repmat (model.defaults(:), 1, N);
+    X0 = plan.x0(:, ones (1, N));
+    P0 = plan.def(:, ones (1, N));
   catch err
     error (['sluice:' fn ':nomemory'], 'cannot hold %d members of %d states: %s', ...
            N, n, err.message);
   end
-  lower = model.defaults(:);
-  upper = model.defaults(:);
-  if (isempty (prior))
-    prior_names = {};
-  else
-    sluice.internal.check_prior (prior, 2, fn);
-    prior_names = {prior.name};
-  end
-  for k = 1:numel (prior_names)
-    if (~any (strcmp (prior_names{k}, [model.states(:); model.params(:)])))
-      error (['sluice:' fn ':badprior'], ...
-             'the prior names ''%s'', which is neither a state nor a parameter of the model', ...
-             prior_names{k});
-    end
-  end
-  if (~isempty (prior_names))
-    D = sluice.draw (prior, N, seed);
-    for k = 1:numel (prior_names)
-      is = find (strcmp (prior_names{k}, model.states));
-      ip = find (strcmp (prior_names{k}, model.params));
-      if (~isempty (is))
-        X0(is, :) = D(k, :);
-      else
-        P0(ip, :) = D(k, :);
-        lower(ip) = prior(k).lower;
-        upper(ip) = prior(k).upper;
-        pdist = prior_entry (pdist, ip, prior(k));
-        if (lower(ip) < model.lower(ip) || upper(ip) > model.upper(ip))
-          error (['sluice:' fn ':badprior'], ...
-                 ['the prior of ''%s'' allows [%g, %g], outside the parameter''s bounds ', ...
-                  '[%g, %g]: choose a prior within them (lognormal, truncnormal, uniform)'], ...
-                 prior_names{k}, lower(ip), upper(ip), model.lower(ip), model.upper(ip));
-        end
-      end
-    end
-  end
-  missing = find (isnan (P0(:, 1)));
-  if (~isempty (missing))
-    error (['sluice:' fn ':badprior'], ...
-           'parameter ''%s'' has neither a prior nor a default value', ...
-           model.params{missing(1)});
+  if (~isempty (plan.ids))
+    D = sluice.kernel.draw (plan.ids, plan.a, plan.b, plan.lo, plan.hi, N, seed);
+    X0(plan.state_rows, :) = D(plan.state_entries, :);
+    P0(plan.param_rows, :) = D(plan.param_entries, :);
   end
 end
-
 
 
 function s = quoted_list (names)

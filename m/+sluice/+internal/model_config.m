@@ -18,7 +18,18 @@ function c = model_config (model, forcing, forcing_noise, events, event_noise, f
   n = numel (model.states);
   p = numel (model.params);
   q = numel (model.forcings);
-  c = struct ();
+  % every field in its place, the defaults set (built once: the fields
+  % and the defaults are constants), then this run's
+  persistent blank
+  if (isempty (blank))
+    blank = struct ('caller', '', 'n_state', 0, 'n_param', 0, 'n_forcing', 0, 'dt', 0, ...
+                    'model_kind', '', 'model_name', '', 'integrator', '', 'rtol', 0, ...
+                    'atol', 0, 'A', [], 'B', [], 'c', [], 'L', [], 'fun', []);
+    blank = add_forcing (blank, [], [], 0, struct (), 'filter', []);
+    blank = add_events (blank, [], [], struct ('events', {{}}), 'filter');
+    blank = add_defaults (blank, 0, 0);
+  end
+  c = blank;
   c.caller = fn;
   c.n_state = n;
   c.n_param = p;
@@ -32,20 +43,32 @@ function c = model_config (model, forcing, forcing_noise, events, event_noise, f
   c.A = model.A; c.B = model.B; c.c = model.c; c.L = model.L; c.fun = model.fun;
   c = add_forcing (c, forcing, forcing_noise, q, model, fn, calendar);
   c = add_events (c, events, event_noise, model, fn);
-  c = add_defaults (c, n, p);
+  c.param_step = step_default (p);
+end
+
+function s = step_default (p)
+  % the default param_step for p parameters
+  persistent d
+  if (isempty (d))
+    d = sluice.internal.run_defaults ();   % constants
+  end
+  s = d.param_step(ones (p, 1), 1);
 end
 
 function c = add_defaults (c, n, p)
   % the engine's settings at the defaults of sluice.filter's options, in
   % the gateway's form; no other place sets them
-  d = sluice.internal.run_defaults ();
+  persistent d
+  if (isempty (d))
+    d = sluice.internal.run_defaults ();   % constants
+  end
   c.state_noise = [];                      % state_noise 0: none
   c.op_H = [];                             % operators []: none
   c.op_funs = {};
   c.op_rows = [];
   c.derived_summary = double (d.derived_summary);
   c.param_move = d.param_move;
-  c.param_step = repmat (d.param_step, p, 1);
+  c.param_step = step_default (p);
   c.lw_delta = d.liu_west_delta;
   c.kernel_scale = d.kernel_scale;
   c.move_diversity = d.move_diversity;

@@ -51,7 +51,8 @@ function tab = obs_table (obs, names, t0, fn, ordered)
     end
     tab.family = fam(:);
   else
-    tab.family = repmat ({'gaussian'}, m, 1);
+    tab.family = cell (m, 1);
+    tab.family(:) = {'gaussian'};
   end
   tab.aux = nan (m, 1);
   extra = {'n', 'binomial'; 'dof', 'student_t'; 'limit', 'censored'};
@@ -69,36 +70,57 @@ function tab = obs_table (obs, names, t0, fn, ordered)
   % a missing value needs no sigma: the engine never reads it there, and
   % checks every row's sigma, so an absent one (NaN) stands in as 1
   tab.sigma(isnan (tab.value) & isnan (tab.sigma)) = 1;
-  [ok, tab.var] = ismember (var(:), names(:));
-  for i = 1:m
-    if (~ok(i))
-      error (id, ...
-             'observation row %d: unknown variable ''%s'' (the model has %s)', ...
-             i, var{i}, strjoin (names(:)', ', '));
-    end
-    if (~isfinite (tab.time(i)))
-      error (id, 'observation row %d: time is not finite', i);
-    end
-    if (ordered && i > 1 && tab.time(i) < tab.time(i - 1))
-      error (id, ...
-             'observation row %d: time %g comes before the previous row''s %g (rows must be in time order)', ...
-             i, tab.time(i), tab.time(i - 1));
-    end
-    if (tab.time(i) < t0)
-      error (id, ...
-             'observation row %d: time %g lies before the start of the run (%g)', ...
-             i, tab.time(i), t0);
-    end
-    if (isinf (tab.value(i)))
-      error (id, 'observation row %d: value is infinite', i);
-    end
-    if (~any (strcmp (tab.family{i}, {'poisson', 'binomial'})) && ...
-        ~isnan (tab.value(i)) && ~(isfinite (tab.sigma(i)) && tab.sigma(i) >= realmin))
-      % below realmin (a subnormal double) 1/sigma overflows and the
-      % log-likelihood is NaN or -Inf: refused like 0. A missing value
-      % (NaN, skipped) needs no sigma.
-      error (id, ['observation row %d: sigma must be finite and at least %.17g ', ...
-                  '(the smallest normal double), got %g'], i, tab.sigma(i), realmin);
-    end
+  % every row's checks at once; the first row that fails any of them is
+  % then checked again alone, for the message of its first failing check
+  var = var(:);
+  tab.var = zeros (m, 1);
+  for j = numel (names):-1:1
+    tab.var(strcmp (var, names{j})) = j;   % names differ: one index per row
   end
+  t = tab.time;
+  v = tab.value;
+  s = tab.sigma;
+  counted = false (m, 1);
+  if (isfield (obs, 'family'))
+    counted = strcmp (tab.family, 'poisson') | strcmp (tab.family, 'binomial');
+  end
+  bad = tab.var == 0 | ~isfinite (t) | t < t0 | isinf (v) | ...
+        (~counted & ~isnan (v) & ~(isfinite (s) & s >= realmin));
+  if (ordered && m > 1)
+    bad(2:end) = bad(2:end) | t(2:end) < t(1:end-1);
+  end
+  i = find (bad, 1);
+  if (~isempty (i))
+    row_error (i, tab, var, names, t0, ordered, counted(i), id);
+  end
+end
+
+function row_error (i, tab, var, names, t0, ordered, counted, id)
+  % the first failing check of row i, in the order the checks are listed
+  if (tab.var(i) == 0)
+    error (id, ...
+           'observation row %d: unknown variable ''%s'' (the model has %s)', ...
+           i, var{i}, strjoin (names(:)', ', '));
+  end
+  if (~isfinite (tab.time(i)))
+    error (id, 'observation row %d: time is not finite', i);
+  end
+  if (ordered && i > 1 && tab.time(i) < tab.time(i - 1))
+    error (id, ...
+           'observation row %d: time %g comes before the previous row''s %g (rows must be in time order)', ...
+           i, tab.time(i), tab.time(i - 1));
+  end
+  if (tab.time(i) < t0)
+    error (id, ...
+           'observation row %d: time %g lies before the start of the run (%g)', ...
+           i, tab.time(i), t0);
+  end
+  if (isinf (tab.value(i)))
+    error (id, 'observation row %d: value is infinite', i);
+  end
+  % below realmin (a subnormal double) 1/sigma overflows and the
+  % log-likelihood is NaN or -Inf: refused like 0. A missing value (NaN,
+  % skipped) needs no sigma; nor do the counts (poisson, binomial).
+  error (id, ['observation row %d: sigma must be finite and at least %.17g ', ...
+              '(the smallest normal double), got %g'], i, realmin, tab.sigma(i));
 end

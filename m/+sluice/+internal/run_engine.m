@@ -16,8 +16,12 @@ function r = run_engine (model, c)
   else
     gateway = 'sluice.kernel.pf_run';
   end
+  persistent is_octave
+  if (isempty (is_octave))
+    is_octave = sluice.internal.compat ('is_octave');
+  end
   try
-    if (sluice.internal.compat ('is_octave'))
+    if (is_octave)
       % a Ctrl-C that escapes the gateway is still the run's error
       r = sluice.internal.interruptible ('-run', gateway, c);
     else
