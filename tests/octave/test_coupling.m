@@ -136,6 +136,14 @@
 %!   r = sluice.filter (spec, pr, obs, o{:}, 'method', meth{1});
 %!   check_mean_cov (r, m, P, N, ['weak ' meth{1}], false);
 %! end
+%! % the LETKF with a half-width far beyond the grid is the ETKF (every
+%! % local analysis sees every observation at weight 1), weak too; an
+%! % N x N analysis per point, so fewer members
+%! o = {'members', 300, 'seed', 4, 't0', 0, 'progress', false, 'coupling', 'weak'};
+%! e = sluice.filter (spec, pr, obs, o{:}, 'method', 'etkf');
+%! l = sluice.filter (spec, pr, obs, o{:}, 'method', 'letkf', 'localization', ...
+%!                    struct ('radius', 1e6));
+%! assert (l.final.X, e.final.X, 1e-10);
 
 %!test
 %! % weak coupling, particle filter: each block weighed by its own
@@ -198,7 +206,10 @@
 %! miss = obs;
 %! miss.value(:) = NaN;
 %! o = {'members', 500, 'seed', 9, 't0', 0, 'progress', false};
-%! for meth = {'pf', 'enkf', 'etkf', 'ensrf', 'eakf'}
+%! for meth = {'pf', 'enkf', 'etkf', 'ensrf', 'eakf', 'letkf'}
+%!   if (strcmp (meth{1}, 'letkf'))
+%!     o = [o, {'localization', struct('radius', 3)}];
+%!   end
 %!   f = sluice.filter (spec, pr, miss, o{:}, 'method', meth{1}, 'coupling', 'weak');
 %!   w = sluice.filter (spec, pr, obs, o{:}, 'method', meth{1}, 'coupling', 'weak');
 %!   s = sluice.filter (spec, pr, obs, o{:}, 'method', meth{1});
@@ -211,6 +222,18 @@
 %!   end
 %!   assert (any (s.final.X(2, :) ~= f.final.X(2, :)));
 %! end
+
+%!test
+%! % the fixed-lag ensemble Kalman smoother, weak: the window's rows of y
+%! % are y's own, so with only x observed y's smoothed means are its
+%! % filtered ones exactly; strong coupling smooths y with x's observations
+%! [spec, pr, obs] = coupled_case (3, true);
+%! o = {'members', 300, 'seed', 5, 't0', 0, 'progress', false, 'method', 'etkf', 'lag', 2};
+%! w = sluice.filter (spec, pr, obs, o{:}, 'coupling', 'weak');
+%! s = sluice.filter (spec, pr, obs, o{:});
+%! assert (w.smoothed.states.mean(2, :), w.states.mean(2, :));
+%! assert (any (w.smoothed.states.mean(1, 1:2) ~= w.states.mean(1, 1:2)));
+%! assert (any (s.smoothed.states.mean(2, 1:2) ~= s.states.mean(2, 1:2)));
 
 %!test
 %! % operators: a linear row on one block belongs to that block; a row
