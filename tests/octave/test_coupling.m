@@ -269,6 +269,37 @@
 %! r = sluice.filter (spec, pr, ob, o{:}, 'operators', fop, 'obs_components', struct ('total', 'cx'));
 %! assert (r.coupling.mode, 'weak');
 
+%!test
+%! % river_town, a twin: a yearly census of the town (G) and nothing of
+%! % the river. Strong coupling carries the census into the catchment's
+%! % X1 through the ensemble's cross-covariances and narrows its band
+%! % about the truth; weak coupling leaves the river's parameter exactly
+%! % where the prior put it (the ETKF moves X1 only by analyses of its own
+%! % component, and the river has no observation)
+%! L = 60; Y = 10; D = L * Y;
+%! rt = sluice.model ('river_town', 'year_length', L);
+%! rand ('seed', 11);
+%! rain = 25 * rand (D + 1, 1) .* (rand (D + 1, 1) < 0.35);
+%! forcing = struct ('time', (0:D)', 'values', [rain, 2 * ones(D + 1, 1)]);
+%! ptrue = rt.defaults; iX1 = strcmp (rt.params, 'X1'); ptrue(iX1) = 150;
+%! X = sluice.simulate (rt, [], ptrue, 0:D, forcing);
+%! tc = (L:L:D)';
+%! G = X(strcmp (rt.states, 'G'), tc + 1)';
+%! randn ('state', 5);
+%! census = struct ('time', tc, 'variable', {repmat({'G'}, Y, 1)}, ...
+%!                  'value', G .* (1 + 0.03 * randn (Y, 1)), 'sigma', 0.03 * G);
+%! pr = sluice.prior ('X1', 'uniform', [50 600]);
+%! o = {'members', 200, 'seed', 3, 't0', 0, 'forcing', forcing, 'method', 'etkf', ...
+%!      'progress', false, 'quantiles', [0.05 0.95]};
+%! s = sluice.filter (rt, pr, census, o{:});
+%! w = sluice.filter (rt, pr, census, o{:}, 'coupling', 'weak');
+%! bs = squeeze (s.params.quantiles(iX1, :, end));
+%! bw = squeeze (w.params.quantiles(iX1, :, end));
+%! assert (bs(1) < 150 && 150 < bs(2));
+%! assert (diff (bs) < 0.2 * diff (bw));
+%! assert (w.params.quantiles(iX1, :, :), repmat (w.params.quantiles(iX1, :, 1), [1 1 Y]));
+%! assert (all (w.params.mean(iX1, :) == w.params.mean(iX1, 1)));
+
 %!shared spec, pr, obs, o
 %! [spec, pr, obs] = coupled_case (3);
 %! o = {'members', 50, 'seed', 1, 't0', 0, 'progress', false};
