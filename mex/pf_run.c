@@ -364,9 +364,14 @@ static void decode_bounds(run_settings *s)
 static void decode_moves(run_settings *s)
 {
     sl_pf_config *cfg = &s->cfg;
-    char *move = fstring(s, "param_move");
-    cfg->param_move = strcmp(move, "auto") == 0 ? sl_pf_auto_move(cfg)
-                                                : sl_param_mover_find(move);
+    char *move = fstring(s, "param_move"), *method = fstring(s, "method");
+    /* the weakly coupled particle filter (settings with comp) gets the
+     * default sl_pf_auto_move gives it, before its settings are decoded */
+    const int weak_pf = slm_field(s->fn, s->c, "comp", 0) != NULL &&
+                        strcmp(method, "pf") == 0 && fscalar(s, "wenkf") == 0;
+    cfg->param_move = strcmp(move, "auto") != 0 ? sl_param_mover_find(move)
+                      : weak_pf                 ? &sl_param_move_random_walk
+                                                : sl_pf_auto_move(cfg);
     cfg->inner = (size_t)fwhole(s, "inner", 0, 1e9);
     cfg->wenkf = fscalar(s, "wenkf") != 0;
     if (cfg->param_move == NULL)

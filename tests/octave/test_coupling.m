@@ -300,6 +300,45 @@
 %! assert (w.params.quantiles(iX1, :, :), repmat (w.params.quantiles(iX1, :, 1), [1 1 Y]));
 %! assert (all (w.params.mean(iX1, :) == w.params.mean(iX1, 1)));
 
+%!test
+%! % the compiled run's own checks of the components (sluice.kernel.pf_run,
+%! % the low-level layer): each row's component a whole number below
+%! % n_comp, for the states and parameters and for the observations
+%! spec = sluice.model ('linear', 'A', [0.9 0.1; 0 0.8], 'states', {'x', 'y'}, ...
+%!                      'components', {'cx', {'x'}, 'cy', {'y'}});
+%! c = sluice.internal.model_config (spec, [], [], [], [], 'twin');
+%! c.members = 5; c.t0 = 0; c.times = [1 2]; c.obs_first = [0 1 1];
+%! c.obs_var = 0; c.obs_value = 0.5; c.obs_sigma = 1; c.obs_aux = 0;
+%! c.obs_family = {'gaussian'}; c.lower = zeros (0, 1); c.upper = zeros (0, 1);
+%! c.seed = 7; c.progress = 0; c.X0 = zeros (2, 5); c.P0 = zeros (0, 5);
+%! c.n_comp = 2; c.comp = [0; 1]; c.obs_comp = 0;
+%! r = sluice.kernel.pf_run (c);
+%! assert (size (r.comp_ess), [2 2]);
+%! assert (isnan (r.comp_ess(2, 1)));
+%! bad = {{'comp', [0; 2]}, {'comp', [0; 0.5]}, {'comp', [0; NaN]}, {'obs_comp', -1}, ...
+%!        {'obs_comp', 2}, {'comp', 0}};
+%! why = {'badcoupling', 'badcoupling', 'nonfinite', 'badcoupling', 'badcoupling', 'badsize'};
+%! for k = 1:numel (bad)
+%!   b = c;
+%!   b.(bad{k}{1}) = bad{k}{2};
+%!   try
+%!     sluice.kernel.pf_run (b);
+%!     error ('no error');
+%!   catch e
+%!     assert (e.identifier, ['sluice:twin:' why{k}]);
+%!   end
+%! end
+%! % the weak particle filter's default move is the random walk
+%! assert (r.param_move, 'random_walk');
+%! b = c;
+%! b.n_comp = 0;
+%! try
+%!   sluice.kernel.pf_run (b);
+%!   error ('no error');
+%! catch e
+%!   assert (strncmp (e.identifier, 'sluice:twin:', 12) && ~strcmp (e.message, 'no error'));
+%! end
+
 %!shared spec, pr, obs, o
 %! [spec, pr, obs] = coupled_case (3);
 %! o = {'members', 50, 'seed', 1, 't0', 0, 'progress', false};

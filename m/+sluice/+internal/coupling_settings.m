@@ -8,8 +8,8 @@ function c = coupling_settings (c, opts, model, tab, ops, fn)
   % lie in; of a function operator (or a linear row over several
   % components), to the component the option obs_components names for it
   % (a struct: field = the observed name, value = the component's name).
-  % With the particle filter, param_move 'auto' is a random walk (the
-  % moves at resampling act on the joint ensemble).
+  % (With the particle filter, param_move 'auto' is then a random walk:
+  % the compiled run's choice.)
   % Errors: sluice:<fn>:badcoupling (the option's value),
   % sluice:<fn>:nocomponents (a model without components),
   % sluice:<fn>:obscomponent (an observation whose component is unknown).
@@ -83,9 +83,6 @@ function c = coupling_settings (c, opts, model, tab, ops, fn)
   c.n_comp = numel (names);
   c.comp = comp - 1;
   c.obs_comp = obs_comp - 1;
-  if (strcmp (c.method, 'pf') && ~c.wenkf && strcmp (c.param_move, 'auto'))
-    c.param_move = 'random_walk';
-  end
 end
 
 function t = ifelse_text (cond, a, b)
