@@ -94,7 +94,8 @@
 % @math{K_c = P_@{cc@} H_c' (H_c P_@{cc@} H_c' + R_c)^@{-1@}} on x_c and
 % zero between components (the stochastic EnKF's perturbations are drawn
 % apart for each component; adaptive inflation is refused, a fixed
-% inflation acts on a component at the cycles it has observations). The
+% inflation acts on a component at the cycles it has observations; a
+% cycle costs one analysis per component with observations). The
 % particle filter weighs each component by its own likelihood,
 % @math{w_@{c,j@} @propto p(y_c | x_@{c,j@})}, and resamples its block
 % with those weights, independently of the other blocks, at every cycle

@@ -339,6 +339,21 @@
 %!   assert (strncmp (e.identifier, 'sluice:twin:', 12) && ~strcmp (e.message, 'no error'));
 %! end
 
+%!test
+%! % a weak run with checkpoints returns what a run without them returns,
+%! % the components' records too, also when it returns from its final
+%! % checkpoint
+%! [spec, pr, obs] = coupled_case (6);
+%! f = [tempname() '.ck'];
+%! o = {'members', 300, 'seed', 4, 't0', 0, 'progress', false, 'coupling', 'weak'};
+%! a = sluice.filter (spec, pr, obs, o{:});
+%! b = sluice.filter (spec, pr, obs, o{:}, 'checkpoint', f, 'checkpoint_every', 2);
+%! c = sluice.filter (spec, pr, obs, o{:}, 'checkpoint', f, 'checkpoint_every', 2);
+%! delete (f);
+%! assert (b.coupling, a.coupling);
+%! assert (c.coupling, a.coupling);
+%! assert (c.states.mean, a.states.mean);
+
 %!shared spec, pr, obs, o
 %! [spec, pr, obs] = coupled_case (3);
 %! o = {'members', 50, 'seed', 1, 't0', 0, 'progress', false};
