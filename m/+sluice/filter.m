@@ -85,7 +85,7 @@
 % @code{town}) share the observations. @code{'strong'} (default): every
 % observation updates the whole state, as for a model without
 % components: the particle filter weighs whole members,
-% @math{w_j @propto w_j p(y | x_j)}, and the ensemble Kalman methods use
+% @math{w_j} proportional to @math{w_j p(y | x_j)}, and the ensemble Kalman methods use
 % the full ensemble covariances, @math{K = P H' (H P H' + R)^@{-1@}},
 % cross-component blocks included. @code{'weak'}: each component c (its
 % states and parameters x_c) is analysed by its own observations y_c
@@ -97,7 +97,7 @@
 % inflation acts on a component at the cycles it has observations; a
 % cycle costs one analysis per component with observations). The
 % particle filter weighs each component by its own likelihood,
-% @math{w_@{c,j@} @propto p(y_c | x_@{c,j@})}, and resamples its block
+% @math{w_@{c,j@}} proportional to @math{p(y_c | x_@{c,j@})}, and resamples its block
 % with those weights, independently of the other blocks, at every cycle
 % where it has observations; the members are the recombined blocks,
 % equally weighted (so after an analysis the components are independent
@@ -117,7 +117,9 @@
 % filter each component's @code{ess}, n_comp x T, NaN where it had no
 % observation, @code{log_evidence_steps} and their sums
 % @code{log_evidence}); its @code{ess} is then the smallest component ESS
-% of each cycle and @code{log_evidence} the sum of the components': the
+% of each cycle, @code{resampled} marks the cycles where a component was
+% resampled (@code{history.ancestors} does not follow the components'
+% resampling) and @code{log_evidence} is the sum of the components': the
 % evidence of the weakly coupled approximation (each component's
 % observations explained by that component alone), not of the coupled
 % model.

@@ -159,6 +159,7 @@
 %! % resampled every cycle, so the error of a mean is sd / sqrt(ESS) with
 %! % the smaller component ESS of the cycle (res.ess)
 %! assert (r.ess, min (r.coupling.ess, [], 1));
+%! assert (all (r.resampled));
 %! sd = sqrt ([squeeze(P(1, 1, :))'; squeeze(P(2, 2, :))']);
 %! assert (all (all (abs (r.states.mean - m) <= 5 * sd ./ sqrt (r.ess))));
 %! C = ens_cov (r.history.X);

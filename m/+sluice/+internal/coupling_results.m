@@ -21,6 +21,8 @@ function res = coupling_results (res, r, c, model)
     none = all (isnan (r.comp_ess), 1);
     e(none) = r.ess(none);
     res.ess = e;
+    % a component with observations that some member explained was resampled
+    res.resampled = res.resampled | any (r.comp_ess > 0, 1);
     res.log_evidence_steps = sum (r.comp_logz, 1);
     res.log_evidence = sum (res.log_evidence_steps);
   end
