@@ -84,9 +84,9 @@
 % @code{'components'}; @code{'river_town'} has @code{river} and
 % @code{town}) share the observations. @code{'strong'} (default): every
 % observation updates the whole state, as for a model without
-% components: the particle filter weighs whole members,
-% @math{w_j} proportional to @math{w_j p(y | x_j)}, and the ensemble Kalman methods use
-% the full ensemble covariances, @math{K = P H' (H P H' + R)^@{-1@}},
+% components: the particle filter weighs whole members (new weights
+% proportional to @math{w_j p(y | x_j)}), and the ensemble Kalman
+% methods use the full ensemble covariances, @math{K = P H' (H P H' + R)^@{-1@}},
 % cross-component blocks included. @code{'weak'}: each component c (its
 % states and parameters x_c) is analysed by its own observations y_c
 % only. The ensemble Kalman methods run one analysis per component with
