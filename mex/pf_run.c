@@ -366,9 +366,14 @@ static void decode_bounds(run_settings *s)
 static void decode_moves(run_settings *s)
 {
     sl_pf_config *cfg = &s->cfg;
-    char *move = fstring(s, "param_move");
-    cfg->param_move = strcmp(move, "auto") == 0 ? sl_pf_auto_move(cfg)
-                                                : sl_param_mover_find(move);
+    char *move = fstring(s, "param_move"), *method = fstring(s, "method");
+    /* the weakly coupled particle filter (settings with comp) gets the
+     * default sl_pf_auto_move gives it, before its settings are decoded */
+    const int weak_pf = slm_field(s->fn, s->c, "comp", 0) != NULL &&
+                        strcmp(method, "pf") == 0 && fscalar(s, "wenkf") == 0;
+    cfg->param_move = strcmp(move, "auto") != 0 ? sl_param_mover_find(move)
+                      : weak_pf                 ? &sl_param_move_random_walk
+                                                : sl_pf_auto_move(cfg);
     cfg->inner = (size_t)fwhole(s, "inner", 0, 1e9);
     cfg->wenkf = fscalar(s, "wenkf") != 0;
     if (cfg->param_move == NULL)
@@ -471,6 +476,33 @@ static void decode_analysis(run_settings *s)
     s->cfg.adaptive_inflation = fscalar(s, "adaptive_inflation") != 0;
     s->cfg.inflation_max = fscalar(s, "inflation_max");
     decode_localization(s);
+}
+
+/* Weak coupling (the settings hold comp only then): the component of
+ * every state and parameter row and of every observation row, 0-based. */
+static int *decode_components(run_settings *s, const char *name, size_t rows, size_t nc)
+{
+    int *c = (int *)slm_alloc(s->fn, rows ? rows : 1, sizeof(int));
+    const double *x = rows ? fmat(s, name, rows, 0, SLM_VECTOR) : NULL;
+    size_t k;
+    for (k = 0; k < rows; k++) {
+        if (!(x[k] >= 0 && x[k] < (double)nc) || x[k] != floor(x[k]))
+            slm_fail(s->fn, "badcoupling", "%s %lu must be a whole number from 0 to %lu",
+                     name, (unsigned long)(k + 1), (unsigned long)(nc - 1));
+        c[k] = (int)x[k];
+    }
+    return c;
+}
+
+static void decode_coupling(run_settings *s)
+{
+    sl_pf_config *cfg = &s->cfg;
+    if (slm_field(s->fn, s->c, "comp", 0) == NULL)
+        return;
+    cfg->weak = 1;
+    cfg->n_comp = (size_t)fwhole(s, "n_comp", 1, 1e6);
+    cfg->comp = decode_components(s, "comp", s->v, cfg->n_comp);
+    cfg->obs_comp = decode_components(s, "obs_comp", cfg->obs_first[s->T], cfg->n_comp);
 }
 
 /* ------------------------------------ what is recorded, and smoothing */
@@ -756,6 +788,10 @@ static void create_optional(const run_settings *s, mxArray *res, sl_pf_output *o
         mxSetField(res, 0, "derived_mean", dmn);
         mxSetField(res, 0, "derived_quantiles", dq);
     }
+    if (s->cfg.weak) {
+        out->comp_ess = zeroed(s, res, "comp_ess", s->cfg.n_comp, T);
+        out->comp_logz = zeroed(s, res, "comp_logz", s->cfg.n_comp, T);
+    }
     if (s->cfg.lag > 0) {
         mxArray *sm = slm_create(s->fn, s->v, T), *sq = cube(s->v, nq, T);
         out->smean = mxGetDoubles(sm);
@@ -953,7 +989,7 @@ void mexFunction(int nlhs, mxArray *plhs[], int nrhs, const mxArray *prhs[])
         "history_X", "history_P", "history_w", "history_ancestors",
         "smooth_mean", "smooth_quantiles", "distinct", "spread",
         "temper_steps", "loglik_evals", "move_sweeps", "move_accept", "param_move",
-        "derived_mean", "derived_quantiles", "nanpred"};
+        "derived_mean", "derived_quantiles", "nanpred", "comp_ess", "comp_logz"};
     run_settings s;
     sl_pf_output out;
     sl_error err;
@@ -981,6 +1017,7 @@ void mexFunction(int nlhs, mxArray *plhs[], int nrhs, const mxArray *prhs[])
     decode_cycle(&s);
     decode_recording(&s);
     decode_analysis(&s);
+    decode_coupling(&s);
     decode_checkpoint(&s);
 
     xa = initial(&s, "X0", s.n, 0);

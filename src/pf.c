@@ -257,6 +257,10 @@ int sl_pf_paths_random(const sl_pf_config *cfg)
 
 const sl_param_mover *sl_pf_auto_move(const sl_pf_config *cfg)
 {
+    /* the weakly coupled particle filter resamples its components apart:
+     * no move at resampling can follow it */
+    if (sl_pf_analysis_of(cfg) == &sl_analysis_pf_weak)
+        return &sl_param_move_random_walk;
     return sl_pf_paths_random(cfg) ? &sl_param_move_kernel : &sl_param_move_resample_move;
 }
 
@@ -296,6 +300,42 @@ size_t sl_pf_workspace_parts(const sl_pf_config *cfg, sl_pf_part part[SL_PF_NPAR
 }
 
 /* ---------------------------------------------------------------- checks */
+
+/* A weakly coupled run: every row and observation in a component, and
+ * an analysis that knows how to keep the components apart. */
+static sl_status check_coupling(const sl_pf_config *cfg, const sl_analysis *an,
+                                sl_error *err)
+{
+    const size_t v = cfg->model->n_state + cfg->model->n_param, m = cfg->obs_first[cfg->T];
+    size_t k;
+    if (cfg->n_comp < 1 || cfg->comp == NULL || (m > 0 && cfg->obs_comp == NULL))
+        return sl_fail(err, SL_EINVAL, "badcoupling",
+                       "weak coupling needs the components of the states, parameters and "
+                       "observations");
+    for (k = 0; k < v; k++)
+        if (cfg->comp[k] < 0 || (size_t)cfg->comp[k] >= cfg->n_comp)
+            return sl_fail(err, SL_EINVAL, "badcoupling",
+                           "row %lu of the states and parameters has component %d; "
+                           "expected 0 to %lu", (unsigned long)(k + 1), cfg->comp[k],
+                           (unsigned long)(cfg->n_comp - 1));
+    for (k = 0; k < m; k++)
+        if (cfg->obs_comp[k] < 0 || (size_t)cfg->obs_comp[k] >= cfg->n_comp)
+            return sl_fail(err, SL_EINVAL, "badcoupling",
+                           "observation %lu has component %d; expected 0 to %lu",
+                           (unsigned long)(k + 1), cfg->obs_comp[k],
+                           (unsigned long)(cfg->n_comp - 1));
+    if (an == &sl_analysis_wenkf)
+        return sl_fail(err, SL_EINVAL, "badcoupling",
+                       "the weighted ensemble Kalman filter runs strongly coupled only");
+    if (an != &sl_analysis_pf_weak && an != &sl_analysis_enkf && an != &sl_analysis_etkf &&
+        an != &sl_analysis_ensrf && an != &sl_analysis_eakf && an != &sl_analysis_letkf)
+        return sl_fail(err, SL_EINVAL, "badcoupling",
+                       "the analysis '%s' runs strongly coupled only", an->name);
+    if (an != &sl_analysis_pf_weak && cfg->adaptive_inflation)
+        return sl_fail(err, SL_EINVAL, "badcoupling",
+                       "weak coupling takes a fixed inflation, not an adaptive one");
+    return SL_OK;
+}
 
 sl_status sl_pf_check(const sl_pf_config *cfg, sl_error *err)
 {
@@ -468,6 +508,11 @@ sl_status sl_pf_check(const sl_pf_config *cfg, sl_error *err)
     }
     if (cfg->resampler == NULL)
         return sl_fail(err, SL_EINVAL, "badconfig", "no resampling scheme");
+    if (cfg->weak) {
+        sl_status st = check_coupling(cfg, an, err);
+        if (st != SL_OK)
+            return st;
+    }
     if (an->check != NULL) {
         sl_status st = an->check(an, cfg, err);
         if (st != SL_OK)
@@ -1193,6 +1238,9 @@ const sl_analysis *sl_analysis_find(const char *name)
 
 const sl_analysis *sl_pf_analysis_of(const sl_pf_config *cfg)
 {
+    if (cfg->weak && !cfg->wenkf && cfg->enkf == NULL &&
+        (cfg->analysis == NULL || cfg->analysis == &sl_analysis_pf))
+        return &sl_analysis_pf_weak;
     if (cfg->analysis != NULL)
         return cfg->analysis;
     if (cfg->wenkf)

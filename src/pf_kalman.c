@@ -27,19 +27,34 @@ static void inflate_rows(double *M, size_t ld, size_t r0, size_t rows,
     }
 }
 
+/* Whether row i (of the n + p states and parameters) or observation row
+ * r takes part in the analysis of component part (-1: the whole state,
+ * strong coupling). */
+static int row_in(const sl_pf_config *cfg, int part, size_t i)
+{
+    return part < 0 || cfg->comp[i] == part;
+}
+
+static int obs_in(const sl_pf_config *cfg, int part, size_t r)
+{
+    return part < 0 || cfg->obs_comp[r] == part;
+}
+
 /* The ensemble Kalman analysis of cycle k: live members only, observed
- * rows only, states and transformed parameters together. */
+ * rows only, states and transformed parameters together. With part >= 0
+ * (weak coupling) only the observations of component part are used and
+ * only its rows are written back. */
 static sl_status enkf_update(const sl_pf_config *cfg, const sl_enkf_config *settings,
                              pf_buffers *b, size_t k,
                              size_t r0, size_t m, const unsigned char *dead,
                              double *X, double *Z, double *P, double *infl,
                              size_t nw, sl_pf_output *out, int *degenerate,
-                             size_t *nskipped, sl_error *err)
+                             size_t *nskipped, int part, sl_error *err)
 {
     const size_t N = cfg->N, n = cfg->model->n_state, p = cfg->model->n_param;
     const size_t v = n + p, dim = cfg->loc != NULL ? cfg->loc->dim : 0;
     const size_t va = v * (nw + 1); /* rows of the augmented ensemble */
-    size_t L = 0, mk = 0, i, j, jj, d, s;
+    size_t L = 0, mk = 0, mt, i, j, jj, d, s;
     sl_enkf_config ecfg = *settings;
     sl_localization lc;
     sl_enkf_info info;
@@ -50,19 +65,23 @@ static sl_status enkf_update(const sl_pf_config *cfg, const sl_enkf_config *sett
     for (j = 0; j < N; j++)
         if (!dead[j])
             b->live[L++] = j;
+    *nskipped = 0;
     for (i = 0; i < m; i++)
-        mk += !isnan(cfg->y[r0 + i]);
-    *nskipped = m - mk;
+        if (obs_in(cfg, part, r0 + i)) {
+            mk += !isnan(cfg->y[r0 + i]);
+            *nskipped += isnan(cfg->y[r0 + i]);
+        }
     if (mk == 0)
         return SL_OK;
     if (L < 2) {
         *degenerate = 1;
         return SL_OK;
     }
-    /* compact the observed rows (mk of them: the leading dimension) */
+    /* compact the observed rows (mt of them: the leading dimension) */
+    mt = mk;
     for (i = 0, mk = 0; i < m; i++) {
-        size_t row = r0 + i, mt = m - *nskipped;
-        if (isnan(cfg->y[row]))
+        size_t row = r0 + i;
+        if (isnan(cfg->y[row]) || !obs_in(cfg, part, row))
             continue;
         b->yc[mk] = cfg->y[row];
         b->rc[mk] = cfg->sigma[row] * cfg->sigma[row];
@@ -112,6 +131,11 @@ static sl_status enkf_update(const sl_pf_config *cfg, const sl_enkf_config *sett
         ecfg.inflation = *infl;
     }
     ecfg.seed = cfg->seed;
+    if (part >= 0) {
+        /* the perturbed observations of each component: a stream of its own */
+        const uint64_t c = (uint64_t)part;
+        ecfg.seed = sl_fnv1a(cfg->seed, &c, sizeof c);
+    }
     ecfg.cycle = (uint32_t)k;
     ecfg.threads = cfg->threads;
     /* the run's poll also between the parts of a long analysis */
@@ -155,7 +179,7 @@ static sl_status enkf_update(const sl_pf_config *cfg, const sl_enkf_config *sett
                        (unsigned long)(k + 1), (unsigned long)cfg->T);
     if (st != SL_OK)
         return st;
-    for (jj = 0; jj < L; jj++) {
+    for (jj = 0; jj < L && part < 0; jj++) {
         size_t jm = b->live[jj];
         memcpy(X + jm * n, b->A + jj * va, n * sizeof(double));
         for (i = 0; i < p; i++) {
@@ -166,10 +190,26 @@ static sl_status enkf_update(const sl_pf_config *cfg, const sl_enkf_config *sett
             memcpy(b->win[(k - s) % b->nwin] + jm * v, b->A + jj * va + s * v,
                    v * sizeof(double));
     }
+    /* weak coupling: the component's own rows (and their window copies) only */
+    for (jj = 0; jj < L && part >= 0; jj++) {
+        size_t jm = b->live[jj];
+        for (i = 0; i < n; i++)
+            if (row_in(cfg, part, i))
+                X[i + jm * n] = b->A[jj * va + i];
+        for (i = 0; i < p; i++)
+            if (row_in(cfg, part, n + i)) {
+                Z[i + jm * p] = b->A[jj * va + n + i];
+                P[i + jm * p] = sl_transform_inverse(&cfg->ptrans[i], Z[i + jm * p]);
+            }
+        for (s = 1; s <= nw; s++)
+            for (i = 0; i < v; i++)
+                if (row_in(cfg, part, i))
+                    b->win[(k - s) % b->nwin][i + jm * v] = b->A[jj * va + s * v + i];
+    }
     if (out->inflation != NULL)
         out->inflation[k] = ecfg.inflation;
     if (out->floored != NULL)
-        out->floored[k] = (double)info.floored;
+        out->floored[k] = (part >= 0 ? out->floored[k] : 0.0) + (double)info.floored;
     return SL_OK;
 }
 
@@ -288,10 +328,27 @@ static sl_status kalman_cycle(sl_analysis_cycle *c, sl_error *err)
         return st;
     if (p > 0)
         memcpy(b->Z[1 - cur], c->Z, p * N * sizeof(double));
-    st = enkf_update(cfg, &ec, b, c->k, c->r0, c->m, c->dead, c->X, c->Z, c->P, &b->infl,
-                     c->nwin, c->out, &c->degenerate, &c->skipped, err);
-    if (st != SL_OK)
-        return st;
+    if (!cfg->weak) {
+        st = enkf_update(cfg, &ec, b, c->k, c->r0, c->m, c->dead, c->X, c->Z, c->P, &b->infl,
+                         c->nwin, c->out, &c->degenerate, &c->skipped, -1, err);
+        if (st != SL_OK)
+            return st;
+    } else {
+        /* weak coupling: each component analysed by its own observations,
+         * one after the other; a row's update reads only that row and the
+         * predicted observations (computed above from the forecast), so
+         * the order of the components does not matter */
+        size_t cp, sk;
+        if (c->out->floored != NULL)
+            c->out->floored[c->k] = 0.0;
+        for (cp = 0; cp < cfg->n_comp; cp++) {
+            st = enkf_update(cfg, &ec, b, c->k, c->r0, c->m, c->dead, c->X, c->Z, c->P,
+                             &b->infl, c->nwin, c->out, &c->degenerate, &sk, (int)cp, err);
+            if (st != SL_OK)
+                return st;
+            c->skipped += sk;
+        }
+    }
     sl_pfi_refresh_ids(p, N, b->Z[1 - cur], c->Z, b->vid[cur]);
     for (j = 0; j < N; j++)
         c->w[j] = c->dead[j] || nlive == 0 ? 0.0 : 1.0 / (double)nlive;

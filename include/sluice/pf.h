@@ -272,6 +272,33 @@ typedef struct {
     void *checkpoint_ctx;
     size_t checkpoint_every;
     const sl_pf_snapshot *resume;
+    /* Coupling of a model made of components (weak = 0: strong, every
+     * observation analyses the whole state: the particle filter's joint
+     * weights, the ensemble Kalman methods' full covariances). With
+     * weak = 1 the n + p rows of states and parameters belong to the
+     * n_comp components comp[i] (0 .. n_comp - 1) and every observation
+     * row of the run (obs_first[T] of them) to the component obs_comp[r],
+     * and each component is analysed by its own observations only:
+     * - the ensemble Kalman methods run their analysis once per component
+     *   that has observations in the cycle, with those observations, and
+     *   keep the result on that component's rows only (each method's
+     *   update of a row depends on that row and the predicted
+     *   observations alone, so this is the analysis whose gain is zero
+     *   between components); the stochastic EnKF's perturbations of
+     *   component c come from stream (sl_fnv1a(seed, c), j, cycle,
+     *   SL_PURPOSE_ANALYSIS). Not with adaptive inflation.
+     * - the particle filter (its own analysis, "pf_weak") weighs every
+     *   component by the likelihood of its own observations and resamples
+     *   its rows (states, parameters) with those weights, independently
+     *   (streams (sl_fnv1a(seed, c), 0, cycle, SL_PURPOSE_RESAMPLE)), at
+     *   every cycle where it has observations; the members are the
+     *   recombined blocks, equally weighted. Forcing perturbations stay
+     *   with their member (white noise only: phi = 0). Not with SMC2, a
+     *   lag, tempering or a move at resampling (kernel, resample_move). */
+    int weak;
+    size_t n_comp;
+    const int *comp;
+    const int *obs_comp;
 } sl_pf_config;
 
 /* What a run records; the caller allocates every array (sizes with
@@ -318,6 +345,13 @@ typedef struct {
     double *dmean;       /* d x T weighted means of the d = n_lin + n_fun
                           * derived quantities (with derived_summary) */
     double *dquant;      /* d x nq x T their weighted quantiles */
+    double *comp_ess;    /* n_comp x T: the ESS of each component's weights
+                          * (weak particle filter; NaN where the component
+                          * has no observation), or NULL */
+    double *comp_logz;   /* n_comp x T: each component's log-evidence
+                          * increment (weak particle filter; 0 where it has
+                          * no observation, -Inf where no member explains
+                          * them), or NULL */
     double log_evidence; /* sum of logz */
     size_t steps;        /* model steps taken */
 } sl_pf_output;
@@ -404,6 +438,9 @@ extern const sl_analysis sl_analysis_etkf;
 extern const sl_analysis sl_analysis_ensrf;
 extern const sl_analysis sl_analysis_eakf;
 extern const sl_analysis sl_analysis_letkf;
+/* The weakly coupled particle filter (sl_pf_config weak): not in the
+ * table; a weak run of the particle filter runs it. */
+extern const sl_analysis sl_analysis_pf_weak;
 
 /* The analysis with this name, or NULL. */
 const sl_analysis *sl_analysis_find(const char *name);
@@ -413,7 +450,8 @@ const sl_analysis *sl_analysis_at(size_t k);
 
 /* The analysis a configuration runs: cfg->analysis if set, else the
  * weighted ensemble Kalman filter with wenkf, the method of enkf when it
- * is not NULL, the particle filter otherwise. */
+ * is not NULL, the particle filter otherwise (its weakly coupled entry
+ * with weak, also when cfg->analysis is the particle filter's). */
 const sl_analysis *sl_pf_analysis_of(const sl_pf_config *cfg);
 
 /* Check a configuration; reasons "badconfig", "badtimes", "offgrid",

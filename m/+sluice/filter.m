@@ -81,6 +81,54 @@
 % then name them like states. For
 % the ensemble Kalman methods with localisation, observations of derived
 % quantities need the position columns @code{x} (and @code{y}).
+% @item coupling
+% how the components of a coupled model (@code{sluice.model}'s option
+% @code{'components'}; @code{'river_town'} has @code{river} and
+% @code{town}) share the observations. @code{'strong'} (default): every
+% observation updates the whole state, as for a model without
+% components: the particle filter weighs whole members (new weights
+% proportional to @math{w_j p(y | x_j)}), and the ensemble Kalman
+% methods use the full ensemble covariances, @math{K = P H' (H P H' + R)^@{-1@}},
+% cross-component blocks included. @code{'weak'}: each component c (its
+% states and parameters x_c) is analysed by its own observations y_c
+% only. The ensemble Kalman methods run one analysis per component with
+% y_c, kept on x_c: the gain
+% @math{K_c = P_@{cc@} H_c' (H_c P_@{cc@} H_c' + R_c)^@{-1@}} on x_c and
+% zero between components (the stochastic EnKF's perturbations are drawn
+% apart for each component; adaptive inflation is refused, a fixed
+% inflation acts on a component at the cycles it has observations; a
+% cycle costs one analysis per component with observations). The
+% particle filter weighs each component by its own likelihood,
+% @math{w_@{c,j@}} proportional to @math{p(y_c | x_@{c,j@})}, and resamples its block
+% with those weights, independently of the other blocks, at every cycle
+% where it has observations; the members are the recombined blocks,
+% equally weighted (so after an analysis the components are independent
+% in the ensemble; the model couples them again in the forecast). The
+% weak particle filter moves parameters by @code{'random_walk'} (the
+% default then) or not at all, and runs without @code{lag},
+% @code{temper_ess}, @code{'smc2'} or forcing noise with an AR(1)
+% coefficient; the weighted ensemble Kalman filter runs strongly coupled
+% only (@code{sluice:filter:badcoupling}). An observation of a state or
+% a parameter belongs to its component, a linear operator row to the one
+% component its non-zero columns lie in; for a function operator, or a
+% row over several components, name the component in
+% @code{obs_components} (@code{sluice:filter:obscomponent} otherwise). A
+% model without components runs strongly coupled only
+% (@code{sluice:filter:nocomponents}). A weak run's result gets
+% @code{coupling} (@code{mode}, @code{components}; for the particle
+% filter each component's @code{ess}, n_comp x T, NaN where it had no
+% observation, @code{log_evidence_steps} and their sums
+% @code{log_evidence}); its @code{ess} is then the smallest component ESS
+% of each cycle, @code{resampled} marks the cycles where a component was
+% resampled (@code{history.ancestors} does not follow the components'
+% resampling) and @code{log_evidence} is the sum of the components': the
+% evidence of the weakly coupled approximation (each component's
+% observations explained by that component alone), not of the coupled
+% model.
+% @item obs_components
+% a struct naming the component of an observed quantity (field: the
+% observed name, value: the component's name), for weak coupling; it
+% overrides the component an observation would get.
 % @item members
 % ensemble size N (default 1000).
 % @item seed

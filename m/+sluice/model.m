@@ -101,6 +101,17 @@
 % side @code{dX = fun (t, X, P, U)} integrated by the chosen integrator
 % (default RK4) over the whole ensemble at once.
 %
+% @code{'components'}, @code{@{name, names, name, names, @dots{}@}}:
+% the model is made of components (a river and a town, say), each named
+% and given the names of its states and parameters; every state and
+% parameter belongs to exactly one. They are kept as @code{components},
+% @code{state_component} and @code{param_component} of the spec and let
+% @code{sluice.filter} couple the components weakly (its option
+% @code{'coupling'}). @code{'river_town'} has them: @code{river} (GR4J's
+% states and parameters, Qmax, level, day and the rating curve a, b, Q0,
+% year_length: what the river's flow makes) and @code{town} (the flood
+% model's states and parameters).
+%
 % Common options: @code{'states'} (cellstr of state names, default
 % x1, x2, @dots{}), @code{'params'} (cellstr of parameter names),
 % @code{'forcings'} (cellstr of forcing names), @code{'defaults'} (values
@@ -182,6 +193,7 @@ function spec = model (kind, varargin)
     error ('sluice:model:badoption', 'options must come in name, value pairs');
   end
   nstate = [];
+  comps = [];
   for k = 1:2:numel (varargin)
     name = varargin{k};
     val = varargin{k + 1};
@@ -236,6 +248,8 @@ function spec = model (kind, varargin)
         spec.(lower (name)) = v;
       case {'rating', 'year_length'}
         spec = coupled_option (spec, lower (name), val);
+      case 'components'
+        comps = val;
       case 'kind'
         if (~strcmp (spec.kind, 'handle') || ~ischar (val) || ...
             ~any (strcmp (val, {'step', 'rhs'})))
@@ -320,6 +334,66 @@ function spec = model (kind, varargin)
   if (~isfield (spec, 'internal') || numel (spec.internal) ~= n)
     spec.internal = false (n, 1);
   end
+  if (isempty (comps) && strcmp (spec.kind, 'builtin') && strcmp (spec.name, 'river_town'))
+    % the river: GR4J's states and parameters and what the river's flow
+    % makes (the year's largest flow, the high-water level, the rating
+    % curve and the calendar); the town: the flood model's
+    town = {'G', 'D', 'H', 'M', 'F', 'R_levee', 'xiH', 'alphaH', 'rhoE', 'gammaE', ...
+            'lambdaP', 'sigmaP', 'epsT', 'kappaT', 'alphaS', 'muS'};
+    all_names = [spec.states(:); spec.params(:)]';
+    comps = {'river', setdiff(all_names, town, 'stable'), 'town', town};
+  end
+  if (~isempty (comps))
+    spec = components_arg (spec, comps);
+  end
+end
+
+% The components of a coupled model: {name, member names, name, member
+% names, ...}, every state and parameter in exactly one; kept as
+% spec.components (their names) and spec.state_component and
+% spec.param_component (1-based indices into them).
+function spec = components_arg (spec, c)
+  if (~iscell (c) || isempty (c) || mod (numel (c), 2) ~= 0)
+    error ('sluice:model:badcomponents', ...
+           ['components must be a cell {name, {state and parameter names}, name, ...}, ', ...
+            'got %s'], class (c));
+  end
+  names = c(1:2:end);
+  if (~iscellstr (names) || ~all (cellfun (@isvarname, names)) || ...
+      numel (unique (names)) ~= numel (names))
+    error ('sluice:model:badcomponents', 'component names must be distinct valid names');
+  end
+  all_names = [spec.states(:); spec.params(:)];
+  idx = zeros (numel (all_names), 1);
+  for k = 1:numel (names)
+    members = c{2 * k};
+    if (ischar (members))
+      members = {members};
+    end
+    if (~iscellstr (members))
+      error ('sluice:model:badcomponents', ...
+             'component ''%s'': expected a cellstr of state and parameter names', names{k});
+    end
+    [found, where] = ismember (members, all_names);
+    if (~all (found))
+      error ('sluice:model:badcomponents', ...
+             'component ''%s'': ''%s'' is no state or parameter of the model', names{k}, ...
+             members{find (~found, 1)});
+    end
+    if (any (idx(where) > 0))
+      error ('sluice:model:badcomponents', '''%s'' belongs to two components', ...
+             all_names{where(find (idx(where) > 0, 1))});
+    end
+    idx(where) = k;
+  end
+  if (any (idx == 0))
+    error ('sluice:model:badcomponents', '''%s'' belongs to no component', ...
+           all_names{find (idx == 0, 1)});
+  end
+  n = numel (spec.states);
+  spec.components = names(:)';
+  spec.state_component = idx(1:n);
+  spec.param_component = idx(n+1:end);
 end
 
 function spec = check_builtin (spec, info, nstate)
@@ -539,6 +613,25 @@ end
 %!test
 %! s = sluice.model (@(t, X, P, U) -X, 'n', 2, 'kind', 'rhs');
 %! assert (s.integrator, 'rk4');
+%!test
+%! s = sluice.model ('linear', 'A', [0.9 0.1; 0.2 0.8], 'states', {'x', 'y'}, ...
+%!                   'components', {'a', {'x'}, 'b', 'y'});
+%! assert (s.components, {'a', 'b'});
+%! assert (s.state_component, [1; 2]);
+%!test
+%! s = sluice.model ('river_town');
+%! assert (s.components, {'river', 'town'});
+%! assert (s.state_component(strcmp (s.states, 'G')), 2);
+%! assert (s.state_component(strcmp (s.states, 'Qmax')), 1);
+%! assert (s.param_component(strcmp (s.params, 'X1')), 1);
+%! assert (s.param_component(strcmp (s.params, 'muS')), 2);
+%! assert (sum (s.state_component == 1), 66);
+%!error id=sluice:model:badcomponents sluice.model ('linear', 'A', eye (2), 'components', {'a', {'x1'}})
+%!error id=sluice:model:badcomponents sluice.model ('linear', 'A', eye (2), 'components', {'a', {'x1', 'x2'}, 'b', {'x2'}})
+%!error id=sluice:model:badcomponents sluice.model ('linear', 'A', eye (2), 'components', {'a', {'x1', 'z'}})
+%!error id=sluice:model:badcomponents sluice.model ('linear', 'A', eye (2), 'components', {'a', {'x1'}, 'a', {'x2'}})
+%!error id=sluice:model:badcomponents sluice.model ('linear', 'A', eye (2), 'components', 'a')
+%!error id=sluice:model:badcomponents sluice.model ('linear', 'A', eye (2), 'components', {'a', 3, 'b', {'x2'}})
 %!error id=sluice:model:badstep sluice.model ('gr4j', 'dt', 2)
 %!error id=sluice:model:badstep sluice.model ('river_town', 'dt', 2)
 %!error id=sluice:model:badrating sluice.model ('river_town', 'rating', [-0.1 0.6 5])

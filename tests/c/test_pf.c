@@ -1516,6 +1516,139 @@ static void check_resample_move(void)
     free(X);
 }
 
+/* ------------------------------------------------------------ coupling */
+
+/* One cycle of a run of cfg from X0 (n x N, no parameters) into X, with
+ * the components' records in cess and clogz (n_comp entries). */
+static sl_status run_once(const sl_pf_config *cfg, const double *X0, double *X,
+                          double *cess, double *clogz, sl_error *err)
+{
+    const size_t n = cfg->model->n_state, N = cfg->N;
+    double mean[2], ess, logz, rs, dg, sk, nf, infl, fl, P = 0, *w = zalloc(N, sizeof(double));
+    sl_pf_output out;
+    void *work = malloc(sl_pf_workspace(cfg));
+    sl_status st;
+    memset(&out, 0, sizeof out);
+    out.mean = mean;
+    out.ess = &ess;
+    out.logz = &logz;
+    out.resampled = &rs;
+    out.degenerate = &dg;
+    out.skipped = &sk;
+    out.nonfinite = &nf;
+    out.inflation = &infl;
+    out.floored = &fl;
+    out.comp_ess = cess;
+    out.comp_logz = clogz;
+    memcpy(X, X0, n * N * sizeof(double));
+    st = work != NULL && w != NULL ? sl_pf_run(cfg, X, &P, w, work, &out, err)
+                                   : sl_fail(err, SL_ENOMEM, "nomemory", "test buffers");
+    free(work);
+    free(w);
+    return st;
+}
+
+/* Weak coupling: every reason of its check, the analysis it runs, and a
+ * cycle that observes component 0 only leaves component 1's rows exactly
+ * as forecast (the run whose observation is missing), for the particle
+ * filter and the ETKF, while component 0's rows move. */
+static void check_coupling(void)
+{
+    enum { N = 300, T = 1 };
+    const double A[4] = {0.8, -0.2, 0.3, 0.7}, L[4] = {0.5, 0.1, 0.0, 0.4};
+    const double times[T] = {1.0};
+    const sl_linear lin = {2, 0, A, NULL, NULL, L};
+    const int comp[2] = {0, 1}, bad_comp[2] = {0, 2}, obs_comp[1] = {0}, bad_obs[1] = {-1};
+    double *X0 = malloc(2 * N * sizeof(double)), *Xa = malloc(2 * N * sizeof(double)),
+           *Xf = malloc(2 * N * sizeof(double)), cess[2], clogz[2], yv = 0.9, ynan = NAN;
+    sl_model md;
+    sl_pf_config cfg, c;
+    sl_enkf_config ec;
+    obs_table o, om;
+    sl_error err;
+    size_t j, pass;
+    CHECK(sl_linear_model(&md, &lin, 1.0, &err) == SL_OK, "linear model: %s", err.message);
+    one_obs_per_cycle(&o, T, &yv, 0.3);
+    one_obs_per_cycle(&om, T, &ynan, 0.3);
+    base_config(&cfg, &md, N, T, times, &o);
+    cfg.weak = 1;
+    cfg.n_comp = 2;
+    cfg.comp = comp;
+    cfg.obs_comp = obs_comp;
+    expect_ok(&cfg, "weak coupling");
+    CHECK(sl_pf_analysis_of(&cfg) == &sl_analysis_pf_weak, "a weak particle filter runs pf_weak");
+    CHECK(sl_pf_auto_move(&cfg) == &sl_param_move_random_walk,
+          "the weak particle filter's default move is the random walk");
+    c = cfg;
+    c.comp = NULL;
+    expect_fail(&c, SL_EINVAL, "badcoupling", "weak coupling without components");
+    c = cfg;
+    c.comp = bad_comp;
+    expect_fail(&c, SL_EINVAL, "badcoupling", "a component out of range");
+    c = cfg;
+    c.obs_comp = bad_obs;
+    expect_fail(&c, SL_EINVAL, "badcoupling", "an observation's component out of range");
+    c = cfg;
+    c.temper.ess = 0.5;
+    c.temper.max_steps = 10;
+    expect_fail(&c, SL_EINVAL, "badcoupling", "the weak particle filter with tempering");
+    c = cfg;
+    c.param_move = &sl_param_move_kernel;
+    expect_fail(&c, SL_EINVAL, "badcoupling", "the weak particle filter with the kernel move");
+    c = cfg;
+    c.lag = 1;
+    expect_fail(&c, SL_EINVAL, "badcoupling", "the weak particle filter with a lag");
+    c = cfg;
+    c.wenkf = 1;
+    expect_fail(&c, SL_EINVAL, "badcoupling", "the weighted ensemble Kalman filter, weak");
+    memset(&ec, 0, sizeof ec);
+    ec.method = SL_ENKF_ETKF;
+    ec.inflation = 1.0;
+    ec.threads = 1;
+    c = cfg;
+    c.enkf = &ec;
+    c.adaptive_inflation = 1;
+    c.inflation_max = 2.0;
+    expect_fail(&c, SL_EINVAL, "badcoupling", "weak coupling with adaptive inflation");
+
+    for (j = 0; j < N; j++) {
+        sl_stream sm;
+        sl_stream_init(&sm, 7, (uint32_t)j, 0, SL_PURPOSE_PRIOR);
+        X0[2 * j] = sl_stream_normal(&sm);
+        X0[2 * j + 1] = 1.0 + sl_stream_normal(&sm);
+    }
+    for (pass = 0; pass < 2; pass++) {
+        const char *what = pass == 0 ? "pf" : "etkf";
+        int moved = 0, kept = 1;
+        c = cfg;
+        c.enkf = pass == 1 ? &ec : NULL;
+        CHECK(run_once(&c, X0, Xa, cess, clogz, &err) == SL_OK, "%s, weak: %s", what,
+              err.message);
+        c.y = om.y;
+        CHECK(run_once(&c, X0, Xf, cess + 0, clogz + 0, &err) == SL_OK, "%s, forecast: %s",
+              what, err.message);
+        c.y = o.y;
+        CHECK(run_once(&c, X0, Xa, cess, clogz, &err) == SL_OK, "%s, weak again: %s", what,
+              err.message);
+        for (j = 0; j < N; j++) {
+            kept = kept && memcmp(Xa + 2 * j + 1, Xf + 2 * j + 1, sizeof(double)) == 0;
+            moved = moved || Xa[2 * j] != Xf[2 * j];
+        }
+        CHECK(kept, "%s, weak: the unobserved component is the forecast, bit for bit", what);
+        CHECK(moved, "%s, weak: the observed component moves", what);
+        if (pass == 0) {
+            CHECK(cess[0] > 1 && cess[0] <= N, "pf, weak: ESS of component 0 is %g", cess[0]);
+            CHECK(isnan(cess[1]) && clogz[1] == 0.0,
+                  "pf, weak: component 1 has no observation (ESS %g, log-evidence %g)", cess[1],
+                  clogz[1]);
+            CHECK(isfinite(clogz[0]) && clogz[0] < 0, "pf, weak: log-evidence %g", clogz[0]);
+        }
+    }
+    free(X0);
+    free(Xa);
+    free(Xf);
+}
+
 int main(void)
 {
     check_resample_move();
@@ -1534,5 +1667,6 @@ int main(void)
     check_operators();
     check_derived_summary();
     check_lag();
+    check_coupling();
     CHECK_DONE("test_pf");
 }

@@ -188,6 +188,7 @@ function R = prepare (model, prior, obs, opts, fn)
   c.adaptive_inflation = double (opts.adaptive_inflation);
   c.inflation_max = opts.inflation_max;
   c = add_localization (c, opts, model, tab, obs, ops.names, fn);
+  c = sluice.internal.coupling_settings (c, opts, model, tab, ops, fn);
   if (~isempty (opts.checkpoint))
     % the gateway fingerprints every setting; what it cannot see (the
     % text of a model's or an operator's function and the values it
@@ -304,6 +305,7 @@ function res = execute (R)
     res.history = struct ('X', r.history_X, 'P', r.history_P, ...
                           'w', r.history_w, 'ancestors', r.history_ancestors);
   end
+  res = sluice.internal.coupling_results (res, r, c, model);
   res.options = opts;
   if (any (res.degenerate))
     k = find (res.degenerate, 1);
