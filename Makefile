@@ -125,31 +125,41 @@ check-valgrind: ctests | $(DEVDEPS)
 # redirects only the calls resolved at this static link: those of the test
 # itself and of the core (libsluice.a). The shared libraries -- GSL,
 # OpenBLAS, libgomp, libc's own internals (stdio buffers, qsort's scratch)
-# -- allocate unseen and are never failed. First tools/lint_core
-# --objects checks with nm -u that no object of the library references an
-# allocator (the compiled side of make lint's source check: the list of
-# names is kept in tools/lint_core alone). Then tests/alloc/run.sh runs
+# -- allocate unseen and are never failed. Then, in order:
+# tests/alloc/selftest.sh shows the driver a test that leaks and crashes
+# on a failed allocation (tests/alloc/bad_test.c), which it must catch;
+# tools/lint_core --objects checks with nm -u that no object of the core
+# references an allocator (the compiled side of make lint's source check:
+# the list of names is kept in tools/lint_core alone); tests/alloc/run.sh runs
 # each selected test once cleanly to learn its count K of allocations and
 # again for every k = 1..K with the k-th allocation failing: a run must
 # pass or stop at its checked allocation (ck_malloc of tests/c/check.h,
 # exit 77 after freeing what the test holds); a signal, another status or
 # a block left allocated fails the target. Tests with K above ALLOC_MAXK
-# are listed and left out unless SL_ALLOC_ALL=1.
+# (those that allocate inside loops over many cases) and those in
+# ALLOC_SKIP (a run takes seconds, so K runs take many minutes) are listed
+# and left out unless SL_ALLOC_ALL=1; the rest takes about a minute.
 ALLOC_BUILD := build-alloc
 ALLOC_SHIM  := $(ALLOC_BUILD)/alloc/failalloc.o
 ALLOC_WRAP  := -Wl,--wrap=malloc,--wrap=calloc,--wrap=realloc,--wrap=free,--wrap=aligned_alloc,--wrap=posix_memalign
 ALLOC_MAXK  ?= 3000
+ALLOC_SKIP  ?= test_enkf test_pf test_smooth
 check-alloc: | $(DEPS)
 	$(MAKE) BUILD=$(ALLOC_BUILD) OPT=-O1 CTEST_LINKDEPS=$(ALLOC_SHIM) \
-	  EXTRA_LDFLAGS="$(ALLOC_SHIM) $(ALLOC_WRAP)" ctests
+	  EXTRA_LDFLAGS="$(ALLOC_SHIM) $(ALLOC_WRAP)" ctests $(ALLOC_BUILD)/selftest/tests/test_bad
+	@bash tests/alloc/selftest.sh $(ALLOC_BUILD)/selftest
 	@bash tools/lint_core --objects $(ALLOC_BUILD)/libsluice.a
 	@echo "check-alloc: $(ALLOC_BUILD)/libsluice.a references no allocator (nm -u)"
-	@SL_ALLOC_MAXK=$(ALLOC_MAXK) bash tests/alloc/run.sh $(ALLOC_BUILD)
+	@SL_ALLOC_MAXK=$(ALLOC_MAXK) SL_ALLOC_SKIP="$(ALLOC_SKIP)" bash tests/alloc/run.sh $(ALLOC_BUILD)
 
 # (inside the make that check-alloc starts, with BUILD=build-alloc)
 $(BUILD)/alloc/failalloc.o: tests/alloc/failalloc.c | $(DEPS)
 	@mkdir -p $(dir $@)
 	$(CC) $(SL_CFLAGS) -c $< -o $@
+# the driver's self-test: a test that mishandles failed allocations
+$(BUILD)/selftest/tests/test_bad: tests/alloc/bad_test.c $(CTEST_LINKDEPS) | $(DEPS)
+	@mkdir -p $(dir $@)
+	$(CC) $(SL_CFLAGS) $< -o $@ $(EXTRA_LDFLAGS)
 
 # Fuzzing (libFuzzer, clang): the core built again in build-fuzz/ with the
 # fuzzer's coverage and AddressSanitizer + UBSan (without OpenMP, so no

@@ -41,7 +41,7 @@ one_run() {
   if [ $rc -ge 128 ]; then
     verdict="bad:signal_$((rc - 128))"
   elif [ $rc -eq 98 ] || grep -q '^failalloc: LEAK' <<<"$out"; then
-    verdict="bad:leak($(grep -o '[0-9]* live blocks' <<<"$line"))"
+    verdict="bad:leak_of_$(sed -nE 's/.* ([0-9]+) live blocks.*/\1/p' <<<"$line")_blocks"
   elif [ -z "$line" ]; then
     verdict="bad:no_report_exit_$rc"
   elif grep -q '^FAIL' <<<"$out"; then

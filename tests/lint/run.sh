@@ -1,7 +1,9 @@
 #!/usr/bin/env bash
 # run.sh - tests of tools/lint_matlab and tools/lint_core on the fixtures
 # beside this file: every code line of bad.m / bad.c / core_alloc.c must be
-# reported, no line of good.m / mexplatform.c / core_good.c may be. Prints
+# reported, no line of good.m / mexplatform.c / core_good.c may be; and
+# lint_core --objects on two objects compiled here (one calling malloc,
+# strdup and free, one only memcpy). Prints
 # "lint: N passed, N failed".
 set -u
 here=$(cd "$(dirname "$0")" && pwd)
