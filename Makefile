@@ -130,15 +130,17 @@ check-valgrind: ctests | $(DEVDEPS)
 # on a failed allocation (tests/alloc/bad_test.c), which it must catch;
 # tools/lint_core --objects checks with nm -u that no object of the core
 # references an allocator (the compiled side of make lint's source check:
-# the list of names is kept in tools/lint_core alone); tests/alloc/run.sh runs
-# each selected test once cleanly to learn its count K of allocations and
-# again for every k = 1..K with the k-th allocation failing: a run must
-# pass or stop at its checked allocation (ck_malloc of tests/c/check.h,
-# exit 77 after freeing what the test holds); a signal, another status or
-# a block left allocated fails the target. Tests with K above ALLOC_MAXK
-# (those that allocate inside loops over many cases) and those in
-# ALLOC_SKIP (a run takes seconds, so K runs take many minutes) are listed
-# and left out unless SL_ALLOC_ALL=1; the rest takes about a minute.
+# the list of names is kept in tools/lint_core alone); tests/alloc/run.sh
+# runs each test once cleanly to learn its count K of allocations, then
+# fails every k = 1..K in turn: for every test in one run
+# (SL_FAIL_ALLOC=each: the shim forks at each allocation and the child
+# fails it), and for the tests with K <= ALLOC_MAXK outside ALLOC_SKIP
+# also in a fresh process per k (SL_FAIL_ALLOC=k), the plain form that
+# shows the forked children judge the same. A run must pass or stop at its
+# checked allocation (ck_malloc of tests/c/check.h, exit 77 after freeing
+# what the test holds); a signal, another status, a failed check or a
+# block left allocated fails the target. SL_ALLOC_ALL=1 gives every test
+# fresh processes (hours: test_resample has K = 128548).
 ALLOC_BUILD := build-alloc
 ALLOC_SHIM  := $(ALLOC_BUILD)/alloc/failalloc.o
 ALLOC_WRAP  := -Wl,--wrap=malloc,--wrap=calloc,--wrap=realloc,--wrap=free,--wrap=aligned_alloc,--wrap=posix_memalign

@@ -15,9 +15,28 @@
  *                          NULL; 0 or unset: none fails
  *   SL_FAIL_ALLOC_MODE=once   only the k-th fails (the default)
  *   SL_FAIL_ALLOC_MODE=after  the k-th and every later one fail
+ *   SL_FAIL_ALLOC=each     every k in one run: at each allocation the
+ *                          process forks; the child fails that allocation
+ *                          (and, with mode after, every later one) with its
+ *                          output sent to /dev/null and at most
+ *                          FA_CHILD_SECONDS to end, the parent waits for it
+ *                          and carries on as a clean run. The child's exit
+ *                          is its verdict: 77 (the harness stopped at the
+ *                          failure, nothing leaked) or 0 (passed) are
+ *                          good, anything else (a signal, 98 for a leak, 1
+ *                          for a failed check) is printed as
+ *                          "failalloc: each: allocation k: ..." and makes
+ *                          the parent end with status 97.
+ *
+ * A forked child has only the thread that forked. That is enough here:
+ * the tests allocate outside OpenMP regions and the core never allocates,
+ * so a child runs no parallel region before it ends at its failed
+ * allocation; one that did would hang (libgomp's pool is not in the
+ * child), which the time limit turns into a bad verdict (signal 14).
  *
  * At exit (a normal return from main or exit(), not a signal) it prints
- * one line on stderr,
+ * one line on stderr (in mode each, first "failalloc: each: C children, S
+ * stopped, P passed, B bad"),
  *   failalloc: A allocations, F failed (first at k), L after it, B live blocks
  * where L counts the allocations attempted after the first failure (0 means
  * the process stopped at the failure, so "once" and "after" coincide) and
@@ -25,7 +44,11 @@
  * process then ends with status 98 whatever main returned.
  */
 #include <errno.h>
+#include <fcntl.h>
 #include <pthread.h>
+#include <signal.h>
+#include <sys/types.h>
+#include <sys/wait.h>
 #include <stdint.h>
 #include <stdio.h>
 #include <stdlib.h>
@@ -47,11 +70,15 @@ void *__wrap_aligned_alloc(size_t align, size_t n);
 int __wrap_posix_memalign(void **out, size_t align, size_t n);
 
 #define FA_LEAK_STATUS 98
+#define FA_EACH_STATUS 97
+#define FA_CHILD_SECONDS 120
 
 static unsigned long fa_fail_at = 0; /* 0: never */
 static int fa_after = 0;             /* fail every allocation after fa_fail_at too */
 static unsigned long fa_count = 0, fa_failed = 0, fa_later = 0;
 static int fa_ready = 0;
+static int fa_each = 0, fa_child = 0; /* mode each; this process is a child */
+static unsigned long fa_kids = 0, fa_kids_stopped = 0, fa_kids_passed = 0, fa_kids_bad = 0;
 
 /* The live blocks: an open-addressing set of pointers (linear probing,
  * backward-shift deletion), its memory from the real allocator. */
@@ -127,7 +154,9 @@ static int fa_remove(uintptr_t p)
 static void fa_init(void)
 {
     const char *e = getenv("SL_FAIL_ALLOC"), *m = getenv("SL_FAIL_ALLOC_MODE");
-    if (e != NULL && e[0] != '\0') {
+    if (e != NULL && strcmp(e, "each") == 0) {
+        fa_each = 1;
+    } else if (e != NULL && e[0] != '\0') {
         char *end;
         unsigned long k = strtoul(e, &end, 10);
         if (*end != '\0') {
@@ -148,12 +177,13 @@ static void fa_init(void)
 }
 
 /* Count one allocation; 1 when it is to fail. (with fa_lock held) */
-static int fa_next(void)
+static int fa_next(unsigned long *kout)
 {
     unsigned long k;
     if (!fa_ready)
         fa_init();
     k = ++fa_count;
+    *kout = k;
     if (fa_failed > 0)
         fa_later++;
     if (fa_fail_at != 0 && (k == fa_fail_at || (fa_after && k > fa_fail_at))) {
@@ -163,16 +193,81 @@ static int fa_next(void)
     return 0;
 }
 
+/* Mode each: fork; the child fails allocation k (returns 1), the parent
+ * waits for it, records its verdict and returns 0. */
+static int fa_fork(unsigned long k)
+{
+    pid_t pid;
+    int status, fd;
+    fflush(NULL);
+    pid = fork();
+    if (pid == 0) {
+        fa_child = 1;
+        fa_fail_at = k;
+        fa_failed = 1;
+        fa_later = 0;
+        fd = open("/dev/null", O_WRONLY);
+        if (fd >= 0) {
+            dup2(fd, 1);
+            dup2(fd, 2);
+            close(fd);
+        }
+        alarm(FA_CHILD_SECONDS);
+        return 1;
+    }
+    fa_kids++;
+    if (pid < 0) {
+        fprintf(stderr, "failalloc: each: allocation %lu: fork failed\n", k);
+        fa_kids_bad++;
+        return 0;
+    }
+    while (waitpid(pid, &status, 0) < 0)
+        if (errno != EINTR) {
+            status = -1;
+            break;
+        }
+    if (status != -1 && WIFEXITED(status) && WEXITSTATUS(status) == 77)
+        fa_kids_stopped++;
+    else if (status != -1 && WIFEXITED(status) && WEXITSTATUS(status) == 0)
+        fa_kids_passed++;
+    else {
+        fa_kids_bad++;
+        if (status != -1 && WIFSIGNALED(status))
+            fprintf(stderr, "failalloc: each: allocation %lu: signal %d%s\n", k,
+                    WTERMSIG(status), WTERMSIG(status) == SIGALRM ? " (time limit)" : "");
+        else if (status != -1 && WIFEXITED(status) && WEXITSTATUS(status) == FA_LEAK_STATUS)
+            fprintf(stderr, "failalloc: each: allocation %lu: leak\n", k);
+        else if (status != -1 && WIFEXITED(status))
+            fprintf(stderr, "failalloc: each: allocation %lu: exit %d\n", k, WEXITSTATUS(status));
+        else
+            fprintf(stderr, "failalloc: each: allocation %lu: lost\n", k);
+    }
+    return 0;
+}
+
+/* 1 when the allocation about to be made is to fail. */
+static int fa_should_fail(void)
+{
+    unsigned long k;
+    int fail;
+    pthread_mutex_lock(&fa_lock);
+    fail = fa_next(&k);
+    pthread_mutex_unlock(&fa_lock);
+    if (!fail && fa_each && !fa_child)
+        fail = fa_fork(k);
+    return fail;
+}
+
 void *__wrap_malloc(size_t n)
 {
     void *p = NULL;
-    pthread_mutex_lock(&fa_lock);
-    if (!fa_next()) {
+    if (!fa_should_fail()) {
         p = __real_malloc(n);
+        pthread_mutex_lock(&fa_lock);
         if (p != NULL)
             fa_insert((uintptr_t)p);
+        pthread_mutex_unlock(&fa_lock);
     }
-    pthread_mutex_unlock(&fa_lock);
     if (p == NULL)
         errno = ENOMEM;
     return p;
@@ -181,13 +276,13 @@ void *__wrap_malloc(size_t n)
 void *__wrap_calloc(size_t count, size_t size)
 {
     void *p = NULL;
-    pthread_mutex_lock(&fa_lock);
-    if (!fa_next()) {
+    if (!fa_should_fail()) {
         p = __real_calloc(count, size);
+        pthread_mutex_lock(&fa_lock);
         if (p != NULL)
             fa_insert((uintptr_t)p);
+        pthread_mutex_unlock(&fa_lock);
     }
-    pthread_mutex_unlock(&fa_lock);
     if (p == NULL)
         errno = ENOMEM;
     return p;
@@ -196,13 +291,13 @@ void *__wrap_calloc(size_t count, size_t size)
 void *__wrap_aligned_alloc(size_t align, size_t n)
 {
     void *p = NULL;
-    pthread_mutex_lock(&fa_lock);
-    if (!fa_next()) {
+    if (!fa_should_fail()) {
         p = __real_aligned_alloc(align, n);
+        pthread_mutex_lock(&fa_lock);
         if (p != NULL)
             fa_insert((uintptr_t)p);
+        pthread_mutex_unlock(&fa_lock);
     }
-    pthread_mutex_unlock(&fa_lock);
     if (p == NULL)
         errno = ENOMEM;
     return p;
@@ -211,13 +306,13 @@ void *__wrap_aligned_alloc(size_t align, size_t n)
 int __wrap_posix_memalign(void **out, size_t align, size_t n)
 {
     int rc = ENOMEM;
-    pthread_mutex_lock(&fa_lock);
-    if (!fa_next()) {
+    if (!fa_should_fail()) {
         rc = __real_posix_memalign(out, align, n);
+        pthread_mutex_lock(&fa_lock);
         if (rc == 0)
             fa_insert((uintptr_t)*out);
+        pthread_mutex_unlock(&fa_lock);
     }
-    pthread_mutex_unlock(&fa_lock);
     return rc;
 }
 
@@ -233,15 +328,15 @@ void *__wrap_realloc(void *p, size_t n)
         __wrap_free(p);
         return NULL;
     }
-    pthread_mutex_lock(&fa_lock);
-    if (!fa_next()) {
+    if (!fa_should_fail()) {
         q = __real_realloc(p, n);
+        pthread_mutex_lock(&fa_lock);
         if (q != NULL) {
             fa_remove((uintptr_t)p);
             fa_insert((uintptr_t)q);
         }
+        pthread_mutex_unlock(&fa_lock);
     }
-    pthread_mutex_unlock(&fa_lock);
     if (q == NULL)
         errno = ENOMEM;
     return q;
@@ -275,6 +370,9 @@ __attribute__((destructor)) static void fa_report(void)
     pthread_mutex_lock(&fa_lock);
     live = (unsigned long)fa_live;
     fflush(stdout);
+    if (fa_each && !fa_child)
+        fprintf(stderr, "failalloc: each: %lu children, %lu stopped, %lu passed, %lu bad\n",
+                fa_kids, fa_kids_stopped, fa_kids_passed, fa_kids_bad);
     if (fa_failed > 0)
         fprintf(stderr,
                 "failalloc: %lu allocations, %lu failed (first at %lu), %lu after it, "
@@ -288,5 +386,9 @@ __attribute__((destructor)) static void fa_report(void)
         fprintf(stderr, "failalloc: LEAK of %lu blocks\n", live);
         fflush(NULL);
         _exit(FA_LEAK_STATUS);
+    }
+    if (fa_each && !fa_child && fa_kids_bad > 0) {
+        fflush(NULL);
+        _exit(FA_EACH_STATUS);
     }
 }

@@ -56,8 +56,8 @@ static inline int check_light_(void)
  * list, so when an allocation fails (make check-alloc fails them on
  * purpose) it frees all the blocks the test still holds, prints
  * "SKIP file:line: allocation failed" and ends the process with status
- * CHECK_NOMEM_STATUS: a test never goes on with a NULL buffer, and never
- * hands one to the core. Each block carries a header of
+ * CHECK_NOMEM_STATUS (1 when a check had failed before): a test never
+ * goes on with a NULL buffer, and never hands one to the core. Each block carries a header of
  * CHECK_BLOCK_HEAD_ bytes (ck_aligned_alloc: max(alignment, that)) in
  * front of what the test sees; the list is guarded for the tests that
  * allocate inside an OpenMP region. */
@@ -118,7 +118,7 @@ static inline void check_nomem_(const char *file, int line)
     }
     printf("SKIP %s:%d: allocation failed; the test stops here\n", file, line);
     printf("%d passed, %d failed before it\n", check_passed_, check_failed_);
-    exit(CHECK_NOMEM_STATUS);
+    exit(check_failed_ ? 1 : CHECK_NOMEM_STATUS);
 }
 
 static inline void *check_malloc_(size_t n, const char *file, int line)
