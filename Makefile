@@ -6,6 +6,9 @@
 #   make check-asan C unit tests under AddressSanitizer + UBSan
 #   make check-valgrind  C unit tests under valgrind's memcheck (errors and
 #                   leaks fail; valgrind comes from tools/debian-packages-dev)
+#   make check-alloc  C unit tests with their k-th allocation failed, for
+#                   every k (tests/alloc/); the core's objects free of
+#                   allocator references (nm)
 #   make pkg        the Octave package sluice-<version>.tar.gz
 #   make check-pkg  install that package in a temporary place, test it there
 #   make lint       m/ in the Octave/MATLAB subset, mex/ free of platform headers,
@@ -50,7 +53,7 @@ TESTLINKS := $(addprefix m/sluice.,$(PUBLIC))
 CTESTSRC  := $(sort $(wildcard tests/c/test_*.c))
 CTESTS    := $(patsubst tests/c/%.c,$(BUILD)/tests/%,$(CTESTSRC))
 
-.PHONY: all deps lib mex checker links ctests check check-c check-octave check-asan check-valgrind \
+.PHONY: all deps lib mex checker links ctests check check-c check-octave check-asan check-valgrind check-alloc \
         fuzz fuzz-build demo bench pkg check-pkg lint clean
 
 all: mex checker links m/doc-cache
@@ -77,7 +80,7 @@ m/sluice.%: m/+sluice/%.m | $(DEPS)
 m/doc-cache: $(wildcard m/+sluice/*.m) m/+sluice/+internal/help_cache.m | $(DEPS)
 	$(OCTRUN) --eval "warning('off', 'Octave:shadowed-function'); addpath('$(CURDIR)/m'); sluice.internal.help_cache('$(CURDIR)/m');"
 
-$(BUILD)/tests/%: tests/c/%.c $(SL_LIB) | $(DEPS)
+$(BUILD)/tests/%: tests/c/%.c $(SL_LIB) $(CTEST_LINKDEPS) | $(DEPS)
 	@mkdir -p $(dir $@)
 	$(CC) $(SL_CFLAGS) -Itests/c $< $(SL_LIB) -o $@ -fopenmp $(SL_LIBS) $(EXTRA_LDFLAGS)
 
@@ -115,6 +118,50 @@ VALGRIND := valgrind -q --error-exitcode=99 --leak-check=full \
             --errors-for-leak-kinds=definite,indirect --show-leak-kinds=definite,indirect
 check-valgrind: ctests | $(DEVDEPS)
 	@SL_CHECK_LIGHT=1 SL_TEST_RUNNER="$(VALGRIND)" bash tests/run_all.sh $(BUILD) none
+
+# Allocation failures: the C unit tests built again in build-alloc/ with
+# the allocator shim tests/alloc/failalloc.c, linked with -Wl,--wrap for
+# malloc, calloc, realloc, free, aligned_alloc and posix_memalign. --wrap
+# redirects only the calls resolved at this static link: those of the test
+# itself and of the core (libsluice.a). The shared libraries -- GSL,
+# OpenBLAS, libgomp, libc's own internals (stdio buffers, qsort's scratch)
+# -- allocate unseen and are never failed. Then, in order:
+# tests/alloc/selftest.sh shows the driver a test that leaks and crashes
+# on a failed allocation (tests/alloc/bad_test.c), which it must catch;
+# tools/lint_core --objects checks with nm -u that no object of the core
+# references an allocator (the compiled side of make lint's source check:
+# the list of names is kept in tools/lint_core alone); tests/alloc/run.sh
+# runs each test once cleanly to learn its count K of allocations, then
+# fails every k = 1..K in turn: for every test in one run
+# (SL_FAIL_ALLOC=each: the shim forks at each allocation and the child
+# fails it), and for the tests with K <= ALLOC_MAXK outside ALLOC_SKIP
+# also in a fresh process per k (SL_FAIL_ALLOC=k), the plain form that
+# shows the forked children judge the same. A run must pass or stop at its
+# checked allocation (ck_malloc of tests/c/check.h, exit 77 after freeing
+# what the test holds); a signal, another status, a failed check or a
+# block left allocated fails the target. SL_ALLOC_ALL=1 gives every test
+# fresh processes (hours: test_resample has K = 128548).
+ALLOC_BUILD := build-alloc
+ALLOC_SHIM  := $(ALLOC_BUILD)/alloc/failalloc.o
+ALLOC_WRAP  := -Wl,--wrap=malloc,--wrap=calloc,--wrap=realloc,--wrap=free,--wrap=aligned_alloc,--wrap=posix_memalign
+ALLOC_MAXK  ?= 3000
+ALLOC_SKIP  ?= test_enkf test_pf test_smooth
+check-alloc: | $(DEPS)
+	$(MAKE) BUILD=$(ALLOC_BUILD) OPT=-O1 CTEST_LINKDEPS=$(ALLOC_SHIM) \
+	  EXTRA_LDFLAGS="$(ALLOC_SHIM) $(ALLOC_WRAP)" ctests $(ALLOC_BUILD)/selftest/tests/test_bad
+	@bash tests/alloc/selftest.sh $(ALLOC_BUILD)/selftest
+	@bash tools/lint_core --objects $(ALLOC_BUILD)/libsluice.a
+	@echo "check-alloc: $(ALLOC_BUILD)/libsluice.a references no allocator (nm -u)"
+	@SL_ALLOC_MAXK=$(ALLOC_MAXK) SL_ALLOC_SKIP="$(ALLOC_SKIP)" bash tests/alloc/run.sh $(ALLOC_BUILD)
+
+# (inside the make that check-alloc starts, with BUILD=build-alloc)
+$(BUILD)/alloc/failalloc.o: tests/alloc/failalloc.c | $(DEPS)
+	@mkdir -p $(dir $@)
+	$(CC) $(SL_CFLAGS) -c $< -o $@
+# the driver's self-test: a test that mishandles failed allocations
+$(BUILD)/selftest/tests/test_bad: tests/alloc/bad_test.c $(CTEST_LINKDEPS) | $(DEPS)
+	@mkdir -p $(dir $@)
+	$(CC) $(SL_CFLAGS) $< -o $@ $(EXTRA_LDFLAGS)
 
 # Fuzzing (libFuzzer, clang): the core built again in build-fuzz/ with the
 # fuzzer's coverage and AddressSanitizer + UBSan (without OpenMP, so no
@@ -183,4 +230,4 @@ check-pkg: $(PKGFILE) | $(DEPS)
 	@bash tests/check_pkg.sh $(PKGFILE) "$(OCTRUN)"
 
 clean:
-	rm -rf build build-asan build-fuzz out m/+sluice/+kernel/*.mex m/sluice.* m/doc-cache sluice-*.tar.gz
+	rm -rf build build-asan build-alloc build-fuzz out m/+sluice/+kernel/*.mex m/sluice.* m/doc-cache sluice-*.tar.gz

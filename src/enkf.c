@@ -1331,11 +1331,6 @@ sl_status sl_enkf_analysis(const sl_enkf_config *cfg, size_t n, size_t N,
     size_t floored = 0, skipped = 0;
     int rdiag = 1;
 
-    if (info != NULL) {
-        info->floored = 0;
-        info->local_skipped = 0;
-        info->innov_dof = NAN;
-    }
     if ((st = check_config(cfg, r_full, err)) != SL_OK)
         return st;
     if (X == NULL || HX == NULL || y == NULL || R == NULL || work == NULL)
@@ -1361,6 +1356,13 @@ sl_status sl_enkf_analysis(const sl_enkf_config *cfg, size_t n, size_t N,
         return st;
     if ((st = check_R(method_get(cfg->method), m, R, r_full, &w, &rdiag, err)) != SL_OK)
         return st;
+    /* the arguments passed: only now is any output written (a refused call
+     * leaves X, work and info as they were) */
+    if (info != NULL) {
+        info->floored = 0;
+        info->local_skipped = 0;
+        info->innov_dof = NAN;
+    }
     st = method_get(cfg->method)->run(cfg, n, N, X, m, HX, y, R, rdiag, &w, &dof, &floored,
                                        &skipped, err);
     if (st == SL_OK && info != NULL) {

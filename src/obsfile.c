@@ -1153,6 +1153,18 @@ sl_status sl_obsfile_measure_with(const char *buf, size_t len,
     return st;
 }
 
+/* 1 when two measures describe the same table (every field a parse uses). */
+static int same_obs_size(const sl_obs_size *a, const sl_obs_size *b)
+{
+    return a->rows == b->rows && a->cols == b->cols && a->ntext == b->ntext &&
+           a->nnum == b->nnum && a->name_bytes == b->name_bytes &&
+           a->unit_bytes == b->unit_bytes && a->text_bytes == b->text_bytes &&
+           a->nmissing == b->nmissing && a->unsorted == b->unsorted &&
+           a->unsorted_line == b->unsorted_line && a->work_bytes == b->work_bytes &&
+           a->time_form == b->time_form && a->sep == b->sep &&
+           memcmp(a->col_text, b->col_text, sizeof a->col_text) == 0;
+}
+
 sl_status sl_obsfile_parse_with(const char *buf, size_t len,
                                 const sl_obs_read_opts *opts,
                                 const sl_obs_size *size, sl_obs_table *tab,
@@ -1177,6 +1189,15 @@ sl_status sl_obsfile_parse_with(const char *buf, size_t len,
     st = check_opts(o, err);
     if (st != SL_OK)
         return st;
+    /* the whole text is checked, and its sizes compared with the caller's,
+     * before anything is written: a refused parse leaves tab as it was */
+    memset(&sz, 0, sizeof sz);
+    st = run(buf != NULL ? buf : "", len, o, &sz, NULL, err);
+    if (st != SL_OK)
+        return st;
+    if (!same_obs_size(&sz, size))
+        return sl_fail(err, SL_EINVAL, "badsize",
+                       "the buffers do not match the measured table");
     sz = *size;
     return run(buf != NULL ? buf : "", len, o, &sz, tab, err);
 }
@@ -1543,6 +1564,18 @@ sl_status sl_obsfile_parse_series(const char *buf, size_t len,
     st = check_series_opts(o, err);
     if (st != SL_OK)
         return st;
+    /* the whole text is checked, and its sizes compared with the caller's,
+     * before anything is written: a refused parse leaves tab as it was */
+    memset(&sz, 0, sizeof sz);
+    st = run_series(buf != NULL ? buf : "", len, o, &sz, NULL, err);
+    if (st != SL_OK)
+        return st;
+    if (sz.rows != size->rows || sz.cols != size->cols || sz.name_bytes != size->name_bytes ||
+        sz.unit_bytes != size->unit_bytes || sz.nmissing != size->nmissing ||
+        sz.unsorted != size->unsorted || sz.work_bytes != size->work_bytes ||
+        sz.time_form != size->time_form || sz.sep != size->sep)
+        return sl_fail(err, SL_EINVAL, "badsize",
+                       "the buffers do not match the measured table");
     sz = *size;
     return run_series(buf != NULL ? buf : "", len, o, &sz, tab, err);
 }

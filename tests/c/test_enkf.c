@@ -19,7 +19,7 @@ static const char *const MNAME[] = {"enkf", "etkf", "ensrf", "eakf", "letkf"};
 
 static double *dalloc(size_t k)
 {
-    double *p = calloc(k ? k : 1, sizeof(double));
+    double *p = ck_calloc(k ? k : 1, sizeof(double));
     if (p == NULL)
         abort();
     return p;
@@ -51,11 +51,11 @@ static sl_status analyse(const sl_enkf_config *cfg, size_t n, size_t N,
                          sl_enkf_info *info, sl_error *err)
 {
     size_t bytes = sl_enkf_workspace(cfg, n, N, m, r_full);
-    void *work = malloc(bytes ? bytes : 1);
+    void *work = ck_malloc(bytes ? bytes : 1);
     sl_status st;
     sl_error_clear(err);
     st = sl_enkf_analysis(cfg, n, N, X, m, HX, y, R, r_full, work, info, err);
-    free(work);
+    ck_free(work);
     return st;
 }
 
@@ -124,13 +124,13 @@ static void make_problem(problem *p, size_t n, size_t N, size_t m, uint64_t seed
 
 static void free_problem(problem *p)
 {
-    free(p->X);
-    free(p->H);
-    free(p->HX);
-    free(p->y);
-    free(p->rd);
-    free(p->Rfull);
-    free(p->Rdiag);
+    ck_free(p->X);
+    ck_free(p->H);
+    ck_free(p->HX);
+    ck_free(p->y);
+    ck_free(p->rd);
+    ck_free(p->Rfull);
+    ck_free(p->Rdiag);
 }
 
 /* Ensemble mean (n) and covariance (n x n, divisor N - 1). */
@@ -214,9 +214,9 @@ static void kalman(size_t n, size_t m, const double *x, const double *P,
     gsl_matrix_free(S);
     gsl_vector_free(b);
     gsl_vector_free(z);
-    free(HP);
-    free(Kl);
-    free(d);
+    ck_free(HP);
+    ck_free(Kl);
+    ck_free(d);
 }
 
 static double max_abs_diff(const double *a, const double *b, size_t k)
@@ -301,13 +301,13 @@ static void test_kalman_equivalence(void)
                     CHECK(info.floored == 0, "no eigenvalue floored on a sound problem");
                 }
             }
-            free(xm);
-            free(P);
-            free(xa);
-            free(Pa);
-            free(am);
-            free(aP);
-            free(Xa);
+            ck_free(xm);
+            ck_free(P);
+            ck_free(xa);
+            ck_free(Pa);
+            ck_free(am);
+            ck_free(aP);
+            ck_free(Xa);
             free_problem(&p);
         }
     for (q = 0; q < 3; q++)
@@ -377,12 +377,12 @@ static void test_etkf_symmetric(void)
     CHECK(centred <= 1e-12, "ETKF perturbations not centred: %g", centred);
     CHECK(sym <= 1e-12, "ETKF transform not symmetric: %g", sym);
     CHECK(rowsum <= 1e-12, "ETKF transform does not keep the mean: %g", rowsum);
-    free(Xa);
-    free(xm);
-    free(P);
-    free(xa);
-    free(Pa);
-    free(W);
+    ck_free(Xa);
+    ck_free(xm);
+    ck_free(P);
+    ck_free(xa);
+    ck_free(Pa);
+    ck_free(W);
     free_problem(&p);
 }
 
@@ -482,8 +482,8 @@ static void test_etkf_forms(void)
                 emax = e / kappa;
             CHECK(e <= 8 * DBL_EPSILON * kappa, "floor 0.99, n=%lu N=%lu m=%lu: forms differ by %g",
                   (unsigned long)n, (unsigned long)N, (unsigned long)m, e);
-            free(Xa);
-            free(Xb);
+            ck_free(Xa);
+            ck_free(Xb);
             free_problem(&p);
         }
     printf("  etkf ensemble vs observation space: max diff %.1f eps kappa, innov_dof %.1f "
@@ -520,7 +520,7 @@ static void test_etkf_large(void)
     printf("  etkf N=20000, m=2 vs Kalman: %.1e\n", e);
     CHECK(e <= 1e-10, "N=20000 vs Kalman: %g", e);
     CHECK(fabs(info.innov_dof - dof) <= 1e-10 * dof, "innov_dof %g vs %g", info.innov_dof, dof);
-    free(Xa);
+    ck_free(Xa);
     free_problem(&p);
     /* several blocks of rows: the transform depends on HX alone (Hunt et
      * al. 2007), so rows analysed 50 at a time (one block each) are the
@@ -551,8 +551,8 @@ static void test_etkf_large(void)
         }
         printf("  etkf N=20000, n=150 in blocks vs 50 rows at a time: %.1e\n", e2 / scale);
         CHECK(e2 <= 1e-13 * scale, "blocks of rows differ by %g", e2);
-        free(Xa);
-        free(Xb);
+        ck_free(Xa);
+        ck_free(Xb);
         free_problem(&p);
     }
 }
@@ -628,14 +628,14 @@ static void test_stochastic_replay(void)
     cfg.seed++;
     analyse_problem(&cfg, &p, NULL, Xb, &info, &err);
     CHECK(memcmp(Xa, Xb, n * N * sizeof(double)) != 0, "the seed changes the perturbations");
-    free(xm);
-    free(P);
-    free(xa);
-    free(Pa);
-    free(K);
-    free(E);
-    free(Xa);
-    free(Xb);
+    ck_free(xm);
+    ck_free(P);
+    ck_free(xa);
+    ck_free(Pa);
+    ck_free(K);
+    ck_free(E);
+    ck_free(Xa);
+    ck_free(Xb);
     free_problem(&p);
 }
 
@@ -683,7 +683,7 @@ static void test_stochastic_rate(void)
                 printf("  enkf N=1e5: |cov - (I-KH)P| / |(I-KH)P| = %.2e\n", sqrt(e / sc));
                 CHECK(sqrt(e / sc) < 0.03, "stochastic EnKF covariance %g", sqrt(e / sc));
             }
-            free(Xa);
+            ck_free(Xa);
             free_problem(&p);
         }
         rms[t] = sqrt(se / REP);
@@ -759,12 +759,12 @@ static void test_inflation(int method)
     printf("  %-5s inflation 1.1: vs inflated prior %.1e, |spread ratio - 1.1| %.1e\n",
            MNAME[method], e, ratio);
     CHECK(ratio <= 1e-12, "%s: spread ratio off 1.1 by %g", MNAME[method], ratio);
-    free(Xa);
-    free(Xb);
-    free(xm);
-    free(P);
-    free(am);
-    free(aP);
+    ck_free(Xa);
+    ck_free(Xb);
+    ck_free(xm);
+    ck_free(P);
+    ck_free(am);
+    ck_free(aP);
     free_problem(&p);
     free_problem(&q);
 }
@@ -853,10 +853,10 @@ static void test_relaxation(int method)
            MNAME[method], e1, e2);
     CHECK(e1 <= 1e-12, "%s RTPP: %g", MNAME[method], e1);
     CHECK(e2 <= 1e-12, "%s RTPS: %g", MNAME[method], e2);
-    free(X0);
-    free(Xr);
-    free(xf);
-    free(xa);
+    ck_free(X0);
+    ck_free(Xr);
+    ck_free(xf);
+    ck_free(xa);
     free_problem(&p);
 }
 
@@ -909,8 +909,8 @@ static void serial_reference(size_t n, size_t N, double *X, size_t m,
     }
     for (j = 0; j < N; j++)
         memcpy(X + j * n, Z + j * v, n * sizeof(double));
-    free(Z);
-    free(yk);
+    ck_free(Z);
+    ck_free(yk);
 }
 
 static void set_loc(sl_localization *loc, const double *spos, const double *opos,
@@ -1058,9 +1058,9 @@ static void test_localization(void)
         gsl_vector_free(b);
         gsl_vector_free(z);
     }
-    free(Xa);
-    free(Xb);
-    free(Xr);
+    ck_free(Xa);
+    ck_free(Xb);
+    ck_free(Xr);
     free_problem(&p);
 }
 
@@ -1097,7 +1097,7 @@ static void test_innov_dof(void)
             CHECK(fabs(info.innov_dof - dof) <= 1e-10 * dof, "%s m=%lu: innov_dof %.17g vs %.17g",
                   MNAME[methods[q]], (unsigned long)m, info.innov_dof, dof);
         }
-        free(Xa);
+        ck_free(Xa);
         free_problem(&p);
     }
 }
@@ -1128,8 +1128,8 @@ static void test_letkf_dispatch(void)
     CHECK(e <= 1e-10, "LETKF with everything in reach vs ETKF: %g", e);
     CHECK(fabs(ie.innov_dof - il.innov_dof) <= 1e-10 * ie.innov_dof, "innov_dof %g vs %g",
           ie.innov_dof, il.innov_dof);
-    free(Xa);
-    free(Xb);
+    ck_free(Xa);
+    ck_free(Xb);
     free_problem(&p);
 }
 
@@ -1170,7 +1170,7 @@ static void test_floor(void)
         if (!isfinite(Xa[i]))
             break;
     CHECK(i == n * N, "non-finite analysis with floor 0.5");
-    free(Xa);
+    ck_free(Xa);
     free_problem(&p);
 }
 
@@ -1208,8 +1208,8 @@ static void test_threads(void)
         CHECK(memcmp(Xa, Xb, n * N * sizeof(double)) == 0, "%s depends on the threads",
               MNAME[method]);
     }
-    free(Xa);
-    free(Xb);
+    ck_free(Xa);
+    ck_free(Xb);
     free_problem(&p);
 }
 
@@ -1348,10 +1348,10 @@ static void test_poll(void)
               "letkf stopped by its poll: %s", err.reason);
         CHECK(memcmp(Xb, p.X, n * N * sizeof(double)) == 0,
               "a stopped LETKF analysis left the ensemble changed");
-        free(spos);
+        ck_free(spos);
     }
-    free(Xa);
-    free(Xb);
+    ck_free(Xa);
+    ck_free(Xb);
     free_problem(&p);
 }
 
@@ -1375,7 +1375,7 @@ static void expect_fail(const sl_enkf_config *cfg, const double *X,
     CHECK(err.message[0] != '\0', "%s: no message", what);
     if (X != NULL)
         CHECK(memcmp(Xc, X, n * N * sizeof(double)) == 0, "%s: X changed", what);
-    free(Xc);
+    ck_free(Xc);
 }
 
 static void test_errors(void)
@@ -1447,19 +1447,19 @@ static void test_errors(void)
     bad = dup(p.X, n * N);
     bad[7] = NAN;
     expect_fail(&cfg, bad, p.HX, p.y, p.rd, 0, n, N, m, SL_EINVAL, "nonfinite", "X NaN");
-    free(bad);
+    ck_free(bad);
     bad = dup(p.HX, m * N);
     bad[3] = -HUGE_VAL;
     expect_fail(&cfg, p.X, bad, p.y, p.rd, 0, n, N, m, SL_EINVAL, "nonfinite", "HX -Inf");
-    free(bad);
+    ck_free(bad);
     bad = dup(p.y, m);
     bad[1] = NAN;
     expect_fail(&cfg, p.X, p.HX, bad, p.rd, 0, n, N, m, SL_EINVAL, "nonfinite", "y NaN");
-    free(bad);
+    ck_free(bad);
     bad = dup(p.rd, m);
     bad[0] = HUGE_VAL;
     expect_fail(&cfg, p.X, p.HX, p.y, bad, 0, n, N, m, SL_EINVAL, "nonfinite", "R Inf");
-    free(bad);
+    ck_free(bad);
 
     /* notpd: a variance <= 0, a full R not positive definite, not
      * symmetric */
@@ -1472,7 +1472,7 @@ static void test_errors(void)
         expect_fail(&cfg, p.X, p.HX, p.y, bad, 0, n, N, m, SL_ENUMERIC, "notpd",
                     "zero variance");
     }
-    free(bad);
+    ck_free(bad);
     Rf[0] = 1.0;
     Rf[1] = Rf[2] = 2.0;
     Rf[3] = 1.0; /* eigenvalues 3 and -1 */
@@ -1503,8 +1503,8 @@ static void test_errors(void)
                   analyse(&cfg, n, N, Xb, m, p.HX, p.y, p.rd, 0, &info, &err) == SL_OK &&
                   memcmp(Xa, Xb, n * N * sizeof(double)) == 0,
               "%s: a diagonal full R is the same as the variances", MNAME[q]);
-        free(Xa);
-        free(Xb);
+        ck_free(Xa);
+        ck_free(Xb);
     }
 
     /* nonfinite analysis: an ensemble near the largest double overflows
@@ -1524,8 +1524,8 @@ static void test_errors(void)
                 cfg.loc = &loc;
             expect_fail(&cfg, Xh, Hh, y0, r1, 0, n, N, m, SL_ENUMERIC, "nonfinite", MNAME[q]);
         }
-        free(Xh);
-        free(Hh);
+        ck_free(Xh);
+        ck_free(Hh);
     }
 
     /* badlocalization */

@@ -162,7 +162,7 @@ static void test_decay(void)
           "sizes %lu %lu %lu", (unsigned long)model.n_state,
           (unsigned long)model.n_param, (unsigned long)model.n_forcing);
     CHECK(model.dt == 0.1, "default step %g", model.dt);
-    work = malloc(model.work * sizeof(double));
+    work = ck_malloc(model.work * sizeof(double));
     if (work == NULL) {
         CHECK(0, "out of memory");
         return;
@@ -191,7 +191,7 @@ static void test_decay(void)
     /* F and R change only at floods */
     CHECK(X[F_] == 0.31 && X[R_] == 0.77, "F, R moved: %g %g", X[F_], X[R_]);
     CHECK(X[NX + F_] == 0 && X[NX + R_] == 0, "F, R moved: %g %g", X[NX + F_], X[NX + R_]);
-    free(work);
+    ck_free(work);
 }
 
 /* 2. The damage formula and the levee rule (eqs. 4-6) at hand-computed
@@ -332,7 +332,7 @@ static void test_reference(void)
     if (st != SL_OK)
         return;
     CHECK(dm.method == &sl_integrator_dopri5, "default integrator %s", dm.method->name);
-    work = malloc(model.work * sizeof(double));
+    work = ck_malloc(model.work * sizeof(double));
     if (work == NULL) {
         CHECK(0, "out of memory");
         return;
@@ -371,7 +371,7 @@ static void test_reference(void)
     /* the reference runs passed through every branch of the levee rule */
     CHECK(raised > 0 && held > 0 && plain > 0, "branches: raised %lu, held %lu, plain %lu",
           (unsigned long)raised, (unsigned long)held, (unsigned long)plain);
-    free(work);
+    ck_free(work);
 }
 
 /* 4. The reported regimes over an ensemble of flood series. Each
@@ -405,7 +405,7 @@ static void test_regimes(void)
         if (st != SL_OK)
             break;
         if (work == NULL)
-            work = malloc(model.work * sizeof(double));
+            work = ck_malloc(model.work * sizeof(double));
         if (work == NULL) {
             CHECK(0, "out of memory");
             return;
@@ -509,7 +509,7 @@ static void test_regimes(void)
         CHECK(md[2] > 10 * se[2], "D at t = 50: no levees %g, levees %g (diff %g, se %g)",
               mean_d[0], mean_d[1], md[2], se[2]);
     }
-    free(work);
+    ck_free(work);
 }
 
 /* 5. Members whose settlement is almost wiped out (G near 1e-7, where
@@ -551,7 +551,7 @@ static sl_status run_tiny(const sl_events *ev, const sl_tolerance *tol, double *
     st = sl_def_model_init(&model, &dm, &counted, 0, NULL, 0, tol, ev, err);
     if (st != SL_OK)
         return st;
-    work = malloc(model.work * sizeof(double));
+    work = ck_malloc(model.work * sizeof(double));
     if (work == NULL)
         return sl_fail(err, SL_ENOMEM, "nomem", "out of memory");
     fill_defaults(X, P, NT);
@@ -569,7 +569,7 @@ static sl_status run_tiny(const sl_events *ev, const sl_tolerance *tol, double *
                 Gafter[j] = X[j * NX + G_];
     }
     *evals = rhs_count;
-    free(work);
+    ck_free(work);
     return st;
 }
 

@@ -184,7 +184,7 @@ static void test_reference(const sl_model_def *d)
     if (!st_ok)
         return;
     CHECK(model.discrete == 1 && model.dt == 1.0 && model.n_state == NS, "engine model fields");
-    wk = malloc(model.work * sizeof *wk);
+    wk = ck_malloc(model.work * sizeof *wk);
     CHECK(wk != NULL, "work");
     if (wk == NULL)
         return;
@@ -208,7 +208,7 @@ static void test_reference(const sl_model_def *d)
     CHECK(st_ok, "engine steps return SL_OK");
     CHECK(same, "engine (block path) == per-member map on the reference case");
     CHECK(maxdev_engine <= 1e-9, "engine: largest deviation %.3g mm/d", maxdev_engine);
-    free(wk);
+    ck_free(wk);
 }
 
 /* 1000 members, random parameters and rain: the block path, in several
@@ -262,14 +262,14 @@ static void test_block(const sl_model_def *d)
     if (!st_ok)
         return;
     wb = d->block_work(NS, N);
-    wk_block = malloc(wb * sizeof(double));
-    wk_group = malloc(d->block_work(NS, 663) * sizeof(double));
-    wk_engine = malloc(model.work * sizeof(double));
+    wk_block = ck_malloc(wb * sizeof(double));
+    wk_group = ck_malloc(d->block_work(NS, 663) * sizeof(double));
+    wk_engine = ck_malloc(model.work * sizeof(double));
     CHECK(wk_block != NULL && wk_group != NULL && wk_engine != NULL, "work");
     if (wk_block == NULL || wk_group == NULL || wk_engine == NULL) {
-        free(wk_block);
-        free(wk_group);
-        free(wk_engine);
+        ck_free(wk_block);
+        ck_free(wk_group);
+        ck_free(wk_engine);
         return;
     }
 
@@ -325,9 +325,9 @@ static void test_block(const sl_model_def *d)
     CHECK(bal, "water balance every day, every member (worst gap %.3g mm)", worst);
     CHECK(qpos, "Q >= 0, S >= 0, R >= 0, all finite");
     CHECK(emptied > 0, "the exchange emptied a routing store (R = 0) on some days");
-    free(wk_block);
-    free(wk_group);
-    free(wk_engine);
+    ck_free(wk_block);
+    ck_free(wk_group);
+    ck_free(wk_engine);
 }
 
 /* A long dry spell after a wet month: the production store only falls, the

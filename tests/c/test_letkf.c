@@ -152,12 +152,12 @@ static void make_problem(problem *p, int geom, size_t n, size_t N, size_t m,
 static sl_status run(problem *p, sl_enkf_info *info, sl_error *err)
 {
     size_t ws = sl_letkf_workspace(&p->cfg, p->n, p->N, p->m);
-    void *work = malloc(ws);
+    void *work = ck_malloc(ws);
     sl_status st;
     memset(info, 0, sizeof *info);
     sl_error_clear(err);
     st = sl_letkf_run(&p->cfg, p->n, p->N, p->X, p->m, p->HX, p->y, p->r, work, info, err);
-    free(work);
+    ck_free(work);
     return st;
 }
 
@@ -829,8 +829,8 @@ static void test_poll_batches(void)
 {
     const size_t n = 200, N = 120, m = 40;
     const double per = floor(SL_ENKF_POLL_WORK / ((double)N * N * N));
-    double *X = malloc(n * N * sizeof(double)), *X0 = malloc(n * N * sizeof(double));
-    double *HX = malloc(m * N * sizeof(double)), y[40], r[40], spos[200], opos[40], oc[40];
+    double *X = ck_malloc(n * N * sizeof(double)), *X0 = ck_malloc(n * N * sizeof(double));
+    double *HX = ck_malloc(m * N * sizeof(double)), y[40], r[40], spos[200], opos[40], oc[40];
     sl_localization loc;
     sl_enkf_config cfg;
     sl_enkf_info info;
@@ -841,9 +841,9 @@ static void test_poll_batches(void)
     void *work;
     if (check_light_()) {
         printf("SKIP test_letkf: the batches of 120-member analyses under the memory checker\n");
-        free(X);
-        free(X0);
-        free(HX);
+        ck_free(X);
+        ck_free(X0);
+        ck_free(HX);
         return;
     }
     sl_stream_init(&s, 31, 0, 0, SL_PURPOSE_USER);
@@ -888,11 +888,11 @@ static void test_poll_batches(void)
         cfg.poll_ctx = &lg;
         memcpy(X, X0, n * N * sizeof(double));
         ws = sl_letkf_workspace(&cfg, n, N, m);
-        work = malloc(ws);
+        work = ck_malloc(ws);
         sl_error_clear(&err);
         CHECK(sl_letkf_run(&cfg, n, N, X, m, HX, y, r, work, &info, &err) == SL_OK, "%s",
               err.message);
-        free(work);
+        ck_free(work);
         count_rows(&lg);
         CHECK(lg.calls == (n + batch - 1) / batch, "%d thread(s): %lu polls for batches of %lu",
               t, (unsigned long)lg.calls, (unsigned long)batch);
@@ -903,9 +903,9 @@ static void test_poll_batches(void)
         printf("  letkf batches, %d thread(s): %lu polls, at most %lu rows between two\n", t,
                (unsigned long)lg.calls, (unsigned long)lg.most_between);
     }
-    free(X);
-    free(X0);
-    free(HX);
+    ck_free(X);
+    ck_free(X0);
+    ck_free(HX);
 }
 
 int main(void)

@@ -17,13 +17,13 @@ typedef struct {
 
 static void release(parsed *p)
 {
-    free(p->t.names);
-    free(p->t.name_at);
-    free(p->t.is_text);
-    free(p->t.slot);
-    free(p->t.num);
-    free(p->t.text);
-    free(p->t.text_at);
+    ck_free(p->t.names);
+    ck_free(p->t.name_at);
+    ck_free(p->t.is_text);
+    ck_free(p->t.slot);
+    ck_free(p->t.num);
+    ck_free(p->t.text);
+    ck_free(p->t.text_at);
     memset(&p->t, 0, sizeof p->t);
 }
 
@@ -34,13 +34,13 @@ static sl_status parse_len(const char *text, size_t len, parsed *p)
     p->st = sl_obsfile_measure(text, len, &p->sz, &p->err);
     if (p->st != SL_OK)
         return p->st;
-    p->t.names = malloc(p->sz.name_bytes + 1);
-    p->t.name_at = malloc((p->sz.cols + 1) * sizeof(size_t));
-    p->t.is_text = malloc((p->sz.cols + 1) * sizeof(int));
-    p->t.slot = malloc((p->sz.cols + 1) * sizeof(size_t));
-    p->t.num = malloc((p->sz.rows * p->sz.nnum + 1) * sizeof(double));
-    p->t.text = malloc(p->sz.text_bytes + 1);
-    p->t.text_at = malloc((p->sz.rows * p->sz.ntext + 1) * sizeof(size_t));
+    p->t.names = ck_malloc(p->sz.name_bytes + 1);
+    p->t.name_at = ck_malloc((p->sz.cols + 1) * sizeof(size_t));
+    p->t.is_text = ck_malloc((p->sz.cols + 1) * sizeof(int));
+    p->t.slot = ck_malloc((p->sz.cols + 1) * sizeof(size_t));
+    p->t.num = ck_malloc((p->sz.rows * p->sz.nnum + 1) * sizeof(double));
+    p->t.text = ck_malloc(p->sz.text_bytes + 1);
+    p->t.text_at = ck_malloc((p->sz.rows * p->sz.ntext + 1) * sizeof(size_t));
     p->st = sl_obsfile_parse(text, len, &p->sz, &p->t, &p->err);
     return p->st;
 }
@@ -260,7 +260,7 @@ int main(void)
         cols[5].name = "limit"; cols[5].num = ex; cols[5].text = NULL;
         CHECK(sl_obsfile_format(R, 6, cols, NULL, 0, &need, &err) == SL_OK,
               "format measure: %s", err.message);
-        buf = malloc(need);
+        buf = ck_malloc(need);
         CHECK(sl_obsfile_format(R, 6, cols, buf, need - 1, &need2, &err) != SL_OK &&
               strcmp(err.reason, "bufsize") == 0, "too small a buffer refused");
         CHECK(sl_obsfile_format(R, 6, cols, buf, need, &need2, &err) == SL_OK &&
@@ -330,7 +330,7 @@ int main(void)
                 if (buf[i] == '\n')
                     cut++;
             len = i;
-            m = malloc(len + 64);
+            m = ck_malloc(len + 64);
             for (i = 0; i < TRIALS; i++) {
                 size_t n = len, k, edits = 1 + sl_stream_u64(&s) % 4;
                 memcpy(m, buf, len);
@@ -368,14 +368,14 @@ int main(void)
                 }
                 release(&p);
             }
-            free(m);
+            ck_free(m);
             CHECK(bad == 0, "damaged text: %zu errors without reason or line", bad);
             CHECK(nok + nerr == TRIALS && nok > 0 && nerr > 0,
                   "damaged text: %zu ok, %zu errors", nok, nerr);
             printf("damaged text: %zu trials, %zu parsed, %zu refused\n",
                    (size_t)TRIALS, nok, nerr);
         }
-        free(buf);
+        ck_free(buf);
     }
     CHECK_DONE("test_obsfile");
 }

@@ -18,18 +18,18 @@ typedef struct {
 
 static void release(parsed *p)
 {
-    free(p->t.names);
-    free(p->t.name_at);
-    free(p->t.is_text);
-    free(p->t.slot);
-    free(p->t.num);
-    free(p->t.text);
-    free(p->t.text_at);
-    free(p->t.units);
-    free(p->t.unit_at);
-    free(p->t.text_code);
-    free(p->t.ncodes);
-    free(p->t.work);
+    ck_free(p->t.names);
+    ck_free(p->t.name_at);
+    ck_free(p->t.is_text);
+    ck_free(p->t.slot);
+    ck_free(p->t.num);
+    ck_free(p->t.text);
+    ck_free(p->t.text_at);
+    ck_free(p->t.units);
+    ck_free(p->t.unit_at);
+    ck_free(p->t.text_code);
+    ck_free(p->t.ncodes);
+    ck_free(p->t.work);
     memset(&p->t, 0, sizeof p->t);
 }
 
@@ -41,18 +41,18 @@ static sl_status parse_with(const char *text, const sl_obs_read_opts *o, parsed 
     p->st = sl_obsfile_measure_with(text, len, o, &p->sz, &p->err);
     if (p->st != SL_OK)
         return p->st;
-    p->t.names = malloc(p->sz.name_bytes + 1);
-    p->t.name_at = malloc((p->sz.cols + 1) * sizeof(size_t));
-    p->t.is_text = malloc((p->sz.cols + 1) * sizeof(int));
-    p->t.slot = malloc((p->sz.cols + 1) * sizeof(size_t));
-    p->t.num = malloc((p->sz.rows * p->sz.nnum + 1) * sizeof(double));
-    p->t.text = malloc(p->sz.text_bytes + 1);
-    p->t.text_at = malloc((p->sz.rows * p->sz.ntext + 1) * sizeof(size_t));
-    p->t.units = malloc(p->sz.unit_bytes + 1);
-    p->t.unit_at = malloc((p->sz.cols + 1) * sizeof(size_t));
-    p->t.text_code = malloc((p->sz.rows * p->sz.ntext + 1) * sizeof(size_t));
-    p->t.ncodes = malloc((p->sz.ntext + 1) * sizeof(size_t));
-    p->t.work = malloc(p->sz.work_bytes + 1);
+    p->t.names = ck_malloc(p->sz.name_bytes + 1);
+    p->t.name_at = ck_malloc((p->sz.cols + 1) * sizeof(size_t));
+    p->t.is_text = ck_malloc((p->sz.cols + 1) * sizeof(int));
+    p->t.slot = ck_malloc((p->sz.cols + 1) * sizeof(size_t));
+    p->t.num = ck_malloc((p->sz.rows * p->sz.nnum + 1) * sizeof(double));
+    p->t.text = ck_malloc(p->sz.text_bytes + 1);
+    p->t.text_at = ck_malloc((p->sz.rows * p->sz.ntext + 1) * sizeof(size_t));
+    p->t.units = ck_malloc(p->sz.unit_bytes + 1);
+    p->t.unit_at = ck_malloc((p->sz.cols + 1) * sizeof(size_t));
+    p->t.text_code = ck_malloc((p->sz.rows * p->sz.ntext + 1) * sizeof(size_t));
+    p->t.ncodes = ck_malloc((p->sz.ntext + 1) * sizeof(size_t));
+    p->t.work = ck_malloc(p->sz.work_bytes + 1);
     p->st = sl_obsfile_parse_with(text, len, o, &p->sz, &p->t, &p->err);
     return p->st;
 }
@@ -245,7 +245,7 @@ int main(void)
     /* many different texts: codes past the table stay right */
     {
         enum { R = 6000 };
-        char *t = malloc(R * 40 + 64), *q = t;
+        char *t = ck_malloc(R * 40 + 64), *q = t;
         size_t bad = 0, i;
         q += sprintf(q, "time,variable,value,sigma\n");
         for (i = 0; i < R; i++)
@@ -266,7 +266,7 @@ int main(void)
         }
         CHECK(bad == 0, "many texts: %zu wrong", bad);
         release(&p);
-        free(t);
+        ck_free(t);
     }
 
     /* dates on the model's axis: days since the origin, or years of 365.25
@@ -314,7 +314,7 @@ int main(void)
     release(&p);
     {
         enum { R = 3001 };
-        char *t = malloc(R * 32 + 64), *q = t;
+        char *t = ck_malloc(R * 32 + 64), *q = t;
         size_t i, bad = 0;
         q += sprintf(q, "time,variable,value,sigma,k\n");
         for (i = 0; i < R; i++)
@@ -328,7 +328,7 @@ int main(void)
         }
         CHECK(bad == 0, "long sort: %zu rows out of place", bad);
         release(&p);
-        free(t);
+        ck_free(t);
     }
 
     /* refusals, each with its line and column */

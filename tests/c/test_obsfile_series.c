@@ -18,14 +18,14 @@ typedef struct {
 
 static void release(parsed *p)
 {
-    free(p->t.names);
-    free(p->t.name_at);
-    free(p->t.units);
-    free(p->t.unit_at);
-    free(p->t.time);
-    free(p->t.values);
-    free(p->t.filled);
-    free(p->t.work);
+    ck_free(p->t.names);
+    ck_free(p->t.name_at);
+    ck_free(p->t.units);
+    ck_free(p->t.unit_at);
+    ck_free(p->t.time);
+    ck_free(p->t.values);
+    ck_free(p->t.filled);
+    ck_free(p->t.work);
     memset(&p->t, 0, sizeof p->t);
 }
 
@@ -37,14 +37,14 @@ static sl_status parse_with(const char *text, size_t len, const sl_series_read_o
     p->st = sl_obsfile_measure_series(text, len, o, &p->sz, &p->err);
     if (p->st != SL_OK)
         return p->st;
-    p->t.names = malloc(p->sz.name_bytes + 1);
-    p->t.name_at = malloc((p->sz.cols + 1) * sizeof(size_t));
-    p->t.units = malloc(p->sz.unit_bytes + 1);
-    p->t.unit_at = malloc((p->sz.cols + 1) * sizeof(size_t));
-    p->t.time = malloc((p->sz.rows + 1) * sizeof(double));
-    p->t.values = malloc((p->sz.rows * p->sz.cols + 1) * sizeof(double));
-    p->t.filled = malloc((p->sz.cols + 1) * sizeof(size_t));
-    p->t.work = malloc(p->sz.work_bytes + 1);
+    p->t.names = ck_malloc(p->sz.name_bytes + 1);
+    p->t.name_at = ck_malloc((p->sz.cols + 1) * sizeof(size_t));
+    p->t.units = ck_malloc(p->sz.unit_bytes + 1);
+    p->t.unit_at = ck_malloc((p->sz.cols + 1) * sizeof(size_t));
+    p->t.time = ck_malloc((p->sz.rows + 1) * sizeof(double));
+    p->t.values = ck_malloc((p->sz.rows * p->sz.cols + 1) * sizeof(double));
+    p->t.filled = ck_malloc((p->sz.cols + 1) * sizeof(size_t));
+    p->t.work = ck_malloc(p->sz.work_bytes + 1);
     p->st = sl_obsfile_parse_series(text, len, o, &p->sz, &p->t, &p->err);
     return p->st;
 }
@@ -280,7 +280,7 @@ static void round_trip(const sl_series_data *d, const sl_series_read_opts *o, co
     int ok;
     CHECK(sl_obsfile_format_series(d, NULL, 0, &need, &err) == SL_OK, "%s: measure: %s", what,
           err.message);
-    buf = malloc(need + 1);
+    buf = ck_malloc(need + 1);
     CHECK(sl_obsfile_format_series(d, buf, need - 1, &need, &err) == SL_EINVAL &&
               strcmp(err.reason, "bufsize") == 0,
           "%s: a short buffer", what);
@@ -296,7 +296,7 @@ static void round_trip(const sl_series_data *d, const sl_series_read_opts *o, co
              (isnan(d->values[k]) && p.t.values[k] == 0);
     CHECK(ok, "%s: read back to the bit (%s)", what, p.err.message);
     release(&p);
-    free(buf);
+    ck_free(buf);
 }
 
 static void writer(void)

@@ -27,30 +27,30 @@ typedef struct {
 
 static void run_free(run_buf *r)
 {
-    free(r->out.mean);
-    free(r->out.quant);
-    free(r->out.ess);
-    free(r->out.logz);
-    free(r->out.resampled);
-    free(r->out.degenerate);
-    free(r->out.skipped);
-    free(r->out.nonfinite);
-    free(r->out.temper_steps);
-    free(r->out.loglik_evals);
-    free(r->out.hist_X);
-    free(r->out.hist_P);
-    free(r->out.hist_w);
-    free(r->out.hist_a);
-    free(r->X);
-    free(r->P);
-    free(r->w);
-    free(r->work);
+    ck_free(r->out.mean);
+    ck_free(r->out.quant);
+    ck_free(r->out.ess);
+    ck_free(r->out.logz);
+    ck_free(r->out.resampled);
+    ck_free(r->out.degenerate);
+    ck_free(r->out.skipped);
+    ck_free(r->out.nonfinite);
+    ck_free(r->out.temper_steps);
+    ck_free(r->out.loglik_evals);
+    ck_free(r->out.hist_X);
+    ck_free(r->out.hist_P);
+    ck_free(r->out.hist_w);
+    ck_free(r->out.hist_a);
+    ck_free(r->X);
+    ck_free(r->P);
+    ck_free(r->w);
+    ck_free(r->work);
     memset(r, 0, sizeof *r);
 }
 
 static void *zalloc(size_t count, size_t size)
 {
-    return calloc(count ? count : 1, size);
+    return ck_calloc(count ? count : 1, size);
 }
 
 /* Allocate the outputs for cfg (the model has no parameters), copy the
@@ -83,7 +83,7 @@ static sl_status run(const sl_pf_config *cfg, const double *X0, run_buf *r,
     r->X = zalloc(n * N, sizeof(double));
     r->P = zalloc(1, sizeof(double));
     r->w = zalloc(N, sizeof(double));
-    r->work = bytes ? malloc(bytes) : NULL;
+    r->work = bytes ? ck_malloc(bytes) : NULL;
     if (!r->out.mean || !r->out.quant || !r->out.ess || !r->out.logz ||
         !r->out.resampled || !r->out.degenerate || !r->out.skipped ||
         !r->out.nonfinite || !r->out.temper_steps || !r->out.loglik_evals || !r->X || !r->P || !r->w || !r->work ||
@@ -159,7 +159,7 @@ static void check_worked_example(void)
     const double hand_logz = -1.5 * log(TWO_PI) - 0.5 * log(21.0) - 13.0 / 14.0;
     const double probs[3] = {0.1, 0.5, 0.9};
     double A = 1.0, L = 1.0, m = 0.0, Pv = 1.0, ll = 0.0, kf_mean[T], kf_var[T];
-    double *X0 = malloc(N * sizeof *X0);
+    double *X0 = ck_malloc(N * sizeof *X0);
     sl_linear lin = {1, 0, &A, NULL, NULL, &L};
     sl_model md;
     sl_pf_config cfg;
@@ -261,7 +261,7 @@ static void check_worked_example(void)
     CHECK(st == SL_OK && r.out.temper_steps[0] == 1 && r.out.temper_steps[2] == 1,
           "max_steps 1 is no tempering");
     run_free(&r);
-    free(X0);
+    ck_free(X0);
 }
 
 /* ------------------------------------------------------- determinism */
@@ -354,8 +354,8 @@ static sl_status keep_snapshot(void *ctx, const sl_pf_snapshot *sn, sl_error *er
         return SL_OK;
     k->snap.head = sn->head;
     k->bytes = (size_t)sn->head.work_bytes;
-    k->snap.w = malloc(k->N * sizeof(double));
-    k->snap.work = malloc(k->bytes);
+    k->snap.w = ck_malloc(k->N * sizeof(double));
+    k->snap.work = ck_malloc(k->bytes);
     if (k->snap.w == NULL || k->snap.work == NULL)
         return sl_fail(err, SL_ENOMEM, "nomemory", "test snapshot");
     memcpy(k->snap.w, sn->w, k->N * sizeof(double));
@@ -461,8 +461,8 @@ static void check_snapshot(void)
         cfg.resume = NULL;
     }
     run_free(&ref);
-    free(keep.snap.w);
-    free(keep.snap.work);
+    ck_free(keep.snap.w);
+    ck_free(keep.snap.work);
     /* a callback that fails ends the run; no interval is refused */
     cfg.checkpoint = keep_snapshot;
     keep.fail = 1;
@@ -486,7 +486,7 @@ static void check_determinism(void)
     const double snoise[2] = {0.05, 0.02};
     const int noise[1] = {SL_FORCING_MULTIPLICATIVE};
     const double fsd[1] = {0.2}, fphi[1] = {0.6};
-    double ft[NT], fv[NT], *X0 = malloc(2 * N * sizeof *X0);
+    double ft[NT], fv[NT], *X0 = ck_malloc(2 * N * sizeof *X0);
     sl_model md;
     sl_pf_config cfg;
     obs_table o;
@@ -577,7 +577,7 @@ static void check_determinism(void)
     run_free(&r3);
     run_free(&again);
     run_free(&other);
-    free(X0);
+    ck_free(X0);
 }
 
 /* ------------------------------------------------------------ checks */
@@ -1044,7 +1044,7 @@ static void check_operators(void)
     const double yv[T] = {1.0, 2.0, 0.0}, y2[T] = {2.0, 4.0, 0.0};
     const double times[T] = {1.0, 2.0, 3.0};
     double A = 1.0, L = 1.0, H = 2.0;
-    double *X0 = malloc(N * sizeof *X0);
+    double *X0 = ck_malloc(N * sizeof *X0);
     sl_linear lin = {1, 0, &A, NULL, NULL, &L};
     sl_model md;
     sl_pf_config cfg;
@@ -1121,7 +1121,7 @@ static void check_operators(void)
           "a non-finite operator entry");
     run_free(&r1);
     run_free(&r2);
-    free(X0);
+    ck_free(X0);
 }
 
 /* The summary of the derived quantities (derived_summary): a linear row
@@ -1137,7 +1137,7 @@ static void check_derived_summary(void)
     const double y2[T] = {2.0, 4.0, 0.0}, times[T] = {1.0, 2.0, 3.0};
     const double probs[NQ] = {0.05, 0.5, 0.95};
     double A = 1.0, L = 1.0, H = 2.0;
-    double *X0 = malloc(N * sizeof *X0);
+    double *X0 = ck_malloc(N * sizeof *X0);
     double dmean[2 * T], dquant[2 * NQ * T];
     sl_linear lin = {1, 0, &A, NULL, NULL, &L};
     sl_model md;
@@ -1190,7 +1190,7 @@ static void check_derived_summary(void)
         r.X = zalloc(N, sizeof(double));
         r.P = zalloc(1, sizeof(double));
         r.w = zalloc(N, sizeof(double));
-        r.work = malloc(bytes);
+        r.work = ck_malloc(bytes);
         memcpy(r.X, X0, N * sizeof(double));
         st = sl_pf_run(&cfg, r.X, r.P, r.w, r.work, &r.out, &err);
         CHECK(st == SL_OK, "derived summary run: %s", st ? err.message : "");
@@ -1216,7 +1216,7 @@ static void check_derived_summary(void)
         r.out.dmean = r.out.dquant = NULL;
         run_free(&r);
     }
-    free(X0);
+    ck_free(X0);
 }
 
 /* Fixed-lag smoothing over the whole run of the worked example: the
@@ -1230,7 +1230,7 @@ static void check_lag(void)
     enum { N = 40000, T = 3 };
     const double yv[T] = {1.0, 2.0, 0.0}, times[T] = {1.0, 2.0, 3.0};
     const double rts[T] = {6.0 / 7.0, 8.0 / 7.0, 4.0 / 7.0};
-    double A = 1.0, L = 1.0, *X0 = malloc(N * sizeof *X0);
+    double A = 1.0, L = 1.0, *X0 = ck_malloc(N * sizeof *X0);
     double sm[T], sq[3 * T];
     const double probs[3] = {0.05, 0.5, 0.95};
     sl_linear lin = {1, 0, &A, NULL, NULL, &L};
@@ -1262,20 +1262,20 @@ static void check_lag(void)
         {
             size_t bytes = sl_pf_workspace(&cfg);
             memset(&keep, 0, sizeof keep);
-            keep.mean = calloc(3, sizeof(double));
-            keep.quant = calloc(9, sizeof(double));
-            keep.ess = calloc(T, sizeof(double));
-            keep.logz = calloc(T, sizeof(double));
-            keep.resampled = calloc(T, sizeof(double));
-            keep.degenerate = calloc(T, sizeof(double));
-            keep.skipped = calloc(T, sizeof(double));
-            keep.nonfinite = calloc(T, sizeof(double));
+            keep.mean = ck_calloc(3, sizeof(double));
+            keep.quant = ck_calloc(9, sizeof(double));
+            keep.ess = ck_calloc(T, sizeof(double));
+            keep.logz = ck_calloc(T, sizeof(double));
+            keep.resampled = ck_calloc(T, sizeof(double));
+            keep.degenerate = ck_calloc(T, sizeof(double));
+            keep.skipped = ck_calloc(T, sizeof(double));
+            keep.nonfinite = ck_calloc(T, sizeof(double));
             keep.smean = sm;
             keep.squant = sq;
-            r1.X = malloc(N * sizeof(double));
-            r1.P = calloc(1, sizeof(double));
-            r1.w = malloc(N * sizeof(double));
-            r1.work = malloc(bytes);
+            r1.X = ck_malloc(N * sizeof(double));
+            r1.P = ck_calloc(1, sizeof(double));
+            r1.w = ck_malloc(N * sizeof(double));
+            r1.work = ck_malloc(bytes);
             memcpy(r1.X, X0, N * sizeof(double));
             st = sl_pf_run(&cfg, r1.X, r1.P, r1.w, r1.work, &keep, &err);
         }
@@ -1295,10 +1295,10 @@ static void check_lag(void)
                         "the last cycle's smoothed mean is the filtered one");
             CHECK(sq[0] < sm[0] && sm[0] < sq[2], "smoothed quantiles bracket the mean");
         }
-        free(keep.mean); free(keep.quant); free(keep.ess); free(keep.logz);
-        free(keep.resampled); free(keep.degenerate); free(keep.skipped);
-        free(keep.nonfinite);
-        free(r1.X); free(r1.P); free(r1.w); free(r1.work);
+        ck_free(keep.mean); ck_free(keep.quant); ck_free(keep.ess); ck_free(keep.logz);
+        ck_free(keep.resampled); ck_free(keep.degenerate); ck_free(keep.skipped);
+        ck_free(keep.nonfinite);
+        ck_free(r1.X); ck_free(r1.P); ck_free(r1.w); ck_free(r1.work);
     }
     /* a lag without the smoothed outputs is refused */
     cfg.lag = 2;
@@ -1308,7 +1308,7 @@ static void check_lag(void)
     run_free(&r1);
     cfg.lag = 0;
     run_free(&r0);
-    free(X0);
+    ck_free(X0);
 }
 
 /* The worked example above (x_k = x_(k-1) + N(0, 1), y = 1, 2, 0 with
@@ -1324,7 +1324,7 @@ static void check_smc2_wenkf(void)
     const double hand_mean[T] = {2.0 / 3.0, 1.5, 4.0 / 7.0};
     const double hand_logz = -1.5 * log(TWO_PI) - 0.5 * log(21.0) - 13.0 / 14.0;
     const double one = 1.0;
-    double A = 1.0, L = 1.0, *X0 = malloc(N * sizeof *X0);
+    double A = 1.0, L = 1.0, *X0 = ck_malloc(N * sizeof *X0);
     sl_linear lin = {1, 0, &A, NULL, NULL, &L}, det = {1, 0, &A, NULL, NULL, NULL};
     sl_model md, mdet;
     sl_pf_config cfg;
@@ -1374,7 +1374,7 @@ static void check_smc2_wenkf(void)
         CHECK(r.out.ess[0] > 0.6 * N, "weighted EnKF ESS %g", r.out.ess[0]);
     }
     run_free(&r);
-    free(X0);
+    ck_free(X0);
 }
 
 /* resample_move on the built-in GR4J (63 states, 4 parameters) with
@@ -1398,7 +1398,7 @@ static void check_resample_move(void)
     sl_pf_config cfg;
     sl_pf_output out;
     sl_error err;
-    double *P = malloc(4 * N * sizeof *P), *w = malloc(N * sizeof *w), *X = malloc(NS * N * sizeof *X);
+    double *P = ck_malloc(4 * N * sizeof *P), *w = ck_malloc(N * sizeof *w), *X = ck_malloc(NS * N * sizeof *X);
     double mean[(NS + 4) * T], ess[T], logz[T], res[T], deg[T], skip[T], nonf[T], sw[T], acc[T];
     void *work;
     size_t j, k, i, moved;
@@ -1488,10 +1488,10 @@ static void check_resample_move(void)
             P[0 + 4 * j] = exp(log(300.0) + 0.3 * sl_stream_normal(&s));
             P[2 + 4 * j] = exp(log(80.0) + 0.3 * sl_stream_normal(&s));
         }
-        work = malloc(sl_pf_workspace(&cfg));
+        work = ck_malloc(sl_pf_workspace(&cfg));
         CHECK(work != NULL && sl_pf_run(&cfg, X, P, w, work, &out, &err) == SL_OK,
               "resample_move run: %s", err.message);
-        free(work);
+        ck_free(work);
         moved = 0;
         amin = 1.0;
         for (k = 0; k < T; k++)
@@ -1511,9 +1511,9 @@ static void check_resample_move(void)
         else
             CHECK(amin < 0.9, "a real proposal is sometimes rejected (smallest rate %g)", amin);
     }
-    free(P);
-    free(w);
-    free(X);
+    ck_free(P);
+    ck_free(w);
+    ck_free(X);
 }
 
 /* ------------------------------------------------------------ coupling */

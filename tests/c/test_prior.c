@@ -326,15 +326,15 @@ static void test_draws(void)
     };
     enum { P = sizeof cases / sizeof cases[0] };
     sl_prior_entry prior[P];
-    double *X = malloc(sizeof(double) * P * N), *x = malloc(sizeof(double) * N);
+    double *X = ck_malloc(sizeof(double) * P * N), *x = ck_malloc(sizeof(double) * N);
     sl_error err;
     sl_status st;
     size_t k, j;
 
     if (X == NULL || x == NULL) {
         CHECK(0, "cannot allocate the test sample");
-        free(X);
-        free(x);
+        ck_free(X);
+        ck_free(x);
         return;
     }
     for (k = 0; k < P; k++)
@@ -342,8 +342,8 @@ static void test_draws(void)
     st = sl_prior_draw(P, prior, N, 20240611u, 0, X, &err);
     CHECK(st == SL_OK, "draw: %s", err.message);
     if (st != SL_OK) {
-        free(X);
-        free(x);
+        ck_free(X);
+        ck_free(x);
         return;
     }
     for (k = 0; k < P; k++) {
@@ -427,8 +427,8 @@ static void test_draws(void)
         CHECK(ks < 1.628 / sqrt((double)N), "%s: KS distance %g (critical %g)",
               cases[k].what, ks, 1.628 / sqrt((double)N));
     }
-    free(X);
-    free(x);
+    ck_free(X);
+    ck_free(x);
 }
 
 /* Truncation bounds are never left, however extreme the case. */

@@ -19,12 +19,12 @@ static sl_status draw(const sl_resampler *sc, size_t N, const double *w,
                       sl_error *err)
 {
     size_t nw = sl_resample_workspace(sc, N, M);
-    double *work = nw ? malloc(nw * sizeof *work) : NULL;
+    double *work = nw ? ck_malloc(nw * sizeof *work) : NULL;
     sl_status st;
     if (nw && work == NULL)
         return SL_ENOMEM;
     st = sl_resample(sc, N, w, M, seed, cycle, work, anc, err);
-    free(work);
+    ck_free(work);
     return st;
 }
 

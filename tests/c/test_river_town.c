@@ -154,9 +154,9 @@ static void test_uncoupled(void)
     CHECK(ok, "engine models: %s", err.message);
     if (!ok)
         return;
-    wk = malloc(mc.work * sizeof *wk);
-    wkg = malloc(mg.work * sizeof *wkg);
-    wkf = malloc(mf.work * sizeof *wkf);
+    wk = ck_malloc(mc.work * sizeof *wk);
+    wkg = ck_malloc(mg.work * sizeof *wkg);
+    wkf = ck_malloc(mf.work * sizeof *wkf);
     CHECK(wk && wkg && wkf, "work");
     for (j = 0; j < N; j++) {
         double *p = Pc + j * NP;
@@ -195,9 +195,9 @@ static void test_uncoupled(void)
     CHECK(zero_level, "a = 0: no level");
     /* the given floods did something: the first damaged the town */
     CHECK(Xf[4] > 0 && isfinite(Xf[0]), "the given floods act (F = %g)", Xf[4]);
-    free(wk);
-    free(wkg);
-    free(wkf);
+    ck_free(wk);
+    ck_free(wkg);
+    ck_free(wkf);
 }
 
 /* The spreadsheet case inside the coupled model: the flow of every day as

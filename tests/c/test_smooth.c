@@ -18,7 +18,7 @@ static void *ws_for(const sl_smoother *type, const sl_smooth_config *cfg)
     /* a failing query leaves no workspace: the run reports the reason */
     if (sl_smooth_workspace(type, cfg, &bytes, &err) != SL_OK)
         return NULL;
-    return malloc(bytes ? bytes : 1);
+    return ck_malloc(bytes ? bytes : 1);
 }
 
 /* Run a smoother with its own workspace; returns the status. */
@@ -29,7 +29,7 @@ static sl_status run(const sl_smoother *type, const sl_smooth_config *cfg,
     sl_status st;
     sl_error_clear(err);
     st = sl_smooth_run(type, cfg, work, out, err);
-    free(work);
+    ck_free(work);
     return st;
 }
 

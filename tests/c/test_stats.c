@@ -221,14 +221,14 @@ static void run_case(unsigned id, const spec *c)
     const size_t N = c->N, inc = c->inc, qinc = c->qinc, nq = c->nq;
     const double sentinel = -8.125e77;
     sl_stream s;
-    double *x = malloc((N * inc + 1) * sizeof *x);
-    double *w = malloc((N + 1) * sizeof *w);
-    double *probs = malloc((nq + 1) * sizeof *probs);
-    double *q = malloc((nq * qinc + 1) * sizeof *q);
-    double *qref = malloc((nq + 1) * sizeof *qref);
-    double *work = malloc(sl_quantile_workspace(N) * sizeof *work);
-    double *cum = malloc((N + 1) * sizeof *cum);
-    vw *buf = malloc((N + 1) * sizeof *buf);
+    double *x = ck_malloc((N * inc + 1) * sizeof *x);
+    double *w = ck_malloc((N + 1) * sizeof *w);
+    double *probs = ck_malloc((nq + 1) * sizeof *probs);
+    double *q = ck_malloc((nq * qinc + 1) * sizeof *q);
+    double *qref = ck_malloc((nq + 1) * sizeof *qref);
+    double *work = ck_malloc(sl_quantile_workspace(N) * sizeof *work);
+    double *cum = ck_malloc((N + 1) * sizeof *cum);
+    vw *buf = ck_malloc((N + 1) * sizeof *buf);
     double mean = 0.0, scale = 0.0;
     long double mref = 0.0L;
     size_t j, k, npos, bad_q = 0, first_bad = 0, bad_gap = 0;
@@ -305,14 +305,14 @@ static void run_case(unsigned id, const spec *c)
               vname[c->vk], (unsigned long)bad);
     }
 done:
-    free(x);
-    free(w);
-    free(probs);
-    free(q);
-    free(qref);
-    free(work);
-    free(cum);
-    free(buf);
+    ck_free(x);
+    ck_free(w);
+    ck_free(probs);
+    ck_free(q);
+    ck_free(qref);
+    ck_free(work);
+    ck_free(cum);
+    ck_free(buf);
 }
 
 /* Members of weight 0 only (and no members at all): NaN mean and levels. */
@@ -322,20 +322,20 @@ static void check_no_weight(void)
     double x[N] = {NAN, 1.0, HUGE_VAL, -2.0, 3.0, -HUGE_VAL, 0.5};
     double w[N] = {0, 0, 0, 0, 0, 0, 0};
     double probs[3] = {0.0, 0.5, 1.0}, q[3] = {1, 2, 3}, mean = 0.0;
-    double *work = malloc(sl_quantile_workspace(N) * sizeof *work);
+    double *work = ck_malloc(sl_quantile_workspace(N) * sizeof *work);
     sl_weighted_summary(N, x, 1, w, 3, probs, &mean, q, 1, work);
     CHECK(isnan(mean) && isnan(q[0]) && isnan(q[1]) && isnan(q[2]),
           "no positive weight: mean %g, quantiles %g %g %g", mean, q[0], q[1],
           q[2]);
-    free(work);
+    ck_free(work);
 
-    work = malloc(sl_quantile_workspace(0) * sizeof *work);
+    work = ck_malloc(sl_quantile_workspace(0) * sizeof *work);
     mean = 0.0;
     q[0] = q[1] = 1.0;
     sl_weighted_summary(0, x, 1, w, 2, probs, &mean, q, 1, work);
     CHECK(isnan(mean) && isnan(q[0]) && isnan(q[1]),
           "no members: mean %g, quantiles %g %g", mean, q[0], q[1]);
-    free(work);
+    ck_free(work);
 }
 
 /* A small case worked by hand from the definition: values 3, 1, 2, 5 with

@@ -55,7 +55,7 @@ static size_t offspring_mismatches(size_t N, const double *w, const uint32_t *an
                                    const char *what)
 {
     size_t i, j, bad = 0;
-    size_t *count = calloc(N, sizeof *count);
+    size_t *count = ck_calloc(N, sizeof *count);
     double wsum = 0.0, c = 0.0, prev;
     for (j = 0; j < N; j++)
         wsum += w[j];
@@ -75,7 +75,7 @@ static size_t offspring_mismatches(size_t N, const double *w, const uint32_t *an
             bad++;
         }
     }
-    free(count);
+    ck_free(count);
     return bad;
 }
 
@@ -134,14 +134,14 @@ static void run_free(run_buf *r)
                     &r->out.hist_w, &r->out.hist_a, &r->X, &r->P, &r->w};
     size_t k;
     for (k = 0; k < sizeof f / sizeof *f; k++)
-        free(*f[k]);
-    free(r->work);
+        ck_free(*f[k]);
+    ck_free(r->work);
     memset(r, 0, sizeof *r);
 }
 
 static double *zd(size_t count)
 {
-    return calloc(count ? count : 1, sizeof(double));
+    return ck_calloc(count ? count : 1, sizeof(double));
 }
 
 /* Run cfg (a model without parameters) from X0; every output allocated,
@@ -169,7 +169,7 @@ static sl_status run(const sl_pf_config *cfg, const double *X0, run_buf *r, sl_e
     r->X = zd(n * N);
     r->P = zd(1);
     r->w = zd(N);
-    r->work = bytes ? malloc(bytes) : NULL;
+    r->work = bytes ? ck_malloc(bytes) : NULL;
     if (r->work == NULL)
         return sl_fail(err, SL_ENOMEM, "nomemory", "no workspace (%lu bytes)",
                        (unsigned long)bytes);

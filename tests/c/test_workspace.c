@@ -39,7 +39,7 @@ static void test_helper(void)
     end = off;
     CHECK(end == 256 + 24, "end of the layout %lu, expected 280", (unsigned long)end);
     CHECK(sl_ws_size(end) == end, "size of a layout");
-    mem = aligned_alloc(SL_WS_ALIGN, 320);
+    mem = ck_aligned_alloc(SL_WS_ALIGN, 320);
     CHECK(mem != NULL, "memory");
     if (mem != NULL) {
         off = 0;
@@ -54,7 +54,7 @@ static void test_helper(void)
         CHECK(sl_ws_carve(mem, &off, 10, &q) == 74 && q == mem + 64, "carve after 5 bytes");
         CHECK(sl_ws_carve(mem, &off, 1, NULL) == 129, "carve without a pointer");
         CHECK(sl_ws_carve(NULL, &off, 0, &q) == 192 && q == NULL, "carve while measuring");
-        free(mem);
+        ck_free(mem);
     }
     /* overflow of the product, then every later call keeps it */
     off = 0;
