@@ -152,7 +152,7 @@ $(BUILD)/fuzz/%: tests/fuzz/%.c $(SL_LIB) | $(DEPS)
 	$(CC) $(SL_CFLAGS) -fsanitize=fuzzer $< $(SL_LIB) -o $@ $(SL_LIBS)
 
 demo: all
-	$(OCTRUN) --eval "warning('off', 'Octave:shadowed-function'); addpath('$(CURDIR)/m'); addpath('$(CURDIR)/demos'); demo_flood_town; demo_river_town; demo_lowmarsh_reanalysis"
+	$(OCTRUN) --eval "warning('off', 'Octave:shadowed-function'); addpath('$(CURDIR)/m'); addpath('$(CURDIR)/demos'); demo_flood_town; demo_river_town; demo_lowmarsh_reanalysis;"
 
 bench: all
 	$(OCTRUN) --eval "warning('off', 'Octave:shadowed-function'); addpath('$(CURDIR)/m'); addpath('$(CURDIR)/tests/bench'); run_benchmarks"
