@@ -1,7 +1,7 @@
 # sluice - build, test, demo, benchmark, package.
 #   make            build libsluice and the Octave gateways
 #   make check      every test (C unit tests, then Octave tests)
-#   make demo       the demo scenario
+#   make demo       the demo scenarios
 #   make bench      benchmarks (ratios against vectorised Octave)
 #   make check-asan C unit tests under AddressSanitizer + UBSan
 #   make check-valgrind  C unit tests under valgrind's memcheck (errors and
@@ -199,7 +199,7 @@ $(BUILD)/fuzz/%: tests/fuzz/%.c $(SL_LIB) | $(DEPS)
 	$(CC) $(SL_CFLAGS) -fsanitize=fuzzer $< $(SL_LIB) -o $@ $(SL_LIBS)
 
 demo: all
-	$(OCTRUN) --eval "warning('off', 'Octave:shadowed-function'); addpath('$(CURDIR)/m'); addpath('$(CURDIR)/demos'); demo_flood_town; demo_river_town"
+	$(OCTRUN) --eval "warning('off', 'Octave:shadowed-function'); addpath('$(CURDIR)/m'); addpath('$(CURDIR)/demos'); demo_flood_town; demo_river_town; demo_lowmarsh_reanalysis;"
 
 bench: all
 	$(OCTRUN) --eval "warning('off', 'Octave:shadowed-function'); addpath('$(CURDIR)/m'); addpath('$(CURDIR)/tests/bench'); run_benchmarks"

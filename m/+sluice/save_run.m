@@ -79,7 +79,13 @@
 % variables. Counts, weights, ESS and log-evidence are dimensionless,
 % @code{"1"}. Only @code{time} has a @code{standard_name}: CF's standard
 % names describe physical quantities, and a model's states are whatever
-% its author made them.
+% its author made them. The CF conventions allow only names of their
+% standard-name table (an invented name is not CF), and a name fits only
+% in units convertible to its canonical units: GR4J's river flow, a
+% depth over the catchment per day (@code{"mm d-1"}), is not
+% @code{water_volume_transport_in_river_channel} (@code{"m3 s-1"}), so
+% sluice writes none and describes each variable by @code{long_name}
+% (option @code{long_names}) and @code{units} instead.
 %
 % Global attributes: @code{Conventions}, @code{title}, @code{institution}
 % (when given), @code{source} (@code{"sluice <version>"}),
@@ -98,6 +104,11 @@
 % @item units
 % a struct of unit strings by state or parameter name, e.g.
 % @code{struct ('level', 'm', 'Q', 'm3 s-1')} (UDUNITS syntax, as CF asks).
+% @item long_names
+% a struct of descriptions by state or parameter name, e.g.
+% @code{struct ('Q', 'river flow at the gauge')}: the @code{long_name} of
+% each variable of that state or parameter then names it with its
+% description, @code{"smoothed mean of Q (river flow at the gauge)"}.
 % @item title
 % the file's title (default: "sluice <method> run of the model <model>").
 % @item institution
@@ -128,10 +139,12 @@ function save_run (res, file, varargin)
   if (nargin < 2 || nargout > 0)
     sluice.internal.compat ('usage', mfilename ());
   end
-  opts = struct ('units', struct (), 'title', '', 'institution', '');
+  opts = struct ('units', struct (), 'long_names', struct (), 'title', '', 'institution', '');
   opts = sluice.internal.name_value (opts, varargin, 'save_run');
   [kind, main] = result_kind (res);
-  opts.units = check_units (opts.units, main);
+  opts.units = check_units (opts.units, main, 'units', 'unit strings', 'units');
+  opts.long_names = check_units (opts.long_names, main, 'long_names', 'descriptions', ...
+                                 'description');
   check_text (opts.title, 'title');
   check_text (opts.institution, 'institution');
   [file, tmp] = target (file);
@@ -187,24 +200,26 @@ function [kind, main] = result_kind (res)
   end
 end
 
-function units = check_units (units, main)
+function units = check_units (units, main, opt, what, one)
+  % a struct of strings by state or parameter name (the options units
+  % and long_names)
   if (~(isstruct (units) && isscalar (units)))
     error ('sluice:save_run:badoption', ...
-           'option ''units'': expected a struct of unit strings by variable name, got %s', ...
-           sluice.internal.describe (units));
+           'option ''%s'': expected a struct of %s by variable name, got %s', ...
+           opt, what, sluice.internal.describe (units));
   end
   names = [main.state_names(:); main.param_names(:)];
   f = fieldnames (units);
   for k = 1:numel (f)
     if (~any (strcmp (f{k}, names)))
       error ('sluice:save_run:badoption', ...
-             'option ''units'': ''%s'' is not a state or parameter of the run (%s)', ...
-             f{k}, strjoin (names', ', '));
+             'option ''%s'': ''%s'' is not a state or parameter of the run (%s)', ...
+             opt, f{k}, strjoin (names', ', '));
     end
     u = units.(f{k});
     if (~(ischar (u) && isrow (u)))
       error ('sluice:save_run:badoption', ...
-             'option ''units'': the units of ''%s'' must be a string, got %s', f{k}, ...
+             'option ''%s'': the %s of ''%s'' must be a string, got %s', opt, one, f{k}, ...
              sluice.internal.describe (u));
     end
   end
@@ -289,13 +304,13 @@ function write_netcdf (nc, tmp, res, kind, main, opts)
         nc.putAtt (ncid, G, f{1}, main.(f{1}));
       end
     end
-    write_group (nc, ncid, main, 'filter', main, opts.units);
+    write_group (nc, ncid, main, 'filter', main, opts);
     if (strcmp (kind, 'twin'))
       if (isstruct (res.openloop))
         write_group (nc, nc.defGrp (ncid, 'openloop'), res.openloop, 'filter', ...
-                     res.openloop, opts.units);
+                     res.openloop, opts);
       end
-      write_group (nc, nc.defGrp (ncid, 'twin'), res, 'twin', main, opts.units);
+      write_group (nc, nc.defGrp (ncid, 'twin'), res, 'twin', main, opts);
     end
   catch err
     try
@@ -314,10 +329,11 @@ function s = text_field (r, f)
   end
 end
 
-function write_group (nc, gid, r, kind, main, units)
+function write_group (nc, gid, r, kind, main, opts)
   % one group: the result r (kind 'filter') or a twin's own fields
   % (kind 'twin'), every field walked into variables and attributes
-  c = struct ('nc', nc, 'gid', gid, 'kind', kind, 'units', units, ...
+  c = struct ('nc', nc, 'gid', gid, 'kind', kind, 'units', opts.units, ...
+              'long_names', opts.long_names, ...
               'states', {main.state_names}, 'params', {main.param_names}, ...
               'cal', calendar_of (main), 'dims', containers.Map (), ...
               'vars', containers.Map (), 'holders', containers.Map (), ...
@@ -554,9 +570,18 @@ function e = put_known (c, v, path, s)
       unit = unit_of (c, rows{i}, s.unit);
     end
     names{i} = put_var (c, sprintf (s.name, rows{i}), part, s.dims, ...
-                        sprintf (s.long, rows{i}), unit, s.extra);
+                        sprintf (s.long, label_of (c, rows{i})), unit, s.extra);
   end
   e = entry (path, 'var', class (v), sz, names, '');
+end
+
+function s = label_of (c, name)
+  % a state or parameter in a long_name: its name, with its description
+  % when the option long_names gives one
+  s = name;
+  if (~isempty (name) && isfield (c.long_names, name))
+    s = sprintf ('%s (%s)', name, c.long_names.(name));
+  end
 end
 
 function u = unit_of (c, name, how)
@@ -899,5 +924,8 @@ end
 %!error id=sluice:save_run:badoption sluice.save_run (res, 'x.nc', 'units', 3)
 %!error id=sluice:save_run:badoption sluice.save_run (res, 'x.nc', 'units', struct ('h', 'm'))
 %!error id=sluice:save_run:badoption sluice.save_run (res, 'x.nc', 'institution', {'a'})
+%!error id=sluice:save_run:badoption sluice.save_run (res, 'x.nc', 'long_names', 'x1')
+%!error id=sluice:save_run:badoption sluice.save_run (res, 'x.nc', 'long_names', struct ('h', 'height'))
+%!error id=sluice:save_run:badoption sluice.save_run (res, 'x.nc', 'long_names', struct ('x1', 3))
 %!error id=sluice:save_run:badfile sluice.save_run (res, {'x.nc'})
 %!error id=sluice:save_run:cannotwrite sluice.save_run (res, fullfile (tempname (), 'x.nc'))
