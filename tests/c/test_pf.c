@@ -1526,7 +1526,7 @@ static sl_status run_once(const sl_pf_config *cfg, const double *X0, double *X,
     const size_t n = cfg->model->n_state, N = cfg->N;
     double mean[2], ess, logz, rs, dg, sk, nf, infl, fl, P = 0, *w = zalloc(N, sizeof(double));
     sl_pf_output out;
-    void *work = malloc(sl_pf_workspace(cfg));
+    void *work = ck_malloc(sl_pf_workspace(cfg));
     sl_status st;
     memset(&out, 0, sizeof out);
     out.mean = mean;
@@ -1543,8 +1543,8 @@ static sl_status run_once(const sl_pf_config *cfg, const double *X0, double *X,
     memcpy(X, X0, n * N * sizeof(double));
     st = work != NULL && w != NULL ? sl_pf_run(cfg, X, &P, w, work, &out, err)
                                    : sl_fail(err, SL_ENOMEM, "nomemory", "test buffers");
-    free(work);
-    free(w);
+    ck_free(work);
+    ck_free(w);
     return st;
 }
 
@@ -1559,8 +1559,8 @@ static void check_coupling(void)
     const double times[T] = {1.0};
     const sl_linear lin = {2, 0, A, NULL, NULL, L};
     const int comp[2] = {0, 1}, bad_comp[2] = {0, 2}, obs_comp[1] = {0}, bad_obs[1] = {-1};
-    double *X0 = malloc(2 * N * sizeof(double)), *Xa = malloc(2 * N * sizeof(double)),
-           *Xf = malloc(2 * N * sizeof(double)), cess[2], clogz[2], yv = 0.9, ynan = NAN;
+    double *X0 = ck_malloc(2 * N * sizeof(double)), *Xa = ck_malloc(2 * N * sizeof(double)),
+           *Xf = ck_malloc(2 * N * sizeof(double)), cess[2], clogz[2], yv = 0.9, ynan = NAN;
     sl_model md;
     sl_pf_config cfg, c;
     sl_enkf_config ec;
@@ -1644,9 +1644,9 @@ static void check_coupling(void)
             CHECK(isfinite(clogz[0]) && clogz[0] < 0, "pf, weak: log-evidence %g", clogz[0]);
         }
     }
-    free(X0);
-    free(Xa);
-    free(Xf);
+    ck_free(X0);
+    ck_free(Xa);
+    ck_free(Xf);
 }
 
 int main(void)
