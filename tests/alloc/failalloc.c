@@ -258,49 +258,33 @@ static int fa_should_fail(void)
     return fail;
 }
 
+/* A block the wrapped allocator got (NULL: failed, injected or not):
+ * tracked as live, or ENOMEM. */
+static void *fa_took(void *p)
+{
+    if (p == NULL) {
+        errno = ENOMEM;
+        return NULL;
+    }
+    pthread_mutex_lock(&fa_lock);
+    fa_insert((uintptr_t)p);
+    pthread_mutex_unlock(&fa_lock);
+    return p;
+}
+
 void *__wrap_malloc(size_t n)
 {
-    void *p = NULL;
-    if (!fa_should_fail()) {
-        p = __real_malloc(n);
-        pthread_mutex_lock(&fa_lock);
-        if (p != NULL)
-            fa_insert((uintptr_t)p);
-        pthread_mutex_unlock(&fa_lock);
-    }
-    if (p == NULL)
-        errno = ENOMEM;
-    return p;
+    return fa_took(fa_should_fail() ? NULL : __real_malloc(n));
 }
 
 void *__wrap_calloc(size_t count, size_t size)
 {
-    void *p = NULL;
-    if (!fa_should_fail()) {
-        p = __real_calloc(count, size);
-        pthread_mutex_lock(&fa_lock);
-        if (p != NULL)
-            fa_insert((uintptr_t)p);
-        pthread_mutex_unlock(&fa_lock);
-    }
-    if (p == NULL)
-        errno = ENOMEM;
-    return p;
+    return fa_took(fa_should_fail() ? NULL : __real_calloc(count, size));
 }
 
 void *__wrap_aligned_alloc(size_t align, size_t n)
 {
-    void *p = NULL;
-    if (!fa_should_fail()) {
-        p = __real_aligned_alloc(align, n);
-        pthread_mutex_lock(&fa_lock);
-        if (p != NULL)
-            fa_insert((uintptr_t)p);
-        pthread_mutex_unlock(&fa_lock);
-    }
-    if (p == NULL)
-        errno = ENOMEM;
-    return p;
+    return fa_took(fa_should_fail() ? NULL : __real_aligned_alloc(align, n));
 }
 
 int __wrap_posix_memalign(void **out, size_t align, size_t n)

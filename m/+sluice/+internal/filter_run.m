@@ -626,23 +626,7 @@ function opts = parse_options (args, fn)
       unset.(names{k}) = false;
     end
   end
-  opts = base;
-  g = unset;
-  args = sluice.internal.option_pairs (args);
-  if (mod (numel (args), 2) ~= 0)
-    error (['sluice:' fn ':badoption'], 'options must be a struct or name, value pairs');
-  end
-  for k = 1:2:numel (args)
-    name = args{k};
-    if (~ischar (name) || ~isrow (name))
-      error (['sluice:' fn ':badoption'], 'option names must be strings');
-    end
-    if (~isfield (g, name))
-      error (['sluice:' fn ':badoption'], 'unknown option ''%s''', name);
-    end
-    opts.(name) = args{k + 1};
-    g.(name) = true;
-  end
+  [opts, g] = sluice.internal.name_value (base, args, fn, unset);
   if (numel (args) > 0)
     opts = check_options (opts, g, fn);
   end

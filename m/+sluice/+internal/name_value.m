@@ -1,6 +1,7 @@
-function opts = name_value (opts, args, fn)
+function [opts, given] = name_value (opts, args, fn, given)
   % Internal: merge name/value pairs (or one struct) into the defaults
-  % opts; unknown names raise sluice:<fn>:badoption.
+  % opts; unknown names raise sluice:<fn>:badoption. With `given` (a
+  % struct of the same fields), the names given are set true in it.
   args = sluice.internal.option_pairs (args);
   if (mod (numel (args), 2) ~= 0)
     error (['sluice:' fn ':badoption'], 'options must be a struct or name, value pairs');
@@ -14,5 +15,8 @@ function opts = name_value (opts, args, fn)
       error (['sluice:' fn ':badoption'], 'unknown option ''%s''', name);
     end
     opts.(name) = args{k + 1};
+    if (nargin > 3)
+      given.(name) = true;
+    end
   end
 end
