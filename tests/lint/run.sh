@@ -53,7 +53,7 @@ if cc -std=c11 -D_POSIX_C_SOURCE=200809L -c "$tmp/a.c" -o "$tmp/a.o" && cc -std=
       failed=$((failed + 1)); echo "FAIL lint_core --objects: $name in a.o not reported (exit $rc): $out"
     fi
   done
-  if grep -q "g.o" <<<"$out"; then
+  if grep -qF "$tmp/g.o" <<<"$out"; then
     failed=$((failed + 1)); echo "FAIL lint_core --objects: g.o reported: $out"
   else
     passed=$((passed + 1))
