@@ -1045,19 +1045,29 @@ void sl_pfi_summarise(const sl_pf_config *cfg, pf_buffers *b, const double *X,
                       size_t k)
 {
     const size_t N = cfg->N, n = cfg->model->n_state, p = cfg->model->n_param;
-    const size_t v = n + p, nq = cfg->nq;
+    const size_t v = n + p, nq = cfg->nq, ns = sl_pfi_summary_count(cfg);
+    const size_t *rows = cfg->summary_rows;
+    size_t nx = 0;
     long r;
     sl_pfi_summary_blank(cfg, out->mean + k * v, out->quant + k * v * nq, v, nq);
+    /* the means member by member (the states' rows come first), then the
+     * quantiles row by row */
+    while (nx < ns && sl_pfi_summary_row(cfg, nx) < n)
+        nx++;
+    sl_weighted_means(N, X, n, nx, rows, 0, w, out->mean + k * v);
+    sl_weighted_means(N, P, p, ns - nx, rows != NULL ? rows + nx : NULL, n, w,
+                      out->mean + k * v + n);
+    if (nq == 0)
+        return;
 #pragma omp parallel for num_threads(b->nt) schedule(dynamic, 1)
-    for (r = 0; r < (long)sl_pfi_summary_count(cfg); r++) {
+    for (r = 0; r < (long)ns; r++) {
         int tid = 0;
         size_t row = sl_pfi_summary_row(cfg, (size_t)r);
         const double *x = row < n ? X + row : P + (row - n);
 #ifdef _OPENMP
         tid = omp_get_thread_num();
 #endif
-        sl_weighted_summary(N, x, row < n ? n : p, w, nq, cfg->probs,
-                            out->mean + row + k * v,
+        sl_weighted_summary(N, x, row < n ? n : p, w, nq, cfg->probs, NULL,
                             out->quant + row + k * v * nq, v,
                             b->qwork + (size_t)tid * b->qwork_per);
     }
