@@ -336,6 +336,9 @@ function r = cut_result (r, states, params)
   r.param_names = r.param_names(ip);
   r.states.mean = r.states.mean(is, :);
   r.states.quantiles = r.states.quantiles(is, :, :);
+  if (isfield (r, 'summarized_states'))
+    r.summarized_states = r.summarized_states(is);
+  end
   r.params = rows_of (r.params, ip);
   r.smoothed.states = rows_of (r.smoothed.states, is);
   r.smoothed.params = rows_of (r.smoothed.params, ip);

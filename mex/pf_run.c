@@ -518,6 +518,20 @@ static void decode_recording(run_settings *s)
     cfg->derived_summary = fscalar(s, "derived_summary") != 0 && !cfg->no_summary &&
                            cfg->n_lin + cfg->n_fun > 0;
     cfg->lag = (size_t)fwhole(s, "lag", 0, 4294967295.0);
+    if (slm_field(s->fn, s->c, "summary_rows", 0) != NULL) {
+        /* the rows summarised, 1-based and increasing (the core checks) */
+        size_t k, ns = fnumel(s, "summary_rows");
+        const double *x = ns ? fmat(s, "summary_rows", ns, 0, SLM_VECTOR) : NULL;
+        size_t *rows = (size_t *)slm_alloc(s->fn, ns ? ns : 1, sizeof(size_t));
+        for (k = 0; k < ns; k++) {
+            if (!(x[k] >= 1 && x[k] <= (double)s->v) || x[k] != floor(x[k]))
+                slm_fail(s->fn, "badoption", "summary row %lu must be a whole number "
+                         "from 1 to %lu", (unsigned long)(k + 1), (unsigned long)s->v);
+            rows[k] = (size_t)x[k] - 1;
+        }
+        cfg->summary_rows = rows;
+        cfg->n_summary_rows = ns;
+    }
     slm_poll_init(&s->poll, (int)fwhole(s, "progress", 0, 2));
     cfg->poll = slm_poll_fn;
     cfg->poll_ctx = &s->poll;

@@ -554,6 +554,16 @@ sl_status sl_pf_check(const sl_pf_config *cfg, sl_error *err)
         return sl_fail(err, SL_EINVAL, "badconfig",
                        "the resampling threshold must lie in [0, 1], got %g",
                        cfg->threshold);
+    if (cfg->summary_rows != NULL)
+        for (k = 0; k < cfg->n_summary_rows; k++) {
+            size_t r = cfg->summary_rows[k];
+            if (r >= n + p || (k > 0 && r <= cfg->summary_rows[k - 1]))
+                return sl_fail(err, SL_EINVAL, "badconfig",
+                               "summary row %lu must be a row from 0 to %lu after "
+                               "the one before it, got %lu",
+                               (unsigned long)(k + 1), (unsigned long)(n + p - 1),
+                               (unsigned long)r);
+        }
     for (k = 0; k < cfg->nq; k++)
         if (!(cfg->probs[k] >= 0 && cfg->probs[k] <= 1))
             return sl_fail(err, SL_EINVAL, "badconfig",
@@ -1000,23 +1010,64 @@ void sl_pfi_loglik_all(const sl_pf_config *cfg, pf_buffers *b, size_t r0,
     sl_pfi_loglik_into(cfg, b, r0, m, b->ll, nskipped);
 }
 
+size_t sl_pfi_summary_count(const sl_pf_config *cfg)
+{
+    return cfg->summary_rows != NULL ? cfg->n_summary_rows
+                                     : cfg->model->n_state + cfg->model->n_param;
+}
+
+size_t sl_pfi_summary_row(const sl_pf_config *cfg, size_t i)
+{
+    return cfg->summary_rows != NULL ? cfg->summary_rows[i] : i;
+}
+
+void sl_pfi_summary_blank(const sl_pf_config *cfg, double *mean, double *q,
+                          size_t qinc, size_t nq)
+{
+    const size_t v = cfg->model->n_state + cfg->model->n_param;
+    size_t r, i = 0, l;
+    if (cfg->summary_rows == NULL)
+        return;
+    for (r = 0; r < v; r++) {
+        if (i < cfg->n_summary_rows && cfg->summary_rows[i] == r) {
+            i++;
+            continue;
+        }
+        mean[r] = NAN;
+        if (q != NULL)
+            for (l = 0; l < nq; l++)
+                q[r + l * qinc] = NAN;
+    }
+}
+
 void sl_pfi_summarise(const sl_pf_config *cfg, pf_buffers *b, const double *X,
                       const double *P, const double *w, sl_pf_output *out,
                       size_t k)
 {
     const size_t N = cfg->N, n = cfg->model->n_state, p = cfg->model->n_param;
-    const size_t v = n + p, nq = cfg->nq;
+    const size_t v = n + p, nq = cfg->nq, ns = sl_pfi_summary_count(cfg);
+    const size_t *rows = cfg->summary_rows;
+    size_t nx = 0;
     long r;
+    sl_pfi_summary_blank(cfg, out->mean + k * v, out->quant + k * v * nq, v, nq);
+    /* the means member by member (the states' rows come first), then the
+     * quantiles row by row */
+    while (nx < ns && sl_pfi_summary_row(cfg, nx) < n)
+        nx++;
+    sl_weighted_means(N, X, n, nx, rows, 0, w, out->mean + k * v);
+    sl_weighted_means(N, P, p, ns - nx, rows != NULL ? rows + nx : NULL, n, w,
+                      out->mean + k * v + n);
+    if (nq == 0)
+        return;
 #pragma omp parallel for num_threads(b->nt) schedule(dynamic, 1)
-    for (r = 0; r < (long)v; r++) {
+    for (r = 0; r < (long)ns; r++) {
         int tid = 0;
-        size_t row = (size_t)r;
+        size_t row = sl_pfi_summary_row(cfg, (size_t)r);
         const double *x = row < n ? X + row : P + (row - n);
 #ifdef _OPENMP
         tid = omp_get_thread_num();
 #endif
-        sl_weighted_summary(N, x, row < n ? n : p, w, nq, cfg->probs,
-                            out->mean + row + k * v,
+        sl_weighted_summary(N, x, row < n ? n : p, w, nq, cfg->probs, NULL,
                             out->quant + row + k * v * nq, v,
                             b->qwork + (size_t)tid * b->qwork_per);
     }
@@ -1160,22 +1211,34 @@ static void forecast_mean(const sl_pf_config *cfg, const unsigned char *dead,
                           const double *X, const double *P, const double *w,
                           double *out)
 {
-    const size_t N = cfg->N, n = cfg->model->n_state, p = cfg->model->n_param;
+    const size_t N = cfg->N, n = cfg->model->n_state;
+    const size_t p = cfg->model->n_param, ns = sl_pfi_summary_count(cfg);
     double W = 0.0;
-    size_t i, j;
-    for (i = 0; i < n + p; i++)
-        out[i] = 0.0;
+    size_t i, j, nx = 0;
+    /* member by member, each summarised row's sum in member order; the
+     * rows increase, so the states' come first */
+    while (nx < ns && sl_pfi_summary_row(cfg, nx) < n)
+        nx++;
+    sl_pfi_summary_blank(cfg, out, NULL, 0, 0);
+    for (i = 0; i < ns; i++)
+        out[sl_pfi_summary_row(cfg, i)] = 0.0;
     for (j = 0; j < N; j++) {
         if (dead[j] || !(w[j] > 0))
             continue;
         W += w[j];
-        for (i = 0; i < n; i++)
-            out[i] += w[j] * X[i + j * n];
-        for (i = 0; i < p; i++)
-            out[n + i] += w[j] * P[i + j * p];
+        for (i = 0; i < nx; i++) {
+            size_t r = sl_pfi_summary_row(cfg, i);
+            out[r] += w[j] * X[r + j * n];
+        }
+        for (; i < ns; i++) {
+            size_t r = sl_pfi_summary_row(cfg, i);
+            out[r] += w[j] * P[r - n + j * p];
+        }
     }
-    for (i = 0; i < n + p; i++)
-        out[i] = W > 0 ? out[i] / W : (double)NAN;
+    for (i = 0; i < ns; i++) {
+        size_t r = sl_pfi_summary_row(cfg, i);
+        out[r] = W > 0 ? out[r] / W : (double)NAN;
+    }
 }
 
 /* ------------------------------------------------------ the analyses */
@@ -1264,15 +1327,17 @@ static void window_emit(const sl_pf_config *cfg, pf_buffers *b, size_t s,
     for (j = 0; j < N; j++)
         for (i = 0; i < p; i++)
             b->wtmp[n + i + j * v] = sl_transform_inverse(&cfg->ptrans[i], slot[n + i + j * v]);
+    sl_pfi_summary_blank(cfg, out->smean + s * v, out->squant + s * v * nq, v, nq);
 #pragma omp parallel for num_threads(b->nt) schedule(dynamic, 1)
-    for (r = 0; r < (long)v; r++) {
+    for (r = 0; r < (long)sl_pfi_summary_count(cfg); r++) {
         int tid = 0;
+        size_t row = sl_pfi_summary_row(cfg, (size_t)r);
 #ifdef _OPENMP
         tid = omp_get_thread_num();
 #endif
-        sl_weighted_summary(N, b->wtmp + r, v, w, nq, cfg->probs,
-                            out->smean + (size_t)r + s * v,
-                            out->squant + (size_t)r + s * v * nq, v,
+        sl_weighted_summary(N, b->wtmp + row, v, w, nq, cfg->probs,
+                            out->smean + row + s * v,
+                            out->squant + row + s * v * nq, v,
                             b->qwork + (size_t)tid * b->qwork_per);
     }
 }

@@ -100,6 +100,13 @@ void sl_pfi_loglik_into(const sl_pf_config *cfg, pf_buffers *b, size_t r0,
                         size_t m, double *ll, size_t *nskipped);
 void sl_pfi_loglik_all(const sl_pf_config *cfg, pf_buffers *b, size_t r0,
                        size_t m, size_t *nskipped);
+/* The rows the run summarises (cfg->summary_rows): how many, the i-th
+ * (0-based), and NaN into the mean (and, with q, the nq quantiles at
+ * stride qinc) of every other row of one cycle's record. */
+size_t sl_pfi_summary_count(const sl_pf_config *cfg);
+size_t sl_pfi_summary_row(const sl_pf_config *cfg, size_t i);
+void sl_pfi_summary_blank(const sl_pf_config *cfg, double *mean, double *q,
+                          size_t qinc, size_t nq);
 void sl_pfi_summarise(const sl_pf_config *cfg, pf_buffers *b, const double *X,
                       const double *P, const double *w, sl_pf_output *out,
                       size_t k);

@@ -170,19 +170,23 @@ void sl_weighted_summary(size_t N, const double *x, size_t inc,
         }
     }
     if (n == 0) {
-        *mean = NAN;
+        if (mean != NULL)
+            *mean = NAN;
         for (k = 0; k < nq; k++)
             q[k * qinc] = NAN;
         return;
     }
-    W = compensated_sum_w(n, all);
-    if (isfinite(hi - lo)) {
+    if (mean == NULL) {
+        /* the caller's (sl_weighted_means) */
+    } else if (isfinite(hi - lo)) {
+        W = compensated_sum_w(n, all);
         /* deviations from one member: exact for a constant ensemble */
         double ref = all[0].v;
         *mean = ref + compensated_dot(n, all, ref, 1.0) / W;
     } else {
         /* a range wider than the largest double: weights first, so no
          * partial sum can overflow */
+        W = compensated_sum_w(n, all);
         *mean = compensated_dot(n, all, 0.0, 1.0 / W);
     }
     if (nq == 0)
@@ -254,6 +258,77 @@ void sl_weighted_summary(size_t N, const double *x, size_t inc,
             memcpy(r2, r1 + start_of[t], m * sizeof *r2);
             q[k * qinc] = select_in(m, r2, r3, tlo[t], thi[t], lv_below[k - k0],
                                     probs[k] * Wrun, bw2);
+        }
+    }
+}
+
+#define MEANBLOCK 64 /* rows summed together in one pass over the members */
+
+void sl_weighted_means(size_t N, const double *x, size_t ld, size_t m,
+                       const size_t *rows, size_t base, const double *w,
+                       double *mean)
+{
+    double W = 0.0, We = 0.0;
+    size_t j, j0 = N, i0, b;
+    /* the total weight: compensated_sum_w over the members of positive
+     * weight, in member order */
+    for (j = 0; j < N; j++) {
+        double a = w[j], t;
+        if (!(a > 0))
+            continue;
+        if (j0 == N)
+            j0 = j;
+        t = W + a;
+        We += fabs(W) >= fabs(a) ? (W - t) + a : (a - t) + W;
+        W = t;
+    }
+    W += We;
+    for (i0 = 0; i0 < m; i0 += MEANBLOCK) {
+        size_t nb = m - i0 < MEANBLOCK ? m - i0 : MEANBLOCK, r[MEANBLOCK];
+        double s[MEANBLOCK], e[MEANBLOCK], lo[MEANBLOCK], hi[MEANBLOCK], ref[MEANBLOCK];
+        for (b = 0; b < nb; b++)
+            r[b] = rows != NULL ? rows[i0 + b] - base : i0 + b;
+        if (j0 == N) {
+            for (b = 0; b < nb; b++)
+                mean[r[b]] = NAN;
+            continue;
+        }
+        for (b = 0; b < nb; b++) {
+            /* deviations from the first member of positive weight */
+            ref[b] = x[r[b] + j0 * ld];
+            s[b] = e[b] = 0.0;
+            lo[b] = HUGE_VAL;
+            hi[b] = -HUGE_VAL;
+        }
+        for (j = j0; j < N; j++) {
+            const double *col = x + j * ld, wj = w[j];
+            if (!(wj > 0))
+                continue;
+            for (b = 0; b < nb; b++) {
+                double v = col[r[b]], a = (1.0 * wj) * (v - ref[b]), t = s[b] + a;
+                if (v < lo[b]) lo[b] = v;
+                if (v > hi[b]) hi[b] = v;
+                e[b] += fabs(s[b]) >= fabs(a) ? (s[b] - t) + a : (a - t) + s[b];
+                s[b] = t;
+            }
+        }
+        for (b = 0; b < nb; b++) {
+            if (isfinite(hi[b] - lo[b])) {
+                mean[r[b]] = ref[b] + (s[b] + e[b]) / W;
+            } else {
+                /* a range wider than the largest double: weights first */
+                double sc = 1.0 / W, ss = 0.0, ee = 0.0;
+                for (j = j0; j < N; j++) {
+                    double a, t;
+                    if (!(w[j] > 0))
+                        continue;
+                    a = (sc * w[j]) * (x[r[b] + j * ld] - 0.0);
+                    t = ss + a;
+                    ee += fabs(ss) >= fabs(a) ? (ss - t) + a : (a - t) + ss;
+                    ss = t;
+                }
+                mean[r[b]] = ss + ee;
+            }
         }
     }
 }

@@ -224,6 +224,14 @@ typedef struct {
     int keep_history;
     int no_summary;              /* 1: do not record means and quantiles
                                   * (a plain ensemble run: simulate, propagate) */
+    /* The rows of states and parameters (0 .. n + p - 1, strictly
+     * increasing) whose summaries the run records: means and quantiles
+     * (mean, quant), forecast means (fmean) and smoothed summaries
+     * (smean, squant). The other rows are NaN there; every row is still
+     * forecast, analysed, resampled and moved. summary_rows NULL: every
+     * row (n_summary_rows is then ignored). */
+    const size_t *summary_rows;
+    size_t n_summary_rows;
     sl_poll_fn poll;             /* called between steps; non-zero stops */
     void *poll_ctx;
     /* Ensemble Kalman methods: with enkf != NULL the analysis of

@@ -19,11 +19,22 @@ size_t sl_quantile_workspace(size_t N);
  * sum_{x_j <= x_i} w_j >= p * W (for equal weights the order statistic
  * x_(ceil(pN))). Exact, by bucket selection in O(N) per call for spread-out
  * data. probs in [0, 1], any order. Members of positive weight must not be
- * NaN. Writes *mean and q[0], q[qinc], ... (nq levels); NaN for both when no weight is > 0. */
+ * NaN. Writes *mean (unless mean is NULL) and q[0], q[qinc], ... (nq
+ * levels); NaN for both when no weight is > 0. */
 void sl_weighted_summary(size_t N, const double *x, size_t inc,
                          const double *w, size_t nq,
                          const double *probs, double *mean, double *q,
                          size_t qinc, double *work);
+
+/* The weighted means of rows rows[0] - base, ..., rows[m-1] - base
+ * (rows NULL: rows 0 .. m-1) of x (ld x N, column-major, a member per
+ * column) with weights w, into mean[rows[i] - base]: each bit for bit the mean
+ * sl_weighted_summary gives for that row (the same sums in the same
+ * order), but read member by member, one pass over the members for every
+ * 64 rows. mean may be NULL in sl_weighted_summary to leave it to this. */
+void sl_weighted_means(size_t N, const double *x, size_t ld, size_t m,
+                       const size_t *rows, size_t base, const double *w,
+                       double *mean);
 
 #ifdef __cplusplus
 }

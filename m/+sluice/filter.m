@@ -326,6 +326,21 @@
 % quantity of @code{operators} at every cycle (@code{res.derived}); false
 % calls an operator function only at the cycles whose observations need
 % it.
+% @item summarize
+% which states get means and quantiles (filtered, forecast and smoothed):
+% @code{'visible'} (default) the states the model does not flag as
+% internal (@code{internal} of its spec, e.g. GR4J's unit-hydrograph
+% slots), @code{'all'} every state, or a cell of state names: the visible
+% states and those named (a parameter's name is accepted; the parameters
+% are always summarised). A state not summarised is still forecast,
+% observed, resampled and kept in @code{final} and @code{history}; its
+% rows of @code{states.mean}, @code{states.quantiles},
+% @code{forecast.mean} and @code{smoothed.states} are NaN (the arrays
+% keep their sizes) and @code{res.summarized_states} (1 x n logical) says
+% which were summarised (the field is there only when some state was
+% not). The summarised rows are bit for bit those of @code{'all'}. A
+% name that is no state or parameter of the model is an error
+% (@code{sluice:filter:unknownstate}).
 % @item lag
 % fixed-lag smoothing over that many cycles (a whole number; default 0:
 % off; @code{Inf}: over the whole run). For every cycle s the run also

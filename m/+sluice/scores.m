@@ -12,7 +12,10 @@
 % fails (@code{sluice:scores:notimes}).
 %
 % The result @var{s} has, per state (n x 1 columns) and over all states
-% (the field with suffix @code{_all}):
+% (the field with suffix @code{_all}). A state the run did not summarise
+% (@code{res.summarized_states} false: a model's internal state, by
+% default) has NaN error, RMSE and coverage, and the figures over states
+% (@code{_all}, @code{rmse_time}) are taken over the summarised states:
 % @table @code
 % @item error
 % n x K: @code{mean - truth} at each scored time.
@@ -129,12 +132,21 @@ function s = scores (res, truth, obs)
   s.times = res.times(cyc);
   s.state_names = res.state_names;
 
+  % the states the run summarised (option summarize of sluice.filter):
+  % the others have NaN means and quantiles and stay out of the figures
+  % over states
+  keep = true (n, 1);
+  if (isfield (res, 'summarized_states') && numel (res.summarized_states) == n)
+    keep = logical (res.summarized_states(:));
+  end
+
   % skill of the mean
   E = M - Y;
   s.error = E;
   s.rmse = sqrt (mean (E .^ 2, 2));
-  s.rmse_all = sqrt (mean (E(:) .^ 2));
-  s.rmse_time = sqrt (mean (E .^ 2, 1));
+  Ek = E(keep, :);
+  s.rmse_all = sqrt (mean (Ek(:) .^ 2));
+  s.rmse_time = sqrt (mean (Ek .^ 2, 1));
 
   % bands of symmetric quantile levels
   lev = res.quantile_levels(:)';
@@ -149,8 +161,10 @@ function s = scores (res, truth, obs)
     hi = reshape (res.states.quantiles(:, ihi(j), cyc), n, K);
     inside = (Y >= lo) & (Y <= hi);
     s.coverage(:, j) = mean (inside, 2);
+    inside = inside(keep, :);
     s.coverage_all(j) = mean (inside(:));
   end
+  s.coverage(~keep, :) = NaN;
 
   % spread and CRPS
   has_history = isfield (res, 'history') && isstruct (res.history) && ...
@@ -177,11 +191,13 @@ function s = scores (res, truth, obs)
   end
   s.spread_time = sqrt (V);
   s.spread = sqrt (mean (V, 2));
-  s.spread_all = sqrt (mean (V(:)));
+  Vk = V(keep, :);
+  s.spread_all = sqrt (mean (Vk(:)));
   s.spread_skill = s.spread ./ s.rmse;
   s.spread_skill_all = s.spread_all / s.rmse_all;
   s.crps = mean (s.crps_time, 2);
-  s.crps_all = mean (s.crps_time(:));
+  Ck = s.crps_time(keep, :);
+  s.crps_all = mean (Ck(:));
 
   % effective sample size and resampling over the whole run
   ess = res.ess(:)';

@@ -1649,6 +1649,117 @@ static void check_coupling(void)
     ck_free(Xf);
 }
 
+/* ------------------------------------------------------ summary rows */
+
+/* The records a run with summary rows makes: means, quantiles, forecast
+ * means and smoothed summaries (lag 2) of a two-state run with forcing. */
+typedef struct {
+    double mean[2 * 5], quant[2 * 3 * 5], fmean[2 * 5], smean[2 * 5], squant[2 * 3 * 5];
+    double ess[5], logz[5], resampled[5], degenerate[5], skipped[5], nonfinite[5];
+    double X[2 * 300], w[300], P[1];
+} rows_run;
+
+static sl_status run_rows(sl_pf_config *cfg, const double *X0, rows_run *r, sl_error *err)
+{
+    sl_pf_output out;
+    void *work = ck_malloc(sl_pf_workspace(cfg));
+    sl_status st;
+    memset(&out, 0, sizeof out);
+    out.mean = r->mean;
+    out.quant = r->quant;
+    out.fmean = r->fmean;
+    out.smean = r->smean;
+    out.squant = r->squant;
+    out.ess = r->ess;
+    out.logz = r->logz;
+    out.resampled = r->resampled;
+    out.degenerate = r->degenerate;
+    out.skipped = r->skipped;
+    out.nonfinite = r->nonfinite;
+    memcpy(r->X, X0, sizeof r->X);
+    st = sl_pf_run(cfg, r->X, r->P, r->w, work, &out, err);
+    ck_free(work);
+    return st;
+}
+
+/* The rows a run summarises: a summarised row's records are bit for bit
+ * those of the run that summarises every row, the others are NaN, and
+ * the ensemble is untouched; the row list is checked. */
+static void check_summary_rows(void)
+{
+    enum { N = 300, T = 5, NT = 20 };
+    const double times[T] = {1.0, 2.5, 3.0, 4.5, 6.0};
+    const double probs[3] = {0.05, 0.5, 0.95};
+    const size_t only1[1] = {1}, both[2] = {0, 1}, down[2] = {1, 0}, twice[2] = {0, 0},
+                 past[1] = {2};
+    double ft[NT], fv[NT], X0[2 * N];
+    sl_model md;
+    sl_pf_config cfg, c;
+    obs_table o;
+    sl_error err;
+    static rows_run all, one, listed;
+    sl_status s1, s2, s3;
+    size_t j, k, l;
+    int ok = 1, blank = 1;
+
+    CHECK(sl_linear_model(&md, &lin2, 0.5, &err) == SL_OK, "model: %s", err.message);
+    forcing_series(ft, fv, NT);
+    two_state_obs(&o);
+    base_config(&cfg, &md, N, T, times, &o);
+    cfg.forcing.nt = NT;
+    cfg.forcing.time = ft;
+    cfg.forcing.value = fv;
+    cfg.nq = 3;
+    cfg.probs = probs;
+    cfg.lag = 2;
+    for (j = 0; j < 2 * N; j++) {
+        sl_stream s;
+        sl_stream_init(&s, 9u, (uint32_t)j, 0, SL_PURPOSE_PRIOR);
+        X0[j] = 0.5 * sl_stream_normal(&s);
+    }
+    s1 = run_rows(&cfg, X0, &all, &err);
+    c = cfg;
+    c.summary_rows = only1;
+    c.n_summary_rows = 1;
+    s2 = run_rows(&c, X0, &one, &err);
+    c.summary_rows = both;
+    c.n_summary_rows = 2;
+    s3 = run_rows(&c, X0, &listed, &err);
+    CHECK(s1 == SL_OK && s2 == SL_OK && s3 == SL_OK, "summary-row runs: %s", err.message);
+    if (s1 == SL_OK && s2 == SL_OK && s3 == SL_OK) {
+        CHECK(same(&all, &listed, sizeof all), "every row listed: the run without a list");
+        CHECK(same(all.X, one.X, sizeof all.X) && same(all.w, one.w, sizeof all.w) &&
+              same(all.ess, one.ess, sizeof all.ess) && same(all.logz, one.logz, sizeof all.logz),
+              "the ensemble does not depend on the rows summarised");
+        for (k = 0; k < T; k++) {
+            ok = ok && same(&all.mean[1 + 2 * k], &one.mean[1 + 2 * k], sizeof(double)) &&
+                 same(&all.fmean[1 + 2 * k], &one.fmean[1 + 2 * k], sizeof(double)) &&
+                 same(&all.smean[1 + 2 * k], &one.smean[1 + 2 * k], sizeof(double));
+            blank = blank && isnan(one.mean[2 * k]) && isnan(one.fmean[2 * k]) &&
+                    isnan(one.smean[2 * k]) && !isnan(all.mean[2 * k]);
+            for (l = 0; l < 3; l++) {
+                size_t at = 2 * l + 6 * k;
+                ok = ok && same(&all.quant[at + 1], &one.quant[at + 1], sizeof(double)) &&
+                     same(&all.squant[at + 1], &one.squant[at + 1], sizeof(double));
+                blank = blank && isnan(one.quant[at]) && isnan(one.squant[at]);
+            }
+        }
+        CHECK(ok, "a summarised row: bit for bit the run that summarises all");
+        CHECK(blank, "a row not summarised: NaN in every record");
+    }
+    c = cfg;
+    c.n_summary_rows = 2;
+    c.summary_rows = down;
+    expect_fail(&c, SL_EINVAL, "badconfig", "summary rows decreasing");
+    c.summary_rows = twice;
+    expect_fail(&c, SL_EINVAL, "badconfig", "a summary row twice");
+    c.n_summary_rows = 1;
+    c.summary_rows = past;
+    expect_fail(&c, SL_EINVAL, "badconfig", "a summary row past the last");
+    c.n_summary_rows = 0;
+    expect_ok(&c, "no row summarised");
+}
+
 int main(void)
 {
     check_resample_move();
@@ -1668,5 +1779,6 @@ int main(void)
     check_derived_summary();
     check_lag();
     check_coupling();
+    check_summary_rows();
     CHECK_DONE("test_pf");
 }

@@ -248,6 +248,16 @@ static void run_case(unsigned id, const spec *c)
         q[k] = sentinel;
 
     sl_weighted_summary(N, x, inc, w, nq, probs, &mean, q, qinc, work);
+    {
+        /* the means read member by member: the same bits */
+        double m1 = 0.0, m2 = 0.0;
+        const size_t row0 = 0;
+        sl_weighted_means(N, x, inc, 1, NULL, 0, w, &m1);
+        sl_weighted_means(N, x, inc, 1, &row0, 0, w, &m2);
+        CHECK(memcmp(&m1, &mean, sizeof mean) == 0 && memcmp(&m2, &mean, sizeof mean) == 0,
+              "case %u: sl_weighted_means %.17g, %.17g, sl_weighted_summary %.17g", id, m1,
+              m2, mean);
+    }
     npos = reference(N, x, inc, w, nq, probs, &mref, &scale, qref, buf, cum);
     if (npos == 0) {
         CHECK(0, "case %u: no member of positive weight was drawn", id);
@@ -380,6 +390,46 @@ static void check_wide_mean(void)
     CHECK_REL(mean, 5e307, 1e-15, "wide range: mean with weights 1 and 3");
 }
 
+/* sl_weighted_means over many rows at once (more than one block of 64,
+ * a row list with a base): each row's mean has the bits of
+ * sl_weighted_summary's for that row alone. */
+static void check_means_rows(void)
+{
+    enum { N = 300, LD = 150 };
+    static double x[LD * N], w[N], m[LD], mp[LD], work[8 * N + 2048];
+    size_t rows[LD], nr = 0, i, j, bad = 0;
+    sl_stream s;
+    sl_stream_init(&s, 77u, 0, 0, SL_PURPOSE_USER);
+    for (j = 0; j < N; j++)
+        w[j] = j % 7 == 3 ? 0.0 : sl_stream_uniform(&s);
+    for (i = 0; i < LD; i++)
+        for (j = 0; j < N; j++)
+            x[i + j * LD] = w[j] > 0 ? draw_value(&s, (int)(i % V_KINDS)) : junk_value(&s);
+    for (i = 5; i < LD; i += 1 + i % 3)
+        rows[nr++] = i;
+    for (i = 0; i < LD; i++)
+        m[i] = mp[i] = -1.0;
+    sl_weighted_means(N, x, LD, LD, NULL, 0, w, m);
+    sl_weighted_means(N, x + 5, LD, nr, rows, 5, w, mp);
+    for (i = 0; i < LD; i++) {
+        double want;
+        sl_weighted_summary(N, x + i, LD, w, 0, NULL, &want, NULL, 1, work);
+        bad += memcmp(&m[i], &want, sizeof want) != 0;
+    }
+    for (i = 0; i < nr; i++) {
+        double want;
+        sl_weighted_summary(N, x + rows[i], LD, w, 0, NULL, &want, NULL, 1, work);
+        bad += memcmp(&mp[rows[i] - 5], &want, sizeof want) != 0;
+    }
+    CHECK(bad == 0, "sl_weighted_means over %d rows: %lu means differ from "
+          "sl_weighted_summary's", LD, (unsigned long)bad);
+    CHECK(mp[1] == -1.0 && mp[2] == -1.0, "a row not listed is not written");
+    for (j = 0; j < N; j++)
+        w[j] = 0.0;
+    sl_weighted_means(N, x, LD, 3, NULL, 0, w, m);
+    CHECK(isnan(m[0]) && isnan(m[2]), "no weight: NaN means");
+}
+
 int main(void)
 {
     static const size_t fixed_N[] = {1, 2, 3, 5, 47, 48, 49, 50, 64, 100,
@@ -393,6 +443,7 @@ int main(void)
     sl_stream s;
 
     check_by_hand();
+    check_means_rows();
     check_no_weight();
     check_wide_mean();
 

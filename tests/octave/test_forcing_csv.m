@@ -239,7 +239,8 @@
 %! run = {'members', 200, 'seed', 5, 't0', 0, 'forcing_noise', fn, 'progress', false};
 %! r1 = sluice.filter (s, pg, o, run{:}, 'forcing', numeric);
 %! r2 = sluice.filter (s, pg, o, run{:}, 'forcing', fo, 'origin', '2003-10-01');
-%! assert (isequal (r1.states, r2.states));
+%! % isequaln: the queues' rows are NaN in both (not summarised)
+%! assert (isequaln (r1.states, r2.states));
 %! assert (isequal (r1.params, r2.params));
 %! assert (isequal (r1.log_evidence, r2.log_evidence));
 %! assert (r2.time_origin, '2003-10-01');
@@ -249,7 +250,7 @@
 %! w1 = sluice.twin (s, struct ('times', 0:20, 'params', [300; 0.5; 80; 1.8], 'forcing', numeric), net, tw{:});
 %! w2 = sluice.twin (s, struct ('times', 0:20, 'params', [300; 0.5; 80; 1.8], 'forcing', fo), net, tw{:});
 %! assert (isequal (w1.truth, w2.truth));
-%! assert (isequal (w1.filter.states, w2.filter.states));
+%! assert (isequaln (w1.filter.states, w2.filter.states));
 
 %!test
 %! % names decide, not the order: a forcing the file lacks is refused

@@ -12,6 +12,9 @@ function check_result (res, pos, fn, need)
     need = {};
   end
   need = [{'times', 'state_names', 'states', 'quantile_levels', 'ess', 'resampled'}, need];
+  if (any (strcmp (need, 'params')) && ~any (strcmp (need, 'param_names')))
+    need{end+1} = 'param_names';   % the parameters' summaries are read by name
+  end
   [id, where] = sluice.internal.result_fields (res, pos, fn, 'badresult', 'sluice.filter', ...
                                              'a filter result', need);
   t = res.times;
@@ -34,6 +37,14 @@ function check_result (res, pos, fn, need)
     % only a caller that reads the parameters' summaries asks for them
     p = name_list (res.param_names, 'param_names', where, id);
     summary (res.params, 'params', p, L, T, where, id);
+  end
+  if (isfield (res, 'summarized_states'))
+    f = res.summarized_states;
+    if (~((islogical (f) || is_real (f)) && isvector (f) && numel (f) == n && ...
+          all (f == 0 | f == 1)))
+      error (id, ['%s: field ''summarized_states'' must be %d logical flags, one per ', ...
+                  'state, got %s'], where, n, sluice.internal.describe (f));
+    end
   end
   if (isfield (res, 'members'))
     m = res.members;

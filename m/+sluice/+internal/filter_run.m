@@ -143,6 +143,7 @@ function R = prepare (model, prior, obs, opts, fn)
   c.op_funs = ops.funs;
   c.op_rows = ops.rows;
   c.derived_summary = double (opts.derived_summary && ~isempty (ops.names));
+  c = summary_rows (c, opts.summarize, model, fn);
   c.state_noise = expand (opts.state_noise, n, 'state_noise', fn);
   if (all (c.state_noise == 0))
     c.state_noise = [];
@@ -252,6 +253,11 @@ function res = execute (R)
   if (isfield (model, 'internal') && any (model.internal))
     % states that are the model's own bookkeeping: not drawn by default
     res.internal_states = logical (model.internal(:)');
+  end
+  if (isfield (c, 'summary_rows'))
+    % the states whose means and quantiles were recorded (the others NaN)
+    res.summarized_states = false (1, n);
+    res.summarized_states(c.summary_rows(c.summary_rows <= n)) = true;
   end
   res.param_names = model.params;
   res.quantile_levels = opts.quantiles;
@@ -609,6 +615,35 @@ function warn_diversity (res, P0, lower, upper, obs_value, cyc)
   end
 end
 
+function c = summary_rows (c, sm, model, fn)
+  % the states the run summarises (option summarize): the visible ones
+  % (not flagged internal by the model) and those named, or all; the
+  % parameters always. With every row summarised the settings carry no
+  % row list (the core's default: all rows).
+  n = numel (model.states);
+  internal = false (1, n);
+  if (isfield (model, 'internal') && numel (model.internal) == n)
+    internal = logical (model.internal(:)');
+  end
+  if (ischar (sm))
+    summarized = ~internal | strcmp (sm, 'all');
+  else
+    [known, at] = ismember (sm, model.states);
+    bad = find (~known & ~ismember (sm, model.params), 1);
+    if (~isempty (bad))
+      error (['sluice:' fn ':unknownstate'], ...
+             'summarize names ''%s'', which is neither a state nor a parameter of the model', ...
+             sm{bad});
+    end
+    summarized = ~internal;
+    summarized(at(known)) = true;
+  end
+  if (~all (summarized))
+    % 1-based rows, increasing: the states, then every parameter
+    c.summary_rows = [find(summarized), n + (1:numel (model.params))];
+  end
+end
+
 function opts = parse_options (args, fn)
   % the run's options: the defaults (sluice.internal.run_defaults),
   % checked and put in their working form once per session, with the
@@ -816,6 +851,18 @@ function opts = check_options (opts, g, fn)
       error (['sluice:' fn ':badoption'], 'derived_summary must be true or false');
     end
     opts.derived_summary = logical (opts.derived_summary);
+  end
+  if (g.summarize)
+    sm = opts.summarize;
+    if (ischar (sm) && isrow (sm) && any (strcmp (sm, {'visible', 'all'})))
+      % a keyword
+    elseif (iscellstr (sm) && all (cellfun (@(x) isrow (x) || isempty (x), sm(:))))
+      opts.summarize = sm(:)';
+    else
+      error (['sluice:' fn ':badoption'], ...
+             'summarize must be ''visible'', ''all'' or a cell of state names, got %s', ...
+             sluice.internal.describe (sm));
+    end
   end
   if (g.lag)
     lag = opts.lag;
