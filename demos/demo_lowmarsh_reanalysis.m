@@ -36,7 +36,7 @@
 % The rain the filter is given is the catchment's gauge record: each
 % day's true total times a lognormal error (sdlog 0.25), which the filter
 % models as multiplicative forcing noise of the same size.
-% The reanalysis: the particle filter (500 members), weakly coupled (the
+% The reanalysis: the particle filter (1000 members), weakly coupled (the
 % river's states, X1 and a weighed by the river's observations, the
 % town's states and muS by the town's), with X1, a and muS unknown
 % (lognormal priors around the model's defaults) and let to drift as
@@ -88,7 +88,7 @@ function [res, info] = demo_lowmarsh_reanalysis (outdir, scale)
   end
   if (strcmp (scale, 'full'))
     c = struct ('years', 60, 'gauge', 20, 'census', 10, 'survey', 15, 'quest', 5, ...
-                'members', 500, 'bench_years', 10);
+                'members', 1000, 'bench_years', 10);
   else
     c = struct ('years', 6, 'gauge', 2, 'census', 3, 'survey', 4, 'quest', 2, ...
                 'members', 60, 'bench_years', 1);
