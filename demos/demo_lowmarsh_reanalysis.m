@@ -252,8 +252,9 @@ function [res, info] = demo_lowmarsh_reanalysis (outdir, scale)
     if (v < lo || v > hi)
       word = 'OUTSIDE';
     end
-    fprintf ('    %-4s %8.3f [%8.3f, %8.3f]   truth %8.3f (%s the band)   prior median %8.3f\n', ...
-             estimated{k}, res.params.mean(i, end), lo, hi, v, word, exp (prior(k).args(1)));
+    fprintf ('    %-4s %8.3f [%8.3f, %8.3f]   truth %8.3f (%s the band)   prior median %8.3f   %d distinct values\n', ...
+             estimated{k}, res.params.mean(i, end), lo, hi, v, word, exp (prior(k).args(1)), ...
+             r.params.distinct(strcmp (r.param_names, estimated{k}), end));
   end
   % the town at its censuses: the census, the truth and the reanalysis
   iG = find (strcmp (res.state_names, 'G'));
