@@ -1,6 +1,6 @@
 % The reanalysis output of the coupled model river_town: the demo
 % demos/demo_lowmarsh_reanalysis.m at its reduced size (6 years, 60
-% members) writes the smoothed trajectories as CSV and as NetCDF through
+% members) writes the filtered trajectories of its weakly coupled run as CSV and as NetCDF through
 % sluice.save_run. The NetCDF file is read back with Octave's netcdf
 % package (its low-level netcdf_* functions) and, where installed, with the
 % NetCDF library's own ncdump, and checked against the CF conventions
@@ -66,7 +66,8 @@
 
 %!test
 %! % the NetCDF file through the netcdf package's low-level functions (netcdf_*):
-%! % every smoothed and filtered summary equal to the bit
+%! % every filtered summary equal to the bit (the weakly coupled run has
+%! % no smoother, so the file holds no smoothed summaries)
 %! ncid = netcdf_open (nc, 'NC_NOWRITE');
 %! unwind_protect
 %!   get = @(name) netcdf_getVar (ncid, netcdf_inqVarID (ncid, name));
@@ -74,22 +75,23 @@
 %!   assert (isequal (typecast (t(:), 'uint64'), typecast (res.times(:), 'uint64')));
 %!   lv = get ('quantile');
 %!   assert (lv(:)', res.quantile_levels);
+%!   assert (~isfield (res, 'smoothed'));
+%!   assert (res.coupling.mode, 'weak');
 %!   for k = 1:numel (res.state_names)
 %!     s = res.state_names{k};
-%!     m = get ([s '_smoothed_mean']);
-%!     assert (isequal (typecast (m(:), 'uint64'), ...
-%!                      typecast (res.smoothed.states.mean(k, :)', 'uint64')), s);
-%!     q = get ([s '_smoothed_quantiles']);       % quantile x time in Octave's order
-%!     want = squeeze (res.smoothed.states.quantiles(k, :, :));
+%!     m = get ([s '_mean']);
+%!     assert (isequal (typecast (m(:), 'uint64'), typecast (res.states.mean(k, :)', 'uint64')), s);
+%!     q = get ([s '_quantiles']);                % quantile x time in Octave's order
+%!     want = squeeze (res.states.quantiles(k, :, :));
 %!     assert (isequal (typecast (q(:), 'uint64'), typecast (want(:), 'uint64')), s);
-%!     f = get ([s '_mean']);
-%!     assert (isequal (typecast (f(:), 'uint64'), typecast (res.states.mean(k, :)', 'uint64')), s);
 %!   end
 %!   for k = 1:numel (res.param_names)
 %!     p = res.param_names{k};
-%!     m = get ([p '_smoothed_mean']);
-%!     assert (isequal (typecast (m(:), 'uint64'), ...
-%!                      typecast (res.smoothed.params.mean(k, :)', 'uint64')), p);
+%!     m = get ([p '_mean']);
+%!     assert (isequal (typecast (m(:), 'uint64'), typecast (res.params.mean(k, :)', 'uint64')), p);
+%!     q = get ([p '_quantiles']);
+%!     want = squeeze (res.params.quantiles(k, :, :));
+%!     assert (isequal (typecast (q(:), 'uint64'), typecast (want(:), 'uint64')), p);
 %!   end
 %!   % CF: the Conventions attribute (2.6.1); time in days since a date
 %!   % with its standard_name and calendar (4.4)
@@ -115,12 +117,12 @@
 %!     end
 %!   end
 %!   % units and descriptions of the states from the demo's options
-%!   qid = netcdf_inqVarID (ncid, 'Q_smoothed_mean');
+%!   qid = netcdf_inqVarID (ncid, 'Q_mean');
 %!   assert (netcdf_getAtt (ncid, qid, 'units'), 'mm d-1');
 %!   assert (~isempty (strfind (netcdf_getAtt (ncid, qid, 'long_name'), ...
 %!                              'Q (river flow at the town gauge')));
-%!   assert (netcdf_getAtt (ncid, netcdf_inqVarID (ncid, 'H_smoothed_quantiles'), 'units'), 'm');
-%!   assert (netcdf_getAtt (ncid, netcdf_inqVarID (ncid, 'X1_smoothed_mean'), 'units'), 'mm');
+%!   assert (netcdf_getAtt (ncid, netcdf_inqVarID (ncid, 'H_quantiles'), 'units'), 'm');
+%!   assert (netcdf_getAtt (ncid, netcdf_inqVarID (ncid, 'X1_mean'), 'units'), 'mm');
 %! unwind_protect_cleanup
 %!   netcdf_close (ncid);
 %! end_unwind_protect
@@ -142,13 +144,13 @@
 %!   assert (st, 0);
 %!   assert (~isempty (strfind (head, ':Conventions = "CF-1.8"')));
 %!   assert (~isempty (strfind (head, 'time:units = "days since 1960-01-01 00:00:00"')));
-%!   assert (~isempty (strfind (head, 'Q_smoothed_mean:units = "mm d-1"')));
-%!   [st, txt] = system (sprintf ('"%s" -p 17,17 -v Q_smoothed_mean "%s"', p, nc));
+%!   assert (~isempty (strfind (head, 'Q_mean:units = "mm d-1"')));
+%!   [st, txt] = system (sprintf ('"%s" -p 17,17 -v Q_mean "%s"', p, nc));
 %!   assert (st, 0);
-%!   data = regexp (txt, 'Q_smoothed_mean =([^;]*);', 'tokens', 'once');
+%!   data = regexp (txt, 'Q_mean =([^;]*);', 'tokens', 'once');
 %!   vals = str2double (strsplit (strtrim (strrep (data{1}, char (10), ' ')), ','));
 %!   iq = find (strcmp (res.state_names, 'Q'));
-%!   assert (isequal (vals, res.smoothed.states.mean(iq, :)));
+%!   assert (isequal (vals, res.states.mean(iq, :)));
 %! end
 
 %!test
@@ -171,10 +173,10 @@
 %! for k = 1:numel (res.state_names)
 %!   s = res.state_names{k};
 %!   c = 2 + 4 * (k - 1);
-%!   assert (isequal (str2double (cells(:, c + 1)), printed (res.smoothed.states.mean(k, :))), s);
+%!   assert (isequal (str2double (cells(:, c + 1)), printed (res.states.mean(k, :))), s);
 %!   for j = 1:3
 %!     assert (isequal (str2double (cells(:, c + 1 + j)), ...
-%!                      printed (res.smoothed.states.quantiles(k, j, :))), s);
+%!                      printed (res.states.quantiles(k, j, :))), s);
 %!   end
 %! end
 %! lines = strsplit (strtrim (fileread (fullfile (out, 'reanalysis_params.csv'))), char (10));
@@ -182,8 +184,8 @@
 %!                    'muS_mean,muS_q05,muS_q50,muS_q95']);
 %! cells = cellfun (@(l) strsplit (l, ','), lines(2:end), 'UniformOutput', false);
 %! cells = vertcat (cells{:});
-%! assert (isequal (str2double (cells(:, 3)), printed (res.smoothed.params.mean(1, :))));
-%! assert (isequal (str2double (cells(:, 14)), printed (res.smoothed.params.quantiles(3, 3, :))));
+%! assert (isequal (str2double (cells(:, 3)), printed (res.params.mean(1, :))));
+%! assert (isequal (str2double (cells(:, 14)), printed (res.params.quantiles(3, 3, :))));
 
 %!test
 %! % a target that cannot be written: a clear error and nothing at the
