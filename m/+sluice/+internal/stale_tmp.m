@@ -18,16 +18,20 @@ function removed = stale_tmp (file)
     folder = '.';
   end
   pattern = ['^' regexptranslate('escape', [name ext]) '\.tmp(\d+)$'];
-  d = dir (folder);
-  for k = 1:numel (d)
-    tok = regexp (d(k).name, pattern, 'tokens', 'once');
-    if (d(k).isdir || isempty (tok))
+  % only the names that start as the file's temporaries do, not the
+  % whole folder (dir of a shared /tmp stats every entry and warns of
+  % those that vanish meanwhile); the pattern above then picks exactly
+  found = sluice.internal.compat ('glob', [fullfile(folder, [name ext]) '.tmp*']);
+  for k = 1:numel (found)
+    [~, base, bext] = fileparts (found{k});
+    tok = regexp ([base bext], pattern, 'tokens', 'once');
+    if (isempty (tok) || exist (found{k}, 'dir'))
       continue;
     end
     % the pid as the writer printed it (%d); more digits than any pid
     % has name no process
     if (numel (tok{1}) > 15 || ~exist (proc_dir (str2double (tok{1})), 'dir'))
-      f = fullfile (folder, d(k).name);
+      f = fullfile (folder, [base bext]);
       if (sluice.internal.compat ('delete_file', f) == 0)
         removed{end + 1} = f;
       end
