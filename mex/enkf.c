@@ -83,6 +83,10 @@ void mexFunction(int nlhs, mxArray *plhs[], int nrhs, const mxArray *prhs[])
     cfg.cycle = (uint32_t)slm_integer(FN, slm_field(FN, c, "cycle", 1), 5, "cycle", 0, 4294967295.0);
     cfg.threads = slm_threads(slm_integer(FN, slm_field(FN, c, "threads", 1), 5, "threads", 0, 256));
     cfg.eig_floor = fnum(c, "eig_floor");
+    g = slm_field(FN, c, "etkf_form", 0);
+    if (g != NULL)
+        cfg.etkf_form = (int)slm_integer(FN, g, 5, "etkf_form", SL_ETKF_AUTO,
+                                         SL_ETKF_OBSERVATION);
     g = slm_field(FN, c, "geometry", 0);
     if (g != NULL && mxGetNumberOfElements(g) > 0) {
         char *gname = slm_string(FN, g, 5, "geometry");

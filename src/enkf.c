@@ -45,10 +45,29 @@ extern void dpotrs_(const char *uplo, const int *n, const int *nrhs,
 extern void dsyev_(const char *jobz, const char *uplo, const int *n, double *a,
                    const int *lda, double *w, double *work, const int *lwork,
                    int *info, size_t, size_t);
+extern void dsyevr_(const char *jobz, const char *range, const char *uplo,
+                    const int *n, double *a, const int *lda, const double *vl,
+                    const double *vu, const int *il, const int *iu,
+                    const double *abstol, int *found, double *w, double *z,
+                    const int *ldz, int *isuppz, double *work, const int *lwork,
+                    int *iwork, const int *liwork, int *info, size_t, size_t,
+                    size_t);
 
 #define BLOCK_ROWS 64        /* state rows per pass of the row loops */
 #define CHUNK 256            /* observations / members per packed slice */
 #define LWORK_PER_MEMBER 66  /* dsyev's optimal work, (block 64 + 2) N */
+/* dsyevr (relatively robust representations) for a symmetric eigenproblem
+ * of order k >= MRRR_MIN with at least k observations: its optimal work,
+ * (block 64 + 6) k doubles, then 2 k + 10 k ints (isuppz, iwork) in 6 k
+ * doubles. Its speed against dsyev's on (N - 1) I + S^T S and S S^T with
+ * m = 2N and N = 4m (Debian's OpenBLAS LAPACK, one session): 0.8 at
+ * k = 10, 0.9 at 20-32, 1.1 at 64, 1.2-1.6 at 100, 1.3-1.9 at 150,
+ * 1.9-2.7 at 300, 5.4 at 500; but 0.44-0.84 on (N - 1) I + S^T S with
+ * m = 5 and N = 500-2000, whose eigenvalues cluster at N - 1 (which dsyev
+ * deflates at once). */
+#define MRRR_MIN 64
+#define MRRR_WORK 70
+#define MRRR_PER_ORDER (MRRR_WORK + 6)
 #define DEFAULT_FLOOR 1e-12
 
 static const int I1 = 1;
@@ -75,6 +94,7 @@ typedef struct {
     void *lw;      /* LETKF's own workspace */
     size_t b;
     int lwork;
+    int mrrr;      /* 1: the eigenproblem goes to dsyevr (see MRRR_MIN) */
 } buffers;
 
 static size_t mul(size_t a, size_t b, int *bad)
@@ -156,6 +176,26 @@ static void layout_stochastic(carving *c, const sl_enkf_config *cfg, buffers *w)
     w->G = sl_ws_take(c->base, &c->off, mul(c->b, c->m, &c->bad), sizeof(double));
 }
 
+/* The eigensolver's work for a problem of order k with m observations:
+ * dsyevr's (and its ints) from MRRR_MIN on when m >= k (the eigenvalues
+ * then spread), else dsyev's. From order MRRR_MIN on the larger of the
+ * two is reserved either way, so that the size never decreases when N
+ * grows past m. */
+static void eig_work(carving *c, buffers *w, size_t k, size_t m)
+{
+    size_t d;
+    if (k < 1)
+        k = 1;
+    if (k > INT_MAX / MRRR_PER_ORDER) {
+        c->bad = 1;
+        return;
+    }
+    w->mrrr = k >= MRRR_MIN && m >= k;
+    w->lwork = (int)((w->mrrr ? MRRR_WORK : LWORK_PER_MEMBER) * k);
+    d = (k >= MRRR_MIN ? MRRR_PER_ORDER : LWORK_PER_MEMBER) * k;
+    w->ev = sl_ws_take(c->base, &c->off, d, sizeof(double));
+}
+
 static void layout_etkf(carving *c, const sl_enkf_config *cfg, buffers *w)
 {
     const size_t n = c->n, N = c->N, m = c->m;
@@ -166,14 +206,17 @@ static void layout_etkf(carving *c, const sl_enkf_config *cfg, buffers *w)
         /* m x m eigenvectors, the (m + 1) x N rows of the transform and
          * the mean's weights, m eigenvalues, N weights, m scratch; the
          * row blocks (see obs_block) in blk */
-        size_t kb = N + m + 3, bo = obs_block(n, kb), region;
+        size_t kb = N + m + 3, bo = obs_block(n, kb), region, tn;
+        eig_work(c, w, m, m);
+        /* T also takes dsyevr's eigenvectors (m x m) before the transform */
+        tn = mul(m + 1, N, &c->bad);
+        if (w->mrrr && tn < mul(m, m, &c->bad))
+            tn = mul(m, m, &c->bad);
         w->A = sl_ws_take(c->base, &c->off, mul(m, m, &c->bad), sizeof(double));
-        w->T = sl_ws_take(c->base, &c->off, mul(m + 1, N, &c->bad), sizeof(double));
+        w->T = sl_ws_take(c->base, &c->off, tn, sizeof(double));
         w->lam = sl_ws_take(c->base, &c->off, m, sizeof(double));
         w->tv = sl_ws_take(c->base, &c->off, N, sizeof(double));
         w->wv = sl_ws_take(c->base, &c->off, m, sizeof(double));
-        w->lwork = (int)(LWORK_PER_MEMBER * (m > 0 ? m : 1));
-        w->ev = sl_ws_take(c->base, &c->off, (size_t)w->lwork, sizeof(double));
         /* bo kb doubles at most: min(n, max(BLOCK_ROWS, OBS_BLOCK / kb
          * rounded up)) kb <= min(n kb, max(BLOCK_ROWS kb, OBS_BLOCK +
          * kb)), which never decreases when n, N or m grow */
@@ -190,8 +233,7 @@ static void layout_etkf(carving *c, const sl_enkf_config *cfg, buffers *w)
         w->lam = sl_ws_take(c->base, &c->off, N, sizeof(double));
         w->tv = sl_ws_take(c->base, &c->off, N, sizeof(double));
         w->wv = sl_ws_take(c->base, &c->off, N, sizeof(double));
-        w->lwork = (int)(LWORK_PER_MEMBER * (N > 0 ? N : 1));
-        w->ev = sl_ws_take(c->base, &c->off, (size_t)w->lwork, sizeof(double));
+        eig_work(c, w, N, m);
         w->blk = sl_ws_take(c->base, &c->off, c->bN, sizeof(double));
     }
 }
@@ -697,9 +739,33 @@ static double innov_dof_diag(size_t N, size_t m, const double *HX,
 
 /* ---------------------------------------------------------------- ETKF */
 
+/* Eigenvalues (ascending, in lam) and eigenvectors (over A) of the
+ * symmetric k x k matrix in A's lower triangle: dsyev, or dsyevr (see
+ * MRRR_MIN) with the eigenvectors in Z (k x k scratch) copied over A.
+ * The LAPACK info (0: done); *name the routine's name. */
+static int sym_eigen(int k, double *A, double *Z, double *lam, buffers *w,
+                     const char **name)
+{
+    int info = 0;
+    if (w->mrrr) {
+        const int liwork = 10 * k, il = 0, iu = 0;
+        const double vl = 0.0, vu = 0.0, abstol = 0.0;
+        int *isuppz = (int *)(void *)(w->ev + w->lwork), *iwork = isuppz + 2 * k, found = 0;
+        *name = "dsyevr";
+        dsyevr_("V", "A", "L", &k, A, &k, &vl, &vu, &il, &iu, &abstol, &found, lam, Z, &k,
+                isuppz, w->ev, &w->lwork, iwork, &liwork, &info, 1, 1, 1);
+        if (info == 0)
+            memcpy(A, Z, (size_t)k * (size_t)k * sizeof(double));
+        return info;
+    }
+    *name = "dsyev";
+    dsyev_("V", "L", &k, A, &k, lam, w->ev, &w->lwork, &info, 1, 1);
+    return info;
+}
+
 /* The ETKF of run_etkf worked out in observation space, for m < N: with
  * the whitened S (m x N) and d already in w->yp and w->dv, and the
- * eigen-decomposition S S^T = U diag(lam) U^T (dsyev, m x m; lam >= 0 after
+ * eigen-decomposition S S^T = U diag(lam) U^T (sym_eigen, m x m; lam >= 0 after
  * rounding is clipped), the ensemble-space matrix (N - 1) I + S^T S has the
  * eigenvalues L_k = N - 1 + lam_k on the directions v_k = S^T u_k /
  * sqrt(lam_k) and N - 1 on the N - m others (floored as there). Then
@@ -728,6 +794,7 @@ static sl_status etkf_obs_space(const sl_enkf_config *cfg, size_t n, size_t N,
     double lmax, fl, Lo, c0, acc = 0.0;
     size_t i, j, k, i0;
     int info = 0;
+    const char *solver = "dsyev";
 
     sl_status st;
 
@@ -736,11 +803,10 @@ static sl_status etkf_obs_space(const sl_enkf_config *cfg, size_t n, size_t N,
         return fail_nonfinite(err);
     if ((st = poll_stop(cfg, err)) != SL_OK)
         return st;
-    dsyev_("V", "L", &im, U, &im, lam, w->ev, &w->lwork, &info, 1, 1);
-    if (info != 0)
+    if ((info = sym_eigen(im, U, V, lam, w, &solver)) != 0)
         return sl_fail(err, SL_ENUMERIC, "noconvergence",
                        "the eigen-decomposition of the observation-space matrix failed "
-                       "(LAPACK dsyev info %d)", info);
+                       "(LAPACK %s info %d)", solver, info);
     for (k = 0; k < m; k++)
         if (!(lam[k] > 0))
             lam[k] = 0.0; /* rounding below zero (NaN is caught next) */
@@ -819,7 +885,7 @@ static sl_status etkf_obs_space(const sl_enkf_config *cfg, size_t n, size_t N,
 /* The symmetric square-root ETKF (Hunt et al. 2007): with the
  * whitened perturbations S = R^{-1/2} HX' (rows scaled by 1/sqrt(r) for a
  * diagonal R, else L^{-1} HX' with R = L L^T) and d = R^{-1/2}(y - Hxbar),
- * Pa~ = [(N - 1) I + S^T S]^{-1} = Q diag(1/lam) Q^T (dsyev; eigenvalues
+ * Pa~ = [(N - 1) I + S^T S]^{-1} = Q diag(1/lam) Q^T (sym_eigen; eigenvalues
  * under eig_floor * max raised to it and counted), w = Pa~ S^T d,
  * W = [(N - 1) Pa~]^{1/2} = Q diag(sqrt((N - 1)/lam)) Q^T, exactly
  * symmetric (a dsyrk of Q diag(((N - 1)/lam)^{1/4}) mirrored), and
@@ -840,6 +906,7 @@ static sl_status run_etkf(const sl_enkf_config *cfg, size_t n, size_t N,
     double lmax, fl, acc = 0.0;
     size_t i, j, k, i0;
     int info = 0;
+    const char *solver = "dsyev";
     sl_status st;
 
     obs_perturbations(m, N, HX, infl, w->ybar, yp, 0);
@@ -867,11 +934,10 @@ static sl_status run_etkf(const sl_enkf_config *cfg, size_t n, size_t N,
         return fail_nonfinite(err);
     if ((st = poll_stop(cfg, err)) != SL_OK)
         return st;
-    dsyev_("V", "L", &iN, A, &iN, lam, w->ev, &w->lwork, &info, 1, 1);
-    if (info != 0)
+    if ((info = sym_eigen(iN, A, T, lam, w, &solver)) != 0)
         return sl_fail(err, SL_ENUMERIC, "noconvergence",
                        "the eigen-decomposition of the ensemble-space matrix failed "
-                       "(LAPACK dsyev info %d)", info);
+                       "(LAPACK %s info %d)", solver, info);
     lmax = lam[N - 1];
     if (!(lmax > 0 && lmax < HUGE_VAL))
         return fail_nonfinite(err);

@@ -25,7 +25,10 @@
 % @code{state_pos} (n x dim; NaN rows are not localised),
 % @code{obs_pos} (m x dim), @code{radius} (Gaspari-Cohn half-width, scalar
 % or m values) and @code{param_factor}. The serial methods and the LETKF
-% need a diagonal R.
+% need a diagonal R. @code{etkf_form} chooses the matrices of the ETKF:
+% @code{'auto'} (default: m x m when m < N, else N x N),
+% @code{'ensemble'} (N x N) or @code{'observation'} (m x m); the forms
+% agree to rounding.
 %
 % @var{info} has @code{floored} (eigenvalues raised to the floor of an
 % ill-conditioned problem), @code{local_skipped} (LETKF rows with no
@@ -38,8 +41,16 @@ function [Xa, info] = enkf (Xf, HXf, y, R, varargin)
   end
   opts = struct ('method', 'etkf', 'inflation', 1, 'rtpp', 0, 'rtps', 0, ...
                  'seed', 0, 'cycle', 0, 'threads', 0, 'localization', [], ...
-                 'eig_floor', 0);
+                 'eig_floor', 0, 'etkf_form', 'auto');
   opts = sluice.internal.name_value (opts, varargin, 'enkf');
+  form = [];
+  if (ischar (opts.etkf_form))
+    form = find (strcmp (opts.etkf_form, {'auto', 'ensemble', 'observation'})) - 1;
+  end
+  if (isempty (form))
+    error ('sluice:enkf:badoption', ...
+           'etkf_form must be ''auto'', ''ensemble'' or ''observation''');
+  end
   if (~ischar (opts.method))
     error ('sluice:enkf:badmethod', 'method must be a name');
   end
@@ -47,7 +58,7 @@ function [Xa, info] = enkf (Xf, HXf, y, R, varargin)
               'rtpp', num (opts.rtpp, 'rtpp'), 'rtps', num (opts.rtps, 'rtps'), ...
               'seed', num (opts.seed, 'seed'), 'cycle', num (opts.cycle, 'cycle'), ...
               'threads', num (opts.threads, 'threads'), ...
-              'eig_floor', num (opts.eig_floor, 'eig_floor'));
+              'eig_floor', num (opts.eig_floor, 'eig_floor'), 'etkf_form', form);
   L = opts.localization;
   if (~isempty (L))
     if (~isstruct (L) || ~isscalar (L) || ~isfield (L, 'state_pos') || ...
@@ -113,7 +124,27 @@ end
 %! assert (mean (c, 2), mean (a, 2), 1e-12);
 %! assert (isstruct (info));
 
+%!test
+%! % the ETKF's two forms are the same analysis (the N x N and m x m
+%! % eigenproblems share their eigenvectors through the SVD of S: Golub &
+%! % Van Loan, Matrix Computations, sec. 2.4), so every choice agrees with
+%! % the Kalman update above to rounding, for m < N and m > N alike
+%! P = cov (X');
+%! K = P * H' / (H * P * H' + diag (R));
+%! for f = {'auto', 'ensemble', 'observation'}
+%!   Xa = sluice.enkf (X, H * X, y, R, 'etkf_form', f{1});
+%!   assert (mean (Xa, 2), mean (X, 2) + K * (y - H * mean (X, 2)), 1e-12);
+%!   assert (cov (Xa'), (eye (3) - K * H) * P, 1e-12);
+%! end
+%! G = [H; 1 1 0; 0 1 1; 1 0 -1; 2 1 0; 0 0 1; 1 1 1; 0 2 1; 1 0 0; 3 1 1; 0 1 0];
+%! r = 0.2 + (1:12)' / 10;
+%! a = sluice.enkf (X, G * X, (1:12)' / 7, r, 'etkf_form', 'ensemble');
+%! b = sluice.enkf (X, G * X, (1:12)' / 7, r, 'etkf_form', 'observation');
+%! assert (b, a, 1e-12);
+
 %!error <Invalid call> sluice.enkf (X, H * X, y)
+%!error id=sluice:enkf:badoption sluice.enkf (X, H * X, y, R, 'etkf_form', 'both')
+%!error id=sluice:enkf:badoption sluice.enkf (X, H * X, y, R, 'etkf_form', 2)
 %!error id=sluice:enkf:badmethod sluice.enkf (X, H * X, y, R, 'method', 7)
 %!error id=sluice:enkf:badmethod sluice.enkf (X, H * X, y, R, 'method', 'bogus')
 %!error id=sluice:enkf:badoption sluice.enkf (X, H * X, y, R, 'inflation', NaN)

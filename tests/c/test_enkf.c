@@ -395,12 +395,19 @@ static void test_etkf_symmetric(void)
  * Loan, Matrix Computations, 4th ed., sec. 2.4 and 8.6). Both forms on the
  * same inputs (random high-entropy ensembles, diagonal and correlated R,
  * with inflation and relaxation, m = 1 to m > N) must agree to rounding,
- * in the analysis, the innovation statistic and the floored count. */
+ * in the analysis, the innovation statistic and the floored count. With
+ * HX = H X, S has rank at most min(n, N - 1): n < m < N gives a
+ * rank-deficient S (zero eigenvalues of S S^T: {3, 20, 8}, {4, 150, 70},
+ * and {6, 9, 8} with m = N - 1). From order 64 with m at least the order
+ * the eigenproblem goes to dsyevr, the other form's to dsyev: {80, 150, 70}
+ * and {4, 150, 70} (m x m by dsyevr, N x N by dsyev), {80, 100, 99}
+ * (m = N - 1, likewise) and {80, 70, 100} (both by dsyevr). */
 static void test_etkf_forms(void)
 {
     static const size_t shape[][3] = {
         {5, 12, 1}, {4, 30, 3}, {70, 40, 7}, {6, 9, 8}, {3, 2, 1}, {9, 200, 1},
-        {3, 6, 6}, {3, 5, 9}};
+        {3, 6, 6}, {3, 5, 9}, {3, 20, 8}, {4, 150, 70}, {80, 150, 70}, {80, 100, 99},
+        {80, 70, 100}};
     double emax = 0.0, dmax = 0.0;
     size_t t;
     int variant;
