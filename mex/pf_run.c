@@ -546,7 +546,9 @@ static void decode_recording(run_settings *s)
  * the workspace, and the FNV-1a checksum of all that. Written whole to
  * file.tmp<pid> and renamed over the file. */
 static const char ck_magic[8] = {'S', 'L', 'F', 'C', 'K', 'P', 'T', '1'};
-#define CK_VERSION 1u
+/* 2: the output smooth_distinct among out_names, the window's
+ * ancestor indices in the workspace */
+#define CK_VERSION 2u
 
 /* Settings that do not change what a run computes: not in the fingerprint. */
 static int ck_ignored(const char *name)
@@ -812,6 +814,7 @@ static void create_optional(const run_settings *s, mxArray *res, sl_pf_output *o
         out->squant = mxGetDoubles(sq);
         mxSetField(res, 0, "smooth_mean", sm);
         mxSetField(res, 0, "smooth_quantiles", sq);
+        out->sanc = zeroed(s, res, "smooth_distinct", 1, T);
     }
 }
 
@@ -900,7 +903,8 @@ static double memory_parts(const run_settings *s, sl_pf_part part[NPARTS])
         part[SL_PF_PART_DERIVED].bytes += (size_t)(d8 * T * d * (nq + 1));
     part[OUT_SMOOTHED].name = "smoothed summaries";
     part[OUT_SMOOTHED].option[0] = "lag";
-    part[OUT_SMOOTHED].bytes = cfg->lag > 0 ? (size_t)(d8 * T * v * (nq + 1)) : 0;
+    /* their means, quantiles and distinct ancestors */
+    part[OUT_SMOOTHED].bytes = cfg->lag > 0 ? (size_t)(d8 * T * (v * (nq + 1) + 1)) : 0;
     part[OUT_HISTORY].name = "history";
     part[OUT_HISTORY].option[0] = "history";
     if (cfg->keep_history)
@@ -1001,7 +1005,7 @@ void mexFunction(int nlhs, mxArray *plhs[], int nrhs, const mxArray *prhs[])
         "skipped", "nonfinite", "inflation", "floored", "forecast_mean", "log_evidence",
         "steps", "X", "P", "w",
         "history_X", "history_P", "history_w", "history_ancestors",
-        "smooth_mean", "smooth_quantiles", "distinct", "spread",
+        "smooth_mean", "smooth_quantiles", "smooth_distinct", "distinct", "spread",
         "temper_steps", "loglik_evals", "move_sweeps", "move_accept", "param_move",
         "derived_mean", "derived_quantiles", "nanpred", "comp_ess", "comp_logz"};
     run_settings s;

@@ -209,13 +209,16 @@ static size_t layout(const sl_pf_config *cfg, unsigned char *base,
     if (b->nwin > 0) {
         if (b->nwin > big / 8 / N / (n + p + 1))
             return 0;
+        /* a slot: the members' states and parameters (v x N doubles),
+         * then the index each column had when its cycle was stored (N
+         * uint32, resampled with the columns: their ancestors there) */
         sl_ws_carve(base, &off, (b->nwin + 1) * sizeof(double *), (void **)&b->win);
         for (k = 0; k <= b->nwin; k++)
-            sl_ws_carve(base, &off, (n + p) * N * 8,
+            sl_ws_carve(base, &off, (n + p) * N * 8 + N * 4,
                         base != NULL ? (void **)&b->win[k] : NULL);
         if (base != NULL)
             b->wspare = b->win[b->nwin];
-        b->wstride = ((n + p) * N * 8 + SL_WS_ALIGN - 1) / SL_WS_ALIGN * SL_WS_ALIGN;
+        b->wstride = ((n + p) * N * 8 + N * 4 + SL_WS_ALIGN - 1) / SL_WS_ALIGN * SL_WS_ALIGN;
         b->wslot0 = base != NULL ? b->win[0] : NULL;
         sl_ws_carve(base, &off, (n + p) * N * 8, (void **)&b->wtmp);
         PART(SL_PF_PART_LAG);
@@ -1313,16 +1316,34 @@ const sl_analysis *sl_pf_analysis_of(const sl_pf_config *cfg)
     return &sl_analysis_pf;
 }
 
+/* The ancestor indices of a window slot: N uint32 after its v x N
+ * doubles. */
+static uint32_t *window_ids(const sl_pf_config *cfg, double *slot)
+{
+    return (uint32_t *)(slot + (cfg->model->n_state + cfg->model->n_param) * cfg->N);
+}
+
 /* Record the smoothed summary of cycle s from its window slot with the
- * current weights (parameters back in natural units first). */
+ * current weights (parameters back in natural units first), and how many
+ * distinct members of cycle s the current members descend from. */
 static void window_emit(const sl_pf_config *cfg, pf_buffers *b, size_t s,
                         const double *w, sl_pf_output *out)
 {
     const size_t N = cfg->N, n = cfg->model->n_state, p = cfg->model->n_param;
     const size_t v = n + p, nq = cfg->nq;
     const double *slot = b->win[s % b->nwin];
-    size_t i, j;
+    const uint32_t *ids = window_ids(cfg, b->win[s % b->nwin]);
+    size_t i, j, distinct = 0;
     long r;
+    if (out->sanc != NULL) {
+        memset(b->mark, 0, N);
+        for (j = 0; j < N; j++)
+            if (!b->mark[ids[j]]) {
+                b->mark[ids[j]] = 1;
+                distinct++;
+            }
+        out->sanc[s] = (double)distinct;
+    }
     memcpy(b->wtmp, slot, v * N * sizeof(double));
     for (j = 0; j < N; j++)
         for (i = 0; i < p; i++)
@@ -1348,11 +1369,13 @@ static void window_store(const sl_pf_config *cfg, pf_buffers *b, size_t k,
 {
     const size_t N = cfg->N, n = cfg->model->n_state, p = cfg->model->n_param;
     double *slot = b->win[k % b->nwin];
+    uint32_t *ids = window_ids(cfg, slot);
     size_t j;
     for (j = 0; j < N; j++) {
         memcpy(slot + j * (n + p), X + j * n, n * sizeof(double));
         if (p > 0)
             memcpy(slot + j * (n + p) + n, Z + j * p, p * sizeof(double));
+        ids[j] = (uint32_t)j;
     }
 }
 
@@ -1364,9 +1387,13 @@ static void window_gather(const sl_pf_config *cfg, pf_buffers *b, size_t k,
     const size_t N = cfg->N, v = cfg->model->n_state + cfg->model->n_param;
     size_t s;
     for (s = 0; s < filled; s++) {
-        size_t at = (k - s) % b->nwin;
+        size_t at = (k - s) % b->nwin, j;
+        const uint32_t *ids = window_ids(cfg, b->win[at]);
+        uint32_t *to = window_ids(cfg, b->wspare);
         double *t;
         sl_pfi_gather_cols(v, N, b->win[at], b->wspare, b->anc, b->nt);
+        for (j = 0; j < N; j++)
+            to[j] = ids[b->anc[j]];
         t = b->win[at];
         b->win[at] = b->wspare;
         b->wspare = t;

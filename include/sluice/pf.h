@@ -338,6 +338,10 @@ typedef struct {
     double *hist_a;      /* N x T ancestors (0-based) chosen at the cycle */
     double *smean;       /* v x T smoothed means (with lag >= 1) */
     double *squant;      /* v x nq x T smoothed quantiles (with lag >= 1) */
+    double *sanc;        /* T: the distinct members of cycle s that the
+                          * members of the cycle whose weights smoothed it
+                          * descend from (lag >= 1; the window's ancestors
+                          * at its oldest slot), or NULL */
     double *temper_steps; /* T: likelihood steps of the cycle (1 untempered,
                            * 0 with no observation), or NULL */
     double *loglik_evals; /* T: member likelihood evaluations of the cycle

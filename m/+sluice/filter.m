@@ -350,8 +350,13 @@
 % current weights; the ensemble Kalman methods update the window with the
 % same analysis as the current ensemble (the ensemble Kalman smoother;
 % prior inflation acts on the current ensemble only). Memory: lag x
-% (n + p) x N doubles, whatever the length of the run. The result gets
-% @code{smoothed} (see below).
+% (n + p) x N doubles (and N indices per cycle of the window), whatever
+% the length of the run. The result gets @code{smoothed} (see below).
+% Every resampling in the window thins the particle filter's paths: over
+% a long lag of frequent resamplings they coalesce onto a few members
+% of the time smoothed, and the smoothed bands come out too narrow;
+% @code{smoothed.distinct} counts them and the run warns
+% (@code{sluice:filter:smoothcollapse}, below).
 % @item threads
 % OpenMP threads (default: @env{OMP_NUM_THREADS} or all cores).
 % @item checkpoint, checkpoint_every
@@ -456,7 +461,12 @@
 % @code{smoothed} has @code{method} (@code{'fixed_lag'} for the particle
 % filter, @code{'enks'} for the ensemble Kalman methods), @code{lag},
 % @code{states.mean}, @code{states.quantiles}, @code{params.mean} and
-% @code{params.quantiles}, laid out as the filtered ones.
+% @code{params.quantiles}, laid out as the filtered ones, and
+% @code{distinct} (1 x T): for each time s, how many distinct members
+% of time s the members whose weights smoothed it (those of time
+% s + lag, or of the last time) descend from; N where nothing was
+% resampled in between (the ensemble Kalman smoother: N unless dead
+% members were replaced).
 %
 % The run warns (the thresholds are in @code{sluice.internal.diversity_limits}):
 % @code{sluice:filter:paramcollapse} when an estimated parameter ends with
@@ -466,7 +476,15 @@
 % stays below 2 for 10 or more consecutive cycles with observations,
 % @code{sluice:filter:approxparams} when the default move estimated
 % parameters with the kernel move because the paths hold noise (their
-% bands are then approximate), besides @code{sluice:filter:degenerate},
+% bands are then approximate), @code{sluice:filter:smoothcollapse} when
+% at more than 10% of the smoothed times of the particle filter's
+% @code{lag} the members descend from fewer than 20 distinct members
+% (half the members below 40) of the time smoothed: the smoothed
+% quantiles come from those few paths and the smoothed bands are too
+% narrow (use a shorter @code{lag}, more @code{members}, forcing or state
+% noise or a @code{param_move} that keeps the members diverse, or an
+% ensemble Kalman smoother, e.g. @code{'method'} @code{'etkf'} with
+% @code{lag}), besides @code{sluice:filter:degenerate},
 % @code{sluice:filter:nonfinite} and @code{sluice:filter:nanprediction}.
 % A prior without spread for a parameter whose bounds let it move is an
 % error (@code{sluice:filter:nospread}) with the moves @code{'auto'},

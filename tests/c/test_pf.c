@@ -1311,6 +1311,79 @@ static void check_lag(void)
     ck_free(X0);
 }
 
+/* The distinct ancestors of the smoothed times (out->sanc): N = 8
+ * members at 0, 1, ..., 7 that never move (x_k = x_(k-1), no noise)
+ * and y = 3 with sigma 1e-3 at every cycle. At cycle 1 every other
+ * member's likelihood underflows to 0 (exp(-5e5)), so all the weight is
+ * on member 3 and the resampling copies it N times: cycle 1 is smoothed
+ * from exactly 1 ancestor. Then every member is at 3, the weights are
+ * equal and nothing is resampled again: the later cycles keep N. With
+ * the threshold 0 (never resample) every count is N (hand-derived from
+ * the window's definition). */
+static void check_lag_ancestors(void)
+{
+    enum { N = 8, T = 3 };
+    const double yv[T] = {3.0, 3.0, 3.0}, times[T] = {1.0, 2.0, 3.0};
+    double A = 1.0, L = 0.0, X0[N], sm[T], sq[T], anc[T];
+    const double probs[1] = {0.5};
+    sl_linear lin = {1, 0, &A, NULL, NULL, &L};
+    sl_model md;
+    sl_pf_config cfg;
+    obs_table o;
+    sl_error err;
+    size_t j, k, lag, never;
+
+    sl_linear_model(&md, &lin, 1.0, &err);
+    for (j = 0; j < N; j++)
+        X0[j] = (double)j;
+    one_obs_per_cycle(&o, T, yv, 1e-3);
+    base_config(&cfg, &md, N, T, times, &o);
+    cfg.nq = 1;
+    cfg.probs = probs;
+    for (never = 0; never < 2; never++)
+        for (lag = 1; lag <= 2; lag++) {
+            run_buf r;
+            sl_status st;
+            double X[N], P[1], w[N];
+            void *work;
+            cfg.lag = lag;
+            cfg.threshold = never ? 0.0 : 0.5;
+            memset(&r, 0, sizeof r);
+            r.out.mean = ck_calloc(T, sizeof(double));
+            r.out.quant = ck_calloc(T, sizeof(double));
+            r.out.ess = ck_calloc(T, sizeof(double));
+            r.out.logz = ck_calloc(T, sizeof(double));
+            r.out.resampled = ck_calloc(T, sizeof(double));
+            r.out.degenerate = ck_calloc(T, sizeof(double));
+            r.out.skipped = ck_calloc(T, sizeof(double));
+            r.out.nonfinite = ck_calloc(T, sizeof(double));
+            r.out.smean = sm;
+            r.out.squant = sq;
+            r.out.sanc = anc;
+            for (k = 0; k < T; k++)
+                anc[k] = -1.0;
+            work = ck_malloc(sl_pf_workspace(&cfg));
+            memcpy(X, X0, sizeof X);
+            st = sl_pf_run(&cfg, X, P, w, work, &r.out, &err);
+            CHECK(st == SL_OK, "ancestors, lag %lu: %s", (unsigned long)lag,
+                  st ? err.message : "");
+            if (st == SL_OK) {
+                CHECK(r.out.resampled[0] == (never ? 0.0 : 1.0) && r.out.resampled[1] == 0.0 &&
+                      r.out.resampled[2] == 0.0, "ancestors, lag %lu: resampled %g %g %g",
+                      (unsigned long)lag, r.out.resampled[0], r.out.resampled[1],
+                      r.out.resampled[2]);
+                CHECK(anc[0] == (never ? (double)N : 1.0) && anc[1] == (double)N &&
+                          anc[2] == (double)N,
+                      "ancestors, lag %lu, threshold %g: %g %g %g", (unsigned long)lag,
+                      cfg.threshold, anc[0], anc[1], anc[2]);
+                CHECK(sm[0] == 3.0, "ancestors: cycle 1 smoothed from member 3: %g", sm[0]);
+            }
+            ck_free(r.out.mean); ck_free(r.out.quant); ck_free(r.out.ess);
+            ck_free(r.out.logz); ck_free(r.out.resampled); ck_free(r.out.degenerate);
+            ck_free(r.out.skipped); ck_free(r.out.nonfinite); ck_free(work);
+        }
+}
+
 /* The worked example above (x_k = x_(k-1) + N(0, 1), y = 1, 2, 0 with
  * unit error, x_0 ~ N(0, 1); hand values from the Kalman filter) by SMC2
  * with 200 groups of 100 members (no parameters: independent filters
@@ -1778,6 +1851,7 @@ int main(void)
     check_operators();
     check_derived_summary();
     check_lag();
+    check_lag_ancestors();
     check_coupling();
     check_summary_rows();
     CHECK_DONE("test_pf");

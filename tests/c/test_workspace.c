@@ -266,7 +266,7 @@ static size_t pf_size(int which)
 
 static const size_t pf_expected[] = {
     35020, 177636, 108428, 178956, 61388, 44364,
-    47308, 56844, 92440,
+    48588, 57996, 92440,
 };
 
 static void test_pf_sizes(void)
@@ -316,14 +316,19 @@ static void test_pf_parts_fixed(void)
         snprintf(what, sizeof what, "pf case %lu", (unsigned long)k);
         CHECK(parts_of(&c, got, what) == pf_expected[k], "%s: the sizes stay", what);
     }
-    /* case 6: the window holds lag + 1 slots and a summary buffer of
-     * (n + p) x N doubles (slot size a multiple of 64 here: 4 x 80 x 8 =
-     * 2560) and lag + 1 slot pointers in one cache line; nothing else
-     * is the lag's (the particle filter has no analysis workspace) */
+    /* case 6: the window holds lag + 1 slots of (n + p) x N doubles and
+     * N 4-byte ancestor indices (4 x 80 x 8 + 80 x 4 = 2880, a multiple
+     * of 64 here), a summary buffer of (n + p) x N doubles (2560) and
+     * lag + 1 slot pointers in one cache line; nothing else is the lag's
+     * (the particle filter has no analysis workspace). Cases 6 and 7
+     * grew by these indices: 4 slots x 320 bytes = 1280 (case 6), and 6
+     * slots of 1280 + 160 bytes rounded up to 1472, 6 x 192 = 1152
+     * (case 7) */
     pf_setup(&c, 6);
     parts_of(&c, got, "lag parts");
-    CHECK(got[SL_PF_PART_LAG] == 64 + (3 + 2) * 4 * 80 * 8, "lag part %lu, expected %d",
-          (unsigned long)got[SL_PF_PART_LAG], 64 + 5 * 2560);
+    CHECK(got[SL_PF_PART_LAG] == 64 + (3 + 1) * (4 * 80 * 8 + 80 * 4) + 4 * 80 * 8,
+          "lag part %lu, expected %d", (unsigned long)got[SL_PF_PART_LAG],
+          64 + 4 * 2880 + 2560);
     CHECK(got[SL_PF_PART_ANALYSIS] == 0 && got[SL_PF_PART_PATHS] == 0 &&
           got[SL_PF_PART_TEMPER] == 0, "the plain filter has no analysis, paths, tempering");
     /* case 2: resample_move keeps the ancestors and paths of every cycle,

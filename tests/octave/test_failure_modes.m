@@ -46,6 +46,8 @@
 %                                          without one)
 %   parameter collapse / at a bound /      warnings sluice:filter:paramcollapse,   test_param_move.m, test_calibration.m,
 %   low ESS / approximate parameters       :atbound, :lowess, :approxparams        test_wenkf.m, test_pf_features.m
+%   fixed-lag smoother's paths coalesced   res.smoothed.distinct, warning          test_smooth_ancestors.m, test_pf.c
+%   (smoothed bands too narrow)            sluice:filter:smoothcollapse            (check_lag_ancestors)
 %   PMMH not converged / low ESS           warnings sluice:pmmh:notconverged,      test_pmmh.m
 %                                          sluice:pmmh:lowess
 %   allocation failure inside OpenMP or    the process ends (an honest limit)      tools/lint_core + tests/lint: the core

@@ -123,16 +123,18 @@
 %! assert (size (res.history.X), [1 N T]);
 
 %!test
-%! % the lag window: lag + 1 slots and a summary buffer of (n + p) x N
-%! % doubles, lag + 1 slot pointers (in whole 64-byte lines), and the
-%! % smoothed means and quantiles (n + p) x (nq + 1) x T (pf.h, the
-%! % help's "lag x (n + p) x N doubles"); 1 x 512 x 8 bytes is a
-%! % multiple of 64, so no other alignment enters
+%! % the lag window: lag + 1 slots of (n + p) x N doubles and N 4-byte
+%! % ancestor indices, a summary buffer of (n + p) x N doubles, lag + 1
+%! % slot pointers (in whole 64-byte lines), and the smoothed means and
+%! % quantiles (n + p) x (nq + 1) x T and distinct ancestors 1 x T (pf.h,
+%! % the help's "lag x (n + p) x N doubles"); 1 x 512 x 8 and 512 x 4
+%! % bytes are multiples of 64, so no other alignment enters
 %! N = 512; T = 20; L = 12;
 %! B0 = boundary (@() sluice.filter (spec, [], obs, o{:}, 'members', N));
 %! [B, msg, res] = boundary (@() sluice.filter (spec, [], obs, o{:}, 'members', N, 'lag', L));
 %! check_named (msg, 'lag window', 'lag');
-%! assert (B - B0, 64 * ceil (8 * (L + 1) / 64) + 8 * (L + 2) * 1 * N + 8 * 1 * (3 + 1) * T);
+%! assert (B - B0, 64 * ceil (8 * (L + 1) / 64) + (L + 1) * (8 * 1 + 4) * N + 8 * 1 * N + ...
+%!                 8 * (1 * (3 + 1) + 1) * T);
 %! assert (isfield (res, 'smoothed'));
 
 %!test

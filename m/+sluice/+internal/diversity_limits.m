@@ -18,10 +18,20 @@ function L = diversity_limits ()
   %   lowess_ess, lowess_cycles - sluice:filter:lowess when the ESS after
   %       weighting is below lowess_ess in lowess_cycles or more consecutive
   %       cycles with observations (an ESS near 1: one member carries the
-  %       weight).
+  %       weight);
+  %   smooth_ancestors, smooth_fraction, smooth_share -
+  %       sluice:filter:smoothcollapse when, at more than smooth_share of
+  %       the times a fixed-lag smoother smoothed, the members descended
+  %       from fewer than min (smooth_ancestors, smooth_fraction * N)
+  %       distinct members of the time smoothed (res.smoothed.distinct).
+  %       A 90% band's ends are the 5% and 95% quantiles: below 20 = 1 /
+  %       0.05 distinct paths each tail holds less than one ancestor's
+  %       path, and the band's ends lie on a few paths whatever N is; a
+  %       small ensemble (N < 40) is held to half its members instead.
   % Values of our own choosing (common practice puts the resampling
   % trigger at N/2; these mark far worse states than that).
   L = struct ('collapse_fraction', 0.01, 'collapse_min', 2, 'collapse_spread', 1e-3, ...
               'bound_tail', 0.05, 'bound_mass', 0.5, ...
-              'lowess_ess', 2, 'lowess_cycles', 10);
+              'lowess_ess', 2, 'lowess_cycles', 10, ...
+              'smooth_ancestors', 20, 'smooth_fraction', 0.5, 'smooth_share', 0.1);
 end
