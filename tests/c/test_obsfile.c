@@ -1,31 +1,13 @@
 /* test_obsfile.c - the CSV observation table: format rules, every error with
  * its line and column, an exact round trip, and random damage to the text. */
 #include "check.h"
+#include "obsfile_parsed.h"
 #include "sluice/obsfile.h"
 #include "sluice/rng.h"
 
 #include <stdint.h>
 #include <stdlib.h>
 #include <string.h>
-
-typedef struct {
-    sl_obs_size sz;
-    sl_obs_table t;
-    sl_status st;
-    sl_error err;
-} parsed;
-
-static void release(parsed *p)
-{
-    ck_free(p->t.names);
-    ck_free(p->t.name_at);
-    ck_free(p->t.is_text);
-    ck_free(p->t.slot);
-    ck_free(p->t.num);
-    ck_free(p->t.text);
-    ck_free(p->t.text_at);
-    memset(&p->t, 0, sizeof p->t);
-}
 
 /* Measure, allocate, parse: the way the gateway does it. */
 static sl_status parse_len(const char *text, size_t len, parsed *p)
@@ -48,27 +30,6 @@ static sl_status parse_len(const char *text, size_t len, parsed *p)
 static sl_status parse(const char *text, parsed *p)
 {
     return parse_len(text, strlen(text), p);
-}
-
-static long column(const parsed *p, const char *name)
-{
-    size_t j;
-    for (j = 0; j < p->sz.cols; j++)
-        if (strcmp(p->t.names + p->t.name_at[j], name) == 0)
-            return (long)j;
-    return -1;
-}
-
-static double num_at(const parsed *p, const char *name, size_t i)
-{
-    long j = column(p, name);
-    return p->t.num[i + p->t.slot[j] * p->sz.rows];
-}
-
-static const char *text_at(const parsed *p, const char *name, size_t i)
-{
-    long j = column(p, name);
-    return p->t.text + p->t.text_at[i + p->t.slot[j] * p->sz.rows];
 }
 
 /* The text must fail with `reason` and a message holding `where`. */

@@ -3,35 +3,12 @@
  * comments, headers with units, NA, extra text columns, sorting, and the
  * refusals with their line and column. */
 #include "check.h"
+#include "obsfile_parsed.h"
 #include "sluice/obsfile.h"
 #include "sluice/rng.h"
 
 #include <stdlib.h>
 #include <string.h>
-
-typedef struct {
-    sl_obs_size sz;
-    sl_obs_table t;
-    sl_status st;
-    sl_error err;
-} parsed;
-
-static void release(parsed *p)
-{
-    ck_free(p->t.names);
-    ck_free(p->t.name_at);
-    ck_free(p->t.is_text);
-    ck_free(p->t.slot);
-    ck_free(p->t.num);
-    ck_free(p->t.text);
-    ck_free(p->t.text_at);
-    ck_free(p->t.units);
-    ck_free(p->t.unit_at);
-    ck_free(p->t.text_code);
-    ck_free(p->t.ncodes);
-    ck_free(p->t.work);
-    memset(&p->t, 0, sizeof p->t);
-}
 
 /* Measure, allocate everything (units, text codes, workspace), parse. */
 static sl_status parse_with(const char *text, const sl_obs_read_opts *o, parsed *p)
@@ -62,31 +39,6 @@ static sl_status parse_default(const char *text, parsed *p)
     sl_obs_read_opts o;
     sl_obs_read_opts_init(&o);
     return parse_with(text, &o, p);
-}
-
-static long column(const parsed *p, const char *name)
-{
-    size_t j;
-    for (j = 0; j < p->sz.cols; j++)
-        if (strcmp(p->t.names + p->t.name_at[j], name) == 0)
-            return (long)j;
-    return -1;
-}
-
-static double num_at(const parsed *p, const char *name, size_t i)
-{
-    long j = column(p, name);
-    if (j < 0 || p->t.is_text[j])
-        return -999;
-    return p->t.num[i + p->t.slot[j] * p->sz.rows];
-}
-
-static const char *text_at(const parsed *p, const char *name, size_t i)
-{
-    long j = column(p, name);
-    if (j < 0 || !p->t.is_text[j])
-        return "(no such text column)";
-    return p->t.text + p->t.text_at[i + p->t.slot[j] * p->sz.rows];
 }
 
 static const char *unit_of(const parsed *p, const char *name)
