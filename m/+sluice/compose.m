@@ -348,6 +348,8 @@ function spec = compose (varargin)
            'the composed names clash (a forcing named like a qualified state?): rename a component');
   end
   first = specs{1};
+  states = states(:)';
+  params = params(:)';
   spec = struct ('kind', 'composed', 'name', strjoin (names, '+'), ...
                  'summary', sprintf ('composed of %s', strjoin (names, ', ')), ...
                  'states', {states}, 'params', {params}, 'forcings', {forcings}, ...
@@ -409,3 +411,24 @@ function tf = is_whole (r)
   % a whole number >= 1, to a relative slack of 1e-9 (as the core's check)
   tf = isfinite (r) && r >= 1 - 1e-9 && abs (r - round (r)) <= 1e-9 * (1 + r);
 end
+
+%!test
+%! % two GR4J catchments side by side, no links: each is GR4J alone
+%! g = sluice.model ('gr4j');
+%! m = sluice.compose ('up', g, 'down', g);
+%! assert (numel (m.states), 126);
+%! assert (m.forcings, {'P', 'E'});
+%! f = struct ('time', (0:20)', 'values', [5 + mod((0:20)', 3), 2 * ones(21, 1)]);
+%! X = sluice.simulate (m, [], [], 0:20, f);
+%! Xg = sluice.simulate (g, [], [], 0:20, f);
+%! assert (isequal (X(1:63, :), Xg) && isequal (X(64:126, :), Xg));
+%!test
+%! % a link's period defaults to its target's step; names given
+%! g = sluice.model ('gr4j');
+%! m = sluice.compose ('a', g, 'b', g, 'link', struct ('from', 'a.Q', 'to', 'b.P', 'name', 'flow'));
+%! assert (m.states(end-2:end), {'flow_acc', 'flow_count', 'flow_value'});
+%! assert (m.parts.links(7), 1);
+%!error id=sluice:compose:duplicate sluice.compose ('a', sluice.model ('gr4j'), 'a', sluice.model ('gr4j'))
+%!error id=sluice:compose:notcompiled sluice.compose ('a', sluice.model (@(t, X, P, U, dt) X, 'n', 1))
+%!error id=sluice:compose:nosource sluice.compose ('a', sluice.model ('gr4j'), 'b', sluice.model ('gr4j'), 'link', struct ('from', 'a.W', 'to', 'b.P'))
+%!error id=sluice:compose:badperiod sluice.compose ('a', sluice.model ('gr4j'), 'b', sluice.model ('gr4j'), 'link', struct ('from', 'a.Q', 'to', 'b.P', 'every', 2.5))
