@@ -197,3 +197,39 @@
 %!error id=sluice:compose:nocomponents sluice.compose ('time_scale', struct ())
 %!error id=sluice:compose:badoption sluice.compose ('river')
 %!error id=sluice:compose:badoption sluice.compose (3, g)
+
+%!test
+%! % a component from sluice.build_model (the fixture cascade.c: two linear
+%! % reservoirs, RK4, dt 0.01) feeding the flood model (a step of one time
+%! % unit): the composition runs in the cascade's own gateway; the cascade
+%! % equals its run alone bit for bit, and the town equals the flood model
+%! % alone given the per-period maxima of x2 as floods (sampled at every
+%! % 0.01: from a run alone output at those times, which agree with the
+%! % composed steps to rounding, 1e-12)
+%! root = fileparts (fileparts (fileparts (which ('sluice.build_model'))));
+%! tmp = tempname ();
+%! mkdir (tmp);
+%! unwind_protect
+%!   copyfile (fullfile (root, 'tests', 'octave', 'fixtures', 'cascade.c'), tmp);
+%!   cs = sluice.build_model (fullfile (tmp, 'cascade.c'));
+%!   addpath (tmp);
+%!   tw = sluice.model ('flood', 'dt', 1);
+%!   Lc = struct ('from', 'res.x2', 'to', 'town.W', 'reduce', 'max', 'every', 1);
+%!   mc = sluice.compose ('res', cs, 'town', tw, 'link', Lc);
+%!   assert (mc.engine, 'cascade_run');
+%!   assert (mc.dt, 0.01);
+%!   fc = struct ('time', [0; 10], 'values', [1.3; 1.3]);
+%!   X = sluice.simulate (mc, [], [], 0:3, fc);
+%!   Xc = sluice.simulate (cs, [], [], 0:3, fc);
+%!   assert (isequal (X(1:2, :), Xc));
+%!   Xs = sluice.simulate (cs, [], [], (0:300) / 100, fc);
+%!   w = max (reshape (Xs(2, 2:end), 100, 3));
+%!   assert (X(end, 2:end), w, 1e-12 * max (w));
+%!   Xf = sluice.simulate (tw, [], [], 0:3, [], 'events', ...
+%!                         struct ('time', (1:3)', 'values', X(end, 2:end)'));
+%!   assert (isequal (X(3:8, :), Xf));
+%! unwind_protect_cleanup
+%!   rmpath (tmp);
+%!   confirm_recursive_rmdir (false, 'local');
+%!   rmdir (tmp, 's');
+%! end_unwind_protect
