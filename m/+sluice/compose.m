@@ -1,9 +1,10 @@
 % -*- texinfo -*-
 % @deftypefn  {} {@var{spec} =} sluice.compose (@var{name1}, @var{spec1}, @var{name2}, @var{spec2}, @dots{})
 % @deftypefnx {} {@var{spec} =} sluice.compose (@dots{}, 'link', @var{link}, 'time_scale', @var{scales})
-% Compose compiled models into one model: the output of one component (a
-% state) feeds another as its events or as one of its forcings, and each
-% component keeps its own time step, integrator and clock.
+% Join compiled models into one, each on its own clock and time step.
+% The output of one component (a state) feeds another as its events or as
+% one of its forcings; each component keeps its own time step, integrator
+% and clock.
 %
 % Components come as name/spec pairs: @var{name} a valid Octave name
 % (distinct, not @code{link} or @code{time_scale}), @var{spec} a compiled
