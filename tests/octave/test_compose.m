@@ -151,6 +151,13 @@
 %! end
 %! % weak coupling weighs each component by its own observations: another run
 %! assert (~isequal (pm{1}, pm{2}));
+%! % the composed step is safe on member blocks in parallel: the same run
+%! % on one thread and on two gives the same bits
+%! r1 = sluice.filter (m, pr, obs, 'members', 300, 't0', 0, 'seed', 3, 'forcing', forcing, ...
+%!                     'threads', 1);
+%! r2 = sluice.filter (m, pr, obs, 'members', 300, 't0', 0, 'seed', 3, 'forcing', forcing, ...
+%!                     'threads', 2);
+%! assert (isequal (r1.final.X, r2.final.X) && isequal (r1.params.mean, r2.params.mean));
 
 %!test
 %! % a forcing link: the river's mean flow over each 10 days is the rain of
