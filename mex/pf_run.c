@@ -14,6 +14,7 @@
 
 #include "mexrun.h"
 #include "mexutil.h"
+#include "sluice/compose.h"
 #include "sluice/enkf.h"
 #include "sluice/integrate.h"
 #include "sluice/loglik.h"
@@ -39,6 +40,7 @@ typedef struct {
     slm_handle_model hm;
     slm_handle_obs ho;
     sl_def_model dm;
+    sl_compose *cmp;    /* a composed model (kind "composed") */
     sl_events events;
     sl_tolerance tol;
     sl_enkf_config ecfg;
@@ -226,6 +228,131 @@ static void decode_compiled(run_settings *s)
         slm_raise(s->fn, &err);
 }
 
+/* A component's definition: built into the core, or the user's model
+ * compiled into this gateway. */
+static const sl_model_def *compiled_def(const run_settings *s, const char *kind,
+                                        const char *name)
+{
+    const sl_model_def *def = NULL;
+    if (strcmp(kind, "builtin") == 0)
+        def = sl_model_def_find(name);
+#ifdef SLUICE_USER_MODEL
+    else if (strcmp(kind, "user") == 0)
+        def = sluice_user_model();
+#endif
+    if (def == NULL || strcmp(def->name, name) != 0)
+        slm_fail(s->fn, "badmodel", "no compiled model '%s' in this gateway", name);
+    return def;
+}
+
+/* A composed model (sluice.compose): its components and links, from the
+ * settings' field parts; the core checks how they fit (sl_compose_init). */
+static void decode_composed(run_settings *s)
+{
+    const mxArray *pa = field(s, "parts");
+    const mxArray *kinds, *names, *integ, *fmaps;
+    const double *nst, *dt, *rtol, *atol, *scale, *lk;
+    sl_compose *c;
+    size_t np, nl, i, l, f;
+    sl_error err;
+    sl_error_clear(&err);
+    if (!mxIsStruct(pa) || mxGetNumberOfElements(pa) != 1)
+        slm_fail(s->fn, "badmodel", "a composed model needs the struct of its parts");
+    kinds = slm_field(s->fn, pa, "kind", 1);
+    names = slm_field(s->fn, pa, "name", 1);
+    integ = slm_field(s->fn, pa, "integrator", 1);
+    fmaps = slm_field(s->fn, pa, "forcing", 1);
+    np = mxGetNumberOfElements(names);
+    if (!mxIsCell(kinds) || !mxIsCell(names) || !mxIsCell(integ) || !mxIsCell(fmaps) ||
+        np < 1 || np > SL_COMPOSE_PARTS || mxGetNumberOfElements(kinds) != np ||
+        mxGetNumberOfElements(integ) != np || mxGetNumberOfElements(fmaps) != np)
+        slm_fail(s->fn, "badmodel", "a composed model has 1 to %d components, each with a "
+                 "kind, a name, an integrator and a forcing map", SL_COMPOSE_PARTS);
+    nst = slm_matrix(s->fn, slm_field(s->fn, pa, "n", 1), 1, "parts.n", np, 0, SLM_VECTOR);
+    dt = slm_matrix(s->fn, slm_field(s->fn, pa, "dt", 1), 1, "parts.dt", np, 0, SLM_VECTOR);
+    rtol = slm_matrix(s->fn, slm_field(s->fn, pa, "rtol", 1), 1, "parts.rtol", np, 0, SLM_VECTOR);
+    atol = slm_matrix(s->fn, slm_field(s->fn, pa, "atol", 1), 1, "parts.atol", np, 0, SLM_VECTOR);
+    scale = slm_matrix(s->fn, slm_field(s->fn, pa, "scale", 1), 1, "parts.scale", np, 0,
+                       SLM_VECTOR);
+    nl = mxGetN(slm_field(s->fn, pa, "links", 1));
+    if (nl > SL_COMPOSE_LINKS)
+        slm_fail(s->fn, "badmodel", "a composed model has at most %d links", SL_COMPOSE_LINKS);
+    lk = nl ? slm_matrix(s->fn, slm_field(s->fn, pa, "links", 1), 1, "parts.links", 8, nl, 0)
+            : NULL;
+    c = (sl_compose *)slm_alloc(s->fn, 1, sizeof *c);
+    memset(c, 0, sizeof *c);
+    s->cmp = c;
+    c->n_parts = np;
+    c->n_links = nl;
+    c->n_forcing = s->q;
+    for (i = 0; i < np; i++) {
+        sl_compose_part *pt = &c->part[i];
+        char *kind = slm_string(s->fn, mxGetCell(kinds, i), 1, "parts.kind");
+        char *name = slm_string(s->fn, mxGetCell(names, i), 1, "parts.name");
+        const mxArray *fm = mxGetCell(fmaps, i);
+        size_t *map;
+        pt->def = compiled_def(s, kind, name);
+        if (mxGetNumberOfElements(mxGetCell(integ, i)) > 0) {
+            char *in = slm_string(s->fn, mxGetCell(integ, i), 1, "parts.integrator");
+            pt->method = sl_integrator_find(in);
+            if (pt->method == NULL)
+                slm_fail(s->fn, "badintegrator",
+                         "unknown integrator '%s' (euler, rk4, dopri5 or discrete)", in);
+        }
+        if (!(nst[i] >= 1 && nst[i] <= 1e9) || nst[i] != floor(nst[i]))
+            slm_fail(s->fn, "badmodel", "component %lu: its state count must be a whole "
+                     "number >= 1", (unsigned long)(i + 1));
+        pt->n = (size_t)nst[i];
+        pt->dt = dt[i];
+        pt->scale = scale[i];
+        pt->tol.rtol = rtol[i];
+        pt->tol.atol = atol[i];
+        pt->tol.hmin_rel = 1e-12;
+        pt->tol.max_steps = 100000;
+        if (mxGetNumberOfElements(fm) != pt->def->n_forcing)
+            slm_fail(s->fn, "badmodel", "component '%s': its forcing map needs %lu entries",
+                     name, (unsigned long)pt->def->n_forcing);
+        map = (size_t *)slm_alloc(s->fn, pt->def->n_forcing + 1, sizeof(size_t));
+        if (pt->def->n_forcing) {
+            const double *fv = slm_matrix(s->fn, fm, 1, "parts.forcing",
+                                          pt->def->n_forcing, 0, SLM_VECTOR);
+            for (f = 0; f < pt->def->n_forcing; f++) {
+                if (fv[f] != floor(fv[f]) || !(fv[f] > -(double)SL_COMPOSE_LINKS - 1) ||
+                    !(fv[f] < 1e9))
+                    slm_fail(s->fn, "badmodel", "component '%s': bad forcing map entry %g",
+                             name, fv[f]);
+                map[f] = fv[f] < 0 ? SL_COMPOSE_FROM_LINK + (size_t)(-fv[f] - 1)
+                                   : (size_t)fv[f];
+            }
+        }
+        pt->forcing = map;
+    }
+    for (l = 0; l < nl; l++) {
+        const double *v = lk + 8 * l;
+        sl_compose_link *k = &c->link[l];
+        for (f = 0; f < 8; f++)
+            if (f != 6 && (!(v[f] >= 0 && v[f] <= 1e9) || v[f] != floor(v[f])))
+                slm_fail(s->fn, "badmodel", "link %lu: entry %lu must be a whole number >= 0",
+                         (unsigned long)(l + 1), (unsigned long)(f + 1));
+        k->from = (size_t)v[0];
+        k->from_state = (size_t)v[1];
+        k->to = (size_t)v[2];
+        k->to_index = (size_t)v[3];
+        k->to_event = v[4] != 0;
+        k->reduce = (int)v[5];
+        k->every = v[6];
+        k->rating = v[7] != 0;
+    }
+    if (sl_compose_init(&s->model, c, &err) != SL_OK)
+        slm_raise(s->fn, &err);
+    if (s->model.n_state != s->n || s->model.n_param != s->p || s->model.dt != s->dt)
+        slm_fail(s->fn, "badmodel",
+                 "the composed model has %lu states, %lu parameters and step %g; the "
+                 "configuration has %lu, %lu and %g",
+                 (unsigned long)s->model.n_state, (unsigned long)s->model.n_param,
+                 s->model.dt, (unsigned long)s->n, (unsigned long)s->p, s->dt);
+}
+
 static void decode_model(run_settings *s)
 {
     s->kind = fstring(s, "model_kind");
@@ -235,6 +362,8 @@ static void decode_model(run_settings *s)
         decode_handle(s);
     else if (strcmp(s->kind, "builtin") == 0 || strcmp(s->kind, "user") == 0)
         decode_compiled(s);
+    else if (strcmp(s->kind, "composed") == 0)
+        decode_composed(s);
     else
         slm_fail(s->fn, "badmodel", "unknown model kind '%s'", s->kind);
 }

@@ -46,6 +46,7 @@
 % Build your own model
 %   model          - An Octave step function or right-hand side as a model.
 %   build_model    - Compile a model written in one C file, as fast as a built-in.
+%   compose        - Join compiled models into one, each on its own clock.
 %   propagate      - Advance an ensemble from one time to another.
 %   simulate       - Run one trajectory and return the states at given times.
 %

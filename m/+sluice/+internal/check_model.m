@@ -31,7 +31,7 @@ function check_model (model, pos, fn)
     error (id, '%s: the spec has no field ''%s'' (make the spec with sluice.model)', ...
            where, need{find (~has, 1)});
   end
-  kinds = {'linear', 'handle', 'builtin', 'user'};
+  kinds = {'linear', 'handle', 'builtin', 'user', 'composed'};
   if (~is_text (model.kind) || ~any (strcmp (model.kind, kinds)))
     error (id, '%s: field ''kind'' must be one of %s', where, strjoin (kinds, ', '));
   end
@@ -289,6 +289,13 @@ function check_linear (model, n, q, where, id)
 end
 
 function check_compiled (model, n, p, q, where, id)
+  if (strcmp (model.kind, 'composed'))
+    if (~isfield (model, 'parts') || ~isstruct (model.parts) || ~isscalar (model.parts))
+      error (id, '%s: a composed model''s spec needs the field ''parts'' that sluice.compose sets', ...
+             where);
+    end
+    return;   % the gateway checks the components and links against their definitions
+  end
   if (strcmp (model.kind, 'user'))
     if (~isfield (model, 'engine') || ~is_text (model.engine) || isempty (model.engine))
       error (id, '%s: a compiled model''s spec needs the field ''engine'' that sluice.build_model sets', ...

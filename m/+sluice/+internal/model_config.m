@@ -24,7 +24,7 @@ function c = model_config (model, forcing, forcing_noise, events, event_noise, f
   if (isempty (blank))
     blank = struct ('caller', '', 'n_state', 0, 'n_param', 0, 'n_forcing', 0, 'dt', 0, ...
                     'model_kind', '', 'model_name', '', 'integrator', '', 'rtol', 0, ...
-                    'atol', 0, 'A', [], 'B', [], 'c', [], 'L', [], 'fun', []);
+                    'atol', 0, 'A', [], 'B', [], 'c', [], 'L', [], 'fun', [], 'parts', []);
     blank = add_forcing (blank, [], [], 0, struct (), 'filter', []);
     blank = add_events (blank, [], [], struct ('events', {{}}), 'filter');
     blank = add_defaults (blank, 0, 0);
@@ -41,6 +41,9 @@ function c = model_config (model, forcing, forcing_noise, events, event_noise, f
   c.rtol = model.rtol;
   c.atol = model.atol;
   c.A = model.A; c.B = model.B; c.c = model.c; c.L = model.L; c.fun = model.fun;
+  if (strcmp (model.kind, 'composed'))
+    c.parts = model.parts;                 % sluice.compose: components and links
+  end
   c = add_forcing (c, forcing, forcing_noise, q, model, fn, calendar);
   c = add_events (c, events, event_noise, model, fn);
   c.param_step = step_default (p);

@@ -6,7 +6,8 @@ function r = run_engine (model, c)
   % sluice:<c.caller>:<reason> itself; here only Octave's prefix of the
   % gateway's name comes off the message.
   fn = c.caller;
-  if (strcmp (model.kind, 'user'))
+  if (strcmp (model.kind, 'user') || ...
+      (strcmp (model.kind, 'composed') && isfield (model, 'engine') && ~isempty (model.engine)))
     if (~isfield (model, 'engine') || exist (model.engine, 'file') ~= 3)
       error (['sluice:' fn ':badmodel'], ...
              'the compiled gateway of model ''%s'' is not on the path; run sluice.build_model again', ...
