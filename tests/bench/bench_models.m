@@ -1,4 +1,4 @@
-function bench_models ()
+function bench_models (only)
   % The built-in models advanced by sluice.propagate (1 and 2 threads)
   % against a vectorised Octave implementation of the same model and the
   % same integrator (one loop over time steps, none over members), in
@@ -18,22 +18,34 @@ function bench_models ()
   % the linear dH/dt, dM/dt through RK4's growth factor, and gr4j carries
   % only the queue slots its ensemble's unit hydrographs reach (see their
   % comments); both give RK4's and the map's states as compiled.
+  % GR4J is also held against a plain C loop of the same equations in
+  % structure-of-arrays layout (tests/bench/gr4j_soa.c, one core, N = 1e4):
+  % the figure is sluice's speed as a share of that loop's.
+  % bench_models ({'gr4j', ...}) runs only the parts named
+  if (nargin < 1)
+    only = {};
+  end
+  cfg.only = only;
   cfg.Ns = [1e4 1e5];
   cfg.nrep = 3;
   cfg.target = 1.0;   % seconds per timed run
   printf ('   load average before: %s\n', load_average ());
-  guarded ('lorenz96', @() bench_lorenz96 (cfg));
-  guarded ('flood', @() bench_flood (cfg));
+  guarded (cfg, 'lorenz96', @() bench_lorenz96 (cfg));
+  guarded (cfg, 'flood', @() bench_flood (cfg));
   if (any (strcmp ('gr4j', sluice.kernel.model_info ())))
-    guarded ('gr4j', @() bench_gr4j (cfg));
+    guarded (cfg, 'gr4j', @() bench_gr4j (cfg));
+    guarded (cfg, 'gr4j_soa', @() bench_gr4j_soa (cfg));
   else
     printf ('   gr4j: not registered among the built-in models; skipped\n');
   end
   printf ('   load average after: %s\n', load_average ());
 end
 
-function guarded (name, fun)
+function guarded (cfg, name, fun)
   % one model that fails prints a line; the others still run
+  if (~isempty (cfg.only) && ~any (strcmp (name, cfg.only)))
+    return;
+  end
   try
     fun ();
   catch err
@@ -271,6 +283,71 @@ function bench_gr4j (cfg)
     oct = @(s) gr4j_octave (X0, P, s, Pd, Ed);
     time_model ('gr4j', N, comp, oct, cfg, 30);
   end
+end
+
+function bench_gr4j_soa (cfg)
+  % sluice.propagate (1 thread) against gr4j_soa.c, compiled here with gcc
+  % (-O3, no fused multiply-adds, like src/models/gr4j.c), on the same
+  % members, parameters and forcing; the C program times itself (best of
+  % cfg.nrep runs) and must end on sluice's states bit for bit.
+  N = 1e4;
+  spec = sluice.model ('gr4j');
+  p0 = spec.defaults(:);
+  here = fileparts (mfilename ('fullpath'));
+  tmp = tempname ();
+  mkdir (tmp);
+  cleanup = onCleanup (@() remove_dir (tmp));
+  exe = fullfile (tmp, 'gr4j_soa');
+  flags = '-std=c11 -D_POSIX_C_SOURCE=200809L -O3 -fno-math-errno -ffp-contract=off';
+  [rc, out] = system (sprintf ('gcc %s -o %s %s -lm 2>&1', flags, exe, ...
+                               fullfile (here, 'gr4j_soa.c')));
+  if (rc ~= 0)
+    error ('gr4j_soa.c did not compile: %s', out);
+  end
+  nd = 20000;
+  rand ('state', 6);
+  Pd = (rand (nd, 1) < 0.4) .* (-8 * log (rand (nd, 1)));
+  Ed = 2 + 1.5 * sin (2 * pi * (0:nd-1)' / 365);
+  frc = struct ('time', (0:nd-1)', 'values', [Pd Ed], 'interp', 'previous');
+  P = gr4j_params (p0, N, 8);
+  X0 = repmat (spec.x0(:), 1, N);
+  comp = @(s) sluice.propagate (spec, X0, P, 0, s, frc, 'threads', 1);
+  days = min (calibrate (comp, cfg.target), nd);
+  tc = Inf;
+  for r = 1:cfg.nrep
+    t0 = tic ();
+    a = comp (days);
+    tc = min (tc, toc (t0));
+  end
+  tone = Inf;
+  for r = 1:cfg.nrep
+    t0 = tic ();
+    comp (1);
+    tone = min (tone, toc (t0));
+  end
+  fin = fullfile (tmp, 'in.bin');
+  fout = fullfile (tmp, 'out.bin');
+  fid = fopen (fin, 'wb');
+  fwrite (fid, [N; days; P(:); X0(:); Pd(1:days); Ed(1:days)], 'double');
+  fclose (fid);
+  [rc, out] = system (sprintf ('%s %s %s %d 2>&1', exe, fin, fout, cfg.nrep));
+  if (rc ~= 0)
+    error ('gr4j_soa failed: %s', out);
+  end
+  fid = fopen (fout, 'rb');
+  v = fread (fid, Inf, 'double');
+  fclose (fid);
+  b = reshape (v(1:end-1), size (X0));
+  ts = v(end);
+  printf ('   gr4j N=1e4, %d days, 1 thread: sluice.propagate %.1f ns per member-step (%.1f beyond a one-step call of %.1f ms); C loop in structure-of-arrays layout %.1f ns; sluice at %.0f%% of the C loop (%.0f%% beyond the call) (target >= 50%%)\n', ...
+          days, 1e9 * tc / (N * days), 1e9 * (tc - tone) / (N * (days - 1)), 1e3 * tone, ...
+          1e9 * ts / (N * days), 100 * ts / tc, 100 * ts / (tc - tone) * (days - 1) / days);
+  printf ('      final states equal bit for bit: %s\n', yes_no (isequal (a, b), 'yes', 'NO'));
+end
+
+function remove_dir (d)
+  confirm_recursive_rmdir (false, 'local');
+  rmdir (d, 's');
 end
 
 function P = gr4j_params (p0, N, seed)
