@@ -1200,13 +1200,22 @@ static void gather_draws(pf_buffers *b, size_t N, const uint32_t *anc, uint32_t 
     b->zp2 = t;
 }
 
+/* x - x is +0 for a finite x and NaN for an infinite or NaN one, and a sum
+ * with a NaN term is NaN: four independent sums over the column, without a
+ * branch per value, say whether any value is not finite. */
 int sl_pfi_has_nonfinite(const double *x, size_t n)
 {
+    double a0 = 0.0, a1 = 0.0, a2 = 0.0, a3 = 0.0;
     size_t i;
-    for (i = 0; i < n; i++)
-        if (!isfinite(x[i]))
-            return 1;
-    return 0;
+    for (i = 0; i + 4 <= n; i += 4) {
+        a0 += x[i] - x[i];
+        a1 += x[i + 1] - x[i + 1];
+        a2 += x[i + 2] - x[i + 2];
+        a3 += x[i + 3] - x[i + 3];
+    }
+    for (; i < n; i++)
+        a0 += x[i] - x[i];
+    return !((a0 + a1) + (a2 + a3) == 0.0);
 }
 
 /* Weighted means of the living members before the update: the forecast. */
