@@ -1200,16 +1200,30 @@ static void gather_draws(pf_buffers *b, size_t N, const uint32_t *anc, uint32_t 
     b->zp2 = t;
 }
 
+/* x - x is +0 for a finite x and NaN for an infinite or NaN one, and a sum
+ * with a NaN term is NaN: four independent sums over the column, without a
+ * branch per value, say whether any value is not finite. */
 int sl_pfi_has_nonfinite(const double *x, size_t n)
 {
+    double a0 = 0.0, a1 = 0.0, a2 = 0.0, a3 = 0.0;
     size_t i;
-    for (i = 0; i < n; i++)
-        if (!isfinite(x[i]))
-            return 1;
-    return 0;
+    for (i = 0; i + 4 <= n; i += 4) {
+        a0 += x[i] - x[i];
+        a1 += x[i + 1] - x[i + 1];
+        a2 += x[i + 2] - x[i + 2];
+        a3 += x[i + 3] - x[i + 3];
+    }
+    for (; i < n; i++)
+        a0 += x[i] - x[i];
+    return !((a0 + a1) + (a2 + a3) == 0.0);
 }
 
-/* Weighted means of the living members before the update: the forecast. */
+#define FMEAN_BLOCK 64 /* rows summed together in one pass over the members */
+
+/* Weighted means of the living members before the update: the forecast.
+ * Each summarised row's sum runs in member order; up to FMEAN_BLOCK rows
+ * are summed together in one pass over the members, each in a sum of its
+ * own, with where the row lives looked up once per pass. */
 static void forecast_mean(const sl_pf_config *cfg, const unsigned char *dead,
                           const double *X, const double *P, const double *w,
                           double *out)
@@ -1217,30 +1231,30 @@ static void forecast_mean(const sl_pf_config *cfg, const unsigned char *dead,
     const size_t N = cfg->N, n = cfg->model->n_state;
     const size_t p = cfg->model->n_param, ns = sl_pfi_summary_count(cfg);
     double W = 0.0;
-    size_t i, j, nx = 0;
-    /* member by member, each summarised row's sum in member order; the
-     * rows increase, so the states' come first */
-    while (nx < ns && sl_pfi_summary_row(cfg, nx) < n)
-        nx++;
+    size_t i, j, i0;
     sl_pfi_summary_blank(cfg, out, NULL, 0, 0);
-    for (i = 0; i < ns; i++)
-        out[sl_pfi_summary_row(cfg, i)] = 0.0;
-    for (j = 0; j < N; j++) {
-        if (dead[j] || !(w[j] > 0))
-            continue;
-        W += w[j];
-        for (i = 0; i < nx; i++) {
-            size_t r = sl_pfi_summary_row(cfg, i);
-            out[r] += w[j] * X[r + j * n];
+    for (j = 0; j < N; j++)
+        if (!dead[j] && w[j] > 0)
+            W += w[j];
+    for (i0 = 0; i0 < ns; i0 += FMEAN_BLOCK) {
+        const size_t nb = ns - i0 < FMEAN_BLOCK ? ns - i0 : FMEAN_BLOCK;
+        const double *src[FMEAN_BLOCK];
+        size_t ld[FMEAN_BLOCK], r[FMEAN_BLOCK];
+        double s[FMEAN_BLOCK];
+        for (i = 0; i < nb; i++) {
+            r[i] = sl_pfi_summary_row(cfg, i0 + i);
+            src[i] = r[i] < n ? X + r[i] : P + (r[i] - n);
+            ld[i] = r[i] < n ? n : p;
+            s[i] = 0.0;
         }
-        for (; i < ns; i++) {
-            size_t r = sl_pfi_summary_row(cfg, i);
-            out[r] += w[j] * P[r - n + j * p];
+        for (j = 0; j < N; j++) {
+            if (dead[j] || !(w[j] > 0))
+                continue;
+            for (i = 0; i < nb; i++)
+                s[i] += w[j] * src[i][j * ld[i]];
         }
-    }
-    for (i = 0; i < ns; i++) {
-        size_t r = sl_pfi_summary_row(cfg, i);
-        out[r] = W > 0 ? out[r] / W : (double)NAN;
+        for (i = 0; i < nb; i++)
+            out[r[i]] = W > 0 ? s[i] / W : (double)NAN;
     }
 }
 

@@ -1,4 +1,4 @@
-function bench_models ()
+function bench_models (only)
   % The built-in models advanced by sluice.propagate (1 and 2 threads)
   % against a vectorised Octave implementation of the same model and the
   % same integrator (one loop over time steps, none over members), in
@@ -18,22 +18,34 @@ function bench_models ()
   % the linear dH/dt, dM/dt through RK4's growth factor, and gr4j carries
   % only the queue slots its ensemble's unit hydrographs reach (see their
   % comments); both give RK4's and the map's states as compiled.
+  % GR4J is also held against a plain C loop of the same equations in
+  % structure-of-arrays layout (tests/bench/gr4j_soa.c, one core, N = 1e4):
+  % the figure is sluice's speed as a share of that loop's.
+  % bench_models ({'gr4j', ...}) runs only the parts named
+  if (nargin < 1)
+    only = {};
+  end
+  cfg.only = only;
   cfg.Ns = [1e4 1e5];
   cfg.nrep = 3;
   cfg.target = 1.0;   % seconds per timed run
   printf ('   load average before: %s\n', load_average ());
-  guarded ('lorenz96', @() bench_lorenz96 (cfg));
-  guarded ('flood', @() bench_flood (cfg));
+  guarded (cfg, 'lorenz96', @() bench_lorenz96 (cfg));
+  guarded (cfg, 'flood', @() bench_flood (cfg));
   if (any (strcmp ('gr4j', sluice.kernel.model_info ())))
-    guarded ('gr4j', @() bench_gr4j (cfg));
+    guarded (cfg, 'gr4j', @() bench_gr4j (cfg));
+    guarded (cfg, 'gr4j_soa', @() bench_gr4j_soa (cfg));
   else
     printf ('   gr4j: not registered among the built-in models; skipped\n');
   end
   printf ('   load average after: %s\n', load_average ());
 end
 
-function guarded (name, fun)
+function guarded (cfg, name, fun)
   % one model that fails prints a line; the others still run
+  if (~isempty (cfg.only) && ~any (strcmp (name, cfg.only)))
+    return;
+  end
   try
     fun ();
   catch err
@@ -131,113 +143,6 @@ function X = flood_ensemble (N, seed)
   X(4, :) = 0.1 * rand (1, N);
 end
 
-function X = flood_octave (X, p, t0, t1, dt, te, W)
-  % Fixed-step RK4 on the whole ensemble with the compiled run's step grid;
-  % an event at time t_e in (t_s, t_s + h] splits that step: RK4 over
-  % (t_s, t_e), the jump at t_e, RK4 over the rest. F and R have zero
-  % derivatives (RK4 leaves them unchanged), and dH = -kappaT H,
-  % dM = -muS M are linear with constant coefficients: RK4 over a piece h
-  % multiplies them by 1 + z + z^2/2 + z^3/6 + z^4/24 (z = -kappaT h,
-  % -muS h), and M's stage values, which enter dD/dt, are M times the
-  % matching partial sums. The result is RK4 on all six states, as
-  % compiled, up to rounding.
-  xiH = p(1); alphaH = p(2); rhoE = p(3); gammaE = p(4); lambdaP = p(5);
-  sigmaP = p(6); epsT = p(7); kappaT = p(8); alphaS = p(9); muS = p(10);
-  G = X(1, :); D = X(2, :); H = X(3, :); M = X(4, :); F = X(5, :); R = X(6, :);
-  [nsteps, h] = step_grid (t0, t1, dt);
-  ne = numel (te);
-  e = find (te > t0, 1);
-  if (isempty (e))
-    e = ne + 1;
-  end
-  for l = 0:nsteps-1
-    ts = t0 + l * h;
-    if (l + 1 == nsteps)
-      tend = t1;
-    else
-      tend = t0 + (l + 1) * h;
-    end
-    tc = ts;
-    while (e <= ne && te(e) <= tend)
-      [G, D, H, M] = flood_rk4 (G, D, H, M, te(e) - tc, rhoE, lambdaP, sigmaP, kappaT, muS);
-      tc = te(e);
-      % the jump (eqs. 4-6) at a flood of level W(e)
-      level = W(e) + xiH * H;
-      F = -expm1 (-level ./ (alphaH * D));
-      F(~(level > H)) = 0;
-      Rstar = epsT * (level - H);
-      % (a G that is not > 0 gives no levee in both: NaN or 0 tests false)
-      c = gammaE * Rstar .* sqrt (max (G, 0));
-      FG = F .* G;
-      raise = F > 0 & FG > c & G - FG > c;
-      R = zeros (size (G));
-      R(raise) = Rstar(raise);
-      cost = zeros (size (G));
-      cost(raise) = c(raise);
-      S = F;
-      S(R > 0) = alphaS * F(R > 0);
-      G = G - FG - cost;
-      H = H + R;
-      M = M + S;
-      e = e + 1;
-    end
-    [G, D, H, M] = flood_rk4 (G, D, H, M, tend - tc, rhoE, lambdaP, sigmaP, kappaT, muS);
-  end
-  X = [G; D; H; M; F; R];
-end
-
-function [G, D, H, M] = flood_rk4 (G, D, H, M, h, rhoE, lambdaP, sigmaP, kappaT, muS)
-  % one RK4 step of length h (nothing for h <= 0)
-  if (~(h > 0))
-    return;
-  end
-  z = -muS * h;
-  m2 = 1 + 0.5 * z;                 % M at the stages: M + h/2 kM1, ...
-  m3 = 1 + 0.5 * z * m2;
-  m4 = 1 + z * m3;
-  % a stage with G <= 0 lies outside the model's domain: the compiled
-  % right-hand side gives NaN derivatives there, and so does this one
-  [G1, bad] = outside (G, false (size (G)));
-  [g1, d1] = flood_gd (G1, D, M, rhoE, lambdaP, sigmaP);
-  G2 = G + 0.5 * h * g1;
-  D2 = D + 0.5 * h * d1;
-  [G2, bad] = outside (G2, bad);
-  [g2, d2] = flood_gd (G2, D2, m2 * M, rhoE, lambdaP, sigmaP);
-  G3 = G + 0.5 * h * g2;
-  D3 = D + 0.5 * h * d2;
-  [G3, bad] = outside (G3, bad);
-  [g3, d3] = flood_gd (G3, D3, m3 * M, rhoE, lambdaP, sigmaP);
-  G4 = G + h * g3;
-  D4 = D + h * d3;
-  [G4, bad] = outside (G4, bad);
-  [g4, d4] = flood_gd (G4, D4, m4 * M, rhoE, lambdaP, sigmaP);
-  G = G + (h / 6) * (g1 + 2 * g2 + 2 * g3 + g4);
-  D = D + (h / 6) * (d1 + 2 * d2 + 2 * d3 + d4);
-  y = -kappaT * h;
-  H = H * (1 + y * (1 + y * (1 / 2 + y * (1 / 6 + y / 24))));
-  M = M * (1 + z * (1 + z * (1 / 2 + z * (1 / 6 + z / 24))));
-  if (any (bad))
-    H(bad) = NaN;
-    M(bad) = NaN;
-  end
-end
-
-function [G, bad] = outside (G, bad)
-  % members whose stage value of G is not > 0: NaN (a real NaN root, not a
-  % complex one)
-  b = ~(G > 0);
-  if (any (b))
-    G(b) = NaN;
-    bad = bad | b;
-  end
-end
-
-function [g, d] = flood_gd (G, D, M, rhoE, lambdaP, sigmaP)
-  % dG/dt and dD/dt (eqs. 3a-b)
-  g = rhoE * (1 - D) .* G;
-  d = (M - D / lambdaP) * sigmaP ./ sqrt (G);
-end
-
 % ------------------------------------------------------------------------
 % GR4J
 
@@ -273,6 +178,71 @@ function bench_gr4j (cfg)
   end
 end
 
+function bench_gr4j_soa (cfg)
+  % sluice.propagate (1 thread) against gr4j_soa.c, compiled here with gcc
+  % (-O3, no fused multiply-adds, like src/models/gr4j.c), on the same
+  % members, parameters and forcing; the C program times itself (best of
+  % cfg.nrep runs) and must end on sluice's states bit for bit.
+  N = 1e4;
+  spec = sluice.model ('gr4j');
+  p0 = spec.defaults(:);
+  here = fileparts (mfilename ('fullpath'));
+  tmp = tempname ();
+  mkdir (tmp);
+  cleanup = onCleanup (@() remove_dir (tmp));
+  exe = fullfile (tmp, 'gr4j_soa');
+  flags = '-std=c11 -D_POSIX_C_SOURCE=200809L -O3 -fno-math-errno -ffp-contract=off';
+  [rc, out] = system (sprintf ('gcc %s -o %s %s -lm 2>&1', flags, exe, ...
+                               fullfile (here, 'gr4j_soa.c')));
+  if (rc ~= 0)
+    error ('gr4j_soa.c did not compile: %s', out);
+  end
+  nd = 20000;
+  rand ('state', 6);
+  Pd = (rand (nd, 1) < 0.4) .* (-8 * log (rand (nd, 1)));
+  Ed = 2 + 1.5 * sin (2 * pi * (0:nd-1)' / 365);
+  frc = struct ('time', (0:nd-1)', 'values', [Pd Ed], 'interp', 'previous');
+  P = gr4j_params (p0, N, 8);
+  X0 = repmat (spec.x0(:), 1, N);
+  comp = @(s) sluice.propagate (spec, X0, P, 0, s, frc, 'threads', 1);
+  days = min (calibrate (comp, cfg.target), nd);
+  tc = Inf;
+  for r = 1:cfg.nrep
+    t0 = tic ();
+    a = comp (days);
+    tc = min (tc, toc (t0));
+  end
+  tone = Inf;
+  for r = 1:cfg.nrep
+    t0 = tic ();
+    comp (1);
+    tone = min (tone, toc (t0));
+  end
+  fin = fullfile (tmp, 'in.bin');
+  fout = fullfile (tmp, 'out.bin');
+  fid = fopen (fin, 'wb');
+  fwrite (fid, [N; days; P(:); X0(:); Pd(1:days); Ed(1:days)], 'double');
+  fclose (fid);
+  [rc, out] = system (sprintf ('%s %s %s %d 2>&1', exe, fin, fout, cfg.nrep));
+  if (rc ~= 0)
+    error ('gr4j_soa failed: %s', out);
+  end
+  fid = fopen (fout, 'rb');
+  v = fread (fid, Inf, 'double');
+  fclose (fid);
+  b = reshape (v(1:end-1), size (X0));
+  ts = v(end);
+  printf ('   gr4j N=1e4, %d days, 1 thread: sluice.propagate %.1f ns per member-step (%.1f beyond a one-step call of %.1f ms); C loop in structure-of-arrays layout %.1f ns; sluice at %.0f%% of the C loop (%.0f%% beyond the call) (target >= 50%%)\n', ...
+          days, 1e9 * tc / (N * days), 1e9 * (tc - tone) / (N * (days - 1)), 1e3 * tone, ...
+          1e9 * ts / (N * days), 100 * ts / tc, 100 * ts / (tc - tone) * (days - 1) / days);
+  printf ('      final states equal bit for bit: %s\n', yes_no (isequal (a, b), 'yes', 'NO'));
+end
+
+function remove_dir (d)
+  confirm_recursive_rmdir (false, 'local');
+  rmdir (d, 's');
+end
+
 function P = gr4j_params (p0, N, seed)
   randn ('state', seed);
   P = zeros (4, N);
@@ -280,93 +250,6 @@ function P = gr4j_params (p0, N, seed)
   P(2, :) = p0(2) + 0.5 * randn (1, N);
   P(3, :) = p0(3) * exp (0.2 * randn (1, N));
   P(4, :) = min (max (p0(4) * exp (0.2 * randn (1, N)), 0.5), 20);
-end
-
-function X = gr4j_octave (X, Pm, days, Pd, Ed)
-  % The daily map on the whole ensemble: stores S, R as rows, the two
-  % queues as matrices with as many slots as the ensemble's longest unit
-  % hydrographs need (the other slots of the 20 + 40 stay 0, so they are
-  % not carried), the ordinates computed once for the run's parameters.
-  nh1 = 20;
-  nh2 = 40;
-  x1 = Pm(1, :); x2 = Pm(2, :); x3 = Pm(3, :); x4 = Pm(4, :);
-  N = columns (X);
-  m1 = min (nh1, ceil (max (x4)));
-  m2 = min (nh2, ceil (2 * max (x4)));
-  if (any (any (X(2 + m1 + 1:2 + nh1, :))) || any (any (X(2 + nh1 + m2 + 1:2 + nh1 + nh2, :))))
-    error ('the Octave version carries only the queue slots the ensemble uses');
-  end
-  [o1, o2] = gr4j_ordinates (x4, m1, m2, nh1, nh2);
-  S = X(1, :);
-  R = X(2, :);
-  U1 = X(3:2 + m1, :);
-  U2 = X(3 + nh1:2 + nh1 + m2, :);
-  Q = X(end, :);
-  z1 = zeros (1, N);
-  for k = 1:days
-    d = Pd(k) - Ed(k);             % forcing shared by all members
-    pn = max (d, 0);
-    en = max (-d, 0);
-    % production store: only one of Ps, Es is non-zero on a day
-    sr = S ./ x1;
-    if (pn > 0)
-      tp = tanh (pn ./ x1);
-      ps = x1 .* (1 - sr .* sr) .* tp ./ (1 + sr .* tp);
-      S = S + ps;
-    else
-      ps = 0;
-      if (en > 0)
-        tv = tanh (en ./ x1);
-        S = S - S .* (2 - sr) .* tv ./ (1 + (1 - sr) .* tv);
-      end
-    end
-    q = (4 / 9) * (S ./ x1);
-    q2 = q .* q;
-    perc = S .* (1 - 1 ./ sqrt (sqrt (1 + q2 .* q2)));
-    S = S - perc;
-    pr = perc + pn - ps;
-    % unit hydrographs
-    U1 = [U1(2:end, :); z1] + o1 .* (0.9 * pr);
-    U2 = [U2(2:end, :); z1] + o2 .* (0.1 * pr);
-    % exchange from R before the inflow, routing store
-    rr = R ./ x3;
-    f = x2 .* (rr .* rr .* rr .* sqrt (rr));
-    R = R + U1(1, :) + f;
-    R(R < 0) = 0;
-    rr = R ./ x3;
-    rr2 = rr .* rr;
-    qr = R .* (1 - 1 ./ sqrt (sqrt (1 + rr2 .* rr2)));
-    R = R - qr;
-    qd = U2(1, :) + f;
-    qd(qd < 0) = 0;
-    Q = qr + qd;
-  end
-  X(1, :) = S;
-  X(2, :) = R;
-  X(3:2 + m1, :) = U1;
-  X(3 + nh1:2 + nh1 + m2, :) = U2;
-  X(end, :) = Q;
-end
-
-function [o1, o2] = gr4j_ordinates (x4, m1, m2, nh1, nh2)
-  % UH ordinates: differences of the S-curves at whole days,
-  % SH1(t) = (t/X4)^2.5 for t < X4, else 1;
-  % SH2(t) = (t/X4)^2.5 / 2 for t <= X4, 1 - (2 - t/X4)^2.5 / 2 for
-  % X4 < t < 2 X4, else 1 (the last slot of each queue takes what is left)
-  N = numel (x4);
-  c = 1 ./ (x4 .* x4 .* sqrt (x4));
-  t = (1:m1)';
-  sh1 = min ((t .^ 2.5) .* c, 1);
-  sh1(t >= x4 | t == nh1) = 1;
-  o1 = diff ([zeros(1, N); sh1]);
-  t = (1:m2)';
-  sh2 = 0.5 * min ((t .^ 2.5) .* c, 1);
-  u = max (2 - t ./ x4, 0);
-  mid = t > x4;
-  v = 1 - 0.5 * (u .* u .* sqrt (u));
-  sh2(mid) = v(mid);
-  sh2(t >= 2 * x4 | t == nh2) = 1;
-  o2 = diff ([zeros(1, N); sh2]);
 end
 
 % ------------------------------------------------------------------------
@@ -508,12 +391,6 @@ function report_check (name, N, steps, a, b)
   printf ('   check %s, %d members, %d steps: compiled and Octave states agree to %.1e relative (max over all states; %s)%s\n', ...
           name, N, steps, rel, yes_no (rel <= 1e-10, 'within 1e-10', 'NOT within 1e-10'), ...
           yes_no (nf == 0, '', sprintf ('; %d non-finite members', nf)));
-end
-
-function [nsteps, h] = step_grid (t0, t1, dt)
-  % the compiled run's grid: equal steps that land exactly on t1
-  nsteps = ceil ((t1 - t0) / dt - 1e-9);
-  h = (t1 - t0) / nsteps;
 end
 
 function hl = step_length (t0, t1, h, l, nsteps)

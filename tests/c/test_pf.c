@@ -8,9 +8,13 @@
 #include "sluice/pf.h"
 #include "sluice/rng.h"
 
+#include <float.h>
+#include <math.h>
 #include <stdint.h>
 #include <stdlib.h>
 #include <gsl/gsl_cdf.h>
+
+#include "../../src/pf_internal.h"
 
 #define TWO_PI 6.283185307179586476925287
 
@@ -1833,8 +1837,43 @@ static void check_summary_rows(void)
     expect_ok(&c, "no row summarised");
 }
 
+/* ------------------------------------------------- members' health */
+
+/* sl_pfi_has_nonfinite against isfinite (C11 7.12.3.2) value by value: every
+ * column length 0..13, each of Inf, -Inf and NaN at every place, among
+ * finite values at the extremes (DBL_MAX, -DBL_MAX, the smallest subnormal,
+ * -0). */
+static void check_nonfinite(void)
+{
+    const double fin[] = {1.5, DBL_MAX, -DBL_MAX, 4.9406564584124654e-324, -0.0,
+                          -3.25, 0.0};
+    const double bad[] = {HUGE_VAL, -HUGE_VAL, NAN};
+    double x[13];
+    size_t n, i, pos, b, nbad = 0;
+    for (n = 0; n <= 13; n++) {
+        for (i = 0; i < n; i++)
+            x[i] = fin[(i + n) % 7];
+        CHECK(sl_pfi_has_nonfinite(x, n) == 0, "finite column of %lu flagged",
+              (unsigned long)n);
+        for (pos = 0; pos < n; pos++)
+            for (b = 0; b < 3; b++) {
+                double keep = x[pos];
+                int ref = 0;
+                x[pos] = bad[b];
+                for (i = 0; i < n; i++)
+                    ref |= !isfinite(x[i]);
+                if (sl_pfi_has_nonfinite(x, n) != ref)
+                    nbad++;
+                x[pos] = keep;
+            }
+    }
+    CHECK(nbad == 0, "%lu columns with a non-finite value judged wrongly",
+          (unsigned long)nbad);
+}
+
 int main(void)
 {
+    check_nonfinite();
     check_resample_move();
     check_smc2_wenkf();
     check_worked_example();
