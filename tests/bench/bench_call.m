@@ -50,7 +50,7 @@ function bench_call ()
     sluice.filter (spec, pr, obs, o{:}, 'seed', k);
     sluice.filter (run, 'seed', k);
     sluice.kernel.pf_run (c);
-    vectorised_pf (y', sigma, N, probs);
+    vectorised_pf (0.9, sqrt (0.1), y', sigma, N, probs);
   end
   % wall time (tic/toc) and the process's CPU time (cputime), which a
   % machine shared with other jobs inflates less
@@ -71,7 +71,7 @@ function bench_call ()
         case 4
           sluice.kernel.pf_run (c);
         otherwise
-          vectorised_pf (y', sigma, N, probs);
+          vectorised_pf (0.9, sqrt (0.1), y', sigma, N, probs);
       end
       t(j, k) = toc (t0);
       u(j, k) = cputime () - u0;
@@ -85,48 +85,6 @@ function bench_call ()
           ms(1) - ms(4), cpu(1) - cpu(4), ms(2) - ms(4), cpu(2) - cpu(4));
   printf ('   ratios: call / compiled work %.1f, prepared run / compiled work %.1f; vectorised Octave / call %.2f, vectorised Octave / prepared run %.2f\n', ...
           ms(1) / ms(4), ms(2) / ms(4), ms(5) / ms(1), ms(5) / ms(2));
-end
-
-function [m, qs, ess, logz] = vectorised_pf (Y, sigma, N, probs)
-  % the particle filter of the linear model above, vectorised over the
-  % members: propagate, weigh, record the weighted means, quantiles, ESS
-  % and log-evidence, resample (systematic) when ESS < N/2
-  [n, T] = size (Y);
-  nq = numel (probs);
-  m = zeros (n, T);
-  qs = zeros (n, nq, T);
-  ess = zeros (1, T);
-  logz = zeros (1, T);
-  c0 = -n * (log (sigma) + 0.5 * log (2 * pi));   % Gaussian normalising term
-  X = randn (n, N);                               % x0 ~ N(0, 1)
-  logw = repmat (-log (N), 1, N);
-  L = sqrt (0.1);
-  for k = 1:T
-    X = 0.9 * X + L * randn (n, N);
-    lw = logw + (c0 - 0.5 * sumsq ((X - Y(:, k)) / sigma, 1));
-    mx = max (lw);
-    e = exp (lw - mx);
-    s = sum (e);
-    logz(k) = mx + log (s);
-    w = e / s;
-    ess(k) = 1 / sumsq (w);
-    W = sum (w);
-    m(:, k) = (X * w') / W;
-    [xs, ix] = sort (X, 2);
-    cw = cumsum (w(ix), 2);
-    for l = 1:nq
-      qs(:, l, k) = xs(min (find (cw >= probs(l) * W, 1), N));
-    end
-    if (ess(k) < 0.5 * N)
-      cs = cumsum (w);
-      a = lookup (cs, ((0:N-1) + rand ()) * (cs(end) / N)) + 1;
-      a(a > N) = find (w > 0, 1, 'last');         % rounding at the very end
-      X = X(:, a);
-      logw(:) = -log (N);
-    else
-      logw = lw - logz(k);
-    end
-  end
 end
 
 function s = yes_no (tf, a, b)
