@@ -1,0 +1,112 @@
+% sweep_ranks.m - run by every rank of `mpirun -np P octave-cli` (tests/mpi/run.sh):
+% the case named by SLUICE_MPI_CASE. Each rank writes "RANK r: PASS name"
+% or "RANK r: FAIL name: why" to SLUICE_MPI_DIR/rank<r>; run.sh reads
+% them and times the job.
+warning ('off', 'Octave:shadowed-function');
+here = fileparts (mfilename ('fullpath'));
+addpath (fullfile (here, '..', '..', 'm'));
+addpath (here);
+crash_dumps_octave_core (false);
+kase = getenv ('SLUICE_MPI_CASE');
+dir_out = getenv ('SLUICE_MPI_DIR');
+rank = str2double (getenv ('OMPI_COMM_WORLD_RANK'));
+% the verdict goes to the rank's own file (lines of ranks interleave on
+% the terminal) and to the output
+say = @(ok, why) verdict (fullfile (dir_out, sprintf ('rank%d', rank)), ...
+                          sprintf ('RANK %d: %s %s%s', rank, ifelse_text (ok), kase, why));
+
+% a point: a small particle filter on a linear-Gaussian model, one thread
+m = sluice.model ('linear', 'A', 0.9, 'Q', 0.1, 'states', {'x'});
+pr = sluice.prior ('x', 'normal', [0 1]);
+obs = struct ('time', (1:8)', 'variable', {repmat({'x'}, 8, 1)}, ...
+              'value', sin (1:8)' / 2, 'sigma', 0.5 * ones (8, 1));
+run = @(p) sluice.filter (m, pr, obs, 'members', p.members, 'seed', p.seed, 't0', 0, ...
+                          'progress', false, 'threads', 1);
+fun = @(p) struct ('ll', getfield (run (p), 'log_evidence'), 'mult', p.k * p.members);
+grid = struct ('members', [50 80 120], 'k', [1 2 3]);
+
+sluice.kernel.mpi ('init');
+if (strcmp (kase, 'rankleft') && rank == 1)
+  % outside any try: this rank's Octave ends here with its own error
+  error ('test:planted', 'rank 1 stops before the sweep');
+end
+try
+  switch (kase)
+    case 'equal'
+      % the distributed sweep = the single-process sweep, bit for bit
+      [t, info] = sluice.sweep (fun, grid, 'seed', 5, 'workers', 1);
+      [u, uinfo] = sluice.sweep (fun, grid, 'seed', 5, 'workers', 1, 'mpi', false);
+      ok = isequal (t, u) && info.ranks == str2double (getenv ('OMPI_COMM_WORLD_SIZE')) ...
+           && uinfo.ranks == 1 && info.computed == 9 && isequal (info.rank, rank);
+      say (ok, sprintf (' (ranks %d)', info.ranks));
+    case 'idle'
+      % more ranks than points: the extra ranks idle, the table is whole
+      g = struct ('members', [50 80]);
+      t = sluice.sweep (@(p) fun (setfield (p, 'k', 1)), g, 'seed', 2, 'workers', 1);
+      u = sluice.sweep (@(p) fun (setfield (p, 'k', 1)), g, 'seed', 2, 'workers', 1, 'mpi', false);
+      say (isequal (t, u) && numel (t.ll) == 2, '');
+    case 'resume'
+      % a file written by one process is resumed by the ranks, and the
+      % file the ranks complete is the single-process file's content
+      f = fullfile (dir_out, 'sweep.mat');
+      g2 = struct ('members', [50 80], 'k', [1 2 3]);
+      if (rank == 0)
+        sluice.sweep (fun, g2, 'seed', 5, 'workers', 1, 'file', f, 'mpi', false);
+      end
+      sluice.kernel.mpi ('barrier');
+      [t, info] = sluice.sweep (fun, grid, 'seed', 5, 'workers', 1, 'file', f);
+      u = sluice.sweep (fun, grid, 'seed', 5, 'workers', 1, 'mpi', false);
+      ok = isequal (t, u) && info.nreused == 6 && info.computed == 3;
+      sluice.kernel.mpi ('barrier');
+      [t2, info2] = sluice.sweep (fun, grid, 'seed', 5, 'workers', 1, 'file', f, 'mpi', false);
+      ok = ok && isequal (t2, u) && info2.nreused == 9;
+      say (ok, '');
+    case 'mismatch'
+      % a different seed on each rank: the same error on every rank
+      try
+        sluice.sweep (fun, grid, 'seed', 5 + rank, 'workers', 1);
+        say (false, ': no error');
+      catch err
+        say (strcmp (err.identifier, 'sluice:sweep:mpimismatch'), [': ' err.identifier]);
+      end
+    case 'pointfails'
+      % a point that fails on its rank: sluice:sweep:pointfailed on every
+      % rank, naming the point
+      bad = @(p) ifelse_error (p.members == 80 && p.k == 2, fun, p);
+      try
+        sluice.sweep (bad, grid, 'seed', 5, 'workers', 1);
+        say (false, ': no error');
+      catch err
+        say (strcmp (err.identifier, 'sluice:sweep:pointfailed') ...
+             && ~isempty (strfind (err.message, '(k=2, members=80)')) ...
+             && ~isempty (strfind (err.message, 'test:planted')), [': ' err.message]);
+      end
+    case 'badfile'
+      % rank 0 cannot read the results file: sluice:sweep:badfile everywhere
+      f = fullfile (dir_out, 'not_results.mat');
+      if (rank == 0)
+        fid = fopen (f, 'w'); fputs (fid, 'not a results file'); fclose (fid);
+      end
+      sluice.kernel.mpi ('barrier');
+      try
+        sluice.sweep (fun, grid, 'seed', 5, 'workers', 1, 'file', f);
+        say (false, ': no error');
+      catch err
+        say (strcmp (err.identifier, 'sluice:sweep:badfile'), [': ' err.identifier]);
+      end
+    case 'rankleft'
+      % rank 1 stops with its own error before the sweep: the others raise
+      % sluice:mpi:rankleft naming it, and the job ends
+      try
+        sluice.sweep (fun, grid, 'seed', 5, 'workers', 1);
+        say (false, ': no error');
+      catch err
+        say (strcmp (err.identifier, 'sluice:mpi:rankleft') ...
+             && ~isempty (strfind (err.message, 'rank 1 left')), [': ' err.identifier]);
+      end
+    otherwise
+      say (false, ': unknown case');
+  end
+catch err
+  say (false, [': ' err.identifier ' ' err.message]);
+end
