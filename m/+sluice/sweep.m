@@ -65,12 +65,29 @@
 % In parallel, each worker also writes its finished point at once to
 % @var{file}@code{.part}@var{k} (merged into @var{file} at the end, or by
 % the next call), so a sweep stopped part-way loses no finished point.
+% Under mpirun (option @code{mpi}) rank 0 alone writes it, after each
+% round of points.
 % It holds the variable @code{sweep_done}, a struct of columns @code{key}
 % (the point keys), @code{seed}, @code{time} and @code{scores} (a cell of
 % score structs), saved in Octave's own binary format (@code{save -binary}).
 % Its cost grows with the number of points saved. A later call with the same
 % file reuses every point whose key and seed are found there and runs only
 % the others: an interrupted sweep resumes where it stopped.
+% @item mpi
+% @code{'auto'} (default), true or false. With @code{'auto'}, a sweep in an
+% Octave started by @code{mpirun -np P octave-cli script.m} (Open MPI),
+% with sluice built by @code{make MPI=1}, deals the points to run across
+% the P processes (ranks), every rank calling @code{sluice.sweep} with the
+% same arguments: rank k runs the points k+1, k+1+P, @dots{} of those to
+% run, one at a time (@code{workers} is not used), in rounds of one point
+% a rank. After each round rank 0 gathers the round's scores, writes the
+% results file, and sends the scores back: every rank returns the whole
+% table, equal bit for bit to the single-process sweep's (the point seeds
+% do not depend on who runs a point). Ranks beyond the number of points
+% idle. false: each process runs the whole sweep by itself. true: as
+% @code{'auto'}, but a build without the MPI gateway is the error
+% @code{sluice:sweep:mpiunavailable}. Outside mpirun every value runs the
+% sweep in this process.
 % @end table
 %
 % A sweep takes no @code{checkpoint} (@code{sluice:sweep:badoption}):
@@ -90,8 +107,11 @@
 % @code{nreused} (counts of points run now and taken from the file),
 % @code{total} (seconds for the whole call), @code{overhead} (seconds per
 % point computed now spent outside @var{fun}: (total - time in fun) /
-% computed), @code{workers} and @code{parallel} (true if
-% @code{pararrayfun} was used).
+% computed; under mpirun, summed over the ranks: (total * ranks - time in
+% fun) / computed), @code{workers} and @code{parallel} (true if
+% @code{pararrayfun} was used), @code{ranks} and @code{rank} (the number
+% of mpirun processes sharing the points and this one's number from 0; 1
+% and 0 otherwise).
 %
 % Example:
 % @example
@@ -123,6 +143,14 @@
 % message names the point it was running, what the package said, and how
 % many finished points the file keeps; the other workers are stopped and
 % the next call with the same file runs only the points not kept),
+% @code{sluice:sweep:mpiunavailable} (option @code{mpi} true in a build
+% without the MPI gateway: the message names @code{make MPI=1}),
+% @code{sluice:sweep:mpimismatch} (under mpirun, the ranks were given
+% different grids, seeds, files or functions: raised on every rank),
+% @code{sluice:mpi:rankleft} (under mpirun, another rank's Octave ended --
+% by its own error, say -- while this one waited for it: the message
+% names that rank; a point's error, a bad results file or bad scores are
+% raised on every rank with their own identifier),
 % @code{sluice:sweep:interrupted} (Ctrl-C during a point of a serial
 % sweep: the finished points are in the file; a Ctrl-C between points,
 % or during a parallel sweep, is Octave's own interrupt, and there too the
