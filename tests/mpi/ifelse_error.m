@@ -1,5 +1,5 @@
 function s = ifelse_error (fails, fun, p)
-  % Test helper (tests/mpi/sweep_ranks.m): fun (p), or a planted error.
+  % Test helper (tests/mpi/on_ranks.m): fun (p), or a planted error.
   if (fails)
     error ('test:planted', 'planted failure');
   end

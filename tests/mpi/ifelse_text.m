@@ -1,5 +1,5 @@
 function t = ifelse_text (ok)
-  % Test helper (tests/mpi/sweep_ranks.m): the verdict word of a case.
+  % Test helper (tests/mpi/on_ranks.m): the verdict word of a case.
   if (ok)
     t = 'PASS';
   else

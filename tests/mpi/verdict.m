@@ -1,5 +1,5 @@
 function verdict (file, line)
-  % Test helper (tests/mpi/sweep_ranks.m): a rank's verdict line, to its
+  % Test helper (tests/mpi/on_ranks.m): a rank's verdict line, to its
   % own file and to the output.
   fid = fopen (file, 'a');
   fprintf (fid, '%s\n', line);

@@ -1,4 +1,4 @@
-% sweep_ranks.m - run by every rank of `mpirun -np P octave-cli` (tests/mpi/run.sh):
+% on_ranks.m - run by every rank of `mpirun -np P octave-cli` (tests/mpi/run.sh):
 % the case named by SLUICE_MPI_CASE. Each rank writes "RANK r: PASS name"
 % or "RANK r: FAIL name: why" to SLUICE_MPI_DIR/rank<r>; run.sh reads
 % them and times the job.
@@ -7,6 +7,9 @@ here = fileparts (mfilename ('fullpath'));
 addpath (fullfile (here, '..', '..', 'm'));
 addpath (here);
 crash_dumps_octave_core (false);
+% short chains: their convergence warnings are not the point here
+warning ('off', 'sluice:pmmh:notconverged');
+warning ('off', 'sluice:pmmh:lowess');
 kase = getenv ('SLUICE_MPI_CASE');
 dir_out = getenv ('SLUICE_MPI_DIR');
 rank = str2double (getenv ('OMPI_COMM_WORLD_RANK'));
@@ -30,8 +33,63 @@ if (strcmp (kase, 'rankleft') && rank == 1)
   % outside any try: this rank's Octave ends here with its own error
   error ('test:planted', 'rank 1 stops before the sweep');
 end
+% a chain: particle MCMC of one parameter of a small model
+cspec = sluice.model (@(t, X, P, U, dt) planted_step (P, X), 'states', {'x'}, ...
+                      'params', {'a', 'b'}, 'defaults', [0.5; 1]);
+cpr = sluice.prior ('a', 'uniform', [-1 1], 'x', 'normal', [0 1]);
+cobs = struct ('time', (1:5)', 'variable', {repmat({'x'}, 5, 1)}, ...
+               'value', [0.3; -0.2; 0.5; 0.1; 0.4], 'sigma', ones (5, 1));
+copt = {'members', 40, 'chains', 5, 'iterations', 10, 'burnin', 4, 'seed', 3, ...
+        'filter', struct('t0', 0, 'state_noise', 1, 'threads', 1)};
+same_chains = @(a, b) isequal (a.samples, b.samples) && isequal (a.loglik, b.loglik) ...
+    && isequal (a.logpost, b.logpost) && isequal (a.acceptance, b.acceptance) ...
+    && isequal (a.proposal, b.proposal) && isequal (a.scale, b.scale) ...
+    && isequal (a.start, b.start) && isequal (a.chain_state, b.chain_state) ...
+    && isequal (a.summary, b.summary);
+
 try
   switch (kase)
+    case 'chains'
+      % chains dealt across the ranks = one process, bit for bit
+      a = sluice.pmmh (cspec, cpr, cobs, copt{:});
+      b = sluice.pmmh (cspec, cpr, cobs, copt{:}, 'mpi', false, 'parallel', false);
+      say (same_chains (a, b) && ~a.parallel, '');
+    case 'chaincheckpoint'
+      % a checkpoint written by rank 0 alone, every few iterations; the
+      % same call then resumes from it; continuing gives the longer run
+      f = fullfile (dir_out, 'chains.ckpt');
+      a = sluice.pmmh (cspec, cpr, cobs, copt{:}, 'checkpoint', f, 'checkpoint_every', 5);
+      a2 = sluice.pmmh (cspec, cpr, cobs, copt{:}, 'checkpoint', f, 'checkpoint_every', 5);
+      c = sluice.pmmh (cspec, cpr, cobs, 'continue', a, 'iterations', 6);
+      b = sluice.pmmh (cspec, cpr, cobs, copt{:}, 'mpi', false, 'parallel', false);
+      o = copt; o{6} = 16;
+      d = sluice.pmmh (cspec, cpr, cobs, o{:}, 'mpi', false, 'parallel', false);
+      say (same_chains (a, b) && same_chains (a2, b) && same_chains (c, d) ...
+           && exist (f, 'file') == 2, '');
+    case 'chainfails'
+      % chain 4 starts where the model fails: on every rank, the error
+      % the single-process run raises
+      st = -0.5 * ones (1, 5);
+      st(4) = 0.875;
+      try
+        sluice.pmmh (cspec, cpr, cobs, copt{:}, 'start', st, 'mpi', false, 'parallel', false);
+        one = struct ('identifier', 'none', 'message', '');
+      catch one
+      end
+      try
+        sluice.pmmh (cspec, cpr, cobs, copt{:}, 'start', st);
+        say (false, ': no error');
+      catch err
+        say (strcmp (err.identifier, 'test:planted') && strcmp (err.identifier, one.identifier) ...
+             && strcmp (err.message, one.message), [': ' err.identifier ' ' err.message]);
+      end
+    case 'chainmismatch'
+      try
+        sluice.pmmh (cspec, cpr, cobs, copt{:}, 'iterations', 10 + rank);
+        say (false, ': no error');
+      catch err
+        say (strcmp (err.identifier, 'sluice:pmmh:mpimismatch'), [': ' err.identifier]);
+      end
     case 'equal'
       % the distributed sweep = the single-process sweep, bit for bit
       [t, info] = sluice.sweep (fun, grid, 'seed', 5, 'workers', 1);
