@@ -228,6 +228,7 @@ demo: all
 
 bench: all
 	$(OCTRUN) --eval "warning('off', 'Octave:shadowed-function'); addpath('$(CURDIR)/m'); addpath('$(CURDIR)/tests/bench'); run_benchmarks"
+	@echo; echo "== distributed sweep (mpirun)"; bash tests/bench/mpi/run.sh
 
 # The Octave package: the .m files under inst/, the C sources under src/
 # with src/Makefile (mk/pkg-src.mk, which includes the same mk/build.mk),
