@@ -49,6 +49,36 @@ same_chains = @(a, b) isequal (a.samples, b.samples) && isequal (a.loglik, b.log
 
 try
   switch (kase)
+    case 'gateway'
+      % values through bcast and gather come back equal (isequal), and a
+      % bad argument is a clear error, not a crash or a hang
+      [r, n] = sluice.kernel.mpi ('init');
+      v = struct ('a', {{'text', [1 2; 3 4], int8(-3)}}, 'b', single (pi), 'c', true (2, 1));
+      got = sluice.internal.mpi ('bcast', setfield (v, 'from', r), n - 1);
+      ok = isequal (got, setfield (v, 'from', n - 1));
+      c = sluice.internal.mpi ('gather', {r, 'x'}, 0);
+      if (r == 0)
+        ok = ok && isequal (c, arrayfun (@(k) {k, 'x'}, 0:n-1, 'UniformOutput', false));
+      else
+        ok = ok && isempty (c);
+      end
+      s = sluice.kernel.mpi ('allreduce', [r; 1], 'sum');
+      ok = ok && isequal (s, [n * (n - 1) / 2; n]);
+      ok = ok && isequal (sluice.kernel.mpi ('allreduce', r, 'max'), n - 1);
+      bad = {{'allreduce', int32(1), 'sum'}, {'allreduce', 1, 'prod'}, ...
+             {'allreduce', 1i, 'sum'}, {'bcast', 1, 0}, {'bcast', uint8(1), n}, ...
+             {'bcast', uint8(1), 0.5}, {'gather', uint8(1), -1}, {'gather', uint8(1)}, ...
+             {'nonsense'}, {3}};
+      for k = 1:numel (bad)
+        try
+          sluice.kernel.mpi (bad{k}{:});
+          ok = false;
+          printf ('rank %d: no error for case %d\n', r, k);
+        catch err
+          ok = ok && strcmp (err.identifier, 'sluice:mpi:badarg');
+        end
+      end
+      say (ok, '');
     case 'chains'
       % chains dealt across the ranks = one process, bit for bit
       a = sluice.pmmh (cspec, cpr, cobs, copt{:});

@@ -54,6 +54,23 @@ grep -q '^auto 1 2$' <<<"$out" && ok || fail "without the gateway the default sw
 grep -q '^sluice:pmmh:mpiunavailable|.*make MPI=1' <<<"$out" && ok \
   || fail "pmmh, option mpi=true without the gateway: expected sluice:pmmh:mpiunavailable, got: $out"
 
+# the gateway outside mpirun: MPI not started, every collective refused
+if [ -e "$here/m/+sluice/+kernel/mpi.mex" ]; then
+  out=$(cd "$tmp" && $octave --no-gui --quiet --no-history --norc --eval "
+    warning('off', 'Octave:shadowed-function'); addpath('$here/m');
+    printf ('initialized %d\n', sluice.kernel.mpi ('initialized'));
+    for c = {'allreduce', 'bcast', 'gather', 'barrier', 'nonsense'}
+      try
+        sluice.kernel.mpi (c{1});
+        printf ('%s no error\n', c{1});
+      catch err
+        printf ('%s %s\n', c{1}, err.identifier);
+      end
+    end" 2>&1)
+  want=$'initialized 0\nallreduce sluice:mpi:notstarted\nbcast sluice:mpi:notstarted\ngather sluice:mpi:notstarted\nbarrier sluice:mpi:notstarted\nnonsense sluice:mpi:badarg'
+  [ "$(grep -v '^warning' <<<"$out")" = "$want" ] && ok || fail "the gateway outside mpirun: got $out"
+fi
+
 if ! command -v mpirun >/dev/null; then
   echo "SKIP distributed cases: mpirun not found (Open MPI: make MPI=1)"
 elif [ ! -e "$here/m/+sluice/+kernel/mpi.mex" ]; then
@@ -63,7 +80,7 @@ else
   # no network interface to probe for a job on one machine
   export OMPI_MCA_btl=self,vader OMPI_MCA_btl_vader_single_copy_mechanism=none
   for np in 2 4; do
-    for kase in equal idle resume mismatch pointfails badfile rankleft \
+    for kase in gateway equal idle resume mismatch pointfails badfile rankleft \
                 chains chaincheckpoint chainfails chainmismatch; do
       d="$tmp/$kase-$np"; mkdir -p "$d"
       (cd "$d" && SLUICE_MPI_CASE=$kase SLUICE_MPI_DIR=$d timeout 180 \
