@@ -37,6 +37,7 @@ static MPI_Comm ctl = MPI_COMM_NULL;    /* "leaving" messages, the exit */
 static int heard_leaving = 0;           /* leaving messages received */
 static int dangling = 0;                /* a collective left unfinished */
 static int leaving_note = 0;            /* what a leaving message carries */
+static int left_rank = -1;              /* the first rank heard leaving */
 
 static void fail_mpi(int rc, const char *what)
 {
@@ -67,6 +68,7 @@ static void wait_watch(MPI_Request *req, const char *what)
             MPI_Recv(&note, 1, MPI_INT, st.MPI_SOURCE, TAG_LEAVING, ctl, MPI_STATUS_IGNORE);
             heard_leaving++;
             dangling = 1;
+            left_rank = st.MPI_SOURCE;
             slm_fail(fn, "rankleft",
                      "rank %d of %d: rank %d left (its Octave ended: finished, or stopped by an "
                      "error shown in its own output) while this rank waited for it in %s",
@@ -127,6 +129,10 @@ static void need_started(void)
 {
     if (!started)
         slm_fail(fn, "notstarted", "MPI is not started: call sluice.kernel.mpi ('init') first");
+    /* a rank has left: no collective can complete any more */
+    if (left_rank >= 0)
+        slm_fail(fn, "rankleft", "rank %d of %d: rank %d has left the job; no further "
+                                 "collective can complete", world_rank, world_size, left_rank);
 }
 
 static int root_arg(const mxArray *a, int pos)

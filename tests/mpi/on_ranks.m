@@ -189,8 +189,17 @@ try
         sluice.sweep (fun, grid, 'seed', 5, 'workers', 1);
         say (false, ': no error');
       catch err
-        say (strcmp (err.identifier, 'sluice:mpi:rankleft') ...
-             && ~isempty (strfind (err.message, 'rank 1 left')), [': ' err.identifier]);
+        ok = strcmp (err.identifier, 'sluice:mpi:rankleft') ...
+             && ~isempty (strfind (err.message, 'rank 1 left'));
+        % caught and tried again: refused at once, not a hang
+        try
+          sluice.sweep (fun, grid, 'seed', 5, 'workers', 1);
+          ok = false;
+        catch err
+          ok = ok && strcmp (err.identifier, 'sluice:mpi:rankleft') ...
+               && ~isempty (strfind (err.message, 'has left the job'));
+        end
+        say (ok, [': ' err.identifier]);
       end
     otherwise
       say (false, ': unknown case');
