@@ -181,10 +181,14 @@ function [table, info] = sweep (fun, grid, varargin)
 
   world = sluice.internal.mpi ('world', 'sweep', opts.mpi);
   if (world.active)
-    % every rank must sweep the same points with the same file
+    % every rank must sweep the same points with the same file: the point
+    % seeds (hashes of the keys) stand for the grid, summed with weights
+    % exactly (every term and the sum below 2^53)
+    M = 4294967291;
+    fp = [sum(seeds), sum(mod (seeds .* (1:N)', M))];
     sluice.internal.mpi ('same', 'sweep', 'sweeps (grid, seed, file or function)', ...
-                         sprintf ('%.17g|%s|%s|%s', opts.seed, opts.file, func2str (fun), ...
-                                  [keys{:}]));
+                         sprintf ('%.17g|%s|%s|%d|%.17g|%.17g', opts.seed, opts.file, ...
+                                  func2str (fun), N, fp));
   end
 
   % results already in the file (read by rank 0 alone in a distributed

@@ -150,13 +150,21 @@ try
       ok = ok && isequal (t2, u) && info2.nreused == 9;
       say (ok, '');
     case 'mismatch'
-      % a different seed on each rank: the same error on every rank
-      try
-        sluice.sweep (fun, grid, 'seed', 5 + rank, 'workers', 1);
-        say (false, ': no error');
-      catch err
-        say (strcmp (err.identifier, 'sluice:sweep:mpimismatch'), [': ' err.identifier]);
+      % a different seed, then a different grid, on each rank: the same
+      % error on every rank
+      ok = true;
+      g2 = grid;
+      g2.members(end) = 120 + rank;
+      calls = {{fun, grid, 'seed', 5 + rank, 'workers', 1}, {fun, g2, 'seed', 5, 'workers', 1}};
+      for k = 1:2
+        try
+          sluice.sweep (calls{k}{:});
+          ok = false;
+        catch err
+          ok = ok && strcmp (err.identifier, 'sluice:sweep:mpimismatch');
+        end
       end
+      say (ok, [': ' err.identifier]);
     case 'pointfails'
       % a point that fails on its rank: sluice:sweep:pointfailed on every
       % rank, naming the point
