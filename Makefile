@@ -9,6 +9,9 @@
 #   make check-alloc  C unit tests with their k-th allocation failed, for
 #                   every k (tests/alloc/); the core's objects free of
 #                   allocator references (nm)
+#   make MPI=1      also the gateway of distributed runs (sluice.kernel.mpi),
+#                   with Open MPI from tools/debian-packages-mpi; the same
+#                   as make mpi
 #   make pkg        the Octave package sluice-<version>.tar.gz
 #   make check-pkg  install that package in a temporary place, test it there
 #   make lint       m/ in the Octave/MATLAB subset, mex/ free of platform headers,
@@ -43,6 +46,28 @@ SL_CHECKSRC := tools/model_check.c
 SL_ORDER  := $(DEPS)
 .DEFAULT_GOAL := all
 include mk/build.mk
+
+# Distributed runs (mpirun): the gateway mex/mpi/mpi.c, compiled with Open
+# MPI's flags (read from mpicc in the recipes, after the dependency step
+# installed it) and built only on request; the core has no MPI in it.
+MPILIST   ?= tools/debian-packages-mpi
+MPIDEPS   := $(BUILD)/.deps-mpi-ok
+SL_MPIBIN := $(SL_MEXOUT)/mpi.mex
+$(MPIDEPS): $(MPILIST) tools/deps.sh | $(DEPS)
+	@bash tools/deps.sh $(MPILIST)
+	@mkdir -p $(dir $@) && touch $@
+$(BUILD)/mex/mpi/mpi.o: $(SL_MEX)/mpi/mpi.c $(SL_MEX)/mexutil.h | $(DEPS) $(MPIDEPS)
+	@mkdir -p $(dir $@)
+	$(CC) $(SL_CFLAGS) -DMX_HAS_INTERLEAVED_COMPLEX=1 $(SL_OCT_INC) $$(mpicc --showme:compile) -c $< -o $@
+$(SL_MPIBIN): $(BUILD)/mex/mpi/mpi.o $(SL_MEXHOBJ) $(SL_LIB)
+	@mkdir -p $(dir $@)
+	$(MKOCTFILE) --mex -o $@ $^ -fopenmp $(SL_LIBS) $$(mpicc --showme:link)
+ifeq ($(MPI),1)
+all: $(SL_MPIBIN)
+endif
+.PHONY: mpi
+mpi:
+	@$(MAKE) MPI=1 all
 
 # the public functions, and for each a file m/sluice.<name> (a link to it)
 # that Octave's test and demo find: "test sluice.filter" then works
@@ -203,6 +228,7 @@ demo: all
 
 bench: all
 	$(OCTRUN) --eval "warning('off', 'Octave:shadowed-function'); addpath('$(CURDIR)/m'); addpath('$(CURDIR)/tests/bench'); run_benchmarks"
+	@echo; echo "== distributed sweep (mpirun)"; bash tests/bench/mpi/run.sh
 
 # The Octave package: the .m files under inst/, the C sources under src/
 # with src/Makefile (mk/pkg-src.mk, which includes the same mk/build.mk),

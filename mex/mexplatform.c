@@ -101,3 +101,19 @@ int slm_file_replace(const char *from, const char *to)
     return rename(from, to);
 #endif
 }
+
+void slm_sleep_seconds(double s)
+{
+    if (!(s > 0))
+        return;
+#if defined(_WIN32)
+    Sleep((DWORD)(s * 1e3));
+#elif defined(__unix__) || defined(__APPLE__)
+    struct timespec ts;
+    ts.tv_sec = (time_t)s;
+    ts.tv_nsec = (long)((s - (double)ts.tv_sec) * 1e9);
+    nanosleep(&ts, NULL);
+#else
+    (void)s;
+#endif
+}

@@ -114,6 +114,8 @@ int slm_stdout_is_terminal(void);
 long slm_pid(void);
 int slm_file_sync(FILE *f);
 int slm_file_replace(const char *from, const char *to);
+/* Let the processor go for about s seconds (nothing where it cannot). */
+void slm_sleep_seconds(double s);
 
 /* 1 when a Ctrl-C is pending in Octave, which it then takes over (the
  * interpreter will not act on it): the caller stops its run and raises

@@ -30,7 +30,7 @@ if [ "$build" != none ]; then
   done
 fi
 if [ "$octave" != none ]; then
-  for s in lint build; do   # the shell-level tests: the lint, the dependency step
+  for s in lint build mpi; do   # the shell-level tests: the lint, the dependency step, mpirun runs
     bash "$here/tests/$s/run.sh" >"$log" 2>&1; rc=$?
     grep -E '^(FAIL|SKIP)' "$log" | head -n 40
     if ! tally "$log"; then echo "CRASH $s tests (exit $rc)"; crashed=$((crashed + 1)); fi

@@ -90,8 +90,8 @@
 % proposal and adaptation state and the same random streams, and returns
 % @var{res} with the new rows appended: the same as one longer run, bit
 % for bit. Only @code{iterations}, @code{parallel}, @code{workers},
-% @code{progress}, @code{max_rhat}, @code{min_ess} and the checkpoint
-% options may be given then.
+% @code{progress}, @code{max_rhat}, @code{min_ess}, @code{mpi} and the
+% checkpoint options may be given then.
 %
 % Checkpoints: with @code{checkpoint} (a file name) the run writes its
 % result so far to that file after every @code{checkpoint_every} [100]
@@ -104,7 +104,7 @@
 % @code{iterations} extends a finished run. A checkpoint written by a run
 % with another model, prior, observation table or options (other than
 % @code{iterations}, @code{parallel}, @code{workers}, @code{progress},
-% @code{max_rhat} and @code{min_ess}) is refused. Each block starts the
+% @code{max_rhat}, @code{min_ess} and @code{mpi}) is refused. Each block starts the
 % parallel workers again, so a block should hold many seconds of work.
 %
 % Options (a struct or name/value pairs):
@@ -164,6 +164,20 @@
 % @code{filter.threads}.
 % @item workers
 % processes for parallel chains (default @code{nproc ()}).
+% @item mpi
+% @code{'auto'} (default), true or false. With @code{'auto'}, a run in an
+% Octave started by @code{mpirun -np P octave-cli script.m} (Open MPI),
+% with sluice built by @code{make MPI=1}, deals the chains across the P
+% processes (ranks), every rank calling @code{sluice.pmmh} with the same
+% arguments: chain c runs on rank mod (c - 1, P), a rank's chains one
+% after another (@code{parallel} and @code{workers} are not used). Every
+% rank returns the whole result, equal bit for bit to a single process's
+% (only the times differ); rank 0 alone writes the checkpoint. A failing
+% chain is the same error on every rank; ranks given different runs raise
+% @code{sluice:pmmh:mpimismatch}. false: each process runs every chain
+% itself. true: as @code{'auto'}, but a build without the MPI gateway is
+% the error @code{sluice:pmmh:mpiunavailable}. Outside mpirun every value
+% runs in this process.
 % @item progress
 % true to print a line per chain at every tenth of its iterations
 % (default false).
@@ -260,12 +274,35 @@ function res = pmmh (model, prior, obs, varargin)
     base = prev.burnin + prev.iterations;
   end
   target = S.to;
+  world = sluice.internal.mpi ('world', 'pmmh', opts.mpi);
+  if (world.active)
+    % every rank must run the same chains
+    sluice.internal.mpi ('same', 'pmmh', 'runs (seed, chains, iterations, members or checkpoint)', ...
+                         sprintf ('%.17g|', opts.seed, opts.chains, S.from, S.to, opts.burnin, ...
+                                  opts.thin, opts.members, numel (S.free), opts.checkpoint_every, ...
+                                  double (opts.checkpoint)));
+  end
   ck = [];
   every = Inf;
   if (~isempty (opts.checkpoint))
     % a checkpoint of this same run: resume from it (the random streams
-    % are keyed by iteration, so the result is that of one whole run)
-    [ck, saved] = checkpoint_open (opts, model, prior, obs, base, target);
+    % are keyed by iteration, so the result is that of one whole run);
+    % under mpirun rank 0 reads it and sends it to the others
+    if (world.active)
+      err = [];
+      got = {[], []};
+      if (world.rank == 0)
+        try
+          [got{1}, got{2}] = checkpoint_open (opts, model, prior, obs, base, target);
+        catch err
+        end
+      end
+      sluice.internal.mpi ('agree', err);
+      got = sluice.internal.mpi ('bcast', got, 0);
+      [ck, saved] = got{:};
+    else
+      [ck, saved] = checkpoint_open (opts, model, prior, obs, base, target);
+    end
     every = opts.checkpoint_every;
     if (~isempty (saved))
       prev = saved;
@@ -276,7 +313,7 @@ function res = pmmh (model, prior, obs, varargin)
   C = opts.chains;
 
   use_par = false;
-  if (C > 1 && opts.workers > 1 && ~isequal (opts.parallel, false))
+  if (C > 1 && opts.workers > 1 && ~isequal (opts.parallel, false) && ~world.active)
     use_par = sluice.internal.compat ('has_parallel');
     if (~use_par && isequal (opts.parallel, true))
       error ('sluice:pmmh:noparallel', ...
@@ -292,7 +329,11 @@ function res = pmmh (model, prior, obs, varargin)
   % the iterations in blocks of `every`, a checkpoint after each
   while (true)
     S.to = min (target, S.from - 1 + every);
-    out = run_chains (S, C, use_par, opts);
+    if (world.active)
+      out = run_chains_ranks (S, C, world);
+    else
+      out = run_chains (S, C, use_par, opts);
+    end
     for c = 1:C
       if (~isempty (out{c}) && ~out{c}.ok)
         chain_failed (c, out{c}, ck, S.from - 1);
@@ -300,7 +341,17 @@ function res = pmmh (model, prior, obs, varargin)
     end
     final = S.to == target;
     res = assemble (S, opts, out, prev, use_par, toc (t_all), final);
-    if (~isempty (ck))
+    if (~isempty (ck) && world.active)
+      % rank 0 alone writes it; a failure there is every rank's
+      err = [];
+      if (world.rank == 0)
+        try
+          checkpoint_write (ck, res, final);
+        catch err
+        end
+      end
+      sluice.internal.mpi ('agree', err);
+    elseif (~isempty (ck))
       checkpoint_write (ck, res, final);
     end
     if (final)
@@ -331,6 +382,33 @@ function out = run_chains (S, C, use_par, opts)
       end
     end
   end
+end
+
+% Under mpirun: chain c runs on rank mod (c - 1, P), the chains of a rank
+% one after another; every rank then gets every chain's rows (gathered on
+% rank 0, sent to all), so every rank assembles the same result. A rank
+% stops at its first failing chain, like a serial run; the caller raises
+% the failure of the lowest failing chain on every rank.
+function out = run_chains_ranks (S, C, world)
+  mine = (world.rank + 1):world.size:C;
+  part = cell (1, numel (mine));
+  for k = 1:numel (mine)
+    part{k} = run_chain (mine(k), S);
+    if (~part{k}.ok)
+      break;
+    end
+  end
+  got = sluice.internal.mpi ('gather', part, 0);
+  out = cell (1, C);
+  if (world.rank == 0)
+    for r = 1:world.size
+      cs = r:world.size:C;
+      out(cs(1:numel (got{r}))) = got{r};
+    end
+  end
+  % (a chain left empty follows a failed chain of its rank, which the
+  % caller raises first)
+  out = sluice.internal.mpi ('bcast', out, 0);
 end
 
 % The result of iterations 1 .. S.to: the chains' rows of this call (out)
@@ -752,7 +830,7 @@ end
 function [ck, saved] = checkpoint_open (opts, model, prior, obs, base, target)
   key = opts;
   for f = {'iterations', 'parallel', 'workers', 'progress', 'max_rhat', 'min_ess', ...
-           'checkpoint', 'checkpoint_every', 'continue'}
+           'checkpoint', 'checkpoint_every', 'continue', 'mpi'}
     key = rmfield (key, f{1});
   end
   ck = struct ('file', opts.checkpoint, 'key', []);
@@ -1177,7 +1255,7 @@ function [opts, prev] = parse_options (args)
                  'start', [], 'continue', [], 'max_rhat', 1.05, 'min_ess', 400, ...
                  'seed', 1, 'filter', [], 'parallel', 'auto', ...
                  'workers', sluice.internal.compat ('nproc'), 'progress', false, ...
-                 'checkpoint', '', 'checkpoint_every', 100);
+                 'checkpoint', '', 'checkpoint_every', 100, 'mpi', 'auto');
   opts = sluice.internal.name_value (opts, args, 'pmmh');
   prev = opts.continue;
   if (~isempty (prev) || ~isnumeric (prev))
@@ -1186,7 +1264,7 @@ function [opts, prev] = parse_options (args)
     given = sluice.internal.option_pairs (args);
     given = given(1:2:end);
     may = {'continue', 'iterations', 'parallel', 'workers', 'progress', 'max_rhat', 'min_ess', ...
-           'checkpoint', 'checkpoint_every'};
+           'checkpoint', 'checkpoint_every', 'mpi'};
     other = setdiff (given, may);
     if (~isempty (other))
       error ('sluice:pmmh:badcontinue', ...
@@ -1258,6 +1336,15 @@ function [opts, prev] = parse_options (args)
     error ('sluice:pmmh:badoption', 'parallel must be ''auto'', true or false');
   end
   opts.workers = whole (opts.workers, 'workers', 1, 1024, 'badoption');
+  p = opts.mpi;
+  if (ischar (p) && strcmpi (p, 'auto'))
+    opts.mpi = 'auto';
+  elseif ((islogical (p) || isnumeric (p)) && isscalar (p) && isreal (p) && (p == 0 || p == 1))
+    opts.mpi = logical (p);
+  else
+    error ('sluice:pmmh:badoption', 'mpi must be ''auto'', true or false, got %s', ...
+           sluice.internal.describe (p, 'value'));
+  end
   c = opts.checkpoint;
   if (~(ischar (c) && (isempty (c) || isrow (c))))
     error ('sluice:pmmh:badoption', 'checkpoint must be a file name (text), got %s', ...
@@ -1454,6 +1541,8 @@ end
 %! end_unwind_protect
 %!error id=sluice:pmmh:badcheckpoint sluice.pmmh (spec, pr, obs, 'checkpoint', fullfile (tempname (), 'no', 'ckp'))
 %!error id=sluice:pmmh:badoption sluice.pmmh (spec, pr, obs, 'checkpoint', 3)
+%!error id=sluice:pmmh:badoption sluice.pmmh (spec, pr, obs, 'mpi', 'yes')
+%!error id=sluice:pmmh:badoption sluice.pmmh (spec, pr, obs, 'mpi', [true true])
 %!error id=sluice:pmmh:badoption sluice.pmmh (spec, pr, obs, 'checkpoint_every', 0)
 
 %!test

@@ -65,12 +65,29 @@
 % In parallel, each worker also writes its finished point at once to
 % @var{file}@code{.part}@var{k} (merged into @var{file} at the end, or by
 % the next call), so a sweep stopped part-way loses no finished point.
+% Under mpirun (option @code{mpi}) rank 0 alone writes it, after each
+% round of points.
 % It holds the variable @code{sweep_done}, a struct of columns @code{key}
 % (the point keys), @code{seed}, @code{time} and @code{scores} (a cell of
 % score structs), saved in Octave's own binary format (@code{save -binary}).
 % Its cost grows with the number of points saved. A later call with the same
 % file reuses every point whose key and seed are found there and runs only
 % the others: an interrupted sweep resumes where it stopped.
+% @item mpi
+% @code{'auto'} (default), true or false. With @code{'auto'}, a sweep in an
+% Octave started by @code{mpirun -np P octave-cli script.m} (Open MPI),
+% with sluice built by @code{make MPI=1}, deals the points to run across
+% the P processes (ranks), every rank calling @code{sluice.sweep} with the
+% same arguments: rank k runs the points k+1, k+1+P, @dots{} of those to
+% run, one at a time (@code{workers} is not used), in rounds of one point
+% a rank. After each round rank 0 gathers the round's scores, writes the
+% results file, and sends the scores back: every rank returns the whole
+% table, equal bit for bit to the single-process sweep's (the point seeds
+% do not depend on who runs a point). Ranks beyond the number of points
+% idle. false: each process runs the whole sweep by itself. true: as
+% @code{'auto'}, but a build without the MPI gateway is the error
+% @code{sluice:sweep:mpiunavailable}. Outside mpirun every value runs the
+% sweep in this process.
 % @end table
 %
 % A sweep takes no @code{checkpoint} (@code{sluice:sweep:badoption}):
@@ -90,8 +107,11 @@
 % @code{nreused} (counts of points run now and taken from the file),
 % @code{total} (seconds for the whole call), @code{overhead} (seconds per
 % point computed now spent outside @var{fun}: (total - time in fun) /
-% computed), @code{workers} and @code{parallel} (true if
-% @code{pararrayfun} was used).
+% computed; under mpirun, summed over the ranks: (total * ranks - time in
+% fun) / computed), @code{workers} and @code{parallel} (true if
+% @code{pararrayfun} was used), @code{ranks} and @code{rank} (the number
+% of mpirun processes sharing the points and this one's number from 0; 1
+% and 0 otherwise).
 %
 % Example:
 % @example
@@ -123,6 +143,14 @@
 % message names the point it was running, what the package said, and how
 % many finished points the file keeps; the other workers are stopped and
 % the next call with the same file runs only the points not kept),
+% @code{sluice:sweep:mpiunavailable} (option @code{mpi} true in a build
+% without the MPI gateway: the message names @code{make MPI=1}),
+% @code{sluice:sweep:mpimismatch} (under mpirun, the ranks were given
+% different grids, seeds, files or functions: raised on every rank),
+% @code{sluice:mpi:rankleft} (under mpirun, another rank's Octave ended --
+% by its own error, say -- while this one waited for it: the message
+% names that rank; a point's error, a bad results file or bad scores are
+% raised on every rank with their own identifier),
 % @code{sluice:sweep:interrupted} (Ctrl-C during a point of a serial
 % sweep: the finished points are in the file; a Ctrl-C between points,
 % or during a parallel sweep, is Octave's own interrupt, and there too the
@@ -151,22 +179,33 @@ function [table, info] = sweep (fun, grid, varargin)
   end
   seeds = point_seeds (keys, opts.seed);
 
-  % results already in the file
-  done = struct ('key', {cell(0, 1)}, 'seed', zeros (0, 1), ...
-                 'time', zeros (0, 1), 'scores', {cell(0, 1)});
-  if (~isempty (opts.file) && exist (opts.file, 'file'))
-    done = load_done (opts.file);
+  world = sluice.internal.mpi ('world', 'sweep', opts.mpi);
+  if (world.active)
+    % every rank must sweep the same points with the same file: the point
+    % seeds (hashes of the keys) stand for the grid, summed with weights
+    % exactly (every term and the sum below 2^53)
+    M = 4294967291;
+    fp = [sum(seeds), sum(mod (seeds .* (1:N)', M))];
+    sluice.internal.mpi ('same', 'sweep', 'sweeps (grid, seed, file or function)', ...
+                         sprintf ('%.17g|%s|%s|%d|%.17g|%.17g', opts.seed, opts.file, ...
+                                  func2str (fun), N, fp));
   end
-  if (~isempty (opts.file))
-    % what a sweep killed while writing the file left beside it (the
-    % workers' part files and theirs go with the merge below)
-    sluice.internal.stale_tmp (opts.file);
-    % points that workers of a stopped parallel sweep finished
-    [done, merged] = merge_parts (opts.file, done, names);
-    if (merged)
-      save_done (opts.file, done);
-      remove_parts (opts.file);
+
+  % results already in the file (read by rank 0 alone in a distributed
+  % run, and sent to the others)
+  if (~world.active)
+    done = read_file (opts.file, names);
+  else
+    done = [];
+    err = [];
+    if (world.rank == 0)
+      try
+        done = read_file (opts.file, names);
+      catch err
+      end
     end
+    sluice.internal.mpi ('agree', err);
+    done = sluice.internal.mpi ('bcast', done, 0);
   end
   scores = cell (N, 1);
   times = zeros (N, 1);
@@ -187,7 +226,11 @@ function [table, info] = sweep (fun, grid, varargin)
   end
 
   t_fun = 0;
-  if (use_par)
+  if (world.active)
+    use_par = false;
+    [scores, times, t_fun] = run_ranks (world, fun, names, vals, subs, keys, seeds, ...
+                                        todo, scores, times, done, opts.file);
+  elseif (use_par)
     % one call over every point to run: the workers take points as they
     % free up (starting workers costs ~0.1 s a call); each finished point
     % is on disk at once through its part file
@@ -293,10 +336,101 @@ function [table, info] = sweep (fun, grid, varargin)
 
   total = toc (t_all);
   ncomp = numel (todo);
+  workers = opts.workers;
+  if (world.active)
+    workers = 1;
+  end
   info = struct ('time', times, 'reused', reused, 'computed', ncomp, ...
                  'nreused', N - ncomp, 'total', total, ...
-                 'overhead', (total - t_fun) / max (ncomp, 1), ...
-                 'workers', opts.workers, 'parallel', use_par);
+                 'overhead', (total * world.size - t_fun) / max (ncomp, 1), ...
+                 'workers', workers, 'parallel', use_par, ...
+                 'ranks', world.size, 'rank', world.rank);
+end
+
+function done = read_file (file, names)
+  % the points a results file holds, with those that workers of a stopped
+  % parallel sweep left in part files (merged into it)
+  done = struct ('key', {cell(0, 1)}, 'seed', zeros (0, 1), ...
+                 'time', zeros (0, 1), 'scores', {cell(0, 1)});
+  if (~isempty (file) && exist (file, 'file'))
+    done = load_done (file);
+  end
+  if (~isempty (file))
+    % what a sweep killed while writing the file left beside it (the
+    % workers' part files and theirs go with the merge below)
+    sluice.internal.stale_tmp (file);
+    % points that workers of a stopped parallel sweep finished
+    [done, merged] = merge_parts (file, done, names);
+    if (merged)
+      save_done (file, done);
+      remove_parts (file);
+    end
+  end
+end
+
+function [scores, times, t_fun] = run_ranks (world, fun, names, vals, subs, keys, ...
+                                             seeds, todo, scores, times, done, file)
+  % The points to run dealt across the ranks of an mpirun job, in rounds
+  % of one point per rank: rank k runs todo(k+1), todo(k+1+P), ... After
+  % each round rank 0 gathers the batch's results, keeps them in the file
+  % (it alone writes it) and sends the batch's scores and its verdict to
+  % every rank: a failure anywhere is the same error on every rank.
+  P = world.size;
+  t_fun = 0;
+  for b = 1:P:numel (todo)
+    batch = todo(b:min (b + P - 1, numel (todo)));
+    res = [];
+    if (world.rank < numel (batch))
+      p = batch(world.rank + 1);
+      point = make_point (names, vals, subs, p, seeds(p));
+      res = sluice.internal.sweep_point (fun, point, keys{p});
+    end
+    got = sluice.internal.mpi ('gather', res, 0);
+    verdict = struct ('times', zeros (numel (batch), 1), 'scores', {cell(numel (batch), 1)}, ...
+                      'identifier', '', 'message', '');
+    if (world.rank == 0)
+      try
+        fail = 0;
+        for j = 1:numel (batch)
+          r = got{j};
+          p = batch(j);
+          if (~r.ok)
+            if (fail == 0)
+              fail = j;
+            end
+            continue;
+          end
+          verdict.times(j) = r.time;
+          verdict.scores{j} = check_scores (r.scores, names, keys{p});
+          done = add_done (done, keys{p}, seeds(p), r.time, verdict.scores{j});
+        end
+        if (~isempty (file))
+          save_done (file, done);
+        end
+        if (fail > 0)
+          r = got{fail};
+          if (is_interrupt (r.identifier))
+            interrupted (keys{batch(fail)}, r, file, numel (done.key));
+          end
+          point_failed (keys{batch(fail)}, r);
+        end
+      catch err
+        verdict.identifier = err.identifier;
+        verdict.message = err.message;
+      end
+    end
+    verdict = sluice.internal.mpi ('bcast', verdict, 0);
+    if (~isempty (verdict.identifier) || ~isempty (verdict.message))
+      id = verdict.identifier;
+      if (isempty (id))
+        id = 'sluice:sweep:pointfailed';
+      end
+      error (id, '%s', verdict.message);
+    end
+    times(batch) = verdict.times;
+    scores(batch) = verdict.scores;
+    t_fun = t_fun + sum (verdict.times);
+  end
 end
 
 function check_fun (fun)
@@ -388,7 +522,8 @@ function tf = good_number (e)
 end
 
 function opts = parse_options (args)
-  opts = struct ('seed', 1, 'workers', sluice.internal.compat ('nproc'), 'file', '');
+  opts = struct ('seed', 1, 'workers', sluice.internal.compat ('nproc'), 'file', '', ...
+                 'mpi', 'auto');
   if (numel (args) == 1 && isstruct (args{1}))
     if (~isscalar (args{1}))
       error ('sluice:sweep:badoption', 'argument 3 (opts): expected a scalar struct, got %s', ...
@@ -429,6 +564,16 @@ function opts = parse_options (args)
                  'file: expected a file name (a character row), got %s', describe (v));
         end
         opts.file = v;
+      case 'mpi'
+        if (ischar (v) && strcmpi (v, 'auto'))
+          opts.mpi = 'auto';
+        elseif ((islogical (v) || isnumeric (v)) && isscalar (v) && isreal (v) ...
+                && (v == 0 || v == 1))
+          opts.mpi = logical (v);
+        else
+          error ('sluice:sweep:badoption', ...
+                 'mpi: expected ''auto'', true or false, got %s', describe (v));
+        end
       case {'checkpoint', 'checkpoint_every'}
         error ('sluice:sweep:badoption', ...
                ['a sweep takes no ''%s'': its ''file'' keeps every finished point and the ', ...
@@ -437,7 +582,7 @@ function opts = parse_options (args)
                 'values)'], nm);
       otherwise
         error ('sluice:sweep:badoption', ...
-               'unknown option ''%s'' (known: seed, workers, file)', nm);
+               'unknown option ''%s'' (known: seed, workers, file, mpi)', nm);
     end
   end
 end
@@ -708,6 +853,14 @@ end
 %!error id=sluice:sweep:badoption sluice.sweep (@(p) 1, struct ('a', 1), 'seed', 1.5)
 %!error id=sluice:sweep:badoption sluice.sweep (@(p) 1, struct ('a', 1), 'seed', int32 (3))
 %!error id=sluice:sweep:badoption sluice.sweep (@(p) 1, struct ('a', 1), 'seed', 2^54)
+%!error id=sluice:sweep:badoption sluice.sweep (@(p) 1, struct ('a', 1), 'mpi', 'yes')
+%!error id=sluice:sweep:badoption sluice.sweep (@(p) 1, struct ('a', 1), 'mpi', 2)
+%!test
+%! % outside mpirun the sweep is this process alone, whatever 'mpi' says
+%! % (true needs the gateway: tests/mpi/run.sh checks the error without it)
+%! [t, info] = sluice.sweep (@(p) p.a, struct ('a', [1 2]), 'workers', 1, 'mpi', false);
+%! assert ([info.ranks, info.rank], [1 0]);
+%! assert (t.score, [1; 2]);
 %!error id=sluice:sweep:badoption sluice.sweep (@(p) 1, struct ('a', 1), 'workers', 0)
 %!error id=sluice:sweep:badoption sluice.sweep (@(p) 1, struct ('a', 1), 'workers', Inf)
 %!error id=sluice:sweep:badoption sluice.sweep (@(p) 1, struct ('a', 1), 'file', 3)

@@ -50,6 +50,14 @@
 %   (smoothed bands too narrow)            sluice:filter:smoothcollapse            (check_lag_ancestors)
 %   PMMH not converged / low ESS           warnings sluice:pmmh:notconverged,      test_pmmh.m
 %                                          sluice:pmmh:lowess
+%   mpirun: a point's / chain's / file's   the same id and message on every rank   tests/mpi/run.sh (pointfails,
+%   error on one rank                                                              chainfails, badfile)
+%   mpirun: ranks given different calls    sluice:sweep:mpimismatch,               tests/mpi/run.sh (mismatch,
+%                                          sluice:pmmh:mpimismatch, every rank     chainmismatch)
+%   mpirun: a rank's script stops          sluice:mpi:rankleft on the ranks        tests/mpi/run.sh (rankleft)
+%                                          waiting for it; the job ends
+%   MPI asked for, not built               sluice:<fn>:mpiunavailable, naming      tests/mpi/run.sh
+%                                          make MPI=1
 %   allocation failure inside OpenMP or    the process ends (an honest limit)      tools/lint_core + tests/lint: the core
 %   OpenBLAS                                                                        itself never allocates
 

@@ -1,0 +1,337 @@
+/* mpi.c - gateway sluice.kernel.mpi: the processes of a job started by
+ * mpirun, and the few collectives sluice's distributed runs use. Built
+ * only by `make MPI=1` (Open MPI's compile and link flags); the core
+ * knows nothing of MPI.
+ *
+ *   [rank, size] = sluice.kernel.mpi ('init')    start MPI (once; again: no-op)
+ *   tf   = sluice.kernel.mpi ('initialized')
+ *   y    = sluice.kernel.mpi ('allreduce', x, op)  x double, op 'sum'|'min'|'max'
+ *   b    = sluice.kernel.mpi ('bcast', bytes, root)  uint8 of any length
+ *   c    = sluice.kernel.mpi ('gather', bytes, root) root: 1 x size cell, others {}
+ *          sluice.kernel.mpi ('barrier')
+ *
+ * Never a hang when a rank leaves: every rank, when its Octave exits,
+ * sends "leaving" to every other rank (on a control communicator of its
+ * own) before waiting for all of them at the exit. A rank waiting in one
+ * of the collectives above polls for that message and, when a rank left
+ * before joining, raises sluice:mpi:rankleft naming it; then that rank
+ * exits too. MPI is finalised once every rank has reached the exit; a
+ * rank that left a collective unfinished aborts the job there instead
+ * (its partners are gone). A rank killed outright (signal, out of
+ * memory) is mpirun's to notice: it ends the whole job. */
+#include "../mexutil.h"
+
+#include <mpi.h>
+#include <stdint.h>
+#include <stdlib.h>
+#include <string.h>
+
+#define TAG_LEAVING 7301
+
+static const char fn[] = "mpi";
+static int started = 0;      /* MPI_Init_thread called by this gateway */
+static int world_rank = 0;
+static int world_size = 1;
+static MPI_Comm work = MPI_COMM_NULL;   /* the collectives */
+static MPI_Comm ctl = MPI_COMM_NULL;    /* "leaving" messages, the exit */
+static int heard_leaving = 0;           /* leaving messages received */
+static int dangling = 0;                /* a collective left unfinished */
+static int leaving_note = 0;            /* what a leaving message carries */
+static int left_rank = -1;              /* the first rank heard leaving */
+
+static void fail_mpi(int rc, const char *what)
+{
+    char msg[MPI_MAX_ERROR_STRING];
+    int len = 0;
+    if (MPI_Error_string(rc, msg, &len) != MPI_SUCCESS)
+        snprintf(msg, sizeof msg, "error code %d", rc);
+    slm_fail(fn, "failed", "rank %d of %d: %s: %s", world_rank, world_size, what, msg);
+}
+
+/* Wait for req, watching for a rank that left: then sluice:mpi:rankleft. */
+static void wait_watch(MPI_Request *req, const char *what)
+{
+    long spins = 0;
+    for (;;) {
+        int done = 0, flag = 0, rc;
+        MPI_Status st;
+        rc = MPI_Test(req, &done, MPI_STATUS_IGNORE);
+        if (rc != MPI_SUCCESS) {
+            dangling = 1;
+            fail_mpi(rc, what);
+        }
+        if (done)
+            return;
+        rc = MPI_Iprobe(MPI_ANY_SOURCE, TAG_LEAVING, ctl, &flag, &st);
+        if (rc == MPI_SUCCESS && flag) {
+            int note = 0;
+            MPI_Recv(&note, 1, MPI_INT, st.MPI_SOURCE, TAG_LEAVING, ctl, MPI_STATUS_IGNORE);
+            heard_leaving++;
+            dangling = 1;
+            left_rank = st.MPI_SOURCE;
+            slm_fail(fn, "rankleft",
+                     "rank %d of %d: rank %d left (its Octave ended: finished, or stopped by an "
+                     "error shown in its own output) while this rank waited for it in %s",
+                     world_rank, world_size, st.MPI_SOURCE, what);
+        }
+        /* spin briefly, then yield the core: ranks may share cores */
+        if (++spins > 2000)
+            slm_sleep_seconds(spins > 20000 ? 2e-3 : 1e-4);
+    }
+}
+
+static void at_exit(void)
+{
+    int fin = 0, i, n, rc;
+    MPI_Request bar;
+    MPI_Request *sends;
+    if (!started || MPI_Finalized(&fin) != MPI_SUCCESS || fin)
+        return;
+    n = world_size;
+    sends = (MPI_Request *)calloc((size_t)(n > 0 ? n : 1), sizeof(MPI_Request));
+    if (sends == NULL) {
+        MPI_Abort(MPI_COMM_WORLD, 1);
+        return;
+    }
+    for (i = 0; i < n; i++) {
+        sends[i] = MPI_REQUEST_NULL;
+        if (i != world_rank)
+            MPI_Isend(&leaving_note, 1, MPI_INT, i, TAG_LEAVING, ctl, &sends[i]);
+    }
+    rc = MPI_Ibarrier(ctl, &bar);
+    while (rc == MPI_SUCCESS) {
+        int done = 0;
+        rc = MPI_Test(&bar, &done, MPI_STATUS_IGNORE);
+        if (done)
+            break;
+        slm_sleep_seconds(1e-3);
+    }
+    /* every rank has sent its leaving messages: take the ones not yet
+     * heard, so none is left unmatched */
+    for (; heard_leaving < n - 1; heard_leaving++) {
+        int note = 0;
+        MPI_Recv(&note, 1, MPI_INT, MPI_ANY_SOURCE, TAG_LEAVING, ctl, MPI_STATUS_IGNORE);
+    }
+    MPI_Waitall(n, sends, MPI_STATUSES_IGNORE);
+    free(sends);
+    if (dangling || rc != MPI_SUCCESS) {
+        fprintf(stderr, "sluice: rank %d of %d ends the job: a collective was left unfinished "
+                        "when another rank left\n", world_rank, world_size);
+        fflush(stderr);
+        MPI_Abort(MPI_COMM_WORLD, 1);
+    }
+    MPI_Comm_free(&work);
+    MPI_Comm_free(&ctl);
+    MPI_Finalize();
+}
+
+static void need_started(void)
+{
+    if (!started)
+        slm_fail(fn, "notstarted", "MPI is not started: call sluice.kernel.mpi ('init') first");
+    /* a rank has left: no collective can complete any more */
+    if (left_rank >= 0)
+        slm_fail(fn, "rankleft", "rank %d of %d: rank %d has left the job; no further "
+                                 "collective can complete", world_rank, world_size, left_rank);
+}
+
+static int root_arg(const mxArray *a, int pos)
+{
+    double r;
+    if (!(mxIsDouble(a) && !mxIsComplex(a) && mxGetNumberOfElements(a) == 1))
+        slm_fail(fn, "badarg", "argument %d (root): expected a rank (a whole number)", pos);
+    r = mxGetScalar(a);
+    if (!(r >= 0 && r < (double)world_size && r == (double)(int)r))
+        slm_fail(fn, "badarg", "argument %d (root): expected a rank from 0 to %d, got %g", pos,
+                 world_size - 1, r);
+    return (int)r;
+}
+
+static const mxArray *bytes_arg(const mxArray *a, int pos)
+{
+    if (!mxIsUint8(a) || mxIsComplex(a))
+        slm_fail(fn, "badarg", "argument %d (bytes): expected a uint8 array", pos);
+    if (mxGetNumberOfElements(a) > (size_t)INT32_MAX)
+        slm_fail(fn, "badarg", "argument %d (bytes): more than 2^31-1 bytes", pos);
+    return a;
+}
+
+static void cmd_init(int nlhs, mxArray *plhs[])
+{
+    int inited = 0, provided = 0, rc;
+    if (!started) {
+        MPI_Initialized(&inited);
+        if (inited)
+            slm_fail(fn, "failed", "MPI was started by something else in this Octave");
+        rc = MPI_Init_thread(NULL, NULL, MPI_THREAD_FUNNELED, &provided);
+        if (rc != MPI_SUCCESS)
+            slm_fail(fn, "failed", "MPI_Init_thread failed (error code %d)", rc);
+        MPI_Comm_set_errhandler(MPI_COMM_WORLD, MPI_ERRORS_RETURN);
+        MPI_Comm_rank(MPI_COMM_WORLD, &world_rank);
+        MPI_Comm_size(MPI_COMM_WORLD, &world_size);
+        MPI_Comm_dup(MPI_COMM_WORLD, &work);
+        MPI_Comm_dup(MPI_COMM_WORLD, &ctl);
+        MPI_Comm_set_errhandler(work, MPI_ERRORS_RETURN);
+        MPI_Comm_set_errhandler(ctl, MPI_ERRORS_RETURN);
+        leaving_note = world_rank;
+        started = 1;
+        /* stay loaded (clear all would finalise MPI early) and finalise
+         * when Octave exits */
+        mexLock();
+        mexAtExit(at_exit);
+    }
+    plhs[0] = mxCreateDoubleScalar((double)world_rank);
+    if (nlhs > 1)
+        plhs[1] = mxCreateDoubleScalar((double)world_size);
+}
+
+static void cmd_allreduce(int nrhs, const mxArray *prhs[], mxArray *plhs[])
+{
+    char op[8];
+    MPI_Op mop;
+    MPI_Request req;
+    size_t n;
+    mxArray *y;
+    int rc;
+    if (nrhs != 3)
+        slm_fail(fn, "badarg", "allreduce takes x and op");
+    if (!(mxIsDouble(prhs[1]) && !mxIsComplex(prhs[1]) && !mxIsSparse(prhs[1])))
+        slm_fail(fn, "badarg", "argument 2 (x): expected a real double array");
+    if (!mxIsChar(prhs[2]) || mxGetString(prhs[2], op, sizeof op) != 0)
+        slm_fail(fn, "badarg", "argument 3 (op): expected 'sum', 'min' or 'max'");
+    if (strcmp(op, "sum") == 0)
+        mop = MPI_SUM;
+    else if (strcmp(op, "min") == 0)
+        mop = MPI_MIN;
+    else if (strcmp(op, "max") == 0)
+        mop = MPI_MAX;
+    else
+        slm_fail(fn, "badarg", "argument 3 (op): expected 'sum', 'min' or 'max', got '%s'", op);
+    n = mxGetNumberOfElements(prhs[1]);
+    if (n > (size_t)INT32_MAX)
+        slm_fail(fn, "badarg", "argument 2 (x): more than 2^31-1 elements");
+    y = mxCreateNumericArray(mxGetNumberOfDimensions(prhs[1]), mxGetDimensions(prhs[1]),
+                             mxDOUBLE_CLASS, mxREAL);
+    rc = MPI_Iallreduce(mxGetDoubles(prhs[1]), mxGetDoubles(y), (int)n, MPI_DOUBLE, mop, work, &req);
+    if (rc != MPI_SUCCESS)
+        fail_mpi(rc, "allreduce");
+    wait_watch(&req, "allreduce");
+    plhs[0] = y;
+}
+
+static void cmd_bcast(int nrhs, const mxArray *prhs[], mxArray *plhs[])
+{
+    int root, rc;
+    double len;
+    MPI_Request req;
+    mxArray *b;
+    if (nrhs != 3)
+        slm_fail(fn, "badarg", "bcast takes bytes and root");
+    bytes_arg(prhs[1], 2);
+    root = root_arg(prhs[2], 3);
+    len = (double)mxGetNumberOfElements(prhs[1]);
+    rc = MPI_Ibcast(&len, 1, MPI_DOUBLE, root, work, &req);
+    if (rc != MPI_SUCCESS)
+        fail_mpi(rc, "bcast");
+    wait_watch(&req, "bcast");
+    b = mxCreateNumericMatrix((size_t)len, 1, mxUINT8_CLASS, mxREAL);
+    if (world_rank == root && len > 0)
+        memcpy(mxGetUint8s(b), mxGetUint8s(prhs[1]), (size_t)len);
+    if (len > 0) {
+        rc = MPI_Ibcast(mxGetUint8s(b), (int)len, MPI_UINT8_T, root, work, &req);
+        if (rc != MPI_SUCCESS)
+            fail_mpi(rc, "bcast");
+        wait_watch(&req, "bcast");
+    }
+    plhs[0] = b;
+}
+
+static void cmd_gather(int nrhs, const mxArray *prhs[], mxArray *plhs[])
+{
+    int root, rc, i, mine, n = world_size;
+    int *lens = NULL, *offs = NULL;
+    uint8_t *all = NULL;
+    long total = 0;
+    MPI_Request req;
+    mxArray *c;
+    if (nrhs != 3)
+        slm_fail(fn, "badarg", "gather takes bytes and root");
+    bytes_arg(prhs[1], 2);
+    root = root_arg(prhs[2], 3);
+    mine = (int)mxGetNumberOfElements(prhs[1]);
+    if (world_rank == root) {
+        lens = (int *)mxMalloc(sizeof(int) * (size_t)n);
+        offs = (int *)mxMalloc(sizeof(int) * (size_t)n);
+    }
+    rc = MPI_Igather(&mine, 1, MPI_INT, lens, 1, MPI_INT, root, work, &req);
+    if (rc != MPI_SUCCESS)
+        fail_mpi(rc, "gather");
+    wait_watch(&req, "gather");
+    if (world_rank == root) {
+        for (i = 0; i < n; i++) {
+            offs[i] = (int)total;
+            total += lens[i];
+        }
+        if (total > (long)INT32_MAX)
+            slm_fail(fn, "badarg", "gather: more than 2^31-1 bytes in all");
+        all = (uint8_t *)mxMalloc(total > 0 ? (size_t)total : 1);
+    }
+    rc = MPI_Igatherv(mxGetUint8s(prhs[1]), mine, MPI_UINT8_T, all, lens, offs, MPI_UINT8_T,
+                      root, work, &req);
+    if (rc != MPI_SUCCESS)
+        fail_mpi(rc, "gather");
+    wait_watch(&req, "gather");
+    if (world_rank == root) {
+        c = mxCreateCellMatrix(1, (size_t)n);
+        for (i = 0; i < n; i++) {
+            mxArray *b = mxCreateNumericMatrix((size_t)lens[i], 1, mxUINT8_CLASS, mxREAL);
+            if (lens[i] > 0)
+                memcpy(mxGetUint8s(b), all + offs[i], (size_t)lens[i]);
+            mxSetCell(c, (size_t)i, b);
+        }
+    } else {
+        c = mxCreateCellMatrix(0, 0);
+    }
+    plhs[0] = c;
+}
+
+static void cmd_barrier(void)
+{
+    MPI_Request req;
+    int rc = MPI_Ibarrier(work, &req);
+    if (rc != MPI_SUCCESS)
+        fail_mpi(rc, "barrier");
+    wait_watch(&req, "barrier");
+}
+
+void mexFunction(int nlhs, mxArray *plhs[], int nrhs, const mxArray *prhs[])
+{
+    char cmd[16];
+    slm_init();
+    if (nrhs < 1 || !mxIsChar(prhs[0]) || mxGetString(prhs[0], cmd, sizeof cmd) != 0)
+        slm_fail(fn, "badarg", "argument 1: expected a command: init, initialized, allreduce, "
+                               "bcast, gather or barrier");
+    if (nlhs > 2)
+        slm_fail(fn, "badarg", "at most two outputs");
+    if (strcmp(cmd, "initialized") == 0) {
+        plhs[0] = mxCreateLogicalScalar(started ? 1 : 0);
+        return;
+    }
+    if (strcmp(cmd, "init") == 0) {
+        cmd_init(nlhs, plhs);
+        return;
+    }
+    if (strcmp(cmd, "allreduce") != 0 && strcmp(cmd, "bcast") != 0
+        && strcmp(cmd, "gather") != 0 && strcmp(cmd, "barrier") != 0)
+        slm_fail(fn, "badarg", "argument 1: unknown command '%s' (known: init, initialized, "
+                               "allreduce, bcast, gather, barrier)", cmd);
+    need_started();
+    if (strcmp(cmd, "allreduce") == 0)
+        cmd_allreduce(nrhs, prhs, plhs);
+    else if (strcmp(cmd, "bcast") == 0)
+        cmd_bcast(nrhs, prhs, plhs);
+    else if (strcmp(cmd, "gather") == 0)
+        cmd_gather(nrhs, prhs, plhs);
+    else
+        cmd_barrier();
+}

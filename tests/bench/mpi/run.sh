@@ -1,0 +1,34 @@
+#!/usr/bin/env bash
+# run.sh - speed of a distributed sweep (make bench, when mpirun and the
+# gateway sluice.kernel.mpi are there): strong scaling (32 filter runs on
+# 1, 2, ... ranks up to the cores) and weak scaling (16 runs a rank), as
+# ratios to one rank, and the share of the rank-seconds spent outside the
+# filter runs (gathering, writing, waiting for the round's slowest rank).
+set -u
+here=$(cd "$(dirname "$0")/../../.." && pwd)
+if ! command -v mpirun >/dev/null || [ ! -e "$here/m/+sluice/+kernel/mpi.mex" ]; then
+  echo "   skipped: needs mpirun and sluice.kernel.mpi (make MPI=1)"; exit 0
+fi
+export OMPI_ALLOW_RUN_AS_ROOT=1 OMPI_ALLOW_RUN_AS_ROOT_CONFIRM=1
+export OMPI_MCA_btl=self,vader OMPI_MCA_btl_vader_single_copy_mechanism=none
+cores=$(nproc)
+ranks=(1); p=2; while [ $p -le "$cores" ]; do ranks+=($p); p=$((p * 2)); done
+run() { # ranks points -> "seconds fun"
+  (cd "$(mktemp -d)" && SLUICE_BENCH_POINTS=$2 mpirun -np "$1" octave-cli --no-gui --quiet \
+     --no-history --norc "$here/tests/bench/mpi/sweep_scaling.m" 2>/dev/null) \
+    | awk '/^points/ {print $6, $8}'
+}
+echo "   sweep of particle-filter runs (20000 members, 200 cycles, 1 thread), $cores cores"
+for mode in strong weak; do
+  echo "   $mode scaling: ranks, points, seconds, speed-up (weak: efficiency), outside the runs"
+  base=
+  for P in "${ranks[@]}"; do
+    if [ $mode = strong ]; then n=32; else n=$((16 * P)); fi
+    read -r s f < <(run "$P" "$n")
+    [ -z "${s:-}" ] && { echo "   $P ranks: did not complete"; continue; }
+    [ -z "$base" ] && base=$s
+    awk -v P="$P" -v n="$n" -v s="$s" -v f="$f" -v b="$base" -v m=$mode 'BEGIN {
+      r = (m == "strong") ? b / s : b / s;
+      printf "   %5d %6d %8.2f %8.2f %7.1f%%\n", P, n, s, r, 100 * (s * P - f) / (s * P) }'
+  done
+done

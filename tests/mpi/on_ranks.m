@@ -1,0 +1,217 @@
+% on_ranks.m - run by every rank of `mpirun -np P octave-cli` (tests/mpi/run.sh):
+% the case named by SLUICE_MPI_CASE. Each rank writes "RANK r: PASS name"
+% or "RANK r: FAIL name: why" to SLUICE_MPI_DIR/rank<r>; run.sh reads
+% them and times the job.
+warning ('off', 'Octave:shadowed-function');
+here = fileparts (mfilename ('fullpath'));
+addpath (fullfile (here, '..', '..', 'm'));
+addpath (here);
+crash_dumps_octave_core (false);
+% short chains: their convergence warnings are not the point here
+warning ('off', 'sluice:pmmh:notconverged');
+warning ('off', 'sluice:pmmh:lowess');
+kase = getenv ('SLUICE_MPI_CASE');
+dir_out = getenv ('SLUICE_MPI_DIR');
+rank = str2double (getenv ('OMPI_COMM_WORLD_RANK'));
+% the verdict goes to the rank's own file (lines of ranks interleave on
+% the terminal) and to the output
+say = @(ok, why) verdict (fullfile (dir_out, sprintf ('rank%d', rank)), ...
+                          sprintf ('RANK %d: %s %s%s', rank, ifelse_text (ok), kase, why));
+
+% a point: a small particle filter on a linear-Gaussian model, one thread
+m = sluice.model ('linear', 'A', 0.9, 'Q', 0.1, 'states', {'x'});
+pr = sluice.prior ('x', 'normal', [0 1]);
+obs = struct ('time', (1:8)', 'variable', {repmat({'x'}, 8, 1)}, ...
+              'value', sin (1:8)' / 2, 'sigma', 0.5 * ones (8, 1));
+run = @(p) sluice.filter (m, pr, obs, 'members', p.members, 'seed', p.seed, 't0', 0, ...
+                          'progress', false, 'threads', 1);
+fun = @(p) struct ('ll', getfield (run (p), 'log_evidence'), 'mult', p.k * p.members);
+grid = struct ('members', [50 80 120], 'k', [1 2 3]);
+
+sluice.kernel.mpi ('init');
+if (strcmp (kase, 'rankleft') && rank == 1)
+  % outside any try: this rank's Octave ends here with its own error
+  error ('test:planted', 'rank 1 stops before the sweep');
+end
+% a chain: particle MCMC of one parameter of a small model
+cspec = sluice.model (@(t, X, P, U, dt) planted_step (P, X), 'states', {'x'}, ...
+                      'params', {'a', 'b'}, 'defaults', [0.5; 1]);
+cpr = sluice.prior ('a', 'uniform', [-1 1], 'x', 'normal', [0 1]);
+cobs = struct ('time', (1:5)', 'variable', {repmat({'x'}, 5, 1)}, ...
+               'value', [0.3; -0.2; 0.5; 0.1; 0.4], 'sigma', ones (5, 1));
+copt = {'members', 40, 'chains', 5, 'iterations', 10, 'burnin', 4, 'seed', 3, ...
+        'filter', struct('t0', 0, 'state_noise', 1, 'threads', 1)};
+same_chains = @(a, b) isequal (a.samples, b.samples) && isequal (a.loglik, b.loglik) ...
+    && isequal (a.logpost, b.logpost) && isequal (a.acceptance, b.acceptance) ...
+    && isequal (a.proposal, b.proposal) && isequal (a.scale, b.scale) ...
+    && isequal (a.start, b.start) && isequal (a.chain_state, b.chain_state) ...
+    && isequal (a.summary, b.summary);
+
+try
+  switch (kase)
+    case 'gateway'
+      % values through bcast and gather come back equal (isequal), and a
+      % bad argument is a clear error, not a crash or a hang
+      [r, n] = sluice.kernel.mpi ('init');
+      v = struct ('a', {{'text', [1 2; 3 4], int8(-3)}}, 'b', single (pi), 'c', true (2, 1));
+      got = sluice.internal.mpi ('bcast', setfield (v, 'from', r), n - 1);
+      ok = isequal (got, setfield (v, 'from', n - 1));
+      c = sluice.internal.mpi ('gather', {r, 'x'}, 0);
+      if (r == 0)
+        ok = ok && isequal (c, arrayfun (@(k) {k, 'x'}, 0:n-1, 'UniformOutput', false));
+      else
+        ok = ok && isempty (c);
+      end
+      s = sluice.kernel.mpi ('allreduce', [r; 1], 'sum');
+      ok = ok && isequal (s, [n * (n - 1) / 2; n]);
+      ok = ok && isequal (sluice.kernel.mpi ('allreduce', r, 'max'), n - 1);
+      bad = {{'allreduce', int32(1), 'sum'}, {'allreduce', 1, 'prod'}, ...
+             {'allreduce', 1i, 'sum'}, {'bcast', 1, 0}, {'bcast', uint8(1), n}, ...
+             {'bcast', uint8(1), 0.5}, {'gather', uint8(1), -1}, {'gather', uint8(1)}, ...
+             {'nonsense'}, {3}};
+      for k = 1:numel (bad)
+        try
+          sluice.kernel.mpi (bad{k}{:});
+          ok = false;
+          printf ('rank %d: no error for case %d\n', r, k);
+        catch err
+          ok = ok && strcmp (err.identifier, 'sluice:mpi:badarg');
+        end
+      end
+      say (ok, '');
+    case 'chains'
+      % chains dealt across the ranks = one process, bit for bit
+      a = sluice.pmmh (cspec, cpr, cobs, copt{:});
+      b = sluice.pmmh (cspec, cpr, cobs, copt{:}, 'mpi', false, 'parallel', false);
+      say (same_chains (a, b) && ~a.parallel, '');
+    case 'chaincheckpoint'
+      % a checkpoint written by rank 0 alone, every few iterations; the
+      % same call then resumes from it; continuing gives the longer run
+      f = fullfile (dir_out, 'chains.ckpt');
+      a = sluice.pmmh (cspec, cpr, cobs, copt{:}, 'checkpoint', f, 'checkpoint_every', 5);
+      a2 = sluice.pmmh (cspec, cpr, cobs, copt{:}, 'checkpoint', f, 'checkpoint_every', 5);
+      c = sluice.pmmh (cspec, cpr, cobs, 'continue', a, 'iterations', 6);
+      b = sluice.pmmh (cspec, cpr, cobs, copt{:}, 'mpi', false, 'parallel', false);
+      o = copt; o{6} = 16;
+      d = sluice.pmmh (cspec, cpr, cobs, o{:}, 'mpi', false, 'parallel', false);
+      say (same_chains (a, b) && same_chains (a2, b) && same_chains (c, d) ...
+           && exist (f, 'file') == 2, '');
+    case 'chainfails'
+      % chain 4 starts where the model fails: on every rank, the error
+      % the single-process run raises
+      st = -0.5 * ones (1, 5);
+      st(4) = 0.875;
+      try
+        sluice.pmmh (cspec, cpr, cobs, copt{:}, 'start', st, 'mpi', false, 'parallel', false);
+        one = struct ('identifier', 'none', 'message', '');
+      catch one
+      end
+      try
+        sluice.pmmh (cspec, cpr, cobs, copt{:}, 'start', st);
+        say (false, ': no error');
+      catch err
+        say (strcmp (err.identifier, 'test:planted') && strcmp (err.identifier, one.identifier) ...
+             && strcmp (err.message, one.message), [': ' err.identifier ' ' err.message]);
+      end
+    case 'chainmismatch'
+      try
+        sluice.pmmh (cspec, cpr, cobs, copt{:}, 'iterations', 10 + rank);
+        say (false, ': no error');
+      catch err
+        say (strcmp (err.identifier, 'sluice:pmmh:mpimismatch'), [': ' err.identifier]);
+      end
+    case 'equal'
+      % the distributed sweep = the single-process sweep, bit for bit
+      [t, info] = sluice.sweep (fun, grid, 'seed', 5, 'workers', 1);
+      [u, uinfo] = sluice.sweep (fun, grid, 'seed', 5, 'workers', 1, 'mpi', false);
+      ok = isequal (t, u) && info.ranks == str2double (getenv ('OMPI_COMM_WORLD_SIZE')) ...
+           && uinfo.ranks == 1 && info.computed == 9 && isequal (info.rank, rank);
+      say (ok, sprintf (' (ranks %d)', info.ranks));
+    case 'idle'
+      % more ranks than points: the extra ranks idle, the table is whole
+      g = struct ('members', [50 80]);
+      t = sluice.sweep (@(p) fun (setfield (p, 'k', 1)), g, 'seed', 2, 'workers', 1);
+      u = sluice.sweep (@(p) fun (setfield (p, 'k', 1)), g, 'seed', 2, 'workers', 1, 'mpi', false);
+      say (isequal (t, u) && numel (t.ll) == 2, '');
+    case 'resume'
+      % a file written by one process is resumed by the ranks, and the
+      % file the ranks complete is the single-process file's content
+      f = fullfile (dir_out, 'sweep.mat');
+      g2 = struct ('members', [50 80], 'k', [1 2 3]);
+      if (rank == 0)
+        sluice.sweep (fun, g2, 'seed', 5, 'workers', 1, 'file', f, 'mpi', false);
+      end
+      sluice.kernel.mpi ('barrier');
+      [t, info] = sluice.sweep (fun, grid, 'seed', 5, 'workers', 1, 'file', f);
+      u = sluice.sweep (fun, grid, 'seed', 5, 'workers', 1, 'mpi', false);
+      ok = isequal (t, u) && info.nreused == 6 && info.computed == 3;
+      sluice.kernel.mpi ('barrier');
+      [t2, info2] = sluice.sweep (fun, grid, 'seed', 5, 'workers', 1, 'file', f, 'mpi', false);
+      ok = ok && isequal (t2, u) && info2.nreused == 9;
+      say (ok, '');
+    case 'mismatch'
+      % a different seed, then a different grid, on each rank: the same
+      % error on every rank
+      ok = true;
+      g2 = grid;
+      g2.members(end) = 120 + rank;
+      calls = {{fun, grid, 'seed', 5 + rank, 'workers', 1}, {fun, g2, 'seed', 5, 'workers', 1}};
+      for k = 1:2
+        try
+          sluice.sweep (calls{k}{:});
+          ok = false;
+        catch err
+          ok = ok && strcmp (err.identifier, 'sluice:sweep:mpimismatch');
+        end
+      end
+      say (ok, [': ' err.identifier]);
+    case 'pointfails'
+      % a point that fails on its rank: sluice:sweep:pointfailed on every
+      % rank, naming the point
+      bad = @(p) ifelse_error (p.members == 80 && p.k == 2, fun, p);
+      try
+        sluice.sweep (bad, grid, 'seed', 5, 'workers', 1);
+        say (false, ': no error');
+      catch err
+        say (strcmp (err.identifier, 'sluice:sweep:pointfailed') ...
+             && ~isempty (strfind (err.message, '(k=2, members=80)')) ...
+             && ~isempty (strfind (err.message, 'test:planted')), [': ' err.message]);
+      end
+    case 'badfile'
+      % rank 0 cannot read the results file: sluice:sweep:badfile everywhere
+      f = fullfile (dir_out, 'not_results.mat');
+      if (rank == 0)
+        fid = fopen (f, 'w'); fputs (fid, 'not a results file'); fclose (fid);
+      end
+      sluice.kernel.mpi ('barrier');
+      try
+        sluice.sweep (fun, grid, 'seed', 5, 'workers', 1, 'file', f);
+        say (false, ': no error');
+      catch err
+        say (strcmp (err.identifier, 'sluice:sweep:badfile'), [': ' err.identifier]);
+      end
+    case 'rankleft'
+      % rank 1 stops with its own error before the sweep: the others raise
+      % sluice:mpi:rankleft naming it, and the job ends
+      try
+        sluice.sweep (fun, grid, 'seed', 5, 'workers', 1);
+        say (false, ': no error');
+      catch err
+        ok = strcmp (err.identifier, 'sluice:mpi:rankleft') ...
+             && ~isempty (strfind (err.message, 'rank 1 left'));
+        % caught and tried again: refused at once, not a hang
+        try
+          sluice.sweep (fun, grid, 'seed', 5, 'workers', 1);
+          ok = false;
+        catch err
+          ok = ok && strcmp (err.identifier, 'sluice:mpi:rankleft') ...
+               && ~isempty (strfind (err.message, 'has left the job'));
+        end
+        say (ok, [': ' err.identifier]);
+      end
+    otherwise
+      say (false, ': unknown case');
+  end
+catch err
+  say (false, [': ' err.identifier ' ' err.message]);
+end
