@@ -291,6 +291,10 @@ function res = execute (R)
   if (strcmp (res.method, 'pf'))
     res.nanpredicted = r.nanpred;
   end
+  % where each observation fell in the forecast's predictive distribution
+  % (one per row of the observation table, in its order; NaN where missing
+  % or not computed)
+  res.pit = r.pit;
   if (~strcmp (opts.method, 'pf'))
     res.inflation = r.inflation;
     res.floored = r.floored;
@@ -350,6 +354,8 @@ function res = execute (R)
              strjoin (res.param_names(est), ', '));
   end
   warn_diversity (res, P0, lower, upper, R.obs_value, cyc);
+  warn_calibration (res.pit, c.obs_var, c.obs_family, ...
+                    [model.states(:); model.params(:); R.ops_names(:)]);
 end
 
 function run = prepared_view (R)
@@ -633,6 +639,57 @@ function warn_diversity (res, P0, lower, upper, obs_value, cyc)
                 '(''method'' ''etkf'' with ''lag'')'], ...
                sum (few), numel (a), 100 * sum (few) / numel (a), N, limit, min (a), ...
                median (a));
+    end
+  end
+end
+
+function warn_calibration (pit, var, family, names)
+  % the forecast calibration check: for each observed variable, how many
+  % of its observations fell outside the central 90% of the forecast's
+  % predictive distribution (a forecast PIT below 0.05 or above 0.95).
+  % A calibrated forecast puts its PITs uniformly on (0, 1) (Dawid 1984;
+  % Gneiting, Balabdaoui & Raftery 2007, JRSS B 69): 10% outside. For the
+  % counts and the censored family the mid-distribution PIT is not
+  % uniform but each of its tails holds less than 10% (a step that
+  % carries a value past 0.95 starts above 0.9), so 20% at most. Too many
+  % outside is overconfidence: bands too narrow for the data they meet.
+  % Thresholds in sluice.internal.diversity_limits.
+  persistent L
+  if (isempty (L))
+    L = sluice.internal.diversity_limits ();   % constants
+  end
+  if (isempty (pit))
+    return;
+  end
+  counted = ismember (family, {'poisson', 'binomial', 'censored'});
+  ok = isfinite (pit(:));
+  for v = unique (var(ok))'
+    rows = ok & var(:) == v;
+    n = sum (rows);
+    if (n < L.calib_min)
+      continue;
+    end
+    p0 = L.calib_outside;
+    if (any (counted(rows)))
+      p0 = L.calib_outside_counts;
+    end
+    k = sum (pit(rows) < L.calib_tail | pit(rows) > 1 - L.calib_tail);
+    % P(K >= k) for K ~ Bin(n, p0) is the regularised incomplete beta
+    % function I_p0(k, n - k + 1) (Abramowitz & Stegun 26.5.24)
+    if (k == 0 || k < L.calib_factor * p0 * n)
+      continue;
+    end
+    tail = betainc (p0, k, n - k + 1);
+    if (tail < L.calib_alpha)
+      warning ('sluice:filter:miscalibrated', ...
+               ['the forecasts of ''%s'' were overconfident: %d of its %d observations ', ...
+                '(%.0f%%) fell outside the central %g%% of the forecast''s predictive ', ...
+                'distribution (res.pit), where at most %.0f%% would for a calibrated ', ...
+                'filter; its bands (and those of what it informs) are too narrow to trust. ', ...
+                'Use more ''members'', noise on the forcings or states (''forcing_noise'', ', ...
+                '''state_noise'') or on the parameters (''param_move''), or, for a model ', ...
+                'made of components, ''coupling'' ''weak'''], ...
+               names{v + 1}, k, n, 100 * k / n, 100 * (1 - 2 * L.calib_tail), 100 * p0);
     end
   end
 end
