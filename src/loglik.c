@@ -569,12 +569,20 @@ SAMPLE_BY_QUANTILE(binomial)
  * mean, Czado, Gneiting & Held 2009, Biometrics 65). NaN as for the
  * quantiles, and for a NaN y. */
 
+static double poisson_logpdf(double y, double h, double sigma, double aux);
+static double binomial_logpdf(double y, double h, double sigma, double aux);
+
+/* Phi(z) = erfc(-z/sqrt 2)/2 (Abramowitz & Stegun 7.1.2, 26.2.29): C's
+ * erfc keeps its relative accuracy in the lower tail, and costs a
+ * fraction of GSL's gsl_cdf_ugaussian_P, which a PIT calls per member. */
+static double ncdf(double z) { return 0.5 * erfc(-z * M_SQRT1_2); }
+
 static double gaussian_cdf(double y, double h, double sigma, double aux)
 {
     (void)aux;
     if (isnan(y) || !scale_ok(sigma) || !isfinite(h))
         return NOT_A_NUMBER;
-    return gsl_cdf_ugaussian_P((y - h) / sigma);
+    return ncdf((y - h) / sigma);
 }
 
 static double lognormal_cdf(double y, double h, double sigma, double aux)
@@ -584,7 +592,7 @@ static double lognormal_cdf(double y, double h, double sigma, double aux)
         return NOT_A_NUMBER;
     if (!(y > 0))
         return 0.0;
-    return gsl_cdf_ugaussian_P((log(y) - log(h)) / sigma);
+    return ncdf((log(y) - log(h)) / sigma);
 }
 
 static double student_t_cdf(double y, double h, double sigma, double aux)
@@ -594,19 +602,23 @@ static double student_t_cdf(double y, double h, double sigma, double aux)
     return gsl_cdf_tdist_P((y - h) / sigma, aux);
 }
 
-/* The mid-distribution function of a count family from its CDF F (taken
- * as 0 below the support): (F(y - 1) + F(y))/2 at a whole y, F(floor y)
- * between the whole numbers. */
+/* The mid-distribution function of a count family from its CDF F and
+ * its log probability lp(y) (the family's logpdf at h, p2 its aux):
+ * F(y) - P(Y = y)/2 at a whole y (one CDF evaluation; its absolute error
+ * stays at rounding, all a PIT needs), F(floor y) between the whole
+ * numbers, 0 below 0. */
 static double count_mid(double y, double (*cdf)(double k, double p1, double p2),
+                        double (*lp)(double y, double h, double sigma, double aux),
                         double p1, double p2)
 {
-    double k;
+    double k, v;
     if (y < 0)
         return 0.0;
     k = floor(y);
     if (k != y)
         return cdf(k, p1, p2);
-    return 0.5 * ((k >= 1 ? cdf(k - 1, p1, p2) : 0.0) + cdf(k, p1, p2));
+    v = cdf(k, p1, p2) - 0.5 * exp(lp(k, p1, NOT_A_NUMBER, p2));
+    return v > 0 ? v : 0.0;
 }
 
 static double poisson_mid(double y, double h, double sigma, double aux)
@@ -617,7 +629,7 @@ static double poisson_mid(double y, double h, double sigma, double aux)
         return NOT_A_NUMBER;
     if (y >= HUGE_VAL)
         return 1.0;
-    return count_mid(y, poisson_cdf, h, 0);
+    return count_mid(y, poisson_cdf, poisson_logpdf, h, 0);
 }
 
 static double binomial_mid(double y, double h, double sigma, double aux)
@@ -627,7 +639,7 @@ static double binomial_mid(double y, double h, double sigma, double aux)
         return NOT_A_NUMBER;
     if (y > aux)
         return 1.0;
-    return count_mid(y, binomial_cdf, h, aux);
+    return count_mid(y, binomial_cdf, binomial_logpdf, h, aux);
 }
 
 /* Y = max(X, L): a y at or below L is the atom, whose mass
