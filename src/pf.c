@@ -987,16 +987,20 @@ sl_status sl_pfi_predict_obs(const sl_pf_config *cfg, pf_buffers *b, size_t r0,
 
 /* The forecast PIT of cycle rows r0..r0+m-1 (out->pit, when recorded)
  * from their predictions in Yhat and the weights w the forecast carries:
- * a serial pass over the members per row (bit-identical for any thread
- * count), at most SL_PIT_MAX_MEMBERS cdf values per row. */
+ * each row a serial pass over the members by one thread (bit-identical
+ * for any thread count), at most SL_PIT_MAX_MEMBERS cdf values per row. */
 void sl_pfi_record_pit(const sl_pf_config *cfg, const pf_buffers *b, size_t r0, size_t m,
                        const double *w, const unsigned char *dead, sl_pf_output *out)
 {
+    size_t i;
     if (out->pit == NULL || m == 0)
         return;
     /* the rows passed sl_pf_check: it cannot fail */
-    (void)sl_loglik_pit(m, cfg->N, cfg->y + r0, b->Yhat, m, cfg->sigma + r0, cfg->aux + r0,
-                        cfg->family + r0, w, dead, out->pit + r0, NULL);
+#pragma omp parallel for num_threads(b->nt) schedule(static)
+    for (i = 0; i < m; i++)
+        (void)sl_loglik_pit(1, cfg->N, cfg->y + r0 + i, b->Yhat + i, m, cfg->sigma + r0 + i,
+                            cfg->aux + r0 + i, cfg->family + r0 + i, w, dead,
+                            out->pit + r0 + i, NULL);
 }
 
 void sl_pfi_loglik_into(const sl_pf_config *cfg, pf_buffers *b, size_t r0,
