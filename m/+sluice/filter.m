@@ -461,8 +461,8 @@
 % P(Y < y) + P(Y = y)/2 for the count families and a censored value.
 % A calibrated filter gives PITs spread evenly over (0, 1); PITs piled
 % near 0 and 1 mean bands too narrow for the data they meet. NaN for a
-% missing value and for the ensemble Kalman methods and @code{'smc2'},
-% which do not compute it. Above 1024 members each row's PIT is the mean
+% missing value and for the ensemble Kalman methods, @code{'wenkf'} and
+% @code{'smc2'}, which do not compute it. Above 1024 members each row's PIT is the mean
 % over 1024 members picked systematically by weight (an error of about
 % 0.016 at most). With
 % @code{operators} (and @code{derived_summary} true), @code{derived} has @code{names} (1 x d, linear

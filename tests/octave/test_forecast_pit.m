@@ -194,12 +194,15 @@
 %! assert (id, 'sluice:filter:miscalibrated');
 
 %!test
-%! % the ensemble Kalman methods and SMC2 do not compute it: NaN, no warning
+%! % the ensemble Kalman methods and wenkf do not compute it: NaN
 %! o = struct ('time', (1:3)', 'variable', {{'a'; 'a'; 'a'}}, 'value', [0.1; 0.4; -0.2], ...
 %!             'sigma', ones (3, 1));
 %! r = sluice.filter (spec, pr, o, 'members', 50, 'seed', 1, 't0', 0, 'method', 'etkf', ...
 %!                    'progress', false);
 %! assert (size (r.pit), [3 1]);
+%! assert (all (isnan (r.pit)));
+%! r = sluice.filter (spec, pr, o, 'members', 50, 'seed', 1, 't0', 0, 'wenkf', true, 'state_noise', 0.5, ...
+%!                    'progress', false);
 %! assert (all (isnan (r.pit)));
 %! % a run with output times only has no rows
 %! r = sluice.filter (spec, pr, struct ('time', zeros (0, 1), 'variable', {cell(0, 1)}, ...
