@@ -676,8 +676,8 @@ static void decode_recording(run_settings *s)
  * file.tmp<pid> and renamed over the file. */
 static const char ck_magic[8] = {'S', 'L', 'F', 'C', 'K', 'P', 'T', '1'};
 /* 2: the output smooth_distinct among out_names, the window's
- * ancestor indices in the workspace */
-#define CK_VERSION 2u
+ * ancestor indices in the workspace; 3: the output pit */
+#define CK_VERSION 3u
 
 /* Settings that do not change what a run computes: not in the fingerprint. */
 static int ck_ignored(const char *name)
@@ -918,6 +918,14 @@ static void create_summaries(const run_settings *s, mxArray *res, sl_pf_output *
     out->nanpred = zeroed(s, res, "nanpred", 1, T);
     out->distinct = zeroed(s, res, "distinct", p, T);
     out->pspread = zeroed(s, res, "spread", p, T);
+    {
+        /* the forecast PIT of every observation row: NaN where the
+         * run's analysis does not write it */
+        size_t k, m = s->cfg.obs_first[T];
+        out->pit = zeroed(s, res, "pit", m, 1);
+        for (k = 0; k < m; k++)
+            out->pit[k] = (double)NAN;
+    }
 }
 
 /* The summaries a run records on request: derived quantities, smoothing. */
@@ -1022,12 +1030,14 @@ static double memory_parts(const run_settings *s, sl_pf_part part[NPARTS])
     part[OUT_FINAL].name = "final weights";
     part[OUT_FINAL].option[0] = "members";
     part[OUT_FINAL].bytes = (size_t)(d8 * N);
-    /* mean, quantiles, forecast means, 13 series of T, 2 of p x T; the
-     * derived quantities' summary, laid out as the states' */
+    /* mean, quantiles, forecast means, 13 series of T, 2 of p x T, the
+     * PIT of every observation row; the derived quantities' summary,
+     * laid out as the states' */
     part[OUT_RECORDS].name = "summaries of every cycle";
     part[OUT_RECORDS].option[0] = "quantiles";
     part[OUT_RECORDS].option[1] = "times";
-    part[OUT_RECORDS].bytes = (size_t)(d8 * T * (v * (nq + (cfg->no_summary ? 1 : 2)) + 13 + 2 * p));
+    part[OUT_RECORDS].bytes = (size_t)(d8 * T * (v * (nq + (cfg->no_summary ? 1 : 2)) + 13 + 2 * p) +
+                                         d8 * (double)cfg->obs_first[s->T]);
     if (cfg->derived_summary)
         part[SL_PF_PART_DERIVED].bytes += (size_t)(d8 * T * d * (nq + 1));
     part[OUT_SMOOTHED].name = "smoothed summaries";
@@ -1136,7 +1146,7 @@ void mexFunction(int nlhs, mxArray *plhs[], int nrhs, const mxArray *prhs[])
         "history_X", "history_P", "history_w", "history_ancestors",
         "smooth_mean", "smooth_quantiles", "smooth_distinct", "distinct", "spread",
         "temper_steps", "loglik_evals", "move_sweeps", "move_accept", "param_move",
-        "derived_mean", "derived_quantiles", "nanpred", "comp_ess", "comp_logz"};
+        "derived_mean", "derived_quantiles", "nanpred", "comp_ess", "comp_logz", "pit"};
     run_settings s;
     sl_pf_output out;
     sl_error err;

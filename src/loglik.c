@@ -562,6 +562,99 @@ SAMPLE_BY_QUANTILE(poisson)
 SAMPLE_BY_QUANTILE(binomial)
 #undef SAMPLE_BY_QUANTILE
 
+/* ---- mid-distribution functions -------------------------------------------
+ * P(Y < y) + P(Y = y)/2 at y given h, sigma and aux: the value a forecast
+ * probability integral transform takes (Dawid 1984, "Statistical theory:
+ * the prequential approach", JRSS A 147; for counts the randomised PIT's
+ * mean, Czado, Gneiting & Held 2009, Biometrics 65). NaN as for the
+ * quantiles, and for a NaN y. */
+
+static double poisson_logpdf(double y, double h, double sigma, double aux);
+static double binomial_logpdf(double y, double h, double sigma, double aux);
+
+/* Phi(z) = erfc(-z/sqrt 2)/2 (Abramowitz & Stegun 7.1.2, 26.2.29): C's
+ * erfc keeps its relative accuracy in the lower tail, and costs a
+ * fraction of GSL's gsl_cdf_ugaussian_P, which a PIT calls per member. */
+static double ncdf(double z) { return 0.5 * erfc(-z * M_SQRT1_2); }
+
+static double gaussian_cdf(double y, double h, double sigma, double aux)
+{
+    (void)aux;
+    if (isnan(y) || !scale_ok(sigma) || !isfinite(h))
+        return NOT_A_NUMBER;
+    return ncdf((y - h) / sigma);
+}
+
+static double lognormal_cdf(double y, double h, double sigma, double aux)
+{
+    (void)aux;
+    if (isnan(y) || !scale_ok(sigma) || !(h > 0 && h < HUGE_VAL))
+        return NOT_A_NUMBER;
+    if (!(y > 0))
+        return 0.0;
+    return ncdf((log(y) - log(h)) / sigma);
+}
+
+static double student_t_cdf(double y, double h, double sigma, double aux)
+{
+    if (isnan(y) || !scale_ok(sigma) || !positive_finite(aux) || !isfinite(h))
+        return NOT_A_NUMBER;
+    return gsl_cdf_tdist_P((y - h) / sigma, aux);
+}
+
+/* The mid-distribution function of a count family from its CDF F and
+ * its log probability lp(y) (the family's logpdf at h, p2 its aux):
+ * F(y) - P(Y = y)/2 at a whole y (one CDF evaluation; its absolute error
+ * stays at rounding, all a PIT needs), F(floor y) between the whole
+ * numbers, 0 below 0. */
+static double count_mid(double y, double (*cdf)(double k, double p1, double p2),
+                        double (*lp)(double y, double h, double sigma, double aux),
+                        double p1, double p2)
+{
+    double k, v;
+    if (y < 0)
+        return 0.0;
+    k = floor(y);
+    if (k != y)
+        return cdf(k, p1, p2);
+    v = cdf(k, p1, p2) - 0.5 * exp(lp(k, p1, NOT_A_NUMBER, p2));
+    return v > 0 ? v : 0.0;
+}
+
+static double poisson_mid(double y, double h, double sigma, double aux)
+{
+    (void)sigma;
+    (void)aux;
+    if (isnan(y) || !(h >= 0 && h <= MAX_COUNT))
+        return NOT_A_NUMBER;
+    if (y >= HUGE_VAL)
+        return 1.0;
+    return count_mid(y, poisson_cdf, poisson_logpdf, h, 0);
+}
+
+static double binomial_mid(double y, double h, double sigma, double aux)
+{
+    (void)sigma;
+    if (isnan(y) || !trials_ok(aux) || !isfinite(h))
+        return NOT_A_NUMBER;
+    if (y > aux)
+        return 1.0;
+    return count_mid(y, binomial_cdf, binomial_logpdf, h, aux);
+}
+
+/* Y = max(X, L): a y at or below L is the atom, whose mass
+ * Phi((L - h)/sigma) counts half; above it P(Y <= y) = Phi((y - h)/sigma). */
+static double censored_cdf(double y, double h, double sigma, double aux)
+{
+    if (isnan(y) || !limit_ok(aux))
+        return NOT_A_NUMBER;
+    if (y <= aux) {
+        const double a = gaussian_cdf(aux, h, sigma, aux);
+        return 0.5 * a;
+    }
+    return gaussian_cdf(y, h, sigma, aux);
+}
+
 /* ---- the type table ------------------------------------------------------ */
 
 /* The scalar density of each family is its row kernel for one member. */
@@ -604,26 +697,26 @@ typedef struct {
 
 static const family_impl families[SL_FAMILY_COUNT] = {
     [SL_FAMILY_GAUSSIAN] = {{"gaussian", 1, NULL, gaussian_logpdf,
-        gaussian_quantile, gaussian_sample},
+        gaussian_quantile, gaussian_sample, gaussian_cdf},
                             gaussian_rows, NULL, NULL, NULL, NULL},
     [SL_FAMILY_LOGNORMAL] = {{"lognormal", 1, NULL, lognormal_logpdf,
-        lognormal_quantile, lognormal_sample},
+        lognormal_quantile, lognormal_sample, lognormal_cdf},
                              lognormal_rows, NULL, NULL, positive_ok, "> 0"},
     [SL_FAMILY_STUDENT_T] = {{"student_t", 1, "dof", student_t_logpdf,
-        student_t_quantile, student_t_sample},
+        student_t_quantile, student_t_sample, student_t_cdf},
                              student_t_rows, dof_ok, "finite and > 0", NULL,
                              NULL},
     [SL_FAMILY_POISSON] = {{"poisson", 0, NULL, poisson_logpdf,
-        poisson_quantile, poisson_sample}, poisson_rows,
+        poisson_quantile, poisson_sample, poisson_mid}, poisson_rows,
                            NULL, NULL, count_ok,
                            "a whole number from 0 to 2^53"},
     [SL_FAMILY_BINOMIAL] = {{"binomial", 0, "n", binomial_logpdf,
-        binomial_quantile, binomial_sample},
+        binomial_quantile, binomial_sample, binomial_mid},
                             binomial_rows, trials_ok,
                             "a whole number from 1 to 2^53", successes_ok,
                             "a whole number from 0 to n"},
     [SL_FAMILY_CENSORED] = {{"censored", 1, "limit", censored_logpdf,
-        censored_quantile, censored_sample},
+        censored_quantile, censored_sample, censored_cdf},
                             censored_rows, limit_ok, "finite", NULL, NULL},
 };
 
@@ -855,5 +948,112 @@ sl_status sl_loglik_ensemble(size_t m, size_t N, const double *y,
     }
     if (nskipped != NULL)
         *nskipped = skipped;
+    return SL_OK;
+}
+
+/* ---- forecast probability integral transform ----------------------------- */
+
+/* Does member j count for a forecast PIT (before its cdf is known)? */
+static int pit_counts(const double *w, const unsigned char *dead, size_t j)
+{
+    return w[j] > 0 && (dead == NULL || !dead[j]);
+}
+
+/* One row: the weighted mean of the members' mid-distribution values at y
+ * (h[j*ldh] member j's prediction). Up to SL_PIT_MAX_MEMBERS members that
+ * count, the exact weighted sum; above, the mean over SL_PIT_MAX_MEMBERS
+ * picks by systematic selection (the k-th pick is the member whose
+ * cumulative weight first exceeds (k + 1/2) W / M, in member order), each
+ * member's cdf taken once and counted as often as it was picked. As an
+ * estimate of the exact sum of values in [0, 1], M independent picks would
+ * err by a standard deviation of at most 1/(2 sqrt M) = 0.016 (a
+ * variance of at most 1/4 per pick); systematic picks are a stratified
+ * sample, which does not do worse when the member order is unrelated to
+ * the predictions (common practice, as for systematic resampling). */
+static double pit_row(const sl_family *f, double y, double sigma, double aux,
+                      const double *h, size_t ldh, size_t N, const double *w,
+                      const unsigned char *dead)
+{
+    const size_t M = SL_PIT_MAX_MEMBERS;
+    double W = 0, sum = 0, used = 0;
+    size_t j, live = 0;
+    for (j = 0; j < N; j++)
+        if (pit_counts(w, dead, j)) {
+            W += w[j];
+            live++;
+        }
+    if (!(W > 0))
+        return NOT_A_NUMBER;
+    if (live <= M) {
+        for (j = 0; j < N; j++)
+            if (pit_counts(w, dead, j)) {
+                const double v = f->cdf(y, h[j * ldh], sigma, aux);
+                if (!isnan(v)) {
+                    sum += w[j] * v;
+                    used += w[j];
+                }
+            }
+    } else {
+        const double step = W / (double)M;
+        double c = 0;
+        size_t k = 0, last = N;
+        for (j = 0; j < N && k < M; j++) {
+            size_t picks = 0;
+            if (!pit_counts(w, dead, j))
+                continue;
+            c += w[j];
+            last = j;
+            while (k < M && ((double)k + 0.5) * step < c) {
+                picks++;
+                k++;
+            }
+            if (picks > 0) {
+                const double v = f->cdf(y, h[j * ldh], sigma, aux);
+                if (!isnan(v)) {
+                    sum += (double)picks * v;
+                    used += (double)picks;
+                }
+            }
+        }
+        if (k < M && last < N) {
+            /* rounding left the last targets beyond the summed weights:
+             * they fall on the last member that counts */
+            const double v = f->cdf(y, h[last * ldh], sigma, aux);
+            if (!isnan(v)) {
+                sum += (double)(M - k) * v;
+                used += (double)(M - k);
+            }
+        }
+    }
+    return used > 0 ? sum / used : NOT_A_NUMBER;
+}
+
+sl_status sl_loglik_pit(size_t m, size_t N, const double *y, const double *Yhat,
+                        size_t ldy, const double *sigma, const double *aux,
+                        const int *family, const double *w,
+                        const unsigned char *dead, double *pit, sl_error *err)
+{
+    size_t i;
+    if (m > 0 && (y == NULL || family == NULL || pit == NULL ||
+                  (N > 0 && (Yhat == NULL || w == NULL))))
+        return sl_fail(err, SL_EINVAL, "badarg",
+                       "values, family ids, predictions, weights and an output "
+                       "are required for %lu observations", (unsigned long)m);
+    if (N > 1 && ldy < m)
+        return sl_fail(err, SL_EINVAL, "badsize",
+                       "leading dimension of the predictions (%lu) is less than the number of observations (%lu)",
+                       (unsigned long)ldy, (unsigned long)m);
+    for (i = 0; i < m; i++)
+        if (family[i] < 0 || family[i] >= SL_FAMILY_COUNT)
+            return sl_fail(err, SL_EINVAL, "badfamily",
+                           "observation %lu: family id must be from 0 to %d, got %d",
+                           (unsigned long)(i + 1), SL_FAMILY_COUNT - 1, family[i]);
+    for (i = 0; i < m; i++)
+        pit[i] = isnan(y[i]) || N == 0
+                     ? NOT_A_NUMBER
+                     : pit_row(&families[family[i]].type, y[i],
+                               sigma != NULL ? sigma[i] : NOT_A_NUMBER,
+                               aux != NULL ? aux[i] : NOT_A_NUMBER, Yhat + i, ldy, N, w,
+                               dead);
     return SL_OK;
 }

@@ -985,6 +985,24 @@ sl_status sl_pfi_predict_obs(const sl_pf_config *cfg, pf_buffers *b, size_t r0,
     return SL_OK;
 }
 
+/* The forecast PIT of cycle rows r0..r0+m-1 (out->pit, when recorded)
+ * from their predictions in Yhat and the weights w the forecast carries:
+ * each row a serial pass over the members by one thread (bit-identical
+ * for any thread count), at most SL_PIT_MAX_MEMBERS cdf values per row. */
+void sl_pfi_record_pit(const sl_pf_config *cfg, const pf_buffers *b, size_t r0, size_t m,
+                       const double *w, const unsigned char *dead, sl_pf_output *out)
+{
+    size_t i;
+    if (out->pit == NULL || m == 0)
+        return;
+    /* the rows passed sl_pf_check: it cannot fail */
+#pragma omp parallel for num_threads(b->nt) schedule(static)
+    for (i = 0; i < m; i++)
+        (void)sl_loglik_pit(1, cfg->N, cfg->y + r0 + i, b->Yhat + i, m, cfg->sigma + r0 + i,
+                            cfg->aux + r0 + i, cfg->family + r0 + i, w, dead,
+                            out->pit + r0 + i, NULL);
+}
+
 void sl_pfi_loglik_into(const sl_pf_config *cfg, pf_buffers *b, size_t r0,
                         size_t m, double *ll, size_t *nskipped)
 {
@@ -1280,6 +1298,7 @@ static sl_status pf_cycle(sl_analysis_cycle *c, sl_error *err)
         return SL_OK;
     if ((st = sl_pfi_predict_obs(cfg, c->run, c->r0, c->m, c->t, c->X, c->P, err)) != SL_OK)
         return st;
+    sl_pfi_record_pit(cfg, c->run, c->r0, c->m, c->w, c->dead, c->out);
     if (c->out->nanpred != NULL)
         c->out->nanpred[c->k] =
             (double)count_nan_predictions(cfg, c->run, c->r0, c->m, c->dead);

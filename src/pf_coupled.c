@@ -139,6 +139,7 @@ static sl_status weak_cycle(sl_analysis_cycle *c, sl_error *err)
     if (c->m > 0) {
         if ((st = sl_pfi_predict_obs(cfg, b, c->r0, c->m, c->t, c->X, c->P, err)) != SL_OK)
             return st;
+        sl_pfi_record_pit(cfg, b, c->r0, c->m, c->w, dead, c->out);
         for (j = 0; j < N; j++) {
             if (dead[j])
                 continue;

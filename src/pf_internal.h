@@ -93,6 +93,8 @@ sl_status sl_pfi_step_all(const sl_pf_config *cfg, pf_buffers *b, double *X,
 void sl_pfi_record_diversity(const sl_pf_config *cfg, pf_buffers *b, const uint32_t *id,
                              const double *Z, const double *w, sl_pf_output *out,
                              size_t k);
+void sl_pfi_record_pit(const sl_pf_config *cfg, const pf_buffers *b, size_t r0, size_t m,
+                       const double *w, const unsigned char *dead, sl_pf_output *out);
 sl_status sl_pfi_predict_obs(const sl_pf_config *cfg, pf_buffers *b, size_t r0,
                              size_t m, double t, const double *X, const double *P,
                              sl_error *err);

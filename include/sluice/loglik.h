@@ -51,6 +51,15 @@ typedef struct {
      * without rounding through Phi. The others return quantile(u). NaN
      * as for quantile, and for a non-finite z where z is used. */
     double (*sample)(double z, double u, double h, double sigma, double aux);
+    /* The mid-distribution function at y given h, sigma and aux,
+     * P(Y < y) + P(Y = y)/2: for the continuous families P(Y <= y), for
+     * the count families halfway up the step at a whole y, for censored
+     * half the atom P(Y = limit) at a y at or below the limit (such a y
+     * is read as censored, as logpdf reads it). It is uniform on (0, 1)
+     * for continuous Y and centred on 1/2 for the others, which is what a
+     * check of forecast calibration needs. NaN for a NaN y and as for
+     * quantile (u aside). */
+    double (*cdf)(double y, double h, double sigma, double aux);
 } sl_family;
 
 /* The family with this id, or NULL for an id out of range. */
@@ -92,6 +101,26 @@ sl_status sl_loglik_ensemble(size_t m, size_t N, const double *y,
                              const double *sigma, const double *aux,
                              const int *family, int accumulate, double *ll,
                              size_t *nskipped, sl_error *err);
+
+/* Most members a forecast PIT evaluates per row (see sl_loglik_pit). */
+#define SL_PIT_MAX_MEMBERS 1024
+
+/* The forecast probability integral transform of m rows: where each
+ * observation falls in the predictive distribution of the weighted
+ * ensemble, pit[i] = sum_j w_j cdf(y_i | Yhat[i + j*ldy]) / sum_j w_j
+ * over the members j that count (weight > 0, not flagged in dead, which
+ * may be NULL, and a cdf that is not NaN: a member whose prediction is
+ * outside the family's domain cannot explain the value). With more than
+ * SL_PIT_MAX_MEMBERS members of positive weight the sum runs over
+ * SL_PIT_MAX_MEMBERS picks made by systematic selection on the weights
+ * (offset 1/2, no random draw). NaN for a missing (NaN) y or a row with
+ * no member that counts. Deterministic and serial; the inputs must have
+ * passed sl_loglik_check and w must be finite and >= 0. Fails (SL_EINVAL,
+ * "badfamily") only for a family id out of range. Does not allocate. */
+sl_status sl_loglik_pit(size_t m, size_t N, const double *y, const double *Yhat,
+                        size_t ldy, const double *sigma, const double *aux,
+                        const int *family, const double *w,
+                        const unsigned char *dead, double *pit, sl_error *err);
 
 #ifdef __cplusplus
 }

@@ -364,6 +364,14 @@ typedef struct {
                           * increment (weak particle filter; 0 where it has
                           * no observation, -Inf where no member explains
                           * them), or NULL */
+    double *pit;         /* obs_first[T]: the forecast probability integral
+                          * transform of every observation row (where the
+                          * value fell in the forecast's predictive
+                          * distribution, sl_loglik_pit, with the weights
+                          * the forecast carries), written by the particle
+                          * filter's analyses (strong and weak coupling) for
+                          * the rows that are not missing; others left as
+                          * they are; or NULL */
     double log_evidence; /* sum of logz */
     size_t steps;        /* model steps taken */
 } sl_pf_output;

@@ -453,7 +453,18 @@
 % @code{history} (@code{X} n x N x T, @code{P}, @code{w} N x T,
 % @code{ancestors} N x T, 1-based). @code{forecast.mean} (n x T) and
 % @code{forecast.params} are the means before each update (the forecast),
-% for innovation statistics (@code{sluice.scores}). With
+% for innovation statistics (@code{sluice.scores}). @code{pit} (one
+% per row of the observation table, in its order) is the forecast
+% probability integral transform of each observation: the share of the
+% forecast's predictive distribution (the weighted members before the
+% cycle's update, each with its observation error) below the value,
+% P(Y < y) + P(Y = y)/2 for the count families and a censored value.
+% A calibrated filter gives PITs spread evenly over (0, 1); PITs piled
+% near 0 and 1 mean bands too narrow for the data they meet. NaN for a
+% missing value and for the ensemble Kalman methods, @code{'wenkf'} and
+% @code{'smc2'}, which do not compute it. Above 1024 members each row's PIT is the mean
+% over 1024 members picked systematically by weight (an error of about
+% 0.016 at most). With
 % @code{operators} (and @code{derived_summary} true), @code{derived} has @code{names} (1 x d, linear
 % operators first), @code{mean} (d x T) and @code{quantiles} (d x nq x T):
 % the derived quantities of the ensemble each cycle ends with, weighted
@@ -484,7 +495,16 @@
 % narrow (use a shorter @code{lag}, more @code{members}, forcing or state
 % noise or a @code{param_move} that keeps the members diverse, or an
 % ensemble Kalman smoother, e.g. @code{'method'} @code{'etkf'} with
-% @code{lag}), besides @code{sluice:filter:degenerate},
+% @code{lag}), @code{sluice:filter:miscalibrated} when, for an observed
+% variable with 5 or more PITs, far too many fell outside the central 90%
+% or the central 99.8% of the forecast (at least twice the share a
+% calibrated forecast leaves there, 10% or 0.2%, twice that for the count
+% families and censored values, plus 2/(N + 1) in the 99.8% band for a
+% value beyond all N members, and a binomial tail probability below
+% 1e-4): the filter was overconfident and its
+% bands are too narrow to trust (use more @code{members}, noise on the
+% forcings, states or parameters, or for a model made of components
+% @code{'coupling'} @code{'weak'}), besides @code{sluice:filter:degenerate},
 % @code{sluice:filter:nonfinite} and @code{sluice:filter:nanprediction}.
 % A prior without spread for a parameter whose bounds let it move is an
 % error (@code{sluice:filter:nospread}) with the moves @code{'auto'},

@@ -46,6 +46,8 @@
 %!                     'param_move', 'kernel', 'state_noise', 0.1, 'history', true}, 17, 4);
 %! assert (isequaln (got, ref));
 %! assert (isequaln (again, ref));
+%! % the forecast PITs of the cycles before the stop come from the file
+%! assert (all (isfinite (got.pit)) && isequal (got.pit, ref.pit));
 
 %!test
 %! % an interrupted run with a checkpoint says what it keeps and how to go on

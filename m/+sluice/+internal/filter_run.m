@@ -291,6 +291,10 @@ function res = execute (R)
   if (strcmp (res.method, 'pf'))
     res.nanpredicted = r.nanpred;
   end
+  % where each observation fell in the forecast's predictive distribution
+  % (one per row of the observation table, in its order; NaN where missing
+  % or not computed)
+  res.pit = r.pit;
   if (~strcmp (opts.method, 'pf'))
     res.inflation = r.inflation;
     res.floored = r.floored;
@@ -314,6 +318,10 @@ function res = execute (R)
   end
   res = sluice.internal.coupling_results (res, r, c, model);
   res.options = opts;
+  % the forecasts' calibration first: the warnings after it say what may
+  % have caused a miscalibration (a bound, collapse, a low ESS)
+  warn_calibration (res.pit, c.obs_var, c.obs_family, ...
+                    [model.states(:); model.params(:); R.ops_names(:)], c.members);
   if (any (res.degenerate))
     k = find (res.degenerate, 1);
     warning ('sluice:filter:degenerate', ...
@@ -633,6 +641,68 @@ function warn_diversity (res, P0, lower, upper, obs_value, cyc)
                 '(''method'' ''etkf'' with ''lag'')'], ...
                sum (few), numel (a), 100 * sum (few) / numel (a), N, limit, min (a), ...
                median (a));
+    end
+  end
+end
+
+function warn_calibration (pit, var, family, names, N)
+  % the forecast calibration check: for each observed variable, how many
+  % of its observations fell outside a central band of the forecast's
+  % predictive distribution (a forecast PIT below tau or above 1 - tau),
+  % for the 90% band (tau = 0.05) and a far one (tau = 0.001). A
+  % calibrated forecast puts its PITs uniformly on (0, 1) (Dawid 1984;
+  % Gneiting, Balabdaoui & Raftery 2007, JRSS B 69): 2 tau outside. For
+  % the counts and the censored family the mid-distribution PIT is not
+  % uniform but each of its tails holds less than 2 tau (a step that
+  % carries a value past 1 - tau starts above 1 - 2 tau), so 4 tau at
+  % most. In the far band an ensemble of N members also leaves a value
+  % beyond all its members with probability up to 2 / (N + 1) (the rank
+  % of a new draw among N exchangeable ones is uniform on N + 1 places;
+  % common practice, the rank histogram), which precise observations turn
+  % into a PIT near 0 or 1: that share is allowed on top. Too many
+  % outside is overconfidence: bands too narrow for the data they meet.
+  % Thresholds in sluice.internal.diversity_limits.
+  persistent L
+  if (isempty (L))
+    L = sluice.internal.diversity_limits ();   % constants
+  end
+  if (isempty (pit))
+    return;
+  end
+  counted = ismember (family, {'poisson', 'binomial', 'censored'});
+  ok = isfinite (pit(:));
+  for v = unique (var(ok))'
+    rows = ok & var(:) == v;
+    n = sum (rows);
+    if (n < L.calib_min)
+      continue;
+    end
+    for tau = [L.calib_tail, L.calib_far_tail]
+      p0 = 2 * tau;
+      if (any (counted(rows)))
+        p0 = 4 * tau;
+      end
+      if (tau < L.calib_tail)
+        p0 = p0 + 2 / (N + 1);
+      end
+      k = sum (pit(rows) < tau | pit(rows) > 1 - tau);
+      if (k == 0 || k < L.calib_factor * p0 * n)
+        continue;
+      end
+      % P(K >= k) for K ~ Bin(n, p0) is the regularised incomplete beta
+      % function I_p0(k, n - k + 1) (Abramowitz & Stegun 26.5.24)
+      if (betainc (min (p0, 1), k, n - k + 1) < L.calib_alpha)
+        warning ('sluice:filter:miscalibrated', ...
+                 ['the forecasts of ''%s'' were overconfident: %d of its %d observations ', ...
+                  '(%.0f%%) fell outside the central %g%% of the forecast''s predictive ', ...
+                  'distribution (res.pit), where at most %.2g%% would for a calibrated ', ...
+                  'filter; its bands (and those of what it informs) are too narrow to ', ...
+                  'trust. Use more ''members'', noise on the forcings or states ', ...
+                  '(''forcing_noise'', ''state_noise'') or on the parameters ', ...
+                  '(''param_move''), or, for a model made of components, ''coupling'' ''weak'''], ...
+                 names{v + 1}, k, n, 100 * k / n, 100 * (1 - 2 * tau), 100 * p0);
+        break;   % one warning per variable
+      end
     end
   end
 end
