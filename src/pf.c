@@ -1367,6 +1367,9 @@ static void window_emit(const sl_pf_config *cfg, pf_buffers *b, size_t s,
         if (out->sanc != NULL)
             out->sanc[s] = (double)window_distinct(b, N, ids);
         memcpy(b->wtmp, slot, v * N * sizeof(double));
+        for (j = 0; j < N; j++)
+            for (i = 0; i < p; i++)
+                b->wtmp[n + i + j * v] = sl_transform_inverse(&cfg->ptrans[i], slot[n + i + j * v]);
         sl_pfi_summary_blank(cfg, out->smean + s * v, out->squant + s * v * nq, v, nq);
     } else {
         const double d = (double)window_distinct(b, N, ids);
@@ -1375,25 +1378,25 @@ static void window_emit(const sl_pf_config *cfg, pf_buffers *b, size_t s,
         /* the fewest of the components (window_store set it above N) */
         if (out->sanc != NULL && d < out->sanc[s])
             out->sanc[s] = d;
-        for (j = 0; j < N; j++)
-            for (i = 0; i < v; i++)
-                if (cfg->comp[i] == (int)cp)
-                    b->wtmp[i + j * v] = slot[i + (size_t)ids[j] * v];
     }
-    for (j = 0; j < N; j++)
-        for (i = 0; i < p; i++)
-            if (cp < 0 || cfg->comp[n + i] == (int)cp)
-                b->wtmp[n + i + j * v] =
-                    sl_transform_inverse(&cfg->ptrans[i], b->wtmp[n + i + j * v]);
 #pragma omp parallel for num_threads(b->nt) schedule(dynamic, 1)
     for (r = 0; r < (long)sl_pfi_summary_count(cfg); r++) {
         int tid = 0;
-        size_t row = sl_pfi_summary_row(cfg, (size_t)r);
+        size_t row = sl_pfi_summary_row(cfg, (size_t)r), jj;
 #ifdef _OPENMP
         tid = omp_get_thread_num();
 #endif
-        if (cp >= 0 && cfg->comp[row] != (int)cp)
-            continue;
+        if (cp >= 0) {
+            /* the component's row, member by member from the columns its
+             * ids name (parameters back in natural units) */
+            if (cfg->comp[row] != (int)cp)
+                continue;
+            for (jj = 0; jj < N; jj++) {
+                const double x = slot[row + (size_t)ids[jj] * v];
+                b->wtmp[row + jj * v] =
+                    row < n ? x : sl_transform_inverse(&cfg->ptrans[row - n], x);
+            }
+        }
         sl_weighted_summary(N, b->wtmp + row, v, w, nq, cfg->probs,
                             out->smean + row + s * v,
                             out->squant + row + s * v * nq, v,
