@@ -340,6 +340,10 @@ static sl_status check_coupling(const sl_pf_config *cfg, const sl_analysis *an,
     if (an != &sl_analysis_pf_weak && cfg->adaptive_inflation)
         return sl_fail(err, SL_EINVAL, "badcoupling",
                        "weak coupling takes a fixed inflation, not an adaptive one");
+    if (an != &sl_analysis_pf_weak && cfg->comp_lag != NULL)
+        return sl_fail(err, SL_EINVAL, "badcoupling",
+                       "a lag per component needs the particle filter (the ensemble Kalman "
+                       "smoother updates the whole window at once)");
     return SL_OK;
 }
 

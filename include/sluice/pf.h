@@ -309,7 +309,7 @@ typedef struct {
      *   moves every component), and component c's rows of cycle s are
      *   recorded given the observations up to cycle s + comp_lag[c]
      *   (comp_lag NULL: lag for every component; each <= lag, the
-     *   window's length). */
+     *   window's length; the particle filter only). */
     int weak;
     size_t n_comp;
     const int *comp;
