@@ -43,19 +43,35 @@
 % slow random walks (0.003 a day in log space), a little noise on the
 % town's distance D and levee height H, and a calendar from 1960-01-01
 % (the model's years are 365 days long, so year ends drift from
-% 1 January by a day every four years). The weakly coupled filter has no
-% smoother: every band is filtered (each day given the record up to
-% it). As a twin experiment it prints how often the 90% bands hold the
-% truth and whether the parameters' final bands do. It writes, into
-% out/reanalysis:
-%   reanalysis_states.csv  per day: the filtered mean and 5/50/95% points
+% 1 January by a day every four years). The reanalysis is SMOOTHED: a
+% fixed-lag smoother whose window's rows of each component follow that
+% component's own ancestry, with a lag per component. The town's
+% densest record is the questionnaire, every 5 years: a lag of 5 years
+% (1825 days) brings at least one later town observation to every day.
+% The river is observed every day from the gauge on, and resampled by
+% it nearly every day, so its paths coalesce: over 30 days they keep
+% enough distinct ancestors (res.coupling.smoothed_distinct) while
+% spanning GR4J's routing (its unit hydrographs last 2 X4 days, a few
+% days here); before the gauge a river day learns from the flood level
+% of its year end only if that is within those 30 days. The window
+% holds 1826 slots of the 90 rows of 1000 members (1.3 GB). As a twin
+% experiment it prints how often the smoothed and the filtered 90%
+% bands hold the truth and whether the parameters' final bands do. It
+% writes, into out/reanalysis:
+%   reanalysis_states.csv  per day: the smoothed mean and 5/50/95% points
 %                          of every visible state (GR4J's unit-hydrograph
 %                          queues and the day counter left out)
 %   reanalysis_params.csv  per day: the same of the estimated parameters
+%   filtered_states.csv, filtered_params.csv  the same, filtered (each
+%                          day given the record up to it)
 %   reanalysis.nc          the reanalysis as NetCDF-4 (CF-1.8) through
-%                          sluice.save_run, with units and long names
+%                          sluice.save_run, with units and long names:
+%                          smoothed (<name>_smoothed_mean, _quantiles)
+%                          and filtered (<name>_mean, _quantiles)
 %   flows.png, levels.png, population.png, memory.png, levee.png,
-%   params.png             bands, observations and the (here known) truth
+%   params.png             smoothed bands (filled), filtered bands
+%                          (dashed), observations and the (here known)
+%                          truth
 % and prints the speed of the coupled filter against GR4J alone.
 %
 % The numbers support a study of an invented record; they are not a flood
@@ -88,11 +104,13 @@ function [res, info] = demo_lowmarsh_reanalysis (outdir, scale)
   end
   if (strcmp (scale, 'full'))
     c = struct ('years', 60, 'gauge', 20, 'census', 10, 'survey', 15, 'quest', 5, ...
-                'members', 1000, 'bench_years', 10);
+                'members', 1000, 'bench_years', 10, 'river_lag', 30);
   else
     c = struct ('years', 6, 'gauge', 2, 'census', 3, 'survey', 4, 'quest', 2, ...
-                'members', 60, 'bench_years', 1);
+                'members', 60, 'bench_years', 1, 'river_lag', 30);
   end
+  % the town's lag: the interval of its densest record (the questionnaire)
+  c.town_lag = 365 * c.quest;
   t_all = tic ();
   gp = warning ('query', 'Octave:gnuplot-graphics');
   warning ('off', 'Octave:gnuplot-graphics');
@@ -169,10 +187,9 @@ function [res, info] = demo_lowmarsh_reanalysis (outdir, scale)
   % the censuses, surveys, levels and the questionnaire alone, so the
   % daily flows no longer thin the town to a few lines between censuses
   % (strongly coupled, the same filter ended with X1 321 [305, 341] for a
-  % truth of 380 and muS 0.071 [0.069, 0.073] for 0.12). The weak
-  % particle filter runs without a smoother: the bands are filtered ones,
-  % each day given the record up to that day.
-  fopts = {'t0', 0, 'times', 1:T, 'forcing', gauge_forcing, 'forcing_noise', rain_noise, ...
+  % truth of 380 and muS 0.071 [0.069, 0.073] for 0.12). Smoothed with a
+  % lag per component (river, town: the order of spec.components).
+  fopts = {'lag', [c.river_lag, c.town_lag], 't0', 0, 'times', 1:T, 'forcing', gauge_forcing, 'forcing_noise', rain_noise, ...
            'state_noise', town_noise, 'operators', ops, 'coupling', 'weak', ...
            'obs_components', struct('aware', 'town'), ...
            'param_move', 'random_walk', 'param_step', 0.003, 'members', c.members, 'seed', 2031, ...
@@ -214,11 +231,18 @@ function [res, info] = demo_lowmarsh_reanalysis (outdir, scale)
   res = cut_result (r, visible, estimated);
   [units, long_names] = descriptions ();
   files = {};
+  sm = res.smoothed;
   f = fullfile (outdir, 'reanalysis_states.csv');
-  write_bands (f, res, 'states', res.state_names);
+  write_bands (f, res, sm.states, res.state_names);
   files{end + 1} = f;
   f = fullfile (outdir, 'reanalysis_params.csv');
-  write_bands (f, res, 'params', res.param_names);
+  write_bands (f, res, sm.params, res.param_names);
+  files{end + 1} = f;
+  f = fullfile (outdir, 'filtered_states.csv');
+  write_bands (f, res, res.states, res.state_names);
+  files{end + 1} = f;
+  f = fullfile (outdir, 'filtered_params.csv');
+  write_bands (f, res, res.params, res.param_names);
   files{end + 1} = f;
   f = fullfile (outdir, 'reanalysis.nc');
   sluice.save_run (res, f, 'units', units, 'long_names', long_names, ...
@@ -231,15 +255,17 @@ function [res, info] = demo_lowmarsh_reanalysis (outdir, scale)
 
   % --- 6. what it found -----------------------------------------------------
   info = struct ('truth', truth, 'obs', obs, 'files', {files}, 'run_seconds', run_s, ...
-                 'coupled_seconds', coupled_s, 'gr4j_seconds', gr4j_s, 'filter', r);
+                 'coupled_seconds', coupled_s, 'gr4j_seconds', gr4j_s, 'filter', r, ...
+                 'lag', [c.river_lag, c.town_lag]);
   fprintf ('\nLowmarsh on the river Vell (invented catchment, weather and town): %d years of daily rain\n', ...
            c.years);
   fprintf ('observations in one table: %d rows (daily flows from year %d, %d flood levels,\n', ...
            numel (obs.time), c.gauge, numel (ty));
   fprintf ('  %d censuses, %d levee surveys, %d questionnaires of %d residents)\n', ...
            numel (tc), numel (ts), numel (tw), n_ask);
-  fprintf ('particle filter, %d members, weakly coupled (river and town), filtered: %.1f s\n', ...
-           r.members, run_s);
+  fprintf (['particle filter, %d members, weakly coupled (river and town), smoothed with ', ...
+            'lags of %d (river) and %d days (town): %.1f s\n'], r.members, c.river_lag, ...
+           c.town_lag, run_s);
   % a twin experiment: the truth is known, so the run can be checked
   fprintf (['  the estimated parameters at the end (mean [90%% band]) against the invented truth\n', ...
             '  (they drift as random walks, so these are their values at the end of the record):\n']);
@@ -259,27 +285,38 @@ function [res, info] = demo_lowmarsh_reanalysis (outdir, scale)
   % the town at its censuses: the census, the truth and the reanalysis
   iG = find (strcmp (res.state_names, 'G'));
   sel = strcmp (obs.variable, 'G');
-  fprintf ('  settlement size G at the censuses: census, truth, filtered median [90%% band]\n');
+  fprintf ('  settlement size G at the censuses: census, truth, smoothed median [90%% band]\n');
   tcen = obs.time(sel);
   vcen = obs.value(sel);
+  sq = res.smoothed.states.quantiles;
   fq = res.states.quantiles;
   for k = 1:numel (tcen)
     j = find (res.times == tcen(k));
     fprintf ('    year %2d  %8.4f  %8.4f  %8.4f [%8.4f, %8.4f]\n', tcen(k) / 365, vcen(k), ...
-             X(ix ('G'), tcen(k) + 1), fq(iG, 2, j), fq(iG, 1, j), fq(iG, 3, j));
+             X(ix ('G'), tcen(k) + 1), sq(iG, 2, j), sq(iG, 1, j), sq(iG, 3, j));
   end
   % how often the 90% bands hold the truth (a calibrated band: about 0.9)
-  fprintf ('  share of the days whose 90%% band holds the truth (all days / from the gauge on):\n   ');
+  fprintf (['  share of the days whose 90%% band holds the truth, smoothed (filtered), ', ...
+            'all days / from the gauge on:\n   ']);
   gauge_on = res.times > 365 * c.gauge;
+  cover = struct ();
   for name = {'G', 'M', 'H', 'Q', 'level'}
     i = find (strcmp (res.state_names, name{1}));
     tr = X(ix (name{1}), res.times + 1);
-    in = tr >= squeeze (fq(i, 1, :))' & tr <= squeeze (fq(i, end, :))';
-    fprintf (' %s %.2f / %.2f;', name{1}, mean (in), mean (in(gauge_on)));
+    in = tr >= squeeze (sq(i, 1, :))' & tr <= squeeze (sq(i, end, :))';
+    inf_ = tr >= squeeze (fq(i, 1, :))' & tr <= squeeze (fq(i, end, :))';
+    cover.(name{1}) = [mean(in), mean(inf_), mean(in(gauge_on)), mean(inf_(gauge_on))];
+    fprintf (' %s %.2f (%.2f) / %.2f (%.2f);', name{1}, cover.(name{1}));
   end
+  % the smoothed paths' diversity: distinct ancestors of each component
+  nd = r.coupling.smoothed_distinct;
+  fprintf (['\n  distinct members on the smoothed paths (median, fewest): river %g, %g; ', ...
+            'town %g, %g of %d'], median (nd(1, :)), min (nd(1, :)), median (nd(2, :)), ...
+           min (nd(2, :)), r.members);
   fprintf ('\n  ESS (the smaller component''s): median %.0f of %d; resampled at %d of %d cycles; %d cycles degenerate\n', ...
            median (res.ess), r.members, sum (res.resampled), numel (res.times), ...
            sum (res.degenerate));
+  info.coverage = cover;
   coupled_rate = c.members * nb / coupled_s;
   gr4j_rate = c.members * nb / gr4j_s;
   fprintf (['speed over %d years of daily flows, %d members, this session: coupled %.3g ', ...
@@ -408,10 +445,10 @@ function [units, long] = descriptions ()
     'muS', 'decay rate of the flood memory, per year of 365 days');
 end
 
-function write_bands (f, r, part, names)
-  % one row per cycle: time, date, then per variable the filtered mean
-  % and the 5%, 50% and 95% points (10 significant digits)
-  sm = r.(part);
+function write_bands (f, r, sm, names)
+  % one row per cycle: time, date, then per variable the mean and the
+  % 5%, 50% and 95% points of the summary sm (smoothed or filtered, 10
+  % significant digits)
   lv = r.quantile_levels;
   T = numel (r.times);
   head = {'time', 'date'};
@@ -441,8 +478,8 @@ function write_bands (f, r, part, names)
 end
 
 function files = figures (outdir, r, obs, truth, n_ask)
-  % bands of the filtered estimate (90%, light) with its median, the
-  % observations and the truth
+  % bands of the smoothed estimate (90%, filled) with its median, the
+  % filtered 90% band (dashed), the observations and the truth
   files = {};
   t = r.times;
   yr = t / 365;
@@ -466,7 +503,7 @@ function files = figures (outdir, r, obs, truth, n_ask)
   set (gca, 'yscale', 'log');
   xlabel ('years since 1960-01-01 (model years of 365 days)');
   ylabel ('Q (mm/d)');
-  title ('River flow: filtered 90% band and median, gauge readings (dots), truth');
+  title ('River flow: smoothed 90% band, filtered (dashed), gauge (dots), truth');
   print (h, '-dpng', '-r90', f);
   close (h);
   files{end + 1} = f;
@@ -477,15 +514,17 @@ function files = figures (outdir, r, obs, truth, n_ask)
   i = get ('level');
   f = fullfile (outdir, 'levels.png');
   h = figure ('visible', 'off');
-  q = squeeze (r.states.quantiles(i, :, k));
+  q = squeeze (r.smoothed.states.quantiles(i, :, k));
   errorbar (ty / 365, q(2, :), q(2, :) - q(1, :), q(3, :) - q(2, :), 'o');
   hold on;
+  qf = squeeze (r.states.quantiles(i, :, k));
+  plot (ty / 365 + 0.25, qf([1 3], :), 'v', 'color', [0.5 0.5 0.5], 'markersize', 3);
   sel = ob ('level');
   plot (obs.time(sel) / 365, obs.value(sel), 'k.', 'markersize', 10);
   plot (ty / 365, tr ('level', k), 'x', 'color', [0.84 0.37 0]);
   xlabel ('model year');
   ylabel ('level (m above the bank)');
-  title ('Annual flood level: filtered median and 90% band, readings (dots), truth (x)');
+  title ('Flood level: smoothed median, 90% band, filtered (v), readings (dots), truth (x)');
   print (h, '-dpng', '-r90', f);
   close (h);
   files{end + 1} = f;
@@ -493,9 +532,9 @@ function files = figures (outdir, r, obs, truth, n_ask)
   % the slow states, every 10th day
   k = 1:10:T;
   spec = {'population.png', 'G', 'settlement size G (relative)', true, ...
-          'Settlement size: filtered band, census (dots), truth'; ...
+          'Settlement size: smoothed band, filtered (dashed), census (dots), truth'; ...
           'levee.png', 'H', 'levee height H (m)', false, ...
-          'Levee height: filtered band, surveys (dots), truth'};
+          'Levee height: smoothed band, filtered (dashed), surveys (dots), truth'};
   for s = 1:size (spec, 1)
     f = fullfile (outdir, spec{s, 1});
     i = get (spec{s, 2});
@@ -525,9 +564,9 @@ function files = figures (outdir, r, obs, truth, n_ask)
   hold on;
   plot (yr(k), tr ('M', k), '-', 'color', [0.84 0.37 0]);
   ylabel ('memory M');
-  title ('Flood memory M: filtered band, truth');
+  title ('Flood memory M: smoothed band, filtered (dashed), truth');
   subplot (2, 1, 2);
-  q = squeeze (r.states.quantiles(i, :, k));
+  q = squeeze (r.smoothed.states.quantiles(i, :, k));
   share = q ./ (1 + q);                   % p = M / (1 + M) is monotone in M
   fill ([yr(k), fliplr(yr(k))], [share(1, :), fliplr(share(3, :))], band, 'edgecolor', 'none');
   hold on;
@@ -549,15 +588,17 @@ function files = figures (outdir, r, obs, truth, n_ask)
   np = numel (r.param_names);
   for j = 1:np
     subplot (np, 1, j);
-    q = squeeze (r.params.quantiles(j, :, k));
+    q = squeeze (r.smoothed.params.quantiles(j, :, k));
     fill ([yr(k), fliplr(yr(k))], [q(1, :), fliplr(q(3, :))], band, 'edgecolor', 'none');
     hold on;
     plot (yr(k), q(2, :), '-', 'color', cs);
+    qf = squeeze (r.params.quantiles(j, :, k));
+    plot (yr(k), qf([1 3], :), '--', 'color', [0.5 0.5 0.5]);
     v = truth.params(strcmp (truth.param_names, r.param_names{j}));
     plot (yr(k([1 end])), [v v], '-', 'color', [0.84 0.37 0]);
     ylabel (r.param_names{j});
     if (j == 1)
-      title ('Estimated parameters: filtered median and 90% band, truth');
+      title ('Estimated parameters: smoothed median and 90% band, filtered band (dashed), truth');
     end
   end
   xlabel ('model year');
@@ -567,8 +608,11 @@ function files = figures (outdir, r, obs, truth, n_ask)
 end
 
 function fan (x, r, i, k, band, cs)
-  q = squeeze (r.states.quantiles(i, :, k));
+  % the smoothed 90% band filled, its median, the filtered band dashed
+  q = squeeze (r.smoothed.states.quantiles(i, :, k));
   fill ([x, fliplr(x)], [q(1, :), fliplr(q(3, :))], band, 'edgecolor', 'none');
   hold on;
   plot (x, q(2, :), '-', 'color', cs, 'linewidth', 1);
+  qf = squeeze (r.states.quantiles(i, :, k));
+  plot (x, qf([1 3], :), '--', 'color', [0.5 0.5 0.5], 'linewidth', 0.5);
 end

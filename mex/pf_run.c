@@ -632,6 +632,19 @@ static void decode_coupling(run_settings *s)
     cfg->n_comp = (size_t)fwhole(s, "n_comp", 1, 1e6);
     cfg->comp = decode_components(s, "comp", s->v, cfg->n_comp);
     cfg->obs_comp = decode_components(s, "obs_comp", cfg->obs_first[s->T], cfg->n_comp);
+    if (slm_field(s->fn, s->c, "comp_lag", 0) != NULL) {
+        /* each component's lag (the core checks them against lag) */
+        const double *x = fmat(s, "comp_lag", cfg->n_comp, 1, SLM_VECTOR);
+        size_t *L = (size_t *)slm_alloc(s->fn, cfg->n_comp, sizeof(size_t));
+        size_t k;
+        for (k = 0; k < cfg->n_comp; k++) {
+            if (!(x[k] >= 0 && x[k] <= 4294967295.0) || x[k] != floor(x[k]))
+                slm_fail(s->fn, "badcoupling", "comp_lag %lu must be a whole number >= 0",
+                         (unsigned long)(k + 1));
+            L[k] = (size_t)x[k];
+        }
+        cfg->comp_lag = L;
+    }
 }
 
 /* ------------------------------------ what is recorded, and smoothing */
@@ -676,7 +689,8 @@ static void decode_recording(run_settings *s)
  * file.tmp<pid> and renamed over the file. */
 static const char ck_magic[8] = {'S', 'L', 'F', 'C', 'K', 'P', 'T', '1'};
 /* 2: the output smooth_distinct among out_names, the window's
- * ancestor indices in the workspace; 3: the output pit */
+ * ancestor indices in the workspace; 3: the outputs comp_smooth_distinct
+ * (per-component lags) and pit */
 #define CK_VERSION 3u
 
 /* Settings that do not change what a run computes: not in the fingerprint. */
@@ -952,6 +966,8 @@ static void create_optional(const run_settings *s, mxArray *res, sl_pf_output *o
         mxSetField(res, 0, "smooth_mean", sm);
         mxSetField(res, 0, "smooth_quantiles", sq);
         out->sanc = zeroed(s, res, "smooth_distinct", 1, T);
+        if (s->cfg.weak)
+            out->comp_sanc = zeroed(s, res, "comp_smooth_distinct", s->cfg.n_comp, T);
     }
 }
 
@@ -1044,6 +1060,9 @@ static double memory_parts(const run_settings *s, sl_pf_part part[NPARTS])
     part[OUT_SMOOTHED].option[0] = "lag";
     /* their means, quantiles and distinct ancestors */
     part[OUT_SMOOTHED].bytes = cfg->lag > 0 ? (size_t)(d8 * T * (v * (nq + 1) + 1)) : 0;
+    /* and, weakly coupled, each component's distinct ancestors */
+    if (cfg->lag > 0 && cfg->weak)
+        part[OUT_SMOOTHED].bytes += (size_t)(d8 * T * (double)cfg->n_comp);
     part[OUT_HISTORY].name = "history";
     part[OUT_HISTORY].option[0] = "history";
     if (cfg->keep_history)
@@ -1146,7 +1165,8 @@ void mexFunction(int nlhs, mxArray *plhs[], int nrhs, const mxArray *prhs[])
         "history_X", "history_P", "history_w", "history_ancestors",
         "smooth_mean", "smooth_quantiles", "smooth_distinct", "distinct", "spread",
         "temper_steps", "loglik_evals", "move_sweeps", "move_accept", "param_move",
-        "derived_mean", "derived_quantiles", "nanpred", "comp_ess", "comp_logz", "pit"};
+        "derived_mean", "derived_quantiles", "nanpred", "comp_ess", "comp_logz",
+        "comp_smooth_distinct", "pit"};
     run_settings s;
     sl_pf_output out;
     sl_error err;

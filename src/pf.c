@@ -206,19 +206,22 @@ static size_t layout(const sl_pf_config *cfg, unsigned char *base,
                 (void **)&b->wk_m);
     PART(SL_PF_PART_ANALYSIS);
     b->nwin = cfg->lag < cfg->T ? cfg->lag : cfg->T;
+    b->wids = an == &sl_analysis_pf_weak && cfg->n_comp > 0 ? cfg->n_comp : 0;
     if (b->nwin > 0) {
-        if (b->nwin > big / 8 / N / (n + p + 1))
-            return 0;
         /* a slot: the members' states and parameters (v x N doubles),
          * then the index each column had when its cycle was stored (N
-         * uint32, resampled with the columns: their ancestors there) */
+         * uint32, resampled with the columns: their ancestors there; the
+         * weakly coupled particle filter: a row of ids per component) */
+        const size_t nid = b->wids > 0 ? b->wids : 1;
+        if (nid > big / 8 / N || b->nwin > big / 8 / N / (n + p + nid))
+            return 0;
         sl_ws_carve(base, &off, (b->nwin + 1) * sizeof(double *), (void **)&b->win);
         for (k = 0; k <= b->nwin; k++)
-            sl_ws_carve(base, &off, (n + p) * N * 8 + N * 4,
+            sl_ws_carve(base, &off, (n + p) * N * 8 + nid * N * 4,
                         base != NULL ? (void **)&b->win[k] : NULL);
         if (base != NULL)
             b->wspare = b->win[b->nwin];
-        b->wstride = ((n + p) * N * 8 + N * 4 + SL_WS_ALIGN - 1) / SL_WS_ALIGN * SL_WS_ALIGN;
+        b->wstride = ((n + p) * N * 8 + nid * N * 4 + SL_WS_ALIGN - 1) / SL_WS_ALIGN * SL_WS_ALIGN;
         b->wslot0 = base != NULL ? b->win[0] : NULL;
         sl_ws_carve(base, &off, (n + p) * N * 8, (void **)&b->wtmp);
         PART(SL_PF_PART_LAG);
@@ -337,6 +340,10 @@ static sl_status check_coupling(const sl_pf_config *cfg, const sl_analysis *an,
     if (an != &sl_analysis_pf_weak && cfg->adaptive_inflation)
         return sl_fail(err, SL_EINVAL, "badcoupling",
                        "weak coupling takes a fixed inflation, not an adaptive one");
+    if (an != &sl_analysis_pf_weak && cfg->comp_lag != NULL)
+        return sl_fail(err, SL_EINVAL, "badcoupling",
+                       "a lag per component needs the particle filter (the ensemble Kalman "
+                       "smoother updates the whole window at once)");
     return SL_OK;
 }
 
@@ -1350,45 +1357,83 @@ const sl_analysis *sl_pf_analysis_of(const sl_pf_config *cfg)
 }
 
 /* The ancestor indices of a window slot: N uint32 after its v x N
- * doubles. */
+ * doubles (the weakly coupled particle filter: a row of N per component,
+ * component c's at c * N). */
 static uint32_t *window_ids(const sl_pf_config *cfg, double *slot)
 {
     return (uint32_t *)(slot + (cfg->model->n_state + cfg->model->n_param) * cfg->N);
 }
 
+/* The members of a cycle that N ids descend from, counted. */
+static size_t window_distinct(pf_buffers *b, size_t N, const uint32_t *ids)
+{
+    size_t j, distinct = 0;
+    memset(b->mark, 0, N);
+    for (j = 0; j < N; j++)
+        if (!b->mark[ids[j]]) {
+            b->mark[ids[j]] = 1;
+            distinct++;
+        }
+    return distinct;
+}
+
+/* The lag of component cp (the weakly coupled particle filter), within
+ * the window. */
+static size_t window_lag(const sl_pf_config *cfg, const pf_buffers *b, size_t cp)
+{
+    size_t L = cfg->comp_lag != NULL ? cfg->comp_lag[cp] : b->nwin;
+    return L < b->nwin ? L : b->nwin;
+}
+
 /* Record the smoothed summary of cycle s from its window slot with the
  * current weights (parameters back in natural units first), and how many
- * distinct members of cycle s the current members descend from. */
+ * distinct members of cycle s the current members descend from. cp < 0:
+ * every row, the slot's columns being the members'; cp >= 0 (the weakly
+ * coupled particle filter): the rows of component cp, member j's column
+ * the one its ids name. */
 static void window_emit(const sl_pf_config *cfg, pf_buffers *b, size_t s,
-                        const double *w, sl_pf_output *out)
+                        const double *w, sl_pf_output *out, long cp)
 {
     const size_t N = cfg->N, n = cfg->model->n_state, p = cfg->model->n_param;
     const size_t v = n + p, nq = cfg->nq;
     const double *slot = b->win[s % b->nwin];
-    const uint32_t *ids = window_ids(cfg, b->win[s % b->nwin]);
-    size_t i, j, distinct = 0;
+    const uint32_t *ids = window_ids(cfg, b->win[s % b->nwin]) + (cp >= 0 ? (size_t)cp * N : 0);
+    size_t i, j;
     long r;
-    if (out->sanc != NULL) {
-        memset(b->mark, 0, N);
+    if (cp < 0) {
+        if (out->sanc != NULL)
+            out->sanc[s] = (double)window_distinct(b, N, ids);
+        memcpy(b->wtmp, slot, v * N * sizeof(double));
         for (j = 0; j < N; j++)
-            if (!b->mark[ids[j]]) {
-                b->mark[ids[j]] = 1;
-                distinct++;
-            }
-        out->sanc[s] = (double)distinct;
+            for (i = 0; i < p; i++)
+                b->wtmp[n + i + j * v] = sl_transform_inverse(&cfg->ptrans[i], slot[n + i + j * v]);
+        sl_pfi_summary_blank(cfg, out->smean + s * v, out->squant + s * v * nq, v, nq);
+    } else {
+        const double d = (double)window_distinct(b, N, ids);
+        if (out->comp_sanc != NULL)
+            out->comp_sanc[(size_t)cp + s * cfg->n_comp] = d;
+        /* the fewest of the components (window_store set it above N) */
+        if (out->sanc != NULL && d < out->sanc[s])
+            out->sanc[s] = d;
     }
-    memcpy(b->wtmp, slot, v * N * sizeof(double));
-    for (j = 0; j < N; j++)
-        for (i = 0; i < p; i++)
-            b->wtmp[n + i + j * v] = sl_transform_inverse(&cfg->ptrans[i], slot[n + i + j * v]);
-    sl_pfi_summary_blank(cfg, out->smean + s * v, out->squant + s * v * nq, v, nq);
 #pragma omp parallel for num_threads(b->nt) schedule(dynamic, 1)
     for (r = 0; r < (long)sl_pfi_summary_count(cfg); r++) {
         int tid = 0;
-        size_t row = sl_pfi_summary_row(cfg, (size_t)r);
+        size_t row = sl_pfi_summary_row(cfg, (size_t)r), jj;
 #ifdef _OPENMP
         tid = omp_get_thread_num();
 #endif
+        if (cp >= 0) {
+            /* the component's row, member by member from the columns its
+             * ids name (parameters back in natural units) */
+            if (cfg->comp[row] != (int)cp)
+                continue;
+            for (jj = 0; jj < N; jj++) {
+                const double x = slot[row + (size_t)ids[jj] * v];
+                b->wtmp[row + jj * v] =
+                    row < n ? x : sl_transform_inverse(&cfg->ptrans[row - n], x);
+            }
+        }
         sl_weighted_summary(N, b->wtmp + row, v, w, nq, cfg->probs,
                             out->smean + row + s * v,
                             out->squant + row + s * v * nq, v,
@@ -1398,38 +1443,78 @@ static void window_emit(const sl_pf_config *cfg, pf_buffers *b, size_t s,
 
 /* Store cycle k's ensemble (states, transformed parameters) in its slot. */
 static void window_store(const sl_pf_config *cfg, pf_buffers *b, size_t k,
-                         const double *X, const double *Z)
+                         const double *X, const double *Z, sl_pf_output *out)
 {
     const size_t N = cfg->N, n = cfg->model->n_state, p = cfg->model->n_param;
+    const size_t nid = b->wids > 0 ? b->wids : 1;
     double *slot = b->win[k % b->nwin];
     uint32_t *ids = window_ids(cfg, slot);
-    size_t j;
+    size_t j, c;
     for (j = 0; j < N; j++) {
         memcpy(slot + j * (n + p), X + j * n, n * sizeof(double));
         if (p > 0)
             memcpy(slot + j * (n + p) + n, Z + j * p, p * sizeof(double));
-        ids[j] = (uint32_t)j;
+        for (c = 0; c < nid; c++)
+            ids[j + c * N] = (uint32_t)j;
+    }
+    if (b->wids > 0) {
+        /* the smoothed summary's rows of a component not yet recorded
+         * stay NaN; the fewest ancestors start above any count */
+        sl_pfi_summary_blank(cfg, out->smean + k * (n + p), out->squant + k * (n + p) * cfg->nq,
+                             n + p, cfg->nq);
+        if (out->sanc != NULL)
+            out->sanc[k] = (double)N + 1.0;
     }
 }
 
 /* Resample the window with the members: slot by slot into the spare,
- * the slots of cycles k, k-1, ... (filled of them). */
+ * the slots of cycles k, k-1, ... (filled of them). The weakly coupled
+ * particle filter's slots keep their columns: every component's ids are
+ * resampled. */
 static void window_gather(const sl_pf_config *cfg, pf_buffers *b, size_t k,
                           size_t filled)
 {
     const size_t N = cfg->N, v = cfg->model->n_state + cfg->model->n_param;
     size_t s;
     for (s = 0; s < filled; s++) {
-        size_t at = (k - s) % b->nwin, j;
+        size_t at = (k - s) % b->nwin, j, c;
         const uint32_t *ids = window_ids(cfg, b->win[at]);
         uint32_t *to = window_ids(cfg, b->wspare);
         double *t;
+        if (b->wids > 0) {
+            for (c = 0; c < b->wids; c++) {
+                uint32_t *row = window_ids(cfg, b->win[at]) + c * N;
+                for (j = 0; j < N; j++)
+                    to[j] = row[b->anc[j]];
+                memcpy(row, to, N * sizeof(uint32_t));
+            }
+            continue;
+        }
         sl_pfi_gather_cols(v, N, b->win[at], b->wspare, b->anc, b->nt);
         for (j = 0; j < N; j++)
             to[j] = ids[b->anc[j]];
         t = b->win[at];
         b->win[at] = b->wspare;
         b->wspare = t;
+    }
+}
+
+void sl_pfi_window_follow(const sl_pf_config *cfg, pf_buffers *b, size_t k, size_t filled,
+                          size_t cp, const uint32_t *anc)
+{
+    const size_t N = cfg->N;
+    const size_t L = window_lag(cfg, b, cp);
+    uint32_t *to = window_ids(cfg, b->wspare);
+    size_t s, j;
+    if (b->nwin == 0 || b->wids == 0)
+        return;
+    if (filled > L)
+        filled = L;
+    for (s = 1; s <= filled; s++) {
+        uint32_t *row = window_ids(cfg, b->win[(k - s) % b->nwin]) + cp * N;
+        for (j = 0; j < N; j++)
+            to[j] = row[anc[j]];
+        memcpy(row, to, N * sizeof(uint32_t));
     }
 }
 
@@ -2145,14 +2230,35 @@ sl_status sl_pf_run(const sl_pf_config *cfg, double *X, double *P, double *w,
         /* fixed-lag smoothing: the oldest cycle of the window has now seen
          * the observations up to this one; this cycle takes its slot; at
          * the end every cycle still in the window is recorded */
-        if (b.nwin > 0) {
+        if (b.nwin > 0 && b.wids == 0) {
             if (k >= b.nwin)
-                window_emit(cfg, &b, k - b.nwin, w, out);
-            window_store(cfg, &b, k, Xc, Zc);
+                window_emit(cfg, &b, k - b.nwin, w, out, -1);
+            window_store(cfg, &b, k, Xc, Zc, out);
             if (k + 1 == cfg->T) {
                 size_t s0 = k + 1 >= b.nwin ? k + 1 - b.nwin : 0, s1;
                 for (s1 = s0; s1 <= k; s1++)
-                    window_emit(cfg, &b, s1, w, out);
+                    window_emit(cfg, &b, s1, w, out, -1);
+            }
+        } else if (b.nwin > 0) {
+            /* the weakly coupled particle filter: component c's rows of
+             * cycle k - L_c, L_c its lag; those of the window's oldest
+             * cycle before this cycle takes its slot */
+            size_t c, L;
+            for (c = 0; c < b.wids; c++)
+                if ((L = window_lag(cfg, &b, c)) == b.nwin && k >= L)
+                    window_emit(cfg, &b, k - L, w, out, (long)c);
+            window_store(cfg, &b, k, Xc, Zc, out);
+            for (c = 0; c < b.wids; c++) {
+                size_t s0 = 0, s1;
+                L = window_lag(cfg, &b, c);
+                if (L < b.nwin && k >= L)
+                    window_emit(cfg, &b, k - L, w, out, (long)c);
+                if (k + 1 == cfg->T) {
+                    s0 = k + 1 >= L ? k + 1 - L : 0;
+                    for (s1 = s0; s1 <= k; s1++)
+                        if (!(L < b.nwin && s1 + L == k))
+                            window_emit(cfg, &b, s1, w, out, (long)c);
+                }
             }
         }
 

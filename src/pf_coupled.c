@@ -14,10 +14,16 @@ static sl_status weak_check(const sl_analysis *self, const sl_pf_config *cfg, sl
     const sl_forcing *f = &cfg->forcing;
     size_t i;
     (void)self;
-    if (cfg->inner > 0 || cfg->lag > 0 || cfg->temper.ess > 0)
+    if (cfg->inner > 0 || cfg->temper.ess > 0)
         return sl_fail(err, SL_EINVAL, "badcoupling",
-                       "the weakly coupled particle filter runs without SMC2, a lag or "
-                       "tempering");
+                       "the weakly coupled particle filter runs without SMC2 or tempering");
+    if (cfg->comp_lag != NULL)
+        for (i = 0; i < cfg->n_comp; i++)
+            if (cfg->comp_lag[i] > cfg->lag)
+                return sl_fail(err, SL_EINVAL, "badcoupling",
+                               "component %lu: a lag of %lu cycles, beyond the window's %lu",
+                               (unsigned long)(i + 1), (unsigned long)cfg->comp_lag[i],
+                               (unsigned long)cfg->lag);
     if (cfg->param_move != NULL &&
         (cfg->param_move->when == SL_MOVE_AT_RESAMPLE || cfg->param_move->replay ||
          cfg->param_move == &sl_param_move_liu_west))
@@ -100,6 +106,8 @@ static sl_status weak_component(sl_analysis_cycle *c, size_t cp, const double *X
                      b->anc, err);
     if (st != SL_OK)
         return st;
+    /* the component's rows of the fixed-lag window follow its ancestry */
+    sl_pfi_window_follow(cfg, b, c->k, c->nwin, cp, b->anc);
     for (j = 0; j < N; j++) {
         const size_t a = b->anc[j];
         for (i = 0; i < n; i++)

@@ -36,6 +36,12 @@ typedef struct sl_pfi_buffers {
      * summaries, the state positions of the augmented rows */
     double **win, *wspare, *wtmp, *spos;
     size_t nwin;
+    /* the weakly coupled particle filter's window: a slot's columns stay
+     * where they were stored and the slot holds wids (= n_comp) rows of
+     * N ids, one per component, naming the stored column each member's
+     * component descends from; 0: one row of ids and the columns move
+     * with the members */
+    size_t wids;
     double *wslot0;  /* the first window slot; slots lie wstride bytes apart */
     size_t wstride;
     size_t bytes;    /* the workspace's size */
@@ -115,6 +121,11 @@ void sl_pfi_summarise(const sl_pf_config *cfg, pf_buffers *b, const double *X,
 sl_status sl_pfi_summarise_derived(const sl_pf_config *cfg, pf_buffers *b, double t,
                                    const double *X, const double *P, const double *w,
                                    sl_pf_output *out, size_t k, sl_error *err);
+/* The weakly coupled particle filter resampled component cp at cycle k
+ * with ancestors anc: that component's ids in the window's slots of
+ * cycles k-1, k-2, ... (filled of them, at most its lag) follow (pf.c). */
+void sl_pfi_window_follow(const sl_pf_config *cfg, pf_buffers *b, size_t k, size_t filled,
+                          size_t cp, const uint32_t *anc);
 void sl_pfi_gather_cols(size_t rows, size_t N, const double *src, double *dst,
                         const uint32_t *anc, int threads);
 void sl_pfi_add_state_noise(const sl_pf_config *cfg, pf_buffers *b, double *X,

@@ -301,12 +301,20 @@ typedef struct {
      *   (streams (sl_fnv1a(seed, c), 0, cycle, SL_PURPOSE_RESAMPLE)), at
      *   every cycle where it has observations; the members are the
      *   recombined blocks, equally weighted. Forcing perturbations stay
-     *   with their member (white noise only: phi = 0). Not with SMC2, a
-     *   lag, tempering or a move at resampling (kernel, resample_move). */
+     *   with their member (white noise only: phi = 0). Not with SMC2,
+     *   tempering or a move at resampling (kernel, resample_move). With
+     *   a lag, each component's rows of the window follow that
+     *   component's own ancestry (its resampling indices; a joint
+     *   resampling, which replaces members whose state is not finite,
+     *   moves every component), and component c's rows of cycle s are
+     *   recorded given the observations up to cycle s + comp_lag[c]
+     *   (comp_lag NULL: lag for every component; each <= lag, the
+     *   window's length; the particle filter only). */
     int weak;
     size_t n_comp;
     const int *comp;
     const int *obs_comp;
+    const size_t *comp_lag;
 } sl_pf_config;
 
 /* What a run records; the caller allocates every array (sizes with
@@ -372,6 +380,11 @@ typedef struct {
                           * filter's analyses (strong and weak coupling) for
                           * the rows that are not missing; others left as
                           * they are; or NULL */
+    double *comp_sanc;   /* n_comp x T: sanc of each component's rows (weak
+                          * particle filter with a lag: the distinct
+                          * members of cycle s its rows descend from at
+                          * its own lag; sanc is then the fewest of
+                          * them), or NULL */
     double log_evidence; /* sum of logz */
     size_t steps;        /* model steps taken */
 } sl_pf_output;

@@ -105,7 +105,7 @@
 % equally weighted (so after an analysis the components are independent
 % in the ensemble; the model couples them again in the forecast). The
 % weak particle filter moves parameters by @code{'random_walk'} (the
-% default then) or not at all, and runs without @code{lag},
+% default then) or not at all, and runs without
 % @code{temper_ess}, @code{'smc2'} or forcing noise with an AR(1)
 % coefficient; the weighted ensemble Kalman filter runs strongly coupled
 % only (@code{sluice:filter:badcoupling}). An observation of a state or
@@ -124,7 +124,19 @@
 % resampling) and @code{log_evidence} is the sum of the components': the
 % evidence of the weakly coupled approximation (each component's
 % observations explained by that component alone), not of the coupled
-% model.
+% model. With @code{lag} the weak particle filter smooths each component
+% along its own ancestry: a component's rows of the window move with that
+% component's resampling only; @code{lag} may then be one number per
+% component (in the order of the model's @code{components}), component
+% c's rows of time s given the observations up to s + lag(c) (a long lag
+% for a sparsely observed component, a short one for a component
+% resampled every cycle, whose paths coalesce); the window is the
+% longest lag's. @code{coupling.smoothed_distinct} (n_comp x T) counts
+% each component's distinct ancestors, @code{smoothed.distinct} is the
+% fewest of them, and @code{sluice:filter:smoothcollapse} names the
+% components that coalesced. The ensemble Kalman smoother, weak, updates
+% each component's rows of the window by its own observations (one lag
+% for all).
 % @item obs_components
 % a struct naming the component of an observed quantity (field: the
 % observed name, value: the component's name), for weak coupling; it
@@ -343,7 +355,8 @@
 % (@code{sluice:filter:unknownstate}).
 % @item lag
 % fixed-lag smoothing over that many cycles (a whole number; default 0:
-% off; @code{Inf}: over the whole run). For every cycle s the run also
+% off; @code{Inf}: over the whole run; with @code{coupling} @code{'weak'}
+% and the particle filter also one per component, above). For every cycle s the run also
 % records the ensemble given the observations up to cycle s + lag:
 % the particle filter carries each member's recent past with it when it
 % resamples (the genealogy over the window) and weighs it with the

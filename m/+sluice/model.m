@@ -91,7 +91,14 @@
 % and a prior cannot move it). The level is in the flood
 % model's units of W, a in those units per (mm/d)^b. Options:
 % @code{'rating'}, [a b Q0], and @code{'year_length'}, days, set those
-% defaults.
+% defaults. A year whose largest flow stays at or below Q0 is no flood
+% (level 0): the river stayed below the bank, by design, not an error.
+% A curve outside its bounds (a < 0, b outside [0.1, 3], Q0 < 0, or
+% NaN) is refused wherever it enters: @code{'rating'} with
+% @code{sluice:model:badrating}, parameter values with
+% @code{sluice:<function>:badparams}, a prior whose support reaches
+% beyond the bounds (a normal prior of b, say) with
+% @code{sluice:<function>:badprior}.
 % @end table
 %
 % Options of compiled models and right-hand sides: @code{'integrator'}

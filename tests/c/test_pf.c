@@ -1672,9 +1672,31 @@ static void check_coupling(void)
     c = cfg;
     c.param_move = &sl_param_move_kernel;
     expect_fail(&c, SL_EINVAL, "badcoupling", "the weak particle filter with the kernel move");
-    c = cfg;
-    c.lag = 1;
-    expect_fail(&c, SL_EINVAL, "badcoupling", "the weak particle filter with a lag");
+    {
+        /* a lag for all, or one per component within the window */
+        const size_t lags[2] = {0, 1}, too_long[2] = {2, 1};
+        c = cfg;
+        c.lag = 1;
+        expect_ok(&c, "the weak particle filter with a lag");
+        c.comp_lag = lags;
+        expect_ok(&c, "the weak particle filter with a lag per component");
+        c.comp_lag = too_long;
+        expect_fail(&c, SL_EINVAL, "badcoupling", "a component's lag beyond the window's");
+    }
+    {
+        const size_t lags[2] = {0, 1};
+        sl_enkf_config e1;
+        memset(&e1, 0, sizeof e1);
+        e1.method = SL_ENKF_ETKF;
+        e1.inflation = 1.0;
+        e1.threads = 1;
+        c = cfg;
+        c.enkf = &e1;
+        c.lag = 1;
+        expect_ok(&c, "the weak ETKF with a lag");
+        c.comp_lag = lags;
+        expect_fail(&c, SL_EINVAL, "badcoupling", "the weak ETKF with a lag per component");
+    }
     c = cfg;
     c.wenkf = 1;
     expect_fail(&c, SL_EINVAL, "badcoupling", "the weighted ensemble Kalman filter, weak");

@@ -8,8 +8,9 @@
 % covariance by the Joseph form (valid for any gain: Bucy & Joseph 1968);
 % for the weakly coupled particle filter, the filter that updates each
 % block's marginal by its own observations and zeroes the cross-block
-% covariance after every analysis. Plus the bit-for-bit checks and the
-% errors a user can cause.
+% covariance after every analysis; for its fixed-lag smoother, that
+% filter on the state augmented with its past (kalman_coupled_lag.m).
+% Plus the bit-for-bit checks and the errors a user can cause.
 
 %!function [spec, pr, obs, A, Q, H, R, m0, P0, Y] = coupled_case (T, obs_x_only)
 %!  % x_k = A x_{k-1} + q: the blocks feed each other through A and Q; x
@@ -237,6 +238,143 @@
 %! assert (any (s.smoothed.states.mean(2, 1:2) ~= s.states.mean(2, 1:2)));
 
 %!test
+%! % the fixed-lag references (kalman_coupled_lag.m, the augmented-state
+%! % Kalman filter) checked against their own sources: 'strong' with a
+%! % lag reaching back to the first step is the RTS smoother of
+%! % kalman_rts.m (Rauch, Tung & Striebel 1965); 'weak_pf' with lag 0 is
+%! % kalman_coupled.m's weak_pf filter
+%! T = 8;
+%! [~, ~, ~, A, Q, H, R, m0, P0, Y] = coupled_case (T);
+%! [ms, Ps] = kalman_coupled_lag (A, Q, H, R, m0, P0, Y, [1 2], 'strong', T - 1);
+%! [mr, Pr] = kalman_rts (A, Q, H, R, m0, P0, Y);
+%! assert (ms, mr, 1e-12);
+%! assert (Ps, Pr, 1e-12);
+%! [mp, Pp] = kalman_coupled (A, Q, H, R, m0, P0, Y, [1 2], 'weak_pf');
+%! [m0l, P0l] = kalman_coupled_lag (A, Q, H, R, m0, P0, Y, [1 2], 'weak_pf', 0);
+%! assert (m0l, mp, 1e-12);
+%! assert (P0l, Pp, 1e-12);
+
+%!test
+%! % the weakly coupled particle filter's fixed-lag smoother: each block's
+%! % window rows follow its own ancestry, so block c's smoothed mean at s
+%! % is the block's slot of the weak_pf augmented-state filter at s + lag
+%! % (kalman_coupled_lag.m: Anderson & Moore 1979, sec. 7.3, with the
+%! % groups of block rows updated by their own observations and
+%! % independent after each analysis). Monte Carlo error of a smoothed
+%! % mean: sd / sqrt(n), n the fewer of the component's distinct
+%! % ancestors at s and its ESS at s (the smoothed members are copies of
+%! % at most that many independent ones: common practice); within 5 of
+%! % them, while the filtered and the strongly coupled smoothed means lie
+%! % many of them away. One lag for both blocks, and one per block.
+%! T = 8; N = 100000;
+%! [spec, pr, obs, A, Q, H, R, m0, P0, Y] = coupled_case (T);
+%! mf = kalman_coupled (A, Q, H, R, m0, P0, Y, [1 2], 'weak_pf');
+%! for lag = {2, [1 3]}
+%!   r = sluice.filter (spec, pr, obs, 'members', N, 'seed', 6, 't0', 0, 'progress', false, ...
+%!                      'coupling', 'weak', 'lag', lag{1});
+%!   [mw, Pw] = kalman_coupled_lag (A, Q, H, R, m0, P0, Y, [1 2], 'weak_pf', lag{1});
+%!   ms = kalman_coupled_lag (A, Q, H, R, m0, P0, Y, [1 2], 'strong', lag{1});
+%!   sd = sqrt ([squeeze(Pw(1, 1, :))'; squeeze(Pw(2, 2, :))']);
+%!   ne = min (r.coupling.smoothed_distinct, r.coupling.ess);
+%!   se = sd ./ sqrt (ne);
+%!   err = abs (r.smoothed.states.mean - mw) ./ se;
+%!   assert (all (err(:) <= 5), 'lag %s: off by %g standard errors', mat2str (lag{1}), max (err(:)));
+%!   % the smoothed means are not the filtered ones (nor the strong smoother's)
+%!   assert (max (abs (mw(:) - mf(:)) ./ se(:)) > 20);
+%!   assert (max (abs (mw(:) - ms(:)) ./ se(:)) > 20);
+%!   assert (r.smoothed.distinct, min (r.coupling.smoothed_distinct, [], 1));
+%!   % the last time is smoothed by nothing more: its filtered value
+%!   assert (r.smoothed.states.mean(:, end), r.states.mean(:, end));
+%! end
+
+%!test
+%! % one lag per component, bit for bit: each component's smoothed rows
+%! % are those of the run with its lag for every component (the same
+%! % draws: a component's window rows follow its own resampling alone);
+%! % lag 0 is the filtered estimate itself
+%! [spec, pr, obs] = coupled_case (10);
+%! o = {'members', 400, 'seed', 12, 't0', 0, 'progress', false, 'coupling', 'weak'};
+%! a = sluice.filter (spec, pr, obs, o{:}, 'lag', [1 4]);
+%! b1 = sluice.filter (spec, pr, obs, o{:}, 'lag', 1);
+%! b4 = sluice.filter (spec, pr, obs, o{:}, 'lag', 4);
+%! assert (a.smoothed.states.mean(1, :), b1.smoothed.states.mean(1, :));
+%! assert (a.smoothed.states.quantiles(1, :, :), b1.smoothed.states.quantiles(1, :, :));
+%! assert (a.smoothed.states.mean(2, :), b4.smoothed.states.mean(2, :));
+%! assert (a.coupling.smoothed_distinct(1, :), b1.coupling.smoothed_distinct(1, :));
+%! assert (a.coupling.smoothed_distinct(2, :), b4.coupling.smoothed_distinct(2, :));
+%! assert (a.states.mean, b1.states.mean);
+%! assert (a.smoothed.lag, [1 4]);
+%! z = sluice.filter (spec, pr, obs, o{:}, 'lag', [0 2]);
+%! assert (z.smoothed.states.mean(1, :), z.states.mean(1, :));
+%! assert (z.smoothed.states.quantiles(1, :, :), z.states.quantiles(1, :, :));
+%! assert (z.coupling.smoothed_distinct(1, :), 400 * ones (1, 10));
+%! assert (any (z.smoothed.states.mean(2, :) ~= z.states.mean(2, :)));
+%! % every lag 0: no smoother, as lag 0
+%! assert (~isfield (sluice.filter (spec, pr, obs, o{:}, 'lag', [0 0]), 'smoothed'));
+%! % and through a checkpoint, the window's ids of every component too
+%! f = [tempname() '.ck'];
+%! c1 = sluice.filter (spec, pr, obs, o{:}, 'lag', [1 4], 'checkpoint', f, 'checkpoint_every', 3);
+%! c2 = sluice.filter (spec, pr, obs, o{:}, 'lag', [1 4], 'checkpoint', f, 'checkpoint_every', 3);
+%! delete (f);
+%! assert (c1.smoothed, a.smoothed);
+%! assert (c2.smoothed, a.smoothed);
+%! assert (c2.coupling, a.coupling);
+
+%!test
+%! % coupling switched off (A, Q and the prior block diagonal): the weak
+%! % smoother of each block is that block's own particle-filter smoother
+%! % run alone. Not bit for bit: the weak run resamples component c from
+%! % the stream of sl_fnv1a(seed, c), the run alone from seed's, and the
+%! % joint model draws its noise as a 2-vector (y's from the member's
+%! % second draw), so the two are independent Monte Carlo estimates of
+%! % the same smoothed means: within 5 standard errors of their
+%! % difference, and each within 5 of the exact fixed-lag smoother of
+%! % the block alone (kalman_coupled_lag.m 'strong' on that block)
+%! T = 8; N = 50000; L = 2;
+%! [~, ~, ~, ~, ~, H, R, m0, P0, Y] = coupled_case (T);
+%! A = diag ([0.7 0.6]); Q = diag ([0.5 0.4]);
+%! names = {'x', 'y'};
+%! spec = sluice.model ('linear', 'A', A, 'Q', Q, 'states', names, ...
+%!                      'components', {'cx', {'x'}, 'cy', {'y'}});
+%! pr = sluice.prior ('x', 'normal', [0.5 1], 'y', 'normal', [-0.3 sqrt(0.8)]);
+%! obs = struct ('time', kron ((1:T)', [1; 1]), 'variable', {repmat(names', T, 1)}, ...
+%!               'value', Y(:), 'sigma', repmat (sqrt (diag (R)), T, 1));
+%! o = {'members', N, 't0', 0, 'progress', false, 'lag', L};
+%! w = sluice.filter (spec, pr, obs, o{:}, 'seed', 21, 'coupling', 'weak');
+%! for i = 1:2
+%!   one = sluice.model ('linear', 'A', A(i, i), 'Q', Q(i, i), 'states', names(i));
+%!   sel = strcmp (obs.variable, names{i});
+%!   ob = struct ('time', obs.time(sel), 'variable', {obs.variable(sel)}, ...
+%!                'value', obs.value(sel), 'sigma', obs.sigma(sel));
+%!   a = sluice.filter (one, pr(i), ob, o{:}, 'seed', 22);
+%!   [me, Pe] = kalman_coupled_lag (A(i, i), Q(i, i), 1, R(i, i), m0(i), P0(i, i), Y(i, :), ...
+%!                                  1, 'strong', L);
+%!   sd = sqrt (squeeze (Pe)');
+%!   sw = sd ./ sqrt (min (w.coupling.smoothed_distinct(i, :), w.coupling.ess(i, :)));
+%!   sa = sd ./ sqrt (min (a.smoothed.distinct, a.ess));
+%!   d = w.smoothed.states.mean(i, :) - a.smoothed.states.mean;
+%!   assert (all (abs (d) <= 5 * sqrt (sw .^ 2 + sa .^ 2)));
+%!   assert (all (abs (w.smoothed.states.mean(i, :) - me) <= 5 * sw));
+%!   assert (all (abs (a.smoothed.states.mean - me) <= 5 * sa));
+%! end
+
+%!test
+%! % path degeneracy, component by component: a block observed precisely
+%! % and smoothed over a long lag coalesces onto a few members, and the
+%! % warning names it; the other, at lag 0, does not
+%! T = 40;
+%! [spec, pr, obs] = coupled_case (T);
+%! obs.sigma(2:2:end) = 0.05;
+%! o = {'members', 60, 'seed', 3, 't0', 0, 'progress', false, 'coupling', 'weak'};
+%! lastwarn ('');
+%! r = sluice.filter (spec, pr, obs, o{:}, 'lag', [0 30]);
+%! [msg, id] = lastwarn ();
+%! assert (id, 'sluice:filter:smoothcollapse');
+%! assert (~isempty (strfind (msg, 'component cy')), msg);
+%! assert (all (r.coupling.smoothed_distinct(1, :) == 60));
+%! assert (min (r.coupling.smoothed_distinct(2, :)) < 20);
+
+%!test
 %! % operators: a linear row on one block belongs to that block; a row
 %! % over both, or a function, needs obs_components; then it runs
 %! [spec, pr, obs] = coupled_case (3);
@@ -316,11 +454,16 @@
 %! r = sluice.kernel.pf_run (c);
 %! assert (size (r.comp_ess), [2 2]);
 %! assert (isnan (r.comp_ess(2, 1)));
+%! % (the components' own lags: whole numbers, one per component, none
+%! % beyond the window's lag)
 %! bad = {{'comp', [0; 2]}, {'comp', [0; 0.5]}, {'comp', [0; NaN]}, {'obs_comp', -1}, ...
-%!        {'obs_comp', 2}, {'comp', 0}};
-%! why = {'badcoupling', 'badcoupling', 'nonfinite', 'badcoupling', 'badcoupling', 'badsize'};
+%!        {'obs_comp', 2}, {'comp', 0}, {'comp_lag', [0; 2]}, {'comp_lag', [0; 0.5]}, ...
+%!        {'comp_lag', [0; 1; 1]}};
+%! why = {'badcoupling', 'badcoupling', 'nonfinite', 'badcoupling', 'badcoupling', 'badsize', ...
+%!        'badcoupling', 'badcoupling', 'badsize'};
 %! for k = 1:numel (bad)
 %!   b = c;
+%!   b.lag = 1;
 %!   b.(bad{k}{1}) = bad{k}{2};
 %!   try
 %!     sluice.kernel.pf_run (b);
@@ -366,7 +509,11 @@
 %!error id=sluice:filter:nocomponents sluice.filter (sluice.model ('linear', 'A', eye (2), 'states', {'x', 'y'}), pr, obs, o{:}, 'coupling', 'weak')
 %!error id=sluice:filter:badcoupling sluice.filter (spec, pr, obs, o{:}, 'coupling', 'weak', 'method', 'etkf', 'adaptive_inflation', true)
 %!error id=sluice:filter:badcoupling sluice.filter (spec, pr, obs, o{:}, 'coupling', 'weak', 'method', 'wenkf', 'state_noise', 0.1)
-%!error id=sluice:filter:badcoupling sluice.filter (spec, pr, obs, o{:}, 'coupling', 'weak', 'lag', 2)
+%!error id=sluice:filter:badoption sluice.filter (spec, pr, obs, o{:}, 'lag', [1 2])
+%!error id=sluice:filter:badoption sluice.filter (spec, pr, obs, o{:}, 'coupling', 'weak', 'lag', [1 2 3])
+%!error id=sluice:filter:badoption sluice.filter (spec, pr, obs, o{:}, 'coupling', 'weak', 'lag', [1 2], 'method', 'etkf')
+%!error id=sluice:filter:badoption sluice.filter (spec, pr, obs, o{:}, 'coupling', 'weak', 'lag', [1 -2])
+%!error id=sluice:filter:badoption sluice.filter (spec, pr, obs, o{:}, 'coupling', 'weak', 'lag', [1 1.5])
 %!error id=sluice:filter:badcoupling sluice.filter (spec, pr, obs, o{:}, 'coupling', 'weak', 'temper_ess', 0.5)
 %!error id=sluice:filter:badcoupling sluice.filter (spec, pr, obs, o{:}, 'coupling', 'weak', 'param_move', 'kernel')
 %!error id=sluice:filter:badcoupling sluice.filter (spec, pr, obs, o{:}, 'coupling', 'weak', 'param_move', 'smc2')

@@ -138,6 +138,29 @@
 %! assert (isfield (res, 'smoothed'));
 
 %!test
+%! % the weakly coupled particle filter's lag window: its slots hold a row
+%! % of N 4-byte ancestor indices per component (each component's rows
+%! % follow that component's own ancestry), so lag + 1 slots of (n + p) x
+%! % N doubles and n_comp x N indices, the summary buffer, the slot
+%! % pointers, the smoothed records and the components' distinct
+%! % ancestors n_comp x T (pf.h); two states, two components, the
+%! % components' own lags within the window's
+%! N = 512; T = 20; L = 12;
+%! spec_w = sluice.model (@stoppable, 'states', {'x', 'y'}, 'x0', [1; 1], ...
+%!                        'components', {'cx', {'x'}, 'cy', {'y'}});
+%! ow = [o, {'coupling', 'weak', 'members', N}];
+%! B0 = boundary (@() sluice.filter (spec_w, [], obs, ow{:}));
+%! [B, msg, res] = boundary (@() sluice.filter (spec_w, [], obs, ow{:}, 'lag', L));
+%! check_named (msg, 'lag window', 'lag');
+%! need = 64 * ceil (8 * (L + 1) / 64) + (L + 1) * (8 * 2 + 4 * 2) * N + 8 * 2 * N + ...
+%!        8 * (2 * (3 + 1) + 1) * T + 8 * 2 * T;
+%! assert (B - B0, need);
+%! assert (size (res.coupling.smoothed_distinct), [2 T]);
+%! % one lag per component: the window is the longest's, the same bytes
+%! B2 = boundary (@() sluice.filter (spec_w, [], obs, ow{:}, 'lag', [3 L]));
+%! assert (B2, B);
+
+%!test
 %! % the ETKF with as many observations at a time as members works with
 %! % two N x N matrices (8 N^2 bytes each)
 %! N = 120;

@@ -1,6 +1,8 @@
 % The reanalysis output of the coupled model river_town: the demo
 % demos/demo_lowmarsh_reanalysis.m at its reduced size (6 years, 60
-% members) writes the filtered trajectories of its weakly coupled run as CSV and as NetCDF through
+% members) writes the smoothed trajectories of its weakly coupled run
+% (a fixed-lag smoother with a lag per component) with their bands, and
+% the filtered ones beside them, as CSV and as NetCDF through
 % sluice.save_run. The NetCDF file is read back with Octave's netcdf
 % package (its low-level netcdf_* functions) and, where installed, with the
 % NetCDF library's own ncdump, and checked against the CF conventions
@@ -51,7 +53,8 @@
 
 %!test
 %! % the files the demo says it writes are there
-%! for f = {'reanalysis_states.csv', 'reanalysis_params.csv', 'reanalysis.nc', 'flows.png', ...
+%! for f = {'reanalysis_states.csv', 'reanalysis_params.csv', 'filtered_states.csv', ...
+%!          'filtered_params.csv', 'reanalysis.nc', 'flows.png', ...
 %!          'levels.png', 'population.png', 'memory.png', 'levee.png', 'params.png'}
 %!   assert (exist (fullfile (out, f{1}), 'file'), 2, f{1});
 %! end
@@ -63,11 +66,28 @@
 %! % the visible states only: GR4J's queues and the day counter left out
 %! assert (res.state_names, {'S', 'R', 'Q', 'G', 'D', 'H', 'M', 'F', 'R_levee', 'Qmax', 'level'});
 %! assert (res.param_names, {'X1', 'a', 'muS'});
+%! % smoothed, a lag per component (river, town): the town's the
+%! % questionnaire's interval (2 years at this size); the smoothed
+%! % summaries hold every visible state and parameter at every time, the
+%! % last time's equal to the filtered ones (nothing comes after it), the
+%! % town's differ from the filtered ones before its observations
+%! assert (res.smoothed.method, 'fixed_lag');
+%! assert (res.smoothed.lag, [30 730]);
+%! assert (info.lag, [30 730]);
+%! assert (size (res.smoothed.states.quantiles), size (res.states.quantiles));
+%! assert (all (isfinite (res.smoothed.states.quantiles(:))));
+%! assert (all (isfinite (res.smoothed.params.quantiles(:))));
+%! assert (res.smoothed.states.quantiles(:, :, end), res.states.quantiles(:, :, end));
+%! iM = strcmp (res.state_names, 'M');
+%! assert (any (res.smoothed.states.mean(iM, :) ~= res.states.mean(iM, :)));
+%! assert (size (res.coupling.smoothed_distinct), [2 numel(res.times)]);
+%! assert (res.smoothed.distinct, min (res.coupling.smoothed_distinct, [], 1));
+%! % the coverage of the truth the demo prints: smoothed and filtered
+%! assert (all (isfield (info.coverage, {'G', 'M', 'H', 'Q', 'level'})));
 
 %!test
 %! % the NetCDF file through the netcdf package's low-level functions (netcdf_*):
-%! % every filtered summary equal to the bit (the weakly coupled run has
-%! % no smoother, so the file holds no smoothed summaries)
+%! % every smoothed and filtered summary equal to the bit
 %! ncid = netcdf_open (nc, 'NC_NOWRITE');
 %! unwind_protect
 %!   get = @(name) netcdf_getVar (ncid, netcdf_inqVarID (ncid, name));
@@ -75,8 +95,24 @@
 %!   assert (isequal (typecast (t(:), 'uint64'), typecast (res.times(:), 'uint64')));
 %!   lv = get ('quantile');
 %!   assert (lv(:)', res.quantile_levels);
-%!   assert (~isfield (res, 'smoothed'));
 %!   assert (res.coupling.mode, 'weak');
+%!   sm = res.smoothed;
+%!   for k = 1:numel (res.state_names)
+%!     s = res.state_names{k};
+%!     m = get ([s '_smoothed_mean']);
+%!     assert (isequal (typecast (m(:), 'uint64'), typecast (sm.states.mean(k, :)', 'uint64')), s);
+%!     q = get ([s '_smoothed_quantiles']);
+%!     want = squeeze (sm.states.quantiles(k, :, :));
+%!     assert (isequal (typecast (q(:), 'uint64'), typecast (want(:), 'uint64')), s);
+%!   end
+%!   for k = 1:numel (res.param_names)
+%!     p = res.param_names{k};
+%!     q = get ([p '_smoothed_quantiles']);
+%!     want = squeeze (sm.params.quantiles(k, :, :));
+%!     assert (isequal (typecast (q(:), 'uint64'), typecast (want(:), 'uint64')), p);
+%!   end
+%!   d = get ('smoothed_distinct');
+%!   assert (d(:)', sm.distinct);
 %!   for k = 1:numel (res.state_names)
 %!     s = res.state_names{k};
 %!     m = get ([s '_mean']);
@@ -123,6 +159,10 @@
 %!                              'Q (river flow at the town gauge')));
 %!   assert (netcdf_getAtt (ncid, netcdf_inqVarID (ncid, 'H_quantiles'), 'units'), 'm');
 %!   assert (netcdf_getAtt (ncid, netcdf_inqVarID (ncid, 'X1_mean'), 'units'), 'mm');
+%!   % the smoothed variables: the state's units, a long name saying so
+%!   gid = netcdf_inqVarID (ncid, 'G_smoothed_quantiles');
+%!   assert (netcdf_getAtt (ncid, gid, 'units'), '1');
+%!   assert (~isempty (strfind (netcdf_getAtt (ncid, gid, 'long_name'), 'smoothed')));
 %! unwind_protect_cleanup
 %!   netcdf_close (ncid);
 %! end_unwind_protect
@@ -155,8 +195,18 @@
 
 %!test
 %! % the CSV tables: the header names every column; each number equals
-%! % the result's at the printed precision (10 significant digits)
-%! f = fullfile (out, 'reanalysis_states.csv');
+%! % the result's at the printed precision (10 significant digits): the
+%! % reanalysis files the smoothed summaries, the filtered files the
+%! % filtered ones
+%! for part = {'reanalysis', 'filtered'}
+%! if (strcmp (part{1}, 'reanalysis'))
+%!   S = res.smoothed.states;
+%!   Pm = res.smoothed.params;
+%! else
+%!   S = res.states;
+%!   Pm = res.params;
+%! end
+%! f = fullfile (out, [part{1} '_states.csv']);
 %! lines = strsplit (strtrim (fileread (f)), char (10));
 %! head = strsplit (lines{1}, ',');
 %! assert (head(1:6), {'time', 'date', 'S_mean', 'S_q05', 'S_q50', 'S_q95'});
@@ -173,19 +223,20 @@
 %! for k = 1:numel (res.state_names)
 %!   s = res.state_names{k};
 %!   c = 2 + 4 * (k - 1);
-%!   assert (isequal (str2double (cells(:, c + 1)), printed (res.states.mean(k, :))), s);
+%!   assert (isequal (str2double (cells(:, c + 1)), printed (S.mean(k, :))), s);
 %!   for j = 1:3
 %!     assert (isequal (str2double (cells(:, c + 1 + j)), ...
-%!                      printed (res.states.quantiles(k, j, :))), s);
+%!                      printed (S.quantiles(k, j, :))), s);
 %!   end
 %! end
-%! lines = strsplit (strtrim (fileread (fullfile (out, 'reanalysis_params.csv'))), char (10));
+%! lines = strsplit (strtrim (fileread (fullfile (out, [part{1} '_params.csv']))), char (10));
 %! assert (lines{1}, ['time,date,X1_mean,X1_q05,X1_q50,X1_q95,a_mean,a_q05,a_q50,a_q95,', ...
 %!                    'muS_mean,muS_q05,muS_q50,muS_q95']);
 %! cells = cellfun (@(l) strsplit (l, ','), lines(2:end), 'UniformOutput', false);
 %! cells = vertcat (cells{:});
-%! assert (isequal (str2double (cells(:, 3)), printed (res.params.mean(1, :))));
-%! assert (isequal (str2double (cells(:, 14)), printed (res.params.quantiles(3, 3, :))));
+%! assert (isequal (str2double (cells(:, 3)), printed (Pm.mean(1, :))));
+%! assert (isequal (str2double (cells(:, 14)), printed (Pm.quantiles(3, 3, :))));
+%! end
 
 %!test
 %! % a target that cannot be written: a clear error and nothing at the

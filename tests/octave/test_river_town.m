@@ -119,6 +119,20 @@
 %! assert (all (isfinite (r.final.X(:))));
 
 %!error id=sluice:model:badrating sluice.model ('river_town', 'rating', [0.4 0.6 5 1])
+% a rating curve that is not defined (b <= 0, a < 0, Q0 < 0, NaN), as
+% the option, as parameter values and as a prior whose support allows
+% it: refused with a clear error each (a year at or below Q0 is no
+% flood by design: the tests above)
+%!error <b = 0 lies outside> sluice.model ('river_town', 'rating', [0.4 0 5])
+%!error id=sluice:model:badrating sluice.model ('river_town', 'rating', [0.4 -0.5 5])
+%!error <a = -0.1 lies outside> sluice.model ('river_town', 'rating', [-0.1 0.6 5])
+%!error <Q0 = -1 lies outside> sluice.model ('river_town', 'rating', [0.4 0.6 -1])
+%!error id=sluice:model:nonfinite sluice.model ('river_town', 'rating', [0.4 NaN 5])
+%!error id=sluice:simulate:badparams sluice.simulate (sluice.model ('river_town'), [], [s.defaults(1:15); 0; 5; 365], 0:3, struct ('time', (0:3)', 'values', ones (4, 2)))
+%!error id=sluice:simulate:badparams sluice.simulate (sluice.model ('river_town'), [], [s.defaults(1:16); -2; 365], 0:3, struct ('time', (0:3)', 'values', ones (4, 2)))
+%!error <prior of 'b' allows> sluice.filter (sluice.model ('river_town'), sluice.prior ('b', 'normal', [0.6 0.2]), struct ('time', 1, 'variable', {{'Q'}}, 'value', 1, 'sigma', 1), 'forcing', struct ('time', (0:3)', 'values', ones (4, 2)))
+%!error id=sluice:filter:badprior sluice.filter (sluice.model ('river_town'), sluice.prior ('a', 'uniform', [-0.5 1]), struct ('time', 1, 'variable', {{'Q'}}, 'value', 1, 'sigma', 1), 'forcing', struct ('time', (0:3)', 'values', ones (4, 2)))
+%!error id=sluice:filter:badprior sluice.filter (sluice.model ('river_town'), sluice.prior ('Q0', 'normal', [5 1]), struct ('time', 1, 'variable', {{'Q'}}, 'value', 1, 'sigma', 1), 'forcing', struct ('time', (0:3)', 'values', ones (4, 2)))
 %!error id=sluice:model:badyear sluice.model ('river_town', 'year_length', 365.5)
 %!error id=sluice:simulate:badparams sluice.simulate (sluice.model ('river_town'), [], [s.defaults(1:17); 365.5], 0:3, struct ('time', (0:3)', 'values', ones (4, 2)))
 %!error id=sluice:simulate:badparams sluice.simulate (sluice.model ('river_town'), [], [s.defaults(1:14); -0.1; 0.6; 5; 365], 0:3, struct ('time', (0:3)', 'values', ones (4, 2)))

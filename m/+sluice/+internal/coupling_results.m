@@ -26,5 +26,11 @@ function res = coupling_results (res, r, c, model)
     res.log_evidence_steps = sum (r.comp_logz, 1);
     res.log_evidence = sum (res.log_evidence_steps);
   end
+  if (isfield (r, 'comp_smooth_distinct') && isfield (res, 'smoothed'))
+    % the fixed-lag smoother, component by component: the distinct
+    % members of each smoothed time that each component's rows descend
+    % from at its own lag (res.smoothed.distinct: the fewest of them)
+    cp.smoothed_distinct = r.comp_smooth_distinct;
+  end
   res.coupling = cp;
 end

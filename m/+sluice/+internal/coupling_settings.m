@@ -9,8 +9,10 @@ function c = coupling_settings (c, opts, model, tab, ops, fn)
   % components), to the component the option obs_components names for it
   % (a struct: field = the observed name, value = the component's name).
   % (With the particle filter, param_move 'auto' is then a random walk:
-  % the compiled run's choice.)
+  % the compiled run's choice.) A lag with one entry per component (the
+  % particle filter only) becomes c.comp_lag, each at most c.lag.
   % Errors: sluice:<fn>:badcoupling (the option's value),
+  % sluice:<fn>:badoption (a lag per component where it cannot be),
   % sluice:<fn>:nocomponents (a model without components),
   % sluice:<fn>:obscomponent (an observation whose component is unknown).
   cp = opts.coupling;
@@ -23,7 +25,12 @@ function c = coupling_settings (c, opts, model, tab, ops, fn)
            'obs_components must be a struct (observed name: component name), got %s', ...
            class (oc));
   end
+  lag = opts.lag;
   if (strcmp (cp, 'strong'))
+    if (~isscalar (lag))
+      error (['sluice:' fn ':badoption'], ...
+             'lag: one lag per component needs coupling ''weak'' (got %d lags)', numel (lag));
+    end
     return;
   end
   if (~isfield (model, 'components') || isempty (model.components))
@@ -83,6 +90,18 @@ function c = coupling_settings (c, opts, model, tab, ops, fn)
   c.n_comp = numel (names);
   c.comp = comp - 1;
   c.obs_comp = obs_comp - 1;
+  if (~isscalar (lag))
+    % each component smoothed at its own lag: the particle filter's (its
+    % window's rows follow each component's own ancestry); the ensemble
+    % Kalman smoother updates the whole window at once
+    if (numel (lag) ~= c.n_comp || ~strcmp (opts.method, 'pf'))
+      error (['sluice:' fn ':badoption'], ...
+             ['lag: one lag per component (%d: %s) with the particle filter, ', ...
+              'or one lag for all; got %d lags with method ''%s'''], c.n_comp, ...
+             strjoin (names, ', '), numel (lag), opts.method);
+    end
+    c.comp_lag = min (lag(:), c.lag);
+  end
 end
 
 function t = ifelse_text (cond, a, b)

@@ -177,7 +177,7 @@ function R = prepare (model, prior, obs, opts, fn)
   c.threads = opts.threads;
   c.probs = opts.quantiles;
   c.history = double (opts.history);
-  c.lag = min (opts.lag, T);
+  c.lag = min (max (opts.lag), T);
   c.progress = opts.progress;
   c.X0 = X0;
   c.P0 = P0;
@@ -300,7 +300,7 @@ function res = execute (R)
     res.floored = r.floored;
   end
   res.final = struct ('X', r.X, 'P', r.P, 'w', r.w);
-  if (opts.lag > 0)
+  if (any (opts.lag > 0))
     meth = 'enks';
     if (strcmp (opts.method, 'pf'))
       meth = 'fixed_lag';
@@ -626,12 +626,25 @@ function warn_diversity (res, P0, lower, upper, obs_value, cyc)
       isfield (res.smoothed, 'distinct') && ~isempty (res.smoothed.distinct))
     % path degeneracy of the fixed-lag smoother: the members at the end of
     % the window descend from a few of the members of the time smoothed
+    % (weakly coupled: component by component, each at its own lag;
+    % res.smoothed.distinct is then the fewest of the components)
     a = res.smoothed.distinct;
+    who = '';
+    if (isfield (res, 'coupling') && isfield (res.coupling, 'smoothed_distinct'))
+      A = res.coupling.smoothed_distinct;
+      limit = min (L.smooth_ancestors, L.smooth_fraction * N);
+      bad = sum (A < limit, 2)' > L.smooth_share * size (A, 2);
+      if (any (bad))
+        a = A(find (bad, 1), :);
+        who = sprintf (' (component%s %s; res.coupling.smoothed_distinct)', ...
+                       ifelse_s (sum (bad) > 1), strjoin (res.coupling.components(bad), ', '));
+      end
+    end
     limit = min (L.smooth_ancestors, L.smooth_fraction * N);
     few = a < limit;
     if (sum (few) > L.smooth_share * numel (a))
       warning ('sluice:filter:smoothcollapse', ...
-               ['the fixed-lag smoother''s paths coalesced: at %d of %d smoothed times ', ...
+               ['the fixed-lag smoother''s paths coalesced%s: at %d of %d smoothed times ', ...
                 '(%.0f%%) the %d members descended from fewer than %g distinct members of ', ...
                 'the time smoothed (fewest %d, median %g; res.smoothed.distinct). The ', ...
                 'smoothed quantiles come from those few ancestors'' paths: the smoothed ', ...
@@ -639,7 +652,7 @@ function warn_diversity (res, P0, lower, upper, obs_value, cyc)
                 'shorter ''lag'', more ''members'', forcing or state noise or a ''param_move'' ', ...
                 'that keeps the members diverse, or an ensemble Kalman smoother ', ...
                 '(''method'' ''etkf'' with ''lag'')'], ...
-               sum (few), numel (a), 100 * sum (few) / numel (a), N, limit, min (a), ...
+               who, sum (few), numel (a), 100 * sum (few) / numel (a), N, limit, min (a), ...
                median (a));
     end
   end
@@ -958,9 +971,12 @@ function opts = check_options (opts, g, fn)
   end
   if (g.lag)
     lag = opts.lag;
-    if (~isa (lag, 'double') || ~isreal (lag) || ~isscalar (lag) || isnan (lag) || ...
-        lag < 0 || (isfinite (lag) && lag ~= fix (lag)))
-      error (['sluice:' fn ':badoption'], 'lag must be a whole number of cycles >= 0, or Inf');
+    % (a vector: one lag per component, weak coupling only, checked
+    % with the components by coupling_settings)
+    if (~isa (lag, 'double') || ~isreal (lag) || isempty (lag) || ~isvector (lag) || ...
+        any (isnan (lag)) || any (lag < 0) || any (isfinite (lag) & lag ~= fix (lag)))
+      error (['sluice:' fn ':badoption'], ...
+             'lag must be a whole number of cycles >= 0, or Inf (or one per component)');
     end
   end
   if (g.threads)
@@ -1284,5 +1300,12 @@ function pdist = prior_entry (pdist, ip, pr)
   if (numel (a) >= 4)
     pdist.lo(ip) = a(3);
     pdist.hi(ip) = a(4);
+  end
+end
+
+function t = ifelse_s (plural)
+  t = '';
+  if (plural)
+    t = 's';
   end
 end
