@@ -28,9 +28,16 @@ typedef struct {
 
 /* What one thread owns: its matrices and its tallies. */
 typedef struct {
-    double *A;    /* N x N: the ensemble-space matrix, then the transform */
-    double *Q;    /* N x N: its eigenvectors */
+    double *A;    /* N x N: the ensemble-space matrix, then the transform
+                   * (observation space: S S', then S' U) */
+    double *Q;    /* N x N: its eigenvectors (observation space: U) */
+    double *Z;    /* N x N: S' of the observation-space form, column by
+                   * column (at most N - 1 columns) */
     double *lam, *e, *beta, *c, *t, *xp;
+    double *kw;   /* N: weights g / r of the local observations held back */
+    size_t *kidx; /* N: and their indices */
+    size_t nloc;  /* local observations so far */
+    int direct;   /* 1: they have gone into A (N or more of them) */
     size_t floored, skipped;
     size_t fail_group; /* SIZE_MAX: no failure */
     int fail_info;     /* 1 + eigenvalue that did not converge; 0: not finite */
@@ -67,22 +74,26 @@ static size_t layout(size_t nthr, size_t n, size_t N, size_t m,
     sl_ws_carve(base, &off, (n + 1) * sizeof(size_t), (void **)&b->gstart);
     sl_ws_carve(base, &off, nthr * sizeof(slice), (void **)&b->sl);
     for (t = 0; t < nthr; t++) {
-        double *p[8];
-        size_t q;
-        sl_ws_carve(base, &off, N * N * sizeof(double), (void **)&p[0]);
-        sl_ws_carve(base, &off, N * N * sizeof(double), (void **)&p[1]);
-        for (q = 2; q < 8; q++)
+        double *p[10];
+        size_t *ki, q;
+        for (q = 0; q < 3; q++)
+            sl_ws_carve(base, &off, N * N * sizeof(double), (void **)&p[q]);
+        for (q = 3; q < 10; q++)
             sl_ws_carve(base, &off, N * sizeof(double), (void **)&p[q]);
+        sl_ws_carve(base, &off, N * sizeof(size_t), (void **)&ki);
         if (base != NULL) {
             slice *s = &b->sl[t];
             s->A = p[0];
             s->Q = p[1];
-            s->lam = p[2];
-            s->e = p[3];
-            s->beta = p[4];
-            s->c = p[5];
-            s->t = p[6];
-            s->xp = p[7];
+            s->Z = p[2];
+            s->lam = p[3];
+            s->e = p[4];
+            s->beta = p[5];
+            s->c = p[6];
+            s->t = p[7];
+            s->xp = p[8];
+            s->kw = p[9];
+            s->kidx = ki;
         }
     }
     /* a trailing cache line keeps the last slice apart from whatever
@@ -183,6 +194,11 @@ static int sym_eigen(size_t n, double *A, double *Q, double *lam, double *e,
     size_t i, j, k, l;
     double amax = 0.0, scale = 1.0;
 
+    if (n == 1) {
+        lam[0] = A[0];
+        Q[0] = 1.0;
+        return 0;
+    }
     /* scale by a power of two (exact) so that no square overflows */
     for (i = 0; i < n * n; i++)
         if (fabs(A[i]) > amax)
@@ -339,8 +355,8 @@ typedef struct {
 
 /* Add one observation with inverse error variance rinv and innovation dk
  * to the upper triangle of A and to c = C d. */
-static void add_obs(size_t N, double *A, double *c, const double *yk,
-                    double rinv, double dk)
+static void add_obs(size_t N, double *restrict A, double *restrict c,
+                    const double *restrict yk, double rinv, double dk)
 {
     size_t a, b;
     double rd = rinv * dk;
@@ -353,15 +369,41 @@ static void add_obs(size_t N, double *A, double *c, const double *yk,
     }
 }
 
-/* Add the observations that reach pos among the sorted ones from j0 on
- * (up to the key key_hi if bounded); returns how many. */
-static size_t add_range(const run_ctx *cx, slice *s, const double *pos,
-                        size_t j0, double key_hi, int bounded)
+/* Take local observation k with weight rinv = g / r_k: the first N - 1
+ * are held back (an analysis with fewer observations than members works
+ * in observation space); the N-th sends them all, in order, into A and
+ * c, and every later one goes there at once. */
+static void take_obs(const run_ctx *cx, slice *s, size_t k, double rinv)
+{
+    const size_t N = cx->N;
+    const buffers *b = cx->b;
+    size_t q;
+    if (!s->direct && s->nloc + 1 < N) {
+        s->kidx[s->nloc] = k;
+        s->kw[s->nloc] = rinv;
+        s->nloc++;
+        return;
+    }
+    if (!s->direct) {
+        memset(s->A, 0, N * N * sizeof *s->A);
+        memset(s->c, 0, N * sizeof *s->c);
+        for (q = 0; q < s->nloc; q++)
+            add_obs(N, s->A, s->c, b->YbT + s->kidx[q] * N, s->kw[q], b->d[s->kidx[q]]);
+        s->direct = 1;
+    }
+    add_obs(N, s->A, s->c, b->YbT + k * N, rinv, b->d[k]);
+    s->nloc++;
+}
+
+/* Take the observations that reach pos among the sorted ones from j0 on
+ * (up to the key key_hi if bounded). */
+static void add_range(const run_ctx *cx, slice *s, const double *pos, size_t j0,
+                      double key_hi, int bounded)
 {
     const sl_localization *loc = cx->loc;
     const entry *obs = cx->b->obs;
-    const size_t m = cx->m, N = cx->N;
-    size_t j, used = 0;
+    const size_t m = cx->m;
+    size_t j;
     for (j = j0; j < m && (!bounded || obs[j].a <= key_hi); j++) {
         size_t k = obs[j].i;
         double op[2], dist, g;
@@ -369,13 +411,146 @@ static size_t add_range(const run_ctx *cx, slice *s, const double *pos,
         op[1] = loc->dim > 1 ? loc->obs_pos[k + m] : 0.0;
         dist = cx->geom->distance(loc->period_or_radius, pos, op);
         g = sl_gaspari_cohn(dist, loc->obs_c[k]);
-        if (g > 0) {
-            add_obs(N, s->A, s->c, cx->b->YbT + k * N, g / cx->rdiag[k],
-                    cx->b->d[k]);
-            used++;
+        if (g > 0)
+            take_obs(cx, s, k, g / cx->rdiag[k]);
+    }
+}
+
+/* Record a failed analysis of group g (the first one counts). */
+static void fail(slice *s, size_t g, int info)
+{
+    if (g < s->fail_group) {
+        s->fail_group = g;
+        s->fail_info = info;
+    }
+}
+
+/* The analysis of group g in observation space, for p = s->nloc < N local
+ * observations. With S = R_loc^{-1/2} Yb_loc (p x N, R_loc holding r / g),
+ * d~ = R_loc^{-1/2} d and the eigen-decomposition S S' = U diag(mu) U'
+ * (p x p), the singular value decomposition of S gives S'S = sum_e mu_e
+ * v_e v_e' with the orthonormal v_e = S' u_e / sqrt(mu_e) (mu_e > 0), and
+ * S'S vanishes on the complement of their span (Golub & Van Loan, Matrix
+ * Computations, sections 2.4 and 8.6). Hence, with L_e = (N-1) + mu_e,
+ *   [(N-1) I + S'S]^{-1/2} = (N-1)^{-1/2} (I - sum v_e v_e')
+ *                            + sum L_e^{-1/2} v_e v_e',
+ * and the symmetric square root of the ensemble-space analysis is
+ *   W = (N-1)^{1/2} [(N-1) I + S'S]^{-1/2} = I + sum f_e v_e v_e',
+ *   f_e = sqrt((N-1) / L_e) - 1 = -mu_e / (L_e + sqrt((N-1) L_e)),
+ * (multiply by sqrt(L_e) + sqrt(N-1) above and below), so that
+ *   W = I - B diag(h) B',  B = S' U (N x p),  h_e = 1 / (L_e + sqrt((N-1) L_e)):
+ * no division by mu_e, and an e with mu_e = 0 adds nothing (its column
+ * of B has length sqrt(mu_e)). The mean weights follow from
+ * [(N-1) I + S'S]^{-1} S' = S' [(N-1) I + S S']^{-1} (the push-through
+ * identity, ibid. section 2.1):
+ *   w = S' U diag(1 / L) U' d~ = B diag(1 / L) U' d~.
+ * Row i of the analysis is xbar_i + x'_i (W + w 1'), applied as
+ * xbar_i + x'_i - ((x'_i B) diag(h)) B' + (x'_i w) without forming W.
+ * The eigenvalues of (N-1) I + S'S are L_e and N - 1: the relative floor
+ * of the ensemble-space form would act on none when floor * max(L) stays
+ * below (N-1) / 2 (and, for floors below 1e-12, 1e-12 * max(L) too, so
+ * that rounding in the N x N form cannot reach the floor either). Returns
+ * 0 done, 1 when the ensemble-space form must do it instead (the floor
+ * could act, the eigensolver failed or something is not finite). */
+static int obs_space(const run_ctx *cx, slice *s, size_t g)
+{
+    const size_t n = cx->n, N = cx->N, p = s->nloc;
+    const buffers *b = cx->b;
+    const size_t r0 = b->gstart[g], r1 = b->gstart[g + 1];
+    double *restrict G = s->A, *restrict U = s->Q, *restrict Z = s->Z;
+    double *restrict mu = s->lam, *restrict dt = s->e, *restrict h = s->beta;
+    double *restrict w = s->c, *restrict t = s->t, *restrict xp = s->xp;
+    double *X = cx->X, nm1 = (double)(N - 1), lmax, fl;
+    size_t a, e, f, j, r;
+
+    /* S' column by column and d~ */
+    for (e = 0; e < p; e++) {
+        const double *yk = b->YbT + s->kidx[e] * N;
+        double sw = sqrt(s->kw[e]);
+        double *Ze = Z + e * N;
+        for (a = 0; a < N; a++)
+            Ze[a] = sw * yk[a];
+        dt[e] = sw * b->d[s->kidx[e]];
+    }
+    /* S S' (p x p) */
+    for (f = 0; f < p; f++) {
+        const double *Zf = Z + f * N;
+        for (e = 0; e <= f; e++) {
+            const double *Ze = Z + e * N;
+            double acc = 0.0;
+            for (a = 0; a < N; a++)
+                acc += Ze[a] * Zf[a];
+            G[e + f * p] = acc;
+            G[f + e * p] = acc;
         }
     }
-    return used;
+    if (sym_eigen(p, G, U, mu, s->t, h) != 0)
+        return 1;
+    lmax = 0.0;
+    for (e = 0; e < p; e++) {
+        if (!(mu[e] > -HUGE_VAL && mu[e] < HUGE_VAL))
+            return 1;
+        if (mu[e] > lmax)
+            lmax = mu[e];
+    }
+    lmax += nm1;
+    fl = cx->floor_rel > 1e-12 ? cx->floor_rel : 1e-12;
+    if (!(fl * lmax < 0.5 * nm1))
+        return 1;
+
+    /* B = S' U into G (free once the eigenvectors are out); h; w */
+    for (e = 0; e < p; e++) {
+        const double *Ue = U + e * p;
+        double *Be = G + e * N, L = nm1 + (mu[e] > 0 ? mu[e] : 0.0), acc = 0.0;
+        for (a = 0; a < N; a++)
+            Be[a] = 0.0;
+        for (f = 0; f < p; f++) {
+            const double *Zf = Z + f * N;
+            double u = Ue[f];
+            for (a = 0; a < N; a++)
+                Be[a] += Zf[a] * u;
+            acc += u * dt[f];
+        }
+        h[e] = 1.0 / (L + sqrt(nm1 * L));
+        t[e] = acc / L;
+    }
+    for (a = 0; a < N; a++)
+        w[a] = 0.0;
+    for (e = 0; e < p; e++) {
+        const double *Be = G + e * N;
+        for (a = 0; a < N; a++)
+            w[a] += Be[a] * t[e];
+    }
+
+    for (r = r0; r < r1; r++) {
+        size_t i = b->rows[r].i;
+        double xbar = 0.0, xw = 0.0;
+        for (j = 0; j < N; j++)
+            xbar += X[i + j * n];
+        xbar /= (double)N;
+        for (j = 0; j < N; j++) {
+            xp[j] = X[i + j * n] - xbar;
+            xw += xp[j] * w[j];
+        }
+        for (e = 0; e < p; e++) {
+            const double *Be = G + e * N;
+            double acc = 0.0;
+            for (a = 0; a < N; a++)
+                acc += xp[a] * Be[a];
+            t[e] = acc * h[e];
+        }
+        for (e = 0; e < p; e++) {
+            const double *Be = G + e * N;
+            for (a = 0; a < N; a++)
+                xp[a] -= t[e] * Be[a];
+        }
+        for (j = 0; j < N; j++) {
+            X[i + j * n] = (xbar + xw) + xp[j];
+            if (!isfinite(X[i + j * n]))
+                fail(s, g, 0);
+        }
+    }
+    return 0;
 }
 
 /* The local analysis of group g (rows at one place, or the rows that are
@@ -388,18 +563,16 @@ static void local_analysis(const run_ctx *cx, slice *s, size_t g)
     const entry *rep = &b->rows[r0];
     double *A = s->A, *Q = s->Q, *lam = s->lam, *c = s->c, *t = s->t;
     double *xp = s->xp, *X = cx->X, lmax, fl, nm1 = (double)(N - 1);
-    size_t used = 0, a, e, j, r, nfl = 0;
+    size_t a, e, j, r, nfl = 0;
     int info;
 
-    memset(A, 0, N * N * sizeof *A);
-    memset(c, 0, N * sizeof *c);
+    s->nloc = 0;
+    s->direct = 0;
     if (isnan(rep->a)) {
         /* not localised: every observation, damped by param_factor */
         size_t k;
         for (k = 0; k < m; k++)
-            add_obs(N, A, c, b->YbT + k * N, cx->loc->param_factor / cx->rdiag[k],
-                    b->d[k]);
-        used = m;
+            take_obs(cx, s, k, cx->loc->param_factor / cx->rdiag[k]);
     } else {
         const sl_localization *loc = cx->loc;
         double pos[2], key, h = cx->reach;
@@ -407,25 +580,36 @@ static void local_analysis(const run_ctx *cx, slice *s, size_t g)
         pos[1] = rep->b;
         key = cx->geom->key(loc->period_or_radius, pos);
         if (!(h < HUGE_VAL)) {
-            used = add_range(cx, s, pos, 0, 0.0, 0);
+            add_range(cx, s, pos, 0, 0.0, 0);
         } else if (cx->geom->key_periodic) {
             double L = loc->period_or_radius, x = key;
             if (x - h < 0) {
-                used = add_range(cx, s, pos, lower_bound(b->obs, m, x - h + L), 0.0, 0);
-                used += add_range(cx, s, pos, 0, x + h, 1);
+                add_range(cx, s, pos, lower_bound(b->obs, m, x - h + L), 0.0, 0);
+                add_range(cx, s, pos, 0, x + h, 1);
             } else if (x + h >= L) {
-                used = add_range(cx, s, pos, lower_bound(b->obs, m, x - h), 0.0, 0);
-                used += add_range(cx, s, pos, 0, x + h - L, 1);
+                add_range(cx, s, pos, lower_bound(b->obs, m, x - h), 0.0, 0);
+                add_range(cx, s, pos, 0, x + h - L, 1);
             } else {
-                used = add_range(cx, s, pos, lower_bound(b->obs, m, x - h), x + h, 1);
+                add_range(cx, s, pos, lower_bound(b->obs, m, x - h), x + h, 1);
             }
         } else {
-            used = add_range(cx, s, pos, lower_bound(b->obs, m, key - h), key + h, 1);
+            add_range(cx, s, pos, lower_bound(b->obs, m, key - h), key + h, 1);
         }
     }
-    if (used == 0) {
+    if (s->nloc == 0) {
         s->skipped += r1 - r0;
         return;
+    }
+    if (!s->direct) {
+        size_t q;
+        if (obs_space(cx, s, g) == 0)
+            return;
+        /* the ensemble-space form after all: the held-back observations
+         * into A and c */
+        memset(A, 0, N * N * sizeof *A);
+        memset(c, 0, N * sizeof *c);
+        for (q = 0; q < s->nloc; q++)
+            add_obs(N, A, c, b->YbT + s->kidx[q] * N, s->kw[q], b->d[s->kidx[q]]);
     }
 
     /* Pa~ = [(N-1) I + C HX']^{-1} through A = Q diag(lam) Q' */
@@ -443,10 +627,7 @@ static void local_analysis(const run_ctx *cx, slice *s, size_t g)
             lmax = lam[e];
     }
     if (info != 0 || !(lmax > 0 && lmax < HUGE_VAL)) {
-        if (g < s->fail_group) {
-            s->fail_group = g;
-            s->fail_info = info;
-        }
+        fail(s, g, info);
         return;
     }
     fl = cx->floor_rel * lmax;
@@ -501,10 +682,8 @@ static void local_analysis(const run_ctx *cx, slice *s, size_t g)
             for (a = 0; a < N; a++)
                 acc += xp[a] * Tj[a];
             X[i + j * n] = xbar + acc;
-            if (!isfinite(X[i + j * n]) && g < s->fail_group) {
-                s->fail_group = g;
-                s->fail_info = 0;
-            }
+            if (!isfinite(X[i + j * n]))
+                fail(s, g, 0);
         }
     }
 }
