@@ -12,6 +12,16 @@
 #include "enkf_internal.h"
 #include "workspace.h"
 
+/* On x86-64 the eigensolver and the analyses are also compiled for AVX2,
+ * the variant chosen when the library loads. The loops marked simd are
+ * element by element (no reductions), and ISO C mode contracts nothing
+ * into fused multiply-adds, so both variants give the same bits. */
+#if defined(__GNUC__) && !defined(__clang__) && defined(__x86_64__) && defined(__linux__)
+#define LETKF_CLONES __attribute__((target_clones("avx2", "default")))
+#else
+#define LETKF_CLONES
+#endif
+
 #define MAX_THREADS 256
 #define DEFAULT_FLOOR 1e-12
 #define MAX_QL_ITER 60
@@ -188,8 +198,9 @@ static size_t lower_bound(const entry *obs, size_t m, double lo)
  * (no BLAS threads beneath the OpenMP ones) and gives the same bits on
  * every run. e and beta: n doubles of scratch. Returns 0, or 1 + the
  * index of an eigenvalue that did not converge. */
-static int sym_eigen(size_t n, double *A, double *Q, double *lam, double *e,
-                     double *beta)
+LETKF_CLONES
+static int sym_eigen(size_t n, double *restrict A, double *restrict Q,
+                     double *restrict lam, double *restrict e, double *restrict beta)
 {
     size_t i, j, k, l;
     double amax = 0.0, scale = 1.0;
@@ -242,6 +253,7 @@ static int sym_eigen(size_t n, double *A, double *Q, double *lam, double *e,
         for (j = 0; j < L; j++) {
             const double *col = A22 + j * n;
             double vj = x[j];
+#pragma omp simd
             for (i = 0; i < L; i++)
                 p[i] += col[i] * vj;
         }
@@ -255,6 +267,7 @@ static int sym_eigen(size_t n, double *A, double *Q, double *lam, double *e,
             p[i] -= pv * x[i];
         for (j = 0; j < L; j++) {
             double *col = A22 + j * n, vj = x[j], wj = p[j];
+#pragma omp simd
             for (i = 0; i < L; i++)
                 col[i] -= x[i] * wj + p[i] * vj;
         }
@@ -279,6 +292,7 @@ static int sym_eigen(size_t n, double *A, double *Q, double *lam, double *e,
             for (i = 0; i < L; i++)
                 sd += v[i] * q[i];
             sd *= b;
+#pragma omp simd
             for (i = 0; i < L; i++)
                 q[i] -= sd * v[i];
         }
@@ -322,6 +336,7 @@ static int sym_eigen(size_t n, double *A, double *Q, double *lam, double *e,
                 p = sn * r;
                 lam[ii + 1] = g + p;
                 g = cs * r - bb;
+#pragma omp simd
                 for (k = 0; k < n; k++) {
                     double z = z1[k];
                     z1[k] = sn * z0[k] + cs * z;
@@ -363,6 +378,7 @@ static void add_obs(size_t N, double *restrict A, double *restrict c,
     for (b = 0; b < N; b++) {
         double s = rinv * yk[b];
         double *Ab = A + b * N;
+#pragma omp simd
         for (a = 0; a <= b; a++)
             Ab[a] += s * yk[a];
         c[b] += rd * yk[b];
@@ -452,6 +468,7 @@ static void fail(slice *s, size_t g, int info)
  * that rounding in the N x N form cannot reach the floor either). Returns
  * 0 done, 1 when the ensemble-space form must do it instead (the floor
  * could act, the eigensolver failed or something is not finite). */
+LETKF_CLONES
 static int obs_space(const run_ctx *cx, slice *s, size_t g)
 {
     const size_t n = cx->n, N = cx->N, p = s->nloc;
@@ -463,25 +480,29 @@ static int obs_space(const run_ctx *cx, slice *s, size_t g)
     double *X = cx->X, nm1 = (double)(N - 1), lmax, fl;
     size_t a, e, f, j, r;
 
-    /* S' column by column and d~ */
+    /* S' column by column, S (p x N) in U until the eigensolver needs
+     * it, and d~ */
     for (e = 0; e < p; e++) {
         const double *yk = b->YbT + s->kidx[e] * N;
         double sw = sqrt(s->kw[e]);
         double *Ze = Z + e * N;
+#pragma omp simd
         for (a = 0; a < N; a++)
             Ze[a] = sw * yk[a];
+        for (a = 0; a < N; a++)
+            U[e + a * p] = Ze[a];
         dt[e] = sw * b->d[s->kidx[e]];
     }
-    /* S S' (p x p) */
-    for (f = 0; f < p; f++) {
-        const double *Zf = Z + f * N;
-        for (e = 0; e <= f; e++) {
-            const double *Ze = Z + e * N;
-            double acc = 0.0;
-            for (a = 0; a < N; a++)
-                acc += Ze[a] * Zf[a];
-            G[e + f * p] = acc;
-            G[f + e * p] = acc;
+    /* S S' (p x p), column f the sum over members a of S_fa S(:, a) */
+    for (e = 0; e < p * p; e++)
+        G[e] = 0.0;
+    for (a = 0; a < N; a++) {
+        const double *Sa = U + a * p;
+        for (f = 0; f < p; f++) {
+            double *Gf = G + f * p, sf = Sa[f];
+#pragma omp simd
+            for (e = 0; e < p; e++)
+                Gf[e] += Sa[e] * sf;
         }
     }
     if (sym_eigen(p, G, U, mu, s->t, h) != 0)
@@ -507,6 +528,7 @@ static int obs_space(const run_ctx *cx, slice *s, size_t g)
         for (f = 0; f < p; f++) {
             const double *Zf = Z + f * N;
             double u = Ue[f];
+#pragma omp simd
             for (a = 0; a < N; a++)
                 Be[a] += Zf[a] * u;
             acc += u * dt[f];
@@ -518,6 +540,7 @@ static int obs_space(const run_ctx *cx, slice *s, size_t g)
         w[a] = 0.0;
     for (e = 0; e < p; e++) {
         const double *Be = G + e * N;
+#pragma omp simd
         for (a = 0; a < N; a++)
             w[a] += Be[a] * t[e];
     }
@@ -541,6 +564,7 @@ static int obs_space(const run_ctx *cx, slice *s, size_t g)
         }
         for (e = 0; e < p; e++) {
             const double *Be = G + e * N;
+#pragma omp simd
             for (a = 0; a < N; a++)
                 xp[a] -= t[e] * Be[a];
         }
@@ -555,6 +579,7 @@ static int obs_space(const run_ctx *cx, slice *s, size_t g)
 
 /* The local analysis of group g (rows at one place, or the rows that are
  * not localised): builds the transform once and applies it to each row. */
+LETKF_CLONES
 static void local_analysis(const run_ctx *cx, slice *s, size_t g)
 {
     const size_t n = cx->n, N = cx->N, m = cx->m;
@@ -662,6 +687,7 @@ static void local_analysis(const run_ctx *cx, slice *s, size_t g)
         for (e = 0; e < N; e++) {
             const double *q = Q + e * N;
             double f = t[e] * q[j];
+#pragma omp simd
             for (a = 0; a < N; a++)
                 Tj[a] += f * q[a];
         }
