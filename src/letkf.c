@@ -25,6 +25,9 @@
 #define MAX_THREADS 256
 #define DEFAULT_FLOOR 1e-12
 #define MAX_QL_ITER 60
+/* up to this many members a thread analyses grid points in pairs (for
+ * larger ensembles the rotations' vector work hides their latency) */
+#define PAIR_MAX_N 64
 
 /* A row or an observation with its sort keys: rows are sorted by position
  * (a, b) so that rows at the same place form one group with one local
@@ -36,7 +39,15 @@ typedef struct {
     size_t i;
 } entry;
 
-/* What one thread owns: its matrices and its tallies. */
+typedef struct {
+    size_t n, l, m, ii;
+    int iter, inside, info; /* inside: within an iteration (ii its next rotation) */
+    double g, p, sn, cs;
+    double *lam, *e, *Q;
+} ql_state;
+
+/* What one thread owns: its matrices and its tallies (two of these when
+ * it analyses grid points in pairs). */
 typedef struct {
     double *A;    /* N x N: the ensemble-space matrix, then the transform
                    * (observation space: S S', then S' U) */
@@ -48,6 +59,10 @@ typedef struct {
     size_t *kidx; /* N: and their indices */
     size_t nloc;  /* local observations so far */
     int direct;   /* 1: they have gone into A (N or more of them) */
+    int form;     /* the group's analysis: 0 none, 1 observation space,
+                   * 2 ensemble space */
+    double scale; /* of its eigenvalues (tridiag) */
+    ql_state ql;  /* its QL iterations */
     size_t floored, skipped;
     size_t fail_group; /* SIZE_MAX: no failure */
     int fail_info;     /* 1 + eigenvalue that did not converge; 0: not finite */
@@ -82,6 +97,8 @@ static size_t layout(size_t nthr, size_t n, size_t N, size_t m,
     sl_ws_carve(base, &off, n * sizeof(entry), (void **)&b->rows);
     sl_ws_carve(base, &off, nm * sizeof(entry), (void **)&b->scratch);
     sl_ws_carve(base, &off, (n + 1) * sizeof(size_t), (void **)&b->gstart);
+    if (N <= PAIR_MAX_N)
+        nthr *= 2; /* two slices a thread */
     sl_ws_carve(base, &off, nthr * sizeof(slice), (void **)&b->sl);
     for (t = 0; t < nthr; t++) {
         double *p[10];
@@ -190,26 +207,27 @@ static size_t lower_bound(const entry *obs, size_t m, double lo)
 
 /* ------------------------------------------------------ eigensolver */
 
-/* Eigenvalues (unordered, in lam) and eigenvectors (the columns of Q) of
- * the symmetric n x n matrix A (full storage, column-major; destroyed):
- * Householder reduction to tridiagonal form, then the implicit QL
- * algorithm with Wilkinson's shift (Golub & Van Loan, Matrix
- * Computations, sections 5.1 and 8.3). It runs inside the calling thread
- * (no BLAS threads beneath the OpenMP ones) and gives the same bits on
- * every run. e and beta: n doubles of scratch. Returns 0, or 1 + the
- * index of an eigenvalue that did not converge. */
+/* The symmetric eigen-decomposition A = Q diag(lam) Q' (n x n, full
+ * storage, column-major): Householder reduction to tridiagonal form, then
+ * the implicit QL algorithm with Wilkinson's shift (Golub & Van Loan,
+ * Matrix Computations, sections 5.1 and 8.3). It runs inside the calling
+ * thread (no BLAS threads beneath the OpenMP ones) and gives the same
+ * bits on every run. The two stages are apart so that the QL iterations
+ * of two grid points can be interleaved: each Givens rotation there is a
+ * chain of a square root and a division that the next one waits for,
+ * and two independent chains run in the time of about one. */
+
+/* Stage 1: A (destroyed) scaled by a power of two, reduced to the
+ * tridiagonal matrix with diagonal lam and off-diagonal e (e[n - 1] = 0),
+ * Q the product of the reflections; beta: n doubles of scratch. Returns
+ * the scale that the eigenvalues are to be multiplied by. */
 LETKF_CLONES
-static int sym_eigen(size_t n, double *restrict A, double *restrict Q,
-                     double *restrict lam, double *restrict e, double *restrict beta)
+static double tridiag(size_t n, double *restrict A, double *restrict Q,
+                      double *restrict lam, double *restrict e, double *restrict beta)
 {
-    size_t i, j, k, l;
+    size_t i, j, k;
     double amax = 0.0, scale = 1.0;
 
-    if (n == 1) {
-        lam[0] = A[0];
-        Q[0] = 1.0;
-        return 0;
-    }
     /* scale by a power of two (exact) so that no square overflows */
     for (i = 0; i < n * n; i++)
         if (fabs(A[i]) > amax)
@@ -274,6 +292,11 @@ static int sym_eigen(size_t n, double *restrict A, double *restrict Q,
     }
     for (i = 0; i < n; i++)
         lam[i] = A[i + i * n];
+    if (n == 1) {
+        e[0] = 0.0;
+        Q[0] = 1.0;
+        return scale;
+    }
     e[n - 2] = A[(n - 1) + (n - 2) * n];
     e[n - 1] = 0.0;
 
@@ -298,61 +321,123 @@ static int sym_eigen(size_t n, double *restrict A, double *restrict Q,
         }
     }
 
-    /* implicit QL on the tridiagonal matrix (diagonal lam, off-diagonal
-     * e), the rotations accumulated into Q */
-    for (l = 0; l < n; l++) {
-        int iter = 0;
-        for (;;) {
-            double g, r, sn, cs, p;
-            size_t m, ii;
-            int underflow = 0;
-            for (m = l; m + 1 < n; m++)
-                if (fabs(e[m]) <= DBL_EPSILON * (fabs(lam[m]) + fabs(lam[m + 1])))
-                    break;
-            if (m == l)
+    return scale;
+}
+
+/* Stage 2: the implicit QL iterations on (lam, e), the rotations
+ * accumulated into Q, one step at a time: a step finds the next block
+ * (or deflates) or applies one rotation. */
+
+static void ql_start(ql_state *q, size_t n, double *lam, double *e, double *Q)
+{
+    q->n = n;
+    q->l = 0;
+    q->m = q->ii = 0;
+    q->iter = q->inside = q->info = 0;
+    q->g = q->p = 0.0;
+    q->sn = q->cs = 1.0;
+    q->lam = lam;
+    q->e = e;
+    q->Q = Q;
+}
+
+/* One step; returns 0 when the iterations are over (q->info: 0, or 1 +
+ * the index of an eigenvalue that did not converge). */
+#if defined(__GNUC__)
+__attribute__((always_inline))
+#endif
+static inline int ql_step(ql_state *restrict q)
+{
+    const size_t n = q->n, l = q->l;
+    double *restrict lam = q->lam, *restrict e = q->e;
+    if (!q->inside) {
+        double g, r;
+        size_t m;
+        if (l >= n)
+            return 0;
+        for (m = l; m + 1 < n; m++)
+            if (fabs(e[m]) <= DBL_EPSILON * (fabs(lam[m]) + fabs(lam[m + 1])))
                 break;
-            if (++iter > MAX_QL_ITER)
-                return (int)l + 1;
-            g = (lam[l + 1] - lam[l]) / (2.0 * e[l]);
-            r = sqrt(g * g + 1.0);
-            g = lam[m] - lam[l] + e[l] / (g + copysign(r, g));
-            sn = cs = 1.0;
-            p = 0.0;
-            for (ii = m; ii-- > l;) {
-                double f = sn * e[ii], bb = cs * e[ii];
-                double *z0 = Q + ii * n, *z1 = z0 + n;
-                r = sqrt(f * f + g * g);
-                e[ii + 1] = r;
-                if (r == 0.0) {
-                    lam[ii + 1] -= p;
-                    e[m] = 0.0;
-                    underflow = 1;
-                    break;
-                }
-                sn = f / r;
-                cs = g / r;
-                g = lam[ii + 1] - p;
-                r = (lam[ii] - g) * sn + 2.0 * cs * bb;
-                p = sn * r;
-                lam[ii + 1] = g + p;
-                g = cs * r - bb;
+        if (m == l) {
+            q->l = l + 1;
+            q->iter = 0;
+            return 1;
+        }
+        if (++q->iter > MAX_QL_ITER) {
+            q->info = (int)l + 1;
+            return 0;
+        }
+        g = (lam[l + 1] - lam[l]) / (2.0 * e[l]);
+        r = sqrt(g * g + 1.0);
+        q->g = lam[m] - lam[l] + e[l] / (g + copysign(r, g));
+        q->sn = q->cs = 1.0;
+        q->p = 0.0;
+        q->m = q->ii = m;
+        q->inside = 1;
+        return 1;
+    } else {
+        const size_t ii = --q->ii, m = q->m;
+        double sn = q->sn, cs = q->cs, g = q->g, p = q->p;
+        double f = sn * e[ii], bb = cs * e[ii], r;
+        double *restrict z0 = q->Q + ii * n, *restrict z1 = z0 + n;
+        size_t k;
+        r = sqrt(f * f + g * g);
+        e[ii + 1] = r;
+        if (r == 0.0) {
+            lam[ii + 1] -= p;
+            e[m] = 0.0;
+            q->inside = 0;
+            return 1;
+        }
+        sn = f / r;
+        cs = g / r;
+        g = lam[ii + 1] - p;
+        r = (lam[ii] - g) * sn + 2.0 * cs * bb;
+        p = sn * r;
+        lam[ii + 1] = g + p;
+        g = cs * r - bb;
 #pragma omp simd
-                for (k = 0; k < n; k++) {
-                    double z = z1[k];
-                    z1[k] = sn * z0[k] + cs * z;
-                    z0[k] = cs * z0[k] - sn * z;
-                }
-            }
-            if (underflow)
-                continue;
+        for (k = 0; k < n; k++) {
+            double z = z1[k];
+            z1[k] = sn * z0[k] + cs * z;
+            z0[k] = cs * z0[k] - sn * z;
+        }
+        if (ii == l) {
             lam[l] -= p;
             e[l] = g;
             e[m] = 0.0;
+            q->inside = 0;
+            return 1;
         }
+        q->sn = sn;
+        q->cs = cs;
+        q->g = g;
+        q->p = p;
+        return 1;
     }
-    for (i = 0; i < n; i++)
-        lam[i] *= scale;
-    return 0;
+}
+
+/* The QL iterations of one problem, or of two (b not NULL) interleaved
+ * step by step; each does exactly what it would alone. */
+LETKF_CLONES
+static void ql_run(ql_state *a, ql_state *b)
+{
+    /* on local copies, which the compiler can keep in registers */
+    ql_state qa = *a, qb;
+    int ra = 1, rb = b != NULL;
+    if (b != NULL) {
+        qb = *b;
+        while (ra && rb) {
+            ra = ql_step(&qa);
+            rb = ql_step(&qb);
+        }
+        while (rb)
+            rb = ql_step(&qb);
+        *b = qb;
+    }
+    while (ra)
+        ra = ql_step(&qa);
+    *a = qa;
 }
 
 /* ---------------------------------------------------------- analysis */
@@ -441,7 +526,7 @@ static void fail(slice *s, size_t g, int info)
     }
 }
 
-/* The analysis of group g in observation space, for p = s->nloc < N local
+/* The analysis of a group in observation space, for p = s->nloc < N local
  * observations. With S = R_loc^{-1/2} Yb_loc (p x N, R_loc holding r / g),
  * d~ = R_loc^{-1/2} d and the eigen-decomposition S S' = U diag(mu) U'
  * (p x p), the singular value decomposition of S gives S'S = sum_e mu_e
@@ -465,20 +550,19 @@ static void fail(slice *s, size_t g, int info)
  * The eigenvalues of (N-1) I + S'S are L_e and N - 1: the relative floor
  * of the ensemble-space form would act on none when floor * max(L) stays
  * below (N-1) / 2 (and, for floors below 1e-12, 1e-12 * max(L) too, so
- * that rounding in the N x N form cannot reach the floor either). Returns
- * 0 done, 1 when the ensemble-space form must do it instead (the floor
- * could act, the eigensolver failed or something is not finite). */
+ * that rounding in the N x N form cannot reach the floor either).
+ * obs_prepare forms S S' and reduces it to tridiagonal form; obs_finish,
+ * after the QL iterations, analyses the rows of group g and returns 0, or
+ * 1 when the ensemble-space form must do it instead (the floor could act,
+ * the eigensolver failed or something is not finite). */
 LETKF_CLONES
-static int obs_space(const run_ctx *cx, slice *s, size_t g)
+static void obs_prepare(const run_ctx *cx, slice *s)
 {
-    const size_t n = cx->n, N = cx->N, p = s->nloc;
+    const size_t N = cx->N, p = s->nloc;
     const buffers *b = cx->b;
-    const size_t r0 = b->gstart[g], r1 = b->gstart[g + 1];
     double *restrict G = s->A, *restrict U = s->Q, *restrict Z = s->Z;
-    double *restrict mu = s->lam, *restrict dt = s->e, *restrict h = s->beta;
-    double *restrict w = s->c, *restrict t = s->t, *restrict xp = s->xp;
-    double *X = cx->X, nm1 = (double)(N - 1), lmax, fl;
-    size_t a, e, f, j, r;
+    double *restrict dt = s->e;
+    size_t a, e, f;
 
     /* S' column by column, S (p x N) in U until the eigensolver needs
      * it, and d~ */
@@ -505,8 +589,27 @@ static int obs_space(const run_ctx *cx, slice *s, size_t g)
                 Gf[e] += Sa[e] * sf;
         }
     }
-    if (sym_eigen(p, G, U, mu, s->t, h) != 0)
+    s->scale = tridiag(p, G, U, s->lam, s->t, s->beta);
+    ql_start(&s->ql, p, s->lam, s->t, U);
+}
+
+/* The rest of obs_prepare once the QL iterations are over. */
+LETKF_CLONES
+static int obs_finish(const run_ctx *cx, slice *s, size_t g)
+{
+    const size_t n = cx->n, N = cx->N, p = s->nloc;
+    const buffers *b = cx->b;
+    const size_t r0 = b->gstart[g], r1 = b->gstart[g + 1];
+    double *restrict G = s->A, *restrict U = s->Q, *restrict Z = s->Z;
+    double *restrict mu = s->lam, *restrict dt = s->e, *restrict h = s->beta;
+    double *restrict w = s->c, *restrict t = s->t, *restrict xp = s->xp;
+    double *X = cx->X, nm1 = (double)(N - 1), lmax, fl;
+    size_t a, e, f, j, r;
+
+    if (s->ql.info != 0)
         return 1;
+    for (e = 0; e < p; e++)
+        mu[e] *= s->scale;
     lmax = 0.0;
     for (e = 0; e < p; e++) {
         if (!(mu[e] > -HUGE_VAL && mu[e] < HUGE_VAL))
@@ -577,19 +680,14 @@ static int obs_space(const run_ctx *cx, slice *s, size_t g)
     return 0;
 }
 
-/* The local analysis of group g (rows at one place, or the rows that are
- * not localised): builds the transform once and applies it to each row. */
-LETKF_CLONES
-static void local_analysis(const run_ctx *cx, slice *s, size_t g)
+/* The observations in reach of group g (rows at one place, or the rows
+ * that are not localised), into s; sets s->form. */
+static void gather(const run_ctx *cx, slice *s, size_t g)
 {
-    const size_t n = cx->n, N = cx->N, m = cx->m;
+    const size_t m = cx->m;
     const buffers *b = cx->b;
     const size_t r0 = b->gstart[g], r1 = b->gstart[g + 1];
     const entry *rep = &b->rows[r0];
-    double *A = s->A, *Q = s->Q, *lam = s->lam, *c = s->c, *t = s->t;
-    double *xp = s->xp, *X = cx->X, lmax, fl, nm1 = (double)(N - 1);
-    size_t a, e, j, r, nfl = 0;
-    int info;
 
     s->nloc = 0;
     s->direct = 0;
@@ -623,27 +721,55 @@ static void local_analysis(const run_ctx *cx, slice *s, size_t g)
     }
     if (s->nloc == 0) {
         s->skipped += r1 - r0;
-        return;
+        s->form = 0;
+    } else {
+        s->form = s->direct ? 2 : 1;
     }
+}
+
+/* The ensemble-space form: Pa~ = [(N-1) I + C HX']^{-1} through
+ * A = Q diag(lam) Q'. ens_prepare completes A (the held-back observations
+ * first if they are still held back) and reduces it to tridiagonal form;
+ * ens_finish, after the QL iterations, builds the transform once and
+ * applies it to each row of group g. */
+LETKF_CLONES
+static void ens_prepare(const run_ctx *cx, slice *s)
+{
+    const size_t N = cx->N;
+    const buffers *b = cx->b;
+    double *A = s->A, nm1 = (double)(N - 1);
+    size_t a, j;
     if (!s->direct) {
         size_t q;
-        if (obs_space(cx, s, g) == 0)
-            return;
-        /* the ensemble-space form after all: the held-back observations
-         * into A and c */
         memset(A, 0, N * N * sizeof *A);
-        memset(c, 0, N * sizeof *c);
+        memset(s->c, 0, N * sizeof *s->c);
         for (q = 0; q < s->nloc; q++)
-            add_obs(N, A, c, b->YbT + s->kidx[q] * N, s->kw[q], b->d[s->kidx[q]]);
+            add_obs(N, A, s->c, b->YbT + s->kidx[q] * N, s->kw[q], b->d[s->kidx[q]]);
+        s->direct = 1;
     }
-
-    /* Pa~ = [(N-1) I + C HX']^{-1} through A = Q diag(lam) Q' */
     for (j = 0; j < N; j++) {
         A[j + j * N] += nm1;
         for (a = 0; a < j; a++)
             A[j + a * N] = A[a + j * N];
     }
-    info = sym_eigen(N, A, Q, lam, s->e, s->beta);
+    s->scale = tridiag(N, A, s->Q, s->lam, s->e, s->beta);
+    ql_start(&s->ql, N, s->lam, s->e, s->Q);
+}
+
+LETKF_CLONES
+static void ens_finish(const run_ctx *cx, slice *s, size_t g)
+{
+    const size_t n = cx->n, N = cx->N;
+    const buffers *b = cx->b;
+    const size_t r0 = b->gstart[g], r1 = b->gstart[g + 1];
+    double *A = s->A, *Q = s->Q, *lam = s->lam, *c = s->c, *t = s->t;
+    double *xp = s->xp, *X = cx->X, lmax, fl, nm1 = (double)(N - 1);
+    size_t a, e, j, r, nfl = 0;
+    int info = s->ql.info;
+
+    if (info == 0)
+        for (e = 0; e < N; e++)
+            lam[e] *= s->scale;
     lmax = 0.0;
     for (e = 0; e < N; e++) {
         if (!(lam[e] > -HUGE_VAL && lam[e] < HUGE_VAL))
@@ -714,6 +840,43 @@ static void local_analysis(const run_ctx *cx, slice *s, size_t g)
     }
 }
 
+/* The local analyses of group g1 and, unless s2 is NULL, group g2, their
+ * QL iterations interleaved; each group's arithmetic is the same whether
+ * it is paired or not, and with whichever group. */
+static void local_analysis(const run_ctx *cx, slice *s1, size_t g1, slice *s2, size_t g2)
+{
+    slice *sl[2];
+    size_t gg[2], q, ns = s2 != NULL ? 2 : 1;
+    ql_state *qs[2] = {NULL, NULL};
+    int nq = 0;
+    sl[0] = s1;
+    sl[1] = s2;
+    gg[0] = g1;
+    gg[1] = g2;
+    for (q = 0; q < ns; q++) {
+        gather(cx, sl[q], gg[q]);
+        if (sl[q]->form == 1)
+            obs_prepare(cx, sl[q]);
+        else if (sl[q]->form == 2)
+            ens_prepare(cx, sl[q]);
+        if (sl[q]->form != 0)
+            qs[nq++] = &sl[q]->ql;
+    }
+    if (nq > 0)
+        ql_run(qs[0], qs[1]);
+    for (q = 0; q < ns; q++) {
+        slice *s = sl[q];
+        if (s->form == 1 && obs_finish(cx, s, gg[q]) != 0) {
+            /* the ensemble-space form after all */
+            s->form = 2;
+            ens_prepare(cx, s);
+            ql_run(&s->ql, NULL);
+        }
+        if (s->form == 2)
+            ens_finish(cx, s, gg[q]);
+    }
+}
+
 /* ---------------------------------------------------------------- run */
 
 sl_status sl_letkf_run(const sl_enkf_config *cfg, size_t n, size_t N,
@@ -725,6 +888,7 @@ sl_status sl_letkf_run(const sl_enkf_config *cfg, size_t n, size_t N,
     buffers b;
     run_ctx cx;
     size_t nthr, i, j, k, ngroup, floored = 0, skipped = 0;
+    const size_t spt = N <= PAIR_MAX_N ? 2 : 1; /* slices a thread */
     size_t fail_group = SIZE_MAX;
     int fail_info = 0;
     double xmax = 0.0, s1 = 0.0, s2 = 0.0, cmax = 0.0, bound;
@@ -859,7 +1023,7 @@ sl_status sl_letkf_run(const sl_enkf_config *cfg, size_t n, size_t N,
     cx.loc = loc;
     cx.b = &b;
     cx.floor_rel = cfg->eig_floor > 0 ? cfg->eig_floor : DEFAULT_FLOOR;
-    for (k = 0; k < nthr; k++) {
+    for (k = 0; k < spt * nthr; k++) {
         b.sl[k].floored = 0;
         b.sl[k].skipped = 0;
         b.sl[k].fail_group = SIZE_MAX;
@@ -895,14 +1059,25 @@ sl_status sl_letkf_run(const sl_enkf_config *cfg, size_t n, size_t N,
 #ifdef _OPENMP
                 tid = (size_t)omp_get_thread_num();
 #endif
+                if (spt == 2) {
+                    size_t q;
+                    /* in pairs: g0 + 2q and the group after it */
+#pragma omp for schedule(dynamic, (dyn + 1) / 2)
+                    for (q = 0; q < (g1 - g0 + 1) / 2; q++) {
+                        g = g0 + 2 * q;
+                        local_analysis(&cx, &b.sl[2 * tid], g,
+                                       g + 1 < g1 ? &b.sl[2 * tid + 1] : NULL, g + 1);
+                    }
+                } else {
 #pragma omp for schedule(dynamic, dyn)
-                for (g = g0; g < g1; g++)
-                    local_analysis(&cx, &b.sl[tid], g);
+                    for (g = g0; g < g1; g++)
+                        local_analysis(&cx, &b.sl[tid], g, NULL, 0);
+                }
             }
         }
     }
 
-    for (k = 0; k < nthr; k++) {
+    for (k = 0; k < spt * nthr; k++) {
         floored += b.sl[k].floored;
         skipped += b.sl[k].skipped;
         if (b.sl[k].fail_group < fail_group) {
