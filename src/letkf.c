@@ -610,6 +610,7 @@ static int obs_finish(const run_ctx *cx, slice *s, size_t g)
     double *restrict mu = s->lam, *restrict dt = s->e, *restrict h = s->beta;
     double *restrict w = s->c, *restrict t = s->t, *restrict xp = s->xp;
     double *X = cx->X, nm1 = (double)(N - 1), lmax, fl;
+    const int formed = 2 * (r1 - r0) >= N;
     size_t a, e, f, j, r;
 
     if (s->ql.info != 0)
@@ -628,30 +629,45 @@ static int obs_finish(const run_ctx *cx, slice *s, size_t g)
     if (!(fl * lmax < 0.5 * nm1))
         return 1;
 
-    /* B = S' U into G (free once the eigenvectors are out); h; w */
+    /* h, t = diag(1 / L) U' d~, then w = S' U t (U t into dt) */
+    for (e = 0; e < p; e++) {
+        double L = nm1 + (mu[e] > 0 ? mu[e] : 0.0);
+        h[e] = 1.0 / (L + sqrt(nm1 * L));
+        t[e] = dot4(p, U + e * p, dt) / L;
+    }
+    for (f = 0; f < p; f++)
+        dt[f] = 0.0;
     for (e = 0; e < p; e++) {
         const double *Ue = U + e * p;
-        double *Be = G + e * N, L = nm1 + (mu[e] > 0 ? mu[e] : 0.0), acc = 0.0;
-        for (a = 0; a < N; a++)
-            Be[a] = 0.0;
-        for (f = 0; f < p; f++) {
-            const double *Zf = Z + f * N;
-            double u = Ue[f];
 #pragma omp simd
-            for (a = 0; a < N; a++)
-                Be[a] += Zf[a] * u;
-            acc += u * dt[f];
-        }
-        h[e] = 1.0 / (L + sqrt(nm1 * L));
-        t[e] = acc / L;
+        for (f = 0; f < p; f++)
+            dt[f] += Ue[f] * t[e];
     }
     for (a = 0; a < N; a++)
         w[a] = 0.0;
-    for (e = 0; e < p; e++) {
-        const double *Be = G + e * N;
+    for (f = 0; f < p; f++) {
+        const double *Zf = Z + f * N;
 #pragma omp simd
         for (a = 0; a < N; a++)
-            w[a] += Be[a] * t[e];
+            w[a] += Zf[a] * dt[f];
+    }
+    /* B = S' U into G (free once the eigenvectors are out) when the group
+     * has rows enough to pay for it (N p^2 once against 2 p^2 a row);
+     * otherwise G holds three p-vectors of each row's work */
+    if (formed) {
+        for (e = 0; e < p; e++) {
+            const double *Ue = U + e * p;
+            double *Be = G + e * N;
+            for (a = 0; a < N; a++)
+                Be[a] = 0.0;
+            for (f = 0; f < p; f++) {
+                const double *Zf = Z + f * N;
+                double u = Ue[f];
+#pragma omp simd
+                for (a = 0; a < N; a++)
+                    Be[a] += Zf[a] * u;
+            }
+        }
     }
 
     for (r = r0; r < r1; r++) {
@@ -664,13 +680,37 @@ static int obs_finish(const run_ctx *cx, slice *s, size_t g)
             xp[j] = X[i + j * n] - xbar;
             xw += xp[j] * w[j];
         }
-        for (e = 0; e < p; e++)
-            t[e] = dot4(N, xp, G + e * N) * h[e];
-        for (e = 0; e < p; e++) {
-            const double *Be = G + e * N;
+        if (formed) {
+            /* x' - ((x' B) diag(h)) B' */
+            for (e = 0; e < p; e++)
+                t[e] = dot4(N, xp, G + e * N) * h[e];
+            for (e = 0; e < p; e++) {
+                const double *Be = G + e * N;
 #pragma omp simd
-            for (a = 0; a < N; a++)
-                xp[a] -= t[e] * Be[a];
+                for (a = 0; a < N; a++)
+                    xp[a] -= t[e] * Be[a];
+            }
+        } else {
+            /* the same as x' - S' (U (diag(h) (U' (S x')))) */
+            double *v = G, *vt = G + p, *y = G + 2 * p;
+            for (f = 0; f < p; f++)
+                v[f] = dot4(N, xp, Z + f * N);
+            for (e = 0; e < p; e++)
+                vt[e] = dot4(p, U + e * p, v) * h[e];
+            for (f = 0; f < p; f++)
+                y[f] = 0.0;
+            for (e = 0; e < p; e++) {
+                const double *Ue = U + e * p;
+#pragma omp simd
+                for (f = 0; f < p; f++)
+                    y[f] += Ue[f] * vt[e];
+            }
+            for (f = 0; f < p; f++) {
+                const double *Zf = Z + f * N;
+#pragma omp simd
+                for (a = 0; a < N; a++)
+                    xp[a] -= y[f] * Zf[a];
+            }
         }
         for (j = 0; j < N; j++) {
             X[i + j * n] = (xbar + xw) + xp[j];

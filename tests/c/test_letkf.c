@@ -810,6 +810,19 @@ static void test_forms(void)
         CHECK(cnt[q] == 40, "%s: %lu %lu %lu rows with fewer, as many, more obs than members",
               names[q], (unsigned long)cnt[0], (unsigned long)cnt[1], (unsigned long)cnt[2]);
     }
+    /* rows in groups of 6 at one place (4 observations each): a group
+     * with rows enough forms its transform once, single rows apply it
+     * factor by factor */
+    make_problem(p, SL_GEOM_RING, 48, 10, 40, 0, 1.0, 1.0, 305);
+    for (i = 0; i < 48; i++)
+        p->spos[i] = (double)(i / 6) * 5.0;
+    for (i = 0; i < 40; i++) {
+        p->opos[i] = (double)i + 0.5;
+        p->oc[i] = 1.0;
+    }
+    check_forms(p, 0, "groups of 6 rows", cnt);
+    CHECK(cnt[0] == 48, "groups of 6 rows: %lu %lu %lu rows", (unsigned long)cnt[0],
+          (unsigned long)cnt[1], (unsigned long)cnt[2]);
     /* random places and half-widths, rows sharing places, rows not
      * localised (all 60 observations: more than N) */
     make_problem(p, SL_GEOM_RING, 200, 12, 60, 3, 0.5, 5.0, 310);
