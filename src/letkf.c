@@ -12,9 +12,22 @@
 #include "enkf_internal.h"
 #include "workspace.h"
 
+/* On x86-64 the eigensolver and the analyses are also compiled for AVX2,
+ * the variant chosen when the library loads. The loops marked simd are
+ * element by element (no reductions), and ISO C mode contracts nothing
+ * into fused multiply-adds, so both variants give the same bits. */
+#if defined(__GNUC__) && !defined(__clang__) && defined(__x86_64__) && defined(__linux__)
+#define LETKF_CLONES __attribute__((target_clones("avx2", "default")))
+#else
+#define LETKF_CLONES
+#endif
+
 #define MAX_THREADS 256
 #define DEFAULT_FLOOR 1e-12
 #define MAX_QL_ITER 60
+/* up to this many members a thread analyses grid points in pairs (for
+ * larger ensembles the rotations' vector work hides their latency) */
+#define PAIR_MAX_N 64
 
 /* A row or an observation with its sort keys: rows are sorted by position
  * (a, b) so that rows at the same place form one group with one local
@@ -26,11 +39,30 @@ typedef struct {
     size_t i;
 } entry;
 
-/* What one thread owns: its matrices and its tallies. */
 typedef struct {
-    double *A;    /* N x N: the ensemble-space matrix, then the transform */
-    double *Q;    /* N x N: its eigenvectors */
+    size_t n, l, m, ii;
+    int iter, inside, info; /* inside: within an iteration (ii its next rotation) */
+    double g, p, sn, cs;
+    double *lam, *e, *Q;
+} ql_state;
+
+/* What one thread owns: its matrices and its tallies (two of these when
+ * it analyses grid points in pairs). */
+typedef struct {
+    double *A;    /* N x N: the ensemble-space matrix, then the transform
+                   * (observation space: S S', then S' U) */
+    double *Q;    /* N x N: its eigenvectors (observation space: U) */
+    double *Z;    /* N x N: S' of the observation-space form, column by
+                   * column (at most N - 1 columns) */
     double *lam, *e, *beta, *c, *t, *xp;
+    double *kw;   /* N: weights g / r of the local observations held back */
+    size_t *kidx; /* N: and their indices */
+    size_t nloc;  /* local observations so far */
+    int direct;   /* 1: they have gone into A (N or more of them) */
+    int form;     /* the group's analysis: 0 none, 1 observation space,
+                   * 2 ensemble space */
+    double scale; /* of its eigenvalues (tridiag) */
+    ql_state ql;  /* its QL iterations */
     size_t floored, skipped;
     size_t fail_group; /* SIZE_MAX: no failure */
     int fail_info;     /* 1 + eigenvalue that did not converge; 0: not finite */
@@ -65,24 +97,30 @@ static size_t layout(size_t nthr, size_t n, size_t N, size_t m,
     sl_ws_carve(base, &off, n * sizeof(entry), (void **)&b->rows);
     sl_ws_carve(base, &off, nm * sizeof(entry), (void **)&b->scratch);
     sl_ws_carve(base, &off, (n + 1) * sizeof(size_t), (void **)&b->gstart);
+    if (N <= PAIR_MAX_N)
+        nthr *= 2; /* two slices a thread */
     sl_ws_carve(base, &off, nthr * sizeof(slice), (void **)&b->sl);
     for (t = 0; t < nthr; t++) {
-        double *p[8];
-        size_t q;
-        sl_ws_carve(base, &off, N * N * sizeof(double), (void **)&p[0]);
-        sl_ws_carve(base, &off, N * N * sizeof(double), (void **)&p[1]);
-        for (q = 2; q < 8; q++)
+        double *p[10];
+        size_t *ki, q;
+        for (q = 0; q < 3; q++)
+            sl_ws_carve(base, &off, N * N * sizeof(double), (void **)&p[q]);
+        for (q = 3; q < 10; q++)
             sl_ws_carve(base, &off, N * sizeof(double), (void **)&p[q]);
+        sl_ws_carve(base, &off, N * sizeof(size_t), (void **)&ki);
         if (base != NULL) {
             slice *s = &b->sl[t];
             s->A = p[0];
             s->Q = p[1];
-            s->lam = p[2];
-            s->e = p[3];
-            s->beta = p[4];
-            s->c = p[5];
-            s->t = p[6];
-            s->xp = p[7];
+            s->Z = p[2];
+            s->lam = p[3];
+            s->e = p[4];
+            s->beta = p[5];
+            s->c = p[6];
+            s->t = p[7];
+            s->xp = p[8];
+            s->kw = p[9];
+            s->kidx = ki;
         }
     }
     /* a trailing cache line keeps the last slice apart from whatever
@@ -169,18 +207,45 @@ static size_t lower_bound(const entry *obs, size_t m, double lo)
 
 /* ------------------------------------------------------ eigensolver */
 
-/* Eigenvalues (unordered, in lam) and eigenvectors (the columns of Q) of
- * the symmetric n x n matrix A (full storage, column-major; destroyed):
- * Householder reduction to tridiagonal form, then the implicit QL
- * algorithm with Wilkinson's shift (Golub & Van Loan, Matrix
- * Computations, sections 5.1 and 8.3). It runs inside the calling thread
- * (no BLAS threads beneath the OpenMP ones) and gives the same bits on
- * every run. e and beta: n doubles of scratch. Returns 0, or 1 + the
- * index of an eigenvalue that did not converge. */
-static int sym_eigen(size_t n, double *A, double *Q, double *lam, double *e,
-                     double *beta)
+/* x'y with four partial sums, (s0 + s1) + (s2 + s3), s_k over the
+ * elements k, k + 4, ... of the first multiple of four and the rest into
+ * s0: the order is fixed here, so a vectorised loop (two or four lanes)
+ * gives the same bits as a scalar one. */
+#if defined(__GNUC__)
+__attribute__((always_inline))
+#endif
+static inline double dot4(size_t n, const double *restrict x, const double *restrict y)
 {
-    size_t i, j, k, l;
+    double acc[4] = {0.0, 0.0, 0.0, 0.0};
+    size_t i, k;
+    for (i = 0; i + 4 <= n; i += 4)
+#pragma omp simd
+        for (k = 0; k < 4; k++)
+            acc[k] += x[i + k] * y[i + k];
+    for (; i < n; i++)
+        acc[0] += x[i] * y[i];
+    return (acc[0] + acc[1]) + (acc[2] + acc[3]);
+}
+
+/* The symmetric eigen-decomposition A = Q diag(lam) Q' (n x n, full
+ * storage, column-major): Householder reduction to tridiagonal form, then
+ * the implicit QL algorithm with Wilkinson's shift (Golub & Van Loan,
+ * Matrix Computations, sections 5.1 and 8.3). It runs inside the calling
+ * thread (no BLAS threads beneath the OpenMP ones) and gives the same
+ * bits on every run. The two stages are apart so that the QL iterations
+ * of two grid points can be interleaved: each Givens rotation there is a
+ * chain of a square root and a division that the next one waits for,
+ * and two independent chains run in the time of about one. */
+
+/* Stage 1: A (destroyed) scaled by a power of two, reduced to the
+ * tridiagonal matrix with diagonal lam and off-diagonal e (e[n - 1] = 0),
+ * Q the product of the reflections; beta: n doubles of scratch. Returns
+ * the scale that the eigenvalues are to be multiplied by. */
+LETKF_CLONES
+static double tridiag(size_t n, double *restrict A, double *restrict Q,
+                      double *restrict lam, double *restrict e, double *restrict beta)
+{
+    size_t i, j, k;
     double amax = 0.0, scale = 1.0;
 
     /* scale by a power of two (exact) so that no square overflows */
@@ -226,6 +291,7 @@ static int sym_eigen(size_t n, double *A, double *Q, double *lam, double *e,
         for (j = 0; j < L; j++) {
             const double *col = A22 + j * n;
             double vj = x[j];
+#pragma omp simd
             for (i = 0; i < L; i++)
                 p[i] += col[i] * vj;
         }
@@ -239,12 +305,18 @@ static int sym_eigen(size_t n, double *A, double *Q, double *lam, double *e,
             p[i] -= pv * x[i];
         for (j = 0; j < L; j++) {
             double *col = A22 + j * n, vj = x[j], wj = p[j];
+#pragma omp simd
             for (i = 0; i < L; i++)
                 col[i] -= x[i] * wj + p[i] * vj;
         }
     }
     for (i = 0; i < n; i++)
         lam[i] = A[i + i * n];
+    if (n == 1) {
+        e[0] = 0.0;
+        Q[0] = 1.0;
+        return scale;
+    }
     e[n - 2] = A[(n - 1) + (n - 2) * n];
     e[n - 1] = 0.0;
 
@@ -259,69 +331,130 @@ static int sym_eigen(size_t n, double *A, double *Q, double *lam, double *e,
         if (b == 0.0)
             continue;
         for (j = k + 1; j < n; j++) {
-            double *q = Q + j * n + k + 1, sd = 0.0;
-            for (i = 0; i < L; i++)
-                sd += v[i] * q[i];
-            sd *= b;
+            double *q = Q + j * n + k + 1, sd = b * dot4(L, v, q);
+#pragma omp simd
             for (i = 0; i < L; i++)
                 q[i] -= sd * v[i];
         }
     }
 
-    /* implicit QL on the tridiagonal matrix (diagonal lam, off-diagonal
-     * e), the rotations accumulated into Q */
-    for (l = 0; l < n; l++) {
-        int iter = 0;
-        for (;;) {
-            double g, r, sn, cs, p;
-            size_t m, ii;
-            int underflow = 0;
-            for (m = l; m + 1 < n; m++)
-                if (fabs(e[m]) <= DBL_EPSILON * (fabs(lam[m]) + fabs(lam[m + 1])))
-                    break;
-            if (m == l)
+    return scale;
+}
+
+/* Stage 2: the implicit QL iterations on (lam, e), the rotations
+ * accumulated into Q, one step at a time: a step finds the next block
+ * (or deflates) or applies one rotation. */
+
+static void ql_start(ql_state *q, size_t n, double *lam, double *e, double *Q)
+{
+    q->n = n;
+    q->l = 0;
+    q->m = q->ii = 0;
+    q->iter = q->inside = q->info = 0;
+    q->g = q->p = 0.0;
+    q->sn = q->cs = 1.0;
+    q->lam = lam;
+    q->e = e;
+    q->Q = Q;
+}
+
+/* One step; returns 0 when the iterations are over (q->info: 0, or 1 +
+ * the index of an eigenvalue that did not converge). */
+#if defined(__GNUC__)
+__attribute__((always_inline))
+#endif
+static inline int ql_step(ql_state *restrict q)
+{
+    const size_t n = q->n, l = q->l;
+    double *restrict lam = q->lam, *restrict e = q->e;
+    if (!q->inside) {
+        double g, r;
+        size_t m;
+        if (l >= n)
+            return 0;
+        for (m = l; m + 1 < n; m++)
+            if (fabs(e[m]) <= DBL_EPSILON * (fabs(lam[m]) + fabs(lam[m + 1])))
                 break;
-            if (++iter > MAX_QL_ITER)
-                return (int)l + 1;
-            g = (lam[l + 1] - lam[l]) / (2.0 * e[l]);
-            r = sqrt(g * g + 1.0);
-            g = lam[m] - lam[l] + e[l] / (g + copysign(r, g));
-            sn = cs = 1.0;
-            p = 0.0;
-            for (ii = m; ii-- > l;) {
-                double f = sn * e[ii], bb = cs * e[ii];
-                double *z0 = Q + ii * n, *z1 = z0 + n;
-                r = sqrt(f * f + g * g);
-                e[ii + 1] = r;
-                if (r == 0.0) {
-                    lam[ii + 1] -= p;
-                    e[m] = 0.0;
-                    underflow = 1;
-                    break;
-                }
-                sn = f / r;
-                cs = g / r;
-                g = lam[ii + 1] - p;
-                r = (lam[ii] - g) * sn + 2.0 * cs * bb;
-                p = sn * r;
-                lam[ii + 1] = g + p;
-                g = cs * r - bb;
-                for (k = 0; k < n; k++) {
-                    double z = z1[k];
-                    z1[k] = sn * z0[k] + cs * z;
-                    z0[k] = cs * z0[k] - sn * z;
-                }
-            }
-            if (underflow)
-                continue;
+        if (m == l) {
+            q->l = l + 1;
+            q->iter = 0;
+            return 1;
+        }
+        if (++q->iter > MAX_QL_ITER) {
+            q->info = (int)l + 1;
+            return 0;
+        }
+        g = (lam[l + 1] - lam[l]) / (2.0 * e[l]);
+        r = sqrt(g * g + 1.0);
+        q->g = lam[m] - lam[l] + e[l] / (g + copysign(r, g));
+        q->sn = q->cs = 1.0;
+        q->p = 0.0;
+        q->m = q->ii = m;
+        q->inside = 1;
+        return 1;
+    } else {
+        const size_t ii = --q->ii, m = q->m;
+        double sn = q->sn, cs = q->cs, g = q->g, p = q->p;
+        double f = sn * e[ii], bb = cs * e[ii], r;
+        double *restrict z0 = q->Q + ii * n, *restrict z1 = z0 + n;
+        size_t k;
+        r = sqrt(f * f + g * g);
+        e[ii + 1] = r;
+        if (r == 0.0) {
+            lam[ii + 1] -= p;
+            e[m] = 0.0;
+            q->inside = 0;
+            return 1;
+        }
+        sn = f / r;
+        cs = g / r;
+        g = lam[ii + 1] - p;
+        r = (lam[ii] - g) * sn + 2.0 * cs * bb;
+        p = sn * r;
+        lam[ii + 1] = g + p;
+        g = cs * r - bb;
+#pragma omp simd
+        for (k = 0; k < n; k++) {
+            double z = z1[k];
+            z1[k] = sn * z0[k] + cs * z;
+            z0[k] = cs * z0[k] - sn * z;
+        }
+        if (ii == l) {
             lam[l] -= p;
             e[l] = g;
             e[m] = 0.0;
+            q->inside = 0;
+            return 1;
         }
+        q->sn = sn;
+        q->cs = cs;
+        q->g = g;
+        q->p = p;
+        return 1;
     }
-    for (i = 0; i < n; i++)
-        lam[i] *= scale;
-    return 0;
+}
+
+/* The QL iterations of one problem, or of two (b not NULL) interleaved
+ * step by step; each does exactly what it would alone. */
+LETKF_CLONES
+static void ql_run(ql_state *a, ql_state *b)
+{
+    /* on local copies, which the compiler can keep in registers */
+    ql_state qa = *a, qb;
+    int ra = 1, rb = b != NULL;
+    if (b != NULL) {
+        qb = *b;
+        while (ra && rb) {
+            ra = ql_step(&qa);
+            rb = ql_step(&qb);
+        }
+        while (rb)
+            rb = ql_step(&qb);
+        *b = qb;
+    }
+    while (ra)
+        ra = ql_step(&qa);
+    *a = qa;
 }
 
 /* ---------------------------------------------------------- analysis */
@@ -339,29 +472,56 @@ typedef struct {
 
 /* Add one observation with inverse error variance rinv and innovation dk
  * to the upper triangle of A and to c = C d. */
-static void add_obs(size_t N, double *A, double *c, const double *yk,
-                    double rinv, double dk)
+static void add_obs(size_t N, double *restrict A, double *restrict c,
+                    const double *restrict yk, double rinv, double dk)
 {
     size_t a, b;
     double rd = rinv * dk;
     for (b = 0; b < N; b++) {
         double s = rinv * yk[b];
         double *Ab = A + b * N;
+#pragma omp simd
         for (a = 0; a <= b; a++)
             Ab[a] += s * yk[a];
         c[b] += rd * yk[b];
     }
 }
 
-/* Add the observations that reach pos among the sorted ones from j0 on
- * (up to the key key_hi if bounded); returns how many. */
-static size_t add_range(const run_ctx *cx, slice *s, const double *pos,
-                        size_t j0, double key_hi, int bounded)
+/* Take local observation k with weight rinv = g / r_k: the first N - 1
+ * are held back (an analysis with fewer observations than members works
+ * in observation space); the N-th sends them all, in order, into A and
+ * c, and every later one goes there at once. */
+static void take_obs(const run_ctx *cx, slice *s, size_t k, double rinv)
+{
+    const size_t N = cx->N;
+    const buffers *b = cx->b;
+    size_t q;
+    if (!s->direct && s->nloc + 1 < N) {
+        s->kidx[s->nloc] = k;
+        s->kw[s->nloc] = rinv;
+        s->nloc++;
+        return;
+    }
+    if (!s->direct) {
+        memset(s->A, 0, N * N * sizeof *s->A);
+        memset(s->c, 0, N * sizeof *s->c);
+        for (q = 0; q < s->nloc; q++)
+            add_obs(N, s->A, s->c, b->YbT + s->kidx[q] * N, s->kw[q], b->d[s->kidx[q]]);
+        s->direct = 1;
+    }
+    add_obs(N, s->A, s->c, b->YbT + k * N, rinv, b->d[k]);
+    s->nloc++;
+}
+
+/* Take the observations that reach pos among the sorted ones from j0 on
+ * (up to the key key_hi if bounded). */
+static void add_range(const run_ctx *cx, slice *s, const double *pos, size_t j0,
+                      double key_hi, int bounded)
 {
     const sl_localization *loc = cx->loc;
     const entry *obs = cx->b->obs;
-    const size_t m = cx->m, N = cx->N;
-    size_t j, used = 0;
+    const size_t m = cx->m;
+    size_t j;
     for (j = j0; j < m && (!bounded || obs[j].a <= key_hi); j++) {
         size_t k = obs[j].i;
         double op[2], dist, g;
@@ -369,37 +529,214 @@ static size_t add_range(const run_ctx *cx, slice *s, const double *pos,
         op[1] = loc->dim > 1 ? loc->obs_pos[k + m] : 0.0;
         dist = cx->geom->distance(loc->period_or_radius, pos, op);
         g = sl_gaspari_cohn(dist, loc->obs_c[k]);
-        if (g > 0) {
-            add_obs(N, s->A, s->c, cx->b->YbT + k * N, g / cx->rdiag[k],
-                    cx->b->d[k]);
-            used++;
-        }
+        if (g > 0)
+            take_obs(cx, s, k, g / cx->rdiag[k]);
     }
-    return used;
 }
 
-/* The local analysis of group g (rows at one place, or the rows that are
- * not localised): builds the transform once and applies it to each row. */
-static void local_analysis(const run_ctx *cx, slice *s, size_t g)
+/* Record a failed analysis of group g (the first one counts). */
+static void fail(slice *s, size_t g, int info)
 {
-    const size_t n = cx->n, N = cx->N, m = cx->m;
+    if (g < s->fail_group) {
+        s->fail_group = g;
+        s->fail_info = info;
+    }
+}
+
+/* The analysis of a group in observation space, for p = s->nloc < N local
+ * observations. With S = R_loc^{-1/2} Yb_loc (p x N, R_loc holding r / g),
+ * d~ = R_loc^{-1/2} d and the eigen-decomposition S S' = U diag(mu) U'
+ * (p x p), the singular value decomposition of S gives S'S = sum_e mu_e
+ * v_e v_e' with the orthonormal v_e = S' u_e / sqrt(mu_e) (mu_e > 0), and
+ * S'S vanishes on the complement of their span (Golub & Van Loan, Matrix
+ * Computations, sections 2.4 and 8.6). Hence, with L_e = (N-1) + mu_e,
+ *   [(N-1) I + S'S]^{-1/2} = (N-1)^{-1/2} (I - sum v_e v_e')
+ *                            + sum L_e^{-1/2} v_e v_e',
+ * and the symmetric square root of the ensemble-space analysis is
+ *   W = (N-1)^{1/2} [(N-1) I + S'S]^{-1/2} = I + sum f_e v_e v_e',
+ *   f_e = sqrt((N-1) / L_e) - 1 = -mu_e / (L_e + sqrt((N-1) L_e)),
+ * (multiply by sqrt(L_e) + sqrt(N-1) above and below), so that
+ *   W = I - B diag(h) B',  B = S' U (N x p),  h_e = 1 / (L_e + sqrt((N-1) L_e)):
+ * no division by mu_e, and an e with mu_e = 0 adds nothing (its column
+ * of B has length sqrt(mu_e)). The mean weights follow from
+ * [(N-1) I + S'S]^{-1} S' = S' [(N-1) I + S S']^{-1} (the push-through
+ * identity, ibid. section 2.1):
+ *   w = S' U diag(1 / L) U' d~ = B diag(1 / L) U' d~.
+ * Row i of the analysis is xbar_i + x'_i (W + w 1'), applied as
+ * xbar_i + x'_i - ((x'_i B) diag(h)) B' + (x'_i w) without forming W.
+ * The eigenvalues of (N-1) I + S'S are L_e and N - 1: the relative floor
+ * of the ensemble-space form would act on none when floor * max(L) stays
+ * below (N-1) / 2 (and, for floors below 1e-12, 1e-12 * max(L) too, so
+ * that rounding in the N x N form cannot reach the floor either).
+ * obs_prepare forms S S' and reduces it to tridiagonal form; obs_finish,
+ * after the QL iterations, analyses the rows of group g and returns 0, or
+ * 1 when the ensemble-space form must do it instead (the floor could act,
+ * the eigensolver failed or something is not finite). */
+LETKF_CLONES
+static void obs_prepare(const run_ctx *cx, slice *s)
+{
+    const size_t N = cx->N, p = s->nloc;
+    const buffers *b = cx->b;
+    double *restrict G = s->A, *restrict U = s->Q, *restrict Z = s->Z;
+    double *restrict dt = s->e;
+    size_t a, e, f;
+
+    /* S' column by column and d~ */
+    for (e = 0; e < p; e++) {
+        const double *yk = b->YbT + s->kidx[e] * N;
+        double sw = sqrt(s->kw[e]);
+        double *Ze = Z + e * N;
+#pragma omp simd
+        for (a = 0; a < N; a++)
+            Ze[a] = sw * yk[a];
+        dt[e] = sw * b->d[s->kidx[e]];
+    }
+    /* S S' (p x p) */
+    for (f = 0; f < p; f++)
+        for (e = 0; e <= f; e++)
+            G[e + f * p] = G[f + e * p] = dot4(N, Z + e * N, Z + f * N);
+    s->scale = tridiag(p, G, U, s->lam, s->t, s->beta);
+    ql_start(&s->ql, p, s->lam, s->t, U);
+}
+
+/* The rest of obs_prepare once the QL iterations are over. */
+LETKF_CLONES
+static int obs_finish(const run_ctx *cx, slice *s, size_t g)
+{
+    const size_t n = cx->n, N = cx->N, p = s->nloc;
+    const buffers *b = cx->b;
+    const size_t r0 = b->gstart[g], r1 = b->gstart[g + 1];
+    double *restrict G = s->A, *restrict U = s->Q, *restrict Z = s->Z;
+    double *restrict mu = s->lam, *restrict dt = s->e, *restrict h = s->beta;
+    double *restrict w = s->c, *restrict t = s->t, *restrict xp = s->xp;
+    double *X = cx->X, nm1 = (double)(N - 1), lmax, fl;
+    const int formed = 2 * (r1 - r0) >= N;
+    size_t a, e, f, j, r;
+
+    if (s->ql.info != 0)
+        return 1;
+    for (e = 0; e < p; e++)
+        mu[e] *= s->scale;
+    lmax = 0.0;
+    for (e = 0; e < p; e++) {
+        if (!(mu[e] > -HUGE_VAL && mu[e] < HUGE_VAL))
+            return 1;
+        if (mu[e] > lmax)
+            lmax = mu[e];
+    }
+    lmax += nm1;
+    fl = cx->floor_rel > 1e-12 ? cx->floor_rel : 1e-12;
+    if (!(fl * lmax < 0.5 * nm1))
+        return 1;
+
+    /* h, t = diag(1 / L) U' d~, then w = S' U t (U t into dt) */
+    for (e = 0; e < p; e++) {
+        double L = nm1 + (mu[e] > 0 ? mu[e] : 0.0);
+        h[e] = 1.0 / (L + sqrt(nm1 * L));
+        t[e] = dot4(p, U + e * p, dt) / L;
+    }
+    for (f = 0; f < p; f++)
+        dt[f] = 0.0;
+    for (e = 0; e < p; e++) {
+        const double *Ue = U + e * p;
+#pragma omp simd
+        for (f = 0; f < p; f++)
+            dt[f] += Ue[f] * t[e];
+    }
+    for (a = 0; a < N; a++)
+        w[a] = 0.0;
+    for (f = 0; f < p; f++) {
+        const double *Zf = Z + f * N;
+#pragma omp simd
+        for (a = 0; a < N; a++)
+            w[a] += Zf[a] * dt[f];
+    }
+    /* B = S' U into G (free once the eigenvectors are out) when the group
+     * has rows enough to pay for it (N p^2 once against 2 p^2 a row);
+     * otherwise G holds three p-vectors of each row's work */
+    if (formed) {
+        for (e = 0; e < p; e++) {
+            const double *Ue = U + e * p;
+            double *Be = G + e * N;
+            for (a = 0; a < N; a++)
+                Be[a] = 0.0;
+            for (f = 0; f < p; f++) {
+                const double *Zf = Z + f * N;
+                double u = Ue[f];
+#pragma omp simd
+                for (a = 0; a < N; a++)
+                    Be[a] += Zf[a] * u;
+            }
+        }
+    }
+
+    for (r = r0; r < r1; r++) {
+        size_t i = b->rows[r].i;
+        double xbar = 0.0, xw = 0.0;
+        for (j = 0; j < N; j++)
+            xbar += X[i + j * n];
+        xbar /= (double)N;
+        for (j = 0; j < N; j++) {
+            xp[j] = X[i + j * n] - xbar;
+            xw += xp[j] * w[j];
+        }
+        if (formed) {
+            /* x' - ((x' B) diag(h)) B' */
+            for (e = 0; e < p; e++)
+                t[e] = dot4(N, xp, G + e * N) * h[e];
+            for (e = 0; e < p; e++) {
+                const double *Be = G + e * N;
+#pragma omp simd
+                for (a = 0; a < N; a++)
+                    xp[a] -= t[e] * Be[a];
+            }
+        } else {
+            /* the same as x' - S' (U (diag(h) (U' (S x')))) */
+            double *v = G, *vt = G + p, *y = G + 2 * p;
+            for (f = 0; f < p; f++)
+                v[f] = dot4(N, xp, Z + f * N);
+            for (e = 0; e < p; e++)
+                vt[e] = dot4(p, U + e * p, v) * h[e];
+            for (f = 0; f < p; f++)
+                y[f] = 0.0;
+            for (e = 0; e < p; e++) {
+                const double *Ue = U + e * p;
+#pragma omp simd
+                for (f = 0; f < p; f++)
+                    y[f] += Ue[f] * vt[e];
+            }
+            for (f = 0; f < p; f++) {
+                const double *Zf = Z + f * N;
+#pragma omp simd
+                for (a = 0; a < N; a++)
+                    xp[a] -= y[f] * Zf[a];
+            }
+        }
+        for (j = 0; j < N; j++) {
+            X[i + j * n] = (xbar + xw) + xp[j];
+            if (!isfinite(X[i + j * n]))
+                fail(s, g, 0);
+        }
+    }
+    return 0;
+}
+
+/* The observations in reach of group g (rows at one place, or the rows
+ * that are not localised), into s; sets s->form. */
+static void gather(const run_ctx *cx, slice *s, size_t g)
+{
+    const size_t m = cx->m;
     const buffers *b = cx->b;
     const size_t r0 = b->gstart[g], r1 = b->gstart[g + 1];
     const entry *rep = &b->rows[r0];
-    double *A = s->A, *Q = s->Q, *lam = s->lam, *c = s->c, *t = s->t;
-    double *xp = s->xp, *X = cx->X, lmax, fl, nm1 = (double)(N - 1);
-    size_t used = 0, a, e, j, r, nfl = 0;
-    int info;
 
-    memset(A, 0, N * N * sizeof *A);
-    memset(c, 0, N * sizeof *c);
+    s->nloc = 0;
+    s->direct = 0;
     if (isnan(rep->a)) {
         /* not localised: every observation, damped by param_factor */
         size_t k;
         for (k = 0; k < m; k++)
-            add_obs(N, A, c, b->YbT + k * N, cx->loc->param_factor / cx->rdiag[k],
-                    b->d[k]);
-        used = m;
+            take_obs(cx, s, k, cx->loc->param_factor / cx->rdiag[k]);
     } else {
         const sl_localization *loc = cx->loc;
         double pos[2], key, h = cx->reach;
@@ -407,34 +744,73 @@ static void local_analysis(const run_ctx *cx, slice *s, size_t g)
         pos[1] = rep->b;
         key = cx->geom->key(loc->period_or_radius, pos);
         if (!(h < HUGE_VAL)) {
-            used = add_range(cx, s, pos, 0, 0.0, 0);
+            add_range(cx, s, pos, 0, 0.0, 0);
         } else if (cx->geom->key_periodic) {
             double L = loc->period_or_radius, x = key;
             if (x - h < 0) {
-                used = add_range(cx, s, pos, lower_bound(b->obs, m, x - h + L), 0.0, 0);
-                used += add_range(cx, s, pos, 0, x + h, 1);
+                add_range(cx, s, pos, lower_bound(b->obs, m, x - h + L), 0.0, 0);
+                add_range(cx, s, pos, 0, x + h, 1);
             } else if (x + h >= L) {
-                used = add_range(cx, s, pos, lower_bound(b->obs, m, x - h), 0.0, 0);
-                used += add_range(cx, s, pos, 0, x + h - L, 1);
+                add_range(cx, s, pos, lower_bound(b->obs, m, x - h), 0.0, 0);
+                add_range(cx, s, pos, 0, x + h - L, 1);
             } else {
-                used = add_range(cx, s, pos, lower_bound(b->obs, m, x - h), x + h, 1);
+                add_range(cx, s, pos, lower_bound(b->obs, m, x - h), x + h, 1);
             }
         } else {
-            used = add_range(cx, s, pos, lower_bound(b->obs, m, key - h), key + h, 1);
+            add_range(cx, s, pos, lower_bound(b->obs, m, key - h), key + h, 1);
         }
     }
-    if (used == 0) {
+    if (s->nloc == 0) {
         s->skipped += r1 - r0;
-        return;
+        s->form = 0;
+    } else {
+        s->form = s->direct ? 2 : 1;
     }
+}
 
-    /* Pa~ = [(N-1) I + C HX']^{-1} through A = Q diag(lam) Q' */
+/* The ensemble-space form: Pa~ = [(N-1) I + C HX']^{-1} through
+ * A = Q diag(lam) Q'. ens_prepare completes A (the held-back observations
+ * first if they are still held back) and reduces it to tridiagonal form;
+ * ens_finish, after the QL iterations, builds the transform once and
+ * applies it to each row of group g. */
+LETKF_CLONES
+static void ens_prepare(const run_ctx *cx, slice *s)
+{
+    const size_t N = cx->N;
+    const buffers *b = cx->b;
+    double *A = s->A, nm1 = (double)(N - 1);
+    size_t a, j;
+    if (!s->direct) {
+        size_t q;
+        memset(A, 0, N * N * sizeof *A);
+        memset(s->c, 0, N * sizeof *s->c);
+        for (q = 0; q < s->nloc; q++)
+            add_obs(N, A, s->c, b->YbT + s->kidx[q] * N, s->kw[q], b->d[s->kidx[q]]);
+        s->direct = 1;
+    }
     for (j = 0; j < N; j++) {
         A[j + j * N] += nm1;
         for (a = 0; a < j; a++)
             A[j + a * N] = A[a + j * N];
     }
-    info = sym_eigen(N, A, Q, lam, s->e, s->beta);
+    s->scale = tridiag(N, A, s->Q, s->lam, s->e, s->beta);
+    ql_start(&s->ql, N, s->lam, s->e, s->Q);
+}
+
+LETKF_CLONES
+static void ens_finish(const run_ctx *cx, slice *s, size_t g)
+{
+    const size_t n = cx->n, N = cx->N;
+    const buffers *b = cx->b;
+    const size_t r0 = b->gstart[g], r1 = b->gstart[g + 1];
+    double *A = s->A, *Q = s->Q, *lam = s->lam, *c = s->c, *t = s->t;
+    double *xp = s->xp, *X = cx->X, lmax, fl, nm1 = (double)(N - 1);
+    size_t a, e, j, r, nfl = 0;
+    int info = s->ql.info;
+
+    if (info == 0)
+        for (e = 0; e < N; e++)
+            lam[e] *= s->scale;
     lmax = 0.0;
     for (e = 0; e < N; e++) {
         if (!(lam[e] > -HUGE_VAL && lam[e] < HUGE_VAL))
@@ -443,10 +819,7 @@ static void local_analysis(const run_ctx *cx, slice *s, size_t g)
             lmax = lam[e];
     }
     if (info != 0 || !(lmax > 0 && lmax < HUGE_VAL)) {
-        if (g < s->fail_group) {
-            s->fail_group = g;
-            s->fail_info = info;
-        }
+        fail(s, g, info);
         return;
     }
     fl = cx->floor_rel * lmax;
@@ -481,6 +854,7 @@ static void local_analysis(const run_ctx *cx, slice *s, size_t g)
         for (e = 0; e < N; e++) {
             const double *q = Q + e * N;
             double f = t[e] * q[j];
+#pragma omp simd
             for (a = 0; a < N; a++)
                 Tj[a] += f * q[a];
         }
@@ -501,11 +875,46 @@ static void local_analysis(const run_ctx *cx, slice *s, size_t g)
             for (a = 0; a < N; a++)
                 acc += xp[a] * Tj[a];
             X[i + j * n] = xbar + acc;
-            if (!isfinite(X[i + j * n]) && g < s->fail_group) {
-                s->fail_group = g;
-                s->fail_info = 0;
-            }
+            if (!isfinite(X[i + j * n]))
+                fail(s, g, 0);
         }
+    }
+}
+
+/* The local analyses of group g1 and, unless s2 is NULL, group g2, their
+ * QL iterations interleaved; each group's arithmetic is the same whether
+ * it is paired or not, and with whichever group. */
+static void local_analysis(const run_ctx *cx, slice *s1, size_t g1, slice *s2, size_t g2)
+{
+    slice *sl[2];
+    size_t gg[2], q, ns = s2 != NULL ? 2 : 1;
+    ql_state *qs[2] = {NULL, NULL};
+    int nq = 0;
+    sl[0] = s1;
+    sl[1] = s2;
+    gg[0] = g1;
+    gg[1] = g2;
+    for (q = 0; q < ns; q++) {
+        gather(cx, sl[q], gg[q]);
+        if (sl[q]->form == 1)
+            obs_prepare(cx, sl[q]);
+        else if (sl[q]->form == 2)
+            ens_prepare(cx, sl[q]);
+        if (sl[q]->form != 0)
+            qs[nq++] = &sl[q]->ql;
+    }
+    if (nq > 0)
+        ql_run(qs[0], qs[1]);
+    for (q = 0; q < ns; q++) {
+        slice *s = sl[q];
+        if (s->form == 1 && obs_finish(cx, s, gg[q]) != 0) {
+            /* the ensemble-space form after all */
+            s->form = 2;
+            ens_prepare(cx, s);
+            ql_run(&s->ql, NULL);
+        }
+        if (s->form == 2)
+            ens_finish(cx, s, gg[q]);
     }
 }
 
@@ -520,6 +929,7 @@ sl_status sl_letkf_run(const sl_enkf_config *cfg, size_t n, size_t N,
     buffers b;
     run_ctx cx;
     size_t nthr, i, j, k, ngroup, floored = 0, skipped = 0;
+    const size_t spt = N <= PAIR_MAX_N ? 2 : 1; /* slices a thread */
     size_t fail_group = SIZE_MAX;
     int fail_info = 0;
     double xmax = 0.0, s1 = 0.0, s2 = 0.0, cmax = 0.0, bound;
@@ -654,7 +1064,7 @@ sl_status sl_letkf_run(const sl_enkf_config *cfg, size_t n, size_t N,
     cx.loc = loc;
     cx.b = &b;
     cx.floor_rel = cfg->eig_floor > 0 ? cfg->eig_floor : DEFAULT_FLOOR;
-    for (k = 0; k < nthr; k++) {
+    for (k = 0; k < spt * nthr; k++) {
         b.sl[k].floored = 0;
         b.sl[k].skipped = 0;
         b.sl[k].fail_group = SIZE_MAX;
@@ -690,14 +1100,25 @@ sl_status sl_letkf_run(const sl_enkf_config *cfg, size_t n, size_t N,
 #ifdef _OPENMP
                 tid = (size_t)omp_get_thread_num();
 #endif
+                if (spt == 2) {
+                    size_t q;
+                    /* in pairs: g0 + 2q and the group after it */
+#pragma omp for schedule(dynamic, (dyn + 1) / 2)
+                    for (q = 0; q < (g1 - g0 + 1) / 2; q++) {
+                        g = g0 + 2 * q;
+                        local_analysis(&cx, &b.sl[2 * tid], g,
+                                       g + 1 < g1 ? &b.sl[2 * tid + 1] : NULL, g + 1);
+                    }
+                } else {
 #pragma omp for schedule(dynamic, dyn)
-                for (g = g0; g < g1; g++)
-                    local_analysis(&cx, &b.sl[tid], g);
+                    for (g = g0; g < g1; g++)
+                        local_analysis(&cx, &b.sl[tid], g, NULL, 0);
+                }
             }
         }
     }
 
-    for (k = 0; k < nthr; k++) {
+    for (k = 0; k < spt * nthr; k++) {
         floored += b.sl[k].floored;
         skipped += b.sl[k].skipped;
         if (b.sl[k].fail_group < fail_group) {

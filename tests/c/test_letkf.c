@@ -680,6 +680,177 @@ static void test_ill_conditioned(void)
     }
 }
 
+/* Row i of the ensemble-space analysis of Hunt et al. (2007) with R / g
+ * localisation and the relative floor on the eigenvalues of the N x N
+ * matrix G = (N-1) I + Yb' (R / g)^{-1} Yb (as global_floored, with GSL's
+ * eigen solver): the reference for both of the LETKF's forms (the N x N
+ * one and the one through the local observations' own eigenproblem).
+ * Stores the row's members in xa; returns the number of observations in
+ * reach and adds the eigenvalues floored to *nfl. */
+static size_t local_floored(const problem *p, size_t i, double floor, double *xa, size_t *nfl)
+{
+    const size_t n = p->n, N = p->N, m = p->m;
+    size_t j, k, e, a, used = 0;
+    double cd[EMAX], w[EMAX], lam[EMAX], yb[EMAX], xp[EMAX], lmax, xbar = 0;
+    gsl_matrix *G = gsl_matrix_alloc(N, N), *Q = gsl_matrix_alloc(N, N);
+    gsl_vector *lv = gsl_vector_alloc(N);
+    gsl_eigen_symmv_workspace *ew = gsl_eigen_symmv_alloc(N);
+    gsl_matrix_set_identity(G);
+    gsl_matrix_scale(G, (double)(N - 1));
+    for (j = 0; j < N; j++)
+        cd[j] = 0;
+    for (k = 0; k < m; k++) {
+        double g = weight(p, i, k), mu = 0;
+        if (!(g > 0))
+            continue;
+        used++;
+        for (j = 0; j < N; j++)
+            mu += p->HX[k + j * m];
+        mu /= (double)N;
+        for (j = 0; j < N; j++)
+            yb[j] = p->HX[k + j * m] - mu;
+        for (j = 0; j < N; j++) {
+            cd[j] += g / p->r[k] * yb[j] * (p->y[k] - mu);
+            for (a = 0; a < N; a++)
+                gsl_matrix_set(G, j, a, gsl_matrix_get(G, j, a) + g / p->r[k] * yb[j] * yb[a]);
+        }
+    }
+    gsl_eigen_symmv(G, lv, Q, ew);
+    lmax = gsl_vector_max(lv);
+    for (e = 0; e < N; e++) {
+        lam[e] = gsl_vector_get(lv, e);
+        if (lam[e] < floor * lmax) {
+            lam[e] = floor * lmax;
+            (*nfl)++;
+        }
+    }
+    for (j = 0; j < N; j++) {
+        w[j] = 0;
+        for (e = 0; e < N; e++) {
+            double qc = 0;
+            for (a = 0; a < N; a++)
+                qc += gsl_matrix_get(Q, a, e) * cd[a];
+            w[j] += gsl_matrix_get(Q, j, e) * qc / lam[e];
+        }
+    }
+    for (j = 0; j < N; j++)
+        xbar += p->X0[i + j * n] / (double)N;
+    for (j = 0; j < N; j++)
+        xp[j] = p->X0[i + j * n] - xbar;
+    for (j = 0; j < N; j++) {
+        double s = 0;
+        for (a = 0; a < N; a++) {
+            double Waj = 0;
+            for (e = 0; e < N; e++)
+                Waj += gsl_matrix_get(Q, a, e) * gsl_matrix_get(Q, j, e) *
+                       sqrt((double)(N - 1) / lam[e]);
+            s += xp[a] * (w[a] + Waj);
+        }
+        xa[j] = used > 0 ? xbar + s : p->X0[i + j * n];
+    }
+    gsl_matrix_free(G);
+    gsl_matrix_free(Q);
+    gsl_vector_free(lv);
+    gsl_eigen_symmv_free(ew);
+    return used;
+}
+
+/* Every row against local_floored, to 1e-12 of the largest member value;
+ * returns the rows with fewer, as many and more observations in reach
+ * than members in cnt[0..2] (an analysis with fewer works through the
+ * observations' own eigenproblem unless the floor could act). */
+static void check_forms(problem *p, double floor, const char *what, size_t cnt[3])
+{
+    sl_enkf_info info;
+    sl_error err;
+    size_t i, j, nfl = 0;
+    double worst = 0, scale = 0, xa[EMAX];
+    sl_status st;
+    memcpy(p->X, p->X0, sizeof p->X);
+    p->cfg.eig_floor = floor;
+    st = run(p, &info, &err);
+    CHECK(st == SL_OK, "%s: status %d (%s)", what, (int)st, err.message);
+    cnt[0] = cnt[1] = cnt[2] = 0;
+    for (i = 0; i < p->n; i++) {
+        size_t used = local_floored(p, i, floor > 0 ? floor : 1e-12, xa, &nfl);
+        cnt[used < p->N ? 0 : (used == p->N ? 1 : 2)] += used > 0;
+        for (j = 0; j < p->N; j++) {
+            if (fabs(p->X[i + j * p->n] - xa[j]) > worst)
+                worst = fabs(p->X[i + j * p->n] - xa[j]);
+            if (fabs(xa[j]) > scale)
+                scale = fabs(xa[j]);
+        }
+    }
+    CHECK(worst <= 1e-12 * scale, "%s: differs from the ensemble-space analysis by %g (scale %g)",
+          what, worst, scale);
+    CHECK(info.floored == nfl, "%s: floored %lu, expected %lu", what,
+          (unsigned long)info.floored, (unsigned long)nfl);
+    p->cfg.eig_floor = 0;
+}
+
+/* The two forms of the local analysis against one reference: a ring of
+ * 40 rows at whole positions and 40 observations half-way between, so a
+ * half-width c puts 4 (c = 1), 10 (c = 2.5) or 16 (c = 4) observations in
+ * reach of every row, against N = 10 members; then random half-widths
+ * (every count mixed), and floors that act or not. */
+static void test_forms(void)
+{
+    static const double cs[3] = {1.0, 2.5, 4.0};
+    static const char *names[3] = {"4 obs < N", "10 obs = N", "16 obs > N"};
+    problem *p = &P1;
+    size_t q, i, cnt[3];
+    for (q = 0; q < 3; q++) {
+        make_problem(p, SL_GEOM_RING, 40, 10, 40, 0, 1.0, 1.0, 300 + q);
+        for (i = 0; i < 40; i++) {
+            p->spos[i] = (double)i;
+            p->opos[i] = (double)i + 0.5;
+            p->oc[i] = cs[q];
+        }
+        check_forms(p, 0, names[q], cnt);
+        CHECK(cnt[q] == 40, "%s: %lu %lu %lu rows with fewer, as many, more obs than members",
+              names[q], (unsigned long)cnt[0], (unsigned long)cnt[1], (unsigned long)cnt[2]);
+    }
+    /* rows in groups of 6 at one place (4 observations each): a group
+     * with rows enough forms its transform once, single rows apply it
+     * factor by factor */
+    make_problem(p, SL_GEOM_RING, 48, 10, 40, 0, 1.0, 1.0, 305);
+    for (i = 0; i < 48; i++)
+        p->spos[i] = (double)(i / 6) * 5.0;
+    for (i = 0; i < 40; i++) {
+        p->opos[i] = (double)i + 0.5;
+        p->oc[i] = 1.0;
+    }
+    check_forms(p, 0, "groups of 6 rows", cnt);
+    CHECK(cnt[0] == 48, "groups of 6 rows: %lu %lu %lu rows", (unsigned long)cnt[0],
+          (unsigned long)cnt[1], (unsigned long)cnt[2]);
+    /* random places and half-widths, rows sharing places, rows not
+     * localised (all 60 observations: more than N) */
+    make_problem(p, SL_GEOM_RING, 200, 12, 60, 3, 0.5, 5.0, 310);
+    check_forms(p, 0, "mixed counts", cnt);
+    CHECK(cnt[0] > 0 && cnt[1] > 0 && cnt[2] > 0, "mixed counts: %lu %lu %lu rows",
+          (unsigned long)cnt[0], (unsigned long)cnt[1], (unsigned long)cnt[2]);
+    /* a floor that acts on few observations (the N x N form then) and
+     * one that does not (the observations' form stays) */
+    {
+        size_t nfl = 0;
+        double xa[EMAX];
+        make_problem(p, SL_GEOM_RING, 40, 10, 40, 0, 1.0, 1.0, 320);
+        for (i = 0; i < 40; i++) {
+            p->spos[i] = (double)i;
+            p->opos[i] = (double)i + 0.5;
+        }
+        for (i = 0; i < 40; i++)
+            local_floored(p, i, 0.3, xa, &nfl);
+        CHECK(nfl > 0, "floor 0.3: the reference floors nothing");
+        check_forms(p, 0.3, "4 obs, floor 0.3", cnt);
+        nfl = 0;
+        for (i = 0; i < 40; i++)
+            local_floored(p, i, 0.001, xa, &nfl);
+        CHECK(nfl == 0, "floor 0.001: the reference floors %lu", (unsigned long)nfl);
+        check_forms(p, 0.001, "4 obs, floor 0.001", cnt);
+    }
+}
+
 /* Rows with nothing in reach: observations at one end of a line. */
 static void test_out_of_reach(void)
 {
@@ -942,6 +1113,7 @@ int main(void)
     test_one_observation();
     test_threads();
     test_ill_conditioned();
+    test_forms();
     test_out_of_reach();
     test_errors();
     test_poll_batches();
