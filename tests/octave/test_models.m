@@ -77,16 +77,7 @@
 %! % to 1e-9 mm/d on all 730 days, first-day Q = 4.1007378585214731, and
 %! % the Nash-Sutcliffe efficiency of days 366-730 = 0.91903003 (model notes
 %! % section 2; the data stay outside the project)
-%! % the tests run from the repository root; shared/ lies beside it
-%! cands = {getenv('SLUICE_REFERENCE_DIR'), fullfile(pwd (), '..', 'shared', 'reference'), ...
-%!          '/work/shared/reference'};
-%! file = '';
-%! for k = 1:numel (cands)
-%!   f = fullfile (cands{k}, 'gr4j_reference_case.csv');
-%!   if (~isempty (cands{k}) && exist (f, 'file'))
-%!     file = f; break;
-%!   end
-%! end
+%! file = gr4j_reference_file ();
 %! if (isempty (file))
 %!   printf ('SKIP gr4j reference case: ../shared/reference/gr4j_reference_case.csv not found\n');
 %!   return;

@@ -29,17 +29,8 @@
 
 %!test
 %! % a three-state rotation-and-decay model, two states observed, 25 cycles
-%! th = 0.3;
-%! A = 0.95 * [cos(th) -sin(th) 0; sin(th) cos(th) 0; 0 0 1];
-%! A(3, 1) = 0.2;
-%! Q = diag ([0.3 0.2 0.1]);
-%! H = [1 0 0; 0 0 1]; R = diag ([0.5 0.8]);
-%! T = 25; x = [1; -1; 0.5]; Y = zeros (2, T);
-%! randn ('state', 7);
-%! for k = 1:T
-%!   x = A * x + sqrt (Q) * randn (3, 1);
-%!   Y(:, k) = H * x + sqrt (R) * randn (2, 1);
-%! end
+%! [A, Q, H, R, Y] = rotation_decay_case ();
+%! T = 25;
 %! [~, ~, m, P, ll] = kalman_rts (A, Q, H, R, zeros (3, 1), eye (3), Y);
 %! spec = sluice.model ('linear', 'A', A, 'Q', Q, 'states', {'a', 'b', 'c'});
 %! pr = sluice.prior ('a', 'normal', [0 1], 'b', 'normal', [0 1], 'c', 'normal', [0 1]);
