@@ -22,7 +22,7 @@
 
 /* Below this many members a parallel region costs more than it saves (and
  * far more on a loaded machine, where a thread may wait a time slice). */
-#define PAR_MIN_MEMBERS 2048
+#define PAR_MIN_MEMBERS SL_PFI_PAR_MIN_MEMBERS
 
 /* Share the `bytes` an analysis's workspace of aw bytes took (its
  * alignment included) among the parts: what it needs on one thread
@@ -239,6 +239,12 @@ static size_t layout(const sl_pf_config *cfg, unsigned char *base,
     }
     tmp = sl_ws_carve(base, &off, nthr * sizeof(sl_error), (void **)&b->terr);
     PART(SL_PF_PART_THREADS);
+    if (cfg->ranks != NULL) {
+        const size_t P = cfg->ranks->size > 0 ? (size_t)cfg->ranks->size : 1;
+        sl_ws_carve(base, &off, P * sizeof(size_t), (void **)&b->rk_counts);
+        tmp = sl_ws_carve(base, &off, P * 8, (void **)&b->rk_stats);
+        PART(SL_PF_PART_ENSEMBLE);
+    }
 #undef PART
     b->bytes = sl_ws_size(tmp);
     return b->bytes;
@@ -268,6 +274,11 @@ const sl_param_mover *sl_pf_auto_move(const sl_pf_config *cfg)
     if (sl_pf_analysis_of(cfg) == &sl_analysis_pf_weak)
         return &sl_param_move_random_walk;
     return sl_pf_paths_random(cfg) ? &sl_param_move_kernel : &sl_param_move_resample_move;
+}
+
+size_t sl_pfi_layout(const sl_pf_config *cfg, unsigned char *base, pf_buffers *b)
+{
+    return layout(cfg, base, b, NULL);
 }
 
 size_t sl_pf_workspace(const sl_pf_config *cfg)
@@ -729,7 +740,7 @@ void sl_pfi_eval_forcing(const sl_pf_config *cfg, pf_buffers *b, double *E,
     for (j = 0; j < N; j++) {
         sl_stream st;
         double *e = E + j * q, *u = U + j * q;
-        sl_stream_init(&st, seed, ids != NULL ? ids[j] : (uint32_t)j, s,
+        sl_stream_init(&st, seed, ids != NULL ? ids[j] : (uint32_t)(b->m0 + j), s,
                        SL_PURPOSE_FORCING);
         for (i = 0; i < q; i++) {
             const sl_forcing_noise_type *kind = sl_forcing_noise_get(f->noise[i]);
@@ -790,7 +801,7 @@ sl_status sl_pfi_step_all(const sl_pf_config *cfg, pf_buffers *b, double *X,
         return st;
     }
     if (nthr <= 1)
-        return md->step(md, t, t_end, 0, N, X, P, U, seed, s, b->mwork, err);
+        return md->step(md, t, t_end, b->m0, N, X, P, U, seed, s, b->mwork, err);
     for (k = 0; k < nthr; k++)
         b->terr[k].status = SL_OK;
 #pragma omp parallel num_threads(nthr)
@@ -803,7 +814,7 @@ sl_status sl_pfi_step_all(const sl_pf_config *cfg, pf_buffers *b, double *X,
         j0 = N * (size_t)tid / (size_t)nthr;
         j1 = N * (size_t)(tid + 1) / (size_t)nthr;
         if (j1 > j0)
-            md->step(md, t, t_end, j0, j1 - j0, X + j0 * n, P + j0 * p,
+            md->step(md, t, t_end, b->m0 + j0, j1 - j0, X + j0 * n, P + j0 * p,
                      U + j0 * q, seed, s, b->mwork + (size_t)tid * b->mwork_per,
                      &b->terr[tid]);
     }
@@ -1182,7 +1193,7 @@ void sl_pfi_add_state_noise(const sl_pf_config *cfg, pf_buffers *b, double *X,
 #pragma omp parallel for num_threads(b->nt) schedule(static) private(i)
     for (j = 0; j < N; j++) {
         sl_stream sn;
-        sl_stream_init(&sn, seed, ids != NULL ? ids[j] : (uint32_t)j, (uint32_t)k,
+        sl_stream_init(&sn, seed, ids != NULL ? ids[j] : (uint32_t)(b->m0 + j), (uint32_t)k,
                        SL_PURPOSE_STATE_NOISE);
         for (i = 0; i < n; i++)
             if (cfg->state_noise[i] > 0) {
@@ -2072,8 +2083,11 @@ sl_status sl_pf_run(const sl_pf_config *cfg, double *X, double *P, double *w,
         /* forecast */
         {
             const uint32_t s0 = s;
-            st = sl_pfi_forecast(cfg, &b, Xc, Pc, b.E[cur], b.U, &t, k, k, &s, &fidx, NULL,
-                                 cfg->seed, b.pcn ? b.zp : NULL, 0, 1, err);
+            if (cfg->ranks != NULL && !b.pcn)
+                st = sl_pfi_forecast_split(cfg, &b, cur, &t, k, &s, &fidx, err);
+            else
+                st = sl_pfi_forecast(cfg, &b, Xc, Pc, b.E[cur], b.U, &t, k, k, &s, &fidx, NULL,
+                                     cfg->seed, b.pcn ? b.zp : NULL, 0, 1, err);
             out->steps += s - s0;
             if (st != SL_OK)
                 return st;

@@ -48,6 +48,11 @@ typedef struct sl_pfi_buffers {
     sl_error *terr;
     size_t mwork_per, qwork_per, m_max;
     int nt; /* threads for per-member loops: 1 for small ensembles */
+    size_t *rk_counts; /* a run with cfg->ranks: P counts and P doubles */
+    double *rk_stats;  /* of scratch for its collectives */
+    size_t m0; /* the global index of member 0 (a run split across ranks:
+                * the first member of this rank; else 0): the member
+                * index of every random stream of the forecast */
     /* resample_move: the ancestors of every cycle (lin, T x N: the
      * forecast index at cycle c of the parent of member j after cycle
      * c), the paths being re-run (path, T x N), the initial states, the
@@ -84,6 +89,20 @@ typedef struct sl_pfi_buffers {
         *wk_hb, *wk_cxh, *wk_d, *tmp2;
     size_t *wk_row;
 } pf_buffers;
+
+/* Per-member loops run on one thread below this many members. */
+#define SL_PFI_PAR_MIN_MEMBERS 2048
+
+/* Lay the run's buffers out in base (NULL: measure); the bytes (0 when
+ * a size overflows). */
+size_t sl_pfi_layout(const sl_pf_config *cfg, unsigned char *base, pf_buffers *b);
+
+/* The forecast of cycle k of a run with cfg->ranks (pf_ranks.c): this
+ * rank's members advanced, then every member's state and forcing
+ * perturbations gathered into buffers cur on every rank; a failure on
+ * any rank fails it on every rank. */
+sl_status sl_pfi_forecast_split(const sl_pf_config *cfg, pf_buffers *b, int cur, double *t,
+                                size_t k, uint32_t *s, size_t *fidx, sl_error *err);
 
 /* The cycle's helpers (pf.c): forcing values and their perturbations,
  * a model step of every member, the state noise, predicted observations,

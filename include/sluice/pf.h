@@ -108,6 +108,9 @@ typedef sl_status (*sl_pf_checkpoint_fn)(void *ctx, const sl_pf_snapshot *snap,
 typedef sl_status (*sl_obs_fn)(void *ctx, double t, size_t N, const double *X,
                                const double *P, double *Y, sl_error *err);
 
+/* The ranks of a distributed run (defined below). */
+struct sl_pf_ranks_s;
+
 typedef struct {
     const sl_model *model;
     size_t N;               /* members */
@@ -315,6 +318,14 @@ typedef struct {
     const int *comp;
     const int *obs_comp;
     const size_t *comp_lag;
+    /* A run split across ranks that sl_pf_run_ranks cannot split by
+     * members (NULL: one process): set by sl_pf_run_ranks, every rank
+     * forecasts its own members [floor(r N / P), floor((r + 1) N / P))
+     * at each cycle (the model steps, the forcing perturbations; streams
+     * by the global member index), the forecasts are gathered, and the
+     * rest of the run (analysis, resampling, moves, summaries) runs whole,
+     * alike, on every rank. */
+    const struct sl_pf_ranks_s *ranks;
 } sl_pf_config;
 
 /* What a run records; the caller allocates every array (sizes with
@@ -580,6 +591,61 @@ uint64_t sl_fnv1a(uint64_t h, const void *data, size_t n);
  * cycles done so far. */
 sl_status sl_pf_run(const sl_pf_config *cfg, double *X, double *P, double *w,
                     void *work, sl_pf_output *out, sl_error *err);
+
+/* The ranks of a run split across processes (a distributed job): this
+ * rank's number and their count, and two collectives the caller provides
+ * (the core knows nothing of how they travel). Each returns SL_OK, or a
+ * failure in err (a rank that left, a transport error); every rank calls
+ * them in the same order.
+ *   allgather: every rank r contributes counts[r] bytes (this rank's from
+ *     send); recv receives all of them, rank after rank.
+ *   exchange: this rank sends scounts[r] bytes to every rank r (send holds
+ *     them rank after rank) and receives rcounts[r] bytes from every rank
+ *     r into recv, rank after rank (its own counts are 0).
+ * chunk_bytes bounds what a rank sends (and receives) in one exchange:
+ * resampling moves members in as many rounds as it needs (0: 8 MiB). */
+typedef struct sl_pf_ranks_s {
+    void *ctx;
+    int rank, size;
+    size_t chunk_bytes;
+    sl_status (*allgather)(void *ctx, const void *send, void *recv, const size_t *counts,
+                           sl_error *err);
+    sl_status (*exchange)(void *ctx, const void *send, const size_t *scounts, void *recv,
+                          const size_t *rcounts, sl_error *err);
+} sl_pf_ranks;
+
+/* sl_pf_check, and whether the run can be split across P ranks: at
+ * least one member a rank ("ranksempty"), no checkpoint and no SMC2
+ * ("ranksunsupported"). */
+sl_status sl_pf_ranks_check(const sl_pf_config *cfg, int P, sl_error *err);
+
+/* 1 when sl_pf_run_ranks splits the run by members (the particle filter,
+ * strong coupling, with a parameter move of none or at resampling
+ * (kernel), no lag, tempering, SMC2, history or derived summaries); 0
+ * when it splits the forecasts only (cfg->ranks). */
+int sl_pf_ranks_by_members(const sl_pf_config *cfg);
+
+/* Bytes of workspace sl_pf_run_ranks needs on rank rk->rank of rk->size
+ * (0 if a size overflows or the split is impossible). */
+size_t sl_pf_ranks_workspace(const sl_pf_config *cfg, const sl_pf_ranks *rk);
+
+/* sl_pf_run split across the ranks of rk. By members
+ * (sl_pf_ranks_by_members): rank r runs members floor(r N / P) ..
+ * floor((r + 1) N / P) - 1 (their forecasts, likelihoods and moves,
+ * every random stream keyed by the global member index) and keeps, of all
+ * N members, only what is per member and small (weights, health,
+ * ancestors, transformed parameters and their ids, the summarised rows of
+ * the cycle). Otherwise the forecasts only (cfg->ranks). Every rank
+ * passes the same configuration and the whole initial ensemble X
+ * (n x N), P (p x N); every rank ends with the whole final ensemble in X
+ * and P, the weights in w and the same outputs, each bit for bit those of
+ * sl_pf_run, for any number of ranks. A failure on one rank (a model
+ * step, an operator function) fails the run on every rank: there with
+ * its own error, elsewhere with reason "rankfailed" naming the lowest
+ * failing rank. */
+sl_status sl_pf_run_ranks(const sl_pf_config *cfg, const sl_pf_ranks *rk, double *X,
+                          double *P, double *w, void *work, sl_pf_output *out,
+                          sl_error *err);
 
 #ifdef __cplusplus
 }

@@ -1,0 +1,692 @@
+/* test_pf_ranks.c - the particle filter split across ranks
+ * (sl_pf_run_ranks), with the ranks played by threads of this process and
+ * collectives in shared memory: every output equals the single-process
+ * run (sl_pf_run) bit for bit for 1 to 7 ranks, with an exchange of one
+ * member a round as well as the default, split by members (the particle
+ * filter) or by forecasts only (a lag, tempering, history, the ensemble
+ * Kalman analyses); a rank whose model fails fails the run on every
+ * rank; the settings it refuses, each with its reason. */
+#include "check.h"
+#include "sluice/integrate.h"
+#include "sluice/loglik.h"
+#include "sluice/pf.h"
+#include "sluice/prior.h"
+#include "sluice/rng.h"
+
+#include <math.h>
+#include <pthread.h>
+#include <stdint.h>
+#include <string.h>
+
+/* ------------------------------------------------ ranks as threads */
+
+#define MAX_RANKS 8
+
+typedef struct {
+    int P;
+    pthread_barrier_t bar;
+    const void *send[MAX_RANKS];
+    const size_t *counts[MAX_RANKS];
+    int mismatch;
+} shared_comm;
+
+typedef struct {
+    shared_comm *sh;
+    int rank;
+    size_t gathers, exchanged; /* calls, and bytes this rank received */
+} rank_comm;
+
+static sl_status fake_allgather(void *ctx, const void *send, void *recv, const size_t *counts,
+                                sl_error *err)
+{
+    rank_comm *c = ctx;
+    shared_comm *sh = c->sh;
+    size_t at = 0;
+    int r;
+    (void)err;
+    sh->send[c->rank] = send;
+    sh->counts[c->rank] = counts;
+    pthread_barrier_wait(&sh->bar);
+    for (r = 0; r < sh->P; r++) {
+        /* every rank must agree on every contribution's size */
+        if (sh->counts[r][r] != counts[r])
+            sh->mismatch = 1;
+        memcpy((unsigned char *)recv + at, sh->send[r], counts[r]);
+        at += counts[r];
+    }
+    c->gathers++;
+    pthread_barrier_wait(&sh->bar);
+    return SL_OK;
+}
+
+static sl_status fake_exchange(void *ctx, const void *send, const size_t *scounts, void *recv,
+                               const size_t *rcounts, sl_error *err)
+{
+    rank_comm *c = ctx;
+    shared_comm *sh = c->sh;
+    size_t at = 0;
+    int r, q;
+    (void)err;
+    sh->send[c->rank] = send;
+    sh->counts[c->rank] = scounts;
+    pthread_barrier_wait(&sh->bar);
+    for (r = 0; r < sh->P; r++) {
+        size_t from = 0;
+        /* what rank r sends to this one starts after what it sends to
+         * the ranks before this one */
+        for (q = 0; q < c->rank; q++)
+            from += sh->counts[r][q];
+        if (sh->counts[r][c->rank] != rcounts[r] || (r == c->rank && rcounts[r] != 0))
+            sh->mismatch = 1;
+        else
+            memcpy((unsigned char *)recv + at, (const unsigned char *)sh->send[r] + from,
+                   rcounts[r]);
+        at += rcounts[r];
+        c->exchanged += rcounts[r];
+    }
+    pthread_barrier_wait(&sh->bar);
+    return SL_OK;
+}
+
+/* ------------------------------------------------------ run buffers */
+
+typedef struct {
+    sl_pf_output out;
+    double *X, *P, *w;
+    void *work;
+    sl_status st;
+    sl_error err;
+} run_buf;
+
+static void *zalloc(size_t count, size_t size)
+{
+    return ck_calloc(count ? count : 1, size);
+}
+
+static void run_alloc(run_buf *r, const sl_pf_config *cfg, const double *X0, const double *P0,
+                      size_t work)
+{
+    const size_t n = cfg->model->n_state, p = cfg->model->n_param, N = cfg->N, T = cfg->T,
+                 v = n + p, nq = cfg->nq, m = cfg->obs_first[T];
+    memset(r, 0, sizeof *r);
+    r->out.mean = zalloc(v * T, 8);
+    r->out.quant = zalloc(v * nq * T, 8);
+    r->out.ess = zalloc(T, 8);
+    r->out.logz = zalloc(T, 8);
+    r->out.resampled = zalloc(T, 8);
+    r->out.degenerate = zalloc(T, 8);
+    r->out.skipped = zalloc(T, 8);
+    r->out.nonfinite = zalloc(T, 8);
+    r->out.fmean = zalloc(v * T, 8);
+    r->out.distinct = zalloc(p * T, 8);
+    r->out.pspread = zalloc(p * T, 8);
+    r->out.temper_steps = zalloc(T, 8);
+    r->out.loglik_evals = zalloc(T, 8);
+    r->out.move_sweeps = zalloc(T, 8);
+    r->out.move_accept = zalloc(T, 8);
+    r->out.nanpred = zalloc(T, 8);
+    r->out.pit = zalloc(m, 8);
+    if (cfg->lag > 0) {
+        r->out.smean = zalloc(v * T, 8);
+        r->out.squant = zalloc(v * nq * T, 8);
+        r->out.sanc = zalloc(T, 8);
+    }
+    r->X = zalloc(n * N, 8);
+    r->P = zalloc(p * N, 8);
+    r->w = zalloc(N, 8);
+    r->work = zalloc(work, 1);
+    memcpy(r->X, X0, n * N * 8);
+    memcpy(r->P, P0, p * N * 8);
+}
+
+static void run_free(run_buf *r)
+{
+    double **f[] = {&r->out.mean, &r->out.quant, &r->out.ess, &r->out.logz,
+                    &r->out.resampled, &r->out.degenerate, &r->out.skipped, &r->out.nonfinite,
+                    &r->out.fmean, &r->out.distinct, &r->out.pspread, &r->out.temper_steps,
+                    &r->out.loglik_evals, &r->out.move_sweeps, &r->out.move_accept,
+                    &r->out.nanpred, &r->out.pit, &r->out.smean, &r->out.squant,
+                    &r->out.sanc, &r->X, &r->P, &r->w};
+    size_t i;
+    for (i = 0; i < sizeof f / sizeof *f; i++)
+        ck_free(*f[i]);
+    ck_free(r->work);
+    memset(r, 0, sizeof *r);
+}
+
+/* bit for bit, NaN included */
+static int same(const double *a, const double *b, size_t count)
+{
+    return count == 0 || memcmp(a, b, count * sizeof(double)) == 0;
+}
+
+static int identical(const sl_pf_config *cfg, const run_buf *a, const run_buf *b,
+                     char *what)
+{
+    const size_t n = cfg->model->n_state, p = cfg->model->n_param, N = cfg->N, T = cfg->T,
+                 v = n + p, nq = cfg->nq, m = cfg->obs_first[T];
+    struct {
+        const char *name;
+        const double *x, *y;
+        size_t count;
+    } f[] = {{"mean", a->out.mean, b->out.mean, v * T},
+             {"quant", a->out.quant, b->out.quant, v * nq * T},
+             {"ess", a->out.ess, b->out.ess, T},
+             {"logz", a->out.logz, b->out.logz, T},
+             {"resampled", a->out.resampled, b->out.resampled, T},
+             {"degenerate", a->out.degenerate, b->out.degenerate, T},
+             {"skipped", a->out.skipped, b->out.skipped, T},
+             {"nonfinite", a->out.nonfinite, b->out.nonfinite, T},
+             {"fmean", a->out.fmean, b->out.fmean, v * T},
+             {"distinct", a->out.distinct, b->out.distinct, p * T},
+             {"pspread", a->out.pspread, b->out.pspread, p * T},
+             {"temper_steps", a->out.temper_steps, b->out.temper_steps, T},
+             {"loglik_evals", a->out.loglik_evals, b->out.loglik_evals, T},
+             {"move_sweeps", a->out.move_sweeps, b->out.move_sweeps, T},
+             {"move_accept", a->out.move_accept, b->out.move_accept, T},
+             {"nanpred", a->out.nanpred, b->out.nanpred, T},
+             {"pit", a->out.pit, b->out.pit, m},
+             {"smean", a->out.smean, b->out.smean, cfg->lag > 0 ? v * T : 0},
+             {"squant", a->out.squant, b->out.squant, cfg->lag > 0 ? v * nq * T : 0},
+             {"sanc", a->out.sanc, b->out.sanc, cfg->lag > 0 ? T : 0},
+             {"X", a->X, b->X, n * N},
+             {"P", a->P, b->P, p * N},
+             {"w", a->w, b->w, N},
+             {"log_evidence", &a->out.log_evidence, &b->out.log_evidence, 1}};
+    size_t i;
+    for (i = 0; i < sizeof f / sizeof *f; i++)
+        if (!same(f[i].x, f[i].y, f[i].count)) {
+            strcpy(what, f[i].name);
+            return 0;
+        }
+    if (a->out.steps != b->out.steps) {
+        strcpy(what, "steps");
+        return 0;
+    }
+    return 1;
+}
+
+/* ------------------------------------------------- distributed runs */
+
+typedef struct {
+    const sl_pf_config *cfg;
+    const double *X0, *P0;
+    rank_comm comm;
+    sl_pf_ranks rk;
+    run_buf r;
+} rank_job;
+
+static void *rank_main(void *arg)
+{
+    rank_job *j = arg;
+    j->r.st = sl_pf_run_ranks(j->cfg, &j->rk, j->r.X, j->r.P, j->r.w, j->r.work, &j->r.out,
+                              &j->r.err);
+    return NULL;
+}
+
+/* Run cfg on P ranks; every rank's result in jobs[0 .. P-1]. */
+static int run_ranks(const sl_pf_config *cfg, int P, size_t chunk, const double *X0,
+                     const double *P0, shared_comm *sh, rank_job *jobs)
+{
+    pthread_t th[MAX_RANKS];
+    int r, ok = 1;
+    memset(sh, 0, sizeof *sh);
+    sh->P = P;
+    pthread_barrier_init(&sh->bar, NULL, (unsigned)P);
+    for (r = 0; r < P; r++) {
+        rank_job *j = &jobs[r];
+        size_t bytes;
+        memset(j, 0, sizeof *j);
+        j->cfg = cfg;
+        j->comm.sh = sh;
+        j->comm.rank = r;
+        j->rk.ctx = &j->comm;
+        j->rk.rank = r;
+        j->rk.size = P;
+        j->rk.chunk_bytes = chunk;
+        j->rk.allgather = fake_allgather;
+        j->rk.exchange = fake_exchange;
+        bytes = sl_pf_ranks_workspace(cfg, &j->rk);
+        CHECK(bytes > 0, "workspace of rank %d of %d", r, P);
+        run_alloc(&j->r, cfg, X0, P0, bytes);
+    }
+    for (r = 0; r < P; r++)
+        if (pthread_create(&th[r], NULL, rank_main, &jobs[r]) != 0)
+            ok = 0;
+    CHECK(ok, "threads started");
+    for (r = 0; r < P && ok; r++)
+        pthread_join(th[r], NULL);
+    pthread_barrier_destroy(&sh->bar);
+    CHECK(!sh->mismatch, "ranks disagreed on the sizes of a collective (%d ranks)", P);
+    return ok;
+}
+
+static void compare_ranks(const sl_pf_config *cfg, const run_buf *ref, const double *X0,
+                          const double *P0, const char *label, int min_exchanged)
+{
+    static const int ranks[] = {1, 2, 3, 4, 7};
+    static const size_t chunks[] = {0, 1};
+    shared_comm sh;
+    rank_job jobs[MAX_RANKS];
+    size_t ir, ic;
+    for (ir = 0; ir < sizeof ranks / sizeof *ranks; ir++)
+        for (ic = 0; ic < 2; ic++) {
+            const int P = ranks[ir];
+            size_t moved = 0;
+            int r;
+            if (!run_ranks(cfg, P, chunks[ic], X0, P0, &sh, jobs))
+                return;
+            for (r = 0; r < P; r++) {
+                char what[40] = "";
+                CHECK(jobs[r].r.st == SL_OK, "%s: %d ranks, rank %d: %s", label, P, r,
+                      jobs[r].r.err.message);
+                if (jobs[r].r.st == SL_OK)
+                    CHECK(identical(cfg, ref, &jobs[r].r, what),
+                          "%s: %d ranks (chunk %lu), rank %d: %s differs from one process",
+                          label, P, (unsigned long)chunks[ic], r, what);
+                moved += jobs[r].comm.exchanged;
+                run_free(&jobs[r].r);
+            }
+            /* the case must exercise the exchange it is meant to */
+            if (P > 1 && min_exchanged)
+                CHECK(moved > 0, "%s: %d ranks moved no member", label, P);
+            if (P == 1)
+                CHECK(moved == 0, "%s: one rank exchanged %lu bytes", label,
+                      (unsigned long)moved);
+        }
+}
+
+/* ----------------------------------------------------- the cases */
+
+/* GR4J, 4 parameters (two drawn, lognormal, moved by the kernel at
+ * resampling), rain and evaporation perturbed, flows observed (lognormal)
+ * with gaps: a joint state-parameter run as users make them. */
+static void check_gr4j(void)
+{
+    enum { N = 203, T = 60, NS = 63 };
+    const sl_model_def *d = sl_model_def_find("gr4j");
+    static double times[T], Fv[T * 2], Ft[T], y[T], sg[T], aux[T];
+    static size_t first[T + 1], var[T];
+    static int fam[T];
+    const int noise[2] = {SL_FORCING_MULTIPLICATIVE, SL_FORCING_MULTIPLICATIVE};
+    const double fsd[2] = {0.3, 0.1}, fphi[2] = {0.5, 0.0}, probs[3] = {0.05, 0.5, 0.95};
+    sl_transform tr[4];
+    sl_model md;
+    sl_def_model dm;
+    sl_pf_config cfg;
+    sl_error err;
+    double *X0 = ck_malloc(NS * N * 8), *P0 = ck_malloc(4 * N * 8);
+    run_buf ref;
+    size_t j, k, i, nres = 0;
+    CHECK(d != NULL, "gr4j");
+    if (d == NULL)
+        return;
+    CHECK(sl_def_model_init(&md, &dm, d, 0, NULL, 0, NULL, NULL, &err) == SL_OK, "gr4j model");
+    for (k = 0; k < T; k++) {
+        sl_stream s;
+        sl_stream_init(&s, 3, 0, (uint32_t)k, SL_PURPOSE_USER);
+        Ft[k] = (double)k;
+        times[k] = (double)(k + 1);
+        Fv[k] = sl_stream_uniform(&s) < 0.4 ? -6.0 * log(sl_stream_uniform(&s)) : 0.0;
+        Fv[T + k] = 2.0;
+        first[k] = k;
+        var[k] = NS - 1; /* Q */
+        y[k] = k % 7 == 3 ? (double)NAN : 0.5 + 0.02 * (double)k;
+        sg[k] = 0.2;
+        aux[k] = 0.0;
+        fam[k] = SL_FAMILY_LOGNORMAL;
+    }
+    first[T] = T;
+    for (i = 0; i < 4; i++)
+        tr[i] = sl_transform_for_bounds(d->p_lower[i], d->p_upper[i]);
+    for (j = 0; j < N; j++) {
+        sl_stream s;
+        sl_stream_init(&s, 11, (uint32_t)j, 0, SL_PURPOSE_PRIOR);
+        for (i = 0; i < 4; i++)
+            P0[i + j * 4] = d->p_default[i];
+        P0[0 + j * 4] = exp(log(300.0) + 0.3 * sl_stream_normal(&s));
+        P0[2 + j * 4] = exp(log(80.0) + 0.3 * sl_stream_normal(&s));
+        for (i = 0; i < NS; i++)
+            X0[i + j * NS] = d->x0 != NULL ? d->x0[i] : 0.0;
+        X0[0 + j * NS] = 100.0 + 50.0 * sl_stream_uniform(&s);
+        X0[1 + j * NS] = 30.0 + 20.0 * sl_stream_uniform(&s);
+    }
+    memset(&cfg, 0, sizeof cfg);
+    cfg.model = &md;
+    cfg.N = N;
+    cfg.T = T;
+    cfg.times = times;
+    cfg.obs_first = first;
+    cfg.y = y;
+    cfg.sigma = sg;
+    cfg.aux = aux;
+    cfg.family = fam;
+    cfg.var = var;
+    cfg.forcing.q = 2;
+    cfg.forcing.nt = T;
+    cfg.forcing.time = Ft;
+    cfg.forcing.value = Fv;
+    cfg.forcing.hold = 1;
+    cfg.forcing.noise = noise;
+    cfg.forcing.sd = fsd;
+    cfg.forcing.phi = fphi;
+    cfg.ptrans = tr;
+    cfg.param_move = &sl_param_move_kernel;
+    cfg.move.lw_delta = 0.98;
+    cfg.move.kernel_scale = 1.0;
+    cfg.move.min_ess = SL_KERNEL_MIN_ESS;
+    cfg.resampler = &sl_resampler_systematic;
+    cfg.threshold = 0.5;
+    cfg.seed = 2026;
+    cfg.threads = 1;
+    cfg.nq = 3;
+    cfg.probs = probs;
+    run_alloc(&ref, &cfg, X0, P0, sl_pf_workspace(&cfg));
+    ref.st = sl_pf_run(&cfg, ref.X, ref.P, ref.w, ref.work, &ref.out, &ref.err);
+    CHECK(ref.st == SL_OK, "gr4j single process: %s", ref.err.message);
+    if (ref.st == SL_OK) {
+        for (k = 0; k < T; k++)
+            nres += ref.out.resampled[k] != 0;
+        /* the run exercises resampling, the move and the gaps */
+        CHECK(nres >= 5 && nres < T, "gr4j resampled at %lu of %d cycles", (unsigned long)nres,
+              T);
+        CHECK(ref.out.skipped[3] == 1, "gr4j: the gap skipped");
+        CHECK(ref.out.distinct[0 + (T - 1) * 4] > 20, "gr4j: x1 kept its spread (%g values)",
+              ref.out.distinct[0 + (T - 1) * 4]);
+        compare_ranks(&cfg, &ref, X0, P0, "gr4j kernel", 1);
+        /* summaries off: the rows are not gathered, the rest the same */
+        cfg.no_summary = 1;
+        run_free(&ref);
+        run_alloc(&ref, &cfg, X0, P0, sl_pf_workspace(&cfg));
+        ref.st = sl_pf_run(&cfg, ref.X, ref.P, ref.w, ref.work, &ref.out, &ref.err);
+        CHECK(ref.st == SL_OK, "gr4j without summaries: %s", ref.err.message);
+        if (ref.st == SL_OK)
+            compare_ranks(&cfg, &ref, X0, P0, "gr4j no summary", 1);
+        cfg.no_summary = 0;
+        /* stratified resampling and a threshold of 1 (every cycle) */
+        cfg.resampler = &sl_resampler_stratified;
+        cfg.threshold = 1.0;
+        run_free(&ref);
+        run_alloc(&ref, &cfg, X0, P0, sl_pf_workspace(&cfg));
+        ref.st = sl_pf_run(&cfg, ref.X, ref.P, ref.w, ref.work, &ref.out, &ref.err);
+        CHECK(ref.st == SL_OK, "gr4j stratified: %s", ref.err.message);
+        if (ref.st == SL_OK)
+            compare_ranks(&cfg, &ref, X0, P0, "gr4j stratified", 1);
+    }
+    run_free(&ref);
+    ck_free(X0);
+    ck_free(P0);
+}
+
+/* A model of its own: the 2-state linear model plus model noise keyed by
+ * the member index (member_draws), failing at step `fail_step` for
+ * member `fail_member` when asked. */
+static sl_model lin_md;
+static long fail_member = -1, fail_step = -1;
+
+static sl_status noisy_step(const sl_model *model, double t, double t_end, size_t first,
+                            size_t count, double *X, const double *P, const double *U,
+                            uint64_t seed, uint32_t step, double *work, sl_error *err)
+{
+    size_t j;
+    sl_status st = lin_md.step(&lin_md, t, t_end, first, count, X, P, U, seed, step, work, err);
+    (void)model;
+    if (st != SL_OK)
+        return st;
+    for (j = 0; j < count; j++) {
+        sl_stream s;
+        if ((long)(first + j) == fail_member && (long)step == fail_step)
+            return sl_fail(err, SL_EMODEL, "modelfailed", "member %lu failed at step %u",
+                           (unsigned long)(first + j + 1), step);
+        sl_stream_init(&s, seed, (uint32_t)(first + j), step, SL_PURPOSE_MODEL_NOISE);
+        X[0 + j * 2] += 0.05 * sl_stream_normal(&s);
+    }
+    return SL_OK;
+}
+
+static void check_member_draws_and_failure(void)
+{
+    enum { N = 50, T = 8 };
+    static const double A[4] = {0.9, -0.2, 0.1, 0.95}, B[2] = {0.5, 0.1}, c[2] = {0.0, 0.1},
+                        L[2] = {1.0, 0.0};
+    static const sl_linear lin = {2, 1, A, B, c, L};
+    static double times[T], y[T], sg[T], aux[T], ft[T + 2], fv[T + 2];
+    static size_t first[T + 1], var[T];
+    static int fam[T];
+    const double snoise[2] = {0.02, 0.01}, probs[2] = {0.25, 0.75};
+    sl_model md;
+    sl_pf_config cfg;
+    sl_error err;
+    double X0[2 * N], P0[1];
+    run_buf ref;
+    shared_comm sh;
+    rank_job jobs[MAX_RANKS];
+    size_t j, k;
+    int r;
+    CHECK(sl_linear_model(&lin_md, &lin, 0.5, &err) == SL_OK, "linear model: %s", err.message);
+    md = lin_md;
+    md.step = noisy_step;
+    md.member_draws = 1;
+    md.thread_safe = 1;
+    for (k = 0; k < T + 2; k++) {
+        ft[k] = (double)k;
+        fv[k] = sin((double)k);
+    }
+    for (k = 0; k < T; k++) {
+        times[k] = 1.0 + (double)k;
+        first[k] = k;
+        var[k] = 0;
+        y[k] = 0.3 * (double)k - 0.5;
+        sg[k] = 0.4;
+        aux[k] = 0.0;
+        fam[k] = SL_FAMILY_GAUSSIAN;
+    }
+    first[T] = T;
+    for (j = 0; j < 2 * N; j++) {
+        sl_stream s;
+        sl_stream_init(&s, 9, (uint32_t)j, 0, SL_PURPOSE_PRIOR);
+        X0[j] = sl_stream_normal(&s);
+    }
+    P0[0] = 0.0;
+    memset(&cfg, 0, sizeof cfg);
+    cfg.model = &md;
+    cfg.N = N;
+    cfg.T = T;
+    cfg.times = times;
+    cfg.obs_first = first;
+    cfg.y = y;
+    cfg.sigma = sg;
+    cfg.aux = aux;
+    cfg.family = fam;
+    cfg.var = var;
+    cfg.forcing.q = 1;
+    cfg.forcing.nt = T + 2;
+    cfg.forcing.time = ft;
+    cfg.forcing.value = fv;
+    cfg.state_noise = snoise;
+    cfg.param_move = &sl_param_move_fixed;
+    cfg.resampler = &sl_resampler_systematic;
+    cfg.threshold = 0.8;
+    cfg.seed = 5;
+    cfg.threads = 1;
+    cfg.nq = 2;
+    cfg.probs = probs;
+    run_alloc(&ref, &cfg, X0, P0, sl_pf_workspace(&cfg));
+    ref.st = sl_pf_run(&cfg, ref.X, ref.P, ref.w, ref.work, &ref.out, &ref.err);
+    CHECK(ref.st == SL_OK, "member draws, one process: %s", ref.err.message);
+    if (ref.st == SL_OK)
+        compare_ranks(&cfg, &ref, X0, P0, "member draws", 1);
+    run_free(&ref);
+    /* runs the members cannot split: the forecasts split, the rest whole
+     * on every rank, still the one-process run bit for bit */
+    {
+        static const char *const names[] = {"lag", "tempering", "history", "etkf", "enkf",
+                                            "wenkf"};
+        size_t v;
+        for (v = 0; v < sizeof names / sizeof *names; v++) {
+            sl_pf_config c2 = cfg;
+            if (v == 0)
+                c2.lag = 3;
+            else if (v == 1) {
+                c2.temper.ess = 0.9;
+                c2.temper.max_steps = 20;
+            } else if (v == 2)
+                c2.keep_history = 1;
+            else if (v == 3)
+                c2.analysis = &sl_analysis_etkf;
+            else if (v == 4)
+                c2.analysis = &sl_analysis_enkf;
+            else
+                c2.wenkf = 1;
+            CHECK(!sl_pf_ranks_by_members(&c2), "%s: not split by members", names[v]);
+            run_alloc(&ref, &c2, X0, P0, sl_pf_workspace(&c2));
+            ref.st = sl_pf_run(&c2, ref.X, ref.P, ref.w, ref.work, &ref.out, &ref.err);
+            CHECK(ref.st == SL_OK, "%s, one process: %s", names[v], ref.err.message);
+            if (ref.st == SL_OK)
+                compare_ranks(&c2, &ref, X0, P0, names[v], 0);
+            run_free(&ref);
+        }
+    }
+
+    /* member 37 (rank 2 of 3: members 33 .. 49) fails at step 5 */
+    fail_member = 37;
+    fail_step = 5;
+    if (run_ranks(&cfg, 3, 0, X0, P0, &sh, jobs)) {
+        for (r = 0; r < 3; r++) {
+            if (r == 2)
+                CHECK(jobs[r].r.st == SL_EMODEL &&
+                          strcmp(jobs[r].r.err.reason, "modelfailed") == 0 &&
+                          strstr(jobs[r].r.err.message, "member 38") != NULL,
+                      "the failing rank keeps its own error: %d %s %s", jobs[r].r.st,
+                      jobs[r].r.err.reason, jobs[r].r.err.message);
+            else
+                CHECK(jobs[r].r.st == SL_EMODEL &&
+                          strcmp(jobs[r].r.err.reason, "rankfailed") == 0 &&
+                          strstr(jobs[r].r.err.message, "rank 2 of 3") != NULL,
+                      "rank %d names the failing rank: %d %s %s", r, jobs[r].r.st,
+                      jobs[r].r.err.reason, jobs[r].r.err.message);
+            run_free(&jobs[r].r);
+        }
+    }
+    /* the same where only the forecasts split (the ETKF) */
+    {
+        sl_pf_config c2 = cfg;
+        c2.analysis = &sl_analysis_etkf;
+        if (run_ranks(&c2, 3, 0, X0, P0, &sh, jobs)) {
+            for (r = 0; r < 3; r++) {
+                const int own = r == 2;
+                CHECK(jobs[r].r.st == SL_EMODEL &&
+                          strcmp(jobs[r].r.err.reason, own ? "modelfailed" : "rankfailed") == 0,
+                      "etkf: rank %d: %d %s %s", r, jobs[r].r.st, jobs[r].r.err.reason,
+                      jobs[r].r.err.message);
+                run_free(&jobs[r].r);
+            }
+        }
+    }
+    fail_member = fail_step = -1;
+}
+
+static sl_status refuse_snapshot(void *ctx, const sl_pf_snapshot *sn, sl_error *err)
+{
+    (void)ctx;
+    (void)sn;
+    return sl_fail(err, SL_EINVAL, "test", "no checkpoint is written here");
+}
+
+static void expect_refused(const sl_pf_config *cfg, int P, const char *reason,
+                           const char *what)
+{
+    sl_error err;
+    sl_status st;
+    sl_error_clear(&err);
+    st = sl_pf_ranks_check(cfg, P, &err);
+    CHECK(st == SL_EINVAL && strcmp(err.reason, reason) == 0,
+          "%s: expected %s, got %d %s (%s)", what, reason, st, err.reason, err.message);
+}
+
+static void check_refusals(void)
+{
+    enum { N = 6, T = 3 };
+    static double times[T] = {1, 2, 3}, y[T] = {0, 1, 0}, sg[T] = {1, 1, 1}, aux[T];
+    static size_t first[T + 1] = {0, 1, 2, 3}, var[T];
+    static int fam[T] = {SL_FAMILY_GAUSSIAN, SL_FAMILY_GAUSSIAN, SL_FAMILY_GAUSSIAN};
+    static const double A[1] = {0.9}, B[1] = {0.0}, c[1] = {0.0}, L[1] = {1.0};
+    static const sl_linear lin = {1, 1, A, B, c, L};
+    static const double ft[2] = {0.0, 10.0}, fv[2] = {0.0, 0.0};
+    const double snoise[1] = {0.5};
+    sl_model md;
+    sl_pf_config cfg, c2;
+    sl_error err;
+    sl_pf_ranks rk;
+    CHECK(sl_linear_model(&md, &lin, 1.0, &err) == SL_OK, "model");
+    memset(&cfg, 0, sizeof cfg);
+    cfg.model = &md;
+    cfg.N = N;
+    cfg.T = T;
+    cfg.times = times;
+    cfg.obs_first = first;
+    cfg.y = y;
+    cfg.sigma = sg;
+    cfg.aux = aux;
+    cfg.family = fam;
+    cfg.var = var;
+    cfg.state_noise = snoise;
+    cfg.param_move = &sl_param_move_fixed;
+    cfg.resampler = &sl_resampler_systematic;
+    cfg.threshold = 0.5;
+    cfg.threads = 1;
+    cfg.forcing.q = 1;
+    cfg.forcing.nt = 2;
+    cfg.forcing.time = ft;
+    cfg.forcing.value = fv;
+    CHECK(sl_pf_ranks_check(&cfg, 6, &err) == SL_OK, "6 members on 6 ranks: %s", err.message);
+    expect_refused(&cfg, 7, "ranksempty", "6 members on 7 ranks");
+    expect_refused(&cfg, 0, "badranks", "0 ranks");
+    /* what cannot be split by members splits its forecasts */
+    c2 = cfg;
+    c2.lag = 2;
+    CHECK(sl_pf_ranks_check(&c2, 2, &err) == SL_OK && !sl_pf_ranks_by_members(&c2),
+          "a lag: forecasts split");
+    c2 = cfg;
+    c2.analysis = &sl_analysis_etkf;
+    CHECK(sl_pf_ranks_check(&c2, 2, &err) == SL_OK && !sl_pf_ranks_by_members(&c2),
+          "the ETKF: forecasts split");
+    CHECK(sl_pf_ranks_by_members(&cfg), "the particle filter: split by members");
+    c2 = cfg;
+    c2.checkpoint = refuse_snapshot;
+    c2.checkpoint_every = 1;
+    expect_refused(&c2, 2, "ranksunsupported", "a checkpoint");
+    c2 = cfg;
+    c2.inner = 2;
+    c2.move.rm_scale = 1.0;
+    c2.move.rm_diversity = 0.5;
+    c2.move.rm_sweeps = 3;
+    expect_refused(&c2, 2, "ranksunsupported", "SMC2");
+    /* workspace: 0 for a split that cannot be */
+    memset(&rk, 0, sizeof rk);
+    rk.rank = 0;
+    rk.size = 7;
+    CHECK(sl_pf_ranks_workspace(&cfg, &rk) == 0, "workspace of 7 ranks for 6 members");
+    rk.size = 2;
+    rk.rank = 2;
+    CHECK(sl_pf_ranks_workspace(&cfg, &rk) == 0, "workspace of rank 2 of 2");
+    rk.rank = 1;
+    CHECK(sl_pf_ranks_workspace(&cfg, &rk) > 0, "workspace of rank 1 of 2");
+    /* a run without collectives */
+    {
+        double X[N] = {0}, P[1] = {0}, w[N];
+        sl_pf_output out;
+        memset(&out, 0, sizeof out);
+        CHECK(sl_pf_run_ranks(&cfg, &rk, X, P, w, NULL, &out, &err) == SL_EINVAL &&
+                  strcmp(err.reason, "badranks") == 0,
+              "no collectives: %s", err.reason);
+    }
+}
+
+int main(void)
+{
+    check_gr4j();
+    check_member_draws_and_failure();
+    check_refusals();
+    CHECK_DONE("test_pf_ranks");
+}
