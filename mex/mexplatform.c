@@ -7,6 +7,8 @@
 #include <windows.h>
 #include <io.h>
 #elif defined(__unix__) || defined(__APPLE__)
+#include <dlfcn.h>
+#include <string.h>
 #include <time.h>
 #include <unistd.h>
 #else
@@ -116,4 +118,22 @@ void slm_sleep_seconds(double s)
 #else
     (void)s;
 #endif
+}
+
+slm_function slm_symbol(const char *name)
+{
+    slm_function f = NULL;
+#if !defined(_WIN32) && (defined(__unix__) || defined(__APPLE__))
+    /* the global scope: the program and every library loaded global */
+    void *self = dlopen(NULL, RTLD_NOW), *sym;
+    if (self == NULL)
+        return NULL;
+    sym = dlsym(self, name);
+    if (sym != NULL)
+        memcpy(&f, &sym, sizeof f); /* POSIX: a data pointer holds a function's */
+    dlclose(self);
+#else
+    (void)name;
+#endif
+    return f;
 }

@@ -124,6 +124,12 @@ void slm_sleep_seconds(double s);
  * sluice.internal.interruptible, or as the host's own interrupt). */
 int slm_take_interrupt(void);
 
+/* The function a gateway loaded in this process exports under `name`
+ * (Octave loads gateways with their symbols global), or NULL when none
+ * does or the platform cannot look it up. */
+typedef void (*slm_function)(void);
+slm_function slm_symbol(const char *name);
+
 /* Numbers of threads to use: `requested` if > 0, else omp_get_max_threads(). */
 int slm_threads(double requested);
 

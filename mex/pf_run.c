@@ -1144,15 +1144,47 @@ static void check_memory(const run_settings *s)
         mxDestroyArray(in[k]);
 }
 
+/* A run split across the ranks of an mpirun job (settings field ranks:
+ * 1, it must be; 2, when the core can split it; absent or 0, not): the
+ * collectives come from the MPI gateway sluice.kernel.mpi, which must be
+ * loaded and started. Returns the mode, rk filled when not 0. */
+typedef int (*ranks_provider)(sl_pf_ranks *rk);
+
+static int decode_ranks(const run_settings *s, sl_pf_ranks *rk)
+{
+    const mxArray *a = slm_field(s->fn, s->c, "ranks", 0);
+    slm_function f;
+    ranks_provider get;
+    double mode;
+    if (a == NULL)
+        return 0;
+    if (!((mxIsLogical(a) || mxIsDouble(a)) && mxGetNumberOfElements(a) == 1))
+        slm_fail(s->fn, "badsettings", "ranks: expected 0, 1 or 2");
+    mode = mxGetScalar(a);
+    if (mode != 1 && mode != 2)
+        return 0;
+    f = slm_symbol("sluice_mpi_pf_ranks");
+    get = (ranks_provider)f;
+    if (f == NULL || !get(rk))
+        slm_fail(s->fn, "mpiunavailable",
+                 "a run split across ranks needs MPI started by the gateway "
+                 "sluice.kernel.mpi ('init'), under mpirun (build it with \"make MPI=1\")");
+    return (int)mode;
+}
+
 /* Raise a failed run's error: the user's own function's first. */
 static void raise_run(run_settings *s, const sl_error *err)
 {
     slm_poll_finish(&s->poll);
+    if (strcmp(err->reason, "rankfailed") == 0)
+        slm_raise(s->fn, err); /* another rank's failure: its own error is there */
     if (s->ho.failed && (err->status == SL_EMODEL || err->status == SL_EINTERRUPT))
         slm_handle_obs_raise(s->fn, &s->ho);
     if (s->model.step != NULL && strcmp(s->kind, "handle") == 0 &&
         (err->status == SL_EMODEL || (err->status == SL_EINTERRUPT && s->hm.interrupted)))
         slm_handle_model_raise(s->fn, &s->hm);
+    if (strcmp(err->reason, "rankleft") == 0 || strcmp(err->reason, "mpifailed") == 0)
+        slm_raise("mpi", err); /* the job's, as the MPI gateway raises them */
     slm_raise(s->fn, err);
 }
 
@@ -1166,13 +1198,16 @@ void mexFunction(int nlhs, mxArray *plhs[], int nrhs, const mxArray *prhs[])
         "smooth_mean", "smooth_quantiles", "smooth_distinct", "distinct", "spread",
         "temper_steps", "loglik_evals", "move_sweeps", "move_accept", "param_move",
         "derived_mean", "derived_quantiles", "nanpred", "comp_ess", "comp_logz",
-        "comp_smooth_distinct", "pit"};
+        "comp_smooth_distinct", "pit", "ranks"};
     run_settings s;
     sl_pf_output out;
+    sl_pf_ranks rk;
     sl_error err;
     mxArray *res, *xa, *pa, *wa;
     void *work;
-    size_t k;
+    size_t k, bytes;
+    int ranks;
+    sl_status st;
 
     slm_init();
     slm_nargs("pf_run", nrhs, 1, 1, nlhs, 1);
@@ -1196,13 +1231,21 @@ void mexFunction(int nlhs, mxArray *plhs[], int nrhs, const mxArray *prhs[])
     decode_analysis(&s);
     decode_coupling(&s);
     decode_checkpoint(&s);
+    ranks = decode_ranks(&s, &rk);
 
     xa = initial(&s, "X0", s.n, 0);
     pa = initial(&s, "P0", s.p, SLM_ALLOW_INF);
-    if (sl_pf_check(&s.cfg, &err) != SL_OK)
+    if (ranks == 2 && sl_pf_ranks_check(&s.cfg, rk.size, &err) != SL_OK &&
+        (strcmp(err.reason, "ranksunsupported") == 0 || strcmp(err.reason, "ranksempty") == 0))
+        ranks = 0; /* a run the core cannot split: each rank runs it whole */
+    if ((ranks ? sl_pf_ranks_check(&s.cfg, rk.size, &err) : sl_pf_check(&s.cfg, &err)) != SL_OK)
         slm_raise(s.fn, &err);
-    check_memory(&s);
-    work = slm_alloc(s.fn, sl_pf_workspace(&s.cfg), 1);
+    if (!ranks)
+        check_memory(&s);
+    bytes = ranks ? sl_pf_ranks_workspace(&s.cfg, &rk) : sl_pf_workspace(&s.cfg);
+    if (ranks && bytes == 0)
+        slm_fail(s.fn, "toolarge", "the run's workspace size overflows");
+    work = slm_alloc(s.fn, bytes, 1);
 
     res = mxCreateStructMatrix(1, 1, (int)(sizeof out_names / sizeof *out_names), out_names);
     wa = slm_create(s.fn, 1, s.N);
@@ -1217,8 +1260,11 @@ void mexFunction(int nlhs, mxArray *plhs[], int nrhs, const mxArray *prhs[])
             ck_read(&s, f); /* resume from it */
     }
 
-    if (sl_pf_run(&s.cfg, mxGetDoubles(xa), mxGetDoubles(pa), mxGetDoubles(wa), work,
-                  &out, &err) != SL_OK)
+    st = ranks ? sl_pf_run_ranks(&s.cfg, &rk, mxGetDoubles(xa), mxGetDoubles(pa),
+                                 mxGetDoubles(wa), work, &out, &err)
+               : sl_pf_run(&s.cfg, mxGetDoubles(xa), mxGetDoubles(pa), mxGetDoubles(wa), work,
+                           &out, &err);
+    if (st != SL_OK)
         raise_run(&s, &err);
     slm_poll_finish(&s.poll);
     if (out.hist_a != NULL)
@@ -1228,6 +1274,7 @@ void mexFunction(int nlhs, mxArray *plhs[], int nrhs, const mxArray *prhs[])
     mxSetField(res, 0, "P", pa);
     mxSetField(res, 0, "log_evidence", mxCreateDoubleScalar(out.log_evidence));
     mxSetField(res, 0, "steps", mxCreateDoubleScalar((double)out.steps));
+    mxSetField(res, 0, "ranks", mxCreateDoubleScalar(ranks ? (double)rk.size : 1.0));
     mxSetField(res, 0, "param_move",
                mxCreateString(s.cfg.inner > 0 ? "smc2" : s.cfg.param_move->name));
     plhs[0] = res;

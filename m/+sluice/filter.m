@@ -395,6 +395,35 @@
 % @item progress
 % @code{'auto'} (default: a progress line on a terminal for runs over
 % 2 s), true or false.
+% @item mpi
+% Octave started by @code{mpirun -np P octave-cli script.m} (Open MPI;
+% build with @code{make MPI=1}): the members of the run split across the
+% P processes (ranks), each advancing and weighing its own (every
+% random stream is keyed by the member's number, so the result is the
+% one-process run's, bit for bit, for any P) and every rank returning
+% the whole result. false (default): this process runs the whole run
+% (under mpirun, every rank the same); true: split, or the error;
+% @code{'auto'}: split when launched by mpirun and the run can be split,
+% else each rank runs the whole run. Every rank must make the call
+% (the ranks wait for each other in it): call it on every rank, never
+% on one rank alone. Inside @code{sluice.sweep} and @code{sluice.pmmh},
+% whose points and chains are dealt across the ranks already, the run is
+% this process's alone whatever this option says. The particle filter
+% (@code{method} @code{'pf'}, strong coupling) with @code{param_move}
+% @code{'none'} or @code{'kernel'} (the default on noisy paths) splits
+% by members: each rank keeps only its members' states, and of all
+% members what is small (weights, parameters, the summarised rows).
+% Every other run splits its forecasts (the model steps, usually the
+% cost) and does the rest (the analysis, resampling, moves, summaries)
+% whole on every rank: a @code{lag}, tempering, @code{history}, the
+% ensemble Kalman methods, @code{'resample_move'} (its re-runs of paths
+% are whole). A checkpoint or @code{'smc2'} cannot be split
+% (@code{sluice:filter:ranksunsupported} with true). Every rank needs at
+% least one member (@code{sluice:filter:ranksempty}); every rank must
+% make the same call
+% (@code{sluice:filter:mpimismatch}); a failing member stops the run on
+% every rank, with its own error on its rank and
+% @code{sluice:filter:rankfailed} naming that rank on the others.
 % @item prepare
 % true to return a prepared run instead of running (see below; default
 % false).
@@ -461,7 +490,9 @@
 % state but a NaN predicted observation, from an operator, given zero
 % weight; warning @code{sluice:filter:nanprediction}),
 % @code{skipped} (missing observations per cycle), @code{nonfinite}
-% (members whose state was not finite, given zero weight), @code{final}
+% (members whose state was not finite, given zero weight), @code{ranks}
+% (the processes the members were split across, option @code{mpi}; 1:
+% this one alone), @code{final}
 % (the last ensemble: @code{X}, @code{P}, @code{w}) and, when asked,
 % @code{history} (@code{X} n x N x T, @code{P}, @code{w} N x T,
 % @code{ancestors} N x T, 1-based). @code{forecast.mean} (n x T) and

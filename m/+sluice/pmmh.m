@@ -275,6 +275,9 @@ function res = pmmh (model, prior, obs, varargin)
   end
   target = S.to;
   world = sluice.internal.mpi ('world', 'pmmh', opts.mpi);
+  % the work is this process's (dealt out to it, or all of it): a filter
+  % run inside it runs on this rank alone
+  held = sluice.internal.mpi ('hold');
   if (world.active)
     % every rank must run the same chains
     sluice.internal.mpi ('same', 'pmmh', 'runs (seed, chains, iterations, members or checkpoint)', ...

@@ -180,6 +180,9 @@ function [table, info] = sweep (fun, grid, varargin)
   seeds = point_seeds (keys, opts.seed);
 
   world = sluice.internal.mpi ('world', 'sweep', opts.mpi);
+  % the work is this process's (dealt out to it, or all of it): a filter
+  % run inside it runs on this rank alone
+  held = sluice.internal.mpi ('hold');
   if (world.active)
     % every rank must sweep the same points with the same file: the point
     % seeds (hashes of the keys) stand for the grid, summed with weights

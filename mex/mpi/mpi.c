@@ -9,6 +9,9 @@
  *   b    = sluice.kernel.mpi ('bcast', bytes, root)  uint8 of any length
  *   c    = sluice.kernel.mpi ('gather', bytes, root) root: 1 x size cell, others {}
  *          sluice.kernel.mpi ('barrier')
+ *   s    = sluice.kernel.mpi ('stats')  [seconds bytes calls] of the particle
+ *          filter's collectives on this rank since the last 'stats' (waiting
+ *          included; bytes received), then zeroed
  *
  * Never a hang when a rank leaves: every rank, when its Octave exits,
  * sends "leaving" to every other rank (on a control communicator of its
@@ -20,8 +23,10 @@
  * (its partners are gone). A rank killed outright (signal, out of
  * memory) is mpirun's to notice: it ends the whole job. */
 #include "../mexutil.h"
+#include "sluice/pf.h"
 
 #include <mpi.h>
+#include <stdio.h>
 #include <stdint.h>
 #include <stdlib.h>
 #include <string.h>
@@ -38,6 +43,9 @@ static int heard_leaving = 0;           /* leaving messages received */
 static int dangling = 0;                /* a collective left unfinished */
 static int leaving_note = 0;            /* what a leaving message carries */
 static int left_rank = -1;              /* the first rank heard leaving */
+/* the core's collectives since the last 'stats': seconds inside them
+ * (waiting included), bytes this rank received, calls */
+static double core_seconds = 0.0, core_bytes = 0.0, core_calls = 0.0;
 
 static void fail_mpi(int rc, const char *what)
 {
@@ -48,8 +56,9 @@ static void fail_mpi(int rc, const char *what)
     slm_fail(fn, "failed", "rank %d of %d: %s: %s", world_rank, world_size, what, msg);
 }
 
-/* Wait for req, watching for a rank that left: then sluice:mpi:rankleft. */
-static void wait_watch(MPI_Request *req, const char *what)
+/* Wait for req, watching for a rank that left. Returns 0 when done; else
+ * the MPI error code (what failed) or -1 (a rank left: left_rank). */
+static int wait_req(MPI_Request *req)
 {
     long spins = 0;
     for (;;) {
@@ -58,10 +67,10 @@ static void wait_watch(MPI_Request *req, const char *what)
         rc = MPI_Test(req, &done, MPI_STATUS_IGNORE);
         if (rc != MPI_SUCCESS) {
             dangling = 1;
-            fail_mpi(rc, what);
+            return rc;
         }
         if (done)
-            return;
+            return 0;
         rc = MPI_Iprobe(MPI_ANY_SOURCE, TAG_LEAVING, ctl, &flag, &st);
         if (rc == MPI_SUCCESS && flag) {
             int note = 0;
@@ -69,15 +78,151 @@ static void wait_watch(MPI_Request *req, const char *what)
             heard_leaving++;
             dangling = 1;
             left_rank = st.MPI_SOURCE;
-            slm_fail(fn, "rankleft",
-                     "rank %d of %d: rank %d left (its Octave ended: finished, or stopped by an "
-                     "error shown in its own output) while this rank waited for it in %s",
-                     world_rank, world_size, st.MPI_SOURCE, what);
+            return -1;
         }
         /* spin briefly, then yield the core: ranks may share cores */
         if (++spins > 2000)
             slm_sleep_seconds(spins > 20000 ? 2e-3 : 1e-4);
     }
+}
+
+static const char left_text[] =
+    "rank %d of %d: rank %d left (its Octave ended: finished, or stopped by an "
+    "error shown in its own output) while this rank waited for it in %s";
+
+/* Wait for req, watching for a rank that left: then sluice:mpi:rankleft. */
+static void wait_watch(MPI_Request *req, const char *what)
+{
+    int rc = wait_req(req);
+    if (rc == -1)
+        slm_fail(fn, "rankleft", left_text, world_rank, world_size, left_rank, what);
+    if (rc != 0)
+        fail_mpi(rc, what);
+}
+
+/* ---------------------------------------- the core's collectives */
+
+/* The core's collectives report instead of raising (the core returns
+ * through its own frames): sluice:<fn>:rankleft or :mpifailed. */
+static sl_status wait_status(MPI_Request *req, const char *what, sl_error *err)
+{
+    int rc = wait_req(req);
+    char msg[MPI_MAX_ERROR_STRING];
+    int len = 0;
+    if (rc == 0)
+        return SL_OK;
+    if (rc == -1)
+        return sl_fail(err, SL_EMODEL, "rankleft", left_text, world_rank, world_size, left_rank,
+                       what);
+    if (MPI_Error_string(rc, msg, &len) != MPI_SUCCESS)
+        snprintf(msg, sizeof msg, "error code %d", rc);
+    return sl_fail(err, SL_EMODEL, "mpifailed", "rank %d of %d: %s: %s", world_rank,
+                   world_size, what, msg);
+}
+
+/* Byte counts as MPI's int counts of a unit of 8, 4 or 1 bytes (the
+ * largest that divides every count), so that up to 16 GiB go in one
+ * call; n counts from `counts`, displacements rank after rank. */
+static sl_status unit_counts(const size_t *a, const size_t *b, int n, MPI_Datatype *type,
+                             int *ca, int *da, int *cb, int *db, sl_error *err)
+{
+    size_t unit = 8, ta = 0, tb = 0;
+    int i;
+    for (i = 0; i < n; i++)
+        while (unit > 1 && (a[i] % unit != 0 || (b != NULL && b[i] % unit != 0)))
+            unit /= 2;
+    for (i = 0; i < n; i++) {
+        if (ta / unit > (size_t)INT32_MAX - a[i] / unit ||
+            (b != NULL && tb / unit > (size_t)INT32_MAX - b[i] / unit))
+            return sl_fail(err, SL_ENOMEM, "toolarge",
+                           "rank %d of %d: a message of more than 2^31 - 1 units of %lu bytes "
+                           "(use more ranks, or fewer members)",
+                           world_rank, world_size, (unsigned long)unit);
+        ca[i] = (int)(a[i] / unit);
+        da[i] = (int)(ta / unit);
+        ta += a[i];
+        if (b != NULL) {
+            cb[i] = (int)(b[i] / unit);
+            db[i] = (int)(tb / unit);
+            tb += b[i];
+        }
+    }
+    *type = unit == 8 ? MPI_UINT64_T : unit == 4 ? MPI_UINT32_T : MPI_UINT8_T;
+    return SL_OK;
+}
+
+static sl_status core_allgather(void *ctx, const void *send, void *recv, const size_t *counts,
+                                sl_error *err)
+{
+    const int n = world_size;
+    int *c = (int *)malloc(2 * sizeof(int) * (size_t)n), rc;
+    MPI_Datatype type;
+    MPI_Request req;
+    sl_status st;
+    (void)ctx;
+    if (c == NULL)
+        return sl_fail(err, SL_ENOMEM, "nomemory", "rank %d of %d: out of memory", world_rank, n);
+    double t0 = slm_monotonic_seconds();
+    st = unit_counts(counts, NULL, n, &type, c, c + n, NULL, NULL, err);
+    if (st == SL_OK) {
+        int i;
+        for (i = 0; i < n; i++)
+            core_bytes += i == world_rank ? 0.0 : (double)counts[i];
+        rc = MPI_Iallgatherv(send, c[world_rank], type, recv, c, c + n, type, work, &req);
+        st = rc != MPI_SUCCESS
+                 ? sl_fail(err, SL_EMODEL, "mpifailed", "rank %d of %d: allgather failed "
+                                                          "(error code %d)", world_rank, n, rc)
+                 : wait_status(&req, "a particle filter's allgather", err);
+    }
+    free(c);
+    core_seconds += slm_monotonic_seconds() - t0;
+    core_calls += 1.0;
+    return st;
+}
+
+static sl_status core_exchange(void *ctx, const void *send, const size_t *scounts, void *recv,
+                               const size_t *rcounts, sl_error *err)
+{
+    const int n = world_size;
+    int *c = (int *)malloc(4 * sizeof(int) * (size_t)n), rc;
+    MPI_Datatype type;
+    MPI_Request req;
+    sl_status st;
+    (void)ctx;
+    if (c == NULL)
+        return sl_fail(err, SL_ENOMEM, "nomemory", "rank %d of %d: out of memory", world_rank, n);
+    double t0 = slm_monotonic_seconds();
+    st = unit_counts(scounts, rcounts, n, &type, c, c + n, c + 2 * n, c + 3 * n, err);
+    if (st == SL_OK) {
+        int i;
+        for (i = 0; i < n; i++)
+            core_bytes += (double)rcounts[i];
+        rc = MPI_Ialltoallv(send, c, c + n, type, recv, c + 2 * n, c + 3 * n, type, work, &req);
+        st = rc != MPI_SUCCESS
+                 ? sl_fail(err, SL_EMODEL, "mpifailed", "rank %d of %d: exchange failed "
+                                                          "(error code %d)", world_rank, n, rc)
+                 : wait_status(&req, "a particle filter's exchange of members", err);
+    }
+    free(c);
+    core_seconds += slm_monotonic_seconds() - t0;
+    core_calls += 1.0;
+    return st;
+}
+
+/* For the particle filter's gateway, which finds it by name (this
+ * gateway's symbols are global once Octave has loaded it): this job's
+ * ranks and collectives. 0 when MPI is not started or a rank has left. */
+int sluice_mpi_pf_ranks(sl_pf_ranks *rk);
+int sluice_mpi_pf_ranks(sl_pf_ranks *rk)
+{
+    if (!started || left_rank >= 0 || rk == NULL)
+        return 0;
+    memset(rk, 0, sizeof *rk);
+    rk->rank = world_rank;
+    rk->size = world_size;
+    rk->allgather = core_allgather;
+    rk->exchange = core_exchange;
+    return 1;
 }
 
 static void at_exit(void)
@@ -310,7 +455,7 @@ void mexFunction(int nlhs, mxArray *plhs[], int nrhs, const mxArray *prhs[])
     slm_init();
     if (nrhs < 1 || !mxIsChar(prhs[0]) || mxGetString(prhs[0], cmd, sizeof cmd) != 0)
         slm_fail(fn, "badarg", "argument 1: expected a command: init, initialized, allreduce, "
-                               "bcast, gather or barrier");
+                               "bcast, gather, barrier or stats");
     if (nlhs > 2)
         slm_fail(fn, "badarg", "at most two outputs");
     if (strcmp(cmd, "initialized") == 0) {
@@ -321,10 +466,18 @@ void mexFunction(int nlhs, mxArray *plhs[], int nrhs, const mxArray *prhs[])
         cmd_init(nlhs, plhs);
         return;
     }
+    if (strcmp(cmd, "stats") == 0) {
+        plhs[0] = mxCreateDoubleMatrix(1, 3, mxREAL);
+        mxGetDoubles(plhs[0])[0] = core_seconds;
+        mxGetDoubles(plhs[0])[1] = core_bytes;
+        mxGetDoubles(plhs[0])[2] = core_calls;
+        core_seconds = core_bytes = core_calls = 0.0;
+        return;
+    }
     if (strcmp(cmd, "allreduce") != 0 && strcmp(cmd, "bcast") != 0
         && strcmp(cmd, "gather") != 0 && strcmp(cmd, "barrier") != 0)
         slm_fail(fn, "badarg", "argument 1: unknown command '%s' (known: init, initialized, "
-                               "allreduce, bcast, gather, barrier)", cmd);
+                               "allreduce, bcast, gather, barrier, stats)", cmd);
     need_started();
     if (strcmp(cmd, "allreduce") == 0)
         cmd_allreduce(nrhs, prhs, plhs);

@@ -209,6 +209,121 @@ try
         end
         say (ok, [': ' err.identifier]);
       end
+    case 'pfequal'
+      % the particle filter split across the ranks = one process, bit for
+      % bit, every field; then a joint state-parameter run (forcing noise,
+      % the kernel move at resampling, the default) the same
+      nr = str2double (getenv ('OMPI_COMM_WORLD_SIZE'));
+      a = sluice.filter (m, pr, obs, 'members', 1001, 'seed', 4, 't0', 0, ...
+                         'progress', false, 'mpi', true);
+      b = sluice.filter (m, pr, obs, 'members', 1001, 'seed', 4, 't0', 0, ...
+                         'progress', false, 'mpi', false);
+      ok = a.ranks == nr && b.ranks == 1 && sum (a.resampled) > 0 ...
+           && isequaln (rmfield (a, {'ranks', 'options'}), rmfield (b, {'ranks', 'options'}));
+      jm = sluice.model (@(t, X, P, U, dt) P(1, :) .* X + U(1, :), 'states', {'x'}, ...
+                         'params', {'a', 'b'}, 'forcings', {'u'}, 'defaults', [0.5; 1]);
+      jp = sluice.prior ('a', 'uniform', [0.2 1], 'x', 'normal', [0 1]);
+      ft = (0:40)';
+      jo = {'members', 500, 'seed', 8, 't0', 0, 'progress', false, ...
+            'forcing', struct('time', ft, 'values', 0.1 * cos (ft)), ...
+            'forcing_noise', struct('kind', 'additive', 'sd', 0.2)};
+      warning ('off', 'sluice:filter:approxparams');
+      a = sluice.filter (jm, jp, obs, jo{:}, 'mpi', 'auto');   % splits
+      b = sluice.filter (jm, jp, obs, jo{:}, 'mpi', false);
+      ok = ok && a.ranks == nr && strcmp (a.param_move, 'kernel') ...
+           && isequaln (rmfield (a, {'ranks', 'options'}), rmfield (b, {'ranks', 'options'}));
+      % a prepared run split across the ranks: with a seed, the
+      % one-process run; without, one seed (rank 0's) on every rank
+      run = sluice.filter (m, pr, obs, 'members', 300, 't0', 0, 'progress', false, ...
+                           'mpi', true, 'prepare', true);
+      a = sluice.filter (run, 'seed', 11);
+      b = sluice.filter (m, pr, obs, 'members', 300, 't0', 0, 'progress', false, 'seed', 11);
+      c = sluice.filter (run);
+      ok = ok && a.ranks == nr && c.ranks == nr ...
+           && isequaln (rmfield (a, {'ranks', 'options'}), rmfield (b, {'ranks', 'options'})) ...
+           && sluice.kernel.mpi ('allreduce', c.seed, 'min') ...
+              == sluice.kernel.mpi ('allreduce', c.seed, 'max');
+      say (ok, sprintf (' (ranks %d)', a.ranks));
+    case 'pfkalman'
+      % split across the ranks, against the exact Kalman filter of the
+      % linear-Gaussian model (x' = 0.9 x + w, Q = 0.1; y = x + v, R =
+      % 0.25; x0 ~ N(0, 1)): predict m = A m, P = A^2 P + Q; update K =
+      % P / (P + R) (the Kalman filter's textbook equations)
+      r = sluice.filter (m, pr, obs, 'members', 20000, 'seed', 6, 't0', 0, ...
+                         'progress', false, 'mpi', true);
+      mk = 0; Pk = 1; ll = 0; err_m = 0;
+      for k = 1:numel (obs.time)
+        mk = 0.9 * mk; Pk = 0.81 * Pk + 0.1;
+        S = Pk + 0.25; d = obs.value(k) - mk;
+        ll = ll - 0.5 * (log (2 * pi * S) + d ^ 2 / S);
+        K = Pk / S; mk = mk + K * d; Pk = (1 - K) * Pk;
+        % within 6 standard errors of the mean of N / 2 effective members
+        err_m = max (err_m, abs (r.states.mean(1, k) - mk) / sqrt (Pk / 10000));
+      end
+      ok = err_m < 6 && abs (r.log_evidence - ll) < 0.1;
+      say (ok, sprintf (' (mean within %.2f se, log-evidence %.4f vs %.4f)', err_m, ...
+                        r.log_evidence, ll));
+    case 'pffails'
+      % some members' model fails (on whichever ranks hold them): every
+      % rank stops, with the model's own error or sluice:filter:rankfailed
+      % (the default 'mpi' false: each rank alone, the same error)
+      fm = sluice.model (@(t, X, P, U, dt) planted_member (t, P, X), 'states', {'x'}, ...
+                         'params', {'a', 'b'}, 'defaults', [0.5; 1]);
+      fp = sluice.prior ('a', 'uniform', [0.2 1], 'b', 'uniform', [0 1], 'x', 'normal', [0 1]);
+      ids = {};
+      for mode = {false, true}
+        try
+          sluice.filter (fm, fp, obs, 'members', 200, 'seed', 3, 't0', 0, ...
+                         'progress', false, 'state_noise', 0.1, 'mpi', mode{1});
+          ids{end+1} = 'none';
+        catch err
+          ids{end+1} = err.identifier;
+        end
+      end
+      ok = strcmp (ids{1}, 'test:planted') ...
+           && any (strcmp (ids{2}, {'test:planted', 'sluice:filter:rankfailed'}));
+      say (ok, sprintf (': %s, %s', ids{:}));
+    case 'pfsplit'
+      % fewer members than ranks, or a checkpoint: refused with mpi true,
+      % run whole on every rank with 'auto'; a run the members cannot
+      % split (a lag; the ETKF) splits its forecasts: still the
+      % one-process run bit for bit
+      nr = str2double (getenv ('OMPI_COMM_WORLD_SIZE'));
+      ids = {};
+      ck = fullfile (dir_out, sprintf ('ck%d.mat', rank));
+      calls = {{'members', nr - 1, 'mpi', true}, {'members', 50, 'checkpoint', ck, 'mpi', true}};
+      for k = 1:2
+        try
+          sluice.filter (m, pr, obs, 'seed', 3, 't0', 0, 'progress', false, calls{k}{:});
+          ids{end+1} = 'none';
+        catch err
+          ids{end+1} = err.identifier;
+        end
+      end
+      a = sluice.filter (m, pr, obs, 'seed', 3, 't0', 0, 'progress', false, 'members', nr - 1, ...
+                         'mpi', 'auto');
+      % by default the run is this process's (every rank the same run)
+      c = sluice.filter (m, pr, obs, 'seed', 3, 't0', 0, 'progress', false, 'members', 50);
+      ok = strcmp (ids{1}, 'sluice:filter:ranksempty') ...
+           && strcmp (ids{2}, 'sluice:filter:ranksunsupported') && a.ranks == 1 && c.ranks == 1;
+      for extra = {{'lag', 3}, {'method', 'etkf'}}
+        x = sluice.filter (m, pr, obs, 'seed', 3, 't0', 0, 'progress', false, 'members', 60, ...
+                           extra{1}{:}, 'mpi', true);
+        y = sluice.filter (m, pr, obs, 'seed', 3, 't0', 0, 'progress', false, 'members', 60, ...
+                           extra{1}{:});
+        ok = ok && x.ranks == nr && y.ranks == 1 ...
+             && isequaln (rmfield (x, {'ranks', 'options'}), rmfield (y, {'ranks', 'options'}));
+      end
+      say (ok, sprintf (': %s, %s', ids{:}));
+    case 'pfmismatch'
+      % a different seed on each rank: the same error on every rank
+      try
+        sluice.filter (m, pr, obs, 'members', 100, 'seed', 3 + rank, 't0', 0, ...
+                       'progress', false, 'mpi', true);
+        say (false, ': no error');
+      catch err
+        say (strcmp (err.identifier, 'sluice:filter:mpimismatch'), [': ' err.identifier]);
+      end
     otherwise
       say (false, ': unknown case');
   end

@@ -81,7 +81,8 @@ else
   export OMPI_MCA_btl=self,vader OMPI_MCA_btl_vader_single_copy_mechanism=none
   for np in 2 4; do
     for kase in gateway equal idle resume mismatch pointfails badfile rankleft \
-                chains chaincheckpoint chainfails chainmismatch; do
+                chains chaincheckpoint chainfails chainmismatch \
+                pfequal pfkalman pffails pfsplit pfmismatch; do
       d="$tmp/$kase-$np"; mkdir -p "$d"
       (cd "$d" && SLUICE_MPI_CASE=$kase SLUICE_MPI_DIR=$d timeout -k 20 180 \
          mpirun --oversubscribe -np $np $octave --no-gui --quiet --no-history --norc \
@@ -105,7 +106,7 @@ else
         grep -q 'rank 1 stops before the sweep' "$d/log" && ok \
           || fail "mpi rankleft, $np ranks: rank 1's own error is not in the output"
       elif [ $kase = equal ] || [ $kase = idle ] || [ $kase = resume ] || [ $kase = chains ] \
-           || [ $kase = chaincheckpoint ]; then
+           || [ $kase = chaincheckpoint ] || [ $kase = pfequal ] || [ $kase = pfkalman ]; then
         [ $rc -eq 0 ] && ok || { fail "mpi $kase, $np ranks: exit $rc"; tail -n 20 "$d/log"; }
       fi
     done

@@ -77,6 +77,15 @@ function R = prepare (model, prior, obs, opts, fn)
   if (~seed_given)
     opts.seed = floor (rand () * 2^32);
   end
+  % under mpirun, the members split across the ranks (option mpi)
+  world = struct ('active', false, 'rank', 0, 'size', 1);
+  if (~(islogical (opts.mpi) && ~opts.mpi))
+    world = sluice.internal.mpi ('world', fn, opts.mpi);
+  end
+  if (world.active && ~seed_given)
+    % one run: the seed rank 0 drew
+    opts.seed = sluice.internal.mpi ('bcast', opts.seed, 0);
+  end
   t0 = opts.t0;
   if (isempty (t0))
     t0 = model.t0;
@@ -202,6 +211,24 @@ function R = prepare (model, prior, obs, opts, fn)
                         sluice.internal.comparable(opts.operators)};
   end
 
+  if (world.active)
+    % 1: the run must be split (mpi true); 2: split when the compiled run
+    % can be, else every rank runs it whole ('auto')
+    c.ranks = 1 + ischar (opts.mpi);
+    if (world.rank > 0)
+      c.progress = 0;
+    end
+    v = double (c.obs_value(:));
+    v = v(~isnan (v));
+    sluice.internal.mpi ('same', fn, ...
+                         'runs (members, seed, times, observations or options)', ...
+                         sprintf ('%.17g|', N, opts.seed, numel (times), sum (times), ...
+                                  sum (times .^ 2), numel (c.obs_value), sum (v), ...
+                                  sum (v .^ 2), c.obs_var(:)' * (1:numel (c.obs_var))', ...
+                                  n, p, q, c.lag, c.threshold, double (c.method), ...
+                                  double (c.param_move), c.history, c.ranks));
+  end
+
   % what execute needs, and what a prepared run needs to run again
   R = struct ();
   R.version = 1;
@@ -231,6 +258,10 @@ function res = execute (R)
   upper = c.upper;
   cyc = R.cyc;
 
+  if (isfield (c, 'ranks') && sluice.internal.mpi ('held'))
+    % a prepared run executed inside work already dealt across the ranks
+    c = rmfield (c, 'ranks');
+  end
   r = sluice.internal.run_engine (model, c);
 
   res = struct ();
@@ -281,6 +312,8 @@ function res = execute (R)
   res.skipped_total = sum (r.skipped);
   res.nonfinite = r.nonfinite;
   res.model_steps = r.steps;
+  % the processes the members were split across (1: this one alone)
+  res.ranks = r.ranks;
   if (strcmp (opts.method, 'pf'))
     res.temper_steps = r.temper_steps;
     res.loglik_evals = r.loglik_evals;
@@ -434,11 +467,15 @@ function res = run_prepared (run, args, fn)
                'unknown option ''%s'' (a prepared run takes seed, params and values)', name);
     end
   end
+  split = isfield (c, 'ranks') && ~sluice.internal.mpi ('held');
   if (isempty (seed))
     if (R.seed_given)
       seed = R.opts.seed;
     else
       seed = floor (rand () * 2^32);
+      if (split)
+        seed = sluice.internal.mpi ('bcast', seed, 0);   % one run: rank 0's seed
+      end
     end
   end
   if (seed ~= c.seed || redraw)
@@ -450,6 +487,14 @@ function res = run_prepared (run, args, fn)
   c.seed = seed;
   R.opts.seed = seed;
   R.c = c;
+  if (split)
+    % split across the ranks: every rank must run the same
+    v = double (c.obs_value(:));
+    v = v(~isnan (v));
+    sluice.internal.mpi ('same', fn, 'runs of a prepared run (seed, params or values)', ...
+                         sprintf ('%.17g|', seed, numel (v), sum (v), sum (v .^ 2), ...
+                                  sum (c.P0(:)), sum (c.P0(:) .^ 2)));
+  end
   res = execute (R);
 end
 
@@ -994,6 +1039,16 @@ function opts = check_options (opts, g, fn)
   if (~isempty (ck) && isempty (opts.seed))
     error (['sluice:' fn ':badoption'], ...
            'a run with a checkpoint needs a ''seed'': a resumed run must draw the same numbers');
+  end
+  if (g.mpi)
+    v = opts.mpi;
+    if (ischar (v) && strcmpi (v, 'auto'))
+      opts.mpi = 'auto';
+    elseif ((islogical (v) || isnumeric (v)) && isscalar (v) && (v == 0 || v == 1))
+      opts.mpi = logical (v);
+    else
+      error (['sluice:' fn ':badoption'], 'mpi must be ''auto'', true or false');
+    end
   end
   if (g.progress)
     pr = opts.progress;

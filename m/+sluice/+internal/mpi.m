@@ -7,6 +7,11 @@ function varargout = mpi (op, varargin)
   %     sluice:<fn>:mpiunavailable naming the make command; outside mpirun
   %     the run is this process alone) or false (this process alone).
   %     w: active (more than one rank shares the work), rank, size.
+  %     Inside work already dealt across the ranks (a hold, below) w is
+  %     this process alone: a sweep's point or an MCMC chain that runs a
+  %     filter runs it whole on its own rank.
+  %   h = sluice.internal.mpi ('hold')  the ranks' work is dealt out until
+  %     h (an onCleanup) is cleared; tf = sluice.internal.mpi ('held')
   %   tf = sluice.internal.mpi ('built')     the gateway is built
   %   tf = sluice.internal.mpi ('launched')  this Octave was started by mpirun
   %   sluice.internal.mpi ('same', fn, what, text)
@@ -21,13 +26,28 @@ function varargout = mpi (op, varargin)
   %     every rank's value; other ranks: {}
   %
   % Values travel as the bytes of Octave's own binary save format.
+  persistent held   % holds in force (they nest)
+  if (isempty (held))
+    held = 0;
+  end
   switch (op)
+    case 'hold'
+      held = held + 1;
+      varargout{1} = onCleanup (@() sluice.internal.mpi ('release'));
+    case 'release'
+      held = max (held - 1, 0);
+    case 'held'
+      varargout{1} = held > 0;
     case 'built'
       varargout{1} = built ();
     case 'launched'
       varargout{1} = launched ();
     case 'world'
-      varargout{1} = world (varargin{:});
+      if (held > 0)
+        varargout{1} = struct ('active', false, 'rank', 0, 'size', 1);
+      else
+        varargout{1} = world (varargin{:});
+      end
     case 'same'
       same (varargin{:});
     case 'agree'

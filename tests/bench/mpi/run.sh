@@ -1,9 +1,15 @@
 #!/usr/bin/env bash
-# run.sh - speed of a distributed sweep (make bench, when mpirun and the
-# gateway sluice.kernel.mpi are there): strong scaling (32 filter runs on
-# 1, 2, ... ranks up to the cores) and weak scaling (16 runs a rank), as
-# ratios to one rank, and the share of the rank-seconds spent outside the
-# filter runs (gathering, writing, waiting for the round's slowest rank).
+# run.sh - speed of distributed runs (make bench, when mpirun and the
+# gateway sluice.kernel.mpi are there), as ratios to one rank on 1, 2, ...
+# ranks up to the cores:
+# - a sweep: strong scaling (32 filter runs) and weak scaling (16 runs a
+#   rank), and the share of the rank-seconds spent outside the filter
+#   runs (gathering, writing, waiting for the round's slowest rank);
+# - one GR4J particle filter split across the ranks: strong scaling at
+#   1e5 and 1e6 members, weak scaling (5e4 members a rank), and the
+#   share of the wall time the busiest rank spent in the filter's
+#   collectives (waiting for the others included) with the bytes it
+#   received.
 set -u
 here=$(cd "$(dirname "$0")/../../.." && pwd)
 if ! command -v mpirun >/dev/null || [ ! -e "$here/m/+sluice/+kernel/mpi.mex" ]; then
@@ -30,5 +36,27 @@ for mode in strong weak; do
     awk -v P="$P" -v n="$n" -v s="$s" -v f="$f" -v b="$base" -v m=$mode 'BEGIN {
       r = (m == "strong") ? b / s : b / s;
       printf "   %5d %6d %8.2f %8.2f %7.1f%%\n", P, n, s, r, 100 * (s * P - f) / (s * P) }'
+  done
+done
+
+pf() { # ranks members days -> "seconds comm bytes split"
+  (cd "$(mktemp -d)" && SLUICE_BENCH_MEMBERS=$2 SLUICE_BENCH_DAYS=$3 mpirun -np "$1" \
+     octave-cli --no-gui --quiet --no-history --norc "$here/tests/bench/mpi/pf_scaling.m" \
+     2>/dev/null) | awk '/^members/ {print $6, $8, $10, $12}'
+}
+echo "   one GR4J particle filter split across the ranks (kernel move, daily flows, 1 thread a rank)"
+for spec in "strong 100000 60" "strong 1000000 10" "weak 50000 60"; do
+  read -r mode N days <<<"$spec"
+  echo "   $mode scaling, $N members$([ $mode = weak ] && echo ' a rank'), $days days:" \
+       "ranks, seconds, speed-up (weak: efficiency), in collectives, MB received"
+  base=
+  for P in "${ranks[@]}"; do
+    n=$N; [ $mode = weak ] && n=$((N * P))
+    read -r s c b sp < <(pf "$P" "$n" "$days")
+    [ -z "${s:-}" ] && { echo "   $P ranks: did not complete"; continue; }
+    [ -z "$base" ] && base=$s
+    awk -v P="$P" -v s="$s" -v c="$c" -v b="$b" -v base="$base" -v sp="$sp" 'BEGIN {
+      printf "   %5d %8.2f %8.2f %7.1f%% %9.1f%s\n", P, s, base / s, 100 * c / s, b / 1e6,
+             (sp == P) ? "" : "  (not split)" }'
   done
 done
