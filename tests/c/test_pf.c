@@ -57,6 +57,21 @@ static void *zalloc(size_t count, size_t size)
     return ck_calloc(count ? count : 1, size);
 }
 
+/* The outputs every run records, zeroed: v x T means, v x nq x T
+ * quantiles, and the per-cycle ESS, log-evidence increments, resampling,
+ * degeneracy, skipped and non-finite counts (run_free gives them back). */
+static void alloc_outputs(run_buf *r, size_t v, size_t nq, size_t T)
+{
+    r->out.mean = zalloc(v * T, sizeof(double));
+    r->out.quant = zalloc(v * nq * T, sizeof(double));
+    r->out.ess = zalloc(T, sizeof(double));
+    r->out.logz = zalloc(T, sizeof(double));
+    r->out.resampled = zalloc(T, sizeof(double));
+    r->out.degenerate = zalloc(T, sizeof(double));
+    r->out.skipped = zalloc(T, sizeof(double));
+    r->out.nonfinite = zalloc(T, sizeof(double));
+}
+
 /* Allocate the outputs for cfg (the model has no parameters), copy the
  * initial states X0 (n x N) in and run. */
 static sl_status run(const sl_pf_config *cfg, const double *X0, run_buf *r,
@@ -69,14 +84,7 @@ static sl_status run(const sl_pf_config *cfg, const double *X0, run_buf *r,
     r->n = n;
     r->N = N;
     r->T = T;
-    r->out.mean = zalloc(v * T, sizeof(double));
-    r->out.quant = zalloc(v * nq * T, sizeof(double));
-    r->out.ess = zalloc(T, sizeof(double));
-    r->out.logz = zalloc(T, sizeof(double));
-    r->out.resampled = zalloc(T, sizeof(double));
-    r->out.degenerate = zalloc(T, sizeof(double));
-    r->out.skipped = zalloc(T, sizeof(double));
-    r->out.nonfinite = zalloc(T, sizeof(double));
+    alloc_outputs(r, v, nq, T);
     r->out.temper_steps = zalloc(T, sizeof(double));
     r->out.loglik_evals = zalloc(T, sizeof(double));
     if (cfg->keep_history) {
@@ -1181,14 +1189,7 @@ static void check_derived_summary(void)
         /* run() allocates the standard outputs; add the derived ones */
         size_t bytes = sl_pf_workspace(&cfg);
         memset(&r, 0, sizeof r);
-        r.out.mean = zalloc(T, sizeof(double));
-        r.out.quant = zalloc(NQ * T, sizeof(double));
-        r.out.ess = zalloc(T, sizeof(double));
-        r.out.logz = zalloc(T, sizeof(double));
-        r.out.resampled = zalloc(T, sizeof(double));
-        r.out.degenerate = zalloc(T, sizeof(double));
-        r.out.skipped = zalloc(T, sizeof(double));
-        r.out.nonfinite = zalloc(T, sizeof(double));
+        alloc_outputs(&r, 1, NQ, T);
         r.out.dmean = dmean;
         r.out.dquant = dquant;
         r.X = zalloc(N, sizeof(double));
@@ -1353,14 +1354,7 @@ static void check_lag_ancestors(void)
             cfg.lag = lag;
             cfg.threshold = never ? 0.0 : 0.5;
             memset(&r, 0, sizeof r);
-            r.out.mean = ck_calloc(T, sizeof(double));
-            r.out.quant = ck_calloc(T, sizeof(double));
-            r.out.ess = ck_calloc(T, sizeof(double));
-            r.out.logz = ck_calloc(T, sizeof(double));
-            r.out.resampled = ck_calloc(T, sizeof(double));
-            r.out.degenerate = ck_calloc(T, sizeof(double));
-            r.out.skipped = ck_calloc(T, sizeof(double));
-            r.out.nonfinite = ck_calloc(T, sizeof(double));
+            alloc_outputs(&r, 1, 1, T);
             r.out.smean = sm;
             r.out.squant = sq;
             r.out.sanc = anc;
@@ -1382,9 +1376,8 @@ static void check_lag_ancestors(void)
                       cfg.threshold, anc[0], anc[1], anc[2]);
                 CHECK(sm[0] == 3.0, "ancestors: cycle 1 smoothed from member 3: %g", sm[0]);
             }
-            ck_free(r.out.mean); ck_free(r.out.quant); ck_free(r.out.ess);
-            ck_free(r.out.logz); ck_free(r.out.resampled); ck_free(r.out.degenerate);
-            ck_free(r.out.skipped); ck_free(r.out.nonfinite); ck_free(work);
+            run_free(&r);
+            ck_free(work);
         }
 }
 
