@@ -114,9 +114,8 @@ static double scan_sorted(size_t n, const pair *c, double below, double target)
 }
 
 /* Smallest candidate value whose cumulative weight reaches target, among n
- * candidates c (values in [lo, hi], lo the first candidate's value when
- * they are all equal) with weight `below` under them. Works in c and spare
- * (each room for n pairs); bw holds NBUCKET doubles. */
+ * candidates c (values in [lo, hi]) with weight `below` under them. Works
+ * in c and spare (each room for n pairs); bw holds NBUCKET doubles. */
 static double select_in(size_t n, pair *c, pair *spare, double lo, double hi,
                         double below, double target, double *bw)
 {
@@ -124,7 +123,8 @@ static double select_in(size_t n, pair *c, pair *spare, double lo, double hi,
         size_t i, b, m = 0;
         double scale, nlo = HUGE_VAL, nhi = -HUGE_VAL;
         if (!(hi > lo))
-            return lo; /* every candidate has the same value */
+            return c[0].v; /* every candidate has the same value (the
+                            * first one's sign when they are zeros) */
         if (n <= SMALL) {
             insertion_sort(n, c);
             return scan_sorted(n, c, below, target);
@@ -186,6 +186,27 @@ static double compensated_dot(size_t n, const pair *c, double ref,
     return s + e;
 }
 
+/* The buckets' weights (summed in member order), the total weight (in
+ * member order) and, for every bucket, the list of its members: head[b]
+ * is 1 + its last member, next[i] 1 + the member before i in the same
+ * bucket (0 ends a list). */
+static double bucket_lists(size_t n, const pair *all, double lo, double scale,
+                           double *bw, size_t *head, size_t *next)
+{
+    double total = 0.0;
+    size_t i;
+    memset(bw, 0, NBUCKET * sizeof *bw);
+    memset(head, 0, NBUCKET * sizeof *head);
+    for (i = 0; i < n; i++) {
+        size_t b = bucket_of(all[i].v, lo, scale);
+        bw[b] += all[i].w;
+        total += all[i].w;
+        next[i] = head[b];
+        head[b] = i + 1;
+    }
+    return total;
+}
+
 void sl_weighted_summary(size_t N, const double *x, size_t inc,
                          const double *w, size_t nq,
                          const double *probs, double *mean, double *q,
@@ -194,33 +215,54 @@ void sl_weighted_summary(size_t N, const double *x, size_t inc,
     pair *all = (pair *)(void *)work;
     pair *r1 = all + N, *r2 = r1 + N, *r3 = r2 + N;
     double *bw = work + 8 * N, *bw2 = bw + NBUCKET;
-    /* the members' buckets: in r3, which only the refining uses */
-    unsigned short *id = (unsigned short *)(void *)r3;
-    /* per bucket: member count, which target (1-based) it is, and the
-     * weight of the buckets up to and including it (find_bucket's running
-     * sum: the same additions in the same order); per target (at most one
-     * per level): where its candidates start, the next free place, their
-     * range; per level: its bucket and the weight below */
-    size_t cnt[NBUCKET], slot[NBUCKET], start_of[MAXLEVELS], fill[MAXLEVELS];
-    size_t lv_bucket[MAXLEVELS], swept = 0, top = NBUCKET;
+    /* the members' bucket lists: in r3, which only the refining uses */
+    size_t *next = (size_t *)(void *)r3;
+    /* per bucket: its list, which target (1-based) it is, and the weight
+     * of the buckets up to and including it (find_bucket's running sum:
+     * the same additions in the same order); per target (at most one per
+     * level): where its candidates start, their range; per level: its
+     * bucket and the weight below */
+    size_t head[NBUCKET], start_of[MAXLEVELS], count_of[MAXLEVELS], lv_bucket[MAXLEVELS];
+    size_t swept = 0, top = NBUCKET;
+    unsigned char slot[NBUCKET];
     double upto[NBUCKET];
     double tlo[MAXLEVELS], thi[MAXLEVELS], lv_below[MAXLEVELS];
     /* Wrun: the plain running sum in member order, the same arithmetic as
      * the cumulative sums of the selection, so that level 1 reaches the
      * largest value */
-    double W, Wrun = 0.0, lo = HUGE_VAL, hi = -HUGE_VAL, scale, tmax, a;
+    double W, Wrun = 0.0, lo, hi, scale, tmax, a;
+    double lo0 = HUGE_VAL, hi0 = -HUGE_VAL, lo1 = HUGE_VAL, hi1 = -HUGE_VAL;
     size_t j, n = 0, k, k0, i;
     int full = 0;
-    for (j = 0; j < N; j++) {
-        double v = x[j * inc], wj = w[j];
+    /* the members of positive weight, and their range (in two lanes: the
+     * sign of a zero bound is never used) */
+    for (j = 0; j + 1 < N; j += 2) {
+        double v = x[j * inc], wj = w[j], u = x[(j + 1) * inc], wu = w[j + 1];
         if (wj > 0) {
             all[n].v = v;
             all[n].w = wj;
             n++;
-            if (v < lo) lo = v;
-            if (v > hi) hi = v;
+            lo0 = v < lo0 ? v : lo0;
+            hi0 = v > hi0 ? v : hi0;
+        }
+        if (wu > 0) {
+            all[n].v = u;
+            all[n].w = wu;
+            n++;
+            lo1 = u < lo1 ? u : lo1;
+            hi1 = u > hi1 ? u : hi1;
         }
     }
+    if (j < N && w[j] > 0) {
+        double v = x[j * inc];
+        all[n].v = v;
+        all[n].w = w[j];
+        n++;
+        lo0 = v < lo0 ? v : lo0;
+        hi0 = v > hi0 ? v : hi0;
+    }
+    lo = lo1 < lo0 ? lo1 : lo0;
+    hi = hi1 > hi0 ? hi1 : hi0;
     if (n == 0) {
         if (mean != NULL)
             *mean = NAN;
@@ -244,8 +286,9 @@ void sl_weighted_summary(size_t N, const double *x, size_t inc,
     if (nq == 0)
         return;
     if (!(hi > lo)) {
+        /* one value (the first member's sign when they are zeros) */
         for (k = 0; k < nq; k++)
-            q[k * qinc] = lo;
+            q[k * qinc] = all[0].v;
         return;
     }
     if (!isfinite(hi - lo)) {
@@ -275,20 +318,11 @@ void sl_weighted_summary(size_t N, const double *x, size_t inc,
         }
         return;
     }
-    /* one histogram (weights and counts) of all members serves every
-     * level; then one pass gathers the candidates of every target bucket,
-     * each into its own stretch of r1 */
+    /* one histogram of all members serves every level; each target
+     * bucket's members are then read from its list, into their own
+     * stretch of r1 */
     scale = (double)NBUCKET / (hi - lo);
-    memset(bw, 0, NBUCKET * sizeof *bw);
-    memset(cnt, 0, NBUCKET * sizeof *cnt);
-    memset(slot, 0, NBUCKET * sizeof *slot);
-    for (i = 0; i < n; i++) {
-        size_t b = bucket_of(all[i].v, lo, scale);
-        id[i] = (unsigned short)b;
-        bw[b] += all[i].w;
-        cnt[b]++;
-        Wrun += all[i].w;
-    }
+    Wrun = bucket_lists(n, all, lo, scale, bw, head, next);
     /* the running sum over the buckets, as far as the largest target
      * needs (all of it when a level is NaN or rounding keeps a sum under
      * its target): upto[b] is non-decreasing, so each level's first
@@ -310,14 +344,13 @@ void sl_weighted_summary(size_t N, const double *x, size_t inc,
             break;
         }
     }
+    memset(slot, 0, sizeof slot);
     for (k0 = 0; k0 < nq; k0 += MAXLEVELS) {
         size_t off = 0, nt = 0, k1 = nq - k0 < MAXLEVELS ? nq : k0 + MAXLEVELS;
         if (k0 > 0) {
-            /* r3 served the previous levels' refining: the buckets again */
-            for (i = 0; i < NBUCKET; i++)
-                slot[i] = 0;
-            for (i = 0; i < n; i++)
-                id[i] = (unsigned short)bucket_of(all[i].v, lo, scale);
+            /* r3 served the previous levels' refining: the lists again */
+            memset(slot, 0, sizeof slot);
+            bucket_lists(n, all, lo, scale, bw2, head, next);
         }
         for (k = k0; k < k1; k++) {
             double target = probs[k] * Wrun;
@@ -346,25 +379,31 @@ void sl_weighted_summary(size_t N, const double *x, size_t inc,
             }
             lv_bucket[k - k0] = b;
             if (slot[b] == 0) {
-                slot[b] = ++nt;   /* 1-based: 0 marks a bucket no level needs */
+                /* its members, last first from the list, then turned
+                 * round into member order */
+                size_t e = head[b], s0, s1;
+                double tl = HUGE_VAL, th = -HUGE_VAL;
+                slot[b] = (unsigned char)++nt; /* 1-based: 0 marks a bucket no level needs */
                 start_of[nt - 1] = off;
-                fill[nt - 1] = off;
-                tlo[nt - 1] = HUGE_VAL;
-                thi[nt - 1] = -HUGE_VAL;
-                off += cnt[b];
-            }
-        }
-        for (i = 0; i < n; i++) {
-            size_t t = slot[id[i]];
-            if (t != 0) {
-                double v = all[i].v;
-                r1[fill[t - 1]++] = all[i];
-                if (v < tlo[t - 1]) tlo[t - 1] = v;
-                if (v > thi[t - 1]) thi[t - 1] = v;
+                while (e != 0) {
+                    double v = all[e - 1].v;
+                    r1[off++] = all[e - 1];
+                    tl = v < tl ? v : tl;
+                    th = v > th ? v : th;
+                    e = next[e - 1];
+                }
+                count_of[nt - 1] = off - start_of[nt - 1];
+                for (s0 = start_of[nt - 1], s1 = off; s1 - s0 > 1; s0++, s1--) {
+                    pair t = r1[s0];
+                    r1[s0] = r1[s1 - 1];
+                    r1[s1 - 1] = t;
+                }
+                tlo[nt - 1] = tl;
+                thi[nt - 1] = th;
             }
         }
         for (k = k0; k < k1; k++) {
-            size_t t = slot[lv_bucket[k - k0]] - 1, m = cnt[lv_bucket[k - k0]];
+            size_t t = (size_t)slot[lv_bucket[k - k0]] - 1, m = count_of[t];
             /* refine a copy: two levels may share a bucket */
             memcpy(r2, r1 + start_of[t], m * sizeof *r2);
             q[k * qinc] = select_in(m, r2, r3, tlo[t], thi[t], lv_below[k - k0],
