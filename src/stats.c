@@ -21,10 +21,48 @@ size_t sl_quantile_workspace(size_t N)
     return 8 * N + 2 * NBUCKET;
 }
 
-static int cmp_pair(const void *a, const void *b)
+/* Stable sorts by value (ties, -0 and +0 among them, keep their order):
+ * insertion for short runs, merging (through tmp, room for n pairs) for
+ * longer ones. The order is that of any stable sort with the comparison
+ * (x > y) - (x < y). */
+#define RUN 16
+
+static void insertion_sort(size_t n, pair *c)
 {
-    double x = ((const pair *)a)->v, y = ((const pair *)b)->v;
-    return (x > y) - (x < y);
+    size_t i, j;
+    for (i = 1; i < n; i++) {
+        pair t = c[i];
+        for (j = i; j > 0 && t.v < c[j - 1].v; j--)
+            c[j] = c[j - 1];
+        c[j] = t;
+    }
+}
+
+static void stable_sort(size_t n, pair *c, pair *tmp)
+{
+    size_t i, width;
+    pair *src = c, *dst = tmp;
+    for (i = 0; i < n; i += RUN)
+        insertion_sort(n - i < RUN ? n - i : RUN, c + i);
+    for (width = RUN; width < n; width *= 2) {
+        for (i = 0; i < n; i += 2 * width) {
+            size_t a = i, am = i + width < n ? i + width : n;
+            size_t b = am, bm = am + width < n ? am + width : n, o = i;
+            while (a < am && b < bm)
+                dst[o++] = src[b].v < src[a].v ? src[b++] : src[a++];
+            while (a < am)
+                dst[o++] = src[a++];
+            while (b < bm)
+                dst[o++] = src[b++];
+        }
+        {
+            pair *t = src;
+            src = dst;
+            dst = t;
+        }
+    }
+    if (src != c)
+        memcpy(c, src, n * sizeof *c);
 }
 
 static size_t bucket_of(double v, double lo, double scale)
@@ -33,25 +71,46 @@ static size_t bucket_of(double v, double lo, double scale)
     return k < NBUCKET ? k : NBUCKET - 1;
 }
 
-/* Bucket b where the cumulative weight (starting at *acc) first reaches
- * target; *acc becomes the weight below that bucket. */
+/* Bucket b where the cumulative weight (starting at *acc, summed bucket by
+ * bucket in order) first reaches target; *acc becomes the weight below
+ * that bucket. An empty bucket adds nothing: the first bucket whose sum
+ * reaches target is non-empty unless it is bucket 0 (target <= *acc). */
 static size_t find_bucket(const double *bw, double *acc, double target)
 {
-    size_t b, last = 0;
+    size_t b, last;
     double a = *acc;
     for (b = 0; b < NBUCKET; b++) {
+        double t = a + bw[b];
+        if (t >= target)
+            break;
+        a = t;
+    }
+    for (; b < NBUCKET; b++) {
         if (bw[b] > 0) {
-            if (a + bw[b] >= target) {
-                *acc = a;
-                return b;
-            }
-            last = b;
+            *acc = a;
+            return b;
         }
         a += bw[b];
     }
     /* rounding kept the sum under target: the last non-empty bucket */
+    for (last = NBUCKET - 1; last > 0 && !(bw[last] > 0); last--)
+        ;
     *acc = a - bw[last];
     return last;
+}
+
+/* The value at the first of the sorted candidates c (n of them, sorted by
+ * value) whose cumulative weight from below reaches target; the last one
+ * when rounding keeps every sum under it. */
+static double scan_sorted(size_t n, const pair *c, double below, double target)
+{
+    size_t i;
+    for (i = 0; i < n; i++) {
+        below += c[i].w;
+        if (below >= target)
+            return c[i].v;
+    }
+    return c[n - 1].v;
 }
 
 /* Smallest candidate value whose cumulative weight reaches target, among n
@@ -64,20 +123,14 @@ static double select_in(size_t n, pair *c, pair *spare, double lo, double hi,
         size_t i, b, m = 0;
         double scale, nlo = HUGE_VAL, nhi = -HUGE_VAL;
         if (!(hi > lo))
-            return lo; /* every candidate has the same value */
+            return c[0].v; /* every candidate has the same value (the
+                            * first one's sign when they are zeros) */
         if (n <= SMALL) {
-            double acc = below;
-            qsort(c, n, sizeof *c, cmp_pair);
-            for (i = 0; i < n; i++) {
-                acc += c[i].w;
-                if (acc >= target)
-                    return c[i].v;
-            }
-            return c[n - 1].v;
+            insertion_sort(n, c);
+            return scan_sorted(n, c, below, target);
         }
         scale = (double)NBUCKET / (hi - lo);
-        for (b = 0; b < NBUCKET; b++)
-            bw[b] = 0.0;
+        memset(bw, 0, NBUCKET * sizeof *bw);
         for (i = 0; i < n; i++)
             bw[bucket_of(c[i].v, lo, scale)] += c[i].w;
         b = find_bucket(bw, &below, target);
@@ -91,15 +144,8 @@ static double select_in(size_t n, pair *c, pair *spare, double lo, double hi,
         if (2 * m > n) {
             /* values bunched (for instance exponentially spread): one
              * bucket pass gains little, so sort what is left */
-            n = m;
-            c = spare;
-            qsort(c, n, sizeof *c, cmp_pair);
-            for (i = 0; i < n; i++) {
-                below += c[i].w;
-                if (below >= target)
-                    return c[i].v;
-            }
-            return c[n - 1].v;
+            stable_sort(m, spare, c);
+            return scan_sorted(m, spare, below, target);
         }
         {
             pair *t = c;
@@ -140,6 +186,27 @@ static double compensated_dot(size_t n, const pair *c, double ref,
     return s + e;
 }
 
+/* The buckets' weights (summed in member order), the total weight (in
+ * member order) and, for every bucket, the list of its members: head[b]
+ * is 1 + its last member, next[i] 1 + the member before i in the same
+ * bucket (0 ends a list). */
+static double bucket_lists(size_t n, const pair *all, double lo, double scale,
+                           double *bw, size_t *head, size_t *next)
+{
+    double total = 0.0;
+    size_t i;
+    memset(bw, 0, NBUCKET * sizeof *bw);
+    memset(head, 0, NBUCKET * sizeof *head);
+    for (i = 0; i < n; i++) {
+        size_t b = bucket_of(all[i].v, lo, scale);
+        bw[b] += all[i].w;
+        total += all[i].w;
+        next[i] = head[b];
+        head[b] = i + 1;
+    }
+    return total;
+}
+
 void sl_weighted_summary(size_t N, const double *x, size_t inc,
                          const double *w, size_t nq,
                          const double *probs, double *mean, double *q,
@@ -148,27 +215,54 @@ void sl_weighted_summary(size_t N, const double *x, size_t inc,
     pair *all = (pair *)(void *)work;
     pair *r1 = all + N, *r2 = r1 + N, *r3 = r2 + N;
     double *bw = work + 8 * N, *bw2 = bw + NBUCKET;
-    /* per bucket: member count, and which target (1-based) it is; per
-     * target (at most one per level): where its candidates start, the next
-     * free place, their range; per level: its bucket and the weight below */
-    size_t cnt[NBUCKET], slot[NBUCKET], start_of[MAXLEVELS], fill[MAXLEVELS];
-    size_t lv_bucket[MAXLEVELS];
+    /* the members' bucket lists: in r3, which only the refining uses */
+    size_t *next = (size_t *)(void *)r3;
+    /* per bucket: its list, which target (1-based) it is, and the weight
+     * of the buckets up to and including it (find_bucket's running sum:
+     * the same additions in the same order); per target (at most one per
+     * level): where its candidates start, their range; per level: its
+     * bucket and the weight below */
+    size_t head[NBUCKET], start_of[MAXLEVELS], count_of[MAXLEVELS], lv_bucket[MAXLEVELS];
+    size_t swept = 0, top = NBUCKET;
+    unsigned char slot[NBUCKET];
+    double upto[NBUCKET];
     double tlo[MAXLEVELS], thi[MAXLEVELS], lv_below[MAXLEVELS];
-    /* Wrun: the plain running sum, the same arithmetic as the cumulative
-     * sums of the selection, so that level 1 reaches the largest value */
-    double W, Wrun = 0.0, lo = HUGE_VAL, hi = -HUGE_VAL, scale;
+    /* Wrun: the plain running sum in member order, the same arithmetic as
+     * the cumulative sums of the selection, so that level 1 reaches the
+     * largest value */
+    double W, Wrun = 0.0, lo, hi, scale, tmax, a;
+    double lo0 = HUGE_VAL, hi0 = -HUGE_VAL, lo1 = HUGE_VAL, hi1 = -HUGE_VAL;
     size_t j, n = 0, k, k0, i;
-    for (j = 0; j < N; j++) {
-        double v = x[j * inc], wj = w[j];
+    int full = 0;
+    /* the members of positive weight, and their range (in two lanes: the
+     * sign of a zero bound is never used) */
+    for (j = 0; j + 1 < N; j += 2) {
+        double v = x[j * inc], wj = w[j], u = x[(j + 1) * inc], wu = w[j + 1];
         if (wj > 0) {
             all[n].v = v;
             all[n].w = wj;
             n++;
-            Wrun += wj;
-            if (v < lo) lo = v;
-            if (v > hi) hi = v;
+            lo0 = v < lo0 ? v : lo0;
+            hi0 = v > hi0 ? v : hi0;
+        }
+        if (wu > 0) {
+            all[n].v = u;
+            all[n].w = wu;
+            n++;
+            lo1 = u < lo1 ? u : lo1;
+            hi1 = u > hi1 ? u : hi1;
         }
     }
+    if (j < N && w[j] > 0) {
+        double v = x[j * inc];
+        all[n].v = v;
+        all[n].w = w[j];
+        n++;
+        lo0 = v < lo0 ? v : lo0;
+        hi0 = v > hi0 ? v : hi0;
+    }
+    lo = lo1 < lo0 ? lo1 : lo0;
+    hi = hi1 > hi0 ? hi1 : hi0;
     if (n == 0) {
         if (mean != NULL)
             *mean = NAN;
@@ -192,68 +286,124 @@ void sl_weighted_summary(size_t N, const double *x, size_t inc,
     if (nq == 0)
         return;
     if (!(hi > lo)) {
+        /* one value (the first member's sign when they are zeros) */
         for (k = 0; k < nq; k++)
-            q[k * qinc] = lo;
+            q[k * qinc] = all[0].v;
         return;
     }
     if (!isfinite(hi - lo)) {
-        /* a range too wide for buckets: sort everything once */
-        qsort(all, n, sizeof *all, cmp_pair);
+        /* a range too wide for buckets: sort everything once; the
+         * cumulative weights in sorted order (the same for every level)
+         * are non-decreasing, so each level's first reaching index is
+         * found by bisection */
+        double *cum = (double *)(void *)r2, acc = 0.0;
+        for (i = 0; i < n; i++)
+            Wrun += all[i].w;
+        stable_sort(n, all, r1);
+        for (i = 0; i < n; i++) {
+            acc += all[i].w;
+            cum[i] = acc;
+        }
         for (k = 0; k < nq; k++) {
-            double target = probs[k] * Wrun, acc = 0.0;
-            q[k * qinc] = all[n - 1].v;
-            for (i = 0; i < n; i++) {
-                acc += all[i].w;
-                if (acc >= target) {
-                    q[k * qinc] = all[i].v;
-                    break;
-                }
+            double target = probs[k] * Wrun;
+            size_t l = 0, h = n;
+            while (l < h) {
+                size_t mid = l + (h - l) / 2;
+                if (cum[mid] >= target)
+                    h = mid;
+                else
+                    l = mid + 1;
             }
+            q[k * qinc] = all[l < n ? l : n - 1].v;
         }
         return;
     }
-    /* one histogram (weights and counts) of all members serves every
-     * level; then one pass gathers the candidates of every target bucket,
-     * each into its own stretch of r1 */
+    /* one histogram of all members serves every level; each target
+     * bucket's members are then read from its list, into their own
+     * stretch of r1 */
     scale = (double)NBUCKET / (hi - lo);
-    for (i = 0; i < NBUCKET; i++) {
-        bw[i] = 0.0;
-        cnt[i] = 0;
+    Wrun = bucket_lists(n, all, lo, scale, bw, head, next);
+    /* the running sum over the buckets, as far as the largest target
+     * needs (all of it when a level is NaN or rounding keeps a sum under
+     * its target): upto[b] is non-decreasing, so each level's first
+     * bucket reaching its target is found by bisection */
+    tmax = 0.0;
+    for (k = 0; k < nq; k++) {
+        double t = probs[k] * Wrun;
+        if (isnan(t))
+            tmax = HUGE_VAL, full = 1;
+        else if (t > tmax)
+            tmax = t;
     }
-    for (i = 0; i < n; i++) {
-        size_t b = bucket_of(all[i].v, lo, scale);
-        bw[b] += all[i].w;
-        cnt[b]++;
+    a = 0.0;
+    for (swept = 0; swept < NBUCKET; swept++) {
+        a += bw[swept];
+        upto[swept] = a;
+        if (a >= tmax && bw[swept] > 0 && !full) {
+            swept++;
+            break;
+        }
     }
+    memset(slot, 0, sizeof slot);
     for (k0 = 0; k0 < nq; k0 += MAXLEVELS) {
         size_t off = 0, nt = 0, k1 = nq - k0 < MAXLEVELS ? nq : k0 + MAXLEVELS;
-        for (i = 0; i < NBUCKET; i++)
-            slot[i] = 0;
+        if (k0 > 0) {
+            /* r3 served the previous levels' refining: the lists again */
+            memset(slot, 0, sizeof slot);
+            bucket_lists(n, all, lo, scale, bw2, head, next);
+        }
         for (k = k0; k < k1; k++) {
             double target = probs[k] * Wrun;
-            lv_below[k - k0] = 0.0;
-            lv_bucket[k - k0] = find_bucket(bw, &lv_below[k - k0], target);
-            if (slot[lv_bucket[k - k0]] == 0) {
-                size_t b = lv_bucket[k - k0];
-                slot[b] = ++nt;   /* 1-based: 0 marks a bucket no level needs */
-                start_of[nt - 1] = off;
-                fill[nt - 1] = off;
-                tlo[nt - 1] = HUGE_VAL;
-                thi[nt - 1] = -HUGE_VAL;
-                off += cnt[b];
+            size_t l = 0, h = swept, b;
+            while (l < h) {
+                size_t mid = l + (h - l) / 2;
+                if (upto[mid] >= target)
+                    h = mid;
+                else
+                    l = mid + 1;
             }
-        }
-        for (i = 0; i < n; i++) {
-            size_t t = slot[bucket_of(all[i].v, lo, scale)];
-            if (t != 0) {
-                double v = all[i].v;
-                r1[fill[t - 1]++] = all[i];
-                if (v < tlo[t - 1]) tlo[t - 1] = v;
-                if (v > thi[t - 1]) thi[t - 1] = v;
+            /* the first non-empty bucket from there on (an empty bucket
+             * reaches target only when it is bucket 0) */
+            for (b = l; b < swept && !(bw[b] > 0); b++)
+                ;
+            if (b < swept) {
+                lv_below[k - k0] = b > 0 ? upto[b - 1] : 0.0;
+            } else {
+                /* rounding kept the sum under target (the sweep went
+                 * through every bucket): the last non-empty bucket */
+                if (top == NBUCKET)
+                    for (top = NBUCKET - 1; top > 0 && !(bw[top] > 0); top--)
+                        ;
+                b = top;
+                lv_below[k - k0] = upto[NBUCKET - 1] - bw[b];
+            }
+            lv_bucket[k - k0] = b;
+            if (slot[b] == 0) {
+                /* its members, last first from the list, then turned
+                 * round into member order */
+                size_t e = head[b], s0, s1;
+                double tl = HUGE_VAL, th = -HUGE_VAL;
+                slot[b] = (unsigned char)++nt; /* 1-based: 0 marks a bucket no level needs */
+                start_of[nt - 1] = off;
+                while (e != 0) {
+                    double v = all[e - 1].v;
+                    r1[off++] = all[e - 1];
+                    tl = v < tl ? v : tl;
+                    th = v > th ? v : th;
+                    e = next[e - 1];
+                }
+                count_of[nt - 1] = off - start_of[nt - 1];
+                for (s0 = start_of[nt - 1], s1 = off; s1 - s0 > 1; s0++, s1--) {
+                    pair t = r1[s0];
+                    r1[s0] = r1[s1 - 1];
+                    r1[s1 - 1] = t;
+                }
+                tlo[nt - 1] = tl;
+                thi[nt - 1] = th;
             }
         }
         for (k = k0; k < k1; k++) {
-            size_t t = slot[lv_bucket[k - k0]] - 1, m = cnt[lv_bucket[k - k0]];
+            size_t t = (size_t)slot[lv_bucket[k - k0]] - 1, m = count_of[t];
             /* refine a copy: two levels may share a bucket */
             memcpy(r2, r1 + start_of[t], m * sizeof *r2);
             q[k * qinc] = select_in(m, r2, r3, tlo[t], thi[t], lv_below[k - k0],
