@@ -1178,13 +1178,13 @@ static void raise_run(run_settings *s, const sl_error *err)
     slm_poll_finish(&s->poll);
     if (strcmp(err->reason, "rankfailed") == 0)
         slm_raise(s->fn, err); /* another rank's failure: its own error is there */
+    if (strcmp(err->reason, "rankleft") == 0 || strcmp(err->reason, "mpifailed") == 0)
+        slm_raise("mpi", err); /* the job's, as the MPI gateway raises them */
     if (s->ho.failed && (err->status == SL_EMODEL || err->status == SL_EINTERRUPT))
         slm_handle_obs_raise(s->fn, &s->ho);
     if (s->model.step != NULL && strcmp(s->kind, "handle") == 0 &&
         (err->status == SL_EMODEL || (err->status == SL_EINTERRUPT && s->hm.interrupted)))
         slm_handle_model_raise(s->fn, &s->hm);
-    if (strcmp(err->reason, "rankleft") == 0 || strcmp(err->reason, "mpifailed") == 0)
-        slm_raise("mpi", err); /* the job's, as the MPI gateway raises them */
     slm_raise(s->fn, err);
 }
 

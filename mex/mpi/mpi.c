@@ -18,10 +18,10 @@
  * own) before waiting for all of them at the exit. A rank waiting in one
  * of the collectives above polls for that message and, when a rank left
  * before joining, raises sluice:mpi:rankleft naming it; then that rank
- * exits too. MPI is finalised once every rank has reached the exit; a
- * rank that left a collective unfinished aborts the job there instead
- * (its partners are gone). A rank killed outright (signal, out of
- * memory) is mpirun's to notice: it ends the whole job. */
+ * exits too. MPI is finalised once every rank has reached the exit; if a
+ * rank left a collective unfinished, the lowest such rank alone ends
+ * the job there instead (its partners are gone). A rank killed outright
+ * (signal, out of memory) is mpirun's to notice: it ends the whole job. */
 #include "../mexutil.h"
 #include "sluice/pf.h"
 
@@ -47,6 +47,55 @@ static int left_rank = -1;              /* the first rank heard leaving */
  * (waiting included), bytes this rank received, calls */
 static double core_seconds = 0.0, core_bytes = 0.0, core_calls = 0.0;
 
+/* The memory a posted collective reads and writes. A collective cannot be
+ * cancelled: when a rank leaves during one, its request stays posted and
+ * the library may still read or write these buffers afterwards (whenever
+ * this rank drives MPI's progress, as at its exit). An error raised from a
+ * gateway frees what mxMalloc gave and pops the stack, so the buffers come
+ * from malloc: freed once the collective has completed, kept for good (in
+ * `kept`) when it never will. */
+typedef union block {
+    union block *next;
+    long double align;
+} block;
+static block *live = NULL;   /* the buffers of the collective under way */
+static block *kept = NULL;   /* those of collectives left unfinished */
+
+static void coll_done(void)
+{
+    while (live != NULL) {
+        block *next = live->next;
+        free(live);
+        live = next;
+    }
+}
+
+static void coll_keep(void)
+{
+    while (live != NULL) {
+        block *next = live->next;
+        live->next = kept;
+        kept = live;
+        live = next;
+    }
+}
+
+/* n bytes for the collective under way (at least one) */
+static void *coll_alloc(size_t n)
+{
+    block *b = NULL;
+    if (n <= (size_t)-1 - sizeof(block))
+        b = (block *)malloc(sizeof(block) + (n > 0 ? n : 1));
+    if (b == NULL) {
+        coll_done();
+        slm_fail(fn, "nomemory", "rank %d of %d: cannot allocate %.0f bytes for a collective",
+                 world_rank, world_size, (double)n);
+    }
+    b->next = live;
+    live = b;
+    return b + 1;
+}
+
 static void fail_mpi(int rc, const char *what)
 {
     char msg[MPI_MAX_ERROR_STRING];
@@ -57,7 +106,8 @@ static void fail_mpi(int rc, const char *what)
 }
 
 /* Wait for req, watching for a rank that left. Returns 0 when done; else
- * the MPI error code (what failed) or -1 (a rank left: left_rank). */
+ * the MPI error code or -1 (a rank left: left_rank). Either way the
+ * request stays posted, so its buffers are kept for good (coll_keep). */
 static int wait_req(MPI_Request *req)
 {
     long spins = 0;
@@ -67,6 +117,7 @@ static int wait_req(MPI_Request *req)
         rc = MPI_Test(req, &done, MPI_STATUS_IGNORE);
         if (rc != MPI_SUCCESS) {
             dangling = 1;
+            coll_keep();
             return rc;
         }
         if (done)
@@ -78,6 +129,7 @@ static int wait_req(MPI_Request *req)
             heard_leaving++;
             dangling = 1;
             left_rank = st.MPI_SOURCE;
+            coll_keep();
             return -1;
         }
         /* spin briefly, then yield the core: ranks may share cores */
@@ -120,7 +172,7 @@ static sl_status wait_status(MPI_Request *req, const char *what, sl_error *err)
                    world_size, what, msg);
 }
 
-/* Byte counts as MPI's int counts of a unit of 8, 4 or 1 bytes (the
+/* Byte counts as MPI's int counts of a unit of 8, 4, 2 or 1 bytes (the
  * largest that divides every count), so that up to 16 GiB go in one
  * call; n counts from `counts`, displacements rank after rank. */
 static sl_status unit_counts(const size_t *a, const size_t *b, int n, MPI_Datatype *type,
@@ -147,34 +199,70 @@ static sl_status unit_counts(const size_t *a, const size_t *b, int n, MPI_Dataty
             tb += b[i];
         }
     }
-    *type = unit == 8 ? MPI_UINT64_T : unit == 4 ? MPI_UINT32_T : MPI_UINT8_T;
+    *type = unit == 8   ? MPI_UINT64_T
+            : unit == 4 ? MPI_UINT32_T
+            : unit == 2 ? MPI_UINT16_T
+                        : MPI_UINT8_T;
     return SL_OK;
+}
+
+/* The core's buffers belong to the run's workspace, which Octave frees
+ * when the run fails: the collectives go through buffers of their own
+ * (coll_try), kept for good if a partner leaves mid-way. */
+static void *coll_try(size_t n)
+{
+    block *b = NULL;
+    if (n <= (size_t)-1 - sizeof(block))
+        b = (block *)malloc(sizeof(block) + (n > 0 ? n : 1));
+    if (b == NULL)
+        return NULL;
+    b->next = live;
+    live = b;
+    return b + 1;
+}
+
+static size_t sum_counts(const size_t *c, int n)
+{
+    size_t t = 0;
+    int i;
+    for (i = 0; i < n; i++)
+        t += c[i];
+    return t;
 }
 
 static sl_status core_allgather(void *ctx, const void *send, void *recv, const size_t *counts,
                                 sl_error *err)
 {
     const int n = world_size;
-    int *c = (int *)malloc(2 * sizeof(int) * (size_t)n), rc;
+    const double t0 = slm_monotonic_seconds();
+    const size_t total = sum_counts(counts, n);
+    int *c = (int *)coll_try(2 * sizeof(int) * (size_t)n), rc;
+    unsigned char *sb = (unsigned char *)coll_try(counts[world_rank]),
+                  *rb = (unsigned char *)coll_try(total);
     MPI_Datatype type;
     MPI_Request req;
     sl_status st;
     (void)ctx;
-    if (c == NULL)
-        return sl_fail(err, SL_ENOMEM, "nomemory", "rank %d of %d: out of memory", world_rank, n);
-    double t0 = slm_monotonic_seconds();
+    if (c == NULL || sb == NULL || rb == NULL) {
+        coll_done();
+        return sl_fail(err, SL_ENOMEM, "nomemory", "rank %d of %d: cannot allocate %.0f bytes "
+                       "for a collective", world_rank, n, (double)total);
+    }
     st = unit_counts(counts, NULL, n, &type, c, c + n, NULL, NULL, err);
     if (st == SL_OK) {
         int i;
         for (i = 0; i < n; i++)
             core_bytes += i == world_rank ? 0.0 : (double)counts[i];
-        rc = MPI_Iallgatherv(send, c[world_rank], type, recv, c, c + n, type, work, &req);
+        memcpy(sb, send, counts[world_rank]);
+        rc = MPI_Iallgatherv(sb, c[world_rank], type, rb, c, c + n, type, work, &req);
         st = rc != MPI_SUCCESS
                  ? sl_fail(err, SL_EMODEL, "mpifailed", "rank %d of %d: allgather failed "
                                                           "(error code %d)", world_rank, n, rc)
                  : wait_status(&req, "a particle filter's allgather", err);
+        if (st == SL_OK)
+            memcpy(recv, rb, total);
     }
-    free(c);
+    coll_done(); /* nothing, if the collective was left unfinished */
     core_seconds += slm_monotonic_seconds() - t0;
     core_calls += 1.0;
     return st;
@@ -184,26 +272,32 @@ static sl_status core_exchange(void *ctx, const void *send, const size_t *scount
                                const size_t *rcounts, sl_error *err)
 {
     const int n = world_size;
-    int *c = (int *)malloc(4 * sizeof(int) * (size_t)n), rc;
+    const double t0 = slm_monotonic_seconds();
+    const size_t stotal = sum_counts(scounts, n), rtotal = sum_counts(rcounts, n);
+    int *c = (int *)coll_try(4 * sizeof(int) * (size_t)n), rc;
+    unsigned char *sb = (unsigned char *)coll_try(stotal), *rb = (unsigned char *)coll_try(rtotal);
     MPI_Datatype type;
     MPI_Request req;
     sl_status st;
     (void)ctx;
-    if (c == NULL)
-        return sl_fail(err, SL_ENOMEM, "nomemory", "rank %d of %d: out of memory", world_rank, n);
-    double t0 = slm_monotonic_seconds();
+    if (c == NULL || sb == NULL || rb == NULL) {
+        coll_done();
+        return sl_fail(err, SL_ENOMEM, "nomemory", "rank %d of %d: cannot allocate %.0f bytes "
+                       "for a collective", world_rank, n, (double)(stotal + rtotal));
+    }
     st = unit_counts(scounts, rcounts, n, &type, c, c + n, c + 2 * n, c + 3 * n, err);
     if (st == SL_OK) {
-        int i;
-        for (i = 0; i < n; i++)
-            core_bytes += (double)rcounts[i];
-        rc = MPI_Ialltoallv(send, c, c + n, type, recv, c + 2 * n, c + 3 * n, type, work, &req);
+        core_bytes += (double)rtotal;
+        memcpy(sb, send, stotal);
+        rc = MPI_Ialltoallv(sb, c, c + n, type, rb, c + 2 * n, c + 3 * n, type, work, &req);
         st = rc != MPI_SUCCESS
                  ? sl_fail(err, SL_EMODEL, "mpifailed", "rank %d of %d: exchange failed "
                                                           "(error code %d)", world_rank, n, rc)
                  : wait_status(&req, "a particle filter's exchange of members", err);
+        if (st == SL_OK)
+            memcpy(recv, rb, rtotal);
     }
-    free(c);
+    coll_done(); /* nothing, if the collective was left unfinished */
     core_seconds += slm_monotonic_seconds() - t0;
     core_calls += 1.0;
     return st;
@@ -225,45 +319,68 @@ int sluice_mpi_pf_ranks(sl_pf_ranks *rk)
     return 1;
 }
 
+/* At Octave's exit. Every rank says it is leaving, then all of them agree
+ * (an allreduce on the exit communicator, which also waits for every rank
+ * to get there) on the lowest rank that left a collective unfinished, if
+ * any. None: MPI is finalised. Else that one rank ends the job -- its
+ * partners are gone, so MPI cannot be finalised -- by leaving the process
+ * at once with status 1 (mpirun then ends every rank and the job fails);
+ * the others wait for mpirun to end them. Not MPI_Abort: Open MPI 4.1's
+ * mpirun garbles the message it sends ("ORTE_ERROR_LOG ... show_help.c",
+ * in 4 of 10 jobs of 4 ranks) and now and then crashes on it. A rank
+ * still here a minute later leaves the same way. */
 static void at_exit(void)
 {
-    int fin = 0, i, n, rc;
-    MPI_Request bar;
+    int fin = 0, i, n, rc, mine, first = 0;
+    double t0;
+    MPI_Request agree;
     MPI_Request *sends;
     if (!started || MPI_Finalized(&fin) != MPI_SUCCESS || fin)
         return;
     n = world_size;
     sends = (MPI_Request *)calloc((size_t)(n > 0 ? n : 1), sizeof(MPI_Request));
     if (sends == NULL) {
-        MPI_Abort(MPI_COMM_WORLD, 1);
-        return;
+        fflush(NULL);
+        _Exit(1);
     }
     for (i = 0; i < n; i++) {
         sends[i] = MPI_REQUEST_NULL;
         if (i != world_rank)
             MPI_Isend(&leaving_note, 1, MPI_INT, i, TAG_LEAVING, ctl, &sends[i]);
     }
-    rc = MPI_Ibarrier(ctl, &bar);
+    mine = dangling ? world_rank : n;
+    rc = MPI_Iallreduce(&mine, &first, 1, MPI_INT, MPI_MIN, ctl, &agree);
     while (rc == MPI_SUCCESS) {
         int done = 0;
-        rc = MPI_Test(&bar, &done, MPI_STATUS_IGNORE);
+        rc = MPI_Test(&agree, &done, MPI_STATUS_IGNORE);
         if (done)
             break;
         slm_sleep_seconds(1e-3);
     }
+    if (rc != MPI_SUCCESS)
+        first = world_rank;
     /* every rank has sent its leaving messages: take the ones not yet
      * heard, so none is left unmatched */
-    for (; heard_leaving < n - 1; heard_leaving++) {
+    for (; heard_leaving < n - 1 && rc == MPI_SUCCESS; heard_leaving++) {
         int note = 0;
         MPI_Recv(&note, 1, MPI_INT, MPI_ANY_SOURCE, TAG_LEAVING, ctl, MPI_STATUS_IGNORE);
     }
-    MPI_Waitall(n, sends, MPI_STATUSES_IGNORE);
+    if (rc == MPI_SUCCESS)
+        MPI_Waitall(n, sends, MPI_STATUSES_IGNORE);
     free(sends);
-    if (dangling || rc != MPI_SUCCESS) {
+    if (first == world_rank) {
         fprintf(stderr, "sluice: rank %d of %d ends the job: a collective was left unfinished "
                         "when another rank left\n", world_rank, world_size);
-        fflush(stderr);
-        MPI_Abort(MPI_COMM_WORLD, 1);
+        fflush(NULL);
+        _Exit(1);
+    }
+    if (first < n) {
+        /* rank `first` ends the job: mpirun ends this process */
+        fflush(NULL);
+        t0 = slm_monotonic_seconds();
+        while (slm_monotonic_seconds() - t0 < 60)
+            slm_sleep_seconds(0.05);
+        _Exit(1);
     }
     MPI_Comm_free(&work);
     MPI_Comm_free(&ctl);
@@ -336,6 +453,7 @@ static void cmd_allreduce(int nrhs, const mxArray *prhs[], mxArray *plhs[])
     MPI_Op mop;
     MPI_Request req;
     size_t n;
+    double *x, *r;
     mxArray *y;
     int rc;
     if (nrhs != 3)
@@ -355,47 +473,68 @@ static void cmd_allreduce(int nrhs, const mxArray *prhs[], mxArray *plhs[])
     n = mxGetNumberOfElements(prhs[1]);
     if (n > (size_t)INT32_MAX)
         slm_fail(fn, "badarg", "argument 2 (x): more than 2^31-1 elements");
+    x = (double *)coll_alloc(n * sizeof(double));
+    r = (double *)coll_alloc(n * sizeof(double));
+    if (n > 0)
+        memcpy(x, mxGetDoubles(prhs[1]), n * sizeof(double));
+    rc = MPI_Iallreduce(x, r, (int)n, MPI_DOUBLE, mop, work, &req);
+    if (rc != MPI_SUCCESS) {
+        coll_done();
+        fail_mpi(rc, "allreduce");
+    }
+    wait_watch(&req, "allreduce");
     y = mxCreateNumericArray(mxGetNumberOfDimensions(prhs[1]), mxGetDimensions(prhs[1]),
                              mxDOUBLE_CLASS, mxREAL);
-    rc = MPI_Iallreduce(mxGetDoubles(prhs[1]), mxGetDoubles(y), (int)n, MPI_DOUBLE, mop, work, &req);
-    if (rc != MPI_SUCCESS)
-        fail_mpi(rc, "allreduce");
-    wait_watch(&req, "allreduce");
+    if (n > 0)
+        memcpy(mxGetDoubles(y), r, n * sizeof(double));
+    coll_done();
     plhs[0] = y;
 }
 
 static void cmd_bcast(int nrhs, const mxArray *prhs[], mxArray *plhs[])
 {
     int root, rc;
-    double len;
+    double *len;
+    size_t nb;
+    uint8_t *data = NULL;
     MPI_Request req;
     mxArray *b;
     if (nrhs != 3)
         slm_fail(fn, "badarg", "bcast takes bytes and root");
     bytes_arg(prhs[1], 2);
     root = root_arg(prhs[2], 3);
-    len = (double)mxGetNumberOfElements(prhs[1]);
-    rc = MPI_Ibcast(&len, 1, MPI_DOUBLE, root, work, &req);
-    if (rc != MPI_SUCCESS)
+    len = (double *)coll_alloc(sizeof(double));
+    *len = (double)mxGetNumberOfElements(prhs[1]);
+    rc = MPI_Ibcast(len, 1, MPI_DOUBLE, root, work, &req);
+    if (rc != MPI_SUCCESS) {
+        coll_done();
         fail_mpi(rc, "bcast");
+    }
     wait_watch(&req, "bcast");
-    b = mxCreateNumericMatrix((size_t)len, 1, mxUINT8_CLASS, mxREAL);
-    if (world_rank == root && len > 0)
-        memcpy(mxGetUint8s(b), mxGetUint8s(prhs[1]), (size_t)len);
-    if (len > 0) {
-        rc = MPI_Ibcast(mxGetUint8s(b), (int)len, MPI_UINT8_T, root, work, &req);
-        if (rc != MPI_SUCCESS)
+    nb = (size_t)*len;
+    if (nb > 0) {
+        data = (uint8_t *)coll_alloc(nb);
+        if (world_rank == root)
+            memcpy(data, mxGetUint8s(prhs[1]), nb);
+        rc = MPI_Ibcast(data, (int)nb, MPI_UINT8_T, root, work, &req);
+        if (rc != MPI_SUCCESS) {
+            coll_done();
             fail_mpi(rc, "bcast");
+        }
         wait_watch(&req, "bcast");
     }
+    b = mxCreateNumericMatrix(nb, 1, mxUINT8_CLASS, mxREAL);
+    if (nb > 0)
+        memcpy(mxGetUint8s(b), data, nb);
+    coll_done();
     plhs[0] = b;
 }
 
 static void cmd_gather(int nrhs, const mxArray *prhs[], mxArray *plhs[])
 {
-    int root, rc, i, mine, n = world_size;
-    int *lens = NULL, *offs = NULL;
-    uint8_t *all = NULL;
+    int root, rc, i, n = world_size;
+    int *mine, *lens = NULL, *offs = NULL;
+    uint8_t *send, *all = NULL;
     long total = 0;
     MPI_Request req;
     mxArray *c;
@@ -403,28 +542,37 @@ static void cmd_gather(int nrhs, const mxArray *prhs[], mxArray *plhs[])
         slm_fail(fn, "badarg", "gather takes bytes and root");
     bytes_arg(prhs[1], 2);
     root = root_arg(prhs[2], 3);
-    mine = (int)mxGetNumberOfElements(prhs[1]);
+    mine = (int *)coll_alloc(sizeof(int));
+    *mine = (int)mxGetNumberOfElements(prhs[1]);
     if (world_rank == root) {
-        lens = (int *)mxMalloc(sizeof(int) * (size_t)n);
-        offs = (int *)mxMalloc(sizeof(int) * (size_t)n);
+        lens = (int *)coll_alloc(sizeof(int) * (size_t)n);
+        offs = (int *)coll_alloc(sizeof(int) * (size_t)n);
     }
-    rc = MPI_Igather(&mine, 1, MPI_INT, lens, 1, MPI_INT, root, work, &req);
-    if (rc != MPI_SUCCESS)
+    rc = MPI_Igather(mine, 1, MPI_INT, lens, 1, MPI_INT, root, work, &req);
+    if (rc != MPI_SUCCESS) {
+        coll_done();
         fail_mpi(rc, "gather");
+    }
     wait_watch(&req, "gather");
     if (world_rank == root) {
         for (i = 0; i < n; i++) {
             offs[i] = (int)total;
             total += lens[i];
         }
-        if (total > (long)INT32_MAX)
+        if (total > (long)INT32_MAX) {
+            coll_done();
             slm_fail(fn, "badarg", "gather: more than 2^31-1 bytes in all");
-        all = (uint8_t *)mxMalloc(total > 0 ? (size_t)total : 1);
+        }
+        all = (uint8_t *)coll_alloc((size_t)total);
     }
-    rc = MPI_Igatherv(mxGetUint8s(prhs[1]), mine, MPI_UINT8_T, all, lens, offs, MPI_UINT8_T,
-                      root, work, &req);
-    if (rc != MPI_SUCCESS)
+    send = (uint8_t *)coll_alloc((size_t)*mine);
+    if (*mine > 0)
+        memcpy(send, mxGetUint8s(prhs[1]), (size_t)*mine);
+    rc = MPI_Igatherv(send, *mine, MPI_UINT8_T, all, lens, offs, MPI_UINT8_T, root, work, &req);
+    if (rc != MPI_SUCCESS) {
+        coll_done();
         fail_mpi(rc, "gather");
+    }
     wait_watch(&req, "gather");
     if (world_rank == root) {
         c = mxCreateCellMatrix(1, (size_t)n);
@@ -437,6 +585,7 @@ static void cmd_gather(int nrhs, const mxArray *prhs[], mxArray *plhs[])
     } else {
         c = mxCreateCellMatrix(0, 0);
     }
+    coll_done();
     plhs[0] = c;
 }
 
@@ -479,6 +628,9 @@ void mexFunction(int nlhs, mxArray *plhs[], int nrhs, const mxArray *prhs[])
         slm_fail(fn, "badarg", "argument 1: unknown command '%s' (known: init, initialized, "
                                "allreduce, bcast, gather, barrier, stats)", cmd);
     need_started();
+    /* buffers left by an error raised after their collective completed
+     * (an Octave allocation failing): no request uses them */
+    coll_done();
     if (strcmp(cmd, "allreduce") == 0)
         cmd_allreduce(nrhs, prhs, plhs);
     else if (strcmp(cmd, "bcast") == 0)

@@ -232,6 +232,18 @@ try
       b = sluice.filter (jm, jp, obs, jo{:}, 'mpi', false);
       ok = ok && a.ranks == nr && strcmp (a.param_move, 'kernel') ...
            && isequaln (rmfield (a, {'ranks', 'options'}), rmfield (b, {'ranks', 'options'}));
+      % members whose state turns non-finite (their flags gathered: 1000
+      % members make byte counts of 500 or 250 a rank)
+      warning ('off', 'sluice:filter:nonfinite');
+      dm = sluice.model (@(t, X, P, U, dt) X ./ (P(1, :) > 0.3), 'states', {'x'}, ...
+                         'params', {'a'}, 'defaults', 0.5);
+      dp = sluice.prior ('a', 'uniform', [0.2 1], 'x', 'normal', [0 1]);
+      a = sluice.filter (dm, dp, obs, 'members', 1000, 'seed', 5, 't0', 0, ...
+                         'progress', false, 'state_noise', 0.1, 'mpi', true);
+      b = sluice.filter (dm, dp, obs, 'members', 1000, 'seed', 5, 't0', 0, ...
+                         'progress', false, 'state_noise', 0.1);
+      ok = ok && a.ranks == nr && max (a.nonfinite) > 50 ...
+           && isequaln (rmfield (a, {'ranks', 'options'}), rmfield (b, {'ranks', 'options'}));
       % a prepared run split across the ranks: with a seed, the
       % one-process run; without, one seed (rank 0's) on every rank
       run = sluice.filter (m, pr, obs, 'members', 300, 't0', 0, 'progress', false, ...
@@ -278,11 +290,12 @@ try
           ids{end+1} = 'none';
         catch err
           ids{end+1} = err.identifier;
+          msg = err.message;
         end
       end
       ok = strcmp (ids{1}, 'test:planted') ...
            && any (strcmp (ids{2}, {'test:planted', 'sluice:filter:rankfailed'}));
-      say (ok, sprintf (': %s, %s', ids{:}));
+      say (ok, sprintf (': %s, %s (%s)', ids{:}, msg));
     case 'pfsplit'
       % fewer members than ranks, or a checkpoint: refused with mpi true,
       % run whole on every rank with 'auto'; a run the members cannot
