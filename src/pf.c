@@ -1213,6 +1213,47 @@ void sl_pfi_add_state_noise(const sl_pf_config *cfg, pf_buffers *b, double *X,
     }
 }
 
+sl_status sl_pfi_reweight(size_t N, const unsigned char *dead, double *ll, size_t nobs,
+                          double rest, double *lw, double *logw, double *w, double *logz,
+                          int *degenerate, sl_error *err)
+{
+    sl_weight_summary ws;
+    sl_error werr;
+    sl_status st;
+    double wsum = 0.0;
+    size_t j;
+    for (j = 0; j < N; j++)
+        logw[j] = dead[j] ? -HUGE_VAL : (nobs > 0 ? lw[j] + rest * ll[j] : lw[j]);
+    st = sl_weights_normalize(N, logw, ll, &ws, &werr);
+    if (st == SL_OK) {
+        memcpy(w, ll, N * sizeof(double));
+        for (j = 0; j < N; j++)
+            lw[j] = logw[j] - ws.log_sum;
+        *logz = ws.log_sum;
+        return SL_OK;
+    }
+    if (st != SL_EDEGENERATE) {
+        if (err != NULL)
+            *err = werr;
+        return st;
+    }
+    /* no member explains the data: keep the weights of the living
+     * members, record the cycle, evidence -Inf */
+    *degenerate = 1;
+    *logz = -HUGE_VAL;
+    for (j = 0; j < N; j++) {
+        if (dead[j])
+            w[j] = 0.0;
+        wsum += w[j];
+    }
+    for (j = 0; j < N; j++) {
+        if (wsum > 0)
+            w[j] /= wsum;
+        lw[j] = w[j] > 0 ? log(w[j]) : -HUGE_VAL;
+    }
+    return SL_OK;
+}
+
 /* pcn: the members' stored draws follow them through resampling (the
  * filled part only: forcing draws of steps < s, state noise of cycles
  * <= k) */
@@ -2173,40 +2214,16 @@ sl_status sl_pf_run(const sl_pf_config *cfg, double *X, double *P, double *w,
         if (weighs)
             out->logz[k] = 0.0;
         if (reweight) {
-            sl_weight_summary ws;
-            sl_error werr;
+            int dg = 0;
+            double lz;
             /* the exponent tempering left (1 without tempering) */
-            const double rest = 1.0 - tphi;
-            for (j = 0; j < N; j++)
-                b.logw[j] = b.dead[cur][j] ? -HUGE_VAL
-                                           : (nobs > 0 ? b.lw[j] + rest * b.ll[j] : b.lw[j]);
-            st = sl_weights_normalize(N, b.logw, b.ll, &ws, &werr);
-            if (st == SL_OK) {
-                memcpy(w, b.ll, N * sizeof(double));
-                for (j = 0; j < N; j++)
-                    b.lw[j] = b.logw[j] - ws.log_sum;
-                out->logz[k] = ws.log_sum + tlogz;
-            } else if (st == SL_EDEGENERATE) {
-                /* no member explains the data: keep the weights of the
-                 * living members, record the cycle, evidence -Inf */
-                degenerate = 1;
-                out->logz[k] = -HUGE_VAL;
-                wsum = 0.0;
-                for (j = 0; j < N; j++) {
-                    if (b.dead[cur][j])
-                        w[j] = 0.0;
-                    wsum += w[j];
-                }
-                for (j = 0; j < N; j++) {
-                    if (wsum > 0)
-                        w[j] /= wsum;
-                    b.lw[j] = w[j] > 0 ? log(w[j]) : -HUGE_VAL;
-                }
-            } else {
-                if (err != NULL)
-                    *err = werr;
+            st = sl_pfi_reweight(N, b.dead[cur], b.ll, nobs, 1.0 - tphi, b.lw, b.logw, w, &lz,
+                                 &dg, err);
+            if (st != SL_OK)
                 return st;
-            }
+            if (dg)
+                degenerate = 1;
+            out->logz[k] = dg ? -HUGE_VAL : lz + tlogz;
             out->log_evidence += out->logz[k];
         }
         st = SL_OK;

@@ -104,6 +104,16 @@ size_t sl_pfi_layout(const sl_pf_config *cfg, unsigned char *base, pf_buffers *b
 sl_status sl_pfi_forecast_split(const sl_pf_config *cfg, pf_buffers *b, int cur, double *t,
                                 size_t k, uint32_t *s, size_t *fidx, sl_error *err);
 
+/* The cycle's weights (the run of pf.c and the split run alike): the
+ * log-weights lw + rest * ll of the living members (lw alone when nobs is
+ * 0; -Inf for dead ones) normalised into w, lw set to their logs, *logz
+ * the log of their sum. When no member explains the data the living
+ * members keep their weights (renormalised), *logz = -Inf and
+ * *degenerate = 1. ll and logw are overwritten (N each). */
+sl_status sl_pfi_reweight(size_t N, const unsigned char *dead, double *ll, size_t nobs,
+                          double rest, double *lw, double *logw, double *w, double *logz,
+                          int *degenerate, sl_error *err);
+
 /* The cycle's helpers (pf.c): forcing values and their perturbations,
  * a model step of every member, the state noise, predicted observations,
  * member log-likelihoods, summaries and diversity, gathering columns by

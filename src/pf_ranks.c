@@ -646,36 +646,11 @@ sl_status sl_pf_run_ranks(const sl_pf_config *cfg, const sl_pf_ranks *rk, double
 
         /* the weights: every rank the same, as sl_pf_run */
         if (reweight) {
-            sl_weight_summary ws;
-            sl_error werr;
-            for (j = 0; j < N; j++)
-                rb.glogw[j] = rb.gdead[j] ? -HUGE_VAL
-                                          : (nobs > 0 ? rb.glw[j] + rb.gll[j] : rb.glw[j]);
-            st = sl_weights_normalize(N, rb.glogw, rb.gll, &ws, &werr);
-            if (st == SL_OK) {
-                memcpy(w, rb.gll, N * sizeof(double));
-                for (j = 0; j < N; j++)
-                    rb.glw[j] = rb.glogw[j] - ws.log_sum;
-                out->logz[k] = ws.log_sum;
-            } else if (st == SL_EDEGENERATE) {
-                degenerate = 1;
-                out->logz[k] = -HUGE_VAL;
-                wsum = 0.0;
-                for (j = 0; j < N; j++) {
-                    if (rb.gdead[j])
-                        w[j] = 0.0;
-                    wsum += w[j];
-                }
-                for (j = 0; j < N; j++) {
-                    if (wsum > 0)
-                        w[j] /= wsum;
-                    rb.glw[j] = w[j] > 0 ? log(w[j]) : -HUGE_VAL;
-                }
-            } else {
-                if (err != NULL)
-                    *err = werr;
+            double lz;
+            if ((st = sl_pfi_reweight(N, rb.gdead, rb.gll, nobs, 1.0, rb.glw, rb.glogw, w, &lz,
+                                      &degenerate, err)) != SL_OK)
                 return st;
-            }
+            out->logz[k] = degenerate ? -HUGE_VAL : lz;
             out->log_evidence += out->logz[k];
         }
         wsum = 0.0;

@@ -296,6 +296,29 @@ static void compare_ranks(const sl_pf_config *cfg, const run_buf *ref, const dou
         }
 }
 
+/* A configuration of the observations and defaults every case shares. */
+static void base_config(sl_pf_config *c, const sl_model *md, size_t N, size_t T,
+                        const double *times, const size_t *first, const double *y,
+                        const double *sg, const double *aux, const int *fam,
+                        const size_t *var)
+{
+    memset(c, 0, sizeof *c);
+    c->model = md;
+    c->N = N;
+    c->T = T;
+    c->times = times;
+    c->obs_first = first;
+    c->y = y;
+    c->sigma = sg;
+    c->aux = aux;
+    c->family = fam;
+    c->var = var;
+    c->param_move = &sl_param_move_fixed;
+    c->resampler = &sl_resampler_systematic;
+    c->threshold = 0.5;
+    c->threads = 1;
+}
+
 /* ----------------------------------------------------- the cases */
 
 /* GR4J, 4 parameters (two drawn, lognormal, moved by the kernel at
@@ -351,17 +374,7 @@ static void check_gr4j(void)
         X0[0 + j * NS] = 100.0 + 50.0 * sl_stream_uniform(&s);
         X0[1 + j * NS] = 30.0 + 20.0 * sl_stream_uniform(&s);
     }
-    memset(&cfg, 0, sizeof cfg);
-    cfg.model = &md;
-    cfg.N = N;
-    cfg.T = T;
-    cfg.times = times;
-    cfg.obs_first = first;
-    cfg.y = y;
-    cfg.sigma = sg;
-    cfg.aux = aux;
-    cfg.family = fam;
-    cfg.var = var;
+    base_config(&cfg, &md, N, T, times, first, y, sg, aux, fam, var);
     cfg.forcing.q = 2;
     cfg.forcing.nt = T;
     cfg.forcing.time = Ft;
@@ -375,10 +388,7 @@ static void check_gr4j(void)
     cfg.move.lw_delta = 0.98;
     cfg.move.kernel_scale = 1.0;
     cfg.move.min_ess = SL_KERNEL_MIN_ESS;
-    cfg.resampler = &sl_resampler_systematic;
-    cfg.threshold = 0.5;
     cfg.seed = 2026;
-    cfg.threads = 1;
     cfg.nq = 3;
     cfg.probs = probs;
     run_alloc(&ref, &cfg, X0, P0, sl_pf_workspace(&cfg));
@@ -488,27 +498,14 @@ static void check_member_draws_and_failure(void)
         X0[j] = sl_stream_normal(&s);
     }
     P0[0] = 0.0;
-    memset(&cfg, 0, sizeof cfg);
-    cfg.model = &md;
-    cfg.N = N;
-    cfg.T = T;
-    cfg.times = times;
-    cfg.obs_first = first;
-    cfg.y = y;
-    cfg.sigma = sg;
-    cfg.aux = aux;
-    cfg.family = fam;
-    cfg.var = var;
+    base_config(&cfg, &md, N, T, times, first, y, sg, aux, fam, var);
     cfg.forcing.q = 1;
     cfg.forcing.nt = T + 2;
     cfg.forcing.time = ft;
     cfg.forcing.value = fv;
     cfg.state_noise = snoise;
-    cfg.param_move = &sl_param_move_fixed;
-    cfg.resampler = &sl_resampler_systematic;
     cfg.threshold = 0.8;
     cfg.seed = 5;
-    cfg.threads = 1;
     cfg.nq = 2;
     cfg.probs = probs;
     run_alloc(&ref, &cfg, X0, P0, sl_pf_workspace(&cfg));
@@ -619,22 +616,8 @@ static void check_refusals(void)
     sl_error err;
     sl_pf_ranks rk;
     CHECK(sl_linear_model(&md, &lin, 1.0, &err) == SL_OK, "model");
-    memset(&cfg, 0, sizeof cfg);
-    cfg.model = &md;
-    cfg.N = N;
-    cfg.T = T;
-    cfg.times = times;
-    cfg.obs_first = first;
-    cfg.y = y;
-    cfg.sigma = sg;
-    cfg.aux = aux;
-    cfg.family = fam;
-    cfg.var = var;
+    base_config(&cfg, &md, N, T, times, first, y, sg, aux, fam, var);
     cfg.state_noise = snoise;
-    cfg.param_move = &sl_param_move_fixed;
-    cfg.resampler = &sl_resampler_systematic;
-    cfg.threshold = 0.5;
-    cfg.threads = 1;
     cfg.forcing.q = 1;
     cfg.forcing.nt = 2;
     cfg.forcing.time = ft;
