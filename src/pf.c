@@ -3,6 +3,9 @@
 
 #include <math.h>
 #include <string.h>
+#ifdef __SSE2__
+#include <emmintrin.h>
+#endif
 #ifdef _OPENMP
 #include <omp.h>
 #endif
@@ -1327,7 +1330,20 @@ static void forecast_mean(const sl_pf_config *cfg, const unsigned char *dead,
         for (j = 0; j < N; j++) {
             if (dead[j] || !(w[j] > 0))
                 continue;
-            for (i = 0; i < nb; i++)
+            i = 0;
+#ifdef __SSE2__
+            {
+                /* two rows in the lanes of one register: each lane the
+                 * scalar product and sum of its row, the same bits */
+                const __m128d wj = _mm_set1_pd(w[j]);
+                for (; i + 1 < nb; i += 2) {
+                    __m128d v = _mm_loadh_pd(_mm_load_sd(src[i] + j * ld[i]),
+                                             src[i + 1] + j * ld[i + 1]);
+                    _mm_storeu_pd(s + i, _mm_add_pd(_mm_loadu_pd(s + i), _mm_mul_pd(wj, v)));
+                }
+            }
+#endif
+            for (; i < nb; i++)
                 s[i] += w[j] * src[i][j * ld[i]];
         }
         for (i = 0; i < nb; i++)

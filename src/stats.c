@@ -4,6 +4,9 @@
 #include <math.h>
 #include <stdlib.h>
 #include <string.h>
+#ifdef __SSE2__
+#include <emmintrin.h>
+#endif
 
 #define NBUCKET 1024
 #define SMALL 48 /* candidate sets this small are finished by sorting */
@@ -414,6 +417,43 @@ void sl_weighted_summary(size_t N, const double *x, size_t inc,
 
 #define MEANBLOCK 64 /* rows summed together in one pass over the members */
 
+/* One member's step of the compensated sums of a block's rows: for row
+ * b, with v its value and a = (1.0 * wj) * (v - ref[b]), t = s[b] + a,
+ * the error of that addition into e[b] (Neumaier), s[b] = t, and the
+ * row's range. Two rows at a time in SSE2 lanes where the target has
+ * them: each lane does the scalar operations of its row, in the same
+ * order, so the bits are the same. */
+static void means_step(size_t nb, const double *col, const size_t *r, double wj,
+                       const double *ref, double *s, double *e, double *lo, double *hi)
+{
+    size_t b = 0;
+#ifdef __SSE2__
+    const __m128d w2 = _mm_set1_pd(1.0 * wj), sign = _mm_set1_pd(-0.0);
+    for (; b + 1 < nb; b += 2) {
+        __m128d v = _mm_loadh_pd(_mm_load_sd(col + r[b]), col + r[b + 1]);
+        __m128d sb = _mm_loadu_pd(s + b);
+        __m128d a = _mm_mul_pd(w2, _mm_sub_pd(v, _mm_loadu_pd(ref + b)));
+        __m128d t = _mm_add_pd(sb, a);
+        /* fabs(s) >= fabs(a): false for a NaN, as in C */
+        __m128d ge = _mm_cmpge_pd(_mm_andnot_pd(sign, sb), _mm_andnot_pd(sign, a));
+        __m128d x1 = _mm_add_pd(_mm_sub_pd(sb, t), a), x2 = _mm_add_pd(_mm_sub_pd(a, t), sb);
+        /* min(v, lo) is v < lo ? v : lo; max(v, hi) is v > hi ? v : hi */
+        _mm_storeu_pd(lo + b, _mm_min_pd(v, _mm_loadu_pd(lo + b)));
+        _mm_storeu_pd(hi + b, _mm_max_pd(v, _mm_loadu_pd(hi + b)));
+        _mm_storeu_pd(e + b, _mm_add_pd(_mm_loadu_pd(e + b),
+                                        _mm_or_pd(_mm_and_pd(ge, x1), _mm_andnot_pd(ge, x2))));
+        _mm_storeu_pd(s + b, t);
+    }
+#endif
+    for (; b < nb; b++) {
+        double v = col[r[b]], a = (1.0 * wj) * (v - ref[b]), t = s[b] + a;
+        if (v < lo[b]) lo[b] = v;
+        if (v > hi[b]) hi[b] = v;
+        e[b] += fabs(s[b]) >= fabs(a) ? (s[b] - t) + a : (a - t) + s[b];
+        s[b] = t;
+    }
+}
+
 void sl_weighted_means(size_t N, const double *x, size_t ld, size_t m,
                        const size_t *rows, size_t base, const double *w,
                        double *mean)
@@ -450,18 +490,9 @@ void sl_weighted_means(size_t N, const double *x, size_t ld, size_t m,
             lo[b] = HUGE_VAL;
             hi[b] = -HUGE_VAL;
         }
-        for (j = j0; j < N; j++) {
-            const double *col = x + j * ld, wj = w[j];
-            if (!(wj > 0))
-                continue;
-            for (b = 0; b < nb; b++) {
-                double v = col[r[b]], a = (1.0 * wj) * (v - ref[b]), t = s[b] + a;
-                if (v < lo[b]) lo[b] = v;
-                if (v > hi[b]) hi[b] = v;
-                e[b] += fabs(s[b]) >= fabs(a) ? (s[b] - t) + a : (a - t) + s[b];
-                s[b] = t;
-            }
-        }
+        for (j = j0; j < N; j++)
+            if (w[j] > 0)
+                means_step(nb, x + j * ld, r, w[j], ref, s, e, lo, hi);
         for (b = 0; b < nb; b++) {
             if (isfinite(hi[b] - lo[b])) {
                 mean[r[b]] = ref[b] + (s[b] + e[b]) / W;

@@ -7,8 +7,11 @@ function bench_quantiles ()
   % same rows (thread CPU time, best of 5 interleaved rounds) at N = 1000
   % (contiguous rows, and rows of a 63-state ensemble as in GR4J) and
   % N = 1e5, for weights 1/N, uniform weights and 1/N with members in runs
-  % of copies, and checks every level bit for bit. Ratios new/old: below 1
-  % is faster.
+  % of copies, and checks every level bit for bit. Then the weighted means
+  % (sl_weighted_means) the same way: means_micro.c against the previous
+  % version, on GR4J-like ensembles (63 states, all of them or 3
+  % summarised; 4 parameters) and larger ones, every mean bit for bit.
+  % Ratios new/old: below 1 is faster.
   here = fileparts (mfilename ('fullpath'));
   root = fileparts (fileparts (here));
   lib = fullfile (root, 'build', 'libsluice.a');
@@ -31,6 +34,18 @@ function bench_quantiles ()
   [rc, out] = system (exe);
   if (rc ~= 0)
     error ('quantiles_micro failed: %s', out);
+  end
+  printf ('%s', out);
+  exe = fullfile (tmp, 'means_micro');
+  [rc, out] = system (sprintf ('gcc %s -o %s %s %s %s -lm 2>&1', flags, exe, ...
+                               fullfile (here, 'means_micro.c'), ...
+                               fullfile (here, 'quantiles_ref.c'), lib));
+  if (rc ~= 0)
+    error ('means_micro.c did not compile: %s', out);
+  end
+  [rc, out] = system (exe);
+  if (rc ~= 0)
+    error ('means_micro failed: %s', out);
   end
   printf ('%s', out);
 end

@@ -1,8 +1,8 @@
-/* stats_reference.h - the previous implementation of sl_weighted_summary
- * (bucket selection, qsort for small candidate sets), unchanged but for its
- * names: the reference the current one must match bit for bit
- * (tests/c/test_stats_bits.c) and is timed against
- * (tests/bench/quantiles_micro.c). */
+/* stats_reference.h - the previous implementations of sl_weighted_summary
+ * (bucket selection, qsort for small candidate sets) and of
+ * sl_weighted_means, unchanged but for their names: the references the
+ * current ones must match bit for bit (tests/c/test_stats_bits.c) and are
+ * timed against (tests/bench/quantiles_micro.c, rows_micro.c). */
 #ifndef SLUICE_STATS_REFERENCE_H
 #define SLUICE_STATS_REFERENCE_H
 
@@ -267,5 +267,77 @@ static void reference_weighted_summary(size_t N, const double *x, size_t inc,
     }
 }
 
+/* the previous sl_weighted_means (one pass over the members for every
+ * 64 rows, each row read through its index) */
+#define REF_MEANBLOCK 64 /* rows summed together in one pass over the members */
+
+static void reference_weighted_means(size_t N, const double *x, size_t ld, size_t m,
+                                     const size_t *rows, size_t base, const double *w,
+                                     double *mean)
+{
+    double W = 0.0, We = 0.0;
+    size_t j, j0 = N, i0, b;
+    /* the total weight: compensated_sum_w over the members of positive
+     * weight, in member order */
+    for (j = 0; j < N; j++) {
+        double a = w[j], t;
+        if (!(a > 0))
+            continue;
+        if (j0 == N)
+            j0 = j;
+        t = W + a;
+        We += fabs(W) >= fabs(a) ? (W - t) + a : (a - t) + W;
+        W = t;
+    }
+    W += We;
+    for (i0 = 0; i0 < m; i0 += REF_MEANBLOCK) {
+        size_t nb = m - i0 < REF_MEANBLOCK ? m - i0 : REF_MEANBLOCK, r[REF_MEANBLOCK];
+        double s[REF_MEANBLOCK], e[REF_MEANBLOCK], lo[REF_MEANBLOCK], hi[REF_MEANBLOCK], ref[REF_MEANBLOCK];
+        for (b = 0; b < nb; b++)
+            r[b] = rows != NULL ? rows[i0 + b] - base : i0 + b;
+        if (j0 == N) {
+            for (b = 0; b < nb; b++)
+                mean[r[b]] = NAN;
+            continue;
+        }
+        for (b = 0; b < nb; b++) {
+            /* deviations from the first member of positive weight */
+            ref[b] = x[r[b] + j0 * ld];
+            s[b] = e[b] = 0.0;
+            lo[b] = HUGE_VAL;
+            hi[b] = -HUGE_VAL;
+        }
+        for (j = j0; j < N; j++) {
+            const double *col = x + j * ld, wj = w[j];
+            if (!(wj > 0))
+                continue;
+            for (b = 0; b < nb; b++) {
+                double v = col[r[b]], a = (1.0 * wj) * (v - ref[b]), t = s[b] + a;
+                if (v < lo[b]) lo[b] = v;
+                if (v > hi[b]) hi[b] = v;
+                e[b] += fabs(s[b]) >= fabs(a) ? (s[b] - t) + a : (a - t) + s[b];
+                s[b] = t;
+            }
+        }
+        for (b = 0; b < nb; b++) {
+            if (isfinite(hi[b] - lo[b])) {
+                mean[r[b]] = ref[b] + (s[b] + e[b]) / W;
+            } else {
+                /* a range wider than the largest double: weights first */
+                double sc = 1.0 / W, ss = 0.0, ee = 0.0;
+                for (j = j0; j < N; j++) {
+                    double a, t;
+                    if (!(w[j] > 0))
+                        continue;
+                    a = (sc * w[j]) * (x[r[b] + j * ld] - 0.0);
+                    t = ss + a;
+                    ee += fabs(ss) >= fabs(a) ? (ss - t) + a : (a - t) + ss;
+                    ss = t;
+                }
+                mean[r[b]] = ss + ee;
+            }
+        }
+    }
+}
 
 #endif

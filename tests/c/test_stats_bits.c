@@ -4,7 +4,9 @@
  * means and every quantile, on many random inputs (sizes 1..5000, ties,
  * repeated values, zero weights, equal weights, -0.0 and +0.0, values
  * spread over many orders of magnitude or over a range wider than the
- * largest double, infinities, subnormal spreads, many levels). */
+ * largest double, infinities, subnormal spreads, many levels). Then the
+ * means of many rows of an ensemble matrix: sl_weighted_means against the
+ * previous one (also in stats_reference.h), bit for bit. */
 #include "check.h"
 #include "sluice/rng.h"
 #include "sluice/stats.h"
@@ -263,6 +265,93 @@ static void check_by_hand(void)
     ck_free(rw);
 }
 
+/* ------------------------------------------------ rows of an ensemble */
+
+static unsigned long rows_cases_run = 0;
+
+/* One matrix case: ld x N (a member per column), m of its rows (every
+ * row, rows NULL, or an increasing subset named with an offset base),
+ * each row of its own value kind; members of weight 0 hold junk in every
+ * row. The means of sl_weighted_means against the previous
+ * sl_weighted_means: the same bits; entries of other rows untouched. */
+static void run_rows_case(unsigned id, size_t N, size_t ld, int wk, int subset)
+{
+    const double sentinel = -6.5e99;
+    const size_t base = subset ? 3 : 0;
+    sl_stream s;
+    double *x = ck_malloc((ld * N + 1) * sizeof *x);
+    double *w = ck_malloc((N + 1) * sizeof *w);
+    double *m1 = ck_malloc((ld + 1) * sizeof *m1);
+    double *mref = ck_malloc((ld + 1) * sizeof *mref);
+    size_t *rows = ck_malloc((ld + 1) * sizeof *rows);
+    double pool[20];
+    size_t i, j, k, m = 0, npool, bad_mean = 0, first_bad = 0;
+
+    sl_stream_init(&s, 20261204u, id, 0, SL_PURPOSE_USER);
+    npool = 1 + (size_t)(20.0 * sl_stream_uniform(&s));
+    for (k = 0; k < npool; k++)
+        pool[k] = sl_stream_normal(&s);
+    draw_weights(&s, wk, N, w);
+    if (sl_stream_uniform(&s) < 0.05)
+        for (j = 0; j < N; j++)
+            w[j] = 0.0; /* no member of positive weight: NaN means */
+    for (i = 0; i < ld; i++) {
+        int vk = (int)(V_KINDS * sl_stream_uniform(&s));
+        for (j = 0; j < N; j++)
+            x[i + j * ld] = w[j] > 0 ? draw_value(&s, vk, pool, npool) : junk_value(&s);
+        if (!subset || sl_stream_uniform(&s) < 0.6)
+            rows[m++] = i + base;
+    }
+    for (i = 0; i < ld; i++)
+        m1[i] = mref[i] = sentinel;
+    reference_weighted_means(N, x, ld, m, subset ? rows : NULL, base, w, mref);
+    sl_weighted_means(N, x, ld, m, subset ? rows : NULL, base, w, m1);
+    rows_cases_run++;
+    for (i = 0; i < ld; i++)
+        if (memcmp(&m1[i], &mref[i], sizeof *m1) != 0 && bad_mean++ == 0)
+            first_bad = i;
+    CHECK(bad_mean == 0,
+          "rows case %u (N=%lu, ld %lu, %lu rows, weights %d): %lu means differ from the "
+          "previous sl_weighted_means; row %lu gives %.17g, the reference %.17g",
+          id, (unsigned long)N, (unsigned long)ld, (unsigned long)m, wk,
+          (unsigned long)bad_mean, (unsigned long)first_bad, m1[first_bad], mref[first_bad]);
+    ck_free(x);
+    ck_free(w);
+    ck_free(m1);
+    ck_free(mref);
+    ck_free(rows);
+}
+
+static void check_rows(void)
+{
+    static const size_t fixed_N[] = {1, 2, 3, 7, 64, 1000, 5000};
+    static const size_t lds[] = {1, 2, 7, 63, 64, 65, 130};
+    const unsigned nrandom = check_light_() ? 40u : 400u;
+    unsigned id = 0, i, l;
+    sl_stream s;
+    sl_stream_init(&s, 12u, 0, 0, SL_PURPOSE_USER);
+    /* every stride at each fixed size, with every row and with a
+     * subset ... */
+    for (i = 0; i < sizeof fixed_N / sizeof fixed_N[0]; i++)
+        for (l = 0; l < sizeof lds / sizeof lds[0]; l++) {
+            int wk = (int)(W_KINDS * sl_stream_uniform(&s));
+            if (fixed_N[i] * lds[l] > 100000)
+                continue;
+            run_rows_case(id++, fixed_N[i], lds[l], wk, 0);
+            run_rows_case(id++, fixed_N[i], lds[l], (wk + 1) % W_KINDS, 1);
+        }
+    /* ... and random sizes, log-uniform on 1 .. 5000 */
+    for (i = 0; i < nrandom; i++) {
+        size_t N = (size_t)exp(sl_stream_uniform(&s) * log(5001.0));
+        size_t ld = lds[(size_t)(7 * sl_stream_uniform(&s))];
+        int wk = (int)(W_KINDS * sl_stream_uniform(&s));
+        if (N * ld > 200000)
+            ld = 7;
+        run_rows_case(id++, N, ld, wk, sl_stream_uniform(&s) < 0.5);
+    }
+    CHECK(rows_cases_run == id, "%lu of %u rows cases ran", rows_cases_run, id);
+}
+
 int main(void)
 {
     static const size_t fixed_N[] = {1, 2, 3, 5, 48, 49, 100, 1000, 1023, 1025, 5000};
@@ -275,6 +364,7 @@ int main(void)
     sl_stream s;
 
     check_by_hand();
+    check_rows();
     sl_stream_init(&s, 11u, 0, 0, SL_PURPOSE_USER);
     /* every weight kind with every value kind at each fixed size ... */
     for (i = 0; i < nfixed; i++)
