@@ -244,10 +244,74 @@ function R = prepare (model, prior, obs, opts, fn)
   R.obs_sigma = double (obs.sigma(:));   % as given (obs_table checked it)
   R.obs_counted = strcmp (tab.family, 'poisson') | strcmp (tab.family, 'binomial');
   R.cyc = cyc;
+  % what every run of these settings shares: the head of the result and
+  % the calibration check's grouping of the observation rows
+  R.head = result_head (model, c, opts);
+  % (isfield on settings of many fields costs as much as a copy of them:
+  % what a run asks of their layout is asked here once)
+  R.split = isfield (c, 'ranks');
+  R.coupled = isfield (c, 'comp');
+  R.calib = calibration_groups (c, [model.states(:); model.params(:); ops.names(:)]);
+end
+
+function head = result_head (model, c, opts)
+  % the fields of the result that the settings alone decide, in the
+  % result's order (the seed is each run's own)
+  n = numel (model.states);
+  head = struct ();
+  head.method = opts.method;
+  if (opts.wenkf)
+    head.method = 'wenkf';
+  end
+  head.model = model.name;
+  head.members = c.members;
+  head.seed = [];
+  head.t0 = c.t0;
+  head.times = c.times;
+  if (~isempty (opts.calendar))
+    % the calendar of the time axis: model times as dates
+    head.time_origin = opts.calendar.text;
+    head.time_unit = opts.calendar.unit;
+    head.dates = opts.calendar.datenum + c.times * opts.calendar.unit_days;
+  end
+  head.state_names = model.states;
+  if (isfield (model, 'internal') && any (model.internal))
+    % states that are the model's own bookkeeping: not drawn by default
+    head.internal_states = logical (model.internal(:)');
+  end
+  if (isfield (c, 'summary_rows'))
+    % the states whose means and quantiles were recorded (the others NaN)
+    head.summarized_states = false (1, n);
+    head.summarized_states(c.summary_rows(c.summary_rows <= n)) = true;
+  end
+  head.param_names = model.params;
+  head.quantile_levels = opts.quantiles;
+end
+
+function g = calibration_groups (c, names)
+  % the observation rows by variable for warn_calibration: S (variables x
+  % rows, sparse) sums a column over each variable's rows, in increasing
+  % order of the variable; counted marks the rows of the counts and the
+  % censored family
+  var = c.obs_var(:);   % 0-based indices into names
+  g = struct ();
+  present = false (numel (names), 1);
+  present(var + 1) = true;
+  g.vars = find (present) - 1;
+  at = cumsum (present);
+  m = numel (var);
+  g.S = sparse (at(var + 1), (1:m)', 1, numel (g.vars), m);
+  f = c.obs_family(:);
+  g.counted = strcmp (f, 'poisson') | strcmp (f, 'binomial') | strcmp (f, 'censored');
+  g.names = names;
 end
 
 function res = execute (R)
   % the compiled run of the settings R.c and its result
+  persistent L
+  if (isempty (L))
+    L = sluice.internal.diversity_limits ();   % constants
+  end
   c = R.c;
   opts = R.opts;
   model = R.model;
@@ -258,40 +322,15 @@ function res = execute (R)
   upper = c.upper;
   cyc = R.cyc;
 
-  if (isfield (c, 'ranks') && sluice.internal.mpi ('held'))
+  if (R.split && sluice.internal.mpi ('held'))
     % a prepared run executed inside work already dealt across the ranks
     c = rmfield (c, 'ranks');
   end
   r = sluice.internal.run_engine (model, c);
+  pf = strcmp (opts.method, 'pf');   % the particle filter (not the WEnKF)
 
-  res = struct ();
-  res.method = opts.method;
-  if (opts.wenkf)
-    res.method = 'wenkf';
-  end
-  res.model = model.name;
-  res.members = c.members;
+  res = R.head;
   res.seed = opts.seed;
-  res.t0 = c.t0;
-  res.times = times;
-  if (~isempty (opts.calendar))
-    % the calendar of the time axis: model times as dates
-    res.time_origin = opts.calendar.text;
-    res.time_unit = opts.calendar.unit;
-    res.dates = opts.calendar.datenum + times * opts.calendar.unit_days;
-  end
-  res.state_names = model.states;
-  if (isfield (model, 'internal') && any (model.internal))
-    % states that are the model's own bookkeeping: not drawn by default
-    res.internal_states = logical (model.internal(:)');
-  end
-  if (isfield (c, 'summary_rows'))
-    % the states whose means and quantiles were recorded (the others NaN)
-    res.summarized_states = false (1, n);
-    res.summarized_states(c.summary_rows(c.summary_rows <= n)) = true;
-  end
-  res.param_names = model.params;
-  res.quantile_levels = opts.quantiles;
   res.states = struct ('mean', r.mean(1:n, :), 'quantiles', r.quantiles(1:n, :, :));
   res.params = struct ('mean', r.mean(n+1:end, :), ...
                        'quantiles', r.quantiles(n+1:end, :, :), ...
@@ -314,28 +353,28 @@ function res = execute (R)
   res.model_steps = r.steps;
   % the processes the members were split across (1: this one alone)
   res.ranks = r.ranks;
-  if (strcmp (opts.method, 'pf'))
+  if (pf)
     res.temper_steps = r.temper_steps;
     res.loglik_evals = r.loglik_evals;
     res.param_move = r.param_move;
     res.move_sweeps = r.move_sweeps;
     res.move_accept = r.move_accept;
   end
-  if (strcmp (res.method, 'pf'))
+  if (pf && ~opts.wenkf)
     res.nanpredicted = r.nanpred;
   end
   % where each observation fell in the forecast's predictive distribution
   % (one per row of the observation table, in its order; NaN where missing
   % or not computed)
   res.pit = r.pit;
-  if (~strcmp (opts.method, 'pf'))
+  if (~pf)
     res.inflation = r.inflation;
     res.floored = r.floored;
   end
   res.final = struct ('X', r.X, 'P', r.P, 'w', r.w);
   if (any (opts.lag > 0))
     meth = 'enks';
-    if (strcmp (opts.method, 'pf'))
+    if (pf)
       meth = 'fixed_lag';
     end
     res.smoothed = struct ('method', meth, 'lag', opts.lag, ...
@@ -349,12 +388,13 @@ function res = execute (R)
     res.history = struct ('X', r.history_X, 'P', r.history_P, ...
                           'w', r.history_w, 'ancestors', r.history_ancestors);
   end
-  res = sluice.internal.coupling_results (res, r, c, model);
+  if (R.coupled)
+    res = sluice.internal.coupling_results (res, r, c, model);
+  end
   res.options = opts;
   % the forecasts' calibration first: the warnings after it say what may
   % have caused a miscalibration (a bound, collapse, a low ESS)
-  warn_calibration (res.pit, c.obs_var, c.obs_family, ...
-                    [model.states(:); model.params(:); R.ops_names(:)], c.members);
+  warn_calibration (res.pit, c.obs_var, R.calib, c.members);
   if (any (res.degenerate))
     k = find (res.degenerate, 1);
     warning ('sluice:filter:degenerate', ...
@@ -368,7 +408,7 @@ function res = execute (R)
              ['%d member(s) reached a non-finite state (first at t = %g); ', ...
               'they were given zero weight'], max (res.nonfinite), times(k));
   end
-  if (isfield (res, 'nanpredicted') && any (res.nanpredicted > 0))
+  if (pf && ~opts.wenkf && any (res.nanpredicted > 0))
     k = find (res.nanpredicted > 0, 1);
     warning ('sluice:filter:nanprediction', ...
              ['%d member(s) with a finite state got a NaN predicted observation ', ...
@@ -380,7 +420,7 @@ function res = execute (R)
   % the default move on noisy paths is the kernel move, whose parameter
   % bands are approximate: say so once, with the way to exact ones
   est = lower < upper & any (P0 ~= P0(:, 1), 2);
-  if (strcmp (opts.param_move, 'auto') && isfield (res, 'param_move') && ...
+  if (pf && strcmp (opts.param_move, 'auto') && ...
       strcmp (res.param_move, 'kernel') && any (est) && ~isempty (cyc))
     warning ('sluice:filter:approxparams', ...
              ['the paths hold noise (forcing, state or model noise), so the default ', ...
@@ -390,7 +430,11 @@ function res = execute (R)
               'or check against sluice.pmmh'], ...
              strjoin (res.param_names(est), ', '));
   end
-  warn_diversity (res, P0, lower, upper, R.obs_value, cyc);
+  % (only when a warning is possible: an estimated parameter, or weights
+  % whose ESS fell low, or a fixed-lag smoother)
+  if (any (est) || ((pf || opts.wenkf) && (any (res.ess < L.lowess_ess) || any (opts.lag > 0))))
+    warn_diversity (res, P0, lower, upper, R.obs_value, cyc, est);
+  end
 end
 
 function run = prepared_view (R)
@@ -417,7 +461,8 @@ function R = prepared_engine (run, fn)
   % the prepared settings of a prepared run, or the error
   % sluice:<fn>:badrun for anything else
   need = {'version', 'fn', 'model', 'opts', 'seed_given', 'c', 'ops_names', 'plan', ...
-          'param_step', 'obs_value', 'obs_sigma', 'obs_counted', 'cyc'};
+          'param_step', 'obs_value', 'obs_sigma', 'obs_counted', 'cyc', 'head', 'calib', ...
+          'split', 'coupled'};
   if (~(isstruct (run) && isscalar (run) && isfield (run, 'prepared_for') && ...
         strcmp (run.prepared_for, 'sluice.filter') && isfield (run, 'engine') && ...
         isstruct (run.engine) && isscalar (run.engine) && all (isfield (run.engine, need)) && ...
@@ -467,7 +512,7 @@ function res = run_prepared (run, args, fn)
                'unknown option ''%s'' (a prepared run takes seed, params and values)', name);
     end
   end
-  split = isfield (c, 'ranks') && ~sluice.internal.mpi ('held');
+  split = R.split && ~sluice.internal.mpi ('held');
   if (isempty (seed))
     if (R.seed_given)
       seed = R.opts.seed;
@@ -601,19 +646,20 @@ function check_spread (model, P0, lower, upper, opts, fn)
   end
 end
 
-function warn_diversity (res, P0, lower, upper, obs_value, cyc)
+function warn_diversity (res, P0, lower, upper, obs_value, cyc, est)
   % warnings about the parameter ensemble and the weights; thresholds in
-  % sluice.internal.diversity_limits
+  % sluice.internal.diversity_limits; est marks the parameters estimated
+  % (bounds that let them move and a spread among the initial members)
   persistent L
   if (isempty (L))
     L = sluice.internal.diversity_limits ();   % constants
   end
   N = res.members;
   names = res.param_names;
-  for i = 1:size (P0, 1)
-    if (~(lower(i) < upper(i)) || all (P0(i, :) == P0(i, 1)) || isempty (res.params.distinct))
-      continue;   % not estimated
-    end
+  if (isempty (res.params.distinct))
+    est(:) = false;
+  end
+  for i = find (est(:))'
     dv = res.params.distinct(i, end);
     sp = res.params.spread(i, :);
     if (dv < max (L.collapse_min, L.collapse_fraction * N) || ...
@@ -641,7 +687,8 @@ function warn_diversity (res, P0, lower, upper, obs_value, cyc)
       end
     end
   end
-  if (any (strcmp (res.method, {'pf', 'wenkf'})) && ~isempty (cyc))
+  if (any (strcmp (res.method, {'pf', 'wenkf'})) && ~isempty (cyc) && ...
+      any (res.ess < L.lowess_ess))
     hasobs = false (1, numel (res.times));
     hasobs(cyc(~isnan (obs_value))) = true;
     low = (res.ess < L.lowess_ess) & hasobs;
@@ -667,7 +714,7 @@ function warn_diversity (res, P0, lower, upper, obs_value, cyc)
                L.lowess_ess, longest, sum (low), N);
     end
   end
-  if (any (strcmp (res.method, {'pf', 'wenkf'})) && isfield (res, 'smoothed') && ...
+  if (any (strcmp (res.method, {'pf', 'wenkf'})) && any (res.options.lag > 0) && ...
       isfield (res.smoothed, 'distinct') && ~isempty (res.smoothed.distinct))
     % path degeneracy of the fixed-lag smoother: the members at the end of
     % the window descend from a few of the members of the time smoothed
@@ -703,7 +750,7 @@ function warn_diversity (res, P0, lower, upper, obs_value, cyc)
   end
 end
 
-function warn_calibration (pit, var, family, names, N)
+function warn_calibration (pit, var, g, N)
   % the forecast calibration check: for each observed variable, how many
   % of its observations fell outside a central band of the forecast's
   % predictive distribution (a forecast PIT below tau or above 1 - tau),
@@ -719,7 +766,8 @@ function warn_calibration (pit, var, family, names, N)
   % common practice, the rank histogram), which precise observations turn
   % into a PIT near 0 or 1: that share is allowed on top. Too many
   % outside is overconfidence: bands too narrow for the data they meet.
-  % Thresholds in sluice.internal.diversity_limits.
+  % Thresholds in sluice.internal.diversity_limits; g: the rows by
+  % variable (calibration_groups).
   persistent L
   if (isempty (L))
     L = sluice.internal.diversity_limits ();   % constants
@@ -727,17 +775,24 @@ function warn_calibration (pit, var, family, names, N)
   if (isempty (pit))
     return;
   end
-  counted = ismember (family, {'poisson', 'binomial', 'censored'});
+  % the counts of every variable at once: the few variables that may be
+  % miscalibrated (a candidate test a little looser than the one below)
+  % are looked at one by one
   ok = isfinite (pit(:));
-  for v = unique (var(ok))'
+  taus = [L.calib_tail, L.calib_far_tail];
+  x = pit(:);
+  sums = g.S * double ([ok, ok & (x < taus(1) | x > 1 - taus(1)), ...
+                        ok & (x < taus(2) | x > 1 - taus(2)), ok & g.counted]);
+  nv = sums(:, 1);
+  out = sums(:, 2:3);
+  p0 = 2 * taus + (taus < L.calib_tail) * 2 / (N + 1) + (sums(:, 4) > 0) * (2 * taus);
+  cand = nv >= L.calib_min & any (out > 0 & out >= 0.999 * L.calib_factor * p0 .* nv, 2);
+  for v = g.vars(cand)'
     rows = ok & var(:) == v;
     n = sum (rows);
-    if (n < L.calib_min)
-      continue;
-    end
-    for tau = [L.calib_tail, L.calib_far_tail]
+    for tau = taus
       p0 = 2 * tau;
-      if (any (counted(rows)))
+      if (any (g.counted(rows)))
         p0 = 4 * tau;
       end
       if (tau < L.calib_tail)
@@ -758,7 +813,7 @@ function warn_calibration (pit, var, family, names, N)
                   'trust. Use more ''members'', noise on the forcings or states ', ...
                   '(''forcing_noise'', ''state_noise'') or on the parameters ', ...
                   '(''param_move''), or, for a model made of components, ''coupling'' ''weak'''], ...
-                 names{v + 1}, k, n, 100 * k / n, 100 * (1 - 2 * tau), 100 * p0);
+                 g.names{v + 1}, k, n, 100 * k / n, 100 * (1 - 2 * tau), 100 * p0);
         break;   % one warning per variable
       end
     end
