@@ -63,8 +63,11 @@ typedef struct {
     pf_buffers b;          /* the local members' buffers (N = n_r) */
     size_t N, nr, m0;      /* members in all, here, the first one here */
     size_t ns, rec;        /* summarised rows; bytes of one member's columns */
-    double *V;             /* ns x N the summarised rows of every member */
-    double *Vl;            /* ns x nr this rank's part */
+    size_t rows;           /* summarised rows a rank summarises, at most */
+    double *V;             /* this rank's summarised rows of every member */
+    double *Vl;            /* ns x nr the summarised rows of this rank's
+                            * members, in blocks by the rank they go to */
+    double *resl, *res;    /* this rank's rows' summaries; every rank's */
     double *gll, *glw, *glogw, *gZ, *gYhat, *qwork, *mean, *rwork, *flags;
     uint32_t *gvid, *ganc, *stamp, *holder, *src, *rfrom, *rdest;
     unsigned char *gdead, *gmark;
@@ -103,8 +106,11 @@ static size_t ranks_layout(const sl_pf_config *cfg, const sl_pf_config *lc, int 
     if (rb->chunk > N)
         rb->chunk = N;
     sl_ws_take(base, &off, 0, 1);
-    rb->V = sl_ws_take(base, &off, ns * N, 8);
+    rb->rows = (ns + (size_t)P - 1) / (size_t)P;
+    rb->V = sl_ws_take(base, &off, rb->rows * N, 8);
     rb->Vl = sl_ws_take(base, &off, ns * lc->N, 8);
+    rb->res = sl_ws_take(base, &off, ns * (2 + cfg->nq) + 1, 8);
+    rb->resl = sl_ws_take(base, &off, rb->rows * (2 + cfg->nq) + 1, 8);
     rb->gll = sl_ws_take(base, &off, N, 8);
     rb->glw = sl_ws_take(base, &off, N, 8);
     rb->glogw = sl_ws_take(base, &off, N, 8);
@@ -215,70 +221,125 @@ static sl_status gather_members(const sl_pf_ranks *rk, ranks_buffers *rb, const 
     return rk->allgather(rk->ctx, src, dst, rb->counts, err);
 }
 
-/* The summarised rows of the local members, packed and gathered: V. */
-static sl_status gather_summary_rows(const sl_pf_config *cfg, const sl_pf_ranks *rk,
-                                     ranks_buffers *rb, const double *X, const double *P,
-                                     sl_error *err)
+/* The summarised rows are dealt across the ranks: rank r summarises rows
+ * floor(r ns / P) .. floor((r + 1) ns / P) - 1 over all members, so the
+ * per-cycle summaries cost each rank 1/P of the one-process work, and
+ * each rank receives only its rows of the other ranks' members. Every
+ * row is summarised by the code and in the member order of the one
+ * process run: the same bits. */
+static size_t row_first(size_t ns, int P, int r)
 {
-    const size_t n = cfg->model->n_state, p = cfg->model->n_param, ns = rb->ns;
-    size_t i, j;
-    for (j = 0; j < rb->nr; j++)
-        for (i = 0; i < ns; i++) {
-            size_t row = sl_pfi_summary_row(cfg, i);
-            rb->Vl[i + j * ns] = row < n ? X[row + j * n] : P[(row - n) + j * p];
-        }
-    return gather_members(rk, rb, rb->Vl, rb->V, ns * sizeof(double), err);
+    return (size_t)(((uint64_t)ns * (uint64_t)r) / (uint64_t)P);
 }
 
-/* The forecast means from V (as forecast_mean in pf.c: each row's sum in
- * member order over the living members of positive weight). */
-static void forecast_means(const sl_pf_config *cfg, ranks_buffers *rb, const double *w,
-                           double *out)
+/* Send each rank its rows of this rank's members; V: this rank's rows
+ * (nrw of them) of every member, member by member. */
+static sl_status deal_summary_rows(const sl_pf_config *cfg, const sl_pf_ranks *rk,
+                                   ranks_buffers *rb, const double *X, const double *P,
+                                   sl_error *err)
 {
-    const size_t N = rb->N, ns = rb->ns;
+    const size_t n = cfg->model->n_state, p = cfg->model->n_param, ns = rb->ns;
+    const int R = rk->size;
+    size_t *sc = rb->counts, *rc = rb->counts + R;
+    size_t i, j, at = 0;
+    int r;
+    const size_t mine = row_first(ns, R, rk->rank + 1) - row_first(ns, R, rk->rank);
+    for (r = 0; r < R; r++) {
+        const size_t i0 = row_first(ns, R, r), i1 = row_first(ns, R, r + 1);
+        for (j = 0; j < rb->nr; j++)
+            for (i = i0; i < i1; i++) {
+                const size_t row = sl_pfi_summary_row(cfg, i);
+                rb->Vl[at++] = row < n ? X[row + j * n] : P[(row - n) + j * p];
+            }
+        sc[r] = (i1 - i0) * rb->nr * sizeof(double);
+        rc[r] = mine * (first_of(rb->N, R, r + 1) - first_of(rb->N, R, r)) * sizeof(double);
+    }
+    return rk->exchange(rk->ctx, rb->Vl, sc, rb->V, rc, err);
+}
+
+/* This rank's rows' forecast means from V (as forecast_mean in pf.c:
+ * each row's sum in member order over the living members of positive
+ * weight) into fm. */
+static void forecast_means(ranks_buffers *rb, size_t nrw, const double *w, double *fm)
+{
+    const size_t N = rb->N;
     double W = 0.0;
     size_t i, j;
-    sl_pfi_summary_blank(cfg, out, NULL, 0, 0);
     for (j = 0; j < N; j++)
         if (!rb->gdead[j] && w[j] > 0)
             W += w[j];
-    for (i = 0; i < ns; i++)
-        rb->mean[i] = 0.0;
+    for (i = 0; i < nrw; i++)
+        fm[i] = 0.0;
     for (j = 0; j < N; j++) {
         if (rb->gdead[j] || !(w[j] > 0))
             continue;
-        for (i = 0; i < ns; i++)
-            rb->mean[i] += w[j] * rb->V[i + j * ns];
+        for (i = 0; i < nrw; i++)
+            fm[i] += w[j] * rb->V[i + j * nrw];
     }
-    for (i = 0; i < ns; i++)
-        out[sl_pfi_summary_row(cfg, i)] = W > 0 ? rb->mean[i] / W : (double)NAN;
+    for (i = 0; i < nrw; i++)
+        fm[i] = W > 0 ? fm[i] / W : (double)NAN;
 }
 
-/* Means and quantiles of cycle k from V (as sl_pfi_summarise). */
-static void summarise(const sl_pf_config *cfg, ranks_buffers *rb, int nt, const double *w,
-                      sl_pf_output *out, size_t k)
+/* This rank's rows' means and quantiles from V (as sl_pfi_summarise)
+ * into mq: nrw means, then the nq quantiles of each row. */
+static void summarise_rows(const sl_pf_config *cfg, ranks_buffers *rb, size_t nrw, int nt,
+                           const double *w, double *mq)
 {
-    const size_t N = rb->N, v = cfg->model->n_state + cfg->model->n_param, nq = cfg->nq,
-                 ns = rb->ns, qper = sl_quantile_workspace(N);
+    const size_t N = rb->N, nq = cfg->nq, qper = sl_quantile_workspace(N);
     long r;
-    size_t i;
-    sl_pfi_summary_blank(cfg, out->mean + k * v, out->quant + k * v * nq, v, nq);
-    sl_weighted_means(N, rb->V, ns, ns, NULL, 0, w, rb->mean);
-    for (i = 0; i < ns; i++)
-        out->mean[sl_pfi_summary_row(cfg, i) + k * v] = rb->mean[i];
+    sl_weighted_means(N, rb->V, nrw, nrw, NULL, 0, w, mq);
     if (nq == 0)
         return;
 #pragma omp parallel for num_threads(nt) schedule(dynamic, 1)
-    for (r = 0; r < (long)ns; r++) {
+    for (r = 0; r < (long)nrw; r++) {
         int tid = 0;
-        size_t row = sl_pfi_summary_row(cfg, (size_t)r);
 #ifdef _OPENMP
         tid = omp_get_thread_num();
 #endif
-        sl_weighted_summary(N, rb->V + r, ns, w, nq, cfg->probs, NULL,
-                            out->quant + row + k * v * nq, v,
-                            rb->qwork + (size_t)tid * qper);
+        sl_weighted_summary(N, rb->V + r, nrw, w, nq, cfg->probs, NULL, mq + nrw + (size_t)r,
+                            nrw, rb->qwork + (size_t)tid * qper);
     }
+}
+
+/* Every rank's rows' summaries (resl here: fm when fmean, then mq when
+ * summarise) gathered and put in the outputs of cycle k. */
+static sl_status share_summaries(const sl_pf_config *cfg, const sl_pf_ranks *rk,
+                                 ranks_buffers *rb, int fmean, int summ, sl_pf_output *out,
+                                 size_t k, sl_error *err)
+{
+    const size_t ns = rb->ns, nq = cfg->nq, v = cfg->model->n_state + cfg->model->n_param;
+    const size_t per = (size_t)(fmean != 0) + (summ ? 1 + nq : 0);
+    const int R = rk->size;
+    size_t i, l, at = 0;
+    int r;
+    sl_status st;
+    for (r = 0; r < R; r++)
+        rb->counts[r] = (row_first(ns, R, r + 1) - row_first(ns, R, r)) * per * sizeof(double);
+    if ((st = rk->allgather(rk->ctx, rb->resl, rb->res, rb->counts, err)) != SL_OK)
+        return st;
+    if (fmean)
+        sl_pfi_summary_blank(cfg, out->fmean + k * v, NULL, 0, 0);
+    if (summ)
+        sl_pfi_summary_blank(cfg, out->mean + k * v, out->quant + k * v * nq, v, nq);
+    for (r = 0; r < R; r++) {
+        const size_t i0 = row_first(ns, R, r), nrw = row_first(ns, R, r + 1) - i0;
+        const double *x = rb->res + at;
+        if (fmean) {
+            for (i = 0; i < nrw; i++)
+                out->fmean[sl_pfi_summary_row(cfg, i0 + i) + k * v] = x[i];
+            x += nrw;
+        }
+        if (summ) {
+            for (i = 0; i < nrw; i++) {
+                const size_t row = sl_pfi_summary_row(cfg, i0 + i);
+                out->mean[row + k * v] = x[i];
+                for (l = 0; l < nq; l++)
+                    out->quant[row + l * v + k * v * nq] = x[nrw + i + l * nrw];
+            }
+        }
+        at += nrw * per;
+    }
+    return SL_OK;
 }
 
 /* Gather the transformed parameters and their ids of every member. */
@@ -368,11 +429,16 @@ static sl_status exchange(const sl_pf_config *lc, const sl_pf_ranks *rk, ranks_b
     size_t *nsend = rb->counts, *nrecv = nsend + P, *sc = nrecv + P, *rc = sc + P,
            *at = rc + P;
     size_t g, j, nout = 0, nin = 0, pending = 0;
+    /* the end of rank r's members, and the members [slo, shi) of the
+     * last ancestor's rank s: resampled ancestors mostly come in order,
+     * so neither needs a division per member */
+    size_t rend = first_of(N, P, 1), slo = 0, shi = 0;
     uint32_t *stamp = rb->stamp;
-    int r = 0, s;
+    int r = 0, s = 0;
     sl_status st;
     for (s = 0; s < P; s++)
         nsend[s] = nrecv[s] = sc[s] = rc[s] = 0;
+    s = 0;
     for (g = 0; g < N; g++)
         stamp[g] = UINT32_MAX;
     for (g = 0; g <= N; g++) {
@@ -380,9 +446,13 @@ static sl_status exchange(const sl_pf_config *lc, const sl_pf_ranks *rk, ranks_b
         int close = g == N;
         if (g < N) {
             a = rb->ganc[g];
-            while (first_of(N, P, r + 1) <= g)
-                r++;
-            s = owner_of(N, P, a);
+            while (rend <= g)
+                rend = first_of(N, P, ++r + 1);
+            if (!(a >= slo && a < shi)) {
+                s = owner_of(N, P, a);
+                slo = first_of(N, P, s);
+                shi = first_of(N, P, s + 1);
+            }
             if (s == r) {
                 if (r == me) /* a local ancestor */
                     copy_member(lc, b, cur, a - rb->m0, nx, g - rb->m0);
@@ -491,7 +561,7 @@ sl_status sl_pf_run_ranks(const sl_pf_config *cfg, const sl_pf_ranks *rk, double
     sl_pf_config lc;
     ranks_buffers rb;
     pf_buffers *b = &rb.b;
-    size_t i, j, k, fidx = 0, nr, m0;
+    size_t i, j, k, fidx = 0, nr, m0, nrw;
     int cur = 0;
     uint32_t s = 0;
     double t, sum[ST_N];
@@ -519,6 +589,7 @@ sl_status sl_pf_run_ranks(const sl_pf_config *cfg, const sl_pf_ranks *rk, double
     b->m0 = m0;
     b->nt = nr >= SL_PFI_PAR_MIN_MEMBERS ? cfg->threads : 1;
     rb.g.mark = rb.gmark;
+    nrw = row_first(rb.ns, R, rk->rank + 1) - row_first(rb.ns, R, rk->rank);
 
     /* the whole initial ensemble is on every rank: the parameters'
      * transforms, ids and health of all members are computed alike */
@@ -615,10 +686,10 @@ sl_status sl_pf_run_ranks(const sl_pf_config *cfg, const sl_pf_ranks *rk, double
             if (rb.gdead[j] && w[j] > 0)
                 reweight = 1;
         if (!cfg->no_summary || out->fmean != NULL)
-            if ((st = gather_summary_rows(cfg, rk, &rb, Xc, Pc, err)) != SL_OK)
+            if ((st = deal_summary_rows(cfg, rk, &rb, Xc, Pc, err)) != SL_OK)
                 return st;
         if (out->fmean != NULL)
-            forecast_means(cfg, &rb, w, out->fmean + k * (n + p));
+            forecast_means(&rb, nrw, w, rb.resl);
         if (m > 0) {
             if (out->pit != NULL) {
                 if ((st = gather_members(rk, &rb, b->Yhat, rb.gYhat, m * sizeof(double),
@@ -661,7 +732,11 @@ sl_status sl_pf_run_ranks(const sl_pf_config *cfg, const sl_pf_ranks *rk, double
         }
         ess = ess > 0 ? 1.0 / ess : 0.0;
         if (!cfg->no_summary)
-            summarise(cfg, &rb, b->nt, w, out, k);
+            summarise_rows(cfg, &rb, nrw, b->nt, w, rb.resl + (out->fmean != NULL ? nrw : 0));
+        if (!cfg->no_summary || out->fmean != NULL)
+            if ((st = share_summaries(cfg, rk, &rb, out->fmean != NULL, !cfg->no_summary, out, k,
+                                      err)) != SL_OK)
+                return st;
         out->ess[k] = degenerate ? 0.0 : ess;
         out->skipped[k] = (double)nskipped;
         out->nonfinite[k] = (double)ndead;

@@ -601,7 +601,8 @@ sl_status sl_pf_run(const sl_pf_config *cfg, double *X, double *P, double *w,
  *     send); recv receives all of them, rank after rank.
  *   exchange: this rank sends scounts[r] bytes to every rank r (send holds
  *     them rank after rank) and receives rcounts[r] bytes from every rank
- *     r into recv, rank after rank (its own counts are 0).
+ *     r into recv, rank after rank (its own counts, when not 0, are a
+ *     copy to itself).
  * chunk_bytes bounds what a rank sends (and receives) in one exchange:
  * resampling moves members in as many rounds as it needs (0: 8 MiB). */
 typedef struct sl_pf_ranks_s {

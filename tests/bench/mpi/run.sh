@@ -45,7 +45,7 @@ pf() { # ranks members days -> "seconds comm bytes split"
      2>/dev/null) | awk '/^members/ {print $6, $8, $10, $12}'
 }
 echo "   one GR4J particle filter split across the ranks (kernel move, daily flows, 1 thread a rank)"
-for spec in "strong 100000 60" "strong 1000000 10" "weak 50000 60"; do
+for spec in "strong 100000 365" "strong 1000000 30" "weak 50000 365"; do
   read -r mode N days <<<"$spec"
   echo "   $mode scaling, $N members$([ $mode = weak ] && echo ' a rank'), $days days:" \
        "ranks, seconds, speed-up (weak: efficiency), in collectives, MB received"
