@@ -459,7 +459,7 @@ static void check_member_draws_and_failure(void)
 {
     enum { N = 50, T = 8 };
     static const double A[4] = {0.9, -0.2, 0.1, 0.95}, B[2] = {0.5, 0.1}, c[2] = {0.0, 0.1},
-                        L[2] = {1.0, 0.0};
+                        L[4] = {0.3, 0.1, 0.0, 0.2};
     static const sl_linear lin = {2, 1, A, B, c, L};
     static double times[T], y[T], sg[T], aux[T], ft[T + 2], fv[T + 2];
     static size_t first[T + 1], var[T];
