@@ -40,7 +40,7 @@
 #define EXCHANGE_CHUNK ((size_t)8 << 20)
 
 /* Per-rank counts of the cycle's local work, gathered from every rank. */
-enum { ST_FAILED, ST_DEAD, ST_NANPRED, ST_SKIPPED, ST_CHANGED, ST_N };
+enum { ST_FAILED, ST_DEAD, ST_NANPRED, ST_SKIPPED, ST_N };
 
 /* The first member of rank r of P (o_P = N). */
 static size_t first_of(size_t N, int P, int r)
@@ -68,14 +68,13 @@ typedef struct {
     double *Vl;            /* ns x nr the summarised rows of this rank's
                             * members, in blocks by the rank they go to */
     double *resl, *res;    /* this rank's rows' summaries; every rank's */
-    double *gll, *glw, *glogw, *gZ, *gYhat, *qwork, *mean, *rwork, *flags;
+    double *gll, *glw, *glogw, *gZ, *gYhat, *qwork, *rwork, *flags;
     uint32_t *gvid, *ganc, *stamp, *holder, *src, *rfrom, *rdest;
     unsigned char *gdead, *gmark;
     double *stats;         /* ST_N x P */
     unsigned char *sbuf, *rbuf;
     size_t chunk;          /* records per round */
     size_t *counts;        /* 5 x P scratch for the collectives */
-    size_t m_max;
     pf_buffers g;          /* a view of the global arrays for the shared
                             * helpers (mark) */
 } ranks_buffers;
@@ -93,7 +92,6 @@ static size_t ranks_layout(const sl_pf_config *cfg, const sl_pf_config *lc, int 
     for (k = 0; k < cfg->T; k++)
         if (cfg->obs_first[k + 1] - cfg->obs_first[k] > m_max)
             m_max = cfg->obs_first[k + 1] - cfg->obs_first[k];
-    rb->m_max = m_max;
     rb->ns = ns;
     /* a member's columns: X, P, Z, E as doubles, then the ids, then the
      * health flag, padded to doubles */
@@ -119,7 +117,6 @@ static size_t ranks_layout(const sl_pf_config *cfg, const sl_pf_config *lc, int 
     rb->flags = sl_ws_take(base, &off, p * ((size_t)P + 1) + 1, 8);
     rb->gYhat = sl_ws_take(base, &off, m_max * N, 8);
     rb->qwork = sl_ws_take(base, &off, nthr * sl_quantile_workspace(N), 8);
-    rb->mean = sl_ws_take(base, &off, ns + 1, 8);
     rb->gvid = sl_ws_take(base, &off, p * N, 4);
     rb->ganc = sl_ws_take(base, &off, N, 4);
     rb->stamp = sl_ws_take(base, &off, N, 4);
