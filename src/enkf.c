@@ -92,6 +92,10 @@ typedef struct {
     double *xw, *hw, *xbar, *rowf; /* LETKF: n x N, m x N, n, N */
     double *dofw;  /* the innovation statistic's scratch */
     void *lw;      /* LETKF's own workspace */
+    double *ssend, *srecv; /* a distributed analysis: the gather's parts */
+    size_t *scount;        /* and its P counts */
+    size_t lo, hi;         /* the rows this rank updates */
+    int in_rows;           /* 1: the analysis reached its rows */
     size_t b;
     int lwork;
     int mrrr;      /* 1: the eigenproblem goes to dsyevr (see MRRR_MIN) */
@@ -293,6 +297,11 @@ static size_t layout(const sl_enkf_config *cfg, size_t n, size_t N, size_t m,
     w->aux = sl_ws_take(base, &c.off, m, sizeof(double));
     w->stat = sl_ws_take(base, &c.off, 5 * c.b, sizeof(double));
     mt->layout(&c, cfg, w);
+    /* the LETKF shares its rows out in its own workspace */
+    if (sl_enkfi_split(cfg) && cfg->method != SL_ENKF_LETKF &&
+        !sl_enkfi_share_layout(base, &c.off, cfg->ranks->size, n, N, &w->ssend, &w->srecv,
+                               &w->scount))
+        return 0;
     if (c.bad || c.off == SL_WS_OVERFLOW)
         return 0;
     return c.off > SL_WS_ALIGN ? c.off : SL_WS_ALIGN;
@@ -637,12 +646,154 @@ static sl_status fail_nonfinite(sl_error *err)
                    "are too far out of scale)");
 }
 
-/* The caller's poll (sl_enkf_config.poll) between two parts of the
- * analysis; a non-zero answer stops it. */
-static sl_status poll_stop(const sl_enkf_config *cfg, sl_error *err)
+/* The caller's poll (sl_enkf_config.poll) before a block of rows; a
+ * non-zero answer stops the analysis. */
+static sl_status poll_rows(const sl_enkf_config *cfg, sl_error *err)
 {
     if (cfg->poll != NULL && cfg->poll(cfg->poll_ctx, cfg->poll_fraction))
         return sl_fail(err, SL_EINTERRUPT, "interrupted", "the analysis was interrupted");
+    return SL_OK;
+}
+
+/* The same between the other parts of the analysis, which a distributed
+ * analysis works out alike on every rank: there no rank may stop alone,
+ * so only the polls before blocks of rows count. */
+static sl_status poll_stop(const sl_enkf_config *cfg, sl_error *err)
+{
+    return sl_enkfi_split(cfg) ? SL_OK : poll_rows(cfg, err);
+}
+
+/* ------------------------------------------------ distributed analyses */
+
+int sl_enkfi_split(const sl_enkf_config *cfg)
+{
+    return cfg->ranks != NULL && cfg->ranks->size > 1;
+}
+
+size_t sl_enkfi_first(size_t count, int P, int r)
+{
+    /* count r / P without overflow: count = a P + c */
+    const size_t a = count / (size_t)P, c = count % (size_t)P;
+    return a * (size_t)r + c * (size_t)r / (size_t)P;
+}
+
+int sl_enkfi_share_layout(unsigned char *base, size_t *off, int P, size_t n, size_t N,
+                          double **send, double **recv, size_t **counts)
+{
+    size_t nN = 0, head = (size_t)P * SL_ENKFI_HEAD;
+    if (P < 1 || sl_size_mul(n, N, &nN) || nN > SIZE_MAX / 16 - head)
+        return 0;
+    *send = sl_ws_take(base, off, SL_ENKFI_HEAD + nN, sizeof(double));
+    *recv = sl_ws_take(base, off, head + nN, sizeof(double));
+    *counts = sl_ws_take(base, off, (size_t)P, sizeof(size_t));
+    return *off != SL_WS_OVERFLOW;
+}
+
+sl_status sl_enkfi_gather(const sl_enkf_ranks *rk, size_t N, const double *send, double *recv,
+                          size_t *counts, sl_error *err)
+{
+    int r;
+    for (r = 0; r < rk->size; r++)
+        counts[r] = (SL_ENKFI_HEAD + counts[r] * N) * sizeof(double);
+    return rk->allgather(rk->ctx, send, recv, counts, err);
+}
+
+int sl_enkfi_first_with(const sl_enkf_ranks *rk, const double *recv, const size_t *counts,
+                        int code)
+{
+    size_t at = 0;
+    int r;
+    for (r = 0; r < rk->size; r++) {
+        if (recv[at] == (double)code)
+            return r;
+        at += counts[r] / sizeof(double);
+    }
+    return -1;
+}
+
+sl_status sl_enkfi_rank_failed(const sl_enkf_ranks *rk, int rank, sl_error *err)
+{
+    return sl_fail(err, SL_EMODEL, "rankfailed",
+                   "rank %d of %d stopped the analysis (its own error says why)", rank,
+                   rk->size);
+}
+
+/* The rows [lo, hi) that rank r of P updates: whole blocks of b rows,
+ * dealt in contiguous runs. */
+static void rows_of(size_t n, size_t b, int P, int r, size_t *lo, size_t *hi)
+{
+    const size_t nblk = (n + b - 1) / b;
+    const size_t q0 = sl_enkfi_first(nblk, P, r), q1 = sl_enkfi_first(nblk, P, r + 1);
+    *lo = q0 * b < n ? q0 * b : n;
+    *hi = q1 * b < n ? q1 * b : n;
+}
+
+/* Whether a global analysis shares its blocks of b rows out: ranks, and
+ * two blocks at least (one block is cheaper done alike everywhere than
+ * sent). */
+static int rows_split(const sl_enkf_config *cfg, size_t n, size_t b)
+{
+    return sl_enkfi_split(cfg) && n > b;
+}
+
+/* Where a global analysis reaches its row loop: the rows this rank
+ * updates, blocks of w->b. */
+static void rows_begin(const sl_enkf_config *cfg, size_t n, buffers *w)
+{
+    w->in_rows = 1;
+    w->lo = 0;
+    w->hi = n;
+    if (rows_split(cfg, n, w->b))
+        rows_of(n, w->b, cfg->ranks->size, cfg->ranks->rank, &w->lo, &w->hi);
+}
+
+/* After the row loop of a split global analysis: every rank's rows
+ * gathered into X on every rank, or the first failure. st (with err):
+ * how this rank's rows went. */
+static sl_status share_rows(const sl_enkf_config *cfg, size_t n, size_t N, double *X,
+                            buffers *w, sl_status st, sl_error *err)
+{
+    const sl_enkf_ranks *rk = cfg->ranks;
+    const int P = rk->size;
+    double *send = w->ssend, *recv = w->srecv;
+    size_t lo, hi, i, j, at = 0, rows;
+    sl_error gerr;
+    sl_status gst;
+    int r, other;
+    memset(send, 0, SL_ENKFI_HEAD * sizeof(double));
+    send[0] = st == SL_OK ? SL_ENKFI_OK
+                          : (st == SL_ENUMERIC ? SL_ENKFI_NONFINITE : SL_ENKFI_OTHER);
+    rows = w->hi - w->lo;
+    for (j = 0; j < N; j++)
+        for (i = 0; i < rows; i++)
+            send[SL_ENKFI_HEAD + i + j * rows] = X[w->lo + i + j * n];
+    for (r = 0; r < P; r++) {
+        rows_of(n, w->b, P, r, &lo, &hi);
+        w->scount[r] = hi - lo;
+    }
+    sl_error_clear(&gerr);
+    gst = sl_enkfi_gather(rk, N, send, recv, w->scount, &gerr);
+    if (st != SL_OK)
+        return st;
+    if (gst != SL_OK) {
+        if (err != NULL)
+            *err = gerr;
+        return gst;
+    }
+    if ((other = sl_enkfi_first_with(rk, recv, w->scount, SL_ENKFI_OTHER)) >= 0)
+        return sl_enkfi_rank_failed(rk, other, err);
+    if (sl_enkfi_first_with(rk, recv, w->scount, SL_ENKFI_NONFINITE) >= 0)
+        return fail_nonfinite(err);
+    for (r = 0; r < P; r++) {
+        const double *part = recv + at + SL_ENKFI_HEAD;
+        rows_of(n, w->b, P, r, &lo, &hi);
+        rows = hi - lo;
+        if (r != rk->rank)
+            for (j = 0; j < N; j++)
+                for (i = 0; i < rows; i++)
+                    X[lo + i + j * n] = part[i + j * rows];
+        at += w->scount[r] / sizeof(double);
+    }
     return SL_OK;
 }
 
@@ -858,11 +1009,12 @@ static sl_status etkf_obs_space(const sl_enkf_config *cfg, size_t n, size_t N,
     }
     if (first_nonfinite(V, m1 * N) < m1 * N)
         return fail_nonfinite(err);
-    for (i0 = 0; i0 < n; i0 += w->b) {
+    rows_begin(cfg, n, w);
+    for (i0 = w->lo; i0 < w->hi; i0 += w->b) {
         const size_t nb = n - i0 < w->b ? n - i0 : w->b;
         const int ib = (int)nb;
         const double *xw = G + m * nb; /* X'w, the mean's increment */
-        if ((st = poll_stop(cfg, err)) != SL_OK)
+        if ((st = poll_rows(cfg, err)) != SL_OK)
             return st;
         block_prior(n, N, X, i0, nb, infl, xbar, B, 1, nb);
         dgemm_("N", "T", &ib, &im1, &iN, &D1, B, &ib, V, &im1, &D0, G, &ib, 1, 1);
@@ -972,10 +1124,11 @@ static sl_status run_etkf(const sl_enkf_config *cfg, size_t n, size_t N,
             T[i + j * N] += c[i];
     if (first_nonfinite(T, N * N) < N * N)
         return fail_nonfinite(err);
-    for (i0 = 0; i0 < n; i0 += w->b) {
+    rows_begin(cfg, n, w);
+    for (i0 = w->lo; i0 < w->hi; i0 += w->b) {
         const size_t nb = n - i0 < w->b ? n - i0 : w->b;
         const int ib = (int)nb;
-        if ((st = poll_stop(cfg, err)) != SL_OK)
+        if ((st = poll_rows(cfg, err)) != SL_OK)
             return st;
         block_prior(n, N, X, i0, nb, infl, xbar, B, 1, nb);
         dgemm_("N", "N", &ib, &iN, &iN, &D1, B, &ib, T, &iN, &D0, X + i0, &in, 1, 1);
@@ -1071,10 +1224,11 @@ static sl_status run_stochastic(const sl_enkf_config *cfg, size_t n, size_t N,
     dpotrs_("L", &im, &iN, S, &im, D, &im, &info, 1);
     if (first_nonfinite(D, m * N) < m * N)
         return fail_nonfinite(err);
-    for (i0 = 0; i0 < n; i0 += w->b) {
+    rows_begin(cfg, n, w);
+    for (i0 = w->lo; i0 < w->hi; i0 += w->b) {
         const size_t nb = n - i0 < w->b ? n - i0 : w->b;
         const int ib = (int)nb;
-        sl_status st = poll_stop(cfg, err);
+        sl_status st = poll_rows(cfg, err);
         if (st != SL_OK)
             return st;
         block_prior(n, N, X, i0, nb, infl, xbar, B, 1, nb);
@@ -1199,11 +1353,12 @@ static sl_status run_serial(const sl_enkf_config *cfg, size_t n, size_t N,
         *dof = acc;
     if (first_nonfinite(ybar, m) < m || first_nonfinite(yt, m * N) < m * N)
         return fail_nonfinite(err);
-    for (i0 = 0; i0 < n; i0 += w->b) {
+    rows_begin(cfg, n, w);
+    for (i0 = w->lo; i0 < w->hi; i0 += w->b) {
         const size_t nb = n - i0 < w->b ? n - i0 : w->b;
         const int ib = (int)nb;
         double *B = w->blk, *C = w->blk2;
-        if ((st = poll_stop(cfg, err)) != SL_OK)
+        if ((st = poll_rows(cfg, err)) != SL_OK)
             return st;
         /* prior perturbations: row i0 + i in column i of B (N x nb) */
         block_prior(n, N, X, i0, nb, infl, xbar, B, N, 1);
@@ -1431,6 +1586,10 @@ sl_status sl_enkf_analysis(const sl_enkf_config *cfg, size_t n, size_t N,
     }
     st = method_get(cfg->method)->run(cfg, n, N, X, m, HX, y, R, rdiag, &w, &dof, &floored,
                                        &skipped, err);
+    /* every rank reaches the rows, or none does (what comes before is
+     * worked out alike everywhere) */
+    if (w.in_rows && rows_split(cfg, n, w.b))
+        st = share_rows(cfg, n, N, X, &w, st, err);
     if (st == SL_OK && info != NULL) {
         info->floored = floored;
         info->local_skipped = skipped;

@@ -17,4 +17,38 @@ sl_status sl_letkf_run(const sl_enkf_config *cfg, size_t n, size_t N,
                        const double *y, const double *rdiag, void *work,
                        sl_enkf_info *info, sl_error *err);
 
+/* A distributed analysis (sl_enkf_config.ranks): every rank's part of
+ * the gather starts with SL_ENKFI_HEAD doubles (a code, then what the
+ * method tallies) before its rows. */
+#define SL_ENKFI_HEAD 6
+enum { SL_ENKFI_OK = 0, SL_ENKFI_NONFINITE = 1, SL_ENKFI_OTHER = 2 };
+
+/* 1 when cfg shares its rows out across more than one rank. */
+int sl_enkfi_split(const sl_enkf_config *cfg);
+
+/* The first of count things (blocks of rows, grid points) that rank r of
+ * P works out: floor(r count / P) (r = P: count). */
+size_t sl_enkfi_first(size_t count, int P, int r);
+
+/* The gather's buffers for a split analysis of n rows and N members on P
+ * ranks, carved at *off from base (NULL: only measure): the own part
+ * (SL_ENKFI_HEAD + n N doubles), every rank's (P SL_ENKFI_HEAD + n N) and
+ * P byte counts. Returns 0 if a size overflows. */
+int sl_enkfi_share_layout(unsigned char *base, size_t *off, int P, size_t n, size_t N,
+                          double **send, double **recv, size_t **counts);
+
+/* The gather itself: rank r contributes SL_ENKFI_HEAD + vals(r) doubles,
+ * vals(r) = (rows of rank r) N, the rows of rank r being given in
+ * counts[r] on entry (the counts become bytes). */
+sl_status sl_enkfi_gather(const sl_enkf_ranks *rk, size_t N, const double *send, double *recv,
+                          size_t *counts, sl_error *err);
+
+/* After the gather: the lowest rank whose head has code `code`, or -1;
+ * the offset (in doubles) of every rank's part follows from counts. */
+int sl_enkfi_first_with(const sl_enkf_ranks *rk, const double *recv, const size_t *counts,
+                        int code);
+
+/* The failure of another rank, for the ranks that did not fail. */
+sl_status sl_enkfi_rank_failed(const sl_enkf_ranks *rk, int rank, sl_error *err);
+
 #endif

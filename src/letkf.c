@@ -76,11 +76,13 @@ typedef struct {
     entry *scratch;  /* max(n, m): merge buffer */
     size_t *gstart;  /* n + 1: first sorted row of each group */
     slice *sl;       /* one per thread */
+    double *ssend, *srecv; /* a distributed analysis: the gather's parts */
+    size_t *scount;        /* and its P counts */
 } buffers;
 
 /* Lay the buffers out in `base` (NULL: only measure). Returns the bytes
  * needed, or 0 if a size overflows. */
-static size_t layout(size_t nthr, size_t n, size_t N, size_t m,
+static size_t layout(size_t nthr, int P, size_t n, size_t N, size_t m,
                      unsigned char *base, buffers *b)
 {
     /* every product below is checked once against this bound */
@@ -123,9 +125,18 @@ static size_t layout(size_t nthr, size_t n, size_t N, size_t m,
             s->kidx = ki;
         }
     }
+    if (P > 1 && !sl_enkfi_share_layout(base, &off, P, n, N, &b->ssend, &b->srecv, &b->scount))
+        return 0;
     /* a trailing cache line keeps the last slice apart from whatever
      * follows the workspace */
     return sl_ws_size(sl_ws_carve(base, &off, SL_WS_ALIGN, NULL));
+}
+
+/* The ranks a distributed analysis shares its grid points out to (1:
+ * none). */
+static int ranks_of(const sl_enkf_config *cfg)
+{
+    return cfg != NULL && sl_enkfi_split(cfg) ? cfg->ranks->size : 1;
 }
 
 size_t sl_letkf_workspace(const sl_enkf_config *cfg, size_t n, size_t N,
@@ -133,7 +144,7 @@ size_t sl_letkf_workspace(const sl_enkf_config *cfg, size_t n, size_t N,
 {
     buffers b;
     size_t nthr = cfg != NULL && cfg->threads > 0 ? (size_t)cfg->threads : 1;
-    return layout(nthr, n, N, m, NULL, &b);
+    return layout(nthr, ranks_of(cfg), n, N, m, NULL, &b);
 }
 
 /* ------------------------------------------------------------ sorting */
@@ -920,6 +931,79 @@ static void local_analysis(const run_ctx *cx, slice *s1, size_t g1, slice *s2, s
 
 /* ---------------------------------------------------------------- run */
 
+/* The rows of groups g0 .. g1-1, in the order of their positions. */
+static size_t group_rows(const buffers *b, size_t g0, size_t g1)
+{
+    return b->gstart[g1] - b->gstart[g0];
+}
+
+/* After a rank's grid points (a distributed analysis): every rank's rows
+ * gathered into X on every rank, the tallies summed and the first failed
+ * group (in the order of positions) over all ranks; or the failure of a
+ * rank that stopped. */
+static sl_status share_groups(const sl_enkf_config *cfg, buffers *b, size_t n, size_t N,
+                              double *X, size_t ngroup, int stopped, size_t *floored,
+                              size_t *skipped, size_t *fail_group, int *fail_info,
+                              sl_error *err)
+{
+    const sl_enkf_ranks *rk = cfg->ranks;
+    const int P = rk->size;
+    const size_t G0 = sl_enkfi_first(ngroup, P, rk->rank),
+                 G1 = sl_enkfi_first(ngroup, P, rk->rank + 1);
+    double *send = b->ssend;
+    size_t i, j, at = 0, rows = group_rows(b, G0, G1);
+    sl_error gerr;
+    sl_status st;
+    int r, other;
+    memset(send, 0, SL_ENKFI_HEAD * sizeof(double));
+    send[0] = stopped ? SL_ENKFI_OTHER : SL_ENKFI_OK;
+    send[1] = (double)*floored;
+    send[2] = (double)*skipped;
+    send[3] = *fail_group == SIZE_MAX ? -1.0 : (double)*fail_group;
+    send[4] = (double)*fail_info;
+    for (i = 0; i < rows; i++) {
+        const size_t row = b->rows[b->gstart[G0] + i].i;
+        for (j = 0; j < N; j++)
+            send[SL_ENKFI_HEAD + i * N + j] = X[row + j * n];
+    }
+    for (r = 0; r < P; r++)
+        b->scount[r] = group_rows(b, sl_enkfi_first(ngroup, P, r),
+                                  sl_enkfi_first(ngroup, P, r + 1));
+    sl_error_clear(&gerr);
+    st = sl_enkfi_gather(rk, N, send, b->srecv, b->scount, &gerr);
+    if (stopped)
+        return sl_fail(err, SL_EINTERRUPT, "interrupted", "the analysis was interrupted");
+    if (st != SL_OK) {
+        if (err != NULL)
+            *err = gerr;
+        return st;
+    }
+    if ((other = sl_enkfi_first_with(rk, b->srecv, b->scount, SL_ENKFI_OTHER)) >= 0)
+        return sl_enkfi_rank_failed(rk, other, err);
+    *floored = *skipped = 0;
+    *fail_group = SIZE_MAX;
+    *fail_info = 0;
+    for (r = 0; r < P; r++) {
+        const double *head = b->srecv + at, *part = head + SL_ENKFI_HEAD;
+        const size_t first = b->gstart[sl_enkfi_first(ngroup, P, r)];
+        const size_t nr = (b->scount[r] / sizeof(double) - SL_ENKFI_HEAD) / N;
+        *floored += (size_t)head[1];
+        *skipped += (size_t)head[2];
+        if (head[3] >= 0 && (size_t)head[3] < *fail_group) {
+            *fail_group = (size_t)head[3];
+            *fail_info = (int)head[4];
+        }
+        if (r != rk->rank)
+            for (i = 0; i < nr; i++) {
+                const size_t row = b->rows[first + i].i;
+                for (j = 0; j < N; j++)
+                    X[row + j * n] = part[i * N + j];
+            }
+        at += b->scount[r] / sizeof(double);
+    }
+    return SL_OK;
+}
+
 sl_status sl_letkf_run(const sl_enkf_config *cfg, size_t n, size_t N,
                        double *X, size_t m, const double *HX,
                        const double *y, const double *rdiag, void *work,
@@ -930,8 +1014,9 @@ sl_status sl_letkf_run(const sl_enkf_config *cfg, size_t n, size_t N,
     run_ctx cx;
     size_t nthr, i, j, k, ngroup, floored = 0, skipped = 0;
     const size_t spt = N <= PAIR_MAX_N ? 2 : 1; /* slices a thread */
-    size_t fail_group = SIZE_MAX;
-    int fail_info = 0;
+    size_t fail_group = SIZE_MAX, G0 = 0, G1;
+    int fail_info = 0, stopped = 0;
+    const int split = cfg != NULL && sl_enkfi_split(cfg);
     double xmax = 0.0, s1 = 0.0, s2 = 0.0, cmax = 0.0, bound;
     sl_status st;
 
@@ -948,7 +1033,7 @@ sl_status sl_letkf_run(const sl_enkf_config *cfg, size_t n, size_t N,
                        "the LETKF needs at least 2 members and 1 observation, got %lu and %lu",
                        (unsigned long)N, (unsigned long)m);
     nthr = (size_t)cfg->threads;
-    if (layout(nthr, n, N, m, NULL, &b) == 0)
+    if (layout(nthr, ranks_of(cfg), n, N, m, NULL, &b) == 0)
         return sl_fail(err, SL_ENOMEM, "badsize", "the problem is too large");
     if (work == NULL || (n > 0 && X == NULL) || HX == NULL || y == NULL ||
         rdiag == NULL)
@@ -979,7 +1064,7 @@ sl_status sl_letkf_run(const sl_enkf_config *cfg, size_t n, size_t N,
         if (fabs(X[k]) > xmax)
             xmax = fabs(X[k]);
     }
-    layout(nthr, n, N, m, (unsigned char *)work, &b);
+    layout(nthr, ranks_of(cfg), n, N, m, (unsigned char *)work, &b);
 
     /* HX' (transposed, one column per observation) and the innovations,
      * once for every row */
@@ -1055,6 +1140,7 @@ sl_status sl_letkf_run(const sl_enkf_config *cfg, size_t n, size_t N,
             b.gstart[ngroup++] = i;
     }
     b.gstart[ngroup] = n;
+    G1 = ngroup;
 
     cx.n = n;
     cx.N = N;
@@ -1070,16 +1156,21 @@ sl_status sl_letkf_run(const sl_enkf_config *cfg, size_t n, size_t N,
         b.sl[k].fail_group = SIZE_MAX;
         b.sl[k].fail_info = 0;
     }
-    if (nthr > ngroup)
-        nthr = ngroup;
+    /* a distributed analysis: this rank's grid points, G0 .. G1-1 */
+    if (split) {
+        G0 = sl_enkfi_first(ngroup, cfg->ranks->size, cfg->ranks->rank);
+        G1 = sl_enkfi_first(ngroup, cfg->ranks->size, cfg->ranks->rank + 1);
+    }
+    if (nthr > G1 - G0)
+        nthr = G1 - G0 > 0 ? G1 - G0 : 1;
 
     /* every group reads the shared buffers and writes only its own rows
-     * of X, so the result is the same whichever thread takes it. The
-     * groups go in batches with the caller's poll between them (outside
-     * any parallel region): a batch is about SL_ENKF_POLL_WORK flops a
-     * thread, counting N^3 a group (its eigen-decomposition), and at least
-     * one group a thread; groups that cost a good part of that are handed
-     * out one at a time. */
+     * of X, so the result is the same whichever thread (or rank) takes
+     * it. The groups go in batches with the caller's poll between them
+     * (outside any parallel region): a batch is about SL_ENKF_POLL_WORK
+     * flops a thread, counting N^3 a group (its eigen-decomposition), and
+     * at least one group a thread; groups that cost a good part of that
+     * are handed out one at a time. */
     {
         const double wg = (double)N * (double)N * (double)N;
         const int dyn = wg > SL_ENKF_POLL_WORK / 4 ? 1 : 4;
@@ -1087,13 +1178,15 @@ sl_status sl_letkf_run(const sl_enkf_config *cfg, size_t n, size_t N,
         size_t batch, g0;
         if (per < 1)
             per = 1;
-        batch = per * (double)nthr < (double)ngroup ? (size_t)per * nthr : ngroup;
+        batch = per * (double)nthr < (double)(G1 - G0) ? (size_t)per * nthr : G1 - G0;
         if (batch < (size_t)dyn * nthr)
             batch = (size_t)dyn * nthr;
-        for (g0 = 0; g0 < ngroup; g0 += batch) {
-            const size_t g1 = ngroup - g0 < batch ? ngroup : g0 + batch;
-            if (cfg->poll != NULL && cfg->poll(cfg->poll_ctx, cfg->poll_fraction))
-                return sl_fail(err, SL_EINTERRUPT, "interrupted", "the analysis was interrupted");
+        for (g0 = G0; g0 < G1; g0 += batch) {
+            const size_t g1 = G1 - g0 < batch ? G1 : g0 + batch;
+            if (cfg->poll != NULL && cfg->poll(cfg->poll_ctx, cfg->poll_fraction)) {
+                stopped = 1;
+                break;
+            }
 #pragma omp parallel num_threads((int)nthr)
             {
                 size_t tid = 0, g;
@@ -1125,6 +1218,14 @@ sl_status sl_letkf_run(const sl_enkf_config *cfg, size_t n, size_t N,
             fail_group = b.sl[k].fail_group;
             fail_info = b.sl[k].fail_info;
         }
+    }
+    if (split) {
+        st = share_groups(cfg, &b, n, N, X, ngroup, stopped, &floored, &skipped, &fail_group,
+                          &fail_info, err);
+        if (st != SL_OK)
+            return st;
+    } else if (stopped) {
+        return sl_fail(err, SL_EINTERRUPT, "interrupted", "the analysis was interrupted");
     }
     if (info != NULL) {
         info->floored = floored;

@@ -27,6 +27,19 @@ static void inflate_rows(double *M, size_t ld, size_t r0, size_t rows,
     }
 }
 
+/* The ranks of a run split across processes, for its analyses (NULL: one
+ * process). */
+static const sl_enkf_ranks *analysis_ranks(const sl_pf_config *cfg, sl_enkf_ranks *er)
+{
+    if (cfg->ranks == NULL)
+        return NULL;
+    er->ctx = cfg->ranks->ctx;
+    er->rank = cfg->ranks->rank;
+    er->size = cfg->ranks->size;
+    er->allgather = cfg->ranks->allgather;
+    return er;
+}
+
 /* Whether row i (of the n + p states and parameters) or observation row
  * r takes part in the analysis of component part (-1: the whole state,
  * strong coupling). */
@@ -56,6 +69,7 @@ static sl_status enkf_update(const sl_pf_config *cfg, const sl_enkf_config *sett
     const size_t va = v * (nw + 1); /* rows of the augmented ensemble */
     size_t L = 0, mk = 0, mt, i, j, jj, d, s;
     sl_enkf_config ecfg = *settings;
+    sl_enkf_ranks er;
     sl_localization lc;
     sl_enkf_info info;
     sl_status st;
@@ -138,6 +152,7 @@ static sl_status enkf_update(const sl_pf_config *cfg, const sl_enkf_config *sett
     }
     ecfg.cycle = (uint32_t)k;
     ecfg.threads = cfg->threads;
+    ecfg.ranks = analysis_ranks(cfg, &er);
     /* the run's poll also between the parts of a long analysis */
     ecfg.poll = cfg->poll;
     ecfg.poll_ctx = cfg->poll_ctx;
@@ -273,9 +288,11 @@ static size_t kalman_layout(const sl_analysis *self, const sl_pf_config *cfg,
     const size_t N = cfg->N, n = cfg->model->n_state, p = cfg->model->n_param;
     size_t dim = cfg->loc != NULL ? cfg->loc->dim : 0, ew, off = 0, end;
     sl_enkf_config ec;
+    sl_enkf_ranks er;
     kalman_settings(self, cfg, &ec);
     ec.threads = cfg->threads;
     ec.loc = cfg->loc;
+    ec.ranks = analysis_ranks(cfg, &er);
     ew = sl_enkf_workspace(&ec, (n + p) * (nwin + 1), N, m_max ? m_max : 1, 0);
     if (ew == 0 || dim > 2)
         return 0;

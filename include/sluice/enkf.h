@@ -37,6 +37,18 @@ typedef enum {
     SL_ETKF_OBSERVATION
 } sl_etkf_form;
 
+/* The ranks of a distributed analysis (a run split across processes):
+ * this rank's number and their count, and a collective the caller
+ * provides: every rank r contributes counts[r] bytes (this rank's from
+ * send), and recv receives all of them, rank after rank; SL_OK, or a
+ * failure in err (a rank that left, a transport error). */
+typedef struct {
+    void *ctx;
+    int rank, size;
+    sl_status (*allgather)(void *ctx, const void *send, void *recv, const size_t *counts,
+                           sl_error *err);
+} sl_enkf_ranks;
+
 typedef struct {
     int method;
     double inflation;  /* multiplicative prior inflation of the perturbations
@@ -62,6 +74,25 @@ typedef struct {
     int (*poll)(void *ctx, double fraction);
     void *poll_ctx;
     double poll_fraction;
+    /* NULL, or one rank of a distributed analysis (size >= 1). Every rank
+     * passes the same arguments and works out the parts that are cheap
+     * (means, the transform, the gain) whole; the rows are shared out:
+     * for the global methods, the blocks of rows each rank updates
+     * (contiguous runs of them, when there are at least two blocks); for
+     * the LETKF, the grid points (groups of rows at one place, in the
+     * order of their positions). Each rank then gathers the others' rows,
+     * so that every rank ends with the whole analysis, bit for bit the
+     * analysis of one process, for any number of ranks. Every rank calls
+     * the analysis, which calls allgather once (or not at all when it
+     * fails before the rows). A failure in one rank's rows fails the
+     * analysis on every rank: a row that is not finite, or a local
+     * analysis that failed, with the same error everywhere; anything else
+     * (a poll that asked to stop) with the rank's own error there and
+     * reason "rankfailed" elsewhere. In a distributed analysis the poll
+     * is called only between the blocks of rows (or batches of grid
+     * points) a rank works out. The workspace grows by about 2 n N
+     * doubles. */
+    const sl_enkf_ranks *ranks;
 } sl_enkf_config;
 
 /* The LETKF's work between two polls, in flops per thread. */

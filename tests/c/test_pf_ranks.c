@@ -7,6 +7,7 @@
  * Kalman analyses); a rank whose model fails fails the run on every
  * rank; the settings it refuses, each with its reason. */
 #include "check.h"
+#include "ranks_threads.h"
 #include "sluice/integrate.h"
 #include "sluice/loglik.h"
 #include "sluice/pf.h"
@@ -17,77 +18,6 @@
 #include <pthread.h>
 #include <stdint.h>
 #include <string.h>
-
-/* ------------------------------------------------ ranks as threads */
-
-#define MAX_RANKS 8
-
-typedef struct {
-    int P;
-    pthread_barrier_t bar;
-    const void *send[MAX_RANKS];
-    const size_t *counts[MAX_RANKS];
-    int mismatch;
-} shared_comm;
-
-typedef struct {
-    shared_comm *sh;
-    int rank;
-    size_t gathers, exchanged; /* calls, and bytes this rank received */
-} rank_comm;
-
-static sl_status fake_allgather(void *ctx, const void *send, void *recv, const size_t *counts,
-                                sl_error *err)
-{
-    rank_comm *c = ctx;
-    shared_comm *sh = c->sh;
-    size_t at = 0;
-    int r;
-    (void)err;
-    sh->send[c->rank] = send;
-    sh->counts[c->rank] = counts;
-    pthread_barrier_wait(&sh->bar);
-    for (r = 0; r < sh->P; r++) {
-        /* every rank must agree on every contribution's size */
-        if (sh->counts[r][r] != counts[r])
-            sh->mismatch = 1;
-        memcpy((unsigned char *)recv + at, sh->send[r], counts[r]);
-        at += counts[r];
-    }
-    c->gathers++;
-    pthread_barrier_wait(&sh->bar);
-    return SL_OK;
-}
-
-static sl_status fake_exchange(void *ctx, const void *send, const size_t *scounts, void *recv,
-                               const size_t *rcounts, sl_error *err)
-{
-    rank_comm *c = ctx;
-    shared_comm *sh = c->sh;
-    size_t at = 0;
-    int r, q;
-    (void)err;
-    sh->send[c->rank] = send;
-    sh->counts[c->rank] = scounts;
-    pthread_barrier_wait(&sh->bar);
-    for (r = 0; r < sh->P; r++) {
-        size_t from = 0;
-        /* what rank r sends to this one starts after what it sends to
-         * the ranks before this one */
-        for (q = 0; q < c->rank; q++)
-            from += sh->counts[r][q];
-        if (sh->counts[r][c->rank] != rcounts[r])
-            sh->mismatch = 1;
-        else
-            memcpy((unsigned char *)recv + at, (const unsigned char *)sh->send[r] + from,
-                   rcounts[r]);
-        at += rcounts[r];
-        if (r != c->rank)
-            c->exchanged += rcounts[r];
-    }
-    pthread_barrier_wait(&sh->bar);
-    return SL_OK;
-}
 
 /* ------------------------------------------------------ run buffers */
 
@@ -667,10 +597,96 @@ static void check_refusals(void)
     }
 }
 
+/* A wide model (140 states, more than two blocks of the analysis's rows):
+ * x_k = A x_(k-1) + L e with A neighbour-coupled along a line, every 7th
+ * state observed (20 observations a cycle). The ensemble Kalman analyses
+ * share their rows out across the ranks as well as the forecasts (the
+ * ETKF in ensemble space, the stochastic EnKF, the EAKF, the LETKF by grid
+ * points, the ETKF with a lag window); every output equals one process
+ * bit for bit. */
+static void check_wide_kalman(void)
+{
+    enum { NX = 140, M = 20, N = 16, T = 6 };
+    static double A[NX * NX], L[NX * NX], times[T], y[T * M], sg[T * M], aux[T * M];
+    static double spos[NX], opos[T * M], oc[T * M], X0[NX * N], P0[1];
+    static size_t first[T + 1], var[T * M];
+    static int fam[T * M];
+    static sl_linear lin;
+    const double probs[2] = {0.1, 0.9};
+    const sl_analysis *an[4] = {&sl_analysis_etkf, &sl_analysis_enkf, &sl_analysis_eakf,
+                                &sl_analysis_letkf};
+    const char *names[5] = {"etkf", "enkf", "eakf", "letkf", "etkf with lag 2"};
+    sl_localization loc;
+    sl_model md;
+    sl_pf_config cfg;
+    sl_error err;
+    size_t i, j, k, q;
+    for (i = 0; i < NX; i++) {
+        A[i + i * NX] = 0.8;
+        if (i > 0)
+            A[i + (i - 1) * NX] = 0.1;
+        if (i + 1 < NX)
+            A[i + (i + 1) * NX] = 0.1;
+        L[i + i * NX] = 0.2;
+        spos[i] = (double)i;
+    }
+    lin.n = NX;
+    lin.A = A;
+    lin.L = L;
+    CHECK(sl_linear_model(&md, &lin, 1.0, &err) == SL_OK, "wide linear model: %s", err.message);
+    for (k = 0; k < T; k++) {
+        times[k] = 1.0 + (double)k;
+        first[k] = k * M;
+        for (q = 0; q < M; q++) {
+            const size_t r = k * M + q;
+            var[r] = 7 * q + 3;
+            y[r] = sin(0.1 * (double)var[r] + 0.3 * (double)k);
+            sg[r] = 0.5;
+            aux[r] = 0.0;
+            fam[r] = SL_FAMILY_GAUSSIAN;
+            opos[r] = (double)var[r];
+            oc[r] = 10.0;
+        }
+    }
+    first[T] = T * M;
+    for (j = 0; j < N; j++) {
+        sl_stream s;
+        sl_stream_init(&s, 17, (uint32_t)j, 0, SL_PURPOSE_PRIOR);
+        for (i = 0; i < NX; i++)
+            X0[i + j * NX] = sl_stream_normal(&s);
+    }
+    memset(&loc, 0, sizeof loc);
+    loc.geometry = SL_GEOM_LINE;
+    loc.dim = 1;
+    loc.state_pos = spos;
+    loc.obs_pos = opos;
+    loc.obs_c = oc;
+    loc.param_factor = 1.0;
+    for (q = 0; q < 5; q++) {
+        run_buf ref;
+        base_config(&cfg, &md, N, T, times, first, y, sg, aux, fam, var);
+        cfg.analysis = an[q < 4 ? q : 0];
+        cfg.nq = 2;
+        cfg.probs = probs;
+        cfg.seed = 99;
+        if (q == 3)
+            cfg.loc = &loc;
+        if (q == 4)
+            cfg.lag = 2;
+        run_alloc(&ref, &cfg, X0, P0, sl_pf_workspace(&cfg));
+        ref.st = sl_pf_run(&cfg, ref.X, ref.P, ref.w, ref.work, &ref.out, &ref.err);
+        CHECK(ref.st == SL_OK, "%s single process: %s", names[q], ref.err.message);
+        if (ref.st == SL_OK)
+            compare_ranks(&cfg, &ref, X0, P0, names[q], 0);
+        run_free(&ref);
+    }
+}
+
 int main(void)
 {
     check_gr4j();
     check_member_draws_and_failure();
+    check_wide_kalman();
     check_refusals();
     CHECK_DONE("test_pf_ranks");
 }
