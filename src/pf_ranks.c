@@ -255,27 +255,21 @@ static sl_status deal_summary_rows(const sl_pf_config *cfg, const sl_pf_ranks *r
     return rk->exchange(rk->ctx, rb->Vl, sc, rb->V, rc, err);
 }
 
-/* This rank's rows' forecast means from V (as forecast_mean in pf.c:
- * each row's sum in member order over the living members of positive
- * weight) into fm. */
+/* This rank's rows' forecast means from V (sl_pfi_live_means, as the
+ * one process run) into fm. */
 static void forecast_means(ranks_buffers *rb, size_t nrw, const double *w, double *fm)
 {
-    const size_t N = rb->N;
-    double W = 0.0;
-    size_t i, j;
-    for (j = 0; j < N; j++)
-        if (!rb->gdead[j] && w[j] > 0)
-            W += w[j];
-    for (i = 0; i < nrw; i++)
-        fm[i] = 0.0;
-    for (j = 0; j < N; j++) {
-        if (rb->gdead[j] || !(w[j] > 0))
-            continue;
-        for (i = 0; i < nrw; i++)
-            fm[i] += w[j] * rb->V[i + j * nrw];
+    const double W = sl_pfi_live_weight(rb->N, rb->gdead, w);
+    const double *src[SL_PFI_FMEAN_BLOCK];
+    size_t ld[SL_PFI_FMEAN_BLOCK], i, i0;
+    for (i0 = 0; i0 < nrw; i0 += SL_PFI_FMEAN_BLOCK) {
+        const size_t nb = nrw - i0 < SL_PFI_FMEAN_BLOCK ? nrw - i0 : SL_PFI_FMEAN_BLOCK;
+        for (i = 0; i < nb; i++) {
+            src[i] = rb->V + i0 + i;
+            ld[i] = nrw;
+        }
+        sl_pfi_live_means(rb->N, rb->gdead, w, W, nb, src, ld, fm + i0);
     }
-    for (i = 0; i < nrw; i++)
-        fm[i] = W > 0 ? fm[i] / W : (double)NAN;
 }
 
 /* This rank's rows' means and quantiles from V (as sl_pfi_summarise)
