@@ -1298,56 +1298,74 @@ int sl_pfi_has_nonfinite(const double *x, size_t n)
     return !((a0 + a1) + (a2 + a3) == 0.0);
 }
 
-#define FMEAN_BLOCK 64 /* rows summed together in one pass over the members */
+/* The forecast means' kernel, shared with the split run (pf_internal.h). */
+double sl_pfi_live_weight(size_t N, const unsigned char *dead, const double *w)
+{
+    double W = 0.0;
+    size_t j;
+    for (j = 0; j < N; j++)
+        if (!dead[j] && w[j] > 0)
+            W += w[j];
+    return W;
+}
+
+void sl_pfi_live_means(size_t N, const unsigned char *dead, const double *w, double W,
+                       size_t nb, const double *const *src, const size_t *ld, double *m)
+{
+    double s[SL_PFI_FMEAN_BLOCK];
+    size_t i, j;
+    for (i = 0; i < nb; i++)
+        s[i] = 0.0;
+    for (j = 0; j < N; j++) {
+        if (dead[j] || !(w[j] > 0))
+            continue;
+        i = 0;
+#ifdef __SSE2__
+        {
+            /* two rows in the lanes of one register: each lane the
+             * scalar product and sum of its row, the same bits */
+            const __m128d wj = _mm_set1_pd(w[j]);
+            for (; i + 1 < nb; i += 2) {
+                __m128d v = _mm_loadh_pd(_mm_load_sd(src[i] + j * ld[i]),
+                                         src[i + 1] + j * ld[i + 1]);
+                _mm_storeu_pd(s + i, _mm_add_pd(_mm_loadu_pd(s + i), _mm_mul_pd(wj, v)));
+            }
+        }
+#endif
+        for (; i < nb; i++)
+            s[i] += w[j] * src[i][j * ld[i]];
+    }
+    for (i = 0; i < nb; i++)
+        m[i] = W > 0 ? s[i] / W : (double)NAN;
+}
 
 /* Weighted means of the living members before the update: the forecast.
- * Each summarised row's sum runs in member order; up to FMEAN_BLOCK rows
- * are summed together in one pass over the members, each in a sum of its
- * own, with where the row lives looked up once per pass. */
+ * Each summarised row's sum runs in member order; up to
+ * SL_PFI_FMEAN_BLOCK rows are summed together in one pass over the
+ * members (sl_pfi_live_means), with where the row lives looked up once
+ * per pass. */
 static void forecast_mean(const sl_pf_config *cfg, const unsigned char *dead,
                           const double *X, const double *P, const double *w,
                           double *out)
 {
     const size_t N = cfg->N, n = cfg->model->n_state;
     const size_t p = cfg->model->n_param, ns = sl_pfi_summary_count(cfg);
-    double W = 0.0;
-    size_t i, j, i0;
+    const double W = sl_pfi_live_weight(N, dead, w);
+    size_t i, i0;
     sl_pfi_summary_blank(cfg, out, NULL, 0, 0);
-    for (j = 0; j < N; j++)
-        if (!dead[j] && w[j] > 0)
-            W += w[j];
-    for (i0 = 0; i0 < ns; i0 += FMEAN_BLOCK) {
-        const size_t nb = ns - i0 < FMEAN_BLOCK ? ns - i0 : FMEAN_BLOCK;
-        const double *src[FMEAN_BLOCK];
-        size_t ld[FMEAN_BLOCK], r[FMEAN_BLOCK];
-        double s[FMEAN_BLOCK];
+    for (i0 = 0; i0 < ns; i0 += SL_PFI_FMEAN_BLOCK) {
+        const size_t nb = ns - i0 < SL_PFI_FMEAN_BLOCK ? ns - i0 : SL_PFI_FMEAN_BLOCK;
+        const double *src[SL_PFI_FMEAN_BLOCK];
+        size_t ld[SL_PFI_FMEAN_BLOCK], r[SL_PFI_FMEAN_BLOCK];
+        double m[SL_PFI_FMEAN_BLOCK];
         for (i = 0; i < nb; i++) {
             r[i] = sl_pfi_summary_row(cfg, i0 + i);
             src[i] = r[i] < n ? X + r[i] : P + (r[i] - n);
             ld[i] = r[i] < n ? n : p;
-            s[i] = 0.0;
         }
-        for (j = 0; j < N; j++) {
-            if (dead[j] || !(w[j] > 0))
-                continue;
-            i = 0;
-#ifdef __SSE2__
-            {
-                /* two rows in the lanes of one register: each lane the
-                 * scalar product and sum of its row, the same bits */
-                const __m128d wj = _mm_set1_pd(w[j]);
-                for (; i + 1 < nb; i += 2) {
-                    __m128d v = _mm_loadh_pd(_mm_load_sd(src[i] + j * ld[i]),
-                                             src[i + 1] + j * ld[i + 1]);
-                    _mm_storeu_pd(s + i, _mm_add_pd(_mm_loadu_pd(s + i), _mm_mul_pd(wj, v)));
-                }
-            }
-#endif
-            for (; i < nb; i++)
-                s[i] += w[j] * src[i][j * ld[i]];
-        }
+        sl_pfi_live_means(N, dead, w, W, nb, src, ld, m);
         for (i = 0; i < nb; i++)
-            out[r[i]] = W > 0 ? s[i] / W : (double)NAN;
+            out[r[i]] = m[i];
     }
 }
 

@@ -137,6 +137,16 @@ void sl_pfi_loglik_into(const sl_pf_config *cfg, pf_buffers *b, size_t r0,
                         size_t m, double *ll, size_t *nskipped);
 void sl_pfi_loglik_all(const sl_pf_config *cfg, pf_buffers *b, size_t r0,
                        size_t m, size_t *nskipped);
+/* The forecast means (pf.c; pf_ranks.c on its share of the rows): the
+ * total weight W of the living members of positive weight, and for nb
+ * (at most SL_PFI_FMEAN_BLOCK) rows, row i's value of member j at
+ * src[i][j * ld[i]], m[i] = the sum over those members in member order
+ * of w[j] times the value, over W (NaN when W is not positive). Each
+ * row's sum has the same bits whatever rows share its block. */
+#define SL_PFI_FMEAN_BLOCK 64
+double sl_pfi_live_weight(size_t N, const unsigned char *dead, const double *w);
+void sl_pfi_live_means(size_t N, const unsigned char *dead, const double *w, double W,
+                       size_t nb, const double *const *src, const size_t *ld, double *m);
 /* The rows the run summarises (cfg->summary_rows): how many, the i-th
  * (0-based), and NaN into the mean (and, with q, the nq quantiles at
  * stride qinc) of every other row of one cycle's record. */

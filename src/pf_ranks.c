@@ -39,7 +39,8 @@
 /* Bytes a rank sends (and receives) per round of the exchange at most. */
 #define EXCHANGE_CHUNK ((size_t)8 << 20)
 
-/* Per-rank counts of the cycle's local work, gathered from every rank. */
+/* Per-rank counts of the cycle's local work, gathered from every rank
+ * (ST_FAILED first: the flag any_rank_failed sets). */
 enum { ST_FAILED, ST_DEAD, ST_NANPRED, ST_SKIPPED, ST_N };
 
 /* The first member of rank r of P (o_P = N). */
@@ -254,27 +255,21 @@ static sl_status deal_summary_rows(const sl_pf_config *cfg, const sl_pf_ranks *r
     return rk->exchange(rk->ctx, rb->Vl, sc, rb->V, rc, err);
 }
 
-/* This rank's rows' forecast means from V (as forecast_mean in pf.c:
- * each row's sum in member order over the living members of positive
- * weight) into fm. */
+/* This rank's rows' forecast means from V (sl_pfi_live_means, as the
+ * one process run) into fm. */
 static void forecast_means(ranks_buffers *rb, size_t nrw, const double *w, double *fm)
 {
-    const size_t N = rb->N;
-    double W = 0.0;
-    size_t i, j;
-    for (j = 0; j < N; j++)
-        if (!rb->gdead[j] && w[j] > 0)
-            W += w[j];
-    for (i = 0; i < nrw; i++)
-        fm[i] = 0.0;
-    for (j = 0; j < N; j++) {
-        if (rb->gdead[j] || !(w[j] > 0))
-            continue;
-        for (i = 0; i < nrw; i++)
-            fm[i] += w[j] * rb->V[i + j * nrw];
+    const double W = sl_pfi_live_weight(rb->N, rb->gdead, w);
+    const double *src[SL_PFI_FMEAN_BLOCK];
+    size_t ld[SL_PFI_FMEAN_BLOCK], i, i0;
+    for (i0 = 0; i0 < nrw; i0 += SL_PFI_FMEAN_BLOCK) {
+        const size_t nb = nrw - i0 < SL_PFI_FMEAN_BLOCK ? nrw - i0 : SL_PFI_FMEAN_BLOCK;
+        for (i = 0; i < nb; i++) {
+            src[i] = rb->V + i0 + i;
+            ld[i] = nrw;
+        }
+        sl_pfi_live_means(rb->N, rb->gdead, w, W, nb, src, ld, fm + i0);
     }
-    for (i = 0; i < nrw; i++)
-        fm[i] = W > 0 ? fm[i] / W : (double)NAN;
 }
 
 /* This rank's rows' means and quantiles from V (as sl_pfi_summarise)
@@ -508,41 +503,59 @@ static sl_status exchange(const sl_pf_config *lc, const sl_pf_ranks *rk, ranks_b
     return SL_OK;
 }
 
-/* The cycle's local work gathered: fails on every rank when any rank
- * failed (the failing ranks with their own error, the others naming the
- * lowest failing rank). lst: this rank's status; the counts summed. */
-static sl_status gather_stats(const sl_pf_ranks *rk, ranks_buffers *rb, sl_status lst,
-                              const double *mine, double *sum, sl_error *err)
+/* Every rank learns whether any failed: each rank's row of `each`
+ * doubles, the first of them its failure flag (set here from lst),
+ * gathered into all (each x P; counts: P of scratch). Fails on every
+ * rank when any rank failed: the failing ranks with their own error
+ * (lerr), the others naming the lowest failing rank. */
+static sl_status any_rank_failed(const sl_pf_ranks *rk, sl_status lst, const sl_error *lerr,
+                                 double *row, size_t each, double *all, size_t *counts,
+                                 sl_error *err)
 {
     const int P = rk->size;
-    double row[ST_N];
-    sl_error cerr;
-    int r, i, first = -1;
+    sl_error gerr;
     sl_status st;
-    memcpy(row, mine, sizeof row);
-    row[ST_FAILED] = lst != SL_OK;
+    int r, first = -1;
+    row[0] = lst != SL_OK;
     for (r = 0; r < P; r++)
-        rb->counts[r] = sizeof row;
-    sl_error_clear(&cerr);
-    if ((st = rk->allgather(rk->ctx, row, rb->stats, rb->counts, &cerr)) != SL_OK) {
+        counts[r] = each * sizeof(double);
+    sl_error_clear(&gerr);
+    if ((st = rk->allgather(rk->ctx, row, all, counts, &gerr)) != SL_OK) {
         if (err != NULL)
-            *err = cerr;
-        return st;
+            *err = lst != SL_OK ? *lerr : gerr;
+        return lst != SL_OK ? lst : st;
     }
-    for (i = 0; i < ST_N; i++)
-        sum[i] = 0.0;
-    for (r = 0; r < P; r++) {
-        const double *x = rb->stats + (size_t)r * ST_N;
-        if (x[ST_FAILED] != 0 && first < 0)
+    for (r = 0; r < P && first < 0; r++)
+        if (all[(size_t)r * each] != 0)
             first = r;
-        for (i = 0; i < ST_N; i++)
-            sum[i] += x[i];
-    }
-    if (lst != SL_OK)
+    if (lst != SL_OK) {
+        if (err != NULL)
+            *err = *lerr;
         return lst;
+    }
     if (first >= 0)
         return sl_fail(err, SL_EMODEL, "rankfailed",
                        "rank %d of %d stopped the run (its own error says why)", first, P);
+    return SL_OK;
+}
+
+/* The cycle's local work gathered (any_rank_failed: lst this rank's
+ * status, lerr its error); the counts summed. */
+static sl_status gather_stats(const sl_pf_ranks *rk, ranks_buffers *rb, sl_status lst,
+                              const sl_error *lerr, const double *mine, double *sum,
+                              sl_error *err)
+{
+    double row[ST_N];
+    int r, i;
+    sl_status st;
+    memcpy(row, mine, sizeof row);
+    if ((st = any_rank_failed(rk, lst, lerr, row, ST_N, rb->stats, rb->counts, err)) != SL_OK)
+        return st;
+    for (i = 0; i < ST_N; i++)
+        sum[i] = 0.0;
+    for (r = 0; r < rk->size; r++)
+        for (i = 0; i < ST_N; i++)
+            sum[i] += rb->stats[(size_t)r * ST_N + (size_t)i];
     return SL_OK;
 }
 
@@ -664,16 +677,8 @@ sl_status sl_pf_run_ranks(const sl_pf_config *cfg, const sl_pf_ranks *rk, double
             sl_pfi_loglik_all(&lc, b, r0, m, &nskipped);
             mine[ST_SKIPPED] = (double)nskipped;
         }
-        {
-            sl_error gerr;
-            sl_error_clear(&gerr);
-            st = gather_stats(rk, &rb, lst, mine, sum, &gerr);
-            if (st != SL_OK) {
-                if (err != NULL)
-                    *err = lst != SL_OK ? lerr : gerr;
-                return st;
-            }
-        }
+        if ((st = gather_stats(rk, &rb, lst, &lerr, mine, sum, err)) != SL_OK)
+            return st;
         ndead = (size_t)sum[ST_DEAD];
         /* skipped rows are the missing values: the same on every rank */
         nskipped = (size_t)(sum[ST_SKIPPED] / (double)R);
@@ -818,40 +823,22 @@ sl_status sl_pfi_forecast_split(const sl_pf_config *cfg, pf_buffers *b, int cur,
     const size_t m0 = first_of(N, P, rk->rank), nr = first_of(N, P, rk->rank + 1) - m0;
     const int nt = b->nt;
     sl_pf_config lc = *cfg;
-    sl_error lerr, gerr;
+    sl_error lerr;
     sl_status lst, st;
     double failed;
-    int r, first = -1;
+    int r;
     lc.N = nr;
     lc.ranks = NULL;
     sl_error_clear(&lerr);
-    sl_error_clear(&gerr);
     b->m0 = m0;
     b->nt = nr >= SL_PFI_PAR_MIN_MEMBERS ? cfg->threads : 1;
     lst = sl_pfi_forecast(&lc, b, b->X[cur] + m0 * n, b->P[cur] + m0 * p, b->E[cur] + m0 * q,
                           b->U + m0 * q, t, k, k, s, fidx, NULL, cfg->seed, NULL, 0, 1, &lerr);
     b->m0 = 0;
     b->nt = nt;
-    /* every rank learns whether any failed */
-    failed = lst != SL_OK;
-    for (r = 0; r < P; r++)
-        b->rk_counts[r] = sizeof(double);
-    if ((st = rk->allgather(rk->ctx, &failed, b->rk_stats, b->rk_counts, &gerr)) != SL_OK) {
-        if (err != NULL)
-            *err = lst != SL_OK ? lerr : gerr;
-        return lst != SL_OK ? lst : st;
-    }
-    for (r = 0; r < P && first < 0; r++)
-        if (b->rk_stats[r] != 0)
-            first = r;
-    if (lst != SL_OK) {
-        if (err != NULL)
-            *err = lerr;
-        return lst;
-    }
-    if (first >= 0)
-        return sl_fail(err, SL_EMODEL, "rankfailed",
-                       "rank %d of %d stopped the run (its own error says why)", first, P);
+    if ((st = any_rank_failed(rk, lst, &lerr, &failed, 1, b->rk_stats, b->rk_counts, err)) !=
+        SL_OK)
+        return st;
     /* the forecasts of every rank, through the spare buffers */
     for (r = 0; r < P; r++)
         b->rk_counts[r] = (first_of(N, P, r + 1) - first_of(N, P, r)) * n * sizeof(double);

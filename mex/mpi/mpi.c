@@ -230,77 +230,107 @@ static size_t sum_counts(const size_t *c, int n)
     return t;
 }
 
+/* A core collective under way: which, when it began, its buffers of its
+ * own (coll_try: c the unit counts and displacements, of the send and,
+ * for the exchange, of the receive; sb the send, stotal bytes; rb the
+ * receive, rtotal bytes) and the unit of its counts. */
+enum { CORE_ALLGATHER, CORE_EXCHANGE };
+typedef struct {
+    int kind;
+    double t0;
+    int *c;
+    unsigned char *sb, *rb;
+    size_t stotal, rtotal;
+    MPI_Datatype type;
+} core_call;
+
+/* Its start and buffers taken (stotal and rtotal bytes); :nomemory when
+ * they cannot be had. */
+static sl_status core_begin(core_call *cc, int kind, size_t stotal, size_t rtotal,
+                            sl_error *err)
+{
+    const int n = world_size;
+    cc->kind = kind;
+    cc->t0 = slm_monotonic_seconds();
+    cc->stotal = stotal;
+    cc->rtotal = rtotal;
+    cc->c = (int *)coll_try((kind == CORE_EXCHANGE ? 4 : 2) * sizeof(int) * (size_t)n);
+    cc->sb = (unsigned char *)coll_try(stotal);
+    cc->rb = (unsigned char *)coll_try(rtotal);
+    if (cc->c == NULL || cc->sb == NULL || cc->rb == NULL) {
+        coll_done();
+        return sl_fail(err, SL_ENOMEM, "nomemory", "rank %d of %d: cannot allocate %.0f bytes "
+                       "for a collective", world_rank, n,
+                       (double)(kind == CORE_EXCHANGE ? stotal + rtotal : rtotal));
+    }
+    return SL_OK;
+}
+
+/* The tail both share (st: whether the counts fit): the send staged, the
+ * collective posted and polled, the result copied out to recv, the
+ * buffers freed and the call timed. */
+static sl_status core_end(core_call *cc, sl_status st, const void *send, void *recv,
+                          sl_error *err)
+{
+    static const char *const name[] = {"allgather", "exchange"};
+    static const char *const what[] = {"a particle filter's allgather",
+                                       "a particle filter's exchange of members"};
+    const int n = world_size, *c = cc->c;
+    MPI_Request req;
+    int rc;
+    if (st == SL_OK) {
+        memcpy(cc->sb, send, cc->stotal);
+        rc = cc->kind == CORE_ALLGATHER
+                 ? MPI_Iallgatherv(cc->sb, c[world_rank], cc->type, cc->rb, c, c + n, cc->type,
+                                   work, &req)
+                 : MPI_Ialltoallv(cc->sb, c, c + n, cc->type, cc->rb, c + 2 * n, c + 3 * n,
+                                  cc->type, work, &req);
+        st = rc != MPI_SUCCESS
+                 ? sl_fail(err, SL_EMODEL, "mpifailed", "rank %d of %d: %s failed "
+                           "(error code %d)", world_rank, n, name[cc->kind], rc)
+                 : wait_status(&req, what[cc->kind], err);
+        if (st == SL_OK)
+            memcpy(recv, cc->rb, cc->rtotal);
+    }
+    coll_done(); /* nothing, if the collective was left unfinished */
+    core_seconds += slm_monotonic_seconds() - cc->t0;
+    core_calls += 1.0;
+    return st;
+}
+
 static sl_status core_allgather(void *ctx, const void *send, void *recv, const size_t *counts,
                                 sl_error *err)
 {
     const int n = world_size;
-    const double t0 = slm_monotonic_seconds();
-    const size_t total = sum_counts(counts, n);
-    int *c = (int *)coll_try(2 * sizeof(int) * (size_t)n), rc;
-    unsigned char *sb = (unsigned char *)coll_try(counts[world_rank]),
-                  *rb = (unsigned char *)coll_try(total);
-    MPI_Datatype type;
-    MPI_Request req;
+    core_call cc;
     sl_status st;
+    int i;
     (void)ctx;
-    if (c == NULL || sb == NULL || rb == NULL) {
-        coll_done();
-        return sl_fail(err, SL_ENOMEM, "nomemory", "rank %d of %d: cannot allocate %.0f bytes "
-                       "for a collective", world_rank, n, (double)total);
-    }
-    st = unit_counts(counts, NULL, n, &type, c, c + n, NULL, NULL, err);
-    if (st == SL_OK) {
-        int i;
+    if ((st = core_begin(&cc, CORE_ALLGATHER, counts[world_rank], sum_counts(counts, n),
+                         err)) != SL_OK)
+        return st;
+    st = unit_counts(counts, NULL, n, &cc.type, cc.c, cc.c + n, NULL, NULL, err);
+    if (st == SL_OK)
         for (i = 0; i < n; i++)
             core_bytes += i == world_rank ? 0.0 : (double)counts[i];
-        memcpy(sb, send, counts[world_rank]);
-        rc = MPI_Iallgatherv(sb, c[world_rank], type, rb, c, c + n, type, work, &req);
-        st = rc != MPI_SUCCESS
-                 ? sl_fail(err, SL_EMODEL, "mpifailed", "rank %d of %d: allgather failed "
-                                                          "(error code %d)", world_rank, n, rc)
-                 : wait_status(&req, "a particle filter's allgather", err);
-        if (st == SL_OK)
-            memcpy(recv, rb, total);
-    }
-    coll_done(); /* nothing, if the collective was left unfinished */
-    core_seconds += slm_monotonic_seconds() - t0;
-    core_calls += 1.0;
-    return st;
+    return core_end(&cc, st, send, recv, err);
 }
 
 static sl_status core_exchange(void *ctx, const void *send, const size_t *scounts, void *recv,
                                const size_t *rcounts, sl_error *err)
 {
     const int n = world_size;
-    const double t0 = slm_monotonic_seconds();
-    const size_t stotal = sum_counts(scounts, n), rtotal = sum_counts(rcounts, n);
-    int *c = (int *)coll_try(4 * sizeof(int) * (size_t)n), rc;
-    unsigned char *sb = (unsigned char *)coll_try(stotal), *rb = (unsigned char *)coll_try(rtotal);
-    MPI_Datatype type;
-    MPI_Request req;
+    core_call cc;
     sl_status st;
     (void)ctx;
-    if (c == NULL || sb == NULL || rb == NULL) {
-        coll_done();
-        return sl_fail(err, SL_ENOMEM, "nomemory", "rank %d of %d: cannot allocate %.0f bytes "
-                       "for a collective", world_rank, n, (double)(stotal + rtotal));
-    }
-    st = unit_counts(scounts, rcounts, n, &type, c, c + n, c + 2 * n, c + 3 * n, err);
-    if (st == SL_OK) {
-        core_bytes += (double)rtotal;
-        memcpy(sb, send, stotal);
-        rc = MPI_Ialltoallv(sb, c, c + n, type, rb, c + 2 * n, c + 3 * n, type, work, &req);
-        st = rc != MPI_SUCCESS
-                 ? sl_fail(err, SL_EMODEL, "mpifailed", "rank %d of %d: exchange failed "
-                                                          "(error code %d)", world_rank, n, rc)
-                 : wait_status(&req, "a particle filter's exchange of members", err);
-        if (st == SL_OK)
-            memcpy(recv, rb, rtotal);
-    }
-    coll_done(); /* nothing, if the collective was left unfinished */
-    core_seconds += slm_monotonic_seconds() - t0;
-    core_calls += 1.0;
-    return st;
+    if ((st = core_begin(&cc, CORE_EXCHANGE, sum_counts(scounts, n), sum_counts(rcounts, n),
+                         err)) != SL_OK)
+        return st;
+    st = unit_counts(scounts, rcounts, n, &cc.type, cc.c, cc.c + n, cc.c + 2 * n, cc.c + 3 * n,
+                     err);
+    if (st == SL_OK)
+        core_bytes += (double)cc.rtotal;
+    return core_end(&cc, st, send, recv, err);
 }
 
 /* For the particle filter's gateway, which finds it by name (this
