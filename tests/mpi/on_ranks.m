@@ -328,6 +328,37 @@ try
              && isequaln (rmfield (x, {'ranks', 'options'}), rmfield (y, {'ranks', 'options'}));
       end
       say (ok, sprintf (': %s, %s', ids{:}));
+    case 'kalmanrows'
+      % a wide model (Lorenz-96, 160 states): the ensemble Kalman analyses
+      % share their rows (the LETKF its grid points) out across the ranks
+      % as well as the forecasts; every output is the one-process run's
+      lspec = sluice.model ('lorenz96', 'n', 160);
+      T = 8;
+      t = repmat (0.05 * (1:T), 40, 1);
+      names = repmat (lspec.states(4:4:160)', 1, T);
+      y = 8 + sin ((1:40 * T)' / 7);
+      lobs = struct ('time', t(:), 'variable', {names(:)}, 'value', y, 'sigma', ones (40 * T, 1));
+      args = {};
+      for i = 1:160
+        args = [args, {lspec.states{i}, 'normal', [8 + sin(i / 9), 2]}];
+      end
+      lpr = sluice.prior (args{:});
+      loc = struct ('geometry', 'ring', 'period', 160, 'radius', 6);
+      calls = {{'method', 'letkf', 'members', 20, 'localization', loc, 'inflation', 1.02}, ...
+               {'method', 'etkf', 'members', 30, 'inflation', 1.01}, ...
+               {'method', 'enkf', 'members', 30, 'localization', loc, 'rtps', 0.3}};
+      ok = true;
+      why = '';
+      for k = 1:numel (calls)
+        o = [calls{k}, {'seed', 5, 't0', 0, 'progress', false, 'threads', 1}];
+        x = sluice.filter (lspec, lpr, lobs, o{:}, 'mpi', true);
+        z = sluice.filter (lspec, lpr, lobs, o{:});
+        same = x.ranks == str2double (getenv ('OMPI_COMM_WORLD_SIZE')) && z.ranks == 1 ...
+               && isequaln (rmfield (x, {'ranks', 'options'}), rmfield (z, {'ranks', 'options'}));
+        ok = ok && same;
+        why = [why sprintf(' %s %d', calls{k}{2}, same)];
+      end
+      say (ok, [':' why]);
     case 'pfmismatch'
       % a different seed on each rank: the same error on every rank
       try

@@ -185,7 +185,7 @@ else
   for np in 2 4; do
     for kase in gateway equal idle resume mismatch pointfails badfile rankleft \
                 chains chaincheckpoint chainfails chainmismatch \
-                pfequal pfkalman pffails pfsplit pfmismatch; do
+                pfequal pfkalman pffails pfsplit pfmismatch kalmanrows; do
       if [ $((SECONDS - mpistart)) -ge "$budget" ]; then
         fail "mpi $kase, $np ranks: not run, the distributed cases' $budget s are spent"; continue
       fi
@@ -222,7 +222,8 @@ else
         grep -q 'rank 1 stops before the sweep' "$d/log" && ok \
           || fail "mpi rankleft, $np ranks: rank 1's own error is not in the output"
       elif [ $kase = equal ] || [ $kase = idle ] || [ $kase = resume ] || [ $kase = chains ] \
-           || [ $kase = chaincheckpoint ] || [ $kase = pfequal ] || [ $kase = pfkalman ]; then
+           || [ $kase = chaincheckpoint ] || [ $kase = pfequal ] || [ $kase = pfkalman ] \
+           || [ $kase = kalmanrows ]; then
         [ $rc -eq 0 ] && ok || { fail "mpi $kase, $np ranks: exit $rc"; tail -n 20 "$d/log"; }
       fi
     done
