@@ -229,6 +229,15 @@ function R = prepare (model, prior, obs, opts, fn)
                                   double (c.param_move), c.history, c.ranks));
   end
 
+  % the head of the result: the fields the settings alone decide. The
+  % gateway lays out the result with it (settings field result), but for
+  % a weakly coupled run, whose result execute assembles from the
+  % recorded arrays
+  head = result_head (model, c, opts);
+  if (~isfield (c, 'comp'))
+    c.result = struct ('head', head, 'derived_names', {ops.names(:)'}, 'lag', opts.lag);
+  end
+
   % what execute needs, and what a prepared run needs to run again
   R = struct ();
   R.version = 1;
@@ -246,7 +255,7 @@ function R = prepare (model, prior, obs, opts, fn)
   R.cyc = cyc;
   % what every run of these settings shares: the head of the result and
   % the calibration check's grouping of the observation rows
-  R.head = result_head (model, c, opts);
+  R.head = head;
   % (isfield on settings of many fields costs as much as a copy of them:
   % what a run asks of their layout is asked here once)
   R.split = isfield (c, 'ranks');
@@ -315,7 +324,6 @@ function res = execute (R)
   c = R.c;
   opts = R.opts;
   model = R.model;
-  n = numel (model.states);
   times = c.times;
   P0 = c.P0;
   lower = c.lower;
@@ -328,7 +336,64 @@ function res = execute (R)
   end
   r = sluice.internal.run_engine (model, c);
   pf = strcmp (opts.method, 'pf');   % the particle filter (not the WEnKF)
+  if (isfield (r, 'states'))
+    % laid out by the gateway (settings field result) but for two fields
+    res = r;
+    res.skipped_total = sum (r.skipped);
+    res.options = opts;
+  else
+    res = assemble (R, r, c, opts, model, pf);
+  end
+  % the forecasts' calibration first: the warnings after it say what may
+  % have caused a miscalibration (a bound, collapse, a low ESS)
+  warn_calibration (res.pit, c.obs_var, R.calib, c.members);
+  if (any (res.degenerate))
+    k = find (res.degenerate, 1);
+    warning ('sluice:filter:degenerate', ...
+             ['no member could explain the observations at %d cycle(s), ', ...
+              'first at t = %g: the weights were kept there and the log-evidence is -Inf'], ...
+             sum (res.degenerate), times(k));
+  end
+  if (any (res.nonfinite > 0))
+    k = find (res.nonfinite > 0, 1);
+    warning ('sluice:filter:nonfinite', ...
+             ['%d member(s) reached a non-finite state (first at t = %g); ', ...
+              'they were given zero weight'], max (res.nonfinite), times(k));
+  end
+  if (pf && ~opts.wenkf && any (res.nanpredicted > 0))
+    k = find (res.nanpredicted > 0, 1);
+    warning ('sluice:filter:nanprediction', ...
+             ['%d member(s) with a finite state got a NaN predicted observation ', ...
+              '(an operator''s value) at %d cycle(s), first at t = %g; they were ', ...
+              'given zero weight: check the operator for states outside its domain'], ...
+             max (res.nanpredicted), sum (res.nanpredicted > 0), times(k));
+  end
+  % the general caveat first, the specific diagnostics after it
+  % the default move on noisy paths is the kernel move, whose parameter
+  % bands are approximate: say so once, with the way to exact ones
+  est = lower < upper & any (P0 ~= P0(:, 1), 2);
+  if (pf && strcmp (opts.param_move, 'auto') && ...
+      strcmp (res.param_move, 'kernel') && any (est) && ~isempty (cyc))
+    warning ('sluice:filter:approxparams', ...
+             ['the paths hold noise (forcing, state or model noise), so the default ', ...
+              'kernel move estimated the parameters (%s): their bands are approximate ', ...
+              '(too narrow, or off, on long precise records). For better bands use ', ...
+              'param_move ''resample_move'' (slower), for exact ones ''smc2'' (slowest), ', ...
+              'or check against sluice.pmmh'], ...
+             strjoin (res.param_names(est), ', '));
+  end
+  % (only when a warning is possible: an estimated parameter, or weights
+  % whose ESS fell low, or a fixed-lag smoother)
+  if (any (est) || ((pf || opts.wenkf) && (any (res.ess < L.lowess_ess) || any (opts.lag > 0))))
+    warn_diversity (res, P0, lower, upper, R.obs_value, cyc, est);
+  end
+end
 
+function res = assemble (R, r, c, opts, model, pf)
+  % the result from the recorded arrays r of the gateway, for settings
+  % without the field result (a weakly coupled run, or a user's gateway
+  % built before the gateway laid the result out)
+  n = numel (model.states);
   res = R.head;
   res.seed = opts.seed;
   res.states = struct ('mean', r.mean(1:n, :), 'quantiles', r.quantiles(1:n, :, :));
@@ -392,49 +457,6 @@ function res = execute (R)
     res = sluice.internal.coupling_results (res, r, c, model);
   end
   res.options = opts;
-  % the forecasts' calibration first: the warnings after it say what may
-  % have caused a miscalibration (a bound, collapse, a low ESS)
-  warn_calibration (res.pit, c.obs_var, R.calib, c.members);
-  if (any (res.degenerate))
-    k = find (res.degenerate, 1);
-    warning ('sluice:filter:degenerate', ...
-             ['no member could explain the observations at %d cycle(s), ', ...
-              'first at t = %g: the weights were kept there and the log-evidence is -Inf'], ...
-             sum (res.degenerate), times(k));
-  end
-  if (any (res.nonfinite > 0))
-    k = find (res.nonfinite > 0, 1);
-    warning ('sluice:filter:nonfinite', ...
-             ['%d member(s) reached a non-finite state (first at t = %g); ', ...
-              'they were given zero weight'], max (res.nonfinite), times(k));
-  end
-  if (pf && ~opts.wenkf && any (res.nanpredicted > 0))
-    k = find (res.nanpredicted > 0, 1);
-    warning ('sluice:filter:nanprediction', ...
-             ['%d member(s) with a finite state got a NaN predicted observation ', ...
-              '(an operator''s value) at %d cycle(s), first at t = %g; they were ', ...
-              'given zero weight: check the operator for states outside its domain'], ...
-             max (res.nanpredicted), sum (res.nanpredicted > 0), times(k));
-  end
-  % the general caveat first, the specific diagnostics after it
-  % the default move on noisy paths is the kernel move, whose parameter
-  % bands are approximate: say so once, with the way to exact ones
-  est = lower < upper & any (P0 ~= P0(:, 1), 2);
-  if (pf && strcmp (opts.param_move, 'auto') && ...
-      strcmp (res.param_move, 'kernel') && any (est) && ~isempty (cyc))
-    warning ('sluice:filter:approxparams', ...
-             ['the paths hold noise (forcing, state or model noise), so the default ', ...
-              'kernel move estimated the parameters (%s): their bands are approximate ', ...
-              '(too narrow, or off, on long precise records). For better bands use ', ...
-              'param_move ''resample_move'' (slower), for exact ones ''smc2'' (slowest), ', ...
-              'or check against sluice.pmmh'], ...
-             strjoin (res.param_names(est), ', '));
-  end
-  % (only when a warning is possible: an estimated parameter, or weights
-  % whose ESS fell low, or a fixed-lag smoother)
-  if (any (est) || ((pf || opts.wenkf) && (any (res.ess < L.lowess_ess) || any (opts.lag > 0))))
-    warn_diversity (res, P0, lower, upper, R.obs_value, cyc, est);
-  end
 end
 
 function run = prepared_view (R)
