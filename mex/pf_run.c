@@ -20,6 +20,7 @@
 #include "sluice/loglik.h"
 #include "sluice/model.h"
 #include "sluice/pf.h"
+#include "sluice/prior.h"
 #include "sluice/resample.h"
 
 /* The largest index a decoder converts: 2^53, below which every whole
@@ -1212,6 +1213,94 @@ static mxArray *filter_result(const run_settings *s, mxArray *raw)
     return res;
 }
 
+/* Rows of the initial ensemble a plan fills from its prior entries:
+ * plan.<rows_name> (1-based rows of a rows x N array) paired with
+ * plan.<entries_name> (1-based entries of the k drawn). */
+static void scatter_draws(const run_settings *s, const mxArray *plan, const char *rows_name,
+                          const char *entries_name, size_t rows, size_t k, const double *D,
+                          double *X)
+{
+    const mxArray *ra = slm_field(s->fn, plan, rows_name, 1);
+    size_t m = mxGetNumberOfElements(ra), i, j;
+    const double *r = m ? slm_matrix(s->fn, ra, 1, rows_name, 0, 0, SLM_VECTOR) : NULL;
+    const double *e = m ? slm_matrix(s->fn, slm_field(s->fn, plan, entries_name, 1), 1,
+                                     entries_name, m, 0, SLM_VECTOR)
+                        : NULL;
+    for (i = 0; i < m; i++) {
+        size_t ri, ei;
+        if (!(r[i] >= 1 && r[i] <= (double)rows) || r[i] != floor(r[i]) ||
+            !(e[i] >= 1 && e[i] <= (double)k) || e[i] != floor(e[i]))
+            slm_fail(s->fn, "badsettings", "draw.%s / draw.%s %lu: no such row or entry",
+                     rows_name, entries_name, (unsigned long)(i + 1));
+        ri = (size_t)r[i] - 1;
+        ei = (size_t)e[i] - 1;
+        for (j = 0; j < s->N; j++)
+            X[ri + j * rows] = D[ei + j * k];
+    }
+}
+
+/* A column repeated N times as a rows x N array (rows: the plan's
+ * column `name`). */
+static mxArray *columns(const run_settings *s, const mxArray *plan, const char *name,
+                        size_t rows)
+{
+    mxArray *a = slm_create(s->fn, rows, s->N);
+    double *x = mxGetDoubles(a);
+    size_t j;
+    if (rows) {
+        const double *v = slm_matrix(s->fn, slm_field(s->fn, plan, name, 1), 1, name, rows,
+                                     0, SLM_VECTOR | SLM_ALLOW_NAN | SLM_ALLOW_INF);
+        for (j = 0; j < s->N; j++)
+            memcpy(x + j * rows, v, rows * sizeof(double));
+    }
+    return a;
+}
+
+/* The initial ensemble: copies of the settings' X0 and P0, or with the
+ * settings field draw (a prepared run of sluice.filter run with another
+ * seed) the members of the seed drawn here from the prior plan, the
+ * same numbers in the same order as sluice.kernel.draw gives them (and
+ * then checked as X0 and P0 are): plan.x0 and plan.def fill every
+ * member, then the prior entries (ids, a, b, lo, hi) are drawn and
+ * their rows set. */
+static void initial_members(const run_settings *s, mxArray **xa, mxArray **pa)
+{
+    const mxArray *plan = slm_field(s->fn, s->c, "draw", 0);
+    const mxArray *args[5];
+    const sl_prior_entry *prior;
+    size_t k;
+    double *D;
+    sl_error err;
+    if (plan == NULL) {
+        *xa = initial(s, "X0", s->n, 0);
+        *pa = initial(s, "P0", s->p, SLM_ALLOW_INF);
+        return;
+    }
+    if (!mxIsStruct(plan) || mxGetNumberOfElements(plan) != 1)
+        slm_fail(s->fn, "badsettings", "draw: expected the prior plan of a prepared run");
+    *xa = columns(s, plan, "x0", s->n);
+    *pa = columns(s, plan, "def", s->p);
+    args[0] = slm_field(s->fn, plan, "ids", 1);
+    args[1] = slm_field(s->fn, plan, "a", 1);
+    args[2] = slm_field(s->fn, plan, "b", 1);
+    args[3] = slm_field(s->fn, plan, "lo", 1);
+    args[4] = slm_field(s->fn, plan, "hi", 1);
+    if (mxGetNumberOfElements(args[0]) > 0) {
+        prior = slm_prior(s->fn, args, 1, &k);
+        D = (double *)slm_alloc(s->fn, k * s->N, sizeof(double));
+        sl_error_clear(&err);
+        if (sl_prior_draw(k, prior, s->N, s->cfg.seed, 0, D, &err) != SL_OK)
+            slm_raise(s->fn, &err);
+        scatter_draws(s, plan, "state_rows", "state_entries", s->n, k, D, mxGetDoubles(*xa));
+        scatter_draws(s, plan, "param_rows", "param_entries", s->p, k, D, mxGetDoubles(*pa));
+        mxFree(D);
+    }
+    /* the checks a given X0 and P0 get */
+    slm_matrix(s->fn, *xa, 1, "X0", s->n, s->N, 0);
+    if (s->p)
+        slm_matrix(s->fn, *pa, 1, "P0", s->p, s->N, SLM_ALLOW_INF);
+}
+
 /* ------------------------------------------------------- memory check */
 
 /* Runs below this many bytes are not checked (memory () costs a few ms a
@@ -1435,8 +1524,7 @@ void mexFunction(int nlhs, mxArray *plhs[], int nrhs, const mxArray *prhs[])
     ranks = decode_ranks(&s, &rk);
     decode_result(&s);
 
-    xa = initial(&s, "X0", s.n, 0);
-    pa = initial(&s, "P0", s.p, SLM_ALLOW_INF);
+    initial_members(&s, &xa, &pa);
     if (ranks == 2 && sl_pf_ranks_check(&s.cfg, rk.size, &err) != SL_OK &&
         (strcmp(err.reason, "ranksunsupported") == 0 || strcmp(err.reason, "ranksempty") == 0))
         ranks = 0; /* a run the core cannot split: each rank runs it whole */

@@ -546,9 +546,15 @@ function res = run_prepared (run, args, fn)
     end
   end
   if (seed ~= c.seed || redraw)
-    [c.X0, c.P0] = draw_members (R.plan, c.members, seed, numel (R.model.states), fn);
     if (any (c.lower < c.upper))
-      check_spread (R.model, c.P0, c.lower, c.upper, R.opts, fn);   % else nothing to check
+      [c.X0, c.P0] = draw_members (R.plan, c.members, seed, numel (R.model.states), fn);
+      check_spread (R.model, c.P0, c.lower, c.upper, R.opts, fn);
+    else
+      % no parameter can move: neither the spread check nor the warnings
+      % read the initial members (their X0 and P0 stay the prepared
+      % ones), so the gateway draws them from the plan (settings field
+      % draw), the numbers draw_members would draw
+      c.draw = R.plan;
     end
   end
   c.seed = seed;
