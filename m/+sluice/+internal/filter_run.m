@@ -240,7 +240,7 @@ function R = prepare (model, prior, obs, opts, fn)
 
   % what execute needs, and what a prepared run needs to run again
   R = struct ();
-  R.version = 1;
+  R.version = 2;
   R.fn = fn;
   R.model = model;
   R.opts = opts;
@@ -260,6 +260,11 @@ function R = prepare (model, prior, obs, opts, fn)
   % what a run asks of their layout is asked here once)
   R.split = isfield (c, 'ranks');
   R.coupled = isfield (c, 'comp');
+  % the gateway lays out the result: sluice.kernel.pf_run always (a
+  % user's gateway built before it did returns the recorded arrays)
+  R.laid_out = isfield (c, 'result') && ~strcmp (model.kind, 'user') && ...
+               ~(strcmp (model.kind, 'composed') && isfield (model, 'engine') && ...
+                 ~isempty (model.engine));
   R.calib = calibration_groups (c, [model.states(:); model.params(:); ops.names(:)]);
 end
 
@@ -313,6 +318,15 @@ function g = calibration_groups (c, names)
   f = c.obs_family(:);
   g.counted = strcmp (f, 'poisson') | strcmp (f, 'binomial') | strcmp (f, 'censored');
   g.names = names;
+  % what the candidate test of warn_calibration takes from the limits and
+  % the members, once: the two tails, the share outside them but for the
+  % counts' part, the factor of the test
+  L = sluice.internal.diversity_limits ();
+  N = c.members;
+  g.taus = [L.calib_tail, L.calib_far_tail];
+  g.p0 = 2 * g.taus + (g.taus < L.calib_tail) * 2 / (N + 1);
+  g.bar = 0.999 * L.calib_factor;
+  g.min = L.calib_min;
 end
 
 function res = execute (R)
@@ -336,7 +350,7 @@ function res = execute (R)
   end
   r = sluice.internal.run_engine (model, c);
   pf = strcmp (opts.method, 'pf');   % the particle filter (not the WEnKF)
-  if (isfield (r, 'states'))
+  if (R.laid_out || (~R.coupled && isfield (r, 'states')))
     % laid out by the gateway (settings field result) but for two fields
     res = r;
     res.skipped_total = sum (r.skipped);
@@ -479,27 +493,25 @@ function run = prepared_view (R)
   run.engine = R;
 end
 
-function R = prepared_engine (run, fn)
-  % the prepared settings of a prepared run, or the error
-  % sluice:<fn>:badrun for anything else
-  need = {'version', 'fn', 'model', 'opts', 'seed_given', 'c', 'ops_names', 'plan', ...
-          'param_step', 'obs_value', 'obs_sigma', 'obs_counted', 'cyc', 'head', 'calib', ...
-          'split', 'coupled'};
+function res = run_prepared (run, args, fn)
+  % run a prepared run again: options seed, params, values; nothing
+  % checked when it was prepared is checked again. Its prepared settings
+  % (run.engine), or the error sluice:<fn>:badrun for anything else
+  persistent need
+  if (isempty (need))
+    need = {'version', 'fn', 'model', 'opts', 'seed_given', 'c', 'ops_names', 'plan', ...
+            'param_step', 'obs_value', 'obs_sigma', 'obs_counted', 'cyc', 'head', 'calib', ...
+            'split', 'coupled', 'laid_out'};
+  end
   if (~(isstruct (run) && isscalar (run) && isfield (run, 'prepared_for') && ...
         strcmp (run.prepared_for, 'sluice.filter') && isfield (run, 'engine') && ...
         isstruct (run.engine) && isscalar (run.engine) && all (isfield (run.engine, need)) && ...
-        isnumeric (run.engine.version) && isscalar (run.engine.version) && run.engine.version == 1))
+        isnumeric (run.engine.version) && isscalar (run.engine.version) && run.engine.version == 2))
     error (['sluice:' fn ':badrun'], ...
            ['argument 1 (run): expected a prepared run of sluice.filter (option ''prepare'') ', ...
             'as it was returned, got %s'], sluice.internal.describe (run));
   end
   R = run.engine;
-end
-
-function res = run_prepared (run, args, fn)
-  % run a prepared run again: options seed, params, values; nothing
-  % checked when it was prepared is checked again
-  R = prepared_engine (run, fn);
   if (numel (args) == 1 && isstruct (args{1}))
     args = sluice.internal.option_pairs (args);
   end
@@ -796,25 +808,27 @@ function warn_calibration (pit, var, g, N)
   % outside is overconfidence: bands too narrow for the data they meet.
   % Thresholds in sluice.internal.diversity_limits; g: the rows by
   % variable (calibration_groups).
-  persistent L
-  if (isempty (L))
-    L = sluice.internal.diversity_limits ();   % constants
-  end
   if (isempty (pit))
     return;
   end
   % the counts of every variable at once: the few variables that may be
   % miscalibrated (a candidate test a little looser than the one below)
   % are looked at one by one
-  ok = isfinite (pit(:));
-  taus = [L.calib_tail, L.calib_far_tail];
   x = pit(:);
+  ok = isfinite (x);
+  taus = g.taus;
   sums = g.S * double ([ok, ok & (x < taus(1) | x > 1 - taus(1)), ...
                         ok & (x < taus(2) | x > 1 - taus(2)), ok & g.counted]);
-  nv = sums(:, 1);
   out = sums(:, 2:3);
-  p0 = 2 * taus + (taus < L.calib_tail) * 2 / (N + 1) + (sums(:, 4) > 0) * (2 * taus);
-  cand = nv >= L.calib_min & any (out > 0 & out >= 0.999 * L.calib_factor * p0 .* nv, 2);
+  cand = sums(:, 1) >= g.min & ...
+         any (out > 0 & out >= g.bar * (g.p0 + (sums(:, 4) > 0) * (2 * taus)) .* sums(:, 1), 2);
+  if (~any (cand))
+    return;
+  end
+  persistent L
+  if (isempty (L))
+    L = sluice.internal.diversity_limits ();   % constants
+  end
   for v = g.vars(cand)'
     rows = ok & var(:) == v;
     n = sum (rows);
