@@ -218,15 +218,13 @@ function R = prepare (model, prior, obs, opts, fn)
     if (world.rank > 0)
       c.progress = 0;
     end
-    v = double (c.obs_value(:));
-    v = v(~isnan (v));
     sluice.internal.mpi ('same', fn, ...
                          'runs (members, seed, times, observations or options)', ...
-                         sprintf ('%.17g|', N, opts.seed, numel (times), sum (times), ...
-                                  sum (times .^ 2), numel (c.obs_value), sum (v), ...
-                                  sum (v .^ 2), c.obs_var(:)' * (1:numel (c.obs_var))', ...
-                                  n, p, q, c.lag, c.threshold, double (c.method), ...
-                                  double (c.param_move), c.history, c.ranks));
+                         fingerprint ([N, opts.seed, numel(times), sum(times), sum(times .^ 2), ...
+                                       numel(c.obs_value)], c.obs_value, ...
+                                      [c.obs_var(:)' * (1:numel (c.obs_var))', n, p, q, c.lag, ...
+                                       c.threshold, double(c.method), double(c.param_move), ...
+                                       c.history, c.ranks]));
   end
 
   % the head of the result: the fields the settings alone decide. The
@@ -574,13 +572,25 @@ function res = run_prepared (run, args, fn)
   R.c = c;
   if (split)
     % split across the ranks: every rank must run the same
-    v = double (c.obs_value(:));
-    v = v(~isnan (v));
     sluice.internal.mpi ('same', fn, 'runs of a prepared run (seed, params or values)', ...
-                         sprintf ('%.17g|', seed, numel (v), sum (v), sum (v .^ 2), ...
-                                  sum (c.P0(:)), sum (c.P0(:) .^ 2)));
+                         fingerprint (seed, c.obs_value, [sum(c.P0(:)), sum(c.P0(:) .^ 2)], true));
   end
   res = execute (R);
+end
+
+function s = fingerprint (before, y, after, with_count)
+  % what sluice.internal.mpi ('same', ...) compares across the ranks, as
+  % text: the numbers before, the sum and the sum of squares of the
+  % observation values y given (NaN: missing; with_count, their count
+  % first), the numbers after
+  v = double (y(:));
+  v = v(~isnan (v));
+  if (nargin > 3 && with_count)
+    sums = [numel(v), sum(v), sum(v .^ 2)];
+  else
+    sums = [sum(v), sum(v .^ 2)];
+  end
+  s = sprintf ('%.17g|', before, sums, after);
 end
 
 function [R, c] = set_params (R, c, v, fn)
