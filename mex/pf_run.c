@@ -1,7 +1,8 @@
 /* pf_run.c - gateway: sluice.kernel.pf_run(cfg) runs the particle filter.
  * cfg is the settings struct sluice.internal.model_config builds and its
  * caller completes (DEVELOPERS.md, "A run's settings"); the result is a
- * struct of the recorded arrays. Errors are sluice:<cfg.caller>:<reason>.
+ * struct of the recorded arrays, or with the settings field result the
+ * result as sluice.filter returns it. Errors are sluice:<cfg.caller>:<reason>.
  *
  * Each section of the settings has its own decoder, which checks class
  * and size and points the core's configuration at the data; the core

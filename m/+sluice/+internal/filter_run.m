@@ -336,12 +336,6 @@ function res = execute (R)
   c = R.c;
   opts = R.opts;
   model = R.model;
-  times = c.times;
-  P0 = c.P0;
-  lower = c.lower;
-  upper = c.upper;
-  cyc = R.cyc;
-
   if (R.split && sluice.internal.mpi ('held'))
     % a prepared run executed inside work already dealt across the ranks
     c = rmfield (c, 'ranks');
@@ -364,13 +358,13 @@ function res = execute (R)
     warning ('sluice:filter:degenerate', ...
              ['no member could explain the observations at %d cycle(s), ', ...
               'first at t = %g: the weights were kept there and the log-evidence is -Inf'], ...
-             sum (res.degenerate), times(k));
+             sum (res.degenerate), c.times(k));
   end
   if (any (res.nonfinite > 0))
     k = find (res.nonfinite > 0, 1);
     warning ('sluice:filter:nonfinite', ...
              ['%d member(s) reached a non-finite state (first at t = %g); ', ...
-              'they were given zero weight'], max (res.nonfinite), times(k));
+              'they were given zero weight'], max (res.nonfinite), c.times(k));
   end
   if (pf && ~opts.wenkf && any (res.nanpredicted > 0))
     k = find (res.nanpredicted > 0, 1);
@@ -378,14 +372,14 @@ function res = execute (R)
              ['%d member(s) with a finite state got a NaN predicted observation ', ...
               '(an operator''s value) at %d cycle(s), first at t = %g; they were ', ...
               'given zero weight: check the operator for states outside its domain'], ...
-             max (res.nanpredicted), sum (res.nanpredicted > 0), times(k));
+             max (res.nanpredicted), sum (res.nanpredicted > 0), c.times(k));
   end
   % the general caveat first, the specific diagnostics after it
   % the default move on noisy paths is the kernel move, whose parameter
   % bands are approximate: say so once, with the way to exact ones
-  est = lower < upper & any (P0 ~= P0(:, 1), 2);
+  est = c.lower < c.upper & any (c.P0 ~= c.P0(:, 1), 2);
   if (pf && strcmp (opts.param_move, 'auto') && ...
-      strcmp (res.param_move, 'kernel') && any (est) && ~isempty (cyc))
+      strcmp (res.param_move, 'kernel') && any (est) && ~isempty (R.cyc))
     warning ('sluice:filter:approxparams', ...
              ['the paths hold noise (forcing, state or model noise), so the default ', ...
               'kernel move estimated the parameters (%s): their bands are approximate ', ...
@@ -397,7 +391,7 @@ function res = execute (R)
   % (only when a warning is possible: an estimated parameter, or weights
   % whose ESS fell low, or a fixed-lag smoother)
   if (any (est) || ((pf || opts.wenkf) && (any (res.ess < L.lowess_ess) || any (opts.lag > 0))))
-    warn_diversity (res, P0, lower, upper, R.obs_value, cyc, est);
+    warn_diversity (res, c.P0, c.lower, c.upper, R.obs_value, R.cyc, est);
   end
 end
 
@@ -510,15 +504,19 @@ function res = run_prepared (run, args, fn)
             'as it was returned, got %s'], sluice.internal.describe (run));
   end
   R = run.engine;
-  if (numel (args) == 1 && isstruct (args{1}))
+  c = R.c;
+  seed = [];
+  redraw = false;
+  if (numel (args) == 2 && strcmp (args{1}, 'seed'))
+    % the common call, a seed alone
+    seed = whole (args{2}, 'seed', 0, 2^53, fn);
+    args = {};
+  elseif (numel (args) == 1 && isstruct (args{1}))
     args = sluice.internal.option_pairs (args);
   end
   if (mod (numel (args), 2) ~= 0)
     error (['sluice:' fn ':badoption'], 'options must be a struct or name, value pairs');
   end
-  c = R.c;
-  seed = [];
-  redraw = false;
   for k = 1:2:numel (args)
     name = args{k};
     v = args{k + 1};
