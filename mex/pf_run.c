@@ -1257,13 +1257,13 @@ static mxArray *columns(const run_settings *s, const mxArray *plan, const char *
     return a;
 }
 
-/* The initial ensemble: copies of the settings' X0 and P0, or with the
- * settings field draw (a prepared run of sluice.filter run with another
- * seed) the members of the seed drawn here from the prior plan, the
- * same numbers in the same order as sluice.kernel.draw gives them (and
- * then checked as X0 and P0 are): plan.x0 and plan.def fill every
- * member, then the prior entries (ids, a, b, lo, hi) are drawn and
- * their rows set. */
+/* The initial ensemble: copies of the settings' X0 and P0 (settings
+ * field draw absent or empty), or with the field draw (a prepared run
+ * of sluice.filter run with another seed) the members of the seed drawn
+ * here from the prior plan, the same numbers in the same order as
+ * sluice.kernel.draw gives them (and then checked as X0 and P0 are):
+ * plan.x0 and plan.def fill every member, then the prior entries (ids,
+ * a, b, lo, hi) are drawn and their rows set. */
 static void initial_members(const run_settings *s, mxArray **xa, mxArray **pa)
 {
     const mxArray *plan = slm_field(s->fn, s->c, "draw", 0);
@@ -1272,7 +1272,7 @@ static void initial_members(const run_settings *s, mxArray **xa, mxArray **pa)
     size_t k;
     double *D;
     sl_error err;
-    if (plan == NULL) {
+    if (plan == NULL || mxIsEmpty(plan)) {
         *xa = initial(s, "X0", s->n, 0);
         *pa = initial(s, "P0", s->p, SLM_ALLOW_INF);
         return;

@@ -260,9 +260,17 @@ function R = prepare (model, prior, obs, opts, fn)
   R.coupled = isfield (c, 'comp');
   % the gateway lays out the result: sluice.kernel.pf_run always (a
   % user's gateway built before it did returns the recorded arrays)
-  R.laid_out = isfield (c, 'result') && ~strcmp (model.kind, 'user') && ...
-               ~(strcmp (model.kind, 'composed') && isfield (model, 'engine') && ...
-                 ~isempty (model.engine));
+  shared = ~strcmp (model.kind, 'user') && ...
+           ~(strcmp (model.kind, 'composed') && isfield (model, 'engine') && ...
+             ~isempty (model.engine));
+  R.laid_out = isfield (c, 'result') && shared;
+  % in Octave, execute calls the shared gateway itself as
+  % sluice.internal.run_engine would (one call fewer)
+  persistent is_octave
+  if (isempty (is_octave))
+    is_octave = sluice.internal.compat ('is_octave');
+  end
+  R.direct = shared && is_octave;
   R.calib = calibration_groups (c, [model.states(:); model.params(:); ops.names(:)]);
 end
 
@@ -322,7 +330,9 @@ function g = calibration_groups (c, names)
   L = sluice.internal.diversity_limits ();
   N = c.members;
   g.taus = [L.calib_tail, L.calib_far_tail];
+  g.upper = 1 - g.taus;
   g.p0 = 2 * g.taus + (g.taus < L.calib_tail) * 2 / (N + 1);
+  g.any_counted = any (g.counted);
   g.bar = 0.999 * L.calib_factor;
   g.min = L.calib_min;
 end
@@ -340,7 +350,15 @@ function res = execute (R)
     % a prepared run executed inside work already dealt across the ranks
     c = rmfield (c, 'ranks');
   end
-  r = sluice.internal.run_engine (model, c);
+  if (R.direct)
+    try
+      r = sluice.internal.interruptible ('-run', 'sluice.kernel.pf_run', c);
+    catch err
+      sluice.internal.run_engine (model, c, err);   % raises it as its own run's
+    end
+  else
+    r = sluice.internal.run_engine (model, c);
+  end
   pf = strcmp (opts.method, 'pf');   % the particle filter (not the WEnKF)
   if (R.laid_out || (~R.coupled && isfield (r, 'states')))
     % laid out by the gateway (settings field result) but for two fields
@@ -467,7 +485,11 @@ end
 
 function run = prepared_view (R)
   % a prepared run as sluice.filter returns it: a few fields to read, and
-  % the prepared settings (field engine) that a run of it uses
+  % the prepared settings (field engine) that a run of it uses. Its
+  % settings have the field draw, empty (X0 and P0 hold the members): a
+  % run that sets it sets a field that exists, which is cheaper than
+  % adding one to settings of many fields
+  R.c.draw = [];
   run = struct ();
   run.prepared_for = 'sluice.filter';
   run.model = R.model.name;
@@ -493,7 +515,7 @@ function res = run_prepared (run, args, fn)
   if (isempty (need))
     need = {'version', 'fn', 'model', 'opts', 'seed_given', 'c', 'ops_names', 'plan', ...
             'param_step', 'obs_value', 'obs_sigma', 'obs_counted', 'cyc', 'head', 'calib', ...
-            'split', 'coupled', 'laid_out'};
+            'split', 'coupled', 'laid_out', 'direct'};
   end
   if (~(isstruct (run) && isscalar (run) && isfield (run, 'prepared_for') && ...
         strcmp (run.prepared_for, 'sluice.filter') && isfield (run, 'engine') && ...
@@ -822,14 +844,20 @@ function warn_calibration (pit, var, g, N)
   % the counts of every variable at once: the few variables that may be
   % miscalibrated (a candidate test a little looser than the one below)
   % are looked at one by one
+  % (a PIT lies in [0, 1] or is NaN, missing, which no comparison holds)
   x = pit(:);
   ok = isfinite (x);
   taus = g.taus;
-  sums = g.S * double ([ok, ok & (x < taus(1) | x > 1 - taus(1)), ...
-                        ok & (x < taus(2) | x > 1 - taus(2)), ok & g.counted]);
+  u = g.upper;
+  if (g.any_counted)
+    sums = g.S * double ([ok, x < taus(1) | x > u(1), x < taus(2) | x > u(2), ok & g.counted]);
+    p0 = g.p0 + (sums(:, 4) > 0) * (2 * taus);
+  else
+    sums = g.S * double ([ok, x < taus(1) | x > u(1), x < taus(2) | x > u(2)]);
+    p0 = g.p0;
+  end
   out = sums(:, 2:3);
-  cand = sums(:, 1) >= g.min & ...
-         any (out > 0 & out >= g.bar * (g.p0 + (sums(:, 4) > 0) * (2 * taus)) .* sums(:, 1), 2);
+  cand = sums(:, 1) >= g.min & any (out > 0 & out >= g.bar * p0 .* sums(:, 1), 2);
   if (~any (cand))
     return;
   end
