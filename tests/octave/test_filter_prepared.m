@@ -114,6 +114,7 @@
 %!error id=sluice:filter:badoption sluice.filter (prepared (spec, pr, obs, opts), 'seed', -1)
 %!error id=sluice:filter:badoption sluice.filter (prepared (spec, pr, obs, opts), 'seed', 1.5)
 %!error id=sluice:filter:badoption sluice.filter (prepared (spec, pr, obs, opts), {1}, 2)
+%!error <option names must be strings> sluice.filter (prepared (spec, pr, obs, opts), {'seed'}, 2)
 %!error <params.b = 6 lies outside the parameter's bounds \[-5, 5\]> sluice.filter (prepared (spec, pr, obs, opts), 'params', struct ('b', 6))
 %!error id=sluice:filter:badparams sluice.filter (prepared (spec, pr, obs, opts), 'params', struct ('c', NaN))
 %!error id=sluice:filter:badparams sluice.filter (prepared (spec, pr, obs, opts), 'params', struct ('c', single (1)))

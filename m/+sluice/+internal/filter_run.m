@@ -529,7 +529,7 @@ function res = run_prepared (run, args, fn)
   c = R.c;
   seed = [];
   redraw = false;
-  if (numel (args) == 2 && strcmp (args{1}, 'seed'))
+  if (numel (args) == 2 && ischar (args{1}) && strcmp (args{1}, 'seed'))
     % the common call, a seed alone
     seed = whole (args{2}, 'seed', 0, 2^53, fn);
     args = {};
