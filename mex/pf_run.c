@@ -1,7 +1,8 @@
 /* pf_run.c - gateway: sluice.kernel.pf_run(cfg) runs the particle filter.
  * cfg is the settings struct sluice.internal.model_config builds and its
  * caller completes (DEVELOPERS.md, "A run's settings"); the result is a
- * struct of the recorded arrays. Errors are sluice:<cfg.caller>:<reason>.
+ * struct of the recorded arrays, or with the settings field result the
+ * result as sluice.filter returns it. Errors are sluice:<cfg.caller>:<reason>.
  *
  * Each section of the settings has its own decoder, which checks class
  * and size and points the core's configuration at the data; the core
@@ -20,6 +21,7 @@
 #include "sluice/loglik.h"
 #include "sluice/model.h"
 #include "sluice/pf.h"
+#include "sluice/prior.h"
 #include "sluice/resample.h"
 
 /* The largest index a decoder converts: 2^53, below which every whole
@@ -53,6 +55,9 @@ typedef struct {
     uint64_t ck_key;
     mxArray *ck_res;
     sl_pf_snapshot ck_snap;
+    /* the layout of sluice.filter's result (settings field result), or
+     * NULL: the recorded arrays as they are */
+    const mxArray *result;
 } run_settings;
 
 /* ------------------------------------------------------- field readers */
@@ -697,7 +702,8 @@ static const char ck_magic[8] = {'S', 'L', 'F', 'C', 'K', 'P', 'T', '1'};
 static int ck_ignored(const char *name)
 {
     return strcmp(name, "checkpoint") == 0 || strcmp(name, "checkpoint_every") == 0 ||
-           strcmp(name, "progress") == 0 || strcmp(name, "threads") == 0;
+           strcmp(name, "progress") == 0 || strcmp(name, "threads") == 0 ||
+           strcmp(name, "result") == 0;
 }
 
 /* The FNV-1a hash of a value: its class, size and data, struct fields
@@ -1011,6 +1017,291 @@ static mxArray *initial(const run_settings *s, const char *name, size_t rows, in
     return a;
 }
 
+/* ------------------------------------------------- sluice.filter's result */
+
+/* The settings field result, when present, asks for the result as
+ * sluice.filter returns it instead of the recorded arrays: a struct of
+ * head (the fields the settings alone decide, in the result's order; its
+ * seed is the run's), derived_names (the derived quantities' names) and
+ * lag (the option lag as given). The gateway only lays it out: arrays
+ * move from the recorded ones, or have their rows copied; the fields
+ * skipped_total and options come empty (sluice.filter fills them). */
+static void decode_result(run_settings *s)
+{
+    const mxArray *r = slm_field(s->fn, s->c, "result", 0);
+    if (r == NULL)
+        return;
+    if (!mxIsStruct(r) || mxGetNumberOfElements(r) != 1 ||
+        !mxIsStruct(slm_field(s->fn, r, "head", 1)) ||
+        mxGetNumberOfElements(slm_field(s->fn, r, "head", 1)) != 1 ||
+        !mxIsDouble(slm_field(s->fn, r, "lag", 1)) ||
+        slm_field(s->fn, r, "derived_names", 1) == NULL)
+        slm_fail(s->fn, "badsettings", "result: expected a struct of head, derived_names and lag");
+    s->result = r;
+}
+
+/* Field `name` of the recorded arrays, taken out of them (an empty
+ * double when the run did not record it). */
+static mxArray *take(mxArray *raw, const char *name)
+{
+    mxArray *a = mxGetField(raw, 0, name);
+    if (a == NULL)
+        return mxCreateDoubleMatrix(0, 0, mxREAL);
+    mxSetField(raw, 0, name, NULL);
+    return a;
+}
+
+/* Rows r0 .. r1-1 of the recorded array `name` (rows x the rest, of any
+ * number of dimensions), copied to an array of the same other dims. */
+static mxArray *rows_of(const run_settings *s, const mxArray *raw, const char *name,
+                        size_t r0, size_t r1)
+{
+    const mxArray *a = mxGetField(raw, 0, name);
+    mwSize d[8];
+    size_t nd, k, rows, cols, m = r1 - r0;
+    const double *x;
+    double *y;
+    mxArray *b;
+    if (a == NULL || mxGetNumberOfDimensions(a) > 8)
+        slm_fail(s->fn, "badsettings", "the run did not record %s", name);
+    nd = mxGetNumberOfDimensions(a);
+    memcpy(d, mxGetDimensions(a), nd * sizeof *d);
+    rows = d[0];
+    cols = rows ? mxGetNumberOfElements(a) / rows : 0;
+    d[0] = m;
+    b = mxCreateNumericArray(nd, d, mxDOUBLE_CLASS, mxREAL);
+    x = mxGetDoubles(a);
+    y = mxGetDoubles(b);
+    for (k = 0; k < cols && m > 0; k++)
+        memcpy(y + k * m, x + k * rows + r0, m * sizeof(double));
+    return b;
+}
+
+/* A recorded 0/1 series as logicals. */
+static mxArray *as_logical(mxArray *raw, const char *name)
+{
+    mxArray *a = take(raw, name), *b;
+    const double *x = mxGetDoubles(a);
+    mxLogical *l;
+    size_t k, ne = mxGetNumberOfElements(a);
+    b = mxCreateLogicalArray(mxGetNumberOfDimensions(a), mxGetDimensions(a));
+    l = mxGetLogicals(b);
+    for (k = 0; k < ne; k++)
+        l[k] = x[k] != 0.0;
+    mxDestroyArray(a);
+    return b;
+}
+
+/* A 1 x 1 struct of nf fields. */
+static mxArray *record(int nf, const char **names, mxArray **values)
+{
+    mxArray *st = mxCreateStructMatrix(1, 1, nf, names);
+    int k;
+    for (k = 0; k < nf; k++)
+        mxSetFieldByNumber(st, 0, k, values[k]);
+    return st;
+}
+
+/* A states-and-parameters pair of a summary: {states, params} of the
+ * recorded mean and quantiles (mean_name, quant_name). */
+static void split_summary(const run_settings *s, const mxArray *raw, const char *mean_name,
+                          const char *quant_name, mxArray *st[2], mxArray *pa[2])
+{
+    st[0] = rows_of(s, raw, mean_name, 0, s->n);
+    st[1] = rows_of(s, raw, quant_name, 0, s->n);
+    pa[0] = rows_of(s, raw, mean_name, s->n, s->v);
+    pa[1] = rows_of(s, raw, quant_name, s->n, s->v);
+}
+
+#define RESULT_MAX 64
+
+/* sluice.filter's result from the recorded arrays raw (destroyed). */
+static mxArray *filter_result(const run_settings *s, mxArray *raw)
+{
+    static const char *mq[] = {"mean", "quantiles"};
+    static const char *pq[] = {"mean", "quantiles", "distinct", "spread"};
+    static const char *fc[] = {"mean", "params"};
+    static const char *dv[] = {"names", "mean", "quantiles"};
+    static const char *fin[] = {"X", "P", "w"};
+    static const char *sm[] = {"method", "lag", "states", "params", "distinct"};
+    static const char *hi[] = {"X", "P", "w", "ancestors"};
+    const mxArray *head = mxGetField(s->result, 0, "head");
+    const mxArray *lag = mxGetField(s->result, 0, "lag");
+    const char *names[RESULT_MAX];
+    mxArray *vals[RESULT_MAX], *st[2], *pa[4], *v[5], *res;
+    char *method = fstring(s, "method");
+    const int pf = strcmp(method, "pf") == 0, wenkf = fscalar(s, "wenkf") != 0;
+    int k, nf = 0, nh = mxGetNumberOfFields(head), smoothed = 0;
+    size_t j;
+    const double *lv = mxGetDoubles(lag);
+    for (j = 0; j < mxGetNumberOfElements(lag); j++)
+        smoothed = smoothed || lv[j] > 0;
+    if (nh > RESULT_MAX - 32)
+        slm_fail(s->fn, "badsettings", "result.head: too many fields");
+#define PUT(name, value)       \
+    do {                       \
+        names[nf] = (name);    \
+        vals[nf++] = (value);  \
+    } while (0)
+    for (k = 0; k < nh; k++) {
+        const char *name = mxGetFieldNameByNumber(head, k);
+        PUT(name, mxDuplicateArray(strcmp(name, "seed") == 0 ? field(s, "seed")
+                                                              : mxGetFieldByNumber(head, 0, k)));
+    }
+    split_summary(s, raw, "mean", "quantiles", st, pa);
+    PUT("states", record(2, mq, st));
+    pa[2] = take(raw, "distinct");
+    pa[3] = take(raw, "spread");
+    PUT("params", record(4, pq, pa));
+    v[0] = rows_of(s, raw, "forecast_mean", 0, s->n);
+    v[1] = rows_of(s, raw, "forecast_mean", s->n, s->v);
+    PUT("forecast", record(2, fc, v));
+    if (fscalar(s, "derived_summary") != 0) {
+        v[0] = mxDuplicateArray(mxGetField(s->result, 0, "derived_names"));
+        v[1] = take(raw, "derived_mean");
+        v[2] = take(raw, "derived_quantiles");
+        PUT("derived", record(3, dv, v));
+    }
+    PUT("ess", take(raw, "ess"));
+    PUT("resampled", as_logical(raw, "resampled"));
+    PUT("degenerate", as_logical(raw, "degenerate"));
+    PUT("log_evidence", take(raw, "log_evidence"));
+    PUT("log_evidence_steps", take(raw, "logz"));
+    PUT("skipped", take(raw, "skipped"));
+    PUT("skipped_total", mxCreateDoubleMatrix(0, 0, mxREAL));
+    PUT("nonfinite", take(raw, "nonfinite"));
+    PUT("model_steps", take(raw, "steps"));
+    PUT("ranks", take(raw, "ranks"));
+    if (pf) {
+        PUT("temper_steps", take(raw, "temper_steps"));
+        PUT("loglik_evals", take(raw, "loglik_evals"));
+        PUT("param_move", take(raw, "param_move"));
+        PUT("move_sweeps", take(raw, "move_sweeps"));
+        PUT("move_accept", take(raw, "move_accept"));
+    }
+    if (pf && !wenkf)
+        PUT("nanpredicted", take(raw, "nanpred"));
+    PUT("pit", take(raw, "pit"));
+    if (!pf) {
+        PUT("inflation", take(raw, "inflation"));
+        PUT("floored", take(raw, "floored"));
+    }
+    v[0] = take(raw, "X");
+    v[1] = take(raw, "P");
+    v[2] = take(raw, "w");
+    PUT("final", record(3, fin, v));
+    if (smoothed) {
+        split_summary(s, raw, "smooth_mean", "smooth_quantiles", st, pa);
+        v[0] = mxCreateString(pf ? "fixed_lag" : "enks");
+        v[1] = mxDuplicateArray(lag);
+        v[2] = record(2, mq, st);
+        v[3] = record(2, mq, pa);
+        v[4] = take(raw, "smooth_distinct");
+        PUT("smoothed", record(5, sm, v));
+    }
+    if (s->history == 1) {
+        v[0] = take(raw, "history_X");
+        v[1] = take(raw, "history_P");
+        v[2] = take(raw, "history_w");
+        v[3] = take(raw, "history_ancestors");
+        PUT("history", record(4, hi, v));
+    }
+    PUT("options", mxCreateDoubleMatrix(0, 0, mxREAL));
+#undef PUT
+    res = record(nf, names, vals);
+    mxDestroyArray(raw);
+    mxFree(method);
+    return res;
+}
+
+/* Rows of the initial ensemble a plan fills from its prior entries:
+ * plan.<rows_name> (1-based rows of a rows x N array) paired with
+ * plan.<entries_name> (1-based entries of the k drawn). */
+static void scatter_draws(const run_settings *s, const mxArray *plan, const char *rows_name,
+                          const char *entries_name, size_t rows, size_t k, const double *D,
+                          double *X)
+{
+    const mxArray *ra = slm_field(s->fn, plan, rows_name, 1);
+    size_t m = mxGetNumberOfElements(ra), i, j;
+    const double *r = m ? slm_matrix(s->fn, ra, 1, rows_name, 0, 0, SLM_VECTOR) : NULL;
+    const double *e = m ? slm_matrix(s->fn, slm_field(s->fn, plan, entries_name, 1), 1,
+                                     entries_name, m, 0, SLM_VECTOR)
+                        : NULL;
+    for (i = 0; i < m; i++) {
+        size_t ri, ei;
+        if (!(r[i] >= 1 && r[i] <= (double)rows) || r[i] != floor(r[i]) ||
+            !(e[i] >= 1 && e[i] <= (double)k) || e[i] != floor(e[i]))
+            slm_fail(s->fn, "badsettings", "draw.%s / draw.%s %lu: no such row or entry",
+                     rows_name, entries_name, (unsigned long)(i + 1));
+        ri = (size_t)r[i] - 1;
+        ei = (size_t)e[i] - 1;
+        for (j = 0; j < s->N; j++)
+            X[ri + j * rows] = D[ei + j * k];
+    }
+}
+
+/* A column repeated N times as a rows x N array (rows: the plan's
+ * column `name`). */
+static mxArray *columns(const run_settings *s, const mxArray *plan, const char *name,
+                        size_t rows)
+{
+    mxArray *a = slm_create(s->fn, rows, s->N);
+    double *x = mxGetDoubles(a);
+    size_t j;
+    if (rows) {
+        const double *v = slm_matrix(s->fn, slm_field(s->fn, plan, name, 1), 1, name, rows,
+                                     0, SLM_VECTOR | SLM_ALLOW_NAN | SLM_ALLOW_INF);
+        for (j = 0; j < s->N; j++)
+            memcpy(x + j * rows, v, rows * sizeof(double));
+    }
+    return a;
+}
+
+/* The initial ensemble: copies of the settings' X0 and P0 (settings
+ * field draw absent or empty), or with the field draw (a prepared run
+ * of sluice.filter run with another seed) the members of the seed drawn
+ * here from the prior plan, the same numbers in the same order as
+ * sluice.kernel.draw gives them (and then checked as X0 and P0 are):
+ * plan.x0 and plan.def fill every member, then the prior entries (ids,
+ * a, b, lo, hi) are drawn and their rows set. */
+static void initial_members(const run_settings *s, mxArray **xa, mxArray **pa)
+{
+    const mxArray *plan = slm_field(s->fn, s->c, "draw", 0);
+    const mxArray *args[5];
+    const sl_prior_entry *prior;
+    size_t k;
+    double *D;
+    sl_error err;
+    if (plan == NULL || mxIsEmpty(plan)) {
+        *xa = initial(s, "X0", s->n, 0);
+        *pa = initial(s, "P0", s->p, SLM_ALLOW_INF);
+        return;
+    }
+    if (!mxIsStruct(plan) || mxGetNumberOfElements(plan) != 1)
+        slm_fail(s->fn, "badsettings", "draw: expected the prior plan of a prepared run");
+    *xa = columns(s, plan, "x0", s->n);
+    *pa = columns(s, plan, "def", s->p);
+    args[0] = slm_field(s->fn, plan, "ids", 1);
+    args[1] = slm_field(s->fn, plan, "a", 1);
+    args[2] = slm_field(s->fn, plan, "b", 1);
+    args[3] = slm_field(s->fn, plan, "lo", 1);
+    args[4] = slm_field(s->fn, plan, "hi", 1);
+    if (mxGetNumberOfElements(args[0]) > 0) {
+        prior = slm_prior(s->fn, args, 1, &k);
+        D = (double *)slm_alloc(s->fn, k * s->N, sizeof(double));
+        sl_error_clear(&err);
+        if (sl_prior_draw(k, prior, s->N, s->cfg.seed, 0, D, &err) != SL_OK)
+            slm_raise(s->fn, &err);
+        scatter_draws(s, plan, "state_rows", "state_entries", s->n, k, D, mxGetDoubles(*xa));
+        scatter_draws(s, plan, "param_rows", "param_entries", s->p, k, D, mxGetDoubles(*pa));
+        mxFree(D);
+    }
+    /* the checks a given X0 and P0 get */
+    slm_matrix(s->fn, *xa, 1, "X0", s->n, s->N, 0);
+    if (s->p)
+        slm_matrix(s->fn, *pa, 1, "P0", s->p, s->N, SLM_ALLOW_INF);
+}
+
 /* ------------------------------------------------------- memory check */
 
 /* Runs below this many bytes are not checked (memory () costs a few ms a
@@ -1232,9 +1523,9 @@ void mexFunction(int nlhs, mxArray *plhs[], int nrhs, const mxArray *prhs[])
     decode_coupling(&s);
     decode_checkpoint(&s);
     ranks = decode_ranks(&s, &rk);
+    decode_result(&s);
 
-    xa = initial(&s, "X0", s.n, 0);
-    pa = initial(&s, "P0", s.p, SLM_ALLOW_INF);
+    initial_members(&s, &xa, &pa);
     if (ranks == 2 && sl_pf_ranks_check(&s.cfg, rk.size, &err) != SL_OK &&
         (strcmp(err.reason, "ranksunsupported") == 0 || strcmp(err.reason, "ranksempty") == 0))
         ranks = 0; /* a run the core cannot split: each rank runs it whole */
@@ -1277,5 +1568,9 @@ void mexFunction(int nlhs, mxArray *plhs[], int nrhs, const mxArray *prhs[])
     mxSetField(res, 0, "ranks", mxCreateDoubleScalar(ranks ? (double)rk.size : 1.0));
     mxSetField(res, 0, "param_move",
                mxCreateString(s.cfg.inner > 0 ? "smc2" : s.cfg.param_move->name));
+    if (s.result != NULL) {
+        mxFree(work); /* before the result's copies are made */
+        res = filter_result(&s, res);
+    }
     plhs[0] = res;
 }

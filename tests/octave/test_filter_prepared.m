@@ -114,6 +114,7 @@
 %!error id=sluice:filter:badoption sluice.filter (prepared (spec, pr, obs, opts), 'seed', -1)
 %!error id=sluice:filter:badoption sluice.filter (prepared (spec, pr, obs, opts), 'seed', 1.5)
 %!error id=sluice:filter:badoption sluice.filter (prepared (spec, pr, obs, opts), {1}, 2)
+%!error <option names must be strings> sluice.filter (prepared (spec, pr, obs, opts), {'seed'}, 2)
 %!error <params.b = 6 lies outside the parameter's bounds \[-5, 5\]> sluice.filter (prepared (spec, pr, obs, opts), 'params', struct ('b', 6))
 %!error id=sluice:filter:badparams sluice.filter (prepared (spec, pr, obs, opts), 'params', struct ('c', NaN))
 %!error id=sluice:filter:badparams sluice.filter (prepared (spec, pr, obs, opts), 'params', struct ('c', single (1)))
@@ -143,3 +144,25 @@
 %! b = sluice.sweep (f2, g, 'seed', 2, 'workers', 1);
 %! assert (a.ll, b.ll);
 %! assert (numel (unique (a.seed)), 3);
+
+%!test
+%! % no parameter moves (a and b fixed by the prior, c by the default): a
+%! % run with another seed draws its members in the gateway (settings
+%! % field draw), the same numbers as the unprepared call draws in Octave
+%! p2 = sluice.prior ('x', 'normal', [5 0.5], 'a', 'fixed', 0.92, 'b', 'fixed', 1.5);
+%! run = sluice.filter (spec, p2, obs, opts{:}, 'seed', 2, 'prepare', true);
+%! for s = [2 9 13]
+%!   assert (isequaln (sluice.filter (run, 'seed', s), ...
+%!                     sluice.filter (spec, p2, obs, opts{:}, 'seed', s)));
+%! end
+%! % and with new values of the fixed parameters (drawn again)
+%! s2 = spec;
+%! s2.defaults(3) = 4;
+%! p3 = p2;
+%! p3(2) = sluice.prior ('a', 'fixed', 0.8);
+%! assert (isequaln (sluice.filter (run, 'seed', 9, 'params', struct ('a', 0.8, 'c', 4)), ...
+%!                   sluice.filter (s2, p3, obs, opts{:}, 'seed', 9)));
+%! % the draws do depend on the seed
+%! a = sluice.filter (run, 'seed', 9);
+%! b = sluice.filter (run, 'seed', 10);
+%! assert (~isequal (a.final.X, b.final.X));

@@ -191,3 +191,63 @@
 %!   c.prior_dist = d;
 %!   assert (raised (@() sluice.kernel.pf_run (c)), 'sluice:evidence:badprior');
 %! end
+
+%!test
+%! % sluice.filter's settings carry the head of its result (field result):
+%! % the gateway lays the result out itself, the one sluice.filter returns
+%! % but for the two fields it fills (skipped_total, options); without the
+%! % field the gateway returns the recorded arrays
+%! pr = sluice.prior ('level', 'normal', [1 0.2]);
+%! o = {'members', 30, 't0', 0, 'progress', false, 'lag', 1};
+%! run = sluice.filter (good, pr, obs, o{:}, 'seed', 3, 'prepare', true);
+%! res = sluice.filter (run);
+%! r = sluice.kernel.pf_run (run.engine.c);
+%! assert (fieldnames (r), fieldnames (res));
+%! assert (isempty (r.skipped_total) && isempty (r.options));
+%! r.skipped_total = res.skipped_total;
+%! r.options = res.options;
+%! assert (isequaln (r, res));
+%! raw = sluice.kernel.pf_run (rmfield (run.engine.c, 'result'));
+%! assert (raw.mean, [res.states.mean; res.params.mean]);
+%! assert (raw.smooth_mean, res.smoothed.states.mean);
+%! assert (islogical (r.resampled) && ~islogical (raw.resampled));
+
+%!test
+%! % the fields result and draw out of shape: the caller's badsettings
+%! pr = sluice.prior ('level', 'normal', [1 0.2]);
+%! run = sluice.filter (good, pr, obs, 'members', 5, 't0', 0, 'progress', false, 'seed', 7, ...
+%!                     'prepare', true);
+%! c = run.engine.c;
+%! for v = {3, struct('head', 1, 'derived_names', {{}}, 'lag', 0), ...
+%!          struct('head', struct(), 'derived_names', {{}}, 'lag', 'none')}
+%!   c.result = v{1};
+%!   assert (raised (@() sluice.kernel.pf_run (c)), 'sluice:filter:badsettings');
+%! end
+%! c.result = struct ('head', struct ());
+%! assert (raised (@() sluice.kernel.pf_run (c)), 'sluice:filter:missingfield');
+%! c = run.engine.c;
+%! c.draw = 3;
+%! assert (raised (@() sluice.kernel.pf_run (c)), 'sluice:filter:badsettings');
+%! c.draw = run.engine.plan;
+%! c.draw.state_rows = 2;   % the model has one state
+%! assert (raised (@() sluice.kernel.pf_run (c)), 'sluice:filter:badsettings');
+%! c.draw = rmfield (run.engine.plan, 'ids');
+%! assert (raised (@() sluice.kernel.pf_run (c)), 'sluice:filter:missingfield');
+%! % a plan whose rows leave a state without a value fails as X0 would
+%! c.draw = run.engine.plan;
+%! c.draw.x0 = NaN;
+%! c.draw.state_rows = zeros (0, 1);
+%! c.draw.state_entries = zeros (0, 1);
+%! assert (raised (@() sluice.kernel.pf_run (c)), 'sluice:filter:nonfinite');
+%! % a good plan draws the members of the seed as sluice.kernel.draw does:
+%! % the same run as with those members given as X0
+%! c.draw = run.engine.plan;
+%! c.seed = 8;
+%! a = sluice.kernel.pf_run (c);
+%! c = rmfield (c, 'draw');
+%! c.X0 = sluice.kernel.draw (run.engine.plan.ids, run.engine.plan.a, run.engine.plan.b, ...
+%!                            run.engine.plan.lo, run.engine.plan.hi, 5, 8);
+%! b = sluice.kernel.pf_run (c);
+%! assert (isequaln (a, b));
+%! b = sluice.kernel.pf_run (run.engine.c);   % seed 7's members
+%! assert (~isequal (a.final.X, b.final.X));

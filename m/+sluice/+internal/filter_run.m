@@ -218,20 +218,27 @@ function R = prepare (model, prior, obs, opts, fn)
     if (world.rank > 0)
       c.progress = 0;
     end
-    v = double (c.obs_value(:));
-    v = v(~isnan (v));
     sluice.internal.mpi ('same', fn, ...
                          'runs (members, seed, times, observations or options)', ...
-                         sprintf ('%.17g|', N, opts.seed, numel (times), sum (times), ...
-                                  sum (times .^ 2), numel (c.obs_value), sum (v), ...
-                                  sum (v .^ 2), c.obs_var(:)' * (1:numel (c.obs_var))', ...
-                                  n, p, q, c.lag, c.threshold, double (c.method), ...
-                                  double (c.param_move), c.history, c.ranks));
+                         fingerprint ([N, opts.seed, numel(times), sum(times), sum(times .^ 2), ...
+                                       numel(c.obs_value)], c.obs_value, ...
+                                      [c.obs_var(:)' * (1:numel (c.obs_var))', n, p, q, c.lag, ...
+                                       c.threshold, double(c.method), double(c.param_move), ...
+                                       c.history, c.ranks]));
+  end
+
+  % the head of the result: the fields the settings alone decide. The
+  % gateway lays out the result with it (settings field result), but for
+  % a weakly coupled run, whose result execute assembles from the
+  % recorded arrays
+  head = result_head (model, c, opts);
+  if (~isfield (c, 'comp'))
+    c.result = struct ('head', head, 'derived_names', {ops.names(:)'}, 'lag', opts.lag);
   end
 
   % what execute needs, and what a prepared run needs to run again
   R = struct ();
-  R.version = 1;
+  R.version = 2;
   R.fn = fn;
   R.model = model;
   R.opts = opts;
@@ -246,11 +253,24 @@ function R = prepare (model, prior, obs, opts, fn)
   R.cyc = cyc;
   % what every run of these settings shares: the head of the result and
   % the calibration check's grouping of the observation rows
-  R.head = result_head (model, c, opts);
+  R.head = head;
   % (isfield on settings of many fields costs as much as a copy of them:
   % what a run asks of their layout is asked here once)
   R.split = isfield (c, 'ranks');
   R.coupled = isfield (c, 'comp');
+  % the gateway lays out the result: sluice.kernel.pf_run always (a
+  % user's gateway built before it did returns the recorded arrays)
+  shared = ~strcmp (model.kind, 'user') && ...
+           ~(strcmp (model.kind, 'composed') && isfield (model, 'engine') && ...
+             ~isempty (model.engine));
+  R.laid_out = isfield (c, 'result') && shared;
+  % in Octave, execute calls the shared gateway itself as
+  % sluice.internal.run_engine would (one call fewer)
+  persistent is_octave
+  if (isempty (is_octave))
+    is_octave = sluice.internal.compat ('is_octave');
+  end
+  R.direct = shared && is_octave;
   R.calib = calibration_groups (c, [model.states(:); model.params(:); ops.names(:)]);
 end
 
@@ -304,6 +324,17 @@ function g = calibration_groups (c, names)
   f = c.obs_family(:);
   g.counted = strcmp (f, 'poisson') | strcmp (f, 'binomial') | strcmp (f, 'censored');
   g.names = names;
+  % what the candidate test of warn_calibration takes from the limits and
+  % the members, once: the two tails, the share outside them but for the
+  % counts' part, the factor of the test
+  L = sluice.internal.diversity_limits ();
+  N = c.members;
+  g.taus = [L.calib_tail, L.calib_far_tail];
+  g.upper = 1 - g.taus;
+  g.p0 = 2 * g.taus + (g.taus < L.calib_tail) * 2 / (N + 1);
+  g.any_counted = any (g.counted);
+  g.bar = 0.999 * L.calib_factor;
+  g.min = L.calib_min;
 end
 
 function res = execute (R)
@@ -315,20 +346,78 @@ function res = execute (R)
   c = R.c;
   opts = R.opts;
   model = R.model;
-  n = numel (model.states);
-  times = c.times;
-  P0 = c.P0;
-  lower = c.lower;
-  upper = c.upper;
-  cyc = R.cyc;
-
   if (R.split && sluice.internal.mpi ('held'))
     % a prepared run executed inside work already dealt across the ranks
     c = rmfield (c, 'ranks');
   end
-  r = sluice.internal.run_engine (model, c);
+  if (R.direct)
+    try
+      r = sluice.internal.interruptible ('-run', 'sluice.kernel.pf_run', c);
+    catch err
+      sluice.internal.run_engine (model, c, err);   % raises it as its own run's
+    end
+  else
+    r = sluice.internal.run_engine (model, c);
+  end
   pf = strcmp (opts.method, 'pf');   % the particle filter (not the WEnKF)
+  if (R.laid_out || (~R.coupled && isfield (r, 'states')))
+    % laid out by the gateway (settings field result) but for two fields
+    res = r;
+    res.skipped_total = sum (r.skipped);
+    res.options = opts;
+  else
+    res = assemble (R, r, c, opts, model, pf);
+  end
+  % the forecasts' calibration first: the warnings after it say what may
+  % have caused a miscalibration (a bound, collapse, a low ESS)
+  warn_calibration (res.pit, c.obs_var, R.calib, c.members);
+  if (any (res.degenerate))
+    k = find (res.degenerate, 1);
+    warning ('sluice:filter:degenerate', ...
+             ['no member could explain the observations at %d cycle(s), ', ...
+              'first at t = %g: the weights were kept there and the log-evidence is -Inf'], ...
+             sum (res.degenerate), c.times(k));
+  end
+  if (any (res.nonfinite > 0))
+    k = find (res.nonfinite > 0, 1);
+    warning ('sluice:filter:nonfinite', ...
+             ['%d member(s) reached a non-finite state (first at t = %g); ', ...
+              'they were given zero weight'], max (res.nonfinite), c.times(k));
+  end
+  if (pf && ~opts.wenkf && any (res.nanpredicted > 0))
+    k = find (res.nanpredicted > 0, 1);
+    warning ('sluice:filter:nanprediction', ...
+             ['%d member(s) with a finite state got a NaN predicted observation ', ...
+              '(an operator''s value) at %d cycle(s), first at t = %g; they were ', ...
+              'given zero weight: check the operator for states outside its domain'], ...
+             max (res.nanpredicted), sum (res.nanpredicted > 0), c.times(k));
+  end
+  % the general caveat first, the specific diagnostics after it
+  % the default move on noisy paths is the kernel move, whose parameter
+  % bands are approximate: say so once, with the way to exact ones
+  est = c.lower < c.upper & any (c.P0 ~= c.P0(:, 1), 2);
+  if (pf && strcmp (opts.param_move, 'auto') && ...
+      strcmp (res.param_move, 'kernel') && any (est) && ~isempty (R.cyc))
+    warning ('sluice:filter:approxparams', ...
+             ['the paths hold noise (forcing, state or model noise), so the default ', ...
+              'kernel move estimated the parameters (%s): their bands are approximate ', ...
+              '(too narrow, or off, on long precise records). For better bands use ', ...
+              'param_move ''resample_move'' (slower), for exact ones ''smc2'' (slowest), ', ...
+              'or check against sluice.pmmh'], ...
+             strjoin (res.param_names(est), ', '));
+  end
+  % (only when a warning is possible: an estimated parameter, or weights
+  % whose ESS fell low, or a fixed-lag smoother)
+  if (any (est) || ((pf || opts.wenkf) && (any (res.ess < L.lowess_ess) || any (opts.lag > 0))))
+    warn_diversity (res, c.P0, c.lower, c.upper, R.obs_value, R.cyc, est);
+  end
+end
 
+function res = assemble (R, r, c, opts, model, pf)
+  % the result from the recorded arrays r of the gateway, for settings
+  % without the field result (a weakly coupled run, or a user's gateway
+  % built before the gateway laid the result out)
+  n = numel (model.states);
   res = R.head;
   res.seed = opts.seed;
   res.states = struct ('mean', r.mean(1:n, :), 'quantiles', r.quantiles(1:n, :, :));
@@ -392,54 +481,15 @@ function res = execute (R)
     res = sluice.internal.coupling_results (res, r, c, model);
   end
   res.options = opts;
-  % the forecasts' calibration first: the warnings after it say what may
-  % have caused a miscalibration (a bound, collapse, a low ESS)
-  warn_calibration (res.pit, c.obs_var, R.calib, c.members);
-  if (any (res.degenerate))
-    k = find (res.degenerate, 1);
-    warning ('sluice:filter:degenerate', ...
-             ['no member could explain the observations at %d cycle(s), ', ...
-              'first at t = %g: the weights were kept there and the log-evidence is -Inf'], ...
-             sum (res.degenerate), times(k));
-  end
-  if (any (res.nonfinite > 0))
-    k = find (res.nonfinite > 0, 1);
-    warning ('sluice:filter:nonfinite', ...
-             ['%d member(s) reached a non-finite state (first at t = %g); ', ...
-              'they were given zero weight'], max (res.nonfinite), times(k));
-  end
-  if (pf && ~opts.wenkf && any (res.nanpredicted > 0))
-    k = find (res.nanpredicted > 0, 1);
-    warning ('sluice:filter:nanprediction', ...
-             ['%d member(s) with a finite state got a NaN predicted observation ', ...
-              '(an operator''s value) at %d cycle(s), first at t = %g; they were ', ...
-              'given zero weight: check the operator for states outside its domain'], ...
-             max (res.nanpredicted), sum (res.nanpredicted > 0), times(k));
-  end
-  % the general caveat first, the specific diagnostics after it
-  % the default move on noisy paths is the kernel move, whose parameter
-  % bands are approximate: say so once, with the way to exact ones
-  est = lower < upper & any (P0 ~= P0(:, 1), 2);
-  if (pf && strcmp (opts.param_move, 'auto') && ...
-      strcmp (res.param_move, 'kernel') && any (est) && ~isempty (cyc))
-    warning ('sluice:filter:approxparams', ...
-             ['the paths hold noise (forcing, state or model noise), so the default ', ...
-              'kernel move estimated the parameters (%s): their bands are approximate ', ...
-              '(too narrow, or off, on long precise records). For better bands use ', ...
-              'param_move ''resample_move'' (slower), for exact ones ''smc2'' (slowest), ', ...
-              'or check against sluice.pmmh'], ...
-             strjoin (res.param_names(est), ', '));
-  end
-  % (only when a warning is possible: an estimated parameter, or weights
-  % whose ESS fell low, or a fixed-lag smoother)
-  if (any (est) || ((pf || opts.wenkf) && (any (res.ess < L.lowess_ess) || any (opts.lag > 0))))
-    warn_diversity (res, P0, lower, upper, R.obs_value, cyc, est);
-  end
 end
 
 function run = prepared_view (R)
   % a prepared run as sluice.filter returns it: a few fields to read, and
-  % the prepared settings (field engine) that a run of it uses
+  % the prepared settings (field engine) that a run of it uses. Its
+  % settings have the field draw, empty (X0 and P0 hold the members): a
+  % run that sets it sets a field that exists, which is cheaper than
+  % adding one to settings of many fields
+  R.c.draw = [];
   run = struct ();
   run.prepared_for = 'sluice.filter';
   run.model = R.model.name;
@@ -457,36 +507,38 @@ function run = prepared_view (R)
   run.engine = R;
 end
 
-function R = prepared_engine (run, fn)
-  % the prepared settings of a prepared run, or the error
-  % sluice:<fn>:badrun for anything else
-  need = {'version', 'fn', 'model', 'opts', 'seed_given', 'c', 'ops_names', 'plan', ...
-          'param_step', 'obs_value', 'obs_sigma', 'obs_counted', 'cyc', 'head', 'calib', ...
-          'split', 'coupled'};
+function res = run_prepared (run, args, fn)
+  % run a prepared run again: options seed, params, values; nothing
+  % checked when it was prepared is checked again. Its prepared settings
+  % (run.engine), or the error sluice:<fn>:badrun for anything else
+  persistent need
+  if (isempty (need))
+    need = {'version', 'fn', 'model', 'opts', 'seed_given', 'c', 'ops_names', 'plan', ...
+            'param_step', 'obs_value', 'obs_sigma', 'obs_counted', 'cyc', 'head', 'calib', ...
+            'split', 'coupled', 'laid_out', 'direct'};
+  end
   if (~(isstruct (run) && isscalar (run) && isfield (run, 'prepared_for') && ...
         strcmp (run.prepared_for, 'sluice.filter') && isfield (run, 'engine') && ...
         isstruct (run.engine) && isscalar (run.engine) && all (isfield (run.engine, need)) && ...
-        isnumeric (run.engine.version) && isscalar (run.engine.version) && run.engine.version == 1))
+        isnumeric (run.engine.version) && isscalar (run.engine.version) && run.engine.version == 2))
     error (['sluice:' fn ':badrun'], ...
            ['argument 1 (run): expected a prepared run of sluice.filter (option ''prepare'') ', ...
             'as it was returned, got %s'], sluice.internal.describe (run));
   end
   R = run.engine;
-end
-
-function res = run_prepared (run, args, fn)
-  % run a prepared run again: options seed, params, values; nothing
-  % checked when it was prepared is checked again
-  R = prepared_engine (run, fn);
-  if (numel (args) == 1 && isstruct (args{1}))
+  c = R.c;
+  seed = [];
+  redraw = false;
+  if (numel (args) == 2 && ischar (args{1}) && strcmp (args{1}, 'seed'))
+    % the common call, a seed alone
+    seed = whole (args{2}, 'seed', 0, 2^53, fn);
+    args = {};
+  elseif (numel (args) == 1 && isstruct (args{1}))
     args = sluice.internal.option_pairs (args);
   end
   if (mod (numel (args), 2) ~= 0)
     error (['sluice:' fn ':badoption'], 'options must be a struct or name, value pairs');
   end
-  c = R.c;
-  seed = [];
-  redraw = false;
   for k = 1:2:numel (args)
     name = args{k};
     v = args{k + 1};
@@ -524,9 +576,15 @@ function res = run_prepared (run, args, fn)
     end
   end
   if (seed ~= c.seed || redraw)
-    [c.X0, c.P0] = draw_members (R.plan, c.members, seed, numel (R.model.states), fn);
     if (any (c.lower < c.upper))
-      check_spread (R.model, c.P0, c.lower, c.upper, R.opts, fn);   % else nothing to check
+      [c.X0, c.P0] = draw_members (R.plan, c.members, seed, numel (R.model.states), fn);
+      check_spread (R.model, c.P0, c.lower, c.upper, R.opts, fn);
+    else
+      % no parameter can move: neither the spread check nor the warnings
+      % read the initial members (their X0 and P0 stay the prepared
+      % ones), so the gateway draws them from the plan (settings field
+      % draw), the numbers draw_members would draw
+      c.draw = R.plan;
     end
   end
   c.seed = seed;
@@ -534,13 +592,25 @@ function res = run_prepared (run, args, fn)
   R.c = c;
   if (split)
     % split across the ranks: every rank must run the same
-    v = double (c.obs_value(:));
-    v = v(~isnan (v));
     sluice.internal.mpi ('same', fn, 'runs of a prepared run (seed, params or values)', ...
-                         sprintf ('%.17g|', seed, numel (v), sum (v), sum (v .^ 2), ...
-                                  sum (c.P0(:)), sum (c.P0(:) .^ 2)));
+                         fingerprint (seed, c.obs_value, [sum(c.P0(:)), sum(c.P0(:) .^ 2)], true));
   end
   res = execute (R);
+end
+
+function s = fingerprint (before, y, after, with_count)
+  % what sluice.internal.mpi ('same', ...) compares across the ranks, as
+  % text: the numbers before, the sum and the sum of squares of the
+  % observation values y given (NaN: missing; with_count, their count
+  % first), the numbers after
+  v = double (y(:));
+  v = v(~isnan (v));
+  if (nargin > 3 && with_count)
+    sums = [numel(v), sum(v), sum(v .^ 2)];
+  else
+    sums = [sum(v), sum(v .^ 2)];
+  end
+  s = sprintf ('%.17g|', before, sums, after);
 end
 
 function [R, c] = set_params (R, c, v, fn)
@@ -768,25 +838,33 @@ function warn_calibration (pit, var, g, N)
   % outside is overconfidence: bands too narrow for the data they meet.
   % Thresholds in sluice.internal.diversity_limits; g: the rows by
   % variable (calibration_groups).
-  persistent L
-  if (isempty (L))
-    L = sluice.internal.diversity_limits ();   % constants
-  end
   if (isempty (pit))
     return;
   end
   % the counts of every variable at once: the few variables that may be
   % miscalibrated (a candidate test a little looser than the one below)
   % are looked at one by one
-  ok = isfinite (pit(:));
-  taus = [L.calib_tail, L.calib_far_tail];
+  % (a PIT lies in [0, 1] or is NaN, missing, which no comparison holds)
   x = pit(:);
-  sums = g.S * double ([ok, ok & (x < taus(1) | x > 1 - taus(1)), ...
-                        ok & (x < taus(2) | x > 1 - taus(2)), ok & g.counted]);
-  nv = sums(:, 1);
+  ok = isfinite (x);
+  taus = g.taus;
+  u = g.upper;
+  if (g.any_counted)
+    sums = g.S * double ([ok, x < taus(1) | x > u(1), x < taus(2) | x > u(2), ok & g.counted]);
+    p0 = g.p0 + (sums(:, 4) > 0) * (2 * taus);
+  else
+    sums = g.S * double ([ok, x < taus(1) | x > u(1), x < taus(2) | x > u(2)]);
+    p0 = g.p0;
+  end
   out = sums(:, 2:3);
-  p0 = 2 * taus + (taus < L.calib_tail) * 2 / (N + 1) + (sums(:, 4) > 0) * (2 * taus);
-  cand = nv >= L.calib_min & any (out > 0 & out >= 0.999 * L.calib_factor * p0 .* nv, 2);
+  cand = sums(:, 1) >= g.min & any (out > 0 & out >= g.bar * p0 .* sums(:, 1), 2);
+  if (~any (cand))
+    return;
+  end
+  persistent L
+  if (isempty (L))
+    L = sluice.internal.diversity_limits ();   % constants
+  end
   for v = g.vars(cand)'
     rows = ok & var(:) == v;
     n = sum (rows);

@@ -1,11 +1,18 @@
-function r = run_engine (model, c)
+function r = run_engine (model, c, failed)
   % Internal: run the compiled cycle for the settings c (built by
   % sluice.internal.model_config): the shared gateway sluice.kernel.pf_run,
   % or for a user's compiled model the gateway that sluice.build_model
   % made for it (model.engine). The gateway raises its errors as
   % sluice:<c.caller>:<reason> itself; here only Octave's prefix of the
   % gateway's name comes off the message.
+  %
+  % run_engine (model, c, err) raises err, caught from a call of the
+  % shared gateway through sluice.internal.interruptible ('-run', ...)
+  % that the caller made itself, as a failure of that run here is raised.
   fn = c.caller;
+  if (nargin > 2)
+    raise_failed (failed, c, fn);
+  end
   if (strcmp (model.kind, 'user') || ...
       (strcmp (model.kind, 'composed') && isfield (model, 'engine') && ~isempty (model.engine)))
     if (~isfield (model, 'engine') || exist (model.engine, 'file') ~= 3)
@@ -29,6 +36,11 @@ function r = run_engine (model, c)
       r = feval (gateway, c);
     end
   catch err
+    raise_failed (err, c, fn);
+  end
+end
+
+function raise_failed (err, c, fn)
     % the gateway's name is an internal detail: drop Octave's prefix
     msg = regexprep (err.message, '^(pf_run|[A-Za-z]\w*_run): ', '');
     id = err.identifier;
@@ -45,5 +57,4 @@ function r = run_engine (model, c)
                      c.checkpoint_every);
     end
     sluice.internal.raise_again (id, ['sluice:' fn ':failed'], msg);
-  end
 end
