@@ -69,8 +69,18 @@ function pr = prior (varargin)
   dists = core.distributions;
   forms = core.distribution_forms;
   counts = core.distribution_args;
-  pr = struct ('name', {}, 'dist', {}, 'args', {}, 'lower', {}, 'upper', {});
+  % the entries, gathered in cells (a wide model has thousands); a name
+  % given twice is found by sorting, and reported where the loop would
+  % have met it: before any later entry's error
+  names = cell (1, nargin);
+  at = zeros (1, nargin);
+  ds = names;
+  as = names;
+  ls = names;
+  us = names;
+  n = 0;
   k = 1;
+  try
   while (k <= nargin)
     name = varargin{k};
     if (~(ischar (name) && isrow (name) && isvarname (name)))
@@ -88,10 +98,9 @@ function pr = prior (varargin)
              'argument %d (name): ''%s'' is the name of an option, not of a parameter; the bounds option follows the arguments of its parameter', ...
              k, name);
     end
-    if (any (strcmp (name, {pr.name})))
-      error ('sluice:prior:badname', ...
-             'argument %d (name): parameter ''%s'' is named twice', k, name);
-    end
+    n = n + 1;
+    names{n} = name;
+    at(n) = k;
     if (k + 2 > nargin)
       error ('sluice:prior:badargs', ...
              'parameter ''%s'': expected a distribution name and its arguments after the name', ...
@@ -139,12 +148,27 @@ function pr = prior (varargin)
       end
     end
 
-    n = numel (pr) + 1;
-    pr(n).name = name;
-    pr(n).dist = dists{id};
-    pr(n).args = args;
-    pr(n).lower = lower;
-    pr(n).upper = upper;
+    ds{n} = dists{id};
+    as{n} = args;
+    ls{n} = lower;
+    us{n} = upper;
+  end
+  catch err
+    named_twice (names(1:n), at);
+    rethrow (err);
+  end
+  named_twice (names(1:n), at);
+  pr = struct ('name', names(1:n), 'dist', ds(1:n), 'args', as(1:n), 'lower', ls(1:n), ...
+               'upper', us(1:n));
+end
+
+% The error for the first name that repeats an earlier one (names{r} at
+% argument at(r)), if any.
+function named_twice (names, at)
+  r = sluice.internal.first_repeat (names);
+  if (r > 0)
+    error ('sluice:prior:badname', ...
+           'argument %d (name): parameter ''%s'' is named twice', at(r), names{r});
   end
 end
 
@@ -237,6 +261,28 @@ end
 %!error id=sluice:prior:badname sluice.prior ('end', 'normal', [0 1])
 %!error id=sluice:prior:badname sluice.prior ('bounds', 'normal', [0 1])
 %!error id=sluice:prior:badname sluice.prior ('a', 'normal', [0 1], 'a', 'uniform', [0 1])
+%!error <argument 4 \(name\): parameter 'a' is named twice> sluice.prior ('a', 'normal', [0 1], 'a', 'uniform', [0 1], 'b', 'nosuch', 1)
+%!error <argument 5 \(distribution of 'b'\)> sluice.prior ('a', 'normal', [0 1], 'b', 'nosuch', 1, 'a', 'uniform', [0 1])
+%!error <argument 9 \(name\): parameter 'b' is named twice> sluice.prior ('a', 'uniform', [-1 1], 'bounds', [-1 1], 'b', 'normal', [0 1], 'b', 'normal', [0 2])
+%!test
+%! % thousands of names (a wide model): in order, each once
+%! n = 3000;
+%! args = cell (1, 3 * n);
+%! for i = 1:n
+%!   args(3 * i - 2:3 * i) = {sprintf('x%d', i), 'normal', [i 1]};
+%! end
+%! pr = sluice.prior (args{:});
+%! assert (size (pr), [1 n]);
+%! assert ({pr([1 n]).name}, {'x1', sprintf('x%d', n)});
+%! assert (pr(17).args, [17 1]);
+%! args{3 * n - 2} = 'x5';
+%! msg = '';
+%! try
+%!   sluice.prior (args{:});
+%! catch err
+%!   msg = err.message;
+%! end
+%! assert (msg, sprintf ('argument %d (name): parameter ''x5'' is named twice', 3 * n - 2));
 %!error id=sluice:prior:badname sluice.prior ('a', 'normal', [0 1], 5, 'uniform', [0 1])
 %!error id=sluice:prior:badargs sluice.prior ('a', 'normal', [0 1], 'b')
 %!error id=sluice:prior:badargs sluice.prior ('a', 'normal', [0 1], 'b', 'normal')

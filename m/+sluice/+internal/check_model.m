@@ -133,10 +133,8 @@ function ok = quick_ok (m, core)
   if (n == 0)
     return;
   end
-  for k = 1:numel (all_names) - 1
-    if (any (strcmp (all_names{k}, all_names(k+1:end))))
-      return;
-    end
+  if (sluice.internal.first_repeat (all_names) > 0)
+    return;
   end
   lo = m.lower;
   hi = m.upper;

@@ -40,12 +40,22 @@ function [ids, a, b, lo, hi, names] = check_prior (prior, pos, fn)
   lo = -Inf (1, p);
   hi = Inf (1, p);
   names = cell (p, 1);
+  % the first entry whose name repeats an earlier one, among the entries
+  % before the first invalid name (found by sorting: a wide model has
+  % thousands); the loop reports it where it meets it
+  all_names = {prior.name};
+  valid = cellfun (@(x) ischar (x) && isrow (x) && isvarname (x), all_names);
+  last = find (~valid, 1) - 1;
+  if (isempty (last))
+    last = p;
+  end
+  twice = sluice.internal.first_repeat (all_names(1:last));
   for k = 1:p
     name = prior(k).name;
     if (~(ischar (name) && isrow (name) && isvarname (name)))
       error (id, '%s: entry %d: the name is not a valid variable name', where, k);
     end
-    if (any (strcmp (name, names(1:k-1))))
+    if (k == twice)
       error (id, '%s: entry %d: parameter ''%s'' is named twice', where, k, name);
     end
     names{k} = name;

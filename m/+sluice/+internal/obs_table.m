@@ -73,10 +73,9 @@ function tab = obs_table (obs, names, t0, fn, ordered)
   % every row's checks at once; the first row that fails any of them is
   % then checked again alone, for the message of its first failing check
   var = var(:);
-  tab.var = zeros (m, 1);
-  for j = numel (names):-1:1
-    tab.var(strcmp (var, names{j})) = j;   % names differ: one index per row
-  end
+  % names differ: one index per row (0: no such name), by sorting
+  [~, tab.var] = ismember (var, names);
+  tab.var = reshape (double (tab.var), m, 1);
   t = tab.time;
   v = tab.value;
   s = tab.sigma;
