@@ -9,7 +9,11 @@
 #   1e5 and 1e6 members, weak scaling (5e4 members a rank), and the
 #   share of the wall time the busiest rank spent in the filter's
 #   collectives (waiting for the others included) with the bytes it
-#   received.
+#   received;
+# - one ensemble Kalman filter on Lorenz-96 split across the ranks (the
+#   forecasts by members, the analysis by rows or grid points): the LETKF
+#   with 4000 states and the ETKF with 20000, strong scaling, with the
+#   same shares.
 set -u
 here=$(cd "$(dirname "$0")/../../.." && pwd)
 if ! command -v mpirun >/dev/null || [ ! -e "$here/m/+sluice/+kernel/mpi.mex" ]; then
@@ -53,6 +57,26 @@ for spec in "strong 100000 365" "strong 1000000 30" "weak 50000 365"; do
   for P in "${ranks[@]}"; do
     n=$N; [ $mode = weak ] && n=$((N * P))
     read -r s c b sp < <(pf "$P" "$n" "$days")
+    [ -z "${s:-}" ] && { echo "   $P ranks: did not complete"; continue; }
+    [ -z "$base" ] && base=$s
+    awk -v P="$P" -v s="$s" -v c="$c" -v b="$b" -v base="$base" -v sp="$sp" 'BEGIN {
+      printf "   %5d %8.2f %8.2f %7.1f%% %9.1f%s\n", P, s, base / s, 100 * c / s, b / 1e6,
+             (sp == P) ? "" : "  (not split)" }'
+  done
+done
+
+kal() { # ranks method states -> "seconds comm bytes split"
+  (cd "$(mktemp -d)" && SLUICE_BENCH_METHOD=$2 SLUICE_BENCH_STATES=$3 mpirun -np "$1" \
+     octave-cli --no-gui --quiet --no-history --norc "$here/tests/bench/mpi/kalman_scaling.m" \
+     2>/dev/null) | awk '/^method/ {print $8, $10, $12, $14}'
+}
+echo "   one ensemble Kalman filter on Lorenz-96 split across the ranks (10 cycles, 1 thread a rank)"
+for spec in "letkf 4000" "etkf 20000"; do
+  read -r method n <<<"$spec"
+  echo "   $method, $n states: ranks, seconds, speed-up, in collectives, MB received"
+  base=
+  for P in "${ranks[@]}"; do
+    read -r s c b sp < <(kal "$P" "$method" "$n")
     [ -z "${s:-}" ] && { echo "   $P ranks: did not complete"; continue; }
     [ -z "$base" ] && base=$s
     awk -v P="$P" -v s="$s" -v c="$c" -v b="$b" -v base="$base" -v sp="$sp" 'BEGIN {
