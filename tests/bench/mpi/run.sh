@@ -70,7 +70,7 @@ kal() { # ranks method states -> "seconds comm bytes split"
      octave-cli --no-gui --quiet --no-history --norc "$here/tests/bench/mpi/kalman_scaling.m" \
      2>/dev/null) | awk '/^method/ {print $8, $10, $12, $14}'
 }
-echo "   one ensemble Kalman filter on Lorenz-96 split across the ranks (10 cycles, 1 thread a rank)"
+echo "   one ensemble Kalman filter on Lorenz-96 split across the ranks (30 cycles, 1 thread a rank)"
 for spec in "letkf 4000" "etkf 20000"; do
   read -r method n <<<"$spec"
   echo "   $method, $n states: ranks, seconds, speed-up, in collectives, MB received"
