@@ -244,8 +244,11 @@ static size_t layout(const sl_pf_config *cfg, unsigned char *base,
     PART(SL_PF_PART_THREADS);
     if (cfg->ranks != NULL) {
         const size_t P = cfg->ranks->size > 0 ? (size_t)cfg->ranks->size : 1;
+        const size_t nsq = sl_pfi_summary_count(cfg) * cfg->nq;
         sl_ws_carve(base, &off, P * sizeof(size_t), (void **)&b->rk_counts);
-        tmp = sl_ws_carve(base, &off, P * 8, (void **)&b->rk_stats);
+        sl_ws_carve(base, &off, P * 8, (void **)&b->rk_stats);
+        sl_ws_carve(base, &off, nsq * sizeof(double), (void **)&b->rk_qsend);
+        tmp = sl_ws_carve(base, &off, nsq * sizeof(double), (void **)&b->rk_qrecv);
         PART(SL_PF_PART_ENSEMBLE);
     }
 #undef PART
@@ -1082,15 +1085,29 @@ void sl_pfi_summary_blank(const sl_pf_config *cfg, double *mean, double *q,
     }
 }
 
-void sl_pfi_summarise(const sl_pf_config *cfg, pf_buffers *b, const double *X,
-                      const double *P, const double *w, sl_pf_output *out,
-                      size_t k)
+/* The first of ns rows that rank r of P summarises (r = P: ns). */
+static size_t rows_first(size_t ns, int P, int r)
+{
+    return (size_t)(((uint64_t)ns * (uint64_t)r) / (uint64_t)P);
+}
+
+sl_status sl_pfi_summarise(const sl_pf_config *cfg, pf_buffers *b, const double *X,
+                           const double *P, const double *w, sl_pf_output *out,
+                           size_t k, sl_error *err)
 {
     const size_t N = cfg->N, n = cfg->model->n_state, p = cfg->model->n_param;
     const size_t v = n + p, nq = cfg->nq, ns = sl_pfi_summary_count(cfg);
     const size_t *rows = cfg->summary_rows;
-    size_t nx = 0;
+    const sl_pf_ranks *rk = cfg->ranks;
+    /* the quantiles shared out across the ranks: a gather a cycle, worth
+     * it when the rows' work is large */
+    const int split = rk != NULL && rk->size > 1 && nq > 0 &&
+                      (double)ns * (double)N >= SL_PFI_SPLIT_QUANTILES;
+    size_t nx = 0, r0 = 0, r1 = ns, i, l, at;
+    double *qk = out->quant + k * v * nq;
     long r;
+    sl_status st;
+    int q;
     sl_pfi_summary_blank(cfg, out->mean + k * v, out->quant + k * v * nq, v, nq);
     /* the means member by member (the states' rows come first), then the
      * quantiles row by row */
@@ -1100,19 +1117,37 @@ void sl_pfi_summarise(const sl_pf_config *cfg, pf_buffers *b, const double *X,
     sl_weighted_means(N, P, p, ns - nx, rows != NULL ? rows + nx : NULL, n, w,
                       out->mean + k * v + n);
     if (nq == 0)
-        return;
+        return SL_OK;
+    if (split) {
+        r0 = rows_first(ns, rk->size, rk->rank);
+        r1 = rows_first(ns, rk->size, rk->rank + 1);
+    }
 #pragma omp parallel for num_threads(b->nt) schedule(dynamic, 1)
-    for (r = 0; r < (long)ns; r++) {
+    for (r = (long)r0; r < (long)r1; r++) {
         int tid = 0;
         size_t row = sl_pfi_summary_row(cfg, (size_t)r);
         const double *x = row < n ? X + row : P + (row - n);
 #ifdef _OPENMP
         tid = omp_get_thread_num();
 #endif
-        sl_weighted_summary(N, x, row < n ? n : p, w, nq, cfg->probs, NULL,
-                            out->quant + row + k * v * nq, v,
+        sl_weighted_summary(N, x, row < n ? n : p, w, nq, cfg->probs, NULL, qk + row, v,
                             b->qwork + (size_t)tid * b->qwork_per);
     }
+    if (!split)
+        return SL_OK;
+    /* this rank's rows' quantiles, then every rank's */
+    for (i = r0; i < r1; i++)
+        for (l = 0; l < nq; l++)
+            b->rk_qsend[(i - r0) * nq + l] = qk[sl_pfi_summary_row(cfg, i) + l * v];
+    for (q = 0; q < rk->size; q++)
+        b->rk_counts[q] =
+            (rows_first(ns, rk->size, q + 1) - rows_first(ns, rk->size, q)) * nq * sizeof(double);
+    if ((st = rk->allgather(rk->ctx, b->rk_qsend, b->rk_qrecv, b->rk_counts, err)) != SL_OK)
+        return st;
+    for (i = 0, at = 0; i < ns; i++, at += nq)
+        for (l = 0; l < nq; l++)
+            qk[sl_pfi_summary_row(cfg, i) + l * v] = b->rk_qrecv[at + l];
+    return SL_OK;
 }
 
 /* The summary of the derived quantities at the end of cycle k (time t),
@@ -2271,7 +2306,8 @@ sl_status sl_pf_run(const sl_pf_config *cfg, double *X, double *P, double *w,
 
         /* record */
         if (!cfg->no_summary) {
-            sl_pfi_summarise(cfg, &b, Xc, Pc, w, out, k);
+            if ((st = sl_pfi_summarise(cfg, &b, Xc, Pc, w, out, k, err)) != SL_OK)
+                return st;
             st = sl_pfi_summarise_derived(cfg, &b, tk, Xc, Pc, w, out, k, err);
             if (st != SL_OK)
                 return st;

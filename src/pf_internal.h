@@ -50,6 +50,8 @@ typedef struct sl_pfi_buffers {
     int nt; /* threads for per-member loops: 1 for small ensembles */
     size_t *rk_counts; /* a run with cfg->ranks: P counts and P doubles */
     double *rk_stats;  /* of scratch for its collectives */
+    double *rk_qsend, *rk_qrecv; /* and the quantiles of the summarised
+                                  * rows (ns nq doubles each) */
     size_t m0; /* the global index of member 0 (a run split across ranks:
                 * the first member of this rank; else 0): the member
                 * index of every random stream of the forecast */
@@ -154,9 +156,15 @@ size_t sl_pfi_summary_count(const sl_pf_config *cfg);
 size_t sl_pfi_summary_row(const sl_pf_config *cfg, size_t i);
 void sl_pfi_summary_blank(const sl_pf_config *cfg, double *mean, double *q,
                           size_t qinc, size_t nq);
-void sl_pfi_summarise(const sl_pf_config *cfg, pf_buffers *b, const double *X,
-                      const double *P, const double *w, sl_pf_output *out,
-                      size_t k);
+/* The summary of cycle k: the weighted means and quantiles of the
+ * summarised rows. In a run with cfg->ranks (the forecasts split) each
+ * rank works out the quantiles of its share of the rows when there is
+ * enough of that work (SL_PFI_SPLIT_QUANTILES), and gathers the others';
+ * a failure of that gather is returned. */
+#define SL_PFI_SPLIT_QUANTILES 65536
+sl_status sl_pfi_summarise(const sl_pf_config *cfg, pf_buffers *b, const double *X,
+                           const double *P, const double *w, sl_pf_output *out,
+                           size_t k, sl_error *err);
 sl_status sl_pfi_summarise_derived(const sl_pf_config *cfg, pf_buffers *b, double t,
                                    const double *X, const double *P, const double *w,
                                    sl_pf_output *out, size_t k, sl_error *err);

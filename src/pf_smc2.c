@@ -399,7 +399,9 @@ sl_status sl_pfi_smc2_run(const sl_pf_config *cfg, pf_buffers *b, void *work, do
                 b->vid[0][i + j * p] = gid[i + (j / M) * p];
         if (!cfg->no_summary) {
             sl_status sst;
-            sl_pfi_summarise(cfg, b, sy.X, sy.P, w, out, k);
+            sst = sl_pfi_summarise(cfg, b, sy.X, sy.P, w, out, k, err);
+            if (sst != SL_OK)
+                return sst;
             sst = sl_pfi_summarise_derived(cfg, b, cfg->times[k], sy.X, sy.P, w, out, k, err);
             if (sst != SL_OK)
                 return sst;

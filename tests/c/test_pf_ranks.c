@@ -615,7 +615,8 @@ static void check_wide_kalman(void)
     const double probs[2] = {0.1, 0.9};
     const sl_analysis *an[4] = {&sl_analysis_etkf, &sl_analysis_enkf, &sl_analysis_eakf,
                                 &sl_analysis_letkf};
-    const char *names[5] = {"etkf", "enkf", "eakf", "letkf", "etkf with lag 2"};
+    const char *names[6] = {"etkf", "enkf", "eakf", "letkf", "etkf with lag 2",
+                            "etkf, 480 members (quantiles shared out)"};
     sl_localization loc;
     sl_model md;
     sl_pf_config cfg;
@@ -662,10 +663,24 @@ static void check_wide_kalman(void)
     loc.obs_pos = opos;
     loc.obs_c = oc;
     loc.param_factor = 1.0;
-    for (q = 0; q < 5; q++) {
+    for (q = 0; q < 6; q++) {
         run_buf ref;
-        base_config(&cfg, &md, N, T, times, first, y, sg, aux, fam, var);
+        /* 140 rows x 480 members: past SL_PFI_SPLIT_QUANTILES (65536) */
+        const size_t NN = q == 5 ? 480 : N;
+        double *X5 = NULL;
+        if (q == 5) {
+            X5 = ck_malloc(NX * NN * sizeof(double));
+            for (j = 0; j < NN; j++) {
+                sl_stream s;
+                sl_stream_init(&s, 18, (uint32_t)j, 0, SL_PURPOSE_PRIOR);
+                for (i = 0; i < NX; i++)
+                    X5[i + j * NX] = sl_stream_normal(&s);
+            }
+        }
+        base_config(&cfg, &md, NN, T, times, first, y, sg, aux, fam, var);
         cfg.analysis = an[q < 4 ? q : 0];
+        if (q == 5)
+            cfg.nq = 2;
         cfg.nq = 2;
         cfg.probs = probs;
         cfg.seed = 99;
@@ -673,12 +688,13 @@ static void check_wide_kalman(void)
             cfg.loc = &loc;
         if (q == 4)
             cfg.lag = 2;
-        run_alloc(&ref, &cfg, X0, P0, sl_pf_workspace(&cfg));
+        run_alloc(&ref, &cfg, q == 5 ? X5 : X0, P0, sl_pf_workspace(&cfg));
         ref.st = sl_pf_run(&cfg, ref.X, ref.P, ref.w, ref.work, &ref.out, &ref.err);
         CHECK(ref.st == SL_OK, "%s single process: %s", names[q], ref.err.message);
         if (ref.st == SL_OK)
-            compare_ranks(&cfg, &ref, X0, P0, names[q], 0);
+            compare_ranks(&cfg, &ref, q == 5 ? X5 : X0, P0, names[q], 0);
         run_free(&ref);
+        ck_free(X5);
     }
 }
 

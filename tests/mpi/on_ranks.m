@@ -331,7 +331,8 @@ try
     case 'kalmanrows'
       % a wide model (Lorenz-96, 160 states): the ensemble Kalman analyses
       % share their rows (the LETKF its grid points) out across the ranks
-      % as well as the forecasts; every output is the one-process run's
+      % as well as the forecasts (the EnKF's 160 rows x 420 members also
+      % share out their quantiles); every output is the one-process run's
       lspec = sluice.model ('lorenz96', 'n', 160);
       T = 8;
       t = repmat (0.05 * (1:T), 40, 1);
@@ -346,7 +347,7 @@ try
       loc = struct ('geometry', 'ring', 'period', 160, 'radius', 6);
       calls = {{'method', 'letkf', 'members', 20, 'localization', loc, 'inflation', 1.02}, ...
                {'method', 'etkf', 'members', 30, 'inflation', 1.01}, ...
-               {'method', 'enkf', 'members', 30, 'localization', loc, 'rtps', 0.3}};
+               {'method', 'enkf', 'members', 420, 'localization', loc, 'rtps', 0.3}};
       ok = true;
       why = '';
       for k = 1:numel (calls)
