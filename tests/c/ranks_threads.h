@@ -80,4 +80,29 @@ static inline sl_status fake_exchange(void *ctx, const void *send, const size_t 
     return SL_OK;
 }
 
+/* A fresh shared state for P ranks. */
+static inline void ranks_open(shared_comm *sh, int P)
+{
+    memset(sh, 0, sizeof *sh);
+    sh->P = P;
+    pthread_barrier_init(&sh->bar, NULL, (unsigned)P);
+}
+
+/* Play the P ranks of sh: fn on each rank's job (jobs, `size` bytes
+ * apart) in its own thread, all joined, and the state closed. 1 if
+ * every thread started (else none is joined: the test stops there). */
+static inline int ranks_play(shared_comm *sh, void *(*fn)(void *), void *jobs, size_t size)
+{
+    pthread_t th[MAX_RANKS];
+    int r, ok = 1;
+    for (r = 0; r < sh->P; r++)
+        if (pthread_create(&th[r], NULL, fn, (unsigned char *)jobs + (size_t)r * size) != 0)
+            ok = 0;
+    for (r = 0; r < sh->P && ok; r++)
+        pthread_join(th[r], NULL);
+    if (ok)
+        pthread_barrier_destroy(&sh->bar);
+    return ok;
+}
+
 #endif

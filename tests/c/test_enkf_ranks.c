@@ -140,11 +140,8 @@ static void *rank_main(void *arg)
 static int run_ranks(const problem *pb, const sl_enkf_config *cfg, int P, int stop_rank,
                      int stop_at, shared_comm *sh, job *jobs)
 {
-    pthread_t th[MAX_RANKS];
-    int r, ok = 1;
-    memset(sh, 0, sizeof *sh);
-    sh->P = P;
-    pthread_barrier_init(&sh->bar, NULL, (unsigned)P);
+    int r, ok;
+    ranks_open(sh, P);
     for (r = 0; r < P; r++) {
         job *j = &jobs[r];
         memset(j, 0, sizeof *j);
@@ -157,13 +154,8 @@ static int run_ranks(const problem *pb, const sl_enkf_config *cfg, int P, int st
         job_start(j, pb, cfg, &j->rk);
         j->stop_at = r == stop_rank ? stop_at : 0;
     }
-    for (r = 0; r < P; r++)
-        if (pthread_create(&th[r], NULL, rank_main, &jobs[r]) != 0)
-            ok = 0;
+    ok = ranks_play(sh, rank_main, jobs, sizeof *jobs);
     CHECK(ok, "threads started");
-    for (r = 0; r < P && ok; r++)
-        pthread_join(th[r], NULL);
-    pthread_barrier_destroy(&sh->bar);
     CHECK(!sh->mismatch, "ranks disagreed on the sizes of the gather (%d ranks)", P);
     return ok;
 }

@@ -159,11 +159,8 @@ static void *rank_main(void *arg)
 static int run_ranks(const sl_pf_config *cfg, int P, size_t chunk, const double *X0,
                      const double *P0, shared_comm *sh, rank_job *jobs)
 {
-    pthread_t th[MAX_RANKS];
-    int r, ok = 1;
-    memset(sh, 0, sizeof *sh);
-    sh->P = P;
-    pthread_barrier_init(&sh->bar, NULL, (unsigned)P);
+    int r, ok;
+    ranks_open(sh, P);
     for (r = 0; r < P; r++) {
         rank_job *j = &jobs[r];
         size_t bytes;
@@ -181,13 +178,8 @@ static int run_ranks(const sl_pf_config *cfg, int P, size_t chunk, const double 
         CHECK(bytes > 0, "workspace of rank %d of %d", r, P);
         run_alloc(&j->r, cfg, X0, P0, bytes);
     }
-    for (r = 0; r < P; r++)
-        if (pthread_create(&th[r], NULL, rank_main, &jobs[r]) != 0)
-            ok = 0;
+    ok = ranks_play(sh, rank_main, jobs, sizeof *jobs);
     CHECK(ok, "threads started");
-    for (r = 0; r < P && ok; r++)
-        pthread_join(th[r], NULL);
-    pthread_barrier_destroy(&sh->bar);
     CHECK(!sh->mismatch, "ranks disagreed on the sizes of a collective (%d ranks)", P);
     return ok;
 }
