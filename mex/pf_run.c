@@ -440,13 +440,27 @@ static void decode_observations(run_settings *s)
         cfg->aux = fmat(s, "obs_aux", m, 0, SLM_VECTOR | SLM_ALLOW_NAN);
         if (!mxIsCell(fc) || mxGetNumberOfElements(fc) != m)
             slm_fail(s->fn, "badobs", "obs_family must be a cellstr with one name per observation");
+        const mxArray *prev = NULL;
         for (k = 0; k < m; k++) {
-            char *name = slm_string(s->fn, mxGetCell(fc, k), 1, "obs_family");
-            fam[k] = sl_family_find(name);
-            if (fam[k] < 0)
-                slm_fail(s->fn, "badfamily", "observation %lu: unknown likelihood family '%s'",
-                         (unsigned long)(k + 1), name);
-            mxFree(name);
+            const mxArray *c = mxGetCell(fc, k);
+            /* a row of the same text as the row before (the usual case:
+             * one family for long runs of rows) takes its family without
+             * converting the text again */
+            if (prev != NULL && c != NULL && mxIsChar(c) && mxGetM(c) == mxGetM(prev) &&
+                mxGetN(c) == mxGetN(prev) &&
+                memcmp(mxGetChars(c), mxGetChars(prev),
+                       mxGetNumberOfElements(c) * sizeof(mxChar)) == 0) {
+                fam[k] = fam[k - 1];
+            } else {
+                char *name = slm_string(s->fn, c, 1, "obs_family");
+                fam[k] = sl_family_find(name);
+                if (fam[k] < 0)
+                    slm_fail(s->fn, "badfamily",
+                             "observation %lu: unknown likelihood family '%s'",
+                             (unsigned long)(k + 1), name);
+                mxFree(name);
+                prev = c;
+            }
             /* an index a size_t holds; its range is sl_pf_check's */
             if (!(ovar[k] >= 0 && ovar[k] <= INDEX_MAX) || ovar[k] != floor(ovar[k]))
                 slm_fail(s->fn, "badobs", "observation %lu: the variable index must be a "

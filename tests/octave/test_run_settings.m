@@ -251,3 +251,36 @@
 %! assert (isequaln (a, b));
 %! b = sluice.kernel.pf_run (run.engine.c);   % seed 7's members
 %! assert (~isequal (a.final.X, b.final.X));
+
+%!test
+%! % the families of the observation rows: a run of one text is decoded
+%! % once; a row whose text differs from the row before is decoded again
+%! % (the same text in runs or alternating gives the same run), and an
+%! % unknown family is reported at its own row, after a run of known ones
+%! c = settings (good, 'twin', 50);
+%! c.times = 1:6;
+%! c.obs_first = [0 1 2 3 4 5 6];
+%! c.obs_var = zeros (6, 1);
+%! c.obs_value = [1; 2; 0.9; 3; 0.8; 1];
+%! c.obs_sigma = 0.5 * ones (6, 1);
+%! c.obs_aux = nan (6, 1);
+%! c.state_noise = 0.3;
+%! c.obs_family = {'gaussian'; 'gaussian'; 'lognormal'; 'poisson'; 'lognormal'; 'gaussian'};
+%! a = sluice.kernel.pf_run (c);
+%! % the same rows, each family given as text built anew
+%! c.obs_family = cellfun (@(f) char (double (f)), c.obs_family, 'UniformOutput', false);
+%! b = sluice.kernel.pf_run (c);
+%! assert (isequaln (a, b));
+%! % a lognormal row among Gaussian ones changes the run (not taken from the row before)
+%! c.obs_family{3} = 'gaussian';
+%! d = sluice.kernel.pf_run (c);
+%! assert (~isequaln (a, d));
+%! c.obs_family(1:5) = {'gaussian'};
+%! c.obs_family{6} = 'gaussiam';
+%! try
+%!   sluice.kernel.pf_run (c);
+%!   error ('test:noerror', 'no error');
+%! catch err
+%!   assert (err.identifier, 'sluice:twin:badfamily');
+%!   assert (strfind (err.message, 'observation 6'));
+%! end
