@@ -170,7 +170,7 @@ ALLOC_BUILD := build-alloc
 ALLOC_SHIM  := $(ALLOC_BUILD)/alloc/failalloc.o
 ALLOC_WRAP  := -Wl,--wrap=malloc,--wrap=calloc,--wrap=realloc,--wrap=free,--wrap=aligned_alloc,--wrap=posix_memalign
 ALLOC_MAXK  ?= 3000
-ALLOC_SKIP  ?= test_enkf test_pf test_smooth
+ALLOC_SKIP  ?= test_enkf test_pf test_smooth test_enkf_ranks
 check-alloc: | $(DEPS)
 	$(MAKE) BUILD=$(ALLOC_BUILD) OPT=-O1 CTEST_LINKDEPS=$(ALLOC_SHIM) \
 	  EXTRA_LDFLAGS="$(ALLOC_SHIM) $(ALLOC_WRAP)" ctests $(ALLOC_BUILD)/selftest/tests/test_bad
