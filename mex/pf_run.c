@@ -580,7 +580,13 @@ static void decode_cycle(run_settings *s)
     cfg->temper.ess = fscalar(s, "temper_ess");
     cfg->temper.max_steps = (size_t)fwhole(s, "temper_max_steps", 1, SL_TEMPER_MAX_STEPS);
     cfg->seed = (uint64_t)fwhole(s, "seed", 0, 9007199254740992.0);
-    cfg->threads = slm_threads(fwhole(s, "threads", 0, 256));
+    {
+        /* 0: every thread OpenMP offers, the run timing its cycles to
+         * use one where more would be slower */
+        const double thr = fwhole(s, "threads", 0, 256);
+        cfg->threads = slm_threads(thr);
+        cfg->threads_paced = thr == 0;
+    }
 }
 
 /* ------------------------------------------- analysis: ensemble Kalman */

@@ -25,7 +25,6 @@
 
 /* Below this many members a parallel region costs more than it saves (and
  * far more on a loaded machine, where a thread may wait a time slice). */
-#define PAR_MIN_MEMBERS SL_PFI_PAR_MIN_MEMBERS
 
 /* Share the `bytes` an analysis's workspace of aw bytes took (its
  * alignment included) among the parts: what it needs on one thread
@@ -120,6 +119,7 @@ static size_t layout(const sl_pf_config *cfg, unsigned char *base,
     PART(SL_PF_PART_ENSEMBLE);
     sl_ws_carve(base, &off, nthr * b->mwork_per * 8, (void **)&b->mwork);
     sl_ws_carve(base, &off, nthr * b->qwork_per * 8, (void **)&b->qwork);
+    sl_ws_carve(base, &off, nthr * q * 8, (void **)&b->tu0);
     PART(SL_PF_PART_THREADS);
     if (sl_param_move_workspace(p) == 0)
         return 0;
@@ -718,118 +718,93 @@ sl_status sl_pfi_snap_call(const sl_pf_config *cfg, pf_buffers *b, void *work, d
 /* Forcing values of every member at time t into U (q x N); advances the
  * AR(1) perturbations E by one step s. *idx tracks the forcing interval.
  * Member j draws from the stream of index ids[j] (j when ids is NULL). */
-void sl_pfi_eval_forcing(const sl_pf_config *cfg, pf_buffers *b, double *E,
-                         double *U, double t, uint32_t s, size_t *idx,
-                         const uint32_t *ids, uint64_t seed, double *zst, int zread)
+/* The forcing's values at t, before any noise, into u0; k tracks the
+ * forcing interval (the last record at or before t) and is returned. */
+static size_t forcing_base(const sl_forcing *f, double t, size_t k, double *u0)
 {
-    const sl_forcing *f = &cfg->forcing;
-    const size_t q = f->q, N = cfg->N, nt = f->nt;
-    size_t i, j, k = *idx;
-    while (k + 1 < nt && f->time[k + 1] <= t)
+    size_t i;
+    while (k + 1 < f->nt && f->time[k + 1] <= t)
         k++;
-    *idx = k;
-    for (i = 0; i < q; i++) {
-        const double *col = f->value + i * nt;
-        if (f->hold || k + 1 >= nt || t <= f->time[k]) {
-            b->u0[i] = col[k];
+    for (i = 0; i < f->q; i++) {
+        const double *col = f->value + i * f->nt;
+        if (f->hold || k + 1 >= f->nt || t <= f->time[k]) {
+            u0[i] = col[k];
         } else {
             double a = (t - f->time[k]) / (f->time[k + 1] - f->time[k]);
-            b->u0[i] = col[k] + a * (col[k + 1] - col[k]);
+            u0[i] = col[k] + a * (col[k + 1] - col[k]);
         }
     }
+    return k;
+}
+
+/* The forcing of member j at step s: its perturbation E and its value U
+ * from the base values u0 */
+static void forcing_member(const sl_pf_config *cfg, const pf_buffers *b, double *E,
+                           double *U, const double *u0, uint32_t s, size_t j,
+                           const uint32_t *ids, uint64_t seed, double *zst, int zread)
+{
+    const sl_forcing *f = &cfg->forcing;
+    const size_t q = f->q;
+    double *e = E + j * q, *u = U + j * q;
+    sl_stream st;
+    size_t i;
     if (f->noise == NULL) {
-        for (j = 0; j < N; j++)
-            memcpy(U + j * q, b->u0, q * sizeof(double));
+        memcpy(u, u0, q * sizeof(double));
         return;
     }
-#pragma omp parallel for num_threads(b->nt) schedule(static) private(i)
-    for (j = 0; j < N; j++) {
-        sl_stream st;
-        double *e = E + j * q, *u = U + j * q;
-        sl_stream_init(&st, seed, ids != NULL ? ids[j] : (uint32_t)(b->m0 + j), s,
-                       SL_PURPOSE_FORCING);
-        for (i = 0; i < q; i++) {
-            const sl_forcing_noise_type *kind = sl_forcing_noise_get(f->noise[i]);
-            double sd = f->sd[i], phi = f->phi[i], z;
-            if (!kind->draws) {
-                u[i] = b->u0[i];
-                continue;
-            }
-            if (zst != NULL && zread) {
-                z = zst[j * b->zlen + (size_t)s * b->zq + b->fslot[i]];
-            } else {
-                z = sl_stream_normal(&st);
-                if (zst != NULL)
-                    zst[j * b->zlen + (size_t)s * b->zq + b->fslot[i]] = z;
-            }
-            e[i] = (s == 0) ? sd * z : phi * e[i] + sqrt(1.0 - phi * phi) * sd * z;
-            u[i] = kind->apply(b->u0[i], e[i], sd);
+    sl_stream_init(&st, seed, ids != NULL ? ids[j] : (uint32_t)(b->m0 + j), s,
+                   SL_PURPOSE_FORCING);
+    for (i = 0; i < q; i++) {
+        const sl_forcing_noise_type *kind = sl_forcing_noise_get(f->noise[i]);
+        double sd = f->sd[i], phi = f->phi[i], z;
+        if (!kind->draws) {
+            u[i] = u0[i];
+            continue;
         }
+        if (zst != NULL && zread) {
+            z = zst[j * b->zlen + (size_t)s * b->zq + b->fslot[i]];
+        } else {
+            z = sl_stream_normal(&st);
+            if (zst != NULL)
+                zst[j * b->zlen + (size_t)s * b->zq + b->fslot[i]] = z;
+        }
+        e[i] = (s == 0) ? sd * z : phi * e[i] + sqrt(1.0 - phi * phi) * sd * z;
+        u[i] = kind->apply(u0[i], e[i], sd);
     }
 }
 
-/* One model step of every member, in parallel blocks when the model
- * allows. With ids (re-run paths) a model that draws by member index
- * steps each member j alone under index ids[j]. */
-sl_status sl_pfi_step_all(const sl_pf_config *cfg, pf_buffers *b, double *X,
-                          const double *P, const double *U, double t, double t_end,
-                          uint32_t s, const uint32_t *ids, uint64_t seed, sl_error *err)
+/* The forcing of every member at step s, from the values at t (*idx
+ * tracks the forcing interval) */
+static void eval_forcing(const sl_pf_config *cfg, pf_buffers *b, double *E, double *U,
+                         double t, uint32_t s, size_t *idx, const uint32_t *ids,
+                         uint64_t seed, double *zst, int zread)
+{
+    const size_t N = cfg->N;
+    size_t j;
+    *idx = forcing_base(&cfg->forcing, t, *idx, b->u0);
+    for (j = 0; j < N; j++)
+        forcing_member(cfg, b, E, U, b->u0, s, j, ids, seed, zst, zread);
+}
+
+/* One model step of members j0..j1-1 under stream counter s: the block
+ * in one call, or, with ids (re-run paths) and a model that draws by
+ * member index, each member j alone under index ids[j] (the first
+ * failure ends it) */
+static sl_status step_members(const sl_pf_config *cfg, const pf_buffers *b, double *X,
+                              const double *P, const double *U, size_t j0, size_t j1,
+                              double t, double t_end, uint32_t s, const uint32_t *ids,
+                              uint64_t seed, double *mwork, sl_error *err)
 {
     const sl_model *md = cfg->model;
-    const size_t N = cfg->N, n = md->n_state, p = md->n_param,
-                 q = md->n_forcing;
-    int nthr = md->thread_safe ? b->nt : 1, k;
+    const size_t n = md->n_state, p = md->n_param, q = md->n_forcing;
+    size_t j;
     sl_status st = SL_OK;
-    if (nthr > 1 && (size_t)nthr > N)
-        nthr = (int)N;
-    if (ids != NULL && md->member_draws) {
-        long jj;
-        for (k = 0; k < nthr; k++)
-            b->terr[k].status = SL_OK;
-#pragma omp parallel for num_threads(nthr) schedule(static)
-        for (jj = 0; jj < (long)N; jj++) {
-            int tid = 0;
-            size_t j = (size_t)jj;
-#ifdef _OPENMP
-            tid = omp_get_thread_num();
-#endif
-            if (b->terr[tid].status == SL_OK)
-                md->step(md, t, t_end, ids[j], 1, X + j * n, P + j * p, U + j * q,
-                         seed, s, b->mwork + (size_t)tid * b->mwork_per,
-                         &b->terr[tid]);
-        }
-        for (k = 0; k < nthr && st == SL_OK; k++)
-            if (b->terr[k].status != SL_OK) {
-                st = b->terr[k].status;
-                if (err != NULL)
-                    *err = b->terr[k];
-            }
-        return st;
-    }
-    if (nthr <= 1)
-        return md->step(md, t, t_end, b->m0, N, X, P, U, seed, s, b->mwork, err);
-    for (k = 0; k < nthr; k++)
-        b->terr[k].status = SL_OK;
-#pragma omp parallel num_threads(nthr)
-    {
-        int tid = 0;
-        size_t j0, j1;
-#ifdef _OPENMP
-        tid = omp_get_thread_num();
-#endif
-        j0 = N * (size_t)tid / (size_t)nthr;
-        j1 = N * (size_t)(tid + 1) / (size_t)nthr;
-        if (j1 > j0)
-            md->step(md, t, t_end, b->m0 + j0, j1 - j0, X + j0 * n, P + j0 * p,
-                     U + j0 * q, seed, s, b->mwork + (size_t)tid * b->mwork_per,
-                     &b->terr[tid]);
-    }
-    for (k = 0; k < nthr && st == SL_OK; k++)
-        if (b->terr[k].status != SL_OK) {
-            st = b->terr[k].status;
-            if (err != NULL)
-                *err = b->terr[k];
-        }
+    if (ids == NULL || !md->member_draws)
+        return md->step(md, t, t_end, b->m0 + j0, j1 - j0, X + j0 * n, P + j0 * p, U + j0 * q,
+                        seed, s, mwork, err);
+    for (j = j0; j < j1 && st == SL_OK; j++)
+        st = md->step(md, t, t_end, ids[j], 1, X + j * n, P + j * p, U + j * q, seed, s, mwork,
+                      err);
     return st;
 }
 
@@ -851,32 +826,165 @@ size_t sl_pfi_nsteps(const sl_model *md, double t, double tk, double *h)
     return nsteps;
 }
 
+/* The interval on nthr threads in one parallel region. The members go in
+ * contiguous chunks, about REGION_CHUNKS a thread, dealt as threads come
+ * free; one thread takes its chunk through every step of the interval.
+ * Each member meets the same forcing and step calls as in the
+ * step-by-step order, so its states are the same bits for any number of
+ * threads. A failure is the one that order reports: of the earliest
+ * failing step, the lowest chunk's (a chunk stops at a step later than
+ * the earliest failure seen). Thread 0, the caller's own, polls.
+ * Returns the failing step in *fail (nsteps if none). */
+#define REGION_CHUNKS 8
+#define REGION_MIN_CHUNK 8
+static sl_status forecast_region(const sl_pf_config *cfg, pf_buffers *b, double *X,
+                                 const double *P, double *E, double *U, double t0,
+                                 double tk, double h, size_t nsteps, size_t at, uint32_t s0,
+                                 size_t fidx0, const uint32_t *ids, uint64_t seed,
+                                 double *zst, int zread, int through, int nthr,
+                                 size_t *fail, sl_error *err)
+{
+    const size_t N = cfg->N, q = cfg->model->n_forcing;
+    const size_t per = (size_t)nthr * REGION_CHUNKS;
+    size_t cs = (N + per - 1) / per, nch, first = nsteps, fstep[MAX_THREADS],
+           fchunk[MAX_THREADS], finished = 0;
+    int stop = 0, k, best = -1;
+    if (cs < REGION_MIN_CHUNK)
+        cs = REGION_MIN_CHUNK;
+    nch = (N + cs - 1) / cs;
+    for (k = 0; k < nthr; k++) {
+        fstep[k] = nsteps;
+        fchunk[k] = 0;
+    }
+#pragma omp parallel num_threads(nthr)
+    {
+        int tid = 0;
+        long cc;
+        double shown = 0.0, *u0;
+        sl_error e;
+#ifdef _OPENMP
+        tid = omp_get_thread_num();
+#endif
+        u0 = b->tu0 + (size_t)tid * q;
+        sl_error_clear(&e);
+#pragma omp for schedule(dynamic, 1)
+        for (cc = 0; cc < (long)nch; cc++) {
+            const size_t c = (size_t)cc, j0 = c * cs, j1 = N - j0 > cs ? j0 + cs : N;
+            size_t l, fk = fidx0, j, seen;
+            int halt;
+#pragma omp atomic read
+            halt = stop;
+            for (l = 0; l < nsteps && !halt; l++) {
+                const double ts = t0 + (double)l * h;
+                const double te = l + 1 == nsteps ? tk : t0 + (double)(l + 1) * h;
+                const uint32_t sl = s0 + (uint32_t)l;
+#pragma omp atomic read
+                seen = first;
+                if (l > seen)
+                    break;
+                if (q > 0) {
+                    fk = forcing_base(&cfg->forcing, ts, fk, u0);
+                    for (j = j0; j < j1; j++)
+                        forcing_member(cfg, b, E, U, u0, sl, j, ids, seed, zst, zread);
+                }
+                if (step_members(cfg, b, X, P, U, j0, j1, ts, te, sl, ids, seed,
+                                 b->mwork + (size_t)tid * b->mwork_per, &e) != SL_OK) {
+                    if (l < fstep[tid] || (l == fstep[tid] && c < fchunk[tid])) {
+                        fstep[tid] = l;
+                        fchunk[tid] = c;
+                        b->terr[tid] = e;
+                    }
+#pragma omp critical(sl_pfi_region_fail)
+                    if (l < first) {
+#pragma omp atomic write
+                        first = l;
+                    }
+                    break;
+                }
+                if (tid == 0 && cfg->poll != NULL) {
+                    size_t fin;
+                    double done = (double)at;
+#pragma omp atomic read
+                    fin = finished;
+                    if (through) {
+                        double f = ((double)fin + (double)(l + 1) / (double)nsteps) / (double)nch;
+                        shown = f > shown ? (f < 1.0 ? f : 1.0) : shown;
+                        done += shown;
+                    }
+                    if (cfg->poll(cfg->poll_ctx, done / (double)cfg->T)) {
+#pragma omp atomic write
+                        stop = 1;
+                        halt = 1;
+                    }
+                }
+            }
+#pragma omp atomic update
+            finished++;
+        }
+    }
+    for (k = 0; k < nthr; k++)
+        if (fstep[k] < nsteps &&
+            (best < 0 || fstep[k] < fstep[best] ||
+             (fstep[k] == fstep[best] && fchunk[k] < fchunk[best])))
+            best = k;
+    *fail = best >= 0 ? fstep[best] : nsteps;
+    if (best >= 0) {
+        if (err != NULL)
+            *err = b->terr[best];
+        return b->terr[best].status != SL_OK ? b->terr[best].status : SL_EMODEL;
+    }
+    if (stop)
+        return sl_fail(err, SL_EINTERRUPT, "interrupted",
+                       "the run was interrupted at cycle %lu of %lu", (unsigned long)(at + 1),
+                       (unsigned long)cfg->T);
+    return SL_OK;
+}
+
 /* Advance every member (X, P, forcing perturbations E, forcing values U)
  * from *t to the time of cycle k: forcing, then a model step, for each
  * step; *s counts steps (a failing step counted too), *fidx tracks the
- * forcing interval, ids/seed/zst/zread as sl_pfi_eval_forcing. Between
- * steps the run's poll may stop it; it is told the fraction of the run
- * done at cycle `at` (through its steps when `through` is set, else
- * at / T), and an interruption names cycle `at`. */
+ * forcing interval. ids (re-run paths: member j runs under stream index
+ * ids[j]), seed, and the path's stored normals zst (read when zread, else
+ * written) shape the draws. Between steps the run's poll may stop it; it
+ * is told the fraction of the run done at cycle `at` (through its steps
+ * when `through` is set, else at / T), and an interruption names cycle
+ * `at`. A model that may step member blocks in parallel runs the whole
+ * interval in one parallel region when b->nt > 1. */
 sl_status sl_pfi_forecast(const sl_pf_config *cfg, pf_buffers *b, double *X,
                           const double *P, double *E, double *U, double *t, size_t k,
                           size_t at, uint32_t *s, size_t *fidx, const uint32_t *ids,
                           uint64_t seed, double *zst, int zread, int through,
                           sl_error *err)
 {
+    const sl_model *md = cfg->model;
     const double tk = cfg->times[k];
     double h;
-    const size_t nsteps = sl_pfi_nsteps(cfg->model, *t, tk, &h);
+    const size_t nsteps = sl_pfi_nsteps(md, *t, tk, &h), N = cfg->N;
+    int nthr = md->thread_safe ? b->nt : 1;
     size_t l;
     sl_status st;
+    if (nthr > 1 && (size_t)nthr > N)
+        nthr = (int)N;
+    if (nthr > 1 && nsteps > 0) {
+        st = forecast_region(cfg, b, X, P, E, U, *t, tk, h, nsteps, at, *s, *fidx, ids, seed,
+                             zst, zread, through, nthr, &l, err);
+        if (md->n_forcing > 0)
+            *fidx = forcing_base(&cfg->forcing, *t + (double)(l < nsteps ? l : nsteps - 1) * h,
+                                 *fidx, b->u0);
+        *s += (uint32_t)(l < nsteps ? l + 1 : nsteps);
+        if (st != SL_OK)
+            return st;
+        *t = tk;
+        return SL_OK;
+    }
     for (l = 0; l < nsteps; l++) {
         /* the end of step l is exactly the start of step l + 1 */
         double ts = *t + (double)l * h;
         double te = l + 1 == nsteps ? tk : *t + (double)(l + 1) * h;
         double done = through ? (double)at + (double)(l + 1) / (double)nsteps : (double)at;
-        if (cfg->model->n_forcing > 0)
-            sl_pfi_eval_forcing(cfg, b, E, U, ts, *s, fidx, ids, seed, zst, zread);
-        st = sl_pfi_step_all(cfg, b, X, P, U, ts, te, *s, ids, seed, err);
+        if (md->n_forcing > 0)
+            eval_forcing(cfg, b, E, U, ts, *s, fidx, ids, seed, zst, zread);
+        st = step_members(cfg, b, X, P, U, 0, N, ts, te, *s, ids, seed, b->mwork, err);
         (*s)++;
         if (st != SL_OK)
             return st;
@@ -2080,9 +2188,10 @@ sl_status sl_pf_run(const sl_pf_config *cfg, double *X, double *P, double *w,
     size_t N, n, p, q, i, j, k, k0 = 0, fidx = 0, ndead;
     pf_buffers b;
     const sl_analysis *an;
-    int cur = 0, moving, weighs;
+    int cur = 0, moving, weighs, paced;
     uint32_t s = 0;
-    double t;
+    double t, tprev = 0.0, units = 0.0;
+    sl_pfi_pace pace;
     sl_status st = sl_pf_check(cfg, err);
     if (st != SL_OK)
         return st;
@@ -2095,7 +2204,7 @@ sl_status sl_pf_run(const sl_pf_config *cfg, double *X, double *P, double *w,
     layout(cfg, (unsigned char *)work, &b, NULL);
     an = b.an;
     weighs = (an->flags & SL_ANALYSIS_WEIGHTS) != 0;
-    b.nt = N >= PAR_MIN_MEMBERS ? cfg->threads : 1;
+    b.nt = sl_pfi_unpaced_threads(cfg, N);
     if (cfg->derived_summary && cfg->n_lin + cfg->n_fun > 0 &&
         (out->dmean == NULL || (cfg->nq > 0 && out->dquant == NULL)))
         return sl_fail(err, SL_EINVAL, "badconfig",
@@ -2174,6 +2283,12 @@ sl_status sl_pf_run(const sl_pf_config *cfg, double *X, double *P, double *w,
         out->steps = (size_t)h->steps;
     }
 
+    /* a run split across ranks keeps one count on every rank */
+    paced = cfg->threads_paced && cfg->ranks == NULL;
+    if (paced)
+        sl_pfi_pace_init(&pace, cfg->threads);
+    else if (!cfg->threads_paced)
+        b.nt = cfg->threads;
     for (k = k0; k < cfg->T; k++) {
         const double tk = cfg->times[k];
         const size_t r0 = cfg->obs_first[k], m = cfg->obs_first[k + 1] - r0;
@@ -2181,6 +2296,17 @@ sl_status sl_pf_run(const sl_pf_config *cfg, double *X, double *P, double *w,
         size_t nskipped = 0, nobs, tsteps = 0, evals = 0;
         double ess, wsum, tphi = 0.0, tlogz = 0.0;
         int reweight = 0, resampled = 0, degenerate = 0;
+
+        if (paced) {
+            /* the last cycle's time, from its start to this one's */
+            const double now = sl_pfi_seconds();
+            double hk;
+            if (k > k0)
+                sl_pfi_pace_record(&pace, now - tprev, units);
+            b.nt = sl_pfi_pace_next(&pace);
+            tprev = now;
+            units = (double)N * (double)(sl_pfi_nsteps(md, t, tk, &hk) + 1);
+        }
 
         b.rm_sweeps = b.rm_proposed = b.rm_accepted = 0;
 

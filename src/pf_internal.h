@@ -11,7 +11,7 @@
 typedef struct sl_pfi_buffers {
     double *X[2], *Z[2], *P[2], *E[2]; /* ping-pong pairs for resampling */
     unsigned char *dead[2];
-    double *U, *u0, *Yhat, *Yfun, *Yd, *ll, *logw, *lw, *rwork, *mwork, *qwork;
+    double *U, *u0, *tu0, *Yhat, *Yfun, *Yd, *ll, *logw, *lw, *rwork, *mwork, *qwork;
     /* ensemble Kalman analysis (laid out in awork by its table entry):
      * augmented ensemble, compacted observations and their positions,
      * live members, the method's work */
@@ -116,17 +116,43 @@ sl_status sl_pfi_reweight(size_t N, const unsigned char *dead, double *ll, size_
                           double rest, double *lw, double *logw, double *w, double *logz,
                           int *degenerate, sl_error *err);
 
-/* The cycle's helpers (pf.c): forcing values and their perturbations,
- * a model step of every member, the state noise, predicted observations,
+/* The pace of a run (pf_pace.c): how many threads its next cycle uses,
+ * 1 or most, chosen by timing cycles. next gives the count for the next
+ * cycle; record takes that cycle's seconds and its units of work (members
+ * times steps, or any measure proportional to its work). */
+typedef struct {
+    int most;      /* the most threads the run may use */
+    int chosen;    /* the count kept between rounds */
+    int cur;       /* the count of the cycle being run */
+    int round;     /* cycles left in the current round of trials */
+    int tiny;      /* this round's cycles on one thread are too short */
+    double sec[2];   /* this round's counted seconds and units of work, */
+    double units[2]; /* on 1 thread [0] and on most [1] */
+    double spent[2]; /* the same, every cycle of the round */
+    double spent_units[2];
+    size_t wait;     /* cycles between rounds */
+    size_t left;     /* cycles left before the next round */
+    double wait_s;   /* seconds between rounds */
+    double since;    /* seconds since the last round */
+    double pace;     /* the kept choice's seconds per unit in the last round */
+    int (*others)(void); /* threads ready to run besides ours, -1: unknown */
+    int cores;       /* the machine's cores */
+    int free_seen;   /* this round has seen a free core for each thread */
+} sl_pfi_pace;
+void sl_pfi_pace_init(sl_pfi_pace *g, int most);
+/* the threads of a run's per-member loops where it is not paced: all of
+ * cfg->threads, or for a paced run (whose cycles are not timed there)
+ * one thread below SL_PFI_PAR_MIN_MEMBERS members */
+int sl_pfi_unpaced_threads(const sl_pf_config *cfg, size_t members);
+int sl_pfi_pace_next(sl_pfi_pace *g);
+void sl_pfi_pace_record(sl_pfi_pace *g, double seconds, double units);
+double sl_pfi_seconds(void);
+int sl_pfi_others_running(void);
+
+/* The cycle's helpers (pf.c): the state noise, predicted observations,
  * member log-likelihoods, summaries and diversity, gathering columns by
  * ancestors, a finiteness check, and the log prior of transformed
  * parameters (est flags the estimated ones). */
-void sl_pfi_eval_forcing(const sl_pf_config *cfg, pf_buffers *b, double *E,
-                         double *U, double t, uint32_t s, size_t *idx,
-                         const uint32_t *ids, uint64_t seed, double *zst, int zread);
-sl_status sl_pfi_step_all(const sl_pf_config *cfg, pf_buffers *b, double *X,
-                          const double *P, const double *U, double t, double t_end,
-                          uint32_t s, const uint32_t *ids, uint64_t seed, sl_error *err);
 void sl_pfi_record_diversity(const sl_pf_config *cfg, pf_buffers *b, const uint32_t *id,
                              const double *Z, const double *w, sl_pf_output *out,
                              size_t k);

@@ -151,7 +151,8 @@ static sl_status enkf_update(const sl_pf_config *cfg, const sl_enkf_config *sett
         ecfg.seed = sl_fnv1a(cfg->seed, &c, sizeof c);
     }
     ecfg.cycle = (uint32_t)k;
-    ecfg.threads = cfg->threads;
+    /* a paced run: the cycle's count */
+    ecfg.threads = cfg->threads_paced ? b->nt : cfg->threads;
     ecfg.ranks = analysis_ranks(cfg, &er);
     /* the run's poll also between the parts of a long analysis */
     ecfg.poll = cfg->poll;

@@ -597,7 +597,7 @@ sl_status sl_pf_run_ranks(const sl_pf_config *cfg, const sl_pf_ranks *rk, double
     rb.nr = nr;
     rb.m0 = m0;
     b->m0 = m0;
-    b->nt = nr >= SL_PFI_PAR_MIN_MEMBERS ? cfg->threads : 1;
+    b->nt = sl_pfi_unpaced_threads(cfg, nr);
     rb.g.mark = rb.gmark;
     nrw = row_first(rb.ns, R, rk->rank + 1) - row_first(rb.ns, R, rk->rank);
 
@@ -831,7 +831,7 @@ sl_status sl_pfi_forecast_split(const sl_pf_config *cfg, pf_buffers *b, int cur,
     lc.ranks = NULL;
     sl_error_clear(&lerr);
     b->m0 = m0;
-    b->nt = nr >= SL_PFI_PAR_MIN_MEMBERS ? cfg->threads : 1;
+    b->nt = sl_pfi_unpaced_threads(cfg, nr);
     lst = sl_pfi_forecast(&lc, b, b->X[cur] + m0 * n, b->P[cur] + m0 * p, b->E[cur] + m0 * q,
                           b->U + m0 * q, t, k, k, s, fidx, NULL, cfg->seed, NULL, 0, 1, &lerr);
     b->m0 = 0;

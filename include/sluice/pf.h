@@ -221,7 +221,10 @@ typedef struct {
      * methods ignore it. */
     sl_temper_opts temper;
     uint64_t seed;
-    int threads;                 /* >= 1 */
+    int threads;                 /* >= 1: the most threads the run uses */
+    int threads_paced;           /* 1: the run times its cycles and uses one
+                                  * thread where threads would be slower;
+                                  * 0: always `threads` */
     size_t nq;                   /* quantile levels to record */
     const double *probs;
     int keep_history;

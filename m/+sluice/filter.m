@@ -371,7 +371,11 @@
 % @code{smoothed.distinct} counts them and the run warns
 % (@code{sluice:filter:smoothcollapse}, below).
 % @item threads
-% OpenMP threads (default: @env{OMP_NUM_THREADS} or all cores).
+% OpenMP threads. Default: up to @env{OMP_NUM_THREADS} or all cores,
+% the run timing its cycles and running those on one thread where more
+% would be slower (short cycles, or no core free on a busy machine). A
+% number given is used as it is, for every cycle. The result is the
+% same, bit for bit, for any number of threads.
 % @item checkpoint, checkpoint_every
 % A file name (default @code{''}: none) and a number of cycles [100]:
 % after every @code{checkpoint_every} cycles, and after the last, the

@@ -488,6 +488,178 @@ static void check_snapshot(void)
     CHECK(sl_fnv1a(SL_FNV_START, "a", 1) == 0xaf63dc4c8601ec8cULL, "FNV-1a of 'a'");
 }
 
+/* ------------------------------------- the forecast's parallel region */
+
+/* A map of two states with one forcing, ten steps of 0.1 between
+ * observations, safe on member blocks: it fails (SL_EMODEL) for the
+ * members and global steps listed in its context, the first listed
+ * member of a block in member order, as a one-thread run meets them. */
+typedef struct {
+    size_t nfail;
+    size_t member[4];
+    uint32_t step[4];
+} ticker_ctx;
+
+static sl_status ticker_step(const sl_model *md, double t, double t_end, size_t first,
+                             size_t count, double *X, const double *P, const double *U,
+                             uint64_t seed, uint32_t step, double *work, sl_error *err)
+{
+    const ticker_ctx *c = (const ticker_ctx *)md->ctx;
+    size_t i, f;
+    (void)P;
+    (void)seed;
+    (void)work;
+    for (i = 0; i < count; i++) {
+        double *x = X + 2 * i;
+        for (f = 0; f < c->nfail; f++)
+            if (c->member[f] == first + i && c->step[f] == step)
+                return sl_fail(err, SL_EMODEL, "stepfailed", "member %lu failed at step %lu",
+                               (unsigned long)(first + i), (unsigned long)step);
+        x[0] = 0.9 * x[0] + 0.1 * U[i] + 0.01 * (t_end - t) * (double)((first + i) % 7);
+        x[1] = x[1] + 0.1 * sin(x[0]);
+    }
+    return SL_OK;
+}
+
+typedef struct {
+    size_t calls, stop_at;
+    double last;
+    int backwards;
+} poll_log;
+
+static int region_poll(void *ctx, double fraction)
+{
+    poll_log *pl = (poll_log *)ctx;
+    pl->calls++;
+    if (fraction < pl->last || fraction < 0.0 || fraction > 1.0)
+        pl->backwards = 1;
+    pl->last = fraction;
+    return pl->stop_at > 0 && pl->calls >= pl->stop_at;
+}
+
+/* One run of the ticker on `threads` threads (paced: the pace may choose
+ * fewer): status, error, final states, means and log-evidence. */
+typedef struct {
+    sl_status st;
+    sl_error err;
+    double X[2 * 200], mean[2 * 3], logz[3], evidence;
+} ticker_result;
+
+static void ticker_run(const ticker_ctx *tc, int threads, int paced, poll_log *pl,
+                       ticker_result *res)
+{
+    enum { N = 200, T = 3 };
+    static const double times[T] = {1.0, 2.0, 3.0}, yv[T] = {0.4, 0.2, 0.5};
+    static const double ftime[4] = {0.0, 1.0, 2.0, 3.0}, fval[4] = {1.0, 0.5, -0.5, 0.2};
+    static const int noise[1] = {SL_FORCING_ADDITIVE};
+    static const double sd[1] = {0.2}, phi[1] = {0.5};
+    sl_model md;
+    sl_pf_config cfg;
+    obs_table o;
+    run_buf r;
+    ticker_ctx ctx = *tc;
+    double X0[2 * N];
+    size_t j;
+    memset(&md, 0, sizeof md);
+    md.name = "ticker";
+    md.n_state = 2;
+    md.n_forcing = 1;
+    md.dt = 0.1;
+    md.discrete = 1;
+    md.thread_safe = 1;
+    md.step = ticker_step;
+    md.ctx = &ctx;
+    one_obs_per_cycle(&o, T, yv, 0.3);
+    base_config(&cfg, &md, N, T, times, &o);
+    cfg.forcing.nt = 4;
+    cfg.forcing.time = ftime;
+    cfg.forcing.value = fval;
+    cfg.forcing.noise = noise;
+    cfg.forcing.sd = sd;
+    cfg.forcing.phi = phi;
+    cfg.threads = threads;
+    cfg.threads_paced = paced;
+    if (pl != NULL) {
+        cfg.poll = region_poll;
+        cfg.poll_ctx = pl;
+    }
+    for (j = 0; j < 2 * N; j++)
+        X0[j] = 0.05 * (double)(j % 13) - 0.3;
+    sl_error_clear(&res->err);
+    res->st = run(&cfg, X0, &r, &res->err);
+    memcpy(res->X, r.X, sizeof res->X);
+    memcpy(res->mean, r.out.mean, sizeof res->mean);
+    memcpy(res->logz, r.out.logz, sizeof res->logz);
+    res->evidence = r.out.log_evidence;
+    run_free(&r);
+}
+
+/* The forecast runs each interval in one parallel region, members in
+ * chunks through all its steps: the same bits as one thread for any
+ * count, and the same failure (the earliest step's, the lowest member's
+ * at that step, as the one-thread order meets them); a poll's stop ends
+ * it, and the fractions it is told never go back. */
+static void check_forecast_region(void)
+{
+    static const ticker_ctx cases[] = {
+        {0, {0}, {0}},
+        {2, {150, 20}, {13, 17}},   /* the earlier step wins, whatever the member */
+        {2, {180, 40}, {5, 5}},     /* one step: the lower member */
+        {1, {199}, {0}},            /* the last chunk, the first step */
+        {3, {7, 9, 120}, {29, 28, 28}}, /* the last cycle */
+    };
+    static const char *want[] = {NULL, "member 150 failed at step 13",
+                                 "member 40 failed at step 5", "member 199 failed at step 0",
+                                 "member 9 failed at step 28"};
+    size_t c;
+    int thr;
+    ticker_result *one = ck_malloc(sizeof *one), *many = ck_malloc(sizeof *many);
+    for (c = 0; c < sizeof cases / sizeof *cases; c++) {
+        ticker_run(&cases[c], 1, 0, NULL, one);
+        if (want[c] == NULL)
+            CHECK(one->st == SL_OK, "ticker case %lu: %d %s", (unsigned long)c, (int)one->st,
+                  one->err.message);
+        else
+            CHECK(one->st == SL_EMODEL && strcmp(one->err.reason, "stepfailed") == 0 &&
+                      strcmp(one->err.message, want[c]) == 0,
+                  "ticker case %lu, 1 thread: %d %s", (unsigned long)c, (int)one->st,
+                  one->err.message);
+        for (thr = 2; thr <= 5; thr++) {
+            const int paced = thr == 5;
+            ticker_run(&cases[c], paced ? 2 : thr, paced, NULL, many);
+            CHECK(many->st == one->st && strcmp(many->err.reason, one->err.reason) == 0 &&
+                      strcmp(many->err.message, one->err.message) == 0,
+                  "ticker case %lu, %d threads%s: %d '%s' against '%s'", (unsigned long)c,
+                  paced ? 2 : thr, paced ? " paced" : "", (int)many->st, many->err.message,
+                  one->err.message);
+            if (one->st == SL_OK)
+                CHECK(memcmp(many->X, one->X, sizeof one->X) == 0 &&
+                          memcmp(many->mean, one->mean, sizeof one->mean) == 0 &&
+                          memcmp(many->logz, one->logz, sizeof one->logz) == 0 &&
+                          memcmp(&many->evidence, &one->evidence, sizeof one->evidence) == 0,
+                      "ticker case %lu, %d threads%s: the same bits", (unsigned long)c,
+                      paced ? 2 : thr, paced ? " paced" : "");
+        }
+    }
+    /* the poll: never backwards, and its stop ends the run on 1 and 3
+     * threads */
+    for (thr = 1; thr <= 3; thr += 2) {
+        poll_log pl = {0, 0, 0.0, 0};
+        ticker_run(&cases[0], thr, 0, &pl, many);
+        CHECK(many->st == SL_OK && pl.calls >= 3 && !pl.backwards && pl.last <= 1.0,
+              "%d threads: %lu polls, last %g, backwards %d", thr, (unsigned long)pl.calls,
+              pl.last, pl.backwards);
+        pl.calls = 0;
+        pl.last = 0.0;
+        pl.stop_at = 4;
+        ticker_run(&cases[0], thr, 0, &pl, many);
+        CHECK(many->st == SL_EINTERRUPT && strcmp(many->err.reason, "interrupted") == 0,
+              "%d threads: a poll's stop: %d %s", thr, (int)many->st, many->err.reason);
+    }
+    ck_free(one);
+    ck_free(many);
+}
+
 /* N is odd, not a multiple of 3, and large enough that the run goes
  * parallel (small ensembles are run on one thread whatever is asked). */
 static void check_determinism(void)
@@ -1897,6 +2069,7 @@ int main(void)
                "make check and check-asan run it)\n");
     else
         check_determinism();
+    check_forecast_region();
     check_snapshot();
     check_errors();
     check_degenerate();
