@@ -23,9 +23,6 @@
 #include "pf_internal.h"
 #include "workspace.h"
 
-/* Below this many members a parallel region costs more than it saves (and
- * far more on a loaded machine, where a thread may wait a time slice). */
-
 /* Share the `bytes` an analysis's workspace of aw bytes took (its
  * alignment included) among the parts: what it needs on one thread
  * without a window is the analysis's, what more it needs on the run's
@@ -715,9 +712,6 @@ sl_status sl_pfi_snap_call(const sl_pf_config *cfg, pf_buffers *b, void *work, d
 
 /* ------------------------------------------------------------ the cycle */
 
-/* Forcing values of every member at time t into U (q x N); advances the
- * AR(1) perturbations E by one step s. *idx tracks the forcing interval.
- * Member j draws from the stream of index ids[j] (j when ids is NULL). */
 /* The forcing's values at t, before any noise, into u0; k tracks the
  * forcing interval (the last record at or before t) and is returned. */
 static size_t forcing_base(const sl_forcing *f, double t, size_t k, double *u0)
@@ -737,8 +731,9 @@ static size_t forcing_base(const sl_forcing *f, double t, size_t k, double *u0)
     return k;
 }
 
-/* The forcing of member j at step s: its perturbation E and its value U
- * from the base values u0 */
+/* The forcing of member j at step s: its value U (q x N) from the base
+ * values u0, advancing its AR(1) perturbation E by one step. Member j
+ * draws from the stream of index ids[j] (b->m0 + j when ids is NULL). */
 static void forcing_member(const sl_pf_config *cfg, const pf_buffers *b, double *E,
                            double *U, const double *u0, uint32_t s, size_t j,
                            const uint32_t *ids, uint64_t seed, double *zst, int zread)

@@ -92,7 +92,10 @@ typedef struct sl_pfi_buffers {
     size_t *wk_row;
 } pf_buffers;
 
-/* Per-member loops run on one thread below this many members. */
+/* A default (paced) run whose cycles are not timed (split across ranks,
+ * SMC2) runs its per-member loops on one thread below this many members:
+ * a parallel region then costs more than it saves, and far more on a
+ * loaded machine, where a thread may wait a time slice. */
 #define SL_PFI_PAR_MIN_MEMBERS 2048
 
 /* Lay the run's buffers out in base (NULL: measure); the bytes (0 when
