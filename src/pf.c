@@ -867,15 +867,15 @@ static sl_status forecast_region(const sl_pf_config *cfg, pf_buffers *b, double 
             const size_t c = (size_t)cc, j0 = c * cs, j1 = N - j0 > cs ? j0 + cs : N;
             size_t l, fk = fidx0, j, seen;
             int halt;
-#pragma omp atomic read
-            halt = stop;
-            for (l = 0; l < nsteps && !halt; l++) {
+            for (l = 0; l < nsteps; l++) {
                 const double ts = t0 + (double)l * h;
                 const double te = l + 1 == nsteps ? tk : t0 + (double)(l + 1) * h;
                 const uint32_t sl = s0 + (uint32_t)l;
 #pragma omp atomic read
                 seen = first;
-                if (l > seen)
+#pragma omp atomic read
+                halt = stop;
+                if (l > seen || halt)
                     break;
                 if (q > 0) {
                     fk = forcing_base(&cfg->forcing, ts, fk, u0);
@@ -909,7 +909,7 @@ static sl_status forecast_region(const sl_pf_config *cfg, pf_buffers *b, double 
                     if (cfg->poll(cfg->poll_ctx, done / (double)cfg->T)) {
 #pragma omp atomic write
                         stop = 1;
-                        halt = 1;
+                        break;
                     }
                 }
             }
