@@ -589,6 +589,19 @@ static void check_refusals(void)
     }
 }
 
+/* nx x n initial states (column j: member j), standard normal draws of
+ * member j's prior stream under seed */
+static void draw_states(double *X, size_t nx, size_t n, uint64_t seed)
+{
+    size_t i, j;
+    for (j = 0; j < n; j++) {
+        sl_stream s;
+        sl_stream_init(&s, seed, (uint32_t)j, 0, SL_PURPOSE_PRIOR);
+        for (i = 0; i < nx; i++)
+            X[i + j * nx] = sl_stream_normal(&s);
+    }
+}
+
 /* A wide model (140 states, more than two blocks of the analysis's rows):
  * x_k = A x_(k-1) + L e with A neighbour-coupled along a line, every 7th
  * state observed (20 observations a cycle). The ensemble Kalman analyses
@@ -613,7 +626,7 @@ static void check_wide_kalman(void)
     sl_model md;
     sl_pf_config cfg;
     sl_error err;
-    size_t i, j, k, q;
+    size_t i, k, q;
     for (i = 0; i < NX; i++) {
         A[i + i * NX] = 0.8;
         if (i > 0)
@@ -642,12 +655,7 @@ static void check_wide_kalman(void)
         }
     }
     first[T] = T * M;
-    for (j = 0; j < N; j++) {
-        sl_stream s;
-        sl_stream_init(&s, 17, (uint32_t)j, 0, SL_PURPOSE_PRIOR);
-        for (i = 0; i < NX; i++)
-            X0[i + j * NX] = sl_stream_normal(&s);
-    }
+    draw_states(X0, NX, N, 17);
     memset(&loc, 0, sizeof loc);
     loc.geometry = SL_GEOM_LINE;
     loc.dim = 1;
@@ -662,12 +670,7 @@ static void check_wide_kalman(void)
         double *X5 = NULL;
         if (q == 5) {
             X5 = ck_malloc(NX * NN * sizeof(double));
-            for (j = 0; j < NN; j++) {
-                sl_stream s;
-                sl_stream_init(&s, 18, (uint32_t)j, 0, SL_PURPOSE_PRIOR);
-                for (i = 0; i < NX; i++)
-                    X5[i + j * NX] = sl_stream_normal(&s);
-            }
+            draw_states(X5, NX, NN, 18);
         }
         base_config(&cfg, &md, NN, T, times, first, y, sg, aux, fam, var);
         cfg.analysis = an[q < 4 ? q : 0];

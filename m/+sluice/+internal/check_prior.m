@@ -55,7 +55,7 @@ function [ids, a, b, lo, hi, names] = check_prior (prior, pos, fn)
   % every entry at once when every one is well formed (a wide model has
   % thousands); otherwise the loop below finds the first bad one
   if (last == p && twice == 0)
-    [ok, ids, a, b, lo, hi] = all_at_once (prior, dists, counts);
+    [ok, ids, a, b, lo, hi] = all_at_once (prior, dists, counts, ids, a, b, lo, hi);
     if (ok)
       names = all_names(:);
     end
@@ -128,17 +128,14 @@ function [ids, a, b, lo, hi, names] = check_prior (prior, pos, fn)
   end
 end
 
-function [ok, ids, a, b, lo, hi] = all_at_once (prior, dists, counts)
+function [ok, ids, a, b, lo, hi] = all_at_once (prior, dists, counts, ids, a, b, lo, hi)
   % The distributions and arguments of every entry with no loop over
   % them, when every distribution is a known name and every args a real,
-  % full double vector of its count; ok false otherwise (nothing else
-  % is then used).
+  % full double vector of its count; ok false otherwise (ids, a, b, lo,
+  % hi then come back as given). Fills the caller's ids, a, b, lo, hi
+  % (1 x p, as check_prior made them: zeros, -Inf, Inf), which keep
+  % their values where an entry has no such argument.
   p = numel (prior);
-  ids = zeros (1, p);
-  a = zeros (1, p);
-  b = zeros (1, p);
-  lo = -Inf (1, p);
-  hi = Inf (1, p);
   dl = {prior.dist};
   al = {prior.args};
   ok = iscellstr (dl) && all (cellfun ('size', dl, 1) == 1);

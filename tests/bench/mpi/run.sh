@@ -43,6 +43,11 @@ for mode in strong weak; do
   done
 done
 
+print_row() { # ranks seconds comm bytes base split -> one row of a split filter's table
+  awk -v P="$1" -v s="$2" -v c="$3" -v b="$4" -v base="$5" -v sp="$6" 'BEGIN {
+    printf "   %5d %8.2f %8.2f %7.1f%% %9.1f%s\n", P, s, base / s, 100 * c / s, b / 1e6,
+           (sp == P) ? "" : "  (not split)" }'
+}
 pf() { # ranks members days -> "seconds comm bytes split"
   (cd "$(mktemp -d)" && SLUICE_BENCH_MEMBERS=$2 SLUICE_BENCH_DAYS=$3 mpirun -np "$1" \
      octave-cli --no-gui --quiet --no-history --norc "$here/tests/bench/mpi/pf_scaling.m" \
@@ -59,9 +64,7 @@ for spec in "strong 100000 365" "strong 1000000 30" "weak 50000 365"; do
     read -r s c b sp < <(pf "$P" "$n" "$days")
     [ -z "${s:-}" ] && { echo "   $P ranks: did not complete"; continue; }
     [ -z "$base" ] && base=$s
-    awk -v P="$P" -v s="$s" -v c="$c" -v b="$b" -v base="$base" -v sp="$sp" 'BEGIN {
-      printf "   %5d %8.2f %8.2f %7.1f%% %9.1f%s\n", P, s, base / s, 100 * c / s, b / 1e6,
-             (sp == P) ? "" : "  (not split)" }'
+    print_row "$P" "$s" "$c" "$b" "$base" "$sp"
   done
 done
 
@@ -79,8 +82,6 @@ for spec in "letkf 4000" "etkf 20000"; do
     read -r s c b sp < <(kal "$P" "$method" "$n")
     [ -z "${s:-}" ] && { echo "   $P ranks: did not complete"; continue; }
     [ -z "$base" ] && base=$s
-    awk -v P="$P" -v s="$s" -v c="$c" -v b="$b" -v base="$base" -v sp="$sp" 'BEGIN {
-      printf "   %5d %8.2f %8.2f %7.1f%% %9.1f%s\n", P, s, base / s, 100 * c / s, b / 1e6,
-             (sp == P) ? "" : "  (not split)" }'
+    print_row "$P" "$s" "$c" "$b" "$base" "$sp"
   done
 done
