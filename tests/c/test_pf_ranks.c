@@ -674,8 +674,6 @@ static void check_wide_kalman(void)
         }
         base_config(&cfg, &md, NN, T, times, first, y, sg, aux, fam, var);
         cfg.analysis = an[q < 4 ? q : 0];
-        if (q == 5)
-            cfg.nq = 2;
         cfg.nq = 2;
         cfg.probs = probs;
         cfg.seed = 99;

@@ -37,8 +37,8 @@ for mode in strong weak; do
     read -r s f < <(run "$P" "$n")
     [ -z "${s:-}" ] && { echo "   $P ranks: did not complete"; continue; }
     [ -z "$base" ] && base=$s
-    awk -v P="$P" -v n="$n" -v s="$s" -v f="$f" -v b="$base" -v m=$mode 'BEGIN {
-      r = (m == "strong") ? b / s : b / s;
+    awk -v P="$P" -v n="$n" -v s="$s" -v f="$f" -v b="$base" 'BEGIN {
+      r = b / s;   # strong: the speed-up; weak (work per rank fixed): the efficiency
       printf "   %5d %6d %8.2f %8.2f %7.1f%%\n", P, n, s, r, 100 * (s * P - f) / (s * P) }'
   done
 done
