@@ -2164,6 +2164,7 @@ static size_t count_nan_predictions(const sl_pf_config *cfg, const pf_buffers *b
                                     size_t m, const unsigned char *dead)
 {
     size_t i, j, count = 0;
+#pragma omp parallel for num_threads(b->nt) schedule(static) private(i) reduction(+ : count)
     for (j = 0; j < cfg->N; j++) {
         if (dead[j])
             continue;
@@ -2329,14 +2330,21 @@ sl_status sl_pf_run(const sl_pf_config *cfg, double *X, double *P, double *w,
             memcpy(b.wk_m, Xc, n * N * sizeof(double));
         sl_pfi_add_state_noise(cfg, &b, Xc, k, NULL, cfg->seed, b.pcn ? b.zp : NULL, 0);
         ndead = 0;
-        for (j = 0; j < N; j++) {
-            if (!b.dead[cur][j] && sl_pfi_has_nonfinite(Xc + j * n, n))
-                b.dead[cur][j] = 1;
-            if (b.dead[cur][j]) {
-                ndead++;
-                if (w[j] > 0)
-                    reweight = 1;
+        {
+            /* per member, and counts: the same for any number of threads */
+            unsigned char *dc = b.dead[cur];
+            int rw = 0;
+#pragma omp parallel for num_threads(b.nt) schedule(static) reduction(+ : ndead) reduction(| : rw)
+            for (j = 0; j < N; j++) {
+                if (!dc[j] && sl_pfi_has_nonfinite(Xc + j * n, n))
+                    dc[j] = 1;
+                if (dc[j]) {
+                    ndead++;
+                    if (w[j] > 0)
+                        rw = 1;
+                }
             }
+            reweight |= rw;
         }
 
         if (out->fmean != NULL)
