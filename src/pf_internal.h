@@ -128,7 +128,8 @@ typedef struct {
     int chosen;    /* the count kept between rounds */
     int cur;       /* the count of the cycle being run */
     int round;     /* cycles left in the current round of trials */
-    int tiny;      /* this round's cycles on one thread are too short */
+    int solo;      /* this round tries no more threads (short cycles, or no
+                    * core free for them) */
     double sec[2];   /* this round's counted seconds and units of work, */
     double units[2]; /* on 1 thread [0] and on most [1] */
     double spent[2]; /* the same, every cycle of the round */

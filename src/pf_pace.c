@@ -5,28 +5,27 @@
  * they pay: that depends on the work of a member (a daily map or decades
  * of a stiff model), on the number of members, and on what else the
  * machine is running (a thread that shares its core with another busy
- * process holds up every join of the others). The pace times cycles with
- * one thread and with all of them, in rounds of PACE_ROUND cycles that
- * alternate the two, and keeps the faster for the cycles up to the next
- * round.
- * - A round whose cycles on one thread are shorter than PACE_TINY seconds
- *   does not try more threads: starting and joining them would cost more
- *   than the cycle. Nor does a round after cycles on one thread while
- *   the machine has no core free (other threads ready to run on all but
- *   ours, read from the system where it tells): a thread woken then waits
- *   for a core, and one such cycle can cost tens of milliseconds.
+ * process holds up every join of the others). The pace times a round of
+ * cycles, PACE_RUN on one thread then PACE_RUN on all (the first of each
+ * run not counted: it pays for the change, data in the other cores'
+ * caches and threads to wake), and keeps the faster until the next round.
  * - More threads are kept only when they take at most PACE_GAIN of one
  *   thread's time per unit of work, so noise alone does not keep a run
- *   on the slower choice; a cycle on more threads that takes over
+ *   on the slower choice. A cycle on more threads that takes over
  *   PACE_ABORT times one thread's time per unit ends the round at once.
+ * - A round does not try more threads when its cycles on one thread are
+ *   shorter than PACE_TINY seconds (starting and joining threads would
+ *   cost more than the cycle), nor, while the run keeps one thread, when
+ *   the machine has no core free for them (other threads ready to run,
+ *   as the system tells where it does): a thread woken then waits for a
+ *   core, and one such cycle can cost tens of milliseconds.
  * - The next round comes after PACE_WAIT_FIRST cycles, then twice as
  *   many each time the choice holds (at most PACE_WAIT_MOST), back to
  *   PACE_WAIT_FIRST when it changes; and not before the run has spent
- *   1 / PACE_SHARE times what the round's slower cycles lost (so that the
- *   trials cost at most about PACE_SHARE of the run); rounds are at most
- *   PACE_WAIT_LONGEST seconds apart. A cycle that takes over PACE_ABORT times the pace the
- *   round found per unit (the machine's load changed) brings the next
- *   round at once.
+ *   1 / PACE_SHARE times what the round's slower cycles lost (at most
+ *   PACE_WAIT_LONGEST seconds), so that the trials cost about PACE_SHARE
+ *   of the run. A cycle over PACE_ABORT times the kept choice's pace per
+ *   unit (the machine's load changed) brings the next round at once.
  * The thread count changes no result: every loop gives the same bits for
  * any number of threads. */
 #include <stdio.h>
@@ -89,7 +88,7 @@ void sl_pfi_pace_init(sl_pfi_pace *g, int most)
     g->round = 0;
     g->wait = PACE_WAIT_FIRST;
     g->left = 0;
-    g->tiny = 0;
+    g->solo = 0;
     g->since = 0.0;
     g->wait_s = 0.0;
     g->pace = 0.0;
@@ -104,7 +103,7 @@ int sl_pfi_pace_next(sl_pfi_pace *g)
     if (g->round == 0 && g->left == 0 && g->since >= g->wait_s) {
         int k;
         g->round = PACE_ROUND;
-        g->tiny = 0;
+        g->solo = 0;
         g->free_seen = 0;
         for (k = 0; k < 2; k++) {
             g->sec[k] = g->units[k] = 0.0;
@@ -115,7 +114,7 @@ int sl_pfi_pace_next(sl_pfi_pace *g)
         /* PACE_RUN cycles on one thread, then PACE_RUN on all; the first
          * cycle of each run is not counted: it pays for the change (data
          * in the other cores' caches, threads to wake) */
-        g->cur = (g->round > PACE_RUN || g->tiny) ? 1 : g->most;
+        g->cur = (g->round > PACE_RUN || g->solo) ? 1 : g->most;
     else
         g->cur = g->chosen;
     return g->cur;
@@ -128,7 +127,7 @@ static void settle(sl_pfi_pace *g)
     int other;
     double lost;
     g->round = 0;
-    g->chosen = !g->tiny && g->units[0] > 0.0 && g->units[1] > 0.0 &&
+    g->chosen = !g->solo && g->units[0] > 0.0 && g->units[1] > 0.0 &&
                         g->sec[1] / g->units[1] <= PACE_GAIN * (g->sec[0] / g->units[0])
                     ? g->most
                     : 1;
@@ -180,7 +179,7 @@ void sl_pfi_pace_record(sl_pfi_pace *g, double seconds, double units)
         g->sec[slot] += seconds;
         g->units[slot] += units;
         if (slot == 0 && seconds < PACE_TINY)
-            g->tiny = 1;
+            g->solo = 1;
         /* a run on one thread since the last round: is a core free for
          * the others? (after cycles on more threads, ours may still be
          * spinning and count as ready, so the timing alone decides) */
@@ -189,7 +188,7 @@ void sl_pfi_pace_record(sl_pfi_pace *g, double seconds, double units)
             if (o >= 0 && o <= g->cores - (g->most < g->cores ? g->most : g->cores))
                 g->free_seen = 1;
             else if (o >= 0 && !g->free_seen && g->round == PACE_RUN + 1)
-                g->tiny = 1;
+                g->solo = 1;
         }
     }
     if (--g->round == 0 ||
