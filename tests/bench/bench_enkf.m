@@ -402,11 +402,3 @@ function w = gaspari_cohn_weight (d, c)
   zb = z(b);
   w(b) = zb .^ 5 / 12 - zb .^ 4 / 2 + 5 * zb .^ 3 / 8 + 5 * zb .^ 2 / 3 - 5 * zb + 4 - 2 ./ (3 * zb);
 end
-
-function s = yes_no (t, yes, no)
-  if (t)
-    s = yes;
-  else
-    s = no;
-  end
-end

@@ -420,11 +420,3 @@ function s = load_average ()
     fclose (fid);
   end
 end
-
-function s = yes_no (t, yes, no)
-  if (t)
-    s = yes;
-  else
-    s = no;
-  end
-end

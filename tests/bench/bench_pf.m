@@ -482,11 +482,3 @@ end
 function R = rotation (th)
   R = [cos(th) -sin(th); sin(th) cos(th)];
 end
-
-function s = yes_no (t, yes, no)
-  if (t)
-    s = yes;
-  else
-    s = no;
-  end
-end

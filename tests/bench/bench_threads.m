@@ -211,11 +211,3 @@ function s = plural (n, one, many)
     s = many;
   end
 end
-
-function s = yes_no (t, yes, no)
-  if (t)
-    s = yes;
-  else
-    s = no;
-  end
-end
