@@ -99,7 +99,6 @@ static size_t layout(const sl_pf_config *cfg, unsigned char *base,
         sl_ws_carve(base, &off, N, (void **)&b->dead[k]);
     }
     sl_ws_carve(base, &off, q * N * 8, (void **)&b->U);
-    sl_ws_carve(base, &off, q * 8, (void **)&b->u0);
     PART(SL_PF_PART_ENSEMBLE);
     sl_ws_carve(base, &off, m_max * N * 8, (void **)&b->Yhat);
     PART(SL_PF_PART_PREDICTED);
@@ -116,7 +115,7 @@ static size_t layout(const sl_pf_config *cfg, unsigned char *base,
     PART(SL_PF_PART_ENSEMBLE);
     sl_ws_carve(base, &off, nthr * b->mwork_per * 8, (void **)&b->mwork);
     sl_ws_carve(base, &off, nthr * b->qwork_per * 8, (void **)&b->qwork);
-    sl_ws_carve(base, &off, nthr * q * 8, (void **)&b->tu0);
+    sl_ws_carve(base, &off, nthr * q * 8, (void **)&b->u0);
     PART(SL_PF_PART_THREADS);
     if (sl_param_move_workspace(p) == 0)
         return 0;
@@ -860,7 +859,7 @@ static sl_status forecast_region(const sl_pf_config *cfg, pf_buffers *b, double 
 #ifdef _OPENMP
         tid = omp_get_thread_num();
 #endif
-        u0 = b->tu0 + (size_t)tid * q;
+        u0 = b->u0 + (size_t)tid * q;
         sl_error_clear(&e);
 #pragma omp for schedule(dynamic, 1)
         for (cc = 0; cc < (long)nch; cc++) {
@@ -2283,8 +2282,6 @@ sl_status sl_pf_run(const sl_pf_config *cfg, double *X, double *P, double *w,
     paced = cfg->threads_paced && cfg->ranks == NULL;
     if (paced)
         sl_pfi_pace_init(&pace, cfg->threads);
-    else if (!cfg->threads_paced)
-        b.nt = cfg->threads;
     for (k = k0; k < cfg->T; k++) {
         const double tk = cfg->times[k];
         const size_t r0 = cfg->obs_first[k], m = cfg->obs_first[k + 1] - r0;

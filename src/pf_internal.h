@@ -11,7 +11,7 @@
 typedef struct sl_pfi_buffers {
     double *X[2], *Z[2], *P[2], *E[2]; /* ping-pong pairs for resampling */
     unsigned char *dead[2];
-    double *U, *u0, *tu0, *Yhat, *Yfun, *Yd, *ll, *logw, *lw, *rwork, *mwork, *qwork;
+    double *U, *u0, *Yhat, *Yfun, *Yd, *ll, *logw, *lw, *rwork, *mwork, *qwork;
     /* ensemble Kalman analysis (laid out in awork by its table entry):
      * augmented ensemble, compacted observations and their positions,
      * live members, the method's work */
