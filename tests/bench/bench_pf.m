@@ -20,30 +20,15 @@ function bench_pf (only)
     bench_flood_octave (3);
     return;
   end
-  n = 4;
-  T = 100;
   N = 1e5;
-  sigma = 0.5;
   probs = [0.05 0.5 0.95];
   seed = 20240611;
   nrep = 3;
 
-  A = 0.9 * blkdiag (rotation (0.3), rotation (1.1));
-  Q = 0.1 * eye (n);
-  spec = sluice.model ('linear', 'A', A, 'Q', Q);
+  % the model and synthetic data from a truth run (linear_case.m)
+  [spec, pr, obs, Y, A, Q, sigma] = linear_case ();
+  [n, T] = size (Y);
   L = spec.L;
-  pr = sluice.prior ('x1', 'normal', [0 1], 'x2', 'normal', [0 1], ...
-                     'x3', 'normal', [0 1], 'x4', 'normal', [0 1]);
-
-  % synthetic data from a truth run
-  randn ('state', 7);
-  x = randn (n, 1);
-  Y = zeros (n, T);
-  for k = 1:T
-    x = A * x + L * randn (n, 1);
-    Y(:, k) = x + sigma * randn (n, 1);
-  end
-  obs = obs_table (Y, sigma, spec.states);
   printf ('   linear model, n = %d, A = 0.9 [R(0.3) 0; 0 R(1.1)], Q = 0.1 I, x0 ~ N(0, I)\n', n);
   printf ('   all states observed at t = 1..%d, sigma = %g; systematic resampling when ESS < N/2\n', ...
           T, sigma);
@@ -285,27 +270,13 @@ function bench_flood_octave (nrep)
   % jumps of flood_octave.m, lognormal likelihood, systematic resampling
   % when ESS < N/2, the kernel move in log space). Monte Carlo runs with
   % different draws: the check compares log-evidence and parameter means.
-  spec = sluice.model ('flood', 'integrator', 'rk4', 'dt', 0.01);
-  Ty = 60;
+  [spec, pr, obs, ev, iS, iL] = flood_case ();
+  Ty = numel (obs.time);
+  y = obs.value;
+  te = ev.time;
+  W = ev.values;
   N = 1000;
   probs = [0.05 0.5 0.95];
-  theta = 0.28;
-  rand ('state', 21);
-  randn ('state', 21);
-  te = (0.5:1:Ty)';
-  W = ((theta + 1) / theta) * (1 - (1 - rand (Ty, 1)) .^ theta);
-  ev = struct ('time', te, 'values', W);
-  names = spec.params(:);
-  iS = find (strcmp (names, 'muS'));
-  iL = find (strcmp (names, 'lambdaP'));
-  p_true = spec.defaults(:);
-  p_true(iS) = 0.10;
-  p_true(iL) = 0.6;
-  X = sluice.simulate (spec, [], p_true, 0:Ty, [], 'events', ev);
-  y = X(1, 2:end)' .* exp (0.1 * randn (Ty, 1));
-  obs = struct ('time', (1:Ty)', 'variable', {repmat({'G'}, Ty, 1)}, 'value', y, ...
-                'sigma', 0.1 * ones (Ty, 1), 'family', {repmat({'lognormal'}, Ty, 1)});
-  pr = sluice.prior ('muS', 'lognormal', [log(0.215) 0.5], 'lambdaP', 'lognormal', [0 0.5]);
   o = {'members', N, 'seed', 1, 'events', ev, 'progress', false, 'param_move', 'kernel'};
   tc = [Inf Inf];
   for r = 1:nrep
@@ -477,8 +448,4 @@ function obs = obs_table (Y, sigma, names)
   obs.variable = repmat (names(:), T, 1);
   obs.value = Y(:);
   obs.sigma = repmat (sigma, n * T, 1);
-end
-
-function R = rotation (th)
-  R = [cos(th) -sin(th); sin(th) cos(th)];
 end

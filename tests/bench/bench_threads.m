@@ -23,7 +23,7 @@ function bench_threads ()
   % 'threads', 2 is used as given, whatever the load).
   nrep = 3;
   ncores = cores ();
-  cases = {linear_case(), flood_case(), gr4j_run_case()};
+  cases = {linear_run_case(), flood_run_case(), gr4j_run_case()};
   omp = getenv ('OMP_NUM_THREADS');
   if (isempty (omp))
     omp = 'unset';
@@ -84,57 +84,20 @@ end
 % ------------------------------------------------------------------------
 % the cases
 
-function k = linear_case ()
-  % bench_pf.m's linear model and data, N = 1e5, 100 cycles, no quantiles
-  n = 4;
-  T = 100;
-  sigma = 0.5;
-  A = 0.9 * blkdiag (rotation (0.3), rotation (1.1));
-  spec = sluice.model ('linear', 'A', A, 'Q', 0.1 * eye (n));
-  L = spec.L;
-  randn ('state', 7);
-  x = randn (n, 1);
-  Y = zeros (n, T);
-  for t = 1:T
-    x = A * x + L * randn (n, 1);
-    Y(:, t) = x + sigma * randn (n, 1);
-  end
-  obs = struct ();
-  obs.time = repelem ((1:T)', n);
-  obs.variable = repmat (spec.states(:), T, 1);
-  obs.value = Y(:);
-  obs.sigma = repmat (sigma, n * T, 1);
+function k = linear_run_case ()
+  % linear_case.m's model and data, N = 1e5, 100 cycles, no quantiles
+  [k.spec, k.prior, k.obs] = linear_case ();
   k.name = 'linear';
   k.label = 'pf n=4 N=1e5 T=100, quantiles off';
-  k.spec = spec;
-  k.prior = sluice.prior ('x1', 'normal', [0 1], 'x2', 'normal', [0 1], ...
-                          'x3', 'normal', [0 1], 'x4', 'normal', [0 1]);
-  k.obs = obs;
   k.opts = {'members', 1e5, 'seed', 20240611, 'quantiles', [], 'progress', false};
 end
 
-function k = flood_case ()
-  % bench_pf.m's flood case at N = 500
-  spec = sluice.model ('flood', 'integrator', 'rk4', 'dt', 0.01);
-  Ty = 60;
-  theta = 0.28;
-  rand ('state', 21);
-  randn ('state', 21);
-  te = (0.5:1:Ty)';
-  W = ((theta + 1) / theta) * (1 - (1 - rand (Ty, 1)) .^ theta);
-  ev = struct ('time', te, 'values', W);
-  names = spec.params(:);
-  p_true = spec.defaults(:);
-  p_true(strcmp (names, 'muS')) = 0.10;
-  p_true(strcmp (names, 'lambdaP')) = 0.6;
-  X = sluice.simulate (spec, [], p_true, 0:Ty, [], 'events', ev);
-  y = X(1, 2:end)' .* exp (0.1 * randn (Ty, 1));
+function k = flood_run_case ()
+  % flood_case.m at N = 500
+  [k.spec, k.prior, k.obs, ev] = flood_case ();
+  Ty = numel (k.obs.time);
   k.name = 'flood';
   k.label = sprintf ('pf N=500, %d years, rk4 dt = 0.01, kernel move', Ty);
-  k.spec = spec;
-  k.prior = sluice.prior ('muS', 'lognormal', [log(0.215) 0.5], 'lambdaP', 'lognormal', [0 0.5]);
-  k.obs = struct ('time', (1:Ty)', 'variable', {repmat({'G'}, Ty, 1)}, 'value', y, ...
-                  'sigma', 0.1 * ones (Ty, 1), 'family', {repmat({'lognormal'}, Ty, 1)});
   k.opts = {'members', 500, 'seed', 1, 'events', ev, 'progress', false, 'param_move', 'kernel'};
 end
 
@@ -199,10 +162,6 @@ function t = alive (pid)
 end
 
 % ------------------------------------------------------------------------
-
-function R = rotation (th)
-  R = [cos(th) -sin(th); sin(th) cos(th)];
-end
 
 function s = plural (n, one, many)
   if (n == 1)
