@@ -821,13 +821,15 @@ size_t sl_pfi_nsteps(const sl_model *md, double t, double tk, double *h)
 }
 
 /* The interval on nthr threads in one parallel region. The members go in
- * contiguous chunks, about REGION_CHUNKS a thread, dealt as threads come
- * free; one thread takes its chunk through every step of the interval.
+ * contiguous chunks, about REGION_CHUNKS a thread: thread t first takes
+ * chunk t, the rest are dealt as threads come free; one thread takes its
+ * chunk through every step of the interval.
  * Each member meets the same forcing and step calls as in the
  * step-by-step order, so its states are the same bits for any number of
  * threads. A failure is the one that order reports: of the earliest
  * failing step, the lowest chunk's (a chunk stops at a step later than
- * the earliest failure seen). Thread 0, the caller's own, polls.
+ * the earliest failure seen). Thread 0, the caller's own, polls: at
+ * every step of its chunks, at least one chunk an interval.
  * Returns the failing step in *fail (nsteps if none). */
 #define REGION_CHUNKS 8
 #define REGION_MIN_CHUNK 8
@@ -841,7 +843,7 @@ static sl_status forecast_region(const sl_pf_config *cfg, pf_buffers *b, double 
     const size_t N = cfg->N, q = cfg->model->n_forcing;
     const size_t per = (size_t)nthr * REGION_CHUNKS;
     size_t cs = (N + per - 1) / per, nch, first = nsteps, fstep[MAX_THREADS],
-           fchunk[MAX_THREADS], finished = 0;
+           fchunk[MAX_THREADS], finished = 0, next = (size_t)nthr;
     int stop = 0, k, best = -1;
     if (cs < REGION_MIN_CHUNK)
         cs = REGION_MIN_CHUNK;
@@ -853,7 +855,7 @@ static sl_status forecast_region(const sl_pf_config *cfg, pf_buffers *b, double 
 #pragma omp parallel num_threads(nthr)
     {
         int tid = 0;
-        long cc;
+        size_t c;
         double shown = 0.0, *u0;
         sl_error e;
 #ifdef _OPENMP
@@ -861,9 +863,11 @@ static sl_status forecast_region(const sl_pf_config *cfg, pf_buffers *b, double 
 #endif
         u0 = b->u0 + (size_t)tid * q;
         sl_error_clear(&e);
-#pragma omp for schedule(dynamic, 1)
-        for (cc = 0; cc < (long)nch; cc++) {
-            const size_t c = (size_t)cc, j0 = c * cs, j1 = N - j0 > cs ? j0 + cs : N;
+        /* thread t's first chunk is chunk t, so thread 0, which polls,
+         * always takes one through every step; the others are dealt as
+         * threads come free */
+        for (c = (size_t)tid; c < nch;) {
+            const size_t j0 = c * cs, j1 = N - j0 > cs ? j0 + cs : N;
             size_t l, fk = fidx0, j, seen;
             int halt;
             for (l = 0; l < nsteps; l++) {
@@ -914,6 +918,8 @@ static sl_status forecast_region(const sl_pf_config *cfg, pf_buffers *b, double 
             }
 #pragma omp atomic update
             finished++;
+#pragma omp atomic capture
+            c = next++;
         }
     }
     for (k = 0; k < nthr; k++)
