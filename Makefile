@@ -237,7 +237,7 @@ PKGDIR := $(BUILD)/pkg/sluice-$(VERSION)
 pkg: $(PKGFILE)
 $(PKGFILE): | $(DEPS)
 $(PKGFILE): DESCRIPTION INDEX NEWS COPYING mk/build.mk mk/pkg-src.mk tools/pkg-add $(SL_CHECKSRC) \
-            $(SL_CSRC) $(wildcard src/*.h src/models/*.h include/sluice/*.h mex/*.c mex/*.h) \
+            $(SL_CSRC) $(wildcard src/*.h src/models/*.h include/sluice/*.h mex/*.c mex/*.cc mex/*.h) \
             $(shell find m -name '*.m' 2>/dev/null)
 	@rm -rf $(BUILD)/pkg && mkdir -p $(PKGDIR)/inst $(PKGDIR)/src
 	cp DESCRIPTION INDEX NEWS COPYING $(PKGDIR)/

@@ -5,55 +5,33 @@
 #include <stdint.h>
 #include <string.h>
 
+#include "mexcall.h"
 #include "mexutil.h"
 
-/* What a trapped call of an Octave function came to. */
-enum { CALL_RETURNED = 0, CALL_INTERRUPTED = 1, CALL_FAILED = 2 };
-
 /* Call an Octave function of the run with a trap: the trampoline fname
- * with the arguments in[0..nin-1], or with model set, the user's model
- * function in[0] with in[1..] (through sluice.internal.guarded_call). A
- * Ctrl-C already pending is taken first and the call not made. In Octave
- * the call goes through sluice.internal.interruptible, which returns errors
- * as values and turns a Ctrl-C that arrives during the call into an
- * error the trap catches (try/catch does not catch an interrupt); asked
- * after a trap, it tells that apart from an error raised outside its own
- * try (such as running out of memory there). Elsewhere a trap cannot be
- * told apart and counts as a failure. */
-static int call_trapped(int nout, mxArray **out, int nin, mxArray **in,
-                        const char *fname, int model)
+ * (sluice.internal.guarded_call, .observe or .progress) with the
+ * arguments in[0..nin-1]. A Ctrl-C already pending is taken first and
+ * the call not made. The trampolines return the errors of the user's
+ * functions as values, so a trap is an error raised outside them (such
+ * as running out of memory while passing arguments). In Octave a Ctrl-C
+ * that arrives during the call is caught as it unwinds the call
+ * (slm_call_catching); one that arrives after the interpreter's last
+ * look stays pending for the next poll. Elsewhere the host's interrupt
+ * is its own. */
+static int call_trapped(int nout, mxArray **out, int nin, mxArray **in, const char *fname)
 {
-    mxArray *trap;
     if (slm_take_interrupt())
-        return CALL_INTERRUPTED;
+        return SLM_CALL_INTERRUPTED;
 #if defined(HAVE_OCTAVE)
-    {
-        mxArray *args[8], *q[1] = {NULL};
-        int k, code = CALL_FAILED, nargs = 0;
-        if (!model)
-            args[nargs++] = mxCreateString(fname);
-        for (k = 0; k < nin && nargs < 8; k++)
-            args[nargs++] = in[k];
-        trap = mexCallMATLABWithTrap(nout, out, nargs, args, "sluice.internal.interruptible");
-        if (!model)
-            mxDestroyArray(args[0]);
-        if (trap == NULL)
-            return CALL_RETURNED;
-        mxDestroyArray(trap);
-        if (mexCallMATLABWithTrap(1, q, 0, NULL, "sluice.internal.interruptible") == NULL) {
-            if (mxIsLogicalScalarTrue(q[0]))
-                code = CALL_INTERRUPTED;
-            mxDestroyArray(q[0]);
-        }
-        /* an interrupt that came during the question is still one */
-        if (slm_take_interrupt())
-            code = CALL_INTERRUPTED;
-        return code;
-    }
+    return slm_call_catching(nout, (void **)out, nin, (void **)in, fname);
 #else
-    trap = mexCallMATLABWithTrap(nout, out, nin, in,
-                                 model ? "sluice.internal.guarded_call" : fname);
-    return trap == NULL ? CALL_RETURNED : CALL_FAILED;
+    {
+        mxArray *trap = mexCallMATLABWithTrap(nout, out, nin, in, fname);
+        if (trap == NULL)
+            return SLM_CALL_RETURNED;
+        mxDestroyArray(trap);
+        return SLM_CALL_FAILED;
+    }
 #endif
 }
 
@@ -80,17 +58,17 @@ static sl_status call_user(slm_handle_model *hm, double t, size_t count,
         memcpy(mxGetDoubles(in[3]), P, p * count * sizeof(double));
     if (q)
         memcpy(mxGetDoubles(in[4]), U, q * count * sizeof(double));
-    code = call_trapped(3, res, nin, in, "sluice.internal.guarded_call", 1);
+    code = call_trapped(3, res, nin, in, "sluice.internal.guarded_call");
     for (k = 1; k < nin; k++)
         mxDestroyArray(in[k]);
-    if (code == CALL_INTERRUPTED) {
+    if (code == SLM_CALL_INTERRUPTED) {
         hm->interrupted = 1;
         snprintf(hm->message, sizeof hm->message,
                  "the model function was interrupted (Ctrl-C) at t = %g; no result is returned", t);
         hm->identifier[0] = '\0';
         return sl_fail(err, SL_EINTERRUPT, "interrupted", "%s", hm->message);
     }
-    if (code == CALL_FAILED) {
+    if (code == SLM_CALL_FAILED) {
         snprintf(hm->message, sizeof hm->message,
                  "the call of the model function at t = %g failed outside the function "
                  "(an error Octave raised while passing its arguments or result: out of memory?)",
@@ -227,18 +205,18 @@ sl_status slm_handle_obs_fn(void *ctx, double t, size_t N, const double *X,
     if (ho->p)
         memcpy(mxGetDoubles(in[4]), P, ho->p * N * sizeof(double));
     in[5] = mxCreateString(ho->fn);
-    code = call_trapped(3, res, 6, in, "sluice.internal.observe", 0);
+    code = call_trapped(3, res, 6, in, "sluice.internal.observe");
     for (k = 2; k < 6; k++)
         mxDestroyArray(in[k]);
     ho->failed = 1;
-    if (code == CALL_INTERRUPTED) {
+    if (code == SLM_CALL_INTERRUPTED) {
         ho->interrupted = 1;
         ho->identifier[0] = '\0';
         snprintf(ho->message, sizeof ho->message,
                  "the observation operator was interrupted (Ctrl-C) at t = %g; no result is returned", t);
         return sl_fail(err, SL_EINTERRUPT, "interrupted", "%s", ho->message);
     }
-    if (code == CALL_FAILED) {
+    if (code == SLM_CALL_FAILED) {
         snprintf(ho->message, sizeof ho->message,
                  "the call of the observation operators at t = %g failed outside them "
                  "(an error Octave raised while passing their arguments or result: out of memory?)",
@@ -305,12 +283,12 @@ static int call_progress(slm_poll *pl, double fraction, double elapsed,
     in[0] = mxCreateDoubleScalar(fraction);
     in[1] = mxCreateDoubleScalar(elapsed);
     in[2] = mxCreateDoubleScalar(show);
-    code = call_trapped(0, NULL, 3, in, "sluice.internal.progress", 0);
+    code = call_trapped(0, NULL, 3, in, "sluice.internal.progress");
     for (k = 0; k < 3; k++)
         mxDestroyArray(in[k]);
-    if (code == CALL_FAILED)
+    if (code == SLM_CALL_FAILED)
         pl->broken = 1;
-    return code == CALL_INTERRUPTED;
+    return code == SLM_CALL_INTERRUPTED;
 }
 
 int slm_poll_fn(void *ctx, double fraction)

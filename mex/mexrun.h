@@ -74,8 +74,8 @@ void slm_handle_obs_raise(const char *fn, const slm_handle_obs *ho)
 
 /* Ctrl-C check and progress report. Every call takes a pending Ctrl-C
  * (slm_take_interrupt) and then returns non-zero; at most every 0.1 s it
- * also calls sluice.internal.progress(fraction, elapsed, show) through
- * sluice.internal.interruptible, and an interrupt there stops the run too
+ * also calls sluice.internal.progress(fraction, elapsed, show), and an
+ * interrupt there stops the run too
  * (an error there only ends the progress line). `mode`: 0 never show, 1
  * always (after 2 s), 2 only when stdout is a terminal. `calls` counts
  * the polls (for tests of how often a run looks). */

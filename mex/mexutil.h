@@ -120,8 +120,7 @@ void slm_sleep_seconds(double s);
 /* 1 when a Ctrl-C is pending in Octave, which it then takes over (the
  * interpreter will not act on it): the caller stops its run and raises
  * sluice:<fn>:interrupted. Always 0 where the pending interrupt cannot be
- * read (then Ctrl-C reaches the run only through a trapped call of
- * sluice.internal.interruptible, or as the host's own interrupt). */
+ * read (then Ctrl-C reaches the run only as the host's own interrupt). */
 int slm_take_interrupt(void);
 
 /* The function a gateway loaded in this process exports under `name`

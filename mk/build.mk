@@ -32,13 +32,18 @@ SL_CFLAGS  = $(SL_CSTD) $(OPT) -g -fPIC -fopenmp -fno-math-errno -MMD -MP \
 # lazily evaluated, once: $(call sl_octconf,VAR) is "mkoctfile -p VAR"
 sl_octconf = $(or $(SL_OCT_$(1)),$(eval SL_OCT_$(1) := $(shell $(MKOCTFILE) -p $(1)))$(SL_OCT_$(1)))
 SL_OCT_INC   = $(call sl_octconf,INCFLAGS)
+SL_CXX       = $(call sl_octconf,CXX)
 SL_LIBS      = -lgsl $(call sl_octconf,LAPACK_LIBS) $(call sl_octconf,BLAS_LIBS) -lm
 
 SL_CSRC    := $(sort $(wildcard $(SL_SRC)/*.c $(SL_SRC)/models/*.c))
 SL_OBJ     := $(patsubst $(SL_SRC)/%.c,$(SL_BUILD)/obj/%.o,$(SL_CSRC))
 SL_LIB     := $(SL_BUILD)/libsluice.a
 SL_MEXHELP := $(sort $(wildcard $(SL_MEX)/mex*.c))
-SL_MEXHOBJ := $(patsubst $(SL_MEX)/%.c,$(SL_BUILD)/mex/%.o,$(SL_MEXHELP))
+# mex/mex*.cc: C++ helpers (Octave's interrupt is a C++ exception),
+# compiled with Octave's own C++ compiler
+SL_MEXHELPXX := $(sort $(wildcard $(SL_MEX)/mex*.cc))
+SL_MEXHOBJ := $(patsubst $(SL_MEX)/%.c,$(SL_BUILD)/mex/%.o,$(SL_MEXHELP)) \
+              $(patsubst $(SL_MEX)/%.cc,$(SL_BUILD)/mex/%.o,$(SL_MEXHELPXX))
 SL_MEXSRC  := $(filter-out $(SL_MEXHELP),$(sort $(wildcard $(SL_MEX)/*.c)))
 SL_MEXBIN  := $(patsubst $(SL_MEX)/%.c,$(SL_MEXOUT)/%.mex,$(SL_MEXSRC))
 # sluice.build_model links this object with a user's compiled model file
@@ -66,6 +71,10 @@ $(SL_BUILD)/mex/%.o: $(SL_MEX)/%.c | $(SL_ORDER)
 	@mkdir -p $(dir $@)
 	$(CC) $(SL_CFLAGS) -DMX_HAS_INTERLEAVED_COMPLEX=1 $(SL_OCT_INC) -c $< -o $@
 
+$(SL_BUILD)/mex/%.o: $(SL_MEX)/%.cc | $(SL_ORDER)
+	@mkdir -p $(dir $@)
+	$(SL_CXX) $(OPT) -g -fPIC -MMD -MP -Wall -Wextra $(SL_OCT_INC) -I$(SL_MEX) -c $< -o $@
+
 $(SL_CHECK): $(SL_CHECKSRC) $(wildcard $(SL_INC)/sluice/*.h) | $(SL_ORDER)
 	@mkdir -p $(dir $@)
 	$(CC) $(SL_CFLAGS) -c $< -o $@
@@ -74,4 +83,5 @@ $(SL_MEXOUT)/%.mex: $(SL_BUILD)/mex/%.o $(SL_MEXHOBJ) $(SL_LIB)
 	@mkdir -p $(dir $@)
 	$(MKOCTFILE) --mex -o $@ $^ -fopenmp $(SL_LIBS)
 
--include $(SL_OBJ:.o=.d) $(SL_CHECK:.o=.d) $(patsubst $(SL_MEX)/%.c,$(SL_BUILD)/mex/%.d,$(SL_MEXHELP) $(SL_MEXSRC))
+-include $(SL_OBJ:.o=.d) $(SL_CHECK:.o=.d) $(patsubst $(SL_MEX)/%.c,$(SL_BUILD)/mex/%.d,$(SL_MEXHELP) $(SL_MEXSRC)) \
+           $(patsubst $(SL_MEX)/%.cc,$(SL_BUILD)/mex/%.d,$(SL_MEXHELPXX))

@@ -24,10 +24,11 @@ all: $(SL_MEXBIN) sdk links help-index
 
 # the headers first: sluice.build_model refuses a library or checker
 # older than the headers beside it
-sdk: $(SL_LIB) $(SL_CHECK)
-	mkdir -p ../inst/sdk/build
+sdk: $(SL_LIB) $(SL_CHECK) $(SL_BUILD)/mex/mexcall.o
+	mkdir -p ../inst/sdk/build/mex
 	cp -r include mex ../inst/sdk/
 	cp $(SL_LIB) $(SL_CHECK) ../inst/sdk/build/
+	cp $(SL_BUILD)/mex/mexcall.o ../inst/sdk/build/mex/
 
 # a file sluice.<name> beside the package folder for each public function,
 # so that Octave's "test sluice.<name>" and "demo sluice.<name>" find it

@@ -135,7 +135,10 @@ function [spec, rebuilt] = build_model (cfile, varargin)
   run_fn = [name '_run'];
   info_fn = [name '_info'];
   targets = {fullfile(outdir, [run_fn '.' mexext()]), fullfile(outdir, [info_fn '.' mexext()])};
-  deps = [{cfile, lib}, sources, list_files(fullfile (root, 'mex'), '*.h'), ...
+  % the one C++ helper of the gateways, compiled by make (Octave's C++
+  % headers take seconds to read)
+  callobj = fullfile (root, 'build', 'mex', 'mexcall.o');
+  deps = [{cfile, lib, callobj}, sources, list_files(fullfile (root, 'mex'), '*.h'), ...
           list_files(fullfile (root, 'include', 'sluice'), '*.h')];
   % a note beside the MEX files says which C file they were built from,
   % so that another file built under the same name is never taken for it
@@ -148,7 +151,7 @@ function [spec, rebuilt] = build_model (cfile, varargin)
   clear ('-f', run_fn, info_fn);
   if (rebuilt)
     checker = fullfile (root, 'build', 'model_check.o');
-    check_library (root, lib, checker);
+    check_library (root, lib, checker, callobj);
     compile (cfile, cdir, root, lib, checker, outdir, targets);
     fid = fopen (note, 'w');
     if (fid >= 0)
@@ -252,14 +255,19 @@ function c = list_files (folder, pattern)
   c = cellfun (@(f) fullfile (folder, f), {d.name}, 'UniformOutput', false);
 end
 
-function check_library (root, lib, checker)
+function check_library (root, lib, checker, callobj)
   % gateways compiled against headers newer than the library would not
   % match it (and could crash Octave): the library must be rebuilt first.
   % The same holds for the model checker (made from tools/model_check.c)
-  % that the user's file is linked with.
+  % that the user's file is linked with, and for the gateways' compiled
+  % helper (mex/mexcall.cc).
   if (~exist (checker, 'file'))
     error ('sluice:build_model:notbuilt', ...
            'the model checker %s is missing: run make in %s first', checker, root);
+  end
+  if (~exist (callobj, 'file'))
+    error ('sluice:build_model:notbuilt', ...
+           'the gateways'' helper %s is missing: run make in %s first', callobj, root);
   end
   headers = list_files (fullfile (root, 'include', 'sluice'), '*.h');
   src = [headers, ...
@@ -269,6 +277,8 @@ function check_library (root, lib, checker)
   older_than (lib, src, 'the library', root);
   older_than (checker, [headers, list_files(fullfile (root, 'tools'), 'model_check.c')], ...
               'the model checker', root);
+  older_than (callobj, [list_files(fullfile (root, 'mex'), 'mexcall.cc'), ...
+                        list_files(fullfile (root, 'mex'), 'mexcall.h')], 'the gateways'' helper', root);
 end
 
 function older_than (built, sources, what, root)
@@ -373,10 +383,11 @@ function compile (cfile, cdir, root, lib, checker, outdir, targets)
   part = cell (1, 2);
   for k = 1:2
     line = sprintf (['cd %s && %s --mex -o %s -DSLUICE_USER_MODEL -DMX_HAS_INTERLEAVED_COMPLEX=1 ', ...
-                     '-I%s -I%s %s model.o %s %s %s %s %s -O2 -fopenmp'], ...
+                     '-I%s -I%s %s model.o %s %s %s %s %s %s -O2 -fopenmp'], ...
                     shell_quote (tmp), shell_quote (mk), [names{k} '.' mexext()], ...
                     rel (top, 'include'), rel (top, 'mex'), rel (top, 'mex', gw{k}), ...
                     rel (top, 'mex', 'mexutil.c'), rel (top, 'mex', 'mexrun.c'), rel (top, 'mex', 'mexplatform.c'), ...
+                    rel (top, 'build', 'mex', 'mexcall.o'), ...
                     rel (top, 'build', 'libsluice.a'), libs);
     part{k} = sprintf ('(%s > %s 2>&1; echo $? > %s) &', line, ...
                        shell_quote (fullfile (tmp, [names{k} '.log'])), ...

@@ -249,30 +249,40 @@
 %! % the model checker is the object make builds from tools/model_check.c:
 %! % it is newer than that source, and a copy of sluice.build_model in a
 %! % folder with an sdk (the layout of an installed package) refuses to
-%! % build without it, or with one older than the headers beside it
+%! % build without it, or with one older than the headers beside it; the
+%! % same for the gateways' compiled helper (mex/mexcall.cc)
 %! root = fileparts (fileparts (fileparts (which ('sluice.build_model'))));
 %! obj = fullfile (root, 'build', 'model_check.o');
+%! helper = fullfile (root, 'build', 'mex', 'mexcall.o');
 %! s_obj = stat (obj);
 %! s_src = stat (fullfile (root, 'tools', 'model_check.c'));
+%! assert (s_obj.mtime >= s_src.mtime);
+%! s_obj = stat (helper);
+%! s_src = stat (fullfile (root, 'mex', 'mexcall.cc'));
 %! assert (s_obj.mtime >= s_src.mtime);
 %! top = fullfile (tmp, 'pkgcopy');
 %! sdk = fullfile (top, 'sdk');
 %! mkdir (fullfile (top, '+sluice'));
-%! mkdir (fullfile (sdk, 'build'));
+%! mkdir (fullfile (sdk, 'build', 'mex'));
 %! copyfile (which ('sluice.build_model'), fullfile (top, '+sluice'));
 %! copyfile (fullfile (root, 'include'), fullfile (sdk, 'include'));
 %! copyfile (fullfile (root, 'mex'), fullfile (sdk, 'mex'));
 %! copyfile (fullfile (root, 'build', 'libsluice.a'), fullfile (sdk, 'build'));
+%! copyfile (helper, fullfile (sdk, 'build', 'mex'));
 %! saved = path ();
 %! addpath (top);
-%! msg = cell (1, 3);
-%! for k = 1:3
+%! msg = cell (1, 4);
+%! for k = 1:4
 %!   if (k == 2)
 %!     % a checker older than the headers
 %!     copyfile (obj, fullfile (sdk, 'build'));
 %!     system (sprintf ('touch -d 2001-01-01 ''%s''', fullfile (sdk, 'build', 'model_check.o')));
 %!   elseif (k == 3)
+%!     % the checker in place, the helper missing
 %!     copyfile (obj, fullfile (sdk, 'build'));
+%!     delete (fullfile (sdk, 'build', 'mex', 'mexcall.o'));
+%!   elseif (k == 4)
+%!     copyfile (helper, fullfile (sdk, 'build', 'mex'));
 %!   end
 %!   try
 %!     sluice.build_model (fullfile (tmp, 'bad_definition.c'), 'outdir', fullfile (top, 'out'));
@@ -288,9 +298,11 @@
 %! assert (strncmp (msg{1}, [head ' is missing'], numel (head) + 11));
 %! assert (strncmp (msg{2}, [head ' is older than ' fullfile(sdk, 'include', 'sluice')], ...
 %!                  numel (head) + 15 + numel (fullfile (sdk, 'include', 'sluice'))));
-%! % with the checker in place it runs: the definition's problems
-%! assert (strncmp (msg{3}, 'sluice:build_model:baddef ', 26));
-%! assert (~isempty (strfind (msg{3}, 'leapfrog')));
+%! head = ['sluice:build_model:notbuilt the gateways'' helper ' fullfile(sdk, 'build', 'mex', 'mexcall.o')];
+%! assert (strncmp (msg{3}, [head ' is missing'], numel (head) + 11));
+%! % with the checker and the helper in place it runs: the definition's problems
+%! assert (strncmp (msg{4}, 'sluice:build_model:baddef ', 26));
+%! assert (~isempty (strfind (msg{4}, 'leapfrog')));
 
 %!test
 %! % remove the temporary folder

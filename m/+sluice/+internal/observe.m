@@ -24,15 +24,24 @@ function [Y, msg, id] = observe (funs, rows, t, X, P, fn)
       id = err.identifier;
       return;
     end
-    if (~isa (y, 'double') || ~isreal (y) || issparse (y) || ~isequal (size (y), [rows(i), N]))
+    % the checks of the result run methods of its class, which may fail
+    % too: such an error comes back as values like the operator's own
+    try
+      if (~isa (y, 'double') || ~isreal (y) || issparse (y) || ~isequal (size (y), [rows(i), N]))
+        Y = [];
+        msg = sprintf (['observation operator %d (%s) must return a real double %dx%d ', ...
+                        'matrix (quantities x members), got %s at t = %g'], ...
+                       i, func2str (funs{i}), rows(i), N, sluice.internal.describe (y), t);
+        id = ['sluice:' fn ':badoperatoroutput'];
+        return;
+      end
+      Y(r+1:r+rows(i), :) = y;
+    catch err
       Y = [];
-      msg = sprintf (['observation operator %d (%s) must return a real double %dx%d ', ...
-                      'matrix (quantities x members), got %s at t = %g'], ...
-                     i, func2str (funs{i}), rows(i), N, sluice.internal.describe (y), t);
-      id = ['sluice:' fn ':badoperatoroutput'];
+      msg = err.message;
+      id = err.identifier;
       return;
     end
-    Y(r+1:r+rows(i), :) = y;
     r = r + rows(i);
   end
 end
