@@ -1075,6 +1075,18 @@ void sl_pfi_record_diversity(const sl_pf_config *cfg, pf_buffers *b, const uint3
     }
 }
 
+/* 1 when a row of r0..r0+m-1 observes a quantity of the operator
+ * function. */
+static int uses_fun(const sl_pf_config *cfg, size_t r0, size_t m)
+{
+    const size_t from = cfg->model->n_state + cfg->model->n_param + cfg->n_lin;
+    size_t i;
+    for (i = 0; i < m; i++)
+        if (cfg->var[r0 + i] >= from)
+            return 1;
+    return 0;
+}
+
 /* Predicted observations of cycle k rows r0..r0+m-1 at time t into Yhat
  * (m x N): states and parameters directly, linear rows by H, the rest
  * from the operator function (called once, only when a row needs it). */
@@ -1085,13 +1097,11 @@ sl_status sl_pfi_predict_obs(const sl_pf_config *cfg, pf_buffers *b, size_t r0,
     const size_t N = cfg->N, n = cfg->model->n_state, p = cfg->model->n_param;
     const size_t v = n + p, nl = cfg->n_lin;
     size_t i, j;
-    for (i = 0; i < m; i++)
-        if (cfg->var[r0 + i] >= v + nl) {
-            sl_status st = cfg->obs_fn(cfg->obs_ctx, t, N, X, P, b->Yfun, err);
-            if (st != SL_OK)
-                return st;
-            break;
-        }
+    if (uses_fun(cfg, r0, m)) {
+        sl_status st = cfg->obs_fn(cfg->obs_ctx, t, N, X, P, b->Yfun, err);
+        if (st != SL_OK)
+            return st;
+    }
 #pragma omp parallel for num_threads(b->nt) schedule(static) private(i)
     for (j = 0; j < N; j++)
         for (i = 0; i < m; i++) {
@@ -1261,10 +1271,12 @@ sl_status sl_pfi_summarise(const sl_pf_config *cfg, pf_buffers *b, const double 
 /* The summary of the derived quantities at the end of cycle k (time t),
  * when the run records it: every member's values (linear rows by H, the
  * others by one call of the operator function) into Yd (d x N), then the
- * weighted mean and quantiles of each row. */
+ * weighted mean and quantiles of each row. With reuse set, Yfun already
+ * holds the operator function's values of these X and P at t (the
+ * cycle's analysis called it) and it is not called again. */
 sl_status sl_pfi_summarise_derived(const sl_pf_config *cfg, pf_buffers *b, double t,
                                    const double *X, const double *P, const double *w,
-                                   sl_pf_output *out, size_t k, sl_error *err)
+                                   int reuse, sl_pf_output *out, size_t k, sl_error *err)
 {
     const size_t N = cfg->N, n = cfg->model->n_state, p = cfg->model->n_param;
     const size_t nl = cfg->n_lin, nf = cfg->n_fun, d = nl + nf, nq = cfg->nq;
@@ -1272,7 +1284,7 @@ sl_status sl_pfi_summarise_derived(const sl_pf_config *cfg, pf_buffers *b, doubl
     size_t j;
     if (!cfg->derived_summary || d == 0)
         return SL_OK;
-    if (nf > 0) {
+    if (nf > 0 && !reuse) {
         sl_status st = cfg->obs_fn(cfg->obs_ctx, t, N, X, P, b->Yfun, err);
         if (st != SL_OK)
             return st;
@@ -1534,6 +1546,10 @@ static sl_status pf_cycle(sl_analysis_cycle *c, sl_error *err)
         return SL_OK;
     if ((st = sl_pfi_predict_obs(cfg, c->run, c->r0, c->m, c->t, c->X, c->P, err)) != SL_OK)
         return st;
+    /* the weighting leaves the members as they are: the operator
+     * function's values of every member at t are those the cycle's
+     * summary asks for */
+    c->run->yfun_kept = uses_fun(cfg, c->r0, c->m);
     sl_pfi_record_pit(cfg, c->run, c->r0, c->m, c->w, c->dead, c->out);
     if (c->out->nanpred != NULL)
         c->out->nanpred[c->k] =
@@ -2308,6 +2324,7 @@ sl_status sl_pf_run(const sl_pf_config *cfg, double *X, double *P, double *w,
         }
 
         b.rm_sweeps = b.rm_proposed = b.rm_accepted = 0;
+        b.yfun_kept = 0;
 
         if (k > 0 && p > 0 && moving && cfg->param_move->when == SL_MOVE_EACH_CYCLE) {
             memcpy(b.Z[1 - cur], Zc, p * N * sizeof(double));
@@ -2394,6 +2411,7 @@ sl_status sl_pf_run(const sl_pf_config *cfg, double *X, double *P, double *w,
                 b.s_now = s;
                 st = temper_cycle(cfg, &b, k, r0, m, tk, &cur, w, &tphi, &tlogz, &tsteps,
                                   &evals, err);
+                b.yfun_kept = 0;
                 if (st != SL_OK)
                     return st;
                 Xc = b.X[cur];
@@ -2440,7 +2458,7 @@ sl_status sl_pf_run(const sl_pf_config *cfg, double *X, double *P, double *w,
         if (!cfg->no_summary) {
             if ((st = sl_pfi_summarise(cfg, &b, Xc, Pc, w, out, k, err)) != SL_OK)
                 return st;
-            st = sl_pfi_summarise_derived(cfg, &b, tk, Xc, Pc, w, out, k, err);
+            st = sl_pfi_summarise_derived(cfg, &b, tk, Xc, Pc, w, b.yfun_kept, out, k, err);
             if (st != SL_OK)
                 return st;
         }

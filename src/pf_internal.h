@@ -48,6 +48,11 @@ typedef struct sl_pfi_buffers {
     sl_error *terr;
     size_t mwork_per, qwork_per, m_max;
     int nt; /* threads for per-member loops: 1 for small ensembles */
+    int yfun_kept; /* Yfun holds the operator function's values of the
+                    * cycle's analysed ensemble (set by the particle
+                    * filter's analysis, cleared at every cycle's start
+                    * and when tempering moves the members): the
+                    * cycle's summary of derived quantities reuses them */
     size_t *rk_counts; /* a run with cfg->ranks: P counts and P doubles */
     double *rk_stats;  /* of scratch for its collectives */
     double *rk_qsend, *rk_qrecv; /* and the quantiles of the summarised
@@ -197,7 +202,7 @@ sl_status sl_pfi_summarise(const sl_pf_config *cfg, pf_buffers *b, const double 
                            size_t k, sl_error *err);
 sl_status sl_pfi_summarise_derived(const sl_pf_config *cfg, pf_buffers *b, double t,
                                    const double *X, const double *P, const double *w,
-                                   sl_pf_output *out, size_t k, sl_error *err);
+                                   int reuse, sl_pf_output *out, size_t k, sl_error *err);
 /* The weakly coupled particle filter resampled component cp at cycle k
  * with ancestors anc: that component's ids in the window's slots of
  * cycles k-1, k-2, ... (filled of them, at most its lag) follow (pf.c). */

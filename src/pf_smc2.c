@@ -402,7 +402,7 @@ sl_status sl_pfi_smc2_run(const sl_pf_config *cfg, pf_buffers *b, void *work, do
             sst = sl_pfi_summarise(cfg, b, sy.X, sy.P, w, out, k, err);
             if (sst != SL_OK)
                 return sst;
-            sst = sl_pfi_summarise_derived(cfg, b, cfg->times[k], sy.X, sy.P, w, out, k, err);
+            sst = sl_pfi_summarise_derived(cfg, b, cfg->times[k], sy.X, sy.P, w, 0, out, k, err);
             if (sst != SL_OK)
                 return sst;
         }

@@ -76,8 +76,11 @@
 % compiled code), or @code{fun}, a function handle
 % @code{Y = fun (t, X, P)} returning k x N predicted values for the whole
 % ensemble (X n x N, P p x N; called once per cycle whose observations
-% need it, and once more per cycle for the summary in @code{res.derived}
-% unless @code{derived_summary} is false). Rows of the observation table
+% need it, and for the summary in @code{res.derived} unless
+% @code{derived_summary} is false: the particle filter's summary reuses
+% the values of the cycle's weighting when it has them, so it calls it
+% once a cycle; the Kalman methods and tempering, which change the members
+% after that call, call it once more). Rows of the observation table
 % then name them like states. For
 % the ensemble Kalman methods with localisation, observations of derived
 % quantities need the position columns @code{x} (and @code{y}).

@@ -200,6 +200,37 @@
 %!   end
 %! end
 
+%!function Y = counted_total (X, cnt)
+%!  % an operator function that counts its calls in cnt (a handle object)
+%!  cnt('n') = cnt('n') + 1;
+%!  Y = X(1, :) + X(2, :) + 0.1 * X(2, :) .^ 2;
+%!endfunction
+
+%!test
+%! % an observed derived quantity of a function: the particle filter's
+%! % summary reuses the values its weighting computed, so the function is
+%! % called once a cycle (here 8 cycles observe it, 32 only need it for
+%! % the summary: 40 calls, not 48); with tempering, which resamples the
+%! % members after the weighting, the summary calls it again. Either way
+%! % the summary is the weighted mean of the function's values over the
+%! % members the cycle ends with (an identity; common practice), checked
+%! % here against the kept ensemble history.
+%! for temper = [0 0.9]
+%!   cnt = containers.Map ();
+%!   cnt('n') = 0;
+%!   ops = struct ('names', 'total', 'fun', @(t, X, P) counted_total (X, cnt));
+%!   r = sluice.filter (spec, pr, obs, 'members', 300, 'seed', 5, 't0', 0, ...
+%!                      'operators', ops, 'history', true, 'temper_ess', temper, ...
+%!                      'progress', false);
+%!   % with tempering, once more at each of the 8 cycles that observe it
+%!   assert (cnt('n'), T + 8 * (temper > 0));
+%!   for k = [1 4 5 10 T]
+%!     Xk = r.history.X(:, :, k); wk = r.history.w(:, k)';
+%!     Y = Xk(1, :) + Xk(2, :) + 0.1 * Xk(2, :) .^ 2;
+%!     assert (r.derived.mean(k), Y * wk', 1e-10);
+%!   end
+%! end
+
 %!test
 %! % a derived quantity that is NaN for a member of positive weight has
 %! % no summary that cycle (NaN), and the run goes on
