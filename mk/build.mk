@@ -5,7 +5,8 @@
 # The including file sets:
 #   SL_SRC     core sources (src/*.c, src/models/*.c)
 #   SL_INC     public headers (the folder holding sluice/*.h)
-#   SL_MEX     gateway sources (mex/*.c; mex/mex*.c are helpers linked into all)
+#   SL_MEX     gateway sources (mex/*.c; mex/mex*.c and mex/mex*.cc are helpers
+#              linked into all)
 #   SL_BUILD   where objects and the library go
 #   SL_MEXOUT  where the built gateways go (m/+sluice/+kernel)
 #   SL_CHECKSRC  the checker of a user's model definition (tools/model_check.c)

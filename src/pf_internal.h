@@ -51,7 +51,7 @@ typedef struct sl_pfi_buffers {
     int yfun_kept; /* Yfun holds the operator function's values of the
                     * cycle's analysed ensemble (set by the particle
                     * filter's analysis, cleared at every cycle's start
-                    * and when tempering moves the members): the
+                    * and after tempering, which resamples them): the
                     * cycle's summary of derived quantities reuses them */
     size_t *rk_counts; /* a run with cfg->ranks: P counts and P doubles */
     double *rk_stats;  /* of scratch for its collectives */
