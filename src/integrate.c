@@ -217,6 +217,69 @@ static sl_status def_block_rhs(void *ctx, double t, size_t first,
     return SL_OK;
 }
 
+/* The block rhs of a definition with rhs_block: X, P, U already in its
+ * structure-of-arrays layout (ctx holds the definition model and the
+ * transposed P and U) */
+typedef struct {
+    const sl_def_model *dm;
+    const double *P, *U;
+} soa_ctx;
+
+static sl_status soa_block_rhs(void *ctx, double t, size_t first, size_t count,
+                               const double *X, const double *P, const double *U,
+                               double *dX, sl_error *err)
+{
+    const soa_ctx *c = (const soa_ctx *)ctx;
+    (void)first;
+    (void)P;
+    (void)U;
+    (void)err;
+    c->dm->def->rhs_block(c->dm->def, c->dm->n, count, t, X, c->P, c->U, dX);
+    return SL_OK;
+}
+
+/* rows x count (column j: member j) to count x rows, and back */
+static void to_soa(size_t rows, size_t count, const double *in, double *out)
+{
+    size_t i, j;
+    for (j = 0; j < count; j++)
+        for (i = 0; i < rows; i++)
+            out[i * count + j] = in[j * rows + i];
+}
+
+static void from_soa(size_t rows, size_t count, const double *in, double *out)
+{
+    size_t i, j;
+    for (j = 0; j < count; j++)
+        for (i = 0; i < rows; i++)
+            out[j * rows + i] = in[i * count + j];
+}
+
+/* The fixed-step methods on a definition with rhs_block: the block in
+ * structure-of-arrays layout for the step's stages. work holds
+ * (stages + n + p + q) * count doubles. */
+static sl_status advance_soa(const sl_def_model *dm, double t, double h, size_t first,
+                             size_t count, double *X, const double *P, const double *U,
+                             double *work, sl_error *err)
+{
+    const sl_model_def *def = dm->def;
+    const size_t n = dm->n, p = def->n_param, q = def->n_forcing;
+    double *Xs = work, *Ps = Xs + n * count, *Us = Ps + p * count, *wk = Us + q * count;
+    soa_ctx c;
+    sl_status st;
+    to_soa(n, count, X, Xs);
+    to_soa(p, count, P, Ps);
+    to_soa(q, count, U, Us);
+    c.dm = dm;
+    c.P = Ps;
+    c.U = Us;
+    st = sl_integrate_block(dm->method, soa_block_rhs, &c, n, first, count, t, h, Xs, Ps, Us,
+                            &dm->tol, wk, NULL, err);
+    if (st == SL_OK)
+        from_soa(n, count, Xs, X);
+    return st;
+}
+
 /* First event with time > t (events sorted). */
 static size_t first_event_after(const sl_events *ev, double t)
 {
@@ -250,6 +313,8 @@ static sl_status advance_piece(const sl_def_model *dm, double t, double h,
         }
         return SL_OK;
     }
+    if (def->rhs_block != NULL && !dm->method->adaptive)
+        return advance_soa(dm, t, h, first, count, X, P, U, work, err);
     if (dm->method->adaptive) {
         /* each member its own steps: one stiff member slows only itself */
         for (j = 0; j < count; j++) {
@@ -491,6 +556,8 @@ sl_status sl_def_model_init(sl_model *model, sl_def_model *dm,
     work = method->stages * n * SL_MODEL_BLOCK + def->n_event + 1;
     if (def->block_work != NULL)
         work += def->block_work(n, SL_MODEL_BLOCK);
+    if (def->rhs_block != NULL && !method->adaptive && method != &sl_integrator_discrete)
+        work += (n + def->n_param + def->n_forcing) * SL_MODEL_BLOCK; /* advance_soa */
     model->name = def->name;
     model->n_state = n;
     model->n_param = def->n_param;

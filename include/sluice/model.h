@@ -74,6 +74,15 @@ typedef void (*sl_map_block_fn)(const sl_model_def *def, size_t n,
                                 const double *P, const double *U,
                                 double *work);
 
+/* Optional fast path of rhs: the derivatives of `count` members at once,
+ * in structure-of-arrays layout: state i of member j is X[i * count + j]
+ * (dX likewise), parameter k is P[k * count + j], forcing k is
+ * U[k * count + j]. Must give the same bits as rhs on every member (the
+ * engine uses it for the fixed-step methods, rhs for the adaptive one). */
+typedef void (*sl_rhs_block_fn)(const sl_model_def *def, size_t n,
+                                size_t count, double t, const double *X,
+                                const double *P, const double *U, double *dX);
+
 struct sl_model_def {
     const char *name;
     const char *summary;          /* one line: what the model is */
@@ -99,6 +108,7 @@ struct sl_model_def {
      * (GR4J's unit-hydrograph queues): carried and assimilated like the
      * others, but not drawn or reported unless asked for; NULL: none */
     const unsigned char *state_internal;
+    sl_rhs_block_fn rhs_block;    /* optional fast path of rhs, or NULL */
 };
 
 /* What a user's model file (built by sluice.build_model) defines: its

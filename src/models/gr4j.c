@@ -435,4 +435,4 @@ const sl_model_def sl_model_gr4j = {
     gr4j_states, gr4j_params, gr4j_forcings, NULL,
     gr4j_x0, gr4j_p, gr4j_lo, gr4j_hi,
     1.0, "discrete",
-    NULL, gr4j_map, NULL, gr4j_block, gr4j_block_work, gr4j_internal};
+    NULL, gr4j_map, NULL, gr4j_block, gr4j_block_work, gr4j_internal, NULL};

@@ -1130,6 +1130,173 @@ static void test_determinism(void)
     }
 }
 
+/* ---------------------------------------------------- block right-hand sides */
+
+/* Equal bits, where any NaN equals any NaN: a NaN's sign and payload
+ * depend on the order of a product's operands, which the compiler may
+ * swap in vector code, and carry no meaning here. */
+static int same_bits(size_t len, const double *a, const double *b, size_t *at)
+{
+    size_t i;
+    for (i = 0; i < len; i++)
+        if (!(isnan(a[i]) && isnan(b[i])) && memcmp(a + i, b + i, sizeof(double)) != 0) {
+            *at = i;
+            return 0;
+        }
+    return 1;
+}
+
+/* Values a member may hold: ordinary ones of both signs and sizes, and the
+ * edges (zeros of both signs, the smallest normal, Inf, NaN). */
+static double edge_value(sl_stream *s, size_t k)
+{
+    static const double edges[] = {0.0, -0.0, 2.2250738585072014e-308, -1.0, 1e300,
+                                   INFINITY, -INFINITY, NAN};
+    const size_t ne = sizeof edges / sizeof *edges;
+    if (k % 5 == 4)
+        return edges[(k / 5) % ne];
+    return exp(2.0 * sl_stream_normal(s)) * (k % 7 == 3 ? -1.0 : 1.0);
+}
+
+/* Every built-in definition with a block right-hand side (the engine's
+ * fast path of the fixed-step methods) against the same definition
+ * without it, the member-by-member path (common practice: a fast path
+ * checked against its plain version): the derivatives of members holding
+ * edge values, bit for bit, and whole runs of Euler and RK4 over 150
+ * members (two full blocks and part of one) with the model's events, each
+ * member's parameters its own, bit for bit. */
+static void test_rhs_block(void)
+{
+    enum { M = 37, NB = 150, STEPS = 60 };
+    const sl_integrator *methods[2] = {&sl_integrator_euler, &sl_integrator_rk4};
+    const double ev_t[3] = {0.35, 1.5, 2.0}, ev_v[3] = {2.0, 0.5, 3.0};
+    const int ev_noise[1] = {SL_FORCING_MULTIPLICATIVE};
+    const double ev_sd[1] = {0.3};
+    size_t k, found = 0;
+    for (k = 0; k < sl_model_def_count(); k++) {
+        const sl_model_def *def = sl_model_def_get(k);
+        sl_model_def plain;
+        const size_t n = def->n_state > 0 ? def->n_state : 8, p = def->n_param,
+                     q = def->n_forcing;
+        double *X, *P, *U, *Xs, *Ps, *Us, *dXs, *dX, *dXb, *Xa, *Xb, *Pb;
+        sl_events ev;
+        sl_stream s;
+        size_t i, j, m, at = 0;
+        if (def->rhs_block == NULL)
+            continue;
+        found++;
+        plain = *def;
+        plain.rhs_block = NULL;
+        X = ck_malloc(n * M * sizeof(double));
+        P = ck_malloc((p > 0 ? p : 1) * M * sizeof(double));
+        U = ck_malloc((q > 0 ? q : 1) * M * sizeof(double));
+        Xs = ck_malloc(n * M * sizeof(double));
+        Ps = ck_malloc((p > 0 ? p : 1) * M * sizeof(double));
+        Us = ck_malloc((q > 0 ? q : 1) * M * sizeof(double));
+        dXs = ck_malloc(n * M * sizeof(double));
+        dX = ck_malloc(n * M * sizeof(double));
+        dXb = ck_malloc(n * M * sizeof(double));
+
+        /* the derivatives, member by member and as a block */
+        sl_stream_init(&s, 5150u, (uint32_t)k, 0u, SL_PURPOSE_PRIOR);
+        for (j = 0; j < M; j++) {
+            for (i = 0; i < n; i++)
+                X[i + j * n] = Xs[i * M + j] = edge_value(&s, i + j * n);
+            for (i = 0; i < p; i++)
+                P[i + j * p] = Ps[i * M + j] =
+                    j % 3 == 2 ? edge_value(&s, i + j * p)
+                               : def->p_default[i] * exp(0.3 * sl_stream_normal(&s));
+            for (i = 0; i < q; i++)
+                U[i + j * q] = Us[i * M + j] = edge_value(&s, i + j * q);
+        }
+        for (j = 0; j < M; j++)
+            def->rhs(def, n, 0.25, X + j * n, P + j * p, U + j * q, dX + j * n);
+        def->rhs_block(def, n, M, 0.25, Xs, Ps, Us, dXs);
+        for (j = 0; j < M; j++)
+            for (i = 0; i < n; i++)
+                dXb[i + j * n] = dXs[i * M + j];
+        CHECK(same_bits(n * M, dX, dXb, &at),
+              "%s: the block right-hand side gives the member's bits (state %lu of member "
+              "%lu: %.17g, member by member %.17g)", def->name, (unsigned long)(at % n + 1),
+              (unsigned long)(at / n + 1), dXb[at], dX[at]);
+        ck_free(X);
+        ck_free(P);
+        ck_free(U);
+        ck_free(Xs);
+        ck_free(Ps);
+        ck_free(Us);
+        ck_free(dXs);
+        ck_free(dX);
+        ck_free(dXb);
+
+        /* whole runs through the engine */
+        if (q > 0) {
+            CHECK(0, "%s: the engine test passes no forcing; give it one", def->name);
+            continue;
+        }
+        Xa = ck_malloc(n * NB * sizeof(double));
+        Xb = ck_malloc(n * NB * sizeof(double));
+        Pb = ck_malloc((p > 0 ? p : 1) * NB * sizeof(double));
+        sl_stream_init(&s, 5151u, (uint32_t)k, 0u, SL_PURPOSE_PRIOR);
+        for (j = 0; j < NB; j++) {
+            for (i = 0; i < n; i++) {
+                double x0 = def->x0 != NULL ? def->x0[i] : 1.0;
+                Xa[i + j * n] = (x0 != 0.0 ? x0 : 0.5) * exp(0.5 * sl_stream_normal(&s));
+            }
+            for (i = 0; i < p; i++)
+                Pb[i + j * p] = def->p_default[i] * exp(0.3 * sl_stream_normal(&s));
+        }
+        /* members with an edge value as first state */
+        Xa[0 + 17 * n] = 0.0;
+        Xa[0 + 70 * n] = -1.0;
+        Xa[0 + 140 * n] = NAN;
+        ev.count = 3;
+        ev.nv = def->n_event;
+        ev.time = ev_t;
+        ev.value = ev_v;
+        ev.noise = ev_noise;
+        ev.sd = ev_sd;
+        ev.seed = 99u;
+        for (m = 0; m < 2; m++) {
+            engine ea, eb;
+            const sl_events *evp = def->n_event == 1 ? &ev : NULL;
+            if (!engine_init(&ea, def, n, methods[m], 0.05, NULL, evp))
+                break;
+            if (!engine_init(&eb, &plain, n, methods[m], 0.05, NULL, evp)) {
+                engine_free(&ea);
+                break;
+            }
+            memcpy(Xb, Xa, n * NB * sizeof(double));
+            {
+                double *Xc = ck_malloc(n * NB * sizeof(double));
+                memcpy(Xc, Xa, n * NB * sizeof(double));
+                CHECK(run_steps(&ea, 0.0, 0.05, STEPS, 0, NB, Xc, Pb) == SL_OK &&
+                          run_steps(&eb, 0.0, 0.05, STEPS, 0, NB, Xb, Pb) == SL_OK,
+                      "%s %s: both runs", def->name, methods[m]->name);
+                CHECK(same_bits(n * NB, Xc, Xb, &at),
+                      "%s %s: %d steps of %d members with the block right-hand side give "
+                      "the member-by-member bits (state %lu of member %lu: %.17g against "
+                      "%.17g)", def->name, methods[m]->name, STEPS, NB,
+                      (unsigned long)(at % n + 1), (unsigned long)(at / n + 1), Xc[at], Xb[at]);
+                /* the flood model's settlement must stay > 0 */
+                for (j = 0, i = 0; j < NB; j++)
+                    i += isfinite(Xc[j * n]) ? 1 : 0;
+                CHECK(strcmp(def->name, "flood") != 0 || i == NB - 3,
+                      "%s %s: the 3 edge members end non-finite, the others finite (%lu "
+                      "finite)", def->name, methods[m]->name, (unsigned long)i);
+                ck_free(Xc);
+            }
+            engine_free(&ea);
+            engine_free(&eb);
+        }
+        ck_free(Xa);
+        ck_free(Xb);
+        ck_free(Pb);
+    }
+    CHECK(found >= 1, "a built-in model has a block right-hand side (%lu)",
+          (unsigned long)found);
+}
+
 /* ------------------------------------------------------- step counts */
 
 static void expect_steps(double t, double t_end, double dt, int discrete,
@@ -1238,6 +1405,7 @@ int main(void)
     test_errors();
     test_integrate_block();
     test_determinism();
+    test_rhs_block();
     test_steps();
     CHECK_DONE("test_integrate");
 }
