@@ -255,31 +255,6 @@ static void from_soa(size_t rows, size_t count, const double *in, double *out)
             out[j * rows + i] = in[i * count + j];
 }
 
-/* The fixed-step methods on a definition with rhs_block: the block in
- * structure-of-arrays layout for the step's stages. work holds
- * (stages + n + p + q) * count doubles. */
-static sl_status advance_soa(const sl_def_model *dm, double t, double h, size_t first,
-                             size_t count, double *X, const double *P, const double *U,
-                             double *work, sl_error *err)
-{
-    const sl_model_def *def = dm->def;
-    const size_t n = dm->n, p = def->n_param, q = def->n_forcing;
-    double *Xs = work, *Ps = Xs + n * count, *Us = Ps + p * count, *wk = Us + q * count;
-    soa_ctx c;
-    sl_status st;
-    to_soa(n, count, X, Xs);
-    to_soa(p, count, P, Ps);
-    to_soa(q, count, U, Us);
-    c.dm = dm;
-    c.P = Ps;
-    c.U = Us;
-    st = sl_integrate_block(dm->method, soa_block_rhs, &c, n, first, count, t, h, Xs, Ps, Us,
-                            &dm->tol, wk, NULL, err);
-    if (st == SL_OK)
-        from_soa(n, count, Xs, X);
-    return st;
-}
-
 /* First event with time > t (events sorted). */
 static size_t first_event_after(const sl_events *ev, double t)
 {
@@ -313,8 +288,6 @@ static sl_status advance_piece(const sl_def_model *dm, double t, double h,
         }
         return SL_OK;
     }
-    if (def->rhs_block != NULL && !dm->method->adaptive)
-        return advance_soa(dm, t, h, first, count, X, P, U, work, err);
     if (dm->method->adaptive) {
         /* each member its own steps: one stiff member slows only itself */
         for (j = 0; j < count; j++) {
@@ -331,6 +304,99 @@ static sl_status advance_piece(const sl_def_model *dm, double t, double h,
                               first, count, t, h, X, P, U, &dm->tol, work, NULL, err);
 }
 
+/* A definition with rhs_block under a fixed-step method: the block stays in
+ * structure-of-arrays layout through steps l0 .. l1-1 of an interval of
+ * nsteps steps (step l from t0 + l h to t0 + (l + 1) h, the last to
+ * t_end), so it is transposed once, not once a step. The events of
+ * (ts, te] of a step split it and are applied in time order, each member's
+ * jump on a copy of its states, as def_step applies them. work holds
+ * span_work doubles. */
+static size_t span_work(const sl_model_def *def, const sl_integrator *method, size_t n)
+{
+    return (method->stages * n + n + def->n_param + def->n_forcing) * SL_MODEL_BLOCK + n +
+           def->n_event + 1;
+}
+
+static sl_status soa_piece(const sl_def_model *dm, soa_ctx *c, double t, double h,
+                           size_t first, size_t count, double *Xs, double *wk,
+                           sl_error *err)
+{
+    if (!(h > 0))
+        return SL_OK;
+    return sl_integrate_block(dm->method, soa_block_rhs, c, dm->n, first, count, t, h, Xs,
+                              c->P, c->U, &dm->tol, wk, NULL, err);
+}
+
+static sl_status span_block(const sl_def_model *dm, double t0, double h, double t_end,
+                            size_t nsteps, size_t l0, size_t l1, size_t first, size_t count,
+                            double *X, const double *P, const double *U, double *work,
+                            size_t *failed, sl_error *err)
+{
+    const sl_model_def *def = dm->def;
+    const size_t n = dm->n, p = def->n_param, q = def->n_forcing;
+    const sl_events *ev = dm->events;
+    double *Xs = work, *Ps = Xs + n * count, *Us = Ps + p * count, *x = Us + q * count,
+           *evv = x + n, *wk = evv + def->n_event + 1;
+    size_t e, l, i, j;
+    soa_ctx c;
+    sl_status st = SL_OK;
+    to_soa(n, count, X, Xs);
+    to_soa(p, count, P, Ps);
+    to_soa(q, count, U, Us);
+    c.dm = dm;
+    c.P = Ps;
+    c.U = Us;
+    e = ev != NULL && ev->count > 0 ? first_event_after(ev, t0 + (double)l0 * h) : 0;
+    for (l = l0; l < l1 && st == SL_OK; l++) {
+        /* as the drivers time their step calls; the events of (ts, te] */
+        const double ts = t0 + (double)l * h;
+        const double te = l + 1 == nsteps ? t_end : t0 + (double)(l + 1) * h;
+        double tc = ts;
+        if (ev != NULL)
+            for (; e < ev->count && ev->time[e] <= te; e++) {
+                if ((st = soa_piece(dm, &c, tc, ev->time[e] - tc, first, count, Xs, wk, err)) !=
+                    SL_OK)
+                    break;
+                tc = ev->time[e];
+                for (j = 0; j < count; j++) {
+                    for (i = 0; i < n; i++)
+                        x[i] = Xs[i * count + j];
+                    sl_event_values(ev, e, first + j, evv);
+                    def->jump(def, n, ev->time[e], x, P + j * p, evv);
+                    for (i = 0; i < n; i++)
+                        Xs[i * count + j] = x[i];
+                }
+            }
+        if (st == SL_OK)
+            st = soa_piece(dm, &c, tc, te - tc, first, count, Xs, wk, err);
+        if (st != SL_OK)
+            *failed = l;
+    }
+    from_soa(n, count, Xs, X);
+    return st;
+}
+
+/* The model's span (model.h): blocks of members, each through the steps */
+static sl_status def_span(const sl_model *model, double t0, double h, double t_end,
+                          size_t nsteps, size_t l0, size_t l1, size_t first, size_t count,
+                          double *X, const double *P, uint64_t seed, uint32_t s0,
+                          double *work, size_t *failed, sl_error *err)
+{
+    const sl_def_model *dm = (const sl_def_model *)model->ctx;
+    const size_t n = dm->n, p = dm->def->n_param;
+    size_t b0;
+    (void)seed;
+    (void)s0;
+    for (b0 = 0; b0 < count; b0 += SL_MODEL_BLOCK) {
+        size_t cnt = count - b0 < SL_MODEL_BLOCK ? count - b0 : SL_MODEL_BLOCK;
+        sl_status st = span_block(dm, t0, h, t_end, nsteps, l0, l1, first + b0, cnt,
+                                  X + b0 * n, P + b0 * p, NULL, work, failed, err);
+        if (st != SL_OK)
+            return st;
+    }
+    return SL_OK;
+}
+
 static sl_status def_step(const sl_model *model, double t, double t_end,
                           size_t first, size_t count, double *X,
                           const double *P, const double *U, uint64_t seed,
@@ -344,6 +410,17 @@ static sl_status def_step(const sl_model *model, double t, double t_end,
     size_t b0;
     (void)seed;
     (void)step;
+    if (def->rhs_block != NULL && !dm->method->adaptive &&
+        dm->method != &sl_integrator_discrete) {
+        for (b0 = 0; b0 < count; b0 += SL_MODEL_BLOCK) {
+            size_t cnt = count - b0 < SL_MODEL_BLOCK ? count - b0 : SL_MODEL_BLOCK, failed;
+            sl_status st = span_block(dm, t, t_end - t, t_end, 1, 0, 1, first + b0, cnt,
+                                      X + b0 * n, P + b0 * p, U + b0 * q, work, &failed, err);
+            if (st != SL_OK)
+                return st;
+        }
+        return SL_OK;
+    }
     for (b0 = 0; b0 < count; b0 += SL_MODEL_BLOCK) {
         size_t cnt = count - b0 < SL_MODEL_BLOCK ? count - b0 : SL_MODEL_BLOCK;
         double *Xb = X + b0 * n;
@@ -556,8 +633,9 @@ sl_status sl_def_model_init(sl_model *model, sl_def_model *dm,
     work = method->stages * n * SL_MODEL_BLOCK + def->n_event + 1;
     if (def->block_work != NULL)
         work += def->block_work(n, SL_MODEL_BLOCK);
-    if (def->rhs_block != NULL && !method->adaptive && method != &sl_integrator_discrete)
-        work += (n + def->n_param + def->n_forcing) * SL_MODEL_BLOCK; /* advance_soa */
+    if (def->rhs_block != NULL && !method->adaptive && method != &sl_integrator_discrete &&
+        span_work(def, method, n) > work)
+        work = span_work(def, method, n);
     model->name = def->name;
     model->n_state = n;
     model->n_param = def->n_param;
@@ -572,6 +650,10 @@ sl_status sl_def_model_init(sl_model *model, sl_def_model *dm,
                 model->member_draws = 1;
     model->work = work;
     model->step = def_step;
+    model->span = def->rhs_block != NULL && !method->adaptive &&
+                          method != &sl_integrator_discrete && def->n_forcing == 0
+                      ? def_span
+                      : NULL;
     model->ctx = dm;
     return SL_OK;
 }

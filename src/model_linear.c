@@ -71,6 +71,7 @@ sl_status sl_linear_model(sl_model *model, const sl_linear *lin, double dt,
     model->member_draws = lin->L != NULL;
     model->work = lin->n + lin->n * NOISE_BLOCK;
     model->step = linear_step;
+    model->span = NULL;
     model->ctx = (void *)(uintptr_t)lin;
     return SL_OK;
 }

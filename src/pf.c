@@ -820,6 +820,29 @@ size_t sl_pfi_nsteps(const sl_model *md, double t, double tk, double *h)
     return nsteps;
 }
 
+/* The failure of a run whose poll asked it to stop during cycle `at` */
+static sl_status interrupted(const sl_pf_config *cfg, size_t at, sl_error *err)
+{
+    return sl_fail(err, SL_EINTERRUPT, "interrupted",
+                   "the run was interrupted at cycle %lu of %lu", (unsigned long)(at + 1),
+                   (unsigned long)cfg->T);
+}
+
+/* Steps per call of the model's span for blocks of `count` members: about
+ * SPAN_WORK member-states of work a call, so a run polls every few
+ * milliseconds; 0 when the model has no span or must step member by
+ * member (forcing, or re-run paths whose draws follow member indices) */
+#define SPAN_WORK ((size_t)1 << 20)
+static size_t span_steps(const sl_pf_config *cfg, size_t count, const uint32_t *ids)
+{
+    const sl_model *md = cfg->model;
+    size_t w = count * md->n_state, k;
+    if (md->span == NULL || md->n_forcing > 0 || (ids != NULL && md->member_draws))
+        return 0;
+    k = w > 0 ? SPAN_WORK / w : 1;
+    return k > 0 ? k : 1;
+}
+
 /* The interval on nthr threads in one parallel region. The members go in
  * contiguous chunks, about REGION_CHUNKS a thread: thread t first takes
  * chunk t, the rest are dealt as threads come free; one thread takes its
@@ -841,13 +864,15 @@ static sl_status forecast_region(const sl_pf_config *cfg, pf_buffers *b, double 
                                  size_t *fail, sl_error *err)
 {
     const size_t N = cfg->N, q = cfg->model->n_forcing;
-    const size_t per = (size_t)nthr * REGION_CHUNKS;
-    size_t cs = (N + per - 1) / per, nch, first = nsteps, fstep[MAX_THREADS],
+    const sl_model *md = cfg->model;
+    const size_t nper = (size_t)nthr * REGION_CHUNKS;
+    size_t cs = (N + nper - 1) / nper, nch, first = nsteps, fstep[MAX_THREADS], per,
            fchunk[MAX_THREADS], finished = 0, next = (size_t)nthr;
     int stop = 0, k, best = -1;
     if (cs < REGION_MIN_CHUNK)
         cs = REGION_MIN_CHUNK;
     nch = (N + cs - 1) / cs;
+    per = span_steps(cfg, cs, ids);
     for (k = 0; k < nthr; k++) {
         fstep[k] = nsteps;
         fchunk[k] = 0;
@@ -868,25 +893,39 @@ static sl_status forecast_region(const sl_pf_config *cfg, pf_buffers *b, double 
          * threads come free */
         for (c = (size_t)tid; c < nch;) {
             const size_t j0 = c * cs, j1 = N - j0 > cs ? j0 + cs : N;
-            size_t l, fk = fidx0, j, seen;
+            size_t l, l1, fk = fidx0, j, seen;
             int halt;
-            for (l = 0; l < nsteps; l++) {
+            for (l = 0; l < nsteps; l = l1) {
                 const double ts = t0 + (double)l * h;
                 const double te = l + 1 == nsteps ? tk : t0 + (double)(l + 1) * h;
                 const uint32_t sl = s0 + (uint32_t)l;
+                double *mw = b->mwork + (size_t)tid * b->mwork_per;
+                sl_status st;
 #pragma omp atomic read
                 seen = first;
 #pragma omp atomic read
                 halt = stop;
                 if (l > seen || halt)
                     break;
-                if (q > 0) {
-                    fk = forcing_base(&cfg->forcing, ts, fk, u0);
-                    for (j = j0; j < j1; j++)
-                        forcing_member(cfg, b, E, U, u0, sl, j, ids, seed, zst, zread);
+                if (per > 0) {
+                    /* several steps in one call (no forcing) */
+                    size_t fl = nsteps;
+                    l1 = nsteps - l < per ? nsteps : l + per;
+                    st = md->span(md, t0, h, tk, nsteps, l, l1, b->m0 + j0, j1 - j0,
+                                  X + j0 * md->n_state, P + j0 * md->n_param, seed, s0, mw,
+                                  &fl, &e);
+                    if (st != SL_OK)
+                        l = fl < l1 ? fl : l1 - 1;
+                } else {
+                    l1 = l + 1;
+                    if (q > 0) {
+                        fk = forcing_base(&cfg->forcing, ts, fk, u0);
+                        for (j = j0; j < j1; j++)
+                            forcing_member(cfg, b, E, U, u0, sl, j, ids, seed, zst, zread);
+                    }
+                    st = step_members(cfg, b, X, P, U, j0, j1, ts, te, sl, ids, seed, mw, &e);
                 }
-                if (step_members(cfg, b, X, P, U, j0, j1, ts, te, sl, ids, seed,
-                                 b->mwork + (size_t)tid * b->mwork_per, &e) != SL_OK) {
+                if (st != SL_OK) {
                     if (l < fstep[tid] || (l == fstep[tid] && c < fchunk[tid])) {
                         fstep[tid] = l;
                         fchunk[tid] = c;
@@ -905,7 +944,7 @@ static sl_status forecast_region(const sl_pf_config *cfg, pf_buffers *b, double 
 #pragma omp atomic read
                     fin = finished;
                     if (through) {
-                        double f = ((double)fin + (double)(l + 1) / (double)nsteps) / (double)nch;
+                        double f = ((double)fin + (double)l1 / (double)nsteps) / (double)nch;
                         shown = f > shown ? (f < 1.0 ? f : 1.0) : shown;
                         done += shown;
                     }
@@ -934,9 +973,7 @@ static sl_status forecast_region(const sl_pf_config *cfg, pf_buffers *b, double 
         return b->terr[best].status != SL_OK ? b->terr[best].status : SL_EMODEL;
     }
     if (stop)
-        return sl_fail(err, SL_EINTERRUPT, "interrupted",
-                       "the run was interrupted at cycle %lu of %lu", (unsigned long)(at + 1),
-                       (unsigned long)cfg->T);
+        return interrupted(cfg, at, err);
     return SL_OK;
 }
 
@@ -961,7 +998,7 @@ sl_status sl_pfi_forecast(const sl_pf_config *cfg, pf_buffers *b, double *X,
     double h;
     const size_t nsteps = sl_pfi_nsteps(md, *t, tk, &h), N = cfg->N;
     int nthr = md->thread_safe ? b->nt : 1;
-    size_t l;
+    size_t l, per;
     sl_status st;
     if (nthr > 1 && (size_t)nthr > N)
         nthr = (int)N;
@@ -977,6 +1014,29 @@ sl_status sl_pfi_forecast(const sl_pf_config *cfg, pf_buffers *b, double *X,
         *t = tk;
         return SL_OK;
     }
+    if ((per = span_steps(cfg, N, ids)) > 0) {
+        /* several steps in one call (no forcing); the counter of step l
+         * is s0 + l */
+        const uint32_t s0 = *s;
+        size_t l1;
+        for (l = 0; l < nsteps; l = l1) {
+            size_t fl = nsteps;
+            double done;
+            l1 = nsteps - l < per ? nsteps : l + per;
+            done = through ? (double)at + (double)l1 / (double)nsteps : (double)at;
+            st = md->span(md, *t, h, tk, nsteps, l, l1, b->m0, N, X, P, seed, s0, b->mwork,
+                          &fl, err);
+            if (st != SL_OK) {
+                *s = s0 + (uint32_t)(fl < l1 ? fl + 1 : l1);
+                return st;
+            }
+            *s = s0 + (uint32_t)l1;
+            if (cfg->poll != NULL && cfg->poll(cfg->poll_ctx, done / (double)cfg->T))
+                return interrupted(cfg, at, err);
+        }
+        *t = tk;
+        return SL_OK;
+    }
     for (l = 0; l < nsteps; l++) {
         /* the end of step l is exactly the start of step l + 1 */
         double ts = *t + (double)l * h;
@@ -989,9 +1049,7 @@ sl_status sl_pfi_forecast(const sl_pf_config *cfg, pf_buffers *b, double *X,
         if (st != SL_OK)
             return st;
         if (cfg->poll != NULL && cfg->poll(cfg->poll_ctx, done / (double)cfg->T))
-            return sl_fail(err, SL_EINTERRUPT, "interrupted",
-                           "the run was interrupted at cycle %lu of %lu",
-                           (unsigned long)(at + 1), (unsigned long)cfg->T);
+            return interrupted(cfg, at, err);
     }
     *t = tk;
     return SL_OK;

@@ -100,6 +100,11 @@ int main(void)
     check_names(d->param_names, np, "param_names");
     check_names(d->forcing_names, nq, "forcing_names");
     check_names(d->event_names, ne, "event_names");
+    if (d->rhs_block != NULL && d->rhs == NULL) {
+        printf("problem: a block right-hand side (rhs_block) is given without the right-hand "
+               "side (rhs) it must agree with (the adaptive integrator uses rhs)\n");
+        problems++;
+    }
     if (d->rhs == NULL && d->map == NULL && d->map_block == NULL) {
         printf("problem: neither a right-hand side (rhs) nor a step map (map) is given\n");
         problems++;
@@ -177,6 +182,57 @@ int main(void)
         d->map_block(d, n, count, 0.0, d->dt, X, P, U, W);
         guarded(X, n * count, "the block step map (map_block)", "X");
         guarded(W, w, "the block step map (map_block)", "its work space (block_work)");
+    }
+    if (d->rhs_block != NULL && d->rhs != NULL) {
+        /* three members with states of their own, against rhs member by
+         * member: the same bits (any NaN equal to any NaN) */
+        const size_t count = 3;
+        double *X = buffer(n * count, NULL), *P = buffer(np * count, NULL);
+        double *U = buffer(nq * count, NULL), *D = buffer(n * count, NULL);
+        double *xm = buffer(n, NULL), *pm = buffer(np, NULL), *um = buffer(nq, NULL);
+        double *dm = buffer(n, NULL);
+        size_t j, i, bad = 0;
+        for (j = 0; j < count; j++) {
+            for (i = 0; i < n; i++)
+                X[i * count + j] = x[i] * (1.0 + 0.125 * (double)j) + 0.0625 * (double)j;
+            for (i = 0; i < np; i++)
+                P[i * count + j] = p[i];
+            for (i = 0; i < nq; i++)
+                U[i * count + j] = 0.5 * (double)j;
+        }
+        stage("the block right-hand side (rhs_block)");
+        d->rhs_block(d, n, count, 0.0, X, P, U, D);
+        guarded(D, n * count, "the block right-hand side (rhs_block)", "dX");
+        for (j = 0; j < count && !bad; j++) {
+            for (i = 0; i < n; i++)
+                xm[i] = X[i * count + j];
+            for (i = 0; i < np; i++)
+                pm[i] = P[i * count + j];
+            for (i = 0; i < nq; i++)
+                um[i] = U[i * count + j];
+            stage("the right-hand side (rhs)");
+            d->rhs(d, n, 0.0, xm, pm, um, dm);
+            for (i = 0; i < n && !bad; i++) {
+                double a = D[i * count + j], b = dm[i];
+                if (!(isnan(a) && isnan(b)) && memcmp(&a, &b, sizeof a) != 0) {
+                    printf("problem: the block right-hand side (rhs_block) gives %.17g for "
+                           "state %lu of member %lu where the right-hand side (rhs) gives "
+                           "%.17g: they must agree to the last bit (rhs_block reads state i "
+                           "of member j at X[i * count + j])\n",
+                           a, (unsigned long)(i + 1), (unsigned long)(j + 1), b);
+                    problems++;
+                    bad = 1;
+                }
+            }
+        }
+        free(X);
+        free(P);
+        free(U);
+        free(D);
+        free(xm);
+        free(pm);
+        free(um);
+        free(dm);
     }
     if (d->jump != NULL && ne > 0) {
         stage("the event map (jump)");

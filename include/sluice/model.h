@@ -29,6 +29,19 @@ typedef sl_status (*sl_step_fn)(const sl_model *model, double t, double t_end,
                                 uint64_t seed, uint32_t step, double *work,
                                 sl_error *err);
 
+/* Optional, for a model without forcing: the same bits as the step calls
+ * of steps l0 .. l1-1 of an interval of nsteps steps from t0 to t_end
+ * (step l from t0 + l h to t0 + (l + 1) h, the last, l = nsteps - 1, to
+ * t_end, under counter s0 + l), for members first .. first+count-1. A
+ * model that keeps a block in its own layout through several steps does
+ * its conversions once. On a failure, *failed is the step l that failed. */
+typedef sl_status (*sl_span_fn)(const sl_model *model, double t0, double h,
+                                double t_end, size_t nsteps, size_t l0,
+                                size_t l1, size_t first, size_t count,
+                                double *X, const double *P, uint64_t seed,
+                                uint32_t s0, double *work, size_t *failed,
+                                sl_error *err);
+
 struct sl_model {
     const char *name;
     size_t n_state, n_param, n_forcing;
@@ -41,6 +54,7 @@ struct sl_model {
                        * index; 0: the index is not used */
     size_t work;      /* doubles of per-thread scratch the step needs */
     sl_step_fn step;
+    sl_span_fn span;  /* optional (n_forcing = 0 only), or NULL */
     void *ctx;        /* the model's own data (matrices, a callback, ...) */
 };
 

@@ -2,8 +2,9 @@
  * definition: RK4 and Dormand-Prince against GSL's gsl_odeiv2 (rk8pd) on
  * Lorenz-63 and Lorenz-96, convergence orders by step halving, events and
  * their per-member values, the Lorenz-96 climatology, members that blow up,
- * every reason of sl_def_model_init, and bit-identical results whatever
- * the grouping of members into blocks. */
+ * every reason of sl_def_model_init, bit-identical results whatever
+ * the grouping of members into blocks, and the block right-hand sides and
+ * spans against member-by-member stepping. */
 #include "check.h"
 #include "sluice/integrate.h"
 #include "sluice/model.h"
@@ -1284,6 +1285,29 @@ static void test_rhs_block(void)
                 CHECK(strcmp(def->name, "flood") != 0 || i == NB - 3,
                       "%s %s: the 3 edge members end non-finite, the others finite (%lu "
                       "finite)", def->name, methods[m]->name, (unsigned long)i);
+                /* the same steps as spans of 7, 16 and 37 steps, members
+                 * 20.. of the run (their event draws keyed by index) */
+                CHECK(ea.model.span != NULL && eb.model.span == NULL,
+                      "%s %s: a span with the block right-hand side only", def->name,
+                      methods[m]->name);
+                if (ea.model.span != NULL) {
+                    const size_t cut[4] = {0, 7, 23, STEPS};
+                    size_t c, failed = 0;
+                    sl_error err;
+                    memcpy(Xc, Xa, n * NB * sizeof(double));
+                    for (c = 0; c < 3; c++)
+                        CHECK(ea.model.span(&ea.model, 0.0, 0.05, 0.0 + (double)STEPS * 0.05,
+                                            STEPS, cut[c], cut[c + 1], 20, NB - 20,
+                                            Xc + 20 * n, Pb + 20 * p, 7u, 0u, ea.work, &failed,
+                                            &err) == SL_OK,
+                              "%s %s: span %lu", def->name, methods[m]->name,
+                              (unsigned long)c);
+                    CHECK(same_bits(n * (NB - 20), Xc + 20 * n, Xb + 20 * n, &at) &&
+                              same_bits(n * 20, Xc, Xa, &at),
+                          "%s %s: three spans give the bits of %d steps (state %lu of member "
+                          "%lu)", def->name, methods[m]->name, STEPS,
+                          (unsigned long)(at % n + 1), (unsigned long)(at / n + 1));
+                }
                 ck_free(Xc);
             }
             engine_free(&ea);

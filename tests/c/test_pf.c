@@ -1758,6 +1758,203 @@ static void check_resample_move(void)
     ck_free(X);
 }
 
+/* ------------------------------------------------------------ spans */
+
+/* The flood model's span, counted (the check below must see it used) */
+static sl_span_fn span_inner;
+static size_t span_calls;
+static sl_status counting_span(const sl_model *model, double t0, double h, double t_end,
+                               size_t nsteps, size_t l0, size_t l1, size_t first,
+                               size_t count, double *X, const double *P, uint64_t seed,
+                               uint32_t s0, double *work, size_t *failed, sl_error *err)
+{
+#pragma omp atomic update
+    span_calls++;
+    return span_inner(model, t0, h, t_end, nsteps, l0, l1, first, count, X, P, seed, s0, work,
+                      failed, err);
+}
+
+static int stop_at_once(void *ctx, double fraction)
+{
+    (void)fraction;
+    ++*(size_t *)ctx;
+    return 1;
+}
+
+/* A model with a span (the flood model under RK4, which keeps its blocks
+ * in its own layout through the steps of an interval) gives the run of the
+ * same model stepped one step a call, bit for bit, on 1 and 2 threads,
+ * with 20000 members (the sequential path then splits each interval of 20
+ * steps into spans of 8, 8 and 4), a parameter estimated with the kernel
+ * move, and flood events whose levels are perturbed per member (common
+ * practice: a fast path checked against its plain version). A poll that
+ * stops the run is honoured between spans. */
+static void check_span(void)
+{
+    enum { N = 20000, T = 3, NS = 6, NP = 10 };
+    const sl_model_def *d = sl_model_def_find("flood");
+    const double times[T] = {1.0, 2.0, 3.0}, ev_t[4] = {0.35, 1.0, 1.5, 2.7},
+                 ev_v[4] = {2.0, 0.5, 3.0, 1.2}, ev_sd[1] = {0.3};
+    const int ev_noise[1] = {SL_FORCING_MULTIPLICATIVE};
+    const double y[T] = {0.011, 0.0125, 0.013};
+    const size_t first[T + 1] = {0, 1, 2, 3}, var[T] = {0, 0, 0};
+    const double sg[T] = {0.1, 0.1, 0.1}, aux[T] = {0, 0, 0};
+    const int fam[T] = {SL_FAMILY_LOGNORMAL, SL_FAMILY_LOGNORMAL, SL_FAMILY_LOGNORMAL};
+    sl_prior_entry prior[NP];
+    sl_transform tr[NP];
+    sl_events ev;
+    sl_model md, plain, counted;
+    sl_def_model dm;
+    sl_pf_config cfg;
+    sl_error err;
+    double *X0 = ck_malloc(NS * N * sizeof(double)), *P0 = ck_malloc(NP * N * sizeof(double));
+    double *X[4], *P[4], *w[4], mean[4][(NS + NP) * T], ess[4][T], logz[4][T];
+    double res[T], deg[T], skip[T], nonf[T];
+    const sl_model *models[4];
+    size_t i, j, r, polls = 0;
+    sl_status st;
+    CHECK(d != NULL, "flood model");
+    if (d == NULL || X0 == NULL || P0 == NULL)
+        return;
+    ev.count = 4;
+    ev.nv = 1;
+    ev.time = ev_t;
+    ev.value = ev_v;
+    ev.noise = ev_noise;
+    ev.sd = ev_sd;
+    ev.seed = 5;
+    CHECK(sl_def_model_init(&md, &dm, d, 0, sl_integrator_find("rk4"), 0.05, NULL, &ev,
+                            &err) == SL_OK,
+          "flood model under rk4: %s", err.message);
+    CHECK(md.span != NULL && md.member_draws, "the flood model under rk4 has a span");
+    if (md.span == NULL)
+        return;
+    plain = md;
+    plain.span = NULL;
+    counted = md;
+    span_inner = md.span;
+    counted.span = counting_span;
+    for (i = 0; i < NP; i++) {
+        prior[i].dist = SL_DIST_FIXED;
+        prior[i].a = d->p_default[i];
+        tr[i] = sl_transform_for_bounds(d->p_lower[i], d->p_upper[i]);
+    }
+    prior[9].dist = SL_DIST_LOGNORMAL; /* muS */
+    prior[9].a = log(0.215);
+    prior[9].b = 0.5;
+    for (j = 0; j < N; j++) {
+        sl_stream s;
+        sl_stream_init(&s, 8, (uint32_t)j, 0, SL_PURPOSE_PRIOR);
+        for (i = 0; i < NS; i++)
+            X0[i + j * NS] = d->x0[i];
+        X0[0 + j * NS] = 0.01 * exp(0.2 * sl_stream_normal(&s));
+        for (i = 0; i < NP; i++)
+            P0[i + j * NP] = d->p_default[i];
+        P0[9 + j * NP] = exp(log(0.215) + 0.5 * sl_stream_normal(&s));
+    }
+    memset(&cfg, 0, sizeof cfg);
+    cfg.N = N;
+    cfg.T = T;
+    cfg.times = times;
+    cfg.obs_first = first;
+    cfg.y = y;
+    cfg.sigma = sg;
+    cfg.aux = aux;
+    cfg.family = fam;
+    cfg.var = var;
+    cfg.ptrans = tr;
+    cfg.prior = prior;
+    cfg.param_move = &sl_param_move_kernel;
+    cfg.move.kernel_scale = 1.0;
+    cfg.move.min_ess = SL_KERNEL_MIN_ESS;
+    cfg.resampler = &sl_resampler_systematic;
+    cfg.threshold = 0.5;
+    cfg.seed = 21;
+    /* 0: span, 1 thread; 1: stepped, 1 thread; 2: span, 2 threads;
+     * 3: stepped, 2 threads */
+    models[0] = &counted;
+    models[1] = &plain;
+    models[2] = &counted;
+    models[3] = &plain;
+    for (r = 0; r < 4; r++) {
+        sl_pf_output out;
+        void *work;
+        size_t calls0 = span_calls;
+        X[r] = ck_malloc(NS * N * sizeof(double));
+        P[r] = ck_malloc(NP * N * sizeof(double));
+        w[r] = ck_malloc(N * sizeof(double));
+        memcpy(X[r], X0, NS * N * sizeof(double));
+        memcpy(P[r], P0, NP * N * sizeof(double));
+        memset(&out, 0, sizeof out);
+        out.mean = mean[r];
+        out.ess = ess[r];
+        out.logz = logz[r];
+        out.resampled = res;
+        out.degenerate = deg;
+        out.skipped = skip;
+        out.nonfinite = nonf;
+        cfg.model = models[r];
+        cfg.threads = r < 2 ? 1 : 2;
+        work = ck_malloc(sl_pf_workspace(&cfg));
+        st = sl_pf_run(&cfg, X[r], P[r], w[r], work, &out, &err);
+        CHECK(st == SL_OK, "flood run %lu: %s", (unsigned long)r, err.message);
+        ck_free(work);
+        if (r == 0)
+            CHECK(span_calls - calls0 == T * 3,
+                  "1 thread: each interval of 20 steps in 3 spans (%lu calls)",
+                  (unsigned long)(span_calls - calls0));
+        if (r == 1 || r == 3)
+            CHECK(span_calls == calls0, "the stepped model takes no span");
+        if (r == 2)
+            CHECK(span_calls > calls0, "2 threads: spans taken (%lu calls)",
+                  (unsigned long)(span_calls - calls0));
+    }
+    for (r = 1; r < 4; r++)
+        CHECK(same(X[r], X[0], NS * N * sizeof(double)) &&
+                  same(P[r], P[0], NP * N * sizeof(double)) &&
+                  same(w[r], w[0], N * sizeof(double)) &&
+                  same(mean[r], mean[0], sizeof mean[0]) && same(ess[r], ess[0], sizeof ess[0]) &&
+                  same(logz[r], logz[0], sizeof logz[0]),
+              "flood run %lu (%s, %d thread(s)) gives the bits of the 1-thread span run",
+              (unsigned long)r, r % 2 ? "stepped" : "span", r < 2 ? 1 : 2);
+    CHECK(ess[0][0] > 10 && ess[0][0] < N, "the observations weigh the members (ESS %g)",
+          ess[0][0]);
+
+    /* a poll that stops: honoured after the first span */
+    {
+        sl_pf_output out;
+        void *work;
+        size_t calls0 = span_calls;
+        memcpy(X[0], X0, NS * N * sizeof(double));
+        memcpy(P[0], P0, NP * N * sizeof(double));
+        memset(&out, 0, sizeof out);
+        out.mean = mean[0];
+        out.ess = ess[0];
+        out.logz = logz[0];
+        out.resampled = res;
+        out.degenerate = deg;
+        out.skipped = skip;
+        out.nonfinite = nonf;
+        cfg.model = &counted;
+        cfg.threads = 1;
+        cfg.poll = stop_at_once;
+        cfg.poll_ctx = &polls;
+        work = ck_malloc(sl_pf_workspace(&cfg));
+        st = sl_pf_run(&cfg, X[0], P[0], w[0], work, &out, &err);
+        ck_free(work);
+        CHECK(st == SL_EINTERRUPT && polls == 1 && span_calls - calls0 == 1,
+              "a stopping poll ends the run after one span (status %d, %lu polls, %lu spans)",
+              (int)st, (unsigned long)polls, (unsigned long)(span_calls - calls0));
+    }
+    for (r = 0; r < 4; r++) {
+        ck_free(X[r]);
+        ck_free(P[r]);
+        ck_free(w[r]);
+    }
+    ck_free(X0);
+    ck_free(P0);
+}
+
 /* ------------------------------------------------------------ coupling */
 
 /* One cycle of a run of cfg from X0 (n x N, no parameters) into X, with
@@ -2062,6 +2259,7 @@ int main(void)
 {
     check_nonfinite();
     check_resample_move();
+    check_span();
     check_smc2_wenkf();
     check_worked_example();
     if (check_light_())
