@@ -7,6 +7,7 @@
 
 #include "sluice/pf.h"
 #include "sluice/rng.h"
+#include "clones.h"
 
 const sl_integrator sl_integrator_euler = {"euler", 0, 1, 1};
 const sl_integrator sl_integrator_rk4 = {"rk4", 0, 4, 5};
@@ -135,6 +136,7 @@ blown:
     return SL_OK;
 }
 
+SL_CLONES
 sl_status sl_integrate_block(const sl_integrator *method, sl_block_rhs_fn f,
                              void *ctx, size_t n, size_t first, size_t count,
                              double t, double h, double *X, const double *P,

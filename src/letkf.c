@@ -10,17 +10,12 @@
 #endif
 
 #include "enkf_internal.h"
+#include "clones.h"
 #include "workspace.h"
 
-/* On x86-64 the eigensolver and the analyses are also compiled for AVX2,
- * the variant chosen when the library loads. The loops marked simd are
- * element by element (no reductions), and ISO C mode contracts nothing
- * into fused multiply-adds, so both variants give the same bits. */
-#if defined(__GNUC__) && !defined(__clang__) && defined(__x86_64__) && defined(__linux__)
-#define LETKF_CLONES __attribute__((target_clones("avx2", "default")))
-#else
-#define LETKF_CLONES
-#endif
+/* The eigensolver and the analyses are also compiled for AVX2
+ * (clones.h); the loops marked simd are element by element (no
+ * reductions), so both variants give the same bits. */
 
 #define MAX_THREADS 256
 #define DEFAULT_FLOOR 1e-12
@@ -252,7 +247,7 @@ static inline double dot4(size_t n, const double *restrict x, const double *rest
  * tridiagonal matrix with diagonal lam and off-diagonal e (e[n - 1] = 0),
  * Q the product of the reflections; beta: n doubles of scratch. Returns
  * the scale that the eigenvalues are to be multiplied by. */
-LETKF_CLONES
+SL_CLONES
 static double tridiag(size_t n, double *restrict A, double *restrict Q,
                       double *restrict lam, double *restrict e, double *restrict beta)
 {
@@ -447,7 +442,7 @@ static inline int ql_step(ql_state *restrict q)
 
 /* The QL iterations of one problem, or of two (b not NULL) interleaved
  * step by step; each does exactly what it would alone. */
-LETKF_CLONES
+SL_CLONES
 static void ql_run(ql_state *a, ql_state *b)
 {
     /* on local copies, which the compiler can keep in registers */
@@ -583,7 +578,7 @@ static void fail(slice *s, size_t g, int info)
  * after the QL iterations, analyses the rows of group g and returns 0, or
  * 1 when the ensemble-space form must do it instead (the floor could act,
  * the eigensolver failed or something is not finite). */
-LETKF_CLONES
+SL_CLONES
 static void obs_prepare(const run_ctx *cx, slice *s)
 {
     const size_t N = cx->N, p = s->nloc;
@@ -611,7 +606,7 @@ static void obs_prepare(const run_ctx *cx, slice *s)
 }
 
 /* The rest of obs_prepare once the QL iterations are over. */
-LETKF_CLONES
+SL_CLONES
 static int obs_finish(const run_ctx *cx, slice *s, size_t g)
 {
     const size_t n = cx->n, N = cx->N, p = s->nloc;
@@ -784,7 +779,7 @@ static void gather(const run_ctx *cx, slice *s, size_t g)
  * first if they are still held back) and reduces it to tridiagonal form;
  * ens_finish, after the QL iterations, builds the transform once and
  * applies it to each row of group g. */
-LETKF_CLONES
+SL_CLONES
 static void ens_prepare(const run_ctx *cx, slice *s)
 {
     const size_t N = cx->N;
@@ -808,7 +803,7 @@ static void ens_prepare(const run_ctx *cx, slice *s)
     ql_start(&s->ql, N, s->lam, s->e, s->Q);
 }
 
-LETKF_CLONES
+SL_CLONES
 static void ens_finish(const run_ctx *cx, slice *s, size_t g)
 {
     const size_t n = cx->n, N = cx->N;

@@ -5,6 +5,7 @@
 #include <string.h>
 #include <Random123/philox.h>
 
+#include "clones.h"
 #include "ziggurat_tables.h"
 
 void sl_stream_init(sl_stream *s, uint64_t seed, uint32_t member,
@@ -123,7 +124,7 @@ void sl_stream_normals(sl_stream *s, size_t n, double *out)
 /* Philox4x32-10 on LANES counters at once, laid out lane by lane so the
  * rounds vectorise; the same rounds as Random123's philox4x32 (checked
  * against it in the unit tests). */
-__attribute__((target_clones("avx2", "default")))
+SL_CLONES
 static void philox_lanes(uint32_t k0, uint32_t k1, uint32_t *c0, uint32_t *c1,
                          uint32_t *c2, uint32_t *c3)
 {

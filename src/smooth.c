@@ -6,6 +6,7 @@
 #include <string.h>
 #include "sluice/rng.h"
 #include "sluice/stats.h"
+#include "clones.h"
 #include "workspace.h"
 #ifdef _OPENMP
 #include <omp.h>
@@ -482,19 +483,11 @@ static inline double exp_nonpos(double a)
     return a < -708.0 ? 0.0 : p * scale;
 }
 
-/* On x86-64 the loop below is also compiled for AVX2 and the variant is
- * chosen when the library loads. Both variants do the same IEEE
- * operations on every element (no contraction into fused multiply-adds:
- * ISO C mode), so the results are identical. */
-#if defined(__GNUC__) && !defined(__clang__) && defined(__x86_64__) && defined(__linux__)
-#define SMOOTH_CLONES __attribute__((target_clones("avx2", "default")))
-#else
-#define SMOOTH_CLONES
-#endif
+/* The loop below is also compiled for AVX2 (clones.h). */
 
 /* e[i] = w_i exp(-d_i^2 / 2) / w_max for the N particles of a cycle, with
  * d_i^2 = |z - G(i, :)|^2, logw[i] = log w_i and top = log w_max. */
-SMOOTH_CLONES
+SL_CLONES
 static void backward_weights(size_t N, size_t n, const double *restrict G,
                              const double *restrict z, const double *restrict logw,
                              double top, double *restrict e)

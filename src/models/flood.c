@@ -19,6 +19,7 @@
 #include <stddef.h>
 
 #include "models.h"
+#include "../clones.h"
 
 enum { G_, D_, H_, M_, F_, R_ };
 enum { XIH, ALPHAH, RHOE, GAMMAE, LAMBDAP, SIGMAP, EPST, KAPPAT, ALPHAS, MUS };
@@ -53,7 +54,9 @@ static void flood_rhs(const sl_model_def *def, size_t n, double t,
  * domain gets NaN derivatives through a factor of 1 or NaN (products by 1
  * are exact), not a branch, so the loops vectorise over members (restrict
  * on the arguments, and F and R in a loop of their own: without either,
- * gcc 12 leaves the first loop scalar). */
+ * gcc 12 leaves the first loop scalar), with AVX2 where the processor has
+ * it (clones.h). */
+SL_CLONES
 static void flood_rhs_block(const sl_model_def *def, size_t n, size_t count,
                             double t, const double *restrict x,
                             const double *restrict p, const double *U,
