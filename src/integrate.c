@@ -306,13 +306,8 @@ static sl_status advance_piece(const sl_def_model *dm, double t, double h,
                               first, count, t, h, X, P, U, &dm->tol, work, NULL, err);
 }
 
-/* A definition with rhs_block under a fixed-step method: the block stays in
- * structure-of-arrays layout through steps l0 .. l1-1 of an interval of
- * nsteps steps (step l from t0 + l h to t0 + (l + 1) h, the last to
- * t_end), so it is transposed once, not once a step. The events of
- * (ts, te] of a step split it and are applied in time order, each member's
- * jump on a copy of its states, as def_step applies them. work holds
- * span_work doubles. */
+/* The scratch of span_block: the block's states, parameters and forcings
+ * in its layout, one member's states and event values, the stages */
 static size_t span_work(const sl_model_def *def, const sl_integrator *method, size_t n)
 {
     return (method->stages * n + n + def->n_param + def->n_forcing) * SL_MODEL_BLOCK + n +
@@ -329,6 +324,13 @@ static sl_status soa_piece(const sl_def_model *dm, soa_ctx *c, double t, double 
                               c->P, c->U, &dm->tol, wk, NULL, err);
 }
 
+/* A definition with rhs_block under a fixed-step method: the block stays in
+ * structure-of-arrays layout through steps l0 .. l1-1 of an interval of
+ * nsteps steps (step l from t0 + l h to t0 + (l + 1) h, the last to
+ * t_end), so it is transposed once, not once a step. The events of
+ * (ts, te] of a step split it and are applied in time order, each member's
+ * jump on a copy of its states, as def_step applies them. work holds
+ * span_work doubles. */
 static sl_status span_block(const sl_def_model *dm, double t0, double h, double t_end,
                             size_t nsteps, size_t l0, size_t l1, size_t first, size_t count,
                             double *X, const double *P, const double *U, double *work,

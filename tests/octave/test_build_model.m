@@ -229,6 +229,7 @@
 %!   assert (err.identifier, 'sluice:build_model:baddef');
 %!   assert (~isempty (strfind (err.message, 'param_names')));
 %!   assert (~isempty (strfind (err.message, 'neither a right-hand side')));
+%!   assert (~isempty (strfind (err.message, 'block right-hand side (rhs_block) is given without')));
 %!   assert (~isempty (strfind (err.message, 'leapfrog')));
 %! end
 
