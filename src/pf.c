@@ -828,11 +828,15 @@ static sl_status interrupted(const sl_pf_config *cfg, size_t at, sl_error *err)
                    (unsigned long)cfg->T);
 }
 
-/* Steps per call of the model's span for blocks of `count` members: about
+/* Steps per call of the model's span for `count` members: about
  * SPAN_WORK member-states of work a call, so a run polls every few
  * milliseconds; 0 when the model has no span or must step member by
- * member (forcing, or re-run paths whose draws follow member indices) */
+ * member (forcing, or re-run paths whose draws follow member indices).
+ * The sequential forecast gives a call at most SPAN_CHUNK members, so
+ * that even at N = 1e5 a call takes its members through many steps (at
+ * one step a call the blocks are transposed every step). */
 #define SPAN_WORK ((size_t)1 << 20)
+#define SPAN_CHUNK ((size_t)4096)
 static size_t span_steps(const sl_pf_config *cfg, size_t count, const uint32_t *ids)
 {
     const sl_model *md = cfg->model;
@@ -1014,26 +1018,34 @@ sl_status sl_pfi_forecast(const sl_pf_config *cfg, pf_buffers *b, double *X,
         *t = tk;
         return SL_OK;
     }
-    if ((per = span_steps(cfg, N, ids)) > 0) {
-        /* several steps in one call (no forcing); the counter of step l
-         * is s0 + l */
+    if (span_steps(cfg, N, ids) > 0) {
+        /* several steps in one call (no forcing), members in chunks of
+         * SPAN_CHUNK so that a call takes each block through many steps
+         * at any N; the counter of step l is s0 + l */
         const uint32_t s0 = *s;
-        size_t l1;
-        for (l = 0; l < nsteps; l = l1) {
-            size_t fl = nsteps;
-            double done;
-            l1 = nsteps - l < per ? nsteps : l + per;
-            done = through ? (double)at + (double)l1 / (double)nsteps : (double)at;
-            st = md->span(md, *t, h, tk, nsteps, l, l1, b->m0, N, X, P, seed, s0, b->mwork,
-                          &fl, err);
-            if (st != SL_OK) {
-                *s = s0 + (uint32_t)(fl < l1 ? fl + 1 : l1);
-                return st;
+        const size_t cs = N < SPAN_CHUNK ? N : SPAN_CHUNK, nch = (N + cs - 1) / cs;
+        const size_t n = md->n_state, p = md->n_param;
+        size_t c, l1;
+        per = span_steps(cfg, cs, ids);
+        for (c = 0; c < nch; c++) {
+            const size_t j0 = c * cs, j1 = N - j0 > cs ? j0 + cs : N;
+            for (l = 0; l < nsteps; l = l1) {
+                size_t fl = nsteps;
+                double done = (double)at;
+                l1 = nsteps - l < per ? nsteps : l + per;
+                if (through)
+                    done += ((double)c + (double)l1 / (double)nsteps) / (double)nch;
+                st = md->span(md, *t, h, tk, nsteps, l, l1, b->m0 + j0, j1 - j0, X + j0 * n,
+                              P + j0 * p, seed, s0, b->mwork, &fl, err);
+                if (st != SL_OK) {
+                    *s = s0 + (uint32_t)(fl < l1 ? fl + 1 : l1);
+                    return st;
+                }
+                if (cfg->poll != NULL && cfg->poll(cfg->poll_ctx, done / (double)cfg->T))
+                    return interrupted(cfg, at, err);
             }
-            *s = s0 + (uint32_t)l1;
-            if (cfg->poll != NULL && cfg->poll(cfg->poll_ctx, done / (double)cfg->T))
-                return interrupted(cfg, at, err);
         }
+        *s = s0 + (uint32_t)nsteps;
         *t = tk;
         return SL_OK;
     }

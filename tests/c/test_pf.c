@@ -1784,8 +1784,9 @@ static int stop_at_once(void *ctx, double fraction)
 /* A model with a span (the flood model under RK4, which keeps its blocks
  * in its own layout through the steps of an interval) gives the run of the
  * same model stepped one step a call, bit for bit, on 1 and 2 threads,
- * with 20000 members (the sequential path then splits each interval of 20
- * steps into spans of 8, 8 and 4), a parameter estimated with the kernel
+ * with 20000 members (the sequential path takes them in 5 chunks of at
+ * most 4096 and each interval of 50 steps in spans of 42 and 8), a
+ * parameter estimated with the kernel
  * move, and flood events whose levels are perturbed per member (common
  * practice: a fast path checked against its plain version). A poll that
  * stops the run is honoured between spans. */
@@ -1823,7 +1824,7 @@ static void check_span(void)
     ev.noise = ev_noise;
     ev.sd = ev_sd;
     ev.seed = 5;
-    CHECK(sl_def_model_init(&md, &dm, d, 0, sl_integrator_find("rk4"), 0.05, NULL, &ev,
+    CHECK(sl_def_model_init(&md, &dm, d, 0, sl_integrator_find("rk4"), 0.02, NULL, &ev,
                             &err) == SL_OK,
           "flood model under rk4: %s", err.message);
     CHECK(md.span != NULL && md.member_draws, "the flood model under rk4 has a span");
@@ -1902,8 +1903,8 @@ static void check_span(void)
         CHECK(st == SL_OK, "flood run %lu: %s", (unsigned long)r, err.message);
         ck_free(work);
         if (r == 0)
-            CHECK(span_calls - calls0 == T * 3,
-                  "1 thread: each interval of 20 steps in 3 spans (%lu calls)",
+            CHECK(span_calls - calls0 == T * 5 * 2,
+                  "1 thread: each interval in 2 spans for each of 5 chunks (%lu calls)",
                   (unsigned long)(span_calls - calls0));
         if (r == 1 || r == 3)
             CHECK(span_calls == calls0, "the stepped model takes no span");
