@@ -351,6 +351,88 @@ static void check_gr4j(void)
     ck_free(P0);
 }
 
+/* The flood model under RK4 (a span model: each rank takes its blocks
+ * through an interval's steps in one call), flood levels perturbed per
+ * member (the draws keyed by the global member index), muS drawn and moved
+ * by the kernel, settlement size observed yearly (lognormal): the same
+ * bits on 1 to 7 ranks as in one process. */
+static void check_flood_spans(void)
+{
+    enum { N = 203, T = 12, NS = 6, NP = 10 };
+    const sl_model_def *d = sl_model_def_find("flood");
+    static double times[T], y[T], sg[T], aux[T], ev_t[T], ev_v[T];
+    static size_t first[T + 1], var[T];
+    static int fam[T];
+    const int ev_noise[1] = {SL_FORCING_MULTIPLICATIVE};
+    const double ev_sd[1] = {0.3};
+    sl_transform tr[NP];
+    sl_events ev;
+    sl_model md;
+    sl_def_model dm;
+    sl_pf_config cfg;
+    sl_error err;
+    double *X0 = ck_malloc(NS * N * 8), *P0 = ck_malloc(NP * N * 8);
+    run_buf ref;
+    size_t j, k, i;
+    CHECK(d != NULL, "flood");
+    if (d == NULL)
+        return;
+    for (k = 0; k < T; k++) {
+        times[k] = (double)(k + 1);
+        ev_t[k] = (double)k + 0.5;
+        ev_v[k] = k % 3 == 1 ? 2.5 : 0.6;
+        first[k] = k;
+        var[k] = 0; /* G */
+        y[k] = 0.01 * exp(0.05 * (double)k);
+        sg[k] = 0.1;
+        aux[k] = 0.0;
+        fam[k] = SL_FAMILY_LOGNORMAL;
+    }
+    first[T] = T;
+    ev.count = T;
+    ev.nv = 1;
+    ev.time = ev_t;
+    ev.value = ev_v;
+    ev.noise = ev_noise;
+    ev.sd = ev_sd;
+    ev.seed = 17;
+    CHECK(sl_def_model_init(&md, &dm, d, 0, sl_integrator_find("rk4"), 0.05, NULL, &ev,
+                            &err) == SL_OK,
+          "flood model: %s", err.message);
+    CHECK(md.span != NULL && md.member_draws, "the flood model has a span and draws by member");
+    for (i = 0; i < NP; i++)
+        tr[i] = sl_transform_for_bounds(d->p_lower[i], d->p_upper[i]);
+    for (j = 0; j < N; j++) {
+        sl_stream s;
+        sl_stream_init(&s, 12, (uint32_t)j, 0, SL_PURPOSE_PRIOR);
+        for (i = 0; i < NP; i++)
+            P0[i + j * NP] = d->p_default[i];
+        P0[9 + j * NP] = exp(log(0.215) + 0.5 * sl_stream_normal(&s)); /* muS */
+        for (i = 0; i < NS; i++)
+            X0[i + j * NS] = d->x0[i];
+        X0[0 + j * NS] = 0.01 * exp(0.2 * sl_stream_normal(&s));
+    }
+    base_config(&cfg, &md, N, T, times, first, y, sg, aux, fam, var);
+    cfg.ptrans = tr;
+    cfg.param_move = &sl_param_move_kernel;
+    cfg.move.kernel_scale = 1.0;
+    cfg.move.min_ess = SL_KERNEL_MIN_ESS;
+    cfg.seed = 99;
+    run_alloc(&ref, &cfg, X0, P0, sl_pf_workspace(&cfg));
+    ref.st = sl_pf_run(&cfg, ref.X, ref.P, ref.w, ref.work, &ref.out, &ref.err);
+    CHECK(ref.st == SL_OK, "flood single process: %s", ref.err.message);
+    if (ref.st == SL_OK) {
+        size_t nres = 0;
+        for (k = 0; k < T; k++)
+            nres += ref.out.resampled[k] != 0;
+        CHECK(nres >= 1, "flood: resampled at %lu of %d cycles", (unsigned long)nres, T);
+        compare_ranks(&cfg, &ref, X0, P0, "flood spans", 1);
+    }
+    run_free(&ref);
+    ck_free(X0);
+    ck_free(P0);
+}
+
 /* A model of its own: the 2-state linear model plus model noise keyed by
  * the member index (member_draws), failing at step `fail_step` for
  * member `fail_member` when asked. */
@@ -694,6 +776,7 @@ static void check_wide_kalman(void)
 int main(void)
 {
     check_gr4j();
+    check_flood_spans();
     check_member_draws_and_failure();
     check_wide_kalman();
     check_refusals();
