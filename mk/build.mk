@@ -63,7 +63,7 @@ $(SL_BUILD)/obj/%.o: $(SL_SRC)/%.c | $(SL_ORDER)
 # the random streams, the integrators' stage sums and the models' block
 # paths are the hot loops of every filter: let the compiler vectorise them
 # over members (gcc's -O2 vectorises only loops that need no remainder)
-$(SL_BUILD)/obj/rng.o $(SL_BUILD)/obj/integrate.o: OPT := -O3
+$(SL_BUILD)/obj/rng.o $(SL_BUILD)/obj/integrate.o $(SL_BUILD)/obj/model_linear.o: OPT := -O3
 $(patsubst $(SL_SRC)/%.c,$(SL_BUILD)/obj/%.o,$(wildcard $(SL_SRC)/models/*.c)): OPT := -O3
 
 $(SL_LIB): $(SL_OBJ)

@@ -3,9 +3,51 @@
 
 #include <math.h>
 #include "sluice/rng.h"
+#include "clones.h"
 
 /* members whose noise is drawn in one batch */
 #define NOISE_BLOCK 64
+
+/* x <- A x + B u + c + L e for cnt members (columns of X, U, E), vectorised
+ * over members: the block's states are copied to structure-of-arrays
+ * layout (xs, n x cnt) and each row is accumulated for every member at
+ * once in acc. Each member's terms are added in the order of the
+ * per-member formula (c, then A x, B u and L e term by term), so the bits
+ * do not depend on the grouping. */
+SL_CLONES
+static void linear_block(const sl_linear *lin, size_t cnt, double *X, const double *U,
+                         const double *E, double *restrict xs, double *restrict acc)
+{
+    const size_t n = lin->n, q = lin->q;
+    size_t i, j, k;
+    for (j = 0; j < cnt; j++)
+        for (i = 0; i < n; i++)
+            xs[i * cnt + j] = X[j * n + i];
+    for (i = 0; i < n; i++) {
+        const double ci = lin->c != NULL ? lin->c[i] : 0.0;
+        for (j = 0; j < cnt; j++)
+            acc[j] = ci;
+        for (k = 0; k < n; k++) {
+            const double a = lin->A[i + k * n];
+            const double *restrict xk = xs + k * cnt;
+            for (j = 0; j < cnt; j++)
+                acc[j] += a * xk[j];
+        }
+        for (k = 0; k < q; k++) {
+            const double b = lin->B[i + k * n];
+            for (j = 0; j < cnt; j++)
+                acc[j] += b * U[j * q + k];
+        }
+        if (E != NULL)
+            for (k = 0; k <= i; k++) {
+                const double l = lin->L[i + k * n];
+                for (j = 0; j < cnt; j++)
+                    acc[j] += l * E[j * n + k];
+            }
+        for (j = 0; j < cnt; j++)
+            X[j * n + i] = acc[j];
+    }
+}
 
 static sl_status linear_step(const sl_model *model, double t, double t_end,
                              size_t first, size_t count, double *X,
@@ -14,8 +56,8 @@ static sl_status linear_step(const sl_model *model, double t, double t_end,
 {
     const sl_linear *lin = (const sl_linear *)model->ctx;
     const size_t n = lin->n, q = lin->q;
-    double *xo = work, *E = work + n;
-    size_t j0, j, i, k;
+    double *E = work, *xs = E + n * NOISE_BLOCK, *acc = xs + n * NOISE_BLOCK;
+    size_t j0;
     (void)t;
     (void)t_end;
     (void)P;
@@ -25,25 +67,7 @@ static sl_status linear_step(const sl_model *model, double t, double t_end,
         if (lin->L != NULL)
             sl_normals_members(seed, (uint32_t)(first + j0), cnt, step,
                                SL_PURPOSE_MODEL_NOISE, n, E, n);
-        for (j = j0; j < j0 + cnt; j++) {
-            double *x = X + j * n;
-            const double *u = U + j * q, *e = E + (j - j0) * n;
-            for (i = 0; i < n; i++)
-                xo[i] = x[i];
-            /* each row in a register; the terms are added in the same
-             * order as A x, then B u, then L e */
-            for (i = 0; i < n; i++) {
-                double acc = lin->c != NULL ? lin->c[i] : 0.0;
-                for (k = 0; k < n; k++)
-                    acc += lin->A[i + k * n] * xo[k];
-                for (k = 0; k < q; k++)
-                    acc += lin->B[i + k * n] * u[k];
-                if (lin->L != NULL)
-                    for (k = 0; k <= i; k++)
-                        acc += lin->L[i + k * n] * e[k];
-                x[i] = acc;
-            }
-        }
+        linear_block(lin, cnt, X + j0 * n, U + j0 * q, lin->L != NULL ? E : NULL, xs, acc);
     }
     return SL_OK;
 }
@@ -69,7 +93,7 @@ sl_status sl_linear_model(sl_model *model, const sl_linear *lin, double dt,
     model->discrete = 1;
     model->thread_safe = 1;
     model->member_draws = lin->L != NULL;
-    model->work = lin->n + lin->n * NOISE_BLOCK;
+    model->work = (2 * lin->n + 1) * NOISE_BLOCK; /* E, xs, acc */
     model->step = linear_step;
     model->span = NULL;
     model->ctx = (void *)(uintptr_t)lin;

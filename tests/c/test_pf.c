@@ -1758,6 +1758,75 @@ static void check_resample_move(void)
     ck_free(X);
 }
 
+/* ------------------------------------------------------ the linear model */
+
+/* The built-in linear model's step, vectorised over members, against
+ * x <- c + A x + B u + L e written here member by member from its
+ * definition (model.h), each member's noise e drawn from its own stream:
+ * the same bits, for 150 members (two full noise blocks and part of one)
+ * of a 5-state model with 2 forcings and a full lower-triangular L, and
+ * for the 2-state model of the other checks, first member 37. */
+static void check_linear_block(void)
+{
+    enum { M = 150, n5 = 5, q5 = 2 };
+    static double A5[n5 * n5], B5[n5 * q5], c5[n5], L5[n5 * n5];
+    const sl_linear lin5 = {n5, q5, A5, B5, c5, L5};
+    const sl_linear *lins[2] = {&lin5, &lin2};
+    size_t m, i, j, k;
+    sl_stream s;
+    sl_stream_init(&s, 4, 0, 0, SL_PURPOSE_USER);
+    for (i = 0; i < n5 * n5; i++)
+        A5[i] = 0.3 * sl_stream_normal(&s);
+    for (i = 0; i < n5 * q5; i++)
+        B5[i] = sl_stream_normal(&s);
+    for (i = 0; i < n5; i++) {
+        c5[i] = sl_stream_normal(&s);
+        for (k = 0; k < n5; k++)
+            L5[i + k * n5] = k <= i ? 0.5 * sl_stream_normal(&s) : 0.0;
+    }
+    for (m = 0; m < 2; m++) {
+        const sl_linear *lin = lins[m];
+        const size_t n = lin->n, q = lin->q, f0 = m == 0 ? 0 : 37;
+        double *X = ck_malloc(n * M * sizeof(double)), *R = ck_malloc(n * M * sizeof(double));
+        double *U = ck_malloc(q * M * sizeof(double)), *work, e[5], x[5];
+        sl_model md;
+        sl_error err;
+        int same_all = 1;
+        CHECK(sl_linear_model(&md, lin, 1.0, &err) == SL_OK, "linear model: %s", err.message);
+        work = ck_malloc(md.work * sizeof(double));
+        for (j = 0; j < n * M; j++)
+            X[j] = R[j] = 2.0 * sl_stream_normal(&s);
+        for (j = 0; j < q * M; j++)
+            U[j] = sl_stream_normal(&s);
+        CHECK(md.step(&md, 3.0, 4.0, f0, M, X, NULL, U, 91u, 3u, work, &err) == SL_OK,
+              "linear step");
+        for (j = 0; j < M; j++) {
+            sl_normals_members(91u, (uint32_t)(f0 + j), 1, 3u, SL_PURPOSE_MODEL_NOISE, n, e, n);
+            for (i = 0; i < n; i++)
+                x[i] = R[j * n + i];
+            for (i = 0; i < n; i++) {
+                double acc = lin->c != NULL ? lin->c[i] : 0.0;
+                for (k = 0; k < n; k++)
+                    acc += lin->A[i + k * n] * x[k];
+                for (k = 0; k < q; k++)
+                    acc += lin->B[i + k * n] * U[j * q + k];
+                for (k = 0; k <= i; k++)
+                    acc += lin->L[i + k * n] * e[k];
+                R[j * n + i] = acc;
+            }
+        }
+        for (j = 0; j < n * M; j++)
+            if (memcmp(X + j, R + j, sizeof(double)) != 0)
+                same_all = 0;
+        CHECK(same_all, "linear step of %lu states, %d members: the member-by-member bits",
+              (unsigned long)n, M);
+        ck_free(X);
+        ck_free(R);
+        ck_free(U);
+        ck_free(work);
+    }
+}
+
 /* ------------------------------------------------------------ spans */
 
 /* The flood model's span, counted (the check below must see it used) */
@@ -2263,6 +2332,7 @@ int main(void)
     check_nonfinite();
     check_resample_move();
     check_span();
+    check_linear_block();
     check_smc2_wenkf();
     check_worked_example();
     if (check_light_())
