@@ -219,24 +219,16 @@ static sl_status def_block_rhs(void *ctx, double t, size_t first,
     return SL_OK;
 }
 
-/* The block rhs of a definition with rhs_block: X, P, U already in its
- * structure-of-arrays layout (ctx holds the definition model and the
- * transposed P and U) */
-typedef struct {
-    const sl_def_model *dm;
-    const double *P, *U;
-} soa_ctx;
-
+/* The block rhs of a definition with rhs_block (ctx: its sl_def_model):
+ * X, P and U already in the structure-of-arrays layout */
 static sl_status soa_block_rhs(void *ctx, double t, size_t first, size_t count,
                                const double *X, const double *P, const double *U,
                                double *dX, sl_error *err)
 {
-    const soa_ctx *c = (const soa_ctx *)ctx;
+    const sl_def_model *dm = (const sl_def_model *)ctx;
     (void)first;
-    (void)P;
-    (void)U;
     (void)err;
-    c->dm->def->rhs_block(c->dm->def, c->dm->n, count, t, X, c->P, c->U, dX);
+    dm->def->rhs_block(dm->def, dm->n, count, t, X, P, U, dX);
     return SL_OK;
 }
 
@@ -314,14 +306,14 @@ static size_t span_work(const sl_model_def *def, const sl_integrator *method, si
            def->n_event + 1;
 }
 
-static sl_status soa_piece(const sl_def_model *dm, soa_ctx *c, double t, double h,
-                           size_t first, size_t count, double *Xs, double *wk,
-                           sl_error *err)
+static sl_status soa_piece(const sl_def_model *dm, double t, double h, size_t first,
+                           size_t count, double *Xs, const double *Ps, const double *Us,
+                           double *wk, sl_error *err)
 {
     if (!(h > 0))
         return SL_OK;
-    return sl_integrate_block(dm->method, soa_block_rhs, c, dm->n, first, count, t, h, Xs,
-                              c->P, c->U, &dm->tol, wk, NULL, err);
+    return sl_integrate_block(dm->method, soa_block_rhs, (void *)(uintptr_t)dm, dm->n, first,
+                              count, t, h, Xs, Ps, Us, &dm->tol, wk, NULL, err);
 }
 
 /* A definition with rhs_block under a fixed-step method: the block stays in
@@ -342,14 +334,10 @@ static sl_status span_block(const sl_def_model *dm, double t0, double h, double 
     double *Xs = work, *Ps = Xs + n * count, *Us = Ps + p * count, *x = Us + q * count,
            *evv = x + n, *wk = evv + def->n_event + 1;
     size_t e, l, i, j;
-    soa_ctx c;
     sl_status st = SL_OK;
     to_soa(n, count, X, Xs);
     to_soa(p, count, P, Ps);
     to_soa(q, count, U, Us);
-    c.dm = dm;
-    c.P = Ps;
-    c.U = Us;
     e = ev != NULL && ev->count > 0 ? first_event_after(ev, t0 + (double)l0 * h) : 0;
     for (l = l0; l < l1 && st == SL_OK; l++) {
         /* as the drivers time their step calls; the events of (ts, te] */
@@ -358,8 +346,8 @@ static sl_status span_block(const sl_def_model *dm, double t0, double h, double 
         double tc = ts;
         if (ev != NULL)
             for (; e < ev->count && ev->time[e] <= te; e++) {
-                if ((st = soa_piece(dm, &c, tc, ev->time[e] - tc, first, count, Xs, wk, err)) !=
-                    SL_OK)
+                st = soa_piece(dm, tc, ev->time[e] - tc, first, count, Xs, Ps, Us, wk, err);
+                if (st != SL_OK)
                     break;
                 tc = ev->time[e];
                 for (j = 0; j < count; j++) {
@@ -372,7 +360,7 @@ static sl_status span_block(const sl_def_model *dm, double t0, double h, double 
                 }
             }
         if (st == SL_OK)
-            st = soa_piece(dm, &c, tc, te - tc, first, count, Xs, wk, err);
+            st = soa_piece(dm, tc, te - tc, first, count, Xs, Ps, Us, wk, err);
         if (st != SL_OK)
             *failed = l;
     }
@@ -380,25 +368,35 @@ static sl_status span_block(const sl_def_model *dm, double t0, double h, double 
     return st;
 }
 
-/* The model's span (model.h): blocks of members, each through the steps */
+/* span_block on the blocks of members first .. first+count-1 */
+static sl_status span_blocks(const sl_def_model *dm, double t0, double h, double t_end,
+                             size_t nsteps, size_t l0, size_t l1, size_t first, size_t count,
+                             double *X, const double *P, const double *U, double *work,
+                             size_t *failed, sl_error *err)
+{
+    const size_t n = dm->n, p = dm->def->n_param, q = dm->def->n_forcing;
+    size_t b0;
+    for (b0 = 0; b0 < count; b0 += SL_MODEL_BLOCK) {
+        size_t cnt = count - b0 < SL_MODEL_BLOCK ? count - b0 : SL_MODEL_BLOCK;
+        sl_status st = span_block(dm, t0, h, t_end, nsteps, l0, l1, first + b0, cnt,
+                                  X + b0 * n, P + b0 * p, U != NULL ? U + b0 * q : NULL, work,
+                                  failed, err);
+        if (st != SL_OK)
+            return st;
+    }
+    return SL_OK;
+}
+
+/* The model's span (model.h); only models without forcing have one */
 static sl_status def_span(const sl_model *model, double t0, double h, double t_end,
                           size_t nsteps, size_t l0, size_t l1, size_t first, size_t count,
                           double *X, const double *P, uint64_t seed, uint32_t s0,
                           double *work, size_t *failed, sl_error *err)
 {
-    const sl_def_model *dm = (const sl_def_model *)model->ctx;
-    const size_t n = dm->n, p = dm->def->n_param;
-    size_t b0;
     (void)seed;
     (void)s0;
-    for (b0 = 0; b0 < count; b0 += SL_MODEL_BLOCK) {
-        size_t cnt = count - b0 < SL_MODEL_BLOCK ? count - b0 : SL_MODEL_BLOCK;
-        sl_status st = span_block(dm, t0, h, t_end, nsteps, l0, l1, first + b0, cnt,
-                                  X + b0 * n, P + b0 * p, NULL, work, failed, err);
-        if (st != SL_OK)
-            return st;
-    }
-    return SL_OK;
+    return span_blocks((const sl_def_model *)model->ctx, t0, h, t_end, nsteps, l0, l1, first,
+                       count, X, P, NULL, work, failed, err);
 }
 
 static sl_status def_step(const sl_model *model, double t, double t_end,
@@ -416,14 +414,9 @@ static sl_status def_step(const sl_model *model, double t, double t_end,
     (void)step;
     if (def->rhs_block != NULL && !dm->method->adaptive &&
         dm->method != &sl_integrator_discrete) {
-        for (b0 = 0; b0 < count; b0 += SL_MODEL_BLOCK) {
-            size_t cnt = count - b0 < SL_MODEL_BLOCK ? count - b0 : SL_MODEL_BLOCK, failed;
-            sl_status st = span_block(dm, t, t_end - t, t_end, 1, 0, 1, first + b0, cnt,
-                                      X + b0 * n, P + b0 * p, U + b0 * q, work, &failed, err);
-            if (st != SL_OK)
-                return st;
-        }
-        return SL_OK;
+        size_t failed;
+        return span_blocks(dm, t, t_end - t, t_end, 1, 0, 1, first, count, X, P, U, work,
+                           &failed, err);
     }
     for (b0 = 0; b0 < count; b0 += SL_MODEL_BLOCK) {
         size_t cnt = count - b0 < SL_MODEL_BLOCK ? count - b0 : SL_MODEL_BLOCK;

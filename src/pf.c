@@ -1018,7 +1018,7 @@ sl_status sl_pfi_forecast(const sl_pf_config *cfg, pf_buffers *b, double *X,
         *t = tk;
         return SL_OK;
     }
-    if (span_steps(cfg, N, ids) > 0) {
+    if ((per = span_steps(cfg, N < SPAN_CHUNK ? N : SPAN_CHUNK, ids)) > 0) {
         /* several steps in one call (no forcing), members in chunks of
          * SPAN_CHUNK so that a call takes each block through many steps
          * at any N; the counter of step l is s0 + l */
@@ -1026,7 +1026,6 @@ sl_status sl_pfi_forecast(const sl_pf_config *cfg, pf_buffers *b, double *X,
         const size_t cs = N < SPAN_CHUNK ? N : SPAN_CHUNK, nch = (N + cs - 1) / cs;
         const size_t n = md->n_state, p = md->n_param;
         size_t c, l1;
-        per = span_steps(cfg, cs, ids);
         for (c = 0; c < nch; c++) {
             const size_t j0 = c * cs, j1 = N - j0 > cs ? j0 + cs : N;
             for (l = 0; l < nsteps; l = l1) {

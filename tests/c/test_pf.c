@@ -1850,6 +1850,36 @@ static int stop_at_once(void *ctx, double fraction)
     return 1;
 }
 
+/* One run of cfg with model md on `threads` threads from X0, P0 into X,
+ * P, w, recording the means, ESS and log-evidence increments */
+static sl_status span_run(sl_pf_config *cfg, const sl_model *md, int threads,
+                          const double *X0, const double *P0, double *X, double *P, double *w,
+                          double *mean, double *ess, double *logz, sl_error *err)
+{
+    const size_t N = cfg->N, T = cfg->T;
+    double *flags = ck_malloc(4 * T * sizeof(double));
+    sl_pf_output out;
+    void *work;
+    sl_status st;
+    memcpy(X, X0, md->n_state * N * sizeof(double));
+    memcpy(P, P0, md->n_param * N * sizeof(double));
+    memset(&out, 0, sizeof out);
+    out.mean = mean;
+    out.ess = ess;
+    out.logz = logz;
+    out.resampled = flags;
+    out.degenerate = flags + T;
+    out.skipped = flags + 2 * T;
+    out.nonfinite = flags + 3 * T;
+    cfg->model = md;
+    cfg->threads = threads;
+    work = ck_malloc(sl_pf_workspace(cfg));
+    st = sl_pf_run(cfg, X, P, w, work, &out, err);
+    ck_free(work);
+    ck_free(flags);
+    return st;
+}
+
 /* A model with a span (the flood model under RK4, which keeps its blocks
  * in its own layout through the steps of an interval) gives the run of the
  * same model stepped one step a call, bit for bit, on 1 and 2 threads,
@@ -1879,7 +1909,6 @@ static void check_span(void)
     sl_error err;
     double *X0 = ck_malloc(NS * N * sizeof(double)), *P0 = ck_malloc(NP * N * sizeof(double));
     double *X[4], *P[4], *w[4], mean[4][(NS + NP) * T], ess[4][T], logz[4][T];
-    double res[T], deg[T], skip[T], nonf[T];
     const sl_model *models[4];
     size_t i, j, r, polls = 0;
     sl_status st;
@@ -1949,28 +1978,13 @@ static void check_span(void)
     models[2] = &counted;
     models[3] = &plain;
     for (r = 0; r < 4; r++) {
-        sl_pf_output out;
-        void *work;
         size_t calls0 = span_calls;
         X[r] = ck_malloc(NS * N * sizeof(double));
         P[r] = ck_malloc(NP * N * sizeof(double));
         w[r] = ck_malloc(N * sizeof(double));
-        memcpy(X[r], X0, NS * N * sizeof(double));
-        memcpy(P[r], P0, NP * N * sizeof(double));
-        memset(&out, 0, sizeof out);
-        out.mean = mean[r];
-        out.ess = ess[r];
-        out.logz = logz[r];
-        out.resampled = res;
-        out.degenerate = deg;
-        out.skipped = skip;
-        out.nonfinite = nonf;
-        cfg.model = models[r];
-        cfg.threads = r < 2 ? 1 : 2;
-        work = ck_malloc(sl_pf_workspace(&cfg));
-        st = sl_pf_run(&cfg, X[r], P[r], w[r], work, &out, &err);
+        st = span_run(&cfg, models[r], r < 2 ? 1 : 2, X0, P0, X[r], P[r], w[r], mean[r], ess[r],
+                      logz[r], &err);
         CHECK(st == SL_OK, "flood run %lu: %s", (unsigned long)r, err.message);
-        ck_free(work);
         if (r == 0)
             CHECK(span_calls - calls0 == T * 5 * 2,
                   "1 thread: each interval in 2 spans for each of 5 chunks (%lu calls)",
@@ -1994,26 +2008,11 @@ static void check_span(void)
 
     /* a poll that stops: honoured after the first span */
     {
-        sl_pf_output out;
-        void *work;
         size_t calls0 = span_calls;
-        memcpy(X[0], X0, NS * N * sizeof(double));
-        memcpy(P[0], P0, NP * N * sizeof(double));
-        memset(&out, 0, sizeof out);
-        out.mean = mean[0];
-        out.ess = ess[0];
-        out.logz = logz[0];
-        out.resampled = res;
-        out.degenerate = deg;
-        out.skipped = skip;
-        out.nonfinite = nonf;
-        cfg.model = &counted;
-        cfg.threads = 1;
         cfg.poll = stop_at_once;
         cfg.poll_ctx = &polls;
-        work = ck_malloc(sl_pf_workspace(&cfg));
-        st = sl_pf_run(&cfg, X[0], P[0], w[0], work, &out, &err);
-        ck_free(work);
+        st = span_run(&cfg, &counted, 1, X0, P0, X[0], P[0], w[0], mean[0], ess[0], logz[0],
+                      &err);
         CHECK(st == SL_EINTERRUPT && polls == 1 && span_calls - calls0 == 1,
               "a stopping poll ends the run after one span (status %d, %lu polls, %lu spans)",
               (int)st, (unsigned long)polls, (unsigned long)(span_calls - calls0));
