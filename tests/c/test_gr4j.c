@@ -494,12 +494,63 @@ static void test_edges(const sl_model_def *d)
     CHECK(isnan(x[IQ]) && isnan(x[0]), "P = NaN: the member turns NaN");
 }
 
+/* Bits equal, any NaN equal to any NaN. */
+static int same_or_both_nan(const double *a, const double *b, size_t n)
+{
+    size_t i;
+    for (i = 0; i < n; i++)
+        if (!(isnan(a[i]) && isnan(b[i])) && memcmp(a + i, b + i, sizeof(double)) != 0)
+            return 0;
+    return 1;
+}
+
+/* X4 outside its bounds, at its ends, at whole and half days, infinite
+ * and NaN, mixed with ordinary members in one chunk: the block path gives
+ * the per-member map's values (common practice: a vectorised path checked
+ * against its scalar reference, here on the inputs whose branches differ). */
+static void test_block_edges(const sl_model_def *d)
+{
+    static const double x4s[] = {(double)NAN, -1.0, 0.0, 0.3, 0.5, 1.0, 1.5, 2.0,
+                                 3.7, 9.99, 10.0, 10.5, 19.5, 20.0, 20.5, 25.0,
+                                 38.7, 39.0, 39.5, 45.0, HUGE_VAL, -HUGE_VAL, 1.7, 0.9};
+    enum { M = sizeof x4s / sizeof *x4s, DAYS = 50 };
+    double Xm[M * NS], Xb[M * NS], P[M * 4], U[M * 2];
+    double *work = ck_malloc(d->block_work(NS, M) * sizeof(double));
+    size_t j, t, bad_day = 0;
+    int same = 1;
+    CHECK(work != NULL, "work");
+    if (work == NULL)
+        return;
+    for (j = 0; j < M; j++) {
+        memcpy(Xm + j * NS, d->x0, NS * sizeof(double));
+        memcpy(P + j * 4, d->p_default, 4 * sizeof(double));
+        P[j * 4 + 3] = x4s[j];
+    }
+    memcpy(Xb, Xm, sizeof Xm);
+    for (t = 0; t < DAYS; t++) {
+        for (j = 0; j < M; j++) {
+            U[2 * j] = (t + j) % 3 == 0 ? 0.0 : 4.0 + (double)((t * 7 + j) % 30);
+            U[2 * j + 1] = 2.5;
+            d->map(d, NS, (double)t, 1.0, Xm + j * NS, P + j * 4, U + 2 * j);
+        }
+        d->map_block(d, NS, M, (double)t, 1.0, Xb, P, U, work);
+        if (same && !same_or_both_nan(Xm, Xb, M * NS)) {
+            same = 0;
+            bad_day = t;
+        }
+    }
+    CHECK(same, "X4 at and beyond its bounds, infinite and NaN: block path == map "
+                "(first difference on day %lu)", (unsigned long)bad_day);
+    ck_free(work);
+}
+
 int main(void)
 {
     const sl_model_def *d = &sl_model_gr4j;
     test_definition(d);
     test_reference(d);
     test_block(d);
+    test_block_edges(d);
     test_dry_spell(d);
     test_hydrographs(d);
     test_edges(d);
