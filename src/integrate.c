@@ -58,82 +58,134 @@ static const double b1 = 35.0 / 384, b3 = 500.0 / 1113, b4 = 125.0 / 192,
 static const double e1 = 71.0 / 57600, e3 = -71.0 / 16695, e4 = 71.0 / 1920,
                     e5 = -17253.0 / 339200, e6 = 22.0 / 525, e7 = -1.0 / 40;
 
-static sl_status dopri5(sl_block_rhs_fn f, void *ctx, size_t n, size_t first,
-                        size_t count, double t, double h, double *X,
-                        const double *P, const double *U,
-                        const sl_tolerance *tol, double *work, size_t *nrhs,
-                        sl_error *err)
+/* The stages of one attempt of size step from tc, on len = n * count
+ * values in f's layout: k[0] holds f(tc, X) on entry; k[1] .. k[6] and yn
+ * (the fifth-order solution) are filled, k[6] = f(tc + step, yn). */
+static sl_status dopri5_stages(sl_block_rhs_fn f, void *ctx, size_t first, size_t count,
+                               size_t len, double tc, double step, const double *X,
+                               const double *P, const double *U, double *const *k,
+                               double *y, double *yn, sl_error *err)
+{
+    const double *k1 = k[0];
+    double *k2 = k[1], *k3 = k[2], *k4 = k[3], *k5 = k[4], *k6 = k[5], *k7 = k[6];
+    size_t i;
+    sl_status st;
+    for (i = 0; i < len; i++) y[i] = X[i] + step * a21 * k1[i];
+    if ((st = f(ctx, tc + c2 * step, first, count, y, P, U, k2, err)) != SL_OK) return st;
+    for (i = 0; i < len; i++) y[i] = X[i] + step * (a31 * k1[i] + a32 * k2[i]);
+    if ((st = f(ctx, tc + c3 * step, first, count, y, P, U, k3, err)) != SL_OK) return st;
+    for (i = 0; i < len; i++) y[i] = X[i] + step * (a41 * k1[i] + a42 * k2[i] + a43 * k3[i]);
+    if ((st = f(ctx, tc + c4 * step, first, count, y, P, U, k4, err)) != SL_OK) return st;
+    for (i = 0; i < len; i++)
+        y[i] = X[i] + step * (a51 * k1[i] + a52 * k2[i] + a53 * k3[i] + a54 * k4[i]);
+    if ((st = f(ctx, tc + c5 * step, first, count, y, P, U, k5, err)) != SL_OK) return st;
+    for (i = 0; i < len; i++)
+        y[i] = X[i] + step * (a61 * k1[i] + a62 * k2[i] + a63 * k3[i] + a64 * k4[i] +
+                              a65 * k5[i]);
+    if ((st = f(ctx, tc + step, first, count, y, P, U, k6, err)) != SL_OK) return st;
+    for (i = 0; i < len; i++)
+        yn[i] = X[i] + step * (b1 * k1[i] + b3 * k3[i] + b4 * k4[i] + b5 * k5[i] +
+                               b6 * k6[i]);
+    return f(ctx, tc + step, first, count, yn, P, U, k7, err);
+}
+
+/* The scaled error of value i of an attempt (its square is summed) */
+static inline double dopri5_ratio(const sl_tolerance *tol, double step, double *const *k,
+                                  const double *X, const double *yn, size_t i)
+{
+    double ei = step * (e1 * k[0][i] + e3 * k[2][i] + e4 * k[3][i] + e5 * k[4][i] +
+                        e6 * k[5][i] + e7 * k[6][i]);
+    double sc = tol->atol + tol->rtol * fmax(fabs(X[i]), fabs(yn[i]));
+    return ei / sc;
+}
+
+/* The next step from an attempt's error norm e2 (accepted when <= 1) */
+static inline double dopri5_next_step(double step, double e2)
+{
+    double q;
+    if (e2 <= 1.0) {
+        q = e2 > 0 ? 0.9 * pow(e2, -0.2) : 5.0;
+        return step * (q > 5.0 ? 5.0 : (q < 0.2 ? 0.2 : q));
+    }
+    /* a NaN error (a stage left the model's domain) shrinks the step the
+     * most */
+    q = isfinite(e2) ? 0.9 * pow(e2, -0.2) : 0.2;
+    return step * (q < 0.2 ? 0.2 : (q > 1.0 ? 0.9 : q));
+}
+
+/* Before an attempt from tc: the step lands on tend, stretching rather
+ * than leaving a sliver (*last). 0 when the control has failed. */
+static inline int dopri5_prepare(const sl_tolerance *tol, double tc, double tend, double hmin,
+                                 double *step, size_t *attempts, int *last)
+{
+    const double rem = tend - tc;
+    *last = 0;
+    if (*step >= rem || rem - *step < hmin) {
+        *step = rem;
+        *last = 1;
+    }
+    return !(++*attempts > tol->max_steps || !(*step > 0) || (*step < hmin && !*last));
+}
+
+/* Adaptive steps of a block from tc to tend, steps below hmin failing,
+ * with the step control's state as it stands: the next step to try, the
+ * attempts made so far, and whether k[0] (work) already holds f(tc, X),
+ * as after an earlier attempt. */
+static sl_status dopri5_from(sl_block_rhs_fn f, void *ctx, size_t n, size_t first,
+                             size_t count, double tc, double tend, double hmin, double step,
+                             size_t attempts, int have_k1, double *X, const double *P,
+                             const double *U, const sl_tolerance *tol, double *work,
+                             size_t *nrhs, sl_error *err)
 {
     const size_t len = n * count;
-    double *k1 = work, *k2 = k1 + len, *k3 = k2 + len, *k4 = k3 + len,
-           *k5 = k4 + len, *k6 = k5 + len, *k7 = k6 + len, *y = k7 + len,
-           *yn = y + len;
-    const double tend = t + h, hmin = tol->hmin_rel * h;
-    double step = h, tc = t;
-    size_t attempts = 0, i;
+    double *const k[7] = {work,           work + len,     work + 2 * len, work + 3 * len,
+                          work + 4 * len, work + 5 * len, work + 6 * len};
+    double *y = work + 7 * len, *yn = y + len;
+    size_t i;
     sl_status st;
-    int have_k1 = 0;
+    int last;
     while (tc < tend) {
-        double e2 = 0.0, q, rem = tend - tc;
-        int last = 0;
-        if (step >= rem || rem - step < hmin) {
-            /* land on the end, stretching rather than leaving a sliver */
-            step = rem;
-            last = 1;
-        }
-        if (++attempts > tol->max_steps || !(step > 0) || (step < hmin && !last))
+        double e2 = 0.0;
+        if (!dopri5_prepare(tol, tc, tend, hmin, &step, &attempts, &last))
             goto blown;
         if (!have_k1) {
-            if ((st = f(ctx, tc, first, count, X, P, U, k1, err)) != SL_OK)
+            if ((st = f(ctx, tc, first, count, X, P, U, k[0], err)) != SL_OK)
                 return st;
             if (nrhs) (*nrhs)++;
             have_k1 = 1;
         }
-        for (i = 0; i < len; i++) y[i] = X[i] + step * a21 * k1[i];
-        if ((st = f(ctx, tc + c2 * step, first, count, y, P, U, k2, err)) != SL_OK) return st;
-        for (i = 0; i < len; i++) y[i] = X[i] + step * (a31 * k1[i] + a32 * k2[i]);
-        if ((st = f(ctx, tc + c3 * step, first, count, y, P, U, k3, err)) != SL_OK) return st;
-        for (i = 0; i < len; i++) y[i] = X[i] + step * (a41 * k1[i] + a42 * k2[i] + a43 * k3[i]);
-        if ((st = f(ctx, tc + c4 * step, first, count, y, P, U, k4, err)) != SL_OK) return st;
-        for (i = 0; i < len; i++)
-            y[i] = X[i] + step * (a51 * k1[i] + a52 * k2[i] + a53 * k3[i] + a54 * k4[i]);
-        if ((st = f(ctx, tc + c5 * step, first, count, y, P, U, k5, err)) != SL_OK) return st;
-        for (i = 0; i < len; i++)
-            y[i] = X[i] + step * (a61 * k1[i] + a62 * k2[i] + a63 * k3[i] + a64 * k4[i] +
-                                  a65 * k5[i]);
-        if ((st = f(ctx, tc + step, first, count, y, P, U, k6, err)) != SL_OK) return st;
-        for (i = 0; i < len; i++)
-            yn[i] = X[i] + step * (b1 * k1[i] + b3 * k3[i] + b4 * k4[i] + b5 * k5[i] +
-                                   b6 * k6[i]);
-        if ((st = f(ctx, tc + step, first, count, yn, P, U, k7, err)) != SL_OK) return st;
+        if ((st = dopri5_stages(f, ctx, first, count, len, tc, step, X, P, U, k, y, yn,
+                                err)) != SL_OK)
+            return st;
         if (nrhs) (*nrhs) += 6;
         for (i = 0; i < len; i++) {
-            double ei = step * (e1 * k1[i] + e3 * k3[i] + e4 * k4[i] + e5 * k5[i] +
-                                e6 * k6[i] + e7 * k7[i]);
-            double sc = tol->atol + tol->rtol * fmax(fabs(X[i]), fabs(yn[i]));
-            double r = ei / sc;
+            double r = dopri5_ratio(tol, step, k, X, yn, i);
             e2 += r * r;
         }
         e2 = sqrt(e2 / (double)len);
         if (e2 <= 1.0) {
             /* accept; the last stage is the next step's first (FSAL) */
             memcpy(X, yn, len * sizeof(double));
-            memcpy(k1, k7, len * sizeof(double));
+            memcpy(k[0], k[6], len * sizeof(double));
             tc = last ? tend : tc + step;
-            q = e2 > 0 ? 0.9 * pow(e2, -0.2) : 5.0;
-            step *= q > 5.0 ? 5.0 : (q < 0.2 ? 0.2 : q);
-        } else {
-            /* reject: a NaN error (a stage left the model's domain) shrinks
-             * the step the most */
-            q = isfinite(e2) ? 0.9 * pow(e2, -0.2) : 0.2;
-            step *= q < 0.2 ? 0.2 : (q > 1.0 ? 0.9 : q);
         }
+        step = dopri5_next_step(step, e2);
     }
     return SL_OK;
 blown:
     for (i = 0; i < len; i++)
         X[i] = NAN;
     return SL_OK;
+}
+
+static sl_status dopri5(sl_block_rhs_fn f, void *ctx, size_t n, size_t first,
+                        size_t count, double t, double h, double *X,
+                        const double *P, const double *U,
+                        const sl_tolerance *tol, double *work, size_t *nrhs,
+                        sl_error *err)
+{
+    return dopri5_from(f, ctx, n, first, count, t, t + h, tol->hmin_rel * h, h, 0, 0, X, P, U,
+                       tol, work, nrhs, err);
 }
 
 SL_CLONES
@@ -298,12 +350,112 @@ static sl_status advance_piece(const sl_def_model *dm, double t, double h,
                               first, count, t, h, X, P, U, &dm->tol, work, NULL, err);
 }
 
+/* Each member's sum of squared scaled errors of an attempt on a block of
+ * g members in structure-of-arrays layout: its values in state order, as
+ * dopri5 sums them for a block of one. */
+static void soa_error(const sl_tolerance *tol, double step, size_t n, size_t g,
+                      double *const *k, const double *restrict X, const double *restrict yn,
+                      double *restrict e2)
+{
+    const double atol = tol->atol, rtol = tol->rtol;
+    size_t i, a;
+    for (a = 0; a < g; a++)
+        e2[a] = 0.0;
+    for (i = 0; i < n; i++) {
+        const double *restrict k1 = k[0] + i * g, *restrict k3 = k[2] + i * g,
+                               *restrict k4 = k[3] + i * g, *restrict k5 = k[4] + i * g,
+                               *restrict k6 = k[5] + i * g, *restrict k7 = k[6] + i * g,
+                               *restrict x = X + i * g, *restrict y = yn + i * g;
+        for (a = 0; a < g; a++) {
+            double ei = step * (e1 * k1[a] + e3 * k3[a] + e4 * k4[a] + e5 * k5[a] +
+                                e6 * k6[a] + e7 * k7[a]);
+            /* fmax(ax, ay) as a select, which gcc vectorises */
+            const double ax = fabs(x[a]), ay = fabs(y[a]);
+            double sc = atol + rtol * (ay > ax ? ay : (ax == ax ? ax : ay));
+            double r = ei / sc;
+            e2[a] += r * r;
+        }
+    }
+}
+
+/* Dormand-Prince over [t, t + h] for a block of a definition with
+ * rhs_block, in structure-of-arrays layout (state i of member j at
+ * Xs[i * count + j]), each member under the control dopri5 gives it alone,
+ * by the same operations, so its bits do not depend on the block. Every
+ * member makes its first attempt from t with the whole piece as its step:
+ * those attempts are made together, one block rhs call per stage time.
+ * Where it is accepted the member is done (the common case when the
+ * pieces are short); a member whose attempt is rejected goes on alone from
+ * where that left it (its next step, attempts and first stage), through
+ * rhs, since no two members' steps agree from then on. work holds
+ * 9 n (count + 1) + n + n_param + n_forcing doubles. */
+static sl_status soa_dopri5(const sl_def_model *dm, double t, double h, size_t first,
+                            size_t count, double *Xs, const double *Ps, const double *Us,
+                            double *work, sl_error *err)
+{
+    const sl_model_def *def = dm->def;
+    const size_t n = dm->n, p = def->n_param, q = def->n_forcing, len = n * count;
+    const sl_tolerance *tol = &dm->tol;
+    const double tend = t + h, hmin = tol->hmin_rel * h;
+    double *const k[7] = {work,           work + len,     work + 2 * len, work + 3 * len,
+                          work + 4 * len, work + 5 * len, work + 6 * len};
+    double *y = work + 7 * len, *yn = y + len, *x = yn + len, *pj = x + n, *uj = pj + p,
+           *wk = uj + q;
+    double e2[SL_MODEL_BLOCK], step = h;
+    size_t attempts = 0, i, j;
+    int last;
+    sl_status st;
+    /* the first attempt is the same for every member: the whole piece */
+    if (!(t < tend))
+        return SL_OK;
+    if (!dopri5_prepare(tol, t, tend, hmin, &step, &attempts, &last)) {
+        for (i = 0; i < len; i++)
+            Xs[i] = NAN;
+        return SL_OK;
+    }
+    if ((st = soa_block_rhs((void *)(uintptr_t)dm, t, first, count, Xs, Ps, Us, k[0], err)) !=
+            SL_OK ||
+        (st = dopri5_stages(soa_block_rhs, (void *)(uintptr_t)dm, first, count, len, t, step, Xs,
+                            Ps, Us, k, y, yn, err)) != SL_OK)
+        return st;
+    soa_error(tol, step, n, count, k, Xs, yn, e2);
+    for (j = 0; j < count; j++) {
+        const double e = sqrt(e2[j] / (double)n);
+        if (e <= 1.0) {
+            /* accepted: the step was the whole piece, so the member is at
+             * tend (t + step with last unset is t + h = tend as well) */
+            for (i = 0; i < n; i++)
+                Xs[i * count + j] = yn[i * count + j];
+            continue;
+        }
+        /* rejected: the member tries again alone from t, f(t, x) in wk */
+        for (i = 0; i < n; i++) {
+            x[i] = Xs[i * count + j];
+            wk[i] = k[0][i * count + j];
+        }
+        for (i = 0; i < p; i++)
+            pj[i] = Ps[i * count + j];
+        for (i = 0; i < q; i++)
+            uj[i] = Us[i * count + j];
+        if ((st = dopri5_from(def_block_rhs, (void *)(uintptr_t)dm, n, first + j, 1, t, tend,
+                              hmin, dopri5_next_step(step, e), attempts, 1, x, pj, uj, tol, wk,
+                              NULL, err)) != SL_OK)
+            return st;
+        for (i = 0; i < n; i++)
+            Xs[i * count + j] = x[i];
+    }
+    return SL_OK;
+}
+
 /* The scratch of span_block: the block's states, parameters and forcings
  * in its layout, one member's states and event values, the stages */
 static size_t span_work(const sl_model_def *def, const sl_integrator *method, size_t n)
 {
-    return (method->stages * n + n + def->n_param + def->n_forcing) * SL_MODEL_BLOCK + n +
-           def->n_event + 1;
+    const size_t pq = def->n_param + def->n_forcing;
+    /* the integrator's stages; soa_dopri5 adds what one member's run
+     * alone needs */
+    return (method->stages * n + n + pq) * SL_MODEL_BLOCK + n + def->n_event + 1 +
+           (method->adaptive ? method->stages * n + n + pq : 0);
 }
 
 static sl_status soa_piece(const sl_def_model *dm, double t, double h, size_t first,
@@ -312,6 +464,8 @@ static sl_status soa_piece(const sl_def_model *dm, double t, double h, size_t fi
 {
     if (!(h > 0))
         return SL_OK;
+    if (dm->method->adaptive)
+        return soa_dopri5(dm, t, h, first, count, Xs, Ps, Us, wk, err);
     return sl_integrate_block(dm->method, soa_block_rhs, (void *)(uintptr_t)dm, dm->n, first,
                               count, t, h, Xs, Ps, Us, &dm->tol, wk, NULL, err);
 }
@@ -412,8 +566,7 @@ static sl_status def_step(const sl_model *model, double t, double t_end,
     size_t b0;
     (void)seed;
     (void)step;
-    if (def->rhs_block != NULL && !dm->method->adaptive &&
-        dm->method != &sl_integrator_discrete) {
+    if (def->rhs_block != NULL && dm->method != &sl_integrator_discrete) {
         size_t failed;
         return span_blocks(dm, t, t_end - t, t_end, 1, 0, 1, first, count, X, P, U, work,
                            &failed, err);
@@ -630,7 +783,7 @@ sl_status sl_def_model_init(sl_model *model, sl_def_model *dm,
     work = method->stages * n * SL_MODEL_BLOCK + def->n_event + 1;
     if (def->block_work != NULL)
         work += def->block_work(n, SL_MODEL_BLOCK);
-    if (def->rhs_block != NULL && !method->adaptive && method != &sl_integrator_discrete &&
+    if (def->rhs_block != NULL && method != &sl_integrator_discrete &&
         span_work(def, method, n) > work)
         work = span_work(def, method, n);
     model->name = def->name;
@@ -647,8 +800,8 @@ sl_status sl_def_model_init(sl_model *model, sl_def_model *dm,
                 model->member_draws = 1;
     model->work = work;
     model->step = def_step;
-    model->span = def->rhs_block != NULL && !method->adaptive &&
-                          method != &sl_integrator_discrete && def->n_forcing == 0
+    model->span = def->rhs_block != NULL && method != &sl_integrator_discrete &&
+                          def->n_forcing == 0
                       ? def_span
                       : NULL;
     model->ctx = dm;

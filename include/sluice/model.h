@@ -92,7 +92,9 @@ typedef void (*sl_map_block_fn)(const sl_model_def *def, size_t n,
  * in structure-of-arrays layout: state i of member j is X[i * count + j]
  * (dX likewise), parameter k is P[k * count + j], forcing k is
  * U[k * count + j]. Must give the same bits as rhs on every member (the
- * engine uses it for the fixed-step methods, rhs for the adaptive one). */
+ * engine uses it for the fixed-step methods and for the adaptive method's
+ * first attempt of a piece, which all members make together; a member
+ * that needs more steps goes on through rhs). */
 typedef void (*sl_rhs_block_fn)(const sl_model_def *def, size_t n,
                                 size_t count, double t, const double *X,
                                 const double *P, const double *U, double *dX);
