@@ -105,7 +105,11 @@ static void ordinates(double x4, double *o1, size_t *n1, double *o2,
 {
     /* c = X4^(-2.5); for X4 <= 0 it is never used, for a NaN X4 it is NaN */
     const double c = x4 > 0.0 ? 1.0 / (x4 * x4 * sqrt(x4)) : x4;
-    double sh[NH2 + 1];
+    /* each ordinate is SH(k+1) - SH(k) as the S-curve values are made,
+     * the previous one kept in a register: storing the values and reading
+     * them back in pairs stalled on every pair (a store cannot forward to
+     * a wider load) */
+    double sh, prev;
     size_t k, m, a, b;
 
     /* UH1: SH1(k) < 1 for k = 1 .. m (k < X4), then 1 at k = m + 1 */
@@ -115,12 +119,13 @@ static void ordinates(double x4, double *o1, size_t *n1, double *o2,
         m = (size_t)ceil(x4) - 1;
     else
         m = 0;
-    sh[0] = 0.0;
-    for (k = 1; k <= m; k++)
-        sh[k] = scurve(k, c);
-    sh[m + 1] = 1.0;
-    for (k = 0; k <= m; k++)
-        o1[k] = sh[k + 1] - sh[k];
+    prev = 0.0;
+    for (k = 1; k <= m; k++) {
+        sh = scurve(k, c);
+        o1[k - 1] = sh - prev;
+        prev = sh;
+    }
+    o1[m] = 1.0 - prev;
     *n1 = m + 1;
 
     /* UH2: rising half for k = 1 .. a (k <= X4), falling half for
@@ -137,13 +142,18 @@ static void ordinates(double x4, double *o1, size_t *n1, double *o2,
         b = (size_t)ceil(2.0 * x4) - 1;
     else
         b = 0;
-    for (k = 1; k <= a; k++)
-        sh[k] = 0.5 * scurve(k, c);
-    for (; k <= b; k++) /* here 0 < 2 - k/X4 < 1 */
-        sh[k] = 1.0 - 0.5 * pow25(2.0 - (double)k / x4);
-    sh[b + 1] = 1.0;
-    for (k = 0; k <= b; k++)
-        o2[k] = sh[k + 1] - sh[k];
+    prev = 0.0;
+    for (k = 1; k <= a; k++) {
+        sh = 0.5 * scurve(k, c);
+        o2[k - 1] = sh - prev;
+        prev = sh;
+    }
+    for (; k <= b; k++) { /* here 0 < 2 - k/X4 < 1 */
+        sh = 1.0 - 0.5 * pow25(2.0 - (double)k / x4);
+        o2[k - 1] = sh - prev;
+        prev = sh;
+    }
+    o2[b] = 1.0 - prev;
     *n2 = b + 1;
 }
 
@@ -275,6 +285,10 @@ static void gr4j_map(const sl_model_def *def, size_t n, double t, double dt,
     (void)t;
     (void)dt;
 
+    /* the ordinates first, well before the queues read them (as in the
+     * block path) */
+    ordinates(p[3], o1, &n1, o2, &n2);
+
     /* production store */
     interception(u[0], u[1], p[0], &pn, &en, &arg);
     th = tanh(arg);
@@ -282,7 +296,6 @@ static void gr4j_map(const sl_model_def *def, size_t n, double t, double dt,
     pr = percolation(root4(arg), pn, ps, &s);
 
     /* unit hydrographs: 0.9 Pr through UH1, 0.1 Pr through UH2 */
-    ordinates(p[3], o1, &n1, o2, &n2);
     queues_move(x);
     queues_fill(x, o1, n1, o2, n2, 0.9 * pr, 0.1 * pr);
 
@@ -330,14 +343,15 @@ static void gr4j_block(const sl_model_def *def, size_t n, size_t count,
            *th = a + CHUNK, *ps = th + CHUNK, *pr = ps + CHUNK,
            *q9 = pr + CHUNK, *q1 = q9 + CHUNK, *f = q1 + CHUNK,
            *rr = f + CHUNK, *sq = rr + CHUNK;
-    double o1[NH1], o2[NH2];
-    size_t b0, j, n1 = 0, n2 = 0;
+    /* the members' ordinates: member j uses set os[j], its own or that
+     * of the member before it with the same X4 */
+    double o1[CHUNK][NH1], o2[CHUNK][NH2];
+    size_t b0, j, n1[CHUNK], n2[CHUNK], os[CHUNK];
     (void)def;
     (void)t;
     (void)dt;
     for (b0 = 0; b0 < count; b0 += CHUNK) {
         const size_t m = count - b0 < CHUNK ? count - b0 : CHUNK;
-        double last_x4 = (double)NAN; /* equal to no X4 */
 
         /* gather the stores, parameters and forcings */
         for (j = 0; j < CHUNK; j++) {
@@ -351,6 +365,17 @@ static void gr4j_block(const sl_model_def *def, size_t n, size_t count,
             x4[j] = pj[3];
             pp[j] = uj[0];
             ee[j] = uj[1];
+        }
+
+        /* the ordinates, well before the queues read them: a load wider
+         * than the stores that just wrote its values stalls */
+        for (j = 0; j < m; j++) {
+            if (j > 0 && x4[j] == x4[j - 1]) {
+                os[j] = os[j - 1];
+            } else {
+                os[j] = j;
+                ordinates(x4[j], o1[j], &n1[j], o2[j], &n2[j]);
+            }
         }
 
         /* production store */
@@ -374,11 +399,8 @@ static void gr4j_block(const sl_model_def *def, size_t n, size_t count,
                 ((m - 1) * n + NH1 + NH2 - 1) * sizeof(double));
         for (j = 0; j < m; j++) {
             double *xj = X + (b0 + j) * n;
-            if (!(x4[j] == last_x4)) {
-                ordinates(x4[j], o1, &n1, o2, &n2);
-                last_x4 = x4[j];
-            }
-            queues_fill(xj, o1, n1, o2, n2, 0.9 * pr[j], 0.1 * pr[j]);
+            const size_t o = os[j];
+            queues_fill(xj, o1[o], n1[o], o2[o], n2[o], 0.9 * pr[j], 0.1 * pr[j]);
             q9[j] = xj[IUH1];
             q1[j] = xj[IUH2];
         }
