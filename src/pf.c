@@ -1505,21 +1505,39 @@ static void gather_draws(pf_buffers *b, size_t N, const uint32_t *anc, uint32_t 
 }
 
 /* x - x is +0 for a finite x and NaN for an infinite or NaN one, and a sum
- * with a NaN term is NaN: four independent sums over the column, without a
- * branch per value, say whether any value is not finite. */
+ * with a NaN term is NaN: independent sums over the column, without a
+ * branch per value, say whether any value is not finite. Every sum is +0
+ * or NaN, so their order does not matter: eight lanes in four registers,
+ * then pairs, so that a long column (GR4J's 63 states) is not bound by
+ * the additions' latency nor left to a scalar tail. */
 int sl_pfi_has_nonfinite(const double *x, size_t n)
 {
-    double a0 = 0.0, a1 = 0.0, a2 = 0.0, a3 = 0.0;
-    size_t i;
-    for (i = 0; i + 4 <= n; i += 4) {
-        a0 += x[i] - x[i];
-        a1 += x[i + 1] - x[i + 1];
-        a2 += x[i + 2] - x[i + 2];
-        a3 += x[i + 3] - x[i + 3];
+    double s = 0.0;
+    size_t i = 0;
+#ifdef __SSE2__
+    {
+        __m128d a0 = _mm_setzero_pd(), a1 = a0, a2 = a0, a3 = a0, v;
+        for (; i + 8 <= n; i += 8) {
+            v = _mm_loadu_pd(x + i);
+            a0 = _mm_add_pd(a0, _mm_sub_pd(v, v));
+            v = _mm_loadu_pd(x + i + 2);
+            a1 = _mm_add_pd(a1, _mm_sub_pd(v, v));
+            v = _mm_loadu_pd(x + i + 4);
+            a2 = _mm_add_pd(a2, _mm_sub_pd(v, v));
+            v = _mm_loadu_pd(x + i + 6);
+            a3 = _mm_add_pd(a3, _mm_sub_pd(v, v));
+        }
+        for (; i + 2 <= n; i += 2) {
+            v = _mm_loadu_pd(x + i);
+            a1 = _mm_add_pd(a1, _mm_sub_pd(v, v));
+        }
+        a0 = _mm_add_pd(_mm_add_pd(a0, a1), _mm_add_pd(a2, a3));
+        s = _mm_cvtsd_f64(a0) + _mm_cvtsd_f64(_mm_unpackhi_pd(a0, a0));
     }
+#endif
     for (; i < n; i++)
-        a0 += x[i] - x[i];
-    return !((a0 + a1) + (a2 + a3) == 0.0);
+        s += x[i] - x[i];
+    return !(s == 0.0);
 }
 
 /* The forecast means' kernel, shared with the split run (pf_internal.h). */

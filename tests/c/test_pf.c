@@ -2295,7 +2295,8 @@ static void check_summary_rows(void)
 /* ------------------------------------------------- members' health */
 
 /* sl_pfi_has_nonfinite against isfinite (C11 7.12.3.2) value by value: every
- * column length 0..13, each of Inf, -Inf and NaN at every place, among
+ * column length 0..19 (two blocks of eight, pairs and a last single
+ * value), each of Inf, -Inf and NaN at every place, among
  * finite values at the extremes (DBL_MAX, -DBL_MAX, the smallest subnormal,
  * -0). */
 static void check_nonfinite(void)
@@ -2303,9 +2304,9 @@ static void check_nonfinite(void)
     const double fin[] = {1.5, DBL_MAX, -DBL_MAX, 4.9406564584124654e-324, -0.0,
                           -3.25, 0.0};
     const double bad[] = {HUGE_VAL, -HUGE_VAL, NAN};
-    double x[13];
+    double x[19];
     size_t n, i, pos, b, nbad = 0;
-    for (n = 0; n <= 13; n++) {
+    for (n = 0; n <= 19; n++) {
         for (i = 0; i < n; i++)
             x[i] = fin[(i + n) % 7];
         CHECK(sl_pfi_has_nonfinite(x, n) == 0, "finite column of %lu flagged",
