@@ -2327,9 +2327,93 @@ static void check_nonfinite(void)
           (unsigned long)nbad);
 }
 
+/* The diversity record against its definitions written out directly:
+ * distinct ids among the members of positive weight, counted by a search
+ * of the earlier members (common practice), and the weighted standard
+ * deviation sqrt(sum w (z - m)^2 / sum w), m = sum w z / sum w (handbook
+ * formula, common practice), with long double sums. 3 parameters and
+ * 11; ids with many repeats, zero weights. */
+static void check_diversity(void)
+{
+    enum { N = 200 };
+    const size_t ps[2] = {3, 11};
+    size_t c;
+    for (c = 0; c < 2; c++) {
+        const size_t p = ps[c];
+        sl_model md;
+        sl_pf_config cfg;
+        pf_buffers b;
+        sl_pf_output out;
+        uint32_t *id = ck_malloc(p * N * sizeof(uint32_t));
+        double *Z = ck_malloc(p * N * sizeof(double)), w[N];
+        double *distinct = ck_malloc(2 * p * sizeof(double));
+        double *spread = ck_malloc(2 * p * sizeof(double));
+        unsigned char *mark = ck_malloc(N);
+        size_t i, j, l, bad_count = 0;
+        double worst = 0.0;
+        sl_stream s;
+        if (id == NULL || Z == NULL || distinct == NULL || spread == NULL || mark == NULL) {
+            CHECK(0, "memory");
+            return;
+        }
+        memset(&md, 0, sizeof md);
+        memset(&cfg, 0, sizeof cfg);
+        memset(&b, 0, sizeof b);
+        memset(&out, 0, sizeof out);
+        md.n_param = p;
+        cfg.model = &md;
+        cfg.N = N;
+        b.mark = mark;
+        out.distinct = distinct;
+        out.pspread = spread;
+        sl_stream_init(&s, 77u, (uint32_t)c, 0u, SL_PURPOSE_USER);
+        for (j = 0; j < N; j++) {
+            w[j] = j % 7 == 3 ? 0.0 : sl_stream_uniform(&s);
+            for (i = 0; i < p; i++) {
+                /* parameter i repeats its values in runs of i + 1 */
+                id[i + j * p] = (uint32_t)(j - j % (i + 1));
+                Z[i + j * p] = sin(0.37 * (double)id[i + j * p]) + (double)i;
+            }
+        }
+        sl_pfi_record_diversity(&cfg, &b, id, Z, w, &out, 1);
+        for (i = 0; i < p; i++) {
+            size_t count = 0;
+            long double W = 0, m = 0, v = 0, sd;
+            for (j = 0; j < N; j++) {
+                int seen = 0;
+                if (!(w[j] > 0))
+                    continue;
+                for (l = 0; l < j && !seen; l++)
+                    seen = w[l] > 0 && id[i + l * p] == id[i + j * p];
+                count += !seen;
+                W += w[j];
+                m += (long double)w[j] * Z[i + j * p];
+            }
+            m /= W;
+            for (j = 0; j < N; j++)
+                if (w[j] > 0)
+                    v += (long double)w[j] * (Z[i + j * p] - m) * (Z[i + j * p] - m);
+            sd = sqrtl(v / W);
+            bad_count += distinct[i + p] != (double)count;
+            if (fabs((double)((spread[i + p] - sd) / sd)) > worst)
+                worst = fabs((double)((spread[i + p] - sd) / sd));
+        }
+        CHECK(bad_count == 0, "%lu parameters: distinct values counted wrongly for %lu",
+              (unsigned long)p, (unsigned long)bad_count);
+        CHECK(worst < 1e-13, "%lu parameters: weighted sd within 1e-13 of the formula (%.3g)",
+              (unsigned long)p, worst);
+        ck_free(id);
+        ck_free(Z);
+        ck_free(distinct);
+        ck_free(spread);
+        ck_free(mark);
+    }
+}
+
 int main(void)
 {
     check_nonfinite();
+    check_diversity();
     check_resample_move();
     check_span();
     check_linear_block();
