@@ -61,6 +61,7 @@ static const double e1 = 71.0 / 57600, e3 = -71.0 / 16695, e4 = 71.0 / 1920,
 /* The stages of one attempt of size step from tc, on len = n * count
  * values in f's layout: k[0] holds f(tc, X) on entry; k[1] .. k[6] and yn
  * (the fifth-order solution) are filled, k[6] = f(tc + step, yn). */
+SL_CLONES
 static sl_status dopri5_stages(sl_block_rhs_fn f, void *ctx, size_t first, size_t count,
                                size_t len, double tc, double step, const double *X,
                                const double *P, const double *U, double *const *k,
@@ -353,6 +354,7 @@ static sl_status advance_piece(const sl_def_model *dm, double t, double h,
 /* Each member's sum of squared scaled errors of an attempt on a block of
  * g members in structure-of-arrays layout: its values in state order, as
  * dopri5 sums them for a block of one. */
+SL_CLONES
 static void soa_error(const sl_tolerance *tol, double step, size_t n, size_t g,
                       double *const *k, const double *restrict X, const double *restrict yn,
                       double *restrict e2)
