@@ -959,39 +959,34 @@ static int pit_counts(const double *w, const unsigned char *dead, size_t j)
     return w[j] > 0 && (dead == NULL || !dead[j]);
 }
 
-/* One row: the weighted mean of the members' mid-distribution values at y
- * (h[j*ldh] member j's prediction). Up to SL_PIT_MAX_MEMBERS members that
- * count, the exact weighted sum; above, the mean over SL_PIT_MAX_MEMBERS
- * picks by systematic selection (the k-th pick is the member whose
- * cumulative weight first exceeds (k + 1/2) W / M, in member order), each
- * member's cdf taken once and counted as often as it was picked. As an
- * estimate of the exact sum of values in [0, 1], M independent picks would
- * err by a standard deviation of at most 1/(2 sqrt M) = 0.016 (a
- * variance of at most 1/4 per pick); systematic picks are a stratified
- * sample, which does not do worse when the member order is unrelated to
- * the predictions (common practice, as for systematic resampling). */
-static double pit_row(const sl_family *f, double y, double sigma, double aux,
-                      const double *h, size_t ldh, size_t N, const double *w,
-                      const unsigned char *dead)
+/* Which members a row's PIT reads, and each one's factor (loglik.h):
+ * every member that counts with its weight, or, above SL_PIT_MAX_MEMBERS
+ * of them, the members picked by systematic selection (the k-th pick is
+ * the member whose cumulative weight first exceeds (k + 1/2) W / M, in
+ * member order) with how often each was picked. As an estimate of the
+ * exact sum of values in [0, 1], M independent picks would err by a
+ * standard deviation of at most 1/(2 sqrt M) = 0.016 (a variance of at
+ * most 1/4 per pick); systematic picks are a stratified sample, which
+ * does not do worse when the member order is unrelated to the predictions
+ * (common practice, as for systematic resampling). */
+size_t sl_loglik_pit_members(size_t N, const double *w, const unsigned char *dead, size_t *js,
+                             double *fs)
 {
     const size_t M = SL_PIT_MAX_MEMBERS;
-    double W = 0, sum = 0, used = 0;
-    size_t j, live = 0;
+    double W = 0;
+    size_t j, live = 0, e = 0;
     for (j = 0; j < N; j++)
         if (pit_counts(w, dead, j)) {
             W += w[j];
             live++;
         }
     if (!(W > 0))
-        return NOT_A_NUMBER;
+        return 0;
     if (live <= M) {
         for (j = 0; j < N; j++)
             if (pit_counts(w, dead, j)) {
-                const double v = f->cdf(y, h[j * ldh], sigma, aux);
-                if (!isnan(v)) {
-                    sum += w[j] * v;
-                    used += w[j];
-                }
+                js[e] = j;
+                fs[e++] = w[j];
             }
     } else {
         const double step = W / (double)M;
@@ -1008,24 +1003,76 @@ static double pit_row(const sl_family *f, double y, double sigma, double aux,
                 k++;
             }
             if (picks > 0) {
-                const double v = f->cdf(y, h[j * ldh], sigma, aux);
-                if (!isnan(v)) {
-                    sum += (double)picks * v;
-                    used += (double)picks;
-                }
+                js[e] = j;
+                fs[e++] = (double)picks;
             }
         }
         if (k < M && last < N) {
             /* rounding left the last targets beyond the summed weights:
              * they fall on the last member that counts */
-            const double v = f->cdf(y, h[last * ldh], sigma, aux);
-            if (!isnan(v)) {
-                sum += (double)(M - k) * v;
-                used += (double)(M - k);
-            }
+            js[e] = last;
+            fs[e++] = (double)(M - k);
+        }
+    }
+    return e;
+}
+
+/* One row from its members: the factor-weighted mean of their
+ * mid-distribution values at y (h[j*ldh] member j's prediction), each
+ * member's cdf taken once; a NaN cdf is left out with its factor. */
+static double pit_listed_row(const sl_family *f, double y, double sigma, double aux,
+                             const double *h, size_t ldh, size_t count, const size_t *js,
+                             const double *fs)
+{
+    double sum = 0, used = 0;
+    size_t e;
+    for (e = 0; e < count; e++) {
+        const double v = f->cdf(y, h[js[e] * ldh], sigma, aux);
+        if (!isnan(v)) {
+            sum += fs[e] * v;
+            used += fs[e];
         }
     }
     return used > 0 ? sum / used : NOT_A_NUMBER;
+}
+
+/* The rows' family ids, checked */
+static sl_status pit_families(size_t m, const int *family, sl_error *err)
+{
+    size_t i;
+    for (i = 0; i < m; i++)
+        if (family[i] < 0 || family[i] >= SL_FAMILY_COUNT)
+            return sl_fail(err, SL_EINVAL, "badfamily",
+                           "observation %lu: family id must be from 0 to %d, got %d",
+                           (unsigned long)(i + 1), SL_FAMILY_COUNT - 1, family[i]);
+    return SL_OK;
+}
+
+sl_status sl_loglik_pit_listed(size_t m, const double *y, const double *Yhat, size_t ldy,
+                               const double *sigma, const double *aux, const int *family,
+                               size_t count, const size_t *js, const double *fs, double *pit,
+                               sl_error *err)
+{
+    size_t i;
+    sl_status st;
+    if (m > 0 && (y == NULL || family == NULL || pit == NULL ||
+                  (count > 0 && (Yhat == NULL || js == NULL || fs == NULL))))
+        return sl_fail(err, SL_EINVAL, "badarg",
+                       "values, family ids, predictions, members and an output "
+                       "are required for %lu observations", (unsigned long)m);
+    if (count > 1 && ldy < m)
+        return sl_fail(err, SL_EINVAL, "badsize",
+                       "leading dimension of the predictions (%lu) is less than the number of observations (%lu)",
+                       (unsigned long)ldy, (unsigned long)m);
+    if ((st = pit_families(m, family, err)) != SL_OK)
+        return st;
+    for (i = 0; i < m; i++)
+        pit[i] = isnan(y[i]) ? NOT_A_NUMBER
+                             : pit_listed_row(&families[family[i]].type, y[i],
+                                              sigma != NULL ? sigma[i] : NOT_A_NUMBER,
+                                              aux != NULL ? aux[i] : NOT_A_NUMBER, Yhat + i,
+                                              ldy, count, js, fs);
+    return SL_OK;
 }
 
 sl_status sl_loglik_pit(size_t m, size_t N, const double *y, const double *Yhat,
@@ -1033,7 +1080,9 @@ sl_status sl_loglik_pit(size_t m, size_t N, const double *y, const double *Yhat,
                         const int *family, const double *w,
                         const unsigned char *dead, double *pit, sl_error *err)
 {
-    size_t i;
+    size_t i, count, js[SL_PIT_MAX_MEMBERS + 1];
+    double fs[SL_PIT_MAX_MEMBERS + 1];
+    sl_status st;
     if (m > 0 && (y == NULL || family == NULL || pit == NULL ||
                   (N > 0 && (Yhat == NULL || w == NULL))))
         return sl_fail(err, SL_EINVAL, "badarg",
@@ -1043,17 +1092,11 @@ sl_status sl_loglik_pit(size_t m, size_t N, const double *y, const double *Yhat,
         return sl_fail(err, SL_EINVAL, "badsize",
                        "leading dimension of the predictions (%lu) is less than the number of observations (%lu)",
                        (unsigned long)ldy, (unsigned long)m);
-    for (i = 0; i < m; i++)
-        if (family[i] < 0 || family[i] >= SL_FAMILY_COUNT)
-            return sl_fail(err, SL_EINVAL, "badfamily",
-                           "observation %lu: family id must be from 0 to %d, got %d",
-                           (unsigned long)(i + 1), SL_FAMILY_COUNT - 1, family[i]);
-    for (i = 0; i < m; i++)
-        pit[i] = isnan(y[i]) || N == 0
-                     ? NOT_A_NUMBER
-                     : pit_row(&families[family[i]].type, y[i],
-                               sigma != NULL ? sigma[i] : NOT_A_NUMBER,
-                               aux != NULL ? aux[i] : NOT_A_NUMBER, Yhat + i, ldy, N, w,
-                               dead);
-    return SL_OK;
+    if ((st = pit_families(m, family, err)) != SL_OK)
+        return st;
+    /* the members are the same for every row: chosen once */
+    for (i = 0; i < m && isnan(y[i]); i++)
+        ;
+    count = i < m ? sl_loglik_pit_members(N, w, dead, js, fs) : 0;
+    return sl_loglik_pit_listed(m, y, Yhat, ldy, sigma, aux, family, count, js, fs, pit, err);
 }

@@ -1198,20 +1198,23 @@ sl_status sl_pfi_predict_obs(const sl_pf_config *cfg, pf_buffers *b, size_t r0,
 
 /* The forecast PIT of cycle rows r0..r0+m-1 (out->pit, when recorded)
  * from their predictions in Yhat and the weights w the forecast carries:
- * each row a serial pass over the members by one thread (bit-identical
- * for any thread count), at most SL_PIT_MAX_MEMBERS cdf values per row. */
+ * the members every row reads chosen once (two passes over the weights),
+ * then each row a serial pass over at most SL_PIT_MAX_MEMBERS of them by
+ * one thread (bit-identical for any thread count). */
 void sl_pfi_record_pit(const sl_pf_config *cfg, const pf_buffers *b, size_t r0, size_t m,
                        const double *w, const unsigned char *dead, sl_pf_output *out)
 {
-    size_t i;
+    size_t i, count, js[SL_PIT_MAX_MEMBERS + 1];
+    double fs[SL_PIT_MAX_MEMBERS + 1];
     if (out->pit == NULL || m == 0)
         return;
+    count = sl_loglik_pit_members(cfg->N, w, dead, js, fs);
     /* the rows passed sl_pf_check: it cannot fail */
 #pragma omp parallel for num_threads(b->nt) schedule(static)
     for (i = 0; i < m; i++)
-        (void)sl_loglik_pit(1, cfg->N, cfg->y + r0 + i, b->Yhat + i, m, cfg->sigma + r0 + i,
-                            cfg->aux + r0 + i, cfg->family + r0 + i, w, dead,
-                            out->pit + r0 + i, NULL);
+        (void)sl_loglik_pit_listed(1, cfg->y + r0 + i, b->Yhat + i, m, cfg->sigma + r0 + i,
+                                   cfg->aux + r0 + i, cfg->family + r0 + i, count, js, fs,
+                                   out->pit + r0 + i, NULL);
 }
 
 void sl_pfi_loglik_into(const sl_pf_config *cfg, pf_buffers *b, size_t r0,

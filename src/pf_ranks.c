@@ -697,11 +697,10 @@ sl_status sl_pf_run_ranks(const sl_pf_config *cfg, const sl_pf_ranks *rk, double
                 if ((st = gather_members(rk, &rb, b->Yhat, rb.gYhat, m * sizeof(double),
                                          err)) != SL_OK)
                     return st;
-                for (i = 0; i < m; i++)
-                    (void)sl_loglik_pit(1, N, cfg->y + r0 + i, rb.gYhat + i, m,
-                                        cfg->sigma + r0 + i, cfg->aux + r0 + i,
-                                        cfg->family + r0 + i, w, rb.gdead, out->pit + r0 + i,
-                                        NULL);
+                /* all rows at once: the members they read chosen once */
+                (void)sl_loglik_pit(m, N, cfg->y + r0, rb.gYhat, m, cfg->sigma + r0,
+                                    cfg->aux + r0, cfg->family + r0, w, rb.gdead, out->pit + r0,
+                                    NULL);
             }
             if (out->nanpred != NULL)
                 out->nanpred[k] = sum[ST_NANPRED];

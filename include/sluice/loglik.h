@@ -122,6 +122,19 @@ sl_status sl_loglik_pit(size_t m, size_t N, const double *y, const double *Yhat,
                         const int *family, const double *w,
                         const unsigned char *dead, double *pit, sl_error *err);
 
+/* sl_loglik_pit in two parts, for rows shared out among threads: which
+ * members every row reads, chosen once from the weights (js[e] member,
+ * fs[e] its factor: its weight, or how often systematic selection picked
+ * it; js and fs hold SL_PIT_MAX_MEMBERS + 1 entries; returns their
+ * number, 0 when no member counts), then any rows from that list. The
+ * two give sl_loglik_pit's values to the last bit. */
+size_t sl_loglik_pit_members(size_t N, const double *w, const unsigned char *dead, size_t *js,
+                             double *fs);
+sl_status sl_loglik_pit_listed(size_t m, const double *y, const double *Yhat, size_t ldy,
+                               const double *sigma, const double *aux, const int *family,
+                               size_t count, const size_t *js, const double *fs, double *pit,
+                               sl_error *err);
+
 #ifdef __cplusplus
 }
 #endif

@@ -274,6 +274,81 @@ int main(void)
         ck_free(w);
     }
 
+    /* ---- several rows at once: the members chosen once serve them all.
+     * Against the definition written out here (the k-th pick is the
+     * member that counts whose cumulative weight first exceeds
+     * (k + 1/2) W / M; a NaN cdf leaves its picks out), and against one
+     * call per row, bit for bit; the two-part form gives the same bits */
+    {
+        enum { R = 4 };
+        const size_t N = 3 * SL_PIT_MAX_MEMBERS + 17, M = SL_PIT_MAX_MEMBERS;
+        double *h = (double *)ck_malloc(R * N * sizeof(double));
+        double *w = (double *)ck_malloc(N * sizeof(double));
+        double *fs = (double *)ck_malloc((M + 1) * sizeof(double));
+        size_t *js = (size_t *)ck_malloc((M + 1) * sizeof(size_t));
+        unsigned char *dead = (unsigned char *)ck_malloc(N);
+        const double y[R] = {0.2, 1.3, QNAN, -0.4}, s[R] = {0.5, 0.4, 0.5, 0.8},
+                     aux[R] = {QNAN, QNAN, QNAN, 3.5};
+        const int fam[R] = {SL_FAMILY_GAUSSIAN, SL_FAMILY_LOGNORMAL, SL_FAMILY_GAUSSIAN,
+                            SL_FAMILY_STUDENT_T};
+        double all[R], one[R], two[R], W = 0;
+        uint64_t x = 2463534242ull;
+        size_t r, count;
+        int same = 1;
+        for (j = 0; j < N; j++) {
+            for (r = 0; r < R; r++) {
+                x ^= x << 13;
+                x ^= x >> 7;
+                x ^= x << 17;
+                h[r + j * R] = 3.0 * ((double)(x >> 11) / 9007199254740992.0) - 1.0;
+            }
+            /* zeros, and heavy members that are picked several times */
+            w[j] = j % 5 == 0 ? 0.0 : (j % 97 == 3 ? 300.0 : 0.5 + (double)(j % 13));
+            dead[j] = (unsigned char)(j % 11 == 4);
+            if (!dead[j] && w[j] > 0)
+                W += w[j];
+        }
+        sl_loglik_pit(R, N, y, h, R, s, aux, fam, w, dead, all, &err);
+        for (r = 0; r < R; r++)
+            sl_loglik_pit(1, N, y + r, h + r, R, s + r, aux + r, fam + r, w, dead, one + r, &err);
+        count = sl_loglik_pit_members(N, w, dead, js, fs);
+        sl_loglik_pit_listed(R, y, h, R, s, aux, fam, count, js, fs, two, &err);
+        for (r = 0; r < R; r++) {
+            const sl_family *g = sl_family_get(fam[r]);
+            double c = 0, sum = 0, used = 0;
+            size_t k = 0;
+            same = same && memcmp(all + r, one + r, sizeof(double)) == 0 &&
+                   memcmp(all + r, two + r, sizeof(double)) == 0;
+            if (r == 2) {
+                CHECK(isnan(all[r]), "a missing value has no PIT");
+                continue;
+            }
+            for (j = 0; j < N; j++) {
+                if (dead[j] || !(w[j] > 0))
+                    continue;
+                c += w[j];
+                while (k < M && ((double)k + 0.5) * (W / (double)M) < c) {
+                    const double v = g->cdf(y[r], h[r + j * R], s[r], aux[r]);
+                    if (!isnan(v)) {
+                        sum += v;
+                        used += 1.0;
+                    }
+                    k++;
+                }
+            }
+            CHECK(k == M, "row %lu: every pick made (%lu)", (unsigned long)r, (unsigned long)k);
+            CHECK_CLOSE(all[r], sum / used, 1e-13, "several rows: the definition's picks");
+        }
+        CHECK(same, "several rows at once, one row a call and the two-part form agree bit "
+                    "for bit");
+        CHECK(count > 0 && count <= M + 1, "the members' list has %lu entries", (unsigned long)count);
+        ck_free(h);
+        ck_free(w);
+        ck_free(fs);
+        ck_free(js);
+        ck_free(dead);
+    }
+
     /* ---- argument checks ---- */
     {
         const double y = 1, h = 1, s = 1, w = 1;
