@@ -144,6 +144,15 @@
 %! r = sluice.filter (spec, pr, o2, 'members', 20, 'seed', 4, 't0', 0, 'operators', ops, ...
 %!                    'resample_threshold', 0);
 %! assert (r.nanpredicted, [3 0 3]);
+%! % members whose state blew up (their predictions NaN too) are counted
+%! % in res.nonfinite, not again in res.nanpredicted
+%! f = @(t, X, P, U, dt) [0.8 * X(:, 1:4), X(:, 5:6) * NaN, 0.8 * X(:, 7:end)];
+%! warning ('off', 'sluice:filter:nonfinite', 'local');
+%! warning ('off', 'sluice:filter:nanprediction', 'local');
+%! r = sluice.filter (sluice.model (f, 'states', {'x'}), pr, o, 'members', 20, 'seed', 4, ...
+%!                    't0', 0, 'operators', ops, 'resample_threshold', 0);
+%! assert (r.nonfinite, [2 2 2]);
+%! assert (r.nanpredicted, [3 3 3]);
 %! ops = struct ('names', 'h', 'fun', @(t, X, P) NaN (1, columns (X)));
 %! warning ('off', 'sluice:filter:degenerate', 'local');
 %! warning ('off', 'sluice:filter:nanprediction', 'local');
