@@ -90,14 +90,16 @@ static sl_status dopri5_stages(sl_block_rhs_fn f, void *ctx, size_t first, size_
     return f(ctx, tc + step, first, count, yn, P, U, k7, err);
 }
 
-/* The scaled error of value i of an attempt (its square is summed) */
-static inline double dopri5_ratio(const sl_tolerance *tol, double step, double *const *k,
-                                  const double *X, const double *yn, size_t i)
+/* The scaled error of one value of an attempt (its square is summed):
+ * its stages k1, k3 .. k7, its value x before and y after. fmax(ax, ay)
+ * is written as a select, which gcc vectorises (the same value). */
+static inline double dopri5_ratio(double step, double atol, double rtol, double k1, double k3,
+                                  double k4, double k5, double k6, double k7, double x,
+                                  double y)
 {
-    double ei = step * (e1 * k[0][i] + e3 * k[2][i] + e4 * k[3][i] + e5 * k[4][i] +
-                        e6 * k[5][i] + e7 * k[6][i]);
-    double sc = tol->atol + tol->rtol * fmax(fabs(X[i]), fabs(yn[i]));
-    return ei / sc;
+    const double ei = step * (e1 * k1 + e3 * k3 + e4 * k4 + e5 * k5 + e6 * k6 + e7 * k7);
+    const double ax = fabs(x), ay = fabs(y);
+    return ei / (atol + rtol * (ay > ax ? ay : (ax == ax ? ax : ay)));
 }
 
 /* The next step from an attempt's error norm e2 (accepted when <= 1) */
@@ -160,7 +162,8 @@ static sl_status dopri5_from(sl_block_rhs_fn f, void *ctx, size_t n, size_t firs
             return st;
         if (nrhs) (*nrhs) += 6;
         for (i = 0; i < len; i++) {
-            double r = dopri5_ratio(tol, step, k, X, yn, i);
+            double r = dopri5_ratio(step, tol->atol, tol->rtol, k[0][i], k[2][i], k[3][i],
+                                    k[4][i], k[5][i], k[6][i], X[i], yn[i]);
             e2 += r * r;
         }
         e2 = sqrt(e2 / (double)len);
@@ -369,12 +372,8 @@ static void soa_error(const sl_tolerance *tol, double step, size_t n, size_t g,
                                *restrict k6 = k[5] + i * g, *restrict k7 = k[6] + i * g,
                                *restrict x = X + i * g, *restrict y = yn + i * g;
         for (a = 0; a < g; a++) {
-            double ei = step * (e1 * k1[a] + e3 * k3[a] + e4 * k4[a] + e5 * k5[a] +
-                                e6 * k6[a] + e7 * k7[a]);
-            /* fmax(ax, ay) as a select, which gcc vectorises */
-            const double ax = fabs(x[a]), ay = fabs(y[a]);
-            double sc = atol + rtol * (ay > ax ? ay : (ax == ax ? ax : ay));
-            double r = ei / sc;
+            const double r = dopri5_ratio(step, atol, rtol, k1[a], k3[a], k4[a], k5[a], k6[a],
+                                          k7[a], x[a], y[a]);
             e2[a] += r * r;
         }
     }

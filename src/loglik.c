@@ -1082,7 +1082,6 @@ sl_status sl_loglik_pit(size_t m, size_t N, const double *y, const double *Yhat,
 {
     size_t i, count, js[SL_PIT_MAX_MEMBERS + 1];
     double fs[SL_PIT_MAX_MEMBERS + 1];
-    sl_status st;
     if (m > 0 && (y == NULL || family == NULL || pit == NULL ||
                   (N > 0 && (Yhat == NULL || w == NULL))))
         return sl_fail(err, SL_EINVAL, "badarg",
@@ -1092,9 +1091,8 @@ sl_status sl_loglik_pit(size_t m, size_t N, const double *y, const double *Yhat,
         return sl_fail(err, SL_EINVAL, "badsize",
                        "leading dimension of the predictions (%lu) is less than the number of observations (%lu)",
                        (unsigned long)ldy, (unsigned long)m);
-    if ((st = pit_families(m, family, err)) != SL_OK)
-        return st;
-    /* the members are the same for every row: chosen once */
+    /* the members are the same for every row: chosen once (the listed
+     * rows check the family ids) */
     for (i = 0; i < m && isnan(y[i]); i++)
         ;
     count = i < m ? sl_loglik_pit_members(N, w, dead, js, fs) : 0;
