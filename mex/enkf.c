@@ -1,9 +1,11 @@
 /* enkf.c - gateway: [Xa, floored, skipped, dof] = sluice.kernel.enkf(Xf, HXf,
- * y, R, cfg): one ensemble Kalman analysis. cfg is the struct sluice.enkf
- * prepares. bytes = sluice.kernel.enkf('workspace', method, n, N, m,
- * threads): the workspace the analysis of n rows, N members and m
- * observations (diagonal R) takes, Inf if the size overflows; memory
- * guards ask it before a run. */
+ * y, R, options...): one ensemble Kalman analysis, the options those of
+ * sluice.enkf (name/value pairs or one struct), decoded here so that a
+ * call inside a user's cycling loop costs no interpreted checks.
+ * bytes = sluice.kernel.enkf('workspace', method, n, N, m, threads): the
+ * workspace the analysis of n rows, N members and m observations
+ * (diagonal R) takes, Inf if the size overflows; memory guards ask it
+ * before a run. */
 #include <math.h>
 #include <string.h>
 
@@ -12,18 +14,210 @@
 
 static const char *FN = "enkf";
 
-static double fnum(const mxArray *c, const char *name)
+enum {
+    O_METHOD, O_INFLATION, O_RTPP, O_RTPS, O_SEED, O_CYCLE, O_THREADS, O_LOCALIZATION,
+    O_EIG_FLOOR, O_ETKF_FORM, N_OPTIONS
+};
+static const char *const OPTION[N_OPTIONS] = {
+    "method", "inflation", "rtpp", "rtps", "seed", "cycle", "threads", "localization",
+    "eig_floor", "etkf_form"};
+
+/* The options given: each one's value (NULL: the default) and the
+ * argument it came in (for messages). */
+typedef struct {
+    const mxArray *v[N_OPTIONS];
+    int pos[N_OPTIONS];
+} options;
+
+static int option_index(const char *name)
 {
-    return slm_scalar(FN, slm_field(FN, c, name, 1), 5, name);
+    int k;
+    for (k = 0; k < N_OPTIONS; k++)
+        if (strcmp(name, OPTION[k]) == 0)
+            return k;
+    return -1;
+}
+
+static int is_name(const mxArray *a)
+{
+    return mxIsChar(a) && mxGetNumberOfDimensions(a) == 2 && mxGetM(a) == 1;
+}
+
+/* The count arguments from first (the 1-based position of args[0]):
+ * name/value pairs or one scalar struct; a later value of a name wins.
+ * Names are all checked to be strings before any is looked up. */
+static void gather_options(int count, const mxArray *const *args, int first, options *o)
+{
+    int i, k;
+    memset(o, 0, sizeof *o);
+    if (count == 1 && mxIsStruct(args[0]) && mxGetNumberOfElements(args[0]) == 1) {
+        const int nf = mxGetNumberOfFields(args[0]);
+        for (i = 0; i < nf; i++) {
+            const char *name = mxGetFieldNameByNumber(args[0], i);
+            if ((k = option_index(name)) < 0)
+                slm_fail(FN, "badoption", "unknown option '%s'", name);
+            o->v[k] = mxGetFieldByNumber(args[0], 0, i);
+            o->pos[k] = first;
+        }
+        return;
+    }
+    if (count % 2 != 0)
+        slm_fail(FN, "badoption", "options must be a struct or name, value pairs");
+    for (i = 0; i < count; i += 2)
+        if (!is_name(args[i]))
+            slm_fail(FN, "badoption", "option names must be strings");
+    for (i = 0; i < count; i += 2) {
+        char *name = slm_string(FN, args[i], first + i, "option name");
+        if ((k = option_index(name)) < 0)
+            slm_fail(FN, "badoption", "unknown option '%s'", name);
+        mxFree(name);
+        o->v[k] = args[i + 1];
+        o->pos[k] = first + i + 1;
+    }
+}
+
+/* A real finite double scalar option. */
+static double option_number(const options *o, int k, double dflt)
+{
+    const mxArray *a = o->v[k];
+    if (a == NULL)
+        return dflt;
+    if (!mxIsDouble(a) || mxIsComplex(a) || mxIsSparse(a) || mxGetNumberOfElements(a) != 1 ||
+        !isfinite(slm_doubles(a)[0]))
+        slm_fail(FN, "badoption", "%s must be a finite real scalar", OPTION[k]);
+    return slm_doubles(a)[0];
+}
+
+/* The same, a whole number in [lo, hi]. */
+static double option_whole(const options *o, int k, double lo, double hi)
+{
+    double v = option_number(o, k, 0.0);
+    if (o->v[k] != NULL)
+        v = slm_integer(FN, o->v[k], o->pos[k], OPTION[k], lo, hi);
+    return v;
+}
+
+/* The field of the localization struct L, or NULL. */
+static const mxArray *loc_field(const mxArray *L, const char *name)
+{
+    return mxGetFieldNumber(L, name) >= 0 ? mxGetField(L, 0, name) : NULL;
+}
+
+/* The option localization into loc for m observations; 0 when it is
+ * empty (no localisation). */
+static int decode_localization(const options *o, size_t n, size_t m, sl_localization *loc)
+{
+    const mxArray *L = o->v[O_LOCALIZATION], *g, *per, *sph, *r, *pf;
+    const int pos = o->pos[O_LOCALIZATION];
+    char *gname;
+    double *c;
+    size_t k;
+    int gk;
+    if (L == NULL || mxIsEmpty(L))
+        return 0;
+    if (!mxIsStruct(L) || mxGetNumberOfElements(L) != 1 || loc_field(L, "state_pos") == NULL ||
+        loc_field(L, "obs_pos") == NULL || loc_field(L, "radius") == NULL)
+        slm_fail(FN, "badlocalization", "localization needs fields state_pos, obs_pos and radius");
+    memset(loc, 0, sizeof *loc);
+    gk = SL_GEOM_LINE;
+    if ((g = loc_field(L, "geometry")) != NULL) {
+        if (!is_name(g) || mxIsEmpty(g))
+            slm_fail(FN, "badlocalization", "localization: geometry must be a name");
+        gname = slm_string(FN, g, pos, "geometry");
+        if ((gk = sl_geometry_find(gname)) < 0)
+            slm_fail(FN, "badlocalization", "unknown geometry '%s'", gname);
+        mxFree(gname);
+    }
+    loc->geometry = gk;
+    loc->dim = gk >= SL_GEOM_PLANE ? 2 : 1;
+    /* a period (ring) or a sphere's radius (sphere: 6371 when 0 or absent) */
+    per = loc_field(L, "period");
+    sph = loc_field(L, "sphere_radius");
+    if (sph != NULL)
+        loc->period_or_radius = slm_scalar(FN, sph, pos, "sphere_radius");
+    else if (per != NULL)
+        loc->period_or_radius = slm_scalar(FN, per, pos, "period");
+    if (gk == SL_GEOM_SPHERE && loc->period_or_radius == 0)
+        loc->period_or_radius = 6371;
+    loc->state_pos = slm_matrix(FN, loc_field(L, "state_pos"), pos, "state_pos", n, loc->dim,
+                                SLM_ALLOW_NAN);
+    loc->obs_pos = slm_matrix(FN, loc_field(L, "obs_pos"), pos, "obs_pos", m, loc->dim, 0);
+    r = loc_field(L, "radius");
+    if (mxGetNumberOfElements(r) == 1 && m > 1) {
+        /* one half-width for every observation */
+        const double v = slm_scalar(FN, r, pos, "radius");
+        c = slm_alloc(FN, m, sizeof *c);
+        for (k = 0; k < m; k++)
+            c[k] = v;
+        loc->obs_c = c;
+    } else {
+        loc->obs_c = slm_matrix(FN, r, pos, "radius", m, 0, SLM_VECTOR);
+    }
+    loc->param_factor = 1.0;
+    if ((pf = loc_field(L, "param_factor")) != NULL)
+        loc->param_factor = slm_scalar(FN, pf, pos, "param_factor");
+    for (k = 0; k < m; k++)
+        if (!(loc->obs_c[k] > 0))
+            slm_fail(FN, "badlocalization", "observation %lu: the radius must be > 0",
+                     (unsigned long)(k + 1));
+    return 1;
+}
+
+/* The options but the localization into cfg, checked in this order: the
+ * form, the method, the numbers (the localization follows once the
+ * arrays give its sizes). */
+static void decode_options(const options *o, sl_enkf_config *cfg)
+{
+    static const char *const FORMS[] = {"auto", "ensemble", "observation"};
+    const mxArray *a;
+    char *name;
+    int k;
+    memset(cfg, 0, sizeof *cfg);
+    cfg->etkf_form = SL_ETKF_AUTO;
+    if ((a = o->v[O_ETKF_FORM]) != NULL) {
+        int found = -1;
+        if (is_name(a)) {
+            name = slm_string(FN, a, o->pos[O_ETKF_FORM], "etkf_form");
+            for (k = 0; k < 3; k++)
+                if (strcmp(name, FORMS[k]) == 0)
+                    found = k;
+            mxFree(name);
+        }
+        if (found < 0)
+            slm_fail(FN, "badoption",
+                     "etkf_form must be 'auto', 'ensemble' or 'observation'");
+        cfg->etkf_form = found;
+    }
+    cfg->method = SL_ENKF_ETKF;
+    if ((a = o->v[O_METHOD]) != NULL) {
+        if (!mxIsChar(a))
+            slm_fail(FN, "badmethod", "method must be a name");
+        name = slm_string(FN, a, o->pos[O_METHOD], "method");
+        cfg->method = sl_enkf_method_find(name);
+        if (cfg->method < 0)
+            slm_fail(FN, "badmethod", "unknown method '%s' (enkf, etkf, ensrf, eakf, letkf)",
+                     name);
+        mxFree(name);
+    }
+    cfg->inflation = option_number(o, O_INFLATION, 1.0);
+    cfg->rtpp = option_number(o, O_RTPP, 0.0);
+    cfg->rtps = option_number(o, O_RTPS, 0.0);
+    (void)option_number(o, O_SEED, 0.0);
+    (void)option_number(o, O_CYCLE, 0.0);
+    (void)option_number(o, O_THREADS, 0.0);
+    cfg->eig_floor = option_number(o, O_EIG_FLOOR, 0.0);
+    cfg->seed = (uint64_t)option_whole(o, O_SEED, 0, 9007199254740992.0);
+    cfg->cycle = (uint32_t)option_whole(o, O_CYCLE, 0, 4294967295.0);
+    cfg->threads = slm_threads(option_whole(o, O_THREADS, 0, 256));
 }
 
 void mexFunction(int nlhs, mxArray *plhs[], int nrhs, const mxArray *prhs[])
 {
     const double *Xf, *HX, *y, *R;
-    const mxArray *c, *g;
-    size_t n, N, m, k, bytes;
+    size_t n, N, m, bytes;
     int r_full;
     char *method;
+    options opt;
     sl_enkf_config cfg;
     sl_localization loc;
     sl_enkf_info info;
@@ -51,7 +245,10 @@ void mexFunction(int nlhs, mxArray *plhs[], int nrhs, const mxArray *prhs[])
         plhs[0] = mxCreateDoubleScalar(bytes > 0 ? (double)bytes : HUGE_VAL);
         return;
     }
-    slm_nargs(FN, nrhs, 5, 5, nlhs, 4);
+    slm_nargs(FN, nrhs, 4, nrhs > 4 ? nrhs : 4, nlhs, 4);
+    /* the options first: their errors come before the arrays' */
+    gather_options(nrhs - 4, prhs + 4, 5, &opt);
+    decode_options(&opt, &cfg);
     Xf = slm_matrix(FN, prhs[0], 1, "Xf", 0, 0, 0);
     n = mxGetM(prhs[0]);
     N = mxGetN(prhs[0]);
@@ -68,46 +265,8 @@ void mexFunction(int nlhs, mxArray *plhs[], int nrhs, const mxArray *prhs[])
         R = slm_matrix(FN, prhs[3], 4, "R", m, m, 0);
         r_full = m > 1;
     }
-    c = prhs[4];
-    if (!mxIsStruct(c) || mxGetNumberOfElements(c) != 1)
-        slm_fail(FN, "badclass", "argument 5 (options): expected a scalar struct");
-    memset(&cfg, 0, sizeof cfg);
-    method = slm_string(FN, slm_field(FN, c, "method", 1), 5, "method");
-    cfg.method = sl_enkf_method_find(method);
-    if (cfg.method < 0)
-        slm_fail(FN, "badmethod", "unknown method '%s' (enkf, etkf, ensrf, eakf, letkf)", method);
-    cfg.inflation = fnum(c, "inflation");
-    cfg.rtpp = fnum(c, "rtpp");
-    cfg.rtps = fnum(c, "rtps");
-    cfg.seed = (uint64_t)slm_integer(FN, slm_field(FN, c, "seed", 1), 5, "seed", 0, 9007199254740992.0);
-    cfg.cycle = (uint32_t)slm_integer(FN, slm_field(FN, c, "cycle", 1), 5, "cycle", 0, 4294967295.0);
-    cfg.threads = slm_threads(slm_integer(FN, slm_field(FN, c, "threads", 1), 5, "threads", 0, 256));
-    cfg.eig_floor = fnum(c, "eig_floor");
-    g = slm_field(FN, c, "etkf_form", 0);
-    if (g != NULL)
-        cfg.etkf_form = (int)slm_integer(FN, g, 5, "etkf_form", SL_ETKF_AUTO,
-                                         SL_ETKF_OBSERVATION);
-    g = slm_field(FN, c, "geometry", 0);
-    if (g != NULL && mxGetNumberOfElements(g) > 0) {
-        char *gname = slm_string(FN, g, 5, "geometry");
-        int gk = sl_geometry_find(gname);
-        memset(&loc, 0, sizeof loc);
-        if (gk < 0)
-            slm_fail(FN, "badlocalization", "unknown geometry '%s'", gname);
-        loc.geometry = gk;
-        loc.dim = gk >= SL_GEOM_PLANE ? 2 : 1;
-        loc.period_or_radius = fnum(c, "period_or_radius");
-        loc.state_pos = slm_matrix(FN, slm_field(FN, c, "state_pos", 1), 5, "state_pos", n,
-                                   loc.dim, SLM_ALLOW_NAN);
-        loc.obs_pos = slm_matrix(FN, slm_field(FN, c, "obs_pos", 1), 5, "obs_pos", m, loc.dim, 0);
-        loc.obs_c = slm_matrix(FN, slm_field(FN, c, "obs_c", 1), 5, "obs_c", m, 0, SLM_VECTOR);
-        loc.param_factor = fnum(c, "param_factor");
-        for (k = 0; k < m; k++)
-            if (!(loc.obs_c[k] > 0))
-                slm_fail(FN, "badlocalization", "observation %lu: the radius must be > 0",
-                         (unsigned long)(k + 1));
+    if (decode_localization(&opt, n, m, &loc))
         cfg.loc = &loc;
-    }
     bytes = sl_enkf_workspace(&cfg, n, N, m, r_full);
     if (bytes == 0)
         slm_fail(FN, "nomemory", "the analysis workspace size overflows");

@@ -39,58 +39,11 @@ function [Xa, info] = enkf (Xf, HXf, y, R, varargin)
   if (nargin < 4)
     sluice.internal.compat ('usage', mfilename ());
   end
-  opts = struct ('method', 'etkf', 'inflation', 1, 'rtpp', 0, 'rtps', 0, ...
-                 'seed', 0, 'cycle', 0, 'threads', 0, 'localization', [], ...
-                 'eig_floor', 0, 'etkf_form', 'auto');
-  opts = sluice.internal.name_value (opts, varargin, 'enkf');
-  form = [];
-  if (ischar (opts.etkf_form))
-    form = find (strcmp (opts.etkf_form, {'auto', 'ensemble', 'observation'})) - 1;
-  end
-  if (isempty (form))
-    error ('sluice:enkf:badoption', ...
-           'etkf_form must be ''auto'', ''ensemble'' or ''observation''');
-  end
-  if (~ischar (opts.method))
-    error ('sluice:enkf:badmethod', 'method must be a name');
-  end
-  c = struct ('method', opts.method, 'inflation', num (opts.inflation, 'inflation'), ...
-              'rtpp', num (opts.rtpp, 'rtpp'), 'rtps', num (opts.rtps, 'rtps'), ...
-              'seed', num (opts.seed, 'seed'), 'cycle', num (opts.cycle, 'cycle'), ...
-              'threads', num (opts.threads, 'threads'), ...
-              'eig_floor', num (opts.eig_floor, 'eig_floor'), 'etkf_form', form);
-  L = opts.localization;
-  if (~isempty (L))
-    if (~isstruct (L) || ~isscalar (L) || ~isfield (L, 'state_pos') || ...
-        ~isfield (L, 'obs_pos') || ~isfield (L, 'radius'))
-      error ('sluice:enkf:badlocalization', ...
-             'localization needs fields state_pos, obs_pos and radius');
-    end
-    c.geometry = 'line';
-    if (isfield (L, 'geometry')), c.geometry = L.geometry; end
-    c.period_or_radius = 0;
-    if (isfield (L, 'period')), c.period_or_radius = L.period; end
-    if (isfield (L, 'sphere_radius')), c.period_or_radius = L.sphere_radius; end
-    if (strcmp (c.geometry, 'sphere') && c.period_or_radius == 0)
-      c.period_or_radius = 6371;
-    end
-    c.state_pos = L.state_pos;
-    c.obs_pos = L.obs_pos;
-    r = L.radius;
-    if (isscalar (r))
-      r = repmat (r, size (HXf, 1), 1);
-    end
-    c.obs_c = r;
-    c.param_factor = 1;
-    if (isfield (L, 'param_factor')), c.param_factor = L.param_factor; end
-  end
-  [Xa, fl, sk, dof] = sluice.kernel.enkf (Xf, HXf, y, R, c);
-  info = struct ('floored', fl, 'local_skipped', sk, 'innovation', dof);
-end
-
-function v = num (v, what)
-  if (~isa (v, 'double') || ~isreal (v) || ~isscalar (v) || ~isfinite (v))
-    error ('sluice:enkf:badoption', '%s must be a finite real scalar', what);
+  % the options are decoded and checked by the gateway: an analysis is
+  % often called once a cycle inside the user's own loop
+  [Xa, fl, sk, dof] = sluice.kernel.enkf (Xf, HXf, y, R, varargin{:});
+  if (nargout > 1)
+    info = struct ('floored', fl, 'local_skipped', sk, 'innovation', dof);
   end
 end
 

@@ -78,3 +78,56 @@
 %!error id=sluice:enkf:badmethod sluice.enkf (randn (3, 5), randn (2, 5), [1; 1], [1 1], 'method', 'magic')
 %!error id=sluice:enkf:badlocalization sluice.enkf (randn (3, 5), randn (1, 5), 1, 1, 'method', 'letkf', 'localization', struct ('geometry', 'line', 'state_pos', (1:3)', 'obs_pos', 1, 'radius', -1))
 %!error id=sluice:enkf:badoption sluice.enkf (randn (3, 5), randn (1, 5), 1, 1, 'inflation', NaN)
+
+%!test
+%! % the options reach the analysis alike in every documented spelling:
+%! % name/value pairs or one struct (a later pair wins, as for every
+%! % function of the package), one half-width for all observations or one
+%! % each, a sphere's default radius of 6371 or the same radius given
+%! randn ('state', 9);
+%! X = randn (6, 10);
+%! HX = X([1 4], :);
+%! y = [0.4; -0.2];
+%! r = [0.5; 0.3];
+%! a = sluice.enkf (X, HX, y, r, 'method', 'enkf', 'seed', 4, 'cycle', 2, 'inflation', 1.1);
+%! b = sluice.enkf (X, HX, y, r, struct ('method', 'enkf', 'seed', 4, 'cycle', 2, ...
+%!                                       'inflation', 1.1));
+%! c = sluice.enkf (X, HX, y, r, 'method', 'etkf', 'seed', 4, 'cycle', 2, 'inflation', 1.1, ...
+%!                  'method', 'enkf');
+%! assert (isequal (a, b) && isequal (a, c));
+%! loc = struct ('geometry', 'line', 'state_pos', (1:6)', 'obs_pos', [1; 4], 'radius', 2);
+%! d = sluice.enkf (X, HX, y, r, 'method', 'letkf', 'localization', loc);
+%! loc.radius = [2; 2];
+%! e = sluice.enkf (X, HX, y, r, 'method', 'letkf', 'localization', loc);
+%! assert (isequal (d, e));
+%! s = struct ('geometry', 'sphere', 'state_pos', [(0:5)' * 10, zeros(6, 1)], ...
+%!             'obs_pos', [0 0; 30 0], 'radius', 3000);
+%! f = sluice.enkf (X, HX, y, r, 'method', 'letkf', 'localization', s);
+%! s.sphere_radius = 6371;
+%! g = sluice.enkf (X, HX, y, r, 'method', 'letkf', 'localization', s);
+%! assert (isequal (f, g));
+%! s.sphere_radius = 637.1;   % a smaller globe: the same angles are nearer
+%! assert (~isequal (sluice.enkf (X, HX, y, r, 'method', 'letkf', 'localization', s), f));
+%! [~, info] = sluice.enkf (X, HX, y, r);
+%! assert (fieldnames (info), {'floored'; 'local_skipped'; 'innovation'});
+
+%!error id=sluice:enkf:badoption sluice.enkf (randn (3, 5), randn (1, 5), 1, 1, 'inflation')
+%!error id=sluice:enkf:badoption sluice.enkf (randn (3, 5), randn (1, 5), 1, 1, 3, 1)
+%!error id=sluice:enkf:badoption sluice.enkf (randn (3, 5), randn (1, 5), 1, 1, 'inflate', 1.1)
+%!error id=sluice:enkf:badoption sluice.enkf (randn (3, 5), randn (1, 5), 1, 1, struct ('rtps', {0.1, 0.2}))
+%!error id=sluice:enkf:badoption sluice.enkf (randn (3, 5), randn (1, 5), 1, 1, struct ('rtps', 0.1, 'bogus', 1))
+%!error id=sluice:enkf:badoption sluice.enkf (randn (3, 5), randn (1, 5), 1, 1, 'inflation', '1.1')
+%!error id=sluice:enkf:badoption sluice.enkf (randn (3, 5), randn (1, 5), 1, 1, 'rtpp', [0.1 0.2])
+%!error id=sluice:enkf:badoption sluice.enkf (randn (3, 5), randn (1, 5), 1, 1, 'eig_floor', sparse (1e-9))
+%!error id=sluice:enkf:badoption sluice.enkf (randn (3, 5), randn (1, 5), 1, 1, 'etkf_form', 'nope')
+%!error id=sluice:enkf:badmethod sluice.enkf (randn (3, 5), randn (1, 5), 1, 1, 'method', 3)
+%!error id=sluice:enkf:badvalue sluice.enkf (randn (3, 5), randn (1, 5), 1, 1, 'seed', 1.5)
+%!error id=sluice:enkf:badvalue sluice.enkf (randn (3, 5), randn (1, 5), 1, 1, 'threads', 300)
+%!error id=sluice:enkf:badvalue sluice.enkf (randn (3, 5), randn (1, 5), 1, 1, 'cycle', -1)
+%!error id=sluice:enkf:badlocalization sluice.enkf (randn (3, 5), randn (1, 5), 1, 1, 'method', 'letkf', 'localization', 4)
+%!error id=sluice:enkf:badlocalization sluice.enkf (randn (3, 5), randn (1, 5), 1, 1, 'method', 'letkf', 'localization', struct ('state_pos', (1:3)', 'obs_pos', 1))
+%!error id=sluice:enkf:badlocalization sluice.enkf (randn (3, 5), randn (1, 5), 1, 1, 'method', 'letkf', 'localization', struct ('geometry', 'cube', 'state_pos', (1:3)', 'obs_pos', 1, 'radius', 1))
+%!error id=sluice:enkf:badlocalization sluice.enkf (randn (3, 5), randn (1, 5), 1, 1, 'method', 'letkf', 'localization', struct ('geometry', '', 'state_pos', (1:3)', 'obs_pos', 1, 'radius', 1))
+%!error id=sluice:enkf:badsize sluice.enkf (randn (3, 5), randn (2, 5), [1; 1], [1 1], 'method', 'letkf', 'localization', struct ('state_pos', (1:3)', 'obs_pos', [1; 2], 'radius', [1; 1; 1]))
+%!error id=sluice:enkf:badsize sluice.enkf (randn (3, 5), randn (1, 5), 1, 1, 'method', 'letkf', 'localization', struct ('state_pos', (1:2)', 'obs_pos', 1, 'radius', 1))
+%!error id=sluice:enkf:nonfinite sluice.enkf (randn (3, 5), randn (1, 5), 1, 1, 'method', 'letkf', 'localization', struct ('geometry', 'ring', 'period', Inf, 'state_pos', (1:3)', 'obs_pos', 1, 'radius', 1))
