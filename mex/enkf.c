@@ -209,6 +209,8 @@ static void decode_options(const options *o, sl_enkf_config *cfg)
     cfg->seed = (uint64_t)option_whole(o, O_SEED, 0, 9007199254740992.0);
     cfg->cycle = (uint32_t)option_whole(o, O_CYCLE, 0, 4294967295.0);
     cfg->threads = slm_threads(option_whole(o, O_THREADS, 0, 256));
+    /* 0 or absent: the cores, when the work gains from them */
+    cfg->threads_auto = o->v[O_THREADS] == NULL || slm_doubles(o->v[O_THREADS])[0] == 0;
 }
 
 void mexFunction(int nlhs, mxArray *plhs[], int nrhs, const mxArray *prhs[])

@@ -17,6 +17,11 @@ sl_status sl_letkf_run(const sl_enkf_config *cfg, size_t n, size_t N,
                        const double *y, const double *rdiag, void *work,
                        sl_enkf_info *info, sl_error *err);
 
+/* The threads the LETKF analyses `groups` grid points of N members on:
+ * cfg->threads, at most one a point, and one when cfg->threads_auto is
+ * set and the work (groups N^3) is below SL_LETKF_THREAD_WORK. */
+size_t sl_letkf_threads(const sl_enkf_config *cfg, size_t groups, size_t N);
+
 /* A distributed analysis (sl_enkf_config.ranks): every rank's part of
  * the gather starts with SL_ENKFI_HEAD doubles (a code, then what the
  * method tallies) before its rows. */

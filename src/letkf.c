@@ -134,6 +134,17 @@ static int ranks_of(const sl_enkf_config *cfg)
     return cfg != NULL && sl_enkfi_split(cfg) ? cfg->ranks->size : 1;
 }
 
+size_t sl_letkf_threads(const sl_enkf_config *cfg, size_t groups, size_t N)
+{
+    const double work = (double)groups * (double)N * (double)N * (double)N;
+    size_t nthr = cfg->threads > 0 ? (size_t)cfg->threads : 1;
+    if (cfg->threads_auto && work < SL_LETKF_THREAD_WORK)
+        nthr = 1;
+    if (nthr > groups)
+        nthr = groups > 0 ? groups : 1;
+    return nthr;
+}
+
 size_t sl_letkf_workspace(const sl_enkf_config *cfg, size_t n, size_t N,
                           size_t m)
 {
@@ -1156,8 +1167,7 @@ sl_status sl_letkf_run(const sl_enkf_config *cfg, size_t n, size_t N,
         G0 = sl_enkfi_first(ngroup, cfg->ranks->size, cfg->ranks->rank);
         G1 = sl_enkfi_first(ngroup, cfg->ranks->size, cfg->ranks->rank + 1);
     }
-    if (nthr > G1 - G0)
-        nthr = G1 - G0 > 0 ? G1 - G0 : 1;
+    nthr = sl_letkf_threads(cfg, G1 - G0, N);
 
     /* every group reads the shared buffers and writes only its own rows
      * of X, so the result is the same whichever thread (or rank) takes

@@ -59,6 +59,10 @@ typedef struct {
     uint64_t seed;     /* perturbed observations: stream (seed, member, */
     uint32_t cycle;    /* cycle, SL_PURPOSE_ANALYSIS) */
     int threads;       /* >= 1 */
+    int threads_auto;  /* 1: threads is the most the LETKF may use, and it
+                        * uses one when its local analyses are too little
+                        * work to gain from more (SL_LETKF_THREAD_WORK);
+                        * 0: it uses threads (at most one a grid point) */
     double eig_floor;  /* relative floor on eigenvalues of the ensemble-
                         * space matrix (0: 1e-12) */
     int etkf_form;     /* sl_etkf_form (ETKF only; 0: automatic) */
@@ -97,6 +101,14 @@ typedef struct {
 
 /* The LETKF's work between two polls, in flops per thread. */
 #define SL_ENKF_POLL_WORK 2e8
+
+/* The least work, counting N^3 a grid point, for which a LETKF with
+ * threads_auto uses more than one thread: about 8 ms of one core (N = 20,
+ * 15 observations a point: 6.5 us a point). Below it a second thread
+ * gains less than it can cost to start: a thread that has slept while
+ * the caller's own code ran (an Octave forecast between two analyses)
+ * took 1.5-7 ms to start on a shared virtual machine here. */
+#define SL_LETKF_THREAD_WORK 1e7
 
 typedef struct {
     size_t floored;      /* eigenvalues raised to the floor */

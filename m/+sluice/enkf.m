@@ -19,7 +19,9 @@
 % @code{inflation} (multiplicative, of the prior perturbations, >= 1),
 % @code{rtpp}, @code{rtps} (relaxation coefficients in [0, 1]),
 % @code{seed} and @code{cycle} (the perturbed observations of
-% @code{'enkf'}), @code{threads}, and @code{localization}: a struct with
+% @code{'enkf'}), @code{threads} (for the LETKF's local analyses; 0, the
+% default: the cores when the analysis is large enough to gain from them,
+% else one), and @code{localization}: a struct with
 % @code{geometry} (@code{'line'}, @code{'ring'} with @code{period},
 % @code{'plane'}, @code{'sphere'} with @code{sphere_radius}),
 % @code{state_pos} (n x dim; NaN rows are not localised),

@@ -587,7 +587,46 @@ static void test_threads(void)
         CHECK(i1.floored == i2.floored && i1.local_skipped == i2.local_skipped,
               "threads %d: counts differ", t);
     }
+    /* the automatic count: all threads for a large analysis, one for a
+     * small one, the same bits either way */
+    p->cfg.threads_auto = 1;
+    for (t = 2; t <= 3; t++) {
+        memcpy(p->X, p->X0, sizeof p->X);
+        p->cfg.threads = t;
+        st = run(p, &i2, &err);
+        CHECK(st == SL_OK && memcmp(X1, p->X, p->n * p->N * sizeof(double)) == 0,
+              "threads %d, automatic: analysis not bit-identical to 1 thread", t);
+    }
     p->cfg.threads = 1;
+    p->cfg.threads_auto = 0;
+}
+
+/* The threads the LETKF takes (sl_letkf_threads): the count asked for,
+ * at most one a grid point; automatic, one below SL_LETKF_THREAD_WORK
+ * (groups N^3) and the count from there on. */
+static void test_thread_count(void)
+{
+    sl_enkf_config c;
+    memset(&c, 0, sizeof c);
+    c.threads = 4;
+    CHECK(sl_letkf_threads(&c, 400, 20) == 4, "4 threads asked, 400 points: %lu",
+          (unsigned long)sl_letkf_threads(&c, 400, 20));
+    CHECK(sl_letkf_threads(&c, 3, 20) == 3, "4 threads asked, 3 points: %lu",
+          (unsigned long)sl_letkf_threads(&c, 3, 20));
+    CHECK(sl_letkf_threads(&c, 0, 20) == 1, "no points: one thread");
+    c.threads_auto = 1;
+    /* 400 points of 20 members: 3.2e6 < 1e7; 4000: 3.2e7 */
+    CHECK(sl_letkf_threads(&c, 400, 20) == 1, "automatic, 400 points of 20 members: %lu",
+          (unsigned long)sl_letkf_threads(&c, 400, 20));
+    CHECK(sl_letkf_threads(&c, 4000, 20) == 4, "automatic, 4000 points of 20 members: %lu",
+          (unsigned long)sl_letkf_threads(&c, 4000, 20));
+    /* the edge: 1250 points of 20 members is 1e7 exactly */
+    CHECK(sl_letkf_threads(&c, 1249, 20) == 1 && sl_letkf_threads(&c, 1250, 20) == 4,
+          "automatic, at the edge: %lu and %lu", (unsigned long)sl_letkf_threads(&c, 1249, 20),
+          (unsigned long)sl_letkf_threads(&c, 1250, 20));
+    /* few points of many members are work enough */
+    CHECK(sl_letkf_threads(&c, 2, 400) == 2, "automatic, 2 points of 400 members: %lu",
+          (unsigned long)sl_letkf_threads(&c, 2, 400));
 }
 
 /* Duplicated members (a rank-deficient ensemble) with very precise
@@ -1112,6 +1151,7 @@ int main(void)
     }
     test_one_observation();
     test_threads();
+    test_thread_count();
     test_ill_conditioned();
     test_forms();
     test_out_of_reach();
