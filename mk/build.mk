@@ -60,10 +60,12 @@ $(SL_BUILD)/obj/%.o: $(SL_SRC)/%.c | $(SL_ORDER)
 	@mkdir -p $(dir $@)
 	$(CC) $(SL_CFLAGS) -c $< -o $@
 
-# the random streams, the integrators' stage sums and the models' block
-# paths are the hot loops of every filter: let the compiler vectorise them
-# over members (gcc's -O2 vectorises only loops that need no remainder)
-$(SL_BUILD)/obj/rng.o $(SL_BUILD)/obj/integrate.o $(SL_BUILD)/obj/model_linear.o: OPT := -O3
+# the random streams, the integrators' stage sums, the models' block
+# paths and the weights' checks are the hot loops of every filter: let the
+# compiler vectorise them over members (gcc's -O2 vectorises only loops
+# that need no remainder)
+$(SL_BUILD)/obj/rng.o $(SL_BUILD)/obj/integrate.o $(SL_BUILD)/obj/model_linear.o \
+  $(SL_BUILD)/obj/weights.o: OPT := -O3
 $(patsubst $(SL_SRC)/%.c,$(SL_BUILD)/obj/%.o,$(wildcard $(SL_SRC)/models/*.c)): OPT := -O3
 
 $(SL_LIB): $(SL_OBJ)

@@ -2,6 +2,8 @@
 #include "sluice/weights.h"
 
 #include <math.h>
+#include <stdint.h>
+#include <string.h>
 
 sl_status sl_weights_normalize(size_t N, const double *logw, double *w,
                                sl_weight_summary *summary, sl_error *err)
@@ -68,28 +70,61 @@ sl_status sl_weights_normalize(size_t N, const double *logw, double *w,
     return SL_OK;
 }
 
-sl_status sl_weights_check(size_t N, const double *w, double *sum,
-                           sl_error *err)
+/* The first weight of w[0..n-1] that is not finite and >= 0, as
+ * sl_weights_check reports it; SL_OK if none (at = the weights' offset). */
+static sl_status first_bad_weight(size_t n, const double *w, size_t at, size_t N,
+                                  sl_error *err)
 {
-    double s = 0;
     size_t j;
-    for (j = 0; j < N; j++) {
-        double v = w[j];
+    for (j = 0; j < n; j++) {
+        const double v = w[j];
         /* !(v >= 0) also catches NaN; v - v is NaN for +-Inf */
         if (!(v >= 0) || v - v != 0) {
             if (isnan(v))
                 return sl_fail(err, SL_EINVAL, "badweight",
                                "weight %zu of %zu is NaN; expected finite "
-                               "non-negative weights", j + 1, N);
+                               "non-negative weights", at + j + 1, N);
             if (isinf(v))
                 return sl_fail(err, SL_EINVAL, "badweight",
                                "weight %zu of %zu is infinite; expected "
-                               "finite non-negative weights", j + 1, N);
+                               "finite non-negative weights", at + j + 1, N);
             return sl_fail(err, SL_EINVAL, "badweight",
                            "weight %zu of %zu is negative (%.17g); expected "
-                           "finite non-negative weights", j + 1, N, v);
+                           "finite non-negative weights", at + j + 1, N, v);
         }
-        s += v;
+    }
+    return SL_OK;
+}
+
+/* Weights checked a block at a time: a test of the whole block on the
+ * weights' bits, which the compiler vectorises (integer operations only:
+ * gcc vectorises no floating-point comparison here), then the sum, one
+ * weight after the other as always (the same bits). Bit 63 of
+ * u | ((u & EXP) + ONE) is set when the weight with bits u is negative
+ * (or -0) or its exponent is all ones (Inf, NaN). A block with such a
+ * weight is searched again by the exact test, which lets -0 through.
+ * Checking and summing in one loop cost 3.5 ns a weight here. */
+#define CHECK_BLOCK 512
+sl_status sl_weights_check(size_t N, const double *w, double *sum,
+                           sl_error *err)
+{
+    const uint64_t EXP = 0x7ff0000000000000u, ONE = 0x0010000000000000u;
+    double s = 0;
+    size_t j0, j;
+    for (j0 = 0; j0 < N; j0 += CHECK_BLOCK) {
+        const size_t n = N - j0 < CHECK_BLOCK ? N - j0 : CHECK_BLOCK;
+        const double *b = w + j0;
+        uint64_t flag = 0;
+        sl_status st;
+        for (j = 0; j < n; j++) {
+            uint64_t u;
+            memcpy(&u, &b[j], sizeof u);
+            flag |= u | ((u & EXP) + ONE);
+        }
+        if ((flag >> 63) && (st = first_bad_weight(n, b, j0, N, err)) != SL_OK)
+            return st;
+        for (j = 0; j < n; j++)
+            s += b[j];
     }
     if (!(s > 0))
         return sl_fail(err, SL_EDEGENERATE, "zeroweights",

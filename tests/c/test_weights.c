@@ -230,6 +230,43 @@ int main(void)
         CHECK(sl_weights_check(4, v, NULL, &err) == SL_OK, "denormal weight");
     }
 
+    /* sl_weights_check on long vectors, which it tests a block at a time
+     * on the weights' bits: the sum is the plain running sum, bit for bit;
+     * -0 and the largest double pass; a bad weight is found and named
+     * wherever it lies (first and last of a block, the vector's last,
+     * after a block with -0 in it), NaN, Inf and negative alike. */
+    {
+        enum { LONG = 1537 };
+        static double v[LONG];
+        static const size_t at[] = {0, 511, 512, 1023, 1024, 1500, LONG - 1};
+        static const double bad[] = {NAN, -INFINITY, INFINITY, -1e-310, -2.0};
+        double s = 0, ref = 0;
+        char where[32];
+        size_t i, a, q;
+        for (i = 0; i < LONG; i++) {
+            v[i] = 1.0 / (double)(1 + i % 97) + (i % 5 == 0 ? 1e-17 : 0.0);
+            ref += v[i];
+        }
+        CHECK(sl_weights_check(LONG, v, &s, &err) == SL_OK && s == ref,
+              "long: sum %.17g, running sum %.17g", s, ref);
+        v[600] = -0.0;
+        v[3] = 1.7976931348623157e308;
+        CHECK(sl_weights_check(LONG, v, NULL, &err) == SL_OK, "-0 and the largest double: %s",
+              err.message);
+        v[3] = 1.0;
+        for (a = 0; a < sizeof at / sizeof *at; a++)
+            for (q = 0; q < sizeof bad / sizeof *bad; q++) {
+                const double keep = v[at[a]];
+                v[at[a]] = bad[q];
+                snprintf(where, sizeof where, "%lu of %d", (unsigned long)(at[a] + 1), LONG);
+                st = sl_weights_check(LONG, v, &s, &err);
+                CHECK(st == SL_EINVAL && strcmp(err.reason, "badweight") == 0 &&
+                          strstr(err.message, where) != NULL,
+                      "weight %s set to %g: %s: %s", where, bad[q], err.reason, err.message);
+                v[at[a]] = keep;
+            }
+    }
+
     /* ESS of a one-hot vector is 1; of (1/2, 1/2) is 2. */
     {
         const double a[3] = {0, 1, 0}, b[2] = {0.5, 0.5};
