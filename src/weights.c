@@ -103,7 +103,8 @@ static sl_status first_bad_weight(size_t n, const double *w, size_t at, size_t N
  * u | ((u & EXP) + ONE) is set when the weight with bits u is negative
  * (or -0) or its exponent is all ones (Inf, NaN). A block with such a
  * weight is searched again by the exact test, which lets -0 through.
- * Checking and summing in one loop cost 3.5 ns a weight here. */
+ * Checking and summing in one loop cost 3.5 ns a weight here; this way
+ * 1.3 ns (1e7 weights, not in cache). */
 #define CHECK_BLOCK 512
 sl_status sl_weights_check(size_t N, const double *w, double *sum,
                            sl_error *err)
