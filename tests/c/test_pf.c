@@ -345,6 +345,87 @@ static int identical(const run_buf *a, const run_buf *b, size_t nq)
            a->out.steps == b->out.steps;
 }
 
+/* ------------------------------------------------- forcing noise draws */
+
+/* The perturbed forcing of member j at step s is u0 + sd z with z the
+ * normals of stream (seed, j, s, SL_PURPOSE_FORCING), one per noisy
+ * forcing in order (additive noise, phi = 0). A linear model x = 0 x + I u
+ * makes each member's state its forcing after every step, so the history
+ * shows the draws: checked against the stream itself (the documented
+ * keying of sl_forcing) for four noisy forcings and an unperturbed one
+ * between them, and for five noisy ones, 150 members, 1 and 2 threads. */
+static void check_forcing_draws(void)
+{
+    enum { N = 150, T = 3, Q = 5 };
+    static double Az[Q * Q], Bi[Q * Q], X0[Q * N];
+    const double times[T] = {1.0, 2.0, 3.0}, ft[1] = {0.0};
+    double fv[Q], fsd[Q], fphi[Q];
+    int noise[Q], thr, pass;
+    size_t i, j, k, bad;
+    obs_table o;
+    memset(&o, 0, sizeof o);
+    for (k = 0; k < T; k++) {
+        o.first[k] = k;
+        o.y[k] = 1.0;
+        o.sigma[k] = 1e3;
+        o.family[k] = SL_FAMILY_GAUSSIAN;
+    }
+    o.first[T] = T;
+    for (i = 0; i < Q * Q; i++)
+        Bi[i] = i % (Q + 1) == 0 ? 1.0 : 0.0; /* the identity */
+    for (i = 0; i < Q; i++) {
+        fv[i] = 1.0 + (double)i;
+        fsd[i] = 0.1 * (double)(i + 1);
+        fphi[i] = 0.0;
+    }
+    /* pass 0: the third forcing unperturbed (it draws nothing, so the
+     * fourth takes the third normal); pass 1: all five noisy */
+    for (pass = 0; pass < 2; pass++)
+        for (thr = 1; thr <= 2; thr++) {
+            const sl_linear lin = {Q, Q, Az, Bi, NULL, NULL};
+            sl_model md;
+            sl_pf_config cfg;
+            sl_error err;
+            run_buf r;
+            for (i = 0; i < Q; i++)
+                noise[i] = pass == 0 && i == 2 ? SL_FORCING_EXACT : SL_FORCING_ADDITIVE;
+            CHECK(sl_linear_model(&md, &lin, 1.0, &err) == SL_OK, "model: %s", err.message);
+            base_config(&cfg, &md, N, T, times, &o);
+            cfg.forcing.nt = 1;
+            cfg.forcing.time = ft;
+            cfg.forcing.value = fv;
+            cfg.forcing.hold = 1;
+            cfg.forcing.noise = noise;
+            cfg.forcing.sd = fsd;
+            cfg.forcing.phi = fphi;
+            cfg.threshold = 0.0; /* never resample: the history is the forecast */
+            cfg.keep_history = 1;
+            cfg.threads = thr;
+            cfg.seed = 1234;
+            if (run(&cfg, X0, &r, &err) != SL_OK) {
+                CHECK(0, "forcing draws run: %s", err.message);
+                run_free(&r);
+                continue;
+            }
+            bad = 0;
+            for (k = 0; k < T; k++)
+                for (j = 0; j < N; j++) {
+                    sl_stream st;
+                    sl_stream_init(&st, 1234, (uint32_t)j, (uint32_t)k, SL_PURPOSE_FORCING);
+                    for (i = 0; i < Q; i++) {
+                        const double want = noise[i] == SL_FORCING_EXACT
+                                                ? fv[i]
+                                                : fv[i] + fsd[i] * sl_stream_normal(&st);
+                        bad += r.out.hist_X[i + j * Q + k * Q * N] != want;
+                    }
+                }
+            CHECK(bad == 0,
+                  "forcing draws (%s), %d thread(s): %lu values differ from the streams'",
+                  pass == 0 ? "one unperturbed" : "all perturbed", thr, (unsigned long)bad);
+            run_free(&r);
+        }
+}
+
 /* ----------------------------------------------------------- checkpoints */
 
 /* The snapshot a checkpoint callback took (its copies), and the cycle at
@@ -2415,6 +2496,7 @@ int main(void)
     check_nonfinite();
     check_diversity();
     check_resample_move();
+    check_forcing_draws();
     check_span();
     check_linear_block();
     check_smc2_wenkf();
