@@ -97,12 +97,6 @@ static double option_whole(const options *o, int k, double lo, double hi)
     return v;
 }
 
-/* The field of the localization struct L, or NULL. */
-static const mxArray *loc_field(const mxArray *L, const char *name)
-{
-    return mxGetFieldNumber(L, name) >= 0 ? mxGetField(L, 0, name) : NULL;
-}
-
 /* The option localization into loc for m observations; 0 when it is
  * empty (no localisation). */
 static int decode_localization(const options *o, size_t n, size_t m, sl_localization *loc)
@@ -115,12 +109,12 @@ static int decode_localization(const options *o, size_t n, size_t m, sl_localiza
     int gk;
     if (L == NULL || mxIsEmpty(L))
         return 0;
-    if (!mxIsStruct(L) || mxGetNumberOfElements(L) != 1 || loc_field(L, "state_pos") == NULL ||
-        loc_field(L, "obs_pos") == NULL || loc_field(L, "radius") == NULL)
+    if (!mxIsStruct(L) || mxGetNumberOfElements(L) != 1 || slm_field(FN, L, "state_pos", 0) == NULL ||
+        slm_field(FN, L, "obs_pos", 0) == NULL || slm_field(FN, L, "radius", 0) == NULL)
         slm_fail(FN, "badlocalization", "localization needs fields state_pos, obs_pos and radius");
     memset(loc, 0, sizeof *loc);
     gk = SL_GEOM_LINE;
-    if ((g = loc_field(L, "geometry")) != NULL) {
+    if ((g = slm_field(FN, L, "geometry", 0)) != NULL) {
         if (!is_name(g) || mxIsEmpty(g))
             slm_fail(FN, "badlocalization", "localization: geometry must be a name");
         gname = slm_string(FN, g, pos, "geometry");
@@ -131,18 +125,18 @@ static int decode_localization(const options *o, size_t n, size_t m, sl_localiza
     loc->geometry = gk;
     loc->dim = gk >= SL_GEOM_PLANE ? 2 : 1;
     /* a period (ring) or a sphere's radius (sphere: 6371 when 0 or absent) */
-    per = loc_field(L, "period");
-    sph = loc_field(L, "sphere_radius");
+    per = slm_field(FN, L, "period", 0);
+    sph = slm_field(FN, L, "sphere_radius", 0);
     if (sph != NULL)
         loc->period_or_radius = slm_scalar(FN, sph, pos, "sphere_radius");
     else if (per != NULL)
         loc->period_or_radius = slm_scalar(FN, per, pos, "period");
     if (gk == SL_GEOM_SPHERE && loc->period_or_radius == 0)
         loc->period_or_radius = 6371;
-    loc->state_pos = slm_matrix(FN, loc_field(L, "state_pos"), pos, "state_pos", n, loc->dim,
+    loc->state_pos = slm_matrix(FN, slm_field(FN, L, "state_pos", 0), pos, "state_pos", n, loc->dim,
                                 SLM_ALLOW_NAN);
-    loc->obs_pos = slm_matrix(FN, loc_field(L, "obs_pos"), pos, "obs_pos", m, loc->dim, 0);
-    r = loc_field(L, "radius");
+    loc->obs_pos = slm_matrix(FN, slm_field(FN, L, "obs_pos", 0), pos, "obs_pos", m, loc->dim, 0);
+    r = slm_field(FN, L, "radius", 0);
     if (mxGetNumberOfElements(r) == 1 && m > 1) {
         /* one half-width for every observation */
         const double v = slm_scalar(FN, r, pos, "radius");
@@ -154,7 +148,7 @@ static int decode_localization(const options *o, size_t n, size_t m, sl_localiza
         loc->obs_c = slm_matrix(FN, r, pos, "radius", m, 0, SLM_VECTOR);
     }
     loc->param_factor = 1.0;
-    if ((pf = loc_field(L, "param_factor")) != NULL)
+    if ((pf = slm_field(FN, L, "param_factor", 0)) != NULL)
         loc->param_factor = slm_scalar(FN, pf, pos, "param_factor");
     for (k = 0; k < m; k++)
         if (!(loc->obs_c[k] > 0))
