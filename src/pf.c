@@ -1303,9 +1303,9 @@ sl_status sl_pfi_summarise(const sl_pf_config *cfg, pf_buffers *b, const double 
      * quantiles row by row */
     while (nx < ns && sl_pfi_summary_row(cfg, nx) < n)
         nx++;
-    sl_weighted_means(N, X, n, nx, rows, 0, w, out->mean + k * v);
+    sl_weighted_means(N, X, n, nx, rows, 0, w, out->mean + k * v, b->nt);
     sl_weighted_means(N, P, p, ns - nx, rows != NULL ? rows + nx : NULL, n, w,
-                      out->mean + k * v + n);
+                      out->mean + k * v + n, b->nt);
     if (nq == 0)
         return SL_OK;
     if (split) {
@@ -1443,22 +1443,31 @@ void sl_pfi_add_state_noise(const sl_pf_config *cfg, pf_buffers *b, double *X,
     }
 }
 
+/* members from which the reweighting's loops are shared among threads */
+#define REWEIGHT_THREADS_FROM 8192
+
 sl_status sl_pfi_reweight(size_t N, const unsigned char *dead, double *ll, size_t nobs,
                           double rest, double *lw, double *logw, double *w, double *logz,
-                          int *degenerate, sl_error *err)
+                          int *degenerate, int nt, sl_error *err)
 {
     sl_weight_summary ws;
     sl_error werr;
     sl_status st;
     double wsum = 0.0;
     size_t j;
-    for (j = 0; j < N; j++)
-        logw[j] = dead[j] ? -HUGE_VAL : (nobs > 0 ? lw[j] + rest * ll[j] : lw[j]);
-    st = sl_weights_normalize(N, logw, ll, &ws, &werr);
+    long jj;
+    if (N < REWEIGHT_THREADS_FROM)
+        nt = 1;
+#pragma omp parallel for num_threads(nt) schedule(static)
+    for (jj = 0; jj < (long)N; jj++)
+        logw[jj] = dead[jj] ? -HUGE_VAL : (nobs > 0 ? lw[jj] + rest * ll[jj] : lw[jj]);
+    st = sl_weights_normalize_threads(N, logw, ll, &ws, nt, &werr);
     if (st == SL_OK) {
-        memcpy(w, ll, N * sizeof(double));
-        for (j = 0; j < N; j++)
-            lw[j] = logw[j] - ws.log_sum;
+#pragma omp parallel for num_threads(nt) schedule(static)
+        for (jj = 0; jj < (long)N; jj++) {
+            w[jj] = ll[jj];
+            lw[jj] = logw[jj] - ws.log_sum;
+        }
         *logz = ws.log_sum;
         return SL_OK;
     }
@@ -1544,44 +1553,68 @@ int sl_pfi_has_nonfinite(const double *x, size_t n)
 }
 
 /* The forecast means' kernel, shared with the split run (pf_internal.h). */
-double sl_pfi_live_weight(size_t N, const unsigned char *dead, const double *w)
+double sl_pfi_live_weight(size_t N, const unsigned char *dead, const double *w, int threads)
 {
-    double W = 0.0;
+    const size_t blk = sl_mean_block(N), nblk = (N + blk - 1) / blk;
+    const int nt = threads > 1 && nblk > 1 ? threads : 1;
+    double part[SL_MEAN_BLOCKS_MAX], W = 0.0;
     size_t j;
-    for (j = 0; j < N; j++)
-        if (!dead[j] && w[j] > 0)
-            W += w[j];
+    long k;
+#pragma omp parallel for num_threads(nt) schedule(static) private(j)
+    for (k = 0; k < (long)nblk; k++) {
+        const size_t jb = (size_t)k * blk + blk < N ? (size_t)k * blk + blk : N;
+        double s = 0.0;
+        for (j = (size_t)k * blk; j < jb; j++)
+            if (!dead[j] && w[j] > 0)
+                s += w[j];
+        part[k] = s;
+    }
+    for (k = 0; k < (long)nblk; k++)
+        W += part[k];
     return W;
 }
 
 void sl_pfi_live_means(size_t N, const unsigned char *dead, const double *w, double W,
-                       size_t nb, const double *const *src, const size_t *ld, double *m)
+                       size_t nb, const double *const *src, const size_t *ld, double *m,
+                       int threads)
 {
-    double s[SL_PFI_FMEAN_BLOCK];
+    const size_t blk = sl_mean_block(N), nblk = (N + blk - 1) / blk;
+    const int nt = threads > 1 && nblk > 1 ? threads : 1;
+    double part[SL_MEAN_BLOCKS_MAX][SL_PFI_FMEAN_BLOCK];
     size_t i, j;
-    for (i = 0; i < nb; i++)
-        s[i] = 0.0;
-    for (j = 0; j < N; j++) {
-        if (dead[j] || !(w[j] > 0))
-            continue;
-        i = 0;
+    long k;
+#pragma omp parallel for num_threads(nt) schedule(static) private(i, j)
+    for (k = 0; k < (long)nblk; k++) {
+        const size_t jb = (size_t)k * blk + blk < N ? (size_t)k * blk + blk : N;
+        double *s = part[k];
+        for (i = 0; i < nb; i++)
+            s[i] = 0.0;
+        for (j = (size_t)k * blk; j < jb; j++) {
+            if (dead[j] || !(w[j] > 0))
+                continue;
+            i = 0;
 #ifdef __SSE2__
-        {
-            /* two rows in the lanes of one register: each lane the
-             * scalar product and sum of its row, the same bits */
-            const __m128d wj = _mm_set1_pd(w[j]);
-            for (; i + 1 < nb; i += 2) {
-                __m128d v = _mm_loadh_pd(_mm_load_sd(src[i] + j * ld[i]),
-                                         src[i + 1] + j * ld[i + 1]);
-                _mm_storeu_pd(s + i, _mm_add_pd(_mm_loadu_pd(s + i), _mm_mul_pd(wj, v)));
+            {
+                /* two rows in the lanes of one register: each lane the
+                 * scalar product and sum of its row, the same bits */
+                const __m128d wj = _mm_set1_pd(w[j]);
+                for (; i + 1 < nb; i += 2) {
+                    __m128d v = _mm_loadh_pd(_mm_load_sd(src[i] + j * ld[i]),
+                                             src[i + 1] + j * ld[i + 1]);
+                    _mm_storeu_pd(s + i, _mm_add_pd(_mm_loadu_pd(s + i), _mm_mul_pd(wj, v)));
+                }
             }
-        }
 #endif
-        for (; i < nb; i++)
-            s[i] += w[j] * src[i][j * ld[i]];
+            for (; i < nb; i++)
+                s[i] += w[j] * src[i][j * ld[i]];
+        }
     }
-    for (i = 0; i < nb; i++)
-        m[i] = W > 0 ? s[i] / W : (double)NAN;
+    for (i = 0; i < nb; i++) {
+        double t = 0.0;
+        for (k = 0; k < (long)nblk; k++)
+            t += part[k][i];
+        m[i] = W > 0 ? t / W : (double)NAN;
+    }
 }
 
 /* Weighted means of the living members before the update: the forecast.
@@ -1591,11 +1624,11 @@ void sl_pfi_live_means(size_t N, const unsigned char *dead, const double *w, dou
  * per pass. */
 static void forecast_mean(const sl_pf_config *cfg, const unsigned char *dead,
                           const double *X, const double *P, const double *w,
-                          double *out)
+                          double *out, int nt)
 {
     const size_t N = cfg->N, n = cfg->model->n_state;
     const size_t p = cfg->model->n_param, ns = sl_pfi_summary_count(cfg);
-    const double W = sl_pfi_live_weight(N, dead, w);
+    const double W = sl_pfi_live_weight(N, dead, w, nt);
     size_t i, i0;
     sl_pfi_summary_blank(cfg, out, NULL, 0, 0);
     for (i0 = 0; i0 < ns; i0 += SL_PFI_FMEAN_BLOCK) {
@@ -1608,7 +1641,7 @@ static void forecast_mean(const sl_pf_config *cfg, const unsigned char *dead,
             src[i] = r[i] < n ? X + r[i] : P + (r[i] - n);
             ld[i] = r[i] < n ? n : p;
         }
-        sl_pfi_live_means(N, dead, w, W, nb, src, ld, m);
+        sl_pfi_live_means(N, dead, w, W, nb, src, ld, m, nt);
         for (i = 0; i < nb; i++)
             out[r[i]] = m[i];
     }
@@ -2458,7 +2491,7 @@ sl_status sl_pf_run(const sl_pf_config *cfg, double *X, double *P, double *w,
         }
 
         if (out->fmean != NULL)
-            forecast_mean(cfg, b.dead[cur], Xc, Pc, w, out->fmean + k * (n + p));
+            forecast_mean(cfg, b.dead[cur], Xc, Pc, w, out->fmean + k * (n + p), b.nt);
         /* the cycle's analysis, through its table entry: it weighs the
          * members (b.ll, nobs) or leaves the weights it wants in w */
         {
@@ -2527,7 +2560,7 @@ sl_status sl_pf_run(const sl_pf_config *cfg, double *X, double *P, double *w,
             double lz;
             /* the exponent tempering left (1 without tempering) */
             st = sl_pfi_reweight(N, b.dead[cur], b.ll, nobs, 1.0 - tphi, b.lw, b.logw, w, &lz,
-                                 &dg, err);
+                                 &dg, b.nt, err);
             if (st != SL_OK)
                 return st;
             if (dg)

@@ -119,10 +119,12 @@ sl_status sl_pfi_forecast_split(const sl_pf_config *cfg, pf_buffers *b, int cur,
  * 0; -Inf for dead ones) normalised into w, lw set to their logs, *logz
  * the log of their sum. When no member explains the data the living
  * members keep their weights (renormalised), *logz = -Inf and
- * *degenerate = 1. ll and logw are overwritten (N each). */
+ * *degenerate = 1. ll and logw are overwritten (N each). Large
+ * ensembles share the work among up to nt threads: the same bits for
+ * any count. */
 sl_status sl_pfi_reweight(size_t N, const unsigned char *dead, double *ll, size_t nobs,
                           double rest, double *lw, double *logw, double *w, double *logz,
-                          int *degenerate, sl_error *err);
+                          int *degenerate, int nt, sl_error *err);
 
 /* The pace of a run (pf_pace.c): how many threads its next cycle uses,
  * 1 or most, chosen by timing cycles. next gives the count for the next
@@ -177,13 +179,17 @@ void sl_pfi_loglik_all(const sl_pf_config *cfg, pf_buffers *b, size_t r0,
 /* The forecast means (pf.c; pf_ranks.c on its share of the rows): the
  * total weight W of the living members of positive weight, and for nb
  * (at most SL_PFI_FMEAN_BLOCK) rows, row i's value of member j at
- * src[i][j * ld[i]], m[i] = the sum over those members in member order
- * of w[j] times the value, over W (NaN when W is not positive). Each
- * row's sum has the same bits whatever rows share its block. */
+ * src[i][j * ld[i]], m[i] = the sum over those members of w[j] times the
+ * value, over W (NaN when W is not positive). Both sums run in member
+ * order inside the summing blocks of sl_mean_block (stats.h), then over
+ * the blocks in order, the blocks shared among up to `threads` threads:
+ * the same bits for any thread count, and whatever rows share a block of
+ * rows. */
 #define SL_PFI_FMEAN_BLOCK 64
-double sl_pfi_live_weight(size_t N, const unsigned char *dead, const double *w);
+double sl_pfi_live_weight(size_t N, const unsigned char *dead, const double *w, int threads);
 void sl_pfi_live_means(size_t N, const unsigned char *dead, const double *w, double W,
-                       size_t nb, const double *const *src, const size_t *ld, double *m);
+                       size_t nb, const double *const *src, const size_t *ld, double *m,
+                       int threads);
 /* The rows the run summarises (cfg->summary_rows): how many, the i-th
  * (0-based), and NaN into the mean (and, with q, the nq quantiles at
  * stride qinc) of every other row of one cycle's record. */

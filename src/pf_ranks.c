@@ -257,9 +257,10 @@ static sl_status deal_summary_rows(const sl_pf_config *cfg, const sl_pf_ranks *r
 
 /* This rank's rows' forecast means from V (sl_pfi_live_means, as the
  * one process run) into fm. */
-static void forecast_means(ranks_buffers *rb, size_t nrw, const double *w, double *fm)
+static void forecast_means(ranks_buffers *rb, size_t nrw, int nt, const double *w,
+                           double *fm)
 {
-    const double W = sl_pfi_live_weight(rb->N, rb->gdead, w);
+    const double W = sl_pfi_live_weight(rb->N, rb->gdead, w, nt);
     const double *src[SL_PFI_FMEAN_BLOCK];
     size_t ld[SL_PFI_FMEAN_BLOCK], i, i0;
     for (i0 = 0; i0 < nrw; i0 += SL_PFI_FMEAN_BLOCK) {
@@ -268,7 +269,7 @@ static void forecast_means(ranks_buffers *rb, size_t nrw, const double *w, doubl
             src[i] = rb->V + i0 + i;
             ld[i] = nrw;
         }
-        sl_pfi_live_means(rb->N, rb->gdead, w, W, nb, src, ld, fm + i0);
+        sl_pfi_live_means(rb->N, rb->gdead, w, W, nb, src, ld, fm + i0, nt);
     }
 }
 
@@ -279,7 +280,7 @@ static void summarise_rows(const sl_pf_config *cfg, ranks_buffers *rb, size_t nr
 {
     const size_t N = rb->N, nq = cfg->nq, qper = sl_quantile_workspace(N);
     long r;
-    sl_weighted_means(N, rb->V, nrw, nrw, NULL, 0, w, mq);
+    sl_weighted_means(N, rb->V, nrw, nrw, NULL, 0, w, mq, nt);
     if (nq == 0)
         return;
 #pragma omp parallel for num_threads(nt) schedule(dynamic, 1)
@@ -691,7 +692,7 @@ sl_status sl_pf_run_ranks(const sl_pf_config *cfg, const sl_pf_ranks *rk, double
             if ((st = deal_summary_rows(cfg, rk, &rb, Xc, Pc, err)) != SL_OK)
                 return st;
         if (out->fmean != NULL)
-            forecast_means(&rb, nrw, w, rb.resl);
+            forecast_means(&rb, nrw, b->nt, w, rb.resl);
         if (m > 0) {
             if (out->pit != NULL) {
                 if ((st = gather_members(rk, &rb, b->Yhat, rb.gYhat, m * sizeof(double),
@@ -720,7 +721,7 @@ sl_status sl_pf_run_ranks(const sl_pf_config *cfg, const sl_pf_ranks *rk, double
         if (reweight) {
             double lz;
             if ((st = sl_pfi_reweight(N, rb.gdead, rb.gll, nobs, 1.0, rb.glw, rb.glogw, w, &lz,
-                                      &degenerate, err)) != SL_OK)
+                                      &degenerate, b->nt, err)) != SL_OK)
                 return st;
             out->logz[k] = degenerate ? -HUGE_VAL : lz;
             out->log_evidence += out->logz[k];

@@ -24,6 +24,40 @@ size_t sl_quantile_workspace(size_t N)
     return 8 * N + 2 * NBUCKET;
 }
 
+#define MEAN_BLOCK_MIN 4096 /* members of a summing block, at least */
+
+size_t sl_mean_block(size_t N)
+{
+    size_t b = (N + SL_MEAN_BLOCKS_MAX - 1) / SL_MEAN_BLOCKS_MAX;
+    b = (b + 63) / 64 * 64;
+    return b > MEAN_BLOCK_MIN ? b : MEAN_BLOCK_MIN;
+}
+
+/* One step of Neumaier's compensated sum: a added to the sum *s, the
+ * error of that addition to *e. */
+static inline void neumaier_add(double *s, double *e, double a)
+{
+    const double t = *s + a;
+    *e += fabs(*s) >= fabs(a) ? (*s - t) + a : (a - t) + *s;
+    *s = t;
+}
+
+/* The blocks' compensated sums (s[b], e[b]) combined in block order:
+ * each block's sum added compensated, its error added to the error. One
+ * block gives s[0] + e[0] (s[0] is never -0: a sum that starts at +0
+ * stays off -0). */
+static double combine_blocks(size_t nblk, const double *s, size_t sinc, const double *e,
+                             size_t einc)
+{
+    double S = 0.0, E = 0.0;
+    size_t b;
+    for (b = 0; b < nblk; b++) {
+        neumaier_add(&S, &E, s[b * sinc]);
+        E += e[b * einc];
+    }
+    return S + E;
+}
+
 /* Stable sorts by value (ties, -0 and +0 among them, keep their order):
  * insertion for short runs, merging (through tmp, room for n pairs) for
  * longer ones. The order is that of any stable sort with the comparison
@@ -161,32 +195,43 @@ static double select_in(size_t n, pair *c, pair *spare, double lo, double hi,
     }
 }
 
-/* Neumaier's compensated sums (the Kahan-Babuska variant): the error stays
- * near one rounding whatever the number of members. */
-static double compensated_sum_w(size_t n, const pair *c)
-{
-    double s = 0.0, e = 0.0;
-    size_t i;
-    for (i = 0; i < n; i++) {
-        double a = c[i].w, t = s + a;
-        e += fabs(s) >= fabs(a) ? (s - t) + a : (a - t) + s;
-        s = t;
-    }
-    return s + e;
-}
-
-/* sum of scale * w_i * (v_i - ref) */
+/* sum of scale * w_i * (v_i - ref), compensated (Neumaier's sum, the
+ * Kahan-Babuska variant: the error stays near one rounding whatever the
+ * number of members), in member order */
 static double compensated_dot(size_t n, const pair *c, double ref,
                               double scale)
 {
     double s = 0.0, e = 0.0;
     size_t i;
-    for (i = 0; i < n; i++) {
-        double a = (scale * c[i].w) * (c[i].v - ref), t = s + a;
-        e += fabs(s) >= fabs(a) ? (s - t) + a : (a - t) + s;
-        s = t;
-    }
+    for (i = 0; i < n; i++)
+        neumaier_add(&s, &e, (scale * c[i].w) * (c[i].v - ref));
     return s + e;
+}
+
+/* The same sums by the summing blocks of sl_mean_block: block b's
+ * members are c[seg[b]] .. c[seg[b + 1] - 1]. */
+static double blocked_sum_w(size_t nblk, const size_t *seg, const pair *c)
+{
+    double s[SL_MEAN_BLOCKS_MAX], e[SL_MEAN_BLOCKS_MAX];
+    size_t b, i;
+    for (b = 0; b < nblk; b++) {
+        s[b] = e[b] = 0.0;
+        for (i = seg[b]; i < seg[b + 1]; i++)
+            neumaier_add(&s[b], &e[b], c[i].w);
+    }
+    return combine_blocks(nblk, s, 1, e, 1);
+}
+
+static double blocked_dot(size_t nblk, const size_t *seg, const pair *c, double ref)
+{
+    double s[SL_MEAN_BLOCKS_MAX], e[SL_MEAN_BLOCKS_MAX];
+    size_t b, i;
+    for (b = 0; b < nblk; b++) {
+        s[b] = e[b] = 0.0;
+        for (i = seg[b]; i < seg[b + 1]; i++)
+            neumaier_add(&s[b], &e[b], (1.0 * c[i].w) * (c[i].v - ref));
+    }
+    return combine_blocks(nblk, s, 1, e, 1);
 }
 
 /* The buckets' weights (summed in member order), the total weight (in
@@ -235,12 +280,20 @@ void sl_weighted_summary(size_t N, const double *x, size_t inc,
      * largest value */
     double W, Wrun = 0.0, lo, hi, scale, tmax, a;
     double lo0 = HUGE_VAL, hi0 = -HUGE_VAL, lo1 = HUGE_VAL, hi1 = -HUGE_VAL;
+    /* where each summing block's members start in all (seg[bk]: n) */
+    const size_t blk = sl_mean_block(N);
+    size_t seg[SL_MEAN_BLOCKS_MAX + 1], next_seg = 0, bk;
     size_t j, n = 0, k, k0, i;
     int full = 0;
     /* the members of positive weight, and their range (in two lanes: the
      * sign of a zero bound is never used) */
-    for (j = 0; j + 1 < N; j += 2) {
+    for (j = 0, bk = 0; j + 1 < N; j += 2) {
         double v = x[j * inc], wj = w[j], u = x[(j + 1) * inc], wu = w[j + 1];
+        if (j == next_seg) {
+            /* the first of summing block bk (blocks are of even size) */
+            seg[bk++] = n;
+            next_seg += blk;
+        }
         if (wj > 0) {
             all[n].v = v;
             all[n].w = wj;
@@ -256,6 +309,8 @@ void sl_weighted_summary(size_t N, const double *x, size_t inc,
             hi1 = u > hi1 ? u : hi1;
         }
     }
+    if (j == next_seg && j < N)
+        seg[bk++] = n;
     if (j < N && w[j] > 0) {
         double v = x[j * inc];
         all[n].v = v;
@@ -264,6 +319,7 @@ void sl_weighted_summary(size_t N, const double *x, size_t inc,
         lo0 = v < lo0 ? v : lo0;
         hi0 = v > hi0 ? v : hi0;
     }
+    seg[bk] = n;
     lo = lo1 < lo0 ? lo1 : lo0;
     hi = hi1 > hi0 ? hi1 : hi0;
     if (n == 0) {
@@ -276,14 +332,14 @@ void sl_weighted_summary(size_t N, const double *x, size_t inc,
     if (mean == NULL) {
         /* the caller's (sl_weighted_means) */
     } else if (isfinite(hi - lo)) {
-        W = compensated_sum_w(n, all);
+        W = blocked_sum_w(bk, seg, all);
         /* deviations from one member: exact for a constant ensemble */
         double ref = all[0].v;
-        *mean = ref + compensated_dot(n, all, ref, 1.0) / W;
+        *mean = ref + blocked_dot(bk, seg, all, ref) / W;
     } else {
         /* a range wider than the largest double: weights first, so no
-         * partial sum can overflow */
-        W = compensated_sum_w(n, all);
+         * partial sum can overflow (in member order, one block) */
+        W = blocked_sum_w(bk, seg, all);
         *mean = compensated_dot(n, all, 0.0, 1.0 / W);
     }
     if (nq == 0)
@@ -456,26 +512,42 @@ static void means_step(size_t nb, const double *col, const size_t *r, double wj,
 
 void sl_weighted_means(size_t N, const double *x, size_t ld, size_t m,
                        const size_t *rows, size_t base, const double *w,
-                       double *mean)
+                       double *mean, int threads)
 {
-    double W = 0.0, We = 0.0;
+    const size_t blk = sl_mean_block(N), nblk = (N + blk - 1) / blk;
+    const int nt = threads > 1 && nblk > 1 ? threads : 1;
+    /* per summing block: its total weight (compensated: bW + bWe) and its
+     * first member of positive weight (N: none); per block and
+     * row: the compensated sums and the range */
+    double bW[SL_MEAN_BLOCKS_MAX], bWe[SL_MEAN_BLOCKS_MAX], W;
+    double s[SL_MEAN_BLOCKS_MAX][MEANBLOCK], e[SL_MEAN_BLOCKS_MAX][MEANBLOCK];
+    double lo[SL_MEAN_BLOCKS_MAX][MEANBLOCK], hi[SL_MEAN_BLOCKS_MAX][MEANBLOCK];
+    size_t bj0[SL_MEAN_BLOCKS_MAX];
     size_t j, j0 = N, i0, b;
-    /* the total weight: compensated_sum_w over the members of positive
-     * weight, in member order */
-    for (j = 0; j < N; j++) {
-        double a = w[j], t;
-        if (!(a > 0))
-            continue;
-        if (j0 == N)
-            j0 = j;
-        t = W + a;
-        We += fabs(W) >= fabs(a) ? (W - t) + a : (a - t) + W;
-        W = t;
+    long k;
+    /* the total weight: the members of positive weight, block by block */
+#pragma omp parallel for num_threads(nt) schedule(static) private(j)
+    for (k = 0; k < (long)nblk; k++) {
+        const size_t ja = (size_t)k * blk, jb = ja + blk < N ? ja + blk : N;
+        double sw = 0.0, ew = 0.0;
+        size_t first = N;
+        for (j = ja; j < jb; j++) {
+            if (!(w[j] > 0))
+                continue;
+            if (first == N)
+                first = j;
+            neumaier_add(&sw, &ew, w[j]);
+        }
+        bW[k] = sw;
+        bWe[k] = ew;
+        bj0[k] = first;
     }
-    W += We;
+    W = combine_blocks(nblk, bW, 1, bWe, 1);
+    for (b = 0; b < nblk && j0 == N; b++)
+        j0 = bj0[b];
     for (i0 = 0; i0 < m; i0 += MEANBLOCK) {
         size_t nb = m - i0 < MEANBLOCK ? m - i0 : MEANBLOCK, r[MEANBLOCK];
-        double s[MEANBLOCK], e[MEANBLOCK], lo[MEANBLOCK], hi[MEANBLOCK], ref[MEANBLOCK];
+        double ref[MEANBLOCK];
         for (b = 0; b < nb; b++)
             r[b] = rows != NULL ? rows[i0 + b] - base : i0 + b;
         if (j0 == N) {
@@ -483,31 +555,37 @@ void sl_weighted_means(size_t N, const double *x, size_t ld, size_t m,
                 mean[r[b]] = NAN;
             continue;
         }
-        for (b = 0; b < nb; b++) {
+        for (b = 0; b < nb; b++)
             /* deviations from the first member of positive weight */
             ref[b] = x[r[b] + j0 * ld];
-            s[b] = e[b] = 0.0;
-            lo[b] = HUGE_VAL;
-            hi[b] = -HUGE_VAL;
+#pragma omp parallel for num_threads(nt) schedule(static) private(j, b)
+        for (k = 0; k < (long)nblk; k++) {
+            const size_t jb = (size_t)k * blk + blk < N ? (size_t)k * blk + blk : N;
+            for (b = 0; b < nb; b++) {
+                s[k][b] = e[k][b] = 0.0;
+                lo[k][b] = HUGE_VAL;
+                hi[k][b] = -HUGE_VAL;
+            }
+            for (j = bj0[k]; j < jb; j++)
+                if (w[j] > 0)
+                    means_step(nb, x + j * ld, r, w[j], ref, s[k], e[k], lo[k], hi[k]);
         }
-        for (j = j0; j < N; j++)
-            if (w[j] > 0)
-                means_step(nb, x + j * ld, r, w[j], ref, s, e, lo, hi);
         for (b = 0; b < nb; b++) {
-            if (isfinite(hi[b] - lo[b])) {
-                mean[r[b]] = ref[b] + (s[b] + e[b]) / W;
+            double l = HUGE_VAL, h = -HUGE_VAL;
+            for (k = 0; k < (long)nblk; k++) {
+                l = lo[k][b] < l ? lo[k][b] : l;
+                h = hi[k][b] > h ? hi[k][b] : h;
+            }
+            if (isfinite(h - l)) {
+                mean[r[b]] = ref[b] + combine_blocks(nblk, &s[0][b], MEANBLOCK, &e[0][b],
+                                                     MEANBLOCK) / W;
             } else {
-                /* a range wider than the largest double: weights first */
+                /* a range wider than the largest double: weights first,
+                 * in member order (as sl_weighted_summary) */
                 double sc = 1.0 / W, ss = 0.0, ee = 0.0;
-                for (j = j0; j < N; j++) {
-                    double a, t;
-                    if (!(w[j] > 0))
-                        continue;
-                    a = (sc * w[j]) * (x[r[b] + j * ld] - 0.0);
-                    t = ss + a;
-                    ee += fabs(ss) >= fabs(a) ? (ss - t) + a : (a - t) + ss;
-                    ss = t;
-                }
+                for (j = j0; j < N; j++)
+                    if (w[j] > 0)
+                        neumaier_add(&ss, &ee, (sc * w[j]) * (x[r[b] + j * ld] - 0.0));
                 mean[r[b]] = ss + ee;
             }
         }

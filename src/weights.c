@@ -5,32 +5,61 @@
 #include <stdint.h>
 #include <string.h>
 
+#define NORM_CHUNK 4096 /* members a thread takes at a time */
+
+/* The bad log-weight at j (NaN or +Inf), as the error says it. */
+static sl_status bad_logw(size_t j, size_t N, double v, sl_error *err)
+{
+    return sl_fail(err, SL_EINVAL, "badlogw",
+                   "log-weight %zu of %zu is %s; expected finite values or -Inf", j + 1, N,
+                   isnan(v) ? "NaN" : "+Inf");
+}
+
 sl_status sl_weights_normalize(size_t N, const double *logw, double *w,
                                sl_weight_summary *summary, sl_error *err)
 {
+    return sl_weights_normalize_threads(N, logw, w, summary, 1, err);
+}
+
+sl_status sl_weights_normalize_threads(size_t N, const double *logw, double *w,
+                                       sl_weight_summary *summary, int threads,
+                                       sl_error *err)
+{
+    const size_t nch = (N + NORM_CHUNK - 1) / NORM_CHUNK;
+    /* threads only where w and logw are apart: pass 2 reads logw after
+     * the exponentials are in w */
+    const int apart = w + N <= logw || logw + N <= w;
+    const int nt = threads > 1 && nch > 1 && apart ? threads : 1;
     double top = -HUGE_VAL, s = 0, s2 = 0, sed = 0, inv, log_s;
-    size_t j, n_zero = 0;
+    size_t j, n_zero = 0, bad = N;
+    long c;
 
     if (N == 0)
         return sl_fail(err, SL_EINVAL, "badsize",
                        "no log-weights given (N = 0)");
 
-    /* Pass 1: the largest log-weight, and the values that are not allowed. */
-    for (j = 0; j < N; j++) {
-        double v = logw[j];
-        if (isnan(v))
-            return sl_fail(err, SL_EINVAL, "badlogw",
-                           "log-weight %zu of %zu is NaN; expected finite "
-                           "values or -Inf", j + 1, N);
-        if (v == HUGE_VAL)
-            return sl_fail(err, SL_EINVAL, "badlogw",
-                           "log-weight %zu of %zu is +Inf; expected finite "
-                           "values or -Inf", j + 1, N);
-        if (v == -HUGE_VAL)
-            n_zero++;
-        else if (v > top)
-            top = v;
+    /* Pass 1: the largest log-weight, and the values that are not allowed
+     * (the first of them: each chunk's first, the lowest chunk's wins). */
+#pragma omp parallel for num_threads(nt) schedule(static) private(j) \
+    reduction(max : top) reduction(+ : n_zero) reduction(min : bad)
+    for (c = 0; c < (long)nch; c++) {
+        const size_t ja = (size_t)c * NORM_CHUNK;
+        const size_t jb = ja + NORM_CHUNK < N ? ja + NORM_CHUNK : N;
+        for (j = ja; j < jb; j++) {
+            const double v = logw[j];
+            if (isnan(v) || v == HUGE_VAL) {
+                if (j < bad)
+                    bad = j;
+                break;
+            }
+            if (v == -HUGE_VAL)
+                n_zero++;
+            else if (v > top)
+                top = v;
+        }
     }
+    if (bad < N)
+        return bad_logw(bad, N, logw[bad], err);
     if (n_zero == N)
         return sl_fail(err, SL_EDEGENERATE, "degenerate",
                        "all %zu log-weights are -Inf: every weight is zero", N);
@@ -40,22 +69,43 @@ sl_status sl_weights_normalize(size_t N, const double *logw, double *w,
      * to it. With s = sum e_j the normalised weights are e_j / s, and
      *   sum w^2    = sum e_j^2 / s^2,
      *   -sum w log w = log s - (1/s) sum e_j d_j,
-     * so ESS and entropy need no third pass over logw (which w may alias). */
-    for (j = 0; j < N; j++) {
-        double d = logw[j] - top, e;
-        if (d == -HUGE_VAL) {
-            w[j] = 0;
-            continue;
+     * so ESS and entropy need no third pass over logw (which w may alias).
+     * On one thread the sums go with the exponentials; on several the
+     * exponentials are shared out first, then summed in member order:
+     * a term of 0 changes none of the sums (they start at +0 and never
+     * reach -0), so skipping it gives the same bits. */
+    if (nt == 1) {
+        for (j = 0; j < N; j++) {
+            double d = logw[j] - top, e;
+            if (d == -HUGE_VAL) {
+                w[j] = 0;
+                continue;
+            }
+            e = exp(d);
+            w[j] = e;
+            s += e;
+            s2 += e * e;
+            sed += e * d;
         }
-        e = exp(d);
-        w[j] = e;
-        s += e;
-        s2 += e * e;
-        sed += e * d;
+    } else {
+#pragma omp parallel for num_threads(nt) schedule(static)
+        for (c = 0; c < (long)N; c++) {
+            const double d = logw[c] - top;
+            w[c] = d == -HUGE_VAL ? 0.0 : exp(d);
+        }
+        for (j = 0; j < N; j++) {
+            const double e = w[j], d = logw[j] - top;
+            if (e == 0)
+                continue;
+            s += e;
+            s2 += e * e;
+            sed += e * d;
+        }
     }
     inv = 1 / s;
-    for (j = 0; j < N; j++)
-        w[j] *= inv;
+#pragma omp parallel for num_threads(nt) schedule(static)
+    for (c = 0; c < (long)N; c++)
+        w[c] *= inv;
 
     log_s = log(s);
     if (summary != NULL) {

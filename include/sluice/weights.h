@@ -25,6 +25,14 @@ typedef struct {
 sl_status sl_weights_normalize(size_t N, const double *logw, double *w,
                                sl_weight_summary *summary, sl_error *err);
 
+/* The same with the exponentials, the checks and the scaling shared
+ * among up to `threads` threads (1: this thread alone). The sums stay in
+ * member order on one thread: the same bits, the same failures, for any
+ * count. One thread when w overlaps logw. */
+sl_status sl_weights_normalize_threads(size_t N, const double *logw, double *w,
+                                       sl_weight_summary *summary, int threads,
+                                       sl_error *err);
+
 /* Check linear weights: finite, >= 0, positive sum. Reasons "badweight"
  * (naming the member) and "zeroweights". On success *sum receives the sum. */
 sl_status sl_weights_check(size_t N, const double *w, double *sum,

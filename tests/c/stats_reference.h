@@ -340,4 +340,69 @@ static void reference_weighted_means(size_t N, const double *x, size_t ld, size_
     }
 }
 
+/* The weighted mean of x[0], x[inc], ... by the rule stats.h states, in
+ * the plainest form: the members in consecutive blocks of
+ * ref_mean_block(N) (at least 4096, a multiple of 64, at most 32
+ * blocks); the total weight and the sum of w_j (x_j - ref), ref the
+ * first member of positive weight, each a compensated (Neumaier) sum in
+ * member order inside a block, then over the blocks' sums in order, each
+ * block's error added to the error; mean = ref + sum / W. A range wider
+ * than the largest double: sum of (w_j / W) x_j compensated in member
+ * order. NaN when no weight is positive. */
+static size_t ref_mean_block(size_t N)
+{
+    size_t b = N / 32 + (N % 32 != 0);
+    b = 64 * (b / 64 + (b % 64 != 0));
+    return b < 4096 ? 4096 : b;
+}
+
+static void ref_neumaier(double *s, double *e, double a)
+{
+    double t = *s + a;
+    if (fabs(*s) >= fabs(a))
+        *e += (*s - t) + a;
+    else
+        *e += (a - t) + *s;
+    *s = t;
+}
+
+static double reference_blocked_mean(size_t N, const double *x, size_t inc, const double *w)
+{
+    const size_t B = ref_mean_block(N);
+    double W = 0.0, We = 0.0, S = 0.0, E = 0.0, ref = 0.0, lo = HUGE_VAL, hi = -HUGE_VAL;
+    size_t j, j0, first = N;
+    for (j = 0; j < N; j++)
+        if (w[j] > 0) {
+            if (first == N)
+                first = j;
+            if (x[j * inc] < lo)
+                lo = x[j * inc];
+            if (x[j * inc] > hi)
+                hi = x[j * inc];
+        }
+    if (first == N)
+        return NAN;
+    ref = x[first * inc];
+    for (j0 = 0; j0 < N; j0 += B) {
+        double bw = 0.0, bwe = 0.0, bs = 0.0, be = 0.0;
+        for (j = j0; j < N && j < j0 + B; j++)
+            if (w[j] > 0) {
+                ref_neumaier(&bw, &bwe, w[j]);
+                ref_neumaier(&bs, &be, (1.0 * w[j]) * (x[j * inc] - ref));
+            }
+        ref_neumaier(&W, &We, bw);
+        We += bwe;
+        ref_neumaier(&S, &E, bs);
+        E += be;
+    }
+    W += We;
+    if (isfinite(hi - lo))
+        return ref + (S + E) / W;
+    S = E = 0.0;
+    for (j = 0; j < N; j++)
+        if (w[j] > 0)
+            ref_neumaier(&S, &E, (1.0 / W * w[j]) * (x[j * inc] - 0.0));
+    return S + E;
+}
+
 #endif

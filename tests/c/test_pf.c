@@ -41,6 +41,7 @@ static void run_free(run_buf *r)
     ck_free(r->out.nonfinite);
     ck_free(r->out.temper_steps);
     ck_free(r->out.loglik_evals);
+    ck_free(r->out.fmean);
     ck_free(r->out.hist_X);
     ck_free(r->out.hist_P);
     ck_free(r->out.hist_w);
@@ -87,6 +88,7 @@ static sl_status run(const sl_pf_config *cfg, const double *X0, run_buf *r,
     alloc_outputs(r, v, nq, T);
     r->out.temper_steps = zalloc(T, sizeof(double));
     r->out.loglik_evals = zalloc(T, sizeof(double));
+    r->out.fmean = zalloc(v * T, sizeof(double));
     if (cfg->keep_history) {
         r->out.hist_X = zalloc(n * N * T, sizeof(double));
         r->out.hist_w = zalloc(N * T, sizeof(double));
@@ -98,7 +100,7 @@ static sl_status run(const sl_pf_config *cfg, const double *X0, run_buf *r,
     r->work = bytes ? ck_malloc(bytes) : NULL;
     if (!r->out.mean || !r->out.quant || !r->out.ess || !r->out.logz ||
         !r->out.resampled || !r->out.degenerate || !r->out.skipped ||
-        !r->out.nonfinite || !r->out.temper_steps || !r->out.loglik_evals || !r->X || !r->P || !r->w || !r->work ||
+        !r->out.nonfinite || !r->out.temper_steps || !r->out.loglik_evals || !r->out.fmean || !r->X || !r->P || !r->w || !r->work ||
         (cfg->keep_history &&
          (!r->out.hist_X || !r->out.hist_w || !r->out.hist_a)))
         return sl_fail(err, SL_ENOMEM, "nomemory", "test buffers");
@@ -330,6 +332,7 @@ static int identical(const run_buf *a, const run_buf *b, size_t nq)
 {
     const size_t n = a->n, N = a->N, T = a->T, d = sizeof(double);
     return same(a->out.mean, b->out.mean, n * T * d) &&
+           same(a->out.fmean, b->out.fmean, n * T * d) &&
            same(a->out.quant, b->out.quant, n * nq * T * d) &&
            same(a->out.ess, b->out.ess, T * d) &&
            same(a->out.logz, b->out.logz, T * d) &&
@@ -519,6 +522,7 @@ static void check_snapshot(void)
             /* the outputs of cycles 0 and 1 are the caller's to restore */
             for (k = 0; k < 2; k++) {
                 memcpy(res.out.mean + 2 * k, ref.out.mean + 2 * k, 2 * sizeof(double));
+                memcpy(res.out.fmean + 2 * k, ref.out.fmean + 2 * k, 2 * sizeof(double));
                 memcpy(res.out.quant + 4 * k, ref.out.quant + 4 * k, 4 * sizeof(double));
                 res.out.ess[k] = ref.out.ess[k];
                 res.out.logz[k] = ref.out.logz[k];
@@ -742,7 +746,9 @@ static void check_forecast_region(void)
 }
 
 /* N is odd, not a multiple of 3, and large enough that the run goes
- * parallel (small ensembles are run on one thread whatever is asked). */
+ * parallel (small ensembles are run on one thread whatever is asked) and
+ * that its means and forecast means sum five blocks of members
+ * (sl_mean_block), which the threads share. */
 static void check_determinism(void)
 {
     enum { N = 20001, T = 5, NT = 20 };

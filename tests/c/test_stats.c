@@ -252,8 +252,8 @@ static void run_case(unsigned id, const spec *c)
         /* the means read member by member: the same bits */
         double m1 = 0.0, m2 = 0.0;
         const size_t row0 = 0;
-        sl_weighted_means(N, x, inc, 1, NULL, 0, w, &m1);
-        sl_weighted_means(N, x, inc, 1, &row0, 0, w, &m2);
+        sl_weighted_means(N, x, inc, 1, NULL, 0, w, &m1, 1);
+        sl_weighted_means(N, x, inc, 1, &row0, 0, w, &m2, 2);
         CHECK(memcmp(&m1, &mean, sizeof mean) == 0 && memcmp(&m2, &mean, sizeof mean) == 0,
               "case %u: sl_weighted_means %.17g, %.17g, sl_weighted_summary %.17g", id, m1,
               m2, mean);
@@ -409,8 +409,8 @@ static void check_means_rows(void)
         rows[nr++] = i;
     for (i = 0; i < LD; i++)
         m[i] = mp[i] = -1.0;
-    sl_weighted_means(N, x, LD, LD, NULL, 0, w, m);
-    sl_weighted_means(N, x + 5, LD, nr, rows, 5, w, mp);
+    sl_weighted_means(N, x, LD, LD, NULL, 0, w, m, 1);
+    sl_weighted_means(N, x + 5, LD, nr, rows, 5, w, mp, 2);
     for (i = 0; i < LD; i++) {
         double want;
         sl_weighted_summary(N, x + i, LD, w, 0, NULL, &want, NULL, 1, work);
@@ -426,8 +426,30 @@ static void check_means_rows(void)
     CHECK(mp[1] == -1.0 && mp[2] == -1.0, "a row not listed is not written");
     for (j = 0; j < N; j++)
         w[j] = 0.0;
-    sl_weighted_means(N, x, LD, 3, NULL, 0, w, m);
+    sl_weighted_means(N, x, LD, 3, NULL, 0, w, m, 2);
     CHECK(isnan(m[0]) && isnan(m[2]), "no weight: NaN means");
+}
+
+/* The summing blocks (stats.h): the smallest multiple of 64 that is at
+ * least 4096 and leaves at most SL_MEAN_BLOCKS_MAX blocks, checked as
+ * stated for sizes around the rule's edges. */
+static void check_mean_block(void)
+{
+    static const size_t Ns[] = {0, 1, 4095, 4096, 4097, 131072, 131073, 131135, 131136,
+                                131137, 1000000, 123456789};
+    size_t i, bad = 0;
+    for (i = 0; i < sizeof Ns / sizeof *Ns; i++) {
+        const size_t N = Ns[i], b = sl_mean_block(N), nblk = (N + b - 1) / b;
+        /* the smallest multiple of 64 that is >= 4096 and >= N / 32 */
+        size_t want = 4096;
+        while (want * SL_MEAN_BLOCKS_MAX < N)
+            want += 64;
+        bad += b != want || b % 64 != 0 || nblk > SL_MEAN_BLOCKS_MAX;
+    }
+    CHECK(bad == 0, "sl_mean_block: %lu sizes off the stated rule", (unsigned long)bad);
+    CHECK(sl_mean_block(131072) == 4096 && sl_mean_block(131073) == 4160,
+          "sl_mean_block(131072) %lu, (131073) %lu; expected 4096, 4160",
+          (unsigned long)sl_mean_block(131072), (unsigned long)sl_mean_block(131073));
 }
 
 int main(void)
@@ -444,6 +466,7 @@ int main(void)
 
     check_by_hand();
     check_means_rows();
+    check_mean_block();
     check_no_weight();
     check_wide_mean();
 

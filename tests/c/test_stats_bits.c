@@ -218,10 +218,16 @@ static void run_case(unsigned id, const spec *c)
           bad_q ? q[first_bad * qinc] : 0.0, bad_q ? qref[first_bad] : 0.0);
     CHECK(bad_gap == 0, "case %u: %lu entries between the levels (qinc %lu) were written",
           id, (unsigned long)bad_gap, (unsigned long)qinc);
-    if (c->with_mean)
-        CHECK(memcmp(&mean, &mref, sizeof mean) == 0,
-              "case %u (N=%lu, weights %d, values %d): mean %.17g, the reference %.17g",
-              id, (unsigned long)N, c->wk, c->vk, mean, mref);
+    if (c->with_mean) {
+        /* the mean by the summing blocks of stats.h; up to one block
+         * (4096 members) also the previous routine's, bit for bit */
+        const double mb = reference_blocked_mean(N, x, inc, w);
+        CHECK(memcmp(&mean, &mb, sizeof mean) == 0 &&
+                  (N > 4096 || memcmp(&mean, &mref, sizeof mean) == 0),
+              "case %u (N=%lu, weights %d, values %d): mean %.17g, the blocked reference "
+              "%.17g, the previous %.17g",
+              id, (unsigned long)N, c->wk, c->vk, mean, mb, mref);
+    }
     ck_free(x);
     ck_free(w);
     ck_free(probs);
@@ -272,9 +278,11 @@ static unsigned long rows_cases_run = 0;
 /* One matrix case: ld x N (a member per column), m of its rows (every
  * row, rows NULL, or an increasing subset named with an offset base),
  * each row of its own value kind; members of weight 0 hold junk in every
- * row. The means of sl_weighted_means against the previous
- * sl_weighted_means: the same bits; entries of other rows untouched. */
-static void run_rows_case(unsigned id, size_t N, size_t ld, int wk, int subset)
+ * row. The means of sl_weighted_means against the blocked reference
+ * (and, up to one summing block, the previous sl_weighted_means): the
+ * same bits, on 1 thread and on `threads`; entries of other rows
+ * untouched. */
+static void run_rows_case(unsigned id, size_t N, size_t ld, int wk, int subset, int threads)
 {
     const double sentinel = -6.5e99;
     const size_t base = subset ? 3 : 0;
@@ -282,6 +290,7 @@ static void run_rows_case(unsigned id, size_t N, size_t ld, int wk, int subset)
     double *x = ck_malloc((ld * N + 1) * sizeof *x);
     double *w = ck_malloc((N + 1) * sizeof *w);
     double *m1 = ck_malloc((ld + 1) * sizeof *m1);
+    double *m2 = ck_malloc((ld + 1) * sizeof *m2);
     double *mref = ck_malloc((ld + 1) * sizeof *mref);
     size_t *rows = ck_malloc((ld + 1) * sizeof *rows);
     double pool[20];
@@ -303,21 +312,38 @@ static void run_rows_case(unsigned id, size_t N, size_t ld, int wk, int subset)
             rows[m++] = i + base;
     }
     for (i = 0; i < ld; i++)
-        m1[i] = mref[i] = sentinel;
+        m1[i] = m2[i] = mref[i] = sentinel;
     reference_weighted_means(N, x, ld, m, subset ? rows : NULL, base, w, mref);
-    sl_weighted_means(N, x, ld, m, subset ? rows : NULL, base, w, m1);
+    sl_weighted_means(N, x, ld, m, subset ? rows : NULL, base, w, m1, 1);
+    sl_weighted_means(N, x, ld, m, subset ? rows : NULL, base, w, m2, threads);
     rows_cases_run++;
-    for (i = 0; i < ld; i++)
-        if (memcmp(&m1[i], &mref[i], sizeof *m1) != 0 && bad_mean++ == 0)
+    for (i = 0, k = 0; i < ld; i++) {
+        /* each listed row: the blocked reference; up to one summing block
+         * also the previous routine's bits; any thread count the same */
+        int listed = k < m && (subset ? rows[k] - base : k) == i, ok;
+        if (listed) {
+            const double mb = reference_blocked_mean(N, x + i, ld, w);
+            k++;
+            ok = memcmp(&m1[i], &mb, sizeof mb) == 0 &&
+                 (N > 4096 || memcmp(&m1[i], &mref[i], sizeof mb) == 0);
+        } else {
+            ok = m1[i] == sentinel && mref[i] == sentinel;
+        }
+        ok = ok && memcmp(&m1[i], &m2[i], sizeof *m1) == 0;
+        if (!ok && bad_mean++ == 0)
             first_bad = i;
+    }
     CHECK(bad_mean == 0,
-          "rows case %u (N=%lu, ld %lu, %lu rows, weights %d): %lu means differ from the "
-          "previous sl_weighted_means; row %lu gives %.17g, the reference %.17g",
-          id, (unsigned long)N, (unsigned long)ld, (unsigned long)m, wk,
-          (unsigned long)bad_mean, (unsigned long)first_bad, m1[first_bad], mref[first_bad]);
+          "rows case %u (N=%lu, ld %lu, %lu rows, weights %d, %d threads): %lu means differ "
+          "from the references; row %lu gives %.17g (%.17g on %d threads), the previous "
+          "routine %.17g",
+          id, (unsigned long)N, (unsigned long)ld, (unsigned long)m, wk, threads,
+          (unsigned long)bad_mean, (unsigned long)first_bad, m1[first_bad], m2[first_bad],
+          threads, mref[first_bad]);
     ck_free(x);
     ck_free(w);
     ck_free(m1);
+    ck_free(m2);
     ck_free(mref);
     ck_free(rows);
 }
@@ -326,6 +352,8 @@ static void check_rows(void)
 {
     static const size_t fixed_N[] = {1, 2, 3, 7, 64, 1000, 5000};
     static const size_t lds[] = {1, 2, 7, 63, 64, 65, 130};
+    static const size_t big_N[] = {4095, 4096, 4097, 8192, 8193, 20001, 131072, 131073,
+                                   200003};
     const unsigned nrandom = check_light_() ? 40u : 400u;
     unsigned id = 0, i, l;
     sl_stream s;
@@ -337,17 +365,23 @@ static void check_rows(void)
             int wk = (int)(W_KINDS * sl_stream_uniform(&s));
             if (fixed_N[i] * lds[l] > 100000)
                 continue;
-            run_rows_case(id++, fixed_N[i], lds[l], wk, 0);
-            run_rows_case(id++, fixed_N[i], lds[l], (wk + 1) % W_KINDS, 1);
+            run_rows_case(id++, fixed_N[i], lds[l], wk, 0, 2);
+            run_rows_case(id++, fixed_N[i], lds[l], (wk + 1) % W_KINDS, 1, 3);
         }
-    /* ... and random sizes, log-uniform on 1 .. 5000 */
+    /* ... random sizes, log-uniform on 1 .. 5000 ... */
     for (i = 0; i < nrandom; i++) {
         size_t N = (size_t)exp(sl_stream_uniform(&s) * log(5001.0));
         size_t ld = lds[(size_t)(7 * sl_stream_uniform(&s))];
         int wk = (int)(W_KINDS * sl_stream_uniform(&s));
         if (N * ld > 200000)
             ld = 7;
-        run_rows_case(id++, N, ld, wk, sl_stream_uniform(&s) < 0.5);
+        run_rows_case(id++, N, ld, wk, sl_stream_uniform(&s) < 0.5, 2);
+    }
+    /* ... and many summing blocks: at the edges of a block, and where
+     * the block grows past 4096 members (N > 32 * 4096) */
+    for (i = 0; i < sizeof big_N / sizeof big_N[0]; i++) {
+        int wk = (int)(W_KINDS * sl_stream_uniform(&s));
+        run_rows_case(id++, big_N[i], i % 2 ? 3 : 1, wk, (int)(i % 2), 2 + (int)(i % 3));
     }
     CHECK(rows_cases_run == id, "%lu of %u rows cases ran", rows_cases_run, id);
 }

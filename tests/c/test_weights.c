@@ -267,6 +267,62 @@ int main(void)
             }
     }
 
+    /* sl_weights_normalize_threads on a long vector (several chunks of
+     * 4096): on 2 and 3 threads the weights and the summary have the bits
+     * of one thread, and of sl_weights_normalize; -Inf entries and terms
+     * that underflow to 0 among them; the first NaN or +Inf is named
+     * wherever it lies, also with a later one in an earlier chunk's
+     * shadow; all -Inf is degenerate; w aliasing logw works. */
+    {
+        enum { LONG = 3 * 4096 + 77 };
+        static double lv[LONG], w1[LONG], w2[LONG];
+        static const size_t at[] = {0, 4095, 4096, 9000, LONG - 1};
+        sl_weight_summary s1, s2;
+        char where[40];
+        size_t i, a;
+        int thr, same_bits = 1;
+        for (i = 0; i < LONG; i++)
+            lv[i] = i % 11 == 4 ? -(double)INFINITY
+                                : (i % 97 == 5 ? -900.0 : -3.0 + 2.5 * sin(0.37 * (double)i));
+        CHECK(sl_weights_normalize(LONG, lv, w1, &s1, &err) == SL_OK, "long: %s", err.message);
+        for (thr = 1; thr <= 3; thr++) {
+            memset(w2, 0, sizeof w2);
+            st = sl_weights_normalize_threads(LONG, lv, w2, &s2, thr, &err);
+            same_bits = same_bits && st == SL_OK && memcmp(w1, w2, sizeof w1) == 0 &&
+                        memcmp(&s1, &s2, sizeof s1) == 0;
+        }
+        CHECK(same_bits, "threaded normalisation: not the bits of one thread");
+        CHECK(s1.n_zero == (LONG + 6) / 11 && w1[5] == 0.0 && w1[4] == 0.0,
+              "long: n_zero %zu, w[5] %g (underflow), w[4] %g (-Inf)", s1.n_zero, w1[5],
+              w1[4]);
+        memcpy(w2, lv, sizeof w2);
+        CHECK(sl_weights_normalize_threads(LONG, w2, w2, NULL, 2, &err) == SL_OK &&
+                  memcmp(w1, w2, sizeof w1) == 0,
+              "threaded normalisation with w aliasing logw differs");
+        for (a = 0; a < sizeof at / sizeof *at; a++)
+            for (thr = 1; thr <= 2; thr++) {
+                const double keep = lv[at[a]], keep2 = lv[LONG - 2];
+                const size_t first = at[a] < LONG - 2 ? at[a] : LONG - 2;
+                const int is_nan = first == LONG - 2 || a % 2;
+                lv[LONG - 2] = NAN; /* a later bad value, in another chunk */
+                lv[at[a]] = a % 2 ? (double)NAN : (double)INFINITY;
+                snprintf(where, sizeof where, "%lu of %d is %s", (unsigned long)(first + 1),
+                         LONG, is_nan ? "NaN" : "+Inf");
+                st = sl_weights_normalize_threads(LONG, lv, w2, NULL, thr, &err);
+                CHECK(st == SL_EINVAL && strcmp(err.reason, "badlogw") == 0 &&
+                          strstr(err.message, where) != NULL,
+                      "%d threads, log-weight %s: %s: %s", thr, where, err.reason,
+                      err.message);
+                lv[at[a]] = keep;
+                lv[LONG - 2] = keep2;
+            }
+        for (i = 0; i < LONG; i++)
+            w2[i] = -(double)INFINITY;
+        st = sl_weights_normalize_threads(LONG, w2, w1, NULL, 2, &err);
+        CHECK(st == SL_EDEGENERATE && strcmp(err.reason, "degenerate") == 0,
+              "threaded, all -Inf: %d %s", (int)st, err.reason);
+    }
+
     /* ESS of a one-hot vector is 1; of (1/2, 1/2) is 2. */
     {
         const double a[3] = {0, 1, 0}, b[2] = {0.5, 0.5};
