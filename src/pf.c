@@ -2652,9 +2652,13 @@ sl_status sl_pf_run(const sl_pf_config *cfg, double *X, double *P, double *w,
             sl_pfi_gather_cols(n, N, Xc, b.X[nx], b.anc, b.nt);
             sl_pfi_gather_cols(p, N, Pc, b.P[nx], b.anc, b.nt);
             sl_pfi_gather_cols(p, N, Zc, b.Z[nx], b.anc, b.nt);
-            for (j = 0; j < N && p > 0; j++)
-                memcpy(b.vid[nx] + j * p, b.vid[cur] + (size_t)b.anc[j] * p,
-                       p * sizeof(uint32_t));
+            if (p > 0) {
+                long jj;
+#pragma omp parallel for num_threads(b.nt) schedule(static)
+                for (jj = 0; jj < (long)N; jj++)
+                    memcpy(b.vid[nx] + (size_t)jj * p, b.vid[cur] + (size_t)b.anc[jj] * p,
+                           p * sizeof(uint32_t));
+            }
             if (kmove) {
                 const sl_param_mover *mv = cfg->param_move;
                 double *Zn = b.Z[nx], *Pn = b.P[nx];
@@ -2674,10 +2678,15 @@ sl_status sl_pf_run(const sl_pf_config *cfg, double *X, double *P, double *w,
             gather_draws(&b, N, b.anc, s, k);
             if (b.nwin > 0)
                 window_gather(cfg, &b, k, k + 1 < b.nwin ? k + 1 : b.nwin);
-            for (j = 0; j < N; j++) {
-                b.dead[nx][j] = b.dead[cur][b.anc[j]];
-                w[j] = 1.0 / (double)N;
-                b.lw[j] = -log((double)N);
+            {
+                const double w1 = 1.0 / (double)N, lw1 = -log((double)N);
+                long jj;
+#pragma omp parallel for num_threads(b.nt) schedule(static)
+                for (jj = 0; jj < (long)N; jj++) {
+                    b.dead[nx][jj] = b.dead[cur][b.anc[jj]];
+                    w[jj] = w1;
+                    b.lw[jj] = lw1;
+                }
             }
             cur = nx;
             resampled = 1;

@@ -525,6 +525,8 @@ void sl_weighted_means(size_t N, const double *x, size_t ld, size_t m,
     size_t bj0[SL_MEAN_BLOCKS_MAX];
     size_t j, j0 = N, i0, b;
     long k;
+    if (m == 0)
+        return;
     /* the total weight: the members of positive weight, block by block */
 #pragma omp parallel for num_threads(nt) schedule(static) private(j)
     for (k = 0; k < (long)nblk; k++) {
