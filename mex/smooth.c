@@ -136,7 +136,11 @@ void mexFunction(int nlhs, mxArray *plhs[], int nrhs, const mxArray *prhs[])
     cfg.w = slm_matrix(FN, prhs[3], 4, "weights", N, T, SLM_ALLOW_NAN | SLM_ALLOW_INF);
     cfg.probs = slm_matrix(FN, prhs[4], 5, "probs", 0, 0, SLM_VECTOR | SLM_ALLOW_EMPTY);
     cfg.nq = mxGetNumberOfElements(prhs[4]);
-    cfg.threads = slm_threads(slm_integer(FN, prhs[5], 6, "threads", 0, 256));
+    {
+        const double thr = slm_integer(FN, prhs[5], 6, "threads", 0, 256);
+        cfg.threads = slm_threads(thr);
+        cfg.threads_auto = thr == 0; /* 0: all cores when the work pays */
+    }
     cfg.n = n;
     cfg.p = p;
     cfg.N = N;

@@ -51,13 +51,26 @@ typedef struct {
     double *cnt;      /* M x 2: evaluations and fallbacks of each trajectory */
 } smooth_ws;
 
-static int threads_of(const sl_smooth_config *cfg, size_t items)
+/* The threads of a run: at most its items (particles, cycles, and for
+ * backward simulation trajectories), one while its work is small and the
+ * count is the caller's most (threads_auto). */
+static int threads_of(const sl_smooth_config *cfg, int kind)
 {
+    size_t items = cfg->N > cfg->T ? cfg->N : cfg->T;
     int nt = cfg->threads;
+    if (kind == KIND_FFBSI && cfg->M > items)
+        items = cfg->M;
     if (nt < 1)
         nt = 1;
     if ((size_t)nt > items)
         nt = (int)(items > 0 ? items : 1);
+    if (cfg->threads_auto && nt > 1) {
+        const double units = (double)cfg->N * (double)cfg->T;
+        const double ns = kind == KIND_FFBSI ? 3.0 * units * (double)cfg->M * (double)cfg->n
+                                             : 15.0 * units * (double)(cfg->n + cfg->p);
+        if (ns < SL_SMOOTH_THREAD_WORK)
+            nt = 1;
+    }
     return nt;
 }
 
@@ -68,11 +81,9 @@ static int layout(const sl_smooth_config *cfg, int kind, void *base,
 {
     const size_t N = cfg->N, n = cfg->n;
     unsigned char *at = base;
-    size_t off = 0, nt, items = N > cfg->T ? N : cfg->T, cnt;
+    size_t off = 0, nt, cnt;
     memset(ws, 0, sizeof *ws);
-    if (kind == KIND_FFBSI && cfg->M > items)
-        items = cfg->M;
-    ws->nt = threads_of(cfg, items);
+    ws->nt = threads_of(cfg, kind);
     nt = (size_t)ws->nt;
     ws->qper = sl_quantile_workspace(N);
     if (ws->qper < N) /* 8 N + constant overflowed */
@@ -778,6 +789,11 @@ const sl_smoother sl_smoother_ffbsi = {"ffbsi", ffbsi_workspace, run_ffbsi};
 
 static const sl_smoother *const all_smoothers[] = {&sl_smoother_genealogy,
                                                    &sl_smoother_ffbsi};
+
+int sl_smooth_thread_count(const sl_smoother *type, const sl_smooth_config *cfg)
+{
+    return threads_of(cfg, type == &sl_smoother_ffbsi ? KIND_FFBSI : KIND_GENEALOGY);
+}
 
 const sl_smoother *sl_smoother_find(const char *name)
 {

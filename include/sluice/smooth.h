@@ -28,6 +28,10 @@ typedef struct {
     size_t nq;         /* quantile levels of the summaries */
     const double *probs;
     int threads;       /* >= 1 */
+    /* threads is the most to use: one thread while the smoother's work
+     * is below SL_SMOOTH_THREAD_WORK (sl_smooth_thread_count); 0: use
+     * threads as given */
+    int threads_auto;
     /* genealogy: ancestors[j + s N] (0-based) is the particle of cycle s
      * that column j of the population the forecast to cycle s + 1 starts
      * from copies (column T - 1 is not read) */
@@ -98,6 +102,19 @@ extern const sl_smoother sl_smoother_genealogy;
  * n N T + 2 N T doubles), so the paths then run to the first cycle
  * without waiting for each other. */
 extern const sl_smoother sl_smoother_ffbsi;
+
+/* The estimated one-core work, in nanoseconds of this machine's class,
+ * below which a smoother given threads_auto keeps one thread: a thread
+ * that slept while the caller's Octave code ran can take milliseconds to
+ * start (measured here: 1-11 ms after 50 ms idle on 2 shared cores). The
+ * work is 15 ns per member, cycle and summarised row for the genealogy
+ * and 3 ns per member, trajectory, cycle and state for backward
+ * simulation (its exact sum), as timed on one core here. */
+#define SL_SMOOTH_THREAD_WORK 1e7
+
+/* The threads a run of the smoother with cfg uses (never more than its
+ * particles, trajectories or cycles). */
+int sl_smooth_thread_count(const sl_smoother *type, const sl_smooth_config *cfg);
 
 /* The smoother with this name, or NULL. */
 const sl_smoother *sl_smoother_find(const char *name);

@@ -65,7 +65,11 @@
 % @item seed
 % keys the backward draws (default the run's @code{res.seed}).
 % @item threads
-% OpenMP threads (default the run's, or all cores).
+% OpenMP threads (default the run's; for a run with the default, all
+% cores when the smoother's work is large, about 10 ms or more on one
+% core, and one thread below that, since a thread that slept while
+% Octave ran can take milliseconds to start). The results are the same
+% for any count.
 % @end table
 %
 % The result is @var{res} with the field @code{smoothed}: @code{method},
@@ -338,19 +342,34 @@ function [F, L] = transitions (res, h, model, threads)
     model.Q = [];
     model.L = [];
   end
-  F = zeros (n, N, T - 1);
   forcing = run_option (res, 'forcing', []);
   events = run_option (res, 'events', []);
   state = warning ('off', 'sluice:propagate:nonfinite');
   cleanup = onCleanup (@() warning (state));
-  for s = 1:T-1
-    P = [];
-    if (~isempty (h.P))
-      P = h.P(:, 1, s);
-    end
-    F(:, :, s) = sluice.propagate (model, h.X(:, :, s), P, t(s), t(s + 1), forcing, ...
-                                   'events', events, 'threads', threads);
+  % every cycle's particles at once: the settings are made once (about
+  % 1 ms a cycle saved), each cycle's members run on their own
+  P = [];
+  if (~isempty (h.P))
+    P = h.P(:, ones (1, N), 1:T-1);
   end
+  % a member that failed in the run (non-finite, weight 0) runs as a copy
+  % of a finite member of its cycle and gets NaN means, which the
+  % smoother never reads for a member of weight 0
+  X = h.X(:, :, 1:T-1);
+  bad = any (~isfinite (X), 1);
+  for s = find (any (bad, 2))'
+    good = find (~bad(1, :, s), 1);
+    if (isempty (good))
+      X(:, :, s) = 0;
+    else
+      X(:, bad(1, :, s), s) = X(:, good(ones (1, nnz (bad(1, :, s)))), s);
+    end
+  end
+  F = sluice.internal.run_states (model, X, P, t(1:T-1), t(2:T), forcing, ...
+                                  struct ('events', events, 'seed', 1, 'threads', threads), ...
+                                  'propagate');
+  F(:, bad(:)) = NaN;
+  F = reshape (F, n, N, T - 1);
 end
 
 %!shared spec, pr, obs

@@ -568,6 +568,44 @@ static void test_threads(void)
         }
 }
 
+/* The default thread count (threads_auto): one thread while the
+ * estimated work (15 ns per member, cycle and row for the genealogy,
+ * 3 ns per member, trajectory, cycle and state for backward simulation)
+ * is below SL_SMOOTH_THREAD_WORK, the most given above it; without
+ * threads_auto the count as given, never more than the items. The rule
+ * is the one smooth.h states; its edges are checked on both sides. */
+static void test_thread_count(void)
+{
+    sl_smooth_config cfg;
+    memset(&cfg, 0, sizeof cfg);
+    cfg.n = 1;
+    cfg.p = 1;
+    cfg.N = 1000;
+    cfg.T = 333;       /* 15 x 1000 x 333 x 2 = 9.99e6 < 1e7 */
+    cfg.M = 100;
+    cfg.threads = 4;
+    cfg.threads_auto = 1;
+    CHECK(sl_smooth_thread_count(&sl_smoother_genealogy, &cfg) == 1,
+          "genealogy, 9.99e6 ns of work: %d threads", sl_smooth_thread_count(&sl_smoother_genealogy, &cfg));
+    cfg.T = 334;       /* 1.002e7 */
+    CHECK(sl_smooth_thread_count(&sl_smoother_genealogy, &cfg) == 4,
+          "genealogy, 1.002e7 ns of work: %d threads", sl_smooth_thread_count(&sl_smoother_genealogy, &cfg));
+    cfg.T = 33;        /* ffbsi: 3 x 1000 x 100 x 33 x 1 = 9.9e6 */
+    CHECK(sl_smooth_thread_count(&sl_smoother_ffbsi, &cfg) == 1,
+          "ffbsi, 9.9e6 ns of work: %d threads", sl_smooth_thread_count(&sl_smoother_ffbsi, &cfg));
+    cfg.T = 34;        /* 1.02e7 */
+    CHECK(sl_smooth_thread_count(&sl_smoother_ffbsi, &cfg) == 4,
+          "ffbsi, 1.02e7 ns of work: %d threads", sl_smooth_thread_count(&sl_smoother_ffbsi, &cfg));
+    cfg.threads_auto = 0;
+    cfg.T = 2;
+    CHECK(sl_smooth_thread_count(&sl_smoother_genealogy, &cfg) == 4,
+          "threads given: %d", sl_smooth_thread_count(&sl_smoother_genealogy, &cfg));
+    cfg.N = 3;
+    CHECK(sl_smooth_thread_count(&sl_smoother_genealogy, &cfg) == 3,
+          "threads given, 3 particles and 2 cycles: %d",
+          sl_smooth_thread_count(&sl_smoother_genealogy, &cfg));
+}
+
 int main(void)
 {
     test_genealogy_by_hand();
@@ -577,5 +615,6 @@ int main(void)
     test_ffbsi_full_covariance();
     test_ffbsi_degenerate();
     test_threads();
+    test_thread_count();
     CHECK_DONE("test_smooth");
 }

@@ -232,3 +232,31 @@
 %! sluice.kernel.smooth ('genealogy', ones (1, 3, 2), [], zeros (3, 2), 0.5, 0, ones (3, 2))
 %!error id=sluice:smooth:badprobs ...
 %! sluice.kernel.smooth ('genealogy', ones (1, 3, 2), [], ones (3, 2), 1.5, 0, ones (3, 2))
+
+%!test
+%! % a member that failed in the run (non-finite state, weight 0) at some
+%! % cycles: backward simulation never reads it, so the result is the one
+%! % with a finite state there instead (common practice: a particle of
+%! % weight 0 carries no probability)
+%! spec = sluice.model ('linear', 'A', [0.9 0.1; 0 0.8], 'Q', 0.1 * eye (2), ...
+%!                      'states', {'x', 'y'});
+%! pr = sluice.prior ('x', 'normal', [0 1], 'y', 'normal', [0 1]);
+%! T = 8;
+%! obs = struct ('time', (1:T)', 'variable', {repmat({'x'}, T, 1)}, ...
+%!               'value', sin ((1:T)' / 3), 'sigma', 0.5 * ones (T, 1));
+%! r = sluice.filter (spec, pr, obs, 'members', 60, 't0', 0, 'history', true, ...
+%!                    'seed', 4, 'progress', false);
+%! a = r;
+%! b = r;
+%! for s = [1 2 5 T]
+%!   j = 3 + s;
+%!   a.history.w(j, s) = 0;
+%!   b.history.w(j, s) = 0;
+%!   a.history.X(:, j, s) = [NaN; Inf];
+%!   b.history.X(:, j, s) = [40; -7];
+%! end
+%! fa = sluice.smooth (a, 'method', 'ffbsi', 'model', spec, 'trajectories', 30);
+%! fb = sluice.smooth (b, 'method', 'ffbsi', 'model', spec, 'trajectories', 30);
+%! assert (isequal (fa.smoothed.trajectories, fb.smoothed.trajectories));
+%! assert (isequal (fa.smoothed.states, fb.smoothed.states));
+%! assert (all (isfinite (fa.smoothed.states.mean(:))));

@@ -4,12 +4,25 @@ function X = run_states (model, X0, P0, t0, times, forcing, opts, fn)
   % (n x N x numel(times)). The settings name fn as the caller: the
   % compiled run raises its errors as sluice:<fn>:<reason> (a user's own
   % identifiers are kept; an error without one becomes sluice:<fn>:failed).
+  % With K > 1 starts: t0 and times K-vectors, X0 n x N x K and P0 p x N
+  % x K (or empty), start k's ensemble runs from t0(k) to times(k) alone
+  % and X is n x N x K. The settings are made once for all starts, and
+  % each start gives what a call of its own gives.
+  if (isempty (t0))
+    X = zeros (size (X0, 1), size (X0, 2), 0);
+    return;
+  end
   try
     c = sluice.internal.model_config (model, forcing, [], opts.events, [], fn);
     N = size (X0, 2);
-    T = numel (times);
+    K = numel (t0);
+    if (K == 1)
+      T = numel (times);
+    else
+      T = 1;
+    end
     c.members = N;
-    c.t0 = t0;
+    c.t0 = t0(1);
     c.times = times(:)';
     c.obs_first = zeros (1, T + 1);
     c.obs_var = []; c.obs_value = []; c.obs_sigma = []; c.obs_aux = []; c.obs_family = {};
@@ -25,16 +38,34 @@ function X = run_states (model, X0, P0, t0, times, forcing, opts, fn)
     end
     c.probs = [];
     c.history = 2;
-    c.X0 = X0;
-    c.P0 = P0;
-    r = sluice.internal.run_engine (model, c);
+    if (K == 1)
+      c.X0 = X0;
+      c.P0 = P0;
+      r = sluice.internal.run_engine (model, c);
+      X = r.history_X;
+      nonfinite = max (r.nonfinite);
+    else
+      X = zeros (size (X0, 1), N, K);
+      nonfinite = 0;
+      for k = 1:K
+        c.t0 = t0(k);
+        c.times = times(k);
+        c.X0 = X0(:, :, k);
+        if (isempty (P0))
+          c.P0 = P0;
+        else
+          c.P0 = P0(:, :, k);
+        end
+        r = sluice.internal.run_engine (model, c);
+        X(:, :, k) = r.history_X;
+        nonfinite = max ([nonfinite, r.nonfinite(:)']);
+      end
+    end
   catch err
-    % an error raised without an identifier: sluice:<fn>:failed
     sluice.internal.raise_again (err.identifier, ['sluice:' fn ':failed'], err.message);
   end
-  X = r.history_X;
-  if (any (r.nonfinite > 0))
+  if (nonfinite > 0)
     warning (['sluice:' fn ':nonfinite'], '%d member(s) reached a non-finite state', ...
-             max (r.nonfinite));
+             nonfinite);
   end
 end
