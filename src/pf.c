@@ -1458,15 +1458,28 @@ sl_status sl_pfi_reweight(size_t N, const unsigned char *dead, double *ll, size_
     long jj;
     if (N < REWEIGHT_THREADS_FROM)
         nt = 1;
+    /* (one thread: no parallel region, whose start costs more than a
+     * small ensemble's loop) */
+    if (nt > 1) {
 #pragma omp parallel for num_threads(nt) schedule(static)
-    for (jj = 0; jj < (long)N; jj++)
-        logw[jj] = dead[jj] ? -HUGE_VAL : (nobs > 0 ? lw[jj] + rest * ll[jj] : lw[jj]);
+        for (jj = 0; jj < (long)N; jj++)
+            logw[jj] = dead[jj] ? -HUGE_VAL : (nobs > 0 ? lw[jj] + rest * ll[jj] : lw[jj]);
+    } else {
+        for (j = 0; j < N; j++)
+            logw[j] = dead[j] ? -HUGE_VAL : (nobs > 0 ? lw[j] + rest * ll[j] : lw[j]);
+    }
     st = sl_weights_normalize_threads(N, logw, ll, &ws, nt, &werr);
     if (st == SL_OK) {
+        if (nt > 1) {
 #pragma omp parallel for num_threads(nt) schedule(static)
-        for (jj = 0; jj < (long)N; jj++) {
-            w[jj] = ll[jj];
-            lw[jj] = logw[jj] - ws.log_sum;
+            for (jj = 0; jj < (long)N; jj++) {
+                w[jj] = ll[jj];
+                lw[jj] = logw[jj] - ws.log_sum;
+            }
+        } else {
+            memcpy(w, ll, N * sizeof(double));
+            for (j = 0; j < N; j++)
+                lw[j] = logw[j] - ws.log_sum;
         }
         *logz = ws.log_sum;
         return SL_OK;
@@ -1552,22 +1565,63 @@ int sl_pfi_has_nonfinite(const double *x, size_t n)
     return !(s == 0.0);
 }
 
-/* The forecast means' kernel, shared with the split run (pf_internal.h). */
+/* The forecast means' kernel, shared with the split run (pf_internal.h):
+ * block k's plain sums, member order (a summing block of sl_mean_block). */
+static double live_block_weight(size_t N, const unsigned char *dead, const double *w,
+                                size_t blk, size_t k)
+{
+    const size_t jb = k * blk + blk < N ? k * blk + blk : N;
+    double s = 0.0;
+    size_t j;
+    for (j = k * blk; j < jb; j++)
+        if (!dead[j] && w[j] > 0)
+            s += w[j];
+    return s;
+}
+
+static void live_block_means(size_t N, const unsigned char *dead, const double *w,
+                             size_t blk, size_t k, size_t nb, const double *const *src,
+                             const size_t *ld, double *out)
+{
+    const size_t jb = k * blk + blk < N ? k * blk + blk : N;
+    double s[SL_PFI_FMEAN_BLOCK];
+    size_t i, j;
+    for (i = 0; i < nb; i++)
+        s[i] = 0.0;
+    for (j = k * blk; j < jb; j++) {
+        if (dead[j] || !(w[j] > 0))
+            continue;
+        i = 0;
+#ifdef __SSE2__
+        {
+            /* two rows in the lanes of one register: each lane the
+             * scalar product and sum of its row, the same bits */
+            const __m128d wj = _mm_set1_pd(w[j]);
+            for (; i + 1 < nb; i += 2) {
+                __m128d v = _mm_loadh_pd(_mm_load_sd(src[i] + j * ld[i]),
+                                         src[i + 1] + j * ld[i + 1]);
+                _mm_storeu_pd(s + i, _mm_add_pd(_mm_loadu_pd(s + i), _mm_mul_pd(wj, v)));
+            }
+        }
+#endif
+        for (; i < nb; i++)
+            s[i] += w[j] * src[i][j * ld[i]];
+    }
+    memcpy(out, s, nb * sizeof *s);
+}
+
 double sl_pfi_live_weight(size_t N, const unsigned char *dead, const double *w, int threads)
 {
     const size_t blk = sl_mean_block(N), nblk = (N + blk - 1) / blk;
-    const int nt = threads > 1 && nblk > 1 ? threads : 1;
     double part[SL_MEAN_BLOCKS_MAX], W = 0.0;
-    size_t j;
     long k;
-#pragma omp parallel for num_threads(nt) schedule(static) private(j)
-    for (k = 0; k < (long)nblk; k++) {
-        const size_t jb = (size_t)k * blk + blk < N ? (size_t)k * blk + blk : N;
-        double s = 0.0;
-        for (j = (size_t)k * blk; j < jb; j++)
-            if (!dead[j] && w[j] > 0)
-                s += w[j];
-        part[k] = s;
+    if (threads > 1 && nblk > 1) {
+#pragma omp parallel for num_threads(threads) schedule(static)
+        for (k = 0; k < (long)nblk; k++)
+            part[k] = live_block_weight(N, dead, w, blk, (size_t)k);
+    } else {
+        for (k = 0; k < (long)nblk; k++)
+            part[k] = live_block_weight(N, dead, w, blk, (size_t)k);
     }
     for (k = 0; k < (long)nblk; k++)
         W += part[k];
@@ -1579,35 +1633,16 @@ void sl_pfi_live_means(size_t N, const unsigned char *dead, const double *w, dou
                        int threads)
 {
     const size_t blk = sl_mean_block(N), nblk = (N + blk - 1) / blk;
-    const int nt = threads > 1 && nblk > 1 ? threads : 1;
     double part[SL_MEAN_BLOCKS_MAX][SL_PFI_FMEAN_BLOCK];
-    size_t i, j;
+    size_t i;
     long k;
-#pragma omp parallel for num_threads(nt) schedule(static) private(i, j)
-    for (k = 0; k < (long)nblk; k++) {
-        const size_t jb = (size_t)k * blk + blk < N ? (size_t)k * blk + blk : N;
-        double *s = part[k];
-        for (i = 0; i < nb; i++)
-            s[i] = 0.0;
-        for (j = (size_t)k * blk; j < jb; j++) {
-            if (dead[j] || !(w[j] > 0))
-                continue;
-            i = 0;
-#ifdef __SSE2__
-            {
-                /* two rows in the lanes of one register: each lane the
-                 * scalar product and sum of its row, the same bits */
-                const __m128d wj = _mm_set1_pd(w[j]);
-                for (; i + 1 < nb; i += 2) {
-                    __m128d v = _mm_loadh_pd(_mm_load_sd(src[i] + j * ld[i]),
-                                             src[i + 1] + j * ld[i + 1]);
-                    _mm_storeu_pd(s + i, _mm_add_pd(_mm_loadu_pd(s + i), _mm_mul_pd(wj, v)));
-                }
-            }
-#endif
-            for (; i < nb; i++)
-                s[i] += w[j] * src[i][j * ld[i]];
-        }
+    if (threads > 1 && nblk > 1) {
+#pragma omp parallel for num_threads(threads) schedule(static)
+        for (k = 0; k < (long)nblk; k++)
+            live_block_means(N, dead, w, blk, (size_t)k, nb, src, ld, part[k]);
+    } else {
+        for (k = 0; k < (long)nblk; k++)
+            live_block_means(N, dead, w, blk, (size_t)k, nb, src, ld, part[k]);
     }
     for (i = 0; i < nb; i++) {
         double t = 0.0;

@@ -510,6 +510,56 @@ static void means_step(size_t nb, const double *col, const size_t *r, double wj,
     }
 }
 
+/* The end of summing block k (blocks of blk members, N in all). */
+static size_t block_end(size_t N, size_t blk, size_t k)
+{
+    return k * blk + blk < N ? k * blk + blk : N;
+}
+
+/* The compensated total weight (*sw + *ew) of the members of positive
+ * weight of the summing block from ja (blk members at most), and the
+ * first of them (*first; N: none). */
+static void block_weight(size_t N, const double *w, size_t ja, size_t blk, double *sw,
+                         double *ew, size_t *first)
+{
+    const size_t jb = block_end(N, blk, ja / blk);
+    double s = 0.0, e = 0.0;
+    size_t j, f = N;
+    for (j = ja; j < jb; j++) {
+        if (!(w[j] > 0))
+            continue;
+        if (f == N)
+            f = j;
+        neumaier_add(&s, &e, w[j]);
+    }
+    *sw = s;
+    *ew = e;
+    *first = f;
+}
+
+/* One summing block's sums of nb rows over members j0 .. jb - 1 (those
+ * of positive weight), in local arrays (which the compiler keeps apart
+ * from x), then out. */
+static void block_sums(size_t nb, const double *x, size_t ld, const size_t *r,
+                       const double *w, const double *ref, size_t j0, size_t jb,
+                       double *s_out, double *e_out, double *lo_out, double *hi_out)
+{
+    double s[MEANBLOCK], e[MEANBLOCK], lo[MEANBLOCK], hi[MEANBLOCK];
+    size_t j, b;
+    for (b = 0; b < nb; b++) {
+        s[b] = e[b] = 0.0;
+        lo[b] = HUGE_VAL;
+        hi[b] = -HUGE_VAL;
+    }
+    for (j = j0; j < jb; j++)
+        if (w[j] > 0)
+            means_step(nb, x + j * ld, r, w[j], ref, s, e, lo, hi);
+    memcpy(s_out, s, nb * sizeof *s);
+    memcpy(e_out, e, nb * sizeof *e);
+    memcpy(lo_out, lo, nb * sizeof *lo);
+    memcpy(hi_out, hi, nb * sizeof *hi);
+}
+
 void sl_weighted_means(size_t N, const double *x, size_t ld, size_t m,
                        const size_t *rows, size_t base, const double *w,
                        double *mean, int threads)
@@ -527,22 +577,16 @@ void sl_weighted_means(size_t N, const double *x, size_t ld, size_t m,
     long k;
     if (m == 0)
         return;
-    /* the total weight: the members of positive weight, block by block */
-#pragma omp parallel for num_threads(nt) schedule(static) private(j)
-    for (k = 0; k < (long)nblk; k++) {
-        const size_t ja = (size_t)k * blk, jb = ja + blk < N ? ja + blk : N;
-        double sw = 0.0, ew = 0.0;
-        size_t first = N;
-        for (j = ja; j < jb; j++) {
-            if (!(w[j] > 0))
-                continue;
-            if (first == N)
-                first = j;
-            neumaier_add(&sw, &ew, w[j]);
-        }
-        bW[k] = sw;
-        bWe[k] = ew;
-        bj0[k] = first;
+    /* the total weight: the members of positive weight, block by block
+     * (one thread: no parallel region, whose start costs more than a
+     * small block's sums) */
+    if (nt > 1) {
+#pragma omp parallel for num_threads(nt) schedule(static)
+        for (k = 0; k < (long)nblk; k++)
+            block_weight(N, w, (size_t)k * blk, blk, &bW[k], &bWe[k], &bj0[k]);
+    } else {
+        for (k = 0; k < (long)nblk; k++)
+            block_weight(N, w, (size_t)k * blk, blk, &bW[k], &bWe[k], &bj0[k]);
     }
     W = combine_blocks(nblk, bW, 1, bWe, 1);
     for (b = 0; b < nblk && j0 == N; b++)
@@ -560,17 +604,15 @@ void sl_weighted_means(size_t N, const double *x, size_t ld, size_t m,
         for (b = 0; b < nb; b++)
             /* deviations from the first member of positive weight */
             ref[b] = x[r[b] + j0 * ld];
-#pragma omp parallel for num_threads(nt) schedule(static) private(j, b)
-        for (k = 0; k < (long)nblk; k++) {
-            const size_t jb = (size_t)k * blk + blk < N ? (size_t)k * blk + blk : N;
-            for (b = 0; b < nb; b++) {
-                s[k][b] = e[k][b] = 0.0;
-                lo[k][b] = HUGE_VAL;
-                hi[k][b] = -HUGE_VAL;
-            }
-            for (j = bj0[k]; j < jb; j++)
-                if (w[j] > 0)
-                    means_step(nb, x + j * ld, r, w[j], ref, s[k], e[k], lo[k], hi[k]);
+        if (nt > 1) {
+#pragma omp parallel for num_threads(nt) schedule(static)
+            for (k = 0; k < (long)nblk; k++)
+                block_sums(nb, x, ld, r, w, ref, bj0[k], block_end(N, blk, (size_t)k), s[k],
+                           e[k], lo[k], hi[k]);
+        } else {
+            for (k = 0; k < (long)nblk; k++)
+                block_sums(nb, x, ld, r, w, ref, bj0[k], block_end(N, blk, (size_t)k), s[k],
+                           e[k], lo[k], hi[k]);
         }
         for (b = 0; b < nb; b++) {
             double l = HUGE_VAL, h = -HUGE_VAL;

@@ -15,6 +15,31 @@ static sl_status bad_logw(size_t j, size_t N, double v, sl_error *err)
                    isnan(v) ? "NaN" : "+Inf");
 }
 
+/* Pass 1 of the normalisation on chunk c: the largest log-weight into
+ * *top, the -Inf ones counted in *n_zero, the first NaN or +Inf (at most
+ * *bad) into *bad; the chunk's scan stops there. */
+static void scan_chunk(const double *logw, size_t N, size_t c, double *top, size_t *n_zero,
+                       size_t *bad)
+{
+    const size_t ja = c * NORM_CHUNK, jb = ja + NORM_CHUNK < N ? ja + NORM_CHUNK : N;
+    double t = *top;
+    size_t j, z = 0;
+    for (j = ja; j < jb; j++) {
+        const double v = logw[j];
+        if (isnan(v) || v == HUGE_VAL) {
+            if (j < *bad)
+                *bad = j;
+            break;
+        }
+        if (v == -HUGE_VAL)
+            z++;
+        else if (v > t)
+            t = v;
+    }
+    *top = t;
+    *n_zero += z;
+}
+
 sl_status sl_weights_normalize(size_t N, const double *logw, double *w,
                                sl_weight_summary *summary, sl_error *err)
 {
@@ -39,24 +64,17 @@ sl_status sl_weights_normalize_threads(size_t N, const double *logw, double *w,
                        "no log-weights given (N = 0)");
 
     /* Pass 1: the largest log-weight, and the values that are not allowed
-     * (the first of them: each chunk's first, the lowest chunk's wins). */
-#pragma omp parallel for num_threads(nt) schedule(static) private(j) \
+     * (the first of them: each chunk's first, the lowest chunk's wins).
+     * One thread: no parallel region (its start costs more than a small
+     * ensemble's pass). */
+    if (nt > 1) {
+#pragma omp parallel for num_threads(nt) schedule(static) \
     reduction(max : top) reduction(+ : n_zero) reduction(min : bad)
-    for (c = 0; c < (long)nch; c++) {
-        const size_t ja = (size_t)c * NORM_CHUNK;
-        const size_t jb = ja + NORM_CHUNK < N ? ja + NORM_CHUNK : N;
-        for (j = ja; j < jb; j++) {
-            const double v = logw[j];
-            if (isnan(v) || v == HUGE_VAL) {
-                if (j < bad)
-                    bad = j;
-                break;
-            }
-            if (v == -HUGE_VAL)
-                n_zero++;
-            else if (v > top)
-                top = v;
-        }
+        for (c = 0; c < (long)nch; c++)
+            scan_chunk(logw, N, (size_t)c, &top, &n_zero, &bad);
+    } else {
+        for (c = 0; c < (long)nch; c++)
+            scan_chunk(logw, N, (size_t)c, &top, &n_zero, &bad);
     }
     if (bad < N)
         return bad_logw(bad, N, logw[bad], err);
@@ -103,9 +121,14 @@ sl_status sl_weights_normalize_threads(size_t N, const double *logw, double *w,
         }
     }
     inv = 1 / s;
+    if (nt > 1) {
 #pragma omp parallel for num_threads(nt) schedule(static)
-    for (c = 0; c < (long)N; c++)
-        w[c] *= inv;
+        for (c = 0; c < (long)N; c++)
+            w[c] *= inv;
+    } else {
+        for (j = 0; j < N; j++)
+            w[j] *= inv;
+    }
 
     log_s = log(s);
     if (summary != NULL) {

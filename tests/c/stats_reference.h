@@ -1,8 +1,11 @@
 /* stats_reference.h - the previous implementations of sl_weighted_summary
  * (bucket selection, qsort for small candidate sets) and of
  * sl_weighted_means, unchanged but for their names: the references the
- * current ones must match bit for bit (tests/c/test_stats_bits.c) and are
- * timed against (tests/bench/quantiles_micro.c, rows_micro.c). */
+ * current ones must match bit for bit (tests/c/test_stats_bits.c; the
+ * means up to one summing block of 4096 members) and are timed against
+ * (tests/bench/quantiles_micro.c, means_micro.c); and
+ * reference_blocked_mean, the means' summing blocks of stats.h in their
+ * plainest form, which every mean must match bit for bit. */
 #ifndef SLUICE_STATS_REFERENCE_H
 #define SLUICE_STATS_REFERENCE_H
 
