@@ -2342,13 +2342,32 @@ static sl_status temper_cycle(const sl_pf_config *cfg, pf_buffers *b, size_t k,
 static size_t count_nan_predictions(const sl_pf_config *cfg, const pf_buffers *b, size_t r0,
                                     size_t m, const unsigned char *dead)
 {
-    size_t i, j, count = 0;
+    size_t i, count = 0;
+    long j;
+    int all = 1;
+    for (i = 0; i < m; i++)
+        all = all && !isnan(cfg->y[r0 + i]);
+    if (all) {
+        /* every row has a value (the common case): x != x over the
+         * member's rows, no branch per row */
 #pragma omp parallel for num_threads(b->nt) schedule(static) private(i) reduction(+ : count)
-    for (j = 0; j < cfg->N; j++) {
+        for (j = 0; j < (long)cfg->N; j++) {
+            const double *yh = b->Yhat + (size_t)j * m;
+            int nan = 0;
+            if (dead[j])
+                continue;
+            for (i = 0; i < m; i++)
+                nan |= yh[i] != yh[i];
+            count += (size_t)nan;
+        }
+        return count;
+    }
+#pragma omp parallel for num_threads(b->nt) schedule(static) private(i) reduction(+ : count)
+    for (j = 0; j < (long)cfg->N; j++) {
         if (dead[j])
             continue;
         for (i = 0; i < m; i++)
-            if (!isnan(cfg->y[r0 + i]) && isnan(b->Yhat[i + j * m])) {
+            if (!isnan(cfg->y[r0 + i]) && isnan(b->Yhat[i + (size_t)j * m])) {
                 count++;
                 break;
             }
