@@ -13,6 +13,7 @@
 #include "sluice/pf.h"
 #include "sluice/prior.h"
 #include "sluice/rng.h"
+#include "sluice/stats.h"
 
 #include <math.h>
 #include <pthread.h>
@@ -773,12 +774,72 @@ static void check_wide_kalman(void)
     }
 }
 
+/* More members than one summing block (sl_mean_block: 9001 members are
+ * three blocks): the split run's means and forecast means, summed by
+ * blocks over all N members, and all else it records are the
+ * one-process run's bit for bit, on 1 to 7 ranks, and the one-process
+ * run's are the same on 1 and 2 threads. A linear model of two states,
+ * the first observed. */
+static void check_many_members(void)
+{
+    enum { N = 9001, T = 4 };
+    static const double A[4] = {0.9, -0.2, 0.1, 0.95}, L[4] = {0.3, 0.1, 0.0, 0.2};
+    static const sl_linear lin = {2, 0, A, NULL, NULL, L};
+    static double times[T], y[T], sg[T], aux[T], X0[2 * N];
+    static size_t first[T + 1], var[T];
+    static int fam[T];
+    const double probs[2] = {0.1, 0.9};
+    sl_model md;
+    sl_pf_config cfg;
+    sl_error err;
+    double P0[1] = {0.0};
+    run_buf ref, two;
+    size_t j, k;
+    char what[40] = "";
+    CHECK(sl_mean_block(N) == 4096, "9001 members: blocks of %lu", (unsigned long)sl_mean_block(N));
+    CHECK(sl_linear_model(&md, &lin, 1.0, &err) == SL_OK, "linear model: %s", err.message);
+    for (k = 0; k < T; k++) {
+        times[k] = 1.0 + (double)k;
+        first[k] = k;
+        var[k] = 0;
+        y[k] = 0.4 * (double)k - 0.3;
+        sg[k] = 0.3;
+        aux[k] = 0.0;
+        fam[k] = SL_FAMILY_GAUSSIAN;
+    }
+    first[T] = T;
+    for (j = 0; j < 2 * N; j++) {
+        sl_stream st;
+        sl_stream_init(&st, 17, (uint32_t)j, 0, SL_PURPOSE_PRIOR);
+        X0[j] = sl_stream_normal(&st);
+    }
+    base_config(&cfg, &md, N, T, times, first, y, sg, aux, fam, var);
+    cfg.threshold = 0.6;
+    cfg.seed = 11;
+    cfg.nq = 2;
+    cfg.probs = probs;
+    run_alloc(&ref, &cfg, X0, P0, sl_pf_workspace(&cfg));
+    ref.st = sl_pf_run(&cfg, ref.X, ref.P, ref.w, ref.work, &ref.out, &ref.err);
+    CHECK(ref.st == SL_OK, "many members, one process: %s", ref.err.message);
+    cfg.threads = 2;
+    run_alloc(&two, &cfg, X0, P0, sl_pf_workspace(&cfg));
+    two.st = sl_pf_run(&cfg, two.X, two.P, two.w, two.work, &two.out, &two.err);
+    CHECK(two.st == SL_OK && ref.st == SL_OK && identical(&cfg, &ref, &two, what),
+          "many members: 2 threads, %s differs from 1", what);
+    cfg.threads = 1;
+    if (ref.st == SL_OK)
+        compare_ranks(&cfg, &ref, X0, P0, "many members", 0);
+    run_free(&ref);
+    run_free(&two);
+}
+
 int main(void)
 {
     check_gr4j();
     check_flood_spans();
     check_member_draws_and_failure();
     check_wide_kalman();
+    check_many_members();
     check_refusals();
     CHECK_DONE("test_pf_ranks");
 }
