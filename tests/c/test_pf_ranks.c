@@ -434,6 +434,25 @@ static void check_flood_spans(void)
     ck_free(P0);
 }
 
+/* One observation a cycle at times 1 .. T: state 0, Gaussian with sd
+ * sigma, the value at cycle k (0-based) slope k + offset. */
+static void first_state_obs(size_t T, double slope, double offset, double sigma,
+                            double *times, size_t *first, size_t *var, double *y, double *sg,
+                            double *aux, int *fam)
+{
+    size_t k;
+    for (k = 0; k < T; k++) {
+        times[k] = 1.0 + (double)k;
+        first[k] = k;
+        var[k] = 0;
+        y[k] = slope * (double)k + offset;
+        sg[k] = sigma;
+        aux[k] = 0.0;
+        fam[k] = SL_FAMILY_GAUSSIAN;
+    }
+    first[T] = T;
+}
+
 /* A model of its own: the 2-state linear model plus model noise keyed by
  * the member index (member_draws), failing at step `fail_step` for
  * member `fail_member` when asked. */
@@ -488,16 +507,7 @@ static void check_member_draws_and_failure(void)
         ft[k] = (double)k;
         fv[k] = sin((double)k);
     }
-    for (k = 0; k < T; k++) {
-        times[k] = 1.0 + (double)k;
-        first[k] = k;
-        var[k] = 0;
-        y[k] = 0.3 * (double)k - 0.5;
-        sg[k] = 0.4;
-        aux[k] = 0.0;
-        fam[k] = SL_FAMILY_GAUSSIAN;
-    }
-    first[T] = T;
+    first_state_obs(T, 0.3, -0.5, 0.4, times, first, var, y, sg, aux, fam);
     for (j = 0; j < 2 * N; j++) {
         sl_stream s;
         sl_stream_init(&s, 9, (uint32_t)j, 0, SL_PURPOSE_PRIOR);
@@ -794,25 +804,11 @@ static void check_many_members(void)
     sl_error err;
     double P0[1] = {0.0};
     run_buf ref, two;
-    size_t j, k;
     char what[40] = "";
     CHECK(sl_mean_block(N) == 4096, "9001 members: blocks of %lu", (unsigned long)sl_mean_block(N));
     CHECK(sl_linear_model(&md, &lin, 1.0, &err) == SL_OK, "linear model: %s", err.message);
-    for (k = 0; k < T; k++) {
-        times[k] = 1.0 + (double)k;
-        first[k] = k;
-        var[k] = 0;
-        y[k] = 0.4 * (double)k - 0.3;
-        sg[k] = 0.3;
-        aux[k] = 0.0;
-        fam[k] = SL_FAMILY_GAUSSIAN;
-    }
-    first[T] = T;
-    for (j = 0; j < 2 * N; j++) {
-        sl_stream st;
-        sl_stream_init(&st, 17, (uint32_t)j, 0, SL_PURPOSE_PRIOR);
-        X0[j] = sl_stream_normal(&st);
-    }
+    first_state_obs(T, 0.4, -0.3, 0.3, times, first, var, y, sg, aux, fam);
+    draw_states(X0, 2, N, 17);
     base_config(&cfg, &md, N, T, times, first, y, sg, aux, fam, var);
     cfg.threshold = 0.6;
     cfg.seed = 11;
