@@ -95,6 +95,9 @@ typedef struct {
     double *ssend, *srecv; /* a distributed analysis: the gather's parts */
     size_t *scount;        /* and its P counts */
     size_t lo, hi;         /* the rows this rank updates */
+    size_t xoff, ld;       /* X holds row xoff at its start, with leading
+                            * dimension ld (0 and n; with rows_local, lo
+                            * and hi - lo) */
     int in_rows;           /* 1: the analysis reached its rows */
     size_t b;
     int lwork;
@@ -299,8 +302,8 @@ static size_t layout(const sl_enkf_config *cfg, size_t n, size_t N, size_t m,
     mt->layout(&c, cfg, w);
     /* the LETKF shares its rows out in its own workspace */
     if (sl_enkfi_split(cfg) && cfg->method != SL_ENKF_LETKF &&
-        !sl_enkfi_share_layout(base, &c.off, cfg->ranks->size, n, N, &w->ssend, &w->srecv,
-                               &w->scount))
+        !sl_enkfi_share_layout(base, &c.off, cfg->ranks->size, cfg->rows_local ? 0 : n, N,
+                               &w->ssend, &w->srecv, &w->scount))
         return 0;
     if (c.bad || c.off == SL_WS_OVERFLOW)
         return 0;
@@ -377,6 +380,10 @@ static sl_status check_config(const sl_enkf_config *cfg, int r_full,
         return sl_fail(err, SL_EINVAL, "badconfig",
                        "the eigenvalue floor must lie in [0, 1), got %g",
                        cfg->eig_floor);
+    if (cfg->rows_local && cfg->method == SL_ENKF_LETKF)
+        return sl_fail(err, SL_EINVAL, "badconfig",
+                       "the LETKF shares its grid points out itself: rows_local is for "
+                       "the global methods");
     return SL_OK;
 }
 
@@ -421,14 +428,16 @@ static int lower_nonfinite(const double *A, size_t k)
     return 0;
 }
 
-static sl_status check_finite(size_t n, size_t N, const double *X, size_t m,
+/* X holds rows row0 .. row0+n-1 of the ensemble (all of them but on a
+ * rank of a distributed analysis with rows_local). */
+static sl_status check_finite(size_t n, size_t row0, size_t N, const double *X, size_t m,
                               const double *HX, const double *y,
                               const double *R, int r_full, sl_error *err)
 {
     size_t at, len;
     if ((at = first_nonfinite(X, n * N)) < n * N)
         return sl_fail(err, SL_EINVAL, "nonfinite",
-                       "X(%lu,%lu) is not finite", (unsigned long)(at % n + 1),
+                       "X(%lu,%lu) is not finite", (unsigned long)(row0 + at % n + 1),
                        (unsigned long)(at / n + 1));
     if ((at = first_nonfinite(HX, m * N)) < m * N)
         return sl_fail(err, SL_EINVAL, "nonfinite",
@@ -749,11 +758,13 @@ static void rows_begin(const sl_enkf_config *cfg, size_t n, buffers *w)
 
 /* After the row loop of a split global analysis: every rank's rows
  * gathered into X on every rank, or the first failure. st (with err):
- * how this rank's rows went. */
+ * how this rank's rows went. With rows_local the ranks only agree on
+ * that: nothing but the heads travels and X is left as it is. */
 static sl_status share_rows(const sl_enkf_config *cfg, size_t n, size_t N, double *X,
                             buffers *w, sl_status st, sl_error *err)
 {
     const sl_enkf_ranks *rk = cfg->ranks;
+    const int local = cfg->rows_local;
     const int P = rk->size;
     double *send = w->ssend, *recv = w->srecv;
     size_t lo, hi, i, j, at = 0, rows;
@@ -763,13 +774,13 @@ static sl_status share_rows(const sl_enkf_config *cfg, size_t n, size_t N, doubl
     memset(send, 0, SL_ENKFI_HEAD * sizeof(double));
     send[0] = st == SL_OK ? SL_ENKFI_OK
                           : (st == SL_ENUMERIC ? SL_ENKFI_NONFINITE : SL_ENKFI_OTHER);
-    rows = w->hi - w->lo;
+    rows = local ? 0 : w->hi - w->lo;
     for (j = 0; j < N; j++)
         for (i = 0; i < rows; i++)
             send[SL_ENKFI_HEAD + i + j * rows] = X[w->lo + i + j * n];
     for (r = 0; r < P; r++) {
         rows_of(n, w->b, P, r, &lo, &hi);
-        w->scount[r] = hi - lo;
+        w->scount[r] = local ? 0 : hi - lo;
     }
     sl_error_clear(&gerr);
     gst = sl_enkfi_gather(rk, N, send, recv, w->scount, &gerr);
@@ -784,7 +795,7 @@ static sl_status share_rows(const sl_enkf_config *cfg, size_t n, size_t N, doubl
         return sl_enkfi_rank_failed(rk, other, err);
     if (sl_enkfi_first_with(rk, recv, w->scount, SL_ENKFI_NONFINITE) >= 0)
         return fail_nonfinite(err);
-    for (r = 0; r < P; r++) {
+    for (r = 0; r < P && !local; r++) {
         const double *part = recv + at + SL_ENKFI_HEAD;
         rows_of(n, w->b, P, r, &lo, &hi);
         rows = hi - lo;
@@ -934,7 +945,7 @@ static sl_status etkf_obs_space(const sl_enkf_config *cfg, size_t n, size_t N,
                                 double *X, size_t m, buffers *w, double *dof,
                                 size_t *floored, sl_error *err)
 {
-    const int iN = (int)N, im = (int)m, in = (int)n;
+    const int iN = (int)N, im = (int)m;
     const double infl = cfg->inflation, nm1 = (double)(N - 1);
     const double frel = cfg->eig_floor > 0 ? cfg->eig_floor : DEFAULT_FLOOR;
     const size_t m1 = m + 1;
@@ -1012,23 +1023,24 @@ static sl_status etkf_obs_space(const sl_enkf_config *cfg, size_t n, size_t N,
     rows_begin(cfg, n, w);
     for (i0 = w->lo; i0 < w->hi; i0 += w->b) {
         const size_t nb = n - i0 < w->b ? n - i0 : w->b;
-        const int ib = (int)nb;
+        const int ib = (int)nb, ild = (int)w->ld;
+        double *Xr = X + (i0 - w->xoff); /* row i0, leading dimension w->ld */
         const double *xw = G + m * nb; /* X'w, the mean's increment */
         if ((st = poll_rows(cfg, err)) != SL_OK)
             return st;
-        block_prior(n, N, X, i0, nb, infl, xbar, B, 1, nb);
+        block_prior(w->ld, N, Xr, 0, nb, infl, xbar, B, 1, nb);
         dgemm_("N", "T", &ib, &im1, &iN, &D1, B, &ib, V, &im1, &D0, G, &ib, 1, 1);
         for (j = 0; j < N; j++)
             for (i = 0; i < nb; i++)
-                X[i0 + i + j * n] = c0 * B[i + j * nb];
-        dgemm_("N", "N", &ib, &iN, &im, &DM1, G, &ib, V, &im1, &D1, X + i0, &in, 1, 1);
+                Xr[i + j * w->ld] = c0 * B[i + j * nb];
+        dgemm_("N", "N", &ib, &iN, &im, &DM1, G, &ib, V, &im1, &D1, Xr, &ild, 1, 1);
         for (j = 0; j < N; j++)
             for (i = 0; i < nb; i++)
-                X[i0 + i + j * n] += xbar[i] + xw[i];
+                Xr[i + j * w->ld] += xbar[i] + xw[i];
         if (cfg->rtpp > 0 || cfg->rtps > 0)
             for (i = 0; i < nb; i++)
-                relax_row(cfg, N, X + i0 + i, n, B + i, nb);
-        if (!rows_finite(n, N, X, i0, nb))
+                relax_row(cfg, N, Xr + i, w->ld, B + i, nb);
+        if (!rows_finite(w->ld, N, Xr, 0, nb))
             return fail_nonfinite(err);
     }
     return SL_OK;
@@ -1050,7 +1062,7 @@ static sl_status run_etkf(const sl_enkf_config *cfg, size_t n, size_t N,
                           const double *y, int rdiag, buffers *w, double *dof,
                           size_t *floored, sl_error *err)
 {
-    const int iN = (int)N, im = (int)m, in = (int)n;
+    const int iN = (int)N, im = (int)m;
     const double infl = cfg->inflation;
     const double frel = cfg->eig_floor > 0 ? cfg->eig_floor : DEFAULT_FLOOR;
     double *yp = w->yp, *d = w->dv, *A = w->A, *T = w->T, *lam = w->lam;
@@ -1127,18 +1139,19 @@ static sl_status run_etkf(const sl_enkf_config *cfg, size_t n, size_t N,
     rows_begin(cfg, n, w);
     for (i0 = w->lo; i0 < w->hi; i0 += w->b) {
         const size_t nb = n - i0 < w->b ? n - i0 : w->b;
-        const int ib = (int)nb;
+        const int ib = (int)nb, ild = (int)w->ld;
+        double *Xr = X + (i0 - w->xoff); /* row i0, leading dimension w->ld */
         if ((st = poll_rows(cfg, err)) != SL_OK)
             return st;
-        block_prior(n, N, X, i0, nb, infl, xbar, B, 1, nb);
-        dgemm_("N", "N", &ib, &iN, &iN, &D1, B, &ib, T, &iN, &D0, X + i0, &in, 1, 1);
+        block_prior(w->ld, N, Xr, 0, nb, infl, xbar, B, 1, nb);
+        dgemm_("N", "N", &ib, &iN, &iN, &D1, B, &ib, T, &iN, &D0, Xr, &ild, 1, 1);
         for (j = 0; j < N; j++)
             for (i = 0; i < nb; i++)
-                X[i0 + i + j * n] += xbar[i];
+                Xr[i + j * w->ld] += xbar[i];
         if (cfg->rtpp > 0 || cfg->rtps > 0)
             for (i = 0; i < nb; i++)
-                relax_row(cfg, N, X + i0 + i, n, B + i, nb);
-        if (!rows_finite(n, N, X, i0, nb))
+                relax_row(cfg, N, Xr + i, w->ld, B + i, nb);
+        if (!rows_finite(w->ld, N, Xr, 0, nb))
             return fail_nonfinite(err);
     }
     return SL_OK;
@@ -1162,7 +1175,7 @@ static sl_status run_stochastic(const sl_enkf_config *cfg, size_t n, size_t N,
                                 const double *y, const double *R, int rdiag,
                                 buffers *w, double *dof, sl_error *err)
 {
-    const int iN = (int)N, im = (int)m, in = (int)n;
+    const int iN = (int)N, im = (int)m;
     const double infl = cfg->inflation, scale = 1.0 / (double)(N - 1);
     const sl_localization *L = cfg->loc;
     double *yp = w->yp, *S = w->sq, *D = w->D, *B = w->blk, *G = w->G;
@@ -1227,11 +1240,12 @@ static sl_status run_stochastic(const sl_enkf_config *cfg, size_t n, size_t N,
     rows_begin(cfg, n, w);
     for (i0 = w->lo; i0 < w->hi; i0 += w->b) {
         const size_t nb = n - i0 < w->b ? n - i0 : w->b;
-        const int ib = (int)nb;
+        const int ib = (int)nb, ild = (int)w->ld;
+        double *Xr = X + (i0 - w->xoff); /* row i0, leading dimension w->ld */
         sl_status st = poll_rows(cfg, err);
         if (st != SL_OK)
             return st;
-        block_prior(n, N, X, i0, nb, infl, xbar, B, 1, nb);
+        block_prior(w->ld, N, Xr, 0, nb, infl, xbar, B, 1, nb);
         dgemm_("N", "T", &ib, &im, &iN, &scale, B, &ib, yp, &im, &D0, G, &ib, 1, 1);
         for (i = 0; i < nb; i++)
             touched[i] = 1.0;
@@ -1249,13 +1263,13 @@ static sl_status run_stochastic(const sl_enkf_config *cfg, size_t n, size_t N,
         if (infl != 1.0)
             for (j = 0; j < N; j++)
                 for (i = 0; i < nb; i++)
-                    X[i0 + i + j * n] = xbar[i] + B[i + j * nb];
-        dgemm_("N", "N", &ib, &iN, &im, &D1, G, &ib, D, &im, &D1, X + i0, &in, 1, 1);
+                    Xr[i + j * w->ld] = xbar[i] + B[i + j * nb];
+        dgemm_("N", "N", &ib, &iN, &im, &D1, G, &ib, D, &im, &D1, Xr, &ild, 1, 1);
         if (cfg->rtpp > 0 || cfg->rtps > 0)
             for (i = 0; i < nb; i++)
                 if (touched[i] > 0)
-                    relax_row(cfg, N, X + i0 + i, n, B + i, nb);
-        if (!rows_finite(n, N, X, i0, nb))
+                    relax_row(cfg, N, Xr + i, w->ld, B + i, nb);
+        if (!rows_finite(w->ld, N, Xr, 0, nb))
             return fail_nonfinite(err);
     }
     return SL_OK;
@@ -1357,11 +1371,12 @@ static sl_status run_serial(const sl_enkf_config *cfg, size_t n, size_t N,
     for (i0 = w->lo; i0 < w->hi; i0 += w->b) {
         const size_t nb = n - i0 < w->b ? n - i0 : w->b;
         const int ib = (int)nb;
+        double *Xr = X + (i0 - w->xoff); /* row i0, leading dimension w->ld */
         double *B = w->blk, *C = w->blk2;
         if ((st = poll_rows(cfg, err)) != SL_OK)
             return st;
         /* prior perturbations: row i0 + i in column i of B (N x nb) */
-        block_prior(n, N, X, i0, nb, infl, xbar, B, N, 1);
+        block_prior(w->ld, N, Xr, 0, nb, infl, xbar, B, N, 1);
         memcpy(C, B, nb * N * sizeof(double));
         for (i = 0; i < nb; i++)
             flag[i] = 0.0;
@@ -1398,8 +1413,8 @@ static sl_status run_serial(const sl_enkf_config *cfg, size_t n, size_t N,
         for (j = 0; j < N; j++)
             for (i = 0; i < nb; i++)
                 if (flag[i] > 0 || infl != 1.0)
-                    X[i0 + i + j * n] = C[i * N + j];
-        if (!rows_finite(n, N, X, i0, nb))
+                    Xr[i + j * w->ld] = C[i * N + j];
+        if (!rows_finite(w->ld, N, Xr, 0, nb))
             return fail_nonfinite(err);
     }
     return SL_OK;
@@ -1541,6 +1556,55 @@ const char *sl_enkf_method_name(int method)
 
 /* ------------------------------------------------------------ the entry */
 
+size_t sl_enkf_local_rows_max(const sl_enkf_config *cfg, size_t n, size_t N, size_t m)
+{
+    const int P = cfg != NULL && cfg->ranks != NULL && cfg->ranks->size > 1 ? cfg->ranks->size
+                                                                              : 1;
+    size_t most = 0, kb, last = 0, b, lo, hi;
+    int r, obs;
+    if (cfg == NULL || method_get(cfg->method) == NULL || cfg->method == SL_ENKF_LETKF ||
+        N < 2 || m < 1 || n < 1)
+        return 0;
+    /* the blocks: BLOCK_ROWS (at most n), and for the ETKF's observation
+     * space those of every size it can take (see obs_block), kb running
+     * over L + mk + 3 for 2 <= L <= N living members and 1 <= mk <= m */
+    obs = cfg->method == SL_ENKF_ETKF && cfg->etkf_form != SL_ETKF_ENSEMBLE;
+    for (kb = 0; kb == 0 || (obs && kb <= N + m + 3); kb = kb == 0 ? 6 : kb + 1) {
+        b = kb == 0 ? (n < BLOCK_ROWS ? n : BLOCK_ROWS) : obs_block(n, kb);
+        if (b == last)
+            continue;
+        last = b;
+        if (!(P > 1 && n > b)) {
+            most = n;
+            break;
+        }
+        for (r = 0; r < P; r++) {
+            rows_of(n, b, P, r, &lo, &hi);
+            if (hi - lo > most)
+                most = hi - lo;
+        }
+    }
+    return most;
+}
+
+int sl_enkf_local_rows(const sl_enkf_config *cfg, size_t n, size_t N, size_t m, int rank,
+                       size_t *lo, size_t *hi)
+{
+    buffers w;
+    if (cfg == NULL || method_get(cfg->method) == NULL || cfg->method == SL_ENKF_LETKF ||
+        cfg->etkf_form < SL_ETKF_AUTO || cfg->etkf_form > SL_ETKF_OBSERVATION ||
+        layout(cfg, n, N, m, 0, etkf_obs_form(cfg, N, m), NULL, &w) == 0)
+        return 0;
+    *lo = 0;
+    *hi = n;
+    if (rows_split(cfg, n, w.b)) {
+        if (rank < 0 || rank >= cfg->ranks->size)
+            return 0;
+        rows_of(n, w.b, cfg->ranks->size, rank, lo, hi);
+    }
+    return 1;
+}
+
 sl_status sl_enkf_analysis(const sl_enkf_config *cfg, size_t n, size_t N,
                            double *X, size_t m, const double *HX,
                            const double *y, const double *R, int r_full,
@@ -1550,7 +1614,7 @@ sl_status sl_enkf_analysis(const sl_enkf_config *cfg, size_t n, size_t N,
     sl_status st;
     double dof = NAN;
     size_t floored = 0, skipped = 0;
-    int rdiag = 1;
+    int rdiag = 1, lsplit;
 
     if ((st = check_config(cfg, r_full, err)) != SL_OK)
         return st;
@@ -1573,22 +1637,36 @@ sl_status sl_enkf_analysis(const sl_enkf_config *cfg, size_t n, size_t N,
         return st;
     if (layout(cfg, n, N, m, r_full, etkf_obs_form(cfg, N, m), work, &w) == 0)
         return sl_fail(err, SL_ENOMEM, "nomemory", "the analysis workspace size overflows");
-    if ((st = check_finite(n, N, X, m, HX, y, R, r_full, err)) != SL_OK)
-        return st;
-    if ((st = check_R(method_get(cfg->method), m, R, r_full, &w, &rdiag, err)) != SL_OK)
-        return st;
-    /* the arguments passed: only now is any output written (a refused call
-     * leaves X, work and info as they were) */
-    if (info != NULL) {
-        info->floored = 0;
-        info->local_skipped = 0;
-        info->innov_dof = NAN;
+    /* where X's rows are: all of them, or this rank's alone (rows_local) */
+    lsplit = cfg->rows_local && rows_split(cfg, n, w.b);
+    w.xoff = 0;
+    w.ld = n;
+    if (lsplit) {
+        rows_of(n, w.b, cfg->ranks->size, cfg->ranks->rank, &w.xoff, &w.ld);
+        w.ld -= w.xoff;
     }
-    st = method_get(cfg->method)->run(cfg, n, N, X, m, HX, y, R, rdiag, &w, &dof, &floored,
-                                       &skipped, err);
+    st = check_finite(w.ld, w.xoff, N, X, m, HX, y, R, r_full, err);
+    if (st == SL_OK)
+        st = check_R(method_get(cfg->method), m, R, r_full, &w, &rdiag, err);
+    /* a rank that holds its own rows alone may fail where the others do
+     * not: it still joins them below */
+    if (st != SL_OK && !lsplit)
+        return st;
+    if (st == SL_OK) {
+        /* the arguments passed: only now is any output written (a refused
+         * call leaves X, work and info as they were) */
+        if (info != NULL) {
+            info->floored = 0;
+            info->local_skipped = 0;
+            info->innov_dof = NAN;
+        }
+        st = method_get(cfg->method)->run(cfg, n, N, X, m, HX, y, R, rdiag, &w, &dof,
+                                           &floored, &skipped, err);
+    }
     /* every rank reaches the rows, or none does (what comes before is
-     * worked out alike everywhere) */
-    if (w.in_rows && rows_split(cfg, n, w.b))
+     * worked out alike everywhere); with rows of its own, every rank
+     * joins the others whatever happened */
+    if (lsplit || (w.in_rows && rows_split(cfg, n, w.b)))
         st = share_rows(cfg, n, N, X, &w, st, err);
     if (st == SL_OK && info != NULL) {
         info->floored = floored;

@@ -5,6 +5,7 @@
 
 #include <stddef.h>
 #include <stdint.h>
+#include "sluice/enkf.h"
 #include "sluice/pf.h"
 
 /* Every buffer of a run, carved from the caller's workspace. */
@@ -244,6 +245,28 @@ void sl_pfi_refresh_ids(size_t p, size_t N, const double *Zold, const double *Zn
 /* The ensemble Kalman analyses (pf_kalman.c): the table's entry for an
  * sl_enkf_method, NULL for none. */
 const sl_analysis *sl_pfi_kalman_of(int method);
+/* The settings the run's ensemble Kalman analysis (cfg's entry) runs
+ * with, into ec unless NULL; 0 when cfg's analysis is not one of them. */
+int sl_pfi_kalman_settings(const sl_pf_config *cfg, sl_enkf_config *ec);
+/* One cycle's ensemble Kalman analysis in parts (pf_kalman.c), for the
+ * run of pf.c and the split run of pf_ranks.c alike: the settings and
+ * sizes sl_pfi_kalman_setup makes; sl_pfi_kalman_analyse runs it on the
+ * caller's ensemble of ks->va rows and ks->L living members (see there).
+ * Setup reads Yhat (m x N) and writes b->live, b->Hc, b->yc, b->rc,
+ * b->opos and b->oc, which must hold N, m_max N, m_max, m_max,
+ * m_max dim and m_max values. */
+typedef struct {
+    sl_enkf_config ecfg;
+    sl_localization lc;
+    size_t L, mk, va;
+} sl_pfi_kalman;
+int sl_pfi_kalman_setup(const sl_pf_config *cfg, const sl_enkf_config *settings, pf_buffers *b,
+                        size_t k, size_t r0, size_t m, const unsigned char *dead,
+                        const double *Yhat, double *infl, size_t nw, sl_pf_output *out,
+                        int *degenerate, size_t *nskipped, int part, sl_pfi_kalman *ks);
+sl_status sl_pfi_kalman_analyse(const sl_pf_config *cfg, pf_buffers *b, sl_pfi_kalman *ks,
+                                double *A, size_t nw, sl_pf_output *out, size_t k, int part,
+                                sl_error *err);
 /* Checkpoints (pf.c): restore a run from cfg->resume into b, the
  * workspace `work` and the weights w (the caller takes the loop-carried
  * values from the header); take a snapshot of the run at the end of a

@@ -53,26 +53,24 @@ static int obs_in(const sl_pf_config *cfg, int part, size_t r)
     return part < 0 || cfg->obs_comp[r] == part;
 }
 
-/* The ensemble Kalman analysis of cycle k: live members only, observed
- * rows only, states and transformed parameters together. With part >= 0
- * (weak coupling) only the observations of component part are used and
- * only its rows are written back. */
-static sl_status enkf_update(const sl_pf_config *cfg, const sl_enkf_config *settings,
-                             pf_buffers *b, size_t k,
-                             size_t r0, size_t m, const unsigned char *dead,
-                             double *X, double *Z, double *P, double *infl,
-                             size_t nw, sl_pf_output *out, int *degenerate,
-                             size_t *nskipped, int part, sl_error *err)
+/* The first part of the ensemble Kalman analysis of cycle k (live
+ * members only, observed rows only; with part >= 0, weak coupling, only
+ * the observations of component part): the inflation in force recorded,
+ * the living members listed (b->live, ks->L), the observed rows compacted
+ * (b->yc, b->rc, b->Hc from the predicted observations Yhat, m x N, and
+ * their positions), the adaptive inflation updated and the settings of
+ * the analysis made (ks->ecfg, its localisation ks->lc; the caller sets
+ * its ranks). Returns 0 when the cycle has no analysis: no observation,
+ * or fewer than 2 living members (*degenerate). */
+int sl_pfi_kalman_setup(const sl_pf_config *cfg, const sl_enkf_config *settings, pf_buffers *b,
+                        size_t k, size_t r0, size_t m, const unsigned char *dead,
+                        const double *Yhat, double *infl, size_t nw, sl_pf_output *out,
+                        int *degenerate, size_t *nskipped, int part, sl_pfi_kalman *ks)
 {
     const size_t N = cfg->N, n = cfg->model->n_state, p = cfg->model->n_param;
     const size_t v = n + p, dim = cfg->loc != NULL ? cfg->loc->dim : 0;
     const size_t va = v * (nw + 1); /* rows of the augmented ensemble */
     size_t L = 0, mk = 0, mt, i, j, jj, d, s;
-    sl_enkf_config ecfg = *settings;
-    sl_enkf_ranks er;
-    sl_localization lc;
-    sl_enkf_info info;
-    sl_status st;
     /* the inflation in force, recorded also for cycles with no analysis */
     if (out->inflation != NULL)
         out->inflation[k] = cfg->adaptive_inflation ? *infl : settings->inflation;
@@ -86,11 +84,14 @@ static sl_status enkf_update(const sl_pf_config *cfg, const sl_enkf_config *sett
             *nskipped += isnan(cfg->y[r0 + i]);
         }
     if (mk == 0)
-        return SL_OK;
+        return 0;
     if (L < 2) {
         *degenerate = 1;
-        return SL_OK;
+        return 0;
     }
+    ks->L = L;
+    ks->va = va;
+    ks->ecfg = *settings;
     /* compact the observed rows (mt of them: the leading dimension) */
     mt = mk;
     for (i = 0, mk = 0; i < m; i++) {
@@ -100,7 +101,7 @@ static sl_status enkf_update(const sl_pf_config *cfg, const sl_enkf_config *sett
         b->yc[mk] = cfg->y[row];
         b->rc[mk] = cfg->sigma[row] * cfg->sigma[row];
         for (jj = 0; jj < L; jj++)
-            b->Hc[mk + jj * mt] = b->Yhat[i + b->live[jj] * m];
+            b->Hc[mk + jj * mt] = Yhat[i + b->live[jj] * m];
         if (cfg->loc != NULL) {
             size_t mall = cfg->obs_first[cfg->T];
             for (d = 0; d < dim; d++)
@@ -109,15 +110,7 @@ static sl_status enkf_update(const sl_pf_config *cfg, const sl_enkf_config *sett
         }
         mk++;
     }
-    for (jj = 0; jj < L; jj++) {
-        memcpy(b->A + jj * va, X + b->live[jj] * n, n * sizeof(double));
-        if (p > 0)
-            memcpy(b->A + jj * va + n, Z + b->live[jj] * p, p * sizeof(double));
-        /* the window: cycles k-1, k-2, ..., k-nw below the current rows */
-        for (s = 1; s <= nw; s++)
-            memcpy(b->A + jj * va + s * v, b->win[(k - s) % b->nwin] + b->live[jj] * v,
-                   v * sizeof(double));
-    }
+    ks->mk = mk;
     if (cfg->adaptive_inflation) {
         /* variance inflation from the innovations: E[d'd] = lambda tr(HBH') + tr R */
         double d2 = 0.0, trR = 0.0, trB = 0.0, est;
@@ -142,58 +135,111 @@ static sl_status enkf_update(const sl_pf_config *cfg, const sl_enkf_config *sett
         *infl = 0.9 * *infl + 0.1 * est;
         if (*infl > cfg->inflation_max)
             *infl = cfg->inflation_max;
-        ecfg.inflation = *infl;
+        ks->ecfg.inflation = *infl;
     }
-    ecfg.seed = cfg->seed;
+    ks->ecfg.seed = cfg->seed;
     if (part >= 0) {
         /* the perturbed observations of each component: a stream of its own */
         const uint64_t c = (uint64_t)part;
-        ecfg.seed = sl_fnv1a(cfg->seed, &c, sizeof c);
+        ks->ecfg.seed = sl_fnv1a(cfg->seed, &c, sizeof c);
     }
-    ecfg.cycle = (uint32_t)k;
+    ks->ecfg.cycle = (uint32_t)k;
     /* a paced run: the cycle's count */
-    ecfg.threads = cfg->threads_paced ? b->nt : cfg->threads;
-    ecfg.ranks = analysis_ranks(cfg, &er);
+    ks->ecfg.threads = cfg->threads_paced ? b->nt : cfg->threads;
+    ks->ecfg.ranks = NULL;
     /* the run's poll also between the parts of a long analysis */
-    ecfg.poll = cfg->poll;
-    ecfg.poll_ctx = cfg->poll_ctx;
-    ecfg.poll_fraction = (double)k / (double)cfg->T;
+    ks->ecfg.poll = cfg->poll;
+    ks->ecfg.poll_ctx = cfg->poll_ctx;
+    ks->ecfg.poll_fraction = (double)k / (double)cfg->T;
     if (cfg->loc != NULL) {
-        lc = *cfg->loc;
-        lc.obs_pos = b->opos;
-        lc.obs_c = b->oc;
+        ks->lc = *cfg->loc;
+        ks->lc.obs_pos = b->opos;
+        ks->lc.obs_c = b->oc;
         if (nw > 0) {
             /* a row of the window sits where the state it copies sits */
             for (d = 0; d < dim; d++)
                 for (s = 0; s <= nw; s++)
                     memcpy(b->spos + d * va + s * v, cfg->loc->state_pos + d * v,
                            v * sizeof(double));
-            lc.state_pos = b->spos;
+            ks->lc.state_pos = b->spos;
         }
-        ecfg.loc = &lc;
+        ks->ecfg.loc = &ks->lc;
     } else {
-        ecfg.loc = NULL;
+        ks->ecfg.loc = NULL;
     }
-    if (nw > 0 && ecfg.inflation != 1.0) {
-        /* inflate the current ensemble and its predicted observations
-         * only: the window's past is not inflated again */
-        inflate_rows(b->A, va, 0, v, L, ecfg.inflation);
-        inflate_rows(b->Hc, mk, 0, mk, L, ecfg.inflation);
+    return 1;
+}
+
+/* The analysis of the ensemble A (ks->va rows, ks->L members; with
+ * rows_local and ranks, a rank's rows of it) set up by sl_pfi_kalman_setup,
+ * with nw window cycles below the current rows (inflated here, not in
+ * the analysis: the window's past is not inflated again); then the
+ * inflation used and the eigenvalues floored recorded. */
+sl_status sl_pfi_kalman_analyse(const sl_pf_config *cfg, pf_buffers *b, sl_pfi_kalman *ks,
+                                double *A, size_t nw, sl_pf_output *out, size_t k, int part,
+                                sl_error *err)
+{
+    const size_t v = cfg->model->n_state + cfg->model->n_param;
+    const double used = ks->ecfg.inflation;
+    sl_enkf_info info;
+    sl_status st;
+    if (nw > 0 && used != 1.0) {
+        inflate_rows(A, ks->va, 0, v, ks->L, used);
+        inflate_rows(b->Hc, ks->mk, 0, ks->mk, ks->L, used);
     }
-    {
-        const double used = ecfg.inflation;
-        if (nw > 0)
-            ecfg.inflation = 1.0;
-        memset(&info, 0, sizeof info);
-        st = sl_enkf_analysis(&ecfg, va, L, b->A, mk, b->Hc, b->yc, b->rc, 0, b->ework,
-                              &info, err);
-        ecfg.inflation = used;
-    }
+    if (nw > 0)
+        ks->ecfg.inflation = 1.0;
+    memset(&info, 0, sizeof info);
+    st = sl_enkf_analysis(&ks->ecfg, ks->va, ks->L, A, ks->mk, b->Hc, b->yc, b->rc, 0,
+                          b->ework, &info, err);
+    ks->ecfg.inflation = used;
     if (st == SL_EINTERRUPT)
         return sl_fail(err, SL_EINTERRUPT, "interrupted",
                        "the run was interrupted at cycle %lu of %lu, in its analysis",
                        (unsigned long)(k + 1), (unsigned long)cfg->T);
     if (st != SL_OK)
+        return st;
+    if (out->inflation != NULL)
+        out->inflation[k] = ks->ecfg.inflation;
+    if (out->floored != NULL)
+        out->floored[k] = (part >= 0 ? out->floored[k] : 0.0) + (double)info.floored;
+    return SL_OK;
+}
+
+/* The ensemble Kalman analysis of cycle k: live members only, observed
+ * rows only, states and transformed parameters together. With part >= 0
+ * (weak coupling) only the observations of component part are used and
+ * only its rows are written back. */
+static sl_status enkf_update(const sl_pf_config *cfg, const sl_enkf_config *settings,
+                             pf_buffers *b, size_t k,
+                             size_t r0, size_t m, const unsigned char *dead,
+                             double *X, double *Z, double *P, double *infl,
+                             size_t nw, sl_pf_output *out, int *degenerate,
+                             size_t *nskipped, int part, sl_error *err)
+{
+    const size_t N = cfg->N, n = cfg->model->n_state, p = cfg->model->n_param;
+    const size_t v = n + p;
+    size_t L, va, i, jj, s;
+    sl_pfi_kalman ks;
+    sl_enkf_ranks er;
+    sl_status st;
+    (void)N;
+    if (!sl_pfi_kalman_setup(cfg, settings, b, k, r0, m, dead, b->Yhat, infl, nw, out,
+                             degenerate, nskipped, part, &ks))
+        return SL_OK;
+    ks.ecfg.ranks = analysis_ranks(cfg, &er);
+    L = ks.L;
+    va = ks.va;
+    for (jj = 0; jj < L; jj++) {
+        memcpy(b->A + jj * va, X + b->live[jj] * n, n * sizeof(double));
+        if (p > 0)
+            memcpy(b->A + jj * va + n, Z + b->live[jj] * p, p * sizeof(double));
+        /* the window: cycles k-1, k-2, ..., k-nw below the current rows */
+        for (s = 1; s <= nw; s++)
+            memcpy(b->A + jj * va + s * v, b->win[(k - s) % b->nwin] + b->live[jj] * v,
+                   v * sizeof(double));
+    }
+    if ((st = sl_pfi_kalman_analyse(cfg, b, &ks, b->A, nw, out, k, part, err)) != SL_OK)
         return st;
     for (jj = 0; jj < L && part < 0; jj++) {
         size_t jm = b->live[jj];
@@ -222,10 +268,6 @@ static sl_status enkf_update(const sl_pf_config *cfg, const sl_enkf_config *sett
                 if (row_in(cfg, part, i))
                     b->win[(k - s) % b->nwin][i + jm * v] = b->A[jj * va + s * v + i];
     }
-    if (out->inflation != NULL)
-        out->inflation[k] = ecfg.inflation;
-    if (out->floored != NULL)
-        out->floored[k] = (part >= 0 ? out->floored[k] : 0.0) + (double)info.floored;
     return SL_OK;
 }
 
@@ -387,6 +429,16 @@ KALMAN_ENTRY(etkf, "etkf");
 KALMAN_ENTRY(ensrf, "ensrf");
 KALMAN_ENTRY(eakf, "eakf");
 KALMAN_ENTRY(letkf, "letkf");
+
+int sl_pfi_kalman_settings(const sl_pf_config *cfg, sl_enkf_config *ec)
+{
+    const sl_analysis *an = sl_pf_analysis_of(cfg);
+    if (an == NULL || an->update != kalman_cycle)
+        return 0;
+    if (ec != NULL)
+        kalman_settings(an, cfg, ec);
+    return 1;
+}
 
 /* The entry of the table for an ensemble Kalman method, NULL if none. */
 const sl_analysis *sl_pfi_kalman_of(int method)

@@ -16,7 +16,10 @@
  * process's bit for bit, for any number of ranks. Resampling moves a
  * member's columns (state, parameters, forcing perturbations, ids, health)
  * only when its ancestor lives on another rank; each rank sends a column
- * once to each rank that needs it, in chunks of a bounded size. */
+ * once to each rank that needs it, in chunks of a bounded size. The
+ * global ensemble Kalman analyses run the same way: every rank sets the
+ * analysis up from all members' predicted observations, then analyses
+ * its own rows of every living member (kalman_cycle_ranks). */
 #include <math.h>
 #include <stdint.h>
 #include <string.h>
@@ -78,6 +81,15 @@ typedef struct {
     size_t *counts;        /* 5 x P scratch for the collectives */
     pf_buffers g;          /* a view of the global arrays for the shared
                             * helpers (mark) */
+    /* an ensemble Kalman analysis split by members (kalman_cycle) */
+    int kalman;            /* 1: the run's analysis is one */
+    sl_enkf_config kset;   /* its settings */
+    double *Aloc;          /* this rank's rows of every living member (in
+                            * V's room) */
+    double *tbuf;          /* (n + p) x nr: this rank's members' rows in
+                            * the order they travel (in Vl's room) */
+    size_t *klo, *khi, *klive; /* P each: every rank's rows in the cycle's
+                                * analysis, and its living members */
 } ranks_buffers;
 
 static size_t ranks_layout(const sl_pf_config *cfg, const sl_pf_config *lc, int P,
@@ -86,8 +98,15 @@ static size_t ranks_layout(const sl_pf_config *cfg, const sl_pf_config *lc, int 
     const sl_model *md = cfg->model;
     const size_t N = cfg->N, n = md->n_state, p = md->n_param, q = md->n_forcing;
     const size_t ns = sl_pfi_summary_count(cfg), nthr = (size_t)cfg->threads;
-    size_t off, k, m_max = 0, rec;
-    off = sl_pfi_layout(lc, base, &rb->b);
+    size_t off, k, m_max = 0, rec, krows = 0;
+    sl_pf_config ll = *lc;
+    /* an ensemble Kalman run lays its analysis's buffers out below, for
+     * all members: the local run gets none (the particle filter's) */
+    if (rb->kalman) {
+        ll.analysis = &sl_analysis_pf;
+        ll.enkf = NULL;
+    }
+    off = sl_pfi_layout(&ll, base, &rb->b);
     if (off == 0)
         return 0;
     for (k = 0; k < cfg->T; k++)
@@ -106,8 +125,19 @@ static size_t ranks_layout(const sl_pf_config *cfg, const sl_pf_config *lc, int 
         rb->chunk = N;
     sl_ws_take(base, &off, 0, 1);
     rb->rows = (ns + (size_t)P - 1) / (size_t)P;
-    rb->V = sl_ws_take(base, &off, rb->rows * N, 8);
-    rb->Vl = sl_ws_take(base, &off, ns * lc->N, 8);
+    if (rb->kalman) {
+        /* the rows a rank analyses (V and Vl serve it, free then) */
+        sl_enkf_config ec = rb->kset;
+        sl_enkf_ranks er;
+        memset(&er, 0, sizeof er);
+        er.size = P;
+        ec.ranks = &er;
+        ec.rows_local = 1;
+        if ((krows = sl_enkf_local_rows_max(&ec, n + p, N, m_max ? m_max : 1)) == 0)
+            return 0;
+    }
+    rb->V = sl_ws_take(base, &off, (rb->rows > krows ? rb->rows : krows) * N, 8);
+    rb->Vl = sl_ws_take(base, &off, (rb->kalman && ns < n + p ? n + p : ns) * lc->N, 8);
     rb->res = sl_ws_take(base, &off, ns * (2 + cfg->nq) + 1, 8);
     rb->resl = sl_ws_take(base, &off, rb->rows * (2 + cfg->nq) + 1, 8);
     rb->gll = sl_ws_take(base, &off, N, 8);
@@ -131,6 +161,35 @@ static size_t ranks_layout(const sl_pf_config *cfg, const sl_pf_config *lc, int 
     rb->rfrom = sl_ws_take(base, &off, rb->chunk, 4);
     rb->rdest = sl_ws_take(base, &off, rb->chunk, 4);
     rb->counts = sl_ws_take(base, &off, 5 * (size_t)P + 4, sizeof(size_t));
+    if (rb->kalman) {
+        /* the analysis's buffers for all N members (sl_pfi_kalman_setup)
+         * in the local run's buffers, this rank's rows and what travels */
+        const size_t v = n + p, dim = cfg->loc != NULL ? cfg->loc->dim : 0;
+        sl_enkf_config ec = rb->kset;
+        sl_enkf_ranks er;
+        size_t ew;
+        memset(&er, 0, sizeof er);
+        er.size = P;
+        ec.ranks = &er;
+        ec.rows_local = 1;
+        ec.loc = cfg->loc;
+        ec.threads = cfg->threads;
+        ew = sl_enkf_workspace(&ec, v, N, m_max ? m_max : 1, 0);
+        if (ew == 0 || dim > 2)
+            return 0;
+        rb->b.Hc = sl_ws_take(base, &off, m_max * N, 8);
+        rb->b.yc = sl_ws_take(base, &off, m_max, 8);
+        rb->b.rc = sl_ws_take(base, &off, m_max, 8);
+        rb->b.opos = sl_ws_take(base, &off, m_max * dim, 8);
+        rb->b.oc = sl_ws_take(base, &off, m_max, 8);
+        rb->b.live = sl_ws_take(base, &off, N, sizeof(size_t));
+        rb->b.ework = sl_ws_take(base, &off, (ew + 7) / 8, 8); /* ew bytes */
+        rb->Aloc = rb->V;
+        rb->tbuf = rb->Vl;
+        rb->klo = sl_ws_take(base, &off, 3 * (size_t)P, sizeof(size_t));
+        rb->khi = rb->klo + P;
+        rb->klive = rb->khi + P;
+    }
     return sl_ws_size(off);
 }
 
@@ -141,12 +200,21 @@ static void local_config(const sl_pf_config *cfg, int rank, int P, sl_pf_config 
     lc->N = first_of(cfg->N, P, rank + 1) - first_of(cfg->N, P, rank);
 }
 
+/* Whether the run's analysis is a global ensemble Kalman one (stochastic,
+ * ETKF, EnSRF, EAKF) that a split by members supports: strong coupling
+ * (the LETKF shares its grid points out in the forecast-split run). */
+static int kalman_by_members(const sl_pf_config *cfg)
+{
+    sl_enkf_config ec;
+    return sl_pfi_kalman_settings(cfg, &ec) && ec.method != SL_ENKF_LETKF && !cfg->weak;
+}
+
 /* What keeps a run from being split by members (NULL: nothing): such a
  * run splits its forecasts only (cfg->ranks in sl_pf_run). */
 static const char *members_unsplit(const sl_pf_config *cfg)
 {
-    if (sl_pf_analysis_of(cfg) != &sl_analysis_pf)
-        return "an analysis other than the particle filter's";
+    if (sl_pf_analysis_of(cfg) != &sl_analysis_pf && !kalman_by_members(cfg))
+        return "an analysis other than the particle filter's or a global ensemble Kalman one";
     if (cfg->inner > 0)
         return "SMC2";
     if (cfg->lag > 0)
@@ -205,6 +273,7 @@ size_t sl_pf_ranks_workspace(const sl_pf_config *cfg, const sl_pf_ranks *rk)
     }
     local_config(cfg, rank, P, &lc);
     memset(&rb, 0, sizeof rb);
+    rb.kalman = sl_pfi_kalman_settings(cfg, &rb.kset);
     return ranks_layout(cfg, &lc, P, rk->chunk_bytes, NULL, &rb);
 }
 
@@ -560,6 +629,168 @@ static sl_status gather_stats(const sl_pf_ranks *rk, ranks_buffers *rb, sl_statu
     return SL_OK;
 }
 
+/* A parameter that changed on any rank gets fresh ids on every rank:
+ * sl_pfi_refresh_ids over all members, Zold and Znew this rank's
+ * transformed parameters before and after, vid its ids. */
+static sl_status refresh_ids_ranks(const sl_pf_config *cfg, const sl_pf_ranks *rk,
+                                   ranks_buffers *rb, const double *Zold, const double *Znew,
+                                   uint32_t *vid, sl_error *err)
+{
+    const size_t p = cfg->model->n_param, nr = rb->nr;
+    const int R = rk->size;
+    size_t i, j;
+    sl_status st;
+    for (i = 0; i < p; i++) {
+        double changed = 0.0;
+        for (j = 0; j < nr && changed == 0.0; j++)
+            changed = Znew[i + j * p] != Zold[i + j * p];
+        rb->flags[i] = changed;
+    }
+    for (j = 0; j < (size_t)R; j++)
+        rb->counts[j] = p * sizeof(double);
+    if ((st = rk->allgather(rk->ctx, rb->flags, rb->flags + p, rb->counts, err)) != SL_OK)
+        return st;
+    for (i = 0; i < p; i++) {
+        int any = 0, r;
+        for (r = 0; r < R; r++)
+            any |= rb->flags[p + (size_t)r * p + i] != 0.0;
+        if (any)
+            for (j = 0; j < nr; j++)
+                vid[i + j * p] = (uint32_t)(rb->m0 + j);
+    }
+    return SL_OK;
+}
+
+/* Rows lo .. hi-1 of the states (0 .. n-1) and transformed parameters
+ * (n .. n+p-1) of local member j, from (put 0) or into (put 1) to. */
+static void member_rows(size_t n, size_t p, double *X, double *Z, size_t j, size_t lo,
+                        size_t hi, double *to, int put)
+{
+    const size_t xe = hi < n ? hi : n, zs = lo > n ? lo : n;
+    size_t i, at = 0;
+    for (i = lo; i < xe; i++, at++) {
+        if (put)
+            X[i + j * n] = to[at];
+        else
+            to[at] = X[i + j * n];
+    }
+    for (i = zs; i < hi; i++, at++) {
+        if (put)
+            Z[(i - n) + j * p] = to[at];
+        else
+            to[at] = Z[(i - n) + j * p];
+    }
+}
+
+/* The ensemble Kalman analysis of cycle k split by members (as
+ * kalman_cycle and enkf_update in pf_kalman.c, with strong coupling and
+ * no window). Every rank sets the analysis up alike from every member's
+ * predicted observations; the analysis's rows are dealt out
+ * (sl_enkf_local_rows), and each rank receives its rows of every living
+ * member, analyses them (rows_local) and sends each member's rows back
+ * to the member's rank: its states, transformed and natural parameters
+ * and their ids are then those of one process. Rows that make one block
+ * are analysed whole on every rank (an allgather, no way back). */
+static sl_status kalman_cycle_ranks(const sl_pf_config *cfg, const sl_pf_ranks *rk,
+                                    ranks_buffers *rb, size_t k, size_t r0, size_t m, int cur,
+                                    sl_pf_output *out, int *degenerate, size_t *nskipped,
+                                    sl_error *err)
+{
+    pf_buffers *b = &rb->b;
+    const size_t N = rb->N, nr = rb->nr, m0 = rb->m0, n = cfg->model->n_state,
+                 p = cfg->model->n_param;
+    const int R = rk->size, me = rk->rank;
+    double *Xc = b->X[cur], *Zc = b->Z[cur], *Pc = b->P[cur];
+    size_t *sc = rb->counts, *rc = sc + R;
+    size_t va, ld, j, i, at, before = 0, nl;
+    sl_pfi_kalman ks;
+    sl_enkf_ranks er;
+    int r, split = 0;
+    sl_status st;
+    if (m > 0 &&
+        (st = gather_members(rk, rb, b->Yhat, rb->gYhat, m * sizeof(double), err)) != SL_OK)
+        return st;
+    if (!sl_pfi_kalman_setup(cfg, &rb->kset, b, k, r0, m, rb->gdead, rb->gYhat, &b->infl, 0,
+                             out, degenerate, nskipped, -1, &ks))
+        return SL_OK;
+    memset(&er, 0, sizeof er);
+    er.ctx = rk->ctx;
+    er.rank = me;
+    er.size = R;
+    er.allgather = rk->allgather;
+    ks.ecfg.ranks = &er;
+    ks.ecfg.rows_local = 1;
+    va = ks.va;
+    for (r = 0; r < R; r++) {
+        const size_t a = first_of(N, R, r), e = first_of(N, R, r + 1);
+        size_t c = 0;
+        if (!sl_enkf_local_rows(&ks.ecfg, va, ks.L, ks.mk, r, &rb->klo[r], &rb->khi[r]))
+            return sl_fail(err, SL_EINVAL, "badconfig", "no rows for rank %d's analysis", r);
+        split |= rb->khi[r] - rb->klo[r] != va;
+        for (j = a; j < e; j++)
+            c += !rb->gdead[j];
+        rb->klive[r] = c;
+        if (r < me)
+            before += c;
+    }
+    nl = rb->klive[me];
+    ld = rb->khi[me] - rb->klo[me];
+
+    /* this rank's rows of every living member */
+    at = 0;
+    for (r = 0; r < R && (r == 0 || split); r++) {
+        const size_t lo = split ? rb->klo[r] : 0, hi = split ? rb->khi[r] : va;
+        for (j = 0; j < nr; j++)
+            if (!rb->gdead[m0 + j]) {
+                member_rows(n, p, Xc, Zc, j, lo, hi, rb->tbuf + at, 0);
+                at += hi - lo;
+            }
+    }
+    for (r = 0; r < R; r++) {
+        sc[r] = split ? (rb->khi[r] - rb->klo[r]) * nl * sizeof(double) : 0;
+        rc[r] = ld * rb->klive[r] * sizeof(double);
+    }
+    st = split ? rk->exchange(rk->ctx, rb->tbuf, sc, rb->Aloc, rc, err)
+               : rk->allgather(rk->ctx, rb->tbuf, rb->Aloc, rc, err);
+    if (st != SL_OK)
+        return st;
+
+    if ((st = sl_pfi_kalman_analyse(cfg, b, &ks, rb->Aloc, 0, out, k, -1, err)) != SL_OK)
+        return st;
+
+    /* each member's rows back to its rank */
+    if (p > 0)
+        memcpy(b->Z[1 - cur], Zc, p * nr * sizeof(double));
+    if (split) {
+        for (r = 0; r < R; r++) {
+            sc[r] = ld * rb->klive[r] * sizeof(double);
+            rc[r] = (rb->khi[r] - rb->klo[r]) * nl * sizeof(double);
+        }
+        if ((st = rk->exchange(rk->ctx, rb->Aloc, sc, rb->tbuf, rc, err)) != SL_OK)
+            return st;
+    }
+    at = 0;
+    for (r = 0; r < R && (r == 0 || split); r++) {
+        const size_t lo = split ? rb->klo[r] : 0, hi = split ? rb->khi[r] : va;
+        double *from = split ? rb->tbuf : rb->Aloc + before * va;
+        for (j = 0; j < nr; j++)
+            if (!rb->gdead[m0 + j]) {
+                member_rows(n, p, Xc, Zc, j, lo, hi, from + at, 1);
+                at += hi - lo;
+            }
+    }
+    for (j = 0; j < nr; j++)
+        if (!rb->gdead[m0 + j])
+            for (i = 0; i < p; i++)
+                Pc[i + j * p] = sl_transform_inverse(&cfg->ptrans[i], Zc[i + j * p]);
+    if (p == 0)
+        return SL_OK;
+    if ((st = refresh_ids_ranks(cfg, rk, rb, b->Z[1 - cur], Zc, b->vid[cur], err)) != SL_OK)
+        return st;
+    /* every member's, for the diversity and a resampling's move */
+    return gather_params(cfg, rk, rb, Zc, b->vid[cur], err);
+}
+
 sl_status sl_pf_run_ranks(const sl_pf_config *cfg, const sl_pf_ranks *rk, double *X,
                           double *P, double *w, void *work, sl_pf_output *out,
                           sl_error *err)
@@ -567,7 +798,10 @@ sl_status sl_pf_run_ranks(const sl_pf_config *cfg, const sl_pf_ranks *rk, double
     const sl_model *md = cfg->model;
     const int R = rk != NULL ? rk->size : 0;
     const size_t N = cfg->N, n = md->n_state, p = md->n_param, q = md->n_forcing;
-    const int moving = p > 0 && cfg->param_move != NULL &&
+    const int kalman = sl_pfi_kalman_settings(cfg, NULL) != 0;
+    /* the ensemble Kalman methods resample only to replace the dead, and
+     * move no parameters then */
+    const int moving = p > 0 && !kalman && cfg->param_move != NULL &&
                        cfg->param_move->when == SL_MOVE_AT_RESAMPLE;
     sl_pf_config lc;
     ranks_buffers rb;
@@ -590,6 +824,7 @@ sl_status sl_pf_run_ranks(const sl_pf_config *cfg, const sl_pf_ranks *rk, double
     }
     local_config(cfg, rk->rank, R, &lc);
     memset(&rb, 0, sizeof rb);
+    rb.kalman = sl_pfi_kalman_settings(cfg, &rb.kset);
     if (ranks_layout(cfg, &lc, R, rk->chunk_bytes, (unsigned char *)work, &rb) == 0)
         return sl_fail(err, SL_ENOMEM, "toolarge", "the run's workspace size overflows");
     nr = lc.N;
@@ -600,6 +835,10 @@ sl_status sl_pf_run_ranks(const sl_pf_config *cfg, const sl_pf_ranks *rk, double
     b->m0 = m0;
     b->nt = sl_pfi_unpaced_threads(cfg, nr);
     rb.g.mark = rb.gmark;
+    /* the inflation in force, as the analysis's start sets it */
+    b->infl = rb.kset.inflation;
+    if (kalman && cfg->adaptive_inflation && b->infl > cfg->inflation_max)
+        b->infl = cfg->inflation_max;
     nrw = row_first(rb.ns, R, rk->rank + 1) - row_first(rb.ns, R, rk->rank);
 
     /* the whole initial ensemble is on every rank: the parameters'
@@ -665,7 +904,7 @@ sl_status sl_pf_run_ranks(const sl_pf_config *cfg, const sl_pf_ranks *rk, double
             if (m > 0)
                 lst = sl_pfi_predict_obs(&lc, b, r0, m, tk, Xc, Pc, &lerr);
         }
-        if (lst == SL_OK && m > 0) {
+        if (lst == SL_OK && m > 0 && !kalman) {
             for (j = 0; j < nr; j++) {
                 if (b->dead[cur][j])
                     continue;
@@ -688,12 +927,23 @@ sl_status sl_pf_run_ranks(const sl_pf_config *cfg, const sl_pf_ranks *rk, double
         for (j = 0; j < N; j++)
             if (rb.gdead[j] && w[j] > 0)
                 reweight = 1;
-        if (!cfg->no_summary || out->fmean != NULL)
+        if ((!kalman && !cfg->no_summary) || out->fmean != NULL)
             if ((st = deal_summary_rows(cfg, rk, &rb, Xc, Pc, err)) != SL_OK)
                 return st;
         if (out->fmean != NULL)
             forecast_means(&rb, nrw, b->nt, w, rb.resl);
-        if (m > 0) {
+        if (kalman) {
+            /* the analysis moves the members; the living get equal
+             * weights, the dead none (resampling replaces them) */
+            if ((st = kalman_cycle_ranks(cfg, rk, &rb, k, r0, m, cur, out, &degenerate,
+                                         &nskipped, err)) != SL_OK)
+                return st;
+            for (j = 0; j < N; j++)
+                w[j] = rb.gdead[j] || ndead == N ? 0.0 : 1.0 / (double)(N - ndead);
+            if (!cfg->no_summary)
+                if ((st = deal_summary_rows(cfg, rk, &rb, Xc, Pc, err)) != SL_OK)
+                    return st;
+        } else if (m > 0) {
             if (out->pit != NULL) {
                 if ((st = gather_members(rk, &rb, b->Yhat, rb.gYhat, m * sizeof(double),
                                          err)) != SL_OK)
@@ -712,13 +962,15 @@ sl_status sl_pf_run_ranks(const sl_pf_config *cfg, const sl_pf_ranks *rk, double
         if (out->temper_steps != NULL)
             out->temper_steps[k] = nobs > 0 ? 1.0 : 0.0;
         if (out->loglik_evals != NULL)
-            out->loglik_evals[k] = m > 0 ? (double)N : 0.0;
-        out->logz[k] = 0.0;
+            out->loglik_evals[k] = m > 0 && !kalman ? (double)N : 0.0;
+        out->logz[k] = kalman ? (double)NAN : 0.0;
+        if (kalman)
+            out->log_evidence = NAN;
         if (nobs > 0)
             reweight = 1;
 
         /* the weights: every rank the same, as sl_pf_run */
-        if (reweight) {
+        if (reweight && !kalman) {
             double lz;
             if ((st = sl_pfi_reweight(N, rb.gdead, rb.gll, nobs, 1.0, rb.glw, rb.glogw, w, &lz,
                                       &degenerate, b->nt, err)) != SL_OK)
@@ -739,12 +991,12 @@ sl_status sl_pf_run_ranks(const sl_pf_config *cfg, const sl_pf_ranks *rk, double
             if ((st = share_summaries(cfg, rk, &rb, out->fmean != NULL, !cfg->no_summary, out, k,
                                       err)) != SL_OK)
                 return st;
-        out->ess[k] = degenerate ? 0.0 : ess;
+        out->ess[k] = degenerate && !kalman ? 0.0 : ess;
         out->skipped[k] = (double)nskipped;
         out->nonfinite[k] = (double)ndead;
         out->degenerate[k] = degenerate;
 
-        if (wsum > 0 && ess < cfg->threshold * (double)N) {
+        if (wsum > 0 && (kalman ? ndead > 0 : ess < cfg->threshold * (double)N)) {
             const int nx = 1 - cur;
             if (moving && cfg->param_move->prepare != NULL)
                 cfg->param_move->prepare(&cfg->move, p, N, rb.gZ, w, b->mv, NULL);
@@ -766,27 +1018,9 @@ sl_status sl_pf_run_ranks(const sl_pf_config *cfg, const sl_pf_ranks *rk, double
                     for (i = 0; i < p; i++)
                         Pn[i + j * p] = sl_transform_inverse(&cfg->ptrans[i], Zn[i + j * p]);
                 }
-                /* a parameter the move changed on any rank gets fresh ids
-                 * on every rank (sl_pfi_refresh_ids over all members) */
-                for (i = 0; i < p; i++) {
-                    double changed = 0.0;
-                    for (j = 0; j < nr && changed == 0.0; j++)
-                        changed = Zn[i + j * p] != b->Z[cur][i + j * p];
-                    rb.flags[i] = changed;
-                }
-                for (j = 0; j < (size_t)R; j++)
-                    rb.counts[j] = p * sizeof(double);
-                if ((st = rk->allgather(rk->ctx, rb.flags, rb.flags + p, rb.counts, err)) !=
+                if ((st = refresh_ids_ranks(cfg, rk, &rb, b->Z[cur], Zn, b->vid[nx], err)) !=
                     SL_OK)
                     return st;
-                for (i = 0; i < p; i++) {
-                    int any = 0, r;
-                    for (r = 0; r < R; r++)
-                        any |= rb.flags[p + (size_t)r * p + i] != 0.0;
-                    if (any)
-                        for (j = 0; j < nr; j++)
-                            b->vid[nx][i + j * p] = (uint32_t)(m0 + j);
-                }
             }
             for (j = 0; j < N; j++) {
                 w[j] = 1.0 / (double)N;

@@ -97,6 +97,16 @@ typedef struct {
      * points) a rank works out. The workspace grows by about 2 n N
      * doubles. */
     const sl_enkf_ranks *ranks;
+    /* With ranks (global methods only, not the LETKF): 1 when each rank
+     * holds only the rows it updates. X then holds rows [lo, hi) of
+     * sl_enkf_local_rows alone, compactly (leading dimension hi - lo,
+     * maybe no rows), n being still the whole ensemble's rows; each rank
+     * ends with its own rows of the analysis, bit for bit those of one
+     * process, and no rows travel: the ranks only agree (one allgather of
+     * a few doubles a rank) on whether every rank's rows went well, as
+     * above. The workspace does not grow with n N. 0: the whole ensemble,
+     * as above. */
+    int rows_local;
 } sl_enkf_config;
 
 /* The LETKF's work between two polls, in flops per thread. */
@@ -139,6 +149,19 @@ sl_status sl_enkf_analysis(const sl_enkf_config *cfg, size_t n, size_t N,
                            double *X, size_t m, const double *HX,
                            const double *y, const double *R, int r_full,
                            void *work, sl_enkf_info *info, sl_error *err);
+
+/* The rows [*lo, *hi) that rank `rank` of cfg->ranks updates in an
+ * analysis of n rows, N members and m observations by a global method
+ * (all n rows without ranks, or when the rows make one block): the rows
+ * its X holds with rows_local. 0 for the LETKF or a bad configuration. */
+int sl_enkf_local_rows(const sl_enkf_config *cfg, size_t n, size_t N, size_t m, int rank,
+                       size_t *lo, size_t *hi);
+
+/* The most rows any rank of cfg->ranks holds with rows_local in such an
+ * analysis with at most N living members and m observations (any
+ * 2 <= L <= N, 1 <= mk <= m): what to reserve for a rank's rows. 0 for
+ * the LETKF or a bad configuration. */
+size_t sl_enkf_local_rows_max(const sl_enkf_config *cfg, size_t n, size_t N, size_t m);
 
 #ifdef __cplusplus
 }

@@ -623,10 +623,11 @@ typedef struct sl_pf_ranks_s {
  * ("ranksunsupported"). */
 sl_status sl_pf_ranks_check(const sl_pf_config *cfg, int P, sl_error *err);
 
-/* 1 when sl_pf_run_ranks splits the run by members (the particle filter,
- * strong coupling, with a parameter move of none or at resampling
- * (kernel), no lag, tempering, SMC2, history or derived summaries); 0
- * when it splits the forecasts only (cfg->ranks). */
+/* 1 when sl_pf_run_ranks splits the run by members (the particle filter
+ * or a global ensemble Kalman analysis -- stochastic EnKF, ETKF, EnSRF,
+ * EAKF -- strong coupling, with a parameter move of none or at
+ * resampling (kernel), no lag, tempering, SMC2, history or derived
+ * summaries); 0 when it splits the forecasts only (cfg->ranks). */
 int sl_pf_ranks_by_members(const sl_pf_config *cfg);
 
 /* Bytes of workspace sl_pf_run_ranks needs on rank rk->rank of rk->size
@@ -639,7 +640,9 @@ size_t sl_pf_ranks_workspace(const sl_pf_config *cfg, const sl_pf_ranks *rk);
  * every random stream keyed by the global member index) and keeps, of all
  * N members, only what is per member and small (weights, health,
  * ancestors, transformed parameters and their ids, the summarised rows of
- * the cycle). Otherwise the forecasts only (cfg->ranks). Every rank
+ * the cycle; an ensemble Kalman analysis's predicted observations and,
+ * for the analysis, its own rows of every living member). Otherwise the
+ * forecasts only (cfg->ranks). Every rank
  * passes the same configuration and the whole initial ensemble X
  * (n x N), P (p x N); every rank ends with the whole final ensemble in X
  * and P, the weights in w and the same outputs, each bit for bit those of

@@ -5,7 +5,8 @@
  * process bit for bit on every rank, with the same tallies; each rank
  * works out only its share of the rows (its polls count its blocks); a
  * rank that stops fails the analysis on every rank, a row that is not
- * finite with the same error everywhere. */
+ * finite with the same error everywhere. With rows_local each rank holds
+ * and ends with only its rows, those of one process bit for bit. */
 #include "check.h"
 #include "ranks_threads.h"
 #include "sluice/enkf.h"
@@ -85,6 +86,7 @@ typedef struct {
     rank_comm comm;
     sl_enkf_ranks rk;
     double *X;
+    size_t lo, hi; /* rows_local: the rows X holds */
     void *work;
     size_t polls;
     int stop_at; /* the poll stops the analysis at this call (0: never) */
@@ -110,8 +112,21 @@ static void job_start(job *j, const problem *pb, const sl_enkf_config *cfg,
     j->cfg.ranks = rk;
     j->cfg.poll = count_poll;
     j->cfg.poll_ctx = j;
-    j->X = ck_malloc(pb->n * pb->N * sizeof(double));
-    memcpy(j->X, pb->X, pb->n * pb->N * sizeof(double));
+    j->lo = 0;
+    j->hi = pb->n;
+    if (j->cfg.rows_local && rk != NULL) {
+        CHECK(sl_enkf_local_rows(&j->cfg, pb->n, pb->N, pb->m, rk->rank, &j->lo, &j->hi),
+              "the rows of rank %d", rk->rank);
+    }
+    j->X = ck_malloc((j->hi - j->lo) * pb->N * sizeof(double) + 1);
+    {
+        /* rows lo .. hi-1, compactly */
+        const size_t ld = j->hi - j->lo;
+        size_t i, c;
+        for (c = 0; c < pb->N; c++)
+            for (i = 0; i < ld; i++)
+                j->X[i + c * ld] = pb->X[j->lo + i + c * pb->n];
+    }
     bytes = sl_enkf_workspace(&j->cfg, pb->n, pb->N, pb->m, 0);
     CHECK(bytes > 0, "a workspace");
     j->work = ck_malloc(bytes ? bytes : 1);
@@ -230,6 +245,68 @@ static void compare(const problem *pb, const sl_enkf_config *cfg, const char *la
     job_free(&ref);
 }
 
+/* The same with rows_local: each rank holds only its rows
+ * (sl_enkf_local_rows) and ends with them as one process analyses them,
+ * bit for bit, with the same tallies; the ranks' rows tile the ensemble
+ * in order; when the rows are shared out the ranks gather once (the
+ * heads: no rows travel), otherwise every rank holds them all and
+ * gathers nothing. */
+static void compare_local(const problem *pb, const sl_enkf_config *cfg0, const char *label)
+{
+    static const int ranks[] = {1, 2, 3, 4, 7};
+    const size_t n = pb->n, N = pb->N;
+    sl_enkf_config cfg = *cfg0;
+    shared_comm sh;
+    job ref, jobs[MAX_RANKS];
+    size_t ir;
+    cfg.rows_local = 1;
+    memset(&ref, 0, sizeof ref);
+    job_start(&ref, pb, &cfg, NULL);
+    job_run(&ref);
+    CHECK(ref.st == SL_OK, "%s: one process: %s", label, ref.err.message);
+    for (ir = 0; ir < sizeof ranks / sizeof *ranks; ir++) {
+        const int P = ranks[ir];
+        size_t next = 0;
+        int r, split;
+        if (!run_ranks(pb, &cfg, P, -1, 0, &sh, jobs))
+            break;
+        split = P > 1 && !(jobs[0].lo == 0 && jobs[0].hi == n);
+        for (r = 0; r < P; r++) {
+            const job *j = &jobs[r];
+            const size_t ld = j->hi - j->lo;
+            size_t i, c;
+            int same_rows = 1;
+            CHECK(j->st == SL_OK, "%s: %d ranks, rank %d: %s", label, P, r, j->err.message);
+            for (c = 0; c < N; c++)
+                for (i = 0; i < ld; i++)
+                    same_rows = same_rows && memcmp(&j->X[i + c * ld],
+                                                    &ref.X[j->lo + i + c * n],
+                                                    sizeof(double)) == 0;
+            CHECK(same_rows, "%s: %d ranks, rank %d: rows %lu .. %lu differ from one process",
+                  label, P, r, (unsigned long)j->lo, (unsigned long)j->hi);
+            CHECK(same_info(&j->info, &ref.info), "%s: %d ranks, rank %d: tallies", label, P, r);
+            if (split) {
+                CHECK(j->lo == next, "%s: %d ranks: rank %d starts at row %lu, not %lu", label,
+                      P, r, (unsigned long)j->lo, (unsigned long)next);
+                next = j->hi;
+                CHECK(j->comm.gathers == 1, "%s: %d ranks, rank %d: %lu gathers", label, P, r,
+                      (unsigned long)j->comm.gathers);
+            } else {
+                CHECK(ld == n && j->comm.gathers == 0,
+                      "%s: %d ranks, rank %d: rows %lu .. %lu, %lu gathers", label, P, r,
+                      (unsigned long)j->lo, (unsigned long)j->hi,
+                      (unsigned long)j->comm.gathers);
+            }
+        }
+        if (split)
+            CHECK(next == n, "%s: %d ranks: the rows end at %lu, not %lu", label, P,
+                  (unsigned long)next, (unsigned long)n);
+        for (r = 0; r < P; r++)
+            job_free(&jobs[r]);
+    }
+    job_free(&ref);
+}
+
 static sl_enkf_config config(int method)
 {
     sl_enkf_config c;
@@ -279,6 +356,7 @@ static void check_methods(void)
                 /* the observation-space form works in blocks of its own size */
                 compare(&pb, &c, label,
                         !(methods[q] == SL_ENKF_ETKF && (v == 3 || pb.m < pb.N)));
+                compare_local(&pb, &c, label);
             }
         /* the ETKF in ensemble space (m >= N) */
         {
@@ -288,6 +366,7 @@ static void check_methods(void)
             c.inflation = 1.05;
             snprintf(label, sizeof label, "etkf ensemble space, n = %lu", (unsigned long)rows[in]);
             compare(&pe, &c, label, 1);
+            compare_local(&pe, &c, label);
             free_problem(&pe);
         }
         /* the LETKF: grid points (two rows each) shared out */
@@ -392,6 +471,53 @@ static void check_failures(void)
         }
         free_problem(&big);
     }
+    /* rows_local: a row that is not finite on entry, held by the last
+     * rank alone: there "nonfinite" naming the row by its number in the
+     * whole ensemble, "rankfailed" naming that rank everywhere else (no
+     * rank hangs in the gather) */
+    {
+        problem bad;
+        make_problem(&bad, 200, 20, 24, 13);
+        bad.X[198 + 5 * bad.n] = HUGE_VAL;
+        for (q = 0; q < 3; q++) {
+            sl_enkf_config c = config(methods[q]);
+            c.rows_local = 1;
+            for (P = 2; P <= 4; P++) {
+                if (!run_ranks(&bad, &c, P, -1, 0, &sh, jobs))
+                    return;
+                for (r = 0; r < P; r++) {
+                    const job *j = &jobs[r];
+                    if (r == P - 1)
+                        CHECK(j->st == SL_EINVAL && strcmp(j->err.reason, "nonfinite") == 0 &&
+                                  strstr(j->err.message, "X(199,6)") != NULL,
+                              "%s, rows_local, %d ranks: the rank with the bad row: %s (%s)",
+                              sl_enkf_method_name(methods[q]), P, j->err.reason,
+                              j->err.message);
+                    else
+                        CHECK(j->st != SL_OK && strcmp(j->err.reason, "rankfailed") == 0 &&
+                                  j->err.message[5] == (char)('0' + P - 1),
+                              "%s, rows_local, %d ranks, rank %d: %s (%s)",
+                              sl_enkf_method_name(methods[q]), P, r, j->err.reason,
+                              j->err.message);
+                    job_free(&jobs[r]);
+                }
+            }
+            /* and a rank whose poll stops it */
+            for (P = 2; P <= 3; P++) {
+                if (!run_ranks(&pb, &c, P, 0, 1, &sh, jobs))
+                    return;
+                for (r = 0; r < P; r++) {
+                    const job *j = &jobs[r];
+                    CHECK(r == 0 ? j->st == SL_EINTERRUPT
+                                 : (j->st != SL_OK && strcmp(j->err.reason, "rankfailed") == 0),
+                          "%s, rows_local, %d ranks, rank %d stopped by rank 0: %s",
+                          sl_enkf_method_name(methods[q]), P, r, j->err.reason);
+                    job_free(&jobs[r]);
+                }
+            }
+        }
+        free_problem(&bad);
+    }
     free_problem(&pb);
 }
 
@@ -425,12 +551,45 @@ static void check_workspace(void)
                       "%s, %lu rows, %d ranks: workspace %lu against %lu",
                       sl_enkf_method_name(methods[q]), (unsigned long)n, P,
                       (unsigned long)split, (unsigned long)one);
+                if (methods[q] != SL_ENKF_LETKF) {
+                    /* with rows_local only the heads' buffers */
+                    size_t local;
+                    c.rows_local = 1;
+                    local = sl_enkf_workspace(&c, n, 10, 5, 0);
+                    CHECK(local >= one && local <= one + (size_t)(P + 1) * 64 * sizeof(double) + 256,
+                          "%s, %lu rows, %d ranks, rows_local: workspace %lu against %lu",
+                          sl_enkf_method_name(methods[q]), (unsigned long)n, P,
+                          (unsigned long)local, (unsigned long)one);
+                }
             }
+    free_problem(&pb);
+}
+
+/* rows_local is for the global methods: the LETKF refuses it, and has
+ * no rows of a rank to name. */
+static void check_local_letkf(void)
+{
+    problem pb;
+    sl_enkf_config c = config(SL_ENKF_LETKF);
+    job j;
+    size_t lo = 7, hi = 7;
+    make_problem(&pb, 20, 10, 5, 4);
+    c.loc = &pb.loc;
+    c.rows_local = 1;
+    memset(&j, 0, sizeof j);
+    job_start(&j, &pb, &c, NULL);
+    job_run(&j);
+    CHECK(j.st == SL_EINVAL && strcmp(j.err.reason, "badconfig") == 0,
+          "the LETKF with rows_local: %s", j.err.reason);
+    CHECK(sl_enkf_local_rows(&c, 20, 10, 5, 0, &lo, &hi) == 0 && lo == 7 && hi == 7,
+          "the LETKF has no local rows");
+    job_free(&j);
     free_problem(&pb);
 }
 
 int main(void)
 {
+    check_local_letkf();
     check_workspace();
     check_methods();
     check_failures();

@@ -56,6 +56,8 @@ static void run_alloc(run_buf *r, const sl_pf_config *cfg, const double *X0, con
     r->out.loglik_evals = zalloc(T, 8);
     r->out.move_sweeps = zalloc(T, 8);
     r->out.move_accept = zalloc(T, 8);
+    r->out.inflation = zalloc(T, 8);
+    r->out.floored = zalloc(T, 8);
     r->out.nanpred = zalloc(T, 8);
     r->out.pit = zalloc(m, 8);
     if (cfg->lag > 0) {
@@ -78,7 +80,7 @@ static void run_free(run_buf *r)
                     &r->out.fmean, &r->out.distinct, &r->out.pspread, &r->out.temper_steps,
                     &r->out.loglik_evals, &r->out.move_sweeps, &r->out.move_accept,
                     &r->out.nanpred, &r->out.pit, &r->out.smean, &r->out.squant,
-                    &r->out.sanc, &r->X, &r->P, &r->w};
+                    &r->out.sanc, &r->out.inflation, &r->out.floored, &r->X, &r->P, &r->w};
     size_t i;
     for (i = 0; i < sizeof f / sizeof *f; i++)
         ck_free(*f[i]);
@@ -121,6 +123,8 @@ static int identical(const sl_pf_config *cfg, const run_buf *a, const run_buf *b
              {"smean", a->out.smean, b->out.smean, cfg->lag > 0 ? v * T : 0},
              {"squant", a->out.squant, b->out.squant, cfg->lag > 0 ? v * nq * T : 0},
              {"sanc", a->out.sanc, b->out.sanc, cfg->lag > 0 ? T : 0},
+             {"inflation", a->out.inflation, b->out.inflation, T},
+             {"floored", a->out.floored, b->out.floored, T},
              {"X", a->X, b->X, n * N},
              {"P", a->P, b->P, p * N},
              {"w", a->w, b->w, N},
@@ -531,7 +535,8 @@ static void check_member_draws_and_failure(void)
         compare_ranks(&cfg, &ref, X0, P0, "member draws", 1);
     run_free(&ref);
     /* runs the members cannot split: the forecasts split, the rest whole
-     * on every rank, still the one-process run bit for bit */
+     * on every rank, still the one-process run bit for bit; and the
+     * global ensemble Kalman methods, split by members */
     {
         static const char *const names[] = {"lag", "tempering", "history", "etkf", "enkf",
                                             "wenkf"};
@@ -551,7 +556,8 @@ static void check_member_draws_and_failure(void)
                 c2.analysis = &sl_analysis_enkf;
             else
                 c2.wenkf = 1;
-            CHECK(!sl_pf_ranks_by_members(&c2), "%s: not split by members", names[v]);
+            CHECK(sl_pf_ranks_by_members(&c2) == (v == 3 || v == 4), "%s: %s by members",
+                  names[v], v == 3 || v == 4 ? "split" : "not split");
             run_alloc(&ref, &c2, X0, P0, sl_pf_workspace(&c2));
             ref.st = sl_pf_run(&c2, ref.X, ref.P, ref.w, ref.work, &ref.out, &ref.err);
             CHECK(ref.st == SL_OK, "%s, one process: %s", names[v], ref.err.message);
@@ -648,8 +654,12 @@ static void check_refusals(void)
           "a lag: forecasts split");
     c2 = cfg;
     c2.analysis = &sl_analysis_etkf;
-    CHECK(sl_pf_ranks_check(&c2, 2, &err) == SL_OK && !sl_pf_ranks_by_members(&c2),
-          "the ETKF: forecasts split");
+    CHECK(sl_pf_ranks_check(&c2, 2, &err) == SL_OK && sl_pf_ranks_by_members(&c2),
+          "the ETKF: split by members");
+    c2.analysis = &sl_analysis_letkf;
+    CHECK(!sl_pf_ranks_by_members(&c2), "the LETKF: forecasts split");
+    c2.analysis = &sl_analysis_wenkf;
+    CHECK(!sl_pf_ranks_by_members(&c2), "the weighted EnKF: forecasts split");
     CHECK(sl_pf_ranks_by_members(&cfg), "the particle filter: split by members");
     c2 = cfg;
     c2.checkpoint = refuse_snapshot;
@@ -693,6 +703,20 @@ static void draw_states(double *X, size_t nx, size_t n, uint64_t seed)
         for (i = 0; i < nx; i++)
             X[i + j * nx] = sl_stream_normal(&s);
     }
+}
+
+/* Positions along a line: rows at spos, observations at opos with
+ * half-widths oc, rows without a place (NaN) at param_factor. */
+static void line_localization(sl_localization *loc, const double *spos, const double *opos,
+                              const double *oc, double param_factor)
+{
+    memset(loc, 0, sizeof *loc);
+    loc->geometry = SL_GEOM_LINE;
+    loc->dim = 1;
+    loc->state_pos = spos;
+    loc->obs_pos = opos;
+    loc->obs_c = oc;
+    loc->param_factor = param_factor;
 }
 
 /* A wide model (140 states, more than two blocks of the analysis's rows):
@@ -749,13 +773,7 @@ static void check_wide_kalman(void)
     }
     first[T] = T * M;
     draw_states(X0, NX, N, 17);
-    memset(&loc, 0, sizeof loc);
-    loc.geometry = SL_GEOM_LINE;
-    loc.dim = 1;
-    loc.state_pos = spos;
-    loc.obs_pos = opos;
-    loc.obs_c = oc;
-    loc.param_factor = 1.0;
+    line_localization(&loc, spos, opos, oc, 1.0);
     for (q = 0; q < 6; q++) {
         run_buf ref;
         /* 140 rows x 480 members: past SL_PFI_SPLIT_QUANTILES (65536) */
@@ -782,6 +800,139 @@ static void check_wide_kalman(void)
         run_free(&ref);
         ck_free(X5);
     }
+}
+
+/* The global ensemble Kalman methods split by members: Lorenz-96 with
+ * 150 states and its forcing F estimated with them (151 rows, three
+ * blocks of the analysis's rows), every fifth state observed with a
+ * missing value in each cycle and a cycle with none; one member starts
+ * not finite (dead, then replaced by resampling: members cross ranks).
+ * Each method plain, with inflation and relaxation, adaptive inflation,
+ * localisation (serial and stochastic), and the ETKF in observation
+ * space: every output (inflation and floored eigenvalues included) is
+ * one process's bit for bit on 1 to 7 ranks; with 4 ranks a rank's
+ * workspace is well under one process's. */
+static void check_kalman_members(void)
+{
+    enum { NX = 150, M = 30, N = 24, T = 5 };
+    const sl_model_def *d = sl_model_def_find("lorenz96");
+    static double times[T], y[T * M], sg[T * M], aux[T * M], spos[NX + 1], opos[T * M],
+        oc[T * M], X0[NX * N], P0[N];
+    static size_t first[T + 1], var[T * M];
+    static int fam[T * M];
+    static const int methods[4] = {SL_ENKF_STOCHASTIC, SL_ENKF_ETKF, SL_ENKF_ENSRF,
+                                   SL_ENKF_EAKF};
+    const sl_analysis *entries[4] = {&sl_analysis_enkf, &sl_analysis_etkf, &sl_analysis_ensrf,
+                                     &sl_analysis_eakf};
+    const double probs[2] = {0.1, 0.9};
+    sl_transform tr[1];
+    sl_localization loc;
+    sl_model md;
+    sl_def_model dm;
+    sl_pf_config cfg;
+    sl_enkf_config ec;
+    sl_error err;
+    size_t i, j, k, q, v, r = 0;
+    CHECK(d != NULL, "lorenz96");
+    if (d == NULL)
+        return;
+    CHECK(sl_def_model_init(&md, &dm, d, NX, NULL, 0.05, NULL, NULL, &err) == SL_OK,
+          "lorenz96 model: %s", err.message);
+    for (k = 0; k < T; k++) {
+        times[k] = 0.1 * (double)(k + 1);
+        first[k] = r;
+        for (q = 0; q < M && k != 2; q++, r++) {
+            var[r] = 5 * q + 2;
+            y[r] = q == k ? (double)NAN : 2.0 + 3.0 * sin(0.2 * (double)var[r] + (double)k);
+            sg[r] = 1.0;
+            aux[r] = 0.0;
+            fam[r] = SL_FAMILY_GAUSSIAN;
+            opos[r] = (double)var[r];
+            oc[r] = 12.0;
+        }
+    }
+    first[T] = r;
+    for (i = 0; i < NX; i++)
+        spos[i] = (double)i;
+    spos[NX] = (double)NAN; /* F has no place */
+    line_localization(&loc, spos, opos, oc, 0.5);
+    tr[0] = sl_transform_for_bounds(d->p_lower[0], d->p_upper[0]);
+    for (j = 0; j < N; j++) {
+        sl_stream s;
+        sl_stream_init(&s, 21, (uint32_t)j, 0, SL_PURPOSE_PRIOR);
+        for (i = 0; i < NX; i++)
+            X0[i + j * NX] = 2.0 + 3.0 * sin(0.2 * (double)i) + sl_stream_normal(&s);
+        P0[j] = 8.0 + 0.5 * sl_stream_normal(&s);
+    }
+    X0[7 + 5 * NX] = (double)NAN; /* member 5 is dead from the start */
+    for (q = 0; q < 4; q++)
+        for (v = 0; v < 5; v++) {
+            run_buf ref;
+            char label[80];
+            if (v == 3 && methods[q] == SL_ENKF_ETKF)
+                continue; /* the ETKF takes no localisation */
+            if (v == 4 && methods[q] != SL_ENKF_ETKF)
+                continue;
+            base_config(&cfg, &md, N, T, times, first, y, sg, aux, fam, var);
+            memset(&ec, 0, sizeof ec);
+            ec.method = methods[q];
+            ec.inflation = v == 1 ? 1.08 : 1.0;
+            ec.rtps = v == 1 ? 0.3 : 0.0;
+            ec.threads = 1;
+            ec.etkf_form = v == 4 ? SL_ETKF_OBSERVATION : SL_ETKF_AUTO;
+            cfg.analysis = entries[q];
+            cfg.enkf = &ec;
+            cfg.adaptive_inflation = v == 2;
+            cfg.inflation_max = 1.4;
+            cfg.loc = v == 3 ? &loc : NULL;
+            cfg.ptrans = tr;
+            cfg.nq = 2;
+            cfg.probs = probs;
+            cfg.seed = 31;
+            snprintf(label, sizeof label, "%s split by members, variant %lu",
+                     sl_enkf_method_name(methods[q]), (unsigned long)v);
+            CHECK(sl_pf_ranks_by_members(&cfg), "%s: by members", label);
+            run_alloc(&ref, &cfg, X0, P0, sl_pf_workspace(&cfg));
+            ref.st = sl_pf_run(&cfg, ref.X, ref.P, ref.w, ref.work, &ref.out, &ref.err);
+            CHECK(ref.st == SL_OK, "%s, one process: %s", label, ref.err.message);
+            CHECK(ref.st != SL_OK || (ref.out.resampled[0] == 1.0 && ref.out.nonfinite[0] == 1.0),
+                  "%s: the dead member replaced at the first cycle", label);
+            if (ref.st == SL_OK)
+                compare_ranks(&cfg, &ref, X0, P0, label, 1);
+            if (v == 0) {
+                /* what a rank holds: its members, its rows. Of 4000
+                 * states and 2000 members (the ensemble 64 MB), a rank of
+                 * 4 needs under half of one process's workspace beside
+                 * the model's own work; the ETKF, whose observation-space
+                 * blocks of rows may grow to all rows when few members
+                 * live (it keeps room for them), under three quarters */
+                sl_model big;
+                sl_def_model bdm;
+                sl_pf_ranks rk;
+                size_t one, most = 0;
+                sl_pf_config cb = cfg;
+                CHECK(sl_def_model_init(&big, &bdm, d, 4000, NULL, 0.05, NULL, NULL, &err) ==
+                          SL_OK, "lorenz96, 4000 states");
+                cb.model = &big;
+                cb.N = 2000;
+                one = sl_pf_workspace(&cb);
+                memset(&rk, 0, sizeof rk);
+                rk.size = 4;
+                for (rk.rank = 0; rk.rank < 4; rk.rank++) {
+                    size_t w = sl_pf_ranks_workspace(&cb, &rk);
+                    most = w > most ? w : most;
+                }
+                one -= big.work * 8;
+                most -= big.work * 8;
+                CHECK(most > 0 &&
+                          (double)most < (methods[q] == SL_ENKF_ETKF ? 0.75 : 0.5) * (double)one,
+                      "%s: a rank of 4 takes %lu bytes, one process %lu", label,
+                      (unsigned long)most, (unsigned long)one);
+                printf("%s: workspace of one process %.1f MB, of a rank of 4 %.1f MB\n", label,
+                       (double)one / 1e6, (double)most / 1e6);
+            }
+            run_free(&ref);
+        }
 }
 
 /* More members than one summing block (sl_mean_block: 9001 members are
@@ -835,6 +986,7 @@ int main(void)
     check_flood_spans();
     check_member_draws_and_failure();
     check_wide_kalman();
+    check_kalman_members();
     check_many_members();
     check_refusals();
     CHECK_DONE("test_pf_ranks");

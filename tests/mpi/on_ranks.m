@@ -299,8 +299,8 @@ try
     case 'pfsplit'
       % fewer members than ranks, or a checkpoint: refused with mpi true,
       % run whole on every rank with 'auto'; a run the members cannot
-      % split (a lag; the ETKF) splits its forecasts: still the
-      % one-process run bit for bit
+      % split (a lag) splits its forecasts, the ETKF its members: still
+      % the one-process run bit for bit
       nr = str2double (getenv ('OMPI_COMM_WORLD_SIZE'));
       ids = {};
       ck = fullfile (dir_out, sprintf ('ck%d.mat', rank));
@@ -332,7 +332,9 @@ try
       % a wide model (Lorenz-96, 160 states): the ensemble Kalman analyses
       % share their rows (the LETKF its grid points) out across the ranks
       % as well as the forecasts (the EnKF's 160 rows x 420 members also
-      % share out their quantiles); every output is the one-process run's
+      % share out their quantiles), the global methods with the members
+      % split, the EAKF with the forcing F estimated; every output is the
+      % one-process run's
       lspec = sluice.model ('lorenz96', 'n', 160);
       T = 8;
       t = repmat (0.05 * (1:T), 40, 1);
@@ -344,16 +346,19 @@ try
         args = [args, {lspec.states{i}, 'normal', [8 + sin(i / 9), 2]}];
       end
       lpr = sluice.prior (args{:});
+      fpr = sluice.prior (args{:}, 'F', 'normal', [8 0.5]);
       loc = struct ('geometry', 'ring', 'period', 160, 'radius', 6);
       calls = {{'method', 'letkf', 'members', 20, 'localization', loc, 'inflation', 1.02}, ...
                {'method', 'etkf', 'members', 30, 'inflation', 1.01}, ...
-               {'method', 'enkf', 'members', 420, 'localization', loc, 'rtps', 0.3}};
+               {'method', 'enkf', 'members', 420, 'localization', loc, 'rtps', 0.3}, ...
+               {'method', 'eakf', 'members', 40, 'localization', loc}};
+      priors = {lpr, lpr, lpr, fpr};
       ok = true;
       why = '';
       for k = 1:numel (calls)
         o = [calls{k}, {'seed', 5, 't0', 0, 'progress', false, 'threads', 1}];
-        x = sluice.filter (lspec, lpr, lobs, o{:}, 'mpi', true);
-        z = sluice.filter (lspec, lpr, lobs, o{:});
+        x = sluice.filter (lspec, priors{k}, lobs, o{:}, 'mpi', true);
+        z = sluice.filter (lspec, priors{k}, lobs, o{:});
         same = x.ranks == str2double (getenv ('OMPI_COMM_WORLD_SIZE')) && z.ranks == 1 ...
                && isequaln (rmfield (x, {'ranks', 'options'}), rmfield (z, {'ranks', 'options'}));
         ok = ok && same;
