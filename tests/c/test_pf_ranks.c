@@ -935,6 +935,67 @@ static void check_kalman_members(void)
         }
 }
 
+/* A member-split analysis that fails in one rank's rows: an identity
+ * model of 150 states whose last rows hold values out of scale (their
+ * mean overflows), so only the rank that analyses them meets the
+ * non-finite rows. Every rank fails with one process's error. */
+static void check_kalman_members_fail(void)
+{
+    enum { NX = 150, M = 30, N = 12, T = 2 };
+    static double A[NX * NX], times[T], y[T * M], sg[T * M], aux[T * M], X0[NX * N];
+    static size_t first[T + 1], var[T * M];
+    static int fam[T * M];
+    static sl_linear lin;
+    sl_model md;
+    sl_pf_config cfg;
+    sl_error err;
+    shared_comm sh;
+    rank_job jobs[MAX_RANKS];
+    run_buf ref;
+    size_t i, j, k;
+    double P0[1] = {0.0};
+    int P, r;
+    for (i = 0; i < NX; i++)
+        A[i + i * NX] = 1.0;
+    lin.n = NX;
+    lin.A = A;
+    CHECK(sl_linear_model(&md, &lin, 1.0, &err) == SL_OK, "identity model: %s", err.message);
+    for (k = 0; k < T; k++) {
+        times[k] = (double)(k + 1);
+        first[k] = k * M;
+        for (i = 0; i < M; i++) {
+            var[k * M + i] = 4 * i; /* rows 0 .. 116: the transform is fine */
+            y[k * M + i] = 0.5;
+            sg[k * M + i] = 1.0;
+            fam[k * M + i] = SL_FAMILY_GAUSSIAN;
+        }
+    }
+    first[T] = T * M;
+    draw_states(X0, NX, N, 23);
+    for (j = 0; j < N; j++)
+        for (i = 145; i < NX; i++)
+            X0[i + j * NX] = (j % 2 ? 1.0 : -1.0) * 1.5e308;
+    base_config(&cfg, &md, N, T, times, first, y, sg, aux, fam, var);
+    cfg.analysis = &sl_analysis_ensrf;
+    CHECK(sl_pf_ranks_by_members(&cfg), "the EnSRF splits by members");
+    run_alloc(&ref, &cfg, X0, P0, sl_pf_workspace(&cfg));
+    ref.st = sl_pf_run(&cfg, ref.X, ref.P, ref.w, ref.work, &ref.out, &ref.err);
+    CHECK(ref.st == SL_ENUMERIC && strcmp(ref.err.reason, "nonfinite") == 0,
+          "rows out of scale, one process: %s", ref.err.reason);
+    for (P = 2; P <= 4; P++) {
+        if (!run_ranks(&cfg, P, 0, X0, P0, &sh, jobs))
+            break;
+        for (r = 0; r < P; r++) {
+            CHECK(jobs[r].r.st == ref.st && strcmp(jobs[r].r.err.reason, ref.err.reason) == 0 &&
+                      strcmp(jobs[r].r.err.message, ref.err.message) == 0,
+                  "rows out of scale, %d ranks, rank %d: %s (%s)", P, r, jobs[r].r.err.reason,
+                  jobs[r].r.err.message);
+            run_free(&jobs[r].r);
+        }
+    }
+    run_free(&ref);
+}
+
 /* More members than one summing block (sl_mean_block: 9001 members are
  * three blocks): the split run's means and forecast means, summed by
  * blocks over all N members, and all else it records are the
@@ -987,6 +1048,7 @@ int main(void)
     check_member_draws_and_failure();
     check_wide_kalman();
     check_kalman_members();
+    check_kalman_members_fail();
     check_many_members();
     check_refusals();
     CHECK_DONE("test_pf_ranks");
