@@ -11,7 +11,8 @@
 #   collectives (waiting for the others included) with the bytes it
 #   received;
 # - one ensemble Kalman filter on Lorenz-96 split across the ranks (the
-#   forecasts by members, the analysis by rows or grid points): the LETKF
+#   ETKF by members, each rank analysing its rows of every member; the
+#   LETKF's forecasts by members, its analysis by grid points): the LETKF
 #   with 4000 states and the ETKF with 20000, strong scaling, with the
 #   same shares.
 set -u
