@@ -1551,6 +1551,14 @@ void mexFunction(int nlhs, mxArray *plhs[], int nrhs, const mxArray *prhs[])
         ranks = 0; /* a run the core cannot split: each rank runs it whole */
     if ((ranks ? sl_pf_ranks_check(&s.cfg, rk.size, &err) : sl_pf_check(&s.cfg, &err)) != SL_OK)
         slm_raise(s.fn, &err);
+    if (ranks && s.cfg.loc != NULL) {
+        /* the most rows at one place: what a rank of a split LETKF holds
+         * is sized from it */
+        const size_t bw = sl_enkf_letkf_rows_work(s.v);
+        if (bw == 0)
+            slm_fail(s.fn, "toolarge", "the run's workspace size overflows");
+        s.loc.group_max = sl_enkf_group_max(&s.loc, s.v, slm_alloc(s.fn, bw, 1));
+    }
     if (!ranks)
         check_memory(&s);
     bytes = ranks ? sl_pf_ranks_workspace(&s.cfg, &rk) : sl_pf_workspace(&s.cfg);

@@ -94,6 +94,7 @@ typedef struct {
     void *lw;      /* LETKF's own workspace */
     double *ssend, *srecv; /* a distributed analysis: the gather's parts */
     size_t *scount;        /* and its P counts */
+    double *agree;         /* the LETKF with rows_local: P flags */
     size_t lo, hi;         /* the rows this rank updates */
     size_t xoff, ld;       /* X holds row xoff at its start, with leading
                             * dimension ld (0 and n; with rows_local, lo
@@ -258,14 +259,23 @@ static void layout_serial(carving *c, const sl_enkf_config *cfg, buffers *w)
 static void layout_letkf(carving *c, const sl_enkf_config *cfg, buffers *w)
 {
     size_t lb = sl_letkf_workspace(cfg, c->n, c->N, c->m);
+    /* with rows of its own, a rank's copy holds those rows alone */
+    const size_t rows = sl_enkfi_split(cfg) && cfg->rows_local
+                            ? sl_enkf_local_rows_max(cfg, c->n, c->N, c->m > 0 ? c->m : 1)
+                            : c->n;
     if (lb == 0)
         c->bad = 1;
-    w->xw = sl_ws_take(c->base, &c->off, mul(c->n, c->N, &c->bad), sizeof(double));
+    w->xw = sl_ws_take(c->base, &c->off, mul(rows, c->N, &c->bad), sizeof(double));
     w->hw = sl_ws_take(c->base, &c->off, c->mN, sizeof(double));
-    w->xbar = sl_ws_take(c->base, &c->off, c->n, sizeof(double));
+    w->xbar = sl_ws_take(c->base, &c->off, rows, sizeof(double));
     w->rowf = sl_ws_take(c->base, &c->off, c->N, sizeof(double));
     w->dofw = sl_ws_take(c->base, &c->off, dof_doubles(c->N, c->m, &c->bad), sizeof(double));
     w->lw = sl_ws_take(c->base, &c->off, lb, 1);
+    if (sl_enkfi_split(cfg) && cfg->rows_local) {
+        /* the ranks' agreement after relaxation */
+        w->agree = sl_ws_take(c->base, &c->off, (size_t)cfg->ranks->size, sizeof(double));
+        w->scount = sl_ws_take(c->base, &c->off, (size_t)cfg->ranks->size, sizeof(size_t));
+    }
 }
 
 static const method_type *method_get(int method);
@@ -380,10 +390,6 @@ static sl_status check_config(const sl_enkf_config *cfg, int r_full,
         return sl_fail(err, SL_EINVAL, "badconfig",
                        "the eigenvalue floor must lie in [0, 1), got %g",
                        cfg->eig_floor);
-    if (cfg->rows_local && cfg->method == SL_ENKF_LETKF)
-        return sl_fail(err, SL_EINVAL, "badconfig",
-                       "the LETKF shares its grid points out itself: rows_local is for "
-                       "the global methods");
     return SL_OK;
 }
 
@@ -1432,24 +1438,33 @@ static sl_status run_letkf(const sl_enkf_config *cfg, size_t n, size_t N,
 {
     const double infl = cfg->inflation;
     const double *hx = HX;
+    /* the rows X holds: all n, or this rank's alone (rows_local), which
+     * fit the room the workspace keeps unless the localisation's
+     * group_max or rows_here is wrong: then nothing is copied, and
+     * sl_letkf_run refuses the call on every rank */
+    const int local = sl_enkfi_split(cfg) && cfg->rows_local;
+    const size_t nx = local ? cfg->rows_here : n;
+    const int fits = !local || nx <= sl_enkf_local_rows_max(cfg, n, N, m);
     double *xw = w->xw, *xbar = w->xbar;
     sl_enkf_info li;
     sl_status st;
     size_t i, j, k;
 
-    for (i = 0; i < n; i++)
+    for (i = 0; i < nx && fits; i++)
         xbar[i] = 0.0;
-    for (j = 0; j < N; j++)
-        for (i = 0; i < n; i++)
-            xbar[i] += X[i + j * n];
-    for (i = 0; i < n; i++)
+    for (j = 0; j < N && fits; j++)
+        for (i = 0; i < nx; i++)
+            xbar[i] += X[i + j * nx];
+    for (i = 0; i < nx && fits; i++)
         xbar[i] /= (double)N;
-    if (infl == 1.0) {
-        memcpy(xw, X, n * N * sizeof(double));
+    if (!fits) {
+        /* refused below */
+    } else if (infl == 1.0) {
+        memcpy(xw, X, nx * N * sizeof(double));
     } else {
         for (j = 0; j < N; j++)
-            for (i = 0; i < n; i++)
-                xw[i + j * n] = xbar[i] + infl * (X[i + j * n] - xbar[i]);
+            for (i = 0; i < nx; i++)
+                xw[i + j * nx] = xbar[i] + infl * (X[i + j * nx] - xbar[i]);
     }
     obs_perturbations(m, N, HX, infl, w->ybar, w->hw, 0);
     if (infl != 1.0) {
@@ -1468,14 +1483,30 @@ static sl_status run_letkf(const sl_enkf_config *cfg, size_t n, size_t N,
     *floored = li.floored;
     *skipped = li.local_skipped;
     if (cfg->rtpp > 0 || cfg->rtps > 0)
-        for (i = 0; i < n; i++) {
+        for (i = 0; i < nx; i++) {
             for (j = 0; j < N; j++)
-                w->rowf[j] = infl * (X[i + j * n] - xbar[i]);
-            relax_row(cfg, N, xw + i, n, w->rowf, 1);
+                w->rowf[j] = infl * (X[i + j * nx] - xbar[i]);
+            relax_row(cfg, N, xw + i, nx, w->rowf, 1);
         }
-    if (first_nonfinite(xw, n * N) < n * N)
-        return fail_nonfinite(err);
-    memcpy(X, xw, n * N * sizeof(double));
+    st = first_nonfinite(xw, nx * N) < nx * N ? fail_nonfinite(err) : SL_OK;
+    if (sl_enkfi_split(cfg) && cfg->rows_local && (cfg->rtpp > 0 || cfg->rtps > 0)) {
+        /* every rank's rows relaxed: the ranks agree (a rank's rows alone
+         * could fail here; the local analyses' rows were checked) */
+        const sl_enkf_ranks *rk = cfg->ranks;
+        double flag = st != SL_OK;
+        sl_status gst;
+        int r;
+        for (r = 0; r < rk->size; r++)
+            w->scount[r] = sizeof flag;
+        if ((gst = rk->allgather(rk->ctx, &flag, w->agree, w->scount, err)) != SL_OK)
+            return gst;
+        for (r = 0; r < rk->size && st == SL_OK; r++)
+            if (w->agree[r] != 0)
+                st = fail_nonfinite(err);
+    }
+    if (st != SL_OK)
+        return st;
+    memcpy(X, xw, nx * N * sizeof(double));
     return SL_OK;
 }
 
@@ -1562,9 +1593,15 @@ size_t sl_enkf_local_rows_max(const sl_enkf_config *cfg, size_t n, size_t N, siz
                                                                               : 1;
     size_t most = 0, kb, last = 0, b, lo, hi;
     int r, obs;
-    if (cfg == NULL || method_get(cfg->method) == NULL || cfg->method == SL_ENKF_LETKF ||
-        N < 2 || m < 1 || n < 1)
+    if (cfg == NULL || method_get(cfg->method) == NULL || N < 2 || m < 1 || n < 1)
         return 0;
+    if (cfg->method == SL_ENKF_LETKF) {
+        /* whole groups from row floor(r n / P) of the sorted order on
+         * (sl_letkf_local_groups) */
+        const size_t g = cfg->loc != NULL && cfg->loc->group_max > 0 ? cfg->loc->group_max : n;
+        const size_t per = n / (size_t)P + (n % (size_t)P != 0);
+        return per > n - g + 1 ? n : per + g - 1;
+    }
     /* the blocks: BLOCK_ROWS (at most n), and for the ETKF's observation
      * space those of every size it can take (see obs_block), kb running
      * over L + mk + 3 for 2 <= L <= N living members and 1 <= mk <= m */
@@ -1637,14 +1674,17 @@ sl_status sl_enkf_analysis(const sl_enkf_config *cfg, size_t n, size_t N,
         return st;
     if (layout(cfg, n, N, m, r_full, etkf_obs_form(cfg, N, m), work, &w) == 0)
         return sl_fail(err, SL_ENOMEM, "nomemory", "the analysis workspace size overflows");
-    /* where X's rows are: all of them, or this rank's alone (rows_local) */
-    lsplit = cfg->rows_local && rows_split(cfg, n, w.b);
+    /* where X's rows are: all of them, or this rank's alone (rows_local;
+     * the LETKF checks its own rows as its ranks agree, sl_letkf_run) */
+    lsplit = cfg->rows_local && cfg->method != SL_ENKF_LETKF && rows_split(cfg, n, w.b);
     w.xoff = 0;
     w.ld = n;
     if (lsplit) {
         rows_of(n, w.b, cfg->ranks->size, cfg->ranks->rank, &w.xoff, &w.ld);
         w.ld -= w.xoff;
     }
+    if (cfg->rows_local && cfg->method == SL_ENKF_LETKF && sl_enkfi_split(cfg))
+        w.ld = 0;
     st = check_finite(w.ld, w.xoff, N, X, m, HX, y, R, r_full, err);
     if (st == SL_OK)
         st = check_R(method_get(cfg->method), m, R, r_full, &w, &rdiag, err);

@@ -17,6 +17,21 @@ sl_status sl_letkf_run(const sl_enkf_config *cfg, size_t n, size_t N,
                        const double *y, const double *rdiag, void *work,
                        sl_enkf_info *info, sl_error *err);
 
+/* The LETKF's rows in the order of their positions (order, n row
+ * indices) and where each group of rows at one place starts (gstart,
+ * ngroup + 1 entries, the last n), with sl_letkf_order_work(n) bytes of
+ * work; returns ngroup. Rows without a position make one group. */
+size_t sl_letkf_order_work(size_t n);
+size_t sl_letkf_order(const sl_localization *loc, size_t n, size_t *order, size_t *gstart,
+                      void *work);
+/* With rows_local, rank r of P analyses groups [*G0, *G1): those that
+ * start at or after row floor(r n / P) of the sorted order and before
+ * row floor((r + 1) n / P). It holds at most ceil(n / P) + g - 1 rows,
+ * g the most rows of a group (sl_letkf_group_max). */
+void sl_letkf_local_groups(const size_t *gstart, size_t ngroup, size_t n, int P, int r,
+                           size_t *G0, size_t *G1);
+size_t sl_letkf_group_max(const size_t *gstart, size_t ngroup);
+
 /* The threads the LETKF analyses `groups` grid points of N members on:
  * cfg->threads, at most one a point, and one when cfg->threads_auto is
  * set and the work (groups N^3) is below SL_LETKF_THREAD_WORK. */

@@ -77,7 +77,7 @@ typedef struct {
 
 /* Lay the buffers out in `base` (NULL: only measure). Returns the bytes
  * needed, or 0 if a size overflows. */
-static size_t layout(size_t nthr, int P, size_t n, size_t N, size_t m,
+static size_t layout(size_t nthr, int P, size_t n, size_t N, size_t m, size_t share_rows,
                      unsigned char *base, buffers *b)
 {
     /* every product below is checked once against this bound */
@@ -120,7 +120,8 @@ static size_t layout(size_t nthr, int P, size_t n, size_t N, size_t m,
             s->kidx = ki;
         }
     }
-    if (P > 1 && !sl_enkfi_share_layout(base, &off, P, n, N, &b->ssend, &b->srecv, &b->scount))
+    if (P > 1 &&
+        !sl_enkfi_share_layout(base, &off, P, share_rows, N, &b->ssend, &b->srecv, &b->scount))
         return 0;
     /* a trailing cache line keeps the last slice apart from whatever
      * follows the workspace */
@@ -132,6 +133,12 @@ static size_t layout(size_t nthr, int P, size_t n, size_t N, size_t m,
 static int ranks_of(const sl_enkf_config *cfg)
 {
     return cfg != NULL && sl_enkfi_split(cfg) ? cfg->ranks->size : 1;
+}
+
+/* 1 when each rank holds only its own rows (rows_local, split). */
+static int local_of(const sl_enkf_config *cfg)
+{
+    return cfg != NULL && sl_enkfi_split(cfg) && cfg->rows_local;
 }
 
 size_t sl_letkf_threads(const sl_enkf_config *cfg, size_t groups, size_t N)
@@ -150,7 +157,7 @@ size_t sl_letkf_workspace(const sl_enkf_config *cfg, size_t n, size_t N,
 {
     buffers b;
     size_t nthr = cfg != NULL && cfg->threads > 0 ? (size_t)cfg->threads : 1;
-    return layout(nthr, ranks_of(cfg), n, N, m, NULL, &b);
+    return layout(nthr, ranks_of(cfg), n, N, m, local_of(cfg) ? 0 : n, NULL, &b);
 }
 
 /* ------------------------------------------------------------ sorting */
@@ -206,6 +213,115 @@ static void sort_entries(entry *e, entry *tmp, size_t len)
     }
     if (src != e)
         memcpy(e, src, len * sizeof *e);
+}
+
+/* The n rows sorted by position into rows (scratch: n more entries),
+ * and where each group of rows at one place starts (gstart, ngroup + 1
+ * entries, the last n); returns ngroup. */
+static size_t sort_rows(const sl_localization *loc, size_t n, entry *rows, entry *scratch,
+                        size_t *gstart)
+{
+    size_t i, ngroup = 0;
+    for (i = 0; i < n; i++) {
+        double p0 = loc->state_pos[i];
+        rows[i].a = p0;
+        rows[i].b = isnan(p0) ? 0.0 : (loc->dim > 1 ? loc->state_pos[i + n] : 0.0);
+        rows[i].i = i;
+    }
+    sort_entries(rows, scratch, n);
+    for (i = 0; i < n; i++) {
+        const entry *q = &rows[i];
+        int same = 0;
+        if (i > 0) {
+            const entry *p = &rows[i - 1];
+            same = (isnan(p->a) && isnan(q->a)) || (p->a == q->a && p->b == q->b);
+        }
+        if (!same)
+            gstart[ngroup++] = i;
+    }
+    gstart[ngroup] = n;
+    return ngroup;
+}
+
+size_t sl_letkf_order_work(size_t n)
+{
+    return n > SIZE_MAX / (2 * sizeof(entry)) ? 0 : 2 * n * sizeof(entry) + sizeof(entry);
+}
+
+size_t sl_letkf_order(const sl_localization *loc, size_t n, size_t *order, size_t *gstart,
+                      void *work)
+{
+    entry *rows = work, *scratch = rows + n;
+    size_t i, ngroup = sort_rows(loc, n, rows, scratch, gstart);
+    for (i = 0; i < n; i++)
+        order[i] = rows[i].i;
+    return ngroup;
+}
+
+void sl_letkf_local_groups(const size_t *gstart, size_t ngroup, size_t n, int P, int r,
+                           size_t *G0, size_t *G1)
+{
+    size_t g[2];
+    int e;
+    for (e = 0; e < 2; e++) {
+        /* the first group that starts at or after row floor((r + e) n / P) */
+        const size_t cut = sl_enkfi_first(n, P, r + e);
+        size_t a = 0, z = ngroup;
+        while (a < z) {
+            size_t h = a + (z - a) / 2;
+            if (gstart[h] < cut)
+                a = h + 1;
+            else
+                z = h;
+        }
+        g[e] = a;
+    }
+    *G0 = g[0];
+    *G1 = g[1];
+}
+
+size_t sl_enkf_letkf_rows_work(size_t n)
+{
+    const size_t sort = sl_letkf_order_work(n);
+    if (sort == 0 || n > SIZE_MAX / 4 / sizeof(size_t) - 2)
+        return 0;
+    return sort + (2 * n + 2) * sizeof(size_t);
+}
+
+size_t sl_enkf_letkf_rows(const sl_enkf_config *cfg, size_t n, int rank, size_t *rows,
+                          void *work)
+{
+    const int P = cfg != NULL && sl_enkfi_split(cfg) ? cfg->ranks->size : 1;
+    size_t *order, *gstart, ngroup, G0, G1, i;
+    if (cfg == NULL || cfg->loc == NULL || work == NULL || rank < 0 || rank >= P)
+        return (size_t)-1;
+    order = (size_t *)((unsigned char *)work + sl_letkf_order_work(n));
+    gstart = order + n;
+    ngroup = sl_letkf_order(cfg->loc, n, order, gstart, work);
+    sl_letkf_local_groups(gstart, ngroup, n, P, rank, &G0, &G1);
+    if (rows != NULL)
+        for (i = gstart[G0]; i < gstart[G1]; i++)
+            rows[i - gstart[G0]] = order[i];
+    return gstart[G1] - gstart[G0];
+}
+
+size_t sl_enkf_group_max(const sl_localization *loc, size_t n, void *work)
+{
+    size_t *order, *gstart;
+    if (loc == NULL || work == NULL || n == 0)
+        return 0;
+    order = (size_t *)((unsigned char *)work + sl_letkf_order_work(n));
+    gstart = order + n;
+    return sl_letkf_group_max(gstart, sl_letkf_order(loc, n, order, gstart, work));
+}
+
+size_t sl_letkf_group_max(const size_t *gstart, size_t ngroup)
+{
+    size_t g, most = 0;
+    for (g = 0; g < ngroup; g++)
+        if (gstart[g + 1] - gstart[g] > most)
+            most = gstart[g + 1] - gstart[g];
+    return most;
 }
 
 /* First index of the sorted obs whose key is >= lo. */
@@ -479,6 +595,9 @@ static void ql_run(ql_state *a, ql_state *b)
 typedef struct {
     size_t n, N, m;
     double *X;
+    size_t xbase, xld; /* rows_local: X holds the sorted rows xbase ..
+                        * xbase+xld-1 alone (leading dimension xld) */
+    int local;
     const double *rdiag;
     const sl_localization *loc;
     const buffers *b;
@@ -486,6 +605,18 @@ typedef struct {
     double reach; /* half-width of the key window, or +Inf: scan every obs */
     const sl_geometry_type *geom;
 } run_ctx;
+
+/* Where sorted row r of the analysis lies in X, and X's leading
+ * dimension. */
+static inline size_t x_row(const run_ctx *cx, size_t r)
+{
+    return cx->local ? r - cx->xbase : cx->b->rows[r].i;
+}
+
+static inline size_t x_ld(const run_ctx *cx)
+{
+    return cx->local ? cx->xld : cx->n;
+}
 
 /* Add one observation with inverse error variance rinv and innovation dk
  * to the upper triangle of A and to c = C d. */
@@ -620,7 +751,7 @@ static void obs_prepare(const run_ctx *cx, slice *s)
 SL_CLONES
 static int obs_finish(const run_ctx *cx, slice *s, size_t g)
 {
-    const size_t n = cx->n, N = cx->N, p = s->nloc;
+    const size_t N = cx->N, p = s->nloc;
     const buffers *b = cx->b;
     const size_t r0 = b->gstart[g], r1 = b->gstart[g + 1];
     double *restrict G = s->A, *restrict U = s->Q, *restrict Z = s->Z;
@@ -688,13 +819,13 @@ static int obs_finish(const run_ctx *cx, slice *s, size_t g)
     }
 
     for (r = r0; r < r1; r++) {
-        size_t i = b->rows[r].i;
+        const size_t i = x_row(cx, r), ld = x_ld(cx);
         double xbar = 0.0, xw = 0.0;
         for (j = 0; j < N; j++)
-            xbar += X[i + j * n];
+            xbar += X[i + j * ld];
         xbar /= (double)N;
         for (j = 0; j < N; j++) {
-            xp[j] = X[i + j * n] - xbar;
+            xp[j] = X[i + j * ld] - xbar;
             xw += xp[j] * w[j];
         }
         if (formed) {
@@ -730,8 +861,8 @@ static int obs_finish(const run_ctx *cx, slice *s, size_t g)
             }
         }
         for (j = 0; j < N; j++) {
-            X[i + j * n] = (xbar + xw) + xp[j];
-            if (!isfinite(X[i + j * n]))
+            X[i + j * ld] = (xbar + xw) + xp[j];
+            if (!isfinite(X[i + j * ld]))
                 fail(s, g, 0);
         }
     }
@@ -817,7 +948,7 @@ static void ens_prepare(const run_ctx *cx, slice *s)
 SL_CLONES
 static void ens_finish(const run_ctx *cx, slice *s, size_t g)
 {
-    const size_t n = cx->n, N = cx->N;
+    const size_t N = cx->N;
     const buffers *b = cx->b;
     const size_t r0 = b->gstart[g], r1 = b->gstart[g + 1];
     double *A = s->A, *Q = s->Q, *lam = s->lam, *c = s->c, *t = s->t;
@@ -879,20 +1010,20 @@ static void ens_finish(const run_ctx *cx, slice *s, size_t g)
 
     /* row i of the analysis: xbar_i + X'_i T */
     for (r = r0; r < r1; r++) {
-        size_t i = b->rows[r].i;
+        const size_t i = x_row(cx, r), ld = x_ld(cx);
         double xbar = 0.0;
         for (j = 0; j < N; j++)
-            xbar += X[i + j * n];
+            xbar += X[i + j * ld];
         xbar /= (double)N;
         for (j = 0; j < N; j++)
-            xp[j] = X[i + j * n] - xbar;
+            xp[j] = X[i + j * ld] - xbar;
         for (j = 0; j < N; j++) {
             const double *Tj = A + j * N;
             double acc = 0.0;
             for (a = 0; a < N; a++)
                 acc += xp[a] * Tj[a];
-            X[i + j * n] = xbar + acc;
-            if (!isfinite(X[i + j * n]))
+            X[i + j * ld] = xbar + acc;
+            if (!isfinite(X[i + j * ld]))
                 fail(s, g, 0);
         }
     }
@@ -944,20 +1075,20 @@ static size_t group_rows(const buffers *b, size_t g0, size_t g1)
 }
 
 /* After a rank's grid points (a distributed analysis): every rank's rows
- * gathered into X on every rank, the tallies summed and the first failed
- * group (in the order of positions) over all ranks; or the failure of a
- * rank that stopped. */
+ * gathered into X on every rank (with rows_local, none: each rank keeps
+ * its own), the tallies summed and the first failed group (in the order
+ * of positions) over all ranks; or the failure of a rank that stopped. */
 static sl_status share_groups(const sl_enkf_config *cfg, buffers *b, size_t n, size_t N,
                               double *X, size_t ngroup, int stopped, size_t *floored,
                               size_t *skipped, size_t *fail_group, int *fail_info,
                               sl_error *err)
 {
     const sl_enkf_ranks *rk = cfg->ranks;
-    const int P = rk->size;
+    const int P = rk->size, local = cfg->rows_local;
     const size_t G0 = sl_enkfi_first(ngroup, P, rk->rank),
                  G1 = sl_enkfi_first(ngroup, P, rk->rank + 1);
     double *send = b->ssend;
-    size_t i, j, at = 0, rows = group_rows(b, G0, G1);
+    size_t i, j, at = 0, rows = local ? 0 : group_rows(b, G0, G1);
     sl_error gerr;
     sl_status st;
     int r, other;
@@ -973,8 +1104,9 @@ static sl_status share_groups(const sl_enkf_config *cfg, buffers *b, size_t n, s
             send[SL_ENKFI_HEAD + i * N + j] = X[row + j * n];
     }
     for (r = 0; r < P; r++)
-        b->scount[r] = group_rows(b, sl_enkfi_first(ngroup, P, r),
-                                  sl_enkfi_first(ngroup, P, r + 1));
+        b->scount[r] = local ? 0
+                             : group_rows(b, sl_enkfi_first(ngroup, P, r),
+                                          sl_enkfi_first(ngroup, P, r + 1));
     sl_error_clear(&gerr);
     st = sl_enkfi_gather(rk, N, send, b->srecv, b->scount, &gerr);
     if (stopped)
@@ -1010,6 +1142,67 @@ static sl_status share_groups(const sl_enkf_config *cfg, buffers *b, size_t n, s
     return SL_OK;
 }
 
+/* A rank that holds its own rows alone (rows_local): the rows sorted and
+ * grouped, this rank's groups G0 .. G1-1 (sl_letkf_local_groups), its
+ * rows checked (finite; as many as cfg->rows_here; no group larger than
+ * the localisation's group_max) and their largest magnitude; then the
+ * ranks agree (one allgather of four numbers a rank): a rank whose rows
+ * failed reports its own error, the others "rankfailed" naming the
+ * lowest such rank, and *xmax is the largest magnitude over all rows. */
+static sl_status local_rows(const sl_enkf_config *cfg, buffers *b, size_t n, size_t N,
+                            const double *X, size_t *ngroup, size_t *G0, size_t *G1,
+                            double *xmax, sl_error *err)
+{
+    const sl_enkf_ranks *rk = cfg->ranks;
+    const int P = rk->size;
+    const size_t gmax_allowed = cfg->loc->group_max;
+    double mine[4], *all = b->srecv;
+    size_t k, ld, at = SIZE_MAX;
+    sl_status st;
+    int r, first = -1, why = 0;
+    *ngroup = sort_rows(cfg->loc, n, b->rows, b->scratch, b->gstart);
+    sl_letkf_local_groups(b->gstart, *ngroup, n, P, rk->rank, G0, G1);
+    ld = b->gstart[*G1] - b->gstart[*G0];
+    *xmax = 0.0;
+    if (ld != cfg->rows_here ||
+        (gmax_allowed > 0 && sl_letkf_group_max(b->gstart, *ngroup) > gmax_allowed))
+        why = 2;
+    for (k = 0; k < ld * N && !why; k++) {
+        if (!isfinite(X[k])) {
+            at = k;
+            why = 1;
+        } else if (fabs(X[k]) > *xmax) {
+            *xmax = fabs(X[k]);
+        }
+    }
+    mine[0] = (double)why;
+    mine[1] = *xmax;
+    mine[2] = mine[3] = 0.0;
+    for (r = 0; r < P; r++)
+        b->scount[r] = sizeof mine;
+    if ((st = rk->allgather(rk->ctx, mine, all, b->scount, err)) != SL_OK)
+        return st;
+    for (r = 0; r < P; r++) {
+        if (all[4 * r] != 0 && first < 0)
+            first = r;
+        if (all[4 * r + 1] > *xmax)
+            *xmax = all[4 * r + 1];
+    }
+    if (why == 1)
+        return sl_fail(err, SL_EINVAL, "nonfinite", "state row %lu of member %lu is not finite",
+                       (unsigned long)(b->rows[b->gstart[*G0] + at % ld].i + 1),
+                       (unsigned long)(at / ld + 1));
+    if (why == 2)
+        return sl_fail(err, SL_EINVAL, "badlocalization",
+                       "rank %d holds %lu rows of the analysis, not the %lu its caller gave "
+                       "(or a place holds more rows than the localisation's group_max %lu)",
+                       rk->rank, (unsigned long)ld, (unsigned long)cfg->rows_here,
+                       (unsigned long)gmax_allowed);
+    if (first >= 0)
+        return sl_enkfi_rank_failed(rk, first, err);
+    return SL_OK;
+}
+
 sl_status sl_letkf_run(const sl_enkf_config *cfg, size_t n, size_t N,
                        double *X, size_t m, const double *HX,
                        const double *y, const double *rdiag, void *work,
@@ -1018,11 +1211,11 @@ sl_status sl_letkf_run(const sl_enkf_config *cfg, size_t n, size_t N,
     const sl_localization *loc;
     buffers b;
     run_ctx cx;
-    size_t nthr, i, j, k, ngroup, floored = 0, skipped = 0;
+    size_t nthr, j, k, ngroup = 0, floored = 0, skipped = 0;
     const size_t spt = N <= PAIR_MAX_N ? 2 : 1; /* slices a thread */
     size_t fail_group = SIZE_MAX, G0 = 0, G1;
     int fail_info = 0, stopped = 0;
-    const int split = cfg != NULL && sl_enkfi_split(cfg);
+    const int split = cfg != NULL && sl_enkfi_split(cfg), local = local_of(cfg);
     double xmax = 0.0, s1 = 0.0, s2 = 0.0, cmax = 0.0, bound;
     sl_status st;
 
@@ -1039,7 +1232,7 @@ sl_status sl_letkf_run(const sl_enkf_config *cfg, size_t n, size_t N,
                        "the LETKF needs at least 2 members and 1 observation, got %lu and %lu",
                        (unsigned long)N, (unsigned long)m);
     nthr = (size_t)cfg->threads;
-    if (layout(nthr, ranks_of(cfg), n, N, m, NULL, &b) == 0)
+    if (layout(nthr, ranks_of(cfg), n, N, m, local ? 0 : n, NULL, &b) == 0)
         return sl_fail(err, SL_ENOMEM, "badsize", "the problem is too large");
     if (work == NULL || (n > 0 && X == NULL) || HX == NULL || y == NULL ||
         rdiag == NULL)
@@ -1062,7 +1255,7 @@ sl_status sl_letkf_run(const sl_enkf_config *cfg, size_t n, size_t N,
             return sl_fail(err, SL_EINVAL, "nonfinite",
                            "predicted observation %lu of member %lu is not finite",
                            (unsigned long)(k % m + 1), (unsigned long)(k / m + 1));
-    for (k = 0; k < n * N; k++) {
+    for (k = 0; k < n * N && !local; k++) {
         if (!isfinite(X[k]))
             return sl_fail(err, SL_EINVAL, "nonfinite",
                            "state row %lu of member %lu is not finite",
@@ -1070,7 +1263,7 @@ sl_status sl_letkf_run(const sl_enkf_config *cfg, size_t n, size_t N,
         if (fabs(X[k]) > xmax)
             xmax = fabs(X[k]);
     }
-    layout(nthr, ranks_of(cfg), n, N, m, (unsigned char *)work, &b);
+    layout(nthr, ranks_of(cfg), n, N, m, local ? 0 : n, (unsigned char *)work, &b);
 
     /* HX' (transposed, one column per observation) and the innovations,
      * once for every row */
@@ -1094,6 +1287,10 @@ sl_status sl_letkf_run(const sl_enkf_config *cfg, size_t n, size_t N,
         if (loc->obs_c[k] > cmax)
             cmax = loc->obs_c[k];
     }
+    /* a rank with its own rows alone: the rows grouped and checked here,
+     * the largest magnitude over every rank's */
+    if (local && (st = local_rows(cfg, &b, n, N, X, &ngroup, &G0, &G1, &xmax, err)) != SL_OK)
+        return st;
     /* bounds of the entries of A and c and of the analysis: rejecting a
      * problem that could overflow here, before X is touched, keeps X whole
      * in all but pathological cases (those are still reported below) */
@@ -1127,31 +1324,18 @@ sl_status sl_letkf_run(const sl_enkf_config *cfg, size_t n, size_t N,
     cx.reach = cx.geom->reach(loc->period_or_radius, 2.0 * cmax * (1.0 + 1e-9));
 
     /* rows sorted by position; rows at one place share an analysis */
-    for (i = 0; i < n; i++) {
-        double p0 = loc->state_pos[i];
-        b.rows[i].a = p0;
-        b.rows[i].b = isnan(p0) ? 0.0 : (loc->dim > 1 ? loc->state_pos[i + n] : 0.0);
-        b.rows[i].i = i;
+    if (!local) {
+        ngroup = sort_rows(loc, n, b.rows, b.scratch, b.gstart);
+        G1 = ngroup;
     }
-    sort_entries(b.rows, b.scratch, n);
-    ngroup = 0;
-    for (i = 0; i < n; i++) {
-        const entry *q = &b.rows[i];
-        int same = 0;
-        if (i > 0) {
-            const entry *p = &b.rows[i - 1];
-            same = (isnan(p->a) && isnan(q->a)) || (p->a == q->a && p->b == q->b);
-        }
-        if (!same)
-            b.gstart[ngroup++] = i;
-    }
-    b.gstart[ngroup] = n;
-    G1 = ngroup;
 
     cx.n = n;
     cx.N = N;
     cx.m = m;
     cx.X = X;
+    cx.local = local;
+    cx.xbase = local ? b.gstart[G0] : 0;
+    cx.xld = local ? b.gstart[G1] - b.gstart[G0] : n;
     cx.rdiag = rdiag;
     cx.loc = loc;
     cx.b = &b;
@@ -1162,8 +1346,9 @@ sl_status sl_letkf_run(const sl_enkf_config *cfg, size_t n, size_t N,
         b.sl[k].fail_group = SIZE_MAX;
         b.sl[k].fail_info = 0;
     }
-    /* a distributed analysis: this rank's grid points, G0 .. G1-1 */
-    if (split) {
+    /* a distributed analysis: this rank's grid points, G0 .. G1-1 (with
+     * rows of its own, those of local_rows) */
+    if (split && !local) {
         G0 = sl_enkfi_first(ngroup, cfg->ranks->size, cfg->ranks->rank);
         G1 = sl_enkfi_first(ngroup, cfg->ranks->size, cfg->ranks->rank + 1);
     }

@@ -17,7 +17,7 @@
  * member's columns (state, parameters, forcing perturbations, ids, health)
  * only when its ancestor lives on another rank; each rank sends a column
  * once to each rank that needs it, in chunks of a bounded size. The
- * global ensemble Kalman analyses run the same way: every rank sets the
+ * ensemble Kalman analyses run the same way: every rank sets the
  * analysis up from all members' predicted observations, then analyses
  * its own rows of every living member (kalman_cycle_ranks). */
 #include <math.h>
@@ -32,6 +32,7 @@
 #include "sluice/stats.h"
 #include "sluice/prior.h"
 #include "sluice/weights.h"
+#include "enkf_internal.h"
 #include "pf_internal.h"
 #include "workspace.h"
 
@@ -90,6 +91,9 @@ typedef struct {
                             * the order they travel (in Vl's room) */
     size_t *klo, *khi, *klive; /* P each: every rank's rows in the cycle's
                                 * analysis, and its living members */
+    size_t *korder;        /* the LETKF: the rows in the order of their
+                            * positions; rank r's are korder[klo[r] ..
+                            * khi[r]) (NULL: the rows klo[r] .. khi[r]) */
 } ranks_buffers;
 
 static size_t ranks_layout(const sl_pf_config *cfg, const sl_pf_config *lc, int P,
@@ -133,6 +137,7 @@ static size_t ranks_layout(const sl_pf_config *cfg, const sl_pf_config *lc, int 
         er.size = P;
         ec.ranks = &er;
         ec.rows_local = 1;
+        ec.loc = cfg->loc;
         if ((krows = sl_enkf_local_rows_max(&ec, n + p, N, m_max ? m_max : 1)) == 0)
             return 0;
     }
@@ -189,6 +194,27 @@ static size_t ranks_layout(const sl_pf_config *cfg, const sl_pf_config *lc, int 
         rb->klo = sl_ws_take(base, &off, 3 * (size_t)P, sizeof(size_t));
         rb->khi = rb->klo + P;
         rb->klive = rb->khi + P;
+        rb->korder = NULL;
+        if (rb->kset.method == SL_ENKF_LETKF) {
+            /* its rows in order and their groups, worked out once */
+            const size_t ow = sl_letkf_order_work(v);
+            size_t *gstart, ngroup, G0, G1;
+            void *sw;
+            int r;
+            if (ow == 0)
+                return 0;
+            rb->korder = sl_ws_take(base, &off, v, sizeof(size_t));
+            gstart = sl_ws_take(base, &off, v + 1, sizeof(size_t));
+            sw = sl_ws_take(base, &off, ow, 1);
+            if (base != NULL && off != SL_WS_OVERFLOW) {
+                ngroup = sl_letkf_order(cfg->loc, v, rb->korder, gstart, sw);
+                for (r = 0; r < P; r++) {
+                    sl_letkf_local_groups(gstart, ngroup, v, P, r, &G0, &G1);
+                    rb->klo[r] = gstart[G0];
+                    rb->khi[r] = gstart[G1];
+                }
+            }
+        }
     }
     return sl_ws_size(off);
 }
@@ -200,13 +226,11 @@ static void local_config(const sl_pf_config *cfg, int rank, int P, sl_pf_config 
     lc->N = first_of(cfg->N, P, rank + 1) - first_of(cfg->N, P, rank);
 }
 
-/* Whether the run's analysis is a global ensemble Kalman one (stochastic,
- * ETKF, EnSRF, EAKF) that a split by members supports: strong coupling
- * (the LETKF shares its grid points out in the forecast-split run). */
+/* Whether the run's analysis is an ensemble Kalman one that a split by
+ * members supports: strong coupling. */
 static int kalman_by_members(const sl_pf_config *cfg)
 {
-    sl_enkf_config ec;
-    return sl_pfi_kalman_settings(cfg, &ec) && ec.method != SL_ENKF_LETKF && !cfg->weak;
+    return sl_pfi_kalman_settings(cfg, NULL) && !cfg->weak;
 }
 
 /* What keeps a run from being split by members (NULL: nothing): such a
@@ -214,7 +238,7 @@ static int kalman_by_members(const sl_pf_config *cfg)
 static const char *members_unsplit(const sl_pf_config *cfg)
 {
     if (sl_pf_analysis_of(cfg) != &sl_analysis_pf && !kalman_by_members(cfg))
-        return "an analysis other than the particle filter's or a global ensemble Kalman one";
+        return "an analysis other than the particle filter's or an ensemble Kalman one";
     if (cfg->inner > 0)
         return "SMC2";
     if (cfg->lag > 0)
@@ -662,12 +686,24 @@ static sl_status refresh_ids_ranks(const sl_pf_config *cfg, const sl_pf_ranks *r
 }
 
 /* Rows lo .. hi-1 of the states (0 .. n-1) and transformed parameters
- * (n .. n+p-1) of local member j, from (put 0) or into (put 1) to. */
-static void member_rows(size_t n, size_t p, double *X, double *Z, size_t j, size_t lo,
-                        size_t hi, double *to, int put)
+ * (n .. n+p-1) of local member j, from (put 0) or into (put 1) to; with
+ * an order, the rows order[lo] .. order[hi-1]. */
+static void member_rows(size_t n, size_t p, double *X, double *Z, size_t j, const size_t *order,
+                        size_t lo, size_t hi, double *to, int put)
 {
     const size_t xe = hi < n ? hi : n, zs = lo > n ? lo : n;
     size_t i, at = 0;
+    if (order != NULL) {
+        for (at = 0; at < hi - lo; at++) {
+            const size_t r = order[lo + at];
+            double *v = r < n ? X + r + j * n : Z + (r - n) + j * p;
+            if (put)
+                *v = to[at];
+            else
+                to[at] = *v;
+        }
+        return;
+    }
     for (i = lo; i < xe; i++, at++) {
         if (put)
             X[i + j * n] = to[at];
@@ -686,7 +722,8 @@ static void member_rows(size_t n, size_t p, double *X, double *Z, size_t j, size
  * kalman_cycle and enkf_update in pf_kalman.c, with strong coupling and
  * no window). Every rank sets the analysis up alike from every member's
  * predicted observations; the analysis's rows are dealt out
- * (sl_enkf_local_rows), and each rank receives its rows of every living
+ * (sl_enkf_local_rows; the LETKF's, whole grid points, fixed in
+ * ranks_layout), and each rank receives its rows of every living
  * member, analyses them (rows_local) and sends each member's rows back
  * to the member's rank: its states, transformed and natural parameters
  * and their ids are then those of one process. Rows that make one block
@@ -724,7 +761,10 @@ static sl_status kalman_cycle_ranks(const sl_pf_config *cfg, const sl_pf_ranks *
     for (r = 0; r < R; r++) {
         const size_t a = first_of(N, R, r), e = first_of(N, R, r + 1);
         size_t c = 0;
-        if (!sl_enkf_local_rows(&ks.ecfg, va, ks.L, ks.mk, r, &rb->klo[r], &rb->khi[r]))
+        /* the LETKF's are fixed (ranks_layout), the others' follow the
+         * cycle's sizes */
+        if (rb->korder == NULL &&
+            !sl_enkf_local_rows(&ks.ecfg, va, ks.L, ks.mk, r, &rb->klo[r], &rb->khi[r]))
             return sl_fail(err, SL_EINVAL, "badconfig", "no rows for rank %d's analysis", r);
         split |= rb->khi[r] - rb->klo[r] != va;
         for (j = a; j < e; j++)
@@ -735,6 +775,7 @@ static sl_status kalman_cycle_ranks(const sl_pf_config *cfg, const sl_pf_ranks *
     }
     nl = rb->klive[me];
     ld = rb->khi[me] - rb->klo[me];
+    ks.ecfg.rows_here = ld;
 
     /* this rank's rows of every living member */
     at = 0;
@@ -742,7 +783,8 @@ static sl_status kalman_cycle_ranks(const sl_pf_config *cfg, const sl_pf_ranks *
         const size_t lo = split ? rb->klo[r] : 0, hi = split ? rb->khi[r] : va;
         for (j = 0; j < nr; j++)
             if (!rb->gdead[m0 + j]) {
-                member_rows(n, p, Xc, Zc, j, lo, hi, rb->tbuf + at, 0);
+                member_rows(n, p, Xc, Zc, j, split ? rb->korder : NULL, lo, hi, rb->tbuf + at,
+                            0);
                 at += hi - lo;
             }
     }
@@ -775,7 +817,8 @@ static sl_status kalman_cycle_ranks(const sl_pf_config *cfg, const sl_pf_ranks *
         double *from = split ? rb->tbuf : rb->Aloc + before * va;
         for (j = 0; j < nr; j++)
             if (!rb->gdead[m0 + j]) {
-                member_rows(n, p, Xc, Zc, j, lo, hi, from + at, 1);
+                member_rows(n, p, Xc, Zc, j, split ? rb->korder : NULL, lo, hi, from + at,
+                            1);
                 at += hi - lo;
             }
     }

@@ -97,16 +97,19 @@ typedef struct {
      * points) a rank works out. The workspace grows by about 2 n N
      * doubles. */
     const sl_enkf_ranks *ranks;
-    /* With ranks (global methods only, not the LETKF): 1 when each rank
-     * holds only the rows it updates. X then holds rows [lo, hi) of
-     * sl_enkf_local_rows alone, compactly (leading dimension hi - lo,
-     * maybe no rows), n being still the whole ensemble's rows; each rank
-     * ends with its own rows of the analysis, bit for bit those of one
-     * process, and no rows travel: the ranks only agree (one allgather of
-     * a few doubles a rank) on whether every rank's rows went well, as
-     * above. The workspace does not grow with n N. 0: the whole ensemble,
-     * as above. */
+    /* With ranks: 1 when each rank holds only the rows it updates. X
+     * then holds those rows alone, compactly (leading dimension their
+     * count, maybe no rows), n being still the whole ensemble's rows:
+     * for the global methods rows [lo, hi) of sl_enkf_local_rows; for the
+     * LETKF rows_here rows, the rows of its grid points in the order of
+     * their positions (sl_letkf_local_rows). Each rank ends with its own
+     * rows of the analysis, bit for bit those of one process, and no rows
+     * travel: the ranks only agree (an allgather of a few doubles a rank)
+     * on whether every rank's rows went well, as above. The workspace does
+     * not grow with n N (the LETKF's holds a copy of the rank's rows,
+     * sized from loc->group_max). 0: the whole ensemble, as above. */
     int rows_local;
+    size_t rows_here;
 } sl_enkf_config;
 
 /* The LETKF's work between two polls, in flops per thread. */
@@ -157,11 +160,26 @@ sl_status sl_enkf_analysis(const sl_enkf_config *cfg, size_t n, size_t N,
 int sl_enkf_local_rows(const sl_enkf_config *cfg, size_t n, size_t N, size_t m, int rank,
                        size_t *lo, size_t *hi);
 
+/* The LETKF's rows that rank `rank` of cfg->ranks holds with rows_local
+ * (cfg->loc gives the positions of the n rows): their count, and into
+ * rows (unless NULL) their indices in the order X holds them (grid points
+ * in the order of their positions). work: sl_enkf_letkf_rows_work(n)
+ * bytes. (size_t)-1 on a bad argument. Without ranks, all n rows. */
+size_t sl_enkf_letkf_rows_work(size_t n);
+size_t sl_enkf_letkf_rows(const sl_enkf_config *cfg, size_t n, int rank, size_t *rows,
+                          void *work);
+
+/* The most of the n rows of loc at one place (rows without a position
+ * count as one place), for loc->group_max; work as above. 0 for n = 0. */
+size_t sl_enkf_group_max(const sl_localization *loc, size_t n, void *work);
+
 /* The most rows any rank of cfg->ranks holds with rows_local in such an
  * analysis with at most N living members and m observations (any
  * 2 <= L <= N, 1 <= mk <= m): what to reserve for a rank's rows. 0 for
  * the LETKF or a bad configuration. */
 size_t sl_enkf_local_rows_max(const sl_enkf_config *cfg, size_t n, size_t N, size_t m);
+/* (for the LETKF: at most ceil(n / P) + g - 1 rows, g = loc->group_max,
+ * or n when that is 0) */
 
 #ifdef __cplusplus
 }

@@ -70,6 +70,11 @@ typedef struct {
     const double *obs_c;     /* m Gaspari-Cohn half-widths c (> 0) */
     double param_factor;     /* weight of every observation on rows that
                               * are not localised (1 = full) */
+    size_t group_max;        /* the most state rows at one place (rows
+                              * without a position are one place), or 0
+                              * when not known: what a rank of a
+                              * distributed LETKF with rows_local may
+                              * hold is sized from it (n when 0) */
 } sl_localization;
 
 /* Check a localisation for n state rows and m observations (used by every

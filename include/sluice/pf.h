@@ -624,10 +624,12 @@ typedef struct sl_pf_ranks_s {
 sl_status sl_pf_ranks_check(const sl_pf_config *cfg, int P, sl_error *err);
 
 /* 1 when sl_pf_run_ranks splits the run by members (the particle filter
- * or a global ensemble Kalman analysis -- stochastic EnKF, ETKF, EnSRF,
- * EAKF -- strong coupling, with a parameter move of none or at
+ * or an ensemble Kalman analysis -- stochastic EnKF, ETKF, EnSRF, EAKF,
+ * LETKF -- strong coupling, with a parameter move of none or at
  * resampling (kernel), no lag, tempering, SMC2, history or derived
- * summaries); 0 when it splits the forecasts only (cfg->ranks). */
+ * summaries); 0 when it splits the forecasts only (cfg->ranks). A split
+ * LETKF sizes what a rank holds from cfg->loc->group_max (n rows when
+ * 0). */
 int sl_pf_ranks_by_members(const sl_pf_config *cfg);
 
 /* Bytes of workspace sl_pf_run_ranks needs on rank rk->rank of rk->size

@@ -11,7 +11,7 @@
 int main(void)
 {
     double a[2] = {DBL_MAX, 0}, b[2] = {-DBL_MAX, 0};
-    sl_localization L = {SL_GEOM_RING, 3.0, 1, a, b, NULL, 1.0};
+    sl_localization L = {SL_GEOM_RING, 3.0, 1, a, b, NULL, 1.0, 0};
     double c = 1.0;
     sl_error err;
 

@@ -87,6 +87,7 @@ typedef struct {
     sl_enkf_ranks rk;
     double *X;
     size_t lo, hi; /* rows_local: the rows X holds */
+    size_t *rows;  /* and, for the LETKF, which (NULL: lo .. hi-1) */
     void *work;
     size_t polls;
     int stop_at; /* the poll stops the analysis at this call (0: never) */
@@ -103,6 +104,12 @@ static int count_poll(void *ctx, double fraction)
     return j->stop_at > 0 && j->polls == (size_t)j->stop_at;
 }
 
+/* Row i of what job j's X holds, in the whole ensemble. */
+static size_t job_row(const job *j, size_t i)
+{
+    return j->rows != NULL ? j->rows[i] : j->lo + i;
+}
+
 static void job_start(job *j, const problem *pb, const sl_enkf_config *cfg,
                       const sl_enkf_ranks *rk)
 {
@@ -114,18 +121,26 @@ static void job_start(job *j, const problem *pb, const sl_enkf_config *cfg,
     j->cfg.poll_ctx = j;
     j->lo = 0;
     j->hi = pb->n;
-    if (j->cfg.rows_local && rk != NULL) {
+    j->rows = NULL;
+    if (j->cfg.rows_local && rk != NULL && cfg->method == SL_ENKF_LETKF) {
+        void *ow = ck_malloc(sl_enkf_letkf_rows_work(pb->n));
+        j->rows = ck_malloc(pb->n * sizeof(size_t) + 1);
+        j->hi = sl_enkf_letkf_rows(&j->cfg, pb->n, rk->rank, j->rows, ow);
+        CHECK(j->hi <= pb->n, "the LETKF's rows of rank %d", rk->rank);
+        j->cfg.rows_here = j->hi;
+        ck_free(ow);
+    } else if (j->cfg.rows_local && rk != NULL) {
         CHECK(sl_enkf_local_rows(&j->cfg, pb->n, pb->N, pb->m, rk->rank, &j->lo, &j->hi),
               "the rows of rank %d", rk->rank);
     }
     j->X = ck_malloc((j->hi - j->lo) * pb->N * sizeof(double) + 1);
     {
-        /* rows lo .. hi-1, compactly */
+        /* rows lo .. hi-1 (or those listed), compactly */
         const size_t ld = j->hi - j->lo;
         size_t i, c;
         for (c = 0; c < pb->N; c++)
             for (i = 0; i < ld; i++)
-                j->X[i + c * ld] = pb->X[j->lo + i + c * pb->n];
+                j->X[i + c * ld] = pb->X[job_row(j, i) + c * pb->n];
     }
     bytes = sl_enkf_workspace(&j->cfg, pb->n, pb->N, pb->m, 0);
     CHECK(bytes > 0, "a workspace");
@@ -141,6 +156,7 @@ static void job_run(job *j)
 
 static void job_free(job *j)
 {
+    ck_free(j->rows);
     ck_free(j->X);
     ck_free(j->work);
 }
@@ -258,7 +274,7 @@ static void compare_local(const problem *pb, const sl_enkf_config *cfg0, const c
     sl_enkf_config cfg = *cfg0;
     shared_comm sh;
     job ref, jobs[MAX_RANKS];
-    size_t ir;
+    size_t ir, *seen = ck_malloc(n * sizeof(size_t));
     cfg.rows_local = 1;
     memset(&ref, 0, sizeof ref);
     job_start(&ref, pb, &cfg, NULL);
@@ -271,6 +287,7 @@ static void compare_local(const problem *pb, const sl_enkf_config *cfg0, const c
         if (!run_ranks(pb, &cfg, P, -1, 0, &sh, jobs))
             break;
         split = P > 1 && !(jobs[0].lo == 0 && jobs[0].hi == n);
+        memset(seen, 0, n * sizeof *seen);
         for (r = 0; r < P; r++) {
             const job *j = &jobs[r];
             const size_t ld = j->hi - j->lo;
@@ -280,12 +297,23 @@ static void compare_local(const problem *pb, const sl_enkf_config *cfg0, const c
             for (c = 0; c < N; c++)
                 for (i = 0; i < ld; i++)
                     same_rows = same_rows && memcmp(&j->X[i + c * ld],
-                                                    &ref.X[j->lo + i + c * n],
+                                                    &ref.X[job_row(j, i) + c * n],
                                                     sizeof(double)) == 0;
             CHECK(same_rows, "%s: %d ranks, rank %d: rows %lu .. %lu differ from one process",
                   label, P, r, (unsigned long)j->lo, (unsigned long)j->hi);
             CHECK(same_info(&j->info, &ref.info), "%s: %d ranks, rank %d: tallies", label, P, r);
-            if (split) {
+            if (j->rows != NULL) {
+                /* the LETKF: every row once over the ranks, and one
+                 * gather of heads besides the agreement on the rows
+                 * (and one after relaxation) */
+                for (i = 0; i < ld; i++)
+                    seen[j->rows[i]]++;
+                next += ld;
+                CHECK(j->comm.gathers ==
+                          (P == 1 ? 0u : (cfg.rtpp > 0 || cfg.rtps > 0 ? 3u : 2u)),
+                      "%s: %d ranks, rank %d: %lu gathers", label, P, r,
+                      (unsigned long)j->comm.gathers);
+            } else if (split) {
                 CHECK(j->lo == next, "%s: %d ranks: rank %d starts at row %lu, not %lu", label,
                       P, r, (unsigned long)j->lo, (unsigned long)next);
                 next = j->hi;
@@ -298,13 +326,21 @@ static void compare_local(const problem *pb, const sl_enkf_config *cfg0, const c
                       (unsigned long)j->comm.gathers);
             }
         }
-        if (split)
+        if (split || jobs[0].rows != NULL)
             CHECK(next == n, "%s: %d ranks: the rows end at %lu, not %lu", label, P,
                   (unsigned long)next, (unsigned long)n);
+        if (jobs[0].rows != NULL && P > 1) {
+            size_t i, once = 0;
+            for (i = 0; i < n; i++)
+                once += seen[i] == 1;
+            CHECK(once == n, "%s: %d ranks: %lu of %lu rows held once", label, P,
+                  (unsigned long)once, (unsigned long)n);
+        }
         for (r = 0; r < P; r++)
             job_free(&jobs[r]);
     }
     job_free(&ref);
+    ck_free(seen);
 }
 
 static sl_enkf_config config(int method)
@@ -375,12 +411,17 @@ static void check_methods(void)
             c.loc = &pb.loc;
             snprintf(label, sizeof label, "letkf, n = %lu", (unsigned long)rows[in]);
             compare(&pb, &c, label, 0);
+            compare_local(&pb, &c, label);
             c.inflation = 1.1;
             c.rtps = 0.5;
             c.threads = 2;
             snprintf(label, sizeof label, "letkf, inflated, 2 threads, n = %lu",
                      (unsigned long)rows[in]);
             compare(&pb, &c, label, 0);
+            /* two rows a place, and the most a place holds not given */
+            pb.loc.group_max = in == 1 ? 0 : 2;
+            compare_local(&pb, &c, label);
+            pb.loc.group_max = 0;
         }
         free_problem(&pb);
     }
@@ -397,6 +438,7 @@ static void check_methods(void)
         }
         c.loc = &pb.loc;
         compare(&pb, &c, "letkf with unobserved points", 0);
+        compare_local(&pb, &c, "letkf with unobserved points");
         free_problem(&pb);
     }
 }
@@ -565,25 +607,30 @@ static void check_workspace(void)
     free_problem(&pb);
 }
 
-/* rows_local is for the global methods: the LETKF refuses it, and has
- * no rows of a rank to name. */
+/* The LETKF's rows are not a range (sl_enkf_local_rows has none for it);
+ * with rows_local a localisation whose places hold more rows than its
+ * group_max says (which sized what a rank holds) is refused on every
+ * rank, none left waiting. */
 static void check_local_letkf(void)
 {
     problem pb;
     sl_enkf_config c = config(SL_ENKF_LETKF);
-    job j;
+    shared_comm sh;
+    job jobs[MAX_RANKS];
     size_t lo = 7, hi = 7;
+    int r;
     make_problem(&pb, 20, 10, 5, 4);
     c.loc = &pb.loc;
     c.rows_local = 1;
-    memset(&j, 0, sizeof j);
-    job_start(&j, &pb, &c, NULL);
-    job_run(&j);
-    CHECK(j.st == SL_EINVAL && strcmp(j.err.reason, "badconfig") == 0,
-          "the LETKF with rows_local: %s", j.err.reason);
     CHECK(sl_enkf_local_rows(&c, 20, 10, 5, 0, &lo, &hi) == 0 && lo == 7 && hi == 7,
-          "the LETKF has no local rows");
-    job_free(&j);
+          "the LETKF has no range of rows");
+    pb.loc.group_max = 1; /* two rows a place */
+    if (run_ranks(&pb, &c, 3, -1, 0, &sh, jobs))
+        for (r = 0; r < 3; r++) {
+            CHECK(jobs[r].st == SL_EINVAL && strcmp(jobs[r].err.reason, "badlocalization") == 0,
+                  "a place with more rows than group_max, rank %d: %s", r, jobs[r].err.reason);
+            job_free(&jobs[r]);
+        }
     free_problem(&pb);
 }
 

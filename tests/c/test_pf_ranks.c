@@ -657,7 +657,10 @@ static void check_refusals(void)
     CHECK(sl_pf_ranks_check(&c2, 2, &err) == SL_OK && sl_pf_ranks_by_members(&c2),
           "the ETKF: split by members");
     c2.analysis = &sl_analysis_letkf;
-    CHECK(!sl_pf_ranks_by_members(&c2), "the LETKF: forecasts split");
+    CHECK(sl_pf_ranks_by_members(&c2), "the LETKF: split by members");
+    c2.weak = 1;
+    CHECK(!sl_pf_ranks_by_members(&c2), "weak coupling: forecasts split");
+    c2.weak = 0;
     c2.analysis = &sl_analysis_wenkf;
     CHECK(!sl_pf_ranks_by_members(&c2), "the weighted EnKF: forecasts split");
     CHECK(sl_pf_ranks_by_members(&cfg), "the particle filter: split by members");
@@ -721,11 +724,11 @@ static void line_localization(sl_localization *loc, const double *spos, const do
 
 /* A wide model (140 states, more than two blocks of the analysis's rows):
  * x_k = A x_(k-1) + L e with A neighbour-coupled along a line, every 7th
- * state observed (20 observations a cycle). The ensemble Kalman analyses
- * share their rows out across the ranks as well as the forecasts (the
- * ETKF in ensemble space, the stochastic EnKF, the EAKF, the LETKF by grid
- * points, the ETKF with a lag window); every output equals one process
- * bit for bit. */
+ * state observed (20 observations a cycle). The ensemble Kalman filters
+ * split by members (the ETKF in ensemble space, the stochastic EnKF, the
+ * EAKF, the LETKF by grid points), and with a lag window by forecasts,
+ * their analyses sharing rows out across the ranks (with 480 members
+ * the quantiles too); every output equals one process bit for bit. */
 static void check_wide_kalman(void)
 {
     enum { NX = 140, M = 20, N = 16, T = 6 };
@@ -738,7 +741,7 @@ static void check_wide_kalman(void)
     const sl_analysis *an[4] = {&sl_analysis_etkf, &sl_analysis_enkf, &sl_analysis_eakf,
                                 &sl_analysis_letkf};
     const char *names[6] = {"etkf", "enkf", "eakf", "letkf", "etkf with lag 2",
-                            "etkf, 480 members (quantiles shared out)"};
+                            "etkf with lag 1, 480 members (quantiles shared out)"};
     sl_localization loc;
     sl_model md;
     sl_pf_config cfg;
@@ -792,6 +795,10 @@ static void check_wide_kalman(void)
             cfg.loc = &loc;
         if (q == 4)
             cfg.lag = 2;
+        if (q == 5)
+            cfg.lag = 1; /* the forecasts split: the quantiles shared out */
+        CHECK(sl_pf_ranks_by_members(&cfg) == (q < 4), "%s: %s by members", names[q],
+              q < 4 ? "split" : "not split");
         run_alloc(&ref, &cfg, q == 5 ? X5 : X0, P0, sl_pf_workspace(&cfg));
         ref.st = sl_pf_run(&cfg, ref.X, ref.P, ref.w, ref.work, &ref.out, &ref.err);
         CHECK(ref.st == SL_OK, "%s single process: %s", names[q], ref.err.message);
@@ -820,10 +827,10 @@ static void check_kalman_members(void)
         oc[T * M], X0[NX * N], P0[N];
     static size_t first[T + 1], var[T * M];
     static int fam[T * M];
-    static const int methods[4] = {SL_ENKF_STOCHASTIC, SL_ENKF_ETKF, SL_ENKF_ENSRF,
-                                   SL_ENKF_EAKF};
-    const sl_analysis *entries[4] = {&sl_analysis_enkf, &sl_analysis_etkf, &sl_analysis_ensrf,
-                                     &sl_analysis_eakf};
+    static const int methods[5] = {SL_ENKF_STOCHASTIC, SL_ENKF_ETKF, SL_ENKF_ENSRF,
+                                   SL_ENKF_EAKF, SL_ENKF_LETKF};
+    const sl_analysis *entries[5] = {&sl_analysis_enkf, &sl_analysis_etkf, &sl_analysis_ensrf,
+                                     &sl_analysis_eakf, &sl_analysis_letkf};
     const double probs[2] = {0.1, 0.9};
     sl_transform tr[1];
     sl_localization loc;
@@ -865,7 +872,7 @@ static void check_kalman_members(void)
         P0[j] = 8.0 + 0.5 * sl_stream_normal(&s);
     }
     X0[7 + 5 * NX] = (double)NAN; /* member 5 is dead from the start */
-    for (q = 0; q < 4; q++)
+    for (q = 0; q < 5; q++)
         for (v = 0; v < 5; v++) {
             run_buf ref;
             char label[80];
@@ -873,6 +880,9 @@ static void check_kalman_members(void)
                 continue; /* the ETKF takes no localisation */
             if (v == 4 && methods[q] != SL_ENKF_ETKF)
                 continue;
+            /* the LETKF always localised: with its places' most rows
+             * given (1) and not (variant 2) */
+            loc.group_max = methods[q] == SL_ENKF_LETKF && v != 2 ? 1 : 0;
             base_config(&cfg, &md, N, T, times, first, y, sg, aux, fam, var);
             memset(&ec, 0, sizeof ec);
             ec.method = methods[q];
@@ -884,7 +894,7 @@ static void check_kalman_members(void)
             cfg.enkf = &ec;
             cfg.adaptive_inflation = v == 2;
             cfg.inflation_max = 1.4;
-            cfg.loc = v == 3 ? &loc : NULL;
+            cfg.loc = v == 3 || methods[q] == SL_ENKF_LETKF ? &loc : NULL;
             cfg.ptrans = tr;
             cfg.nq = 2;
             cfg.probs = probs;
@@ -906,11 +916,18 @@ static void check_kalman_members(void)
                  * the model's own work; the ETKF, whose observation-space
                  * blocks of rows may grow to all rows when few members
                  * live (it keeps room for them), under three quarters */
+                static double bpos[4001];
+                sl_localization bloc = loc;
                 sl_model big;
                 sl_def_model bdm;
                 sl_pf_ranks rk;
                 size_t one, most = 0;
                 sl_pf_config cb = cfg;
+                for (i = 0; i < 4000; i++)
+                    bpos[i] = (double)i;
+                bpos[4000] = (double)NAN;
+                bloc.state_pos = bpos;
+                cb.loc = cfg.loc != NULL ? &bloc : NULL;
                 CHECK(sl_def_model_init(&big, &bdm, d, 4000, NULL, 0.05, NULL, NULL, &err) ==
                           SL_OK, "lorenz96, 4000 states");
                 cb.model = &big;
@@ -924,6 +941,12 @@ static void check_kalman_members(void)
                 }
                 one -= big.work * 8;
                 most -= big.work * 8;
+                if (methods[q] == SL_ENKF_LETKF) {
+                    /* and beside the local analyses' N x N matrices (three
+                     * a thread, 96 MB here), which every rank needs */
+                    one -= 3 * cb.N * cb.N * 8;
+                    most -= 3 * cb.N * cb.N * 8;
+                }
                 CHECK(most > 0 &&
                           (double)most < (methods[q] == SL_ENKF_ETKF ? 0.75 : 0.5) * (double)one,
                       "%s: a rank of 4 takes %lu bytes, one process %lu", label,

@@ -329,12 +329,11 @@ try
       end
       say (ok, sprintf (': %s, %s', ids{:}));
     case 'kalmanrows'
-      % a wide model (Lorenz-96, 160 states): the ensemble Kalman analyses
-      % share their rows (the LETKF its grid points) out across the ranks
-      % as well as the forecasts (the EnKF's 160 rows x 420 members also
-      % share out their quantiles), the global methods with the members
-      % split, the EAKF with the forcing F estimated; every output is the
-      % one-process run's
+      % a wide model (Lorenz-96, 160 states): the ensemble Kalman filters
+      % split their members across the ranks, each rank analysing its rows
+      % of every member (the LETKF those of its grid points), the EAKF
+      % with the forcing F estimated; every output is the one-process
+      % run's
       lspec = sluice.model ('lorenz96', 'n', 160);
       T = 8;
       t = repmat (0.05 * (1:T), 40, 1);

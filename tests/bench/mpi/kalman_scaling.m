@@ -4,8 +4,8 @@
 % every 0.05 time units with error variance 1, 30 cycles), method
 % SLUICE_BENCH_METHOD ('letkf': 40 members, ring localisation of radius
 % 6; 'etkf': 40 members), one thread a rank, split across the ranks
-% (the ETKF by members, each rank analysing its rows of every member; the
-% LETKF's forecasts by members, its analysis by grid points). Rank 0
+% by members, each rank analysing its rows of every member (the LETKF:
+% the rows of its grid points). Rank 0
 % prints "method M states n ranks P seconds S comm C bytes B split R":
 % the prepared run's wall time, the most seconds any rank spent in the filter's
 % collectives (waiting included) and the bytes it received.

@@ -10,11 +10,10 @@
 #   share of the wall time the busiest rank spent in the filter's
 #   collectives (waiting for the others included) with the bytes it
 #   received;
-# - one ensemble Kalman filter on Lorenz-96 split across the ranks (the
-#   ETKF by members, each rank analysing its rows of every member; the
-#   LETKF's forecasts by members, its analysis by grid points): the LETKF
-#   with 4000 states and the ETKF with 20000, strong scaling, with the
-#   same shares.
+# - one ensemble Kalman filter on Lorenz-96 split across the ranks by
+#   members, each rank analysing its rows of every member (the LETKF:
+#   the rows of its grid points): the LETKF with 4000 states and the ETKF
+#   with 20000, strong scaling, with the same shares.
 set -u
 here=$(cd "$(dirname "$0")/../../.." && pwd)
 if ! command -v mpirun >/dev/null || [ ! -e "$here/m/+sluice/+kernel/mpi.mex" ]; then
