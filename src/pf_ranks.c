@@ -94,6 +94,7 @@ typedef struct {
     size_t *korder;        /* the LETKF: the rows in the order of their
                             * positions; rank r's are korder[klo[r] ..
                             * khi[r]) (NULL: the rows klo[r] .. khi[r]) */
+    size_t krows;          /* the most rows a rank's analysis may hold */
 } ranks_buffers;
 
 static size_t ranks_layout(const sl_pf_config *cfg, const sl_pf_config *lc, int P,
@@ -140,6 +141,7 @@ static size_t ranks_layout(const sl_pf_config *cfg, const sl_pf_config *lc, int 
         ec.loc = cfg->loc;
         if ((krows = sl_enkf_local_rows_max(&ec, n + p, N, m_max ? m_max : 1)) == 0)
             return 0;
+        rb->krows = krows;
     }
     rb->V = sl_ws_take(base, &off, (rb->rows > krows ? rb->rows : krows) * N, 8);
     rb->Vl = sl_ws_take(base, &off, (rb->kalman && ns < n + p ? n + p : ns) * lc->N, 8);
@@ -201,7 +203,7 @@ static size_t ranks_layout(const sl_pf_config *cfg, const sl_pf_config *lc, int 
             size_t *gstart, ngroup, G0, G1;
             void *sw;
             int r;
-            if (ow == 0)
+            if (ow == 0 || cfg->loc == NULL)
                 return 0;
             rb->korder = sl_ws_take(base, &off, v, sizeof(size_t));
             gstart = sl_ws_take(base, &off, v + 1, sizeof(size_t));
@@ -878,6 +880,13 @@ sl_status sl_pf_run_ranks(const sl_pf_config *cfg, const sl_pf_ranks *rk, double
     b->m0 = m0;
     b->nt = sl_pfi_unpaced_threads(cfg, nr);
     rb.g.mark = rb.gmark;
+    /* a split LETKF: every rank's rows fit the room group_max gave */
+    for (j = 0; rb.korder != NULL && j < (size_t)R; j++)
+        if (rb.khi[j] - rb.klo[j] > rb.krows)
+            return sl_fail(err, SL_EINVAL, "badlocalization",
+                           "a place holds more rows than the localisation's group_max (%lu) "
+                           "says",
+                           (unsigned long)cfg->loc->group_max);
     /* the inflation in force, as the analysis's start sets it */
     b->infl = rb.kset.inflation;
     if (kalman && cfg->adaptive_inflation && b->infl > cfg->inflation_max)

@@ -954,6 +954,33 @@ static void check_kalman_members(void)
                 printf("%s: workspace of one process %.1f MB, of a rank of 4 %.1f MB\n", label,
                        (double)one / 1e6, (double)most / 1e6);
             }
+            if (methods[q] == SL_ENKF_LETKF && v == 0) {
+                /* ten rows at each place, while group_max says one:
+                 * refused on every rank before any member moves (on 2
+                 * ranks a rank's rows overflow the room, on 3 they fit
+                 * and the analysis finds the places too full) */
+                static double ppos[NX + 1];
+                sl_localization pl = loc;
+                shared_comm sh;
+                rank_job jobs[MAX_RANKS];
+                int P, rr;
+                for (i = 0; i <= NX; i++)
+                    ppos[i] = (double)(i / 10);
+                pl.state_pos = ppos;
+                pl.group_max = 1;
+                cfg.loc = &pl;
+                for (P = 2; P <= 3; P++) {
+                    if (!run_ranks(&cfg, P, 0, X0, P0, &sh, jobs))
+                        break;
+                    for (rr = 0; rr < P; rr++) {
+                        CHECK(jobs[rr].r.st == SL_EINVAL &&
+                                  strcmp(jobs[rr].r.err.reason, "badlocalization") == 0,
+                              "%s: group_max too small, %d ranks, rank %d: %s", label, P, rr,
+                              jobs[rr].r.err.reason);
+                        run_free(&jobs[rr].r);
+                    }
+                }
+            }
             run_free(&ref);
         }
 }
