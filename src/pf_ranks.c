@@ -97,6 +97,20 @@ typedef struct {
     size_t krows;          /* the most rows a rank's analysis may hold */
 } ranks_buffers;
 
+/* The settings a split ensemble Kalman analysis is sized with: the
+ * run's, on P ranks (er: no collectives), each rank with its own rows. */
+static void sizing_config(const sl_pf_config *cfg, const ranks_buffers *rb, int P,
+                          sl_enkf_config *ec, sl_enkf_ranks *er)
+{
+    *ec = rb->kset;
+    memset(er, 0, sizeof *er);
+    er->size = P;
+    ec->ranks = er;
+    ec->rows_local = 1;
+    ec->loc = cfg->loc;
+    ec->threads = cfg->threads;
+}
+
 static size_t ranks_layout(const sl_pf_config *cfg, const sl_pf_config *lc, int P,
                            size_t chunk_bytes, unsigned char *base, ranks_buffers *rb)
 {
@@ -132,13 +146,9 @@ static size_t ranks_layout(const sl_pf_config *cfg, const sl_pf_config *lc, int 
     rb->rows = (ns + (size_t)P - 1) / (size_t)P;
     if (rb->kalman) {
         /* the rows a rank analyses (V and Vl serve it, free then) */
-        sl_enkf_config ec = rb->kset;
+        sl_enkf_config ec;
         sl_enkf_ranks er;
-        memset(&er, 0, sizeof er);
-        er.size = P;
-        ec.ranks = &er;
-        ec.rows_local = 1;
-        ec.loc = cfg->loc;
+        sizing_config(cfg, rb, P, &ec, &er);
         if ((krows = sl_enkf_local_rows_max(&ec, n + p, N, m_max ? m_max : 1)) == 0)
             return 0;
         rb->krows = krows;
@@ -172,15 +182,10 @@ static size_t ranks_layout(const sl_pf_config *cfg, const sl_pf_config *lc, int 
         /* the analysis's buffers for all N members (sl_pfi_kalman_setup)
          * in the local run's buffers, this rank's rows and what travels */
         const size_t v = n + p, dim = cfg->loc != NULL ? cfg->loc->dim : 0;
-        sl_enkf_config ec = rb->kset;
+        sl_enkf_config ec;
         sl_enkf_ranks er;
         size_t ew;
-        memset(&er, 0, sizeof er);
-        er.size = P;
-        ec.ranks = &er;
-        ec.rows_local = 1;
-        ec.loc = cfg->loc;
-        ec.threads = cfg->threads;
+        sizing_config(cfg, rb, P, &ec, &er);
         ew = sl_enkf_workspace(&ec, v, N, m_max ? m_max : 1, 0);
         if (ew == 0 || dim > 2)
             return 0;
