@@ -3,6 +3,7 @@
  * rate of the stochastic EnKF, inflation, relaxation, localisation, the
  * eigenvalue floor, the innovation statistic, and every error reason. */
 #include "check.h"
+#include "line_localization.h"
 #include "sluice/enkf.h"
 #include "sluice/rng.h"
 
@@ -920,18 +921,6 @@ static void serial_reference(size_t n, size_t N, double *X, size_t m,
     ck_free(yk);
 }
 
-static void set_loc(sl_localization *loc, const double *spos, const double *opos,
-                    const double *oc, double pf)
-{
-    memset(loc, 0, sizeof *loc);
-    loc->geometry = SL_GEOM_LINE;
-    loc->dim = 1;
-    loc->state_pos = spos;
-    loc->obs_pos = opos;
-    loc->obs_c = oc;
-    loc->param_factor = pf;
-}
-
 static void test_localization(void)
 {
     enum { n = 7, N = 10, m = 4 };
@@ -956,7 +945,7 @@ static void test_localization(void)
         /* a huge half-width (weights 1, the row without position at full
          * weight) is no localisation */
         CHECK(analyse_problem(&cfg, &p, NULL, Xa, &info, &err) == SL_OK, "%s", err.message);
-        set_loc(&loc, spos, opos, big, 1.0);
+        line_localization(&loc, spos, opos, big, 1.0);
         cfg.loc = &loc;
         CHECK(analyse_problem(&cfg, &p, NULL, Xb, &info, &err) == SL_OK, "%s", err.message);
         e = max_abs_diff(Xa, Xb, n * N);
@@ -965,7 +954,7 @@ static void test_localization(void)
         /* a tiny one (c = 0.05: reach 0.1) leaves the rows no observation
          * reaches exactly as they were; row 0 moved to 0.38, 0.02 from
          * observation 1, and the row without position (weight 0.5) move */
-        set_loc(&loc, spos, opos, tiny, 0.5);
+        line_localization(&loc, spos, opos, tiny, 0.5);
         spos[0] = 0.38; /* within reach of observation 1 */
         CHECK(analyse_problem(&cfg, &p, NULL, Xb, &info, &err) == SL_OK, "%s", err.message);
         for (i = 0; i < n; i++) {
@@ -989,7 +978,7 @@ static void test_localization(void)
             make_problem(&o, n, N, 1, 99);
             cfg.loc = NULL;
             analyse_problem(&cfg, &o, NULL, Xn, &info, &err);
-            set_loc(&loc, spos, opos, oc, 0.5);
+            line_localization(&loc, spos, opos, oc, 0.5);
             cfg.loc = &loc;
             analyse_problem(&cfg, &o, NULL, Xl, &info, &err);
             for (j = 0; j < N; j++) {
@@ -1003,7 +992,7 @@ static void test_localization(void)
         }
         /* localised serial filters against the textbook sweep */
         if (methods[q] != SL_ENKF_STOCHASTIC) {
-            set_loc(&loc, spos, opos, oc, 0.7);
+            line_localization(&loc, spos, opos, oc, 0.7);
             cfg.loc = &loc;
             CHECK(analyse_problem(&cfg, &p, NULL, Xb, &info, &err) == SL_OK, "%s", err.message);
             memcpy(Xr, p.X, n * N * sizeof(double));
@@ -1024,7 +1013,7 @@ static void test_localization(void)
         gsl_matrix *S = gsl_matrix_alloc(m, m);
         gsl_vector *b = gsl_vector_alloc(m), *z = gsl_vector_alloc(m);
         size_t l, t;
-        set_loc(&loc, spos, opos, oc, 0.6);
+        line_localization(&loc, spos, opos, oc, 0.6);
         cfg.loc = &loc;
         CHECK(analyse_problem(&cfg, &p, NULL, Xb, &info, &err) == SL_OK, "%s", err.message);
         ens_stats(n, N, p.X, xm, P);
@@ -1092,7 +1081,7 @@ static void test_innov_dof(void)
             opos[k] = 0.5 * (double)k;
             oc[k] = 2.0;
         }
-        set_loc(&loc, spos, opos, oc, 1.0);
+        line_localization(&loc, spos, opos, oc, 1.0);
         ens_stats(n, N, p.X, xm, P);
         kalman(n, m, xm, P, p.H, p.y, p.Rdiag, xa, Pa, NULL, &dof);
         for (q = 0; q < 2; q++) {
@@ -1124,7 +1113,7 @@ static void test_letkf_dispatch(void)
     sl_enkf_info ie, il;
     sl_error err;
     make_problem(&p, n, N, m, 808);
-    set_loc(&loc, spos, opos, oc, 1.0);
+    line_localization(&loc, spos, opos, oc, 1.0);
     cl.loc = &loc;
     ce.inflation = cl.inflation = 1.05;
     ce.rtps = cl.rtps = 0.5;
@@ -1198,7 +1187,7 @@ static void test_threads(void)
         opos[i] = 14.0 * (double)i + 3;
         oc[i] = 10.0;
     }
-    set_loc(&loc, spos, opos, oc, 1.0);
+    line_localization(&loc, spos, opos, oc, 1.0);
     for (method = 0; method < SL_ENKF_COUNT; method++) {
         sl_enkf_config cfg = config(method);
         sl_enkf_info info;
@@ -1340,7 +1329,7 @@ static void test_poll(void)
             opos[k] = 25.0 * (double)k;
             oc[k] = 10.0;
         }
-        set_loc(&loc, spos, opos, oc, 1.0);
+        line_localization(&loc, spos, opos, oc, 1.0);
         cfg.loc = &loc;
         memset(&lg, 0, sizeof lg);
         lg.X = Xb;
@@ -1396,7 +1385,7 @@ static void test_errors(void)
     sl_error err;
     size_t q;
     make_problem(&p, n, N, m, 5);
-    set_loc(&loc, spos, opos, oc, 1.0);
+    line_localization(&loc, spos, opos, oc, 1.0);
 
     CHECK(sl_enkf_method_find("enkf") == SL_ENKF_STOCHASTIC &&
               sl_enkf_method_find("etkf") == SL_ENKF_ETKF &&

@@ -7,6 +7,7 @@
  * Kalman analyses); a rank whose model fails fails the run on every
  * rank; the settings it refuses, each with its reason. */
 #include "check.h"
+#include "line_localization.h"
 #include "ranks_threads.h"
 #include "sluice/integrate.h"
 #include "sluice/loglik.h"
@@ -86,6 +87,14 @@ static void run_free(run_buf *r)
         ck_free(*f[i]);
     ck_free(r->work);
     memset(r, 0, sizeof *r);
+}
+
+/* cfg on one process, from X0 and P0, into r (run_alloc, then sl_pf_run;
+ * the status in r->st). */
+static void run_one(run_buf *r, const sl_pf_config *cfg, const double *X0, const double *P0)
+{
+    run_alloc(r, cfg, X0, P0, sl_pf_workspace(cfg));
+    r->st = sl_pf_run(cfg, r->X, r->P, r->w, r->work, &r->out, &r->err);
 }
 
 /* bit for bit, NaN included */
@@ -319,8 +328,7 @@ static void check_gr4j(void)
     cfg.seed = 2026;
     cfg.nq = 3;
     cfg.probs = probs;
-    run_alloc(&ref, &cfg, X0, P0, sl_pf_workspace(&cfg));
-    ref.st = sl_pf_run(&cfg, ref.X, ref.P, ref.w, ref.work, &ref.out, &ref.err);
+    run_one(&ref, &cfg, X0, P0);
     CHECK(ref.st == SL_OK, "gr4j single process: %s", ref.err.message);
     if (ref.st == SL_OK) {
         for (k = 0; k < T; k++)
@@ -335,8 +343,7 @@ static void check_gr4j(void)
         /* summaries off: the rows are not gathered, the rest the same */
         cfg.no_summary = 1;
         run_free(&ref);
-        run_alloc(&ref, &cfg, X0, P0, sl_pf_workspace(&cfg));
-        ref.st = sl_pf_run(&cfg, ref.X, ref.P, ref.w, ref.work, &ref.out, &ref.err);
+        run_one(&ref, &cfg, X0, P0);
         CHECK(ref.st == SL_OK, "gr4j without summaries: %s", ref.err.message);
         if (ref.st == SL_OK)
             compare_ranks(&cfg, &ref, X0, P0, "gr4j no summary", 1);
@@ -345,8 +352,7 @@ static void check_gr4j(void)
         cfg.resampler = &sl_resampler_stratified;
         cfg.threshold = 1.0;
         run_free(&ref);
-        run_alloc(&ref, &cfg, X0, P0, sl_pf_workspace(&cfg));
-        ref.st = sl_pf_run(&cfg, ref.X, ref.P, ref.w, ref.work, &ref.out, &ref.err);
+        run_one(&ref, &cfg, X0, P0);
         CHECK(ref.st == SL_OK, "gr4j stratified: %s", ref.err.message);
         if (ref.st == SL_OK)
             compare_ranks(&cfg, &ref, X0, P0, "gr4j stratified", 1);
@@ -423,8 +429,7 @@ static void check_flood_spans(void)
     cfg.move.kernel_scale = 1.0;
     cfg.move.min_ess = SL_KERNEL_MIN_ESS;
     cfg.seed = 99;
-    run_alloc(&ref, &cfg, X0, P0, sl_pf_workspace(&cfg));
-    ref.st = sl_pf_run(&cfg, ref.X, ref.P, ref.w, ref.work, &ref.out, &ref.err);
+    run_one(&ref, &cfg, X0, P0);
     CHECK(ref.st == SL_OK, "flood single process: %s", ref.err.message);
     if (ref.st == SL_OK) {
         size_t nres = 0;
@@ -528,8 +533,7 @@ static void check_member_draws_and_failure(void)
     cfg.seed = 5;
     cfg.nq = 2;
     cfg.probs = probs;
-    run_alloc(&ref, &cfg, X0, P0, sl_pf_workspace(&cfg));
-    ref.st = sl_pf_run(&cfg, ref.X, ref.P, ref.w, ref.work, &ref.out, &ref.err);
+    run_one(&ref, &cfg, X0, P0);
     CHECK(ref.st == SL_OK, "member draws, one process: %s", ref.err.message);
     if (ref.st == SL_OK)
         compare_ranks(&cfg, &ref, X0, P0, "member draws", 1);
@@ -558,8 +562,7 @@ static void check_member_draws_and_failure(void)
                 c2.wenkf = 1;
             CHECK(sl_pf_ranks_by_members(&c2) == (v == 3 || v == 4), "%s: %s by members",
                   names[v], v == 3 || v == 4 ? "split" : "not split");
-            run_alloc(&ref, &c2, X0, P0, sl_pf_workspace(&c2));
-            ref.st = sl_pf_run(&c2, ref.X, ref.P, ref.w, ref.work, &ref.out, &ref.err);
+            run_one(&ref, &c2, X0, P0);
             CHECK(ref.st == SL_OK, "%s, one process: %s", names[v], ref.err.message);
             if (ref.st == SL_OK)
                 compare_ranks(&c2, &ref, X0, P0, names[v], 0);
@@ -708,20 +711,6 @@ static void draw_states(double *X, size_t nx, size_t n, uint64_t seed)
     }
 }
 
-/* Positions along a line: rows at spos, observations at opos with
- * half-widths oc, rows without a place (NaN) at param_factor. */
-static void line_localization(sl_localization *loc, const double *spos, const double *opos,
-                              const double *oc, double param_factor)
-{
-    memset(loc, 0, sizeof *loc);
-    loc->geometry = SL_GEOM_LINE;
-    loc->dim = 1;
-    loc->state_pos = spos;
-    loc->obs_pos = opos;
-    loc->obs_c = oc;
-    loc->param_factor = param_factor;
-}
-
 /* A wide model (140 states, more than two blocks of the analysis's rows):
  * x_k = A x_(k-1) + L e with A neighbour-coupled along a line, every 7th
  * state observed (20 observations a cycle). The ensemble Kalman filters
@@ -799,8 +788,7 @@ static void check_wide_kalman(void)
             cfg.lag = 1; /* the forecasts split: the quantiles shared out */
         CHECK(sl_pf_ranks_by_members(&cfg) == (q < 4), "%s: %s by members", names[q],
               q < 4 ? "split" : "not split");
-        run_alloc(&ref, &cfg, q == 5 ? X5 : X0, P0, sl_pf_workspace(&cfg));
-        ref.st = sl_pf_run(&cfg, ref.X, ref.P, ref.w, ref.work, &ref.out, &ref.err);
+        run_one(&ref, &cfg, q == 5 ? X5 : X0, P0);
         CHECK(ref.st == SL_OK, "%s single process: %s", names[q], ref.err.message);
         if (ref.st == SL_OK)
             compare_ranks(&cfg, &ref, q == 5 ? X5 : X0, P0, names[q], 0);
@@ -902,8 +890,7 @@ static void check_kalman_members(void)
             snprintf(label, sizeof label, "%s split by members, variant %lu",
                      sl_enkf_method_name(methods[q]), (unsigned long)v);
             CHECK(sl_pf_ranks_by_members(&cfg), "%s: by members", label);
-            run_alloc(&ref, &cfg, X0, P0, sl_pf_workspace(&cfg));
-            ref.st = sl_pf_run(&cfg, ref.X, ref.P, ref.w, ref.work, &ref.out, &ref.err);
+            run_one(&ref, &cfg, X0, P0);
             CHECK(ref.st == SL_OK, "%s, one process: %s", label, ref.err.message);
             CHECK(ref.st != SL_OK || (ref.out.resampled[0] == 1.0 && ref.out.nonfinite[0] == 1.0),
                   "%s: the dead member replaced at the first cycle", label);
@@ -1028,8 +1015,7 @@ static void check_kalman_members_fail(void)
     base_config(&cfg, &md, N, T, times, first, y, sg, aux, fam, var);
     cfg.analysis = &sl_analysis_ensrf;
     CHECK(sl_pf_ranks_by_members(&cfg), "the EnSRF splits by members");
-    run_alloc(&ref, &cfg, X0, P0, sl_pf_workspace(&cfg));
-    ref.st = sl_pf_run(&cfg, ref.X, ref.P, ref.w, ref.work, &ref.out, &ref.err);
+    run_one(&ref, &cfg, X0, P0);
     CHECK(ref.st == SL_ENUMERIC && strcmp(ref.err.reason, "nonfinite") == 0,
           "rows out of scale, one process: %s", ref.err.reason);
     for (P = 2; P <= 4; P++) {
@@ -1076,12 +1062,10 @@ static void check_many_members(void)
     cfg.seed = 11;
     cfg.nq = 2;
     cfg.probs = probs;
-    run_alloc(&ref, &cfg, X0, P0, sl_pf_workspace(&cfg));
-    ref.st = sl_pf_run(&cfg, ref.X, ref.P, ref.w, ref.work, &ref.out, &ref.err);
+    run_one(&ref, &cfg, X0, P0);
     CHECK(ref.st == SL_OK, "many members, one process: %s", ref.err.message);
     cfg.threads = 2;
-    run_alloc(&two, &cfg, X0, P0, sl_pf_workspace(&cfg));
-    two.st = sl_pf_run(&cfg, two.X, two.P, two.w, two.work, &two.out, &two.err);
+    run_one(&two, &cfg, X0, P0);
     CHECK(two.st == SL_OK && ref.st == SL_OK && identical(&cfg, &ref, &two, what),
           "many members: 2 threads, %s differs from 1", what);
     cfg.threads = 1;
