@@ -860,6 +860,22 @@ static size_t span_steps(const sl_pf_config *cfg, size_t count, const uint32_t *
  * Returns the failing step in *fail (nsteps if none). */
 #define REGION_CHUNKS 8
 #define REGION_MIN_CHUNK 8
+/* A chunk's states, parameters, forcings and their perturbations should
+ * stay in a core's own cache through the interval's steps: at most about
+ * REGION_CHUNK_BYTES of them, in whole model blocks. */
+#define REGION_CHUNK_BYTES ((size_t)256 * 1024)
+static size_t region_chunk(const sl_model *md, size_t N, int nthr)
+{
+    const size_t nper = (size_t)nthr * REGION_CHUNKS;
+    const size_t row = (md->n_state + md->n_param + 2 * md->n_forcing) * sizeof(double);
+    size_t cs = (N + nper - 1) / nper, cap = REGION_CHUNK_BYTES / (row > 0 ? row : 1);
+    cap = cap / SL_MODEL_BLOCK * SL_MODEL_BLOCK;
+    if (cap < SL_MODEL_BLOCK)
+        cap = SL_MODEL_BLOCK;
+    if (cs > cap)
+        cs = cap;
+    return cs < REGION_MIN_CHUNK ? REGION_MIN_CHUNK : cs;
+}
 static sl_status forecast_region(const sl_pf_config *cfg, pf_buffers *b, double *X,
                                  const double *P, double *E, double *U, double t0,
                                  double tk, double h, size_t nsteps, size_t at, uint32_t s0,
@@ -869,12 +885,9 @@ static sl_status forecast_region(const sl_pf_config *cfg, pf_buffers *b, double 
 {
     const size_t N = cfg->N, q = cfg->model->n_forcing;
     const sl_model *md = cfg->model;
-    const size_t nper = (size_t)nthr * REGION_CHUNKS;
-    size_t cs = (N + nper - 1) / nper, nch, first = nsteps, fstep[MAX_THREADS], per,
+    size_t cs = region_chunk(md, N, nthr), nch, first = nsteps, fstep[MAX_THREADS], per,
            fchunk[MAX_THREADS], finished = 0, next = (size_t)nthr;
     int stop = 0, k, best = -1;
-    if (cs < REGION_MIN_CHUNK)
-        cs = REGION_MIN_CHUNK;
     nch = (N + cs - 1) / cs;
     per = span_steps(cfg, cs, ids);
     for (k = 0; k < nthr; k++) {
@@ -981,6 +994,19 @@ static sl_status forecast_region(const sl_pf_config *cfg, pf_buffers *b, double 
     return SL_OK;
 }
 
+/* Whether one thread should take the members chunk by chunk through an
+ * interval of several steps (forecast_region's order) rather than every
+ * member through each step in turn: when the model has no span for it and
+ * the ensemble would not stay in a core's cache from one step to the
+ * next. The order does not change a member's bits. */
+static int one_thread_chunks(const sl_pf_config *cfg, size_t nsteps, const uint32_t *ids)
+{
+    const sl_model *md = cfg->model;
+    const size_t row = (md->n_state + md->n_param + 2 * md->n_forcing) * sizeof(double);
+    return nsteps > 1 && span_steps(cfg, cfg->N < SPAN_CHUNK ? cfg->N : SPAN_CHUNK, ids) == 0 &&
+           cfg->N > REGION_CHUNK_BYTES / (row > 0 ? row : 1);
+}
+
 /* Advance every member (X, P, forcing perturbations E, forcing values U)
  * from *t to the time of cycle k: forcing, then a model step, for each
  * step; *s counts steps (a failing step counted too), *fidx tracks the
@@ -1006,7 +1032,7 @@ sl_status sl_pfi_forecast(const sl_pf_config *cfg, pf_buffers *b, double *X,
     sl_status st;
     if (nthr > 1 && (size_t)nthr > N)
         nthr = (int)N;
-    if (nthr > 1 && nsteps > 0) {
+    if ((nthr > 1 && nsteps > 0) || one_thread_chunks(cfg, nsteps, ids)) {
         st = forecast_region(cfg, b, X, P, E, U, *t, tk, h, nsteps, at, *s, *fidx, ids, seed,
                              zst, zread, through, nthr, &l, err);
         if (md->n_forcing > 0)

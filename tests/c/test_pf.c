@@ -622,18 +622,23 @@ static int region_poll(void *ctx, double fraction)
     return pl->stop_at > 0 && pl->calls >= pl->stop_at;
 }
 
-/* One run of the ticker on `threads` threads (paced: the pace may choose
- * fewer): status, error, final states, means and log-evidence. */
+/* One run of the ticker, N <= TICKER_NMAX members, on `threads` threads
+ * (paced: the pace may choose fewer): status, error, final states, means
+ * and log-evidence increments of the observed cycles, log-evidence. With
+ * `fine` every model step is a cycle of its own (observed at the same
+ * times as the plain run, unobserved between), so each forecast is one
+ * step of every member in turn: the reference order of the steps. */
+#define TICKER_NMAX 9001
 typedef struct {
     sl_status st;
     sl_error err;
-    double X[2 * 200], mean[2 * 3], logz[3], evidence;
+    double X[2 * TICKER_NMAX], mean[2 * 3], logz[3], evidence;
 } ticker_result;
 
-static void ticker_run(const ticker_ctx *tc, int threads, int paced, poll_log *pl,
-                       ticker_result *res)
+static void ticker_run(const ticker_ctx *tc, size_t N, int fine, int threads, int paced,
+                       poll_log *pl, ticker_result *res)
 {
-    enum { N = 200, T = 3 };
+    enum { T = 3, STEPS = 10, TF = T * STEPS };
     static const double times[T] = {1.0, 2.0, 3.0}, yv[T] = {0.4, 0.2, 0.5};
     static const double ftime[4] = {0.0, 1.0, 2.0, 3.0}, fval[4] = {1.0, 0.5, -0.5, 0.2};
     static const int noise[1] = {SL_FORCING_ADDITIVE};
@@ -643,8 +648,9 @@ static void ticker_run(const ticker_ctx *tc, int threads, int paced, poll_log *p
     obs_table o;
     run_buf r;
     ticker_ctx ctx = *tc;
-    double X0[2 * N];
-    size_t j;
+    double *X0 = ck_malloc(2 * N * sizeof *X0), tf[TF], yf[T], sf[T], af[T];
+    size_t j, k, l, ff[TF + 1], vf[T];
+    int famf[T];
     memset(&md, 0, sizeof md);
     md.name = "ticker";
     md.n_state = 2;
@@ -656,6 +662,32 @@ static void ticker_run(const ticker_ctx *tc, int threads, int paced, poll_log *p
     md.ctx = &ctx;
     one_obs_per_cycle(&o, T, yv, 0.3);
     base_config(&cfg, &md, N, T, times, &o);
+    if (fine) {
+        /* the step ends of the plain run's intervals, t0 + (l + 1) h, the
+         * last on the observation time; an observation ends each interval */
+        for (k = 0; k < T; k++) {
+            const double t0 = k == 0 ? 0.0 : times[k - 1];
+            for (l = 0; l < STEPS; l++) {
+                tf[k * STEPS + l] = l + 1 == STEPS ? times[k] : t0 + (double)(l + 1) * 0.1;
+            }
+            yf[k] = yv[k];
+            sf[k] = 0.3;
+            af[k] = 0.0;
+            famf[k] = SL_FAMILY_GAUSSIAN;
+            vf[k] = 0;
+        }
+        for (k = 0; k < TF; k++) /* cycle k's rows start at the count before it */
+            ff[k] = k < STEPS ? 0 : ff[k - 1] + (k % STEPS == 0 ? 1 : 0);
+        ff[TF] = T;
+        cfg.T = TF;
+        cfg.times = tf;
+        cfg.obs_first = ff;
+        cfg.y = yf;
+        cfg.sigma = sf;
+        cfg.aux = af;
+        cfg.family = famf;
+        cfg.var = vf;
+    }
     cfg.forcing.nt = 4;
     cfg.forcing.time = ftime;
     cfg.forcing.value = fval;
@@ -672,11 +704,15 @@ static void ticker_run(const ticker_ctx *tc, int threads, int paced, poll_log *p
         X0[j] = 0.05 * (double)(j % 13) - 0.3;
     sl_error_clear(&res->err);
     res->st = run(&cfg, X0, &r, &res->err);
-    memcpy(res->X, r.X, sizeof res->X);
-    memcpy(res->mean, r.out.mean, sizeof res->mean);
-    memcpy(res->logz, r.out.logz, sizeof res->logz);
+    memcpy(res->X, r.X, 2 * N * sizeof(double));
+    for (k = 0; k < T; k++) {
+        const size_t c = fine ? k * STEPS + STEPS - 1 : k;
+        memcpy(res->mean + 2 * k, r.out.mean + 2 * c, 2 * sizeof(double));
+        res->logz[k] = r.out.logz[c];
+    }
     res->evidence = r.out.log_evidence;
     run_free(&r);
+    ck_free(X0);
 }
 
 /* The forecast runs each interval in one parallel region, members in
@@ -700,7 +736,7 @@ static void check_forecast_region(void)
     int thr;
     ticker_result *one = ck_malloc(sizeof *one), *many = ck_malloc(sizeof *many);
     for (c = 0; c < sizeof cases / sizeof *cases; c++) {
-        ticker_run(&cases[c], 1, 0, NULL, one);
+        ticker_run(&cases[c], 200, 0, 1, 0, NULL, one);
         if (want[c] == NULL)
             CHECK(one->st == SL_OK, "ticker case %lu: %d %s", (unsigned long)c, (int)one->st,
                   one->err.message);
@@ -711,14 +747,14 @@ static void check_forecast_region(void)
                   one->err.message);
         for (thr = 2; thr <= 5; thr++) {
             const int paced = thr == 5;
-            ticker_run(&cases[c], paced ? 2 : thr, paced, NULL, many);
+            ticker_run(&cases[c], 200, 0, paced ? 2 : thr, paced, NULL, many);
             CHECK(many->st == one->st && strcmp(many->err.reason, one->err.reason) == 0 &&
                       strcmp(many->err.message, one->err.message) == 0,
                   "ticker case %lu, %d threads%s: %d '%s' against '%s'", (unsigned long)c,
                   paced ? 2 : thr, paced ? " paced" : "", (int)many->st, many->err.message,
                   one->err.message);
             if (one->st == SL_OK)
-                CHECK(memcmp(many->X, one->X, sizeof one->X) == 0 &&
+                CHECK(memcmp(many->X, one->X, 2 * 200 * sizeof(double)) == 0 &&
                           memcmp(many->mean, one->mean, sizeof one->mean) == 0 &&
                           memcmp(many->logz, one->logz, sizeof one->logz) == 0 &&
                           memcmp(&many->evidence, &one->evidence, sizeof one->evidence) == 0,
@@ -730,19 +766,81 @@ static void check_forecast_region(void)
      * threads */
     for (thr = 1; thr <= 3; thr += 2) {
         poll_log pl = {0, 0, 0.0, 0};
-        ticker_run(&cases[0], thr, 0, &pl, many);
+        ticker_run(&cases[0], 200, 0, thr, 0, &pl, many);
         CHECK(many->st == SL_OK && pl.calls >= 3 && !pl.backwards && pl.last <= 1.0,
               "%d threads: %lu polls, last %g, backwards %d", thr, (unsigned long)pl.calls,
               pl.last, pl.backwards);
         pl.calls = 0;
         pl.last = 0.0;
         pl.stop_at = 4;
-        ticker_run(&cases[0], thr, 0, &pl, many);
+        ticker_run(&cases[0], 200, 0, thr, 0, &pl, many);
         CHECK(many->st == SL_EINTERRUPT && strcmp(many->err.reason, "interrupted") == 0,
               "%d threads: a poll's stop: %d %s", thr, (int)many->st, many->err.reason);
     }
     ck_free(one);
     ck_free(many);
+}
+
+/* An ensemble too large for a core's cache from one step to the next
+ * (9001 members of 4 doubles: more than the 256 KiB of a chunk) goes
+ * through an interval of several steps chunk by chunk on one thread too.
+ * Its bits, and its failures, are those of the order that steps every
+ * member in turn: the same run with a cycle at every step. The poll is
+ * called at every step of each chunk, more often than once a step, which
+ * shows the chunked order was taken. */
+static void check_forecast_chunks(void)
+{
+    enum { N = TICKER_NMAX };
+    static const ticker_ctx cases[] = {
+        {0, {0}, {0}},
+        {2, {8500, 20}, {13, 17}},   /* the earlier step wins, in a later chunk */
+        {2, {5000, 30}, {5, 5}},     /* one step: the lower member */
+        {2, {9000, 3}, {29, 29}},    /* the last step, first and last chunks */
+    };
+    static const char *want[] = {NULL, "member 8500 failed at step 13",
+                                 "member 30 failed at step 5", "member 3 failed at step 29"};
+    ticker_result *ref = ck_malloc(sizeof *ref), *got = ck_malloc(sizeof *got);
+    size_t c;
+    int thr;
+    for (c = 0; c < sizeof cases / sizeof *cases; c++) {
+        ticker_run(&cases[c], N, 1, 1, 0, NULL, ref);
+        if (want[c] == NULL)
+            CHECK(ref->st == SL_OK, "chunks case %lu: %d %s", (unsigned long)c, (int)ref->st,
+                  ref->err.message);
+        else
+            CHECK(ref->st == SL_EMODEL && strcmp(ref->err.message, want[c]) == 0,
+                  "chunks case %lu, step by step: %d %s", (unsigned long)c, (int)ref->st,
+                  ref->err.message);
+        for (thr = 1; thr <= 2; thr++) {
+            ticker_run(&cases[c], N, 0, thr, 0, NULL, got);
+            CHECK(got->st == ref->st && strcmp(got->err.reason, ref->err.reason) == 0 &&
+                      strcmp(got->err.message, ref->err.message) == 0,
+                  "chunks case %lu, %d thread(s): %d '%s' against '%s'", (unsigned long)c,
+                  thr, (int)got->st, got->err.message, ref->err.message);
+            if (ref->st == SL_OK)
+                CHECK(memcmp(got->X, ref->X, 2 * N * sizeof(double)) == 0 &&
+                          memcmp(got->mean, ref->mean, sizeof ref->mean) == 0 &&
+                          memcmp(got->logz, ref->logz, sizeof ref->logz) == 0 &&
+                          memcmp(&got->evidence, &ref->evidence, sizeof ref->evidence) == 0,
+                      "chunks case %lu, %d thread(s): the bits of the step-by-step order",
+                      (unsigned long)c, thr);
+        }
+    }
+    {
+        poll_log pl = {0, 0, 0.0, 0};
+        ticker_run(&cases[0], N, 0, 1, 0, &pl, got);
+        CHECK(got->st == SL_OK && pl.calls > 30 && !pl.backwards && pl.last <= 1.0,
+              "one thread in chunks: %lu polls (more than the 30 steps), last %g, "
+              "backwards %d", (unsigned long)pl.calls, pl.last, pl.backwards);
+        pl.calls = 0;
+        pl.last = 0.0;
+        pl.stop_at = 4;
+        ticker_run(&cases[0], N, 0, 1, 0, &pl, got);
+        CHECK(got->st == SL_EINTERRUPT && strcmp(got->err.reason, "interrupted") == 0,
+              "one thread in chunks: a poll's stop: %d %s", (int)got->st, got->err.reason);
+    }
+    ck_free(ref);
+    ck_free(got);
 }
 
 /* N is odd, not a multiple of 3, and large enough that the run goes
@@ -2513,6 +2611,7 @@ int main(void)
     else
         check_determinism();
     check_forecast_region();
+    check_forecast_chunks();
     check_snapshot();
     check_errors();
     check_degenerate();
