@@ -864,11 +864,15 @@ static size_t span_steps(const sl_pf_config *cfg, size_t count, const uint32_t *
  * stay in a core's own cache through the interval's steps: at most about
  * REGION_CHUNK_BYTES of them, in whole model blocks. */
 #define REGION_CHUNK_BYTES ((size_t)256 * 1024)
+static size_t region_chunk_cap(const sl_model *md)
+{
+    const size_t row = (md->n_state + md->n_param + 2 * md->n_forcing) * sizeof(double);
+    return REGION_CHUNK_BYTES / (row > 0 ? row : 1);
+}
 static size_t region_chunk(const sl_model *md, size_t N, int nthr)
 {
     const size_t nper = (size_t)nthr * REGION_CHUNKS;
-    const size_t row = (md->n_state + md->n_param + 2 * md->n_forcing) * sizeof(double);
-    size_t cs = (N + nper - 1) / nper, cap = REGION_CHUNK_BYTES / (row > 0 ? row : 1);
+    size_t cs = (N + nper - 1) / nper, cap = region_chunk_cap(md);
     cap = cap / SL_MODEL_BLOCK * SL_MODEL_BLOCK;
     if (cap < SL_MODEL_BLOCK)
         cap = SL_MODEL_BLOCK;
@@ -996,15 +1000,17 @@ static sl_status forecast_region(const sl_pf_config *cfg, pf_buffers *b, double 
 
 /* Whether one thread should take the members chunk by chunk through an
  * interval of several steps (forecast_region's order) rather than every
- * member through each step in turn: when the model has no span for it and
- * the ensemble would not stay in a core's cache from one step to the
- * next. The order does not change a member's bits. */
+ * member through each step in turn: when the model is compiled (safe on
+ * member blocks: a call of an Octave function costs the same for a chunk
+ * as for the ensemble), has no span for it, and the ensemble would not
+ * stay in a core's cache from one step to the next. The order does not
+ * change a member's bits. */
 static int one_thread_chunks(const sl_pf_config *cfg, size_t nsteps, const uint32_t *ids)
 {
     const sl_model *md = cfg->model;
-    const size_t row = (md->n_state + md->n_param + 2 * md->n_forcing) * sizeof(double);
-    return nsteps > 1 && span_steps(cfg, cfg->N < SPAN_CHUNK ? cfg->N : SPAN_CHUNK, ids) == 0 &&
-           cfg->N > REGION_CHUNK_BYTES / (row > 0 ? row : 1);
+    return nsteps > 1 && md->thread_safe &&
+           span_steps(cfg, cfg->N < SPAN_CHUNK ? cfg->N : SPAN_CHUNK, ids) == 0 &&
+           cfg->N > region_chunk_cap(md);
 }
 
 /* Advance every member (X, P, forcing perturbations E, forcing values U)

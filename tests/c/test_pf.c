@@ -583,6 +583,7 @@ typedef struct {
     size_t nfail;
     size_t member[4];
     uint32_t step[4];
+    int unsafe; /* 1: the model says it is not safe on member blocks */
 } ticker_ctx;
 
 static sl_status ticker_step(const sl_model *md, double t, double t_end, size_t first,
@@ -657,7 +658,7 @@ static void ticker_run(const ticker_ctx *tc, size_t N, int fine, int threads, in
     md.n_forcing = 1;
     md.dt = 0.1;
     md.discrete = 1;
-    md.thread_safe = 1;
+    md.thread_safe = !ctx.unsafe;
     md.step = ticker_step;
     md.ctx = &ctx;
     one_obs_per_cycle(&o, T, yv, 0.3);
@@ -723,11 +724,11 @@ static void ticker_run(const ticker_ctx *tc, size_t N, int fine, int threads, in
 static void check_forecast_region(void)
 {
     static const ticker_ctx cases[] = {
-        {0, {0}, {0}},
-        {2, {150, 20}, {13, 17}},   /* the earlier step wins, whatever the member */
-        {2, {180, 40}, {5, 5}},     /* one step: the lower member */
-        {1, {199}, {0}},            /* the last chunk, the first step */
-        {3, {7, 9, 120}, {29, 28, 28}}, /* the last cycle */
+        {0, {0}, {0}, 0},
+        {2, {150, 20}, {13, 17}, 0},   /* the earlier step wins, whatever the member */
+        {2, {180, 40}, {5, 5}, 0},     /* one step: the lower member */
+        {1, {199}, {0}, 0},            /* the last chunk, the first step */
+        {3, {7, 9, 120}, {29, 28, 28}, 0}, /* the last cycle */
     };
     static const char *want[] = {NULL, "member 150 failed at step 13",
                                  "member 40 failed at step 5", "member 199 failed at step 0",
@@ -792,10 +793,10 @@ static void check_forecast_chunks(void)
 {
     enum { N = TICKER_NMAX };
     static const ticker_ctx cases[] = {
-        {0, {0}, {0}},
-        {2, {8500, 20}, {13, 17}},   /* the earlier step wins, in a later chunk */
-        {2, {5000, 30}, {5, 5}},     /* one step: the lower member */
-        {2, {9000, 3}, {29, 29}},    /* the last step, first and last chunks */
+        {0, {0}, {0}, 0},
+        {2, {8500, 20}, {13, 17}, 0},   /* the earlier step wins, in a later chunk */
+        {2, {5000, 30}, {5, 5}, 0},     /* one step: the lower member */
+        {2, {9000, 3}, {29, 29}, 0},    /* the last step, first and last chunks */
     };
     static const char *want[] = {NULL, "member 8500 failed at step 13",
                                  "member 30 failed at step 5", "member 3 failed at step 29"};
@@ -838,6 +839,19 @@ static void check_forecast_chunks(void)
         ticker_run(&cases[0], N, 0, 1, 0, &pl, got);
         CHECK(got->st == SL_EINTERRUPT && strcmp(got->err.reason, "interrupted") == 0,
               "one thread in chunks: a poll's stop: %d %s", (int)got->st, got->err.reason);
+    }
+    {
+        /* a model not safe on member blocks (an Octave function: a call
+         * costs as much for a chunk as for the ensemble) steps the whole
+         * ensemble at a time, a poll a step, to the same bits */
+        static const ticker_ctx unsafe = {0, {0}, {0}, 1};
+        poll_log pl = {0, 0, 0.0, 0};
+        ticker_run(&cases[0], N, 1, 1, 0, NULL, ref);
+        ticker_run(&unsafe, N, 0, 1, 0, &pl, got);
+        CHECK(got->st == SL_OK && pl.calls == 30 &&
+                  memcmp(got->X, ref->X, 2 * N * sizeof(double)) == 0,
+              "a model not safe on blocks: %d, %lu polls (one a step)", (int)got->st,
+              (unsigned long)pl.calls);
     }
     ck_free(ref);
     ck_free(got);
