@@ -166,6 +166,7 @@ void slm_handle_model_init(sl_model *model, slm_handle_model *hm,
     model->work = method != NULL ? method->stages * n * N : 0;
     model->step = method != NULL ? handle_rhs_step : handle_step;
     model->span = NULL;
+    model->span_forced = NULL;
     model->ctx = hm;
 }
 

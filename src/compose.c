@@ -284,6 +284,7 @@ sl_status sl_compose_init(sl_model *model, sl_compose *c, sl_error *err)
     model->work = scratch + nev + 1;
     model->step = compose_step;
     model->span = NULL;
+    model->span_forced = NULL;
     model->ctx = c;
     return SL_OK;
 }

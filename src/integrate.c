@@ -608,6 +608,59 @@ static sl_status def_step(const sl_model *model, double t, double t_end,
     return SL_OK;
 }
 
+/* The model's forced span (model.h), for a discrete map with constants
+ * and no events: each block of members makes its constants once, then
+ * goes through steps l0 .. l1-1, its forcing filled before each step, as
+ * def_step times the steps and their maps (a step of length 0 moves
+ * nothing). work holds forced_span_work doubles. */
+static size_t forced_span_work(const sl_model_def *def, size_t n)
+{
+    return def->n_const * SL_MODEL_BLOCK +
+           (def->block_work != NULL ? def->block_work(n, SL_MODEL_BLOCK) : 0);
+}
+
+/* Whether a definition run by `method` has a forced span */
+static int forced_span(const sl_model_def *def, const sl_integrator *method,
+                       const sl_events *events)
+{
+    return method == &sl_integrator_discrete && def->n_forcing > 0 && def->n_const > 0 &&
+           def->constants != NULL && def->map_const_block != NULL &&
+           (events == NULL || events->count == 0);
+}
+
+static sl_status def_span_forced(const sl_model *model, double t0, double h, double t_end,
+                                 size_t nsteps, size_t l0, size_t l1, size_t first,
+                                 size_t count, double *X, const double *P, double *U,
+                                 sl_forcing_fill_fn fill, void *fill_ctx, uint64_t seed,
+                                 uint32_t s0, double *work, size_t *failed, sl_error *err)
+{
+    const sl_def_model *dm = (const sl_def_model *)model->ctx;
+    const sl_model_def *def = dm->def;
+    const size_t n = dm->n, p = def->n_param, q = def->n_forcing, nc = def->n_const;
+    double *C = work, *wk = work + nc * SL_MODEL_BLOCK;
+    size_t b0, j, l;
+    (void)first;
+    (void)seed;
+    (void)s0;
+    (void)failed;
+    (void)err;
+    for (b0 = 0; b0 < count; b0 += SL_MODEL_BLOCK) {
+        const size_t cnt = count - b0 < SL_MODEL_BLOCK ? count - b0 : SL_MODEL_BLOCK;
+        double *Xb = X + b0 * n;
+        const double *Pb = P + b0 * p, *Ub = U + b0 * q;
+        for (j = 0; j < cnt; j++)
+            def->constants(def, Pb + j * p, C + j * nc);
+        for (l = l0; l < l1; l++) {
+            const double ts = t0 + (double)l * h;
+            const double te = l + 1 == nsteps ? t_end : t0 + (double)(l + 1) * h;
+            fill(fill_ctx, l, b0, cnt);
+            if (te - ts > 0)
+                def->map_const_block(def, n, cnt, ts, te - ts, Xb, Pb, C, Ub, wk);
+        }
+    }
+    return SL_OK;
+}
+
 sl_status sl_span_steps(double t, double t_end, double dt, int discrete,
                         double *steps, sl_error *err)
 {
@@ -787,6 +840,8 @@ sl_status sl_def_model_init(sl_model *model, sl_def_model *dm,
     if (def->rhs_block != NULL && method != &sl_integrator_discrete &&
         span_work(def, method, n) > work)
         work = span_work(def, method, n);
+    if (forced_span(def, method, dm->events) && forced_span_work(def, n) > work)
+        work = forced_span_work(def, n);
     model->name = def->name;
     model->n_state = n;
     model->n_param = def->n_param;
@@ -805,6 +860,7 @@ sl_status sl_def_model_init(sl_model *model, sl_def_model *dm,
                           def->n_forcing == 0
                       ? def_span
                       : NULL;
+    model->span_forced = forced_span(def, method, dm->events) ? def_span_forced : NULL;
     model->ctx = dm;
     return SL_OK;
 }

@@ -96,6 +96,7 @@ sl_status sl_linear_model(sl_model *model, const sl_linear *lin, double dt,
     model->work = (2 * lin->n + 1) * NOISE_BLOCK; /* E, xs, acc */
     model->step = linear_step;
     model->span = NULL;
+    model->span_forced = NULL;
     model->ctx = (void *)(uintptr_t)lin;
     return SL_OK;
 }

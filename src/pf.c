@@ -828,10 +828,11 @@ static sl_status interrupted(const sl_pf_config *cfg, size_t at, sl_error *err)
                    (unsigned long)cfg->T);
 }
 
-/* Steps per call of the model's span for `count` members: about
- * SPAN_WORK member-states of work a call, so a run polls every few
- * milliseconds; 0 when the model has no span or must step member by
- * member (forcing, or re-run paths whose draws follow member indices).
+/* Steps per call of the model's span (its forced span when it has
+ * forcing) for `count` members: about SPAN_WORK member-states of work a
+ * call, so a run polls every few milliseconds; 0 when the model has no
+ * such span or must step member by member (re-run paths whose draws
+ * follow member indices).
  * The sequential forecast gives a call at most SPAN_CHUNK members, so
  * that even at N = 1e5 a call takes its members through many steps (at
  * one step a call the blocks are transposed every step). */
@@ -841,7 +842,8 @@ static size_t span_steps(const sl_pf_config *cfg, size_t count, const uint32_t *
 {
     const sl_model *md = cfg->model;
     size_t w = count * md->n_state, k;
-    if (md->span == NULL || md->n_forcing > 0 || (ids != NULL && md->member_draws))
+    if ((md->n_forcing > 0 ? md->span_forced == NULL : md->span == NULL) ||
+        (ids != NULL && md->member_draws))
         return 0;
     k = w > 0 ? SPAN_WORK / w : 1;
     return k > 0 ? k : 1;
@@ -871,7 +873,9 @@ static size_t region_chunk_cap(const sl_model *md)
 }
 static size_t region_chunk(const sl_model *md, size_t N, int nthr)
 {
-    const size_t nper = (size_t)nthr * REGION_CHUNKS;
+    /* one thread has no load to balance: chunks as large as the cache
+     * allows */
+    const size_t nper = nthr > 1 ? (size_t)nthr * REGION_CHUNKS : 1;
     size_t cs = (N + nper - 1) / nper, cap = region_chunk_cap(md);
     cap = cap / SL_MODEL_BLOCK * SL_MODEL_BLOCK;
     if (cap < SL_MODEL_BLOCK)
@@ -880,6 +884,30 @@ static size_t region_chunk(const sl_model *md, size_t N, int nthr)
         cs = cap;
     return cs < REGION_MIN_CHUNK ? REGION_MIN_CHUNK : cs;
 }
+/* What the forcing of a chunk's forced span needs: the forcing of
+ * member j0 + i at step l of the interval, as the step-by-step order
+ * makes it (the base values from the forcing interval fidx0 on) */
+typedef struct {
+    const sl_pf_config *cfg;
+    const pf_buffers *b;
+    double *E, *U, *u0, *zst, t0, h;
+    size_t j0, fidx0;
+    uint32_t s0;
+    const uint32_t *ids;
+    uint64_t seed;
+    int zread;
+} chunk_forcing;
+
+static void chunk_forcing_fill(void *ctx, size_t l, size_t i0, size_t count)
+{
+    const chunk_forcing *f = (const chunk_forcing *)ctx;
+    size_t j;
+    (void)forcing_base(&f->cfg->forcing, f->t0 + (double)l * f->h, f->fidx0, f->u0);
+    for (j = f->j0 + i0; j < f->j0 + i0 + count; j++)
+        forcing_member(f->cfg, f->b, f->E, f->U, f->u0, f->s0 + (uint32_t)l, j, f->ids,
+                       f->seed, f->zst, f->zread);
+}
+
 static sl_status forecast_region(const sl_pf_config *cfg, pf_buffers *b, double *X,
                                  const double *P, double *E, double *U, double t0,
                                  double tk, double h, size_t nsteps, size_t at, uint32_t s0,
@@ -929,12 +957,22 @@ static sl_status forecast_region(const sl_pf_config *cfg, pf_buffers *b, double 
                 if (l > seen || halt)
                     break;
                 if (per > 0) {
-                    /* several steps in one call (no forcing) */
+                    /* several steps in one call */
                     size_t fl = nsteps;
                     l1 = nsteps - l < per ? nsteps : l + per;
-                    st = md->span(md, t0, h, tk, nsteps, l, l1, b->m0 + j0, j1 - j0,
-                                  X + j0 * md->n_state, P + j0 * md->n_param, seed, s0, mw,
-                                  &fl, &e);
+                    if (q > 0) {
+                        chunk_forcing cf = {cfg, b, E, U, u0, zst, t0, h, j0, fidx0,
+                                            s0, ids, seed, zread};
+                        st = md->span_forced(md, t0, h, tk, nsteps, l, l1, b->m0 + j0,
+                                             j1 - j0, X + j0 * md->n_state,
+                                             P + j0 * md->n_param, U + j0 * q,
+                                             chunk_forcing_fill, &cf, seed, s0, mw,
+                                             &fl, &e);
+                    } else {
+                        st = md->span(md, t0, h, tk, nsteps, l, l1, b->m0 + j0, j1 - j0,
+                                      X + j0 * md->n_state, P + j0 * md->n_param, seed, s0,
+                                      mw, &fl, &e);
+                    }
                     if (st != SL_OK)
                         l = fl < l1 ? fl : l1 - 1;
                 } else {
@@ -1002,14 +1040,18 @@ static sl_status forecast_region(const sl_pf_config *cfg, pf_buffers *b, double 
  * interval of several steps (forecast_region's order) rather than every
  * member through each step in turn: when the model is compiled (safe on
  * member blocks: a call of an Octave function costs the same for a chunk
- * as for the ensemble), has no span for it, and the ensemble would not
- * stay in a core's cache from one step to the next. The order does not
- * change a member's bits. */
+ * as for the ensemble) and either has a forced span (made for that
+ * order: a block makes its constants once for the steps) or has no span
+ * and an ensemble that would not stay in a core's cache from one step
+ * to the next. The order does not change a member's bits. */
 static int one_thread_chunks(const sl_pf_config *cfg, size_t nsteps, const uint32_t *ids)
 {
     const sl_model *md = cfg->model;
-    return nsteps > 1 && md->thread_safe &&
-           span_steps(cfg, cfg->N < SPAN_CHUNK ? cfg->N : SPAN_CHUNK, ids) == 0 &&
+    if (nsteps < 2 || !md->thread_safe)
+        return 0;
+    if (md->n_forcing > 0 && span_steps(cfg, 1, ids) > 0)
+        return 1; /* a forced span: only the region calls it */
+    return span_steps(cfg, cfg->N < SPAN_CHUNK ? cfg->N : SPAN_CHUNK, ids) == 0 &&
            cfg->N > region_chunk_cap(md);
 }
 
@@ -1050,7 +1092,7 @@ sl_status sl_pfi_forecast(const sl_pf_config *cfg, pf_buffers *b, double *X,
         *t = tk;
         return SL_OK;
     }
-    if ((per = span_steps(cfg, N < SPAN_CHUNK ? N : SPAN_CHUNK, ids)) > 0) {
+    if (md->n_forcing == 0 && (per = span_steps(cfg, N < SPAN_CHUNK ? N : SPAN_CHUNK, ids)) > 0) {
         /* several steps in one call (no forcing), members in chunks of
          * SPAN_CHUNK so that a call takes each block through many steps
          * at any N; the counter of step l is s0 + l */

@@ -35,6 +35,19 @@ static void check_names(const char *const *list, size_t count, const char *what)
         }
 }
 
+/* The first i < n where a[i * stride] and b[i] differ in their bits
+ * (any NaN equal to any NaN), or n */
+static size_t disagreement(const double *a, size_t stride, const double *b, size_t n)
+{
+    size_t i;
+    for (i = 0; i < n; i++) {
+        double x = a[i * stride], y = b[i];
+        if (!(isnan(x) && isnan(y)) && memcmp(&x, &y, sizeof x) != 0)
+            return i;
+    }
+    return n;
+}
+
 static double *buffer(size_t count, const double *init)
 {
     double *v = calloc(count + 8, sizeof(double));
@@ -103,6 +116,19 @@ int main(void)
     if (d->rhs_block != NULL && d->rhs == NULL) {
         printf("problem: a block right-hand side (rhs_block) is given without the right-hand "
                "side (rhs) it must agree with (the adaptive integrator uses rhs)\n");
+        problems++;
+    }
+    if ((d->n_const > 0) != (d->constants != NULL) ||
+        (d->constants != NULL) != (d->map_const_block != NULL)) {
+        printf("problem: n_const, constants and map_const_block go together: a member's "
+               "constants are made by constants and used by map_const_block (got n_const "
+               "%lu, constants %s, map_const_block %s)\n",
+               (unsigned long)d->n_const, d->constants != NULL ? "given" : "NULL",
+               d->map_const_block != NULL ? "given" : "NULL");
+        problems++;
+    } else if (d->map_const_block != NULL && d->map == NULL) {
+        printf("problem: a step map given the members' constants (map_const_block) is given "
+               "without the step map (map) it must agree with\n");
         problems++;
     }
     if (d->rhs == NULL && d->map == NULL && d->map_block == NULL) {
@@ -212,17 +238,15 @@ int main(void)
                 um[i] = U[i * count + j];
             stage("the right-hand side (rhs)");
             d->rhs(d, n, 0.0, xm, pm, um, dm);
-            for (i = 0; i < n && !bad; i++) {
-                double a = D[i * count + j], b = dm[i];
-                if (!(isnan(a) && isnan(b)) && memcmp(&a, &b, sizeof a) != 0) {
-                    printf("problem: the block right-hand side (rhs_block) gives %.17g for "
-                           "state %lu of member %lu where the right-hand side (rhs) gives "
-                           "%.17g: they must agree to the last bit (rhs_block reads state i "
-                           "of member j at X[i * count + j])\n",
-                           a, (unsigned long)(i + 1), (unsigned long)(j + 1), b);
-                    problems++;
-                    bad = 1;
-                }
+            i = disagreement(D + j, count, dm, n);
+            if (i < n) {
+                printf("problem: the block right-hand side (rhs_block) gives %.17g for "
+                       "state %lu of member %lu where the right-hand side (rhs) gives "
+                       "%.17g: they must agree to the last bit (rhs_block reads state i "
+                       "of member j at X[i * count + j])\n",
+                       D[i * count + j], (unsigned long)(i + 1), (unsigned long)(j + 1), dm[i]);
+                problems++;
+                bad = 1;
             }
         }
         free(X);
@@ -233,6 +257,52 @@ int main(void)
         free(pm);
         free(um);
         free(dm);
+    }
+    if (d->map_const_block != NULL && d->constants != NULL && d->n_const > 0 &&
+        d->map != NULL) {
+        /* three members with states and parameters of their own, one step
+         * given their constants, against map member by member: the same
+         * bits (any NaN equal to any NaN) */
+        const size_t count = 3, nc = d->n_const;
+        size_t w = d->block_work != NULL ? d->block_work(n, count) : 0, j, i, bad = 0;
+        double *X = buffer(n * count, NULL), *P = buffer(np * count, NULL);
+        double *U = buffer(nq * count, NULL), *C = buffer(nc * count, NULL);
+        double *W = buffer(w, NULL), *xm = buffer(n, NULL);
+        for (j = 0; j < count; j++) {
+            for (i = 0; i < n; i++)
+                X[j * n + i] = x[i] * (1.0 + 0.125 * (double)j) + 0.0625 * (double)j;
+            for (i = 0; i < np; i++)
+                P[j * np + i] = p[i] * (1.0 + 0.0625 * (double)j);
+            for (i = 0; i < nq; i++)
+                U[j * nq + i] = 0.5 * (double)j;
+            stage("the members' constants (constants)");
+            d->constants(d, P + j * np, C + j * nc);
+        }
+        guarded(C, nc * count, "the members' constants (constants)", "c");
+        stage("the step map given the constants (map_const_block)");
+        d->map_const_block(d, n, count, 0.0, d->dt, X, P, C, U, W);
+        guarded(X, n * count, "the step map given the constants (map_const_block)", "X");
+        for (j = 0; j < count && !bad; j++) {
+            for (i = 0; i < n; i++)
+                xm[i] = x[i] * (1.0 + 0.125 * (double)j) + 0.0625 * (double)j;
+            stage("the step map (map)");
+            d->map(d, n, 0.0, d->dt, xm, P + j * np, U + j * nq);
+            i = disagreement(X + j * n, 1, xm, n);
+            if (i < n) {
+                printf("problem: the step map given the constants (map_const_block) "
+                       "gives %.17g for state %lu of member %lu where the step map (map) "
+                       "gives %.17g: they must agree to the last bit\n",
+                       X[j * n + i], (unsigned long)(i + 1), (unsigned long)(j + 1), xm[i]);
+                problems++;
+                bad = 1;
+            }
+        }
+        free(X);
+        free(P);
+        free(U);
+        free(C);
+        free(W);
+        free(xm);
     }
     if (d->jump != NULL && ne > 0) {
         stage("the event map (jump)");

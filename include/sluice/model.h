@@ -42,6 +42,22 @@ typedef sl_status (*sl_span_fn)(const sl_model *model, double t0, double h,
                                 uint32_t s0, double *work, size_t *failed,
                                 sl_error *err);
 
+/* Fills the forcing values of members i0 .. i0+count-1 of a span (their
+ * columns of the span's U) for step l of its interval; called for each
+ * block and step in the order the span takes them. */
+typedef void (*sl_forcing_fill_fn)(void *ctx, size_t l, size_t i0, size_t count);
+
+/* Optional, for a model with forcing: as sl_span_fn, the forcing of each
+ * step asked of `fill` (U is q x count, the members' columns) just
+ * before the step uses it, member block by member block. */
+typedef sl_status (*sl_span_forced_fn)(const sl_model *model, double t0, double h,
+                                       double t_end, size_t nsteps, size_t l0,
+                                       size_t l1, size_t first, size_t count,
+                                       double *X, const double *P, double *U,
+                                       sl_forcing_fill_fn fill, void *fill_ctx,
+                                       uint64_t seed, uint32_t s0, double *work,
+                                       size_t *failed, sl_error *err);
+
 struct sl_model {
     const char *name;
     size_t n_state, n_param, n_forcing;
@@ -55,6 +71,7 @@ struct sl_model {
     size_t work;      /* doubles of per-thread scratch the step needs */
     sl_step_fn step;
     sl_span_fn span;  /* optional (n_forcing = 0 only), or NULL */
+    sl_span_forced_fn span_forced; /* optional (n_forcing > 0), or NULL */
     void *ctx;        /* the model's own data (matrices, a callback, ...) */
 };
 
@@ -87,6 +104,16 @@ typedef void (*sl_map_block_fn)(const sl_model_def *def, size_t n,
                                 size_t count, double t, double dt, double *X,
                                 const double *P, const double *U,
                                 double *work);
+/* Optional: a member's constants, n_const values that depend on its
+ * parameters p alone (GR4J's unit-hydrograph ordinates), so that a run
+ * of steps makes them once. */
+typedef void (*sl_constants_fn)(const sl_model_def *def, const double *p, double *c);
+/* map_block given the members' constants (C n_const x count, made by
+ * `constants`): the same bits as map_block. */
+typedef void (*sl_map_const_block_fn)(const sl_model_def *def, size_t n,
+                                      size_t count, double t, double dt, double *X,
+                                      const double *P, const double *C,
+                                      const double *U, double *work);
 
 /* Optional fast path of rhs: the derivatives of `count` members at once,
  * in structure-of-arrays layout: state i of member j is X[i * count + j]
@@ -125,6 +152,11 @@ struct sl_model_def {
      * others, but not drawn or reported unless asked for; NULL: none */
     const unsigned char *state_internal;
     sl_rhs_block_fn rhs_block;    /* optional fast path of rhs, or NULL */
+    /* optional, together, for a discrete map with map_block: n_const
+     * constants a member (0: none), `constants` and `map_const_block` */
+    size_t n_const;
+    sl_constants_fn constants;
+    sl_map_const_block_fn map_const_block;
 };
 
 /* What a user's model file (built by sluice.build_model) defines: its

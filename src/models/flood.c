@@ -137,4 +137,4 @@ const sl_model_def sl_model_flood = {
     flood_states, flood_params, NULL, flood_events,
     flood_x0, flood_p, flood_lo, flood_hi,
     0.1, "dopri5",
-    flood_rhs, NULL, flood_jump, NULL, NULL, NULL, flood_rhs_block};
+    flood_rhs, NULL, flood_jump, NULL, NULL, NULL, flood_rhs_block, 0, NULL, NULL};

@@ -317,7 +317,9 @@ static void gr4j_map(const sl_model_def *def, size_t n, double t, double dt,
  * per-member map. The queues are already contiguous within the members'
  * columns and stay there: one block move shifts the whole chunk's queues,
  * then each member gets a few multiply-adds, with one set of ordinates for
- * a run of members that share X4. A short last chunk is padded with copies
+ * a run of members that share X4, or with the members' constants (their
+ * ordinates made once for a run of steps, the engine's forced span). A
+ * short last chunk is padded with copies
  * of its last member, which are computed and not written back. */
 
 #define CHUNK 16
@@ -330,9 +332,23 @@ static size_t gr4j_block_work(size_t n, size_t count)
     return CHUNK * CHUNK_VARS;
 }
 
-static void gr4j_block(const sl_model_def *def, size_t n, size_t count,
-                       double t, double dt, double *X, const double *P,
-                       const double *U, double *work)
+/* A member's constants (NCONST values): n1, n2, then the ordinates of
+ * UH1 (NH1 slots) and UH2 (NH2 slots), the first n1 / n2 written */
+#define NCONST (2 + NH1 + NH2)
+
+static void gr4j_constants(const sl_model_def *def, const double *p, double *c)
+{
+    size_t n1, n2;
+    (void)def;
+    ordinates(p[3], c + 2, &n1, c + 2 + NH1, &n2);
+    c[0] = (double)n1;
+    c[1] = (double)n2;
+}
+
+/* The block path; C holds the members' constants, or is NULL for the
+ * block to make its ordinates itself */
+static void gr4j_block_with(size_t n, size_t count, double *X, const double *P,
+                            const double *C, const double *U, double *work)
 {
     /* stores; parameters; forcings; fluxes and intermediate terms */
     double *s = work, *r = s + CHUNK, *q = r + CHUNK;
@@ -343,13 +359,12 @@ static void gr4j_block(const sl_model_def *def, size_t n, size_t count,
            *th = a + CHUNK, *ps = th + CHUNK, *pr = ps + CHUNK,
            *q9 = pr + CHUNK, *q1 = q9 + CHUNK, *f = q1 + CHUNK,
            *rr = f + CHUNK, *sq = rr + CHUNK;
-    /* the members' ordinates: member j uses set os[j], its own or that
-     * of the member before it with the same X4 */
+    /* the members' ordinates: member j uses po1[j] (n1[j] of them) and
+     * po2[j] (n2[j]), its constants, or the set it made, or that of the
+     * member before it with the same X4 */
     double o1[CHUNK][NH1], o2[CHUNK][NH2];
-    size_t b0, j, n1[CHUNK], n2[CHUNK], os[CHUNK];
-    (void)def;
-    (void)t;
-    (void)dt;
+    const double *po1[CHUNK], *po2[CHUNK];
+    size_t b0, j, n1[CHUNK], n2[CHUNK];
     for (b0 = 0; b0 < count; b0 += CHUNK) {
         const size_t m = count - b0 < CHUNK ? count - b0 : CHUNK;
 
@@ -369,12 +384,26 @@ static void gr4j_block(const sl_model_def *def, size_t n, size_t count,
 
         /* the ordinates, well before the queues read them: a load wider
          * than the stores that just wrote its values stalls */
-        for (j = 0; j < m; j++) {
-            if (j > 0 && x4[j] == x4[j - 1]) {
-                os[j] = os[j - 1];
-            } else {
-                os[j] = j;
-                ordinates(x4[j], o1[j], &n1[j], o2[j], &n2[j]);
+        if (C != NULL) {
+            for (j = 0; j < m; j++) {
+                const double *cj = C + (b0 + j) * NCONST;
+                n1[j] = (size_t)cj[0];
+                n2[j] = (size_t)cj[1];
+                po1[j] = cj + 2;
+                po2[j] = cj + 2 + NH1;
+            }
+        } else {
+            for (j = 0; j < m; j++) {
+                if (j > 0 && x4[j] == x4[j - 1]) {
+                    n1[j] = n1[j - 1];
+                    n2[j] = n2[j - 1];
+                    po1[j] = po1[j - 1];
+                    po2[j] = po2[j - 1];
+                } else {
+                    ordinates(x4[j], o1[j], &n1[j], o2[j], &n2[j]);
+                    po1[j] = o1[j];
+                    po2[j] = o2[j];
+                }
             }
         }
 
@@ -399,8 +428,7 @@ static void gr4j_block(const sl_model_def *def, size_t n, size_t count,
                 ((m - 1) * n + NH1 + NH2 - 1) * sizeof(double));
         for (j = 0; j < m; j++) {
             double *xj = X + (b0 + j) * n;
-            const size_t o = os[j];
-            queues_fill(xj, o1[o], n1[o], o2[o], n2[o], 0.9 * pr[j], 0.1 * pr[j]);
+            queues_fill(xj, po1[j], n1[j], po2[j], n2[j], 0.9 * pr[j], 0.1 * pr[j]);
             q9[j] = xj[IUH1];
             q1[j] = xj[IUH2];
         }
@@ -433,6 +461,26 @@ static void gr4j_block(const sl_model_def *def, size_t n, size_t count,
     }
 }
 
+static void gr4j_block(const sl_model_def *def, size_t n, size_t count,
+                       double t, double dt, double *X, const double *P,
+                       const double *U, double *work)
+{
+    (void)def;
+    (void)t;
+    (void)dt;
+    gr4j_block_with(n, count, X, P, NULL, U, work);
+}
+
+static void gr4j_const_block(const sl_model_def *def, size_t n, size_t count,
+                             double t, double dt, double *X, const double *P,
+                             const double *C, const double *U, double *work)
+{
+    (void)def;
+    (void)t;
+    (void)dt;
+    gr4j_block_with(n, count, X, P, C, U, work);
+}
+
 /* ------------------------------------------------------ the definition */
 
 static const char *const gr4j_states[NSTATE] = {SL_GR4J_STATE_NAMES};
@@ -457,4 +505,5 @@ const sl_model_def sl_model_gr4j = {
     gr4j_states, gr4j_params, gr4j_forcings, NULL,
     gr4j_x0, gr4j_p, gr4j_lo, gr4j_hi,
     1.0, "discrete",
-    NULL, gr4j_map, NULL, gr4j_block, gr4j_block_work, gr4j_internal, NULL};
+    NULL, gr4j_map, NULL, gr4j_block, gr4j_block_work, gr4j_internal, NULL,
+    NCONST, gr4j_constants, gr4j_const_block};

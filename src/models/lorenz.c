@@ -54,7 +54,7 @@ const sl_model_def sl_model_lorenz63 = {
     l63_states, l63_params, NULL, NULL,
     l63_x0, l63_p, l63_lo, l63_hi,
     0.01, "rk4",
-    lorenz63_rhs, NULL, NULL, NULL, NULL, NULL, lorenz63_rhs_block};
+    lorenz63_rhs, NULL, NULL, NULL, NULL, NULL, lorenz63_rhs_block, 0, NULL, NULL};
 
 /* Lorenz (1996): dx_i = (x_{i+1} - x_{i-2}) x_{i-1} - x_i + F, cyclic. */
 static void lorenz96_rhs(const sl_model_def *def, size_t n, double t,
@@ -106,4 +106,4 @@ const sl_model_def sl_model_lorenz96 = {
     NULL, l96_params, NULL, NULL,
     NULL, l96_p, l96_lo, l96_hi,
     0.01, "rk4",
-    lorenz96_rhs, NULL, NULL, NULL, NULL, NULL, lorenz96_rhs_block};
+    lorenz96_rhs, NULL, NULL, NULL, NULL, NULL, lorenz96_rhs_block, 0, NULL, NULL};

@@ -231,4 +231,4 @@ const sl_model_def sl_model_river_town = {
     rt_states, rt_params, rt_forcings, rt_events,
     rt_x0, rt_p, rt_lo, rt_hi,
     1.0, "discrete",
-    NULL, river_town_map, river_town_jump, NULL, NULL, rt_internal, NULL};
+    NULL, river_town_map, river_town_jump, NULL, NULL, rt_internal, NULL, 0, NULL, NULL};

@@ -214,15 +214,77 @@ static void test_reference(const sl_model_def *d)
 /* 1000 members, random parameters and rain: the block path, in several
  * groupings and through the engine, equals the per-member map bit for bit;
  * the water balance holds every day; Q >= 0. */
+/* The forcing a forced span asks for: day l of Uall, for the members
+ * first + i0 .. of the span, into the span's U (U: its first member's
+ * column); the days of each block must come in order, one block at a
+ * time. */
+typedef struct {
+    const double *Uall;
+    double *U;
+    size_t N, first, calls;
+    size_t last_i0, last_l;
+    int order_ok;
+} span_feed;
+
+static void feed_block(void *ctx, size_t l, size_t i0, size_t count)
+{
+    span_feed *f = (span_feed *)ctx;
+    if (f->calls == 0)
+        f->order_ok = 1;
+    else if (i0 == f->last_i0 && l != f->last_l + 1)
+        f->order_ok = 0;
+    f->calls++;
+    f->last_i0 = i0;
+    f->last_l = l;
+    memcpy(f->U + 2 * i0, f->Uall + l * f->N * 2 + 2 * (f->first + i0),
+           2 * count * sizeof(double));
+}
+
+/* The constants of X4 at and beyond its bounds, 0, negative, NaN and
+ * infinite: the block path given them moves every member as the map does */
+static void test_constants(const sl_model_def *d)
+{
+    static const double x4s[] = {0.5, 1.0, 1.3891344662544509, 2.5, 9.999, 10.0, 19.5, 20.0,
+                                 25.0, 0.2, 0.0, -1.0, NAN, INFINITY};
+    enum { M = sizeof x4s / sizeof *x4s, DAYS = 30 };
+    double Xm[M * NS], Xc[M * NS], P[M * 4], U[M * 2], C[M * (2 + 20 + 40)];
+    double *wk = ck_malloc(d->block_work(NS, M) * sizeof(double));
+    size_t j, t, i;
+    int same = 1;
+    for (j = 0; j < M; j++) {
+        P[4 * j] = 300.0;
+        P[4 * j + 1] = 0.5;
+        P[4 * j + 2] = 80.0;
+        P[4 * j + 3] = x4s[j];
+        for (i = 0; i < NS; i++)
+            Xm[NS * j + i] = i < 2 ? 50.0 : 0.01 * (double)((i * 7 + j) % 11);
+        d->constants(d, P + 4 * j, C + d->n_const * j);
+    }
+    memcpy(Xc, Xm, sizeof Xm);
+    for (t = 0; t < DAYS; t++) {
+        for (j = 0; j < M; j++) {
+            U[2 * j] = t % 3 == 0 ? 0.0 : 12.0 + (double)t;
+            U[2 * j + 1] = 3.0;
+            d->map(d, NS, (double)t, 1.0, Xm + NS * j, P + 4 * j, U + 2 * j);
+        }
+        d->map_const_block(d, NS, M, (double)t, 1.0, Xc, P, C, U, wk);
+        same = same && memcmp(Xm, Xc, sizeof Xm) == 0;
+    }
+    CHECK(same, "constants of X4 at, beyond and outside its bounds (NaN, Inf, <= 0): the "
+                "block path given them == per-member map, bit for bit");
+    ck_free(wk);
+}
+
 static void test_block(const sl_model_def *d)
 {
     enum { N = 1000, DAYS = 400 };
     static double Xm[N * NS], Xb[N * NS], Xg[N * NS], Xe[N * NS], X0[N * NS];
-    static double Pm[N * 4], U[N * 2];
+    static double Xc[N * NS], Xs[N * NS], Xinit[N * NS], Cm[N * (2 + 20 + 40)];
+    static double Pm[N * 4], Uall[DAYS * N * 2], Us[N * 2];
     static const size_t groups[] = {1, 3, 16, 17, 64, 5, 31, 200, 663};
     double *wk_block, *wk_group, *wk_engine, worst = 0;
     size_t j, t, g, wb;
-    int same_b = 1, same_g = 1, same_e = 1, bal = 1, qpos = 1, st_ok = 1;
+    int same_b = 1, same_g = 1, same_e = 1, same_c = 1, bal = 1, qpos = 1, st_ok = 1;
     size_t emptied = 0;
     sl_model model;
     sl_def_model dm;
@@ -256,6 +318,21 @@ static void test_block(const sl_model_def *d)
     memcpy(Xb, Xm, sizeof Xm);
     memcpy(Xg, Xm, sizeof Xm);
     memcpy(Xe, Xm, sizeof Xm);
+    memcpy(Xc, Xm, sizeof Xm);
+    memcpy(Xinit, Xm, sizeof Xm);
+    /* rain: dry days, ordinary days and a few storms */
+    for (t = 0; t < DAYS; t++)
+        for (j = 0; j < N; j++) {
+            double v = sl_stream_uniform(&s), *U = Uall + t * N * 2;
+            U[2 * j] = v < 0.45 ? 0.0 : (v < 0.97 ? -8.0 * log(sl_stream_uniform(&s))
+                                                  : uniform(&s, 60.0, 250.0));
+            U[2 * j + 1] = uniform(&s, 0.0, 7.0);
+        }
+    /* the members' constants, made once for all the days */
+    CHECK(d->n_const == 2 + 20 + 40 && d->constants != NULL && d->map_const_block != NULL,
+          "gr4j has constants: %lu", (unsigned long)d->n_const);
+    for (j = 0; j < N; j++)
+        d->constants(d, Pm + 4 * j, Cm + d->n_const * j);
 
     st_ok = sl_def_model_init(&model, &dm, d, 0, NULL, 0, NULL, NULL, &err) == SL_OK;
     CHECK(st_ok, "engine model: %s", err.message);
@@ -275,13 +352,7 @@ static void test_block(const sl_model_def *d)
 
     for (t = 0; t < DAYS; t++) {
         size_t first;
-        /* rain: dry days, ordinary days and a few storms */
-        for (j = 0; j < N; j++) {
-            double v = sl_stream_uniform(&s);
-            U[2 * j] = v < 0.45 ? 0.0 : (v < 0.97 ? -8.0 * log(sl_stream_uniform(&s))
-                                                  : uniform(&s, 60.0, 250.0));
-            U[2 * j + 1] = uniform(&s, 0.0, 7.0);
-        }
+        const double *U = Uall + t * N * 2;
         memcpy(X0, Xm, sizeof Xm);
         for (j = 0; j < N; j++)
             d->map(d, NS, (double)t, 1.0, Xm + NS * j, Pm + 4 * j, U + 2 * j);
@@ -300,6 +371,8 @@ static void test_block(const sl_model_def *d)
         st_ok = st_ok && model.step(&model, (double)t, (double)(t + 1), 389, N - 389,
                                     Xe + NS * 389, Pm + 4 * 389, U + 2 * 389, 1u,
                                     (uint32_t)t, wk_engine, &err) == SL_OK;
+        d->map_const_block(d, NS, N, (double)t, 1.0, Xc, Pm, Cm, U, wk_block);
+        same_c = same_c && memcmp(Xm, Xc, sizeof Xm) == 0;
         same_b = same_b && memcmp(Xm, Xb, sizeof Xm) == 0;
         same_g = same_g && memcmp(Xm, Xg, sizeof Xm) == 0;
         same_e = same_e && memcmp(Xm, Xe, sizeof Xm) == 0;
@@ -318,6 +391,31 @@ static void test_block(const sl_model_def *d)
             emptied += x[1] == 0.0;
         }
     }
+    /* the engine's forced span: members 0..388 through days 0..149, then
+     * 150..399; the rest in one call; each block's forcing as it asks */
+    CHECK(model.span_forced != NULL, "the engine model of gr4j has a forced span");
+    if (model.span_forced != NULL) {
+        span_feed feed = {Uall, Us, N, 0, 0, 0, 0, 0};
+        size_t fl = 0;
+        memcpy(Xs, Xinit, sizeof Xs);
+        feed.first = 0;
+        st_ok = st_ok && model.span_forced(&model, 0.0, 1.0, (double)DAYS, DAYS, 0, 150, 0, 389,
+                                           Xs, Pm, Us, feed_block, &feed, 1u, 0u, wk_engine,
+                                           &fl, &err) == SL_OK;
+        st_ok = st_ok && model.span_forced(&model, 0.0, 1.0, (double)DAYS, DAYS, 150, DAYS, 0,
+                                           389, Xs, Pm, Us, feed_block, &feed, 1u, 0u,
+                                           wk_engine, &fl, &err) == SL_OK;
+        feed.first = 389;
+        feed.U = Us + 2 * 389;
+        st_ok = st_ok && model.span_forced(&model, 0.0, 1.0, (double)DAYS, DAYS, 0, DAYS, 389,
+                                           N - 389, Xs + NS * 389, Pm + 4 * 389, Us + 2 * 389,
+                                           feed_block, &feed, 1u, 0u, wk_engine, &fl,
+                                           &err) == SL_OK;
+        CHECK(memcmp(Xm, Xs, sizeof Xm) == 0 && feed.calls > 0 && feed.order_ok,
+              "forced span (blocks of %d through the days, %lu fills) == per-member map, "
+              "fills in order %d", SL_MODEL_BLOCK, (unsigned long)feed.calls, feed.order_ok);
+    }
+    CHECK(same_c, "block path with the constants made once == per-member map");
     CHECK(st_ok, "engine steps return SL_OK");
     CHECK(same_b, "block path (one block of 1000) == per-member map, bit for bit");
     CHECK(same_g, "block path (groups of 1, 3, 16, 17, 64, ...) == per-member map");
@@ -550,6 +648,7 @@ int main(void)
     test_definition(d);
     test_reference(d);
     test_block(d);
+    test_constants(d);
     test_block_edges(d);
     test_dry_spell(d);
     test_hydrographs(d);

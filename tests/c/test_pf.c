@@ -1818,6 +1818,191 @@ static void check_smc2_wenkf(void)
     ck_free(X0);
 }
 
+/* A GR4J run of the tests below: at most GR4J_TMAX cycles; flows (Q)
+ * observed with lognormal errors in the rows of `first`; rain and
+ * evaporation held between daily forcing times and perturbed; the
+ * parameters' transforms and prior; and the outputs it records. */
+#define GR4J_TMAX 40
+typedef struct {
+    double times[GR4J_TMAX], Ft[GR4J_TMAX], Fv[2 * GR4J_TMAX], y[GR4J_TMAX], sg[GR4J_TMAX],
+        aux[GR4J_TMAX], fsd[2], fphi[2];
+    size_t first[GR4J_TMAX + 1], var[GR4J_TMAX];
+    int fam[GR4J_TMAX], noise[2];
+    sl_prior_entry prior[4];
+    sl_transform tr[4];
+    double mean[(63 + 4) * GR4J_TMAX], ess[GR4J_TMAX], logz[GR4J_TMAX], res[GR4J_TMAX],
+        deg[GR4J_TMAX], skip[GR4J_TMAX], nonf[GR4J_TMAX], sw[GR4J_TMAX], acc[GR4J_TMAX];
+} gr4j_case;
+
+/* g's prior at the model's defaults, fixed, with its transforms; rows of
+ * Q, lognormal, sd 0.3 */
+static void gr4j_case_init(gr4j_case *g, const sl_model_def *d)
+{
+    size_t k;
+    memset(g, 0, sizeof *g);
+    for (k = 0; k < 4; k++) {
+        g->prior[k].dist = SL_DIST_FIXED;
+        g->prior[k].a = d->p_default[k];
+        g->tr[k] = sl_transform_for_bounds(d->p_lower[k], d->p_upper[k]);
+    }
+    for (k = 0; k < GR4J_TMAX; k++) {
+        g->var[k] = 62; /* Q */
+        g->sg[k] = 0.3;
+        g->fam[k] = SL_FAMILY_LOGNORMAL;
+    }
+    g->noise[0] = g->noise[1] = SL_FORCING_MULTIPLICATIVE;
+}
+
+/* The settings and outputs of g's run of N members over T cycles, nt
+ * forcing times (the rest is the caller's) */
+static void gr4j_case_config(gr4j_case *g, const sl_model *md, size_t N, size_t T, size_t nt,
+                             sl_pf_config *cfg, sl_pf_output *out)
+{
+    memset(cfg, 0, sizeof *cfg);
+    cfg->model = md;
+    cfg->N = N;
+    cfg->t0 = 0.0;
+    cfg->T = T;
+    cfg->times = g->times;
+    cfg->obs_first = g->first;
+    cfg->y = g->y;
+    cfg->sigma = g->sg;
+    cfg->aux = g->aux;
+    cfg->family = g->fam;
+    cfg->var = g->var;
+    cfg->forcing.q = 2;
+    cfg->forcing.nt = nt;
+    cfg->forcing.time = g->Ft;
+    cfg->forcing.value = g->Fv;
+    cfg->forcing.hold = 1;
+    cfg->forcing.noise = g->noise;
+    cfg->forcing.sd = g->fsd;
+    cfg->forcing.phi = g->fphi;
+    cfg->ptrans = g->tr;
+    cfg->prior = g->prior;
+    cfg->resampler = &sl_resampler_systematic;
+    cfg->threads = 1;
+    memset(out, 0, sizeof *out);
+    out->mean = g->mean;
+    out->ess = g->ess;
+    out->logz = g->logz;
+    out->resampled = g->res;
+    out->degenerate = g->deg;
+    out->skipped = g->skip;
+    out->nonfinite = g->nonf;
+    out->move_sweeps = g->sw;
+    out->move_accept = g->acc;
+}
+
+/* GR4J (a forced span: each block of members makes its unit-hydrograph
+ * ordinates once for an interval's days) with perturbed rain and
+ * evaporation, X1 and X4 drawn for each member, flows observed every
+ * 7th day: without resampling, the bits of the same run with a cycle
+ * every day (one step of every member at a time; resampling draws by
+ * cycle number, so only a run that never resamples keeps them); with
+ * resample_move re-running the paths (members under their ancestors'
+ * indices), the bits of the same run without the span (the model's step,
+ * ordinates made every day); on 1 and 2 threads. */
+typedef struct {
+    sl_status st;
+    double X[63 * 300], P[4 * 300], evidence;
+} gr4j_span_result;
+
+static void gr4j_span_run(int fine, int threads, int rm, int nospan, gr4j_span_result *res)
+{
+    enum { N = 300, NS = 63, DAYS = 28, EVERY = 7, TC = DAYS / EVERY };
+    const sl_model_def *d = sl_model_def_find("gr4j");
+    gr4j_case *g = ck_malloc(sizeof *g);
+    double w[N];
+    size_t j, k, T = fine ? DAYS : TC;
+    sl_model md;
+    sl_def_model dm;
+    sl_pf_config cfg;
+    sl_pf_output out;
+    sl_error err;
+    void *work;
+    res->st = g != NULL ? sl_def_model_init(&md, &dm, d, 0, NULL, 0, NULL, NULL, &err)
+                        : SL_ENOMEM;
+    if (res->st != SL_OK || md.span_forced == NULL) {
+        ck_free(g);
+        return;
+    }
+    if (nospan)
+        md.span_forced = NULL; /* the step path: ordinates made every day */
+    gr4j_case_init(g, d);
+    for (k = 0; k < DAYS; k++) {
+        sl_stream s;
+        sl_stream_init(&s, 4, 0, (uint32_t)k, SL_PURPOSE_USER);
+        g->Ft[k] = (double)k;
+        g->Fv[k] = sl_stream_uniform(&s) < 0.4 ? -6.0 * log(sl_stream_uniform(&s)) : 0.0;
+        g->Fv[DAYS + k] = 2.5;
+    }
+    for (k = 0; k < TC; k++)
+        g->y[k] = 0.8 + 0.1 * (double)k;
+    /* cycle k ends on day (k + 1) EVERY, or, fine, day k + 1; its rows
+     * start at the count of observed cycles before it */
+    for (k = 0; k < T; k++) {
+        g->times[k] = fine ? (double)(k + 1) : (double)((k + 1) * EVERY);
+        g->first[k] = fine ? k / EVERY : k;
+    }
+    g->first[T] = TC;
+    g->fsd[0] = 0.3;
+    g->fsd[1] = 0.1;
+    g->fphi[0] = 0.4;
+    g->prior[0].dist = SL_DIST_LOGNORMAL;
+    g->prior[0].a = log(300.0);
+    g->prior[0].b = 0.3;
+    g->prior[3].dist = SL_DIST_UNIFORM;
+    g->prior[3].a = 0.5;
+    g->prior[3].b = 4.0;
+    gr4j_case_config(g, &md, N, T, DAYS, &cfg, &out);
+    cfg.param_move = rm ? &sl_param_move_resample_move : &sl_param_move_fixed;
+    cfg.move.rm_scale = 1.0;
+    cfg.move.rm_paths = 0.1;
+    cfg.move.rm_diversity = 0.5;
+    cfg.move.rm_sweeps = 3;
+    cfg.threshold = rm ? 0.9 : 0.0;
+    cfg.seed = 29;
+    cfg.threads = threads;
+    for (j = 0; j < N; j++) {
+        sl_stream s;
+        memcpy(res->X + j * NS, d->x0, NS * sizeof(double));
+        sl_stream_init(&s, 6, (uint32_t)j, 0, SL_PURPOSE_PRIOR);
+        for (k = 0; k < 4; k++)
+            res->P[k + 4 * j] = d->p_default[k];
+        res->P[0 + 4 * j] = exp(log(300.0) + 0.3 * sl_stream_normal(&s));
+        res->P[3 + 4 * j] = 0.5 + 3.5 * sl_stream_uniform(&s);
+    }
+    work = ck_malloc(sl_pf_workspace(&cfg));
+    res->st = work != NULL ? sl_pf_run(&cfg, res->X, res->P, w, work, &out, &err) : SL_ENOMEM;
+    res->evidence = out.log_evidence;
+    ck_free(work);
+    ck_free(g);
+}
+
+static void check_gr4j_span(void)
+{
+    gr4j_span_result *ref = ck_malloc(sizeof *ref), *got = ck_malloc(sizeof *got);
+    int rm, thr;
+    for (rm = 0; rm <= 1; rm++) {
+        /* the reference: a cycle a day without resampling, else no span */
+        gr4j_span_run(!rm, 1, rm, rm, ref);
+        CHECK(ref->st == SL_OK, "gr4j reference, move %d: %d", rm, (int)ref->st);
+        for (thr = 1; thr <= 2; thr++) {
+            gr4j_span_run(0, thr, rm, 0, got);
+            CHECK(got->st == SL_OK && memcmp(got->X, ref->X, sizeof ref->X) == 0 &&
+                      memcmp(got->P, ref->P, sizeof ref->P) == 0 &&
+                      memcmp(&got->evidence, &ref->evidence, sizeof ref->evidence) == 0,
+                  "gr4j, a cycle a week (forced span), move %d, %d thread(s): the bits of %s "
+                  "(status %d, log-evidence %.17g against %.17g)", rm, thr,
+                  rm ? "the step path" : "a cycle a day", (int)got->st, got->evidence,
+                  ref->evidence);
+        }
+    }
+    ck_free(ref);
+    ck_free(got);
+}
+
 /* resample_move on the built-in GR4J (63 states, 4 parameters) with
  * perturbed rain and evaporation: a proposal of scale 1e-9 is accepted
  * at nearly every member, since each re-run reproduces the member's path
@@ -1827,99 +2012,59 @@ static void check_resample_move(void)
 {
     enum { N = 200, T = 40, NS = 63 };
     const sl_model_def *d = sl_model_def_find("gr4j");
-    static double times[T], Fv[T * 2], Ft[T], y[T], sg[T], aux[T];
-    static size_t first[T + 1], var[T];
-    static int fam[T];
-    const int noise[2] = {SL_FORCING_MULTIPLICATIVE, SL_FORCING_MULTIPLICATIVE};
-    const double fsd[2] = {0.2, 0.1}, fphi[2] = {0.3, 0.0};
-    sl_prior_entry prior[4];
-    sl_transform tr[4];
+    gr4j_case *g = ck_malloc(sizeof *g);
     sl_model md;
     sl_def_model dm;
     sl_pf_config cfg;
     sl_pf_output out;
     sl_error err;
     double *P = ck_malloc(4 * N * sizeof *P), *w = ck_malloc(N * sizeof *w), *X = ck_malloc(NS * N * sizeof *X);
-    double mean[(NS + 4) * T], ess[T], logz[T], res[T], deg[T], skip[T], nonf[T], sw[T], acc[T];
     void *work;
     size_t j, k, i, moved;
     double amin;
     int scale;
-    CHECK(d != NULL && P != NULL && w != NULL && X != NULL, "gr4j and memory");
-    if (d == NULL || P == NULL || w == NULL || X == NULL)
+    CHECK(d != NULL && g != NULL && P != NULL && w != NULL && X != NULL, "gr4j and memory");
+    if (d == NULL || g == NULL || P == NULL || w == NULL || X == NULL) {
+        ck_free(g);
+        ck_free(P);
+        ck_free(w);
+        ck_free(X);
         return;
+    }
     CHECK(sl_def_model_init(&md, &dm, d, 0, NULL, 0, NULL, NULL, &err) == SL_OK, "gr4j model");
+    gr4j_case_init(g, d);
     for (k = 0; k < T; k++) {
         sl_stream s;
         sl_stream_init(&s, 3, 0, (uint32_t)k, SL_PURPOSE_USER);
-        Ft[k] = (double)k;
-        times[k] = (double)(k + 1);
-        Fv[k] = sl_stream_uniform(&s) < 0.4 ? -6.0 * log(sl_stream_uniform(&s)) : 0.0;
-        Fv[T + k] = 2.0;
-        first[k] = k;
-        var[k] = NS - 1; /* Q */
-        y[k] = 0.5 + 0.02 * (double)k;
-        sg[k] = 0.3;
-        aux[k] = 0.0;
-        fam[k] = SL_FAMILY_LOGNORMAL;
+        g->Ft[k] = (double)k;
+        g->times[k] = (double)(k + 1);
+        g->Fv[k] = sl_stream_uniform(&s) < 0.4 ? -6.0 * log(sl_stream_uniform(&s)) : 0.0;
+        g->Fv[T + k] = 2.0;
+        g->first[k] = k;
+        g->y[k] = 0.5 + 0.02 * (double)k;
     }
-    first[T] = T;
-    for (i = 0; i < 4; i++) {
-        prior[i].dist = SL_DIST_FIXED;
-        prior[i].a = d->p_default[i];
-        tr[i] = sl_transform_for_bounds(d->p_lower[i], d->p_upper[i]);
-    }
-    prior[0].dist = SL_DIST_LOGNORMAL;
-    prior[0].a = log(300.0);
-    prior[0].b = 0.3;
-    prior[2].dist = SL_DIST_LOGNORMAL;
-    prior[2].a = log(80.0);
-    prior[2].b = 0.3;
+    g->first[T] = T;
+    g->fsd[0] = 0.2;
+    g->fsd[1] = 0.1;
+    g->fphi[0] = 0.3;
+    g->prior[0].dist = SL_DIST_LOGNORMAL;
+    g->prior[0].a = log(300.0);
+    g->prior[0].b = 0.3;
+    g->prior[2].dist = SL_DIST_LOGNORMAL;
+    g->prior[2].a = log(80.0);
+    g->prior[2].b = 0.3;
     /* 0: still proposals re-run through the recorded parents' streams;
      * 1: the same through the stored draws (path moves of step 1e-9);
      * 2: real proposals of parameters and paths */
     for (scale = 0; scale < 3; scale++) {
-        memset(&cfg, 0, sizeof cfg);
-        cfg.model = &md;
-        cfg.N = N;
-        cfg.t0 = 0.0;
-        cfg.T = T;
-        cfg.times = times;
-        cfg.obs_first = first;
-        cfg.y = y;
-        cfg.sigma = sg;
-        cfg.aux = aux;
-        cfg.family = fam;
-        cfg.var = var;
-        cfg.forcing.q = 2;
-        cfg.forcing.nt = T;
-        cfg.forcing.time = Ft;
-        cfg.forcing.value = Fv;
-        cfg.forcing.hold = 1;
-        cfg.forcing.noise = noise;
-        cfg.forcing.sd = fsd;
-        cfg.forcing.phi = fphi;
-        cfg.ptrans = tr;
-        cfg.prior = prior;
+        gr4j_case_config(g, &md, N, T, T, &cfg, &out);
         cfg.param_move = &sl_param_move_resample_move;
         cfg.move.rm_scale = scale < 2 ? 1e-9 : 1.0;
         cfg.move.rm_paths = scale == 0 ? 0.0 : (scale == 1 ? 1e-9 : 0.1);
         cfg.move.rm_diversity = 0.5;
         cfg.move.rm_sweeps = 5;
-        cfg.resampler = &sl_resampler_systematic;
         cfg.threshold = 0.5;
         cfg.seed = 11;
-        cfg.threads = 1;
-        memset(&out, 0, sizeof out);
-        out.mean = mean;
-        out.ess = ess;
-        out.logz = logz;
-        out.resampled = res;
-        out.degenerate = deg;
-        out.skipped = skip;
-        out.nonfinite = nonf;
-        out.move_sweeps = sw;
-        out.move_accept = acc;
         for (j = 0; j < N; j++) {
             sl_stream s;
             memcpy(X + j * NS, d->x0, NS * sizeof(double));
@@ -1936,14 +2081,14 @@ static void check_resample_move(void)
         moved = 0;
         amin = 1.0;
         for (k = 0; k < T; k++)
-            if (sw[k] > 0) {
+            if (g->sw[k] > 0) {
                 moved++;
                 /* the path step adapts toward 23% acceptance and soon
                  * stops being still: pass 1 checks its first moves */
-                if (acc[k] < amin && (scale != 1 || moved <= 2))
-                    amin = acc[k];
+                if (g->acc[k] < amin && (scale != 1 || moved <= 2))
+                    amin = g->acc[k];
             } else {
-                CHECK(isnan(acc[k]), "no move, no acceptance rate");
+                CHECK(isnan(g->acc[k]), "no move, no acceptance rate");
             }
         CHECK(moved >= 2, "resample_move acted in %lu cycles", (unsigned long)moved);
         if (scale < 2)
@@ -1952,6 +2097,7 @@ static void check_resample_move(void)
         else
             CHECK(amin < 0.9, "a real proposal is sometimes rejected (smallest rate %g)", amin);
     }
+    ck_free(g);
     ck_free(P);
     ck_free(w);
     ck_free(X);
@@ -2626,6 +2772,7 @@ int main(void)
         check_determinism();
     check_forecast_region();
     check_forecast_chunks();
+    check_gr4j_span();
     check_snapshot();
     check_errors();
     check_degenerate();

@@ -260,6 +260,45 @@
 %! assert (~exist (fullfile (tmp, ['bad_block_run.' mexext()]), 'file'));
 
 %!test
+%! % a step map given the members' constants that disagrees with the step
+%! % map (decay_constants.c with its constant made 2^-40 too large) is
+%! % refused, naming the state and member where they part
+%! src = fileread (fullfile (tmp, 'decay_constants.c'));
+%! src = strrep (src, 'c[0] = exp(-p[0]);', 'c[0] = exp(-p[0]) * (1.0 + 0x1p-40);');
+%! src = strrep (src, '"decay_constants"', '"bad_constants"');
+%! fid = fopen (fullfile (tmp, 'bad_constants.c'), 'w'); fputs (fid, src); fclose (fid);
+%! try
+%!   sluice.build_model (fullfile (tmp, 'bad_constants.c'));
+%!   error ('no error');
+%! catch err
+%!   assert (err.identifier, 'sluice:build_model:baddef');
+%!   assert (~isempty (strfind (err.message, 'given the constants (map_const_block) gives')));
+%!   assert (~isempty (strfind (err.message, 'agree to the last bit')));
+%! end
+%! assert (~exist (fullfile (tmp, ['bad_constants_run.' mexext()]), 'file'));
+
+%!test
+%! % a model with member constants (decay_constants.c: x <- exp(-k) x + u,
+%! % exp(-k) made once for a run of steps): twelve steps in one call, on
+%! % one and two threads, give the bits of twelve calls of one step, and
+%! % the closed form x_n = a^n x0 + u (1 - a^n) / (1 - a) of the linear
+%! % recursion (a geometric series), a = exp(-k), to rounding
+%! dc = sluice.build_model (fullfile (tmp, 'decay_constants.c'));
+%! N = 150;
+%! k = 0.05 + 0.01 * (0:N-1);
+%! X0 = 1 + 0.02 * (0:N-1);
+%! fo = struct ('time', [0; 20], 'values', [1.3; 1.3]);
+%! Xs = X0;
+%! for d = 1:12
+%!   Xs = sluice.propagate (dc, Xs, k, d - 1, d, fo, 'threads', 1);
+%! end
+%! X1 = sluice.propagate (dc, X0, k, 0, 12, fo, 'threads', 1);
+%! X2 = sluice.propagate (dc, X0, k, 0, 12, fo, 'threads', 2);
+%! assert (isequal (X1, Xs) && isequal (X2, Xs));
+%! a = exp (-k);
+%! assert (X1, a .^ 12 .* X0 + 1.3 * (1 - a .^ 12) ./ (1 - a), 1e-12);
+
+%!test
 %! % the block right-hand side (cascade.c has one; RK4 uses it) gives the
 %! % bits of the member right-hand side, run through Octave's own
 %! % function model with the same integrator
