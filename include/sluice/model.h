@@ -152,8 +152,10 @@ struct sl_model_def {
      * others, but not drawn or reported unless asked for; NULL: none */
     const unsigned char *state_internal;
     sl_rhs_block_fn rhs_block;    /* optional fast path of rhs, or NULL */
-    /* optional, together, for a discrete map with map_block: n_const
-     * constants a member (0: none), `constants` and `map_const_block` */
+    /* optional, together, for a discrete map (map) with forcing: n_const
+     * constants a member (0: none), `constants` and `map_const_block`;
+     * the engine then takes blocks of members through several steps with
+     * their constants made once (sl_model.span_forced) */
     size_t n_const;
     sl_constants_fn constants;
     sl_map_const_block_fn map_const_block;
