@@ -886,12 +886,15 @@ static size_t region_chunk(const sl_model *md, size_t N, int nthr)
 }
 /* What the forcing of a chunk's forced span needs: the forcing of
  * member j0 + i at step l of the interval, as the step-by-step order
- * makes it (the base values from the forcing interval fidx0 on) */
+ * makes it. The forcing interval is tracked from step to step as that
+ * order tracks it: from fk0 (an interval at or before that of the span's
+ * first step) when a block starts again, else from the previous step's
+ * fk (last_l: the previous step, SIZE_MAX before the first). */
 typedef struct {
     const sl_pf_config *cfg;
     const pf_buffers *b;
     double *E, *U, *u0, *zst, t0, h;
-    size_t j0, fidx0;
+    size_t j0, fk0, fk, last_l;
     uint32_t s0;
     const uint32_t *ids;
     uint64_t seed;
@@ -900,9 +903,12 @@ typedef struct {
 
 static void chunk_forcing_fill(void *ctx, size_t l, size_t i0, size_t count)
 {
-    const chunk_forcing *f = (const chunk_forcing *)ctx;
+    chunk_forcing *f = (chunk_forcing *)ctx;
     size_t j;
-    (void)forcing_base(&f->cfg->forcing, f->t0 + (double)l * f->h, f->fidx0, f->u0);
+    if (f->last_l == SIZE_MAX || l <= f->last_l)
+        f->fk = f->fk0;
+    f->last_l = l;
+    f->fk = forcing_base(&f->cfg->forcing, f->t0 + (double)l * f->h, f->fk, f->u0);
     for (j = f->j0 + i0; j < f->j0 + i0 + count; j++)
         forcing_member(f->cfg, f->b, f->E, f->U, f->u0, f->s0 + (uint32_t)l, j, f->ids,
                        f->seed, f->zst, f->zread);
@@ -961,13 +967,14 @@ static sl_status forecast_region(const sl_pf_config *cfg, pf_buffers *b, double 
                     size_t fl = nsteps;
                     l1 = nsteps - l < per ? nsteps : l + per;
                     if (q > 0) {
-                        chunk_forcing cf = {cfg, b, E, U, u0, zst, t0, h, j0, fidx0,
-                                            s0, ids, seed, zread};
+                        chunk_forcing cf = {cfg, b, E, U, u0, zst, t0, h, j0, fk, fk,
+                                            SIZE_MAX, s0, ids, seed, zread};
                         st = md->span_forced(md, t0, h, tk, nsteps, l, l1, b->m0 + j0,
                                              j1 - j0, X + j0 * md->n_state,
                                              P + j0 * md->n_param, U + j0 * q,
                                              chunk_forcing_fill, &cf, seed, s0, mw,
                                              &fl, &e);
+                        fk = cf.fk; /* the interval of step l1 - 1 */
                     } else {
                         st = md->span(md, t0, h, tk, nsteps, l, l1, b->m0 + j0, j1 - j0,
                                       X + j0 * md->n_state, P + j0 * md->n_param, seed, s0,

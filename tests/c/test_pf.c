@@ -1822,7 +1822,7 @@ static void check_smc2_wenkf(void)
  * observed with lognormal errors in the rows of `first`; rain and
  * evaporation held between daily forcing times and perturbed; the
  * parameters' transforms and prior; and the outputs it records. */
-#define GR4J_TMAX 40
+#define GR4J_TMAX 120
 typedef struct {
     double times[GR4J_TMAX], Ft[GR4J_TMAX], Fv[2 * GR4J_TMAX], y[GR4J_TMAX], sg[GR4J_TMAX],
         aux[GR4J_TMAX], fsd[2], fphi[2];
@@ -1897,7 +1897,8 @@ static void gr4j_case_config(gr4j_case *g, const sl_model *md, size_t N, size_t 
 /* GR4J (a forced span: each block of members makes its unit-hydrograph
  * ordinates once for an interval's days) with perturbed rain and
  * evaporation, X1 and X4 drawn for each member, flows observed every
- * 7th day: without resampling, the bits of the same run with a cycle
+ * 40th day (an interval is three calls of the span, of at most 55 steps
+ * each, over five blocks of members): without resampling, the bits of the same run with a cycle
  * every day (one step of every member at a time; resampling draws by
  * cycle number, so only a run that never resamples keeps them); with
  * resample_move re-running the paths (members under their ancestors'
@@ -1910,7 +1911,7 @@ typedef struct {
 
 static void gr4j_span_run(int fine, int threads, int rm, int nospan, gr4j_span_result *res)
 {
-    enum { N = 300, NS = 63, DAYS = 28, EVERY = 7, TC = DAYS / EVERY };
+    enum { N = 300, NS = 63, DAYS = 120, EVERY = 40, TC = DAYS / EVERY };
     const sl_model_def *d = sl_model_def_find("gr4j");
     gr4j_case *g = ck_malloc(sizeof *g);
     double w[N];
@@ -1993,7 +1994,7 @@ static void check_gr4j_span(void)
             CHECK(got->st == SL_OK && memcmp(got->X, ref->X, sizeof ref->X) == 0 &&
                       memcmp(got->P, ref->P, sizeof ref->P) == 0 &&
                       memcmp(&got->evidence, &ref->evidence, sizeof ref->evidence) == 0,
-                  "gr4j, a cycle a week (forced span), move %d, %d thread(s): the bits of %s "
+                  "gr4j, a cycle every 40 days (forced span), move %d, %d thread(s): the bits of %s "
                   "(status %d, log-evidence %.17g against %.17g)", rm, thr,
                   rm ? "the step path" : "a cycle a day", (int)got->st, got->evidence,
                   ref->evidence);
